@@ -1,0 +1,5 @@
+"""python -m navred"""
+
+from .cli import main
+
+main()

@@ -1,0 +1,341 @@
+"""GHA Aries, SHA, GHA, Dec, HP and SD of any navigational body for any UTC instant.
+
+The apparent geocentric place referred to the true equator and equinox of date,
+computed from first principles:
+
+- solar-system bodies: JPL DE421 barycentric positions, light time iterated to
+  convergence (three passes reach well below 1 mm for the Moon);
+- stars: Hipparcos 2 catalogue place, space motion and annual parallax (ERFA
+  ``pmpx``) and light deflection by the Sun (ERFA ``ldsun``);
+- annual aberration, relativistic (ERFA ``ab``), from the Earth's barycentric velocity;
+- frame bias, precession (IAU 2000) and nutation (IAU 2000B) through ERFA ``pn00``;
+  IAU 2000B is within 1 mas of the full IAU 2000A model over 1900-2100 (ERFA's
+  documentation; navred's own measurement is in docs/almanac.md);
+- GHA Aries = Greenwich apparent sidereal time = GMST (IAU 2000, ``gmst00``) plus the
+  equation of the equinoxes (``ee00``) from the same nutation.
+
+Every function takes scalars or arrays and broadcasts; there is no Python loop
+over instants (only over the distinct solar-system bodies in a request).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import erfa
+import numpy as np
+
+from .angles import wrap_360
+from .constants import (
+    ARCMIN_PER_DEG,
+    AU_KM,
+    DEG_PER_HOUR,
+    EARTH_EQUATORIAL_RADIUS_KM,
+    JD_J2000,
+    MOON_RADIUS_KM,
+    SPEED_OF_LIGHT_AU_DAY,
+    SPEED_OF_LIGHT_KM_S,
+    SUN_RADIUS_KM,
+)
+from .ephemeris import SegmentCache
+from .errors import AngleInputError, BodyNameError, NavredError, failed_elements
+from .stars import SOLAR_SYSTEM, canonical_body_name, star_catalogue_directions, star_table
+from .timescales import Instants, instants
+
+_SECONDS_PER_DAY = 86400.0
+_RADII_KM = {"Sun": SUN_RADIUS_KM, "Moon": MOON_RADIUS_KM}
+
+
+@dataclass(frozen=True)
+class Places:
+    """Apparent geocentric places, one element per (body, instant) pair."""
+
+    body: np.ndarray
+    instants: Instants
+    gha_aries_deg: np.ndarray
+    ra_hours: np.ndarray
+    dec_deg: np.ndarray
+    distance_km: np.ndarray
+    hp_arcmin: np.ndarray
+    sd_arcmin: np.ndarray
+
+    @property
+    def sha_deg(self) -> np.ndarray:
+        return np.asarray(wrap_360(360.0 - self.ra_hours * DEG_PER_HOUR))
+
+    @property
+    def gha_deg(self) -> np.ndarray:
+        return np.asarray(wrap_360(self.gha_aries_deg + self.sha_deg))
+
+
+@dataclass(frozen=True)
+class _Frame:
+    """What every body at a batch of instants shares: the Earth, the Sun, the rotation matrices."""
+
+    earth_km: np.ndarray  # (N, 3) barycentric position of the geocentre
+    earth_velocity_km_day: np.ndarray  # (N, 3)
+    sun_km: np.ndarray  # (N, 3) barycentric position of the Sun
+    rbpn: np.ndarray  # (N, 3, 3) GCRS -> true equator and equinox of date
+    gast_rad: np.ndarray  # (N,)
+    segments: SegmentCache
+
+    @property
+    def earth_au(self) -> np.ndarray:
+        return self.earth_km / AU_KM
+
+    @property
+    def sun_earth_au(self) -> np.ndarray:
+        return (self.earth_km - self.sun_km) / AU_KM
+
+
+def _frame(inst: Instants) -> _Frame:
+    segments = SegmentCache(inst.tdb1.ravel(), inst.tdb2.ravel())
+    earth_p, earth_v = segments.barycentric("earth")
+    sun_p = segments.barycentric_position("sun")
+    tt1, tt2 = inst.tt1.ravel(), inst.tt2.ravel()
+    dpsi, deps, eect = nutation_rad(tt1, tt2)
+    epsa, _rb, _rp, _rbp, _rn, rbpn = erfa.pn00(tt1, tt2, dpsi, deps)
+    gast = erfa.anp(erfa.gmst00(inst.ut11.ravel(), inst.ut12.ravel(), tt1, tt2)
+                    + dpsi * np.cos(epsa) + eect)
+    return _Frame(earth_p.T, earth_v.T, sun_p.T, rbpn, gast, segments)
+
+
+#: Spacing of the nutation grid in days. Four-point (cubic) Lagrange interpolation of
+#: IAU 2000B at this spacing stays within 0.001″ of the direct evaluation: the error
+#: of a term of amplitude A and period P is about (3/128) A (2 pi h / P)^4, largest for
+#: the 13.66-day term (0.23″) at 0.0003″; tests/test_almanac.py measures it.
+NUTATION_GRID_DAYS = 1.0
+
+
+def _lagrange4(x, grid_start, step, values):
+    """Four-point Lagrange interpolation of equally spaced ``values`` at ``x``."""
+    u = (x - grid_start) / step
+    i = np.clip(np.floor(u).astype(int), 1, len(values) - 3)
+    p = u - i
+    y0, y1, y2, y3 = values[i - 1], values[i], values[i + 1], values[i + 2]
+    return (-p * (p - 1) * (p - 2) / 6 * y0 + (p + 1) * (p - 1) * (p - 2) / 2 * y1
+            - (p + 1) * p * (p - 2) / 2 * y2 + (p + 1) * p * (p - 1) / 6 * y3)
+
+
+def nutation_rad(tt1, tt2, grid: bool | None = None):
+    """IAU 2000B nutation (dpsi, deps) and the equation of the equinoxes' complementary terms, radians.
+
+    When a batch has more instants than the days it spans (a voyage, a fleet's
+    year of sights), the series are evaluated once a day over the span and
+    interpolated with four-point Lagrange polynomials; otherwise they are
+    evaluated directly (``grid`` forces either path). Both agree within 0.001″.
+    """
+    tt1 = np.asarray(tt1, dtype=float)
+    tt2 = np.asarray(tt2, dtype=float)
+    days = (tt1 - JD_J2000) + tt2
+    if days.size == 0:
+        return days.copy(), days.copy(), days.copy()
+    first = np.floor(days.min() / NUTATION_GRID_DAYS) - 1
+    nodes = int(np.ceil(days.max() / NUTATION_GRID_DAYS) - first) + 3
+    if grid is None:
+        grid = nodes * 2 < days.size
+    if not grid:
+        dpsi, deps = erfa.nut00b(tt1, tt2)
+        return dpsi, deps, erfa.eect00(tt1, tt2)
+    at = (first + np.arange(nodes)) * NUTATION_GRID_DAYS
+    gpsi, geps = erfa.nut00b(JD_J2000, at)
+    gect = erfa.eect00(JD_J2000, at)
+    start = first * NUTATION_GRID_DAYS
+    return tuple(_lagrange4(days, start, NUTATION_GRID_DAYS, v) for v in (gpsi, geps, gect))
+
+
+def _aberrate_and_rotate(direction: np.ndarray, frame: _Frame, rows) -> np.ndarray:
+    """Apply annual aberration and bias-precession-nutation to unit vectors (N, 3)."""
+    v = frame.earth_velocity_km_day[rows] / AU_KM / SPEED_OF_LIGHT_AU_DAY
+    s = np.linalg.norm(frame.sun_earth_au[rows], axis=-1)
+    bm1 = np.sqrt(1.0 - np.sum(v * v, axis=-1))
+    apparent = erfa.ab(direction, v, s, bm1)
+    return np.einsum("nij,nj->ni", frame.rbpn[rows], apparent)
+
+
+def _geocentric_state(name: str, frame: _Frame, rows):
+    """Geocentric position (km) and the body's barycentric velocity (km/day) at the instants ``rows``."""
+    if name == "Sun":
+        return frame.sun_km[rows] - frame.earth_km[rows], frame.segments.barycentric("sun")[1].T[rows]
+    position, velocity = frame.segments.geocentric(name)
+    return position.T[rows], velocity.T[rows] + frame.earth_velocity_km_day[rows]
+
+
+def _solar_system_places(name: str, frame: _Frame, rows):
+    """(unit vectors of date (n, 3), distance_km (n,)) for one body at the instants ``rows``.
+
+    Light time: the body's position at t - tau is its position at t moved back
+    along its barycentric velocity; iterated three times. The neglected
+    acceleration term is below 0.005″ for every body (largest for Venus near
+    superior conjunction: 0.5 a tau^2 is about 4 km at 260 million km).
+    """
+    vector_t, velocity = _geocentric_state(name, frame, rows)
+    light_time_days = np.zeros(len(rows))
+    for _ in range(3):
+        vector = vector_t - velocity * light_time_days[:, None]
+        distance = np.linalg.norm(vector, axis=-1)
+        light_time_days = distance / SPEED_OF_LIGHT_KM_S / _SECONDS_PER_DAY
+    direction = vector / distance[:, None]
+    if name != "Sun":
+        # light deflection by the Sun (ERFA ld with the Sun's unit mass)
+        body_km = vector + frame.earth_km[rows]
+        sun_body = body_km - frame.sun_km[rows]
+        q = sun_body / np.linalg.norm(sun_body, axis=-1)[:, None]
+        sun_earth = frame.sun_earth_au[rows]
+        em = np.linalg.norm(sun_earth, axis=-1)
+        direction = erfa.ld(1.0, direction, q, sun_earth / em[:, None], em, 1e-6)
+    return _aberrate_and_rotate(direction, frame, rows), distance
+
+
+def _star_places(star_rows: np.ndarray, inst: Instants, frame: _Frame, rows):
+    tt1, tt2 = inst.tt1.ravel()[rows], inst.tt2.ravel()[rows]
+    direction = star_catalogue_directions(star_rows, tt1, tt2, frame.earth_au[rows].T).T
+    em = np.linalg.norm(frame.sun_earth_au[rows], axis=-1)
+    e = frame.sun_earth_au[rows] / em[:, None]
+    direction = erfa.ldsun(direction, e, em)
+    return _aberrate_and_rotate(direction, frame, rows)
+
+
+def _body_array(body, shape) -> np.ndarray:
+    names = np.asarray(body, dtype=object)
+    unique = {}
+    bad = np.zeros(names.shape, dtype=bool)
+    first = ""
+    for index, name in np.ndenumerate(names):
+        if name not in unique:
+            try:
+                unique[name] = canonical_body_name(name)
+            except BodyNameError as exc:
+                unique[name] = None
+                first = first or str(exc)
+        bad[index] = unique[name] is None
+    if bad.any():
+        if names.ndim == 0:
+            raise BodyNameError(first)
+        raise BodyNameError(f"unknown bodies in {failed_elements(bad)}; first: {first}")
+    canonical = np.vectorize(unique.get, otypes=[object])(names) if names.ndim else np.array(unique[names.item()], dtype=object)
+    return np.broadcast_to(canonical, shape)
+
+
+def places(body, utc, dut1_s=None) -> Places:
+    """Apparent geocentric places of ``body`` (name or names) at ``utc`` (instant or instants).
+
+    Sequences of equal length pair element-wise and a scalar broadcasts. See
+    :func:`body_positions` for the columns; this is the array form the rest of
+    the core uses.
+    """
+    inst = instants(utc, dut1_s)
+    body_shape = np.shape(np.asarray(body, dtype=object))
+    try:
+        shape = np.broadcast_shapes(body_shape, inst.shape)
+    except ValueError:
+        raise NavredError(
+            f"{body_shape[0] if body_shape else 1} bodies and {inst.shape[0] if inst.shape else 1} "
+            "instants: give one of each, one body for many instants, or equal numbers to pair") from None
+    names = _body_array(body, shape).ravel()
+    if inst.shape != shape:
+        inst = Instants(*(np.broadcast_to(getattr(inst, f), shape) for f in
+                          ("utc1", "utc2", "tt1", "tt2", "ut11", "ut12", "dut1_s", "ut1_source")))
+    flat = Instants(*(np.ascontiguousarray(getattr(inst, f)).ravel() for f in
+                      ("utc1", "utc2", "tt1", "tt2", "ut11", "ut12", "dut1_s", "ut1_source")))
+    n = names.size
+    frame = _frame(flat)
+    vectors = np.zeros((n, 3))
+    distance = np.full(n, np.nan)
+    is_star = ~np.isin(names, list(SOLAR_SYSTEM.values()))
+    if is_star.any():
+        star_names = list(star_table().name)
+        lookup = {name: i for i, name in enumerate(star_names)}
+        rows = np.flatnonzero(is_star)
+        star_rows = np.array([lookup[name] for name in names[rows]])
+        vectors[rows] = _star_places(star_rows, flat, frame, rows)
+    for name in SOLAR_SYSTEM.values():
+        rows = np.flatnonzero(names == name)
+        if rows.size:
+            vectors[rows], distance[rows] = _solar_system_places(name, frame, rows)
+    ra, dec = erfa.c2s(vectors)
+    with np.errstate(invalid="ignore"):
+        hp = np.where(is_star, 0.0, np.degrees(np.arcsin(EARTH_EQUATORIAL_RADIUS_KM / distance)))
+    radius = np.array([_RADII_KM.get(name, 0.0) for name in names]) if n < 64 else \
+        np.select([names == "Sun", names == "Moon"], [SUN_RADIUS_KM, MOON_RADIUS_KM], 0.0)
+    with np.errstate(invalid="ignore"):
+        sd = np.where(radius > 0, np.degrees(np.arcsin(radius / distance)), 0.0)
+    return Places(
+        body=names.reshape(shape), instants=inst,
+        gha_aries_deg=np.degrees(frame.gast_rad).reshape(shape),
+        ra_hours=(np.degrees(erfa.anp(ra)) / DEG_PER_HOUR).reshape(shape),
+        dec_deg=np.degrees(dec).reshape(shape),
+        distance_km=distance.reshape(shape),
+        hp_arcmin=(hp * ARCMIN_PER_DEG).reshape(shape),
+        sd_arcmin=(sd * ARCMIN_PER_DEG).reshape(shape),
+    )
+
+
+def body_positions(body, utc, dut1_s=None):
+    """Almanac data of bodies at instants, as a pandas DataFrame (one row per pair).
+
+    ``body``: a name or a sequence of names (stars by their IAU names, Sun, Moon,
+    Venus, Mars, Jupiter, Saturn); ``utc``: an instant or a sequence (ISO 8601 with
+    a zone, timezone-aware datetime, pandas Timestamps, numpy datetime64 as UTC);
+    sequences of equal length pair element-wise and a scalar broadcasts.
+    ``dut1_s`` overrides the IERS UT1 − UTC (scalar or one per instant).
+
+    Columns: ``body``, ``utc``, ``gha_aries_deg``, ``ra_hours``, ``sha_deg``,
+    ``gha_deg``, ``dec_deg``, ``hp_arcmin`` (0 for stars), ``sd_arcmin`` (0 for stars
+    and planets), ``distance_km`` (NaN for stars), ``dut1_s`` and ``ut1_source``.
+
+    This is the one core function that returns a DataFrame; pandas is imported
+    only here (the array form is :func:`places`).
+
+    >>> row = body_positions("Sun", "2026-06-21T12:00:00Z", dut1_s=0.0).iloc[0]
+    >>> round(float(row.dec_deg), 2)
+    23.44
+    """
+    import pandas as pd
+
+    result = places(body, utc, dut1_s)
+    flat = {name: np.ravel(value) for name, value in {
+        "body": result.body,
+        "utc": result.instants.utc_datetime64(),
+        "gha_aries_deg": result.gha_aries_deg,
+        "ra_hours": result.ra_hours,
+        "sha_deg": result.sha_deg,
+        "gha_deg": result.gha_deg,
+        "dec_deg": result.dec_deg,
+        "hp_arcmin": result.hp_arcmin,
+        "sd_arcmin": result.sd_arcmin,
+        "distance_km": result.distance_km,
+        "dut1_s": result.instants.dut1_s,
+        "ut1_source": result.instants.ut1_source,
+    }.items()}
+    frame = pd.DataFrame(flat)
+    frame["utc"] = pd.to_datetime(frame["utc"]).dt.tz_localize("UTC")
+    return frame
+
+
+def gha_aries_deg(utc, dut1_s=None) -> np.ndarray:
+    """Greenwich hour angle of the first point of Aries (GAST) in degrees [0, 360).
+
+    >>> round(float(gha_aries_deg("2000-01-01T12:00:00Z", dut1_s=0.3554)), 3)
+    280.459
+    """
+    inst = instants(utc, dut1_s)
+    tt1, tt2 = inst.tt1, inst.tt2
+    dpsi, _ = erfa.nut00b(tt1, tt2)
+    epsa = erfa.obl06(tt1, tt2)
+    gast = erfa.anp(erfa.gmst00(inst.ut11, inst.ut12, tt1, tt2) + erfa.ee00(tt1, tt2, epsa, dpsi))
+    return np.degrees(gast)
+
+
+def lha_deg(gha_deg, lon_deg):
+    """Local hour angle in degrees [0, 360): GHA plus east longitude (west negative).
+
+    >>> float(lha_deg(350.0, 20.0)), float(lha_deg(10.0, -20.0))
+    (10.0, 350.0)
+    """
+    gha = np.asarray(gha_deg, dtype=float)
+    lon = np.asarray(lon_deg, dtype=float)
+    bad = ~np.isfinite(gha) | ~np.isfinite(lon)
+    if bad.any():
+        raise AngleInputError(f"GHA and longitude must be finite numbers; refused: {failed_elements(bad)}")
+    return np.asarray(wrap_360(gha + lon))

@@ -1,0 +1,272 @@
+"""Angles the trade's way: wrapping, the navigational form DDD° MM.m′ and RA in h m s.
+
+Every function accepts scalars or numpy arrays. Parsing accepts the forms a
+navigator writes by hand (``47° 12.4′ N``, ``47 12.4 N``, ``47°12.4'N``,
+``N 47 12.4``, ``-5.5317``, ``47:12:24``) and refuses anything else with a
+message that shows the accepted forms.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from typing import Literal
+
+import numpy as np
+
+from .constants import ARCMIN_PER_DEG, DEG_PER_HOUR
+from .errors import AngleInputError, failed_elements
+
+AngleKind = Literal["lat", "lon", "dec", "angle", "signed"]
+
+_ACCEPTED = {
+    "lat": "47° 12.4′ N, 47 12.4 N, N 47 12.4, 47°12.4'N, 47.2067 or -47.2067 (south negative)",
+    "lon": "005° 31.9′ W, 5 31.9 W, W 5 31.9, -5.5317 (west negative) or 354.47 (east of Greenwich)",
+    "dec": "23° 26.2′ S, 23 26.2 S, -23.437 (south negative)",
+    "angle": "123° 45.6′, 123 45.6, 123.76",
+    "signed": "-0° 12.5′, -0 12.5, -0.2083",
+}
+_HEMISPHERES = {"lat": "NS", "dec": "NS", "lon": "EW"}
+_LIMITS = {"lat": 90.0, "dec": 90.0, "lon": 360.0, "angle": 360.0, "signed": 360.0}
+_NUMBER = r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)"
+_SPLIT = re.compile(r"[°º˚d'′’m\"″”s:\s]+", re.IGNORECASE)
+
+
+def wrap_360(angle_deg):
+    """Angle in degrees wrapped into [0, 360).
+
+    >>> float(wrap_360(-10.0)), float(wrap_360(720.5))
+    (350.0, 0.5)
+    """
+    wrapped = np.mod(np.asarray(angle_deg, dtype=float), 360.0)
+    # np.mod returns exactly 360.0 for tiny negative inputs
+    return np.where(wrapped >= 360.0, 0.0, wrapped)
+
+
+def wrap_180(angle_deg):
+    """Angle in degrees wrapped into [-180, 180).
+
+    >>> float(wrap_180(190.0)), float(wrap_180(-180.0))
+    (-170.0, -180.0)
+    """
+    return np.mod(np.asarray(angle_deg, dtype=float) + 180.0, 360.0) - 180.0
+
+
+def _parse_one(value: object, kind: AngleKind) -> float:
+    if isinstance(value, (int, float, np.integer, np.floating)) and not isinstance(value, bool):
+        number = float(value)
+        if not math.isfinite(number):
+            raise AngleInputError(f"{kind} {value!r} is not a finite number; accepted: {_ACCEPTED[kind]}")
+        return _checked(number, value, kind)
+    if not isinstance(value, str):
+        raise AngleInputError(f"cannot read {value!r} as a {_NAMES[kind]}; accepted: {_ACCEPTED[kind]}")
+    text = value.strip()
+    hemi = None
+    letters = _HEMISPHERES.get(kind, "")
+    if text and letters and text[-1].upper() in letters and not text[-1].isdigit():
+        hemi, text = text[-1].upper(), text[:-1].strip()
+    elif text and letters and text[0].upper() in letters:
+        hemi, text = text[0].upper(), text[1:].strip()
+    parts = [p for p in _SPLIT.split(text) if p]
+    if not 1 <= len(parts) <= 3 or not all(re.fullmatch(_NUMBER, p) for p in parts):
+        raise AngleInputError(f"cannot read {value!r} as a {_NAMES[kind]}; accepted: {_ACCEPTED[kind]}")
+    negative = parts[0].startswith("-")
+    numbers = [abs(float(p)) for p in parts]
+    if len(numbers) > 1 and (numbers[1] >= 60.0 or (len(numbers) == 3 and numbers[2] >= 60.0)):
+        raise AngleInputError(
+            f"cannot read {value!r} as a {_NAMES[kind]}: minutes and seconds must be below 60; "
+            f"accepted: {_ACCEPTED[kind]}")
+    if len(numbers) > 1 and any("." in p for p in parts[:-1]):
+        raise AngleInputError(
+            f"cannot read {value!r} as a {_NAMES[kind]}: only the last part may have decimals; "
+            f"accepted: {_ACCEPTED[kind]}")
+    magnitude = numbers[0] + sum(n / 60.0 ** i for i, n in enumerate(numbers[1:], start=1))
+    if hemi is not None:
+        if negative:
+            raise AngleInputError(
+                f"cannot read {value!r}: give either a sign or a hemisphere letter, not both")
+        number = -magnitude if hemi in "SW" else magnitude
+    else:
+        number = -magnitude if negative else magnitude
+    return _checked(number, value, kind)
+
+
+_NAMES = {"lat": "latitude", "lon": "longitude", "dec": "declination",
+          "angle": "angle", "signed": "signed angle"}
+
+
+def _checked(number: float, original: object, kind: AngleKind) -> float:
+    limit = _LIMITS[kind]
+    low = -180.0 if kind == "lon" else -limit
+    if not low <= number <= limit:
+        accepted = {"lat": "-90 to 90 (90° S to 90° N)", "dec": "-90 to 90",
+                    "lon": "-180 to 360 (west negative, or east of Greenwich up to 360)",
+                    "angle": "-360 to 360", "signed": "-360 to 360"}[kind]
+        raise AngleInputError(f"{_NAMES[kind]} {original!r} is outside {accepted}")
+    if kind == "lon":
+        number = float(wrap_180(number)) if number >= 180.0 else number
+    return number
+
+
+def parse_angle(value, kind: AngleKind = "angle"):
+    """Angle in decimal degrees from navigational text or a number.
+
+    ``kind`` is ``lat``, ``lon``, ``dec``, ``angle`` (0-360) or ``signed``;
+    latitudes and declinations are positive north, longitudes positive east and
+    returned in [-180, 180). Arrays (or lists) of values are parsed element by
+    element and the error names every element that failed.
+
+    >>> round(parse_angle("47° 12.4′ N", "lat"), 6)
+    47.206667
+    >>> round(parse_angle("005 31.9 W", "lon"), 4)
+    -5.5317
+    >>> parse_angle(["N 10 30", -5.25], "lat").tolist()
+    [10.5, -5.25]
+    """
+    if np.ndim(value) == 0 and not isinstance(value, np.ndarray):
+        return _parse_one(value, kind)
+    items = np.asarray(value, dtype=object)
+    out = np.empty(items.shape, dtype=float)
+    bad = np.zeros(items.shape, dtype=bool)
+    first_message = ""
+    for index, item in np.ndenumerate(items):
+        try:
+            out[index] = _parse_one(item, kind)
+        except AngleInputError as exc:
+            bad[index] = True
+            first_message = first_message or str(exc)
+    if bad.any():
+        raise AngleInputError(f"angles that could not be read: {failed_elements(bad)}; first: {first_message}")
+    return out
+
+
+def _split_minutes(angle_deg, decimals: int):
+    """Whole degrees and rounded minutes of |angle|, with 59.95′ carried into the degree."""
+    magnitude = np.abs(np.asarray(angle_deg, dtype=float))
+    total_minutes = np.round(magnitude * ARCMIN_PER_DEG, decimals)
+    degrees = np.floor(total_minutes / ARCMIN_PER_DEG + 1e-12)
+    minutes = np.round(total_minutes - degrees * ARCMIN_PER_DEG, decimals)
+    return np.nan_to_num(degrees).astype(int), np.abs(minutes)
+
+
+def format_angle(angle_deg, kind: AngleKind = "angle", decimals: int = 1):
+    """Navigational text for an angle in degrees: ``47° 12.4′ N``, ``005° 31.9′ W``, ``123° 45.6′``.
+
+    ``lat`` and ``dec`` get N/S, ``lon`` gets E/W (three-digit degrees), ``angle``
+    is wrapped into 0-360 with three-digit degrees, ``signed`` keeps its sign.
+    Returns a str for a scalar and an array of str for an array; NaN gives ``''``.
+
+    >>> format_angle(-5.5317, "lon")
+    '005° 31.9′ W'
+    >>> format_angle(47.99999, "lat")
+    '48° 00.0′ N'
+    >>> format_angle(-0.2, "signed")
+    '-0° 12.0′'
+    """
+    values = np.asarray(angle_deg, dtype=float)
+    if kind == "angle":
+        values = np.asarray(wrap_360(values), dtype=float)
+    elif kind == "lon":
+        values = wrap_180(values)
+    degrees, minutes = _split_minutes(values, decimals)
+    width = 3 + decimals if decimals else 2
+    out = np.empty(values.shape, dtype=object)
+    for index, value in np.ndenumerate(values):
+        if not np.isfinite(value):
+            out[index] = ""
+            continue
+        d, m = int(degrees[index]), float(minutes[index])
+        mins = f"{m:0{width}.{decimals}f}′"
+        if kind in ("lat", "dec"):
+            out[index] = f"{d:02d}° {mins} {'S' if value < 0 else 'N'}"
+        elif kind == "lon":
+            out[index] = f"{d:03d}° {mins} {'W' if value < 0 and (d or m) else 'E'}"
+        elif kind == "angle":
+            out[index] = f"{d % 360:03d}° {mins}"
+        else:
+            out[index] = f"{'-' if value < 0 and (d or m) else ''}{d}° {mins}"
+    return out.item() if out.ndim == 0 else out
+
+
+def ra_hours_to_deg(ra_hours):
+    """Right ascension in degrees from hours (1 h = 15°).
+
+    >>> float(ra_hours_to_deg(24.0))
+    360.0
+    """
+    return np.asarray(ra_hours, dtype=float) * DEG_PER_HOUR
+
+
+def deg_to_ra_hours(angle_deg):
+    """Right ascension in hours from degrees (15° = 1 h)."""
+    return np.asarray(angle_deg, dtype=float) / DEG_PER_HOUR
+
+
+def sha_deg_from_ra_hours(ra_hours):
+    """Sidereal hour angle in degrees, 360° − RA, from RA in hours.
+
+    >>> float(sha_deg_from_ra_hours(6.0))
+    270.0
+    """
+    return np.asarray(wrap_360(360.0 - ra_hours_to_deg(ra_hours)), dtype=float)
+
+
+def ra_hours_from_sha_deg(sha_deg):
+    """Right ascension in hours [0, 24) from sidereal hour angle in degrees.
+
+    >>> float(ra_hours_from_sha_deg(270.0))
+    6.0
+    """
+    return np.asarray(wrap_360(360.0 - np.asarray(sha_deg, dtype=float)), dtype=float) / DEG_PER_HOUR
+
+
+def hms_from_hours(hours, decimals: int = 2):
+    """Split hours into (h, m, s) arrays, rounding seconds to ``decimals`` and carrying.
+
+    >>> [float(x) for x in hms_from_hours(5.999999)]
+    [6.0, 0.0, 0.0]
+    """
+    total_s = np.round(np.asarray(hours, dtype=float) * 3600.0, decimals)
+    h = np.floor(total_s / 3600.0 + 1e-12)
+    m = np.floor((total_s - h * 3600.0) / 60.0 + 1e-12)
+    s = np.round(total_s - h * 3600.0 - m * 60.0, decimals)
+    return h, m, s
+
+
+def format_hms(hours, decimals: int = 2):
+    """Text ``05h 34m 31.94s`` for hours (RA or time).
+
+    >>> format_hms(5.575539)
+    '05h 34m 31.94s'
+    """
+    h, m, s = hms_from_hours(hours, decimals)
+    out = np.empty(np.shape(h), dtype=object)
+    for index, value in np.ndenumerate(np.asarray(h)):
+        width = 3 + decimals if decimals else 2
+        out[index] = f"{int(value):02d}h {int(m[index]):02d}m {s[index]:0{width}.{decimals}f}s"
+    return out.item() if out.ndim == 0 else out
+
+
+_HMS = re.compile(
+    r"^\s*([+-]?\d+(?:\.\d+)?)\s*(?:h|:|\s)\s*(\d+(?:\.\d+)?)?\s*(?:m|:|\s)?\s*(\d+(?:\.\d+)?)?\s*s?\s*$",
+    re.IGNORECASE)
+
+
+def hours_from_hms(value):
+    """Hours from ``5h 34m 31.9s``, ``5 34 31.9``, ``05:34:31.9`` or a number of hours.
+
+    >>> round(hours_from_hms("05h 34m 31.94s"), 6)
+    5.575539
+    """
+    if np.ndim(value) and not isinstance(value, str):
+        return np.array([hours_from_hms(v) for v in np.asarray(value, dtype=object).ravel()]).reshape(np.shape(value))
+    if isinstance(value, (int, float, np.integer, np.floating)) and not isinstance(value, bool):
+        return float(value)
+    match = _HMS.match(str(value))
+    if not match:
+        raise AngleInputError(f"cannot read {value!r} as hours-minutes-seconds; accepted: 05h 34m 31.9s, 5 34 31.9, 05:34:31.9")
+    h, m, s = (float(g) if g else 0.0 for g in match.groups())
+    if m >= 60 or s >= 60:
+        raise AngleInputError(f"cannot read {value!r}: minutes and seconds must be below 60")
+    sign = -1.0 if match.group(1).startswith("-") else 1.0
+    return sign * (abs(h) + m / 60.0 + s / 3600.0)

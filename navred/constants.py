@@ -1,0 +1,40 @@
+"""Physical and conventional constants, each with its source.
+
+Where a value is recalled rather than copied from the source in hand, the
+comment says ``from memory``; docs/references.md lists every source.
+"""
+
+from __future__ import annotations
+
+# --- Units -----------------------------------------------------------------
+ARCMIN_PER_DEG = 60.0
+ARCSEC_PER_DEG = 3600.0
+DEG_PER_HOUR = 15.0  # 24 h of right ascension = 360 degrees (definition)
+SECONDS_PER_DAY = 86400.0
+DAYS_PER_JULIAN_YEAR = 365.25  # IAU definition of the Julian year
+NM_PER_ARCMIN = 1.0  # one nautical mile is one arcminute of a great circle (common practice)
+METRES_PER_NM = 1852.0  # international nautical mile (1929 convention)
+
+# --- Epochs ----------------------------------------------------------------
+JD_J2000 = 2451545.0  # J2000.0 = 2000 January 1, 12h TT (IAU 1976/1994)
+JD_UNIX_EPOCH = 2440587.5  # 1970 January 1, 0h
+JD_HIPPARCOS_EPOCH = 2448349.0625  # J1991.25 (TT), the Hipparcos catalogue epoch (ESA SP-1200)
+
+# --- The Earth -------------------------------------------------------------
+EARTH_EQUATORIAL_RADIUS_KM = 6378.137  # WGS 84 / GRS 80 semi-major axis
+EARTH_FLATTENING = 1.0 / 298.257223563  # WGS 84
+
+# --- The bodies ------------------------------------------------------------
+AU_KM = 149597870.700  # IAU 2012 Resolution B2
+SPEED_OF_LIGHT_KM_S = 299792.458  # SI definition
+SPEED_OF_LIGHT_AU_DAY = SPEED_OF_LIGHT_KM_S * SECONDS_PER_DAY / AU_KM
+SUN_RADIUS_KM = 695700.0  # IAU 2015 Resolution B3, nominal solar radius
+MOON_RADIUS_KM = 1737.4  # IAU Working Group on Cartographic Coordinates, mean lunar radius
+
+# --- Time ------------------------------------------------------------------
+TT_MINUS_TAI_S = 32.184  # IAU 1991 Resolution A4
+GHA_ERROR_ARCMIN_PER_S_UT1 = 0.25  # 360 deg per sidereal day ~ 15 arcsec of GHA per second of UT1
+
+# --- Navigation conventions --------------------------------------------------
+DEFAULT_TEMPERATURE_C = 10.0  # standard conditions of the almanac's refraction table (common practice)
+DEFAULT_PRESSURE_HPA = 1010.0  # ditto (common practice)

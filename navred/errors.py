@@ -1,0 +1,59 @@
+"""Exceptions and warnings raised by navred's core.
+
+The core never prints: it raises a :class:`NavredError` (a ``ValueError``) whose
+message names the bad value, what is accepted and, for arrays, which elements
+failed; and it issues a :class:`NavredWarning` for results that are usable but
+need the navigator's attention. Only the command line prints.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+
+class NavredError(ValueError):
+    """Base class of every error navred raises on bad input."""
+
+
+class TimeInputError(NavredError):
+    """An instant that cannot be read, has no zone, or lies outside the ephemeris."""
+
+
+class BodyNameError(NavredError):
+    """A body name that is not in navred's catalogue."""
+
+
+class AngleInputError(NavredError):
+    """An angle that cannot be read or lies outside its accepted range."""
+
+
+class SightInputError(NavredError):
+    """A sight value (altitude, height of eye, limb, ...) that is not accepted."""
+
+
+class NavredWarning(UserWarning):
+    """A usable result that the navigator should check (low sight, stale table, ...)."""
+
+
+def failed_elements(mask: np.ndarray, limit: int = 10) -> str:
+    """Describe which elements of an array failed a check, for an error message.
+
+    >>> failed_elements(np.array([False, True, True]))
+    '2 of 3 elements (indices 1, 2)'
+    >>> failed_elements(np.array(True))
+    'the value'
+    """
+    mask = np.asarray(mask, dtype=bool)
+    if mask.ndim == 0:
+        return "the value"
+    flat = np.flatnonzero(mask.ravel())
+    shown = ", ".join(str(i) for i in flat[:limit])
+    more = f", ... ({flat.size - limit} more)" if flat.size > limit else ""
+    return f"{flat.size} of {mask.size} elements (indices {shown}{more})"
+
+
+def first_bad(values: np.ndarray, mask: np.ndarray) -> object:
+    """Return the first offending value of ``values`` where ``mask`` is true."""
+    values = np.asarray(values)
+    mask = np.broadcast_to(np.asarray(mask, dtype=bool), values.shape)
+    return values[mask].ravel()[0] if mask.any() else None

@@ -1,0 +1,92 @@
+"""Shared fixtures and tolerances, in navigation units.
+
+The reference libraries (skyfield, PyEphem) are used offline: skyfield reads
+the DE421 file shipped by skyfield-data and its own built-in UT1 and
+leap-second tables (load.timescale(builtin=True)); nothing is downloaded.
+"""
+
+from __future__ import annotations
+
+import importlib.resources
+import socket
+import warnings
+
+import numpy as np
+import pytest
+
+ARCMIN = 1.0 / 60.0  # one arcminute in degrees
+ARCSEC = 1.0 / 3600.0
+NM = 1.0  # one nautical mile (= one arcminute of great circle)
+
+
+@pytest.fixture(scope="session")
+def ts():
+    from skyfield.api import load
+
+    return load.timescale(builtin=True)
+
+
+@pytest.fixture(scope="session")
+def eph():
+    from skyfield.api import load
+
+    return load(str(importlib.resources.files("skyfield_data") / "data" / "de421.bsp"))
+
+
+@pytest.fixture(scope="session")
+def sky_bodies(eph):
+    """skyfield targets for the solar-system bodies navred knows (same DE421 segments)."""
+    return {"Sun": eph["sun"], "Moon": eph["moon"], "Venus": eph["venus"], "Mars": eph["mars"],
+            "Jupiter": eph["jupiter barycenter"], "Saturn": eph["saturn barycenter"]}
+
+
+def sky_star(ts, name):
+    """A skyfield Star built from navred's Hipparcos 2 row (same catalogue values, independent code)."""
+    from skyfield.api import Star
+
+    from navred.stars import star_index, star_table
+
+    table = star_table()
+    i = star_index(name)
+    return Star(ra_hours=table.ra_deg[i] / 15.0, dec_degrees=table.dec_deg[i],
+                ra_mas_per_year=table.pm_ra_cosdec_mas_per_year[i],
+                dec_mas_per_year=table.pm_dec_mas_per_year[i],
+                parallax_mas=table.parallax_mas[i], epoch=ts.J(1991.25))
+
+
+def angle_diff_deg(a, b):
+    """Signed difference a - b wrapped into [-180, 180) degrees."""
+    return (np.asarray(a) - np.asarray(b) + 180.0) % 360.0 - 180.0
+
+
+def utc_of(t):
+    """numpy datetime64[ns] UTC instants of a skyfield Time (no leap-second instants)."""
+    parts = t.utc
+    base = np.datetime64("1970-01-01", "ns")
+    days = (np.array([np.datetime64(f"{int(y):04d}-{int(m):02d}-{int(d):02d}", "D")
+                      for y, m, d in zip(np.atleast_1d(parts[0]), np.atleast_1d(parts[1]),
+                                         np.atleast_1d(parts[2]))]) - np.datetime64("1970-01-01", "D"))
+    seconds = (np.atleast_1d(parts[3]) * 3600 + np.atleast_1d(parts[4]) * 60 + np.atleast_1d(parts[5]))
+    return base + days.astype("timedelta64[D]") + (np.round(seconds * 1e9)).astype("timedelta64[ns]")
+
+
+@pytest.fixture
+def no_network(monkeypatch):
+    """Make every attempt to open a socket fail loudly."""
+    def refuse(*args, **kwargs):
+        raise AssertionError("navred tried to open a network connection")
+
+    monkeypatch.setattr(socket, "socket", refuse)
+    monkeypatch.setattr(socket, "create_connection", refuse)
+    monkeypatch.setattr(socket, "getaddrinfo", refuse)
+    yield
+
+
+@pytest.fixture
+def quiet_navred_warnings():
+    """For checks whose instants are past the IERS table on purpose (skyfield extrapolates UT1)."""
+    from navred.errors import NavredWarning
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", NavredWarning)
+        yield

@@ -1,0 +1,122 @@
+"""Angles: the navigational form, wrapping, RA and SHA."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from hypothesis import given
+from hypothesis import strategies as st
+
+from navred.angles import (
+    format_angle,
+    format_hms,
+    hours_from_hms,
+    parse_angle,
+    ra_hours_from_sha_deg,
+    ra_hours_to_deg,
+    sha_deg_from_ra_hours,
+    wrap_180,
+    wrap_360,
+)
+from navred.errors import AngleInputError
+
+
+@pytest.mark.parametrize("text, kind, expected", [
+    ("47° 12.4′ N", "lat", 47 + 12.4 / 60),
+    ("47 12.4 N", "lat", 47 + 12.4 / 60),
+    ("47°12.4'N", "lat", 47 + 12.4 / 60),
+    ("N 47 12.4", "lat", 47 + 12.4 / 60),
+    ("47 12.4 s", "lat", -(47 + 12.4 / 60)),
+    ("005° 31.9′ W", "lon", -(5 + 31.9 / 60)),
+    ("5 31.9 E", "lon", 5 + 31.9 / 60),
+    ("-5.5317", "lon", -5.5317),
+    (-5.5317, "lon", -5.5317),
+    ("354.5", "lon", -5.5),
+    ("47:12:24", "lat", 47 + 12 / 60 + 24 / 3600),
+    ("47d 12m 24s N", "lat", 47 + 12 / 60 + 24 / 3600),
+    ("23 26.2 S", "dec", -(23 + 26.2 / 60)),
+    ("123 45.6", "angle", 123.76),
+])
+def test_parse_accepts_the_forms_navigators_write(text, kind, expected):
+    # the navigational form DDD° MM.m′ with hemisphere letters (common practice)
+    assert parse_angle(text, kind) == pytest.approx(expected, abs=1e-9)
+
+
+@pytest.mark.parametrize("text, kind, fragment", [
+    ("47 72.4 N", "lat", "below 60"),
+    ("95 00 N", "lat", "outside -90 to 90"),
+    ("47 12.4 E", "lat", "cannot read"),
+    ("-47 12 N", "lat", "sign or a hemisphere"),
+    ("abc", "lon", "accepted"),
+    ("181 W", "lon", "outside"),
+    (float("nan"), "lat", "not a finite number"),
+])
+def test_parse_refuses_with_a_reason_and_the_accepted_forms(text, kind, fragment):
+    with pytest.raises(AngleInputError, match=fragment):
+        parse_angle(text, kind)
+
+
+def test_parse_array_names_the_failing_elements():
+    with pytest.raises(AngleInputError, match=r"2 of 3 elements \(indices 0, 2\)"):
+        parse_angle(["x", "10 30 N", "91 N"], "lat")
+    assert parse_angle(np.array(["10 30 N", "10 30 S"]), "lat").tolist() == [10.5, -10.5]
+
+
+@pytest.mark.parametrize("value, kind, text", [
+    (47 + 12.4 / 60, "lat", "47° 12.4′ N"),
+    (-(5 + 31.9 / 60), "lon", "005° 31.9′ W"),
+    (359.99999, "angle", "000° 00.0′"),
+    (-0.5, "dec", "00° 30.0′ S"),
+    (12.999999, "lat", "13° 00.0′ N"),
+])
+def test_format_navigational_form(value, kind, text):
+    # carrying 59.95′ into the next degree, three-digit longitudes (common practice)
+    assert format_angle(value, kind) == text
+
+
+def test_format_is_vectorised_and_blank_for_nan():
+    out = format_angle(np.array([1.5, np.nan]), "lat")
+    assert out.tolist() == ["01° 30.0′ N", ""]
+
+
+@given(st.floats(min_value=-90, max_value=90, allow_nan=False))
+def test_latitude_text_round_trips_to_a_tenth_of_a_minute(lat):
+    back = parse_angle(format_angle(lat, "lat"), "lat")
+    assert abs(back - lat) <= 0.05 / 60 + 1e-9
+
+
+@given(st.floats(min_value=-179.999, max_value=179.999, allow_nan=False))
+def test_longitude_text_round_trips(lon):
+    back = parse_angle(format_angle(lon, "lon"), "lon")
+    assert abs(wrap_180(back - lon)) <= 0.05 / 60 + 1e-9
+
+
+def test_wrapping():
+    assert float(wrap_360(-1e-15)) < 360.0
+    assert np.allclose(wrap_360([-10, 370, 360]), [350, 10, 0])
+    assert np.allclose(wrap_180([190, -190, 180]), [-170, 170, -180])
+
+
+def test_ra_facts_of_the_trade():
+    # 24 h of RA = 360°, 1 h = 15°, 1 m = 15′, 1 s = 15″ (common practice)
+    assert float(ra_hours_to_deg(24.0)) == 360.0
+    assert float(ra_hours_to_deg(1.0)) == 15.0
+    assert float(ra_hours_to_deg(1 / 60)) * 60 == pytest.approx(15.0)
+    assert float(ra_hours_to_deg(1 / 3600)) * 3600 == pytest.approx(15.0)
+
+
+@given(st.floats(min_value=0.0, max_value=23.9999, allow_nan=False))
+def test_sha_plus_ra_is_360(ra_hours):
+    # SHA + RA = 360° (common practice)
+    sha = float(sha_deg_from_ra_hours(ra_hours))
+    assert (sha + ra_hours * 15.0) % 360.0 == pytest.approx(0.0, abs=1e-9) or \
+        (sha + ra_hours * 15.0) == pytest.approx(360.0)
+    assert float(ra_hours_from_sha_deg(sha)) == pytest.approx(ra_hours, abs=1e-9)
+
+
+def test_hms_text():
+    assert format_hms(5.575539) == "05h 34m 31.94s"
+    assert hours_from_hms("05h 34m 31.94s") == pytest.approx(5.575539, abs=1e-6)
+    assert hours_from_hms("5 34 31.94") == pytest.approx(5.575539, abs=1e-6)
+    with pytest.raises(AngleInputError, match="below 60"):
+        hours_from_hms("5 64 00")

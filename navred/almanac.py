@@ -8,11 +8,11 @@ computed from first principles:
 - stars: Hipparcos 2 catalogue place, space motion and annual parallax (ERFA
   ``pmpx``) and light deflection by the Sun (ERFA ``ldsun``);
 - annual aberration, relativistic (ERFA ``ab``), from the Earth's barycentric velocity;
-- frame bias, precession (IAU 2000) and nutation (IAU 2000B) through ERFA ``pn00``;
-  IAU 2000B is within 1 mas of the full IAU 2000A model over 1900-2100 (ERFA's
-  documentation; navred's own measurement is in docs/almanac.md);
-- GHA Aries = Greenwich apparent sidereal time = GMST (IAU 2000, ``gmst00``) plus the
-  equation of the equinoxes (``ee00``) from the same nutation.
+- frame bias and precession (IAU 2006, ERFA ``pfw06``) and nutation (IAU 2000B), the
+  matrix built by ``fw2m``; IAU 2000B is within 1 mas of the full IAU 2000A model over
+  1900-2100 (ERFA's documentation; navred's own measurement is in docs/almanac.md);
+- GHA Aries = Greenwich apparent sidereal time = GMST (IAU 2006, ``gmst06``) plus the
+  equation of the equinoxes from the same nutation.
 
 Every function takes scalars or arrays and broadcasts; there is no Python loop
 over instants (only over the distinct solar-system bodies in a request).
@@ -93,10 +93,7 @@ def _frame(inst: Instants) -> _Frame:
     earth_p, earth_v = segments.barycentric("earth")
     sun_p = segments.barycentric_position("sun")
     tt1, tt2 = inst.tt1.ravel(), inst.tt2.ravel()
-    dpsi, deps, eect = nutation_rad(tt1, tt2)
-    epsa, _rb, _rp, _rbp, _rn, rbpn = erfa.pn00(tt1, tt2, dpsi, deps)
-    gast = erfa.anp(erfa.gmst00(inst.ut11.ravel(), inst.ut12.ravel(), tt1, tt2)
-                    + dpsi * np.cos(epsa) + eect)
+    rbpn, gast = bias_precession_nutation(tt1, tt2, inst.ut11.ravel(), inst.ut12.ravel())
     return _Frame(earth_p.T, earth_v.T, sun_p.T, rbpn, gast, segments)
 
 
@@ -144,6 +141,21 @@ def nutation_rad(tt1, tt2, grid: bool | None = None):
     return tuple(_lagrange4(days, start, NUTATION_GRID_DAYS, v) for v in (gpsi, geps, gect))
 
 
+def bias_precession_nutation(tt1, tt2, ut11, ut12):
+    """GCRS -> true equator and equinox of date matrices (N, 3, 3) and GAST (radians).
+
+    IAU 2006 precession as Fukushima-Williams angles (ERFA ``pfw06``) with the IAU 2000B
+    nutation added to ψ and ε (``fw2m``), the construction of ERFA's ``pnm06a`` with the
+    abridged nutation; GAST = GMST (IAU 2006, ``gmst06``) + Δψ cos εA + the complementary
+    terms (``eect00``).
+    """
+    dpsi, deps, eect = nutation_rad(tt1, tt2)
+    gamb, phib, psib, epsa = erfa.pfw06(tt1, tt2)
+    rbpn = erfa.fw2m(gamb, phib, psib + dpsi, epsa + deps)
+    gast = erfa.anp(erfa.gmst06(ut11, ut12, tt1, tt2) + dpsi * np.cos(epsa) + eect)
+    return rbpn, gast
+
+
 def _aberrate_and_rotate(direction: np.ndarray, frame: _Frame, rows) -> np.ndarray:
     """Apply annual aberration and bias-precession-nutation to unit vectors (N, 3)."""
     v = frame.earth_velocity_km_day[rows] / AU_KM / SPEED_OF_LIGHT_AU_DAY
@@ -157,8 +169,8 @@ def _geocentric_state(name: str, frame: _Frame, rows):
     """Geocentric position (km) and the body's barycentric velocity (km/day) at the instants ``rows``."""
     if name == "Sun":
         return frame.sun_km[rows] - frame.earth_km[rows], frame.segments.barycentric("sun")[1].T[rows]
-    position, velocity = frame.segments.geocentric(name)
-    return position.T[rows], velocity.T[rows] + frame.earth_velocity_km_day[rows]
+    position, velocity = frame.segments.geocentric(name, rows)
+    return position.T, velocity.T + frame.earth_velocity_km_day[rows]
 
 
 def _solar_system_places(name: str, frame: _Frame, rows):
@@ -197,24 +209,23 @@ def _star_places(star_rows: np.ndarray, inst: Instants, frame: _Frame, rows):
 
 
 def _body_array(body, shape) -> np.ndarray:
+    """Catalogue names broadcast to ``shape``; each distinct spelling is looked up once."""
     names = np.asarray(body, dtype=object)
-    unique = {}
-    bad = np.zeros(names.shape, dtype=bool)
+    if names.ndim == 0:
+        return np.broadcast_to(np.array(canonical_body_name(names.item()), dtype=object), shape)
+    spellings, inverse = np.unique(names.astype(str), return_inverse=True)
+    canonical = np.empty(len(spellings), dtype=object)
+    bad = np.zeros(len(spellings), dtype=bool)
     first = ""
-    for index, name in np.ndenumerate(names):
-        if name not in unique:
-            try:
-                unique[name] = canonical_body_name(name)
-            except BodyNameError as exc:
-                unique[name] = None
-                first = first or str(exc)
-        bad[index] = unique[name] is None
+    for k, spelling in enumerate(spellings):
+        try:
+            canonical[k] = canonical_body_name(spelling)
+        except BodyNameError as exc:
+            bad[k] = True
+            first = first or str(exc)
     if bad.any():
-        if names.ndim == 0:
-            raise BodyNameError(first)
-        raise BodyNameError(f"unknown bodies in {failed_elements(bad)}; first: {first}")
-    canonical = np.vectorize(unique.get, otypes=[object])(names) if names.ndim else np.array(unique[names.item()], dtype=object)
-    return np.broadcast_to(canonical, shape)
+        raise BodyNameError(f"unknown bodies in {failed_elements(bad[inverse].reshape(names.shape))}; first: {first}")
+    return np.broadcast_to(canonical[inverse].reshape(names.shape), shape)
 
 
 def places(body, utc, dut1_s=None) -> Places:
@@ -320,10 +331,7 @@ def gha_aries_deg(utc, dut1_s=None) -> np.ndarray:
     280.459
     """
     inst = instants(utc, dut1_s)
-    tt1, tt2 = inst.tt1, inst.tt2
-    dpsi, _ = erfa.nut00b(tt1, tt2)
-    epsa = erfa.obl06(tt1, tt2)
-    gast = erfa.anp(erfa.gmst00(inst.ut11, inst.ut12, tt1, tt2) + erfa.ee00(tt1, tt2, epsa, dpsi))
+    _, gast = bias_precession_nutation(inst.tt1, inst.tt2, inst.ut11, inst.ut12)
     return np.degrees(gast)
 
 

@@ -95,6 +95,22 @@ _NAMES = {"lat": "latitude", "lon": "longitude", "dec": "declination",
           "angle": "angle", "signed": "signed angle"}
 
 
+def _checked_array(numbers: np.ndarray, kind: AngleKind) -> np.ndarray:
+    """The vectorised form of :func:`_checked` for arrays of numbers."""
+    limit = _LIMITS[kind]
+    low = -180.0 if kind == "lon" else -limit
+    bad = ~np.isfinite(numbers) | (numbers < low) | (numbers > limit)
+    if bad.any():
+        first = numbers[bad].ravel()[0]
+        try:
+            _checked(float(first), first, kind) if np.isfinite(first) else _parse_one(float(first), kind)
+        except AngleInputError as exc:
+            raise AngleInputError(f"angles refused: {failed_elements(bad)}; first: {exc}") from None
+    if kind == "lon":
+        numbers = np.where(numbers >= 180.0, wrap_180(numbers), numbers)
+    return numbers
+
+
 def _checked(number: float, original: object, kind: AngleKind) -> float:
     limit = _LIMITS[kind]
     low = -180.0 if kind == "lon" else -limit
@@ -125,6 +141,9 @@ def parse_angle(value, kind: AngleKind = "angle"):
     """
     if np.ndim(value) == 0 and not isinstance(value, np.ndarray):
         return _parse_one(value, kind)
+    numeric = np.asarray(value) if not isinstance(value, np.ndarray) else value
+    if numeric.dtype.kind in "fiu":
+        return _checked_array(numeric.astype(float), kind)
     items = np.asarray(value, dtype=object)
     out = np.empty(items.shape, dtype=float)
     bad = np.zeros(items.shape, dtype=bool)

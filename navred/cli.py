@@ -92,6 +92,56 @@ def almanac_command(
                        f"{format_angle(row.sha_deg):>13}{hp:>8}{sd:>8}")
 
 
+def _read_table(path: str):
+    """A CSV or .xlsx sight table as a DataFrame of text, or a one-line error."""
+    from pathlib import Path
+
+    import pandas as pd
+
+    file = Path(path)
+    if not file.is_file():
+        raise NavredError(f"no such file: {path}")
+    try:
+        if file.suffix.lower() in (".xlsx", ".xlsm"):
+            return pd.read_excel(file, dtype=object)
+        return pd.read_csv(file, dtype=str, keep_default_na=False)
+    except (ValueError, UnicodeDecodeError, OSError) as exc:
+        raise NavredError(f"cannot read {path} as a CSV or .xlsx sight table: {exc}") from None
+
+
+@app.command("reduce")
+def reduce_command(
+    sights_file: str = typer.Argument(..., metavar="SIGHTS", help="Sight table, CSV or .xlsx (see docs/sight-log.md)."),
+    csv: bool = typer.Option(False, "--csv", help="Print every column of every reduced sight as CSV."),
+) -> None:
+    """Reduce every sight: Ho, Hc, Zn and the intercept TOWARD or AWAY, with any warning.
+
+    Example:  navred reduce sample_sights/demo_sights.csv
+    """
+    from .angles import format_angle
+    from .sights import reduce_sights
+
+    with _reported():
+        reduced = reduce_sights(_read_table(sights_file))
+        if csv:
+            typer.echo(reduced.to_csv(index=False, float_format="%.6f"), nl=False)
+            return
+        typer.echo(f"{'row':>4}  {'body':<15}{'UTC':<21}{'Ho':>12}{'Hc':>12}{'Zn':>8}  {'intercept':<18}note")
+        for number, row in enumerate(reduced.itertuples(), start=1):
+            when = f"{row.sight_utc:%Y-%m-%d %H:%M:%S}" if row.sight_utc is not None and str(row.sight_utc) != "NaT" else ""
+            if row.status == "error":
+                typer.echo(f"{number:>4}  {str(row.body):<15}{when:<21}{'not reduced:':>12} {row.message}")
+                continue
+            intercept = f"{abs(row.intercept_nm):5.1f} nm {row.intercept_direction}"
+            typer.echo(f"{number:>4}  {row.body_name:<15}{when:<21}{format_angle(row.ho_deg, 'signed'):>12}"
+                       f"{format_angle(row.hc_deg, 'signed'):>12}{row.zn_deg:7.1f}°  {intercept:<18}{row.message}")
+        counts = reduced.status.value_counts()
+        typer.echo(f"{int(counts.get('ok', 0) + counts.get('warning', 0))} sights reduced "
+                   f"({int(counts.get('warning', 0))} with a warning), {int(counts.get('error', 0))} not reduced")
+        if counts.get("error", 0) == len(reduced):
+            raise typer.Exit(code=1)
+
+
 @app.command("bodies")
 def bodies_command() -> None:
     """List every body navred knows, with the stars' list numbers and magnitudes.

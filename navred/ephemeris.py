@@ -42,6 +42,28 @@ def _kernel() -> SPK:
     return SPK.open(ephemeris_path())
 
 
+#: Instants per block when a segment is evaluated: jplephem gathers a (3, coefficients, n)
+#: block of Chebyshev coefficients, 300 MB for a million instants of the Earth-Moon
+#: barycentre, so large batches are evaluated in blocks of this size (not per instant).
+BLOCK = 65536
+
+
+def _evaluate(centre: int, target: int, tdb1, tdb2, velocity: bool):
+    """Position (and velocity) of one segment, shape (3, n), in blocks of :data:`BLOCK`."""
+    segment = _kernel()[centre, target]
+    t1, t2 = np.broadcast_arrays(np.asarray(tdb1, dtype=float), np.asarray(tdb2, dtype=float))
+    shape = t1.shape
+    t1, t2 = t1.ravel(), t2.ravel()
+    if t1.size <= BLOCK:
+        out = segment.compute_and_differentiate(t1, t2) if velocity else (segment.compute(t1, t2),)
+    else:
+        parts = [segment.compute_and_differentiate(t1[i:i + BLOCK], t2[i:i + BLOCK]) if velocity
+                 else (segment.compute(t1[i:i + BLOCK], t2[i:i + BLOCK]),)
+                 for i in range(0, t1.size, BLOCK)]
+        out = tuple(np.concatenate([p[k] for p in parts], axis=-1) for k in range(len(parts[0])))
+    return tuple(np.asarray(o).reshape((3,) + shape) for o in out)
+
+
 def _chain(body: str):
     chain = _CHAINS.get(body.lower())
     if chain is None:
@@ -56,16 +78,10 @@ def barycentric_state(body: str, tdb1, tdb2=0.0) -> tuple[np.ndarray, np.ndarray
     ``venus``, ``mars``, ``jupiter``, ``saturn``); ``tdb1 + tdb2`` is a two-part
     TDB Julian date, scalar or array.
     """
-    chain = _chain(body)
-    kernel = _kernel()
-    t1 = np.asarray(tdb1, dtype=float)
-    t2 = np.asarray(tdb2, dtype=float)
-    position = np.zeros((3,) + np.broadcast(t1, t2).shape)
-    velocity = np.zeros_like(position)
-    for centre, target in chain:
-        p, v = kernel[centre, target].compute_and_differentiate(t1, t2)
-        position = position + p
-        velocity = velocity + v
+    position = velocity = 0.0
+    for centre, target in _chain(body):
+        p, v = _evaluate(centre, target, tdb1, tdb2, velocity=True)
+        position, velocity = position + p, velocity + v
     return position, velocity
 
 
@@ -85,7 +101,7 @@ class SegmentCache:
     def segment(self, centre: int, target: int) -> tuple[np.ndarray, np.ndarray]:
         key = (centre, target)
         if key not in self._states:
-            self._states[key] = _kernel()[centre, target].compute_and_differentiate(self.tdb1, self.tdb2)
+            self._states[key] = _evaluate(centre, target, self.tdb1, self.tdb2, velocity=True)
         return self._states[key]
 
     def segment_position(self, centre: int, target: int) -> np.ndarray:
@@ -93,7 +109,7 @@ class SegmentCache:
         if key in self._states:
             return self._states[key][0]
         if key not in self._positions:
-            self._positions[key] = _kernel()[centre, target].compute(self.tdb1, self.tdb2)
+            self._positions[key] = _evaluate(centre, target, self.tdb1, self.tdb2, velocity=False)[0]
         return self._positions[key]
 
     def barycentric_position(self, body: str) -> np.ndarray:
@@ -108,26 +124,23 @@ class SegmentCache:
             position, velocity = position + p, velocity + v
         return position, velocity
 
-    def geocentric(self, body: str) -> tuple[np.ndarray, np.ndarray]:
-        """Geocentric position (km) and velocity (km/day) at the same instants (no light time).
+    def geocentric(self, body: str, rows: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Geocentric position (km) and velocity (km/day) at the instants ``rows`` (no light time).
 
-        For the Moon the Earth-Moon barycentre cancels and is not evaluated.
+        The body's own segments are evaluated at those instants only; the Earth's come from
+        the cache. For the Moon the Earth-Moon barycentre cancels and is not evaluated.
         """
+        t1 = np.broadcast_to(self.tdb1, np.broadcast(self.tdb1, self.tdb2).shape)[rows]
+        t2 = np.broadcast_to(self.tdb2, np.broadcast(self.tdb1, self.tdb2).shape)[rows]
         if body.lower() == "moon":
-            moon_p, moon_v = self.segment(3, 301)
+            moon_p, moon_v = _evaluate(3, 301, t1, t2, velocity=True)
             earth_p, earth_v = self.segment(3, 399)
-            return moon_p - earth_p, moon_v - earth_v
-        body_p, body_v = self.barycentric(body)
+            return moon_p - earth_p[:, rows], moon_v - earth_v[:, rows]
+        body_p, body_v = barycentric_state(body, t1, t2)
         earth_p, earth_v = self.barycentric("earth")
-        return body_p - earth_p, body_v - earth_v
+        return body_p - earth_p[:, rows], body_v - earth_v[:, rows]
 
 
 def barycentric_position(body: str, tdb1, tdb2=0.0) -> np.ndarray:
     """Barycentric position (km) of a body, shape (3, ...)."""
-    kernel = _kernel()
-    t1 = np.asarray(tdb1, dtype=float)
-    t2 = np.asarray(tdb2, dtype=float)
-    position = np.zeros((3,) + np.broadcast(t1, t2).shape)
-    for centre, target in _chain(body):
-        position = position + kernel[centre, target].compute(t1, t2)
-    return position
+    return sum(_evaluate(c, t, tdb1, tdb2, velocity=False)[0] for c, t in _chain(body))

@@ -53,7 +53,40 @@ def test_bodies_lists_the_catalogue():
 
 
 def test_help_on_every_command_has_an_example():
-    for command in ("almanac", "bodies"):
+    for command in ("almanac", "bodies", "reduce"):
         result = runner.invoke(app, [command, "--help"])
         assert result.exit_code == 0
         assert "Example:" in result.output
+
+
+def test_reduce_prints_one_line_per_sight():
+    result = runner.invoke(app, ["reduce", "sample_sights/demo_sights.csv"])
+    assert result.exit_code == 0, result.output
+    lines = result.output.splitlines()
+    sight_lines = [line for line in lines if line[:4].strip().isdigit()]
+    assert len(sight_lines) == 11
+    assert all(("TOWARD" in line) or ("AWAY" in line) for line in sight_lines)
+    assert "11 sights reduced" in lines[-1]
+
+
+def test_reduce_reads_xlsx_and_csv_output(tmp_path):
+    result = runner.invoke(app, ["reduce", "sample_sights/demo_sights.xlsx", "--csv"])
+    assert result.exit_code == 0, result.output
+    frame = pd.read_csv(io.StringIO(result.output))
+    assert len(frame) == 11 and {"ho_deg", "hc_deg", "zn_deg", "intercept_nm"} <= set(frame.columns)
+
+
+def test_reduce_explains_bad_rows_and_fails_only_when_nothing_reduced(tmp_path):
+    log = tmp_path / "log.csv"
+    log.write_text("utc,body,hs,eye_height_m,dr_lat,dr_lon\n"
+                   "2026-03-26T19:41:00Z,Sirius,30 02.4,2.8,43 14 N,13 04 W\n"
+                   "2026-03-26T19:41:00,Sirius,30 02.4,2.8,43 14 N,13 04 W\n")
+    result = runner.invoke(app, ["reduce", str(log)])
+    assert result.exit_code == 0
+    assert "not reduced" in result.output and "no time zone" in result.output
+    bad = tmp_path / "bad.csv"
+    bad.write_text("utc,body,hs,eye_height_m,dr_lat,dr_lon\n2026-03-26T19:41:00,Sirus,95,2.8,43 14 N,13 04 W\n")
+    result = runner.invoke(app, ["reduce", str(bad)])
+    assert result.exit_code == 1
+    missing = runner.invoke(app, ["reduce", str(tmp_path / "nope.csv")])
+    assert missing.exit_code == 1 and "no such file" in missing.output

@@ -1,0 +1,149 @@
+"""The navigational triangle: Hc, Zn and the intercept (Marcq St Hilaire).
+
+    LHA = GHA + longitude (east positive)
+    sin Hc = sin φ sin δ + cos φ cos δ cos LHA
+    Zn = atan2(−cos δ sin LHA, cos φ sin δ − sin φ cos δ cos LHA), measured clockwise from true north
+    intercept = 60·(Ho − Hc) nautical miles, positive TOWARD the body
+
+(the cosine formula and the azimuth as in every navigation manual; atan2 makes Zn right in
+every quadrant). Every function takes scalars or numpy arrays and broadcasts.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .angles import wrap_180, wrap_360
+from .constants import ARCMIN_PER_DEG
+from .errors import AngleInputError, failed_elements
+
+HIGH_ALTITUDE_DEG = 85.0  # above: the straight line of position is a poor approximation (common practice)
+
+
+def _check_finite(**values) -> None:
+    for name, value in values.items():
+        bad = ~np.isfinite(np.asarray(value, dtype=float))
+        if bad.any():
+            raise AngleInputError(f"{name} must be finite; refused: {failed_elements(bad)}")
+
+
+def computed_altitude_azimuth(lat_deg, lon_deg, gha_deg, dec_deg):
+    """Computed altitude Hc and true azimuth Zn (degrees) of a body from a position.
+
+    ``lat_deg`` north positive, ``lon_deg`` east positive; GHA and Dec of the body.
+
+    >>> hc, zn = computed_altitude_azimuth(40.0, 0.0, 0.0, 10.0)
+    >>> round(float(hc), 6), round(float(zn), 6)
+    (60.0, 180.0)
+    """
+    lat = np.asarray(lat_deg, dtype=float)
+    if np.any(np.abs(lat) > 90.0):
+        raise AngleInputError(f"latitude must lie in -90 to 90°; refused: {failed_elements(np.abs(lat) > 90)}")
+    # |φ| and |δ| are at most 90°, so their cosines are the non-negative square roots (one
+    # sine each instead of a sine and a cosine: the trigonometric calls dominate the cost)
+    sin_phi = np.sin(np.radians(lat))
+    sin_dec = np.sin(np.radians(np.asarray(dec_deg, dtype=float)))
+    cos_phi = np.sqrt(np.maximum(1.0 - sin_phi * sin_phi, 0.0))
+    cos_dec = np.sqrt(np.maximum(1.0 - sin_dec * sin_dec, 0.0))
+    lha = np.radians(np.asarray(gha_deg, dtype=float) + np.asarray(lon_deg, dtype=float))
+    cos_lha = np.cos(lha)
+    north = cos_phi * sin_dec - sin_phi * cos_dec * cos_lha
+    east = -cos_dec * np.sin(lha)
+    up = sin_phi * sin_dec + cos_phi * cos_dec * cos_lha
+    # atan2 of the vertical and horizontal components keeps Hc exact near the zenith too
+    hc = np.degrees(np.arctan2(up, np.hypot(north, east)))
+    zn = np.degrees(np.arctan2(east, north))
+    zn = np.where(zn < 0.0, zn + 360.0, zn)
+    zn = np.where(zn >= 360.0, 0.0, zn)
+    if not np.isfinite(hc).all():
+        # NaN and infinity propagate through the trigonometry: find which input was at fault
+        _check_finite(latitude=lat_deg, longitude=lon_deg, GHA=gha_deg, declination=dec_deg)
+    return hc, zn
+
+
+def intercept_nm(ho_deg, hc_deg):
+    """Intercept in nautical miles, 60·(Ho − Hc): positive TOWARD the body, negative AWAY.
+
+    >>> float(intercept_nm(30.5, 30.0))
+    30.0
+    """
+    return (np.asarray(ho_deg, dtype=float) - np.asarray(hc_deg, dtype=float)) * ARCMIN_PER_DEG
+
+
+def intercept_direction(intercept_nm_):
+    """``'TOWARD'`` for a positive (or zero) intercept, ``'AWAY'`` for a negative one; '' for NaN."""
+    value = np.asarray(intercept_nm_, dtype=float)
+    out = np.where(value >= 0, "TOWARD", "AWAY").astype(object)
+    out[~np.isfinite(value)] = ""
+    return out.item() if out.ndim == 0 else out
+
+
+def destination(lat_deg, lon_deg, bearing_deg, distance_nm):
+    """Position reached from (lat, lon) along a great circle at initial true bearing, distance in nm.
+
+    The sphere of radius one nautical mile per arcminute (common practice).
+
+    >>> lat, lon = destination(0.0, 0.0, 90.0, 60.0)
+    >>> round(float(lat), 9), round(float(lon), 9)
+    (0.0, 1.0)
+    """
+    phi = np.radians(np.asarray(lat_deg, dtype=float))
+    lam = np.radians(np.asarray(lon_deg, dtype=float))
+    theta = np.radians(np.asarray(bearing_deg, dtype=float))
+    delta = np.radians(np.asarray(distance_nm, dtype=float) / ARCMIN_PER_DEG)
+    sin_phi2 = np.sin(phi) * np.cos(delta) + np.cos(phi) * np.sin(delta) * np.cos(theta)
+    phi2 = np.arcsin(np.clip(sin_phi2, -1.0, 1.0))
+    lam2 = lam + np.arctan2(np.sin(theta) * np.sin(delta) * np.cos(phi),
+                            np.cos(delta) - np.sin(phi) * sin_phi2)
+    return np.degrees(phi2), wrap_180(np.degrees(lam2))
+
+
+def distance_bearing(lat1_deg, lon1_deg, lat2_deg, lon2_deg):
+    """Great-circle distance (nautical miles) and initial true bearing (degrees) from point 1 to point 2.
+
+    >>> d, b = distance_bearing(0.0, 0.0, 1.0, 0.0)
+    >>> round(float(d), 6), round(float(b), 6)
+    (60.0, 0.0)
+    """
+    p1, p2 = np.radians(lat1_deg), np.radians(lat2_deg)
+    dl = np.radians(np.asarray(lon2_deg, dtype=float) - np.asarray(lon1_deg, dtype=float))
+    a = np.sin((p2 - p1) / 2) ** 2 + np.cos(p1) * np.cos(p2) * np.sin(dl / 2) ** 2
+    distance = 2 * np.degrees(np.arcsin(np.sqrt(np.clip(a, 0.0, 1.0)))) * ARCMIN_PER_DEG
+    bearing = np.degrees(np.arctan2(np.sin(dl) * np.cos(p2),
+                                    np.cos(p1) * np.sin(p2) - np.sin(p1) * np.cos(p2) * np.cos(dl)))
+    return distance, wrap_360(bearing)
+
+
+def line_of_position(lat_deg, lon_deg, intercept_nm_, zn_deg, half_length_nm=10.0):
+    """The line of position: its foot (the intercept point) and two end points.
+
+    The foot lies ``intercept`` nautical miles from the assumed position along Zn (back
+    along Zn when AWAY); the line runs through it perpendicular to Zn. Returns a dict of
+    arrays: ``foot_lat_deg``, ``foot_lon_deg``, ``end1_lat_deg``, ``end1_lon_deg``,
+    ``end2_lat_deg``, ``end2_lon_deg``, ``bearing_deg`` (of the line, Zn + 90°).
+    """
+    foot_lat, foot_lon = destination(lat_deg, lon_deg, zn_deg, intercept_nm_)
+    along = wrap_360(np.asarray(zn_deg, dtype=float) + 90.0)
+    end1 = destination(foot_lat, foot_lon, along, half_length_nm)
+    end2 = destination(foot_lat, foot_lon, along + 180.0, half_length_nm)
+    return {"foot_lat_deg": foot_lat, "foot_lon_deg": foot_lon,
+            "end1_lat_deg": end1[0], "end1_lon_deg": end1[1],
+            "end2_lat_deg": end2[0], "end2_lon_deg": end2[1], "bearing_deg": along}
+
+
+def assumed_position(lat_deg, lon_deg, gha_deg):
+    """The hand method's assumed position: whole-degree latitude, and the longitude within
+    30′ of the DR that makes LHA a whole number of degrees.
+
+    Returns (ap_lat_deg, ap_lon_deg, lha_deg). Optional: navred reduces from the DR by default,
+    which is more accurate.
+
+    >>> [float(x) for x in assumed_position(47.6, -5.3, 100.25)]
+    [48.0, -5.25, 95.0]
+    """
+    lat = np.round(np.asarray(lat_deg, dtype=float))
+    gha = np.asarray(gha_deg, dtype=float)
+    lha_exact = gha + np.asarray(lon_deg, dtype=float)
+    lha_whole = np.round(lha_exact)
+    ap_lon = wrap_180(lha_whole - gha)
+    return lat, ap_lon, wrap_360(lha_whole)

@@ -22,6 +22,7 @@ app = typer.Typer(
     no_args_is_help=True,
     add_completion=False,
     rich_markup_mode=None,
+    pretty_exceptions_enable=False,
 )
 
 
@@ -140,6 +141,125 @@ def reduce_command(
                    f"({int(counts.get('warning', 0))} with a warning), {int(counts.get('error', 0))} not reduced")
         if counts.get("error", 0) == len(reduced):
             raise typer.Exit(code=1)
+
+
+def _print_fix(label: str, fix, reduced, rows) -> None:
+    from .angles import format_angle
+
+    typer.echo(f"Fix {label}: {int(fix.used.sum())} sights, at {str(fix.utc)[:19].replace('T', ' ')} UTC")
+    typer.echo(f"  position       {format_angle(fix.lat_deg, 'lat')}  {format_angle(fix.lon_deg, 'lon')}")
+    typer.echo(f"  95 % ellipse   {fix.ellipse_semi_major_nm:.1f} nm x {fix.ellipse_semi_minor_nm:.1f} nm, major axis "
+               f"{fix.ellipse_orientation_deg:03.0f}°/{(fix.ellipse_orientation_deg + 180) % 360:03.0f}°")
+    typer.echo(f"  sight error    {fix.sigma_arcmin:.2f}′ ({fix.sigma_source}); "
+               f"fix standard error {fix.standard_error_nm:.2f} nm")
+    if fix.course_made_good_deg is not None:
+        typer.echo(f"  made good      {fix.course_made_good_deg:05.1f}° at {fix.speed_made_good_kn:.1f} kn")
+    typer.echo(f"  {'row':>5}  {'body':<16}{'residual':>10}  flag")
+    for row in rows:
+        residual = fix.residual_arcmin[row]
+        flag = "BLUNDER? left out of the check fix" if fix.outlier[row] else ""
+        text = f"{residual:+.1f}′" if residual == residual else "-"
+        typer.echo(f"  {row + 1:>5}  {reduced.body_name[row]:<16}{text:>10}  {flag}")
+    if fix.without_outliers is not None:
+        other = fix.without_outliers
+        typer.echo(f"  without the flagged sights: {format_angle(other.lat_deg, 'lat')}  "
+                   f"{format_angle(other.lon_deg, 'lon')}, ellipse {other.ellipse_semi_major_nm:.1f} x "
+                   f"{other.ellipse_semi_minor_nm:.1f} nm")
+    if fix.chart_distance_nm is not None:
+        where = "inside" if fix.chart_inside_ellipse else "OUTSIDE"
+        typer.echo(f"  chart position {fix.chart_distance_nm:.1f} nm from the fix, bearing "
+                   f"{fix.chart_bearing_deg:03.0f}°: {where} the 95 % ellipse")
+    for text in fix.warnings:
+        typer.echo(f"  warning: {text}")
+
+
+def _print_latitude_checks(reduced) -> None:
+    """Latitude by meridian altitude (sights within 0.25° of LHA 0) and by Polaris, as checks."""
+    import numpy as np
+
+    from .angles import format_angle
+    from .fix import latitude_by_meridian_altitude, latitude_by_polaris
+
+    usable = reduced.status.to_numpy() != "error"
+    lha = reduced.lha_deg.to_numpy()
+    on_meridian = usable & ((lha < 0.25) | (lha > 359.75)) & (reduced.body_name.to_numpy() != "Polaris")
+    polaris = usable & (reduced.body_name.to_numpy() == "Polaris")
+    if not (on_meridian.any() or polaris.any()):
+        return
+    typer.echo("Latitude checks")
+    for row in np.flatnonzero(on_meridian):
+        bearing = "S" if 90.0 < reduced.zn_deg[row] < 270.0 else "N"
+        latitude = latitude_by_meridian_altitude(reduced.ho_deg[row], reduced.dec_deg[row], bearing)
+        typer.echo(f"  row {row + 1:>3}  {reduced.body_name[row]:<10} on the meridian: latitude "
+                   f"{format_angle(float(latitude), 'lat')} (DR {format_angle(reduced.dr_lat_deg[row], 'lat')})")
+    for row in np.flatnonzero(polaris):
+        latitude = latitude_by_polaris(reduced.ho_deg[row], reduced.gha_deg[row], reduced.dec_deg[row],
+                                       reduced.dr_lon_deg[row])
+        typer.echo(f"  row {row + 1:>3}  Polaris: latitude {format_angle(float(latitude), 'lat')} "
+                   f"(DR {format_angle(reduced.dr_lat_deg[row], 'lat')})")
+    typer.echo("")
+
+
+@app.command("fix")
+def fix_command(
+    sights_file: str = typer.Argument(..., metavar="SIGHTS", help="Sight table, CSV or .xlsx (see docs/sight-log.md)."),
+    at: str | None = typer.Option(None, "--at", help="Fix time (ISO 8601 with a zone); default: the last sight of each group."),
+    chart_lat: str | None = typer.Option(None, "--chart-lat", help="Chart or GNSS latitude to cross-check, e.g. '43 16.5 N'."),
+    chart_lon: str | None = typer.Option(None, "--chart-lon", help="Chart or GNSS longitude to cross-check, e.g. '013 11.4 W'."),
+    group: str | None = typer.Option(None, "--group", help="Fix only this fix_group."),
+    solve_motion: bool = typer.Option(False, "--solve-motion", help="Also solve course and speed made good, when the sights allow."),
+) -> None:
+    """Least-squares fix of every fix group: position, 95 % ellipse, residuals and flags.
+
+    Sights are fixed together by their fix_group column (all together when there is none);
+    sights at different times make a running fix with the course_deg and speed_kn columns.
+
+    Example:  navred fix sample_sights/demo_sights.csv --group evening-stars --chart-lat "43 16.5 N" --chart-lon "013 11.4 W"
+    """
+    import numpy as np
+
+    from .angles import parse_angle
+    from .fix import fix_position
+    from .sights import reduce_sights
+
+    with _reported():
+        reduced = reduce_sights(_read_table(sights_file))
+        lat = parse_angle(chart_lat, "lat") if chart_lat is not None else None
+        lon = parse_angle(chart_lon, "lon") if chart_lon is not None else None
+        if (lat is None) != (lon is None):
+            raise NavredError("give both --chart-lat and --chart-lon, or neither")
+        columns = {c.lower(): c for c in reduced.columns}
+        groups = reduced[columns["fix_group"]].astype(str) if "fix_group" in columns else \
+            np.full(len(reduced), "all sights", dtype=object)
+        names = [group] if group is not None else list(dict.fromkeys(groups))
+        if group is not None and group not in set(groups):
+            raise NavredError(f"no fix_group {group!r}; the log has: {', '.join(dict.fromkeys(groups))}")
+        if lat is not None and len(names) > 1:
+            raise NavredError("a chart position belongs to one fix: give --group with --chart-lat/--chart-lon "
+                              "(or chart_lat/chart_lon columns in the log)")
+        fixes = 0
+        for name in names:
+            rows = np.flatnonzero(np.asarray(groups) == name)
+            usable = rows[reduced.status.to_numpy()[rows] != "error"]
+            if usable.size < 2:
+                typer.echo(f"Group {name}: {usable.size} usable sight(s), no fix (a fix needs two or more)")
+                typer.echo("")
+                continue
+            subset = reduced.iloc[rows].reset_index(drop=True)
+            group_lat, group_lon = lat, lon
+            if group_lat is None and "chart_lat" in columns and "chart_lon" in columns:
+                given = subset[columns["chart_lat"]].replace("", np.nan).dropna()
+                if len(given):
+                    group_lat = parse_angle(given.iloc[0], "lat")
+                    group_lon = parse_angle(subset[columns["chart_lon"]].replace("", np.nan).dropna().iloc[0], "lon")
+            fix = fix_position(subset, at_utc=at, chart_lat=group_lat, chart_lon=group_lon,
+                               solve_motion=solve_motion)
+            _print_fix(f'"{name}"', fix, subset.assign(body_name=subset.body_name), range(len(rows)))
+            typer.echo("")
+            fixes += 1
+        _print_latitude_checks(reduced)
+        if not fixes:
+            raise NavredError("no group had two usable sights: nothing to fix")
 
 
 @app.command("bodies")

@@ -44,6 +44,18 @@ def position_at(when: pd.Timestamp, offset_nm=0.0, offset_bearing=0.0):
     return lat, lon
 
 
+def local_apparent_noon(ts, eph, guess: pd.Timestamp) -> str:
+    """The Sun's meridian transit over the vessel's true position near ``guess`` (skyfield)."""
+    from skyfield import almanac
+
+    lat, lon = position_at(guess)
+    start = ts.from_datetime((guess - pd.Timedelta(hours=2)).to_pydatetime())
+    end = ts.from_datetime((guess + pd.Timedelta(hours=2)).to_pydatetime())
+    times, kinds = almanac.find_discrete(start, end, almanac.meridian_transits(eph, eph["sun"], wgs84.latlon(lat, lon)))
+    noon = pd.Timestamp(times[kinds == 1][0].utc_datetime()).round("s")
+    return noon.strftime("%Y-%m-%dT%H:%M:%SZ")
+
+
 def main() -> None:
     ts = load.timescale(builtin=True)
     eph = load(str(importlib.resources.files("skyfield_data") / "data" / "de421.bsp"))
@@ -52,7 +64,7 @@ def main() -> None:
     rng = np.random.default_rng(1852)
     sights = [  # (UTC, body, limb, fix group, observer)
         ("2026-03-26T09:10:00Z", "Sun", "lower", "sun-run-sun", "Watch officer"),
-        ("2026-03-26T12:58:30Z", "Sun", "lower", "noon", "Watch officer"),
+        ("noon", "Sun", "lower", "sun-run-sun", "Watch officer"),
         ("2026-03-26T15:40:00Z", "Sun", "lower", "sun-run-sun", "Watch officer"),
         ("2026-03-26T16:05:00Z", "Moon", "lower", "moon-planet", "Cadet A"),
         ("2026-03-26T19:36:00Z", "Jupiter", "", "moon-planet", "Cadet A"),
@@ -65,6 +77,8 @@ def main() -> None:
     ]
     rows, truth = [], []
     for utc, body, limb, group, observer in sights:
+        if utc == "noon":
+            utc = local_apparent_noon(ts, eph, pd.Timestamp("2026-03-26T13:00:00Z"))
         when = pd.Timestamp(utc)
         lat, lon = position_at(when)
         dr_lat, dr_lon = position_at(when, DR_ERROR_NM, DR_ERROR_BEARING)

@@ -90,3 +90,45 @@ def quiet_navred_warnings():
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", NavredWarning)
         yield
+
+
+def sky_target(ts, eph, name):
+    """skyfield target for any navred body name."""
+    solar = {"Sun": "sun", "Moon": "moon", "Venus": "venus", "Mars": "mars",
+             "Jupiter": "jupiter barycenter", "Saturn": "saturn barycenter"}
+    return eph[solar[name]] if name in solar else sky_star(ts, name)
+
+
+def skyfield_sight(ts, eph, name, utc, lat_deg, lon_deg, *, limb="", eye_height_m=3.0,
+                   index_error_arcmin=0.0, temperature_c=10.0, pressure_hpa=1010.0, noise_arcmin=0.0):
+    """One sextant altitude made by skyfield, independent of navred, at a true position.
+
+    The true topocentric airless altitude and azimuth of the body's centre (skyfield), the
+    limb from skyfield's topocentric distance and the body's radius, refraction by
+    skyfield's own refract(), dip 1.76′ √h (the almanac's dip-table coefficient, from
+    memory), the index error as read, and optional noise. Returns a dict of sight-log
+    columns plus true_alt_deg and true_az_deg.
+    """
+    from skyfield.api import wgs84
+    from skyfield.earthlib import refract
+
+    when = pd_timestamp(utc)
+    t = ts.from_datetime(when.to_pydatetime())
+    topo = (eph["earth"] + wgs84.latlon(lat_deg, lon_deg)).at(t).observe(sky_target(ts, eph, name)).apparent()
+    alt, az, distance = topo.altaz()
+    radius = {"Sun": 695700.0, "Moon": 1737.4}.get(name)
+    sd_deg = float(np.degrees(np.arcsin(radius / distance.km))) if radius else 0.0
+    limb_alt = alt.degrees + {"upper": sd_deg, "lower": -sd_deg}.get(limb, 0.0)
+    apparent = float(refract(limb_alt, temperature_c, pressure_hpa))
+    hs = apparent + (1.76 * np.sqrt(eye_height_m) + index_error_arcmin + noise_arcmin) / 60.0
+    return {"utc": when, "body": name, "limb": limb, "hs": hs, "index_error_arcmin": index_error_arcmin,
+            "eye_height_m": eye_height_m, "temperature_c": temperature_c, "pressure_hpa": pressure_hpa,
+            "dr_lat": lat_deg, "dr_lon": lon_deg, "dut1_s": float(t.dut1),
+            "true_alt_deg": float(alt.degrees), "true_az_deg": float(az.degrees)}
+
+
+def pd_timestamp(utc):
+    import pandas as pd
+
+    stamp = pd.Timestamp(utc)
+    return stamp.tz_localize("UTC") if stamp.tzinfo is None else stamp.tz_convert("UTC")

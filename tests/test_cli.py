@@ -53,7 +53,7 @@ def test_bodies_lists_the_catalogue():
 
 
 def test_help_on_every_command_has_an_example():
-    for command in ("almanac", "bodies", "reduce"):
+    for command in ("almanac", "bodies", "reduce", "fix"):
         result = runner.invoke(app, [command, "--help"])
         assert result.exit_code == 0
         assert "Example:" in result.output
@@ -90,3 +90,26 @@ def test_reduce_explains_bad_rows_and_fails_only_when_nothing_reduced(tmp_path):
     assert result.exit_code == 1
     missing = runner.invoke(app, ["reduce", str(tmp_path / "nope.csv")])
     assert missing.exit_code == 1 and "no such file" in missing.output
+
+
+def test_fix_on_the_demo_prints_every_group_with_its_ellipse():
+    result = runner.invoke(app, ["fix", "sample_sights/demo_sights.csv"])
+    assert result.exit_code == 0, result.output
+    for group in ("sun-run-sun", "moon-planet", "evening-stars"):
+        assert f'Fix "{group}"' in result.output
+    assert result.output.count("95 % ellipse") == 3
+    assert "no redundancy" in result.output  # the two-sight Moon-Jupiter fix says so
+    assert "on the meridian: latitude 43°" in result.output  # the noon sight as a latitude check
+
+
+def test_fix_cross_checks_a_chart_position_for_one_group():
+    # sample_sights/demo_truth.csv: the true position at the last star sight, 43.27463 N 13.19052 W
+    result = runner.invoke(app, ["fix", "sample_sights/demo_sights.csv", "--group", "evening-stars",
+                                 "--chart-lat", "43 16.48 N", "--chart-lon", "013 11.43 W"])
+    assert result.exit_code == 0, result.output
+    assert "inside the 95 % ellipse" in result.output
+    both = runner.invoke(app, ["fix", "sample_sights/demo_sights.csv", "--chart-lat", "43 16.5 N",
+                               "--chart-lon", "013 11.4 W"])
+    assert both.exit_code == 1 and "--group" in both.output
+    unknown = runner.invoke(app, ["fix", "sample_sights/demo_sights.csv", "--group", "dawn"])
+    assert unknown.exit_code == 1 and "evening-stars" in unknown.output

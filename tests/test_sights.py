@@ -9,62 +9,48 @@ import pytest
 from navred import reduce_sights
 from navred.sights import RESULT_COLUMNS
 from navred.stars import star_table
-from tests.conftest import angle_diff_deg, sky_star, utc_of
+from tests.conftest import angle_diff_deg, skyfield_sight
 
 SOLAR = ["Sun", "Moon", "Venus", "Mars", "Jupiter", "Saturn"]
 
 
-def synthesize(ts, eph, sky_bodies, n, seed):
+def synthesize(ts, eph, n, seed):
     """Random sights whose Hs are made by skyfield (independent of navred) at known true positions.
 
-    The true topocentric airless altitude of the centre from skyfield, the limb from skyfield's
-    topocentric distance, refraction from skyfield's own refract(), dip from the published
-    1.76′ √h, index error added as read.
+    See tests.conftest.skyfield_sight: skyfield's topocentric altitude of the centre, the limb
+    from skyfield's distance, skyfield's refract(), dip 1.76′ √h, index error as read.
     """
-    from skyfield.api import wgs84
-    from skyfield.earthlib import refract
-
     rng = np.random.default_rng(seed)
     names = SOLAR * 20 + list(star_table().name) * 4
     rows = []
-    earth = eph["earth"]
     while len(rows) < n:
         name = names[rng.integers(len(names))]
-        lat, lon = rng.uniform(-65, 65), rng.uniform(-180, 180)
-        t = ts.tt_jd(rng.uniform(2451545.0, 2461000.0))  # 2000-2025, measured UT1 in both tables
-        target = sky_bodies.get(name) or sky_star(ts, name)
-        topo = (earth + wgs84.latlon(lat, lon)).at(t).observe(target).apparent()
-        alt, az, distance = topo.altaz()
-        if not 8.0 < alt.degrees < 84.0:
-            continue
-        limb = rng.choice(["lower", "upper"]) if name in ("Sun", "Moon") else ""
-        radius = {"Sun": 695700.0, "Moon": 1737.4}.get(name)
-        sd_deg = np.degrees(np.arcsin(radius / distance.km)) if radius else 0.0
-        limb_alt = alt.degrees + (sd_deg if limb == "upper" else -sd_deg if limb == "lower" else 0.0)
-        temperature, pressure = rng.uniform(-5, 30), rng.uniform(990, 1030)
-        apparent = refract(limb_alt, temperature, pressure)
-        eye = rng.uniform(1.5, 25.0)
-        index_error = rng.uniform(-3, 3)
-        hs = apparent + 1.76 * np.sqrt(eye) / 60 + index_error / 60
-        rows.append({"utc": pd.Timestamp(utc_of(t)[0]).tz_localize("UTC"), "body": name, "limb": limb,
-                     "hs": hs, "index_error_arcmin": index_error, "eye_height_m": eye,
-                     "temperature_c": temperature, "pressure_hpa": pressure, "dr_lat": lat, "dr_lon": lon,
-                     "dut1_s": float(t.dut1), "true_alt_deg": alt.degrees, "true_az_deg": az.degrees})
+        when = pd.Timestamp(ts.tt_jd(rng.uniform(2451545.0, 2461000.0)).utc_datetime()).round("ms")
+        sight = skyfield_sight(
+            ts, eph, name, when, rng.uniform(-65, 65), rng.uniform(-180, 180),
+            limb=str(rng.choice(["lower", "upper"])) if name in ("Sun", "Moon") else "",
+            eye_height_m=rng.uniform(1.5, 25.0), index_error_arcmin=rng.uniform(-3, 3),
+            temperature_c=rng.uniform(-5, 30), pressure_hpa=rng.uniform(990, 1030))
+        if 8.0 < sight["true_alt_deg"] < 84.0:  # 2000-2025: measured UT1 in both tables
+            rows.append(sight)
     return pd.DataFrame(rows)
 
 
-def test_sights_from_skyfield_reduce_to_zero_intercept_at_the_true_position(ts, eph, sky_bodies):
+def test_sights_from_skyfield_reduce_to_zero_intercept_at_the_true_position(ts, eph):
     """Reference: skyfield topocentric altitude and azimuth, 320 random cases (stars, Sun, planets, Moon).
 
     Reduced from the true position, Ho must equal Hc (intercept within 0.1′) and Zn skyfield's
     azimuth within 0.1°.
     """
-    sights = synthesize(ts, eph, sky_bodies, 320, seed=11)
+    sights = synthesize(ts, eph, 320, seed=11)
     reduced = reduce_sights(sights)
     assert (reduced.status != "error").all(), reduced.message[reduced.status == "error"].tolist()
     assert set(sights.body) >= set(SOLAR)
     assert np.abs(reduced.intercept_nm).max() < 0.1
     assert np.abs(angle_diff_deg(reduced.zn_deg, sights.true_az_deg)).max() < 0.1
+    # the topocentric altitude of the centre in the working (Ha − R ± SD) is skyfield's own
+    topocentric = reduced.ha_deg + (reduced.sd_arcmin - reduced.refraction_arcmin) / 60
+    assert np.abs(topocentric - sights.true_alt_deg).max() * 60 < 0.1
     moon = reduced.body_name == "Moon"
     assert moon.sum() > 10  # the Moon's parallax and augmentation are exercised
 

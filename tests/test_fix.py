@@ -1,0 +1,277 @@
+"""Fixes from sights synthesized with skyfield at known true positions (independent of navred)."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from navred import reduce_sights
+from navred.errors import NavredError
+from navred.fix import (
+    error_ellipse,
+    f_2_quantile,
+    fix_position,
+    latitude_by_meridian_altitude,
+    latitude_by_polaris,
+    move_position,
+    solve_fixes,
+)
+from navred.triangle import distance_bearing
+from tests.conftest import skyfield_sight
+
+TWILIGHT = pd.Timestamp("2024-09-15T19:05:00Z")  # evening twilight near 45° N 20° W
+TRUE_LAT, TRUE_LON = 45.25, -20.5
+STARS = ["Vega", "Altair", "Arcturus", "Deneb", "Antares", "Dubhe", "Kochab"]
+
+
+def star_sights(ts, eph, names=STARS, when=TWILIGHT, lat=TRUE_LAT, lon=TRUE_LON, dr_offset=(4.0, -6.0), **kw):
+    rows = [skyfield_sight(ts, eph, name, when + pd.Timedelta(minutes=2 * k), lat, lon, **kw)
+            for k, name in enumerate(names)]
+    frame = pd.DataFrame(rows)
+    dr_lat, dr_lon = move_position(lat, lon, *dr_offset)
+    frame["dr_lat"], frame["dr_lon"] = float(dr_lat), float(dr_lon)
+    return frame
+
+
+def miles_from_truth(fix, lat=TRUE_LAT, lon=TRUE_LON):
+    return float(distance_bearing(fix.lat_deg, fix.lon_deg, lat, lon)[0])
+
+
+def test_star_fix_without_noise_lands_on_the_truth(ts, eph):
+    # Reference: skyfield topocentric altitudes at the true position; required within 0.2 nm
+    sights = star_sights(ts, eph)
+    fix = fix_position(reduce_sights(sights), at_utc=TWILIGHT)
+    # the sights span 12 minutes from a stationary observer: every one is at the true position
+    assert miles_from_truth(fix) < 0.2
+    assert not fix.outlier.any()
+    assert fix.iterations >= 2
+
+
+def test_moon_fix_without_noise(ts, eph):
+    # the Moon with two planets/stars; required within 0.5 nm
+    when = pd.Timestamp("2024-09-15T21:00:00Z")
+    rows = [skyfield_sight(ts, eph, "Moon", when, TRUE_LAT, TRUE_LON, limb="lower"),
+            skyfield_sight(ts, eph, "Saturn", when, TRUE_LAT, TRUE_LON),
+            skyfield_sight(ts, eph, "Vega", when, TRUE_LAT, TRUE_LON),
+            skyfield_sight(ts, eph, "Jupiter", when + pd.Timedelta(hours=2), TRUE_LAT, TRUE_LON)]
+    sights = pd.DataFrame(rows).assign(dr_lat=TRUE_LAT + 0.1, dr_lon=TRUE_LON - 0.1)
+    fix = fix_position(reduce_sights(sights), at_utc=when)
+    assert miles_from_truth(fix) < 0.5
+
+
+def test_ellipse_covers_the_truth_in_about_95_percent(ts, eph):
+    """200 repetitions with Gaussian noise of 0.5′ per sight: the true position falls inside the
+    95 % ellipse in 90-99 % of them. Four star geometries (3 to 7 sights), 50 noise draws each."""
+    rng = np.random.default_rng(95)
+    inside = []
+    for names in (STARS[:3], STARS[:4], STARS[2:7], STARS):
+        clean = reduce_sights(star_sights(ts, eph, names))
+        for _ in range(50):
+            noisy = clean.copy()
+            noisy["ho_deg"] = clean.ho_deg + rng.normal(0.0, 0.5, len(clean)) / 60.0
+            fix = fix_position(noisy, at_utc=TWILIGHT, chart_lat=TRUE_LAT, chart_lon=TRUE_LON)
+            inside.append(fix.chart_inside_ellipse)
+    rate = np.mean(inside)
+    assert 0.90 <= rate <= 0.99, rate
+
+
+def test_running_fix_recovers_the_last_position(ts, eph):
+    # a vessel on 070° at 9 knots: Sun at 09:00, 12:30, 16:00 UTC and a star at twilight; the
+    # known course and speed bring each circle to the time of the last sight
+    start = pd.Timestamp("2024-06-10T09:00:00Z")
+    course, speed = 70.0, 9.0
+    times = [start, start + pd.Timedelta(hours=3.5), start + pd.Timedelta(hours=7)]
+    rows = []
+    for when in times:
+        hours = (when - start).total_seconds() / 3600
+        lat, lon = move_position(38.0, -30.0, speed * hours * np.cos(np.radians(course)),
+                                 speed * hours * np.sin(np.radians(course)))
+        rows.append(skyfield_sight(ts, eph, "Sun", when, float(lat), float(lon), limb="lower"))
+    frame = pd.DataFrame(rows).assign(course_deg=course, speed_kn=speed)
+    frame["dr_lat"], frame["dr_lon"] = frame.dr_lat + 0.15, frame.dr_lon - 0.2  # a DR 12 nm out
+    fix = fix_position(reduce_sights(frame))
+    last_lat, last_lon = rows[-1]["dr_lat"], rows[-1]["dr_lon"]
+    assert miles_from_truth(fix, last_lat, last_lon) < 0.3
+    # and at a named time in between, the fix is the vessel's position then
+    middle = fix_position(reduce_sights(frame), at_utc=times[1])
+    assert miles_from_truth(middle, rows[1]["dr_lat"], rows[1]["dr_lon"]) < 0.3
+    # ignoring the run gives a wrong position (tens of miles)
+    still = fix_position(reduce_sights(frame.assign(speed_kn=0.0)))
+    assert miles_from_truth(still, last_lat, last_lon) > 5.0
+
+
+def test_current_is_added_to_the_run(ts, eph):
+    start = pd.Timestamp("2024-06-10T09:00:00Z")
+    rows = []
+    for hours in (0.0, 3.5, 7.0):
+        # water track 000° at 6 kn plus a current setting 090° at 2 kn
+        lat, lon = move_position(38.0, -30.0, 6.0 * hours, 2.0 * hours)
+        rows.append(skyfield_sight(ts, eph, "Sun", start + pd.Timedelta(hours=hours), float(lat), float(lon),
+                                   limb="lower"))
+    frame = pd.DataFrame(rows).assign(course_deg=0.0, speed_kn=6.0)
+    fix = fix_position(reduce_sights(frame), set_deg=90.0, drift_kn=2.0)
+    assert miles_from_truth(fix, rows[-1]["dr_lat"], rows[-1]["dr_lon"]) < 0.3
+
+
+def test_planted_blunder_is_flagged_and_the_refit_is_good(ts, eph):
+    rng = np.random.default_rng(10)
+    reduced = reduce_sights(star_sights(ts, eph))
+    reduced["ho_deg"] = reduced.ho_deg + rng.normal(0.0, 0.3, len(reduced)) / 60.0
+    reduced.loc[3, "ho_deg"] += 10.0 / 60.0  # the blunder: 10′
+    fix = fix_position(reduced, at_utc=TWILIGHT)
+    assert fix.outlier[3] and fix.outlier.sum() == 1
+    assert any("blunder" in w for w in fix.warnings)
+    assert fix.without_outliers is not None
+    assert miles_from_truth(fix.without_outliers) < 0.5
+    assert np.isnan(fix.without_outliers.residual_arcmin[3])  # the sight is kept in the log, flagged
+
+
+def test_a_sight_is_never_dropped_silently():
+    reduced = pd.DataFrame({"gha_deg": [10.0, 100.0, 200.0], "dec_deg": [20.0, -10.0, 40.0],
+                            "ho_deg": [30.0, np.nan, 25.0], "sight_utc": pd.to_datetime(["2024-01-01T00:00Z"] * 3),
+                            "dr_lat_deg": [10.0] * 3, "dr_lon_deg": [0.0] * 3, "status": ["ok", "error", "ok"]})
+    fix = fix_position(reduced)
+    assert list(fix.used) == [True, False, True] and np.isnan(fix.residual_arcmin[1])
+    assert len(fix.residual_arcmin) == 3
+
+
+def test_meridian_altitude_latitude_against_skyfield(ts, eph):
+    # Reference: skyfield's meridian transit search and topocentric altitude at a true position;
+    # navred's latitude by meridian altitude within 0.2′ of the truth
+    from skyfield import almanac
+    from skyfield.api import wgs84
+
+    for lat, lon, day in ((45.25, -20.5, "2024-09-15"), (-33.9, 18.4, "2024-12-21"), (12.0, 150.0, "2025-03-01")):
+        place = wgs84.latlon(lat, lon)
+        t0 = ts.from_datetime(pd.Timestamp(day + "T00:00Z").to_pydatetime())
+        t1 = ts.from_datetime(pd.Timestamp(day + "T23:59Z").to_pydatetime())
+        times, kinds = almanac.find_discrete(t0, t1, almanac.meridian_transits(eph, eph["sun"], place))
+        noon = pd.Timestamp(times[kinds == 1][0].utc_datetime()).round("s")
+        sight = skyfield_sight(ts, eph, "Sun", noon, lat, lon, limb="lower")
+        reduced = reduce_sights(pd.DataFrame([sight]))
+        bearing = "S" if reduced.zn_deg[0] > 90 and reduced.zn_deg[0] < 270 else "N"
+        found = latitude_by_meridian_altitude(reduced.ho_deg[0], reduced.dec_deg[0], bearing)
+        assert abs(float(found) - lat) * 60 < 0.2, (lat, lon)
+
+
+def test_polaris_latitude_against_skyfield(ts, eph):
+    # Reference: skyfield topocentric altitude of Polaris; solved exactly, within 0.2′
+    for lat, lon, when in ((45.25, -20.5, "2024-09-15T19:30Z"), (20.0, 60.0, "2025-01-10T14:00Z"),
+                           (60.0, 5.0, "2023-03-01T20:00Z")):
+        sight = skyfield_sight(ts, eph, "Polaris", when, lat, lon)
+        reduced = reduce_sights(pd.DataFrame([sight]))
+        found = latitude_by_polaris(reduced.ho_deg[0], reduced.gha_deg[0], reduced.dec_deg[0], lon)
+        assert abs(float(found) - lat) * 60 < 0.2
+        # the DR longitude barely matters: 30′ of longitude error
+        rough = latitude_by_polaris(reduced.ho_deg[0], reduced.gha_deg[0], reduced.dec_deg[0], lon + 0.5)
+        assert abs(float(rough) - lat) * 60 < 1.0
+
+
+def test_meridian_altitude_formula_cases():
+    # common practice: latitude = Dec ± zenith distance; a body below the pole at lower transit
+    assert float(latitude_by_meridian_altitude(60.0, 20.0, "S")) == pytest.approx(50.0)
+    assert float(latitude_by_meridian_altitude(60.0, 20.0, "N")) == pytest.approx(-10.0)
+    assert float(latitude_by_meridian_altitude(20.0, 60.0, "N", lower_transit=True)) == pytest.approx(50.0)
+    with pytest.raises(NavredError, match="'N'"):
+        latitude_by_meridian_altitude(60.0, 20.0, "E")
+
+
+def test_cross_check_reports_distance_bearing_and_ellipse(ts, eph):
+    fix = fix_position(reduce_sights(star_sights(ts, eph)), at_utc=TWILIGHT)
+    lat, lon = move_position(fix.lat_deg, fix.lon_deg, 3.0, 4.0)
+    check = fix.cross_check(float(lat), float(lon))
+    assert check.distance_nm == pytest.approx(5.0, abs=0.01)  # 3-4-5, one mile per arcminute
+    assert check.bearing_deg == pytest.approx(np.degrees(np.arctan2(4.0, 3.0)), abs=0.1)
+    assert check.inside_ellipse is False
+    assert fix.cross_check(fix.lat_deg, fix.lon_deg).inside_ellipse is True
+    with_chart = fix_position(reduce_sights(star_sights(ts, eph)), at_utc=TWILIGHT,
+                              chart_lat=float(lat), chart_lon=float(lon))
+    assert with_chart.chart_distance_nm == pytest.approx(5.0, abs=0.05)
+    assert with_chart.chart_inside_ellipse is False
+
+
+def test_geometry_warnings(ts, eph):
+    two = fix_position(reduce_sights(star_sights(ts, eph, ["Vega", "Antares"])), at_utc=TWILIGHT)
+    assert any("no redundancy" in w and "no check on a blunder" in w for w in two.warnings)
+    assert "assumed" in two.sigma_source
+    # three bodies low in the east, azimuths 85°-95° from the DR: the lines cross at 10°
+    from navred.triangle import computed_altitude_azimuth
+
+    dec = np.array([5.0, 0.0, -5.0])
+    hc, zn = computed_altitude_azimuth(0.0, 0.0, 290.0, dec)
+    assert np.ptp(zn) < 12
+    frame = pd.DataFrame({"gha_deg": 290.0, "dec_deg": dec, "ho_deg": hc + np.array([0.5, -0.3, 0.2]) / 60,
+                          "sight_utc": pd.to_datetime(["2024-01-01T00:00Z"] * 3),
+                          "dr_lat_deg": 0.1, "dr_lon_deg": 0.1, "status": "ok"})
+    weak = fix_position(frame)
+    assert any("weak fix" in w for w in weak.warnings)
+    assert weak.ellipse_semi_major_nm > 5 * weak.ellipse_semi_minor_nm
+    parallel = frame.copy()
+    parallel["gha_deg"] = [100.0, 100.0, 280.0]
+    parallel["dec_deg"] = [20.0, 30.0, 25.0]
+    with pytest.raises(NavredError, match="parallel"):
+        fix_position(parallel.assign(dr_lat_deg=0.0, dr_lon_deg=-100.0))
+
+
+def test_high_sights_and_a_far_dr_still_converge(ts, eph):
+    # the Sun near the zenith (Hc above 85°): straight lines fail, the sphere does not
+    when = pd.Timestamp("2024-06-21T12:00:00Z")
+    lat, lon = 25.0, -1.0  # about 1.6° from the subsolar point
+    rows = [skyfield_sight(ts, eph, "Sun", when + pd.Timedelta(minutes=m), lat, lon, limb="lower")
+            for m in (-40, -20, 0, 20, 40)]
+    frame = pd.DataFrame(rows).assign(dr_lat=lat + 0.5, dr_lon=lon + 0.8)  # DR 55 nm off
+    reduced = reduce_sights(frame)
+    assert (reduced.hc_deg > 80).all()
+    fix = fix_position(reduced, at_utc=when)
+    assert miles_from_truth(fix, lat, lon) < 0.3
+    far = reduce_sights(star_sights(ts, eph, dr_offset=(80.0, -120.0)))  # a DR 140 nm out
+    assert miles_from_truth(fix_position(far, at_utc=TWILIGHT)) < 0.2
+
+
+def test_course_and_speed_made_good(ts, eph):
+    # Sun sights through the day from a vessel on 250° at 11 knots (the published extension of the
+    # least-squares fix to motion, Kaplan 1995, citation from memory)
+    start = pd.Timestamp("2024-04-05T08:00:00Z")
+    rows = []
+    for hours in np.arange(0.0, 9.0, 1.0):
+        lat, lon = move_position(30.0, -40.0, 11 * hours * np.cos(np.radians(250)), 11 * hours * np.sin(np.radians(250)))
+        rows.append(skyfield_sight(ts, eph, "Sun", start + pd.Timedelta(hours=hours), float(lat), float(lon),
+                                   limb="lower"))
+    frame = pd.DataFrame(rows).assign(course_deg=240.0, speed_kn=9.0)  # the DR course is wrong
+    fix = fix_position(reduce_sights(frame), solve_motion=True)
+    assert fix.course_made_good_deg == pytest.approx(250.0, abs=2.0)
+    assert fix.speed_made_good_kn == pytest.approx(11.0, abs=0.5)
+    assert miles_from_truth(fix, rows[-1]["dr_lat"], rows[-1]["dr_lon"]) < 0.5
+    short = fix_position(reduce_sights(star_sights(ts, eph)), at_utc=TWILIGHT, solve_motion=True)
+    assert short.course_made_good_deg is None
+    assert any("cannot be solved" in w for w in short.warnings)
+
+
+def test_batch_solver_matches_single_fixes(ts, eph):
+    reduced = reduce_sights(star_sights(ts, eph))
+    single = fix_position(reduced, at_utc=TWILIGHT)
+    hours = (reduced.sight_utc - TWILIGHT).dt.total_seconds().to_numpy() / 3600
+    batch = solve_fixes(np.tile(reduced.gha_deg, (3, 1)), np.tile(reduced.dec_deg, (3, 1)),
+                        np.tile(reduced.ho_deg, (3, 1)), np.full(3, reduced.dr_lat_deg[0]),
+                        np.full(3, reduced.dr_lon_deg[0]), dt_hours=np.tile(hours, (3, 1)))
+    assert np.allclose(batch.lat_deg, single.lat_deg, atol=1e-6)
+    assert np.allclose(batch.lon_deg, single.lon_deg, atol=1e-6)
+
+
+def test_f_quantile_and_ellipse_helpers():
+    # F(2, ν) 95 % points from the statistical tables: 19.00 (ν=2), 5.14 (ν=6), 3.32 (ν=30) (from memory)
+    assert float(f_2_quantile(0.95, 2)) == pytest.approx(19.0, abs=0.01)
+    assert float(f_2_quantile(0.95, 6)) == pytest.approx(5.14, abs=0.01)
+    assert float(f_2_quantile(0.95, 30)) == pytest.approx(3.32, abs=0.01)
+    major, minor, orientation = error_ellipse(np.array([[4.0, 0.0], [0.0, 1.0]]), 1.0)
+    assert (float(major), float(minor), float(orientation)) == pytest.approx((2.0, 1.0, 0.0))
+    _, _, turned = error_ellipse(np.array([[2.5, 1.5], [1.5, 2.5]]), 1.0)
+    assert float(turned) == pytest.approx(45.0)
+
+
+def test_too_few_sights_is_an_error():
+    with pytest.raises(NavredError, match="two or more"):
+        fix_position(pd.DataFrame({"gha_deg": [1.0], "dec_deg": [1.0], "ho_deg": [1.0],
+                                   "sight_utc": pd.to_datetime(["2024-01-01T00:00Z"]),
+                                   "dr_lat_deg": [0.0], "dr_lon_deg": [0.0]}))

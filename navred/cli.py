@@ -97,17 +97,9 @@ def _read_table(path: str):
     """A CSV or .xlsx sight table as a DataFrame of text, or a one-line error."""
     from pathlib import Path
 
-    import pandas as pd
+    from .logbook import _normalise_columns, _read_raw
 
-    file = Path(path)
-    if not file.is_file():
-        raise NavredError(f"no such file: {path}")
-    try:
-        if file.suffix.lower() in (".xlsx", ".xlsm"):
-            return pd.read_excel(file, dtype=object)
-        return pd.read_csv(file, dtype=str, keep_default_na=False)
-    except (ValueError, UnicodeDecodeError, OSError) as exc:
-        raise NavredError(f"cannot read {path} as a CSV or .xlsx sight table: {exc}") from None
+    return _normalise_columns(_read_raw(Path(path)), Path(path))
 
 
 @app.command("reduce")
@@ -260,6 +252,69 @@ def fix_command(
         _print_latitude_checks(reduced)
         if not fixes:
             raise NavredError("no group had two usable sights: nothing to fix")
+
+
+@app.command("workbook")
+def workbook_command(
+    sights_file: str = typer.Argument(..., metavar="SIGHTS", help="Sight log, CSV or .xlsx (see docs/sight-log.md)."),
+    output: str | None = typer.Option(None, "--output", "-o", help="Workbook to write (.xlsx); default: SIGHTS with .navred.xlsx."),
+    plots: str | None = typer.Option(None, "--plots", help="Also write each fix's plotting sheet as PNG and SVG into this folder."),
+    gpx: str | None = typer.Option(None, "--gpx", help="Also write the fixes and DRs as GPX 1.1 waypoints to this file."),
+    geojson: str | None = typer.Option(None, "--geojson", help="Also write fixes, ellipses and lines of position as GeoJSON."),
+    strict: bool = typer.Option(False, "--strict", help="Exit 1 if any row was rejected."),
+    solve_motion: bool = typer.Option(False, "--solve-motion", help="Also solve course and speed made good where the sights allow."),
+) -> None:
+    """The whole job: read and check the log, reduce every sight, fix every group, write the workbook.
+
+    Every row of the log ends up in the workbook: reduced (Working sheet) or rejected with
+    the reason (Rejected sheet). Exits 1 only when nothing could be reduced, or with --strict
+    when anything was rejected.
+
+    Example:  navred workbook sample_sights/demo_sights.csv -o demo_voyage.xlsx --plots plots
+    """
+    from pathlib import Path
+
+    from .voyage import process_log
+    from .workbook import write_plots, write_workbook
+
+    with _reported():
+        target = Path(output) if output else Path(sights_file).with_suffix(".navred.xlsx")
+        bar = None
+
+        def progress(done: int, total: int) -> None:
+            nonlocal bar
+            if bar is None:
+                bar = typer.progressbar(length=total, label="reducing sights", file=sys.stderr)
+                bar.__enter__()
+            bar.update(done - bar.pos)
+
+        voyage = process_log(sights_file, solve_motion=solve_motion, progress=progress)
+        if bar is not None:
+            bar.__exit__(None, None, None)
+        write_workbook(voyage, target)
+        typer.echo(f"wrote {target}")
+        if plots:
+            written = write_plots(voyage, plots)
+            typer.echo(f"wrote {len(written)} plotting-sheet files to {plots}")
+        if gpx:
+            from .exports import write_gpx
+
+            typer.echo(f"wrote {write_gpx(voyage, gpx)}")
+        if geojson:
+            from .exports import write_geojson
+
+            typer.echo(f"wrote {write_geojson(voyage, geojson)}")
+        for group in voyage.groups:
+            if group.fix is None:
+                typer.echo(f"group {group.name}: no fix ({group.problem})")
+            for text in (group.fix.warnings if group.fix is not None else []):
+                typer.echo(f"warning: group {group.name}: {text}", err=True)
+        typer.echo(voyage.summary())
+        if voyage.n_reduced == 0:
+            raise NavredError("nothing could be reduced: see the Rejected sheet for every row's reason")
+        if strict and voyage.n_rejected_rows:
+            typer.echo(f"--strict: {voyage.n_rejected_rows} row(s) rejected", err=True)
+            raise typer.Exit(code=1)
 
 
 @app.command("bodies")

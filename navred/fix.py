@@ -234,6 +234,12 @@ class FixResult:
     chart_distance_nm: float | None = None
     chart_bearing_deg: float | None = None
     chart_inside_ellipse: bool | None = None
+    #: the DR at the fix time, and each sight's line of position advanced (or retired) to the
+    #: fix time, as an intercept and azimuth from that DR (input-row order, NaN if unused)
+    dr_lat_deg: float = float("nan")
+    dr_lon_deg: float = float("nan")
+    lop_intercept_nm: np.ndarray = field(default_factory=lambda: np.zeros(0))
+    lop_zn_deg: np.ndarray = field(default_factory=lambda: np.zeros(0))
 
     @property
     def residual_nm(self) -> np.ndarray:
@@ -319,6 +325,15 @@ def fix_position(reduced, at_utc=None, *, chart_lat=None, chart_lon=None, solve_
     result = _fix_from_arrays(gha[rows], dec[rows], ho[rows], hours, run_n, run_e, lat0, lon0, solve_motion,
                               (float(vn.mean()), float(ve.mean())))
     result = _expand(result, rows, n_rows, fix_time)
+    # the lines of position for a plotting sheet: each sight reduced from the DR carried to its
+    # time, so that moving the line by the run brings it to the DR at the fix time
+    sight_lat, sight_lon = move_position(lat0, lon0, -run_n, -run_e)
+    hc, zn = computed_altitude_azimuth(sight_lat, sight_lon, gha[rows], dec[rows])
+    result.dr_lat_deg, result.dr_lon_deg = float(lat0), float(lon0)
+    result.lop_intercept_nm = np.full(n_rows, np.nan)
+    result.lop_zn_deg = np.full(n_rows, np.nan)
+    result.lop_intercept_nm[rows] = (ho[rows] - hc) * ARCMIN_PER_DEG
+    result.lop_zn_deg[rows] = zn
     if _refit_without_outliers and result.outlier.any() and result.used.sum() - result.outlier.sum() >= 2:
         keep = ok & ~result.outlier
         # one refit only: the check fix does not hunt for further blunders in its turn
@@ -345,7 +360,8 @@ def _subset(reduced, keep):
 
 def _reindexed(result: FixResult, rows, n_rows) -> FixResult:
     """Spread a fix made from the rows ``rows`` of a table back over all ``n_rows`` rows."""
-    for name, fill in (("residual_arcmin", np.nan), ("outlier", False), ("used", False)):
+    for name, fill in (("residual_arcmin", np.nan), ("outlier", False), ("used", False),
+                       ("lop_intercept_nm", np.nan), ("lop_zn_deg", np.nan)):
         full = np.full(n_rows, fill, dtype=getattr(result, name).dtype)
         full[rows] = getattr(result, name)
         setattr(result, name, full)

@@ -53,7 +53,7 @@ def test_bodies_lists_the_catalogue():
 
 
 def test_help_on_every_command_has_an_example():
-    for command in ("almanac", "bodies", "reduce", "fix"):
+    for command in ("almanac", "bodies", "reduce", "fix", "workbook"):
         result = runner.invoke(app, [command, "--help"])
         assert result.exit_code == 0
         assert "Example:" in result.output
@@ -113,3 +113,43 @@ def test_fix_cross_checks_a_chart_position_for_one_group():
     assert both.exit_code == 1 and "--group" in both.output
     unknown = runner.invoke(app, ["fix", "sample_sights/demo_sights.csv", "--group", "dawn"])
     assert unknown.exit_code == 1 and "evening-stars" in unknown.output
+
+
+def test_workbook_command_on_the_demo(tmp_path):
+    out = tmp_path / "voyage.xlsx"
+    result = runner.invoke(app, ["workbook", "sample_sights/demo_sights.csv", "-o", str(out),
+                                 "--plots", str(tmp_path / "plots"), "--gpx", str(tmp_path / "f.gpx"),
+                                 "--geojson", str(tmp_path / "f.geojson")])
+    assert result.exit_code == 0, result.output
+    assert "11 sights reduced, 3 fixes, 0 rejected" in result.output
+    assert out.exists() and (tmp_path / "f.gpx").exists() and (tmp_path / "f.geojson").exists()
+    assert len(list((tmp_path / "plots").glob("*.png"))) == 3
+    assert len(list((tmp_path / "plots").glob("*.svg"))) == 3
+
+
+def test_workbook_exit_codes(tmp_path):
+    mixed = tmp_path / "mixed.csv"
+    mixed.write_text("utc,body,hs,eye_height_m,dr_lat,dr_lon\n"
+                     "2026-03-26T19:41:00Z,Sirius,30 02.4,2.8,43 14 N,13 04 W\n"
+                     "2026-03-26T19:42:00Z,Sirus,30 02.4,2.8,43 14 N,13 04 W\n")
+    result = runner.invoke(app, ["workbook", str(mixed), "-o", str(tmp_path / "a.xlsx")])
+    assert result.exit_code == 0 and "1 sights reduced, 0 fixes, 1 rejected" in result.output
+    strict = runner.invoke(app, ["workbook", str(mixed), "-o", str(tmp_path / "b.xlsx"), "--strict"])
+    assert strict.exit_code == 1
+    hopeless = tmp_path / "hopeless.csv"
+    hopeless.write_text("utc,body,hs,eye_height_m,dr_lat,dr_lon\n2026-03-26T19:41:00,Sirus,95,2.8,43 14 N,13 04 W\n")
+    nothing = runner.invoke(app, ["workbook", str(hopeless), "-o", str(tmp_path / "c.xlsx")])
+    assert nothing.exit_code == 1 and "nothing could be reduced" in nothing.output
+    assert (tmp_path / "c.xlsx").exists()  # the workbook with its Rejected sheet is still written
+    binary = tmp_path / "log.csv"
+    binary.write_bytes(b"\x00\x01\x02")
+    refused = runner.invoke(app, ["workbook", str(binary)])
+    assert refused.exit_code == 1 and "binary" in refused.output and "Traceback" not in refused.output
+
+
+def test_python_dash_m_navred_works():
+    import subprocess
+    import sys
+
+    done = subprocess.run([sys.executable, "-m", "navred", "--version"], capture_output=True, text=True, check=False)
+    assert done.returncode == 0 and done.stdout.startswith("navred ")

@@ -1,0 +1,111 @@
+"""Fixes, DR positions and lines of position in open formats for a chart plotter.
+
+- GPX 1.1 (the Topografix schema, an open standard): one waypoint per fix and per DR at
+  the fix time, with the time, a name and the ellipse in the description.
+- GeoJSON (RFC 7946): a FeatureCollection of the fixes and DRs (Points), their 95 %
+  ellipses (Polygons) and every line of position (LineStrings), coordinates as
+  [longitude, latitude] in WGS 84 degrees.
+
+Both are written atomically.
+"""
+
+from __future__ import annotations
+
+import json
+import xml.etree.ElementTree as ET
+from pathlib import Path
+
+import numpy as np
+
+from . import __version__
+from .triangle import destination
+from .workbook import atomic_write
+
+GPX_NAMESPACE = "http://www.topografix.com/GPX/1/1"
+
+
+def _fix_groups(voyage):
+    return [g for g in voyage.groups if g.fix is not None]
+
+
+def _iso(utc) -> str:
+    return str(utc)[:19] + "Z"
+
+
+def write_gpx(voyage, path) -> Path:
+    """GPX 1.1 waypoints of every fix and of the DR at each fix time."""
+    ET.register_namespace("", GPX_NAMESPACE)
+    root = ET.Element(f"{{{GPX_NAMESPACE}}}gpx", {"version": "1.1", "creator": f"navred {__version__}"})
+    for group in _fix_groups(voyage):
+        fix = group.fix
+        for kind, lat, lon in (("fix", fix.lat_deg, fix.lon_deg), ("DR", fix.dr_lat_deg, fix.dr_lon_deg)):
+            point = ET.SubElement(root, f"{{{GPX_NAMESPACE}}}wpt", {"lat": f"{lat:.6f}", "lon": f"{lon:.6f}"})
+            ET.SubElement(point, f"{{{GPX_NAMESPACE}}}time").text = _iso(fix.utc)
+            ET.SubElement(point, f"{{{GPX_NAMESPACE}}}name").text = f"{kind} {group.name}"
+            description = (f"celestial fix, {int(fix.used.sum())} sights, 95% ellipse "
+                           f"{fix.ellipse_semi_major_nm:.1f} x {fix.ellipse_semi_minor_nm:.1f} nm, major axis "
+                           f"{fix.ellipse_orientation_deg:.0f} deg" if kind == "fix" else "DR at the fix time")
+            ET.SubElement(point, f"{{{GPX_NAMESPACE}}}desc").text = description
+            ET.SubElement(point, f"{{{GPX_NAMESPACE}}}type").text = kind
+    tree = ET.ElementTree(root)
+    ET.indent(tree)
+    return atomic_write(path, lambda p: tree.write(p, encoding="utf-8", xml_declaration=True))
+
+
+def ellipse_polygon(fix, points: int = 72) -> list[list[float]]:
+    """The 95 % ellipse as a closed ring of [lon, lat] points."""
+    theta = np.linspace(0.0, 2 * np.pi, points, endpoint=False)
+    a, b = fix.ellipse_semi_major_nm, fix.ellipse_semi_minor_nm
+    axis = np.radians(fix.ellipse_orientation_deg)
+    along, across = a * np.cos(theta), b * np.sin(theta)
+    north = along * np.cos(axis) - across * np.sin(axis)
+    east = along * np.sin(axis) + across * np.cos(axis)
+    bearing = np.degrees(np.arctan2(east, north))
+    lat, lon = destination(fix.lat_deg, fix.lon_deg, bearing, np.hypot(north, east))
+    ring = [[float(x), float(y)] for x, y in zip(lon, lat)]
+    return ring + [ring[0]]
+
+
+def lop_lines(voyage, group, half_length_nm: float | None = None) -> list[dict]:
+    """Lines of position of one fix, advanced to the fix time, as GeoJSON features."""
+    fix = group.fix
+    subset = voyage.reduced.iloc[group.rows].reset_index(drop=True)
+    length = half_length_nm or max(10.0, 4 * fix.ellipse_semi_major_nm)
+    features = []
+    for i in np.flatnonzero(np.isfinite(fix.lop_intercept_nm)):
+        zn = fix.lop_zn_deg[i]
+        foot = destination(fix.dr_lat_deg, fix.dr_lon_deg, zn, fix.lop_intercept_nm[i])
+        ends = [destination(*foot, zn + side, length) for side in (90.0, -90.0)]
+        features.append({
+            "type": "Feature",
+            "geometry": {"type": "LineString", "coordinates": [[float(lon), float(lat)] for lat, lon in ends]},
+            "properties": {"kind": "line of position", "fix_group": group.name,
+                           "body": str(subset.body_name[i]), "utc": _iso(subset.sight_utc[i].isoformat()[:19]),
+                           "zn_deg": float(zn), "intercept_nm": float(fix.lop_intercept_nm[i]),
+                           "from": "DR at the fix time", "flagged": bool(fix.outlier[i])},
+        })
+    return features
+
+
+def write_geojson(voyage, path) -> Path:
+    """GeoJSON (RFC 7946) of the fixes, DRs, ellipses and lines of position."""
+    features = []
+    for group in _fix_groups(voyage):
+        fix = group.fix
+        common = {"fix_group": group.name, "utc": _iso(fix.utc)}
+        features.append({"type": "Feature", "geometry": {"type": "Point", "coordinates": [fix.lon_deg, fix.lat_deg]},
+                         "properties": {**common, "kind": "fix", "sights": int(fix.used.sum()),
+                                        "sigma_arcmin": fix.sigma_arcmin,
+                                        "ellipse_semi_major_nm": fix.ellipse_semi_major_nm,
+                                        "ellipse_semi_minor_nm": fix.ellipse_semi_minor_nm,
+                                        "ellipse_orientation_deg": fix.ellipse_orientation_deg,
+                                        "warnings": fix.warnings}})
+        features.append({"type": "Feature",
+                         "geometry": {"type": "Point", "coordinates": [fix.dr_lon_deg, fix.dr_lat_deg]},
+                         "properties": {**common, "kind": "DR"}})
+        features.append({"type": "Feature", "geometry": {"type": "Polygon", "coordinates": [ellipse_polygon(fix)]},
+                         "properties": {**common, "kind": "95 % ellipse"}})
+        features.extend(lop_lines(voyage, group))
+    collection = {"type": "FeatureCollection", "features": features}
+    text = json.dumps(collection, indent=1, allow_nan=False)
+    return atomic_write(path, lambda p: Path(p).write_text(text, encoding="utf-8"))

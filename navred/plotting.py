@@ -1,0 +1,174 @@
+"""The plotting sheet of a fix (matplotlib, imported lazily): edge code that draws and saves.
+
+A local chart of the fix: a grid of latitude and longitude minutes scaled as on a Mercator
+chart at the fix's latitude (one minute of latitude is one nautical mile up the page, one
+minute of longitude cos φ miles across), the DR at the fix time, each line of position
+advanced or retired to the fix time and labelled with its body and time, the fix and its
+95 % ellipse, the chart position when there is one, a scale bar in nautical miles and a
+north arrow.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+
+from .angles import format_angle
+
+# navred's own palette: sea-chart paper, ink-blue lines, a vermilion fix
+PAPER, GRID, INK, FIX, CHART, ELLIPSE, FLAGGED = ("#f7f3e8", "#c9c2ad", "#1d3557", "#d1495b",
+                                                  "#2a9d8f", "#d1495b", "#8d99ae")
+_STEPS_ARCMIN = (0.5, 1, 2, 5, 10, 15, 30, 60, 120, 300, 600)
+
+
+def _grid_step(span_nm: float) -> float:
+    for step in _STEPS_ARCMIN:
+        if span_nm / step <= 8:
+            return step
+    return _STEPS_ARCMIN[-1]
+
+
+def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None):
+    """A matplotlib Figure of the fix's plotting sheet.
+
+    ``fix`` is a :class:`navred.fix.FixResult`; ``bodies`` and ``times`` label its sights
+    (input-row order, as ``fix.residual_arcmin``); ``chart`` is an optional (lat, lon).
+    """
+    import matplotlib
+
+    matplotlib.use("Agg")
+    from matplotlib.figure import Figure
+    from matplotlib.patches import Ellipse
+
+    lat0, lon0 = fix.dr_lat_deg, fix.dr_lon_deg
+    cos_lat = np.cos(np.radians(lat0))
+
+    def plane(lat, lon):
+        d_lon = (np.asarray(lon) - lon0 + 180.0) % 360.0 - 180.0
+        return d_lon * 60.0 * cos_lat, (np.asarray(lat) - lat0) * 60.0
+
+    fix_xy = plane(fix.lat_deg, fix.lon_deg)
+    points = [(0.0, 0.0), fix_xy]
+    if chart is not None:
+        chart_xy = plane(*chart)
+        points.append(chart_xy)
+    used = np.flatnonzero(np.isfinite(fix.lop_intercept_nm))
+    z = np.radians(fix.lop_zn_deg[used])
+    a = fix.lop_intercept_nm[used]
+    feet = np.stack([a * np.sin(z), a * np.cos(z)], axis=1)
+    xs, ys = zip(*points, *map(tuple, feet))
+    half = max(np.ptp(xs), np.ptp(ys), 4.0 * fix.ellipse_semi_major_nm, 2.0) * 0.75 + 1.0
+    cx, cy = (max(xs) + min(xs)) / 2.0, (max(ys) + min(ys)) / 2.0
+
+    figure = Figure(figsize=(8.0, 8.0), dpi=110, facecolor=PAPER)
+    ax = figure.add_axes([0.1, 0.09, 0.86, 0.83], facecolor=PAPER)
+    ax.set_xlim(cx - half, cx + half)
+    ax.set_ylim(cy - half, cy + half)
+    ax.set_aspect("equal")
+
+    # the grid: whole multiples of the step in latitude and in longitude
+    step = _grid_step(2 * half)
+    lat_lo, lat_hi = lat0 + (cy - half) / 60, lat0 + (cy + half) / 60
+    lon_lo, lon_hi = lon0 + (cx - half) / 60 / cos_lat, lon0 + (cx + half) / 60 / cos_lat
+    lat_ticks = np.arange(np.ceil(lat_lo * 60 / step), np.floor(lat_hi * 60 / step) + 1) * step / 60
+    lon_ticks = np.arange(np.ceil(lon_lo * 60 / step), np.floor(lon_hi * 60 / step) + 1) * step / 60
+    for lat in lat_ticks:
+        ax.axhline(plane(lat, lon0)[1], color=GRID, lw=0.7, zorder=0)
+    for lon in lon_ticks:
+        ax.axvline(plane(lat0, lon)[0], color=GRID, lw=0.7, zorder=0)
+    ax.set_yticks([plane(lat, lon0)[1] for lat in lat_ticks])
+    ax.set_yticklabels([format_angle(lat, "lat") for lat in lat_ticks], fontsize=7)
+    ax.set_xticks([plane(lat0, lon)[0] for lon in lon_ticks])
+    ax.set_xticklabels([format_angle(lon, "lon") for lon in lon_ticks], fontsize=7, rotation=30)
+    for side in ax.spines.values():
+        side.set_color(INK)
+
+    # the lines of position, drawn across the sheet, labelled at one end
+    length = 2.2 * half
+    count = max(len(used) - 1, 1)
+    for k, row in enumerate(used):
+        fx, fy = feet[k]
+        dx, dy = np.cos(z[k]), -np.sin(z[k])  # perpendicular to Zn
+        flagged = bool(fix.outlier[row])
+        colour = FLAGGED if flagged else INK
+        ax.plot([fx - dx * length, fx + dx * length], [fy - dy * length, fy + dy * length],
+                color=colour, lw=1.3, ls="--" if flagged else "-", zorder=2)
+        # a short azimuth tick from the DR toward the body, as on a hand plot
+        ax.plot([0, 0.35 * half * np.sin(z[k])], [0, 0.35 * half * np.cos(z[k])], color=colour, lw=0.6,
+                alpha=0.5, zorder=1)
+        label = f"{bodies[row]} {times[row]}" + ("  (flagged)" if flagged else "")
+        # the label sits on the line near the middle of the sheet, staggered so labels do not pile up
+        nearest = (cx - fx) * dx + (cy - fy) * dy
+        along = nearest + (-0.6 + 1.2 * k / count) * half
+        lx, ly = fx + dx * along, fy + dy * along
+        ax.annotate(label, (lx, ly), fontsize=7, color=colour, ha="center", va="bottom", annotation_clip=False,
+                    rotation=(np.degrees(np.arctan2(dy, dx)) + 90) % 180 - 90, rotation_mode="anchor",
+                    bbox={"boxstyle": "round,pad=0.15", "fc": PAPER, "ec": "none", "alpha": 0.8}, zorder=4)
+
+    # the DR, the fix, its ellipse, the chart position
+    ax.plot(0, 0, marker="o", ms=9, mfc="none", mec=INK, mew=1.4, zorder=5)
+    ax.annotate("DR", (0, 0), xytext=(6, -12), textcoords="offset points", fontsize=8, color=INK)
+    cov = fix.covariance_nm2
+    width = 2 * fix.ellipse_semi_major_nm
+    height = 2 * fix.ellipse_semi_minor_nm
+    angle = 90.0 - fix.ellipse_orientation_deg  # from the x axis (east) counter-clockwise
+    ax.add_patch(Ellipse(fix_xy, width, height, angle=angle, fc=ELLIPSE, alpha=0.15, ec=ELLIPSE, lw=1.2,
+                         zorder=3))
+    ax.plot(*fix_xy, marker="+", ms=16, mew=2.2, color=FIX, zorder=6)
+    ax.plot(*fix_xy, marker="o", ms=5, color=FIX, zorder=6)
+    ax.annotate(f"fix {format_angle(fix.lat_deg, 'lat')} {format_angle(fix.lon_deg, 'lon')}", fix_xy,
+                xytext=(10, 8), textcoords="offset points", fontsize=8, color=FIX, weight="bold", zorder=7)
+    if chart is not None:
+        ax.plot(*chart_xy, marker="s", ms=7, mfc="none", mec=CHART, mew=1.6, zorder=6)
+        ax.annotate("chart", chart_xy, xytext=(8, -12), textcoords="offset points", fontsize=8, color=CHART)
+    del cov
+
+    # scale bar (nautical miles) and north arrow
+    bar = _nice_length(half * 0.5)
+    x0, y0 = cx - half * 0.92, cy - half * 0.9
+    ax.plot([x0, x0 + bar], [y0, y0], color=INK, lw=3, solid_capstyle="butt", zorder=8)
+    ax.annotate(f"{bar:g} nautical mile{'s' if bar != 1 else ''}", (x0 + bar / 2, y0), xytext=(0, 5),
+                textcoords="offset points", ha="center", fontsize=8, color=INK)
+    nx, ny = cx + half * 0.86, cy + half * 0.72
+    ax.annotate("", (nx, ny + half * 0.18), (nx, ny), arrowprops={"arrowstyle": "-|>", "color": INK, "lw": 1.6})
+    ax.annotate("N", (nx, ny + half * 0.2), ha="center", va="bottom", fontsize=11, color=INK, weight="bold")
+
+    heading = title or "Plotting sheet"
+    figure.suptitle(heading, x=0.1, ha="left", fontsize=11, color=INK, weight="bold")
+    figure.text(0.1, 0.935, f"{str(fix.utc)[:19].replace('T', ' ')} UTC · 95 % ellipse "
+                f"{fix.ellipse_semi_major_nm:.1f} × {fix.ellipse_semi_minor_nm:.1f} nm · σ {fix.sigma_arcmin:.2f}′ · "
+                "grid: minutes of latitude and longitude", fontsize=8, color=INK)
+    dr_miles = float(np.hypot(*fix_xy))
+    if dr_miles > 30.0:
+        figure.text(0.1, 0.04, f"The DR is {dr_miles:.0f} nm from the fix: straight lines of position drawn "
+                    "from it are approximate this far out; the fix itself is solved on the sphere.",
+                    fontsize=7, color=FIX)
+    figure.text(0.1, 0.015, "An aid to navigation, not a sole means: check against the official almanac "
+                "and keep a DR plot.", fontsize=7, color=INK, style="italic")
+    return figure
+
+
+def _nice_length(target: float) -> float:
+    for value in (0.1, 0.2, 0.5, 1, 2, 5, 10, 20, 50, 100, 200, 500, 1000):
+        if value >= target * 0.5:
+            return value
+    return 1000.0
+
+
+def save_plotting_sheet(fix, bodies, times, path, *, title: str = "", chart=None) -> Path:
+    """Draw the plotting sheet and save it (PNG or SVG by the file's suffix)."""
+    target = Path(path)
+    figure = plotting_sheet(fix, bodies, times, title=title, chart=chart)
+    save_figure(figure, target)
+    return target
+
+
+def save_figure(figure, path) -> None:
+    """Save a figure as PNG or SVG (by suffix); SVG keeps its text as text, searchable and editable."""
+    import matplotlib
+
+    target = Path(path)
+    fmt = target.suffix.lstrip(".").lower() or "png"
+    with matplotlib.rc_context({"svg.fonttype": "none"}):
+        figure.savefig(target, facecolor=figure.get_facecolor(), format=fmt)

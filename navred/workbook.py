@@ -1,0 +1,265 @@
+"""The spreadsheet log (openpyxl): a workbook a master or instructor opens and reads unaided.
+
+Sheets: About (provenance, the safety caution, what each sheet holds), Sights as read,
+Working (every correction step of every sight), Fixes (with the plotting sheets), Rejected.
+Headers carry their units and stay frozen; angles are in navigational form with the decimal
+value beside them where a formula may need it. The file is written to a temporary file
+and renamed over the target, so an interrupted run never leaves half a workbook.
+"""
+
+from __future__ import annotations
+
+import io
+import os
+import tempfile
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from .angles import format_angle
+
+SAFETY = ("SAFETY OF NAVIGATION: navred is an aid to navigation, not a sole means of navigation. "
+          "Verify against the official nautical almanac and the publications of your flag state; "
+          "keep a DR plot and cross-check every fix with every other means; low sights (below "
+          "about 10°) and Moon sights carry larger errors; defer to local regulations, the "
+          "ship's master and licensed practice.")
+
+_HEADER_FILL = "1D3557"
+_FLAG_FILL = "F4D6D9"
+
+
+def atomic_write(path, write) -> Path:
+    """Call ``write(temporary_path)`` and rename the result over ``path`` (same folder)."""
+    target = Path(path)
+    target.parent.mkdir(parents=True, exist_ok=True)
+    handle, temporary = tempfile.mkstemp(prefix=f".{target.name}.", suffix=target.suffix, dir=target.parent)
+    os.close(handle)
+    umask = os.umask(0)
+    os.umask(umask)
+    os.chmod(temporary, 0o666 & ~umask)  # mkstemp makes the file private; a log is for sharing
+    try:
+        write(temporary)
+        os.replace(temporary, target)
+    finally:
+        if os.path.exists(temporary):
+            os.unlink(temporary)
+    return target
+
+
+def _nav(value, kind):
+    return format_angle(value, kind) if value == value and value is not None else ""
+
+
+def working_table(voyage) -> pd.DataFrame:
+    """One row per reduced sight with every line of the working, units in the headers."""
+    reduced = voyage.reduced
+    residual = np.full(len(reduced), np.nan)
+    flagged = np.zeros(len(reduced), dtype=bool)
+    for group in voyage.groups:
+        if group.fix is not None:
+            residual[group.rows] = group.fix.residual_arcmin
+            flagged[group.rows] = group.fix.outlier
+    ok = reduced.status.to_numpy() != "error"
+    r = reduced[ok].reset_index(drop=True)
+    residual, flagged = residual[ok], flagged[ok]
+    notes = [("; ".join(x for x in (("BLUNDER? flagged by the fix" if f else ""), m) if x))
+             for f, m in zip(flagged, r.message.astype(str))]
+    return pd.DataFrame({
+        "row in log": r["row"].to_numpy(),
+        "fix group": r["fix_group"].astype(str),
+        "body": r.body_name,
+        "UTC": r.sight_utc.dt.strftime("%Y-%m-%d %H:%M:%S"),
+        "Hs (° ′)": [_nav(v, "signed") for v in r.hs_deg],
+        "Hs (deg)": r.hs_deg,
+        "IC (′)": r.ic_arcmin,
+        "dip (′)": r.dip_arcmin,
+        "Ha (° ′)": [_nav(v, "signed") for v in r.ha_deg],
+        "refraction (′)": r.refraction_arcmin,
+        "SD (′)": r.sd_arcmin,
+        "parallax (′)": r.parallax_arcmin,
+        "Ho (° ′)": [_nav(v, "signed") for v in r.ho_deg],
+        "Ho (deg)": r.ho_deg,
+        "GHA (° ′)": [_nav(v, "angle") for v in r.gha_deg],
+        "GHA (deg)": r.gha_deg,
+        "Dec (° ′)": [_nav(v, "dec") for v in r.dec_deg],
+        "Dec (deg)": r.dec_deg,
+        "DR lat (° ′)": [_nav(v, "lat") for v in r.dr_lat_deg],
+        "DR lon (° ′)": [_nav(v, "lon") for v in r.dr_lon_deg],
+        "LHA (° ′)": [_nav(v, "angle") for v in r.lha_deg],
+        "Hc (° ′)": [_nav(v, "signed") for v in r.hc_deg],
+        "Hc (deg)": r.hc_deg,
+        "Zn (deg)": r.zn_deg,
+        "intercept (nm)": r.intercept_nm.abs(),
+        "TOWARD/AWAY": r.intercept_direction,
+        "residual at fix (′)": residual,
+        "DUT1 (s)": r.dut1_s,
+        "UT1 source": r.ut1_source,
+        "flags": notes,
+    })
+
+
+def fixes_table(voyage) -> pd.DataFrame:
+    rows = []
+    for group in voyage.groups:
+        fix = group.fix
+        if fix is None:
+            rows.append({"fix group": group.name, "UTC": "", "note": f"no fix: {group.problem}"})
+            continue
+        outliers = ", ".join(str(int(voyage.reduced["row"].iloc[group.rows[i]]))
+                             for i in np.flatnonzero(fix.outlier))
+        rows.append({
+            "fix group": group.name,
+            "UTC": str(fix.utc)[:19].replace("T", " "),
+            "latitude (° ′)": format_angle(fix.lat_deg, "lat"),
+            "longitude (° ′)": format_angle(fix.lon_deg, "lon"),
+            "latitude (deg)": fix.lat_deg,
+            "longitude (deg)": fix.lon_deg,
+            "sights used": int(fix.used.sum()),
+            "sight σ (′)": fix.sigma_arcmin,
+            "σ from": fix.sigma_source,
+            "standard error (nm)": fix.standard_error_nm,
+            "95 % semi-major (nm)": fix.ellipse_semi_major_nm,
+            "95 % semi-minor (nm)": fix.ellipse_semi_minor_nm,
+            "major axis (deg true)": fix.ellipse_orientation_deg,
+            "flagged rows in log": outliers,
+            "fix without flagged (° ′)": (f"{format_angle(fix.without_outliers.lat_deg, 'lat')} "
+                                          f"{format_angle(fix.without_outliers.lon_deg, 'lon')}"
+                                          if fix.without_outliers is not None else ""),
+            "chart position (° ′)": (f"{format_angle(group.chart[0], 'lat')} {format_angle(group.chart[1], 'lon')}"
+                                     if group.chart else ""),
+            "chart distance (nm)": fix.chart_distance_nm,
+            "chart bearing (deg true)": fix.chart_bearing_deg,
+            "chart inside 95 % ellipse": ("" if fix.chart_inside_ellipse is None
+                                          else "yes" if fix.chart_inside_ellipse else "NO"),
+            "course made good (deg)": fix.course_made_good_deg,
+            "speed made good (kn)": fix.speed_made_good_kn,
+            "note": "; ".join(fix.warnings),
+        })
+    return pd.DataFrame(rows)
+
+
+def _write_sheet(sheet, frame: pd.DataFrame, *, wide: dict[str, int] | None = None, flag_column: str | None = None):
+    from openpyxl.styles import Alignment, Font, PatternFill
+
+    header_font = Font(bold=True, color="FFFFFF")
+    header_fill = PatternFill("solid", fgColor=_HEADER_FILL)
+    sheet.append(list(frame.columns))
+    for cell in sheet[1]:
+        cell.font, cell.fill = header_font, header_fill
+        cell.alignment = Alignment(wrap_text=True, vertical="center")
+    flag_fill = PatternFill("solid", fgColor=_FLAG_FILL)
+    flag_index = list(frame.columns).index(flag_column) if flag_column in frame.columns else None
+    for values in frame.itertuples(index=False):
+        row = [None if (isinstance(v, float) and not np.isfinite(v)) else
+               (v.item() if isinstance(v, np.generic) else v) for v in values]
+        sheet.append(row)
+        if flag_index is not None and "BLUNDER" in str(row[flag_index]):
+            for cell in sheet[sheet.max_row]:
+                cell.fill = flag_fill
+    sheet.freeze_panes = "A2"
+    sheet.row_dimensions[1].height = 32
+    for index, name in enumerate(frame.columns, start=1):
+        letter = sheet.cell(row=1, column=index).column_letter
+        sample = [len(str(name)) * 0.6] + [len(str(v)) for v in frame[name].head(200)]
+        width = (wide or {}).get(name) or min(max(sample) + 2, 60)
+        sheet.column_dimensions[letter].width = max(width, 8)
+        for cell in sheet[letter][1:]:
+            if isinstance(cell.value, float):
+                cell.number_format = "0.000" if "deg" in str(name) else "0.00"
+
+
+def write_workbook(voyage, path, *, plots: bool = True) -> Path:
+    """Write the spreadsheet log of a :class:`navred.voyage.VoyageResult` to ``path`` (.xlsx)."""
+    from openpyxl import Workbook
+    from openpyxl.drawing.image import Image
+    from openpyxl.styles import Alignment, Font
+
+    book = Workbook()
+    about = book.active
+    about.title = "About"
+    about["A1"] = "navred sight-reduction log"
+    about["A1"].font = Font(bold=True, size=14)
+    about["A3"] = SAFETY
+    about["A3"].font = Font(bold=True, color="9B1D20")
+    about["A3"].alignment = Alignment(wrap_text=True, vertical="top")
+    about.merge_cells("A3:D3")
+    about.row_dimensions[3].height = 75
+    about["A5"] = "Summary"
+    about["A5"].font = Font(bold=True)
+    about["B5"] = voyage.summary()
+    line = 7
+    about.cell(row=line, column=1, value="Provenance").font = Font(bold=True)
+    for key, value in voyage.provenance.items():
+        line += 1
+        about.cell(row=line, column=1, value=key)
+        about.cell(row=line, column=2, value=value)
+    line += 2
+    about.cell(row=line, column=1, value="Sheets").font = Font(bold=True)
+    for name, meaning in (
+        ("Sights as read", "every row of the log, exactly as it was read"),
+        ("Working", "one row per reduced sight: every correction from Hs to Ho, GHA, Dec, LHA, Hc, Zn, "
+                    "the intercept, the residual at the fix and any flag (angles as ° ′ with decimal degrees beside)"),
+        ("Fixes", "one row per fix group: position, 95 % ellipse, sight error, flagged sights, chart check; "
+                  "the plotting sheets below the table"),
+        ("Rejected", "every row that could not be reduced, with the column, the value and why"),
+    ):
+        line += 1
+        about.cell(row=line, column=1, value=name)
+        about.cell(row=line, column=2, value=meaning)
+    about.column_dimensions["A"].width = 22
+    about.column_dimensions["B"].width = 110
+    for cell in about["B"]:
+        cell.alignment = Alignment(wrap_text=True, vertical="top")
+
+    _write_sheet(book.create_sheet("Sights as read"), voyage.raw)
+    _write_sheet(book.create_sheet("Working"), working_table(voyage), flag_column="flags")
+    fixes_sheet = book.create_sheet("Fixes")
+    fixes = fixes_table(voyage)
+    _write_sheet(fixes_sheet, fixes, wide={"note": 80, "σ from": 30})
+    rejected = voyage.rejected.rename(columns={"row": "row in log"})
+    _write_sheet(book.create_sheet("Rejected"), rejected, wide={"reason": 90})
+
+    if plots:
+        anchor_row = len(fixes) + 4
+        for group in voyage.groups:
+            if group.fix is None:
+                continue
+            png = io.BytesIO()
+            figure = plotting_figure(voyage, group)
+            figure.savefig(png, format="png", facecolor=figure.get_facecolor())
+            png.seek(0)
+            image = Image(png)
+            image.width, image.height = 560, 560
+            fixes_sheet.add_image(image, f"A{anchor_row}")
+            anchor_row += 30
+    return atomic_write(path, book.save)
+
+
+def plotting_figure(voyage, group):
+    """The plotting sheet figure of one fix group."""
+    from .plotting import plotting_sheet
+
+    subset = voyage.reduced.iloc[group.rows].reset_index(drop=True)
+    times = subset.sight_utc.dt.strftime("%H:%M").fillna("")
+    return plotting_sheet(group.fix, subset.body_name.astype(str), times,
+                          title=f"Plotting sheet: {group.name}", chart=group.chart)
+
+
+def write_plots(voyage, folder, formats=("png", "svg")) -> list[Path]:
+    """Every fix's plotting sheet as PNG and SVG files in ``folder``."""
+    import re
+
+    from .plotting import save_figure
+
+    out = Path(folder)
+    out.mkdir(parents=True, exist_ok=True)
+    written = []
+    for group in voyage.groups:
+        if group.fix is None:
+            continue
+        figure = plotting_figure(voyage, group)
+        stem = re.sub(r"[^A-Za-z0-9_.-]+", "-", group.name).strip("-") or "fix"
+        for suffix in formats:
+            written.append(atomic_write(out / f"plot-{stem}.{suffix}", lambda p, f=figure: save_figure(f, p)))
+    return written

@@ -1,0 +1,153 @@
+"""The workbook, the plotting sheets and the open-format exports."""
+
+from __future__ import annotations
+
+import json
+import xml.etree.ElementTree as ET
+
+import numpy as np
+import openpyxl
+import pandas as pd
+import pytest
+
+from navred.exports import GPX_NAMESPACE, write_geojson, write_gpx
+from navred.fix import fix_position, move_position
+from navred.plotting import save_plotting_sheet
+from navred.voyage import process_log
+from navred.workbook import SAFETY, atomic_write, write_workbook
+from tests.conftest import skyfield_sight
+
+
+@pytest.fixture(scope="module")
+def mixed_log(tmp_path_factory):
+    """The demo log with bad rows added among the good ones."""
+    folder = tmp_path_factory.mktemp("log")
+    demo = pd.read_csv("sample_sights/demo_sights.csv", dtype=str, keep_default_na=False)
+    bad = demo.iloc[[5, 6]].copy()
+    bad.iloc[0, bad.columns.get_loc("utc")] = "2026-03-26T19:41:00"  # no zone
+    bad.iloc[1, bad.columns.get_loc("body")] = "Betelguese"
+    log = pd.concat([demo.iloc[:6], bad, demo.iloc[6:]], ignore_index=True)
+    path = folder / "mixed.csv"
+    log.to_csv(path, index=False)
+    return path, len(log)
+
+
+def test_every_input_row_is_in_the_workbook_and_values_read_back(mixed_log, tmp_path):
+    path, n_rows = mixed_log
+    voyage = process_log(path)
+    out = write_workbook(voyage, tmp_path / "voyage.xlsx")
+    book = openpyxl.load_workbook(out)
+    assert book.sheetnames == ["About", "Sights as read", "Working", "Fixes", "Rejected"]
+    working = pd.DataFrame(list(book["Working"].values)[1:], columns=list(book["Working"].values)[0])
+    rejected = pd.DataFrame(list(book["Rejected"].values)[1:], columns=list(book["Rejected"].values)[0])
+    as_read = list(book["Sights as read"].values)
+    assert len(as_read) - 1 == n_rows
+    # round trip: reduced + rejected = input, no row twice
+    reduced_rows = set(working["row in log"])
+    rejected_rows = set(rejected["row in log"])
+    assert reduced_rows | rejected_rows == set(range(1, n_rows + 1))
+    assert not reduced_rows & rejected_rows
+    assert rejected_rows == {7, 8}
+    assert any("no time zone" in r for r in rejected.reason) and any("closest" in r for r in rejected.reason)
+    # values read back with openpyxl equal what was computed
+    computed = voyage.reduced[voyage.reduced.status != "error"].reset_index(drop=True)
+    assert np.allclose(working["Ho (deg)"].astype(float), computed.ho_deg)
+    assert np.allclose(working["Zn (deg)"].astype(float), computed.zn_deg)
+    assert list(working["TOWARD/AWAY"]) == list(computed.intercept_direction)
+    fixes = pd.DataFrame(list(book["Fixes"].values)[1:], columns=list(book["Fixes"].values)[0])
+    star_fix = next(g.fix for g in voyage.groups if g.name == "evening-stars")
+    row = fixes[fixes["fix group"] == "evening-stars"].iloc[0]
+    assert row["latitude (deg)"] == pytest.approx(star_fix.lat_deg)
+    assert row["95 % semi-major (nm)"] == pytest.approx(star_fix.ellipse_semi_major_nm)
+    assert len(book["Fixes"]._images) == 3  # a plotting sheet per fix
+    # the front sheet carries the safety caution and the provenance
+    about = [c for row in book["About"].values for c in row if c]
+    assert SAFETY in about
+    assert any("DE421" in str(c) for c in about) and any("finals2000A" in str(c) for c in about)
+    assert book["Working"].freeze_panes == "A2"
+
+
+def test_summary_counts(mixed_log):
+    voyage = process_log(mixed_log[0])
+    assert voyage.summary() == "11 sights reduced, 3 fixes, 2 rejected"
+
+
+def _lops_fix(ts, eph, names, offset=(3.0, -4.0)):
+    from navred import reduce_sights
+
+    when = pd.Timestamp("2024-09-15T19:05:00Z")
+    rows = [skyfield_sight(ts, eph, name, when + pd.Timedelta(minutes=k), 45.25, -20.5)
+            for k, name in enumerate(names)]
+    frame = pd.DataFrame(rows)
+    lat, lon = move_position(45.25, -20.5, *offset)
+    frame["dr_lat"], frame["dr_lon"] = float(lat), float(lon)
+    reduced = reduce_sights(frame)
+    return fix_position(reduced, at_utc=when), reduced
+
+
+@pytest.mark.parametrize("names, offset", [
+    (["Vega", "Arcturus"], (3.0, -4.0)),
+    (["Vega", "Arcturus", "Antares"], (3.0, -4.0)),
+    (["Vega", "Altair", "Arcturus", "Deneb", "Antares", "Dubhe", "Kochab", "Alphecca", "Rasalhague",
+      "Eltanin", "Alkaid", "Polaris"], (3.0, -4.0)),
+    (["Vega", "Arcturus", "Antares", "Dubhe"], (60.0, 90.0)),  # a fix 110 nm from the DR
+])
+def test_plotting_sheet_renders(ts, eph, tmp_path, names, offset):
+    fix, reduced = _lops_fix(ts, eph, names, offset)
+    times = reduced.sight_utc.dt.strftime("%H:%M")
+    for suffix in ("png", "svg"):
+        out = save_plotting_sheet(fix, reduced.body_name, times, tmp_path / f"sheet.{suffix}",
+                                  title=f"{len(names)} lines", chart=(45.25, -20.5))
+        assert out.stat().st_size > 10_000
+    svg = (tmp_path / "sheet.svg").read_text()
+    plotted = set(reduced.body_name[np.isfinite(fix.lop_intercept_nm)])
+    assert len(plotted) == len(names)
+    assert all(f">{name} " in svg for name in plotted)  # every line is labelled with its body
+    assert "nautical mile" in svg and ">N<" in svg and ">DR<" in svg and "fix " in svg
+
+
+def test_gpx_and_geojson_exports(tmp_path):
+    voyage = process_log("sample_sights/demo_sights.csv")
+    gpx = ET.parse(write_gpx(voyage, tmp_path / "fixes.gpx")).getroot()
+    assert gpx.tag == f"{{{GPX_NAMESPACE}}}gpx" and gpx.get("version") == "1.1"  # GPX 1.1 schema
+    points = gpx.findall(f"{{{GPX_NAMESPACE}}}wpt")
+    assert len(points) == 6  # a fix and a DR per group
+    star = next(g.fix for g in voyage.groups if g.name == "evening-stars")
+    fix_point = next(p for p in points if p.find(f"{{{GPX_NAMESPACE}}}name").text == "fix evening-stars")
+    assert float(fix_point.get("lat")) == pytest.approx(star.lat_deg, abs=1e-6)
+    data = json.loads(write_geojson(voyage, tmp_path / "fixes.geojson").read_text())
+    assert data["type"] == "FeatureCollection"
+    kinds = [f["properties"]["kind"] for f in data["features"]]
+    assert kinds.count("fix") == 3 and kinds.count("line of position") == 11
+    fix_feature = next(f for f in data["features"] if f["properties"]["kind"] == "fix"
+                       and f["properties"]["fix_group"] == "evening-stars")
+    # RFC 7946: positions are [longitude, latitude]
+    assert fix_feature["geometry"]["coordinates"] == pytest.approx([star.lon_deg, star.lat_deg])
+    ring = next(f for f in data["features"] if f["properties"]["kind"] == "95 % ellipse")["geometry"]["coordinates"][0]
+    assert ring[0] == ring[-1]
+
+
+def test_atomic_write_keeps_the_old_file_when_interrupted(tmp_path):
+    target = tmp_path / "voyage.xlsx"
+    target.write_text("the good old log")
+
+    def interrupted(path):
+        with open(path, "w") as handle:
+            handle.write("half a work")
+        raise KeyboardInterrupt
+
+    with pytest.raises(KeyboardInterrupt):
+        atomic_write(target, interrupted)
+    assert target.read_text() == "the good old log"
+    assert [p.name for p in tmp_path.iterdir()] == ["voyage.xlsx"]  # no temporary left behind
+
+
+def test_progress_is_reported_for_a_large_log(tmp_path):
+    demo = pd.read_csv("sample_sights/demo_sights.csv", dtype=str, keep_default_na=False)
+    big = pd.concat([demo] * 550, ignore_index=True)
+    path = tmp_path / "big.csv"
+    big.to_csv(path, index=False)
+    calls = []
+    voyage = process_log(path, progress=lambda done, total: calls.append((done, total)))
+    assert calls[-1] == (len(big), len(big)) and len(calls) > 1
+    assert voyage.n_reduced == len(big)

@@ -65,7 +65,7 @@ def working_table(voyage) -> pd.DataFrame:
     residual, flagged = residual[ok], flagged[ok]
     notes = [("; ".join(x for x in (("BLUNDER? flagged by the fix" if f else ""), m) if x))
              for f, m in zip(flagged, r.message.astype(str))]
-    return pd.DataFrame({
+    table = pd.DataFrame({
         "row in log": r["row"].to_numpy(),
         "fix group": r["fix_group"].astype(str),
         "body": r.body_name,
@@ -97,6 +97,14 @@ def working_table(voyage) -> pd.DataFrame:
         "UT1 source": r.ut1_source,
         "flags": notes,
     })
+    # the log's own extra columns (a cadet's note, a sight number...) ride along at the end
+    from .logbook import KNOWN
+    from .sights import RESULT_COLUMNS
+
+    for column in r.columns:
+        if column not in KNOWN and column not in RESULT_COLUMNS and column != "row" and column not in table:
+            table[column] = r[column].astype(str).to_numpy()
+    return table
 
 
 def fixes_table(voyage) -> pd.DataFrame:

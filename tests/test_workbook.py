@@ -67,6 +67,17 @@ def test_every_input_row_is_in_the_workbook_and_values_read_back(mixed_log, tmp_
     assert book["Working"].freeze_panes == "A2"
 
 
+def test_unknown_columns_reach_the_working_sheet(tmp_path):
+    demo = pd.read_csv("sample_sights/demo_sights.csv", dtype=str, keep_default_na=False)
+    demo["Cadet Note"] = [f"note {i}" for i in range(len(demo))]
+    path = tmp_path / "noted.csv"
+    demo.to_csv(path, index=False)
+    book = openpyxl.load_workbook(write_workbook(process_log(path), tmp_path / "noted.xlsx", plots=False))
+    values = list(book["Working"].values)
+    assert "cadet_note" in values[0]
+    assert [row[values[0].index("cadet_note")] for row in values[1:]] == [f"note {i}" for i in range(len(demo))]
+
+
 def test_summary_counts(mixed_log):
     voyage = process_log(mixed_log[0])
     assert voyage.summary() == "11 sights reduced, 3 fixes, 2 rejected"

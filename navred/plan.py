@@ -1,0 +1,470 @@
+"""Before and beside the sight: twilight, the sight plan, meridian passage, compass checks,
+identifying an unknown body.
+
+Core code (numpy, and navred's own almanac and triangle). Times are numpy datetime64[ns]
+UTC. A vessel's DR track is a rhumb line from a starting position at a course and speed
+(mid-latitude sailing); every function that takes a position also takes the track.
+Everything is vectorised over days and instants: a 60-day passage is planned in one go.
+"""
+
+from __future__ import annotations
+
+import itertools
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from .almanac import places
+from .angles import wrap_180
+from .constants import ARCMIN_PER_DEG
+from .corrections import DIP_ARCMIN_PER_SQRT_M, refraction_arcmin
+from .errors import NavredError
+from .fix import move_position, velocity_kn
+from .stars import SOLAR_SYSTEM, known_bodies, star_table
+from .timescales import utc_jd_to_datetime64, utc_julian_date
+from .triangle import computed_altitude_azimuth
+
+#: Geocentric altitude of the Sun's centre at sunrise and sunset seen from sea level:
+#: refraction at the horizon 34′ and the semi-diameter 16′ (common practice; the almanac's value).
+SUNRISE_ALTITUDE_DEG = -50.0 / 60.0
+CIVIL_DEG, NAUTICAL_DEG = -6.0, -12.0
+_NS_PER_HOUR = 3_600_000_000_000
+SAMPLE_MINUTES = 10
+EVENT_KEYS = ("nautical_dawn", "civil_dawn", "sunrise", "meridian_passage", "sunset", "civil_dusk",
+              "nautical_dusk")
+
+
+@dataclass(frozen=True)
+class Track:
+    """A DR track: a start position and time, and a course and speed (both may be zero)."""
+
+    lat_deg: float
+    lon_deg: float
+    start: np.datetime64
+    course_deg: float = 0.0
+    speed_kn: float = 0.0
+
+    def position(self, utc64):
+        """DR latitude and longitude (degrees) at the instants ``utc64`` (datetime64 array)."""
+        hours = (np.asarray(utc64, dtype="datetime64[ns]") - self.start).astype(np.int64) / _NS_PER_HOUR
+        vn, ve = velocity_kn(self.course_deg, self.speed_kn)
+        return move_position(self.lat_deg, self.lon_deg, vn * hours, ve * hours)
+
+    @property
+    def lon_rate_deg_per_hour(self) -> float:
+        _, ve = velocity_kn(self.course_deg, self.speed_kn)
+        return float(ve / ARCMIN_PER_DEG / max(math.cos(math.radians(self.lat_deg)), 0.01))
+
+
+def _as_datetime64(value) -> np.datetime64:
+    """One instant in any form navred accepts, as datetime64[ns] UTC (numpy datetime64 is UTC)."""
+    if isinstance(value, np.datetime64):
+        return value.astype("datetime64[ns]")
+    return utc_jd_to_datetime64(*utc_julian_date(value))[()]
+
+
+def _local_midnight(date, lon_deg: float) -> np.datetime64:
+    """00:00 local mean time at the longitude on the civil ``date`` ('2026-03-26'), as UTC."""
+    day = np.datetime64(str(date)[:10], "D").astype("datetime64[ns]")
+    return day - np.timedelta64(int(round(lon_deg / 15.0 * _NS_PER_HOUR)), "ns")
+
+
+def sun_altitude_deg(utc64, track: Track):
+    """Geocentric altitude (degrees) of the Sun's centre from the DR at the instants."""
+    when = np.asarray(utc64, dtype="datetime64[ns]")
+    lat, lon = track.position(when)
+    sun = places("Sun", when.ravel())
+    hc, _ = computed_altitude_azimuth(lat.ravel(), lon.ravel(), sun.gha_deg, sun.dec_deg)
+    return np.asarray(hc).reshape(when.shape)
+
+
+def _crossings(day_starts, track: Track, thresholds_deg):
+    """For each day and threshold: the first rising and the first setting crossing (NaT if none)."""
+    steps = np.arange(0, 24 * 60 + SAMPLE_MINUTES, SAMPLE_MINUTES)
+    times = day_starts[:, None] + (steps * 60_000_000_000).astype("timedelta64[ns]")[None, :]
+    altitude = sun_altitude_deg(times, track)
+    rising, setting = {}, {}
+    for name, threshold in thresholds_deg.items():
+        above = altitude > np.asarray(threshold)[..., None] if np.ndim(threshold) else altitude > threshold
+        up = ~above[:, :-1] & above[:, 1:]
+        down = above[:, :-1] & ~above[:, 1:]
+        rising[name] = _refine(times, up, track, threshold, rising=True)
+        setting[name] = _refine(times, down, track, threshold, rising=False)
+    return rising, setting, times, altitude
+
+
+def _refine(times, mask, track, threshold, rising: bool, iterations: int = 14):
+    """Bisection of each day's first crossing to about a tenth of a second (NaT where none)."""
+    has = mask.any(axis=1)
+    first = np.argmax(mask, axis=1)
+    rows = np.arange(times.shape[0])
+    lo, hi = times[rows, first].copy(), times[rows, first + 1].copy()
+    out = np.full(times.shape[0], np.datetime64("NaT"), dtype="datetime64[ns]")
+    if not has.any():
+        return out
+    lo, hi = lo[has], hi[has]
+    level = np.broadcast_to(np.asarray(threshold, dtype=float), times.shape[:1])[has]
+    for _ in range(iterations):
+        mid = lo + (hi - lo) // 2
+        above = sun_altitude_deg(mid, track) > level
+        # before a rising the Sun is below; before a setting it is above
+        move_lo = ~above if rising else above
+        lo = np.where(move_lo, mid, lo)
+        hi = np.where(move_lo, hi, mid)
+    out[has] = lo + (hi - lo) // 2
+    return out
+
+
+def meridian_passage_utc(body: str, day_starts, track: Track, lower: bool = False):
+    """UTC of a body's upper (or lower) meridian passage after each day start (datetime64 array).
+
+    Newton's method on the local hour angle at the moving DR: the LHA changes at the body's
+    GHA rate plus the vessel's rate in longitude.
+    """
+    starts = np.asarray(day_starts, dtype="datetime64[ns]")
+    rate = 15.041 if body not in SOLAR_SYSTEM else 15.0  # degrees of LHA an hour (common practice)
+    rate += track.lon_rate_deg_per_hour
+    guess = starts + np.timedelta64(12 * _NS_PER_HOUR, "ns")
+    target = 180.0 if lower else 0.0
+    for _ in range(6):
+        lat, lon = track.position(guess)
+        p = places(body, guess)
+        lha = wrap_180(p.gha_deg + lon - target)
+        guess = guess - (lha / rate * _NS_PER_HOUR).astype(np.int64).astype("timedelta64[ns]")
+    # bring each passage into its day (a body transits once in about 24 hours)
+    day = np.timedelta64(24 * _NS_PER_HOUR, "ns") * (360.0 / 360.9856 if body not in SOLAR_SYSTEM else 1.0)
+    early = guess < starts
+    guess = np.where(early, guess + day.astype("timedelta64[ns]"), guess)
+    return guess
+
+
+def sun_events(date, lat_deg: float, lon_deg: float, eye_height_m: float = 0.0,
+               course_deg: float = 0.0, speed_kn: float = 0.0) -> dict:
+    """Twilights, sunrise, meridian passage and sunset on the local civil ``date`` (UTC instants).
+
+    ``date`` is the civil date at the longitude (local mean time); the position is the DR at
+    00:00 local time, moving on ``course_deg`` at ``speed_kn``. Sunrise and sunset are the
+    Sun's upper limb on the visible horizon: its centre at −50′ (34′ refraction, 16′
+    semi-diameter; common practice) less the dip for ``eye_height_m``. Civil and nautical
+    twilight: the centre 6° and 12° below the horizon. A key is None when the event does
+    not happen that day (midnight sun, polar night, white nights).
+    """
+    events = voyage_events(date, 1, lat_deg, lon_deg, eye_height_m=eye_height_m,
+                           course_deg=course_deg, speed_kn=speed_kn)
+    return {key: (None if np.isnat(events[key][0]) else events[key][0]) for key in EVENT_KEYS}
+
+
+def _check_position(lat_deg, lon_deg):
+    if not (np.isfinite(lat_deg) and -90.0 <= lat_deg <= 90.0):
+        raise NavredError(f"latitude {lat_deg!r} is outside -90 to 90°")
+    if not (np.isfinite(lon_deg) and -180.0 <= lon_deg <= 360.0):
+        raise NavredError(f"longitude {lon_deg!r} is outside -180 to 180°")
+
+
+def voyage_events(first_date, days: int, lat_deg: float, lon_deg: float, *, eye_height_m: float = 0.0,
+                  course_deg: float = 0.0, speed_kn: float = 0.0) -> dict:
+    """:func:`sun_events` for ``days`` consecutive local dates along a DR track, as arrays."""
+    _check_position(lat_deg, lon_deg)
+    if not 0.0 <= eye_height_m <= 1000.0:
+        raise NavredError(f"height of eye {eye_height_m!r} m is outside 0-1000 m")
+    start = _local_midnight(first_date, lon_deg)
+    track = Track(lat_deg, lon_deg, start, course_deg, speed_kn)
+    # each day starts at local midnight at that day's DR longitude (near enough: iterate once)
+    day_starts = start + np.arange(days) * np.timedelta64(24 * _NS_PER_HOUR, "ns")
+    _, lons = track.position(day_starts)
+    shift = ((wrap_180(lons - lon_deg)) / 15.0 * _NS_PER_HOUR).astype(np.int64).astype("timedelta64[ns]")
+    day_starts = day_starts - shift
+    dip_deg = DIP_ARCMIN_PER_SQRT_M * math.sqrt(eye_height_m) / ARCMIN_PER_DEG
+    rising, setting, _, _ = _crossings(day_starts, track, {
+        "sunrise": SUNRISE_ALTITUDE_DEG - dip_deg, "civil": CIVIL_DEG, "nautical": NAUTICAL_DEG})
+    noon = meridian_passage_utc("Sun", day_starts, track)
+    return {"date": (day_starts + np.timedelta64(12 * _NS_PER_HOUR, "ns")).astype("datetime64[D]"),
+            "nautical_dawn": rising["nautical"], "civil_dawn": rising["civil"], "sunrise": rising["sunrise"],
+            "meridian_passage": noon, "sunset": setting["sunrise"], "civil_dusk": setting["civil"],
+            "nautical_dusk": setting["nautical"], "track": track}
+
+
+def noon_sight(date, lat_deg: float, lon_deg: float, course_deg: float = 0.0, speed_kn: float = 0.0) -> dict:
+    """Local apparent noon at the moving DR and the Sun's predicted altitude then (for presetting).
+
+    Returns ``utc``, ``lat_deg``, ``lon_deg`` (the DR then), ``hc_deg`` (geocentric altitude of
+    the centre, 90° − |φ − δ|) and ``bearing`` ('N' or 'S', where to look).
+    """
+    events = voyage_events(date, 1, lat_deg, lon_deg, course_deg=course_deg, speed_kn=speed_kn)
+    return body_meridian_passage("Sun", events["meridian_passage"][0], events["track"])
+
+
+def body_meridian_passage(body: str, near_utc, track: Track) -> dict:
+    """A body's upper meridian passage nearest ``near_utc`` at the DR, and its altitude then."""
+    start = np.asarray([_as_datetime64(near_utc) - np.timedelta64(12 * _NS_PER_HOUR, "ns")])
+    utc = meridian_passage_utc(body, start, track)[0]
+    lat, lon = track.position(np.array([utc]))
+    p = places(body, np.array([utc]))
+    hc, zn = computed_altitude_azimuth(lat, lon, p.gha_deg, p.dec_deg)
+    return {"utc": utc, "lat_deg": float(lat[0]), "lon_deg": float(lon[0]), "hc_deg": float(hc[0]),
+            "dec_deg": float(p.dec_deg[0]), "bearing": "N" if (zn[0] < 90 or zn[0] > 270) else "S"}
+
+
+# --- Magnitudes -----------------------------------------------------------------------------
+
+#: V(1,0) and phase coefficients, J. Meeus, Astronomical Algorithms (2nd ed., 1998), ch. 41
+#: (from memory). Saturn's rings are left out (up to about ±0.8 mag): these magnitudes only rank.
+_PLANET_MAGNITUDE = {"Venus": (-4.40, 0.0009, 0.000239, -0.00000065), "Mars": (-1.52, 0.016, 0.0, 0.0),
+                     "Jupiter": (-9.40, 0.005, 0.0, 0.0), "Saturn": (-8.88, 0.0, 0.0, 0.0)}
+MOON_MAGNITUDE = -11.0  # a rough figure for ranking (common practice: -12.7 full, about -10 at quarter)
+SUN_MAGNITUDE = -26.7
+
+
+def magnitudes(bodies, utc64) -> np.ndarray:
+    """Visual magnitude of each (body, instant): stars from the catalogue (Hipparcos Hp),
+    planets from their distances and phase angle, the Sun and Moon as fixed figures."""
+    names = np.asarray(bodies, dtype=object)
+    when = np.broadcast_to(np.asarray(utc64, dtype="datetime64[ns]"), names.shape)
+    table = star_table()
+    index = {name: i for i, name in enumerate(table.name)}
+    out = np.array([table.magnitude[index[n]] if n in index else np.nan for n in names.ravel()]).reshape(names.shape)
+    out = np.where(names == "Sun", SUN_MAGNITUDE, np.where(names == "Moon", MOON_MAGNITUDE, out))
+    for planet, (v10, a1, a2, a3) in _PLANET_MAGNITUDE.items():
+        rows = names == planet
+        if rows.any():
+            geo = places(planet, when[rows])
+            sun = places("Sun", when[rows])
+            delta_au = geo.distance_km / 149597870.7
+            earth_sun_au = sun.distance_km / 149597870.7
+            # heliocentric distance from the triangle Sun-Earth-planet (elongation from the places)
+            cos_e = (np.sin(np.radians(geo.dec_deg)) * np.sin(np.radians(sun.dec_deg))
+                     + np.cos(np.radians(geo.dec_deg)) * np.cos(np.radians(sun.dec_deg))
+                     * np.cos(np.radians(15.0 * (geo.ra_hours - sun.ra_hours))))
+            r_au = np.sqrt(delta_au**2 + earth_sun_au**2 - 2 * delta_au * earth_sun_au * cos_e)
+            cos_i = (r_au**2 + delta_au**2 - earth_sun_au**2) / (2 * r_au * delta_au)
+            i = np.degrees(np.arccos(np.clip(cos_i, -1, 1)))
+            out[rows] = v10 + 5 * np.log10(r_au * delta_au) + a1 * i + a2 * i**2 + a3 * i**3
+    return out
+
+
+# --- The sight plan ----------------------------------------------------------------------------
+
+def position_dop(zn_deg) -> np.ndarray:
+    """Position dilution of precision of sets of sights from their azimuths, shape (..., k) -> (...).
+
+    Each sight's line: [cos Zn, sin Zn, 1], the third unknown a common altitude error (the
+    observer's personal error and any refraction anomaly), so that bodies spread round the
+    whole horizon score best (common practice). DOP = √(trace of the position part of
+    (HᵀH)⁻¹); infinite for a set that cannot be solved.
+    """
+    z = np.radians(np.asarray(zn_deg, dtype=float))
+    h = np.stack([np.cos(z), np.sin(z), np.ones_like(z)], axis=-1)
+    normal = np.einsum("...ki,...kj->...ij", h, h)
+    det = np.linalg.det(normal)
+    ok = det > 1e-9
+    inverse = np.linalg.inv(np.where(ok[..., None, None], normal, np.eye(3)))
+    dop = np.sqrt(np.maximum(inverse[..., 0, 0] + inverse[..., 1, 1], 0.0))
+    return np.where(ok, dop, np.inf)
+
+
+def best_set(zn_deg, magnitude, count: int, valid=None, tolerance: float = 0.05):
+    """Indices of the recommended set of ``count`` bodies, its DOP and the least DOP found.
+
+    Every set of ``count`` among the candidates is scored by :func:`position_dop`; of the sets
+    within ``tolerance`` (5 %) of the least DOP the brightest (least summed magnitude) is
+    chosen. ``zn_deg``, ``magnitude``, ``valid`` have shape (plans, candidates); the search is
+    vectorised over plans.
+    """
+    zn = np.atleast_2d(np.asarray(zn_deg, dtype=float))
+    mag = np.atleast_2d(np.asarray(magnitude, dtype=float))
+    valid = np.ones_like(zn, dtype=bool) if valid is None else np.atleast_2d(valid)
+    m = zn.shape[1]
+    if m < count:
+        raise NavredError(f"{m} candidate bodies: a set of {count} needs at least {count}")
+    combos = np.array(list(itertools.combinations(range(m), count)), dtype=int)
+    dop = position_dop(zn[:, combos])  # (plans, combos)
+    usable = valid[:, combos].all(axis=-1)
+    dop = np.where(usable, dop, np.inf)
+    least = dop.min(axis=1)
+    near = dop <= least[:, None] * (1.0 + tolerance)
+    brightness = np.where(near, mag[:, combos].sum(axis=-1), np.inf)
+    score = np.where(near, brightness + dop * 1e-6, np.inf)
+    choice = np.argmin(score, axis=1)
+    plans = np.arange(zn.shape[0])
+    return combos[choice], dop[plans, choice], least
+
+
+@dataclass
+class SightPlan:
+    """The bodies to shoot at one instant from the DR, and the recommended set."""
+
+    utc: np.datetime64
+    lat_deg: float
+    lon_deg: float
+    body: np.ndarray
+    hc_deg: np.ndarray
+    zn_deg: np.ndarray
+    magnitude: np.ndarray
+    moon_separation_deg: np.ndarray
+    recommended: np.ndarray  # bool per candidate
+    dop: float
+    explanation: str
+
+
+def _separation_deg(dec1, ra1_h, dec2, ra2_h):
+    d1, d2 = np.radians(dec1), np.radians(dec2)
+    cos_s = np.sin(d1) * np.sin(d2) + np.cos(d1) * np.cos(d2) * np.cos(np.radians(15.0 * (ra1_h - ra2_h)))
+    return np.degrees(np.arccos(np.clip(cos_s, -1, 1)))
+
+
+def sight_plans(utc64, lat_deg, lon_deg, *, min_alt_deg: float = 15.0, max_alt_deg: float = 70.0,
+                count: int = 3, moon_clear_deg: float = 15.0, max_candidates: int = 18) -> list[SightPlan]:
+    """A sight plan at each instant (vectorised over instants and bodies).
+
+    Candidates: every navigational star, planet and the Moon with Hc within the limits;
+    bodies within ``moon_clear_deg`` of the Moon are left out of the recommended set (its
+    glare spoils the horizon and the star). The ``max_candidates`` brightest candidates are
+    searched exhaustively for the set of ``count`` (3, 4 or 5) with the least position DOP,
+    preferring the brightest among near-equal sets (see :func:`best_set`).
+    """
+    if count not in (3, 4, 5):
+        raise NavredError(f"a recommended set has 3, 4 or 5 bodies, not {count}")
+    if not 0.0 <= min_alt_deg < max_alt_deg <= 90.0:
+        raise NavredError(f"altitude limits {min_alt_deg}-{max_alt_deg}° must satisfy 0 ≤ min < max ≤ 90")
+    when = np.atleast_1d(np.asarray(utc64, dtype="datetime64[ns]"))
+    lat = np.broadcast_to(np.asarray(lat_deg, dtype=float), when.shape)
+    lon = np.broadcast_to(np.asarray(lon_deg, dtype=float), when.shape)
+    names = np.array([b for b in known_bodies() if b != "Sun"], dtype=object)
+    n_plans, n_bodies = when.size, names.size
+    grid_names = np.broadcast_to(names[None, :], (n_plans, n_bodies))
+    grid_when = np.broadcast_to(when[:, None], (n_plans, n_bodies))
+    p = places(grid_names.ravel(), grid_when.ravel())
+    hc, zn = computed_altitude_azimuth(np.repeat(lat, n_bodies), np.repeat(lon, n_bodies), p.gha_deg, p.dec_deg)
+    hc, zn = hc.reshape(n_plans, n_bodies), zn.reshape(n_plans, n_bodies)
+    dec, ra = p.dec_deg.reshape(n_plans, n_bodies), p.ra_hours.reshape(n_plans, n_bodies)
+    moon = int(np.flatnonzero(names == "Moon")[0])
+    moon_sep = _separation_deg(dec, ra, dec[:, [moon]], ra[:, [moon]])
+    moon_sep[:, moon] = 0.0
+    mag = magnitudes(grid_names.ravel(), grid_when.ravel()).reshape(n_plans, n_bodies)
+    in_limits = (hc >= min_alt_deg) & (hc <= max_alt_deg)
+    moon_up = hc[:, [moon]] > -1.0
+    clear = (moon_sep >= moon_clear_deg) | ~moon_up
+    clear[:, moon] = True
+    # candidate slots: the brightest bodies within the limits and clear of the Moon
+    order = np.argsort(np.where(in_limits & clear, mag, np.inf), axis=1, kind="stable")[:, :max_candidates]
+    slots_valid = np.take_along_axis(in_limits & clear, order, axis=1)
+    plans = []
+    if slots_valid.sum(axis=1).min() >= count:
+        chosen, dop, least = best_set(np.take_along_axis(zn, order, axis=1),
+                                      np.take_along_axis(mag, order, axis=1), count, slots_valid)
+    else:
+        chosen = dop = least = None
+    for k in range(n_plans):
+        visible = np.flatnonzero(in_limits[k])
+        recommended = np.zeros(visible.size, dtype=bool)
+        if chosen is not None and np.isfinite(dop[k]):
+            picked = order[k, chosen[k]]
+            recommended = np.isin(visible, picked)
+            explanation = (f"{', '.join(names[picked])}: position dilution of precision {dop[k]:.2f}; "
+                           f"every set of {count} of the {int(slots_valid[k].sum())} brightest bodies between "
+                           f"{min_alt_deg:g}° and {max_alt_deg:g}°"
+                           f"{f' and at least {moon_clear_deg:g}° from the Moon' if moon_up[k, 0] else ''} was "
+                           f"scored; the least DOP was {least[k]:.2f} and among sets within 5 % of it the "
+                           "brightest was taken (DOP counts a common altitude error, so bodies spread round "
+                           "the horizon win)")
+        else:
+            explanation = (f"fewer than {count} bodies between {min_alt_deg:g}° and {max_alt_deg:g}° "
+                           "clear of the Moon: no set recommended")
+        plans.append(SightPlan(when[k], float(lat[k]), float(lon[k]), names[visible], hc[k, visible],
+                               zn[k, visible], mag[k, visible], moon_sep[k, visible], recommended,
+                               float(dop[k]) if chosen is not None else float("inf"), explanation))
+    return plans
+
+
+def twilight_plans(first_date, days: int, lat_deg: float, lon_deg: float, *, course_deg: float = 0.0,
+                   speed_kn: float = 0.0, eye_height_m: float = 0.0, **plan_options) -> tuple[dict, list[SightPlan]]:
+    """Twilight times and a sight plan for every morning and evening of a passage.
+
+    Star sights are planned midway between civil and nautical twilight, when stars and
+    horizon are both in view (common practice). Returns the events (see
+    :func:`voyage_events`) and the plans, morning then evening for each day, skipping
+    twilights that do not happen.
+    """
+    events = voyage_events(first_date, days, lat_deg, lon_deg, eye_height_m=eye_height_m,
+                           course_deg=course_deg, speed_kn=speed_kn)
+    times = []
+    for dawn, dusk in ((events["nautical_dawn"], events["civil_dawn"]), (events["civil_dusk"], events["nautical_dusk"])):
+        ok = ~np.isnat(dawn) & ~np.isnat(dusk)
+        middle = np.where(ok, dawn + (dusk - dawn) // 2, np.datetime64("NaT"))
+        times.append(middle)
+    when = np.stack(times, axis=1).ravel()
+    when = when[~np.isnat(when)]
+    if when.size == 0:
+        return events, []
+    lat, lon = events["track"].position(when)
+    return events, sight_plans(when, lat, lon, **plan_options)
+
+
+# --- Compass checks ------------------------------------------------------------------------
+
+def amplitude_deg(dec_deg, lat_deg, altitude_deg=0.0):
+    """Amplitude (degrees, positive toward north) of a body at the given true altitude.
+
+    At true rising or setting (altitude 0) sin A = sin δ / cos φ (common practice); at any
+    altitude, exactly, cos Z = (sin δ − sin φ sin h) / (cos φ cos h) with A = 90° − Z.
+    Rising bearing = 090° − A, setting bearing = 270° + A. NaN where the body does not
+    reach that altitude.
+    """
+    phi = np.radians(np.asarray(lat_deg, dtype=float))
+    dec = np.radians(np.asarray(dec_deg, dtype=float))
+    h = np.radians(np.asarray(altitude_deg, dtype=float))
+    cos_z = (np.sin(dec) - np.sin(phi) * np.sin(h)) / (np.cos(phi) * np.cos(h))
+    with np.errstate(invalid="ignore"):
+        return np.where(np.abs(cos_z) <= 1.0, 90.0 - np.degrees(np.arccos(np.clip(cos_z, -1, 1))), np.nan)
+
+
+def visible_horizon_altitude_deg(eye_height_m=0.0):
+    """True altitude of a body's centre when it appears on the visible sea horizon (degrees).
+
+    The apparent altitude is −dip; refraction there (Bennett at −dip) lowers the true
+    altitude further: h = −dip − R(−dip). At sea level −34.5′.
+    """
+    dip_arcmin = DIP_ARCMIN_PER_SQRT_M * np.sqrt(np.asarray(eye_height_m, dtype=float))
+    apparent = -dip_arcmin / ARCMIN_PER_DEG
+    return apparent - refraction_arcmin(np.maximum(apparent, -1.0)) / ARCMIN_PER_DEG
+
+
+def true_azimuth(body: str, utc, lat_deg, lon_deg):
+    """True azimuth Zn and computed altitude Hc (degrees) of a body at instants and positions."""
+    p = places(body, utc)
+    hc, zn = computed_altitude_azimuth(lat_deg, lon_deg, p.gha_deg, p.dec_deg)
+    return zn, hc
+
+
+def compass_error_deg(true_bearing_deg, compass_bearing_deg):
+    """Compass error (degrees, east positive): true − compass ("compass least, error east")."""
+    return wrap_180(np.asarray(true_bearing_deg, dtype=float) - np.asarray(compass_bearing_deg, dtype=float))
+
+
+def deviation_deg(compass_error, variation_deg):
+    """Deviation (degrees, east positive) = compass error − variation (variation east positive)."""
+    return wrap_180(np.asarray(compass_error, dtype=float) - np.asarray(variation_deg, dtype=float))
+
+
+# --- Identifying an unknown body -----------------------------------------------------------
+
+def identify(altitude_deg: float, azimuth_deg: float, utc, lat_deg: float, lon_deg: float, *,
+             altitude_sigma_deg: float = 1.0, azimuth_sigma_deg: float = 3.0) -> dict:
+    """Catalogue bodies ranked by how well they match an observed altitude and azimuth.
+
+    The score is √((ΔH/σH)² + (ΔZ/σZ)²) with the expected errors of a rough observation
+    (1° in altitude from a sextant read roughly, 3° in azimuth from a hand bearing
+    compass); the lowest score ranks first. Returns arrays ``body``, ``hc_deg``, ``zn_deg``,
+    ``altitude_difference_deg``, ``azimuth_difference_deg`` and ``score``, best first.
+    """
+    names = np.array(known_bodies(), dtype=object)
+    p = places(names, np.full(names.size, _as_datetime64(utc)))
+    hc, zn = computed_altitude_azimuth(lat_deg, lon_deg, p.gha_deg, p.dec_deg)
+    d_alt = altitude_deg - hc
+    d_az = wrap_180(azimuth_deg - zn)
+    score = np.hypot(d_alt / altitude_sigma_deg, d_az / azimuth_sigma_deg)
+    order = np.argsort(score, kind="stable")
+    return {"body": names[order], "hc_deg": hc[order], "zn_deg": zn[order],
+            "altitude_difference_deg": d_alt[order], "azimuth_difference_deg": d_az[order],
+            "score": score[order]}

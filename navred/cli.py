@@ -317,6 +317,225 @@ def workbook_command(
             raise typer.Exit(code=1)
 
 
+def _time_text(value) -> str:
+    import numpy as np
+
+    if value is None or (isinstance(value, np.datetime64) and np.isnat(value)):
+        return "-"
+    return str(value)[:19].replace("T", " ")
+
+
+def _plan_frame(plan):
+    import pandas as pd
+
+    from .angles import format_angle
+
+    frame = pd.DataFrame({"body": plan.body, "hc_deg": plan.hc_deg, "zn_deg": plan.zn_deg,
+                          "magnitude": plan.magnitude, "moon_separation_deg": plan.moon_separation_deg,
+                          "recommended": plan.recommended})
+    frame.insert(0, "utc", _time_text(plan.utc))
+    frame["hc"] = [format_angle(v, "signed") for v in plan.hc_deg]
+    return frame.sort_values("zn_deg").reset_index(drop=True)
+
+
+def _print_plan(plan, label: str) -> None:
+    from .angles import format_angle
+
+    typer.echo(f"{label}: {_time_text(plan.utc)} UTC at {format_angle(plan.lat_deg, 'lat')} "
+               f"{format_angle(plan.lon_deg, 'lon')}")
+    typer.echo(f"  {'body':<16}{'Hc (preset)':>12}{'Zn':>8}{'mag':>6}  {'from Moon':>9}")
+    frame = _plan_frame(plan)
+    for row in frame.itertuples():
+        mark = "  <- recommended" if row.recommended else ""
+        typer.echo(f"  {row.body:<16}{row.hc:>12}{row.zn_deg:7.1f}°{row.magnitude:6.1f}  "
+                   f"{row.moon_separation_deg:8.0f}°{mark}")
+    typer.echo(f"  choice: {plan.explanation}")
+
+
+def _angle_option(text: str | None, kind: str, name: str):
+    from .angles import parse_angle
+
+    if text is None:
+        raise NavredError(f"{name} is required")
+    return float(parse_angle(text, kind))
+
+
+@app.command("plan")
+def plan_command(
+    date: str = typer.Option(..., "--date", help="Local civil date of the first day, e.g. 2026-03-26."),
+    lat: str = typer.Option(..., "--lat", help="DR latitude at 00:00 local time, e.g. '43 16.6 N'."),
+    lon: str = typer.Option(..., "--lon", help="DR longitude at 00:00 local time, e.g. '013 11.4 W'."),
+    course: float = typer.Option(0.0, "--course", help="Course to steer (degrees true) for the DR track."),
+    speed: float = typer.Option(0.0, "--speed", help="Speed (knots) for the DR track."),
+    days: int = typer.Option(1, "--days", min=1, max=400, help="How many days to plan."),
+    eye: float = typer.Option(0.0, "--eye", help="Height of eye in metres (dip at sunrise and sunset)."),
+    count: int = typer.Option(3, "--count", help="Bodies in the recommended set: 3, 4 or 5."),
+    min_alt: float = typer.Option(15.0, "--min-alt", help="Lowest altitude to plan (degrees)."),
+    max_alt: float = typer.Option(70.0, "--max-alt", help="Highest altitude to plan (degrees)."),
+    at: str | None = typer.Option(None, "--at", help="Plan at this instant instead of at the twilights (ISO 8601 with a zone)."),
+    csv_out: str | None = typer.Option(None, "--csv", help="Write the twilight times and every plan as CSV (two files: NAME and NAME with -plans)."),
+    sky: str | None = typer.Option(None, "--sky", help="Draw the first plan's sky as PNG or SVG to this file."),
+) -> None:
+    """Twilight times along the DR track and a sight plan for each twilight (or one instant).
+
+    Sunrise, sunset, civil and nautical twilight and local apparent noon for each day, the
+    Sun's noon altitude, and every star, planet and the Moon between the altitude limits at
+    the middle of each twilight with Hc to preset the sextant, Zn and magnitude, and the
+    recommended set of bodies.
+
+    Example:  navred plan --date 2026-03-26 --lat "44 30 N" --lon "012 00 W" --course 215 --speed 6.5 --sky sky.png
+    """
+    import numpy as np
+    import pandas as pd
+
+    from .angles import format_angle
+    from .plan import EVENT_KEYS, body_meridian_passage, sight_plans, twilight_plans
+
+    with _reported():
+        lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
+        events, plans = twilight_plans(date, days, lat_deg, lon_deg, course_deg=course, speed_kn=speed,
+                                       eye_height_m=eye, count=count, min_alt_deg=min_alt, max_alt_deg=max_alt)
+        if at is not None:
+            from .plan import _as_datetime64
+
+            when = _as_datetime64(at)
+            la, lo = events["track"].position(np.array([when]))
+            plans = sight_plans(np.array([when]), la, lo, count=count, min_alt_deg=min_alt, max_alt_deg=max_alt)
+        typer.echo(f"{'date':<12}" + "".join(f"{k.replace('_', ' '):>18}" for k in EVENT_KEYS) + "   noon Hc")
+        rows = []
+        for d in range(days):
+            values = {k: events[k][d] for k in EVENT_KEYS}
+            noon = body_meridian_passage("Sun", values["meridian_passage"], events["track"])
+            typer.echo(f"{str(events['date'][d]):<12}" + "".join(f"{_time_text(values[k])[11:19]:>18}" for k in EVENT_KEYS)
+                       + f"   {format_angle(noon['hc_deg'], 'signed')} {noon['bearing']}")
+            rows.append({"date": str(events["date"][d]), **{k: _time_text(values[k]) for k in EVENT_KEYS},
+                         "noon_lat_deg": noon["lat_deg"], "noon_lon_deg": noon["lon_deg"],
+                         "noon_hc_deg": noon["hc_deg"], "noon_bearing": noon["bearing"]})
+        typer.echo("times are UTC; '-' means the event does not happen that day")
+        typer.echo("")
+        for k, plan in enumerate(plans):
+            label = "Sight plan" if at is not None else f"Twilight {k + 1}"
+            _print_plan(plan, label)
+            typer.echo("")
+        if csv_out:
+            from pathlib import Path
+
+            from .workbook import atomic_write
+
+            target = Path(csv_out)
+            atomic_write(target, lambda p: pd.DataFrame(rows).to_csv(p, index=False))
+            plans_file = target.with_name(target.stem + "-plans" + target.suffix)
+            table = pd.concat([_plan_frame(p) for p in plans], ignore_index=True) if plans else pd.DataFrame()
+            atomic_write(plans_file, lambda p: table.to_csv(p, index=False))
+            typer.echo(f"wrote {target} and {plans_file}")
+        if sky and plans:
+            from .plotting import save_figure, sky_picture
+            from .workbook import atomic_write
+
+            atomic_write(sky, lambda p: save_figure(sky_picture(plans[0]), p))
+            typer.echo(f"wrote {sky}")
+
+
+@app.command("compass")
+def compass_command(
+    body: str = typer.Argument(..., help="The body whose bearing was taken (Sun, a star, a planet, the Moon)."),
+    utc: str = typer.Option(..., "--utc", "-t", help="Instant of the bearing, ISO 8601 with a zone."),
+    lat: str = typer.Option(..., "--lat", help="DR latitude."),
+    lon: str = typer.Option(..., "--lon", help="DR longitude."),
+    bearing: float | None = typer.Option(None, "--compass-bearing", help="The bearing read on the compass (degrees)."),
+    variation: float = typer.Option(0.0, "--variation", help="Magnetic variation from the chart, degrees, east positive."),
+    heading: float | None = typer.Option(None, "--heading", help="Ship's compass heading then, for the deviation card."),
+    card: str | None = typer.Option(None, "--card", help="CSV deviation card to add this check to (created if absent); it is printed."),
+    eye: float = typer.Option(0.0, "--eye", help="Height of eye in metres (amplitude at the visible horizon)."),
+) -> None:
+    """Compass check: a body's true azimuth, the compass error and deviation, and the Sun's amplitudes.
+
+    Example:  navred compass Sun --utc 2026-03-26T17:30:00Z --lat "43 20 N" --lon "013 10 W" --compass-bearing 262 --variation -4 --heading 215
+    """
+    from pathlib import Path
+
+    import numpy as np
+    import pandas as pd
+
+    from .almanac import places
+    from .angles import format_angle
+    from .plan import (
+        amplitude_deg,
+        compass_error_deg,
+        deviation_deg,
+        true_azimuth,
+        visible_horizon_altitude_deg,
+    )
+    from .stars import canonical_body_name
+    from .workbook import atomic_write
+
+    with _reported():
+        lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
+        name = canonical_body_name(body)
+        zn, hc = true_azimuth(name, utc, lat_deg, lon_deg)
+        zn, hc = float(zn[0] if np.ndim(zn) else zn), float(hc[0] if np.ndim(hc) else hc)
+        typer.echo(f"{name} at {utc}: true azimuth Zn {zn:05.1f}°, altitude {format_angle(hc, 'signed')}")
+        dec = float(np.ravel(places(name, utc).dec_deg)[0])
+        for label, altitude in (("true horizon", 0.0), ("visible horizon", float(visible_horizon_altitude_deg(eye)))):
+            a = float(amplitude_deg(dec, lat_deg, altitude))
+            if np.isnan(a):
+                typer.echo(f"  amplitude ({label}): the body does not rise or set at this latitude")
+                continue
+            side = "N" if a >= 0 else "S"
+            typer.echo(f"  amplitude ({label}): rising E {abs(a):.1f}° {side} (Zn {90 - a:05.1f}°), "
+                       f"setting W {abs(a):.1f}° {side} (Zn {270 + a:05.1f}°)")
+        if bearing is None:
+            return
+        error = float(compass_error_deg(zn, bearing))
+        deviation = float(deviation_deg(error, variation))
+        typer.echo(f"  compass {bearing:05.1f}°: compass error {abs(error):.1f}° {'E' if error >= 0 else 'W'}, "
+                   f"variation {abs(variation):.1f}° {'E' if variation >= 0 else 'W'}, "
+                   f"deviation {abs(deviation):.1f}° {'E' if deviation >= 0 else 'W'}")
+        if card:
+            path = Path(card)
+            row = {"utc": utc, "body": name, "lat_deg": lat_deg, "lon_deg": lon_deg,
+                   "compass_heading_deg": heading, "compass_bearing_deg": bearing, "true_bearing_deg": round(zn, 2),
+                   "compass_error_deg": round(error, 2), "variation_deg": variation,
+                   "deviation_deg": round(deviation, 2)}
+            table = pd.read_csv(path) if path.exists() else pd.DataFrame()
+            table = pd.concat([table, pd.DataFrame([row])], ignore_index=True)
+            atomic_write(path, lambda p: table.to_csv(p, index=False))
+            typer.echo(f"deviation card {path} ({len(table)} checks):")
+            typer.echo(table[["utc", "body", "compass_heading_deg", "compass_error_deg", "deviation_deg"]]
+                       .to_string(index=False))
+
+
+@app.command("identify")
+def identify_command(
+    utc: str = typer.Option(..., "--utc", "-t", help="Instant of the observation, ISO 8601 with a zone."),
+    lat: str = typer.Option(..., "--lat", help="DR latitude."),
+    lon: str = typer.Option(..., "--lon", help="DR longitude."),
+    altitude: float = typer.Option(..., "--alt", help="Approximate altitude of the unknown body (degrees)."),
+    azimuth: float = typer.Option(..., "--az", help="Approximate true bearing of the unknown body (degrees)."),
+    top: int = typer.Option(5, "--top", help="How many candidates to list."),
+    csv: bool = typer.Option(False, "--csv", help="Print the whole ranking as CSV."),
+) -> None:
+    """Which body was that? Catalogue bodies ranked against a rough altitude and bearing.
+
+    Example:  navred identify --utc 2026-03-26T19:45:00Z --lat "43 17 N" --lon "013 11 W" --alt 30 --az 186
+    """
+    import pandas as pd
+
+    from .plan import identify
+
+    with _reported():
+        lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
+        ranked = pd.DataFrame(identify(altitude, azimuth, utc, lat_deg, lon_deg))
+        if csv:
+            typer.echo(ranked.to_csv(index=False, float_format="%.3f"), nl=False)
+            return
+        typer.echo(f"{'rank':>4}  {'body':<16}{'Hc':>8}{'Zn':>8}{'ΔH':>7}{'ΔZ':>7}{'score':>7}")
+        for rank, row in enumerate(ranked.head(top).itertuples(), start=1):
+            typer.echo(f"{rank:>4}  {row.body:<16}{row.hc_deg:7.1f}°{row.zn_deg:7.1f}°"
+                       f"{row.altitude_difference_deg:+6.1f}°{row.azimuth_difference_deg:+6.1f}°{row.score:7.2f}")
+        typer.echo("score: the differences in units of 1° of altitude and 3° of bearing; lowest first")
+
+
 @app.command("bodies")
 def bodies_command() -> None:
     """List every body navred knows, with the stars' list numbers and magnitudes.

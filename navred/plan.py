@@ -314,17 +314,20 @@ def _separation_deg(dec1, ra1_h, dec2, ra2_h):
 
 
 def sight_plans(utc64, lat_deg, lon_deg, *, min_alt_deg: float = 15.0, max_alt_deg: float = 70.0,
-                count: int = 3, moon_clear_deg: float = 15.0, max_candidates: int = 18) -> list[SightPlan]:
+                count: int = 3, moon_clear_deg: float = 15.0, max_candidates: int | None = None) -> list[SightPlan]:
     """A sight plan at each instant (vectorised over instants and bodies).
 
     Candidates: every navigational star, planet and the Moon with Hc within the limits;
     bodies within ``moon_clear_deg`` of the Moon are left out of the recommended set (its
-    glare spoils the horizon and the star). The ``max_candidates`` brightest candidates are
+    glare spoils the horizon and the star). The ``max_candidates`` brightest candidates
+    (default 18 for sets of 3 or 4, 15 for sets of 5: 816, 3,060 and 3,003 sets) are
     searched exhaustively for the set of ``count`` (3, 4 or 5) with the least position DOP,
     preferring the brightest among near-equal sets (see :func:`best_set`).
     """
     if count not in (3, 4, 5):
         raise NavredError(f"a recommended set has 3, 4 or 5 bodies, not {count}")
+    if max_candidates is None:
+        max_candidates = 15 if count == 5 else 18
     if not 0.0 <= min_alt_deg < max_alt_deg <= 90.0:
         raise NavredError(f"altitude limits {min_alt_deg}-{max_alt_deg}° must satisfy 0 ≤ min < max ≤ 90")
     when = np.atleast_1d(np.asarray(utc64, dtype="datetime64[ns]"))

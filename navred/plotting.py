@@ -172,3 +172,44 @@ def save_figure(figure, path) -> None:
     fmt = target.suffix.lstrip(".").lower() or "png"
     with matplotlib.rc_context({"svg.fonttype": "none"}):
         figure.savefig(target, facecolor=figure.get_facecolor(), format=fmt)
+
+
+def sky_picture(plan, *, title: str = ""):
+    """A polar picture of the sky for a sight plan: azimuth around, altitude inward.
+
+    The zenith is at the centre and the horizon at the rim; bearings run clockwise from
+    north at the top, as on a compass card. Every candidate is labelled; the recommended
+    set is ringed and joined to the centre.
+    """
+    import matplotlib
+
+    matplotlib.use("Agg")
+    from matplotlib.figure import Figure
+
+    figure = Figure(figsize=(7.5, 8.0), dpi=110, facecolor=PAPER)
+    ax = figure.add_axes([0.08, 0.1, 0.84, 0.78], projection="polar", facecolor="#e9eef5")
+    ax.set_theta_zero_location("N")
+    ax.set_theta_direction(-1)
+    ax.set_rlim(0, 90)
+    ax.set_rticks([20, 45, 70, 90])
+    ax.set_yticklabels(["70°", "45°", "20°", "0°"], fontsize=7, color=INK)
+    ax.set_xticks(np.radians(np.arange(0, 360, 45)))
+    ax.set_xticklabels(["N 000°", "045°", "E 090°", "135°", "S 180°", "225°", "W 270°", "315°"], fontsize=8)
+    ax.grid(color=GRID, lw=0.7)
+    theta = np.radians(plan.zn_deg)
+    radius = 90.0 - plan.hc_deg
+    size = np.clip(60 - 14 * np.nan_to_num(plan.magnitude, nan=2.0), 8, 140)
+    ax.scatter(theta, radius, s=size, c=INK, zorder=3)
+    for t, r, name, chosen in zip(theta, radius, plan.body, plan.recommended):
+        ax.annotate(str(name), (t, r), xytext=(5, 4), textcoords="offset points", fontsize=7,
+                    color=FIX if chosen else INK, weight="bold" if chosen else "normal")
+        if chosen:
+            ax.scatter([t], [r], s=260, facecolors="none", edgecolors=FIX, linewidths=1.8, zorder=4)
+            ax.plot([0, t], [0, r], color=FIX, lw=0.8, alpha=0.6, zorder=2)
+    figure.suptitle(title or "Sight plan", x=0.08, ha="left", fontsize=11, color=INK, weight="bold")
+    figure.text(0.08, 0.935, f"{str(plan.utc)[:16].replace('T', ' ')} UTC at {format_angle(plan.lat_deg, 'lat')} "
+                f"{format_angle(plan.lon_deg, 'lon')} · ringed: the recommended set (DOP {plan.dop:.2f})",
+                fontsize=8, color=INK)
+    figure.text(0.08, 0.02, "Zenith at the centre, horizon at the rim. An aid, not a sole means of navigation.",
+                fontsize=7, color=INK, style="italic")
+    return figure

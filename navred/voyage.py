@@ -44,6 +44,9 @@ class VoyageResult:
     rejected: pd.DataFrame
     groups: list[GroupFix]
     provenance: dict[str, str] = field(default_factory=dict)
+    #: the sight plan for the next twilight after the last fix, from it along the last course and speed
+    next_plan: object | None = None
+    next_events: dict | None = None
 
     @property
     def n_reduced(self) -> int:
@@ -104,7 +107,39 @@ def process_log(path, *, solve_motion: bool = False, progress=None) -> VoyageRes
                       f"{', '.join(sorted(set(reduced.ut1_source[~failed])))}") if len(dut1) else "none",
         "refraction": "Bennett (1982), scaled for temperature and pressure",
     }
-    return VoyageResult(str(path), raw, reduced, rejected, groups, provenance)
+    result = VoyageResult(str(path), raw, reduced, rejected, groups, provenance)
+    result.next_events, result.next_plan = _next_twilight_plan(result)
+    return result
+
+
+def _next_twilight_plan(voyage: VoyageResult):
+    """Plan the next twilight that begins after the latest fix, carried on from the fix by the last
+    sight's course and speed."""
+    from .plan import Track, sight_plans, voyage_events
+
+    fixes = [g for g in voyage.groups if g.fix is not None]
+    if not fixes:
+        return None, None
+    latest = max(fixes, key=lambda g: g.fix.utc)
+    last_row = voyage.reduced.iloc[latest.rows[-1]]
+    course = float(pd.to_numeric(pd.Series([last_row.get("course_deg", 0.0)]), errors="coerce").fillna(0.0)[0])
+    speed = float(pd.to_numeric(pd.Series([last_row.get("speed_kn", 0.0)]), errors="coerce").fillna(0.0)[0])
+    fix = latest.fix
+    when = np.datetime64(fix.utc, "ns")
+    date = str((when + np.timedelta64(int(fix.lon_deg / 15 * 3.6e12), "ns")).astype("datetime64[D]"))
+    events = voyage_events(date, 2, fix.lat_deg, fix.lon_deg, course_deg=course, speed_kn=speed)
+    track = Track(fix.lat_deg, fix.lon_deg, when, course, speed)
+    candidates = []
+    for dawn, dusk in (("nautical_dawn", "civil_dawn"), ("civil_dusk", "nautical_dusk")):
+        for a, b in zip(events[dawn], events[dusk]):
+            # the next twilight that begins after the last fix (not the one just used)
+            if not (np.isnat(a) or np.isnat(b)) and a > when:
+                candidates.append(a + (b - a) // 2)
+    if not candidates:
+        return events, None
+    at = min(candidates)
+    lat, lon = track.position(np.array([at]))
+    return events, sight_plans(np.array([at]), lat, lon)[0]
 
 
 def _reduce_with_progress(sights: pd.DataFrame, progress) -> pd.DataFrame:

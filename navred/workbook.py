@@ -211,6 +211,8 @@ def write_workbook(voyage, path, *, plots: bool = True) -> Path:
         ("Fixes", "one row per fix group: position, 95 % ellipse, sight error, flagged sights, chart check; "
                   "the plotting sheets below the table"),
         ("Rejected", "every row that could not be reduced, with the column, the value and why"),
+        ("Sight plan", "the next twilight after the last fix: bodies to shoot with Hc to preset and Zn, the "
+                       "recommended set and why, and a picture of the sky"),
     ):
         line += 1
         about.cell(row=line, column=1, value=name)
@@ -227,6 +229,8 @@ def write_workbook(voyage, path, *, plots: bool = True) -> Path:
     _write_sheet(fixes_sheet, fixes, wide={"note": 80, "σ from": 30})
     rejected = voyage.rejected.rename(columns={"row": "row in log"})
     _write_sheet(book.create_sheet("Rejected"), rejected, wide={"reason": 90})
+    if voyage.next_plan is not None:
+        _write_plan_sheet(book.create_sheet("Sight plan"), voyage.next_plan, plots)
 
     if plots:
         anchor_row = len(fixes) + 4
@@ -242,6 +246,45 @@ def write_workbook(voyage, path, *, plots: bool = True) -> Path:
             fixes_sheet.add_image(image, f"A{anchor_row}")
             anchor_row += 30
     return atomic_write(path, book.save)
+
+
+def plan_table(plan) -> pd.DataFrame:
+    """A sight plan as a table: one row per body, in order of bearing."""
+    order = np.argsort(plan.zn_deg)
+    return pd.DataFrame({
+        "body": plan.body[order],
+        "Hc to preset (° ′)": [format_angle(v, "signed") for v in plan.hc_deg[order]],
+        "Hc (deg)": plan.hc_deg[order],
+        "Zn (deg true)": plan.zn_deg[order],
+        "magnitude": plan.magnitude[order],
+        "from the Moon (deg)": plan.moon_separation_deg[order],
+        "recommended": np.where(plan.recommended[order], "yes", ""),
+    })
+
+
+def _write_plan_sheet(sheet, plan, plots: bool) -> None:
+    from openpyxl.drawing.image import Image
+    from openpyxl.styles import Font
+
+    table = plan_table(plan)
+    _write_sheet(sheet, table)
+    line = len(table) + 3
+    sheet.cell(row=line, column=1, value="When and where").font = Font(bold=True)
+    sheet.cell(row=line, column=2, value=f"{str(plan.utc)[:19].replace('T', ' ')} UTC, DR "
+               f"{format_angle(plan.lat_deg, 'lat')} {format_angle(plan.lon_deg, 'lon')} (midway between civil "
+               "and nautical twilight)")
+    sheet.cell(row=line + 1, column=1, value="How the set was chosen").font = Font(bold=True)
+    sheet.cell(row=line + 1, column=2, value=plan.explanation)
+    if plots:
+        from .plotting import sky_picture
+
+        png = io.BytesIO()
+        figure = sky_picture(plan, title="Sight plan: the next twilight")
+        figure.savefig(png, format="png", facecolor=figure.get_facecolor())
+        png.seek(0)
+        image = Image(png)
+        image.width, image.height = 520, 555
+        sheet.add_image(image, f"A{line + 4}")
 
 
 def plotting_figure(voyage, group):

@@ -120,6 +120,25 @@ def main() -> None:
     frame.to_excel(OUT / "demo_sights.xlsx", index=False, sheet_name="sights")
     pd.DataFrame(truth).to_csv(OUT / "demo_truth.csv", index=False)
     print(f"wrote {len(frame)} invented sights to {OUT}")
+    write_sight_plan()
+
+
+def write_sight_plan() -> None:
+    """The passage's sight plan for its first two days, made by navred from the DR track."""
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+
+    start_lat = f"{int(START_LAT)} {START_LAT % 1 * 60:04.1f} N"
+    start_lon = f"{int(abs(START_LON)):03d} {abs(START_LON) % 1 * 60:04.1f} W"
+    result = CliRunner().invoke(app, [
+        "plan", "--date", "2026-03-26", "--lat", start_lat, "--lon", start_lon, "--course", str(COURSE_DEG),
+        "--speed", str(SPEED_KN), "--days", "2", "--eye", str(EYE_HEIGHT_M), "--count", "4",
+        "--csv", str(OUT / "demo_sight_plan.csv"), "--sky", str(OUT / "demo_sky.svg")])
+    if result.exit_code:
+        raise SystemExit(result.output)
+    (OUT / "demo_sight_plan.txt").write_text(result.output)
+    print(f"wrote the sight plan to {OUT}")
 
 
 if __name__ == "__main__":

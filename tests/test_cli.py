@@ -53,7 +53,7 @@ def test_bodies_lists_the_catalogue():
 
 
 def test_help_on_every_command_has_an_example():
-    for command in ("almanac", "bodies", "reduce", "fix", "workbook"):
+    for command in ("almanac", "bodies", "reduce", "fix", "workbook", "plan", "compass", "identify"):
         result = runner.invoke(app, [command, "--help"])
         assert result.exit_code == 0
         assert "Example:" in result.output
@@ -153,3 +153,32 @@ def test_python_dash_m_navred_works():
 
     done = subprocess.run([sys.executable, "-m", "navred", "--version"], capture_output=True, text=True, check=False)
     assert done.returncode == 0 and done.stdout.startswith("navred ")
+
+
+def test_plan_command_prints_twilights_and_plans(tmp_path):
+    result = runner.invoke(app, ["plan", "--date", "2026-03-26", "--lat", "44 30 N", "--lon", "012 00 W",
+                                 "--course", "215", "--speed", "6.5", "--days", "2", "--count", "4",
+                                 "--csv", str(tmp_path / "plan.csv"), "--sky", str(tmp_path / "sky.svg")])
+    assert result.exit_code == 0, result.output
+    assert "nautical dawn" in result.output and "Twilight 4:" in result.output
+    assert result.output.count("<- recommended") == 16
+    events = pd.read_csv(tmp_path / "plan.csv")
+    plans = pd.read_csv(tmp_path / "plan-plans.csv")
+    assert len(events) == 2 and plans.recommended.sum() == 16
+    assert (tmp_path / "sky.svg").read_text().count("<svg") == 1
+    polar = runner.invoke(app, ["plan", "--date", "2024-06-21", "--lat", "78 N", "--lon", "15 E"])
+    assert polar.exit_code == 0 and "does not happen" in polar.output
+
+
+def test_compass_and_identify_commands(tmp_path):
+    card = tmp_path / "card.csv"
+    for bearing in ("262", "263"):
+        result = runner.invoke(app, ["compass", "Sun", "--utc", "2026-03-26T17:30:00Z", "--lat", "43 20 N",
+                                     "--lon", "013 10 W", "--compass-bearing", bearing, "--variation", "-4",
+                                     "--heading", "215", "--card", str(card)])
+        assert result.exit_code == 0, result.output
+    assert "deviation" in result.output and "amplitude" in result.output
+    assert len(pd.read_csv(card)) == 2
+    found = runner.invoke(app, ["identify", "--utc", "2026-03-26T19:45:00Z", "--lat", "43 17 N", "--lon", "013 11 W",
+                                "--alt", "30", "--az", "186"])
+    assert found.exit_code == 0 and found.output.splitlines()[1].split()[1] == "Sirius"

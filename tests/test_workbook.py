@@ -37,7 +37,7 @@ def test_every_input_row_is_in_the_workbook_and_values_read_back(mixed_log, tmp_
     voyage = process_log(path)
     out = write_workbook(voyage, tmp_path / "voyage.xlsx")
     book = openpyxl.load_workbook(out)
-    assert book.sheetnames == ["About", "Sights as read", "Working", "Fixes", "Rejected"]
+    assert book.sheetnames == ["About", "Sights as read", "Working", "Fixes", "Rejected", "Sight plan"]
     working = pd.DataFrame(list(book["Working"].values)[1:], columns=list(book["Working"].values)[0])
     rejected = pd.DataFrame(list(book["Rejected"].values)[1:], columns=list(book["Rejected"].values)[0])
     as_read = list(book["Sights as read"].values)
@@ -76,6 +76,17 @@ def test_unknown_columns_reach_the_working_sheet(tmp_path):
     values = list(book["Working"].values)
     assert "cadet_note" in values[0]
     assert [row[values[0].index("cadet_note")] for row in values[1:]] == [f"note {i}" for i in range(len(demo))]
+
+
+def test_the_workbook_plans_the_next_twilight(mixed_log, tmp_path):
+    voyage = process_log(mixed_log[0])
+    plan = voyage.next_plan
+    last_fix = max(g.fix.utc for g in voyage.groups if g.fix is not None)
+    assert plan.utc > last_fix + np.timedelta64(6, "h")  # the morning after the evening stars
+    assert plan.recommended.sum() == 3
+    book = openpyxl.load_workbook(write_workbook(voyage, tmp_path / "v.xlsx"))
+    cells = [c for row in book["Sight plan"].values for c in row if c]
+    assert "How the set was chosen" in cells and len(book["Sight plan"]._images) == 1
 
 
 def test_summary_counts(mixed_log):

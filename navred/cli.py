@@ -536,6 +536,107 @@ def identify_command(
         typer.echo("score: the differences in units of 1° of altitude and 3° of bearing; lowest first")
 
 
+@app.command("series")
+def series_command(
+    sights_file: str = typer.Argument(..., metavar="SIGHTS", help="Sight log, CSV or .xlsx."),
+    threshold: float = typer.Option(2.0, "--threshold", help="Flag a sight this far off the curve (arcminutes)."),
+    csv: bool = typer.Option(False, "--csv", help="Print every sight with its series columns as CSV."),
+) -> None:
+    """Check each series of sights of one body against the altitude curve; flag the bad ones.
+
+    A series is the series column of the log, or one observer's sights of a body less than
+    five minutes apart. Only the offset from the predicted curve is fitted; a sight more
+    than --threshold off it, or three times the scatter of the others, is flagged (and kept).
+
+    Example:  navred series sample_sights/training_sights.csv
+    """
+    import numpy as np
+
+    from .angles import format_angle
+    from .logbook import read_sight_log
+    from .series import series_of_log
+    from .sights import reduce_sights
+
+    with _reported():
+        sights, rejected = read_sight_log(sights_file)
+        reduced = reduce_sights(sights)
+        for column, values in series_of_log(reduced, threshold_arcmin=threshold).items():
+            reduced[column] = values
+        if csv:
+            typer.echo(reduced.to_csv(index=False, float_format="%.5f"), nl=False)
+            return
+        multi = reduced[reduced.series_size >= 2]
+        typer.echo(f"{len(multi.series.unique())} series of two or more sights ({len(rejected.row.unique())} rows rejected)")
+        for name, part in multi.groupby("series", sort=False):
+            best = part[part.series_best]
+            flagged = part.loc[part.series_flag, "row"].tolist()
+            typer.echo(f"  {name:<12} {part.body_name.iloc[0]:<12} {len(part)} sights, offset "
+                       f"{part.series_offset_arcmin.iloc[0]:+.1f}′, scatter {np.nanmedian(part.series_scatter_arcmin):.1f}′"
+                       + (f", FLAGGED rows {flagged}" if flagged else ""))
+            if len(best):
+                typer.echo(f"  {'':<12} best sight: row {int(best['row'].iloc[0])} at "
+                           f"{best.sight_utc.iloc[0]:%H:%M:%S} UTC, Ho {format_angle(best.series_best_ho_deg.iloc[0], 'signed')}")
+
+
+@app.command("training")
+def training_command(
+    sights_file: str = typer.Argument(..., metavar="SIGHTS", help="Sight log with an observer column, CSV or .xlsx."),
+    track: str = typer.Option(..., "--track", help="The ship's reference track: GPX 1.1, NMEA 0183 (RMC/GGA) or CSV (utc, lat, lon)."),
+    output: str | None = typer.Option(None, "--output", "-o", help="Workbook to write (.xlsx), with a Training sheet."),
+    summary: str | None = typer.Option(None, "--summary", help="One printable page across observers (PDF, PNG or SVG)."),
+    plots: str | None = typer.Option(None, "--plots", help="Folder for one picture per observer (PNG)."),
+    csv: str | None = typer.Option(None, "--csv", help="Write the per-sight errors and the per-observer figures as CSV (NAME and NAME with -observers)."),
+) -> None:
+    """Each observer's errors against the ship's satellite track: personal error, scatter, blunders, trend.
+
+    Example:  navred training sample_sights/training_sights.csv --track sample_sights/training_track.gpx --summary summary.pdf
+    """
+    from pathlib import Path
+
+    import pandas as pd
+
+    from .plotting import save_figure
+    from .track import read_track
+    from .training import observer_figure, summary_figure, training_report
+    from .voyage import process_log
+    from .workbook import atomic_write, write_workbook
+
+    with _reported():
+        reference = read_track(track)
+        voyage = process_log(sights_file)
+        report = training_report(voyage.reduced, reference, voyage.groups)
+        voyage.training = report
+        outside = int((~report.sights.within_track).sum())
+        typer.echo(f"{len(report.sights)} sights marked against {track}"
+                   + (f"; {outside} outside the track's time span, not marked" if outside else ""))
+        typer.echo(f"{'observer':<22}{'sights':>7}{'blunders':>9}{'personal error':>16}{'± 95 %':>8}{'scatter':>9}{'trend/day':>11}")
+        for values in report.observers.to_dict("records"):
+            typer.echo(f"{values['observer']:<22}{values['sights']:>7}{values['blunders']:>9}"
+                       f"{values['personal error (′)']:>+15.2f}′{values['95 % interval (′)']:>7.2f}′"
+                       f"{values['scatter (′)']:>8.2f}′{values['trend (′ per day)']:>+10.3f}′")
+        for row in report.fixes.to_dict("records"):
+            if "distance from reference (nm)" in row and row["distance from reference (nm)"] == row["distance from reference (nm)"]:
+                typer.echo(f"fix {row['fix group']}: {row['distance from reference (nm)']:.1f} nm from the reference, "
+                           f"reference inside the 95 % ellipse: {row['reference inside 95 % ellipse']}")
+        if output:
+            typer.echo(f"wrote {write_workbook(voyage, output)}")
+        if summary:
+            typer.echo(f"wrote {atomic_write(summary, lambda p: save_figure(summary_figure(report), p))}")
+        if plots:
+            folder = Path(plots)
+            folder.mkdir(parents=True, exist_ok=True)
+            for name in report.observers.observer:
+                stem = "".join(c if c.isalnum() else "-" for c in name)
+                atomic_write(folder / f"observer-{stem}.png", lambda p, n=name: save_figure(observer_figure(report, n), p))
+            typer.echo(f"wrote {len(report.observers)} observer pictures to {folder}")
+        if csv:
+            target = Path(csv)
+            atomic_write(target, lambda p: report.sights.to_csv(p, index=False))
+            others = target.with_name(target.stem + "-observers" + target.suffix)
+            atomic_write(others, lambda p: pd.concat([report.observers, report.by_body]).to_csv(p, index=False))
+            typer.echo(f"wrote {target} and {others}")
+
+
 @app.command("bodies")
 def bodies_command() -> None:
     """List every body navred knows, with the stars' list numbers and magnitudes.

@@ -213,3 +213,35 @@ def sky_picture(plan, *, title: str = ""):
     figure.text(0.08, 0.02, "Zenith at the centre, horizon at the rim. An aid, not a sole means of navigation.",
                 fontsize=7, color=INK, style="italic")
     return figure
+
+
+def series_plot(times, ho_deg, flagged, curve_times, curve_ho_deg, best_index, *, title: str = ""):
+    """A small plot of one sight series: the sights, the fitted curve, the flagged ones."""
+    import matplotlib
+
+    matplotlib.use("Agg")
+    from matplotlib.figure import Figure
+
+    figure = Figure(figsize=(5.0, 3.2), dpi=100, facecolor=PAPER)
+    ax = figure.add_axes([0.16, 0.18, 0.8, 0.68], facecolor=PAPER)
+    t0 = np.asarray(curve_times, dtype="datetime64[ns]")[0]
+
+    def minutes(values):
+        return (np.asarray(values, dtype="datetime64[ns]") - t0).astype(np.int64) / 6e10
+
+    base = float(np.nanmin(curve_ho_deg))
+    ax.plot(minutes(curve_times), (np.asarray(curve_ho_deg) - base) * 60, color=INK, lw=1.2, label="predicted curve")
+    flagged = np.asarray(flagged, dtype=bool)
+    x, y = minutes(times), (np.asarray(ho_deg) - base) * 60
+    ax.plot(x[~flagged], y[~flagged], "o", color=INK, ms=5, label="sights")
+    if flagged.any():
+        ax.plot(x[flagged], y[flagged], "X", color=FIX, ms=8, label="flagged")
+    if best_index is not None:
+        ax.plot(x[best_index], y[best_index], "o", ms=11, mfc="none", mec=CHART, mew=1.6, label="best sight")
+    ax.set_xlabel(f"minutes after {str(t0)[11:19]} UTC", fontsize=7)
+    ax.set_ylabel(f"Ho − {base:.2f}° (′)", fontsize=7)
+    ax.tick_params(labelsize=7)
+    ax.grid(color=GRID, lw=0.5)
+    ax.legend(fontsize=6, loc="best", frameon=False)
+    figure.suptitle(title, fontsize=8, color=INK, x=0.16, ha="left")
+    return figure

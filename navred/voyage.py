@@ -47,6 +47,8 @@ class VoyageResult:
     #: the sight plan for the next twilight after the last fix, from it along the last course and speed
     next_plan: object | None = None
     next_events: dict | None = None
+    #: a navred.training.TrainingReport when the run was marked against a reference track
+    training: object | None = None
 
     @property
     def n_reduced(self) -> int:
@@ -90,6 +92,11 @@ def process_log(path, *, solve_motion: bool = False, progress=None) -> VoyageRes
                               "reason": reduced.loc[failed, "message"].to_numpy()})
         rejected = pd.concat([rejected, extra], ignore_index=True).sort_values("row", kind="stable")
         rejected = rejected.reset_index(drop=True)[REJECTED_COLUMNS]
+    if len(reduced):
+        from .series import series_of_log
+
+        for column, values in series_of_log(reduced).items():
+            reduced[column] = values
     groups = _fix_groups(reduced, solve_motion)
     table = iers_table()
     dut1 = reduced.dut1_s[~failed] if len(reduced) else pd.Series(dtype=float)

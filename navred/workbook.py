@@ -211,6 +211,11 @@ def write_workbook(voyage, path, *, plots: bool = True) -> Path:
         ("Fixes", "one row per fix group: position, 95 % ellipse, sight error, flagged sights, chart check; "
                   "the plotting sheets below the table"),
         ("Rejected", "every row that could not be reduced, with the column, the value and why"),
+        ("Training", "present when the log was marked against the ship's reference track: each observer's "
+                     "personal error with its 95 % interval, scatter, blunders and trend, by kind of body, every "
+                     "fix and sight against the reference, and a picture per observer"),
+        ("Series", "each series of sights of one body by one observer: the offset from the predicted altitude "
+                   "curve, the scatter, the flagged sights and the best sight to carry into the fix, with a plot"),
         ("Sight plan", "the next twilight after the last fix: bodies to shoot with Hc to preset and Zn, the "
                        "recommended set and why, and a picture of the sky"),
     ):
@@ -231,6 +236,11 @@ def write_workbook(voyage, path, *, plots: bool = True) -> Path:
     _write_sheet(book.create_sheet("Rejected"), rejected, wide={"reason": 90})
     if voyage.next_plan is not None:
         _write_plan_sheet(book.create_sheet("Sight plan"), voyage.next_plan, plots)
+    if voyage.training is not None:
+        _write_training_sheet(book.create_sheet("Training"), voyage.training, plots)
+    series = series_table(voyage)
+    if len(series):
+        _write_series_sheet(book.create_sheet("Series"), voyage, series, plots)
 
     if plots:
         anchor_row = len(fixes) + 4
@@ -246,6 +256,110 @@ def write_workbook(voyage, path, *, plots: bool = True) -> Path:
             fixes_sheet.add_image(image, f"A{anchor_row}")
             anchor_row += 30
     return atomic_write(path, book.save)
+
+
+def _write_training_sheet(sheet, report, plots: bool) -> None:
+    from openpyxl.drawing.image import Image
+    from openpyxl.styles import Font
+
+    from .training import observer_figure
+
+    blocks = [("Observers (personal error = mean error of the sights within 5′; 95 % interval from Student's t)",
+               report.observers),
+              ("By kind of body", report.by_body), ("Fixes against the reference track", report.fixes),
+              ("Every sight: error = Ho − Hc at the reference position",
+               report.sights.assign(sight_utc=report.sights.sight_utc.dt.strftime("%Y-%m-%d %H:%M:%S")))]
+    line = 1
+    for title, frame in blocks:
+        sheet.cell(row=line, column=1, value=title).font = Font(bold=True)
+        line += 1
+        if len(frame):
+            for k, name in enumerate(frame.columns, start=1):
+                sheet.cell(row=line, column=k, value=str(name)).font = Font(bold=True)
+            for values in frame.itertuples(index=False):
+                line += 1
+                for k, value in enumerate(values, start=1):
+                    if isinstance(value, float) and not np.isfinite(value):
+                        value = None
+                    elif isinstance(value, np.generic):
+                        value = value.item()
+                    sheet.cell(row=line, column=k, value=value)
+        line += 3
+    for k in range(1, 16):
+        sheet.column_dimensions[sheet.cell(row=1, column=k).column_letter].width = 16
+    if plots:
+        for name in report.observers.observer:
+            png = io.BytesIO()
+            figure = observer_figure(report, name)
+            figure.savefig(png, format="png", facecolor=figure.get_facecolor())
+            png.seek(0)
+            image = Image(png)
+            image.width, image.height = 640, 272
+            sheet.add_image(image, f"A{line}")
+            line += 15
+
+
+def series_table(voyage) -> pd.DataFrame:
+    """One row per sight series of two or more sights."""
+    reduced = voyage.reduced
+    if "series_size" not in reduced.columns:
+        return pd.DataFrame()
+    rows = []
+    multi = reduced[reduced.series_size >= 2]
+    for name, part in multi.groupby("series", sort=False):
+        best = part[part.series_best]
+        rows.append({
+            "series": name, "body": part.body_name.iloc[0],
+            "observer": part["observer"].iloc[0] if "observer" in part.columns else "",
+            "sights": len(part), "offset from the curve (′)": part.series_offset_arcmin.iloc[0],
+            "scatter (′)": float(np.nanmedian(part.series_scatter_arcmin)),
+            "flagged rows in log": ", ".join(str(r) for r in part.loc[part.series_flag, "row"]),
+            "best sight: row in log": int(best["row"].iloc[0]) if len(best) else None,
+            "best sight: UTC": best.sight_utc.iloc[0].strftime("%Y-%m-%d %H:%M:%S") if len(best) else "",
+            "best sight: Ho (° ′)": format_angle(best.series_best_ho_deg.iloc[0], "signed") if len(best) else "",
+            "best sight: Ho (deg)": best.series_best_ho_deg.iloc[0] if len(best) else None,
+        })
+    return pd.DataFrame(rows)
+
+
+def series_figure(voyage, name: str):
+    """The small plot of one series: its sights against the predicted curve at the DR."""
+    from .almanac import places
+    from .plotting import series_plot
+    from .triangle import computed_altitude_azimuth
+
+    part = voyage.reduced[voyage.reduced.series == name].sort_values("sight_utc")
+    times = part.sight_utc.dt.tz_convert(None).to_numpy().astype("datetime64[ns]")
+    span = times[-1] - times[0]
+    grid = times[0] - span // 10 + (np.arange(41) * ((span + span // 5) // 40 + 1))
+    seconds = (times - times[0]).astype(np.int64).astype(float)
+    at = (grid - times[0]).astype(np.int64).astype(float)
+    lat = np.interp(at, seconds, part.dr_lat_deg.to_numpy(dtype=float))
+    lon = np.interp(at, seconds, part.dr_lon_deg.to_numpy(dtype=float))
+    p = places(part.body_name.iloc[0], grid)
+    hc, _ = computed_altitude_azimuth(lat, lon, p.gha_deg, p.dec_deg)
+    offset = part.series_offset_arcmin.iloc[0] / 60.0
+    best = np.flatnonzero(part.series_best.to_numpy())
+    return series_plot(times, part.ho_deg.to_numpy(dtype=float), part.series_flag.to_numpy(), grid, hc + offset,
+                       int(best[0]) if best.size else None,
+                       title=f"{name}: {part.body_name.iloc[0]}, {len(part)} sights")
+
+
+def _write_series_sheet(sheet, voyage, table: pd.DataFrame, plots: bool) -> None:
+    from openpyxl.drawing.image import Image
+
+    _write_sheet(sheet, table)
+    if not plots:
+        return
+    row = len(table) + 3
+    for k, name in enumerate(table.series):
+        png = io.BytesIO()
+        figure = series_figure(voyage, name)
+        figure.savefig(png, format="png", facecolor=figure.get_facecolor())
+        png.seek(0)
+        image = Image(png)
+        image.width, image.height = 400, 256
+        sheet.add_image(image, f"{'A' if k % 2 == 0 else 'G'}{row + (k // 2) * 14}")
 
 
 def plan_table(plan) -> pd.DataFrame:

@@ -112,7 +112,7 @@ def skyfield_sight(ts, eph, name, utc, lat_deg, lon_deg, *, limb="", eye_height_
     from skyfield.api import wgs84
     from skyfield.earthlib import refract
 
-    when = pd_timestamp(utc)
+    when = pd_timestamp(utc).round("us")
     t = ts.from_datetime(when.to_pydatetime())
     topo = (eph["earth"] + wgs84.latlon(lat_deg, lon_deg)).at(t).observe(sky_target(ts, eph, name)).apparent()
     alt, az, distance = topo.altaz()

@@ -1,0 +1,134 @@
+"""Generate the invented training voyage in sample_sights/: a log, and the reference track as GPX,
+NMEA and CSV.
+
+INVENTED DATA. The sail-training brigantine "Grey Shearwater" (she does not exist), her
+watch of three invented cadets and a passage of 8 days from 36° 00′ N 010° 00′ W on 230° at
+7 knots. Each cadet's sights are synthesized with skyfield at the true position (the
+reference track) with a personal error and scatter of their own:
+
+    Cadet Ansel  +1.5′ personal error, 0.6′ scatter
+    Cadet Birch   0.0′,                0.8′
+    Cadet Corrie -0.8′,                0.5′
+
+plus the occasional blunder (about one sight in thirty off by 6-10′). The GPX track is
+written with gpxpy and the NMEA file with pynmea2 (general-purpose libraries, not navred).
+
+Run:  python scripts/make_training_voyage.py   (needs the test extras and gpxpy, pynmea2)
+"""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+ROOT = Path(__file__).resolve().parent.parent
+sys.path.insert(0, str(ROOT))
+
+from navred.fix import move_position  # noqa: E402
+from tests.conftest import skyfield_sight  # noqa: E402  (the same independent synthesizer the tests use)
+
+OUT = ROOT / "sample_sights"
+OBSERVERS = {"Cadet Ansel": (1.5, 0.6), "Cadet Birch": (0.0, 0.8), "Cadet Corrie": (-0.8, 0.5)}
+START = pd.Timestamp("2026-10-05T00:00:00Z")
+LAT0, LON0, COURSE, SPEED = 36.0, -10.0, 230.0, 7.0
+STARS_EVENING = ["Vega", "Altair", "Arcturus", "Deneb", "Fomalhaut", "Kochab"]
+STARS_MORNING = ["Sirius", "Capella", "Procyon", "Aldebaran", "Regulus", "Dubhe"]
+
+
+def true_position(when: pd.Timestamp):
+    hours = (when - START).total_seconds() / 3600.0
+    return move_position(LAT0, LON0, SPEED * hours * np.cos(np.radians(COURSE)),
+                         SPEED * hours * np.sin(np.radians(COURSE)))
+
+
+def make_voyage(ts, eph, days: int = 8, seed: int = 1805):
+    rng = np.random.default_rng(seed)
+    rows = []
+    for day in range(days):
+        date = START + pd.Timedelta(days=day)
+        plan = [(date + pd.Timedelta(hours=6, minutes=50), STARS_MORNING, ""),
+                (date + pd.Timedelta(hours=10), ["Sun"], "lower"),
+                (date + pd.Timedelta(hours=13, minutes=10), ["Sun"], "lower"),
+                (date + pd.Timedelta(hours=16), ["Sun"], "lower"),
+                (date + pd.Timedelta(hours=19, minutes=20), STARS_EVENING, "")]
+        for when, bodies, limb in plan:
+            for observer, (personal, scatter) in OBSERVERS.items():
+                for k, body in enumerate(bodies):
+                    at = (when + pd.Timedelta(minutes=2 * k, seconds=int(rng.integers(0, 50)))).round("s")
+                    lat, lon = (float(v) for v in true_position(at))
+                    error = personal + rng.normal(0.0, scatter)
+                    if rng.random() < 1 / 30:
+                        error += rng.choice([-1, 1]) * rng.uniform(6, 10)
+                    sight = skyfield_sight(ts, eph, body, at, lat, lon, limb=limb, eye_height_m=3.5,
+                                           index_error_arcmin=-0.6, noise_arcmin=error)
+                    if not 12.0 < sight["true_alt_deg"] < 78.0:
+                        continue
+                    dr_lat, dr_lon = move_position(lat, lon, rng.normal(0, 4), rng.normal(0, 4))
+                    rows.append({"utc": at.strftime("%Y-%m-%dT%H:%M:%SZ"), "body": body, "limb": limb,
+                                 "hs": round(sight["hs"], 5), "index_error_arcmin": "0.6 off", "eye_height_m": 3.5,
+                                 "dr_lat": round(float(dr_lat), 5), "dr_lon": round(float(dr_lon), 5),
+                                 "course_deg": COURSE, "speed_kn": SPEED,
+                                 "fix_group": f"{at:%Y-%m-%d}-{observer.split()[-1]}-{when:%H%M}",
+                                 "vessel": "Grey Shearwater (invented)", "observer": observer,
+                                 "voyage": "Training passage (invented)", "true_error_arcmin": round(error, 3)})
+    track_times = pd.date_range(START - pd.Timedelta(hours=1), START + pd.Timedelta(days=days, hours=1), freq="10min")
+    lat, lon = true_position_array(track_times)
+    return pd.DataFrame(rows), pd.DataFrame({"utc": track_times, "lat": lat, "lon": lon})
+
+
+def true_position_array(times: pd.DatetimeIndex):
+    hours = (times - START).total_seconds().to_numpy() / 3600.0
+    return move_position(LAT0, LON0, SPEED * hours * np.cos(np.radians(COURSE)),
+                         SPEED * hours * np.sin(np.radians(COURSE)))
+
+
+def write_gpx(track: pd.DataFrame, path: Path) -> None:
+    import gpxpy.gpx
+
+    gpx = gpxpy.gpx.GPX()
+    route = gpxpy.gpx.GPXTrack(name="Grey Shearwater reference track (invented)")
+    segment = gpxpy.gpx.GPXTrackSegment()
+    for row in track.itertuples():
+        segment.points.append(gpxpy.gpx.GPXTrackPoint(row.lat, row.lon, time=row.utc.to_pydatetime()))
+    route.segments.append(segment)
+    gpx.tracks.append(route)
+    path.write_text(gpx.to_xml(version="1.1"))
+
+
+def write_nmea(track: pd.DataFrame, path: Path) -> None:
+    import pynmea2
+
+    lines = []
+    for row in track.itertuples():
+        lat, lon = abs(row.lat), abs(row.lon)
+        lat_text = f"{int(lat):02d}{(lat % 1) * 60:07.4f}"
+        lon_text = f"{int(lon):03d}{(lon % 1) * 60:07.4f}"
+        hemis = ("N" if row.lat >= 0 else "S", "E" if row.lon >= 0 else "W")
+        rmc = pynmea2.RMC("GP", "RMC", (row.utc.strftime("%H%M%S.00"), "A", lat_text, hemis[0], lon_text, hemis[1],
+                                         f"{SPEED:.1f}", f"{COURSE:.1f}", row.utc.strftime("%d%m%y"), "", ""))
+        gga = pynmea2.GGA("GP", "GGA", (row.utc.strftime("%H%M%S.00"), lat_text, hemis[0], lon_text, hemis[1],
+                                         "1", "09", "0.9", "12.0", "M", "50.0", "M", "", ""))
+        lines += [str(rmc), str(gga)]
+    path.write_text("\n".join(lines) + "\n")
+
+
+def main() -> None:
+    from importlib.resources import files
+
+    from skyfield.api import load
+
+    ts = load.timescale(builtin=True)
+    eph = load(str(files("skyfield_data") / "data" / "de421.bsp"))
+    sights, track = make_voyage(ts, eph)
+    sights.to_csv(OUT / "training_sights.csv", index=False)
+    write_gpx(track, OUT / "training_track.gpx")
+    write_nmea(track, OUT / "training_track.nmea")
+    track.assign(utc=track.utc.dt.strftime("%Y-%m-%dT%H:%M:%SZ")).to_csv(OUT / "training_track.csv", index=False)
+    print(f"wrote {len(sights)} invented training sights and a {len(track)}-point reference track to {OUT}")
+
+
+if __name__ == "__main__":
+    main()

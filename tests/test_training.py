@@ -1,0 +1,106 @@
+"""Training records against a synthesized voyage with invented observers, and the track readers."""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from navred.track import TrackError, positions_at, read_track
+from navred.training import training_report
+from navred.voyage import process_log
+
+sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "scripts"))
+import make_training_voyage as voyage_maker  # noqa: E402  (the invented voyage, synthesized with skyfield)
+
+
+@pytest.fixture(scope="module")
+def training_files(ts, eph, tmp_path_factory):
+    folder = tmp_path_factory.mktemp("training")
+    sights, track = voyage_maker.make_voyage(ts, eph, days=5, seed=77)
+    sights.to_csv(folder / "sights.csv", index=False)
+    voyage_maker.write_gpx(track, folder / "track.gpx")  # written by gpxpy, not navred
+    voyage_maker.write_nmea(track, folder / "track.nmea")  # written by pynmea2, not navred
+    track.assign(utc=track.utc.dt.strftime("%Y-%m-%dT%H:%M:%SZ")).to_csv(folder / "track.csv", index=False)
+    return folder, sights, track
+
+
+def test_personal_errors_are_recovered_within_their_stated_uncertainty(training_files):
+    """Three invented observers with personal errors +1.5′, 0′ and −0.8′ (see
+    scripts/make_training_voyage.py): each estimate lies within its own 95 % interval of the truth."""
+    folder, sights, _ = training_files
+    voyage = process_log(folder / "sights.csv")
+    report = training_report(voyage.reduced, read_track(folder / "track.gpx"), voyage.groups)
+    truth = {name: personal for name, (personal, _) in voyage_maker.OBSERVERS.items()}
+    for row in report.observers.to_dict("records"):
+        assert abs(row["personal error (′)"] - truth[row["observer"]]) <= row["95 % interval (′)"], row
+        scatter_truth = voyage_maker.OBSERVERS[row["observer"]][1]
+        assert row["scatter (′)"] == pytest.approx(scatter_truth, rel=0.35)
+    # each sight's error is what was planted (the synthesizer's own record), blunders included
+    merged = report.sights.merge(sights.reset_index().assign(row=lambda f: f["index"] + 1)[["row", "true_error_arcmin"]],
+                                 on="row")
+    assert np.abs(merged.error_arcmin - merged.true_error_arcmin).max() < 0.05
+    assert (report.sights.blunder == (np.abs(merged.true_error_arcmin) > 5)).all()
+    assert set(report.by_body["body kind"]) == {"Sun", "star"}
+    assert len(report.fixes) > 0 and "reference inside 95 % ellipse" in report.fixes.columns
+
+
+def test_gpx_nmea_and_csv_tracks_read_back_to_the_same_track(training_files):
+    folder, _, track = training_files
+    truth = track.utc.dt.tz_convert(None).to_numpy().astype("datetime64[ns]")
+    for name in ("track.gpx", "track.nmea", "track.csv"):
+        read = read_track(folder / name)
+        assert len(read) == len(track), name
+        assert (read.utc.to_numpy().astype("datetime64[ns]") == truth).all(), name
+        # NMEA keeps 0.0001′ of arc (0.0002 nm); GPX and CSV keep more
+        assert np.abs(read.lat_deg - track.lat).max() < 1e-5, name
+        assert np.abs(read.lon_deg - track.lon).max() < 1e-5, name
+
+
+def test_sights_outside_the_track_are_refused_with_a_message(training_files):
+    folder, _, track = training_files
+    short = track.iloc[: len(track) // 2]
+    short.assign(utc=short.utc.dt.strftime("%Y-%m-%dT%H:%M:%SZ")).to_csv(folder / "short.csv", index=False)
+    voyage = process_log(folder / "sights.csv")
+    report = training_report(voyage.reduced, read_track(folder / "short.csv"), voyage.groups)
+    outside = report.sights[~report.sights.within_track]
+    assert len(outside) > 0 and outside.note.str.contains("outside the reference track").all()
+    assert outside.error_arcmin.isna().all()
+
+
+def test_interpolation_across_the_date_line():
+    track = pd.DataFrame({"utc": pd.to_datetime(["2026-01-01T00:00", "2026-01-01T02:00"]).astype("datetime64[ns]"),
+                          "lat_deg": [0.0, 0.0], "lon_deg": [179.5, -179.5]})
+    lat, lon, inside = positions_at(track, np.array(["2026-01-01T01:00"], dtype="datetime64[ns]"))
+    assert inside[0] and abs(abs(lon[0]) - 180.0) < 1e-9
+
+
+@pytest.mark.parametrize("content, name, fragment", [
+    ("$GPRMC,230000.00,A,3604.4995,N,00953.3687,W,7.0,230.0,041026,,*00\n", "bad.nmea", "checksum"),
+    ("<gpx><trk></trk></gpx>", "empty.gpx", "no GPX track points"),
+    ("when,where\n1,2\n", "odd.csv", "needs columns"),
+])
+def test_bad_tracks_are_refused_clearly(tmp_path, content, name, fragment):
+    path = tmp_path / name
+    path.write_text(content)
+    with pytest.raises(TrackError, match=fragment):
+        read_track(path)
+
+
+def test_training_command_on_the_demo(tmp_path):
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+
+    result = CliRunner().invoke(app, ["training", "sample_sights/training_sights.csv", "--track",
+                                      "sample_sights/training_track.gpx", "-o", str(tmp_path / "t.xlsx"),
+                                      "--summary", str(tmp_path / "summary.pdf"), "--csv", str(tmp_path / "t.csv")])
+    assert result.exit_code == 0, result.output
+    assert "Cadet Ansel" in result.output and "personal error" in result.output
+    assert (tmp_path / "summary.pdf").read_bytes().startswith(b"%PDF")
+    import openpyxl
+
+    assert "Training" in openpyxl.load_workbook(tmp_path / "t.xlsx").sheetnames

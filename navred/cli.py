@@ -637,6 +637,59 @@ def training_command(
             typer.echo(f"wrote {target} and {others}")
 
 
+@app.command("lunar")
+def lunar_command(
+    distance: str = typer.Argument(..., help="The sextant reading of the distance, e.g. '38 52.4' (degrees and minutes)."),
+    other: str = typer.Option(..., "--other", help="The body the distance was taken to: Sun, a planet or a star."),
+    utc: str = typer.Option(..., "--utc", "-t", help="The chronometer's time of the observation (ISO 8601 with a zone)."),
+    lat: str = typer.Option(..., "--lat", help="DR latitude."),
+    lon: str = typer.Option(..., "--lon", help="DR longitude."),
+    moon_limb: str = typer.Option("near", "--moon-limb", help="Moon's limb used: near or far (from the other body)."),
+    other_limb: str = typer.Option("centre", "--other-limb", help="The Sun's limb: near, far or centre (stars, planets)."),
+    index_error: str = typer.Option("0", "--index-error", help="Index error, on the arc positive, or '1.2 off'."),
+    moon_alt: str | None = typer.Option(None, "--moon-alt", help="Apparent altitude of the Moon's centre, if observed."),
+    other_alt: str | None = typer.Option(None, "--other-alt", help="Apparent altitude of the other body's centre, if observed."),
+    csv: bool = typer.Option(False, "--csv", help="Print the result as CSV."),
+) -> None:
+    """Longitude by lunar distance: clear the distance, find UTC, the chronometer error and the longitude.
+
+    Altitudes are apparent altitudes of the centres (index error, dip and semi-diameter applied);
+    without them they are computed at the DR. Longitude needs the other body's altitude observed.
+
+    Example:  navred lunar "29 44.7" --other Antares --utc 2024-09-12T19:33:00Z --lat "30 N" --lon "040 W" --moon-limb far
+    """
+    from .angles import format_angle, parse_angle
+    from .corrections import parse_index_error_arcmin
+    from .lunar import lunar_distance
+
+    with _reported():
+        result = lunar_distance(
+            float(parse_angle(distance, "angle")), other, utc, _angle_option(lat, "lat", "--lat"),
+            _angle_option(lon, "lon", "--lon"), moon_limb=moon_limb, other_limb=other_limb,
+            index_error_arcmin=parse_index_error_arcmin(index_error),
+            moon_apparent_altitude_deg=None if moon_alt is None else float(parse_angle(moon_alt, "angle")),
+            other_apparent_altitude_deg=None if other_alt is None else float(parse_angle(other_alt, "angle")))
+        values = {"utc": _time_text(result.utc), "cleared_distance_deg": result.cleared_distance_deg,
+                  "apparent_distance_deg": result.apparent_distance_deg,
+                  "chronometer_error_s": result.chronometer_error_s,
+                  "seconds_per_tenth_arcmin": result.seconds_per_tenth_arcmin,
+                  "longitude_deg": result.longitude_deg, "longitude_from": result.longitude_from}
+        if csv:
+            typer.echo(",".join(values))
+            typer.echo(",".join("" if v is None else str(v) for v in values.values()))
+            return
+        typer.echo(f"apparent distance of the centres {format_angle(result.apparent_distance_deg)}, "
+                   f"cleared {format_angle(result.cleared_distance_deg)}")
+        typer.echo(f"UTC {_time_text(result.utc)}; the chronometer is {abs(result.chronometer_error_s):.0f} s "
+                   f"{'fast' if result.chronometer_error_s >= 0 else 'slow'}")
+        typer.echo(f"sensitivity: 0.1′ of distance is {result.seconds_per_tenth_arcmin:.0f} s of time, "
+                   f"{result.seconds_per_tenth_arcmin * 0.25:.1f}′ of longitude")
+        if result.longitude_deg is not None:
+            typer.echo(f"longitude {format_angle(result.longitude_deg, 'lon')} ({result.longitude_from})")
+        else:
+            typer.echo("longitude: observe the other body's altitude (--other-alt) for a time sight")
+
+
 @app.command("bodies")
 def bodies_command() -> None:
     """List every body navred knows, with the stars' list numbers and magnitudes.

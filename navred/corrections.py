@@ -153,10 +153,11 @@ def refraction_arcmin(ha_deg, temperature_c=DEFAULT_TEMPERATURE_C, pressure_hpa=
     if bad.any():
         raise SightInputError(f"apparent altitude must lie in -1° to 90° for refraction; "
                               f"refused: {failed_elements(bad)}")
-    return _bennett_arcmin(ha, temperature_c, pressure_hpa)
+    return bennett_refraction_arcmin(ha, temperature_c, pressure_hpa)
 
 
-def _bennett_arcmin(ha, temperature_c, pressure_hpa):
+def bennett_refraction_arcmin(ha, temperature_c, pressure_hpa):
+    """Bennett's refraction (arcminutes) at apparent altitude ``ha`` with no range check (see refraction_arcmin)."""
     temperature = np.asarray(temperature_c, dtype=float)
     pressure = np.asarray(pressure_hpa, dtype=float)
     # Bennett's cotangent dips 0.08″ below zero at the zenith: hold it at zero there
@@ -198,7 +199,7 @@ def semi_diameter_correction_arcmin(sd_arcmin, limb, augmentation=1.0):
     return limb_sign(limb) * np.asarray(sd_arcmin, dtype=float) * augmentation
 
 
-def _observer_geometry(lat_deg):
+def observer_geometry(lat_deg):  # noqa: D401
     """Geocentric radius (Earth radii) and geodetic minus geocentric latitude (radians), WGS 84."""
     phi = np.radians(np.asarray(lat_deg, dtype=float))
     e2 = EARTH_FLATTENING * (2.0 - EARTH_FLATTENING)
@@ -216,7 +217,7 @@ def topocentric_distance_ratio(altitude_deg, hp_arcmin, lat_deg=0.0, zn_deg=0.0)
     """
     lat, altitude, zn, hp = np.broadcast_arrays(*(np.asarray(v, dtype=float) for v in
                                                   (lat_deg, altitude_deg, zn_deg, hp_arcmin)))
-    rho, tilt = _observer_geometry(lat)
+    rho, tilt = observer_geometry(lat)
     h = np.radians(altitude)
     z = np.radians(zn)
     sin_hp = np.sin(np.radians(hp / ARCMIN_PER_DEG))
@@ -243,7 +244,7 @@ def parallax_in_altitude_arcmin(altitude_deg, hp_arcmin, lat_deg=0.0, zn_deg=0.0
     >>> round(float(parallax_in_altitude_arcmin(0.0, 60.0)), 3)
     60.0
     """
-    rho, tilt = _observer_geometry(lat_deg)
+    rho, tilt = observer_geometry(lat_deg)
     h = np.radians(np.asarray(altitude_deg, dtype=float))
     sin_hp = np.sin(np.radians(np.asarray(hp_arcmin, dtype=float) / ARCMIN_PER_DEG))
     ratio = topocentric_distance_ratio(altitude_deg, hp_arcmin, lat_deg, zn_deg)
@@ -327,7 +328,7 @@ def correct_altitudes(hs_deg, *, index_error_arcmin=0.0, eye_height_m=0.0, horiz
     _note(warning, ok & (ha < LOW_ALTITUDE_DEG),
           "low sight (Ha below 5°): refraction is uncertain by several arcminutes")
     safe_ha = np.where(ok, ha, 45.0)
-    refraction = _bennett_arcmin(safe_ha, np.where(ok, temp, 10.0), np.where(ok, pres, 1010.0))
+    refraction = bennett_refraction_arcmin(safe_ha, np.where(ok, temp, 10.0), np.where(ok, pres, 1010.0))
     topocentric_centre = safe_ha - refraction / ARCMIN_PER_DEG
     # semi-diameter (augmented for the Moon at the topocentric altitude of its centre)
     factor = np.where(augment, moon_augmentation(topocentric_centre, hp, lat, zn), 1.0)

@@ -51,10 +51,11 @@ def make_voyage(ts, eph, days: int = 8, seed: int = 1805):
         date = START + pd.Timedelta(days=day)
         plan = [(date + pd.Timedelta(hours=6, minutes=50), STARS_MORNING, ""),
                 (date + pd.Timedelta(hours=10), ["Sun"], "lower"),
-                (date + pd.Timedelta(hours=13, minutes=10), ["Sun"], "lower"),
+                (date + pd.Timedelta(hours=13, minutes=10), ["Sun"] * 4, "lower"),  # a noon series
                 (date + pd.Timedelta(hours=16), ["Sun"], "lower"),
                 (date + pd.Timedelta(hours=19, minutes=20), STARS_EVENING, "")]
         for when, bodies, limb in plan:
+            dr_offset = rng.normal(0, 4, 2)  # the DR's error, the same for the watch's sights of that round
             for observer, (personal, scatter) in OBSERVERS.items():
                 for k, body in enumerate(bodies):
                     at = (when + pd.Timedelta(minutes=2 * k, seconds=int(rng.integers(0, 50)))).round("s")
@@ -66,7 +67,7 @@ def make_voyage(ts, eph, days: int = 8, seed: int = 1805):
                                            index_error_arcmin=-0.6, noise_arcmin=error)
                     if not 12.0 < sight["true_alt_deg"] < 78.0:
                         continue
-                    dr_lat, dr_lon = move_position(lat, lon, rng.normal(0, 4), rng.normal(0, 4))
+                    dr_lat, dr_lon = move_position(lat, lon, *dr_offset)
                     rows.append({"utc": at.strftime("%Y-%m-%dT%H:%M:%SZ"), "body": body, "limb": limb,
                                  "hs": round(sight["hs"], 5), "index_error_arcmin": "0.6 off", "eye_height_m": 3.5,
                                  "dr_lat": round(float(dr_lat), 5), "dr_lon": round(float(dr_lon), 5),

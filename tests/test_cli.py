@@ -53,7 +53,8 @@ def test_bodies_lists_the_catalogue():
 
 
 def test_help_on_every_command_has_an_example():
-    for command in ("almanac", "bodies", "reduce", "fix", "workbook", "plan", "compass", "identify"):
+    for command in ("almanac", "bodies", "reduce", "fix", "workbook", "plan", "compass", "identify", "series",
+                    "training", "lunar"):
         result = runner.invoke(app, [command, "--help"])
         assert result.exit_code == 0
         assert "Example:" in result.output
@@ -182,3 +183,16 @@ def test_compass_and_identify_commands(tmp_path):
     found = runner.invoke(app, ["identify", "--utc", "2026-03-26T19:45:00Z", "--lat", "43 17 N", "--lon", "013 11 W",
                                 "--alt", "30", "--az", "186"])
     assert found.exit_code == 0 and found.output.splitlines()[1].split()[1] == "Sirius"
+
+
+def test_series_and_lunar_commands():
+    result = runner.invoke(app, ["series", "sample_sights/training_sights.csv"])
+    assert result.exit_code == 0, result.output
+    assert "series of two or more sights" in result.output and "best sight" in result.output
+    lunar = runner.invoke(app, ["lunar", "29 44.7", "--other", "Antares", "--utc", "2024-09-12T19:33:00Z",
+                                "--lat", "30 N", "--lon", "040 W", "--moon-limb", "far"])
+    assert lunar.exit_code == 0, lunar.output
+    assert "chronometer is" in lunar.output and "fast" in lunar.output and "sensitivity" in lunar.output
+    bad = runner.invoke(app, ["lunar", "29 44.7", "--other", "Moon", "--utc", "2024-09-12T19:33:00Z",
+                              "--lat", "30 N", "--lon", "040 W"])
+    assert bad.exit_code == 1 and "not to itself" in bad.output

@@ -650,6 +650,7 @@ def lunar_command(
     moon_alt: str | None = typer.Option(None, "--moon-alt", help="Apparent altitude of the Moon's centre, if observed."),
     other_alt: str | None = typer.Option(None, "--other-alt", help="Apparent altitude of the other body's centre, if observed."),
     csv: bool = typer.Option(False, "--csv", help="Print the result as CSV."),
+    xlsx: str | None = typer.Option(None, "--xlsx", help="Also write the working to a workbook (.xlsx)."),
 ) -> None:
     """Longitude by lunar distance: clear the distance, find UTC, the chronometer error and the longitude.
 
@@ -674,6 +675,14 @@ def lunar_command(
                   "chronometer_error_s": result.chronometer_error_s,
                   "seconds_per_tenth_arcmin": result.seconds_per_tenth_arcmin,
                   "longitude_deg": result.longitude_deg, "longitude_from": result.longitude_from}
+        if xlsx:
+            from .workbook import write_lunar_workbook
+
+            inputs = {"observed distance": distance, "other body": other, "chronometer time": utc, "DR latitude": lat,
+                      "DR longitude": lon, "Moon's limb": moon_limb, "other body's limb": other_limb,
+                      "index error": index_error, "Moon's apparent altitude": moon_alt or "computed at the DR",
+                      "other body's apparent altitude": other_alt or "computed at the DR"}
+            typer.echo(f"wrote {write_lunar_workbook(inputs, values, xlsx)}")
         if csv:
             typer.echo(",".join(values))
             typer.echo(",".join("" if v is None else str(v) for v in values.values()))

@@ -46,31 +46,20 @@ class _Notes:
         self.warning = np.full(n, "", dtype=object)
 
     @staticmethod
-    def _add(target, mask, text):
-        mask = np.asarray(mask, dtype=bool)
-        if mask.any():
-            current = target[mask]
-            target[mask] = np.where(current == "", text, current + "; " + text)
-
-    def fail(self, mask, text):
-        self._add(self.error, mask, text)
-
-    def warn(self, mask, text):
-        self._add(self.warning, mask, text)
-
-    @staticmethod
-    def _add_each(target, rows, texts):
-        rows = np.asarray(rows, dtype=int)
+    def _add(target, selection, text):
+        """Append text (one string, or one per selected row) to the rows a mask or an index array picks."""
+        selection = np.asarray(selection)
+        rows = np.flatnonzero(selection) if selection.dtype == bool else selection.astype(int)
         if rows.size:
-            texts = np.asarray(texts, dtype=object)
             current = target[rows]
-            target[rows] = np.where(current == "", texts, current + "; " + texts)
+            text = np.asarray(text, dtype=object) if not isinstance(text, str) else text
+            target[rows] = np.where(current == "", text, current + "; " + text)
 
-    def fail_each(self, rows, texts):
-        self._add_each(self.error, rows, texts)
+    def fail(self, selection, text):
+        self._add(self.error, selection, text)
 
-    def warn_each(self, rows, texts):
-        self._add_each(self.warning, rows, texts)
+    def warn(self, selection, text):
+        self._add(self.warning, selection, text)
 
     @property
     def ok(self):
@@ -111,7 +100,7 @@ def _parse_column(values: pd.Series, parser, name: str, notes: _Notes) -> np.nda
         except NavredError as exc:
             rows.append(i)
             texts.append(f"{name}: {exc}")
-    notes.fail_each(rows, texts)
+    notes.fail(rows, texts)
     return out
 
 
@@ -132,7 +121,7 @@ def _utc_column(values: pd.Series, notes: _Notes) -> np.ndarray:
             utc_julian_date(values.iloc[i])
         except NavredError as exc:
             good[i] = False
-            notes.fail_each([i], [f"utc: {exc}"])
+            notes.fail([i], [f"utc: {exc}"])
     return good
 
 
@@ -290,8 +279,8 @@ def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
         result["ut1_source"][rows] = almanac.instants.ut1_source
         del almanac, values
         failed, cautioned = corrections.error != "", corrections.warning != ""
-        notes.fail_each(rows[failed], corrections.error[failed])
-        notes.warn_each(rows[cautioned], corrections.warning[cautioned])
+        notes.fail(rows[failed], corrections.error[failed])
+        notes.warn(rows[cautioned], corrections.warning[cautioned])
         notes.warn(np.isin(result["ut1_source"], [UT1_BEYOND]),
                    "DUT1 beyond the IERS table: GHA may be off by up to 0.225′; give DUT1 from a time signal")
         notes.warn(np.isin(result["ut1_source"], [UT1_BEFORE]), "DUT1 taken as 0 (before the IERS table)")

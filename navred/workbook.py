@@ -147,6 +147,25 @@ def fixes_table(voyage) -> pd.DataFrame:
     return pd.DataFrame(rows)
 
 
+def _cell_value(value):
+    """A value openpyxl can store: NaN and infinity as empty cells, numpy scalars as Python ones."""
+    if isinstance(value, float) and not np.isfinite(value):
+        return None
+    return value.item() if isinstance(value, np.generic) else value
+
+
+def _add_figure(sheet, figure, anchor: str, width: int, height: int) -> None:
+    """Embed a matplotlib figure in a sheet as a PNG picture anchored at a cell."""
+    from openpyxl.drawing.image import Image
+
+    png = io.BytesIO()
+    figure.savefig(png, format="png", facecolor=figure.get_facecolor())
+    png.seek(0)
+    image = Image(png)
+    image.width, image.height = width, height
+    sheet.add_image(image, anchor)
+
+
 def _write_sheet(sheet, frame: pd.DataFrame, *, wide: dict[str, int] | None = None, flag_column: str | None = None):
     from openpyxl.styles import Alignment, Font, PatternFill
 
@@ -159,8 +178,7 @@ def _write_sheet(sheet, frame: pd.DataFrame, *, wide: dict[str, int] | None = No
     flag_fill = PatternFill("solid", fgColor=_FLAG_FILL)
     flag_index = list(frame.columns).index(flag_column) if flag_column in frame.columns else None
     for values in frame.itertuples(index=False):
-        row = [None if (isinstance(v, float) and not np.isfinite(v)) else
-               (v.item() if isinstance(v, np.generic) else v) for v in values]
+        row = [_cell_value(v) for v in values]
         sheet.append(row)
         if flag_index is not None and "BLUNDER" in str(row[flag_index]):
             for cell in sheet[sheet.max_row]:
@@ -180,7 +198,6 @@ def _write_sheet(sheet, frame: pd.DataFrame, *, wide: dict[str, int] | None = No
 def write_workbook(voyage, path, *, plots: bool = True) -> Path:
     """Write the spreadsheet log of a :class:`navred.voyage.VoyageResult` to ``path`` (.xlsx)."""
     from openpyxl import Workbook
-    from openpyxl.drawing.image import Image
     from openpyxl.styles import Alignment, Font
 
     book = Workbook()
@@ -247,19 +264,12 @@ def write_workbook(voyage, path, *, plots: bool = True) -> Path:
         for group in voyage.groups:
             if group.fix is None:
                 continue
-            png = io.BytesIO()
-            figure = plotting_figure(voyage, group)
-            figure.savefig(png, format="png", facecolor=figure.get_facecolor())
-            png.seek(0)
-            image = Image(png)
-            image.width, image.height = 560, 560
-            fixes_sheet.add_image(image, f"A{anchor_row}")
+            _add_figure(fixes_sheet, plotting_figure(voyage, group), f"A{anchor_row}", 560, 560)
             anchor_row += 30
     return atomic_write(path, book.save)
 
 
 def _write_training_sheet(sheet, report, plots: bool) -> None:
-    from openpyxl.drawing.image import Image
     from openpyxl.styles import Font
 
     from .training import observer_figure
@@ -279,23 +289,13 @@ def _write_training_sheet(sheet, report, plots: bool) -> None:
             for values in frame.itertuples(index=False):
                 line += 1
                 for k, value in enumerate(values, start=1):
-                    if isinstance(value, float) and not np.isfinite(value):
-                        value = None
-                    elif isinstance(value, np.generic):
-                        value = value.item()
-                    sheet.cell(row=line, column=k, value=value)
+                    sheet.cell(row=line, column=k, value=_cell_value(value))
         line += 3
     for k in range(1, 16):
         sheet.column_dimensions[sheet.cell(row=1, column=k).column_letter].width = 16
     if plots:
         for name in report.observers.observer:
-            png = io.BytesIO()
-            figure = observer_figure(report, name)
-            figure.savefig(png, format="png", facecolor=figure.get_facecolor())
-            png.seek(0)
-            image = Image(png)
-            image.width, image.height = 640, 272
-            sheet.add_image(image, f"A{line}")
+            _add_figure(sheet, observer_figure(report, name), f"A{line}", 640, 272)
             line += 15
 
 
@@ -346,20 +346,13 @@ def series_figure(voyage, name: str):
 
 
 def _write_series_sheet(sheet, voyage, table: pd.DataFrame, plots: bool) -> None:
-    from openpyxl.drawing.image import Image
 
     _write_sheet(sheet, table)
     if not plots:
         return
     row = len(table) + 3
     for k, name in enumerate(table.series):
-        png = io.BytesIO()
-        figure = series_figure(voyage, name)
-        figure.savefig(png, format="png", facecolor=figure.get_facecolor())
-        png.seek(0)
-        image = Image(png)
-        image.width, image.height = 400, 256
-        sheet.add_image(image, f"{'A' if k % 2 == 0 else 'G'}{row + (k // 2) * 14}")
+        _add_figure(sheet, series_figure(voyage, name), f"{'A' if k % 2 == 0 else 'G'}{row + (k // 2) * 14}", 400, 256)
 
 
 def plan_table(plan) -> pd.DataFrame:
@@ -377,7 +370,6 @@ def plan_table(plan) -> pd.DataFrame:
 
 
 def _write_plan_sheet(sheet, plan, plots: bool) -> None:
-    from openpyxl.drawing.image import Image
     from openpyxl.styles import Font
 
     table = plan_table(plan)
@@ -392,13 +384,7 @@ def _write_plan_sheet(sheet, plan, plots: bool) -> None:
     if plots:
         from .plotting import sky_picture
 
-        png = io.BytesIO()
-        figure = sky_picture(plan, title="Sight plan: the next twilight")
-        figure.savefig(png, format="png", facecolor=figure.get_facecolor())
-        png.seek(0)
-        image = Image(png)
-        image.width, image.height = 520, 555
-        sheet.add_image(image, f"A{line + 4}")
+        _add_figure(sheet, sky_picture(plan, title="Sight plan: the next twilight"), f"A{line + 4}", 520, 555)
 
 
 def plotting_figure(voyage, group):
@@ -428,3 +414,30 @@ def write_plots(voyage, folder, formats=("png", "svg")) -> list[Path]:
         for suffix in formats:
             written.append(atomic_write(out / f"plot-{stem}.{suffix}", lambda p, f=figure: save_figure(f, p)))
     return written
+
+
+def write_lunar_workbook(inputs: dict, result: dict, path) -> Path:
+    """A small workbook of one lunar distance: the caution, the inputs and every result line."""
+    from openpyxl import Workbook
+    from openpyxl.styles import Alignment, Font
+
+    book = Workbook()
+    sheet = book.active
+    sheet.title = "Lunar distance"
+    sheet["A1"] = "navred lunar distance"
+    sheet["A1"].font = Font(bold=True, size=14)
+    sheet["A2"] = SAFETY
+    sheet["A2"].alignment = Alignment(wrap_text=True, vertical="top")
+    sheet.merge_cells("A2:C2")
+    sheet.row_dimensions[2].height = 75
+    line = 4
+    for title, block in (("Observation", inputs), ("Result", result)):
+        sheet.cell(row=line, column=1, value=title).font = Font(bold=True)
+        for key, value in block.items():
+            line += 1
+            sheet.cell(row=line, column=1, value=str(key).replace("_", " "))
+            sheet.cell(row=line, column=2, value=_cell_value(value) if value is not None else "")
+        line += 2
+    sheet.column_dimensions["A"].width = 32
+    sheet.column_dimensions["B"].width = 60
+    return atomic_write(path, book.save)

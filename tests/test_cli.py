@@ -185,7 +185,7 @@ def test_compass_and_identify_commands(tmp_path):
     assert found.exit_code == 0 and found.output.splitlines()[1].split()[1] == "Sirius"
 
 
-def test_series_and_lunar_commands():
+def test_series_and_lunar_commands(tmp_path):
     result = runner.invoke(app, ["series", "sample_sights/training_sights.csv"])
     assert result.exit_code == 0, result.output
     assert "series of two or more sights" in result.output and "best sight" in result.output
@@ -193,6 +193,16 @@ def test_series_and_lunar_commands():
                                 "--lat", "30 N", "--lon", "040 W", "--moon-limb", "far"])
     assert lunar.exit_code == 0, lunar.output
     assert "chronometer is" in lunar.output and "fast" in lunar.output and "sensitivity" in lunar.output
+    saved = runner.invoke(app, ["lunar", "29 44.7", "--other", "Antares", "--utc", "2024-09-12T19:33:00Z",
+                                "--lat", "30 N", "--lon", "040 W", "--moon-limb", "far", "--xlsx", str(tmp_path / "l.xlsx"),
+                                "--csv"])
+    assert saved.exit_code == 0 and "cleared_distance_deg" in saved.output
+    import openpyxl
+
+    cells = [c for row in openpyxl.load_workbook(tmp_path / "l.xlsx")["Lunar distance"].values for c in row if c]
+    assert "cleared distance deg" in cells and "Result" in cells
+    csv_series = runner.invoke(app, ["series", "sample_sights/training_sights.csv", "--csv"])
+    assert csv_series.exit_code == 0 and "series_best_ho_deg" in csv_series.output.splitlines()[0]
     bad = runner.invoke(app, ["lunar", "29 44.7", "--other", "Moon", "--utc", "2024-09-12T19:33:00Z",
                               "--lat", "30 N", "--lon", "040 W"])
     assert bad.exit_code == 1 and "not to itself" in bad.output

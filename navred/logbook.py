@@ -17,7 +17,7 @@ from .angles import parse_angle
 from .corrections import parse_index_error_arcmin
 from .errors import NavredError
 from .stars import canonical_body_name
-from .timescales import utc_julian_date
+from .timescales import utc_jd_to_datetime64, utc_julian_date
 
 REJECTED_COLUMNS = ["row", "column", "value", "reason"]
 REQUIRED = ("body", "hs", "dr_lat", "dr_lon")
@@ -227,49 +227,39 @@ def read_sight_log(path) -> tuple[pd.DataFrame, pd.DataFrame]:
     for column in frame.attrs.get("missing_columns", []):
         for i in range(n):
             problems.append((i, column.split(" ")[0], "", f"required column {column} is missing"))
-    utc = np.full(n, "", dtype=object)
+    utc = _utc_column(frame, columns, problems)
     bodies = np.full(n, "", dtype=object)
-    body_cache: dict[str, str | Exception] = {}
-    for i in range(n):
-        row = frame.iloc[i]
-        if "utc" in columns or {"date", "zone_time", "zone_description"} <= columns:
+    if "body" in columns:
+        names = frame["body"].astype(str).str.strip()
+        for spelling, rows in _distinct(names):
             try:
-                utc[i] = _iso_utc(row, columns)
-            except (NavredError, ValueError) as exc:
-                column = "utc" if "utc" in columns else "zone_time"
-                problems.append((i, column, str(row.get(column, "")), str(exc)))
-        if "body" in columns:
-            name = str(row["body"]).strip()
-            if name not in body_cache:
-                try:
-                    body_cache[name] = canonical_body_name(name)
-                except NavredError as exc:
-                    body_cache[name] = exc
-            found = body_cache[name]
-            if isinstance(found, Exception):
-                problems.append((i, "body", name, str(found)))
-            else:
-                bodies[i] = found
-        for column, check in _CHECKS.items():
-            if column not in columns:
-                continue
-            value = row[column]
-            if str(value).strip() == "":
+                bodies[rows] = canonical_body_name(spelling)
+            except NavredError as exc:
+                problems.extend((i, "body", spelling, str(exc)) for i in rows)
+    # every other column: each distinct value is checked once (a log repeats its heights of eye,
+    # limbs and index errors), and its verdict applied to the rows that hold it
+    for column, check in _CHECKS.items():
+        if column not in columns:
+            continue
+        for value, rows in _distinct(frame[column].astype(str)):
+            if value.strip() == "":
                 if column in REQUIRED:
-                    problems.append((i, column, "", f"{column} is empty"))
+                    problems.extend((i, column, "", f"{column} is empty") for i in rows)
                 continue
             try:
                 check(value)
             except NavredError as exc:
-                problems.append((i, column, str(value), str(exc)))
-        if "eye_height_m" not in columns or not str(row.get("eye_height_m", "")).strip():
-            horizon = str(row.get("horizon", "sea")).strip().lower()
-            if horizon not in ("artificial", "bubble", "mercury"):
-                problems.append((i, "eye_height_m", "", "height of eye is needed for the dip of a sea horizon"))
+                problems.extend((i, column, value, str(exc)) for i in rows)
+    eye = frame["eye_height_m"].astype(str).str.strip() if "eye_height_m" in columns else pd.Series("", index=frame.index)
+    horizon = frame["horizon"].astype(str).str.strip().str.lower() if "horizon" in columns else \
+        pd.Series("sea", index=frame.index)
+    no_eye = (eye == "").to_numpy() & ~horizon.isin(["artificial", "bubble", "mercury"]).to_numpy()
+    problems.extend((i, "eye_height_m", "", "height of eye is needed for the dip of a sea horizon")
+                    for i in np.flatnonzero(no_eye))
     rejected = pd.DataFrame(problems, columns=REJECTED_COLUMNS)
     rejected["row"] = rejected["row"] + 1
     bad_rows = set(rejected["row"] - 1)
-    keep = np.array([i not in bad_rows for i in range(n)], dtype=bool)
+    keep = ~np.isin(np.arange(n), list(bad_rows))
     sights = frame[keep].copy()
     sights["utc"] = utc[keep]
     sights["body"] = bodies[keep]
@@ -277,6 +267,44 @@ def read_sight_log(path) -> tuple[pd.DataFrame, pd.DataFrame]:
     sights = sights.reset_index(drop=True)
     sights["fix_group"] = _fix_groups(sights)
     return sights, rejected.sort_values(["row"], kind="stable").reset_index(drop=True)
+
+
+def _distinct(values: pd.Series):
+    """(value, row numbers) for each distinct value of a column."""
+    codes, uniques = pd.factorize(values, sort=False)
+    order = np.argsort(codes, kind="stable")
+    bounds = np.searchsorted(codes[order], np.arange(len(uniques) + 1))
+    for k, value in enumerate(uniques):
+        yield value, order[bounds[k]:bounds[k + 1]]
+
+
+def _utc_column(frame: pd.DataFrame, columns: set[str], problems: list) -> np.ndarray:
+    """Every row's instant as ISO 8601 UTC text ('' where it cannot be read; the reason noted).
+
+    The whole column is read at once; only when that fails are the rows read one by one
+    to find which, and why.
+    """
+    n = len(frame)
+    out = np.full(n, "", dtype=object)
+    if not ("utc" in columns or {"date", "zone_time", "zone_description"} <= columns):
+        return out
+    if "utc" in columns and "chronometer_error_s" not in columns and "date" not in columns:
+        text = frame["utc"].astype(str).str.strip().to_numpy(dtype=object)
+        try:
+            # a leap second 23:59:60.x comes back as 23:59:59.999999, as the row-by-row path gives it
+            stamps = utc_jd_to_datetime64(*utc_julian_date(text))
+            out[:] = [f"{v}Z" for v in np.datetime_as_string(stamps, unit="us")]
+            return out
+        except NavredError:
+            pass  # some rows are bad: read them one by one below
+    for i in range(n):
+        row = frame.iloc[i]
+        try:
+            out[i] = _iso_utc(row, columns)
+        except (NavredError, ValueError) as exc:
+            column = "utc" if "utc" in columns and str(row.get("utc", "")).strip() else "zone_time"
+            problems.append((i, column, str(row.get(column, "")), str(exc)))
+    return out
 
 
 def _fix_groups(sights: pd.DataFrame) -> pd.Series:

@@ -195,21 +195,29 @@ def _write_sheet(sheet, frame: pd.DataFrame, *, wide: dict[str, int] | None = No
                 cell.number_format = "0.000" if "deg" in str(name) else "0.00"
 
 
+def _front_sheet(book, title: str, heading: str):
+    """The first sheet of a workbook: its heading and the safety caution, prominent at the top."""
+    from openpyxl.styles import Alignment, Font
+
+    sheet = book.active
+    sheet.title = title
+    sheet["A1"] = heading
+    sheet["A1"].font = Font(bold=True, size=14)
+    sheet["A3"] = SAFETY
+    sheet["A3"].font = Font(bold=True, color="9B1D20")
+    sheet["A3"].alignment = Alignment(wrap_text=True, vertical="top")
+    sheet.merge_cells("A3:D3")
+    sheet.row_dimensions[3].height = 75
+    return sheet
+
+
 def write_workbook(voyage, path, *, plots: bool = True) -> Path:
     """Write the spreadsheet log of a :class:`navred.voyage.VoyageResult` to ``path`` (.xlsx)."""
     from openpyxl import Workbook
     from openpyxl.styles import Alignment, Font
 
     book = Workbook()
-    about = book.active
-    about.title = "About"
-    about["A1"] = "navred sight-reduction log"
-    about["A1"].font = Font(bold=True, size=14)
-    about["A3"] = SAFETY
-    about["A3"].font = Font(bold=True, color="9B1D20")
-    about["A3"].alignment = Alignment(wrap_text=True, vertical="top")
-    about.merge_cells("A3:D3")
-    about.row_dimensions[3].height = 75
+    about = _front_sheet(book, "About", "navred sight-reduction log")
     about["A5"] = "Summary"
     about["A5"].font = Font(bold=True)
     about["B5"] = voyage.summary()
@@ -419,18 +427,11 @@ def write_plots(voyage, folder, formats=("png", "svg")) -> list[Path]:
 def write_lunar_workbook(inputs: dict, result: dict, path) -> Path:
     """A small workbook of one lunar distance: the caution, the inputs and every result line."""
     from openpyxl import Workbook
-    from openpyxl.styles import Alignment, Font
+    from openpyxl.styles import Font
 
     book = Workbook()
-    sheet = book.active
-    sheet.title = "Lunar distance"
-    sheet["A1"] = "navred lunar distance"
-    sheet["A1"].font = Font(bold=True, size=14)
-    sheet["A2"] = SAFETY
-    sheet["A2"].alignment = Alignment(wrap_text=True, vertical="top")
-    sheet.merge_cells("A2:C2")
-    sheet.row_dimensions[2].height = 75
-    line = 4
+    sheet = _front_sheet(book, "Lunar distance", "navred lunar distance")
+    line = 5
     for title, block in (("Observation", inputs), ("Result", result)):
         sheet.cell(row=line, column=1, value=title).font = Font(bold=True)
         for key, value in block.items():

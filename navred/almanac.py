@@ -24,6 +24,7 @@ from dataclasses import dataclass
 
 import erfa
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .angles import wrap_360
 from .constants import (
@@ -114,7 +115,7 @@ def _lagrange4(x, grid_start, step, values):
             - (p + 1) * p * (p - 2) / 2 * y2 + (p + 1) * p * (p - 1) / 6 * y3)
 
 
-def nutation_rad(tt1, tt2, grid: bool | None = None):
+def nutation_rad(tt1: ArrayLike, tt2: ArrayLike, grid: bool | None = None) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """IAU 2000B nutation (dpsi, deps) and the equation of the equinoxes' complementary terms, radians.
 
     When a batch has more instants than the days it spans (a voyage, a fleet's
@@ -141,7 +142,7 @@ def nutation_rad(tt1, tt2, grid: bool | None = None):
     return tuple(_lagrange4(days, start, NUTATION_GRID_DAYS, v) for v in (gpsi, geps, gect))
 
 
-def bias_precession_nutation(tt1, tt2, ut11, ut12):
+def bias_precession_nutation(tt1: ArrayLike, tt2: ArrayLike, ut11: ArrayLike, ut12: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
     """GCRS -> true equator and equinox of date matrices (N, 3, 3) and GAST (radians).
 
     IAU 2006 precession as Fukushima-Williams angles (ERFA ``pfw06``) with the IAU 2000B
@@ -228,7 +229,7 @@ def _body_array(body, shape) -> np.ndarray:
     return np.broadcast_to(canonical[inverse].reshape(names.shape), shape)
 
 
-def places(body, utc, dut1_s=None) -> Places:
+def places(body: str | ArrayLike, utc: object, dut1_s: ArrayLike | None = None) -> Places:
     """Apparent geocentric places of ``body`` (name or names) at ``utc`` (instant or instants).
 
     Sequences of equal length pair element-wise and a scalar broadcasts. See
@@ -282,7 +283,7 @@ def places(body, utc, dut1_s=None) -> Places:
     )
 
 
-def body_positions(body, utc, dut1_s=None):
+def body_positions(body: str | ArrayLike, utc: object, dut1_s: ArrayLike | None = None):
     """Almanac data of bodies at instants, as a pandas DataFrame (one row per pair).
 
     ``body``: a name or a sequence of names (stars by their IAU names, Sun, Moon,
@@ -324,7 +325,7 @@ def body_positions(body, utc, dut1_s=None):
     return frame
 
 
-def gha_aries_deg(utc, dut1_s=None) -> np.ndarray:
+def gha_aries_deg(utc: object, dut1_s: ArrayLike | None = None) -> np.ndarray:
     """Greenwich hour angle of the first point of Aries (GAST) in degrees [0, 360).
 
     >>> round(float(gha_aries_deg("2000-01-01T12:00:00Z", dut1_s=0.3554)), 3)
@@ -335,7 +336,7 @@ def gha_aries_deg(utc, dut1_s=None) -> np.ndarray:
     return np.degrees(gast)
 
 
-def lha_deg(gha_deg, lon_deg):
+def lha_deg(gha_deg: ArrayLike, lon_deg: ArrayLike) -> np.ndarray:
     """Local hour angle in degrees [0, 360): GHA plus east longitude (west negative).
 
     >>> float(lha_deg(350.0, 20.0)), float(lha_deg(10.0, -20.0))

@@ -13,6 +13,7 @@ import re
 from typing import Literal
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .constants import ARCMIN_PER_DEG, DEG_PER_HOUR
 from .errors import AngleInputError, failed_elements
@@ -32,7 +33,7 @@ _NUMBER = r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)"
 _SPLIT = re.compile(r"[°º˚d'′’m\"″”s:\s]+", re.IGNORECASE)
 
 
-def wrap_360(angle_deg):
+def wrap_360(angle_deg: ArrayLike) -> np.ndarray:
     """Angle in degrees wrapped into [0, 360).
 
     >>> float(wrap_360(-10.0)), float(wrap_360(720.5))
@@ -43,7 +44,7 @@ def wrap_360(angle_deg):
     return np.where(wrapped >= 360.0, 0.0, wrapped)
 
 
-def wrap_180(angle_deg):
+def wrap_180(angle_deg: ArrayLike) -> np.ndarray:
     """Angle in degrees wrapped into [-180, 180).
 
     >>> float(wrap_180(190.0)), float(wrap_180(-180.0))
@@ -124,7 +125,7 @@ def _checked(number: float, original: object, kind: AngleKind) -> float:
     return number
 
 
-def parse_angle(value, kind: AngleKind = "angle"):
+def parse_angle(value: object, kind: AngleKind = "angle") -> float | np.ndarray:
     """Angle in decimal degrees from navigational text or a number.
 
     ``kind`` is ``lat``, ``lon``, ``dec``, ``angle`` (0-360) or ``signed``;
@@ -168,7 +169,7 @@ def _split_minutes(angle_deg, decimals: int):
     return np.nan_to_num(degrees).astype(int), np.abs(minutes)
 
 
-def format_angle(angle_deg, kind: AngleKind = "angle", decimals: int = 1):
+def format_angle(angle_deg: ArrayLike, kind: AngleKind = "angle", decimals: int = 1) -> str | np.ndarray:
     """Navigational text for an angle in degrees: ``47° 12.4′ N``, ``005° 31.9′ W``, ``123° 45.6′``.
 
     ``lat`` and ``dec`` get N/S, ``lon`` gets E/W (three-digit degrees), ``angle``
@@ -207,7 +208,7 @@ def format_angle(angle_deg, kind: AngleKind = "angle", decimals: int = 1):
     return out.item() if out.ndim == 0 else out
 
 
-def ra_hours_to_deg(ra_hours):
+def ra_hours_to_deg(ra_hours: ArrayLike) -> np.ndarray:
     """Right ascension in degrees from hours (1 h = 15°).
 
     >>> float(ra_hours_to_deg(24.0))
@@ -216,12 +217,12 @@ def ra_hours_to_deg(ra_hours):
     return np.asarray(ra_hours, dtype=float) * DEG_PER_HOUR
 
 
-def deg_to_ra_hours(angle_deg):
+def deg_to_ra_hours(angle_deg: ArrayLike) -> np.ndarray:
     """Right ascension in hours from degrees (15° = 1 h)."""
     return np.asarray(angle_deg, dtype=float) / DEG_PER_HOUR
 
 
-def sha_deg_from_ra_hours(ra_hours):
+def sha_deg_from_ra_hours(ra_hours: ArrayLike) -> np.ndarray:
     """Sidereal hour angle in degrees, 360° − RA, from RA in hours.
 
     >>> float(sha_deg_from_ra_hours(6.0))
@@ -230,7 +231,7 @@ def sha_deg_from_ra_hours(ra_hours):
     return np.asarray(wrap_360(360.0 - ra_hours_to_deg(ra_hours)), dtype=float)
 
 
-def ra_hours_from_sha_deg(sha_deg):
+def ra_hours_from_sha_deg(sha_deg: ArrayLike) -> np.ndarray:
     """Right ascension in hours [0, 24) from sidereal hour angle in degrees.
 
     >>> float(ra_hours_from_sha_deg(270.0))
@@ -239,7 +240,7 @@ def ra_hours_from_sha_deg(sha_deg):
     return np.asarray(wrap_360(360.0 - np.asarray(sha_deg, dtype=float)), dtype=float) / DEG_PER_HOUR
 
 
-def hms_from_hours(hours, decimals: int = 2):
+def hms_from_hours(hours: ArrayLike, decimals: int = 2) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Split hours into (h, m, s) arrays, rounding seconds to ``decimals`` and carrying.
 
     >>> [float(x) for x in hms_from_hours(5.999999)]
@@ -252,7 +253,7 @@ def hms_from_hours(hours, decimals: int = 2):
     return h, m, s
 
 
-def format_hms(hours, decimals: int = 2):
+def format_hms(hours: ArrayLike, decimals: int = 2) -> str | np.ndarray:
     """Text ``05h 34m 31.94s`` for hours (RA or time).
 
     >>> format_hms(5.575539)
@@ -271,7 +272,7 @@ _HMS = re.compile(
     re.IGNORECASE)
 
 
-def hours_from_hms(value):
+def hours_from_hms(value: object) -> float | np.ndarray:
     """Hours from ``5h 34m 31.9s``, ``5 34 31.9``, ``05:34:31.9`` or a number of hours.
 
     >>> round(hours_from_hms("05h 34m 31.94s"), 6)

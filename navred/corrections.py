@@ -17,6 +17,7 @@ import re
 from dataclasses import dataclass, field
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .constants import (
     ARCMIN_PER_DEG,
@@ -37,7 +38,7 @@ LOWEST_ALTITUDE_DEG = -1.0  # below: no refraction model applies; refused
 _INDEX = re.compile(r"^\s*([+-]?\d+(?:\.\d+)?)\s*[′']?\s*(on|off)?\s*(?:the\s+arc)?\s*$", re.IGNORECASE)
 
 
-def parse_index_error_arcmin(value):
+def parse_index_error_arcmin(value: object) -> float | np.ndarray:
     """Index error in arcminutes, positive ON the arc, from a number or ``'2.1 on'`` / ``'1.5 off'``.
 
     >>> parse_index_error_arcmin("2.1 on"), parse_index_error_arcmin("1.5 off"), parse_index_error_arcmin(-0.4)
@@ -81,7 +82,7 @@ def parse_index_error_arcmin(value):
     return number
 
 
-def index_correction_arcmin(index_error_arcmin):
+def index_correction_arcmin(index_error_arcmin: ArrayLike) -> np.ndarray:
     """Index correction IC = −(index error), arcminutes (error ON the arc reads high).
 
     >>> float(index_correction_arcmin(2.1))
@@ -90,7 +91,7 @@ def index_correction_arcmin(index_error_arcmin):
     return -np.asarray(index_error_arcmin, dtype=float)
 
 
-def dip_arcmin(eye_height_m, horizon="sea"):
+def dip_arcmin(eye_height_m: ArrayLike, horizon: ArrayLike = "sea") -> np.ndarray:
     """Dip of the sea horizon in arcminutes, 1.76′ √(height of eye in metres); 0 for an artificial horizon.
 
     ``horizon`` is ``'sea'`` or ``'artificial'`` (bubble or mercury), scalar or array.
@@ -108,7 +109,7 @@ def dip_arcmin(eye_height_m, horizon="sea"):
     return np.where(artificial, 0.0, DIP_ARCMIN_PER_SQRT_M * np.sqrt(height))
 
 
-def dip_arcmin_from_feet(eye_height_ft):
+def dip_arcmin_from_feet(eye_height_ft: ArrayLike) -> np.ndarray:
     """Dip in arcminutes from height of eye in feet, 0.97′ √h.
 
     >>> round(float(dip_arcmin_from_feet(36.0)), 2)
@@ -117,7 +118,7 @@ def dip_arcmin_from_feet(eye_height_ft):
     return DIP_ARCMIN_PER_SQRT_FT * np.sqrt(np.asarray(eye_height_ft, dtype=float))
 
 
-def horizon_is_artificial(horizon):
+def horizon_is_artificial(horizon: ArrayLike) -> np.ndarray:
     """True where ``horizon`` names an artificial (bubble, mercury) horizon, False for the sea.
 
     Raises for anything else.
@@ -131,12 +132,12 @@ def horizon_is_artificial(horizon):
     return artificial
 
 
-def apparent_altitude_deg(hs_deg, ic_arcmin, dip_arcmin_):
+def apparent_altitude_deg(hs_deg: ArrayLike, ic_arcmin: ArrayLike, dip_arcmin_: ArrayLike) -> np.ndarray:
     """Apparent altitude Ha = Hs + IC − dip, degrees."""
     return np.asarray(hs_deg, dtype=float) + (np.asarray(ic_arcmin) - np.asarray(dip_arcmin_)) / ARCMIN_PER_DEG
 
 
-def refraction_arcmin(ha_deg, temperature_c=DEFAULT_TEMPERATURE_C, pressure_hpa=DEFAULT_PRESSURE_HPA):
+def refraction_arcmin(ha_deg: ArrayLike, temperature_c: ArrayLike = DEFAULT_TEMPERATURE_C, pressure_hpa: ArrayLike = DEFAULT_PRESSURE_HPA) -> np.ndarray:
     """Refraction in arcminutes at apparent altitude Ha (degrees), Bennett's formula.
 
     R = cot(Ha + 7.31 / (Ha + 4.4)) arcminutes at 10 °C and 1010 hPa (G. G. Bennett,
@@ -156,7 +157,7 @@ def refraction_arcmin(ha_deg, temperature_c=DEFAULT_TEMPERATURE_C, pressure_hpa=
     return bennett_refraction_arcmin(ha, temperature_c, pressure_hpa)
 
 
-def bennett_refraction_arcmin(ha, temperature_c, pressure_hpa):
+def bennett_refraction_arcmin(ha: ArrayLike, temperature_c: ArrayLike, pressure_hpa: ArrayLike) -> np.ndarray:
     """Bennett's refraction (arcminutes) at apparent altitude ``ha`` with no range check (see refraction_arcmin)."""
     temperature = np.asarray(temperature_c, dtype=float)
     pressure = np.asarray(pressure_hpa, dtype=float)
@@ -165,7 +166,7 @@ def bennett_refraction_arcmin(ha, temperature_c, pressure_hpa):
     return standard * (pressure / 1010.0) * (283.0 / (273.0 + temperature))
 
 
-def check_weather(temperature_c, pressure_hpa):
+def check_weather(temperature_c: ArrayLike, pressure_hpa: ArrayLike) -> None:
     """Raise for temperatures outside -50 to +60 °C or pressures outside 850-1100 hPa."""
     t = np.asarray(temperature_c, dtype=float)
     p = np.asarray(pressure_hpa, dtype=float)
@@ -181,7 +182,7 @@ _LIMBS = {"lower": 1.0, "ll": 1.0, "l": 1.0, "upper": -1.0, "ul": -1.0, "u": -1.
           "centre": 0.0, "center": 0.0, "c": 0.0, "": 0.0, "nan": 0.0, "none": 0.0}
 
 
-def limb_sign(limb):
+def limb_sign(limb: ArrayLike) -> np.ndarray:
     """+1 for a lower limb, −1 for an upper limb, 0 for the centre (``LL``/``UL`` accepted)."""
     values = np.char.lower(np.char.strip(np.asarray(limb, dtype=str)))
     known = np.isin(values, list(_LIMBS))
@@ -191,7 +192,7 @@ def limb_sign(limb):
     return np.vectorize(_LIMBS.get, otypes=[float])(values) if values.ndim else np.array(_LIMBS[str(values)])
 
 
-def semi_diameter_correction_arcmin(sd_arcmin, limb, augmentation=1.0):
+def semi_diameter_correction_arcmin(sd_arcmin: ArrayLike, limb: ArrayLike, augmentation: ArrayLike = 1.0) -> np.ndarray:
     """Semi-diameter correction in arcminutes: +SD for the lower limb, −SD for the upper, 0 for the centre.
 
     ``augmentation`` multiplies the geocentric SD (the Moon's, see :func:`moon_augmentation`).
@@ -199,7 +200,7 @@ def semi_diameter_correction_arcmin(sd_arcmin, limb, augmentation=1.0):
     return limb_sign(limb) * np.asarray(sd_arcmin, dtype=float) * augmentation
 
 
-def observer_geometry(lat_deg):  # noqa: D401
+def observer_geometry(lat_deg: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
     """Geocentric radius (Earth radii) and geodetic minus geocentric latitude (radians), WGS 84."""
     phi = np.radians(np.asarray(lat_deg, dtype=float))
     e2 = EARTH_FLATTENING * (2.0 - EARTH_FLATTENING)
@@ -209,7 +210,7 @@ def observer_geometry(lat_deg):  # noqa: D401
     return np.hypot(x, z), phi - np.arctan2(z, x)
 
 
-def topocentric_distance_ratio(altitude_deg, hp_arcmin, lat_deg=0.0, zn_deg=0.0):
+def topocentric_distance_ratio(altitude_deg: ArrayLike, hp_arcmin: ArrayLike, lat_deg: ArrayLike = 0.0, zn_deg: ArrayLike = 0.0) -> np.ndarray:
     """Topocentric over geocentric distance of a body seen at topocentric altitude and azimuth.
 
     Exact on the WGS 84 ellipsoid (observer at sea level), from the triangle of observer,
@@ -232,7 +233,7 @@ def topocentric_distance_ratio(altitude_deg, hp_arcmin, lat_deg=0.0, zn_deg=0.0)
     return np.where(np.isfinite(d), ratio, 1.0)
 
 
-def parallax_in_altitude_arcmin(altitude_deg, hp_arcmin, lat_deg=0.0, zn_deg=0.0):
+def parallax_in_altitude_arcmin(altitude_deg: ArrayLike, hp_arcmin: ArrayLike, lat_deg: ArrayLike = 0.0, zn_deg: ArrayLike = 0.0) -> np.ndarray:
     """Parallax in altitude (arcminutes) of a body at topocentric altitude and azimuth.
 
     Rigorous for an observer on the WGS 84 ellipsoid: the geocentric direction is the
@@ -254,7 +255,7 @@ def parallax_in_altitude_arcmin(altitude_deg, hp_arcmin, lat_deg=0.0, zn_deg=0.0
     return np.degrees(geocentric_altitude - h) * ARCMIN_PER_DEG
 
 
-def moon_augmentation(altitude_deg, hp_arcmin, lat_deg=0.0, zn_deg=0.0):
+def moon_augmentation(altitude_deg: ArrayLike, hp_arcmin: ArrayLike, lat_deg: ArrayLike = 0.0, zn_deg: ArrayLike = 0.0) -> np.ndarray:
     """Factor by which a body's semi-diameter grows as seen from the observer (≈ 1 + sin HP sin h)."""
     return 1.0 / topocentric_distance_ratio(altitude_deg, hp_arcmin, lat_deg, zn_deg)
 
@@ -286,10 +287,10 @@ def _note(messages: np.ndarray, mask, text: str) -> None:
     messages[mask] = np.where(messages[mask] == "", text, messages[mask] + "; " + text)
 
 
-def correct_altitudes(hs_deg, *, index_error_arcmin=0.0, eye_height_m=0.0, horizon="sea",
-                      temperature_c=DEFAULT_TEMPERATURE_C, pressure_hpa=DEFAULT_PRESSURE_HPA,
-                      limb="centre", sd_arcmin=0.0, hp_arcmin=0.0, augment_sd=False,
-                      lat_deg=0.0, zn_deg=0.0) -> AltitudeCorrections:
+def correct_altitudes(hs_deg: ArrayLike, *, index_error_arcmin: ArrayLike = 0.0, eye_height_m: ArrayLike = 0.0, horizon: ArrayLike = "sea",
+                      temperature_c: ArrayLike = DEFAULT_TEMPERATURE_C, pressure_hpa: ArrayLike = DEFAULT_PRESSURE_HPA,
+                      limb: ArrayLike = "centre", sd_arcmin: ArrayLike = 0.0, hp_arcmin: ArrayLike = 0.0, augment_sd: ArrayLike = False,
+                      lat_deg: ArrayLike = 0.0, zn_deg: ArrayLike = 0.0) -> AltitudeCorrections:
     """Apply the whole chain Hs -> Ho and return every intermediate value.
 
     Inputs broadcast. ``sd_arcmin`` and ``hp_arcmin`` are the almanac's geocentric values

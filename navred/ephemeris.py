@@ -13,6 +13,7 @@ import importlib.resources
 
 import numpy as np
 from jplephem.spk import SPK
+from numpy.typing import ArrayLike
 
 from .errors import BodyNameError
 
@@ -71,7 +72,7 @@ def _chain(body: str):
     return chain
 
 
-def barycentric_state(body: str, tdb1, tdb2=0.0) -> tuple[np.ndarray, np.ndarray]:
+def barycentric_state(body: str, tdb1: ArrayLike, tdb2: ArrayLike = 0.0) -> tuple[np.ndarray, np.ndarray]:
     """Barycentric position (km) and velocity (km/day) of a body, shape (3, ...) each.
 
     ``body`` is a lower-case key of the chain table (``earth``, ``moon``, ``sun``,
@@ -141,6 +142,6 @@ class SegmentCache:
         return body_p - earth_p[:, rows], body_v - earth_v[:, rows]
 
 
-def barycentric_position(body: str, tdb1, tdb2=0.0) -> np.ndarray:
+def barycentric_position(body: str, tdb1: ArrayLike, tdb2: ArrayLike = 0.0) -> np.ndarray:
     """Barycentric position (km) of a body, shape (3, ...)."""
     return sum(_evaluate(c, t, tdb1, tdb2, velocity=False)[0] for c, t in _chain(body))

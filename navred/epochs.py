@@ -20,6 +20,7 @@ import warnings
 
 import erfa
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .constants import DEG_PER_HOUR
 from .errors import NavredError, NavredWarning
@@ -74,7 +75,7 @@ def _from_icrs_vector(vector, epoch: str, utc):
     return erfa.anp(ra), dec
 
 
-def mean_place(ra_hours, dec_deg, from_epoch: str = "J2000", to_epoch: str = "date", utc=None):
+def mean_place(ra_hours: ArrayLike, dec_deg: ArrayLike, from_epoch: str = "J2000", to_epoch: str = "date", utc: object | None = None) -> tuple[np.ndarray, np.ndarray]:
     """Mean right ascension (hours) and declination (degrees) referred to another epoch.
 
     ``from_epoch`` and ``to_epoch`` are ``'J2000'``, ``'B1950'`` (FK4), a Julian

@@ -19,6 +19,7 @@ import numpy as np
 
 from . import __version__
 from .triangle import destination
+from .voyage import VoyageResult
 from .workbook import atomic_write
 
 GPX_NAMESPACE = "http://www.topografix.com/GPX/1/1"
@@ -32,7 +33,7 @@ def _iso(utc) -> str:
     return str(utc)[:19] + "Z"
 
 
-def write_gpx(voyage, path) -> Path:
+def write_gpx(voyage: VoyageResult, path: str | Path) -> Path:
     """GPX 1.1 waypoints of every fix and of the DR at each fix time."""
     ET.register_namespace("", GPX_NAMESPACE)
     root = ET.Element(f"{{{GPX_NAMESPACE}}}gpx", {"version": "1.1", "creator": f"navred {__version__}"})
@@ -87,7 +88,7 @@ def lop_lines(voyage, group, half_length_nm: float | None = None) -> list[dict]:
     return features
 
 
-def write_geojson(voyage, path) -> Path:
+def write_geojson(voyage: VoyageResult, path: str | Path) -> Path:
     """GeoJSON (RFC 7946) of the fixes, DRs, ellipses and lines of position."""
     features = []
     for group in _fix_groups(voyage):

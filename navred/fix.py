@@ -24,6 +24,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .angles import wrap_180, wrap_360
 from .constants import ARCMIN_PER_DEG
@@ -50,7 +51,7 @@ def chi_square_2_quantile(p: float) -> float:
     return -2.0 * np.log(1.0 - p)
 
 
-def f_2_quantile(p: float, dof):
+def f_2_quantile(p: float, dof: ArrayLike) -> np.ndarray:
     """Quantile of the F distribution with (2, dof) degrees of freedom, closed form.
 
     For two numerator degrees of freedom the CDF is 1 − (1 + 2x/ν)^(−ν/2), so
@@ -61,7 +62,7 @@ def f_2_quantile(p: float, dof):
         return dof / 2.0 * ((1.0 - p) ** (-2.0 / dof) - 1.0)
 
 
-def move_position(lat_deg, lon_deg, north_nm, east_nm):
+def move_position(lat_deg: ArrayLike, lon_deg: ArrayLike, north_nm: ArrayLike, east_nm: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
     """Position moved by a displacement in nautical miles north and east (mid-latitude sailing)."""
     lat = np.asarray(lat_deg, dtype=float) + np.asarray(north_nm, dtype=float) / ARCMIN_PER_DEG
     lat = np.clip(lat, -89.999999, 89.999999)
@@ -70,7 +71,7 @@ def move_position(lat_deg, lon_deg, north_nm, east_nm):
     return lat, wrap_180(lon)
 
 
-def velocity_kn(course_deg, speed_kn):
+def velocity_kn(course_deg: ArrayLike, speed_kn: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
     """(north, east) components in knots of a course and speed."""
     c = np.radians(np.asarray(course_deg, dtype=float))
     s = np.asarray(speed_kn, dtype=float)
@@ -94,9 +95,9 @@ class CoreFixes:
     iterations: int
 
 
-def solve_fixes(gha_deg, dec_deg, ho_deg, lat0_deg, lon0_deg, *, run_north_nm=0.0, run_east_nm=0.0,
-                dt_hours=0.0, weights=1.0, mask=None, solve_motion=False,
-                velocity0_kn=(0.0, 0.0)) -> CoreFixes:
+def solve_fixes(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, lat0_deg: ArrayLike, lon0_deg: ArrayLike, *, run_north_nm: ArrayLike = 0.0, run_east_nm: ArrayLike = 0.0,
+                dt_hours: ArrayLike = 0.0, weights: ArrayLike = 1.0, mask: ArrayLike | None = None, solve_motion: ArrayLike = False,
+                velocity0_kn: ArrayLike = (0.0, 0.0)) -> CoreFixes:
     """Solve many independent fixes at once by Gauss-Newton on the sphere.
 
     Arrays of shape (fixes, sights): ``gha_deg``, ``dec_deg``, ``ho_deg`` of each sight,
@@ -172,7 +173,7 @@ def solve_fixes(gha_deg, dec_deg, ho_deg, lat0_deg, lon0_deg, *, run_north_nm=0.
                      np.where(use, zn, np.nan), np.linalg.inv(normal), jac, n_used, converged, iterations)
 
 
-def error_ellipse(covariance_nm2, scale):
+def error_ellipse(covariance_nm2: ArrayLike, scale: ArrayLike) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Semi-major and semi-minor axes (nm) and true bearing of the major axis (0-180°).
 
     ``covariance_nm2`` (..., 2, 2) in (north, east); ``scale`` multiplies the standard
@@ -286,7 +287,7 @@ def _times_hours(utc64, at_utc):
     return hours, fix64[0]
 
 
-def fix_position(reduced, at_utc=None, *, chart_lat=None, chart_lon=None, solve_motion: bool = False,
+def fix_position(reduced: object, at_utc: object | None = None, *, chart_lat: ArrayLike | None = None, chart_lon: ArrayLike | None = None, solve_motion: bool = False,
                  set_deg: float | None = None, drift_kn: float | None = None,
                  course_deg: float | None = None, speed_kn: float | None = None,
                  _refit_without_outliers: bool = True) -> FixResult:
@@ -494,7 +495,7 @@ def _expand(result: FixResult, rows, n_rows, fix_time) -> FixResult:
     return result
 
 
-def latitude_by_meridian_altitude(ho_deg, dec_deg, body_bearing="S", lower_transit=False):
+def latitude_by_meridian_altitude(ho_deg: ArrayLike, dec_deg: ArrayLike, body_bearing: ArrayLike = "S", lower_transit: ArrayLike = False) -> np.ndarray:
     """Latitude (degrees) from a body's observed altitude on the meridian (the noon sight).
 
     Upper transit: latitude = Dec + (90° − Ho) when the body bears south of the observer,
@@ -520,7 +521,7 @@ def latitude_by_meridian_altitude(ho_deg, dec_deg, body_bearing="S", lower_trans
     return latitude
 
 
-def latitude_by_polaris(ho_deg, gha_deg, dec_deg, lon_deg):
+def latitude_by_polaris(ho_deg: ArrayLike, gha_deg: ArrayLike, dec_deg: ArrayLike, lon_deg: ArrayLike) -> np.ndarray:
     """Latitude (degrees) from the observed altitude of Polaris, solved exactly.
 
     No table: the latitude at which the computed altitude of Polaris (from its exact GHA and

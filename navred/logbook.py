@@ -204,7 +204,7 @@ def _word(value, accepted: set[str], message: str) -> str:
     return word
 
 
-def read_sight_log(path) -> tuple[pd.DataFrame, pd.DataFrame]:
+def read_sight_log(path: str | Path) -> tuple[pd.DataFrame, pd.DataFrame]:
     """Read and validate a sight log: (sights, rejected), two DataFrames.
 
     ``sights`` holds the rows with no problem, ready for :func:`navred.reduce_sights`:

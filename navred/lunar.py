@@ -31,6 +31,7 @@ import warnings
 from dataclasses import dataclass
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .almanac import places
 from .constants import ARCMIN_PER_DEG, DEFAULT_PRESSURE_HPA, DEFAULT_TEMPERATURE_C
@@ -92,9 +93,9 @@ def _geocentric_distance_deg(moon, other) -> float:
     return _angle(a, b)
 
 
-def clear_distance(apparent_distance_deg, moon_apparent_deg, other_apparent_deg, moon_zn_deg, other_zn_deg,
-                   moon_hp_arcmin, other_hp_arcmin, lat_deg, *, temperature_c=DEFAULT_TEMPERATURE_C,
-                   pressure_hpa=DEFAULT_PRESSURE_HPA, strict: bool = True) -> float:
+def clear_distance(apparent_distance_deg: ArrayLike, moon_apparent_deg: ArrayLike, other_apparent_deg: ArrayLike, moon_zn_deg: ArrayLike, other_zn_deg: ArrayLike,
+                   moon_hp_arcmin: ArrayLike, other_hp_arcmin: ArrayLike, lat_deg: ArrayLike, *, temperature_c: ArrayLike = DEFAULT_TEMPERATURE_C,
+                   pressure_hpa: ArrayLike = DEFAULT_PRESSURE_HPA, strict: bool = True) -> float:
     """The geocentric distance (degrees) from the apparent distance and apparent altitudes of the centres.
 
     Azimuths are needed only for the side of the other body and for the oblateness term, so
@@ -145,7 +146,7 @@ def _position_angle_cos(h_self, h_other, distance):
     return float((np.sin(h2) - np.sin(h1) * np.cos(d)) / (np.cos(h1) * np.sin(d)))
 
 
-def lunar_distance(observed_distance_deg: float, other: str, utc_approx, lat_deg: float, lon_deg: float, *,
+def lunar_distance(observed_distance_deg: float, other: str, utc_approx: object, lat_deg: float, lon_deg: float, *,
                    moon_limb: str = "near", other_limb: str = "centre", index_error_arcmin: float = 0.0,
                    moon_apparent_altitude_deg: float | None = None,
                    other_apparent_altitude_deg: float | None = None,

@@ -14,6 +14,7 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .almanac import places
 from .angles import wrap_180
@@ -70,7 +71,7 @@ def _local_midnight(date, lon_deg: float) -> np.datetime64:
     return day - np.timedelta64(int(round(lon_deg / 15.0 * _NS_PER_HOUR)), "ns")
 
 
-def sun_altitude_deg(utc64, track: Track):
+def sun_altitude_deg(utc64: object, track: Track) -> np.ndarray:
     """Geocentric altitude (degrees) of the Sun's centre from the DR at the instants."""
     when = np.asarray(utc64, dtype="datetime64[ns]")
     lat, lon = track.position(when)
@@ -116,7 +117,7 @@ def _refine(times, mask, track, threshold, rising: bool, iterations: int = 14):
     return out
 
 
-def meridian_passage_utc(body: str, day_starts, track: Track, lower: bool = False):
+def meridian_passage_utc(body: str, day_starts: object, track: Track, lower: bool = False) -> np.ndarray:
     """UTC of a body's upper (or lower) meridian passage after each day start (datetime64 array).
 
     Newton's method on the local hour angle at the moving DR: the LHA changes at the body's
@@ -139,7 +140,7 @@ def meridian_passage_utc(body: str, day_starts, track: Track, lower: bool = Fals
     return guess
 
 
-def sun_events(date, lat_deg: float, lon_deg: float, eye_height_m: float = 0.0,
+def sun_events(date: object, lat_deg: float, lon_deg: float, eye_height_m: float = 0.0,
                course_deg: float = 0.0, speed_kn: float = 0.0) -> dict:
     """Twilights, sunrise, meridian passage and sunset on the local civil ``date`` (UTC instants).
 
@@ -162,7 +163,7 @@ def _check_position(lat_deg, lon_deg):
         raise NavredError(f"longitude {lon_deg!r} is outside -180 to 180°")
 
 
-def voyage_events(first_date, days: int, lat_deg: float, lon_deg: float, *, eye_height_m: float = 0.0,
+def voyage_events(first_date: object, days: int, lat_deg: float, lon_deg: float, *, eye_height_m: float = 0.0,
                   course_deg: float = 0.0, speed_kn: float = 0.0) -> dict:
     """:func:`sun_events` for ``days`` consecutive local dates along a DR track, as arrays."""
     _check_position(lat_deg, lon_deg)
@@ -185,7 +186,7 @@ def voyage_events(first_date, days: int, lat_deg: float, lon_deg: float, *, eye_
             "nautical_dusk": setting["nautical"], "track": track}
 
 
-def noon_sight(date, lat_deg: float, lon_deg: float, course_deg: float = 0.0, speed_kn: float = 0.0) -> dict:
+def noon_sight(date: object, lat_deg: float, lon_deg: float, course_deg: float = 0.0, speed_kn: float = 0.0) -> dict:
     """Local apparent noon at the moving DR and the Sun's predicted altitude then (for presetting).
 
     Returns ``utc``, ``lat_deg``, ``lon_deg`` (the DR then), ``hc_deg`` (geocentric altitude of
@@ -195,7 +196,7 @@ def noon_sight(date, lat_deg: float, lon_deg: float, course_deg: float = 0.0, sp
     return body_meridian_passage("Sun", events["meridian_passage"][0], events["track"])
 
 
-def body_meridian_passage(body: str, near_utc, track: Track) -> dict:
+def body_meridian_passage(body: str, near_utc: object, track: Track) -> dict:
     """A body's upper meridian passage nearest ``near_utc`` at the DR, and its altitude then."""
     start = np.asarray([_as_datetime64(near_utc) - np.timedelta64(12 * _NS_PER_HOUR, "ns")])
     utc = meridian_passage_utc(body, start, track)[0]
@@ -216,7 +217,7 @@ MOON_MAGNITUDE = -11.0  # a rough figure for ranking (common practice: -12.7 ful
 SUN_MAGNITUDE = -26.7
 
 
-def magnitudes(bodies, utc64) -> np.ndarray:
+def magnitudes(bodies: ArrayLike, utc64: object) -> np.ndarray:
     """Visual magnitude of each (body, instant): stars from the catalogue (Hipparcos Hp),
     planets from their distances and phase angle, the Sun and Moon as fixed figures."""
     names = np.asarray(bodies, dtype=object)
@@ -245,7 +246,7 @@ def magnitudes(bodies, utc64) -> np.ndarray:
 
 # --- The sight plan ----------------------------------------------------------------------------
 
-def position_dop(zn_deg) -> np.ndarray:
+def position_dop(zn_deg: ArrayLike) -> np.ndarray:
     """Position dilution of precision of sets of sights from their azimuths, shape (..., k) -> (...).
 
     Each sight's line: [cos Zn, sin Zn, 1], the third unknown a common altitude error (the
@@ -263,7 +264,7 @@ def position_dop(zn_deg) -> np.ndarray:
     return np.where(ok, dop, np.inf)
 
 
-def best_set(zn_deg, magnitude, count: int, valid=None, tolerance: float = 0.05):
+def best_set(zn_deg: ArrayLike, magnitude: ArrayLike, count: int, valid: ArrayLike | None = None, tolerance: float = 0.05) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Indices of the recommended set of ``count`` bodies, its DOP and the least DOP found.
 
     Every set of ``count`` among the candidates is scored by :func:`position_dop`; of the sets
@@ -313,7 +314,7 @@ def _separation_deg(dec1, ra1_h, dec2, ra2_h):
     return np.degrees(np.arccos(np.clip(cos_s, -1, 1)))
 
 
-def sight_plans(utc64, lat_deg, lon_deg, *, min_alt_deg: float = 15.0, max_alt_deg: float = 70.0,
+def sight_plans(utc64: object, lat_deg: ArrayLike, lon_deg: ArrayLike, *, min_alt_deg: float = 15.0, max_alt_deg: float = 70.0,
                 count: int = 3, moon_clear_deg: float = 15.0, max_candidates: int | None = None) -> list[SightPlan]:
     """A sight plan at each instant (vectorised over instants and bodies).
 
@@ -380,7 +381,7 @@ def sight_plans(utc64, lat_deg, lon_deg, *, min_alt_deg: float = 15.0, max_alt_d
     return plans
 
 
-def twilight_plans(first_date, days: int, lat_deg: float, lon_deg: float, *, course_deg: float = 0.0,
+def twilight_plans(first_date: object, days: int, lat_deg: float, lon_deg: float, *, course_deg: float = 0.0,
                    speed_kn: float = 0.0, eye_height_m: float = 0.0, **plan_options) -> tuple[dict, list[SightPlan]]:
     """Twilight times and a sight plan for every morning and evening of a passage.
 
@@ -406,7 +407,7 @@ def twilight_plans(first_date, days: int, lat_deg: float, lon_deg: float, *, cou
 
 # --- Compass checks ------------------------------------------------------------------------
 
-def amplitude_deg(dec_deg, lat_deg, altitude_deg=0.0):
+def amplitude_deg(dec_deg: ArrayLike, lat_deg: ArrayLike, altitude_deg: ArrayLike = 0.0) -> np.ndarray:
     """Amplitude (degrees, positive toward north) of a body at the given true altitude.
 
     At true rising or setting (altitude 0) sin A = sin δ / cos φ (common practice); at any
@@ -422,7 +423,7 @@ def amplitude_deg(dec_deg, lat_deg, altitude_deg=0.0):
         return np.where(np.abs(cos_z) <= 1.0, 90.0 - np.degrees(np.arccos(np.clip(cos_z, -1, 1))), np.nan)
 
 
-def visible_horizon_altitude_deg(eye_height_m=0.0):
+def visible_horizon_altitude_deg(eye_height_m: ArrayLike = 0.0) -> np.ndarray:
     """True altitude of a body's centre when it appears on the visible sea horizon (degrees).
 
     The apparent altitude is −dip; refraction there (Bennett at −dip) lowers the true
@@ -433,26 +434,26 @@ def visible_horizon_altitude_deg(eye_height_m=0.0):
     return apparent - refraction_arcmin(np.maximum(apparent, -1.0)) / ARCMIN_PER_DEG
 
 
-def true_azimuth(body: str, utc, lat_deg, lon_deg):
+def true_azimuth(body: str, utc: object, lat_deg: ArrayLike, lon_deg: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
     """True azimuth Zn and computed altitude Hc (degrees) of a body at instants and positions."""
     p = places(body, utc)
     hc, zn = computed_altitude_azimuth(lat_deg, lon_deg, p.gha_deg, p.dec_deg)
     return zn, hc
 
 
-def compass_error_deg(true_bearing_deg, compass_bearing_deg):
+def compass_error_deg(true_bearing_deg: ArrayLike, compass_bearing_deg: ArrayLike) -> np.ndarray:
     """Compass error (degrees, east positive): true − compass ("compass least, error east")."""
     return wrap_180(np.asarray(true_bearing_deg, dtype=float) - np.asarray(compass_bearing_deg, dtype=float))
 
 
-def deviation_deg(compass_error, variation_deg):
+def deviation_deg(compass_error: ArrayLike, variation_deg: ArrayLike) -> np.ndarray:
     """Deviation (degrees, east positive) = compass error − variation (variation east positive)."""
     return wrap_180(np.asarray(compass_error, dtype=float) - np.asarray(variation_deg, dtype=float))
 
 
 # --- Identifying an unknown body -----------------------------------------------------------
 
-def identify(altitude_deg: float, azimuth_deg: float, utc, lat_deg: float, lon_deg: float, *,
+def identify(altitude_deg: float, azimuth_deg: float, utc: object, lat_deg: float, lon_deg: float, *,
              altitude_sigma_deg: float = 1.0, azimuth_sigma_deg: float = 3.0) -> dict:
     """Catalogue bodies ranked by how well they match an observed altitude and azimuth.
 

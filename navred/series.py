@@ -15,6 +15,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .constants import ARCMIN_PER_DEG
 
@@ -25,7 +26,7 @@ SIGMAS = 3.0
 SCATTER_FLOOR_ARCMIN = 0.25  # no series is credited with less scatter than this (common practice)
 
 
-def series_ids(times_ns, body, observer, given=None) -> np.ndarray:
+def series_ids(times_ns: ArrayLike, body: ArrayLike, observer: ArrayLike, given: object | None = None) -> np.ndarray:
     """Series number of each sight: the ``given`` label where there is one, otherwise
     consecutive sights of the same body and observer less than 5 minutes apart."""
     t = np.asarray(times_ns, dtype="datetime64[ns]").astype(np.int64)
@@ -60,8 +61,8 @@ class SeriesCheck:
     best_ho_deg: np.ndarray  # the fitted curve's Ho at the best sight's time (NaN elsewhere)
 
 
-def check_series(series, ho_deg, hc_deg, *, threshold_arcmin: float = THRESHOLD_ARCMIN,
-                 sigmas: float = SIGMAS, times_ns=None) -> SeriesCheck:
+def check_series(series: object, ho_deg: ArrayLike, hc_deg: ArrayLike, *, threshold_arcmin: float = THRESHOLD_ARCMIN,
+                 sigmas: float = SIGMAS, times_ns: ArrayLike | None = None) -> SeriesCheck:
     """Check every series: fit the offset, flag sights off the curve, pick the best sight.
 
     ``hc_deg`` is each sight's Hc at its DR (the predicted curve sampled at the sight), so the
@@ -107,7 +108,7 @@ def check_series(series, ho_deg, hc_deg, *, threshold_arcmin: float = THRESHOLD_
                        scatter, flagged, best, best_ho)
 
 
-def series_of_log(reduced, *, threshold_arcmin: float = THRESHOLD_ARCMIN, sigmas: float = SIGMAS):
+def series_of_log(reduced: object, *, threshold_arcmin: float = THRESHOLD_ARCMIN, sigmas: float = SIGMAS) -> dict[str, np.ndarray]:
     """The series check of a reduced sight table (the output of ``reduce_sights``), as columns.
 
     Uses the ``series`` column where given, otherwise groups each observer's sights of one

@@ -17,6 +17,7 @@ from dataclasses import dataclass
 
 import erfa
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .constants import DAYS_PER_JULIAN_YEAR, JD_HIPPARCOS_EPOCH
 from .errors import BodyNameError
@@ -127,7 +128,7 @@ def star_index(name: str) -> int:
     return names.index(canonical)
 
 
-def star_catalogue_directions(index, tt1, tt2, earth_position_au):
+def star_catalogue_directions(index: ArrayLike, tt1: ArrayLike, tt2: ArrayLike, earth_position_au: ArrayLike) -> np.ndarray:
     """Astrometric (catalogue-to-date) unit vectors of stars as seen from the Earth, shape (3, ...).
 
     Space motion from the catalogue epoch J1991.25 and annual parallax through

@@ -21,6 +21,7 @@ from dataclasses import dataclass
 
 import erfa
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .constants import JD_J2000, SECONDS_PER_DAY
 from .errors import NavredWarning, TimeInputError, failed_elements
@@ -89,7 +90,7 @@ class Instants:
 _FIELDS = ("utc1", "utc2", "tt1", "tt2", "ut11", "ut12", "dut1_s", "ut1_source")
 
 
-def tdb_minus_tt_s(tt1, tt2):
+def tdb_minus_tt_s(tt1: ArrayLike, tt2: ArrayLike) -> np.ndarray:
     """TDB − TT in seconds, main periodic term (Explanatory Supplement 1992, eq. 2.222-1; from memory).
 
     Good to about 30 µs, far below anything navigational.
@@ -240,7 +241,7 @@ def _to_numpy_input(utc):
     return utc
 
 
-def utc_components(utc):
+def utc_components(utc: object) -> tuple[np.ndarray, ...]:
     """UTC calendar components (y, m, d, h, mi, s) arrays from any accepted instant form."""
     utc = _to_numpy_input(utc)
     if isinstance(utc, np.ndarray) and np.issubdtype(utc.dtype, np.datetime64):
@@ -294,7 +295,7 @@ def _ymd(dates):
             (dates - months).astype(int) + 1)
 
 
-def utc_julian_date(utc) -> tuple[np.ndarray, np.ndarray]:
+def utc_julian_date(utc: object) -> tuple[np.ndarray, np.ndarray]:
     """Two-part UTC (quasi-)Julian date from any accepted instant form.
 
     Refuses instants with no zone, impossible calendar values, a second 60
@@ -343,7 +344,7 @@ def utc_julian_date(utc) -> tuple[np.ndarray, np.ndarray]:
     return np.asarray(jd1, dtype=float), np.asarray(jd2, dtype=float)
 
 
-def delta_t_before_1960_s(year_fraction):
+def delta_t_before_1960_s(year_fraction: ArrayLike) -> np.ndarray:
     """TT − UT in seconds for 1900-1960, Espenak & Meeus (2006) polynomials (NASA eclipse site; from memory)."""
     y = np.asarray(year_fraction, dtype=float)
     t1, t2, t3 = y - 1900.0, y - 1920.0, y - 1950.0
@@ -375,7 +376,7 @@ def _check_dut1(dut1_s, shape):
     return dut1
 
 
-def instants(utc, dut1_s=None) -> Instants:
+def instants(utc: object, dut1_s: ArrayLike | None = None) -> Instants:
     """Every time scale for a batch of UTC instants.
 
     ``dut1_s`` (UT1 − UTC in seconds, a scalar or one per instant) overrides the
@@ -450,7 +451,7 @@ def instants(utc, dut1_s=None) -> Instants:
                     np.asarray(source, dtype=object))
 
 
-def utc_jd_to_datetime64(utc1, utc2) -> np.ndarray:
+def utc_jd_to_datetime64(utc1: ArrayLike, utc2: ArrayLike) -> np.ndarray:
     """numpy datetime64[ns] for two-part UTC Julian dates (leap second clipped to :59.999999999)."""
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", erfa.ErfaWarning)

@@ -25,7 +25,7 @@ class TrackError(NavredError):
     """A reference track that cannot be read or used."""
 
 
-def read_track(path) -> pd.DataFrame:
+def read_track(path: str | Path) -> pd.DataFrame:
     """The reference track as a DataFrame ``utc`` (datetime64[ns], UTC), ``lat_deg``, ``lon_deg``,
     sorted by time, duplicates removed."""
     file = Path(path)
@@ -134,7 +134,7 @@ def _read_csv(file: Path) -> pd.DataFrame:
                          "lon_deg": parse_angle(raw[lon_col].to_numpy(), "lon")})
 
 
-def positions_at(track: pd.DataFrame, utc64) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def positions_at(track: pd.DataFrame, utc64: object) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Track positions interpolated to the instants (linear in time, longitude unwrapped).
 
     Returns (lat_deg, lon_deg, inside): ``inside`` is False for instants outside the track's

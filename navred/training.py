@@ -81,7 +81,7 @@ def _summaries(frame: pd.DataFrame, keys: list[str]) -> pd.DataFrame:
     return pd.DataFrame(rows)
 
 
-def training_report(reduced: pd.DataFrame, track: pd.DataFrame, groups=()) -> TrainingReport:
+def training_report(reduced: pd.DataFrame, track: pd.DataFrame, groups: object = ()) -> TrainingReport:
     """The training report of a reduced log against a reference track (see the module docstring)."""
     usable = (reduced.status != "error").to_numpy()
     frame = reduced[usable].reset_index(drop=True)

@@ -12,6 +12,7 @@ every quadrant). Every function takes scalars or numpy arrays and broadcasts.
 from __future__ import annotations
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from .angles import wrap_180, wrap_360
 from .constants import ARCMIN_PER_DEG
@@ -27,7 +28,7 @@ def _check_finite(**values) -> None:
             raise AngleInputError(f"{name} must be finite; refused: {failed_elements(bad)}")
 
 
-def computed_altitude_azimuth(lat_deg, lon_deg, gha_deg, dec_deg):
+def computed_altitude_azimuth(lat_deg: ArrayLike, lon_deg: ArrayLike, gha_deg: ArrayLike, dec_deg: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
     """Computed altitude Hc and true azimuth Zn (degrees) of a body from a position.
 
     ``lat_deg`` north positive, ``lon_deg`` east positive; GHA and Dec of the body.
@@ -61,7 +62,7 @@ def computed_altitude_azimuth(lat_deg, lon_deg, gha_deg, dec_deg):
     return hc, zn
 
 
-def intercept_nm(ho_deg, hc_deg):
+def intercept_nm(ho_deg: ArrayLike, hc_deg: ArrayLike) -> np.ndarray:
     """Intercept in nautical miles, 60·(Ho − Hc): positive TOWARD the body, negative AWAY.
 
     >>> float(intercept_nm(30.5, 30.0))
@@ -70,7 +71,7 @@ def intercept_nm(ho_deg, hc_deg):
     return (np.asarray(ho_deg, dtype=float) - np.asarray(hc_deg, dtype=float)) * ARCMIN_PER_DEG
 
 
-def intercept_direction(intercept_nm_):
+def intercept_direction(intercept_nm_: ArrayLike) -> str | np.ndarray:
     """``'TOWARD'`` for a positive (or zero) intercept, ``'AWAY'`` for a negative one; '' for NaN."""
     value = np.asarray(intercept_nm_, dtype=float)
     out = np.where(value >= 0, "TOWARD", "AWAY").astype(object)
@@ -78,7 +79,7 @@ def intercept_direction(intercept_nm_):
     return out.item() if out.ndim == 0 else out
 
 
-def destination(lat_deg, lon_deg, bearing_deg, distance_nm):
+def destination(lat_deg: ArrayLike, lon_deg: ArrayLike, bearing_deg: ArrayLike, distance_nm: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
     """Position reached from (lat, lon) along a great circle at initial true bearing, distance in nm.
 
     The sphere of radius one nautical mile per arcminute (common practice).
@@ -98,7 +99,7 @@ def destination(lat_deg, lon_deg, bearing_deg, distance_nm):
     return np.degrees(phi2), wrap_180(np.degrees(lam2))
 
 
-def distance_bearing(lat1_deg, lon1_deg, lat2_deg, lon2_deg):
+def distance_bearing(lat1_deg: ArrayLike, lon1_deg: ArrayLike, lat2_deg: ArrayLike, lon2_deg: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
     """Great-circle distance (nautical miles) and initial true bearing (degrees) from point 1 to point 2.
 
     >>> d, b = distance_bearing(0.0, 0.0, 1.0, 0.0)
@@ -114,7 +115,7 @@ def distance_bearing(lat1_deg, lon1_deg, lat2_deg, lon2_deg):
     return distance, wrap_360(bearing)
 
 
-def line_of_position(lat_deg, lon_deg, intercept_nm_, zn_deg, half_length_nm=10.0):
+def line_of_position(lat_deg: ArrayLike, lon_deg: ArrayLike, intercept_nm_: ArrayLike, zn_deg: ArrayLike, half_length_nm: ArrayLike = 10.0) -> dict[str, np.ndarray]:
     """The line of position: its foot (the intercept point) and two end points.
 
     The foot lies ``intercept`` nautical miles from the assumed position along Zn (back
@@ -131,7 +132,7 @@ def line_of_position(lat_deg, lon_deg, intercept_nm_, zn_deg, half_length_nm=10.
             "end2_lat_deg": end2[0], "end2_lon_deg": end2[1], "bearing_deg": along}
 
 
-def assumed_position(lat_deg, lon_deg, gha_deg):
+def assumed_position(lat_deg: ArrayLike, lon_deg: ArrayLike, gha_deg: ArrayLike) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """The hand method's assumed position: whole-degree latitude, and the longitude within
     30′ of the DR that makes LHA a whole number of degrees.
 

@@ -8,7 +8,9 @@ the GPX/GeoJSON exports.
 from __future__ import annotations
 
 import datetime as _dt
+from collections.abc import Callable
 from dataclasses import dataclass, field
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -76,7 +78,7 @@ def _raw_text(path) -> pd.DataFrame:
     return _read_raw(Path(path)).astype(str)
 
 
-def process_log(path, *, solve_motion: bool = False, progress=None) -> VoyageResult:
+def process_log(path: str | Path, *, solve_motion: bool = False, progress: Callable[[int, int], None] | None = None) -> VoyageResult:
     """Read a sight log and do the whole job; every input row ends up reduced or rejected.
 
     ``progress`` (optional) is called with (done, total) as blocks of sights are reduced.

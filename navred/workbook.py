@@ -12,12 +12,17 @@ from __future__ import annotations
 import io
 import os
 import tempfile
+from collections.abc import Callable
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
 import pandas as pd
 
 from .angles import format_angle
+
+if TYPE_CHECKING:
+    from .voyage import VoyageResult
 
 SAFETY = ("SAFETY OF NAVIGATION: navred is an aid to navigation, not a sole means of navigation. "
           "Verify against the official nautical almanac and the publications of your flag state; "
@@ -29,7 +34,7 @@ _HEADER_FILL = "1D3557"
 _FLAG_FILL = "F4D6D9"
 
 
-def atomic_write(path, write) -> Path:
+def atomic_write(path: str | Path, write: Callable[[str], object]) -> Path:
     """Call ``write(temporary_path)`` and rename the result over ``path`` (same folder)."""
     target = Path(path)
     target.parent.mkdir(parents=True, exist_ok=True)
@@ -211,7 +216,7 @@ def _front_sheet(book, title: str, heading: str):
     return sheet
 
 
-def write_workbook(voyage, path, *, plots: bool = True) -> Path:
+def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool = True) -> Path:
     """Write the spreadsheet log of a :class:`navred.voyage.VoyageResult` to ``path`` (.xlsx)."""
     from openpyxl import Workbook
     from openpyxl.styles import Alignment, Font
@@ -405,7 +410,7 @@ def plotting_figure(voyage, group):
                           title=f"Plotting sheet: {group.name}", chart=group.chart)
 
 
-def write_plots(voyage, folder, formats=("png", "svg")) -> list[Path]:
+def write_plots(voyage: VoyageResult, folder: str | Path, formats: tuple[str, ...] = ("png", "svg")) -> list[Path]:
     """Every fix's plotting sheet as PNG and SVG files in ``folder``."""
     import re
 

@@ -9,13 +9,16 @@ from __future__ import annotations
 
 __version__ = "0.1.0"
 
-__all__ = ["__version__", "reduce_sights"]
+__all__ = ["__version__", "body_positions", "fix_position", "read_sight_log", "reduce_sights", "sun_events"]
+
+_FRONT = {"body_positions": "almanac", "fix_position": "fix", "read_sight_log": "logbook",
+          "reduce_sights": "sights", "sun_events": "plan"}
 
 
 def __getattr__(name: str):
-    # the DataFrame pipeline lives at the edge (pandas); import it only when asked for
-    if name == "reduce_sights":
-        from .sights import reduce_sights
+    # the few functions a user calls, imported only when asked for (pandas stays unloaded until then)
+    if name in _FRONT:
+        import importlib
 
-        return reduce_sights
+        return getattr(importlib.import_module(f".{_FRONT[name]}", __name__), name)
     raise AttributeError(f"module 'navred' has no attribute {name!r}")

@@ -44,7 +44,6 @@ from .stars import SOLAR_SYSTEM, canonical_body_name, star_catalogue_directions,
 from .timescales import Instants, instants
 
 _SECONDS_PER_DAY = 86400.0
-_RADII_KM = {"Sun": SUN_RADIUS_KM, "Moon": MOON_RADIUS_KM}
 
 
 @dataclass(frozen=True)
@@ -268,8 +267,7 @@ def places(body: str | ArrayLike, utc: object, dut1_s: ArrayLike | None = None) 
     ra, dec = erfa.c2s(vectors)
     with np.errstate(invalid="ignore"):
         hp = np.where(is_star, 0.0, np.degrees(np.arcsin(EARTH_EQUATORIAL_RADIUS_KM / distance)))
-    radius = np.array([_RADII_KM.get(name, 0.0) for name in names]) if n < 64 else \
-        np.select([names == "Sun", names == "Moon"], [SUN_RADIUS_KM, MOON_RADIUS_KM], 0.0)
+    radius = np.select([names == "Sun", names == "Moon"], [SUN_RADIUS_KM, MOON_RADIUS_KM], 0.0)
     with np.errstate(invalid="ignore"):
         sd = np.where(radius > 0, np.degrees(np.arcsin(radius / distance)), 0.0)
     return Places(

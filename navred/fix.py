@@ -261,9 +261,10 @@ class FixResult:
         return ChartCheck(float(lat_deg), float(lon_deg), float(distance), float(bearing), bool(inside))
 
 
-def _column(reduced, name, default=None):
+def _column(reduced, name, dtype=float):
+    """A column of the reduced table as a numpy array, or None when the table has no such column."""
     if name in getattr(reduced, "columns", []):
-        return np.asarray(reduced[name].to_numpy(), dtype=object if default == "object" else float)
+        return np.asarray(reduced[name].to_numpy(), dtype=dtype)
     return None
 
 
@@ -302,7 +303,7 @@ def fix_position(reduced: object, at_utc: object | None = None, *, chart_lat: Ar
     (``chart_lat``/``chart_lon``) is cross-checked.
     """
     n_rows = len(reduced)
-    status = _column(reduced, "status", "object")
+    status = _column(reduced, "status", object)
     ok = np.ones(n_rows, dtype=bool) if status is None else (status != "error")
     needed = ("gha_deg", "dec_deg", "ho_deg", "sight_utc", "dr_lat_deg", "dr_lon_deg")
     missing = [c for c in needed if c not in getattr(reduced, "columns", [])]
@@ -338,7 +339,7 @@ def fix_position(reduced: object, at_utc: object | None = None, *, chart_lat: Ar
     if _refit_without_outliers and result.outlier.any() and result.used.sum() - result.outlier.sum() >= 2:
         keep = ok & ~result.outlier
         # one refit only: the check fix does not hunt for further blunders in its turn
-        sub = fix_position(_subset(reduced, keep), at_utc=at, solve_motion=solve_motion, set_deg=set_deg,
+        sub = fix_position(reduced[keep], at_utc=at, solve_motion=solve_motion, set_deg=set_deg,
                            drift_kn=drift_kn, course_deg=course_deg, speed_kn=speed_kn,
                            _refit_without_outliers=False)
         if sub is not None:
@@ -353,10 +354,6 @@ def fix_position(reduced: object, at_utc: object | None = None, *, chart_lat: Ar
         result.chart_distance_nm, result.chart_bearing_deg = check.distance_nm, check.bearing_deg
         result.chart_inside_ellipse = check.inside_ellipse
     return result
-
-
-def _subset(reduced, keep):
-    return reduced[keep]
 
 
 def _reindexed(result: FixResult, rows, n_rows) -> FixResult:

@@ -206,3 +206,12 @@ def test_series_and_lunar_commands(tmp_path):
     bad = runner.invoke(app, ["lunar", "29 44.7", "--other", "Moon", "--utc", "2024-09-12T19:33:00Z",
                               "--lat", "30 N", "--lon", "040 W"])
     assert bad.exit_code == 1 and "not to itself" in bad.output
+
+
+def test_the_package_front_names_what_a_user_calls():
+    import navred
+
+    for name in navred.__all__:
+        assert getattr(navred, name) is not None
+    frame = navred.body_positions("Vega", "2026-03-26T19:45:00Z")
+    assert frame.body[0] == "Vega"

@@ -406,12 +406,12 @@ def plan_command(
         for d in range(days):
             values = {k: events[k][d] for k in EVENT_KEYS}
             noon = body_meridian_passage("Sun", values["meridian_passage"], events["track"])
-            typer.echo(f"{str(events['date'][d]):<12}" + "".join(f"{_time_text(values[k])[11:19]:>18}" for k in EVENT_KEYS)
+            typer.echo(f"{str(events['date'][d]):<12}" + "".join(f"{_time_text(values[k])[5:19]:>18}" for k in EVENT_KEYS)
                        + f"   {format_angle(noon['hc_deg'], 'signed')} {noon['bearing']}")
             rows.append({"date": str(events["date"][d]), **{k: _time_text(values[k]) for k in EVENT_KEYS},
                          "noon_lat_deg": noon["lat_deg"], "noon_lon_deg": noon["lon_deg"],
                          "noon_hc_deg": noon["hc_deg"], "noon_bearing": noon["bearing"]})
-        typer.echo("times are UTC; '-' means the event does not happen that day")
+        typer.echo("times are UTC (month-day hour:minute:second); '-' means the event does not happen that day")
         typer.echo("")
         for k, plan in enumerate(plans):
             label = "Sight plan" if at is not None else f"Twilight {k + 1}"

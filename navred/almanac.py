@@ -245,10 +245,8 @@ def places(body: str | ArrayLike, utc: object, dut1_s: ArrayLike | None = None) 
             "instants: give one of each, one body for many instants, or equal numbers to pair") from None
     names = _body_array(body, shape).ravel()
     if inst.shape != shape:
-        inst = Instants(*(np.broadcast_to(getattr(inst, f), shape) for f in
-                          ("utc1", "utc2", "tt1", "tt2", "ut11", "ut12", "dut1_s", "ut1_source")))
-    flat = Instants(*(np.ascontiguousarray(getattr(inst, f)).ravel() for f in
-                      ("utc1", "utc2", "tt1", "tt2", "ut11", "ut12", "dut1_s", "ut1_source")))
+        inst = inst.broadcast_to(shape)
+    flat = inst.ravel()
     n = names.size
     frame = _frame(flat)
     vectors = np.zeros((n, 3))

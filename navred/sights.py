@@ -16,7 +16,7 @@ from .angles import parse_angle
 from .corrections import correct_altitudes, parse_index_error_arcmin
 from .errors import NavredError
 from .stars import canonical_body_name
-from .timescales import UT1_BEFORE, UT1_BEYOND, utc_julian_date
+from .timescales import INSTANT_FIELDS, UT1_BEFORE, UT1_BEYOND, utc_julian_date
 from .triangle import (
     HIGH_ALTITUDE_DEG,
     computed_altitude_azimuth,
@@ -153,7 +153,7 @@ def _places_with_dut1(bodies, utc_values, dut1):
         merged[name] = column
     inst = table.instants
     parts = {}
-    for name in ("utc1", "utc2", "tt1", "tt2", "ut11", "ut12", "dut1_s", "ut1_source"):
+    for name in INSTANT_FIELDS:
         column = np.array(getattr(inst, name))
         column[given] = getattr(from_log.instants, name)
         parts[name] = column
@@ -187,12 +187,17 @@ def reduce_sights(sights: pd.DataFrame) -> pd.DataFrame:
     '2.1 on'/'1.5 off'), ``eye_height_m`` (required for a sea horizon), ``horizon``
     (sea/artificial), ``temperature_c`` and ``pressure_hpa`` (10 °C and 1010 hPa by default)
     are optional. Angles may be decimal degrees or navigational text (``47 12.4 N``).
-    Unknown columns are carried through. The added columns are :data:`RESULT_COLUMNS`.
+    Unknown columns are carried through. The added columns are :data:`RESULT_COLUMNS`; an
+    input column of the same name (such as the log's own ``dut1_s``) is kept as
+    ``"<name> (as read)"``.
     """
     frame = _normalised(sights).reset_index(drop=True)
     added = pd.concat([_reduce_block(frame.iloc[i:i + BLOCK_ROWS].reset_index(drop=True))
                        for i in range(0, max(len(frame), 1), BLOCK_ROWS)], ignore_index=True)
-    return pd.concat([sights.reset_index(drop=True), added], axis=1)
+    carried = sights.reset_index(drop=True)
+    # an input column named like a result column (a log's own dut1_s, status...) is kept, renamed
+    clash = {c: f"{c} (as read)" for c in carried.columns if str(c).strip().lower() in RESULT_COLUMNS}
+    return pd.concat([carried.rename(columns=clash), added], axis=1)
 
 
 def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:

@@ -84,10 +84,16 @@ class Instants:
         return utc_jd_to_datetime64(self.utc1, self.utc2)
 
     def __getitem__(self, index) -> Instants:
-        return Instants(*(np.asarray(getattr(self, f))[index] for f in _FIELDS))
+        return Instants(*(np.asarray(getattr(self, f))[index] for f in INSTANT_FIELDS))
+
+    def broadcast_to(self, shape: tuple[int, ...]) -> Instants:
+        return Instants(*(np.broadcast_to(getattr(self, f), shape) for f in INSTANT_FIELDS))
+
+    def ravel(self) -> Instants:
+        return Instants(*(np.ascontiguousarray(getattr(self, f)).ravel() for f in INSTANT_FIELDS))
 
 
-_FIELDS = ("utc1", "utc2", "tt1", "tt2", "ut11", "ut12", "dut1_s", "ut1_source")
+INSTANT_FIELDS = ("utc1", "utc2", "tt1", "tt2", "ut11", "ut12", "dut1_s", "ut1_source")
 
 
 def tdb_minus_tt_s(tt1: ArrayLike, tt2: ArrayLike) -> np.ndarray:

@@ -133,3 +133,16 @@ def test_demo_sights_reduce_near_the_stated_truth():
     reduced = reduce_sights(frame)
     assert (reduced.status == "ok").all()
     assert np.abs(reduced.intercept_nm).max() < 1.2
+
+
+def test_dut1_from_the_log_where_given_and_from_the_table_elsewhere():
+    sights = pd.DataFrame({"utc": ["2026-03-26T19:41:00Z"] * 2, "body": ["Sirius"] * 2, "hs": [30.0, 30.0],
+                           "eye_height_m": [2.8, 2.8], "dr_lat": [43.2, 43.2], "dr_lon": [-13.1, -13.1],
+                           "dut1_s": ["-0.3", ""]})
+    reduced = reduce_sights(sights)
+    assert list(reduced.ut1_source) == ["given by the caller", "IERS measured"]
+    assert reduced.dut1_s[0] == -0.3
+    # 0.355 s of UT1 is about 0.09′ of GHA (15″ per second of time; common practice)
+    difference = (reduced.gha_deg[0] - reduced.gha_deg[1]) * 60
+    expected = (reduced.dut1_s[0] - reduced.dut1_s[1]) * 15.0 / 60 * 1.0027379
+    assert difference == pytest.approx(expected, abs=0.001)

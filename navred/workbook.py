@@ -256,6 +256,9 @@ def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool = True
     about.column_dimensions["B"].width = 110
     for cell in about["B"]:
         cell.alignment = Alignment(wrap_text=True, vertical="top")
+        if cell.value and len(str(cell.value)) > 100:
+            # spreadsheet programs do not grow a row for wrapped text they did not lay out themselves
+            about.row_dimensions[cell.row].height = 15 * (len(str(cell.value)) // 100 + 1)
 
     _write_sheet(book.create_sheet("Sights as read"), voyage.raw)
     _write_sheet(book.create_sheet("Working"), working_table(voyage), flag_column="flags")
@@ -279,7 +282,20 @@ def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool = True
                 continue
             _add_figure(fixes_sheet, plotting_figure(voyage, group), f"A{anchor_row}", 560, 560)
             anchor_row += 30
+    _fit_pages(book)
     return atomic_write(path, book.save)
+
+
+def _fit_pages(book) -> None:
+    """Print each sheet landscape, one page wide, so a printed log keeps its columns together."""
+    for sheet in book.worksheets:
+        sheet.page_setup.orientation = "landscape"
+        sheet.print_title_rows = "1:1" if sheet.title not in ("About", "Training", "Lunar distance") else None
+        if sheet.max_column > 14:
+            continue  # too wide to shrink onto one page: it prints across pages, headers repeated
+        sheet.sheet_properties.pageSetUpPr.fitToPage = True
+        sheet.page_setup.fitToWidth = 1
+        sheet.page_setup.fitToHeight = 0
 
 
 def _write_training_sheet(sheet, report, plots: bool) -> None:
@@ -446,4 +462,5 @@ def write_lunar_workbook(inputs: dict, result: dict, path) -> Path:
         line += 2
     sheet.column_dimensions["A"].width = 32
     sheet.column_dimensions["B"].width = 60
+    _fit_pages(book)
     return atomic_write(path, book.save)

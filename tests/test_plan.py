@@ -113,6 +113,7 @@ def test_moving_vessel_events_follow_the_track(ts, eph):
 
 
 def test_dip_makes_the_sun_rise_earlier_and_set_later():
+    # a higher eye sees past the Sun's true horizon: earlier rising, later setting (common practice)
     sea = sun_events("2024-09-15", 45.0, -20.0)
     high = sun_events("2024-09-15", 45.0, -20.0, eye_height_m=30.0)
     assert pd.Timestamp(high["sunrise"]) < pd.Timestamp(sea["sunrise"])

@@ -70,7 +70,8 @@ def test_planted_blunders_are_flagged_and_the_best_sight_is_true(ts, eph):
 
 
 def test_check_series_by_hand():
-    # a flat curve (Hc = 0) and residuals in arcminutes: one blunder of 4′ among tight sights
+    # worked by hand: a flat curve (Hc = 0) and residuals in arcminutes, one blunder of 4′ among
+    # tight sights; its distance from the others' mean (0.05′) is over 2′
     residual = np.array([0.1, -0.2, 0.3, 4.2, 0.0])
     check = check_series(["a"] * 5, residual / 60, np.zeros(5))
     assert list(check.flagged) == [False, False, False, True, False]

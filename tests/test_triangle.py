@@ -33,6 +33,7 @@ def test_body_at_the_zenith_has_hc_90(lat, lon):
 
 @given(lats, decs)
 def test_body_on_the_upper_meridian(lat, dec):
+    # spherical trigonometry of the navigational triangle with LHA = 0 (common practice)
     # LHA = 0: Hc = 90° − |φ − δ|, Zn = 0° (body north of the observer) or 180° (south)
     hc, zn = computed_altitude_azimuth(lat, 20.0, -20.0, dec)
     assert float(hc) == pytest.approx(90.0 - abs(lat - dec), abs=1e-6)
@@ -42,6 +43,7 @@ def test_body_on_the_upper_meridian(lat, dec):
 
 @given(decs, st.floats(min_value=0.0, max_value=360.0), lons)
 def test_at_the_north_pole_hc_equals_dec(dec, gha, lon):
+    # spherical trigonometry: at the pole the horizon is the equator, so Hc = Dec (common practice)
     hc, zn = computed_altitude_azimuth(90.0, lon, gha, dec)
     assert float(hc) == pytest.approx(dec, abs=1e-6)
     assert 0.0 <= float(zn) < 360.0
@@ -49,6 +51,7 @@ def test_at_the_north_pole_hc_equals_dec(dec, gha, lon):
 
 @given(lats, decs)
 def test_continuous_across_lha_0_360(lat, dec):
+    # the cosine and atan2 formulas are continuous in LHA (spherical trigonometry; common practice)
     eps = 1e-7
     a = computed_altitude_azimuth(lat, 0.0, 360.0 - eps, dec)
     b = computed_altitude_azimuth(lat, 0.0, eps, dec)
@@ -88,11 +91,13 @@ def test_bad_inputs():
 
 
 def test_intercept_toward_and_away():
+    # Marcq St Hilaire: intercept = 60 (Ho − Hc) nm, positive toward the body (common practice)
     assert float(intercept_nm(30.1, 30.0)) == pytest.approx(6.0)
     assert list(intercept_direction(np.array([6.0, -2.0, np.nan]))) == ["TOWARD", "AWAY", ""]
 
 
 def test_line_of_position_is_perpendicular_to_zn_through_the_foot():
+    # the LOP runs through the intercept point at right angles to Zn (common practice)
     lop = line_of_position(45.0, -10.0, 12.0, 60.0, half_length_nm=5.0)
     d, b = distance_bearing(45.0, -10.0, lop["foot_lat_deg"], lop["foot_lon_deg"])
     assert float(d) == pytest.approx(12.0, abs=1e-6) and float(b) == pytest.approx(60.0, abs=1e-6)
@@ -111,6 +116,7 @@ def test_destination_and_distance_are_inverse():
 
 
 def test_assumed_position_makes_lha_whole():
+    # the hand method's AP: whole-degree latitude, whole LHA, within 30′ of the DR (common practice)
     ap_lat, ap_lon, lha = assumed_position(np.array([47.6, -12.2]), np.array([-5.3, 150.6]),
                                            np.array([100.25, 10.9]))
     assert list(ap_lat) == [48.0, -12.0]

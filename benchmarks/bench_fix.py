@@ -15,7 +15,8 @@ import time
 import numpy as np
 import pandas as pd
 
-from navred.fix import fix_position, move_position, solve_fixes
+from navred.fix import move_position, solve_fixes
+from navred.frames import fix_position
 from navred.triangle import computed_altitude_azimuth
 
 

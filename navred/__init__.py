@@ -9,10 +9,11 @@ from __future__ import annotations
 
 __version__ = "0.1.0"
 
-__all__ = ["__version__", "body_positions", "fix_position", "read_sight_log", "reduce_sights", "sun_events"]
+__all__ = ["__version__", "body_positions", "fix_position", "process_log", "read_sight_log", "reduce_sights",
+           "sun_events"]
 
-_FRONT = {"body_positions": "almanac", "fix_position": "fix", "read_sight_log": "logbook",
-          "reduce_sights": "sights", "sun_events": "plan"}
+_FRONT = {"body_positions": "frames", "fix_position": "frames", "read_sight_log": "logbook",
+          "reduce_sights": "sights", "sun_events": "plan", "process_log": "voyage"}
 
 
 def __getattr__(name: str):

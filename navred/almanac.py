@@ -279,48 +279,6 @@ def places(body: str | ArrayLike, utc: object, dut1_s: ArrayLike | None = None) 
     )
 
 
-def body_positions(body: str | ArrayLike, utc: object, dut1_s: ArrayLike | None = None):
-    """Almanac data of bodies at instants, as a pandas DataFrame (one row per pair).
-
-    ``body``: a name or a sequence of names (stars by their IAU names, Sun, Moon,
-    Venus, Mars, Jupiter, Saturn); ``utc``: an instant or a sequence (ISO 8601 with
-    a zone, timezone-aware datetime, pandas Timestamps, numpy datetime64 as UTC);
-    sequences of equal length pair element-wise and a scalar broadcasts.
-    ``dut1_s`` overrides the IERS UT1 − UTC (scalar or one per instant).
-
-    Columns: ``body``, ``utc``, ``gha_aries_deg``, ``ra_hours``, ``sha_deg``,
-    ``gha_deg``, ``dec_deg``, ``hp_arcmin`` (0 for stars), ``sd_arcmin`` (0 for stars
-    and planets), ``distance_km`` (NaN for stars), ``dut1_s`` and ``ut1_source``.
-
-    This is the one core function that returns a DataFrame; pandas is imported
-    only here (the array form is :func:`places`).
-
-    >>> row = body_positions("Sun", "2026-06-21T12:00:00Z", dut1_s=0.0).iloc[0]
-    >>> round(float(row.dec_deg), 2)
-    23.44
-    """
-    import pandas as pd
-
-    result = places(body, utc, dut1_s)
-    flat = {name: np.ravel(value) for name, value in {
-        "body": result.body,
-        "utc": result.instants.utc_datetime64(),
-        "gha_aries_deg": result.gha_aries_deg,
-        "ra_hours": result.ra_hours,
-        "sha_deg": result.sha_deg,
-        "gha_deg": result.gha_deg,
-        "dec_deg": result.dec_deg,
-        "hp_arcmin": result.hp_arcmin,
-        "sd_arcmin": result.sd_arcmin,
-        "distance_km": result.distance_km,
-        "dut1_s": result.instants.dut1_s,
-        "ut1_source": result.instants.ut1_source,
-    }.items()}
-    frame = pd.DataFrame(flat)
-    frame["utc"] = pd.to_datetime(frame["utc"]).dt.tz_localize("UTC")
-    return frame
-
-
 def gha_aries_deg(utc: object, dut1_s: ArrayLike | None = None) -> np.ndarray:
     """Greenwich hour angle of the first point of Aries (GAST) in degrees [0, 360).
 

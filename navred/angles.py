@@ -18,19 +18,24 @@ from numpy.typing import ArrayLike
 from .constants import ARCMIN_PER_DEG, DEG_PER_HOUR
 from .errors import AngleInputError, failed_elements
 
-AngleKind = Literal["lat", "lon", "dec", "angle", "signed"]
+AngleKind = Literal["lat", "lon", "dec", "angle", "signed", "variation"]
 
 _ACCEPTED = {
-    "lat": "47° 12.4′ N, 47 12.4 N, N 47 12.4, 47°12.4'N, 47.2067 or -47.2067 (south negative)",
-    "lon": "005° 31.9′ W, 5 31.9 W, W 5 31.9, -5.5317 (west negative) or 354.47 (east of Greenwich)",
-    "dec": "23° 26.2′ S, 23 26.2 S, -23.437 (south negative)",
+    "lat": "47° 12.4′ N, 47 12.4 N, N 47 12.4, 47°12.4'N, 44 10'.1 N, or a signed decimal 47.2067 / -47.2067 "
+           "(north positive, ISO 6709)",
+    "lon": "005° 31.9′ W, 5 31.9 W, W 5 31.9, or a signed decimal -5.5317 (east positive, ISO 6709; "
+           "354.47 east of Greenwich is read too)",
+    "dec": "23° 26.2′ S, 23 26.2 S, or a signed decimal -23.437 (north positive)",
+    "variation": "4 W, 3.5 E, 3 30 E, or a signed decimal -4.0 (east positive)",
     "angle": "123° 45.6′, 123 45.6, 123.76",
     "signed": "-0° 12.5′, -0 12.5, -0.2083",
 }
-_HEMISPHERES = {"lat": "NS", "dec": "NS", "lon": "EW"}
-_LIMITS = {"lat": 90.0, "dec": 90.0, "lon": 360.0, "angle": 360.0, "signed": 360.0}
+_HEMISPHERES = {"lat": "NS", "dec": "NS", "lon": "EW", "variation": "EW"}
+_LIMITS = {"lat": 90.0, "dec": 90.0, "lon": 360.0, "angle": 360.0, "signed": 360.0, "variation": 180.0}
 _NUMBER = r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)"
 _SPLIT = re.compile(r"[°º˚d'′’m\"″”s:\s]+", re.IGNORECASE)
+_MARK_THEN_POINT = re.compile(r"(\d)\s*['′’\"″”]\s*\.(\d)")
+_HEMISPHERE_OF = {"N": "a latitude", "S": "a latitude", "E": "a longitude", "W": "a longitude"}
 
 
 def wrap_360(angle_deg: ArrayLike) -> np.ndarray:
@@ -53,53 +58,78 @@ def wrap_180(angle_deg: ArrayLike) -> np.ndarray:
     return np.mod(np.asarray(angle_deg, dtype=float) + 180.0, 360.0) - 180.0
 
 
-def _parse_one(value: object, kind: AngleKind) -> float:
+def _refused(value: object, kind: AngleKind, why: str = "") -> AngleInputError:
+    reason = f": {why}" if why else ""
+    return AngleInputError(f"cannot read {value!r} as a {_NAMES[kind]}{reason}; accepted: {_ACCEPTED[kind]}")
+
+
+def _parse_one(value: object, kind: AngleKind, decimal_comma: bool = False) -> float:
     if isinstance(value, (int, float, np.integer, np.floating)) and not isinstance(value, bool):
         number = float(value)
         if not math.isfinite(number):
             raise AngleInputError(f"{kind} {value!r} is not a finite number; accepted: {_ACCEPTED[kind]}")
         return _checked(number, value, kind)
     if not isinstance(value, str):
-        raise AngleInputError(f"cannot read {value!r} as a {_NAMES[kind]}; accepted: {_ACCEPTED[kind]}")
-    text = value.strip()
+        raise _refused(value, kind)
+    text = value.strip().replace("−", "-").replace("–", "-")
+    if "," in text:
+        if not decimal_comma:
+            raise _refused(value, kind, "a comma here is ambiguous (a decimal comma, or two values?); write "
+                                        "the decimal with a point")
+        if "." in text or text.count(",") > 1:
+            raise _refused(value, kind, "both a decimal comma and a point")
+        text = text.replace(",", ".")
+    text = _MARK_THEN_POINT.sub(r"\1.\2", text)  # 44° 10'.1: the point written after the minute mark
     hemi = None
     letters = _HEMISPHERES.get(kind, "")
-    if text and letters and text[-1].upper() in letters and not text[-1].isdigit():
-        hemi, text = text[-1].upper(), text[:-1].strip()
-    elif text and letters and text[0].upper() in letters:
-        hemi, text = text[0].upper(), text[1:].strip()
+    if letters and text:
+        last, first = text[-1].upper(), text[0].upper()
+        if last in "NSEW" and first in "NSEW":
+            raise _refused(value, kind, "a hemisphere letter at both ends")
+        for letter, rest in ((last, text[:-1]), (first, text[1:])):
+            if letter in "NSEW":
+                if letter not in letters:
+                    raise _refused(value, kind, f"{letter} is a hemisphere of {_HEMISPHERE_OF[letter]}, and "
+                                                f"a {_NAMES[kind]} takes {letters[0]} or {letters[1]}")
+                hemi, text = letter, rest.strip()
+                break
     parts = [p for p in _SPLIT.split(text) if p]
     if not 1 <= len(parts) <= 3 or not all(re.fullmatch(_NUMBER, p) for p in parts):
-        raise AngleInputError(f"cannot read {value!r} as a {_NAMES[kind]}; accepted: {_ACCEPTED[kind]}")
+        raise _refused(value, kind)
+    if any(p[0] in "+-" for p in parts[1:]):
+        raise _refused(value, kind, "a sign inside the minutes or seconds; a sign belongs before the degrees")
     negative = parts[0].startswith("-")
     numbers = [abs(float(p)) for p in parts]
     if len(numbers) > 1 and (numbers[1] >= 60.0 or (len(numbers) == 3 and numbers[2] >= 60.0)):
-        raise AngleInputError(
-            f"cannot read {value!r} as a {_NAMES[kind]}: minutes and seconds must be below 60; "
-            f"accepted: {_ACCEPTED[kind]}")
+        raise _refused(value, kind, "minutes and seconds must be below 60")
     if len(numbers) > 1 and any("." in p for p in parts[:-1]):
-        raise AngleInputError(
-            f"cannot read {value!r} as a {_NAMES[kind]}: only the last part may have decimals; "
-            f"accepted: {_ACCEPTED[kind]}")
+        raise _refused(value, kind, "only the last part may have decimals")
     magnitude = numbers[0] + sum(n / 60.0 ** i for i, n in enumerate(numbers[1:], start=1))
     if hemi is not None:
-        if negative:
+        if negative or parts[0].startswith("+"):
             raise AngleInputError(
                 f"cannot read {value!r}: give either a sign or a hemisphere letter, not both")
         number = -magnitude if hemi in "SW" else magnitude
     else:
+        if letters and len(parts) > 1:
+            # degrees and minutes with no hemisphere: north or south? east or west? Never guessed.
+            a, b = letters
+            shown = " ".join(parts).lstrip("+-")
+            raise _refused(value, kind, f"degrees and minutes with no hemisphere letter could be {a} or {b}: "
+                                        f"write {shown} {a} or {shown} {b} (a signed decimal follows ISO 6709, "
+                                        "north and east positive)")
         number = -magnitude if negative else magnitude
     return _checked(number, value, kind)
 
 
 _NAMES = {"lat": "latitude", "lon": "longitude", "dec": "declination",
-          "angle": "angle", "signed": "signed angle"}
+          "angle": "angle", "signed": "signed angle", "variation": "variation"}
 
 
 def _checked_array(numbers: np.ndarray, kind: AngleKind) -> np.ndarray:
     """The vectorised form of :func:`_checked` for arrays of numbers."""
     limit = _LIMITS[kind]
-    low = -180.0 if kind == "lon" else -limit
+    low = -180.0 if kind in ("lon", "variation") else -limit
     bad = ~np.isfinite(numbers) | (numbers < low) | (numbers > limit)
     if bad.any():
         first = numbers[bad].ravel()[0]
@@ -114,24 +144,28 @@ def _checked_array(numbers: np.ndarray, kind: AngleKind) -> np.ndarray:
 
 def _checked(number: float, original: object, kind: AngleKind) -> float:
     limit = _LIMITS[kind]
-    low = -180.0 if kind == "lon" else -limit
+    low = -180.0 if kind in ("lon", "variation") else -limit
     if not low <= number <= limit:
         accepted = {"lat": "-90 to 90 (90° S to 90° N)", "dec": "-90 to 90",
                     "lon": "-180 to 360 (west negative, or east of Greenwich up to 360)",
-                    "angle": "-360 to 360", "signed": "-360 to 360"}[kind]
+                    "angle": "-360 to 360", "signed": "-360 to 360", "variation": "-180 to 180"}[kind]
         raise AngleInputError(f"{_NAMES[kind]} {original!r} is outside {accepted}")
     if kind == "lon":
         number = float(wrap_180(number)) if number >= 180.0 else number
     return number
 
 
-def parse_angle(value: object, kind: AngleKind = "angle") -> float | np.ndarray:
+def parse_angle(value: object, kind: AngleKind = "angle", decimal_comma: bool = False) -> float | np.ndarray:
     """Angle in decimal degrees from navigational text or a number.
 
-    ``kind`` is ``lat``, ``lon``, ``dec``, ``angle`` (0-360) or ``signed``;
-    latitudes and declinations are positive north, longitudes positive east and
-    returned in [-180, 180). Arrays (or lists) of values are parsed element by
-    element and the error names every element that failed.
+    ``kind`` is ``lat``, ``lon``, ``dec``, ``variation`` (east positive), ``angle``
+    (0-360) or ``signed``; latitudes and declinations are positive north, longitudes
+    positive east and returned in [-180, 180). Degrees and minutes of a latitude,
+    longitude, declination or variation must carry their hemisphere letter (a letter of
+    the wrong kind, S on a longitude, is refused); a bare number is a signed decimal as
+    ISO 6709 has it. ``decimal_comma`` reads ``14,1`` as 14.1 (a file whose separator
+    leaves no doubt); otherwise a comma is refused. Arrays (or lists) of values are
+    parsed element by element and the error names every element that failed.
 
     >>> round(parse_angle("47° 12.4′ N", "lat"), 6)
     47.206667
@@ -141,7 +175,7 @@ def parse_angle(value: object, kind: AngleKind = "angle") -> float | np.ndarray:
     [10.5, -5.25]
     """
     if np.ndim(value) == 0 and not isinstance(value, np.ndarray):
-        return _parse_one(value, kind)
+        return _parse_one(value, kind, decimal_comma)
     numeric = np.asarray(value) if not isinstance(value, np.ndarray) else value
     if numeric.dtype.kind in "fiu":
         return _checked_array(numeric.astype(float), kind)
@@ -151,7 +185,7 @@ def parse_angle(value: object, kind: AngleKind = "angle") -> float | np.ndarray:
     first_message = ""
     for index, item in np.ndenumerate(items):
         try:
-            out[index] = _parse_one(item, kind)
+            out[index] = _parse_one(item, kind, decimal_comma)
         except AngleInputError as exc:
             bad[index] = True
             first_message = first_message or str(exc)

@@ -71,8 +71,8 @@ def almanac_command(
 
     Example:  navred almanac Sun Moon Vega --utc 2026-03-20T18:42:10Z
     """
-    from .almanac import body_positions
     from .angles import format_angle
+    from .frames import body_positions
 
     with _reported():
         frame = body_positions(list(bodies), utc, dut1_s=dut1)
@@ -93,52 +93,70 @@ def almanac_command(
                        f"{format_angle(row.sha_deg):>13}{hp:>8}{sd:>8}")
 
 
-def _read_table(path: str):
-    """A CSV or .xlsx sight table as a DataFrame of text, or a one-line error."""
-    from pathlib import Path
+_SIGHTS_HELP = "Sight logs: CSV or .xlsx files, or folders of them (see docs/sight-log.md)."
+_DATES_HELP = ("The order of numeric dates that are not ISO 8601 (05/03/2026), for the whole log: "
+               "day-first or month-first. Without it such a date is refused.")
 
-    from .logbook import _normalise_columns, _read_raw
 
-    return _normalise_columns(_read_raw(Path(path)), Path(path))
+def _source(paths: list[str]):
+    """One file as itself, several as a list: what read_sight_log takes."""
+    return paths[0] if len(paths) == 1 else list(paths)
+
+
+def _labels(reduced):
+    from .frames import row_labels
+
+    return row_labels(reduced)
 
 
 @app.command("reduce")
 def reduce_command(
-    sights_file: str = typer.Argument(..., metavar="SIGHTS", help="Sight table, CSV or .xlsx (see docs/sight-log.md)."),
-    csv: bool = typer.Option(False, "--csv", help="Print every column of every reduced sight as CSV."),
+    sights_files: list[str] = typer.Argument(..., metavar="SIGHTS...", help=_SIGHTS_HELP),
+    csv: bool = typer.Option(False, "--csv", help="Print every column of every sight (reduced or not) as CSV."),
+    dates: str | None = typer.Option(None, "--dates", help=_DATES_HELP),
 ) -> None:
     """Reduce every sight: Ho, Hc, Zn and the intercept TOWARD or AWAY, with any warning.
+
+    Each row is named by its row number in the log (the header is row 1), with its file when
+    several logs are read; a row that cannot be reduced says why.
 
     Example:  navred reduce sample_sights/demo_sights.csv
     """
     from .angles import format_angle
+    from .logbook import read_sight_log
     from .sights import reduce_sights
 
     with _reported():
-        reduced = reduce_sights(_read_table(sights_file))
+        log = read_sight_log(_source(sights_files), dates=dates)
+        reduced = reduce_sights(log)
         if csv:
             typer.echo(reduced.to_csv(index=False, float_format="%.6f"), nl=False)
             return
-        typer.echo(f"{'row':>4}  {'body':<15}{'UTC':<21}{'Ho':>12}{'Hc':>12}{'Zn':>8}  {'intercept':<18}note")
-        for number, row in enumerate(reduced.itertuples(), start=1):
-            when = f"{row.sight_utc:%Y-%m-%d %H:%M:%S}" if row.sight_utc is not None and str(row.sight_utc) != "NaT" else ""
+        labels = [label.removeprefix("row ") for label in _labels(reduced)]
+        width = max([len(x) for x in labels] + [3])
+        typer.echo(f"{'row':>{width}}  {'body':<15}{'UTC':<21}{'Ho':>12}{'Hc':>12}{'Zn':>8}  {'intercept':<18}note")
+        for label, row in zip(labels, reduced.itertuples()):
+            when = f"{row.sight_utc:%Y-%m-%d %H:%M:%S}" if str(row.sight_utc) != "NaT" else ""
             if row.status == "error":
-                typer.echo(f"{number:>4}  {str(row.body):<15}{when:<21}{'not reduced:':>12} {row.message}")
+                typer.echo(f"{label:>{width}}  {str(row.body_name or '?'):<15}{when:<21}{'not reduced:':>12} "
+                           f"{row.message}")
                 continue
             intercept = f"{abs(row.intercept_nm):5.1f} nm {row.intercept_direction}"
-            typer.echo(f"{number:>4}  {row.body_name:<15}{when:<21}{format_angle(row.ho_deg, 'signed'):>12}"
+            typer.echo(f"{label:>{width}}  {row.body_name:<15}{when:<21}{format_angle(row.ho_deg, 'signed'):>12}"
                        f"{format_angle(row.hc_deg, 'signed'):>12}{row.zn_deg:7.1f}°  {intercept:<18}{row.message}")
         counts = reduced.status.value_counts()
+        empty = f", {log.empty_rows} empty rows skipped" if log.empty_rows else ""
         typer.echo(f"{int(counts.get('ok', 0) + counts.get('warning', 0))} sights reduced "
-                   f"({int(counts.get('warning', 0))} with a warning), {int(counts.get('error', 0))} not reduced")
+                   f"({int(counts.get('warning', 0))} with a warning), {int(counts.get('error', 0))} not reduced{empty}")
         if counts.get("error", 0) == len(reduced):
             raise typer.Exit(code=1)
 
 
-def _print_fix(label: str, fix, reduced, rows) -> None:
+def _print_fix(group, reduced, labels) -> None:
     from .angles import format_angle
 
-    typer.echo(f"Fix {label}: {int(fix.used.sum())} sights, at {str(fix.utc)[:19].replace('T', ' ')} UTC")
+    fix = group.fix
+    typer.echo(f'Fix "{group.name}": {int(fix.used.sum())} sights, at {str(fix.utc)[:19].replace("T", " ")} UTC')
     typer.echo(f"  position       {format_angle(fix.lat_deg, 'lat')}  {format_angle(fix.lon_deg, 'lon')}")
     typer.echo(f"  95 % ellipse   {fix.ellipse_semi_major_nm:.1f} nm x {fix.ellipse_semi_minor_nm:.1f} nm, major axis "
                f"{fix.ellipse_orientation_deg:03.0f}°/{(fix.ellipse_orientation_deg + 180) % 360:03.0f}°")
@@ -146,12 +164,15 @@ def _print_fix(label: str, fix, reduced, rows) -> None:
                f"fix standard error {fix.standard_error_nm:.2f} nm")
     if fix.course_made_good_deg is not None:
         typer.echo(f"  made good      {fix.course_made_good_deg:05.1f}° at {fix.speed_made_good_kn:.1f} kn")
-    typer.echo(f"  {'row':>5}  {'body':<16}{'residual':>10}  flag")
-    for row in rows:
-        residual = fix.residual_arcmin[row]
-        flag = "BLUNDER? left out of the check fix" if fix.outlier[row] else ""
+    width = max([len(labels[r]) for r in group.rows] + [5])
+    typer.echo(f"  {'sight':<{width}}  {'body':<16}{'residual':>10}  flag")
+    for k, row in enumerate(group.rows):
+        residual = fix.residual_arcmin[k]
+        flag = "BLUNDER? left out of the check fix" if fix.outlier[k] else ""
+        if reduced.status.iloc[row] == "error":
+            flag = "not reduced"
         text = f"{residual:+.1f}′" if residual == residual else "-"
-        typer.echo(f"  {row + 1:>5}  {reduced.body_name[row]:<16}{text:>10}  {flag}")
+        typer.echo(f"  {labels[row]:<{width}}  {str(reduced.body_name.iloc[row]):<16}{text:>10}  {flag}")
     if fix.without_outliers is not None:
         other = fix.without_outliers
         typer.echo(f"  without the flagged sights: {format_angle(other.lat_deg, 'lat')}  "
@@ -160,12 +181,12 @@ def _print_fix(label: str, fix, reduced, rows) -> None:
     if fix.chart_distance_nm is not None:
         where = "inside" if fix.chart_inside_ellipse else "OUTSIDE"
         typer.echo(f"  chart position {fix.chart_distance_nm:.1f} nm from the fix, bearing "
-                   f"{fix.chart_bearing_deg:03.0f}°: {where} the 95 % ellipse")
+                   f"{fix.chart_bearing_deg:03.0f}°: {where} the 95 % ellipse ({group.chart_note})")
     for text in fix.warnings:
         typer.echo(f"  warning: {text}")
 
 
-def _print_latitude_checks(reduced) -> None:
+def _print_latitude_checks(reduced, labels) -> None:
     """Latitude by meridian altitude (sights within 0.25° of LHA 0) and by Polaris, as checks."""
     import numpy as np
 
@@ -182,93 +203,112 @@ def _print_latitude_checks(reduced) -> None:
     for row in np.flatnonzero(on_meridian):
         bearing = "S" if 90.0 < reduced.zn_deg[row] < 270.0 else "N"
         latitude = latitude_by_meridian_altitude(reduced.ho_deg[row], reduced.dec_deg[row], bearing)
-        typer.echo(f"  row {row + 1:>3}  {reduced.body_name[row]:<10} on the meridian: latitude "
+        typer.echo(f"  {labels[row]:<8} {reduced.body_name[row]:<10} on the meridian: latitude "
                    f"{format_angle(float(latitude), 'lat')} (DR {format_angle(reduced.dr_lat_deg[row], 'lat')})")
     for row in np.flatnonzero(polaris):
         latitude = latitude_by_polaris(reduced.ho_deg[row], reduced.gha_deg[row], reduced.dec_deg[row],
                                        reduced.dr_lon_deg[row])
-        typer.echo(f"  row {row + 1:>3}  Polaris: latitude {format_angle(float(latitude), 'lat')} "
+        typer.echo(f"  {labels[row]:<8} Polaris: latitude {format_angle(float(latitude), 'lat')} "
                    f"(DR {format_angle(reduced.dr_lat_deg[row], 'lat')})")
     typer.echo("")
 
 
+def _fixes_csv(voyage) -> str:
+    """One line per fix group, decimal degrees, for a program to read."""
+    import pandas as pd
+
+    labels = _labels(voyage.reduced)
+    rows = []
+    for group in voyage.groups:
+        fix = group.fix
+        if fix is None:
+            rows.append({"fix_group": group.name, "note": f"no fix: {group.problem}"})
+            continue
+        rows.append({"fix_group": group.name, "utc": str(fix.utc)[:23] + "Z", "lat_deg": fix.lat_deg,
+                     "lon_deg": fix.lon_deg, "sights": int(fix.used.sum()), "sigma_arcmin": fix.sigma_arcmin,
+                     "ellipse_semi_major_nm": fix.ellipse_semi_major_nm,
+                     "ellipse_semi_minor_nm": fix.ellipse_semi_minor_nm,
+                     "ellipse_orientation_deg": fix.ellipse_orientation_deg,
+                     "flagged": " ".join(labels[group.rows[i]] for i in range(len(group.rows)) if fix.outlier[i]),
+                     "chart_distance_nm": fix.chart_distance_nm, "chart_inside_ellipse": fix.chart_inside_ellipse,
+                     "note": "; ".join(fix.warnings)})
+    return pd.DataFrame(rows).to_csv(index=False, float_format="%.7f")
+
+
 @app.command("fix")
 def fix_command(
-    sights_file: str = typer.Argument(..., metavar="SIGHTS", help="Sight table, CSV or .xlsx (see docs/sight-log.md)."),
+    sights_files: list[str] = typer.Argument(..., metavar="SIGHTS...", help=_SIGHTS_HELP),
     at: str | None = typer.Option(None, "--at", help="Fix time (ISO 8601 with a zone); default: the last sight of each group."),
     chart_lat: str | None = typer.Option(None, "--chart-lat", help="Chart or GNSS latitude to cross-check, e.g. '43 16.5 N'."),
     chart_lon: str | None = typer.Option(None, "--chart-lon", help="Chart or GNSS longitude to cross-check, e.g. '013 11.4 W'."),
-    group: str | None = typer.Option(None, "--group", help="Fix only this fix_group."),
+    group: str | None = typer.Option(None, "--group", help="Fix only this fix group."),
     solve_motion: bool = typer.Option(False, "--solve-motion", help="Also solve course and speed made good, when the sights allow."),
+    csv: bool = typer.Option(False, "--csv", help="Print one line per fix group as CSV (decimal degrees)."),
+    dates: str | None = typer.Option(None, "--dates", help=_DATES_HELP),
 ) -> None:
     """Least-squares fix of every fix group: position, 95 % ellipse, residuals and flags.
 
-    Sights are fixed together by their fix_group column (all together when there is none);
-    sights at different times make a running fix with the course_deg and speed_kn columns.
+    Sights are fixed together by their fix_group column; where it is blank, one observer's
+    sights less than two hours apart make a group. Sights at different times make a running
+    fix with the course and speed columns. Every sight is named by its row in the log.
 
     Example:  navred fix sample_sights/demo_sights.csv --group evening-stars --chart-lat "43 16.5 N" --chart-lon "013 11.4 W"
     """
-    import numpy as np
-
-    from .angles import parse_angle
-    from .fix import fix_position
-    from .sights import reduce_sights
+    from .voyage import fix_groups, process_log
 
     with _reported():
-        reduced = reduce_sights(_read_table(sights_file))
-        lat = parse_angle(chart_lat, "lat") if chart_lat is not None else None
-        lon = parse_angle(chart_lon, "lon") if chart_lon is not None else None
+        lat = _angle_option(chart_lat, "lat", "--chart-lat") if chart_lat is not None else None
+        lon = _angle_option(chart_lon, "lon", "--chart-lon") if chart_lon is not None else None
         if (lat is None) != (lon is None):
             raise NavredError("give both --chart-lat and --chart-lon, or neither")
-        columns = {c.lower(): c for c in reduced.columns}
-        groups = reduced[columns["fix_group"]].astype(str) if "fix_group" in columns else \
-            np.full(len(reduced), "all sights", dtype=object)
-        names = [group] if group is not None else list(dict.fromkeys(groups))
-        if group is not None and group not in set(groups):
-            raise NavredError(f"no fix_group {group!r}; the log has: {', '.join(dict.fromkeys(groups))}")
-        if lat is not None and len(names) > 1:
+        voyage = process_log(_source(sights_files), dates=dates, solve_motion=solve_motion, plan=False, at_utc=at)
+        names = [g.name for g in voyage.groups]
+        if group is not None:
+            voyage.group(group)  # refuses an unknown group, naming the log's groups
+        if lat is not None and group is None and len(names) > 1:
             raise NavredError("a chart position belongs to one fix: give --group with --chart-lat/--chart-lon "
                               "(or chart_lat/chart_lon columns in the log)")
+        if lat is not None:
+            voyage.groups = fix_groups(voyage.reduced, solve_motion=solve_motion, at_utc=at,
+                                       only=group or names[0], chart=(lat, lon))
+        elif group is not None:
+            voyage.groups = [voyage.group(group)]
+        if csv:
+            typer.echo(_fixes_csv(voyage), nl=False)
+            return
+        labels = _labels(voyage.reduced)
         fixes = 0
-        for name in names:
-            rows = np.flatnonzero(np.asarray(groups) == name)
-            usable = rows[reduced.status.to_numpy()[rows] != "error"]
-            if usable.size < 2:
-                typer.echo(f"Group {name}: {usable.size} usable sight(s), no fix (a fix needs two or more)")
+        for item in voyage.groups:
+            if item.fix is None:
+                typer.echo(f"Group {item.name}: no fix ({item.problem})")
                 typer.echo("")
                 continue
-            subset = reduced.iloc[rows].reset_index(drop=True)
-            group_lat, group_lon = lat, lon
-            if group_lat is None and "chart_lat" in columns and "chart_lon" in columns:
-                given = subset[columns["chart_lat"]].replace("", np.nan).dropna()
-                if len(given):
-                    group_lat = parse_angle(given.iloc[0], "lat")
-                    group_lon = parse_angle(subset[columns["chart_lon"]].replace("", np.nan).dropna().iloc[0], "lon")
-            fix = fix_position(subset, at_utc=at, chart_lat=group_lat, chart_lon=group_lon,
-                               solve_motion=solve_motion)
-            _print_fix(f'"{name}"', fix, subset.assign(body_name=subset.body_name), range(len(rows)))
+            _print_fix(item, voyage.reduced, labels)
             typer.echo("")
             fixes += 1
-        _print_latitude_checks(reduced)
+        _print_latitude_checks(voyage.reduced, labels)
+        if voyage.n_rejected_rows:
+            typer.echo(f"{voyage.n_rejected_rows} row(s) not reduced: see 'navred reduce' for why")
         if not fixes:
             raise NavredError("no group had two usable sights: nothing to fix")
 
 
 @app.command("workbook")
 def workbook_command(
-    sights_file: str = typer.Argument(..., metavar="SIGHTS", help="Sight log, CSV or .xlsx (see docs/sight-log.md)."),
-    output: str | None = typer.Option(None, "--output", "-o", help="Workbook to write (.xlsx); default: SIGHTS with .navred.xlsx."),
+    sights_files: list[str] = typer.Argument(..., metavar="SIGHTS...", help=_SIGHTS_HELP),
+    output: str | None = typer.Option(None, "--output", "-o", help="Workbook to write (.xlsx); default: the first log with .navred.xlsx."),
     plots: str | None = typer.Option(None, "--plots", help="Also write each fix's plotting sheet as PNG and SVG into this folder."),
     gpx: str | None = typer.Option(None, "--gpx", help="Also write the fixes and DRs as GPX 1.1 waypoints to this file."),
     geojson: str | None = typer.Option(None, "--geojson", help="Also write fixes, ellipses and lines of position as GeoJSON."),
     strict: bool = typer.Option(False, "--strict", help="Exit 1 if any row was rejected."),
     solve_motion: bool = typer.Option(False, "--solve-motion", help="Also solve course and speed made good where the sights allow."),
+    dates: str | None = typer.Option(None, "--dates", help=_DATES_HELP),
 ) -> None:
-    """The whole job: read and check the log, reduce every sight, fix every group, write the workbook.
+    """The whole job: read and check the logs, reduce every sight, fix every group, write the workbook.
 
-    Every row of the log ends up in the workbook: reduced (Working sheet) or rejected with
-    the reason (Rejected sheet). Exits 1 only when nothing could be reduced, or with --strict
-    when anything was rejected.
+    Every row of the logs ends up in the workbook: reduced (Working sheet) or rejected with
+    the reason (Rejected sheet), named by its row number in its log. Exits 1 only when
+    nothing could be reduced, or with --strict when anything was rejected.
 
     Example:  navred workbook sample_sights/demo_sights.csv -o demo_voyage.xlsx --plots plots
     """
@@ -278,7 +318,9 @@ def workbook_command(
     from .workbook import write_plots, write_workbook
 
     with _reported():
-        target = Path(output) if output else Path(sights_file).with_suffix(".navred.xlsx")
+        first = Path(sights_files[0])
+        target = Path(output) if output else (first / "logs.navred.xlsx" if first.is_dir()
+                                              else first.with_suffix(".navred.xlsx"))
         bar = None
 
         def progress(done: int, total: int) -> None:
@@ -288,7 +330,7 @@ def workbook_command(
                 bar.__enter__()
             bar.update(done - bar.pos)
 
-        voyage = process_log(sights_file, solve_motion=solve_motion, progress=progress)
+        voyage = process_log(_source(sights_files), dates=dates, solve_motion=solve_motion, progress=progress)
         if bar is not None:
             bar.__exit__(None, None, None)
         write_workbook(voyage, target)
@@ -353,11 +395,15 @@ def _print_plan(plan, label: str) -> None:
 
 
 def _angle_option(text: str | None, kind: str, name: str):
+    """An angle given on the command line, read by the log's own rules ('43 14.1 N', '4 W', -5.25)."""
     from .angles import parse_angle
 
     if text is None:
         raise NavredError(f"{name} is required")
-    return float(parse_angle(text, kind))
+    try:
+        return float(parse_angle(text, kind))
+    except NavredError as exc:
+        raise NavredError(f"{name}: {exc}") from None
 
 
 @app.command("plan")
@@ -390,15 +436,20 @@ def plan_command(
 
     from .angles import format_angle
     from .plan import EVENT_KEYS, body_meridian_passage, sight_plans, twilight_plans
+    from .timework import parse_date
 
     with _reported():
         lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
+        try:
+            date = "{:04d}-{:02d}-{:02d}".format(*parse_date(date, declarable=False))
+        except NavredError as exc:
+            raise NavredError(f"--date: {exc}") from None
         events, plans = twilight_plans(date, days, lat_deg, lon_deg, course_deg=course, speed_kn=speed,
                                        eye_height_m=eye, count=count, min_alt_deg=min_alt, max_alt_deg=max_alt)
         if at is not None:
-            from .plan import _as_datetime64
+            from .plan import as_datetime64
 
-            when = _as_datetime64(at)
+            when = as_datetime64(at)
             la, lo = events["track"].position(np.array([when]))
             plans = sight_plans(np.array([when]), la, lo, count=count, min_alt_deg=min_alt, max_alt_deg=max_alt)
         typer.echo(f"{'date':<12}" + "".join(f"{k.replace('_', ' '):>18}" for k in EVENT_KEYS) + "   noon Hc")
@@ -443,14 +494,14 @@ def compass_command(
     lat: str = typer.Option(..., "--lat", help="DR latitude."),
     lon: str = typer.Option(..., "--lon", help="DR longitude."),
     bearing: float | None = typer.Option(None, "--compass-bearing", help="The bearing read on the compass (degrees)."),
-    variation: float = typer.Option(0.0, "--variation", help="Magnetic variation from the chart, degrees, east positive."),
+    variation_text: str = typer.Option("0", "--variation", help="Magnetic variation from the chart: '4 W', '3.5 E', '3 30 E', or a signed decimal (east positive)."),
     heading: float | None = typer.Option(None, "--heading", help="Ship's compass heading then, for the deviation card."),
     card: str | None = typer.Option(None, "--card", help="CSV deviation card to add this check to (created if absent); it is printed."),
     eye: float = typer.Option(0.0, "--eye", help="Height of eye in metres (amplitude at the visible horizon)."),
 ) -> None:
     """Compass check: a body's true azimuth, the compass error and deviation, and the Sun's amplitudes.
 
-    Example:  navred compass Sun --utc 2026-03-26T17:30:00Z --lat "43 20 N" --lon "013 10 W" --compass-bearing 262 --variation -4 --heading 215
+    Example:  navred compass Sun --utc 2026-03-26T17:30:00Z --lat "43 20 N" --lon "013 10 W" --compass-bearing 262 --variation "4 W" --heading 215
     """
     from pathlib import Path
 
@@ -471,6 +522,7 @@ def compass_command(
 
     with _reported():
         lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
+        variation = _angle_option(variation_text, "variation", "--variation")
         name = canonical_body_name(body)
         zn, hc = true_azimuth(name, utc, lat_deg, lon_deg)
         zn, hc = float(zn[0] if np.ndim(zn) else zn), float(hc[0] if np.ndim(hc) else hc)
@@ -538,9 +590,10 @@ def identify_command(
 
 @app.command("series")
 def series_command(
-    sights_file: str = typer.Argument(..., metavar="SIGHTS", help="Sight log, CSV or .xlsx."),
+    sights_files: list[str] = typer.Argument(..., metavar="SIGHTS...", help=_SIGHTS_HELP),
     threshold: float = typer.Option(2.0, "--threshold", help="Flag a sight this far off the curve (arcminutes)."),
     csv: bool = typer.Option(False, "--csv", help="Print every sight with its series columns as CSV."),
+    dates: str | None = typer.Option(None, "--dates", help=_DATES_HELP),
 ) -> None:
     """Check each series of sights of one body against the altitude curve; flag the bad ones.
 
@@ -553,41 +606,46 @@ def series_command(
     import numpy as np
 
     from .angles import format_angle
-    from .logbook import read_sight_log
-    from .series import series_of_log
-    from .sights import reduce_sights
+    from .frames import series_columns
+    from .voyage import process_log
 
     with _reported():
-        sights, rejected = read_sight_log(sights_file)
-        reduced = reduce_sights(sights)
-        for column, values in series_of_log(reduced, threshold_arcmin=threshold).items():
-            reduced[column] = values
+        voyage = process_log(_source(sights_files), dates=dates, plan=False)
+        reduced = voyage.reduced
+        if len(reduced):
+            for column, values in series_columns(reduced, threshold_arcmin=threshold).items():
+                reduced[column] = values
         if csv:
             typer.echo(reduced.to_csv(index=False, float_format="%.5f"), nl=False)
             return
-        multi = reduced[reduced.series_size >= 2]
-        typer.echo(f"{len(multi.series.unique())} series of two or more sights ({len(rejected.row.unique())} rows rejected)")
+        labels = _labels(reduced)
+        multi = reduced[reduced.series_size >= 2] if len(reduced) else reduced
+        typer.echo(f"{multi.series.nunique() if len(multi) else 0} series of two or more sights "
+                   f"({voyage.n_rejected_rows} rows rejected)")
         for name, part in multi.groupby("series", sort=False):
             best = part[part.series_best]
-            flagged = part.loc[part.series_flag, "row"].tolist()
+            flagged = [labels[i] for i in part.index[part.series_flag]]
             typer.echo(f"  {name:<12} {part.body_name.iloc[0]:<12} {len(part)} sights, offset "
                        f"{part.series_offset_arcmin.iloc[0]:+.1f}′, scatter {np.nanmedian(part.series_scatter_arcmin):.1f}′"
-                       + (f", FLAGGED rows {flagged}" if flagged else ""))
+                       + (f", FLAGGED {', '.join(flagged)}" if flagged else ""))
             if len(best):
-                typer.echo(f"  {'':<12} best sight: row {int(best['row'].iloc[0])} at "
+                typer.echo(f"  {'':<12} best sight: {labels[best.index[0]]} at "
                            f"{best.sight_utc.iloc[0]:%H:%M:%S} UTC, Ho {format_angle(best.series_best_ho_deg.iloc[0], 'signed')}")
 
 
 @app.command("training")
 def training_command(
-    sights_file: str = typer.Argument(..., metavar="SIGHTS", help="Sight log with an observer column, CSV or .xlsx."),
+    sights_files: list[str] = typer.Argument(..., metavar="SIGHTS...", help="Sight logs with an observer column: CSV or .xlsx files, or a folder of them."),
     track: str = typer.Option(..., "--track", help="The ship's reference track: GPX 1.1, NMEA 0183 (RMC/GGA) or CSV (utc, lat, lon)."),
     output: str | None = typer.Option(None, "--output", "-o", help="Workbook to write (.xlsx), with a Training sheet."),
     summary: str | None = typer.Option(None, "--summary", help="One printable page across observers (PDF, PNG or SVG)."),
     plots: str | None = typer.Option(None, "--plots", help="Folder for one picture per observer (PNG)."),
     csv: str | None = typer.Option(None, "--csv", help="Write the per-sight errors and the per-observer figures as CSV (NAME and NAME with -observers)."),
+    dates: str | None = typer.Option(None, "--dates", help=_DATES_HELP),
 ) -> None:
     """Each observer's errors against the ship's satellite track: personal error, scatter, blunders, trend.
+
+    Give one log, several, or a folder of cadets' logs: every sight keeps its file and row.
 
     Example:  navred training sample_sights/training_sights.csv --track sample_sights/training_track.gpx --summary summary.pdf
     """
@@ -603,7 +661,7 @@ def training_command(
 
     with _reported():
         reference = read_track(track)
-        voyage = process_log(sights_file)
+        voyage = process_log(_source(sights_files), dates=dates)
         report = training_report(voyage.reduced, reference, voyage.groups)
         voyage.training = report
         outside = int((~report.sights.within_track).sum())

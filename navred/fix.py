@@ -261,17 +261,8 @@ class FixResult:
         return ChartCheck(float(lat_deg), float(lon_deg), float(distance), float(bearing), bool(inside))
 
 
-def _column(reduced, name, dtype=float):
-    """A column of the reduced table as a numpy array, or None when the table has no such column."""
-    if name in getattr(reduced, "columns", []):
-        return np.asarray(reduced[name].to_numpy(), dtype=dtype)
-    return None
-
-
 def _utc64(values) -> np.ndarray:
-    """UTC instants as datetime64[ns]: a timezone-aware Series gives its UTC values directly."""
-    if getattr(getattr(values, "dtype", None), "tz", None) is not None:
-        return values.dt.tz_convert(None).to_numpy().astype("datetime64[ns]")  # naive UTC
+    """UTC instants as datetime64[ns] (numpy datetime64 is UTC; other forms through the time scales)."""
     if isinstance(values, np.ndarray) and np.issubdtype(values.dtype, np.datetime64):
         return values.astype("datetime64[ns]")
     return utc_jd_to_datetime64(*utc_julian_date(values))
@@ -288,39 +279,42 @@ def _times_hours(utc64, at_utc):
     return hours, fix64[0]
 
 
-def fix_position(reduced: object, at_utc: object | None = None, *, chart_lat: ArrayLike | None = None, chart_lon: ArrayLike | None = None, solve_motion: bool = False,
-                 set_deg: float | None = None, drift_kn: float | None = None,
-                 course_deg: float | None = None, speed_kn: float | None = None,
-                 _refit_without_outliers: bool = True) -> FixResult:
-    """The least-squares fix from reduced sights (the output of :func:`navred.reduce_sights`).
+def fix_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, utc: ArrayLike,
+                    dr_lat_deg: ArrayLike, dr_lon_deg: ArrayLike, *, usable: ArrayLike | None = None,
+                    course_deg: ArrayLike | None = None, speed_kn: ArrayLike | None = None,
+                    at_utc: object | None = None, chart_lat: float | None = None, chart_lon: float | None = None,
+                    solve_motion: bool = False, set_deg: float | None = None, drift_kn: float | None = None,
+                    labels: ArrayLike | None = None, _refit_without_outliers: bool = True) -> FixResult:
+    """The least-squares fix from reduced sights, one element per sight (1-D arrays).
 
-    Rows with ``status == 'error'`` are left out (their residual is NaN). Sights at
-    different times make a running fix at ``at_utc`` (default: the last sight's time),
-    using the ``course_deg`` and ``speed_kn`` columns (course and speed in force from each
-    sight until the next) or the arguments of that name for the whole set, plus a current
-    ``set_deg``/``drift_kn``. With ``solve_motion`` the course and speed made good are
-    solved as well when the sights support it. A chart or GNSS position
-    (``chart_lat``/``chart_lon``) is cross-checked.
+    ``gha_deg``, ``dec_deg`` and ``ho_deg`` of each sight, its ``utc`` (datetime64, taken as
+    UTC, or any instant form) and the DR at its time; ``usable`` (default: every sight with
+    finite values) picks the sights to fix from, the others get NaN residuals. Sights at
+    different times make a running fix at ``at_utc`` (default: the last sight's time), using
+    ``course_deg`` and ``speed_kn`` (per sight: course and speed in force from each sight until
+    the next; NaN as 0), plus a current ``set_deg``/``drift_kn``. With ``solve_motion`` the
+    course and speed made good are solved as well when the sights support it. A chart or GNSS
+    position (``chart_lat``/``chart_lon``) is cross-checked. ``labels`` name the sights in
+    messages (default: 1, 2, ...).
     """
-    n_rows = len(reduced)
-    status = _column(reduced, "status", object)
-    ok = np.ones(n_rows, dtype=bool) if status is None else (status != "error")
-    needed = ("gha_deg", "dec_deg", "ho_deg", "sight_utc", "dr_lat_deg", "dr_lon_deg")
-    missing = [c for c in needed if c not in getattr(reduced, "columns", [])]
-    if missing:
-        raise NavredError(f"fix_position needs the columns of reduce_sights; missing: {', '.join(missing)}")
-    gha, dec, ho = (_column(reduced, c) for c in ("gha_deg", "dec_deg", "ho_deg"))
+    gha, dec, ho = (np.atleast_1d(np.asarray(v, dtype=float)) for v in (gha_deg, dec_deg, ho_deg))
+    n_rows = gha.size
+    ok = np.ones(n_rows, dtype=bool) if usable is None else np.broadcast_to(np.asarray(usable, dtype=bool),
+                                                                               (n_rows,)).copy()
     ok &= np.isfinite(gha) & np.isfinite(dec) & np.isfinite(ho)
     if ok.sum() < 2:
-        raise NavredError(f"a fix needs two or more reduced sights; {int(ok.sum())} of {n_rows} rows are usable")
+        raise NavredError(f"a fix needs two or more reduced sights; {int(ok.sum())} of {n_rows} are usable")
+    names = np.arange(1, n_rows + 1).astype(str) if labels is None else np.asarray(labels).astype(str)
     rows = np.flatnonzero(ok)
-    utc64 = _utc64(reduced["sight_utc"])[rows]
+    all_utc64 = np.broadcast_to(_utc64(utc), (n_rows,))
+    utc64 = all_utc64[rows]
     order = np.argsort(utc64, kind="stable")
     at = utc64[order[-1]] if at_utc is None else at_utc
     hours, fix_time = _times_hours(utc64, at)
-    vn, ve = _velocities(reduced, rows, course_deg, speed_kn, set_deg, drift_kn)
+    vn, ve = _velocities(rows, n_rows, course_deg, speed_kn, set_deg, drift_kn)
     run_n, run_e = _runs(vn, ve, order, hours)
-    dr_lat, dr_lon = _column(reduced, "dr_lat_deg")[rows], _column(reduced, "dr_lon_deg")[rows]
+    dr_lat = np.broadcast_to(np.asarray(dr_lat_deg, dtype=float), (n_rows,))[rows]
+    dr_lon = np.broadcast_to(np.asarray(dr_lon_deg, dtype=float), (n_rows,))[rows]
     last = order[-1]
     # the DR at the fix time: the last sight's DR carried on by its run to the fix time
     lat0, lon0 = move_position(dr_lat[last], dr_lon[last], run_n[last], run_e[last])
@@ -339,15 +333,16 @@ def fix_position(reduced: object, at_utc: object | None = None, *, chart_lat: Ar
     if _refit_without_outliers and result.outlier.any() and result.used.sum() - result.outlier.sum() >= 2:
         keep = ok & ~result.outlier
         # one refit only: the check fix does not hunt for further blunders in its turn
-        sub = fix_position(reduced[keep], at_utc=at, solve_motion=solve_motion, set_deg=set_deg,
-                           drift_kn=drift_kn, course_deg=course_deg, speed_kn=speed_kn,
-                           _refit_without_outliers=False)
-        if sub is not None:
-            sub = _reindexed(sub, np.flatnonzero(keep), n_rows)
-            flagged = ", ".join(str(i + 1) for i in np.flatnonzero(result.outlier))
-            moved, _ = distance_bearing(result.lat_deg, result.lon_deg, sub.lat_deg, sub.lon_deg)
-            result.warnings.append(f"sight row(s) {flagged} look like blunders; without them the fix moves "
-                                   f"{float(moved):.1f} nm (see without_outliers)")
+        sub = fix_from_sights(gha, dec, ho, np.asarray(all_utc64), dr_lat_deg, dr_lon_deg, usable=keep, course_deg=course_deg, speed_kn=speed_kn,
+                              at_utc=at, solve_motion=solve_motion, set_deg=set_deg, drift_kn=drift_kn,
+                              labels=names, _refit_without_outliers=False)
+        flagged = ", ".join(names[result.outlier])
+        moved, _ = distance_bearing(result.lat_deg, result.lon_deg, sub.lat_deg, sub.lon_deg)
+        result.warnings.append(f"sight{'s' if result.outlier.sum() > 1 else ''} {flagged} look"
+                               f"{'' if result.outlier.sum() > 1 else 's'} like "
+                               f"{'blunders' if result.outlier.sum() > 1 else 'a blunder'}; without "
+                               f"{'them' if result.outlier.sum() > 1 else 'it'} the fix moves "
+                               f"{float(moved):.1f} nm (see without_outliers)")
         result.without_outliers = sub
     if chart_lat is not None and chart_lon is not None:
         check = result.cross_check(chart_lat, chart_lon)
@@ -356,26 +351,14 @@ def fix_position(reduced: object, at_utc: object | None = None, *, chart_lat: Ar
     return result
 
 
-def _reindexed(result: FixResult, rows, n_rows) -> FixResult:
-    """Spread a fix made from the rows ``rows`` of a table back over all ``n_rows`` rows."""
-    for name, fill in (("residual_arcmin", np.nan), ("outlier", False), ("used", False),
-                       ("lop_intercept_nm", np.nan), ("lop_zn_deg", np.nan)):
-        full = np.full(n_rows, fill, dtype=getattr(result, name).dtype)
-        full[rows] = getattr(result, name)
-        setattr(result, name, full)
-    return result
+def _velocities(rows, n_rows, course_deg, speed_kn, set_deg, drift_kn):
+    """Velocity over the ground (north, east knots) in force after each sight (NaN course or speed as 0)."""
+    def per_sight(values):
+        if values is None:
+            return np.zeros(rows.size)
+        return np.nan_to_num(np.broadcast_to(np.asarray(values, dtype=float), (n_rows,))[rows])
 
-
-def _velocities(reduced, rows, course_deg, speed_kn, set_deg, drift_kn):
-    """Velocity over the ground (north, east knots) in force after each sight."""
-    n = rows.size
-    if course_deg is not None and speed_kn is not None:
-        course, speed = np.full(n, float(course_deg)), np.full(n, float(speed_kn))
-    else:
-        c, s = _column(reduced, "course_deg"), _column(reduced, "speed_kn")
-        course = np.zeros(n) if c is None else np.nan_to_num(c[rows])
-        speed = np.zeros(n) if s is None else np.nan_to_num(s[rows])
-    vn, ve = velocity_kn(course, speed)
+    vn, ve = velocity_kn(per_sight(course_deg), per_sight(speed_kn))
     if set_deg is not None and drift_kn is not None:
         cn, ce = velocity_kn(set_deg, drift_kn)
         vn, ve = vn + cn, ve + ce
@@ -541,5 +524,5 @@ def latitude_by_polaris(ho_deg: ArrayLike, gha_deg: ArrayLike, dec_deg: ArrayLik
     return lat
 
 
-__all__ = ["fix_position", "FixResult", "ChartCheck", "solve_fixes", "error_ellipse",
+__all__ = ["fix_from_sights", "FixResult", "ChartCheck", "solve_fixes", "error_ellipse",
            "latitude_by_meridian_altitude", "latitude_by_polaris"]

@@ -1,13 +1,26 @@
-"""Reading and validating a voyage's sight log (CSV or .xlsx): the good rows and the rejected ones.
+"""The one way in: read a sight log (or several) into parsed sights, the text as read, and the rejected rows.
 
-Edge code: it does the file I/O and uses pandas; every value is checked with the core's
-own parsers. Nothing is lost: each data row is either in ``sights`` or, with every problem
-found in it, in ``rejected`` (row number in the file, column, value, reason).
+Every command and the Python API read logs here, with the same rules, so the same log
+gives the same sights whichever reads it. :func:`read_sight_log` takes a CSV file (comma,
+semicolon or tab separated, with decimal commas where the separator allows them), an
+.xlsx workbook (navred's own included), a list of files, a folder of logs, or a pandas
+DataFrame; it reads each file once and parses each distinct value once.
+
+Every data row is named by one number everywhere: its row number as a spreadsheet shows it
+(the header is row 1 when it is the first line), with its file when several are read. Each
+row ends up accepted (in ``sights``) or rejected, with every problem found naming its
+column, its value and the reason; empty rows are skipped and counted. A row's verdict
+depends on that row alone.
+
+Edge code (pandas); every value is checked with the parsers of the core and of
+:mod:`navred.timework`, and the words and units come from :mod:`navred.vocabulary`.
 """
 
 from __future__ import annotations
 
-import re
+import datetime as _dt
+import functools
+from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
@@ -16,316 +29,826 @@ import pandas as pd
 from .angles import parse_angle
 from .corrections import parse_index_error_arcmin
 from .errors import NavredError
+from .readers import LogbookError, MissingFormulaValue, RawTable, blank_mask, read_table
 from .stars import canonical_body_name
-from .timescales import utc_jd_to_datetime64, utc_julian_date
+from .timescales import (
+    instant_components,
+    utc_jd_to_datetime64,
+    utc_julian_date_from_components,
+    utc_minus_seconds,
+)
+from .timework import (
+    DATE_ORDERS,
+    iso_instant_text,
+    parse_date,
+    parse_time_of_day,
+    parse_watch_error_s,
+    parse_zone_description,
+)
+from .vocabulary import (
+    BOOKKEEPING_HEADERS,
+    COLUMN,
+    COLUMNS,
+    HORIZONS,
+    LIMBS,
+    OUTPUT_SUFFIX,
+    UNIT_CONVERSIONS,
+    UNIT_NAMES,
+    convert_to_working_unit,
+    match_header,
+    normalise_header,
+)
 
-REJECTED_COLUMNS = ["row", "column", "value", "reason"]
-REQUIRED = ("body", "hs", "dr_lat", "dr_lon")
-KNOWN = ("utc", "date", "zone_time", "zone_description", "chronometer_error_s", "body", "limb", "hs",
-         "index_error_arcmin", "eye_height_m", "horizon", "temperature_c", "pressure_hpa", "dr_lat",
-         "dr_lon", "course_deg", "speed_kn", "fix_group", "vessel", "observer", "voyage", "chart_lat",
-         "chart_lon", "dut1_s", "series")
+REJECTED_COLUMNS = ["source", "row", "column", "value", "reason"]
 #: Sights closer together than this fall in one fix group when the log gives none (issue 5).
 DEFAULT_GROUP_GAP_HOURS = 2.0
+#: A utc and a zone time given for one sight must agree this closely (seconds).
+TIME_AGREEMENT_S = 1.0
+
+#: The parsed columns of every sight, in order (documented in docs/sight-log.md).
+SIGHT_COLUMNS = [
+    "source", "row", "sight_utc", "utc_jd1", "utc_jd2", "time_given", "time_as_read", "watch_error_applied_s",
+    "zone_date_used", "zone_time_corrected", "zone_description_used_h", "greenwich_date", "body_name", "limb",
+    "hs_deg", "index_error_arcmin", "eye_height_m", "eye_height_as_given", "horizon", "temperature_c",
+    "temperature_as_given", "pressure_hpa", "pressure_as_given", "dr_lat_deg", "dr_lon_deg", "course_deg",
+    "speed_kn", "dut1_given_s", "fix_group", "fix_group_given", "chart_lat_deg", "chart_lon_deg", "vessel",
+    "observer", "voyage", "series", "read_problem", "read_problem_column",
+]
+#: navred's own output (``reduce --csv``) read back: its parsed columns that carry a sight, and their keys.
+_OUTPUT_COLUMNS = {"sight_utc": "utc", "body_name": "body", "limb": "limb", "hs_deg": "hs",
+                   "index_error_arcmin": "index_error", "eye_height_m": "eye_height", "horizon": "horizon",
+                   "temperature_c": "temperature", "pressure_hpa": "pressure", "dr_lat_deg": "dr_lat",
+                   "dr_lon_deg": "dr_lon", "course_deg": "course", "speed_kn": "speed", "dut1_given_s": "dut1",
+                   "fix_group": "fix_group", "chart_lat_deg": "chart_lat", "chart_lon_deg": "chart_lon",
+                   "vessel": "vessel", "observer": "observer", "voyage": "voyage", "series": "series"}
+_OUTPUT_UNITS = {"eye_height": "m", "temperature": "c", "pressure": "hpa"}
 
 
-class LogbookError(NavredError):
-    """A file that is not a readable sight log at all."""
+@dataclass(frozen=True)
+class SightLog:
+    """A read sight log: every data row parsed, the text as read, and the problems found."""
+
+    #: every data row, in file order: the parsed columns (:data:`SIGHT_COLUMNS`) and the log's own
+    #: extra columns as text; a row with a problem has its reasons in ``read_problem``
+    table: pd.DataFrame
+    #: one line per problem: source, row, column (as the log names it), value (as written), reason
+    rejected: pd.DataFrame
+    sources: tuple[str, ...]
+    empty_rows: int
+    dates: str | None = None
+    extra_columns: tuple[str, ...] = field(default=())
+    tables: tuple[RawTable, ...] = field(default=(), repr=False)
+
+    @functools.cached_property
+    def as_read(self) -> pd.DataFrame:
+        """Every data row exactly as read (text, or the spreadsheet's cells), with its file and row."""
+        return _as_read(self.tables)
+
+    @property
+    def sights(self) -> pd.DataFrame:
+        """The accepted rows: those with no problem."""
+        return self.table[self.table["read_problem"] == ""].reset_index(drop=True)
+
+    @property
+    def n_rejected_rows(self) -> int:
+        return int((self.table["read_problem"] != "").sum())
+
+    def summary(self) -> str:
+        files = f" from {len(self.sources)} files" if len(self.sources) > 1 else ""
+        empty = f", {self.empty_rows} empty rows skipped" if self.empty_rows else ""
+        return (f"{len(self.table)} rows read{files}: {len(self.table) - self.n_rejected_rows} sights, "
+                f"{self.n_rejected_rows} rejected{empty}")
 
 
-def _read_raw(path: Path) -> pd.DataFrame:
-    if not path.is_file():
-        raise LogbookError(f"no such file: {path}")
-    if path.stat().st_size == 0:
-        raise LogbookError(f"{path} is empty: a sight log needs a header row and one row per sight")
-    head = path.read_bytes()[:4096]
-    suffix = path.suffix.lower()
-    if suffix in (".xlsx", ".xlsm"):
-        if not head.startswith(b"PK"):
-            raise LogbookError(f"{path} is named .xlsx but is not a spreadsheet file")
-        return _read_xlsx(path)
-    if b"\x00" in head or head.startswith(b"PK"):
-        raise LogbookError(f"{path} is not a text CSV file (it looks binary); save the log as CSV or .xlsx")
-    try:
-        text = path.read_text(encoding="utf-8-sig")
-    except UnicodeDecodeError:
-        text = path.read_text(encoding="latin-1")
-    try:
-        from io import StringIO
+class _Problems:
+    """The problems found, one entry per (row, column), collected column by column."""
 
-        frame = pd.read_csv(StringIO(text), dtype=str, keep_default_na=False, skip_blank_lines=True)
-    except (pd.errors.ParserError, pd.errors.EmptyDataError, ValueError) as exc:
-        raise LogbookError(f"{path} cannot be read as CSV: {str(exc).splitlines()[0]}") from None
-    return frame
+    def __init__(self, n: int):
+        self.n = n
+        self.rows: list[np.ndarray] = []
+        self.columns: list[np.ndarray] = []
+        self.values: list[np.ndarray] = []
+        self.reasons: list[np.ndarray] = []
 
+    def add(self, rows, column, value, reason) -> None:
+        rows = np.asarray(rows, dtype=int).ravel()
+        if rows.size == 0:
+            return
+        self.rows.append(rows)
+        for target, item in ((self.columns, column), (self.values, value), (self.reasons, reason)):
+            array = np.empty(rows.size, dtype=object)
+            array[:] = item if isinstance(item, str) else list(np.asarray(item, dtype=object).ravel())
+            target.append(array)
 
-def _read_xlsx(path: Path) -> pd.DataFrame:
-    import openpyxl
-
-    try:
-        book = openpyxl.load_workbook(path, read_only=False, data_only=True)
-    except Exception as exc:  # openpyxl raises many kinds for a damaged file
-        raise LogbookError(f"{path} cannot be opened as a spreadsheet: {exc}") from None
-    sheet = book["sights"] if "sights" in book.sheetnames else book.worksheets[0]
-    merged_header = [str(r) for r in sheet.merged_cells.ranges if r.min_row == 1]
-    if merged_header:
-        raise LogbookError(f"{path}, sheet {sheet.title!r}: the header row has merged cells "
-                           f"({', '.join(merged_header)}); give each column its own header cell")
-    rows = list(sheet.iter_rows(values_only=True))
-    if not rows:
-        raise LogbookError(f"{path}, sheet {sheet.title!r} is empty")
-    header = ["" if h is None else str(h) for h in rows[0]]
-    while header and header[-1] == "":
-        header.pop()
-    body = [list(r[: len(header)]) for r in rows[1:] if any(v not in (None, "") for v in r)]
-    frame = pd.DataFrame(body, columns=header, dtype=object)
-    for column in frame.columns:
-        frame[column] = frame[column].map(_cell_text)
-    return frame
+    def frame(self) -> pd.DataFrame:
+        if not self.rows:
+            return pd.DataFrame({"index": np.zeros(0, dtype=int), "column": [], "value": [], "reason": []})
+        return pd.DataFrame({"index": np.concatenate(self.rows), "column": np.concatenate(self.columns),
+                             "value": np.concatenate(self.values), "reason": np.concatenate(self.reasons)})
 
 
-def _cell_text(value) -> str:
-    """A spreadsheet cell as the text a navigator typed (dates and times in ISO form)."""
+def _blank(value) -> bool:
+    return value is None or (isinstance(value, str) and not value.strip())
+
+
+def _text(value) -> str:
+    """A cell as text, the way a person typed it (a whole number without '.0')."""
     if value is None:
         return ""
-    if hasattr(value, "isoformat"):
-        return value.isoformat()
     if isinstance(value, float) and value.is_integer():
         return str(int(value))
+    if isinstance(value, _dt.datetime):
+        return value.isoformat(sep=" ")
     return str(value)
 
 
-def _normalise_columns(frame: pd.DataFrame, path: Path) -> pd.DataFrame:
-    names = [str(c).strip().lower().replace(" ", "_") for c in frame.columns]
-    if any(n == "" or n.startswith("unnamed:") for n in names[: max(1, len(names))]) and \
-            not any(n in KNOWN for n in names):
-        raise LogbookError(f"{path} has no header row navred recognises; the first row must name the "
-                           f"columns (required: utc or date/zone_time/zone_description, {', '.join(REQUIRED)})")
-    duplicates = sorted({n for n in names if names.count(n) > 1 and n})
-    if duplicates:
-        raise LogbookError(f"{path}: column(s) {', '.join(duplicates)} appear more than once (names are "
-                           "case-insensitive)")
-    frame = frame.copy()
-    frame.columns = names
-    has_time = "utc" in names or {"date", "zone_time", "zone_description"} <= set(names)
-    missing = [c for c in REQUIRED if c not in names]
-    if not has_time:
-        missing.insert(0, "utc (or date, zone_time and zone_description)")
-    if missing and len(set(names) & set(KNOWN)) < 2:
-        raise LogbookError(f"{path} is not a sight log: none of its columns ({', '.join(names[:8])}) are "
-                           f"sight-log columns; required: {', '.join(missing)} (see docs/sight-log.md)")
-    frame.attrs["missing_columns"] = missing
-    return frame
+def _cell_texts(values: pd.Series) -> np.ndarray:
+    """Every cell of a column as text, as :func:`_text` writes it (each distinct value once)."""
+    if pd.api.types.is_datetime64_any_dtype(values.dtype):
+        stamps = values.dt.tz_convert(None) if values.dt.tz is not None else values
+        text = np.datetime_as_string(stamps.to_numpy().astype("datetime64[us]")).astype(object)
+        return np.where(values.isna().to_numpy(), "", np.char.replace(text.astype(str), "T", " ")).astype(object)
+    codes, uniques = pd.factorize(values, use_na_sentinel=True)
+    texts = np.array([_text(u) for u in uniques] + [""], dtype=object)
+    return texts[codes]
 
 
-_ZONE = re.compile(r"^\s*([+-]?)\s*(\d{1,2})(?::?(\d{2}))?\s*[a-z]?\s*$", re.IGNORECASE)
+def _with_decimal_point(text: str, decimal_comma: bool) -> str:
+    if "," not in text:
+        return text
+    if not decimal_comma:
+        raise NavredError(f"{text!r}: a comma here is ambiguous (a decimal comma, or two values?); write the "
+                          "decimal with a point")
+    if "." in text or text.count(",") > 1:
+        raise NavredError(f"{text!r} has both a decimal comma and a point")
+    return text.replace(",", ".")
 
 
-def _zone_hours(text: str) -> float:
-    """Zone description in hours: '+3', '-10', '+5:30', '+3 C' (ZT + ZD = UTC)."""
-    match = _ZONE.match(text)
-    if not match:
-        raise NavredError(f"zone description {text!r} is not a signed whole hour such as +3 or -10")
-    hours = int(match.group(2)) + (int(match.group(3)) / 60 if match.group(3) else 0.0)
-    if hours > 14:
-        raise NavredError(f"zone description {text!r} is outside -12 to +14 hours")
-    return -hours if match.group(1) == "-" else hours
-
-
-def _iso_utc(row: pd.Series, columns: set[str]) -> str:
-    """The row's instant as an ISO 8601 UTC string, or raise with the reason."""
-    if "utc" in columns and str(row["utc"]).strip():
-        text = str(row["utc"]).strip()
-        utc_julian_date(text)  # checks zone, calendar, span
-        stamp = _to_timestamp(text)
+def _number(value, decimal_comma: bool) -> float:
+    if isinstance(value, bool) or isinstance(value, MissingFormulaValue):
+        raise NavredError(f"{value!r} is not a number")
+    if isinstance(value, (int, float)):
+        number = float(value)
     else:
-        date, zone_time, zone = (str(row.get(c, "")).strip() for c in ("date", "zone_time", "zone_description"))
-        if not (date and zone_time and zone):
-            raise NavredError("no time: give utc, or date with zone_time and zone_description")
-        zd = _zone_hours(zone)
-        local = pd.Timestamp(f"{date[:10]}T{zone_time}")
-        stamp = (local + pd.Timedelta(hours=zd)).tz_localize("UTC")
-        utc_julian_date(stamp)
-    if "chronometer_error_s" in columns and str(row["chronometer_error_s"]).strip():
-        error_s = float(row["chronometer_error_s"])
-        if not np.isfinite(error_s) or abs(error_s) > 3600:
-            raise NavredError(f"chronometer error {row['chronometer_error_s']!r} s is outside ±3600 s")
-        stamp = stamp - pd.Timedelta(seconds=error_s)  # a fast chronometer reads ahead of UTC
-    return stamp.strftime("%Y-%m-%dT%H:%M:%S.%fZ")
-
-
-def _to_timestamp(text: str) -> pd.Timestamp:
-    if re.search(r":60(\.\d*)?", text):
-        # a leap second: pandas has no 23:59:60; keep the last representable instant of the second
-        text = re.sub(r":60(\.\d*)?", ":59.999999", text)
-    return pd.Timestamp(text).tz_convert("UTC")
-
-
-_CHECKS = {
-    "hs": lambda v: _range(parse_angle(v, "angle"), 0.0, 90.0, "Hs must lie in 0-90°"),
-    "dr_lat": lambda v: parse_angle(v, "lat"),
-    "dr_lon": lambda v: parse_angle(v, "lon"),
-    "chart_lat": lambda v: parse_angle(v, "lat"),
-    "chart_lon": lambda v: parse_angle(v, "lon"),
-    "index_error_arcmin": parse_index_error_arcmin,
-    "eye_height_m": lambda v: _range(_number(v), 0.0, 1000.0, "height of eye must be 0-1000 m"),
-    "temperature_c": lambda v: _range(_number(v), -50.0, 60.0, "temperature must be -50 to +60 °C"),
-    "pressure_hpa": lambda v: _range(_number(v), 850.0, 1100.0, "pressure must be 850-1100 hPa"),
-    "course_deg": lambda v: _range(_number(v), 0.0, 360.0, "course must be 0-360°"),
-    "speed_kn": lambda v: _range(_number(v), 0.0, 60.0, "speed must be 0-60 knots"),
-    "dut1_s": lambda v: _range(_number(v), -0.9, 0.9, "DUT1 must be within ±0.9 s"),
-    "limb": lambda v: _word(v, {"lower", "ll", "l", "upper", "ul", "u", "centre", "center", "c"},
-                            "limb must be lower, upper or centre (LL/UL accepted)"),
-    "horizon": lambda v: _word(v, {"sea", "natural", "artificial", "bubble", "mercury"},
-                               "horizon must be sea or artificial"),
-}
-
-
-def _number(value) -> float:
-    try:
-        number = float(str(value).replace(",", "."))
-    except ValueError:
-        raise NavredError(f"{value!r} is not a number") from None
+        text = _with_decimal_point(str(value).strip(), decimal_comma)
+        try:
+            number = float(text)
+        except ValueError:
+            raise NavredError(f"{value!r} is not a number") from None
     if not np.isfinite(number):
         raise NavredError(f"{value!r} is not a finite number")
     return number
 
 
-def _range(number: float, low: float, high: float, message: str) -> float:
-    if not low <= number <= high:
-        raise NavredError(f"{message}; got {number:g}")
-    return number
+def _word(value, table: dict, what: str) -> str:
+    word = normalise_header(_text(value))
+    if word not in table:
+        accepted = ", ".join(sorted({k for k in table if k}))
+        raise NavredError(f"{what} {value!r} is not one navred knows; accepted: {accepted}")
+    return table[word]
 
 
-def _word(value, accepted: set[str], message: str) -> str:
-    word = str(value).strip().lower()
-    if word not in accepted:
-        raise NavredError(f"{message}; got {value!r}")
-    return word
+def _ranged(number: float, key: str, unit: str | None) -> float:
+    column = COLUMN[key]
+    used = convert_to_working_unit(number, unit)
+    if (column.low is not None and used < column.low) or (column.high is not None and used > column.high):
+        working = UNIT_NAMES.get(column.units[0], "") if column.units else "°"
+        shown = f"{number:g} {UNIT_NAMES[unit]} ({used:.4g} {working})" if unit and unit != column.units[0] \
+            else f"{number:g}"
+        raise NavredError(f"{key.replace('_', ' ')} {shown} is outside {column.low:g} to {column.high:g} {working}")
+    return used
 
 
-def read_sight_log(path: str | Path) -> tuple[pd.DataFrame, pd.DataFrame]:
-    """Read and validate a sight log: (sights, rejected), two DataFrames.
+def _utc_components(value, dates):
+    """(y, m, d, h, mi, s, offset minutes) of a value in the utc column."""
+    if isinstance(value, MissingFormulaValue):
+        raise NavredError(f"{value!r}: the instant is unknown")
+    if isinstance(value, _dt.datetime):
+        if value.tzinfo is None:  # a spreadsheet date-time cell: the column's name says UTC
+            value = value.replace(tzinfo=_dt.timezone.utc)
+    elif isinstance(value, _dt.date):
+        raise NavredError(f"{value} is a date without a time of day; give the instant in the utc column "
+                          "(2026-03-26T19:41:00Z), or zone_time with zone_description")
+    elif isinstance(value, (int, float)):
+        raise NavredError(f"{value!r} is a number, not an instant: format the cell as a date-time, or write "
+                          "2026-03-26T19:41:00Z")
+    elif isinstance(value, str):
+        value = iso_instant_text(value.strip(), dates)
+    return tuple(float(np.asarray(c)) for c in instant_components(value))
 
-    ``sights`` holds the rows with no problem, ready for :func:`navred.reduce_sights`:
-    lower-case column names, ``utc`` as ISO 8601 UTC text (made from ``date``,
-    ``zone_time`` and ``zone_description`` when the log keeps zone time, corrected for
-    ``chronometer_error_s``), ``body`` in catalogue spelling, ``fix_group`` filled in
-    (sights within two hours of each other when the log has none), every other column
-    as read, and ``row``, the 1-based data row in the file. ``rejected`` has one line per
-    problem: ``row``, ``column``, ``value`` and ``reason``. A file that is not a sight log
-    at all raises :class:`LogbookError`.
-    """
-    file = Path(path)
-    raw = _read_raw(file)
-    if raw.shape[1] == 0 or (len(raw) == 0 and raw.shape[1] <= 1):
-        raise LogbookError(f"{file} has no columns: a sight log needs a header row")
-    frame = _normalise_columns(raw, file)
-    columns = set(frame.columns)
-    n = len(frame)
-    problems: list[tuple[int, str, str, str]] = []
-    for column in frame.attrs.get("missing_columns", []):
-        for i in range(n):
-            problems.append((i, column.split(" ")[0], "", f"required column {column} is missing"))
-    utc = _utc_column(frame, columns, problems)
-    bodies = np.full(n, "", dtype=object)
-    if "body" in columns:
-        names = frame["body"].astype(str).str.strip()
-        for spelling, rows in _distinct(names):
-            try:
-                bodies[rows] = canonical_body_name(spelling)
-            except NavredError as exc:
-                problems.extend((i, "body", spelling, str(exc)) for i in rows)
-    # every other column: each distinct value is checked once (a log repeats its heights of eye,
-    # limbs and index errors), and its verdict applied to the rows that hold it
-    for column, check in _CHECKS.items():
-        if column not in columns:
+
+def _parse_time_cell(value):
+    """(h, m, s, y, mo, d) of a zone-time cell (a date-time cell carries its date; NaN for none)."""
+    if isinstance(value, MissingFormulaValue):
+        raise NavredError(f"{value!r}")
+    if isinstance(value, (int, float)) and not isinstance(value, bool):
+        raise NavredError(f"{value!r} is a number, not a time of day: write 19:41:30, or format the cell as a time")
+    hour, minute, second = parse_time_of_day(value)
+    if isinstance(value, _dt.datetime) and value.date() not in _SPREADSHEET_EPOCHS:
+        return hour, minute, second, value.year, value.month, value.day
+    return hour, minute, second, np.nan, np.nan, np.nan
+
+
+#: A time typed into a date-time cell comes back on the spreadsheet's day zero: no date at all.
+_SPREADSHEET_EPOCHS = (_dt.date(1899, 12, 30), _dt.date(1899, 12, 31), _dt.date(1904, 1, 1))
+
+
+def _not_formula(value):
+    if isinstance(value, MissingFormulaValue):
+        raise NavredError(f"{value!r}")
+    return value
+
+
+def _decimal_text(value, decimal_comma):
+    return value if isinstance(value, (int, float)) else _with_decimal_point(_text(value), decimal_comma)
+
+
+#: One parser per kind of column: (value, decimal comma allowed, unit, declared date order) -> result.
+_PARSERS = {
+    "body": lambda v, dc, unit, dates: canonical_body_name(_text(_not_formula(v))),
+    "limb": lambda v, dc, unit, dates: _word(_not_formula(v), LIMBS, "limb"),
+    "horizon": lambda v, dc, unit, dates: _word(_not_formula(v), HORIZONS, "horizon"),
+    "altitude": lambda v, dc, unit, dates: float(parse_angle(_not_formula(v), "angle", dc)),
+    "lat": lambda v, dc, unit, dates: float(parse_angle(_not_formula(v), "lat", dc)),
+    "lon": lambda v, dc, unit, dates: float(parse_angle(_not_formula(v), "lon", dc)),
+    "index_error": lambda v, dc, unit, dates: float(parse_index_error_arcmin(_decimal_text(_not_formula(v), dc))),
+    "number": lambda v, dc, unit, dates: _number(_not_formula(v), dc),
+    "watch_error": lambda v, dc, unit, dates: parse_watch_error_s(_decimal_text(_not_formula(v), dc)),
+    "utc": lambda v, dc, unit, dates: _utc_components(v, dates),
+    "date": lambda v, dc, unit, dates: parse_date(_not_formula(v), dates),
+    "time": lambda v, dc, unit, dates: _parse_time_cell(v),
+    "zone": lambda v, dc, unit, dates: float(parse_zone_description(_not_formula(v))),
+    "text": lambda v, dc, unit, dates: _text(_not_formula(v)).strip(),
+    "name": lambda v, dc, unit, dates: " ".join(_text(_not_formula(v)).split()),
+}
+#: Kinds whose result is several numbers (a row of an array), and how many.
+_TUPLE_KINDS = {"utc": 7, "date": 3, "time": 6}
+#: Kinds whose result is one number.
+_FLOAT_KINDS = {"altitude", "lat", "lon", "index_error", "number", "watch_error", "zone"}
+
+
+def _parse_one(column, value, decimal_comma, unit, dates):
+    """One value of a column parsed, converted to navred's unit and checked against the range; or raise."""
+    result = _PARSERS[column.kind](value, decimal_comma, unit, dates)
+    if column.kind in ("number", "altitude") and column.low is not None:
+        result = _ranged(float(result), column.key, unit if column.kind == "number" else None)
+    return result
+
+
+@dataclass
+class _Layout:
+    """How one table's headers map onto the vocabulary."""
+
+    keys: dict[str, list[int]]  # key -> indices of the headers that give it
+    units: dict[int, str | None]  # header index -> the unit it is given in
+    extras: list[int]  # headers navred does not know: carried through as text
+    problems: list[str]  # headers refused (ambiguous, or a unit the column does not take)
+
+
+def _layout(table: RawTable) -> _Layout:
+    normalised = [normalise_header(h) for h in table.header]
+    # navred's own reduce output read back: its parsed columns carry the sight, the rest is computed again
+    output = {"ho_deg", "hc_deg", "intercept_nm", "status", "sight_utc", "body_name"} <= set(normalised)
+    layout = _Layout({}, {}, [], [])
+    for k, header in enumerate(table.header):
+        name = normalised[k]
+        if name in BOOKKEEPING_HEADERS:
             continue
-        for value, rows in _distinct(frame[column].astype(str)):
-            if value.strip() == "":
-                if column in REQUIRED:
-                    problems.extend((i, column, "", f"{column} is empty") for i in rows)
-                continue
-            try:
-                check(value)
-            except NavredError as exc:
-                problems.extend((i, column, value, str(exc)) for i in rows)
-    eye = frame["eye_height_m"].astype(str).str.strip() if "eye_height_m" in columns else pd.Series("", index=frame.index)
-    horizon = frame["horizon"].astype(str).str.strip().str.lower() if "horizon" in columns else \
-        pd.Series("sea", index=frame.index)
-    no_eye = (eye == "").to_numpy() & ~horizon.isin(["artificial", "bubble", "mercury"]).to_numpy()
-    problems.extend((i, "eye_height_m", "", "height of eye is needed for the dip of a sea horizon")
-                    for i in np.flatnonzero(no_eye))
-    rejected = pd.DataFrame(problems, columns=REJECTED_COLUMNS)
-    rejected["row"] = rejected["row"] + 1
-    bad_rows = set(rejected["row"] - 1)
-    keep = ~np.isin(np.arange(n), list(bad_rows))
-    sights = frame[keep].copy()
-    sights["utc"] = utc[keep]
-    sights["body"] = bodies[keep]
-    sights.insert(0, "row", np.flatnonzero(keep) + 1)
-    sights = sights.reset_index(drop=True)
-    sights["fix_group"] = _fix_groups(sights)
-    return sights, rejected.sort_values(["row"], kind="stable").reset_index(drop=True)
+        if output:
+            if name in _OUTPUT_COLUMNS:
+                key = _OUTPUT_COLUMNS[name]
+                layout.keys.setdefault(key, []).append(k)
+                layout.units[k] = _OUTPUT_UNITS.get(key, COLUMN[key].default_unit)
+            elif header.strip().endswith(OUTPUT_SUFFIX) or (name not in SIGHT_COLUMNS and name not in _RESULT_NAMES):
+                layout.extras.append(k)
+            continue
+        match = match_header(header)
+        if match.problem:
+            layout.problems.append(match.problem)
+        elif match.key is None:
+            layout.extras.append(k)
+        else:
+            layout.keys.setdefault(match.key, []).append(k)
+            layout.units[k] = match.unit
+    return layout
 
 
-def _distinct(values: pd.Series):
-    """(value, row numbers) for each distinct value of a column."""
-    codes, uniques = pd.factorize(values, sort=False)
-    order = np.argsort(codes, kind="stable")
-    bounds = np.searchsorted(codes[order], np.arange(len(uniques) + 1))
-    for k, value in enumerate(uniques):
-        yield value, order[bounds[k]:bounds[k + 1]]
+_RESULT_NAMES: set[str] = set()
 
 
-def _utc_column(frame: pd.DataFrame, columns: set[str], problems: list) -> np.ndarray:
-    """Every row's instant as ISO 8601 UTC text ('' where it cannot be read; the reason noted).
+def _result_names() -> set[str]:
+    if not _RESULT_NAMES:
+        from .sights import RESULT_COLUMNS
 
-    The whole column is read at once; only when that fails are the rows read one by one
-    to find which, and why.
+        _RESULT_NAMES.update(RESULT_COLUMNS)
+    return _RESULT_NAMES
+
+
+def read_sight_log(source: object, *, dates: str | None = None) -> SightLog:
+    """Read and check sight logs: a file (CSV or .xlsx), a list of files, a folder, or a DataFrame.
+
+    ``dates`` declares the order of numeric dates that are not ISO 8601 for the whole log
+    (``'day-first'`` or ``'month-first'``); without it such a date is refused with both of
+    its readings. Returns a :class:`SightLog`; a source that is not a sight log at all
+    raises :class:`LogbookError` with one message.
     """
-    n = len(frame)
-    out = np.full(n, "", dtype=object)
-    if not ("utc" in columns or {"date", "zone_time", "zone_description"} <= columns):
+    if dates is not None and dates not in DATE_ORDERS:
+        raise LogbookError(f"dates {dates!r} is not one of {', '.join(DATE_ORDERS)}")
+    _result_names()
+    tables = read_table(source)
+    layouts = []
+    for table in tables:
+        layout = _layout(table)
+        if layout.problems:
+            raise LogbookError(f"{table.source}: " + "; ".join(layout.problems))
+        _check_is_log(table, layout.keys)
+        layouts.append(layout)
+    return _parse(tables, layouts, dates)
+
+
+def _check_is_log(table: RawTable, keys: dict) -> None:
+    required = [c.key for c in COLUMNS if c.required]
+    if len(set(keys) & ({"utc", "zone_time"} | set(required))) < 2:
+        separator = f"; it is {_SEPARATOR_NAMES.get(table.separator, 'a spreadsheet')}-separated" \
+            if table.separator else ""
+        shown = ", ".join(repr(h) for h in table.header[:10]) + (", ..." if len(table.header) > 10 else "")
+        raise LogbookError(
+            f"{table.source} is not a sight log: none of its columns ({shown}) name a sight's time, body, "
+            f"Hs or DR{separator}; required: utc (or date, zone_time and zone_description), body, hs, dr_lat, "
+            "dr_lon (see docs/sight-log.md)")
+
+
+_SEPARATOR_NAMES = {",": "comma", ";": "semicolon", "\t": "tab"}
+
+
+@dataclass
+class _Cells:
+    """One column key across every table: the cells, their units and header names, row by row."""
+
+    values: pd.Series  # index 0..n-1; None where the row gives nothing
+    blank: np.ndarray
+    units: np.ndarray
+    headers: np.ndarray
+    decimal_comma: np.ndarray
+    present: bool
+
+
+@dataclass
+class _Parsed:
+    """The parsed values of one key: a mask of the rows with a good value, and the values
+    (n,) for one number or word per row, (k, n) for kinds that give several numbers."""
+
+    ok: np.ndarray
+    value: np.ndarray
+
+
+def _constant(value, n: int) -> np.ndarray:
+    """A read-only array of one value repeated (no memory per row)."""
+    return np.broadcast_to(np.array(value, dtype=object), (n,))
+
+
+def _gather(tables, layouts, key) -> _Cells:
+    """The cells of one key across all tables (blank where a table lacks it); two columns of one
+    table that give the same key are combined row by row (one value at most)."""
+    values, blanks, units, headers, commas = [], [], [], [], []
+    present = False
+    for table, layout in zip(tables, layouts):
+        n = table.n_rows
+        indices = layout.keys.get(key, [])
+        if not indices:
+            values.append(None)
+            blanks.append(np.ones(n, dtype=bool))
+            units.append(_constant(COLUMN[key].default_unit, n))
+            headers.append(_constant(key, n))
+            commas.append(np.broadcast_to(table.decimal_comma, (n,)))
+            continue
+        present = True
+        first = indices[0]
+        column = table.columns[first]
+        blank = blank_mask(column)
+        unit = _constant(layout.units[first], n)
+        header = _constant(table.header[first], n)
+        for k in indices[1:]:
+            cells = table.columns[k]
+            filled = ~blank_mask(cells)
+            for i in np.flatnonzero(filled & ~blank):
+                table.row_problems.setdefault(int(i), (table.header[k], (
+                    f"two values for {key.replace('_', ' ')}: {header[i]!r} {_text(column.iloc[i])!r} and "
+                    f"{table.header[k]!r} {_text(cells.iloc[i])!r}; keep one")))
+            column = column.astype(object).where(~filled, cells.astype(object))
+            unit = np.where(filled & blank, layout.units[k], unit)
+            header = np.where(filled & blank, table.header[k], header)
+            blank = blank & ~filled
+        values.append(column.reset_index(drop=True))
+        blanks.append(blank)
+        units.append(unit)
+        headers.append(header)
+        commas.append(np.broadcast_to(table.decimal_comma, (n,)))
+    if len(values) == 1:
+        n = tables[0].n_rows
+        joined = values[0] if values[0] is not None else pd.Series(_constant(None, n), dtype=object)
+        return _Cells(joined, blanks[0], units[0], headers[0], commas[0], present)
+    joined = pd.concat([v.astype(object) if v is not None else pd.Series([None] * t.n_rows, dtype=object)
+                        for v, t in zip(values, tables)], ignore_index=True)
+    return _Cells(joined, np.concatenate(blanks), np.concatenate(units), np.concatenate(headers),
+                  np.concatenate(commas), present)
+
+
+def _numeric_checks(column, numbers: np.ndarray, units: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Plain numbers of a column checked (and converted) in bulk: (values used, refused mask).
+
+    The refused ones are parsed again one by one, which gives their reasons."""
+    kind = column.kind
+    used = numbers.astype(float)
+    if kind == "number" and column.units:
+        factors = np.ones(numbers.size)
+        offsets = np.zeros(numbers.size)
+        for unit in set(units) - {None}:
+            factors[units == unit], offsets[units == unit] = UNIT_CONVERSIONS[unit]
+        used = numbers * factors + offsets
+    bad = ~np.isfinite(used)
+    with np.errstate(invalid="ignore"):
+        if kind in ("number", "altitude") and column.low is not None:
+            bad |= (used < column.low) | (used > column.high)
+        elif kind == "lat":
+            bad |= np.abs(used) > 90.0
+        elif kind == "lon":
+            bad |= (used < -180.0) | (used > 360.0)
+            used = np.where(used >= 180.0, used - 360.0, used)
+        elif kind == "index_error":
+            bad |= np.abs(used) > 30.0
+        elif kind == "watch_error":
+            bad |= np.abs(used) > 3600.0
+        elif kind == "zone":
+            bad |= True  # a number cell of a zone description: each is judged one by one
+    return used, bad
+
+
+_ISO_Z = r"^\s*(\d{4})-(\d{2})-(\d{2})[T ](\d{2}):(\d{2}):(\d{2}(?:\.\d+)?)\s*Z\s*$"
+
+
+def _parse_key(cells: _Cells, key: str, problems: _Problems, dates) -> _Parsed:
+    """Parse one key: plain numbers and ISO instants in bulk, anything else each distinct
+    (value, unit, comma rule) once; converted to navred's unit and checked against the range."""
+    column = COLUMN[key]
+    n = len(cells.values)
+    width = _TUPLE_KINDS.get(column.kind)
+    if width:
+        value = np.full((width, n), np.nan)
+    elif column.kind in _FLOAT_KINDS:
+        value = np.full(n, np.nan)
+    else:
+        value = np.full(n, None, dtype=object)
+    todo = ~cells.blank
+    if not todo.any():
+        return _Parsed(np.zeros(n, dtype=bool), value)
+    values = cells.values
+    rows = np.flatnonzero(todo)
+    subset = values.iloc[rows]
+    inferred = pd.api.types.infer_dtype(subset, skipna=True)
+    if column.kind in _FLOAT_KINDS and inferred in ("floating", "integer", "mixed-integer-float"):
+        used, bad = _numeric_checks(column, subset.to_numpy(dtype=float, na_value=np.nan), cells.units[rows])
+        value[rows[~bad]] = used[~bad]
+        todo[rows[~bad]] = False
+    elif column.kind == "utc" and inferred == "string":
+        parts = subset.str.extract(_ISO_Z).to_numpy(dtype=object)
+        matched = ~pd.isna(parts[:, 0])
+        if matched.any():
+            value[:6, rows[matched]] = parts[matched].astype(float).T
+            value[6, rows[matched]] = 0.0
+            todo[rows[matched]] = False
+    elif column.kind == "utc" and inferred in ("datetime", "datetime64"):
+        try:
+            stamps = pd.to_datetime(subset)
+            stamps = stamps.dt.tz_convert("UTC") if stamps.dt.tz is not None else stamps
+        except (TypeError, ValueError):
+            stamps = None  # naive and aware mixed: one by one below
+        if stamps is not None:
+            fraction = stamps.dt.microsecond.to_numpy() / 1e6 + stamps.dt.nanosecond.to_numpy() / 1e9
+            value[:, rows] = np.vstack([stamps.dt.year, stamps.dt.month, stamps.dt.day, stamps.dt.hour,
+                                        stamps.dt.minute, stamps.dt.second.to_numpy() + fraction,
+                                        np.zeros(rows.size)])
+            todo[rows] = False
+    refused = np.zeros(n, dtype=bool)
+    rows = np.flatnonzero(todo)
+    if rows.size:
+        groups = pd.DataFrame({"unit": cells.units[rows].astype(str), "comma": cells.decimal_comma[rows]})
+        for (unit_text, comma), part in groups.groupby(["unit", "comma"], sort=False):
+            members = rows[part.index.to_numpy()]
+            unit = None if unit_text == "None" else unit_text
+            originals = values.iloc[members]
+            # each distinct value once; a formula or a TRUE/FALSE cell keyed apart from the number it equals
+            # each distinct value once (TRUE/FALSE cells were made text by the reader, so that True is not 1)
+            codes, uniques = pd.factorize(originals, use_na_sentinel=False)
+            first = np.full(len(uniques), -1)
+            first[codes[::-1]] = np.arange(codes.size)[::-1]
+            results, reasons = [], {}
+            for u in range(len(uniques)):
+                original = originals.iloc[first[u]]
+                try:
+                    results.append(_parse_one(column, original, bool(comma), unit, dates))
+                except (NavredError, ValueError, TypeError) as exc:
+                    results.append(None)
+                    reasons[u] = _reason(exc, original)
+            good = np.array([r is not None for r in results], dtype=bool)
+            if width:
+                table = np.full((width, len(uniques)), np.nan)
+                for u in np.flatnonzero(good):
+                    table[:, u] = results[u]
+                value[:, members] = table[:, codes]
+            else:
+                table = np.empty(len(uniques), dtype=value.dtype)
+                table[:] = [r if r is not None else (np.nan if value.dtype == float else None) for r in results]
+                value[members] = table[codes]
+            refused[members[~good[codes]]] = True
+            for u, reason in reasons.items():
+                where = members[codes == u]
+                problems.add(where, cells.headers[where], [_text(v) for v in values.iloc[where]], reason)
+    return _Parsed(~cells.blank & ~refused, value)
+
+
+def _reason(exc: Exception, value) -> str:
+    if isinstance(value, MissingFormulaValue):
+        return (f"a formula ({value.formula}) with no saved value: open and save the file in a spreadsheet program "
+                "so that its value is stored, or type the value")
+    return str(exc)
+
+
+def _floats(parsed: _Parsed, default=np.nan) -> np.ndarray:
+    return np.where(parsed.ok, parsed.value, default).astype(float)
+
+
+def _words(parsed: _Parsed, default="") -> np.ndarray:
+    return np.where(parsed.ok, parsed.value, default).astype(object)
+
+
+def _parse(tables: list[RawTable], layouts, dates) -> SightLog:
+    n = sum(t.n_rows for t in tables)
+    problems = _Problems(n)
+    sources = np.concatenate([np.full(t.n_rows, t.source, dtype=object) for t in tables]) if tables \
+        else np.zeros(0, dtype=object)
+    rows = np.concatenate([t.row_numbers for t in tables]) if tables else np.zeros(0, dtype=int)
+    gathered = {c.key: _gather(tables, layouts, c.key) for c in COLUMNS}
+    parsed = {c.key: _parse_key(gathered[c.key], c.key, problems, dates) for c in COLUMNS}
+    # malformed rows (wrong field count, control characters, two values for one quantity)
+    offset = 0
+    for table in tables:
+        for index, (header, reason) in sorted(table.row_problems.items()):
+            problems.add([offset + index], header or "(row)", "", reason)
+        offset += table.n_rows
+    for column in COLUMNS:
+        cells = gathered[column.key]
+        if column.required and not cells.present:
+            problems.add(np.arange(n), column.key, "", f"required column {column.key} is missing")
+        elif column.required:
+            problems.add(np.flatnonzero(cells.blank), cells.headers[cells.blank], "",
+                         f"{column.key.replace('_', ' ')} is empty")
+    horizon = _words(parsed["horizon"], "sea")
+    needs_eye = gathered["eye_height"].blank & (horizon == "sea")
+    problems.add(np.flatnonzero(needs_eye), gathered["eye_height"].headers[needs_eye], "",
+                 "height of eye is needed for the dip of a sea horizon")
+    for a, b in (("chart_lat", "chart_lon"), ("chart_lon", "chart_lat")):
+        alone = parsed[a].ok & gathered[b].blank
+        problems.add(np.flatnonzero(alone), gathered[b].headers[alone], "",
+                     f"{a.replace('_', ' ')} is given without {b.replace('_', ' ')}: give both, or neither")
+    times = _time_working(parsed, gathered, problems)
+
+    found = problems.frame().sort_values(["index"], kind="stable")
+    index = found["index"].to_numpy(dtype=int)
+    found["source"] = sources[index]
+    found["row"] = rows[index]
+    message = np.full(n, "", dtype=object)
+    where = np.full(n, "", dtype=object)
+    if len(found):
+        joined = found.assign(text=found.column.astype(str) + ": " + found.reason.astype(str))
+        grouped = joined.groupby("index", sort=False)
+        texts = grouped.text.agg("; ".join)
+        message[texts.index.to_numpy(dtype=int)] = texts.to_numpy(dtype=object)
+        columns = grouped.column.agg(lambda c: ", ".join(dict.fromkeys(str(x) for x in c)))
+        where[columns.index.to_numpy(dtype=int)] = columns.to_numpy(dtype=object)
+    table = _sight_table(n, sources, rows, parsed, gathered, times, message, where)
+    table["fix_group"], table["fix_group_given"] = _fix_groups(table, message == "")
+    extras, names = _extras(tables, layouts)
+    for name, values in extras.items():
+        table[name] = values
+    rejected = found[REJECTED_COLUMNS].reset_index(drop=True)
+    rejected["row"] = rejected["row"].astype(int)
+    return SightLog(table, rejected, tuple(t.source for t in tables), sum(t.empty_rows for t in tables), dates,
+                    tuple(names), tuple(tables))
+
+
+def _time_working(parsed, gathered, problems) -> dict:
+    """Each row's instant from utc, or from date, zone_time and zone_description, less the watch error."""
+    utc, zone_time, date, zd = parsed["utc"], parsed["zone_time"], parsed["date"], parsed["zone_description"]
+    n = utc.ok.size
+    has_utc = utc.ok
+    utc_blank, zone_blank = gathered["utc"].blank, gathered["zone_time"].blank
+    cell_date = np.isfinite(zone_time.value[3])
+    day = np.where(date.ok[None, :], date.value, zone_time.value[3:6])
+    day_known = date.ok | cell_date
+    conflict = zone_time.ok & date.ok & cell_date & np.any(date.value != zone_time.value[3:6], axis=0)
+    for i in np.flatnonzero(conflict):
+        problems.add([i], gathered["zone_time"].headers[i], _text(gathered["zone_time"].values.iloc[i]),
+                     f"the zone time's own date differs from the date column "
+                     f"({_text(gathered['date'].values.iloc[i])})")
+    wanted = zone_time.ok & ~has_utc & ~conflict
+    missing_date = wanted & ~day_known & gathered["date"].blank
+    problems.add(np.flatnonzero(missing_date), "date", "", "a zone time needs its date: give the date column")
+    missing_zone = wanted & ~zd.ok & gathered["zone_description"].blank
+    problems.add(np.flatnonzero(missing_zone), "zone_description", "",
+                 "a zone time needs its zone description (ZT + ZD = UTC)")
+    complete = zone_time.ok & day_known & zd.ok & ~conflict
+    zone = np.vstack([day, zone_time.value[:3], -60.0 * zd.value[None, :]])
+    if gathered["utc"].present or gathered["zone_time"].present:
+        no_time = utc_blank & zone_blank
+        problems.add(np.flatnonzero(no_time), "utc" if gathered["utc"].present else "zone_time", "",
+                     "no time: give utc, or date with zone_time and zone_description")
+    else:
+        problems.add(np.arange(n), "utc", "", "required column utc (or date, zone_time and zone_description) "
+                                              "is missing")
+    use_zone = ~has_utc & complete
+    usable = has_utc | use_zone
+    chosen = np.where(use_zone[None, :], zone, utc.value)
+    jd1, jd2, reasons = utc_julian_date_from_components(*np.where(usable[None, :], chosen, 0.0))
+    refused = usable & (reasons != "")
+    for i in np.flatnonzero(refused):
+        key = "utc" if has_utc[i] else "zone_time"
+        problems.add([i], gathered[key].headers[i], _text(gathered[key].values.iloc[i]), reasons[i])
+    ok = usable & ~refused
+    both = ok & has_utc & complete
+    if both.any():
+        z1, z2, _ = utc_julian_date_from_components(*zone[:, both])
+        apart = np.abs(((jd1[both] - z1) + (jd2[both] - z2)) * 86400.0)
+        for i in np.flatnonzero(both)[~(apart <= TIME_AGREEMENT_S)]:
+            problems.add([i], gathered["zone_time"].headers[i], _text(gathered["zone_time"].values.iloc[i]),
+                         f"utc {_text(gathered['utc'].values.iloc[i])} and the zone time disagree: give one, or "
+                         "correct it")
+    error = _floats(parsed["watch_error"], 0.0)
+    jd1, jd2 = np.where(ok, jd1, np.nan), np.where(ok, jd2, np.nan)
+    moved = ok & (error != 0.0)
+    if moved.any():
+        jd1[moved], jd2[moved] = utc_minus_seconds(jd1[moved], jd2[moved], error[moved])
+    # the time as written, for the time working
+    as_read = np.where(~utc_blank, _cell_texts(gathered["utc"].values), _cell_texts(gathered["zone_time"].values))
+    shown_zone = use_zone | both
+    zone_date = np.full(n, "", dtype=object)
+    if shown_zone.any():
+        zone_date[shown_zone] = [f"{int(y):04d}-{int(m):02d}-{int(d):02d}" for y, m, d in day[:, shown_zone].T]
+    return {"jd1": jd1, "jd2": jd2, "ok": ok, "watch_error_s": error,
+            "zd": np.where(shown_zone, zd.value, np.nan), "zone_date": zone_date,
+            "time_given": np.where(has_utc, "utc", np.where(use_zone, "zone time", "")).astype(object),
+            "as_read": as_read}
+
+
+def _sight_table(n, sources, rows, parsed, gathered, times, message, where) -> pd.DataFrame:
+    ok_time = times["ok"]
+    stamps = np.full(n, np.datetime64("NaT"), dtype="datetime64[ns]")
+    if ok_time.any():
+        stamps[ok_time] = utc_jd_to_datetime64(times["jd1"][ok_time], times["jd2"][ok_time])
+    utc = pd.Series(stamps).dt.tz_localize("UTC")
+    zd = times["zd"]
+    shift = np.where(np.isfinite(zd), zd * 3600e9, 0).astype(np.int64).astype("timedelta64[ns]")
+    shown = np.isfinite(zd) & ok_time
+    corrected = np.full(n, "", dtype=object)
+    if shown.any():
+        local = (stamps[shown] - shift[shown]).astype("datetime64[s]")
+        corrected[shown] = np.datetime_as_string(local).astype(object)
+        corrected[shown] = [text[11:19] for text in corrected[shown]]
+    greenwich = np.full(n, "", dtype=object)
+    if ok_time.any():
+        greenwich[ok_time] = np.datetime_as_string(stamps[ok_time].astype("datetime64[D]")).astype(object)
+    defaults = {c.key: c.default for c in COLUMNS}
+
+    def floats(key):
+        return _floats(parsed[key], np.nan if defaults[key] is None else defaults[key])
+
+    def as_given(key):
+        cells = gathered[key]
+        other = parsed[key].ok & (cells.units != COLUMN[key].units[0])
+        out = np.full(n, "", dtype=object)
+        if other.any():
+            out[other] = [f"{_text(v)} {UNIT_NAMES[u]}" for v, u in zip(cells.values[other], cells.units[other])]
         return out
-    if "utc" in columns and "chronometer_error_s" not in columns and "date" not in columns:
-        text = frame["utc"].astype(str).str.strip().to_numpy(dtype=object)
-        try:
-            # a leap second 23:59:60.x comes back as 23:59:59.999999, as the row-by-row path gives it
-            stamps = utc_jd_to_datetime64(*utc_julian_date(text))
-            out[:] = [f"{v}Z" for v in np.datetime_as_string(stamps, unit="us")]
-            return out
-        except NavredError:
-            pass  # some rows are bad: read them one by one below
-    for i in range(n):
-        row = frame.iloc[i]
-        try:
-            out[i] = _iso_utc(row, columns)
-        except (NavredError, ValueError) as exc:
-            column = "utc" if "utc" in columns and str(row.get("utc", "")).strip() else "zone_time"
-            problems.append((i, column, str(row.get(column, "")), str(exc)))
+
+    return pd.DataFrame({
+        "source": sources, "row": rows.astype(int), "sight_utc": utc,
+        "utc_jd1": times["jd1"], "utc_jd2": times["jd2"], "time_given": times["time_given"],
+        "time_as_read": times["as_read"], "watch_error_applied_s": times["watch_error_s"],
+        "zone_date_used": times["zone_date"], "zone_time_corrected": corrected,
+        "zone_description_used_h": zd,
+        "greenwich_date": greenwich,
+        "body_name": _words(parsed["body"]), "limb": _words(parsed["limb"]), "hs_deg": floats("hs"),
+        "index_error_arcmin": floats("index_error"),
+        "eye_height_m": floats("eye_height"), "eye_height_as_given": as_given("eye_height"),
+        "horizon": _words(parsed["horizon"], "sea"),
+        "temperature_c": floats("temperature"), "temperature_as_given": as_given("temperature"),
+        "pressure_hpa": floats("pressure"), "pressure_as_given": as_given("pressure"),
+        "dr_lat_deg": floats("dr_lat"), "dr_lon_deg": floats("dr_lon"),
+        "course_deg": floats("course"), "speed_kn": floats("speed"), "dut1_given_s": floats("dut1"),
+        "fix_group": _words(parsed["fix_group"]), "fix_group_given": parsed["fix_group"].ok,
+        "chart_lat_deg": floats("chart_lat"), "chart_lon_deg": floats("chart_lon"),
+        "vessel": _words(parsed["vessel"]), "observer": _observers(_words(parsed["observer"])),
+        "voyage": _words(parsed["voyage"]), "series": _words(parsed["series"]),
+        "read_problem": message, "read_problem_column": where,
+    })
+
+
+def _observers(names: np.ndarray) -> np.ndarray:
+    """One spelling per observer: names equal but for case and spacing take the first one written."""
+    codes, uniques = pd.factorize(names)
+    first: dict[str, str] = {}
+    spelled = np.array([first.setdefault(" ".join(str(u).split()).casefold(), " ".join(str(u).split()))
+                        for u in uniques], dtype=object)
+    return spelled[codes] if len(uniques) else np.full(len(names), "", dtype=object)
+
+
+def _fix_groups(table: pd.DataFrame, ok: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The fix group of each row: the log's label, or, where it gives none, one observer's sights of
+    one vessel less than two hours apart (named after the first sight's time and the observer).
+    Labels are kept apart by file when several files are read."""
+    has = table["fix_group_given"].to_numpy(dtype=bool)
+    labels = np.where(has, table["fix_group"].to_numpy(dtype=object), "").astype(object)
+    auto = ok & ~has
+    if auto.any():
+        rows = np.flatnonzero(auto)
+        times = table["sight_utc"].dt.tz_convert(None).to_numpy().astype("datetime64[ns]")[rows]
+        who = table[["source", "vessel", "observer"]].iloc[rows]
+        key_codes = who.groupby(list(who.columns), sort=False).ngroup().to_numpy()
+        ticks = times.astype(np.int64)
+        order = np.lexsort((ticks, key_codes))
+        gap = np.diff(ticks[order]) > DEFAULT_GROUP_GAP_HOURS * 3600e9
+        new = np.concatenate([[True], gap | (key_codes[order][1:] != key_codes[order][:-1])])
+        ids = np.empty(rows.size, dtype=int)
+        ids[order] = np.cumsum(new) - 1
+        leads = order[new]  # the first sight of each group, in group order
+        stamps = np.datetime_as_string(times[leads].astype("datetime64[m]"))
+        observers = who["observer"].to_numpy(dtype=object)[leads]
+        names = np.array([f"{t[:10]} {t[11:13]}{t[14:16]}Z" + (f" {o}" if o else "")
+                          for t, o in zip(stamps, observers)], dtype=object)
+        labels[rows] = names[ids]
+    if table["source"].nunique() > 1:
+        files = table["source"].map(lambda s: Path(s).name).to_numpy(dtype=object)
+        labels = np.where(labels != "", files + ": " + labels.astype(str), labels).astype(object)
+    return labels, has
+
+
+def _extra_name(header: str) -> str:
+    """The name a column navred does not know goes by: normalised, and marked when navred uses it."""
+    if header.strip().endswith(OUTPUT_SUFFIX):
+        return f"{normalise_header(header.strip()[:-len(OUTPUT_SUFFIX)])} {OUTPUT_SUFFIX}"
+    name = normalise_header(header) or "column"
+    return f"{name} {OUTPUT_SUFFIX}" if name in SIGHT_COLUMNS or name in _RESULT_NAMES else name
+
+
+def _extras(tables, layouts) -> tuple[dict[str, np.ndarray], list[str]]:
+    """The log's own extra columns as text, one column per name across every table."""
+    names = list(dict.fromkeys(_extra_name(t.header[k]) for t, layout in zip(tables, layouts)
+                               for k in layout.extras))
+    out = {}
+    for name in names:
+        parts = []
+        for table, layout in zip(tables, layouts):
+            column = np.full(table.n_rows, "", dtype=object)
+            for k in layout.extras:
+                if _extra_name(table.header[k]) == name:
+                    column = table.columns[k].map(_text).to_numpy(dtype=object)
+            parts.append(column)
+        out[name] = np.concatenate(parts) if parts else np.zeros(0, dtype=object)
+    return out, names
+
+
+def _as_read(tables) -> pd.DataFrame:
+    """Every data row as read: its file, its row number and its cells under the log's own headers."""
+    frames = []
+    for table in tables:
+        header = _unique(table.header)
+        data = {"source file": np.full(table.n_rows, table.source, dtype=object),
+                "row in log": table.row_numbers}
+        width = len(header)
+        for k, name in enumerate(header):
+            column = np.empty(table.n_rows, dtype=object)
+            column[:] = table.columns[k].to_numpy(dtype=object)
+            for index, cells in table.malformed_cells.items():
+                # a row with the wrong number of fields, shown as it came: the overflow in the last column
+                shown = cells[k:k + 1] if k < width - 1 else cells[k:]
+                column[index] = (table.separator or " ").join(shown)
+            data[name] = column
+        frames.append(pd.DataFrame(data))
+    frame = pd.concat(frames, ignore_index=True) if frames else pd.DataFrame()
+    if len(tables) == 1 and len(frame):
+        frame = frame.drop(columns=["source file"])
+    return frame
+
+
+def _unique(header: list[str]) -> list[str]:
+    seen: dict[str, int] = {}
+    out = []
+    for name in header:
+        name = name or "(no header)"
+        seen[name] = seen.get(name, 0) + 1
+        out.append(name if seen[name] == 1 else f"{name} ({seen[name]})")
     return out
 
 
-def _fix_groups(sights: pd.DataFrame) -> pd.Series:
-    """The log's fix groups; where a row has none, sights of one vessel within two hours of
-    each other form a group, named after the time of its first sight."""
-    if len(sights) == 0:
-        return pd.Series([], dtype=object)
-    given = (sights["fix_group"].astype(str).str.strip() if "fix_group" in sights.columns
-             else pd.Series("", index=sights.index)).to_numpy(dtype=object)
-    if (given != "").all():
-        return pd.Series(given, index=sights.index)
-    times = pd.to_datetime(sights["utc"], utc=True).to_numpy()
-    vessel = (sights["vessel"].astype(str) if "vessel" in sights.columns
-              else pd.Series("", index=sights.index)).to_numpy(dtype=object)
-    order = np.lexsort((times, vessel))
-    gap = np.diff(times[order]) > np.timedelta64(int(DEFAULT_GROUP_GAP_HOURS * 3600), "s")
-    new_vessel = vessel[order][1:] != vessel[order][:-1]
-    ids = np.empty(len(order), dtype=int)
-    ids[order] = np.concatenate([[0], np.cumsum(gap | new_vessel)])
-    first_time = {}
-    for i in order:
-        first_time.setdefault(ids[i], pd.Timestamp(times[i]).strftime("%Y-%m-%d %H%MZ"))
-    automatic = np.array([first_time[g] for g in ids], dtype=object)
-    return pd.Series(np.where(given != "", given, automatic), index=sights.index)
+__all__ = ["read_sight_log", "SightLog", "LogbookError", "REJECTED_COLUMNS", "SIGHT_COLUMNS",
+           "DEFAULT_GROUP_GAP_HOURS"]

@@ -58,7 +58,7 @@ class Track:
         return float(ve / ARCMIN_PER_DEG / max(math.cos(math.radians(self.lat_deg)), 0.01))
 
 
-def _as_datetime64(value) -> np.datetime64:
+def as_datetime64(value) -> np.datetime64:
     """One instant in any form navred accepts, as datetime64[ns] UTC (numpy datetime64 is UTC)."""
     if isinstance(value, np.datetime64):
         return value.astype("datetime64[ns]")
@@ -198,7 +198,7 @@ def noon_sight(date: object, lat_deg: float, lon_deg: float, course_deg: float =
 
 def body_meridian_passage(body: str, near_utc: object, track: Track) -> dict:
     """A body's upper meridian passage nearest ``near_utc`` at the DR, and its altitude then."""
-    start = np.asarray([_as_datetime64(near_utc) - np.timedelta64(12 * _NS_PER_HOUR, "ns")])
+    start = np.asarray([as_datetime64(near_utc) - np.timedelta64(12 * _NS_PER_HOUR, "ns")])
     utc = meridian_passage_utc(body, start, track)[0]
     lat, lon = track.position(np.array([utc]))
     p = places(body, np.array([utc]))
@@ -463,7 +463,7 @@ def identify(altitude_deg: float, azimuth_deg: float, utc: object, lat_deg: floa
     ``altitude_difference_deg``, ``azimuth_difference_deg`` and ``score``, best first.
     """
     names = np.array(known_bodies(), dtype=object)
-    p = places(names, np.full(names.size, _as_datetime64(utc)))
+    p = places(names, np.full(names.size, as_datetime64(utc)))
     hc, zn = computed_altitude_azimuth(lat_deg, lon_deg, p.gha_deg, p.dec_deg)
     d_alt = altitude_deg - hc
     d_az = wrap_180(azimuth_deg - zn)

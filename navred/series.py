@@ -108,34 +108,4 @@ def check_series(series: object, ho_deg: ArrayLike, hc_deg: ArrayLike, *, thresh
                        scatter, flagged, best, best_ho)
 
 
-def series_of_log(reduced: object, *, threshold_arcmin: float = THRESHOLD_ARCMIN, sigmas: float = SIGMAS) -> dict[str, np.ndarray]:
-    """The series check of a reduced sight table (the output of ``reduce_sights``), as columns.
-
-    Uses the ``series`` column where given, otherwise groups each observer's sights of one
-    body taken less than five minutes apart. Returns a dict of arrays in row order:
-    ``series``, ``series_size``, ``series_offset_arcmin``, ``series_deviation_arcmin``,
-    ``series_scatter_arcmin``, ``series_flag``, ``series_best`` and ``series_best_ho_deg``.
-    Rows with status ``error`` are not in any series.
-    """
-    columns = set(reduced.columns)
-    usable = reduced["status"].to_numpy() != "error"
-    times = reduced["sight_utc"]
-    times_ns = times.dt.tz_convert(None).to_numpy().astype("datetime64[ns]")
-    observer = reduced["observer"].astype(str).to_numpy(dtype=object) if "observer" in columns \
-        else np.full(len(reduced), "", dtype=object)
-    given = reduced["series"].astype(str).replace("nan", "").to_numpy(dtype=object) if "series" in columns else None
-    labels = series_ids(np.where(usable, times_ns, np.datetime64(0, "ns")), reduced["body_name"].to_numpy(dtype=object),
-                        observer, given)
-    labels = np.where(usable, labels, "")
-    check = check_series(np.where(usable, labels, "-"), np.where(usable, reduced["ho_deg"], np.nan),
-                         reduced["hc_deg"].to_numpy(dtype=float), threshold_arcmin=threshold_arcmin,
-                         sigmas=sigmas, times_ns=times_ns)
-    _, inverse, counts = np.unique(labels.astype(str), return_inverse=True, return_counts=True)
-    size = np.where(usable, counts[inverse], 0)
-    single = size < 2
-    return {"series": labels, "series_size": size,
-            "series_offset_arcmin": np.where(single, np.nan, check.offset_arcmin),
-            "series_deviation_arcmin": np.where(single, np.nan, check.deviation_arcmin),
-            "series_scatter_arcmin": np.where(single, np.nan, check.scatter_arcmin),
-            "series_flag": check.flagged & ~single, "series_best": check.best & ~single,
-            "series_best_ho_deg": np.where(single, np.nan, check.best_ho_deg)}
+__all__ = ["series_ids", "check_series", "SeriesCheck", "SERIES_GAP_MINUTES", "THRESHOLD_ARCMIN"]

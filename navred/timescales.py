@@ -192,6 +192,30 @@ def _components_from_datetime64(values: np.ndarray):
     return year, month, day, hour, minute, second, np.zeros(values.shape)
 
 
+#: The largest UTC offset in use is +14:00 (Kiribati) and the most negative −12:00; ISO 8601
+#: offsets beyond ±14:00, or with 60 or more minutes, are refused (common practice).
+MAX_OFFSET_MINUTES = 14 * 60
+
+
+def offset_minutes(zone: str) -> float:
+    """An ISO 8601 zone designator (``Z``, ``+03:00``, ``-0530``, ``+03``) in minutes east of UTC.
+
+    >>> offset_minutes("+05:30"), offset_minutes("Z")
+    (330.0, 0.0)
+    """
+    text = zone.strip()
+    if text.upper() in ("Z", "UTC"):
+        return 0.0
+    match = re.fullmatch(r"([+-])(\d{2}):?(\d{2})?", text)
+    if not match:
+        raise TimeInputError(f"cannot read the zone {zone!r}; accepted: Z or an offset such as +03:00 or -05:30")
+    hours, minutes = int(match.group(2)), int(match.group(3) or 0)
+    if minutes >= 60 or hours * 60 + minutes > MAX_OFFSET_MINUTES:
+        raise TimeInputError(f"UTC offset {zone!r} is not a real one: offsets lie within ±14:00 and their "
+                             "minutes below 60")
+    return float((hours * 60 + minutes) * (-1 if match.group(1) == "-" else 1))
+
+
 def _components_from_one(value, index) -> tuple:
     """(y, m, d, h, mi, s, offset_minutes) for one instant, or raise with the reason."""
     if isinstance(value, str):
@@ -203,13 +227,8 @@ def _components_from_one(value, index) -> tuple:
             raise TimeInputError(
                 f"{value!r} has no time zone; write Z for UTC or an offset such as +03:00 "
                 "(a wrong zone is a 15° per hour longitude error)")
-        offset = 0.0
-        if zone[0] in "+-":
-            digits = zone[1:].replace(":", "")
-            offset = (int(digits[:2]) * 60 + (int(digits[2:]) if len(digits) > 2 else 0))
-            offset *= -1 if zone[0] == "-" else 1
         second = float(s.replace(",", ".")) if s else 0.0
-        return int(y), int(mo), int(d), int(h), int(mi), second, float(offset)
+        return int(y), int(mo), int(d), int(h), int(mi), second, offset_minutes(zone)
     if isinstance(value, _dt.datetime):
         if value.tzinfo is None or value.utcoffset() is None:
             raise TimeInputError(
@@ -247,44 +266,35 @@ def _to_numpy_input(utc):
     return utc
 
 
-def utc_components(utc: object) -> tuple[np.ndarray, ...]:
-    """UTC calendar components (y, m, d, h, mi, s) arrays from any accepted instant form."""
+def instant_components(utc: object) -> tuple[np.ndarray, ...]:
+    """Calendar components as written (y, m, d, h, mi, s, offset minutes east of UTC) from any accepted form.
+
+    Nothing is validated or shifted here: :func:`utc_julian_date_from_components` does both.
+    """
     utc = _to_numpy_input(utc)
     if isinstance(utc, np.ndarray) and np.issubdtype(utc.dtype, np.datetime64):
         nat = np.isnat(utc)
         if nat.any():
             raise TimeInputError(f"NaT (not a time) in {failed_elements(nat)}; {_ACCEPTED}")
-        comps = _components_from_datetime64(utc)
-    else:
-        items = np.asarray(utc, dtype=object) if not isinstance(utc, (str, _dt.datetime)) else np.array(utc, dtype=object)
+        return tuple(np.asarray(c) for c in _components_from_datetime64(utc))
+    items = np.asarray(utc, dtype=object) if not isinstance(utc, (str, _dt.datetime)) else np.array(utc, dtype=object)
+    if items.ndim == 0:
+        items = np.empty((), dtype=object)
+        items[()] = utc
+    out = np.zeros((7,) + items.shape)
+    bad = np.zeros(items.shape, dtype=bool)
+    first = ""
+    for index, value in np.ndenumerate(items):
+        try:
+            out[(slice(None),) + index] = _components_from_one(value, index)
+        except TimeInputError as exc:
+            bad[index] = True
+            first = first or str(exc)
+    if bad.any():
         if items.ndim == 0:
-            items = np.empty((), dtype=object)
-            items[()] = utc
-        out = np.zeros((7,) + items.shape)
-        bad = np.zeros(items.shape, dtype=bool)
-        first = ""
-        for index, value in np.ndenumerate(items):
-            try:
-                out[(slice(None),) + index] = _components_from_one(value, index)
-            except TimeInputError as exc:
-                bad[index] = True
-                first = first or str(exc)
-        if bad.any():
-            if items.ndim == 0:
-                raise TimeInputError(first)
-            raise TimeInputError(f"instants that could not be read: {failed_elements(bad)}; first: {first}")
-        comps = tuple(out)
-    year, month, day, hour, minute, second, offset = (np.asarray(c) for c in comps)
-    if np.any(offset != 0.0):
-        # shift by whole minutes of the zone offset, keeping the seconds (so a leap second survives)
-        total = hour * 60 + minute - offset
-        day_shift = np.floor(total / 1440.0)
-        total = total - day_shift * 1440.0
-        hour, minute = total // 60, total % 60
-        dates = _date64(year, month, day) + day_shift.astype("timedelta64[D]")
-        year, month, day = _ymd(dates)
-    return (year.astype(int), month.astype(int), day.astype(int), hour.astype(int),
-            minute.astype(int), second.astype(float))
+            raise TimeInputError(first)
+        raise TimeInputError(f"instants that could not be read: {failed_elements(bad)}; first: {first}")
+    return tuple(out)
 
 
 def _date64(year, month, day):
@@ -301,53 +311,106 @@ def _ymd(dates):
             (dates - months).astype(int) + 1)
 
 
+CALENDAR_RULE = "month 1-12, day within the month, hour 0-23, minute 0-59, second 0-60.999"
+_SPAN_TEXT = f"outside {FIRST_YEAR}-{LAST_YEAR}, the span of the JPL DE421 ephemeris navred uses"
+_LEAP_TEXT = "second 60, but only 23:59:60 UTC on a day that ends with a leap second is a real instant"
+
+
+def utc_julian_date_from_components(year: ArrayLike, month: ArrayLike, day: ArrayLike, hour: ArrayLike,
+                                    minute: ArrayLike, second: ArrayLike, offset_minutes: ArrayLike = 0.0
+                                    ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Two-part UTC Julian dates, and the reason each element is refused ('' where it is not).
+
+    The components are a calendar date and time of day in a zone ``offset_minutes`` east
+    of UTC. The date and time are checked as written (so 30 February is refused whatever
+    the zone), then shifted to UTC by whole minutes, keeping the seconds so that a leap
+    second written in any zone survives; a second 60 must then be 23:59:60 UTC on a day
+    that ends with a leap second, and the instant must lie in 1900-2050 (the ephemeris).
+    Refused elements have NaN dates. Vectorised; never raises for a bad element.
+    """
+    leap_second_table()
+    year, month, day, hour, minute, second, offset = np.broadcast_arrays(
+        *(np.asarray(v, dtype=float) for v in (year, month, day, hour, minute, second, offset_minutes)))
+    reasons = np.full(year.shape, "", dtype=object)
+    with np.errstate(invalid="ignore"):
+        finite = np.isfinite(year) & np.isfinite(month) & np.isfinite(day) & np.isfinite(hour) \
+            & np.isfinite(minute) & np.isfinite(second) & np.isfinite(offset)
+        whole = finite & (year == np.round(year)) & (month == np.round(month)) & (day == np.round(day)) \
+            & (hour == np.round(hour)) & (minute == np.round(minute))
+        bad = ~whole | (month < 1) | (month > 12) | (day < 1) | (day > 31) | (hour < 0) | (hour > 23) \
+            | (minute < 0) | (minute > 59) | (second < 0) | (second >= 61) | (year < 1) | (year > 9999)
+    safe = [np.where(bad, fill, v).astype(int) for v, fill in ((year, 2000), (month, 1), (day, 1))]
+    real = _ymd(_date64(*safe))
+    bad |= (real[1] != safe[1]) | (real[2] != safe[2])
+    reasons[bad] = f"not a valid calendar instant ({CALENDAR_RULE})"
+    ok = ~bad
+    y, mo, d = (np.where(ok, v, fill) for v, fill in zip(safe, (2000, 1, 1)))
+    h, mi = np.where(ok, hour, 0).astype(int), np.where(ok, minute, 0).astype(int)
+    s, off = np.where(ok, second, 0.0), np.where(ok, offset, 0.0)
+    if np.any(off != 0.0):
+        # shift by whole minutes of the zone offset, keeping the seconds (so a leap second survives)
+        total = h * 60 + mi - off
+        day_shift = np.floor(total / 1440.0)
+        total = total - day_shift * 1440.0
+        h, mi = (total // 60).astype(int), (total % 60).astype(int)
+        y, mo, d = _ymd(_date64(y, mo, d) + day_shift.astype(int).astype("timedelta64[D]"))
+    out_of_span = ok & ((y < FIRST_YEAR) | (y > LAST_YEAR))
+    reasons[out_of_span] = [f"year {v} is {_SPAN_TEXT}" for v in y[out_of_span]]
+    ok &= ~out_of_span
+    leap = ok & (s >= 60.0)
+    if leap.any():
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", erfa.ErfaWarning)
+            today = erfa.dat(y, mo, d, 0.0)
+            tomorrow = erfa.dat(*_ymd(_date64(y, mo, d) + np.timedelta64(1, "D")), 0.0)
+        not_leap = leap & ~((h == 23) & (mi == 59) & (tomorrow - today == 1.0))
+        reasons[not_leap] = _LEAP_TEXT
+        ok &= ~not_leap
+    y, mo, d = (np.where(ok, v, fill) for v, fill in zip((y, mo, d), (2000, 1, 1)))
+    h, mi, s = np.where(ok, h, 0), np.where(ok, mi, 0), np.where(ok, s, 0.0)
+    pre_utc = _date64(y, mo, d) < np.datetime64("1960-01-01")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", erfa.ErfaWarning)
+        jd1, jd2 = erfa.dtf2d("UTC", y, mo, d, h, mi, s)
+        if pre_utc.any():
+            # before UTC existed ERFA's dtf2d has no leap-second table: use plain calendar JDs
+            p1, p2 = erfa.dtf2d("", y, mo, d, h, mi, s)
+            jd1, jd2 = np.where(pre_utc, p1, jd1), np.where(pre_utc, p2, jd2)
+    jd1 = np.where(ok, jd1, np.nan)
+    jd2 = np.where(ok, jd2, np.nan)
+    return np.asarray(jd1, dtype=float), np.asarray(jd2, dtype=float), reasons
+
+
 def utc_julian_date(utc: object) -> tuple[np.ndarray, np.ndarray]:
     """Two-part UTC (quasi-)Julian date from any accepted instant form.
 
-    Refuses instants with no zone, impossible calendar values, a second 60
-    that is not a leap second, and instants outside 1900-2050 (the ephemeris).
+    Refuses instants with no zone, impossible calendar values (checked as written, before
+    the zone is applied), a second 60 that is not a leap second, offsets beyond ±14:00, and
+    instants outside 1900-2050 (the ephemeris).
 
     >>> jd1, jd2 = utc_julian_date("2000-01-01T12:00:00Z")
     >>> float(jd1 + jd2)
     2451545.0
     """
-    leap_second_table()
-    year, month, day, hour, minute, second = utc_components(utc)
-    bad_calendar = ((month < 1) | (month > 12) | (day < 1) | (day > 31) | (hour > 23)
-                    | (minute > 59) | (second < 0) | (second >= 61))
-    if not bad_calendar.any():
-        real_days = _ymd(_date64(year, month, day))
-        bad_calendar |= (real_days[1] != month) | (real_days[2] != day)
-    if bad_calendar.any():
-        raise TimeInputError(
-            f"not a valid calendar instant: {failed_elements(bad_calendar)}; accepted: month 1-12, "
-            "day within the month, hour 0-23, minute 0-59, second 0-60.999")
-    out_of_span = (year < FIRST_YEAR) | (year > LAST_YEAR)
-    if out_of_span.any():
-        raise TimeInputError(
-            f"outside {FIRST_YEAR}-{LAST_YEAR}, the span of the JPL DE421 ephemeris navred uses: "
-            f"{failed_elements(out_of_span)} (first offending year {int(year[out_of_span].ravel()[0])})")
-    leap = second >= 60.0
-    if leap.any():
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore", erfa.ErfaWarning)
-            today = erfa.dat(year, month, day, 0.0)
-            nxt = _ymd(_date64(year, month, day) + np.timedelta64(1, "D"))
-            tomorrow = erfa.dat(*nxt, 0.0)
-        not_leap = leap & ~((hour == 23) & (minute == 59) & (tomorrow - today == 1.0))
-        if not_leap.any():
-            raise TimeInputError(
-                f"second 60 in {failed_elements(not_leap)}, but only 23:59:60 UTC on a day "
-                "that ends with a leap second is a real instant")
-    pre_utc = _date64(year, month, day) < np.datetime64("1960-01-01")
+    jd1, jd2, reasons = utc_julian_date_from_components(*instant_components(utc))
+    bad = reasons != ""
+    if bad.any():
+        first = reasons[bad].ravel()[0]
+        if first.startswith("not a valid"):
+            raise TimeInputError(f"not a valid calendar instant: {failed_elements(bad)}; accepted: {CALENDAR_RULE}")
+        if _SPAN_TEXT in first:
+            years = [r.split()[1] for r in reasons[bad].ravel() if _SPAN_TEXT in r]
+            raise TimeInputError(f"{_SPAN_TEXT}: {failed_elements(bad)} (first offending year {years[0]})")
+        raise TimeInputError(f"{_LEAP_TEXT}: {failed_elements(bad)}")
+    return jd1, jd2
+
+
+def utc_minus_seconds(utc1: ArrayLike, utc2: ArrayLike, seconds: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
+    """UTC Julian dates moved back by ``seconds`` of elapsed time (through TAI, so a leap second counts)."""
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", erfa.ErfaWarning)
-        jd1, jd2 = erfa.dtf2d("UTC", year, month, day, hour, minute, second)
-        if pre_utc.any():
-            # before UTC existed ERFA's dtf2d has no leap-second table: use plain calendar JDs
-            p1, p2 = erfa.dtf2d("", year, month, day, hour, minute, second)
-            jd1, jd2 = np.where(pre_utc, p1, jd1), np.where(pre_utc, p2, jd2)
-    return np.asarray(jd1, dtype=float), np.asarray(jd2, dtype=float)
+        tai1, tai2 = erfa.utctai(utc1, utc2)
+        return erfa.taiutc(tai1, np.asarray(tai2) - np.asarray(seconds, dtype=float) / SECONDS_PER_DAY)
 
 
 def delta_t_before_1960_s(year_fraction: ArrayLike) -> np.ndarray:
@@ -394,8 +457,21 @@ def instants(utc: object, dut1_s: ArrayLike | None = None) -> Instants:
     if isinstance(utc, Instants):
         if dut1_s is None:
             return utc
-        utc = utc.utc_datetime64()
-    utc1, utc2 = utc_julian_date(utc)
+        utc1, utc2 = utc.utc1, utc.utc2
+    else:
+        utc1, utc2 = utc_julian_date(utc)
+    if dut1_s is not None:
+        dut1_s = _check_dut1(dut1_s, np.shape(utc1)).astype(float)
+    return instants_from_utc_jd(utc1, utc2, dut1_s)
+
+
+def instants_from_utc_jd(utc1: ArrayLike, utc2: ArrayLike, dut1_s: ArrayLike | None = None) -> Instants:
+    """Every time scale for instants given as two-part UTC Julian dates (already checked).
+
+    ``dut1_s`` as in :func:`instants`, except that a NaN element takes DUT1 from the IERS
+    table (a log whose rows give DUT1 on some sights and not on others).
+    """
+    utc1, utc2 = np.broadcast_arrays(np.asarray(utc1, dtype=float), np.asarray(utc2, dtype=float))
     shape = utc1.shape
     pre_utc = (utc1 + utc2) < _UTC_START_JD
     table = iers_table()
@@ -404,14 +480,18 @@ def instants(utc: object, dut1_s: ArrayLike | None = None) -> Instants:
         warnings.simplefilter("ignore", erfa.ErfaWarning)
         y, m, d, _ = erfa.jd2cal(utc1, utc2)
         tai_utc = erfa.dat(y, m, d, 0.0)
+    given = np.zeros(shape, dtype=bool)
     if dut1_s is not None:
-        dut1 = _check_dut1(dut1_s, shape).astype(float)
+        given_dut1 = np.broadcast_to(np.asarray(dut1_s, dtype=float), shape)
+        given = np.isfinite(given_dut1)
+    if given.all():
+        dut1 = np.array(given_dut1, dtype=float)
         source = np.full(shape, UT1_GIVEN, dtype=object)
     else:
         ut1_tai = np.interp(mjd, table.mjd, table.ut1_minus_tai_s)
         dut1 = ut1_tai + tai_utc
-        beyond = mjd > table.last_predicted_mjd
-        before = mjd < table.mjd[0]
+        beyond = (mjd > table.last_predicted_mjd) & ~given
+        before = (mjd < table.mjd[0]) & ~given
         dut1 = np.where(beyond, table.dut1_s[-1], dut1)
         dut1 = np.where(before, 0.0, dut1)
         source = np.where(mjd <= table.last_measured_mjd, UT1_MEASURED, UT1_PREDICTED).astype(object)
@@ -430,6 +510,9 @@ def instants(utc: object, dut1_s: ArrayLike | None = None) -> Instants:
                 f"instants before the IERS table of 1973-01-02 ({failed_elements(before_utc_table)}): DUT1 is "
                 "taken as 0 s, good to about 0.1 s from 1960 to 1972 when UTC was steered to UT1 "
                 "(at most 0.025′ of GHA).", NavredWarning, stacklevel=2)
+        if given.any():
+            dut1 = np.where(given, given_dut1, dut1)
+            source = np.where(given, UT1_GIVEN, source)
     dut1 = np.where(pre_utc, 0.0, dut1)
     source = np.where(pre_utc, UT1_PRE_UTC, source)
     expires = leap_second_table().expires
@@ -439,7 +522,7 @@ def instants(utc: object, dut1_s: ArrayLike | None = None) -> Instants:
         warnings.warn(
             f"instants after {expires.isoformat()}, the expiry date of the installed leap-second "
             f"table ({failed_elements(late)}): a leap second may have been announced since. Update "
-            "astropy-iers-data; until then TT may be 1 s out (about 0.5′ of the Moon's place).",
+            "astropy-iers-data; until then TT may be 1 s out (about 0.5″ of the Moon's place, which moves about 33′ an hour).",
             NavredWarning, stacklevel=2)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", erfa.ErfaWarning)

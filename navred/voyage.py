@@ -1,8 +1,14 @@
-"""The whole job on a sight log: read, validate, reduce, fix each group, keep every row.
+"""The whole job on sight logs: read, reduce, fix each group, keep every row.
 
-Edge code gluing :mod:`navred.logbook`, :func:`navred.reduce_sights` and
-:func:`navred.fix.fix_position`; the result feeds the workbook, the plotting sheets and
-the GPX/GeoJSON exports.
+Edge code gluing :func:`navred.read_sight_log` (the one reader), :func:`navred.reduce_sights`
+and the fix; every command that fixes (``fix``, ``workbook``, ``series``, ``training``)
+goes through :func:`process_log`, so one log gives one answer whichever command reads it.
+The result feeds the workbook, the plotting sheets and the GPX/GeoJSON exports.
+
+One rule for fix groups: the log's ``fix_group`` label, or, where a row has none, one
+observer's sights of one vessel less than two hours apart (made by the reader). One rule for
+a group's chart or GNSS position: the one on its latest usable sight (by time) that gives
+both ``chart_lat`` and ``chart_lon``.
 """
 
 from __future__ import annotations
@@ -10,17 +16,17 @@ from __future__ import annotations
 import datetime as _dt
 from collections.abc import Callable
 from dataclasses import dataclass, field
-from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
 from . import __version__
-from .angles import parse_angle
+from .angles import format_angle
 from .ephemeris import EPHEMERIS_NAME
 from .errors import NavredError
-from .fix import FixResult, fix_position
-from .logbook import REJECTED_COLUMNS, read_sight_log
+from .fix import FixResult
+from .frames import fix_position, row_labels, series_columns
+from .logbook import REJECTED_COLUMNS, SightLog, read_sight_log
 from .sights import reduce_sights
 from .timescales import iers_table, leap_second_table
 
@@ -34,6 +40,8 @@ class GroupFix:
     fix: FixResult | None
     problem: str = ""
     chart: tuple[float, float] | None = None
+    #: where the chart position came from ('row 7'), and any note about it
+    chart_note: str = ""
 
 
 @dataclass
@@ -41,7 +49,7 @@ class VoyageResult:
     """Everything a run produced, for the workbook and the exports."""
 
     source: str
-    raw: pd.DataFrame
+    log: SightLog
     reduced: pd.DataFrame
     rejected: pd.DataFrame
     groups: list[GroupFix]
@@ -53,6 +61,11 @@ class VoyageResult:
     training: object | None = None
 
     @property
+    def raw(self) -> pd.DataFrame:
+        """The log exactly as read (for the 'Sights as read' sheet)."""
+        return self.log.as_read
+
+    @property
     def n_reduced(self) -> int:
         return int((self.reduced.status != "error").sum()) if len(self.reduced) else 0
 
@@ -62,50 +75,47 @@ class VoyageResult:
 
     @property
     def n_rejected_rows(self) -> int:
-        return int(self.rejected["row"].nunique()) if len(self.rejected) else 0
+        if not len(self.rejected):
+            return 0
+        return int(self.rejected[["source", "row"]].drop_duplicates().shape[0])
 
     def summary(self) -> str:
+        empty = f", {self.log.empty_rows} empty rows skipped" if self.log.empty_rows else ""
         return (f"{self.n_reduced} sights reduced, {self.n_fixes} fixes, "
-                f"{self.n_rejected_rows} rejected")
+                f"{self.n_rejected_rows} rejected{empty}")
+
+    def group(self, name: str) -> GroupFix:
+        for group in self.groups:
+            if group.name == name:
+                return group
+        raise NavredError(f"no fix group {name!r}; the log has: {', '.join(g.name for g in self.groups)}")
 
 
-def _raw_text(path) -> pd.DataFrame:
-    """The log exactly as read, every cell as text, for the 'as read' sheet."""
-    from pathlib import Path
+def process_log(source: object, *, dates: str | None = None, solve_motion: bool = False,
+                progress: Callable[[int, int], None] | None = None, plan: bool = True,
+                at_utc: object | None = None) -> VoyageResult:
+    """Read sight logs and do the whole job; every input row ends up reduced or rejected.
 
-    from .logbook import _read_raw
-
-    return _read_raw(Path(path)).astype(str)
-
-
-def process_log(path: str | Path, *, solve_motion: bool = False, progress: Callable[[int, int], None] | None = None) -> VoyageResult:
-    """Read a sight log and do the whole job; every input row ends up reduced or rejected.
-
-    ``progress`` (optional) is called with (done, total) as blocks of sights are reduced.
+    ``source`` is anything :func:`navred.read_sight_log` takes (a file, a list of files, a
+    folder, a DataFrame); ``dates`` declares the order of non-ISO dates. ``progress``
+    (optional) is called with (done, total) as blocks of sights are reduced. ``plan``: also
+    plan the next twilight. ``at_utc``: the time of every fix (default: each group's last sight).
     """
-    sights, rejected = read_sight_log(path)
-    raw = _raw_text(path)
-    reduced = _reduce_with_progress(sights, progress)
-    # sights that read well but cannot be reduced (e.g. apparent altitude below -1°) are rejected too
-    failed = reduced.status.to_numpy() == "error" if len(reduced) else np.zeros(0, dtype=bool)
-    if failed.any():
-        extra = pd.DataFrame({"row": reduced.loc[failed, "row"].to_numpy(), "column": "hs",
-                              "value": reduced.loc[failed, "hs"].astype(str).to_numpy(),
-                              "reason": reduced.loc[failed, "message"].to_numpy()})
-        rejected = pd.concat([rejected, extra], ignore_index=True).sort_values("row", kind="stable")
-        rejected = rejected.reset_index(drop=True)[REJECTED_COLUMNS]
+    log = source if isinstance(source, SightLog) else read_sight_log(source, dates=dates)
+    reduced = _reduce_with_progress(log, progress)
+    rejected = _rejected(log, reduced)
     if len(reduced):
-        from .series import series_of_log
-
-        for column, values in series_of_log(reduced).items():
+        for column, values in series_columns(reduced).items():
             reduced[column] = values
-    groups = _fix_groups(reduced, solve_motion)
+    groups = fix_groups(reduced, solve_motion=solve_motion, at_utc=at_utc)
+    usable = reduced.status.to_numpy() != "error" if len(reduced) else np.zeros(0, dtype=bool)
     table = iers_table()
-    dut1 = reduced.dut1_s[~failed] if len(reduced) else pd.Series(dtype=float)
+    dut1 = reduced.dut1_s[usable] if len(reduced) else pd.Series(dtype=float)
     provenance = {
         "navred version": __version__,
         "run at (UTC)": _dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%d %H:%M:%S"),
-        "sight log": str(path),
+        "sight log": ", ".join(log.sources),
+        "read": log.summary(),
         "ephemeris": f"{EPHEMERIS_NAME} (skyfield-data package)",
         "stars": "Hipparcos 2 (van Leeuwen 2007), 57 navigational stars and Polaris",
         "precession-nutation": "IAU 2006 precession with IAU 2000B nutation (ERFA)",
@@ -113,12 +123,101 @@ def process_log(path: str | Path, *, solve_motion: bool = False, progress: Calla
                       f"predicted to {table.last_predicted_date}",
         "leap seconds": f"Leap_Second.dat, expires {leap_second_table().expires.isoformat()}",
         "DUT1 used": (f"{dut1.min():+.3f} s to {dut1.max():+.3f} s; sources: "
-                      f"{', '.join(sorted(set(reduced.ut1_source[~failed])))}") if len(dut1) else "none",
+                      f"{', '.join(sorted(set(reduced.ut1_source[usable])))}") if len(dut1) else "none",
         "refraction": "Bennett (1982), scaled for temperature and pressure",
+        "row numbers": "the row number a spreadsheet shows (the header is row 1), with the file when "
+                       "several logs were read",
     }
-    result = VoyageResult(str(path), raw, reduced, rejected, groups, provenance)
-    result.next_events, result.next_plan = _next_twilight_plan(result)
+    if log.dates:
+        provenance["dates"] = f"numeric dates read {log.dates} (declared)"
+    result = VoyageResult(", ".join(log.sources), log, reduced, rejected, groups, provenance)
+    if plan:
+        result.next_events, result.next_plan = _next_twilight_plan(result)
     return result
+
+
+def _rejected(log: SightLog, reduced: pd.DataFrame) -> pd.DataFrame:
+    """The reader's rejections, and the sights that read well but could not be reduced (apparent
+    altitude below -1°, say), each under the column that caused it."""
+    read_bad = log.table["read_problem"].to_numpy() != "" if len(log.table) else np.zeros(0, dtype=bool)
+    failed = (reduced.status.to_numpy() == "error") & ~read_bad if len(reduced) else np.zeros(0, dtype=bool)
+    rejected = log.rejected
+    if failed.any():
+        part = reduced[failed]
+        value = np.where(part.error_column == "eye_height", part.eye_height_m.map("{:g} m".format),
+                         part.time_as_read.astype(str))
+        value = np.where(part.error_column == "hs", part.hs_deg.map(lambda v: format_angle(v, "signed")), value)
+        extra = pd.DataFrame({"source": part.source.to_numpy(), "row": part.row.to_numpy(),
+                              "column": part.error_column.to_numpy(), "value": value,
+                              "reason": part.message.to_numpy()})
+        rejected = pd.concat([rejected, extra], ignore_index=True)
+    order = {s: k for k, s in enumerate(log.sources)}
+    rejected = rejected.assign(_source=rejected.source.map(order)).sort_values(["_source", "row"], kind="stable")
+    return rejected.drop(columns="_source").reset_index(drop=True)[REJECTED_COLUMNS]
+
+
+def _reduce_with_progress(log: SightLog, progress) -> pd.DataFrame:
+    block = 5000
+    table = log.table
+    if progress is None or len(table) <= block:
+        return reduce_sights(table)
+    parts = []
+    for start in range(0, len(table), block):
+        parts.append(reduce_sights(table.iloc[start:start + block]))
+        progress(min(start + block, len(table)), len(table))
+    return pd.concat(parts, ignore_index=True)
+
+
+def chart_position(subset: pd.DataFrame) -> tuple[tuple[float, float] | None, str]:
+    """A group's chart or GNSS position: the one on its latest usable sight that gives both, and a note."""
+    usable = (subset["status"].to_numpy() != "error") & np.isfinite(subset["chart_lat_deg"].to_numpy(dtype=float)) \
+        & np.isfinite(subset["chart_lon_deg"].to_numpy(dtype=float))
+    if not usable.any():
+        return None, ""
+    times = subset["sight_utc"].dt.tz_convert(None).to_numpy().astype("datetime64[ns]").astype(np.int64)
+    candidates = np.flatnonzero(usable)
+    latest = candidates[np.argmax(times[candidates])]
+    lat, lon = float(subset["chart_lat_deg"].iloc[latest]), float(subset["chart_lon_deg"].iloc[latest])
+    label = row_labels(subset)[latest]
+    distinct = {(round(float(a), 6), round(float(b), 6)) for a, b in
+                zip(subset["chart_lat_deg"].to_numpy()[candidates], subset["chart_lon_deg"].to_numpy()[candidates])}
+    note = f"chart position from {label}"
+    if len(distinct) > 1:
+        note += f" (the latest of {len(candidates)} rows that give one, and they differ)"
+    return (lat, lon), note
+
+
+def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: object | None = None,
+               only: str | None = None, chart: tuple[float, float] | None = None) -> list[GroupFix]:
+    """Fix every group of a reduced table (or ``only`` one), with the one rule for chart positions.
+
+    ``chart`` overrides the chart position of the group (with ``only``).
+    """
+    groups: list[GroupFix] = []
+    if len(reduced) == 0:
+        return groups
+    names = reduced["fix_group"].astype(str).to_numpy()
+    usable_rows = reduced.status.to_numpy() != "error"
+    for name in dict.fromkeys(names[(names != "")]):
+        if only is not None and name != only:
+            continue
+        rows = np.flatnonzero(names == name)
+        subset = reduced.iloc[rows].reset_index(drop=True)
+        usable = int(usable_rows[rows].sum())
+        position, note = (chart, "chart position given with the command") if chart is not None \
+            else chart_position(subset)
+        if usable < 2:
+            groups.append(GroupFix(name, rows, None, f"{usable} usable sight(s): a fix needs two or more",
+                                   position, note))
+            continue
+        try:
+            fix = fix_position(subset, at_utc=at_utc, chart_lat=position[0] if position else None,
+                               chart_lon=position[1] if position else None, solve_motion=solve_motion)
+        except NavredError as exc:
+            groups.append(GroupFix(name, rows, None, str(exc), position, note))
+            continue
+        groups.append(GroupFix(name, rows, fix, "", position, note))
+    return groups
 
 
 def _next_twilight_plan(voyage: VoyageResult):
@@ -131,8 +230,8 @@ def _next_twilight_plan(voyage: VoyageResult):
         return None, None
     latest = max(fixes, key=lambda g: g.fix.utc)
     last_row = voyage.reduced.iloc[latest.rows[-1]]
-    course = float(pd.to_numeric(pd.Series([last_row.get("course_deg", 0.0)]), errors="coerce").fillna(0.0)[0])
-    speed = float(pd.to_numeric(pd.Series([last_row.get("speed_kn", 0.0)]), errors="coerce").fillna(0.0)[0])
+    course = float(np.nan_to_num(last_row.get("course_deg", 0.0)))
+    speed = float(np.nan_to_num(last_row.get("speed_kn", 0.0)))
     fix = latest.fix
     when = np.datetime64(fix.utc, "ns")
     date = str((when + np.timedelta64(int(fix.lon_deg / 15 * 3.6e12), "ns")).astype("datetime64[D]"))
@@ -149,48 +248,3 @@ def _next_twilight_plan(voyage: VoyageResult):
     at = min(candidates)
     lat, lon = track.position(np.array([at]))
     return events, sight_plans(np.array([at]), lat, lon)[0]
-
-
-def _reduce_with_progress(sights: pd.DataFrame, progress) -> pd.DataFrame:
-    block = 5000
-    if progress is None or len(sights) <= block:
-        return reduce_sights(sights)
-    parts = []
-    for start in range(0, len(sights), block):
-        parts.append(reduce_sights(sights.iloc[start:start + block]))
-        progress(min(start + block, len(sights)), len(sights))
-    return pd.concat(parts, ignore_index=True)
-
-
-def _fix_groups(reduced: pd.DataFrame, solve_motion: bool) -> list[GroupFix]:
-    groups: list[GroupFix] = []
-    if len(reduced) == 0:
-        return groups
-    names = reduced["fix_group"].astype(str).to_numpy()
-    for name in dict.fromkeys(names):
-        rows = np.flatnonzero(names == name)
-        subset = reduced.iloc[rows].reset_index(drop=True)
-        usable = int((subset.status != "error").sum())
-        chart = _chart_position(subset)
-        if usable < 2:
-            groups.append(GroupFix(name, rows, None, f"{usable} usable sight(s): a fix needs two or more", chart))
-            continue
-        try:
-            fix = fix_position(subset, chart_lat=chart[0] if chart else None,
-                               chart_lon=chart[1] if chart else None, solve_motion=solve_motion)
-        except NavredError as exc:
-            groups.append(GroupFix(name, rows, None, str(exc), chart))
-            continue
-        groups.append(GroupFix(name, rows, fix, "", chart))
-    return groups
-
-
-def _chart_position(subset: pd.DataFrame) -> tuple[float, float] | None:
-    if "chart_lat" not in subset.columns or "chart_lon" not in subset.columns:
-        return None
-    lat = subset["chart_lat"].astype(str).str.strip()
-    lon = subset["chart_lon"].astype(str).str.strip()
-    given = (lat != "") & (lon != "") & (lat != "nan")
-    if not given.any():
-        return None
-    return parse_angle(lat[given].iloc[-1], "lat"), parse_angle(lon[given].iloc[-1], "lon")

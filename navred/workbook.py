@@ -56,6 +56,21 @@ def _nav(value, kind):
     return format_angle(value, kind) if value == value and value is not None else ""
 
 
+def _several(voyage) -> bool:
+    return len(voyage.log.sources) > 1
+
+
+def _row_columns(voyage, frame: pd.DataFrame) -> dict[str, object]:
+    """The columns that name a row: its file (when several were read) and its row number in the log."""
+    from pathlib import Path
+
+    out: dict[str, object] = {}
+    if _several(voyage):
+        out["source file"] = [Path(s).name for s in frame["source"]]
+    out["row in log"] = frame["row"].to_numpy()
+    return out
+
+
 def working_table(voyage) -> pd.DataFrame:
     """One row per reduced sight with every line of the working, units in the headers."""
     reduced = voyage.reduced
@@ -70,13 +85,24 @@ def working_table(voyage) -> pd.DataFrame:
     residual, flagged = residual[ok], flagged[ok]
     notes = [("; ".join(x for x in (("BLUNDER? flagged by the fix" if f else ""), m) if x))
              for f, m in zip(flagged, r.message.astype(str))]
+    zone = r.zone_description_used_h.to_numpy(dtype=float)
     table = pd.DataFrame({
-        "row in log": r["row"].to_numpy(),
+        **_row_columns(voyage, r),
         "fix group": r["fix_group"].astype(str),
         "body": r.body_name,
+        "time as read": r.time_as_read,
+        "watch error (s, fast +)": r.watch_error_applied_s,
+        "zone date": r.zone_date_used,
+        "zone time": r.zone_time_corrected,
+        "ZD (h)": [f"{z:+.0f}" if np.isfinite(z) else "" for z in zone],
         "UTC": r.sight_utc.dt.strftime("%Y-%m-%d %H:%M:%S"),
+        "Greenwich date": r.greenwich_date,
         "Hs (° ′)": [_nav(v, "signed") for v in r.hs_deg],
         "Hs (deg)": r.hs_deg,
+        "index error (′, on +)": r.index_error_arcmin,
+        "height of eye (m)": r.eye_height_m,
+        "temperature (°C)": r.temperature_c,
+        "pressure (hPa)": r.pressure_hpa,
         "IC (′)": r.ic_arcmin,
         "dip (′)": r.dip_arcmin,
         "Ha (° ′)": [_nav(v, "signed") for v in r.ha_deg],
@@ -102,25 +128,32 @@ def working_table(voyage) -> pd.DataFrame:
         "UT1 source": r.ut1_source,
         "flags": notes,
     })
+    # a value given in other units (feet, °F, inHg, mmHg) is shown as given beside the value used
+    for column, label, after in (("eye_height_as_given", "height of eye as given", "height of eye (m)"),
+                                 ("temperature_as_given", "temperature as given", "temperature (°C)"),
+                                 ("pressure_as_given", "pressure as given", "pressure (hPa)")):
+        if (r[column] != "").any():
+            table.insert(table.columns.get_loc(after), label, r[column].to_numpy())
+    if not (r.time_given == "zone time").any() and not (r.watch_error_applied_s != 0).any():
+        table = table.drop(columns=["watch error (s, fast +)", "zone date", "zone time", "ZD (h)"])
     # the log's own extra columns (a cadet's note, a sight number...) ride along at the end
-    from .logbook import KNOWN
-    from .sights import RESULT_COLUMNS
-
-    for column in r.columns:
-        if column not in KNOWN and column not in RESULT_COLUMNS and column != "row" and column not in table:
+    for column in voyage.log.extra_columns:
+        if column in r.columns and column not in table:
             table[column] = r[column].astype(str).to_numpy()
     return table
 
 
 def fixes_table(voyage) -> pd.DataFrame:
+    from .frames import row_labels
+
+    labels = row_labels(voyage.reduced) if len(voyage.reduced) else np.zeros(0, dtype=str)
     rows = []
     for group in voyage.groups:
         fix = group.fix
         if fix is None:
             rows.append({"fix group": group.name, "UTC": "", "note": f"no fix: {group.problem}"})
             continue
-        outliers = ", ".join(str(int(voyage.reduced["row"].iloc[group.rows[i]]))
-                             for i in np.flatnonzero(fix.outlier))
+        outliers = ", ".join(labels[group.rows[i]] for i in np.flatnonzero(fix.outlier))
         rows.append({
             "fix group": group.name,
             "UTC": str(fix.utc)[:19].replace("T", " "),
@@ -135,7 +168,7 @@ def fixes_table(voyage) -> pd.DataFrame:
             "95 % semi-major (nm)": fix.ellipse_semi_major_nm,
             "95 % semi-minor (nm)": fix.ellipse_semi_minor_nm,
             "major axis (deg true)": fix.ellipse_orientation_deg,
-            "flagged rows in log": outliers,
+            "flagged sights": outliers,
             "fix without flagged (° ′)": (f"{format_angle(fix.without_outliers.lat_deg, 'lat')} "
                                           f"{format_angle(fix.without_outliers.lon_deg, 'lon')}"
                                           if fix.without_outliers is not None else ""),
@@ -147,16 +180,37 @@ def fixes_table(voyage) -> pd.DataFrame:
                                           else "yes" if fix.chart_inside_ellipse else "NO"),
             "course made good (deg)": fix.course_made_good_deg,
             "speed made good (kn)": fix.speed_made_good_kn,
-            "note": "; ".join(fix.warnings),
+            "note": "; ".join(fix.warnings + ([group.chart_note] if group.chart_note else [])),
         })
     return pd.DataFrame(rows)
 
 
+def rejected_table(voyage) -> pd.DataFrame:
+    """Every problem of every row not reduced: the row, the column, the value and why."""
+    from pathlib import Path
+
+    rejected = voyage.rejected
+    out = pd.DataFrame({"row in log": rejected["row"].to_numpy(), "column": rejected["column"].to_numpy(),
+                        "value": rejected["value"].to_numpy(), "reason": rejected["reason"].to_numpy()})
+    if _several(voyage):
+        out.insert(0, "source file", [Path(s).name for s in rejected["source"]])
+    return out
+
+
 def _cell_value(value):
-    """A value openpyxl can store: NaN and infinity as empty cells, numpy scalars as Python ones."""
+    """A value openpyxl can store: NaN and infinity as empty cells, numpy scalars as Python ones,
+    instants with a zone as naive UTC, anything else that is not a plain value as its text."""
+    import datetime as dt
+
+    if isinstance(value, np.generic):
+        value = value.item()
     if isinstance(value, float) and not np.isfinite(value):
         return None
-    return value.item() if isinstance(value, np.generic) else value
+    if isinstance(value, dt.datetime) and value.tzinfo is not None:
+        return value.astimezone(dt.timezone.utc).replace(tzinfo=None)
+    if value is None or isinstance(value, (str, int, float, bool, dt.datetime, dt.date, dt.time)):
+        return value
+    return str(value)
 
 
 def _add_figure(sheet, figure, anchor: str, width: int, height: int) -> None:
@@ -241,6 +295,8 @@ def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool = True
         ("Fixes", "one row per fix group: position, 95 % ellipse, sight error, flagged sights, chart check; "
                   "the plotting sheets below the table"),
         ("Rejected", "every row that could not be reduced, with the column, the value and why"),
+        ("Row numbers", "a row is named everywhere by the row number a spreadsheet shows for it in the log "
+                        "(the header is row 1), with its file when several logs were read"),
         ("Training", "present when the log was marked against the ship's reference track: each observer's "
                      "personal error with its 95 % interval, scatter, blunders and trend, by kind of body, every "
                      "fix and sight against the reference, and a picture per observer"),
@@ -265,8 +321,7 @@ def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool = True
     fixes_sheet = book.create_sheet("Fixes")
     fixes = fixes_table(voyage)
     _write_sheet(fixes_sheet, fixes, wide={"note": 80, "σ from": 30})
-    rejected = voyage.rejected.rename(columns={"row": "row in log"})
-    _write_sheet(book.create_sheet("Rejected"), rejected, wide={"reason": 90})
+    _write_sheet(book.create_sheet("Rejected"), rejected_table(voyage), wide={"reason": 90})
     if voyage.next_plan is not None:
         _write_plan_sheet(book.create_sheet("Sight plan"), voyage.next_plan, plots)
     if voyage.training is not None:
@@ -333,6 +388,9 @@ def series_table(voyage) -> pd.DataFrame:
     reduced = voyage.reduced
     if "series_size" not in reduced.columns:
         return pd.DataFrame()
+    from .frames import row_labels
+
+    labels = pd.Series(row_labels(reduced), index=reduced.index)
     rows = []
     multi = reduced[reduced.series_size >= 2]
     for name, part in multi.groupby("series", sort=False):
@@ -342,8 +400,8 @@ def series_table(voyage) -> pd.DataFrame:
             "observer": part["observer"].iloc[0] if "observer" in part.columns else "",
             "sights": len(part), "offset from the curve (′)": part.series_offset_arcmin.iloc[0],
             "scatter (′)": float(np.nanmedian(part.series_scatter_arcmin)),
-            "flagged rows in log": ", ".join(str(r) for r in part.loc[part.series_flag, "row"]),
-            "best sight: row in log": int(best["row"].iloc[0]) if len(best) else None,
+            "flagged sights": ", ".join(labels[part.index[part.series_flag]]),
+            "best sight": labels[best.index[0]] if len(best) else "",
             "best sight: UTC": best.sight_utc.iloc[0].strftime("%Y-%m-%d %H:%M:%S") if len(best) else "",
             "best sight: Ho (° ′)": format_angle(best.series_best_ho_deg.iloc[0], "signed") if len(best) else "",
             "best sight: Ho (deg)": best.series_best_ho_deg.iloc[0] if len(best) else None,

@@ -11,7 +11,6 @@ import pytest
 
 from navred.almanac import (
     bias_precession_nutation,
-    body_positions,
     gha_aries_deg,
     lha_deg,
     nutation_rad,
@@ -19,6 +18,7 @@ from navred.almanac import (
 )
 from navred.constants import EARTH_EQUATORIAL_RADIUS_KM, MOON_RADIUS_KM, SUN_RADIUS_KM
 from navred.errors import BodyNameError, NavredError, TimeInputError
+from navred.frames import body_positions
 from navred.stars import star_table
 from tests.conftest import ARCMIN, angle_diff_deg, sky_star, utc_of
 

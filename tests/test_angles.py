@@ -32,7 +32,14 @@ from navred.errors import AngleInputError
     ("-5.5317", "lon", -5.5317),
     (-5.5317, "lon", -5.5317),
     ("354.5", "lon", -5.5),
-    ("47:12:24", "lat", 47 + 12 / 60 + 24 / 3600),
+    ("47:12:24 N", "lat", 47 + 12 / 60 + 24 / 3600),
+    ("44° 10'.1 N", "lat", 44 + 10.1 / 60),  # the point after the minute mark, as often written
+    ("44 10′.1 N", "lat", 44 + 10.1 / 60),
+    ("44 10'.1", "angle", 44 + 10.1 / 60),
+    ("−5.5317", "lon", -5.5317),  # a typographic minus
+    ("4 W", "variation", -4.0),
+    ("3.5 E", "variation", 3.5),
+    ("3 30 E", "variation", 3.5),
     ("47d 12m 24s N", "lat", 47 + 12 / 60 + 24 / 3600),
     ("23 26.2 S", "dec", -(23 + 26.2 / 60)),
     ("123 45.6", "angle", 123.76),
@@ -45,7 +52,17 @@ def test_parse_accepts_the_forms_navigators_write(text, kind, expected):
 @pytest.mark.parametrize("text, kind, fragment", [
     ("47 72.4 N", "lat", "below 60"),
     ("95 00 N", "lat", "outside -90 to 90"),
-    ("47 12.4 E", "lat", "cannot read"),
+    ("47 12.4 E", "lat", "E is a hemisphere of a longitude"),
+    ("013 03.7 S", "lon", "S is a hemisphere of a latitude"),  # not a seconds mark
+    ("44 30", "lat", "could be N or S"),
+    ("013 03.8", "lon", "could be E or W"),
+    ("-013 03.8", "lon", "could be E or W"),
+    ("23 26.2", "dec", "could be N or S"),
+    ("44 30", "variation", "could be E or W"),
+    ("43 -14.1 N", "lat", "sign inside the minutes"),
+    ("29 -53.4", "angle", "sign inside the minutes"),
+    ("30,5", "angle", "comma here is ambiguous"),
+    ("N 47 12 S", "lat", "both ends"),
     ("-47 12 N", "lat", "sign or a hemisphere"),
     ("abc", "lon", "accepted"),
     ("181 W", "lon", "outside"),
@@ -54,6 +71,16 @@ def test_parse_accepts_the_forms_navigators_write(text, kind, expected):
 def test_parse_refuses_with_a_reason_and_the_accepted_forms(text, kind, fragment):
     with pytest.raises(AngleInputError, match=fragment):
         parse_angle(text, kind)
+
+
+@pytest.mark.parametrize("text, kind, expected", [
+    ("30,5", "angle", 30.5), ("43 14,1 N", "lat", 43 + 14.1 / 60), ("-5,25", "lon", -5.25),
+])
+def test_decimal_commas_are_read_where_the_file_allows_them(text, kind, expected):
+    # a ;- or tab-separated file leaves a decimal comma unambiguous (common practice in much of Europe)
+    assert parse_angle(text, kind, decimal_comma=True) == pytest.approx(expected, abs=1e-12)
+    with pytest.raises(AngleInputError, match="both a decimal comma and a point"):
+        parse_angle("1.013,2", "angle", decimal_comma=True)
 
 
 def test_parse_array_names_the_failing_elements():

@@ -11,12 +11,12 @@ from navred.errors import NavredError
 from navred.fix import (
     error_ellipse,
     f_2_quantile,
-    fix_position,
     latitude_by_meridian_altitude,
     latitude_by_polaris,
     move_position,
     solve_fixes,
 )
+from navred.frames import fix_position
 from navred.triangle import distance_bearing
 from tests.conftest import skyfield_sight
 

@@ -7,7 +7,8 @@ import pandas as pd
 
 from navred import reduce_sights
 from navred.fix import move_position
-from navred.series import check_series, series_ids, series_of_log
+from navred.frames import series_columns as series_of_log
+from navred.series import check_series, series_ids
 from navred.stars import star_table
 from tests.conftest import skyfield_sight
 

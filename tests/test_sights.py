@@ -62,15 +62,15 @@ def test_every_row_comes_back_in_order_with_status_and_message():
         "hs": ["12 30.0", "12 30.0", "20", "95"],
         "eye_height_m": [3.0, 3.0, 3.0, 3.0],
         "dr_lat": ["47 12.4 N"] * 4, "dr_lon": ["005 31.9 W"] * 4,
-        "cadet": ["A", "B", "C", "D"],
+        "remark": ["A", "B", "C", "D"],
     })
     reduced = reduce_sights(sights)
-    assert list(reduced.cadet) == ["A", "B", "C", "D"]  # unknown columns carried through, in order
+    assert list(reduced.remark) == ["A", "B", "C", "D"]  # unknown columns carried through, in order
     assert list(reduced.status[1:]) == ["error", "error", "error"]
     assert reduced.status[0] == "warning" and "below the horizon" in reduced.message[0]
     assert "no time zone" in reduced.message[1]
     assert "closest: Sirius" in reduced.message[2]
-    assert "outside 0-90" in reduced.message[3]
+    assert "outside 0 to 90" in reduced.message[3]
     assert set(RESULT_COLUMNS) <= set(reduced.columns)
     assert np.isfinite(reduced.ho_deg[0]) and np.isnan(reduced.ho_deg[1])
     assert reduced.intercept_direction[0] in ("TOWARD", "AWAY")
@@ -81,8 +81,8 @@ def test_missing_columns_and_values_are_explained():
                            "hs": [12.5, 30.0], "dr_lat": [47.2, 47.2]})
     reduced = reduce_sights(sights)
     assert (reduced.status == "error").all()
-    assert "'dr_lon' is missing" in reduced.message[0]
-    assert "eye_height_m is missing" in reduced.message[0]
+    assert "required column dr_lon is missing" in reduced.message[0]
+    assert "height of eye is needed" in reduced.message[0]
 
 
 def test_defaults_and_warnings():
@@ -99,7 +99,7 @@ def test_defaults_and_warnings():
 
 def test_high_sight_is_flagged():
     # the Sun at the zenith of the subsolar point: Hc near 90°
-    from navred.almanac import body_positions
+    from navred.frames import body_positions
 
     sun = body_positions("Sun", "2026-06-21T12:00:00Z").iloc[0]
     lon = -sun.gha_deg if sun.gha_deg < 180 else 360 - sun.gha_deg

@@ -40,7 +40,8 @@ def test_personal_errors_are_recovered_within_their_stated_uncertainty(training_
         scatter_truth = voyage_maker.OBSERVERS[row["observer"]][1]
         assert row["scatter (′)"] == pytest.approx(scatter_truth, rel=0.35)
     # each sight's error is what was planted (the synthesizer's own record), blunders included
-    merged = report.sights.merge(sights.reset_index().assign(row=lambda f: f["index"] + 1)[["row", "true_error_arcmin"]],
+    # the row a spreadsheet shows: the header is row 1, the first sight row 2
+    merged = report.sights.merge(sights.reset_index().assign(row=lambda f: f["index"] + 2)[["row", "true_error_arcmin"]],
                                  on="row")
     assert np.abs(merged.error_arcmin - merged.true_error_arcmin).max() < 0.05
     assert (report.sights.blunder == (np.abs(merged.true_error_arcmin) > 5)).all()

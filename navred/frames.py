@@ -1,0 +1,149 @@
+"""Thin pandas wrappers around the core: the almanac as a table, the fix and the series check of reduced sights.
+
+Edge code: the core functions take and return numpy arrays; these take the tables a user
+holds (the output of :func:`navred.reduce_sights`) and hand their columns to the core,
+so that the core never sees a DataFrame.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+from numpy.typing import ArrayLike
+
+from .almanac import places
+from .errors import NavredError
+from .fix import FixResult, fix_from_sights
+from .series import SIGMAS, THRESHOLD_ARCMIN, check_series, series_ids
+
+
+def body_positions(body: str | ArrayLike, utc: object, dut1_s: ArrayLike | None = None) -> pd.DataFrame:
+    """Almanac data of bodies at instants, as a pandas DataFrame (one row per pair).
+
+    ``body``: a name or a sequence of names (stars by their IAU names, Sun, Moon,
+    Venus, Mars, Jupiter, Saturn); ``utc``: an instant or a sequence (ISO 8601 with
+    a zone, timezone-aware datetime, pandas Timestamps, numpy datetime64 as UTC);
+    sequences of equal length pair element-wise and a scalar broadcasts.
+    ``dut1_s`` overrides the IERS UT1 − UTC (scalar or one per instant).
+
+    Columns: ``body``, ``utc``, ``gha_aries_deg``, ``ra_hours``, ``sha_deg``,
+    ``gha_deg``, ``dec_deg``, ``hp_arcmin`` (0 for stars), ``sd_arcmin`` (0 for stars
+    and planets), ``distance_km`` (NaN for stars), ``dut1_s`` and ``ut1_source``.
+    The array form is :func:`navred.almanac.places`.
+
+    >>> row = body_positions("Sun", "2026-06-21T12:00:00Z", dut1_s=0.0).iloc[0]
+    >>> round(float(row.dec_deg), 2)
+    23.44
+    """
+    result = places(body, utc, dut1_s)
+    flat = {name: np.ravel(value) for name, value in {
+        "body": result.body,
+        "utc": result.instants.utc_datetime64(),
+        "gha_aries_deg": result.gha_aries_deg,
+        "ra_hours": result.ra_hours,
+        "sha_deg": result.sha_deg,
+        "gha_deg": result.gha_deg,
+        "dec_deg": result.dec_deg,
+        "hp_arcmin": result.hp_arcmin,
+        "sd_arcmin": result.sd_arcmin,
+        "distance_km": result.distance_km,
+        "dut1_s": result.instants.dut1_s,
+        "ut1_source": result.instants.ut1_source,
+    }.items()}
+    frame = pd.DataFrame(flat)
+    frame["utc"] = pd.to_datetime(frame["utc"]).dt.tz_localize("UTC")
+    return frame
+
+
+def utc64(values: pd.Series) -> np.ndarray:
+    """A column of timezone-aware instants as naive UTC datetime64[ns] (NaT kept)."""
+    return values.dt.tz_convert(None).to_numpy().astype("datetime64[ns]")
+
+
+def row_labels(reduced: pd.DataFrame) -> np.ndarray:
+    """How a row is named in messages: its row number in the log, with its file when the table
+    holds several files ('log.csv row 7')."""
+    if "row" not in reduced.columns:
+        return np.arange(1, len(reduced) + 1).astype(str)
+    rows = reduced["row"].astype(int).astype(str).to_numpy(dtype=object)
+    if "source" in reduced.columns and reduced["source"].nunique() > 1:
+        from pathlib import Path
+
+        names = np.array([Path(s).name for s in reduced["source"]], dtype=object)
+        return (names + " row " + rows).astype(str)
+    return ("row " + rows).astype(str)
+
+
+def fix_position(reduced: pd.DataFrame, at_utc: object | None = None, *, chart_lat: float | None = None,
+                 chart_lon: float | None = None, solve_motion: bool = False, set_deg: float | None = None,
+                 drift_kn: float | None = None, course_deg: float | None = None,
+                 speed_kn: float | None = None) -> FixResult:
+    """The least-squares fix from reduced sights (the output of :func:`navred.reduce_sights`).
+
+    Rows with ``status == 'error'`` are left out (their residual is NaN). Sights at
+    different times make a running fix at ``at_utc`` (default: the last sight's time), using
+    the ``course_deg`` and ``speed_kn`` columns, or the arguments of that name for the whole
+    set, plus a current ``set_deg``/``drift_kn``. See :func:`navred.fix.fix_from_sights`.
+    """
+    needed = ("gha_deg", "dec_deg", "ho_deg", "sight_utc", "dr_lat_deg", "dr_lon_deg")
+    missing = [c for c in needed if c not in reduced.columns]
+    if missing:
+        raise NavredError(f"fix_position needs the columns of reduce_sights; missing: {', '.join(missing)}")
+    usable = (reduced["status"].to_numpy() != "error") if "status" in reduced.columns else None
+
+    def column(name, given):
+        if given is not None:
+            return float(given)
+        return reduced[name].to_numpy(dtype=float) if name in reduced.columns else None
+
+    return fix_from_sights(
+        reduced["gha_deg"].to_numpy(dtype=float), reduced["dec_deg"].to_numpy(dtype=float),
+        reduced["ho_deg"].to_numpy(dtype=float), utc64(reduced["sight_utc"]),
+        reduced["dr_lat_deg"].to_numpy(dtype=float), reduced["dr_lon_deg"].to_numpy(dtype=float),
+        usable=usable, course_deg=column("course_deg", course_deg), speed_kn=column("speed_kn", speed_kn),
+        at_utc=at_utc, chart_lat=chart_lat, chart_lon=chart_lon, solve_motion=solve_motion, set_deg=set_deg,
+        drift_kn=drift_kn, labels=row_labels(reduced))
+
+
+def series_columns(reduced: pd.DataFrame, *, threshold_arcmin: float = THRESHOLD_ARCMIN,
+                   sigmas: float = SIGMAS) -> dict[str, np.ndarray]:
+    """The series check of a reduced sight table, as columns in row order.
+
+    Uses the ``series`` column where given, otherwise groups each observer's sights of one
+    body taken less than five minutes apart. Returns ``series``, ``series_size``,
+    ``series_offset_arcmin``, ``series_deviation_arcmin``, ``series_scatter_arcmin``,
+    ``series_flag``, ``series_best`` and ``series_best_ho_deg``. Rows with status ``error``
+    are in no series.
+    """
+    usable = reduced["status"].to_numpy() != "error"
+    times_ns = utc64(reduced["sight_utc"])
+    n = len(reduced)
+    observer = reduced["observer"].astype(str).to_numpy(dtype=object) if "observer" in reduced.columns \
+        else np.full(n, "", dtype=object)
+    source = reduced["source"].astype(str).to_numpy(dtype=object) if "source" in reduced.columns \
+        else np.full(n, "", dtype=object)
+    given = reduced["series"].astype(str).to_numpy(dtype=object) if "series" in reduced.columns else None
+    # series never span files: the same observer's name in two files is kept apart by the file
+    labels = series_ids(np.where(usable, times_ns, np.datetime64(0, "ns")),
+                        reduced["body_name"].to_numpy(dtype=object), source + "\x00" + observer, given)
+    if given is not None and len(set(source)) > 1:
+        from pathlib import Path
+
+        names = np.array([Path(s).name for s in source], dtype=object)
+        labels = np.where(np.char.str_len(given.astype(str)) > 0, names + ": " + labels.astype(str), labels)
+    labels = np.where(usable, labels, "").astype(object)
+    check = check_series(np.where(usable, labels, "-"), np.where(usable, reduced["ho_deg"], np.nan),
+                         reduced["hc_deg"].to_numpy(dtype=float), threshold_arcmin=threshold_arcmin,
+                         sigmas=sigmas, times_ns=times_ns)
+    _, inverse, counts = np.unique(labels.astype(str), return_inverse=True, return_counts=True)
+    size = np.where(usable, counts[inverse], 0)
+    single = size < 2
+    return {"series": labels, "series_size": size,
+            "series_offset_arcmin": np.where(single, np.nan, check.offset_arcmin),
+            "series_deviation_arcmin": np.where(single, np.nan, check.deviation_arcmin),
+            "series_scatter_arcmin": np.where(single, np.nan, check.scatter_arcmin),
+            "series_flag": check.flagged & ~single, "series_best": check.best & ~single,
+            "series_best_ho_deg": np.where(single, np.nan, check.best_ho_deg)}
+
+
+__all__ = ["body_positions", "fix_position", "series_columns", "row_labels", "utc64"]

@@ -1,0 +1,271 @@
+"""The navigator's time working as written: dates, times of day, zone descriptions, watch errors.
+
+Each parser takes one value as a log holds it (text, or a spreadsheet's typed cell) and
+returns numbers, or raises a :class:`~navred.errors.TimeInputError` that says what was
+wrong and what is accepted. Forms with two plausible readings are refused with both named,
+never guessed: a day-first or month-first date (unless the order is declared), a zone
+description without its sign, or one written like an ISO 8601 offset (which means the
+opposite), a zone letter that disagrees with the sign.
+
+Conventions (common practice): ZT + ZD = UTC, so a ship east of Greenwich keeps a negative
+zone description; a watch that is fast reads ahead of the time it keeps, so its error is
+subtracted.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import re
+
+from .errors import TimeInputError
+from .vocabulary import ZONE_LETTERS
+
+#: The declared orders of a numeric date that is not ISO 8601.
+DATE_ORDERS = ("day-first", "month-first")
+MAX_WATCH_ERROR_S = 3600.0
+
+_ISO_DATE = re.compile(r"^\s*(\d{4})-(\d{1,2})-(\d{1,2})\s*$")
+_YEAR_FIRST = re.compile(r"^\s*(\d{4})[/.](\d{1,2})[/.](\d{1,2})\s*$")
+_NUMERIC_DATE = re.compile(r"^\s*(\d{1,2})[/.\-](\d{1,2})[/.\-](\d{2}|\d{4})\s*$")
+_MONTHS = {m: i + 1 for i, m in enumerate(("jan", "feb", "mar", "apr", "may", "jun", "jul", "aug", "sep", "oct",
+                                           "nov", "dec"))}
+_NAMED_DAY_FIRST = re.compile(r"^\s*(\d{1,2})[\s\-]*([A-Za-z]{3,9})\.?[\s\-,]*(\d{4})\s*$")
+_NAMED_MONTH_FIRST = re.compile(r"^\s*([A-Za-z]{3,9})\.?\s+(\d{1,2})(?:st|nd|rd|th)?,?\s+(\d{4})\s*$")
+_TIME = re.compile(r"^\s*(\d{1,2})(?:[:h ]\s*(\d{2})(?:[:m ]\s*(\d{2}(?:[.,]\d+)?)\s*s?)?\s*m?)\s*$", re.IGNORECASE)
+_COMPACT_TIME = re.compile(r"^\s*(\d{2})(\d{2})(\d{2}(?:[.,]\d+)?)?\s*$")
+_ZONE_IN_TIME = re.compile(r"(?:[zZ]|UTC|GMT|[+-]\d{2}(?::?\d{2})?)\s*$")
+_AM_PM = re.compile(r"\b(?:a\.?m\.?|p\.?m\.?)\s*$", re.IGNORECASE)
+
+ACCEPTED_DATES = "ISO 8601 such as 2026-03-26, 26 Mar 2026, or a date cell"
+ACCEPTED_TIMES = "hh:mm:ss on the 24-hour clock (19:41:30, 19:41, 194130), or a time cell"
+ACCEPTED_ZONES = "a whole signed hour from -12 to +12, ZT + ZD = UTC: +3, -10, 0, with its letter if you like (+1 N, -1 A, Z)"
+ACCEPTED_WATCH_ERRORS = ("'12 fast', '3 s slow', '1 m 05 s fast', '01:05 slow', or seconds with a sign "
+                         "(+12 fast, -3 slow)")
+
+
+def _valid_date(year: int, month: int, day: int) -> bool:
+    try:
+        _dt.date(year, month, day)
+    except ValueError:
+        return False
+    return True
+
+
+def _reading(year: int, month: int, day: int) -> str:
+    if not _valid_date(year, month, day):
+        return "not a date"
+    return f"{year:04d}-{month:02d}-{day:02d} ({day} {_dt.date(year, month, day).strftime('%B')})"
+
+
+def parse_date(value: object, order: str | None = None, *, declarable: bool = True) -> tuple[int, int, int]:
+    """(year, month, day) of a date as written; a numeric day/month form needs ``order`` declared.
+
+    ``declarable``: whether the refusal of a numeric date may suggest declaring the order
+    (a log can; a single date on the command line is simply written in ISO 8601).
+
+    >>> parse_date("2026-03-05"), parse_date("05/03/2026", "day-first"), parse_date("26 Mar 2026")
+    ((2026, 3, 5), (2026, 3, 5), (2026, 3, 26))
+    """
+    if isinstance(value, _dt.datetime):
+        if value.time() != _dt.time(0, 0):
+            raise TimeInputError(f"date {value} has a time of day; give the time in its own column")
+        return value.year, value.month, value.day
+    if isinstance(value, _dt.date):
+        return value.year, value.month, value.day
+    if not isinstance(value, str):
+        raise TimeInputError(f"cannot read {value!r} as a date; accepted: {ACCEPTED_DATES}")
+    text = value.strip()
+    if order is not None and order not in DATE_ORDERS:
+        raise TimeInputError(f"date order {order!r} is not one of {', '.join(DATE_ORDERS)}")
+    for pattern in (_ISO_DATE, _YEAR_FIRST):
+        match = pattern.match(text)
+        if match:
+            year, month, day = (int(g) for g in match.groups())
+            break
+    else:
+        match = _NUMERIC_DATE.match(text)
+        if match:
+            a, b, year_text = match.groups()
+            if len(year_text) == 2:
+                raise TimeInputError(f"date {value!r} has a two-digit year: write the year in full "
+                                     f"({ACCEPTED_DATES})")
+            a, b, year = int(a), int(b), int(year_text)
+            if order is None:
+                raise TimeInputError(
+                    f"date {value!r} is not ISO 8601 and has two readings: day-first it is "
+                    f"{_reading(year, b, a)}, month-first {_reading(year, a, b)}; write it as "
+                    "ISO 8601 (YYYY-MM-DD)" + (", or declare the order of the whole log (--dates day-first "
+                                               "or --dates month-first)" if declarable else ""))
+            day, month = (a, b) if order == "day-first" else (b, a)
+        else:
+            named = _NAMED_DAY_FIRST.match(text) or _NAMED_MONTH_FIRST.match(text)
+            if not named:
+                raise TimeInputError(f"cannot read {value!r} as a date; accepted: {ACCEPTED_DATES}")
+            parts = named.groups()
+            day_text, month_text, year_text = (parts if named.re is _NAMED_DAY_FIRST
+                                               else (parts[1], parts[0], parts[2]))
+            month = _MONTHS.get(month_text[:3].lower())
+            if month is None:
+                raise TimeInputError(f"cannot read the month in {value!r}; accepted: {ACCEPTED_DATES}")
+            day, year = int(day_text), int(year_text)
+    if not _valid_date(year, month, day):
+        raise TimeInputError(f"{value!r} is not a date (no day {day} in month {month} of {year})")
+    return year, month, day
+
+
+def parse_time_of_day(value: object) -> tuple[int, int, float]:
+    """(hour, minute, second) of a time of day as written (24-hour clock; second 60 for a leap second).
+
+    >>> parse_time_of_day("19:41:30"), parse_time_of_day("1941")
+    ((19, 41, 30.0), (19, 41, 0.0))
+    """
+    if isinstance(value, _dt.datetime):
+        value = value.time()
+    if isinstance(value, _dt.time):
+        if value.tzinfo is not None:
+            raise TimeInputError(f"time {value} carries a zone of its own; the zone is zone_description's")
+        return value.hour, value.minute, value.second + value.microsecond * 1e-6
+    if not isinstance(value, str):
+        raise TimeInputError(f"cannot read {value!r} as a time of day; accepted: {ACCEPTED_TIMES}")
+    text = value.strip()
+    if _AM_PM.search(text):
+        raise TimeInputError(f"time {value!r}: write it on the 24-hour clock (19:41:30), not with am/pm")
+    match = _TIME.match(text) or _COMPACT_TIME.match(text)
+    if not match:
+        if _ZONE_IN_TIME.search(text) and _TIME.match(_ZONE_IN_TIME.sub("", text).strip()):
+            raise TimeInputError(
+                f"time {value!r} carries a zone of its own, but a zone time takes its zone from "
+                "zone_description: drop the zone, or give the instant in the utc column")
+        raise TimeInputError(f"cannot read {value!r} as a time of day; accepted: {ACCEPTED_TIMES}")
+    hour, minute = int(match.group(1)), int(match.group(2) or 0)
+    second = float((match.group(3) or "0").replace(",", "."))
+    if hour > 23 or minute > 59 or second >= 61.0:
+        raise TimeInputError(f"{value!r} is not a time of day (hour 0-23, minute 0-59, second below 60, "
+                             "or 60 in a leap second)")
+    return hour, minute, second
+
+
+_ZONE = re.compile(r"^([+-]?)\s*(\d{1,2})(?:[.,]0+)?\s*(?:\(?\s*([A-Za-z])\s*\)?)?$")
+_LETTER_ONLY = re.compile(r"^\(?\s*([A-Za-z])\s*\)?$")
+_ISO_LIKE = re.compile(r"^(?:UTC|GMT)?\s*[+-]\s*\d{1,2}\s*[:h]\s*\d{2}$|^[+-]\d{4}$|^(?:UTC|GMT)\s*[+-]?\s*\d+$",
+                       re.IGNORECASE)
+
+
+def parse_zone_description(value: object) -> int:
+    """A zone description in whole hours (ZT + ZD = UTC) as written: ``+3``, ``-10``, ``+1 N``, ``Z``.
+
+    >>> parse_zone_description("+1 N"), parse_zone_description("-1"), parse_zone_description("Z")
+    (1, -1, 0)
+    """
+    if isinstance(value, bool):
+        raise TimeInputError(f"cannot read {value!r} as a zone description; accepted: {ACCEPTED_ZONES}")
+    if isinstance(value, (int, float)):
+        if value != value or value != round(value):
+            raise TimeInputError(f"zone description {value!r} is not a whole hour; accepted: {ACCEPTED_ZONES}")
+        if value > 0:
+            raise TimeInputError(
+                f"zone description {value:g} is a number cell, which has lost its sign (a spreadsheet drops "
+                f"a leading +): +{value:g} (west of Greenwich) or -{value:g} (east)? write it as text "
+                f"('+{value:g}'), or with its zone letter")
+        text = f"{int(value):+d}" if value else "0"
+    elif isinstance(value, str):
+        text = value.strip().replace("−", "-")
+    else:
+        raise TimeInputError(f"cannot read {value!r} as a zone description; accepted: {ACCEPTED_ZONES}")
+    if _ISO_LIKE.match(text):
+        raise TimeInputError(
+            f"zone description {value!r} is written like a UTC offset, which means the opposite: an "
+            "offset of +01:00 is zone description -1 (A). Write the zone description as a signed whole "
+            "hour, ZT + ZD = UTC (-1 for a ship keeping UTC+1)")
+    letter_only = _LETTER_ONLY.match(text)
+    if letter_only:
+        letter = letter_only.group(1).upper()
+        if letter not in ZONE_LETTERS:
+            raise TimeInputError(f"zone letter {letter!r} is not a zone (J is not used); accepted: {ACCEPTED_ZONES}")
+        return ZONE_LETTERS[letter]
+    match = _ZONE.match(text)
+    if not match:
+        raise TimeInputError(f"cannot read {value!r} as a zone description; accepted: {ACCEPTED_ZONES}")
+    sign, number, letter = match.groups()
+    hours = int(number)
+    if hours > 12:
+        raise TimeInputError(f"zone description {value!r} is outside -12 to +12 hours; accepted: {ACCEPTED_ZONES}")
+    if hours and not sign:
+        if not letter:
+            raise TimeInputError(
+                f"zone description {value!r} has no sign: +{hours} (ZT + {hours} h = UTC, west of Greenwich) "
+                f"or -{hours} (east)? write the sign")
+        sign = "+" if ZONE_LETTERS.get(letter.upper(), 0) > 0 else "-"
+    zd = -hours if sign == "-" else hours
+    if letter:
+        letter = letter.upper()
+        if letter not in ZONE_LETTERS:
+            raise TimeInputError(f"zone letter {letter!r} is not a zone (J is not used); accepted: {ACCEPTED_ZONES}")
+        if ZONE_LETTERS[letter] != zd:
+            right = next(k for k, v in ZONE_LETTERS.items() if v == zd)
+            raise TimeInputError(
+                f"zone description {value!r}: the letter {letter} is zone {ZONE_LETTERS[letter]:+d}, but the "
+                f"number says {zd:+d} (whose letter is {right}); check the sign")
+    return zd
+
+
+_WATCH = re.compile(
+    r"^(?P<sign>[+-])?\s*(?:(?P<min>\d+)\s*(?:m|min|mins|minutes)\.?\s*(?P<sec>\d+(?:[.,]\d+)?)?\s*"
+    r"(?:s|sec|secs|seconds)?|(?P<mm>\d+):(?P<ss>\d{2}(?:[.,]\d+)?)|(?P<only>\d+(?:[.,]\d+)?)\s*"
+    r"(?:s|sec|secs|seconds)?)\.?\s*(?P<way>fast|slow|f|sl)?\s*$", re.IGNORECASE)
+
+
+def parse_watch_error_s(value: object) -> float:
+    """A watch's error in seconds, fast positive (it is subtracted from the watch's reading).
+
+    >>> parse_watch_error_s("12 fast"), parse_watch_error_s("3 s slow"), parse_watch_error_s("1 m 05 s fast")
+    (12.0, -3.0, 65.0)
+    >>> parse_watch_error_s(-4.5)
+    -4.5
+    """
+    if isinstance(value, bool):
+        raise TimeInputError(f"cannot read {value!r} as a watch error; accepted: {ACCEPTED_WATCH_ERRORS}")
+    if isinstance(value, (int, float)):
+        seconds = float(value)
+    elif isinstance(value, str):
+        match = _WATCH.match(value.strip().replace("−", "-"))
+        if not match:
+            raise TimeInputError(f"cannot read {value!r} as a watch error; accepted: {ACCEPTED_WATCH_ERRORS}")
+        parts = match.groupdict()
+        if parts["min"] is not None:
+            seconds = int(parts["min"]) * 60 + float((parts["sec"] or "0").replace(",", "."))
+        elif parts["mm"] is not None:
+            seconds = int(parts["mm"]) * 60 + float(parts["ss"].replace(",", "."))
+        else:
+            seconds = float(parts["only"].replace(",", "."))
+        way = (parts["way"] or "").lower()
+        if way and parts["sign"]:
+            raise TimeInputError(f"watch error {value!r}: give a sign or fast/slow, not both")
+        if way in ("slow", "sl") or parts["sign"] == "-":
+            seconds = -seconds
+    else:
+        raise TimeInputError(f"cannot read {value!r} as a watch error; accepted: {ACCEPTED_WATCH_ERRORS}")
+    if not seconds == seconds or abs(seconds) > MAX_WATCH_ERROR_S:
+        raise TimeInputError(f"watch error {value!r} is outside ±{MAX_WATCH_ERROR_S:.0f} s: a watch that far out "
+                             "is keeping another zone; check the zone description")
+    return seconds
+
+
+_UTC_NUMERIC_DATE = re.compile(r"^\s*(\d{1,2}[/.\-]\d{1,2}[/.\-]\d{2,4})[T ]\s*(.+)$")
+
+
+def iso_instant_text(value: str, order: str | None = None) -> str:
+    """An instant written with a numeric day/month date ('05/03/2026 18:42:10Z') as ISO 8601 text.
+
+    ISO 8601 text comes back unchanged; a numeric date is refused with both readings
+    unless ``order`` is declared.
+    """
+    match = _UTC_NUMERIC_DATE.match(value)
+    if not match:
+        return value
+    year, month, day = parse_date(match.group(1), order)
+    return f"{year:04d}-{month:02d}-{day:02d}T{match.group(2).strip()}"
+
+
+__all__ = ["parse_date", "parse_time_of_day", "parse_zone_description", "parse_watch_error_s",
+           "iso_instant_text", "DATE_ORDERS"]

@@ -1,0 +1,245 @@
+"""The sight vocabulary: one table of the words a sight log uses, for the reader, the reduction and the docs.
+
+Every column a sight log may have is listed once here with its spellings, its unit (and
+the other units it may be written in), its accepted range and its default; so are the
+words of the trade that fill some columns (limbs, horizons). The log reader matches
+headers and words against this table, the reduction takes its defaults from it, and
+``docs/sight-log.md`` describes it. A new spelling is one edit here.
+
+Pure data and small pure functions: no I/O, no pandas.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, field
+
+# --- Units -------------------------------------------------------------------
+#: Linear conversions to the unit navred works in: value_used = value_given * factor + offset.
+#: 1 ft = 0.3048 m exactly (international foot, 1959); °C = (°F − 32) × 5/9;
+#: 1 inHg = 33.8639 hPa and 1 mmHg = 1.33322 hPa at 0 °C (NIST SP 811, from memory).
+UNIT_CONVERSIONS: dict[str, tuple[float, float]] = {
+    "m": (1.0, 0.0), "ft": (0.3048, 0.0),
+    "c": (1.0, 0.0), "f": (5.0 / 9.0, -32.0 * 5.0 / 9.0),
+    "hpa": (1.0, 0.0), "inhg": (33.8639, 0.0), "mmhg": (1.33322, 0.0),
+    "deg": (1.0, 0.0), "kn": (1.0, 0.0), "s": (1.0, 0.0), "arcmin": (1.0, 0.0),
+}
+#: How each unit may be written in a header, normalised (lower case, no spaces or dots).
+UNIT_SPELLINGS: dict[str, str] = {
+    "m": "m", "metre": "m", "metres": "m", "meter": "m", "meters": "m",
+    "ft": "ft", "feet": "ft", "foot": "ft",
+    "c": "c", "°c": "c", "degc": "c", "celsius": "c", "ºc": "c",
+    "f": "f", "°f": "f", "degf": "f", "fahrenheit": "f", "ºf": "f",
+    "hpa": "hpa", "mb": "hpa", "mbar": "hpa", "millibar": "hpa", "millibars": "hpa",
+    "inhg": "inhg", "in_hg": "inhg", "inches": "inhg", "inchesofmercury": "inhg",
+    "mmhg": "mmhg", "mm_hg": "mmhg", "torr": "mmhg",
+    "deg": "deg", "°": "deg", "º": "deg", "degrees": "deg", "degree": "deg", "°′": "deg", "°'": "deg",
+    "dm": "deg", "°t": "deg", "t": "deg", "true": "deg", "degt": "deg",
+    "kn": "kn", "kt": "kn", "kts": "kn", "knots": "kn", "knot": "kn",
+    "s": "s", "sec": "s", "secs": "s", "seconds": "s",
+    "arcmin": "arcmin", "′": "arcmin", "'": "arcmin", "min": "arcmin", "minutes": "arcmin",
+}
+UNIT_NAMES = {"m": "metres", "ft": "feet", "c": "°C", "f": "°F", "hpa": "hPa", "inhg": "inHg",
+              "mmhg": "mmHg", "deg": "degrees", "kn": "knots", "s": "seconds", "arcmin": "arcminutes"}
+
+
+@dataclass(frozen=True)
+class Column:
+    """One sight-log column: its key, the headers that name it, its unit and its range."""
+
+    key: str
+    spellings: tuple[str, ...]
+    kind: str
+    meaning: str
+    #: units it may be given in (the first is the unit navred works in); () for no unit
+    units: tuple[str, ...] = ()
+    #: the unit taken when the header names none; None: the header must name one
+    default_unit: str | None = None
+    low: float | None = None
+    high: float | None = None
+    default: object = None
+    required: bool = False
+    #: spelling with its unit built in ('eye_height_m' -> ('eye_height', 'm')), added automatically
+    extra: dict = field(default_factory=dict)
+
+
+COLUMNS: tuple[Column, ...] = (
+    Column("utc", ("utc", "gmt", "utc_time", "time_utc", "date_time_utc", "sight_utc"), "utc",
+           "the instant of the sight: ISO 8601 with Z or an offset, or a spreadsheet date-time cell (taken as UTC)"),
+    Column("date", ("date", "zone_date", "ships_date", "local_date"), "date",
+           "the ship's date of the sight, for zone time: ISO 8601 (2026-03-26) or a date cell"),
+    Column("zone_time", ("zone_time", "zt", "watch_time", "watch_reading"), "time",
+           "the time read on the watch, which keeps the zone time of zone_description (hh:mm:ss)"),
+    Column("zone_description", ("zone_description", "zd", "zone"), "zone",
+           "the zone the watch keeps: a whole signed hour, ZT + ZD = UTC (+3, -10, +1 N, 0, Z)"),
+    Column("watch_error", ("watch_error", "chronometer_error", "deck_watch_error", "dwe"),
+           "watch_error", "the watch's error: '12 fast', '3 s slow', '1 m 05 s fast', or seconds fast (+) / slow (−)",
+           units=("s",), default_unit="s", low=-3600.0, high=3600.0, default=0.0),
+    Column("body", ("body", "body_name", "celestial_body"), "body",
+           "Sun, Moon, Venus, Mars, Jupiter, Saturn or a navigational star (navred bodies)", required=True),
+    Column("limb", ("limb",), "limb", "lower, upper or centre (LL, UL); Sun and Moon only"),
+    Column("hs", ("hs", "sextant_altitude", "sextant_alt", "sextant_reading"), "altitude",
+           "the sextant altitude as read: decimal degrees or DD MM.m", units=("deg",), default_unit="deg",
+           low=0.0, high=90.0, required=True),
+    Column("index_error", ("index_error", "ie"), "index_error",
+           "index error as read, ON the arc positive: 1.4, -0.8, '1.4 on', '0.8 off'",
+           units=("arcmin",), default_unit="arcmin", low=-30.0, high=30.0, default=0.0),
+    Column("eye_height", ("eye_height", "height_of_eye", "hoe", "eye"), "number",
+           "height of eye above the sea, in metres or feet (the header names which)",
+           units=("m", "ft"), low=0.0, high=1000.0),
+    Column("horizon", ("horizon",), "horizon", "sea (the default) or artificial (no dip)", default="sea"),
+    Column("temperature", ("temperature", "temp", "air_temperature"), "number",
+           "air temperature, for refraction, in °C or °F (the header names which)",
+           units=("c", "f"), low=-50.0, high=60.0, default=10.0),
+    Column("pressure", ("pressure", "air_pressure", "barometer", "baro"), "number",
+           "air pressure, for refraction, in hPa (mb), inHg or mmHg (the header names which)",
+           units=("hpa", "inhg", "mmhg"), low=850.0, high=1100.0, default=1010.0),
+    Column("dr_lat", ("dr_lat", "dr_latitude", "lat_dr", "latitude_dr"), "lat",
+           "DR latitude at the sight: 43 14.1 N, or a signed decimal (north positive, ISO 6709)", required=True),
+    Column("dr_lon", ("dr_lon", "dr_long", "dr_longitude", "lon_dr", "long_dr", "longitude_dr"), "lon",
+           "DR longitude at the sight: 013 03.7 W, or a signed decimal (east positive, ISO 6709)", required=True),
+    Column("course", ("course", "course_steered", "course_true"), "number",
+           "course (degrees true) in force from this sight until the next", units=("deg",), default_unit="deg",
+           low=0.0, high=360.0),
+    Column("speed", ("speed", "speed_through_water", "speed_made_good"), "number",
+           "speed (knots) in force from this sight until the next", units=("kn",), default_unit="kn",
+           low=0.0, high=60.0),
+    Column("fix_group", ("fix_group", "fix_id"), "text",
+           "sights fixed together; blank: one observer's sights within two hours of each other"),
+    Column("chart_lat", ("chart_lat", "chart_latitude", "gnss_lat", "gps_lat", "gnss_latitude", "gps_latitude"),
+           "lat", "a chart or GNSS latitude at this sight, to cross-check the fix"),
+    Column("chart_lon", ("chart_lon", "chart_long", "chart_longitude", "gnss_lon", "gps_lon", "gnss_longitude",
+                         "gps_longitude"), "lon", "a chart or GNSS longitude at this sight, to cross-check the fix"),
+    Column("dut1", ("dut1", "ut1_utc", "ut1_minus_utc"), "number",
+           "UT1 − UTC from a radio time signal (seconds); blank: the IERS table",
+           units=("s",), default_unit="s", low=-0.9, high=0.9),
+    Column("vessel", ("vessel", "ship", "vessel_name"), "text", "the vessel (separates automatic fix groups)"),
+    Column("observer", ("observer", "navigator", "cadet", "observer_name"), "name",
+           "who took the sight (case and spacing do not matter)"),
+    Column("voyage", ("voyage", "passage"), "text", "the voyage or passage"),
+    Column("series", ("series", "series_id"), "text", "sights of one body taken as one series"),
+)
+COLUMN = {c.key: c for c in COLUMNS}
+
+#: Headers too ambiguous to guess: each names its possible readings.
+AMBIGUOUS_HEADERS = {
+    "time": "a time of which scale? name the column utc (with a zone) or zone_time (with zone_description)",
+    "lat": "a DR latitude (dr_lat) or a chart/GNSS latitude (chart_lat)?",
+    "latitude": "a DR latitude (dr_lat) or a chart/GNSS latitude (chart_lat)?",
+    "lon": "a DR longitude (dr_lon) or a chart/GNSS longitude (chart_lon)?",
+    "long": "a DR longitude (dr_lon) or a chart/GNSS longitude (chart_lon)?",
+    "longitude": "a DR longitude (dr_lon) or a chart/GNSS longitude (chart_lon)?",
+    "error": "the watch error (watch_error) or the index error (index_error)?",
+}
+
+#: Headers navred itself adds to the logs it writes (the 'Sights as read' sheet): bookkeeping, not data.
+BOOKKEEPING_HEADERS = ("row_in_log", "source_file")
+
+#: Columns that ``reduce_sights`` adds: a table that has them is navred's own output, read back.
+OUTPUT_SUFFIX = "(as read)"
+
+# --- Words of the trade ----------------------------------------------------------
+LIMBS = {"lower": "lower", "ll": "lower", "l": "lower", "lower_limb": "lower",
+         "upper": "upper", "ul": "upper", "u": "upper", "upper_limb": "upper",
+         "centre": "centre", "center": "centre", "c": "centre", "": ""}
+#: sea: the visible sea horizon (dip applies); artificial: a horizon with no dip.
+HORIZONS = {"sea": "sea", "natural": "sea", "visible": "sea", "": "sea",
+            "artificial": "artificial", "mercury": "artificial", "bubble": "artificial", "art": "artificial"}
+
+#: Nautical time-zone letters and their zone descriptions (ZT + ZD = UTC): A-M (no J) are the
+#: zones east of Greenwich, −1 to −12; N-Y those west, +1 to +12; Z is zero (common practice).
+ZONE_LETTERS = {**{letter: -(i + 1) for i, letter in enumerate("ABCDEFGHIKLM")},
+                **{letter: i + 1 for i, letter in enumerate("NOPQRSTUVWXY")}, "Z": 0}
+
+
+def normalise_header(text: object) -> str:
+    """A header as navred compares it: lower case, spaces, hyphens and dots as single underscores.
+
+    >>> normalise_header("  Height of eye ")
+    'height_of_eye'
+    >>> normalise_header("Ship's Date")
+    'ships_date'
+    """
+    words = str(text).strip().lower().replace("’", "").replace("'", "")
+    return re.sub(r"[\s\-./_]+", "_", words).strip("_")
+
+
+_UNIT_IN_BRACKETS = re.compile(r"^(?P<name>.*?)\s*[(\[](?P<unit>[^)\]]*)[)\]]\s*$")
+
+
+@dataclass(frozen=True)
+class HeaderMatch:
+    """What a header names: a column of the vocabulary and its unit, or why it is refused."""
+
+    header: str
+    key: str | None
+    unit: str | None
+    problem: str = ""
+
+
+def _spellings() -> dict[str, str]:
+    table = {}
+    for column in COLUMNS:
+        for spelling in column.spellings:
+            table[spelling] = column.key
+    return table
+
+
+_SPELLINGS = _spellings()
+
+
+def match_header(header: object) -> HeaderMatch:
+    """Which column a header names, and in which unit: ``eye height (ft)``, ``Eye_Height_M``, ``HoE [m]``.
+
+    A header that names no column of the vocabulary has key None (the column is carried
+    through as it is); a header too ambiguous to read, or with a unit its column does not
+    take, has a problem.
+
+    >>> match_header("Eye height (ft)").key, match_header("Eye height (ft)").unit
+    ('eye_height', 'ft')
+    >>> match_header("temperature_c").unit
+    'c'
+    """
+    text = str(header).strip()
+    unit_text = None
+    found = _UNIT_IN_BRACKETS.match(text)
+    if found and found.group("name"):
+        text, unit_text = found.group("name"), found.group("unit")
+    name = normalise_header(text)
+    key = _SPELLINGS.get(name)
+    if key is None and "_" in name:
+        # a unit written into the name: eye_height_m, temperature_f, speed_kn
+        stem, _, last = name.rpartition("_")
+        if _SPELLINGS.get(stem) and UNIT_SPELLINGS.get(last) in COLUMN[_SPELLINGS[stem]].units:
+            key, unit_text = _SPELLINGS[stem], last
+    if key is None:
+        if name in AMBIGUOUS_HEADERS and unit_text is None:
+            return HeaderMatch(str(header), None, None, f"header {str(header)!r} is ambiguous: "
+                               f"{AMBIGUOUS_HEADERS[name]}")
+        return HeaderMatch(str(header), None, None)
+    column = COLUMN[key]
+    if unit_text is not None and column.units:
+        unit = UNIT_SPELLINGS.get(re.sub(r"[\s.]+", "", unit_text.lower()))
+        if unit not in column.units:
+            accepted = ", ".join(UNIT_NAMES[u] for u in column.units)
+            return HeaderMatch(str(header), key, None, f"header {str(header)!r}: unit {unit_text!r} is not one "
+                               f"navred takes for {key.replace('_', ' ')}; accepted: {accepted}")
+        return HeaderMatch(str(header), key, unit)
+    if column.units and column.default_unit is None:
+        accepted = " or ".join(f"'{key.replace('_', ' ')} ({u})'" for u in column.units)
+        return HeaderMatch(str(header), key, None, f"header {str(header)!r} gives no unit and "
+                           f"{key.replace('_', ' ')} may be in {' or '.join(UNIT_NAMES[u] for u in column.units)}: "
+                           f"name it {accepted}")
+    return HeaderMatch(str(header), key, column.default_unit)
+
+
+def convert_to_working_unit(value: float, unit: str | None) -> float:
+    """A number given in ``unit`` converted to the unit navred works in."""
+    if unit is None:
+        return value
+    factor, offset = UNIT_CONVERSIONS[unit]
+    return value * factor + offset
+
+
+__all__ = ["COLUMNS", "COLUMN", "Column", "HeaderMatch", "match_header", "normalise_header", "LIMBS",
+           "HORIZONS", "ZONE_LETTERS", "UNIT_CONVERSIONS", "convert_to_working_unit"]

@@ -1,0 +1,181 @@
+"""One way in, one answer: every command and the API read a log through the same reader and agree.
+
+The logs here are the invented demo (sample_sights/) rewritten the ways navigators keep logs:
+a chronometer error, zone time with the watch's error, no fix_group column, a chart position
+on one row only, another unit system. Each must give the same Ho, intercept and fix from
+`navred reduce --csv`, `navred fix --csv`, `navred workbook` and the Python API (to 0.01′),
+and where the rewrite changes nothing physical, the same as the plain demo.
+"""
+
+from __future__ import annotations
+
+import io
+
+import numpy as np
+import openpyxl
+import pandas as pd
+import pytest
+from typer.testing import CliRunner
+
+from navred import process_log, read_sight_log, reduce_sights
+from navred.cli import app
+
+runner = CliRunner()
+TOLERANCE_DEG = 0.01 / 60  # 0.01′
+
+
+def demo():
+    return pd.read_csv("sample_sights/demo_sights.csv", dtype=str, keep_default_na=False)
+
+
+def with_chronometer_error(frame):
+    # a chronometer 2 minutes fast reads 120 s ahead of UTC: the log gives the reading and its error
+    out = frame.copy()
+    reading = pd.to_datetime(out.utc) + pd.Timedelta(seconds=120)
+    out["utc"] = reading.dt.strftime("%Y-%m-%dT%H:%M:%SZ")
+    out["chronometer_error_s"] = "120"
+    return out
+
+
+def with_zone_time(frame):
+    # zone +1 (the ship near 13° W keeps UTC − 1 h), a deck watch 7 s slow: ZT + ZD = UTC (common practice)
+    out = frame.drop(columns=["utc"]).copy()
+    zone_time = pd.to_datetime(frame.utc) - pd.Timedelta(hours=1) - pd.Timedelta(seconds=7)
+    out.insert(0, "date", zone_time.dt.strftime("%Y-%m-%d"))
+    out.insert(1, "watch time", zone_time.dt.strftime("%H:%M:%S"))
+    out.insert(2, "zone description", "+1 N")
+    out.insert(3, "watch error", "7 s slow")
+    return out
+
+
+def without_fix_group(frame):
+    return frame.drop(columns=["fix_group"])
+
+
+def with_one_chart_position(frame):
+    # sample_sights/demo_truth.csv: the true position at the fourth star sight, on that row only
+    out = frame.copy()
+    truth = pd.read_csv("sample_sights/demo_truth.csv")
+    out["chart_lat"], out["chart_lon"] = "", ""
+    out.loc[8, "chart_lat"] = f"{truth.true_lat_deg[8]:.5f}"
+    out.loc[8, "chart_lon"] = f"{truth.true_lon_deg[8]:.5f}"
+    return out
+
+
+LOGS = {"chronometer error": with_chronometer_error, "zone time": with_zone_time,
+        "no fix_group": without_fix_group, "chart on one row": with_one_chart_position}
+
+
+def cli_csv(arguments):
+    result = runner.invoke(app, arguments)
+    assert result.exit_code == 0, result.output
+    return pd.read_csv(io.StringIO(result.stdout))
+
+
+def sheet(path, name):
+    values = list(openpyxl.load_workbook(path)[name].values)
+    return pd.DataFrame(values[1:], columns=values[0])
+
+
+@pytest.mark.parametrize("kind", list(LOGS))
+def test_every_command_and_the_api_give_the_same_answer(tmp_path, kind):
+    path = tmp_path / "log.csv"
+    LOGS[kind](demo()).to_csv(path, index=False)
+    voyage = process_log(path)
+    api = voyage.reduced
+    assert (api.status != "error").all(), api.message.tolist()
+    reduced = cli_csv(["reduce", str(path), "--csv"])
+    assert np.allclose(reduced.ho_deg, api.ho_deg, atol=TOLERANCE_DEG, rtol=0)
+    assert np.allclose(reduced.intercept_nm, api.intercept_nm, atol=0.01, rtol=0)
+    fixes = cli_csv(["fix", str(path), "--csv"])
+    book = tmp_path / "voyage.xlsx"
+    result = runner.invoke(app, ["workbook", str(path), "-o", str(book)])
+    assert result.exit_code == 0, result.output
+    sheet_fixes = sheet(book, "Fixes")
+    working = sheet(book, "Working")
+    assert np.allclose(working["Ho (deg)"].astype(float), api.ho_deg, atol=TOLERANCE_DEG, rtol=0)
+    api_fixes = [g for g in voyage.groups if g.fix is not None]
+    assert len(voyage.groups) == len(fixes) == len(sheet_fixes)  # every group, fixed or not
+    fixes = fixes[fixes.lat_deg.notna()].reset_index(drop=True)
+    sheet_fixes = sheet_fixes[sheet_fixes["latitude (deg)"].notna()].reset_index(drop=True)
+    assert len(api_fixes) == len(fixes) == len(sheet_fixes) >= 1
+    for group, cli_row, sheet_row in zip(api_fixes, fixes.itertuples(), sheet_fixes.itertuples()):
+        assert group.name == cli_row.fix_group == sheet_row[1]
+        for lat, lon in ((cli_row.lat_deg, cli_row.lon_deg), (sheet_fixes.loc[sheet_row.Index, "latitude (deg)"],
+                                                             sheet_fixes.loc[sheet_row.Index, "longitude (deg)"])):
+            assert abs(lat - group.fix.lat_deg) * 60 < 0.01 and abs(lon - group.fix.lon_deg) * 60 < 0.01
+    if kind == "chart on one row":
+        star = voyage.group("evening-stars")
+        assert star.chart is not None and "row 10" in star.chart_note
+        assert float(fixes.loc[fixes.fix_group == "evening-stars", "chart_distance_nm"].iloc[0]) == \
+            pytest.approx(star.fix.chart_distance_nm)
+
+
+@pytest.mark.parametrize("kind", ["chronometer error", "zone time", "chart on one row"])
+def test_rewriting_the_time_or_adding_a_chart_changes_nothing_else(tmp_path, kind):
+    path = tmp_path / "log.csv"
+    LOGS[kind](demo()).to_csv(path, index=False)
+    plain = process_log("sample_sights/demo_sights.csv")
+    other = process_log(path)
+    assert np.allclose(other.reduced.ho_deg, plain.reduced.ho_deg, atol=1e-9, rtol=0)
+    assert (other.reduced.sight_utc == plain.reduced.sight_utc).all()
+    for a, b in zip(plain.groups, other.groups):
+        assert abs(a.fix.lat_deg - b.fix.lat_deg) < 1e-9 and abs(a.fix.lon_deg - b.fix.lon_deg) < 1e-9
+
+
+def test_a_planted_blunder_is_named_by_its_row_everywhere(tmp_path):
+    # Procyon is the sight on spreadsheet row 9 (the header is row 1): 8′ added to its Hs
+    frame = demo()
+    assert frame.body[7] == "Procyon"
+    frame.loc[7, "hs"] = "51 20.0"  # was 51 12.0
+    path = tmp_path / "blunder.csv"
+    frame.to_csv(path, index=False)
+    result = runner.invoke(app, ["fix", str(path), "--group", "evening-stars"])
+    assert result.exit_code == 0, result.output
+    line = next(x for x in result.output.splitlines() if x.strip().startswith("row 9 "))
+    assert "Procyon" in line and "BLUNDER" in line
+    assert "sight row 9 looks like a blunder" in result.output
+    book = tmp_path / "v.xlsx"
+    assert runner.invoke(app, ["workbook", str(path), "-o", str(book)]).exit_code == 0
+    fixes = sheet(book, "Fixes").set_index("fix group")
+    assert fixes.loc["evening-stars", "flagged sights"] == "row 9"
+    assert "row 9 looks like a blunder" in fixes.loc["evening-stars", "note"]
+    working = sheet(book, "Working").set_index("row in log")
+    assert "BLUNDER" in working.loc[9, "flags"] and "BLUNDER" not in str(working.loc[10, "flags"])
+
+
+def test_the_workbook_navred_wrote_reads_back_to_the_same_fixes(tmp_path):
+    for source in ("sample_sights/demo_sights.csv", "sample_sights/training_sights.csv"):
+        voyage = process_log(source, plan=False)
+        book = tmp_path / "voyage.xlsx"
+        from navred.workbook import write_workbook
+
+        write_workbook(voyage, book, plots=False)
+        again = process_log(book, plan=False)
+        assert again.log.rejected.empty
+        columns = ["sight_utc", "body_name", "hs_deg", "dr_lat_deg", "dr_lon_deg", "fix_group", "observer"]
+        pd.testing.assert_frame_equal(again.log.sights[columns], voyage.log.sights[columns])
+        assert again.log.sights.row.tolist() == voyage.log.sights.row.tolist()  # the original rows, kept
+        assert [g.name for g in again.groups] == [g.name for g in voyage.groups]
+        for a, b in zip(voyage.groups, again.groups):
+            if a.fix is not None:
+                assert abs(a.fix.lat_deg - b.fix.lat_deg) < 1e-9 and abs(a.fix.lon_deg - b.fix.lon_deg) < 1e-9
+
+
+def test_feet_fahrenheit_and_inches_of_mercury_give_the_same_ho(tmp_path):
+    # 1 ft = 0.3048 m, °C = (°F − 32) × 5/9, 1 inHg = 33.8639 hPa (NIST SP 811; from memory)
+    metric = demo()
+    metric["eye_height_m"], metric["temperature_c"], metric["pressure_hpa"] = "3.048", "-5", f"{29.5 * 33.8639}"
+    imperial = metric.drop(columns=["eye_height_m", "temperature_c", "pressure_hpa"])
+    imperial["Height of eye (ft)"], imperial["Temperature (°F)"], imperial["Pressure (inHg)"] = "10", "23", "29.5"
+    mm = metric.drop(columns=["pressure_hpa"]).assign(pressure_mmhg=f"{29.5 * 33.8639 / 1.33322}")
+    results = []
+    for name, frame in (("metric", metric), ("imperial", imperial), ("mm", mm)):
+        path = tmp_path / f"{name}.csv"
+        frame.to_csv(path, index=False)
+        results.append(reduce_sights(read_sight_log(path)))
+    for other in results[1:]:
+        assert np.allclose(other.ho_deg, results[0].ho_deg, atol=TOLERANCE_DEG, rtol=0)
+    # and the values were used: the dip of 3.048 m and the cold, low-pressure refraction are not the demo's
+    plain = reduce_sights(read_sight_log("sample_sights/demo_sights.csv"))
+    assert np.all(np.abs(results[0].ho_deg - plain.ho_deg) * 60 > 0.05)

@@ -145,7 +145,7 @@ def reduce_command(
             typer.echo(f"{label:>{width}}  {row.body_name:<15}{when:<21}{format_angle(row.ho_deg, 'signed'):>12}"
                        f"{format_angle(row.hc_deg, 'signed'):>12}{row.zn_deg:7.1f}°  {intercept:<18}{row.message}")
         counts = reduced.status.value_counts()
-        empty = f", {log.empty_rows} empty rows skipped" if log.empty_rows else ""
+        empty = f", {log.empty_rows} empty row{'s' if log.empty_rows > 1 else ''} skipped" if log.empty_rows else ""
         typer.echo(f"{int(counts.get('ok', 0) + counts.get('warning', 0))} sights reduced "
                    f"({int(counts.get('warning', 0))} with a warning), {int(counts.get('error', 0))} not reduced{empty}")
         if counts.get("error", 0) == len(reduced):

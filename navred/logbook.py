@@ -115,7 +115,7 @@ class SightLog:
 
     def summary(self) -> str:
         files = f" from {len(self.sources)} files" if len(self.sources) > 1 else ""
-        empty = f", {self.empty_rows} empty rows skipped" if self.empty_rows else ""
+        empty = f", {self.empty_rows} empty row{'s' if self.empty_rows > 1 else ''} skipped" if self.empty_rows else ""
         return (f"{len(self.table)} rows read{files}: {len(self.table) - self.n_rejected_rows} sights, "
                 f"{self.n_rejected_rows} rejected{empty}")
 

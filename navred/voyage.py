@@ -80,7 +80,7 @@ class VoyageResult:
         return int(self.rejected[["source", "row"]].drop_duplicates().shape[0])
 
     def summary(self) -> str:
-        empty = f", {self.log.empty_rows} empty rows skipped" if self.log.empty_rows else ""
+        empty = f", {self.log.empty_rows} empty row{'s' if self.log.empty_rows > 1 else ''} skipped" if self.log.empty_rows else ""
         return (f"{self.n_reduced} sights reduced, {self.n_fixes} fixes, "
                 f"{self.n_rejected_rows} rejected{empty}")
 

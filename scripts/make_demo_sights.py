@@ -120,7 +120,29 @@ def main() -> None:
     frame.to_excel(OUT / "demo_sights.xlsx", index=False, sheet_name="sights")
     pd.DataFrame(truth).to_csv(OUT / "demo_truth.csv", index=False)
     print(f"wrote {len(frame)} invented sights to {OUT}")
+    write_hand_kept_log(frame)
     write_sight_plan()
+
+
+def write_hand_kept_log(frame: pd.DataFrame) -> None:
+    """The same sights as a navigator keeps them by hand (docs/sight-log.md shows this file): the
+    ship's date and the deck watch's reading in zone +1 (N), the watch 7 s slow, Hs and the DR in
+    degrees and minutes, the height of eye in feet. The same instants and values: it reduces to
+    the same Ho and fixes as demo_sights.csv."""
+    utc = pd.to_datetime(frame.utc)
+    watch = utc - pd.Timedelta(hours=1) - pd.Timedelta(seconds=7)  # ZT = UTC - ZD; a slow watch reads behind
+    hand = pd.DataFrame({
+        "Date": watch.dt.strftime("%Y-%m-%d"), "Watch time": watch.dt.strftime("%H:%M:%S"),
+        "ZD": "+1 N", "Watch error": "7 s slow", "Body": frame.body, "Limb": frame.limb.replace("lower", "LL"),
+        "Hs": [h.replace(" ", "° ") + "′" for h in frame.hs], "IE": f"{INDEX_ERROR} on",
+        "Height of eye (ft)": round(EYE_HEIGHT_M / 0.3048, 4),
+        "DR lat": [v.replace(" ", "° ", 1).replace(" N", "′ N").replace(" S", "′ S") for v in frame.dr_lat],
+        "DR lon": [v.replace(" ", "° ", 1).replace(" W", "′ W").replace(" E", "′ E") for v in frame.dr_lon],
+        "Course (°T)": frame.course_deg, "Speed (kn)": frame.speed_kn, "Fix group": frame.fix_group,
+        "Observer": frame.observer, "Remarks": "",
+    })
+    hand.to_csv(OUT / "demo_sights_hand_kept.csv", index=False)
+    print(f"wrote the hand-kept form of the same sights to {OUT}")
 
 
 def write_sight_plan() -> None:

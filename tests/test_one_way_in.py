@@ -179,3 +179,61 @@ def test_feet_fahrenheit_and_inches_of_mercury_give_the_same_ho(tmp_path):
     # and the values were used: the dip of 3.048 m and the cold, low-pressure refraction are not the demo's
     plain = reduce_sights(read_sight_log("sample_sights/demo_sights.csv"))
     assert np.all(np.abs(results[0].ho_deg - plain.ho_deg) * 60 > 0.05)
+
+
+def test_the_csv_of_navred_reduce_reads_back_to_the_same_fixes(tmp_path):
+    out = tmp_path / "reduced.csv"
+    out.write_text(runner.invoke(app, ["reduce", "sample_sights/demo_sights_hand_kept.csv", "--csv"]).stdout)
+    again = process_log(out, plan=False)
+    plain = process_log("sample_sights/demo_sights.csv", plan=False)
+    assert again.log.rejected.empty, again.log.rejected
+    for a, b in zip(plain.groups, again.groups):
+        # the CSV keeps decimal degrees to 1e-6° (0.00006′)
+        assert a.name == b.name and abs(a.fix.lat_deg - b.fix.lat_deg) * 60 < 0.001
+        assert abs(a.fix.lon_deg - b.fix.lon_deg) * 60 < 0.001
+
+
+def test_the_hand_kept_demo_is_the_demo():
+    # sample_sights/demo_sights_hand_kept.csv: the same invented sights in zone time, feet and ° ′ (docs/sight-log.md)
+    hand = process_log("sample_sights/demo_sights_hand_kept.csv", plan=False)
+    plain = process_log("sample_sights/demo_sights.csv", plan=False)
+    assert (hand.reduced.sight_utc == plain.reduced.sight_utc).all()
+    assert np.allclose(hand.reduced.ho_deg, plain.reduced.ho_deg, atol=TOLERANCE_DEG, rtol=0)
+    working = hand.reduced
+    assert (working.time_given == "zone time").all() and (working.watch_error_applied_s == -7).all()
+    assert (working.eye_height_as_given == "9.1864 feet").all()
+
+
+@pytest.mark.parametrize("arguments, fragment", [
+    (["plan", "--date", "2026-03-26", "--lat", "44 30", "--lon", "012 00 W"], "--lat: cannot read '44 30'"),
+    (["plan", "--date", "2026-03-26", "--lat", "44 30 N", "--lon", "012 00 S"], "S is a hemisphere of a latitude"),
+    (["plan", "--date", "26/03/2026", "--lat", "44 30 N", "--lon", "012 00 W"], "not ISO 8601"),
+    (["plan", "--date", "2026-02-30", "--lat", "44 30 N", "--lon", "012 00 W"], "not a date"),
+    (["compass", "Sun", "--utc", "2026-03-26T17:30:00Z", "--lat", "43 20 N", "--lon", "013 10 W",
+      "--variation", "4 30"], "could be E or W"),
+    (["fix", "sample_sights/demo_sights.csv", "--group", "evening-stars", "--chart-lat", "43 16.5",
+      "--chart-lon", "013 11.4 W"], "--chart-lat"),
+    (["reduce", "sample_sights/demo_sights.csv", "--dates", "dmy"], "day-first, month-first"),
+])
+def test_command_line_positions_and_dates_follow_the_logs_rules(arguments, fragment):
+    result = runner.invoke(app, arguments)
+    assert result.exit_code == 1 and fragment in result.output and "Traceback" not in result.output
+
+
+def test_command_line_variation_with_its_letter():
+    east = runner.invoke(app, ["compass", "Sun", "--utc", "2026-03-26T17:30:00Z", "--lat", "43 20 N", "--lon",
+                               "013 10 W", "--compass-bearing", "262", "--variation", "3.5 E"])
+    west = runner.invoke(app, ["compass", "Sun", "--utc", "2026-03-26T17:30:00Z", "--lat", "43 20 N", "--lon",
+                               "013 10 W", "--compass-bearing", "262", "--variation", "-3.5"])
+    assert "variation 3.5° E" in east.output and "variation 3.5° W" in west.output
+
+
+def test_several_logs_on_the_command_line(tmp_path):
+    frame = demo()
+    frame.iloc[:5].to_csv(tmp_path / "first.csv", index=False)
+    frame.iloc[5:].to_csv(tmp_path / "second.csv", index=False)
+    result = runner.invoke(app, ["fix", str(tmp_path / "first.csv"), str(tmp_path / "second.csv")])
+    assert result.exit_code == 0, result.output
+    assert 'Fix "second.csv: evening-stars"' in result.output and "second.csv row 2" in result.output
+    folder = runner.invoke(app, ["reduce", str(tmp_path)])
+    assert folder.exit_code == 0 and "11 sights reduced" in folder.output

@@ -92,8 +92,11 @@ def training_report(reduced: pd.DataFrame, track: pd.DataFrame, groups: object =
     error = np.where(inside, (frame.ho_deg.to_numpy(dtype=float) - hc) * ARCMIN_PER_DEG, np.nan)
     observer = frame["observer"].astype(str) if "observer" in frame.columns else pd.Series("(not given)", index=frame.index)
     span = (str(track.utc.iloc[0])[:19], str(track.utc.iloc[-1])[:19])
+    from .frames import row_labels
+
     sights = pd.DataFrame({
         "row": frame["row"] if "row" in frame.columns else np.arange(1, len(frame) + 1),
+        "sight": row_labels(frame),
         "observer": observer.replace("", "(not given)"), "body": frame.body_name,
         "body kind": [body_kind(b) for b in frame.body_name], "sight_utc": frame.sight_utc,
         "reference_lat_deg": lat, "reference_lon_deg": lon, "hc_reference_deg": np.where(inside, hc, np.nan),

@@ -14,6 +14,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from navred.logbook import LogbookError, read_sight_log
+from navred.voyage import process_log
 
 HEADER = "utc,body,limb,hs,index_error_arcmin,eye_height_m,dr_lat,dr_lon,cadet_note"
 GOOD = "2026-03-26T19:41:00Z,Sirius,,30 02.4,1.4 on,2.8,43 14.1 N,013 03.7 W,first"
@@ -192,10 +193,12 @@ def test_semicolon_and_tab_files_with_decimal_commas_read_like_the_csv(tmp_path)
     assert european.eye_height_m[0] == "2,8" and european.dr_lat[0] == "44 10,1 N"
     european.to_csv(tmp_path / "semicolon.csv", sep=";", index=False)
     european.to_csv(tmp_path / "tab.tsv", sep="\t", index=False)
+    plain_fixes = [(g.name, g.fix.lat_deg, g.fix.lon_deg) for g in process_log("sample_sights/demo_sights.csv").groups]
     for name in ("semicolon.csv", "tab.tsv"):
         read = read_sight_log(tmp_path / name)
         assert read.rejected.empty, read.rejected
         pd.testing.assert_frame_equal(read.sights[FIX_COLUMNS], plain[FIX_COLUMNS])
+        assert [(g.name, g.fix.lat_deg, g.fix.lon_deg) for g in process_log(read).groups] == plain_fixes
 
 
 def test_a_decimal_comma_in_a_comma_separated_file_is_refused(tmp_path):
@@ -218,6 +221,8 @@ def test_spreadsheet_date_time_cells_read_as_their_column_says(tmp_path):
     read = read_sight_log(tmp_path / "cells.xlsx")
     assert read.rejected.empty, read.rejected
     pd.testing.assert_frame_equal(read.sights[FIX_COLUMNS], plain[FIX_COLUMNS])
+    fixes = [(g.name, g.fix.lat_deg, g.fix.lon_deg) for g in process_log(read).groups]
+    assert fixes == [(g.name, g.fix.lat_deg, g.fix.lon_deg) for g in process_log("sample_sights/demo_sights.csv").groups]
     # zone time kept in date and time cells, with the zone description as text
     book = openpyxl.Workbook()
     sheet = book.active

@@ -310,6 +310,8 @@ def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool = True
         about.cell(row=line, column=2, value=meaning)
     about.column_dimensions["A"].width = 22
     about.column_dimensions["B"].width = 110
+    for cell in about["A"][4:]:
+        cell.alignment = Alignment(vertical="top")
     for cell in about["B"]:
         cell.alignment = Alignment(wrap_text=True, vertical="top")
         if cell.value and len(str(cell.value)) > 100:

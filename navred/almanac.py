@@ -33,10 +33,12 @@ from .constants import (
     DEG_PER_HOUR,
     EARTH_EQUATORIAL_RADIUS_KM,
     JD_J2000,
+    MARS_RADIUS_KM,
     MOON_RADIUS_KM,
     SPEED_OF_LIGHT_AU_DAY,
     SPEED_OF_LIGHT_KM_S,
     SUN_RADIUS_KM,
+    VENUS_RADIUS_KM,
 )
 from .ephemeris import SegmentCache
 from .errors import AngleInputError, BodyNameError, NavredError, failed_elements
@@ -265,7 +267,8 @@ def places(body: str | ArrayLike, utc: object, dut1_s: ArrayLike | None = None) 
     ra, dec = erfa.c2s(vectors)
     with np.errstate(invalid="ignore"):
         hp = np.where(is_star, 0.0, np.degrees(np.arcsin(EARTH_EQUATORIAL_RADIUS_KM / distance)))
-    radius = np.select([names == "Sun", names == "Moon"], [SUN_RADIUS_KM, MOON_RADIUS_KM], 0.0)
+    radius = np.select([names == "Sun", names == "Moon", names == "Venus", names == "Mars"],
+                       [SUN_RADIUS_KM, MOON_RADIUS_KM, VENUS_RADIUS_KM, MARS_RADIUS_KM], 0.0)
     with np.errstate(invalid="ignore"):
         sd = np.where(radius > 0, np.degrees(np.arcsin(radius / distance)), 0.0)
     return Places(
@@ -277,6 +280,24 @@ def places(body: str | ArrayLike, utc: object, dut1_s: ArrayLike | None = None) 
         hp_arcmin=(hp * ARCMIN_PER_DEG).reshape(shape),
         sd_arcmin=(sd * ARCMIN_PER_DEG).reshape(shape),
     )
+
+
+def phase_angle_deg(body: Places, sun: Places) -> np.ndarray:
+    """The phase angle (degrees) of a planet: the angle at the planet between the Sun and the Earth.
+
+    From the apparent geocentric places and distances of the planet and the Sun at the same
+    instants (0° when the planet is full, 180° when new).
+    """
+    def vector(places_):
+        ra = np.radians(np.asarray(places_.ra_hours) * DEG_PER_HOUR)
+        dec = np.radians(np.asarray(places_.dec_deg))
+        return np.asarray(places_.distance_km)[..., None] * np.stack(
+            [np.cos(dec) * np.cos(ra), np.cos(dec) * np.sin(ra), np.sin(dec)], axis=-1)
+
+    planet, sun_ = vector(body), vector(sun)
+    to_earth, to_sun = -planet, sun_ - planet
+    cosine = np.sum(to_earth * to_sun, axis=-1) / (np.linalg.norm(to_earth, axis=-1) * np.linalg.norm(to_sun, axis=-1))
+    return np.degrees(np.arccos(np.clip(cosine, -1.0, 1.0)))
 
 
 def gha_aries_deg(utc: object, dut1_s: ArrayLike | None = None) -> np.ndarray:

@@ -156,12 +156,29 @@ def _print_fix(group, reduced, labels) -> None:
     from .angles import format_angle
 
     fix = group.fix
-    typer.echo(f'Fix "{group.name}": {int(fix.used.sum())} sights, at {str(fix.utc)[:19].replace("T", " ")} UTC')
-    typer.echo(f"  position       {format_angle(fix.lat_deg, 'lat')}  {format_angle(fix.lon_deg, 'lon')}")
-    typer.echo(f"  95 % ellipse   {fix.ellipse_semi_major_nm:.1f} nm x {fix.ellipse_semi_minor_nm:.1f} nm, major axis "
-               f"{fix.ellipse_orientation_deg:03.0f}°/{(fix.ellipse_orientation_deg + 180) % 360:03.0f}°")
-    typer.echo(f"  sight error    {fix.sigma_arcmin:.2f}′ ({fix.sigma_source}); "
-               f"fix standard error {fix.standard_error_nm:.2f} nm")
+    when = str(fix.utc)[:19].replace("T", " ")
+    if fix.is_fix:
+        typer.echo(f'Fix "{group.name}": {int(fix.used.sum())} sights, at {when} UTC')
+        typer.echo(f"  position       {format_angle(fix.lat_deg, 'lat')}  {format_angle(fix.lon_deg, 'lon')}")
+        typer.echo(f"  95 % ellipse   {fix.ellipse_semi_major_nm:.1f} nm x {fix.ellipse_semi_minor_nm:.1f} nm, major "
+                   f"axis {fix.ellipse_orientation_deg:03.0f}°/{(fix.ellipse_orientation_deg + 180) % 360:03.0f}° "
+                   f"(scaled by the {fix.quantile} quantile"
+                   + ("; the DR's error over the run included)" if fix.dr_error_included else ")"))
+    else:
+        typer.echo(f'No fix in "{group.name}": {int(fix.used.sum())} sights whose lines cross at {fix.spread_deg:.0f}° '
+                   f"give a {fix.kind}, at {when} UTC")
+        if fix.kind == "latitude":
+            typer.echo(f"  latitude       {format_angle(fix.lat_deg, 'lat')} ± {fix.ellipse_semi_minor_nm:.1f} nm (95 %)"
+                       + (f"; noon curve {format_angle(fix.noon_curve_latitude_deg, 'lat')}"
+                          if fix.noon_curve_latitude_deg is not None else ""))
+        else:
+            typer.echo(f"  line           through {format_angle(fix.lat_deg, 'lat')}  {format_angle(fix.lon_deg, 'lon')}, "
+                       f"bearing {fix.line_bearing_deg:03.0f}°/{(fix.line_bearing_deg + 180) % 360:03.0f}°, "
+                       f"± {fix.ellipse_semi_minor_nm:.1f} nm (95 %)")
+        typer.echo(f"  from the DR    {abs(fix.line_offset_nm):.1f} nm {'toward' if fix.line_offset_nm >= 0 else 'away from'} "
+                   f"{fix.line_toward_deg:03.0f}°")
+    typer.echo(f"  sight error    {fix.sigma_arcmin:.2f}′ ({fix.sigma_source})"
+               + (f"; fix standard error {fix.standard_error_nm:.2f} nm" if fix.is_fix else ""))
     if fix.course_made_good_deg is not None:
         typer.echo(f"  made good      {fix.course_made_good_deg:05.1f}° at {fix.speed_made_good_kn:.1f} kn")
     width = max([len(labels[r]) for r in group.rows] + [5])
@@ -178,10 +195,14 @@ def _print_fix(group, reduced, labels) -> None:
         typer.echo(f"  without the flagged sights: {format_angle(other.lat_deg, 'lat')}  "
                    f"{format_angle(other.lon_deg, 'lon')}, ellipse {other.ellipse_semi_major_nm:.1f} x "
                    f"{other.ellipse_semi_minor_nm:.1f} nm")
-    if fix.chart_distance_nm is not None:
+    if fix.chart_distance_nm is not None and fix.is_fix:
         where = "inside" if fix.chart_inside_ellipse else "OUTSIDE"
         typer.echo(f"  chart position {fix.chart_distance_nm:.1f} nm from the fix, bearing "
                    f"{fix.chart_bearing_deg:03.0f}°: {where} the 95 % ellipse ({group.chart_note})")
+    elif fix.chart_distance_nm is not None:
+        off = abs(fix.distance_off_line_nm(*group.chart))
+        typer.echo(f"  chart position {off:.1f} nm off the {fix.kind}: {'within' if fix.chart_inside_ellipse else 'OUTSIDE'} "
+                   f"its 95 % band ({group.chart_note})")
     for text in fix.warnings:
         typer.echo(f"  warning: {text}")
 
@@ -673,9 +694,16 @@ def training_command(
                        f"{values['personal error (′)']:>+15.2f}′{values['95 % interval (′)']:>7.2f}′"
                        f"{values['scatter (′)']:>8.2f}′{values['trend (′ per day)']:>+10.3f}′")
         for row in report.fixes.to_dict("records"):
-            if "distance from reference (nm)" in row and row["distance from reference (nm)"] == row["distance from reference (nm)"]:
+            if "distance from reference (nm)" not in row or row["distance from reference (nm)"] != \
+                    row["distance from reference (nm)"]:
+                continue
+            if row.get("kind", "fix") == "fix":
                 typer.echo(f"fix {row['fix group']}: {row['distance from reference (nm)']:.1f} nm from the reference, "
                            f"reference inside the 95 % ellipse: {row['reference inside 95 % ellipse']}")
+            else:
+                typer.echo(f"{row['kind']} {row['fix group']} (not a fix): the reference lies "
+                           f"{row['distance from reference (nm)']:.1f} nm off it, "
+                           f"{row['reference inside 95 % ellipse']}")
         if output:
             typer.echo(f"wrote {write_workbook(voyage, output)}")
         if summary:

@@ -30,6 +30,8 @@ SPEED_OF_LIGHT_KM_S = 299792.458  # SI definition
 SPEED_OF_LIGHT_AU_DAY = SPEED_OF_LIGHT_KM_S * SECONDS_PER_DAY / AU_KM
 SUN_RADIUS_KM = 695700.0  # IAU 2015 Resolution B3, nominal solar radius
 MOON_RADIUS_KM = 1737.4  # IAU Working Group on Cartographic Coordinates, mean lunar radius
+VENUS_RADIUS_KM = 6051.8  # the same Working Group (2015 report), mean radius (from memory)
+MARS_RADIUS_KM = 3389.5  # the same Working Group (2015 report), mean radius (from memory)
 
 # --- Time ------------------------------------------------------------------
 TT_MINUS_TAI_S = 32.184  # IAU 1991 Resolution A4

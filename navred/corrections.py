@@ -1,13 +1,19 @@
 """Sextant altitude (Hs) to observed altitude (Ho): one function per correction, and the chain.
 
-    Ha = Hs + IC − dip                         apparent altitude
-    Ho = Ha − R ± SD + PA                      observed (geocentric) altitude
+Every correction is signed and added, so that a working adds up line by line:
 
-IC, the index correction, is minus the index error; dip is that of the sea horizon
-(none for an artificial horizon); R is refraction at Ha; SD is the semi-diameter of the
-Sun or Moon (lower limb +, upper limb −; the Moon's augmented for its nearness to the
-observer); PA is parallax in altitude, computed rigorously for the observer's place on the
-WGS 84 ellipsoid (so it includes the Earth's oblateness, which matters for the Moon).
+    Ha = Hs + IC + horizon + dip             apparent altitude of the point observed
+    Ho = Ha + refraction + SD + parallax + phase      observed (geocentric) altitude of the centre
+
+IC, the index correction, is minus the index error. The horizon line turns the reading of a
+reflecting artificial horizon (twice the altitude) or of a back sight (measured over the zenith
+to the horizon behind) into an altitude; dip is that of the sea horizon (negative), added for a
+back sight, that of a waterline nearer than the horizon, or a dip meter's measurement; none
+for an artificial or a bubble horizon. Refraction (negative) is Bennett's at Ha. SD is the
+semi-diameter of the Sun or Moon (lower limb +, upper limb −; the Moon's augmented for its
+nearness to the observer). Parallax in altitude is computed rigorously for the observer's
+place on the WGS 84 ellipsoid (so it includes the Earth's oblateness, which matters for the
+Moon). Phase moves Venus's and Mars's centre of light back to the centre of the disc.
 Every function takes scalars or numpy arrays and broadcasts.
 """
 
@@ -26,6 +32,7 @@ from .constants import (
     EARTH_FLATTENING,
 )
 from .errors import SightInputError, failed_elements
+from .vocabulary import HORIZONS, LIMBS
 
 #: Dip coefficients: dip′ = 1.76 √(h metres) = 0.97 √(h feet); the coefficients printed with
 #: the nautical almanac's dip table (from memory). They include terrestrial refraction.
@@ -92,9 +99,11 @@ def index_correction_arcmin(index_error_arcmin: ArrayLike) -> np.ndarray:
 
 
 def dip_arcmin(eye_height_m: ArrayLike, horizon: ArrayLike = "sea") -> np.ndarray:
-    """Dip of the sea horizon in arcminutes, 1.76′ √(height of eye in metres); 0 for an artificial horizon.
+    """Dip of the sea horizon in arcminutes, 1.76′ √(height of eye in metres); 0 for a horizon with no dip.
 
-    ``horizon`` is ``'sea'`` or ``'artificial'`` (bubble or mercury), scalar or array.
+    ``horizon`` is any of :data:`HORIZONS` (scalar or array); the dip is the sea horizon's for
+    ``sea`` and ``back`` (the horizon behind is as low), 0 for ``artificial`` and ``bubble``
+    (the waterline's own dip is :func:`dip_short_of_horizon_arcmin`).
 
     >>> round(float(dip_arcmin(10.0)), 2)
     5.57
@@ -105,8 +114,8 @@ def dip_arcmin(eye_height_m: ArrayLike, horizon: ArrayLike = "sea") -> np.ndarra
     bad = ~np.isfinite(height) | (height < 0) | (height > 1000)
     if bad.any():
         raise SightInputError(f"height of eye must be 0-1000 m; refused: {failed_elements(bad)}")
-    artificial = horizon_is_artificial(horizon)
-    return np.where(artificial, 0.0, DIP_ARCMIN_PER_SQRT_M * np.sqrt(height))
+    kinds = horizon_kind(horizon)
+    return np.where(np.isin(kinds, ["sea", "back", "waterline"]), DIP_ARCMIN_PER_SQRT_M * np.sqrt(height), 0.0)
 
 
 def dip_arcmin_from_feet(eye_height_ft: ArrayLike) -> np.ndarray:
@@ -118,18 +127,52 @@ def dip_arcmin_from_feet(eye_height_ft: ArrayLike) -> np.ndarray:
     return DIP_ARCMIN_PER_SQRT_FT * np.sqrt(np.asarray(eye_height_ft, dtype=float))
 
 
-def horizon_is_artificial(horizon: ArrayLike) -> np.ndarray:
-    """True where ``horizon`` names an artificial (bubble, mercury) horizon, False for the sea.
+#: Dip short of the horizon: tan Ds = h / (1852 d) + d / 8268 (h the height of eye in metres, d the
+#: distance of the waterline in nautical miles; the table of dip of the sea short of the horizon in
+#: N. Bowditch, The American Practical Navigator, Pub. No. 9, with h/6076.1 ft per mile; from memory).
+#: The second term is the Earth's curvature over a radius enlarged by terrestrial refraction.
+SHORT_HORIZON_CURVATURE_NM = 8268.0
+#: Distance of the visible sea horizon, 2.07 √(h metres) nautical miles (the same source; from memory).
+HORIZON_DISTANCE_NM_PER_SQRT_M = 2.07
 
-    Raises for anything else.
+
+def dip_short_of_horizon_arcmin(eye_height_m: ArrayLike, distance_nm: ArrayLike) -> np.ndarray:
+    """Dip (arcminutes) of a waterline ``distance_nm`` away, nearer than the sea horizon: a shore, a ship.
+
+    >>> round(float(dip_short_of_horizon_arcmin(10.0, 1.0)), 1)
+    19.0
     """
-    values = np.char.lower(np.char.strip(np.asarray(horizon, dtype=str)))
-    artificial = np.isin(values, ["artificial", "bubble", "mercury", "art"])
-    sea = np.isin(values, ["sea", "natural", "", "nan", "none"])
-    if np.any(~(artificial | sea)):
-        raise SightInputError(
-            f"horizon must be 'sea' or 'artificial'; refused: {failed_elements(~(artificial | sea))}")
-    return artificial
+    h = np.asarray(eye_height_m, dtype=float)
+    d = np.asarray(distance_nm, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.degrees(np.arctan(h / (1852.0 * d) + d / SHORT_HORIZON_CURVATURE_NM)) * ARCMIN_PER_DEG
+
+
+def horizon_distance_nm(eye_height_m: ArrayLike) -> np.ndarray:
+    """Distance (nautical miles) of the visible sea horizon from a height of eye."""
+    return HORIZON_DISTANCE_NM_PER_SQRT_M * np.sqrt(np.asarray(eye_height_m, dtype=float))
+
+
+#: The highest reading each horizon takes, degrees: a back sight reads 180° − h + dip, an
+#: artificial horizon twice the altitude.
+HIGHEST_READING_DEG = {"sea": 90.0, "bubble": 90.0, "waterline": 90.0, "artificial": 180.0, "back": 180.0}
+
+
+def horizon_kind(horizon: ArrayLike) -> np.ndarray:
+    """The horizon each element names (``sea``, ``artificial``, ``bubble``, ``back`` or ``waterline``); raises for others."""
+    values = np.char.replace(np.char.replace(np.char.lower(np.char.strip(np.asarray(horizon, dtype=str))), " ", "_"),
+                             "-", "_")
+    known = np.isin(values, list(HORIZONS))
+    if not known.all():
+        raise SightInputError(f"horizon must be one of sea, artificial, bubble, back, waterline; "
+                              f"refused: {failed_elements(~known)}")
+    return np.vectorize(HORIZONS.get, otypes=[object])(values) if values.ndim else np.array(HORIZONS[str(values)],
+                                                                                             dtype=object)
+
+
+def horizon_is_artificial(horizon: ArrayLike) -> np.ndarray:
+    """True where ``horizon`` names a horizon with no dip (artificial or bubble); raises for an unknown one."""
+    return np.isin(horizon_kind(horizon), ["artificial", "bubble"])
 
 
 def apparent_altitude_deg(hs_deg: ArrayLike, ic_arcmin: ArrayLike, dip_arcmin_: ArrayLike) -> np.ndarray:
@@ -178,8 +221,8 @@ def check_weather(temperature_c: ArrayLike, pressure_hpa: ArrayLike) -> None:
         raise SightInputError(f"pressure must be 850-1100 hPa; refused: {failed_elements(bad_p)}")
 
 
-_LIMBS = {"lower": 1.0, "ll": 1.0, "l": 1.0, "upper": -1.0, "ul": -1.0, "u": -1.0,
-          "centre": 0.0, "center": 0.0, "c": 0.0, "": 0.0, "nan": 0.0, "none": 0.0}
+_LIMB_SIGNS = {"lower": 1.0, "upper": -1.0, "centre": 0.0, "": 0.0}
+_LIMBS = {**{word: _LIMB_SIGNS[limb] for word, limb in LIMBS.items()}, "nan": 0.0, "none": 0.0}
 
 
 def limb_sign(limb: ArrayLike) -> np.ndarray:
@@ -260,20 +303,65 @@ def moon_augmentation(altitude_deg: ArrayLike, hp_arcmin: ArrayLike, lat_deg: Ar
     return 1.0 / topocentric_distance_ratio(altitude_deg, hp_arcmin, lat_deg, zn_deg)
 
 
+#: The centre of light of a uniformly bright illuminated disc lies toward the Sun from the centre by
+#: (4 / 3π)(1 − cos i) of the semi-diameter, i the phase angle: the centroid of the lune between the
+#: lit half-disc and the terminator's half-ellipse (of semi-axis cos i), a standard integral.
+PHASE_CENTROID_FACTOR = 4.0 / (3.0 * np.pi)
+
+
+def phase_offset_arcmin(sd_arcmin: ArrayLike, phase_angle_deg: ArrayLike) -> np.ndarray:
+    """Distance (arcminutes) from a planet's centre to its centre of light, toward the Sun.
+
+    >>> round(float(phase_offset_arcmin(0.5, 90.0)), 4)  # a half-lit Venus of 30″ semi-diameter
+    0.2122
+    """
+    return PHASE_CENTROID_FACTOR * (1.0 - np.cos(np.radians(np.asarray(phase_angle_deg, dtype=float)))) * \
+        np.asarray(sd_arcmin, dtype=float)
+
+
+def phase_correction_arcmin(sd_arcmin: ArrayLike, phase_angle_deg: ArrayLike, body_alt_deg: ArrayLike,
+                            body_az_deg: ArrayLike, sun_alt_deg: ArrayLike, sun_az_deg: ArrayLike) -> np.ndarray:
+    """Phase correction in altitude (arcminutes) of Venus or Mars: the centre of light brought back to the centre.
+
+    The observer brings the planet's centre of light to the horizon; it lies
+    :func:`phase_offset_arcmin` from the centre toward the Sun, so its altitude is too high by
+    the offset times the cosine of the angle between the vertical and the direction to the Sun
+    on the sky (by day and by night: below the horizon the Sun still lights the planet's side
+    that faces it). That direction is the great-circle bearing from the planet to the Sun in
+    the observer's altitude-azimuth frame.
+    """
+    h1, z1 = np.radians(np.asarray(body_alt_deg, dtype=float)), np.radians(np.asarray(body_az_deg, dtype=float))
+    h2, z2 = np.radians(np.asarray(sun_alt_deg, dtype=float)), np.radians(np.asarray(sun_az_deg, dtype=float))
+    dz = z2 - z1
+    # bearing measured from "up" (toward the zenith) through the direction of increasing azimuth
+    up = np.cos(h1) * np.sin(h2) - np.sin(h1) * np.cos(h2) * np.cos(dz)
+    across = np.cos(h2) * np.sin(dz)
+    cos_bearing = up / np.maximum(np.hypot(up, across), 1e-15)
+    return -phase_offset_arcmin(sd_arcmin, phase_angle_deg) * cos_bearing
+
+
 @dataclass
 class AltitudeCorrections:
-    """Every line of the Hs -> Ho working, one element per sight (arcminutes unless named _deg)."""
+    """Every line of the Hs -> Ho working, one element per sight (arcminutes unless named _deg).
+
+    Every ``*_arcmin`` correction is signed and added: Hs + IC + horizon + dip = Ha, and
+    Ha + refraction + SD + parallax + phase = Ho.
+    """
 
     hs_deg: np.ndarray
     ic_arcmin: np.ndarray
+    horizon_arcmin: np.ndarray
     dip_arcmin: np.ndarray
     ha_deg: np.ndarray
     refraction_arcmin: np.ndarray
     sd_arcmin: np.ndarray
     parallax_arcmin: np.ndarray
+    phase_arcmin: np.ndarray
     ho_deg: np.ndarray
     warning: np.ndarray = field(repr=False)
     error: np.ndarray = field(repr=False)
+    #: which input each error is about: 'hs', 'eye_height', 'horizon', 'waterline_distance', ...
+    error_column: np.ndarray = field(repr=False, default=None)
 
     def raise_errors(self) -> None:
         bad = self.error != ""
@@ -287,60 +375,108 @@ def _note(messages: np.ndarray, mask, text: str) -> None:
     messages[mask] = np.where(messages[mask] == "", text, messages[mask] + "; " + text)
 
 
-def correct_altitudes(hs_deg: ArrayLike, *, index_error_arcmin: ArrayLike = 0.0, eye_height_m: ArrayLike = 0.0, horizon: ArrayLike = "sea",
-                      temperature_c: ArrayLike = DEFAULT_TEMPERATURE_C, pressure_hpa: ArrayLike = DEFAULT_PRESSURE_HPA,
-                      limb: ArrayLike = "centre", sd_arcmin: ArrayLike = 0.0, hp_arcmin: ArrayLike = 0.0, augment_sd: ArrayLike = False,
-                      lat_deg: ArrayLike = 0.0, zn_deg: ArrayLike = 0.0) -> AltitudeCorrections:
+def correct_altitudes(hs_deg: ArrayLike, *, index_error_arcmin: ArrayLike = 0.0, eye_height_m: ArrayLike = 0.0,
+                      horizon: ArrayLike = "sea", temperature_c: ArrayLike = DEFAULT_TEMPERATURE_C,
+                      pressure_hpa: ArrayLike = DEFAULT_PRESSURE_HPA, limb: ArrayLike = "centre",
+                      sd_arcmin: ArrayLike = 0.0, hp_arcmin: ArrayLike = 0.0, augment_sd: ArrayLike = False,
+                      lat_deg: ArrayLike = 0.0, zn_deg: ArrayLike = 0.0, waterline_nm: ArrayLike = np.nan,
+                      measured_dip_arcmin: ArrayLike = np.nan, phase_arcmin: ArrayLike = 0.0) -> AltitudeCorrections:
     """Apply the whole chain Hs -> Ho and return every intermediate value.
 
-    Inputs broadcast. ``sd_arcmin`` and ``hp_arcmin`` are the almanac's geocentric values
-    (0 for stars; SD 0 for planets); ``augment_sd`` is True for the Moon; ``lat_deg`` and
-    ``zn_deg`` (the DR latitude and the body's azimuth) give the rigorous parallax.
+    Inputs broadcast. ``horizon`` is ``sea``, ``artificial`` (a reflecting horizon: the reading
+    is twice the altitude, halved after the index correction, no dip), ``bubble`` (no dip, the
+    body's centre whatever the limb), ``back`` (a back sight: Ha = 180° − (Hs + IC) + dip) or
+    ``waterline`` (dip short of the horizon, the waterline ``waterline_nm`` away).
+    ``measured_dip_arcmin`` (a dip meter's value) replaces the dip formula for a sea horizon or a
+    back sight. ``limb`` is the limb as it stands in the sky (lower: nearer the horizon in
+    front); with an artificial horizon it is the direct image's limb brought to the reflected
+    image's opposite limb (lower: the direct image's lower limb on the reflection's upper limb).
+    ``sd_arcmin`` and ``hp_arcmin`` are the almanac's geocentric values (0 for stars);
+    ``augment_sd`` is True for the Moon; ``lat_deg`` and ``zn_deg`` (the DR latitude and the
+    body's azimuth) give the rigorous parallax; ``phase_arcmin`` is the phase correction of
+    Venus or Mars (:func:`phase_correction_arcmin`).
 
-    Sights are not refused by raising: a sight that cannot be corrected (Ha below -1° or
-    above 90°, Hs outside 0-90°, bad height of eye or weather) gets NaN and a message in
-    ``error``; a usable sight with a caveat (Ha below 5°) gets one in ``warning``. Call
-    :meth:`AltitudeCorrections.raise_errors` to turn errors into an exception.
+    Sights are not refused by raising: a sight that cannot be corrected gets NaN and a message
+    in ``error`` (and the input it is about in ``error_column``); a usable sight with a caveat
+    (Ha below 5°) gets one in ``warning``. Call :meth:`AltitudeCorrections.raise_errors` to turn
+    errors into an exception.
     """
     hs = np.asarray(hs_deg, dtype=float)
     arrays = np.broadcast_arrays(hs, np.asarray(index_error_arcmin, dtype=float),
                                  np.asarray(eye_height_m, dtype=float), np.asarray(temperature_c, dtype=float),
                                  np.asarray(pressure_hpa, dtype=float), np.asarray(sd_arcmin, dtype=float),
                                  np.asarray(hp_arcmin, dtype=float), np.asarray(lat_deg, dtype=float),
-                                 np.asarray(zn_deg, dtype=float), np.asarray(augment_sd, dtype=bool))
-    hs, ie, eye, temp, pres, sd, hp, lat, zn, augment = (np.array(a) for a in arrays)
+                                 np.asarray(zn_deg, dtype=float), np.asarray(augment_sd, dtype=bool),
+                                 np.asarray(waterline_nm, dtype=float), np.asarray(measured_dip_arcmin, dtype=float),
+                                 np.asarray(phase_arcmin, dtype=float))
+    hs, ie, eye, temp, pres, sd, hp, lat, zn, augment, waterline, measured, phase = (np.array(a) for a in arrays)
     shape = hs.shape
-    artificial = np.broadcast_to(horizon_is_artificial(horizon), shape)
-    sign = np.broadcast_to(limb_sign(limb), shape)
+    kind = np.broadcast_to(horizon_kind(horizon), shape)
+    sign = np.array(np.broadcast_to(limb_sign(limb), shape))
+    sign = np.where(kind == "bubble", 0.0, sign)  # a bubble horizon is on the body's centre
     error = np.full(shape, "", dtype=object)
+    column = np.full(shape, "", dtype=object)
     warning = np.full(shape, "", dtype=object)
-    _note(error, ~np.isfinite(hs) | (hs < 0) | (hs > 90), "Hs is outside 0-90°")
-    _note(error, ~np.isfinite(ie) | (np.abs(ie) > 30), "index error is outside ±30′")
-    _note(error, ~np.isfinite(eye) | (eye < 0) | (eye > 1000), "height of eye is outside 0-1000 m")
-    _note(error, ~np.isfinite(temp) | (temp < -50) | (temp > 60), "temperature is outside -50 to +60 °C")
-    _note(error, ~np.isfinite(pres) | (pres < 850) | (pres > 1100), "pressure is outside 850-1100 hPa")
+
+    def refuse(mask, text, where):
+        _note(error, mask & (error == ""), text)
+        column[mask & (column == "")] = where
+
+    highest = np.vectorize(HIGHEST_READING_DEG.get, otypes=[float])(kind) if kind.size else np.zeros(shape)
+    refuse(~np.isfinite(hs) | (hs < 0) | (hs > highest),
+           "Hs is outside the readings this horizon gives (0-90°; to 180° for an artificial horizon or a back sight)",
+           "hs")
+    refuse(~np.isfinite(ie) | (np.abs(ie) > 30), "index error is outside ±30′", "index_error")
+    has_measured = np.isfinite(measured)
+    needs_eye = np.isin(kind, ["sea", "back", "waterline"]) & ~(has_measured & np.isin(kind, ["sea", "back"]))
+    refuse(needs_eye & (~np.isfinite(eye) | (eye < 0) | (eye > 1000)), "height of eye is outside 0-1000 m",
+           "eye_height")
+    refuse(has_measured & ~np.isin(kind, ["sea", "back"]),
+           "a measured dip applies to a sea horizon or a back sight, not to this horizon", "measured_dip")
+    refuse(has_measured & ((measured < 0) | (measured > 60)), "a measured dip must lie in 0-60′", "measured_dip")
+    short = kind == "waterline"
+    refuse(short & ~(waterline > 0), "a waterline horizon needs the waterline's distance (nm, above 0)",
+           "waterline_distance")
+    beyond = short & (waterline >= horizon_distance_nm(np.where(np.isfinite(eye), eye, 0.0)))
+    refuse(beyond, "the waterline lies beyond the visible sea horizon: reduce it as a sea horizon", "waterline_distance")
+    refuse(~np.isfinite(temp) | (temp < -50) | (temp > 60), "temperature is outside -50 to +60 °C", "temperature")
+    refuse(~np.isfinite(pres) | (pres < 850) | (pres > 1100), "pressure is outside 850-1100 hPa", "pressure")
     ok = error == ""
     ic = -ie
-    dip = np.where(artificial, 0.0, DIP_ARCMIN_PER_SQRT_M * np.sqrt(np.where(ok, eye, 0.0)))
-    ha = hs + (ic - dip) / ARCMIN_PER_DEG
+    reading = hs + ic / ARCMIN_PER_DEG  # the reading with its index correction
+    safe_eye = np.where(ok & np.isfinite(eye), eye, 0.0)
+    sea_dip = np.where(has_measured, measured, DIP_ARCMIN_PER_SQRT_M * np.sqrt(safe_eye))
+    short_dip = dip_short_of_horizon_arcmin(safe_eye, np.where(short & ok, waterline, 1.0))
+    dip = np.select([kind == "sea", kind == "back", kind == "waterline"], [-sea_dip, sea_dip, -short_dip], 0.0)
+    # the horizon line: the reading (with IC) turned into an altitude above the point observed
+    altitude = np.select([kind == "artificial", kind == "back"], [reading / 2.0, 180.0 - reading], reading)
+    horizon_line = (altitude - reading) * ARCMIN_PER_DEG
+    ha = altitude + dip / ARCMIN_PER_DEG
     out_of_range = ok & ((ha < LOWEST_ALTITUDE_DEG) | (ha > 90.0))
-    _note(error, out_of_range, "apparent altitude is outside -1° to 90°: no refraction model applies")
+    # the apparent altitude is the dip's doing when the reading alone would have been fine
+    dip_did_it = out_of_range & (altitude >= LOWEST_ALTITUDE_DEG) & (altitude <= 90.0)
+    refuse(out_of_range & dip_did_it, "apparent altitude is outside -1° to 90°: the dip for this height of eye takes "
+                                      "it there", "eye_height")
+    refuse(out_of_range & ~dip_did_it, "apparent altitude is outside -1° to 90°: no refraction model applies", "hs")
     ok = error == ""
     _note(warning, ok & (ha < LOW_ALTITUDE_DEG),
           "low sight (Ha below 5°): refraction is uncertain by several arcminutes")
     safe_ha = np.where(ok, ha, 45.0)
-    refraction = bennett_refraction_arcmin(safe_ha, np.where(ok, temp, 10.0), np.where(ok, pres, 1010.0))
-    topocentric_centre = safe_ha - refraction / ARCMIN_PER_DEG
+    refraction = -bennett_refraction_arcmin(safe_ha, np.where(ok, temp, 10.0), np.where(ok, pres, 1010.0))
+    topocentric_centre = safe_ha + refraction / ARCMIN_PER_DEG
     # semi-diameter (augmented for the Moon at the topocentric altitude of its centre)
     factor = np.where(augment, moon_augmentation(topocentric_centre, hp, lat, zn), 1.0)
     sd_corr = sign * sd * factor
     topocentric_centre = topocentric_centre + sd_corr / ARCMIN_PER_DEG
     parallax = np.where(hp > 0, parallax_in_altitude_arcmin(topocentric_centre, hp, lat, zn), 0.0)
-    ho = topocentric_centre + parallax / ARCMIN_PER_DEG
+    ho = topocentric_centre + (parallax + phase) / ARCMIN_PER_DEG
     nan = ~ok
-    ha_out = np.where(np.isfinite(ha), ha, np.nan)
+
+    def kept(values):
+        return np.where(nan, np.nan, values)
+
     return AltitudeCorrections(
-        hs_deg=hs, ic_arcmin=ic, dip_arcmin=np.where(nan & ~np.isfinite(eye), np.nan, dip), ha_deg=ha_out,
-        refraction_arcmin=np.where(nan, np.nan, refraction), sd_arcmin=np.where(nan, np.nan, sd_corr),
-        parallax_arcmin=np.where(nan, np.nan, parallax), ho_deg=np.where(nan, np.nan, ho),
-        warning=warning, error=error)
+        hs_deg=hs, ic_arcmin=ic, horizon_arcmin=kept(horizon_line), dip_arcmin=kept(dip),
+        ha_deg=kept(np.where(np.isfinite(ha), ha, np.nan)), refraction_arcmin=kept(refraction),
+        sd_arcmin=kept(sd_corr), parallax_arcmin=kept(parallax), phase_arcmin=kept(phase), ho_deg=kept(ho),
+        warning=warning, error=error, error_column=column)

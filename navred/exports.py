@@ -43,9 +43,15 @@ def write_gpx(voyage: VoyageResult, path: str | Path) -> Path:
             point = ET.SubElement(root, f"{{{GPX_NAMESPACE}}}wpt", {"lat": f"{lat:.6f}", "lon": f"{lon:.6f}"})
             ET.SubElement(point, f"{{{GPX_NAMESPACE}}}time").text = _iso(fix.utc)
             ET.SubElement(point, f"{{{GPX_NAMESPACE}}}name").text = f"{kind} {group.name}"
-            description = (f"celestial fix, {int(fix.used.sum())} sights, 95% ellipse "
-                           f"{fix.ellipse_semi_major_nm:.1f} x {fix.ellipse_semi_minor_nm:.1f} nm, major axis "
-                           f"{fix.ellipse_orientation_deg:.0f} deg" if kind == "fix" else "DR at the fix time")
+            if kind != "fix":
+                description = "DR at the fix time"
+            elif fix.is_fix:
+                description = (f"celestial fix, {int(fix.used.sum())} sights, 95% ellipse "
+                               f"{fix.ellipse_semi_major_nm:.1f} x {fix.ellipse_semi_minor_nm:.1f} nm, major axis "
+                               f"{fix.ellipse_orientation_deg:.0f} deg")
+            else:
+                description = (f"not a fix: a {fix.kind} through this point, bearing {fix.line_bearing_deg:.0f} deg, "
+                               f"95% band +-{fix.ellipse_semi_minor_nm:.1f} nm ({int(fix.used.sum())} sights)")
             ET.SubElement(point, f"{{{GPX_NAMESPACE}}}desc").text = description
             ET.SubElement(point, f"{{{GPX_NAMESPACE}}}type").text = kind
     tree = ET.ElementTree(root)
@@ -71,12 +77,13 @@ def lop_lines(voyage, group, half_length_nm: float | None = None) -> list[dict]:
     """Lines of position of one fix, advanced to the fix time, as GeoJSON features."""
     fix = group.fix
     subset = voyage.reduced.iloc[group.rows].reset_index(drop=True)
-    length = half_length_nm or max(10.0, 4 * fix.ellipse_semi_major_nm)
+    length = half_length_nm or max(10.0, 4 * (fix.ellipse_semi_major_nm if fix.is_fix else fix.ellipse_semi_minor_nm))
     features = []
     for i in np.flatnonzero(np.isfinite(fix.lop_intercept_nm)):
         zn = fix.lop_zn_deg[i]
-        foot = destination(fix.dr_lat_deg, fix.dr_lon_deg, zn, fix.lop_intercept_nm[i])
-        ends = [destination(*foot, zn + side, length) for side in (90.0, -90.0)]
+        foot = (fix.lop_foot_lat_deg[i], fix.lop_foot_lon_deg[i])
+        # great circles tangent to the circle of equal altitude at the foot, both ways
+        ends = [destination(*foot, fix.lop_tangent_deg[i] + side, length) for side in (0.0, 180.0)]
         features.append({
             "type": "Feature",
             "geometry": {"type": "LineString", "coordinates": [[float(lon), float(lat)] for lat, lon in ends]},
@@ -95,17 +102,25 @@ def write_geojson(voyage: VoyageResult, path: str | Path) -> Path:
         fix = group.fix
         common = {"fix_group": group.name, "utc": _iso(fix.utc)}
         features.append({"type": "Feature", "geometry": {"type": "Point", "coordinates": [fix.lon_deg, fix.lat_deg]},
-                         "properties": {**common, "kind": "fix", "sights": int(fix.used.sum()),
+                         "properties": {**common, "kind": "fix" if fix.is_fix else f"{fix.kind} (not a fix)",
+                                        "sights": int(fix.used.sum()),
                                         "sigma_arcmin": fix.sigma_arcmin,
-                                        "ellipse_semi_major_nm": fix.ellipse_semi_major_nm,
+                                        "ellipse_semi_major_nm": (fix.ellipse_semi_major_nm if fix.is_fix else None),
                                         "ellipse_semi_minor_nm": fix.ellipse_semi_minor_nm,
                                         "ellipse_orientation_deg": fix.ellipse_orientation_deg,
                                         "warnings": fix.warnings}})
         features.append({"type": "Feature",
                          "geometry": {"type": "Point", "coordinates": [fix.dr_lon_deg, fix.dr_lat_deg]},
                          "properties": {**common, "kind": "DR"}})
-        features.append({"type": "Feature", "geometry": {"type": "Polygon", "coordinates": [ellipse_polygon(fix)]},
-                         "properties": {**common, "kind": "95 % ellipse"}})
+        if fix.is_fix:
+            features.append({"type": "Feature", "geometry": {"type": "Polygon", "coordinates": [ellipse_polygon(fix)]},
+                             "properties": {**common, "kind": "95 % ellipse"}})
+        else:
+            length = max(20.0, 10 * fix.ellipse_semi_minor_nm)
+            ends = [destination(fix.lat_deg, fix.lon_deg, fix.line_bearing_deg + side, length) for side in (0.0, 180.0)]
+            features.append({"type": "Feature", "geometry": {"type": "LineString", "coordinates": [
+                [float(lon), float(lat)] for lat, lon in ends]},
+                "properties": {**common, "kind": fix.kind, "half_width_95_nm": fix.ellipse_semi_minor_nm}})
         features.extend(lop_lines(voyage, group))
     collection = {"type": "FeatureCollection", "features": features}
     text = json.dumps(collection, indent=1, allow_nan=False)

@@ -27,8 +27,8 @@ def body_positions(body: str | ArrayLike, utc: object, dut1_s: ArrayLike | None 
     ``dut1_s`` overrides the IERS UT1 − UTC (scalar or one per instant).
 
     Columns: ``body``, ``utc``, ``gha_aries_deg``, ``ra_hours``, ``sha_deg``,
-    ``gha_deg``, ``dec_deg``, ``hp_arcmin`` (0 for stars), ``sd_arcmin`` (0 for stars
-    and planets), ``distance_km`` (NaN for stars), ``dut1_s`` and ``ut1_source``.
+    ``gha_deg``, ``dec_deg``, ``hp_arcmin`` (0 for stars), ``sd_arcmin`` (the Sun, Moon,
+    Venus and Mars; 0 for stars and the outer planets), ``distance_km`` (NaN for stars), ``dut1_s`` and ``ut1_source``.
     The array form is :func:`navred.almanac.places`.
 
     >>> row = body_positions("Sun", "2026-06-21T12:00:00Z", dut1_s=0.0).iloc[0]

@@ -27,7 +27,7 @@ import numpy as np
 import pandas as pd
 
 from .angles import parse_angle
-from .corrections import parse_index_error_arcmin
+from .corrections import HIGHEST_READING_DEG, parse_index_error_arcmin
 from .errors import NavredError
 from .readers import LogbookError, MissingFormulaValue, RawTable, blank_mask, read_table
 from .stars import canonical_body_name
@@ -69,7 +69,8 @@ TIME_AGREEMENT_S = 1.0
 SIGHT_COLUMNS = [
     "source", "row", "sight_utc", "utc_jd1", "utc_jd2", "time_given", "time_as_read", "watch_error_applied_s",
     "zone_date_used", "zone_time_corrected", "zone_description_used_h", "greenwich_date", "body_name", "limb",
-    "hs_deg", "index_error_arcmin", "eye_height_m", "eye_height_as_given", "horizon", "temperature_c",
+    "hs_deg", "index_error_arcmin", "eye_height_m", "eye_height_as_given", "horizon", "waterline_distance_nm",
+    "measured_dip_arcmin", "temperature_c",
     "temperature_as_given", "pressure_hpa", "pressure_as_given", "dr_lat_deg", "dr_lon_deg", "course_deg",
     "speed_kn", "dut1_given_s", "fix_group", "fix_group_given", "chart_lat_deg", "chart_lon_deg", "vessel",
     "observer", "voyage", "series", "read_problem", "read_problem_column",
@@ -77,6 +78,7 @@ SIGHT_COLUMNS = [
 #: navred's own output (``reduce --csv``) read back: its parsed columns that carry a sight, and their keys.
 _OUTPUT_COLUMNS = {"sight_utc": "utc", "body_name": "body", "limb": "limb", "hs_deg": "hs",
                    "index_error_arcmin": "index_error", "eye_height_m": "eye_height", "horizon": "horizon",
+                   "waterline_distance_nm": "waterline_distance", "measured_dip_arcmin": "measured_dip",
                    "temperature_c": "temperature", "pressure_hpa": "pressure", "dr_lat_deg": "dr_lat",
                    "dr_lon_deg": "dr_lon", "course_deg": "course", "speed_kn": "speed", "dut1_given_s": "dut1",
                    "fix_group": "fix_group", "chart_lat_deg": "chart_lat", "chart_lon_deg": "chart_lon",
@@ -604,9 +606,24 @@ def _parse(tables: list[RawTable], layouts, dates) -> SightLog:
             problems.add(np.flatnonzero(cells.blank), cells.headers[cells.blank], "",
                          f"{column.key.replace('_', ' ')} is empty")
     horizon = _words(parsed["horizon"], "sea")
-    needs_eye = gathered["eye_height"].blank & (horizon == "sea")
+    # the reading a horizon gives: to 90°, or to 180° for an artificial horizon or a back sight
+    highest = np.array([HIGHEST_READING_DEG.get(h, 90.0) for h in horizon]) if n else np.zeros(0)
+    hs = _floats(parsed["hs"])
+    too_high = parsed["hs"].ok & (hs > highest)
+    problems.add(np.flatnonzero(too_high), gathered["hs"].headers[too_high],
+                 [_text(v) for v in gathered["hs"].values[too_high]],
+                 [f"Hs {v:g}° is outside 0-{h:g}° for a {k} horizon" for v, h, k in
+                  zip(hs[too_high], highest[too_high], horizon[too_high])])
+    dipped = np.isin(horizon, ["sea", "back", "waterline"]) & ~(parsed["measured_dip"].ok & (horizon != "waterline"))
+    needs_eye = gathered["eye_height"].blank & dipped
     problems.add(np.flatnonzero(needs_eye), gathered["eye_height"].headers[needs_eye], "",
                  "height of eye is needed for the dip of a sea horizon")
+    no_distance = (horizon == "waterline") & gathered["waterline_distance"].blank
+    problems.add(np.flatnonzero(no_distance), "waterline_distance", "",
+                 "a waterline horizon needs the distance to the waterline (waterline_distance, nm)")
+    stray_dip = parsed["measured_dip"].ok & ~np.isin(horizon, ["sea", "back"])
+    problems.add(np.flatnonzero(stray_dip), gathered["measured_dip"].headers[stray_dip], "",
+                 "a measured dip applies to a sea horizon or a back sight, not to this horizon")
     for a, b in (("chart_lat", "chart_lon"), ("chart_lon", "chart_lat")):
         alone = parsed[a].ok & gathered[b].blank
         problems.add(np.flatnonzero(alone), gathered[b].headers[alone], "",
@@ -740,7 +757,8 @@ def _sight_table(n, sources, rows, parsed, gathered, times, message, where) -> p
         "body_name": _words(parsed["body"]), "limb": _words(parsed["limb"]), "hs_deg": floats("hs"),
         "index_error_arcmin": floats("index_error"),
         "eye_height_m": floats("eye_height"), "eye_height_as_given": as_given("eye_height"),
-        "horizon": _words(parsed["horizon"], "sea"),
+        "horizon": _words(parsed["horizon"], "sea"), "waterline_distance_nm": floats("waterline_distance"),
+        "measured_dip_arcmin": floats("measured_dip"),
         "temperature_c": floats("temperature"), "temperature_as_given": as_given("temperature"),
         "pressure_hpa": floats("pressure"), "pressure_as_given": as_given("pressure"),
         "dr_lat_deg": floats("dr_lat"), "dr_lon_deg": floats("dr_lon"),

@@ -21,7 +21,8 @@ from .angles import wrap_180
 from .constants import ARCMIN_PER_DEG
 from .corrections import DIP_ARCMIN_PER_SQRT_M, refraction_arcmin
 from .errors import NavredError
-from .fix import move_position, velocity_kn
+from .fix import velocity_kn
+from .sailings import rhumb_destination
 from .stars import SOLAR_SYSTEM, known_bodies, star_table
 from .timescales import utc_jd_to_datetime64, utc_julian_date
 from .triangle import computed_altitude_azimuth
@@ -49,8 +50,10 @@ class Track:
     def position(self, utc64):
         """DR latitude and longitude (degrees) at the instants ``utc64`` (datetime64 array)."""
         hours = (np.asarray(utc64, dtype="datetime64[ns]") - self.start).astype(np.int64) / _NS_PER_HOUR
-        vn, ve = velocity_kn(self.course_deg, self.speed_kn)
-        return move_position(self.lat_deg, self.lon_deg, vn * hours, ve * hours)
+        # the rhumb line steered, on the WGS 84 ellipsoid (hours before the start run it backwards)
+        return rhumb_destination(self.lat_deg, self.lon_deg, np.where(hours >= 0, self.course_deg,
+                                                                      self.course_deg + 180.0),
+                                 np.abs(hours) * self.speed_kn)
 
     @property
     def lon_rate_deg_per_hour(self) -> float:

@@ -55,10 +55,11 @@ def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None):
         points.append(chart_xy)
     used = np.flatnonzero(np.isfinite(fix.lop_intercept_nm))
     z = np.radians(fix.lop_zn_deg[used])
-    a = fix.lop_intercept_nm[used]
-    feet = np.stack([a * np.sin(z), a * np.cos(z)], axis=1)
+    feet = np.stack(plane(fix.lop_foot_lat_deg[used], fix.lop_foot_lon_deg[used]), axis=1)
+    tangent = np.radians(fix.lop_tangent_deg[used])
     xs, ys = zip(*points, *map(tuple, feet))
-    half = max(np.ptp(xs), np.ptp(ys), 4.0 * fix.ellipse_semi_major_nm, 2.0) * 0.75 + 1.0
+    extent = fix.ellipse_semi_major_nm if fix.is_fix else fix.ellipse_semi_minor_nm
+    half = max(np.ptp(xs), np.ptp(ys), 4.0 * extent, 2.0) * 0.75 + 1.0
     cx, cy = (max(xs) + min(xs)) / 2.0, (max(ys) + min(ys)) / 2.0
 
     figure = Figure(figsize=(8.0, 8.0), dpi=110, facecolor=PAPER)
@@ -84,12 +85,12 @@ def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None):
     for side in ax.spines.values():
         side.set_color(INK)
 
-    # the lines of position, drawn across the sheet, labelled at one end
+    # the lines of position, tangent to their circles at the foot, drawn across the sheet, labelled
     length = 2.2 * half
     count = max(len(used) - 1, 1)
     for k, row in enumerate(used):
         fx, fy = feet[k]
-        dx, dy = np.cos(z[k]), -np.sin(z[k])  # perpendicular to Zn
+        dx, dy = np.sin(tangent[k]), np.cos(tangent[k])
         flagged = bool(fix.outlier[row])
         colour = FLAGGED if flagged else INK
         ax.plot([fx - dx * length, fx + dx * length], [fy - dy * length, fy + dy * length],
@@ -106,23 +107,38 @@ def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None):
                     rotation=(np.degrees(np.arctan2(dy, dx)) + 90) % 180 - 90, rotation_mode="anchor",
                     bbox={"boxstyle": "round,pad=0.15", "fc": PAPER, "ec": "none", "alpha": 0.8}, zorder=4)
 
-    # the DR, the fix, its ellipse, the chart position
+    # the DR, the fix and its ellipse (or the combined line and its band), the chart position
     ax.plot(0, 0, marker="o", ms=9, mfc="none", mec=INK, mew=1.4, zorder=5)
     ax.annotate("DR", (0, 0), xytext=(6, -12), textcoords="offset points", fontsize=8, color=INK)
-    cov = fix.covariance_nm2
-    width = 2 * fix.ellipse_semi_major_nm
-    height = 2 * fix.ellipse_semi_minor_nm
-    angle = 90.0 - fix.ellipse_orientation_deg  # from the x axis (east) counter-clockwise
-    ax.add_patch(Ellipse(fix_xy, width, height, angle=angle, fc=ELLIPSE, alpha=0.15, ec=ELLIPSE, lw=1.2,
-                         zorder=3))
-    ax.plot(*fix_xy, marker="+", ms=16, mew=2.2, color=FIX, zorder=6)
-    ax.plot(*fix_xy, marker="o", ms=5, color=FIX, zorder=6)
-    ax.annotate(f"fix {format_angle(fix.lat_deg, 'lat')} {format_angle(fix.lon_deg, 'lon')}", fix_xy,
-                xytext=(10, 8), textcoords="offset points", fontsize=8, color=FIX, weight="bold", zorder=7)
+    if fix.is_fix:
+        angle = 90.0 - fix.ellipse_orientation_deg  # from the x axis (east) counter-clockwise
+        ax.add_patch(Ellipse(fix_xy, 2 * fix.ellipse_semi_major_nm, 2 * fix.ellipse_semi_minor_nm, angle=angle,
+                             fc=ELLIPSE, alpha=0.15, ec=ELLIPSE, lw=1.2, zorder=3))
+        ax.plot(*fix_xy, marker="+", ms=16, mew=2.2, color=FIX, zorder=6)
+        ax.plot(*fix_xy, marker="o", ms=5, color=FIX, zorder=6)
+        right = fix_xy[0] > cx + half * 0.3
+        ax.annotate(f"fix {format_angle(fix.lat_deg, 'lat')} {format_angle(fix.lon_deg, 'lon')}", fix_xy,
+                    xytext=(-10 if right else 10, 8), textcoords="offset points", fontsize=8, color=FIX,
+                    weight="bold", ha="right" if right else "left", zorder=7)
+    else:
+        along = np.radians(fix.line_bearing_deg)
+        across = np.radians(fix.line_toward_deg)
+        dx, dy = np.sin(along), np.cos(along)
+        for offset, style in ((0.0, "-"), (fix.ellipse_semi_minor_nm, ":"), (-fix.ellipse_semi_minor_nm, ":")):
+            ox, oy = fix_xy[0] + offset * np.sin(across), fix_xy[1] + offset * np.cos(across)
+            ax.plot([ox - dx * length, ox + dx * length], [oy - dy * length, oy + dy * length], color=FIX,
+                    lw=2.2 if offset == 0 else 1.0, ls=style, zorder=3)
+        ax.plot(*fix_xy, marker="o", ms=5, color=FIX, zorder=6)
+        what = "latitude" if fix.kind == "latitude" else "line of position"
+        text = (f"{what} {format_angle(fix.lat_deg, 'lat')}" if fix.kind == "latitude"
+                else f"{what} through {format_angle(fix.lat_deg, 'lat')} {format_angle(fix.lon_deg, 'lon')}")
+        right = fix_xy[0] > cx
+        ax.annotate(f"{text}: not a fix", fix_xy, xytext=(-10 if right else 10, 8), textcoords="offset points",
+                    fontsize=8, color=FIX, weight="bold", ha="right" if right else "left", zorder=7,
+                    bbox={"boxstyle": "round,pad=0.2", "fc": PAPER, "ec": "none", "alpha": 0.85})
     if chart is not None:
         ax.plot(*chart_xy, marker="s", ms=7, mfc="none", mec=CHART, mew=1.6, zorder=6)
         ax.annotate("chart", chart_xy, xytext=(8, -12), textcoords="offset points", fontsize=8, color=CHART)
-    del cov
 
     # scale bar (nautical miles) and north arrow
     bar = _nice_length(half * 0.5)
@@ -136,11 +152,12 @@ def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None):
 
     heading = title or "Plotting sheet"
     figure.suptitle(heading, x=0.1, ha="left", fontsize=11, color=INK, weight="bold")
-    figure.text(0.1, 0.935, f"{str(fix.utc)[:19].replace('T', ' ')} UTC · 95 % ellipse "
-                f"{fix.ellipse_semi_major_nm:.1f} × {fix.ellipse_semi_minor_nm:.1f} nm · σ {fix.sigma_arcmin:.2f}′ · "
+    extent_text = (f"95 % ellipse {fix.ellipse_semi_major_nm:.1f} × {fix.ellipse_semi_minor_nm:.1f} nm" if fix.is_fix
+                   else f"the lines cross at {fix.spread_deg:.0f}°: 95 % band ±{fix.ellipse_semi_minor_nm:.1f} nm")
+    figure.text(0.1, 0.935, f"{str(fix.utc)[:19].replace('T', ' ')} UTC · {extent_text} · σ {fix.sigma_arcmin:.2f}′ · "
                 "grid: minutes of latitude and longitude", fontsize=8, color=INK)
     dr_miles = float(np.hypot(*fix_xy))
-    if dr_miles > 30.0:
+    if dr_miles > 30.0 and fix.is_fix:
         figure.text(0.1, 0.04, f"The DR is {dr_miles:.0f} nm from the fix: straight lines of position drawn "
                     "from it are approximate this far out; the fix itself is solved on the sphere.",
                     fontsize=7, color=FIX)

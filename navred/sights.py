@@ -13,8 +13,8 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from .almanac import places
-from .corrections import LOWEST_ALTITUDE_DEG, correct_altitudes
+from .almanac import phase_angle_deg, places
+from .corrections import correct_altitudes, phase_correction_arcmin
 from .logbook import SIGHT_COLUMNS, SightLog, read_sight_log
 from .timescales import UT1_BEFORE, UT1_BEYOND, instants_from_utc_jd
 from .triangle import (
@@ -29,8 +29,9 @@ LARGE_INTERCEPT_NM = 30.0  # a larger intercept usually means a blunder or a poo
 #: The columns reduce_sights adds to the parsed sights, in order (documented in docs/sight-log.md).
 RESULT_COLUMNS = [
     "dut1_s", "ut1_source", "gha_aries_deg", "sha_deg", "gha_deg", "dec_deg", "hp_arcmin", "almanac_sd_arcmin",
-    "lha_deg", "ic_arcmin", "dip_arcmin", "ha_deg", "refraction_arcmin", "sd_arcmin", "parallax_arcmin",
-    "ho_deg", "hc_deg", "zn_deg", "intercept_nm", "intercept_direction", "status", "message", "error_column",
+    "lha_deg", "ic_arcmin", "horizon_arcmin", "dip_arcmin", "ha_deg", "refraction_arcmin", "sd_arcmin",
+    "parallax_arcmin", "phase_angle_deg", "phase_arcmin", "ho_deg", "hc_deg", "zn_deg", "intercept_nm",
+    "intercept_direction", "status", "message", "error_column",
 ]
 STATUS_OK, STATUS_WARNING, STATUS_ERROR = "ok", "warning", "error"
 
@@ -94,6 +95,21 @@ def reduce_sights(sights: object) -> pd.DataFrame:
     return pd.concat([carried, added], axis=1)
 
 
+def _phase(bodies, inst, almanac, lat, lon, hc, zn):
+    """Phase angle (degrees) and phase correction (arcminutes) of each sight: Venus and Mars only (else 0)."""
+    angle = np.zeros(bodies.size)
+    phase = np.zeros(bodies.size)
+    lit = np.isin(bodies, ["Venus", "Mars"])
+    if lit.any():
+        rows = np.flatnonzero(lit)
+        sun = places("Sun", inst[rows])
+        planet = places(bodies[rows], inst[rows])
+        angle[rows] = phase_angle_deg(planet, sun)
+        sun_hc, sun_zn = computed_altitude_azimuth(lat[rows], lon[rows], sun.gha_deg, sun.dec_deg)
+        phase[rows] = phase_correction_arcmin(planet.sd_arcmin, angle[rows], hc[rows], zn[rows], sun_hc, sun_zn)
+    return np.where(lit, angle, np.nan), phase
+
+
 def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
     """The added columns for one block of parsed sights (index 0..n-1)."""
     n = len(frame)
@@ -110,6 +126,8 @@ def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
                "limb ignored: only the Sun and Moon show a disc")
     limb = np.where(has_disc & no_limb, "lower", np.where(has_disc, limb, "centre"))
     horizon = frame["horizon"].to_numpy(dtype=object)
+    notes.warn(has_disc & (horizon == "bubble") & np.isin(frame["limb"].to_numpy(dtype=object), ["lower", "upper"])
+               & notes.ok, "limb ignored: a bubble horizon is on the body's centre")
     hs = frame["hs_deg"].to_numpy(dtype=float)
     lat, lon = frame["dr_lat_deg"].to_numpy(dtype=float), frame["dr_lon_deg"].to_numpy(dtype=float)
 
@@ -125,20 +143,24 @@ def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
         hc, zn = computed_altitude_azimuth(lat[rows], lon[rows], almanac.gha_deg, almanac.dec_deg)
         ie = frame["index_error_arcmin"].to_numpy(dtype=float)[rows]
         eye = np.nan_to_num(frame["eye_height_m"].to_numpy(dtype=float)[rows])
+        phase_angle, phase = _phase(bodies[rows], inst, almanac, lat[rows], lon[rows], hc, zn)
         corrections = correct_altitudes(
             hs[rows], index_error_arcmin=ie, eye_height_m=eye, horizon=horizon[rows],
             temperature_c=frame["temperature_c"].to_numpy(dtype=float)[rows],
             pressure_hpa=frame["pressure_hpa"].to_numpy(dtype=float)[rows], limb=limb[rows],
-            sd_arcmin=almanac.sd_arcmin, hp_arcmin=almanac.hp_arcmin, augment_sd=bodies[rows] == "Moon",
-            lat_deg=lat[rows], zn_deg=zn)
+            sd_arcmin=np.where(has_disc[rows], almanac.sd_arcmin, 0.0), hp_arcmin=almanac.hp_arcmin,
+            augment_sd=bodies[rows] == "Moon", lat_deg=lat[rows], zn_deg=zn,
+            waterline_nm=frame["waterline_distance_nm"].to_numpy(dtype=float)[rows],
+            measured_dip_arcmin=frame["measured_dip_arcmin"].to_numpy(dtype=float)[rows], phase_arcmin=phase)
         values = {
             "dut1_s": almanac.instants.dut1_s, "gha_aries_deg": almanac.gha_aries_deg,
             "sha_deg": almanac.sha_deg, "gha_deg": almanac.gha_deg, "dec_deg": almanac.dec_deg,
             "hp_arcmin": almanac.hp_arcmin, "almanac_sd_arcmin": almanac.sd_arcmin,
             "lha_deg": np.mod(almanac.gha_deg + lon[rows], 360.0), "ic_arcmin": corrections.ic_arcmin,
-            "dip_arcmin": corrections.dip_arcmin, "ha_deg": corrections.ha_deg,
-            "refraction_arcmin": corrections.refraction_arcmin, "sd_arcmin": corrections.sd_arcmin,
-            "parallax_arcmin": corrections.parallax_arcmin, "ho_deg": corrections.ho_deg,
+            "horizon_arcmin": corrections.horizon_arcmin, "dip_arcmin": corrections.dip_arcmin,
+            "ha_deg": corrections.ha_deg, "refraction_arcmin": corrections.refraction_arcmin,
+            "sd_arcmin": corrections.sd_arcmin, "parallax_arcmin": corrections.parallax_arcmin,
+            "phase_angle_deg": phase_angle, "phase_arcmin": corrections.phase_arcmin, "ho_deg": corrections.ho_deg,
             "hc_deg": hc, "zn_deg": zn,
         }
         for column, value in values.items():
@@ -146,11 +168,7 @@ def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
         result["ut1_source"][rows] = almanac.instants.ut1_source
         del almanac, values
         failed, cautioned = corrections.error != "", corrections.warning != ""
-        # an apparent altitude out of range is the dip's doing when Hs and the index correction alone are fine
-        without_dip = hs[rows] - ie / 60.0
-        dip_made_it = (without_dip >= LOWEST_ALTITUDE_DEG) & (without_dip <= 90.0)
-        notes.fail(rows[failed], corrections.error[failed],
-                   np.where(dip_made_it[failed], "eye_height", "hs").astype(object))
+        notes.fail(rows[failed], corrections.error[failed], corrections.error_column[failed])
         notes.warn(rows[cautioned], corrections.warning[cautioned])
         notes.warn(np.isin(result["ut1_source"], [UT1_BEYOND]),
                    "DUT1 beyond the IERS table: GHA may be off by up to 0.225′; give DUT1 from a time signal")

@@ -118,11 +118,23 @@ def training_report(reduced: pd.DataFrame, track: pd.DataFrame, groups: object =
         check = fix.cross_check(float(f_lat[0]), float(f_lon[0]))
         members = reduced.iloc[group.rows]
         who = ", ".join(sorted(set(members["observer"].astype(str)))) if "observer" in members.columns else ""
-        fix_rows.append({"fix group": group.name, "UTC": str(fix.utc)[:19], "observers": who,
-                         "distance from reference (nm)": check.distance_nm,
-                         "bearing from fix to reference (deg)": check.bearing_deg,
-                         "reference inside 95 % ellipse": "yes" if check.inside_ellipse else "NO",
-                         "95 % semi-major (nm)": fix.ellipse_semi_major_nm, "note": ""})
+        if fix.is_fix:
+            fix_rows.append({"fix group": group.name, "UTC": str(fix.utc)[:19], "observers": who, "kind": fix.kind,
+                             "distance from reference (nm)": check.distance_nm,
+                             "bearing from fix to reference (deg)": check.bearing_deg,
+                             "reference inside 95 % ellipse": "yes" if check.inside_ellipse else "NO",
+                             "95 % semi-major (nm)": fix.ellipse_semi_major_nm, "note": ""})
+        else:
+            # not a fix: the sights give one line (or a latitude), so they are marked by the reference's distance off it
+            fix_rows.append({"fix group": group.name, "UTC": str(fix.utc)[:19], "observers": who, "kind": fix.kind,
+                             "distance from reference (nm)": abs(fix.distance_off_line_nm(float(f_lat[0]),
+                                                                                          float(f_lon[0]))),
+                             "bearing from fix to reference (deg)": np.nan,
+                             "reference inside 95 % ellipse": "yes (within the line's band)" if check.inside_ellipse
+                             else "NO (off the line's band)",
+                             "95 % semi-major (nm)": np.nan,
+                             "note": f"not a fix: the lines cross at {fix.spread_deg:.0f}°; marked by the distance off "
+                                     f"the {fix.kind}"})
     return TrainingReport(sights, observers, by_body, pd.DataFrame(fix_rows), span)
 
 

@@ -22,7 +22,7 @@ UNIT_CONVERSIONS: dict[str, tuple[float, float]] = {
     "m": (1.0, 0.0), "ft": (0.3048, 0.0),
     "c": (1.0, 0.0), "f": (5.0 / 9.0, -32.0 * 5.0 / 9.0),
     "hpa": (1.0, 0.0), "inhg": (33.8639, 0.0), "mmhg": (1.33322, 0.0),
-    "deg": (1.0, 0.0), "kn": (1.0, 0.0), "s": (1.0, 0.0), "arcmin": (1.0, 0.0),
+    "deg": (1.0, 0.0), "kn": (1.0, 0.0), "s": (1.0, 0.0), "arcmin": (1.0, 0.0), "nm": (1.0, 0.0),
 }
 #: How each unit may be written in a header, normalised (lower case, no spaces or dots).
 UNIT_SPELLINGS: dict[str, str] = {
@@ -38,9 +38,11 @@ UNIT_SPELLINGS: dict[str, str] = {
     "kn": "kn", "kt": "kn", "kts": "kn", "knots": "kn", "knot": "kn",
     "s": "s", "sec": "s", "secs": "s", "seconds": "s",
     "arcmin": "arcmin", "′": "arcmin", "'": "arcmin", "min": "arcmin", "minutes": "arcmin",
+    "nm": "nm", "nmi": "nm", "nautical_miles": "nm", "miles": "nm",
 }
 UNIT_NAMES = {"m": "metres", "ft": "feet", "c": "°C", "f": "°F", "hpa": "hPa", "inhg": "inHg",
-              "mmhg": "mmHg", "deg": "degrees", "kn": "knots", "s": "seconds", "arcmin": "arcminutes"}
+              "mmhg": "mmHg", "deg": "degrees", "kn": "knots", "s": "seconds", "arcmin": "arcminutes",
+              "nm": "nautical miles"}
 
 
 @dataclass(frozen=True)
@@ -79,15 +81,24 @@ COLUMNS: tuple[Column, ...] = (
            "Sun, Moon, Venus, Mars, Jupiter, Saturn or a navigational star (navred bodies)", required=True),
     Column("limb", ("limb",), "limb", "lower, upper or centre (LL, UL); Sun and Moon only"),
     Column("hs", ("hs", "sextant_altitude", "sextant_alt", "sextant_reading"), "altitude",
-           "the sextant altitude as read: decimal degrees or DD MM.m", units=("deg",), default_unit="deg",
-           low=0.0, high=90.0, required=True),
+           "the sextant reading: decimal degrees or DD MM.m (0-90°; to 180° for an artificial horizon or a "
+           "back sight)", units=("deg",), default_unit="deg", low=0.0, high=180.0, required=True),
     Column("index_error", ("index_error", "ie"), "index_error",
            "index error as read, ON the arc positive: 1.4, -0.8, '1.4 on', '0.8 off'",
            units=("arcmin",), default_unit="arcmin", low=-30.0, high=30.0, default=0.0),
     Column("eye_height", ("eye_height", "height_of_eye", "hoe", "eye"), "number",
            "height of eye above the sea, in metres or feet (the header names which)",
            units=("m", "ft"), low=0.0, high=1000.0),
-    Column("horizon", ("horizon",), "horizon", "sea (the default) or artificial (no dip)", default="sea"),
+    Column("horizon", ("horizon",), "horizon",
+           "sea (the default), artificial (reflecting: the reading is twice the altitude), bubble, back (a back "
+           "sight) or waterline (dip short of the horizon)", default="sea"),
+    Column("waterline_distance", ("waterline_distance", "waterline", "distance_to_waterline", "shore_distance",
+                                  "dip_short_distance"), "number",
+           "for a waterline horizon: the distance to the waterline below the body, nautical miles",
+           units=("nm",), default_unit="nm", low=0.0, high=50.0),
+    Column("measured_dip", ("measured_dip", "dip_measured", "dip_meter"), "number",
+           "a dip meter's measurement, used instead of the dip formula (arcminutes)",
+           units=("arcmin",), default_unit="arcmin", low=0.0, high=60.0),
     Column("temperature", ("temperature", "temp", "air_temperature"), "number",
            "air temperature, for refraction, in °C or °F (the header names which)",
            units=("c", "f"), low=-50.0, high=60.0, default=10.0),
@@ -142,9 +153,18 @@ OUTPUT_SUFFIX = "(as read)"
 LIMBS = {"lower": "lower", "ll": "lower", "l": "lower", "lower_limb": "lower",
          "upper": "upper", "ul": "upper", "u": "upper", "upper_limb": "upper",
          "centre": "centre", "center": "centre", "c": "centre", "": ""}
-#: sea: the visible sea horizon (dip applies); artificial: a horizon with no dip.
-HORIZONS = {"sea": "sea", "natural": "sea", "visible": "sea", "": "sea",
-            "artificial": "artificial", "mercury": "artificial", "bubble": "artificial", "art": "artificial"}
+#: The horizons navred reduces, and the words that name them. sea: the visible sea horizon;
+#: artificial: a reflecting horizon (mercury, water, glass), read as twice the altitude; bubble: a
+#: bubble or other built-in horizon, on the body's centre; back: a back sight, measured over the
+#: zenith from the sea horizon behind; waterline: a waterline nearer than the sea horizon (a shore,
+#: a ship), its distance given.
+HORIZONS = {"sea": "sea", "natural": "sea", "visible": "sea", "": "sea", "nan": "sea", "none": "sea",
+            "artificial": "artificial", "mercury": "artificial", "reflecting": "artificial", "art": "artificial",
+            "water": "artificial", "glass": "artificial",
+            "bubble": "bubble", "built_in": "bubble", "builtin": "bubble",
+            "back": "back", "back_sight": "back", "backsight": "back",
+            "waterline": "waterline", "short": "waterline", "shore": "waterline", "dip_short": "waterline",
+            "short_of_horizon": "waterline"}
 
 #: Nautical time-zone letters and their zone descriptions (ZT + ZD = UTC): A-M (no J) are the
 #: zones east of Greenwich, −1 to −12; N-Y those west, +1 to +12; Z is zero (common practice).

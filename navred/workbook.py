@@ -95,20 +95,24 @@ def working_table(voyage) -> pd.DataFrame:
         "zone date": r.zone_date_used,
         "zone time": r.zone_time_corrected,
         "ZD (h)": [f"{z:+.0f}" if np.isfinite(z) else "" for z in zone],
-        "UTC": r.sight_utc.dt.strftime("%Y-%m-%d %H:%M:%S"),
+        "UTC": [_utc_cell(v) for v in r.sight_utc.dt.tz_convert(None).to_numpy()],
         "Greenwich date": r.greenwich_date,
         "Hs (° ′)": [_nav(v, "signed") for v in r.hs_deg],
         "Hs (deg)": r.hs_deg,
+        "horizon": r.horizon,
         "index error (′, on +)": r.index_error_arcmin,
         "height of eye (m)": r.eye_height_m,
         "temperature (°C)": r.temperature_c,
         "pressure (hPa)": r.pressure_hpa,
         "IC (′)": r.ic_arcmin,
+        "horizon (′)": r.horizon_arcmin,
         "dip (′)": r.dip_arcmin,
         "Ha (° ′)": [_nav(v, "signed") for v in r.ha_deg],
         "refraction (′)": r.refraction_arcmin,
         "SD (′)": r.sd_arcmin,
         "parallax (′)": r.parallax_arcmin,
+        "phase (′)": r.phase_arcmin,
+        "total correction (′)": (r.ho_deg - r.hs_deg) * 60.0,
         "Ho (° ′)": [_nav(v, "signed") for v in r.ho_deg],
         "Ho (deg)": r.ho_deg,
         "GHA (° ′)": [_nav(v, "angle") for v in r.gha_deg],
@@ -134,6 +138,11 @@ def working_table(voyage) -> pd.DataFrame:
                                  ("pressure_as_given", "pressure as given", "pressure (hPa)")):
         if (r[column] != "").any():
             table.insert(table.columns.get_loc(after), label, r[column].to_numpy())
+    for column, label, after in (("waterline_distance_nm", "waterline (nm)", "IC (′)"),
+                                 ("measured_dip_arcmin", "measured dip (′)", "IC (′)"),
+                                 ("phase_angle_deg", "phase angle (deg)", "phase (′)")):
+        if np.isfinite(r[column].to_numpy(dtype=float)).any():
+            table.insert(table.columns.get_loc(after), label, r[column].to_numpy(dtype=float))
     if not (r.time_given == "zone time").any() and not (r.watch_error_applied_s != 0).any():
         table = table.drop(columns=["watch error (s, fast +)", "zone date", "zone time", "ZD (h)"])
     # the log's own extra columns (a cadet's note, a sight number...) ride along at the end
@@ -156,7 +165,8 @@ def fixes_table(voyage) -> pd.DataFrame:
         outliers = ", ".join(labels[group.rows[i]] for i in np.flatnonzero(fix.outlier))
         rows.append({
             "fix group": group.name,
-            "UTC": str(fix.utc)[:19].replace("T", " "),
+            "UTC": _utc_cell(fix.utc),
+            "kind": fix.kind if fix.is_fix else f"{fix.kind} (not a fix)",
             "latitude (° ′)": format_angle(fix.lat_deg, "lat"),
             "longitude (° ′)": format_angle(fix.lon_deg, "lon"),
             "latitude (deg)": fix.lat_deg,
@@ -167,7 +177,14 @@ def fixes_table(voyage) -> pd.DataFrame:
             "standard error (nm)": fix.standard_error_nm,
             "95 % semi-major (nm)": fix.ellipse_semi_major_nm,
             "95 % semi-minor (nm)": fix.ellipse_semi_minor_nm,
-            "major axis (deg true)": fix.ellipse_orientation_deg,
+            "major axis (deg true)": fix.ellipse_orientation_deg if fix.is_fix else None,
+            "lines cross at (deg)": fix.spread_deg,
+            "ellipse scaled by": f"{fix.quantile} quantile" + (", DR error over the run included"
+                                                               if fix.dr_error_included else ""),
+            "line bearing (deg true)": fix.line_bearing_deg,
+            "line from DR (nm)": fix.line_offset_nm,
+            "noon curve latitude (° ′)": (format_angle(fix.noon_curve_latitude_deg, "lat")
+                                          if fix.noon_curve_latitude_deg is not None else ""),
             "flagged sights": outliers,
             "fix without flagged (° ′)": (f"{format_angle(fix.without_outliers.lat_deg, 'lat')} "
                                           f"{format_angle(fix.without_outliers.lon_deg, 'lon')}"
@@ -195,6 +212,14 @@ def rejected_table(voyage) -> pd.DataFrame:
     if _several(voyage):
         out.insert(0, "source file", [Path(s).name for s in rejected["source"]])
     return out
+
+
+def _utc_cell(value):
+    """An instant as a spreadsheet date-time cell (naive UTC, to the second as the sheet shows it)."""
+    import datetime as dt
+
+    stamp = np.datetime64(value, "us")
+    return None if np.isnat(stamp) else stamp.astype(dt.datetime)
 
 
 def _cell_value(value):
@@ -225,33 +250,68 @@ def _add_figure(sheet, figure, anchor: str, width: int, height: int) -> None:
     sheet.add_image(image, anchor)
 
 
-def _write_sheet(sheet, frame: pd.DataFrame, *, wide: dict[str, int] | None = None, flag_column: str | None = None):
+#: How a column displays its numbers, by the unit in its header: to 0.1′ for arcminutes, to 0.0001°
+#: (0.006′) for decimal degrees, while the cell keeps full precision.
+_NUMBER_FORMATS = (("(′", "0.0"), ("(deg", "0.0000"), ("(nm)", "0.0"), ("(s", "0.000"), ("(m)", "0.00"),
+                   ("(°c)", "0.0"), ("(hpa)", "0.0"), ("(kn)", "0.0"), ("(h)", "0"))
+DATE_TIME_FORMAT = "yyyy-mm-dd hh:mm:ss"
+
+
+def _number_format(name: str) -> str | None:
+    lower = str(name).lower()
+    return next((form for unit, form in _NUMBER_FORMATS if unit in lower), None)
+
+
+def header_row(sheet, row: int, names, *, height: float = 32) -> None:
+    """Write a row of headers in the workbook's own style (white on navy, wrapped)."""
     from openpyxl.styles import Alignment, Font, PatternFill
 
-    header_font = Font(bold=True, color="FFFFFF")
-    header_fill = PatternFill("solid", fgColor=_HEADER_FILL)
-    sheet.append(list(frame.columns))
-    for cell in sheet[1]:
-        cell.font, cell.fill = header_font, header_fill
+    font = Font(bold=True, color="FFFFFF")
+    fill = PatternFill("solid", fgColor=_HEADER_FILL)
+    for column, name in enumerate(names, start=1):
+        cell = sheet.cell(row=row, column=column, value=str(name))
+        cell.font, cell.fill = font, fill
         cell.alignment = Alignment(wrap_text=True, vertical="center")
+    sheet.row_dimensions[row].height = height
+
+
+def write_text_safe(cell, value) -> None:
+    """Store a value; text is always stored as text, never as a formula (a log's '=…' stays words)."""
+    cell.value = value
+    if isinstance(value, str) and cell.data_type == "f":
+        cell.data_type = "s"
+
+
+def _write_sheet(sheet, frame: pd.DataFrame, *, wide: dict[str, int] | None = None, flag_column: str | None = None,
+                 first_row: int = 1):
+    """A table as a sheet: styled headers, frozen, numbers shown to their unit's precision, text as text."""
+    from openpyxl.styles import PatternFill
+
+    header_row(sheet, first_row, frame.columns)
     flag_fill = PatternFill("solid", fgColor=_FLAG_FILL)
     flag_index = list(frame.columns).index(flag_column) if flag_column in frame.columns else None
-    for values in frame.itertuples(index=False):
-        row = [_cell_value(v) for v in values]
-        sheet.append(row)
-        if flag_index is not None and "BLUNDER" in str(row[flag_index]):
-            for cell in sheet[sheet.max_row]:
+    formats = [_number_format(name) for name in frame.columns]
+    for offset, values in enumerate(frame.itertuples(index=False), start=1):
+        row = first_row + offset
+        flagged = flag_index is not None and "BLUNDER" in str(values[flag_index])
+        for column, value in enumerate(values, start=1):
+            cell = sheet.cell(row=row, column=column)
+            write_text_safe(cell, _cell_value(value))
+            if isinstance(cell.value, float) and formats[column - 1]:
+                cell.number_format = formats[column - 1]
+            elif hasattr(cell.value, "hour") and hasattr(cell.value, "year"):
+                cell.number_format = DATE_TIME_FORMAT
+            if flagged:
                 cell.fill = flag_fill
-    sheet.freeze_panes = "A2"
-    sheet.row_dimensions[1].height = 32
+    if first_row == 1:
+        sheet.freeze_panes = "A2"
     for index, name in enumerate(frame.columns, start=1):
-        letter = sheet.cell(row=1, column=index).column_letter
+        letter = sheet.cell(row=first_row, column=index).column_letter
         sample = [len(str(name)) * 0.6] + [len(str(v)) for v in frame[name].head(200)]
         width = (wide or {}).get(name) or min(max(sample) + 2, 60)
+        if formats[index - 1]:
+            width = min(width, 12)
         sheet.column_dimensions[letter].width = max(width, 8)
-        for cell in sheet[letter][1:]:
-            if isinstance(cell.value, float):
-                cell.number_format = "0.000" if "deg" in str(name) else "0.00"
 
 
 def _front_sheet(book, title: str, heading: str):
@@ -370,12 +430,8 @@ def _write_training_sheet(sheet, report, plots: bool) -> None:
         sheet.cell(row=line, column=1, value=title).font = Font(bold=True)
         line += 1
         if len(frame):
-            for k, name in enumerate(frame.columns, start=1):
-                sheet.cell(row=line, column=k, value=str(name)).font = Font(bold=True)
-            for values in frame.itertuples(index=False):
-                line += 1
-                for k, value in enumerate(values, start=1):
-                    sheet.cell(row=line, column=k, value=_cell_value(value))
+            _write_sheet(sheet, frame, first_row=line)
+            line += len(frame)
         line += 3
     for k in range(1, 16):
         sheet.column_dimensions[sheet.cell(row=1, column=k).column_letter].width = 16

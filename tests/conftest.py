@@ -100,14 +100,16 @@ def sky_target(ts, eph, name):
 
 
 def skyfield_sight(ts, eph, name, utc, lat_deg, lon_deg, *, limb="", eye_height_m=3.0,
-                   index_error_arcmin=0.0, temperature_c=10.0, pressure_hpa=1010.0, noise_arcmin=0.0):
+                   index_error_arcmin=0.0, temperature_c=10.0, pressure_hpa=1010.0, noise_arcmin=0.0,
+                   horizon="sea", waterline_nm=float("nan")):
     """One sextant altitude made by skyfield, independent of navred, at a true position.
 
     The true topocentric airless altitude and azimuth of the body's centre (skyfield), the
-    limb from skyfield's topocentric distance and the body's radius, refraction by
-    skyfield's own refract(), dip 1.76′ √h (the almanac's dip-table coefficient, from
-    memory), the index error as read, and optional noise. Returns a dict of sight-log
-    columns plus true_alt_deg and true_az_deg.
+    limb from skyfield's topocentric distance and the body's radius (for Venus and Mars the
+    centre of light, :func:`centre_of_light_offset_arcmin`), refraction by skyfield's own
+    refract(), the reading of the chosen horizon (:func:`horizon_reading_deg`), the index error
+    as read, and optional noise. Returns a dict of sight-log columns plus true_alt_deg and
+    true_az_deg.
     """
     from skyfield.api import wgs84
     from skyfield.earthlib import refract
@@ -119,12 +121,74 @@ def skyfield_sight(ts, eph, name, utc, lat_deg, lon_deg, *, limb="", eye_height_
     radius = {"Sun": 695700.0, "Moon": 1737.4}.get(name)
     sd_deg = float(np.degrees(np.arcsin(radius / distance.km))) if radius else 0.0
     limb_alt = alt.degrees + {"upper": sd_deg, "lower": -sd_deg}.get(limb, 0.0)
+    if name in ("Venus", "Mars"):
+        # the observer brings the centre of light to the horizon, not the centre of the disc
+        limb_alt += centre_of_light_offset_arcmin(eph, name, t, lat_deg, lon_deg) / 60.0
     apparent = float(refract(limb_alt, temperature_c, pressure_hpa))
-    hs = apparent + (1.76 * np.sqrt(eye_height_m) + index_error_arcmin + noise_arcmin) / 60.0
+    reading = horizon_reading_deg(apparent, horizon, eye_height_m, waterline_nm)
+    hs = reading + (index_error_arcmin + noise_arcmin) / 60.0
     return {"utc": when, "body": name, "limb": limb, "hs": hs, "index_error_arcmin": index_error_arcmin,
             "eye_height_m": eye_height_m, "temperature_c": temperature_c, "pressure_hpa": pressure_hpa,
+            "horizon": horizon, "waterline_distance_nm": waterline_nm,
             "dr_lat": lat_deg, "dr_lon": lon_deg, "dut1_s": float(t.dut1),
             "true_alt_deg": float(alt.degrees), "true_az_deg": float(az.degrees)}
+
+
+def horizon_reading_deg(apparent_deg, horizon="sea", eye_height_m=3.0, waterline_nm=float("nan")):
+    """The sextant reading (without index error) of a body at an apparent altitude, for each horizon.
+
+    sea: the altitude plus the dip 1.76′ √h (the almanac's dip-table coefficient, from memory);
+    artificial: the angle between the body and its reflection, twice the altitude; bubble: the
+    altitude; back: over the zenith to the sea horizon behind, 180° − h + dip; waterline: the
+    altitude plus the dip of the waterline, tan Ds = h/(1852 d) + d/8268 (Bowditch's table of dip
+    short of the horizon, from memory). The geometry of each is in the navigation manuals (common
+    practice).
+    """
+    dip = 1.76 * np.sqrt(eye_height_m) / 60.0
+    if horizon == "artificial":
+        return 2.0 * apparent_deg
+    if horizon == "bubble":
+        return apparent_deg
+    if horizon == "back":
+        return 180.0 - apparent_deg + dip
+    if horizon == "waterline":
+        return apparent_deg + np.degrees(np.arctan(eye_height_m / (1852.0 * waterline_nm) + waterline_nm / 8268.0))
+    return apparent_deg + dip
+
+
+def centre_of_light_offset_arcmin(eph, name, t, lat_deg, lon_deg, grid=301):
+    """How far (arcminutes, up positive) a planet's centre of light stands above its centre, independently.
+
+    From skyfield's topocentric geometry of the planet and the Sun: the visible disc sampled on a
+    grid, each point lit where its surface normal faces the Sun, uniform brightness; the vertical
+    offset of the lit points' centroid times the apparent radius. No navred code.
+    """
+    from skyfield.api import wgs84
+
+    observer = (eph["earth"] + wgs84.latlon(lat_deg, lon_deg)).at(t)
+    radius_km = {"Venus": 6051.8, "Mars": 3389.5}[name]  # IAU mean radii (from memory)
+
+    def enu(target):
+        alt, az, distance = observer.observe(eph[target]).apparent().altaz()
+        h, z = alt.radians, az.radians
+        return distance.km * np.array([np.cos(h) * np.sin(z), np.cos(h) * np.cos(z), np.sin(h)])
+
+    planet = enu({"Venus": "venus", "Mars": "mars"}[name])
+    sun = enu("sun")
+    toward = planet / np.linalg.norm(planet)
+    up = np.array([0.0, 0.0, 1.0]) - toward[2] * toward
+    up /= np.linalg.norm(up)
+    right = np.cross(toward, up)
+    to_sun = (sun - planet) / np.linalg.norm(sun - planet)
+    x, y = np.meshgrid(np.linspace(-1, 1, grid), np.linspace(-1, 1, grid))
+    inside = x**2 + y**2 <= 1.0
+    depth = np.sqrt(np.clip(1.0 - x**2 - y**2, 0.0, None))
+    normal = x[..., None] * right + y[..., None] * up - depth[..., None] * toward
+    lit = inside & (normal @ to_sun > 0)
+    if not lit.any():
+        return 0.0
+    angular_radius_arcmin = np.degrees(np.arcsin(radius_km / np.linalg.norm(planet))) * 60.0
+    return float(y[lit].mean() * angular_radius_arcmin)
 
 
 def pd_timestamp(utc):

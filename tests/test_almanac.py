@@ -16,7 +16,13 @@ from navred.almanac import (
     nutation_rad,
     places,
 )
-from navred.constants import EARTH_EQUATORIAL_RADIUS_KM, MOON_RADIUS_KM, SUN_RADIUS_KM
+from navred.constants import (
+    EARTH_EQUATORIAL_RADIUS_KM,
+    MARS_RADIUS_KM,
+    MOON_RADIUS_KM,
+    SUN_RADIUS_KM,
+    VENUS_RADIUS_KM,
+)
 from navred.errors import BodyNameError, NavredError, TimeInputError
 from navred.frames import body_positions
 from navred.stars import star_table
@@ -56,7 +62,8 @@ def test_against_skyfield_for_every_body(ts, eph, sky_bodies):
         if name in SOLAR:
             sky_hp = np.degrees(np.arcsin(EARTH_EQUATORIAL_RADIUS_KM / distance.km)) / ARCMIN
             assert np.abs(ours.hp_arcmin - sky_hp).max() < 0.01, name
-            radius = {"Sun": SUN_RADIUS_KM, "Moon": MOON_RADIUS_KM}.get(name)
+            radius = {"Sun": SUN_RADIUS_KM, "Moon": MOON_RADIUS_KM, "Venus": VENUS_RADIUS_KM,
+                      "Mars": MARS_RADIUS_KM}.get(name)
             if radius:
                 sky_sd = np.degrees(np.arcsin(radius / distance.km)) / ARCMIN
                 assert np.abs(ours.sd_arcmin - sky_sd).max() < 0.01, name

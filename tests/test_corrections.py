@@ -11,6 +11,8 @@ from navred.corrections import (
     correct_altitudes,
     dip_arcmin,
     dip_arcmin_from_feet,
+    dip_short_of_horizon_arcmin,
+    horizon_distance_nm,
     index_correction_arcmin,
     moon_augmentation,
     parallax_in_altitude_arcmin,
@@ -74,11 +76,25 @@ def test_dip_formula_and_rule_of_thumb():
     feet = heights_m / 0.3048
     assert np.allclose(dip_arcmin(heights_m), np.sqrt(feet), rtol=0.04)
     assert np.allclose(dip_arcmin_from_feet(feet), dip_arcmin(heights_m), rtol=0.01)
-    assert float(dip_arcmin(10.0, "artificial")) == 0.0
+    assert float(dip_arcmin(10.0, "artificial")) == 0.0 and float(dip_arcmin(10.0, "bubble")) == 0.0
+    assert float(dip_arcmin(10.0, "back")) == float(dip_arcmin(10.0))  # the horizon behind is as low
     with pytest.raises(SightInputError, match="0-1000 m"):
         dip_arcmin(-2.0)
-    with pytest.raises(SightInputError, match="'sea' or 'artificial'"):
+    with pytest.raises(SightInputError, match="sea, artificial, bubble, back, waterline"):
         dip_arcmin(2.0, "cloud")
+
+
+def test_dip_short_of_the_horizon():
+    # Bowditch's table of dip of the sea short of the horizon, tan Ds = h/(6076.1 d) + d/8268 with h in
+    # feet (from memory): 35 ft at 1 nm gives about 20′ (tabulated 20.6′), 10 ft at 0.5 nm about 11.5′
+    feet, miles = np.array([35.0, 10.0, 100.0]), np.array([1.0, 0.5, 2.0])
+    published = np.degrees(np.arctan(feet / (6076.1 * miles) + miles / 8268.0)) * 60
+    assert np.allclose(dip_short_of_horizon_arcmin(feet * 0.3048, miles), published, rtol=1e-4)
+    assert published[1] == pytest.approx(11.5, abs=0.2)
+    # near the visible horizon (2.07 √h nm) the waterline's dip tends to the sea horizon's (within 10 %)
+    height = 9.0
+    far = horizon_distance_nm(height) * 0.999
+    assert float(dip_short_of_horizon_arcmin(height, far)) == pytest.approx(float(dip_arcmin(height)), rel=0.1)
 
 
 def test_index_error_on_and_off_the_arc():
@@ -122,14 +138,17 @@ def test_moon_augmentation_and_parallax_against_the_spherical_formulas():
 def test_the_chain_returns_every_line():
     result = correct_altitudes(np.array([30.0, 0.5, 95.0]), index_error_arcmin=2.0, eye_height_m=4.0,
                                limb="lower", sd_arcmin=16.0, hp_arcmin=0.15)
+    # every correction is signed and added: Hs + IC + dip = Ha, Ha + R + SD + PA = Ho
     assert result.ic_arcmin[0] == -2.0
-    assert result.dip_arcmin[0] == pytest.approx(1.76 * 2.0)
+    assert result.dip_arcmin[0] == pytest.approx(-1.76 * 2.0)
+    assert result.refraction_arcmin[0] < 0 and result.sd_arcmin[0] == 16.0 and result.parallax_arcmin[0] > 0
     assert result.ha_deg[0] == pytest.approx(30.0 + (-2.0 - 3.52) / 60)
-    expected = (result.ha_deg[0] - result.refraction_arcmin[0] / 60 + 16.0 / 60
-                + result.parallax_arcmin[0] / 60)
-    assert result.ho_deg[0] == pytest.approx(expected)
+    total = (result.ic_arcmin + result.horizon_arcmin + result.dip_arcmin + result.refraction_arcmin
+             + result.sd_arcmin + result.parallax_arcmin + result.phase_arcmin)
+    assert result.ho_deg[0] == pytest.approx(30.0 + total[0] / 60, abs=1e-12)
     assert "low sight" in result.warning[1]
-    assert "outside 0-90" in result.error[2] and np.isnan(result.ho_deg[2])
+    assert "outside the readings" in result.error[2] and np.isnan(result.ho_deg[2])
+    assert result.error_column[2] == "hs"
     with pytest.raises(SightInputError, match=r"indices 2"):
         result.raise_errors()
 

@@ -197,8 +197,8 @@ def test_geometry_warnings(ts, eph):
     two = fix_position(reduce_sights(star_sights(ts, eph, ["Vega", "Antares"])), at_utc=TWILIGHT)
     assert any("no redundancy" in w and "no check on a blunder" in w for w in two.warnings)
     assert "assumed" in two.sigma_source
-    # three bodies low in the east, azimuths 85°-95° from the DR: the lines cross at 10°, a weak
-    # fix whose ellipse is long across the lines (common practice)
+    # three bodies low in the east, azimuths 85°-95° from the DR: the lines cross at 10° at most,
+    # below 15°: not a fix but a line of position, with its distance from the DR (common practice)
     from navred.triangle import computed_altitude_azimuth
 
     dec = np.array([5.0, 0.0, -5.0])
@@ -207,14 +207,23 @@ def test_geometry_warnings(ts, eph):
     frame = pd.DataFrame({"gha_deg": 290.0, "dec_deg": dec, "ho_deg": hc + np.array([0.5, -0.3, 0.2]) / 60,
                           "sight_utc": pd.to_datetime(["2024-01-01T00:00Z"] * 3),
                           "dr_lat_deg": 0.1, "dr_lon_deg": 0.1, "status": "ok"})
-    weak = fix_position(frame)
-    assert any("weak fix" in w for w in weak.warnings)
-    assert weak.ellipse_semi_major_nm > 5 * weak.ellipse_semi_minor_nm
+    line = fix_position(frame)
+    assert line.kind == "line of position" and not line.is_fix
+    assert np.isinf(line.ellipse_semi_major_nm) and line.ellipse_semi_minor_nm < 2.0
+    assert any("not a fix" in w for w in line.warnings)
+    # the line passes through the truth (0°, 0°) within its band, and the DR is off it by the intercept
+    assert abs(line.distance_off_line_nm(0.0, 0.0)) <= line.ellipse_semi_minor_nm
+    # azimuths 75°-97°: the lines cross at 22°, a weak fix whose ellipse is long across the lines
+    dec = np.array([15.0, 0.0, -7.0])
+    hc, zn = computed_altitude_azimuth(0.0, 0.0, 290.0, dec)
+    assert 15 < np.ptp(zn) < 30
+    weak = fix_position(frame.assign(dec_deg=dec, ho_deg=hc + np.array([0.5, -0.3, 0.2]) / 60))
+    assert weak.is_fix and any("weak fix" in w for w in weak.warnings)
+    assert weak.ellipse_semi_major_nm > 3 * weak.ellipse_semi_minor_nm
     parallel = frame.copy()
     parallel["gha_deg"] = [100.0, 100.0, 280.0]
     parallel["dec_deg"] = [20.0, 30.0, 25.0]
-    with pytest.raises(NavredError, match="parallel"):
-        fix_position(parallel.assign(dr_lat_deg=0.0, dr_lon_deg=-100.0))
+    assert fix_position(parallel.assign(dr_lat_deg=0.0, dr_lon_deg=-100.0)).kind != "fix"
 
 
 def test_high_sights_and_a_far_dr_still_converge(ts, eph):

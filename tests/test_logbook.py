@@ -38,7 +38,7 @@ def reasons(log, row):
     ("2026-03-26 19:41:00,Sirius,,30 02.4,0,2.8,43 14 N,13 04 W,x", "utc", "no time zone"),
     ("yesterday,Sirius,,30 02.4,0,2.8,43 14 N,13 04 W,x", "utc", "cannot read"),
     ("2026-03-26T19:41:00Z,Sirus,,30 02.4,0,2.8,43 14 N,13 04 W,x", "body", "closest: Sirius"),
-    ("2026-03-26T19:41:00Z,Sirius,,95 00.0,0,2.8,43 14 N,13 04 W,x", "hs", "outside 0 to 90"),
+    ("2026-03-26T19:41:00Z,Sirius,,95 00.0,0,2.8,43 14 N,13 04 W,x", "hs", "outside 0-90° for a sea horizon"),
     ("2026-03-26T19:41:00Z,Sirius,,30 72.0,0,2.8,43 14 N,13 04 W,x", "hs", "below 60"),
     ("2026-03-26T19:41:00Z,Sirius,,30 02.4,0,2.8,93 14 N,13 04 W,x", "dr_lat", "outside -90 to 90"),
     ("2026-03-26T19:41:00Z,Sirius,,30 02.4,0,2.8,43 14 N,13 04 N,x", "dr_lon", "N is a hemisphere of a latitude"),

@@ -48,8 +48,8 @@ def test_sights_from_skyfield_reduce_to_zero_intercept_at_the_true_position(ts, 
     assert set(sights.body) >= set(SOLAR)
     assert np.abs(reduced.intercept_nm).max() < 0.1
     assert np.abs(angle_diff_deg(reduced.zn_deg, sights.true_az_deg)).max() < 0.1
-    # the topocentric altitude of the centre in the working (Ha − R ± SD) is skyfield's own
-    topocentric = reduced.ha_deg + (reduced.sd_arcmin - reduced.refraction_arcmin) / 60
+    # the topocentric altitude of the centre in the working (Ha + R + SD + phase, each signed) is skyfield's own
+    topocentric = reduced.ha_deg + (reduced.refraction_arcmin + reduced.sd_arcmin + reduced.phase_arcmin) / 60
     assert np.abs(topocentric - sights.true_alt_deg).max() * 60 < 0.1
     moon = reduced.body_name == "Moon"
     assert moon.sum() > 10  # the Moon's parallax and augmentation are exercised
@@ -70,7 +70,7 @@ def test_every_row_comes_back_in_order_with_status_and_message():
     assert reduced.status[0] == "warning" and "below the horizon" in reduced.message[0]
     assert "no time zone" in reduced.message[1]
     assert "closest: Sirius" in reduced.message[2]
-    assert "outside 0 to 90" in reduced.message[3]
+    assert "outside 0-90°" in reduced.message[3]
     assert set(RESULT_COLUMNS) <= set(reduced.columns)
     assert np.isfinite(reduced.ho_deg[0]) and np.isnan(reduced.ho_deg[1])
     assert reduced.intercept_direction[0] in ("TOWARD", "AWAY")
@@ -94,7 +94,7 @@ def test_defaults_and_warnings():
     assert "limb ignored" in reduced.message[1]
     assert reduced.dip_arcmin[1] == 0.0  # artificial horizon: no dip
     assert reduced.refraction_arcmin[0] == pytest.approx(
-        1.0 / np.tan(np.radians(reduced.ha_deg[0] + 7.31 / (reduced.ha_deg[0] + 4.4))))  # Bennett (1982)
+        -1.0 / np.tan(np.radians(reduced.ha_deg[0] + 7.31 / (reduced.ha_deg[0] + 4.4))))  # Bennett (1982), subtracted
 
 
 def test_high_sight_is_flagged():

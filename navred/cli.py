@@ -456,7 +456,13 @@ def plan_command(
     import pandas as pd
 
     from .angles import format_angle
-    from .plan import EVENT_KEYS, body_meridian_passage, sight_plans, twilight_plans
+    from .plan import (
+        EVENT_KEYS,
+        body_meridian_passage,
+        daytime_fix_windows,
+        sight_plans,
+        twilight_plans,
+    )
     from .timework import parse_date
 
     with _reported():
@@ -489,6 +495,16 @@ def plan_command(
             label = "Sight plan" if at is not None else f"Twilight {k + 1}"
             _print_plan(plan, label)
             typer.echo("")
+        windows = daytime_fix_windows(date, days, lat_deg, lon_deg, course_deg=course, speed_kn=speed,
+                                      min_alt_deg=min_alt, max_alt_deg=max_alt)
+        typer.echo("Daytime fixes: the Sun with the Moon or a bright planet, their lines crossing at 30° or more")
+        if not windows:
+            typer.echo("  none in these days")
+        for window in windows:
+            typer.echo(f"  Sun and {window.body:<8} {_time_text(window.start)} to {_time_text(window.end)[11:]} UTC; "
+                       f"best {_time_text(window.best)[11:16]}: crossing {window.crossing_deg:.0f}°, "
+                       f"Sun {window.sun_hc_deg:.0f}°, {window.body} {window.body_hc_deg:.0f}°")
+        typer.echo("")
         if csv_out:
             from pathlib import Path
 
@@ -533,9 +549,9 @@ def compass_command(
     from .angles import format_angle
     from .plan import (
         amplitude_deg,
+        compass_check,
         compass_error_deg,
         deviation_deg,
-        true_azimuth,
         visible_horizon_altitude_deg,
     )
     from .stars import canonical_body_name
@@ -545,8 +561,7 @@ def compass_command(
         lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
         variation = _angle_option(variation_text, "variation", "--variation")
         name = canonical_body_name(body)
-        zn, hc = true_azimuth(name, utc, lat_deg, lon_deg)
-        zn, hc = float(zn[0] if np.ndim(zn) else zn), float(hc[0] if np.ndim(hc) else hc)
+        zn, hc = compass_check(name, utc, lat_deg, lon_deg)
         typer.echo(f"{name} at {utc}: true azimuth Zn {zn:05.1f}°, altitude {format_angle(hc, 'signed')}")
         dec = float(np.ravel(places(name, utc).dec_deg)[0])
         for label, altitude in (("true horizon", 0.0), ("visible horizon", float(visible_horizon_altitude_deg(eye)))):

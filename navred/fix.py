@@ -672,7 +672,8 @@ def _as_line(result: FixResult, rows, dec, hours, ho, gha) -> None:
     """For a latitude: the noon-curve latitude too, when the series straddles meridian passage."""
     if result.kind != LATITUDE or rows.size < 3:
         return
-    bearing = "S" if 90.0 < (result.line_toward_deg or 0.0) < 270.0 else "N"
+    zn = np.radians(result.lop_zn_deg[rows])
+    bearing = "S" if np.cos(zn).sum() < 0 else "N"  # where the body bears on the meridian
     latitude = latitude_from_noon_curve(hours, ho, np.mean(dec), bearing)
     if latitude is not None:
         result.noon_curve_latitude_deg = latitude

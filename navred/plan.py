@@ -218,6 +218,14 @@ _PLANET_MAGNITUDE = {"Venus": (-4.40, 0.0009, 0.000239, -0.00000065), "Mars": (-
                      "Jupiter": (-9.40, 0.005, 0.0, 0.0), "Saturn": (-8.88, 0.0, 0.0, 0.0)}
 MOON_MAGNITUDE = -11.0  # a rough figure for ranking (common practice: -12.7 full, about -10 at quarter)
 SUN_MAGNITUDE = -26.7
+#: A planet this bright or brighter can be found in daylight with a preset sextant (common practice;
+#: from memory): Venus always, Jupiter and Mars near opposition.
+DAYLIGHT_MAGNITUDE = -2.0
+#: Two lines of position crossing at less than this make a weak fix (common practice).
+DAY_CROSSING_DEG = 30.0
+#: The lowest true altitude at which a body's centre can still be seen on the horizon, degrees: the
+#: refraction at the horizon (34′) and the dip of a high bridge (about 6′) (common practice).
+LOWEST_VISIBLE_DEG = -1.0
 
 
 def magnitudes(bodies: ArrayLike, utc64: object) -> np.ndarray:
@@ -337,7 +345,7 @@ def sight_plans(utc64: object, lat_deg: ArrayLike, lon_deg: ArrayLike, *, min_al
     when = np.atleast_1d(np.asarray(utc64, dtype="datetime64[ns]"))
     lat = np.broadcast_to(np.asarray(lat_deg, dtype=float), when.shape)
     lon = np.broadcast_to(np.asarray(lon_deg, dtype=float), when.shape)
-    names = np.array([b for b in known_bodies() if b != "Sun"], dtype=object)
+    names = np.array(known_bodies(), dtype=object)
     n_plans, n_bodies = when.size, names.size
     grid_names = np.broadcast_to(names[None, :], (n_plans, n_bodies))
     grid_when = np.broadcast_to(when[:, None], (n_plans, n_bodies))
@@ -346,25 +354,48 @@ def sight_plans(utc64: object, lat_deg: ArrayLike, lon_deg: ArrayLike, *, min_al
     hc, zn = hc.reshape(n_plans, n_bodies), zn.reshape(n_plans, n_bodies)
     dec, ra = p.dec_deg.reshape(n_plans, n_bodies), p.ra_hours.reshape(n_plans, n_bodies)
     moon = int(np.flatnonzero(names == "Moon")[0])
+    sun = int(np.flatnonzero(names == "Sun")[0])
     moon_sep = _separation_deg(dec, ra, dec[:, [moon]], ra[:, [moon]])
     moon_sep[:, moon] = 0.0
     mag = magnitudes(grid_names.ravel(), grid_when.ravel()).reshape(n_plans, n_bodies)
-    in_limits = (hc >= min_alt_deg) & (hc <= max_alt_deg)
+    # by day (the Sun's centre above the horizon) no star is shown: only the Sun, the Moon and the
+    # planets bright enough to find in daylight with a preset sextant
+    day = hc[:, sun] > 0.0
+    daylight = np.isin(names, ["Sun", "Moon"]) | ((mag <= DAYLIGHT_MAGNITUDE) & np.isin(names, list(SOLAR_SYSTEM.values())))
+    shown = np.where(day[:, None], daylight, names[None, :] != "Sun")
+    in_limits = (hc >= min_alt_deg) & (hc <= max_alt_deg) & shown
     moon_up = hc[:, [moon]] > -1.0
     clear = (moon_sep >= moon_clear_deg) | ~moon_up
     clear[:, moon] = True
+    clear &= ~day[:, None]  # the twilight set is chosen at twilight; by day the pair is chosen below
     # candidate slots: the brightest bodies within the limits and clear of the Moon
     order = np.argsort(np.where(in_limits & clear, mag, np.inf), axis=1, kind="stable")[:, :max_candidates]
     slots_valid = np.take_along_axis(in_limits & clear, order, axis=1)
     plans = []
-    if slots_valid.sum(axis=1).min() >= count:
+    if slots_valid.sum(axis=1).max() >= count:
         chosen, dop, least = best_set(np.take_along_axis(zn, order, axis=1),
                                       np.take_along_axis(mag, order, axis=1), count, slots_valid)
     else:
         chosen = dop = least = None
+    partner, crossing = day_pairs(hc, zn, in_limits & day[:, None], names)
     for k in range(n_plans):
         visible = np.flatnonzero(in_limits[k])
         recommended = np.zeros(visible.size, dtype=bool)
+        if day[k]:
+            if partner[k] >= 0:
+                recommended = np.isin(visible, [sun, partner[k]])
+                explanation = (f"by day: the Sun and {names[partner[k]]}, whose lines cross at {crossing[k]:.0f}° "
+                               f"(the best crossing of the Sun with the Moon or a planet bright enough to see in "
+                               f"daylight, magnitude {DAYLIGHT_MAGNITUDE:g} or brighter); no star is shown while "
+                               "the Sun is up")
+            else:
+                explanation = (f"by day, and no body stands with the Sun between {min_alt_deg:g}° and "
+                               f"{max_alt_deg:g}° with their lines crossing at {DAY_CROSSING_DEG:g}° or more: "
+                               "a Sun line alone (see the daytime fix windows); no star is shown while the Sun is up")
+            plans.append(SightPlan(when[k], float(lat[k]), float(lon[k]), names[visible], hc[k, visible],
+                                   zn[k, visible], mag[k, visible], moon_sep[k, visible], recommended,
+                                   float("inf"), explanation))
+            continue
         if chosen is not None and np.isfinite(dop[k]):
             picked = order[k, chosen[k]]
             recommended = np.isin(visible, picked)
@@ -382,6 +413,78 @@ def sight_plans(utc64: object, lat_deg: ArrayLike, lon_deg: ArrayLike, *, min_al
                                zn[k, visible], mag[k, visible], moon_sep[k, visible], recommended,
                                float(dop[k]) if chosen is not None else float("inf"), explanation))
     return plans
+
+
+def day_pairs(hc_deg: np.ndarray, zn_deg: np.ndarray, valid: np.ndarray, names: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """For each plan (row), the body that crosses the Sun's line best, and the crossing angle (degrees).
+
+    The crossing angle of two lines of position is the difference of their azimuths folded into
+    0-90°; a pair is useful from :data:`DAY_CROSSING_DEG` (common practice: below 30° the fix is
+    weak). Returns the column of the partner (−1 for none) and the angle.
+    """
+    sun = int(np.flatnonzero(names == "Sun")[0])
+    difference = np.abs(wrap_180(zn_deg - zn_deg[:, [sun]]))
+    crossing = np.minimum(difference, 180.0 - difference)
+    ok = valid & valid[:, [sun]] & (names[None, :] != "Sun") & (crossing >= DAY_CROSSING_DEG)
+    score = np.where(ok, crossing, -1.0)
+    best = np.argmax(score, axis=1)
+    found = score[np.arange(score.shape[0]), best] >= 0
+    return np.where(found, best, -1), np.where(found, crossing[np.arange(score.shape[0]), best], np.nan)
+
+
+@dataclass
+class DayWindow:
+    """A stretch of daylight when the Sun and one other body give a fix."""
+
+    body: str
+    start: np.datetime64
+    end: np.datetime64
+    best: np.datetime64
+    crossing_deg: float  # at the best time
+    sun_hc_deg: float
+    body_hc_deg: float
+
+
+def daytime_fix_windows(first_date: object, days: int, lat_deg: float, lon_deg: float, *, course_deg: float = 0.0,
+                        speed_kn: float = 0.0, min_alt_deg: float = 15.0, max_alt_deg: float = 70.0,
+                        min_crossing_deg: float | None = None, step_minutes: float = 10.0) -> list[DayWindow]:
+    """When, over the coming days, the Sun and the Moon, Venus or a bright planet make a daytime fix.
+
+    Along the DR track, every ``step_minutes`` from 00:00 local time on ``first_date``: the Sun
+    and the body both between the altitude limits and their lines crossing at
+    ``min_crossing_deg`` (default :data:`DAY_CROSSING_DEG`) or more. Jupiter and Mars count only
+    when at magnitude :data:`DAYLIGHT_MAGNITUDE` or brighter. Vectorised over the time grid.
+    """
+    limit = DAY_CROSSING_DEG if min_crossing_deg is None else min_crossing_deg
+    _check_position(lat_deg, lon_deg)
+    start = _local_midnight(first_date, lon_deg)
+    step = np.timedelta64(int(step_minutes * 60e9), "ns")
+    grid = start + np.arange(int(days * 1440 / step_minutes) + 1) * step
+    track = Track(lat_deg, lon_deg, start, course_deg, speed_kn)
+    lat, lon = track.position(grid)
+    bodies = ["Moon", "Venus", "Jupiter", "Mars"]
+    names = np.array(["Sun"] + bodies, dtype=object)
+    grid_names = np.broadcast_to(names[None, :], (grid.size, names.size))
+    grid_when = np.broadcast_to(grid[:, None], grid_names.shape)
+    p = places(grid_names.ravel(), grid_when.ravel())
+    hc, zn = computed_altitude_azimuth(np.repeat(lat, names.size), np.repeat(lon, names.size), p.gha_deg, p.dec_deg)
+    hc, zn = hc.reshape(grid_names.shape), zn.reshape(grid_names.shape)
+    mag = magnitudes(grid_names.ravel(), grid_when.ravel()).reshape(grid_names.shape)
+    bright = np.isin(names, ["Sun", "Moon", "Venus"])[None, :] | (mag <= DAYLIGHT_MAGNITUDE)
+    up = (hc >= min_alt_deg) & (hc <= max_alt_deg) & bright
+    difference = np.abs(wrap_180(zn - zn[:, [0]]))
+    crossing = np.minimum(difference, 180.0 - difference)
+    good = up & up[:, [0]] & (crossing >= limit)
+    windows = []
+    for column, body in enumerate(bodies, start=1):
+        mask = good[:, column].astype(int)
+        edges = np.diff(np.concatenate([[0], mask, [0]]))
+        for first, after in zip(np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)):
+            part = slice(first, after)
+            best = first + int(np.argmax(crossing[part, column]))
+            windows.append(DayWindow(body, grid[first], grid[after - 1], grid[best], float(crossing[best, column]),
+                                     float(hc[best, 0]), float(hc[best, column])))
+    return sorted(windows, key=lambda w: w.start)
 
 
 def twilight_plans(first_date: object, days: int, lat_deg: float, lon_deg: float, *, course_deg: float = 0.0,
@@ -441,6 +544,21 @@ def true_azimuth(body: str, utc: object, lat_deg: ArrayLike, lon_deg: ArrayLike)
     """True azimuth Zn and computed altitude Hc (degrees) of a body at instants and positions."""
     p = places(body, utc)
     hc, zn = computed_altitude_azimuth(lat_deg, lon_deg, p.gha_deg, p.dec_deg)
+    return zn, hc
+
+
+def compass_check(body: str, utc: object, lat_deg: float, lon_deg: float) -> tuple[float, float]:
+    """The true azimuth Zn and altitude Hc (degrees) of a body whose bearing was taken, or refuse it.
+
+    A body below the horizon cannot have been seen: a bearing "of" it is of something else, or
+    the time or DR is wrong. Refused below :data:`LOWEST_VISIBLE_DEG`.
+    """
+    zn, hc = true_azimuth(body, utc, lat_deg, lon_deg)
+    zn, hc = float(np.ravel(zn)[0]), float(np.ravel(hc)[0])
+    if hc < LOWEST_VISIBLE_DEG:
+        raise NavredError(f"{body} is {abs(hc):.1f}° below the horizon at that time and position: it cannot have "
+                          "been seen, so its bearing cannot check the compass; check the time (UTC), the DR and "
+                          "the body")
     return zn, hc
 
 

@@ -40,10 +40,14 @@ def computed_altitude_azimuth(lat_deg: ArrayLike, lon_deg: ArrayLike, gha_deg: A
     lat = np.asarray(lat_deg, dtype=float)
     if np.any(np.abs(lat) > 90.0):
         raise AngleInputError(f"latitude must lie in -90 to 90°; refused: {failed_elements(np.abs(lat) > 90)}")
+    dec = np.asarray(dec_deg, dtype=float)
+    if np.any(np.abs(dec) > 90.0):
+        # a declination past a pole is not one (a sign or a unit slip): never fold it back into range
+        raise AngleInputError(f"declination must lie in -90 to 90°; refused: {failed_elements(np.abs(dec) > 90)}")
     # |φ| and |δ| are at most 90°, so their cosines are the non-negative square roots (one
     # sine each instead of a sine and a cosine: the trigonometric calls dominate the cost)
     sin_phi = np.sin(np.radians(lat))
-    sin_dec = np.sin(np.radians(np.asarray(dec_deg, dtype=float)))
+    sin_dec = np.sin(np.radians(dec))
     cos_phi = np.sqrt(np.maximum(1.0 - sin_phi * sin_phi, 0.0))
     cos_dec = np.sqrt(np.maximum(1.0 - sin_dec * sin_dec, 0.0))
     lha = np.radians(np.asarray(gha_deg, dtype=float) + np.asarray(lon_deg, dtype=float))

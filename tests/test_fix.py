@@ -287,3 +287,24 @@ def test_too_few_sights_is_an_error():
         fix_position(pd.DataFrame({"gha_deg": [1.0], "dec_deg": [1.0], "ho_deg": [1.0],
                                    "sight_utc": pd.to_datetime(["2024-01-01T00:00Z"]),
                                    "dr_lat_deg": [0.0], "dr_lon_deg": [0.0]}))
+
+
+def test_lines_of_position_are_tangent_to_their_circles_at_the_foot(ts, eph):
+    """At 85° N the azimuth changes fast across the plot: a line drawn across Zn at the DR is a mile off its
+    circle 10 nm out, the tangent at the foot is not. Reference: skyfield sights at the true position; the
+    circle of equal altitude is where the spherical formula gives Ho (the cosine formula, common practice)."""
+    from navred.triangle import computed_altitude_azimuth, destination
+
+    when = pd.Timestamp("2024-09-15T19:05:00Z")
+    rows = [skyfield_sight(ts, eph, name, when + pd.Timedelta(minutes=k), 85.0, 40.0)
+            for k, name in enumerate(["Vega", "Capella", "Dubhe", "Deneb"])]
+    frame = pd.DataFrame(rows).assign(dr_lat=85.1, dr_lon=41.5)  # a DR 9 nm off
+    reduced = reduce_sights(frame)
+    fix = fix_position(reduced, at_utc=when)
+    for i in range(len(frame)):
+        ends = [destination(fix.lop_foot_lat_deg[i], fix.lop_foot_lon_deg[i], fix.lop_tangent_deg[i] + side, 10.0)
+                for side in (0.0, 180.0)]
+        miss = [float(computed_altitude_azimuth(lat, lon, reduced.gha_deg[i], reduced.dec_deg[i])[0]
+                      - reduced.ho_deg[i]) * 60 for lat, lon in ends]
+        # a tangent leaves its circle by the same small amount both ways (the circle's curvature)
+        assert abs(miss[0] - miss[1]) < 0.01 and max(map(abs, miss)) < 0.05

@@ -252,3 +252,59 @@ def test_a_passage_is_planned_morning_and_evening():
     assert all(plan.recommended.sum() == 3 for plan in plans)
     times = [plan.utc for plan in plans]
     assert times == sorted(times)
+
+
+def test_no_star_is_recommended_while_the_sun_is_up(ts, eph):
+    """Reference: skyfield's topocentric altitude of the Sun. Over a year of random instants and places,
+    whenever the Sun stands above the horizon no star is in the plan, recommended or listed; by day the
+    recommended pair is the Sun and the Moon or a bright planet, their lines crossing at 30° or more."""
+    from skyfield.api import wgs84
+
+    from navred.plan import sight_plans
+    from navred.stars import star_table
+
+    rng = np.random.default_rng(365)
+    n = 120
+    when = np.datetime64("2026-01-01T00:00", "ns") + (rng.uniform(0, 365 * 86400, n) * 1e6).astype(int).astype("timedelta64[us]")
+    lat, lon = rng.uniform(-60, 60, n), rng.uniform(-180, 180, n)
+    plans = sight_plans(when, lat, lon)
+    stars = set(star_table().name)
+    t = ts.from_datetimes([pd.Timestamp(w, tz="UTC").to_pydatetime() for w in when])
+    sun_alt = np.array([(eph["earth"] + wgs84.latlon(la, lo)).at(t[k]).observe(eph["sun"]).apparent().altaz()[0].degrees
+                        for k, (la, lo) in enumerate(zip(lat, lon))])
+    day = sun_alt > 0.05  # clear of the small difference between a geocentric and a topocentric Sun
+    assert 30 < day.sum() < 90
+    for plan, up in zip(plans, day):
+        if up:
+            assert not (set(plan.body) & stars), plan.body
+            picked = set(plan.body[plan.recommended])
+            assert picked == set() or (len(picked) == 2 and "Sun" in picked)
+            if picked:
+                zn = plan.zn_deg[plan.recommended]
+                crossing = abs((zn[0] - zn[1] + 180) % 360 - 180)
+                assert min(crossing, 180 - crossing) >= 30
+    night = [p for p, up in zip(plans, day) if not up and sun_alt[plans.index(p)] < -0.05]
+    assert any(set(p.body) & stars for p in night)
+
+
+def test_daytime_fix_windows():
+    # the invented demo passage (sample_sights/README.md): Sun with the Moon, Venus or Jupiter by day
+    from navred.plan import daytime_fix_windows, sight_plans
+
+    windows = daytime_fix_windows("2026-03-26", 2, 44.5, -12.0, course_deg=215, speed_kn=6.5)
+    assert windows and {w.body for w in windows} <= {"Moon", "Venus", "Jupiter", "Mars"}
+    for window in windows:
+        assert window.start <= window.best <= window.end and window.crossing_deg >= 30
+        assert 15 <= window.sun_hc_deg <= 70 and 15 <= window.body_hc_deg <= 70
+        plan = sight_plans(np.array([window.best]), 44.5 - 0.0, -12.0)[0]  # the day plan sees the pair too
+        assert "Sun" in plan.body and window.body in plan.body
+
+
+def test_a_compass_check_refuses_a_body_below_the_horizon():
+    from navred.errors import NavredError
+    from navred.plan import compass_check
+
+    with pytest.raises(NavredError, match="below the horizon"):
+        compass_check("Sun", "2026-03-26T01:30:00Z", 43.3, -13.2)  # the middle of the night at 13° W
+    zn, hc = compass_check("Sun", "2026-03-26T17:30:00Z", 43.3, -13.2)
+    assert hc > 0 and 200 < zn < 300

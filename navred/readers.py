@@ -37,6 +37,7 @@ MAX_ZIP_RATIO = 200.0
 SEPARATORS = {",": "comma", ";": "semicolon", "\t": "tab"}
 _CONTROL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
 _NUL_STANDIN = "\ue000"  # a NUL byte while the CSV is split (the csv module refuses NUL itself)
+_CR_STANDIN = "\ue001"  # a carriage return alone inside a line, likewise
 
 
 class LogbookError(NavredError):
@@ -158,6 +159,12 @@ def _choose_separator(first_line: str) -> str:
 
 def _read_csv(path: Path, data: bytes) -> RawTable:
     text = _decode(data, path).replace("\x00", _NUL_STANDIN)
+    if "\r" in text:
+        if "\n" not in text:
+            text = text.replace("\r", "\n")  # the old line ends of some spreadsheet programs
+        else:
+            # a carriage return alone inside a line is a control character there: the row is refused alone
+            text = text.replace("\r\n", "\n").replace("\r", _CR_STANDIN)
     first, header_line = None, ""
     for index, line in enumerate(io.StringIO(text)):
         if line.strip().strip(",;\t"):
@@ -167,22 +174,32 @@ def _read_csv(path: Path, data: bytes) -> RawTable:
         raise LogbookError(f"{path} has no header row: a sight log needs one, naming its columns")
     separator = _choose_separator(header_line)
     csv.field_size_limit(MAX_CELL_CHARS * 4)
-    reader = csv.reader(io.StringIO(text), delimiter=separator)
-    records: list[list[str]] = []
     problems: dict[int, tuple[str, str]] = {}
     try:
-        for record in reader:
-            records.append(record)
-            if len(records) > MAX_ROWS + first + 1:
-                raise LogbookError(f"{path} has more than {MAX_ROWS:,} rows, the most navred reads from "
-                                   "one file: split it into several files and give them all")
+        records = _records(csv.reader(io.StringIO(text), delimiter=separator), path, first)
     except csv.Error as exc:
-        # an opening quote with no closing one swallows the rest of the file: keep what came before
-        problems[len(records) - first - 1] = ("", f"unreadable from here on ({exc}): an opening quote "
-                                                  "with no closing one? the rows after it are not read")
-        records.append([])
+        # the file cannot be split as one CSV (a cell larger than any cell can be, quotes that never
+        # close): read it line by line instead, so that no row is lost, and refuse the rows that fail
+        records = []
+        for line in io.StringIO(text):
+            try:
+                records.append(next(csv.reader([line], delimiter=separator), []))
+            except csv.Error as line_exc:
+                problems[len(records) - first - 1] = ("", f"this line cannot be read as CSV ({line_exc})")
+                records.append([])
+        del exc
     header = [h.strip() for h in records[first]] if first < len(records) else []
     return _table(str(path), header, records[first + 1:], first + 2, problems, separator)
+
+
+def _records(reader, path, first) -> list[list[str]]:
+    records: list[list[str]] = []
+    for record in reader:
+        records.append(record)
+        if len(records) > MAX_ROWS + first + 1:
+            raise LogbookError(f"{path} has more than {MAX_ROWS:,} rows, the most navred reads from "
+                               "one file: split it into several files and give them all")
+    return records
 
 
 def _table(source, header, records, first_row_number, problems, separator) -> RawTable:
@@ -228,15 +245,17 @@ def _check_width(source, header) -> None:
 
 def _shown(cell: str) -> str:
     """A cell's text made safe to show: control characters replaced, length bounded."""
-    return _CONTROL.sub("\ufffd", cell.replace(_NUL_STANDIN, "\ufffd"))[:MAX_CELL_CHARS]
+    return _CONTROL.sub("\ufffd", cell.replace(_NUL_STANDIN, "\ufffd").replace(_CR_STANDIN, "\ufffd"))[:MAX_CELL_CHARS]
 
 
-_BAD_TEXT = re.compile(f"[{_NUL_STANDIN}\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
+_BAD_TEXT = re.compile(f"[{_NUL_STANDIN}{_CR_STANDIN}\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
 
 
 def _text_problem(cell: str) -> str:
     if _NUL_STANDIN in cell or "\x00" in cell:
         return "the cell holds a NUL byte (a damaged or binary file?)"
+    if _CR_STANDIN in cell:
+        return "the cell holds a carriage return in the middle of a line (code 13); retype it"
     found = _CONTROL.search(cell)
     if found:
         return f"the cell holds a control character (code {ord(found.group())}); retype it"
@@ -247,15 +266,10 @@ def _finish(source, header, columns, numbers, problems, malformed, separator, em
     """Mark the rows whose text cells hold a NUL byte, a control character or too many characters
     (each such row is rejected alone), column by column; each distinct text is looked at once."""
     for k, column in enumerate(columns):
-        codes, uniques = _distinct_text(column)
-        if codes is None:
+        bad = _bad_text_rows(column)
+        if bad is None:
             continue
-        bad_unique = np.array([bool(_BAD_TEXT.search(u)) or len(u) > MAX_CELL_CHARS for u in uniques], dtype=bool)
-        if not bad_unique.any():
-            continue
-        bad = np.zeros(len(column), dtype=bool)
-        bad[codes >= 0] = bad_unique[codes[codes >= 0]]
-        for row in np.flatnonzero(bad):
+        for row in bad:
             if row in problems:
                 continue
             problems[int(row)] = (header[k], _text_problem(str(column.iloc[row])))
@@ -263,10 +277,25 @@ def _finish(source, header, columns, numbers, problems, malformed, separator, em
     if problems:
         rows = np.fromiter(problems, dtype=int)
         for k, column in enumerate(columns):
-            columns[k] = column.astype(object)
-            columns[k].iloc[rows] = None
+            cells = column.to_numpy(dtype=object, copy=True)
+            cells[rows] = None
+            columns[k] = pd.Series(cells, dtype=object)
     return RawTable(source, header, columns, numbers, problems, separator, separator in (";", "\t"), empty,
                     malformed)
+
+
+def _bad_text_rows(column: pd.Series):
+    """The rows whose text holds a NUL, a control character or too many characters; None when none do.
+
+    The distinct texts are joined and searched at once; rows are looked for only when one is bad."""
+    if not len(column) or not (column.dtype == object or pd.api.types.is_string_dtype(column.dtype)):
+        return None
+    cells = column.to_numpy(dtype=object)
+    texts = list({u for u in cells.tolist() if isinstance(u, str)})
+    if not texts or (not _BAD_TEXT.search("\n".join(texts)) and max(map(len, texts)) <= MAX_CELL_CHARS):
+        return None
+    bad = {u for u in texts if _BAD_TEXT.search(u) or len(u) > MAX_CELL_CHARS}
+    return np.flatnonzero([isinstance(v, str) and v in bad for v in cells])
 
 
 def _distinct_text(column: pd.Series):

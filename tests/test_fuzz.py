@@ -1,0 +1,161 @@
+"""Fuzzing the log reader (hypothesis, seeded and bounded): every row of a mutated log is accepted or
+rejected with a reason naming its row and column, a good row reads the same beside bad rows, and
+nothing but a one-line refusal ever comes out of a file that is not a log."""
+
+from __future__ import annotations
+
+import csv
+import io
+
+import numpy as np
+import pandas as pd
+from hypothesis import HealthCheck, Phase, given, settings
+from hypothesis import strategies as st
+
+from navred.logbook import LogbookError, read_sight_log
+from navred.readers import SEPARATORS
+
+DEMO = "sample_sights/demo_sights.csv"
+#: the seeded runs stop at the first failure they generate (shrinking big batches would take minutes)
+_NO_SHRINK = (Phase.explicit, Phase.reuse, Phase.generate)
+with open(DEMO, encoding="utf-8") as handle:
+    BASE = list(csv.reader(handle))
+HEADER, ROWS = BASE[0], BASE[1:]
+CLEAN = read_sight_log(DEMO).sights.set_index("row")
+CHECKED = ["sight_utc", "body_name", "hs_deg", "index_error_arcmin", "eye_height_m", "dr_lat_deg", "dr_lon_deg",
+           "course_deg", "speed_kn", "fix_group"]
+
+# what a hostile or a careless cell may hold: control characters, NUL, quotes and separators, look-alike
+# signs, numbers that are not numbers, formulas, another script
+_ALPHABET = st.characters(codec="utf-8", exclude_categories=("Cs",)) | st.sampled_from(
+    list("\x00\x01\x07\x1b\x7f\t\r\n\"',;°′″−–NSEW.-+=@ 0123456789"))
+_CELLS = st.text(alphabet=_ALPHABET, max_size=16) | st.sampled_from(
+    ["", " ", "nan", "inf", "-inf", "1e309", "-0", "=1+1", "+3", "05/03/2026", "44 30", "013 03.7 S",
+     "43 -14.1 N", "2026-02-30T10:00Z", "2026-03-26T19:41:00+25:00", "NaN", "TRUE", "x" * 40000])
+_EDITS = st.one_of(
+    st.tuples(st.just("cell"), st.integers(0, len(ROWS) - 1), st.integers(0, len(HEADER) - 1), _CELLS),
+    st.tuples(st.just("drop_field"), st.integers(0, len(ROWS) - 1)),
+    st.tuples(st.just("add_field"), st.integers(0, len(ROWS) - 1), _CELLS),
+    st.tuples(st.just("blank_row"), st.integers(0, len(ROWS))),
+    st.tuples(st.just("duplicate"), st.integers(0, len(ROWS) - 1)),
+)
+_LOG = st.lists(_EDITS, min_size=1, max_size=4)
+
+
+def mutated(edits):
+    """The mutated log's records, and for each original row its new spreadsheet row number (None when edited)."""
+    rows = [list(r) for r in ROWS]
+    touched = set()
+    for edit in edits:
+        kind, row = edit[0], edit[1]
+        if kind == "cell":
+            rows[row] = rows[row] + [""] * max(0, edit[2] + 1 - len(rows[row]))
+            rows[row][edit[2]] = edit[3]
+            touched.add(row)
+        elif kind == "drop_field":
+            rows[row] = rows[row][:-1]
+            touched.add(row)
+        elif kind == "add_field":
+            rows[row] = rows[row] + [edit[2]]
+            touched.add(row)
+    records, where = [], {}
+    blanks = {e[1] for e in edits if e[0] == "blank_row"}
+    copies = {e[1] for e in edits if e[0] == "duplicate"}
+    for k, row in enumerate(rows):
+        if k in blanks:
+            records.append([])
+        where[k] = None if k in touched else len(records) + 2  # the header is row 1
+        records.append(row)
+        if k in copies:
+            records.append(list(row))
+    if len(rows) in blanks:
+        records.append([])
+    return records, where
+
+
+def write(path, records, separator=",", encoding="utf-8"):
+    out = io.StringIO()
+    writer = csv.writer(out, delimiter=separator, lineterminator="\n")
+    writer.writerow(HEADER)
+    for record in records:
+        writer.writerow(record)
+    path.write_bytes(out.getvalue().encode(encoding, errors="replace"))
+
+
+def accounted(log, files):
+    """Every non-empty record of each file is a sight or a rejection with reasons, never both or neither."""
+    taken = log.table[log.table.read_problem == ""].groupby("source").row.agg(set)
+    refused = log.rejected.groupby("source").row.agg(set)
+    for path, records, _ in files:
+        source = str(path)
+        data_rows = {k + 2 for k, r in enumerate(records) if any(c.strip() for c in r)}
+        ok, bad = taken.get(source, set()), refused.get(source, set())
+        assert ok | bad == data_rows, (source, sorted(data_rows - ok - bad), sorted(ok & bad))
+        assert not ok & bad
+    assert log.rejected.reason.map(lambda r: isinstance(r, str) and len(r) > 5).all()
+    assert log.rejected.column.map(lambda c: isinstance(c, str) and len(c) > 0).all()
+
+
+@settings(max_examples=45, derandomize=True, deadline=None, database=None, phases=_NO_SHRINK,
+          suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow,
+                                 HealthCheck.data_too_large])
+@given(st.lists(_LOG, min_size=50, max_size=50))
+def test_mutated_logs_lose_no_row_and_good_rows_read_the_same(tmp_path_factory, plans):
+    # 45 seeded examples of 50 mutated logs each, read together: 2,250 logs
+    folder = tmp_path_factory.mktemp("fuzz")
+    files = []
+    for k, edits in enumerate(plans):
+        records, where = mutated(edits)
+        path = folder / f"log{k:02d}.csv"
+        write(path, records)
+        files.append((path, records, where))
+    log = read_sight_log([path for path, _, _ in files])
+    accounted(log, files)
+    expected = []
+    for path, _records, where in files:
+        expected += [(str(path), row, original + 2, f"{path.name}: ") for original, row in where.items()
+                     if row is not None]
+    expected = pd.DataFrame(expected, columns=["source", "row", "clean_row", "prefix"])
+    good = expected.merge(log.table, on=["source", "row"], how="left", validate="one_to_one")
+    assert len(good) >= 50 * (len(ROWS) - 4)  # at most four rows of each log are touched
+    clean = CLEAN.loc[good.clean_row]
+    assert (good.read_problem == "").all(), good.loc[good.read_problem != "", ["source", "row", "read_problem"]]
+    # several files: each fix-group label keeps its file
+    assert (good.fix_group.to_numpy() == (good.prefix + clean.fix_group.to_numpy()).to_numpy()).all()
+    for column in CHECKED[:-1]:
+        a, b = good[column].to_numpy(), clean[column].to_numpy()
+        same = (a == b) | (pd.isna(a) & pd.isna(b))
+        assert same.all(), (column, good.loc[~same, ["source", "row"]].head(), a[~same][:3], b[~same][:3])
+
+
+@settings(max_examples=150, derandomize=True, deadline=None, database=None, phases=_NO_SHRINK,
+          suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
+@given(st.sampled_from(list(SEPARATORS)), st.sampled_from(["utf-8", "utf-8-sig", "utf-16", "cp1252"]),
+       st.integers(0, 4000), st.binary(max_size=6), st.booleans())
+def test_encodings_separators_truncation_and_stray_bytes(tmp_path_factory, separator, encoding, cut, stray, insert):
+    """Whole-file mutations: any separator and encoding a spreadsheet writes, the file cut short at any byte,
+    a few stray bytes dropped in: the reader either reads every row it sees or refuses the file in one line."""
+    folder = tmp_path_factory.mktemp("whole")
+    records = [list(r) for r in ROWS]
+    if separator != ",":
+        records = [[c.replace(".", ",") if c.replace(".", "", 1).replace(" ", "").replace(",", "").isdigit() else c
+                    for c in r] for r in records]
+    path = folder / "log.csv"
+    write(path, records, separator, encoding)
+    data = path.read_bytes()
+    cut = min(cut, len(data))
+    data = data[:max(cut, 1)] if cut else data
+    if insert and stray:
+        at = len(data) // 2
+        data = data[:at] + stray + data[at:]
+    path.write_bytes(data)
+    try:
+        log = read_sight_log(path)
+    except LogbookError as exc:
+        assert str(exc) and "\n" not in str(exc).strip()
+        return
+    assert len(log.table) == log.table.row.nunique()
+    assert (log.table.read_problem != "").sum() == log.rejected.row.nunique()
+    if not insert and cut == 0:
+        assert len(log.sights) == len(ROWS), (separator, encoding, log.rejected.reason.tolist()[:2])
+        assert np.allclose(log.sights.hs_deg, CLEAN.hs_deg.to_numpy())

@@ -19,6 +19,7 @@ import pandas as pd
 from navred import reduce_sights
 from navred.fix import move_position
 from navred.stars import known_bodies
+from navred.track import ReferenceTrack
 from navred.training import training_report
 
 
@@ -29,7 +30,8 @@ def main(n: int = 20_000, observers: int = 20) -> None:
     track_times = pd.date_range(start, start + pd.Timedelta(days=60), freq="10min")
     hours = (track_times - start).total_seconds().to_numpy() / 3600
     lat, lon = move_position(30.0, -20.0, 6.0 * hours * np.cos(np.radians(250)), 6.0 * hours * np.sin(np.radians(250)))
-    track = pd.DataFrame({"utc": track_times.tz_convert(None).astype("datetime64[ns]"), "lat_deg": lat, "lon_deg": lon})
+    track = ReferenceTrack(track_times.tz_convert(None).to_numpy().astype("datetime64[ns]"), np.asarray(lat),
+                           np.asarray(lon), "(synthetic)", pd.DataFrame(columns=["point", "field", "value", "reason"]))
     when = start + pd.to_timedelta(np.sort(rng.uniform(0, 60 * 86400, n)), unit="s")
     sight_hours = (when - start).total_seconds().to_numpy() / 3600
     s_lat, s_lon = move_position(30.0, -20.0, 6.0 * sight_hours * np.cos(np.radians(250)),

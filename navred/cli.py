@@ -28,7 +28,10 @@ app = typer.Typer(
 
 @contextlib.contextmanager
 def _reported():
-    """Turn navred errors into one line and exit 1; print every warning."""
+    """Turn navred errors into one line and exit 1; print every warning. Anything unforeseen is one
+    line too (no traceback reaches a user; NAVRED_DEBUG=1 shows it)."""
+    import os
+
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", NavredWarning)
         try:
@@ -37,7 +40,44 @@ def _reported():
             _print_warnings(caught)
             typer.echo(f"navred: error: {exc}", err=True)
             raise typer.Exit(code=1) from None
+        except (typer.Exit, typer.Abort, SystemExit):
+            raise
+        except KeyboardInterrupt:
+            typer.echo("navred: interrupted (no file was left half written)", err=True)
+            raise typer.Exit(code=130) from None
+        except MemoryError:
+            typer.echo("navred: error: out of memory: the input is too large for this machine; split it", err=True)
+            raise typer.Exit(code=1) from None
+        except OSError as exc:
+            _print_warnings(caught)
+            typer.echo(f"navred: error: {exc.strerror or exc}{f': {exc.filename}' if exc.filename else ''}", err=True)
+            raise typer.Exit(code=1) from None
+        except Exception as exc:  # a failure navred did not foresee: one line, and how to report it
+            if os.environ.get("NAVRED_DEBUG"):
+                raise
+            _print_warnings(caught)
+            typer.echo(f"navred: error: an unexpected failure ({type(exc).__name__}: {exc}); this is a fault in "
+                       "navred: please report it with the command and the input (NAVRED_DEBUG=1 shows the detail)",
+                       err=True)
+            raise typer.Exit(code=1) from None
     _print_warnings(caught)
+
+
+def _csv_safe(frame):
+    from .output import csv_safe
+
+    return csv_safe(frame)
+
+
+def _number(value: float | None, name: str, low: float, high: float):
+    """A number given on the command line, refused with one line when not finite or out of range."""
+    import math
+
+    if value is None:
+        return None
+    if not math.isfinite(value) or not low <= value <= high:
+        raise NavredError(f"{name} {value!r} is outside {low:g} to {high:g}")
+    return value
 
 
 def _print_warnings(caught) -> None:
@@ -79,7 +119,7 @@ def almanac_command(
         if csv:
             out = frame.copy()
             out["utc"] = out["utc"].dt.strftime("%Y-%m-%dT%H:%M:%S.%fZ")
-            typer.echo(out.to_csv(index=False, float_format="%.7f"), nl=False)
+            typer.echo(_csv_safe(out).to_csv(index=False, float_format="%.7f"), nl=False)
             return
         first = frame.iloc[0]
         typer.echo(f"UTC {first.utc:%Y-%m-%d %H:%M:%S}   DUT1 {first.dut1_s:+.3f} s ({first.ut1_source})")
@@ -130,7 +170,7 @@ def reduce_command(
         log = read_sight_log(_source(sights_files), dates=dates)
         reduced = reduce_sights(log)
         if csv:
-            typer.echo(reduced.to_csv(index=False, float_format="%.6f"), nl=False)
+            typer.echo(_csv_safe(reduced).to_csv(index=False, float_format="%.6f"), nl=False)
             return
         labels = [label.removeprefix("row ") for label in _labels(reduced)]
         width = max([len(x) for x in labels] + [3])
@@ -253,7 +293,7 @@ def _fixes_csv(voyage) -> str:
                      "flagged": " ".join(labels[group.rows[i]] for i in range(len(group.rows)) if fix.outlier[i]),
                      "chart_distance_nm": fix.chart_distance_nm, "chart_inside_ellipse": fix.chart_inside_ellipse,
                      "note": "; ".join(fix.warnings)})
-    return pd.DataFrame(rows).to_csv(index=False, float_format="%.7f")
+    return _csv_safe(pd.DataFrame(rows)).to_csv(index=False, float_format="%.7f")
 
 
 @app.command("fix")
@@ -280,6 +320,13 @@ def fix_command(
     with _reported():
         lat = _angle_option(chart_lat, "lat", "--chart-lat") if chart_lat is not None else None
         lon = _angle_option(chart_lon, "lon", "--chart-lon") if chart_lon is not None else None
+        if at is not None:
+            from .plan import as_datetime64
+
+            try:
+                as_datetime64(at)
+            except NavredError as exc:
+                raise NavredError(f"--at: {exc}") from None
         if (lat is None) != (lon is None):
             raise NavredError("give both --chart-lat and --chart-lon, or neither")
         voyage = process_log(_source(sights_files), dates=dates, solve_motion=solve_motion, plan=False, at_utc=at)
@@ -335,13 +382,20 @@ def workbook_command(
     """
     from pathlib import Path
 
+    from .logbook import read_sight_log
+    from .output import check_output
     from .voyage import process_log
-    from .workbook import write_plots, write_workbook
+    from .workbook import check_fits, write_plots, write_workbook
 
     with _reported():
         first = Path(sights_files[0])
         target = Path(output) if output else (first / "logs.navred.xlsx" if first.is_dir()
                                               else first.with_suffix(".navred.xlsx"))
+        log = read_sight_log(_source(sights_files), dates=dates)
+        check_fits(len(log.table))
+        for path in (target, gpx, geojson):
+            if path:
+                check_output(path, log.sources)  # refused now, before the work, not after it
         bar = None
 
         def progress(done: int, total: int) -> None:
@@ -351,7 +405,7 @@ def workbook_command(
                 bar.__enter__()
             bar.update(done - bar.pos)
 
-        voyage = process_log(_source(sights_files), dates=dates, solve_motion=solve_motion, progress=progress)
+        voyage = process_log(log, solve_motion=solve_motion, progress=progress)
         if bar is not None:
             bar.__exit__(None, None, None)
         write_workbook(voyage, target)
@@ -467,6 +521,9 @@ def plan_command(
 
     with _reported():
         lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
+        _number(course, "--course", 0.0, 360.0), _number(speed, "--speed", 0.0, 60.0)
+        _number(eye, "--eye", 0.0, 1000.0), _number(min_alt, "--min-alt", 0.0, 90.0)
+        _number(max_alt, "--max-alt", 0.0, 90.0)
         try:
             date = "{:04d}-{:02d}-{:02d}".format(*parse_date(date, declarable=False))
         except NavredError as exc:
@@ -508,17 +565,17 @@ def plan_command(
         if csv_out:
             from pathlib import Path
 
-            from .workbook import atomic_write
+            from .output import atomic_write
 
             target = Path(csv_out)
-            atomic_write(target, lambda p: pd.DataFrame(rows).to_csv(p, index=False))
+            atomic_write(target, lambda p: _csv_safe(pd.DataFrame(rows)).to_csv(p, index=False))
             plans_file = target.with_name(target.stem + "-plans" + target.suffix)
             table = pd.concat([_plan_frame(p) for p in plans], ignore_index=True) if plans else pd.DataFrame()
-            atomic_write(plans_file, lambda p: table.to_csv(p, index=False))
+            atomic_write(plans_file, lambda p: _csv_safe(table).to_csv(p, index=False))
             typer.echo(f"wrote {target} and {plans_file}")
         if sky and plans:
+            from .output import atomic_write
             from .plotting import save_figure, sky_picture
-            from .workbook import atomic_write
 
             atomic_write(sky, lambda p: save_figure(sky_picture(plans[0]), p))
             typer.echo(f"wrote {sky}")
@@ -543,10 +600,10 @@ def compass_command(
     from pathlib import Path
 
     import numpy as np
-    import pandas as pd
 
     from .almanac import places
     from .angles import format_angle
+    from .cards import add_check
     from .plan import (
         amplitude_deg,
         compass_check,
@@ -555,11 +612,12 @@ def compass_command(
         visible_horizon_altitude_deg,
     )
     from .stars import canonical_body_name
-    from .workbook import atomic_write
 
     with _reported():
         lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
         variation = _angle_option(variation_text, "variation", "--variation")
+        _number(bearing, "--compass-bearing", 0.0, 360.0), _number(heading, "--heading", 0.0, 360.0)
+        _number(eye, "--eye", 0.0, 1000.0)
         name = canonical_body_name(body)
         zn, hc = compass_check(name, utc, lat_deg, lon_deg)
         typer.echo(f"{name} at {utc}: true azimuth Zn {zn:05.1f}°, altitude {format_angle(hc, 'signed')}")
@@ -585,9 +643,7 @@ def compass_command(
                    "compass_heading_deg": heading, "compass_bearing_deg": bearing, "true_bearing_deg": round(zn, 2),
                    "compass_error_deg": round(error, 2), "variation_deg": variation,
                    "deviation_deg": round(deviation, 2)}
-            table = pd.read_csv(path) if path.exists() else pd.DataFrame()
-            table = pd.concat([table, pd.DataFrame([row])], ignore_index=True)
-            atomic_write(path, lambda p: table.to_csv(p, index=False))
+            table = add_check(path, row)
             typer.echo(f"deviation card {path} ({len(table)} checks):")
             typer.echo(table[["utc", "body", "compass_heading_deg", "compass_error_deg", "deviation_deg"]]
                        .to_string(index=False))
@@ -613,9 +669,12 @@ def identify_command(
 
     with _reported():
         lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
+        _number(altitude, "--alt", -5.0, 90.0), _number(azimuth, "--az", 0.0, 360.0)
+        if top < 1:
+            raise NavredError(f"--top {top} must be 1 or more")
         ranked = pd.DataFrame(identify(altitude, azimuth, utc, lat_deg, lon_deg))
         if csv:
-            typer.echo(ranked.to_csv(index=False, float_format="%.3f"), nl=False)
+            typer.echo(_csv_safe(ranked).to_csv(index=False, float_format="%.3f"), nl=False)
             return
         typer.echo(f"{'rank':>4}  {'body':<16}{'Hc':>8}{'Zn':>8}{'ΔH':>7}{'ΔZ':>7}{'score':>7}")
         for rank, row in enumerate(ranked.head(top).itertuples(), start=1):
@@ -646,13 +705,14 @@ def series_command(
     from .voyage import process_log
 
     with _reported():
+        _number(threshold, "--threshold", 0.1, 60.0)
         voyage = process_log(_source(sights_files), dates=dates, plan=False)
         reduced = voyage.reduced
         if len(reduced):
             for column, values in series_columns(reduced, threshold_arcmin=threshold).items():
                 reduced[column] = values
         if csv:
-            typer.echo(reduced.to_csv(index=False, float_format="%.5f"), nl=False)
+            typer.echo(_csv_safe(reduced).to_csv(index=False, float_format="%.5f"), nl=False)
             return
         labels = _labels(reduced)
         multi = reduced[reduced.series_size >= 2] if len(reduced) else reduced
@@ -689,20 +749,32 @@ def training_command(
 
     import pandas as pd
 
+    from .frames import row_list
+    from .logbook import read_sight_log
+    from .output import atomic_write, check_output
     from .plotting import save_figure
     from .track import read_track
     from .training import observer_figure, summary_figure, training_report
     from .voyage import process_log
-    from .workbook import atomic_write, write_workbook
+    from .workbook import check_fits, write_workbook
 
     with _reported():
         reference = read_track(track)
-        voyage = process_log(_source(sights_files), dates=dates)
+        log = read_sight_log(_source(sights_files), dates=dates)
+        protected = [*log.sources, track]
+        for path in (output, summary, csv):
+            if path:
+                check_output(path, protected)
+        if output:
+            check_fits(len(log.table))
+        voyage = process_log(log)
         report = training_report(voyage.reduced, reference, voyage.groups)
         voyage.training = report
-        outside = int((~report.sights.within_track).sum())
-        typer.echo(f"{len(report.sights)} sights marked against {track}"
-                   + (f"; {outside} outside the track's time span, not marked" if outside else ""))
+        unmarked = report.sights[~report.sights.within_track]
+        typer.echo(f"{len(report.sights) - len(unmarked)} of {len(report.sights)} sights marked against {track}"
+                   + (f"; {len(unmarked)} not marked:" if len(unmarked) else ""))
+        for note, rows in unmarked.groupby("note", sort=False):
+            typer.echo(f"  {row_list(rows)} ({len(rows)} sight{'s' if len(rows) > 1 else ''}): {note}")
         typer.echo(f"{'observer':<22}{'sights':>7}{'blunders':>9}{'personal error':>16}{'± 95 %':>8}{'scatter':>9}{'trend/day':>11}")
         for values in report.observers.to_dict("records"):
             typer.echo(f"{values['observer']:<22}{values['sights']:>7}{values['blunders']:>9}"
@@ -722,19 +794,21 @@ def training_command(
         if output:
             typer.echo(f"wrote {write_workbook(voyage, output)}")
         if summary:
-            typer.echo(f"wrote {atomic_write(summary, lambda p: save_figure(summary_figure(report), p))}")
+            typer.echo(f"wrote {atomic_write(summary, lambda p: save_figure(summary_figure(report), p), inputs=protected)}")
         if plots:
             folder = Path(plots)
             folder.mkdir(parents=True, exist_ok=True)
             for name in report.observers.observer:
                 stem = "".join(c if c.isalnum() else "-" for c in name)
-                atomic_write(folder / f"observer-{stem}.png", lambda p, n=name: save_figure(observer_figure(report, n), p))
+                atomic_write(folder / f"observer-{stem}.png", lambda p, n=name: save_figure(observer_figure(report, n), p),
+                             inputs=protected)
             typer.echo(f"wrote {len(report.observers)} observer pictures to {folder}")
         if csv:
             target = Path(csv)
-            atomic_write(target, lambda p: report.sights.to_csv(p, index=False))
+            atomic_write(target, lambda p: _csv_safe(report.sights).to_csv(p, index=False), inputs=protected)
             others = target.with_name(target.stem + "-observers" + target.suffix)
-            atomic_write(others, lambda p: pd.concat([report.observers, report.by_body]).to_csv(p, index=False))
+            atomic_write(others, lambda p: _csv_safe(pd.concat([report.observers, report.by_body])).to_csv(p, index=False),
+                         inputs=protected)
             typer.echo(f"wrote {target} and {others}")
 
 

@@ -18,9 +18,9 @@ from pathlib import Path
 import numpy as np
 
 from . import __version__
+from .output import atomic_write
 from .triangle import destination
 from .voyage import VoyageResult
-from .workbook import atomic_write
 
 GPX_NAMESPACE = "http://www.topografix.com/GPX/1/1"
 
@@ -56,7 +56,8 @@ def write_gpx(voyage: VoyageResult, path: str | Path) -> Path:
             ET.SubElement(point, f"{{{GPX_NAMESPACE}}}type").text = kind
     tree = ET.ElementTree(root)
     ET.indent(tree)
-    return atomic_write(path, lambda p: tree.write(p, encoding="utf-8", xml_declaration=True))
+    return atomic_write(path, lambda p: tree.write(p, encoding="utf-8", xml_declaration=True),
+                        inputs=voyage.log.sources)
 
 
 def ellipse_polygon(fix, points: int = 72) -> list[list[float]]:
@@ -124,4 +125,4 @@ def write_geojson(voyage: VoyageResult, path: str | Path) -> Path:
         features.extend(lop_lines(voyage, group))
     collection = {"type": "FeatureCollection", "features": features}
     text = json.dumps(collection, indent=1, allow_nan=False)
-    return atomic_write(path, lambda p: Path(p).write_text(text, encoding="utf-8"))
+    return atomic_write(path, lambda p: Path(p).write_text(text, encoding="utf-8"), inputs=voyage.log.sources)

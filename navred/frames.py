@@ -74,6 +74,26 @@ def row_labels(reduced: pd.DataFrame) -> np.ndarray:
     return ("row " + rows).astype(str)
 
 
+def row_list(frame: pd.DataFrame) -> str:
+    """Rows of a table named compactly, every one of them: 'rows 119-138, 140' or, when the table
+    holds several files, 'a.csv rows 3-5; b.csv row 2'."""
+    if not len(frame):
+        return ""
+    rows = frame["row"].astype(int).to_numpy() if "row" in frame.columns else np.arange(1, len(frame) + 1)
+    sources = frame["source"].to_numpy(dtype=object) if "source" in frame.columns else np.full(len(frame), "")
+    several = len(set(sources)) > 1
+    parts = []
+    for source in dict.fromkeys(sources):
+        numbers = np.unique(rows[sources == source])
+        breaks = np.flatnonzero(np.diff(numbers) != 1) + 1
+        runs = [f"{r[0]}" if len(r) == 1 else f"{r[0]}-{r[-1]}" for r in np.split(numbers, breaks)]
+        from pathlib import Path
+
+        name = f"{Path(str(source)).name} " if several else ""
+        parts.append(f"{name}row{'s' if len(numbers) > 1 else ''} {', '.join(runs)}")
+    return "; ".join(parts)
+
+
 def fix_position(reduced: pd.DataFrame, at_utc: object | None = None, *, chart_lat: float | None = None,
                  chart_lon: float | None = None, solve_motion: bool = False, set_deg: float | None = None,
                  drift_kn: float | None = None, course_deg: float | None = None,

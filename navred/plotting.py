@@ -177,8 +177,9 @@ def save_plotting_sheet(fix, bodies, times, path, *, title: str = "", chart=None
     """Draw the plotting sheet and save it (PNG or SVG by the file's suffix)."""
     target = Path(path)
     figure = plotting_sheet(fix, bodies, times, title=title, chart=chart)
-    save_figure(figure, target)
-    return target
+    from .output import atomic_write
+
+    return atomic_write(target, lambda p: save_figure(figure, p))
 
 
 def save_figure(figure, path) -> None:

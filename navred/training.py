@@ -20,7 +20,7 @@ import pandas as pd
 
 from .constants import ARCMIN_PER_DEG
 from .stars import SOLAR_SYSTEM
-from .track import positions_at
+from .track import ReferenceTrack
 from .triangle import computed_altitude_azimuth
 
 BLUNDER_ARCMIN = 5.0
@@ -81,17 +81,18 @@ def _summaries(frame: pd.DataFrame, keys: list[str]) -> pd.DataFrame:
     return pd.DataFrame(rows)
 
 
-def training_report(reduced: pd.DataFrame, track: pd.DataFrame, groups: object = ()) -> TrainingReport:
+def training_report(reduced: pd.DataFrame, track: ReferenceTrack, groups: object = ()) -> TrainingReport:
     """The training report of a reduced log against a reference track (see the module docstring)."""
     usable = (reduced.status != "error").to_numpy()
     frame = reduced[usable].reset_index(drop=True)
     times = frame.sight_utc.dt.tz_convert(None).to_numpy().astype("datetime64[ns]")
-    lat, lon, inside = positions_at(track, times)
+    lat, lon, why_not = track.positions_at(times)
+    inside = why_not == ""
     hc, zn = computed_altitude_azimuth(np.nan_to_num(lat), np.nan_to_num(lon), frame.gha_deg.to_numpy(dtype=float),
                                        frame.dec_deg.to_numpy(dtype=float))
     error = np.where(inside, (frame.ho_deg.to_numpy(dtype=float) - hc) * ARCMIN_PER_DEG, np.nan)
     observer = frame["observer"].astype(str) if "observer" in frame.columns else pd.Series("(not given)", index=frame.index)
-    span = (str(track.utc.iloc[0])[:19], str(track.utc.iloc[-1])[:19])
+    span = track.span
     from .frames import row_labels
 
     sights = pd.DataFrame({
@@ -102,7 +103,7 @@ def training_report(reduced: pd.DataFrame, track: pd.DataFrame, groups: object =
         "reference_lat_deg": lat, "reference_lon_deg": lon, "hc_reference_deg": np.where(inside, hc, np.nan),
         "ho_deg": frame.ho_deg, "error_arcmin": error, "blunder": np.abs(np.nan_to_num(error)) > BLUNDER_ARCMIN,
         "within_track": inside,
-        "note": np.where(inside, "", f"outside the reference track ({span[0]} to {span[1]} UTC): not marked"),
+        "note": why_not,
     })
     observers = _summaries(sights, ["observer"])
     by_body = _summaries(sights, ["observer", "body kind"])
@@ -111,9 +112,9 @@ def training_report(reduced: pd.DataFrame, track: pd.DataFrame, groups: object =
         fix = getattr(group, "fix", None)
         if fix is None:
             continue
-        f_lat, f_lon, f_inside = positions_at(track, np.array([fix.utc], dtype="datetime64[ns]"))
-        if not f_inside[0]:
-            fix_rows.append({"fix group": group.name, "UTC": str(fix.utc)[:19], "note": "outside the reference track"})
+        f_lat, f_lon, f_why = track.positions_at(np.array([fix.utc], dtype="datetime64[ns]"))
+        if f_why[0]:
+            fix_rows.append({"fix group": group.name, "UTC": str(fix.utc)[:19], "note": f_why[0]})
             continue
         check = fix.cross_check(float(f_lat[0]), float(f_lon[0]))
         members = reduced.iloc[group.rows]

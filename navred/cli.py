@@ -365,7 +365,9 @@ def fix_command(
 def workbook_command(
     sights_files: list[str] = typer.Argument(..., metavar="SIGHTS...", help=_SIGHTS_HELP),
     output: str | None = typer.Option(None, "--output", "-o", help="Workbook to write (.xlsx); default: the first log with .navred.xlsx."),
-    plots: str | None = typer.Option(None, "--plots", help="Also write each fix's plotting sheet as PNG and SVG into this folder."),
+    plots: str | None = typer.Option(None, "--plots", help="Also write each fix's plotting sheet as files (PNG and SVG) into this folder."),
+    pictures: str = typer.Option("embed", "--pictures", help="embed: pictures in the workbook (the first 100 of each kind); files: plotting sheets only as files (in --plots, or a folder beside the workbook); none: no pictures."),
+    plot_formats: str = typer.Option("png,svg", "--plot-formats", help="The plotting-sheet files to write: png, svg or png,svg."),
     gpx: str | None = typer.Option(None, "--gpx", help="Also write the fixes and DRs as GPX 1.1 waypoints to this file."),
     geojson: str | None = typer.Option(None, "--geojson", help="Also write fixes, ellipses and lines of position as GeoJSON."),
     strict: bool = typer.Option(False, "--strict", help="Exit 1 if any row was rejected."),
@@ -385,12 +387,21 @@ def workbook_command(
     from .logbook import read_sight_log
     from .output import check_output
     from .voyage import process_log
-    from .workbook import check_fits, write_plots, write_workbook
+    from .workbook import Pictures, check_fits, write_plots, write_workbook
 
     with _reported():
         first = Path(sights_files[0])
         target = Path(output) if output else (first / "logs.navred.xlsx" if first.is_dir()
                                               else first.with_suffix(".navred.xlsx"))
+        if pictures not in ("embed", "files", "none"):
+            raise NavredError(f"--pictures {pictures!r}: give embed, files or none")
+        formats = tuple(dict.fromkeys(f.strip().lower() for f in plot_formats.split(",") if f.strip()))
+        if not formats or set(formats) - {"png", "svg"}:
+            raise NavredError(f"--plot-formats {plot_formats!r}: give png, svg or png,svg")
+        if pictures == "files" and not plots:
+            plots = str(target.with_name(target.name.removesuffix(".xlsx") + "-plots"))
+        if plots and Path(plots).exists() and not Path(plots).is_dir():
+            raise NavredError(f"--plots {plots}: that is a file; give a folder for the plotting sheets")
         log = read_sight_log(_source(sights_files), dates=dates)
         check_fits(len(log.table))
         for path in (target, gpx, geojson):
@@ -408,10 +419,15 @@ def workbook_command(
         voyage = process_log(log, solve_motion=solve_motion, progress=progress)
         if bar is not None:
             bar.__exit__(None, None, None)
-        write_workbook(voyage, target)
+        chosen = Pictures(embed=pictures == "embed", folder=plots)
+        write_workbook(voyage, target, plots=chosen)
         typer.echo(f"wrote {target}")
+        fixed = sum(group.fix is not None for group in voyage.groups)
+        note = chosen.note("plotting sheets", min(fixed, chosen.limit) if chosen.embed else 0, fixed)
+        if note:
+            typer.echo(f"note: {note}", err=True)
         if plots:
-            written = write_plots(voyage, plots)
+            written = write_plots(voyage, plots, formats)
             typer.echo(f"wrote {len(written)} plotting-sheet files to {plots}")
         if gpx:
             from .exports import write_gpx

@@ -1,4 +1,8 @@
-"""The plotting sheet of a fix (matplotlib, imported lazily): edge code that draws and saves.
+"""The pictures: the plotting sheet of a fix, the sky of a sight plan, a sight series. Edge code.
+
+The plotting sheet is drawn on navred's light canvas (:mod:`navred.drawing`, SVG or PNG in a
+few milliseconds, so a workbook can hold hundreds); the sky and the series pictures use
+matplotlib, imported lazily.
 
 A local chart of the fix: a grid of latitude and longitude minutes scaled as on a Mercator
 chart at the fix's latitude (one minute of latitude is one nautical mile up the page, one
@@ -29,18 +33,20 @@ def _grid_step(span_nm: float) -> float:
     return _STEPS_ARCMIN[-1]
 
 
+#: the page of a plotting sheet, in points: 8 inches square, the plotting area a square inside it
+SHEET_PT = 576.0
+_AREA = (70.0, 58.0, 540.0, 528.0)  # x0, y0, x1, y1
+
+
 def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None):
-    """A matplotlib Figure of the fix's plotting sheet.
+    """The fix's plotting sheet as a :class:`navred.drawing.Canvas` (render it with ``to_svg`` or ``to_png``).
 
     ``fix`` is a :class:`navred.fix.FixResult`; ``bodies`` and ``times`` label its sights
     (input-row order, as ``fix.residual_arcmin``); ``chart`` is an optional (lat, lon).
     """
-    import matplotlib
+    from .drawing import Canvas, blend
 
-    matplotlib.use("Agg")
-    from matplotlib.figure import Figure
-    from matplotlib.patches import Ellipse
-
+    bodies, times = list(bodies), list(times)
     lat0, lon0 = fix.dr_lat_deg, fix.dr_lon_deg
     cos_lat = np.cos(np.radians(lat0))
 
@@ -61,109 +67,136 @@ def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None):
     extent = fix.ellipse_semi_major_nm if fix.is_fix else fix.ellipse_semi_minor_nm
     half = max(np.ptp(xs), np.ptp(ys), 4.0 * extent, 2.0) * 0.75 + 1.0
     cx, cy = (max(xs) + min(xs)) / 2.0, (max(ys) + min(ys)) / 2.0
+    ax0, ay0, ax1, ay1 = _AREA
+    per_nm = (ax1 - ax0) / (2.0 * half)
 
-    figure = Figure(figsize=(8.0, 8.0), dpi=110, facecolor=PAPER)
-    ax = figure.add_axes([0.1, 0.09, 0.86, 0.83], facecolor=PAPER)
-    ax.set_xlim(cx - half, cx + half)
-    ax.set_ylim(cy - half, cy + half)
-    ax.set_aspect("equal")
+    def page(x, y):
+        """Sheet miles (east, north of the DR) to points on the page."""
+        return ax0 + (np.asarray(x) - (cx - half)) * per_nm, ay1 - (np.asarray(y) - (cy - half)) * per_nm
 
-    # the grid: whole multiples of the step in latitude and in longitude
+    def inside(px, py):
+        return ax0 <= px <= ax1 and ay0 <= py <= ay1
+
+    sheet = Canvas(SHEET_PT, SHEET_PT, PAPER)
+    area = _AREA
+    if fix.is_fix:  # the ellipse's tint first, so that the grid and the lines show through it
+        turn = np.radians(fix.ellipse_orientation_deg)
+        t = np.linspace(0.0, 2.0 * np.pi, 73)[:-1]
+        a, b = fix.ellipse_semi_major_nm, fix.ellipse_semi_minor_nm
+        ex = fix_xy[0] + a * np.cos(t) * np.sin(turn) + b * np.sin(t) * np.cos(turn)
+        ey = fix_xy[1] + a * np.cos(t) * np.cos(turn) - b * np.sin(t) * np.sin(turn)
+        ellipse = page(ex, ey)
+        sheet.polygon(*ellipse, fill=blend(ELLIPSE, PAPER, 0.15), clip=area)
+
+    # the grid: whole multiples of the step in latitude and in longitude, labelled outside the area
     step = _grid_step(2 * half)
     lat_lo, lat_hi = lat0 + (cy - half) / 60, lat0 + (cy + half) / 60
     lon_lo, lon_hi = lon0 + (cx - half) / 60 / cos_lat, lon0 + (cx + half) / 60 / cos_lat
     lat_ticks = np.arange(np.ceil(lat_lo * 60 / step), np.floor(lat_hi * 60 / step) + 1) * step / 60
     lon_ticks = np.arange(np.ceil(lon_lo * 60 / step), np.floor(lon_hi * 60 / step) + 1) * step / 60
     for lat in lat_ticks:
-        ax.axhline(plane(lat, lon0)[1], color=GRID, lw=0.7, zorder=0)
+        _, py = page(0.0, plane(lat, lon0)[1])
+        sheet.line([ax0, ax1], [py, py], GRID, 0.7)
+        sheet.text(ax0 - 4, py, format_angle(lat, "lat"), 7, INK, anchor="end", baseline="middle")
     for lon in lon_ticks:
-        ax.axvline(plane(lat0, lon)[0], color=GRID, lw=0.7, zorder=0)
-    ax.set_yticks([plane(lat, lon0)[1] for lat in lat_ticks])
-    ax.set_yticklabels([format_angle(lat, "lat") for lat in lat_ticks], fontsize=7)
-    ax.set_xticks([plane(lat0, lon)[0] for lon in lon_ticks])
-    ax.set_xticklabels([format_angle(lon, "lon") for lon in lon_ticks], fontsize=7, rotation=30)
-    for side in ax.spines.values():
-        side.set_color(INK)
+        px, _ = page(plane(lat0, lon)[0], 0.0)
+        sheet.line([px, px], [ay0, ay1], GRID, 0.7)
+        sheet.text(px, ay1 + 6, format_angle(lon, "lon"), 7, INK, anchor="end", baseline="top", rotation=30)
 
     # the lines of position, tangent to their circles at the foot, drawn across the sheet, labelled
     length = 2.2 * half
     count = max(len(used) - 1, 1)
+    dr_page = page(0.0, 0.0)
+    labels = []
     for k, row in enumerate(used):
         fx, fy = feet[k]
         dx, dy = np.sin(tangent[k]), np.cos(tangent[k])
         flagged = bool(fix.outlier[row])
         colour = FLAGGED if flagged else INK
-        ax.plot([fx - dx * length, fx + dx * length], [fy - dy * length, fy + dy * length],
-                color=colour, lw=1.3, ls="--" if flagged else "-", zorder=2)
         # a short azimuth tick from the DR toward the body, as on a hand plot
-        ax.plot([0, 0.35 * half * np.sin(z[k])], [0, 0.35 * half * np.cos(z[k])], color=colour, lw=0.6,
-                alpha=0.5, zorder=1)
+        tip = page(0.35 * half * np.sin(z[k]), 0.35 * half * np.cos(z[k]))
+        sheet.line([dr_page[0], tip[0]], [dr_page[1], tip[1]], blend(colour, PAPER, 0.5), 0.6, clip=area)
+        ends = page([fx - dx * length, fx + dx * length], [fy - dy * length, fy + dy * length])
+        sheet.line(*ends, colour, 1.3, dash=(5.0, 3.0) if flagged else None, clip=area)
         label = f"{bodies[row]} {times[row]}" + ("  (flagged)" if flagged else "")
         # the label sits on the line near the middle of the sheet, staggered so labels do not pile up
         nearest = (cx - fx) * dx + (cy - fy) * dy
         along = nearest + (-0.6 + 1.2 * k / count) * half
-        lx, ly = fx + dx * along, fy + dy * along
-        ax.annotate(label, (lx, ly), fontsize=7, color=colour, ha="center", va="bottom", annotation_clip=False,
-                    rotation=(np.degrees(np.arctan2(dy, dx)) + 90) % 180 - 90, rotation_mode="anchor",
-                    bbox={"boxstyle": "round,pad=0.15", "fc": PAPER, "ec": "none", "alpha": 0.8}, zorder=4)
+        lx, ly = page(fx + dx * along, fy + dy * along)
+        labels.append((lx, ly, label, colour, (np.degrees(np.arctan2(dy, dx)) + 90) % 180 - 90))
 
     # the DR, the fix and its ellipse (or the combined line and its band), the chart position
-    ax.plot(0, 0, marker="o", ms=9, mfc="none", mec=INK, mew=1.4, zorder=5)
-    ax.annotate("DR", (0, 0), xytext=(6, -12), textcoords="offset points", fontsize=8, color=INK)
     if fix.is_fix:
-        angle = 90.0 - fix.ellipse_orientation_deg  # from the x axis (east) counter-clockwise
-        ax.add_patch(Ellipse(fix_xy, 2 * fix.ellipse_semi_major_nm, 2 * fix.ellipse_semi_minor_nm, angle=angle,
-                             fc=ELLIPSE, alpha=0.15, ec=ELLIPSE, lw=1.2, zorder=3))
-        ax.plot(*fix_xy, marker="+", ms=16, mew=2.2, color=FIX, zorder=6)
-        ax.plot(*fix_xy, marker="o", ms=5, color=FIX, zorder=6)
-        right = fix_xy[0] > cx + half * 0.3
-        ax.annotate(f"fix {format_angle(fix.lat_deg, 'lat')} {format_angle(fix.lon_deg, 'lon')}", fix_xy,
-                    xytext=(-10 if right else 10, 8), textcoords="offset points", fontsize=8, color=FIX,
-                    weight="bold", ha="right" if right else "left", zorder=7)
+        sheet.polygon(*ellipse, outline=ELLIPSE, width=1.2, clip=area)
     else:
         along = np.radians(fix.line_bearing_deg)
         across = np.radians(fix.line_toward_deg)
         dx, dy = np.sin(along), np.cos(along)
-        for offset, style in ((0.0, "-"), (fix.ellipse_semi_minor_nm, ":"), (-fix.ellipse_semi_minor_nm, ":")):
+        for offset, dash in ((0.0, None), (fix.ellipse_semi_minor_nm, (1.5, 2.5)), (-fix.ellipse_semi_minor_nm, (1.5, 2.5))):
             ox, oy = fix_xy[0] + offset * np.sin(across), fix_xy[1] + offset * np.cos(across)
-            ax.plot([ox - dx * length, ox + dx * length], [oy - dy * length, oy + dy * length], color=FIX,
-                    lw=2.2 if offset == 0 else 1.0, ls=style, zorder=3)
-        ax.plot(*fix_xy, marker="o", ms=5, color=FIX, zorder=6)
+            ends = page([ox - dx * length, ox + dx * length], [oy - dy * length, oy + dy * length])
+            sheet.line(*ends, FIX, 2.2 if offset == 0 else 1.0, dash=dash, clip=area)
+    for lx, ly, label, colour, angle in labels:
+        if inside(lx, ly):
+            sheet.text(lx, ly, label, 7, colour, anchor="middle", baseline="bottom", rotation=angle, box=PAPER)
+    sheet.circle(*dr_page, 4.5, outline=INK, width=1.4)
+    sheet.text(dr_page[0] + 6, dr_page[1] + 12, "DR", 8, INK)
+    fx_page = page(*fix_xy)
+
+    def fix_label(text: str, size: float) -> None:
+        """The fix's label beside it, on the side where it fits inside the area, else centred above it."""
+        width = 0.6 * size * len(text) + 10
+        fits_right, fits_left = fx_page[0] + width <= ax1, fx_page[0] - width >= ax0
+        if fits_right and not (fits_left and fx_page[0] > (ax0 + ax1) / 2 + 0.3 * (ax1 - ax0) / 2):
+            x, anchor = fx_page[0] + 10, "start"
+        elif fits_left:
+            x, anchor = fx_page[0] - 10, "end"
+        else:
+            x, anchor = min(max(fx_page[0], ax0 + width / 2), ax1 - width / 2), "middle"
+        sheet.text(x, fx_page[1] - 8, text, size, FIX, anchor=anchor, bold=True, box=PAPER)
+
+    if fix.is_fix:
+        sheet.line([fx_page[0] - 8, fx_page[0] + 8], [fx_page[1], fx_page[1]], FIX, 2.2)
+        sheet.line([fx_page[0], fx_page[0]], [fx_page[1] - 8, fx_page[1] + 8], FIX, 2.2)
+        sheet.circle(*fx_page, 2.5, fill=FIX)
+        fix_label(f"fix {format_angle(fix.lat_deg, 'lat')} {format_angle(fix.lon_deg, 'lon')}", 8)
+    else:
+        sheet.circle(*fx_page, 2.5, fill=FIX)
         what = "latitude" if fix.kind == "latitude" else "line of position"
         text = (f"{what} {format_angle(fix.lat_deg, 'lat')}" if fix.kind == "latitude"
                 else f"{what} through {format_angle(fix.lat_deg, 'lat')} {format_angle(fix.lon_deg, 'lon')}")
-        right = fix_xy[0] > cx
-        ax.annotate(f"{text}: not a fix", fix_xy, xytext=(-10 if right else 10, 8), textcoords="offset points",
-                    fontsize=8, color=FIX, weight="bold", ha="right" if right else "left", zorder=7,
-                    bbox={"boxstyle": "round,pad=0.2", "fc": PAPER, "ec": "none", "alpha": 0.85})
+        fix_label(f"{text}: not a fix", 8)
     if chart is not None:
-        ax.plot(*chart_xy, marker="s", ms=7, mfc="none", mec=CHART, mew=1.6, zorder=6)
-        ax.annotate("chart", chart_xy, xytext=(8, -12), textcoords="offset points", fontsize=8, color=CHART)
+        px, py = page(*chart_xy)
+        sheet.polygon([px - 3.5, px + 3.5, px + 3.5, px - 3.5], [py - 3.5, py - 3.5, py + 3.5, py + 3.5],
+                      outline=CHART, width=1.6)
+        sheet.text(px + 8, py + 12, "chart", 8, CHART)
 
     # scale bar (nautical miles) and north arrow
     bar = _nice_length(half * 0.5)
-    x0, y0 = cx - half * 0.92, cy - half * 0.9
-    ax.plot([x0, x0 + bar], [y0, y0], color=INK, lw=3, solid_capstyle="butt", zorder=8)
-    ax.annotate(f"{bar:g} nautical mile{'s' if bar != 1 else ''}", (x0 + bar / 2, y0), xytext=(0, 5),
-                textcoords="offset points", ha="center", fontsize=8, color=INK)
-    nx, ny = cx + half * 0.86, cy + half * 0.72
-    ax.annotate("", (nx, ny + half * 0.18), (nx, ny), arrowprops={"arrowstyle": "-|>", "color": INK, "lw": 1.6})
-    ax.annotate("N", (nx, ny + half * 0.2), ha="center", va="bottom", fontsize=11, color=INK, weight="bold")
+    x0, y0 = page(cx - half * 0.92, cy - half * 0.9)
+    sheet.line([x0, x0 + bar * per_nm], [y0, y0], INK, 3.0)
+    sheet.text(x0 + bar * per_nm / 2, y0 - 5, f"{bar:g} nautical mile{'s' if bar != 1 else ''}", 8, INK,
+               anchor="middle")
+    nx, ny = page(cx + half * 0.86, cy + half * 0.72)
+    top = ny - 0.18 * half * per_nm
+    sheet.line([nx, nx], [ny, top + 6], INK, 1.6)
+    sheet.polygon([nx - 4, nx, nx + 4], [top + 8, top, top + 8], fill=INK, outline=INK, width=0.5)
+    sheet.text(nx, top - 2, "N", 11, INK, anchor="middle", bold=True)
+    sheet.line([ax0, ax1, ax1, ax0, ax0], [ay0, ay0, ay1, ay1, ay0], INK, 0.8)
 
-    heading = title or "Plotting sheet"
-    figure.suptitle(heading, x=0.1, ha="left", fontsize=11, color=INK, weight="bold")
+    sheet.text(ax0 - 12, 24, title or "Plotting sheet", 11, INK, bold=True)
     extent_text = (f"95 % ellipse {fix.ellipse_semi_major_nm:.1f} × {fix.ellipse_semi_minor_nm:.1f} nm" if fix.is_fix
                    else f"the lines cross at {fix.spread_deg:.0f}°: 95 % band ±{fix.ellipse_semi_minor_nm:.1f} nm")
-    figure.text(0.1, 0.935, f"{str(fix.utc)[:19].replace('T', ' ')} UTC · {extent_text} · σ {fix.sigma_arcmin:.2f}′ · "
-                "grid: minutes of latitude and longitude", fontsize=8, color=INK)
+    sheet.text(ax0 - 12, 40, f"{str(fix.utc)[:19].replace('T', ' ')} UTC · {extent_text} · σ {fix.sigma_arcmin:.2f}′ · "
+               "grid: minutes of latitude and longitude", 8, INK)
     dr_miles = float(np.hypot(*fix_xy))
     if dr_miles > 30.0 and fix.is_fix:
-        figure.text(0.1, 0.04, f"The DR is {dr_miles:.0f} nm from the fix: straight lines of position drawn "
-                    "from it are approximate this far out; the fix itself is solved on the sphere.",
-                    fontsize=7, color=FIX)
-    figure.text(0.1, 0.015, "An aid to navigation, not a sole means: check against the official almanac "
-                "and keep a DR plot.", fontsize=7, color=INK, style="italic")
-    return figure
+        sheet.text(ax0 - 12, SHEET_PT - 14, f"The DR is {dr_miles:.0f} nm from the fix: straight lines of position "
+                   "drawn from it are approximate this far out; the fix itself is solved on the sphere.", 7, FIX)
+    sheet.text(ax0 - 12, SHEET_PT - 4, "An aid to navigation, not a sole means: check against the official almanac "
+               "and keep a DR plot.", 7, INK, italic=True)
+    return sheet
 
 
 def _nice_length(target: float) -> float:
@@ -173,13 +206,25 @@ def _nice_length(target: float) -> float:
     return 1000.0
 
 
+#: the width of a plotting sheet saved as PNG (the page is 8 inches: 110 pixels an inch)
+SHEET_PNG_PX = 880
+
+
 def save_plotting_sheet(fix, bodies, times, path, *, title: str = "", chart=None) -> Path:
     """Draw the plotting sheet and save it (PNG or SVG by the file's suffix)."""
-    target = Path(path)
-    figure = plotting_sheet(fix, bodies, times, title=title, chart=chart)
     from .output import atomic_write
 
-    return atomic_write(target, lambda p: save_figure(figure, p))
+    target = Path(path)
+    sheet = plotting_sheet(fix, bodies, times, title=title, chart=chart)
+    return atomic_write(target, lambda p: write_canvas(sheet, p))
+
+
+def write_canvas(canvas, path, *, png_width_px: int = SHEET_PNG_PX) -> None:
+    """Write a :class:`navred.drawing.Canvas` as SVG or PNG, by the file's suffix."""
+    if Path(path).suffix.lower() == ".svg":
+        Path(path).write_text(canvas.to_svg(), encoding="utf-8")
+    else:
+        Path(path).write_bytes(canvas.to_png(png_width_px))
 
 
 def save_figure(figure, path) -> None:
@@ -233,33 +278,83 @@ def sky_picture(plan, *, title: str = ""):
     return figure
 
 
+def nice_ticks(low: float, high: float, most: int = 7) -> np.ndarray:
+    """Round tick values (1, 2 or 5 times a power of ten apart) covering low..high, at most ``most``
+    of them (common practice for chart axes)."""
+    span = max(high - low, 1e-9)
+    for power in range(int(np.floor(np.log10(span / most))) - 1, 12):
+        for factor in (1.0, 2.0, 5.0):
+            step = factor * 10.0 ** power
+            ticks = np.arange(np.ceil(low / step), np.floor(high / step) + 1) * step
+            if len(ticks) <= most:
+                return ticks + 0.0  # no "-0"
+    return np.array([low, high])
+
+
+#: the page of a series picture, in points (5 by 3.2 inches)
+SERIES_PT = (360.0, 230.0)
+
+
 def series_plot(times, ho_deg, flagged, curve_times, curve_ho_deg, best_index, *, title: str = ""):
-    """A small plot of one sight series: the sights, the fitted curve, the flagged ones."""
-    import matplotlib
+    """A small picture of one sight series on a :class:`navred.drawing.Canvas`: the predicted
+    altitude curve, the sights, the flagged ones crossed, the best sight ringed."""
+    from .drawing import Canvas
 
-    matplotlib.use("Agg")
-    from matplotlib.figure import Figure
-
-    figure = Figure(figsize=(5.0, 3.2), dpi=100, facecolor=PAPER)
-    ax = figure.add_axes([0.16, 0.18, 0.8, 0.68], facecolor=PAPER)
     t0 = np.asarray(curve_times, dtype="datetime64[ns]")[0]
 
     def minutes(values):
         return (np.asarray(values, dtype="datetime64[ns]") - t0).astype(np.int64) / 6e10
 
     base = float(np.nanmin(curve_ho_deg))
-    ax.plot(minutes(curve_times), (np.asarray(curve_ho_deg) - base) * 60, color=INK, lw=1.2, label="predicted curve")
+    cx, cy = minutes(curve_times), (np.asarray(curve_ho_deg, dtype=float) - base) * 60
     flagged = np.asarray(flagged, dtype=bool)
-    x, y = minutes(times), (np.asarray(ho_deg) - base) * 60
-    ax.plot(x[~flagged], y[~flagged], "o", color=INK, ms=5, label="sights")
-    if flagged.any():
-        ax.plot(x[flagged], y[flagged], "X", color=FIX, ms=8, label="flagged")
+    x, y = minutes(times), (np.asarray(ho_deg, dtype=float) - base) * 60
+    xs, ys = np.concatenate([cx, x]), np.concatenate([cy, y])
+    xs, ys = xs[np.isfinite(xs)], ys[np.isfinite(ys)]
+    x_lo, x_hi = float(xs.min()), float(xs.max())
+    y_lo, y_hi = float(ys.min()), float(ys.max())
+    x_pad, y_pad = max((x_hi - x_lo) * 0.05, 0.1), max((y_hi - y_lo) * 0.08, 0.2)
+    x_lo, x_hi, y_lo, y_hi = x_lo - x_pad, x_hi + x_pad, y_lo - y_pad, y_hi + y_pad
+    width, height = SERIES_PT
+    ax0, ay0, ax1, ay1 = 58.0, 34.0, width - 12.0, height - 40.0
+    area = (ax0, ay0, ax1, ay1)
+
+    def page(u, v):
+        return (ax0 + (np.asarray(u) - x_lo) / (x_hi - x_lo) * (ax1 - ax0),
+                ay1 - (np.asarray(v) - y_lo) / (y_hi - y_lo) * (ay1 - ay0))
+
+    picture = Canvas(width, height, PAPER)
+    for tick in nice_ticks(x_lo, x_hi):
+        px, _ = page(tick, y_lo)
+        picture.line([px, px], [ay0, ay1], GRID, 0.5)
+        picture.text(px, ay1 + 4, f"{tick:g}", 7, INK, anchor="middle", baseline="top")
+    for tick in nice_ticks(y_lo, y_hi, 6):
+        _, py = page(x_lo, tick)
+        picture.line([ax0, ax1], [py, py], GRID, 0.5)
+        picture.text(ax0 - 4, py, f"{tick:g}", 7, INK, anchor="end", baseline="middle")
+    picture.line(*page(cx, cy), INK, 1.2, clip=area)
+    for u, v in zip(*page(x[~flagged], y[~flagged])):
+        picture.circle(u, v, 2.6, fill=INK)
+    for u, v in zip(*page(x[flagged], y[flagged])):
+        picture.line([u - 4, u + 4], [v - 4, v + 4], FIX, 2.0)
+        picture.line([u - 4, u + 4], [v + 4, v - 4], FIX, 2.0)
     if best_index is not None:
-        ax.plot(x[best_index], y[best_index], "o", ms=11, mfc="none", mec=CHART, mew=1.6, label="best sight")
-    ax.set_xlabel(f"minutes after {str(t0)[11:19]} UTC", fontsize=7)
-    ax.set_ylabel(f"Ho − {base:.2f}° (′)", fontsize=7)
-    ax.tick_params(labelsize=7)
-    ax.grid(color=GRID, lw=0.5)
-    ax.legend(fontsize=6, loc="best", frameon=False)
-    figure.suptitle(title, fontsize=8, color=INK, x=0.16, ha="left")
-    return figure
+        u, v = page(x[best_index], y[best_index])
+        picture.circle(float(u), float(v), 5.5, outline=CHART, width=1.6)
+    picture.line([ax0, ax1, ax1, ax0, ax0], [ay0, ay0, ay1, ay1, ay0], INK, 0.7)
+    picture.text((ax0 + ax1) / 2, height - 8, f"minutes after {str(t0)[11:19]} UTC", 7, INK, anchor="middle")
+    picture.text(24, (ay0 + ay1) / 2, f"Ho − {base:.2f}° (′)", 7, INK, anchor="middle", baseline="middle",
+                 rotation=90)
+    picture.text(ax0, 14, title, 8, INK, bold=True)
+    # the key, in the top right corner of the page
+    key_x = ax1 - 150
+    picture.line([key_x, key_x + 12], [26, 26], INK, 1.2)
+    picture.text(key_x + 15, 26, "predicted", 6, INK, baseline="middle")
+    picture.circle(key_x + 56, 26, 2.6, fill=INK)
+    picture.text(key_x + 61, 26, "sights", 6, INK, baseline="middle")
+    picture.line([key_x + 89, key_x + 95], [23, 29], FIX, 1.6)
+    picture.line([key_x + 89, key_x + 95], [29, 23], FIX, 1.6)
+    picture.text(key_x + 98, 26, "flagged", 6, INK, baseline="middle")
+    picture.circle(key_x + 128, 26, 4.0, outline=CHART, width=1.3)
+    picture.text(key_x + 134, 26, "best", 6, INK, baseline="middle")
+    return picture

@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import io
 import re
+from dataclasses import dataclass
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -222,12 +223,17 @@ def _cell_value(value):
 
 
 def _add_figure(sheet, figure, anchor: str, width: int, height: int) -> None:
-    """Embed a matplotlib figure in a sheet as a PNG picture anchored at a cell."""
+    """Embed a picture in a sheet as a PNG drawn at the size it is shown (``width`` by ``height``
+    pixels), anchored at a cell: a :class:`navred.drawing.Canvas` or a matplotlib figure."""
     from openpyxl.drawing.image import Image
 
-    png = io.BytesIO()
-    figure.savefig(png, format="png", facecolor=figure.get_facecolor())
-    png.seek(0)
+    if hasattr(figure, "to_png"):
+        png = io.BytesIO(figure.to_png(width))
+    else:
+        png = io.BytesIO()
+        dpi = width / figure.get_figwidth()  # drawn at the resolution it is shown, not scaled down
+        figure.savefig(png, format="png", dpi=dpi, facecolor=figure.get_facecolor(), pil_kwargs={"compress_level": 3})
+        png.seek(0)
     image = Image(png)
     image.width, image.height = width, height
     sheet.add_image(image, anchor)
@@ -337,8 +343,40 @@ def check_fits(rows: int) -> None:
                           "navred reduce --csv")
 
 
-def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool = True) -> Path:
-    """Write the spreadsheet log of a :class:`navred.voyage.VoyageResult` to ``path`` (.xlsx)."""
+#: the most pictures of one kind a workbook embeds (each is about 60 kB); the rest are counted on
+#: the sheet and written as files when a folder is given
+MAX_EMBEDDED_PICTURES = 100
+
+
+@dataclass(frozen=True)
+class Pictures:
+    """Which pictures a workbook embeds: ``embed`` False leaves them all out; at most ``limit`` of
+    each kind are embedded; ``folder``, when given, is where every plotting sheet is written as a
+    file (the sheets say so)."""
+
+    embed: bool = True
+    limit: int = MAX_EMBEDDED_PICTURES
+    folder: str | None = None
+
+    def note(self, what: str, shown: int, total: int) -> str:
+        """The line a sheet carries when not every picture of a kind is in it ('' when all are)."""
+        if shown == total:
+            return ""
+        where = (f"every one is in {self.folder}" if self.folder and what == "plotting sheets" else
+                 "write every plotting sheet as a file with navred workbook --plots FOLDER"
+                 if what == "plotting sheets" else "the table above lists every one")
+        if not self.embed:
+            return f"Pictures left out of this workbook ({total:,} {what}); {where}."
+        left = total - shown
+        return f"The first {shown:,} of {total:,} {what} are pictured here; {left:,} {'is' if left == 1 else 'are'} not: {where}."
+
+
+def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool | Pictures = True) -> Path:
+    """Write the spreadsheet log of a :class:`navred.voyage.VoyageResult` to ``path`` (.xlsx).
+
+    ``plots`` True embeds the pictures (up to :data:`MAX_EMBEDDED_PICTURES` of each kind, the rest
+    counted on their sheet), False leaves them out, or a :class:`Pictures` says exactly."""
+    pictures = plots if isinstance(plots, Pictures) else Pictures(embed=bool(plots))
     from openpyxl import Workbook
     from openpyxl.styles import Alignment, Font
 
@@ -392,20 +430,23 @@ def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool = True
     _write_sheet(fixes_sheet, fixes, wide={"note": 80, "σ from": 30})
     _write_sheet(book.create_sheet("Rejected"), rejected_table(voyage), wide={"reason": 90})
     if voyage.next_plan is not None:
-        _write_plan_sheet(book.create_sheet("Sight plan"), voyage.next_plan, plots)
+        _write_plan_sheet(book.create_sheet("Sight plan"), voyage.next_plan, pictures.embed)
     if voyage.training is not None:
-        _write_training_sheet(book.create_sheet("Training"), voyage.training, plots)
+        _write_training_sheet(book.create_sheet("Training"), voyage.training, pictures)
     series = series_table(voyage)
     if len(series):
-        _write_series_sheet(book.create_sheet("Series"), voyage, series, plots)
+        _write_series_sheet(book.create_sheet("Series"), voyage, series, pictures)
 
-    if plots:
-        anchor_row = len(fixes) + 4
-        for group in voyage.groups:
-            if group.fix is None:
-                continue
-            _add_figure(fixes_sheet, plotting_figure(voyage, group), f"A{anchor_row}", 560, 560)
-            anchor_row += 30
+    fixed = [group for group in voyage.groups if group.fix is not None]
+    shown = fixed[:pictures.limit] if pictures.embed else []
+    anchor_row = len(fixes) + 4
+    note = pictures.note("plotting sheets", len(shown), len(fixed))
+    if note:
+        write_text_safe(fixes_sheet.cell(row=anchor_row - 1, column=1), note)
+        anchor_row += 1
+    for group in shown:
+        _add_figure(fixes_sheet, plotting_figure(voyage, group), f"A{anchor_row}", 560, 560)
+        anchor_row += 30
     _fit_pages(book)
     return atomic_write(path, book.save, inputs=voyage.log.sources)
 
@@ -422,7 +463,7 @@ def _fit_pages(book) -> None:
         sheet.page_setup.fitToHeight = 0
 
 
-def _write_training_sheet(sheet, report, plots: bool) -> None:
+def _write_training_sheet(sheet, report, pictures: Pictures) -> None:
     from openpyxl.styles import Font
 
     from .training import observer_figure
@@ -442,10 +483,15 @@ def _write_training_sheet(sheet, report, plots: bool) -> None:
         line += 3
     for k in range(1, 16):
         sheet.column_dimensions[sheet.cell(row=1, column=k).column_letter].width = 16
-    if plots:
-        for name in report.observers.observer:
-            _add_figure(sheet, observer_figure(report, name), f"A{line}", 640, 272)
-            line += 15
+    observers = list(report.observers.observer)
+    shown = observers[:pictures.limit] if pictures.embed else []
+    note = pictures.note("observer pictures", len(shown), len(observers))
+    if note:
+        write_text_safe(sheet.cell(row=line, column=1), note)
+        line += 2
+    for name in shown:
+        _add_figure(sheet, observer_figure(report, name), f"A{line}", 640, 272)
+        line += 15
 
 
 def series_table(voyage) -> pd.DataFrame:
@@ -497,13 +543,16 @@ def series_figure(voyage, name: str):
                        title=f"{name}: {part.body_name.iloc[0]}, {len(part)} sights")
 
 
-def _write_series_sheet(sheet, voyage, table: pd.DataFrame, plots: bool) -> None:
-
+def _write_series_sheet(sheet, voyage, table: pd.DataFrame, pictures: Pictures) -> None:
     _write_sheet(sheet, table)
-    if not plots:
-        return
     row = len(table) + 3
-    for k, name in enumerate(table.series):
+    names = list(table.series)
+    shown = names[:pictures.limit] if pictures.embed else []
+    note = pictures.note("series pictures", len(shown), len(names))
+    if note:
+        write_text_safe(sheet.cell(row=row, column=1), note)
+        row += 2
+    for k, name in enumerate(shown):
         _add_figure(sheet, series_figure(voyage, name), f"{'A' if k % 2 == 0 else 'G'}{row + (k // 2) * 14}", 400, 256)
 
 
@@ -549,22 +598,35 @@ def plotting_figure(voyage, group):
                           title=f"Plotting sheet: {group.name}", chart=group.chart)
 
 
-def write_plots(voyage: VoyageResult, folder: str | Path, formats: tuple[str, ...] = ("png", "svg")) -> list[Path]:
-    """Every fix's plotting sheet as PNG and SVG files in ``folder``."""
+def plot_file_stems(names) -> list[str]:
+    """A file-name stem for each fix group's plotting sheet: the name's letters and digits, made
+    unique ('a b' and 'a-b' would both be 'a-b': the second becomes 'a-b-2')."""
     import re
 
-    from .plotting import save_figure
+    stems, seen = [], {}
+    for name in names:
+        stem = re.sub(r"[^A-Za-z0-9_.-]+", "-", str(name)).strip("-.") or "fix"
+        count = seen.get(stem.lower(), 0) + 1
+        seen[stem.lower()] = count
+        stems.append(stem if count == 1 else f"{stem}-{count}")
+    return stems
+
+
+def write_plots(voyage: VoyageResult, folder: str | Path, formats: tuple[str, ...] = ("png", "svg"), *,
+                groups=None) -> list[Path]:
+    """Every fix's plotting sheet (or those of ``groups``) as PNG and SVG files in ``folder``."""
+    from .plotting import write_canvas
 
     out = Path(folder)
+    if out.exists() and not out.is_dir():
+        raise NavredError(f"{out} is a file: give a folder for the plotting sheets")
     out.mkdir(parents=True, exist_ok=True)
+    chosen = [g for g in (voyage.groups if groups is None else groups) if g.fix is not None]
     written = []
-    for group in voyage.groups:
-        if group.fix is None:
-            continue
-        figure = plotting_figure(voyage, group)
-        stem = re.sub(r"[^A-Za-z0-9_.-]+", "-", group.name).strip("-") or "fix"
+    for group, stem in zip(chosen, plot_file_stems(g.name for g in chosen)):
+        sheet = plotting_figure(voyage, group)
         for suffix in formats:
-            written.append(atomic_write(out / f"plot-{stem}.{suffix}", lambda p, f=figure: save_figure(f, p),
+            written.append(atomic_write(out / f"plot-{stem}.{suffix}", lambda p, s=sheet: write_canvas(s, p),
                                         inputs=voyage.log.sources))
     return written
 

@@ -120,10 +120,17 @@ def test_plotting_sheet_renders(ts, eph, tmp_path, names, offset):
     fix, reduced = _lops_fix(ts, eph, names, offset)
     times = reduced.sight_utc.dt.strftime("%H:%M")
     for suffix in ("png", "svg"):
-        out = save_plotting_sheet(fix, reduced.body_name, times, tmp_path / f"sheet.{suffix}",
-                                  title=f"{len(names)} lines", chart=(45.25, -20.5))
-        assert out.stat().st_size > 10_000
+        save_plotting_sheet(fix, reduced.body_name, times, tmp_path / f"sheet.{suffix}",
+                            title=f"{len(names)} lines", chart=(45.25, -20.5))
+    from PIL import Image
+
+    with Image.open(tmp_path / "sheet.png") as png:  # a real picture, at the size asked, with lines drawn on it
+        assert png.format == "PNG" and png.size == (880, 880)
+        assert len(png.convert("RGB").getcolors(1 << 20)) > 50
     svg = (tmp_path / "sheet.svg").read_text()
+    root = ET.fromstring(svg)
+    assert root.tag == "{http://www.w3.org/2000/svg}svg"  # well-formed SVG (W3C SVG 1.1)
+    assert len(root.findall("{http://www.w3.org/2000/svg}polyline")) >= len(names)
     plotted = set(reduced.body_name[np.isfinite(fix.lop_intercept_nm)])
     assert len(plotted) == len(names)
     assert all(f">{name} " in svg for name in plotted)  # every line is labelled with its body

@@ -1,0 +1,307 @@
+"""A small vector canvas with two renderers, SVG and PNG: the light drawing path of the plotting sheets.
+
+Edge code. A workbook of a long passage holds hundreds of plotting sheets and a fleet log
+thousands; a general plotting library spends a tenth of a second on each. A plotting sheet is
+a few dozen lines, a polygon and some labels, so it is described here once as a list of
+primitives in points (1/72 inch, origin at the top left, y downward) and rendered as:
+
+- SVG text written directly (text stays text: searchable, editable, any scale);
+- PNG through Pillow (the imaging library the workbook's pictures already need), drawn at
+  twice the size asked and reduced, so that lines are smooth.
+
+There is no transparency: a caller wanting a tint blends it with the paper (:func:`blend`)
+and draws it before what must show through. Lines and polygons are clipped to a rectangle
+when asked (Liang and Barsky, "A new concept and method for line clipping", ACM TOG 3(1),
+1984; Sutherland and Hodgman, "Reentrant polygon clipping", CACM 17(1), 1974).
+"""
+
+from __future__ import annotations
+
+import io
+import math
+from dataclasses import dataclass, field
+from functools import lru_cache
+from xml.sax.saxutils import escape
+
+import numpy as np
+
+Rect = tuple[float, float, float, float]  # x0, y0, x1, y1 in points
+
+
+def blend(colour: str, background: str, alpha: float) -> str:
+    """The opaque colour that ``colour`` at opacity ``alpha`` makes over ``background`` (#rrggbb)."""
+    top = np.array([int(colour[k:k + 2], 16) for k in (1, 3, 5)], dtype=float)
+    under = np.array([int(background[k:k + 2], 16) for k in (1, 3, 5)], dtype=float)
+    mixed = np.rint(alpha * top + (1.0 - alpha) * under).astype(int)
+    return "#" + "".join(f"{v:02x}" for v in mixed)
+
+
+def clip_segment(x0: float, y0: float, x1: float, y1: float, rect: Rect):
+    """The part of a segment inside a rectangle (Liang-Barsky), or None."""
+    dx, dy = x1 - x0, y1 - y0
+    lo, hi = 0.0, 1.0
+    for p, q in ((-dx, x0 - rect[0]), (dx, rect[2] - x0), (-dy, y0 - rect[1]), (dy, rect[3] - y0)):
+        if p == 0.0:
+            if q < 0.0:
+                return None
+            continue
+        t = q / p
+        if p < 0.0:
+            lo = max(lo, t)
+        else:
+            hi = min(hi, t)
+        if lo > hi:
+            return None
+    return x0 + lo * dx, y0 + lo * dy, x0 + hi * dx, y0 + hi * dy
+
+
+def clip_polygon(points: list[tuple[float, float]], rect: Rect) -> list[tuple[float, float]]:
+    """A polygon cut to a rectangle (Sutherland-Hodgman); empty when nothing is inside."""
+    def inside(p, edge):
+        return (p[0] >= rect[0], p[0] <= rect[2], p[1] >= rect[1], p[1] <= rect[3])[edge]
+
+    def crossing(p, q, edge):
+        if edge < 2:
+            x = rect[0] if edge == 0 else rect[2]
+            t = (x - p[0]) / (q[0] - p[0])
+            return x, p[1] + t * (q[1] - p[1])
+        y = rect[1] if edge == 2 else rect[3]
+        t = (y - p[1]) / (q[1] - p[1])
+        return p[0] + t * (q[0] - p[0]), y
+
+    out = list(points)
+    for edge in range(4):
+        if not out:
+            break
+        given, out = out, []
+        for k, q in enumerate(given):
+            p = given[k - 1]
+            if inside(q, edge):
+                if not inside(p, edge):
+                    out.append(crossing(p, q, edge))
+                out.append(q)
+            elif inside(p, edge):
+                out.append(crossing(p, q, edge))
+    return out
+
+
+@dataclass(frozen=True)
+class _Line:
+    points: tuple[tuple[float, float], ...]
+    colour: str
+    width: float
+    dash: tuple[float, ...] | None
+
+
+@dataclass(frozen=True)
+class _Polygon:
+    points: tuple[tuple[float, float], ...]
+    fill: str | None
+    outline: str | None
+    width: float
+
+
+@dataclass(frozen=True)
+class _Text:
+    x: float
+    y: float
+    text: str
+    size: float
+    colour: str
+    anchor: str  # start, middle, end
+    baseline: str  # bottom, middle, top
+    rotation: float  # degrees counter-clockwise
+    bold: bool
+    italic: bool
+    box: str | None
+
+
+@dataclass
+class Canvas:
+    """A page of primitives, ``width`` by ``height`` points, on a ``background`` colour."""
+
+    width: float
+    height: float
+    background: str = "#ffffff"
+    items: list = field(default_factory=list)
+
+    def line(self, xs, ys, colour: str, width: float = 1.0, dash: tuple[float, ...] | None = None,
+             clip: Rect | None = None) -> None:
+        """A polyline through the points (a straight segment when two), clipped to ``clip``."""
+        points = [(float(x), float(y)) for x, y in zip(xs, ys)]
+        if clip is None:
+            self.items.append(_Line(tuple(points), colour, width, dash))
+            return
+        for p, q in zip(points, points[1:]):
+            cut = clip_segment(*p, *q, clip)
+            if cut is not None:
+                self.items.append(_Line(((cut[0], cut[1]), (cut[2], cut[3])), colour, width, dash))
+
+    def polygon(self, xs, ys, fill: str | None = None, outline: str | None = None, width: float = 1.0,
+                clip: Rect | None = None) -> None:
+        points = [(float(x), float(y)) for x, y in zip(xs, ys)]
+        if clip is not None:
+            points = clip_polygon(points, clip)
+        if len(points) >= 3:
+            self.items.append(_Polygon(tuple(points), fill, outline, width))
+
+    def circle(self, x: float, y: float, radius: float, fill: str | None = None, outline: str | None = None,
+               width: float = 1.0) -> None:
+        angles = np.linspace(0.0, 2.0 * np.pi, 33)[:-1]
+        self.polygon(x + radius * np.cos(angles), y + radius * np.sin(angles), fill, outline, width)
+
+    def text(self, x: float, y: float, text: str, size: float, colour: str, *, anchor: str = "start",
+             baseline: str = "bottom", rotation: float = 0.0, bold: bool = False, italic: bool = False,
+             box: str | None = None) -> None:
+        """A label whose ``anchor`` (start, middle, end) and ``baseline`` (bottom, middle, top) sit at (x, y),
+        turned ``rotation`` degrees counter-clockwise about that point, on a ``box`` of colour if given."""
+        self.items.append(_Text(float(x), float(y), str(text), size, colour, anchor, baseline, float(rotation),
+                                bold, italic, box))
+
+    # --- SVG ---------------------------------------------------------------------------
+
+    def to_svg(self) -> str:
+        """The page as an SVG 1.1 document (text kept as text)."""
+        out = [f'<svg xmlns="http://www.w3.org/2000/svg" version="1.1" width="{self.width:g}pt" '
+               f'height="{self.height:g}pt" viewBox="0 0 {self.width:g} {self.height:g}">',
+               f'<rect width="100%" height="100%" fill="{self.background}"/>']
+        for item in self.items:
+            if isinstance(item, _Line):
+                path = " ".join(f"{x:.2f},{y:.2f}" for x, y in item.points)
+                dash = f' stroke-dasharray="{" ".join(f"{d:g}" for d in item.dash)}"' if item.dash else ""
+                out.append(f'<polyline points="{path}" fill="none" stroke="{item.colour}" '
+                           f'stroke-width="{item.width:g}"{dash}/>')
+            elif isinstance(item, _Polygon):
+                path = " ".join(f"{x:.2f},{y:.2f}" for x, y in item.points)
+                stroke = f' stroke="{item.outline}" stroke-width="{item.width:g}"' if item.outline else ""
+                out.append(f'<polygon points="{path}" fill="{item.fill or "none"}"{stroke}/>')
+            else:
+                out.append(_svg_text(item))
+        out.append("</svg>")
+        return "\n".join(out) + "\n"
+
+    # --- PNG ---------------------------------------------------------------------------
+
+    def to_png(self, width_px: int, *, compress_level: int = 3) -> bytes:
+        """The page as a PNG ``width_px`` pixels wide (the height in proportion)."""
+        from PIL import Image, ImageDraw
+
+        scale = 2.0 * width_px / self.width  # drawn at twice the size, then reduced: smooth lines
+        size = (int(round(self.width * scale)), int(round(self.height * scale)))
+        image = Image.new("RGB", size, self.background)
+        draw = ImageDraw.Draw(image)
+        for item in self.items:
+            if isinstance(item, _Line):
+                width = max(1, int(round(item.width * scale)))
+                for segment in _dashed(item.points, item.dash):
+                    draw.line([(x * scale, y * scale) for x, y in segment], fill=item.colour, width=width,
+                              joint="curve")
+            elif isinstance(item, _Polygon):
+                points = [(x * scale, y * scale) for x, y in item.points]
+                if item.fill:
+                    draw.polygon(points, fill=item.fill)
+                if item.outline:
+                    draw.line(points + points[:1], fill=item.outline, width=max(1, int(round(item.width * scale))),
+                              joint="curve")
+            else:
+                _png_text(image, draw, item, scale)
+        image = image.reduce(2)
+        out = io.BytesIO()
+        image.save(out, format="PNG", compress_level=compress_level)
+        return out.getvalue()
+
+
+_SVG_ANCHOR = {"start": "start", "middle": "middle", "end": "end"}
+_SVG_BASELINE = {"bottom": 0.0, "middle": 0.35, "top": 0.75}  # shift of the baseline, in ems
+
+
+def _svg_text(item: _Text) -> str:
+    weight = ' font-weight="bold"' if item.bold else ""
+    style = ' font-style="italic"' if item.italic else ""
+    turn = f' transform="rotate({-item.rotation:.2f} {item.x:.2f} {item.y:.2f})"' if item.rotation else ""
+    dy = _SVG_BASELINE[item.baseline] * item.size - (0.2 * item.size if item.baseline == "bottom" else 0.0)
+    box = ""
+    if item.box:
+        width = 0.56 * item.size * len(item.text) + 0.4 * item.size
+        x0 = {"start": item.x - 0.2 * item.size, "middle": item.x - width / 2, "end": item.x - width + 0.2 * item.size}[
+            item.anchor]
+        top = item.y + dy - 0.95 * item.size
+        box = (f'<rect x="{x0:.2f}" y="{top:.2f}" width="{width:.2f}" height="{1.25 * item.size:.2f}" rx="2" '
+               f'fill="{item.box}"{turn}/>')
+    return (f'{box}<text x="{item.x:.2f}" y="{item.y + dy:.2f}" font-family="DejaVu Sans, Verdana, sans-serif" '
+            f'font-size="{item.size:g}" fill="{item.colour}" text-anchor="{_SVG_ANCHOR[item.anchor]}"'
+            f'{weight}{style}{turn}>{escape(item.text)}</text>')
+
+
+@lru_cache(maxsize=64)
+def _font(size_px: int, bold: bool, italic: bool):
+    """The DejaVu Sans face that ships with the plotting library (offline, the same on every machine)."""
+    from pathlib import Path
+
+    import matplotlib
+    from PIL import ImageFont
+
+    name = "DejaVuSans" + ("-Bold" if bold else "") + ("Oblique" if italic and bold else "-Oblique" if italic else "")
+    path = Path(matplotlib.get_data_path()) / "fonts" / "ttf" / f"{name}.ttf"
+    return ImageFont.truetype(str(path), size_px)
+
+
+_PIL_ANCHOR = {("start", "bottom"): "ld", ("middle", "bottom"): "md", ("end", "bottom"): "rd",
+               ("start", "middle"): "lm", ("middle", "middle"): "mm", ("end", "middle"): "rm",
+               ("start", "top"): "la", ("middle", "top"): "ma", ("end", "top"): "ra"}
+
+
+def _png_text(image, draw, item: _Text, scale: float) -> None:
+    from PIL import Image, ImageDraw
+
+    font = _font(max(4, int(round(item.size * scale))), item.bold, item.italic)
+    anchor = _PIL_ANCHOR[(item.anchor, item.baseline)]
+    pad = 0.2 * item.size * scale
+    if not item.rotation:
+        x, y = item.x * scale, item.y * scale
+        if item.box:
+            x0, y0, x1, y1 = draw.textbbox((x, y), item.text, font=font, anchor=anchor)
+            draw.rounded_rectangle((x0 - pad, y0 - pad, x1 + pad, y1 + pad), radius=pad, fill=item.box)
+        draw.text((x, y), item.text, fill=item.colour, font=font, anchor=anchor)
+        return
+    # a turned label: drawn on its own tile, turned, and laid on so that its anchor lands on (x, y)
+    x0, y0, x1, y1 = draw.textbbox((0, 0), item.text, font=font, anchor=anchor)
+    margin = int(math.ceil(pad)) + 1
+    width, height = int(math.ceil(x1 - x0)) + 2 * margin, int(math.ceil(y1 - y0)) + 2 * margin
+    at_x, at_y = margin - x0, margin - y0  # the anchor in the tile
+    tile = Image.new("RGBA", (width, height), (0, 0, 0, 0))
+    pen = ImageDraw.Draw(tile)
+    if item.box:
+        pen.rounded_rectangle((margin - pad, margin - pad, width - margin + pad, height - margin + pad),
+                              radius=pad, fill=item.box)
+    pen.text((at_x, at_y), item.text, fill=item.colour, font=font, anchor=anchor)
+    turned = tile.rotate(item.rotation, resample=Image.BILINEAR, expand=True)
+    # where the anchor went: its offset from the tile's centre, turned counter-clockwise on the page
+    angle = math.radians(item.rotation)
+    dx, dy = at_x - width / 2, at_y - height / 2
+    new_x = turned.width / 2 + dx * math.cos(angle) + dy * math.sin(angle)
+    new_y = turned.height / 2 - dx * math.sin(angle) + dy * math.cos(angle)
+    image.paste(turned, (int(round(item.x * scale - new_x)), int(round(item.y * scale - new_y))), turned)
+
+
+def _dashed(points, dash):
+    """A polyline cut into its dashes (the whole line when ``dash`` is None)."""
+    if not dash:
+        yield list(points)
+        return
+    pattern = list(dash) * 2 if len(dash) % 2 else list(dash)
+    for p, q in zip(points, points[1:]):
+        length = math.hypot(q[0] - p[0], q[1] - p[1])
+        if length == 0.0:
+            continue
+        ux, uy = (q[0] - p[0]) / length, (q[1] - p[1]) / length
+        at, k = 0.0, 0
+        while at < length:
+            step = pattern[k % len(pattern)]
+            end = min(at + step, length)
+            if k % 2 == 0:
+                yield [(p[0] + ux * at, p[1] + uy * at), (p[0] + ux * end, p[1] + uy * end)]
+            at, k = end, k + 1
+
+
+__all__ = ["Canvas", "blend", "clip_segment", "clip_polygon"]

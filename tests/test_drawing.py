@@ -1,0 +1,141 @@
+"""The light drawing path (navred.drawing) and the workbook's picture options."""
+
+from __future__ import annotations
+
+import xml.etree.ElementTree as ET
+import zipfile
+
+import numpy as np
+import pytest
+from PIL import Image
+from typer.testing import CliRunner
+
+from navred.cli import app
+from navred.drawing import Canvas, blend, clip_polygon, clip_segment
+from navred.voyage import process_log
+from navred.workbook import Pictures, plot_file_stems, write_workbook
+
+runner = CliRunner()
+DEMO = "sample_sights/demo_sights.csv"
+RECT = (0.0, 0.0, 10.0, 5.0)
+
+
+@pytest.mark.parametrize("segment", [(-5, 2, 15, 2), (2, -3, 8, 9), (1, 1, 3, 4), (-2, -2, -1, 8), (-4, 6, 14, -2)])
+def test_a_clipped_segment_is_the_part_inside(segment):
+    # Liang and Barsky (1984): the clipped segment is the set of the segment's points inside the rectangle;
+    # checked here by sampling the segment densely (brute force)
+    t = np.linspace(0.0, 1.0, 20001)
+    x = segment[0] + t * (segment[2] - segment[0])
+    y = segment[1] + t * (segment[3] - segment[1])
+    inside = (x >= RECT[0]) & (x <= RECT[2]) & (y >= RECT[1]) & (y <= RECT[3])
+    cut = clip_segment(*map(float, segment), RECT)
+    if not inside.any():
+        assert cut is None
+        return
+    first, last = np.flatnonzero(inside)[[0, -1]]
+    assert cut == pytest.approx((x[first], y[first], x[last], y[last]), abs=2e-3)
+
+
+def shoelace(points):
+    x, y = np.array(points).T
+    return 0.5 * abs(np.dot(x, np.roll(y, -1)) - np.dot(y, np.roll(x, -1)))
+
+
+def test_a_clipped_polygon_keeps_the_area_inside():
+    # Sutherland and Hodgman (1974); areas by the shoelace formula
+    square = [(-2.0, -2.0), (2.0, -2.0), (2.0, 2.0), (-2.0, 2.0)]
+    assert shoelace(clip_polygon(square, RECT)) == pytest.approx(4.0)  # the quarter in the rectangle
+    t = np.linspace(0, 2 * np.pi, 721)[:-1]
+    circle = list(zip(5 + 3 * np.cos(t), 5 + 3 * np.sin(t)))  # centred on the top edge: half inside
+    assert shoelace(clip_polygon(circle, RECT)) == pytest.approx(np.pi * 9 / 2, rel=1e-4)
+    assert clip_polygon([(20.0, 20.0), (30.0, 20.0), (30.0, 30.0)], RECT) == []
+
+
+def test_blend_is_the_colour_over_its_background():
+    # alpha compositing, Porter and Duff, "Compositing digital images", SIGGRAPH 1984: c = a·top + (1 − a)·under
+    assert blend("#d1495b", "#f7f3e8", 1.0) == "#d1495b"
+    assert blend("#d1495b", "#f7f3e8", 0.0) == "#f7f3e8"
+    assert blend("#000000", "#ffffff", 0.5) == "#808080"
+
+
+def test_text_from_a_log_is_escaped_in_svg():
+    # W3C XML 1.0: < and & in character data must be escaped, or the document is not well-formed
+    page = Canvas(100, 50)
+    page.text(10, 20, 'Star <script>alert("x")</script> & co', 8, "#000000", rotation=30, box="#ffffff")
+    root = ET.fromstring(page.to_svg())
+    texts = [e.text for e in root.iter("{http://www.w3.org/2000/svg}text")]
+    assert texts == ['Star <script>alert("x")</script> & co']
+    assert not list(root.iter("{http://www.w3.org/2000/svg}script"))
+
+
+def dark(png: bytes):
+    with Image.open(__import__("io").BytesIO(png)) as image:
+        pixels = np.asarray(image.convert("L"))
+    return np.argwhere(pixels < 128)  # (row, column) of the ink
+
+
+@pytest.mark.parametrize("rotation, where", [(0, "right"), (90, "up"), (-90, "down"), (180, "left")])
+def test_a_turned_label_starts_at_its_anchor(rotation, where):
+    # a label anchored at its start turns about that point, counter-clockwise on the page (common practice,
+    # as text rotation is specified in SVG 1.1 and in every plotting library)
+    page = Canvas(200, 200)
+    page.text(100, 100, "MMMMMMMM", 10, "#000000", anchor="start", baseline="middle", rotation=rotation)
+    ink = dark(page.to_png(200))
+    rows, columns = ink[:, 0], ink[:, 1]
+    if where == "right":
+        assert columns.min() >= 98 and columns.max() > 140 and abs(np.median(rows) - 100) < 4
+    elif where == "left":
+        assert columns.max() <= 102 and columns.min() < 60 and abs(np.median(rows) - 100) < 4
+    elif where == "up":
+        assert rows.max() <= 102 and rows.min() < 60 and abs(np.median(columns) - 100) < 4
+    else:
+        assert rows.min() >= 98 and rows.max() > 140 and abs(np.median(columns) - 100) < 4
+
+
+def test_the_png_is_the_size_asked_and_lines_are_drawn_where_asked():
+    page = Canvas(100, 50, "#ffffff")
+    page.line([0, 100], [25, 25], "#000000", 2.0)
+    page.line([50, 50], [-10, 80], "#000000", 1.0, clip=(0.0, 0.0, 40.0, 50.0))  # clipped away entirely
+    ink = dark(page.to_png(300))
+    assert Image.open(__import__("io").BytesIO(page.to_png(300))).size == (300, 150)
+    assert set(np.unique(ink[:, 0])) <= set(range(72, 79)) and ink[:, 1].min() == 0 and ink[:, 1].max() == 299
+
+
+def test_plot_file_names_never_collide():
+    # two group names with the same letters and digits would write one file over the other
+    assert plot_file_stems(["a b", "a-b", "A/B", "", "évening"]) == ["a-b", "a-b-2", "A-B-3", "fix", "vening"]
+
+
+def media(path) -> list[str]:
+    with zipfile.ZipFile(path) as archive:
+        return [n for n in archive.namelist() if n.startswith("xl/media/")]
+
+
+def test_pictures_beyond_the_limit_are_counted_never_dropped_silently(tmp_path):
+    import openpyxl
+
+    voyage = process_log(DEMO)
+    fixed = sum(g.fix is not None for g in voyage.groups)
+    book = write_workbook(voyage, tmp_path / "two.xlsx", plots=Pictures(limit=2))
+    assert fixed == 3 and len(media(book)) == 2 + 1  # two plotting sheets and the sight plan's sky
+    texts = [c.value for row in openpyxl.load_workbook(book)["Fixes"].iter_rows() for c in row if c.value]
+    assert "The first 2 of 3 plotting sheets are pictured here; 1 is not: write every plotting sheet as a file " \
+           "with navred workbook --plots FOLDER." in texts
+    none = write_workbook(voyage, tmp_path / "none.xlsx", plots=False)
+    assert media(none) == []
+    texts = [c.value for row in openpyxl.load_workbook(none)["Fixes"].iter_rows() for c in row if c.value]
+    assert any(str(t).startswith("Pictures left out of this workbook (3 plotting sheets)") for t in texts)
+
+
+def test_the_picture_options_of_the_workbook_command(tmp_path):
+    embedded = runner.invoke(app, ["workbook", DEMO, "-o", str(tmp_path / "e.xlsx")])
+    assert embedded.exit_code == 0 and len(media(tmp_path / "e.xlsx")) == 4
+    files = runner.invoke(app, ["workbook", DEMO, "-o", str(tmp_path / "f.xlsx"), "--pictures", "files",
+                                "--plot-formats", "svg"])
+    assert files.exit_code == 0, files.output
+    folder = tmp_path / "f-plots"  # beside the workbook
+    assert sorted(p.suffix for p in folder.iterdir()) == [".svg"] * 3
+    assert media(tmp_path / "f.xlsx") == [] and "every one is in" in files.output
+    for bad in (["--pictures", "some"], ["--plot-formats", "gif"], ["--plot-formats", ","]):
+        result = runner.invoke(app, ["workbook", DEMO, "-o", str(tmp_path / "b.xlsx"), *bad])
+        assert result.exit_code == 1 and "Traceback" not in result.output and bad[0] in result.output

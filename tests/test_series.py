@@ -116,6 +116,7 @@ def test_series_are_grouped_by_body_observer_and_gap():
 
 def test_a_series_with_a_blunder_still_draws_its_curve(tmp_path):
     # the invented training voyage (sample_sights/): its first noon series of four Sun sights, one off by 20′
+    from navred.plotting import INK
     from navred.voyage import process_log
     from navred.workbook import series_figure
 
@@ -130,8 +131,11 @@ def test_a_series_with_a_blunder_still_draws_its_curve(tmp_path):
     assert voyage.reduced.series_flag[row]
     members = voyage.reduced[voyage.reduced.series == name]
     assert members.series_flag.sum() == 1 and np.isfinite(members.series_offset_arcmin).all()
-    figure = series_figure(voyage, name)
-    axis = figure.axes[0]
-    assert "nan" not in axis.get_ylabel()
-    curve = axis.get_lines()[0].get_ydata()
-    assert np.isfinite(curve).all() and len(curve) > 10
+    picture = series_figure(voyage, name)  # a navred.drawing.Canvas: its items are the drawn primitives
+    labels = [item.text for item in picture.items if hasattr(item, "text")]
+    assert not any("nan" in label.lower() for label in labels)
+    assert any(label.startswith("Ho − ") for label in labels)
+    # the predicted curve: the 1.2-pt ink line, clipped into segments, finite and more than ten of them
+    curve = [item.points for item in picture.items if hasattr(item, "points") and getattr(item, "width", 0) == 1.2
+             and getattr(item, "dash", None) is None and item.colour == INK]
+    assert len(curve) > 10 and np.isfinite(np.array(curve, dtype=float)).all()

@@ -15,7 +15,8 @@ import numpy as np
 from jplephem.spk import SPK
 from numpy.typing import ArrayLike
 
-from .errors import BodyNameError
+from .constants import JD_J2000, SECONDS_PER_DAY
+from .errors import BodyNameError, NavredError, failed_elements
 
 EPHEMERIS_NAME = "JPL DE421"
 
@@ -43,26 +44,83 @@ def _kernel() -> SPK:
     return SPK.open(ephemeris_path())
 
 
-#: Instants per block when a segment is evaluated: jplephem gathers a (3, coefficients, n)
-#: block of Chebyshev coefficients, 300 MB for a million instants of the Earth-Moon
-#: barycentre, so large batches are evaluated in blocks of this size (not per instant).
+class _Segment:
+    """One SPK type-2 segment's Chebyshev coefficients, one contiguous row per record.
+
+    The file stores each record as [mid, radius, x0..x(K-1), y0.., z0..]; the rows are kept in
+    that order, so the coefficients of an instant's record are 3K numbers side by side in
+    memory. Gathering them per instant costs a quarter of a gather along the record axis of a
+    coefficient-major array (issue 13's measurement); the polynomial sums are then one
+    ``einsum`` over the gathered block.
+    """
+
+    def __init__(self, centre: int, target: int):
+        segment = _kernel()[centre, target]
+        if segment.data_type != 2:
+            raise NavredError(f"ephemeris segment {centre}->{target} is of SPK type {segment.data_type}; "
+                              "navred reads type 2 (Chebyshev position) only")
+        init_s, interval_s, record_size, records = segment.daf.read_array(segment.end_i - 3, segment.end_i)
+        self.records, record_size = int(records), int(record_size)
+        self.order = (record_size - 2) // 3
+        raw = segment.daf.map_array(segment.start_i, segment.end_i - 4).reshape(self.records, record_size)
+        self.coefficients = np.ascontiguousarray(raw[:, 2:])  # (records, 3K): the x, y, z blocks
+        self.init_s, self.interval_s = float(init_s), float(interval_s)
+        self.name = f"{centre}->{target}"
+
+    def state(self, tdb1: np.ndarray, tdb2: np.ndarray, velocity: bool) -> tuple[np.ndarray, np.ndarray | None]:
+        """Position (km) and, if asked, velocity (km/day), shape (3, n) each, at TDB dates (n,)."""
+        seconds = ((tdb1 - JD_J2000) * SECONDS_PER_DAY - self.init_s) + tdb2 * SECONDS_PER_DAY
+        record = np.floor(seconds / self.interval_s)
+        outside = ~((record >= 0) & (record <= self.records))
+        if outside.any():
+            raise NavredError(f"instants outside the {EPHEMERIS_NAME} segment {self.name}: "
+                              f"{failed_elements(outside)}")
+        record = np.minimum(record, self.records - 1)  # the very end of the last record
+        s = 2.0 * (seconds - record * self.interval_s) / self.interval_s - 1.0
+        k, n = self.order, s.size
+        # Chebyshev polynomials T_j(s) by T_j+1 = 2s T_j - T_j-1, and their derivatives by
+        # T'_j+1 = 2 T_j + 2s T'_j - T'_j-1 (Press et al., Numerical Recipes, 3rd ed., 5.8-5.9)
+        two_s = 2.0 * s
+        t = np.empty((k, n))
+        t[0], t[1] = 1.0, s
+        for j in range(2, k):
+            np.multiply(two_s, t[j - 1], out=t[j])
+            t[j] -= t[j - 2]
+        block = np.take(self.coefficients, record.astype(np.intp), axis=0).reshape(n, 3, k)
+        # one sum per polynomial family: an einsum with a single output pair runs at memory speed
+        position = np.einsum("nck,kn->cn", block, t)
+        if not velocity:
+            return position, None
+        d = np.empty((k, n))
+        d[0], d[1] = 0.0, 1.0
+        for j in range(2, k):
+            d[j] = 2.0 * t[j - 1] + two_s * d[j - 1] - d[j - 2]
+        rate = np.einsum("nck,kn->cn", block, d)
+        return position, rate * (2.0 * SECONDS_PER_DAY / self.interval_s)
+
+
+@functools.cache
+def _segment(centre: int, target: int) -> _Segment:
+    return _Segment(centre, target)
+
+
+#: Instants per block when a segment is evaluated: the gathered coefficients take 3K numbers
+#: an instant (about 300 MB for a million instants of the Moon), so large batches are
+#: evaluated in blocks of this size.
 BLOCK = 65536
 
 
 def _evaluate(centre: int, target: int, tdb1, tdb2, velocity: bool):
-    """Position (and velocity) of one segment, shape (3, n), in blocks of :data:`BLOCK`."""
-    segment = _kernel()[centre, target]
+    """Position (and velocity) of one segment, shape (3, ...), in blocks of :data:`BLOCK`."""
     t1, t2 = np.broadcast_arrays(np.asarray(tdb1, dtype=float), np.asarray(tdb2, dtype=float))
     shape = t1.shape
     t1, t2 = t1.ravel(), t2.ravel()
-    if t1.size <= BLOCK:
-        out = segment.compute_and_differentiate(t1, t2) if velocity else (segment.compute(t1, t2),)
-    else:
-        parts = [segment.compute_and_differentiate(t1[i:i + BLOCK], t2[i:i + BLOCK]) if velocity
-                 else (segment.compute(t1[i:i + BLOCK], t2[i:i + BLOCK]),)
-                 for i in range(0, t1.size, BLOCK)]
-        out = tuple(np.concatenate([p[k] for p in parts], axis=-1) for k in range(len(parts[0])))
-    return tuple(np.asarray(o).reshape((3,) + shape) for o in out)
+    segment = _segment(centre, target)
+    parts = [segment.state(t1[i:i + BLOCK], t2[i:i + BLOCK], velocity) for i in range(0, max(t1.size, 1), BLOCK)]
+    position = np.concatenate([p[0] for p in parts], axis=-1).reshape((3,) + shape)
+    if not velocity:
+        return (position,)
+    return position, np.concatenate([p[1] for p in parts], axis=-1).reshape((3,) + shape)
 
 
 def _chain(body: str):
@@ -90,32 +148,21 @@ class SegmentCache:
     """Segment states at one batch of TDB instants, each segment evaluated at most once.
 
     The almanac asks for the Earth, the Sun and several bodies at the same
-    instants; the Earth-Moon barycentre and the Earth segments are shared.
+    instants; the Earth-Moon barycentre and the Earth segments are shared. Every
+    segment is evaluated with its velocity (it costs a third more than the
+    position alone, and the light time of any body needs it).
     """
 
     def __init__(self, tdb1, tdb2=0.0):
         self.tdb1 = np.asarray(tdb1, dtype=float)
         self.tdb2 = np.asarray(tdb2, dtype=float)
         self._states: dict[tuple[int, int], tuple[np.ndarray, np.ndarray]] = {}
-        self._positions: dict[tuple[int, int], np.ndarray] = {}
 
     def segment(self, centre: int, target: int) -> tuple[np.ndarray, np.ndarray]:
         key = (centre, target)
         if key not in self._states:
             self._states[key] = _evaluate(centre, target, self.tdb1, self.tdb2, velocity=True)
         return self._states[key]
-
-    def segment_position(self, centre: int, target: int) -> np.ndarray:
-        key = (centre, target)
-        if key in self._states:
-            return self._states[key][0]
-        if key not in self._positions:
-            self._positions[key] = _evaluate(centre, target, self.tdb1, self.tdb2, velocity=False)[0]
-        return self._positions[key]
-
-    def barycentric_position(self, body: str) -> np.ndarray:
-        """Barycentric position (km), shape (3, ...), without the cost of the velocity."""
-        return sum(self.segment_position(c, t) for c, t in _chain(body))
 
     def barycentric(self, body: str) -> tuple[np.ndarray, np.ndarray]:
         """Barycentric position (km) and velocity (km/day), shape (3, ...) each."""

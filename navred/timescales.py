@@ -17,13 +17,13 @@ import functools
 import importlib.resources
 import re
 import warnings
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import erfa
 import numpy as np
 from numpy.typing import ArrayLike
 
-from .constants import JD_J2000, SECONDS_PER_DAY
+from .constants import JD_J2000, SECONDS_PER_DAY, TT_MINUS_TAI_S
 from .errors import NavredWarning, TimeInputError, failed_elements
 
 #: The span navred accepts: the JPL DE421 ephemeris covers 1899-07-29 to 2053-10-09.
@@ -39,6 +39,8 @@ UT1_BEYOND = "beyond the IERS table"
 UT1_BEFORE = "before the IERS table"
 UT1_GIVEN = "given by the caller"
 UT1_PRE_UTC = "before 1960: time taken as UT"
+_SOURCES = np.array([UT1_MEASURED, UT1_PREDICTED, UT1_BEYOND, UT1_BEFORE, UT1_GIVEN, UT1_PRE_UTC], dtype=object)
+_SOURCE_CODE = {name: k for k, name in enumerate(_SOURCES)}
 
 _ISO = re.compile(
     r"^\s*(\d{4})-(\d{2})-(\d{2})[T ](\d{2}):(\d{2})(?::(\d{2}(?:[.,]\d+)?))?\s*"
@@ -60,6 +62,9 @@ class Instants:
     ut12: np.ndarray
     dut1_s: np.ndarray
     ut1_source: np.ndarray
+    #: work shared by every body at these instants (the almanac keeps its frame here); a new
+    #: batch made by indexing, broadcasting or ravelling starts empty
+    shared: dict = field(default_factory=dict, compare=False, repr=False)
 
     @property
     def shape(self) -> tuple[int, ...]:
@@ -90,7 +95,11 @@ class Instants:
         return Instants(*(np.broadcast_to(getattr(self, f), shape) for f in INSTANT_FIELDS))
 
     def ravel(self) -> Instants:
-        return Instants(*(np.ascontiguousarray(getattr(self, f)).ravel() for f in INSTANT_FIELDS))
+        """The same instants as one flat batch, sharing this batch's :attr:`shared` work."""
+        if len(self.shape) == 1:
+            return self
+        return Instants(*(np.ascontiguousarray(getattr(self, f)).ravel() for f in INSTANT_FIELDS),
+                        shared=self.shared)
 
 
 INSTANT_FIELDS = ("utc1", "utc2", "tt1", "tt2", "ut11", "ut12", "dut1_s", "ut1_source")
@@ -392,6 +401,11 @@ def utc_julian_date(utc: object) -> tuple[np.ndarray, np.ndarray]:
     >>> float(jd1 + jd2)
     2451545.0
     """
+    utc = _to_numpy_input(utc)
+    if isinstance(utc, np.ndarray) and np.issubdtype(utc.dtype, np.datetime64):
+        fast = _utc_julian_date_from_datetime64(utc)
+        if fast is not None:
+            return fast
     jd1, jd2, reasons = utc_julian_date_from_components(*instant_components(utc))
     bad = reasons != ""
     if bad.any():
@@ -403,6 +417,52 @@ def utc_julian_date(utc: object) -> tuple[np.ndarray, np.ndarray]:
             raise TimeInputError(f"{_SPAN_TEXT}: {failed_elements(bad)} (first offending year {years[0]})")
         raise TimeInputError(f"{_LEAP_TEXT}: {failed_elements(bad)}")
     return jd1, jd2
+
+
+_NS_PER_DAY = 86_400_000_000_000
+_UNIX_EPOCH_JD = 2440587.5
+_FAST_START_MJD = 41317.0  # 1972-01-01: from here TAI − UTC is a whole number of seconds
+
+
+@functools.lru_cache(maxsize=1)
+def _whole_second_steps() -> tuple[np.ndarray, np.ndarray]:
+    """(MJD from which each TAI − UTC value holds, the value in s) for 1972 on, from the leap-second table."""
+    table = leap_second_table()
+    starts = erfa.cal2jd(table.year, table.month, np.ones_like(table.year))[1]
+    keep = starts >= _FAST_START_MJD
+    return np.asarray(starts[keep], dtype=float), np.asarray(table.tai_utc_s[keep], dtype=float)
+
+
+def tai_minus_utc_fast_s(mjd: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """TAI − UTC in seconds for UTC MJDs, and where that is exact without ERFA.
+
+    From 1972 TAI − UTC is a whole number of seconds that changes only after a leap second,
+    so it is one table lookup (IERS Bulletin C; the same table ERFA's ``dat`` holds). An instant
+    before 1972, or on a day that ends with a leap second (ERFA stretches that day's quasi-JD to
+    86,401 s), is not covered and goes through ERFA.
+    """
+    starts, values = _whole_second_steps()
+    day = np.floor(mjd)
+    following = np.searchsorted(starts, day, side="right")  # the next step's index
+    at = np.clip(following - 1, 0, len(values) - 1)
+    ends_with_leap = day + 1.0 == starts[np.minimum(following, len(starts) - 1)]
+    covered = (day >= _FAST_START_MJD) & ~ends_with_leap
+    return np.array(values[at], dtype=float), np.asarray(covered)
+
+
+def _utc_julian_date_from_datetime64(values: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
+    """Two-part UTC JDs straight from datetime64 (taken as UTC), or None when an element needs the
+    careful path (NaT, outside 1972-2050, a day that ends with a leap second)."""
+    ns = values.astype("datetime64[ns]")
+    if np.isnat(ns).any():
+        return None
+    days, rest = np.divmod(ns.astype(np.int64), _NS_PER_DAY)
+    mjd = days + (_UNIX_EPOCH_JD - _MJD0)
+    _, covered = tai_minus_utc_fast_s(mjd.astype(float))
+    if not covered.all() or (days > (_END_JD - _UNIX_EPOCH_JD - 1)).any():
+        return None
+    # the layout of ERFA's dtf2d: the Julian date of 0h, and the fraction of the day
+    return days + _UNIX_EPOCH_JD, rest / _NS_PER_DAY
 
 
 def utc_minus_seconds(utc1: ArrayLike, utc2: ArrayLike, seconds: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
@@ -476,17 +536,19 @@ def instants_from_utc_jd(utc1: ArrayLike, utc2: ArrayLike, dut1_s: ArrayLike | N
     pre_utc = (utc1 + utc2) < _UTC_START_JD
     table = iers_table()
     mjd = (utc1 - _MJD0) + utc2
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", erfa.ErfaWarning)
-        y, m, d, _ = erfa.jd2cal(utc1, utc2)
-        tai_utc = erfa.dat(y, m, d, 0.0)
+    tai_utc, covered = tai_minus_utc_fast_s(mjd)
+    if not covered.all():
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", erfa.ErfaWarning)
+            y, m, d, _ = erfa.jd2cal(utc1[~covered], utc2[~covered])
+            tai_utc[~covered] = erfa.dat(y, m, d, 0.0)
     given = np.zeros(shape, dtype=bool)
     if dut1_s is not None:
         given_dut1 = np.broadcast_to(np.asarray(dut1_s, dtype=float), shape)
         given = np.isfinite(given_dut1)
-    if given.all():
+    if dut1_s is not None and given.all():
         dut1 = np.array(given_dut1, dtype=float)
-        source = np.full(shape, UT1_GIVEN, dtype=object)
+        source = np.full(shape, _SOURCE_CODE[UT1_GIVEN], dtype=np.int8)
     else:
         ut1_tai = np.interp(mjd, table.mjd, table.ut1_minus_tai_s)
         dut1 = ut1_tai + tai_utc
@@ -494,9 +556,10 @@ def instants_from_utc_jd(utc1: ArrayLike, utc2: ArrayLike, dut1_s: ArrayLike | N
         before = (mjd < table.mjd[0]) & ~given
         dut1 = np.where(beyond, table.dut1_s[-1], dut1)
         dut1 = np.where(before, 0.0, dut1)
-        source = np.where(mjd <= table.last_measured_mjd, UT1_MEASURED, UT1_PREDICTED).astype(object)
-        source = np.where(beyond, UT1_BEYOND, source)
-        source = np.where(before, UT1_BEFORE, source)
+        source = np.where(mjd <= table.last_measured_mjd, _SOURCE_CODE[UT1_MEASURED],
+                          _SOURCE_CODE[UT1_PREDICTED]).astype(np.int8)
+        source[beyond] = _SOURCE_CODE[UT1_BEYOND]
+        source[before] = _SOURCE_CODE[UT1_BEFORE]
         if beyond.any():
             warnings.warn(
                 f"instants after {table.last_predicted_date}, the end of the IERS table "
@@ -512,9 +575,9 @@ def instants_from_utc_jd(utc1: ArrayLike, utc2: ArrayLike, dut1_s: ArrayLike | N
                 "(at most 0.025′ of GHA).", NavredWarning, stacklevel=2)
         if given.any():
             dut1 = np.where(given, given_dut1, dut1)
-            source = np.where(given, UT1_GIVEN, source)
+            source[given] = _SOURCE_CODE[UT1_GIVEN]
     dut1 = np.where(pre_utc, 0.0, dut1)
-    source = np.where(pre_utc, UT1_PRE_UTC, source)
+    source[pre_utc] = _SOURCE_CODE[UT1_PRE_UTC]
     expires = leap_second_table().expires
     expiry_jd = erfa.cal2jd(expires.year, expires.month, expires.day)
     late = ~pre_utc & ((utc1 + utc2) > sum(expiry_jd))
@@ -524,11 +587,22 @@ def instants_from_utc_jd(utc1: ArrayLike, utc2: ArrayLike, dut1_s: ArrayLike | N
             f"table ({failed_elements(late)}): a leap second may have been announced since. Update "
             "astropy-iers-data; until then TT may be 1 s out (about 0.5″ of the Moon's place, which moves about 33′ an hour).",
             NavredWarning, stacklevel=2)
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", erfa.ErfaWarning)
-        tai1, tai2 = erfa.utctai(utc1, utc2)
-        tt1, tt2 = erfa.taitt(tai1, tai2)
-        ut11, ut12 = erfa.utcut1(utc1, utc2, dut1)
+    # UTC -> TAI -> TT and UTC -> UT1 (IERS Conventions 2010, ch. 5): from 1972, away from the
+    # days that end with a leap second, TAI = UTC + (TAI − UTC) and UT1 = UTC + DUT1, as ERFA's
+    # utctai and utcut1 compute them; the other instants go through ERFA
+    tt1, ut11 = utc1, utc1
+    tt2 = utc2 + (tai_utc + TT_MINUS_TAI_S) / SECONDS_PER_DAY
+    ut12 = utc2 + dut1 / SECONDS_PER_DAY
+    if not covered.all():
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", erfa.ErfaWarning)
+            u1, u2 = utc1[~covered], utc2[~covered]
+            tai1, tai2 = erfa.utctai(u1, u2)
+            slow_tt1, slow_tt2 = erfa.taitt(tai1, tai2)
+            slow_ut11, slow_ut12 = erfa.utcut1(u1, u2, np.broadcast_to(dut1, shape)[~covered])
+        tt1, tt2, ut11, ut12 = (np.array(a, dtype=float, copy=True) for a in (tt1, tt2, ut11, ut12))
+        tt1[~covered], tt2[~covered] = slow_tt1, slow_tt2
+        ut11[~covered], ut12[~covered] = slow_ut11, slow_ut12
     if pre_utc.any():
         year_fraction = 2000.0 + ((utc1 - JD_J2000) + utc2) / 365.25
         delta_t = delta_t_before_1960_s(year_fraction)
@@ -537,7 +611,7 @@ def instants_from_utc_jd(utc1: ArrayLike, utc2: ArrayLike, dut1_s: ArrayLike | N
         ut11, ut12 = np.where(pre_utc, utc1, ut11), np.where(pre_utc, utc2, ut12)
     return Instants(np.asarray(utc1), np.asarray(utc2), np.asarray(tt1), np.asarray(tt2),
                     np.asarray(ut11), np.asarray(ut12), np.asarray(dut1, dtype=float),
-                    np.asarray(source, dtype=object))
+                    _SOURCES[np.ravel(source)].reshape(shape))
 
 
 def utc_jd_to_datetime64(utc1: ArrayLike, utc2: ArrayLike) -> np.ndarray:

@@ -186,6 +186,22 @@ def test_nutation_grid_matches_direct_evaluation():
         assert np.abs(a - b).max() < np.radians(0.001 / 3600)
 
 
+def test_nutation_of_an_instant_does_not_depend_on_its_batch():
+    # the grid's nodes are whole days whatever the batch holds (a dense batch evaluates the span,
+    # a sparse one only the nodes it needs): an instant gets the same value alone or in company,
+    # and the sparse path agrees with ERFA's direct series within 0.001″ as the dense one does
+    rng = np.random.default_rng(8)
+    days = rng.uniform(-10000, 18000, 40)  # sparse: 28,000 days for 40 instants
+    dense = np.concatenate([days[:1], np.linspace(days[0] - 3, days[0] + 3, 500)])
+    alone = nutation_rad(2451545.0, days[:1])
+    for batch in (days, dense):
+        together = nutation_rad(2451545.0, batch)
+        for a, b in zip(alone, together):
+            assert a[0] == b[0]
+    for a, b in zip(nutation_rad(2451545.0, days, grid=False), nutation_rad(2451545.0, days)):
+        assert np.abs(a - b).max() < np.radians(0.001 / 3600)
+
+
 def test_iau2000b_against_full_iau2006_2000a_model():
     # ERFA documents IAU 2000B within 1 mas of IAU 2000A over 1900-2100; measured here on the
     # three axes through the whole bias-precession-nutation matrix against ERFA's full

@@ -52,13 +52,34 @@ def meridian_arc_m(lat_deg: ArrayLike) -> np.ndarray:
     return A_M * (_M0 * phi - _M2 * np.sin(2 * phi) + _M4 * np.sin(4 * phi) - _M6 * np.sin(6 * phi))
 
 
-def latitude_from_meridian_arc_deg(arc_m: ArrayLike) -> np.ndarray:
+def meridian_radius_m(lat_deg: ArrayLike) -> np.ndarray:
+    """ρ, the radius of curvature in the meridian (metres): a(1 − e²)/(1 − e² sin²φ)^(3/2)."""
+    s = np.sin(np.radians(np.asarray(lat_deg, dtype=float)))
+    return A_M * (1 - E2) / (1 - E2 * s * s) ** 1.5
+
+
+def latitude_from_meridian_arc_deg(arc_m: ArrayLike, near: tuple[ArrayLike, ArrayLike] | None = None) -> np.ndarray:
     """The latitude (degrees) whose meridian arc from the equator is ``arc_m`` metres.
+
+    ``near`` = (a latitude in degrees, its meridian arc in metres) within 300 nautical miles of
+    the answer starts Newton's method there, one step from the answer (a track sailed from a
+    known position); otherwise the footpoint series starts it.
 
     >>> round(float(latitude_from_meridian_arc_deg(meridian_arc_m(60.0))), 12)
     60.0
+    >>> round(float(latitude_from_meridian_arc_deg(meridian_arc_m(60.5), (60.0, meridian_arc_m(60.0)))), 12)
+    60.5
     """
     arc = np.asarray(arc_m, dtype=float)
+    if near is not None:
+        lat_near, arc_near = (np.asarray(v, dtype=float) for v in near)
+        offset = arc - arc_near
+        if np.all(np.abs(offset) < 300.0 * METRES_PER_NM):
+            # the linear start is off by about (3/2) e² sin 2φ (Δφ)² / 2 (under 1e-5 rad at 300 nm), and
+            # Newton squares that: one step leaves less than 1e-10 rad (a millimetre)
+            phi = np.radians(lat_near) + offset / meridian_radius_m(lat_near)
+            rho = A_M * (1 - E2) / (1 - E2 * np.sin(phi) ** 2) ** 1.5
+            return np.degrees(phi + (arc - meridian_arc_m(np.degrees(phi))) / rho)
     mu = arc / (A_M * _M0)
     phi = mu + _F2 * np.sin(2 * mu) + _F4 * np.sin(4 * mu) + _F6 * np.sin(6 * mu) + _F8 * np.sin(8 * mu)
     for _ in range(2):
@@ -159,5 +180,33 @@ def rhumb_track(lat0_deg: ArrayLike, lon0_deg: ArrayLike, north_nm: ArrayLike, c
     return ends, wrap_180(lon0 + np.degrees(np.cumsum(dlon, axis=axis)))
 
 
+def rhumb_track_through(lat_deg: ArrayLike, lon_deg: ArrayLike, at: ArrayLike, north_nm: ArrayLike,
+                        course_deg: ArrayLike, distance_nm: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
+    """Every point of a track of rhumb-line legs, given the position (lat, lon) of its point ``at``.
+
+    The legs run along the last axis (k from point k to point k + 1, ``north_nm`` each leg's
+    northing, distance × cos course); the points are one more than the legs. The track is sailed
+    on and back from point ``at`` at once: each point's meridian arc is the reference point's plus
+    the northings between them, and its longitude the reference's plus the legs' longitude
+    changes between them (a rhumb line sailed the other way is the same line). Returns the
+    latitudes and longitudes of all points, shape (..., legs + 1).
+    """
+    north_m = np.asarray(north_nm, dtype=float) * METRES_PER_NM
+    at = np.asarray(at, dtype=np.intp)[..., None]
+    lat = np.asarray(lat_deg, dtype=float)[..., None]
+    lon = np.asarray(lon_deg, dtype=float)[..., None]
+    zero = np.zeros(north_m.shape[:-1] + (1,))
+    run = np.concatenate([zero, np.cumsum(north_m, axis=-1)], axis=-1)
+    arc_at = meridian_arc_m(lat)
+    arcs = arc_at + (run - np.take_along_axis(run, at, axis=-1))
+    lats = np.clip(latitude_from_meridian_arc_deg(arcs, (lat, arc_at)), -POLAR_LIMIT_DEG, POLAR_LIMIT_DEG)
+    lats = np.where(np.arange(lats.shape[-1]) == at, lat, lats)  # the reference point exactly as given
+    dlon = _longitude_change_rad(lats[..., :-1], lats[..., 1:], np.radians(np.asarray(course_deg, dtype=float)),
+                                 np.asarray(distance_nm, dtype=float) * METRES_PER_NM)
+    turned = np.concatenate([zero, np.cumsum(dlon, axis=-1)], axis=-1)
+    lons = wrap_180(lon + np.degrees(turned - np.take_along_axis(turned, at, axis=-1)))
+    return lats, lons
+
+
 __all__ = ["meridian_arc_m", "latitude_from_meridian_arc_deg", "isometric_latitude", "meridional_parts",
-           "prime_vertical_radius_m", "rhumb_destination", "rhumb_inverse", "rhumb_track"]
+           "prime_vertical_radius_m", "meridian_radius_m", "rhumb_destination", "rhumb_inverse", "rhumb_track", "rhumb_track_through"]

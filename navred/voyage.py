@@ -24,8 +24,8 @@ from . import __version__
 from .angles import format_angle
 from .ephemeris import EPHEMERIS_NAME
 from .errors import NavredError
-from .fix import FixResult
-from .frames import fix_position, row_labels, series_columns
+from .fix import FixResult, fixes_from_sights
+from .frames import row_labels, series_columns, utc64
 from .logbook import REJECTED_COLUMNS, SightLog, read_sight_log
 from .sights import reduce_sights
 from .timescales import iers_table, leap_second_table
@@ -168,55 +168,85 @@ def _reduce_with_progress(log: SightLog, progress) -> pd.DataFrame:
     return pd.concat(parts, ignore_index=True)
 
 
-def chart_position(subset: pd.DataFrame) -> tuple[tuple[float, float] | None, str]:
-    """A group's chart or GNSS position: the one on its latest usable sight that gives both, and a note."""
-    usable = (subset["status"].to_numpy() != "error") & np.isfinite(subset["chart_lat_deg"].to_numpy(dtype=float)) \
-        & np.isfinite(subset["chart_lon_deg"].to_numpy(dtype=float))
+def chart_positions(reduced: pd.DataFrame, group: np.ndarray, count: int
+                    ) -> tuple[np.ndarray, np.ndarray, list[str]]:
+    """Each group's chart or GNSS position (NaN where none): the one on its latest usable sight that
+    gives both, with a note naming that row (``group`` numbers each row's group, -1 for none)."""
+    lat = np.full(count, np.nan)
+    lon = np.full(count, np.nan)
+    notes = [""] * count
+    if not len(reduced) or count == 0:
+        return lat, lon, notes
+    row_lat = reduced["chart_lat_deg"].to_numpy(dtype=float)
+    row_lon = reduced["chart_lon_deg"].to_numpy(dtype=float)
+    usable = (reduced["status"].to_numpy() != "error") & np.isfinite(row_lat) & np.isfinite(row_lon) & (group >= 0)
     if not usable.any():
-        return None, ""
-    times = subset["sight_utc"].dt.tz_convert(None).to_numpy().astype("datetime64[ns]").astype(np.int64)
+        return lat, lon, notes
     candidates = np.flatnonzero(usable)
-    latest = candidates[np.argmax(times[candidates])]
-    lat, lon = float(subset["chart_lat_deg"].iloc[latest]), float(subset["chart_lon_deg"].iloc[latest])
-    label = row_labels(subset)[latest]
-    distinct = {(round(float(a), 6), round(float(b), 6)) for a, b in
-                zip(subset["chart_lat_deg"].to_numpy()[candidates], subset["chart_lon_deg"].to_numpy()[candidates])}
-    note = f"chart position from {label}"
-    if len(distinct) > 1:
-        note += f" (the latest of {len(candidates)} rows that give one, and they differ)"
-    return (lat, lon), note
+    times = utc64(reduced["sight_utc"]).astype(np.int64)[candidates]
+    # by group, then time, then row: the last of each group is its latest (the later row on a tie)
+    order = np.lexsort((candidates, times, group[candidates]))
+    ranked = candidates[order]
+    ends = np.flatnonzero(np.diff(group[ranked], append=-2) != 0)
+    latest = ranked[ends]
+    owners = group[latest]
+    lat[owners], lon[owners] = row_lat[latest], row_lon[latest]
+    labels = row_labels(reduced)
+    rounded = np.round(row_lat[ranked], 6) + 1j * np.round(row_lon[ranked], 6)
+    starts = np.concatenate([[0], ends[:-1] + 1])
+    for owner, first, end, row in zip(owners, starts, ends, latest):
+        notes[owner] = f"chart position from {labels[row]}"
+        given = end - first + 1
+        if given > 1 and np.unique(rounded[first:end + 1]).size > 1:
+            notes[owner] += f" (the latest of {given} rows that give one, and they differ)"
+    return lat, lon, notes
 
 
 def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: object | None = None,
                only: str | None = None, chart: tuple[float, float] | None = None) -> list[GroupFix]:
     """Fix every group of a reduced table (or ``only`` one), with the one rule for chart positions.
 
-    ``chart`` overrides the chart position of the group (with ``only``).
+    Every group is solved in one batch (:func:`navred.fix.fixes_from_sights`). ``chart``
+    overrides the chart position of the group (with ``only``).
     """
-    groups: list[GroupFix] = []
     if len(reduced) == 0:
-        return groups
+        return []
     names = reduced["fix_group"].astype(str).to_numpy()
-    usable_rows = reduced.status.to_numpy() != "error"
-    for name in dict.fromkeys(names[(names != "")]):
-        if only is not None and name != only:
-            continue
-        rows = np.flatnonzero(names == name)
-        subset = reduced.iloc[rows].reset_index(drop=True)
-        usable = int(usable_rows[rows].sum())
-        position, note = (chart, "chart position given with the command") if chart is not None \
-            else chart_position(subset)
-        if usable < 2:
-            groups.append(GroupFix(name, rows, None, f"{usable} usable sight(s): a fix needs two or more",
-                                   position, note))
-            continue
-        try:
-            fix = fix_position(subset, at_utc=at_utc, chart_lat=position[0] if position else None,
-                               chart_lon=position[1] if position else None, solve_motion=solve_motion)
-        except NavredError as exc:
-            groups.append(GroupFix(name, rows, None, str(exc), position, note))
-            continue
-        groups.append(GroupFix(name, rows, fix, "", position, note))
+    codes, distinct = pd.factorize(pd.Series(np.where(names == "", None, names), dtype=object), sort=False)
+    distinct = [str(d) for d in distinct]
+    if only is not None:
+        keep = distinct.index(only) if only in distinct else -1
+        codes = np.where(codes == keep, 0, -1)
+        distinct = [only] if keep >= 0 else []
+    group = np.asarray(codes, dtype=np.intp)
+    count = len(distinct)
+    if chart is not None:
+        chart_lat, chart_lon = np.full(count, float(chart[0])), np.full(count, float(chart[1]))
+        notes = ["chart position given with the command"] * count
+    else:
+        chart_lat, chart_lon, notes = chart_positions(reduced, group, count)
+    usable = reduced["status"].to_numpy() != "error"
+
+    def column(name):
+        return reduced[name].to_numpy(dtype=float) if name in reduced.columns else None
+
+    batch = fixes_from_sights(
+        reduced["gha_deg"].to_numpy(dtype=float), reduced["dec_deg"].to_numpy(dtype=float),
+        reduced["ho_deg"].to_numpy(dtype=float), utc64(reduced["sight_utc"]),
+        reduced["dr_lat_deg"].to_numpy(dtype=float), reduced["dr_lon_deg"].to_numpy(dtype=float), group,
+        usable=usable, course_deg=column("course_deg"), speed_kn=column("speed_kn"), at_utc=at_utc,
+        chart_lat=chart_lat, chart_lon=chart_lon, solve_motion=solve_motion, labels=row_labels(reduced))
+    by_group = np.argsort(np.where(group >= 0, group, count), kind="stable")
+    bounds = np.concatenate([[0], np.cumsum(np.bincount(group[group >= 0], minlength=count))]).tolist()
+    usable_count = np.bincount(group[(group >= 0) & usable], minlength=count)
+    groups: list[GroupFix] = []
+    for k, name in enumerate(distinct):
+        rows = by_group[bounds[k]:bounds[k + 1]]
+        position = (float(chart_lat[k]), float(chart_lon[k])) if np.isfinite(chart_lat[k]) else None
+        problem = batch.problems[k]
+        if usable_count[k] < 2:
+            problem = f"{usable_count[k]} usable sight(s): a fix needs two or more"
+        groups.append(GroupFix(name, rows, batch.results[k], problem, position, notes[k] if position else ""))
     return groups
 
 

@@ -308,3 +308,41 @@ def test_lines_of_position_are_tangent_to_their_circles_at_the_foot(ts, eph):
                       - reduced.ho_deg[i]) * 60 for lat, lon in ends]
         # a tangent leaves its circle by the same small amount both ways (the circle's curvature)
         assert abs(miss[0] - miss[1]) < 0.01 and max(map(abs, miss)) < 0.05
+
+
+def test_every_group_solved_in_one_batch_matches_each_solved_alone():
+    # issue 13: the workbook solves all fix groups in one padded batch; each must be what the group gives
+    # alone (fix_position on its rows), to 1e-7° (0.000006′), with the same verdicts and words. The
+    # invented training voyage (sample_sights/) has groups of 2 to 7 sights, star fixes, Sun runs, noon
+    # latitudes, planted blunders and chart positions. The reference is navred's own single-group path:
+    # this checks that padding and batching change nothing.
+    from navred.voyage import process_log
+
+    voyage = process_log("sample_sights/training_sights.csv", plan=False)
+    kinds = set()
+    compared = 0
+    for group in voyage.groups:
+        subset = voyage.reduced.iloc[group.rows].reset_index(drop=True)
+        try:
+            alone = fix_position(subset, chart_lat=group.chart[0] if group.chart else None,
+                                 chart_lon=group.chart[1] if group.chart else None)
+        except NavredError as exc:
+            assert group.fix is None and str(exc) in group.problem or "usable sight" in group.problem
+            continue
+        batch = group.fix
+        kinds.add(batch.kind)
+        compared += 1
+        for name in ("lat_deg", "lon_deg", "sigma_arcmin", "ellipse_semi_minor_nm", "dr_lat_deg", "dr_lon_deg"):
+            assert getattr(batch, name) == pytest.approx(getattr(alone, name), abs=1e-7), name
+        assert batch.ellipse_semi_major_nm == pytest.approx(alone.ellipse_semi_major_nm, abs=1e-7)
+        for name in ("residual_arcmin", "lop_intercept_nm", "lop_zn_deg", "lop_foot_lat_deg", "lop_tangent_deg"):
+            assert np.allclose(getattr(batch, name), getattr(alone, name), atol=1e-7, equal_nan=True), name
+        assert (batch.outlier == alone.outlier).all() and (batch.used == alone.used).all()
+        assert batch.kind == alone.kind and batch.quantile == alone.quantile and batch.utc == alone.utc
+        assert batch.warnings[:1] == alone.warnings[:1] and len(batch.warnings) == len(alone.warnings)
+        assert batch.iterations == alone.iterations
+        if alone.chart_distance_nm is not None:
+            assert batch.chart_distance_nm == pytest.approx(alone.chart_distance_nm, abs=1e-6)
+        if alone.without_outliers is not None:
+            assert batch.without_outliers.lat_deg == pytest.approx(alone.without_outliers.lat_deg, abs=1e-7)
+    assert compared > 50 and {"fix", "latitude"} <= kinds

@@ -111,26 +111,44 @@ def almanac_command(
 
     Example:  navred almanac Sun Moon Vega --utc 2026-03-20T18:42:10Z
     """
+    from .almanac import places
     from .angles import format_angle
-    from .frames import body_positions
 
     with _reported():
-        frame = body_positions(list(bodies), utc, dut1_s=dut1)
+        result = places(list(bodies), _single_instant(utc), dut1_s=dut1)
+        instant = result.instants.utc_datetime64()[0]
+        stamp = str(instant.astype("datetime64[ms]"))
+        dut1_s, source = float(result.instants.dut1_s[0]), str(result.instants.ut1_source[0])
+        columns = {"gha_aries_deg": result.gha_aries_deg, "ra_hours": result.ra_hours, "sha_deg": result.sha_deg,
+                   "gha_deg": result.gha_deg, "dec_deg": result.dec_deg, "hp_arcmin": result.hp_arcmin,
+                   "sd_arcmin": result.sd_arcmin, "distance_km": result.distance_km}
         if csv:
-            out = frame.copy()
-            out["utc"] = out["utc"].dt.strftime("%Y-%m-%dT%H:%M:%S.%fZ")
-            typer.echo(_csv_safe(out).to_csv(index=False, float_format="%.7f"), nl=False)
+            # body names are the catalogue's own (never formula-like); numbers to 1e-7
+            typer.echo(",".join(["body", "utc", *columns, "dut1_s", "ut1_source"]))
+            for k, body in enumerate(result.body.tolist()):
+                numbers = ["" if v != v else f"{v:.7f}" for v in (float(c[k]) for c in columns.values())]
+                typer.echo(",".join([body, f"{stamp}000Z", *numbers, f"{dut1_s:.7f}", source]))
             return
-        first = frame.iloc[0]
-        typer.echo(f"UTC {first.utc:%Y-%m-%d %H:%M:%S}   DUT1 {first.dut1_s:+.3f} s ({first.ut1_source})")
-        typer.echo(f"GHA Aries {format_angle(first.gha_aries_deg)}")
+        typer.echo(f"UTC {stamp[:19].replace('T', ' ')}   DUT1 {dut1_s:+.3f} s ({source})")
+        typer.echo(f"GHA Aries {format_angle(float(result.gha_aries_deg[0]))}")
         typer.echo("")
         typer.echo(f"{'body':<16}{'GHA':>13}{'Dec':>14}{'SHA':>13}{'HP':>8}{'SD':>8}")
-        for row in frame.itertuples():
-            hp = f"{row.hp_arcmin:.1f}′" if row.hp_arcmin else "-"
-            sd = f"{row.sd_arcmin:.1f}′" if row.sd_arcmin else "-"
-            typer.echo(f"{row.body:<16}{format_angle(row.gha_deg):>13}{format_angle(row.dec_deg, 'dec'):>14}"
-                       f"{format_angle(row.sha_deg):>13}{hp:>8}{sd:>8}")
+        for k, body in enumerate(result.body.tolist()):
+            hp_value, sd_value = float(result.hp_arcmin[k]), float(result.sd_arcmin[k])
+            hp = f"{hp_value:.1f}′" if hp_value else "-"
+            sd = f"{sd_value:.1f}′" if sd_value else "-"
+            typer.echo(f"{body:<16}{format_angle(float(result.gha_deg[k])):>13}"
+                       f"{format_angle(float(result.dec_deg[k]), 'dec'):>14}{format_angle(float(result.sha_deg[k])):>13}"
+                       f"{hp:>8}{sd:>8}")
+
+
+def _single_instant(utc: str):
+    """One instant for many bodies (a list of one, so that the bodies pair with it)."""
+    import numpy as np
+
+    from .timescales import instants
+
+    return instants(np.array([utc], dtype=object)) if isinstance(utc, str) else utc
 
 
 _SIGHTS_HELP = "Sight logs: CSV or .xlsx files, or folders of them (see docs/sight-log.md)."

@@ -26,8 +26,10 @@ from xml.sax.saxutils import escape
 import numpy as np
 
 Rect = tuple[float, float, float, float]  # x0, y0, x1, y1 in points
+_UNIT_CIRCLE = (np.cos(np.linspace(0.0, 2.0 * np.pi, 33)[:-1]), np.sin(np.linspace(0.0, 2.0 * np.pi, 33)[:-1]))
 
 
+@lru_cache(maxsize=256)
 def blend(colour: str, background: str, alpha: float) -> str:
     """The opaque colour that ``colour`` at opacity ``alpha`` makes over ``background`` (#rrggbb)."""
     top = np.array([int(colour[k:k + 2], 16) for k in (1, 3, 5)], dtype=float)
@@ -139,16 +141,17 @@ class Canvas:
 
     def polygon(self, xs, ys, fill: str | None = None, outline: str | None = None, width: float = 1.0,
                 clip: Rect | None = None) -> None:
-        points = [(float(x), float(y)) for x, y in zip(xs, ys)]
-        if clip is not None:
-            points = clip_polygon(points, clip)
+        xs, ys = np.asarray(xs, dtype=float), np.asarray(ys, dtype=float)
+        points = list(zip(xs.tolist(), ys.tolist()))
+        if clip is not None and not (xs.min() >= clip[0] and xs.max() <= clip[2] and ys.min() >= clip[1]
+                                     and ys.max() <= clip[3]):
+            points = clip_polygon(points, clip)  # only a polygon that reaches outside is cut
         if len(points) >= 3:
             self.items.append(_Polygon(tuple(points), fill, outline, width))
 
     def circle(self, x: float, y: float, radius: float, fill: str | None = None, outline: str | None = None,
                width: float = 1.0) -> None:
-        angles = np.linspace(0.0, 2.0 * np.pi, 33)[:-1]
-        self.polygon(x + radius * np.cos(angles), y + radius * np.sin(angles), fill, outline, width)
+        self.polygon(x + radius * _UNIT_CIRCLE[0], y + radius * _UNIT_CIRCLE[1], fill, outline, width)
 
     def text(self, x: float, y: float, text: str, size: float, colour: str, *, anchor: str = "start",
              baseline: str = "bottom", rotation: float = 0.0, bold: bool = False, italic: bool = False,

@@ -8,7 +8,10 @@ need the navigator's attention. Only the command line prints.
 
 from __future__ import annotations
 
-import numpy as np
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:  # numpy is imported when an error is described, so that the command line starts quickly
+    import numpy as np
 
 
 class NavredError(ValueError):
@@ -38,11 +41,14 @@ class NavredWarning(UserWarning):
 def failed_elements(mask: np.ndarray, limit: int = 10) -> str:
     """Describe which elements of an array failed a check, for an error message.
 
+    >>> import numpy as np
     >>> failed_elements(np.array([False, True, True]))
     '2 of 3 elements (indices 1, 2)'
     >>> failed_elements(np.array(True))
     'the value'
     """
+    import numpy as np
+
     mask = np.asarray(mask, dtype=bool)
     if mask.ndim == 0:
         return "the value"
@@ -54,6 +60,8 @@ def failed_elements(mask: np.ndarray, limit: int = 10) -> str:
 
 def first_bad(values: np.ndarray, mask: np.ndarray) -> object:
     """Return the first offending value of ``values`` where ``mask`` is true."""
+    import numpy as np
+
     values = np.asarray(values)
     mask = np.broadcast_to(np.asarray(mask, dtype=bool), values.shape)
     return values[mask].ravel()[0] if mask.any() else None

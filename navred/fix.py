@@ -736,6 +736,7 @@ def _carry(track: Track, sight: np.ndarray, lat: np.ndarray, lon: np.ndarray) ->
         fix_lat, fix_lon = fix_lat + north, wrap_180(fix_lon + east)
         if np.max(np.abs(north), initial=0.0) + np.max(np.abs(east), initial=0.0) < 1e-10:  # 0.01 mm
             break
+    fix_lat = np.clip(fix_lat, -90.0, 90.0)  # a DR at the pole is carried no further than the pole
     return np.asarray(fix_lat, dtype=float), np.asarray(fix_lon, dtype=float)
 
 

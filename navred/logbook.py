@@ -26,7 +26,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from .angles import parse_angle
+from .angles import parse_angle, parse_angles_fast
 from .corrections import HIGHEST_READING_DEG, parse_index_error_arcmin
 from .errors import NavredError
 from .readers import LogbookError, MissingFormulaValue, RawTable, blank_mask, read_table
@@ -297,6 +297,26 @@ def _parse_one(column, value, decimal_comma, unit, dates):
     return result
 
 
+def _parse_fast(column, originals: list, unit) -> list:
+    """The values of an angle column in the common written forms, read in bulk
+    (:func:`navred.angles.parse_angles_fast`: only what the careful parser reads to the same
+    value); None where the careful parser must look. A decimal comma is left to the careful parser."""
+    kind = {"altitude": "angle", "lat": "lat", "lon": "lon"}.get(column.kind)
+    if kind is None:
+        return [None] * len(originals)
+    values, done = parse_angles_fast(originals, kind)
+    out: list = [None] * len(originals)
+    for k in np.flatnonzero(done).tolist():
+        number = float(values[k])
+        if column.kind == "altitude" and column.low is not None:
+            try:
+                number = _ranged(number, column.key, None)
+            except NavredError:
+                continue  # the careful parser gives the reason
+        out[k] = number
+    return out
+
+
 @dataclass
 class _Layout:
     """How one table's headers map onto the vocabulary."""
@@ -550,9 +570,13 @@ def _parse_key(cells: _Cells, key: str, problems: _Problems, dates) -> _Parsed:
             codes, uniques = pd.factorize(originals, use_na_sentinel=False)
             first = np.full(len(uniques), -1)
             first[codes[::-1]] = np.arange(codes.size)[::-1]
+            distinct = originals.to_numpy(dtype=object)[first].tolist()
+            quick = _parse_fast(column, distinct, unit)
             results, reasons = [], {}
-            for u in range(len(uniques)):
-                original = originals.iloc[first[u]]
+            for u, original in enumerate(distinct):
+                if quick[u] is not None:
+                    results.append(quick[u])
+                    continue
                 try:
                     results.append(_parse_one(column, original, bool(comma), unit, dates))
                 except (NavredError, ValueError, TypeError) as exc:

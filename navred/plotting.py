@@ -94,14 +94,14 @@ def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None):
     lon_lo, lon_hi = lon0 + (cx - half) / 60 / cos_lat, lon0 + (cx + half) / 60 / cos_lat
     lat_ticks = np.arange(np.ceil(lat_lo * 60 / step), np.floor(lat_hi * 60 / step) + 1) * step / 60
     lon_ticks = np.arange(np.ceil(lon_lo * 60 / step), np.floor(lon_hi * 60 / step) + 1) * step / 60
-    for lat in lat_ticks:
-        _, py = page(0.0, plane(lat, lon0)[1])
+    _, lat_rows = page(0.0, plane(lat_ticks, lon0)[1])
+    for py, text in zip(np.atleast_1d(lat_rows).tolist(), [format_angle(v, "lat") for v in lat_ticks.tolist()]):
         sheet.line([ax0, ax1], [py, py], GRID, 0.7)
-        sheet.text(ax0 - 4, py, format_angle(lat, "lat"), 7, INK, anchor="end", baseline="middle")
-    for lon in lon_ticks:
-        px, _ = page(plane(lat0, lon)[0], 0.0)
+        sheet.text(ax0 - 4, py, text, 7, INK, anchor="end", baseline="middle")
+    lon_columns, _ = page(plane(lat0, lon_ticks)[0], 0.0)
+    for px, text in zip(np.atleast_1d(lon_columns).tolist(), [format_angle(v, "lon") for v in lon_ticks.tolist()]):
         sheet.line([px, px], [ay0, ay1], GRID, 0.7)
-        sheet.text(px, ay1 + 6, format_angle(lon, "lon"), 7, INK, anchor="end", baseline="top", rotation=30)
+        sheet.text(px, ay1 + 6, text, 7, INK, anchor="end", baseline="top", rotation=30)
 
     # the lines of position, tangent to their circles at the foot, drawn across the sheet, labelled
     length = 2.2 * half

@@ -402,6 +402,10 @@ def utc_julian_date(utc: object) -> tuple[np.ndarray, np.ndarray]:
     2451545.0
     """
     utc = _to_numpy_input(utc)
+    if isinstance(utc, (list, tuple, np.ndarray)) and len(utc) > 1:
+        stamps = iso_z_datetime64(utc)
+        if stamps is not None:
+            utc = stamps
     if isinstance(utc, np.ndarray) and np.issubdtype(utc.dtype, np.datetime64):
         fast = _utc_julian_date_from_datetime64(utc)
         if fast is not None:
@@ -463,6 +467,44 @@ def _utc_julian_date_from_datetime64(values: np.ndarray) -> tuple[np.ndarray, np
         return None
     # the layout of ERFA's dtf2d: the Julian date of 0h, and the fraction of the day
     return days + _UNIX_EPOCH_JD, rest / _NS_PER_DAY
+
+
+_DIGITS = (0, 1, 2, 3, 5, 6, 8, 9, 11, 12, 14, 15, 17, 18)
+
+
+def iso_z_datetime64(values) -> np.ndarray | None:
+    """ISO 8601 UTC instants written ``YYYY-MM-DDTHH:MM:SS[.fff]Z`` (a T or a space between), read in
+    bulk by numpy's date parser; None unless every element has exactly that form and is a real
+    calendar instant (anything else, a leap second among them, is left to the careful reader)."""
+    items = np.asarray(values)
+    if items.ndim != 1 or items.dtype.kind not in "UO" or items.size == 0:
+        return None
+    if items.dtype.kind == "O":
+        if not all(type(v) is str for v in items.tolist()):
+            return None
+        items = items.astype(str)
+    lengths = np.char.str_len(items)
+    width = int(lengths.max())
+    if lengths.min() < 20 or width > 40:
+        return None
+    chars = np.ascontiguousarray(items.astype(f"U{width}")).view("U1").reshape(items.size, width)
+    last = chars[np.arange(items.size), lengths - 1]
+    fraction = lengths > 20
+    shape_ok = ((chars[:, 4] == "-") & (chars[:, 7] == "-") & np.isin(chars[:, 10], ["T", " "]) & (chars[:, 13] == ":")
+                & (chars[:, 16] == ":") & (last == "Z") & np.all(np.char.isdigit(chars[:, _DIGITS]), axis=1)
+                & (~fraction | (chars[:, 19] == ".")))
+    if fraction.any():
+        inside = (np.arange(width)[None, :] >= 20) & (np.arange(width)[None, :] < (lengths - 1)[:, None])
+        shape_ok &= ~np.any(inside & ~np.char.isdigit(chars), axis=1) & (~fraction | (lengths > 21))
+    if not shape_ok.all():
+        return None
+    chars[:, 10] = "T"
+    chars[np.arange(items.size), lengths - 1] = ""
+    text = chars.view(f"U{width}").ravel()
+    try:
+        return text.astype("datetime64[ns]")
+    except ValueError:  # not a calendar instant (30 February, a leap second 23:59:60): the careful reader says why
+        return None
 
 
 def utc_minus_seconds(utc1: ArrayLike, utc2: ArrayLike, seconds: ArrayLike) -> tuple[np.ndarray, np.ndarray]:

@@ -59,6 +59,8 @@ class VoyageResult:
     next_events: dict | None = None
     #: a navred.training.TrainingReport when the run was marked against a reference track
     training: object | None = None
+    #: what the writers work out once a run and reuse (labels of every sight, say)
+    cache: dict = field(default_factory=dict, repr=False, compare=False)
 
     @property
     def raw(self) -> pd.DataFrame:

@@ -10,7 +10,6 @@ and renamed over the target, so an interrupted run never leaves half a workbook.
 from __future__ import annotations
 
 import io
-import re
 from dataclasses import dataclass
 from pathlib import Path
 from typing import TYPE_CHECKING
@@ -20,8 +19,8 @@ import pandas as pd
 
 from .angles import format_angle
 from .errors import NavredError
-from .output import atomic_write
-from .readers import MAX_CELL_CHARS
+from .output import atomic_write, atomic_write_many
+from .xlsxtables import TableWriter, safe_text
 
 if TYPE_CHECKING:
     from .voyage import VoyageResult
@@ -34,10 +33,6 @@ SAFETY = ("SAFETY OF NAVIGATION: navred is an aid to navigation, not a sole mean
 
 _HEADER_FILL = "1D3557"
 _FLAG_FILL = "F4D6D9"
-
-
-def _nav(value, kind):
-    return format_angle(value, kind) if value == value and value is not None else ""
 
 
 def _several(voyage) -> bool:
@@ -81,7 +76,7 @@ def working_table(voyage) -> pd.DataFrame:
         "ZD (h)": [f"{z:+.0f}" if np.isfinite(z) else "" for z in zone],
         "UTC": [_utc_cell(v) for v in r.sight_utc.dt.tz_convert(None).to_numpy()],
         "Greenwich date": r.greenwich_date,
-        "Hs (° ′)": [_nav(v, "signed") for v in r.hs_deg],
+        "Hs (° ′)": format_angle(r.hs_deg.to_numpy(dtype=float), "signed"),
         "Hs (deg)": r.hs_deg,
         "horizon": r.horizon,
         "index error (′, on +)": r.index_error_arcmin,
@@ -91,22 +86,22 @@ def working_table(voyage) -> pd.DataFrame:
         "IC (′)": r.ic_arcmin,
         "horizon (′)": r.horizon_arcmin,
         "dip (′)": r.dip_arcmin,
-        "Ha (° ′)": [_nav(v, "signed") for v in r.ha_deg],
+        "Ha (° ′)": format_angle(r.ha_deg.to_numpy(dtype=float), "signed"),
         "refraction (′)": r.refraction_arcmin,
         "SD (′)": r.sd_arcmin,
         "parallax (′)": r.parallax_arcmin,
         "phase (′)": r.phase_arcmin,
         "total correction (′)": (r.ho_deg - r.hs_deg) * 60.0,
-        "Ho (° ′)": [_nav(v, "signed") for v in r.ho_deg],
+        "Ho (° ′)": format_angle(r.ho_deg.to_numpy(dtype=float), "signed"),
         "Ho (deg)": r.ho_deg,
-        "GHA (° ′)": [_nav(v, "angle") for v in r.gha_deg],
+        "GHA (° ′)": format_angle(r.gha_deg.to_numpy(dtype=float), "angle"),
         "GHA (deg)": r.gha_deg,
-        "Dec (° ′)": [_nav(v, "dec") for v in r.dec_deg],
+        "Dec (° ′)": format_angle(r.dec_deg.to_numpy(dtype=float), "dec"),
         "Dec (deg)": r.dec_deg,
-        "DR lat (° ′)": [_nav(v, "lat") for v in r.dr_lat_deg],
-        "DR lon (° ′)": [_nav(v, "lon") for v in r.dr_lon_deg],
-        "LHA (° ′)": [_nav(v, "angle") for v in r.lha_deg],
-        "Hc (° ′)": [_nav(v, "signed") for v in r.hc_deg],
+        "DR lat (° ′)": format_angle(r.dr_lat_deg.to_numpy(dtype=float), "lat"),
+        "DR lon (° ′)": format_angle(r.dr_lon_deg.to_numpy(dtype=float), "lon"),
+        "LHA (° ′)": format_angle(r.lha_deg.to_numpy(dtype=float), "angle"),
+        "Hc (° ′)": format_angle(r.hc_deg.to_numpy(dtype=float), "signed"),
         "Hc (deg)": r.hc_deg,
         "Zn (deg)": r.zn_deg,
         "intercept (nm)": r.intercept_nm.abs(),
@@ -141,6 +136,18 @@ def fixes_table(voyage) -> pd.DataFrame:
 
     labels = row_labels(voyage.reduced) if len(voyage.reduced) else np.zeros(0, dtype=str)
     rows = []
+    # every position's text at once (one call per kind, not four per group)
+    fixes = [g.fix for g in voyage.groups if g.fix is not None]
+    checks = [g.fix.without_outliers for g in voyage.groups if g.fix is not None and g.fix.without_outliers]
+    charts = [g.chart for g in voyage.groups if g.fix is not None and g.chart]
+    lat_text = iter(format_angle(np.array([f.lat_deg for f in fixes] + [c.lat_deg for c in checks]
+                                          + [c[0] for c in charts], dtype=float), "lat"))
+    lon_text = iter(format_angle(np.array([f.lon_deg for f in fixes] + [c.lon_deg for c in checks]
+                                          + [c[1] for c in charts], dtype=float), "lon"))
+    fix_texts = [(next(lat_text), next(lon_text)) for _ in fixes]
+    check_texts = [f"{next(lat_text)} {next(lon_text)}" for _ in checks]
+    chart_texts = [f"{next(lat_text)} {next(lon_text)}" for _ in charts]
+    fix_texts, check_texts, chart_texts = iter(fix_texts), iter(check_texts), iter(chart_texts)
     for group in voyage.groups:
         fix = group.fix
         if fix is None:
@@ -151,8 +158,8 @@ def fixes_table(voyage) -> pd.DataFrame:
             "fix group": group.name,
             "UTC": _utc_cell(fix.utc),
             "kind": fix.kind if fix.is_fix else f"{fix.kind} (not a fix)",
-            "latitude (° ′)": format_angle(fix.lat_deg, "lat"),
-            "longitude (° ′)": format_angle(fix.lon_deg, "lon"),
+            "latitude (° ′)": (texts := next(fix_texts))[0],
+            "longitude (° ′)": texts[1],
             "latitude (deg)": fix.lat_deg,
             "longitude (deg)": fix.lon_deg,
             "sights used": int(fix.used.sum()),
@@ -170,11 +177,8 @@ def fixes_table(voyage) -> pd.DataFrame:
             "noon curve latitude (° ′)": (format_angle(fix.noon_curve_latitude_deg, "lat")
                                           if fix.noon_curve_latitude_deg is not None else ""),
             "flagged sights": outliers,
-            "fix without flagged (° ′)": (f"{format_angle(fix.without_outliers.lat_deg, 'lat')} "
-                                          f"{format_angle(fix.without_outliers.lon_deg, 'lon')}"
-                                          if fix.without_outliers is not None else ""),
-            "chart position (° ′)": (f"{format_angle(group.chart[0], 'lat')} {format_angle(group.chart[1], 'lon')}"
-                                     if group.chart else ""),
+            "fix without flagged (° ′)": next(check_texts) if fix.without_outliers is not None else "",
+            "chart position (° ′)": next(chart_texts) if group.chart else "",
             "chart distance (nm)": fix.chart_distance_nm,
             "chart bearing (deg true)": fix.chart_bearing_deg,
             "chart inside 95 % ellipse": ("" if fix.chart_inside_ellipse is None
@@ -251,21 +255,22 @@ def _number_format(name: str) -> str | None:
     return next((form for unit, form in _NUMBER_FORMATS if unit in lower), None)
 
 
-def header_row(sheet, row: int, names, *, height: float = 32) -> None:
-    """Write a row of headers in the workbook's own style (white on navy, wrapped)."""
+def style_header(cell) -> None:
+    """A header cell in the workbook's own style (white on navy, wrapped)."""
     from openpyxl.styles import Alignment, Font, PatternFill
 
-    font = Font(bold=True, color="FFFFFF")
-    fill = PatternFill("solid", fgColor=_HEADER_FILL)
+    cell.font = Font(bold=True, color="FFFFFF")
+    cell.fill = PatternFill("solid", fgColor=_HEADER_FILL)
+    cell.alignment = Alignment(wrap_text=True, vertical="center")
+
+
+def header_row(sheet, row: int, names, *, height: float = 32) -> None:
+    """Write a row of headers in the workbook's own style (white on navy, wrapped)."""
     for column, name in enumerate(names, start=1):
         cell = sheet.cell(row=row, column=column)
         write_text_safe(cell, str(name))  # an extra column of the log may be named like a formula
-        cell.font, cell.fill = font, fill
-        cell.alignment = Alignment(wrap_text=True, vertical="center")
+        style_header(cell)
     sheet.row_dimensions[row].height = height
-
-
-_ILLEGAL_IN_XML = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
 
 
 def write_text_safe(cell, value) -> None:
@@ -274,45 +279,35 @@ def write_text_safe(cell, value) -> None:
     A control character, which the format cannot hold, is shown as U+FFFD; text longer than a cell
     holds is cut with a note saying how long it was."""
     if isinstance(value, str):
-        value = _ILLEGAL_IN_XML.sub("\ufffd", value)
-        if len(value) > MAX_CELL_CHARS:
-            note = f" … [cut: {len(value):,} characters]"
-            value = value[:MAX_CELL_CHARS - len(note)] + note
+        value = safe_text(value)
     cell.value = value
     if isinstance(value, str) and cell.data_type == "f":
         cell.data_type = "s"
 
 
-def _write_sheet(sheet, frame: pd.DataFrame, *, wide: dict[str, int] | None = None, flag_column: str | None = None,
-                 first_row: int = 1):
-    """A table as a sheet: styled headers, frozen, numbers shown to their unit's precision, text as text."""
-    from openpyxl.styles import PatternFill
+def new_tables(book) -> TableWriter:
+    """The writer of a workbook's tables (see :mod:`navred.xlsxtables`), in this workbook's style."""
+    return TableWriter(book, style_header, _FLAG_FILL, DATE_TIME_FORMAT)
 
-    header_row(sheet, first_row, frame.columns)
-    flag_fill = PatternFill("solid", fgColor=_FLAG_FILL)
-    flag_index = list(frame.columns).index(flag_column) if flag_column in frame.columns else None
+
+def _write_sheet(tables: TableWriter, sheet, frame: pd.DataFrame, *, wide: dict[str, int] | None = None,
+                 flag_column: str | None = None, first_row: int = 1):
+    """A table as a sheet: styled headers, frozen, numbers shown to their unit's precision, text as text."""
     formats = [_number_format(name) for name in frame.columns]
-    for offset, values in enumerate(frame.itertuples(index=False), start=1):
-        row = first_row + offset
-        flagged = flag_index is not None and "BLUNDER" in str(values[flag_index])
-        for column, value in enumerate(values, start=1):
-            cell = sheet.cell(row=row, column=column)
-            write_text_safe(cell, _cell_value(value))
-            if isinstance(cell.value, float) and formats[column - 1]:
-                cell.number_format = formats[column - 1]
-            elif hasattr(cell.value, "hour") and hasattr(cell.value, "year"):
-                cell.number_format = DATE_TIME_FORMAT
-            if flagged:
-                cell.fill = flag_fill
+    flagged = None
+    if flag_column in frame.columns:
+        flagged = frame[flag_column].astype(str).str.contains("BLUNDER", regex=False).to_numpy()
+    tables.write(sheet, frame, first_row=first_row, number_formats=formats, flagged=flagged)
     if first_row == 1:
         sheet.freeze_panes = "A2"
+    from openpyxl.utils import get_column_letter
+
     for index, name in enumerate(frame.columns, start=1):
-        letter = sheet.cell(row=first_row, column=index).column_letter
         sample = [len(str(name)) * 0.6] + [len(str(v)) for v in frame[name].head(200)]
         width = (wide or {}).get(name) or min(max(sample) + 2, 60)
         if formats[index - 1]:
             width = min(width, 12)
-        sheet.column_dimensions[letter].width = max(width, 8)
+        sheet.column_dimensions[get_column_letter(index)].width = max(width, 8)
 
 
 def _front_sheet(book, title: str, heading: str):
@@ -381,6 +376,7 @@ def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool | Pict
     from openpyxl.styles import Alignment, Font
 
     book = Workbook()
+    tables = new_tables(book)
     about = _front_sheet(book, "About", "navred sight-reduction log")
     about["A5"] = "Summary"
     about["A5"].font = Font(bold=True)
@@ -423,19 +419,19 @@ def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool | Pict
             # spreadsheet programs do not grow a row for wrapped text they did not lay out themselves
             about.row_dimensions[cell.row].height = 15 * (len(str(cell.value)) // 100 + 1)
 
-    _write_sheet(book.create_sheet("Sights as read"), voyage.raw)
-    _write_sheet(book.create_sheet("Working"), working_table(voyage), flag_column="flags")
+    _write_sheet(tables, book.create_sheet("Sights as read"), voyage.raw)
+    _write_sheet(tables, book.create_sheet("Working"), working_table(voyage), flag_column="flags")
     fixes_sheet = book.create_sheet("Fixes")
     fixes = fixes_table(voyage)
-    _write_sheet(fixes_sheet, fixes, wide={"note": 80, "σ from": 30})
-    _write_sheet(book.create_sheet("Rejected"), rejected_table(voyage), wide={"reason": 90})
+    _write_sheet(tables, fixes_sheet, fixes, wide={"note": 80, "σ from": 30})
+    _write_sheet(tables, book.create_sheet("Rejected"), rejected_table(voyage), wide={"reason": 90})
     if voyage.next_plan is not None:
-        _write_plan_sheet(book.create_sheet("Sight plan"), voyage.next_plan, pictures.embed)
+        _write_plan_sheet(tables, book.create_sheet("Sight plan"), voyage.next_plan, pictures.embed)
     if voyage.training is not None:
-        _write_training_sheet(book.create_sheet("Training"), voyage.training, pictures)
+        _write_training_sheet(tables, book.create_sheet("Training"), voyage.training, pictures)
     series = series_table(voyage)
     if len(series):
-        _write_series_sheet(book.create_sheet("Series"), voyage, series, pictures)
+        _write_series_sheet(tables, book.create_sheet("Series"), voyage, series, pictures)
 
     fixed = [group for group in voyage.groups if group.fix is not None]
     shown = fixed[:pictures.limit] if pictures.embed else []
@@ -447,23 +443,23 @@ def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool | Pict
     for group in shown:
         _add_figure(fixes_sheet, plotting_figure(voyage, group), f"A{anchor_row}", 560, 560)
         anchor_row += 30
-    _fit_pages(book)
-    return atomic_write(path, book.save, inputs=voyage.log.sources)
+    _fit_pages(book, tables)
+    return atomic_write(path, tables.save, inputs=voyage.log.sources)
 
 
-def _fit_pages(book) -> None:
+def _fit_pages(book, tables: TableWriter | None = None) -> None:
     """Print each sheet landscape, one page wide, so a printed log keeps its columns together."""
     for sheet in book.worksheets:
         sheet.page_setup.orientation = "landscape"
         sheet.print_title_rows = "1:1" if sheet.title not in ("About", "Training", "Lunar distance") else None
-        if sheet.max_column > 14:
+        if (tables.width(sheet) if tables is not None else sheet.max_column) > 14:
             continue  # too wide to shrink onto one page: it prints across pages, headers repeated
         sheet.sheet_properties.pageSetUpPr.fitToPage = True
         sheet.page_setup.fitToWidth = 1
         sheet.page_setup.fitToHeight = 0
 
 
-def _write_training_sheet(sheet, report, pictures: Pictures) -> None:
+def _write_training_sheet(tables: TableWriter, sheet, report, pictures: Pictures) -> None:
     from openpyxl.styles import Font
 
     from .training import observer_figure
@@ -478,7 +474,7 @@ def _write_training_sheet(sheet, report, pictures: Pictures) -> None:
         sheet.cell(row=line, column=1, value=title).font = Font(bold=True)
         line += 1
         if len(frame):
-            _write_sheet(sheet, frame, first_row=line)
+            _write_sheet(tables, sheet, frame, first_row=line)
             line += len(frame)
         line += 3
     for k in range(1, 16):
@@ -495,29 +491,38 @@ def _write_training_sheet(sheet, report, pictures: Pictures) -> None:
 
 
 def series_table(voyage) -> pd.DataFrame:
-    """One row per sight series of two or more sights."""
+    """One row per sight series of two or more sights, in the order the series first appear."""
     reduced = voyage.reduced
     if "series_size" not in reduced.columns:
         return pd.DataFrame()
     from .frames import row_labels
 
-    labels = pd.Series(row_labels(reduced), index=reduced.index)
-    rows = []
     multi = reduced[reduced.series_size >= 2]
-    for name, part in multi.groupby("series", sort=False):
-        best = part[part.series_best]
-        rows.append({
-            "series": name, "body": part.body_name.iloc[0],
-            "observer": part["observer"].iloc[0] if "observer" in part.columns else "",
-            "sights": len(part), "offset from the curve (′)": part.series_offset_arcmin.iloc[0],
-            "scatter (′)": float(np.nanmedian(part.series_scatter_arcmin)),
-            "flagged sights": ", ".join(labels[part.index[part.series_flag]]),
-            "best sight": labels[best.index[0]] if len(best) else "",
-            "best sight: UTC": best.sight_utc.iloc[0].strftime("%Y-%m-%d %H:%M:%S") if len(best) else "",
-            "best sight: Ho (° ′)": format_angle(best.series_best_ho_deg.iloc[0], "signed") if len(best) else "",
-            "best sight: Ho (deg)": best.series_best_ho_deg.iloc[0] if len(best) else None,
-        })
-    return pd.DataFrame(rows)
+    if not len(multi):
+        return pd.DataFrame()
+    labels = pd.Series(row_labels(reduced), index=reduced.index)[multi.index]
+    groups = multi.groupby("series", sort=False)
+    names = list(groups.groups)
+    flagged = labels[multi.series_flag.to_numpy(dtype=bool)].groupby(
+        multi.series[multi.series_flag.to_numpy(dtype=bool)], sort=False).agg(", ".join)
+    best = multi[multi.series_best.to_numpy(dtype=bool)].groupby("series", sort=False).head(1).set_index("series")
+    best_label = labels[multi.series_best.to_numpy(dtype=bool)].groupby(
+        multi.series[multi.series_best.to_numpy(dtype=bool)], sort=False).first()
+    best = best.reindex(names)
+    best_ho = best.series_best_ho_deg.to_numpy(dtype=float)
+    observer = groups["observer"].first().reindex(names).fillna("").to_numpy() if "observer" in multi.columns \
+        else np.full(len(names), "")
+    return pd.DataFrame({
+        "series": names, "body": groups.body_name.first().reindex(names).to_numpy(), "observer": observer,
+        "sights": groups.size().reindex(names).to_numpy(),
+        "offset from the curve (′)": groups.series_offset_arcmin.first().reindex(names).to_numpy(),
+        "scatter (′)": groups.series_scatter_arcmin.median().reindex(names).to_numpy(),
+        "flagged sights": flagged.reindex(names).fillna("").to_numpy(),
+        "best sight": best_label.reindex(names).fillna("").to_numpy(),
+        "best sight: UTC": best.sight_utc.dt.strftime("%Y-%m-%d %H:%M:%S").fillna("").to_numpy(),
+        "best sight: Ho (° ′)": format_angle(best_ho, "signed"),
+        "best sight: Ho (deg)": best_ho,
+    })
 
 
 def series_figure(voyage, name: str):
@@ -543,8 +548,8 @@ def series_figure(voyage, name: str):
                        title=f"{name}: {part.body_name.iloc[0]}, {len(part)} sights")
 
 
-def _write_series_sheet(sheet, voyage, table: pd.DataFrame, pictures: Pictures) -> None:
-    _write_sheet(sheet, table)
+def _write_series_sheet(tables: TableWriter, sheet, voyage, table: pd.DataFrame, pictures: Pictures) -> None:
+    _write_sheet(tables, sheet, table)
     row = len(table) + 3
     names = list(table.series)
     shown = names[:pictures.limit] if pictures.embed else []
@@ -570,11 +575,11 @@ def plan_table(plan) -> pd.DataFrame:
     })
 
 
-def _write_plan_sheet(sheet, plan, plots: bool) -> None:
+def _write_plan_sheet(tables: TableWriter, sheet, plan, plots: bool) -> None:
     from openpyxl.styles import Font
 
     table = plan_table(plan)
-    _write_sheet(sheet, table)
+    _write_sheet(tables, sheet, table)
     line = len(table) + 3
     sheet.cell(row=line, column=1, value="When and where").font = Font(bold=True)
     sheet.cell(row=line, column=2, value=f"{str(plan.utc)[:19].replace('T', ' ')} UTC, DR "
@@ -588,14 +593,22 @@ def _write_plan_sheet(sheet, plan, plots: bool) -> None:
         _add_figure(sheet, sky_picture(plan, title="Sight plan: the next twilight"), f"A{line + 4}", 520, 555)
 
 
+def _sight_labels(voyage) -> tuple[np.ndarray, np.ndarray]:
+    """Each reduced sight's body and time (HH:MM) as a plotting sheet labels its line, made once a run."""
+    if "sight labels" not in voyage.cache:
+        reduced = voyage.reduced
+        voyage.cache["sight labels"] = (reduced.body_name.astype(str).to_numpy(),
+                                        reduced.sight_utc.dt.strftime("%H:%M").fillna("").to_numpy())
+    return voyage.cache["sight labels"]
+
+
 def plotting_figure(voyage, group):
     """The plotting sheet figure of one fix group."""
     from .plotting import plotting_sheet
 
-    subset = voyage.reduced.iloc[group.rows].reset_index(drop=True)
-    times = subset.sight_utc.dt.strftime("%H:%M").fillna("")
-    return plotting_sheet(group.fix, subset.body_name.astype(str), times,
-                          title=f"Plotting sheet: {group.name}", chart=group.chart)
+    bodies, times = _sight_labels(voyage)
+    return plotting_sheet(group.fix, bodies[group.rows], times[group.rows], title=f"Plotting sheet: {group.name}",
+                          chart=group.chart)
 
 
 def plot_file_stems(names) -> list[str]:
@@ -622,13 +635,12 @@ def write_plots(voyage: VoyageResult, folder: str | Path, formats: tuple[str, ..
         raise NavredError(f"{out} is a file: give a folder for the plotting sheets")
     out.mkdir(parents=True, exist_ok=True)
     chosen = [g for g in (voyage.groups if groups is None else groups) if g.fix is not None]
-    written = []
+    files = {}
     for group, stem in zip(chosen, plot_file_stems(g.name for g in chosen)):
         sheet = plotting_figure(voyage, group)
         for suffix in formats:
-            written.append(atomic_write(out / f"plot-{stem}.{suffix}", lambda p, s=sheet: write_canvas(s, p),
-                                        inputs=voyage.log.sources))
-    return written
+            files[f"plot-{stem}.{suffix}"] = lambda p, s=sheet: write_canvas(s, p)
+    return atomic_write_many(out, files, inputs=voyage.log.sources)
 
 
 def write_lunar_workbook(inputs: dict, result: dict, path) -> Path:

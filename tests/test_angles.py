@@ -147,3 +147,15 @@ def test_hms_text():
     assert hours_from_hms("5 34 31.94") == pytest.approx(5.575539, abs=1e-6)
     with pytest.raises(AngleInputError, match="below 60"):
         hours_from_hms("5 64 00")
+
+
+def test_one_angle_is_written_as_the_same_angle_in_an_array():
+    # format_angle has a plain-Python path for one number (a plotting sheet writes dozens); it must round
+    # exactly as the array path, half-way minutes included (numpy's round: scale, half to even, unscale)
+    rng = np.random.default_rng(11)
+    values = np.concatenate([rng.uniform(-400, 400, 3000), np.round(rng.uniform(-90, 90, 3000) * 1200) / 1200,
+                             [0.0, -0.0, -1e-20, 359.99999, -180.0, 180.0, 89.999999, np.nan]])
+    for kind in ("lat", "lon", "angle", "signed"):
+        for decimals in (0, 1, 2):
+            together = format_angle(values, kind, decimals)
+            assert [format_angle(v, kind, decimals) for v in values.tolist()] == together.tolist()

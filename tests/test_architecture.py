@@ -56,3 +56,16 @@ def test_the_check_itself_catches_a_reach_in(tmp_path):
     sample.write_text("def f():\n    import pandas\n    from .logbook import _secret\n")
     found = list(imports(sample))
     assert (2, "pandas", [], 0) in found and (3, "logbook", ["_secret"], 1) in found
+
+
+def test_the_command_line_starts_without_the_heavy_libraries():
+    # issue 13: `navred --help` and `import navred` must not pay for pandas, matplotlib, openpyxl, erfa or
+    # even numpy before a command needs them (a fresh interpreter, so that nothing is imported already)
+    import subprocess
+    import sys
+
+    probe = ("import sys, navred, navred.cli; "
+             "print(','.join(m for m in ('pandas', 'matplotlib', 'openpyxl', 'erfa', 'numpy', 'jplephem', 'PIL') "
+             "if m in sys.modules))")
+    loaded = subprocess.run([sys.executable, "-c", probe], capture_output=True, text=True, check=True).stdout.strip()
+    assert loaded == ""

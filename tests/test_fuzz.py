@@ -159,3 +159,56 @@ def test_encodings_separators_truncation_and_stray_bytes(tmp_path_factory, separ
     if not insert and cut == 0:
         assert len(log.sights) == len(ROWS), (separator, encoding, log.rejected.reason.tolist()[:2])
         assert np.allclose(log.sights.hs_deg, CLEAN.hs_deg.to_numpy())
+
+
+# angle text as people write it, and its near misses: marks, letters at either end, signs, seconds,
+# commas, stray spaces, look-alike characters
+_ANGLE_PIECES = ["0", "5", "12", "44", "89", "90", "91", "179", "180", "359", "400", "03.1", "10.1", "59.9", "60.0",
+                 "7.25", ".5", "1e3", "°", "º", "'", "′", "’", "\"", " ", "  ", "N", "S", "E", "W", "n", "w", "-", "+",
+                 "−", ",", ".", "d", "m", "s", ":"]
+_FORMS = ["{d} {m} {h}", "{d}° {m}′ {h}", "{d}°{m}'{h}", "{s}{d} {m}", "{s}{d}.{m}", "{h} {d} {m}", "{d} {m}{h}",
+          " {d}  {m} {h} ", "{s}{d}° {m}′", "{d} {m}'.1 {h}"]
+
+
+def test_bulk_angle_reading_never_reads_what_the_careful_parser_would_not():
+    # issue 13: logs are read in bulk through navred.angles.parse_angles_fast, which must take only what the
+    # careful one-by-one parser (parse_angle) reads, to the same value, and leave the rest to that parser.
+    # 24,000 seeded texts: the usual forms with random parts, and random strings of their pieces.
+    from navred.angles import parse_angle, parse_angles_fast
+    from navred.errors import AngleInputError
+
+    rng = np.random.default_rng(13)
+    count = 12_000
+    pieces = np.array(_ANGLE_PIECES, dtype=object)
+    forms = np.array(_FORMS, dtype=object)[rng.integers(0, len(_FORMS), count)].tolist()
+    degrees, minutes = (pieces[rng.integers(0, len(pieces), count)].tolist() for _ in range(2))
+    letters = np.array(list("NSEWnsew ") + [""], dtype=object)[rng.integers(0, 10, count)].tolist()
+    signs = np.array(["", "-", "+"], dtype=object)[rng.integers(0, 3, count)].tolist()
+    texts = [f.format(d=d, m=m, h=h, s=g) for f, d, m, h, g in zip(forms, degrees, minutes, letters, signs)]
+    lengths = rng.integers(1, 8, count)
+    drawn = pieces[rng.integers(0, len(pieces), int(lengths.sum()))].tolist()
+    starts = np.concatenate([[0], np.cumsum(lengths)]).tolist()
+    texts += ["".join(drawn[a:b]) for a, b in zip(starts, starts[1:])]
+    taken = 0
+    for kind in ("lat", "lon", "angle", "signed", "dec"):
+        values, done = parse_angles_fast(texts, kind)
+        taken += int(done.sum())
+        for text, value in zip(np.array(texts, dtype=object)[done], values[done]):
+            try:
+                careful = parse_angle(text, kind)
+            except AngleInputError:
+                raise AssertionError(f"{kind} {text!r} read in bulk as {value} but refused one by one") from None
+            assert careful == value, (kind, text)
+    assert taken > 5_000  # the bulk path was exercised
+
+
+def test_the_common_forms_are_read_in_bulk():
+    # the forms of the demo logs and the fleet benchmark are all taken by the bulk reader
+    from navred.angles import parse_angles_fast
+
+    _, done = parse_angles_fast(["44 10.1 N", "44° 10.1′ N", "47°12.4'N", "25.0517", "-12.5"], "lat")
+    assert done.all()
+    _, done = parse_angles_fast(["012 09.3 W", "005° 31.9′ e"], "lon")
+    assert done.all()
+    _, done = parse_angles_fast(["44 10.1", "012 09.3 E", "N 44 10.1", "44 10'.1 N", "44 10 30 N"], "lat")
+    assert not done.any()  # no letter (refused), a letter of the wrong kind (refused), rarer forms: careful

@@ -170,3 +170,31 @@ def test_datetime64_round_trip_of_utc():
     out = inst.utc_datetime64()
     assert out[0] == np.datetime64("2026-03-20T18:42:10.123456789")
     assert out[1] == np.datetime64("2016-12-31T23:59:59.999999999")
+
+
+def test_iso_strings_read_in_bulk_match_the_careful_reader():
+    # issue 13: a column of ISO 8601 'Z' instants is read by numpy's parser; every instant must be what the
+    # careful one-by-one reader gives (utc_julian_date_from_components), and anything else must still be
+    # refused by the careful reader with its own words
+    from navred.timescales import instant_components, iso_z_datetime64, utc_julian_date_from_components
+
+    rng = np.random.default_rng(21)
+    seconds = rng.uniform(0, 78 * 365.25 * 86400, 5000)
+    stamps = (np.datetime64("1972-01-01", "ns") + (seconds * 1e9).astype("timedelta64[ns]")).astype("datetime64[ms]")
+    texts = [t + "Z" for t in stamps.astype(str)]
+    texts[::7] = [t.replace("T", " ") for t in texts[::7]]
+    assert iso_z_datetime64(texts) is not None
+    fast1, fast2 = utc_julian_date(texts)
+    slow1, slow2, reasons = utc_julian_date_from_components(*instant_components(texts))
+    assert (reasons == "").all()
+    assert np.abs((fast1 - slow1) + (fast2 - slow2)).max() * 86400 < 1e-6  # a microsecond
+    for odd in ("2026-02-30T10:00:00Z", "2016-12-31T23:59:60Z", "2026-03-26T09:10Z", "2026-03-26T09:10:00+03:00",
+                "2026-03-26T09:10:00.Z", "2026-03-26T09:1a:00Z"):
+        assert iso_z_datetime64([odd, texts[0]]) is None
+    old = utc_julian_date(["1950-06-01T00:00:00Z", texts[0]])  # before 1972: the careful path's time scale
+    assert old[0][0] + old[1][0] == utc_julian_date_from_components(1950, 6, 1, 0, 0, 0.0)[0] \
+        + utc_julian_date_from_components(1950, 6, 1, 0, 0, 0.0)[1]
+    with pytest.raises(TimeInputError, match="not a valid calendar instant"):
+        utc_julian_date(["2026-02-30T10:00:00Z", texts[0]])
+    leap = instants(["2016-12-31T23:59:60Z", "2017-01-01T00:00:00Z"])  # a real leap second: one SI second apart
+    assert ((leap.tt1[1] - leap.tt1[0]) + (leap.tt2[1] - leap.tt2[0])) * 86400 == pytest.approx(1.0, abs=1e-6)

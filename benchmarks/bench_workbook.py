@@ -1,0 +1,92 @@
+"""Time the workbook, stage by stage, on an invented fleet's 20,000-sight log; and end to end.
+
+Targets (issue 13): `navred workbook` on a 20,000-sight log (about 4,700 fix groups) with the
+plotting sheets written as files, under 20 s end to end; the invented training voyage's
+workbook with its pictures, under 10 s. The fleet's plotting sheets are written as SVG (about
+a millisecond each); a PNG costs some tens of milliseconds (the time is printed), so thousands
+of PNG sheets take minutes whatever the rest does.
+
+The fleet log is invented (scripts/make_fleet_log.py: fourteen vessels, two observers each,
+55 days, angles written as text) and is built once into the folder given (default: a
+temporary folder), then reused. Each stage below is one step of what `navred workbook` does;
+the end-to-end figures run the command itself in a fresh process, three times, and print the
+median.
+
+Run:  python benchmarks/bench_workbook.py [FOLDER]
+"""
+
+from __future__ import annotations
+
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+import warnings
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent
+
+
+def timed(label: str, function, width: int = 44):
+    start = time.perf_counter()
+    result = function()
+    print(f"  {label:<{width}} {time.perf_counter() - start:6.2f} s")
+    return result
+
+
+def end_to_end(arguments: list[str], runs: int = 3) -> float:
+    times = []
+    for _ in range(runs):
+        start = time.perf_counter()
+        subprocess.run([sys.executable, "-m", "navred", *arguments], check=True, capture_output=True)
+        times.append(time.perf_counter() - start)
+    return statistics.median(times)
+
+
+def main(folder: str | None = None) -> None:
+    warnings.simplefilter("ignore")
+    work = Path(folder or tempfile.mkdtemp(prefix="navred-bench-"))
+    work.mkdir(parents=True, exist_ok=True)
+    log_path = work / "fleet_sights.csv"
+    if not log_path.exists():
+        subprocess.run([sys.executable, str(ROOT / "scripts" / "make_fleet_log.py"), str(log_path)], check=True)
+
+    from navred.frames import series_columns
+    from navred.logbook import read_sight_log
+    from navred.sights import reduce_sights
+    from navred.voyage import VoyageResult, _next_twilight_plan, _rejected, fix_groups
+    from navred.workbook import Pictures, write_plots, write_workbook
+
+    print(f"the workbook of {log_path} by stage:")
+    log = timed("read and check the log", lambda: read_sight_log(log_path))
+    reduced = timed("reduce every sight", lambda: reduce_sights(log.table))
+    rejected = _rejected(log, reduced)
+    series = timed("check the series", lambda: series_columns(reduced))
+    for column, values in series.items():
+        reduced[column] = values
+    groups = timed("fix every group", lambda: fix_groups(reduced))
+    voyage = VoyageResult(str(log_path), log, reduced, rejected, groups, {"run": "benchmark"})
+    voyage.next_events, voyage.next_plan = timed("plan the next twilight", lambda: _next_twilight_plan(voyage))
+    print(f"  ({len(reduced):,} sights, {sum(g.fix is not None for g in groups):,} fixes of {len(groups):,} groups)")
+    timed("write the workbook (pictures as files)",
+          lambda: write_workbook(voyage, work / "fleet.xlsx", plots=Pictures(embed=False, folder=str(work / "plots"))))
+    timed("draw every plotting sheet as an SVG file", lambda: write_plots(voyage, work / "plots", ("svg",)))
+    sample = [g for g in groups if g.fix is not None][:100]
+    start = time.perf_counter()
+    write_plots(voyage, work / "plots-png", ("png",), groups=sample)
+    print(f"  (a plotting sheet as PNG takes {(time.perf_counter() - start) / len(sample) * 1000:.0f} ms: "
+          f"{len(sample)} drawn)")
+
+    print("end to end (median of 3 runs of the command):")
+    fleet = end_to_end(["workbook", str(log_path), "-o", str(work / "fleet-e2e.xlsx"), "--pictures", "files",
+                        "--plots", str(work / "plots-e2e"), "--plot-formats", "svg"])
+    print(f"  navred workbook, 20,000-sight fleet log, plotting sheets as SVG files  {fleet:6.2f} s")
+    training = end_to_end(["workbook", str(ROOT / "sample_sights" / "training_sights.csv"), "-o",
+                           str(work / "training.xlsx")])
+    print(f"  navred workbook, the invented training voyage, pictures embedded       {training:6.2f} s")
+    print(f"(files in {work})")
+
+
+if __name__ == "__main__":
+    main(sys.argv[1] if len(sys.argv) > 1 else None)

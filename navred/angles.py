@@ -60,7 +60,9 @@ def wrap_180(angle_deg: ArrayLike) -> np.ndarray:
 
 def _refused(value: object, kind: AngleKind, why: str = "") -> AngleInputError:
     reason = f": {why}" if why else ""
-    return AngleInputError(f"cannot read {value!r} as a {_NAMES[kind]}{reason}; accepted: {_ACCEPTED[kind]}")
+    name = _NAMES[kind]
+    article = "an" if name[0] in "aeiou" else "a"
+    return AngleInputError(f"cannot read {value!r} as {article} {name}{reason}; accepted: {_ACCEPTED[kind]}")
 
 
 def _parse_one(value: object, kind: AngleKind, decimal_comma: bool = False) -> float:
@@ -90,7 +92,8 @@ def _parse_one(value: object, kind: AngleKind, decimal_comma: bool = False) -> f
             if letter in "NSEW":
                 if letter not in letters:
                     raise _refused(value, kind, f"{letter} is a hemisphere of {_HEMISPHERE_OF[letter]}, and "
-                                                f"a {_NAMES[kind]} takes {letters[0]} or {letters[1]}")
+                                                f"{'an' if _NAMES[kind][0] in 'aeiou' else 'a'} {_NAMES[kind]} "
+                                                f"takes {letters[0]} or {letters[1]}")
                 hemi, text = letter, rest.strip()
                 break
     parts = [p for p in _SPLIT.split(text) if p]
@@ -209,27 +212,23 @@ def parse_angles_fast(texts: list[str], kind: AngleKind = "angle") -> tuple[np.n
     not marked. A decimal comma is never read here. Tested against :func:`parse_angle` on fuzzed text.
     """
     n = len(texts)
-    value = np.full(n, np.nan)
-    done = np.zeros(n, dtype=bool)
+    nan = float("nan")
+    values = [nan] * n
+    done = [False] * n
     letters = _HEMISPHERES.get(kind, "")
+    negative_letters = {"S", "W", "s", "w"}
     limit = _LIMITS[kind]
     low = -180.0 if kind in ("lon", "variation") else -limit
     decimal, dm = _FAST_DECIMAL.fullmatch, _FAST_DM.fullmatch
     for k, text in enumerate(texts):
         if type(text) is not str:
             continue
-        found = decimal(text)
+        found = dm(text)  # degrees and minutes first: the form most logs use
         if found:
-            number = float(found.group(1))
-        else:
-            found = dm(text)
-            if not found:
-                continue
             sign, degrees, minutes, hemisphere = found.groups()
-            hemisphere = hemisphere.upper()
             if letters:
                 # degrees and minutes need their letter, of the right kind, and no sign beside it
-                if not hemisphere or hemisphere not in letters or sign:
+                if not hemisphere or hemisphere.upper() not in letters or sign:
                     continue
             elif hemisphere:
                 continue
@@ -237,11 +236,17 @@ def parse_angles_fast(texts: list[str], kind: AngleKind = "angle") -> tuple[np.n
             if m >= 60.0:
                 continue
             number = float(degrees) + m / 60.0
-            if sign == "-" or hemisphere in ("S", "W"):
+            if sign == "-" or hemisphere in negative_letters:
                 number = -number
+        else:
+            found = decimal(text)
+            if not found:
+                continue
+            number = float(found.group(1))
         if low <= number <= limit:
-            value[k] = number
+            values[k] = number
             done[k] = True
+    value, done = np.array(values, dtype=float), np.array(done, dtype=bool)
     if kind == "lon":
         value = np.where(done & (value >= 180.0), wrap_180(value), value)
     return value, done

@@ -185,11 +185,17 @@ def reduce_command(
     from .sights import reduce_sights
 
     with _reported():
+        if csv:
+            # block by block: a fleet's archive of a million sights never sits in memory whole
+            from .logbook import read_sight_log_blocks
+            from .output import csv_text
+
+            for k, block in enumerate(read_sight_log_blocks(_source(sights_files), dates=dates)):
+                sys.stdout.write(csv_text(reduce_sights(block), header=k == 0))
+            sys.stdout.flush()
+            return
         log = read_sight_log(_source(sights_files), dates=dates)
         reduced = reduce_sights(log)
-        if csv:
-            typer.echo(_csv_safe(reduced).to_csv(index=False, float_format="%.6f"), nl=False)
-            return
         labels = [label.removeprefix("row ") for label in _labels(reduced)]
         width = max([len(x) for x in labels] + [3])
         typer.echo(f"{'row':>{width}}  {'body':<15}{'UTC':<21}{'Ho':>12}{'Hc':>12}{'Zn':>8}  {'intercept':<18}note")

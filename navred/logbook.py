@@ -20,6 +20,7 @@ from __future__ import annotations
 
 import datetime as _dt
 import functools
+from collections.abc import Iterator
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -29,10 +30,18 @@ import pandas as pd
 from .angles import parse_angle, parse_angles_fast
 from .corrections import HIGHEST_READING_DEG, parse_index_error_arcmin
 from .errors import NavredError
-from .readers import LogbookError, MissingFormulaValue, RawTable, blank_mask, read_table
+from .readers import (
+    LogbookError,
+    MissingFormulaValue,
+    RawTable,
+    blank_mask,
+    plain_csv_blocks,
+    read_table,
+)
 from .stars import canonical_body_name
 from .timescales import (
     instant_components,
+    iso_z_datetime64,
     utc_jd_to_datetime64,
     utc_julian_date_from_components,
     utc_minus_seconds,
@@ -388,6 +397,40 @@ def read_sight_log(source: object, *, dates: str | None = None) -> SightLog:
     return _parse(tables, layouts, dates)
 
 
+def read_sight_log_blocks(source: object, *, dates: str | None = None,
+                          block_rows: int = 100_000) -> Iterator[SightLog]:
+    """A sight log read in blocks of rows, each block by the same rules as :func:`read_sight_log`.
+
+    For a log too long to hold whole in memory with all its working (``navred reduce --csv`` of a
+    fleet's archive): a plain CSV file whose every row names its fix group is read ``block_rows``
+    rows at a time, and the blocks together hold exactly the rows, values and rejections
+    :func:`read_sight_log` gives (tested). Any other source is one block, the whole log: the
+    automatic fix groups (and the rules across several files) need every row at once.
+    """
+    if dates is not None and dates not in DATE_ORDERS:
+        raise LogbookError(f"dates {dates!r} is not one of {', '.join(DATE_ORDERS)}")
+    plain = plain_csv_blocks(source, block_rows) if isinstance(source, (str, Path)) and Path(source).is_file() \
+        else None
+    if plain is None or len(plain.lines) <= block_rows:
+        yield read_sight_log(source, dates=dates)
+        return
+    _result_names()
+    blocks = iter(plain)
+    first = next(blocks)
+    layout = _layout(first)
+    if layout.problems:
+        raise LogbookError(f"{first.source}: " + "; ".join(layout.problems))
+    _check_is_log(first, layout.keys)
+    labels = layout.keys.get("fix_group")
+    if not labels or plain.any_blank(labels):
+        del plain, blocks, first
+        yield read_sight_log(source, dates=dates)  # automatic fix groups: the whole log at once
+        return
+    yield _parse([first], [layout], dates)
+    for table in blocks:
+        yield _parse([table], [layout], dates)
+
+
 def _check_is_log(table: RawTable, keys: dict) -> None:
     required = [c.key for c in COLUMNS if c.required]
     if len(set(keys) & ({"utc", "zone_time"} | set(required))) < 2:
@@ -536,12 +579,17 @@ def _parse_key(cells: _Cells, key: str, problems: _Problems, dates) -> _Parsed:
         value[rows[~bad]] = used[~bad]
         todo[rows[~bad]] = False
     elif column.kind == "utc" and inferred == "string":
-        parts = subset.str.extract(_ISO_Z).to_numpy(dtype=object)
-        matched = ~pd.isna(parts[:, 0])
-        if matched.any():
-            value[:6, rows[matched]] = parts[matched].astype(float).T
-            value[6, rows[matched]] = 0.0
-            todo[rows[matched]] = False
+        stamps = iso_z_datetime64(subset.to_numpy(dtype=object))  # every cell a real 'Z' instant: numpy reads them
+        if stamps is not None:
+            value[:, rows] = np.vstack(instant_components(stamps))
+            todo[rows] = False
+        else:
+            parts = subset.str.extract(_ISO_Z).to_numpy(dtype=object)
+            matched = ~pd.isna(parts[:, 0])
+            if matched.any():
+                value[:6, rows[matched]] = parts[matched].astype(float).T
+                value[6, rows[matched]] = 0.0
+                todo[rows[matched]] = False
     elif column.kind == "utc" and inferred in ("datetime", "datetime64"):
         try:
             stamps = pd.to_datetime(subset)

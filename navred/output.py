@@ -69,12 +69,14 @@ def _sweep(folder: Path, name: str) -> None:
     _sweep_all(folder, {name})
 
 
-def _sweep_all(folder: Path, names: set[str]) -> None:
-    """Remove the temporaries killed earlier writes to any of these targets left, in one scan of the folder."""
-    try:
-        entries = list(os.scandir(folder))
-    except OSError:
-        return
+def _sweep_all(folder: Path, names: set[str], entries=None) -> None:
+    """Remove the temporaries killed earlier writes to any of these targets left, in one scan of the folder
+    (``entries``: the scan, when the caller has made it)."""
+    if entries is None:
+        try:
+            entries = list(os.scandir(folder))
+        except OSError:
+            return
     for entry in entries:
         found = _TEMP.match(entry.name)
         if not found or found.group("name") not in names:
@@ -144,13 +146,13 @@ def atomic_write(path: str | Path, write: Callable[[str], object], *, inputs: It
     return target
 
 
-def atomic_write_many(folder: str | Path, files: dict[str, Callable[[str], object]], *,
-                      inputs: Iterable[str | Path] = ()) -> list[Path]:
+def atomic_write_many(folder: str | Path, files: dict[str, bytes], *, inputs: Iterable[str | Path] = ()) -> list[Path]:
     """:func:`atomic_write` for many files in one folder (the plotting sheets of a long passage).
 
-    Each file is written under a temporary name; all are synced to disk at once, then each is
-    renamed over its target: every target is its complete new file or its old one, as with
-    :func:`atomic_write`, for one folder scan and one sync instead of one of each per file.
+    ``files`` maps each file name to its contents. Each file is written under a temporary name;
+    all are synced to disk at once, then each is renamed over its target: every target is its
+    complete new file or its old one, as with :func:`atomic_write`, for one folder scan and one
+    sync instead of one of each per file.
     """
     folder = Path(folder)
     if not files:
@@ -163,24 +165,28 @@ def atomic_write_many(folder: str | Path, files: dict[str, Callable[[str], objec
         raise OutputError(f"cannot make the folder {folder}: {exc.strerror or exc}") from None
     sources = {Path(source).resolve() for source in inputs}
     where = folder.resolve()
+    present = {entry.name: entry for entry in os.scandir(folder)}
     targets = []
     for name in files:
-        target = folder / name
-        if target.is_symlink() or (target.exists() and not target.is_file()) or where / name in sources:
-            check_output(target, inputs)  # the refusal, in its own words
-        targets.append(target)
-    names = {target.name for target in targets}
-    _sweep_all(folder, names)
+        entry = present.get(name)
+        if (entry is not None and (entry.is_symlink() or not entry.is_file())) or where / name in sources:
+            check_output(folder / name, inputs)  # the refusal, in its own words
+        targets.append(folder / name)
+    _sweep_all(folder, set(files), present.values())
+    token = f"{os.getpid()}.{secrets.token_hex(4)}"
     temporaries: list[Path] = []
     try:
-        for target, write in zip(targets, files.values()):
-            temporary = target.parent / f".{target.name}.{os.getpid()}.{secrets.token_hex(4)}.navred-tmp{target.suffix}"
+        for target, contents in zip(targets, files.values()):
+            temporary = target.parent / f".{target.name}.{token}.navred-tmp{target.suffix}"
             try:
-                os.close(os.open(temporary, os.O_CREAT | os.O_EXCL | os.O_WRONLY, 0o666))
+                handle = os.open(temporary, os.O_CREAT | os.O_EXCL | os.O_WRONLY, 0o666)
             except OSError as exc:
                 raise OutputError(f"cannot write in {folder}: {exc.strerror or exc}") from None
             temporaries.append(temporary)
-            write(str(temporary))
+            try:
+                os.write(handle, contents)
+            finally:
+                os.close(handle)
         os.sync()  # every new file on disk before any is renamed into place
         for temporary, target in zip(temporaries, targets):
             os.replace(temporary, target)
@@ -194,6 +200,121 @@ def atomic_write_many(folder: str | Path, files: dict[str, Callable[[str], objec
     return targets
 
 
+#: rows of a table turned into CSV text together
+CSV_ROWS_AT_ONCE = 20_000
+
+
+def csv_text(frame, *, header: bool = True, float_format: str = "%.6f") -> str:
+    """A table as CSV text, column by column, with text cells that could be taken for formulas
+    neutralised as :func:`csv_safe` does: the same text pandas' ``to_csv(index=False,
+    float_format=...)`` writes of :func:`csv_safe` of the table (tested), at several times its speed.
+
+    Numbers in the float format (NaN and missing values empty), integers and booleans as written,
+    instants with a zone as ``YYYY-MM-DD HH:MM:SS+00:00``; a field holding a comma, a quote or a
+    line break is quoted (RFC 4180, csv.QUOTE_MINIMAL).
+    """
+    import numpy as np
+    import pandas as pd
+
+    if len(frame) > CSV_ROWS_AT_ONCE:  # the text of every cell of a large table at once would be several times its size
+        parts = [csv_text(frame.iloc[start:start + CSV_ROWS_AT_ONCE], header=header and start == 0,
+                          float_format=float_format) for start in range(0, len(frame), CSV_ROWS_AT_ONCE)]
+        return "".join(parts)
+    # each row is one %-formatting of all its fields at once: a float column with no gap is formatted there
+    # (in C), every other column is text made column by column first
+    specs: list[str] = []
+    columns: list[list] = []
+    gaps = np.zeros(len(frame), dtype=bool)  # rows holding a missing number, written as _GAP and emptied after
+    for name in frame.columns:
+        values = frame[name]
+        dtype = values.dtype
+        if isinstance(dtype, pd.DatetimeTZDtype) or str(dtype).startswith("datetime64"):
+            texts = _instant_texts(values)
+        elif dtype.kind == "f":
+            numbers = values.to_numpy()
+            missing = np.isnan(numbers)
+            if missing.all():
+                specs.append("")  # an empty field in every row
+                continue
+            if missing.any():
+                numbers = np.where(missing, _GAP, numbers)
+                gaps |= missing
+            specs.append(float_format)
+            columns.append(numbers.tolist())
+            continue
+        elif dtype.kind in "iub":
+            specs.append("%s")
+            columns.append(values.to_numpy().tolist())
+            continue
+        else:
+            # each distinct value once (most text columns hold few: the body, the limb, the status...)
+            codes, distinct = pd.factorize(values.to_numpy(dtype=object), use_na_sentinel=False)
+            cells = np.array([_csv_cell(v, float_format) for v in distinct.tolist()] + [""], dtype=object)
+            texts = cells[codes].tolist()
+        joined = "".join(texts)
+        if "," in joined or '"' in joined or "\n" in joined or "\r" in joined:
+            texts = [_quoted(t) for t in texts]
+        specs.append("%s")
+        columns.append(texts)
+    form = ",".join(specs)
+    rows = [form % row for row in zip(*columns)] if columns else [form.replace("%%", "%")] * len(frame)
+    if gaps.any():
+        gap_text = float_format % _GAP
+        for k in np.flatnonzero(gaps).tolist():
+            rows[k] = rows[k].replace(gap_text, "")
+    lines = [",".join(_quoted(str(name)) for name in frame.columns)] if header else []
+    return "\n".join(lines + rows) + ("\n" if lines or rows else "")
+
+
+#: a stand-in for a missing number while a row is formatted (its 300 digits appear in no real cell)
+_GAP = -7.777777777e299
+
+
+def _instant_texts(values) -> list[str]:
+    """Instants with a zone as pandas writes them in a CSV (``2026-03-26 09:10:00+00:00``), empty when missing."""
+    import numpy as np
+
+    stamps = values.dt.tz_convert("UTC").dt.tz_localize(None) if getattr(values.dt, "tz", None) is not None \
+        else values
+    plain = stamps.to_numpy().astype("datetime64[ns]")
+    missing = np.isnat(plain)
+    whole = plain[~missing]
+    if whole.size and np.any(whole.astype("datetime64[s]") != whole):
+        texts = values.astype(str).tolist()  # fractions of a second: pandas' own layout
+        return ["" if t in ("NaT", "nan", "None") else t for t in texts]
+    suffix = "+00:00" if getattr(values.dt, "tz", None) is not None else ""
+    texts = [t.replace("T", " ") + suffix for t in np.datetime_as_string(plain, unit="s").tolist()]
+    for k in np.flatnonzero(missing).tolist():
+        texts[k] = ""
+    return texts
+
+
+def _csv_cell(value, float_format: str) -> str:
+    """One cell of a text column as CSV text: formula-like text neutralised (OWASP)."""
+    if value is None:
+        return ""
+    if isinstance(value, str):
+        return "'" + value if value.startswith(FORMULA_STARTS) else value
+    if isinstance(value, float):  # a number among text: written as pandas writes it there, in full
+        return "" if value != value else str(value)
+    if isinstance(value, bool):
+        return str(value)
+    try:
+        import pandas as pd
+
+        if pd.isna(value):
+            return ""
+    except (TypeError, ValueError):
+        pass
+    return str(value)
+
+
+def _quoted(text: str) -> str:
+    if "," in text or '"' in text or "\n" in text or "\r" in text:
+        return '"' + text.replace('"', '""') + '"'
+    return text
+
+
 def csv_safe(frame):
     """A copy of a table whose text cells cannot be taken for formulas by a spreadsheet: a cell that
     begins with =, +, -, @, a tab or a carriage return gets a ' before it (OWASP, "CSV Injection")."""
@@ -205,4 +326,4 @@ def csv_safe(frame):
     return out
 
 
-__all__ = ["atomic_write", "atomic_write_many", "check_output", "csv_safe", "OutputError", "FORMULA_STARTS"]
+__all__ = ["atomic_write", "atomic_write_many", "check_output", "csv_safe", "csv_text", "OutputError", "FORMULA_STARTS"]

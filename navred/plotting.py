@@ -14,6 +14,7 @@ north arrow.
 
 from __future__ import annotations
 
+import math
 from pathlib import Path
 
 import numpy as np
@@ -33,6 +34,7 @@ def _grid_step(span_nm: float) -> float:
     return _STEPS_ARCMIN[-1]
 
 
+_ELLIPSE_STEPS = (np.cos(np.linspace(0.0, 2.0 * np.pi, 73)[:-1]), np.sin(np.linspace(0.0, 2.0 * np.pi, 73)[:-1]))
 #: the page of a plotting sheet, in points: 8 inches square, the plotting area a square inside it
 SHEET_PT = 576.0
 _AREA = (70.0, 58.0, 540.0, 528.0)  # x0, y0, x1, y1
@@ -47,17 +49,20 @@ def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None):
     from .drawing import Canvas, blend
 
     bodies, times = list(bodies), list(times)
-    lat0, lon0 = fix.dr_lat_deg, fix.dr_lon_deg
-    cos_lat = np.cos(np.radians(lat0))
+    lat0, lon0 = float(fix.dr_lat_deg), float(fix.dr_lon_deg)
+    cos_lat = math.cos(math.radians(lat0))
 
     def plane(lat, lon):
+        """Positions to sheet miles east and north of the DR (numbers or arrays)."""
+        if isinstance(lat, float) and isinstance(lon, float):
+            return ((lon - lon0 + 180.0) % 360.0 - 180.0) * 60.0 * cos_lat, (lat - lat0) * 60.0
         d_lon = (np.asarray(lon) - lon0 + 180.0) % 360.0 - 180.0
         return d_lon * 60.0 * cos_lat, (np.asarray(lat) - lat0) * 60.0
 
-    fix_xy = plane(fix.lat_deg, fix.lon_deg)
+    fix_xy = plane(float(fix.lat_deg), float(fix.lon_deg))
     points = [(0.0, 0.0), fix_xy]
     if chart is not None:
-        chart_xy = plane(*chart)
+        chart_xy = plane(float(chart[0]), float(chart[1]))
         points.append(chart_xy)
     used = np.flatnonzero(np.isfinite(fix.lop_intercept_nm))
     z = np.radians(fix.lop_zn_deg[used])
@@ -70,9 +75,15 @@ def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None):
     ax0, ay0, ax1, ay1 = _AREA
     per_nm = (ax1 - ax0) / (2.0 * half)
 
+    left, bottom = cx - half, cy - half
+
     def page(x, y):
-        """Sheet miles (east, north of the DR) to points on the page."""
-        return ax0 + (np.asarray(x) - (cx - half)) * per_nm, ay1 - (np.asarray(y) - (cy - half)) * per_nm
+        """Sheet miles (east, north of the DR) to points on the page (numbers, lists or arrays)."""
+        if isinstance(x, list):
+            return [ax0 + (v - left) * per_nm for v in x], [ay1 - (v - bottom) * per_nm for v in y]
+        if isinstance(x, np.ndarray) or isinstance(y, np.ndarray):
+            return ax0 + (np.asarray(x) - left) * per_nm, ay1 - (np.asarray(y) - bottom) * per_nm
+        return ax0 + (x - left) * per_nm, ay1 - (y - bottom) * per_nm
 
     def inside(px, py):
         return ax0 <= px <= ax1 and ay0 <= py <= ay1
@@ -80,11 +91,11 @@ def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None):
     sheet = Canvas(SHEET_PT, SHEET_PT, PAPER)
     area = _AREA
     if fix.is_fix:  # the ellipse's tint first, so that the grid and the lines show through it
-        turn = np.radians(fix.ellipse_orientation_deg)
-        t = np.linspace(0.0, 2.0 * np.pi, 73)[:-1]
+        turn = math.radians(fix.ellipse_orientation_deg)
+        cos_t, sin_t = _ELLIPSE_STEPS
         a, b = fix.ellipse_semi_major_nm, fix.ellipse_semi_minor_nm
-        ex = fix_xy[0] + a * np.cos(t) * np.sin(turn) + b * np.sin(t) * np.cos(turn)
-        ey = fix_xy[1] + a * np.cos(t) * np.cos(turn) - b * np.sin(t) * np.sin(turn)
+        ex = fix_xy[0] + a * cos_t * math.sin(turn) + b * sin_t * math.cos(turn)
+        ey = fix_xy[1] + a * cos_t * math.cos(turn) - b * sin_t * math.sin(turn)
         ellipse = page(ex, ey)
         sheet.polygon(*ellipse, fill=blend(ELLIPSE, PAPER, 0.15), clip=area)
 
@@ -108,13 +119,14 @@ def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None):
     count = max(len(used) - 1, 1)
     dr_page = page(0.0, 0.0)
     labels = []
-    for k, row in enumerate(used):
-        fx, fy = feet[k]
-        dx, dy = np.sin(tangent[k]), np.cos(tangent[k])
-        flagged = bool(fix.outlier[row])
+    outliers = fix.outlier.tolist()
+    for k, (row, (fx, fy), turn, azimuth) in enumerate(zip(used.tolist(), feet.tolist(), tangent.tolist(),
+                                                          z.tolist())):
+        dx, dy = math.sin(turn), math.cos(turn)
+        flagged = bool(outliers[row])
         colour = FLAGGED if flagged else INK
         # a short azimuth tick from the DR toward the body, as on a hand plot
-        tip = page(0.35 * half * np.sin(z[k]), 0.35 * half * np.cos(z[k]))
+        tip = page(0.35 * half * math.sin(azimuth), 0.35 * half * math.cos(azimuth))
         sheet.line([dr_page[0], tip[0]], [dr_page[1], tip[1]], blend(colour, PAPER, 0.5), 0.6, clip=area)
         ends = page([fx - dx * length, fx + dx * length], [fy - dy * length, fy + dy * length])
         sheet.line(*ends, colour, 1.3, dash=(5.0, 3.0) if flagged else None, clip=area)
@@ -123,7 +135,7 @@ def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None):
         nearest = (cx - fx) * dx + (cy - fy) * dy
         along = nearest + (-0.6 + 1.2 * k / count) * half
         lx, ly = page(fx + dx * along, fy + dy * along)
-        labels.append((lx, ly, label, colour, (np.degrees(np.arctan2(dy, dx)) + 90) % 180 - 90))
+        labels.append((lx, ly, label, colour, (math.degrees(math.atan2(dy, dx)) + 90) % 180 - 90))
 
     # the DR, the fix and its ellipse (or the combined line and its band), the chart position
     if fix.is_fix:
@@ -219,12 +231,16 @@ def save_plotting_sheet(fix, bodies, times, path, *, title: str = "", chart=None
     return atomic_write(target, lambda p: write_canvas(sheet, p))
 
 
+def canvas_bytes(canvas, suffix: str, *, png_width_px: int = SHEET_PNG_PX) -> bytes:
+    """A :class:`navred.drawing.Canvas` as the contents of an SVG or PNG file (by ``suffix``)."""
+    if suffix.lower().lstrip(".") == "svg":
+        return canvas.to_svg().encode("utf-8")
+    return canvas.to_png(png_width_px)
+
+
 def write_canvas(canvas, path, *, png_width_px: int = SHEET_PNG_PX) -> None:
     """Write a :class:`navred.drawing.Canvas` as SVG or PNG, by the file's suffix."""
-    if Path(path).suffix.lower() == ".svg":
-        Path(path).write_text(canvas.to_svg(), encoding="utf-8")
-    else:
-        Path(path).write_bytes(canvas.to_png(png_width_px))
+    Path(path).write_bytes(canvas_bytes(canvas, Path(path).suffix, png_width_px=png_width_px))
 
 
 def save_figure(figure, path) -> None:

@@ -173,6 +173,9 @@ def _read_csv(path: Path, data: bytes) -> RawTable:
     if first is None:
         raise LogbookError(f"{path} has no header row: a sight log needs one, naming its columns")
     separator = _choose_separator(header_line)
+    quick = _plain_table(str(path), text, first, separator)
+    if quick is not None:
+        return quick
     csv.field_size_limit(MAX_CELL_CHARS * 4)
     problems: dict[int, tuple[str, str]] = {}
     try:
@@ -189,7 +192,143 @@ def _read_csv(path: Path, data: bytes) -> RawTable:
                 records.append([])
         del exc
     header = [h.strip() for h in records[first]] if first < len(records) else []
-    return _table(str(path), header, records[first + 1:], first + 2, problems, separator)
+    # a file with no control character, NUL or lone carriage return anywhere needs no cell-by-cell look for
+    # them (checked on the whole text at once); cell lengths are still checked column by column
+    clean = not problems and _BAD_TEXT.search(text) is None
+    return _table(str(path), header, records[first + 1:], first + 2, problems, separator, clean=clean)
+
+
+def _plain_lines(text: str, first: int, separator: str, source: str) -> tuple[list[str], list[str]] | None:
+    """(header, data lines) of a plain CSV text, or None when it is not plain.
+
+    Plain: no quote character anywhere (so every separator ends a field and every line is one
+    record, as the csv module would split it), no control character, NUL or lone carriage
+    return, and a header of named columns."""
+    if '"' in text or _BAD_TEXT.search(text) is not None:
+        return None
+    lines = text.split("\n")
+    if lines and lines[-1] == "":
+        lines.pop()
+    header = [h.strip() for h in lines[first].split(separator)]
+    if not header or header[-1] == "" or len(lines) - first - 1 > MAX_ROWS or len(lines) <= first + 1:
+        return None
+    _check_width(source, header)
+    return header, lines[first + 1:]
+
+
+def _plain_block(source: str, header: list[str], data: list[str], first_row_number: int,
+                 separator: str, *, short_lines: bool = False) -> RawTable | None:
+    """The table of plain CSV lines (see :func:`_plain_lines`), split by pandas' C parser; None when a
+    line that is not blank holds more or fewer fields than the header (the csv module path names it).
+    Both paths give the same table (tests/test_logbook.py compares them with the csv module of the
+    standard library). ``short_lines``: the lines' fields were counted already and no line is longer
+    than a cell may be, so no cell is (a plain file's cells never span lines)."""
+    width = len(header)
+    blank = np.array([not line.replace(separator, "").strip() for line in data], dtype=bool)
+    if not short_lines:  # (a PlainBlocks file had every line's fields counted when it was read)
+        counts = np.array([line.count(separator) for line in data], dtype=int)
+        if np.any(counts[~blank] != width - 1):
+            return None
+    kept = np.flatnonzero(~blank)
+    numbers = first_row_number + kept
+    if kept.size == 0:
+        columns = [pd.Series([], dtype=object) for _ in header]
+    else:
+        body = "\n".join(data[k] for k in kept.tolist()) if blank.any() else "\n".join(data)
+        frame = pd.read_csv(io.StringIO(body), sep=separator, header=None, names=list(range(width)), dtype=object,
+                            keep_default_na=False, na_values=[], quoting=csv.QUOTE_NONE, engine="c",
+                            skip_blank_lines=False, skipinitialspace=False, comment=None)
+        if len(frame) != kept.size:
+            return None
+        columns = [pd.Series(frame[k].to_numpy(dtype=object), dtype=object) for k in range(width)]
+    if short_lines:
+        return RawTable(source, header, columns, np.asarray(numbers, dtype=int), {}, separator,
+                        separator in (";", "\t"), int(blank.sum()), {})
+    return _finish(source, header, columns, np.asarray(numbers, dtype=int), {}, {}, separator, int(blank.sum()),
+                   clean=True)
+
+
+def _plain_table(source: str, text: str, first: int, separator: str) -> RawTable | None:
+    """The whole table of a plain CSV text in one (see :func:`_plain_lines`), or None."""
+    plain = _plain_lines(text, first, separator, source)
+    if plain is None:
+        return None
+    header, data = plain
+    return _plain_block(source, header, data, first + 2, separator)
+
+
+@dataclass
+class PlainBlocks:
+    """A plain CSV log's lines, read once, handed out as tables of ``rows`` lines each."""
+
+    source: str
+    header: list[str]
+    separator: str
+    lines: list[str]
+    first_row_number: int
+    rows: int
+
+    def any_blank(self, columns: list[int]) -> bool:
+        """Whether some line that is not blank has every one of these columns blank."""
+        separator = self.separator
+        if len(columns) == 1:
+            # the one column read by pandas' C parser (a plain file splits the same way), then looked at
+            cells = pd.read_csv(io.StringIO("\n".join(self.lines)), sep=separator, header=None, usecols=columns,
+                                names=list(range(len(self.header))), dtype=object, keep_default_na=False,
+                                na_values=[], quoting=csv.QUOTE_NONE, engine="c", skip_blank_lines=False,
+                                skipinitialspace=False, comment=None)[columns[0]].tolist()
+            if len(cells) == len(self.lines):
+                return any(not cell.strip() and line.replace(separator, "").strip()
+                           for cell, line in zip(cells, self.lines))
+        for line in self.lines:
+            if not line.replace(separator, "").strip():
+                continue
+            cells = line.split(separator)
+            if all(not cells[k].strip() for k in columns):
+                return True
+        return False
+
+    def __iter__(self):
+        short = max(map(len, self.lines), default=0) <= MAX_CELL_CHARS
+        for start in range(0, len(self.lines), self.rows):
+            block = _plain_block(self.source, list(self.header), self.lines[start:start + self.rows],
+                                 self.first_row_number + start, self.separator, short_lines=short)
+            if block is None:  # every line's fields were counted when the file was read
+                raise LogbookError(f"{self.source}: a block could not be read as it was checked (a navred defect)")
+            yield block
+
+
+def plain_csv_blocks(path: str | Path, rows: int) -> PlainBlocks | None:
+    """A plain CSV sight log to be read in blocks of ``rows`` lines (each a :class:`RawTable` with the
+    rows' own numbers), under the same bounds as :func:`read_table`; None when the file is not a plain
+    CSV (quoted cells, control characters, an .xlsx) or a line has the wrong number of fields: read it
+    whole with :func:`read_table` then."""
+    path = Path(path)
+    if not path.is_file() or path.suffix.lower() in (".xlsx", ".xlsm"):
+        return None
+    size = path.stat().st_size
+    if size == 0 or size > MAX_FILE_BYTES:
+        return None  # read_table gives the refusal
+    data = path.read_bytes()
+    if data.startswith((b"PK", b"\x1f\x8b")):
+        return None
+    text = _decode(data, path)
+    del data
+    if "\r" in text or "\x00" in text:
+        return None
+    first = next((k for k, line in enumerate(io.StringIO(text)) if line.strip().strip(",;\t")), None)
+    if first is None:
+        return None
+    separator = _choose_separator(text.split("\n", first + 1)[first])
+    plain = _plain_lines(text, first, separator, str(path))
+    del text
+    if plain is None:
+        return None
+    header, lines = plain
+    width = len(header)
+    if any(line.count(separator) != width - 1 for line in lines if line.replace(separator, "").strip()):
+        return None
+    return PlainBlocks(str(path), header, separator, lines, first + 2, rows)
 
 
 def _records(reader, path, first) -> list[list[str]]:
@@ -202,12 +341,27 @@ def _records(reader, path, first) -> list[list[str]]:
     return records
 
 
-def _table(source, header, records, first_row_number, problems, separator) -> RawTable:
-    """Build a RawTable from text records (CSV): rows with the wrong number of fields noted, empty rows skipped."""
+def _table(source, header, records, first_row_number, problems, separator, *, clean: bool = False) -> RawTable:
+    """Build a RawTable from text records (CSV): rows with the wrong number of fields noted, empty rows skipped.
+
+    ``clean``: the text holds no control character and no over-long cell (the caller checked it whole)."""
     while header and header[-1] == "":
         header.pop()
     _check_width(source, header)
     width = len(header)
+    if not problems and records and all(len(record) == width for record in records):
+        # the usual file: every row has its fields; the columns are the records turned round, and a row
+        # is empty when every one of its cells is
+        turned = list(zip(*records))
+        columns = [np.array(column, dtype=object) for column in turned]
+        empty_rows = np.ones(len(records), dtype=bool)
+        for column in turned:
+            empty_rows &= np.array([not cell.strip() for cell in column], dtype=bool)
+        numbers = first_row_number + np.flatnonzero(~empty_rows)
+        if empty_rows.any():
+            columns = [column[~empty_rows] for column in columns]
+        series = [pd.Series(column, dtype=object) for column in columns]
+        return _finish(source, header, series, numbers, {}, {}, separator, int(empty_rows.sum()), clean=clean)
     columns: list[list[str]] = [[] for _ in range(width)]
     numbers: list[int] = []
     kept: dict[int, tuple[str, str]] = {}
@@ -262,11 +416,13 @@ def _text_problem(cell: str) -> str:
     return f"the cell holds {len(cell):,} characters, more than {MAX_CELL_CHARS:,}"
 
 
-def _finish(source, header, columns, numbers, problems, malformed, separator, empty) -> RawTable:
+def _finish(source, header, columns, numbers, problems, malformed, separator, empty, *, clean: bool = False
+            ) -> RawTable:
     """Mark the rows whose text cells hold a NUL byte, a control character or too many characters
-    (each such row is rejected alone), column by column; each distinct text is looked at once."""
+    (each such row is rejected alone), column by column; each distinct text is looked at once.
+    ``clean``: the caller has checked the whole text for control characters, and there are none."""
     for k, column in enumerate(columns):
-        bad = _bad_text_rows(column)
+        bad = _bad_text_rows(column, lengths_only=clean)
         if bad is None:
             continue
         for row in bad:
@@ -284,13 +440,16 @@ def _finish(source, header, columns, numbers, problems, malformed, separator, em
                     malformed)
 
 
-def _bad_text_rows(column: pd.Series):
+def _bad_text_rows(column: pd.Series, *, lengths_only: bool = False):
     """The rows whose text holds a NUL, a control character or too many characters; None when none do.
 
-    The distinct texts are joined and searched at once; rows are looked for only when one is bad."""
+    The distinct texts are joined and searched at once; rows are looked for only when one is bad.
+    ``lengths_only``: the text is known to hold no control character, so only lengths are checked."""
     if not len(column) or not (column.dtype == object or pd.api.types.is_string_dtype(column.dtype)):
         return None
     cells = column.to_numpy(dtype=object)
+    if lengths_only and max(map(len, cells.tolist())) <= MAX_CELL_CHARS:  # every cell of a CSV is text
+        return None
     texts = list({u for u in cells.tolist() if isinstance(u, str)})
     if not texts or (not _BAD_TEXT.search("\n".join(texts)) and max(map(len, texts)) <= MAX_CELL_CHARS):
         return None
@@ -468,5 +627,5 @@ def _blank_mask(column: pd.Series) -> np.ndarray:
     return missing
 
 
-__all__ = ["RawTable", "read_table", "blank_mask", "LogbookError", "MissingFormulaValue", "MAX_FILE_BYTES",
+__all__ = ["RawTable", "read_table", "plain_csv_blocks", "PlainBlocks", "blank_mask", "LogbookError", "MissingFormulaValue", "MAX_FILE_BYTES",
            "MAX_ROWS", "MAX_COLUMNS", "MAX_CELL_CHARS"]

@@ -628,19 +628,27 @@ def plot_file_stems(names) -> list[str]:
 def write_plots(voyage: VoyageResult, folder: str | Path, formats: tuple[str, ...] = ("png", "svg"), *,
                 groups=None) -> list[Path]:
     """Every fix's plotting sheet (or those of ``groups``) as PNG and SVG files in ``folder``."""
-    from .plotting import write_canvas
+    from .plotting import canvas_bytes
 
     out = Path(folder)
     if out.exists() and not out.is_dir():
         raise NavredError(f"{out} is a file: give a folder for the plotting sheets")
     out.mkdir(parents=True, exist_ok=True)
     chosen = [g for g in (voyage.groups if groups is None else groups) if g.fix is not None]
-    files = {}
-    for group, stem in zip(chosen, plot_file_stems(g.name for g in chosen)):
-        sheet = plotting_figure(voyage, group)
-        for suffix in formats:
-            files[f"plot-{stem}.{suffix}"] = lambda p, s=sheet: write_canvas(s, p)
-    return atomic_write_many(out, files, inputs=voyage.log.sources)
+    written: list[Path] = []
+    stems = plot_file_stems(g.name for g in chosen)
+    for start in range(0, len(chosen), PLOTS_PER_WRITE):  # a few hundred files held in memory at a time
+        files = {}
+        for group, stem in zip(chosen[start:start + PLOTS_PER_WRITE], stems[start:start + PLOTS_PER_WRITE]):
+            sheet = plotting_figure(voyage, group)
+            for suffix in formats:
+                files[f"plot-{stem}.{suffix}"] = canvas_bytes(sheet, suffix)
+        written += atomic_write_many(out, files, inputs=voyage.log.sources)
+    return written
+
+
+#: plotting sheets drawn and written together (their files are held in memory until written)
+PLOTS_PER_WRITE = 500
 
 
 def write_lunar_workbook(inputs: dict, result: dict, path) -> Path:

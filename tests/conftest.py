@@ -8,11 +8,46 @@ leap-second tables (load.timescale(builtin=True)); nothing is downloaded.
 from __future__ import annotations
 
 import importlib.resources
+import json
+import os
 import socket
 import warnings
+from pathlib import Path
 
 import numpy as np
 import pytest
+
+#: skyfield's results for the test's syntheses, frozen by scripts/freeze_skyfield_references.py (which names
+#: the skyfield version in the file); a result not in the file is computed live. tests/test_references.py
+#: recomputes a sample live, so that the file cannot drift unnoticed.
+FROZEN_PATH = Path(__file__).resolve().parent / "data" / "skyfield_frozen.json"
+_RECORDING = os.environ.get("NAVRED_FREEZE_SKYFIELD") == "1"
+_FROZEN = (json.loads(FROZEN_PATH.read_text(encoding="utf-8"))["results"]
+           if FROZEN_PATH.exists() and not _RECORDING else {})
+_RECORDED: dict[str, list[float]] = {}
+
+
+def frozen(key: str, compute):
+    """skyfield's result for ``key`` from the frozen file, or computed now by ``compute()`` (a list of floats)."""
+    if key in _FROZEN:
+        return _FROZEN[key]
+    value = [float(v) for v in compute()]
+    if _RECORDING:
+        _RECORDED[key] = value
+    return value
+
+
+def pytest_sessionfinish(session, exitstatus):
+    if _RECORDING and _RECORDED:
+        import skyfield
+
+        FROZEN_PATH.parent.mkdir(parents=True, exist_ok=True)
+        FROZEN_PATH.write_text(json.dumps({
+            "about": "skyfield results of the test suite's syntheses, made by scripts/freeze_skyfield_references.py",
+            "skyfield": skyfield.__version__, "ephemeris": "de421.bsp from skyfield-data",
+            "timescale": "load.timescale(builtin=True)",
+            "results": dict(sorted(_RECORDED.items()))}, indent=0) + "\n", encoding="utf-8")
+
 
 ARCMIN = 1.0 / 60.0  # one arcminute in degrees
 ARCSEC = 1.0 / 3600.0
@@ -115,23 +150,28 @@ def skyfield_sight(ts, eph, name, utc, lat_deg, lon_deg, *, limb="", eye_height_
     from skyfield.earthlib import refract
 
     when = pd_timestamp(utc).round("us")
-    t = ts.from_datetime(when.to_pydatetime())
-    topo = (eph["earth"] + wgs84.latlon(lat_deg, lon_deg)).at(t).observe(sky_target(ts, eph, name)).apparent()
-    alt, az, distance = topo.altaz()
+
+    def topocentric():
+        t = ts.from_datetime(when.to_pydatetime())
+        topo = (eph["earth"] + wgs84.latlon(lat_deg, lon_deg)).at(t).observe(sky_target(ts, eph, name)).apparent()
+        alt, az, distance = topo.altaz()
+        light = centre_of_light_offset_arcmin(eph, name, t, lat_deg, lon_deg) if name in ("Venus", "Mars") else 0.0
+        return alt.degrees, az.degrees, distance.km, t.dut1, light
+
+    alt_deg, az_deg, distance_km, dut1_s, light_arcmin = frozen(
+        f"topocentric|{name}|{when.value}|{float(lat_deg)!r}|{float(lon_deg)!r}", topocentric)
     radius = {"Sun": 695700.0, "Moon": 1737.4}.get(name)
-    sd_deg = float(np.degrees(np.arcsin(radius / distance.km))) if radius else 0.0
-    limb_alt = alt.degrees + {"upper": sd_deg, "lower": -sd_deg}.get(limb, 0.0)
-    if name in ("Venus", "Mars"):
-        # the observer brings the centre of light to the horizon, not the centre of the disc
-        limb_alt += centre_of_light_offset_arcmin(eph, name, t, lat_deg, lon_deg) / 60.0
+    sd_deg = float(np.degrees(np.arcsin(radius / distance_km))) if radius else 0.0
+    # the observer brings the centre of light of Venus and Mars to the horizon, not the centre of the disc
+    limb_alt = alt_deg + {"upper": sd_deg, "lower": -sd_deg}.get(limb, 0.0) + light_arcmin / 60.0
     apparent = float(refract(limb_alt, temperature_c, pressure_hpa))
     reading = horizon_reading_deg(apparent, horizon, eye_height_m, waterline_nm)
     hs = reading + (index_error_arcmin + noise_arcmin) / 60.0
     return {"utc": when, "body": name, "limb": limb, "hs": hs, "index_error_arcmin": index_error_arcmin,
             "eye_height_m": eye_height_m, "temperature_c": temperature_c, "pressure_hpa": pressure_hpa,
             "horizon": horizon, "waterline_distance_nm": waterline_nm,
-            "dr_lat": lat_deg, "dr_lon": lon_deg, "dut1_s": float(t.dut1),
-            "true_alt_deg": float(alt.degrees), "true_az_deg": float(az.degrees)}
+            "dr_lat": lat_deg, "dr_lon": lon_deg, "dut1_s": float(dut1_s),
+            "true_alt_deg": float(alt_deg), "true_az_deg": float(az_deg)}
 
 
 def horizon_reading_deg(apparent_deg, horizon="sea", eye_height_m=3.0, waterline_nm=float("nan")):

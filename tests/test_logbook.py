@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
+import csv
 import datetime as dt
+import io
 import re
 import string
 
@@ -458,3 +460,51 @@ def test_random_garbage_rows_never_crash_and_never_lose_a_row(tmp_path, garbage)
     assert list(log.rejected.columns) == ["source", "row", "column", "value", "reason"]
     good = log.sights[log.sights.row.isin([2, len(records)])]
     assert np.allclose(good.hs_deg, 30 + 2.4 / 60)
+
+
+@pytest.mark.parametrize("separator", [",", ";", "\t"])
+def test_a_plain_file_splits_as_the_csv_module_splits_it(tmp_path, separator):
+    # issue 13: a file with no quote and no control character is split by pandas' C parser; every cell and
+    # every row number must be what Python's csv module (the standard library's reference reader) gives,
+    # blank lines and lines of separators skipped, spaces kept
+    from navred.readers import read_table
+
+    header = ["utc", "body", "hs", "dr_lat", "dr_lon", "remarks"]
+    rows = [["2026-03-26T09:10:00Z", "Sun", "25 03.1", "44 10.1 N", "012 09.3 W", "  spaced  "],
+            [], [""] * 6, ["2026-03-26T12:56:03Z", " Moon", "48 16.0", "43 50.1 N", "012 28.9 W", "a'b′c"],
+            ["2026-03-26T15:40:00Z", "Vega", "", "", "", ""], ["  "], ["x", "y", "z", "1", "2", "#not a comment"]]
+    text = "\n".join(separator.join(r) for r in [header] + rows) + "\n"
+    path = tmp_path / "plain.csv"
+    path.write_text(text, encoding="utf-8")
+    table = read_table(path)[0]
+    expected = [(k + 1, r) for k, r in enumerate(csv.reader(io.StringIO(text), delimiter=separator))
+                if k and any(c.strip() for c in r)]
+    assert table.row_numbers.tolist() == [n for n, _ in expected]
+    cells = [list(row) for row in zip(*(c.tolist() for c in table.columns))]
+    assert cells == [r for _, r in expected]
+    assert table.empty_rows == 3
+
+
+def test_a_log_read_in_blocks_is_the_log_read_whole(tmp_path):
+    # issue 13: navred reduce --csv reads a long log in blocks (logbook.read_sight_log_blocks); the blocks
+    # together must hold exactly the rows, values and rejections the one reader gives. The training voyage
+    # (every row names its fix group) in blocks of 50 rows, with a few bad rows planted; and a log whose
+    # rows do not all name their group, which is read whole
+    from navred.logbook import read_sight_log_blocks
+
+    frame = pd.read_csv("sample_sights/training_sights.csv", dtype=str, keep_default_na=False)
+    frame.loc[7, "hs"] = "95 00"
+    frame.loc[120, "dr_lat"] = "44 30"
+    frame.loc[300, "utc"] = "2026-02-30T10:00:00Z"
+    path = tmp_path / "log.csv"
+    frame.to_csv(path, index=False)
+    whole = read_sight_log(path)
+    blocks = list(read_sight_log_blocks(path, block_rows=50))
+    assert len(blocks) == 9
+    joined = pd.concat([b.table for b in blocks], ignore_index=True)
+    pd.testing.assert_frame_equal(joined, whole.table, check_dtype=False)  # the values; text columns' dtype aside
+    rejected = pd.concat([b.rejected for b in blocks], ignore_index=True)
+    pd.testing.assert_frame_equal(rejected, whole.rejected.reset_index(drop=True), check_dtype=False)
+    frame.loc[200, "fix_group"] = ""
+    frame.to_csv(path, index=False)
+    assert len(list(read_sight_log_blocks(path, block_rows=50))) == 1  # an automatic group: read whole

@@ -396,3 +396,26 @@ def test_every_command_runs_without_the_network(no_network, tmp_path):
     for arguments in commands:
         result = runner.invoke(app, arguments)
         assert result.exit_code == 0, (arguments, result.output)
+
+
+def test_csv_text_is_what_pandas_writes_of_the_neutralised_table():
+    # issue 13: navred's CSV output is made column by column (navred.output.csv_text); it must be the very
+    # text pandas' to_csv writes (the general-purpose reference) of the table after csv_safe (OWASP): quotes,
+    # separators and line breaks quoted, formula-like text neutralised, gaps empty, instants with a zone
+    import pandas as pd
+
+    from navred.output import csv_safe, csv_text
+
+    frame = pd.DataFrame({
+        "text": ["plain", "a, b", 'say "hi"', "two\nlines", "=HYPERLINK(1)", "-5", "", "@x"],
+        "number": [1.5, float("nan"), -0.0, 1e20, 2.25, float("inf"), 3.0, 1 / 3],
+        "gaps": [float("nan")] * 8,
+        "count": list(range(8)),
+        "flag": [True, False] * 4,
+        "when": pd.to_datetime(["2026-03-26T09:10:00Z"] * 7 + [None], utc=True),
+        "mixed": [None, 1.5, "x", float("nan"), "y,z", 2.0, "", "=1"],
+    })
+    assert csv_text(frame) == csv_safe(frame).to_csv(index=False, float_format="%.6f")
+    assert csv_text(frame.iloc[:0]) == csv_safe(frame.iloc[:0]).to_csv(index=False, float_format="%.6f")
+    fractions = frame.assign(when=pd.to_datetime(["2026-03-26T09:10:00.25Z"] * 8, utc=True))
+    assert csv_text(fractions) == csv_safe(fractions).to_csv(index=False, float_format="%.6f")

@@ -176,7 +176,11 @@ def test_iso_strings_read_in_bulk_match_the_careful_reader():
     # issue 13: a column of ISO 8601 'Z' instants is read by numpy's parser; every instant must be what the
     # careful one-by-one reader gives (utc_julian_date_from_components), and anything else must still be
     # refused by the careful reader with its own words
-    from navred.timescales import instant_components, iso_z_datetime64, utc_julian_date_from_components
+    from navred.timescales import (
+        instant_components,
+        iso_z_datetime64,
+        utc_julian_date_from_components,
+    )
 
     rng = np.random.default_rng(21)
     seconds = rng.uniform(0, 78 * 365.25 * 86400, 5000)

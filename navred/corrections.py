@@ -158,8 +158,24 @@ def horizon_distance_nm(eye_height_m: ArrayLike) -> np.ndarray:
 HIGHEST_READING_DEG = {"sea": 90.0, "bubble": 90.0, "waterline": 90.0, "artificial": 180.0, "back": 180.0}
 
 
+def _each_word_once(words: ArrayLike, look_up):
+    """``look_up`` (an array function) applied to each distinct word once, the result spread back."""
+    values = np.asarray(words, dtype=str)
+    if values.ndim == 0 or values.size < 64:
+        return look_up(values)
+    distinct, inverse = np.unique(values, return_inverse=True)
+    try:
+        return look_up(distinct)[inverse.reshape(values.shape)]
+    except SightInputError:
+        return look_up(values)  # a word refused: the message names the elements of the whole array
+
+
 def horizon_kind(horizon: ArrayLike) -> np.ndarray:
     """The horizon each element names (``sea``, ``artificial``, ``bubble``, ``back`` or ``waterline``); raises for others."""
+    return _each_word_once(horizon, _horizon_kind)
+
+
+def _horizon_kind(horizon: np.ndarray) -> np.ndarray:
     values = np.char.replace(np.char.replace(np.char.lower(np.char.strip(np.asarray(horizon, dtype=str))), " ", "_"),
                              "-", "_")
     known = np.isin(values, list(HORIZONS))
@@ -227,6 +243,10 @@ _LIMBS = {**{word: _LIMB_SIGNS[limb] for word, limb in LIMBS.items()}, "nan": 0.
 
 def limb_sign(limb: ArrayLike) -> np.ndarray:
     """+1 for a lower limb, −1 for an upper limb, 0 for the centre (``LL``/``UL`` accepted)."""
+    return _each_word_once(limb, _limb_sign)
+
+
+def _limb_sign(limb: np.ndarray) -> np.ndarray:
     values = np.char.lower(np.char.strip(np.asarray(limb, dtype=str)))
     known = np.isin(values, list(_LIMBS))
     if not known.all():

@@ -170,12 +170,12 @@ class Canvas:
                f'<rect width="100%" height="100%" fill="{self.background}"/>']
         for item in self.items:
             if isinstance(item, _Line):
-                path = " ".join(f"{x:.2f},{y:.2f}" for x, y in item.points)
+                path = _svg_points(item.points)
                 dash = f' stroke-dasharray="{" ".join(f"{d:g}" for d in item.dash)}"' if item.dash else ""
                 out.append(f'<polyline points="{path}" fill="none" stroke="{item.colour}" '
                            f'stroke-width="{item.width:g}"{dash}/>')
             elif isinstance(item, _Polygon):
-                path = " ".join(f"{x:.2f},{y:.2f}" for x, y in item.points)
+                path = _svg_points(item.points)
                 stroke = f' stroke="{item.outline}" stroke-width="{item.width:g}"' if item.outline else ""
                 out.append(f'<polygon points="{path}" fill="{item.fill or "none"}"{stroke}/>')
             else:
@@ -212,6 +212,11 @@ class Canvas:
         out = io.BytesIO()
         image.save(out, format="PNG", compress_level=compress_level)
         return out.getvalue()
+
+
+def _svg_points(points) -> str:
+    """``x,y x,y ...`` to 0.01 pt, the whole list in one formatting."""
+    return ("%.2f,%.2f " * len(points) % tuple(v for point in points for v in point))[:-1]
 
 
 _SVG_ANCHOR = {"start": "start", "middle": "middle", "end": "end"}

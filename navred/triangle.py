@@ -44,26 +44,56 @@ def computed_altitude_azimuth(lat_deg: ArrayLike, lon_deg: ArrayLike, gha_deg: A
     if np.any(np.abs(dec) > 90.0):
         # a declination past a pole is not one (a sign or a unit slip): never fold it back into range
         raise AngleInputError(f"declination must lie in -90 to 90°; refused: {failed_elements(np.abs(dec) > 90)}")
+    lon = np.asarray(lon_deg, dtype=float)
+    gha = np.asarray(gha_deg, dtype=float)
+    shape = np.broadcast_shapes(lat.shape, lon.shape, gha.shape, dec.shape)
+    size = int(np.prod(shape))
+    if size <= TRIANGLE_BLOCK:
+        hc, zn = _triangle(lat, lon, gha, dec)
+    else:
+        # in blocks that stay in the processor's cache: each array is passed over once a block
+        flat = [np.broadcast_to(v, shape).ravel() for v in (lat, lon, gha, dec)]
+        hc, zn = np.empty(size), np.empty(size)
+        for start in range(0, size, TRIANGLE_BLOCK):
+            part = slice(start, start + TRIANGLE_BLOCK)
+            hc[part], zn[part] = _triangle(*(v[part] for v in flat))
+        hc, zn = hc.reshape(shape), zn.reshape(shape)
+    if not np.isfinite(hc).all():
+        # NaN and infinity propagate through the trigonometry: find which input was at fault
+        _check_finite(latitude=lat_deg, longitude=lon_deg, GHA=gha_deg, declination=dec_deg)
+    return hc, zn
+
+
+#: Sights worked together by :func:`computed_altitude_azimuth` (a block's arrays fit the cache).
+TRIANGLE_BLOCK = 32768
+#: Below this sine of the altitude (about 64°) Hc is the arcsine; above, the arctangent of the vertical
+#: over the horizontal component, which keeps Hc exact to the zenith (both agree to 1e-15 there).
+_ARCSIN_LIMIT = 0.9
+
+
+def _triangle(lat, lon, gha, dec):
+    """Hc and Zn (degrees) of one block (arrays that broadcast)."""
     # |φ| and |δ| are at most 90°, so their cosines are the non-negative square roots (one
     # sine each instead of a sine and a cosine: the trigonometric calls dominate the cost)
     sin_phi = np.sin(np.radians(lat))
     sin_dec = np.sin(np.radians(dec))
     cos_phi = np.sqrt(np.maximum(1.0 - sin_phi * sin_phi, 0.0))
     cos_dec = np.sqrt(np.maximum(1.0 - sin_dec * sin_dec, 0.0))
-    lha = np.radians(np.asarray(gha_deg, dtype=float) + np.asarray(lon_deg, dtype=float))
+    lha = np.radians(gha + lon)
     cos_lha = np.cos(lha)
-    north = cos_phi * sin_dec - sin_phi * cos_dec * cos_lha
+    across = cos_dec * cos_lha
+    north = cos_phi * sin_dec - sin_phi * across
     east = -cos_dec * np.sin(lha)
-    up = sin_phi * sin_dec + cos_phi * cos_dec * cos_lha
-    # atan2 of the vertical and horizontal components keeps Hc exact near the zenith too
-    hc = np.degrees(np.arctan2(up, np.hypot(north, east)))
-    zn = np.degrees(np.arctan2(east, north))
-    zn = np.where(zn < 0.0, zn + 360.0, zn)
-    zn = np.where(zn >= 360.0, 0.0, zn)
-    if not np.isfinite(hc).all():
-        # NaN and infinity propagate through the trigonometry: find which input was at fault
-        _check_finite(latitude=lat_deg, longitude=lon_deg, GHA=gha_deg, declination=dec_deg)
-    return hc, zn
+    up = sin_phi * sin_dec + cos_phi * across
+    north, east, up = np.broadcast_arrays(north, east, up)
+    hc = np.array(np.arcsin(np.clip(up, -1.0, 1.0)))
+    high = np.abs(up) > _ARCSIN_LIMIT
+    if high.any():
+        hc[high] = np.arctan2(up[high], np.hypot(north[high], east[high]))
+    hc = np.degrees(hc)
+    zn = np.asarray(np.degrees(np.arctan2(east, north)))
+    zn = zn + 360.0 * (zn < 0.0)
+    return hc, np.where(zn >= 360.0, 0.0, zn)
 
 
 def intercept_nm(ho_deg: ArrayLike, hc_deg: ArrayLike) -> np.ndarray:

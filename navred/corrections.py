@@ -360,6 +360,33 @@ def phase_correction_arcmin(sd_arcmin: ArrayLike, phase_angle_deg: ArrayLike, bo
     return -phase_offset_arcmin(sd_arcmin, phase_angle_deg) * cos_bearing
 
 
+def planet_phases(bodies: ArrayLike, utc: object, lat_deg: ArrayLike, lon_deg: ArrayLike, hc_deg: ArrayLike,
+                  zn_deg: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
+    """Phase angle (degrees) and phase correction (arcminutes) of each sight of Venus or Mars (NaN and 0
+    for other bodies), from the almanac at ``utc`` (instants, one per sight) seen from (lat, lon)
+    with the body at (``hc_deg``, ``zn_deg``): :func:`phase_correction_arcmin`."""
+    from .almanac import phase_angle_deg, places
+    from .timescales import instants
+    from .triangle import computed_altitude_azimuth
+
+    bodies = np.asarray(bodies, dtype=object)
+    angle = np.full(bodies.size, np.nan)
+    phase = np.zeros(bodies.size)
+    lit = np.isin(bodies, ["Venus", "Mars"])
+    if lit.any():
+        rows = np.flatnonzero(lit)
+        inst = (utc if hasattr(utc, "tt1") else instants(utc))[rows]
+        sun = places("Sun", inst)
+        planet = places(bodies[rows], inst)
+        angle[rows] = phase_angle_deg(planet, sun)
+        lat, lon = np.broadcast_to(np.asarray(lat_deg, dtype=float), bodies.shape), \
+            np.broadcast_to(np.asarray(lon_deg, dtype=float), bodies.shape)
+        sun_hc, sun_zn = computed_altitude_azimuth(lat[rows], lon[rows], sun.gha_deg, sun.dec_deg)
+        phase[rows] = phase_correction_arcmin(planet.sd_arcmin, angle[rows], np.asarray(hc_deg)[rows],
+                                              np.asarray(zn_deg)[rows], sun_hc, sun_zn)
+    return angle, phase
+
+
 @dataclass
 class AltitudeCorrections:
     """Every line of the Hs -> Ho working, one element per sight (arcminutes unless named _deg).

@@ -13,8 +13,8 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from .almanac import phase_angle_deg, places
-from .corrections import correct_altitudes, phase_correction_arcmin
+from .almanac import places
+from .corrections import correct_altitudes, planet_phases
 from .logbook import SIGHT_COLUMNS, SightLog, read_sight_log
 from .timescales import UT1_BEFORE, UT1_BEYOND, instants_from_utc_jd
 from .triangle import (
@@ -95,21 +95,6 @@ def reduce_sights(sights: object) -> pd.DataFrame:
     return pd.concat([carried, added], axis=1)
 
 
-def _phase(bodies, inst, almanac, lat, lon, hc, zn):
-    """Phase angle (degrees) and phase correction (arcminutes) of each sight: Venus and Mars only (else 0)."""
-    angle = np.zeros(bodies.size)
-    phase = np.zeros(bodies.size)
-    lit = np.isin(bodies, ["Venus", "Mars"])
-    if lit.any():
-        rows = np.flatnonzero(lit)
-        sun = places("Sun", inst[rows])
-        planet = places(bodies[rows], inst[rows])
-        angle[rows] = phase_angle_deg(planet, sun)
-        sun_hc, sun_zn = computed_altitude_azimuth(lat[rows], lon[rows], sun.gha_deg, sun.dec_deg)
-        phase[rows] = phase_correction_arcmin(planet.sd_arcmin, angle[rows], hc[rows], zn[rows], sun_hc, sun_zn)
-    return np.where(lit, angle, np.nan), phase
-
-
 def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
     """The added columns for one block of parsed sights (index 0..n-1)."""
     n = len(frame)
@@ -143,7 +128,7 @@ def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
         hc, zn = computed_altitude_azimuth(lat[rows], lon[rows], almanac.gha_deg, almanac.dec_deg)
         ie = frame["index_error_arcmin"].to_numpy(dtype=float)[rows]
         eye = np.nan_to_num(frame["eye_height_m"].to_numpy(dtype=float)[rows])
-        phase_angle, phase = _phase(bodies[rows], inst, almanac, lat[rows], lon[rows], hc, zn)
+        phase_angle, phase = planet_phases(bodies[rows], inst, lat[rows], lon[rows], hc, zn)
         corrections = correct_altitudes(
             hs[rows], index_error_arcmin=ie, eye_height_m=eye, horizon=horizon[rows],
             temperature_c=frame["temperature_c"].to_numpy(dtype=float)[rows],

@@ -375,18 +375,19 @@ def _result_names() -> set[str]:
     return _RESULT_NAMES
 
 
-def read_sight_log(source: object, *, dates: str | None = None) -> SightLog:
+def read_sight_log(source: object, *, dates: str | None = None, all_sheets: bool = False) -> SightLog:
     """Read and check sight logs: a file (CSV or .xlsx), a list of files, a folder, or a DataFrame.
 
     ``dates`` declares the order of numeric dates that are not ISO 8601 for the whole log
     (``'day-first'`` or ``'month-first'``); without it such a date is refused with both of
-    its readings. Returns a :class:`SightLog`; a source that is not a sight log at all
-    raises :class:`LogbookError` with one message.
+    its readings. ``all_sheets`` reads every sheet of a workbook that holds a table (a class's
+    hand workings, a sheet per cadet) instead of one. Returns a :class:`SightLog`; a source
+    that is not a sight log at all raises :class:`LogbookError` with one message.
     """
     if dates is not None and dates not in DATE_ORDERS:
         raise LogbookError(f"dates {dates!r} is not one of {', '.join(DATE_ORDERS)}")
     _result_names()
-    tables = read_table(source)
+    tables = read_table(source, all_sheets=all_sheets)
     layouts = []
     for table in tables:
         layout = _layout(table)

@@ -78,14 +78,18 @@ class RawTable:
         return len(self.row_numbers)
 
 
-def read_table(source: object) -> list[RawTable]:
-    """The tables of a source: one file, a list of files, a folder of logs, or a pandas DataFrame."""
+def read_table(source: object, *, all_sheets: bool = False) -> list[RawTable]:
+    """The tables of a source: one file, a list of files, a folder of logs, or a pandas DataFrame.
+
+    ``all_sheets``: every sheet of a workbook that holds a table (a class's workings, a sheet per
+    cadet), named ``file (sheet 'name')``; otherwise a workbook gives one table (navred's own from
+    its 'Sights as read' sheet, else the first sheet)."""
     if hasattr(source, "columns") and hasattr(source, "iloc"):
         return [_from_frame(source)]
     if isinstance(source, (list, tuple)):
         tables = []
         for item in source:
-            tables.extend(read_table(item))
+            tables.extend(read_table(item, all_sheets=all_sheets))
         if not tables:
             raise LogbookError("no sight logs given")
         return tables
@@ -96,11 +100,15 @@ def read_table(source: object) -> list[RawTable]:
                        and not p.name.startswith((".", "~$")))
         if not files:
             raise LogbookError(f"{path} is a folder with no sight logs in it (.csv, .tsv, .txt or .xlsx)")
-        return [table for file in files for table in read_table(file)]
+        return [table for file in files for table in read_table(file, all_sheets=all_sheets)]
+    if all_sheets and path.suffix.lower() in (".xlsx", ".xlsm") and path.is_file():
+        _check_file(path)
+        return _read_xlsx_sheets(path)
     return [_read_file(path)]
 
 
-def _read_file(path: Path) -> RawTable:
+def _check_file(path: Path) -> None:
+    """The bounds every file is read under: present, a regular file, not empty, not too large."""
     if not path.exists():
         raise LogbookError(f"no such file: {path}")
     if not path.is_file():
@@ -111,6 +119,10 @@ def _read_file(path: Path) -> RawTable:
     if size > MAX_FILE_BYTES:
         raise LogbookError(f"{path} is {size / 2**20:.0f} MiB; navred reads logs of up to "
                            f"{MAX_FILE_BYTES // 2**20} MiB: split it into several files and give them all")
+
+
+def _read_file(path: Path) -> RawTable:
+    _check_file(path)
     with open(path, "rb") as handle:
         head = handle.read(8)
     if path.suffix.lower() in (".xlsx", ".xlsm"):
@@ -501,6 +513,17 @@ def _check_zip(path: Path) -> None:
 
 
 def _read_xlsx(path: Path) -> RawTable:
+    def chosen(names):
+        lower = {n.lower(): n for n in names}
+        # navred's own workbook is read from its 'Sights as read' sheet: the log exactly as it was
+        return [lower.get("sights as read") or lower.get("sights") or names[0]]
+
+    return _read_xlsx_sheets(path, chosen, refuse_empty=True)[0]
+
+
+def _read_xlsx_sheets(path: Path, choose=None, *, refuse_empty: bool = False) -> list[RawTable]:
+    """The tables of a workbook's sheets (``choose`` picks the sheet names; default: every visible sheet
+    that holds a table of two columns or more), each read under the row bound."""
     import openpyxl
 
     _check_zip(path)
@@ -508,26 +531,42 @@ def _read_xlsx(path: Path) -> RawTable:
         book = openpyxl.load_workbook(path, read_only=True, data_only=True)
     except Exception as exc:  # openpyxl raises many kinds for a damaged file
         raise LogbookError(f"{path} cannot be opened as a spreadsheet: {exc}") from None
+    contents = []
     try:
         names = book.sheetnames
-        lower = {n.lower(): n for n in names}
-        # navred's own workbook is read from its 'Sights as read' sheet: the log exactly as it was
-        name = lower.get("sights as read") or lower.get("sights") or names[0]
-        sheet = book[name]
-        rows = []
-        for row in sheet.iter_rows(values_only=True):
-            rows.append(list(row))
-            if len(rows) > MAX_ROWS + 1:
-                raise LogbookError(f"{path}, sheet {name!r} has more than {MAX_ROWS:,} rows: split it")
+        for name in (choose(names) if choose else names):
+            if choose is None and getattr(book[name], "sheet_state", "visible") != "visible":
+                continue  # a hidden sheet (a template's lists) is not a table of sights
+            rows = []
+            for row in book[name].iter_rows(values_only=True):
+                rows.append(list(row))
+                if len(rows) > MAX_ROWS + 1:
+                    raise LogbookError(f"{path}, sheet {name!r} has more than {MAX_ROWS:,} rows: split it")
+            contents.append((name, rows))
     finally:
         book.close()
-    label = f"{path} (sheet {name!r})" if len(names) > 1 else str(path)
+    tables = []
+    for name, rows in contents:
+        table = _sheet_table(path, name, rows, len(names), refuse_empty or choose is not None)
+        if table is not None:
+            tables.append(table)
+    if not tables:
+        raise LogbookError(f"{path} has no sheet with a table in it")
+    return tables
+
+
+def _sheet_table(path: Path, name: str, rows: list, sheets: int, refuse_empty: bool) -> RawTable | None:
+    label = f"{path} (sheet {name!r})" if sheets > 1 else str(path)
     first = next((i for i, r in enumerate(rows) if any(_filled(v) for v in r)), None)
     if first is None:
+        if not refuse_empty:
+            return None  # an empty sheet of a class workbook: nothing to read
         raise LogbookError(f"{path}, sheet {name!r} is empty")
     header = ["" if v is None else str(v).strip() for v in rows[first]]
     while header and header[-1] == "":
         header.pop()
+    if not refuse_empty and sum(1 for h in header if h) < 2:
+        return None  # a sheet of notes in a class workbook (one column of text), not a table
     body = rows[first + 1:]
     last = max((i for i, r in enumerate(body) if any(_filled(v) for v in r)), default=-1)
     body = body[:last + 1]

@@ -246,7 +246,8 @@ def _add_figure(sheet, figure, anchor: str, width: int, height: int) -> None:
 #: How a column displays its numbers, by the unit in its header: to 0.1′ for arcminutes, to 0.0001°
 #: (0.006′) for decimal degrees, while the cell keeps full precision.
 _NUMBER_FORMATS = (("(′", "0.0"), ("(deg", "0.0000"), ("(nm)", "0.0"), ("(s", "0.000"), ("(m)", "0.00"),
-                   ("(°c)", "0.0"), ("(hpa)", "0.0"), ("(kn)", "0.0"), ("(h)", "0"))
+                   ("(°c)", "0.0"), ("(hpa)", "0.0"), ("(kn)", "0.0"), ("(h)", "0"),
+                   ("(%)", "0"))
 DATE_TIME_FORMAT = "yyyy-mm-dd hh:mm:ss"
 
 
@@ -290,7 +291,7 @@ def new_tables(book) -> TableWriter:
     return TableWriter(book, style_header, _FLAG_FILL, DATE_TIME_FORMAT)
 
 
-def _write_sheet(tables: TableWriter, sheet, frame: pd.DataFrame, *, wide: dict[str, int] | None = None,
+def write_table_sheet(tables: TableWriter, sheet, frame: pd.DataFrame, *, wide: dict[str, int] | None = None,
                  flag_column: str | None = None, first_row: int = 1):
     """A table as a sheet: styled headers, frozen, numbers shown to their unit's precision, text as text."""
     formats = [_number_format(name) for name in frame.columns]
@@ -310,7 +311,7 @@ def _write_sheet(tables: TableWriter, sheet, frame: pd.DataFrame, *, wide: dict[
         sheet.column_dimensions[get_column_letter(index)].width = max(width, 8)
 
 
-def _front_sheet(book, title: str, heading: str):
+def front_sheet(book, title: str, heading: str):
     """The first sheet of a workbook: its heading and the safety caution, prominent at the top."""
     from openpyxl.styles import Alignment, Font
 
@@ -377,7 +378,7 @@ def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool | Pict
 
     book = Workbook()
     tables = new_tables(book)
-    about = _front_sheet(book, "About", "navred sight-reduction log")
+    about = front_sheet(book, "About", "navred sight-reduction log")
     about["A5"] = "Summary"
     about["A5"].font = Font(bold=True)
     write_text_safe(about["B5"], voyage.summary())
@@ -419,12 +420,12 @@ def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool | Pict
             # spreadsheet programs do not grow a row for wrapped text they did not lay out themselves
             about.row_dimensions[cell.row].height = 15 * (len(str(cell.value)) // 100 + 1)
 
-    _write_sheet(tables, book.create_sheet("Sights as read"), voyage.raw)
-    _write_sheet(tables, book.create_sheet("Working"), working_table(voyage), flag_column="flags")
+    write_table_sheet(tables, book.create_sheet("Sights as read"), voyage.raw)
+    write_table_sheet(tables, book.create_sheet("Working"), working_table(voyage), flag_column="flags")
     fixes_sheet = book.create_sheet("Fixes")
     fixes = fixes_table(voyage)
-    _write_sheet(tables, fixes_sheet, fixes, wide={"note": 80, "σ from": 30})
-    _write_sheet(tables, book.create_sheet("Rejected"), rejected_table(voyage), wide={"reason": 90})
+    write_table_sheet(tables, fixes_sheet, fixes, wide={"note": 80, "σ from": 30})
+    write_table_sheet(tables, book.create_sheet("Rejected"), rejected_table(voyage), wide={"reason": 90})
     if voyage.next_plan is not None:
         _write_plan_sheet(tables, book.create_sheet("Sight plan"), voyage.next_plan, pictures.embed)
     if voyage.training is not None:
@@ -443,11 +444,11 @@ def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool | Pict
     for group in shown:
         _add_figure(fixes_sheet, plotting_figure(voyage, group), f"A{anchor_row}", 560, 560)
         anchor_row += 30
-    _fit_pages(book, tables)
+    fit_pages(book, tables)
     return atomic_write(path, tables.save, inputs=voyage.log.sources)
 
 
-def _fit_pages(book, tables: TableWriter | None = None) -> None:
+def fit_pages(book, tables: TableWriter | None = None) -> None:
     """Print each sheet landscape, one page wide, so a printed log keeps its columns together."""
     for sheet in book.worksheets:
         sheet.page_setup.orientation = "landscape"
@@ -474,7 +475,7 @@ def _write_training_sheet(tables: TableWriter, sheet, report, pictures: Pictures
         sheet.cell(row=line, column=1, value=title).font = Font(bold=True)
         line += 1
         if len(frame):
-            _write_sheet(tables, sheet, frame, first_row=line)
+            write_table_sheet(tables, sheet, frame, first_row=line)
             line += len(frame)
         line += 3
     for k in range(1, 16):
@@ -549,7 +550,7 @@ def series_figure(voyage, name: str):
 
 
 def _write_series_sheet(tables: TableWriter, sheet, voyage, table: pd.DataFrame, pictures: Pictures) -> None:
-    _write_sheet(tables, sheet, table)
+    write_table_sheet(tables, sheet, table)
     row = len(table) + 3
     names = list(table.series)
     shown = names[:pictures.limit] if pictures.embed else []
@@ -579,7 +580,7 @@ def _write_plan_sheet(tables: TableWriter, sheet, plan, plots: bool) -> None:
     from openpyxl.styles import Font
 
     table = plan_table(plan)
-    _write_sheet(tables, sheet, table)
+    write_table_sheet(tables, sheet, table)
     line = len(table) + 3
     sheet.cell(row=line, column=1, value="When and where").font = Font(bold=True)
     sheet.cell(row=line, column=2, value=f"{str(plan.utc)[:19].replace('T', ' ')} UTC, DR "
@@ -657,7 +658,7 @@ def write_lunar_workbook(inputs: dict, result: dict, path) -> Path:
     from openpyxl.styles import Font
 
     book = Workbook()
-    sheet = _front_sheet(book, "Lunar distance", "navred lunar distance")
+    sheet = front_sheet(book, "Lunar distance", "navred lunar distance")
     line = 5
     for title, block in (("Observation", inputs), ("Result", result)):
         sheet.cell(row=line, column=1, value=title).font = Font(bold=True)
@@ -668,5 +669,5 @@ def write_lunar_workbook(inputs: dict, result: dict, path) -> Path:
         line += 2
     sheet.column_dimensions["A"].width = 32
     sheet.column_dimensions["B"].width = 60
-    _fit_pages(book)
+    fit_pages(book)
     return atomic_write(path, book.save)

@@ -9,11 +9,12 @@ from __future__ import annotations
 
 __version__ = "0.1.0"
 
-__all__ = ["__version__", "body_positions", "fix_position", "process_log", "read_sight_log", "reduce_sights",
-           "sun_events"]
+__all__ = ["__version__", "body_positions", "fix_position", "mark_workings", "process_log", "read_sight_log",
+           "reduce_sights", "sun_events"]
 
 _FRONT = {"body_positions": "frames", "fix_position": "frames", "read_sight_log": "logbook",
-          "reduce_sights": "sights", "sun_events": "plan", "process_log": "voyage"}
+          "reduce_sights": "sights", "sun_events": "plan", "process_log": "voyage",
+          "mark_workings": "workings"}
 
 
 def __getattr__(name: str):

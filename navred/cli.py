@@ -852,6 +852,56 @@ def training_command(
             typer.echo(f"wrote {target} and {others}")
 
 
+@app.command("mark")
+def mark_command(
+    workings: list[str] = typer.Argument(None, metavar="WORKINGS...", help="Hand workings: CSV or .xlsx files, a folder of them, or a workbook with a sheet per cadet (see docs/marking.md)."),
+    output: str | None = typer.Option(None, "--output", "-o", help="Workbook to write (.xlsx): the class, the mistakes, the fixes and a marking sheet per cadet."),
+    csv: bool = typer.Option(False, "--csv", help="Print one row per sight as CSV: row, first_wrong_line (empty when all is right), cause, and more."),
+    pdf: str | None = typer.Option(None, "--pdf", help="A printable PDF with one page per cadet."),
+    exam: bool = typer.Option(False, "--exam", help="Exam mode: leave out the expected fix and any reference position."),
+    template: str | None = typer.Option(None, "--template", help="Write an empty hand-working template (.xlsx) to this file and stop."),
+    dates: str | None = typer.Option(None, "--dates", help=_DATES_HELP),
+) -> None:
+    """Mark hand reductions: every line recomputed from the cadet's own earlier lines, the first wrong
+    line named with its probable cause.
+
+    Example:  navred mark sample_sights/class_workings.xlsx -o marking.xlsx --pdf marking.pdf
+    """
+    from .output import check_output, csv_text
+
+    with _reported():
+        if template:
+            from .workings import write_template
+
+            typer.echo(f"wrote {write_template(template)}")
+            return
+        if not workings:
+            raise NavredError("give the workings to mark (files, a folder, or a workbook with a sheet per cadet), "
+                              "or --template FILE for an empty one")
+        from .workings import mark_workings, marking_csv, write_marking_pdf, write_marking_workbook
+
+        source = _source(workings)
+        for path in (output, pdf):
+            if path:
+                check_output(path, workings)
+        report = mark_workings(source, dates=dates, exam=exam)
+        if csv:
+            sys.stdout.write(csv_text(marking_csv(report)))
+        else:
+            typer.echo(report.summary())
+            for row in report.rows.itertuples():
+                if row.first_wrong_line:
+                    typer.echo(f"{row.cadet}: row {row.row} ({row.body}): first wrong line {row.first_wrong_line} "
+                               f"(given {row.given}, expected {row.expected})"
+                               + (f": {row.cause}" if row.cause else ""))
+            for row in report.workings.log.rejected.itertuples():
+                typer.echo(f"not read: row {row.row} of {row.source}: {row.column}: {row.reason}")
+        if output:
+            typer.echo(f"wrote {write_marking_workbook(report, output)}", err=csv)
+        if pdf:
+            typer.echo(f"wrote {write_marking_pdf(report, pdf)}", err=csv)
+
+
 @app.command("lunar")
 def lunar_command(
     distance: str = typer.Argument(..., help="The sextant reading of the distance, e.g. '38 52.4' (degrees and minutes)."),

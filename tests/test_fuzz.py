@@ -212,3 +212,79 @@ def test_the_common_forms_are_read_in_bulk():
     assert done.all()
     _, done = parse_angles_fast(["44 10.1", "012 09.3 E", "N 44 10.1", "44 10'.1 N", "44 10 30 N"], "lat")
     assert not done.any()  # no letter (refused), a letter of the wrong kind (refused), rarer forms: careful
+
+
+# --- hand workings: the cadet's lines, mutated ------------------------------------------------------
+
+def _class_rows():
+    """The invented class's workings (sample_sights/class_workings.xlsx), every sheet, as text records."""
+    from openpyxl import load_workbook
+
+    book = load_workbook("sample_sights/class_workings.xlsx", read_only=True)
+    rows = []
+    for sheet in book.worksheets:
+        values = [["" if v is None else str(v) for v in r] for r in sheet.iter_rows(values_only=True)]
+        rows += [dict(zip(values[0], r)) for r in values[1:]]
+    book.close()
+    return rows
+
+
+_WORKINGS = _class_rows()
+_WORKED_COLUMNS = [c for c in _WORKINGS[0] if c.endswith("_worked") or c.startswith("ap_")]
+_WORKING_EDITS = st.lists(st.tuples(st.integers(0, len(_WORKINGS) - 1), st.sampled_from(_WORKED_COLUMNS), _CELLS),
+                          min_size=1, max_size=6)
+
+
+@settings(max_examples=25, derandomize=True, deadline=None, database=None, phases=_NO_SHRINK,
+          suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow,
+                                 HealthCheck.data_too_large])
+@given(_WORKING_EDITS)
+def test_mutated_workings_are_marked_row_for_row_and_every_bad_line_is_named(tmp_path_factory, edits):
+    """Hostile or careless cells in the cadet's lines: every sight is still marked, each cell that cannot be
+    read is listed with its row, line and reason, and the rows nobody touched keep their verdicts."""
+    from navred.workings import mark_workings
+
+    folder = tmp_path_factory.mktemp("workings")
+    rows = [dict(r) for r in _WORKINGS]
+    touched = set()
+    for i, column, cell in edits:
+        rows[i][column] = cell
+        touched.add(i)
+    path = folder / "workings.csv"
+    _write_workings(path, rows)
+    report = mark_workings(path)
+    assert len(report.rows) + report.workings.log.n_rejected_rows == len(rows)
+    unreadable = report.workings.unreadable
+    assert unreadable.reason.map(lambda r: isinstance(r, str) and len(r) > 5).all()
+    assert set(unreadable.row) <= {i + 2 for i in touched}
+    for item in unreadable.itertuples():  # an unreadable line is wrong, for its reason
+        marked = report.lines[(report.lines.row == item.row) & (report.lines.line == item.line)]
+        assert (marked.verdict == "wrong").all() and marked.cause.str.startswith("cannot be read").all()
+    clean = CLEAN_MARKS.set_index("row")
+    kept = report.rows[~report.rows.row.isin([i + 2 for i in touched])].set_index("row")
+    assert (kept.first_wrong_line == clean.loc[kept.index, "first_wrong_line"]).all()
+    assert (kept.cause == clean.loc[kept.index, "cause"]).all()
+
+
+def _clean_marks():
+    import tempfile
+    from pathlib import Path
+
+    from navred.workings import mark_workings
+
+    with tempfile.TemporaryDirectory() as folder:
+        path = Path(folder) / "workings.csv"
+        _write_workings(path, _WORKINGS)
+        return mark_workings(path).rows
+
+
+def _write_workings(path, rows):
+    out = io.StringIO()
+    writer = csv.writer(out, lineterminator="\n")
+    writer.writerow(list(rows[0]))
+    for row in rows:
+        writer.writerow(list(row.values()))
+    path.write_bytes(out.getvalue().encode("utf-8", errors="replace"))
+
+
+CLEAN_MARKS = _clean_marks()

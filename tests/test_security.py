@@ -49,6 +49,31 @@ def test_a_zip_bomb_spreadsheet_is_refused_before_it_is_unzipped(tmp_path):
     refused_quickly(path, fragment="would unzip to")
 
 
+def test_hand_workings_are_read_under_the_same_bounds(tmp_path, monkeypatch):
+    """A class workbook (a sheet per cadet) is read through the one reader: the zip bomb is refused before it
+    is unzipped, and each sheet is held to the row limit."""
+    from navred import readers
+    from navred.workings import mark_workings
+
+    path = tmp_path / "bomb.xlsx"
+    with zipfile.ZipFile(path, "w", zipfile.ZIP_DEFLATED) as archive:
+        archive.writestr("[Content_Types].xml", "<Types/>")
+        with archive.open("xl/worksheets/sheet1.xml", "w") as member:
+            for _ in range(50):
+                member.write(b"\0" * (1 << 20))
+    refused_quickly(path, fragment="would unzip to", reader=mark_workings)
+    monkeypatch.setattr(readers, "MAX_ROWS", 10)
+    book = openpyxl.Workbook()
+    book.active.title = "Cadet A"
+    book.active.append(["utc", "body", "zn_worked", "ho_worked", "intercept_worked"])
+    long = book.create_sheet("Cadet B")
+    for _ in range(30):
+        long.append(["2026-03-26T09:10:00Z", "Sun", "113", "25 12.8", "3.2 T"])
+    book.save(tmp_path / "class.xlsx")
+    with pytest.raises(LogbookError, match="sheet 'Cadet B' has more than 10 rows"):
+        mark_workings(tmp_path / "class.xlsx")
+
+
 BILLION_LAUGHS = """<?xml version="1.0"?>
 <!DOCTYPE lolz [<!ENTITY lol "lol"><!ENTITY lol2 "&lol;&lol;&lol;&lol;&lol;&lol;&lol;&lol;&lol;&lol;">
 <!ENTITY lol3 "&lol2;&lol2;&lol2;&lol2;&lol2;&lol2;&lol2;&lol2;&lol2;&lol2;">

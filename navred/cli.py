@@ -48,6 +48,12 @@ def _reported():
         except MemoryError:
             typer.echo("navred: error: out of memory: the input is too large for this machine; split it", err=True)
             raise typer.Exit(code=1) from None
+        except BrokenPipeError:  # the reader of the output (head, a pager) closed it: stop, without a traceback
+            devnull = os.open(os.devnull, os.O_WRONLY)
+            os.dup2(devnull, sys.stdout.fileno())
+            typer.echo("navred: the output was cut short: its reader closed the pipe; nothing after it was done",
+                       err=True)
+            raise typer.Exit(code=1) from None
         except OSError as exc:
             _print_warnings(caught)
             typer.echo(f"navred: error: {exc.strerror or exc}{f': {exc.filename}' if exc.filename else ''}", err=True)
@@ -885,21 +891,26 @@ def mark_command(
             if path:
                 check_output(path, workings)
         report = mark_workings(source, dates=dates, exam=exam)
+        written = []  # the files first: a target that cannot be written stops the run before the long list
+        if output:
+            written.append(write_marking_workbook(report, output))
+        if pdf:
+            written.append(write_marking_pdf(report, pdf))
         if csv:
             sys.stdout.write(csv_text(marking_csv(report)))
         else:
             typer.echo(report.summary())
-            for row in report.rows.itertuples():
-                if row.first_wrong_line:
-                    typer.echo(f"{row.cadet}: row {row.row} ({row.body}): first wrong line {row.first_wrong_line} "
-                               f"(given {row.given}, expected {row.expected})"
-                               + (f": {row.cause}" if row.cause else ""))
+            for row in report.rows.to_dict("records"):
+                if row["first_wrong_line"]:
+                    off = row["difference"]
+                    typer.echo(f"{row['cadet']}: row {row['row']} ({row['body']}): first wrong line "
+                               f"{row['first_wrong_line']} (given {row['given']}, expected {row['expected']}"
+                               + (f", off by {off:+.1f} {row['unit']}" if off == off else "") + ")"
+                               + (f": {row['cause']}" if row["cause"] else ": no catalogued cause"))
             for row in report.workings.log.rejected.itertuples():
                 typer.echo(f"not read: row {row.row} of {row.source}: {row.column}: {row.reason}")
-        if output:
-            typer.echo(f"wrote {write_marking_workbook(report, output)}", err=csv)
-        if pdf:
-            typer.echo(f"wrote {write_marking_pdf(report, pdf)}", err=csv)
+        for path in written:
+            typer.echo(f"wrote {path}", err=csv)
 
 
 @app.command("lunar")

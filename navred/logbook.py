@@ -184,7 +184,9 @@ def _cell_texts(values: pd.Series) -> np.ndarray:
     return texts[codes]
 
 
-def _with_decimal_point(text: str, decimal_comma: bool) -> str:
+def with_decimal_point(text: str, decimal_comma: bool) -> str:
+    """A number's text with its decimal comma made a point, where the file's separator allows a decimal
+    comma; elsewhere a comma is refused as ambiguous (a decimal comma, or two values?)."""
     if "," not in text:
         return text
     if not decimal_comma:
@@ -201,7 +203,7 @@ def _number(value, decimal_comma: bool) -> float:
     if isinstance(value, (int, float)):
         number = float(value)
     else:
-        text = _with_decimal_point(str(value).strip(), decimal_comma)
+        text = with_decimal_point(str(value).strip(), decimal_comma)
         try:
             number = float(text)
         except ValueError:
@@ -271,7 +273,7 @@ def _not_formula(value):
 
 
 def _decimal_text(value, decimal_comma):
-    return value if isinstance(value, (int, float)) else _with_decimal_point(_text(value), decimal_comma)
+    return value if isinstance(value, (int, float)) else with_decimal_point(_text(value), decimal_comma)
 
 
 #: One parser per kind of column: (value, decimal comma allowed, unit, declared date order) -> result.

@@ -20,7 +20,7 @@ import pandas as pd
 
 from .angles import format_angle, parse_angle
 from .errors import NavredError
-from .logbook import SightLog, read_sight_log
+from .logbook import SightLog, read_sight_log, with_decimal_point
 from .marking import (
     DEGREE_LINES,
     LINES,
@@ -114,15 +114,17 @@ class MarkingReport:
 
 # --- reading the lines ------------------------------------------------------------------------------
 
-_INTERCEPT = re.compile(r"^\s*([+]?\d+(?:[.,]\d+)?)\s*(?:nm|n\.?m\.?|miles?|′|')?\s*"
+_INTERCEPT = re.compile(r"^\s*([+]?\d+(?:\.\d+)?)\s*(?:nm|n\.?m\.?|miles?|′|')?\s*"
                         r"(t|toward|towards|to|a|away|aw)?\s*$", re.IGNORECASE)
 _ARCMIN = re.compile(r"^\s*([+\-−]?)\s*(\d+(?:\.\d+)?)\s*[′']?\s*$")
 _UTC = re.compile(r"^\s*(\d{4})-(\d{2})-(\d{2})[T ](\d{2}):(\d{2})(?::(\d{2}(?:\.\d+)?))?\s*(Z|UTC|\+00:?00)?\s*$",
                   re.IGNORECASE)
 
 
-def parse_worked(line: str, text: str) -> float | np.datetime64:
-    """One cell of a worked line, in :func:`navred.marking.mark`'s units; raises with the forms accepted."""
+def parse_worked(line: str, text: str, decimal_comma: bool = False) -> float | np.datetime64:
+    """One cell of a worked line, in :func:`navred.marking.mark`'s units; raises with the forms accepted.
+
+    ``decimal_comma``: the file's separator allows a decimal comma (as for every column of the log)."""
     kind, what, example = WORKED_FORMS[line]
     value = text.strip()
     if kind == "utc":
@@ -138,16 +140,16 @@ def parse_worked(line: str, text: str) -> float | np.datetime64:
             raise NavredError(f"{value!r}: {np.asarray(reason).item()}")
         return np.datetime64(utc_jd_to_datetime64(jd1, jd2)[()], "ns")
     if kind == "arcmin":
-        found = _ARCMIN.match(value)
+        found = _ARCMIN.match(with_decimal_point(value, decimal_comma))
         if found:
             sign = -1.0 if found.group(1) in ("-", "−") else 1.0
             return sign * float(found.group(2))
-        return float(parse_angle(value, "signed")) * 60.0  # degrees and minutes, as 2° 23.5′
+        return float(parse_angle(value, "signed", decimal_comma)) * 60.0  # degrees and minutes, as 2° 23.5′
     if kind == "intercept":
-        found = _INTERCEPT.match(value.replace(",", ".") if value.count(",") == 1 and "." not in value else value)
+        found = _INTERCEPT.match(with_decimal_point(value, decimal_comma))
         if not found:
             raise NavredError(f"cannot read {value!r} as an intercept; accepted: {example}")
-        miles = float(found.group(1).replace(",", "."))
+        miles = float(found.group(1))
         direction = (found.group(2) or "").lower()
         if not direction:
             if miles == 0.0:
@@ -155,9 +157,9 @@ def parse_worked(line: str, text: str) -> float | np.datetime64:
             raise NavredError(f"{value!r} says no direction: write TOWARD or AWAY (T or A), as {example}")
         return -miles if direction.startswith("a") else miles
     if kind == "degrees":
-        return float(parse_angle(value, "angle"))
+        return float(parse_angle(value, "angle", decimal_comma))
     return float(parse_angle(value, {"angle": "angle", "signed": "signed", "lat": "lat", "lon": "lon",
-                                     "dec": "dec"}[kind]))
+                                     "dec": "dec"}[kind], decimal_comma))
 
 
 def _worked_headers(log: SightLog) -> dict[str, str]:
@@ -191,17 +193,21 @@ def read_workings(source: object, *, dates: str | None = None) -> Workings:
     given: dict[str, np.ndarray] = {}
     text: dict[str, np.ndarray] = {}
     problems = []
+    # a file whose separator allows a decimal comma gives every column, the worked lines too, with one
+    commas = {t.source: t.decimal_comma for t in log.tables}
+    comma = table["source"].map(commas).fillna(False).to_numpy(dtype=bool)
     for line, column in headers.items():
         cells = table[column].astype(str).to_numpy(dtype=object)
         text[line] = cells
-        codes, distinct = pd.factorize(pd.Series(cells, dtype=object))
+        codes, distinct = pd.factorize(pd.Series(cells, dtype=object) + np.where(comma, "\x00,", "\x00."))
         values, reasons = [], {}
-        for u, cell in enumerate(distinct.tolist()):
+        for u, keyed in enumerate(distinct.tolist()):
+            cell, flag = keyed[:-2], keyed[-1] == ","
             if not str(cell).strip():
                 values.append(None)
                 continue
             try:
-                values.append(parse_worked(line, str(cell)))
+                values.append(parse_worked(line, str(cell), flag))
             except (NavredError, ValueError) as exc:
                 values.append(None)
                 reasons[u] = str(exc)

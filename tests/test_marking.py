@@ -336,3 +336,28 @@ def test_every_line_has_a_form_a_tolerance_and_a_unit():
     from navred.marking import TOLERANCES, UNITS
 
     assert tuple(WORKED_FORMS) == LINES == tuple(TOLERANCES) == tuple(UNITS)
+
+
+def test_a_semicolon_export_with_decimal_commas_marks_as_the_same_working_with_points(ts, eph, pool, tmp_path):
+    """A spreadsheet's export where the separator is ';' writes 25° 03,1′: every line reads as with a point
+    (the log's rule, docs/sight-log.md); in a comma-separated file a comma stays refused as ambiguous."""
+    sights = [s for s in pool[0] if not s.eye_in_feet][:6]
+    rows = [hand.log_row(s, hand.work(ts, eph, s, None, hand.STYLES[k % 4])) for k, s in enumerate(sights)]
+    frame = pd.DataFrame(rows)
+    frame.to_csv(tmp_path / "points.csv", index=False)
+    commas = frame.apply(lambda column: column.astype(str).str.replace(".", ",", regex=False)
+                         if column.name not in ("Date", "Watch time", "utc_worked") else column)
+    commas.to_csv(tmp_path / "commas.csv", index=False, sep=";")
+    with_points = mark_workings(tmp_path / "points.csv")
+    with_commas = mark_workings(tmp_path / "commas.csv")
+    assert (with_points.rows.first_wrong_line == "").all() and (with_commas.rows.first_wrong_line == "").all()
+    assert with_commas.workings.unreadable.empty
+    for line in ("ho_worked", "hc_worked", "intercept_worked", "zn_worked"):
+        assert np.array_equal(with_points.marks.given[line], with_commas.marks.given[line], equal_nan=True)
+    assert "ambiguous" in parse_worked_refusal("25° 03,1′")
+
+
+def parse_worked_refusal(text: str) -> str:
+    with pytest.raises(NavredError) as refused:
+        parse_worked("ho_worked", text)
+    return str(refused.value)

@@ -394,7 +394,19 @@ BAD_OPTIONS = [
     ["fix", DEMO, "--at", "tomorrow"], ["series", DEMO, "--threshold", "nan"],
     ["training", DEMO, "--track", "/no/track.gpx"],
     ["workbook", DEMO, "-o", "/proc/version"], ["workbook", DEMO, "--dates", "sideways"],
+    ["mark"], ["mark", DEMO], ["mark", "sample_sights/class_workings.xlsx", "--pdf", "/proc/version"],
 ]
+
+
+def test_output_cut_short_by_its_reader_is_one_line_never_a_traceback():
+    """`navred reduce LOG | head -1`: the pipe closes early; navred says so in one line."""
+    reader = subprocess.Popen([sys.executable, "-c", "import sys; sys.stdin.readline()"], stdin=subprocess.PIPE)
+    done = subprocess.run([sys.executable, "-m", "navred.cli", "reduce", "sample_sights/training_sights.csv"],
+                          stdout=reader.stdin, stderr=subprocess.PIPE, text=True, timeout=120)
+    reader.stdin.close()
+    reader.wait(timeout=30)
+    assert "Traceback" not in done.stderr and "Exception ignored" not in done.stderr
+    assert "cut short" in done.stderr and done.returncode == 1
 
 
 @pytest.mark.parametrize("arguments", BAD_OPTIONS, ids=lambda a: " ".join(a)[:60])

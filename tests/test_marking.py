@@ -144,7 +144,7 @@ def test_tenth_rounds_as_printed():
 
 @pytest.mark.parametrize("line, text, value", [
     ("intercept_worked", "3.2 toward", 3.2), ("intercept_worked", "3.2 T", 3.2), ("intercept_worked", "6.3 A", -6.3),
-    ("intercept_worked", "6,3 away", -6.3), ("intercept_worked", "0.0", 0.0),
+    ("intercept_worked", "0.0", 0.0),
     ("v_corr_worked", "+3.1", 3.1), ("d_corr_worked", "-0.2", -0.2), ("increment_worked", "2° 23.5′", 143.5),
     ("zn_worked", "113.5", 113.5), ("zn_worked", "113° 30′", 113.5),
     ("ap_lon", "012° 04.7′ W", -(12 + 4.7 / 60)), ("dec_worked", "2 14.9 S", -(2 + 14.9 / 60)),
@@ -355,6 +355,7 @@ def test_a_semicolon_export_with_decimal_commas_marks_as_the_same_working_with_p
     for line in ("ho_worked", "hc_worked", "intercept_worked", "zn_worked"):
         assert np.array_equal(with_points.marks.given[line], with_commas.marks.given[line], equal_nan=True)
     assert "ambiguous" in parse_worked_refusal("25° 03,1′")
+    assert parse_worked("intercept_worked", "6,3 away", decimal_comma=True) == pytest.approx(-6.3)
 
 
 def parse_worked_refusal(text: str) -> str:

@@ -167,6 +167,18 @@ def _source(paths: list[str]):
     return paths[0] if len(paths) == 1 else list(paths)
 
 
+def _reduced(log):
+    """The log's sights reduced; a DR carried along the log's track is carried from the last fix before the
+    sight, as every command that fixes carries it (navred.voyage.process_log), so that the intercepts agree."""
+    from .sights import reduce_sights
+
+    if len(log.table) and (log.table["dr_carried_from"] != "").any():
+        from .voyage import process_log
+
+        return process_log(log, plan=False).reduced
+    return reduce_sights(log)
+
+
 def _labels(reduced):
     from .frames import row_labels
 
@@ -188,7 +200,6 @@ def reduce_command(
     """
     from .angles import format_angle
     from .logbook import read_sight_log
-    from .sights import reduce_sights
 
     with _reported():
         if csv:
@@ -197,11 +208,11 @@ def reduce_command(
             from .output import csv_text
 
             for k, block in enumerate(read_sight_log_blocks(_source(sights_files), dates=dates)):
-                sys.stdout.write(csv_text(reduce_sights(block), header=k == 0))
+                sys.stdout.write(csv_text(_reduced(block), header=k == 0))
             sys.stdout.flush()
             return
         log = read_sight_log(_source(sights_files), dates=dates)
-        reduced = reduce_sights(log)
+        reduced = _reduced(log)
         labels = [label.removeprefix("row ") for label in _labels(reduced)]
         width = max([len(x) for x in labels] + [3])
         typer.echo(f"{'row':>{width}}  {'body':<15}{'UTC':<21}{'Ho':>12}{'Hc':>12}{'Zn':>8}  {'intercept':<18}note")
@@ -402,6 +413,7 @@ def workbook_command(
     geojson: str | None = typer.Option(None, "--geojson", help="Also write fixes, ellipses and lines of position as GeoJSON."),
     strict: bool = typer.Option(False, "--strict", help="Exit 1 if any row was rejected."),
     solve_motion: bool = typer.Option(False, "--solve-motion", help="Also solve course and speed made good where the sights allow."),
+    carry_current: bool = typer.Option(False, "--carry-current", help="Carry the set and drift found at each fix on in the DR until the next fix."),
     dates: str | None = typer.Option(None, "--dates", help=_DATES_HELP),
 ) -> None:
     """The whole job: read and check the logs, reduce every sight, fix every group, write the workbook.
@@ -446,7 +458,7 @@ def workbook_command(
                 bar.__enter__()
             bar.update(done - bar.pos)
 
-        voyage = process_log(log, solve_motion=solve_motion, progress=progress)
+        voyage = process_log(log, solve_motion=solve_motion, progress=progress, carry_current=carry_current)
         if bar is not None:
             bar.__exit__(None, None, None)
         chosen = Pictures(embed=pictures == "embed", folder=plots)
@@ -458,7 +470,7 @@ def workbook_command(
             typer.echo(f"note: {note}", err=True)
         if plots:
             written = write_plots(voyage, plots, formats)
-            typer.echo(f"wrote {len(written)} plotting-sheet files to {plots}")
+            typer.echo(f"wrote {len(written)} picture files (plotting sheets and the voyage track) to {plots}")
         if gpx:
             from .exports import write_gpx
 
@@ -911,6 +923,114 @@ def mark_command(
                 typer.echo(f"not read: row {row.row} of {row.source}: {row.column}: {row.reason}")
         for path in written:
             typer.echo(f"wrote {path}", err=csv)
+
+
+@app.command("days")
+def days_command(
+    sights_files: list[str] = typer.Argument(..., metavar="LOG...", help=_SIGHTS_HELP + " Entry rows (entry: departure, position, course, current) keep the DR."),
+    carry_current: bool = typer.Option(False, "--carry-current", help="Carry the set and drift found at each fix on in the DR until the next fix."),
+    csv: bool = typer.Option(False, "--csv", help="Print the noon positions and the day's run as CSV."),
+    picture: str | None = typer.Option(None, "--picture", help="Draw the voyage (DR legs, fixes, set and drift, noons) to this file (.png or .svg)."),
+    dates: str | None = typer.Option(None, "--dates", help=_DATES_HELP),
+) -> None:
+    """The day's work: the noon positions and the day's run, the set and drift at each fix, the estimated
+    positions; the DR kept from the departure through every course and speed and restarted at each fix.
+
+    Example:  navred days sample_sights/passage_log.csv --picture passage.png
+    """
+    from .output import check_output, csv_text
+    from .voyage import process_log
+
+    with _reported():
+        if picture:
+            check_output(picture, sights_files)
+            if not picture.lower().endswith((".png", ".svg")):
+                raise NavredError(f"--picture {picture}: give a file ending .png or .svg")
+        voyage = process_log(_source(sights_files), dates=dates, plan=False, carry_current=carry_current)
+        days = voyage.days_work()
+        if csv:
+            sys.stdout.write(csv_text(days.noons))
+        else:
+            typer.echo(voyage.summary())
+            if days.empty:
+                typer.echo("no day's work: the log gives no departure (an entry row) and no fix to keep the DR from")
+            for vessel in days.tracks:
+                noons = days.noons[days.noons.vessel == vessel]
+                typer.echo(f"\n{vessel or 'the vessel'}: noon positions and the day's run")
+                for r in noons.to_dict("records"):
+                    run = (f"  run {r['run (nm)']:6.1f} nm, {r['course made good (deg)']:05.1f}° made good at "
+                           f"{r['speed made good (kn)']:4.1f} kn in {r['hours']:.0f} h ({r['through the water (nm)']:.1f} "
+                           "nm through the water)" if r["run (nm)"] == r["run (nm)"] else "")
+                    typer.echo(f"  {r['date']} noon (ZD {r['zone (h)']:+.0f}) {r['noon position']:<24} "
+                               f"{r['noon from']}{run}")
+                sets = days.set_drift[days.set_drift.vessel == vessel]
+                if len(sets):
+                    typer.echo(f"{vessel or 'the vessel'}: set and drift at each fix (95 %)")
+                for r in sets.to_dict("records"):
+                    spread = (f"±{r['set ±95 % (deg)']:.0f}°" if r["set ±95 % (deg)"] == r["set ±95 % (deg)"]
+                              else "(set not determined)")
+                    typer.echo(f"  {r['fix (UTC)']} fix {r['fix group']}: set {r['set (deg)']:05.1f}° {spread}, drift "
+                               f"{r['drift (kn)']:.2f} ±{r['drift ±95 % (kn)']:.2f} kn over {r['hours']:.1f} h from the "
+                               f"{r['from']}")
+            for r in days.estimated.to_dict("records"):
+                typer.echo(f"estimated position {r['fix group']} at {r['UTC']}: {r['estimated position']} ({r['from']})")
+            for group in voyage.groups:
+                if group.fix is not None and group.fix.warnings:
+                    for text in group.fix.warnings:
+                        typer.echo(f"warning: group {group.name}: {text}", err=True)
+            if voyage.n_rejected_rows:
+                typer.echo(f"{voyage.n_rejected_rows} row(s) not read: navred reduce names each and why", err=True)
+        if picture:
+            from .output import atomic_write
+            from .plotting import canvas_bytes, voyage_track_picture
+
+            vessels = list(days.tracks) or [None]
+            data = canvas_bytes(voyage_track_picture(days, vessels[0]), picture.rsplit(".", 1)[-1], png_width_px=1320)
+            written = atomic_write(picture, lambda p: open(p, "wb").write(data), inputs=voyage.log.sources)
+            typer.echo(f"wrote {written}" + (f" (the first of {len(vessels)} vessels)" if len(vessels) > 1 else ""),
+                       err=csv)
+
+
+@app.command("route")
+def route_command(
+    from_lat: str = typer.Argument(..., metavar="FROM_LAT", help="Latitude of the start: 49 57.0 N"),
+    from_lon: str = typer.Argument(..., metavar="FROM_LON", help="Longitude of the start: 005 12.0 W"),
+    to_lat: str = typer.Argument(..., metavar="TO_LAT", help="Latitude of the destination"),
+    to_lon: str = typer.Argument(..., metavar="TO_LON", help="Longitude of the destination"),
+    spacing: float = typer.Option(300.0, "--spacing", help="Waypoints along the great circle every this many nautical miles."),
+    limit: str | None = typer.Option(None, "--limit", help="A limiting latitude for a composite great circle: 50 N."),
+    csv: bool = typer.Option(False, "--csv", help="Print the waypoints as CSV."),
+    gpx: str | None = typer.Option(None, "--gpx", help="Write the route (its waypoints) as a GPX 1.1 route to this file."),
+    geojson: str | None = typer.Option(None, "--geojson", help="Write the route as GeoJSON to this file."),
+) -> None:
+    """Sailings between two positions on the WGS 84 ellipsoid: the rhumb line and the great circle
+    (distance, initial and final course), the great circle's vertex, waypoints at a spacing, and a composite
+    great circle that keeps within a limiting latitude.
+
+    Example:  navred route "40 30 N" "073 00 W" "49 57 N" "005 12 W" --limit "50 N" --gpx route.gpx
+    """
+    from .routes import plan_route, route_geojson, route_gpx
+
+    with _reported():
+        lat1, lon1 = _angle_option(from_lat, "lat", "FROM_LAT"), _angle_option(from_lon, "lon", "FROM_LON")
+        lat2, lon2 = _angle_option(to_lat, "lat", "TO_LAT"), _angle_option(to_lon, "lon", "TO_LON")
+        limit_deg = _angle_option(limit, "lat", "--limit") if limit is not None else None
+        spacing = _number(spacing, "--spacing", 1.0, 20000.0)
+        from .output import check_output, csv_text
+
+        for path in (gpx, geojson):
+            if path:
+                check_output(path)
+        route = plan_route(lat1, lon1, lat2, lon2, spacing_nm=spacing, limit_lat_deg=limit_deg)
+        if csv:
+            sys.stdout.write(csv_text(route.waypoints))
+        else:
+            for line in route.summary_lines():
+                typer.echo(line)
+        if gpx:
+            typer.echo(f"wrote {route_gpx(route, gpx)}", err=csv)
+        if geojson:
+            typer.echo(f"wrote {route_geojson(route, geojson)}", err=csv)
 
 
 @app.command("lunar")

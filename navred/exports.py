@@ -1,10 +1,13 @@
 """Fixes, DR positions and lines of position in open formats for a chart plotter.
 
 - GPX 1.1 (the Topografix schema, an open standard): one waypoint per fix and per DR at
-  the fix time, with the time, a name and the ellipse in the description.
+  the fix time, with the time, a name and the ellipse in the description; a waypoint per
+  estimated position and per noon position; the DR track as a track (a segment from each
+  known position).
 - GeoJSON (RFC 7946): a FeatureCollection of the fixes and DRs (Points), their 95 %
-  ellipses (Polygons) and every line of position (LineStrings), coordinates as
-  [longitude, latitude] in WGS 84 degrees.
+  ellipses (Polygons), every line of position (LineStrings), the estimated and noon
+  positions (Points) and the DR track (a LineString per leg), coordinates as [longitude,
+  latitude] in WGS 84 degrees.
 
 Both are written atomically.
 """
@@ -54,6 +57,31 @@ def write_gpx(voyage: VoyageResult, path: str | Path) -> Path:
                                f"95% band +-{fix.ellipse_semi_minor_nm:.1f} nm ({int(fix.used.sum())} sights)")
             ET.SubElement(point, f"{{{GPX_NAMESPACE}}}desc").text = description
             ET.SubElement(point, f"{{{GPX_NAMESPACE}}}type").text = kind
+    days = voyage.days_work()
+    for kind, frame, name_of, text_of in (
+            ("EP", days.estimated, lambda r: f"EP {r['fix group']}", lambda r: f"estimated position: {r['from']}"),
+            ("noon", days.noons[days.noons["lat (deg)"].notna()], lambda r: f"noon {r['date']}",
+             lambda r: f"noon position ({r['noon from']})" + (f"; day's run {r['run (nm)']:.1f} nm made good on "
+                                                              f"{r['course made good (deg)']:.0f} deg"
+                                                              if r["run (nm)"] == r["run (nm)"] else ""))):
+        for r in frame.to_dict("records"):
+            point = ET.SubElement(root, f"{{{GPX_NAMESPACE}}}wpt", {"lat": f"{r['lat (deg)']:.6f}",
+                                                                    "lon": f"{r['lon (deg)']:.6f}"})
+            stamp = r["UTC"] if kind == "EP" else r["noon (UTC)"]
+            ET.SubElement(point, f"{{{GPX_NAMESPACE}}}time").text = _iso(str(stamp).replace(" ", "T"))
+            ET.SubElement(point, f"{{{GPX_NAMESPACE}}}name").text = name_of(r)
+            ET.SubElement(point, f"{{{GPX_NAMESPACE}}}desc").text = text_of(r)
+            ET.SubElement(point, f"{{{GPX_NAMESPACE}}}type").text = kind
+    for vessel, part in days.track_points.groupby("vessel", sort=False):
+        track = ET.SubElement(root, f"{{{GPX_NAMESPACE}}}trk")
+        ET.SubElement(track, f"{{{GPX_NAMESPACE}}}name").text = f"DR track {vessel}".strip()
+        ET.SubElement(track, f"{{{GPX_NAMESPACE}}}type").text = "DR"
+        for _, leg in part.groupby("leg", sort=False):
+            segment = ET.SubElement(track, f"{{{GPX_NAMESPACE}}}trkseg")
+            for r in leg.to_dict("records"):
+                point = ET.SubElement(segment, f"{{{GPX_NAMESPACE}}}trkpt", {"lat": f"{r['lat_deg']:.6f}",
+                                                                          "lon": f"{r['lon_deg']:.6f}"})
+                ET.SubElement(point, f"{{{GPX_NAMESPACE}}}time").text = _iso(str(r["utc"]).replace(" ", "T"))
     tree = ET.ElementTree(root)
     ET.indent(tree)
     return atomic_write(path, lambda p: tree.write(p, encoding="utf-8", xml_declaration=True),
@@ -96,6 +124,12 @@ def lop_lines(voyage, group, half_length_nm: float | None = None) -> list[dict]:
     return features
 
 
+def _finite(value):
+    """A number for JSON, or None where it is not finite (RFC 7946 JSON has no NaN)."""
+    value = float(value)
+    return value if np.isfinite(value) else None
+
+
 def write_geojson(voyage: VoyageResult, path: str | Path) -> Path:
     """GeoJSON (RFC 7946) of the fixes, DRs, ellipses and lines of position."""
     features = []
@@ -123,6 +157,33 @@ def write_geojson(voyage: VoyageResult, path: str | Path) -> Path:
                 [float(lon), float(lat)] for lat, lon in ends]},
                 "properties": {**common, "kind": fix.kind, "half_width_95_nm": fix.ellipse_semi_minor_nm}})
         features.extend(lop_lines(voyage, group))
+    days = voyage.days_work()
+    current = {(r["fix group"]): r for r in days.set_drift.to_dict("records")}
+    for feature in features:
+        found = current.get(feature["properties"].get("fix_group"))
+        if found is not None and feature["properties"].get("kind") == "fix":
+            feature["properties"].update({
+                "set_deg": found["set (deg)"], "drift_kn": found["drift (kn)"],
+                "set_95_deg": _finite(found["set ±95 % (deg)"]), "drift_95_kn": _finite(found["drift ±95 % (kn)"]),
+                "current_from": found["from"]})
+    for r in days.estimated.to_dict("records"):
+        features.append({"type": "Feature", "geometry": {"type": "Point", "coordinates": [r["lon (deg)"], r["lat (deg)"]]},
+                         "properties": {"kind": "estimated position", "fix_group": r["fix group"],
+                                        "utc": _iso(str(r["UTC"]).replace(" ", "T")), "from": r["from"]}})
+    for r in days.noons[days.noons["lat (deg)"].notna()].to_dict("records"):
+        features.append({"type": "Feature", "geometry": {"type": "Point", "coordinates": [r["lon (deg)"], r["lat (deg)"]]},
+                         "properties": {"kind": "noon position", "vessel": r["vessel"], "date": r["date"],
+                                        "utc": _iso(str(r["noon (UTC)"]).replace(" ", "T")), "from": r["noon from"],
+                                        "days_run_nm": _finite(r["run (nm)"]),
+                                        "course_made_good_deg": _finite(r["course made good (deg)"]),
+                                        "speed_made_good_kn": _finite(r["speed made good (kn)"])}})
+    for (vessel, _), leg in days.track_points.groupby(["vessel", "leg"], sort=False):
+        if len(leg) >= 2:
+            features.append({"type": "Feature", "geometry": {"type": "LineString", "coordinates": [
+                [float(lon), float(lat)] for lat, lon in zip(leg.lat_deg, leg.lon_deg)]},
+                "properties": {"kind": "DR track", "vessel": vessel,
+                               "from_utc": _iso(str(leg.utc.iloc[0]).replace(" ", "T")),
+                               "to_utc": _iso(str(leg.utc.iloc[-1]).replace(" ", "T"))}})
     collection = {"type": "FeatureCollection", "features": features}
     text = json.dumps(collection, indent=1, allow_nan=False)
     return atomic_write(path, lambda p: Path(p).write_text(text, encoding="utf-8"), inputs=voyage.log.sources)

@@ -58,6 +58,7 @@ from .vocabulary import (
     BOOKKEEPING_HEADERS,
     COLUMN,
     COLUMNS,
+    ENTRIES,
     HORIZONS,
     LIMBS,
     OUTPUT_SUFFIX,
@@ -77,13 +78,18 @@ TIME_AGREEMENT_S = 1.0
 #: The parsed columns of every sight, in order (documented in docs/sight-log.md).
 SIGHT_COLUMNS = [
     "source", "row", "sight_utc", "utc_jd1", "utc_jd2", "time_given", "time_as_read", "watch_error_applied_s",
+    "watch_error_from", "timepiece",
     "zone_date_used", "zone_time_corrected", "zone_description_used_h", "greenwich_date", "body_name", "limb",
     "hs_deg", "index_error_arcmin", "eye_height_m", "eye_height_as_given", "horizon", "waterline_distance_nm",
     "measured_dip_arcmin", "temperature_c",
     "temperature_as_given", "pressure_hpa", "pressure_as_given", "dr_lat_deg", "dr_lon_deg", "course_deg",
     "speed_kn", "dut1_given_s", "fix_group", "fix_group_given", "chart_lat_deg", "chart_lon_deg", "vessel",
-    "observer", "voyage", "series", "read_problem", "read_problem_column",
+    "observer", "voyage", "series", "read_problem", "read_problem_column", "dr_carried_from",
 ]
+#: The columns of a log's entries (:attr:`SightLog.entries`).
+ENTRY_COLUMNS = ["source", "row", "utc", "entry", "lat_deg", "lon_deg", "course_deg", "speed_kn", "set_deg",
+                 "drift_kn", "vessel"]
+
 #: navred's own output (``reduce --csv``) read back: its parsed columns that carry a sight, and their keys.
 _OUTPUT_COLUMNS = {"sight_utc": "utc", "body_name": "body", "limb": "limb", "hs_deg": "hs",
                    "index_error_arcmin": "index_error", "eye_height_m": "eye_height", "horizon": "horizon",
@@ -109,6 +115,9 @@ class SightLog:
     dates: str | None = None
     extra_columns: tuple[str, ...] = field(default=())
     tables: tuple[RawTable, ...] = field(default=(), repr=False)
+    #: the entries of the ship's progress read well (departure, position, course, current), in file order:
+    #: :data:`ENTRY_COLUMNS`; they are not sights and are not in ``table``
+    entries: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(columns=ENTRY_COLUMNS))
 
     @functools.cached_property
     def as_read(self) -> pd.DataFrame:
@@ -150,6 +159,13 @@ class _Problems:
             array = np.empty(rows.size, dtype=object)
             array[:] = item if isinstance(item, str) else list(np.asarray(item, dtype=object).ravel())
             target.append(array)
+
+    def mask(self) -> np.ndarray:
+        """The rows with a problem so far."""
+        out = np.zeros(self.n, dtype=bool)
+        for rows in self.rows:
+            out[rows] = True
+        return out
 
     def frame(self) -> pd.DataFrame:
         if not self.rows:
@@ -280,6 +296,7 @@ def _decimal_text(value, decimal_comma):
 _PARSERS = {
     "body": lambda v, dc, unit, dates: canonical_body_name(_text(_not_formula(v))),
     "limb": lambda v, dc, unit, dates: _word(_not_formula(v), LIMBS, "limb"),
+    "entry": lambda v, dc, unit, dates: _word(_not_formula(v), ENTRIES, "entry"),
     "horizon": lambda v, dc, unit, dates: _word(_not_formula(v), HORIZONS, "horizon"),
     "altitude": lambda v, dc, unit, dates: float(parse_angle(_not_formula(v), "angle", dc)),
     "lat": lambda v, dc, unit, dates: float(parse_angle(_not_formula(v), "lat", dc)),
@@ -377,14 +394,18 @@ def _result_names() -> set[str]:
     return _RESULT_NAMES
 
 
-def read_sight_log(source: object, *, dates: str | None = None, all_sheets: bool = False) -> SightLog:
+def read_sight_log(source: object, *, dates: str | None = None, all_sheets: bool = False,
+                   rates: object | None = None) -> SightLog:
     """Read and check sight logs: a file (CSV or .xlsx), a list of files, a folder, or a DataFrame.
 
     ``dates`` declares the order of numeric dates that are not ISO 8601 for the whole log
     (``'day-first'`` or ``'month-first'``); without it such a date is refused with both of
     its readings. ``all_sheets`` reads every sheet of a workbook that holds a table (a class's
-    hand workings, a sheet per cadet) instead of one. Returns a :class:`SightLog`; a source
-    that is not a sight log at all raises :class:`LogbookError` with one message.
+    hand workings, a sheet per cadet) instead of one. ``rates`` (a
+    :class:`navred.timesignals.Ratings`, from the rating log) gives the watch error of a sight
+    kept in zone time whose ``watch_error`` is blank: the error its timepiece's rating predicts.
+    Returns a :class:`SightLog`; a source that is not a sight log at all raises
+    :class:`LogbookError` with one message.
     """
     if dates is not None and dates not in DATE_ORDERS:
         raise LogbookError(f"dates {dates!r} is not one of {', '.join(DATE_ORDERS)}")
@@ -397,11 +418,11 @@ def read_sight_log(source: object, *, dates: str | None = None, all_sheets: bool
             raise LogbookError(f"{table.source}: " + "; ".join(layout.problems))
         _check_is_log(table, layout.keys)
         layouts.append(layout)
-    return _parse(tables, layouts, dates)
+    return _parse(tables, layouts, dates, rates)
 
 
-def read_sight_log_blocks(source: object, *, dates: str | None = None,
-                          block_rows: int = 100_000) -> Iterator[SightLog]:
+def read_sight_log_blocks(source: object, *, dates: str | None = None, block_rows: int = 100_000,
+                          rates: object | None = None) -> Iterator[SightLog]:
     """A sight log read in blocks of rows, each block by the same rules as :func:`read_sight_log`.
 
     For a log too long to hold whole in memory with all its working (``navred reduce --csv`` of a
@@ -415,7 +436,7 @@ def read_sight_log_blocks(source: object, *, dates: str | None = None,
     plain = plain_csv_blocks(source, block_rows) if isinstance(source, (str, Path)) and Path(source).is_file() \
         else None
     if plain is None or len(plain.lines) <= block_rows:
-        yield read_sight_log(source, dates=dates)
+        yield read_sight_log(source, dates=dates, rates=rates)
         return
     _result_names()
     blocks = iter(plain)
@@ -425,13 +446,15 @@ def read_sight_log_blocks(source: object, *, dates: str | None = None,
         raise LogbookError(f"{first.source}: " + "; ".join(layout.problems))
     _check_is_log(first, layout.keys)
     labels = layout.keys.get("fix_group")
-    if not labels or plain.any_blank(labels):
+    dr_given = layout.keys.get("dr_lat")
+    # automatic fix groups, and DRs carried along the log's track, need the whole log at once
+    if not labels or plain.any_blank(labels) or "entry" in layout.keys or not dr_given or plain.any_blank(dr_given):
         del plain, blocks, first
-        yield read_sight_log(source, dates=dates)  # automatic fix groups: the whole log at once
+        yield read_sight_log(source, dates=dates, rates=rates)  # automatic fix groups: the whole log at once
         return
-    yield _parse([first], [layout], dates)
+    yield _parse([first], [layout], dates, rates)
     for table in blocks:
-        yield _parse([table], [layout], dates)
+        yield _parse([table], [layout], dates, rates)
 
 
 def _check_is_log(table: RawTable, keys: dict) -> None:
@@ -665,7 +688,7 @@ def _words(parsed: _Parsed, default="") -> np.ndarray:
     return np.where(parsed.ok, parsed.value, default).astype(object)
 
 
-def _parse(tables: list[RawTable], layouts, dates) -> SightLog:
+def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
     n = sum(t.n_rows for t in tables)
     problems = _Problems(n)
     sources = np.concatenate([np.full(t.n_rows, t.source, dtype=object) for t in tables]) if tables \
@@ -679,13 +702,16 @@ def _parse(tables: list[RawTable], layouts, dates) -> SightLog:
         for index, (header, reason) in sorted(table.row_problems.items()):
             problems.add([offset + index], header or "(row)", "", reason)
         offset += table.n_rows
+    entry = _words(parsed["entry"])
+    is_entry = parsed["entry"].ok
     for column in COLUMNS:
         cells = gathered[column.key]
         if column.required and not cells.present:
-            problems.add(np.arange(n), column.key, "", f"required column {column.key} is missing")
+            problems.add(np.flatnonzero(~is_entry), column.key, "", f"required column {column.key} is missing")
         elif column.required:
-            problems.add(np.flatnonzero(cells.blank), cells.headers[cells.blank], "",
-                         f"{column.key.replace('_', ' ')} is empty")
+            empty = cells.blank & ~is_entry
+            problems.add(np.flatnonzero(empty), cells.headers[empty], "", f"{column.key.replace('_', ' ')} is empty")
+    _check_entries(entry, is_entry, parsed, gathered, problems)
     horizon = _words(parsed["horizon"], "sea")
     # the reading a horizon gives: to 90°, or to 180° for an artificial horizon or a back sight
     highest = np.array([HIGHEST_READING_DEG.get(h, 90.0) for h in horizon]) if n else np.zeros(0)
@@ -696,7 +722,7 @@ def _parse(tables: list[RawTable], layouts, dates) -> SightLog:
                  [f"Hs {v:g}° is outside 0-{h:g}° for a {k} horizon" for v, h, k in
                   zip(hs[too_high], highest[too_high], horizon[too_high])])
     dipped = np.isin(horizon, ["sea", "back", "waterline"]) & ~(parsed["measured_dip"].ok & (horizon != "waterline"))
-    needs_eye = gathered["eye_height"].blank & dipped
+    needs_eye = gathered["eye_height"].blank & dipped & ~is_entry
     problems.add(np.flatnonzero(needs_eye), gathered["eye_height"].headers[needs_eye], "",
                  "height of eye is needed for the dip of a sea horizon")
     no_distance = (horizon == "waterline") & gathered["waterline_distance"].blank
@@ -709,7 +735,9 @@ def _parse(tables: list[RawTable], layouts, dates) -> SightLog:
         alone = parsed[a].ok & gathered[b].blank
         problems.add(np.flatnonzero(alone), gathered[b].headers[alone], "",
                      f"{a.replace('_', ' ')} is given without {b.replace('_', ' ')}: give both, or neither")
-    times = _time_working(parsed, gathered, problems)
+    times = _time_working(parsed, gathered, problems, rates)
+    entries = _entries(n, sources, rows, entry, is_entry, parsed, times, problems)
+    dr = _carried_dr(parsed, gathered, times, is_entry, entries, problems)
 
     found = problems.frame().sort_values(["index"], kind="stable")
     index = found["index"].to_numpy(dtype=int)
@@ -725,17 +753,146 @@ def _parse(tables: list[RawTable], layouts, dates) -> SightLog:
         columns = grouped.column.agg(lambda c: ", ".join(dict.fromkeys(str(x) for x in c)))
         where[columns.index.to_numpy(dtype=int)] = columns.to_numpy(dtype=object)
     table = _sight_table(n, sources, rows, parsed, gathered, times, message, where)
-    table["fix_group"], table["fix_group_given"] = _fix_groups(table, message == "")
+    table["dr_lat_deg"], table["dr_lon_deg"] = dr["lat"], dr["lon"]
+    table["course_deg"], table["speed_kn"] = dr["course"], dr["speed"]
+    table["dr_carried_from"] = dr["note"]
+    sight_row = ~(is_entry & (message == ""))  # an entry read well is kept apart; a bad one is a rejected row
+    table["fix_group"], table["fix_group_given"] = _fix_groups(table, (message == "") & sight_row)
     extras, names = _extras(tables, layouts)
     for name, values in extras.items():
         table[name] = values
     rejected = found[REJECTED_COLUMNS].reset_index(drop=True)
     rejected["row"] = rejected["row"].astype(int)
+    if not sight_row.all():
+        table = table[sight_row].reset_index(drop=True)
     return SightLog(table, rejected, tuple(t.source for t in tables), sum(t.empty_rows for t in tables), dates,
-                    tuple(names), tuple(tables))
+                    tuple(names), tuple(tables), entries=entries)
 
 
-def _time_working(parsed, gathered, problems) -> dict:
+def _check_entries(entry, is_entry, parsed, gathered, problems) -> None:
+    """An entry row holds no sight, and what its kind needs: a position, a course or speed, or a current."""
+    sight_cells = is_entry & (~gathered["body"].blank | ~gathered["hs"].blank)
+    problems.add(np.flatnonzero(sight_cells), "entry", entry[sight_cells],
+                 "an entry row holds no sight: put the sight on a row of its own")
+    for kind, needs, text in (("departure", ("dr_lat", "dr_lon"), "a departure needs its position (dr_lat, dr_lon)"),
+                              ("position", ("dr_lat", "dr_lon"), "a position entry needs the position (dr_lat, "
+                                                                 "dr_lon)"),
+                              ("current", ("set", "drift"), "a current entry needs its set and drift")):
+        lacking = is_entry & (entry == kind) & np.logical_or.reduce([gathered[k].blank for k in needs])
+        problems.add(np.flatnonzero(lacking), "entry", entry[lacking], text)
+    still = is_entry & (entry == "course") & gathered["course"].blank & gathered["speed"].blank
+    problems.add(np.flatnonzero(still), "entry", entry[still], "a course entry needs a course, a speed or both")
+    for a, b in (("dr_lat", "dr_lon"), ("dr_lon", "dr_lat"), ("set", "drift"), ("drift", "set")):
+        alone = parsed[a].ok & gathered[b].blank
+        problems.add(np.flatnonzero(alone), gathered[b].headers[alone], "",
+                     f"{a.replace('_', ' ')} is given without {b.replace('_', ' ')}: give both, or neither"
+                     if gathered[b].present else f"required column {b} is missing (it goes with {a})")
+    stray = ~is_entry & (~gathered["set"].blank | ~gathered["drift"].blank)
+    problems.add(np.flatnonzero(stray), "set", "", "a current is given on an entry row (entry: current), not on a sight")
+
+
+def _entries(n, sources, rows, entry, is_entry, parsed, times, problems) -> pd.DataFrame:
+    """The entries read well, as :data:`ENTRY_COLUMNS`."""
+    good = is_entry & ~problems.mask() & times["ok"]
+    if not good.any():
+        return pd.DataFrame(columns=ENTRY_COLUMNS)
+    stamps = utc_jd_to_datetime64(times["jd1"][good], times["jd2"][good])
+    return pd.DataFrame({
+        "source": sources[good], "row": rows[good].astype(int), "utc": pd.Series(stamps).dt.tz_localize("UTC"),
+        "entry": entry[good], "lat_deg": _floats(parsed["dr_lat"])[good], "lon_deg": _floats(parsed["dr_lon"])[good],
+        "course_deg": _floats(parsed["course"])[good], "speed_kn": _floats(parsed["speed"])[good],
+        "set_deg": _floats(parsed["set"])[good], "drift_kn": _floats(parsed["drift"])[good],
+        "vessel": _words(parsed["vessel"])[good]})
+
+
+def _carried_dr(parsed, gathered, times, is_entry, entries: pd.DataFrame, problems) -> dict:
+    """Each sight's DR: as given, or carried along the log's DR track (its departure or last known position,
+    every course, speed and current since, the sights' own courses and speeds too) to the sight; and the
+    course and speed in force where a sight gives none. Each vessel keeps its own track."""
+    from .reckoning import dr_track
+
+    lat, lon = _floats(parsed["dr_lat"]), _floats(parsed["dr_lon"])
+    course, speed = _floats(parsed["course"]), _floats(parsed["speed"])
+    n = lat.size
+    note = np.full(n, "", dtype=object)
+    sight = ~is_entry
+    wanted = sight & gathered["dr_lat"].blank & gathered["dr_lon"].blank & times["ok"] & ~problems.mask()
+    also_course = sight & times["ok"] & (np.isnan(course) | np.isnan(speed)) & (len(entries) > 0)
+    if not wanted.any() and not also_course.any():
+        none = sight & gathered["dr_lat"].blank & gathered["dr_lon"].blank
+        problems.add(np.flatnonzero(none), "dr_lat", "", "no DR: give dr_lat and dr_lon, or an entry row with the "
+                     "departure or a known position before this sight (entry: departure)")
+        return {"lat": lat, "lon": lon, "course": course, "speed": speed, "note": note}
+    when = np.full(n, np.iinfo(np.int64).min, dtype=np.int64)
+    ok = times["ok"]
+    when[ok] = utc_jd_to_datetime64(times["jd1"][ok], times["jd2"][ok]).astype(np.int64)
+    vessels = _words(parsed["vessel"])
+    e_when = entries["utc"].dt.tz_convert(None).to_numpy().astype("datetime64[ns]").astype(np.int64) \
+        if len(entries) else np.zeros(0, dtype=np.int64)
+    e_vessel = entries["vessel"].to_numpy(dtype=object) if len(entries) else np.zeros(0, dtype=object)
+    named = set(vessels[sight].tolist()) - {""}
+    if len(entries) and not (e_vessel != "").any() and len(named) == 1:
+        e_vessel = np.full(len(entries), named.pop(), dtype=object)  # one ship: her entries need not name her
+    known_kind = entries["entry"].isin(["departure", "position"]).to_numpy() if len(entries) else np.zeros(0, bool)
+    usable_sight = sight & ok & ~problems.mask()
+    for vessel in dict.fromkeys(vessels[wanted | also_course].tolist()):
+        mine = vessels == vessel
+        e_mine = e_vessel == vessel
+        # the sights' own courses and speeds are changes too (in force from each sight)
+        own = usable_sight & mine & (np.isfinite(course) | np.isfinite(speed))
+        change_ns = np.concatenate([e_when[e_mine], when[own]])
+        change_course = np.concatenate([entries["course_deg"].to_numpy(dtype=float)[e_mine], course[own]])
+        change_speed = np.concatenate([entries["speed_kn"].to_numpy(dtype=float)[e_mine], speed[own]])
+        change_set = np.concatenate([entries["set_deg"].to_numpy(dtype=float)[e_mine], np.full(own.sum(), np.nan)])
+        change_drift = np.concatenate([entries["drift_kn"].to_numpy(dtype=float)[e_mine], np.full(own.sum(), np.nan)])
+        known = e_mine & known_kind
+        if not known.any():
+            continue  # no departure for this vessel: her sights without a DR are refused below
+        track = dr_track(change_ns, change_course, change_speed, e_when[known],
+                         entries["lat_deg"].to_numpy(dtype=float)[known],
+                         entries["lon_deg"].to_numpy(dtype=float)[known], set_deg=change_set, drift_kn=change_drift)
+        rows_here = np.flatnonzero(wanted & mine)
+        if rows_here.size:
+            t_lat, t_lon, origin = track.positions(when[rows_here])
+            found = origin >= 0
+            lat[rows_here[found]], lon[rows_here[found]] = t_lat[found], t_lon[found]
+            known_rows = entries["row"].to_numpy()[known]
+            known_kind = entries["entry"].to_numpy(dtype=object)[known]
+            slots = np.searchsorted(track.knot_ns, e_when[known])
+            by_knot = {int(k): f"the {w} at row {int(r)}" for k, w, r in zip(slots, known_kind, known_rows)}
+            note[rows_here[found]] = [f"carried from {by_knot[int(o)]}" for o in origin[found]]
+            lost = rows_here[~found]
+            problems.add(lost, "dr_lat", "", "no DR: this sight comes before the log's first departure or known "
+                         "position (an entry row); give dr_lat and dr_lon, or an earlier departure")
+        # the course and speed in force, where a sight gives none (for the run between its sights)
+        blank_motion = np.flatnonzero(also_course & mine)
+        if blank_motion.size:
+            k = np.searchsorted(track.knot_ns, when[blank_motion], side="right") - 1
+            has = k >= 0
+            water_course, water_speed = _water_motion(change_ns, change_course, change_speed, when[blank_motion])
+            course[blank_motion] = np.where(np.isnan(course[blank_motion]) & has, water_course, course[blank_motion])
+            speed[blank_motion] = np.where(np.isnan(speed[blank_motion]) & has, water_speed, speed[blank_motion])
+    none = sight & gathered["dr_lat"].blank & gathered["dr_lon"].blank & np.isnan(lat) & ~problems.mask()
+    problems.add(np.flatnonzero(none), "dr_lat", "", "no DR: give dr_lat and dr_lon, or an entry row with the "
+                 "departure or a known position before this sight (entry: departure)")
+    return {"lat": lat, "lon": lon, "course": course, "speed": speed, "note": note}
+
+
+def _water_motion(change_ns, change_course, change_speed, when):
+    """The course and speed through the water in force at each instant: the last given at or before it."""
+    order = np.argsort(change_ns, kind="stable")
+    t = change_ns[order]
+    out = []
+    for values in (change_course[order], change_speed[order]):
+        index = np.maximum.accumulate(np.where(np.isfinite(values), np.arange(values.size), -1)) if values.size \
+            else np.zeros(0, dtype=int)
+        k = np.searchsorted(t, when, side="right") - 1
+        last = np.where(k >= 0, index[np.maximum(k, 0)] if index.size else -1, -1)
+        out.append(np.where(last >= 0, values[np.maximum(last, 0)] if values.size else np.nan, np.nan))
+    return out[0], out[1]
+
+
+def _time_working(parsed, gathered, problems, rates=None) -> dict:
     """Each row's instant from utc, or from date, zone_time and zone_description, less the watch error."""
     utc, zone_time, date, zd = parsed["utc"], parsed["zone_time"], parsed["date"], parsed["zone_description"]
     n = utc.ok.size
@@ -782,6 +939,25 @@ def _time_working(parsed, gathered, problems) -> dict:
                          f"utc {_text(gathered['utc'].values.iloc[i])} and the zone time disagree: give one, or "
                          "correct it")
     error = _floats(parsed["watch_error"], 0.0)
+    error_from = np.where(parsed["watch_error"].ok, "given", "").astype(object)
+    # a timepiece's error from its rating, where the log keeps zone time and gives no watch error
+    piece = _words(parsed["timepiece"])
+    unrated = use_zone & ~parsed["watch_error"].ok & ok
+    if rates is not None and unrated.any():
+        rows = np.flatnonzero(unrated)
+        when = utc_jd_to_datetime64(jd1[rows], jd2[rows])
+        predicted, _, note = rates.predict(piece[rows], when)
+        found = np.isfinite(predicted)
+        error[rows[found]] = predicted[found]
+        error_from[rows[found]] = note[found]
+        named = rows[~found & (piece[rows] != "")]
+        problems.add(named, gathered["timepiece"].headers[named], piece[named],
+                     "this timepiece has no time signals in the rating log: give its watch_error, or its signals")
+    elif rates is None:
+        named = np.flatnonzero(unrated & (piece != ""))
+        problems.add(named, gathered["timepiece"].headers[named], piece[named],
+                     "a timepiece is named but no rating log was given (--rates FILE): give its watch_error, or "
+                     "the rating log of its time signals")
     jd1, jd2 = np.where(ok, jd1, np.nan), np.where(ok, jd2, np.nan)
     moved = ok & (error != 0.0)
     if moved.any():
@@ -792,7 +968,7 @@ def _time_working(parsed, gathered, problems) -> dict:
     zone_date = np.full(n, "", dtype=object)
     if shown_zone.any():
         zone_date[shown_zone] = [f"{int(y):04d}-{int(m):02d}-{int(d):02d}" for y, m, d in day[:, shown_zone].T]
-    return {"jd1": jd1, "jd2": jd2, "ok": ok, "watch_error_s": error,
+    return {"jd1": jd1, "jd2": jd2, "ok": ok, "watch_error_s": error, "watch_error_from": error_from,
             "zd": np.where(shown_zone, zd.value, np.nan), "zone_date": zone_date,
             "time_given": np.where(has_utc, "utc", np.where(use_zone, "zone time", "")).astype(object),
             "as_read": as_read}
@@ -832,6 +1008,7 @@ def _sight_table(n, sources, rows, parsed, gathered, times, message, where) -> p
         "source": sources, "row": rows.astype(int), "sight_utc": utc,
         "utc_jd1": times["jd1"], "utc_jd2": times["jd2"], "time_given": times["time_given"],
         "time_as_read": times["as_read"], "watch_error_applied_s": times["watch_error_s"],
+        "watch_error_from": times["watch_error_from"], "timepiece": _words(parsed["timepiece"]),
         "zone_date_used": times["zone_date"], "zone_time_corrected": corrected,
         "zone_description_used_h": zd,
         "greenwich_date": greenwich,

@@ -1,4 +1,5 @@
-"""Sailings on the WGS 84 ellipsoid: the rhumb line steered, leg by leg, in nautical miles of 1852 m.
+"""Sailings on the WGS 84 ellipsoid: the rhumb line steered leg by leg, and the great circle (the geodesic),
+in nautical miles of 1852 m.
 
 A rhumb line (loxodrome) crosses every meridian at the same angle, the course. On the
 ellipsoid its northing is measured along the meridian and its easting follows from the
@@ -22,6 +23,7 @@ from numpy.typing import ArrayLike
 
 from .angles import wrap_180, wrap_360
 from .constants import EARTH_EQUATORIAL_RADIUS_KM, EARTH_FLATTENING, METRES_PER_NM
+from .errors import NavredError
 
 A_M = EARTH_EQUATORIAL_RADIUS_KM * 1000.0
 E2 = EARTH_FLATTENING * (2.0 - EARTH_FLATTENING)
@@ -111,8 +113,9 @@ def prime_vertical_radius_m(lat_deg: ArrayLike) -> np.ndarray:
     return A_M / np.sqrt(1 - E2 * s * s)
 
 
-def _longitude_change_rad(lat1, lat2, course_rad, distance_m):
-    """λ2 − λ1 (radians) along a rhumb line from lat1 to lat2 on the course (east-west legs apart)."""
+def longitude_change_rad(lat1: ArrayLike, lat2: ArrayLike, course_rad: ArrayLike, distance_m: ArrayLike) -> np.ndarray:
+    """λ2 − λ1 (radians) along a rhumb line from lat1 to lat2 (degrees) on the course (radians), of length
+    ``distance_m``: tan C (ψ2 − ψ1), or along the parallel for an east-west course."""
     dpsi = isometric_latitude(lat2) - isometric_latitude(lat1)
     cos_c = np.cos(course_rad)
     east_west = np.abs(cos_c) < 1e-9
@@ -135,7 +138,7 @@ def rhumb_destination(lat_deg: ArrayLike, lon_deg: ArrayLike, course_deg: ArrayL
     distance_m = np.asarray(distance_nm, dtype=float) * METRES_PER_NM
     lat2 = latitude_from_meridian_arc_deg(meridian_arc_m(lat_deg) + distance_m * np.cos(course))
     lat2 = np.clip(lat2, -POLAR_LIMIT_DEG, POLAR_LIMIT_DEG)
-    dlon = _longitude_change_rad(np.asarray(lat_deg, dtype=float), lat2, course, distance_m)
+    dlon = longitude_change_rad(np.asarray(lat_deg, dtype=float), lat2, course, distance_m)
     return lat2, wrap_180(np.asarray(lon_deg, dtype=float) + np.degrees(dlon))
 
 
@@ -176,7 +179,7 @@ def rhumb_track(lat0_deg: ArrayLike, lon0_deg: ArrayLike, north_nm: ArrayLike, c
     starts = np.concatenate([np.broadcast_to(lat0, ends.shape[:axis % ends.ndim] + (1,) +
                                              ends.shape[axis % ends.ndim + 1:]),
                              np.take(ends, np.arange(ends.shape[axis] - 1), axis=axis)], axis=axis)
-    dlon = _longitude_change_rad(starts, ends, course, distance_m)
+    dlon = longitude_change_rad(starts, ends, course, distance_m)
     return ends, wrap_180(lon0 + np.degrees(np.cumsum(dlon, axis=axis)))
 
 
@@ -201,12 +204,233 @@ def rhumb_track_through(lat_deg: ArrayLike, lon_deg: ArrayLike, at: ArrayLike, n
     arcs = arc_at + (run - np.take_along_axis(run, at, axis=-1))
     lats = np.clip(latitude_from_meridian_arc_deg(arcs, (lat, arc_at)), -POLAR_LIMIT_DEG, POLAR_LIMIT_DEG)
     lats = np.where(np.arange(lats.shape[-1]) == at, lat, lats)  # the reference point exactly as given
-    dlon = _longitude_change_rad(lats[..., :-1], lats[..., 1:], np.radians(np.asarray(course_deg, dtype=float)),
+    dlon = longitude_change_rad(lats[..., :-1], lats[..., 1:], np.radians(np.asarray(course_deg, dtype=float)),
                                  np.asarray(distance_nm, dtype=float) * METRES_PER_NM)
     turned = np.concatenate([zero, np.cumsum(dlon, axis=-1)], axis=-1)
     lons = wrap_180(lon + np.degrees(turned - np.take_along_axis(turned, at, axis=-1)))
     return lats, lons
 
 
+# --- the great circle: the geodesic on the ellipsoid ------------------------------------------------
+#
+# T. Vincenty, "Direct and inverse solutions of geodesics on the ellipsoid with application of nested
+# equations", Survey Review 23 (176), 88-93 (1975): the geodesic mapped onto an auxiliary sphere of
+# reduced latitudes β (tan β = (1 − f) tan φ), distance s = b A (σ − Δσ) and longitude λ on the sphere
+# against L on the ellipsoid, iterated; good to half a millimetre. Clairaut's relation cos β sin α =
+# sin α0 holds along the line: its vertex stands where cos β = |sin α0|. The iteration does not settle
+# for points nearly opposite each other on the globe (the course there is barely defined): those are
+# refused, with the remedy.
+
+B_M = A_M * (1.0 - EARTH_FLATTENING)
+_F = EARTH_FLATTENING
+#: Vincenty's inverse iterates until λ changes by less than this (radians, about 0.006 mm).
+_GEODESIC_TOLERANCE = 1e-12
+_GEODESIC_ITERATIONS = 200
+
+
+class GeodesicError(NavredError):
+    """Points for which the great circle is not defined closely enough to steer by."""
+
+
+def _reduced_latitude(lat_deg):
+    return np.arctan((1.0 - _F) * np.tan(np.radians(np.asarray(lat_deg, dtype=float))))
+
+
+def _series(cos2_alpha):
+    """Vincenty's A and B for the geodesic whose equator azimuth α0 has cos²α0 = ``cos2_alpha``."""
+    u2 = cos2_alpha * (A_M**2 - B_M**2) / B_M**2
+    a = 1 + u2 / 16384 * (4096 + u2 * (-768 + u2 * (320 - 175 * u2)))
+    b = u2 / 1024 * (256 + u2 * (-128 + u2 * (74 - 47 * u2)))
+    return a, b
+
+
+def _delta_sigma(b, sin_sigma, cos_sigma, cos_2sm):
+    return b * sin_sigma * (cos_2sm + b / 4 * (cos_sigma * (-1 + 2 * cos_2sm**2) - b / 6 * cos_2sm
+                                                * (-3 + 4 * sin_sigma**2) * (-3 + 4 * cos_2sm**2)))
+
+
+def great_circle_inverse(lat1_deg: ArrayLike, lon1_deg: ArrayLike, lat2_deg: ArrayLike,
+                         lon2_deg: ArrayLike) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Great-circle (geodesic) distance in nautical miles, initial course and final course (degrees true)
+    from point 1 to point 2 on WGS 84 (Vincenty 1975). Coincident points give 0 nm and course 0°.
+
+    >>> d, c1, c2 = great_circle_inverse(0.0, 0.0, 0.0, 1.0)  # one degree of the equator, of radius a
+    >>> round(float(d), 4), float(c1), float(c2)
+    (60.1077, 90.0, 90.0)
+    """
+    lat1, lon1, lat2, lon2 = np.broadcast_arrays(*(np.asarray(v, dtype=float) for v in
+                                                   (lat1_deg, lon1_deg, lat2_deg, lon2_deg)))
+    u1, u2 = _reduced_latitude(lat1), _reduced_latitude(lat2)
+    big_l = np.radians(wrap_180(lon2 - lon1))
+    su1, cu1, su2, cu2 = np.sin(u1), np.cos(u1), np.sin(u2), np.cos(u2)
+    lam = big_l.copy()
+    settled = np.zeros(lam.shape, dtype=bool)
+    for _ in range(_GEODESIC_ITERATIONS):
+        sin_lam, cos_lam = np.sin(lam), np.cos(lam)
+        sin_sigma = np.hypot(cu2 * sin_lam, cu1 * su2 - su1 * cu2 * cos_lam)
+        cos_sigma = su1 * su2 + cu1 * cu2 * cos_lam
+        sigma = np.arctan2(sin_sigma, cos_sigma)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            sin_alpha = np.where(sin_sigma > 0, cu1 * cu2 * sin_lam / np.where(sin_sigma > 0, sin_sigma, 1.0), 0.0)
+            cos2_alpha = 1 - sin_alpha**2
+            # on the equator cos²α = 0 and the term vanishes
+            cos_2sm = np.where(cos2_alpha > 1e-15, cos_sigma - 2 * su1 * su2 / np.where(cos2_alpha > 1e-15,
+                                                                                         cos2_alpha, 1.0), 0.0)
+        c = _F / 16 * cos2_alpha * (4 + _F * (4 - 3 * cos2_alpha))
+        new = big_l + (1 - c) * _F * sin_alpha * (sigma + c * sin_sigma * (cos_2sm + c * cos_sigma
+                                                                            * (-1 + 2 * cos_2sm**2)))
+        change = np.abs(new - lam)
+        lam = np.where(settled, lam, new)
+        settled |= change < _GEODESIC_TOLERANCE
+        if settled.all():
+            break
+    bad = ~settled | (np.abs(lam) > np.pi)
+    if bad.any():
+        raise GeodesicError(f"the great circle between {_pairs(bad, lat1, lon1, lat2, lon2)} cannot be "
+                            "computed closely: the points are nearly opposite each other on the globe, where "
+                            "every course is nearly as short; give a waypoint between them")
+    a, b = _series(cos2_alpha)
+    distance_m = B_M * a * (sigma - _delta_sigma(b, sin_sigma, cos_sigma, cos_2sm))
+    sin_lam, cos_lam = np.sin(lam), np.cos(lam)
+    course1 = np.arctan2(cu2 * sin_lam, cu1 * su2 - su1 * cu2 * cos_lam)
+    course2 = np.arctan2(cu1 * sin_lam, -su1 * cu2 + cu1 * su2 * cos_lam)
+    return distance_m / METRES_PER_NM, wrap_360(np.degrees(course1)), wrap_360(np.degrees(course2))
+
+
+def _pairs(bad, lat1, lon1, lat2, lon2) -> str:
+    k = np.flatnonzero(np.ravel(bad))
+    shown = ", ".join(f"({np.ravel(lat1)[i]:.4f}, {np.ravel(lon1)[i]:.4f}) and ({np.ravel(lat2)[i]:.4f}, "
+                      f"{np.ravel(lon2)[i]:.4f})" for i in k[:3])
+    return shown + (f" and {k.size - 3} more pairs" if k.size > 3 else "")
+
+
+def great_circle_destination(lat_deg: ArrayLike, lon_deg: ArrayLike, course_deg: ArrayLike,
+                             distance_nm: ArrayLike) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The point reached along the great circle (geodesic) that leaves (lat, lon) on the initial course,
+    after ``distance_nm``; and the course there (degrees true). Vincenty's direct solution (1975).
+
+    >>> lat, lon, course = great_circle_destination(0.0, 0.0, 90.0, 60.107714)
+    >>> round(float(lat), 9), round(float(lon), 6), float(course)
+    (0.0, 1.0, 90.0)
+    """
+    lat, lon, course, distance = np.broadcast_arrays(*(np.asarray(v, dtype=float) for v in
+                                                       (lat_deg, lon_deg, course_deg, distance_nm)))
+    alpha1 = np.radians(course)
+    s = distance * METRES_PER_NM
+    u1 = _reduced_latitude(lat)
+    su1, cu1 = np.sin(u1), np.cos(u1)
+    sin_a1, cos_a1 = np.sin(alpha1), np.cos(alpha1)
+    sigma1 = np.arctan2(np.tan(u1), cos_a1)
+    sin_alpha = cu1 * sin_a1
+    cos2_alpha = 1 - sin_alpha**2
+    a, b = _series(cos2_alpha)
+    sigma = s / (B_M * a)
+    for _ in range(10):  # the change falls by a factor of about 1/300 each time
+        cos_2sm = np.cos(2 * sigma1 + sigma)
+        sigma = s / (B_M * a) + _delta_sigma(b, np.sin(sigma), np.cos(sigma), cos_2sm)
+    cos_2sm = np.cos(2 * sigma1 + sigma)
+    sin_sigma, cos_sigma = np.sin(sigma), np.cos(sigma)
+    lat2 = np.arctan2(su1 * cos_sigma + cu1 * sin_sigma * cos_a1,
+                      (1 - _F) * np.hypot(sin_alpha, su1 * sin_sigma - cu1 * cos_sigma * cos_a1))
+    lam = np.arctan2(sin_sigma * sin_a1, cu1 * cos_sigma - su1 * sin_sigma * cos_a1)
+    c = _F / 16 * cos2_alpha * (4 + _F * (4 - 3 * cos2_alpha))
+    big_l = lam - (1 - c) * _F * sin_alpha * (sigma + c * sin_sigma * (cos_2sm + c * cos_sigma
+                                                                         * (-1 + 2 * cos_2sm**2)))
+    course2 = np.arctan2(sin_alpha, -su1 * sin_sigma + cu1 * cos_sigma * cos_a1)
+    return np.degrees(lat2), wrap_180(lon + np.degrees(big_l)), wrap_360(np.degrees(course2))
+
+
+def _distance_to_arc_nm(lat_deg, course_deg, arc_rad):
+    """Distance (nm) along the geodesic leaving lat on the course, to where its arc on the auxiliary sphere
+    has grown by ``arc_rad`` (s = b A (σ − Δσ), Vincenty's relation, with no iteration)."""
+    u1 = _reduced_latitude(lat_deg)
+    alpha1 = np.radians(np.asarray(course_deg, dtype=float))
+    sigma1 = np.arctan2(np.tan(u1), np.cos(alpha1))
+    cos2_alpha = 1 - (np.cos(u1) * np.sin(alpha1)) ** 2
+    a, b = _series(cos2_alpha)
+    sigma = np.asarray(arc_rad, dtype=float)
+    cos_2sm = np.cos(2 * sigma1 + sigma)
+    return B_M * a * (sigma - _delta_sigma(b, np.sin(sigma), np.cos(sigma), cos_2sm)) / METRES_PER_NM
+
+
+def great_circle_vertex(lat_deg: ArrayLike, lon_deg: ArrayLike, course_deg: ArrayLike
+                        ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The vertex ahead on the great circle that leaves (lat, lon) on the course: its latitude and longitude
+    (degrees) and its distance (nm) from the start. By Clairaut's relation the vertex's reduced latitude
+    is ±acos|sin α0|, sin α0 = cos β1 sin α1; it lies a quarter of the auxiliary great circle from the
+    node, ahead. A course due north or south has its vertex at the pole; a course along the equator
+    has none (NaN)."""
+    lat, lon, course = np.broadcast_arrays(*(np.asarray(v, dtype=float) for v in (lat_deg, lon_deg, course_deg)))
+    u1 = _reduced_latitude(lat)
+    alpha1 = np.radians(course)
+    sigma1 = np.arctan2(np.tan(u1), np.cos(alpha1))  # the arc from the northward node to the start
+    ahead = np.mod(np.pi / 2 - sigma1, np.pi)  # the next vertex, north or south
+    distance = _distance_to_arc_nm(lat, course, ahead)
+    equatorial = (np.abs(lat) < 1e-12) & (np.abs(np.cos(alpha1)) < 1e-12)
+    vlat, vlon, _ = great_circle_destination(lat, lon, course, np.where(equatorial, 0.0, distance))
+    nan = np.where(equatorial, np.nan, 1.0)
+    return vlat * nan, vlon * nan, distance * nan
+
+
+def great_circle_points(lat_deg: float, lon_deg: float, course_deg: float, distances_nm: ArrayLike
+                        ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Points along one great circle at the distances from its start: latitudes, longitudes, courses."""
+    return great_circle_destination(lat_deg, lon_deg, course_deg, np.asarray(distances_nm, dtype=float))
+
+
+def composite_great_circle(lat1_deg: float, lon1_deg: float, lat2_deg: float, lon2_deg: float,
+                           limit_lat_deg: float) -> dict:
+    """The shortest route that keeps equatorward of a limiting latitude (composite sailing).
+
+    When the great circle's vertex between the points lies beyond the limit, the route is the great
+    circle from the start that touches the limiting parallel (its vertex on it: by Clairaut's relation
+    sin α1 = cos β_limit / cos β1), along the parallel, and the great circle that leaves the parallel
+    for the destination (the same construction from the destination). Returns a dict: ``kind``
+    ('great circle' when the limit is not reached, else 'composite'), the three parts' distances (nm),
+    the initial and final courses, the points where the route meets and leaves the limit, and the
+    total distance. Raises when an end lies beyond the limit.
+    """
+    lat1, lon1, lat2, lon2, limit = (float(v) for v in (lat1_deg, lon1_deg, lat2_deg, lon2_deg, limit_lat_deg))
+    if limit == 0.0 or abs(limit) >= 90.0:
+        raise NavredError(f"limiting latitude {limit:g}°: give one between the equator and a pole, with N or S")
+    side = np.sign(limit)
+    if side * lat1 > abs(limit) or side * lat2 > abs(limit):
+        raise NavredError(f"the limiting latitude {abs(limit):g}° {'N' if side > 0 else 'S'} lies between an end "
+                          "of the route and the pole: an end is beyond it")
+    distance, course1, course2 = (float(v) for v in great_circle_inverse(lat1, lon1, lat2, lon2))
+    vlat, vlon, vdist = (float(v) for v in great_circle_vertex(lat1, lon1, course1))
+    plain = {"kind": "great circle", "distance_nm": distance, "initial_course_deg": course1,
+             "final_course_deg": course2, "first_nm": distance, "parallel_nm": 0.0, "last_nm": 0.0,
+             "meets": None, "leaves": None}
+    if not (vdist < distance and side * vlat > abs(limit)):
+        return plain
+    east = np.sin(np.radians(course1)) >= 0  # the direction of travel in longitude
+    beta_limit = float(_reduced_latitude(abs(limit)))
+
+    def touching(lat, lon, heading_east):
+        sin_a = np.cos(beta_limit) / np.cos(float(_reduced_latitude(lat)))
+        alpha = np.degrees(np.arcsin(np.clip(sin_a, -1.0, 1.0)))  # toward the limit's pole and the way we go
+        course = alpha if side > 0 else 180.0 - alpha
+        course = course if heading_east else 360.0 - course
+        tlat, tlon, tdist = (float(v) for v in great_circle_vertex(lat, lon, course))
+        return course % 360.0, tlat, tlon, tdist
+
+    first_course, meet_lat, meet_lon, first_nm = touching(lat1, lon1, east)
+    back_course, leave_lat, leave_lon, last_nm = touching(lat2, lon2, not east)
+    run = wrap_180(leave_lon - meet_lon) * (1.0 if east else -1.0)
+    if run < 0:  # the two touching circles pass each other before the parallel: no run along it
+        return plain
+    parallel_nm = float(np.radians(run) * prime_vertical_radius_m(abs(limit)) * np.cos(np.radians(limit))
+                        / METRES_PER_NM)
+    _, _, arrive = (float(v) for v in great_circle_destination(lat2, lon2, back_course, last_nm))
+    return {"kind": "composite", "distance_nm": first_nm + parallel_nm + last_nm,
+            "initial_course_deg": first_course, "final_course_deg": (back_course + 180.0) % 360.0,
+            "first_nm": first_nm, "parallel_nm": parallel_nm, "last_nm": last_nm,
+            "meets": (meet_lat, meet_lon), "leaves": (leave_lat, leave_lon), "great_circle_nm": distance,
+            "arrive_check_deg": arrive}
+
+
 __all__ = ["meridian_arc_m", "latitude_from_meridian_arc_deg", "isometric_latitude", "meridional_parts",
-           "prime_vertical_radius_m", "meridian_radius_m", "rhumb_destination", "rhumb_inverse", "rhumb_track", "rhumb_track_through"]
+           "prime_vertical_radius_m", "meridian_radius_m", "rhumb_destination", "rhumb_inverse", "rhumb_track", "rhumb_track_through",
+           "longitude_change_rad", "great_circle_inverse", "great_circle_destination", "great_circle_vertex", "great_circle_points",
+           "composite_great_circle", "GeodesicError"]

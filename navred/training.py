@@ -19,6 +19,7 @@ import numpy as np
 import pandas as pd
 
 from .constants import ARCMIN_PER_DEG
+from .fix import t_quantile_975
 from .stars import SOLAR_SYSTEM
 from .track import ReferenceTrack
 from .triangle import computed_altitude_azimuth
@@ -41,17 +42,6 @@ class TrainingReport:
     track_span: tuple[str, str]
 
 
-def _t_quantile_975(dof: np.ndarray) -> np.ndarray:
-    """Student's t 97.5 % point by the Cornish-Fisher expansion (Abramowitz & Stegun 26.7.5;
-    from memory): within 0.01 of the tables for 3 or more degrees of freedom."""
-    z = 1.959964
-    v = np.asarray(dof, dtype=float)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        t = (z + (z**3 + z) / (4 * v) + (5 * z**5 + 16 * z**3 + 3 * z) / (96 * v**2)
-             + (3 * z**7 + 19 * z**5 + 17 * z**3 - 15 * z) / (384 * v**3))
-    return np.where(v >= 1, t, np.nan)
-
-
 def _summaries(frame: pd.DataFrame, keys: list[str]) -> pd.DataFrame:
     usable = frame[frame.within_track]
     rows = []
@@ -63,7 +53,7 @@ def _summaries(frame: pd.DataFrame, keys: list[str]) -> pd.DataFrame:
         mean = float(good.mean()) if n_good else np.nan
         scatter = float(good.std(ddof=1)) if n_good > 1 else np.nan
         se = scatter / np.sqrt(n_good) if n_good > 1 else np.nan
-        half = float(_t_quantile_975(n_good - 1)) * se if n_good > 1 else np.nan
+        half = float(t_quantile_975(n_good - 1)) * se if n_good > 1 else np.nan
         days = (part.sight_utc - part.sight_utc.min()).dt.total_seconds().to_numpy() / 86400.0
         slope = slope_se = np.nan
         if n_good >= 3 and np.ptp(days[~blunder]) > 1.0:

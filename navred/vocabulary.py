@@ -77,6 +77,9 @@ COLUMNS: tuple[Column, ...] = (
     Column("watch_error", ("watch_error", "chronometer_error", "deck_watch_error", "dwe"),
            "watch_error", "the watch's error: '12 fast', '3 s slow', '1 m 05 s fast', or seconds fast (+) / slow (−)",
            units=("s",), default_unit="s", low=-3600.0, high=3600.0, default=0.0),
+    Column("timepiece", ("timepiece", "chronometer", "chronometer_name", "watch_name"), "text",
+           "the timepiece read for zone_time; with a rating log (--rates) and no watch_error, its error is "
+           "predicted from its time signals"),
     Column("body", ("body", "body_name", "celestial_body"), "body",
            "Sun, Moon, Venus, Mars, Jupiter, Saturn or a navigational star (navred bodies)", required=True),
     Column("limb", ("limb",), "limb", "lower, upper or centre (LL, UL); Sun and Moon only"),
@@ -106,15 +109,28 @@ COLUMNS: tuple[Column, ...] = (
            "air pressure, for refraction, in hPa (mb), inHg or mmHg (the header names which)",
            units=("hpa", "inhg", "mmhg"), low=850.0, high=1100.0, default=1010.0),
     Column("dr_lat", ("dr_lat", "dr_latitude", "lat_dr", "latitude_dr"), "lat",
-           "DR latitude at the sight: 43 14.1 N, or a signed decimal (north positive, ISO 6709)", required=True),
+           "DR latitude at the sight: 43 14.1 N, or a signed decimal (north positive, ISO 6709); blank: carried "
+           "from the log's departure or last known position (an entry row); on a departure or position entry: "
+           "the position"),
     Column("dr_lon", ("dr_lon", "dr_long", "dr_longitude", "lon_dr", "long_dr", "longitude_dr"), "lon",
-           "DR longitude at the sight: 013 03.7 W, or a signed decimal (east positive, ISO 6709)", required=True),
+           "DR longitude at the sight: 013 03.7 W, or a signed decimal (east positive, ISO 6709); blank: carried "
+           "as the latitude"),
     Column("course", ("course", "course_steered", "course_true"), "number",
            "course (degrees true) in force from this sight until the next", units=("deg",), default_unit="deg",
            low=0.0, high=360.0),
     Column("speed", ("speed", "speed_through_water", "speed_made_good"), "number",
            "speed (knots) in force from this sight until the next", units=("kn",), default_unit="kn",
            low=0.0, high=60.0),
+    Column("entry", ("entry", "event", "log_entry"), "entry",
+           "a row that is not a sight but an entry of the ship's progress: departure or position (a known "
+           "position in dr_lat/dr_lon, restarting the DR), course (a new course and/or speed), current (a set and "
+           "drift to carry in the DR)"),
+    Column("set", ("set", "current_set", "set_of_current"), "number",
+           "the set of a current (degrees true, the way it runs), on a current entry", units=("deg",),
+           default_unit="deg", low=0.0, high=360.0),
+    Column("drift", ("drift", "current_drift", "rate_of_current"), "number",
+           "the drift of a current (knots), on a current entry (0 ends it)", units=("kn",), default_unit="kn",
+           low=0.0, high=15.0),
     Column("fix_group", ("fix_group", "fix_id"), "text",
            "sights fixed together; blank: one observer's sights within two hours of each other"),
     Column("chart_lat", ("chart_lat", "chart_latitude", "gnss_lat", "gps_lat", "gnss_latitude", "gps_latitude"),
@@ -165,6 +181,12 @@ HORIZONS = {"sea": "sea", "natural": "sea", "visible": "sea", "": "sea", "nan": 
             "back": "back", "back_sight": "back", "backsight": "back",
             "waterline": "waterline", "short": "waterline", "shore": "waterline", "dip_short": "waterline",
             "short_of_horizon": "waterline"}
+
+#: The entries of the ship's progress a log may hold beside its sights, and the words that name them.
+ENTRIES = {"departure": "departure", "depart": "departure", "departed": "departure", "start": "departure",
+           "position": "position", "known_position": "position", "fix": "position", "landfall": "position",
+           "course": "course", "alter_course": "course", "course_change": "course", "a_c": "course",
+           "speed": "course", "current": "current", "set_and_drift": "current"}
 
 #: Nautical time-zone letters and their zone descriptions (ZT + ZD = UTC): A-M (no J) are the
 #: zones east of Greenwich, −1 to −12; N-Y those west, +1 to +12; Z is zero (common practice).
@@ -261,5 +283,5 @@ def convert_to_working_unit(value: float, unit: str | None) -> float:
     return value * factor + offset
 
 
-__all__ = ["COLUMNS", "COLUMN", "Column", "HeaderMatch", "match_header", "normalise_header", "LIMBS",
+__all__ = ["COLUMNS", "COLUMN", "Column", "HeaderMatch", "match_header", "normalise_header", "LIMBS", "ENTRIES",
            "HORIZONS", "ZONE_LETTERS", "UNIT_CONVERSIONS", "convert_to_working_unit"]

@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import datetime as _dt
 from collections.abc import Callable
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 import pandas as pd
@@ -61,6 +61,17 @@ class VoyageResult:
     training: object | None = None
     #: what the writers work out once a run and reuse (labels of every sight, say)
     cache: dict = field(default_factory=dict, repr=False, compare=False)
+    #: the set and drift found at each fix carried on in the DR (process_log's option)
+    carry_current: bool = False
+
+    def days_work(self):
+        """The day's work of the voyage (navred.dayswork): set and drift, estimated positions, noons, the DR
+        track; worked out once and kept."""
+        if "days_work" not in self.cache:
+            from .dayswork import days_work
+
+            self.cache["days_work"] = days_work(self, carry_current=self.carry_current)
+        return self.cache["days_work"]
 
     @property
     def raw(self) -> pd.DataFrame:
@@ -95,21 +106,26 @@ class VoyageResult:
 
 def process_log(source: object, *, dates: str | None = None, solve_motion: bool = False,
                 progress: Callable[[int, int], None] | None = None, plan: bool = True,
-                at_utc: object | None = None) -> VoyageResult:
+                at_utc: object | None = None, carry_current: bool = False) -> VoyageResult:
     """Read sight logs and do the whole job; every input row ends up reduced or rejected.
 
     ``source`` is anything :func:`navred.read_sight_log` takes (a file, a list of files, a
     folder, a DataFrame); ``dates`` declares the order of non-ISO dates. ``progress``
     (optional) is called with (done, total) as blocks of sights are reduced. ``plan``: also
     plan the next twilight. ``at_utc``: the time of every fix (default: each group's last sight).
+    A sight whose DR the reader carried along the log's track gets it again from the last fix
+    before it (each fix restarts the DR; ``carry_current`` carries the set and drift found at
+    each fix on in the DR).
     """
     log = source if isinstance(source, SightLog) else read_sight_log(source, dates=dates)
     reduced = _reduce_with_progress(log, progress)
-    rejected = _rejected(log, reduced)
     if len(reduced):
         for column, values in series_columns(reduced).items():
             reduced[column] = values
     groups = fix_groups(reduced, solve_motion=solve_motion, at_utc=at_utc)
+    log, reduced, groups = _restart_dr_at_fixes(log, reduced, groups, progress, carry_current,
+                                                solve_motion=solve_motion, at_utc=at_utc)
+    rejected = _rejected(log, reduced)
     usable = reduced.status.to_numpy() != "error" if len(reduced) else np.zeros(0, dtype=bool)
     table = iers_table()
     dut1 = reduced.dut1_s[usable] if len(reduced) else pd.Series(dtype=float)
@@ -132,10 +148,52 @@ def process_log(source: object, *, dates: str | None = None, solve_motion: bool 
     }
     if log.dates:
         provenance["dates"] = f"numeric dates read {log.dates} (declared)"
+    if (log.table["dr_carried_from"] != "").any() if len(log.table) else False:
+        provenance["DR"] = ("carried along the log's track (its entries, and the sights' courses and speeds) from "
+                            "the departure or last known position, restarted at each fix"
+                            + ("; the set and drift found at each fix carried on" if carry_current else ""))
     result = VoyageResult(", ".join(log.sources), log, reduced, rejected, groups, provenance)
+    result.carry_current = carry_current
     if plan:
         result.next_events, result.next_plan = _next_twilight_plan(result)
     return result
+
+
+def _restart_dr_at_fixes(log: SightLog, reduced: pd.DataFrame, groups: list[GroupFix], progress, carry_current,
+                         **fixing):
+    """The sights whose DR the reader carried from the departure get it again from the last known position
+    before them, every fix included, and are reduced and fixed again (the fixes themselves do not depend on
+    the DR they start from; their DR, intercepts and plots do)."""
+    if not len(log.table) or not (log.table["dr_carried_from"] != "").any():
+        return log, reduced, groups
+    if not any(g.fix is not None and g.fix.is_fix for g in groups) and not carry_current:
+        return log, reduced, groups
+    from .dayswork import known_label_at, vessel_tracks
+
+    draft = VoyageResult("", log, reduced, log.rejected, groups)
+    tracks = vessel_tracks(draft, carry_current=carry_current)
+    table = log.table.copy()
+    carried = np.flatnonzero((table["dr_carried_from"] != "").to_numpy() & (table["read_problem"] == "").to_numpy())
+    when = utc64(table["sight_utc"]).astype(np.int64)
+    vessels = table["vessel"].to_numpy(dtype=object)
+    lat = table["dr_lat_deg"].to_numpy(dtype=float).copy()
+    lon = table["dr_lon_deg"].to_numpy(dtype=float).copy()
+    note = table["dr_carried_from"].to_numpy(dtype=object).copy()
+    for vessel, track in tracks.items():
+        rows = carried[vessels[carried] == vessel]
+        if not rows.size:
+            continue
+        t_lat, t_lon, origin = track.kept.positions(when[rows])
+        found = origin >= 0
+        lat[rows[found]], lon[rows[found]] = t_lat[found], t_lon[found]
+        note[rows[found]] = [f"carried from the {known_label_at(track, o)}" for o in origin[found]]
+    table["dr_lat_deg"], table["dr_lon_deg"], table["dr_carried_from"] = lat, lon, note
+    log = replace(log, table=table)
+    reduced = _reduce_with_progress(log, progress)
+    if len(reduced):
+        for column, values in series_columns(reduced).items():
+            reduced[column] = values
+    return log, reduced, fix_groups(reduced, **fixing)
 
 
 def _rejected(log: SightLog, reduced: pd.DataFrame) -> pd.DataFrame:

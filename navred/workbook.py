@@ -406,6 +406,10 @@ def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool | Pict
                    "curve, the scatter, the flagged sights and the best sight to carry into the fix, with a plot"),
         ("Sight plan", "the next twilight after the last fix: bodies to shoot with Hc to preset and Zn, the "
                        "recommended set and why, and a picture of the sky"),
+        ("Day's work", "present when the DR can be kept (a departure entry, or fixes and the sights' courses and "
+                       "speeds): the noon positions and the day's run, the set and drift at each fix against the DR "
+                       "carried through the water from the fix before (with its 95 % uncertainty), the estimated "
+                       "positions from single lines, and a picture of the voyage"),
     ):
         line += 1
         about.cell(row=line, column=1, value=name)
@@ -433,6 +437,9 @@ def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool | Pict
     series = series_table(voyage)
     if len(series):
         _write_series_sheet(tables, book.create_sheet("Series"), voyage, series, pictures)
+    days = voyage.days_work()
+    if not days.empty:
+        _write_days_sheet(tables, book.create_sheet("Day's work"), days, pictures)
 
     fixed = [group for group in voyage.groups if group.fix is not None]
     shown = fixed[:pictures.limit] if pictures.embed else []
@@ -458,6 +465,41 @@ def fit_pages(book, tables: TableWriter | None = None) -> None:
         sheet.sheet_properties.pageSetUpPr.fitToPage = True
         sheet.page_setup.fitToWidth = 1
         sheet.page_setup.fitToHeight = 0
+
+
+def _write_days_sheet(tables: TableWriter, sheet, days, pictures: Pictures) -> None:
+    """The day's work: noons and the day's run, set and drift, estimated positions, a voyage picture per vessel."""
+    from openpyxl.styles import Font
+
+    from .plotting import voyage_track_picture
+
+    blocks = [("Noon positions (12:00 ship's time) and the day's run, noon to noon along the rhumb line",
+               days.noons),
+              ("Set and drift at each fix: the fix against the DR carried through the water from the known position "
+               "before (the 95 % uncertainty includes the DR's own error, 0.3 kn and 2 % of the run)", days.set_drift),
+              ("Estimated positions from a single line", days.estimated)]
+    line = 1
+    for title, frame in blocks:
+        sheet.cell(row=line, column=1, value=title).font = Font(bold=True)
+        line += 1
+        if len(frame):
+            write_table_sheet(tables, sheet, frame, first_row=line, wide={"noon from": 40, "from": 30, "note": 60})
+            line += len(frame)
+        else:
+            sheet.cell(row=line + 1, column=1, value="none")
+        line += 3
+    if days.carry_current:
+        sheet.cell(row=line, column=1, value="The set and drift found at each fix were carried on in the DR.")
+        line += 2
+    vessels = list(days.tracks)
+    shown = vessels[:pictures.limit] if pictures.embed else []
+    note = pictures.note("voyage pictures", len(shown), len(vessels))
+    if note:
+        write_text_safe(sheet.cell(row=line, column=1), note)
+        line += 2
+    for vessel in shown:
+        _add_figure(sheet, voyage_track_picture(days, vessel), f"A{line}", 900, 600)
+        line += 32
 
 
 def _write_training_sheet(tables: TableWriter, sheet, report, pictures: Pictures) -> None:
@@ -637,6 +679,16 @@ def write_plots(voyage: VoyageResult, folder: str | Path, formats: tuple[str, ..
     out.mkdir(parents=True, exist_ok=True)
     chosen = [g for g in (voyage.groups if groups is None else groups) if g.fix is not None]
     written: list[Path] = []
+    if groups is None and not voyage.days_work().empty:
+        from .plotting import voyage_track_picture
+
+        days = voyage.days_work()
+        pictures = {}
+        for vessel, stem in zip(days.tracks, plot_file_stems(f"track-{v or 'vessel'}" for v in days.tracks)):
+            picture = voyage_track_picture(days, vessel)
+            for suffix in formats:
+                pictures[f"{stem}.{suffix}"] = canvas_bytes(picture, suffix, png_width_px=1320)
+        written += atomic_write_many(out, pictures, inputs=voyage.log.sources)
     stems = plot_file_stems(g.name for g in chosen)
     for start in range(0, len(chosen), PLOTS_PER_WRITE):  # a few hundred files held in memory at a time
         files = {}

@@ -124,8 +124,9 @@ def test_workbook_command_on_the_demo(tmp_path):
     assert result.exit_code == 0, result.output
     assert "11 sights reduced, 3 fixes, 0 rejected" in result.output
     assert out.exists() and (tmp_path / "f.gpx").exists() and (tmp_path / "f.geojson").exists()
-    assert len(list((tmp_path / "plots").glob("*.png"))) == 3
-    assert len(list((tmp_path / "plots").glob("*.svg"))) == 3
+    assert len(list((tmp_path / "plots").glob("plot-*.png"))) == 3
+    assert len(list((tmp_path / "plots").glob("track-*.png"))) == 1  # the voyage picture
+    assert len(list((tmp_path / "plots").glob("plot-*.svg"))) == 3
 
 
 def test_workbook_exit_codes(tmp_path):

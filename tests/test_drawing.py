@@ -117,7 +117,8 @@ def test_pictures_beyond_the_limit_are_counted_never_dropped_silently(tmp_path):
     voyage = process_log(DEMO)
     fixed = sum(g.fix is not None for g in voyage.groups)
     book = write_workbook(voyage, tmp_path / "two.xlsx", plots=Pictures(limit=2))
-    assert fixed == 3 and len(media(book)) == 2 + 1  # two plotting sheets and the sight plan's sky
+    # two plotting sheets, the sight plan's sky and the voyage picture of the Day's work
+    assert fixed == 3 and len(media(book)) == 2 + 1 + 1
     texts = [c.value for row in openpyxl.load_workbook(book)["Fixes"].iter_rows() for c in row if c.value]
     assert "The first 2 of 3 plotting sheets are pictured here; 1 is not: write every plotting sheet as a file " \
            "with navred workbook --plots FOLDER." in texts
@@ -129,12 +130,13 @@ def test_pictures_beyond_the_limit_are_counted_never_dropped_silently(tmp_path):
 
 def test_the_picture_options_of_the_workbook_command(tmp_path):
     embedded = runner.invoke(app, ["workbook", DEMO, "-o", str(tmp_path / "e.xlsx")])
-    assert embedded.exit_code == 0 and len(media(tmp_path / "e.xlsx")) == 4
+    assert embedded.exit_code == 0 and len(media(tmp_path / "e.xlsx")) == 5  # 3 sheets, the sky, the voyage
     files = runner.invoke(app, ["workbook", DEMO, "-o", str(tmp_path / "f.xlsx"), "--pictures", "files",
                                 "--plot-formats", "svg"])
     assert files.exit_code == 0, files.output
     folder = tmp_path / "f-plots"  # beside the workbook
-    assert sorted(p.suffix for p in folder.iterdir()) == [".svg"] * 3
+    assert sorted(p.suffix for p in folder.glob("plot-*")) == [".svg"] * 3
+    assert [p.suffix for p in folder.glob("track-*")] == [".svg"]  # the voyage picture
     assert media(tmp_path / "f.xlsx") == [] and "every one is in" in files.output
     for bad in (["--pictures", "some"], ["--plot-formats", "gif"], ["--plot-formats", ","]):
         result = runner.invoke(app, ["workbook", DEMO, "-o", str(tmp_path / "b.xlsx"), *bad])

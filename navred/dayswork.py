@@ -1,0 +1,388 @@
+"""The day's work around the fixes: the DR kept between them, estimated positions, set and drift, noon
+positions and the day's run. Edge code over :mod:`navred.reckoning` (the core).
+
+Known positions are the log's departure and position entries and every fix (a fix of two or more
+lines that cross well; a line of position or a latitude is not a fix). Each vessel keeps one DR
+track: through every course and speed (the entries, and the sights' own courses and speeds), every
+current the log enters and, with ``carry_current``, the set and drift found at the last fix, restarted
+at each known position.
+
+- **Set and drift** at each fix: against the DR carried from the previous known position *through
+  the water* (courses and speeds only, no current at all): the whole current met since, with its
+  95 % uncertainty from the two fixes' covariances and the DR's own error over the run.
+- **Estimated positions**: for a fix group of one sight, the foot of the perpendicular from its DR to
+  its line; for a line of position or a latitude, the point of the line nearest the DR.
+- **Noon**: 12:00 ship's time (the zone the log's sights keep that day, else the zone of the DR's
+  longitude). The noon position is a fix within an hour of noon, else an estimated position within
+  the hour, carried to noon along the DR's velocity; else the DR. The day's run is the rhumb line from
+  noon to noon (distance, course and speed made good) beside the distance run through the water.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from .angles import format_angle
+from .fix import DR_ERROR_FRACTION, DR_ERROR_KN
+from .frames import utc64
+from .reckoning import (
+    NS_PER_HOUR,
+    DRTrack,
+    course_speed,
+    days_run,
+    dr_track,
+    estimated_position,
+    set_and_drift,
+    ship_noon_ns,
+    zone_description_h,
+)
+from .sailings import rhumb_destination
+
+#: A fix or an estimated position this close to noon (either side) gives the noon position.
+NOON_WINDOW_HOURS = 1.0
+#: The DR track is drawn and exported with a point at least this often (hours), and at every knot.
+TRACK_STEP_HOURS = 1.0
+
+
+@dataclass
+class VesselTrack:
+    """One vessel's DR: the track kept (with currents), the track through the water (for set and drift),
+    and the known positions that restart them, in time order."""
+
+    vessel: str
+    kept: DRTrack
+    water: DRTrack
+    known_ns: np.ndarray
+    known_lat: np.ndarray
+    known_lon: np.ndarray
+    known_label: list[str]
+    known_cov: np.ndarray  # (k, 2, 2) nm², north-east; zero for an entry's position
+
+
+@dataclass
+class DaysWork:
+    """The day's work of a voyage: set and drift at each fix, estimated positions, noons, the DR track."""
+
+    set_drift: pd.DataFrame
+    estimated: pd.DataFrame
+    noons: pd.DataFrame
+    track_points: pd.DataFrame
+    tracks: dict[str, VesselTrack] = field(default_factory=dict)
+    carry_current: bool = False
+
+    @property
+    def empty(self) -> bool:
+        return not len(self.set_drift) and not len(self.estimated) and not len(self.noons)
+
+
+SET_DRIFT_COLUMNS = ["vessel", "fix group", "fix (UTC)", "fix", "from", "hours", "DR at the fix",
+                     "set (deg)", "set ±95 % (deg)", "drift (kn)", "drift ±95 % (kn)", "note",
+                     "fix lat (deg)", "fix lon (deg)", "dr lat (deg)", "dr lon (deg)"]
+ESTIMATED_COLUMNS = ["vessel", "fix group", "UTC", "estimated position", "from", "lat (deg)", "lon (deg)"]
+NOON_COLUMNS = ["vessel", "date", "zone (h)", "noon (UTC)", "noon position", "noon from", "run (nm)",
+                "course made good (deg)", "speed made good (kn)", "through the water (nm)", "hours",
+                "fixes that day", "lat (deg)", "lon (deg)"]
+
+
+def _fix_vessels(voyage) -> dict[str, str]:
+    reduced = voyage.reduced
+    return {g.name: str(reduced["vessel"].iloc[g.rows[0]]) if len(g.rows) else "" for g in voyage.groups}
+
+
+def _changes(voyage, vessel: str):
+    """(instants, courses, speeds, sets, drifts) of one vessel: the log's entries and its sights' motion."""
+    reduced, entries = voyage.reduced, voyage.log.entries
+    parts = []
+    if len(entries):
+        mine = _entry_vessels(voyage) == vessel
+        e = entries[mine]
+        parts.append((utc64(e["utc"]).astype(np.int64), e["course_deg"].to_numpy(float), e["speed_kn"].to_numpy(float),
+                      e["set_deg"].to_numpy(float), e["drift_kn"].to_numpy(float)))
+    if len(reduced):
+        rows = (reduced["vessel"].to_numpy(dtype=object) == vessel) & (reduced["status"].to_numpy() != "error")
+        r = reduced[rows]
+        moving = (np.isfinite(r["course_deg"].to_numpy(float)) | np.isfinite(r["speed_kn"].to_numpy(float)))
+        r = r[moving]
+        parts.append((utc64(r["sight_utc"]).astype(np.int64), r["course_deg"].to_numpy(float),
+                      r["speed_kn"].to_numpy(float), np.full(len(r), np.nan), np.full(len(r), np.nan)))
+    if not parts:
+        return (np.zeros(0, np.int64),) + tuple(np.zeros(0) for _ in range(4))
+    return tuple(np.concatenate(p) for p in zip(*parts))
+
+
+def _entry_vessels(voyage) -> np.ndarray:
+    """Each entry's vessel; entries that name none belong to the one vessel of a single-vessel log."""
+    entries = voyage.log.entries
+    names = entries["vessel"].to_numpy(dtype=object)
+    vessels = set(voyage.reduced["vessel"].tolist()) - {""} if len(voyage.reduced) else set()
+    if not (names != "").any() and len(vessels) == 1:
+        return np.full(len(names), next(iter(vessels)), dtype=object)
+    return names
+
+
+def vessel_tracks(voyage, *, carry_current: bool = False) -> dict[str, VesselTrack]:
+    """Every vessel's DR track, restarted at its departure, its position entries and its fixes."""
+    fix_vessel = _fix_vessels(voyage)
+    entries = voyage.log.entries
+    entry_vessel = _entry_vessels(voyage) if len(entries) else np.zeros(0, dtype=object)
+    vessels = list(dict.fromkeys(list(fix_vessel.values()) + entry_vessel.tolist()))
+    tracks = {}
+    for vessel in vessels:
+        known = []  # (ns, lat, lon, label, covariance)
+        if len(entries):
+            mine = entries[(entry_vessel == vessel) & entries["entry"].isin(["departure", "position"]).to_numpy()]
+            for item in mine.itertuples():
+                known.append((int(utc64(pd.Series([item.utc]))[0].astype(np.int64)), item.lat_deg, item.lon_deg,
+                              f"{item.entry} at row {item.row}", np.zeros((2, 2))))
+        for group in voyage.groups:
+            if fix_vessel[group.name] == vessel and group.fix is not None and group.fix.is_fix:
+                fix = group.fix
+                known.append((int(np.datetime64(fix.utc, "ns").astype(np.int64)), fix.lat_deg, fix.lon_deg,
+                              f"fix {group.name}", np.asarray(fix.covariance_nm2, dtype=float)))
+        if not known:
+            continue
+        known.sort(key=lambda k: k[0])
+        k_ns = np.array([k[0] for k in known], dtype=np.int64)
+        k_lat = np.array([k[1] for k in known], dtype=float)
+        k_lon = np.array([k[2] for k in known], dtype=float)
+        labels = [k[3] for k in known]
+        covs = np.stack([k[4] for k in known])
+        when, course, speed, set_, drift = _changes(voyage, vessel)
+        water = dr_track(when, course, speed, k_ns, k_lat, k_lon)
+        kept_when, kept_set, kept_drift = when, set_, drift
+        kept_course, kept_speed = course, speed
+        if carry_current:
+            found = _set_drift_at_known(water, k_ns, k_lat, k_lon, covs)
+            carry = np.isfinite(found[0])
+            kept_when = np.concatenate([when, k_ns[carry]])
+            kept_course = np.concatenate([course, np.full(carry.sum(), np.nan)])
+            kept_speed = np.concatenate([speed, np.full(carry.sum(), np.nan)])
+            kept_set = np.concatenate([set_, found[0][carry]])
+            kept_drift = np.concatenate([drift, found[1][carry]])
+        kept = dr_track(kept_when, kept_course, kept_speed, k_ns, k_lat, k_lon, set_deg=kept_set,
+                        drift_kn=kept_drift)
+        tracks[vessel] = VesselTrack(vessel, kept, water, k_ns, k_lat, k_lon, labels, covs)
+    return tracks
+
+
+def _set_drift_at_known(water: DRTrack, k_ns, k_lat, k_lon, covs):
+    """Set and drift (and the rest) at each known position against the water DR from the one before."""
+    n = k_ns.size
+    out_set, out_drift = np.full(n, np.nan), np.full(n, np.nan)
+    if n < 2:
+        return out_set, out_drift, None
+    dr_lat, dr_lon, origin = water.positions(k_ns[1:], before_restart=True)
+    hours = (k_ns[1:] - k_ns[:-1]) / NS_PER_HOUR
+    ok = (origin >= 0) & (hours > 0)
+    result = None
+    if ok.any():
+        run = _water_run_nm(water, k_ns[:-1][ok], k_ns[1:][ok])
+        result = set_and_drift(dr_lat[ok], dr_lon[ok], k_lat[1:][ok], k_lon[1:][ok], hours[ok], covs[1:][ok],
+                               covs[:-1][ok], run, dr_error_kn=DR_ERROR_KN, dr_error_fraction=DR_ERROR_FRACTION)
+        index = np.flatnonzero(ok) + 1
+        out_set[index], out_drift[index] = result.set_deg, result.drift_kn
+    return out_set, out_drift, (ok, dr_lat, dr_lon, hours, result)
+
+
+def _water_run_nm(track: DRTrack, start_ns, end_ns) -> np.ndarray:
+    """Distance run through the water (nm) between the instants: speed × time over the knots between."""
+    speed = np.hypot(track.north_kn, track.east_kn)
+    knots = track.knot_ns
+    cumulative = np.concatenate([[0.0], np.cumsum(speed[:-1] * np.diff(knots) / NS_PER_HOUR)])
+
+    def at(t):
+        k = np.clip(np.searchsorted(knots, t, side="right") - 1, 0, knots.size - 1)
+        return cumulative[k] + speed[k] * np.maximum(t - knots[k], 0) / NS_PER_HOUR
+
+    return at(np.asarray(end_ns, dtype=np.int64)) - at(np.asarray(start_ns, dtype=np.int64))
+
+
+def days_work(voyage, *, carry_current: bool = False) -> DaysWork:
+    """Set and drift, estimated positions, noon positions and the day's run of a processed voyage."""
+    tracks = vessel_tracks(voyage, carry_current=carry_current)
+    set_rows, noon_rows, point_rows = [], [], []
+    estimated = _estimated_positions(voyage, tracks)
+    for vessel, track in tracks.items():
+        set_rows += _set_drift_rows(vessel, track)
+        noon_rows += _noon_rows(voyage, vessel, track, estimated)
+        point_rows += _track_points(voyage, vessel, track)
+    return DaysWork(pd.DataFrame(set_rows, columns=SET_DRIFT_COLUMNS),
+                    pd.DataFrame(estimated, columns=ESTIMATED_COLUMNS),
+                    pd.DataFrame(noon_rows, columns=NOON_COLUMNS),
+                    pd.DataFrame(point_rows, columns=["vessel", "utc", "lat_deg", "lon_deg", "leg", "kind"]),
+                    tracks, carry_current)
+
+
+def _position_text(lat, lon) -> str:
+    return f"{format_angle(lat, 'lat')} {format_angle(lon, 'lon')}"
+
+
+def _stamp(ns) -> str:
+    return str(np.datetime64(int(ns), "ns").astype("datetime64[s]")).replace("T", " ")
+
+
+def _set_drift_rows(vessel: str, track: VesselTrack) -> list[dict]:
+    _, _, detail = _set_drift_at_known(track.water, track.known_ns, track.known_lat, track.known_lon,
+                                       track.known_cov)
+    rows = []
+    if detail is None:
+        return rows
+    ok, dr_lat, dr_lon, hours, result = detail
+    if result is None:
+        return rows
+    for j, k in enumerate(np.flatnonzero(ok)):
+        i = k + 1  # the known position the set and drift are found at
+        label = track.known_label[i]
+        if not label.startswith("fix "):
+            continue  # a position entry restarts the DR but is not a fix to judge the current by
+        set_sigma = result.set_95_deg[j]
+        note = ("the drift does not stand clear of its uncertainty: the set is not determined"
+                if not np.isfinite(set_sigma) else "")
+        rows.append({"vessel": vessel, "fix group": label[4:], "fix (UTC)": _stamp(track.known_ns[i]),
+                     "fix": _position_text(track.known_lat[i], track.known_lon[i]),
+                     "from": track.known_label[k], "hours": round(float(hours[k]), 2),
+                     "DR at the fix": _position_text(dr_lat[k], dr_lon[k]),
+                     "set (deg)": float(result.set_deg[j]), "set ±95 % (deg)": float(set_sigma),
+                     "drift (kn)": float(result.drift_kn[j]), "drift ±95 % (kn)": float(result.drift_95_kn[j]),
+                     "note": note, "fix lat (deg)": float(track.known_lat[i]),
+                     "fix lon (deg)": float(track.known_lon[i]), "dr lat (deg)": float(dr_lat[k]),
+                     "dr lon (deg)": float(dr_lon[k])})
+    return rows
+
+
+def _estimated_positions(voyage, tracks) -> list[dict]:
+    reduced = voyage.reduced
+    vessels = _fix_vessels(voyage)
+    out = []
+    for group in voyage.groups:
+        usable = group.rows[reduced["status"].to_numpy()[group.rows] != "error"]
+        if group.fix is not None and not group.fix.is_fix:
+            fix = group.fix
+            out.append({"vessel": vessels[group.name], "fix group": group.name, "UTC": _stamp(
+                np.datetime64(fix.utc, "ns").astype(np.int64)), "estimated position": _position_text(
+                fix.lat_deg, fix.lon_deg), "from": f"the {fix.kind} nearest the DR", "lat (deg)": fix.lat_deg,
+                "lon (deg)": fix.lon_deg})
+        elif group.fix is None and usable.size == 1:
+            r = reduced.iloc[int(usable[0])]
+            lat, lon = estimated_position(r["dr_lat_deg"], r["dr_lon_deg"], r["intercept_nm"], r["zn_deg"])
+            out.append({"vessel": vessels[group.name], "fix group": group.name,
+                        "UTC": str(r["sight_utc"])[:19], "estimated position": _position_text(float(lat), float(lon)),
+                        "from": f"one {r['body_name']} line: the foot of the perpendicular from the DR",
+                        "lat (deg)": float(lat), "lon (deg)": float(lon)})
+    return out
+
+
+def _noon_rows(voyage, vessel: str, track: VesselTrack, estimated: list[dict]) -> list[dict]:
+    reduced = voyage.reduced
+    mine = (reduced["vessel"].to_numpy(dtype=object) == vessel) & (reduced["status"].to_numpy() != "error") \
+        if len(reduced) else np.zeros(0, dtype=bool)
+    sight_ns = utc64(reduced["sight_utc"]).astype(np.int64)[mine] if mine.any() else np.zeros(0, np.int64)
+    first = int(track.known_ns[0])
+    last = int(max(sight_ns.max() if sight_ns.size else first, track.known_ns[-1]))
+    zd_log = reduced["zone_description_used_h"].to_numpy(dtype=float)[mine] if mine.any() else np.zeros(0)
+    # every ship's date from the departure to the last sight (a day before it, for a zone east of Greenwich)
+    day0 = np.datetime64(first - 14 * NS_PER_HOUR, "ns").astype("datetime64[D]")
+    day1 = np.datetime64(last + 14 * NS_PER_HOUR, "ns").astype("datetime64[D]")
+    days = np.arange(day0, day1 + np.timedelta64(1, "D")).astype("datetime64[ns]").astype(np.int64)
+    # the zone: the one the log's zone times keep that day, else the DR longitude's (twice, to settle)
+    zd = np.full(days.size, np.nan)
+    if sight_ns.size and np.isfinite(zd_log).any():
+        sight_day = ((sight_ns - (np.nan_to_num(zd_log) * NS_PER_HOUR).astype(np.int64)) // (24 * NS_PER_HOUR)
+                     * 24 * NS_PER_HOUR)
+        for k, day in enumerate(days):
+            here = np.isfinite(zd_log) & (sight_day == day)
+            if here.any():
+                zd[k] = float(pd.Series(zd_log[here]).mode().iloc[0])
+    guess = np.where(np.isfinite(zd), zd, 0.0)
+    for _ in range(2):
+        _, lon, _ = track.kept.positions(ship_noon_ns(days, guess))
+        guess = np.where(np.isfinite(zd), zd, np.where(np.isfinite(lon), zone_description_h(lon), guess))
+    noon = ship_noon_ns(days, guess)
+    inside = (noon >= first) & (noon <= last)
+    days, noon, guess = days[inside], noon[inside], guess[inside]
+    if not days.size:
+        return []
+    lat, lon, origin = track.kept.positions(noon)
+    source = [f"DR from the {track.known_label[_known_index(track, o)]}" if o >= 0 else "" for o in origin]
+    # a fix, else an estimated position, within the hour carried to noon along the DR's velocity
+    fixes = [(int(t), la, lo, lab) for t, la, lo, lab in zip(track.known_ns, track.known_lat, track.known_lon,
+                                                            track.known_label) if lab.startswith("fix ")]
+    eps = [(int(pd.Timestamp(e["UTC"]).value), e["lat (deg)"], e["lon (deg)"], f"estimated position {e['fix group']}")
+           for e in estimated if e["vessel"] == vessel]
+    for k, t in enumerate(noon.tolist()):
+        for candidates in (fixes, eps):
+            near = [c for c in candidates if abs(c[0] - t) <= NOON_WINDOW_HOURS * NS_PER_HOUR]
+            if near:
+                c = min(near, key=lambda c: abs(c[0] - t))
+                kk = np.searchsorted(track.kept.knot_ns, c[0], side="right") - 1
+                course, speed = course_speed(track.kept.north_kn[max(kk, 0)], track.kept.east_kn[max(kk, 0)])
+                hours = (t - c[0]) / NS_PER_HOUR
+                la, lo = rhumb_destination(c[1], c[2], course + (0.0 if hours >= 0 else 180.0),
+                                           float(speed) * abs(hours))
+                lat[k], lon[k] = float(la), float(lo)
+                source[k] = f"{c[3]} at {_stamp(c[0])[11:16]} UTC" + (" carried to noon" if hours else "")
+                break
+    run = days_run(noon, lat, lon)
+    through = _water_run_nm(track.water, noon[:-1], noon[1:]) if noon.size > 1 else np.zeros(0)
+    fix_times = np.array([f[0] for f in fixes], dtype=np.int64)
+    rows = []
+    for k in range(days.size):
+        date = str(np.datetime64(int(days[k]), "ns").astype("datetime64[D]"))
+        previous = noon[k - 1] if k else first
+        count = int(((fix_times > previous) & (fix_times <= noon[k])).sum()) if fix_times.size else 0
+        rows.append({"vessel": vessel, "date": date, "zone (h)": float(guess[k]), "noon (UTC)": _stamp(noon[k]),
+                     "noon position": _position_text(lat[k], lon[k]) if np.isfinite(lat[k]) else "",
+                     "noon from": source[k],
+                     "run (nm)": float(run.distance_nm[k - 1]) if k else np.nan,
+                     "course made good (deg)": float(run.course_deg[k - 1]) if k else np.nan,
+                     "speed made good (kn)": float(run.speed_kn[k - 1]) if k else np.nan,
+                     "through the water (nm)": float(through[k - 1]) if k else np.nan,
+                     "hours": float(run.hours[k - 1]) if k else np.nan, "fixes that day": count,
+                     "lat (deg)": float(lat[k]), "lon (deg)": float(lon[k])})
+    return rows
+
+
+def _known_index(track: VesselTrack, knot: int) -> int:
+    """The known position (its index) that restarts the track at a knot."""
+    return int(np.searchsorted(track.known_ns, track.kept.knot_ns[knot]))
+
+
+def known_label_at(track: VesselTrack, knot: int) -> str:
+    """What the known position restarting the track at a knot is ('fix sun-run-sun', 'departure at row 2')."""
+    return track.known_label[_known_index(track, int(knot))]
+
+
+def _track_points(voyage, vessel: str, track: VesselTrack) -> list[dict]:
+    """The DR track as points: every knot, and one an hour between, from the first known position to the last
+    sight, each segment (from one known position to the next) its own leg."""
+    reduced = voyage.reduced
+    mine = (reduced["vessel"].to_numpy(dtype=object) == vessel) if len(reduced) else np.zeros(0, dtype=bool)
+    last = int(max(utc64(reduced["sight_utc"][mine]).astype(np.int64).max() if mine.any() else 0,
+                   track.known_ns[-1]))
+    first = int(track.known_ns[0])
+    step = int(TRACK_STEP_HOURS * NS_PER_HOUR)
+    hourly = np.arange(first, last + 1, step, dtype=np.int64)
+    knots = track.kept.knot_ns[(track.kept.knot_ns >= first) & (track.kept.knot_ns <= last)]
+    times = np.unique(np.concatenate([hourly, knots, [last]]))
+    lat, lon, origin = track.kept.positions(times)
+    rows = []
+    restart_ns = set(track.known_ns.tolist())
+    for t, la, lo, o in zip(times.tolist(), lat.tolist(), lon.tolist(), origin.tolist()):
+        if o < 0:
+            continue
+        if t in restart_ns and rows:
+            # the leg that ends here, then the next begins from the known position
+            b_lat, b_lon, b_origin = track.kept.positions(np.array([t]), before_restart=True)
+            if b_origin[0] >= 0 and b_origin[0] != o:
+                rows.append({"vessel": vessel, "utc": _stamp(t), "lat_deg": float(b_lat[0]), "lon_deg": float(b_lon[0]),
+                             "leg": int(b_origin[0]), "kind": "DR at a known position"})
+        kind = "known position" if t in restart_ns else "DR"
+        rows.append({"vessel": vessel, "utc": _stamp(t), "lat_deg": la, "lon_deg": lo, "leg": int(o), "kind": kind})
+    return rows
+
+
+__all__ = ["DaysWork", "VesselTrack", "days_work", "vessel_tracks", "known_label_at", "NOON_WINDOW_HOURS", "SET_DRIFT_COLUMNS",
+           "NOON_COLUMNS", "ESTIMATED_COLUMNS"]

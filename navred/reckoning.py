@@ -1,0 +1,287 @@
+"""Dead reckoning between fixes: the DR track, estimated positions, set and drift, noon and the day's run.
+
+The DR is entered once, as a departure or a fix, and carried through each change of course and
+speed along the rhumb line on the WGS 84 ellipsoid (:mod:`navred.sailings`). Every known position
+(the departure, each fix) restarts it. A current (set and drift) may be in force with the course
+and speed; over the ground the ship then makes good the sum of the two velocities, steered as one
+rhumb line for the leg (common practice: the current triangle).
+
+The track is kept as *knots*: every instant at which the course, the speed or the current changes
+or a known position is given. Between knots the velocity over the ground is constant, so the
+position at a knot is the previous knot's carried along one rhumb line, and every knot of a
+track, through every restart, is one segmented cumulative sum (no loop over legs, positions or
+fixes). A position at any instant is its knot's carried on for the rest of the time.
+
+Core code: numpy only; instants are int64 nanoseconds of UTC (datetime64[ns] viewed as int64).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from numpy.typing import ArrayLike
+
+from .angles import wrap_180, wrap_360
+from .constants import METRES_PER_NM
+from .errors import NavredError
+from .sailings import (
+    latitude_from_meridian_arc_deg,
+    longitude_change_rad,
+    meridian_arc_m,
+    rhumb_destination,
+    rhumb_inverse,
+)
+from .triangle import destination
+
+NS_PER_HOUR = 3_600_000_000_000
+#: Two-sided 95 % point of the normal distribution (set and drift intervals).
+NORMAL_975 = 1.959963984540054
+
+
+class ReckoningError(NavredError):
+    """A DR that cannot be kept: no known position before an instant, or a bad leg."""
+
+
+def velocity_kn(course_deg: ArrayLike, speed_kn: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
+    """North and east components (knots) of a course and speed."""
+    c = np.radians(np.asarray(course_deg, dtype=float))
+    s = np.asarray(speed_kn, dtype=float)
+    return s * np.cos(c), s * np.sin(c)
+
+
+def course_speed(north_kn: ArrayLike, east_kn: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
+    """Course (degrees true) and speed (knots) of a velocity's north and east components."""
+    n, e = np.asarray(north_kn, dtype=float), np.asarray(east_kn, dtype=float)
+    return wrap_360(np.degrees(np.arctan2(e, n))), np.hypot(n, e)
+
+
+@dataclass(frozen=True)
+class DRTrack:
+    """A DR track as knots (see the module's notes), in time order.
+
+    ``knot_ns``: the instants; ``north_kn``/``east_kn``: the velocity over the ground from each knot to the
+    next (the last runs on without end); ``depart_lat``/``depart_lon``: the position at each knot, after a
+    restart there; ``arrive_lat``/``arrive_lon``: the position at each knot carried from the knot before
+    (NaN at the first knot of the track); ``origin``: the knot of the known position each knot is carried
+    from (-1 before the first).
+    """
+
+    knot_ns: np.ndarray
+    north_kn: np.ndarray
+    east_kn: np.ndarray
+    depart_lat: np.ndarray
+    depart_lon: np.ndarray
+    arrive_lat: np.ndarray
+    arrive_lon: np.ndarray
+    origin: np.ndarray
+    restart: np.ndarray
+
+    def positions(self, utc_ns: ArrayLike, *, before_restart: bool = False) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """The DR (latitude, longitude, degrees) at the instants, and the knot of the known position it was
+        carried from (-1 where there is none yet: NaN positions). ``before_restart``: at the very instant of a
+        known position, give the DR carried up to it rather than the position itself (to compare a fix
+        with the DR it restarts)."""
+        when = np.asarray(utc_ns, dtype=np.int64)
+        k = np.searchsorted(self.knot_ns, when, side="right") - 1
+        valid = k >= 0
+        kk = np.where(valid, k, 0)
+        at_knot = valid & (self.knot_ns[kk] == when)
+        use_arrival = at_knot & before_restart & self.restart[kk]
+        hours = np.where(valid, (when - self.knot_ns[kk]) / NS_PER_HOUR, 0.0)
+        course, speed = course_speed(self.north_kn[kk], self.east_kn[kk])
+        lat, lon = rhumb_destination(self.depart_lat[kk], self.depart_lon[kk], course, speed * hours)
+        lat = np.where(use_arrival, self.arrive_lat[kk], lat)
+        lon = np.where(use_arrival, self.arrive_lon[kk], lon)
+        origin = np.where(use_arrival, self.origin[np.maximum(kk - 1, 0)], self.origin[kk])
+        origin = np.where(valid & (kk - use_arrival >= 0), origin, -1)
+        lat = np.where(origin >= 0, lat, np.nan)
+        lon = np.where(origin >= 0, lon, np.nan)
+        return lat, lon, origin
+
+
+def dr_track(change_ns: ArrayLike, course_deg: ArrayLike, speed_kn: ArrayLike, known_ns: ArrayLike,
+             known_lat: ArrayLike, known_lon: ArrayLike, *, set_deg: ArrayLike = 0.0,
+             drift_kn: ArrayLike = 0.0) -> DRTrack:
+    """Build a DR track from changes of course and speed (and current) and known positions.
+
+    ``change_ns`` (int64 ns UTC), ``course_deg``, ``speed_kn``: each change is in force from its instant until
+    the next (a NaN course or speed keeps the one before; before the first change the ship lies stopped);
+    ``set_deg``/``drift_kn``: a current from that instant on (NaN keeps the one before; 0 drift ends it). ``known_ns``,
+    ``known_lat``, ``known_lon``: the departure and each fix, each restarting the DR. Changes and known
+    positions at one instant act together (the known position holds at that instant).
+    """
+    change = np.atleast_1d(np.asarray(change_ns, dtype=np.int64))
+    course, speed, set_, drift = np.broadcast_arrays(*(np.atleast_1d(np.asarray(v, dtype=float)) for v in
+                                                       (course_deg, speed_kn, set_deg, drift_kn)))
+    course, speed, set_, drift = (np.broadcast_to(v, change.shape) for v in (course, speed, set_, drift))
+    known = np.atleast_1d(np.asarray(known_ns, dtype=np.int64))
+    k_lat = np.broadcast_to(np.atleast_1d(np.asarray(known_lat, dtype=float)), known.shape)
+    k_lon = np.broadcast_to(np.atleast_1d(np.asarray(known_lon, dtype=float)), known.shape)
+    bad = ~np.isfinite(k_lat) | ~np.isfinite(k_lon) | (np.abs(k_lat) > 90.0)
+    if bad.any():
+        raise ReckoningError(f"a known position must have a latitude within ±90° and a longitude; "
+                             f"refused: {', '.join(str(i) for i in np.flatnonzero(bad)[:5])}")
+    if np.any(speed[np.isfinite(speed)] < 0) or np.any(drift[np.isfinite(drift)] < 0):
+        raise ReckoningError("a speed or a drift is negative: give the course it is made on instead")
+    knots = np.unique(np.concatenate([change, known]))
+    n = knots.size
+    # the velocity through the water in force at each knot: the last change at or before it (NaN keeps the one
+    # before, so carry each column's last finite value forward)
+    order = np.argsort(change, kind="stable")
+    c_sorted, s_sorted = course[order], speed[order]
+    set_sorted, drift_sorted = set_[order], drift[order]
+    at = np.searchsorted(change[order], knots, side="right") - 1
+
+    def carried(values):
+        index = np.where(np.isfinite(values), np.arange(values.size), -1)
+        index = np.maximum.accumulate(index) if index.size else index
+        last = np.where(at >= 0, index[np.maximum(at, 0)] if index.size else -1, -1)
+        return np.where(last >= 0, values[np.maximum(last, 0)] if values.size else 0.0, 0.0)
+
+    c_knot, s_knot = carried(c_sorted), carried(s_sorted)
+    current_set, current_drift = carried(set_sorted), carried(drift_sorted)
+    wn, we = velocity_kn(c_knot, s_knot)
+    cn, ce = velocity_kn(current_set, current_drift)
+    vn, ve = wn + cn, we + ce
+    # known positions at the knots (the last given at an instant holds)
+    slot = np.searchsorted(knots, known)
+    restart = np.zeros(n, dtype=bool)
+    restart[slot] = True
+    r_lat, r_lon = np.full(n, np.nan), np.full(n, np.nan)
+    r_lat[slot], r_lon[slot] = k_lat, k_lon
+    origin = np.maximum.accumulate(np.where(restart, np.arange(n), -1))
+    # the rhumb line of each interval: the northing (meridian arc) adds within a segment; the longitude
+    # change of each interval follows from its end latitudes
+    hours = np.diff(knots) / NS_PER_HOUR
+    north_m = vn[:-1] * hours * METRES_PER_NM
+    run = np.concatenate([[0.0], np.cumsum(north_m)])
+    has = origin >= 0
+    o = np.maximum(origin, 0)
+    arc = np.where(has, meridian_arc_m(np.where(has, r_lat[o], 0.0)) + run - run[o], np.nan)
+    lat = np.where(restart, r_lat, np.clip(latitude_from_meridian_arc_deg(np.nan_to_num(arc)), -89.999, 89.999))
+    lat = np.where(has, lat, np.nan)
+    # the latitude each interval arrives at, carried (before a restart replaces it)
+    arrive_lat = np.full(n, np.nan)
+    arc_prev_segment = np.where(has[:-1], meridian_arc_m(np.where(has[:-1], r_lat[o[:-1]], 0.0)) + run[1:]
+                                - run[o[:-1]], np.nan)
+    arrive_lat[1:] = np.where(has[:-1], np.clip(latitude_from_meridian_arc_deg(np.nan_to_num(arc_prev_segment)),
+                                                 -89.999, 89.999), np.nan)
+    course_g, speed_g = course_speed(vn[:-1], ve[:-1])
+    with np.errstate(invalid="ignore"):
+        dlon = np.degrees(longitude_change_rad(lat[:-1], arrive_lat[1:], np.radians(course_g),
+                                                speed_g * hours * METRES_PER_NM))
+    dlon = np.where(has[:-1], np.nan_to_num(dlon), 0.0)
+    turned = np.concatenate([[0.0], np.cumsum(dlon)])
+    lon = np.where(restart, r_lon, wrap_180(np.where(has, r_lon[o], 0.0) + turned - turned[o]))
+    lon = np.where(has, lon, np.nan)
+    arrive_lon = np.full(n, np.nan)
+    arrive_lon[1:] = np.where(has[:-1], wrap_180(r_lon[o[:-1]] + turned[1:] - turned[o[:-1]]), np.nan)
+    return DRTrack(knots, vn, ve, lat, lon, arrive_lat, arrive_lon, origin, restart)
+
+
+def estimated_position(dr_lat_deg: ArrayLike, dr_lon_deg: ArrayLike, intercept_nm: ArrayLike,
+                       zn_deg: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
+    """The estimated position from one line of position: the foot of the perpendicular from the DR to the
+    line, the intercept (worked from the DR; + toward) along Zn (common practice)."""
+    return destination(dr_lat_deg, dr_lon_deg, zn_deg, intercept_nm)
+
+
+@dataclass(frozen=True)
+class SetDrift:
+    """The current found between a fix and the DR carried to it, with its uncertainty (one per fix)."""
+
+    set_deg: np.ndarray
+    drift_kn: np.ndarray
+    #: standard deviations: of the drift (knots), and of the set (degrees; NaN where the drift does not
+    #: stand clear of zero, so that the set is not determined)
+    drift_sigma_kn: np.ndarray
+    set_sigma_deg: np.ndarray
+    hours: np.ndarray
+    #: the displacement DR -> fix (nautical miles north and east), and its covariance (nm², north-east)
+    north_nm: np.ndarray
+    east_nm: np.ndarray
+    covariance_nm2: np.ndarray
+
+    @property
+    def drift_95_kn(self) -> np.ndarray:
+        return NORMAL_975 * self.drift_sigma_kn
+
+    @property
+    def set_95_deg(self) -> np.ndarray:
+        return NORMAL_975 * self.set_sigma_deg
+
+
+def set_and_drift(dr_lat_deg: ArrayLike, dr_lon_deg: ArrayLike, fix_lat_deg: ArrayLike, fix_lon_deg: ArrayLike,
+                  hours: ArrayLike, fix_covariance_nm2: ArrayLike, previous_covariance_nm2: ArrayLike,
+                  run_nm: ArrayLike, *, dr_error_kn: float = 0.3, dr_error_fraction: float = 0.02) -> SetDrift:
+    """Set (degrees true, the way the current runs) and drift (knots) from a fix and the DR carried to it from
+    the previous fix over ``hours``: the displacement DR -> fix divided by the time.
+
+    Its uncertainty comes from the two fixes' covariances (nm², north-east, 1 σ), which add (the errors of
+    two fixes are independent), and the DR's own error over the run (isotropic, σ = ``dr_error_kn`` × hours +
+    ``dr_error_fraction`` × ``run_nm``; the values navred's running fix uses, common practice). The drift's σ is
+    the covariance along the displacement, the set's across it over the distance (first order).
+    """
+    d_lat, d_lon, f_lat, f_lon, h, run = np.broadcast_arrays(*(np.asarray(v, dtype=float) for v in (
+        dr_lat_deg, dr_lon_deg, fix_lat_deg, fix_lon_deg, hours, run_nm)))
+    if np.any(h <= 0):
+        raise ReckoningError("set and drift need a run of time between the fixes: a fix at the same instant as "
+                             "the one before gives none")
+    distance, course = rhumb_inverse(d_lat, d_lon, f_lat, f_lon)
+    north, east = velocity_kn(course, distance)
+    dr_sigma = dr_error_kn * h + dr_error_fraction * run
+    cov = (np.asarray(fix_covariance_nm2, dtype=float) + np.asarray(previous_covariance_nm2, dtype=float)
+           + (dr_sigma**2)[..., None, None] * np.eye(2))
+    along = np.stack([np.cos(np.radians(course)), np.sin(np.radians(course))], axis=-1)
+    across = np.stack([-np.sin(np.radians(course)), np.cos(np.radians(course))], axis=-1)
+    var_along = np.einsum("...i,...ij,...j->...", along, cov, along)
+    var_across = np.einsum("...i,...ij,...j->...", across, cov, across)
+    drift_sigma = np.sqrt(var_along) / h
+    with np.errstate(divide="ignore", invalid="ignore"):
+        set_sigma = np.degrees(np.sqrt(var_across) / distance)
+    determined = distance > NORMAL_975 * np.sqrt(var_along)
+    return SetDrift(course, distance / h, drift_sigma, np.where(determined, set_sigma, np.nan), h, north, east,
+                    cov)
+
+
+def ship_noon_ns(day_ns: ArrayLike, zone_description_h: ArrayLike) -> np.ndarray:
+    """12:00 ship's time (zone time) on each date, as UTC int64 ns: noon + ZD (ZT + ZD = UTC).
+
+    ``day_ns``: the date's 00:00 (int64 ns of the calendar date, as datetime64[D] gives it)."""
+    return (np.asarray(day_ns, dtype=np.int64) + 12 * NS_PER_HOUR
+            + np.round(np.asarray(zone_description_h, dtype=float) * NS_PER_HOUR).astype(np.int64))
+
+
+def zone_description_h(lon_deg: ArrayLike) -> np.ndarray:
+    """The nautical zone description of a longitude, hours (+ west): −round(λ / 15°), ±12 at the date line
+    (common practice)."""
+    zd = -np.round(np.asarray(lon_deg, dtype=float) / 15.0)
+    return np.clip(zd, -12.0, 12.0)
+
+
+@dataclass(frozen=True)
+class DaysRun:
+    """The run between consecutive noons (one per day after the first)."""
+
+    distance_nm: np.ndarray
+    course_deg: np.ndarray
+    speed_kn: np.ndarray
+    hours: np.ndarray
+
+
+def days_run(noon_ns: ArrayLike, lat_deg: ArrayLike, lon_deg: ArrayLike) -> DaysRun:
+    """Distance, course and speed made good between consecutive noon positions (rhumb line on WGS 84);
+    the hours between noons are 23 or 25 when the ship's clocks change zone."""
+    when = np.asarray(noon_ns, dtype=np.int64)
+    lat, lon = np.asarray(lat_deg, dtype=float), np.asarray(lon_deg, dtype=float)
+    distance, course = rhumb_inverse(lat[:-1], lon[:-1], lat[1:], lon[1:])
+    hours = np.diff(when) / NS_PER_HOUR
+    with np.errstate(divide="ignore", invalid="ignore"):
+        speed = np.where(hours > 0, distance / hours, np.nan)
+    return DaysRun(distance, course, speed, hours)
+
+
+__all__ = ["DRTrack", "dr_track", "estimated_position", "SetDrift", "set_and_drift", "ship_noon_ns",
+           "zone_description_h", "DaysRun", "days_run", "velocity_kn", "course_speed", "ReckoningError",
+           "NS_PER_HOUR"]

@@ -1,0 +1,200 @@
+"""Passage planning by the sailings: the rhumb line, the great circle and the composite great circle
+between two positions, its waypoints, and the route as CSV, GPX and GeoJSON. Edge code over
+:mod:`navred.sailings` (the core, on the WGS 84 ellipsoid).
+
+The waypoints lie on the great circle (or on the composite route) at a chosen spacing; between two
+waypoints the ship steers the rhumb line, whose course and distance each leg gives (common practice:
+a great circle is sailed as a series of rhumb lines).
+"""
+
+from __future__ import annotations
+
+import json
+import xml.etree.ElementTree as ET
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from . import __version__
+from .angles import format_angle
+from .errors import NavredError
+from .output import atomic_write
+from .sailings import (
+    composite_great_circle,
+    great_circle_destination,
+    great_circle_inverse,
+    great_circle_vertex,
+    rhumb_inverse,
+)
+
+GPX_NAMESPACE = "http://www.topografix.com/GPX/1/1"
+#: The most waypoints a route is given (the spacing is refused when it would make more).
+MAX_WAYPOINTS = 2000
+
+WAYPOINT_COLUMNS = ["waypoint", "lat", "lon", "lat (deg)", "lon (deg)", "from start (nm)", "part",
+                    "rhumb course to next (deg)", "rhumb distance to next (nm)"]
+
+
+@dataclass
+class Route:
+    """A planned passage: both sailings compared, the vertex, and the waypoints."""
+
+    start: tuple[float, float]
+    end: tuple[float, float]
+    rhumb_nm: float
+    rhumb_course_deg: float
+    great_circle_nm: float
+    initial_course_deg: float
+    final_course_deg: float
+    vertex: tuple[float, float] | None
+    vertex_from_start_nm: float
+    vertex_on_route: bool
+    composite: dict | None
+    waypoints: pd.DataFrame
+    spacing_nm: float
+
+    def summary_lines(self) -> list[str]:
+        def pos(p):
+            return f"{format_angle(p[0], 'lat')} {format_angle(p[1], 'lon')}"
+
+        saving = self.rhumb_nm - self.great_circle_nm
+        lines = [f"From {pos(self.start)} to {pos(self.end)} (WGS 84 ellipsoid)",
+                 f"rhumb line:   {self.rhumb_nm:9.1f} nm on {self.rhumb_course_deg:05.1f}°",
+                 f"great circle: {self.great_circle_nm:9.1f} nm, initial course {self.initial_course_deg:05.1f}°, "
+                 f"final course {self.final_course_deg:05.1f}°; {saving:.1f} nm shorter "
+                 f"({100 * saving / self.rhumb_nm if self.rhumb_nm else 0:.1f} %)"]
+        if self.vertex is not None:
+            where = (f"on the route, {self.vertex_from_start_nm:.1f} nm from the start" if self.vertex_on_route
+                     else "beyond the route: the highest latitude is at an end")
+            lines.append(f"vertex: {pos(self.vertex)} ({where})")
+        if self.composite is not None:
+            c = self.composite
+            if c["kind"] == "composite":
+                lines.append(
+                    f"composite great circle within {format_angle(c['limit_deg'], 'lat')}: {c['distance_nm']:.1f} nm "
+                    f"({c['distance_nm'] - self.great_circle_nm:.1f} nm longer than the great circle): "
+                    f"{c['first_nm']:.1f} nm on the great circle from {self.initial_label(c)} to meet the limit at "
+                    f"{pos(c['meets'])}, {c['parallel_nm']:.1f} nm along the parallel to {pos(c['leaves'])}, "
+                    f"{c['last_nm']:.1f} nm on the great circle to the destination (final course "
+                    f"{c['final_course_deg']:05.1f}°)")
+            else:
+                lines.append(f"the great circle keeps within {format_angle(c['limit_deg'], 'lat')}: no composite "
+                             "route is needed")
+        lines.append(f"{len(self.waypoints)} waypoints, every {self.spacing_nm:g} nm along the "
+                     f"{'composite route' if self.composite and self.composite['kind'] == 'composite' else 'great circle'}"
+                     "; steer the rhumb line between them:")
+        for r in self.waypoints.to_dict("records"):
+            leg = (f"  then {r['rhumb course to next (deg)']:05.1f}° for {r['rhumb distance to next (nm)']:.1f} nm"
+                   if r["rhumb distance to next (nm)"] == r["rhumb distance to next (nm)"] else "")
+            lines.append(f"  {r['waypoint']:>4}  {r['lat']:>12} {r['lon']:>13}  {r['from start (nm)']:8.1f} nm{leg}")
+        return lines
+
+    @staticmethod
+    def initial_label(c) -> str:
+        return f"the start (initial course {c['initial_course_deg']:05.1f}°)"
+
+
+def plan_route(lat1_deg: float, lon1_deg: float, lat2_deg: float, lon2_deg: float, *, spacing_nm: float = 300.0,
+               limit_lat_deg: float | None = None) -> Route:
+    """Both sailings between two positions, the vertex, and waypoints every ``spacing_nm`` along the great
+    circle (or the composite great circle within ``limit_lat_deg``)."""
+    if not spacing_nm > 0:
+        raise NavredError(f"the waypoint spacing {spacing_nm!r} nm must be more than 0")
+    rhumb_nm, rhumb_course = (float(v) for v in rhumb_inverse(lat1_deg, lon1_deg, lat2_deg, lon2_deg))
+    gc_nm, course1, course2 = (float(v) for v in great_circle_inverse(lat1_deg, lon1_deg, lat2_deg, lon2_deg))
+    if gc_nm / spacing_nm > MAX_WAYPOINTS:
+        raise NavredError(f"a spacing of {spacing_nm:g} nm gives {gc_nm / spacing_nm:,.0f} waypoints over {gc_nm:,.0f} "
+                          f"nm; navred gives at most {MAX_WAYPOINTS:,}: choose a wider spacing")
+    vlat, vlon, vdist = (float(v) for v in great_circle_vertex(lat1_deg, lon1_deg, course1))
+    vertex = None if not np.isfinite(vlat) else (vlat, vlon)
+    composite = None
+    if limit_lat_deg is not None:
+        composite = composite_great_circle(lat1_deg, lon1_deg, lat2_deg, lon2_deg, limit_lat_deg)
+        composite["limit_deg"] = float(limit_lat_deg)
+    waypoints = _waypoints(lat1_deg, lon1_deg, lat2_deg, lon2_deg, course1, gc_nm, spacing_nm, composite)
+    return Route((lat1_deg, lon1_deg), (lat2_deg, lon2_deg), rhumb_nm, rhumb_course, gc_nm, course1, course2, vertex,
+                 vdist, bool(vertex is not None and vdist < gc_nm), composite, waypoints, spacing_nm)
+
+
+def _waypoints(lat1, lon1, lat2, lon2, course1, gc_nm, spacing, composite) -> pd.DataFrame:
+    if composite is None or composite["kind"] != "composite":
+        along = np.unique(np.concatenate([np.arange(0.0, gc_nm, spacing), [gc_nm]]))
+        lat, lon, _ = great_circle_destination(lat1, lon1, course1, along)
+        part = np.full(along.size, "great circle", dtype=object)
+    else:
+        c = composite
+        total = c["distance_nm"]
+        along = np.unique(np.concatenate([np.arange(0.0, total, spacing), [c["first_nm"],
+                                                                             c["first_nm"] + c["parallel_nm"], total]]))
+        lat, lon = np.empty(along.size), np.empty(along.size)
+        part = np.empty(along.size, dtype=object)
+        first = along <= c["first_nm"]
+        lat[first], lon[first], _ = great_circle_destination(lat1, lon1, c["initial_course_deg"], along[first])
+        part[first] = "great circle to the limit"
+        run = (along > c["first_nm"]) & (along <= c["first_nm"] + c["parallel_nm"])
+        if run.any():  # along the parallel: the longitude moves by the miles over ν cos φ
+            from .sailings import prime_vertical_radius_m
+
+            limit = c["limit_deg"]
+            per_deg = np.radians(1.0) * prime_vertical_radius_m(abs(limit)) * np.cos(np.radians(limit)) / 1852.0
+            east = 1.0 if np.sin(np.radians(c["initial_course_deg"])) >= 0 else -1.0
+            lat[run] = c["meets"][0]
+            lon[run] = (c["meets"][1] + east * (along[run] - c["first_nm"]) / per_deg + 180.0) % 360.0 - 180.0
+            part[run] = "along the limiting parallel"
+        last = along > c["first_nm"] + c["parallel_nm"]
+        if last.any():  # back from the destination along its touching great circle
+            back_course = (c["final_course_deg"] + 180.0) % 360.0
+            lat[last], lon[last], _ = great_circle_destination(lat2, lon2, back_course, total - along[last])
+            part[last] = "great circle from the limit"
+        lat[-1], lon[-1] = lat2, lon2
+    lat[0], lon[0] = lat1, lon1
+    lat[-1], lon[-1] = lat2, lon2
+    legs, courses = rhumb_inverse(lat[:-1], lon[:-1], lat[1:], lon[1:])
+    return pd.DataFrame({
+        "waypoint": np.arange(len(along)), "lat": [format_angle(v, "lat") for v in lat],
+        "lon": [format_angle(v, "lon") for v in lon], "lat (deg)": lat, "lon (deg)": lon, "from start (nm)": along,
+        "part": part, "rhumb course to next (deg)": np.append(courses, np.nan),
+        "rhumb distance to next (nm)": np.append(legs, np.nan)})[WAYPOINT_COLUMNS]
+
+
+def route_gpx(route: Route, path: str | Path) -> Path:
+    """The route as a GPX 1.1 route (rte) of its waypoints."""
+    ET.register_namespace("", GPX_NAMESPACE)
+    root = ET.Element(f"{{{GPX_NAMESPACE}}}gpx", {"version": "1.1", "creator": f"navred {__version__}"})
+    rte = ET.SubElement(root, f"{{{GPX_NAMESPACE}}}rte")
+    ET.SubElement(rte, f"{{{GPX_NAMESPACE}}}name").text = "navred route"
+    ET.SubElement(rte, f"{{{GPX_NAMESPACE}}}desc").text = (
+        f"{'composite great circle' if route.composite and route.composite['kind'] == 'composite' else 'great circle'}"
+        f", waypoints every {route.spacing_nm:g} nm; an aid to planning: check it against the charts")
+    for r in route.waypoints.to_dict("records"):
+        point = ET.SubElement(rte, f"{{{GPX_NAMESPACE}}}rtept", {"lat": f"{r['lat (deg)']:.6f}",
+                                                                 "lon": f"{r['lon (deg)']:.6f}"})
+        ET.SubElement(point, f"{{{GPX_NAMESPACE}}}name").text = f"WP{int(r['waypoint']):03d}"
+        ET.SubElement(point, f"{{{GPX_NAMESPACE}}}desc").text = f"{r['part']}, {r['from start (nm)']:.1f} nm from the start"
+    tree = ET.ElementTree(root)
+    ET.indent(tree)
+    return atomic_write(path, lambda p: tree.write(p, encoding="utf-8", xml_declaration=True))
+
+
+def route_geojson(route: Route, path: str | Path) -> Path:
+    """The route as GeoJSON (RFC 7946): the waypoints (Points) and the route through them (a LineString)."""
+    w = route.waypoints
+    features = [{"type": "Feature", "geometry": {"type": "LineString", "coordinates": [
+        [float(lon), float(lat)] for lat, lon in zip(w["lat (deg)"], w["lon (deg)"])]},
+        "properties": {"kind": "route", "great_circle_nm": route.great_circle_nm, "rhumb_nm": route.rhumb_nm,
+                       "composite_nm": (route.composite or {}).get("distance_nm"),
+                       "spacing_nm": route.spacing_nm}}]
+    for r in w.to_dict("records"):
+        features.append({"type": "Feature", "geometry": {"type": "Point", "coordinates": [r["lon (deg)"], r["lat (deg)"]]},
+                         "properties": {"kind": "waypoint", "waypoint": int(r["waypoint"]), "part": r["part"],
+                                        "from_start_nm": r["from start (nm)"]}})
+    if route.vertex is not None and route.vertex_on_route:
+        features.append({"type": "Feature", "geometry": {"type": "Point", "coordinates": [route.vertex[1], route.vertex[0]]},
+                         "properties": {"kind": "vertex", "from_start_nm": route.vertex_from_start_nm}})
+    text = json.dumps({"type": "FeatureCollection", "features": features}, indent=1, allow_nan=False)
+    return atomic_write(path, lambda p: Path(p).write_text(text, encoding="utf-8"))
+
+
+__all__ = ["Route", "plan_route", "route_gpx", "route_geojson", "WAYPOINT_COLUMNS", "MAX_WAYPOINTS"]

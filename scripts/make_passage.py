@@ -1,0 +1,165 @@
+"""A passage sailed outside navred, with a current, and its log kept the way navred keeps a DR.
+
+The ship is sailed in this script's own code: through the water on the courses and speeds of the
+plan, plus a current, integrated step by step along the ellipsoid (dφ/dt = v_N / ρ(φ), dλ/dt = v_E /
+(ν(φ) cos φ), ρ and ν the WGS 84 radii of curvature in the meridian and the prime vertical,
+Bowditch / Snyder's formulas; fourth-order Runge-Kutta, 60 s steps). At each round of sights the true
+position gives noise-free star sights from skyfield (tests/conftest.py), all at one instant (the
+daylight is ignored: the sky is the sky). The log holds what a navigator would write: the departure,
+each alteration of course and speed (entry rows), and the sights with no DR: navred carries the DR.
+
+Used by tests/test_dayswork.py (the set and drift, the day's run), and by ``main()`` for the invented
+demo passage in sample_sights/ (INVENTED DATA: the ketch "Moth Orchid" does not exist).
+"""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+ROOT = Path(__file__).resolve().parent.parent
+sys.path.insert(0, str(ROOT))
+
+from tests.conftest import skyfield_sight  # noqa: E402  (skyfield, independent of navred)
+
+OUT = ROOT / "sample_sights"
+A_M = 6378137.0
+F = 1 / 298.257223563
+E2 = F * (2 - F)
+STARS = ("Sirius", "Capella", "Procyon", "Aldebaran", "Regulus", "Dubhe", "Vega", "Altair", "Arcturus", "Deneb",
+         "Fomalhaut", "Spica", "Antares", "Kochab", "Betelgeuse", "Pollux", "Achernar", "Canopus", "Rigel", "Hamal")
+STEP_S = 60.0
+
+
+def radii(phi):
+    """ρ and ν (metres) at latitude φ (radians), WGS 84."""
+    w = 1 - E2 * np.sin(phi) ** 2
+    return A_M * (1 - E2) / w**1.5, A_M / np.sqrt(w)
+
+
+def velocity(course_deg, speed_kn):
+    c = np.radians(course_deg)
+    return speed_kn * np.cos(c), speed_kn * np.sin(c)
+
+
+def sail(start, lat, lon, plan, current, until):
+    """The true track: positions every STEP_S seconds from ``start`` to ``until`` (Timestamps).
+
+    ``plan``: [(Timestamp, course, speed)] through the water; ``current(t_hours) -> (set_deg, drift_kn)``."""
+    changes = sorted(plan)
+    times = pd.date_range(start, until, freq=f"{int(STEP_S)}s")
+    hours = (times - start).total_seconds().to_numpy() / 3600.0
+    phi, lam = np.radians(lat), np.radians(lon)
+    out = np.zeros((len(times), 2))
+    out[0] = phi, lam
+
+    def rate(t_h, p):
+        when = start + pd.Timedelta(hours=t_h)
+        course, speed = next(((c, s) for t, c, s in reversed(changes) if t <= when), (0.0, 0.0))
+        n, e = velocity(course, speed)
+        cs, cd = current(t_h)
+        cn, ce = velocity(cs, cd)
+        rho, nu = radii(p)
+        ms = 1852.0 / 3600.0
+        return (n + cn) * ms / rho, (e + ce) * ms / (nu * np.cos(p))
+
+    dt = STEP_S
+    for k in range(1, len(times)):
+        t = hours[k - 1]
+        # a change of plan falls on a whole step: each step uses one leg
+        k1 = rate(t, phi)
+        k2 = rate(t + dt / 7200, phi + dt / 2 * k1[0])
+        k3 = rate(t + dt / 7200, phi + dt / 2 * k2[0])
+        k4 = rate(t + dt / 3600 * 0.999999, phi + dt * k3[0])
+        phi += dt / 6 * (k1[0] + 2 * k2[0] + 2 * k3[0] + k4[0])
+        lam += dt / 6 * (k1[1] + 2 * k2[1] + 2 * k3[1] + k4[1])
+        out[k] = phi, lam
+    return pd.DataFrame({"utc": times, "lat": np.degrees(out[:, 0]),
+                         "lon": (np.degrees(out[:, 1]) + 180.0) % 360.0 - 180.0})
+
+
+def position_at(track: pd.DataFrame, when: pd.Timestamp):
+    stamps = track.utc.dt.tz_convert(None).to_numpy()
+    row = track.iloc[int(np.searchsorted(stamps, when.tz_convert(None).to_datetime64()))]
+    assert row.utc == when, "sights fall on the track's whole minutes"
+    return float(row.lat), float(row.lon)
+
+
+def star_round(ts, eph, when, lat, lon, count=4):
+    """``count`` stars 20-70° high, spread in azimuth, seen from the true position (skyfield, no noise)."""
+    chosen = []
+    for star in STARS:
+        sight = skyfield_sight(ts, eph, star, when, lat, lon, eye_height_m=3.0)
+        if 20.0 <= sight["true_alt_deg"] <= 70.0 and all(
+                abs((sight["true_az_deg"] - other["true_az_deg"] + 180) % 360 - 180) > 360 / (count + 2)
+                for other in chosen):
+            chosen.append(sight)
+        if len(chosen) == count:
+            break
+    return chosen
+
+
+def make_passage(ts, eph, *, current, days=3, start=pd.Timestamp("2026-04-14T06:00:00Z"),
+                 lat=38.0, lon=-20.0, plan=None, rounds_per_day=4, vessel="Moth Orchid (invented)"):
+    """(the log as a DataFrame, the true track, the fix times). ``current(t_hours) -> (set, drift)``."""
+    if plan is None:
+        plan = [(start, 250.0, 6.0), (start + pd.Timedelta(hours=20), 235.0, 6.5),
+                (start + pd.Timedelta(hours=47), 260.0, 5.5)]
+    until = start + pd.Timedelta(days=days)
+    track = sail(start, lat, lon, plan, current, until)
+    rows = [{"utc": start.strftime("%Y-%m-%dT%H:%M:%SZ"), "entry": "departure", "dr_lat": lat, "dr_lon": lon,
+             "course": plan[0][1], "speed": plan[0][2], "vessel": vessel}]
+    for when, course, speed in plan[1:]:
+        rows.append({"utc": when.strftime("%Y-%m-%dT%H:%M:%SZ"), "entry": "course", "course": course,
+                     "speed": speed, "vessel": vessel})
+    fix_times = []
+    step = pd.Timedelta(hours=24 / rounds_per_day)
+    when = start + step
+    while when <= until:
+        true_lat, true_lon = position_at(track, when)
+        for sight in star_round(ts, eph, when, true_lat, true_lon):
+            rows.append({"utc": when.strftime("%Y-%m-%dT%H:%M:%SZ"), "body": sight["body"],
+                         "hs": round(sight["hs"], 6), "eye_height_m": 3.0, "fix_group": f"{when:%d %H%M}",
+                         "vessel": vessel})
+        fix_times.append(when)
+        when += step
+    return pd.DataFrame(rows), track, fix_times
+
+
+def mean_current(current, t0_h, t1_h, samples=721):
+    """The current averaged as a vector over [t0, t1] hours: (set, drift)."""
+    t = np.linspace(t0_h, t1_h, samples)
+    sets, drifts = zip(*(current(x) for x in t))
+    n, e = velocity(np.array(sets), np.array(drifts))
+    return float(np.degrees(np.arctan2(e.mean(), n.mean())) % 360.0), float(np.hypot(n.mean(), e.mean()))
+
+
+def steady(t_h):
+    return 60.0, 1.2
+
+
+def turning(t_h):
+    """A current that turns: 1.2 knots, its set veering 4° an hour from 020°."""
+    return (20.0 + 4.0 * t_h) % 360.0, 1.2
+
+
+def main() -> None:
+    from importlib.resources import files
+
+    from skyfield.api import load
+
+    ts = load.timescale(builtin=True)
+    eph = load(str(files("skyfield_data") / "data" / "de421.bsp"))
+    log, track, _ = make_passage(ts, eph, current=steady, rounds_per_day=3)
+    log["remarks"] = "INVENTED demo"
+    log.to_csv(OUT / "passage_log.csv", index=False)
+    track.iloc[::10].assign(utc=track.utc.iloc[::10].dt.strftime("%Y-%m-%dT%H:%M:%SZ")).to_csv(
+        OUT / "passage_truth.csv", index=False)
+    print(f"wrote {OUT / 'passage_log.csv'} and {OUT / 'passage_truth.csv'}")
+
+
+if __name__ == "__main__":
+    main()

@@ -12,8 +12,8 @@ at each known position.
   95 % uncertainty from the two fixes' covariances and the DR's own error over the run.
 - **Estimated positions**: for a fix group of one sight, the foot of the perpendicular from its DR to
   its line; for a line of position or a latitude, the point of the line nearest the DR.
-- **Noon**: 12:00 ship's time (the zone the log's sights keep that day, else the zone of the DR's
-  longitude). The noon position is a fix within an hour of noon, else an estimated position within
+- **Noon**: 12:00 ship's time, the nautical zone of the DR's longitude (the log's own zone
+  descriptions may be a chronometer's kept on Greenwich). The noon position is a fix within an hour of noon, else an estimated position within
   the hour, carried to noon along the DR's velocity; else the DR. The day's run is the rhumb line from
   noon to noon (distance, course and speed made good) beside the distance run through the water.
 """
@@ -73,6 +73,16 @@ class DaysWork:
     tracks: dict[str, VesselTrack] = field(default_factory=dict)
     carry_current: bool = False
 
+    def of_vessel(self, vessel: str) -> tuple[pd.DataFrame, pd.DataFrame, pd.DataFrame, pd.DataFrame]:
+        """One vessel's track points, set and drift, estimated positions and noons (split once, kept)."""
+        if not hasattr(self, "_by_vessel"):
+            def split(frame):
+                return {v: part for v, part in frame.groupby("vessel", sort=False)} if len(frame) else {}
+
+            self._by_vessel = [split(f) for f in (self.track_points, self.set_drift, self.estimated, self.noons)]
+        empty = (self.track_points, self.set_drift, self.estimated, self.noons)
+        return tuple(parts.get(vessel, frame.iloc[:0]) for parts, frame in zip(self._by_vessel, empty))
+
     @property
     def empty(self) -> bool:
         return not len(self.set_drift) and not len(self.estimated) and not len(self.noons)
@@ -88,8 +98,9 @@ NOON_COLUMNS = ["vessel", "date", "zone (h)", "noon (UTC)", "noon position", "no
 
 
 def _fix_vessels(voyage) -> dict[str, str]:
-    reduced = voyage.reduced
-    return {g.name: str(reduced["vessel"].iloc[g.rows[0]]) if len(g.rows) else "" for g in voyage.groups}
+    """Each fix group's vessel (its first sight's)."""
+    vessels = voyage.reduced["vessel"].to_numpy(dtype=object) if len(voyage.reduced) else np.zeros(0, dtype=object)
+    return {g.name: str(vessels[g.rows[0]]) if len(g.rows) else "" for g in voyage.groups}
 
 
 def _changes(voyage, vessel: str):
@@ -129,6 +140,10 @@ def vessel_tracks(voyage, *, carry_current: bool = False) -> dict[str, VesselTra
     entries = voyage.log.entries
     entry_vessel = _entry_vessels(voyage) if len(entries) else np.zeros(0, dtype=object)
     vessels = list(dict.fromkeys(list(fix_vessel.values()) + entry_vessel.tolist()))
+    fixed_by_vessel: dict[str, list] = {}
+    for group in voyage.groups:
+        if group.fix is not None and group.fix.is_fix:
+            fixed_by_vessel.setdefault(fix_vessel[group.name], []).append(group)
     tracks = {}
     for vessel in vessels:
         known = []  # (ns, lat, lon, label, covariance)
@@ -137,11 +152,10 @@ def vessel_tracks(voyage, *, carry_current: bool = False) -> dict[str, VesselTra
             for item in mine.itertuples():
                 known.append((int(utc64(pd.Series([item.utc]))[0].astype(np.int64)), item.lat_deg, item.lon_deg,
                               f"{item.entry} at row {item.row}", np.zeros((2, 2))))
-        for group in voyage.groups:
-            if fix_vessel[group.name] == vessel and group.fix is not None and group.fix.is_fix:
-                fix = group.fix
-                known.append((int(np.datetime64(fix.utc, "ns").astype(np.int64)), fix.lat_deg, fix.lon_deg,
-                              f"fix {group.name}", np.asarray(fix.covariance_nm2, dtype=float)))
+        for group in fixed_by_vessel.get(vessel, []):
+            fix = group.fix
+            known.append((int(np.datetime64(fix.utc, "ns").astype(np.int64)), fix.lat_deg, fix.lon_deg,
+                          f"fix {group.name}", np.asarray(fix.covariance_nm2, dtype=float)))
         if not known:
             continue
         known.sort(key=lambda k: k[0])
@@ -220,6 +234,17 @@ def _position_text(lat, lon) -> str:
     return f"{format_angle(lat, 'lat')} {format_angle(lon, 'lon')}"
 
 
+def _positions_text(lat, lon) -> list[str]:
+    lats = np.atleast_1d(format_angle(np.asarray(lat, dtype=float), "lat"))
+    lons = np.atleast_1d(format_angle(np.asarray(lon, dtype=float), "lon"))
+    return [f"{a} {b}" for a, b in zip(lats.tolist(), lons.tolist())]
+
+
+def _stamps(ns) -> list[str]:
+    text = np.datetime_as_string(np.asarray(ns, dtype=np.int64).astype("datetime64[ns]").astype("datetime64[s]"))
+    return [t.replace("T", " ") for t in text.tolist()]
+
+
 def _stamp(ns) -> str:
     return str(np.datetime64(int(ns), "ns").astype("datetime64[s]")).replace("T", " ")
 
@@ -233,7 +258,10 @@ def _set_drift_rows(vessel: str, track: VesselTrack) -> list[dict]:
     ok, dr_lat, dr_lon, hours, result = detail
     if result is None:
         return rows
-    for j, k in enumerate(np.flatnonzero(ok)):
+    index = np.flatnonzero(ok)
+    fix_text = _positions_text(track.known_lat[index + 1], track.known_lon[index + 1])
+    dr_text = _positions_text(dr_lat[index], dr_lon[index])
+    for j, k in enumerate(index):
         i = k + 1  # the known position the set and drift are found at
         label = track.known_label[i]
         if not label.startswith("fix "):
@@ -242,9 +270,9 @@ def _set_drift_rows(vessel: str, track: VesselTrack) -> list[dict]:
         note = ("the drift does not stand clear of its uncertainty: the set is not determined"
                 if not np.isfinite(set_sigma) else "")
         rows.append({"vessel": vessel, "fix group": label[4:], "fix (UTC)": _stamp(track.known_ns[i]),
-                     "fix": _position_text(track.known_lat[i], track.known_lon[i]),
+                     "fix": fix_text[j],
                      "from": track.known_label[k], "hours": round(float(hours[k]), 2),
-                     "DR at the fix": _position_text(dr_lat[k], dr_lon[k]),
+                     "DR at the fix": dr_text[j],
                      "set (deg)": float(result.set_deg[j]), "set ±95 % (deg)": float(set_sigma),
                      "drift (kn)": float(result.drift_kn[j]), "drift ±95 % (kn)": float(result.drift_95_kn[j]),
                      "note": note, "fix lat (deg)": float(track.known_lat[i]),
@@ -256,9 +284,12 @@ def _set_drift_rows(vessel: str, track: VesselTrack) -> list[dict]:
 def _estimated_positions(voyage, tracks) -> list[dict]:
     reduced = voyage.reduced
     vessels = _fix_vessels(voyage)
+    status = reduced["status"].to_numpy() if len(reduced) else np.zeros(0, dtype=object)
     out = []
     for group in voyage.groups:
-        usable = group.rows[reduced["status"].to_numpy()[group.rows] != "error"]
+        if group.fix is not None and group.fix.is_fix:
+            continue
+        usable = group.rows[status[group.rows] != "error"]
         if group.fix is not None and not group.fix.is_fix:
             fix = group.fix
             out.append({"vessel": vessels[group.name], "fix group": group.name, "UTC": _stamp(
@@ -282,24 +313,16 @@ def _noon_rows(voyage, vessel: str, track: VesselTrack, estimated: list[dict]) -
     sight_ns = utc64(reduced["sight_utc"]).astype(np.int64)[mine] if mine.any() else np.zeros(0, np.int64)
     first = int(track.known_ns[0])
     last = int(max(sight_ns.max() if sight_ns.size else first, track.known_ns[-1]))
-    zd_log = reduced["zone_description_used_h"].to_numpy(dtype=float)[mine] if mine.any() else np.zeros(0)
     # every ship's date from the departure to the last sight (a day before it, for a zone east of Greenwich)
     day0 = np.datetime64(first - 14 * NS_PER_HOUR, "ns").astype("datetime64[D]")
     day1 = np.datetime64(last + 14 * NS_PER_HOUR, "ns").astype("datetime64[D]")
     days = np.arange(day0, day1 + np.timedelta64(1, "D")).astype("datetime64[ns]").astype(np.int64)
-    # the zone: the one the log's zone times keep that day, else the DR longitude's (twice, to settle)
-    zd = np.full(days.size, np.nan)
-    if sight_ns.size and np.isfinite(zd_log).any():
-        sight_day = ((sight_ns - (np.nan_to_num(zd_log) * NS_PER_HOUR).astype(np.int64)) // (24 * NS_PER_HOUR)
-                     * 24 * NS_PER_HOUR)
-        for k, day in enumerate(days):
-            here = np.isfinite(zd_log) & (sight_day == day)
-            if here.any():
-                zd[k] = float(pd.Series(zd_log[here]).mode().iloc[0])
-    guess = np.where(np.isfinite(zd), zd, 0.0)
+    # ship's time is the nautical zone of the DR's longitude at noon (the log's own zone descriptions may be
+    # a chronometer's or a watch's kept on another zone); twice, so that the zone settles
+    guess = np.zeros(days.size)
     for _ in range(2):
         _, lon, _ = track.kept.positions(ship_noon_ns(days, guess))
-        guess = np.where(np.isfinite(zd), zd, np.where(np.isfinite(lon), zone_description_h(lon), guess))
+        guess = np.where(np.isfinite(lon), zone_description_h(lon), guess)
     noon = ship_noon_ns(days, guess)
     inside = (noon >= first) & (noon <= last)
     days, noon, guess = days[inside], noon[inside], guess[inside]
@@ -323,7 +346,7 @@ def _noon_rows(voyage, vessel: str, track: VesselTrack, estimated: list[dict]) -
                 la, lo = rhumb_destination(c[1], c[2], course + (0.0 if hours >= 0 else 180.0),
                                            float(speed) * abs(hours))
                 lat[k], lon[k] = float(la), float(lo)
-                source[k] = f"{c[3]} at {_stamp(c[0])[11:16]} UTC" + (" carried to noon" if hours else "")
+                source[k] = f"{c[3]} at {_stamp(c[0] + 30_000_000_000)[11:16]} UTC" + (" carried to noon" if hours else "")
                 break
     run = days_run(noon, lat, lon)
     through = _water_run_nm(track.water, noon[:-1], noon[1:]) if noon.size > 1 else np.zeros(0)
@@ -357,7 +380,8 @@ def known_label_at(track: VesselTrack, knot: int) -> str:
 
 def _track_points(voyage, vessel: str, track: VesselTrack) -> list[dict]:
     """The DR track as points: every knot, and one an hour between, from the first known position to the last
-    sight, each segment (from one known position to the next) its own leg."""
+    sight, each segment (from one known position to the next) its own leg; at each restart the leg that ends
+    there closes on the DR carried to it."""
     reduced = voyage.reduced
     mine = (reduced["vessel"].to_numpy(dtype=object) == vessel) if len(reduced) else np.zeros(0, dtype=bool)
     last = int(max(utc64(reduced["sight_utc"][mine]).astype(np.int64).max() if mine.any() else 0,
@@ -368,20 +392,24 @@ def _track_points(voyage, vessel: str, track: VesselTrack) -> list[dict]:
     knots = track.kept.knot_ns[(track.kept.knot_ns >= first) & (track.kept.knot_ns <= last)]
     times = np.unique(np.concatenate([hourly, knots, [last]]))
     lat, lon, origin = track.kept.positions(times)
-    rows = []
-    restart_ns = set(track.known_ns.tolist())
-    for t, la, lo, o in zip(times.tolist(), lat.tolist(), lon.tolist(), origin.tolist()):
-        if o < 0:
-            continue
-        if t in restart_ns and rows:
-            # the leg that ends here, then the next begins from the known position
-            b_lat, b_lon, b_origin = track.kept.positions(np.array([t]), before_restart=True)
-            if b_origin[0] >= 0 and b_origin[0] != o:
-                rows.append({"vessel": vessel, "utc": _stamp(t), "lat_deg": float(b_lat[0]), "lon_deg": float(b_lon[0]),
-                             "leg": int(b_origin[0]), "kind": "DR at a known position"})
-        kind = "known position" if t in restart_ns else "DR"
-        rows.append({"vessel": vessel, "utc": _stamp(t), "lat_deg": la, "lon_deg": lo, "leg": int(o), "kind": kind})
-    return rows
+    restart = np.isin(times, track.known_ns) & (times > first)
+    b_lat, b_lon, b_origin = track.kept.positions(times[restart], before_restart=True)
+    closing = b_origin >= 0
+    # the closing points go just before their restart in time order
+    t_all = np.concatenate([times, times[restart][closing]])
+    order_key = np.concatenate([np.ones(times.size), np.zeros(int(closing.sum()))])
+    lat_all = np.concatenate([lat, b_lat[closing]])
+    lon_all = np.concatenate([lon, b_lon[closing]])
+    leg_all = np.concatenate([origin, b_origin[closing]])
+    kind_all = np.concatenate([np.where(np.isin(times, track.known_ns), "known position", "DR"),
+                               np.full(int(closing.sum()), "DR at a known position")]).astype(object)
+    order = np.lexsort((order_key, t_all))
+    keep = leg_all[order] >= 0
+    order = order[keep]
+    stamps = _stamps(t_all[order])
+    return [{"vessel": vessel, "utc": u, "lat_deg": float(a), "lon_deg": float(b), "leg": int(g), "kind": k}
+            for u, a, b, g, k in zip(stamps, lat_all[order].tolist(), lon_all[order].tolist(),
+                                     leg_all[order].tolist(), kind_all[order].tolist())]
 
 
 __all__ = ["DaysWork", "VesselTrack", "days_work", "vessel_tracks", "known_label_at", "NOON_WINDOW_HOURS", "SET_DRIFT_COLUMNS",

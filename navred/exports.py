@@ -77,6 +77,8 @@ def write_gpx(voyage: VoyageResult, path: str | Path) -> Path:
         ET.SubElement(track, f"{{{GPX_NAMESPACE}}}name").text = f"DR track {vessel}".strip()
         ET.SubElement(track, f"{{{GPX_NAMESPACE}}}type").text = "DR"
         for _, leg in part.groupby("leg", sort=False):
+            if len(leg) < 2:
+                continue  # a known position the log ends at: no leg from it yet
             segment = ET.SubElement(track, f"{{{GPX_NAMESPACE}}}trkseg")
             for r in leg.to_dict("records"):
                 point = ET.SubElement(segment, f"{{{GPX_NAMESPACE}}}trkpt", {"lat": f"{r['lat_deg']:.6f}",

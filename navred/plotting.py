@@ -389,11 +389,9 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
 
     vessels = list(days.tracks)
     vessel = vessel if vessel is not None else (vessels[0] if vessels else "")
-    points = days.track_points[days.track_points.vessel == vessel]
-    fixes = days.set_drift[days.set_drift.vessel == vessel]
+    points, fixes, estimated, noons = days.of_vessel(vessel)
+    noons = noons[np.isfinite(noons["lat (deg)"].astype(float))]
     track = days.tracks.get(vessel)
-    estimated = days.estimated[days.estimated.vessel == vessel]
-    noons = days.noons[(days.noons.vessel == vessel) & np.isfinite(days.noons["lat (deg)"].astype(float))]
     lats = np.concatenate([points.lat_deg.to_numpy(float), estimated["lat (deg)"].to_numpy(float),
                            track.known_lat if track is not None else []])
     lons = np.concatenate([points.lon_deg.to_numpy(float), estimated["lon (deg)"].to_numpy(float),
@@ -421,7 +419,6 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
     def page(x, y):
         return (ax0 + ax1) / 2.0 + (np.asarray(x) - cx) * per_nm, (ay0 + ay1) / 2.0 - (np.asarray(y) - cy) * per_nm
 
-    area = (ax0, ay0, ax1, ay1)
     # the grid: degrees and minutes of latitude and longitude
     half_w, half_h = (ax1 - ax0) / 2.0 / per_nm, (ay1 - ay0) / 2.0 / per_nm
     step = _grid_step(2 * max(half_w, half_h))
@@ -436,17 +433,21 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
         sheet.line([float(px), float(px)], [ay0, ay1], GRID, 0.6)
         sheet.text(float(px), ay1 + 6, format_angle(float(value), "lon"), 7, INK, anchor="end", baseline="top",
                    rotation=30)
-    # the DR legs, one per known position
-    for _, leg in points.groupby("leg", sort=False):
-        px, py = page(*plane(leg.lat_deg.to_numpy(float), leg.lon_deg.to_numpy(float)))
-        sheet.line(px.tolist(), py.tolist(), INK, 1.1, dash=(5.0, 3.0), clip=area)
+    # the DR legs, one per known position (the sheet is drawn to hold every point: nothing to clip)
+    legs = points.leg.to_numpy()
+    px_all, py_all = page(*plane(points.lat_deg.to_numpy(float), points.lon_deg.to_numpy(float)))
+    cuts = np.flatnonzero(np.diff(legs) != 0) + 1
+    for xs_leg, ys_leg in zip(np.split(px_all, cuts), np.split(py_all, cuts)):
+        if xs_leg.size >= 2:
+            sheet.line(xs_leg.tolist(), ys_leg.tolist(), INK, 1.1, dash=(5.0, 3.0))
     # the fixes and their ellipses; the set and drift arrows
     arrow_nm = 0.06 * max(width_nm, height_nm) / 1.0  # an arrow this long stands for one knot
     if track is not None:
         for lat, lon, label, cov in zip(track.known_lat, track.known_lon, track.known_label, track.known_cov):
             fx, fy = (float(v) for v in page(*plane(lat, lon)))
             if label.startswith("fix "):
-                if np.all(np.isfinite(cov)) and np.trace(cov) > 0:
+                # the ellipse where it shows (a fleet's tiny ellipses on a chart of a thousand miles are dots)
+                if np.all(np.isfinite(cov)) and np.trace(cov) > 0 and 2.45 * math.sqrt(np.trace(cov)) * per_nm > 1.5:
                     values, vectors = np.linalg.eigh(cov)
                     scale = math.sqrt(5.991)  # chi-square(2) 95 %
                     t = np.linspace(0, 2 * np.pi, 48)
@@ -478,7 +479,7 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
     for n in noons.to_dict("records"):
         px, py = (float(v) for v in page(*plane(n["lat (deg)"], n["lon (deg)"])))
         sheet.circle(px, py, 3.2, fill=INK)
-        sheet.text(px + 6, py - 6, f"noon {n['date'][5:]}", 7, INK, box=PAPER)
+        sheet.text(px + 7, py + 13, f"noon {n['date'][5:]}", 7, INK)
     sheet.line([ax0, ax1, ax1, ax0, ax0], [ay0, ay0, ay1, ay1, ay0], INK, 0.8)
     # the key, the scale bar and the north arrow
     key_y = SHEET_PT - 16

@@ -167,6 +167,19 @@ def _source(paths: list[str]):
     return paths[0] if len(paths) == 1 else list(paths)
 
 
+_RATES_HELP = ("A rating log of time signals (utc, reading, timepiece): a sight kept in zone time with no watch_error "
+               "takes its timepiece's predicted error (docs/timepieces.md).")
+
+
+def _ratings(rates: str | None):
+    """The rating log given with --rates, read and fitted (None without one)."""
+    if not rates:
+        return None
+    from .timesignals import read_rating_log
+
+    return read_rating_log(rates)
+
+
 def _reduced(log):
     """The log's sights reduced; a DR carried along the log's track is carried from the last fix before the
     sight, as every command that fixes carries it (navred.voyage.process_log), so that the intercepts agree."""
@@ -189,6 +202,7 @@ def _labels(reduced):
 def reduce_command(
     sights_files: list[str] = typer.Argument(..., metavar="SIGHTS...", help=_SIGHTS_HELP),
     csv: bool = typer.Option(False, "--csv", help="Print every column of every sight (reduced or not) as CSV."),
+    rates: str | None = typer.Option(None, "--rates", help=_RATES_HELP),
     dates: str | None = typer.Option(None, "--dates", help=_DATES_HELP),
 ) -> None:
     """Reduce every sight: Ho, Hc, Zn and the intercept TOWARD or AWAY, with any warning.
@@ -207,11 +221,12 @@ def reduce_command(
             from .logbook import read_sight_log_blocks
             from .output import csv_text
 
-            for k, block in enumerate(read_sight_log_blocks(_source(sights_files), dates=dates)):
+            ratings = _ratings(rates)
+            for k, block in enumerate(read_sight_log_blocks(_source(sights_files), dates=dates, rates=ratings)):
                 sys.stdout.write(csv_text(_reduced(block), header=k == 0))
             sys.stdout.flush()
             return
-        log = read_sight_log(_source(sights_files), dates=dates)
+        log = read_sight_log(_source(sights_files), dates=dates, rates=_ratings(rates))
         reduced = _reduced(log)
         labels = [label.removeprefix("row ") for label in _labels(reduced)]
         width = max([len(x) for x in labels] + [3])
@@ -346,6 +361,7 @@ def fix_command(
     group: str | None = typer.Option(None, "--group", help="Fix only this fix group."),
     solve_motion: bool = typer.Option(False, "--solve-motion", help="Also solve course and speed made good, when the sights allow."),
     csv: bool = typer.Option(False, "--csv", help="Print one line per fix group as CSV (decimal degrees)."),
+    rates: str | None = typer.Option(None, "--rates", help=_RATES_HELP),
     dates: str | None = typer.Option(None, "--dates", help=_DATES_HELP),
 ) -> None:
     """Least-squares fix of every fix group: position, 95 % ellipse, residuals and flags.
@@ -370,7 +386,8 @@ def fix_command(
                 raise NavredError(f"--at: {exc}") from None
         if (lat is None) != (lon is None):
             raise NavredError("give both --chart-lat and --chart-lon, or neither")
-        voyage = process_log(_source(sights_files), dates=dates, solve_motion=solve_motion, plan=False, at_utc=at)
+        voyage = process_log(_source(sights_files), dates=dates, solve_motion=solve_motion, plan=False, at_utc=at,
+                             rates=_ratings(rates))
         names = [g.name for g in voyage.groups]
         if group is not None:
             voyage.group(group)  # refuses an unknown group, naming the log's groups
@@ -414,6 +431,7 @@ def workbook_command(
     strict: bool = typer.Option(False, "--strict", help="Exit 1 if any row was rejected."),
     solve_motion: bool = typer.Option(False, "--solve-motion", help="Also solve course and speed made good where the sights allow."),
     carry_current: bool = typer.Option(False, "--carry-current", help="Carry the set and drift found at each fix on in the DR until the next fix."),
+    rates: str | None = typer.Option(None, "--rates", help=_RATES_HELP),
     dates: str | None = typer.Option(None, "--dates", help=_DATES_HELP),
 ) -> None:
     """The whole job: read and check the logs, reduce every sight, fix every group, write the workbook.
@@ -444,7 +462,8 @@ def workbook_command(
             plots = str(target.with_name(target.name.removesuffix(".xlsx") + "-plots"))
         if plots and Path(plots).exists() and not Path(plots).is_dir():
             raise NavredError(f"--plots {plots}: that is a file; give a folder for the plotting sheets")
-        log = read_sight_log(_source(sights_files), dates=dates)
+        ratings = _ratings(rates)
+        log = read_sight_log(_source(sights_files), dates=dates, rates=ratings)
         check_fits(len(log.table))
         for path in (target, gpx, geojson):
             if path:
@@ -458,7 +477,8 @@ def workbook_command(
                 bar.__enter__()
             bar.update(done - bar.pos)
 
-        voyage = process_log(log, solve_motion=solve_motion, progress=progress, carry_current=carry_current)
+        voyage = process_log(log, solve_motion=solve_motion, progress=progress, carry_current=carry_current,
+                             rates=ratings)
         if bar is not None:
             bar.__exit__(None, None, None)
         chosen = Pictures(embed=pictures == "embed", folder=plots)
@@ -931,6 +951,7 @@ def days_command(
     carry_current: bool = typer.Option(False, "--carry-current", help="Carry the set and drift found at each fix on in the DR until the next fix."),
     csv: bool = typer.Option(False, "--csv", help="Print the noon positions and the day's run as CSV."),
     picture: str | None = typer.Option(None, "--picture", help="Draw the voyage (DR legs, fixes, set and drift, noons) to this file (.png or .svg)."),
+    rates: str | None = typer.Option(None, "--rates", help=_RATES_HELP),
     dates: str | None = typer.Option(None, "--dates", help=_DATES_HELP),
 ) -> None:
     """The day's work: the noon positions and the day's run, the set and drift at each fix, the estimated
@@ -946,7 +967,8 @@ def days_command(
             check_output(picture, sights_files)
             if not picture.lower().endswith((".png", ".svg")):
                 raise NavredError(f"--picture {picture}: give a file ending .png or .svg")
-        voyage = process_log(_source(sights_files), dates=dates, plan=False, carry_current=carry_current)
+        voyage = process_log(_source(sights_files), dates=dates, plan=False, carry_current=carry_current,
+                             rates=_ratings(rates))
         days = voyage.days_work()
         if csv:
             sys.stdout.write(csv_text(days.noons))
@@ -989,6 +1011,33 @@ def days_command(
             written = atomic_write(picture, lambda p: open(p, "wb").write(data), inputs=voyage.log.sources)
             typer.echo(f"wrote {written}" + (f" (the first of {len(vessels)} vessels)" if len(vessels) > 1 else ""),
                        err=csv)
+
+
+@app.command("rate")
+def rate_command(
+    rating_logs: list[str] = typer.Argument(..., metavar="RATING_LOG...", help="Time-signal comparisons: CSV or .xlsx with utc (the signal), reading (the timepiece at it), and timepiece and zone_description where needed."),
+    csv: bool = typer.Option(False, "--csv", help="Print every comparison with its error and residual as CSV."),
+) -> None:
+    """Each timepiece's error and daily rate from time signals, by least squares, with the rate's 95 %
+    interval, and a flag when the rate has changed.
+
+    Example:  navred rate sample_sights/passage_time_signals.csv
+    """
+    from .output import csv_text
+
+    with _reported():
+        ratings = _ratings(rating_logs if len(rating_logs) > 1 else rating_logs[0])
+        if csv:
+            import pandas as pd
+
+            frames = [p.comparisons.assign(signal_utc=p.comparisons.signal_utc.dt.strftime("%Y-%m-%dT%H:%M:%SZ"))
+                      for p in ratings.timepieces.values()]
+            sys.stdout.write(csv_text(pd.concat(frames, ignore_index=True)))
+            return
+        for piece in ratings.timepieces.values():
+            typer.echo(piece.summary())
+        for r in ratings.rejected.itertuples():
+            typer.echo(f"not read: row {r.row} of {r.source}: {r.column}: {r.reason}")
 
 
 @app.command("route")

@@ -63,6 +63,8 @@ class VoyageResult:
     cache: dict = field(default_factory=dict, repr=False, compare=False)
     #: the set and drift found at each fix carried on in the DR (process_log's option)
     carry_current: bool = False
+    #: the timepieces' rating (navred.timesignals.Ratings) when a rating log was given
+    ratings: object | None = None
 
     def days_work(self):
         """The day's work of the voyage (navred.dayswork): set and drift, estimated positions, noons, the DR
@@ -106,7 +108,7 @@ class VoyageResult:
 
 def process_log(source: object, *, dates: str | None = None, solve_motion: bool = False,
                 progress: Callable[[int, int], None] | None = None, plan: bool = True,
-                at_utc: object | None = None, carry_current: bool = False) -> VoyageResult:
+                at_utc: object | None = None, carry_current: bool = False, rates: object | None = None) -> VoyageResult:
     """Read sight logs and do the whole job; every input row ends up reduced or rejected.
 
     ``source`` is anything :func:`navred.read_sight_log` takes (a file, a list of files, a
@@ -115,9 +117,10 @@ def process_log(source: object, *, dates: str | None = None, solve_motion: bool 
     plan the next twilight. ``at_utc``: the time of every fix (default: each group's last sight).
     A sight whose DR the reader carried along the log's track gets it again from the last fix
     before it (each fix restarts the DR; ``carry_current`` carries the set and drift found at
-    each fix on in the DR).
+    each fix on in the DR). ``rates`` (a :class:`navred.timesignals.Ratings`) predicts the watch
+    error of sights kept in zone time without one; it is kept for the workbook's Timepieces sheet.
     """
-    log = source if isinstance(source, SightLog) else read_sight_log(source, dates=dates)
+    log = source if isinstance(source, SightLog) else read_sight_log(source, dates=dates, rates=rates)
     reduced = _reduce_with_progress(log, progress)
     if len(reduced):
         for column, values in series_columns(reduced).items():
@@ -154,6 +157,9 @@ def process_log(source: object, *, dates: str | None = None, solve_motion: bool 
                             + ("; the set and drift found at each fix carried on" if carry_current else ""))
     result = VoyageResult(", ".join(log.sources), log, reduced, rejected, groups, provenance)
     result.carry_current = carry_current
+    result.ratings = rates
+    if rates is not None:
+        provenance["timepieces"] = "; ".join(p.summary() for p in rates.timepieces.values())
     if plan:
         result.next_events, result.next_plan = _next_twilight_plan(result)
     return result
@@ -183,7 +189,13 @@ def _restart_dr_at_fixes(log: SightLog, reduced: pd.DataFrame, groups: list[Grou
         rows = carried[vessels[carried] == vessel]
         if not rows.size:
             continue
-        t_lat, t_lon, origin = track.kept.positions(when[rows])
+        # a sight at the very instant of a fix is one of the sights that make it: its DR is the one carried
+        # up to that instant, not the fix itself (but a sight at the departure's instant starts from it)
+        t_lat, t_lon, origin = track.kept.positions(when[rows], before_restart=True)
+        at_start = origin < 0
+        if at_start.any():
+            s_lat, s_lon, s_origin = track.kept.positions(when[rows][at_start])
+            t_lat[at_start], t_lon[at_start], origin[at_start] = s_lat, s_lon, s_origin
         found = origin >= 0
         lat[rows[found]], lon[rows[found]] = t_lat[found], t_lon[found]
         note[rows[found]] = [f"carried from the {known_label_at(track, o)}" for o in origin[found]]

@@ -122,6 +122,12 @@ def working_table(voyage) -> pd.DataFrame:
                                  ("phase_angle_deg", "phase angle (deg)", "phase (′)")):
         if np.isfinite(r[column].to_numpy(dtype=float)).any():
             table.insert(table.columns.get_loc(after), label, r[column].to_numpy(dtype=float))
+    rated = r.watch_error_from.astype(str).to_numpy()
+    if ((rated != "") & (rated != "given")).any():
+        table.insert(table.columns.get_loc("watch error (s, fast +)") + 1, "watch error from", rated)
+    carried = r.dr_carried_from.astype(str).to_numpy()
+    if (carried != "").any():
+        table.insert(table.columns.get_loc("DR lon (° ′)") + 1, "DR", np.where(carried != "", carried, "as given"))
     if not (r.time_given == "zone time").any() and not (r.watch_error_applied_s != 0).any():
         table = table.drop(columns=["watch error (s, fast +)", "zone date", "zone time", "ZD (h)"])
     # the log's own extra columns (a cadet's note, a sight number...) ride along at the end
@@ -406,6 +412,9 @@ def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool | Pict
                    "curve, the scatter, the flagged sights and the best sight to carry into the fix, with a plot"),
         ("Sight plan", "the next twilight after the last fix: bodies to shoot with Hc to preset and Zn, the "
                        "recommended set and why, and a picture of the sky"),
+        ("Timepieces", "present when a rating log of time signals was given: each timepiece's error and daily "
+                       "rate by least squares with the rate's 95 % interval, a flag when the rate has changed, every "
+                       "comparison with its residual"),
         ("Day's work", "present when the DR can be kept (a departure entry, or fixes and the sights' courses and "
                        "speeds): the noon positions and the day's run, the set and drift at each fix against the DR "
                        "carried through the water from the fix before (with its 95 % uncertainty), the estimated "
@@ -440,6 +449,8 @@ def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool | Pict
     days = voyage.days_work()
     if not days.empty:
         _write_days_sheet(tables, book.create_sheet("Day's work"), days, pictures)
+    if getattr(voyage, "ratings", None) is not None:
+        _write_timepieces_sheet(tables, book.create_sheet("Timepieces"), voyage)
 
     fixed = [group for group in voyage.groups if group.fix is not None]
     shown = fixed[:pictures.limit] if pictures.embed else []
@@ -465,6 +476,30 @@ def fit_pages(book, tables: TableWriter | None = None) -> None:
         sheet.sheet_properties.pageSetUpPr.fitToPage = True
         sheet.page_setup.fitToWidth = 1
         sheet.page_setup.fitToHeight = 0
+
+
+def _write_timepieces_sheet(tables: TableWriter, sheet, voyage) -> None:
+    """Each timepiece: its error and rate, the rate-change test, its comparisons with their residuals, and how
+    many sights took their error from it."""
+    from openpyxl.styles import Font
+
+    ratings = voyage.ratings
+    used = voyage.reduced["watch_error_from"].astype(str) if len(voyage.reduced) else pd.Series(dtype=str)
+    line = 1
+    for name, piece in ratings.timepieces.items():
+        sheet.cell(row=line, column=1, value=f"Timepiece: {name or '(the one rated)'}").font = Font(bold=True)
+        write_text_safe(sheet.cell(row=line + 1, column=1), piece.summary())
+        count = int(used.str.startswith(f"{name or 'the timepiece'} rated").sum())
+        sheet.cell(row=line + 2, column=1, value=f"{count} sight(s) of this log took their watch error from this rating")
+        line += 4
+        frame = piece.comparisons.assign(signal_utc=piece.comparisons.signal_utc.dt.strftime("%Y-%m-%d %H:%M:%S"))
+        frame = frame.rename(columns={"signal_utc": "signal (UTC)", "zone_description_h": "zone (h)",
+                                      "error_s": "error (s, fast +)", "residual_s": "residual (s)"})
+        write_table_sheet(tables, sheet, frame, first_row=line)
+        line += len(frame) + 3
+    if len(ratings.rejected):
+        sheet.cell(row=line, column=1, value="Comparisons not read").font = Font(bold=True)
+        write_table_sheet(tables, sheet, ratings.rejected, first_row=line + 1, wide={"reason": 90})
 
 
 def _write_days_sheet(tables: TableWriter, sheet, days, pictures: Pictures) -> None:

@@ -288,3 +288,48 @@ def _write_workings(path, rows):
 
 
 CLEAN_MARKS = _clean_marks()
+
+
+# --- the rating log of time signals, mutated ---------------------------------------------------------
+
+_SIGNALS = [{"timepiece": "Chrono A", "utc": f"2026-03-{20 + k:02d}T12:00:00Z", "reading": f"12:00:{3 + 0.5 * k:04.1f}",
+             "zone_description": "0"} for k in range(8)]
+_SIGNAL_EDITS = st.lists(st.tuples(st.integers(0, len(_SIGNALS) - 1), st.sampled_from(list(_SIGNALS[0])), _CELLS),
+                         min_size=1, max_size=5)
+
+
+@settings(max_examples=60, derandomize=True, deadline=None, database=None, phases=_NO_SHRINK,
+          suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow,
+                                 HealthCheck.data_too_large])
+@given(_SIGNAL_EDITS)
+def test_mutated_rating_logs_keep_or_refuse_every_row_with_a_reason(tmp_path_factory, edits):
+    """Hostile cells in a rating log: every comparison is read or refused by row and column with a reason (or the
+    whole file refused in one line when nothing can be read), and untouched rows keep their errors."""
+    from navred.timesignals import read_rating_log
+
+    rows = [dict(r) for r in _SIGNALS]
+    touched = set()
+    for i, column, cell in edits:
+        rows[i][column] = cell
+        touched.add(i)
+    path = tmp_path_factory.mktemp("signals") / "signals.csv"
+    _write_workings(path, rows)
+    try:
+        ratings = read_rating_log(path)
+    except LogbookError as exc:
+        assert "\n" not in str(exc) and len(str(exc)) > 10
+        return
+    read = pd.concat([p.comparisons for p in ratings.timepieces.values()], ignore_index=True)
+    rejected_rows = set(ratings.rejected.row)
+    assert set(read.row) | rejected_rows == {i + 2 for i in range(len(rows))} - _blank_rows(rows)
+    assert not set(read.row) & rejected_rows
+    assert ratings.rejected.reason.map(lambda r: isinstance(r, str) and len(r) > 5).all()
+    assert ratings.rejected.column.map(lambda c: isinstance(c, str) and len(c) > 0).all()
+    clean = {i + 2: 3 + 0.5 * i for i in range(len(rows)) if i not in touched}
+    kept = read[read.row.isin(clean)]
+    assert np.allclose(kept.error_s, [clean[r] for r in kept.row])
+
+
+def _blank_rows(rows) -> set[int]:
+    """Rows left wholly blank by the edits: skipped by the reader as empty rows."""
+    return {i + 2 for i, r in enumerate(rows) if all(not str(v).strip() for v in r.values())}

@@ -1,0 +1,253 @@
+"""The sea routine: the DR kept from entry rows, set and drift, estimated positions, noons and the day's run.
+
+The references: passages sailed in scripts/make_passage.py's own code (fourth-order Runge-Kutta along
+the WGS 84 ellipsoid's radii of curvature, Bowditch / Snyder, with a known current) and noise-free star
+sights from skyfield at the true positions (tests/conftest.py); geographiclib (a geodesy library) for
+distances and azimuths on the ellipsoid.
+"""
+
+from __future__ import annotations
+
+import io
+import json
+import sys
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+from geographiclib.geodesic import Geodesic
+
+from navred import read_sight_log
+from navred.reckoning import dr_track
+from navred.voyage import process_log
+
+sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "scripts"))
+import make_passage as passage  # noqa: E402  (sails the ship outside navred)
+
+START = pd.Timestamp("2026-04-14T07:00:00Z")  # rounds at 13:00, 19:00, 01:00 and 07:00 UTC: 13:00 is noon in zone +1
+GEOD = Geodesic.WGS84
+NM = 1852.0
+
+
+@pytest.fixture(scope="module")
+def steady(ts, eph):
+    """Three days at 6 knots with a current of 1.2 kn setting 060°, fixed four times a day."""
+    return passage.make_passage(ts, eph, current=passage.steady, start=START, lat=38.0, lon=-10.0)
+
+
+@pytest.fixture(scope="module")
+def turning(ts, eph):
+    """The same passage with a current of 1.2 kn whose set veers 4° an hour."""
+    return passage.make_passage(ts, eph, current=passage.turning, start=START, lat=38.0, lon=-10.0)
+
+
+def _hours(stamp: str) -> float:
+    return (pd.Timestamp(stamp).tz_localize("UTC") - START).total_seconds() / 3600.0
+
+
+@pytest.mark.parametrize("which", ["steady", "turning"])
+def test_set_and_drift_of_a_known_current(which, request):
+    """Set within 3° and drift within 0.05 kn of the current the ship was sailed in (for the turning current,
+    its vector mean over the six hours between fixes), from noise-free skyfield star fixes."""
+    log, _, fix_times = request.getfixturevalue(which)
+    current = passage.steady if which == "steady" else passage.turning
+    days = process_log(log, plan=False).days_work()
+    table = days.set_drift
+    assert len(table) == len(fix_times) == 12
+    for row in table.to_dict("records"):
+        end = _hours(row["fix (UTC)"])
+        true_set, true_drift = passage.mean_current(current, end - row["hours"], end)
+        assert abs((row["set (deg)"] - true_set + 180) % 360 - 180) <= 3.0, (row, true_set)
+        assert abs(row["drift (kn)"] - true_drift) <= 0.05, (row, true_drift)
+        # the stated 95 % uncertainty holds the truth, and is dominated by the DR's own error model
+        assert abs(row["drift (kn)"] - true_drift) <= row["drift ±95 % (kn)"]
+        assert 0.3 < row["drift ±95 % (kn)"] < 2.0
+
+
+def test_the_days_run_matches_the_true_track(steady):
+    """Noon (12:00 in zone +1, 13:00 UTC) is a fix time: the noon positions are the true ones to the fixes'
+    accuracy, and the day's run matches the rhumb line between the true noon positions: its distance from
+    the meridian arc (geographiclib along the meridian) over cos C, its course from the meridional parts
+    (Snyder, Map Projections: A Working Manual, eq. 7-7 in its log-tangent form)."""
+    log, track, _ = steady
+    noons = process_log(log, plan=False).days_work().noons
+    assert list(noons["date"]) == ["2026-04-14", "2026-04-15", "2026-04-16"]
+    assert (noons["zone (h)"] == 1.0).all() and (noons["noon (UTC)"].str.endswith("13:00:00")).all()
+    assert noons["noon from"].str.startswith("fix").all()
+    truth = [passage.position_at(track, pd.Timestamp(f"{d}T13:00:00Z")) for d in noons["date"]]
+    for (lat, lon), row in zip(truth, noons.to_dict("records")):
+        off = GEOD.Inverse(lat, lon, row["lat (deg)"], row["lon (deg)"])["s12"] / NM
+        assert off < 0.1, (row["date"], off)
+    e = np.sqrt(passage.E2)
+
+    def psi(lat):  # Snyder eq. 7-7: ln[tan(π/4 + φ/2) ((1 − e sin φ)/(1 + e sin φ))^(e/2)]
+        p = np.radians(lat)
+        return np.log(np.tan(np.pi / 4 + p / 2) * ((1 - e * np.sin(p)) / (1 + e * np.sin(p))) ** (e / 2))
+
+    for k in (1, 2):
+        (lat1, lon1), (lat2, lon2) = truth[k - 1], truth[k]
+        course = np.degrees(np.arctan2(np.radians(lon2 - lon1), psi(lat2) - psi(lat1))) % 360
+        meridian = GEOD.Inverse(lat1, 0.0, lat2, 0.0)["s12"] * np.sign(lat2 - lat1)
+        distance = meridian / np.cos(np.radians(course)) / NM
+        row = noons.iloc[k]
+        assert row["run (nm)"] == pytest.approx(distance, abs=0.2)
+        assert row["course made good (deg)"] == pytest.approx(course, abs=0.1)
+        assert row["speed made good (kn)"] == pytest.approx(distance / 24.0, abs=0.01)
+        assert row["hours"] == 24.0
+        # through the water: the plan's speeds over the day (the log gives them), common practice
+        assert 130 < row["through the water (nm)"] < 160
+
+
+def test_the_dr_agrees_with_an_integration_along_the_ellipsoid_over_a_day_at_60_north():
+    """navred's DR track through three changes of course and speed, against scripts/make_passage.py's
+    Runge-Kutta integration of the same legs (the ellipsoid's radii of curvature), within 0.01 nm."""
+    start = pd.Timestamp("2026-01-10T00:00:00Z")
+    plan = [(start, 45.0, 12.0), (start + pd.Timedelta(hours=6), 100.0, 10.0),
+            (start + pd.Timedelta(hours=13), 300.0, 8.0), (start + pd.Timedelta(hours=19), 181.0, 14.0)]
+    truth = passage.sail(start, 60.0, 5.0, plan, lambda t: (0.0, 0.0), start + pd.Timedelta(hours=24))
+    when = truth.utc.iloc[::30]
+    track = dr_track([t.value for t, _, _ in plan], [c for _, c, _ in plan], [s for _, _, s in plan], [start.value],
+                     [60.0], [5.0])
+    lat, lon, _ = track.positions(when.dt.as_unit("ns").astype("int64").to_numpy())
+    for (a, b), la, lo in zip(zip(truth.lat.iloc[::30], truth.lon.iloc[::30]), lat, lon):
+        assert GEOD.Inverse(a, b, la, lo)["s12"] / NM < 0.01
+
+
+def test_a_dr_is_carried_from_the_departure_and_then_from_each_fix(steady, tmp_path):
+    """A sight with no DR gets one from the track, marked; after the first fix it is carried from that fix
+    along the courses and speeds (checked against make_passage's own integration with no current)."""
+    log, track, fix_times = steady
+    log.to_csv(tmp_path / "passage.csv", index=False)
+    read = read_sight_log(tmp_path / "passage.csv")
+    assert (read.table["dr_carried_from"] == "carried from the departure at row 2").all()
+    voyage = process_log(read, plan=False)
+    after = voyage.reduced[voyage.reduced["sight_utc"] == fix_times[1]]
+    assert (after["dr_carried_from"] == f"carried from the fix {fix_times[0]:%d %H%M}").all()
+    fix = voyage.group(f"{fix_times[0]:%d %H%M}").fix
+    carried = passage.sail(fix_times[0], fix.lat_deg, fix.lon_deg, [(fix_times[0], 250.0, 6.0)],
+                           lambda t: (0.0, 0.0), fix_times[1])
+    distance = GEOD.Inverse(carried.lat.iloc[-1], carried.lon.iloc[-1], after["dr_lat_deg"].iloc[0],
+                            after["dr_lon_deg"].iloc[0])["s12"] / NM
+    assert distance < 0.01
+
+
+def test_carrying_the_current_brings_the_dr_to_the_next_fix(steady):
+    """With --carry-current the set and drift found at a fix ride on in the DR: the DR at the next fix falls
+    within a mile of it, where the DR through the water alone is the current's 7 miles away."""
+    log, _, _ = steady
+    plain = process_log(log, plan=False).days_work()
+    carried = process_log(log, plan=False, carry_current=True).days_work()
+    # set and drift are the whole current either way (found against the DR through the water)
+    assert np.allclose(plain.set_drift["drift (kn)"], carried.set_drift["drift (kn)"])
+    track = carried.tracks[next(iter(carried.tracks))]
+    lat, lon, _ = track.kept.positions(track.known_ns[2:], before_restart=True)
+    water_lat, water_lon, _ = track.water.positions(track.known_ns[2:], before_restart=True)
+    for k in range(lat.size):
+        kept = GEOD.Inverse(lat[k], lon[k], track.known_lat[k + 2], track.known_lon[k + 2])["s12"] / NM
+        water = GEOD.Inverse(water_lat[k], water_lon[k], track.known_lat[k + 2], track.known_lon[k + 2])["s12"] / NM
+        assert kept < 1.0 and water > 6.0
+
+
+def test_one_sight_gives_an_estimated_position_at_the_foot_of_the_perpendicular(ts, eph):
+    """The EP is the intercept along Zn from the DR (common practice); geographiclib measures it: its distance
+    from the DR is the intercept and its bearing Zn (or the reciprocal, for AWAY)."""
+    from tests.conftest import skyfield_sight
+
+    sight = skyfield_sight(ts, eph, "Sun", pd.Timestamp("2026-04-14T10:00:00Z"), 38.1, -11.0, limb="lower")
+    log = pd.DataFrame([{"utc": "2026-04-14T10:00:00Z", "body": "Sun", "limb": "lower", "hs": sight["hs"],
+                         "eye_height_m": 3.0, "dr_lat": 38.0, "dr_lon": -10.8}])
+    voyage = process_log(log, plan=False)
+    ep = voyage.days_work().estimated
+    assert len(ep) == 1
+    row = voyage.reduced.iloc[0]
+    measured = GEOD.Inverse(38.0, -10.8, ep["lat (deg)"].iloc[0], ep["lon (deg)"].iloc[0])
+    assert measured["s12"] / NM == pytest.approx(abs(row.intercept_nm), rel=0.006)  # the sphere against the ellipsoid
+    bearing = row.zn_deg if row.intercept_nm >= 0 else (row.zn_deg + 180) % 360
+    assert abs((measured["azi1"] - bearing + 180) % 360 - 180) < 0.5
+
+
+def test_entry_rows_are_read_by_the_log_reader_and_refused_with_reasons(tmp_path):
+    path = tmp_path / "log.csv"
+    path.write_text(
+        "utc,entry,body,hs,eye_height_m,dr_lat,dr_lon,course,speed,set,drift\n"
+        "2026-04-14T06:00:00Z,departure,,,,38 00.0 N,010 00.0 W,250,6,,\n"       # 2
+        "2026-04-14T05:00:00Z,,Sun,20 00.0,3,,,,,,\n"                             # 3 before the departure
+        "2026-04-14T08:00:00Z,course,,,,,,,,,\n"                                  # 4 a course entry with nothing
+        "2026-04-14T08:30:00Z,current,,,,,,,,060,\n"                              # 5 a set with no drift
+        "2026-04-14T09:00:00Z,position,Sun,20 00.0,3,38 00.0 N,010 30.0 W,,,,\n"  # 6 a sight on an entry row
+        "2026-04-14T09:30:00Z,sideways,,,,,,,,,\n"                                # 7 not an entry navred knows
+        "2026-04-14T10:00:00Z,,Sun,40 00.0,3,,,,,060,1\n"                         # 8 a current on a sight
+        "2026-04-14T11:00:00Z,,Sun,45 00.0,3,,,,,,\n")                            # 9 carried
+    log = read_sight_log(path)
+    reasons = log.rejected.groupby("row").reason.agg(" | ".join)
+    assert "before the log's first departure" in reasons[3]
+    assert "a course entry needs a course, a speed or both" in reasons[4]
+    assert "set is given without drift" in reasons[5]
+    assert "an entry row holds no sight" in reasons[6]
+    assert "entry 'sideways' is not one navred knows" in reasons[7]
+    assert "a current is given on an entry row" in reasons[8]
+    assert list(log.entries.row) == [2]
+    good = log.sights.set_index("row")
+    assert good.loc[9, "dr_carried_from"] == "carried from the departure at row 2"
+    assert good.loc[9, "course_deg"] == 250.0 and good.loc[9, "speed_kn"] == 6.0  # in force, for the run
+    # every row is a sight, an entry, or rejected with its reasons
+    assert sorted(set(log.table.row) | set(log.entries.row)) == list(range(2, 10))
+
+
+def test_every_command_gives_the_same_intercepts_for_a_log_that_keeps_its_dr(steady, tmp_path):
+    """One way in: reduce (text and --csv), fix and the workbook carry the DR the same way."""
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+
+    log, _, _ = steady
+    path = tmp_path / "passage.csv"
+    log.to_csv(path, index=False)
+    voyage = process_log(path)
+    runner = CliRunner()
+    result = runner.invoke(app, ["reduce", str(path), "--csv"])
+    assert result.exit_code == 0, result.output
+    frame = pd.read_csv(io.StringIO(result.stdout))
+    # (the CSV carries the numbers to the precision it prints)
+    assert np.allclose(frame.intercept_nm.to_numpy(), voyage.reduced.intercept_nm.to_numpy(), atol=1e-6)
+    assert np.allclose(frame.dr_lat_deg.to_numpy(), voyage.reduced.dr_lat_deg.to_numpy(), atol=1e-9)
+    assert (frame.dr_carried_from.str.startswith("carried from the")).all()
+
+
+def test_the_days_work_goes_to_the_workbook_the_exports_and_the_command(steady, tmp_path):
+    from openpyxl import load_workbook
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+
+    log, _, _ = steady
+    path = tmp_path / "passage.csv"
+    log.to_csv(path, index=False)
+    runner = CliRunner()
+    result = runner.invoke(app, ["workbook", str(path), "-o", str(tmp_path / "p.xlsx"), "--gpx", str(tmp_path / "p.gpx"),
+                                 "--geojson", str(tmp_path / "p.geojson")])
+    assert result.exit_code == 0, result.output
+    book = load_workbook(tmp_path / "p.xlsx")
+    assert "Day's work" in book.sheetnames
+    texts = [c.value for row in book["Day's work"].iter_rows() for c in row if isinstance(c.value, str)]
+    assert any(t.startswith("Noon positions") for t in texts) and any(t.startswith("Set and drift") for t in texts)
+    assert "DR" in [c.value for c in book["Working"][1]]
+    import gpxpy
+
+    gpx = gpxpy.parse((tmp_path / "p.gpx").read_text())  # read back by gpxpy, not navred
+    assert [t.name for t in gpx.tracks] == ["DR track Moth Orchid (invented)"]
+    # from the departure and from each fix but the last, which ends the log
+    assert len(gpx.tracks[0].segments) == 12
+    assert sum(w.type == "noon" for w in gpx.waypoints) == 3
+    features = json.loads((tmp_path / "p.geojson").read_text())["features"]
+    kinds = pd.Series([f["properties"]["kind"] for f in features]).value_counts()
+    assert kinds["DR track"] == 12 and kinds["noon position"] == 3
+    fix = next(f for f in features if f["properties"]["kind"] == "fix")
+    assert {"set_deg", "drift_kn", "set_95_deg", "drift_95_kn"} <= set(fix["properties"])
+    days = runner.invoke(app, ["days", str(path), "--picture", str(tmp_path / "p.svg")])
+    assert days.exit_code == 0, days.output
+    assert "noon positions and the day's run" in days.output and "set 0" in days.output
+    assert (tmp_path / "p.svg").read_text().startswith("<svg")
+    as_csv = runner.invoke(app, ["days", str(path), "--csv"])
+    assert list(pd.read_csv(io.StringIO(as_csv.stdout)).date) == ["2026-04-14", "2026-04-15", "2026-04-16"]

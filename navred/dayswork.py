@@ -43,6 +43,7 @@ from .sailings import rhumb_destination
 
 #: A fix or an estimated position this close to noon (either side) gives the noon position.
 NOON_WINDOW_HOURS = 1.0
+NS_PER_SECOND = 1_000_000_000
 #: The DR track is drawn and exported with a point at least this often (hours), and at every knot.
 TRACK_STEP_HOURS = 1.0
 
@@ -241,12 +242,15 @@ def _positions_text(lat, lon) -> list[str]:
 
 
 def _stamps(ns) -> list[str]:
-    text = np.datetime_as_string(np.asarray(ns, dtype=np.int64).astype("datetime64[ns]").astype("datetime64[s]"))
+    """Times to the nearest second."""
+    rounded = (np.asarray(ns, dtype=np.int64) + NS_PER_SECOND // 2) // NS_PER_SECOND * NS_PER_SECOND
+    text = np.datetime_as_string(rounded.astype("datetime64[ns]").astype("datetime64[s]"))
     return [t.replace("T", " ") for t in text.tolist()]
 
 
 def _stamp(ns) -> str:
-    return str(np.datetime64(int(ns), "ns").astype("datetime64[s]")).replace("T", " ")
+    """A time to the nearest second."""
+    return _stamps([int(ns)])[0]
 
 
 def _set_drift_rows(vessel: str, track: VesselTrack) -> list[dict]:
@@ -346,7 +350,8 @@ def _noon_rows(voyage, vessel: str, track: VesselTrack, estimated: list[dict]) -
                 la, lo = rhumb_destination(c[1], c[2], course + (0.0 if hours >= 0 else 180.0),
                                            float(speed) * abs(hours))
                 lat[k], lon[k] = float(la), float(lo)
-                source[k] = f"{c[3]} at {_stamp(c[0] + 30_000_000_000)[11:16]} UTC" + (" carried to noon" if hours else "")
+                source[k] = (f"{c[3]} at {_stamp(c[0] + 30 * NS_PER_SECOND)[11:16]} UTC"
+                             + (" carried to noon" if abs(hours) * 3600.0 >= 30.0 else ""))
                 break
     run = days_run(noon, lat, lon)
     through = _water_run_nm(track.water, noon[:-1], noon[1:]) if noon.size > 1 else np.zeros(0)
@@ -355,7 +360,9 @@ def _noon_rows(voyage, vessel: str, track: VesselTrack, estimated: list[dict]) -
     for k in range(days.size):
         date = str(np.datetime64(int(days[k]), "ns").astype("datetime64[D]"))
         previous = noon[k - 1] if k else first
-        count = int(((fix_times > previous) & (fix_times <= noon[k])).sum()) if fix_times.size else 0
+        # a fix within half a minute of noon is the noon fix (a chronometer's error moves it by a fraction of a second)
+        count = (int(((fix_times > previous + 30 * NS_PER_SECOND) & (fix_times <= noon[k] + 30 * NS_PER_SECOND)).sum())
+                 if fix_times.size else 0)
         rows.append({"vessel": vessel, "date": date, "zone (h)": float(guess[k]), "noon (UTC)": _stamp(noon[k]),
                      "noon position": _position_text(lat[k], lon[k]) if np.isfinite(lat[k]) else "",
                      "noon from": source[k],

@@ -757,6 +757,11 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
     table["course_deg"], table["speed_kn"] = dr["course"], dr["speed"]
     table["dr_carried_from"] = dr["note"]
     sight_row = ~(is_entry & (message == ""))  # an entry read well is kept apart; a bad one is a rejected row
+    bad_entry = is_entry & (message != "") & gathered["body"].blank
+    if bad_entry.any():  # named by its kind, in brackets, where a sight names its body
+        body = table["body_name"].to_numpy(dtype=object).copy()
+        body[bad_entry] = np.char.add(np.char.add("(", entry[bad_entry].astype(str)), ")").astype(object)
+        table["body_name"] = body
     table["fix_group"], table["fix_group_given"] = _fix_groups(table, (message == "") & sight_row)
     extras, names = _extras(tables, layouts)
     for name, values in extras.items():

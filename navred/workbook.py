@@ -250,8 +250,9 @@ def _add_figure(sheet, figure, anchor: str, width: int, height: int) -> None:
 
 
 #: How a column displays its numbers, by the unit in its header: to 0.1′ for arcminutes, to 0.0001°
-#: (0.006′) for decimal degrees, while the cell keeps full precision.
-_NUMBER_FORMATS = (("(′", "0.0"), ("(deg", "0.0000"), ("(nm)", "0.0"), ("(s", "0.000"), ("(m)", "0.00"),
+#: (0.006′) for decimal degrees, to 0.1° for a course or a set, while the cell keeps full precision.
+_NUMBER_FORMATS = (("(′", "0.0"), ("course made good (deg)", "0.0"), ("set (deg)", "0.0"), ("±95 % (deg)", "0"),
+                   ("(deg", "0.0000"), ("(nm)", "0.0"), ("(s", "0.000"), ("(m)", "0.00"),
                    ("(°c)", "0.0"), ("(hpa)", "0.0"), ("(kn)", "0.0"), ("(h)", "0"),
                    ("(%)", "0"))
 DATE_TIME_FORMAT = "yyyy-mm-dd hh:mm:ss"
@@ -314,6 +315,8 @@ def write_table_sheet(tables: TableWriter, sheet, frame: pd.DataFrame, *, wide: 
         width = (wide or {}).get(name) or min(max(sample) + 2, 60)
         if formats[index - 1]:
             width = min(width, 12)
+        if first_row > 1:  # a table below another on the sheet: as wide as either needs
+            width = max(width, sheet.column_dimensions[get_column_letter(index)].width or 0)
         sheet.column_dimensions[get_column_letter(index)].width = max(width, 8)
 
 

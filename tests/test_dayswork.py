@@ -188,6 +188,8 @@ def test_entry_rows_are_read_by_the_log_reader_and_refused_with_reasons(tmp_path
     assert "entry 'sideways' is not one navred knows" in reasons[7]
     assert "a current is given on an entry row" in reasons[8]
     assert list(log.entries.row) == [2]
+    named = log.table.set_index("row").body_name
+    assert named[4] == "(course)" and named[6] == "Sun"  # a refused entry is named by its kind in every list
     good = log.sights.set_index("row")
     assert good.loc[9, "dr_carried_from"] == "carried from the departure at row 2"
     assert good.loc[9, "course_deg"] == 250.0 and good.loc[9, "speed_kn"] == 6.0  # in force, for the run

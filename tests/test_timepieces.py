@@ -152,3 +152,20 @@ def test_rate_command_workbook_sheet_and_rates_option(tmp_path):
     assert any("11 sight(s) of this log took their watch error from this rating" in t for t in texts)
     reduced = runner.invoke(app, ["reduce", str(kept), "--rates", str(signals)])
     assert reduced.exit_code == 0 and "11 sights reduced" in reduced.output
+
+
+def test_the_rated_passage_gives_the_days_work_of_the_passage_kept_in_utc():
+    """sample_sights/passage_log_chronometer.csv is passage_log.csv timed by an invented chronometer (its
+    time signals invented to match): rated, it gives the same noons, day's runs and set and drift, and its
+    fixes a fraction of a second off noon still count as the noon fixes."""
+    rated = process_log("sample_sights/passage_log_chronometer.csv", plan=False,
+                        rates=read_rating_log("sample_sights/passage_time_signals.csv")).days_work()
+    kept = process_log("sample_sights/passage_log.csv", plan=False).days_work()
+    assert list(rated.noons["noon from"]) == list(kept.noons["noon from"])  # no "carried to noon" for 0.02 s
+    assert list(rated.noons["fixes that day"]) == list(kept.noons["fixes that day"]) == [1, 3, 3]
+    # the readings are kept to 0.1 s and the rating leaves a few hundredths of a second: a fix moves by up to
+    # 0.05 s x 15"/s, under 0.02 nm at each end of a run
+    assert np.allclose(rated.noons["run (nm)"].to_numpy(float)[1:], kept.noons["run (nm)"].to_numpy(float)[1:],
+                       atol=0.03)
+    assert list(rated.set_drift["fix (UTC)"]) == list(kept.set_drift["fix (UTC)"])  # to the nearest second
+    assert np.allclose(rated.set_drift["drift (kn)"], kept.set_drift["drift (kn)"], atol=0.005)

@@ -30,7 +30,10 @@ A_M = 6378137.0
 F = 1 / 298.257223563
 E2 = F * (2 - F)
 STARS = ("Sirius", "Capella", "Procyon", "Aldebaran", "Regulus", "Dubhe", "Vega", "Altair", "Arcturus", "Deneb",
-         "Fomalhaut", "Spica", "Antares", "Kochab", "Betelgeuse", "Pollux", "Achernar", "Canopus", "Rigel", "Hamal")
+         "Fomalhaut", "Spica", "Antares", "Kochab", "Betelgeuse", "Pollux", "Achernar", "Canopus", "Rigel", "Hamal",
+         "Alpheratz", "Mirfak", "Markab", "Enif", "Alkaid", "Denebola", "Rasalhague", "Nunki", "Diphda", "Menkar",
+         "Alphard", "Kaus Australis", "Schedar", "Eltanin", "Alioth", "Elnath", "Bellatrix", "Gienah", "Zubenelgenubi",
+         "Sabik", "Shaula", "Peacock", "Alnilam", "Acrux", "Hadar", "Rigil Kentaurus")
 STEP_S = 60.0
 
 
@@ -146,6 +149,15 @@ def turning(t_h):
     return (20.0 + 4.0 * t_h) % 360.0, 1.2
 
 
+#: The demo's chronometer: keeps UTC, 2.0 s fast at noon on 10 April 2026 and gaining 0.45 s a day (invented).
+CHRONOMETER_EPOCH = pd.Timestamp("2026-04-10T12:00:00Z")
+CHRONOMETER_ERROR_S, CHRONOMETER_RATE_S_PER_DAY = 2.0, 0.45
+
+
+def chronometer_error_s(when: pd.Timestamp) -> float:
+    return CHRONOMETER_ERROR_S + CHRONOMETER_RATE_S_PER_DAY * (when - CHRONOMETER_EPOCH).total_seconds() / 86400
+
+
 def main() -> None:
     from importlib.resources import files
 
@@ -153,12 +165,31 @@ def main() -> None:
 
     ts = load.timescale(builtin=True)
     eph = load(str(files("skyfield_data") / "data" / "de421.bsp"))
-    log, track, _ = make_passage(ts, eph, current=steady, rounds_per_day=3)
+    start = pd.Timestamp("2026-04-14T05:00:00Z")  # rounds at 13:00 (noon in zone +1), 21:00 and 05:00 UTC
+    log, track, _ = make_passage(ts, eph, current=steady, start=start, lat=38.0, lon=-10.0, rounds_per_day=3)
     log["remarks"] = "INVENTED demo"
     log.to_csv(OUT / "passage_log.csv", index=False)
     track.iloc[::10].assign(utc=track.utc.iloc[::10].dt.strftime("%Y-%m-%dT%H:%M:%SZ")).to_csv(
         OUT / "passage_truth.csv", index=False)
-    print(f"wrote {OUT / 'passage_log.csv'} and {OUT / 'passage_truth.csv'}")
+    # the same log timed by the chronometer, and its time signals (a week of them, 0.05 s of reading noise)
+    rng = np.random.default_rng(1805)
+    signals = []
+    for k in range(7):
+        when = CHRONOMETER_EPOCH + pd.Timedelta(days=k)
+        reading = when + pd.Timedelta(seconds=chronometer_error_s(when) + rng.normal(0, 0.05))
+        signals.append({"timepiece": "Chrono A", "utc": when.strftime("%Y-%m-%dT%H:%M:%SZ"),
+                        "reading": reading.strftime("%H:%M:%S.%f")[:-5], "remarks": "INVENTED demo"})
+    pd.DataFrame(signals).to_csv(OUT / "passage_time_signals.csv", index=False)
+    utc = pd.to_datetime(log.utc)
+    reading = utc + pd.to_timedelta([chronometer_error_s(t) for t in utc], unit="s")
+    kept = log.drop(columns=["utc"])
+    kept.insert(0, "timepiece", "Chrono A")
+    kept.insert(0, "zone_description", "0")
+    kept.insert(0, "zone_time", reading.dt.strftime("%H:%M:%S.%f").str[:-5])
+    kept.insert(0, "date", reading.dt.strftime("%Y-%m-%d"))
+    kept.to_csv(OUT / "passage_log_chronometer.csv", index=False)
+    print(f"wrote passage_log.csv, passage_log_chronometer.csv, passage_time_signals.csv and passage_truth.csv "
+          f"to {OUT}")
 
 
 if __name__ == "__main__":

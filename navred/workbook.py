@@ -707,8 +707,12 @@ def plot_file_stems(names) -> list[str]:
 
 
 def write_plots(voyage: VoyageResult, folder: str | Path, formats: tuple[str, ...] = ("png", "svg"), *,
-                groups=None) -> list[Path]:
-    """Every fix's plotting sheet (or those of ``groups``) as PNG and SVG files in ``folder``."""
+                groups=None, workers: int | None = None) -> list[Path]:
+    """Every fix's plotting sheet (or those of ``groups``) as PNG and SVG files in ``folder``.
+
+    Hundreds of sheets are drawn by ``workers`` processes at once (default: one per core this process
+    may use, for :data:`PARALLEL_FROM` sheets or more, where the system can fork); each file is the
+    same byte for byte whoever draws it."""
     from .plotting import canvas_bytes
 
     out = Path(folder)
@@ -728,18 +732,70 @@ def write_plots(voyage: VoyageResult, folder: str | Path, formats: tuple[str, ..
                 pictures[f"{stem}.{suffix}"] = canvas_bytes(picture, suffix, png_width_px=1320)
         written += atomic_write_many(out, pictures, inputs=voyage.log.sources)
     stems = plot_file_stems(g.name for g in chosen)
-    for start in range(0, len(chosen), PLOTS_PER_WRITE):  # a few hundred files held in memory at a time
-        files = {}
-        for group, stem in zip(chosen[start:start + PLOTS_PER_WRITE], stems[start:start + PLOTS_PER_WRITE]):
-            sheet = plotting_figure(voyage, group)
-            for suffix in formats:
-                files[f"plot-{stem}.{suffix}"] = canvas_bytes(sheet, suffix)
-        written += atomic_write_many(out, files, inputs=voyage.log.sources)
+    batches = [(start, min(start + PLOTS_PER_WRITE, len(chosen))) for start in range(0, len(chosen), PLOTS_PER_WRITE)]
+    _sight_labels(voyage)  # worked out once, before any drawer starts
+    _DRAWING.update(voyage=voyage, chosen=chosen, stems=stems, formats=tuple(formats))
+    try:
+        for files in _drawn_batches(batches, _drawers(len(chosen), workers)):
+            written += atomic_write_many(out, files, inputs=voyage.log.sources)
+    finally:
+        _DRAWING.clear()
     return written
 
 
 #: plotting sheets drawn and written together (their files are held in memory until written)
-PLOTS_PER_WRITE = 500
+PLOTS_PER_WRITE = 250
+#: from this many plotting sheets, several processes draw them
+PARALLEL_FROM = 400
+#: what the drawing processes read: set before they are forked, cleared after
+_DRAWING: dict = {}
+
+
+def _draw_batch(batch: tuple[int, int]) -> dict[str, bytes]:
+    """One batch of plotting sheets drawn (in this process or in a forked drawer)."""
+    from .plotting import canvas_bytes
+
+    voyage, chosen, stems, formats = (_DRAWING[k] for k in ("voyage", "chosen", "stems", "formats"))
+    files = {}
+    for group, stem in zip(chosen[batch[0]:batch[1]], stems[batch[0]:batch[1]]):
+        sheet = plotting_figure(voyage, group)
+        for suffix in formats:
+            files[f"plot-{stem}.{suffix}"] = canvas_bytes(sheet, suffix)
+    return files
+
+
+def _drawers(n_sheets: int, workers: int | None) -> int:
+    """How many processes draw: one below PARALLEL_FROM sheets or where processes cannot be forked."""
+    import multiprocessing
+    import os
+
+    if "fork" not in multiprocessing.get_all_start_methods():
+        return 1
+    if workers is None:
+        if n_sheets < PARALLEL_FROM:
+            return 1
+        workers = len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else (os.cpu_count() or 1)
+    return max(1, min(int(workers), 8))
+
+
+def _drawn_batches(batches, drawers: int):
+    """Each batch's files in order; with several drawers, a few batches ahead at most (memory stays bounded)."""
+    if drawers <= 1 or len(batches) <= 1:
+        for batch in batches:
+            yield _draw_batch(batch)
+        return
+    import multiprocessing
+    from collections import deque
+    from concurrent.futures import ProcessPoolExecutor
+
+    with ProcessPoolExecutor(max_workers=drawers, mp_context=multiprocessing.get_context("fork")) as pool:
+        pending: deque = deque()
+        for batch in batches:
+            pending.append(pool.submit(_draw_batch, batch))
+            if len(pending) > drawers:
+                yield pending.popleft().result()
+        while pending:
+            yield pending.popleft().result()
 
 
 def write_lunar_workbook(inputs: dict, result: dict, path) -> Path:

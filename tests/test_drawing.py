@@ -141,3 +141,18 @@ def test_the_picture_options_of_the_workbook_command(tmp_path):
     for bad in (["--pictures", "some"], ["--plot-formats", "gif"], ["--plot-formats", ","]):
         result = runner.invoke(app, ["workbook", DEMO, "-o", str(tmp_path / "b.xlsx"), *bad])
         assert result.exit_code == 1 and "Traceback" not in result.output and bad[0] in result.output
+
+
+def test_sheets_drawn_by_several_processes_are_the_files_drawn_by_one(tmp_path, monkeypatch):
+    """A fleet's hundreds of plotting sheets are drawn by forked processes; each file must be byte for byte
+    the one a single process draws, under the same name, none missing."""
+    import navred.workbook as workbook
+
+    voyage = process_log("sample_sights/demo_sights.csv", plan=False)
+    monkeypatch.setattr(workbook, "PLOTS_PER_WRITE", 1)  # a batch per sheet, so that the drawers share them
+    one = workbook.write_plots(voyage, tmp_path / "one", ("svg",), workers=1)
+    two = workbook.write_plots(voyage, tmp_path / "two", ("svg",), workers=2)  # where it cannot fork: one drawer
+    assert [p.name for p in one] == [p.name for p in two] and len(one) == voyage.n_fixes + 1  # and the track
+    for a, b in zip(one, two):
+        assert a.read_bytes() == b.read_bytes(), a.name
+    assert workbook._drawers(10_000, None) >= 1 and workbook._drawers(10, None) == 1

@@ -49,14 +49,28 @@ def computed_altitude_azimuth(lat_deg: ArrayLike, lon_deg: ArrayLike, gha_deg: A
     shape = np.broadcast_shapes(lat.shape, lon.shape, gha.shape, dec.shape)
     size = int(np.prod(shape))
     if size <= TRIANGLE_BLOCK:
-        hc, zn = _triangle(lat, lon, gha, dec)
+        hc, zn = _triangle(*(np.broadcast_to(v, shape).ravel() for v in (lat, lon, gha, dec)))
+        hc, zn = (hc.reshape(shape), zn.reshape(shape)) if shape else (hc[0], zn[0])
     else:
-        # in blocks that stay in the processor's cache: each array is passed over once a block
+        # in blocks that stay in the processor's cache: each array is passed over once a block; a long
+        # run of blocks shared among threads (numpy's functions release the interpreter's lock)
         flat = [np.broadcast_to(v, shape).ravel() for v in (lat, lon, gha, dec)]
         hc, zn = np.empty(size), np.empty(size)
-        for start in range(0, size, TRIANGLE_BLOCK):
+
+        def work(start: int) -> None:
             part = slice(start, start + TRIANGLE_BLOCK)
             hc[part], zn[part] = _triangle(*(v[part] for v in flat))
+
+        starts = range(0, size, TRIANGLE_BLOCK)
+        threads = _threads(len(starts))
+        if threads > 1:
+            from concurrent.futures import ThreadPoolExecutor
+
+            with ThreadPoolExecutor(max_workers=threads) as pool:  # made for the call: nothing kept across a fork
+                list(pool.map(work, starts))
+        else:
+            for start in starts:
+                work(start)
         hc, zn = hc.reshape(shape), zn.reshape(shape)
     if not np.isfinite(hc).all():
         # NaN and infinity propagate through the trigonometry: find which input was at fault
@@ -66,34 +80,66 @@ def computed_altitude_azimuth(lat_deg: ArrayLike, lon_deg: ArrayLike, gha_deg: A
 
 #: Sights worked together by :func:`computed_altitude_azimuth` (a block's arrays fit the cache).
 TRIANGLE_BLOCK = 32768
+#: From this many blocks, the blocks are shared among threads (one per core this process may use, at most
+#: TRIANGLE_THREADS); the result is the same whoever works a block.
+THREADS_FROM_BLOCKS = 8
+TRIANGLE_THREADS = 4
+
+
+def _threads(blocks: int) -> int:
+    import os
+
+    if blocks < THREADS_FROM_BLOCKS:
+        return 1
+    cores = len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else (os.cpu_count() or 1)
+    return max(1, min(cores, TRIANGLE_THREADS, blocks))
+_D2R = np.pi / 180.0
+_R2D = 180.0 / np.pi
 #: Below this sine of the altitude (about 64°) Hc is the arcsine; above, the arctangent of the vertical
 #: over the horizontal component, which keeps Hc exact to the zenith (both agree to 1e-15 there).
 _ARCSIN_LIMIT = 0.9
 
 
 def _triangle(lat, lon, gha, dec):
-    """Hc and Zn (degrees) of one block (arrays that broadcast)."""
+    """Hc and Zn (degrees) of one block (1-D arrays of one length), worked in place where it can be."""
     # |φ| and |δ| are at most 90°, so their cosines are the non-negative square roots (one
     # sine each instead of a sine and a cosine: the trigonometric calls dominate the cost)
-    sin_phi = np.sin(np.radians(lat))
-    sin_dec = np.sin(np.radians(dec))
-    cos_phi = np.sqrt(np.maximum(1.0 - sin_phi * sin_phi, 0.0))
-    cos_dec = np.sqrt(np.maximum(1.0 - sin_dec * sin_dec, 0.0))
-    lha = np.radians(gha + lon)
-    cos_lha = np.cos(lha)
-    across = cos_dec * cos_lha
-    north = cos_phi * sin_dec - sin_phi * across
-    east = -cos_dec * np.sin(lha)
-    up = sin_phi * sin_dec + cos_phi * across
-    north, east, up = np.broadcast_arrays(north, east, up)
-    hc = np.array(np.arcsin(np.clip(up, -1.0, 1.0)))
+    sin_phi = np.sin(np.multiply(lat, _D2R))
+    sin_dec = np.sin(np.multiply(dec, _D2R))
+    cos_phi = _cos_from_sin(sin_phi)
+    cos_dec = _cos_from_sin(sin_dec)
+    lha = np.add(gha, lon)
+    lha *= _D2R
+    across = np.cos(lha)
+    across *= cos_dec  # cos δ cos LHA
+    east = np.sin(lha, out=lha)
+    east *= cos_dec
+    np.negative(east, out=east)  # −cos δ sin LHA
+    north = np.multiply(cos_phi, sin_dec)
+    up = np.multiply(sin_phi, across)
+    north -= up  # cos φ sin δ − sin φ cos δ cos LHA
+    np.multiply(sin_phi, sin_dec, out=up)
+    cos_phi *= across
+    up += cos_phi  # sin φ sin δ + cos φ cos δ cos LHA
+    hc = np.clip(up, -1.0, 1.0, out=cos_phi)
+    np.arcsin(hc, out=hc)
     high = np.abs(up) > _ARCSIN_LIMIT
     if high.any():
         hc[high] = np.arctan2(up[high], np.hypot(north[high], east[high]))
-    hc = np.degrees(hc)
-    zn = np.asarray(np.degrees(np.arctan2(east, north)))
-    zn = zn + 360.0 * (zn < 0.0)
-    return hc, np.where(zn >= 360.0, 0.0, zn)
+    hc *= _R2D
+    zn = np.arctan2(east, north, out=sin_dec)
+    zn *= _R2D
+    zn[zn < 0.0] += 360.0
+    zn[zn >= 360.0] = 0.0
+    return hc, zn
+
+
+def _cos_from_sin(sine):
+    """√(1 − sin²), never below zero."""
+    cosine = np.multiply(sine, sine)
+    np.subtract(1.0, cosine, out=cosine)
+    np.maximum(cosine, 0.0, out=cosine)
+    return np.sqrt(cosine, out=cosine)
 
 
 def intercept_nm(ho_deg: ArrayLike, hc_deg: ArrayLike) -> np.ndarray:

@@ -83,6 +83,30 @@ def test_broadcast_shapes():
     assert hc.shape == zn.shape == (2, 3)
 
 
+def test_a_long_run_worked_in_threads_is_the_run_worked_alone(monkeypatch):
+    """Past THREADS_FROM_BLOCKS blocks the triangle's blocks are shared among threads: the same numbers, in the
+    same places, as one thread working them, and both meet the cosine formula (as above); broadcasting and a
+    bad input in the last block are handled as in one block."""
+    import navred.triangle as triangle
+
+    rng = np.random.default_rng(7)
+    n = triangle.TRIANGLE_BLOCK * triangle.THREADS_FROM_BLOCKS + 123
+    lat, dec, lha = rng.uniform(-80, 80, n), rng.uniform(-60, 60, n), rng.uniform(0, 360, n)
+    monkeypatch.setattr(triangle, "_threads", lambda blocks: 4)
+    threaded = computed_altitude_azimuth(lat, 0.0, lha, dec)
+    monkeypatch.setattr(triangle, "_threads", lambda blocks: 1)
+    alone = computed_altitude_azimuth(lat, 0.0, lha, dec)
+    assert np.array_equal(threaded[0], alone[0]) and np.array_equal(threaded[1], alone[1])
+    phi, d, t = np.radians(lat), np.radians(dec), np.radians(lha)
+    expected = np.degrees(np.arcsin(np.sin(phi) * np.sin(d) + np.cos(phi) * np.cos(d) * np.cos(t)))
+    assert np.allclose(threaded[0], expected, atol=1e-9)
+    monkeypatch.setattr(triangle, "_threads", lambda blocks: 4)
+    assert computed_altitude_azimuth(lat.reshape(1, -1), np.zeros((2, 1)), lha, dec)[0].shape == (2, n)
+    lat[-1] = np.nan
+    with pytest.raises(AngleInputError, match="finite"):
+        computed_altitude_azimuth(lat, 0.0, lha, dec)
+
+
 def test_bad_inputs():
     with pytest.raises(AngleInputError, match="-90 to 90"):
         computed_altitude_azimuth(95.0, 0.0, 0.0, 0.0)

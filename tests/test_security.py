@@ -26,11 +26,16 @@ runner = CliRunner()
 DEMO = "sample_sights/demo_sights.csv"
 
 
+#: A crafted file is refused before it is read: within seconds (reading one takes minutes and gigabytes). The
+#: bound is loose on purpose, so that a busy machine does not fail it; a reader that parses first fails it.
+REFUSED_WITHIN_S = 5.0
+
+
 def refused_quickly(path, error=LogbookError, fragment="", reader=read_sight_log):
     started = time.perf_counter()
     with pytest.raises(error, match=fragment):
         reader(path)
-    assert time.perf_counter() - started < 1.0
+    assert time.perf_counter() - started < REFUSED_WITHIN_S
 
 
 # --- crafted files -----------------------------------------------------------------------
@@ -185,7 +190,7 @@ def test_a_deviation_card_is_read_bounded_and_never_overwrites_a_log(tmp_path):
     started = time.perf_counter()
     big = runner.invoke(app, check + [str(card)])
     assert big.exit_code == 1 and "start a new card file" in big.output
-    assert time.perf_counter() - started < 1.0
+    assert time.perf_counter() - started < REFUSED_WITHIN_S
 
 
 # --- tracks checked like logs --------------------------------------------------------------

@@ -529,15 +529,23 @@ def _write_days_sheet(tables: TableWriter, sheet, days, pictures: Pictures) -> N
     if days.carry_current:
         sheet.cell(row=line, column=1, value="The set and drift found at each fix were carried on in the DR.")
         line += 2
-    vessels = list(days.tracks)
-    shown = vessels[:pictures.limit] if pictures.embed else []
-    note = pictures.note("voyage pictures", len(shown), len(vessels))
+    _pictures_below(sheet, line, pictures, "voyage pictures", list(days.tracks),
+                    lambda vessel: voyage_track_picture(days, vessel), (900, 600), 32)
+
+
+def _pictures_below(sheet, line: int, pictures: Pictures, what: str, names: list, draw, size: tuple[int, int],
+                    rows_each: int) -> int:
+    """Embed a picture of each name from ``line`` down, as many as ``pictures`` allows, saying how many are
+    not; the next free line."""
+    shown = names[:pictures.limit] if pictures.embed else []
+    note = pictures.note(what, len(shown), len(names))
     if note:
         write_text_safe(sheet.cell(row=line, column=1), note)
         line += 2
-    for vessel in shown:
-        _add_figure(sheet, voyage_track_picture(days, vessel), f"A{line}", 900, 600)
-        line += 32
+    for name in shown:
+        _add_figure(sheet, draw(name), f"A{line}", *size)
+        line += rows_each
+    return line
 
 
 def _write_training_sheet(tables: TableWriter, sheet, report, pictures: Pictures) -> None:
@@ -560,15 +568,8 @@ def _write_training_sheet(tables: TableWriter, sheet, report, pictures: Pictures
         line += 3
     for k in range(1, 16):
         sheet.column_dimensions[sheet.cell(row=1, column=k).column_letter].width = 16
-    observers = list(report.observers.observer)
-    shown = observers[:pictures.limit] if pictures.embed else []
-    note = pictures.note("observer pictures", len(shown), len(observers))
-    if note:
-        write_text_safe(sheet.cell(row=line, column=1), note)
-        line += 2
-    for name in shown:
-        _add_figure(sheet, observer_figure(report, name), f"A{line}", 640, 272)
-        line += 15
+    _pictures_below(sheet, line, pictures, "observer pictures", list(report.observers.observer),
+                    lambda name: observer_figure(report, name), (640, 272), 15)
 
 
 def series_table(voyage) -> pd.DataFrame:

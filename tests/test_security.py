@@ -31,11 +31,13 @@ DEMO = "sample_sights/demo_sights.csv"
 REFUSED_WITHIN_S = 5.0
 
 
-def refused_quickly(path, error=LogbookError, fragment="", reader=read_sight_log):
+def refused_quickly(path, error=LogbookError, fragment="", reader=read_sight_log) -> str:
+    """The reader's refusal of a crafted file, checked to come within REFUSED_WITHIN_S; its message returned."""
     started = time.perf_counter()
-    with pytest.raises(error, match=fragment):
+    with pytest.raises(error, match=fragment) as refusal:
         reader(path)
     assert time.perf_counter() - started < REFUSED_WITHIN_S
+    return str(refusal.value)
 
 
 # --- crafted files -----------------------------------------------------------------------
@@ -91,7 +93,8 @@ def test_xml_entity_bombs_are_refused_in_gpx_and_in_spreadsheets(tmp_path):
     gpx = tmp_path / "laughs.gpx"
     gpx.write_text(BILLION_LAUGHS + '<gpx><trk><trkseg><trkpt lat="1" lon="1"><time>&lol4;</time></trkpt>'
                    "</trkseg></trk></gpx>")
-    refused_quickly(gpx, TrackError, "XML entities", read_track)
+    message = refused_quickly(gpx, TrackError, "XML entities", read_track)
+    assert "laughs.gpx" in message and "lol" not in message  # the file named; nothing of an entity expanded
     book = openpyxl.Workbook()
     book.active.append(["utc", "body", "hs", "eye_height_m", "dr_lat", "dr_lon"])
     book.active.append(["2026-03-26T19:41:00Z", "Sirius", "30 02.4", 2.8, "43 14 N", "13 04 W"])
@@ -105,7 +108,8 @@ def test_xml_entity_bombs_are_refused_in_gpx_and_in_spreadsheets(tmp_path):
                 body = data.split(b"?>", 1)[1] if data.startswith(b"<?xml") else data
                 data = BILLION_LAUGHS.encode() + body.replace(b"Sirius", b"&lol4;")
             target.writestr(item, data)
-    refused_quickly(bomb, LogbookError, "cannot be opened as a spreadsheet")
+    message = refused_quickly(bomb, LogbookError, "cannot be opened as a spreadsheet")
+    assert "laughs.xlsx" in message and "lol" not in message
 
 
 @pytest.mark.parametrize("content, name, fragment", [
@@ -122,7 +126,8 @@ def test_crafted_files_are_refused_quickly_with_one_message(tmp_path, content, n
             handle.truncate(200 * 1024 * 1024)
     else:
         path.write_bytes(content)
-    refused_quickly(path, fragment=fragment)
+    message = refused_quickly(path, fragment=fragment)
+    assert "\n" not in message and name in message  # one line, naming the file
 
 
 def test_a_spreadsheets_unicode_text_export_is_read(tmp_path):

@@ -228,6 +228,10 @@ def _plain_lines(text: str, first: int, separator: str, source: str) -> tuple[li
     return header, lines[first + 1:]
 
 
+#: Up to this many rows a plain table is split by str.split; above, by pandas' C parser.
+SPLIT_BY_PYTHON_ROWS = 2000
+
+
 def _plain_block(source: str, header: list[str], data: list[str], first_row_number: int,
                  separator: str, *, short_lines: bool = False) -> RawTable | None:
     """The table of plain CSV lines (see :func:`_plain_lines`), split by pandas' C parser; None when a
@@ -245,6 +249,12 @@ def _plain_block(source: str, header: list[str], data: list[str], first_row_numb
     numbers = first_row_number + kept
     if kept.size == 0:
         columns = [pd.Series([], dtype=object) for _ in header]
+    elif kept.size <= SPLIT_BY_PYTHON_ROWS:
+        # a short table: str.split gives the C parser's very cells here (no quotes, every line counted), sooner
+        fields = [data[k].split(separator) for k in kept.tolist()]
+        if any(len(f) != width for f in fields):
+            return None
+        columns = [pd.Series(list(column), dtype=object) for column in zip(*fields)]
     else:
         body = "\n".join(data[k] for k in kept.tolist()) if blank.any() else "\n".join(data)
         frame = pd.read_csv(io.StringIO(body), sep=separator, header=None, names=list(range(width)), dtype=object,
@@ -374,7 +384,7 @@ def _table(source, header, records, first_row_number, problems, separator, *, cl
             columns = [column[~empty_rows] for column in columns]
         series = [pd.Series(column, dtype=object) for column in columns]
         return _finish(source, header, series, numbers, {}, {}, separator, int(empty_rows.sum()), clean=clean)
-    columns: list[list[str]] = [[] for _ in range(width)]
+    kept_records: list[list[str]] = []
     numbers: list[int] = []
     kept: dict[int, tuple[str, str]] = {}
     malformed: dict[int, list[str]] = {}
@@ -398,9 +408,9 @@ def _table(source, header, records, first_row_number, problems, separator, *, cl
             empty += 1
             continue
         numbers.append(first_row_number + index)
-        for k in range(width):
-            columns[k].append(record[k])
-    series = [pd.Series(column, dtype=object) for column in columns]
+        kept_records.append(record)
+    turned = list(zip(*kept_records)) if kept_records else [()] * width
+    series = [pd.Series(list(column), dtype=object) for column in turned]
     return _finish(source, header, series, np.asarray(numbers, dtype=int), kept, malformed, separator, empty)
 
 

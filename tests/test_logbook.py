@@ -462,17 +462,21 @@ def test_random_garbage_rows_never_crash_and_never_lose_a_row(tmp_path, garbage)
     assert np.allclose(good.hs_deg, 30 + 2.4 / 60)
 
 
+@pytest.mark.parametrize("copies", [1, 400])  # a short table (str.split) and a long one (pandas' C parser)
 @pytest.mark.parametrize("separator", [",", ";", "\t"])
-def test_a_plain_file_splits_as_the_csv_module_splits_it(tmp_path, separator):
-    # issue 13: a file with no quote and no control character is split by pandas' C parser; every cell and
-    # every row number must be what Python's csv module (the standard library's reference reader) gives,
-    # blank lines and lines of separators skipped, spaces kept
-    from navred.readers import read_table
+def test_a_plain_file_splits_as_the_csv_module_splits_it(tmp_path, separator, copies):
+    # issue 13: a file with no quote and no control character is split by str.split (up to
+    # SPLIT_BY_PYTHON_ROWS rows) or pandas' C parser; every cell and every row number must be what Python's
+    # csv module (the standard library's reference reader) gives, blank lines and lines of separators skipped,
+    # spaces kept
+    from navred.readers import SPLIT_BY_PYTHON_ROWS, read_table
 
     header = ["utc", "body", "hs", "dr_lat", "dr_lon", "remarks"]
     rows = [["2026-03-26T09:10:00Z", "Sun", "25 03.1", "44 10.1 N", "012 09.3 W", "  spaced  "],
             [], [""] * 6, ["2026-03-26T12:56:03Z", " Moon", "48 16.0", "43 50.1 N", "012 28.9 W", "a'b′c"],
             ["2026-03-26T15:40:00Z", "Vega", "", "", "", ""], ["  "], ["x", "y", "z", "1", "2", "#not a comment"]]
+    rows = rows * copies
+    assert (len(rows) > SPLIT_BY_PYTHON_ROWS) == (copies > 1)
     text = "\n".join(separator.join(r) for r in [header] + rows) + "\n"
     path = tmp_path / "plain.csv"
     path.write_text(text, encoding="utf-8")
@@ -482,7 +486,7 @@ def test_a_plain_file_splits_as_the_csv_module_splits_it(tmp_path, separator):
     assert table.row_numbers.tolist() == [n for n, _ in expected]
     cells = [list(row) for row in zip(*(c.tolist() for c in table.columns))]
     assert cells == [r for _, r in expected]
-    assert table.empty_rows == 3
+    assert table.empty_rows == 3 * copies
 
 
 def test_a_log_read_in_blocks_is_the_log_read_whole(tmp_path):

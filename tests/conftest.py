@@ -16,6 +16,12 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from hypothesis import settings
+
+# Every property-based test is seeded (the same examples every run, as a suite must be) and has no deadline
+# (a shared, busy machine must not turn a slow example into a failure); nothing is kept between runs.
+settings.register_profile("navred", derandomize=True, deadline=None, database=None)
+settings.load_profile("navred")
 
 #: skyfield's results for the test's syntheses, frozen by scripts/freeze_skyfield_references.py (which names
 #: the skyfield version in the file); a result not in the file is computed live. tests/test_references.py

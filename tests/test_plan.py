@@ -26,10 +26,11 @@ from navred.plan import (
     twilight_plans,
     visible_horizon_altitude_deg,
 )
-from tests.conftest import angle_diff_deg, sky_target
+from tests.conftest import angle_diff_deg, frozen, sky_target
 
 PLACES = [(0.0, -30.0), (20.0, 150.0), (-35.0, 18.0), (45.0, -20.5), (55.0, 5.0), (60.0, -3.0), (-60.0, -65.0)]
 DATES = ["2024-03-20", "2024-06-21", "2024-09-22", "2024-12-21"]
+SUN_EVENTS = ("nautical_dawn", "civil_dawn", "sunrise", "sunset", "civil_dusk", "nautical_dusk")
 
 
 def _window(ts, date, lon):
@@ -53,18 +54,25 @@ def test_sun_events_against_skyfield(ts, eph, lat, lon):
     place = wgs84.latlon(lat, lon)
     for date in DATES:
         ours = sun_events(date, lat, lon)
-        t0, t1 = _window(ts, date, lon)
-        times, states = almanac.find_discrete(t0, t1, almanac.dark_twilight_day(eph, place))
-        previous = int(almanac.dark_twilight_day(eph, place)(t0))
-        found = {}
-        for t, state in zip(times, states):
-            state = int(state)
-            key = {(1, 2): "nautical_dawn", (2, 3): "civil_dawn", (3, 4): "sunrise",
-                   (4, 3): "sunset", (3, 2): "civil_dusk", (2, 1): "nautical_dusk"}.get((previous, state))
-            if key and key not in found:
-                found[key] = t.utc_datetime()
-            previous = state
-        for key in ("nautical_dawn", "civil_dawn", "sunrise", "sunset", "civil_dusk", "nautical_dusk"):
+
+        def search(date=date):
+            t0, t1 = _window(ts, date, lon)
+            times, states = almanac.find_discrete(t0, t1, almanac.dark_twilight_day(eph, place))
+            previous = int(almanac.dark_twilight_day(eph, place)(t0))
+            found = {}
+            for t, state in zip(times, states):
+                state = int(state)
+                key = {(1, 2): "nautical_dawn", (2, 3): "civil_dawn", (3, 4): "sunrise",
+                       (4, 3): "sunset", (3, 2): "civil_dusk", (2, 1): "nautical_dusk"}.get((previous, state))
+                if key and key not in found:
+                    found[key] = t.utc_datetime()
+                previous = state
+            # each event as POSIX seconds, NaN where it does not happen (the form the frozen file keeps)
+            return [pd.Timestamp(found[k]).timestamp() if k in found else float("nan") for k in SUN_EVENTS]
+
+        found = {k: pd.Timestamp(v, unit="s", tz="UTC")
+                 for k, v in zip(SUN_EVENTS, frozen(f"sun events {lat} {lon} {date}", search)) if np.isfinite(v)}
+        for key in SUN_EVENTS:
             if key in found:
                 assert ours[key] is not None, (lat, date, key)
                 assert _minutes(ours[key], found[key]) < 1.0, (lat, date, key)
@@ -88,9 +96,13 @@ def test_meridian_passage_against_skyfield(ts, eph, lat, lon):
     from skyfield.api import wgs84
 
     for date in DATES:
-        t0, t1 = _window(ts, date, lon)
-        times, kinds = almanac.find_discrete(t0, t1, almanac.meridian_transits(eph, eph["sun"], wgs84.latlon(lat, lon)))
-        transit = times[kinds == 1][0].utc_datetime()
+        def search(date=date):
+            t0, t1 = _window(ts, date, lon)
+            times, kinds = almanac.find_discrete(t0, t1, almanac.meridian_transits(eph, eph["sun"],
+                                                                                    wgs84.latlon(lat, lon)))
+            return [pd.Timestamp(times[kinds == 1][0].utc_datetime()).timestamp()]
+
+        transit = pd.Timestamp(frozen(f"sun transit {lat} {lon} {date}", search)[0], unit="s", tz="UTC")
         ours = sun_events(date, lat, lon)["meridian_passage"]
         assert _minutes(ours, transit) * 60 < 20.0
 
@@ -236,12 +248,18 @@ def test_identification_ranks_the_true_star_first(ts, eph):
         name = names[rng.integers(len(names))]
         lat, lon = rng.uniform(-60, 60), rng.uniform(-180, 180)
         when = (pd.Timestamp("2024-01-01T00:00Z") + pd.Timedelta(hours=rng.uniform(0, 8700))).round("s")
-        t = ts.from_datetime(when.to_pydatetime())
-        alt, az, _ = (eph["earth"] + wgs84.latlon(lat, lon)).at(t).observe(sky_target(ts, eph, name)).apparent().altaz()
-        if not 10.0 < alt.degrees < 80.0:
+
+        def observed(name=name, lat=lat, lon=lon, when=when):
+            t = ts.from_datetime(when.to_pydatetime())
+            alt, az, _ = (eph["earth"] + wgs84.latlon(lat, lon)).at(t).observe(
+                sky_target(ts, eph, name)).apparent().altaz()
+            return [alt.degrees, az.degrees]
+
+        alt_deg, az_deg = frozen(f"altaz {name} {lat!r} {lon!r} {when.isoformat()}", observed)
+        if not 10.0 < alt_deg < 80.0:
             continue
         trials += 1
-        ranked = identify(alt.degrees + rng.normal(0, 1.0), az.degrees + rng.normal(0, 3.0), when, lat, lon)
+        ranked = identify(alt_deg + rng.normal(0, 1.0), az_deg + rng.normal(0, 3.0), when, lat, lon)
         hits += ranked["body"][0] == name
     assert hits / trials >= 0.95, hits
 

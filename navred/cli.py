@@ -301,6 +301,21 @@ def _print_fix(group, reduced, labels) -> None:
                    f"its 95 % band ({group.chart_note})")
     for text in fix.warnings:
         typer.echo(f"  warning: {text}")
+    _print_sight_warnings(reduced, labels, group.rows, indent="  ")
+
+
+def _print_sight_warnings(reduced, labels, rows=None, *, indent: str = "", err: bool = False) -> None:
+    """Each sight's own warning (a long intercept, a low altitude...), named by its row: a command that shows
+    a fix or a position built on the sight shows its warnings too."""
+    if not len(reduced):
+        return
+    rows = range(len(reduced)) if rows is None else rows
+    status = reduced["status"].to_numpy()
+    messages = reduced["message"].to_numpy(dtype=object)
+    bodies = reduced["body_name"].to_numpy(dtype=object)
+    for row in rows:
+        if status[row] == "warning" and messages[row]:
+            typer.echo(f"{indent}warning: {labels[row]} ({bodies[row]}): {messages[row]}", err=err)
 
 
 def _print_latitude_checks(reduced, labels) -> None:
@@ -1000,6 +1015,7 @@ def days_command(
                 if group.fix is not None and group.fix.warnings:
                     for text in group.fix.warnings:
                         typer.echo(f"warning: group {group.name}: {text}", err=True)
+            _print_sight_warnings(voyage.reduced, _labels(voyage.reduced), err=True)
             if voyage.n_rejected_rows:
                 typer.echo(f"{voyage.n_rejected_rows} row(s) not read: navred reduce names each and why", err=True)
         if picture:

@@ -92,7 +92,7 @@ class DaysWork:
 SET_DRIFT_COLUMNS = ["vessel", "fix group", "fix (UTC)", "fix", "from", "hours", "DR at the fix",
                      "set (deg)", "set ±95 % (deg)", "drift (kn)", "drift ±95 % (kn)", "note",
                      "fix lat (deg)", "fix lon (deg)", "dr lat (deg)", "dr lon (deg)"]
-ESTIMATED_COLUMNS = ["vessel", "fix group", "UTC", "estimated position", "from", "lat (deg)", "lon (deg)"]
+ESTIMATED_COLUMNS = ["vessel", "fix group", "UTC", "estimated position", "from", "note", "lat (deg)", "lon (deg)"]
 NOON_COLUMNS = ["vessel", "date", "zone (h)", "noon (UTC)", "noon position", "noon from", "run (nm)",
                 "course made good (deg)", "speed made good (kn)", "through the water (nm)", "hours",
                 "fixes that day", "lat (deg)", "lon (deg)"]
@@ -289,16 +289,20 @@ def _estimated_positions(voyage, tracks) -> list[dict]:
     reduced = voyage.reduced
     vessels = _fix_vessels(voyage)
     status = reduced["status"].to_numpy() if len(reduced) else np.zeros(0, dtype=object)
+    messages = reduced["message"].to_numpy(dtype=object) if len(reduced) else np.zeros(0, dtype=object)
     out = []
     for group in voyage.groups:
         if group.fix is not None and group.fix.is_fix:
             continue
         usable = group.rows[status[group.rows] != "error"]
+        # the sights' own warnings go with the position built on them
+        note = "; ".join(f"row {reduced['row'].iat[k]}: {messages[k]}" for k in usable.tolist()
+                         if status[k] == "warning" and messages[k])
         if group.fix is not None and not group.fix.is_fix:
             fix = group.fix
             out.append({"vessel": vessels[group.name], "fix group": group.name, "UTC": _stamp(
                 np.datetime64(fix.utc, "ns").astype(np.int64)), "estimated position": _position_text(
-                fix.lat_deg, fix.lon_deg), "from": f"the {fix.kind} nearest the DR", "lat (deg)": fix.lat_deg,
+                fix.lat_deg, fix.lon_deg), "from": f"the {fix.kind} nearest the DR", "note": note, "lat (deg)": fix.lat_deg,
                 "lon (deg)": fix.lon_deg})
         elif group.fix is None and usable.size == 1:
             r = reduced.iloc[int(usable[0])]
@@ -306,7 +310,7 @@ def _estimated_positions(voyage, tracks) -> list[dict]:
             out.append({"vessel": vessels[group.name], "fix group": group.name,
                         "UTC": str(r["sight_utc"])[:19], "estimated position": _position_text(float(lat), float(lon)),
                         "from": f"one {r['body_name']} line: the foot of the perpendicular from the DR",
-                        "lat (deg)": float(lat), "lon (deg)": float(lon)})
+                        "note": note, "lat (deg)": float(lat), "lon (deg)": float(lon)})
     return out
 
 

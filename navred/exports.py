@@ -59,7 +59,7 @@ def write_gpx(voyage: VoyageResult, path: str | Path) -> Path:
             ET.SubElement(point, f"{{{GPX_NAMESPACE}}}type").text = kind
     days = voyage.days_work()
     for kind, frame, name_of, text_of in (
-            ("EP", days.estimated, lambda r: f"EP {r['fix group']}", lambda r: f"estimated position: {r['from']}"),
+            ("EP", days.estimated, lambda r: f"EP {r['fix group']}", lambda r: f"estimated position: {r['from']}" + (f"; warning: {r['note']}" if r["note"] else "")),
             ("noon", days.noons[days.noons["lat (deg)"].notna()], lambda r: f"noon {r['date']}",
              lambda r: f"noon position ({r['noon from']})" + (f"; day's run {r['run (nm)']:.1f} nm made good on "
                                                               f"{r['course made good (deg)']:.0f} deg"
@@ -171,7 +171,8 @@ def write_geojson(voyage: VoyageResult, path: str | Path) -> Path:
     for r in days.estimated.to_dict("records"):
         features.append({"type": "Feature", "geometry": {"type": "Point", "coordinates": [r["lon (deg)"], r["lat (deg)"]]},
                          "properties": {"kind": "estimated position", "fix_group": r["fix group"],
-                                        "utc": _iso(str(r["UTC"]).replace(" ", "T")), "from": r["from"]}})
+                                        "utc": _iso(str(r["UTC"]).replace(" ", "T")), "from": r["from"],
+                                        "warning": r["note"]}})
     for r in days.noons[days.noons["lat (deg)"].notna()].to_dict("records"):
         features.append({"type": "Feature", "geometry": {"type": "Point", "coordinates": [r["lon (deg)"], r["lat (deg)"]]},
                          "properties": {"kind": "noon position", "vessel": r["vessel"], "date": r["date"],

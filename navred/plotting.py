@@ -476,6 +476,7 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
     for e in estimated.to_dict("records"):
         px, py = (float(v) for v in page(*plane(e["lat (deg)"], e["lon (deg)"])))
         sheet.polygon([px - 4, px + 4, px + 4, px - 4], [py - 4, py - 4, py + 4, py + 4], outline=FIX, width=1.2)
+        sheet.text(px + 7, py - 6, f"EP {e['UTC'][11:16]}" + (" (see its warning)" if e.get("note") else ""), 7, FIX)
     for n in noons.to_dict("records"):
         px, py = (float(v) for v in page(*plane(n["lat (deg)"], n["lon (deg)"])))
         sheet.circle(px, py, 3.2, fill=INK)

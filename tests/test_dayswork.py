@@ -253,3 +253,34 @@ def test_the_days_work_goes_to_the_workbook_the_exports_and_the_command(steady, 
     assert (tmp_path / "p.svg").read_text().startswith("<svg")
     as_csv = runner.invoke(app, ["days", str(path), "--csv"])
     assert list(pd.read_csv(io.StringIO(as_csv.stdout)).date) == ["2026-04-14", "2026-04-15", "2026-04-16"]
+
+
+def test_a_position_built_on_a_sight_with_a_warning_carries_the_warning(tmp_path):
+    """An estimated position from a sight whose intercept is over 30 nm (an altitude made up for the test, far
+    from the DR's) says so in the day's work, its exports and the commands' output; so does a fix."""
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+
+    path = tmp_path / "log.csv"
+    path.write_text(
+        "date,zone_time,zone_description,entry,dr_lat,dr_lon,course,speed,body,limb,hs,eye_height_m,fix_group\n"
+        "2026-04-14,06:00:00,+1,departure,38 00.0 N,010 00.0 W,250,6,,,,,\n"
+        "2026-04-14,14:00:00,+1,,,,,,Sun,lower,49 58.0,3.0,afternoon\n")
+    voyage = process_log(path, plan=False)
+    assert voyage.reduced.status.tolist() == ["warning"] and "intercept over 30 nm" in voyage.reduced.message[0]
+    estimated = voyage.days_work().estimated
+    assert estimated["note"].tolist() == [f"row 3: {voyage.reduced.message[0]}"]
+    result = CliRunner().invoke(app, ["days", str(path)])
+    assert result.exit_code == 0 and "warning: row 3 (Sun): intercept over 30 nm" in result.output
+    book = CliRunner().invoke(app, ["workbook", str(path), "-o", str(tmp_path / "b.xlsx"),
+                                    "--geojson", str(tmp_path / "b.geojson")])
+    assert book.exit_code == 0, book.output
+    features = json.loads((tmp_path / "b.geojson").read_text())["features"]
+    ep = [f for f in features if f["properties"].get("kind") == "estimated position"]
+    assert len(ep) == 1 and "intercept over 30 nm" in ep[0]["properties"]["warning"]
+    # a fix prints each of its sights' warnings under it
+    two = tmp_path / "two.csv"
+    two.write_text(path.read_text() + "2026-04-14,14:05:00,+1,,,,,,Sun,lower,50 10.0,3.0,afternoon\n")
+    fixed = CliRunner().invoke(app, ["fix", str(two)])
+    assert "warning: row 3 (Sun): intercept over 30 nm" in fixed.output

@@ -62,7 +62,7 @@ def computed_altitude_azimuth(lat_deg: ArrayLike, lon_deg: ArrayLike, gha_deg: A
             hc[part], zn[part] = _triangle(*(v[part] for v in flat))
 
         starts = range(0, size, TRIANGLE_BLOCK)
-        threads = _threads(len(starts))
+        threads = threads_for(len(starts))
         if threads > 1:
             from concurrent.futures import ThreadPoolExecutor
 
@@ -86,13 +86,17 @@ THREADS_FROM_BLOCKS = 8
 TRIANGLE_THREADS = 4
 
 
-def _threads(blocks: int) -> int:
+def threads_for(blocks: int) -> int:
+    """How many threads work ``blocks`` blocks of the triangle: one below THREADS_FROM_BLOCKS, else one per
+    core this process may use, at most TRIANGLE_THREADS."""
     import os
 
     if blocks < THREADS_FROM_BLOCKS:
         return 1
     cores = len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else (os.cpu_count() or 1)
     return max(1, min(cores, TRIANGLE_THREADS, blocks))
+
+
 _D2R = np.pi / 180.0
 _R2D = 180.0 / np.pi
 #: Below this sine of the altitude (about 64°) Hc is the arcsine; above, the arctangent of the vertical

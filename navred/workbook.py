@@ -737,7 +737,7 @@ def write_plots(voyage: VoyageResult, folder: str | Path, formats: tuple[str, ..
     _sight_labels(voyage)  # worked out once, before any drawer starts
     _DRAWING.update(voyage=voyage, chosen=chosen, stems=stems, formats=tuple(formats))
     try:
-        for files in _drawn_batches(batches, _drawers(len(chosen), workers)):
+        for files in _drawn_batches(batches, drawers_for(len(chosen), workers)):
             written += atomic_write_many(out, files, inputs=voyage.log.sources)
     finally:
         _DRAWING.clear()
@@ -765,7 +765,7 @@ def _draw_batch(batch: tuple[int, int]) -> dict[str, bytes]:
     return files
 
 
-def _drawers(n_sheets: int, workers: int | None) -> int:
+def drawers_for(n_sheets: int, workers: int | None) -> int:
     """How many processes draw: one below PARALLEL_FROM sheets or where processes cannot be forked."""
     import multiprocessing
     import os

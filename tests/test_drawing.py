@@ -155,4 +155,4 @@ def test_sheets_drawn_by_several_processes_are_the_files_drawn_by_one(tmp_path, 
     assert [p.name for p in one] == [p.name for p in two] and len(one) == voyage.n_fixes + 1  # and the track
     for a, b in zip(one, two):
         assert a.read_bytes() == b.read_bytes(), a.name
-    assert workbook._drawers(10_000, None) >= 1 and workbook._drawers(10, None) == 1
+    assert workbook.drawers_for(10_000, None) >= 1 and workbook.drawers_for(10, None) == 1

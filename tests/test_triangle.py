@@ -92,15 +92,15 @@ def test_a_long_run_worked_in_threads_is_the_run_worked_alone(monkeypatch):
     rng = np.random.default_rng(7)
     n = triangle.TRIANGLE_BLOCK * triangle.THREADS_FROM_BLOCKS + 123
     lat, dec, lha = rng.uniform(-80, 80, n), rng.uniform(-60, 60, n), rng.uniform(0, 360, n)
-    monkeypatch.setattr(triangle, "_threads", lambda blocks: 4)
+    monkeypatch.setattr(triangle, "threads_for", lambda blocks: 4)
     threaded = computed_altitude_azimuth(lat, 0.0, lha, dec)
-    monkeypatch.setattr(triangle, "_threads", lambda blocks: 1)
+    monkeypatch.setattr(triangle, "threads_for", lambda blocks: 1)
     alone = computed_altitude_azimuth(lat, 0.0, lha, dec)
     assert np.array_equal(threaded[0], alone[0]) and np.array_equal(threaded[1], alone[1])
     phi, d, t = np.radians(lat), np.radians(dec), np.radians(lha)
     expected = np.degrees(np.arcsin(np.sin(phi) * np.sin(d) + np.cos(phi) * np.cos(d) * np.cos(t)))
     assert np.allclose(threaded[0], expected, atol=1e-9)
-    monkeypatch.setattr(triangle, "_threads", lambda blocks: 4)
+    monkeypatch.setattr(triangle, "threads_for", lambda blocks: 4)
     assert computed_altitude_azimuth(lat.reshape(1, -1), np.zeros((2, 1)), lha, dec)[0].shape == (2, n)
     lat[-1] = np.nan
     with pytest.raises(AngleInputError, match="finite"):

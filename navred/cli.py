@@ -931,7 +931,13 @@ def mark_command(
         if not workings:
             raise NavredError("give the workings to mark (files, a folder, or a workbook with a sheet per cadet), "
                               "or --template FILE for an empty one")
-        from .workings import mark_workings, marking_csv, write_marking_pdf, write_marking_workbook
+        from .workings import (
+            mark_workings,
+            marking_csv,
+            unit_text,
+            write_marking_pdf,
+            write_marking_workbook,
+        )
 
         source = _source(workings)
         for path in (output, pdf):
@@ -952,7 +958,7 @@ def mark_command(
                     off = row["difference"]
                     typer.echo(f"{row['cadet']}: row {row['row']} ({row['body']}): first wrong line "
                                f"{row['first_wrong_line']} (given {row['given']}, expected {row['expected']}"
-                               + (f", off by {off:+.1f} {row['unit']}" if off == off else "") + ")"
+                               + (f", off by {off:+.1f}{unit_text(row['unit'])}" if off == off else "") + ")"
                                + (f": {row['cause']}" if row["cause"] else ": no catalogued cause"))
             for row in report.workings.log.rejected.itertuples():
                 typer.echo(f"not read: row {row.row} of {row.source}: {row.column}: {row.reason}")

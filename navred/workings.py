@@ -121,6 +121,11 @@ _UTC = re.compile(r"^\s*(\d{4})-(\d{2})-(\d{2})[T ](\d{2}):(\d{2})(?::(\d{2}(?:\
                   re.IGNORECASE)
 
 
+def unit_text(unit: str) -> str:
+    """A unit as it follows a number: the minute and degree marks close up to it, words after a space."""
+    return str(unit) if unit in ("′", "°", "″") else f" {unit}"
+
+
 def parse_worked(line: str, text: str, decimal_comma: bool = False) -> float | np.datetime64:
     """One cell of a worked line, in :func:`navred.marking.mark`'s units; raises with the forms accepted.
 
@@ -584,7 +589,7 @@ def marking_pages(report: MarkingReport) -> list:
             figure.text(0.07, y, "The mistakes", fontsize=11, weight="bold", color=INK)
             for r in wrong.to_dict("records"):
                 off = r["difference"]
-                difference = "" if off != off else f" (off by {off:+.1f} {r['unit']})"
+                difference = "" if off != off else f" (off by {off:+.1f}{unit_text(r['unit'])})"
                 later = int(r["lines wrong"]) - 1
                 text = (f"Row {r['row']}, {r['body']}: {r['first_wrong_line']} was given as "
                         f"{r['given'] or '(nothing)'}, it should be {r['expected'] or 'given'}{difference}. "

@@ -171,13 +171,13 @@ _RATES_HELP = ("A rating log of time signals (utc, reading, timepiece): a sight 
                "takes its timepiece's predicted error (docs/timepieces.md).")
 
 
-def _ratings(rates: str | None):
-    """The rating log given with --rates, read and fitted (None without one)."""
+def _ratings(rates, dates: str | None = None):
+    """The rating log given with --rates, read and fitted with the log's date order (None without one)."""
     if not rates:
         return None
     from .timesignals import read_rating_log
 
-    return read_rating_log(rates)
+    return read_rating_log(rates, dates=dates)
 
 
 def _reduced(log):
@@ -221,12 +221,12 @@ def reduce_command(
             from .logbook import read_sight_log_blocks
             from .output import csv_text
 
-            ratings = _ratings(rates)
+            ratings = _ratings(rates, dates)
             for k, block in enumerate(read_sight_log_blocks(_source(sights_files), dates=dates, rates=ratings)):
                 sys.stdout.write(csv_text(_reduced(block), header=k == 0))
             sys.stdout.flush()
             return
-        log = read_sight_log(_source(sights_files), dates=dates, rates=_ratings(rates))
+        log = read_sight_log(_source(sights_files), dates=dates, rates=_ratings(rates, dates))
         reduced = _reduced(log)
         labels = [label.removeprefix("row ") for label in _labels(reduced)]
         width = max([len(x) for x in labels] + [3])
@@ -402,7 +402,7 @@ def fix_command(
         if (lat is None) != (lon is None):
             raise NavredError("give both --chart-lat and --chart-lon, or neither")
         voyage = process_log(_source(sights_files), dates=dates, solve_motion=solve_motion, plan=False, at_utc=at,
-                             rates=_ratings(rates))
+                             rates=_ratings(rates, dates))
         names = [g.name for g in voyage.groups]
         if group is not None:
             voyage.group(group)  # refuses an unknown group, naming the log's groups
@@ -477,7 +477,7 @@ def workbook_command(
             plots = str(target.with_name(target.name.removesuffix(".xlsx") + "-plots"))
         if plots and Path(plots).exists() and not Path(plots).is_dir():
             raise NavredError(f"--plots {plots}: that is a file; give a folder for the plotting sheets")
-        ratings = _ratings(rates)
+        ratings = _ratings(rates, dates)
         log = read_sight_log(_source(sights_files), dates=dates, rates=ratings)
         check_fits(len(log.table))
         for path in (target, gpx, geojson):
@@ -989,7 +989,7 @@ def days_command(
             if not picture.lower().endswith((".png", ".svg")):
                 raise NavredError(f"--picture {picture}: give a file ending .png or .svg")
         voyage = process_log(_source(sights_files), dates=dates, plan=False, carry_current=carry_current,
-                             rates=_ratings(rates))
+                             rates=_ratings(rates, dates))
         days = voyage.days_work()
         if csv:
             sys.stdout.write(csv_text(days.noons))
@@ -1039,6 +1039,7 @@ def days_command(
 def rate_command(
     rating_logs: list[str] = typer.Argument(..., metavar="RATING_LOG...", help="Time-signal comparisons: CSV or .xlsx with utc (the signal), reading (the timepiece at it), and timepiece and zone_description where needed."),
     csv: bool = typer.Option(False, "--csv", help="Print every comparison with its error and residual as CSV."),
+    dates: str | None = typer.Option(None, "--dates", help=_DATES_HELP),
 ) -> None:
     """Each timepiece's error and daily rate from time signals, by least squares, with the rate's 95 %
     interval, and a flag when the rate has changed.
@@ -1048,7 +1049,7 @@ def rate_command(
     from .output import csv_text
 
     with _reported():
-        ratings = _ratings(rating_logs if len(rating_logs) > 1 else rating_logs[0])
+        ratings = _ratings(rating_logs if len(rating_logs) > 1 else rating_logs[0], dates)
         if csv:
             import pandas as pd
 

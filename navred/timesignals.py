@@ -26,7 +26,7 @@ from .errors import NavredError
 from .rating import RateChange, RateFit, error_in_half_day, fit_rate, rate_change, residuals_s
 from .readers import LogbookError, read_table
 from .timescales import utc_jd_to_datetime64, utc_julian_date, utc_julian_date_from_components
-from .timework import parse_time_of_day, parse_zone_description
+from .timework import DATE_ORDERS, iso_instant_text, parse_time_of_day, parse_zone_description
 from .vocabulary import normalise_header
 
 #: The rating log's columns and the headers that name them.
@@ -128,8 +128,13 @@ def _cell_text(value) -> str:
     return str(value).strip()
 
 
-def read_rating_log(source: object) -> Ratings:
-    """Read a rating log (one file, several, or a folder) and fit each timepiece's error and rate."""
+def read_rating_log(source: object, *, dates: str | None = None) -> Ratings:
+    """Read a rating log (one file, several, or a folder) and fit each timepiece's error and rate.
+
+    ``dates``: the order of numeric dates (``'day-first'`` or ``'month-first'``), as for a sight log;
+    without it such a date is refused with both of its readings."""
+    if dates is not None and dates not in DATE_ORDERS:
+        raise LogbookError(f"dates {dates!r} is not one of {', '.join(DATE_ORDERS)}")
     tables = read_table(source)
     rows, problems = [], []
     for table in tables:
@@ -152,7 +157,7 @@ def read_rating_log(source: object) -> Ratings:
                 problems.append((table.source, number, header or "(row)", "", reason))
                 continue
             cells = {key: table.columns[k].iloc[index] for key, k in keys.items()}
-            row, trouble = _comparison(cells)
+            row, trouble = _comparison(cells, dates)
             for column, value, reason in trouble:
                 header = table.header[keys[column]] if column in keys else column
                 problems.append((table.source, number, header, value, reason))
@@ -175,7 +180,7 @@ def read_rating_log(source: object) -> Ratings:
     return Ratings(pieces, rejected, tuple(t.source for t in tables))
 
 
-def _comparison(cells: dict) -> tuple[dict, list[tuple[str, str, str]]]:
+def _comparison(cells: dict, dates: str | None = None) -> tuple[dict, list[tuple[str, str, str]]]:
     """One row: the signal's instant, the reading and the zone, the error; or the problems found."""
     trouble = []
     signal = cells.get("utc")
@@ -188,7 +193,7 @@ def _comparison(cells: dict) -> tuple[dict, list[tuple[str, str, str]]]:
                 stamp = pd.Timestamp(signal)
                 stamp = stamp.tz_localize("UTC") if stamp.tzinfo is None else stamp.tz_convert("UTC")
             else:
-                jd1, jd2 = utc_julian_date(_cell_text(signal))
+                jd1, jd2 = utc_julian_date(iso_instant_text(_cell_text(signal), dates))
                 stamp = pd.Timestamp(utc_jd_to_datetime64(jd1, jd2)[()]).tz_localize("UTC")
         except (NavredError, ValueError, TypeError) as exc:
             trouble.append(("utc", _cell_text(signal), str(exc)))

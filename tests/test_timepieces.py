@@ -169,3 +169,22 @@ def test_the_rated_passage_gives_the_days_work_of_the_passage_kept_in_utc():
                        atol=0.03)
     assert list(rated.set_drift["fix (UTC)"]) == list(kept.set_drift["fix (UTC)"])  # to the nearest second
     assert np.allclose(rated.set_drift["drift (kn)"], kept.set_drift["drift (kn)"], atol=0.005)
+
+
+def test_a_numeric_date_in_the_rating_log_follows_the_sight_logs_rule(tmp_path):
+    """05/04/2026 has two readings: refused with both unless the order is declared, as in a sight log
+    (common practice: both orders are written at sea)."""
+    path = tmp_path / "signals.csv"
+    path.write_text("timepiece,utc,reading\n"
+                    "Chrono A,05/04/2026 12:00Z,12:00:01.0\n"
+                    "Chrono A,2026-04-06T12:00:00Z,12:00:01.5\n")
+    refused = read_rating_log(path)
+    reason = refused.rejected.set_index("row").reason[2]
+    assert "day-first it is 2026-04-05" in reason and "month-first 2026-05-04" in reason
+    read = read_rating_log(path, dates="day-first")
+    assert len(read.rejected) == 0
+    comparisons = read.timepieces["Chrono A"].comparisons
+    assert str(comparisons.signal_utc.iloc[0])[:10] == "2026-04-05"
+    assert comparisons["error_s"].tolist() == pytest.approx([1.0, 1.5])
+    cli = runner.invoke(app, ["rate", str(path), "--dates", "day-first"])
+    assert cli.exit_code == 0 and "2 comparisons" in cli.output

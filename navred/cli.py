@@ -1063,7 +1063,7 @@ def rate_command(
             typer.echo(f"not read: row {r.row} of {r.source}: {r.column}: {r.reason}")
 
 
-@app.command("route")
+@app.command("route", context_settings={"ignore_unknown_options": True})
 def route_command(
     from_lat: str = typer.Argument(..., metavar="FROM_LAT", help="Latitude of the start: 49 57.0 N"),
     from_lon: str = typer.Argument(..., metavar="FROM_LON", help="Longitude of the start: 005 12.0 W"),

@@ -174,3 +174,9 @@ def test_route_command_prints_and_writes_csv_gpx_geojson(tmp_path):
     assert list(table.columns)[:3] == ["waypoint", "lat", "lon"]
     refused = runner.invoke(app, ["route", "40 30", "073 00 W", "49 57 N", "005 12 W"])
     assert refused.exit_code == 1 and "FROM_LAT" in refused.output
+    # signed decimals (ISO 6709) as arguments: a west longitude's minus sign is a value, not an option
+    decimal = runner.invoke(app, ["route", "40.5", "-73", "49.95", "-5.2", "--csv"])
+    assert decimal.exit_code == 0, decimal.output
+    assert pd.read_csv(io.StringIO(decimal.stdout)).equals(table)
+    mistyped = runner.invoke(app, ["route", "40.5", "-73", "49.95", "-5.2", "--spacng", "100"])
+    assert mistyped.exit_code == 2 and "--spacng" in mistyped.output  # a mistyped option is still named

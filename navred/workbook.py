@@ -780,23 +780,32 @@ def drawers_for(n_sheets: int, workers: int | None) -> int:
 
 
 def _drawn_batches(batches, drawers: int):
-    """Each batch's files in order; with several drawers, a few batches ahead at most (memory stays bounded)."""
-    if drawers <= 1 or len(batches) <= 1:
-        for batch in batches:
-            yield _draw_batch(batch)
-        return
-    import multiprocessing
-    from collections import deque
-    from concurrent.futures import ProcessPoolExecutor
+    """Each batch's files in order; with several drawers, a few batches ahead at most (memory stays bounded).
+    Should a drawing process die (out of memory, killed), the batches not yet handed out are drawn here."""
+    done = 0
+    if drawers > 1 and len(batches) > 1:
+        import multiprocessing
+        from collections import deque
+        from concurrent.futures import ProcessPoolExecutor
+        from concurrent.futures.process import BrokenProcessPool
 
-    with ProcessPoolExecutor(max_workers=drawers, mp_context=multiprocessing.get_context("fork")) as pool:
-        pending: deque = deque()
-        for batch in batches:
-            pending.append(pool.submit(_draw_batch, batch))
-            if len(pending) > drawers:
-                yield pending.popleft().result()
-        while pending:
-            yield pending.popleft().result()
+        try:
+            with ProcessPoolExecutor(max_workers=drawers, mp_context=multiprocessing.get_context("fork")) as pool:
+                pending: deque = deque()
+                for batch in batches:
+                    pending.append(pool.submit(_draw_batch, batch))
+                    if len(pending) > drawers:
+                        files = pending.popleft().result()
+                        done += 1
+                        yield files
+                while pending:
+                    files = pending.popleft().result()
+                    done += 1
+                    yield files
+        except BrokenProcessPool:
+            pass  # the rest in this process
+    for batch in batches[done:]:
+        yield _draw_batch(batch)
 
 
 def write_lunar_workbook(inputs: dict, result: dict, path) -> Path:

@@ -156,3 +156,27 @@ def test_sheets_drawn_by_several_processes_are_the_files_drawn_by_one(tmp_path, 
     for a, b in zip(one, two):
         assert a.read_bytes() == b.read_bytes(), a.name
     assert workbook.drawers_for(10_000, None) >= 1 and workbook.drawers_for(10, None) == 1
+
+
+def test_a_drawing_process_that_dies_leaves_its_sheets_to_the_first(tmp_path, monkeypatch):
+    """Should a forked drawer die (out of memory, killed), the sheets not yet written are drawn by the
+    first process: every file is still written, the same as one process writes it."""
+    import os
+
+    import navred.workbook as workbook
+
+    voyage = process_log("sample_sights/demo_sights.csv", plan=False)
+    monkeypatch.setattr(workbook, "PLOTS_PER_WRITE", 1)
+    one = workbook.write_plots(voyage, tmp_path / "one", ("svg",), workers=1)
+    parent = os.getpid()
+    figure = workbook.plotting_figure
+
+    def dies_in_a_drawer(*args):
+        if os.getpid() != parent:
+            os._exit(1)  # the drawer dies without a word
+        return figure(*args)
+
+    monkeypatch.setattr(workbook, "plotting_figure", dies_in_a_drawer)  # the forked drawers inherit it
+    two = workbook.write_plots(voyage, tmp_path / "two", ("svg",), workers=2)
+    assert [p.name for p in two] == [p.name for p in one]
+    assert all(a.read_bytes() == b.read_bytes() for a, b in zip(one, two))

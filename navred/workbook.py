@@ -19,6 +19,7 @@ import pandas as pd
 
 from .angles import format_angle
 from .errors import NavredError
+from .forking import can_fork, cores, forked_map
 from .output import atomic_write, atomic_write_many
 from .xlsxtables import TableWriter, safe_text
 
@@ -735,12 +736,9 @@ def write_plots(voyage: VoyageResult, folder: str | Path, formats: tuple[str, ..
     stems = plot_file_stems(g.name for g in chosen)
     batches = [(start, min(start + PLOTS_PER_WRITE, len(chosen))) for start in range(0, len(chosen), PLOTS_PER_WRITE)]
     _sight_labels(voyage)  # worked out once, before any drawer starts
-    _DRAWING.update(voyage=voyage, chosen=chosen, stems=stems, formats=tuple(formats))
-    try:
-        for files in _drawn_batches(batches, drawers_for(len(chosen), workers)):
-            written += atomic_write_many(out, files, inputs=voyage.log.sources)
-    finally:
-        _DRAWING.clear()
+    context = {"voyage": voyage, "chosen": chosen, "stems": stems, "formats": tuple(formats)}
+    for files in forked_map(_draw_batch, batches, context=context, workers=drawers_for(len(chosen), workers)):
+        written += atomic_write_many(out, files, inputs=voyage.log.sources)
     return written
 
 
@@ -748,15 +746,13 @@ def write_plots(voyage: VoyageResult, folder: str | Path, formats: tuple[str, ..
 PLOTS_PER_WRITE = 250
 #: from this many plotting sheets, several processes draw them
 PARALLEL_FROM = 400
-#: what the drawing processes read: set before they are forked, cleared after
-_DRAWING: dict = {}
 
 
-def _draw_batch(batch: tuple[int, int]) -> dict[str, bytes]:
+def _draw_batch(context: dict, batch: tuple[int, int]) -> dict[str, bytes]:
     """One batch of plotting sheets drawn (in this process or in a forked drawer)."""
     from .plotting import canvas_bytes
 
-    voyage, chosen, stems, formats = (_DRAWING[k] for k in ("voyage", "chosen", "stems", "formats"))
+    voyage, chosen, stems, formats = (context[k] for k in ("voyage", "chosen", "stems", "formats"))
     files = {}
     for group, stem in zip(chosen[batch[0]:batch[1]], stems[batch[0]:batch[1]]):
         sheet = plotting_figure(voyage, group)
@@ -766,46 +762,13 @@ def _draw_batch(batch: tuple[int, int]) -> dict[str, bytes]:
 
 
 def drawers_for(n_sheets: int, workers: int | None) -> int:
-    """How many processes draw: one below PARALLEL_FROM sheets or where processes cannot be forked."""
-    import multiprocessing
-    import os
-
-    if "fork" not in multiprocessing.get_all_start_methods():
+    """How many processes draw: one below PARALLEL_FROM sheets (or where processes cannot be forked), else
+    ``workers``, by default one per core."""
+    if not can_fork():
         return 1
     if workers is None:
-        if n_sheets < PARALLEL_FROM:
-            return 1
-        workers = len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else (os.cpu_count() or 1)
-    return max(1, min(int(workers), 8))
-
-
-def _drawn_batches(batches, drawers: int):
-    """Each batch's files in order; with several drawers, a few batches ahead at most (memory stays bounded).
-    Should a drawing process die (out of memory, killed), the batches not yet handed out are drawn here."""
-    done = 0
-    if drawers > 1 and len(batches) > 1:
-        import multiprocessing
-        from collections import deque
-        from concurrent.futures import ProcessPoolExecutor
-        from concurrent.futures.process import BrokenProcessPool
-
-        try:
-            with ProcessPoolExecutor(max_workers=drawers, mp_context=multiprocessing.get_context("fork")) as pool:
-                pending: deque = deque()
-                for batch in batches:
-                    pending.append(pool.submit(_draw_batch, batch))
-                    if len(pending) > drawers:
-                        files = pending.popleft().result()
-                        done += 1
-                        yield files
-                while pending:
-                    files = pending.popleft().result()
-                    done += 1
-                    yield files
-        except BrokenProcessPool:
-            pass  # the rest in this process
-    for batch in batches[done:]:
-        yield _draw_batch(batch)
+        return 1 if n_sheets < PARALLEL_FROM else cores()
+    return max(1, int(workers))
 
 
 def write_lunar_workbook(inputs: dict, result: dict, path) -> Path:

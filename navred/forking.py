@@ -1,0 +1,85 @@
+"""(edge) Work shared among forked processes, in order, with every warning kept.
+
+Two jobs are long enough to share among a machine's cores and split cleanly into independent
+pieces: drawing thousands of plotting sheets, and reducing a long log block by block for
+``navred reduce --csv``. :func:`forked_map` runs ``function(context, item)`` for each item in
+processes forked from this one (they inherit ``context`` as it is, nothing is pickled but the
+item and the result), yields the results in the items' order with a few pieces ahead at most
+(memory stays bounded), and re-issues here every warning a piece raised, so that the command
+prints it. Where the system cannot fork, or one piece is all there is, this process does the
+work; should a forked process die (out of memory, killed), the pieces not yet handed back are
+done here. The results are those this process would give (tested for both jobs).
+"""
+
+from __future__ import annotations
+
+import multiprocessing
+import os
+import warnings
+from collections import deque
+from collections.abc import Callable, Iterable, Iterator
+from typing import Any
+
+#: what the forked processes work with: set before they are forked, cleared after
+_CONTEXT: dict = {}
+#: at most this many processes, however many cores there are
+MAX_WORKERS = 8
+
+
+def cores() -> int:
+    """The cores this process may use."""
+    return len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else (os.cpu_count() or 1)
+
+
+def can_fork() -> bool:
+    return "fork" in multiprocessing.get_all_start_methods()
+
+
+def _run(function: Callable[[Any, Any], Any], item: Any) -> tuple[Any, list[Warning]]:
+    """One piece in a forked process: its result and the warnings it raised."""
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        result = function(_CONTEXT["context"], item)
+    return result, [w.message for w in caught]
+
+
+def forked_map(function: Callable[[Any, Any], Any], items: Iterable[Any], *, context: Any,
+               workers: int) -> Iterator[Any]:
+    """``function(context, item)`` for each item, in order, worked by up to ``workers`` forked processes.
+
+    ``function`` must be a module-level function (it is sent by name); ``context`` is inherited by
+    the processes, never sent."""
+    items = list(items)
+    done = 0
+    workers = max(1, min(int(workers), MAX_WORKERS, len(items)))
+    if workers > 1 and can_fork():
+        from concurrent.futures import ProcessPoolExecutor
+        from concurrent.futures.process import BrokenProcessPool
+
+        _CONTEXT["context"] = context
+        try:
+            with ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("fork")) as pool:
+                pending: deque = deque()
+                following = iter(items)
+                for item in following:
+                    pending.append(pool.submit(_run, function, item))
+                    if len(pending) > workers:
+                        break
+                while pending:
+                    result, raised = pending.popleft().result()
+                    for message in raised:
+                        warnings.warn(message, stacklevel=2)
+                    done += 1
+                    yield result
+                    for item in following:  # one more handed out for each one handed back
+                        pending.append(pool.submit(_run, function, item))
+                        break
+        except BrokenProcessPool:
+            pass  # a process died: the rest here
+        finally:
+            _CONTEXT.clear()
+    for item in items[done:]:
+        yield function(context, item)
+
+
+__all__ = ["forked_map", "cores", "can_fork", "MAX_WORKERS"]

@@ -192,6 +192,17 @@ def _reduced(log):
     return reduce_sights(log)
 
 
+#: rows of a long log reduced together by navred reduce --csv (each core holds one block's working)
+REDUCE_BLOCK_ROWS = 25_000
+
+
+def _reduced_block_csv(plan, k: int) -> str:
+    """Block ``k`` of a long log read, reduced and written as CSV (the header with the first)."""
+    from .output import csv_text
+
+    return csv_text(_reduced(plan.read(k)), header=k == 0)
+
+
 def _labels(reduced):
     from .frames import row_labels
 
@@ -217,13 +228,20 @@ def reduce_command(
 
     with _reported():
         if csv:
-            # block by block: a fleet's archive of a million sights never sits in memory whole
-            from .logbook import read_sight_log_blocks
+            # block by block, the blocks shared among the cores: a fleet's archive of a million sights never sits
+            # in memory whole
+            from .forking import cores, forked_map
+            from .logbook import sight_log_blocks
             from .output import csv_text
 
             ratings = _ratings(rates, dates)
-            for k, block in enumerate(read_sight_log_blocks(_source(sights_files), dates=dates, rates=ratings)):
-                sys.stdout.write(csv_text(_reduced(block), header=k == 0))
+            source = _source(sights_files)
+            plan = sight_log_blocks(source, dates=dates, rates=ratings, block_rows=REDUCE_BLOCK_ROWS)
+            if plan is None:
+                sys.stdout.write(csv_text(_reduced(read_sight_log(source, dates=dates, rates=ratings))))
+            else:
+                for text in forked_map(_reduced_block_csv, range(len(plan)), context=plan, workers=cores()):
+                    sys.stdout.write(text)
             sys.stdout.flush()
             return
         log = read_sight_log(_source(sights_files), dates=dates, rates=_ratings(rates, dates))

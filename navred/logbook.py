@@ -431,16 +431,45 @@ def read_sight_log_blocks(source: object, *, dates: str | None = None, block_row
     :func:`read_sight_log` gives (tested). Any other source is one block, the whole log: the
     automatic fix groups (and the rules across several files) need every row at once.
     """
+    plan = sight_log_blocks(source, dates=dates, block_rows=block_rows, rates=rates)
+    if plan is None:
+        yield read_sight_log(source, dates=dates, rates=rates)
+        return
+    for k in range(len(plan)):
+        yield plan.read(k)
+
+
+@dataclass
+class LogBlocks:
+    """A long plain log to be read block by block (:func:`sight_log_blocks`): ``read(k)`` is block ``k``
+    read by the rules of :func:`read_sight_log`, independently of the other blocks (so blocks may be read
+    in any order, or by other processes)."""
+
+    plain: object  # navred.readers.PlainBlocks
+    layout: object
+    dates: str | None
+    rates: object | None
+
+    def __len__(self) -> int:
+        return len(self.plain)
+
+    def read(self, k: int) -> SightLog:
+        return _parse([self.plain.block(k)], [self.layout], self.dates, self.rates)
+
+
+def sight_log_blocks(source: object, *, dates: str | None = None, block_rows: int = 100_000,
+                     rates: object | None = None) -> LogBlocks | None:
+    """The blocks a log can be read in (see :func:`read_sight_log_blocks`), or None when it must be read
+    whole with :func:`read_sight_log` (not a plain CSV file, no longer than one block, or rows that leave
+    their fix group or their DR to be worked out from the whole log)."""
     if dates is not None and dates not in DATE_ORDERS:
         raise LogbookError(f"dates {dates!r} is not one of {', '.join(DATE_ORDERS)}")
     plain = plain_csv_blocks(source, block_rows) if isinstance(source, (str, Path)) and Path(source).is_file() \
         else None
     if plain is None or len(plain.lines) <= block_rows:
-        yield read_sight_log(source, dates=dates, rates=rates)
-        return
+        return None
     _result_names()
-    blocks = iter(plain)
-    first = next(blocks)
+    first = plain.block(0)
     layout = _layout(first)
     if layout.problems:
         raise LogbookError(f"{first.source}: " + "; ".join(layout.problems))
@@ -449,12 +478,8 @@ def read_sight_log_blocks(source: object, *, dates: str | None = None, block_row
     dr_given = layout.keys.get("dr_lat")
     # automatic fix groups, and DRs carried along the log's track, need the whole log at once
     if not labels or plain.any_blank(labels) or "entry" in layout.keys or not dr_given or plain.any_blank(dr_given):
-        del plain, blocks, first
-        yield read_sight_log(source, dates=dates, rates=rates)  # automatic fix groups: the whole log at once
-        return
-    yield _parse([first], [layout], dates, rates)
-    for table in blocks:
-        yield _parse([table], [layout], dates, rates)
+        return None
+    return LogBlocks(plain, layout, dates, rates)
 
 
 def _check_is_log(table: RawTable, keys: dict) -> None:
@@ -1131,5 +1156,5 @@ def _unique(header: list[str]) -> list[str]:
     return out
 
 
-__all__ = ["read_sight_log", "SightLog", "LogbookError", "REJECTED_COLUMNS", "SIGHT_COLUMNS",
-           "DEFAULT_GROUP_GAP_HOURS"]
+__all__ = ["read_sight_log", "read_sight_log_blocks", "sight_log_blocks", "LogBlocks", "SightLog", "LogbookError",
+           "REJECTED_COLUMNS", "SIGHT_COLUMNS", "DEFAULT_GROUP_GAP_HOURS"]

@@ -310,14 +310,24 @@ class PlainBlocks:
                 return True
         return False
 
+    def __len__(self) -> int:
+        """The number of blocks."""
+        return -(-len(self.lines) // self.rows)
+
+    def block(self, k: int) -> RawTable:
+        """Block ``k`` (from 0) as a table of its rows, numbered as in the file."""
+        if not hasattr(self, "_short"):
+            self._short = max(map(len, self.lines), default=0) <= MAX_CELL_CHARS
+        start = k * self.rows
+        table = _plain_block(self.source, list(self.header), self.lines[start:start + self.rows],
+                             self.first_row_number + start, self.separator, short_lines=self._short)
+        if table is None:  # every line's fields were counted when the file was read
+            raise LogbookError(f"{self.source}: a block could not be read as it was checked (a navred defect)")
+        return table
+
     def __iter__(self):
-        short = max(map(len, self.lines), default=0) <= MAX_CELL_CHARS
-        for start in range(0, len(self.lines), self.rows):
-            block = _plain_block(self.source, list(self.header), self.lines[start:start + self.rows],
-                                 self.first_row_number + start, self.separator, short_lines=short)
-            if block is None:  # every line's fields were counted when the file was read
-                raise LogbookError(f"{self.source}: a block could not be read as it was checked (a navred defect)")
-            yield block
+        for k in range(len(self)):
+            yield self.block(k)
 
 
 def plain_csv_blocks(path: str | Path, rows: int) -> PlainBlocks | None:

@@ -1,0 +1,62 @@
+"""Work shared among forked processes (navred.forking): the results and the warnings are those one process
+gives, in order, whatever happens to the processes; and navred reduce --csv, which shares a long log's
+blocks among the cores, writes the very text it writes alone."""
+
+from __future__ import annotations
+
+import os
+import warnings
+
+import pytest
+from typer.testing import CliRunner
+
+import navred.cli as cli
+import navred.forking as forking
+from navred.errors import NavredWarning
+from navred.forking import forked_map
+
+runner = CliRunner()
+PARENT = os.getpid()
+
+
+def scaled(context: int, item: int) -> int:
+    """A piece of work that warns, as a reduction past the time tables does."""
+    warnings.warn(f"piece {item} done in process {'the first' if os.getpid() == PARENT else 'a forked one'}",
+                  NavredWarning, stacklevel=1)
+    return context * item
+
+
+def dies_when_forked(context: int, item: int) -> int:
+    if os.getpid() != PARENT:
+        os._exit(1)  # the process dies without a word
+    return context * item
+
+
+def test_results_come_in_order_with_every_warning():
+    with pytest.warns(NavredWarning) as caught:
+        results = list(forked_map(scaled, range(12), context=3, workers=2))
+    assert results == [3 * k for k in range(12)]
+    texts = sorted(str(w.message) for w in caught)
+    assert len(texts) == 12 and all(f"piece {k} done" in " ".join(texts) for k in range(12))
+    if forking.can_fork():
+        assert any("a forked one" in t for t in texts)  # the work was shared, and its warnings came back
+
+
+def test_a_process_that_dies_leaves_its_work_to_the_first():
+    assert list(forked_map(dies_when_forked, range(6), context=2, workers=2)) == [0, 2, 4, 6, 8, 10]
+
+
+def test_reduce_csv_shared_among_processes_writes_what_one_process_writes(monkeypatch):
+    """The training voyage (invented, 402 sights, every row naming its fix group) in blocks of 60 rows: shared
+    among two processes, worked by one, and read whole, the CSV is the same text."""
+    log = "sample_sights/training_sights.csv"
+    monkeypatch.setattr(cli, "REDUCE_BLOCK_ROWS", 60)
+    monkeypatch.setattr(forking, "cores", lambda: 2)
+    shared = runner.invoke(cli.app, ["reduce", log, "--csv"])
+    monkeypatch.setattr(forking, "cores", lambda: 1)
+    alone = runner.invoke(cli.app, ["reduce", log, "--csv"])
+    monkeypatch.setattr(cli, "REDUCE_BLOCK_ROWS", 100_000)
+    whole = runner.invoke(cli.app, ["reduce", log, "--csv"])
+    assert shared.exit_code == alone.exit_code == whole.exit_code == 0
+    assert shared.stdout == alone.stdout == whole.stdout
+    assert len(shared.stdout.splitlines()) == 403

@@ -57,26 +57,28 @@ def forked_map(function: Callable[[Any, Any], Any], items: Iterable[Any], *, con
         from concurrent.futures.process import BrokenProcessPool
 
         _CONTEXT["context"] = context
+        pool = ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("fork"))
         try:
-            with ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("fork")) as pool:
-                pending: deque = deque()
-                following = iter(items)
-                for item in following:
+            pending: deque = deque()
+            following = iter(items)
+            for item in following:
+                pending.append(pool.submit(_run, function, item))
+                if len(pending) > workers:
+                    break
+            while pending:
+                result, raised = pending.popleft().result()
+                for message in raised:
+                    warnings.warn(message, stacklevel=2)
+                done += 1
+                yield result
+                for item in following:  # one more handed out for each one handed back
                     pending.append(pool.submit(_run, function, item))
-                    if len(pending) > workers:
-                        break
-                while pending:
-                    result, raised = pending.popleft().result()
-                    for message in raised:
-                        warnings.warn(message, stacklevel=2)
-                    done += 1
-                    yield result
-                    for item in following:  # one more handed out for each one handed back
-                        pending.append(pool.submit(_run, function, item))
-                        break
+                    break
         except BrokenProcessPool:
             pass  # a process died: the rest here
         finally:
+            # the pieces not yet started are dropped when the reader stops early (a closed pipe, an error)
+            pool.shutdown(wait=True, cancel_futures=True)
             _CONTEXT.clear()
     for item in items[done:]:
         yield function(context, item)

@@ -18,6 +18,15 @@ from navred.readers import SEPARATORS
 DEMO = "sample_sights/demo_sights.csv"
 #: the seeded runs stop at the first failure they generate (shrinking big batches would take minutes)
 _NO_SHRINK = (Phase.explicit, Phase.reuse, Phase.generate)
+
+
+def seeded(examples: int):
+    """The settings of every fuzzing test here: seeded, bounded, no deadline, no shrinking (a failure is
+    reported as found), the suite's fixtures and large inputs allowed."""
+    return settings(max_examples=examples, derandomize=True, deadline=None, database=None, phases=_NO_SHRINK,
+                    suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow,
+                                           HealthCheck.data_too_large])
+
 with open(DEMO, encoding="utf-8") as handle:
     BASE = list(csv.reader(handle))
 HEADER, ROWS = BASE[0], BASE[1:]
@@ -96,9 +105,7 @@ def accounted(log, files):
     assert log.rejected.column.map(lambda c: isinstance(c, str) and len(c) > 0).all()
 
 
-@settings(max_examples=45, derandomize=True, deadline=None, database=None, phases=_NO_SHRINK,
-          suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow,
-                                 HealthCheck.data_too_large])
+@seeded(45)
 @given(st.lists(_LOG, min_size=50, max_size=50))
 def test_mutated_logs_lose_no_row_and_good_rows_read_the_same(tmp_path_factory, plans):
     # 45 seeded examples of 50 mutated logs each, read together: 2,250 logs
@@ -128,8 +135,7 @@ def test_mutated_logs_lose_no_row_and_good_rows_read_the_same(tmp_path_factory, 
         assert same.all(), (column, good.loc[~same, ["source", "row"]].head(), a[~same][:3], b[~same][:3])
 
 
-@settings(max_examples=150, derandomize=True, deadline=None, database=None, phases=_NO_SHRINK,
-          suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
+@seeded(150)
 @given(st.sampled_from(list(SEPARATORS)), st.sampled_from(["utf-8", "utf-8-sig", "utf-16", "cp1252"]),
        st.integers(0, 4000), st.binary(max_size=6), st.booleans())
 def test_encodings_separators_truncation_and_stray_bytes(tmp_path_factory, separator, encoding, cut, stray, insert):
@@ -235,9 +241,7 @@ _WORKING_EDITS = st.lists(st.tuples(st.integers(0, len(_WORKINGS) - 1), st.sampl
                           min_size=1, max_size=6)
 
 
-@settings(max_examples=25, derandomize=True, deadline=None, database=None, phases=_NO_SHRINK,
-          suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow,
-                                 HealthCheck.data_too_large])
+@seeded(25)
 @given(_WORKING_EDITS)
 def test_mutated_workings_are_marked_row_for_row_and_every_bad_line_is_named(tmp_path_factory, edits):
     """Hostile or careless cells in the cadet's lines: every sight is still marked, each cell that cannot be
@@ -298,9 +302,7 @@ _SIGNAL_EDITS = st.lists(st.tuples(st.integers(0, len(_SIGNALS) - 1), st.sampled
                          min_size=1, max_size=5)
 
 
-@settings(max_examples=60, derandomize=True, deadline=None, database=None, phases=_NO_SHRINK,
-          suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow,
-                                 HealthCheck.data_too_large])
+@seeded(60)
 @given(_SIGNAL_EDITS)
 def test_mutated_rating_logs_keep_or_refuse_every_row_with_a_reason(tmp_path_factory, edits):
     """Hostile cells in a rating log: every comparison is read or refused by row and column with a reason (or the

@@ -887,9 +887,9 @@ def _carried_dr(parsed, gathered, times, is_entry, entries: pd.DataFrame, proble
             found = origin >= 0
             lat[rows_here[found]], lon[rows_here[found]] = t_lat[found], t_lon[found]
             known_rows = entries["row"].to_numpy()[known]
-            known_kind = entries["entry"].to_numpy(dtype=object)[known]
+            known_words = entries["entry"].to_numpy(dtype=object)[known]
             slots = np.searchsorted(track.knot_ns, e_when[known])
-            by_knot = {int(k): f"the {w} at row {int(r)}" for k, w, r in zip(slots, known_kind, known_rows)}
+            by_knot = {int(k): f"the {w} at row {int(r)}" for k, w, r in zip(slots, known_words, known_rows)}
             note[rows_here[found]] = [f"carried from {by_knot[int(o)]}" for o in origin[found]]
             lost = rows_here[~found]
             problems.add(lost, "dr_lat", "", "no DR: this sight comes before the log's first departure or known "

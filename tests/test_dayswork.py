@@ -284,3 +284,37 @@ def test_a_position_built_on_a_sight_with_a_warning_carries_the_warning(tmp_path
     two.write_text(path.read_text() + "2026-04-14,14:05:00,+1,,,,,,Sun,lower,50 10.0,3.0,afternoon\n")
     fixed = CliRunner().invoke(app, ["fix", str(two)])
     assert "warning: row 3 (Sun): intercept over 30 nm" in fixed.output
+
+
+def test_two_vessels_in_one_log_each_keep_their_own_dr(ts, eph, tmp_path):
+    """Issue 20: a log of two vessels, each with her own departure and courses, gives each vessel the DR, the
+    fixes and the noons that her own half of the log gives when it is read alone (make_passage sails each)."""
+    first, _, _ = passage.make_passage(ts, eph, current=passage.steady, start=START, lat=38.0, lon=-10.0, days=1)
+    second, _, _ = passage.make_passage(ts, eph, current=lambda t: (0.0, 0.0), start=START, lat=36.5, lon=-14.0,
+                                        days=1, vessel="Second Sea Swallow (invented)",
+                                        plan=[(START, 190.0, 5.0), (START + pd.Timedelta(hours=10), 120.0, 7.0)])
+    second["fix_group"] = second["fix_group"].map(lambda g: f"B {g}" if isinstance(g, str) else g)
+    both = pd.concat([first, second], ignore_index=True)
+    both.to_csv(tmp_path / "both.csv", index=False)
+    first.to_csv(tmp_path / "first.csv", index=False)
+    second.to_csv(tmp_path / "second.csv", index=False)
+    together = process_log(tmp_path / "both.csv", plan=False)
+    days = together.days_work()
+    for name, alone_file in ((first.vessel.iloc[0], "first.csv"), (second.vessel.iloc[0], "second.csv")):
+        alone = process_log(tmp_path / alone_file, plan=False)
+        mine = together.reduced[together.reduced.vessel == name].reset_index(drop=True)
+        assert len(mine) == len(alone.reduced) > 0
+        for column in ("dr_lat_deg", "dr_lon_deg", "ho_deg", "intercept_nm"):
+            assert np.allclose(mine[column], alone.reduced[column], atol=1e-9, rtol=0), (name, column)
+        noons = days.noons[days.noons.vessel == name].reset_index(drop=True)
+        own = alone.days_work().noons.reset_index(drop=True)
+        assert len(noons) == len(own) > 0
+        assert (noons["noon position"] == own["noon position"]).all()
+    # and the command that broke on it (a loop variable reused between the vessels) now runs
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+
+    result = CliRunner().invoke(app, ["days", str(tmp_path / "both.csv")])
+    assert result.exit_code == 0, result.output
+    assert first.vessel.iloc[0] in result.output and second.vessel.iloc[0] in result.output

@@ -723,9 +723,11 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
     parsed = {c.key: _parse_key(gathered[c.key], c.key, problems, dates) for c in COLUMNS}
     # malformed rows (wrong field count, control characters, two values for one quantity)
     offset = 0
+    by_reader: dict[int, str] = {}  # rows the reader refused whole: their one reason stands alone
     for table in tables:
         for index, (header, reason) in sorted(table.row_problems.items()):
             problems.add([offset + index], header or "(row)", "", reason)
+            by_reader[offset + index] = reason
         offset += table.n_rows
     entry = _words(parsed["entry"])
     is_entry = parsed["entry"].ok
@@ -765,6 +767,13 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
     dr = _carried_dr(parsed, gathered, times, is_entry, entries, problems)
 
     found = problems.frame().sort_values(["index"], kind="stable")
+    if by_reader:
+        # a row refused as read (a damaged cell, the wrong number of fields, a control character) had its cells
+        # set aside: what its other columns lack follows from that, and is not said
+        reader_reason = found["index"].map(by_reader)
+        keep = reader_reason.isna().to_numpy() | (found["reason"] == reader_reason).to_numpy()
+        found = found[keep]
+        found = found[~found.duplicated(["index"]) | ~found["index"].isin(list(by_reader))]
     index = found["index"].to_numpy(dtype=int)
     found["source"] = sources[index]
     found["row"] = rows[index]

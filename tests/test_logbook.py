@@ -512,3 +512,38 @@ def test_a_log_read_in_blocks_is_the_log_read_whole(tmp_path):
     frame.loc[200, "fix_group"] = ""
     frame.to_csv(path, index=False)
     assert len(list(read_sight_log_blocks(path, block_rows=50))) == 1  # an automatic group: read whole
+
+
+def test_the_sheet_reader_reads_every_cell_as_openpyxl_does(tmp_path):
+    # navred reads a sheet's cells itself (navred.sheetreader) so that a damaged cell costs its row alone; on
+    # sound workbooks (the demo, the class's workings, a workbook navred wrote with dates, numbers and text)
+    # every value is the one openpyxl's read-only, data-only reading gives (the general-purpose reference)
+    import zipfile
+
+    import openpyxl
+
+    from navred.sheetreader import open_workbook, read_sheet_cells
+    from navred.voyage import process_log
+    from navred.workbook import write_workbook
+
+    written = tmp_path / "demo.navred.xlsx"
+    write_workbook(process_log("sample_sights/demo_sights.csv", plan=False), written, plots=False)
+    compared = 0
+    for path in ("sample_sights/demo_sights.xlsx", "sample_sights/class_workings.xlsx", written):
+        reference = openpyxl.load_workbook(path, read_only=True, data_only=True)
+        book = open_workbook(path)
+        with zipfile.ZipFile(path) as archive:
+            for name in reference.sheetnames:
+                expected = {}
+                for number, row in enumerate(reference[name].iter_rows(values_only=True), start=1):
+                    for column, value in enumerate(row, start=1):
+                        if value is not None:
+                            expected[(number, column)] = value
+                cells = read_sheet_cells(book, book[name], archive, take_cells=lambda n: None)
+                got = {(number, column): value for number, values in cells.rows
+                       for column, value in enumerate(values, start=1) if value is not None}
+                assert got == expected, (path, name)
+                compared += len(got)
+        reference.close()
+        book.close()
+    assert compared > 1500

@@ -69,7 +69,7 @@ def test_hand_workings_are_read_under_the_same_bounds(tmp_path, monkeypatch):
             for _ in range(50):
                 member.write(b"\0" * (1 << 20))
     refused_quickly(path, fragment="would unzip to", reader=mark_workings)
-    monkeypatch.setattr(readers, "MAX_ROWS", 10)
+    monkeypatch.setattr(readers, "MAX_RUN_ROWS", 10)
     book = openpyxl.Workbook()
     book.active.title = "Cadet A"
     book.active.append(["utc", "body", "zn_worked", "ho_worked", "intercept_worked"])
@@ -77,7 +77,7 @@ def test_hand_workings_are_read_under_the_same_bounds(tmp_path, monkeypatch):
     for _ in range(30):
         long.append(["2026-03-26T09:10:00Z", "Sun", "113", "25 12.8", "3.2 T"])
     book.save(tmp_path / "class.xlsx")
-    with pytest.raises(LogbookError, match="sheet 'Cadet B' has more than 10 rows"):
+    with pytest.raises(LogbookError, match="sheet 'Cadet B'.*hold 29 rows or more; navred holds at most 10"):
         mark_workings(tmp_path / "class.xlsx")
 
 
@@ -110,6 +110,76 @@ def test_xml_entity_bombs_are_refused_in_gpx_and_in_spreadsheets(tmp_path):
             target.writestr(item, data)
     message = refused_quickly(bomb, LogbookError, "cannot be opened as a spreadsheet")
     assert "laughs.xlsx" in message and "lol" not in message
+
+
+def _demo_workbook(path):
+    """The demo log as a workbook written by openpyxl: date-time cells for utc, numbers for the eye, text else."""
+    import datetime as dt
+
+    demo = pd.read_csv(DEMO, dtype=str, keep_default_na=False)
+    book = openpyxl.Workbook()
+    sheet = book.active
+    sheet.append(list(demo.columns))
+    for row in demo.itertuples(index=False):
+        cells = list(row)
+        cells[0] = dt.datetime.strptime(cells[0], "%Y-%m-%dT%H:%M:%SZ")
+        cells[5] = float(cells[5])
+        sheet.append(cells)
+    book.save(path)
+
+
+#: Damaged cell XML (ECMA-376 cell types: n, s, str, inlineStr, b, e, d): the cell of each row (spreadsheet row,
+#: column letter) replaced by one damaged cell; each such row is rejected alone, named by row and column.
+DAMAGED_CELLS = [
+    (2, "F", '<c r="F2" t="n"><v>NaN</v></c>', "eye_height_m", "not a finite number"),
+    (3, "F", '<c r="F3" t="n"><v>two metres</v></c>', "eye_height_m", "marked as a number but holds"),
+    (4, "B", '<c r="B4" t="s"><v>99999</v></c>', "body", "shared text '99999'"),
+    (5, "A", '<c r="A5" t="d"><v>yesterday</v></c>', "utc", "marked as a date but holds"),
+    (6, "G", '<c r="G6" t="b"><v>maybe</v></c>', "horizon", "marked TRUE/FALSE but holds"),
+    (7, "B", '<c r="B0" t="inlineStr"><is><t>Moon</t></is></c>', "body", "reference 'B0' is not in row 7"),
+    (8, "F", '<c r="F8" t="e"><v>#DIV/0!</v></c>', "eye_height_m", "shows the error #DIV/0!"),
+    (9, "A", '<c r="A9" s="1" t="n"><v>1e20</v></c>', "utc", "outside the dates"),
+    (10, "F", '<c r="F10" t="x"><v>2.8</v></c>', "eye_height_m", "unknown type 'x'"),
+]
+
+
+def test_damaged_cells_inside_an_xlsx_reject_their_own_rows_by_row_and_column(tmp_path):
+    # issue 20: openpyxl raised in the middle of its row iteration for 5 of these 9, losing the whole log;
+    # navred reads the sheet cell by cell (navred.sheetreader) and names each damaged cell
+    import re
+
+    clean = tmp_path / "clean.xlsx"
+    _demo_workbook(clean)
+    damaged = tmp_path / "damaged.xlsx"
+    with zipfile.ZipFile(clean) as source, zipfile.ZipFile(damaged, "w", zipfile.ZIP_DEFLATED) as target:
+        for item in source.infolist():
+            data = source.read(item.filename)
+            if item.filename == "xl/worksheets/sheet1.xml":
+                text = data.decode()
+                for row, column, cell, _, _ in DAMAGED_CELLS:
+                    text, count = re.subn(rf'<c r="{column}{row}"[^>]*?(?:/>|>.*?</c>)', cell, text, count=1)
+                    assert count == 1, (row, column)
+                data = text.encode()
+            target.writestr(item, data)
+    expected = read_sight_log(clean)
+    assert len(expected.sights) == 11
+    started = time.perf_counter()
+    log = read_sight_log(damaged)
+    assert time.perf_counter() - started < REFUSED_WITHIN_S
+    rejected = log.rejected.set_index("row")
+    assert sorted(rejected.index) == [row for row, *_ in DAMAGED_CELLS]  # one reason per row, no follow-on lines
+    for row, _, _, column, fragment in DAMAGED_CELLS:
+        assert rejected.loc[row, "column"] == column, (row, rejected.loc[row].to_dict())
+        assert fragment in rejected.loc[row, "reason"], (row, rejected.loc[row, "reason"])
+    good = log.sights.set_index("row")
+    assert list(good.index) == [11, 12]
+    clean_rows = expected.sights.set_index("row").loc[[11, 12]]
+    for column in ("sight_utc", "hs_deg", "eye_height_m", "dr_lat_deg", "dr_lon_deg", "body_name"):
+        assert (good[column] == clean_rows[column]).all(), column
+    # the command shows each, by row, and exits 0 for the two it reduced
+    result = runner.invoke(app, ["reduce", str(damaged)])
+    assert result.exit_code == 0 and "Traceback" not in result.output
+    assert all(f"\n{row:>3}" in result.output for row, *_ in DAMAGED_CELLS), result.output
 
 
 @pytest.mark.parametrize("content, name, fragment", [

@@ -20,7 +20,7 @@ from __future__ import annotations
 
 import datetime as _dt
 import functools
-from collections.abc import Iterator
+from collections.abc import Iterable, Iterator
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -34,6 +34,7 @@ from .readers import (
     LogbookError,
     MissingFormulaValue,
     RawTable,
+    ReadBudget,
     blank_mask,
     plain_csv_blocks,
     read_table,
@@ -67,6 +68,7 @@ from .vocabulary import (
     convert_to_working_unit,
     match_header,
     normalise_header,
+    unknown_header_refusal,
 )
 
 REJECTED_COLUMNS = ["source", "row", "column", "value", "reason"]
@@ -118,6 +120,9 @@ class SightLog:
     #: the entries of the ship's progress read well (departure, position, course, current), in file order:
     #: :data:`ENTRY_COLUMNS`; they are not sights and are not in ``table``
     entries: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(columns=ENTRY_COLUMNS))
+    #: what the navigator should know of the files as a whole: the columns navred does not read (kept as
+    #: text), columns repeated, a file read as Windows-1252; every command prints them, the workbook keeps them
+    notes: tuple[str, ...] = field(default=())
 
     @functools.cached_property
     def as_read(self) -> pd.DataFrame:
@@ -353,13 +358,20 @@ class _Layout:
     units: dict[int, str | None]  # header index -> the unit it is given in
     extras: list[int]  # headers navred does not know: carried through as text
     problems: list[str]  # headers refused (ambiguous, or a unit the column does not take)
+    #: what the navigator should know of the headers: the columns navred does not read, the repeated ones
+    notes: list[str] = field(default_factory=list)
 
 
-def _layout(table: RawTable) -> _Layout:
+def _layout(table: RawTable, also_reads: frozenset[str] = frozenset()) -> _Layout:
+    """The table's headers matched with the vocabulary; ``also_reads``: normalised headers the caller reads
+    itself (a hand working's lines), kept as extra columns without a note."""
+    from .readers import column_letter
+
     normalised = [normalise_header(h) for h in table.header]
     # navred's own reduce output read back: its parsed columns carry the sight, the rest is computed again
     output = {"ho_deg", "hc_deg", "intercept_nm", "status", "sight_utc", "body_name"} <= set(normalised)
     layout = _Layout({}, {}, [], [])
+    unread = []
     for k, header in enumerate(table.header):
         name = normalised[k]
         if name in BOOKKEEPING_HEADERS:
@@ -377,9 +389,28 @@ def _layout(table: RawTable) -> _Layout:
             layout.problems.append(match.problem)
         elif match.key is None:
             layout.extras.append(k)
+            if name in also_reads or header.strip().endswith(OUTPUT_SUFFIX):
+                continue
+            refusal = unknown_header_refusal(header)
+            if refusal:
+                layout.problems.append(refusal)
+            else:
+                unread.append(header)
         else:
             layout.keys.setdefault(match.key, []).append(k)
             layout.units[k] = match.unit
+    file = Path(table.source).name if table.source != "(table)" else "the table"
+    if unread:
+        shown = ", ".join(repr(h) for h in unread[:12]) + (f" and {len(unread) - 12} more" if len(unread) > 12 else "")
+        layout.notes.append(f"{file}: column{'s' if len(unread) > 1 else ''} navred does not read, kept as text: "
+                            f"{shown}")
+    for key, indices in layout.keys.items():
+        same = [k for k in indices if normalised[k] == normalised[indices[0]]]
+        if len(same) > 1:
+            letters = " and ".join(column_letter(k) for k in same)
+            layout.notes.append(f"{file}: columns {letters} are all headed {table.header[same[0]]!r}: read as one "
+                                "where they agree; a row where they differ is rejected")
+    layout.notes.extend(table.notes)
     return layout
 
 
@@ -395,7 +426,8 @@ def _result_names() -> set[str]:
 
 
 def read_sight_log(source: object, *, dates: str | None = None, all_sheets: bool = False,
-                   rates: object | None = None) -> SightLog:
+                   rates: object | None = None, also_reads: Iterable[str] = (),
+                   budget: ReadBudget | None = None) -> SightLog:
     """Read and check sight logs: a file (CSV or .xlsx), a list of files, a folder, or a DataFrame.
 
     ``dates`` declares the order of numeric dates that are not ISO 8601 for the whole log
@@ -404,16 +436,21 @@ def read_sight_log(source: object, *, dates: str | None = None, all_sheets: bool
     hand workings, a sheet per cadet) instead of one. ``rates`` (a
     :class:`navred.timesignals.Ratings`, from the rating log) gives the watch error of a sight
     kept in zone time whose ``watch_error`` is blank: the error its timepiece's rating predicts.
+    ``also_reads``: headers the caller reads itself (a hand working's lines), kept as extra columns.
+    A column navred does not read is named in :attr:`SightLog.notes`; one that looks like a correction or a
+    misspelt column is refused, naming the column navred expects. ``budget`` bounds what the run reads
+    (:class:`navred.readers.ReadBudget`; by default the bounds of one run).
     Returns a :class:`SightLog`; a source that is not a sight log at all raises
     :class:`LogbookError` with one message.
     """
     if dates is not None and dates not in DATE_ORDERS:
         raise LogbookError(f"dates {dates!r} is not one of {', '.join(DATE_ORDERS)}")
     _result_names()
-    tables = read_table(source, all_sheets=all_sheets)
+    own = frozenset(normalise_header(h) for h in also_reads)
+    tables = read_table(source, all_sheets=all_sheets, budget=budget)
     layouts = []
     for table in tables:
-        layout = _layout(table)
+        layout = _layout(table, own)
         if layout.problems:
             raise LogbookError(f"{table.source}: " + "; ".join(layout.problems))
         _check_is_log(table, layout.keys)
@@ -449,6 +486,11 @@ class LogBlocks:
     layout: object
     dates: str | None
     rates: object | None
+
+    @property
+    def notes(self) -> list[str]:
+        """What the navigator should know of the log's headers (as :attr:`SightLog.notes`)."""
+        return list(self.layout.notes)
 
     def __len__(self) -> int:
         return len(self.plain)
@@ -551,6 +593,8 @@ def _gather(tables, layouts, key) -> _Cells:
             cells = table.columns[k].to_numpy(dtype=object)
             filled = ~blank_mask(pd.Series(cells, dtype=object))
             for i in np.flatnonzero(filled & ~blank):
+                if layout.units[k] == unit[i] and _text(cells[i]).strip() == _text(column[i]).strip():
+                    continue  # the same value twice, in the same unit (a column repeated): one value
                 table.row_problems.setdefault(int(i), (table.header[k], (
                     f"two values for {key.replace('_', ' ')}: {header[i]!r} {_text(column[i])!r} and "
                     f"{table.header[k]!r} {_text(cells[i])!r}; keep one")))
@@ -804,8 +848,9 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
     rejected["row"] = rejected["row"].astype(int)
     if not sight_row.all():
         table = table[sight_row].reset_index(drop=True)
+    notes = tuple(dict.fromkeys(note for layout in layouts for note in layout.notes))
     return SightLog(table, rejected, tuple(t.source for t in tables), sum(t.empty_rows for t in tables), dates,
-                    tuple(names), tuple(tables), entries=entries)
+                    tuple(names), tuple(tables), entries=entries, notes=notes)
 
 
 def _check_entries(entry, is_entry, parsed, gathered, problems) -> None:

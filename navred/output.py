@@ -30,11 +30,27 @@ class OutputError(NavredError):
     """An output path navred will not write to."""
 
 
-def check_output(path: str | Path, inputs: Iterable[str | Path] = ()) -> Path:
-    """The output path, after refusing one that is not a regular file, is an input, or cannot be written."""
+#: The longest temporary name navred adds to a target's name (".NAME.PID.RANDOM.navred-tmp.EXT"), less the name.
+_TEMP_EXTRA = len(".") + len(".4194304.") + 8 + len(".navred-tmp")
+
+
+def check_output(path: str | Path, inputs: Iterable[str | Path] = (), *, suffixes: Iterable[str] = (),
+                 what: str = "") -> Path:
+    """The output path, after refusing one that is not a regular file, is an input, cannot be written, has a
+    name too long for its temporary file, or (``suffixes`` given, such as ('.xlsx',)) does not end with a
+    suffix whose format navred writes there (``what``: the option, for the message)."""
     target = Path(path)
+    named = f"{what} " if what else ""
     if str(path).strip() == "":
-        raise OutputError("no output file given (an empty name)")
+        raise OutputError(f"{named}no output file given (an empty name)".strip())
+    try:
+        longest = os.pathconf(_existing_folder(target), "PC_NAME_MAX")
+    except (OSError, ValueError):
+        longest = 255
+    if len(os.fsencode(target.name)) + len(os.fsencode(target.suffix)) + _TEMP_EXTRA > longest:
+        raise OutputError(f"{named}{target.name[:40]}...: the name is too long for this folder ({len(target.name)} "
+                          f"characters; navred writes through a temporary name {_TEMP_EXTRA + len(target.suffix)} "
+                          f"characters longer, and the folder takes {longest}): give a shorter name")
     if target.is_symlink():
         raise OutputError(f"{target} is a symbolic link: give the real path of the file to write")
     if target.exists():
@@ -53,6 +69,10 @@ def check_output(path: str | Path, inputs: Iterable[str | Path] = ()) -> Path:
         if same or source_path.resolve() == target.resolve():
             raise OutputError(f"{target} is one of the inputs of this run: writing it would overwrite it; give "
                               "another output name")
+    suffixes = tuple(s.lower() for s in suffixes)
+    if suffixes and target.suffix.lower() not in suffixes:
+        raise OutputError(f"{named}{target}: navred writes {' or '.join(s.lstrip('.').upper() for s in suffixes)} "
+                          f"there, so the name must end {' or '.join(suffixes)} (the suffix says what the file holds)")
     parent = target.parent
     for folder in (parent, *parent.parents):
         if folder.exists():
@@ -62,6 +82,14 @@ def check_output(path: str | Path, inputs: Iterable[str | Path] = ()) -> Path:
                 raise OutputError(f"cannot write {target}: the folder {folder} is not writable (read-only?)")
             break
     return target
+
+
+def _existing_folder(target: Path) -> Path:
+    """The nearest folder of the target's that exists (where its name will be made)."""
+    for folder in (target.parent, *target.parent.parents):
+        if folder.is_dir():
+            return folder
+    return Path(".")
 
 
 def _sweep(folder: Path, name: str) -> None:

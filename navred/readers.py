@@ -721,7 +721,7 @@ def _sheet_table(path: Path, label: str, name: str, cells, refuse_empty: bool, b
     header = ["" if v is None or isinstance(v, CellProblem) else str(v).strip() for v in header_cells]
     bad_header = next((k for k, v in enumerate(header_cells) if isinstance(v, CellProblem)), None)
     if bad_header is not None:
-        raise LogbookError(f"{label}: the header cell {_column_letter(bad_header)}{header_number} cannot be read: "
+        raise LogbookError(f"{label}: the header cell {column_letter(bad_header)}{header_number} cannot be read: "
                            f"{header_cells[bad_header].reason}")
     while header and header[-1] == "":
         header.pop()
@@ -746,7 +746,7 @@ def _typed_table(source, header, body, empty, row_problems=None) -> RawTable:
     width = len(header)
     for k, name in enumerate(header):
         if name == "" and any(k < len(r) and _filled(r[k]) for _, r in body):
-            raise LogbookError(f"{source}: column {_column_letter(k)} holds values but has no header (merged "
+            raise LogbookError(f"{source}: column {column_letter(k)} holds values but has no header (merged "
                                "header cells?); give each column its own header cell")
     columns: list[list[object]] = [[] for _ in range(width)]
     numbers: list[int] = []
@@ -761,12 +761,12 @@ def _typed_table(source, header, body, empty, row_problems=None) -> RawTable:
             problem = ("(row)", row_problems[number])
         bad = next((k for k, v in enumerate(raw) if isinstance(v, CellProblem)), None)
         if problem is None and bad is not None:
-            problem = (header[bad] if bad < width else _column_letter(bad), raw[bad].reason)
+            problem = (header[bad] if bad < width else column_letter(bad), raw[bad].reason)
         beyond = next((k for k in range(width, len(raw)) if _filled(raw[k])), None)
         if problem is None and beyond is not None:
-            problem = (_column_letter(beyond), (
-                f"a value ({_shown(str(raw[beyond]))[:40]!r}) in column {_column_letter(beyond)}, right of the last "
-                f"header ({_column_letter(width - 1)} {header[-1]!r}): a header is missing, or the value is in the "
+            problem = (column_letter(beyond), (
+                f"a value ({_shown(str(raw[beyond]))[:40]!r}) in column {column_letter(beyond)}, right of the last "
+                f"header ({column_letter(width - 1)} {header[-1]!r}): a header is missing, or the value is in the "
                 "wrong column"))
         if problem is not None:
             problems[index] = problem
@@ -779,8 +779,8 @@ def _typed_table(source, header, body, empty, row_problems=None) -> RawTable:
     return _finish(source, header, series, np.asarray(numbers, dtype=int), problems, malformed, None, empty)
 
 
-def _column_letter(index: int) -> str:
-    """The letters of a 0-based column index."""
+def column_letter(index: int) -> str:
+    """The letters of a 0-based column index: 0 is 'A'."""
     from .sheetreader import column_letters
 
     return column_letters(index + 1)
@@ -822,5 +822,5 @@ def _blank_mask(column: pd.Series) -> np.ndarray:
     return missing
 
 
-__all__ = ["RawTable", "read_table", "plain_csv_blocks", "PlainBlocks", "blank_mask", "LogbookError", "MissingFormulaValue", "MAX_FILE_BYTES",
+__all__ = ["RawTable", "read_table", "ReadBudget", "column_letter", "check_input_file", "plain_csv_blocks", "PlainBlocks", "blank_mask", "LogbookError", "MissingFormulaValue", "MAX_FILE_BYTES",
            "MAX_ROWS", "MAX_COLUMNS", "MAX_CELL_CHARS"]

@@ -76,6 +76,19 @@ class VoyageResult:
         return self.cache["days_work"]
 
     @property
+    def inputs(self) -> tuple[str, ...]:
+        """Every file the run read (the logs, the rating log, a reference track): never to be written over."""
+        ratings = getattr(self.ratings, "sources", ()) if self.ratings is not None else ()
+        track = (self.training.track_source,) if getattr(self.training, "track_source", "") else ()
+        return tuple(dict.fromkeys([*self.log.sources, *ratings, *track]))
+
+    @property
+    def notes(self) -> tuple[str, ...]:
+        """What the readers noted about the files as a whole (the log's and the rating log's)."""
+        ratings = tuple(getattr(self.ratings, "notes", ()) or ()) if self.ratings is not None else ()
+        return tuple(dict.fromkeys([*self.log.notes, *ratings]))
+
+    @property
     def raw(self) -> pd.DataFrame:
         """The log exactly as read (for the 'Sights as read' sheet)."""
         return self.log.as_read

@@ -187,7 +187,8 @@ def read_workings(source: object, *, dates: str | None = None) -> Workings:
     sight cannot be read is rejected there; a line that cannot be read is listed in
     ``unreadable`` (and marked wrong, with the reason).
     """
-    log = read_sight_log(source, dates=dates, all_sheets=True)
+    lines = [*WORKED_FORMS, *(line.removesuffix("_worked") for line in WORKED_FORMS)]
+    log = read_sight_log(source, dates=dates, all_sheets=True, also_reads=lines)
     table = log.table
     n = len(table)
     headers = _worked_headers(log)

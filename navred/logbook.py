@@ -404,7 +404,7 @@ def _layout(table: RawTable, also_reads: frozenset[str] = frozenset()) -> _Layou
         shown = ", ".join(repr(h) for h in unread[:12]) + (f" and {len(unread) - 12} more" if len(unread) > 12 else "")
         layout.notes.append(f"{file}: column{'s' if len(unread) > 1 else ''} navred does not read, kept as text: "
                             f"{shown}")
-    for key, indices in layout.keys.items():
+    for indices in layout.keys.values():
         same = [k for k in indices if normalised[k] == normalised[indices[0]]]
         if len(same) > 1:
             letters = " and ".join(column_letter(k) for k in same)

@@ -343,8 +343,10 @@ def reduce_command(
                            f"{row.message}")
                 continue
             intercept = f"{abs(row.intercept_nm):5.1f} nm {row.intercept_direction}"
+            carried = getattr(row, "motion_carried_from", "")
+            note = "; ".join(t for t in (row.message, carried) if t)
             typer.echo(f"{label:>{width}}  {row.body_name:<15}{when:<21}{format_angle(row.ho_deg, 'signed'):>12}"
-                       f"{format_angle(row.hc_deg, 'signed'):>12}{row.zn_deg:7.1f}°  {intercept:<18}{row.message}")
+                       f"{format_angle(row.hc_deg, 'signed'):>12}{row.zn_deg:7.1f}°  {intercept:<18}{note}")
         counts = reduced.status.value_counts()
         empty = f", {log.empty_rows} empty row{'s' if log.empty_rows > 1 else ''} skipped" if log.empty_rows else ""
         typer.echo(f"{int(counts.get('ok', 0) + counts.get('warning', 0))} sights reduced "
@@ -388,6 +390,8 @@ def _print_fix(group, reduced, labels) -> None:
         flag = "BLUNDER? left out of the check fix" if fix.outlier[k] else ""
         if reduced.status.iloc[row] == "error":
             flag = "not reduced"
+        carried = reduced["motion_carried_from"].iloc[row] if "motion_carried_from" in reduced.columns else ""
+        flag = "; ".join(t for t in (flag, carried) if t)
         text = f"{residual:+.1f}′" if residual == residual else "-"
         typer.echo(f"  {labels[row]:<{width}}  {str(reduced.body_name.iloc[row]):<16}{text:>10}  {flag}")
     if fix.without_outliers is not None:

@@ -62,6 +62,7 @@ from .vocabulary import (
     ENTRIES,
     HORIZONS,
     LIMBS,
+    NO_HORIZON,
     OUTPUT_SUFFIX,
     UNIT_CONVERSIONS,
     UNIT_NAMES,
@@ -86,7 +87,7 @@ SIGHT_COLUMNS = [
     "measured_dip_arcmin", "temperature_c",
     "temperature_as_given", "pressure_hpa", "pressure_as_given", "dr_lat_deg", "dr_lon_deg", "course_deg",
     "speed_kn", "dut1_given_s", "fix_group", "fix_group_given", "chart_lat_deg", "chart_lon_deg", "vessel",
-    "observer", "voyage", "series", "read_problem", "read_problem_column", "dr_carried_from",
+    "observer", "voyage", "series", "read_problem", "read_problem_column", "dr_carried_from", "motion_carried_from",
 ]
 #: The columns of a log's entries (:attr:`SightLog.entries`).
 ENTRY_COLUMNS = ["source", "row", "utc", "entry", "lat_deg", "lon_deg", "course_deg", "speed_kn", "set_deg",
@@ -242,6 +243,15 @@ def _word(value, table: dict, what: str) -> str:
     return table[word]
 
 
+def _horizon(value) -> str:
+    """The horizon a sight was taken on; a word saying there was none is refused with what to write."""
+    if normalise_header(_text(value)) in NO_HORIZON:
+        raise NavredError(f"horizon {value!r}: every altitude is measured from a horizon of some kind: write bubble "
+                          "(a bubble or other built-in horizon), artificial (a reflecting one), or sea (or leave the "
+                          "cell blank) for the sea horizon")
+    return _word(value, HORIZONS, "horizon")
+
+
 def _ranged(number: float, key: str, unit: str | None) -> float:
     column = COLUMN[key]
     used = convert_to_working_unit(number, unit)
@@ -302,7 +312,7 @@ _PARSERS = {
     "body": lambda v, dc, unit, dates: canonical_body_name(_text(_not_formula(v))),
     "limb": lambda v, dc, unit, dates: _word(_not_formula(v), LIMBS, "limb"),
     "entry": lambda v, dc, unit, dates: _word(_not_formula(v), ENTRIES, "entry"),
-    "horizon": lambda v, dc, unit, dates: _word(_not_formula(v), HORIZONS, "horizon"),
+    "horizon": lambda v, dc, unit, dates: _horizon(_not_formula(v)),
     "altitude": lambda v, dc, unit, dates: float(parse_angle(_not_formula(v), "angle", dc)),
     "lat": lambda v, dc, unit, dates: float(parse_angle(_not_formula(v), "lat", dc)),
     "lon": lambda v, dc, unit, dates: float(parse_angle(_not_formula(v), "lon", dc)),
@@ -641,7 +651,7 @@ def _numeric_checks(column, numbers: np.ndarray, units: np.ndarray) -> tuple[np.
         elif kind == "index_error":
             bad |= np.abs(used) > 30.0
         elif kind == "watch_error":
-            bad |= np.abs(used) > 3600.0
+            bad |= (np.abs(used) > 3600.0) | (used > 0.0)  # a positive number has lost its sign: judged one by one
         elif kind == "zone":
             bad |= True  # a number cell of a zone description: each is judged one by one
     return used, bad
@@ -809,7 +819,27 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
     times = _time_working(parsed, gathered, problems, rates)
     entries = _entries(n, sources, rows, entry, is_entry, parsed, times, problems)
     dr = _carried_dr(parsed, gathered, times, is_entry, entries, problems)
+    motion_note = _carried_motion(dr, parsed, gathered, times, is_entry, entries, rows, problems)
+    while True:
+        table, found, message, sight_row = _tabled(n, sources, rows, parsed, gathered, times, problems, by_reader,
+                                                    dr, motion_note, entry, is_entry)
+        if not _motion_missing(table, (message == "") & sight_row, gathered, problems):
+            break  # (a sight refused for a running fix without its motion changes the groups: made again)
+    extras, names = _extras(tables, layouts)
+    for name, values in extras.items():
+        table[name] = values
+    rejected = found[REJECTED_COLUMNS].reset_index(drop=True)
+    rejected["row"] = rejected["row"].astype(int)
+    if not sight_row.all():
+        table = table[sight_row].reset_index(drop=True)
+    notes = tuple(dict.fromkeys(note for layout in layouts for note in layout.notes))
+    return SightLog(table, rejected, tuple(t.source for t in tables), sum(t.empty_rows for t in tables), dates,
+                    tuple(names), tuple(tables), entries=entries, notes=notes)
 
+
+def _tabled(n, sources, rows, parsed, gathered, times, problems, by_reader, dr, motion_note, entry, is_entry):
+    """The sight table of the problems found so far: (table, the problems as rows, each row's message, which
+    rows are sights)."""
     found = problems.frame().sort_values(["index"], kind="stable")
     if by_reader:
         # a row refused as read (a damaged cell, the wrong number of fields, a control character) had its cells
@@ -834,6 +864,7 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
     table["dr_lat_deg"], table["dr_lon_deg"] = dr["lat"], dr["lon"]
     table["course_deg"], table["speed_kn"] = dr["course"], dr["speed"]
     table["dr_carried_from"] = dr["note"]
+    table["motion_carried_from"] = motion_note
     sight_row = ~(is_entry & (message == ""))  # an entry read well is kept apart; a bad one is a rejected row
     bad_entry = is_entry & (message != "") & gathered["body"].blank
     if bad_entry.any():  # named by its kind, in brackets, where a sight names its body
@@ -841,17 +872,98 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
         body[bad_entry] = np.char.add(np.char.add("(", entry[bad_entry].astype(str)), ")").astype(object)
         table["body_name"] = body
     table["fix_group"], table["fix_group_given"] = _fix_groups(table, (message == "") & sight_row)
-    extras, names = _extras(tables, layouts)
-    for name, values in extras.items():
-        table[name] = values
-    rejected = found[REJECTED_COLUMNS].reset_index(drop=True)
-    rejected["row"] = rejected["row"].astype(int)
-    if not sight_row.all():
-        table = table[sight_row].reset_index(drop=True)
-    notes = tuple(dict.fromkeys(note for layout in layouts for note in layout.notes))
-    return SightLog(table, rejected, tuple(t.source for t in tables), sum(t.empty_rows for t in tables), dates,
-                    tuple(names), tuple(tables), entries=entries, notes=notes)
+    return table, found, message, sight_row
 
+
+#: A sight taken more than this before its fix's time is advanced to it along the course and speed in force
+#: after it (a running fix): a blank course or speed there would be read as a ship stopped.
+RUN_MINUTES = 2.0
+
+
+def _carried_motion(dr, parsed, gathered, times, is_entry, entries, rows, problems) -> np.ndarray:
+    """A sight's blank course or speed carried from the last row before it (of its vessel, in time) that gives
+    one, a sight's or an entry's, and named in the note returned ('speed 6.5 kn carried from row 7'). The course
+    and speed in ``dr`` are filled in place."""
+    n = rows.size
+    note = np.full(n, "", dtype=object)
+    if not (gathered["course"].present or gathered["speed"].present or len(entries)):
+        return note  # the log keeps no motion at all: nothing to carry (a fix warns of a run without one)
+    course, speed = dr["course"], dr["speed"]
+    given_course, given_speed = _floats(parsed["course"]), _floats(parsed["speed"])
+    ok = times["ok"] & ~problems.mask()
+    sight = ~is_entry
+    when = np.full(n, np.iinfo(np.int64).min, dtype=np.int64)
+    when[times["ok"]] = utc_jd_to_datetime64(times["jd1"][times["ok"]], times["jd2"][times["ok"]]).astype(np.int64)
+    vessels = _words(parsed["vessel"])
+    e_vessel = entries["vessel"].to_numpy(dtype=object) if len(entries) else np.zeros(0, dtype=object)
+    named = set(vessels[sight].tolist()) - {""}
+    if len(entries) and not (e_vessel != "").any() and len(named) == 1:
+        e_vessel = np.full(len(entries), next(iter(named)), dtype=object)
+    e_when = entries["utc"].dt.tz_convert(None).to_numpy().astype("datetime64[ns]").astype(np.int64) \
+        if len(entries) else np.zeros(0, dtype=np.int64)
+    blank = sight & ok & (np.isnan(given_course) | np.isnan(given_speed))
+    for vessel in dict.fromkeys(vessels[blank].tolist()):
+        mine = vessels == vessel
+        own = sight & ok & mine
+        e_mine = e_vessel == vessel
+        change_ns = np.concatenate([e_when[e_mine], when[own]])
+        change_row = np.concatenate([entries["row"].to_numpy(dtype=int)[e_mine], rows[own]])
+        order = np.argsort(change_ns, kind="stable")
+        t = change_ns[order]
+        targets = np.flatnonzero(blank & mine)
+        texts = [[] for _ in targets]
+        for values, given, unit, name in ((np.concatenate([entries["course_deg"].to_numpy(dtype=float)[e_mine],
+                                                           given_course[own]]), given_course, "°", "course"),
+                                          (np.concatenate([entries["speed_kn"].to_numpy(dtype=float)[e_mine],
+                                                           given_speed[own]]), given_speed, " kn", "speed")):
+            values = values[order]
+            last = np.maximum.accumulate(np.where(np.isfinite(values), np.arange(values.size), -1)) \
+                if values.size else np.zeros(0, dtype=int)
+            # the last value given strictly before the sight (its own row gives none), or at its instant by another
+            k = np.searchsorted(t, when[targets], side="right") - 1
+            source = np.where(k >= 0, last[np.maximum(k, 0)] if last.size else -1, -1)
+            for j, (i, src) in enumerate(zip(targets.tolist(), source.tolist())):
+                if np.isfinite(given[i]) or src < 0:
+                    continue
+                value = float(values[src])
+                target = course if name == "course" else speed
+                target[i] = value
+                texts[j].append((name, f"{value:g}{unit}", int(change_row[order][src])))
+        for j, i in enumerate(targets.tolist()):
+            if texts[j]:
+                from_rows = {r for _, _, r in texts[j]}
+                if len(from_rows) == 1:
+                    note[i] = " and ".join(f"{a} {b}" for a, b, _ in texts[j]) + f" carried from row {from_rows.pop()}"
+                else:
+                    note[i] = "; ".join(f"{a} {b} carried from row {r}" for a, b, r in texts[j])
+    return note
+
+
+def _motion_missing(table: pd.DataFrame, usable: np.ndarray, gathered, problems) -> bool:
+    """Refuse the sights of a running fix (taken more than :data:`RUN_MINUTES` before their group's last sight)
+    whose course or speed is blank with none to carry, where the log keeps them: read as a ship stopped, their
+    lines would be advanced wrongly. True when any was refused."""
+    if not (gathered["course"].present or gathered["speed"].present) or not usable.any():
+        return False
+    ticks = table["sight_utc"].dt.tz_convert(None).to_numpy().astype("datetime64[ns]").astype(np.int64)
+    groups = table["fix_group"].to_numpy(dtype=object)
+    frame = pd.DataFrame({"group": groups[usable], "t": ticks[usable]})
+    last = frame.groupby("group", sort=False)["t"].transform("max").to_numpy()
+    rows = np.flatnonzero(usable)
+    early = rows[(last - frame["t"].to_numpy()) > RUN_MINUTES * 60e9]
+    lacking = []
+    for key, what in (("course", "course"), ("speed", "speed")):
+        missing = early[~np.isfinite(table[f"{key}_{'deg' if key == 'course' else 'kn'}"].to_numpy(dtype=float)[early])]
+        for i in missing.tolist():
+            lacking.append((i, key, what))
+    if not lacking:
+        return False
+    for i, key, what in lacking:
+        problems.add([i], gathered[key].headers[i] if gathered[key].present else key, "",
+                     f"{what} is blank, and no row before gives one: this sight is advanced to its running fix "
+                     f"({table['fix_group'].iloc[i]}) along the {what} in force, so give it (a speed of 0 if the "
+                     "ship lay stopped)")
+    return True
 
 def _check_entries(entry, is_entry, parsed, gathered, problems) -> None:
     """An entry row holds no sight, and what its kind needs: a position, a course or speed, or a current."""
@@ -893,7 +1005,7 @@ def _carried_dr(parsed, gathered, times, is_entry, entries: pd.DataFrame, proble
     """Each sight's DR: as given, or carried along the log's DR track (its departure or last known position,
     every course, speed and current since, the sights' own courses and speeds too) to the sight; and the
     course and speed in force where a sight gives none. Each vessel keeps its own track."""
-    from .reckoning import dr_track
+    from .reckoning import PAST_POLE, dr_track
 
     lat, lon = _floats(parsed["dr_lat"]), _floats(parsed["dr_lon"])
     course, speed = _floats(parsed["course"]), _floats(parsed["speed"])
@@ -938,14 +1050,16 @@ def _carried_dr(parsed, gathered, times, is_entry, entries: pd.DataFrame, proble
         rows_here = np.flatnonzero(wanted & mine)
         if rows_here.size:
             t_lat, t_lon, origin = track.positions(when[rows_here])
-            found = origin >= 0
+            polar = (origin >= 0) & ~np.isfinite(t_lat)
+            problems.add(rows_here[polar], "dr_lat", "", PAST_POLE)
+            found = (origin >= 0) & ~polar
             lat[rows_here[found]], lon[rows_here[found]] = t_lat[found], t_lon[found]
             known_rows = entries["row"].to_numpy()[known]
             known_words = entries["entry"].to_numpy(dtype=object)[known]
             slots = np.searchsorted(track.knot_ns, e_when[known])
             by_knot = {int(k): f"the {w} at row {int(r)}" for k, w, r in zip(slots, known_words, known_rows)}
             note[rows_here[found]] = [f"carried from {by_knot[int(o)]}" for o in origin[found]]
-            lost = rows_here[~found]
+            lost = rows_here[origin < 0]
             problems.add(lost, "dr_lat", "", "no DR: this sight comes before the log's first departure or known "
                          "position (an entry row); give dr_lat and dr_lon, or an earlier departure")
         # the course and speed in force, where a sight gives none (for the run between its sights)

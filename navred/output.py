@@ -290,7 +290,7 @@ def csv_text(frame, *, header: bool = True, float_format: str = "%.6f") -> str:
         gap_text = float_format % _GAP
         for k in np.flatnonzero(gaps).tolist():
             rows[k] = rows[k].replace(gap_text, "")
-    lines = [",".join(_quoted(str(name)) for name in frame.columns)] if header else []
+    lines = [",".join(_quoted(_neutral(str(name))) for name in frame.columns)] if header else []
     return "\n".join(lines + rows) + ("\n" if lines or rows else "")
 
 
@@ -337,6 +337,11 @@ def _csv_cell(value, float_format: str) -> str:
     return str(value)
 
 
+def _neutral(text: str) -> str:
+    """Text a spreadsheet would not take for a formula: a ' before =, +, -, @, a tab or a carriage return."""
+    return "'" + text if text.startswith(FORMULA_STARTS) else text
+
+
 def _quoted(text: str) -> str:
     if "," in text or '"' in text or "\n" in text or "\r" in text:
         return '"' + text.replace('"', '""') + '"'
@@ -344,9 +349,12 @@ def _quoted(text: str) -> str:
 
 
 def csv_safe(frame):
-    """A copy of a table whose text cells cannot be taken for formulas by a spreadsheet: a cell that
-    begins with =, +, -, @, a tab or a carriage return gets a ' before it (OWASP, "CSV Injection")."""
+    """A copy of a table whose text cells and headers cannot be taken for formulas by a spreadsheet: a
+    cell or header that begins with =, +, -, @, a tab or a carriage return gets a ' before it (OWASP,
+    "CSV Injection")."""
     out = frame.copy()
+    # the header too: an extra column of a log keeps its own header, which came from the file (OWASP)
+    out.columns = [_neutral(c) if isinstance(c, str) else c for c in out.columns]
     for column in out.columns:
         values = out[column]
         if values.dtype == object or str(values.dtype) in ("str", "string"):

@@ -75,7 +75,8 @@ COLUMNS: tuple[Column, ...] = (
     Column("zone_description", ("zone_description", "zd", "zone"), "zone",
            "the zone the watch keeps: a whole signed hour, ZT + ZD = UTC (+3, -10, +1 N, 0, Z)"),
     Column("watch_error", ("watch_error", "chronometer_error", "deck_watch_error", "dwe"),
-           "watch_error", "the watch's error: '12 fast', '3 s slow', '1 m 05 s fast', or seconds fast (+) / slow (−)",
+           "watch_error", "the watch's error: '12 fast', '3 s slow', '1 m 05 s fast', or seconds with a sign, fast (+) / "
+           "slow (−); a number with neither is refused",
            units=("s",), default_unit="s", low=-3600.0, high=3600.0, default=0.0),
     Column("timepiece", ("timepiece", "chronometer", "chronometer_name", "watch_name"), "text",
            "the timepiece read for zone_time; with a rating log (--rates) and no watch_error, its error is "
@@ -174,13 +175,16 @@ LIMBS = {"lower": "lower", "ll": "lower", "l": "lower", "lower_limb": "lower",
 #: bubble or other built-in horizon, on the body's centre; back: a back sight, measured over the
 #: zenith from the sea horizon behind; waterline: a waterline nearer than the sea horizon (a shore,
 #: a ship), its distance given.
-HORIZONS = {"sea": "sea", "natural": "sea", "visible": "sea", "": "sea", "nan": "sea", "none": "sea",
+HORIZONS = {"sea": "sea", "natural": "sea", "visible": "sea", "": "sea", "nan": "sea",
             "artificial": "artificial", "mercury": "artificial", "reflecting": "artificial", "art": "artificial",
             "water": "artificial", "glass": "artificial",
             "bubble": "bubble", "built_in": "bubble", "builtin": "bubble",
             "back": "back", "back_sight": "back", "backsight": "back",
             "waterline": "waterline", "short": "waterline", "shore": "waterline", "dip_short": "waterline",
             "short_of_horizon": "waterline"}
+
+#: Words that say there was no horizon: refused with what to write instead (a sight needs a horizon of some kind).
+NO_HORIZON = ("none", "no", "no_horizon", "n_a", "na", "without", "nil")
 
 #: The entries of the ship's progress a log may hold beside its sights, and the words that name them.
 ENTRIES = {"departure": "departure", "depart": "departure", "departed": "departure", "start": "departure",
@@ -352,5 +356,6 @@ def convert_to_working_unit(value: float, unit: str | None) -> float:
 
 
 __all__ = ["COLUMNS", "COLUMN", "Column", "HeaderMatch", "match_header", "normalise_header", "LIMBS", "ENTRIES",
+           "NO_HORIZON",
            "LOOKALIKE_HEADERS", "OWN_COLUMN_PREFIXES", "unknown_header_refusal",
            "HORIZONS", "ZONE_LETTERS", "UNIT_CONVERSIONS", "convert_to_working_unit"]

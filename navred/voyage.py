@@ -27,6 +27,7 @@ from .errors import NavredError
 from .fix import FixResult, fixes_from_sights
 from .frames import row_labels, series_columns, utc64
 from .logbook import REJECTED_COLUMNS, SightLog, read_sight_log
+from .reckoning import PAST_POLE
 from .sights import reduce_sights
 from .timescales import iers_table, leap_second_table
 
@@ -198,6 +199,7 @@ def _restart_dr_at_fixes(log: SightLog, reduced: pd.DataFrame, groups: list[Grou
     lat = table["dr_lat_deg"].to_numpy(dtype=float).copy()
     lon = table["dr_lon_deg"].to_numpy(dtype=float).copy()
     note = table["dr_carried_from"].to_numpy(dtype=object).copy()
+    past_pole: list[tuple[int, str]] = []
     for vessel, track in tracks.items():
         rows = carried[vessels[carried] == vessel]
         if not rows.size:
@@ -209,11 +211,27 @@ def _restart_dr_at_fixes(log: SightLog, reduced: pd.DataFrame, groups: list[Grou
         if at_start.any():
             s_lat, s_lon, s_origin = track.kept.positions(when[rows][at_start])
             t_lat[at_start], t_lon[at_start], origin[at_start] = s_lat, s_lon, s_origin
-        found = origin >= 0
+        found = (origin >= 0) & np.isfinite(t_lat)
         lat[rows[found]], lon[rows[found]] = t_lat[found], t_lon[found]
         note[rows[found]] = [f"carried from the {known_label_at(track, o)}" for o in origin[found]]
+        polar = rows[(origin >= 0) & ~np.isfinite(t_lat)]
+        past_pole.extend((int(r), f"{PAST_POLE} (carried from the {known_label_at(track, o)})")
+                         for r, o in zip(polar.tolist(), origin[(origin >= 0) & ~np.isfinite(t_lat)].tolist()))
     table["dr_lat_deg"], table["dr_lon_deg"], table["dr_carried_from"] = lat, lon, note
-    log = replace(log, table=table)
+    rejected = log.rejected
+    if past_pole:  # refused as the reader refuses a row, with its one reason, and kept in the Rejected sheet
+        problem = table["read_problem"].to_numpy(dtype=object).copy()
+        where = table["read_problem_column"].to_numpy(dtype=object).copy()
+        extra = []
+        for row, reason in past_pole:
+            problem[row], where[row] = f"dr_lat: {reason}", "dr_lat"
+            lat[row] = lon[row] = np.nan
+            extra.append({"source": table["source"].iloc[row], "row": int(table["row"].iloc[row]),
+                          "column": "dr_lat", "value": "", "reason": reason})
+        table["read_problem"], table["read_problem_column"] = problem, where
+        table["dr_lat_deg"], table["dr_lon_deg"] = lat, lon
+        rejected = pd.concat([rejected, pd.DataFrame(extra, columns=REJECTED_COLUMNS)], ignore_index=True)
+    log = replace(log, table=table, rejected=rejected)
     reduced = _reduce_with_progress(log, progress)
     if len(reduced):
         for column, values in series_columns(reduced).items():

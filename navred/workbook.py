@@ -129,6 +129,10 @@ def working_table(voyage) -> pd.DataFrame:
     carried = r.dr_carried_from.astype(str).to_numpy()
     if (carried != "").any():
         table.insert(table.columns.get_loc("DR lon (° ′)") + 1, "DR", np.where(carried != "", carried, "as given"))
+    motion = r["motion_carried_from"].astype(str).to_numpy() if "motion_carried_from" in r.columns else np.zeros(0)
+    if (motion != "").any():
+        where = table.columns.get_loc("speed (kn)") + 1 if "speed (kn)" in table.columns else len(table.columns)
+        table.insert(where, "course and speed", np.where(motion != "", motion, "as given"))
     if not (r.time_given == "zone time").any() and not (r.watch_error_applied_s != 0).any():
         table = table.drop(columns=["watch error (s, fast +)", "zone date", "zone time", "ZD (h)"])
     # the log's own extra columns (a cadet's note, a sight number...) ride along at the end

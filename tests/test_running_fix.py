@@ -17,7 +17,7 @@ from navred.fix import (
     latitude_by_meridian_altitude,
     latitude_from_noon_curve,
 )
-from navred.frames import fix_position
+from navred.jobs.frames import fix_position
 from navred.sailings import meridional_parts, rhumb_destination
 from navred.triangle import distance_bearing
 from tests.conftest import skyfield_sight
@@ -131,7 +131,7 @@ def test_the_ellipse_says_which_quantile_it_used():
     # the invented demo (sample_sights/): its Sun-run-Sun residuals are nil, so σ is held at its 0.2′
     # floor and the ellipse takes the known-σ quantile, chi-square(2) 95 % = 5.991 (statistical tables);
     # the six-star fix estimates σ from four redundant sights: F(2, 4)
-    from navred.voyage import process_log
+    from navred.jobs.voyage import process_log
 
     voyage = process_log("sample_sights/demo_sights.csv", plan=False)
     sun = voyage.group("sun-run-sun").fix

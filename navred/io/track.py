@@ -21,9 +21,9 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from .angles import parse_angle
-from .errors import NavredError
-from .timescales import (
+from ..angles import parse_angle
+from ..errors import NavredError
+from ..timescales import (
     instant_components,
     iso_z_datetime64,
     utc_jd_to_datetime64,

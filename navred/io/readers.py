@@ -5,7 +5,7 @@ row by row, with the row number a spreadsheet user sees (the header is row 1 whe
 the first line), and marks the rows that are malformed (the wrong number of fields, a NUL
 byte or another control character, an over-long cell) so that each is rejected alone and
 the rest of the file is still read. Nothing is interpreted here: that is the log reader's
-job (:mod:`navred.logbook`).
+job (:mod:`navred.io.logbook`).
 
 What it reads is bounded (file size, rows, columns, cell length, the unzipped size of a
 spreadsheet), so a crafted file is refused quickly instead of filling the memory.
@@ -23,8 +23,16 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from .errors import NavredError
-from .vocabulary import match_header
+from ..errors import NavredError
+from ..vocabulary import match_header
+from .sheetreader import (
+    CellProblem,
+    MissingFormulaValue,
+    column_letters,
+    open_workbook,
+    read_sheet_cells,
+    sheet_member,
+)
 
 #: Limits on what one file may hold (docs/security.md lists each with what it protects); a larger log is split.
 MAX_FILE_BYTES = 128 * 1024 * 1024
@@ -50,19 +58,6 @@ _CR_STANDIN = "\ue001"  # a carriage return alone inside a line, likewise
 
 class LogbookError(NavredError):
     """A file that is not a readable sight log at all."""
-
-
-class MissingFormulaValue:
-    """A spreadsheet formula cell with no saved value (its value is unknown until a spreadsheet program computes it)."""
-
-    def __init__(self, formula: str):
-        self.formula = formula
-
-    def __repr__(self) -> str:
-        return f"formula {self.formula} with no saved value"
-
-    def __str__(self) -> str:
-        return self.formula
 
 
 @dataclass
@@ -663,8 +658,6 @@ def _read_xlsx_sheets(path: Path, budget: ReadBudget, choose=None, *, refuse_emp
     """The tables of a workbook's sheets (``choose`` picks the sheet names; default: every visible sheet
     that holds a table of two columns or more), each read cell by cell (:mod:`navred.sheetreader`) under the
     run's bounds."""
-    from .sheetreader import open_workbook, read_sheet_cells, sheet_member
-
     archive = _check_zip(path, budget)
     try:
         try:
@@ -710,8 +703,6 @@ def _one_line(exc: Exception) -> str:
 def _sheet_table(path: Path, label: str, name: str, cells, refuse_empty: bool, budget: ReadBudget) -> RawTable | None:
     """The table of one sheet's rows (as :mod:`navred.sheetreader` read them): its header is the first row
     with a value; the rows the file does not hold are empty rows."""
-    from .sheetreader import CellProblem
-
     rows = [(number, values) for number, values in cells.rows if any(_filled(v) for v in values)]
     if not rows:
         if not refuse_empty:
@@ -740,8 +731,6 @@ def _filled(value) -> bool:
 def _typed_table(source, header, body, empty, row_problems=None) -> RawTable:
     """A RawTable from a spreadsheet's typed rows ((row number, cells)); a cell that could not be read, a
     value right of the last header or a row the file numbers wrongly rejects its row alone."""
-    from .sheetreader import CellProblem
-
     _check_width(source, header)
     width = len(header)
     for k, name in enumerate(header):
@@ -781,8 +770,6 @@ def _typed_table(source, header, body, empty, row_problems=None) -> RawTable:
 
 def column_letter(index: int) -> str:
     """The letters of a 0-based column index: 0 is 'A'."""
-    from .sheetreader import column_letters
-
     return column_letters(index + 1)
 
 

@@ -18,11 +18,11 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from .constants import ARCMIN_PER_DEG
-from .fix import t_quantile_975
-from .stars import SOLAR_SYSTEM
-from .track import ReferenceTrack
-from .triangle import computed_altitude_azimuth
+from ..constants import ARCMIN_PER_DEG
+from ..fix import t_quantile_975
+from ..io.track import ReferenceTrack
+from ..stars import SOLAR_SYSTEM
+from ..triangle import computed_altitude_azimuth
 
 BLUNDER_ARCMIN = 5.0
 
@@ -140,7 +140,7 @@ def observer_figure(report: TrainingReport, observer: str):
     matplotlib.use("Agg")
     from matplotlib.figure import Figure
 
-    from .plotting import FIX, GRID, INK, PAPER
+    from ..figures.plotting import FIX, GRID, INK, PAPER
 
     part = report.sights[(report.sights.observer == observer) & report.sights.within_track]
     row = report.observers[report.observers.observer == observer].iloc[0]
@@ -179,7 +179,7 @@ def summary_figure(report: TrainingReport, title: str = "Training summary"):
     matplotlib.use("Agg")
     from matplotlib.figure import Figure
 
-    from .plotting import FIX, GRID, INK
+    from ..figures.plotting import FIX, GRID, INK
 
     figure = Figure(figsize=(8.27, 11.69), dpi=100, facecolor="white")  # A4 portrait
     figure.text(0.07, 0.96, title, fontsize=14, weight="bold", color=INK)

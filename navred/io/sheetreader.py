@@ -29,7 +29,7 @@ import re
 import warnings
 from dataclasses import dataclass, field
 
-from .errors import NavredError
+from ..errors import NavredError
 
 _MAIN = "{http://schemas.openxmlformats.org/spreadsheetml/2006/main}"
 _ROW, _CELL, _VALUE, _FORMULA, _INLINE, _TEXT, _SHEET_DATA = (
@@ -38,6 +38,19 @@ _REFERENCE = re.compile(r"^\$?([A-Za-z]{1,3})\$?([0-9]{1,7})$")
 #: The last row and column a sheet of the .xlsx format has (ECMA-376).
 LAST_ROW = 1_048_576
 LAST_COLUMN = 16_384
+
+
+class MissingFormulaValue:
+    """A spreadsheet formula cell with no saved value (its value is unknown until a spreadsheet program computes it)."""
+
+    def __init__(self, formula: str):
+        self.formula = formula
+
+    def __repr__(self) -> str:
+        return f"formula {self.formula} with no saved value"
+
+    def __str__(self) -> str:
+        return self.formula
 
 
 class CellProblem:
@@ -93,8 +106,6 @@ class _Converter:
 
     def value(self, element):
         from openpyxl.utils.datetime import from_excel, from_ISO8601
-
-        from .readers import MissingFormulaValue
 
         kind = element.get("t", "n")
         if kind == "inlineStr":
@@ -248,5 +259,5 @@ def read_sheet_cells(book, sheet, archive, *, take_cells) -> SheetCells:
     return out
 
 
-__all__ = ["CellProblem", "SheetCells", "read_sheet_cells", "open_workbook", "sheet_member", "column_index",
+__all__ = ["CellProblem", "MissingFormulaValue", "SheetCells", "read_sheet_cells", "open_workbook", "sheet_member", "column_index",
            "column_letters", "LAST_ROW", "LAST_COLUMN"]

@@ -20,10 +20,10 @@ from pathlib import Path
 
 import numpy as np
 
-from . import __version__
+from .. import __version__
+from ..jobs.voyage import VoyageResult
+from ..triangle import destination
 from .output import atomic_write
-from .triangle import destination
-from .voyage import VoyageResult
 
 GPX_NAMESPACE = "http://www.topografix.com/GPX/1/1"
 

@@ -318,3 +318,22 @@ def test_two_vessels_in_one_log_each_keep_their_own_dr(ts, eph, tmp_path):
     result = CliRunner().invoke(app, ["days", str(tmp_path / "both.csv")])
     assert result.exit_code == 0, result.output
     assert first.vessel.iloc[0] in result.output and second.vessel.iloc[0] in result.output
+
+
+def test_a_dr_carried_past_the_pole_is_refused_never_clamped(tmp_path):
+    # issue 20: a DR carried past the pole stopped at 89° 59.9′ without a word. A rhumb line ends at the pole
+    # (Bowditch: a loxodrome spirals into it), so the DR beyond has no position: its sights are refused, named.
+    track = dr_track(np.array([0]), 0.0, 10.0, np.array([0]), 89.0, 0.0)
+    hour = 3_600_000_000_000
+    lat, _, origin = track.positions(np.array([0, 3 * hour, 7 * hour]))
+    assert lat[1] == pytest.approx(89.5, abs=0.01) and np.isnan(lat[2]) and origin[2] == 0
+    assert track.past_pole(np.array([3 * hour, 7 * hour])).tolist() == [False, True]
+    path = tmp_path / "polar.csv"
+    path.write_text("utc,entry,dr_lat,dr_lon,course,speed,vessel,body,hs,eye_height_m,fix_group\n"
+                    "2026-04-14T05:00:00Z,departure,89 30.0 N,010 00.0 W,000,10.0,Ice Petrel (invented),,,,\n"
+                    "2026-04-14T06:00:00Z,,,,,,Ice Petrel (invented),Sun,10 05.0,3.0,a\n"
+                    "2026-04-14T09:00:00Z,,,,,,Ice Petrel (invented),Sun,10 10.0,3.0,b\n")
+    log = read_sight_log(path)
+    assert list(log.sights.row) == [3] and log.sights.dr_lat_deg.iloc[0] == pytest.approx(89 + 40 / 60, abs=0.01)
+    reason = log.rejected.set_index("row").reason[4]
+    assert "carried past the pole" in reason and log.rejected.set_index("row").column[4] == "dr_lat"

@@ -3,6 +3,7 @@ writes that survive a kill and a second run, no traceback and no network."""
 
 from __future__ import annotations
 
+import csv
 import io
 import os
 import signal
@@ -235,6 +236,21 @@ def test_formula_like_text_is_neutralised_in_csv_output(tmp_path):
     assert (out.hs_deg.astype(float) > 0).all()  # numbers stay numbers
 
 
+@pytest.mark.parametrize("command", [["reduce", "--csv"], ["series", "--csv"]])
+def test_csv_headers_are_neutralised_like_cells(tmp_path, command):
+    # issue 20: an extra column's header came from the file and was written live (OWASP, "CSV Injection")
+    demo = pd.read_csv(DEMO, dtype=str, keep_default_na=False)
+    demo['=HYPERLINK("http://example.invalid")'] = "x"
+    demo["@SUM(A1)"] = "y"
+    path = tmp_path / "log.csv"
+    demo.to_csv(path, index=False)
+    result = runner.invoke(app, [command[0], str(path), *command[1:]])
+    assert result.exit_code == 0, result.output
+    header = next(csv.reader(io.StringIO(result.stdout)))
+    assert "'=hyperlink(\"http:_example_invalid\")" in header and "'@sum(a1)" in header  # names as navred keeps them
+    assert not [h for h in header if h.startswith(("=", "+", "-", "@"))]
+
+
 def test_a_deviation_card_is_read_bounded_and_never_overwrites_a_log(tmp_path):
     check = ["compass", "Sun", "--utc", "2026-03-26T17:30:00Z", "--lat", "43 20 N", "--lon", "013 10 W",
              "--compass-bearing", "262", "--variation", "-4", "--heading", "215", "--card"]
@@ -361,6 +377,78 @@ def test_a_long_gap_in_the_track_is_not_bridged(tmp_path):
     assert named == [f"  rows {first}-{last} ({unmarked} sights): {few_report.sights.note[gap_rows.index[0]]}"]
 
 
+@pytest.mark.parametrize("field, value, fragment", [
+    ("lat", "-500.0000", "latitude '-500.0000' is not written as NMEA 0183 writes it"),  # was 5° S
+    ("lat", "nan", "latitude 'nan' is not written"),  # was 0°
+    ("lat", "+3601.0000", "latitude '+3601.0000'"),
+    ("lat", "3601.0000 ", "latitude '3601.0000 '"),
+    ("ns", "n", "N/S 'n'"),
+    ("lon", "1000.0000", "longitude '1000.0000'"),  # four digits of degrees and minutes where five belong
+    ("time", "1e3", "time '1e3'"),
+    ("date", "0510-26", "date '0510-26'"),
+])
+def test_nmea_fields_are_checked_by_pattern_behind_a_good_checksum(tmp_path, field, value, fragment):
+    # NMEA 0183: ddmm.mm latitude, dddmm.mm longitude, N/S, E/W, hhmmss.ss, ddmmyy; a field of another form is
+    # refused by its line even when the checksum (computed over it) is good
+    fields = {"time": "001000.00", "lat": "3601.0000", "ns": "N", "lon": "01000.0000", "ew": "W", "date": "051026"}
+    fields[field] = value
+    bad = nmea(f"GPRMC,{fields['time']},A,{fields['lat']},{fields['ns']},{fields['lon']},{fields['ew']},7.0,230.0,"
+               f"{fields['date']},,")
+    lines = [nmea("GPRMC,000000.00,A,3600.0000,N,01000.0000,W,7.0,230.0,051026,,"), "", bad, "",
+             nmea("GPRMC,002000.00,A,3602.0000,N,01000.0000,W,7.0,230.0,051026,,")]
+    path = tmp_path / "t.nmea"
+    path.write_text("\n".join(lines) + "\n")
+    track = read_track(path)
+    assert len(track) == 2 and list(track.problems.point) == [3]  # named by its line, past the blank line
+    assert fragment in track.problems.reason[0], track.problems.reason[0]
+
+
+def test_a_csv_track_line_with_a_field_missing_is_refused_by_its_line(tmp_path):
+    # issue 20: a missing field raised AttributeError; the line numbers shifted past blank lines
+    path = tmp_path / "track.csv"
+    path.write_text("utc,lat,lon\n2026-10-05T00:00:00Z,36.0,-10.0\n\n2026-10-05T00:10:00Z,36.1\n\n"
+                    "2026-10-05T00:20:00Z,north,-10.2\n2026-10-05T00:30:00Z,36.3,-10.3\n")
+    track = read_track(path)
+    assert len(track) == 2 and list(track.problems.point) == [4, 6]
+    assert "row has 2 fields where the header has 3" in track.problems.reason[0]
+    assert "cannot read 'north' as a latitude" in track.problems.reason[1]
+
+
+def test_a_pipe_given_as_a_track_is_named_a_pipe(tmp_path):
+    fifo = tmp_path / "track.gpx"
+    os.mkfifo(fifo)
+    started = time.perf_counter()
+    with pytest.raises(TrackError, match="is a pipe, not a regular file"):
+        read_track(fifo)
+    assert time.perf_counter() - started < REFUSED_WITHIN_S
+    result = runner.invoke(app, ["training", DEMO, "--track", str(fifo)])
+    assert result.exit_code == 1 and "is a pipe" in result.output
+
+
+def test_refused_track_points_are_shown_by_the_command_and_on_the_training_sheet(tmp_path):
+    # the invented training track as NMEA, two sentences damaged behind good checksums
+    lines = open("sample_sights/training_track.nmea", encoding="utf-8").read().splitlines()
+    lines[10] = nmea("GPRMC,235000.00,A,-500.0000,N,01000.0000,W,7.0,230.0,051026,,")
+    lines[20] = nmea("GPGGA,001000.00,nan,N,01000.0000,W,1,09,0.9,12.0,M,50.0,M,,")
+    lines.insert(5, "")
+    track = tmp_path / "track.nmea"
+    track.write_text("\n".join(lines) + "\n")
+    sights = pd.read_csv("sample_sights/training_sights.csv", dtype=str, keep_default_na=False)
+    few = tmp_path / "few.csv"
+    sights.iloc[::8].to_csv(few, index=False)
+    out = tmp_path / "training.xlsx"
+    result = runner.invoke(app, ["training", str(few), "--track", str(track), "-o", str(out)])
+    assert result.exit_code == 0, result.output
+    assert "2 points of the track refused (not used):" in result.output
+    assert "  line 12: latitude '-500.0000' is not written as NMEA 0183 writes it" in result.output
+    assert "  line 22: latitude 'nan'" in result.output
+    book = openpyxl.load_workbook(out, read_only=True)
+    cells = [str(v) for row in book["Training"].iter_rows(values_only=True) for v in row if v is not None]
+    book.close()
+    assert any(c.startswith("Points of the reference track refused (2; not used), by their line") for c in cells)
+    assert "latitude '-500.0000' is not written as NMEA 0183 writes it" in cells
+
+
 # --- writes ------------------------------------------------------------------------------
 
 WRITER = textwrap.dedent("""
@@ -446,6 +534,132 @@ def test_a_log_too_long_for_a_sheet_is_refused_before_the_work(monkeypatch, tmp_
     result = runner.invoke(app, ["workbook", DEMO, "-o", str(tmp_path / "v.xlsx")])
     assert result.exit_code == 1 and "more than a workbook sheet holds" in result.output
     assert not (tmp_path / "v.xlsx").exists()
+
+
+# --- every input protected, every output checked before the work -----------------------------------------------
+
+def test_every_file_a_run_reads_is_refused_as_an_output(tmp_path):
+    # issue 20: the --rates file given as --gpx or -o was replaced; only the sight log was protected
+    log = tmp_path / "log.csv"
+    log.write_bytes(open(DEMO, "rb").read())
+    rates = tmp_path / "rates.gpx"  # a rating log may have any name: it is an input all the same
+    rates.write_text("timepiece,utc,reading\nA,2026-03-20T12:00:00Z,12:00:03\nA,2026-03-21T12:00:00Z,12:00:04\n")
+    track = tmp_path / "track.xlsx"
+    track.write_bytes(open("sample_sights/training_track.csv", "rb").read())
+    cases = [
+        ["workbook", str(log), "--rates", str(rates), "--gpx", str(rates)],
+        ["days", str(log), "--rates", str(rates), "--picture", str(log)],
+        ["training", str(log), "--track", str(track), "-o", str(track)],
+        ["mark", str(tmp_path), "--pdf", str(log)],
+    ]
+    before = {p: p.read_bytes() for p in (log, rates, track)}
+    for arguments in cases:
+        result = runner.invoke(app, arguments)
+        assert result.exit_code == 1 and "one of the inputs of this run" in result.output, (arguments, result.output)
+    assert {p: p.read_bytes() for p in before} == before
+
+
+@pytest.mark.parametrize("arguments, fragment", [
+    (["mark", "sample_sights/class_workings.xlsx", "-o", "{tmp}/m.csv"], "--output {tmp}/m.csv: navred writes XLSX"),
+    (["mark", "--template", "{tmp}/t.csv"], "--template {tmp}/t.csv: navred writes XLSX"),
+    (["workbook", DEMO, "-o", "{tmp}/w.pdf"], "the name must end .xlsx"),
+    (["workbook", DEMO, "-o", "{tmp}/w.xlsx", "--gpx", "{tmp}/w.kml"], "--gpx {tmp}/w.kml: navred writes GPX"),
+    (["plan", "--date", "2026-03-26", "--lat", "44 N", "--lon", "12 W", "--sky", "{tmp}/sky.pdf"], "PNG or SVG"),
+    (["training", DEMO, "--track", "sample_sights/training_track.csv", "--summary", "{tmp}/s.txt"], "PDF or PNG or SVG"),
+    (["days", "sample_sights/passage_log.csv", "--picture", "{tmp}/p.jpg"], "--picture {tmp}/p.jpg: navred writes PNG"),
+    (["lunar", "29 44.7", "--other", "Antares", "--utc", "2024-09-12T19:33:00Z", "--lat", "30 N", "--lon", "40 W",
+      "--xlsx", "{tmp}/l.csv"], "--xlsx {tmp}/l.csv: navred writes XLSX"),
+    (["route", "40 N", "73 W", "49 N", "5 W", "--geojson", "{tmp}/r.gpx"], "GEOJSON or JSON"),
+    (["workbook", DEMO, "-o", "{tmp}/" + "v" * 240 + ".xlsx"], "the name is too long for this folder"),
+    (["workbook", DEMO, "-o", "{tmp}/no/such/" + "v" * 250 + ".xlsx"], "the name is too long"),
+    (["training", DEMO, "--track", "sample_sights/training_track.csv", "--plots", "{log}"], "that is a file"),
+])
+def test_outputs_are_checked_for_suffix_name_and_folder_before_the_work(tmp_path, arguments, fragment):
+    # issue 20: --sky/--summary with an unsupported suffix failed after the whole job; a temporary name too long
+    # failed after the job; mark -o m.csv wrote a workbook named .csv. Each is refused first, in a moment.
+    log = tmp_path / "log.csv"
+    log.write_text("x")
+    arguments = [a.replace("{tmp}", str(tmp_path)).replace("{log}", str(log)) for a in arguments]
+    started = time.perf_counter()
+    result = runner.invoke(app, arguments)
+    assert result.exit_code == 1, result.output
+    assert fragment.replace("{tmp}", str(tmp_path)) in result.output, result.output
+    assert result.output.count("\n") == 1 and "Traceback" not in result.output
+    assert time.perf_counter() - started < 2.0  # refused before any reading or reducing
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["log.csv"]  # nothing written
+
+
+@pytest.mark.parametrize("arguments, name", [
+    (["workbook", DEMO, "-o", ""], "--output"),
+    (["reduce", DEMO, "--rates", ""], "--rates"),
+    (["fix", DEMO, "--group", "  "], "--group"),
+    (["days", DEMO, "--picture", ""], "--picture"),
+    (["training", DEMO, "--track", ""], "--track"),
+    (["workbook", DEMO, "--plots", ""], "--plots"),
+    (["mark", "--template", ""], "--template"),
+    (["reduce", ""], "SIGHTS"),
+    (["almanac", "Sun", "--utc", ""], "--utc"),
+    (["plan", "--date", "2026-03-26", "--lat", "44 N", "--lon", "12 W", "--csv", ""], "--csv"),
+])
+def test_an_empty_option_value_is_refused_by_name_never_taken_as_not_given(arguments, name):
+    # issue 20: -o '' and --rates '' were treated as not given (an unset shell variable, say)
+    result = runner.invoke(app, arguments)
+    assert result.exit_code == 1, result.output
+    assert result.output == f"navred: error: {name}: an empty value was given; give a value, or leave the option out\n"
+
+
+# --- exit codes and the lines that go with them --------------------------------------------------------
+
+def _all_rejected(tmp_path):
+    demo = pd.read_csv(DEMO, dtype=str, keep_default_na=False)
+    demo["hs"] = "ninety"
+    path = tmp_path / "rejected.csv"
+    demo.to_csv(path, index=False)
+    header_only = tmp_path / "header.csv"
+    header_only.write_text(open(DEMO, encoding="utf-8").readline())
+    return path, header_only
+
+
+@pytest.mark.parametrize("command", [["reduce"], ["reduce", "--csv"], ["fix"], ["fix", "--csv"], ["days"],
+                                     ["series"], ["training", "--track", "sample_sights/training_track.csv"],
+                                     ["workbook", "-o", "{tmp}/w.xlsx"]])
+def test_every_command_exits_1_with_a_line_when_nothing_was_reduced(tmp_path, command):
+    # issue 20: days, series and training exited 0 with nothing reduced; reduce on a header-only log exited 1
+    # with no line; workbook pointed to an empty Rejected sheet
+    rejected, header_only = _all_rejected(tmp_path)
+    command = [c.replace("{tmp}", str(tmp_path)) for c in command]
+    for log, fragment in ((rejected, "every one rejected"), (header_only, "the log holds no sight")):
+        result = runner.invoke(app, [command[0], str(log), *command[1:]])
+        assert result.exit_code == 1, (command, result.output)
+        lines = [line for line in result.output.splitlines() if line.startswith("navred: error:")]
+        assert len(lines) == 1, result.output
+        if command[0] == "workbook" and log == rejected:
+            assert "the Rejected sheet of" in lines[0]
+            book = openpyxl.load_workbook(tmp_path / "w.xlsx", read_only=True)
+            rows = list(book["Rejected"].iter_rows(values_only=True))
+            book.close()
+            assert len(rows) == 12  # the header and the 11 rows, each with its reason
+        else:
+            assert fragment in lines[0], result.output
+    if command[0] == "workbook":
+        assert (tmp_path / "w.xlsx").exists()  # written for the rejected log (its Rejected sheet); not for none
+
+
+def test_every_command_names_the_columns_it_does_not_read(tmp_path):
+    demo = pd.read_csv(DEMO, dtype=str, keep_default_na=False)
+    demo["sextant"] = "No. 2"
+    path = tmp_path / "log.csv"
+    demo.to_csv(path, index=False)
+    note = "note: log.csv: column navred does not read, kept as text: 'sextant'"
+    for arguments in (["reduce", str(path)], ["reduce", str(path), "--csv"], ["fix", str(path)],
+                      ["series", str(path)], ["days", str(path)],
+                      ["workbook", str(path), "-o", str(tmp_path / "w.xlsx")]):
+        result = runner.invoke(app, arguments)
+        assert result.exit_code == 0 and note in result.output, (arguments, result.output)
+    book = openpyxl.load_workbook(tmp_path / "w.xlsx", read_only=True)
+    cells = [v for row in book["About"].iter_rows(values_only=True) for v in row if v]
+    book.close()
+    assert "Notes on the files" in cells and note.removeprefix("note: ") in cells
 
 
 # --- no traceback, no network ------------------------------------------------------------------

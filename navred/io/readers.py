@@ -31,7 +31,6 @@ from .sheetreader import (
     column_letters,
     open_workbook,
     read_sheet_cells,
-    sheet_member,
 )
 
 #: Limits on what one file may hold (docs/security.md lists each with what it protects); a larger log is split.
@@ -620,25 +619,30 @@ def _is_blank(value) -> bool:
 
 def _check_zip(path: Path, budget: ReadBudget) -> zipfile.ZipFile:
     """The spreadsheet as a zip archive, after refusing one that would unzip to far more than it is (a zip
-    bomb), or whose text parts would take the run beyond its bound on XML read, before anything is unzipped."""
+    bomb), or whose parts read whole (the list of sheets, the shared text, the styles) would take the run
+    beyond its bound on XML read, before anything is unzipped."""
+    from .sheetreader import parts_opened_whole
+
     try:
         archive = zipfile.ZipFile(path)
         members = archive.infolist()
     except (zipfile.BadZipFile, OSError, ValueError) as exc:
         raise LogbookError(f"{path} cannot be opened as a spreadsheet: {exc}") from None
-    unzipped = sum(m.file_size for m in members)
-    zipped = max(sum(m.compress_size for m in members), 1)
-    if unzipped > MAX_UNZIPPED_BYTES or unzipped / zipped > MAX_ZIP_RATIO:
-        archive.close()
-        raise LogbookError(f"{path} would unzip to {unzipped / 2**20:,.0f} MiB from {zipped / 2**20:,.1f} MiB; "
-                           f"navred opens spreadsheets of up to {MAX_UNZIPPED_BYTES // 2**20} MiB unzipped "
-                           f"and {MAX_ZIP_RATIO:.0f} times their size: split the log, or save it as CSV")
-    # the parts openpyxl reads whole when it opens the workbook: its shared text, styles and list of sheets
-    opened = sum(m.file_size for m in members if m.filename.lower().endswith(".xml")
-                 and "worksheets/" not in m.filename.lower() and "/drawings/" not in m.filename.lower()
-                 and "/charts/" not in m.filename.lower())
     try:
-        budget.take_xml(opened, f"{path} (its shared text and styles)")
+        unzipped = sum(m.file_size for m in members)
+        zipped = max(sum(m.compress_size for m in members), 1)
+        if unzipped > MAX_UNZIPPED_BYTES or unzipped / zipped > MAX_ZIP_RATIO:
+            raise LogbookError(f"{path} would unzip to {unzipped / 2**20:,.0f} MiB from {zipped / 2**20:,.1f} MiB; "
+                               f"navred opens spreadsheets of up to {MAX_UNZIPPED_BYTES // 2**20} MiB unzipped "
+                               f"and {MAX_ZIP_RATIO:.0f} times their size: split the log, or save it as CSV")
+        sizes = {m.filename: m.file_size for m in members}
+        relationships = sum(size for name, size in sizes.items() if name.endswith(".rels"))
+        budget.take_xml(relationships, f"{path} (its relationships)")
+        try:
+            parts = parts_opened_whole(archive)
+        except NavredError as exc:
+            raise LogbookError(f"{path} cannot be opened as a spreadsheet: {exc}") from None
+        budget.take_xml(sum(sizes.get(p, 0) for p in parts), f"{path} (its list of sheets, shared text and styles)")
     except LogbookError:
         archive.close()
         raise
@@ -656,38 +660,40 @@ def _read_xlsx(path: Path, budget: ReadBudget) -> RawTable:
 
 def _read_xlsx_sheets(path: Path, budget: ReadBudget, choose=None, *, refuse_empty: bool = False) -> list[RawTable]:
     """The tables of a workbook's sheets (``choose`` picks the sheet names; default: every visible sheet
-    that holds a table of two columns or more), each read cell by cell (:mod:`navred.sheetreader`) under the
-    run's bounds."""
+    that holds a table of two columns or more), each read cell by cell (:mod:`navred.io.sheetreader`) under the
+    run's bounds, each sheet's XML counted before it is read."""
     archive = _check_zip(path, budget)
+    tables = []
     try:
         try:
-            book = open_workbook(path)
-        except Exception as exc:  # openpyxl raises many kinds for a damaged file
+            book = open_workbook(archive)
+        except NavredError as exc:
+            raise LogbookError(f"{path} cannot be opened as a spreadsheet: {exc}") from None
+        except Exception as exc:  # a part that cannot be unzipped, a damaged archive
             raise LogbookError(f"{path} cannot be opened as a spreadsheet: {_one_line(exc)}") from None
+        names = book.sheetnames
+        if not names:
+            raise LogbookError(f"{path} has no worksheet")
         sizes = {m.filename: m.file_size for m in archive.infolist()}
-        tables = []
-        try:
-            names = book.sheetnames
-            for name in (choose(names) if choose else names):
-                sheet = book[name]
-                if choose is None and getattr(sheet, "sheet_state", "visible") != "visible":
-                    continue  # a hidden sheet (a template's lists) is not a table of sights
-                if not hasattr(sheet, "iter_rows") or not sheet_member(sheet):
-                    continue  # a chart sheet
-                label = f"{path} (sheet {name!r})" if len(names) > 1 else str(path)
-                budget.take_xml(sizes.get(sheet_member(sheet), 0), label)
-                try:
-                    cells = read_sheet_cells(book, sheet, archive, take_cells=lambda n, where=label:
-                                             budget.take_cells(n, where))
-                except NavredError:
-                    raise
-                except Exception as exc:  # XML that is not well formed, a member that cannot be unzipped
-                    raise LogbookError(f"{label} cannot be read: {_one_line(exc)} (a damaged file?)") from None
-                table = _sheet_table(path, label, name, cells, refuse_empty or choose is not None, budget)
-                if table is not None:
-                    tables.append(table)
-        finally:
-            book.close()
+        entries = {s.name: s for s in book.sheets}
+        for name in (choose(names) if choose else names):
+            sheet = entries[name]
+            if choose is None and sheet.state != "visible":
+                continue  # a hidden sheet (a template's lists) is not a table of sights
+            label = f"{path} (sheet {name!r})" if len(names) > 1 else str(path)
+            budget.take_xml(sizes.get(sheet.member, 0), label)
+            try:
+                cells = read_sheet_cells(book, sheet, archive, take_cells=lambda n, where=label:
+                                         budget.take_cells(n, where))
+            except LogbookError:
+                raise
+            except NavredError as exc:
+                raise LogbookError(f"{label} cannot be read: {exc}") from None
+            except Exception as exc:  # a member that cannot be unzipped (a damaged archive)
+                raise LogbookError(f"{label} cannot be read: {_one_line(exc)} (a damaged file?)") from None
+            table = _sheet_table(path, label, name, cells, refuse_empty or choose is not None, budget)
+            if table is not None:
+                tables.append(table)
     finally:
         archive.close()
     if not tables:

@@ -4,7 +4,7 @@ Edge code: file reading. Every point is checked as a sight-log row is: a positio
 ±90°/±180°, an impossible time, a time with no zone (CSV), a sentence that fails its
 checksum or reports no fix (NMEA) is refused by point, with the reason, and the rest of the
 track is read. XML is parsed with entity expansion and external entities refused
-(defusedxml), the file's size and its number of points are bounded. Two different positions
+(navred.io.safexml: a document type is refused before parsing), the file's size and its number of points are bounded. Two different positions
 for one instant are both refused. Between points the track is interpolated, except across
 a gap longer than :data:`MAX_GAP_HOURS`, which is not bridged: a sight inside it is not
 marked against the track, and says why.
@@ -278,39 +278,35 @@ def _checked_track(points: _Points, file: Path, max_gap_hours: float) -> Referen
 
 
 def _read_gpx(data: bytes, file: Path, points: _Points) -> None:
-    """GPX 1.1 points (trkpt, else rtept, else wpt), streamed: the XML is parsed by defusedxml (no entity, no
-    document type with entities) and let go point by point, so memory holds the points' text, not the tree."""
-    from xml.etree.ElementTree import ParseError
-
-    from defusedxml import DefusedXmlException
-    from defusedxml.ElementTree import iterparse
+    """GPX 1.1 points (trkpt, else rtept, else wpt), streamed: a document type (where entities would be declared)
+    is refused before parsing (:mod:`navred.io.safexml`), and the points are let go as they are read, so memory
+    holds the points' text, not the tree."""
+    from .safexml import XmlRefused, iterparse
 
     found = sum(data.count(tag) for tag in (b"<trkpt", b"<rtept", b"<wpt", b":trkpt", b":rtept", b":wpt"))
     if found > MAX_TRACK_POINTS:
         raise TrackError(f"{file}: the track has about {found:,} points, more than the {MAX_TRACK_POINTS:,} navred "
                          "reads: split it, or thin it to a point every few seconds")
     kinds = {"trkpt": ([], [], [], []), "rtept": ([], [], [], []), "wpt": ([], [], [], [])}
-    root = None
+    names: dict[str, str] = {}  # each tag as written ('{namespace}trkpt') -> its local name
+    when = None  # the text of the last <time> ended: a point's own time ends before the point does
     try:
-        for event, element in iterparse(io.BytesIO(data), events=("start", "end")):
-            if event == "start":
-                if root is None:
-                    root = element
-                continue
-            name = element.tag.rsplit("}", 1)[-1]
-            if name in kinds:
+        for _event, element in iterparse(io.BytesIO(data), str(file)):
+            tag = element.tag
+            name = names.get(tag)
+            if name is None:
+                name = names[tag] = tag[tag.rfind("}") + 1:]
+            if name == "time":
+                when = element.text
+            elif name in kinds:
                 lats, lons, times, _ = kinds[name]
                 lats.append(element.get("lat"))
                 lons.append(element.get("lon"))
-                when = next((child.text for child in element if child.tag.rsplit("}", 1)[-1] == "time"), None)
-                times.append(when)
-                element.clear()
-                root.clear()  # the points read so far are let go
-    except DefusedXmlException as exc:
-        raise TrackError(f"{file} declares XML entities or external references ({type(exc).__name__}), which a GPX "
-                         "file does not need (an XML bomb?): refused") from None
-    except ParseError as exc:
-        raise TrackError(f"{file} is not well-formed GPX: {exc}") from None
+                times.append(when if len(element) and any(c.tag.endswith("time") for c in element) else None)
+                when = None
+                element.clear()  # the point's text is kept above; its elements are let go
+    except XmlRefused as exc:
+        raise TrackError(str(exc)) from None
     lats, lons, times, _ = next((v for v in kinds.values() if v[0]), ([], [], [], []))
     if not lats:
         raise TrackError(f"{file}: no GPX track, route or way points")

@@ -201,6 +201,120 @@ def test_crafted_files_are_refused_quickly_with_one_message(tmp_path, content, n
     assert "\n" not in message and name in message  # one line, naming the file
 
 
+# --- the crafted files of issue 20: within the old per-file limits, minutes and gigabytes each --------------
+
+def _class_of_far_rows(path, sheets=30):
+    """A class workbook (about 25 KB) of 30 sheets, each a header and one cell at the sheet's last row, 1,048,576:
+    openpyxl filled every sheet with a million empty rows (7 min 16 s and 3.75 GB)."""
+    book = openpyxl.Workbook()
+    book.remove(book.active)
+    for k in range(sheets):
+        sheet = book.create_sheet(f"Cadet {k}")
+        sheet.append(["utc", "body", "zn_worked", "ho_worked", "intercept_worked"])
+        sheet.cell(row=1_048_576, column=1, value="2026-03-26T09:10:00Z")
+    book.save(path)
+
+
+def _long_gpx(path, points=1_550_000):
+    """A 120 MiB GPX of 1.55 million points over ten minutes (10 minutes at 0.42 ms a point)."""
+    block = b"".join(b'<trkpt lat="36.%06d" lon="-10.%06d"><time>2026-10-05T00:%02d:%02dZ</time></trkpt>'
+                     % (i, i, (i // 60) % 10, i % 60) for i in range(10_000))
+    with open(path, "wb") as handle:
+        handle.write(b'<?xml version="1.0"?><gpx version="1.1" xmlns="http://www.topografix.com/GPX/1/1"><trk>'
+                     b"<trkseg>")
+        for _ in range(points // 10_000):
+            handle.write(block)
+        handle.write(b"</trkseg></trk></gpx>")
+
+
+def _sheet_of_505_mib(path):
+    """An .xlsx whose one sheet unzips to 505 MiB of cells (80 times its size, within the 200 allowed): openpyxl
+    parsed it whole on opening (7 min, 2.5 GB)."""
+    skeleton = io.BytesIO()
+    book = openpyxl.Workbook()
+    book.active.append(["utc", "body", "hs", "eye_height_m", "dr_lat", "dr_lon"])
+    book.save(skeleton)
+    rows = b"".join(b'<row r="%d"><c r="A%d" t="inlineStr"><is><t>2026-03-26T19:41:00Z</t></is></c><c r="B%d" '
+                    b't="inlineStr"><is><t>Sirius</t></is></c></row>' % (i, i, i) for i in range(2, 1002))
+    with zipfile.ZipFile(skeleton) as source, zipfile.ZipFile(path, "w", zipfile.ZIP_DEFLATED, compresslevel=1) as out:
+        for item in source.infolist():
+            if item.filename != "xl/worksheets/sheet1.xml":
+                out.writestr(item, source.read(item.filename))
+                continue
+            with out.open(item.filename, "w") as member:
+                member.write(b'<?xml version="1.0"?><worksheet xmlns="http://schemas.openxmlformats.org/'
+                             b'spreadsheetml/2006/main"><sheetData>')
+                written = 0
+                while written < 505 * 2**20:
+                    member.write(rows)
+                    written += len(rows)
+                member.write(b"</sheetData></worksheet>")
+
+
+def _short_rows(path, rows=2_000_000):
+    """A 108 MB CSV of two million short rows: refused by workbook only after 30 s and 4.3 GB."""
+    with open(path, "wb") as handle:
+        handle.write(b"utc,body,hs,eye_height_m,dr_lat,dr_lon,observer\n")
+        handle.write(b"2026-03-26T19:41:00Z,Sirius,30 02.4,2.8,43 14.1 N,013 03.7 W,Cadet\n" * rows)
+
+
+CRAFTED_RUN = textwrap.dedent("""
+    import json, resource, sys, time
+    from typer.testing import CliRunner
+    from navred.cli import app
+    from navred.io.logbook import read_sight_log
+    from navred.io.track import read_track
+    from navred.jobs.workings import mark_workings
+    from navred.errors import NavredError
+
+    folder = sys.argv[1]
+    runs = {
+        "class": lambda: mark_workings(folder + "/class.xlsx"),
+        "gpx": lambda: read_track(folder + "/long.gpx"),
+        "xlsx": lambda: read_sight_log(folder + "/wide.xlsx"),
+        "csv": lambda: CliRunner().invoke(app, ["workbook", folder + "/short.csv", "-o", folder + "/w.xlsx"]),
+    }
+    out = {}
+    for name, run in runs.items():
+        started = time.perf_counter()
+        try:
+            result = run()
+            verdict = ("refused: " + result.output.strip()) if hasattr(result, "exit_code") and result.exit_code \
+                else "read"
+        except NavredError as exc:
+            verdict = "refused: " + str(exc)
+        out[name] = [time.perf_counter() - started, verdict]
+    out["peak_mib"] = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+    print(json.dumps(out))
+""")
+
+
+def test_the_crafted_files_of_issue_20_are_refused_or_read_within_5_s_and_1_gb(tmp_path):
+    # each file is made here (never committed), then read by navred in a process of its own, whose peak memory
+    # (its maximum resident set) is measured with every file read
+    import json
+
+    _class_of_far_rows(tmp_path / "class.xlsx")
+    _long_gpx(tmp_path / "long.gpx")
+    _sheet_of_505_mib(tmp_path / "wide.xlsx")
+    _short_rows(tmp_path / "short.csv")
+    assert (tmp_path / "class.xlsx").stat().st_size < 40_000
+    assert (tmp_path / "long.gpx").stat().st_size > 115 * 2**20
+    assert sum(i.file_size for i in zipfile.ZipFile(tmp_path / "wide.xlsx").infolist()) > 505 * 2**20
+    assert (tmp_path / "short.csv").stat().st_size > 100 * 10**6
+    done = subprocess.run([sys.executable, "-c", CRAFTED_RUN, str(tmp_path)], capture_output=True, text=True,
+                          timeout=120, cwd=os.getcwd())
+    assert done.returncode == 0, done.stderr
+    figures = json.loads(done.stdout)
+    for name in ("class", "gpx", "xlsx", "csv"):
+        seconds, verdict = figures[name]
+        assert seconds < 5.0, (name, seconds, verdict)
+        assert verdict == "read" if name == "class" else verdict.startswith("refused"), (name, verdict)
+    assert "holds at most" in figures["csv"][1] and "more than the 400,000" in figures["gpx"][1]
+    assert "unzip to 505 MiB of cells" in figures["xlsx"][1]
+    assert figures["peak_mib"] < 1024, figures
+
+
 def test_a_spreadsheets_unicode_text_export_is_read(tmp_path):
     # UTF-16 with its byte-order mark and tabs: what a spreadsheet writes as "Unicode text" (common practice)
     text = open(DEMO, encoding="utf-8").read().replace(",", "\t")

@@ -147,7 +147,9 @@ class SightLog:
 
 
 class _Problems:
-    """The problems found, one entry per (row, column), collected column by column."""
+    """The problems found, one entry per (row, column), collected column by column; at most
+    :data:`MAX_REASONS_PER_ROW` kept a row (the first found), the others counted by their columns (so that a
+    log wrong in every cell costs a few entries a row, not a dozen)."""
 
     def __init__(self, n: int):
         self.n = n
@@ -155,29 +157,54 @@ class _Problems:
         self.columns: list[np.ndarray] = []
         self.values: list[np.ndarray] = []
         self.reasons: list[np.ndarray] = []
+        self.count = np.zeros(n, dtype=np.int32)
+        self.more: dict[int, list[str]] = {}  # row -> the columns of its problems not kept
 
     def add(self, rows, column, value, reason) -> None:
         rows = np.asarray(rows, dtype=int).ravel()
         if rows.size == 0:
             return
-        self.rows.append(rows)
-        for target, item in ((self.columns, column), (self.values, value), (self.reasons, reason)):
+        items = []
+        for item in (column, value, reason):
             array = np.empty(rows.size, dtype=object)
             array[:] = item if isinstance(item, str) else list(np.asarray(item, dtype=object).ravel())
+            items.append(array)
+        before = self.count[rows]
+        np.add.at(self.count, rows, 1)
+        keep = before < MAX_REASONS_PER_ROW
+        if not keep.all():
+            for row, name in zip(rows[~keep].tolist(), items[0][~keep].tolist()):
+                self.more.setdefault(row, []).append(str(name))
+            rows = rows[keep]
+            items = [a[keep] for a in items]
+        self.rows.append(rows)
+        for target, array in zip((self.columns, self.values, self.reasons), items):
             target.append(array)
 
     def mask(self) -> np.ndarray:
         """The rows with a problem so far."""
-        out = np.zeros(self.n, dtype=bool)
-        for rows in self.rows:
-            out[rows] = True
-        return out
+        return self.count > 0
 
     def frame(self) -> pd.DataFrame:
+        """Every problem kept, in row order (within a row, in the order found); the last kept of a row with more
+        counts the others and names their columns."""
         if not self.rows:
             return pd.DataFrame({"index": np.zeros(0, dtype=int), "column": [], "value": [], "reason": []})
-        return pd.DataFrame({"index": np.concatenate(self.rows), "column": np.concatenate(self.columns),
-                             "value": np.concatenate(self.values), "reason": np.concatenate(self.reasons)})
+        frame = pd.DataFrame({"index": np.concatenate(self.rows), "column": np.concatenate(self.columns),
+                              "value": np.concatenate(self.values), "reason": np.concatenate(self.reasons)})
+        frame = frame.sort_values(["index"], kind="stable").reset_index(drop=True)
+        if self.more:
+            index = frame["index"].to_numpy()
+            last = np.flatnonzero(np.append(index[1:] != index[:-1], True))
+            reasons = frame["reason"].to_numpy(dtype=object).copy()
+            for at in last.tolist():
+                others = self.more.get(int(index[at]))
+                if others:
+                    names = ", ".join(dict.fromkeys(others))
+                    reasons[at] = (f"{reasons[at]} (and {len(others)} more column{'s' if len(others) > 1 else ''} "
+                                   f"with a problem: {names})")
+            frame["reason"] = reasons
+        return frame
 
 
 def _blank(value) -> bool:
@@ -746,9 +773,13 @@ def _parse_key(cells: _Cells, key: str, problems: _Problems, dates) -> _Parsed:
                 table[:] = [r if r is not None else (np.nan if value.dtype == float else None) for r in results]
                 value[members] = table[codes]
             refused[members[~good[codes]]] = True
-            for u, reason in reasons.items():
-                where = members[codes == u]
-                problems.add(where, cells.headers[where], [_text(v) for v in values.iloc[where]], reason)
+            if reasons:  # every refused cell with its value as written and its reason, in one go
+                bad = ~good[codes]
+                where = members[bad]
+                texts = np.array([_text(distinct[u]) if u in reasons else "" for u in range(len(distinct))],
+                                 dtype=object)
+                why = np.array([reasons.get(u, "") for u in range(len(distinct))], dtype=object)
+                problems.add(where, cells.headers[where], texts[codes[bad]], why[codes[bad]])
     return _Parsed(~cells.blank & ~refused, value)
 
 
@@ -774,8 +805,7 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
         else np.zeros(0, dtype=object)
     rows = np.concatenate([t.row_numbers for t in tables]) if tables else np.zeros(0, dtype=int)
     gathered = {c.key: _gather(tables, layouts, c.key) for c in COLUMNS}
-    parsed = {c.key: _parse_key(gathered[c.key], c.key, problems, dates) for c in COLUMNS}
-    # malformed rows (wrong field count, control characters, two values for one quantity)
+    # malformed rows (wrong field count, control characters, two values for one quantity), first
     offset = 0
     by_reader: dict[int, str] = {}  # rows the reader refused whole: their one reason stands alone
     for table in tables:
@@ -783,6 +813,7 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
             problems.add([offset + index], header or "(row)", "", reason)
             by_reader[offset + index] = reason
         offset += table.n_rows
+    parsed = {c.key: _parse_key(gathered[c.key], c.key, problems, dates) for c in COLUMNS}
     entry = _words(parsed["entry"])
     is_entry = parsed["entry"].ok
     for column in COLUMNS:
@@ -840,7 +871,7 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
 def _tabled(n, sources, rows, parsed, gathered, times, problems, by_reader, dr, motion_note, entry, is_entry):
     """The sight table of the problems found so far: (table, the problems as rows, each row's message, which
     rows are sights)."""
-    found = problems.frame().sort_values(["index"], kind="stable")
+    found = problems.frame()
     if by_reader:
         # a row refused as read (a damaged cell, the wrong number of fields, a control character) had its cells
         # set aside: what its other columns lack follows from that, and is not said
@@ -854,12 +885,22 @@ def _tabled(n, sources, rows, parsed, gathered, times, problems, by_reader, dr, 
     message = np.full(n, "", dtype=object)
     where = np.full(n, "", dtype=object)
     if len(found):
-        joined = found.assign(text=found.column.astype(str) + ": " + found.reason.astype(str))
-        grouped = joined.groupby("index", sort=False)
-        texts = grouped.text.agg("; ".join)
-        message[texts.index.to_numpy(dtype=int)] = texts.to_numpy(dtype=object)
-        columns = grouped.column.agg(lambda c: ", ".join(dict.fromkeys(str(x) for x in c)))
-        where[columns.index.to_numpy(dtype=int)] = columns.to_numpy(dtype=object)
+        # each row's reasons joined (at most MAX_REASONS_PER_ROW, in the order found), row by row
+        starts = np.flatnonzero(np.concatenate([[True], index[1:] != index[:-1]]))
+        rank = np.arange(index.size) - np.repeat(starts, np.diff(np.append(starts, index.size)))
+        texts = [np.full(n, None, dtype=object) for _ in range(MAX_REASONS_PER_ROW)]
+        names = [np.full(n, None, dtype=object) for _ in range(MAX_REASONS_PER_ROW)]
+        column_text = found["column"].astype(str).to_numpy(dtype=object)
+        reason_text = found["reason"].astype(str).to_numpy(dtype=object)
+        for k in range(MAX_REASONS_PER_ROW):
+            at = rank == k
+            texts[k][index[at]] = [f"{c}: {r}" for c, r in zip(column_text[at].tolist(), reason_text[at].tolist())]
+            names[k][index[at]] = column_text[at]
+        rejected_rows = np.unique(index)
+        message[rejected_rows] = ["; ".join(t for t in parts if t is not None)
+                                  for parts in zip(*(t[rejected_rows].tolist() for t in texts))]
+        where[rejected_rows] = [", ".join(dict.fromkeys(c for c in parts if c is not None))
+                                for parts in zip(*(c[rejected_rows].tolist() for c in names))]
     table = _sight_table(n, sources, rows, parsed, gathered, times, message, where)
     table["dr_lat_deg"], table["dr_lon_deg"] = dr["lat"], dr["lon"]
     table["course_deg"], table["speed_kn"] = dr["course"], dr["speed"]
@@ -873,6 +914,11 @@ def _tabled(n, sources, rows, parsed, gathered, times, problems, by_reader, dr, 
         table["body_name"] = body
     table["fix_group"], table["fix_group_given"] = _fix_groups(table, (message == "") & sight_row)
     return table, found, message, sight_row
+
+
+#: The reasons given for one row, at most: a row that is wrong in every column (a shifted or pasted line) is
+#: named by its first few, and the rest counted, rather than by a dozen lines (and megabytes a row).
+MAX_REASONS_PER_ROW = 3
 
 
 #: A sight taken more than this before its fix's time is advanced to it along the course and speed in force

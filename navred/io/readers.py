@@ -45,8 +45,8 @@ MAX_ZIP_RATIO = 200.0
 #: the text of its files, the spreadsheet XML it parses, and the rows and cells it holds at once. Each keeps a
 #: run within about a gigabyte of memory and its reading within seconds (docs/security.md, docs/speed.md).
 MAX_RUN_BYTES = 256 * 1024 * 1024
-MAX_RUN_XML_BYTES = 64 * 1024 * 1024
-MAX_RUN_ROWS = 250_000
+MAX_RUN_XML_BYTES = 32 * 1024 * 1024
+MAX_RUN_ROWS = 200_000
 MAX_RUN_CELLS = 8_000_000
 
 SEPARATORS = {",": "comma", ";": "semicolon", "\t": "tab"}
@@ -109,6 +109,11 @@ class ReadBudget:
             f"{source}: the spreadsheets of this run unzip to {total / 2**20:,.0f} MiB of cells; navred reads at "
             f"most {limit // 2**20} MiB of a spreadsheet's cells in one run (about a million cells): save a long "
             "log as CSV, or split it"))
+
+    def check_rows(self, rows: int, source: str) -> None:
+        """Refuse now, without counting them, rows that could not be held (a file's lines, before it is read)."""
+        if self.used["rows"] + rows > self.limits["rows"] + 1:
+            self.take_rows(rows, 1, source)
 
     def take_rows(self, rows: int, columns: int, source: str) -> None:
         self._take("rows", rows, source, lambda total, limit: (
@@ -200,7 +205,9 @@ def _read_file(path: Path, budget: ReadBudget) -> RawTable:
     if head.startswith(b"\x1f\x8b"):
         raise LogbookError(f"{path} is a compressed (gzip) file, not a text CSV file: unpack it first")
     budget.take_text(path.stat().st_size, str(path))
-    return _read_csv(path, path.read_bytes(), budget)
+    data = path.read_bytes()
+    budget.check_rows(data.count(b"\n"), str(path))  # before the text is decoded or split: a quick refusal
+    return _read_csv(path, data, budget)
 
 
 #: A byte sequence that can only be UTF-8: a lead byte and its continuation bytes.
@@ -264,10 +271,14 @@ def _read_csv(path: Path, data: bytes, budget: ReadBudget | None = None) -> RawT
             # a carriage return alone inside a line is a control character there: the row is refused alone
             text = text.replace("\r\n", "\n").replace("\r", _CR_STANDIN)
     first, header_line = None, ""
-    for index, line in enumerate(io.StringIO(text)):
-        if line.strip().strip(",;\t"):
-            first, header_line = index, line
+    start, index = 0, 0
+    while start < len(text):  # the first line that is not blank (without copying the text line by line)
+        end = text.find("\n", start)
+        end = len(text) if end < 0 else end + 1
+        if text[start:end].strip().strip(",;\t"):
+            first, header_line = index, text[start:end]
             break
+        start, index = end, index + 1
     if first is None:
         raise LogbookError(f"{path} has no header row: a sight log needs one, naming its columns")
     separator = _choose_separator(header_line)

@@ -33,7 +33,7 @@ from ..timescales import (
 #: A track file's size and points: a reference track of a point every two seconds for a three-week passage, read
 #: in a few seconds and well under a gigabyte (docs/security.md).
 MAX_TRACK_BYTES = 128 * 1024 * 1024
-MAX_TRACK_POINTS = 1_000_000
+MAX_TRACK_POINTS = 400_000
 #: A gap longer than this between two track points is not bridged by a straight line (common
 #: practice: a vessel at 10 knots goes 20 miles in two hours, and may turn).
 MAX_GAP_HOURS = 2.0

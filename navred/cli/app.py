@@ -13,7 +13,7 @@ import warnings
 import typer
 
 from .. import __version__
-from ..errors import NavredError, NavredWarning
+from ..errors import NavredError, NavredInternalError, NavredWarning
 
 app = typer.Typer(
     name="navred",
@@ -38,6 +38,8 @@ def _reported(ctx=None):
             _refuse_empty_values(ctx)
             yield
         except NavredError as exc:
+            if os.environ.get("NAVRED_DEBUG") and isinstance(exc, NavredInternalError):
+                raise
             _print_warnings(caught)
             typer.echo(f"navred: error: {exc}", err=True)
             raise typer.Exit(code=1) from None

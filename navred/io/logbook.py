@@ -29,7 +29,7 @@ import pandas as pd
 
 from ..angles import parse_angle, parse_angles_fast
 from ..corrections import HIGHEST_READING_DEG, parse_index_error_arcmin
-from ..errors import NavredError
+from ..errors import NavredError, api_boundary
 from ..stars import canonical_body_name
 from ..timescales import (
     instant_components,
@@ -462,6 +462,7 @@ def _result_names() -> set[str]:
     return _RESULT_NAMES
 
 
+@api_boundary
 def read_sight_log(source: object, *, dates: str | None = None, all_sheets: bool = False,
                    rates: object | None = None, also_reads: Iterable[str] = (),
                    budget: ReadBudget | None = None) -> SightLog:

@@ -800,7 +800,7 @@ def _from_frame(frame) -> RawTable:
         if column.dtype == bool:
             column = column.map({True: "TRUE", False: "FALSE"}).astype(object)
         elif column.dtype == object:
-            column = column.map(lambda v: ("TRUE" if v else "FALSE") if isinstance(v, (bool, np.bool_)) else v)
+            column = column.map(_frame_cell).astype(object)
         columns.append(column)
     numbers = np.arange(1, len(frame) + 1)
     blank = np.column_stack([_blank_mask(c) for c in columns]) if columns else np.ones((len(frame), 0), bool)
@@ -808,7 +808,38 @@ def _from_frame(frame) -> RawTable:
     if not keep.all():
         columns = [c[keep].reset_index(drop=True) for c in columns]
         numbers = numbers[keep]
-    return _finish("(table)", header, columns, numbers, {}, {}, None, int((~keep).sum()))
+    problems: dict[int, tuple[str, str]] = {}
+    for k, column in enumerate(columns):  # a cell no log could hold rejects its row, named by its column
+        if column.dtype == object:
+            for index in np.flatnonzero(column.map(lambda v: isinstance(v, CellProblem)).to_numpy(dtype=bool)):
+                problems.setdefault(int(index), (header[k], column.iloc[index].reason))
+    malformed = {i: ["" for _ in header] for i in problems}
+    if problems:
+        rows = np.fromiter(problems, dtype=int)
+        for k, column in enumerate(columns):
+            cells = column.to_numpy(dtype=object, copy=True)
+            cells[rows] = None
+            columns[k] = pd.Series(cells, dtype=object)
+    return _finish("(table)", header, columns, numbers, problems, malformed, None, int((~keep).sum()))
+
+
+#: What a DataFrame cell may hold: a value a log's cell could (text, a number, an instant, nothing).
+_CELL_TYPES = (str, int, float, np.integer, np.floating, pd.Timestamp, np.datetime64)
+
+
+def _frame_cell(value):
+    """A DataFrame cell as the reader takes it: TRUE/FALSE for a boolean, a value as it is, and a cell holding
+    a list, a dictionary or another object (no log's cell could) marked unreadable, for its row alone."""
+    import datetime as _dt
+
+    if value is None or isinstance(value, MissingFormulaValue):
+        return value
+    if isinstance(value, (bool, np.bool_)):
+        return "TRUE" if value else "FALSE"
+    if isinstance(value, _CELL_TYPES + (_dt.date, _dt.time)):
+        return value
+    return CellProblem(f"the cell holds a {type(value).__name__}, not a value a log's cell holds (text, a number or "
+                       "an instant)", "")
 
 
 def blank_mask(column: pd.Series) -> np.ndarray:

@@ -23,7 +23,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from ..errors import NavredError
+from ..errors import NavredError, api_boundary
 from ..rating import RateChange, RateFit, error_in_half_day, fit_rate, rate_change, residuals_s
 from ..timescales import utc_jd_to_datetime64, utc_julian_date, utc_julian_date_from_components
 from ..timework import DATE_ORDERS, iso_instant_text, parse_time_of_day, parse_zone_description
@@ -132,6 +132,7 @@ def _cell_text(value) -> str:
     return str(value).strip()
 
 
+@api_boundary
 def read_rating_log(source: object, *, dates: str | None = None) -> Ratings:
     """Read a rating log (one file, several, or a folder) and fit each timepiece's error and rate.
 

@@ -22,7 +22,7 @@ import numpy as np
 import pandas as pd
 
 from ..angles import parse_angle
-from ..errors import NavredError
+from ..errors import NavredError, api_boundary
 from ..timescales import (
     instant_components,
     iso_z_datetime64,
@@ -212,6 +212,7 @@ def _instant(points: _Points, point: int, value, *, naive_is_utc: bool) -> tuple
     return float(jd1), float(jd2)
 
 
+@api_boundary
 def read_track(path: str | Path, *, max_gap_hours: float = MAX_GAP_HOURS) -> ReferenceTrack:
     """The reference track of a GPX 1.1, NMEA 0183 or CSV file, every point checked (see the module)."""
     from .readers import check_input_file

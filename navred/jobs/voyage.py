@@ -23,7 +23,7 @@ import pandas as pd
 from .. import __version__
 from ..angles import format_angle
 from ..ephemeris import EPHEMERIS_NAME
-from ..errors import NavredError
+from ..errors import NavredError, api_boundary
 from ..fix import FixResult, fixes_from_sights
 from ..io.logbook import REJECTED_COLUMNS, SightLog, read_sight_log
 from ..reckoning import PAST_POLE
@@ -120,6 +120,7 @@ class VoyageResult:
         raise NavredError(f"no fix group {name!r}; the log has: {', '.join(g.name for g in self.groups)}")
 
 
+@api_boundary
 def process_log(source: object, *, dates: str | None = None, solve_motion: bool = False,
                 progress: Callable[[int, int], None] | None = None, plan: bool = True,
                 at_utc: object | None = None, carry_current: bool = False, rates: object | None = None) -> VoyageResult:

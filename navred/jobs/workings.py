@@ -19,7 +19,7 @@ import numpy as np
 import pandas as pd
 
 from ..angles import format_angle, parse_angle
-from ..errors import NavredError
+from ..errors import NavredError, api_boundary
 from ..io.logbook import SightLog, read_sight_log, with_decimal_point
 from ..marking import (
     DEGREE_LINES,
@@ -269,6 +269,7 @@ def _feet(text: str) -> float:
     return float(found.group(1)) if found else np.nan
 
 
+@api_boundary
 def mark_workings(source: object, *, dates: str | None = None, exam: bool = False) -> MarkingReport:
     """Read and mark hand workings: every line judged, the first wrong one named with its cause.
 

@@ -300,6 +300,9 @@ LOOKALIKE_HEADERS: tuple[tuple[str, str, str], ...] = (
      "watch_error ('12 fast', '3 s slow', or seconds with a sign)"),
     (r"dut\w*|ut1\w*", "DUT1", "dut1 (UT1 − UTC in seconds, from a radio time signal)"),
 )
+#: What a refusal of a column adds once: how to keep a column of one's own that looks like one navred reads.
+OWN_COLUMN_HINT = ("a column of your own that navred should not read keeps its text when its name begins with "
+                   "'note' or 'remark'")
 #: A header that begins with one of these is the navigator's own column: kept as text, never refused.
 OWN_COLUMN_PREFIXES = ("note", "remark", "comment", "own_")
 _UNIT_TAIL = re.compile(r"_(?:m|ft|c|f|hpa|mb|mbar|inhg|mmhg|deg|degrees|kn|kt|kts|s|sec|arcmin|min|nm|t)$")
@@ -330,7 +333,7 @@ def unknown_header_refusal(header: object, accepted: dict[str, str] | None = Non
     if not name or name.startswith(OWN_COLUMN_PREFIXES):
         return ""
     stem = _UNIT_TAIL.sub("", name)
-    own = " (or, for a column of your own that navred should not read, begin its name with 'note' or 'remark')"
+    own = ""
     if accepted is None:
         for pattern, what, expected in LOOKALIKE_HEADERS:
             if re.fullmatch(pattern, stem) or re.fullmatch(pattern, name):
@@ -357,5 +360,5 @@ def convert_to_working_unit(value: float, unit: str | None) -> float:
 
 __all__ = ["COLUMNS", "COLUMN", "Column", "HeaderMatch", "match_header", "normalise_header", "LIMBS", "ENTRIES",
            "NO_HORIZON",
-           "LOOKALIKE_HEADERS", "OWN_COLUMN_PREFIXES", "unknown_header_refusal",
+           "LOOKALIKE_HEADERS", "OWN_COLUMN_PREFIXES", "OWN_COLUMN_HINT", "unknown_header_refusal",
            "HORIZONS", "ZONE_LETTERS", "UNIT_CONVERSIONS", "convert_to_working_unit"]

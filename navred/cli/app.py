@@ -135,8 +135,9 @@ def _csv_safe(frame):
     return csv_safe(frame)
 
 
-def _number(value: float | None, name: str, low: float, high: float):
-    """A number given on the command line, refused with one line when not finite or out of range."""
+def _number(value: float | None, name: str, low: float, high: float, why: str = ""):
+    """A number given on the command line, refused with one line when not finite or out of range (``why``: what
+    the range is, for the message)."""
     import math
 
     if value is None:
@@ -144,7 +145,7 @@ def _number(value: float | None, name: str, low: float, high: float):
     if not math.isfinite(value):
         raise NavredError(f"{name} {value!r} is not a number; give a value from {low:g} to {high:g}")
     if not low <= value <= high:
-        raise NavredError(f"{name} {value!r} is outside {low:g} to {high:g}")
+        raise NavredError(f"{name} {value!r} is outside {low:g} to {high:g}" + (f" ({why})" if why else ""))
     return value
 
 
@@ -186,7 +187,8 @@ def almanac_command(
     with _reported(ctx):
         from ..vocabulary import COLUMN
 
-        _number(dut1, "--dut1", COLUMN["dut1"].low, COLUMN["dut1"].high)  # as the log's dut1 column: |UT1 − UTC| < 0.9 s
+        _number(dut1, "--dut1", COLUMN["dut1"].low, COLUMN["dut1"].high,  # as the log's dut1 column
+                "seconds: UT1 − UTC is kept within 0.9 s by leap seconds, and the log's dut1 column is held to it")
         result = places(list(bodies), _single_instant(utc), dut1_s=dut1)
         instant = result.instants.utc_datetime64()[0]
         stamp = str(instant.astype("datetime64[ms]"))

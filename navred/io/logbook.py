@@ -55,6 +55,7 @@ from ..vocabulary import (
     LIMBS,
     NO_HORIZON,
     OUTPUT_SUFFIX,
+    OWN_COLUMN_HINT,
     UNIT_CONVERSIONS,
     UNIT_NAMES,
     convert_to_working_unit,
@@ -490,7 +491,8 @@ def read_sight_log(source: object, *, dates: str | None = None, all_sheets: bool
     for table in tables:
         layout = _layout(table, own)
         if layout.problems:
-            raise LogbookError(f"{table.source}: " + "; ".join(layout.problems))
+            hint = f" ({OWN_COLUMN_HINT})" if any("rename it" in p for p in layout.problems) else ""
+            raise LogbookError(f"{table.source}: " + "; ".join(layout.problems) + hint)
         _check_is_log(table, layout.keys)
         layouts.append(layout)
     return _parse(tables, layouts, dates, rates)

@@ -9,7 +9,7 @@ import pytest
 
 PACKAGE = pathlib.Path(__file__).resolve().parents[1] / "navred"
 #: The computational core: numpy, pyerfa and jplephem only (DEVELOPERS.md, "Layout").
-CORE = ("angles", "timescales", "ephemeris", "stars", "epochs", "almanac", "corrections", "triangle", "fix",
+CORE = ("angles", "timescales", "ephemeris", "stars", "epochs", "almanac", "corrections", "triangle", "stats", "fix",
         "plan", "series", "lunar", "constants", "errors", "vocabulary", "timework", "sailings", "marking", "reckoning", "rating")
 EDGE_LIBRARIES = {"pandas", "openpyxl", "matplotlib", "typer"}
 

@@ -12,13 +12,13 @@ from navred.errors import NavredError
 from navred.fix import (
     DR_ERROR_FRACTION,
     DR_ERROR_KN,
-    chi_square_2_quantile,
     ex_meridian_latitude,
     latitude_by_meridian_altitude,
     latitude_from_noon_curve,
 )
 from navred.frames import fix_position
 from navred.sailings import meridional_parts, rhumb_destination
+from navred.stats import chi_square_2_quantile
 from navred.triangle import distance_bearing
 from tests.conftest import skyfield_sight
 
@@ -128,18 +128,21 @@ def test_the_dr_error_enters_the_ellipse_and_covers_the_truth(ts, eph):
 
 
 def test_the_ellipse_says_which_quantile_it_used():
-    # the invented demo (sample_sights/): its Sun-run-Sun residuals are nil, so σ is held at its 0.2′
-    # floor and the ellipse takes the known-σ quantile, chi-square(2) 95 % = 5.991 (statistical tables);
-    # the six-star fix estimates σ from four redundant sights: F(2, 4)
+    # the invented demo (sample_sights/): its Sun-run-Sun residuals are nil, so the sights' part of the
+    # ellipse is nil and the DR's known error over the run makes it: F(2, ν) with an effective ν above the
+    # one redundant sight (Satterthwaite), never a switch to another quantile at a floor; the six stars
+    # taken within eight minutes estimate σ from four redundant sights: F(2, 4) (statistical tables:
+    # F(2, 4; 0.95) = 6.94, from memory)
     from navred.voyage import process_log
 
     voyage = process_log("sample_sights/demo_sights.csv", plan=False)
     sun = voyage.group("sun-run-sun").fix
     stars = voyage.group("evening-stars").fix
-    assert sun.quantile == "chi-square(2)" and "held at the floor" in sun.sigma_source
-    assert sun.confidence_scale == pytest.approx(np.sqrt(5.991), abs=1e-3)
-    assert chi_square_2_quantile(0.95) == pytest.approx(5.991, abs=1e-3)
+    assert sun.quantile.startswith("F(2, ") and sun.redundant == 1 and sun.dr_error_included
+    assert float(sun.quantile[5:-1]) > 1.0
     assert stars.quantile == "F(2, 4)"
+    assert stars.confidence_scale == pytest.approx(np.sqrt(2 * 6.94), abs=2e-3)
+    assert chi_square_2_quantile(0.95) == pytest.approx(5.991, abs=1e-3)
 
 
 def noon_series(ts, eph, minutes, lat=-33.5, lon=18.0, date="2024-11-02", dr_lon_off=-0.05):

@@ -27,7 +27,7 @@ from __future__ import annotations
 
 import functools
 from collections.abc import Callable
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 from numpy.typing import ArrayLike
@@ -87,7 +87,7 @@ CONVERGED_NM = 0.01
 MAX_ITERATIONS = 25
 CONFIDENCE = 0.95
 #: What every 95 % ellipse of navred covers, and what it cannot.
-ELLIPSE_COVERS = ("the ellipse covers the sights' random error and the DR's error over the run; not an error "
+ELLIPSE_COVERS = ("covers the sights' random error and the DR's error over the run; it cannot cover an error "
                   "common to every sight (the clock: 1 s of time is 0.25′ of longitude; a wrong height of eye or "
                   "index error; abnormal dip), nor a misnamed body")
 _NAT = np.datetime64("NaT")
@@ -472,6 +472,8 @@ class FixResult:
     run_from: str = ""
     #: the fix's distance from the DR at the fix time (nm)
     dr_distance_nm: float = float("nan")
+    #: the sights scatter beyond any hand-held sextant (SEXTANT_SIGMA_LIMIT_ARCMIN, at SCATTER_CONFIDENCE)
+    scatter_impossible: bool = False
     chart_distance_nm: float | None = None
     chart_bearing_deg: float | None = None
     chart_inside_ellipse: bool | None = None
@@ -680,12 +682,18 @@ def _leave_out_gross(sights: _Sights, group, n_groups, ok, results) -> None:
     bounds = np.concatenate([[0], np.cumsum(np.bincount(group[group >= 0], minlength=n_groups))])
     by_group = np.argsort(np.where(group >= 0, group, n_groups), kind="stable")
     for _ in range(3):
-        chosen, rows = [], []
+        chosen, rows, wild = [], [], []
         for g, result in enumerate(results):
-            if result is None or not result.gross.any():
+            if result is None:
                 continue
+            if result.gross.any():
+                chosen.append(g)
+                rows.append(by_group[bounds[g]:bounds[g + 1]][result.gross])
+            elif result.scatter_impossible and result.redundant >= 2:
+                wild.append(g)
+        for g, row in _gross_by_leaving_one_out(sights, group, ok, left_out, wild, results).items():
             chosen.append(g)
-            rows.append(by_group[bounds[g]:bounds[g + 1]][result.gross])
+            rows.append(np.array([row]))
         if not chosen:
             break
         left_out[np.concatenate(rows)] = True
@@ -710,7 +718,48 @@ def _leave_out_gross(sights: _Sights, group, n_groups, ok, results) -> None:
             f"{format_angle(every.lat_deg, 'lat')} {format_angle(every.lon_deg, 'lon')}"))
         if miles > 1.0:
             result.warnings.insert(1, f"this {result.kind} and the one from every sight differ by {miles:.1f} nm: "
-                                      "find out what is wrong with the sight left out before trusting either")
+                                      "plot this one, and find out what is wrong with the sight left out")
+
+
+def _gross_by_leaving_one_out(sights: _Sights, group, ok, left_out, wild: list[int], results) -> dict[int, int]:
+    """For fixes whose sights scatter beyond any sextant: each sight left out in turn, every such fix of the
+    others solved at once (from the DR, not from the all-sights fix a gross error has dragged off). The
+    sight whose leaving out makes the others agree, and whose line then lies more than GROSS_ARCMIN and
+    beyond the blunder test's limit from their fix, is the gross error: its row, per group."""
+    if not wild:
+        return {}
+    copies_rows, copies_group, copies_left, owner, dropped = [], [], [], [], []
+    for g in wild:
+        members = np.flatnonzero((group == g) & ok)
+        for row in members[~left_out[members]].tolist():
+            copies_rows.append(members)
+            copies_group.append(np.full(members.size, len(owner)))
+            copies_left.append(left_out[members] | (members == row))
+            owner.append(g)
+            dropped.append(row)
+    rows = np.concatenate(copies_rows)
+    sub = replace(sights, gha=sights.gha[rows], dec=sights.dec[rows], ho=sights.ho[rows], utc=sights.utc[rows],
+                  dr_lat=sights.dr_lat[rows], dr_lon=sights.dr_lon[rows], course=sights.course[rows],
+                  speed=sights.speed[rows], set_deg=sights.set_deg[rows], drift_kn=sights.drift_kn[rows],
+                  dr_age_h=sights.dr_age_h[rows], names=sights.names[rows])
+    times = np.array([results[g].utc for g in owner], dtype="datetime64[ns]")
+    trials, _ = _fix_batch(sub, np.concatenate(copies_group), len(owner), np.ones(rows.size, dtype=bool),
+                           np.concatenate(copies_left), times)
+    found: dict[int, int] = {}
+    best: dict[int, tuple[float, int, float, int]] = {}
+    for c, (g, row) in enumerate(zip(owner, dropped)):
+        trial = trials[c]
+        if trial is None or trial.redundant < 1 or trial.scatter_impossible:
+            continue
+        miss = float(trial.residual_arcmin[np.flatnonzero(copies_rows[c] == row)[0]])
+        if g not in best or trial.sigma_arcmin < best[g][0]:
+            best[g] = (trial.sigma_arcmin, row, miss, trial.redundant)
+    for g, (sigma, row, miss, d) in best.items():
+        n = d + 3  # the sights of the fix of the others and the one left out (two unknowns)
+        limit = float(student_t_quantile(1.0 - BLUNDER_ALPHA / (2.0 * n), d)) * sigma
+        if abs(miss) > max(GROSS_ARCMIN, limit):
+            found[g] = row
+    return found
 
 
 def _check_fixes(sights: _Sights, group, n_groups, ok, results) -> None:
@@ -931,7 +980,10 @@ def _sense_checks(results: list[FixResult], run_from: list[str], span_min: np.nd
     distance = np.where(is_fix, distance, offset)
     size = np.array([r.ellipse_semi_major_nm if r.is_fix else r.ellipse_semi_minor_nm for r in results])
     dr_sigma = DR_ERROR_KN * age_h + DR_ERROR_FRACTION * speed_kn * age_h
-    allowed = DR_DISAGREEMENT_SIGMAS * dr_sigma + np.where(np.isfinite(size), size, 0.0) + 1.0
+    # the fix's own uncertainty widens the allowance, but no more than the DR's does: a fix as uncertain as
+    # that has its own warning
+    allowed = (DR_DISAGREEMENT_SIGMAS * dr_sigma
+               + np.minimum(np.where(np.isfinite(size), size, 0.0), DR_DISAGREEMENT_SIGMAS * dr_sigma) + 1.0)
     dof = np.array([r.redundant for r in results])
     sigma = np.array([r.sigma_arcmin for r in results])
     limit = np.full(dof.size, np.inf)
@@ -943,6 +995,7 @@ def _sense_checks(results: list[FixResult], run_from: list[str], span_min: np.nd
     stopped = (np.array(run_from) == "none") & (span_min > STOPPED_SPAN_MIN)
     for j, result in enumerate(results):
         result.dr_distance_nm = float(distance[j])
+        result.scatter_impossible = bool(wild[j])
     for j in np.flatnonzero(stopped).tolist():
         results[j].warnings.append(
             f"the sights span {span_min[j]:.0f} minutes but the log gives no course or speed and one DR for them "
@@ -1206,11 +1259,12 @@ def _ellipse_note(n: int, k: int, d: int, scale: float) -> str:
                 f"{A_PRIORI_SIGMA_ARCMIN}′ per sight")
     if d > 3:
         return ""
-    ratio, next_ratio = _scale_ratio(d)
+    ratio = scale / float(np.sqrt(chi_square_2_quantile(CONFIDENCE)))
+    next_ratio = _scale_ratio(d)[1]
     return (f"{n} sights for {k} unknowns leave {d} redundant sight{_plural(d)} to judge the sights' error by, so "
             f"that error is known only roughly and the ellipse allows for it being larger than it looks: "
-            f"{ratio:.1f} times the size a known error would give; one more sight would make it {next_ratio:.1f} "
-            "times")
+            f"{ratio:.1f} times the size a known error would give; with one more sight the sights' share would be "
+            f"{next_ratio:.1f} times")
 
 
 def _quantile_name(nu: float, d: int) -> str:

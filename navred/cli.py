@@ -275,7 +275,7 @@ def reduce_command(
         typer.echo(f"{int(counts.get('ok', 0) + counts.get('warning', 0))} sights reduced "
                    f"({int(counts.get('warning', 0))} with a warning), {int(counts.get('error', 0))} not reduced{empty}")
         if counts.get("error", 0) == len(reduced):
-            raise typer.Exit(code=1)
+            raise NavredError("nothing could be reduced: each row above says why")
 
 
 def _print_fix(group, reduced, labels) -> None:

@@ -142,7 +142,8 @@ def _cached(kind: str, p: np.ndarray, dof: np.ndarray, solve) -> np.ndarray:
     pairs = np.stack([p.ravel(), dof.ravel()], axis=1)
     distinct, inverse = np.unique(pairs, axis=0, return_inverse=True)
     values = np.array([_CACHE.get((kind, a, b), np.nan) for a, b in distinct.tolist()])
-    todo = np.isnan(values) & np.isfinite(distinct).all(axis=1)
+    valid = (distinct[:, 0] > 0) & (distinct[:, 0] < 1) & (distinct[:, 1] >= 0) & np.isfinite(distinct).all(axis=1)
+    todo = np.isnan(values) & valid & ((distinct[:, 1] > 0) | (kind == "normal"))
     if todo.any():
         values[todo] = solve(distinct[todo, 0], distinct[todo, 1])
         if len(_CACHE) > _CACHE_LIMIT:
@@ -167,7 +168,7 @@ def student_t_quantile(p: ArrayLike, dof: ArrayLike) -> np.ndarray:
             beyond = 0.5 * regularized_beta(np.cos(mid) ** 2, nu / 2.0, 0.5) < tail
             hi, lo = np.where(beyond, mid, hi), np.where(beyond, lo, mid)
         t = np.sqrt(nu) * np.tan((lo + hi) / 2.0)
-        return np.where(prob >= 0.5, t, -t)
+        return np.where(prob == 0.5, 0.0, np.where(prob > 0.5, t, -t))
 
     p = np.asarray(p, dtype=float)
     dof = np.asarray(dof, dtype=float)

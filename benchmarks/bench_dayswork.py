@@ -19,12 +19,12 @@ import numpy as np
 import pandas as pd
 
 from navred.almanac import places
+from navred.jobs.routes import plan_route
+from navred.jobs.voyage import process_log
 from navred.reckoning import dr_track
-from navred.routes import plan_route
 from navred.stars import known_bodies
 from navred.timescales import instants
 from navred.triangle import computed_altitude_azimuth
-from navred.voyage import process_log
 
 DAYS = 60
 ROUNDS_PER_DAY = 4

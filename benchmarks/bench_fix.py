@@ -2,7 +2,7 @@
 
 Targets (issue 4): a fix from 10 sights in under 2 ms; a batch of 10,000 independent fixes
 (a fleet's logbook archive) in under 5 seconds on one core. Issue 13: 10,000 fix groups
-through the workbook's path (navred.voyage.fix_groups: the chart rule, one padded solve, the
+through the workbook's path (navred.jobs.voyage.fix_groups: the chart rule, one padded solve, the
 statistics, blunder refits and the result of every group) in under 1 s. Prints all three. The
 sights are synthetic and exact (Ho computed at a random true position, the DR 10-30 nm away,
 one sight in 20 given a 6′ blunder in the groups' table): the timing is of the solver, which
@@ -19,9 +19,9 @@ import numpy as np
 import pandas as pd
 
 from navred.fix import move_position, solve_fixes
-from navred.frames import fix_position
+from navred.jobs.frames import fix_position
+from navred.jobs.voyage import fix_groups
 from navred.triangle import computed_altitude_azimuth
-from navred.voyage import fix_groups
 
 
 def synthetic(fixes: int, sights: int, rng):

@@ -18,9 +18,9 @@ import pandas as pd
 
 from navred import reduce_sights
 from navred.fix import move_position
+from navred.io.track import ReferenceTrack
+from navred.jobs.training import training_report
 from navred.stars import known_bodies
-from navred.track import ReferenceTrack
-from navred.training import training_report
 
 
 def main(n: int = 20_000, observers: int = 20) -> None:
@@ -49,7 +49,7 @@ def main(n: int = 20_000, observers: int = 20) -> None:
     import tempfile
     from pathlib import Path
 
-    from navred.logbook import read_sight_log
+    from navred.io.logbook import read_sight_log
 
     with tempfile.TemporaryDirectory() as folder:
         path = Path(folder) / "log.csv"

@@ -52,11 +52,11 @@ def main(folder: str | None = None) -> None:
     if not log_path.exists():
         subprocess.run([sys.executable, str(ROOT / "scripts" / "make_fleet_log.py"), str(log_path)], check=True)
 
-    from navred.frames import series_columns
-    from navred.logbook import read_sight_log
-    from navred.sights import reduce_sights
-    from navred.voyage import VoyageResult, _next_twilight_plan, _rejected, fix_groups
-    from navred.workbook import Pictures, write_plots, write_workbook
+    from navred.io.logbook import read_sight_log
+    from navred.io.workbook import Pictures, write_plots, write_workbook
+    from navred.jobs.frames import series_columns
+    from navred.jobs.sights import reduce_sights
+    from navred.jobs.voyage import VoyageResult, _next_twilight_plan, _rejected, fix_groups
 
     print(f"the workbook of {log_path} by stage:")
     log = timed("read and check the log", lambda: read_sight_log(log_path))

@@ -12,9 +12,9 @@ __version__ = "0.1.0"
 __all__ = ["__version__", "body_positions", "fix_position", "mark_workings", "process_log", "read_sight_log",
            "reduce_sights", "sun_events"]
 
-_FRONT = {"body_positions": "frames", "fix_position": "frames", "read_sight_log": "logbook",
-          "reduce_sights": "sights", "sun_events": "plan", "process_log": "voyage",
-          "mark_workings": "workings"}
+_FRONT = {"body_positions": "jobs.frames", "fix_position": "jobs.frames", "read_sight_log": "io.logbook",
+          "reduce_sights": "jobs.sights", "sun_events": "plan", "process_log": "jobs.voyage",
+          "mark_workings": "jobs.workings"}
 
 
 def __getattr__(name: str):

@@ -287,7 +287,7 @@ def places(body: str | ArrayLike, utc: object, dut1_s: ArrayLike | None = None) 
     Sequences of equal length pair element-wise and a scalar broadcasts. ``utc`` may be an
     :class:`navred.timescales.Instants` made once with :func:`navred.timescales.instants`:
     every call with the same batch then shares its time scales, Earth, Sun and frame. See
-    :func:`navred.frames.body_positions` for the columns; this is the array form the rest of
+    :func:`navred.jobs.frames.body_positions` for the columns; this is the array form the rest of
     the core uses.
     """
     inst = instants(utc, dut1_s)

@@ -458,6 +458,8 @@ class FixResult:
     gross: np.ndarray = field(default_factory=lambda: _EMPTY)
     #: the fix from every sight, when a gross error was left out of this one
     all_sights: FixResult | None = field(default=None, repr=False)
+    #: the names of the sights left out ('row 9', as the labels given)
+    left_out_names: list[str] = field(default_factory=list)
     #: sights beyond the unknowns (n − k): how many check the others
     redundant: int = 0
     #: what the ellipse's size means for this count of sights, in words (few redundant sights)
@@ -708,6 +710,7 @@ def _leave_out_gross(sights: _Sights, group, n_groups, ok, results) -> None:
         every = first[g]
         result.all_sights = every
         names = sights.names[by_group[bounds[g]:bounds[g + 1]][result.left_out]]
+        result.left_out_names = [str(name) for name in names]
         misses = np.abs(result.residual_arcmin[result.left_out])
         miles = float(distance_bearing(result.lat_deg, result.lon_deg, every.lat_deg, every.lon_deg)[0])
         lines = ", ".join(f"{name} ({miss:.0f}′ off)" for name, miss in zip(names, misses.tolist()))

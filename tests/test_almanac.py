@@ -24,7 +24,7 @@ from navred.constants import (
     VENUS_RADIUS_KM,
 )
 from navred.errors import BodyNameError, NavredError, TimeInputError
-from navred.frames import body_positions
+from navred.jobs.frames import body_positions
 from navred.stars import star_table
 from tests.conftest import ARCMIN, angle_diff_deg, sky_star, utc_of
 

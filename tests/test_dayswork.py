@@ -19,8 +19,8 @@ import pytest
 from geographiclib.geodesic import Geodesic
 
 from navred import read_sight_log
+from navred.jobs.voyage import process_log
 from navred.reckoning import dr_track
-from navred.voyage import process_log
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "scripts"))
 import make_passage as passage  # noqa: E402  (sails the ship outside navred)

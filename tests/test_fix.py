@@ -15,7 +15,7 @@ from navred.fix import (
     move_position,
     solve_fixes,
 )
-from navred.frames import fix_position
+from navred.jobs.frames import fix_position
 from navred.stats import f_2_quantile
 from navred.triangle import distance_bearing
 from tests.conftest import skyfield_sight
@@ -317,7 +317,7 @@ def test_every_group_solved_in_one_batch_matches_each_solved_alone():
     # invented training voyage (sample_sights/) has groups of 2 to 7 sights, star fixes, Sun runs, noon
     # latitudes, planted blunders and chart positions. The reference is navred's own single-group path:
     # this checks that padding and batching change nothing.
-    from navred.voyage import process_log
+    from navred.jobs.voyage import process_log
 
     voyage = process_log("sample_sights/training_sights.csv", plan=False)
     kinds = set()

@@ -1,19 +1,22 @@
-"""Work shared among forked processes (navred.forking): the results and the warnings are those one process
+"""Work shared among forked processes (navred.jobs.forking): the results and the warnings are those one process
 gives, in order, whatever happens to the processes; and navred reduce --csv, which shares a long log's
 blocks among the cores, writes the very text it writes alone."""
 
 from __future__ import annotations
 
+import importlib
 import os
 import warnings
 
 import pytest
 from typer.testing import CliRunner
 
-import navred.cli as cli
-import navred.forking as forking
+import navred.jobs.forking as forking
 from navred.errors import NavredWarning
-from navred.forking import forked_map
+from navred.jobs.forking import forked_map
+
+#: the command line's module (the package's own name `navred.cli.app` is the typer app it exposes)
+cli = importlib.import_module("navred.cli.app")
 
 runner = CliRunner()
 PARENT = os.getpid()

@@ -12,8 +12,8 @@ import pandas as pd
 from hypothesis import HealthCheck, Phase, given, settings
 from hypothesis import strategies as st
 
-from navred.logbook import LogbookError, read_sight_log
-from navred.readers import SEPARATORS
+from navred.io.logbook import LogbookError, read_sight_log
+from navred.io.readers import SEPARATORS
 
 DEMO = "sample_sights/demo_sights.csv"
 #: the seeded runs stop at the first failure they generate (shrinking big batches would take minutes)
@@ -246,7 +246,7 @@ _WORKING_EDITS = st.lists(st.tuples(st.integers(0, len(_WORKINGS) - 1), st.sampl
 def test_mutated_workings_are_marked_row_for_row_and_every_bad_line_is_named(tmp_path_factory, edits):
     """Hostile or careless cells in the cadet's lines: every sight is still marked, each cell that cannot be
     read is listed with its row, line and reason, and the rows nobody touched keep their verdicts."""
-    from navred.workings import mark_workings
+    from navred.jobs.workings import mark_workings
 
     folder = tmp_path_factory.mktemp("workings")
     rows = [dict(r) for r in _WORKINGS]
@@ -274,7 +274,7 @@ def _clean_marks():
     import tempfile
     from pathlib import Path
 
-    from navred.workings import mark_workings
+    from navred.jobs.workings import mark_workings
 
     with tempfile.TemporaryDirectory() as folder:
         path = Path(folder) / "workings.csv"
@@ -307,7 +307,7 @@ _SIGNAL_EDITS = st.lists(st.tuples(st.integers(0, len(_SIGNALS) - 1), st.sampled
 def test_mutated_rating_logs_keep_or_refuse_every_row_with_a_reason(tmp_path_factory, edits):
     """Hostile cells in a rating log: every comparison is read or refused by row and column with a reason (or the
     whole file refused in one line when nothing can be read), and untouched rows keep their errors."""
-    from navred.timesignals import read_rating_log
+    from navred.io.timesignals import read_rating_log
 
     rows = [dict(r) for r in _SIGNALS]
     touched = set()

@@ -15,8 +15,8 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from navred.logbook import LogbookError, read_sight_log
-from navred.voyage import process_log
+from navred.io.logbook import LogbookError, read_sight_log
+from navred.jobs.voyage import process_log
 
 HEADER = "utc,body,limb,hs,index_error_arcmin,eye_height_m,dr_lat,dr_lon,cadet_note"
 GOOD = "2026-03-26T19:41:00Z,Sirius,,30 02.4,1.4 on,2.8,43 14.1 N,013 03.7 W,first"
@@ -469,7 +469,7 @@ def test_a_plain_file_splits_as_the_csv_module_splits_it(tmp_path, separator, co
     # SPLIT_BY_PYTHON_ROWS rows) or pandas' C parser; every cell and every row number must be what Python's
     # csv module (the standard library's reference reader) gives, blank lines and lines of separators skipped,
     # spaces kept
-    from navred.readers import SPLIT_BY_PYTHON_ROWS, read_table
+    from navred.io.readers import SPLIT_BY_PYTHON_ROWS, read_table
 
     header = ["utc", "body", "hs", "dr_lat", "dr_lon", "remarks"]
     rows = [["2026-03-26T09:10:00Z", "Sun", "25 03.1", "44 10.1 N", "012 09.3 W", "  spaced  "],
@@ -494,7 +494,7 @@ def test_a_log_read_in_blocks_is_the_log_read_whole(tmp_path):
     # together must hold exactly the rows, values and rejections the one reader gives. The training voyage
     # (every row names its fix group) in blocks of 50 rows, with a few bad rows planted; and a log whose
     # rows do not all name their group, which is read whole
-    from navred.logbook import read_sight_log_blocks
+    from navred.io.logbook import read_sight_log_blocks
 
     frame = pd.read_csv("sample_sights/training_sights.csv", dtype=str, keep_default_na=False)
     frame.loc[7, "hs"] = "95 00"

@@ -19,8 +19,7 @@ import pandas as pd
 import pytest
 
 from navred.errors import NavredError
-from navred.marking import CAUSES, LINES, ZONE_OR_DATE, tenth, z_from_zn, zn_from_z
-from navred.workings import (
+from navred.jobs.workings import (
     WORKED_FORMS,
     mark_workings,
     marking_csv,
@@ -30,6 +29,7 @@ from navred.workings import (
     write_marking_workbook,
     write_template,
 )
+from navred.marking import CAUSES, LINES, ZONE_OR_DATE, tenth, z_from_zn, zn_from_z
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "scripts"))
 import make_class_workings as hand  # noqa: E402  (the independent synthesizer of hand workings)

@@ -149,7 +149,7 @@ def test_the_workbook_navred_wrote_reads_back_to_the_same_fixes(tmp_path):
     for source in ("sample_sights/demo_sights.csv", "sample_sights/training_sights.csv"):
         voyage = process_log(source, plan=False)
         book = tmp_path / "voyage.xlsx"
-        from navred.workbook import write_workbook
+        from navred.io.workbook import write_workbook
 
         write_workbook(voyage, book, plots=False)
         again = process_log(book, plan=False)
@@ -242,7 +242,7 @@ def test_several_logs_on_the_command_line(tmp_path):
 
 def test_row_lists_name_every_row_compactly():
     # common practice: consecutive rows as a range, each file named when there are several
-    from navred.frames import row_list
+    from navred.jobs.frames import row_list
 
     one = pd.DataFrame({"row": [9, 3, 4, 5, 12, 11], "source": ["a.csv"] * 6})
     assert row_list(one) == "rows 3-5, 9, 11-12"

@@ -19,7 +19,7 @@ from typer.testing import CliRunner
 
 from navred.cli import app
 from navred.errors import NavredError
-from navred.routes import plan_route
+from navred.jobs.routes import plan_route
 from navred.sailings import (
     GeodesicError,
     composite_great_circle,

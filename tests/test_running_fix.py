@@ -16,11 +16,11 @@ from navred.fix import (
     latitude_by_meridian_altitude,
     latitude_from_noon_curve,
 )
-from navred.frames import fix_position
+from navred.jobs.frames import fix_position
+from navred.jobs.voyage import process_log
 from navred.sailings import meridional_parts, rhumb_destination
 from navred.stats import chi_square_2_quantile
 from navred.triangle import distance_bearing
-from navred.voyage import process_log
 from tests.conftest import skyfield_sight
 
 WGS84_A_M, WGS84_F = 6378137.0, 1 / 298.257223563  # the WGS 84 ellipsoid (NIMA TR8350.2)
@@ -134,7 +134,7 @@ def test_the_ellipse_says_which_quantile_it_used():
     # one redundant sight (Satterthwaite), never a switch to another quantile at a floor; the six stars
     # taken within eight minutes estimate σ from four redundant sights: F(2, 4) (statistical tables:
     # F(2, 4; 0.95) = 6.94, from memory)
-    from navred.voyage import process_log
+    from navred.jobs.voyage import process_log
 
     voyage = process_log("sample_sights/demo_sights.csv", plan=False)
     sun = voyage.group("sun-run-sun").fix

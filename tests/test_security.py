@@ -18,9 +18,9 @@ import pytest
 from typer.testing import CliRunner
 
 from navred.cli import app
-from navred.logbook import LogbookError, read_sight_log
-from navred.output import OutputError, atomic_write
-from navred.track import TrackError, nmea_year, read_track
+from navred.io.logbook import LogbookError, read_sight_log
+from navred.io.output import OutputError, atomic_write
+from navred.io.track import TrackError, nmea_year, read_track
 
 runner = CliRunner()
 DEMO = "sample_sights/demo_sights.csv"
@@ -59,8 +59,8 @@ def test_a_zip_bomb_spreadsheet_is_refused_before_it_is_unzipped(tmp_path):
 def test_hand_workings_are_read_under_the_same_bounds(tmp_path, monkeypatch):
     """A class workbook (a sheet per cadet) is read through the one reader: the zip bomb is refused before it
     is unzipped, and each sheet is held to the row limit."""
-    from navred import readers
-    from navred.workings import mark_workings
+    from navred.io import readers
+    from navred.jobs.workings import mark_workings
 
     path = tmp_path / "bomb.xlsx"
     with zipfile.ZipFile(path, "w", zipfile.ZIP_DEFLATED) as archive:
@@ -261,8 +261,8 @@ def test_a_csv_track_must_declare_its_time_zone(tmp_path):
 
 def test_a_long_gap_in_the_track_is_not_bridged(tmp_path):
     # the invented training track (sample_sights/) with 66 hours cut out: sights inside the gap are not marked
-    from navred.training import training_report
-    from navred.voyage import process_log
+    from navred.jobs.training import training_report
+    from navred.jobs.voyage import process_log
 
     track = pd.read_csv("sample_sights/training_track.csv")
     times = pd.to_datetime(track.utc)
@@ -295,7 +295,7 @@ def test_a_long_gap_in_the_track_is_not_bridged(tmp_path):
 
 WRITER = textwrap.dedent("""
     import sys, time
-    from navred.output import atomic_write
+    from navred.io.output import atomic_write
     def slow(path):
         with open(path, "w") as handle:
             handle.write("half a workb")
@@ -327,7 +327,7 @@ def test_two_runs_writing_one_file_never_corrupt_it(tmp_path):
     target = tmp_path / "same.csv"
     script = textwrap.dedent("""
         import sys
-        from navred.output import atomic_write
+        from navred.io.output import atomic_write
         for k in range(40):
             atomic_write(sys.argv[1], lambda p: open(p, "w").write(sys.argv[2] * 20000))
     """)
@@ -370,7 +370,7 @@ def test_a_folder_that_cannot_be_written_is_one_line(tmp_path, monkeypatch):
 
 
 def test_a_log_too_long_for_a_sheet_is_refused_before_the_work(monkeypatch, tmp_path):
-    from navred import workbook
+    from navred.io import workbook
 
     monkeypatch.setattr(workbook, "SHEET_ROW_LIMIT", 10)
     result = runner.invoke(app, ["workbook", DEMO, "-o", str(tmp_path / "v.xlsx")])
@@ -411,7 +411,7 @@ BAD_OPTIONS = [
 def test_output_cut_short_by_its_reader_is_one_line_never_a_traceback():
     """`navred reduce LOG | head -1`: the pipe closes early; navred says so in one line."""
     reader = subprocess.Popen([sys.executable, "-c", "import sys; sys.stdin.readline()"], stdin=subprocess.PIPE)
-    done = subprocess.run([sys.executable, "-m", "navred.cli", "reduce", "sample_sights/training_sights.csv"],
+    done = subprocess.run([sys.executable, "-m", "navred", "reduce", "sample_sights/training_sights.csv"],
                           stdout=reader.stdin, stderr=subprocess.PIPE, text=True, timeout=120)
     reader.stdin.close()
     reader.wait(timeout=30)
@@ -446,12 +446,12 @@ def test_every_command_runs_without_the_network(no_network, tmp_path):
 
 
 def test_csv_text_is_what_pandas_writes_of_the_neutralised_table():
-    # issue 13: navred's CSV output is made column by column (navred.output.csv_text); it must be the very
+    # issue 13: navred's CSV output is made column by column (navred.io.output.csv_text); it must be the very
     # text pandas' to_csv writes (the general-purpose reference) of the table after csv_safe (OWASP): quotes,
     # separators and line breaks quoted, formula-like text neutralised, gaps empty, instants with a zone
     import pandas as pd
 
-    from navred.output import csv_safe, csv_text
+    from navred.io.output import csv_safe, csv_text
 
     frame = pd.DataFrame({
         "text": ["plain", "a, b", 'say "hi"', "two\nlines", "=HYPERLINK(1)", "-5", "", "@x"],

@@ -8,7 +8,7 @@ import pytest
 
 from navred import reduce_sights
 from navred.fix import move_position
-from navred.frames import series_columns as series_of_log
+from navred.jobs.frames import series_columns as series_of_log
 from navred.series import check_series, series_ids
 from navred.stars import star_table
 from tests.conftest import skyfield_sight
@@ -116,9 +116,9 @@ def test_series_are_grouped_by_body_observer_and_gap():
 
 def test_a_series_with_a_blunder_still_draws_its_curve(tmp_path):
     # the invented training voyage (sample_sights/): its first noon series of four Sun sights, one off by 20′
-    from navred.plotting import INK
-    from navred.voyage import process_log
-    from navred.workbook import series_figure
+    from navred.figures.plotting import INK
+    from navred.io.workbook import series_figure
+    from navred.jobs.voyage import process_log
 
     frame = pd.read_csv("sample_sights/training_sights.csv", dtype=str, keep_default_na=False)
     sun = frame.index[(frame.body == "Sun") & frame.fix_group.str.endswith("1310")][1]
@@ -131,7 +131,7 @@ def test_a_series_with_a_blunder_still_draws_its_curve(tmp_path):
     assert voyage.reduced.series_flag[row]
     members = voyage.reduced[voyage.reduced.series == name]
     assert members.series_flag.sum() == 1 and np.isfinite(members.series_offset_arcmin).all()
-    picture = series_figure(voyage, name)  # a navred.drawing.Canvas: its items are the drawn primitives
+    picture = series_figure(voyage, name)  # a navred.figures.drawing.Canvas: its items are the drawn primitives
     labels = [item.text for item in picture.items if hasattr(item, "text")]
     assert not any("nan" in label.lower() for label in labels)
     assert any(label.startswith("Ho − ") for label in labels)

@@ -7,7 +7,7 @@ import pandas as pd
 import pytest
 
 from navred import reduce_sights
-from navred.sights import RESULT_COLUMNS
+from navred.jobs.sights import RESULT_COLUMNS
 from navred.stars import star_table
 from tests.conftest import angle_diff_deg, skyfield_sight
 
@@ -99,7 +99,7 @@ def test_defaults_and_warnings():
 
 def test_high_sight_is_flagged():
     # the Sun at the zenith of the subsolar point: Hc near 90°
-    from navred.frames import body_positions
+    from navred.jobs.frames import body_positions
 
     sun = body_positions("Sun", "2026-06-21T12:00:00Z").iloc[0]
     lon = -sun.gha_deg if sun.gha_deg < 180 else 360 - sun.gha_deg
@@ -110,7 +110,7 @@ def test_high_sight_is_flagged():
 
 
 def test_blocks_give_the_same_result_as_one_pass(monkeypatch):
-    from navred import sights as module
+    from navred.jobs import sights as module
 
     frame = pd.read_csv("sample_sights/demo_sights.csv", dtype=str, keep_default_na=False)
     whole = reduce_sights(frame)

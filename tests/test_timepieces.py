@@ -17,10 +17,10 @@ from typer.testing import CliRunner
 
 from navred import read_sight_log
 from navred.cli import app
+from navred.io.readers import LogbookError
+from navred.io.timesignals import read_rating_log
+from navred.jobs.voyage import process_log
 from navred.rating import error_in_half_day, fit_rate, rate_change
-from navred.readers import LogbookError
-from navred.timesignals import read_rating_log
-from navred.voyage import process_log
 
 runner = CliRunner()
 

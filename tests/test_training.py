@@ -9,9 +9,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from navred.track import ReferenceTrack, TrackError, positions_at, read_track
-from navred.training import training_report
-from navred.voyage import process_log
+from navred.io.track import ReferenceTrack, TrackError, positions_at, read_track
+from navred.jobs.training import training_report
+from navred.jobs.voyage import process_log
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "scripts"))
 import make_training_voyage as voyage_maker  # noqa: E402  (the invented voyage, synthesized with skyfield)

@@ -10,12 +10,12 @@ import openpyxl
 import pandas as pd
 import pytest
 
-from navred.exports import GPX_NAMESPACE, write_geojson, write_gpx
+from navred.figures.plotting import save_plotting_sheet
 from navred.fix import move_position
-from navred.frames import fix_position
-from navred.plotting import save_plotting_sheet
-from navred.voyage import process_log
-from navred.workbook import SAFETY, atomic_write, write_workbook
+from navred.io.exports import GPX_NAMESPACE, write_geojson, write_gpx
+from navred.io.workbook import SAFETY, atomic_write, write_workbook
+from navred.jobs.frames import fix_position
+from navred.jobs.voyage import process_log
 from tests.conftest import skyfield_sight
 
 

@@ -12,7 +12,7 @@ removed before the save) and referred to by their index, as openpyxl itself does
 
 Every text is written as an inline string: never a formula, whatever it begins with. A
 control character the format cannot hold is shown as U+FFFD and a text longer than a cell
-holds is cut with a note, as :func:`navred.workbook.write_text_safe` does for single cells.
+holds is cut with a note, as :func:`navred.io.workbook.write_text_safe` does for single cells.
 """
 
 from __future__ import annotations
@@ -28,7 +28,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from .errors import NavredError
+from ..errors import NavredError
 from .readers import MAX_CELL_CHARS
 
 _ILLEGAL_IN_XML = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")

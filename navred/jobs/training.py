@@ -18,11 +18,11 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from .constants import ARCMIN_PER_DEG
-from .stars import SOLAR_SYSTEM
-from .stats import student_t_quantile
-from .track import ReferenceTrack
-from .triangle import computed_altitude_azimuth
+from ..constants import ARCMIN_PER_DEG
+from ..io.track import ReferenceTrack
+from ..stars import SOLAR_SYSTEM
+from ..stats import student_t_quantile
+from ..triangle import computed_altitude_azimuth
 
 BLUNDER_ARCMIN = 5.0
 
@@ -136,7 +136,7 @@ def observer_figure(report: TrainingReport, observer: str):
     matplotlib.use("Agg")
     from matplotlib.figure import Figure
 
-    from .plotting import FIX, GRID, INK, PAPER
+    from ..figures.plotting import FIX, GRID, INK, PAPER
 
     part = report.sights[(report.sights.observer == observer) & report.sights.within_track]
     row = report.observers[report.observers.observer == observer].iloc[0]
@@ -175,7 +175,7 @@ def summary_figure(report: TrainingReport, title: str = "Training summary"):
     matplotlib.use("Agg")
     from matplotlib.figure import Figure
 
-    from .plotting import FIX, GRID, INK
+    from ..figures.plotting import FIX, GRID, INK
 
     figure = Figure(figsize=(8.27, 11.69), dpi=100, facecolor="white")  # A4 portrait
     figure.text(0.07, 0.96, title, fontsize=14, weight="bold", color=INK)

@@ -20,9 +20,9 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from .angles import parse_angle
-from .errors import NavredError
-from .timescales import instant_components, utc_jd_to_datetime64, utc_julian_date_from_components
+from ..angles import parse_angle
+from ..errors import NavredError
+from ..timescales import instant_components, utc_jd_to_datetime64, utc_julian_date_from_components
 
 MAX_TRACK_BYTES = 128 * 1024 * 1024
 MAX_TRACK_POINTS = 2_000_000

@@ -25,10 +25,9 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from .angles import format_angle
-from .fix import DR_ERROR_FRACTION, DR_ERROR_KN
-from .frames import utc64
-from .reckoning import (
+from ..angles import format_angle
+from ..fix import DR_ERROR_FRACTION, DR_ERROR_KN
+from ..reckoning import (
     NS_PER_HOUR,
     DRTrack,
     course_speed,
@@ -39,7 +38,8 @@ from .reckoning import (
     ship_noon_ns,
     zone_description_h,
 )
-from .sailings import rhumb_destination
+from ..sailings import rhumb_destination
+from .frames import utc64
 
 #: A fix or an estimated position this close to noon (either side) gives the noon position.
 NOON_WINDOW_HOURS = 1.0

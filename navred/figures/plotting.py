@@ -1,6 +1,6 @@
 """The pictures: the plotting sheet of a fix, the sky of a sight plan, a sight series. Edge code.
 
-The plotting sheet is drawn on navred's light canvas (:mod:`navred.drawing`, SVG or PNG in a
+The plotting sheet is drawn on navred's light canvas (:mod:`navred.figures.drawing`, SVG or PNG in a
 few milliseconds, so a workbook can hold hundreds); the sky and the series pictures use
 matplotlib, imported lazily.
 
@@ -19,7 +19,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .angles import format_angle
+from ..angles import format_angle
 
 # navred's own palette: sea-chart paper, ink-blue lines, a vermilion fix
 PAPER, GRID, INK, FIX, CHART, ELLIPSE, FLAGGED = ("#f7f3e8", "#c9c2ad", "#1d3557", "#d1495b",
@@ -41,7 +41,7 @@ _AREA = (70.0, 58.0, 540.0, 528.0)  # x0, y0, x1, y1
 
 
 def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None, rows=None):
-    """The fix's plotting sheet as a :class:`navred.drawing.Canvas` (render it with ``to_svg`` or ``to_png``).
+    """The fix's plotting sheet as a :class:`navred.figures.drawing.Canvas` (render it with ``to_svg`` or ``to_png``).
 
     ``fix`` is a :class:`navred.fix.FixResult`; ``bodies`` and ``times`` label its sights
     (input-row order, as ``fix.residual_arcmin``), ``rows`` name them in notes ('row 9'); ``chart``
@@ -217,7 +217,7 @@ def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None, rows=None
     sheet.text(ax0 - 12, 40, f"{str(fix.utc)[:19].replace('T', ' ')} UTC · {extent_text} · σ {fix.sigma_arcmin:.2f}′ · "
                "grid: minutes of latitude and longitude", 8, INK)
     if every is not None and left_out.any():
-        from .triangle import distance_bearing
+        from ..triangle import distance_bearing
 
         miles, bearing = distance_bearing(fix.lat_deg, fix.lon_deg, every.lat_deg, every.lon_deg)
         names = ", ".join(f"{rows[k]} {bodies[k]} ({abs(float(fix.residual_arcmin[k])):.0f}′ off)"
@@ -246,7 +246,7 @@ SHEET_PNG_PX = 880
 
 def save_plotting_sheet(fix, bodies, times, path, *, title: str = "", chart=None) -> Path:
     """Draw the plotting sheet and save it (PNG or SVG by the file's suffix)."""
-    from .output import atomic_write
+    from ..io.output import atomic_write
 
     target = Path(path)
     sheet = plotting_sheet(fix, bodies, times, title=title, chart=chart)
@@ -254,14 +254,14 @@ def save_plotting_sheet(fix, bodies, times, path, *, title: str = "", chart=None
 
 
 def canvas_bytes(canvas, suffix: str, *, png_width_px: int = SHEET_PNG_PX) -> bytes:
-    """A :class:`navred.drawing.Canvas` as the contents of an SVG or PNG file (by ``suffix``)."""
+    """A :class:`navred.figures.drawing.Canvas` as the contents of an SVG or PNG file (by ``suffix``)."""
     if suffix.lower().lstrip(".") == "svg":
         return canvas.to_svg().encode("utf-8")
     return canvas.to_png(png_width_px)
 
 
 def write_canvas(canvas, path, *, png_width_px: int = SHEET_PNG_PX) -> None:
-    """Write a :class:`navred.drawing.Canvas` as SVG or PNG, by the file's suffix."""
+    """Write a :class:`navred.figures.drawing.Canvas` as SVG or PNG, by the file's suffix."""
     Path(path).write_bytes(canvas_bytes(canvas, Path(path).suffix, png_width_px=png_width_px))
 
 
@@ -334,7 +334,7 @@ SERIES_PT = (360.0, 230.0)
 
 
 def series_plot(times, ho_deg, flagged, curve_times, curve_ho_deg, best_index, *, title: str = ""):
-    """A small picture of one sight series on a :class:`navred.drawing.Canvas`: the predicted
+    """A small picture of one sight series on a :class:`navred.figures.drawing.Canvas`: the predicted
     altitude curve, the sights, the flagged ones crossed, the best sight ringed."""
     from .drawing import Canvas
 
@@ -399,10 +399,10 @@ def series_plot(times, ho_deg, flagged, curve_times, curve_ho_deg, best_index, *
 
 
 def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
-    """A vessel's voyage on one sheet (a :class:`navred.drawing.Canvas`): the DR legs from each known
+    """A vessel's voyage on one sheet (a :class:`navred.figures.drawing.Canvas`): the DR legs from each known
     position (dashed), the fixes with their 95 % ellipses, the estimated positions, an arrow of the set
     and drift found at each fix, and the noon positions with their dates. ``days`` is a
-    :class:`navred.dayswork.DaysWork`; ``vessel`` picks one of its vessels (default: the first).
+    :class:`navred.jobs.dayswork.DaysWork`; ``vessel`` picks one of its vessels (default: the first).
 
     Drawn as a Mercator chart about the voyage's middle latitude: a minute of latitude is a nautical
     mile up the page, a minute of longitude cos φ miles across (good to a few per cent over a passage

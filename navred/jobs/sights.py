@@ -13,11 +13,11 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from .almanac import places
-from .corrections import correct_altitudes, planet_phases
-from .logbook import SIGHT_COLUMNS, SightLog, read_sight_log
-from .timescales import UT1_BEFORE, UT1_BEYOND, instants_from_utc_jd
-from .triangle import (
+from ..almanac import places
+from ..corrections import correct_altitudes, planet_phases
+from ..io.logbook import SIGHT_COLUMNS, SightLog, read_sight_log
+from ..timescales import UT1_BEFORE, UT1_BEYOND, instants_from_utc_jd
+from ..triangle import (
     HIGH_ALTITUDE_DEG,
     computed_altitude_azimuth,
     intercept_direction,

@@ -18,7 +18,7 @@ import stat
 from collections.abc import Callable, Iterable
 from pathlib import Path
 
-from .errors import NavredError
+from ..errors import NavredError
 
 _TEMP = re.compile(r"^\.(?P<name>.+)\.(?P<pid>\d+)\.[0-9a-f]{8}\.navred-tmp(?P<suffix>\.[^.]*)?$")
 #: Formula-like text: a CSV cell that begins with one of these is read by a spreadsheet as a

@@ -22,12 +22,12 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from .errors import NavredError
-from .rating import RateChange, RateFit, error_in_half_day, fit_rate, rate_change, residuals_s
+from ..errors import NavredError
+from ..rating import RateChange, RateFit, error_in_half_day, fit_rate, rate_change, residuals_s
+from ..timescales import utc_jd_to_datetime64, utc_julian_date, utc_julian_date_from_components
+from ..timework import DATE_ORDERS, iso_instant_text, parse_time_of_day, parse_zone_description
+from ..vocabulary import normalise_header
 from .readers import LogbookError, read_table
-from .timescales import utc_jd_to_datetime64, utc_julian_date, utc_julian_date_from_components
-from .timework import DATE_ORDERS, iso_instant_text, parse_time_of_day, parse_zone_description
-from .vocabulary import normalise_header
 
 #: The rating log's columns and the headers that name them.
 RATING_COLUMNS = {

@@ -17,15 +17,15 @@ from typing import TYPE_CHECKING
 import numpy as np
 import pandas as pd
 
-from .angles import format_angle
-from .errors import NavredError
-from .fix import ELLIPSE_COVERS
-from .forking import can_fork, cores, forked_map
+from ..angles import format_angle
+from ..errors import NavredError
+from ..fix import ELLIPSE_COVERS
+from ..jobs.forking import can_fork, cores, forked_map
 from .output import atomic_write, atomic_write_many
 from .xlsxtables import TableWriter, safe_text
 
 if TYPE_CHECKING:
-    from .voyage import VoyageResult
+    from ..jobs.voyage import VoyageResult
 
 SAFETY = ("SAFETY OF NAVIGATION: navred is an aid to navigation, not a sole means of navigation. "
           "Verify against the official nautical almanac and the publications of your flag state; "
@@ -144,7 +144,7 @@ def working_table(voyage) -> pd.DataFrame:
 
 
 def fixes_table(voyage) -> pd.DataFrame:
-    from .frames import row_labels
+    from ..jobs.frames import row_labels
 
     labels = row_labels(voyage.reduced) if len(voyage.reduced) else np.zeros(0, dtype=str)
     rows = []
@@ -253,7 +253,7 @@ def _cell_value(value):
 
 def _add_figure(sheet, figure, anchor: str, width: int, height: int) -> None:
     """Embed a picture in a sheet as a PNG drawn at the size it is shown (``width`` by ``height``
-    pixels), anchored at a cell: a :class:`navred.drawing.Canvas` or a matplotlib figure."""
+    pixels), anchored at a cell: a :class:`navred.figures.drawing.Canvas` or a matplotlib figure."""
     from openpyxl.drawing.image import Image
 
     if hasattr(figure, "to_png"):
@@ -313,7 +313,7 @@ def write_text_safe(cell, value) -> None:
 
 
 def new_tables(book) -> TableWriter:
-    """The writer of a workbook's tables (see :mod:`navred.xlsxtables`), in this workbook's style."""
+    """The writer of a workbook's tables (see :mod:`navred.io.xlsxtables`), in this workbook's style."""
     return TableWriter(book, style_header, _FLAG_FILL, DATE_TIME_FORMAT)
 
 
@@ -396,7 +396,7 @@ class Pictures:
 
 
 def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool | Pictures = True) -> Path:
-    """Write the spreadsheet log of a :class:`navred.voyage.VoyageResult` to ``path`` (.xlsx).
+    """Write the spreadsheet log of a :class:`navred.jobs.voyage.VoyageResult` to ``path`` (.xlsx).
 
     ``plots`` True embeds the pictures (up to :data:`MAX_EMBEDDED_PICTURES` of each kind, the rest
     counted on their sheet), False leaves them out, or a :class:`Pictures` says exactly."""
@@ -530,7 +530,7 @@ def _write_days_sheet(tables: TableWriter, sheet, days, pictures: Pictures) -> N
     """The day's work: noons and the day's run, set and drift, estimated positions, a voyage picture per vessel."""
     from openpyxl.styles import Font
 
-    from .plotting import voyage_track_picture
+    from ..figures.plotting import voyage_track_picture
 
     blocks = [("Noon positions (12:00 ship's time) and the day's run, noon to noon along the rhumb line",
                days.noons),
@@ -572,7 +572,7 @@ def _pictures_below(sheet, line: int, pictures: Pictures, what: str, names: list
 def _write_training_sheet(tables: TableWriter, sheet, report, pictures: Pictures) -> None:
     from openpyxl.styles import Font
 
-    from .training import observer_figure
+    from ..jobs.training import observer_figure
 
     blocks = [("Observers (personal error = mean error of the sights within 5′; 95 % interval from Student's t)",
                report.observers),
@@ -598,7 +598,7 @@ def series_table(voyage) -> pd.DataFrame:
     reduced = voyage.reduced
     if "series_size" not in reduced.columns:
         return pd.DataFrame()
-    from .frames import row_labels
+    from ..jobs.frames import row_labels
 
     multi = reduced[reduced.series_size >= 2]
     if not len(multi):
@@ -630,9 +630,9 @@ def series_table(voyage) -> pd.DataFrame:
 
 def series_figure(voyage, name: str):
     """The small plot of one series: its sights against the predicted curve at the DR."""
-    from .almanac import places
-    from .plotting import series_plot
-    from .triangle import computed_altitude_azimuth
+    from ..almanac import places
+    from ..figures.plotting import series_plot
+    from ..triangle import computed_altitude_azimuth
 
     part = voyage.reduced[voyage.reduced.series == name].sort_values("sight_utc")
     times = part.sight_utc.dt.tz_convert(None).to_numpy().astype("datetime64[ns]")
@@ -691,7 +691,7 @@ def _write_plan_sheet(tables: TableWriter, sheet, plan, plots: bool) -> None:
     sheet.cell(row=line + 1, column=1, value="How the set was chosen").font = Font(bold=True)
     sheet.cell(row=line + 1, column=2, value=plan.explanation)
     if plots:
-        from .plotting import sky_picture
+        from ..figures.plotting import sky_picture
 
         _add_figure(sheet, sky_picture(plan, title="Sight plan: the next twilight"), f"A{line + 4}", 520, 555)
 
@@ -707,8 +707,8 @@ def _sight_labels(voyage) -> tuple[np.ndarray, np.ndarray]:
 
 def plotting_figure(voyage, group):
     """The plotting sheet figure of one fix group."""
-    from .frames import row_labels
-    from .plotting import plotting_sheet
+    from ..figures.plotting import plotting_sheet
+    from ..jobs.frames import row_labels
 
     bodies, times = _sight_labels(voyage)
     if "row labels" not in voyage.cache:
@@ -738,7 +738,7 @@ def write_plots(voyage: VoyageResult, folder: str | Path, formats: tuple[str, ..
     Hundreds of sheets are drawn by ``workers`` processes at once (default: one per core this process
     may use, for :data:`PARALLEL_FROM` sheets or more, where the system can fork); each file is the
     same byte for byte whoever draws it."""
-    from .plotting import canvas_bytes
+    from ..figures.plotting import canvas_bytes
 
     out = Path(folder)
     if out.exists() and not out.is_dir():
@@ -747,7 +747,7 @@ def write_plots(voyage: VoyageResult, folder: str | Path, formats: tuple[str, ..
     chosen = [g for g in (voyage.groups if groups is None else groups) if g.fix is not None]
     written: list[Path] = []
     if groups is None and not voyage.days_work().empty:
-        from .plotting import voyage_track_picture
+        from ..figures.plotting import voyage_track_picture
 
         days = voyage.days_work()
         pictures = {}
@@ -773,7 +773,7 @@ PARALLEL_FROM = 400
 
 def _draw_batch(context: dict, batch: tuple[int, int]) -> dict[str, bytes]:
     """One batch of plotting sheets drawn (in this process or in a forked drawer)."""
-    from .plotting import canvas_bytes
+    from ..figures.plotting import canvas_bytes
 
     voyage, chosen, stems, formats = (context[k] for k in ("voyage", "chosen", "stems", "formats"))
     files = {}

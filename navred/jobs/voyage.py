@@ -20,16 +20,16 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 import pandas as pd
 
-from . import __version__
-from .angles import format_angle
-from .ephemeris import EPHEMERIS_NAME
-from .errors import NavredError
-from .fix import SEXTANT_SIGMA_LIMIT_ARCMIN, FixResult, fixes_from_sights
+from .. import __version__
+from ..angles import format_angle
+from ..ephemeris import EPHEMERIS_NAME
+from ..errors import NavredError
+from ..fix import SEXTANT_SIGMA_LIMIT_ARCMIN, FixResult, fixes_from_sights
+from ..io.logbook import REJECTED_COLUMNS, SightLog, read_sight_log
+from ..timescales import iers_table, leap_second_table
+from ..triangle import distance_bearing
 from .frames import row_labels, series_columns, utc64
-from .logbook import REJECTED_COLUMNS, SightLog, read_sight_log
 from .sights import reduce_sights
-from .timescales import iers_table, leap_second_table
-from .triangle import distance_bearing
 
 
 @dataclass
@@ -58,20 +58,20 @@ class VoyageResult:
     #: the sight plan for the next twilight after the last fix, from it along the last course and speed
     next_plan: object | None = None
     next_events: dict | None = None
-    #: a navred.training.TrainingReport when the run was marked against a reference track
+    #: a navred.jobs.training.TrainingReport when the run was marked against a reference track
     training: object | None = None
     #: what the writers work out once a run and reuse (labels of every sight, say)
     cache: dict = field(default_factory=dict, repr=False, compare=False)
     #: the set and drift found at each fix carried on in the DR (process_log's option)
     carry_current: bool = False
-    #: the timepieces' rating (navred.timesignals.Ratings) when a rating log was given
+    #: the timepieces' rating (navred.io.timesignals.Ratings) when a rating log was given
     ratings: object | None = None
     #: per reduced row, what the fix takes from the DR kept along the log (:func:`dr_context`): the current in
     #: force at each sight and the age of its DR
     context: dict | None = None
 
     def days_work(self):
-        """The day's work of the voyage (navred.dayswork): set and drift, estimated positions, noons, the DR
+        """The day's work of the voyage (navred.jobs.dayswork): set and drift, estimated positions, noons, the DR
         track; worked out once and kept."""
         if "days_work" not in self.cache:
             from .dayswork import days_work
@@ -121,7 +121,7 @@ def process_log(source: object, *, dates: str | None = None, solve_motion: bool 
     plan the next twilight. ``at_utc``: the time of every fix (default: each group's last sight).
     A sight whose DR the reader carried along the log's track gets it again from the last fix
     before it (each fix restarts the DR; ``carry_current`` carries the set and drift found at
-    each fix on in the DR). ``rates`` (a :class:`navred.timesignals.Ratings`) predicts the watch
+    each fix on in the DR). ``rates`` (a :class:`navred.io.timesignals.Ratings`) predicts the watch
     error of sights kept in zone time without one; it is kept for the workbook's Timepieces sheet.
     """
     log = source if isinstance(source, SightLog) else read_sight_log(source, dates=dates, rates=rates)
@@ -231,8 +231,8 @@ def dr_context(log: SightLog, reduced: pd.DataFrame, groups: list[GroupFix], *, 
     carried = (reduced["dr_carried_from"].to_numpy(dtype=object) != "") & (reduced["status"].to_numpy() != "error")
     if not carried.any():
         return out
+    from ..reckoning import course_speed
     from .dayswork import vessel_tracks
-    from .reckoning import course_speed
 
     if tracks is None:
         tracks = vessel_tracks(VoyageResult("", log, reduced, log.rejected, groups), carry_current=carry_current)
@@ -422,7 +422,7 @@ def _degrees_and_minutes_as_decimal(reduced: pd.DataFrame, group: np.ndarray, re
 def _next_twilight_plan(voyage: VoyageResult):
     """Plan the next twilight that begins after the latest fix, carried on from the fix by the last
     sight's course and speed."""
-    from .plan import Track, sight_plans, voyage_events
+    from ..plan import Track, sight_plans, voyage_events
 
     fixes = [g for g in voyage.groups if g.fix is not None]
     if not fixes:

@@ -11,10 +11,10 @@ import numpy as np
 import pandas as pd
 from numpy.typing import ArrayLike
 
-from .almanac import places
-from .errors import NavredError
-from .fix import FixResult, fix_from_sights
-from .series import SIGMAS, THRESHOLD_ARCMIN, check_series, series_ids
+from ..almanac import places
+from ..errors import NavredError
+from ..fix import FixResult, fix_from_sights
+from ..series import SIGMAS, THRESHOLD_ARCMIN, check_series, series_ids
 
 
 def body_positions(body: str | ArrayLike, utc: object, dut1_s: ArrayLike | None = None) -> pd.DataFrame:

@@ -17,11 +17,11 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from . import __version__
-from .angles import format_angle
-from .errors import NavredError
-from .output import atomic_write
-from .sailings import (
+from .. import __version__
+from ..angles import format_angle
+from ..errors import NavredError
+from ..io.output import atomic_write
+from ..sailings import (
     composite_great_circle,
     great_circle_destination,
     great_circle_inverse,
@@ -135,7 +135,7 @@ def _waypoints(lat1, lon1, lat2, lon2, course1, gc_nm, spacing, composite) -> pd
         part[first] = "great circle to the limit"
         run = (along > c["first_nm"]) & (along <= c["first_nm"] + c["parallel_nm"])
         if run.any():  # along the parallel: the longitude moves by the miles over ν cos φ
-            from .sailings import prime_vertical_radius_m
+            from ..sailings import prime_vertical_radius_m
 
             limit = c["limit_deg"]
             per_deg = np.radians(1.0) * prime_vertical_radius_m(abs(limit)) * np.cos(np.radians(limit)) / 1852.0

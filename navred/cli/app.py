@@ -12,8 +12,8 @@ import warnings
 
 import typer
 
-from . import __version__
-from .errors import NavredError, NavredWarning
+from .. import __version__
+from ..errors import NavredError, NavredWarning
 
 app = typer.Typer(
     name="navred",
@@ -70,7 +70,7 @@ def _reported():
 
 
 def _csv_safe(frame):
-    from .output import csv_safe
+    from ..io.output import csv_safe
 
     return csv_safe(frame)
 
@@ -117,8 +117,8 @@ def almanac_command(
 
     Example:  navred almanac Sun Moon Vega --utc 2026-03-20T18:42:10Z
     """
-    from .almanac import places
-    from .angles import format_angle
+    from ..almanac import places
+    from ..angles import format_angle
 
     with _reported():
         result = places(list(bodies), _single_instant(utc), dut1_s=dut1)
@@ -152,7 +152,7 @@ def _single_instant(utc: str):
     """One instant for many bodies (a list of one, so that the bodies pair with it)."""
     import numpy as np
 
-    from .timescales import instants
+    from ..timescales import instants
 
     return instants(np.array([utc], dtype=object)) if isinstance(utc, str) else utc
 
@@ -175,18 +175,18 @@ def _ratings(rates, dates: str | None = None):
     """The rating log given with --rates, read and fitted with the log's date order (None without one)."""
     if not rates:
         return None
-    from .timesignals import read_rating_log
+    from ..io.timesignals import read_rating_log
 
     return read_rating_log(rates, dates=dates)
 
 
 def _reduced(log):
     """The log's sights reduced; a DR carried along the log's track is carried from the last fix before the
-    sight, as every command that fixes carries it (navred.voyage.process_log), so that the intercepts agree."""
-    from .sights import reduce_sights
+    sight, as every command that fixes carries it (navred.jobs.voyage.process_log), so that the intercepts agree."""
+    from ..jobs.sights import reduce_sights
 
     if len(log.table) and (log.table["dr_carried_from"] != "").any():
-        from .voyage import process_log
+        from ..jobs.voyage import process_log
 
         return process_log(log, plan=False).reduced
     return reduce_sights(log)
@@ -199,7 +199,7 @@ REDUCE_BLOCK_ROWS = 25_000
 def _reduced_block_csv(plan, k: int) -> tuple[str, int]:
     """Block ``k`` of a long log read, reduced and written as CSV (the header with the first), and how many of
     its sights were reduced."""
-    from .output import csv_text
+    from ..io.output import csv_text
 
     reduced = _reduced(plan.read(k))
     return csv_text(reduced, header=k == 0), _count_reduced(reduced)
@@ -210,7 +210,7 @@ def _count_reduced(reduced) -> int:
 
 
 def _labels(reduced):
-    from .frames import row_labels
+    from ..jobs.frames import row_labels
 
     return row_labels(reduced)
 
@@ -229,16 +229,16 @@ def reduce_command(
 
     Example:  navred reduce sample_sights/demo_sights.csv
     """
-    from .angles import format_angle
-    from .logbook import read_sight_log
+    from ..angles import format_angle
+    from ..io.logbook import read_sight_log
 
     with _reported():
         if csv:
             # block by block, the blocks shared among the cores: a fleet's archive of a million sights never sits
             # in memory whole
-            from .forking import cores, forked_map
-            from .logbook import sight_log_blocks
-            from .output import csv_text
+            from ..io.logbook import sight_log_blocks
+            from ..io.output import csv_text
+            from ..jobs.forking import cores, forked_map
 
             ratings = _ratings(rates, dates)
             source = _source(sights_files)
@@ -281,7 +281,7 @@ def reduce_command(
 def _print_fix(group, reduced, labels) -> None:
     import numpy as np
 
-    from .angles import format_angle
+    from ..angles import format_angle
 
     fix = group.fix
     when = str(fix.utc)[:19].replace("T", " ")
@@ -366,8 +366,8 @@ def _print_latitude_checks(reduced, labels) -> None:
     """Latitude by meridian altitude (sights within 0.25° of LHA 0) and by Polaris, as checks."""
     import numpy as np
 
-    from .angles import format_angle
-    from .fix import latitude_by_meridian_altitude, latitude_by_polaris
+    from ..angles import format_angle
+    from ..fix import latitude_by_meridian_altitude, latitude_by_polaris
 
     usable = reduced.status.to_numpy() != "error"
     lha = reduced.lha_deg.to_numpy()
@@ -440,13 +440,13 @@ def fix_command(
 
     Example:  navred fix sample_sights/demo_sights.csv --group evening-stars --chart-lat "43 16.5 N" --chart-lon "013 11.4 W"
     """
-    from .voyage import fix_groups, process_log
+    from ..jobs.voyage import fix_groups, process_log
 
     with _reported():
         lat = _angle_option(chart_lat, "lat", "--chart-lat") if chart_lat is not None else None
         lon = _angle_option(chart_lon, "lon", "--chart-lon") if chart_lon is not None else None
         if at is not None:
-            from .plan import as_datetime64
+            from ..plan import as_datetime64
 
             try:
                 as_datetime64(at)
@@ -483,7 +483,7 @@ def fix_command(
             typer.echo("")
             fixes += 1
         if fixes:
-            from .fix import ELLIPSE_COVERS
+            from ..fix import ELLIPSE_COVERS
 
             typer.echo(f"Each 95 % ellipse (or band) {ELLIPSE_COVERS}.")
             typer.echo("")
@@ -519,10 +519,10 @@ def workbook_command(
     """
     from pathlib import Path
 
-    from .logbook import read_sight_log
-    from .output import check_output
-    from .voyage import process_log
-    from .workbook import Pictures, check_fits, write_plots, write_workbook
+    from ..io.logbook import read_sight_log
+    from ..io.output import check_output
+    from ..io.workbook import Pictures, check_fits, write_plots, write_workbook
+    from ..jobs.voyage import process_log
 
     with _reported():
         first = Path(sights_files[0])
@@ -567,11 +567,11 @@ def workbook_command(
             written = write_plots(voyage, plots, formats)
             typer.echo(f"wrote {len(written)} picture files (plotting sheets and the voyage track) to {plots}")
         if gpx:
-            from .exports import write_gpx
+            from ..io.exports import write_gpx
 
             typer.echo(f"wrote {write_gpx(voyage, gpx)}")
         if geojson:
-            from .exports import write_geojson
+            from ..io.exports import write_geojson
 
             typer.echo(f"wrote {write_geojson(voyage, geojson)}")
         for group in voyage.groups:
@@ -599,7 +599,7 @@ def _time_text(value) -> str:
 def _plan_frame(plan):
     import pandas as pd
 
-    from .angles import format_angle
+    from ..angles import format_angle
 
     frame = pd.DataFrame({"body": plan.body, "hc_deg": plan.hc_deg, "zn_deg": plan.zn_deg,
                           "magnitude": plan.magnitude, "moon_separation_deg": plan.moon_separation_deg,
@@ -610,7 +610,7 @@ def _plan_frame(plan):
 
 
 def _print_plan(plan, label: str) -> None:
-    from .angles import format_angle
+    from ..angles import format_angle
 
     typer.echo(f"{label}: {_time_text(plan.utc)} UTC at {format_angle(plan.lat_deg, 'lat')} "
                f"{format_angle(plan.lon_deg, 'lon')}")
@@ -625,7 +625,7 @@ def _print_plan(plan, label: str) -> None:
 
 def _angle_option(text: str | None, kind: str, name: str):
     """An angle given on the command line, read by the log's own rules ('43 14.1 N', '4 W', -5.25)."""
-    from .angles import parse_angle
+    from ..angles import parse_angle
 
     if text is None:
         raise NavredError(f"{name} is required")
@@ -663,15 +663,15 @@ def plan_command(
     import numpy as np
     import pandas as pd
 
-    from .angles import format_angle
-    from .plan import (
+    from ..angles import format_angle
+    from ..plan import (
         EVENT_KEYS,
         body_meridian_passage,
         daytime_fix_windows,
         sight_plans,
         twilight_plans,
     )
-    from .timework import parse_date
+    from ..timework import parse_date
 
     with _reported():
         lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
@@ -685,7 +685,7 @@ def plan_command(
         events, plans = twilight_plans(date, days, lat_deg, lon_deg, course_deg=course, speed_kn=speed,
                                        eye_height_m=eye, count=count, min_alt_deg=min_alt, max_alt_deg=max_alt)
         if at is not None:
-            from .plan import as_datetime64
+            from ..plan import as_datetime64
 
             when = as_datetime64(at)
             la, lo = events["track"].position(np.array([when]))
@@ -719,7 +719,7 @@ def plan_command(
         if csv_out:
             from pathlib import Path
 
-            from .output import atomic_write
+            from ..io.output import atomic_write
 
             target = Path(csv_out)
             atomic_write(target, lambda p: _csv_safe(pd.DataFrame(rows)).to_csv(p, index=False))
@@ -728,8 +728,8 @@ def plan_command(
             atomic_write(plans_file, lambda p: _csv_safe(table).to_csv(p, index=False))
             typer.echo(f"wrote {target} and {plans_file}")
         if sky and plans:
-            from .output import atomic_write
-            from .plotting import save_figure, sky_picture
+            from ..figures.plotting import save_figure, sky_picture
+            from ..io.output import atomic_write
 
             atomic_write(sky, lambda p: save_figure(sky_picture(plans[0]), p))
             typer.echo(f"wrote {sky}")
@@ -755,17 +755,17 @@ def compass_command(
 
     import numpy as np
 
-    from .almanac import places
-    from .angles import format_angle
-    from .cards import add_check
-    from .plan import (
+    from ..almanac import places
+    from ..angles import format_angle
+    from ..io.cards import add_check
+    from ..plan import (
         amplitude_deg,
         compass_check,
         compass_error_deg,
         deviation_deg,
         visible_horizon_altitude_deg,
     )
-    from .stars import canonical_body_name
+    from ..stars import canonical_body_name
 
     with _reported():
         lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
@@ -819,7 +819,7 @@ def identify_command(
     """
     import pandas as pd
 
-    from .plan import identify
+    from ..plan import identify
 
     with _reported():
         lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
@@ -854,9 +854,9 @@ def series_command(
     """
     import numpy as np
 
-    from .angles import format_angle
-    from .frames import series_columns
-    from .voyage import process_log
+    from ..angles import format_angle
+    from ..jobs.frames import series_columns
+    from ..jobs.voyage import process_log
 
     with _reported():
         _number(threshold, "--threshold", 0.1, 60.0)
@@ -903,14 +903,14 @@ def training_command(
 
     import pandas as pd
 
-    from .frames import row_list
-    from .logbook import read_sight_log
-    from .output import atomic_write, check_output
-    from .plotting import save_figure
-    from .track import read_track
-    from .training import observer_figure, summary_figure, training_report
-    from .voyage import process_log
-    from .workbook import check_fits, write_workbook
+    from ..figures.plotting import save_figure
+    from ..io.logbook import read_sight_log
+    from ..io.output import atomic_write, check_output
+    from ..io.track import read_track
+    from ..io.workbook import check_fits, write_workbook
+    from ..jobs.frames import row_list
+    from ..jobs.training import observer_figure, summary_figure, training_report
+    from ..jobs.voyage import process_log
 
     with _reported():
         reference = read_track(track)
@@ -981,18 +981,18 @@ def mark_command(
 
     Example:  navred mark sample_sights/class_workings.xlsx -o marking.xlsx --pdf marking.pdf
     """
-    from .output import check_output, csv_text
+    from ..io.output import check_output, csv_text
 
     with _reported():
         if template:
-            from .workings import write_template
+            from ..jobs.workings import write_template
 
             typer.echo(f"wrote {write_template(template)}")
             return
         if not workings:
             raise NavredError("give the workings to mark (files, a folder, or a workbook with a sheet per cadet), "
                               "or --template FILE for an empty one")
-        from .workings import (
+        from ..jobs.workings import (
             mark_workings,
             marking_csv,
             unit_text,
@@ -1041,8 +1041,8 @@ def days_command(
 
     Example:  navred days sample_sights/passage_log.csv --picture passage.png
     """
-    from .output import check_output, csv_text
-    from .voyage import process_log
+    from ..io.output import check_output, csv_text
+    from ..jobs.voyage import process_log
 
     with _reported():
         if picture:
@@ -1094,8 +1094,8 @@ def days_command(
                               "no day's work: the log gives no departure (an entry row) and no fix to keep the DR "
                               "from")
         if picture:
-            from .output import atomic_write
-            from .plotting import canvas_bytes, voyage_track_picture
+            from ..figures.plotting import canvas_bytes, voyage_track_picture
+            from ..io.output import atomic_write
 
             vessels = list(days.tracks) or [None]
             data = canvas_bytes(voyage_track_picture(days, vessels[0]), picture.rsplit(".", 1)[-1], png_width_px=1320)
@@ -1115,7 +1115,7 @@ def rate_command(
 
     Example:  navred rate sample_sights/passage_time_signals.csv
     """
-    from .output import csv_text
+    from ..io.output import csv_text
 
     with _reported():
         ratings = _ratings(rating_logs if len(rating_logs) > 1 else rating_logs[0], dates)
@@ -1150,14 +1150,14 @@ def route_command(
 
     Example:  navred route "40 30 N" "073 00 W" "49 57 N" "005 12 W" --limit "50 N" --gpx route.gpx
     """
-    from .routes import plan_route, route_geojson, route_gpx
+    from ..jobs.routes import plan_route, route_geojson, route_gpx
 
     with _reported():
         lat1, lon1 = _angle_option(from_lat, "lat", "FROM_LAT"), _angle_option(from_lon, "lon", "FROM_LON")
         lat2, lon2 = _angle_option(to_lat, "lat", "TO_LAT"), _angle_option(to_lon, "lon", "TO_LON")
         limit_deg = _angle_option(limit, "lat", "--limit") if limit is not None else None
         spacing = _number(spacing, "--spacing", 1.0, 20000.0)
-        from .output import check_output, csv_text
+        from ..io.output import check_output, csv_text
 
         for path in (gpx, geojson):
             if path:
@@ -1196,9 +1196,9 @@ def lunar_command(
 
     Example:  navred lunar "29 44.7" --other Antares --utc 2024-09-12T19:33:00Z --lat "30 N" --lon "040 W" --moon-limb far
     """
-    from .angles import format_angle, parse_angle
-    from .corrections import parse_index_error_arcmin
-    from .lunar import lunar_distance
+    from ..angles import format_angle, parse_angle
+    from ..corrections import parse_index_error_arcmin
+    from ..lunar import lunar_distance
 
     with _reported():
         result = lunar_distance(
@@ -1213,7 +1213,7 @@ def lunar_command(
                   "seconds_per_tenth_arcmin": result.seconds_per_tenth_arcmin,
                   "longitude_deg": result.longitude_deg, "longitude_from": result.longitude_from}
         if xlsx:
-            from .workbook import write_lunar_workbook
+            from ..io.workbook import write_lunar_workbook
 
             inputs = {"observed distance": distance, "other body": other, "chronometer time": utc, "DR latitude": lat,
                       "DR longitude": lon, "Moon's limb": moon_limb, "other body's limb": other_limb,
@@ -1242,7 +1242,7 @@ def bodies_command() -> None:
 
     Example:  navred bodies
     """
-    from .stars import SOLAR_SYSTEM, star_table
+    from ..stars import SOLAR_SYSTEM, star_table
 
     typer.echo("Sun, Moon and planets: " + ", ".join(SOLAR_SYSTEM.values()))
     table = star_table()

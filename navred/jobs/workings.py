@@ -18,10 +18,10 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from .angles import format_angle, parse_angle
-from .errors import NavredError
-from .logbook import SightLog, read_sight_log, with_decimal_point
-from .marking import (
+from ..angles import format_angle, parse_angle
+from ..errors import NavredError
+from ..io.logbook import SightLog, read_sight_log, with_decimal_point
+from ..marking import (
     DEGREE_LINES,
     LINES,
     NOT_GIVEN,
@@ -33,7 +33,7 @@ from .marking import (
     SightsToMark,
     mark,
 )
-from .timescales import utc_jd_to_datetime64, utc_julian_date_from_components
+from ..timescales import utc_jd_to_datetime64, utc_julian_date_from_components
 
 #: Each line of a working: how it is read, what it is, and the forms accepted (the template's header notes).
 WORKED_FORMS: dict[str, tuple[str, str, str]] = {
@@ -426,8 +426,8 @@ def _fixes(marked: pd.DataFrame, marks: Marks | None, cadets: np.ndarray, exam: 
                     "reference position"]
     if marks is None or not len(marked):
         return pd.DataFrame(columns=columns)
+    from ..triangle import destination, distance_bearing
     from .sights import reduce_sights
-    from .triangle import destination, distance_bearing
     from .voyage import fix_groups
 
     reduced = reduce_sights(marked) if not exam else None
@@ -501,8 +501,8 @@ def write_marking_workbook(report: MarkingReport, path: str | Path) -> Path:
     from openpyxl import Workbook
     from openpyxl.styles import Font
 
-    from .output import atomic_write
-    from .workbook import fit_pages, front_sheet, new_tables, write_table_sheet, write_text_safe
+    from ..io.output import atomic_write
+    from ..io.workbook import fit_pages, front_sheet, new_tables, write_table_sheet, write_text_safe
 
     book = Workbook()
     tables = new_tables(book)
@@ -551,7 +551,7 @@ def marking_pages(report: MarkingReport) -> list:
     matplotlib.use("Agg")
     from matplotlib.figure import Figure
 
-    from .plotting import FIX, INK
+    from ..figures.plotting import FIX, INK
 
     pages = []
     for cadet, part in report.rows.groupby("cadet", sort=True):
@@ -629,7 +629,7 @@ def write_marking_pdf(report: MarkingReport, path: str | Path) -> Path:
     """The printable pages, one per cadet, as one PDF."""
     from matplotlib.backends.backend_pdf import PdfPages
 
-    from .output import atomic_write
+    from ..io.output import atomic_write
 
     pages = marking_pages(report)
     if not pages:
@@ -665,10 +665,10 @@ def write_template(path: str | Path) -> Path:
     from openpyxl.utils import get_column_letter
     from openpyxl.worksheet.datavalidation import DataValidation
 
-    from .output import atomic_write
-    from .stars import known_bodies
-    from .vocabulary import HORIZONS, LIMBS
-    from .workbook import SAFETY, header_row
+    from ..io.output import atomic_write
+    from ..io.workbook import SAFETY, header_row
+    from ..stars import known_bodies
+    from ..vocabulary import HORIZONS, LIMBS
 
     book = Workbook()
     sheet = book.active

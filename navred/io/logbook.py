@@ -27,26 +27,18 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from .angles import parse_angle, parse_angles_fast
-from .corrections import HIGHEST_READING_DEG, parse_index_error_arcmin
-from .errors import NavredError
-from .readers import (
-    LogbookError,
-    MissingFormulaValue,
-    RawTable,
-    blank_mask,
-    plain_csv_blocks,
-    read_table,
-)
-from .stars import canonical_body_name
-from .timescales import (
+from ..angles import parse_angle, parse_angles_fast
+from ..corrections import HIGHEST_READING_DEG, parse_index_error_arcmin
+from ..errors import NavredError
+from ..stars import canonical_body_name
+from ..timescales import (
     instant_components,
     iso_z_datetime64,
     utc_jd_to_datetime64,
     utc_julian_date_from_components,
     utc_minus_seconds,
 )
-from .timework import (
+from ..timework import (
     DATE_ORDERS,
     iso_instant_text,
     parse_date,
@@ -54,7 +46,7 @@ from .timework import (
     parse_watch_error_s,
     parse_zone_description,
 )
-from .vocabulary import (
+from ..vocabulary import (
     BOOKKEEPING_HEADERS,
     COLUMN,
     COLUMNS,
@@ -67,6 +59,14 @@ from .vocabulary import (
     convert_to_working_unit,
     match_header,
     normalise_header,
+)
+from .readers import (
+    LogbookError,
+    MissingFormulaValue,
+    RawTable,
+    blank_mask,
+    plain_csv_blocks,
+    read_table,
 )
 
 REJECTED_COLUMNS = ["source", "row", "column", "value", "reason"]
@@ -388,7 +388,7 @@ _RESULT_NAMES: set[str] = set()
 
 def _result_names() -> set[str]:
     if not _RESULT_NAMES:
-        from .sights import RESULT_COLUMNS
+        from ..jobs.sights import RESULT_COLUMNS
 
         _RESULT_NAMES.update(RESULT_COLUMNS)
     return _RESULT_NAMES
@@ -402,7 +402,7 @@ def read_sight_log(source: object, *, dates: str | None = None, all_sheets: bool
     (``'day-first'`` or ``'month-first'``); without it such a date is refused with both of
     its readings. ``all_sheets`` reads every sheet of a workbook that holds a table (a class's
     hand workings, a sheet per cadet) instead of one. ``rates`` (a
-    :class:`navred.timesignals.Ratings`, from the rating log) gives the watch error of a sight
+    :class:`navred.io.timesignals.Ratings`, from the rating log) gives the watch error of a sight
     kept in zone time whose ``watch_error`` is blank: the error its timepiece's rating predicts.
     Returns a :class:`SightLog`; a source that is not a sight log at all raises
     :class:`LogbookError` with one message.
@@ -445,7 +445,7 @@ class LogBlocks:
     read by the rules of :func:`read_sight_log`, independently of the other blocks (so blocks may be read
     in any order, or by other processes)."""
 
-    plain: object  # navred.readers.PlainBlocks
+    plain: object  # navred.io.readers.PlainBlocks
     layout: object
     dates: str | None
     rates: object | None
@@ -839,7 +839,7 @@ def _carried_dr(parsed, gathered, times, is_entry, entries: pd.DataFrame, proble
     """Each sight's DR: as given, or carried along the log's DR track (its departure or last known position,
     every course, speed and current since, the sights' own courses and speeds too) to the sight; and the
     course and speed in force where a sight gives none. Each vessel keeps its own track."""
-    from .reckoning import dr_track
+    from ..reckoning import dr_track
 
     lat, lon = _floats(parsed["dr_lat"]), _floats(parsed["dr_lon"])
     course, speed = _floats(parsed["course"]), _floats(parsed["speed"])

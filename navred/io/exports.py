@@ -20,11 +20,11 @@ from pathlib import Path
 
 import numpy as np
 
-from . import __version__
-from .fix import ELLIPSE_COVERS
+from .. import __version__
+from ..fix import ELLIPSE_COVERS
+from ..jobs.voyage import VoyageResult
+from ..triangle import destination
 from .output import atomic_write
-from .triangle import destination
-from .voyage import VoyageResult
 
 GPX_NAMESPACE = "http://www.topografix.com/GPX/1/1"
 
@@ -44,11 +44,9 @@ def _ascii(text: str) -> str:
     return text
 
 
-def fix_description(voyage, group) -> str:
+def fix_description(group) -> str:
     """What a navigator needs beside the fix's position: its 95 % ellipse's full size, what it covers, the
     sights left out with the fix from every sight, and every warning of the fix."""
-    from .frames import row_labels
-
     fix = group.fix
     if fix.is_fix:
         text = (f"celestial fix, {int(fix.used.sum())} sights, 95% ellipse {fix.ellipse_text()}, major axis "
@@ -56,9 +54,8 @@ def fix_description(voyage, group) -> str:
     else:
         text = (f"not a fix: a {fix.kind} through this point, bearing {fix.line_bearing_deg:.0f} deg, "
                 f"95% band {fix.ellipse_text()} ({int(fix.used.sum())} sights)")
-    if fix.left_out.size == len(group.rows) and fix.left_out.any():
-        labels = row_labels(voyage.reduced)
-        rows = ", ".join(labels[group.rows[i]] for i in np.flatnonzero(fix.left_out))
+    if fix.left_out_names:
+        rows = ", ".join(fix.left_out_names)
         every = fix.all_sights
         text += (f"; LEFT OUT as a gross error: {rows}; the fix from every sight is at "
                  f"{every.lat_deg:.4f}, {every.lon_deg:.4f}") if every is not None else f"; LEFT OUT: {rows}"
@@ -78,7 +75,7 @@ def write_gpx(voyage: VoyageResult, path: str | Path) -> Path:
             point = ET.SubElement(root, f"{{{GPX_NAMESPACE}}}wpt", {"lat": f"{lat:.6f}", "lon": f"{lon:.6f}"})
             ET.SubElement(point, f"{{{GPX_NAMESPACE}}}time").text = _iso(fix.utc)
             ET.SubElement(point, f"{{{GPX_NAMESPACE}}}name").text = f"{kind} {group.name}"
-            description = "DR at the fix time" if kind != "fix" else fix_description(voyage, group)
+            description = "DR at the fix time" if kind != "fix" else fix_description(group)
             ET.SubElement(point, f"{{{GPX_NAMESPACE}}}desc").text = description
             ET.SubElement(point, f"{{{GPX_NAMESPACE}}}type").text = kind
         if fix.all_sights is not None:
@@ -180,7 +177,7 @@ def write_geojson(voyage: VoyageResult, path: str | Path) -> Path:
                                         "ellipse_semi_minor_nm": fix.ellipse_semi_minor_nm,
                                         "ellipse_orientation_deg": fix.ellipse_orientation_deg,
                                         "ellipse": fix.ellipse_text(),
-                                        "description": fix_description(voyage, group),
+                                        "description": fix_description(group),
                                         "dr_distance_nm": _finite(fix.dr_distance_nm),
                                         "warnings": fix.warnings}})
         if fix.all_sights is not None:

@@ -1,8 +1,8 @@
 """The deviation card: the compass checks of one ship kept in a CSV file, one row per check.
 
 Edge code. A card may come from another ship like a log does, so it is read through the same
-bounded table reader (:func:`navred.readers.read_table`), checked column by column, and written
-back whole or not at all (:func:`navred.output.atomic_write`).
+bounded table reader (:func:`navred.io.readers.read_table`), checked column by column, and written
+back whole or not at all (:func:`navred.io.output.atomic_write`).
 """
 
 from __future__ import annotations
@@ -12,7 +12,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from .errors import NavredError
+from ..errors import NavredError
 from .output import atomic_write, check_output, csv_safe
 from .readers import read_table
 

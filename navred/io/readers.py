@@ -5,7 +5,7 @@ row by row, with the row number a spreadsheet user sees (the header is row 1 whe
 the first line), and marks the rows that are malformed (the wrong number of fields, a NUL
 byte or another control character, an over-long cell) so that each is rejected alone and
 the rest of the file is still read. Nothing is interpreted here: that is the log reader's
-job (:mod:`navred.logbook`).
+job (:mod:`navred.io.logbook`).
 
 What it reads is bounded (file size, rows, columns, cell length, the unzipped size of a
 spreadsheet), so a crafted file is refused quickly instead of filling the memory.
@@ -23,8 +23,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from .errors import NavredError
-from .vocabulary import match_header
+from ..errors import NavredError
+from ..vocabulary import match_header
 
 #: Limits on what one file may hold (documented in docs/sight-log.md); a larger log is split.
 MAX_FILE_BYTES = 128 * 1024 * 1024

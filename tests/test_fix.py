@@ -20,7 +20,7 @@ from navred.stats import f_2_quantile
 from navred.triangle import distance_bearing
 from tests.conftest import skyfield_sight
 
-TWILIGHT = pd.Timestamp("2024-09-15T19:05:00Z")  # evening twilight near 45° N 20° W
+TWILIGHT = pd.Timestamp("2024-09-15T19:05:00Z")  # near sunset at 45° N 20° W (the Sun 4° up): the stars give the geometry
 TRUE_LAT, TRUE_LON = 45.25, -20.5
 STARS = ["Vega", "Altair", "Arcturus", "Deneb", "Antares", "Dubhe", "Kochab"]
 

@@ -795,7 +795,7 @@ def _check_fixes(sights: _Sights, group, n_groups, ok, results) -> None:
         miles = float(distance_bearing(result.lat_deg, result.lon_deg, check.lat_deg, check.lon_deg)[0])
         result.warnings.append(
             f"{', '.join(names)} look{'' if count > 1 else 's'} like {'blunders' if count > 1 else 'a blunder'} "
-            f"(the blunder test, at {BLUNDER_ALPHA:.0%} false alarms for the whole fix); without "
+            f"(the blunder test, at {BLUNDER_ALPHA * 100:.0f} % false alarms for the whole fix); without "
             f"{'them' if count > 1 else 'it'} the {result.kind} moves {miles:.1f} nm (the check fix)"
             + (": more than a mile, so look at the sight before plotting either" if miles > 1.0 else ""))
         result.without_outliers = check

@@ -10,7 +10,7 @@ Methods: the regularized incomplete beta and gamma functions by their continued 
 series (W. H. Press et al., Numerical Recipes, 3rd ed., 2007, §6.2 and §6.4, modified Lentz
 method; from memory), Student's t and the chi-square distribution through them (M. Abramowitz
 and I. A. Stegun, Handbook of Mathematical Functions, 1964, 26.5.27 and 26.4.19), each quantile
-by bisection of its distribution function to full double precision. The tests check them against
+by Newton's method on its distribution function, kept inside a bracket, to full double precision. The tests check them against
 scipy.stats.
 """
 
@@ -153,6 +153,23 @@ def _cached(kind: str, p: np.ndarray, dof: np.ndarray, solve) -> np.ndarray:
     return values[inverse.ravel()].reshape(shape)
 
 
+def _newton(value, slope, target, x, lo, hi, iterations: int = 60):
+    """Solve value(x) = target (value increasing in x) by Newton's method kept inside the bracket [lo, hi]
+    (a step that leaves it bisects it instead), to full double precision."""
+    for _ in range(iterations):
+        miss = value(x) - target
+        hi = np.where(miss > 0, x, hi)
+        lo = np.where(miss > 0, lo, x)
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            step = x - miss / slope(x)
+        inside = np.isfinite(step) & (step > lo) & (step < hi)
+        new = np.where(inside, step, (lo + hi) / 2.0)
+        if np.all(np.abs(new - x) <= 1e-15 * np.maximum(np.abs(x), 1e-300)):
+            return new
+        x = new
+    return x
+
+
 def student_t_quantile(p: ArrayLike, dof: ArrayLike) -> np.ndarray:
     """The p-quantile of Student's t with ``dof`` (> 0, fractional allowed) degrees of freedom.
 
@@ -160,20 +177,27 @@ def student_t_quantile(p: ArrayLike, dof: ArrayLike) -> np.ndarray:
     12.7062
     """
     def solve(prob, nu):
-        upper = np.maximum(prob, 1.0 - prob)
-        tail = 1.0 - upper
-        lo, hi = np.zeros_like(nu), np.full_like(nu, np.pi / 2.0)
-        for _ in range(_BISECTIONS):  # t = √ν tan θ: the half-line folded onto [0, π/2)
-            mid = (lo + hi) / 2.0
-            beyond = 0.5 * regularized_beta(np.cos(mid) ** 2, nu / 2.0, 0.5) < tail
-            hi, lo = np.where(beyond, mid, hi), np.where(beyond, lo, mid)
-        t = np.sqrt(nu) * np.tan((lo + hi) / 2.0)
+        tail = 1.0 - np.maximum(prob, 1.0 - prob)
+        log_norm = (np.vectorize(math.lgamma, otypes=[float])((nu + 1.0) / 2.0) - 0.5 * np.log(nu * np.pi)
+                    - np.vectorize(math.lgamma, otypes=[float])(nu / 2.0))
+
+        # in θ, t = √ν tan θ: the half-line folded onto [0, π/2), where the tail is smooth
+        def beyond(theta):  # 1 − P(T > t): increasing in θ
+            return -0.5 * regularized_beta(np.cos(theta) ** 2, nu / 2.0, 0.5)
+
+        def slope(theta):
+            t = np.sqrt(nu) * np.tan(theta)
+            return np.exp(log_norm - (nu + 1.0) / 2.0 * np.log1p(t * t / nu)) * np.sqrt(nu) / np.cos(theta) ** 2
+
+        theta = _newton(beyond, slope, -tail, np.full_like(nu, 1.0), np.zeros_like(nu), np.full_like(nu, np.pi / 2))
+        t = np.sqrt(nu) * np.tan(theta)
         return np.where(prob == 0.5, 0.0, np.where(prob > 0.5, t, -t))
 
     p = np.asarray(p, dtype=float)
     dof = np.asarray(dof, dtype=float)
     out = _cached("t", p, dof, solve)
-    out = np.where(np.isinf(dof) & (dof > 0), normal_quantile(p), out)
+    if np.any(np.isinf(dof) & (dof > 0)):
+        out = np.where(np.isinf(dof) & (dof > 0), normal_quantile(p), out)
     return np.where((dof > 0) & (p > 0) & (p < 1), out, np.nan)
 
 
@@ -184,12 +208,15 @@ def chi_square_quantile(p: ArrayLike, dof: ArrayLike) -> np.ndarray:
     5.9915
     """
     def solve(prob, nu):
-        lo, hi = np.full_like(nu, -40.0), np.full_like(nu, 10.0)  # ln x
-        for _ in range(_BISECTIONS + 16):
-            mid = (lo + hi) / 2.0
-            above = chi_square_cdf(np.exp(mid), nu) > prob
-            hi, lo = np.where(above, mid, hi), np.where(above, lo, mid)
-        return np.exp((lo + hi) / 2.0)
+        k = nu / 2.0
+        log_norm = -k * np.log(2.0) - np.vectorize(math.lgamma, otypes=[float])(k)
+
+        def density(x):
+            return np.exp(log_norm + (k - 1.0) * np.log(x) - x / 2.0)
+
+        start = np.maximum(nu + 2.0 * np.sqrt(2.0 * nu) * (2.0 * prob - 1.0), 1e-3)
+        return _newton(lambda x: chi_square_cdf(x, nu), density, prob, start, np.zeros_like(nu),
+                       np.full_like(nu, 1e4))
 
     p = np.asarray(p, dtype=float)
     dof = np.asarray(dof, dtype=float)
@@ -204,12 +231,11 @@ def normal_quantile(p: ArrayLike) -> np.ndarray:
     1.95996
     """
     def solve(prob, _):
-        lo, hi = np.full_like(prob, -40.0), np.full_like(prob, 40.0)
-        for _ in range(_BISECTIONS + 16):
-            mid = (lo + hi) / 2.0
-            above = normal_cdf(mid) > prob
-            hi, lo = np.where(above, mid, hi), np.where(above, lo, mid)
-        return (lo + hi) / 2.0
+        def density(z):
+            return np.exp(-z * z / 2.0) / np.sqrt(2.0 * np.pi)
+
+        return _newton(normal_cdf, density, prob, np.zeros_like(prob), np.full_like(prob, -40.0),
+                       np.full_like(prob, 40.0))
 
     p = np.asarray(p, dtype=float)
     out = _cached("normal", p, np.zeros_like(p), solve)

@@ -945,6 +945,9 @@ def training_command(
                 typer.echo(f"{row['kind']} {row['fix group']} (not a fix): the reference lies "
                            f"{row['distance from reference (nm)']:.1f} nm off it, "
                            f"{row['reference inside 95 % ellipse']}")
+        for group in voyage.groups:
+            for text in (group.fix.warnings if group.fix is not None else []):
+                typer.echo(f"warning: group {group.name}: {text}", err=True)
         if output:
             typer.echo(f"wrote {write_workbook(voyage, output)}")
         if summary:

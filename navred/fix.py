@@ -75,6 +75,10 @@ UNKNOWN_DR_AGE_H = 24.0
 #: age and DR_ERROR_FRACTION of the miles run since), plus the fix's 95 % semi-major axis and a mile:
 #: the time, the DR or a body name is wrong (a fix-level warning).
 DR_DISAGREEMENT_SIGMAS = 4.0
+#: A group of more sights than this (a whole day's sights given one fix group, say) is not searched sight by
+#: sight for a gross error, and its σ is the residuals' sum of squares less the run's expected share rather
+#: than the restricted likelihood (both cost the cube of the sights).
+MAX_SIGHTS_SEARCHED = 60
 #: Lines of position that cross at less than this make a line (or a latitude), not a fix.
 LINE_ONLY_DEG = 15.0
 WEAK_CROSSING_DEG = 30.0
@@ -691,7 +695,7 @@ def _leave_out_gross(sights: _Sights, group, n_groups, ok, results) -> None:
             if result.gross.any():
                 chosen.append(g)
                 rows.append(by_group[bounds[g]:bounds[g + 1]][result.gross])
-            elif result.scatter_impossible and result.redundant >= 2:
+            elif result.scatter_impossible and result.redundant >= 2 and result.n_sights <= MAX_SIGHTS_SEARCHED:
                 wild.append(g)
         for g, row in _gross_by_leaving_one_out(sights, group, ok, left_out, wild, results).items():
             chosen.append(g)
@@ -1177,29 +1181,77 @@ def _plural(count: int) -> str:
     return "s" if count != 1 else ""
 
 
-def effective_dof(dof: ArrayLike, sigma_hat: ArrayLike, trace_p: ArrayLike, trace_k: ArrayLike,
-                  trace_mc: ArrayLike, trace_mcmc: ArrayLike) -> np.ndarray:
-    """The degrees of freedom of a position variance σ̂²·P + K whose sight part is estimated and whose DR
-    part K is known (Satterthwaite's approximation: ν_eff = 2 E[V]² / Var V̂).
+def sight_variance(residual: np.ndarray, projector: np.ndarray, run_cov: np.ndarray, dof: np.ndarray
+                   ) -> tuple[np.ndarray, np.ndarray]:
+    """The sights' variance σ̂² (arcmin²) of each group of a batch, and its Fisher information, when the
+    residuals also carry the DR's known error over the run.
 
-    The sights' σ̂² is the residual sum of squares less the DR error's share, over ν; with the residual
-    projector M and the DR covariance C its variance is 2(σ⁴ν + 2σ² tr MC + tr MCMC)/ν² (the variance of
-    a Gaussian quadratic form, 2 tr (MΣ)²). With no DR error this is ν exactly, and the ellipse is the
-    exact F(2, ν) one; a known DR part only adds degrees of freedom, an unmodelled share of the run in
-    the residuals takes some away. (F. E. Satterthwaite, "An approximate distribution of estimates of
-    variance components", Biometrics Bulletin 2(6), 1946; from memory.)
+    The residuals r = M e (M the residual projector, rank ν) of errors e with covariance σ²I + C: in the
+    eigenvectors of M C M within the residual space, the components z_j are independent with variances
+    σ² + λ_j. σ̂² maximises their (restricted) likelihood, Σ (z_j² − (σ² + λ_j))/(σ² + λ_j)² = 0, σ² ≥ 0
+    (H. D. Patterson and R. Thompson, "Recovery of inter-block information when block sizes are unequal",
+    Biometrika 58(3), 1971; from memory): a component the run's error swamps says little of σ and weighs
+    little. With no run (C = 0) it is Σr²/ν exactly. The information Σ 1/(2(σ̂² + λ_j)²) gives its variance.
+    Arrays (groups, sights), (groups, sights, sights).
+    """
+    r = np.nan_to_num(residual)
+    nu = np.maximum(np.asarray(dof, dtype=float), 0.0)
+    plain = ~run_cov.any(axis=(1, 2))
+    sigma2 = np.where(nu > 0, np.sum(r**2, axis=1) / np.maximum(nu, 1.0), 0.0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        information = np.where(sigma2 > 0, nu / (2.0 * sigma2**2), np.inf)
+    large = np.sum(np.any(run_cov != 0, axis=2), axis=1) > MAX_SIGHTS_SEARCHED
+    if large.any():  # the moment estimate, E[r'r] = σ²ν + tr MC, and its information as if C were nil
+        trace_mc = np.einsum("fij,fji->f", projector[large], run_cov[large])
+        sigma2[large] = np.maximum(np.sum(r[large] ** 2, axis=1) - trace_mc, 0.0) / np.maximum(nu[large], 1.0)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            information[large] = np.where(sigma2[large] > 0, nu[large] / (2.0 * sigma2[large] ** 2), np.inf)
+    rows = np.flatnonzero(~plain & (nu > 0) & ~large)
+    if rows.size:
+        m, c = projector[rows], run_cov[rows]
+        outside = np.trace(c, axis1=1, axis2=2)[:, None, None] * 1e6 + 1.0  # the directions M removes, set apart
+        lam, vec = np.linalg.eigh(m @ c @ m + outside * (np.eye(m.shape[1])[None] - m))
+        inside = lam < outside[:, :, 0] / 2.0
+        lam = np.where(inside, np.maximum(lam, 0.0), 0.0)
+        z2 = np.where(inside, np.einsum("fsj,fs->fj", vec, r[rows]) ** 2, 0.0)
+
+        def slope(v):  # the likelihood's slope at σ² = v (decreasing in v)
+            with np.errstate(divide="ignore", invalid="ignore"):
+                terms = (z2 - (v[:, None] + lam)) / (v[:, None] + lam) ** 2
+            return np.where(inside, np.nan_to_num(terms, nan=0.0, posinf=1e300), 0.0).sum(axis=1)
+
+        lo = np.zeros(rows.size)
+        hi = np.max(z2, axis=1) + 1e-12
+        found = np.zeros(rows.size)
+        positive = slope(np.full(rows.size, 1e-300)) > 0
+        for _ in range(80):
+            mid = (lo + hi) / 2.0
+            up = slope(mid) > 0
+            lo, hi = np.where(up, mid, lo), np.where(up, hi, mid)
+        found = np.where(positive, (lo + hi) / 2.0, 0.0)
+        sigma2[rows] = found
+        with np.errstate(divide="ignore", invalid="ignore"):
+            information[rows] = np.where(inside, 0.5 / (found[:, None] + lam) ** 2, 0.0).sum(axis=1)
+    return sigma2, information
+
+
+def effective_dof(dof: ArrayLike, sigma2: ArrayLike, trace_p: ArrayLike, trace_k: ArrayLike,
+                  information: ArrayLike) -> np.ndarray:
+    """The degrees of freedom of a position variance σ̂²·P + K whose sight part is estimated (with the
+    given Fisher information of σ̂²) and whose DR part K is known: Satterthwaite's approximation,
+    ν_eff = 2 V² / Var V̂ with V = σ̂² tr P + tr K and Var V̂ = tr(P)² / information (F. E. Satterthwaite,
+    "An approximate distribution of estimates of variance components", Biometrics Bulletin 2(6), 1946;
+    from memory). With no DR error this is ν exactly, and the ellipse is the exact F(2, ν) one.
     """
     nu = np.asarray(dof, dtype=float)
-    s2 = np.asarray(sigma_hat, dtype=float) ** 2
+    s2 = np.asarray(sigma2, dtype=float)
     trace_p = np.asarray(trace_p, dtype=float)
-    spread = s2 * s2 * nu + 2.0 * s2 * np.asarray(trace_mc, dtype=float) + np.asarray(trace_mcmc, dtype=float)
-    numerator = nu**2 * (s2 * trace_p + np.asarray(trace_k, dtype=float)) ** 2
-    denominator = trace_p**2 * spread
-    with np.errstate(divide="ignore", invalid="ignore"):
-        ratio = numerator / denominator
-    plain = (np.asarray(trace_k, dtype=float) <= 0) & (np.asarray(trace_mcmc, dtype=float) <= 0)
-    out = np.where(denominator > 0, ratio, np.where(numerator > 0, np.inf, nu))
-    return np.where(plain, nu, np.maximum(out, 1.0))
+    trace_k = np.asarray(trace_k, dtype=float)
+    information = np.asarray(information, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        out = 2.0 * (s2 * trace_p + trace_k) ** 2 * information / trace_p**2
+    plain = trace_k <= 0
+    return np.where(plain, nu, np.where(np.isfinite(out), np.maximum(out, 1.0), np.inf))
 
 
 def _blunder_test(residual, leverage, use, dof, sigma):
@@ -1271,7 +1323,7 @@ def _ellipse_note(n: int, k: int, d: int, scale: float) -> str:
 
 
 def _quantile_name(nu: float, d: int) -> str:
-    if not np.isfinite(nu):
+    if not np.isfinite(nu) or nu > 1000.0:  # F(2, ν) is then chi-square(2)/2 to 0.3 %
         return "chi-square(2)"
     return f"F(2, {d})" if abs(nu - d) < 0.05 else f"F(2, {nu:.1f})"
 
@@ -1280,10 +1332,11 @@ def _solve_part(k, rows, gha, dec, ho, use, present, track, lat0, lon0, velocity
     """Fix the groups ``rows`` with k unknowns (2: position; 4: position, course and speed made
     good) in one solve; returns a function giving group j's FixResult (per-sight arrays padded).
 
-    σ is estimated from the residuals, less the DR error's share (unbiased: E[r'Mr] = σ²ν + tr MC),
-    with no floor; the position's covariance is A(σ²I + C)Aᵀ and the 95 % ellipse is scaled by
-    √(2 F(2, ν)), exact for Gaussian sight errors when there is no run, ν an effective number
-    (:func:`effective_dof`) when the DR's error over the run is part of it.
+    σ is estimated from the residuals with no floor (Σr²/ν; with a run, the restricted likelihood that
+    weighs out the DR error's share, :func:`sight_variance`); the position's covariance is
+    A(σ²I + C)Aᵀ and the 95 % ellipse is scaled by √(2 F(2, ν)), exact for Gaussian sight errors when
+    there is no run, ν an effective number (:func:`effective_dof`) when the DR's error over the run is
+    part of it.
     """
     motion = k == 4
     u = use[rows]
@@ -1305,18 +1358,15 @@ def _solve_part(k, rows, gha, dec, ho, use, present, track, lat0, lon0, velocity
         run_cov = run_cov * u[:, :, None] * u[:, None, :]
     gain = unit @ np.swapaxes(jac, 1, 2)  # x = gain @ residual: the least-squares estimator
     projector = np.eye(width)[None] * u[:, :, None] - jac @ gain  # M = I − H on the used sights
-    mc = projector @ run_cov
-    trace_mc = np.trace(mc, axis1=1, axis2=2)
-    trace_mcmc = np.einsum("fij,fji->f", mc, mc)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        sigma_hat = np.sqrt(np.maximum(np.sum(residual**2, axis=1) - trace_mc, 0.0) / np.maximum(dof, 1))
+    sigma2, information = sight_variance(residual, projector, run_cov, dof)
+    sigma_hat = np.sqrt(sigma2)
     sigma = np.where(dof >= 1, sigma_hat, A_PRIORI_SIGMA_ARCMIN)
     identity = np.eye(width)[None] * u[:, :, None]
     known = gain @ run_cov @ np.swapaxes(gain, 1, 2)
     covariance = sigma[:, None, None] ** 2 * (gain @ identity @ np.swapaxes(gain, 1, 2)) + known
     position_cov = covariance[:, :2, :2]
-    nu = effective_dof(dof, sigma_hat, np.trace(unit[:, :2, :2], axis1=1, axis2=2),
-                       np.trace(known[:, :2, :2], axis1=1, axis2=2), trace_mc, trace_mcmc)
+    nu = effective_dof(dof, sigma2, np.trace(unit[:, :2, :2], axis1=1, axis2=2),
+                       np.trace(known[:, :2, :2], axis1=1, axis2=2), information)
     nu = np.where(dof >= 1, nu, np.inf)
     scale = np.sqrt(2.0 * f_2_quantile(CONFIDENCE, nu))
     major, minor, orientation = error_ellipse(position_cov, scale)
@@ -1406,16 +1456,13 @@ def _line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0, dr_
     run_cov = run_cov * u[:, :, None] * u[:, None, :]
     gain = cosines / weight[:, None]
     projector = np.eye(u.shape[1])[None] * u[:, :, None] - cosines[:, :, None] * gain[:, None, :]
-    mc = projector @ run_cov
-    trace_mc = np.trace(mc, axis1=1, axis2=2)
-    trace_mcmc = np.einsum("fij,fji->f", mc, mc)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        sigma_hat = np.sqrt(np.maximum(np.sum(r**2, axis=1) - trace_mc, 0.0) / np.maximum(dof, 1))
+    sigma2, information = sight_variance(r, projector, run_cov, dof)
+    sigma_hat = np.sqrt(sigma2)
     sigma = np.where(dof >= 1, sigma_hat, A_PRIORI_SIGMA_ARCMIN)
     known = np.einsum("fi,fij,fj->f", gain, run_cov, gain)
     unit = np.sum(gain**2, axis=1)
     variance = sigma**2 * unit + known
-    nu = np.where(dof >= 1, effective_dof(dof, sigma_hat, unit, known, trace_mc, trace_mcmc), np.inf)
+    nu = np.where(dof >= 1, effective_dof(dof, sigma2, unit, known, information), np.inf)
     t = np.where(np.isfinite(nu), student_t_quantile(0.975, np.where(np.isfinite(nu), nu, 1.0)),
                  float(student_t_quantile(0.975, np.inf)))
     half_width = t * np.sqrt(variance)

@@ -10,6 +10,7 @@ from navred import reduce_sights
 from navred.errors import NavredError
 from navred.fix import (
     error_ellipse,
+    fix_from_sights,
     latitude_by_meridian_altitude,
     latitude_by_polaris,
     move_position,
@@ -485,3 +486,11 @@ def test_a_round_with_an_impossible_scatter_is_warned_with_its_likely_cause(tmp_
     assert "read as degrees and minutes written as a decimal" in result.output  # and the sights then agree
     clean = fix_position(reduced)
     assert not any("beyond any hand-held sextant" in w for w in clean.warnings)
+
+
+def test_a_running_fix_across_the_pole_is_refused_with_the_reason():
+    # a rhumb line is not defined through the pole (common practice: courses there are steered on a grid)
+    when = np.array(["2024-12-21T12:00", "2024-12-21T13:00", "2024-12-21T14:00"], dtype="datetime64[ns]")
+    with pytest.raises(NavredError, match="near the pole .* not carried along rhumb lines"):
+        fix_from_sights([10.0, 130.0, 250.0], [20.0, 30.0, 40.0], [20.0, 30.0, 40.0], when, 89.95, 0.0,
+                        course_deg=45.0, speed_kn=10.0)

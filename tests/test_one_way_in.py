@@ -310,6 +310,10 @@ def test_a_misnamed_star_is_left_out_of_the_position_everywhere(tmp_path, ts, ep
     assert any(f["properties"].get("kind") == "from every sight (not the fix)" for f in features)
     svg = next(plots.glob("*stars*.svg")).read_text()
     assert "LEFT OUT as a gross error: row 4 Alkaid" in svg
+    # the ellipse's full size, then its semi-axes, in the plot title, the GPX description and the console
+    size = fixes.loc["stars", "95 % ellipse (full size)"]
+    assert " × " in size and ", semi-axes " in size and f"95 % ellipse {size}" in svg
+    assert size.replace("×", "x") in waypoints["fix stars"].description and size in console.output
 
 
 def test_a_fix_far_from_its_dr_is_warned_by_every_command_and_file(tmp_path):

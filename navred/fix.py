@@ -26,6 +26,7 @@ independent fixes is solved at once (no Python loop over fixes or sights).
 from __future__ import annotations
 
 import functools
+import itertools
 from collections.abc import Callable
 from dataclasses import dataclass, field, replace
 
@@ -697,9 +698,9 @@ def _leave_out_gross(sights: _Sights, group, n_groups, ok, results) -> None:
                 rows.append(by_group[bounds[g]:bounds[g + 1]][result.gross])
             elif result.scatter_impossible and result.redundant >= 2 and result.n_sights <= MAX_SIGHTS_SEARCHED:
                 wild.append(g)
-        for g, row in _gross_by_leaving_one_out(sights, group, ok, left_out, wild, results).items():
+        for g, found in _gross_by_leaving_out(sights, group, ok, left_out, wild, results).items():
             chosen.append(g)
-            rows.append(np.array([row]))
+            rows.append(np.array(found))
         if not chosen:
             break
         left_out[np.concatenate(rows)] = True
@@ -728,44 +729,51 @@ def _leave_out_gross(sights: _Sights, group, n_groups, ok, results) -> None:
                                       "plot this one, and find out what is wrong with the sight left out")
 
 
-def _gross_by_leaving_one_out(sights: _Sights, group, ok, left_out, wild: list[int], results) -> dict[int, int]:
-    """For fixes whose sights scatter beyond any sextant: each sight left out in turn, every such fix of the
-    others solved at once (from the DR, not from the all-sights fix a gross error has dragged off). The
-    sight whose leaving out makes the others agree, and whose line then lies more than GROSS_ARCMIN and
-    beyond the blunder test's limit from their fix, is the gross error: its row, per group."""
-    if not wild:
-        return {}
-    copies_rows, copies_group, copies_left, owner, dropped = [], [], [], [], []
-    for g in wild:
-        members = np.flatnonzero((group == g) & ok)
-        for row in members[~left_out[members]].tolist():
-            copies_rows.append(members)
-            copies_group.append(np.full(members.size, len(owner)))
-            copies_left.append(left_out[members] | (members == row))
-            owner.append(g)
-            dropped.append(row)
-    rows = np.concatenate(copies_rows)
-    sub = replace(sights, gha=sights.gha[rows], dec=sights.dec[rows], ho=sights.ho[rows], utc=sights.utc[rows],
-                  dr_lat=sights.dr_lat[rows], dr_lon=sights.dr_lon[rows], course=sights.course[rows],
-                  speed=sights.speed[rows], set_deg=sights.set_deg[rows], drift_kn=sights.drift_kn[rows],
-                  dr_age_h=sights.dr_age_h[rows], names=sights.names[rows])
-    times = np.array([results[g].utc for g in owner], dtype="datetime64[ns]")
-    trials, _ = _fix_batch(sub, np.concatenate(copies_group), len(owner), np.ones(rows.size, dtype=bool),
-                           np.concatenate(copies_left), times)
-    found: dict[int, int] = {}
-    best: dict[int, tuple[float, int, float, int]] = {}
-    for c, (g, row) in enumerate(zip(owner, dropped)):
-        trial = trials[c]
-        if trial is None or trial.redundant < 1 or trial.scatter_impossible:
+def _gross_by_leaving_out(sights: _Sights, group, ok, left_out, wild: list[int], results) -> dict[int, list[int]]:
+    """For fixes whose sights scatter beyond any sextant: each sight left out in turn (then, where that finds
+    nothing and six or more sights remain, each pair), every such fix of the others solved at once (from the DR,
+    not from the all-sights fix a gross error has dragged off). The sights whose leaving out makes the
+    others agree, each of whose lines then lies more than GROSS_ARCMIN and beyond the blunder test's limit
+    from their fix, are the gross errors: their rows, per group."""
+    found: dict[int, list[int]] = {}
+    for size in (1, 2):
+        todo = [g for g in wild if g not in found]
+        copies_rows, copies_group, copies_left, owner, dropped = [], [], [], [], []
+        for g in todo:
+            members = np.flatnonzero((group == g) & ok)
+            free = members[~left_out[members]]
+            if free.size - size < 2 + size:  # the others keep a check of their own: 3 for one out, 4 for two
+                continue
+            for chosen in itertools.combinations(free.tolist(), size):
+                copies_rows.append(members)
+                copies_group.append(np.full(members.size, len(owner)))
+                copies_left.append(left_out[members] | np.isin(members, chosen))
+                owner.append(g)
+                dropped.append(list(chosen))
+        if not owner:
             continue
-        miss = float(trial.residual_arcmin[np.flatnonzero(copies_rows[c] == row)[0]])
-        if g not in best or trial.sigma_arcmin < best[g][0]:
-            best[g] = (trial.sigma_arcmin, row, miss, trial.redundant)
-    for g, (sigma, row, miss, d) in best.items():
-        n = d + 3  # the sights of the fix of the others and the one left out (two unknowns)
-        limit = float(student_t_quantile(1.0 - BLUNDER_ALPHA / (2.0 * n), d)) * sigma
-        if abs(miss) > max(GROSS_ARCMIN, limit):
-            found[g] = row
+        rows = np.concatenate(copies_rows)
+        sub = replace(sights, gha=sights.gha[rows], dec=sights.dec[rows], ho=sights.ho[rows], utc=sights.utc[rows],
+                      dr_lat=sights.dr_lat[rows], dr_lon=sights.dr_lon[rows], course=sights.course[rows],
+                      speed=sights.speed[rows], set_deg=sights.set_deg[rows], drift_kn=sights.drift_kn[rows],
+                      dr_age_h=sights.dr_age_h[rows], names=sights.names[rows])
+        times = np.array([results[g].utc for g in owner], dtype="datetime64[ns]")
+        trials, _ = _fix_batch(sub, np.concatenate(copies_group), len(owner), np.ones(rows.size, dtype=bool),
+                               np.concatenate(copies_left), times)
+        best: dict[int, tuple[float, list[int], np.ndarray, int]] = {}
+        for c, (g, chosen) in enumerate(zip(owner, dropped)):
+            trial = trials[c]
+            if trial is None or trial.redundant < 1 or trial.scatter_impossible:
+                continue
+            misses = np.array([float(trial.residual_arcmin[np.flatnonzero(copies_rows[c] == row)[0]])
+                               for row in chosen])
+            if g not in best or trial.sigma_arcmin < best[g][0]:
+                best[g] = (trial.sigma_arcmin, chosen, misses, trial.redundant)
+        for g, (sigma, chosen, misses, d) in best.items():
+            n = d + 2 + size  # the sights of the fix of the others (two unknowns) and those left out
+            limit = float(student_t_quantile(1.0 - BLUNDER_ALPHA / (2.0 * n), d)) * sigma
+            if np.all(np.abs(misses) > max(GROSS_ARCMIN, limit)):
+                found[g] = chosen
     return found
 
 

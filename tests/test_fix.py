@@ -494,3 +494,18 @@ def test_a_running_fix_across_the_pole_is_refused_with_the_reason():
     with pytest.raises(NavredError, match="near the pole .* not carried along rhumb lines"):
         fix_from_sights([10.0, 130.0, 250.0], [20.0, 30.0, 40.0], [20.0, 30.0, 40.0], when, 89.95, 0.0,
                         course_deg=45.0, speed_kn=10.0)
+
+
+def test_two_misnamed_stars_among_six_are_both_left_out(twilight_rounds):
+    """Reference: skyfield's twilight round (twilight_rounds): two of six stars reduced under the wrong name
+    (their GHA and Dec another star's) drag the fix of every sight a thousand miles; each pair left out in
+    turn finds both, and the fix of the other four lies within 0.5 nm of the truth."""
+    from navred.almanac import places
+
+    reduced = twilight_rounds[6].copy()
+    for row, wrong in ((1, "Spica"), (4, "Rigel")):
+        place = places(wrong, reduced.sight_utc.iloc[row].to_datetime64())
+        reduced.loc[row, "gha_deg"], reduced.loc[row, "dec_deg"] = float(place.gha_deg), float(place.dec_deg)
+    fix = fix_position(reduced)
+    assert list(np.flatnonzero(fix.left_out)) == [1, 4] and fix.all_sights is not None
+    assert miles_from_truth(fix) < 0.5 and miles_from_truth(fix.all_sights) > 100

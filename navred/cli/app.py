@@ -692,6 +692,117 @@ def plan_command(
             typer.echo(f"wrote {sky}")
 
 
+def _eye_option(text: str | None) -> float:
+    """A height of eye with its unit ('3.5 m', '11 ft') in metres; a bare number is refused naming both readings."""
+    import re
+
+    from ..vocabulary import UNIT_SPELLINGS, convert_to_working_unit
+
+    if text is None:
+        return 0.0
+    match = re.fullmatch(r"\s*([0-9]+(?:[.,][0-9]+)?)\s*([A-Za-z]*)\s*\.?\s*", str(text))
+    if not match:
+        raise NavredError(f"--eye {text!r}: give the height of eye with its unit, such as '3.5 m' or '11 ft'")
+    value, unit = float(match.group(1).replace(",", ".")), match.group(2).lower()
+    if not unit:
+        raise NavredError(f"--eye {text}: metres or feet? write '{text} m' or '{text} ft'")
+    if UNIT_SPELLINGS.get(unit) not in ("m", "ft"):
+        raise NavredError(f"--eye {text!r}: the unit {unit!r} is not one for a height; give metres (m) or feet (ft)")
+    metres = convert_to_working_unit(value, UNIT_SPELLINGS[unit])
+    return _number(metres, "--eye (metres)", 0.0, 1000.0)
+
+
+def _output_files(paths: list[str] | None, suffixes: dict[str, str], inputs=()) -> dict[str, str]:
+    """The -o files of a command by suffix, each refused before the work when its suffix is not one the command
+    writes (``suffixes`` maps each to what it holds), its name is empty, its folder is missing, or it is an input."""
+    from pathlib import Path
+
+    from ..io.output import check_output
+
+    chosen: dict[str, str] = {}
+    accepted = "; ".join(f"{suffix} ({what})" for suffix, what in suffixes.items())
+    for path in paths or []:
+        if not str(path).strip():
+            raise NavredError(f"-o: an empty file name; accepted: {accepted}")
+        suffix = Path(path).suffix.lower()
+        if suffix not in suffixes:
+            raise NavredError(f"-o {path}: navred does not write {suffix or 'a file without a suffix'} here; "
+                              f"accepted: {accepted}")
+        if suffix in chosen:
+            raise NavredError(f"-o {path}: a second {suffix} file (the first is {chosen[suffix]})")
+        if not Path(path).parent.exists():
+            raise NavredError(f"-o {path}: the folder {Path(path).parent} does not exist")
+        check_output(path, inputs)
+        chosen[suffix] = path
+    return chosen
+
+
+def _caution() -> None:
+    """The safety caution, one line on stderr (once per run of a command that shows a position, course or time)."""
+    from ..io.cautions import CAUTION
+
+    typer.echo(CAUTION, err=True)
+
+
+@app.command("paper")
+def paper_command(
+    first: str = typer.Option(..., "--from", help="The passage's first date (UTC), e.g. 2026-03-26."),
+    last: str = typer.Option(..., "--to", help="The passage's last date (UTC), inclusive."),
+    lat: str = typer.Option(..., "--lat", help="DR latitude at 00:00 local time of the first date, e.g. '44 30 N'."),
+    lon: str = typer.Option(..., "--lon", help="DR longitude then, e.g. '012 00 W'."),
+    course: float = typer.Option(0.0, "--course", help="Course to steer (degrees true) for the DR track."),
+    speed: float = typer.Option(0.0, "--speed", help="Speed (knots) for the DR track; 0 for a fixed position."),
+    eye: str | None = typer.Option(None, "--eye", help="Height of eye with its unit, '2.8 m' or '9 ft' (for the Hs to preset)."),
+    index_error: str = typer.Option("0", "--index-error", help="Index error: '1.4 on' (on the arc), '0.8 off', or signed arcminutes."),
+    zone: str | None = typer.Option(None, "--zone", help="The zone description kept (ZT + ZD = UTC), e.g. '+1'; default: the DR longitude's zone."),
+    count: int = typer.Option(4, "--count", help="Bodies in each twilight's recommended set: 3, 4 or 5."),
+    output: list[str] = typer.Option(None, "--output", "-o", help="The file to write: .pdf (the printed paper)."),
+    tables: str | None = typer.Option(None, "--tables", help="Also write every printed table as a CSV file into this folder."),
+) -> None:
+    """The printed backup of a passage: hourly GHA and Dec, the stars, altitude corrections, the twilight sights
+    planned along the DR with Hc, Zn and their change per minute, the noon Sun, a Polaris table, the
+    calculator's formulas, and blank forms (docs/paper.md says what to print and how to use each page).
+
+    Example:  navred paper --from 2026-03-26 --to 2026-03-31 --lat "44 30 N" --lon "012 00 W" --course 215 --speed 6.5 --eye "2.8 m" -o passage.pdf --tables passage-tables
+    """
+    from pathlib import Path
+
+    from ..corrections import parse_index_error_arcmin
+    from ..io.printed import write_pdf, write_tables
+    from ..jobs.paper import passage_paper
+    from ..timework import parse_zone_description
+
+    with _reported():
+        files = _output_files(output, {".pdf": "the printed paper"})
+        if not files and not tables:
+            raise NavredError("give -o FILE.pdf for the printed paper, --tables DIR for its tables as CSV, or both")
+        if tables and Path(tables).exists() and not Path(tables).is_dir():
+            raise NavredError(f"--tables {tables}: that is a file; give a folder for the tables")
+        lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
+        _number(course, "--course", 0.0, 360.0), _number(speed, "--speed", 0.0, 60.0)
+        try:
+            index_error_arcmin = float(parse_index_error_arcmin(index_error))
+        except NavredError as exc:
+            raise NavredError(f"--index-error: {exc}") from None
+        try:
+            zd = None if zone is None else float(parse_zone_description(zone))
+        except NavredError as exc:
+            raise NavredError(f"--zone: {exc}") from None
+        if count not in (3, 4, 5):
+            raise NavredError(f"--count {count}: give 3, 4 or 5")
+        _caution()
+        paper = passage_paper(first, last, lat_deg, lon_deg, course_deg=course, speed_kn=speed,
+                              eye_height_m=_eye_option(eye), index_error_arcmin=index_error_arcmin,
+                              zone_description_h=zd, count=count)
+        if ".pdf" in files:
+            written = write_pdf(paper.document, files[".pdf"])
+            typer.echo(f"wrote {written} ({paper.days} day{'s' if paper.days > 1 else ''}, valid "
+                       f"{paper.document.valid_for})")
+        if tables:
+            written_tables = write_tables(paper.document, tables)
+            typer.echo(f"wrote {len(written_tables)} tables as CSV to {tables}")
+
+
 @app.command("compass")
 def compass_command(
     body: str = typer.Argument(..., help="The body whose bearing was taken (Sun, a star, a planet, the Moon)."),

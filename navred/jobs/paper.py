@@ -220,8 +220,9 @@ def _provenance(hourly: HourlyTable) -> str:
 
     table = iers_table()
     sources = sorted(set(map(str, hourly.ut1_source)))
+    low, high = (signed(v, 2) for v in (hourly.dut1_s.min(), hourly.dut1_s.max()))
     return (f"navred {__version__}: JPL DE421 (jplephem), IAU 2006/2000B precession-nutation and sidereal time "
-            f"(ERFA), stars from Hipparcos 2; UT1−UTC {hourly.dut1_s.min():+.2f} to {hourly.dut1_s.max():+.2f} s "
+            f"(ERFA), stars from Hipparcos 2; UT1−UTC {low if low == high else f'{low} to {high}'} s "
             f"({', '.join(sources)}; IERS table measured to {table.last_measured_date}). Times are UTC unless "
             "marked zone time.")
 
@@ -460,7 +461,8 @@ def _correction_pages(first, days) -> list[Page]:
              "offset; when the Sun lies below the planet (at twilight, the planet high over the Sun's side of "
              "the sky) the centre of light is low, so add the offset × cos θ, θ the angle at the planet between "
              "straight down and the direction of the Sun (the sight pages give it worked out for each planned "
-             "planet). The Sun's SD: add for the lower limb, subtract for the upper.", "small"),
+             "planet). The Sun's SD: add for the lower limb, subtract for the upper; its parallax is 0.15′ × cos Ha "
+             "(add).", "small"),
         daily_table,
     ))
     return [page1, page2]

@@ -162,7 +162,7 @@ def test_plan_command_prints_twilights_and_plans(tmp_path):
                                  "--course", "215", "--speed", "6.5", "--days", "2", "--count", "4",
                                  "--csv", str(tmp_path / "plan.csv"), "--sky", str(tmp_path / "sky.svg")])
     assert result.exit_code == 0, result.output
-    assert "nautical dawn" in result.output and "Twilight 4:" in result.output
+    assert "nautical dawn" in result.output and "Evening twilight, Friday 27 March 2026:" in result.output
     assert result.output.count("<- recommended") == 16
     events = pd.read_csv(tmp_path / "plan.csv")
     plans = pd.read_csv(tmp_path / "plan-plans.csv")

@@ -600,96 +600,94 @@ def plan_command(
     course: float = typer.Option(0.0, "--course", help="Course to steer (degrees true) for the DR track."),
     speed: float = typer.Option(0.0, "--speed", help="Speed (knots) for the DR track."),
     days: int = typer.Option(1, "--days", min=1, max=400, help="How many days to plan."),
-    eye: float = typer.Option(0.0, "--eye", help="Height of eye in metres (dip at sunrise and sunset)."),
+    eye: str | None = typer.Option(None, "--eye", help="Height of eye with its unit, '2.8 m' or '9 ft' (dip at sunrise and sunset, and the Hs to preset)."),
+    index_error: str = typer.Option("0", "--index-error", help="Index error for the Hs to preset: '1.4 on' (on the arc), '0.8 off', or signed arcminutes."),
+    zone: str | None = typer.Option(None, "--zone", help="The zone description kept (ZT + ZD = UTC), e.g. '+1'; default: the DR longitude's zone each day."),
     count: int = typer.Option(3, "--count", help="Bodies in the recommended set: 3, 4 or 5."),
     min_alt: float = typer.Option(15.0, "--min-alt", help="Lowest altitude to plan (degrees)."),
     max_alt: float = typer.Option(70.0, "--max-alt", help="Highest altitude to plan (degrees)."),
     at: str | None = typer.Option(None, "--at", help="Plan at this instant instead of at the twilights (ISO 8601 with a zone)."),
-    csv_out: str | None = typer.Option(None, "--csv", help="Write the twilight times and every plan as CSV (two files: NAME and NAME with -plans)."),
+    output: list[str] = typer.Option(None, "--output", "-o", help="Files to write, by suffix: .pdf (a page per round of sights with the sky picture, for the bridge), .txt (this text), .png or .svg (the first round's sky)."),
+    csv_out: str | None = typer.Option(None, "--csv", help="Write the day's times and every plan as CSV (two files: NAME and NAME with -plans)."),
     sky: str | None = typer.Option(None, "--sky", help="Draw the first plan's sky as PNG or SVG to this file."),
 ) -> None:
-    """Twilight times along the DR track and a sight plan for each twilight (or one instant).
+    """Twilight times along the DR track and a sight plan for each twilight (or one instant), for the bridge.
 
-    Sunrise, sunset, civil and nautical twilight and local apparent noon for each day, the
-    Sun's noon altitude, and every star, planet and the Moon between the altitude limits at
-    the middle of each twilight with Hc to preset the sextant, Zn and magnitude, and the
-    recommended set of bodies.
+    For each day: nautical and civil twilight, sunrise, sunset and the Sun's meridian passage in zone
+    time and UTC to the minute, and the noon Hs to preset (lower limb); for each twilight every star,
+    planet and the Moon between the altitude limits with the Hs to preset (Hc with dip, refraction, SD,
+    parallax and index error taken back off), the limb (the Moon's lit one), Hc, Zn and magnitude,
+    and the recommended set.
 
-    Example:  navred plan --date 2026-03-26 --lat "44 30 N" --lon "012 00 W" --course 215 --speed 6.5 --sky sky.png
+    Example:  navred plan --date 2026-03-26 --lat "44 30 N" --lon "012 00 W" --course 215 --speed 6.5 --eye "2.8 m" -o plan.pdf
     """
-    import numpy as np
-    import pandas as pd
-
-    from ..angles import format_angle
-    from ..plan import (
-        EVENT_KEYS,
-        body_meridian_passage,
-        daytime_fix_windows,
-        sight_plans,
-        twilight_plans,
-    )
-    from ..timework import parse_date
+    from ..corrections import parse_index_error_arcmin
+    from ..jobs.bridge import bridge_plan
+    from ..timework import parse_date, parse_zone_description
 
     with _reported():
         lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
         _number(course, "--course", 0.0, 360.0), _number(speed, "--speed", 0.0, 60.0)
-        _number(eye, "--eye", 0.0, 1000.0), _number(min_alt, "--min-alt", 0.0, 90.0)
-        _number(max_alt, "--max-alt", 0.0, 90.0)
+        _number(min_alt, "--min-alt", 0.0, 90.0), _number(max_alt, "--max-alt", 0.0, 90.0)
+        eye_m = _eye_option(eye)
+        try:
+            index_error_arcmin = float(parse_index_error_arcmin(index_error))
+        except NavredError as exc:
+            raise NavredError(f"--index-error: {exc}") from None
+        try:
+            zd = None if zone is None else float(parse_zone_description(zone))
+        except NavredError as exc:
+            raise NavredError(f"--zone: {exc}") from None
         try:
             date = "{:04d}-{:02d}-{:02d}".format(*parse_date(date, declarable=False))
         except NavredError as exc:
             raise NavredError(f"--date: {exc}") from None
-        events, plans = twilight_plans(date, days, lat_deg, lon_deg, course_deg=course, speed_kn=speed,
-                                       eye_height_m=eye, count=count, min_alt_deg=min_alt, max_alt_deg=max_alt)
-        if at is not None:
-            from ..plan import as_datetime64
+        files = _output_files(output, {".pdf": "a page per round of sights, for the bridge", ".txt": "the text shown",
+                                       ".png": "the first round's sky", ".svg": "the first round's sky"})
+        for path in (csv_out, sky):
+            if path:
+                from ..io.output import check_output
 
-            when = as_datetime64(at)
-            la, lo = events["track"].position(np.array([when]))
-            plans = sight_plans(np.array([when]), la, lo, count=count, min_alt_deg=min_alt, max_alt_deg=max_alt)
-        typer.echo(f"{'date':<12}" + "".join(f"{k.replace('_', ' '):>18}" for k in EVENT_KEYS) + "   noon Hc")
-        rows = []
-        for d in range(days):
-            values = {k: events[k][d] for k in EVENT_KEYS}
-            noon = body_meridian_passage("Sun", values["meridian_passage"], events["track"])
-            typer.echo(f"{str(events['date'][d]):<12}" + "".join(f"{_time_text(values[k])[5:19]:>18}" for k in EVENT_KEYS)
-                       + f"   {format_angle(noon['hc_deg'], 'signed')} {noon['bearing']}")
-            rows.append({"date": str(events["date"][d]), **{k: _time_text(values[k]) for k in EVENT_KEYS},
-                         "noon_lat_deg": noon["lat_deg"], "noon_lon_deg": noon["lon_deg"],
-                         "noon_hc_deg": noon["hc_deg"], "noon_bearing": noon["bearing"]})
-        typer.echo("times are UTC (month-day hour:minute:second); '-' means the event does not happen that day")
-        typer.echo("")
-        for k, plan in enumerate(plans):
-            label = "Sight plan" if at is not None else f"Twilight {k + 1}"
-            _print_plan(plan, label)
-            typer.echo("")
-        windows = daytime_fix_windows(date, days, lat_deg, lon_deg, course_deg=course, speed_kn=speed,
-                                      min_alt_deg=min_alt, max_alt_deg=max_alt)
-        typer.echo("Daytime fixes: the Sun with the Moon or a bright planet, their lines crossing at 30° or more")
-        if not windows:
-            typer.echo("  none in these days")
-        for window in windows:
-            typer.echo(f"  Sun and {window.body:<8} {_time_text(window.start)} to {_time_text(window.end)[11:]} UTC; "
-                       f"best {_time_text(window.best)[11:16]}: crossing {window.crossing_deg:.0f}°, "
-                       f"Sun {window.sun_hc_deg:.0f}°, {window.body} {window.body_hc_deg:.0f}°")
-        typer.echo("")
-        if csv_out:
-            from pathlib import Path
+                check_output(path)
+        _caution()
+        plan = bridge_plan(date, days, lat_deg, lon_deg, course_deg=course, speed_kn=speed, eye_height_m=eye_m,
+                           index_error_arcmin=index_error_arcmin, zone_description_h=zd, count=count,
+                           min_alt_deg=min_alt, max_alt_deg=max_alt, at=at)
+        lines = plan.text_lines()
+        for line in lines:
+            typer.echo(line)
+        _write_plan_files(plan, files, csv_out, sky, lines)
 
-            from ..io.output import atomic_write
 
-            target = Path(csv_out)
-            atomic_write(target, lambda p: _csv_safe(pd.DataFrame(rows)).to_csv(p, index=False))
-            plans_file = target.with_name(target.stem + "-plans" + target.suffix)
-            table = pd.concat([_plan_frame(p) for p in plans], ignore_index=True) if plans else pd.DataFrame()
-            atomic_write(plans_file, lambda p: _csv_safe(table).to_csv(p, index=False))
-            typer.echo(f"wrote {target} and {plans_file}")
-        if sky and plans:
-            from ..figures.plotting import save_figure, sky_picture
-            from ..io.output import atomic_write
+def _write_plan_files(plan, files: dict[str, str], csv_out: str | None, sky: str | None, lines: list[str]) -> None:
+    """The plan's files: each 'wrote' line on stderr, so that the text on stdout is the plan alone."""
+    from pathlib import Path
 
-            atomic_write(sky, lambda p: save_figure(sky_picture(plans[0]), p))
-            typer.echo(f"wrote {sky}")
+    from ..io.output import atomic_write, csv_text
+
+    if ".txt" in files:
+        text = "\n".join(lines) + "\n"
+        atomic_write(files[".txt"], lambda p: Path(p).write_text(text, encoding="utf-8"))
+        typer.echo(f"wrote {files['.txt']}", err=True)
+    if ".pdf" in files:
+        from ..io.printed import write_pdf
+
+        typer.echo(f"wrote {write_pdf(plan.document(), files['.pdf'])}", err=True)
+    if csv_out:
+        target = Path(csv_out)
+        events, table = csv_text(plan.events_table()), csv_text(plan.plans_table())
+        atomic_write(target, lambda p: Path(p).write_text(events, encoding="utf-8"))
+        plans_file = target.with_name(target.stem + "-plans" + target.suffix)
+        atomic_write(plans_file, lambda p: Path(p).write_text(table, encoding="utf-8"))
+        typer.echo(f"wrote {target} and {plans_file}", err=True)
+    pictures = [files[s] for s in (".png", ".svg") if s in files] + ([sky] if sky else [])
+    if pictures and plan.rounds:
+        from ..figures.plotting import save_figure, sky_picture
+
+        first = plan.rounds[0]
+        for path in pictures:
+            atomic_write(path, lambda p, r=first: save_figure(sky_picture(r.plan, title=r.label), p))
+            typer.echo(f"wrote {path}", err=True)
 
 
 def _eye_option(text: str | None) -> float:

@@ -25,7 +25,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..angles import format_angle, wrap_360
+from ..angles import wrap_360
 from ..constants import ARCMIN_PER_DEG
 from ..errors import NavredError
 from ..handtables import (
@@ -48,74 +48,24 @@ from ..handtables import (
 )
 from ..io.cautions import CAUTION
 from ..io.printed import Document, Drawing, Page, Side, Table, Text
-from ..plan import body_meridian_passage, sight_plans, twilight_plans
-from ..presets import RATE_MINUTES, SightPresets, preset_hs_deg, sight_presets
-from ..reckoning import zone_description_h
+from ..plan import twilight_plans
+from ..presets import RATE_MINUTES
+from .bridge import (
+    NoonSun,
+    PlannedTwilight,
+    dm,
+    hm,
+    long_date,
+    noon_suns,
+    planned_rounds,
+    provenance_line,
+    signed,
+    zone_text,
+)
 
 _NS_PER_MINUTE = 60_000_000_000
 _NS_PER_HOUR = 60 * _NS_PER_MINUTE
 PLANETS = ("Venus", "Mars", "Jupiter", "Saturn")
-
-
-def signed(value: float, decimals: int = 1) -> str:
-    """A signed number as printed: the minus sign (−), no sign for a positive value, '' for NaN."""
-    if value != value:
-        return ""
-    text = f"{abs(value):.{decimals}f}"
-    return ("−" + text) if value < 0 and float(text) != 0.0 else text
-
-
-def dm(angle_deg: float, kind: str = "angle") -> str:
-    """An angle as printed in degrees and minutes (format_angle), '' for NaN."""
-    return "" if angle_deg != angle_deg else str(format_angle(float(angle_deg), kind))
-
-
-def hm(utc64) -> str:
-    """HH:MM of an instant (rounded to the minute), '' for NaT."""
-    if utc64 is None or np.isnat(utc64):
-        return ""
-    return str(_to_minute(utc64))[11:16]
-
-
-def _to_minute(utc64) -> np.datetime64:
-    """An instant rounded to the nearest whole minute."""
-    ns = np.datetime64(utc64, "ns").astype(np.int64)
-    return np.datetime64(int(round(ns / _NS_PER_MINUTE)) * _NS_PER_MINUTE, "ns")
-
-
-def zone_text(zd: float) -> str:
-    """A zone description as the trade writes it: +1, −3, 0."""
-    return "0" if zd == 0 else (f"+{zd:.0f}" if zd > 0 else f"−{abs(zd):.0f}")
-
-
-@dataclass(frozen=True)
-class PlannedTwilight:
-    """One twilight's planned sights: which twilight, the zone description kept, the twilight times, and the
-    presets (Hc, Zn, rates, Hs) at the planned time rounded to the minute."""
-
-    label: str
-    zone_h: float
-    nautical: np.datetime64
-    civil: np.datetime64
-    presets: SightPresets
-    recommended: np.ndarray
-    magnitude: np.ndarray
-
-
-@dataclass(frozen=True)
-class NoonSun:
-    """Local apparent noon at the moving DR: UTC, the zone description, the DR then, the Sun's Dec, Hc, SD,
-    the Hs to preset (lower limb) and where to look."""
-
-    date: np.datetime64
-    utc: np.datetime64
-    zone_h: float
-    lat_deg: float
-    lon_deg: float
-    dec_deg: float
-    hc_deg: float
-    hs_deg: float
-    bearing: str
 
 
 @dataclass(frozen=True)
@@ -129,10 +79,6 @@ class PassagePaper:
     noons: tuple[NoonSun, ...]
     first_date: np.datetime64
     days: int
-
-
-def _zone(lon_deg: float, given: float | None) -> float:
-    return float(given) if given is not None else float(zone_description_h(lon_deg))
 
 
 def passage_paper(first_date: object, last_date: object, lat_deg: float, lon_deg: float, *, course_deg: float = 0.0,
@@ -157,35 +103,10 @@ def passage_paper(first_date: object, last_date: object, lat_deg: float, lon_deg
                                    eye_height_m=eye_height_m, count=count, min_alt_deg=min_alt_deg,
                                    max_alt_deg=max_alt_deg)
     track = events["track"]
-    twilights = []
-    for plan in plans:
-        when = _to_minute(plan.utc)
-        lat, lon = (float(v[0]) for v in track.position(np.array([when])))
-        again = sight_plans(np.array([when]), np.array([lat]), np.array([lon]), count=count, min_alt_deg=min_alt_deg,
-                            max_alt_deg=max_alt_deg)[0]
-        if again.body.size == 0:
-            continue
-        presets = sight_presets(again.body, when, lat, lon, eye_height_m=eye_height_m,
-                                index_error_arcmin=index_error_arcmin)
-        day = _day_of(events, when)
-        morning = when < events["meridian_passage"][day]
-        nautical = events["nautical_dawn" if morning else "nautical_dusk"][day]
-        civil = events["civil_dawn" if morning else "civil_dusk"][day]
-        label = f"{'Morning' if morning else 'Evening'} twilight, {_long_date(events['date'][day])}"
-        twilights.append(PlannedTwilight(label, _zone(lon, zone_description_h), nautical, civil, presets,
-                                         again.recommended, again.magnitude))
-    noons = []
-    for d in range(days):
-        noon = body_meridian_passage("Sun", events["meridian_passage"][d], track)
-        when = noon["utc"]
-        from ..almanac import places
-
-        sun = places("Sun", np.array([when]))
-        hs = preset_hs_deg(noon["hc_deg"], limb="lower", sd_arcmin=float(sun.sd_arcmin[0]), eye_height_m=eye_height_m,
-                           index_error_arcmin=index_error_arcmin, hp_arcmin=float(sun.hp_arcmin[0]),
-                           lat_deg=noon["lat_deg"], zn_deg=0.0 if noon["bearing"] == "N" else 180.0)
-        noons.append(NoonSun(events["date"][d], when, _zone(noon["lon_deg"], zone_description_h), noon["lat_deg"],
-                             noon["lon_deg"], noon["dec_deg"], noon["hc_deg"], float(hs), noon["bearing"]))
+    options = dict(eye_height_m=eye_height_m, index_error_arcmin=index_error_arcmin, zone_given=zone_description_h)
+    twilights = planned_rounds(events, plans, track, count=count, min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg,
+                               **options)
+    noons = noon_suns(events, track, **options)
     document = _document(first, days, hourly, stars, twilights, noons, track, lat_deg, lon_deg, course_deg, speed_kn,
                          eye_height_m, index_error_arcmin, zone_description_h, events)
     return PassagePaper(document, hourly, tuple(stars), tuple(twilights), tuple(noons), first, days)
@@ -201,30 +122,8 @@ def _date(value: object, what: str) -> np.datetime64:
     return np.datetime64(f"{year:04d}-{month:02d}-{day:02d}", "D")
 
 
-def _day_of(events, when) -> int:
-    """The index of the local date whose day holds the instant (nearest local noon)."""
-    noon = events["meridian_passage"].astype(np.int64)
-    return int(np.argmin(np.abs(noon - np.datetime64(when, "ns").astype(np.int64))))
-
-
-def _long_date(day) -> str:
-    import datetime as dt
-
-    value = dt.date.fromisoformat(str(np.datetime64(day, "D")))
-    return value.strftime("%A %d %B %Y").replace(" 0", " ")
-
-
 def _provenance(hourly: HourlyTable) -> str:
-    from .. import __version__
-    from ..timescales import iers_table
-
-    table = iers_table()
-    sources = sorted(set(map(str, hourly.ut1_source)))
-    low, high = (signed(v, 2) for v in (hourly.dut1_s.min(), hourly.dut1_s.max()))
-    return (f"navred {__version__}: JPL DE421 (jplephem), IAU 2006/2000B precession-nutation and sidereal time "
-            f"(ERFA), stars from Hipparcos 2; UT1−UTC {low if low == high else f'{low} to {high}'} s "
-            f"({', '.join(sources)}; IERS table measured to {table.last_measured_date}). Times are UTC unless "
-            "marked zone time.")
+    return provenance_line(hourly.dut1_s, hourly.ut1_source)
 
 
 def _document(first, days, hourly, stars, twilights, noons, track, lat_deg, lon_deg, course_deg, speed_kn,
@@ -338,7 +237,7 @@ def _hourly_page(hourly: HourlyTable, date, d: int) -> Page:
         f"{dm(f * step_sun, 'signed')} = {dm(float(example_sun))};  Sun Dec = {dm(sun_dec[hour], 'dec')} + {f:.4f} × "
         f"({signed((sun_dec[hour + 1] - sun_dec[hour]) * ARCMIN_PER_DEG)}′) = {dm(float(example_dec), 'dec')}.  "
         f"Moon GHA = {dm(moon_gha[hour])} + {f:.4f} × {dm(step_moon, 'signed')} = {dm(float(example_moon))}.")
-    return Page(f"Hourly GHA and Dec, {_long_date(date)} (UTC)", (
+    return Page(f"Hourly GHA and Dec, {long_date(date)} (UTC)", (
         table,
         Text("value = value at the hour + f × (next hour's value − value at the hour), f = (minutes + seconds/60)/60; "
              "GHA: add 360° to the next value if it is the smaller; Dec: north +, south −. Star: GHA = GHA Aries + "
@@ -479,10 +378,10 @@ def _twilight_table(twilight: PlannedTwilight, name: str) -> Table:
         limb = {"lower": "lower", "upper": "upper", "centre": ""}[str(p.limb[i])]
         if p.body[i] == "Moon" and p.horns_vertical[i]:
             limb += " (horns up and down)"
-        rows.append((str(p.body[i]), "●" if twilight.recommended[i] else "", dm(p.hs_deg[i], "signed"), limb,
+        rows.append((str(p.body[i]), "●" if twilight.plan.recommended[i] else "", dm(p.hs_deg[i], "signed"), limb,
                      dm(p.hc_deg[i], "signed"), f"{p.zn_deg[i]:05.1f}", signed(p.hc_rate_arcmin_per_min[i], 2),
                      signed(p.zn_rate_deg_per_min[i], 2), f"{good}" + ("" if good >= RATE_MINUTES else " near meridian"),
-                     signed(twilight.magnitude[i])))
+                     signed(twilight.plan.magnitude[i])))
     return Table(("Body", "set", "Hs to preset", "limb", "Hc", "Zn °", "Hc ′/min", "Zn °/min", "holds min", "mag"),
                  tuple(rows), name=name,
                  csv_columns=("body", "recommended", "hs_preset", "limb", "hc", "zn_deg", "hc_change_arcmin_per_min",
@@ -496,7 +395,7 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
     for twilight in twilights:
         by_date.setdefault(str(twilight.label.split(", ", 1)[1]), []).append(twilight)
     for noon in noons:
-        label = _long_date(noon.date)
+        label = long_date(noon.date)
         blocks = []
         for twilight in by_date.get(label, []):
             p = twilight.presets
@@ -611,7 +510,7 @@ def _worked_sight(twilights, hourly, stars, eye_height_m, index_error_arcmin) ->
 
     for twilight in twilights:
         p = twilight.presets
-        choices = [i for i in range(p.body.size) if twilight.recommended[i] and p.body[i] not in
+        choices = [i for i in range(p.body.size) if twilight.plan.recommended[i] and p.body[i] not in
                    ("Sun", "Moon", "Venus", "Mars", "Jupiter", "Saturn", "Polaris")]
         if choices:
             break
@@ -695,5 +594,4 @@ def _blank_forms(track, first, days) -> list[Page]:
     return pages
 
 
-__all__ = ["PassagePaper", "PlannedTwilight", "NoonSun", "passage_paper", "signed", "dm", "hm", "zone_text",
-           "WORKING_LINES"]
+__all__ = ["PassagePaper", "passage_paper", "WORKING_LINES"]

@@ -869,6 +869,113 @@ def compass_command(
                        .to_string(index=False))
 
 
+@app.command("azimuths")
+def azimuths_command(
+    date: str = typer.Option(..., "--date", help="Local civil date of the first day, e.g. 2026-03-26."),
+    lat: str = typer.Option(..., "--lat", help="DR latitude at 00:00 local time, e.g. '43 16.6 N'."),
+    lon: str = typer.Option(..., "--lon", help="DR longitude at 00:00 local time, e.g. '013 11.4 W'."),
+    course: float = typer.Option(0.0, "--course", help="Course to steer (degrees true) for the DR track."),
+    speed: float = typer.Option(0.0, "--speed", help="Speed (knots) for the DR track."),
+    days: int = typer.Option(1, "--days", min=1, max=31, help="How many days."),
+    every: float = typer.Option(10.0, "--every", help="Minutes between the rows of the azimuth table (1 to 240)."),
+    eye: str | None = typer.Option(None, "--eye", help="Height of eye with its unit, '2.8 m' or '9 ft' (the visible sunrise and sunset)."),
+    zone: str | None = typer.Option(None, "--zone", help="The zone description kept (ZT + ZD = UTC), e.g. '+1'; default: the DR longitude's zone each day."),
+    csv: bool = typer.Option(False, "--csv", help="Print the Sun's azimuth table as CSV (nothing else on stdout)."),
+    output: list[str] = typer.Option(None, "--output", "-o", help="Files to write, by suffix: .pdf (the tables printed), .csv (the Sun's azimuth table), .txt (this text)."),
+) -> None:
+    """For the watch's compass: the Sun's true azimuth along the DR at an interval, a bright body low enough for
+    a bearing at each twilight, and the times and true amplitudes of sunrise and sunset.
+
+    Example:  navred azimuths --date 2026-03-26 --lat "44 30 N" --lon "012 00 W" --course 215 --speed 6.5 --every 15 -o azimuths.pdf
+    """
+    from pathlib import Path
+
+    from ..io.output import atomic_write, csv_text
+    from ..jobs.compasswork import watch_azimuths
+    from ..timework import parse_date, parse_zone_description
+
+    with _reported():
+        lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
+        _number(course, "--course", 0.0, 360.0), _number(speed, "--speed", 0.0, 60.0)
+        _number(every, "--every", 1.0, 240.0)
+        eye_m = _eye_option(eye)
+        try:
+            zd = None if zone is None else float(parse_zone_description(zone))
+        except NavredError as exc:
+            raise NavredError(f"--zone: {exc}") from None
+        try:
+            date = "{:04d}-{:02d}-{:02d}".format(*parse_date(date, declarable=False))
+        except NavredError as exc:
+            raise NavredError(f"--date: {exc}") from None
+        files = _output_files(output, {".pdf": "the tables printed", ".csv": "the Sun's azimuth table",
+                                       ".txt": "the text shown"})
+        _caution()
+        result = watch_azimuths(date, days, lat_deg, lon_deg, course_deg=course, speed_kn=speed, step_minutes=every,
+                                eye_height_m=eye_m, zone_description_h=zd)
+        lines = result.text_lines()
+        if csv:
+            sys.stdout.write(csv_text(result.sun))
+        else:
+            for line in lines:
+                typer.echo(line)
+        if ".csv" in files:
+            text = csv_text(result.sun)
+            atomic_write(files[".csv"], lambda p: Path(p).write_text(text, encoding="utf-8"))
+            typer.echo(f"wrote {files['.csv']}", err=True)
+        if ".txt" in files:
+            text = "\n".join(lines) + "\n"
+            atomic_write(files[".txt"], lambda p: Path(p).write_text(text, encoding="utf-8"))
+            typer.echo(f"wrote {files['.txt']}", err=True)
+        if ".pdf" in files:
+            import numpy as np
+
+            from ..io.printed import write_pdf
+
+            last = str(np.datetime64(date) + np.timedelta64(days - 1, "D"))
+            valid = date + (f" to {last}" if days > 1 else "") + " (local dates)"
+            typer.echo(f"wrote {write_pdf(result.document(valid), files['.pdf'])}", err=True)
+
+
+@app.command("compass-book")
+def compass_book_command(
+    books: list[str] = typer.Argument(..., metavar="BOOK...", help="Compass error books: CSV or .xlsx with utc, body, compass (gyro or magnetic), bearing, lat, lon, and heading and variation for a magnetic compass (docs/compass.md)."),
+    csv: bool = typer.Option(False, "--csv", help="Print every bearing worked out as CSV (nothing else on stdout)."),
+    output: list[str] = typer.Option(None, "--output", "-o", help="Files to write, by suffix: .pdf (the book and the deviation card printed), .csv (every bearing worked out)."),
+    dates: str | None = typer.Option(None, "--dates", help=_DATES_HELP),
+) -> None:
+    """The compass error book: each bearing of a body against its true azimuth, the gyro's error (high or low),
+    the magnetic compass's error and deviation by heading against the variation, and the deviation card.
+
+    Example:  navred compass-book sample_sights/compass_book.csv -o compass.pdf
+    """
+    from pathlib import Path
+
+    from ..io.output import atomic_write, csv_text
+    from ..jobs.compasswork import compass_book
+
+    with _reported():
+        files = _output_files(output, {".pdf": "the book and the deviation card printed",
+                                       ".csv": "every bearing worked out"}, inputs=books)
+        _caution()
+        book = compass_book(_source(books), dates=dates)
+        columns = ["row", "source", "utc", "body", "compass", "bearing_deg", "true_bearing_deg", "altitude_deg",
+                   "gyro_error_deg", "heading_deg", "variation_deg", "compass_error_deg", "deviation_deg", "remarks"]
+        table = book.observations[[c for c in columns if c in book.observations]]
+        if csv:
+            sys.stdout.write(csv_text(table))
+        else:
+            for line in book.text_lines():
+                typer.echo(line)
+        if ".csv" in files:
+            text = csv_text(table)
+            atomic_write(files[".csv"], lambda p: Path(p).write_text(text, encoding="utf-8"), inputs=book.sources)
+            typer.echo(f"wrote {files['.csv']}", err=True)
+        if ".pdf" in files:
+            from ..io.printed import write_pdf
+
+            typer.echo(f"wrote {write_pdf(book.document(), files['.pdf'], inputs=book.sources)}", err=True)
+
+
 @app.command("identify")
 def identify_command(
     utc: str = typer.Option(..., "--utc", "-t", help="Instant of the observation, ISO 8601 with a zone."),

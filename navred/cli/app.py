@@ -67,6 +67,7 @@ def _reported():
                        err=True)
             raise typer.Exit(code=1) from None
     _print_warnings(caught)
+    _caution()
 
 
 def _csv_safe(frame):
@@ -649,7 +650,6 @@ def plan_command(
                 from ..io.output import check_output
 
                 check_output(path)
-        _caution()
         plan = bridge_plan(date, days, lat_deg, lon_deg, course_deg=course, speed_kn=speed, eye_height_m=eye_m,
                            index_error_arcmin=index_error_arcmin, zone_description_h=zd, count=count,
                            min_alt_deg=min_alt, max_alt_deg=max_alt, at=at)
@@ -736,7 +736,8 @@ def _output_files(paths: list[str] | None, suffixes: dict[str, str], inputs=()) 
 
 
 def _caution() -> None:
-    """The safety caution, one line on stderr (once per run of a command that shows a position, course or time)."""
+    """The safety caution, one line on stderr, once at the end of every run that did its work (every command but
+    the list of bodies shows a position, a course or a time); on stderr, so that --csv output stays clean."""
     from ..io.cautions import CAUTION
 
     typer.echo(CAUTION, err=True)
@@ -788,7 +789,6 @@ def paper_command(
             raise NavredError(f"--zone: {exc}") from None
         if count not in (3, 4, 5):
             raise NavredError(f"--count {count}: give 3, 4 or 5")
-        _caution()
         paper = passage_paper(first, last, lat_deg, lon_deg, course_deg=course, speed_kn=speed,
                               eye_height_m=_eye_option(eye), index_error_arcmin=index_error_arcmin,
                               zone_description_h=zd, count=count)
@@ -909,7 +909,6 @@ def azimuths_command(
             raise NavredError(f"--date: {exc}") from None
         files = _output_files(output, {".pdf": "the tables printed", ".csv": "the Sun's azimuth table",
                                        ".txt": "the text shown"})
-        _caution()
         result = watch_azimuths(date, days, lat_deg, lon_deg, course_deg=course, speed_kn=speed, step_minutes=every,
                                 eye_height_m=eye_m, zone_description_h=zd)
         lines = result.text_lines()
@@ -956,7 +955,6 @@ def compass_book_command(
     with _reported():
         files = _output_files(output, {".pdf": "the book and the deviation card printed",
                                        ".csv": "every bearing worked out"}, inputs=books)
-        _caution()
         book = compass_book(_source(books), dates=dates)
         columns = ["row", "source", "utc", "body", "compass", "bearing_deg", "true_bearing_deg", "altitude_deg",
                    "gyro_error_deg", "heading_deg", "variation_deg", "compass_error_deg", "deviation_deg", "remarks"]

@@ -14,4 +14,20 @@ CAUTION = ("CAUTION: navred is an aid to navigation, not a sole means: check aga
 ROUTE_CAUTION = ("Before steering any leg, check it on the chart for land, shoals and other dangers, traffic "
                  "separation schemes and restricted areas: these lines are drawn on the ellipsoid alone.")
 
-__all__ = ["CAUTION", "ROUTE_CAUTION"]
+
+
+def gpx_with_caution(root, namespace: str) -> None:
+    """Put the caution first in a GPX 1.1 document, as its metadata's description (the schema's first element)."""
+    import xml.etree.ElementTree as ET
+
+    metadata = ET.Element(f"{{{namespace}}}metadata")
+    ET.SubElement(metadata, f"{{{namespace}}}desc").text = CAUTION
+    root.insert(0, metadata)
+
+
+def geojson_with_caution(collection: dict) -> dict:
+    """A GeoJSON FeatureCollection with the caution as a foreign member (RFC 7946, section 6.1)."""
+    return {**collection, "navred": {"caution": CAUTION}}
+
+
+__all__ = ["CAUTION", "ROUTE_CAUTION", "gpx_with_caution", "geojson_with_caution"]

@@ -63,7 +63,7 @@ def test_help_on_every_command_has_an_example():
 def test_reduce_prints_one_line_per_sight():
     result = runner.invoke(app, ["reduce", "sample_sights/demo_sights.csv"])
     assert result.exit_code == 0, result.output
-    lines = result.output.splitlines()
+    lines = result.stdout.splitlines()
     sight_lines = [line for line in lines if line[:4].strip().isdigit()]
     assert len(sight_lines) == 11
     assert all(("TOWARD" in line) or ("AWAY" in line) for line in sight_lines)
@@ -73,7 +73,7 @@ def test_reduce_prints_one_line_per_sight():
 def test_reduce_reads_xlsx_and_csv_output(tmp_path):
     result = runner.invoke(app, ["reduce", "sample_sights/demo_sights.xlsx", "--csv"])
     assert result.exit_code == 0, result.output
-    frame = pd.read_csv(io.StringIO(result.output))
+    frame = pd.read_csv(io.StringIO(result.stdout))  # the caution goes to stderr: the CSV is clean
     assert len(frame) == 11 and {"ho_deg", "hc_deg", "zn_deg", "intercept_nm"} <= set(frame.columns)
 
 

@@ -15,7 +15,6 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..angles import format_angle
-from ..errors import NavredError
 from ..plan import (
     EVENT_KEYS,
     DayWindow,
@@ -323,10 +322,20 @@ class BridgePlan:
         from ..io.cautions import CAUTION
         from ..io.printed import Document, Page, Picture, Table, Text
 
-        if not self.rounds:
-            raise NavredError("no round of sights to print: no twilight happens on these dates at this place")
         pages = []
         by_date = {str(n.date): n for n in self.noons}
+        if not self.rounds:  # no twilight (white nights, midnight sun): the days' times and the daytime fixes
+            rows = []
+            for day in self.days:
+                rows.append((str(day.date), zone_text(day.zone_h)) + tuple(
+                    "-" if np.isnat(day.times[key]) else hm(zone_time(day.times[key], day.zone_h)) for key in EVENT_KEYS))
+            blocks = [Text("No twilight dark enough for stars on these dates at this place: the days' times (zone "
+                           "time) and the daytime fixes with the Sun.", "body"),
+                      Table(("date", "ZD", "nautical dawn", "civil dawn", "sunrise", "noon", "sunset", "civil dusk",
+                             "nautical dusk"), tuple(rows), font_size=7.6)]
+            blocks += [Text(line.strip(), "body") for line in self.text_lines() if line.startswith("  Sun and ")
+                       or line.startswith("  20")]
+            pages.append(Page("Sight plan: no twilight", tuple(blocks)))
         for round_ in self.rounds:
             p, zd = round_.presets, round_.zone_h
             rows = []
@@ -360,7 +369,8 @@ class BridgePlan:
         valid = f"{dates[0]}" + (f" to {dates[-1]}" if len(dates) > 1 else "") + " (local dates)"
         from ..timescales import instants
 
-        inst = instants(np.array([r.presets.utc for r in self.rounds], dtype="datetime64[ns]"))
+        when = [r.presets.utc for r in self.rounds] or [n.utc for n in self.noons] or [dates[0]]
+        inst = instants(np.array(when, dtype="datetime64[ns]"))
         return Document("navred sight plan", valid, provenance_line(inst.dut1_s, inst.ut1_source), CAUTION,
                         tuple(pages))
 

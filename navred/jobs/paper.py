@@ -386,7 +386,8 @@ def _twilight_table(twilight: PlannedTwilight, name: str) -> Table:
                  tuple(rows), name=name,
                  csv_columns=("body", "recommended", "hs_preset", "limb", "hc", "zn_deg", "hc_change_arcmin_per_min",
                               "zn_change_deg_per_min", "rate_holds_minutes", "magnitude"),
-                 widths=(1.3, 0.35, 1.0, 0.9, 1.0, 0.6, 0.7, 0.7, 1.05, 0.5), font_size=7.2, left_columns=2)
+                 widths=(1.3, 0.35, 1.0, 0.9, 1.0, 0.6, 0.7, 0.7, 1.05, 0.5), font_size=7.2, left_columns=2,
+                 compact=True)
 
 
 def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
@@ -587,7 +588,7 @@ def _blank_forms(track, first, days) -> list[Page]:
     for band in plotting_bands(lats)[:6]:
         pages.append(Page("", (Drawing(blank_plotting_sheet(band)),)))
     log = Table(("Date", "Zone time", "Log nm", "Course °T", "Speed kn", "Run nm", "DR lat", "DR lon", "Set, drift",
-                 "Remarks, sights"), tuple(("",) * 10 for _ in range(30)),
+                 "Remarks, sights"), tuple(("",) * 10 for _ in range(20)),
                 widths=(0.8, 0.7, 0.65, 0.7, 0.65, 0.6, 1.1, 1.2, 0.8, 2.0), font_size=7.4, row_height=19.5)
     pages.append(Page("DR log", (Text("Each alteration, each fix and each change of speed on a line; the run "
                                       "= speed × time.", "small"), log), landscape=True))

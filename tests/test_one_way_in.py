@@ -280,7 +280,7 @@ def test_a_misnamed_star_is_left_out_of_the_position_everywhere(tmp_path, ts, ep
     assert "Alkaid" in line and "LEFT OUT" in line
     assert "from every sight (not to plot)" in console.output
     assert "plot this one" in console.output  # the two differ by more than a mile: a warning
-    table = pd.read_csv(io.StringIO(runner.invoke(app, ["fix", str(path), "--csv"]).output))
+    table = pd.read_csv(io.StringIO(runner.invoke(app, ["fix", str(path), "--csv"]).stdout))
     assert off(table.lat_deg[0], table.lon_deg[0]) < 1.0
     assert table.left_out[0] == "row 4" and off(table.all_sights_lat_deg[0], table.all_sights_lon_deg[0]) > 20
     book, plots = tmp_path / "m.xlsx", tmp_path / "plots"

@@ -1315,19 +1315,18 @@ def _blunder_note(n: int, d: int, detectable: float, k: int) -> str:
             f"from the sights' own scatter)")
 
 
-def _ellipse_note(n: int, k: int, d: int, scale: float) -> str:
+def _ellipse_note(n: int, k: int, d: int) -> str:
     """What the ellipse's size means with few redundant sights, in words a navigator reads."""
     if d <= 0:
         return (f"{n} sights for {k} unknowns leave none to judge the sights by: the ellipse rests on an assumed "
                 f"{A_PRIORI_SIGMA_ARCMIN}′ per sight")
     if d > 3:
         return ""
-    ratio = scale / float(np.sqrt(chi_square_2_quantile(CONFIDENCE)))
-    next_ratio = _scale_ratio(d)[1]
+    ratio, next_ratio = _scale_ratio(d)
     return (f"{n} sights for {k} unknowns leave {d} redundant sight{_plural(d)} to judge the sights' error by, so "
-            f"that error is known only roughly and the ellipse allows for it being larger than it looks: "
-            f"{ratio:.1f} times the size a known error would give; with one more sight the sights' share would be "
-            f"{next_ratio:.1f} times")
+            f"that error is known only roughly and the ellipse allows for it being larger than it looks: the "
+            f"sights' share of it is {ratio:.1f} times the size a known error would give; one more sight would "
+            f"make that {next_ratio:.1f} times")
 
 
 def _quantile_name(nu: float, d: int) -> str:
@@ -1416,7 +1415,7 @@ def _solve_part(k, rows, gha, dec, ho, use, present, track, lat0, lon0, velocity
             outlier=_EMPTY, warnings=warnings_, used=_EMPTY, n_sights=n_l[j], covariance_nm2=position_cov[j],
             confidence_scale=scale_l[j], sigma_source=source, iterations=steps_l[j],
             quantile=_quantile_name(nu_l[j], d), spread_deg=spread_l[j], dr_error_included=run_included[j],
-            redundant=d, ellipse_note=_ellipse_note(n_l[j], k, d, scale_l[j]),
+            redundant=d, ellipse_note=_ellipse_note(n_l[j], k, d),
             blunder_note=_blunder_note(n_l[j], d, detect_l[j], k), detectable_blunder_arcmin=detect_l[j])
         if motion:
             vn, ve = float(core.velocity_north_kn[j]), float(core.velocity_east_kn[j])

@@ -63,7 +63,7 @@ def test_help_on_every_command_has_an_example():
 def test_reduce_prints_one_line_per_sight():
     result = runner.invoke(app, ["reduce", "sample_sights/demo_sights.csv"])
     assert result.exit_code == 0, result.output
-    lines = result.output.splitlines()
+    lines = result.stdout.splitlines()
     sight_lines = [line for line in lines if line[:4].strip().isdigit()]
     assert len(sight_lines) == 11
     assert all(("TOWARD" in line) or ("AWAY" in line) for line in sight_lines)
@@ -73,7 +73,7 @@ def test_reduce_prints_one_line_per_sight():
 def test_reduce_reads_xlsx_and_csv_output(tmp_path):
     result = runner.invoke(app, ["reduce", "sample_sights/demo_sights.xlsx", "--csv"])
     assert result.exit_code == 0, result.output
-    frame = pd.read_csv(io.StringIO(result.output))
+    frame = pd.read_csv(io.StringIO(result.stdout))  # the caution goes to stderr: the CSV is clean
     assert len(frame) == 11 and {"ho_deg", "hc_deg", "zn_deg", "intercept_nm"} <= set(frame.columns)
 
 
@@ -98,8 +98,13 @@ def test_fix_on_the_demo_prints_every_group_with_its_ellipse():
     assert result.exit_code == 0, result.output
     for group in ("sun-run-sun", "moon-planet", "evening-stars"):
         assert f'Fix "{group}"' in result.output
-    assert result.output.count("95 % ellipse") == 3
+    assert result.output.count("  95 % ellipse   ") == 3
+    # the full size where a navigator reads it, then the semi-axes; what it covers and cannot, once
+    assert "2.8 × 1.9 nm, semi-axes 1.4 × 1.0 nm" in result.output
+    assert "cannot cover an error common to every sight (the clock" in result.output
     assert "no redundancy" in result.output  # the two-sight Moon-Jupiter fix says so
+    # three sights leave one redundant: what that does to the ellipse, and to the blunder check, in words
+    assert "leave 1 redundant sight" in result.output and "cannot single out a bad sight" in result.output
     assert "on the meridian: latitude 43°" in result.output  # the noon sight as a latitude check
 
 
@@ -162,7 +167,7 @@ def test_plan_command_prints_twilights_and_plans(tmp_path):
                                  "--course", "215", "--speed", "6.5", "--days", "2", "--count", "4",
                                  "--csv", str(tmp_path / "plan.csv"), "--sky", str(tmp_path / "sky.svg")])
     assert result.exit_code == 0, result.output
-    assert "nautical dawn" in result.output and "Twilight 4:" in result.output
+    assert "nautical dawn" in result.output and "Evening twilight, Friday 27 March 2026:" in result.output
     assert result.output.count("<- recommended") == 16
     events = pd.read_csv(tmp_path / "plan.csv")
     plans = pd.read_csv(tmp_path / "plan-plans.csv")

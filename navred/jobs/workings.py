@@ -668,7 +668,7 @@ def write_template(path: str | Path) -> Path:
     from openpyxl.worksheet.datavalidation import DataValidation
 
     from ..io.output import atomic_write
-    from ..io.workbook import SAFETY, header_row
+    from ..io.workbook import SAFETY, fit_pages, header_row
     from ..stars import known_bodies
     from ..vocabulary import HORIZONS, LIMBS
 
@@ -712,6 +712,7 @@ def write_template(path: str | Path) -> Path:
                         "has a note with the forms accepted; docs/marking.md explains every line.")
     help_sheet["A5"] = SAFETY
     help_sheet.column_dimensions["A"].width = 120
+    fit_pages(book)
     return atomic_write(path, book.save)
 
 

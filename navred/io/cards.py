@@ -32,7 +32,7 @@ class CardError(NavredError):
 @api_boundary
 def read_deviation_card(path: str | Path) -> pd.DataFrame:
     """The checks of a deviation card (an empty card when the file does not exist yet)."""
-    if not isinstance(path, (str, Path)) or not str(path).strip():
+    if not isinstance(path, (str, Path)) or not str(path).strip() or "\x00" in str(path):
         raise CardError(f"a deviation card is a CSV file: give its name, not {str(path)[:40]!r}")
     path = Path(path)
     if not path.exists():

@@ -43,6 +43,8 @@ def check_output(path: str | Path, inputs: Iterable[str | Path] = (), *, suffixe
     named = f"{what} " if what else ""
     if str(path).strip() == "":
         raise OutputError(f"{named}no output file given (an empty name)".strip())
+    if "\x00" in str(path):
+        raise OutputError(f"{named}a file name cannot hold a NUL byte".strip())
     try:
         longest = os.pathconf(_existing_folder(target), "PC_NAME_MAX")
     except (OSError, ValueError):

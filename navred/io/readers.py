@@ -146,7 +146,7 @@ def read_table(source: object, *, all_sheets: bool = False, budget: ReadBudget |
         if not tables:
             raise LogbookError("no sight logs given")
         return tables
-    if not isinstance(source, (str, Path)) or (isinstance(source, str) and not source.strip()):
+    if not isinstance(source, (str, Path)) or (isinstance(source, str) and not source.strip()) or "\x00" in str(source):
         raise LogbookError(f"cannot read {_shown(repr(source))[:80]} as a sight log: give a file name, a folder, a "
                            "list of them, or a pandas DataFrame")
     path = Path(source)
@@ -173,6 +173,8 @@ def check_input_file(path: Path, what: str = "file") -> None:
         raise LogbookError(f"no such {what}: {path}") from None
     except OSError as exc:
         raise LogbookError(f"cannot read the {what} {path}: {exc.strerror or exc}") from None
+    except ValueError:  # a NUL byte in the name: no file has one
+        raise LogbookError(f"no such {what}: {_shown(str(path))[:80]!r} (a name cannot hold a NUL byte)") from None
     if stat.S_ISDIR(mode):
         raise LogbookError(f"{path} is a folder, not a {what}")
     if not stat.S_ISREG(mode):

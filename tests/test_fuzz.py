@@ -645,3 +645,40 @@ def test_every_commands_options_give_a_result_or_one_line_never_a_traceback(tmp_
     if result.exit_code != 0:
         written = set(os.listdir(folder)) - before
         assert not {w for w in written if not w.startswith(".")} - {"v.xlsx", "book.csv"}, (arguments, written)
+
+
+_PASSAGE = list(csv.reader(open("sample_sights/passage_log.csv", encoding="utf-8")))
+_PASSAGE_EDITS = st.lists(st.tuples(st.integers(1, len(_PASSAGE) - 1), st.integers(0, len(_PASSAGE[0]) - 1),
+                                    _CELLS | st.sampled_from(["Second Sea Swallow (invented)", "departure", "course",
+                                                              "current", "position", "", "000", "90 N", "-0"])),
+                          min_size=1, max_size=5)
+
+
+@seeded(12)
+@given(_PASSAGE_EDITS)
+def test_mutated_passage_logs_keep_their_day_s_work_or_refuse_rows_by_name(tmp_path_factory, edits):
+    """A passage log kept with entry rows, mutated (cells, a second vessel's name, an entry word where a sight
+    was, a course to the pole): every row is a sight, an entry or a rejection with its reason, and the day's
+    work is done or refused in navred's own words, never a crash (the two-vessel log once failed here)."""
+    from navred.errors import NavredError, NavredInternalError
+    from navred.jobs.voyage import process_log
+
+    rows = [list(r) for r in _PASSAGE]
+    for row, column, cell in edits:
+        rows[row][column] = cell
+    path = tmp_path_factory.mktemp("passage") / "passage.csv"
+    with open(path, "w", newline="", encoding="utf-8", errors="replace") as handle:
+        csv.writer(handle).writerows(rows)
+    try:
+        voyage = process_log(path, plan=False)
+        voyage.days_work()
+    except NavredInternalError:
+        raise
+    except NavredError as exc:
+        assert "\n" not in str(exc)
+        return
+    log = voyage.log
+    kept = set(log.table.row) | set(log.entries.row) | set(log.rejected.row)
+    data = {k + 1 for k, r in enumerate(rows) if k and any(c.strip() for c in r)}
+    assert data <= kept, sorted(data - kept)
+    assert log.rejected.reason.map(lambda r: isinstance(r, str) and len(r) > 5).all()

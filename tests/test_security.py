@@ -517,6 +517,18 @@ def test_nmea_fields_are_checked_by_pattern_behind_a_good_checksum(tmp_path, fie
     assert fragment in track.problems.reason[0], track.problems.reason[0]
 
 
+def test_an_nmea_sentence_cut_short_is_refused_by_its_line(tmp_path):
+    lines = [nmea("GPRMC,000000.00,A,3600.0000,N,01000.0000,W,7.0,230.0,051026,,"),
+             nmea("GPRMC,001000.00,A,3601.0000,N,01000.0000,W,7.0,230.0,051026,,")[:30],
+             "$GPGSV,3,1,11,03,03,111,00,04,15,270,00,06,01,010,00,13,06,292,00*74",  # another sentence: not a point
+             nmea("GPRMC,002000.00,A,3602.0000,N,01000.0000,W,7.0,230.0,051026,,")]
+    path = tmp_path / "t.nmea"
+    path.write_text("\n".join(lines) + "\n")
+    track = read_track(path)
+    assert len(track) == 2 and list(track.problems.point) == [2]
+    assert "without its checksum" in track.problems.reason[0]
+
+
 def test_a_csv_track_line_with_a_field_missing_is_refused_by_its_line(tmp_path):
     # issue 20: a missing field raised AttributeError; the line numbers shifted past blank lines
     path = tmp_path / "track.csv"

@@ -119,7 +119,7 @@ class ReadBudget:
         self._take("rows", rows, source, lambda total, limit: (
             f"{source}: the logs of this run hold {total:,} rows or more; navred holds at most {limit:,} rows at "
             "once (about a gigabyte of memory): split the logs, or reduce a long plain CSV log with navred reduce "
-            "--csv, which reads it in blocks"))
+            "--csv, which reads it in blocks when every row gives its fix_group and its DR"))
         self.take_cells(rows * max(columns, 1), source)
 
     def take_cells(self, cells: int, source: str) -> None:

@@ -320,6 +320,7 @@ def _read_gpx(data: bytes, file: Path, points: _Points) -> None:
 
 
 _SENTENCE = re.compile(r"\$(?P<body>[A-Z]{2}(?P<kind>RMC|GGA),[^*\r\n]*)\*(?P<sum>[0-9A-Fa-f]{2})")
+_KIND = re.compile(r"\$[A-Z]{2}(?:RMC|GGA),")
 #: The fields of an RMC or GGA sentence as NMEA 0183 writes them: each is checked against its pattern before it
 #: is read, so that a sign, a NaN or a stray letter behind a good checksum is refused, never read as something
 #: else (-500.0000,N is not 5° S).
@@ -384,7 +385,11 @@ def _read_nmea(text: str, file: Path, points: _Points) -> None:
     found = []
     for number, line in enumerate(text.splitlines(), start=1):
         if "$" in line:
-            found.extend((number, match) for match in _SENTENCE.finditer(line))
+            matches = list(_SENTENCE.finditer(line))
+            found.extend((number, match) for match in matches)
+            if not matches and _KIND.search(line):  # an RMC or GGA with no checksum: cut short, or damaged
+                points.refuse(number, "sentence", line.strip()[:80], "an RMC or GGA sentence without its checksum "
+                                                                     "(*hh): cut short or damaged")
     sums = _checksums([m.group("body") for _, m in found])
     sentences = []
     for (number, match), checksum in zip(found, sums.tolist()):

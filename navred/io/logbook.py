@@ -990,8 +990,8 @@ def _carried_motion(dr, parsed, gathered, times, is_entry, entries, rows, proble
 
 def _motion_missing(table: pd.DataFrame, usable: np.ndarray, gathered, problems) -> bool:
     """Refuse the sights of a running fix (taken more than :data:`RUN_MINUTES` before their group's last sight)
-    whose course or speed is blank with none to carry, where the log keeps them: read as a ship stopped, their
-    lines would be advanced wrongly. True when any was refused."""
+    whose course or speed is blank with none to carry, where other sights of the group give one: read as 0 kn
+    for that leg alone, their lines would be advanced wrongly. True when any was refused."""
     if not (gathered["course"].present or gathered["speed"].present) or not usable.any():
         return False
     ticks = table["sight_utc"].dt.tz_convert(None).to_numpy().astype("datetime64[ns]").astype(np.int64)
@@ -999,10 +999,14 @@ def _motion_missing(table: pd.DataFrame, usable: np.ndarray, gathered, problems)
     frame = pd.DataFrame({"group": groups[usable], "t": ticks[usable]})
     last = frame.groupby("group", sort=False)["t"].transform("max").to_numpy()
     rows = np.flatnonzero(usable)
-    early = rows[(last - frame["t"].to_numpy()) > RUN_MINUTES * 60e9]
+    early = (last - frame["t"].to_numpy()) > RUN_MINUTES * 60e9
     lacking = []
     for key, what in (("course", "course"), ("speed", "speed")):
-        missing = early[~np.isfinite(table[f"{key}_{'deg' if key == 'course' else 'kn'}"].to_numpy(dtype=float)[early])]
+        values = table[f"{key}_{'deg' if key == 'course' else 'kn'}"].to_numpy(dtype=float)[rows]
+        # only where the group keeps this motion on some sight: a group that keeps none is run from its rows'
+        # own DRs, or said to be taken as stopped, by the fix (navred.fix)
+        kept = frame.assign(given=np.isfinite(values)).groupby("group", sort=False)["given"].transform("any")
+        missing = rows[early & ~np.isfinite(values) & kept.to_numpy(dtype=bool)]
         for i in missing.tolist():
             lacking.append((i, key, what))
     if not lacking:

@@ -41,8 +41,7 @@ from ..errors import NavredError
 from .safexml import iterparse
 
 _MAIN = "{http://schemas.openxmlformats.org/spreadsheetml/2006/main}"
-_ROW, _CELL, _VALUE, _FORMULA, _INLINE, _TEXT, _SHEET_DATA, _SHARED, _RUN = (
-    f"{_MAIN}{t}" for t in ("row", "c", "v", "f", "is", "t", "sheetData", "si", "r"))
+_TEXT, _SHARED, _RUN = (f"{_MAIN}{t}" for t in ("t", "si", "r"))
 #: The same names as expat gives them with a namespace separator of one space.
 _X_ROW, _X_CELL, _X_VALUE, _X_FORMULA, _X_INLINE, _X_TEXT, _X_PHONETIC = (
     f"{_MAIN[1:-1]} {t}" for t in ("row", "c", "v", "f", "is", "t", "rPh"))

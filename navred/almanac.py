@@ -35,6 +35,7 @@ from .constants import (
     JD_J2000,
     MARS_RADIUS_KM,
     MOON_RADIUS_KM,
+    SECONDS_PER_DAY,
     SPEED_OF_LIGHT_AU_DAY,
     SPEED_OF_LIGHT_KM_S,
     SUN_RADIUS_KM,
@@ -44,8 +45,6 @@ from .ephemeris import SegmentCache
 from .errors import AngleInputError, BodyNameError, NavredError, failed_elements
 from .stars import canonical_body_name, star_catalogue_directions, star_table
 from .timescales import Instants, instants
-
-_SECONDS_PER_DAY = 86400.0
 
 
 @dataclass(frozen=True)
@@ -231,12 +230,12 @@ def _solar_system_places(name: str, frame: _Frame, rows):
     vector_t, velocity = _geocentric_state(name, frame, rows)
     speed = _norm(velocity)
     distance = _norm(vector_t)
-    light_time_days = distance / SPEED_OF_LIGHT_KM_S / _SECONDS_PER_DAY
+    light_time_days = distance / SPEED_OF_LIGHT_KM_S / SECONDS_PER_DAY
     vector = vector_t
     for _ in range(6):
         vector = vector_t - velocity * light_time_days[:, None]
         distance = _norm(vector)
-        previous, light_time_days = light_time_days, distance / SPEED_OF_LIGHT_KM_S / _SECONDS_PER_DAY
+        previous, light_time_days = light_time_days, distance / SPEED_OF_LIGHT_KM_S / SECONDS_PER_DAY
         if distance.size == 0 or np.max(np.abs(light_time_days - previous) * speed) < LIGHT_TIME_CONVERGED_KM:
             break
     direction = vector / distance[:, None]

@@ -15,7 +15,13 @@ from typing import Literal
 import numpy as np
 from numpy.typing import ArrayLike
 
-from .constants import ARCMIN_PER_DEG, DEG_PER_HOUR
+from .constants import (
+    ARCMIN_PER_DEG,
+    DEG_PER_HOUR,
+    MINUTES_PER_HOUR,
+    SECONDS_PER_HOUR,
+    SECONDS_PER_MINUTE,
+)
 from .errors import AngleInputError, failed_elements
 
 AngleKind = Literal["lat", "lon", "dec", "angle", "signed", "variation"]
@@ -406,10 +412,10 @@ def hms_from_hours(hours: ArrayLike, decimals: int = 2) -> tuple[np.ndarray, np.
     >>> [float(x) for x in hms_from_hours(5.999999)]
     [6.0, 0.0, 0.0]
     """
-    total_s = np.round(np.asarray(hours, dtype=float) * 3600.0, decimals)
-    h = np.floor(total_s / 3600.0 + 1e-12)
-    m = np.floor((total_s - h * 3600.0) / 60.0 + 1e-12)
-    s = np.round(total_s - h * 3600.0 - m * 60.0, decimals)
+    total_s = np.round(np.asarray(hours, dtype=float) * SECONDS_PER_HOUR, decimals)
+    h = np.floor(total_s / SECONDS_PER_HOUR + 1e-12)
+    m = np.floor((total_s - h * SECONDS_PER_HOUR) / SECONDS_PER_MINUTE + 1e-12)
+    s = np.round(total_s - h * SECONDS_PER_HOUR - m * SECONDS_PER_MINUTE, decimals)
     return h, m, s
 
 
@@ -449,4 +455,4 @@ def hours_from_hms(value: object) -> float | np.ndarray:
     if m >= 60 or s >= 60:
         raise AngleInputError(f"cannot read {value!r}: minutes and seconds must be below 60")
     sign = -1.0 if match.group(1).startswith("-") else 1.0
-    return sign * (abs(h) + m / 60.0 + s / 3600.0)
+    return sign * (abs(h) + m / MINUTES_PER_HOUR + s / SECONDS_PER_HOUR)

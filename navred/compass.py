@@ -27,12 +27,12 @@ from numpy.typing import ArrayLike
 
 from .almanac import places
 from .angles import wrap_180, wrap_360
+from .constants import NS_PER_MINUTE
 from .errors import NavredError
 from .plan import Track, amplitude_deg, magnitudes, sun_altitude_deg
 from .stars import known_bodies
 from .triangle import computed_altitude_azimuth
 
-_NS_PER_MINUTE = 60_000_000_000
 #: A body is offered for a compass bearing between these altitudes (degrees; common practice).
 BEARING_ALTITUDES_DEG = (3.0, 25.0)
 #: The brightest bodies only (a compass's sight vane needs a star easy to find): magnitude 1.5 or brighter.
@@ -52,7 +52,7 @@ def azimuth_table(bodies: ArrayLike, track: Track, start: object, end: object, s
     if not 1.0 <= float(step_minutes) <= 240.0:
         raise NavredError(f"an interval of {step_minutes} minutes: give 1 to 240 minutes")
     first, last = np.datetime64(start, "ns"), np.datetime64(end, "ns")
-    step = int(round(float(step_minutes) * _NS_PER_MINUTE))
+    step = int(round(float(step_minutes) * NS_PER_MINUTE))
     count = int((last - first).astype(np.int64) // step) + 1
     if count < 1 or count > 10_000:
         raise NavredError("the azimuth table would have no row or more than 10,000: check the times and the interval")
@@ -83,14 +83,14 @@ def _horizon_crossing(track: Track, near: np.ndarray, rising: bool) -> np.ndarra
     for k, guess in enumerate(near):
         if np.isnat(guess):
             continue
-        grid = guess + np.arange(-120, 121) * np.timedelta64(_NS_PER_MINUTE, "ns")
+        grid = guess + np.arange(-120, 121) * np.timedelta64(NS_PER_MINUTE, "ns")
         altitude = sun_altitude_deg(grid, track)
         cross = np.flatnonzero((altitude[:-1] <= 0) & (altitude[1:] > 0) if rising else
                                (altitude[:-1] > 0) & (altitude[1:] <= 0))
         if cross.size:
             i = cross[0]
             f = -altitude[i] / (altitude[i + 1] - altitude[i])
-            out[k] = grid[i] + np.timedelta64(int(round(f * _NS_PER_MINUTE)), "ns")
+            out[k] = grid[i] + np.timedelta64(int(round(f * NS_PER_MINUTE)), "ns")
     return out
 
 

@@ -10,7 +10,17 @@ from __future__ import annotations
 ARCMIN_PER_DEG = 60.0
 ARCSEC_PER_DEG = 3600.0
 DEG_PER_HOUR = 15.0  # 24 h of right ascension = 360 degrees (definition)
+SECONDS_PER_MINUTE = 60.0
+SECONDS_PER_HOUR = 3600.0
 SECONDS_PER_DAY = 86400.0
+MINUTES_PER_HOUR = 60.0
+HOURS_PER_DAY = 24.0
+MINUTES_PER_DAY = 1440.0
+#: Instants are numpy datetime64[ns] (UTC); these turn their int64 nanoseconds into whole units.
+NS_PER_SECOND = 1_000_000_000
+NS_PER_MINUTE = 60 * NS_PER_SECOND
+NS_PER_HOUR = 60 * NS_PER_MINUTE
+NS_PER_DAY = 24 * NS_PER_HOUR
 DAYS_PER_JULIAN_YEAR = 365.25  # IAU definition of the Julian year
 NM_PER_ARCMIN = 1.0  # one nautical mile is one arcminute of a great circle (common practice)
 METRES_PER_NM = 1852.0  # international nautical mile (1929 convention)

@@ -34,7 +34,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .angles import format_angle, wrap_180, wrap_360
-from .constants import ARCMIN_PER_DEG
+from .constants import ARCMIN_PER_DEG, NS_PER_HOUR
 from .errors import NavredError, failed_elements
 from .sailings import rhumb_inverse, rhumb_track_through
 from .stats import chi_square_2_quantile, chi_square_quantile, f_2_quantile, student_t_quantile
@@ -863,7 +863,7 @@ def _fix_batch(sights: _Sights, group: np.ndarray, n_groups: int, ok: np.ndarray
     index = np.where(present, index, last_row[:, None])
     fix_time = fix_time_given[work]
     fix_time = np.where(np.isnat(fix_time), s.utc[last_row], fix_time)
-    hours = (s.utc[index] - fix_time[:, None]).astype("timedelta64[ns]").astype(np.int64) / 3.6e12
+    hours = (s.utc[index] - fix_time[:, None]).astype("timedelta64[ns]").astype(np.int64) / NS_PER_HOUR
     vn, ve, run_from = _run_velocities(s, index, present, hours)
     track = Track(hours, vn, ve)
     g_gha, g_dec, g_ho = s.gha[index], s.dec[index], s.ho[index]
@@ -977,7 +977,7 @@ def _fix_batch(sights: _Sights, group: np.ndarray, n_groups: int, ok: np.ndarray
 def _dr_age_at_fix(s: _Sights, last_row: np.ndarray, fix_time: np.ndarray) -> np.ndarray:
     """The age (hours) of each group's DR at the fix time: its last sight's DR's age and the time since (a
     DR of unknown age is taken as UNKNOWN_DR_AGE_H old)."""
-    since = np.abs((fix_time - s.utc[last_row]).astype("timedelta64[ns]").astype(np.int64) / 3.6e12)
+    since = np.abs((fix_time - s.utc[last_row]).astype("timedelta64[ns]").astype(np.int64) / NS_PER_HOUR)
     age = s.dr_age_h[last_row]
     return np.where(np.isfinite(age), np.abs(age) + since, UNKNOWN_DR_AGE_H)
 

@@ -28,7 +28,7 @@ from numpy.typing import ArrayLike
 
 from .almanac import phase_angle_deg, places
 from .angles import wrap_360
-from .constants import ARCMIN_PER_DEG
+from .constants import ARCMIN_PER_DEG, NS_PER_DAY, NS_PER_HOUR
 from .corrections import (
     PHASE_CENTROID_FACTOR,
     bennett_refraction_arcmin,
@@ -37,9 +37,6 @@ from .corrections import (
 )
 from .errors import NavredError
 from .stars import star_table
-
-_NS_PER_HOUR = 3_600_000_000_000
-_NS_PER_DAY = 24 * _NS_PER_HOUR
 
 #: The bodies of the hourly pages, in the order of their columns.
 HOURLY_BODIES = ("Aries", "Sun", "Moon", "Venus", "Mars", "Jupiter", "Saturn")
@@ -123,7 +120,7 @@ def hourly_table(first_date: object, days: int, bodies: tuple[str, ...] = HOURLY
     """The hourly GHA, Dec and HP of ``bodies`` ("Aries" for the first point of Aries) over ``days`` UTC
     dates from ``first_date``, rounded as printed."""
     _check_days(days)
-    hours = _day_start(first_date) + np.arange(24 * int(days) + 1) * np.timedelta64(_NS_PER_HOUR, "ns")
+    hours = _day_start(first_date) + np.arange(24 * int(days) + 1) * np.timedelta64(NS_PER_HOUR, "ns")
     from .timescales import instants
 
     inst = instants(hours, dut1_s)
@@ -147,10 +144,10 @@ def hourly_value_at(table: HourlyTable, body: str, utc64: ArrayLike, what: str =
     """A body's GHA or Dec (degrees) or HP (arcminutes) at instants, by the page's rule from the printed hours."""
     when = np.asarray(utc64, dtype="datetime64[ns]")
     offset = (when - table.hours[0]).astype(np.int64)
-    row = offset // _NS_PER_HOUR
+    row = offset // NS_PER_HOUR
     if np.any(row < 0) or np.any(row >= table.hours.size - 1):
         raise NavredError("an instant outside the hourly table's dates")
-    fraction = (offset - row * _NS_PER_HOUR) / _NS_PER_HOUR
+    fraction = (offset - row * NS_PER_HOUR) / NS_PER_HOUR
     values = {"gha": table.gha_deg, "dec": table.dec_deg, "hp": table.hp_arcmin}[what][table.column(body)]
     return interpolate_printed(values[row], values[row + 1], fraction, gha=what == "gha")
 
@@ -185,7 +182,7 @@ def star_blocks(first_date: object, days: int, block_days: int = STAR_BLOCK_DAYS
     blocks = []
     for first in range(0, int(days), block_days):
         last = min(first + block_days, int(days)) - 1
-        epoch = start.astype("datetime64[ns]") + np.timedelta64((first + last + 1) * _NS_PER_DAY // 2, "ns")
+        epoch = start.astype("datetime64[ns]") + np.timedelta64((first + last + 1) * NS_PER_DAY // 2, "ns")
         p = places(np.asarray(table.name, dtype=object), np.full(len(table.name), epoch))
         blocks.append(StarBlock(start + np.timedelta64(first, "D"), start + np.timedelta64(last, "D"), epoch,
                                 np.asarray(table.name), np.asarray(table.number), np.asarray(table.magnitude),
@@ -196,7 +193,7 @@ def star_blocks(first_date: object, days: int, block_days: int = STAR_BLOCK_DAYS
 def daily_places(body: str, first_date: object, days: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """A body's SHA and Dec (degrees, printed) at 00:00 UTC of each date: (dates, sha_deg, dec_deg)."""
     _check_days(days)
-    dates = _day_start(first_date) + np.arange(int(days)) * np.timedelta64(_NS_PER_DAY, "ns")
+    dates = _day_start(first_date) + np.arange(int(days)) * np.timedelta64(NS_PER_DAY, "ns")
     p = places(body, dates)
     return dates.astype("datetime64[D]"), np.asarray(wrap_360(printed_deg(p.sha_deg))), printed_deg(p.dec_deg)
 
@@ -292,7 +289,7 @@ class DailyFigures:
 def daily_figures(first_date: object, days: int) -> DailyFigures:
     """The Sun's SD and the phase and parallax of Venus and Mars for each date, printed to 0.1′."""
     _check_days(days)
-    dates = _day_start(first_date) + np.arange(int(days)) * np.timedelta64(_NS_PER_DAY, "ns")
+    dates = _day_start(first_date) + np.arange(int(days)) * np.timedelta64(NS_PER_DAY, "ns")
     from .timescales import instants
 
     inst = instants(dates)

@@ -34,7 +34,13 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .almanac import places
-from .constants import ARCMIN_PER_DEG, DEFAULT_PRESSURE_HPA, DEFAULT_TEMPERATURE_C
+from .constants import (
+    ARCMIN_PER_DEG,
+    DEFAULT_PRESSURE_HPA,
+    DEFAULT_TEMPERATURE_C,
+    NS_PER_MINUTE,
+    NS_PER_SECOND,
+)
 from .corrections import (
     bennett_refraction_arcmin,
     observer_geometry,
@@ -45,8 +51,6 @@ from .errors import NavredError, NavredWarning
 from .stars import canonical_body_name
 from .timescales import utc_jd_to_datetime64, utc_julian_date
 from .triangle import computed_altitude_azimuth
-
-_NS = 1_000_000_000
 
 
 @dataclass
@@ -210,7 +214,7 @@ def lunar_distance(observed_distance_deg: float, other: str, utc_approx: object,
     # Newton's method on f(t) = cleared(t) − almanac(t): with computed altitudes the clearing
     # itself changes with the trial time (the Moon's parallax), so both sides are differenced
     t = given
-    step = np.timedelta64(60 * _NS, "ns")
+    step = np.timedelta64(NS_PER_MINUTE, "ns")
     iterations = 0
     for _ in range(10):
         iterations += 1
@@ -221,7 +225,7 @@ def lunar_distance(observed_distance_deg: float, other: str, utc_approx: object,
             raise NavredError("the distance is not changing (the bodies are near conjunction or opposition): "
                               "choose another body for the lunar")
         correction_s = -f_now / slope
-        t = t + np.timedelta64(int(round(correction_s * _NS)), "ns")
+        t = t + np.timedelta64(int(round(correction_s * NS_PER_SECOND)), "ns")
         if abs(correction_s) < 0.01:
             break
     f_now, cleared, apparent, a_m, a_o, zn_o = clearing_at(t)
@@ -233,7 +237,7 @@ def lunar_distance(observed_distance_deg: float, other: str, utc_approx: object,
         longitude = _time_sight_longitude(other, t, lat_deg, a_o, temperature_c, pressure_hpa, zn_o)
         source = f"time sight of {other} at the cleared UTC and the DR latitude"
     return LunarResult(utc=t, cleared_distance_deg=cleared, apparent_distance_deg=apparent,
-                       chronometer_error_s=float((given - t).astype(np.int64)) / _NS,
+                       chronometer_error_s=float((given - t).astype(np.int64)) / NS_PER_SECOND,
                        seconds_per_tenth_arcmin=abs((0.1 / ARCMIN_PER_DEG) / rate),
                        longitude_deg=longitude, longitude_from=source, moon_apparent_altitude_deg=a_m,
                        other_apparent_altitude_deg=a_o, iterations=iterations)

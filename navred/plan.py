@@ -18,7 +18,7 @@ from numpy.typing import ArrayLike
 
 from .almanac import places
 from .angles import wrap_180
-from .constants import ARCMIN_PER_DEG
+from .constants import ARCMIN_PER_DEG, MINUTES_PER_DAY, NS_PER_HOUR, NS_PER_MINUTE
 from .corrections import DIP_ARCMIN_PER_SQRT_M, refraction_arcmin
 from .errors import NavredError, api_boundary
 from .fix import velocity_kn
@@ -31,7 +31,6 @@ from .triangle import computed_altitude_azimuth
 #: refraction at the horizon 34′ and the semi-diameter 16′ (common practice; the almanac's value).
 SUNRISE_ALTITUDE_DEG = -50.0 / 60.0
 CIVIL_DEG, NAUTICAL_DEG = -6.0, -12.0
-_NS_PER_HOUR = 3_600_000_000_000
 SAMPLE_MINUTES = 10
 EVENT_KEYS = ("nautical_dawn", "civil_dawn", "sunrise", "meridian_passage", "sunset", "civil_dusk",
               "nautical_dusk")
@@ -49,7 +48,7 @@ class Track:
 
     def position(self, utc64):
         """DR latitude and longitude (degrees) at the instants ``utc64`` (datetime64 array)."""
-        hours = (np.asarray(utc64, dtype="datetime64[ns]") - self.start).astype(np.int64) / _NS_PER_HOUR
+        hours = (np.asarray(utc64, dtype="datetime64[ns]") - self.start).astype(np.int64) / NS_PER_HOUR
         # the rhumb line steered, on the WGS 84 ellipsoid (hours before the start run it backwards)
         return rhumb_destination(self.lat_deg, self.lon_deg, np.where(hours >= 0, self.course_deg,
                                                                       self.course_deg + 180.0),
@@ -76,7 +75,7 @@ def _local_midnight(date, lon_deg: float) -> np.datetime64:
         date = str(date.astype("datetime64[D]"))
     year, month, day_of_month = parse_date(date if isinstance(date, str) else date, declarable=False)
     day = np.datetime64(f"{year:04d}-{month:02d}-{day_of_month:02d}", "D").astype("datetime64[ns]")
-    return day - np.timedelta64(int(round(lon_deg / 15.0 * _NS_PER_HOUR)), "ns")
+    return day - np.timedelta64(int(round(lon_deg / 15.0 * NS_PER_HOUR)), "ns")
 
 
 def sun_altitude_deg(utc64: object, track: Track) -> np.ndarray:
@@ -91,7 +90,7 @@ def sun_altitude_deg(utc64: object, track: Track) -> np.ndarray:
 def _crossings(day_starts, track: Track, thresholds_deg):
     """For each day and threshold: the first rising and the first setting crossing (NaT if none)."""
     steps = np.arange(0, 24 * 60 + SAMPLE_MINUTES, SAMPLE_MINUTES)
-    times = day_starts[:, None] + (steps * 60_000_000_000).astype("timedelta64[ns]")[None, :]
+    times = day_starts[:, None] + (steps * NS_PER_MINUTE).astype("timedelta64[ns]")[None, :]
     altitude = sun_altitude_deg(times, track)
     rising, setting = {}, {}
     for name, threshold in thresholds_deg.items():
@@ -134,15 +133,15 @@ def meridian_passage_utc(body: str, day_starts: object, track: Track, lower: boo
     starts = np.asarray(day_starts, dtype="datetime64[ns]")
     rate = 15.041 if body not in SOLAR_SYSTEM else 15.0  # degrees of LHA an hour (common practice)
     rate += track.lon_rate_deg_per_hour
-    guess = starts + np.timedelta64(12 * _NS_PER_HOUR, "ns")
+    guess = starts + np.timedelta64(12 * NS_PER_HOUR, "ns")
     target = 180.0 if lower else 0.0
     for _ in range(6):
         lat, lon = track.position(guess)
         p = places(body, guess)
         lha = wrap_180(p.gha_deg + lon - target)
-        guess = guess - (lha / rate * _NS_PER_HOUR).astype(np.int64).astype("timedelta64[ns]")
+        guess = guess - (lha / rate * NS_PER_HOUR).astype(np.int64).astype("timedelta64[ns]")
     # bring each passage into its day (a body transits once in about 24 hours)
-    day = np.timedelta64(24 * _NS_PER_HOUR, "ns") * (360.0 / 360.9856 if body not in SOLAR_SYSTEM else 1.0)
+    day = np.timedelta64(24 * NS_PER_HOUR, "ns") * (360.0 / 360.9856 if body not in SOLAR_SYSTEM else 1.0)
     early = guess < starts
     guess = np.where(early, guess + day.astype("timedelta64[ns]"), guess)
     return guess
@@ -195,15 +194,15 @@ def voyage_events(first_date: object, days: int, lat_deg: float, lon_deg: float,
     start = _local_midnight(first_date, lon_deg)
     track = Track(lat_deg, lon_deg, start, course_deg, speed_kn)
     # each day starts at local midnight at that day's DR longitude (near enough: iterate once)
-    day_starts = start + np.arange(days) * np.timedelta64(24 * _NS_PER_HOUR, "ns")
+    day_starts = start + np.arange(days) * np.timedelta64(24 * NS_PER_HOUR, "ns")
     _, lons = track.position(day_starts)
-    shift = ((wrap_180(lons - lon_deg)) / 15.0 * _NS_PER_HOUR).astype(np.int64).astype("timedelta64[ns]")
+    shift = ((wrap_180(lons - lon_deg)) / 15.0 * NS_PER_HOUR).astype(np.int64).astype("timedelta64[ns]")
     day_starts = day_starts - shift
     dip_deg = DIP_ARCMIN_PER_SQRT_M * math.sqrt(eye_height_m) / ARCMIN_PER_DEG
     rising, setting, _, _ = _crossings(day_starts, track, {
         "sunrise": SUNRISE_ALTITUDE_DEG - dip_deg, "civil": CIVIL_DEG, "nautical": NAUTICAL_DEG})
     noon = meridian_passage_utc("Sun", day_starts, track)
-    return {"date": (day_starts + np.timedelta64(12 * _NS_PER_HOUR, "ns")).astype("datetime64[D]"),
+    return {"date": (day_starts + np.timedelta64(12 * NS_PER_HOUR, "ns")).astype("datetime64[D]"),
             "nautical_dawn": rising["nautical"], "civil_dawn": rising["civil"], "sunrise": rising["sunrise"],
             "meridian_passage": noon, "sunset": setting["sunrise"], "civil_dusk": setting["civil"],
             "nautical_dusk": setting["nautical"], "track": track}
@@ -221,7 +220,7 @@ def noon_sight(date: object, lat_deg: float, lon_deg: float, course_deg: float =
 
 def body_meridian_passage(body: str, near_utc: object, track: Track) -> dict:
     """A body's upper meridian passage nearest ``near_utc`` at the DR, and its altitude then."""
-    start = np.asarray([as_datetime64(near_utc) - np.timedelta64(12 * _NS_PER_HOUR, "ns")])
+    start = np.asarray([as_datetime64(near_utc) - np.timedelta64(12 * NS_PER_HOUR, "ns")])
     utc = meridian_passage_utc(body, start, track)[0]
     lat, lon = track.position(np.array([utc]))
     p = places(body, np.array([utc]))
@@ -478,8 +477,8 @@ def daytime_fix_windows(first_date: object, days: int, lat_deg: float, lon_deg: 
     limit = DAY_CROSSING_DEG if min_crossing_deg is None else min_crossing_deg
     _check_position(lat_deg, lon_deg)
     start = _local_midnight(first_date, lon_deg)
-    step = np.timedelta64(int(step_minutes * 60e9), "ns")
-    grid = start + np.arange(int(days * 1440 / step_minutes) + 1) * step
+    step = np.timedelta64(int(step_minutes * NS_PER_MINUTE), "ns")
+    grid = start + np.arange(int(days * MINUTES_PER_DAY / step_minutes) + 1) * step
     track = Track(lat_deg, lon_deg, start, course_deg, speed_kn)
     lat, lon = track.position(grid)
     bodies = ["Moon", "Venus", "Jupiter", "Mars"]

@@ -24,6 +24,7 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import ArrayLike
 
+from .constants import SECONDS_PER_DAY
 from .errors import NavredError
 from .stats import f_2_quantile, student_t_quantile
 
@@ -146,7 +147,8 @@ def error_in_half_day(reading_minus_signal_s: ArrayLike) -> np.ndarray:
     """A reading less the signal's time, as an error within ±12 hours (seconds): a watch that reads
     23:59:57 at a signal at 00:00:01 is 4 s slow, not 86,396 s fast."""
     d = np.asarray(reading_minus_signal_s, dtype=float)
-    return (d + 43200.0) % 86400.0 - 43200.0
+    half_day = SECONDS_PER_DAY / 2.0
+    return (d + half_day) % SECONDS_PER_DAY - half_day
 
 
 __all__ = ["RateFit", "fit_rate", "residuals_s", "RateChange", "rate_change", "error_in_half_day",

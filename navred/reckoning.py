@@ -23,7 +23,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .angles import wrap_180, wrap_360
-from .constants import METRES_PER_NM
+from .constants import METRES_PER_NM, NS_PER_HOUR
 from .errors import NavredError
 from .sailings import (
     latitude_from_meridian_arc_deg,
@@ -34,7 +34,6 @@ from .sailings import (
 )
 from .triangle import destination
 
-NS_PER_HOUR = 3_600_000_000_000
 #: The meridian arc from the equator to a pole (m): a rhumb line that would run farther north or south ends at
 #: the pole (it spirals into it), so a DR carried beyond it has no position and is refused, never clamped.
 POLE_ARC_M = float(meridian_arc_m(90.0))
@@ -313,5 +312,4 @@ def days_run(noon_ns: ArrayLike, lat_deg: ArrayLike, lon_deg: ArrayLike) -> Days
 
 
 __all__ = ["DRTrack", "dr_track", "estimated_position", "SetDrift", "set_and_drift", "ship_noon_ns",
-           "zone_description_h", "DaysRun", "days_run", "velocity_kn", "course_speed", "ReckoningError",
-           "NS_PER_HOUR"]
+           "zone_description_h", "DaysRun", "days_run", "velocity_kn", "course_speed", "ReckoningError"]

@@ -17,7 +17,7 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import ArrayLike
 
-from .constants import ARCMIN_PER_DEG
+from .constants import ARCMIN_PER_DEG, NS_PER_MINUTE
 
 #: sights of one body by one observer closer together than this make a series (common practice)
 SERIES_GAP_MINUTES = 5.0
@@ -35,7 +35,7 @@ def series_ids(times_ns: ArrayLike, body: ArrayLike, observer: ArrayLike, given:
     n = t.size
     labels = np.empty(n, dtype=object)
     order = np.lexsort((t, body, observer))
-    gap = np.diff(t[order]) > SERIES_GAP_MINUTES * 60e9
+    gap = np.diff(t[order]) > SERIES_GAP_MINUTES * NS_PER_MINUTE
     new = np.concatenate([[True], gap | (body[order][1:] != body[order][:-1])
                           | (observer[order][1:] != observer[order][:-1])])
     ids = np.empty(n, dtype=int)

@@ -23,7 +23,15 @@ import erfa
 import numpy as np
 from numpy.typing import ArrayLike
 
-from .constants import JD_J2000, SECONDS_PER_DAY, TT_MINUS_TAI_S
+from .constants import (
+    JD_J2000,
+    NS_PER_DAY,
+    NS_PER_SECOND,
+    SECONDS_PER_DAY,
+    SECONDS_PER_HOUR,
+    SECONDS_PER_MINUTE,
+    TT_MINUS_TAI_S,
+)
 from .errors import NavredWarning, TimeInputError, failed_elements
 
 #: The span navred accepts: the JPL DE421 ephemeris covers 1899-07-29 to 2053-10-09.
@@ -194,10 +202,10 @@ def _components_from_datetime64(values: np.ndarray):
     year = years.astype(int) + 1970
     month = (months - years).astype(int) + 1
     day = (days - months).astype(int) + 1
-    seconds_of_day = (ns - days).astype("timedelta64[ns]").astype(np.int64) / 1e9
-    hour = (seconds_of_day // 3600).astype(int)
-    minute = ((seconds_of_day - hour * 3600) // 60).astype(int)
-    second = seconds_of_day - hour * 3600 - minute * 60
+    seconds_of_day = (ns - days).astype("timedelta64[ns]").astype(np.int64) / NS_PER_SECOND
+    hour = (seconds_of_day // SECONDS_PER_HOUR).astype(int)
+    minute = ((seconds_of_day - hour * SECONDS_PER_HOUR) // SECONDS_PER_MINUTE).astype(int)
+    second = seconds_of_day - hour * SECONDS_PER_HOUR - minute * SECONDS_PER_MINUTE
     return year, month, day, hour, minute, second, np.zeros(values.shape)
 
 
@@ -423,7 +431,6 @@ def utc_julian_date(utc: object) -> tuple[np.ndarray, np.ndarray]:
     return jd1, jd2
 
 
-_NS_PER_DAY = 86_400_000_000_000
 _UNIX_EPOCH_JD = 2440587.5
 _FAST_START_MJD = 41317.0  # 1972-01-01: from here TAI − UTC is a whole number of seconds
 
@@ -460,13 +467,13 @@ def _utc_julian_date_from_datetime64(values: np.ndarray) -> tuple[np.ndarray, np
     ns = values.astype("datetime64[ns]")
     if np.isnat(ns).any():
         return None
-    days, rest = np.divmod(ns.astype(np.int64), _NS_PER_DAY)
+    days, rest = np.divmod(ns.astype(np.int64), NS_PER_DAY)
     mjd = days + (_UNIX_EPOCH_JD - _MJD0)
     _, covered = tai_minus_utc_fast_s(mjd.astype(float))
     if not covered.all() or (days > (_END_JD - _UNIX_EPOCH_JD - 1)).any():
         return None
     # the layout of ERFA's dtf2d: the Julian date of 0h, and the fraction of the day
-    return days + _UNIX_EPOCH_JD, rest / _NS_PER_DAY
+    return days + _UNIX_EPOCH_JD, rest / NS_PER_DAY
 
 
 _DIGITS = (0, 1, 2, 3, 5, 6, 8, 9, 11, 12, 14, 15, 17, 18)

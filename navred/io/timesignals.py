@@ -23,6 +23,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from ..constants import NS_PER_DAY
 from ..errors import NavredError, api_boundary
 from ..rating import RateChange, RateFit, error_in_half_day, fit_rate, rate_change, residuals_s
 from ..timescales import utc_jd_to_datetime64, utc_julian_date, utc_julian_date_from_components
@@ -41,13 +42,12 @@ _HEADERS = {spelling: key for key, spellings in RATING_COLUMNS.items() for spell
 REJECTED_COLUMNS = ["source", "row", "column", "value", "reason"]
 #: A prediction further than this beyond the comparisons (days) is noted: the rate may have changed.
 EXTRAPOLATION_NOTE_DAYS = 30.0
-_DAY_NS = 86_400_000_000_000
 _EPOCH = np.datetime64("2000-01-01T00:00:00", "ns")
 
 
 def days_of(utc64: np.ndarray) -> np.ndarray:
     """Instants (datetime64[ns] UTC) as days since 2000-01-01 (the rating's time scale)."""
-    return (np.asarray(utc64, dtype="datetime64[ns]") - _EPOCH).astype(np.int64) / _DAY_NS
+    return (np.asarray(utc64, dtype="datetime64[ns]") - _EPOCH).astype(np.int64) / NS_PER_DAY
 
 
 @dataclass

@@ -22,6 +22,7 @@ import numpy as np
 import pandas as pd
 
 from ..angles import parse_angle
+from ..constants import NS_PER_HOUR
 from ..errors import NavredError, api_boundary
 from ..timescales import (
     instant_components,
@@ -66,7 +67,7 @@ class ReferenceTrack:
 
     def gaps(self) -> list[tuple[np.datetime64, np.datetime64]]:
         """The stretches between two points longer than the gap limit (not bridged)."""
-        hours = np.diff(self.utc).astype("timedelta64[ns]").astype(np.int64) / 3.6e12
+        hours = np.diff(self.utc).astype("timedelta64[ns]").astype(np.int64) / NS_PER_HOUR
         at = np.flatnonzero(hours > self.max_gap_hours)
         return [(self.utc[i], self.utc[i + 1]) for i in at]
 
@@ -84,7 +85,7 @@ class ReferenceTrack:
         for start, end in self.gaps():
             a, b = float(start.astype("datetime64[ns]").astype(np.int64)), float(end.astype("datetime64[ns]").astype(np.int64))
             inside_gap = (when > a) & (when < b)
-            hours = (b - a) / 3.6e12
+            hours = (b - a) / NS_PER_HOUR
             reason[inside_gap] = (f"inside a gap of {hours:.1f} h in the reference track ({str(start)[:16]} to "
                                   f"{str(end)[:16]} UTC), longer than the {self.max_gap_hours:g} h it bridges: not marked")
         lon = np.degrees(np.unwrap(np.radians(self.lon_deg)))

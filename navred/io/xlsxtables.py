@@ -28,12 +28,12 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
+from ..constants import NS_PER_DAY
 from ..errors import NavredError
 from .readers import MAX_CELL_CHARS
 
 _ILLEGAL_IN_XML = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
 _EXCEL_EPOCH = np.datetime64("1899-12-30T00:00:00", "ns")  # serial date 0 of the 1900 date system
-_NS_PER_DAY = 86_400_000_000_000
 _MAIN = "http://schemas.openxmlformats.org/spreadsheetml/2006/main"
 _RELS = "http://schemas.openxmlformats.org/package/2006/relationships"
 _OFFICE_RELS = "http://schemas.openxmlformats.org/officeDocument/2006/relationships"
@@ -58,7 +58,7 @@ def _escaped(value: str) -> str:
 def _serial(values: np.ndarray) -> np.ndarray:
     """Spreadsheet serial dates (days since 1899-12-30) of naive datetime64 values."""
     ns = (values.astype("datetime64[ns]") - _EXCEL_EPOCH).astype(np.int64)
-    return ns / _NS_PER_DAY
+    return ns / NS_PER_DAY
 
 
 def _python_value(value):

@@ -15,6 +15,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..angles import format_angle
+from ..constants import NS_PER_MINUTE
 from ..plan import (
     EVENT_KEYS,
     DayWindow,
@@ -28,8 +29,6 @@ from ..plan import (
 )
 from ..presets import SightPresets, preset_hs_deg, sight_presets
 from ..reckoning import zone_description_h
-
-_NS_PER_MINUTE = 60_000_000_000
 
 
 def signed(value: float, decimals: int = 1) -> str:
@@ -48,7 +47,7 @@ def dm(angle_deg: float, kind: str = "angle") -> str:
 def to_minute(utc64) -> np.datetime64:
     """An instant rounded to the nearest whole minute."""
     ns = np.datetime64(utc64, "ns").astype(np.int64)
-    return np.datetime64(int(round(ns / _NS_PER_MINUTE)) * _NS_PER_MINUTE, "ns")
+    return np.datetime64(int(round(ns / NS_PER_MINUTE)) * NS_PER_MINUTE, "ns")
 
 
 def hm(utc64) -> str:

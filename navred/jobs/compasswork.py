@@ -21,11 +21,10 @@ from ..compass import (
     gyro_error_deg,
     twilight_bearing_bodies,
 )
+from ..constants import NS_PER_MINUTE
 from ..errors import NavredError
 from ..plan import compass_error_deg, deviation_deg, true_azimuth, voyage_events
 from .bridge import dm, hm, provenance_line, signed, to_minute, zone_for, zone_text, zone_time
-
-_NS_PER_MINUTE = 60_000_000_000
 
 
 def _east_west(value: float) -> str:
@@ -109,7 +108,7 @@ def watch_azimuths(first_date: object, days: int, lat_deg: float, lon_deg: float
     track = events["track"]
     sun_rows, twilight_rows, rise_rows = [], [], []
     found: Amplitudes = amplitudes(events)
-    step = np.timedelta64(int(round(step_minutes * _NS_PER_MINUTE)), "ns")
+    step = np.timedelta64(int(round(step_minutes * NS_PER_MINUTE)), "ns")
     for d in range(len(events["date"])):
         date = events["date"][d]
         noon_lon = float(track.position(np.array([events["meridian_passage"][d]]))[1][0])

@@ -26,9 +26,9 @@ import numpy as np
 import pandas as pd
 
 from ..angles import format_angle
+from ..constants import NS_PER_HOUR, NS_PER_SECOND
 from ..fix import DR_ERROR_FRACTION, DR_ERROR_KN
 from ..reckoning import (
-    NS_PER_HOUR,
     PAST_POLE,
     DRTrack,
     course_speed,
@@ -44,7 +44,6 @@ from .frames import utc64
 
 #: A fix or an estimated position this close to noon (either side) gives the noon position.
 NOON_WINDOW_HOURS = 1.0
-NS_PER_SECOND = 1_000_000_000
 #: The DR track is drawn and exported with a point at least this often (hours), and at every knot.
 TRACK_STEP_HOURS = 1.0
 

@@ -26,7 +26,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..angles import wrap_360
-from ..constants import ARCMIN_PER_DEG
+from ..constants import ARCMIN_PER_DEG, NS_PER_HOUR
 from ..errors import NavredError
 from ..handtables import (
     MAX_DAYS,
@@ -63,8 +63,6 @@ from .bridge import (
     zone_text,
 )
 
-_NS_PER_MINUTE = 60_000_000_000
-_NS_PER_HOUR = 60 * _NS_PER_MINUTE
 PLANETS = ("Venus", "Mars", "Jupiter", "Saturn")
 
 
@@ -454,7 +452,7 @@ def _polaris_pages(first, days) -> list[Page]:
                   width_fraction=0.6)
     for start in range(0, days, POLARIS_BLOCK_DAYS):
         end = min(start + POLARIS_BLOCK_DAYS, days)
-        epoch = first.astype("datetime64[ns]") + np.timedelta64((start + end) * 12 * _NS_PER_HOUR, "ns")
+        epoch = first.astype("datetime64[ns]") + np.timedelta64((start + end) * 12 * NS_PER_HOUR, "ns")
         table = polaris_table(epoch)
         rows = []
         for tens in range(36):
@@ -528,8 +526,8 @@ def _worked_sight(twilights, hourly, stars, eye_height_m, index_error_arcmin) ->
     k = int(np.flatnonzero(block.names == star)[0])
     sha, dec = float(block.sha_deg[k]), float(block.dec_deg[k])
     offset = (when - hourly.hours[0]).astype(np.int64)
-    row = int(offset // _NS_PER_HOUR)
-    f = (offset - row * _NS_PER_HOUR) / _NS_PER_HOUR
+    row = int(offset // NS_PER_HOUR)
+    f = (offset - row * NS_PER_HOUR) / NS_PER_HOUR
     aries = hourly.gha_deg[hourly.column("Aries")]
     gha_aries = float(hourly_value_at(hourly, "Aries", np.array([when]))[0])
     dip = round(DIP_ARCMIN_PER_SQRT_M * math.sqrt(eye_height_m), 1)
@@ -584,7 +582,7 @@ def _blank_forms(track, first, days) -> list[Page]:
              "working: it is the record of the sight.", "small"), working))]
     hours = np.arange(0, days * 24 + 1, 6)
     start = first.astype("datetime64[ns]")
-    lats, _ = track.position(start + hours * np.timedelta64(_NS_PER_HOUR, "ns"))
+    lats, _ = track.position(start + hours * np.timedelta64(NS_PER_HOUR, "ns"))
     for band in plotting_bands(lats)[:6]:
         pages.append(Page("", (Drawing(blank_plotting_sheet(band)),)))
     log = Table(("Date", "Zone time", "Log nm", "Course °T", "Speed kn", "Run nm", "DR lat", "DR lon", "Set, drift",

@@ -18,7 +18,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from ..constants import ARCMIN_PER_DEG
+from ..constants import ARCMIN_PER_DEG, SECONDS_PER_DAY
 from ..io.track import ReferenceTrack
 from ..stars import SOLAR_SYSTEM
 from ..stats import student_t_quantile
@@ -57,7 +57,7 @@ def _summaries(frame: pd.DataFrame, keys: list[str]) -> pd.DataFrame:
         scatter = float(good.std(ddof=1)) if n_good > 1 else np.nan
         se = scatter / np.sqrt(n_good) if n_good > 1 else np.nan
         half = float(student_t_quantile(0.975, n_good - 1)) * se if n_good > 1 else np.nan
-        days = (part.sight_utc - part.sight_utc.min()).dt.total_seconds().to_numpy() / 86400.0
+        days = (part.sight_utc - part.sight_utc.min()).dt.total_seconds().to_numpy() / SECONDS_PER_DAY
         slope = slope_se = np.nan
         if n_good >= 3 and np.ptp(days[~blunder]) > 1.0:
             x = days[~blunder]

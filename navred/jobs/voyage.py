@@ -22,6 +22,7 @@ import pandas as pd
 
 from .. import __version__
 from ..angles import format_angle
+from ..constants import DEG_PER_HOUR, NS_PER_HOUR
 from ..ephemeris import EPHEMERIS_NAME
 from ..errors import NavredError, api_boundary
 from ..fix import SEXTANT_SIGMA_LIMIT_ARCMIN, FixResult, fixes_from_sights
@@ -289,7 +290,7 @@ def dr_context(log: SightLog, reduced: pd.DataFrame, groups: list[GroupFix], *, 
             origin[at_start] = track.kept.positions(when[rows][at_start])[2]
         known = origin >= 0
         start = track.kept.knot_ns[np.maximum(origin, 0)]
-        out["age_h"][rows] = np.where(known, (when[rows] - start) / 3.6e12, np.nan)
+        out["age_h"][rows] = np.where(known, (when[rows] - start) / NS_PER_HOUR, np.nan)
     return out
 
 
@@ -465,7 +466,7 @@ def _next_twilight_plan(voyage: VoyageResult):
     speed = float(np.nan_to_num(last_row.get("speed_kn", 0.0)))
     fix = latest.fix
     when = np.datetime64(fix.utc, "ns")
-    date = str((when + np.timedelta64(int(fix.lon_deg / 15 * 3.6e12), "ns")).astype("datetime64[D]"))
+    date = str((when + np.timedelta64(int(fix.lon_deg / DEG_PER_HOUR * NS_PER_HOUR), "ns")).astype("datetime64[D]"))
     events = voyage_events(date, 2, fix.lat_deg, fix.lon_deg, course_deg=course, speed_kn=speed)
     track = Track(fix.lat_deg, fix.lon_deg, when, course, speed)
     candidates = []

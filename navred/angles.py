@@ -64,6 +64,17 @@ def wrap_180(angle_deg: ArrayLike) -> np.ndarray:
     return np.mod(np.asarray(angle_deg, dtype=float) + 180.0, 360.0) - 180.0
 
 
+def wrap_axial(angle_deg: ArrayLike) -> np.ndarray:
+    """The direction of a line, either way along it, in degrees [0, 180): a line of position's bearing,
+    an ellipse's axis (an azimuth and its reciprocal are one line).
+
+    >>> float(wrap_axial(200.0)), float(wrap_axial(-30.0))
+    (20.0, 150.0)
+    """
+    wrapped = np.mod(np.asarray(angle_deg, dtype=float), 180.0)
+    return np.where(wrapped >= 180.0, 0.0, wrapped)
+
+
 def _refused(value: object, kind: AngleKind, why: str = "") -> AngleInputError:
     reason = f": {why}" if why else ""
     name = _NAMES[kind]

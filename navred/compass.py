@@ -177,7 +177,7 @@ def deviation_coefficients(compass_heading_deg: ArrayLike, deviation: ArrayLike)
         raise NavredError("no deviation observed on any heading: a deviation card needs magnetic compass "
                           "observations with the ship's compass heading and the variation")
     h, d = h[ok], d[ok]
-    headings = np.sort(np.degrees(h) % 360.0)
+    headings = np.sort(wrap_360(np.degrees(h)))
     gaps = np.diff(np.concatenate([headings, headings[:1] + 360.0]))
     distinct = max(int(np.sum(gaps >= _DISTINCT_DEG)), 1)
     columns = [np.ones_like(h), np.sin(h), np.cos(h), np.sin(2 * h), np.cos(2 * h)]

@@ -25,6 +25,7 @@ from dataclasses import dataclass, field
 import numpy as np
 from numpy.typing import ArrayLike
 
+from .angles import wrap_360
 from .constants import (
     ARCMIN_PER_DEG,
     DEFAULT_PRESSURE_HPA,
@@ -369,7 +370,7 @@ def sun_bearing_from_up_deg(body_alt_deg: ArrayLike, body_az_deg: ArrayLike, sun
     # bearing measured from "up" (toward the zenith) through the direction of increasing azimuth
     up = np.cos(h1) * np.sin(h2) - np.sin(h1) * np.cos(h2) * np.cos(dz)
     across = np.cos(h2) * np.sin(dz)
-    return np.degrees(np.arctan2(across, up)) % 360.0
+    return wrap_360(np.degrees(np.arctan2(across, up)))
 
 
 def planet_phases(bodies: ArrayLike, utc: object, lat_deg: ArrayLike, lon_deg: ArrayLike, hc_deg: ArrayLike,

@@ -33,7 +33,7 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 from numpy.typing import ArrayLike
 
-from .angles import format_angle, wrap_180, wrap_360
+from .angles import format_angle, wrap_180, wrap_360, wrap_axial
 from .constants import ARCMIN_PER_DEG, NS_PER_HOUR
 from .errors import NavredError, failed_elements
 from .sailings import rhumb_inverse, rhumb_track_through
@@ -387,13 +387,13 @@ def error_ellipse(covariance_nm2: ArrayLike, scale: ArrayLike) -> tuple[np.ndarr
     major = scale * np.sqrt(np.maximum(mean + radius, 0.0))
     minor = scale * np.sqrt(np.maximum(mean - radius, 0.0))
     orientation = np.degrees(0.5 * np.arctan2(2.0 * ne, nn - ee))  # from north toward east
-    return major, minor, np.mod(orientation, 180.0)
+    return major, minor, wrap_axial(orientation)
 
 
 def azimuth_spread_deg(zn_deg: ArrayLike) -> float:
     """The widest angle at which the lines of position cross (azimuths taken modulo 180°)."""
     zn = np.asarray(zn_deg, dtype=float)
-    directions = np.sort(np.mod(zn[np.isfinite(zn)], 180.0))
+    directions = np.sort(wrap_axial(zn[np.isfinite(zn)]))
     if directions.size < 2:
         return 0.0
     gaps = np.diff(np.concatenate([directions, directions[:1] + 180.0]))
@@ -1078,7 +1078,7 @@ def fix_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, u
 
 def azimuth_spread_many(zn_deg: np.ndarray, use: np.ndarray) -> np.ndarray:
     """:func:`azimuth_spread_deg` of each row of (groups, sights) azimuths, using the sights ``use`` marks."""
-    directions = np.sort(np.where(use, np.mod(zn_deg, 180.0), np.inf), axis=1)
+    directions = np.sort(np.where(use, wrap_axial(zn_deg), np.inf), axis=1)
     count = use.sum(axis=1)
     first = directions[:, :1] + 180.0
     padded = np.concatenate([directions, np.full_like(first, np.inf)], axis=1)
@@ -1476,7 +1476,7 @@ def _line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0, dr_
     foot_lat, foot_lon = destination(lat0[rows], lon0[rows], toward, offset)
     near_meridian = np.minimum(np.abs(wrap_180(zn)), np.abs(wrap_180(zn - 180.0))) <= MERIDIAN_AZIMUTH_DEG
     meridian = np.all(near_meridian | ~u, axis=1)
-    along = np.mod(wrap_360(toward + 90.0), 180.0)
+    along = wrap_axial(toward + 90.0)
     outlier, gross, detectable = _blunder_test(r, cosines * gain, u, dof, sigma)
     run_included = run_cov.any(axis=(1, 2))
 

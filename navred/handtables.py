@@ -27,7 +27,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .almanac import phase_angle_deg, places
-from .angles import wrap_360
+from .angles import wrap_360, wrap_axial
 from .constants import ARCMIN_PER_DEG, NS_PER_DAY, NS_PER_HOUR
 from .corrections import (
     PHASE_CENTROID_FACTOR,
@@ -361,10 +361,10 @@ def polaris_table(epoch: object) -> PolarisTable:
 def polaris_latitude_from_table(table: PolarisTable, ho_deg: float, lha_aries_deg: float) -> float:
     """The latitude (degrees) a navigator gets from the printed Polaris table, interpolating linearly
     in LHA Aries (between whole degrees) and in the second term's rows and columns."""
-    lha = float(lha_aries_deg) % 360.0
+    lha = float(wrap_360(lha_aries_deg))
     k = int(np.floor(lha))
     first = table.first_arcmin[k] + (lha - k) * (table.first_arcmin[(k + 1) % 360] - table.first_arcmin[k])
-    row = (lha % 180.0) / 15.0
+    row = float(wrap_axial(lha)) / 15.0
     j = int(np.floor(row))
     column = np.interp(ho_deg, POLARIS_ALTITUDES_DEG, np.arange(POLARIS_ALTITUDES_DEG.size))
     i = min(int(np.floor(column)), POLARIS_ALTITUDES_DEG.size - 2)

@@ -34,6 +34,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .almanac import places
+from .angles import wrap_180
 from .constants import (
     ARCMIN_PER_DEG,
     DEFAULT_PRESSURE_HPA,
@@ -117,7 +118,7 @@ def clear_distance(apparent_distance_deg: ArrayLike, moon_apparent_deg: ArrayLik
         raise NavredError("the distance and the two altitudes do not make a spherical triangle "
                           f"(cos ΔZ = {cos_dz:.4f}): check the distance, the altitudes and the body")
     dz = np.degrees(np.arccos(np.clip(cos_dz, -1.0, 1.0)))
-    side = 1.0 if ((other_zn_deg - moon_zn_deg + 180.0) % 360.0 - 180.0) >= 0 else -1.0
+    side = 1.0 if wrap_180(other_zn_deg - moon_zn_deg) >= 0 else -1.0
     true_m = moon_apparent_deg - _refraction_deg(moon_apparent_deg, temperature_c, pressure_hpa)
     true_o = other_apparent_deg - _refraction_deg(other_apparent_deg, temperature_c, pressure_hpa)
     rho, tilt = observer_geometry(lat_deg)
@@ -260,4 +261,4 @@ def _time_sight_longitude(body, utc, lat_deg, apparent_deg, temperature_c, press
     cos_lha = (np.sin(np.radians(ho)) - np.sin(phi) * np.sin(dec)) / (np.cos(phi) * np.cos(dec))
     lha = np.degrees(np.arccos(np.clip(cos_lha, -1.0, 1.0)))
     lha = lha if zn_deg >= 180.0 else 360.0 - lha  # a body west of the meridian has LHA under 180°
-    return float((lha - p.gha_deg[0] + 180.0) % 360.0 - 180.0)
+    return float(wrap_180(lha - p.gha_deg[0]))

@@ -22,7 +22,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .almanac import places
-from .angles import wrap_180
+from .angles import wrap_180, wrap_360
 from .constants import ARCMIN_PER_DEG, DEFAULT_PRESSURE_HPA, DEFAULT_TEMPERATURE_C
 from .corrections import correct_altitudes, planet_phases, sun_bearing_from_up_deg
 from .handtables import printed_deg
@@ -128,7 +128,7 @@ def sight_presets(bodies: ArrayLike, utc: object, lat_deg: float, lon_deg: float
     later = RATE_MINUTES * 60 // _STEP_S
     hc_rate = (hc[:, later] - hc[:, 0]) / RATE_MINUTES * ARCMIN_PER_DEG
     zn_rate = wrap_180(zn[:, later] - zn[:, 0]) / RATE_MINUTES
-    hc_printed, zn_printed = printed_deg(hc[:, 0]), np.round(zn[:, 0], 1) % 360.0
+    hc_printed, zn_printed = printed_deg(hc[:, 0]), wrap_360(np.round(zn[:, 0], 1))
     rate_printed = np.round(hc_rate, 2)
     minutes = steps / 60.0
     predicted = hc_printed[:, None] + minutes[None, :] * rate_printed[:, None] / ARCMIN_PER_DEG

@@ -413,7 +413,7 @@ def composite_great_circle(lat1_deg: float, lon1_deg: float, lat2_deg: float, lo
         course = alpha if side > 0 else 180.0 - alpha
         course = course if heading_east else 360.0 - course
         tlat, tlon, tdist = (float(v) for v in great_circle_vertex(lat, lon, course))
-        return course % 360.0, tlat, tlon, tdist
+        return float(wrap_360(course)), tlat, tlon, tdist
 
     first_course, meet_lat, meet_lon, first_nm = touching(lat1, lon1, east)
     back_course, leave_lat, leave_lon, last_nm = touching(lat2, lon2, not east)
@@ -424,7 +424,7 @@ def composite_great_circle(lat1_deg: float, lon1_deg: float, lat2_deg: float, lo
                         / METRES_PER_NM)
     _, _, arrive = (float(v) for v in great_circle_destination(lat2, lon2, back_course, last_nm))
     return {"kind": "composite", "distance_nm": first_nm + parallel_nm + last_nm,
-            "initial_course_deg": first_course, "final_course_deg": (back_course + 180.0) % 360.0,
+            "initial_course_deg": first_course, "final_course_deg": float(wrap_360(back_course + 180.0)),
             "first_nm": first_nm, "parallel_nm": parallel_nm, "last_nm": last_nm,
             "meets": (meet_lat, meet_lon), "leaves": (leave_lat, leave_lon), "great_circle_nm": distance,
             "arrive_check_deg": arrive}

@@ -13,6 +13,7 @@ import warnings
 import typer
 
 from .. import __version__
+from ..angles import wrap_360
 from ..errors import NavredError, NavredInternalError, NavredWarning
 
 app = typer.Typer(
@@ -376,7 +377,7 @@ def _print_fix(group, reduced, labels) -> None:
         typer.echo(f'Fix "{group.name}": {int(fix.used.sum())} sights{dropped}, at {when} UTC')
         typer.echo(f"  position       {format_angle(fix.lat_deg, 'lat')}  {format_angle(fix.lon_deg, 'lon')}")
         typer.echo(f"  95 % ellipse   {fix.ellipse_text()}, major "
-                   f"axis {fix.ellipse_orientation_deg:03.0f}°/{(fix.ellipse_orientation_deg + 180) % 360:03.0f}° "
+                   f"axis {fix.ellipse_orientation_deg:03.0f}°/{float(wrap_360(fix.ellipse_orientation_deg + 180)):03.0f}° "
                    f"(scaled by the {fix.quantile} quantile"
                    + ("; the DR's error over the run included)" if fix.dr_error_included else ")"))
         if fix.ellipse_note:
@@ -390,7 +391,7 @@ def _print_fix(group, reduced, labels) -> None:
                           if fix.noon_curve_latitude_deg is not None else ""))
         else:
             typer.echo(f"  line           through {format_angle(fix.lat_deg, 'lat')}  {format_angle(fix.lon_deg, 'lon')}, "
-                       f"bearing {fix.line_bearing_deg:03.0f}°/{(fix.line_bearing_deg + 180) % 360:03.0f}°, "
+                       f"bearing {fix.line_bearing_deg:03.0f}°/{float(wrap_360(fix.line_bearing_deg + 180)):03.0f}°, "
                        f"95 % band {fix.ellipse_text()}")
         typer.echo(f"  from the DR    {abs(fix.line_offset_nm):.1f} nm {'toward' if fix.line_offset_nm >= 0 else 'away from'} "
                    f"{fix.line_toward_deg:03.0f}°")

@@ -19,7 +19,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..angles import format_angle
+from ..angles import format_angle, wrap_180, wrap_axial
 
 # navred's own palette: sea-chart paper, ink-blue lines, a vermilion fix
 PAPER, GRID, INK, FIX, CHART, ELLIPSE, FLAGGED = ("#f7f3e8", "#c9c2ad", "#1d3557", "#d1495b",
@@ -61,8 +61,8 @@ def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None, rows=None
     def plane(lat, lon):
         """Positions to sheet miles east and north of the DR (numbers or arrays)."""
         if isinstance(lat, float) and isinstance(lon, float):
-            return ((lon - lon0 + 180.0) % 360.0 - 180.0) * 60.0 * cos_lat, (lat - lat0) * 60.0
-        d_lon = (np.asarray(lon) - lon0 + 180.0) % 360.0 - 180.0
+            return float(wrap_180(lon - lon0)) * 60.0 * cos_lat, (lat - lat0) * 60.0
+        d_lon = wrap_180(np.asarray(lon) - lon0)
         return d_lon * 60.0 * cos_lat, (np.asarray(lat) - lat0) * 60.0
 
     fix_xy = plane(float(fix.lat_deg), float(fix.lon_deg))
@@ -143,7 +143,7 @@ def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None, rows=None
         nearest = (cx - fx) * dx + (cy - fy) * dy
         along = nearest + (-0.6 + 1.2 * k / count) * half
         lx, ly = page(fx + dx * along, fy + dy * along)
-        labels.append((lx, ly, label, colour, (math.degrees(math.atan2(dy, dx)) + 90) % 180 - 90))
+        labels.append((lx, ly, label, colour, float(wrap_axial(math.degrees(math.atan2(dy, dx)) + 90.0)) - 90.0))
 
     # the DR, the fix and its ellipse (or the combined line and its band), the chart position
     if fix.is_fix:
@@ -440,7 +440,7 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
     cos_lat = math.cos(math.radians(lat_mid))
 
     def plane(lat, lon):
-        d_lon = (np.asarray(lon, dtype=float) - lon_ref + 180.0) % 360.0 - 180.0
+        d_lon = wrap_180(np.asarray(lon, dtype=float) - lon_ref)
         return d_lon * 60.0 * cos_lat, (np.asarray(lat, dtype=float) - lat_mid) * 60.0
 
     xs, ys = plane(lats, lons)

@@ -26,7 +26,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from ..angles import parse_angle
+from ..angles import parse_angle, wrap_360
 from ..errors import NavredError
 from ..timework import iso_instant_text
 from .readers import read_table
@@ -98,7 +98,7 @@ def _degrees(text: str, column: str) -> float:
         raise NavredError(f"{column}: {text!r} is not a bearing in degrees (0-360)") from None
     if not (np.isfinite(value) and 0.0 <= value <= 360.0):
         raise NavredError(f"{column}: {text!r} is outside 0-360°")
-    return value % 360.0
+    return float(wrap_360(value))
 
 
 def _read_row(cell, dates, canonical_body_name) -> dict:

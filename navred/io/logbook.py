@@ -27,7 +27,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from ..angles import parse_angle, parse_angles_fast
+from ..angles import parse_angle, parse_angles_fast, wrap_180
 from ..corrections import HIGHEST_READING_DEG, parse_index_error_arcmin
 from ..errors import NavredError, api_boundary
 from ..stars import canonical_body_name
@@ -677,7 +677,7 @@ def _numeric_checks(column, numbers: np.ndarray, units: np.ndarray) -> tuple[np.
             bad |= np.abs(used) > 90.0
         elif kind == "lon":
             bad |= (used < -180.0) | (used > 360.0)
-            used = np.where(used >= 180.0, used - 360.0, used)
+            used = wrap_180(used)  # 354.47 east of Greenwich is 5.53 west
         elif kind == "index_error":
             bad |= np.abs(used) > 30.0
         elif kind == "watch_error":

@@ -21,7 +21,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from ..angles import parse_angle
+from ..angles import parse_angle, wrap_180
 from ..constants import NS_PER_HOUR
 from ..errors import NavredError, api_boundary
 from ..timescales import (
@@ -90,7 +90,7 @@ class ReferenceTrack:
                                   f"{str(end)[:16]} UTC), longer than the {self.max_gap_hours:g} h it bridges: not marked")
         lon = np.degrees(np.unwrap(np.radians(self.lon_deg)))
         lat = np.interp(when, t, self.lat_deg)
-        lon_i = (np.interp(when, t, lon) + 180.0) % 360.0 - 180.0
+        lon_i = wrap_180(np.interp(when, t, lon))
         ok = reason == ""
         return np.where(ok, lat, np.nan), np.where(ok, lon_i, np.nan), reason
 
@@ -265,7 +265,7 @@ def _checked_track(points: _Points, file: Path, max_gap_hours: float) -> Referen
         ends = np.append(starts[1:], utc.size)
         for start, end in zip(starts[ends - starts > 1].tolist(), ends[ends - starts > 1].tolist()):
             north = (lat[start:end] - lat[start]) * 60.0
-            east = (((lon[start:end] - lon[start] + 180) % 360) - 180) * 60.0 * np.cos(np.radians(lat[start]))
+            east = wrap_180(lon[start:end] - lon[start]) * 60.0 * np.cos(np.radians(lat[start]))
             if np.hypot(north, east).max() > SAME_POSITION_NM:
                 keep[start:end] = False
                 for point in index[start:end]:

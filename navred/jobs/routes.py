@@ -18,7 +18,7 @@ import numpy as np
 import pandas as pd
 
 from .. import __version__
-from ..angles import format_angle
+from ..angles import format_angle, wrap_180, wrap_360
 from ..errors import NavredError
 from ..io.cautions import ROUTE_CAUTION, geojson_with_caution, gpx_with_caution
 from ..io.output import atomic_write
@@ -143,11 +143,11 @@ def _waypoints(lat1, lon1, lat2, lon2, course1, gc_nm, spacing, composite) -> pd
             per_deg = np.radians(1.0) * prime_vertical_radius_m(abs(limit)) * np.cos(np.radians(limit)) / 1852.0
             east = 1.0 if np.sin(np.radians(c["initial_course_deg"])) >= 0 else -1.0
             lat[run] = c["meets"][0]
-            lon[run] = (c["meets"][1] + east * (along[run] - c["first_nm"]) / per_deg + 180.0) % 360.0 - 180.0
+            lon[run] = wrap_180(c["meets"][1] + east * (along[run] - c["first_nm"]) / per_deg)
             part[run] = "along the limiting parallel"
         last = along > c["first_nm"] + c["parallel_nm"]
         if last.any():  # back from the destination along its touching great circle
-            back_course = (c["final_course_deg"] + 180.0) % 360.0
+            back_course = float(wrap_360(c["final_course_deg"] + 180.0))
             lat[last], lon[last], _ = great_circle_destination(lat2, lon2, back_course, total - along[last])
             part[last] = "great circle from the limit"
         lat[-1], lon[-1] = lat2, lon2

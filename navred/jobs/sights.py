@@ -14,6 +14,7 @@ import numpy as np
 import pandas as pd
 
 from ..almanac import places
+from ..angles import wrap_360
 from ..corrections import correct_altitudes, planet_phases
 from ..errors import api_boundary
 from ..io.logbook import SIGHT_COLUMNS, SightLog, read_sight_log
@@ -151,7 +152,7 @@ def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
             "dut1_s": almanac.instants.dut1_s, "gha_aries_deg": almanac.gha_aries_deg,
             "sha_deg": almanac.sha_deg, "gha_deg": almanac.gha_deg, "dec_deg": almanac.dec_deg,
             "hp_arcmin": almanac.hp_arcmin, "almanac_sd_arcmin": almanac.sd_arcmin,
-            "lha_deg": np.mod(almanac.gha_deg + lon[rows], 360.0), "ic_arcmin": corrections.ic_arcmin,
+            "lha_deg": wrap_360(almanac.gha_deg + lon[rows]), "ic_arcmin": corrections.ic_arcmin,
             "horizon_arcmin": corrections.horizon_arcmin, "dip_arcmin": corrections.dip_arcmin,
             "ha_deg": corrections.ha_deg, "refraction_arcmin": corrections.refraction_arcmin,
             "sd_arcmin": corrections.sd_arcmin, "parallax_arcmin": corrections.parallax_arcmin,

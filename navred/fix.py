@@ -36,6 +36,7 @@ from numpy.typing import ArrayLike
 from .angles import format_angle, wrap_180, wrap_360, wrap_axial
 from .constants import ARCMIN_PER_DEG, NS_PER_HOUR
 from .errors import NavredError, failed_elements
+from .reckoning import velocity_kn
 from .sailings import rhumb_inverse, rhumb_track_through
 from .stats import chi_square_2_quantile, chi_square_quantile, f_2_quantile, student_t_quantile
 from .timescales import utc_jd_to_datetime64, utc_julian_date
@@ -100,11 +101,6 @@ _EMPTY = np.zeros(0)
 _EMPTY.flags.writeable = False  # a placeholder for per-sight arrays not yet filled in (never written to)
 
 
-def t_quantile_975(dof: ArrayLike) -> np.ndarray:
-    """Student's t 97.5 % point (two-sided 95 %) for ``dof`` degrees of freedom (:mod:`navred.stats`)."""
-    return student_t_quantile(0.975, dof)
-
-
 def move_position(lat_deg: ArrayLike, lon_deg: ArrayLike, north_nm: ArrayLike, east_nm: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
     """Position moved by a small displacement in nautical miles north and east (mid-latitude sailing).
 
@@ -151,13 +147,6 @@ def step_on_sphere(lat_deg: ArrayLike, lon_deg: ArrayLike, north_nm: ArrayLike, 
     lat = np.degrees(np.arctan2(q[..., 2], np.hypot(q[..., 0], q[..., 1])))
     lon = np.where(size > 0, np.degrees(np.arctan2(q[..., 1], q[..., 0])), np.asarray(lon_deg, dtype=float))
     return lat, wrap_180(lon)
-
-
-def velocity_kn(course_deg: ArrayLike, speed_kn: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
-    """(north, east) components in knots of a course and speed."""
-    c = np.radians(np.asarray(course_deg, dtype=float))
-    s = np.asarray(speed_kn, dtype=float)
-    return s * np.cos(c), s * np.sin(c)
 
 
 def _fill_forward(values: np.ndarray, valid: np.ndarray) -> np.ndarray:

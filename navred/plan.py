@@ -21,7 +21,7 @@ from .angles import wrap_180
 from .constants import ARCMIN_PER_DEG, MINUTES_PER_DAY, NS_PER_HOUR, NS_PER_MINUTE
 from .corrections import DIP_ARCMIN_PER_SQRT_M, refraction_arcmin
 from .errors import NavredError, api_boundary
-from .fix import velocity_kn
+from .reckoning import velocity_kn
 from .sailings import rhumb_destination
 from .stars import SOLAR_SYSTEM, known_bodies, star_table
 from .timescales import utc_jd_to_datetime64, utc_julian_date

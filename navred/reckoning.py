@@ -32,6 +32,7 @@ from .sailings import (
     rhumb_destination,
     rhumb_inverse,
 )
+from .stats import normal_quantile
 from .triangle import destination
 
 #: The meridian arc from the equator to a pole (m): a rhumb line that would run farther north or south ends at
@@ -41,7 +42,7 @@ POLE_ARC_M = float(meridian_arc_m(90.0))
 PAST_POLE = ("the DR would be carried past the pole (a rhumb line ends there): give the DR, or a fix or known "
              "position nearer this sight")
 #: Two-sided 95 % point of the normal distribution (set and drift intervals).
-NORMAL_975 = 1.959963984540054
+NORMAL_975 = float(normal_quantile(0.975))
 
 
 class ReckoningError(NavredError):

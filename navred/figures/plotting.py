@@ -20,6 +20,7 @@ from pathlib import Path
 import numpy as np
 
 from ..angles import format_angle, wrap_180, wrap_axial
+from ..stats import chi_square_2_quantile
 
 # navred's own palette: sea-chart paper, ink-blue lines, a vermilion fix
 PAPER, GRID, INK, FIX, CHART, ELLIPSE, FLAGGED = ("#f7f3e8", "#c9c2ad", "#1d3557", "#d1495b",
@@ -475,14 +476,14 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
             sheet.line(xs_leg.tolist(), ys_leg.tolist(), INK, 1.1, dash=(5.0, 3.0))
     # the fixes and their ellipses; the set and drift arrows
     arrow_nm = 0.06 * max(width_nm, height_nm) / 1.0  # an arrow this long stands for one knot
+    scale = math.sqrt(chi_square_2_quantile(0.95))  # chi-square(2) 95 %
     if track is not None:
         for lat, lon, label, cov in zip(track.known_lat, track.known_lon, track.known_label, track.known_cov):
             fx, fy = (float(v) for v in page(*plane(lat, lon)))
             if label.startswith("fix "):
                 # the ellipse where it shows (a fleet's tiny ellipses on a chart of a thousand miles are dots)
-                if np.all(np.isfinite(cov)) and np.trace(cov) > 0 and 2.45 * math.sqrt(np.trace(cov)) * per_nm > 1.5:
+                if np.all(np.isfinite(cov)) and np.trace(cov) > 0 and scale * math.sqrt(np.trace(cov)) * per_nm > 1.5:
                     values, vectors = np.linalg.eigh(cov)
-                    scale = math.sqrt(5.991)  # chi-square(2) 95 %
                     t = np.linspace(0, 2 * np.pi, 48)
                     ring = (vectors @ np.vstack([np.sqrt(max(values[0], 0)) * np.cos(t),
                                                  np.sqrt(max(values[1], 0)) * np.sin(t)])) * scale

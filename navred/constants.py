@@ -46,7 +46,3 @@ MARS_RADIUS_KM = 3389.5  # the same Working Group (2015 report), mean radius (fr
 # --- Time ------------------------------------------------------------------
 TT_MINUS_TAI_S = 32.184  # IAU 1991 Resolution A4
 GHA_ERROR_ARCMIN_PER_S_UT1 = 0.25  # 360 deg per sidereal day ~ 15 arcsec of GHA per second of UT1
-
-# --- Navigation conventions --------------------------------------------------
-DEFAULT_TEMPERATURE_C = 10.0  # standard conditions of the almanac's refraction table (common practice)
-DEFAULT_PRESSURE_HPA = 1010.0  # ditto (common practice)

@@ -1,6 +1,10 @@
 """Sextant altitude (Hs) to observed altitude (Ho): one function per correction, and the chain.
 
-Every correction is signed and added, so that a working adds up line by line:
+One convention throughout: **a correction is signed and added**, so that a working adds up line
+by line; a function named ``*_correction_arcmin`` returns that signed correction and fills the
+line of the working (the column of :class:`AltitudeCorrections`) of the same name, and a function
+named ``*_angle_arcmin`` returns an angle of the sky, positive (the dip of the horizon, the
+refraction), for the tables and plans that need the angle itself:
 
     Ha = Hs + IC + horizon + dip             apparent altitude of the point observed
     Ho = Ha + refraction + SD + parallax + phase      observed (geocentric) altitude of the centre
@@ -26,19 +30,24 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .angles import wrap_360
-from .constants import (
-    ARCMIN_PER_DEG,
-    DEFAULT_PRESSURE_HPA,
-    DEFAULT_TEMPERATURE_C,
-    EARTH_FLATTENING,
-)
+from .constants import ARCMIN_PER_DEG, EARTH_FLATTENING
 from .errors import SightInputError, failed_elements
-from .vocabulary import HORIZONS, LIMBS
+from .vocabulary import COLUMN, HORIZONS, LIMBS
 
-#: Dip coefficients: dip′ = 1.76 √(h metres) = 0.97 √(h feet); the coefficients printed with
-#: the nautical almanac's dip table (from memory). They include terrestrial refraction.
+#: The accepted ranges and the defaults, from the sight vocabulary (one table for the log reader, the
+#: chain, the planner and the command line's options).
+EYE_HEIGHT_M = COLUMN["eye_height"]
+INDEX_ERROR_ARCMIN = COLUMN["index_error"]
+MEASURED_DIP_ARCMIN = COLUMN["measured_dip"]
+TEMPERATURE_C = COLUMN["temperature"]
+PRESSURE_HPA = COLUMN["pressure"]
+DEFAULT_TEMPERATURE_C = float(TEMPERATURE_C.default)
+DEFAULT_PRESSURE_HPA = float(PRESSURE_HPA.default)
+
+#: Dip coefficient: dip′ = 1.76 √(h metres) (= 0.97 √(h feet)); the coefficient printed with the
+#: nautical almanac's dip table (from memory). It includes terrestrial refraction. A height in feet
+#: is turned into metres by the vocabulary (international foot) before the dip is taken.
 DIP_ARCMIN_PER_SQRT_M = 1.76
-DIP_ARCMIN_PER_SQRT_FT = 0.97
 
 LOW_ALTITUDE_DEG = 5.0  # below: refraction is uncertain; the sight is flagged (common practice)
 LOWEST_ALTITUDE_DEG = -1.0  # below: no refraction model applies; refused
@@ -56,10 +65,10 @@ def parse_index_error_arcmin(value: object) -> float | np.ndarray:
         numeric = np.asarray(value)
         if numeric.dtype.kind in "fiu":
             numbers = numeric.astype(float)
-            bad = ~np.isfinite(numbers) | (np.abs(numbers) > 30.0)
+            bad = ~np.isfinite(numbers) | (numbers < INDEX_ERROR_ARCMIN.low) | (numbers > INDEX_ERROR_ARCMIN.high)
             if bad.any():
-                raise SightInputError(f"index error outside ±30′ in {failed_elements(bad)}; a sextant "
-                                      "with more should be adjusted")
+                raise SightInputError(f"index error outside {_index_range()} in {failed_elements(bad)}; a "
+                                      "sextant with more should be adjusted")
             return numbers
         items = np.asarray(value, dtype=object)
         out = np.empty(items.shape)
@@ -85,9 +94,28 @@ def parse_index_error_arcmin(value: object) -> float | np.ndarray:
             if number < 0:
                 raise SightInputError(f"index error {value!r}: give a sign or on/off, not both")
             number = number if match.group(2).lower() == "on" else -number
-    if not np.isfinite(number) or abs(number) > 30.0:
-        raise SightInputError(f"index error {value!r} is outside ±30′; a sextant with more should be adjusted")
+    if not np.isfinite(number) or not INDEX_ERROR_ARCMIN.low <= number <= INDEX_ERROR_ARCMIN.high:
+        raise SightInputError(f"index error {value!r} is outside {_index_range()}; a sextant with more should be "
+                              "adjusted")
     return number
+
+
+def _index_range() -> str:
+    return f"±{INDEX_ERROR_ARCMIN.high:g}′"
+
+
+def _range(column, unit: str) -> str:
+    """A column's accepted range as a message gives it (``unit`` with its space, if any): '0-1000 m',
+    '-50 to +60 °C', '0-60′'."""
+    if column.low < 0:
+        return f"{column.low:g} to +{column.high:g}{unit}"
+    return f"{column.low:g}-{column.high:g}{unit}"
+
+
+def _outside(values: np.ndarray, column) -> np.ndarray:
+    """Where values are not finite or lie outside the column's range."""
+    with np.errstate(invalid="ignore"):
+        return ~np.isfinite(values) | (values < column.low) | (values > column.high)
 
 
 def index_correction_arcmin(index_error_arcmin: ArrayLike) -> np.ndarray:
@@ -99,33 +127,65 @@ def index_correction_arcmin(index_error_arcmin: ArrayLike) -> np.ndarray:
     return -np.asarray(index_error_arcmin, dtype=float)
 
 
-def dip_arcmin(eye_height_m: ArrayLike, horizon: ArrayLike = "sea") -> np.ndarray:
-    """Dip of the sea horizon in arcminutes, 1.76′ √(height of eye in metres); 0 for a horizon with no dip.
+def dip_angle_arcmin(eye_height_m: ArrayLike, horizon: ArrayLike = "sea") -> np.ndarray:
+    """The dip of the sea horizon below the horizontal, arcminutes, positive: 1.76′ √(height of eye in
+    metres); 0 for a horizon with no dip. The one dip formula of navred.
 
     ``horizon`` is any of :data:`HORIZONS` (scalar or array); the dip is the sea horizon's for
-    ``sea`` and ``back`` (the horizon behind is as low), 0 for ``artificial`` and ``bubble``
-    (the waterline's own dip is :func:`dip_short_of_horizon_arcmin`).
+    ``sea``, ``back`` (the horizon behind is as low) and ``waterline`` (whose own, larger dip is
+    :func:`dip_short_of_horizon_arcmin`), 0 for ``artificial`` and ``bubble``. The working's dip
+    line, signed, is :func:`dip_correction_arcmin`.
 
-    >>> round(float(dip_arcmin(10.0)), 2)
+    >>> round(float(dip_angle_arcmin(10.0)), 2)
     5.57
-    >>> float(dip_arcmin(10.0, "artificial"))
+    >>> float(dip_angle_arcmin(10.0, "artificial"))
     0.0
     """
     height = np.asarray(eye_height_m, dtype=float)
-    bad = ~np.isfinite(height) | (height < 0) | (height > 1000)
+    bad = _outside(height, EYE_HEIGHT_M)
     if bad.any():
-        raise SightInputError(f"height of eye must be 0-1000 m; refused: {failed_elements(bad)}")
+        raise SightInputError(f"height of eye must be {_range(EYE_HEIGHT_M, ' m')}; refused: {failed_elements(bad)}")
     kinds = horizon_kind(horizon)
     return np.where(np.isin(kinds, ["sea", "back", "waterline"]), DIP_ARCMIN_PER_SQRT_M * np.sqrt(height), 0.0)
 
 
-def dip_arcmin_from_feet(eye_height_ft: ArrayLike) -> np.ndarray:
-    """Dip in arcminutes from height of eye in feet, 0.97′ √h.
+def dip_correction_arcmin(eye_height_m: ArrayLike, horizon: ArrayLike = "sea", *, waterline_nm: ArrayLike = np.nan,
+                          measured_dip_arcmin: ArrayLike = np.nan) -> np.ndarray:
+    """The dip line of the working (arcminutes, signed and added; the ``dip_arcmin`` column).
 
-    >>> round(float(dip_arcmin_from_feet(36.0)), 2)
-    5.82
+    − the dip for a sea horizon; + the dip for a back sight (the horizon behind lies as far below the
+    horizontal: Ha = 180° − (Hs + IC) + dip); − the dip short of the horizon for a ``waterline``
+    ``waterline_nm`` away (:func:`dip_short_of_horizon_arcmin`); 0 for an artificial or a bubble
+    horizon. A dip meter's ``measured_dip_arcmin`` replaces the formula for a sea horizon or a back
+    sight. Inputs broadcast; a value outside its range, a measured dip with another horizon or a
+    waterline with no distance is refused.
+
+    >>> round(float(dip_correction_arcmin(10.0)), 2), round(float(dip_correction_arcmin(10.0, "back")), 2)
+    (-5.57, 5.57)
     """
-    return DIP_ARCMIN_PER_SQRT_FT * np.sqrt(np.asarray(eye_height_ft, dtype=float))
+    kind = horizon_kind(horizon)
+    eye, measured, waterline = (np.asarray(v, dtype=float) for v in (eye_height_m, measured_dip_arcmin,
+                                                                      waterline_nm))
+    kind, eye, measured, waterline = np.broadcast_arrays(kind, eye, measured, waterline)
+    has_measured = np.isfinite(measured)
+    reflecting = np.isin(kind, ["sea", "back"])
+    if (has_measured & ~reflecting).any():
+        raise SightInputError("a measured dip applies to a sea horizon or a back sight; refused: "
+                              f"{failed_elements(has_measured & ~reflecting)}")
+    bad = has_measured & _outside(measured, MEASURED_DIP_ARCMIN)
+    if bad.any():
+        raise SightInputError(f"a measured dip must lie in {_range(MEASURED_DIP_ARCMIN, '′')}; refused: "
+                              f"{failed_elements(bad)}")
+    short = kind == "waterline"
+    with np.errstate(invalid="ignore"):
+        bad = short & ~(waterline > 0)
+    if bad.any():
+        raise SightInputError(f"a waterline horizon needs the waterline's distance (nm, above 0); refused: "
+                              f"{failed_elements(bad)}")
+    needs_eye = np.isin(kind, ["sea", "back", "waterline"]) & ~has_measured
+    sea_dip = np.where(has_measured, measured, dip_angle_arcmin(np.where(needs_eye, eye, 0.0), kind))
+    short_dip = dip_short_of_horizon_arcmin(np.where(short, eye, 0.0), np.where(short, waterline, 1.0))
+    return np.select([kind == "sea", kind == "back", short], [-sea_dip, sea_dip, -short_dip], 0.0)
 
 
 #: Dip short of the horizon: tan Ds = h / (1852 d) + d / 8268 (h the height of eye in metres, d the
@@ -187,18 +247,24 @@ def _horizon_kind(horizon: np.ndarray) -> np.ndarray:
                                                                                              dtype=object)
 
 
-def horizon_is_artificial(horizon: ArrayLike) -> np.ndarray:
-    """True where ``horizon`` names a horizon with no dip (artificial or bubble); raises for an unknown one."""
-    return np.isin(horizon_kind(horizon), ["artificial", "bubble"])
+def horizon_correction_arcmin(reading_deg: ArrayLike, horizon: ArrayLike = "sea") -> np.ndarray:
+    """The horizon line of the working (arcminutes, signed and added; the ``horizon_arcmin`` column): what
+    turns the reading with its index correction into an altitude above the point observed.
+
+    An artificial (reflecting) horizon reads twice the altitude: − half the reading; a back sight reads
+    over the zenith: 180° − 2 × the reading; every other horizon 0.
+
+    >>> float(horizon_correction_arcmin(60.0, "artificial")), float(horizon_correction_arcmin(100.0, "back"))
+    (-1800.0, -1200.0)
+    """
+    reading = np.asarray(reading_deg, dtype=float)
+    return (_altitude_above_horizon_deg(reading, horizon_kind(horizon)) - reading) * ARCMIN_PER_DEG
 
 
-def apparent_altitude_deg(hs_deg: ArrayLike, ic_arcmin: ArrayLike, dip_arcmin_: ArrayLike) -> np.ndarray:
-    """Apparent altitude Ha = Hs + IC − dip, degrees."""
-    return np.asarray(hs_deg, dtype=float) + (np.asarray(ic_arcmin) - np.asarray(dip_arcmin_)) / ARCMIN_PER_DEG
-
-
-def refraction_arcmin(ha_deg: ArrayLike, temperature_c: ArrayLike = DEFAULT_TEMPERATURE_C, pressure_hpa: ArrayLike = DEFAULT_PRESSURE_HPA) -> np.ndarray:
-    """Refraction in arcminutes at apparent altitude Ha (degrees), Bennett's formula.
+def refraction_angle_arcmin(ha_deg: ArrayLike, temperature_c: ArrayLike = DEFAULT_TEMPERATURE_C,
+                            pressure_hpa: ArrayLike = DEFAULT_PRESSURE_HPA) -> np.ndarray:
+    """Refraction in arcminutes at apparent altitude Ha (degrees), positive, Bennett's formula; the
+    working's line, signed, is :func:`refraction_correction_arcmin`.
 
     R = cot(Ha + 7.31 / (Ha + 4.4)) arcminutes at 10 °C and 1010 hPa (G. G. Bennett,
     "The calculation of astronomical refraction in marine navigation", Journal of
@@ -206,7 +272,7 @@ def refraction_arcmin(ha_deg: ArrayLike, temperature_c: ArrayLike = DEFAULT_TEMP
     the density ratio on which the almanac's additional refraction table rests (common
     practice). Good to about 0.1′ at sea level above 5°. Ha must lie in -1° to 90°.
 
-    >>> round(float(refraction_arcmin(0.0)), 1), round(float(refraction_arcmin(10.0)), 2)
+    >>> round(float(refraction_angle_arcmin(0.0)), 1), round(float(refraction_angle_arcmin(10.0)), 2)
     (34.5, 5.39)
     """
     ha = np.asarray(ha_deg, dtype=float)
@@ -217,25 +283,31 @@ def refraction_arcmin(ha_deg: ArrayLike, temperature_c: ArrayLike = DEFAULT_TEMP
     return bennett_refraction_arcmin(ha, temperature_c, pressure_hpa)
 
 
+def refraction_correction_arcmin(ha_deg: ArrayLike, temperature_c: ArrayLike = DEFAULT_TEMPERATURE_C,
+                                 pressure_hpa: ArrayLike = DEFAULT_PRESSURE_HPA) -> np.ndarray:
+    """The refraction line of the working (arcminutes, signed and added; the ``refraction_arcmin``
+    column): minus :func:`refraction_angle_arcmin`.
+
+    >>> round(float(refraction_correction_arcmin(10.0)), 2)
+    -5.39
+    """
+    return -refraction_angle_arcmin(ha_deg, temperature_c, pressure_hpa)
+
+
+def air_density_factor(temperature_c: ArrayLike, pressure_hpa: ArrayLike) -> np.ndarray:
+    """The refraction at a temperature and pressure over the refraction at 10 °C and 1010 hPa:
+    (P / 1010)·(283 / (273 + T)), the density ratio on which the almanac's additional refraction
+    table rests (common practice)."""
+    return (np.asarray(pressure_hpa, dtype=float) / 1010.0) * (283.0 / (273.0 + np.asarray(temperature_c, dtype=float)))
+
+
 def bennett_refraction_arcmin(ha: ArrayLike, temperature_c: ArrayLike, pressure_hpa: ArrayLike) -> np.ndarray:
-    """Bennett's refraction (arcminutes) at apparent altitude ``ha`` with no range check (see refraction_arcmin)."""
-    temperature = np.asarray(temperature_c, dtype=float)
-    pressure = np.asarray(pressure_hpa, dtype=float)
+    """Bennett's refraction (arcminutes, positive) at apparent altitude ``ha`` with no range check (see
+    :func:`refraction_angle_arcmin`)."""
+    ha = np.asarray(ha, dtype=float)
     # Bennett's cotangent dips 0.08″ below zero at the zenith: hold it at zero there
     standard = np.maximum(1.0 / np.tan(np.radians(ha + 7.31 / (ha + 4.4))), 0.0)
-    return standard * (pressure / 1010.0) * (283.0 / (273.0 + temperature))
-
-
-def check_weather(temperature_c: ArrayLike, pressure_hpa: ArrayLike) -> None:
-    """Raise for temperatures outside -50 to +60 °C or pressures outside 850-1100 hPa."""
-    t = np.asarray(temperature_c, dtype=float)
-    p = np.asarray(pressure_hpa, dtype=float)
-    bad_t = ~np.isfinite(t) | (t < -50) | (t > 60)
-    bad_p = ~np.isfinite(p) | (p < 850) | (p > 1100)
-    if bad_t.any():
-        raise SightInputError(f"temperature must be -50 to +60 °C; refused: {failed_elements(bad_t)}")
-    if bad_p.any():
-        raise SightInputError(f"pressure must be 850-1100 hPa; refused: {failed_elements(bad_p)}")
+    return standard * air_density_factor(temperature_c, pressure_hpa)
 
 
 _LIMB_SIGNS = {"lower": 1.0, "upper": -1.0, "centre": 0.0, "": 0.0}
@@ -256,12 +328,16 @@ def _limb_sign(limb: np.ndarray) -> np.ndarray:
     return np.vectorize(_LIMBS.get, otypes=[float])(values) if values.ndim else np.array(_LIMBS[str(values)])
 
 
-def semi_diameter_correction_arcmin(sd_arcmin: ArrayLike, limb: ArrayLike, augmentation: ArrayLike = 1.0) -> np.ndarray:
-    """Semi-diameter correction in arcminutes: +SD for the lower limb, −SD for the upper, 0 for the centre.
+def semi_diameter_correction_arcmin(sd_arcmin: ArrayLike, limb: ArrayLike, augmentation: ArrayLike = 1.0,
+                                    horizon: ArrayLike = "sea") -> np.ndarray:
+    """Semi-diameter line of the working (arcminutes, signed and added; the ``sd_arcmin`` column): +SD for
+    the lower limb, −SD for the upper, 0 for the centre and for any sight with a bubble horizon (on the
+    body's centre whatever the limb).
 
     ``augmentation`` multiplies the geocentric SD (the Moon's, see :func:`moon_augmentation`).
     """
-    return limb_sign(limb) * np.asarray(sd_arcmin, dtype=float) * augmentation
+    sign = np.where(horizon_kind(horizon) == "bubble", 0.0, limb_sign(limb))
+    return sign * np.asarray(sd_arcmin, dtype=float) * augmentation
 
 
 def observer_geometry(lat_deg: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
@@ -456,77 +532,45 @@ def correct_altitudes(hs_deg: ArrayLike, *, index_error_arcmin: ArrayLike = 0.0,
     body's azimuth) give the rigorous parallax; ``phase_arcmin`` is the phase correction of
     Venus or Mars (:func:`phase_correction_arcmin`).
 
-    Sights are not refused by raising: a sight that cannot be corrected gets NaN and a message
-    in ``error`` (and the input it is about in ``error_column``); a usable sight with a caveat
-    (Ha below 5°) gets one in ``warning``. Call :meth:`AltitudeCorrections.raise_errors` to turn
-    errors into an exception.
+    Each line is the function of its own correction (:func:`index_correction_arcmin`,
+    :func:`horizon_correction_arcmin`, :func:`dip_correction_arcmin`,
+    :func:`refraction_correction_arcmin`, :func:`semi_diameter_correction_arcmin`,
+    :func:`parallax_in_altitude_arcmin`), each signed and added. Sights are not refused by raising: a
+    sight that cannot be corrected gets NaN and a message in ``error`` (and the input it is about in
+    ``error_column``); a usable sight with a caveat (Ha below 5°) gets one in ``warning``. Call
+    :meth:`AltitudeCorrections.raise_errors` to turn errors into an exception.
     """
-    hs = np.asarray(hs_deg, dtype=float)
-    arrays = np.broadcast_arrays(hs, np.asarray(index_error_arcmin, dtype=float),
-                                 np.asarray(eye_height_m, dtype=float), np.asarray(temperature_c, dtype=float),
-                                 np.asarray(pressure_hpa, dtype=float), np.asarray(sd_arcmin, dtype=float),
-                                 np.asarray(hp_arcmin, dtype=float), np.asarray(lat_deg, dtype=float),
-                                 np.asarray(zn_deg, dtype=float), np.asarray(augment_sd, dtype=bool),
-                                 np.asarray(waterline_nm, dtype=float), np.asarray(measured_dip_arcmin, dtype=float),
-                                 np.asarray(phase_arcmin, dtype=float))
+    arrays = np.broadcast_arrays(*(np.asarray(v, dtype=float) for v in (
+        hs_deg, index_error_arcmin, eye_height_m, temperature_c, pressure_hpa, sd_arcmin, hp_arcmin, lat_deg,
+        zn_deg)), np.asarray(augment_sd, dtype=bool),
+        *(np.asarray(v, dtype=float) for v in (waterline_nm, measured_dip_arcmin, phase_arcmin)))
     hs, ie, eye, temp, pres, sd, hp, lat, zn, augment, waterline, measured, phase = (np.array(a) for a in arrays)
     shape = hs.shape
     kind = np.broadcast_to(horizon_kind(horizon), shape)
-    sign = np.array(np.broadcast_to(limb_sign(limb), shape))
-    sign = np.where(kind == "bubble", 0.0, sign)  # a bubble horizon is on the body's centre
-    error = np.full(shape, "", dtype=object)
-    column = np.full(shape, "", dtype=object)
-    warning = np.full(shape, "", dtype=object)
-
-    def refuse(mask, text, where):
-        _note(error, mask & (error == ""), text)
-        column[mask & (column == "")] = where
-
-    highest = np.vectorize(HIGHEST_READING_DEG.get, otypes=[float])(kind) if kind.size else np.zeros(shape)
-    refuse(~np.isfinite(hs) | (hs < 0) | (hs > highest),
-           "Hs is outside the readings this horizon gives (0-90°; to 180° for an artificial horizon or a back sight)",
-           "hs")
-    refuse(~np.isfinite(ie) | (np.abs(ie) > 30), "index error is outside ±30′", "index_error")
-    has_measured = np.isfinite(measured)
-    needs_eye = np.isin(kind, ["sea", "back", "waterline"]) & ~(has_measured & np.isin(kind, ["sea", "back"]))
-    refuse(needs_eye & (~np.isfinite(eye) | (eye < 0) | (eye > 1000)), "height of eye is outside 0-1000 m",
-           "eye_height")
-    refuse(has_measured & ~np.isin(kind, ["sea", "back"]),
-           "a measured dip applies to a sea horizon or a back sight, not to this horizon", "measured_dip")
-    refuse(has_measured & ((measured < 0) | (measured > 60)), "a measured dip must lie in 0-60′", "measured_dip")
-    short = kind == "waterline"
-    refuse(short & ~(waterline > 0), "a waterline horizon needs the waterline's distance (nm, above 0)",
-           "waterline_distance")
-    beyond = short & (waterline >= horizon_distance_nm(np.where(np.isfinite(eye), eye, 0.0)))
-    refuse(beyond, "the waterline lies beyond the visible sea horizon: reduce it as a sea horizon", "waterline_distance")
-    refuse(~np.isfinite(temp) | (temp < -50) | (temp > 60), "temperature is outside -50 to +60 °C", "temperature")
-    refuse(~np.isfinite(pres) | (pres < 850) | (pres > 1100), "pressure is outside 850-1100 hPa", "pressure")
-    ok = error == ""
-    ic = -ie
-    reading = hs + ic / ARCMIN_PER_DEG  # the reading with its index correction
-    safe_eye = np.where(ok & np.isfinite(eye), eye, 0.0)
-    sea_dip = np.where(has_measured, measured, DIP_ARCMIN_PER_SQRT_M * np.sqrt(safe_eye))
-    short_dip = dip_short_of_horizon_arcmin(safe_eye, np.where(short & ok, waterline, 1.0))
-    dip = np.select([kind == "sea", kind == "back", kind == "waterline"], [-sea_dip, sea_dip, -short_dip], 0.0)
-    # the horizon line: the reading (with IC) turned into an altitude above the point observed
-    altitude = np.select([kind == "artificial", kind == "back"], [reading / 2.0, 180.0 - reading], reading)
+    limb_sign(limb)  # an unknown limb is refused before any work
+    notes = _Notes(shape)
+    _refuse_inputs(notes, kind, hs, ie, eye, waterline, measured, temp, pres)
+    ok = notes.error == ""
+    # the apparent altitude: the reading with its index correction, the horizon line and the dip
+    ic = index_correction_arcmin(ie)
+    reading = hs + ic / ARCMIN_PER_DEG
+    altitude = _altitude_above_horizon_deg(reading, kind)
     horizon_line = (altitude - reading) * ARCMIN_PER_DEG
+    short = kind == "waterline"
+    dip = dip_correction_arcmin(np.where(ok & np.isfinite(eye), eye, 0.0), kind,
+                                waterline_nm=np.where(short & ok, waterline, 1.0),
+                                measured_dip_arcmin=np.where(ok, measured, np.nan))
     ha = altitude + dip / ARCMIN_PER_DEG
-    out_of_range = ok & ((ha < LOWEST_ALTITUDE_DEG) | (ha > 90.0))
-    # the apparent altitude is the dip's doing when the reading alone would have been fine
-    dip_did_it = out_of_range & (altitude >= LOWEST_ALTITUDE_DEG) & (altitude <= 90.0)
-    refuse(out_of_range & dip_did_it, "apparent altitude is outside -1° to 90°: the dip for this height of eye takes "
-                                      "it there", "eye_height")
-    refuse(out_of_range & ~dip_did_it, "apparent altitude is outside -1° to 90°: no refraction model applies", "hs")
-    ok = error == ""
-    _note(warning, ok & (ha < LOW_ALTITUDE_DEG),
-          "low sight (Ha below 5°): refraction is uncertain by several arcminutes")
+    _refuse_apparent(notes, ok, altitude, ha)
+    ok = notes.error == ""
+    notes.warn(ok & (ha < LOW_ALTITUDE_DEG), "low sight (Ha below 5°): refraction is uncertain by several arcminutes")
+    # the centre's observed altitude: refraction, semi-diameter (the Moon's augmented), parallax, phase
     safe_ha = np.where(ok, ha, 45.0)
-    refraction = -bennett_refraction_arcmin(safe_ha, np.where(ok, temp, 10.0), np.where(ok, pres, 1010.0))
+    refraction = refraction_correction_arcmin(safe_ha, np.where(ok, temp, DEFAULT_TEMPERATURE_C),
+                                              np.where(ok, pres, DEFAULT_PRESSURE_HPA))
     topocentric_centre = safe_ha + refraction / ARCMIN_PER_DEG
-    # semi-diameter (augmented for the Moon at the topocentric altitude of its centre)
     factor = np.where(augment, moon_augmentation(topocentric_centre, hp, lat, zn), 1.0)
-    sd_corr = sign * sd * factor
+    sd_corr = semi_diameter_correction_arcmin(sd, limb, factor, kind)
     topocentric_centre = topocentric_centre + sd_corr / ARCMIN_PER_DEG
     parallax = np.where(hp > 0, parallax_in_altitude_arcmin(topocentric_centre, hp, lat, zn), 0.0)
     ho = topocentric_centre + (parallax + phase) / ARCMIN_PER_DEG
@@ -539,4 +583,65 @@ def correct_altitudes(hs_deg: ArrayLike, *, index_error_arcmin: ArrayLike = 0.0,
         hs_deg=hs, ic_arcmin=ic, horizon_arcmin=kept(horizon_line), dip_arcmin=kept(dip),
         ha_deg=kept(np.where(np.isfinite(ha), ha, np.nan)), refraction_arcmin=kept(refraction),
         sd_arcmin=kept(sd_corr), parallax_arcmin=kept(parallax), phase_arcmin=kept(phase), ho_deg=kept(ho),
-        warning=warning, error=error, error_column=column)
+        warning=notes.warning, error=notes.error, error_column=notes.column)
+
+
+def _altitude_above_horizon_deg(reading_deg: np.ndarray, kind: np.ndarray) -> np.ndarray:
+    """The altitude above the point observed that a reading (with its index correction) gives: half of it for
+    an artificial horizon, 180° less it for a back sight, itself for the others."""
+    return np.select([kind == "artificial", kind == "back"], [reading_deg / 2.0, 180.0 - reading_deg], reading_deg)
+
+
+class _Notes:
+    """The per-sight error, the input each error is about, and the warning, as the chain finds them."""
+
+    def __init__(self, shape) -> None:
+        self.error = np.full(shape, "", dtype=object)
+        self.column = np.full(shape, "", dtype=object)
+        self.warning = np.full(shape, "", dtype=object)
+
+    def refuse(self, mask, text: str, where: str) -> None:
+        _note(self.error, mask & (self.error == ""), text)
+        self.column[mask & (self.column == "")] = where
+
+    def warn(self, mask, text: str) -> None:
+        _note(self.warning, mask, text)
+
+
+def _refuse_inputs(notes: _Notes, kind, hs, ie, eye, waterline, measured, temp, pres) -> None:
+    """Each sight's inputs checked against the readings its horizon gives and the vocabulary's ranges."""
+    highest = np.vectorize(HIGHEST_READING_DEG.get, otypes=[float])(kind) if kind.size else np.zeros(kind.shape)
+    notes.refuse(~np.isfinite(hs) | (hs < 0) | (hs > highest),
+                 "Hs is outside the readings this horizon gives (0-90°; to 180° for an artificial horizon or a back "
+                 "sight)", "hs")
+    notes.refuse(_outside(ie, INDEX_ERROR_ARCMIN), f"index error is outside {_index_range()}", "index_error")
+    has_measured = np.isfinite(measured)
+    reflecting = np.isin(kind, ["sea", "back"])
+    needs_eye = np.isin(kind, ["sea", "back", "waterline"]) & ~(has_measured & reflecting)
+    notes.refuse(needs_eye & _outside(eye, EYE_HEIGHT_M), f"height of eye is outside {_range(EYE_HEIGHT_M, ' m')}",
+                 "eye_height")
+    notes.refuse(has_measured & ~reflecting,
+                 "a measured dip applies to a sea horizon or a back sight, not to this horizon", "measured_dip")
+    notes.refuse(has_measured & _outside(measured, MEASURED_DIP_ARCMIN),
+                 f"a measured dip must lie in {_range(MEASURED_DIP_ARCMIN, '′')}", "measured_dip")
+    short = kind == "waterline"
+    with np.errstate(invalid="ignore"):
+        notes.refuse(short & ~(waterline > 0), "a waterline horizon needs the waterline's distance (nm, above 0)",
+                     "waterline_distance")
+        beyond = short & (waterline >= horizon_distance_nm(np.where(np.isfinite(eye), eye, 0.0)))
+    notes.refuse(beyond, "the waterline lies beyond the visible sea horizon: reduce it as a sea horizon",
+                 "waterline_distance")
+    notes.refuse(_outside(temp, TEMPERATURE_C), f"temperature is outside {_range(TEMPERATURE_C, ' °C')}",
+                 "temperature")
+    notes.refuse(_outside(pres, PRESSURE_HPA), f"pressure is outside {_range(PRESSURE_HPA, ' hPa')}", "pressure")
+
+
+def _refuse_apparent(notes: _Notes, ok, altitude, ha) -> None:
+    """Sights whose apparent altitude no refraction model takes, and why: the dip's doing when the reading
+    alone would have been fine."""
+    out_of_range = ok & ((ha < LOWEST_ALTITUDE_DEG) | (ha > 90.0))
+    dip_did_it = out_of_range & (altitude >= LOWEST_ALTITUDE_DEG) & (altitude <= 90.0)
+    notes.refuse(out_of_range & dip_did_it, "apparent altitude is outside -1° to 90°: the dip for this height of "
+                                            "eye takes it there", "eye_height")
+    notes.refuse(out_of_range & ~dip_did_it, "apparent altitude is outside -1° to 90°: no refraction model applies",
+                 "hs")

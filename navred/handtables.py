@@ -31,12 +31,14 @@ from .angles import wrap_360, wrap_axial
 from .constants import ARCMIN_PER_DEG, NS_PER_DAY, NS_PER_HOUR
 from .corrections import (
     PHASE_CENTROID_FACTOR,
-    bennett_refraction_arcmin,
-    dip_arcmin,
+    air_density_factor,
+    dip_angle_arcmin,
     parallax_in_altitude_arcmin,
+    refraction_angle_arcmin,
 )
 from .errors import NavredError
 from .stars import star_table
+from .vocabulary import UNIT_CONVERSIONS
 
 #: The bodies of the hourly pages, in the order of their columns.
 HOURLY_BODIES = ("Aries", "Sun", "Moon", "Venus", "Mars", "Jupiter", "Saturn")
@@ -210,8 +212,9 @@ DIP_HEIGHTS_FT = np.array([2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15, 16, 1
 
 def dip_rows() -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """The dip table: (heights m, dip′ printed, heights ft, dip′ printed); the dip is subtracted."""
-    return (DIP_HEIGHTS_M, printed_arcmin(dip_arcmin(DIP_HEIGHTS_M)), DIP_HEIGHTS_FT,
-            printed_arcmin(dip_arcmin(DIP_HEIGHTS_FT * 0.3048)))
+    metres_per_foot = UNIT_CONVERSIONS["ft"][0]
+    return (DIP_HEIGHTS_M, printed_arcmin(dip_angle_arcmin(DIP_HEIGHTS_M)), DIP_HEIGHTS_FT,
+            printed_arcmin(dip_angle_arcmin(DIP_HEIGHTS_FT * metres_per_foot)))
 
 
 #: Apparent altitudes (degrees) of the refraction table: closer where refraction bends fastest, so that
@@ -227,17 +230,17 @@ FACTOR_PRESSURES_HPA = np.arange(960.0, 1050.0, 10.0)
 
 def refraction_rows() -> tuple[np.ndarray, np.ndarray]:
     """(apparent altitude °, refraction′ at 10 °C and 1010 hPa, printed); the refraction is subtracted."""
-    return REFRACTION_ALTITUDES_DEG, printed_arcmin(bennett_refraction_arcmin(REFRACTION_ALTITUDES_DEG, 10.0, 1010.0))
+    return REFRACTION_ALTITUDES_DEG, printed_arcmin(refraction_angle_arcmin(REFRACTION_ALTITUDES_DEG))
 
 
 def refraction_factor_grid() -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """(temperatures °C, pressures hPa, factor[t, p] to 2 decimals): refraction = table value × factor.
 
     The factor is (P / 1010)(283 / (273 + T)), the density ratio Bennett's formula is scaled by
-    (:func:`navred.corrections.bennett_refraction_arcmin`).
+    (:func:`navred.corrections.air_density_factor`).
     """
     t, p = FACTOR_TEMPERATURES_C[:, None], FACTOR_PRESSURES_HPA[None, :]
-    return FACTOR_TEMPERATURES_C, FACTOR_PRESSURES_HPA, np.round((p / 1010.0) * (283.0 / (273.0 + t)), 2)
+    return FACTOR_TEMPERATURES_C, FACTOR_PRESSURES_HPA, np.round(air_density_factor(t, p), 2)
 
 
 #: Altitudes (degrees, of the Moon's centre after refraction) and HPs (arcminutes) of the parallax table.

@@ -35,14 +35,10 @@ from numpy.typing import ArrayLike
 
 from .almanac import places
 from .angles import wrap_180
-from .constants import (
-    ARCMIN_PER_DEG,
+from .constants import ARCMIN_PER_DEG, NS_PER_MINUTE, NS_PER_SECOND
+from .corrections import (
     DEFAULT_PRESSURE_HPA,
     DEFAULT_TEMPERATURE_C,
-    NS_PER_MINUTE,
-    NS_PER_SECOND,
-)
-from .corrections import (
     bennett_refraction_arcmin,
     observer_geometry,
     parallax_in_altitude_arcmin,

@@ -19,13 +19,14 @@ from numpy.typing import ArrayLike
 from .almanac import places
 from .angles import wrap_180
 from .constants import ARCMIN_PER_DEG, MINUTES_PER_DAY, NS_PER_HOUR, NS_PER_MINUTE
-from .corrections import DIP_ARCMIN_PER_SQRT_M, refraction_arcmin
+from .corrections import dip_angle_arcmin, refraction_angle_arcmin
 from .errors import NavredError, api_boundary
 from .reckoning import velocity_kn
 from .sailings import rhumb_destination
 from .stars import SOLAR_SYSTEM, known_bodies, star_table
 from .timescales import utc_jd_to_datetime64, utc_julian_date
 from .triangle import computed_altitude_azimuth
+from .vocabulary import COLUMN
 
 #: Geocentric altitude of the Sun's centre at sunrise and sunset seen from sea level:
 #: refraction at the horizon 34′ and the semi-diameter 16′ (common practice; the almanac's value).
@@ -189,8 +190,9 @@ def voyage_events(first_date: object, days: int, lat_deg: float, lon_deg: float,
     lat_deg, lon_deg = float(lat_deg), float(lon_deg)
     eye_height_m = _number(eye_height_m, "height of eye")
     course_deg, speed_kn = _number(course_deg, "course"), _number(speed_kn, "speed")
-    if not 0.0 <= eye_height_m <= 1000.0:
-        raise NavredError(f"height of eye {eye_height_m!r} m is outside 0-1000 m")
+    eye = COLUMN["eye_height"]
+    if not eye.low <= eye_height_m <= eye.high:
+        raise NavredError(f"height of eye {eye_height_m!r} m is outside {eye.low:g}-{eye.high:g} m")
     start = _local_midnight(first_date, lon_deg)
     track = Track(lat_deg, lon_deg, start, course_deg, speed_kn)
     # each day starts at local midnight at that day's DR longitude (near enough: iterate once)
@@ -198,7 +200,7 @@ def voyage_events(first_date: object, days: int, lat_deg: float, lon_deg: float,
     _, lons = track.position(day_starts)
     shift = ((wrap_180(lons - lon_deg)) / 15.0 * NS_PER_HOUR).astype(np.int64).astype("timedelta64[ns]")
     day_starts = day_starts - shift
-    dip_deg = DIP_ARCMIN_PER_SQRT_M * math.sqrt(eye_height_m) / ARCMIN_PER_DEG
+    dip_deg = float(dip_angle_arcmin(eye_height_m)) / ARCMIN_PER_DEG
     rising, setting, _, _ = _crossings(day_starts, track, {
         "sunrise": SUNRISE_ALTITUDE_DEG - dip_deg, "civil": CIVIL_DEG, "nautical": NAUTICAL_DEG})
     noon = meridian_passage_utc("Sun", day_starts, track)
@@ -554,9 +556,8 @@ def visible_horizon_altitude_deg(eye_height_m: ArrayLike = 0.0) -> np.ndarray:
     The apparent altitude is −dip; refraction there (Bennett at −dip) lowers the true
     altitude further: h = −dip − R(−dip). At sea level −34.5′.
     """
-    dip_arcmin = DIP_ARCMIN_PER_SQRT_M * np.sqrt(np.asarray(eye_height_m, dtype=float))
-    apparent = -dip_arcmin / ARCMIN_PER_DEG
-    return apparent - refraction_arcmin(np.maximum(apparent, -1.0)) / ARCMIN_PER_DEG
+    apparent = -dip_angle_arcmin(eye_height_m) / ARCMIN_PER_DEG
+    return apparent - refraction_angle_arcmin(np.maximum(apparent, -1.0)) / ARCMIN_PER_DEG
 
 
 def true_azimuth(body: str, utc: object, lat_deg: ArrayLike, lon_deg: ArrayLike) -> tuple[np.ndarray, np.ndarray]:

@@ -23,8 +23,14 @@ from numpy.typing import ArrayLike
 
 from .almanac import places
 from .angles import wrap_180, wrap_360
-from .constants import ARCMIN_PER_DEG, DEFAULT_PRESSURE_HPA, DEFAULT_TEMPERATURE_C
-from .corrections import correct_altitudes, planet_phases, sun_bearing_from_up_deg
+from .constants import ARCMIN_PER_DEG
+from .corrections import (
+    DEFAULT_PRESSURE_HPA,
+    DEFAULT_TEMPERATURE_C,
+    correct_altitudes,
+    planet_phases,
+    sun_bearing_from_up_deg,
+)
 from .handtables import printed_deg
 from .plan import as_datetime64
 from .triangle import computed_altitude_azimuth

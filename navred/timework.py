@@ -18,11 +18,11 @@ import datetime as _dt
 import re
 
 from .errors import TimeInputError
-from .vocabulary import ZONE_LETTERS
+from .vocabulary import COLUMN, ZONE_LETTERS
 
 #: The declared orders of a numeric date that is not ISO 8601.
 DATE_ORDERS = ("day-first", "month-first")
-MAX_WATCH_ERROR_S = 3600.0
+MAX_WATCH_ERROR_S = float(COLUMN["watch_error"].high)
 
 _ISO_DATE = re.compile(r"^\s*(\d{4})-(\d{1,2})-(\d{1,2})\s*$")
 _YEAR_FIRST = re.compile(r"^\s*(\d{4})[/.](\d{1,2})[/.](\d{1,2})\s*$")

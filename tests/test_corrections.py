@@ -9,15 +9,16 @@ from hypothesis import strategies as st
 
 from navred.corrections import (
     correct_altitudes,
-    dip_arcmin,
-    dip_arcmin_from_feet,
+    dip_angle_arcmin,
+    dip_correction_arcmin,
     dip_short_of_horizon_arcmin,
     horizon_distance_nm,
     index_correction_arcmin,
     moon_augmentation,
     parallax_in_altitude_arcmin,
     parse_index_error_arcmin,
-    refraction_arcmin,
+    refraction_angle_arcmin,
+    refraction_correction_arcmin,
     semi_diameter_correction_arcmin,
 )
 from navred.errors import SightInputError
@@ -30,7 +31,7 @@ def bennett_published_arcmin(h_deg):
 
 def test_refraction_is_bennetts_formula_at_standard_conditions():
     heights = np.linspace(-1.0, 89.0, 500)
-    assert np.allclose(refraction_arcmin(heights), bennett_published_arcmin(heights), atol=1e-12)
+    assert np.allclose(refraction_angle_arcmin(heights), bennett_published_arcmin(heights), atol=1e-12)
 
 
 @pytest.mark.parametrize("ha_deg, expected_arcmin, tolerance", [
@@ -40,7 +41,7 @@ def test_refraction_is_bennetts_formula_at_standard_conditions():
     (90.0, 0.0, 0.01),
 ])
 def test_refraction_matches_the_mean_refraction_table(ha_deg, expected_arcmin, tolerance):
-    assert float(refraction_arcmin(ha_deg)) == pytest.approx(expected_arcmin, abs=tolerance)
+    assert float(refraction_angle_arcmin(ha_deg)) == pytest.approx(expected_arcmin, abs=tolerance)
 
 
 def test_refraction_against_skyfield():
@@ -50,38 +51,65 @@ def test_refraction_against_skyfield():
     for t_c, p_hpa in [(10.0, 1010.0), (-10.0, 1030.0), (30.0, 990.0)]:
         heights = np.linspace(-1.0, 89.0, 200)
         sky = sky_refraction(heights, t_c, p_hpa) * 60
-        ours = refraction_arcmin(heights, t_c, p_hpa)
+        ours = refraction_angle_arcmin(heights, t_c, p_hpa)
         # the two density scalings differ by 0.07 % (0.03′ at the horizon)
         assert np.all(np.abs(ours - sky) < 0.001 * sky + 0.001)
 
 
 def test_refraction_scales_with_density():
     # colder, denser air refracts more (common practice)
-    assert refraction_arcmin(5.0, -10.0, 1030.0) > refraction_arcmin(5.0, 10.0, 1010.0) > \
-        refraction_arcmin(5.0, 35.0, 990.0)
+    assert refraction_angle_arcmin(5.0, -10.0, 1030.0) > refraction_angle_arcmin(5.0, 10.0, 1010.0) > \
+        refraction_angle_arcmin(5.0, 35.0, 990.0)
 
 
 def test_refraction_refuses_below_minus_one_and_above_90():
     with pytest.raises(SightInputError, match="-1° to 90°"):
-        refraction_arcmin(-1.5)
+        refraction_angle_arcmin(-1.5)
     with pytest.raises(SightInputError, match=r"indices 1"):
-        refraction_arcmin([10.0, 91.0])
+        refraction_angle_arcmin([10.0, 91.0])
 
 
 def test_dip_formula_and_rule_of_thumb():
     # dip = 1.76′ √h(m) (almanac dip table coefficient, from memory)
     heights_m = np.array([0.0, 1.0, 2.4, 10.0, 25.0])
-    assert np.allclose(dip_arcmin(heights_m), 1.76 * np.sqrt(heights_m))
+    assert np.allclose(dip_angle_arcmin(heights_m), 1.76 * np.sqrt(heights_m))
     # rule of thumb: dip in arcminutes is close to √(height in feet) (common practice)
     feet = heights_m / 0.3048
-    assert np.allclose(dip_arcmin(heights_m), np.sqrt(feet), rtol=0.04)
-    assert np.allclose(dip_arcmin_from_feet(feet), dip_arcmin(heights_m), rtol=0.01)
-    assert float(dip_arcmin(10.0, "artificial")) == 0.0 and float(dip_arcmin(10.0, "bubble")) == 0.0
-    assert float(dip_arcmin(10.0, "back")) == float(dip_arcmin(10.0))  # the horizon behind is as low
+    assert np.allclose(dip_angle_arcmin(heights_m), np.sqrt(feet), rtol=0.04)
+    assert float(dip_angle_arcmin(10.0, "artificial")) == 0.0 and float(dip_angle_arcmin(10.0, "bubble")) == 0.0
+    assert float(dip_angle_arcmin(10.0, "back")) == float(dip_angle_arcmin(10.0))  # the horizon behind is as low
     with pytest.raises(SightInputError, match="0-1000 m"):
-        dip_arcmin(-2.0)
+        dip_angle_arcmin(-2.0)
     with pytest.raises(SightInputError, match="sea, artificial, bubble, back, waterline"):
-        dip_arcmin(2.0, "cloud")
+        dip_angle_arcmin(2.0, "cloud")
+
+
+def test_the_working_lines_are_the_signed_corrections():
+    """Each line of the working is its correction, signed and added, from the function of the same name (the
+    published formulas: dip 1.76′ √h, from memory; Bennett's refraction; an artificial horizon reads twice the
+    altitude, common practice)."""
+    heights_m = np.array([2.4, 10.0, 25.0])
+    assert np.allclose(dip_correction_arcmin(heights_m), -1.76 * np.sqrt(heights_m))
+    assert np.allclose(dip_correction_arcmin(heights_m, "back"), 1.76 * np.sqrt(heights_m))
+    assert float(dip_correction_arcmin(10.0, "bubble")) == 0.0
+    assert float(dip_correction_arcmin(10.0, measured_dip_arcmin=4.8)) == -4.8
+    assert float(dip_correction_arcmin(10.0, "waterline", waterline_nm=1.0)) == pytest.approx(
+        -float(dip_short_of_horizon_arcmin(10.0, 1.0)))
+    assert float(refraction_correction_arcmin(10.0)) == pytest.approx(-bennett_published_arcmin(10.0))
+    with pytest.raises(SightInputError, match="waterline's distance"):
+        dip_correction_arcmin(10.0, "waterline")
+    with pytest.raises(SightInputError, match="sea horizon or a back sight"):
+        dip_correction_arcmin(10.0, "artificial", measured_dip_arcmin=3.0)
+    chain = correct_altitudes(np.array([30.0, 60.0, 120.0]), index_error_arcmin=1.2, eye_height_m=10.0,
+                              horizon=np.array(["sea", "artificial", "back"]), limb="lower", sd_arcmin=16.0)
+    assert np.allclose(chain.ic_arcmin, -1.2)
+    assert np.allclose(chain.dip_arcmin, [-1.76 * np.sqrt(10.0), 0.0, 1.76 * np.sqrt(10.0)])
+    reading = np.array([30.0, 60.0, 120.0]) - 1.2 / 60
+    assert np.allclose(chain.horizon_arcmin, [0.0, -reading[1] / 2 * 60, (180.0 - 2 * reading[2]) * 60])
+    assert np.allclose(chain.refraction_arcmin, -bennett_published_arcmin(chain.ha_deg))
+    assert np.allclose(chain.sd_arcmin, 16.0)
+    total = chain.hs_deg * 60 + chain.ic_arcmin + chain.horizon_arcmin + chain.dip_arcmin
+    assert np.allclose(total, chain.ha_deg * 60)
 
 
 def test_dip_short_of_the_horizon():
@@ -94,7 +122,7 @@ def test_dip_short_of_the_horizon():
     # near the visible horizon (2.07 √h nm) the waterline's dip tends to the sea horizon's (within 10 %)
     height = 9.0
     far = horizon_distance_nm(height) * 0.999
-    assert float(dip_short_of_horizon_arcmin(height, far)) == pytest.approx(float(dip_arcmin(height)), rel=0.1)
+    assert float(dip_short_of_horizon_arcmin(height, far)) == pytest.approx(float(dip_angle_arcmin(height)), rel=0.1)
 
 
 def test_index_error_on_and_off_the_arc():

@@ -137,6 +137,14 @@ def _csv_safe(frame):
     return csv_safe(frame)
 
 
+def _column_number(value: float | None, name: str, key: str):
+    """A number for one of the sight log's quantities (course, speed, height of eye...), checked against the
+    range the log's column takes (``navred.vocabulary.COLUMNS``, the one table of ranges)."""
+    from ..vocabulary import COLUMN
+
+    return _number(value, name, COLUMN[key].low, COLUMN[key].high)
+
+
 def _number(value: float | None, name: str, low: float, high: float, why: str = ""):
     """A number given on the command line, refused with one line when not finite or out of range (``why``: what
     the range is, for the message)."""
@@ -782,7 +790,7 @@ def plan_command(
         if sky:
             check_output(sky, suffixes=(".png", ".svg"), what="--sky")
         lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
-        _number(course, "--course", 0.0, 360.0), _number(speed, "--speed", 0.0, 60.0)
+        _column_number(course, "--course", "course"), _column_number(speed, "--speed", "speed")
         _number(min_alt, "--min-alt", 0.0, 90.0), _number(max_alt, "--max-alt", 0.0, 90.0)
         eye_m = _eye_option(eye)
         try:
@@ -856,7 +864,7 @@ def _eye_option(text: str | None) -> float:
     if UNIT_SPELLINGS.get(unit) not in ("m", "ft"):
         raise NavredError(f"--eye {text!r}: the unit {unit!r} is not one for a height; give metres (m) or feet (ft)")
     metres = convert_to_working_unit(value, UNIT_SPELLINGS[unit])
-    return _number(metres, "--eye (metres)", 0.0, 1000.0)
+    return _column_number(metres, "--eye (metres)", "eye_height")
 
 
 def _output_files(paths: list[str] | None, suffixes: dict[str, str], inputs=()) -> dict[str, str]:
@@ -928,7 +936,7 @@ def paper_command(
         if tables and Path(tables).exists() and not Path(tables).is_dir():
             raise NavredError(f"--tables {tables}: that is a file; give a folder for the tables")
         lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
-        _number(course, "--course", 0.0, 360.0), _number(speed, "--speed", 0.0, 60.0)
+        _column_number(course, "--course", "course"), _column_number(speed, "--speed", "speed")
         try:
             index_error_arcmin = float(parse_index_error_arcmin(index_error))
         except NavredError as exc:
@@ -992,7 +1000,7 @@ def compass_command(
         lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
         variation = _angle_option(variation_text, "variation", "--variation")
         _number(bearing, "--compass-bearing", 0.0, 360.0), _number(heading, "--heading", 0.0, 360.0)
-        _number(eye, "--eye", 0.0, 1000.0)
+        _column_number(eye, "--eye", "eye_height")
         name = canonical_body_name(body)
         zn, hc = compass_check(name, utc, lat_deg, lon_deg)
         typer.echo(f"{name} at {utc}: true azimuth Zn {zn:05.1f}°, altitude {format_angle(hc, 'signed')}")
@@ -1052,7 +1060,7 @@ def azimuths_command(
 
     with _reported(ctx):
         lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
-        _number(course, "--course", 0.0, 360.0), _number(speed, "--speed", 0.0, 60.0)
+        _column_number(course, "--course", "course"), _column_number(speed, "--speed", "speed")
         _number(every, "--every", 1.0, 240.0)
         eye_m = _eye_option(eye)
         try:

@@ -679,9 +679,9 @@ def _numeric_checks(column, numbers: np.ndarray, units: np.ndarray) -> tuple[np.
             bad |= (used < -180.0) | (used > 360.0)
             used = wrap_180(used)  # 354.47 east of Greenwich is 5.53 west
         elif kind == "index_error":
-            bad |= np.abs(used) > 30.0
+            bad |= (used < column.low) | (used > column.high)
         elif kind == "watch_error":
-            bad |= (np.abs(used) > 3600.0) | (used > 0.0)  # a positive number has lost its sign: judged one by one
+            bad |= (used < column.low) | (used > column.high) | (used > 0.0)  # a positive number has lost its sign: judged one by one
         elif kind == "zone":
             bad |= True  # a number cell of a zone description: each is judged one by one
     return used, bad

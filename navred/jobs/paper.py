@@ -504,7 +504,7 @@ def _formulas_page(twilights, hourly, stars, eye_height_m, index_error_arcmin) -
 def _worked_sight(twilights, hourly, stars, eye_height_m, index_error_arcmin) -> list[str]:
     """A star of the first twilight, taken four minutes after the planned time with the preset reading, worked
     from the printed tables: the lines a navigator writes."""
-    from ..corrections import DIP_ARCMIN_PER_SQRT_M, bennett_refraction_arcmin
+    from ..corrections import dip_angle_arcmin, refraction_angle_arcmin
     from ..handtables import hourly_value_at
 
     for twilight in twilights:
@@ -530,9 +530,9 @@ def _worked_sight(twilights, hourly, stars, eye_height_m, index_error_arcmin) ->
     f = (offset - row * NS_PER_HOUR) / NS_PER_HOUR
     aries = hourly.gha_deg[hourly.column("Aries")]
     gha_aries = float(hourly_value_at(hourly, "Aries", np.array([when]))[0])
-    dip = round(DIP_ARCMIN_PER_SQRT_M * math.sqrt(eye_height_m), 1)
+    dip = round(float(dip_angle_arcmin(eye_height_m)), 1)
     ha = hs + (-index_error_arcmin - dip) / ARCMIN_PER_DEG
-    refraction = round(float(bennett_refraction_arcmin(ha, 10.0, 1010.0)), 1)
+    refraction = round(float(refraction_angle_arcmin(ha)), 1)
     ho = ha - refraction / ARCMIN_PER_DEG
     gha = float(wrap_360(gha_aries + sha))
     lat, lon = p.lat_deg, p.lon_deg

@@ -39,6 +39,7 @@ from .errors import NavredError, failed_elements
 from .reckoning import velocity_kn
 from .sailings import rhumb_inverse, rhumb_track_through
 from .stats import chi_square_2_quantile, chi_square_quantile, f_2_quantile, student_t_quantile
+from .status import FixKind, RunFrom
 from .timescales import utc_jd_to_datetime64, utc_julian_date
 from .triangle import computed_altitude_azimuth, destination, distance_bearing
 
@@ -400,14 +401,11 @@ class ChartCheck:
     inside_ellipse: bool
 
 
-FIX, LINE, LATITUDE = "fix", "line of position", "latitude"
-
-
 @dataclass
 class FixResult:
     """A fix (or a line, or a latitude), how good it is, and which sight was bad. One residual and flag per input row.
 
-    ``kind`` is ``"fix"``, ``"line of position"`` or ``"latitude"``: when the lines cross at less
+    ``kind`` is a :class:`~navred.status.FixKind` (``"fix"``, ``"line of position"`` or ``"latitude"``): when the lines cross at less
     than :data:`LINE_ONLY_DEG` there is no fix, and ``lat_deg``/``lon_deg`` are the foot of the
     combined line nearest the DR, which runs at ``line_bearing_deg``; the ellipse is then a band
     of half-width ``ellipse_semi_minor_nm`` along the line (its semi-major axis is infinite).
@@ -433,7 +431,7 @@ class FixResult:
     #: effective number when the DR's known error over the run is part of the ellipse), 'chi-square(2)' for
     #: a σ assumed (two sights), 't(ν)' for a line's band
     quantile: str = ""
-    kind: str = FIX
+    kind: FixKind = FixKind.FIX
     spread_deg: float = float("nan")
     line_bearing_deg: float | None = None
     #: the line's distance from the DR at the fix time, toward line_toward_deg (a line or latitude)
@@ -465,7 +463,7 @@ class FixResult:
     detectable_blunder_arcmin: float = float("nan")
     #: how the run between the sights was found: 'course and speed', 'course, speed and current', 'the
     #: rows' own DRs', or 'none' (sights taken together, or a ship taken as stopped)
-    run_from: str = ""
+    run_from: RunFrom = RunFrom.NONE
     #: the fix's distance from the DR at the fix time (nm)
     dr_distance_nm: float = float("nan")
     #: the sights scatter beyond any hand-held sextant (SEXTANT_SIGMA_LIMIT_ARCMIN, at SCATTER_CONFIDENCE)
@@ -487,7 +485,7 @@ class FixResult:
 
     @property
     def is_fix(self) -> bool:
-        return self.kind == FIX
+        return self.kind == FixKind.FIX
 
     @property
     def residual_nm(self) -> np.ndarray:
@@ -950,8 +948,8 @@ def _fix_batch(sights: _Sights, group: np.ndarray, n_groups: int, ok: np.ndarray
                 setattr(result, name, values[a:b])
             result.utc = fix_time[wi]
             result.dr_lat_deg, result.dr_lon_deg = lat0_list[wi], lon0_list[wi]
-            result.run_from = run_from[wi] if key != 4 else "solved (course and speed made good)"
-            if result.kind == LATITUDE and n_used[wi] >= 3:
+            result.run_from = run_from[wi] if key != 4 else RunFrom.SOLVED
+            if result.kind == FixKind.LATITUDE and n_used[wi] >= 3:
                 used_here = use[wi]
                 _noon_curve(result, hours[wi][used_here], g_ho[wi][used_here], g_dec[wi][used_here])
             results[g] = result
@@ -971,7 +969,7 @@ def _dr_age_at_fix(s: _Sights, last_row: np.ndarray, fix_time: np.ndarray) -> np
     return np.where(np.isfinite(age), np.abs(age) + since, UNKNOWN_DR_AGE_H)
 
 
-def _sense_checks(results: list[FixResult], run_from: list[str], span_min: np.ndarray, age_h: np.ndarray,
+def _sense_checks(results: list[FixResult], run_from: list[RunFrom], span_min: np.ndarray, age_h: np.ndarray,
                   speed_kn: np.ndarray, age_known: np.ndarray) -> None:
     """The fix-level warnings that look past the arithmetic, for a batch of results at once: a ship taken
     as stopped, a fix far from its DR, a scatter no sextant gives."""
@@ -996,7 +994,7 @@ def _sense_checks(results: list[FixResult], run_from: list[str], span_min: np.nd
                                                                / dof[dof >= 1])
     wild = is_fix & (sigma > limit)
     far = distance > allowed
-    stopped = (np.array(run_from) == "none") & (span_min > STOPPED_SPAN_MIN)
+    stopped = (np.array(run_from, dtype=object) == RunFrom.NONE) & (span_min > STOPPED_SPAN_MIN)
     for j, result in enumerate(results):
         result.dr_distance_nm = float(distance[j])
         result.scatter_impossible = bool(wild[j])
@@ -1020,7 +1018,7 @@ def _sense_checks(results: list[FixResult], run_from: list[str], span_min: np.nd
             f"sextant (a good sight is within about 1′, {SEXTANT_SIGMA_LIMIT_ARCMIN:.0f}′ in a seaway): most "
             "likely the altitudes are written wrongly (degrees and minutes written as a decimal, 29.216 for "
             "29° 21.6′), or a time or a body's name is wrong"
-            + ("; or the run between the sights (course, speed, current)" if run_from[j] not in ("none", "")
+            + ("; or the run between the sights (course, speed, current)" if run_from[j] != RunFrom.NONE
                else ""))
 
 
@@ -1118,10 +1116,10 @@ def _run_velocities(s: _Sights, index: np.ndarray, present: np.ndarray, hours: n
         if apart.any():
             rows = np.flatnonzero(apart)
             vn[rows], ve[rows] = _dr_run(lat[rows], lon[rows], hours[rows], present[rows])
-    run_from = np.where(apart, "the rows' own DRs",
-                        np.where(moving, np.where(with_current, "course, speed and current", "course and speed"),
-                                 np.where(with_current, "current", "none")))
-    return vn, ve, run_from.tolist()
+    run_from = np.where(apart, RunFrom.OWN_DRS,
+                        np.where(moving, np.where(with_current, RunFrom.COURSE_SPEED_AND_CURRENT, RunFrom.COURSE_AND_SPEED),
+                                 np.where(with_current, RunFrom.CURRENT, RunFrom.NONE)))
+    return vn, ve, [RunFrom(word) for word in run_from.tolist()]
 
 
 def _dr_run(lat: np.ndarray, lon: np.ndarray, hours: np.ndarray, present: np.ndarray):
@@ -1486,7 +1484,7 @@ def _line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0, dr_
             ellipse_semi_minor_nm=float(half_width[j]), ellipse_orientation_deg=float(along[j]),
             residual_arcmin=residual[j], outlier=outlier[j], warnings=[message], used=u[j], n_sights=int(n[j]),
             covariance_nm2=np.array([[variance[j], 0.0], [0.0, np.inf]]), confidence_scale=float(t[j]),
-            sigma_source=source, iterations=0, quantile=quantile, kind=LATITUDE if meridian[j] else LINE,
+            sigma_source=source, iterations=0, quantile=quantile, kind=FixKind.LATITUDE if meridian[j] else FixKind.LINE,
             spread_deg=float(spread0[rows[j]]), line_bearing_deg=float(along[j]), line_offset_nm=float(offset[j]),
             line_toward_deg=float(toward[j]), dr_error_included=bool(run_included[j]), redundant=d,
             blunder_note=_blunder_note(int(n[j]), d, float(detectable[j]), 1),
@@ -1619,4 +1617,4 @@ def latitude_from_noon_curve(hours: ArrayLike, ho_deg: ArrayLike, dec_deg: float
 
 __all__ = ["fix_from_sights", "fixes_from_sights", "GroupFixes", "FixResult", "ChartCheck", "solve_fixes", "error_ellipse", "Track",
            "run_error_covariance", "azimuth_spread_deg", "latitude_by_meridian_altitude", "latitude_by_polaris",
-           "ex_meridian_latitude", "latitude_from_noon_curve", "FIX", "LINE", "LATITUDE"]
+           "ex_meridian_latitude", "latitude_from_noon_curve"]

@@ -15,6 +15,7 @@ import typer
 from .. import __version__
 from ..angles import wrap_360
 from ..errors import NavredError, NavredInternalError, NavredWarning
+from ..status import FixKind, RunFrom, SightStatus
 
 app = typer.Typer(
     name="navred",
@@ -280,7 +281,7 @@ def _reduced_block_csv(plan, k: int) -> tuple[str, int, int]:
     from ..io.output import csv_text
 
     reduced = _reduced(plan.read(k))
-    return csv_text(reduced, header=k == 0), len(reduced), int((reduced.status != "error").sum())
+    return csv_text(reduced, header=k == 0), len(reduced), int((reduced.status != SightStatus.ERROR).sum())
 
 
 def _nothing_reduced(rows: int, reduced: int, where: str = "navred reduce names each row and why") -> None:
@@ -293,7 +294,7 @@ def _nothing_reduced(rows: int, reduced: int, where: str = "navred reduce names 
 
 
 def _count_reduced(reduced) -> int:
-    return int((reduced["status"] != "error").sum()) if len(reduced) else 0
+    return int((reduced["status"] != SightStatus.ERROR).sum()) if len(reduced) else 0
 
 
 def _labels(reduced):
@@ -337,7 +338,7 @@ def reduce_command(
                 _print_notes(ratings, log)
                 reduced = _reduced(log)
                 sys.stdout.write(csv_text(reduced))
-                rows, done = len(reduced), int((reduced.status != "error").sum())
+                rows, done = len(reduced), int((reduced.status != SightStatus.ERROR).sum())
             else:
                 _print_notes(ratings, plan)
                 for text, block_rows, block_done in forked_map(_reduced_block_csv, range(len(plan)), context=plan,
@@ -356,7 +357,7 @@ def reduce_command(
         typer.echo(f"{'row':>{width}}  {'body':<15}{'UTC':<21}{'Ho':>12}{'Hc':>12}{'Zn':>8}  {'intercept':<18}note")
         for label, row in zip(labels, reduced.itertuples()):
             when = f"{row.sight_utc:%Y-%m-%d %H:%M:%S}" if str(row.sight_utc) != "NaT" else ""
-            if row.status == "error":
+            if row.status == SightStatus.ERROR:
                 typer.echo(f"{label:>{width}}  {str(row.body_name or '?'):<15}{when:<21}{'not reduced:':>12} "
                            f"{row.message}")
                 continue
@@ -393,7 +394,7 @@ def _print_fix(group, reduced, labels) -> None:
     else:
         typer.echo(f'No fix in "{group.name}": {int(fix.used.sum())} sights whose lines cross at {fix.spread_deg:.0f}° '
                    f"give a {fix.kind}, at {when} UTC")
-        if fix.kind == "latitude":
+        if fix.kind == FixKind.LATITUDE:
             typer.echo(f"  latitude       {format_angle(fix.lat_deg, 'lat')}, 95 % band {fix.ellipse_text()}"
                        + (f"; noon curve {format_angle(fix.noon_curve_latitude_deg, 'lat')}"
                           if fix.noon_curve_latitude_deg is not None else ""))
@@ -407,7 +408,7 @@ def _print_fix(group, reduced, labels) -> None:
                + (f"; fix standard error {fix.standard_error_nm:.2f} nm" if fix.is_fix else ""))
     if fix.course_made_good_deg is not None:
         typer.echo(f"  made good      {fix.course_made_good_deg:05.1f}° at {fix.speed_made_good_kn:.1f} kn")
-    if fix.run_from not in ("", "none"):
+    if fix.run_from != RunFrom.NONE:
         typer.echo(f"  run between the sights: {fix.run_from}")
     typer.echo(f"  blunder check  {fix.blunder_note}")
     width = max([len(labels[r]) for r in group.rows] + [5])
@@ -417,7 +418,7 @@ def _print_fix(group, reduced, labels) -> None:
         flag = "BLUNDER? left out of the check fix" if fix.outlier[k] else ""
         if left_out[k]:
             flag = "LEFT OUT of this fix: a gross error (its line from this fix)"
-        if reduced.status.iloc[row] == "error":
+        if reduced.status.iloc[row] == SightStatus.ERROR:
             flag = "not reduced"
         carried = reduced["motion_carried_from"].iloc[row] if "motion_carried_from" in reduced.columns else ""
         flag = "; ".join(t for t in (flag, carried) if t)
@@ -454,7 +455,7 @@ def _print_sight_warnings(reduced, labels, rows=None, *, indent: str = "", err: 
     messages = reduced["message"].to_numpy(dtype=object)
     bodies = reduced["body_name"].to_numpy(dtype=object)
     for row in rows:
-        if status[row] == "warning" and messages[row]:
+        if status[row] == SightStatus.WARNING and messages[row]:
             typer.echo(f"{indent}warning: {labels[row]} ({bodies[row]}): {messages[row]}", err=err)
 
 
@@ -465,7 +466,7 @@ def _print_latitude_checks(reduced, labels) -> None:
     from ..angles import format_angle
     from ..fix import latitude_by_meridian_altitude, latitude_by_polaris
 
-    usable = reduced.status.to_numpy() != "error"
+    usable = reduced.status.to_numpy() != SightStatus.ERROR
     lha = reduced.lha_deg.to_numpy()
     on_meridian = usable & ((lha < 0.25) | (lha > 359.75)) & (reduced.body_name.to_numpy() != "Polaris")
     polaris = usable & (reduced.body_name.to_numpy() == "Polaris")
@@ -1293,7 +1294,7 @@ def training_command(
             if "distance from reference (nm)" not in row or row["distance from reference (nm)"] != \
                     row["distance from reference (nm)"]:
                 continue
-            if row.get("kind", "fix") == "fix":
+            if row.get("kind", FixKind.FIX) == FixKind.FIX:
                 typer.echo(f"fix {row['fix group']}: {row['distance from reference (nm)']:.1f} nm from the reference, "
                            f"reference inside the 95 % ellipse: {row['reference inside 95 % ellipse']}")
             else:

@@ -21,6 +21,7 @@ import numpy as np
 
 from ..angles import format_angle, wrap_180, wrap_axial
 from ..stats import chi_square_2_quantile
+from ..status import FixKind
 
 # navred's own palette: sea-chart paper, ink-blue lines, a vermilion fix
 PAPER, GRID, INK, FIX, CHART, ELLIPSE, FLAGGED = ("#f7f3e8", "#c9c2ad", "#1d3557", "#d1495b",
@@ -183,8 +184,8 @@ def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None, rows=None
         fix_label(f"fix {format_angle(fix.lat_deg, 'lat')} {format_angle(fix.lon_deg, 'lon')}", 8)
     else:
         sheet.circle(*fx_page, 2.5, fill=FIX)
-        what = "latitude" if fix.kind == "latitude" else "line of position"
-        text = (f"{what} {format_angle(fix.lat_deg, 'lat')}" if fix.kind == "latitude"
+        what = str(fix.kind)
+        text = (f"{what} {format_angle(fix.lat_deg, 'lat')}" if fix.kind == FixKind.LATITUDE
                 else f"{what} through {format_angle(fix.lat_deg, 'lat')} {format_angle(fix.lon_deg, 'lon')}")
         fix_label(f"{text}: not a fix", 8)
     every = fix.all_sights

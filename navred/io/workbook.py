@@ -21,6 +21,7 @@ from ..angles import format_angle
 from ..errors import NavredError
 from ..fix import ELLIPSE_COVERS
 from ..jobs.forking import can_fork, cores, forked_map
+from ..status import SightStatus
 from .output import atomic_write, atomic_write_many
 from .xlsxtables import TableWriter, safe_text
 
@@ -64,7 +65,7 @@ def working_table(voyage) -> pd.DataFrame:
             flagged[group.rows] = group.fix.outlier
             if group.fix.left_out.size == len(group.rows):
                 left_out[group.rows] = group.fix.left_out
-    ok = reduced.status.to_numpy() != "error"
+    ok = reduced.status.to_numpy() != SightStatus.ERROR
     r = reduced[ok].reset_index(drop=True)
     residual, flagged, left_out = residual[ok], flagged[ok], left_out[ok]
     notes = [("; ".join(x for x in (("BLUNDER: a gross error, LEFT OUT of the fix" if g else

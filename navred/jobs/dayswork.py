@@ -40,6 +40,7 @@ from ..reckoning import (
     zone_description_h,
 )
 from ..sailings import rhumb_destination
+from ..status import SightStatus
 from .frames import utc64
 
 #: A fix or an estimated position this close to noon (either side) gives the noon position.
@@ -114,7 +115,7 @@ def _changes(voyage, vessel: str):
         parts.append((utc64(e["utc"]).astype(np.int64), e["course_deg"].to_numpy(float), e["speed_kn"].to_numpy(float),
                       e["set_deg"].to_numpy(float), e["drift_kn"].to_numpy(float)))
     if len(reduced):
-        rows = (reduced["vessel"].to_numpy(dtype=object) == vessel) & (reduced["status"].to_numpy() != "error")
+        rows = (reduced["vessel"].to_numpy(dtype=object) == vessel) & (reduced["status"].to_numpy() != SightStatus.ERROR)
         r = reduced[rows]
         moving = (np.isfinite(r["course_deg"].to_numpy(float)) | np.isfinite(r["speed_kn"].to_numpy(float)))
         r = r[moving]
@@ -294,10 +295,10 @@ def _estimated_positions(voyage, tracks) -> list[dict]:
     for group in voyage.groups:
         if group.fix is not None and group.fix.is_fix:
             continue
-        usable = group.rows[status[group.rows] != "error"]
+        usable = group.rows[status[group.rows] != SightStatus.ERROR]
         # the sights' own warnings go with the position built on them
         note = "; ".join(f"row {reduced['row'].iat[k]}: {messages[k]}" for k in usable.tolist()
-                         if status[k] == "warning" and messages[k])
+                         if status[k] == SightStatus.WARNING and messages[k])
         if group.fix is not None and not group.fix.is_fix:
             fix = group.fix
             out.append({"vessel": vessels[group.name], "fix group": group.name, "UTC": _stamp(
@@ -316,7 +317,7 @@ def _estimated_positions(voyage, tracks) -> list[dict]:
 
 def _noon_rows(voyage, vessel: str, track: VesselTrack, estimated: list[dict]) -> list[dict]:
     reduced = voyage.reduced
-    mine = (reduced["vessel"].to_numpy(dtype=object) == vessel) & (reduced["status"].to_numpy() != "error") \
+    mine = (reduced["vessel"].to_numpy(dtype=object) == vessel) & (reduced["status"].to_numpy() != SightStatus.ERROR) \
         if len(reduced) else np.zeros(0, dtype=bool)
     sight_ns = utc64(reduced["sight_utc"]).astype(np.int64)[mine] if mine.any() else np.zeros(0, np.int64)
     first = int(track.known_ns[0])

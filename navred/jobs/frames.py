@@ -15,6 +15,7 @@ from ..almanac import places
 from ..errors import NavredError, api_boundary
 from ..fix import FixResult, fix_from_sights
 from ..series import SIGMAS, THRESHOLD_ARCMIN, check_series, series_ids
+from ..status import SightStatus
 
 
 @api_boundary
@@ -115,7 +116,7 @@ def fix_position(reduced: pd.DataFrame, at_utc: object | None = None, *, chart_l
     missing = [c for c in needed if c not in reduced.columns]
     if missing:
         raise NavredError(f"fix_position needs the columns of reduce_sights; missing: {', '.join(missing)}")
-    usable = (reduced["status"].to_numpy() != "error") if "status" in reduced.columns else None
+    usable = (reduced["status"].to_numpy() != SightStatus.ERROR) if "status" in reduced.columns else None
 
     def column(name, given):
         if given is not None:
@@ -141,7 +142,7 @@ def series_columns(reduced: pd.DataFrame, *, threshold_arcmin: float = THRESHOLD
     ``series_flag``, ``series_best`` and ``series_best_ho_deg``. Rows with status ``error``
     are in no series.
     """
-    usable = reduced["status"].to_numpy() != "error"
+    usable = reduced["status"].to_numpy() != SightStatus.ERROR
     times_ns = utc64(reduced["sight_utc"])
     n = len(reduced)
     observer = reduced["observer"].astype(str).to_numpy(dtype=object) if "observer" in reduced.columns \

@@ -18,6 +18,7 @@ from ..angles import wrap_360
 from ..corrections import correct_altitudes, planet_phases
 from ..errors import api_boundary
 from ..io.logbook import SIGHT_COLUMNS, SightLog, read_sight_log
+from ..status import SightStatus
 from ..timescales import UT1_BEFORE, UT1_BEYOND, instants_from_utc_jd
 from ..triangle import (
     HIGH_ALTITUDE_DEG,
@@ -43,7 +44,6 @@ RESULT_COLUMNS = [
     "parallax_arcmin", "phase_angle_deg", "phase_arcmin", "ho_deg", "hc_deg", "zn_deg", "intercept_nm",
     "intercept_direction", "status", "message", "error_column",
 ]
-STATUS_OK, STATUS_WARNING, STATUS_ERROR = "ok", "warning", "error"
 
 
 class _Notes:
@@ -184,8 +184,8 @@ def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
     result["ho_deg"] = np.where(bad, np.nan, result["ho_deg"])
     result["intercept_nm"] = np.where(bad, np.nan, intercept_nm(result["ho_deg"], result["hc_deg"]))
     result["intercept_direction"] = intercept_direction(result["intercept_nm"])
-    result["status"] = np.where(bad, STATUS_ERROR, np.where(notes.warning != "", STATUS_WARNING,
-                                                             STATUS_OK)).astype(object)
+    result["status"] = np.where(bad, SightStatus.ERROR.value, np.where(notes.warning != "", SightStatus.WARNING.value,
+                                                                    SightStatus.OK.value)).astype(object)
     result["message"] = np.where(bad, notes.error, notes.warning).astype(object)
     result["error_column"] = notes.column
     return pd.DataFrame({column: result.pop(column) for column in RESULT_COLUMNS})

@@ -22,6 +22,7 @@ from ..constants import ARCMIN_PER_DEG, SECONDS_PER_DAY
 from ..io.track import ReferenceTrack
 from ..stars import SOLAR_SYSTEM
 from ..stats import student_t_quantile
+from ..status import SightStatus
 from ..triangle import computed_altitude_azimuth
 
 BLUNDER_ARCMIN = 5.0
@@ -76,7 +77,7 @@ def _summaries(frame: pd.DataFrame, keys: list[str]) -> pd.DataFrame:
 
 def training_report(reduced: pd.DataFrame, track: ReferenceTrack, groups: object = ()) -> TrainingReport:
     """The training report of a reduced log against a reference track (see the module docstring)."""
-    usable = (reduced.status != "error").to_numpy()
+    usable = (reduced.status != SightStatus.ERROR).to_numpy()
     frame = reduced[usable].reset_index(drop=True)
     times = frame.sight_utc.dt.tz_convert(None).to_numpy().astype("datetime64[ns]")
     lat, lon, why_not = track.positions_at(times)

@@ -28,6 +28,7 @@ from ..errors import NavredError, api_boundary
 from ..fix import SEXTANT_SIGMA_LIMIT_ARCMIN, FixResult, fixes_from_sights
 from ..io.logbook import REJECTED_COLUMNS, SightLog, read_sight_log
 from ..reckoning import PAST_POLE
+from ..status import SightStatus
 from ..timescales import iers_table, leap_second_table
 from ..triangle import distance_bearing
 from .frames import row_labels, series_columns, utc64
@@ -101,7 +102,7 @@ class VoyageResult:
 
     @property
     def n_reduced(self) -> int:
-        return int((self.reduced.status != "error").sum()) if len(self.reduced) else 0
+        return int((self.reduced.status != SightStatus.ERROR).sum()) if len(self.reduced) else 0
 
     @property
     def n_fixes(self) -> int:
@@ -150,7 +151,7 @@ def process_log(source: object, *, dates: str | None = None, solve_motion: bool 
     log, reduced, groups, context = _restart_dr_at_fixes(log, reduced, groups, progress, carry_current, context,
                                                          solve_motion=solve_motion, at_utc=at_utc)
     rejected = _rejected(log, reduced)
-    usable = reduced.status.to_numpy() != "error" if len(reduced) else np.zeros(0, dtype=bool)
+    usable = reduced.status.to_numpy() != SightStatus.ERROR if len(reduced) else np.zeros(0, dtype=bool)
     table = iers_table()
     dut1 = reduced.dut1_s[usable] if len(reduced) else pd.Series(dtype=float)
     provenance = {
@@ -261,7 +262,7 @@ def dr_context(log: SightLog, reduced: pd.DataFrame, groups: list[GroupFix], *, 
     out = {"set_deg": np.zeros(n), "drift_kn": np.zeros(n), "age_h": np.full(n, np.nan)}
     if not n or "dr_carried_from" not in reduced.columns:
         return out
-    carried = (reduced["dr_carried_from"].to_numpy(dtype=object) != "") & (reduced["status"].to_numpy() != "error")
+    carried = (reduced["dr_carried_from"].to_numpy(dtype=object) != "") & (reduced["status"].to_numpy() != SightStatus.ERROR)
     if not carried.any():
         return out
     from ..reckoning import course_speed
@@ -298,7 +299,7 @@ def _rejected(log: SightLog, reduced: pd.DataFrame) -> pd.DataFrame:
     """The reader's rejections, and the sights that read well but could not be reduced (apparent
     altitude below -1°, say), each under the column that caused it."""
     read_bad = log.table["read_problem"].to_numpy() != "" if len(log.table) else np.zeros(0, dtype=bool)
-    failed = (reduced.status.to_numpy() == "error") & ~read_bad if len(reduced) else np.zeros(0, dtype=bool)
+    failed = (reduced.status.to_numpy() == SightStatus.ERROR) & ~read_bad if len(reduced) else np.zeros(0, dtype=bool)
     rejected = log.rejected
     if failed.any():
         part = reduced[failed]
@@ -337,7 +338,7 @@ def chart_positions(reduced: pd.DataFrame, group: np.ndarray, count: int
         return lat, lon, notes
     row_lat = reduced["chart_lat_deg"].to_numpy(dtype=float)
     row_lon = reduced["chart_lon_deg"].to_numpy(dtype=float)
-    usable = (reduced["status"].to_numpy() != "error") & np.isfinite(row_lat) & np.isfinite(row_lon) & (group >= 0)
+    usable = (reduced["status"].to_numpy() != SightStatus.ERROR) & np.isfinite(row_lat) & np.isfinite(row_lon) & (group >= 0)
     if not usable.any():
         return lat, lon, notes
     candidates = np.flatnonzero(usable)
@@ -387,7 +388,7 @@ def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: obj
         notes = ["chart position given with the command"] * count
     else:
         chart_lat, chart_lon, notes = chart_positions(reduced, group, count)
-    usable = reduced["status"].to_numpy() != "error"
+    usable = reduced["status"].to_numpy() != SightStatus.ERROR
 
     def column(name):
         return reduced[name].to_numpy(dtype=float) if name in reduced.columns else None

@@ -5,7 +5,7 @@ Each is a small enum whose members are the very words written in every table and
 keeps its status codes (0 good, + a warning, − an error). Compare with the members, never with
 the words written out: a new status is one edit here.
 
-Pure data: no I/O.
+Pure data: no I/O, and nothing heavier than the standard library at import (the command line reads it).
 
 >>> SightStatus.ERROR == "error", SightStatus.ERROR.code, FixKind.LINE.code
 (True, -1, 1)
@@ -16,9 +16,7 @@ latitude
 from __future__ import annotations
 
 from enum import Enum
-
-import numpy as np
-from numpy.typing import ArrayLike
+from typing import Any
 
 
 class _Word(str, Enum):
@@ -87,12 +85,15 @@ RUN_FROM_TABLE = {
 _TABLES = {SightStatus: SIGHT_STATUS_TABLE, FixKind: FIX_KIND_TABLE, RunFrom: RUN_FROM_TABLE}
 
 
-def usable(status: ArrayLike) -> np.ndarray:
-    """True for each sight whose status is not :attr:`SightStatus.ERROR` (a reduced sight, warned or not).
+def usable(status: Any) -> Any:
+    """A boolean array, True for each sight whose status is not :attr:`SightStatus.ERROR` (a reduced sight, warned
+    or not).
 
     >>> usable(["ok", "error", "warning"]).tolist()
     [True, False, True]
     """
+    import numpy as np  # here, so that the command line starts without numpy
+
     return np.asarray(status, dtype=object) != SightStatus.ERROR
 
 

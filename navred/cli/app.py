@@ -13,7 +13,6 @@ import warnings
 import typer
 
 from .. import __version__
-from ..angles import wrap_360
 from ..errors import NavredError, NavredInternalError, NavredWarning
 from ..status import FixKind, RunFrom, SightStatus
 
@@ -376,7 +375,7 @@ def reduce_command(
 def _print_fix(group, reduced, labels) -> None:
     import numpy as np
 
-    from ..angles import format_angle
+    from ..angles import format_angle, wrap_360
 
     fix = group.fix
     when = str(fix.utc)[:19].replace("T", " ")

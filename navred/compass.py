@@ -29,6 +29,7 @@ from .almanac import places
 from .angles import wrap_180, wrap_360
 from .constants import NS_PER_MINUTE
 from .errors import NavredError
+from .events import first_crossings
 from .plan import Track, amplitude_deg, magnitudes, sun_altitude_deg
 from .stars import known_bodies
 from .triangle import computed_altitude_azimuth
@@ -77,20 +78,25 @@ class Amplitudes:
     setting_zn_deg: np.ndarray
 
 
+#: The Sun's centre is looked for on the celestial horizon within this many minutes of the sunrise or sunset
+#: given, on a grid of this step (the one event search, :func:`navred.events.first_crossings`, refines it).
+HORIZON_WINDOW_MINUTES, HORIZON_STEP_MINUTES = 120, 10
+
+
 def _horizon_crossing(track: Track, near: np.ndarray, rising: bool) -> np.ndarray:
-    """The instant (to a second) the Sun's centre crosses true altitude 0° within two hours of each instant."""
+    """The instant the Sun's centre crosses true altitude 0° within two hours of each instant (NaT where none)."""
     out = np.full(near.shape, np.datetime64("NaT"), dtype="datetime64[ns]")
-    for k, guess in enumerate(near):
-        if np.isnat(guess):
-            continue
-        grid = guess + np.arange(-120, 121) * np.timedelta64(NS_PER_MINUTE, "ns")
-        altitude = sun_altitude_deg(grid, track)
-        cross = np.flatnonzero((altitude[:-1] <= 0) & (altitude[1:] > 0) if rising else
-                               (altitude[:-1] > 0) & (altitude[1:] <= 0))
-        if cross.size:
-            i = cross[0]
-            f = -altitude[i] / (altitude[i + 1] - altitude[i])
-            out[k] = grid[i] + np.timedelta64(int(round(f * NS_PER_MINUTE)), "ns")
+    given = ~np.isnat(near)
+    if not given.any():
+        return out
+    offsets = np.arange(-HORIZON_WINDOW_MINUTES, HORIZON_WINDOW_MINUTES + 1, HORIZON_STEP_MINUTES) * NS_PER_MINUTE
+    grid = near[given].astype(np.int64)[:, None] + offsets[None, :]
+
+    def altitude(t_ns):
+        return sun_altitude_deg(np.asarray(t_ns, dtype=np.int64).astype("datetime64[ns]"), track)
+
+    up, down = first_crossings(altitude, grid, 0.0, rising=rising, falling=not rising)
+    out[given] = (up if rising else down).astype("datetime64[ns]")
     return out
 
 

@@ -17,6 +17,7 @@ MINUTES_PER_HOUR = 60.0
 HOURS_PER_DAY = 24.0
 MINUTES_PER_DAY = 1440.0
 #: Instants are numpy datetime64[ns] (UTC); these turn their int64 nanoseconds into whole units.
+NS_PER_MILLISECOND = 1_000_000
 NS_PER_SECOND = 1_000_000_000
 NS_PER_MINUTE = 60 * NS_PER_SECOND
 NS_PER_HOUR = 60 * NS_PER_MINUTE

@@ -45,6 +45,7 @@ from .corrections import (
     topocentric_distance_ratio,
 )
 from .errors import NavredError, NavredWarning
+from .events import NO_INSTANT, first_crossings
 from .stars import canonical_body_name
 from .timescales import utc_jd_to_datetime64, utc_julian_date
 from .triangle import computed_altitude_azimuth
@@ -78,73 +79,154 @@ def _apparent_from_true(true_deg, temperature_c, pressure_hpa):
     return apparent
 
 
-def _unit(alt_deg, az_deg):
+def _unit(alt_deg, az_deg) -> np.ndarray:
+    """Unit vectors (east, north, up) of altitudes and azimuths, shape (3, ...)."""
     h, z = np.radians(alt_deg), np.radians(az_deg)
-    return np.array([np.cos(h) * np.sin(z), np.cos(h) * np.cos(z), np.sin(h)])
+    return np.stack(np.broadcast_arrays(np.cos(h) * np.sin(z), np.cos(h) * np.cos(z), np.sin(h)))
 
 
-def _angle(a, b) -> float:
-    return float(np.degrees(np.arctan2(np.linalg.norm(np.cross(a, b)), np.dot(a, b))))
+def _angle_deg(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """The angle (degrees) between vectors of shape (3, ...), by atan2 of the cross and dot products."""
+    cross = np.cross(a, b, axis=0)
+    return np.degrees(np.arctan2(np.linalg.norm(cross, axis=0), np.sum(a * b, axis=0)))
 
 
-def _geocentric_distance_deg(moon, other) -> float:
+def _geocentric_distance_deg(moon, other) -> np.ndarray:
     """Angle between the almanac's geocentric apparent places (RA/Dec of date) of two bodies."""
-    a = _unit(moon.dec_deg[0], -moon.ra_hours[0] * 15.0)  # any consistent spherical frame will do
-    b = _unit(other.dec_deg[0], -other.ra_hours[0] * 15.0)
-    return _angle(a, b)
+    a = _unit(moon.dec_deg, -moon.ra_hours * 15.0)  # any consistent spherical frame will do
+    b = _unit(other.dec_deg, -other.ra_hours * 15.0)
+    return _angle_deg(a, b)
 
 
-def clear_distance(apparent_distance_deg: ArrayLike, moon_apparent_deg: ArrayLike, other_apparent_deg: ArrayLike, moon_zn_deg: ArrayLike, other_zn_deg: ArrayLike,
-                   moon_hp_arcmin: ArrayLike, other_hp_arcmin: ArrayLike, lat_deg: ArrayLike, *, temperature_c: ArrayLike = DEFAULT_TEMPERATURE_C,
+def clear_distance(apparent_distance_deg: ArrayLike, moon_apparent_deg: ArrayLike, other_apparent_deg: ArrayLike,
+                   moon_zn_deg: ArrayLike, other_zn_deg: ArrayLike, moon_hp_arcmin: ArrayLike,
+                   other_hp_arcmin: ArrayLike, lat_deg: ArrayLike, *, temperature_c: ArrayLike = DEFAULT_TEMPERATURE_C,
                    pressure_hpa: ArrayLike = DEFAULT_PRESSURE_HPA, strict: bool = True) -> float:
     """The geocentric distance (degrees) from the apparent distance and apparent altitudes of the centres.
 
     Azimuths are needed only for the side of the other body and for the oblateness term, so
     the azimuths computed at the DR for the approximate time serve.
     """
-    d = np.radians(apparent_distance_deg)
-    a_m, a_o = np.radians(moon_apparent_deg), np.radians(other_apparent_deg)
-    cos_dz = (np.cos(d) - np.sin(a_m) * np.sin(a_o)) / (np.cos(a_m) * np.cos(a_o))
-    if abs(cos_dz) > 0.999:
+    cos_dz = _cos_azimuth_difference(apparent_distance_deg, moon_apparent_deg, other_apparent_deg)
+    if np.any(np.abs(cos_dz) > 0.999):
         warnings.warn("the Moon and the other body stand nearly in one vertical: the distance then "
                       "depends on the altitudes alone, so clear it with both altitudes observed", NavredWarning,
                       stacklevel=3)
-    if strict and abs(cos_dz) > 1.0 + 0.02:
+    if strict and np.any(np.abs(cos_dz) > 1.0 + 0.02):
         # beyond what rounding allows (about 0.1° of altitude with the bodies in line)
         raise NavredError("the distance and the two altitudes do not make a spherical triangle "
-                          f"(cos ΔZ = {cos_dz:.4f}): check the distance, the altitudes and the body")
+                          f"(cos ΔZ = {float(np.max(cos_dz)):.4f}): check the distance, the altitudes and the body")
+    return float(_cleared_distance_deg(apparent_distance_deg, moon_apparent_deg, other_apparent_deg, moon_zn_deg,
+                                       other_zn_deg, moon_hp_arcmin, other_hp_arcmin, lat_deg, temperature_c,
+                                       pressure_hpa))
+
+
+def _cos_azimuth_difference(apparent_distance_deg, moon_apparent_deg, other_apparent_deg) -> np.ndarray:
+    """cos ΔZ of the triangle zenith-Moon-body from the apparent distance and the two apparent altitudes."""
+    d = np.radians(apparent_distance_deg)
+    a_m, a_o = np.radians(moon_apparent_deg), np.radians(other_apparent_deg)
+    return (np.cos(d) - np.sin(a_m) * np.sin(a_o)) / (np.cos(a_m) * np.cos(a_o))
+
+
+def _cleared_distance_deg(apparent_distance_deg, moon_apparent_deg, other_apparent_deg, moon_zn_deg, other_zn_deg,
+                          moon_hp_arcmin, other_hp_arcmin, lat_deg, temperature_c, pressure_hpa) -> np.ndarray:
+    """:func:`clear_distance` without its checks, for arrays (the trial instants of the search)."""
+    cos_dz = _cos_azimuth_difference(apparent_distance_deg, moon_apparent_deg, other_apparent_deg)
     dz = np.degrees(np.arccos(np.clip(cos_dz, -1.0, 1.0)))
-    side = 1.0 if wrap_180(other_zn_deg - moon_zn_deg) >= 0 else -1.0
+    side = np.where(wrap_180(np.asarray(other_zn_deg, dtype=float) - moon_zn_deg) >= 0, 1.0, -1.0)
     true_m = moon_apparent_deg - _refraction_deg(moon_apparent_deg, temperature_c, pressure_hpa)
     true_o = other_apparent_deg - _refraction_deg(other_apparent_deg, temperature_c, pressure_hpa)
     rho, tilt = observer_geometry(lat_deg)
-    observer = float(rho) * np.array([0.0, -np.sin(tilt), np.cos(tilt)])  # Earth radii, local E-N-U
+    # the observer's radius vector in Earth radii, local east-north-up
+    observer = rho * np.stack(np.broadcast_arrays(np.zeros_like(tilt), -np.sin(tilt), np.cos(tilt)))
 
     def geocentric(true_alt, zn, hp_arcmin):
         u = _unit(true_alt, zn)
-        if hp_arcmin <= 0:
-            return u
-        distance = 1.0 / np.sin(np.radians(hp_arcmin / ARCMIN_PER_DEG))
-        topocentric = distance * float(topocentric_distance_ratio(true_alt, hp_arcmin, lat_deg, zn))
-        return topocentric * u + observer
+        hp = np.asarray(hp_arcmin, dtype=float)
+        near = hp > 0
+        safe_hp = np.where(near, hp, 60.0)
+        distance = 1.0 / np.sin(np.radians(safe_hp / ARCMIN_PER_DEG))
+        topocentric = distance * topocentric_distance_ratio(true_alt, safe_hp, lat_deg, zn)
+        here = observer.reshape(observer.shape + (1,) * (u.ndim - observer.ndim))
+        return np.where(near, topocentric * u + here, u)
 
     moon_geo = geocentric(true_m, moon_zn_deg, moon_hp_arcmin)
     other_geo = geocentric(true_o, moon_zn_deg + side * dz, other_hp_arcmin)
-    return _angle(moon_geo, other_geo)
+    return _angle_deg(moon_geo, other_geo)
 
 
-def _contraction(apparent_deg, temperature_c, pressure_hpa) -> float:
+def _contraction(apparent_deg, temperature_c, pressure_hpa) -> np.ndarray:
     """k = −dR/dh at an apparent altitude: the vertical shrinking of a disc by refraction."""
     step = 0.05
-    r1 = _refraction_deg(apparent_deg - step, temperature_c, pressure_hpa)
-    r2 = _refraction_deg(apparent_deg + step, temperature_c, pressure_hpa)
-    return float((r1 - r2) / (2 * step))
+    r1 = _refraction_deg(np.asarray(apparent_deg) - step, temperature_c, pressure_hpa)
+    r2 = _refraction_deg(np.asarray(apparent_deg) + step, temperature_c, pressure_hpa)
+    return (r1 - r2) / (2 * step)
 
 
-def _position_angle_cos(h_self, h_other, distance):
+def _position_angle_cos(h_self, h_other, distance) -> np.ndarray:
     """cos of the angle at a body between its vertical and the great circle to the other body."""
     h1, h2, d = np.radians(h_self), np.radians(h_other), np.radians(distance)
-    return float((np.sin(h2) - np.sin(h1) * np.cos(d)) / (np.cos(h1) * np.sin(d)))
+    return (np.sin(h2) - np.sin(h1) * np.cos(d)) / (np.cos(h1) * np.sin(d))
+
+
+#: The UTC of a lunar distance is searched within this many hours either side of the chronometer's time, on a
+#: grid of this many minutes (the Moon moves about half a degree an hour against the other body, so that a step
+#: never holds two instants of one distance), by the one event search (:func:`navred.events.first_crossings`).
+LUNAR_WINDOW_HOURS, LUNAR_STEP_MINUTES = 6, 20
+_LIMB_SIGN = {"near": 1.0, "far": -1.0, "centre": 0.0}
+
+
+@dataclass(frozen=True)
+class _Observation:
+    """What the navigator measured, and where: the clearing at any trial instant needs only this."""
+
+    distance_deg: float
+    other: str
+    lat_deg: float
+    lon_deg: float
+    moon_limb: str
+    other_limb: str
+    index_error_arcmin: float
+    moon_apparent_deg: float | None
+    other_apparent_deg: float | None
+    temperature_c: float
+    pressure_hpa: float
+
+    @property
+    def altitudes_observed(self) -> bool:
+        return self.moon_apparent_deg is not None and self.other_apparent_deg is not None
+
+
+def _clearing(obs: _Observation, t_ns: np.ndarray) -> dict[str, np.ndarray]:
+    """The clearing at trial instants (int64 ns, any shape): ``miss`` (cleared − almanac distance, degrees: its
+    zero is the UTC), the cleared and apparent distances, the apparent altitudes of the centres, the azimuths
+    and the horizontal parallaxes used."""
+    when = np.asarray(t_ns, dtype=np.int64).reshape(-1).astype("datetime64[ns]")
+    moon, body = places("Moon", when), places(obs.other, when)
+    hc_m, zn_m = computed_altitude_azimuth(obs.lat_deg, obs.lon_deg, moon.gha_deg, moon.dec_deg)
+    hc_o, zn_o = computed_altitude_azimuth(obs.lat_deg, obs.lon_deg, body.gha_deg, body.dec_deg)
+    t, p = obs.temperature_c, obs.pressure_hpa
+    if obs.altitudes_observed:
+        a_m = np.full(when.shape, float(obs.moon_apparent_deg))
+        a_o = np.full(when.shape, float(obs.other_apparent_deg))
+    else:
+        a_m = _apparent_from_true(_topocentric(hc_m, moon.hp_arcmin, obs.lat_deg, zn_m), t, p)
+        a_o = _apparent_from_true(_topocentric(hc_o, body.hp_arcmin, obs.lat_deg, zn_o), t, p)
+    # semi-diameters: the Moon's augmented, both contracted by refraction along the joining line
+    rough = obs.distance_deg - obs.index_error_arcmin / ARCMIN_PER_DEG
+    true_m = a_m - _refraction_deg(a_m, t, p)
+    sd_m = moon.sd_arcmin / topocentric_distance_ratio(true_m, moon.hp_arcmin, obs.lat_deg, zn_m)
+    sd_m = sd_m * (1.0 - _contraction(a_m, t, p) * _position_angle_cos(a_m, a_o, rough) ** 2)
+    sd_o = body.sd_arcmin * np.where(body.sd_arcmin > 0,
+                                     1.0 - _contraction(a_o, t, p) * _position_angle_cos(a_o, a_m, rough) ** 2, 1.0)
+    apparent = obs.distance_deg + (-obs.index_error_arcmin + _LIMB_SIGN[obs.moon_limb] * sd_m
+                                   + _LIMB_SIGN[obs.other_limb] * sd_o) / ARCMIN_PER_DEG
+    # altitudes computed for a time still minutes out may not quite close the triangle with the observed
+    # distance: the azimuth difference is then taken at its limit
+    cleared = _cleared_distance_deg(apparent, a_m, a_o, zn_m, zn_o, moon.hp_arcmin, body.hp_arcmin, obs.lat_deg, t, p)
+    values = {"miss": cleared - _geocentric_distance_deg(moon, body), "cleared": cleared, "apparent": apparent,
+              "a_m": a_m, "a_o": a_o, "zn_m": zn_m, "zn_o": zn_o, "hp_m": moon.hp_arcmin, "hp_o": body.hp_arcmin}
+    return {k: np.asarray(v, dtype=float).reshape(np.shape(t_ns)) for k, v in values.items()}
 
 
 def lunar_distance(observed_distance_deg: float, other: str, utc_approx: object, lat_deg: float, lon_deg: float, *,
@@ -172,79 +254,67 @@ def lunar_distance(observed_distance_deg: float, other: str, utc_approx: object,
     if not 0.0 < observed_distance_deg < 180.0:
         raise NavredError(f"observed distance {observed_distance_deg}° is outside 0-180°")
     given = utc_jd_to_datetime64(*utc_julian_date(utc_approx))[()]
-    observed_altitudes = moon_apparent_altitude_deg is not None and other_apparent_altitude_deg is not None
-    sign = {"near": 1.0, "far": -1.0, "centre": 0.0}
-
-    def clearing_at(t):
-        """(cleared − almanac distance, cleared, apparent, a_m, a_o, zn_o) at a trial UTC."""
-        moon = places("Moon", np.array([t]))
-        body = places(other, np.array([t]))
-        hc_m, zn_m = (float(v[0]) for v in computed_altitude_azimuth(lat_deg, lon_deg, moon.gha_deg, moon.dec_deg))
-        hc_o, zn_o = (float(v[0]) for v in computed_altitude_azimuth(lat_deg, lon_deg, body.gha_deg, body.dec_deg))
-        if observed_altitudes:
-            a_m, a_o = float(moon_apparent_altitude_deg), float(other_apparent_altitude_deg)
-        else:
-            a_m = float(_apparent_from_true(_topocentric(hc_m, moon.hp_arcmin[0], lat_deg, zn_m),
-                                            temperature_c, pressure_hpa))
-            a_o = float(_apparent_from_true(_topocentric(hc_o, body.hp_arcmin[0], lat_deg, zn_o),
-                                            temperature_c, pressure_hpa))
-        if min(a_m, a_o) < 3.0:
-            raise NavredError(f"the Moon ({a_m:.1f}°) or the other body ({a_o:.1f}°) is below 3°: refraction "
-                              "there spoils a lunar distance")
-        # semi-diameters: the Moon's augmented, both contracted by refraction along the joining line
-        rough = observed_distance_deg - index_error_arcmin / ARCMIN_PER_DEG
-        true_m = a_m - _refraction_deg(a_m, temperature_c, pressure_hpa)
-        sd_m = moon.sd_arcmin[0] / float(topocentric_distance_ratio(true_m, moon.hp_arcmin[0], lat_deg, zn_m))
-        sd_m *= 1.0 - _contraction(a_m, temperature_c, pressure_hpa) * _position_angle_cos(a_m, a_o, rough) ** 2
-        sd_o = body.sd_arcmin[0]
-        if sd_o > 0:
-            sd_o *= 1.0 - _contraction(a_o, temperature_c, pressure_hpa) * _position_angle_cos(a_o, a_m, rough) ** 2
-        apparent = (observed_distance_deg + (-index_error_arcmin + sign[moon_limb] * sd_m
-                                             + sign[other_limb] * sd_o) / ARCMIN_PER_DEG)
-        # altitudes computed for a time still minutes out may not quite close the triangle with
-        # the observed distance: then the azimuth difference is taken at its limit for this pass
-        cleared = clear_distance(apparent, a_m, a_o, zn_m, zn_o, moon.hp_arcmin[0], body.hp_arcmin[0], lat_deg,
-                                 temperature_c=temperature_c, pressure_hpa=pressure_hpa,
-                                 strict=observed_altitudes)
-        return cleared - _geocentric_distance_deg(moon, body), cleared, apparent, a_m, a_o, zn_o
-
-    # Newton's method on f(t) = cleared(t) − almanac(t): with computed altitudes the clearing
-    # itself changes with the trial time (the Moon's parallax), so both sides are differenced
-    t = given
+    obs = _Observation(float(observed_distance_deg), other, float(lat_deg), float(lon_deg), moon_limb, other_limb,
+                       float(index_error_arcmin), moon_apparent_altitude_deg, other_apparent_altitude_deg,
+                       float(temperature_c), float(pressure_hpa))
+    t, evaluations = _utc_of_distance(obs, given)
+    at = {k: float(v[0]) for k, v in _clearing(obs, np.array([t.astype(np.int64)])).items()}
+    a_m, a_o = at["a_m"], at["a_o"]
+    if min(a_m, a_o) < 3.0:
+        raise NavredError(f"the Moon ({a_m:.1f}°) or the other body ({a_o:.1f}°) is below 3°: refraction "
+                          "there spoils a lunar distance")
+    cleared = clear_distance(at["apparent"], a_m, a_o, at["zn_m"], at["zn_o"], at["hp_m"], at["hp_o"], lat_deg,
+                             temperature_c=temperature_c, pressure_hpa=pressure_hpa, strict=obs.altitudes_observed)
     step = np.timedelta64(NS_PER_MINUTE, "ns")
-    iterations = 0
-    for _ in range(10):
-        iterations += 1
-        f_now, cleared, apparent, a_m, a_o, zn_o = clearing_at(t)
-        f_next = clearing_at(t + step)[0]
-        slope = (f_next - f_now) / 60.0  # degrees per second
-        if abs(slope) < 1e-7:
-            raise NavredError("the distance is not changing (the bodies are near conjunction or opposition): "
-                              "choose another body for the lunar")
-        correction_s = -f_now / slope
-        t = t + np.timedelta64(int(round(correction_s * NS_PER_SECOND)), "ns")
-        if abs(correction_s) < 0.01:
-            break
-    f_now, cleared, apparent, a_m, a_o, zn_o = clearing_at(t)
-    moon_t, body_t = places("Moon", np.array([t])), places(other, np.array([t]))
-    moon_next, body_next = places("Moon", np.array([t + step])), places(other, np.array([t + step]))
-    rate = (_geocentric_distance_deg(moon_next, body_next) - _geocentric_distance_deg(moon_t, body_t)) / 60.0
+    moon, body = places("Moon", np.array([t, t + step])), places(other, np.array([t, t + step]))
+    distances = _geocentric_distance_deg(moon, body)
+    rate = float(distances[1] - distances[0]) / 60.0  # degrees per second
     longitude, source = None, "no altitude observed"
-    if observed_altitudes:
-        longitude = _time_sight_longitude(other, t, lat_deg, a_o, temperature_c, pressure_hpa, zn_o)
+    if obs.altitudes_observed:
+        longitude = _time_sight_longitude(other, t, lat_deg, a_o, temperature_c, pressure_hpa, at["zn_o"])
         source = f"time sight of {other} at the cleared UTC and the DR latitude"
-    return LunarResult(utc=t, cleared_distance_deg=cleared, apparent_distance_deg=apparent,
+    return LunarResult(utc=t, cleared_distance_deg=cleared, apparent_distance_deg=at["apparent"],
                        chronometer_error_s=float((given - t).astype(np.int64)) / NS_PER_SECOND,
                        seconds_per_tenth_arcmin=abs((0.1 / ARCMIN_PER_DEG) / rate),
                        longitude_deg=longitude, longitude_from=source, moon_apparent_altitude_deg=a_m,
-                       other_apparent_altitude_deg=a_o, iterations=iterations)
+                       other_apparent_altitude_deg=a_o, iterations=evaluations)
+
+
+def _utc_of_distance(obs: _Observation, given: np.datetime64) -> tuple[np.datetime64, int]:
+    """The UTC at which the cleared distance equals the almanac's: of the zeros of their difference within
+    :data:`LUNAR_WINDOW_HOURS` of the chronometer's time (the one event search), the nearest to it; and at how
+    many trial instants the clearing was worked."""
+    minutes = np.arange(-LUNAR_WINDOW_HOURS * 60, LUNAR_WINDOW_HOURS * 60 + 1, LUNAR_STEP_MINUTES)
+    centre = given.astype("datetime64[ns]").astype(np.int64)
+    grid = centre + minutes[None, :] * NS_PER_MINUTE
+    evaluations = 0
+
+    def miss(t_ns):
+        nonlocal evaluations
+        evaluations += int(np.size(t_ns))
+        return _clearing(obs, t_ns)["miss"]
+
+    # every step of the grid a window of its own, so that every crossing is found, not only the first: with
+    # altitudes computed at the DR the clearing of an instant hours out (a body set) may cross zero too
+    sampled = miss(grid)[0]
+    steps = np.stack([grid[0, :-1], grid[0, 1:]], axis=1)
+    rising, falling = first_crossings(miss, steps, 0.0, values=np.stack([sampled[:-1], sampled[1:]], axis=1))
+    found = np.concatenate([rising, falling])
+    found = found[found != NO_INSTANT]
+    if found.size == 0:
+        # no crossing: the distance never reaches this value nearby, or barely changes (conjunction, opposition)
+        raise NavredError(f"no instant within {LUNAR_WINDOW_HOURS} hours of the time given has the Moon and "
+                          f"{obs.other} at this distance: check the distance, the body, the limbs and the time; "
+                          "if the distance is not changing (the bodies near conjunction or opposition), choose "
+                          "another body for the lunar")
+    return np.datetime64(int(found[np.argmin(np.abs(found - centre))]), "ns"), evaluations
 
 
 def _topocentric(hc_deg, hp_arcmin, lat_deg, zn_deg):
     """Topocentric altitude of a centre whose geocentric altitude is Hc (parallax removed)."""
-    h = hc_deg
+    h = np.asarray(hc_deg, dtype=float)
     for _ in range(4):
-        h = hc_deg - float(parallax_in_altitude_arcmin(h, hp_arcmin, lat_deg, zn_deg)) / ARCMIN_PER_DEG
+        h = hc_deg - parallax_in_altitude_arcmin(h, hp_arcmin, lat_deg, zn_deg) / ARCMIN_PER_DEG
     return h
 
 

@@ -10,7 +10,6 @@ Everything is vectorised over days and instants: a 60-day passage is planned in 
 from __future__ import annotations
 
 import itertools
-import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -21,7 +20,7 @@ from .angles import wrap_180
 from .constants import ARCMIN_PER_DEG, MINUTES_PER_DAY, NS_PER_HOUR, NS_PER_MINUTE
 from .corrections import dip_angle_arcmin, refraction_angle_arcmin
 from .errors import NavredError, api_boundary
-from .reckoning import velocity_kn
+from .events import first_crossings
 from .sailings import rhumb_destination
 from .stars import SOLAR_SYSTEM, known_bodies, star_table
 from .timescales import utc_jd_to_datetime64, utc_julian_date
@@ -55,11 +54,6 @@ class Track:
                                                                       self.course_deg + 180.0),
                                  np.abs(hours) * self.speed_kn)
 
-    @property
-    def lon_rate_deg_per_hour(self) -> float:
-        _, ve = velocity_kn(self.course_deg, self.speed_kn)
-        return float(ve / ARCMIN_PER_DEG / max(math.cos(math.radians(self.lat_deg)), 0.01))
-
 
 def as_datetime64(value) -> np.datetime64:
     """One instant in any form navred accepts, as datetime64[ns] UTC (numpy datetime64 is UTC)."""
@@ -88,64 +82,48 @@ def sun_altitude_deg(utc64: object, track: Track) -> np.ndarray:
     return np.asarray(hc).reshape(when.shape)
 
 
-def _crossings(day_starts, track: Track, thresholds_deg):
-    """For each day and threshold: the first rising and the first setting crossing (NaT if none)."""
+def _sun_crossings(day_starts: np.ndarray, track: Track, thresholds_deg: dict) -> tuple[dict, dict]:
+    """For each day and threshold: the first rising and the first setting of the Sun's centre through it
+    (NaT if none), by the one event search (:func:`navred.events.first_crossings`) on a grid every
+    :data:`SAMPLE_MINUTES` of the day."""
     steps = np.arange(0, 24 * 60 + SAMPLE_MINUTES, SAMPLE_MINUTES)
-    times = day_starts[:, None] + (steps * NS_PER_MINUTE).astype("timedelta64[ns]")[None, :]
-    altitude = sun_altitude_deg(times, track)
-    rising, setting = {}, {}
-    for name, threshold in thresholds_deg.items():
-        above = altitude > np.asarray(threshold)[..., None] if np.ndim(threshold) else altitude > threshold
-        up = ~above[:, :-1] & above[:, 1:]
-        down = above[:, :-1] & ~above[:, 1:]
-        rising[name] = _refine(times, up, track, threshold, rising=True)
-        setting[name] = _refine(times, down, track, threshold, rising=False)
-    return rising, setting, times, altitude
+    grid = day_starts.astype(np.int64)[:, None] + steps[None, :] * NS_PER_MINUTE
+
+    def altitude(t_ns):
+        return sun_altitude_deg(np.asarray(t_ns, dtype=np.int64).astype("datetime64[ns]"), track)
+
+    names = list(thresholds_deg)
+    rising, setting = first_crossings(altitude, grid, [thresholds_deg[n] for n in names])
+    return ({n: rising[k].astype("datetime64[ns]") for k, n in enumerate(names)},
+            {n: setting[k].astype("datetime64[ns]") for k, n in enumerate(names)})
 
 
-def _refine(times, mask, track, threshold, rising: bool, iterations: int = 14):
-    """Bisection of each day's first crossing to about a tenth of a second (NaT where none)."""
-    has = mask.any(axis=1)
-    first = np.argmax(mask, axis=1)
-    rows = np.arange(times.shape[0])
-    lo, hi = times[rows, first].copy(), times[rows, first + 1].copy()
-    out = np.full(times.shape[0], np.datetime64("NaT"), dtype="datetime64[ns]")
-    if not has.any():
-        return out
-    lo, hi = lo[has], hi[has]
-    level = np.broadcast_to(np.asarray(threshold, dtype=float), times.shape[:1])[has]
-    for _ in range(iterations):
-        mid = lo + (hi - lo) // 2
-        above = sun_altitude_deg(mid, track) > level
-        # before a rising the Sun is below; before a setting it is above
-        move_lo = ~above if rising else above
-        lo = np.where(move_lo, mid, lo)
-        hi = np.where(move_lo, hi, mid)
-    out[has] = lo + (hi - lo) // 2
-    return out
+#: A meridian passage is searched in the day after each day start and a little more (a ship running west
+#: lengthens her day by up to about an hour), on a grid of this many hours: the hour angle moves 15° an hour,
+#: so that one sample step never holds two passages.
+PASSAGE_WINDOW_HOURS, PASSAGE_STEP_HOURS = 26, 2
 
 
 def meridian_passage_utc(body: str, day_starts: object, track: Track, lower: bool = False) -> np.ndarray:
-    """UTC of a body's upper (or lower) meridian passage after each day start (datetime64 array).
+    """UTC of a body's upper (or lower) meridian passage: the first after each day start (datetime64 array).
 
-    Newton's method on the local hour angle at the moving DR: the LHA changes at the body's
-    GHA rate plus the vessel's rate in longitude.
+    The instant the local hour angle at the moving DR passes 0° (180° for the lower passage), found by
+    the one event search (:func:`navred.events.first_crossings`) on LHA − 0° (or 180°) wrapped to ±180°,
+    rising through zero.
     """
-    starts = np.asarray(day_starts, dtype="datetime64[ns]")
-    rate = 15.041 if body not in SOLAR_SYSTEM else 15.0  # degrees of LHA an hour (common practice)
-    rate += track.lon_rate_deg_per_hour
-    guess = starts + np.timedelta64(12 * NS_PER_HOUR, "ns")
+    starts = np.atleast_1d(np.asarray(day_starts, dtype="datetime64[ns]"))
     target = 180.0 if lower else 0.0
-    for _ in range(6):
-        lat, lon = track.position(guess)
-        p = places(body, guess)
-        lha = wrap_180(p.gha_deg + lon - target)
-        guess = guess - (lha / rate * NS_PER_HOUR).astype(np.int64).astype("timedelta64[ns]")
-    # bring each passage into its day (a body transits once in about 24 hours)
-    day = np.timedelta64(24 * NS_PER_HOUR, "ns") * (360.0 / 360.9856 if body not in SOLAR_SYSTEM else 1.0)
-    early = guess < starts
-    guess = np.where(early, guess + day.astype("timedelta64[ns]"), guess)
-    return guess
+    hours = np.arange(0, PASSAGE_WINDOW_HOURS + PASSAGE_STEP_HOURS, PASSAGE_STEP_HOURS)
+    grid = starts.astype(np.int64)[:, None] + hours[None, :] * NS_PER_HOUR
+
+    def hour_angle(t_ns):
+        when = np.asarray(t_ns, dtype=np.int64).astype("datetime64[ns]")
+        _, lon = track.position(when.ravel())
+        p = places(body, when.ravel())
+        return wrap_180(p.gha_deg + lon - target).reshape(when.shape)
+
+    passage, _ = first_crossings(hour_angle, grid, 0.0, falling=False)
+    return passage.astype("datetime64[ns]")
 
 
 @api_boundary
@@ -201,7 +179,7 @@ def voyage_events(first_date: object, days: int, lat_deg: float, lon_deg: float,
     shift = ((wrap_180(lons - lon_deg)) / 15.0 * NS_PER_HOUR).astype(np.int64).astype("timedelta64[ns]")
     day_starts = day_starts - shift
     dip_deg = float(dip_angle_arcmin(eye_height_m)) / ARCMIN_PER_DEG
-    rising, setting, _, _ = _crossings(day_starts, track, {
+    rising, setting = _sun_crossings(day_starts, track, {
         "sunrise": SUNRISE_ALTITUDE_DEG - dip_deg, "civil": CIVIL_DEG, "nautical": NAUTICAL_DEG})
     noon = meridian_passage_utc("Sun", day_starts, track)
     return {"date": (day_starts + np.timedelta64(12 * NS_PER_HOUR, "ns")).astype("datetime64[D]"),

@@ -350,14 +350,26 @@ def phase_correction_arcmin(sd_arcmin: ArrayLike, phase_angle_deg: ArrayLike, bo
     that faces it). That direction is the great-circle bearing from the planet to the Sun in
     the observer's altitude-azimuth frame.
     """
+    cos_bearing = np.cos(np.radians(sun_bearing_from_up_deg(body_alt_deg, body_az_deg, sun_alt_deg, sun_az_deg)))
+    return -phase_offset_arcmin(sd_arcmin, phase_angle_deg) * cos_bearing
+
+
+def sun_bearing_from_up_deg(body_alt_deg: ArrayLike, body_az_deg: ArrayLike, sun_alt_deg: ArrayLike,
+                            sun_az_deg: ArrayLike) -> np.ndarray:
+    """The direction of the Sun seen from a body on the sky (degrees): 0° straight up toward the zenith,
+    90° toward increasing azimuth, 180° straight down; the great-circle bearing from the body to the Sun
+    in the observer's altitude-azimuth frame. The side of a disc the Sun lights faces this way.
+
+    >>> round(float(sun_bearing_from_up_deg(20.0, 180.0, 60.0, 180.0)), 6)  # the Sun above: lit from above
+    0.0
+    """
     h1, z1 = np.radians(np.asarray(body_alt_deg, dtype=float)), np.radians(np.asarray(body_az_deg, dtype=float))
     h2, z2 = np.radians(np.asarray(sun_alt_deg, dtype=float)), np.radians(np.asarray(sun_az_deg, dtype=float))
     dz = z2 - z1
     # bearing measured from "up" (toward the zenith) through the direction of increasing azimuth
     up = np.cos(h1) * np.sin(h2) - np.sin(h1) * np.cos(h2) * np.cos(dz)
     across = np.cos(h2) * np.sin(dz)
-    cos_bearing = up / np.maximum(np.hypot(up, across), 1e-15)
-    return -phase_offset_arcmin(sd_arcmin, phase_angle_deg) * cos_bearing
+    return np.degrees(np.arctan2(across, up)) % 360.0
 
 
 def planet_phases(bodies: ArrayLike, utc: object, lat_deg: ArrayLike, lon_deg: ArrayLike, hc_deg: ArrayLike,

@@ -146,20 +146,14 @@ def write_hand_kept_log(frame: pd.DataFrame) -> None:
 
 
 def write_sight_plan() -> None:
-    """The passage's sight plan for its first two days, made by navred from the DR track."""
-    from typer.testing import CliRunner
+    """The passage's sight plan for its first two days, made by navred from the DR track
+    (scripts/make_demo_sight_plan.py, which the tests run again to check the committed files)."""
+    import sys
 
-    from navred.cli import app
+    sys.path.insert(0, str(Path(__file__).resolve().parent))
+    from make_demo_sight_plan import write_demo_plan
 
-    start_lat = f"{int(START_LAT)} {START_LAT % 1 * 60:04.1f} N"
-    start_lon = f"{int(abs(START_LON)):03d} {abs(START_LON) % 1 * 60:04.1f} W"
-    result = CliRunner().invoke(app, [
-        "plan", "--date", "2026-03-26", "--lat", start_lat, "--lon", start_lon, "--course", str(COURSE_DEG),
-        "--speed", str(SPEED_KN), "--days", "2", "--eye", str(EYE_HEIGHT_M), "--count", "4",
-        "--csv", str(OUT / "demo_sight_plan.csv"), "--sky", str(OUT / "demo_sky.svg")])
-    if result.exit_code:
-        raise SystemExit(result.output)
-    (OUT / "demo_sight_plan.txt").write_text(result.output)
+    write_demo_plan(OUT)
     print(f"wrote the sight plan to {OUT}")
 
 

@@ -63,7 +63,7 @@ def test_help_on_every_command_has_an_example():
 def test_reduce_prints_one_line_per_sight():
     result = runner.invoke(app, ["reduce", "sample_sights/demo_sights.csv"])
     assert result.exit_code == 0, result.output
-    lines = result.output.splitlines()
+    lines = result.stdout.splitlines()
     sight_lines = [line for line in lines if line[:4].strip().isdigit()]
     assert len(sight_lines) == 11
     assert all(("TOWARD" in line) or ("AWAY" in line) for line in sight_lines)
@@ -73,7 +73,7 @@ def test_reduce_prints_one_line_per_sight():
 def test_reduce_reads_xlsx_and_csv_output(tmp_path):
     result = runner.invoke(app, ["reduce", "sample_sights/demo_sights.xlsx", "--csv"])
     assert result.exit_code == 0, result.output
-    frame = pd.read_csv(io.StringIO(result.output))
+    frame = pd.read_csv(io.StringIO(result.stdout))  # the caution goes to stderr: the CSV is clean
     assert len(frame) == 11 and {"ho_deg", "hc_deg", "zn_deg", "intercept_nm"} <= set(frame.columns)
 
 
@@ -162,7 +162,7 @@ def test_plan_command_prints_twilights_and_plans(tmp_path):
                                  "--course", "215", "--speed", "6.5", "--days", "2", "--count", "4",
                                  "--csv", str(tmp_path / "plan.csv"), "--sky", str(tmp_path / "sky.svg")])
     assert result.exit_code == 0, result.output
-    assert "nautical dawn" in result.output and "Twilight 4:" in result.output
+    assert "nautical dawn" in result.output and "Evening twilight, Friday 27 March 2026:" in result.output
     assert result.output.count("<- recommended") == 16
     events = pd.read_csv(tmp_path / "plan.csv")
     plans = pd.read_csv(tmp_path / "plan-plans.csv")

@@ -67,6 +67,7 @@ def _reported():
                        err=True)
             raise typer.Exit(code=1) from None
     _print_warnings(caught)
+    _caution()
 
 
 def _csv_safe(frame):
@@ -600,96 +601,204 @@ def plan_command(
     course: float = typer.Option(0.0, "--course", help="Course to steer (degrees true) for the DR track."),
     speed: float = typer.Option(0.0, "--speed", help="Speed (knots) for the DR track."),
     days: int = typer.Option(1, "--days", min=1, max=400, help="How many days to plan."),
-    eye: float = typer.Option(0.0, "--eye", help="Height of eye in metres (dip at sunrise and sunset)."),
+    eye: str | None = typer.Option(None, "--eye", help="Height of eye with its unit, '2.8 m' or '9 ft' (dip at sunrise and sunset, and the Hs to preset)."),
+    index_error: str = typer.Option("0", "--index-error", help="Index error for the Hs to preset: '1.4 on' (on the arc), '0.8 off', or signed arcminutes."),
+    zone: str | None = typer.Option(None, "--zone", help="The zone description kept (ZT + ZD = UTC), e.g. '+1'; default: the DR longitude's zone each day."),
     count: int = typer.Option(3, "--count", help="Bodies in the recommended set: 3, 4 or 5."),
     min_alt: float = typer.Option(15.0, "--min-alt", help="Lowest altitude to plan (degrees)."),
     max_alt: float = typer.Option(70.0, "--max-alt", help="Highest altitude to plan (degrees)."),
     at: str | None = typer.Option(None, "--at", help="Plan at this instant instead of at the twilights (ISO 8601 with a zone)."),
-    csv_out: str | None = typer.Option(None, "--csv", help="Write the twilight times and every plan as CSV (two files: NAME and NAME with -plans)."),
+    output: list[str] = typer.Option(None, "--output", "-o", help="Files to write, by suffix: .pdf (a page per round of sights with the sky picture, for the bridge), .txt (this text), .png or .svg (the first round's sky)."),
+    csv_out: str | None = typer.Option(None, "--csv", help="Write the day's times and every plan as CSV (two files: NAME and NAME with -plans)."),
     sky: str | None = typer.Option(None, "--sky", help="Draw the first plan's sky as PNG or SVG to this file."),
 ) -> None:
-    """Twilight times along the DR track and a sight plan for each twilight (or one instant).
+    """Twilight times along the DR track and a sight plan for each twilight (or one instant), for the bridge.
 
-    Sunrise, sunset, civil and nautical twilight and local apparent noon for each day, the
-    Sun's noon altitude, and every star, planet and the Moon between the altitude limits at
-    the middle of each twilight with Hc to preset the sextant, Zn and magnitude, and the
-    recommended set of bodies.
+    For each day: nautical and civil twilight, sunrise, sunset and the Sun's meridian passage in zone
+    time and UTC to the minute, and the noon Hs to preset (lower limb); for each twilight every star,
+    planet and the Moon between the altitude limits with the Hs to preset (Hc with dip, refraction, SD,
+    parallax and index error taken back off), the limb (the Moon's lit one), Hc, Zn and magnitude,
+    and the recommended set.
 
-    Example:  navred plan --date 2026-03-26 --lat "44 30 N" --lon "012 00 W" --course 215 --speed 6.5 --sky sky.png
+    Example:  navred plan --date 2026-03-26 --lat "44 30 N" --lon "012 00 W" --course 215 --speed 6.5 --eye "2.8 m" -o plan.pdf
     """
-    import numpy as np
-    import pandas as pd
-
-    from ..angles import format_angle
-    from ..plan import (
-        EVENT_KEYS,
-        body_meridian_passage,
-        daytime_fix_windows,
-        sight_plans,
-        twilight_plans,
-    )
-    from ..timework import parse_date
+    from ..corrections import parse_index_error_arcmin
+    from ..jobs.bridge import bridge_plan
+    from ..timework import parse_date, parse_zone_description
 
     with _reported():
         lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
         _number(course, "--course", 0.0, 360.0), _number(speed, "--speed", 0.0, 60.0)
-        _number(eye, "--eye", 0.0, 1000.0), _number(min_alt, "--min-alt", 0.0, 90.0)
-        _number(max_alt, "--max-alt", 0.0, 90.0)
+        _number(min_alt, "--min-alt", 0.0, 90.0), _number(max_alt, "--max-alt", 0.0, 90.0)
+        eye_m = _eye_option(eye)
+        try:
+            index_error_arcmin = float(parse_index_error_arcmin(index_error))
+        except NavredError as exc:
+            raise NavredError(f"--index-error: {exc}") from None
+        try:
+            zd = None if zone is None else float(parse_zone_description(zone))
+        except NavredError as exc:
+            raise NavredError(f"--zone: {exc}") from None
         try:
             date = "{:04d}-{:02d}-{:02d}".format(*parse_date(date, declarable=False))
         except NavredError as exc:
             raise NavredError(f"--date: {exc}") from None
-        events, plans = twilight_plans(date, days, lat_deg, lon_deg, course_deg=course, speed_kn=speed,
-                                       eye_height_m=eye, count=count, min_alt_deg=min_alt, max_alt_deg=max_alt)
-        if at is not None:
-            from ..plan import as_datetime64
+        files = _output_files(output, {".pdf": "a page per round of sights, for the bridge", ".txt": "the text shown",
+                                       ".png": "the first round's sky", ".svg": "the first round's sky"})
+        for path in (csv_out, sky):
+            if path:
+                from ..io.output import check_output
 
-            when = as_datetime64(at)
-            la, lo = events["track"].position(np.array([when]))
-            plans = sight_plans(np.array([when]), la, lo, count=count, min_alt_deg=min_alt, max_alt_deg=max_alt)
-        typer.echo(f"{'date':<12}" + "".join(f"{k.replace('_', ' '):>18}" for k in EVENT_KEYS) + "   noon Hc")
-        rows = []
-        for d in range(days):
-            values = {k: events[k][d] for k in EVENT_KEYS}
-            noon = body_meridian_passage("Sun", values["meridian_passage"], events["track"])
-            typer.echo(f"{str(events['date'][d]):<12}" + "".join(f"{_time_text(values[k])[5:19]:>18}" for k in EVENT_KEYS)
-                       + f"   {format_angle(noon['hc_deg'], 'signed')} {noon['bearing']}")
-            rows.append({"date": str(events["date"][d]), **{k: _time_text(values[k]) for k in EVENT_KEYS},
-                         "noon_lat_deg": noon["lat_deg"], "noon_lon_deg": noon["lon_deg"],
-                         "noon_hc_deg": noon["hc_deg"], "noon_bearing": noon["bearing"]})
-        typer.echo("times are UTC (month-day hour:minute:second); '-' means the event does not happen that day")
-        typer.echo("")
-        for k, plan in enumerate(plans):
-            label = "Sight plan" if at is not None else f"Twilight {k + 1}"
-            _print_plan(plan, label)
-            typer.echo("")
-        windows = daytime_fix_windows(date, days, lat_deg, lon_deg, course_deg=course, speed_kn=speed,
-                                      min_alt_deg=min_alt, max_alt_deg=max_alt)
-        typer.echo("Daytime fixes: the Sun with the Moon or a bright planet, their lines crossing at 30° or more")
-        if not windows:
-            typer.echo("  none in these days")
-        for window in windows:
-            typer.echo(f"  Sun and {window.body:<8} {_time_text(window.start)} to {_time_text(window.end)[11:]} UTC; "
-                       f"best {_time_text(window.best)[11:16]}: crossing {window.crossing_deg:.0f}°, "
-                       f"Sun {window.sun_hc_deg:.0f}°, {window.body} {window.body_hc_deg:.0f}°")
-        typer.echo("")
-        if csv_out:
-            from pathlib import Path
+                check_output(path)
+        plan = bridge_plan(date, days, lat_deg, lon_deg, course_deg=course, speed_kn=speed, eye_height_m=eye_m,
+                           index_error_arcmin=index_error_arcmin, zone_description_h=zd, count=count,
+                           min_alt_deg=min_alt, max_alt_deg=max_alt, at=at)
+        lines = plan.text_lines()
+        for line in lines:
+            typer.echo(line)
+        _write_plan_files(plan, files, csv_out, sky, lines)
 
-            from ..io.output import atomic_write
 
-            target = Path(csv_out)
-            atomic_write(target, lambda p: _csv_safe(pd.DataFrame(rows)).to_csv(p, index=False))
-            plans_file = target.with_name(target.stem + "-plans" + target.suffix)
-            table = pd.concat([_plan_frame(p) for p in plans], ignore_index=True) if plans else pd.DataFrame()
-            atomic_write(plans_file, lambda p: _csv_safe(table).to_csv(p, index=False))
-            typer.echo(f"wrote {target} and {plans_file}")
-        if sky and plans:
-            from ..figures.plotting import save_figure, sky_picture
-            from ..io.output import atomic_write
+def _write_plan_files(plan, files: dict[str, str], csv_out: str | None, sky: str | None, lines: list[str]) -> None:
+    """The plan's files: each 'wrote' line on stderr, so that the text on stdout is the plan alone."""
+    from pathlib import Path
 
-            atomic_write(sky, lambda p: save_figure(sky_picture(plans[0]), p))
-            typer.echo(f"wrote {sky}")
+    from ..io.output import atomic_write, csv_text
+
+    if ".txt" in files:
+        text = "\n".join(lines) + "\n"
+        atomic_write(files[".txt"], lambda p: Path(p).write_text(text, encoding="utf-8"))
+        typer.echo(f"wrote {files['.txt']}", err=True)
+    if ".pdf" in files:
+        from ..io.printed import write_pdf
+
+        typer.echo(f"wrote {write_pdf(plan.document(), files['.pdf'])}", err=True)
+    if csv_out:
+        target = Path(csv_out)
+        events, table = csv_text(plan.events_table()), csv_text(plan.plans_table())
+        atomic_write(target, lambda p: Path(p).write_text(events, encoding="utf-8"))
+        plans_file = target.with_name(target.stem + "-plans" + target.suffix)
+        atomic_write(plans_file, lambda p: Path(p).write_text(table, encoding="utf-8"))
+        typer.echo(f"wrote {target} and {plans_file}", err=True)
+    pictures = [files[s] for s in (".png", ".svg") if s in files] + ([sky] if sky else [])
+    if pictures and plan.rounds:
+        from ..figures.plotting import save_figure, sky_picture
+
+        first = plan.rounds[0]
+        for path in pictures:
+            atomic_write(path, lambda p, r=first: save_figure(sky_picture(r.plan, title=r.label), p))
+            typer.echo(f"wrote {path}", err=True)
+
+
+def _eye_option(text: str | None) -> float:
+    """A height of eye with its unit ('3.5 m', '11 ft') in metres; a bare number is refused naming both readings."""
+    import re
+
+    from ..vocabulary import UNIT_SPELLINGS, convert_to_working_unit
+
+    if text is None:
+        return 0.0
+    match = re.fullmatch(r"\s*([0-9]+(?:[.,][0-9]+)?)\s*([A-Za-z]*)\s*\.?\s*", str(text))
+    if not match:
+        raise NavredError(f"--eye {text!r}: give the height of eye with its unit, such as '3.5 m' or '11 ft'")
+    value, unit = float(match.group(1).replace(",", ".")), match.group(2).lower()
+    if not unit:
+        raise NavredError(f"--eye {text}: metres or feet? write '{text} m' or '{text} ft'")
+    if UNIT_SPELLINGS.get(unit) not in ("m", "ft"):
+        raise NavredError(f"--eye {text!r}: the unit {unit!r} is not one for a height; give metres (m) or feet (ft)")
+    metres = convert_to_working_unit(value, UNIT_SPELLINGS[unit])
+    return _number(metres, "--eye (metres)", 0.0, 1000.0)
+
+
+def _output_files(paths: list[str] | None, suffixes: dict[str, str], inputs=()) -> dict[str, str]:
+    """The -o files of a command by suffix, each refused before the work when its suffix is not one the command
+    writes (``suffixes`` maps each to what it holds), its name is empty, its folder is missing, or it is an input."""
+    from pathlib import Path
+
+    from ..io.output import check_output
+
+    chosen: dict[str, str] = {}
+    accepted = "; ".join(f"{suffix} ({what})" for suffix, what in suffixes.items())
+    for path in paths or []:
+        if not str(path).strip():
+            raise NavredError(f"-o: an empty file name; accepted: {accepted}")
+        suffix = Path(path).suffix.lower()
+        if suffix not in suffixes:
+            raise NavredError(f"-o {path}: navred does not write {suffix or 'a file without a suffix'} here; "
+                              f"accepted: {accepted}")
+        if suffix in chosen:
+            raise NavredError(f"-o {path}: a second {suffix} file (the first is {chosen[suffix]})")
+        if not Path(path).parent.exists():
+            raise NavredError(f"-o {path}: the folder {Path(path).parent} does not exist")
+        check_output(path, inputs)
+        chosen[suffix] = path
+    return chosen
+
+
+def _caution() -> None:
+    """The safety caution, one line on stderr, once at the end of every run that did its work (every command but
+    the list of bodies shows a position, a course or a time); on stderr, so that --csv output stays clean."""
+    from ..io.cautions import CAUTION
+
+    typer.echo(CAUTION, err=True)
+
+
+@app.command("paper")
+def paper_command(
+    first: str = typer.Option(..., "--from", help="The passage's first date (UTC), e.g. 2026-03-26."),
+    last: str = typer.Option(..., "--to", help="The passage's last date (UTC), inclusive."),
+    lat: str = typer.Option(..., "--lat", help="DR latitude at 00:00 local time of the first date, e.g. '44 30 N'."),
+    lon: str = typer.Option(..., "--lon", help="DR longitude then, e.g. '012 00 W'."),
+    course: float = typer.Option(0.0, "--course", help="Course to steer (degrees true) for the DR track."),
+    speed: float = typer.Option(0.0, "--speed", help="Speed (knots) for the DR track; 0 for a fixed position."),
+    eye: str | None = typer.Option(None, "--eye", help="Height of eye with its unit, '2.8 m' or '9 ft' (for the Hs to preset)."),
+    index_error: str = typer.Option("0", "--index-error", help="Index error: '1.4 on' (on the arc), '0.8 off', or signed arcminutes."),
+    zone: str | None = typer.Option(None, "--zone", help="The zone description kept (ZT + ZD = UTC), e.g. '+1'; default: the DR longitude's zone."),
+    count: int = typer.Option(4, "--count", help="Bodies in each twilight's recommended set: 3, 4 or 5."),
+    output: list[str] = typer.Option(None, "--output", "-o", help="The file to write: .pdf (the printed paper)."),
+    tables: str | None = typer.Option(None, "--tables", help="Also write every printed table as a CSV file into this folder."),
+) -> None:
+    """The printed backup of a passage: hourly GHA and Dec, the stars, altitude corrections, the twilight sights
+    planned along the DR with Hc, Zn and their change per minute, the noon Sun, a Polaris table, the
+    calculator's formulas, and blank forms (docs/paper.md says what to print and how to use each page).
+
+    Example:  navred paper --from 2026-03-26 --to 2026-03-31 --lat "44 30 N" --lon "012 00 W" --course 215 --speed 6.5 --eye "2.8 m" -o passage.pdf --tables passage-tables
+    """
+    from pathlib import Path
+
+    from ..corrections import parse_index_error_arcmin
+    from ..io.printed import write_pdf, write_tables
+    from ..jobs.paper import passage_paper
+    from ..timework import parse_zone_description
+
+    with _reported():
+        files = _output_files(output, {".pdf": "the printed paper"})
+        if not files and not tables:
+            raise NavredError("give -o FILE.pdf for the printed paper, --tables DIR for its tables as CSV, or both")
+        if tables and Path(tables).exists() and not Path(tables).is_dir():
+            raise NavredError(f"--tables {tables}: that is a file; give a folder for the tables")
+        lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
+        _number(course, "--course", 0.0, 360.0), _number(speed, "--speed", 0.0, 60.0)
+        try:
+            index_error_arcmin = float(parse_index_error_arcmin(index_error))
+        except NavredError as exc:
+            raise NavredError(f"--index-error: {exc}") from None
+        try:
+            zd = None if zone is None else float(parse_zone_description(zone))
+        except NavredError as exc:
+            raise NavredError(f"--zone: {exc}") from None
+        if count not in (3, 4, 5):
+            raise NavredError(f"--count {count}: give 3, 4 or 5")
+        paper = passage_paper(first, last, lat_deg, lon_deg, course_deg=course, speed_kn=speed,
+                              eye_height_m=_eye_option(eye), index_error_arcmin=index_error_arcmin,
+                              zone_description_h=zd, count=count)
+        if ".pdf" in files:
+            written = write_pdf(paper.document, files[".pdf"])
+            typer.echo(f"wrote {written} ({paper.days} day{'s' if paper.days > 1 else ''}, valid "
+                       f"{paper.document.valid_for})")
+        if tables:
+            written_tables = write_tables(paper.document, tables)
+            typer.echo(f"wrote {len(written_tables)} tables as CSV to {tables}")
 
 
 @app.command("compass")
@@ -758,6 +867,111 @@ def compass_command(
             typer.echo(f"deviation card {path} ({len(table)} checks):")
             typer.echo(table[["utc", "body", "compass_heading_deg", "compass_error_deg", "deviation_deg"]]
                        .to_string(index=False))
+
+
+@app.command("azimuths")
+def azimuths_command(
+    date: str = typer.Option(..., "--date", help="Local civil date of the first day, e.g. 2026-03-26."),
+    lat: str = typer.Option(..., "--lat", help="DR latitude at 00:00 local time, e.g. '43 16.6 N'."),
+    lon: str = typer.Option(..., "--lon", help="DR longitude at 00:00 local time, e.g. '013 11.4 W'."),
+    course: float = typer.Option(0.0, "--course", help="Course to steer (degrees true) for the DR track."),
+    speed: float = typer.Option(0.0, "--speed", help="Speed (knots) for the DR track."),
+    days: int = typer.Option(1, "--days", min=1, max=31, help="How many days."),
+    every: float = typer.Option(10.0, "--every", help="Minutes between the rows of the azimuth table (1 to 240)."),
+    eye: str | None = typer.Option(None, "--eye", help="Height of eye with its unit, '2.8 m' or '9 ft' (the visible sunrise and sunset)."),
+    zone: str | None = typer.Option(None, "--zone", help="The zone description kept (ZT + ZD = UTC), e.g. '+1'; default: the DR longitude's zone each day."),
+    csv: bool = typer.Option(False, "--csv", help="Print the Sun's azimuth table as CSV (nothing else on stdout)."),
+    output: list[str] = typer.Option(None, "--output", "-o", help="Files to write, by suffix: .pdf (the tables printed), .csv (the Sun's azimuth table), .txt (this text)."),
+) -> None:
+    """For the watch's compass: the Sun's true azimuth along the DR at an interval, a bright body low enough for
+    a bearing at each twilight, and the times and true amplitudes of sunrise and sunset.
+
+    Example:  navred azimuths --date 2026-03-26 --lat "44 30 N" --lon "012 00 W" --course 215 --speed 6.5 --every 15 -o azimuths.pdf
+    """
+    from pathlib import Path
+
+    from ..io.output import atomic_write, csv_text
+    from ..jobs.compasswork import watch_azimuths
+    from ..timework import parse_date, parse_zone_description
+
+    with _reported():
+        lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
+        _number(course, "--course", 0.0, 360.0), _number(speed, "--speed", 0.0, 60.0)
+        _number(every, "--every", 1.0, 240.0)
+        eye_m = _eye_option(eye)
+        try:
+            zd = None if zone is None else float(parse_zone_description(zone))
+        except NavredError as exc:
+            raise NavredError(f"--zone: {exc}") from None
+        try:
+            date = "{:04d}-{:02d}-{:02d}".format(*parse_date(date, declarable=False))
+        except NavredError as exc:
+            raise NavredError(f"--date: {exc}") from None
+        files = _output_files(output, {".pdf": "the tables printed", ".csv": "the Sun's azimuth table",
+                                       ".txt": "the text shown"})
+        result = watch_azimuths(date, days, lat_deg, lon_deg, course_deg=course, speed_kn=speed, step_minutes=every,
+                                eye_height_m=eye_m, zone_description_h=zd)
+        lines = result.text_lines()
+        if csv:
+            sys.stdout.write(csv_text(result.sun))
+        else:
+            for line in lines:
+                typer.echo(line)
+        if ".csv" in files:
+            text = csv_text(result.sun)
+            atomic_write(files[".csv"], lambda p: Path(p).write_text(text, encoding="utf-8"))
+            typer.echo(f"wrote {files['.csv']}", err=True)
+        if ".txt" in files:
+            text = "\n".join(lines) + "\n"
+            atomic_write(files[".txt"], lambda p: Path(p).write_text(text, encoding="utf-8"))
+            typer.echo(f"wrote {files['.txt']}", err=True)
+        if ".pdf" in files:
+            import numpy as np
+
+            from ..io.printed import write_pdf
+
+            last = str(np.datetime64(date) + np.timedelta64(days - 1, "D"))
+            valid = date + (f" to {last}" if days > 1 else "") + " (local dates)"
+            typer.echo(f"wrote {write_pdf(result.document(valid), files['.pdf'])}", err=True)
+
+
+@app.command("compass-book")
+def compass_book_command(
+    books: list[str] = typer.Argument(..., metavar="BOOK...", help="Compass error books: CSV or .xlsx with utc, body, compass (gyro or magnetic), bearing, lat, lon, and heading and variation for a magnetic compass (docs/compass.md)."),
+    csv: bool = typer.Option(False, "--csv", help="Print every bearing worked out as CSV (nothing else on stdout)."),
+    output: list[str] = typer.Option(None, "--output", "-o", help="Files to write, by suffix: .pdf (the book and the deviation card printed), .csv (every bearing worked out)."),
+    dates: str | None = typer.Option(None, "--dates", help=_DATES_HELP),
+) -> None:
+    """The compass error book: each bearing of a body against its true azimuth, the gyro's error (high or low),
+    the magnetic compass's error and deviation by heading against the variation, and the deviation card.
+
+    Example:  navred compass-book sample_sights/compass_book.csv -o compass.pdf
+    """
+    from pathlib import Path
+
+    from ..io.output import atomic_write, csv_text
+    from ..jobs.compasswork import compass_book
+
+    with _reported():
+        files = _output_files(output, {".pdf": "the book and the deviation card printed",
+                                       ".csv": "every bearing worked out"}, inputs=books)
+        book = compass_book(_source(books), dates=dates)
+        columns = ["row", "source", "utc", "body", "compass", "bearing_deg", "true_bearing_deg", "altitude_deg",
+                   "gyro_error_deg", "heading_deg", "variation_deg", "compass_error_deg", "deviation_deg", "remarks"]
+        table = book.observations[[c for c in columns if c in book.observations]]
+        if csv:
+            sys.stdout.write(csv_text(table))
+        else:
+            for line in book.text_lines():
+                typer.echo(line)
+        if ".csv" in files:
+            text = csv_text(table)
+            atomic_write(files[".csv"], lambda p: Path(p).write_text(text, encoding="utf-8"), inputs=book.sources)
+            typer.echo(f"wrote {files['.csv']}", err=True)
+        if ".pdf" in files:
+            from ..io.printed import write_pdf
+
+            typer.echo(f"wrote {write_pdf(book.document(), files['.pdf'], inputs=book.sources)}", err=True)
 
 
 @app.command("identify")

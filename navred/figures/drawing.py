@@ -161,6 +161,19 @@ class Canvas:
         self.items.append(_Text(float(x), float(y), str(text), size, colour, anchor, baseline, float(rotation),
                                 bold, italic, box))
 
+    def replay(self, pen) -> None:
+        """Draw every primitive, in order, with another renderer: ``pen.line(points, colour, width, dash)``,
+        ``pen.polygon(points, fill, outline, width)`` and ``pen.text(x, y, text, size, colour, anchor,
+        baseline, rotation, bold, italic, box)``, in this canvas's points (origin top left, y down)."""
+        for item in self.items:
+            if isinstance(item, _Line):
+                pen.line(item.points, item.colour, item.width, item.dash)
+            elif isinstance(item, _Polygon):
+                pen.polygon(item.points, item.fill, item.outline, item.width)
+            else:
+                pen.text(item.x, item.y, item.text, item.size, item.colour, item.anchor, item.baseline,
+                         item.rotation, item.bold, item.italic, item.box)
+
     # --- SVG ---------------------------------------------------------------------------
 
     def to_svg(self) -> str:

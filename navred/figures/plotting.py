@@ -249,8 +249,19 @@ def save_figure(figure, path) -> None:
 
     target = Path(path)
     fmt = target.suffix.lstrip(".").lower() or "png"
-    with matplotlib.rc_context({"svg.fonttype": "none"}):
-        figure.savefig(target, facecolor=figure.get_facecolor(), format=fmt)
+    # no date in the file: the same plan draws the same file (the committed demo is checked against a redraw)
+    metadata = {"Date": None} if fmt in ("svg", "pdf") else None
+    with matplotlib.rc_context({"svg.fonttype": "none", "svg.hashsalt": "navred"}):
+        figure.savefig(target, facecolor=figure.get_facecolor(), format=fmt, metadata=metadata)
+
+
+def figure_png(figure, dpi: int = 160) -> bytes:
+    """A matplotlib figure as PNG bytes (for a printed page)."""
+    import io
+
+    out = io.BytesIO()
+    figure.savefig(out, facecolor=figure.get_facecolor(), format="png", dpi=dpi)
+    return out.getvalue()
 
 
 def sky_picture(plan, *, title: str = ""):

@@ -1,5 +1,7 @@
 """Fixes, DR positions and lines of position in open formats for a chart plotter.
 
+Both carry the safety caution (GPX: the metadata's description; GeoJSON: a ``navred`` member).
+
 - GPX 1.1 (the Topografix schema, an open standard): one waypoint per fix and per DR at
   the fix time, with the time, a name and the ellipse in the description; a waypoint per
   estimated position and per noon position; the DR track as a track (a segment from each
@@ -23,6 +25,7 @@ import numpy as np
 from .. import __version__
 from ..jobs.voyage import VoyageResult
 from ..triangle import destination
+from .cautions import geojson_with_caution, gpx_with_caution
 from .output import atomic_write
 
 GPX_NAMESPACE = "http://www.topografix.com/GPX/1/1"
@@ -40,6 +43,7 @@ def write_gpx(voyage: VoyageResult, path: str | Path) -> Path:
     """GPX 1.1 waypoints of every fix and of the DR at each fix time."""
     ET.register_namespace("", GPX_NAMESPACE)
     root = ET.Element(f"{{{GPX_NAMESPACE}}}gpx", {"version": "1.1", "creator": f"navred {__version__}"})
+    gpx_with_caution(root, GPX_NAMESPACE)
     for group in _fix_groups(voyage):
         fix = group.fix
         for kind, lat, lon in (("fix", fix.lat_deg, fix.lon_deg), ("DR", fix.dr_lat_deg, fix.dr_lon_deg)):
@@ -187,6 +191,6 @@ def write_geojson(voyage: VoyageResult, path: str | Path) -> Path:
                 "properties": {"kind": "DR track", "vessel": vessel,
                                "from_utc": _iso(str(leg.utc.iloc[0]).replace(" ", "T")),
                                "to_utc": _iso(str(leg.utc.iloc[-1]).replace(" ", "T"))}})
-    collection = {"type": "FeatureCollection", "features": features}
+    collection = geojson_with_caution({"type": "FeatureCollection", "features": features})
     text = json.dumps(collection, indent=1, allow_nan=False)
     return atomic_write(path, lambda p: Path(p).write_text(text, encoding="utf-8"), inputs=voyage.log.sources)

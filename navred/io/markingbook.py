@@ -131,7 +131,7 @@ def write_template(path: str | Path) -> Path:
     from ..stars import known_bodies
     from ..vocabulary import HORIZONS, LIMBS
     from .output import atomic_write
-    from .workbook import SAFETY, header_row
+    from .workbook import SAFETY, fit_pages, header_row
 
     book = Workbook()
     book.remove(book.active)
@@ -225,6 +225,7 @@ def write_template(path: str | Path) -> Path:
     help_sheet.column_dimensions["A"].width = 120
     book.move_sheet("How to fill it in", offset=len(book.sheetnames))
     book.move_sheet("Lists", offset=len(book.sheetnames))
+    fit_pages(book)
     return atomic_write(path, book.save)
 
 

@@ -470,16 +470,34 @@ def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool | Pict
     return atomic_write(path, tables.save, inputs=voyage.log.sources)
 
 
-def fit_pages(book, tables: TableWriter | None = None) -> None:
-    """Print each sheet landscape, one page wide, so a printed log keeps its columns together."""
+#: A sheet wider than this many columns prints landscape.
+LANDSCAPE_COLUMNS = 8
+#: Sheets whose first row is not a table's header (a title, or a text above the tables): no row repeats.
+NO_HEADER_ROW = ("About", "Training", "Lunar distance", "How to fill it in", "Lists")
+
+
+def fit_pages(book, tables: TableWriter | None = None, *, made: str | None = None) -> None:
+    """The print setup of every sheet: one page wide (as many tall as it takes), landscape when wider than
+    :data:`LANDSCAPE_COLUMNS` columns, the header row repeated on every page of a table, and a footer with the
+    safety caution, the day the file was made and the page number, so that no printed page shows bare positions."""
+    import datetime as dt
+
+    from .. import __version__
+    from .cautions import CAUTION
+
+    made = made or dt.date.today().isoformat()
     for sheet in book.worksheets:
-        sheet.page_setup.orientation = "landscape"
-        sheet.print_title_rows = "1:1" if sheet.title not in ("About", "Training", "Lunar distance") else None
-        if (tables.width(sheet) if tables is not None else sheet.max_column) > 14:
-            continue  # too wide to shrink onto one page: it prints across pages, headers repeated
+        width = tables.width(sheet) if tables is not None else sheet.max_column
+        sheet.page_setup.orientation = "landscape" if width > LANDSCAPE_COLUMNS else "portrait"
+        sheet.print_title_rows = None if sheet.title in NO_HEADER_ROW else "1:1"
         sheet.sheet_properties.pageSetUpPr.fitToPage = True
         sheet.page_setup.fitToWidth = 1
         sheet.page_setup.fitToHeight = 0
+        for footer in (sheet.oddFooter, sheet.evenFooter, sheet.firstFooter):
+            footer.left.text = CAUTION
+            footer.left.size = 7
+            footer.right.text = f"navred {__version__}, made {made}; page &P of &N"
+            footer.right.size = 7
 
 
 def _write_timepieces_sheet(tables: TableWriter, sheet, voyage) -> None:

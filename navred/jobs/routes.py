@@ -20,6 +20,7 @@ import pandas as pd
 from .. import __version__
 from ..angles import format_angle
 from ..errors import NavredError
+from ..io.cautions import ROUTE_CAUTION, geojson_with_caution, gpx_with_caution
 from ..io.output import atomic_write
 from ..sailings import (
     composite_great_circle,
@@ -84,11 +85,12 @@ class Route:
                              "route is needed")
         lines.append(f"{len(self.waypoints)} waypoints, every {self.spacing_nm:g} nm along the "
                      f"{'composite route' if self.composite and self.composite['kind'] == 'composite' else 'great circle'}"
-                     "; steer the rhumb line between them:")
+                     "; steer the rhumb line between them, each leg checked on the chart first:")
         for r in self.waypoints.to_dict("records"):
             leg = (f"  then {r['rhumb course to next (deg)']:05.1f}° for {r['rhumb distance to next (nm)']:.1f} nm"
                    if r["rhumb distance to next (nm)"] == r["rhumb distance to next (nm)"] else "")
             lines.append(f"  {r['waypoint']:>4}  {r['lat']:>12} {r['lon']:>13}  {r['from start (nm)']:8.1f} nm{leg}")
+        lines.append(ROUTE_CAUTION)
         return lines
 
     @staticmethod
@@ -163,11 +165,12 @@ def route_gpx(route: Route, path: str | Path) -> Path:
     """The route as a GPX 1.1 route (rte) of its waypoints."""
     ET.register_namespace("", GPX_NAMESPACE)
     root = ET.Element(f"{{{GPX_NAMESPACE}}}gpx", {"version": "1.1", "creator": f"navred {__version__}"})
+    gpx_with_caution(root, GPX_NAMESPACE)
     rte = ET.SubElement(root, f"{{{GPX_NAMESPACE}}}rte")
     ET.SubElement(rte, f"{{{GPX_NAMESPACE}}}name").text = "navred route"
     ET.SubElement(rte, f"{{{GPX_NAMESPACE}}}desc").text = (
         f"{'composite great circle' if route.composite and route.composite['kind'] == 'composite' else 'great circle'}"
-        f", waypoints every {route.spacing_nm:g} nm; an aid to planning: check it against the charts")
+        f", waypoints every {route.spacing_nm:g} nm; an aid to planning. {ROUTE_CAUTION}")
     for r in route.waypoints.to_dict("records"):
         point = ET.SubElement(rte, f"{{{GPX_NAMESPACE}}}rtept", {"lat": f"{r['lat (deg)']:.6f}",
                                                                  "lon": f"{r['lon (deg)']:.6f}"})
@@ -185,7 +188,7 @@ def route_geojson(route: Route, path: str | Path) -> Path:
         [float(lon), float(lat)] for lat, lon in zip(w["lat (deg)"], w["lon (deg)"])]},
         "properties": {"kind": "route", "great_circle_nm": route.great_circle_nm, "rhumb_nm": route.rhumb_nm,
                        "composite_nm": (route.composite or {}).get("distance_nm"),
-                       "spacing_nm": route.spacing_nm}}]
+                       "spacing_nm": route.spacing_nm, "caution": ROUTE_CAUTION}}]
     for r in w.to_dict("records"):
         features.append({"type": "Feature", "geometry": {"type": "Point", "coordinates": [r["lon (deg)"], r["lat (deg)"]]},
                          "properties": {"kind": "waypoint", "waypoint": int(r["waypoint"]), "part": r["part"],
@@ -193,7 +196,8 @@ def route_geojson(route: Route, path: str | Path) -> Path:
     if route.vertex is not None and route.vertex_on_route:
         features.append({"type": "Feature", "geometry": {"type": "Point", "coordinates": [route.vertex[1], route.vertex[0]]},
                          "properties": {"kind": "vertex", "from_start_nm": route.vertex_from_start_nm}})
-    text = json.dumps({"type": "FeatureCollection", "features": features}, indent=1, allow_nan=False)
+    text = json.dumps(geojson_with_caution({"type": "FeatureCollection", "features": features}), indent=1,
+                      allow_nan=False)
     return atomic_write(path, lambda p: Path(p).write_text(text, encoding="utf-8"))
 
 

@@ -1,0 +1,412 @@
+"""navred plan for the bridge: the sight plan a watch officer can use on deck, and what the printed paper shares.
+
+Edge code. Along the DR track, for each local date: the twilights, sunrise, sunset and the Sun's
+meridian passage in zone time and UTC to the minute, the noon Hs to preset; for each twilight the
+bodies with the Hs to preset (Hc with every correction taken back off), the limb (the Moon's lit
+limb), Hc, Zn and magnitude, the recommended set; the daytime fix windows. As console text, as two
+CSV tables, and as printed pages (a page per twilight with the sky picture).
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..angles import format_angle
+from ..plan import (
+    EVENT_KEYS,
+    DayWindow,
+    SightPlan,
+    Track,
+    as_datetime64,
+    body_meridian_passage,
+    daytime_fix_windows,
+    sight_plans,
+    twilight_plans,
+)
+from ..presets import SightPresets, preset_hs_deg, sight_presets
+from ..reckoning import zone_description_h
+
+_NS_PER_MINUTE = 60_000_000_000
+
+
+def signed(value: float, decimals: int = 1) -> str:
+    """A signed number as printed: the minus sign (−), no sign for a positive value, '' for NaN."""
+    if value != value:
+        return ""
+    text = f"{abs(value):.{decimals}f}"
+    return ("−" + text) if value < 0 and float(text) != 0.0 else text
+
+
+def dm(angle_deg: float, kind: str = "angle") -> str:
+    """An angle as printed in degrees and minutes (format_angle), '' for NaN."""
+    return "" if angle_deg != angle_deg else str(format_angle(float(angle_deg), kind))
+
+
+def to_minute(utc64) -> np.datetime64:
+    """An instant rounded to the nearest whole minute."""
+    ns = np.datetime64(utc64, "ns").astype(np.int64)
+    return np.datetime64(int(round(ns / _NS_PER_MINUTE)) * _NS_PER_MINUTE, "ns")
+
+
+def hm(utc64) -> str:
+    """HH:MM of an instant rounded to the minute, '' for none."""
+    if utc64 is None or np.isnat(np.datetime64(utc64, "ns")):
+        return ""
+    return str(to_minute(utc64))[11:16]
+
+
+def zone_time(utc64, zone_h: float) -> np.datetime64:
+    """Zone time of a UTC instant: ZT = UTC − ZD."""
+    return np.datetime64(utc64, "ns") - np.timedelta64(int(round(zone_h * 60)), "m")
+
+
+def zone_text(zd: float) -> str:
+    """A zone description as the trade writes it: +1, −3, 0."""
+    return "0" if zd == 0 else (f"+{zd:.0f}" if zd > 0 else f"−{abs(zd):.0f}")
+
+
+def long_date(day) -> str:
+    value = dt.date.fromisoformat(str(np.datetime64(day, "D")))
+    return value.strftime("%A %d %B %Y").replace(" 0", " ")
+
+
+@dataclass(frozen=True)
+class PlannedTwilight:
+    """One planned round of sights: its label, the zone description kept, the twilight's nautical and civil
+    instants (NaT for a plan at a given instant), the plan (at the planned time rounded to the minute) and
+    the presets of its bodies."""
+
+    label: str
+    kind: str
+    zone_h: float
+    nautical: np.datetime64
+    civil: np.datetime64
+    plan: SightPlan
+    presets: SightPresets
+
+
+@dataclass(frozen=True)
+class NoonSun:
+    """Local apparent noon at the moving DR: UTC, the zone description, the DR then, the Sun's Dec, Hc, the
+    Hs to preset (lower limb) and where to look (N or S)."""
+
+    date: np.datetime64
+    utc: np.datetime64
+    zone_h: float
+    lat_deg: float
+    lon_deg: float
+    dec_deg: float
+    hc_deg: float
+    hs_deg: float
+    bearing: str
+
+
+@dataclass(frozen=True)
+class DayEvents:
+    """A local date's events (UTC instants, NaT when it does not happen) and the zone description kept."""
+
+    date: np.datetime64
+    zone_h: float
+    times: dict
+
+
+def zone_for(lon_deg: float, given: float | None) -> float:
+    """The zone description kept: the one given, else the nautical zone of the longitude."""
+    return float(given) if given is not None else float(zone_description_h(lon_deg))
+
+
+def planned_rounds(events: dict, plans: list[SightPlan], track: Track, *, eye_height_m: float,
+                   index_error_arcmin: float, zone_given: float | None, count: int, min_alt_deg: float,
+                   max_alt_deg: float, label: str | None = None) -> list[PlannedTwilight]:
+    """Each plan again at its time rounded to the whole minute (a watch works to the minute), with its bodies'
+    presets; a twilight is named by the local date whose noon is nearest."""
+    rounds = []
+    noon = events["meridian_passage"].astype(np.int64)
+    for plan in plans:
+        when = to_minute(plan.utc)
+        lat, lon = (float(v[0]) for v in track.position(np.array([when])))
+        again = sight_plans(np.array([when]), np.array([lat]), np.array([lon]), count=count, min_alt_deg=min_alt_deg,
+                            max_alt_deg=max_alt_deg)[0]
+        if again.body.size == 0:
+            continue
+        presets = sight_presets(again.body, when, lat, lon, eye_height_m=eye_height_m,
+                                index_error_arcmin=index_error_arcmin)
+        day = int(np.argmin(np.abs(noon - when.astype(np.int64))))
+        if label is not None:
+            kind, name, nautical, civil = "Sight plan", label, np.datetime64("NaT"), np.datetime64("NaT")
+        else:
+            morning = when < events["meridian_passage"][day]
+            kind = "Morning twilight" if morning else "Evening twilight"
+            name = f"{kind}, {long_date(events['date'][day])}"
+            nautical = events["nautical_dawn" if morning else "nautical_dusk"][day]
+            civil = events["civil_dawn" if morning else "civil_dusk"][day]
+        rounds.append(PlannedTwilight(name, kind, zone_for(lon, zone_given), nautical, civil, again, presets))
+    return rounds
+
+
+def noon_suns(events: dict, track: Track, *, eye_height_m: float, index_error_arcmin: float,
+              zone_given: float | None) -> list[NoonSun]:
+    """The Sun's meridian passage at the moving DR on each local date, and the lower limb's Hs to preset."""
+    from ..almanac import places
+
+    out = []
+    for d in range(len(events["date"])):
+        if np.isnat(events["meridian_passage"][d]):
+            continue
+        noon = body_meridian_passage("Sun", events["meridian_passage"][d], track)
+        sun = places("Sun", np.array([noon["utc"]]))
+        hs = preset_hs_deg(noon["hc_deg"], limb="lower", sd_arcmin=float(sun.sd_arcmin[0]),
+                           hp_arcmin=float(sun.hp_arcmin[0]), eye_height_m=eye_height_m,
+                           index_error_arcmin=index_error_arcmin, lat_deg=noon["lat_deg"],
+                           zn_deg=0.0 if noon["bearing"] == "N" else 180.0)
+        out.append(NoonSun(events["date"][d], noon["utc"], zone_for(noon["lon_deg"], zone_given), noon["lat_deg"],
+                           noon["lon_deg"], noon["dec_deg"], noon["hc_deg"], float(hs), noon["bearing"]))
+    return out
+
+
+def provenance_line(dut1_s: np.ndarray, sources) -> str:
+    """Where the numbers come from, for the heading of a printed page."""
+    from .. import __version__
+    from ..timescales import iers_table
+
+    low, high = (signed(float(v), 2) for v in (np.min(dut1_s), np.max(dut1_s)))
+    return (f"navred {__version__}: JPL DE421 (jplephem), IAU 2006/2000B precession-nutation and sidereal time "
+            f"(ERFA), stars from Hipparcos 2; UT1−UTC {low if low == high else f'{low} to {high}'} s "
+            f"({', '.join(sorted(set(map(str, sources))))}; IERS table measured to {iers_table().last_measured_date}). "
+            "Times are UTC unless marked zone time.")
+
+
+@dataclass(frozen=True)
+class BridgePlan:
+    """The plan of one or more days along the DR track, ready to print, show or save."""
+
+    first_date: np.datetime64
+    lat_deg: float
+    lon_deg: float
+    course_deg: float
+    speed_kn: float
+    eye_height_m: float
+    index_error_arcmin: float
+    zone_given: float | None
+    days: tuple[DayEvents, ...]
+    noons: tuple[NoonSun, ...]
+    rounds: tuple[PlannedTwilight, ...]
+    windows: tuple[DayWindow, ...]
+
+    # --- the console ---------------------------------------------------------------------------
+
+    def text_lines(self) -> list[str]:
+        moving = (f", then {self.course_deg:05.1f}° at {self.speed_kn:.1f} kn" if self.speed_kn > 0 else
+                  " (a fixed position)")
+        ie = self.index_error_arcmin
+        lines = [f"Sight plan along the DR from {dm(self.lat_deg, 'lat')} {dm(self.lon_deg, 'lon')} at 00:00 local "
+                 f"time of {self.first_date}{moving}",
+                 f"Height of eye {self.eye_height_m:g} m, index error {abs(ie):.1f}′ "
+                 f"{'on' if ie > 0 else 'off' if ie < 0 else ''} the arc".replace("  ", " ")
+                 + ": the Hs to preset is Hc with dip, refraction, SD, parallax and index error taken back off.",
+                 "Times are zone time (ZT + ZD = UTC) with UTC in brackets, to the minute; '-': the event does not "
+                 "happen that day.", ""]
+        names = ("nautical dawn", "civil dawn", "sunrise", "noon", "sunset", "civil dusk", "nautical dusk")
+        lines.append(f"{'date':<12}{'ZD':>4}" + "".join(f"{n:>16}" for n in names))
+        for day in self.days:
+            cells = []
+            for key in EVENT_KEYS:
+                when = day.times[key]
+                cells.append("-" if np.isnat(when) else f"{hm(zone_time(when, day.zone_h))} ({hm(when)})")
+            lines.append(f"{str(day.date):<12}{zone_text(day.zone_h):>4}" + "".join(f"{c:>16}" for c in cells))
+        lines.append("")
+        lines.append("Noon: the Sun on the meridian at the DR (lower limb)")
+        for noon in self.noons:
+            lines.append(f"  {noon.date}  {hm(zone_time(noon.utc, noon.zone_h))} zone ({zone_text(noon.zone_h)}), "
+                         f"{hm(noon.utc)} UTC: bearing {noon.bearing}, Hs to preset {dm(noon.hs_deg, 'signed')} "
+                         f"(Hc {dm(noon.hc_deg, 'signed')}, Dec {dm(noon.dec_deg, 'dec')}), DR "
+                         f"{dm(noon.lat_deg, 'lat')} {dm(noon.lon_deg, 'lon')}")
+        lines.append("")
+        for round_ in self.rounds:
+            lines.extend(self._round_lines(round_))
+            lines.append("")
+        lines.append("Daytime fixes: the Sun with the Moon or a bright planet, their lines crossing at 30° or more")
+        if not self.windows:
+            lines.append("  none in these days")
+        for window in self.windows:
+            zd = zone_for(self.lon_deg, self.zone_given) if not self.days else self._zone_on(window.best)
+            lines.append(f"  Sun and {window.body:<8} {str(zone_time(window.start, zd))[:10]} "
+                         f"{hm(zone_time(window.start, zd))} to {hm(zone_time(window.end, zd))} zone "
+                         f"({zone_text(zd)}), {hm(window.start)} to {hm(window.end)} UTC; best "
+                         f"{hm(zone_time(window.best, zd))} zone: crossing {window.crossing_deg:.0f}°, Sun "
+                         f"{window.sun_hc_deg:.0f}°, {window.body} {window.body_hc_deg:.0f}°")
+        return lines
+
+    def _zone_on(self, utc64) -> float:
+        noon = np.array([n.utc for n in self.noons], dtype="datetime64[ns]")
+        if noon.size == 0:
+            return zone_for(self.lon_deg, self.zone_given)
+        return self.noons[int(np.argmin(np.abs((noon - np.datetime64(utc64, "ns")).astype(np.int64))))].zone_h
+
+    def _round_lines(self, round_: PlannedTwilight) -> list[str]:
+        p = round_.presets
+        zd = round_.zone_h
+        head = (f"{round_.label}: {hm(zone_time(p.utc, zd))} zone ({zone_text(zd)}), {hm(p.utc)} UTC, from DR "
+                f"{dm(p.lat_deg, 'lat')} {dm(p.lon_deg, 'lon')}")
+        lines = [head]
+        if not np.isnat(round_.nautical):
+            lines.append(f"  nautical twilight {hm(zone_time(round_.nautical, zd))}, civil "
+                         f"{hm(zone_time(round_.civil, zd))} zone")
+        lines.append(f"  {'body':<16}{'Hs to preset':>13}  {'limb':<7}{'Hc':>12}{'Zn':>8}{'mag':>6}  {'from Moon':>9}")
+        for k in self._order(round_):
+            mark = "  <- recommended" if round_.plan.recommended[k] else ""
+            lines.append(f"  {p.body[k]:<16}{dm(p.hs_deg[k], 'signed') or 'below':>13}  {self._limb(p, k):<7}"
+                         f"{dm(p.hc_deg[k], 'signed'):>12}{format(p.zn_deg[k], '05.1f') + '°':>8}{round_.plan.magnitude[k]:6.1f}  "
+                         f"{round_.plan.moon_separation_deg[k]:8.0f}°{mark}")
+            if p.body[k] == "Moon" and p.horns_vertical[k]:
+                lines.append("  " + " " * 16 + "the Moon's horns point up and down: neither limb is a clean edge")
+        lines.append(f"  choice: {round_.plan.explanation}")
+        return lines
+
+    @staticmethod
+    def _limb(p: SightPresets, k: int) -> str:
+        return {"lower": "lower", "upper": "upper"}.get(str(p.limb[k]), "")
+
+    @staticmethod
+    def _order(round_: PlannedTwilight) -> np.ndarray:
+        return np.argsort(round_.presets.zn_deg, kind="stable")
+
+    # --- the tables -----------------------------------------------------------------------------
+
+    def events_table(self):
+        """One row per local date: each event in UTC and zone time to the minute, and the noon Sun."""
+        import pandas as pd
+
+        rows = []
+        by_date = {str(n.date): n for n in self.noons}
+        for day in self.days:
+            row = {"date": str(day.date), "zone_description_h": day.zone_h}
+            for key in EVENT_KEYS:
+                when = day.times[key]
+                row[f"{key}_utc"] = "" if np.isnat(when) else str(to_minute(when))[:16].replace("T", " ")
+                row[f"{key}_zone_time"] = "" if np.isnat(when) else hm(zone_time(when, day.zone_h))
+            noon = by_date.get(str(day.date))
+            if noon is not None:
+                row.update({"noon_lat_deg": noon.lat_deg, "noon_lon_deg": noon.lon_deg, "noon_dec_deg": noon.dec_deg,
+                            "noon_hc_deg": noon.hc_deg, "noon_hs_preset_deg": noon.hs_deg,
+                            "noon_bearing": noon.bearing})
+            rows.append(row)
+        return pd.DataFrame(rows)
+
+    def plans_table(self):
+        """One row per body of every round: the planned UTC and zone time, the presets, the recommended set."""
+        import pandas as pd
+
+        frames = []
+        for round_ in self.rounds:
+            p, plan = round_.presets, round_.plan
+            order = self._order(round_)
+            frames.append(pd.DataFrame({
+                "round": round_.label, "utc": str(p.utc)[:16].replace("T", " "),
+                "zone_time": hm(zone_time(p.utc, round_.zone_h)), "zone_description_h": round_.zone_h,
+                "dr_lat_deg": p.lat_deg, "dr_lon_deg": p.lon_deg, "body": p.body[order],
+                "hs_preset_deg": p.hs_deg[order], "limb": [self._limb(p, k) for k in order], "hc_deg": p.hc_deg[order],
+                "zn_deg": p.zn_deg[order], "magnitude": plan.magnitude[order],
+                "moon_separation_deg": plan.moon_separation_deg[order], "recommended": plan.recommended[order]}))
+        return pd.concat(frames, ignore_index=True) if frames else pd.DataFrame()
+
+    # --- the printed pages ----------------------------------------------------------------------
+
+    def document(self):
+        """A page per round of sights: the times, the bodies with their Hs to preset, the sky picture, the day's
+        noon; headed like every printed page (the dates, the provenance, the caution)."""
+        from ..figures.plotting import figure_png, sky_picture
+        from ..io.cautions import CAUTION
+        from ..io.printed import Document, Page, Picture, Table, Text
+
+        pages = []
+        by_date = {str(n.date): n for n in self.noons}
+        if not self.rounds:  # no twilight (white nights, midnight sun): the days' times and the daytime fixes
+            rows = []
+            for day in self.days:
+                rows.append((str(day.date), zone_text(day.zone_h)) + tuple(
+                    "-" if np.isnat(day.times[key]) else hm(zone_time(day.times[key], day.zone_h)) for key in EVENT_KEYS))
+            blocks = [Text("No twilight dark enough for stars on these dates at this place: the days' times (zone "
+                           "time) and the daytime fixes with the Sun.", "body"),
+                      Table(("date", "ZD", "nautical dawn", "civil dawn", "sunrise", "noon", "sunset", "civil dusk",
+                             "nautical dusk"), tuple(rows), font_size=7.6)]
+            blocks += [Text(line.strip(), "body") for line in self.text_lines() if line.startswith("  Sun and ")
+                       or line.startswith("  20")]
+            pages.append(Page("Sight plan: no twilight", tuple(blocks)))
+        for round_ in self.rounds:
+            p, zd = round_.presets, round_.zone_h
+            rows = []
+            for k in self._order(round_):
+                limb = self._limb(p, k) + (" (horns up/down)" if p.body[k] == "Moon" and p.horns_vertical[k] else "")
+                rows.append((str(p.body[k]), "●" if round_.plan.recommended[k] else "", dm(p.hs_deg[k], "signed"),
+                             limb, dm(p.hc_deg[k], "signed"), f"{p.zn_deg[k]:05.1f}",
+                             signed(round_.plan.magnitude[k])))
+            table = Table(("Body", "set", "Hs to preset", "limb", "Hc", "Zn °", "mag"), tuple(rows), font_size=7.8,
+                          widths=(1.5, 0.4, 1.1, 1.2, 1.1, 0.6, 0.5), left_columns=2, width_fraction=0.85,
+                          compact=True)
+            blocks = [Text(f"{hm(zone_time(p.utc, zd))} zone time (ZD {zone_text(zd)}), {hm(p.utc)} UTC, from DR "
+                           f"{dm(p.lat_deg, 'lat')} {dm(p.lon_deg, 'lon')}", "subheading")]
+            if not np.isnat(round_.nautical):
+                blocks.append(Text(f"Nautical twilight {hm(zone_time(round_.nautical, zd))}, civil "
+                                   f"{hm(zone_time(round_.civil, zd))} zone time. Height of eye {self.eye_height_m:g} "
+                                   f"m, index error {signed(self.index_error_arcmin)}′ (on the arc +): set the Hs and "
+                                   "look along the Zn. ● the recommended set.", "body"))
+            blocks.append(table)
+            figure = sky_picture(round_.plan, title=f"{round_.label}: {hm(zone_time(p.utc, zd))} zone, "
+                                                    f"{hm(p.utc)} UTC")
+            blocks.append(Picture(figure_png(figure, dpi=150), 255.0))
+            blocks.append(Text(f"Choice: {round_.plan.explanation}", "small"))
+            noon = by_date.get(str(np.datetime64(zone_time(p.utc, zd), "D")))
+            if noon is not None:
+                blocks.append(Text(f"Noon that day: the Sun on the meridian at {hm(zone_time(noon.utc, noon.zone_h))} "
+                                   f"zone ({hm(noon.utc)} UTC), bearing {noon.bearing}, Hs to preset (lower limb) "
+                                   f"{dm(noon.hs_deg, 'signed')}.", "body"))
+            pages.append(Page(round_.label, tuple(blocks)))
+        dates = [d.date for d in self.days] or [np.datetime64(self.rounds[0].presets.utc, "D")]
+        valid = f"{dates[0]}" + (f" to {dates[-1]}" if len(dates) > 1 else "") + " (local dates)"
+        from ..timescales import instants
+
+        when = [r.presets.utc for r in self.rounds] or [n.utc for n in self.noons] or [dates[0]]
+        inst = instants(np.array(when, dtype="datetime64[ns]"))
+        return Document("navred sight plan", valid, provenance_line(inst.dut1_s, inst.ut1_source), CAUTION,
+                        tuple(pages))
+
+
+def bridge_plan(first_date: object, days: int, lat_deg: float, lon_deg: float, *, course_deg: float = 0.0,
+                speed_kn: float = 0.0, eye_height_m: float = 0.0, index_error_arcmin: float = 0.0,
+                zone_description_h: float | None = None, count: int = 3, min_alt_deg: float = 15.0,
+                max_alt_deg: float = 70.0, at: object | None = None) -> BridgePlan:
+    """The plan of ``days`` local dates from ``first_date`` along the DR track (from (``lat_deg``, ``lon_deg``)
+    at 00:00 local time of the first date, on ``course_deg`` at ``speed_kn``): every twilight, or the one
+    instant ``at`` instead."""
+    events, plans = twilight_plans(str(first_date), days, lat_deg, lon_deg, course_deg=course_deg, speed_kn=speed_kn,
+                                   eye_height_m=eye_height_m, count=count, min_alt_deg=min_alt_deg,
+                                   max_alt_deg=max_alt_deg)
+    track = events["track"]
+    label = None
+    if at is not None:
+        when = to_minute(as_datetime64(at))
+        lat, lon = track.position(np.array([when]))
+        plans = sight_plans(np.array([when]), lat, lon, count=count, min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg)
+        label = f"Sight plan, {str(when)[:10]}"
+    options = dict(eye_height_m=eye_height_m, index_error_arcmin=index_error_arcmin, zone_given=zone_description_h)
+    rounds = planned_rounds(events, plans, track, count=count, min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg,
+                            label=label, **options)
+    noons = noon_suns(events, track, **options)
+    day_events = []
+    for d in range(len(events["date"])):
+        noon_lon = next((n.lon_deg for n in noons if n.date == events["date"][d]), lon_deg)
+        day_events.append(DayEvents(events["date"][d], zone_for(noon_lon, zone_description_h),
+                                    {key: events[key][d] for key in EVENT_KEYS}))
+    windows = daytime_fix_windows(str(first_date), days, lat_deg, lon_deg, course_deg=course_deg, speed_kn=speed_kn,
+                                  min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg)
+    return BridgePlan(np.datetime64(str(first_date)[:10], "D"), float(lat_deg), float(lon_deg), float(course_deg),
+                      float(speed_kn), float(eye_height_m), float(index_error_arcmin), zone_description_h,
+                      tuple(day_events), tuple(noons), tuple(rounds), tuple(windows))
+
+
+__all__ = ["BridgePlan", "PlannedTwilight", "NoonSun", "DayEvents", "bridge_plan", "planned_rounds", "noon_suns",
+           "provenance_line", "signed", "dm", "hm", "zone_time", "zone_text", "to_minute", "long_date", "zone_for"]

@@ -1,0 +1,287 @@
+"""For the watch's compass: the day's azimuth table and amplitudes along the DR, and the compass error book.
+
+Edge code: the core (:mod:`navred.compass`, :mod:`navred.plan`) gives the numbers; this sets them as
+console text, tables (pandas) and printed pages (:mod:`navred.io.printed`).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from ..compass import (
+    Amplitudes,
+    DeviationCurve,
+    amplitudes,
+    azimuth_table,
+    deviation_card,
+    deviation_coefficients,
+    gyro_error_deg,
+    twilight_bearing_bodies,
+)
+from ..errors import NavredError
+from ..plan import compass_error_deg, deviation_deg, true_azimuth, voyage_events
+from .bridge import dm, hm, provenance_line, signed, to_minute, zone_for, zone_text, zone_time
+
+_NS_PER_MINUTE = 60_000_000_000
+
+
+def _east_west(value: float) -> str:
+    return "" if value != value else f"{abs(value):.1f}° {'E' if value >= 0 else 'W'}"
+
+
+def _high_low(value: float) -> str:
+    return "" if value != value else f"{abs(value):.1f}° {'high' if value >= 0 else 'low'}"
+
+
+@dataclass(frozen=True)
+class WatchAzimuths:
+    """The days' azimuth tables and amplitudes: ``sun`` (one row per instant: utc, zone time, Zn, Hc),
+    ``twilight`` (the bright body chosen for each twilight, its Zn and Hc at the same interval),
+    ``risings`` (sunrise and sunset, and the amplitude's instant, true amplitude and bearing)."""
+
+    sun: pd.DataFrame
+    twilight: pd.DataFrame
+    risings: pd.DataFrame
+    step_minutes: float
+
+    def text_lines(self) -> list[str]:
+        lines = ["Sunrise and sunset along the DR: the true amplitude when the Sun's centre is on the celestial "
+                 "horizon (its lower limb about half a diameter above the visible horizon)"]
+        for r in self.risings.to_dict("records"):
+            lines.append(f"  {r['date']} {r['event']:<7} visible {r['visible_zone_time']} zone ({r['visible_utc'][11:]} "
+                         f"UTC); centre on the horizon {r['amplitude_zone_time']} zone ({r['amplitude_utc'][11:]} UTC): "
+                         f"amplitude {r['amplitude']}, true bearing {r['zn']}")
+        lines.append("")
+        lines.append(f"The Sun's true azimuth every {self.step_minutes:g} minutes (zone time, UTC in brackets)")
+        lines.append(f"  {'date':<11} {'zone':>5} {'(UTC)':>7} {'Zn':>6} {'Hc':>7}")
+        for r in self.sun.to_dict("records"):
+            lines.append(f"  {r['utc'][:10]:<11} {r['zone_time']:>5} ({r['utc'][11:]}) {r['zn_deg']:05.1f}° "
+                         f"{r['hc_deg']:6.1f}°")
+        if len(self.twilight):
+            lines.append("")
+            lines.append("At twilight: a bright body low enough for a compass bearing (3° to 25°)")
+            for r in self.twilight.to_dict("records"):
+                lines.append(f"  {r['utc'][:10]:<11} {r['zone_time']:>5} ({r['utc'][11:]}) {r['body']:<10} "
+                             f"{r['zn_deg']:05.1f}° {r['hc_deg']:6.1f}°")
+        return lines
+
+    def document(self, valid: str):
+        from ..io.cautions import CAUTION
+        from ..io.printed import Document, Page, Table, Text
+        from ..timescales import instants
+
+        rises = Table(("Date", "Event", "visible (zone)", "centre on horizon (zone)", "UTC", "amplitude", "true Zn"),
+                      tuple((r["date"], r["event"], r["visible_zone_time"], r["amplitude_zone_time"],
+                             r["amplitude_utc"][11:], r["amplitude"], r["zn"]) for r in self.risings.to_dict("records")),
+                      title="Sunrise and sunset: the true amplitude", font_size=7.6,
+                      widths=(0.9, 0.6, 0.9, 1.4, 0.6, 0.9, 0.7))
+        sun = Table(("Date", "zone time", "UTC", "Sun Zn", "Hc"),
+                    tuple((r["utc"][:10], r["zone_time"], r["utc"][11:], f"{r['zn_deg']:05.1f}", dm(r["hc_deg"], "signed"))
+                          for r in self.sun.to_dict("records")),
+                    title=f"The Sun's true azimuth every {self.step_minutes:g} minutes", font_size=7.6, compact=True,
+                    width_fraction=0.6, shade_every=3)
+        blocks = [Text("Compare each bearing with the row at its time, interpolating between rows: the difference is "
+                       "the compass error (gyro: high when it reads more than true; magnetic: east when it reads "
+                       "less). Log each with the ship's heading: navred compass-book works them out.", "small"),
+                  rises, sun]
+        if len(self.twilight):
+            blocks.append(Table(("Date", "zone time", "UTC", "body", "Zn", "Hc"),
+                                tuple((r["utc"][:10], r["zone_time"], r["utc"][11:], r["body"], f"{r['zn_deg']:05.1f}",
+                                       dm(r["hc_deg"], "signed")) for r in self.twilight.to_dict("records")),
+                                title="At twilight: a bright body low enough for a compass bearing", font_size=7.6,
+                                compact=True, width_fraction=0.7))
+        utc = pd.to_datetime(self.sun.utc).to_numpy(dtype="datetime64[ns]")
+        inst = instants(utc[:1] if utc.size else np.array([np.datetime64("2000-01-01", "ns")]))
+        return Document("navred azimuths for the compass", valid, provenance_line(inst.dut1_s, inst.ut1_source),
+                        CAUTION, (Page("Azimuths and amplitudes along the DR", tuple(blocks)),))
+
+
+def watch_azimuths(first_date: object, days: int, lat_deg: float, lon_deg: float, *, course_deg: float = 0.0,
+                   speed_kn: float = 0.0, step_minutes: float = 10.0, eye_height_m: float = 0.0,
+                   zone_description_h: float | None = None) -> WatchAzimuths:
+    """The Sun's azimuth from sunrise to sunset every ``step_minutes`` along the DR, the amplitudes, and a bright body
+    at each twilight (from nautical to civil twilight) at the same interval."""
+    events = voyage_events(str(first_date), days, lat_deg, lon_deg, eye_height_m=eye_height_m, course_deg=course_deg,
+                           speed_kn=speed_kn)
+    track = events["track"]
+    sun_rows, twilight_rows, rise_rows = [], [], []
+    found: Amplitudes = amplitudes(events)
+    step = np.timedelta64(int(round(step_minutes * _NS_PER_MINUTE)), "ns")
+    for d in range(len(events["date"])):
+        date = events["date"][d]
+        noon_lon = float(track.position(np.array([events["meridian_passage"][d]]))[1][0])
+        zd = zone_for(noon_lon, zone_description_h)
+        for event, visible, when, amplitude, zn in (
+                ("sunrise", events["sunrise"][d], found.rising_utc[d], found.rising_amplitude_deg[d],
+                 found.rising_zn_deg[d]),
+                ("sunset", events["sunset"][d], found.setting_utc[d], found.setting_amplitude_deg[d],
+                 found.setting_zn_deg[d])):
+            if np.isnat(when):
+                continue
+            rise_rows.append({"date": str(date), "event": event, "zone_description_h": zd,
+                              "visible_utc": str(to_minute(visible))[:16].replace("T", " ")
+                              if not np.isnat(visible) else "",
+                              "visible_zone_time": hm(zone_time(visible, zd)) if not np.isnat(visible) else "",
+                              "amplitude_utc": str(to_minute(when))[:16].replace("T", " "),
+                              "amplitude_zone_time": hm(zone_time(when, zd)),
+                              "amplitude_deg": amplitude, "zn_deg": zn,
+                              "amplitude": f"{'E' if event == 'sunrise' else 'W'} {abs(amplitude):.1f}° "
+                                           f"{'N' if amplitude >= 0 else 'S'}", "zn": f"{zn:05.1f}°"})
+        start, end = events["sunrise"][d], events["sunset"][d]
+        if np.isnat(start) or np.isnat(end):
+            continue
+        first = _ceil(start, step)
+        times, zn, hc = azimuth_table(["Sun"], track, first, end, step_minutes)
+        for t, z, h in zip(times, zn[0], hc[0]):
+            sun_rows.append({"utc": str(np.datetime64(t, "m")).replace("T", " "), "zone_time": hm(zone_time(t, zd)),
+                             "zone_description_h": zd, "zn_deg": float(z), "hc_deg": float(h)})
+        for begin, finish in ((events["nautical_dawn"][d], events["civil_dawn"][d]),
+                              (events["civil_dusk"][d], events["nautical_dusk"][d])):
+            if np.isnat(begin) or np.isnat(finish):
+                continue
+            middle = begin + (finish - begin) // 2
+            body, _, _ = twilight_bearing_bodies(np.array([middle]), track)
+            if not body[0]:
+                continue
+            times, zn, hc = azimuth_table([body[0]], track, _ceil(begin, step), finish, step_minutes)
+            for t, z, h in zip(times, zn[0], hc[0]):
+                twilight_rows.append({"utc": str(np.datetime64(t, "m")).replace("T", " "),
+                                      "zone_time": hm(zone_time(t, zd)), "zone_description_h": zd, "body": body[0],
+                                      "zn_deg": float(z), "hc_deg": float(h)})
+    return WatchAzimuths(pd.DataFrame(sun_rows), pd.DataFrame(twilight_rows), pd.DataFrame(rise_rows),
+                         float(step_minutes))
+
+
+def _ceil(when, step) -> np.datetime64:
+    """The first instant on the grid of ``step`` (from midnight UTC) at or after ``when``."""
+    ns, size = np.datetime64(when, "ns").astype(np.int64), int(step.astype(np.int64))
+    return np.datetime64(int(-(-int(ns) // size) * size), "ns")
+
+
+# --- The compass error book ---------------------------------------------------------------------
+
+@dataclass(frozen=True)
+class CompassBook:
+    """Every bearing worked out (``observations``), those set aside (``rejected``), the deviation curve of the
+    magnetic compass (None without magnetic observations) and its card (``card``: heading, deviation)."""
+
+    observations: pd.DataFrame
+    rejected: pd.DataFrame
+    curve: DeviationCurve | None
+    card: pd.DataFrame
+    sources: tuple[str, ...]
+
+    def text_lines(self) -> list[str]:
+        lines = [f"{'row':>4}  {'UTC':<21}{'body':<11}{'compass':<9}{'read':>7}{'true':>8}  error"]
+        for r in self.observations.to_dict("records"):
+            if r["compass"] == "gyro":
+                error = f"gyro {r['gyro_error']}"
+            else:
+                error = (f"compass error {r['compass_error']}, variation {_east_west(r['variation_deg'])}: deviation "
+                         f"{r['deviation']} on {r['heading_deg']:05.1f}° by compass")
+            lines.append(f"{r['row']:>4}  {r['utc']:<21}{r['body']:<11}{r['compass']:<9}{r['bearing_deg']:6.1f}°"
+                         f"{r['true_bearing_deg']:7.1f}°  {error}")
+        for r in self.rejected.to_dict("records"):
+            lines.append(f"not worked: row {r['row']} of {r['source']}: {r['column']}: {r['reason']}")
+        gyro = self.observations[self.observations.compass == "gyro"] if len(self.observations) else self.observations
+        if len(gyro):
+            mean = float(np.mean(gyro.gyro_error_deg))
+            lines.append(f"gyro: mean error {_high_low(mean)} over {len(gyro)} bearing{'s' if len(gyro) > 1 else ''} "
+                         f"(spread {float(np.std(gyro.gyro_error_deg)):.1f}°)")
+        if self.curve is not None:
+            c = self.curve
+            lines.append(f"deviation curve: A {signed(c.a_deg, 2)}°, B {signed(c.b_deg, 2)}°, C {signed(c.c_deg, 2)}°, "
+                         f"D {signed(c.d_deg, 2)}°, E {signed(c.e_deg, 2)}° (east +); the observations sit "
+                         f"{c.rms_deg:.1f}° RMS off it" + (f"; not determined by these headings, set to 0: "
+                                                           f"{', '.join(c.unfitted)}" if c.unfitted else ""))
+            lines.append("deviation card (by compass heading): " + ", ".join(
+                f"{h:03.0f}° {d}" for h, d in zip(self.card.compass_heading_deg, self.card.deviation)))
+        return lines
+
+    def document(self):
+        from ..io.cautions import CAUTION
+        from ..io.printed import Document, Page, Table, Text
+        from ..timescales import instants
+
+        rows = []
+        for r in self.observations.to_dict("records"):
+            rows.append((str(r["row"]), r["utc"], r["body"], r["compass"], f"{r['bearing_deg']:05.1f}",
+                         f"{r['true_bearing_deg']:05.1f}", r["gyro_error"] if r["compass"] == "gyro" else
+                         r["compass_error"], "" if r["heading_deg"] != r["heading_deg"] else f"{r['heading_deg']:05.1f}",
+                         _east_west(r["variation_deg"]), r["deviation"]))
+        blocks = [Text("Each bearing against the body's true azimuth at its time from the DR. Gyro: high when it reads "
+                       "more than true (subtract the error). Magnetic: compass error east when the compass reads less "
+                       "than true; deviation = compass error − variation, by the ship's compass heading.", "small"),
+                  Table(("row", "UTC", "body", "compass", "read °", "true °", "error", "heading °", "variation",
+                         "deviation"), tuple(rows), font_size=7.2, left_columns=4,
+                        widths=(0.4, 1.3, 0.9, 0.7, 0.55, 0.55, 0.9, 0.65, 0.7, 0.7))]
+        if self.curve is not None:
+            c = self.curve
+            blocks.append(Text(f"Deviation curve A + B sin h + C cos h + D sin 2h + E cos 2h: A {signed(c.a_deg, 2)}°, "
+                               f"B {signed(c.b_deg, 2)}°, C {signed(c.c_deg, 2)}°, D {signed(c.d_deg, 2)}°, E "
+                               f"{signed(c.e_deg, 2)}° (east +); the observations sit {c.rms_deg:.1f}° RMS off it."
+                               + (f" Not determined by these headings: {', '.join(c.unfitted)}." if c.unfitted
+                                  else ""), "body"))
+            blocks.append(Table(("compass heading", "deviation"),
+                                tuple((f"{h:03.0f}°", d) for h, d in zip(self.card.compass_heading_deg,
+                                                                         self.card.deviation)),
+                                title="Deviation card", font_size=7.6, compact=True, width_fraction=0.35))
+        times = pd.to_datetime(self.observations.utc).to_numpy(dtype="datetime64[ns]") if len(self.observations) \
+            else np.array([np.datetime64("2000-01-01", "ns")])
+        inst = instants(times[:1])
+        dates = sorted({t[:10] for t in self.observations.utc}) if len(self.observations) else ["-"]
+        valid = dates[0] + (f" to {dates[-1]}" if len(dates) > 1 else "")
+        return Document("navred compass error book", valid, provenance_line(inst.dut1_s, inst.ut1_source), CAUTION,
+                        (Page("Compass error book and deviation card", tuple(blocks)),))
+
+
+def compass_book(source, *, dates: str | None = None) -> CompassBook:
+    """The compass error book read (:func:`navred.io.compassbook.read_compass_book`) and worked out."""
+    from ..io.compassbook import read_compass_book
+
+    book = read_compass_book(source, dates=dates)
+    table = book.table.copy()
+    rejected = [book.rejected]
+    if len(table):
+        when = table.utc.to_numpy(dtype="datetime64[ns]")
+        true = np.empty(len(table))
+        altitude = np.empty(len(table))
+        for body, part in table.groupby("body").groups.items():
+            rows = np.asarray([table.index.get_loc(i) for i in part])
+            zn, hc = true_azimuth(body, when[rows], table.lat_deg.to_numpy()[rows], table.lon_deg.to_numpy()[rows])
+            true[rows], altitude[rows] = zn, hc
+        below = altitude < -1.0
+        if below.any():
+            rejected.append(pd.DataFrame({"row": table.row[below], "source": table.source[below], "column": "body",
+                                          "reason": [f"{b} is {abs(h):.1f}° below the horizon then: not a bearing of it; "
+                                                     "check the time (UTC), the DR and the body"
+                                                     for b, h in zip(table.body[below], altitude[below])]}))
+            table, true, altitude = table[~below].reset_index(drop=True), true[~below], altitude[~below]
+        table["utc"] = [str(np.datetime64(t, "s")).replace("T", " ") for t in table.utc.to_numpy(dtype="datetime64[ns]")]
+        table["true_bearing_deg"] = true
+        table["altitude_deg"] = altitude
+        gyro = (table.compass == "gyro").to_numpy()
+        table["gyro_error_deg"] = np.where(gyro, gyro_error_deg(table.bearing_deg, true), np.nan)
+        table["compass_error_deg"] = np.where(~gyro, compass_error_deg(true, table.bearing_deg), np.nan)
+        table["deviation_deg"] = np.where(~gyro, deviation_deg(table.compass_error_deg, table.variation_deg), np.nan)
+        table["gyro_error"] = [_high_low(v) for v in table.gyro_error_deg]
+        table["compass_error"] = [_east_west(v) for v in table.compass_error_deg]
+        table["deviation"] = [_east_west(v) for v in table.deviation_deg]
+    if not len(table):
+        raise NavredError("no bearing in the book could be worked: " + "; ".join(
+            f"row {r.row}: {r.column}: {r.reason}" for r in pd.concat(rejected).head(3).itertuples()))
+    magnetic = table[table.compass == "magnetic"]
+    curve, card = None, pd.DataFrame(columns=["compass_heading_deg", "deviation_deg", "deviation"])
+    if len(magnetic):
+        curve = deviation_coefficients(magnetic.heading_deg, magnetic.deviation_deg)
+        headings, values = deviation_card(curve)
+        card = pd.DataFrame({"compass_heading_deg": headings, "deviation_deg": values,
+                             "deviation": [_east_west(v) for v in values]})
+        table.loc[magnetic.index, "residual_deg"] = curve.residual_deg
+    return CompassBook(table, pd.concat(rejected, ignore_index=True), curve, card, book.sources)
+
+
+__all__ = ["WatchAzimuths", "watch_azimuths", "CompassBook", "compass_book", "zone_text"]

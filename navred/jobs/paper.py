@@ -1,0 +1,598 @@
+"""navred paper: the printed backup of a passage, for the day the computer fails.
+
+Edge code: it takes the core's numbers (:mod:`navred.handtables`, :mod:`navred.presets`,
+:mod:`navred.plan`) and sets them as pages (:mod:`navred.io.printed`): every table's cells are
+the texts printed, and the same texts go to the CSV files. The pages, in order:
+
+1. the passage and how to use the paper (the rule of interpolation, the time, what each page is);
+2. for each UTC date, the hourly GHA and Dec of Aries, the Sun, the Moon (with HP and its hourly
+   changes) and the four planets, with a worked interpolation from that page;
+3. the stars' SHA and Dec, in blocks of three days;
+4. the altitude corrections (dip, refraction and its factor, the Sun's SD, the Moon's parallax and
+   SD, Venus's and Mars's parallax and phase);
+5. for each local date, the twilight sights planned along the DR (Hc, Zn, their change per
+   minute, how long that holds, the Hs to preset, the limb) and the noon Sun;
+6. the noon Sun for every day; the Polaris latitude table; the calculator's formulas with a
+   worked sight;
+7. blank forms: the hand working, a plotting sheet for each degree of latitude of the passage, a
+   page of the DR log.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..angles import wrap_360
+from ..constants import ARCMIN_PER_DEG
+from ..errors import NavredError
+from ..handtables import (
+    MAX_DAYS,
+    POLARIS_BLOCK_DAYS,
+    HourlyTable,
+    StarBlock,
+    daily_figures,
+    daily_places,
+    dip_rows,
+    hourly_table,
+    interpolate_printed,
+    moon_augmentation_grid,
+    moon_parallax_grid,
+    moon_sd_rows,
+    polaris_table,
+    refraction_factor_grid,
+    refraction_rows,
+    star_blocks,
+)
+from ..io.cautions import CAUTION
+from ..io.printed import Document, Drawing, Page, Side, Table, Text
+from ..plan import twilight_plans
+from ..presets import RATE_MINUTES
+from .bridge import (
+    NoonSun,
+    PlannedTwilight,
+    dm,
+    hm,
+    long_date,
+    noon_suns,
+    planned_rounds,
+    provenance_line,
+    signed,
+    zone_text,
+)
+
+_NS_PER_MINUTE = 60_000_000_000
+_NS_PER_HOUR = 60 * _NS_PER_MINUTE
+PLANETS = ("Venus", "Mars", "Jupiter", "Saturn")
+
+
+@dataclass(frozen=True)
+class PassagePaper:
+    """The printed backup: the document, and the numbers it was set from."""
+
+    document: Document
+    hourly: HourlyTable
+    stars: tuple[StarBlock, ...]
+    twilights: tuple[PlannedTwilight, ...]
+    noons: tuple[NoonSun, ...]
+    first_date: np.datetime64
+    days: int
+
+
+def passage_paper(first_date: object, last_date: object, lat_deg: float, lon_deg: float, *, course_deg: float = 0.0,
+                  speed_kn: float = 0.0, eye_height_m: float = 0.0, index_error_arcmin: float = 0.0,
+                  zone_description_h: float | None = None, count: int = 4, min_alt_deg: float = 15.0,
+                  max_alt_deg: float = 70.0) -> PassagePaper:
+    """The paper for a passage from ``first_date`` to ``last_date`` (inclusive), the DR starting at
+    (``lat_deg``, ``lon_deg``) at 00:00 local time of the first date and running on ``course_deg`` at
+    ``speed_kn`` (0 for a fixed position). ``zone_description_h`` is the zone the ship keeps (ZT + ZD
+    = UTC); without it each twilight and noon takes the zone of the DR's longitude then. The height
+    of eye and index error give the Hs to preset."""
+    first = _date(first_date, "first date")
+    last = _date(last_date, "last date")
+    days = int((last - first).astype(int)) + 1
+    if days < 1:
+        raise NavredError(f"the passage ends ({last}) before it begins ({first})")
+    if days > MAX_DAYS:
+        raise NavredError(f"{days} days: the paper covers at most {MAX_DAYS} days at once; print the passage in parts")
+    hourly = hourly_table(first, days)
+    stars = star_blocks(first, days)
+    events, plans = twilight_plans(str(first), days, lat_deg, lon_deg, course_deg=course_deg, speed_kn=speed_kn,
+                                   eye_height_m=eye_height_m, count=count, min_alt_deg=min_alt_deg,
+                                   max_alt_deg=max_alt_deg)
+    track = events["track"]
+    options = dict(eye_height_m=eye_height_m, index_error_arcmin=index_error_arcmin, zone_given=zone_description_h)
+    twilights = planned_rounds(events, plans, track, count=count, min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg,
+                               **options)
+    noons = noon_suns(events, track, **options)
+    document = _document(first, days, hourly, stars, twilights, noons, track, lat_deg, lon_deg, course_deg, speed_kn,
+                         eye_height_m, index_error_arcmin, zone_description_h, events)
+    return PassagePaper(document, hourly, tuple(stars), tuple(twilights), tuple(noons), first, days)
+
+
+def _date(value: object, what: str) -> np.datetime64:
+    from ..timework import parse_date
+
+    try:
+        year, month, day = parse_date(value, declarable=False)
+    except NavredError as exc:
+        raise NavredError(f"{what}: {exc}") from None
+    return np.datetime64(f"{year:04d}-{month:02d}-{day:02d}", "D")
+
+
+def _provenance(hourly: HourlyTable) -> str:
+    return provenance_line(hourly.dut1_s, hourly.ut1_source)
+
+
+def _document(first, days, hourly, stars, twilights, noons, track, lat_deg, lon_deg, course_deg, speed_kn,
+              eye_height_m, index_error_arcmin, zone_given, events) -> Document:
+    last = first + np.timedelta64(days - 1, "D")
+    pages = [_cover(first, last, days, lat_deg, lon_deg, course_deg, speed_kn, eye_height_m, index_error_arcmin,
+                    zone_given)]
+    pages += [_hourly_page(hourly, first + np.timedelta64(d, "D"), d) for d in range(days)]
+    pages += _star_pages(stars)
+    pages += _correction_pages(first, days)
+    pages += _sight_pages(twilights, noons, events, hourly)
+    pages.append(_noon_page(noons, hourly))
+    pages += _polaris_pages(first, days)
+    pages.append(_formulas_page(twilights, hourly, stars, eye_height_m, index_error_arcmin))
+    pages += _blank_forms(track, first, days)
+    valid = f"{first} to {last} (UTC dates)" if days > 1 else f"{first} (UTC date)"
+    return Document("navred passage paper", valid, _provenance(hourly), CAUTION, tuple(pages))
+
+
+# --- The cover ---------------------------------------------------------------------------------
+
+def _cover(first, last, days, lat_deg, lon_deg, course_deg, speed_kn, eye_height_m, index_error_arcmin, zone_given):
+    moving = f"then {course_deg:05.1f}° true at {speed_kn:.1f} kn along the rhumb line" if speed_kn > 0 else \
+        "a fixed position"
+    zone = (f"zone description {zone_text(zone_given)} throughout" if zone_given is not None else
+            "the zone of the DR's longitude at each twilight and noon (ZT + ZD = UTC)")
+    blocks = (
+        Text(f"From {first} to {last}: {days} day{'s' if days > 1 else ''}. DR from {dm(lat_deg, 'lat')} "
+             f"{dm(lon_deg, 'lon')} at 00:00 local time of {first}, {moving}. Height of eye {eye_height_m:g} m, "
+             f"index error {signed(index_error_arcmin)}′ (on the arc positive). Zone time: {zone}."),
+        Text("What this is", "subheading"),
+        Text("A backup for the day the computer fails: with these pages, a pencil and a calculator a navigator "
+             "reduces sights without navred. Print it before sailing and keep it dry with the sight book. It is "
+             "checked against an independent ephemeris, but it is no official almanac: where you have one, use it "
+             "and compare."),
+        Text("How to read the hourly pages", "subheading"),
+        Text("Each UTC date has a page of GHA and Dec at every whole hour, from 00 to 24 (the next day's 00). For "
+             "a sight at hh:mm:ss UTC take the row of hour hh and the row below it, and work out the fraction of "
+             "the hour f = (mm + ss/60) / 60. Then  value = value at hh + f × (value at hh+1 − value at hh).  For "
+             "a GHA, if the later value is the smaller add 360° to it before subtracting. For a Dec count north "
+             "as plus and south as minus. The Moon's changes (ΔGHA, ΔDec) are printed beside it, already "
+             "subtracted. A star's GHA is the GHA of Aries so found plus the star's SHA. Each hourly page "
+             "works one example through."),
+        Text("The pages", "subheading"),
+        Text("1 this page · 2 the hourly GHA and Dec, a page per UTC date · 3 the stars' SHA and Dec · 4 the "
+             "altitude corrections: dip, refraction, the Sun's SD, the Moon's parallax and SD, Venus and Mars · 5 "
+             "for each day the twilight stars planned along the DR with Hc, Zn and their change per minute, the "
+             "Hs to preset, and the noon Sun · 6 the noon Sun for every day · 7 the Polaris latitude table · 8 the "
+             "calculator's formulas with a sight worked through · 9 blank forms: the hand working, plotting "
+             "sheets for the passage's latitudes, a DR log page."),
+        Text("Time", "subheading"),
+        Text("Every table is for UTC. Keep the chronometer's error and rate by time signals; a second of time is "
+             "15″ of GHA, a quarter of a mile of longitude. Zone times on the sight pages are for convenience "
+             "only: work the sight in UTC."),
+        Text("Accuracy", "subheading"),
+        Text("Printed values are rounded to 0.1′. Interpolated as above they agree with an independent "
+             "ephemeris within 0.1′ for the Sun, Aries, the planets and the stars, and 0.3′ for the Moon. The "
+             "precomputed Hc and Zn are for the DR position printed with them; the change per minute is the "
+             "mean over the ten minutes after the planned time, and the page says for how many minutes it "
+             "holds within 0.5′."),
+    )
+    return Page("Passage paper: the backup for hand reduction", blocks)
+
+
+# --- The hourly pages ----------------------------------------------------------------------------
+
+def _hourly_rows(hourly: HourlyTable, d: int) -> tuple[list[tuple[str, ...]], dict]:
+    rows = []
+    part = hourly.day(d)
+    values = {body: (hourly.gha_deg[hourly.column(body), part], hourly.dec_deg[hourly.column(body), part])
+              for body in hourly.bodies}
+    moon_gha, moon_dec = values["Moon"]
+    moon_hp = hourly.hp_arcmin[hourly.column("Moon"), part]
+    for k in range(25):
+        last = k == 24
+        d_gha = "" if last else dm(float(wrap_360(moon_gha[k + 1] - moon_gha[k])), "signed")
+        d_dec = "" if last else signed((moon_dec[k + 1] - moon_dec[k]) * ARCMIN_PER_DEG)
+        row = [f"{k:02d}", dm(values["Aries"][0][k]), dm(values["Sun"][0][k]), dm(values["Sun"][1][k], "dec"),
+               dm(moon_gha[k]), d_gha, dm(moon_dec[k], "dec"), d_dec, f"{moon_hp[k]:.1f}"]
+        for planet in PLANETS:
+            row += [dm(values[planet][0][k]), dm(values[planet][1][k], "dec")]
+        rows.append(tuple(row))
+    return rows, values
+
+
+def _hourly_page(hourly: HourlyTable, date, d: int) -> Page:
+    rows, values = _hourly_rows(hourly, d)
+    columns = ("h", "GHA", "GHA", "Dec", "GHA", "ΔGHA", "Dec", "ΔDec ′", "HP ′") + ("GHA", "Dec") * 4
+    csv_columns = ("hour_utc", "aries_gha", "sun_gha", "sun_dec", "moon_gha", "moon_gha_change", "moon_dec",
+                   "moon_dec_change_arcmin", "moon_hp_arcmin")
+    for planet in PLANETS:
+        csv_columns += (f"{planet.lower()}_gha", f"{planet.lower()}_dec")
+    spans = (("Aries", 1, 1), ("Sun", 2, 2), ("Moon", 4, 5)) + tuple(
+        (planet, 9 + 2 * k, 2) for k, planet in enumerate(PLANETS))
+    widths = (0.45, 1, 1, 1.05, 1, 0.9, 1.05, 0.62, 0.5) + (1, 1.05) * 4
+    table = Table(columns, tuple(rows), name=f"hourly-{date}", csv_columns=csv_columns, widths=widths, spans=spans,
+                  font_size=7.2, shade_every=3)
+    # a worked interpolation from this page: the Sun and the Moon at 14:37:20 (hour 14, f = 37⅓ / 60)
+    hour, minutes, seconds = 14, 37, 20
+    f = (minutes + seconds / 60.0) / 60.0
+    sun_gha, sun_dec = values["Sun"]
+    moon_gha, moon_dec = values["Moon"]
+    example_sun = interpolate_printed(sun_gha[hour], sun_gha[hour + 1], f, gha=True)
+    example_dec = interpolate_printed(sun_dec[hour], sun_dec[hour + 1], f)
+    example_moon = interpolate_printed(moon_gha[hour], moon_gha[hour + 1], f, gha=True)
+    step_sun = float(wrap_360(sun_gha[hour + 1] - sun_gha[hour]))
+    step_moon = float(wrap_360(moon_gha[hour + 1] - moon_gha[hour]))
+    worked = (
+        f"Worked: at {hour:02d}:{minutes:02d}:{seconds:02d} UTC, f = ({minutes} + {seconds}/60) / 60 = {f:.4f}.  "
+        f"Sun GHA = {dm(sun_gha[hour])} + {f:.4f} × {dm(step_sun, 'signed')} = {dm(sun_gha[hour])} + "
+        f"{dm(f * step_sun, 'signed')} = {dm(float(example_sun))};  Sun Dec = {dm(sun_dec[hour], 'dec')} + {f:.4f} × "
+        f"({signed((sun_dec[hour + 1] - sun_dec[hour]) * ARCMIN_PER_DEG)}′) = {dm(float(example_dec), 'dec')}.  "
+        f"Moon GHA = {dm(moon_gha[hour])} + {f:.4f} × {dm(step_moon, 'signed')} = {dm(float(example_moon))}.")
+    return Page(f"Hourly GHA and Dec, {long_date(date)} (UTC)", (
+        table,
+        Text("value = value at the hour + f × (next hour's value − value at the hour), f = (minutes + seconds/60)/60; "
+             "GHA: add 360° to the next value if it is the smaller; Dec: north +, south −. Star: GHA = GHA Aries + "
+             "SHA. Sun's SD and the planets' corrections: the corrections pages; the Moon's SD is 0.2725 × HP.",
+             "small"),
+        Text(worked, "small"),
+    ), landscape=True)
+
+
+# --- Stars -------------------------------------------------------------------------------------
+
+_STARS_PER_PAGE = 4
+
+
+def _block_label(block: StarBlock) -> str:
+    first, last = str(block.first), str(block.last)
+    return first[5:] if first == last else f"{first[5:]} to {last[5:]}"
+
+
+def _star_pages(stars) -> list[Page]:
+    pages = []
+    for start in range(0, len(stars), _STARS_PER_PAGE):
+        blocks = stars[start:start + _STARS_PER_PAGE]
+        columns = ("No.", "Star", "Mag") + ("SHA", "Dec") * len(blocks)
+        csv_columns = ("number", "star", "magnitude")
+        for block in blocks:
+            stem = str(block.first).replace("-", "_")
+            csv_columns += (f"sha_from_{stem}", f"dec_from_{stem}")
+        spans = tuple((f"dates {_block_label(b)}", 3 + 2 * k, 2) for k, b in enumerate(blocks))
+        rows = []
+        base = blocks[0]
+        for i in range(base.names.size):
+            row = [str(base.numbers[i]) if base.numbers[i] else "", str(base.names[i]), signed(base.magnitude[i])]
+            for block in blocks:
+                row += [dm(block.sha_deg[i]), dm(block.dec_deg[i], "dec")]
+            rows.append(tuple(row))
+        name = f"stars-{blocks[0].first}"
+        widths = (0.45, 1.4, 0.5) + (1.0, 1.05) * len(blocks)
+        table = Table(columns, tuple(rows), name=name, csv_columns=csv_columns, widths=widths, spans=spans,
+                      font_size=7.4, left_columns=2, shade_every=3, compact=True,
+                      width_fraction=min(1.0, (2.35 + 2.05 * len(blocks)) / (2.35 + 2.05 * _STARS_PER_PAGE)))
+        pages.append(Page("The stars: SHA and Dec", (
+            Text("Each pair of columns serves the UTC dates above it (the places at the middle of those dates; "
+                 "within them they change by 0.02′ at most, except Polaris). A star's GHA = GHA Aries (hourly pages) "
+                 "+ SHA, less 360° if over. Polaris's SHA moves about 0.4′ a day: for its GHA take its daily SHA "
+                 "from its page; for its latitude use the Polaris table. Magnitudes: Hipparcos Hp.", "small"),
+            table)))
+    return pages
+
+
+# --- Corrections -------------------------------------------------------------------------------
+
+def _correction_pages(first, days) -> list[Page]:
+    heights_m, dip_m, heights_ft, dip_ft = dip_rows()
+    dip_m_table = Table(("eye m", "dip ′"), tuple((f"{h:g}", f"{v:.1f}") for h, v in zip(heights_m, dip_m)),
+                        name="dip-metres", csv_columns=("eye_height_m", "dip_arcmin"), title="Dip (subtract)",
+                        font_size=7.2, compact=True)
+    dip_ft_table = Table(("eye ft", "dip ′"), tuple((f"{h:g}", f"{v:.1f}") for h, v in zip(heights_ft, dip_ft)),
+                         name="dip-feet", csv_columns=("eye_height_ft", "dip_arcmin"), title="Dip by feet (subtract)",
+                         font_size=7.2, compact=True)
+    altitudes, refraction = refraction_rows()
+    refraction_table = Table(("Ha °", "R ′"), tuple((f"{h:g}", f"{r:.1f}") for h, r in zip(altitudes, refraction)),
+                             name="refraction", csv_columns=("apparent_altitude_deg", "refraction_arcmin"),
+                             title="Refraction at 10 °C, 1010 hPa (subtract)", font_size=7.2, compact=True)
+    temperatures, pressures, factor = refraction_factor_grid()
+    factor_table = Table(("°C \\ hPa",) + tuple(f"{p:.0f}" for p in pressures),
+                         tuple((f"{t:g}".replace("-", "−"),) + tuple(f"{v:.2f}" for v in factor[i])
+                               for i, t in enumerate(temperatures)),
+                         name="refraction-factor", csv_columns=("temperature_c",) + tuple(
+                             f"factor_at_{p:.0f}_hpa" for p in pressures),
+                         title="Refraction factor for the air: R = R(table) × factor", font_size=7.2, compact=True)
+    page1 = Page("Altitude corrections: dip and refraction", (
+        Text("Ha = Hs + IC − dip (IC = −index error; on the arc, subtract). Ho = Ha − R × factor + SD (lower limb "
+             "+, upper −) + parallax (Moon, Venus, Mars) + phase (Venus, Mars). Interpolate between rows. Dip = "
+             "1.76′ √(metres) = 0.97′ √(feet); refraction by Bennett's formula; below 5° refraction is uncertain "
+             "by several minutes: avoid such sights.", "small"),
+        Side((dip_m_table, dip_ft_table, refraction_table), (1, 1, 1.2)),
+        factor_table,
+    ))
+    heights, hps, parallax = moon_parallax_grid()
+    parallax_table = Table(("h °",) + tuple(f"{hp:.1f}" for hp in hps),
+                           tuple((f"{h:g}",) + tuple(f"{v:.1f}" for v in parallax[i]) for i, h in enumerate(heights)),
+                           name="moon-parallax", csv_columns=("altitude_deg",) + tuple(
+                               f"parallax_arcmin_at_hp_{hp:.1f}".replace(".", "_") for hp in hps),
+                           title="The Moon's parallax in altitude (add), by its altitude after refraction and HP",
+                           font_size=6.8)
+    sd_hp, sd = moon_sd_rows()
+    sd_table = Table(("HP ′",) + tuple(f"{hp:.1f}" for hp in sd_hp), (("SD ′",) + tuple(f"{v:.1f}" for v in sd),),
+                     name="moon-semi-diameter", csv_columns=("quantity",) + tuple(
+                         f"hp_{hp:.1f}".replace(".", "_") for hp in sd_hp),
+                     title="The Moon's semi-diameter by HP (SD = 0.2725 × HP)", font_size=6.8)
+    aug_h, aug_hp, augmentation = moon_augmentation_grid()
+    aug_table = Table(("h °",) + tuple(f"HP {hp:g}" for hp in aug_hp),
+                      tuple((f"{h:g}",) + tuple(f"{v:.1f}" for v in augmentation[i]) for i, h in enumerate(aug_h)),
+                      name="moon-augmentation", csv_columns=("altitude_deg",) + tuple(
+                          f"growth_arcmin_at_hp_{hp:g}".replace(".", "_") for hp in aug_hp),
+                      title="Growth of the Moon's SD with its altitude (add to the SD)", font_size=6.8)
+    figures = daily_figures(first, days)
+    day_rows = []
+    for k, date in enumerate(figures.dates):
+        day_rows.append((str(date), f"{figures.sun_sd_arcmin[k]:.1f}") + tuple(
+            value for planet in ("Venus", "Mars") for value in (
+                f"{figures.planet_hp_arcmin[planet][k]:.1f}", f"{figures.planet_phase_angle_deg[planet][k]:.0f}",
+                f"{figures.planet_offset_arcmin[planet][k]:.1f}")))
+    daily_table = Table(("date (0h UTC)", "Sun SD ′", "HP ′", "phase °", "offset ′", "HP ′", "phase °", "offset ′"),
+                        tuple(day_rows), name="sun-and-planets-by-date",
+                        csv_columns=("date", "sun_sd_arcmin", "venus_hp_arcmin", "venus_phase_angle_deg",
+                                     "venus_offset_arcmin", "mars_hp_arcmin", "mars_phase_angle_deg",
+                                     "mars_offset_arcmin"),
+                        spans=(("Venus", 2, 3), ("Mars", 5, 3)), title="The Sun's SD; Venus and Mars", font_size=7.2,
+                        width_fraction=0.8)
+    page2 = Page("Altitude corrections: the Moon, the Sun and the planets", (
+        Text("Moon: find h = Ha − R (its centre's altitude after refraction; for a limb add or take off the SD "
+             "first), then parallax from the table by h and HP (the HP from the hourly page), and the SD = "
+             "0.2725 × HP plus the growth below. The table is for a round Earth: the flattening adds up to "
+             "0.2′, HP × 0.0034 sin 2φ sin h cos Zn (Moon to the north +) less HP × 0.0034 sin² φ cos h.",
+             "small"),
+        parallax_table, Side((sd_table,), (1,)), aug_table,
+        Text("Venus and Mars: parallax = HP × cos Ha (add). Phase: their light is centred toward the Sun by the "
+             "offset; when the Sun lies below the planet (at twilight, the planet high over the Sun's side of "
+             "the sky) the centre of light is low, so add the offset × cos θ, θ the angle at the planet between "
+             "straight down and the direction of the Sun (the sight pages give it worked out for each planned "
+             "planet). The Sun's SD: add for the lower limb, subtract for the upper; its parallax is 0.15′ × cos Ha "
+             "(add).", "small"),
+        daily_table,
+    ))
+    return [page1, page2]
+
+
+# --- The sights of each day --------------------------------------------------------------------
+
+def _twilight_table(twilight: PlannedTwilight, name: str) -> Table:
+    p = twilight.presets
+    order = np.argsort(p.zn_deg, kind="stable")
+    rows = []
+    for i in order:
+        good = int(p.good_minutes[i])
+        limb = {"lower": "lower", "upper": "upper", "centre": ""}[str(p.limb[i])]
+        if p.body[i] == "Moon" and p.horns_vertical[i]:
+            limb += " (horns up and down)"
+        rows.append((str(p.body[i]), "●" if twilight.plan.recommended[i] else "", dm(p.hs_deg[i], "signed"), limb,
+                     dm(p.hc_deg[i], "signed"), f"{p.zn_deg[i]:05.1f}", signed(p.hc_rate_arcmin_per_min[i], 2),
+                     signed(p.zn_rate_deg_per_min[i], 2), f"{good}" + ("" if good >= RATE_MINUTES else " near meridian"),
+                     signed(twilight.plan.magnitude[i])))
+    return Table(("Body", "set", "Hs to preset", "limb", "Hc", "Zn °", "Hc ′/min", "Zn °/min", "holds min", "mag"),
+                 tuple(rows), name=name,
+                 csv_columns=("body", "recommended", "hs_preset", "limb", "hc", "zn_deg", "hc_change_arcmin_per_min",
+                              "zn_change_deg_per_min", "rate_holds_minutes", "magnitude"),
+                 widths=(1.3, 0.35, 1.0, 0.9, 1.0, 0.6, 0.7, 0.7, 1.05, 0.5), font_size=7.2, left_columns=2,
+                 compact=True)
+
+
+def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
+    pages = []
+    by_date = {}
+    for twilight in twilights:
+        by_date.setdefault(str(twilight.label.split(", ", 1)[1]), []).append(twilight)
+    for noon in noons:
+        label = long_date(noon.date)
+        blocks = []
+        for twilight in by_date.get(label, []):
+            p = twilight.presets
+            zd = twilight.zone_h
+            zone_time = p.utc - np.timedelta64(int(zd * 60), "m")
+            kind = twilight.label.split(" ", 1)[0]
+            blocks.append(Text(f"{kind} twilight: planned {hm(zone_time)} zone time ({zone_text(zd)}), "
+                               f"{hm(p.utc)} UTC, from DR {dm(p.lat_deg, 'lat')} {dm(p.lon_deg, 'lon')}", "subheading"))
+            blocks.append(Text(f"Nautical twilight {hm(twilight.nautical)} UTC, civil {hm(twilight.civil)} UTC. For a "
+                               f"sight m minutes after {hm(p.utc)} UTC: Hc = Hc + m × (Hc ′/min), Zn = Zn + m × "
+                               "(Zn °/min), within 0.5′ for the minutes shown; plot every line from the DR above "
+                               "and move it for the ship's run. Hs to preset: Hc with dip, refraction, SD, "
+                               "parallax and index error taken back off. ● the recommended set.", "small"))
+            stamp = str(p.utc.astype("datetime64[m]")).replace(":", "").replace("T", "-")
+            blocks.append(_twilight_table(twilight, f"sights-{stamp}"))
+        zone_noon = noon.utc - np.timedelta64(int(noon.zone_h * 60), "m")
+        blocks.append(Text(f"Noon: the Sun on the meridian at {hm(zone_noon)} zone time ({zone_text(noon.zone_h)}), "
+                           f"{hm(noon.utc)} UTC", "subheading"))
+        blocks.append(Text(f"DR then {dm(noon.lat_deg, 'lat')} {dm(noon.lon_deg, 'lon')}; Sun's Dec "
+                           f"{dm(noon.dec_deg, 'dec')}; Hc {dm(noon.hc_deg, 'signed')}, bearing {noon.bearing}; Hs to "
+                           f"preset (lower limb) {dm(noon.hs_deg, 'signed')}. Start a few minutes early, follow it up "
+                           "and take the highest reading; latitude = Dec ± (90° − Ho) (the noon page).", "body"))
+        pages.append(Page(f"Sights for {label}", tuple(blocks)))
+    return pages
+
+
+def _noon_page(noons, hourly) -> Page:
+    rows = []
+    for noon in noons:
+        zone_noon = noon.utc - np.timedelta64(int(noon.zone_h * 60), "m")
+        rows.append((str(noon.date), hm(zone_noon), f"ZD {zone_text(noon.zone_h)}", hm(noon.utc), dm(noon.lat_deg, "lat"),
+                     dm(noon.lon_deg, "lon"), dm(noon.dec_deg, "dec"), dm(noon.hc_deg, "signed"),
+                     dm(noon.hs_deg, "signed"), noon.bearing))
+    table = Table(("Date", "zone time", "ZD", "UTC", "DR lat", "DR lon", "Sun Dec", "Hc", "Hs preset LL", "look"),
+                  tuple(rows), name="noon-sun",
+                  csv_columns=("date", "zone_time", "zone_description", "utc", "dr_lat", "dr_lon", "sun_dec", "hc",
+                               "hs_preset_lower_limb", "bearing"),
+                  widths=(1.1, 0.7, 0.4, 0.6, 1.1, 1.2, 1.1, 0.95, 0.95, 0.45), font_size=7.4)
+    return Page("The noon Sun: local apparent noon along the DR", (
+        Text("The time of the Sun's meridian passage at the DR then (it moves with the ship: about 4 minutes "
+             "of time for each degree of longitude made good). Latitude from the noon altitude: with the Sun to "
+             "the south, latitude = Dec + (90° − Ho) (north +, south −); with it to the north, latitude = Dec − "
+             "(90° − Ho). Take the Dec for the UTC of the sight from the hourly page.", "small"),
+        table))
+
+
+def _polaris_pages(first, days) -> list[Page]:
+    from ..handtables import POLARIS_ALTITUDES_DEG
+
+    pages = []
+    dates, sha, dec = daily_places("Polaris", first, days)
+    daily = Table(("date (0h UTC)", "SHA", "Dec"), tuple((str(d), dm(s), dm(x, "dec")) for d, s, x in
+                                                          zip(dates, sha, dec)),
+                  name="polaris-daily", csv_columns=("date", "sha", "dec"), title="Polaris each day", font_size=7.2,
+                  width_fraction=0.6)
+    for start in range(0, days, POLARIS_BLOCK_DAYS):
+        end = min(start + POLARIS_BLOCK_DAYS, days)
+        epoch = first.astype("datetime64[ns]") + np.timedelta64((start + end) * 12 * _NS_PER_HOUR, "ns")
+        table = polaris_table(epoch)
+        rows = []
+        for tens in range(36):
+            rows.append((f"{10 * tens}",) + tuple(signed(table.first_arcmin[10 * tens + u]) for u in range(10)))
+        first_table = Table(("LHA ♈",) + tuple(f"+{u}°" for u in range(10)), tuple(rows),
+                            name=f"polaris-first-{first + np.timedelta64(start, 'D')}",
+                            csv_columns=("lha_aries_tens_deg",) + tuple(f"first_arcmin_plus_{u}_deg" for u in range(10)),
+                            title="First term (′) by LHA Aries: row the tens of degrees, column the units",
+                            font_size=6.9, shade_every=3, width_fraction=0.78)
+        second = Table(("LHA ♈",) + tuple(f"Ho {h:g}°" for h in POLARIS_ALTITUDES_DEG),
+                       tuple((f"{lha:g} or {lha + 180:g}",) + tuple(f"{v:.1f}" for v in table.second_arcmin[j])
+                             for j, lha in enumerate(table.second_lha_deg)),
+                       name=f"polaris-second-{first + np.timedelta64(start, 'D')}",
+                       csv_columns=("lha_aries_deg",) + tuple(f"second_arcmin_at_ho_{h:g}" for h in POLARIS_ALTITUDES_DEG),
+                       title="Second term (′, add) by LHA Aries and Ho", font_size=6.9, width_fraction=0.78)
+        valid = (f"{first + np.timedelta64(start, 'D')} to {first + np.timedelta64(end - 1, 'D')}")
+        blocks = [Text(f"For the UTC dates {valid}. Latitude = Ho + first term + second term. LHA Aries = GHA Aries "
+                       "(hourly page) + longitude (east +, west −). Interpolate between the columns of the first "
+                       f"term (whole degrees) and between the rows and columns of the second. Made for Polaris at "
+                       f"{str(epoch)[:16].replace('T', ' ')} UTC: SHA {dm(table.sha_deg)}, Dec {dm(table.dec_deg, 'dec')}.",
+                       "small"), first_table, second]
+        if start == 0:
+            blocks.append(daily)
+        pages.append(Page("Latitude by Polaris", tuple(blocks)))
+    return pages
+
+
+# --- The calculator's formulas -------------------------------------------------------------------
+
+def _formulas_page(twilights, hourly, stars, eye_height_m, index_error_arcmin) -> Page:
+    blocks = [
+        Text("LHA = GHA + longitude (east +, west −), less 360° if over, plus 360° if below 0. With latitude φ "
+             "(north +) and Dec δ (north +):",
+             "small"),
+        Text("sin Hc = sin φ sin δ + cos φ cos δ cos LHA", "mono"),
+        Text("cos Z = (sin δ − sin φ sin Hc) / (cos φ cos Hc);   Zn = Z when LHA is over 180°, Zn = 360° − Z when "
+             "under", "mono"),
+        Text("intercept = Ho − Hc in minutes = miles, toward Zn when positive, away when negative", "mono"),
+        Text("Set the calculator to degrees; enter an angle as degrees + minutes/60. Plot the line at right angles "
+             "to Zn through the point the intercept reaches from the DR (the position you used).", "small"),
+    ]
+    example = _worked_sight(twilights, hourly, stars, eye_height_m, index_error_arcmin)
+    if example:
+        blocks.append(Text("A sight worked through with these pages only", "subheading"))
+        blocks.extend(Text(line, "mono") for line in example)
+    return Page("The calculator's formulas, with a worked example", tuple(blocks))
+
+
+def _worked_sight(twilights, hourly, stars, eye_height_m, index_error_arcmin) -> list[str]:
+    """A star of the first twilight, taken four minutes after the planned time with the preset reading, worked
+    from the printed tables: the lines a navigator writes."""
+    from ..corrections import DIP_ARCMIN_PER_SQRT_M, bennett_refraction_arcmin
+    from ..handtables import hourly_value_at
+
+    for twilight in twilights:
+        p = twilight.presets
+        choices = [i for i in range(p.body.size) if twilight.plan.recommended[i] and p.body[i] not in
+                   ("Sun", "Moon", "Venus", "Mars", "Jupiter", "Saturn", "Polaris")]
+        if choices:
+            break
+    else:
+        return []
+    i = choices[0]
+    star = str(p.body[i])
+    late_s = 5 * 60 + 43  # taken 5 min 43 s after the planned time, reading 2.3′ above what the page predicts
+    when = p.utc + np.timedelta64(late_s, "s")
+    hs = float(p.hs_deg[i]) + (late_s / 60.0 * float(p.hc_rate_arcmin_per_min[i]) + 2.3) / ARCMIN_PER_DEG
+    hs = round(hs * 600) / 600
+    date = when.astype("datetime64[D]")
+    block = next(b for b in stars if b.first <= date <= b.last)
+    k = int(np.flatnonzero(block.names == star)[0])
+    sha, dec = float(block.sha_deg[k]), float(block.dec_deg[k])
+    offset = (when - hourly.hours[0]).astype(np.int64)
+    row = int(offset // _NS_PER_HOUR)
+    f = (offset - row * _NS_PER_HOUR) / _NS_PER_HOUR
+    aries = hourly.gha_deg[hourly.column("Aries")]
+    gha_aries = float(hourly_value_at(hourly, "Aries", np.array([when]))[0])
+    dip = round(DIP_ARCMIN_PER_SQRT_M * math.sqrt(eye_height_m), 1)
+    ha = hs + (-index_error_arcmin - dip) / ARCMIN_PER_DEG
+    refraction = round(float(bennett_refraction_arcmin(ha, 10.0, 1010.0)), 1)
+    ho = ha - refraction / ARCMIN_PER_DEG
+    gha = float(wrap_360(gha_aries + sha))
+    lat, lon = p.lat_deg, p.lon_deg
+    lha = float(wrap_360(gha + lon))
+    phi, delta, t = math.radians(lat), math.radians(dec), math.radians(lha)
+    sin_hc = math.sin(phi) * math.sin(delta) + math.cos(phi) * math.cos(delta) * math.cos(t)
+    hc = math.degrees(math.asin(sin_hc))
+    cos_z = (math.sin(delta) - math.sin(phi) * sin_hc) / (math.cos(phi) * math.cos(math.radians(hc)))
+    z = math.degrees(math.acos(max(-1.0, min(1.0, cos_z))))
+    zn = z if lha > 180.0 else 360.0 - z
+    intercept = (ho - hc) * ARCMIN_PER_DEG
+    stamp = str(when.astype("datetime64[s]")).replace("T", " ")
+    step = float(wrap_360(aries[row + 1] - aries[row]))
+    return [
+        f"{star}, {stamp} UTC, Hs {dm(hs, 'signed')}, index error {signed(index_error_arcmin)}′, eye "
+        f"{eye_height_m:g} m, DR {dm(lat, 'lat')} {dm(lon, 'lon')}",
+        f"IC {signed(-index_error_arcmin)}′  dip −{dip:.1f}′  Ha {dm(ha, 'signed')}  R −{refraction:.1f}′ (10 °C, "
+        f"1010 hPa)  Ho {dm(ho, 'signed')}",
+        f"f = {f:.4f}; GHA ♈ {dm(aries[row])} + {f:.4f} × {dm(step)} = {dm(gha_aries)}",
+        f"SHA {dm(sha)}  GHA {dm(gha)}  longitude {dm(lon, 'lon')}  LHA {dm(lha)}  Dec {dm(dec, 'dec')}",
+        f"sin Hc = sin({lat:.4f}) sin({dec:.4f}) + cos({lat:.4f}) cos({dec:.4f}) cos({lha:.4f}) = {sin_hc:.5f}",
+        f"Hc {dm(hc, 'signed')};  cos Z = {cos_z:.5f}, Z {z:.1f}°, Zn {zn:05.1f}°",
+        f"intercept {abs(intercept):.1f} nm {'toward' if intercept >= 0 else 'away'}  (check by the sight page: Hc "
+        f"{dm(float(p.hc_deg[i]), 'signed')} + {late_s / 60:.2f} min × {signed(p.hc_rate_arcmin_per_min[i], 2)}′ = "
+        f"{dm(float(p.hc_deg[i]) + late_s / 60 * float(p.hc_rate_arcmin_per_min[i]) / ARCMIN_PER_DEG, 'signed')})",
+    ]
+
+
+# --- Blank forms -----------------------------------------------------------------------------------
+
+WORKING_LINES = (
+    "Body, limb", "Date, zone time", "ZD, watch error", "UTC (h m s)", "f = (m + s/60)/60", "Hs", "IC (− index error)",
+    "dip (−)", "Ha", "refraction × factor (−)", "SD (LL +, UL −)", "parallax (Moon, planets)", "phase (Venus, Mars)",
+    "Ho", "GHA at the hour (♈ for a star)", "f × (next hour − this)", "SHA (star)", "GHA", "longitude (E +, W −)",
+    "LHA", "Dec at the hour", "f × (next − this)", "Dec (N +, S −)", "latitude (N +, S −)", "sin Hc", "Hc",
+    "cos Z", "Zn", "intercept Ho − Hc (T +, A −)")
+
+
+def _blank_forms(track, first, days) -> list[Page]:
+    from ..figures.paperforms import blank_plotting_sheet, plotting_bands
+
+    working = Table(("Line",) + tuple(f"sight {k}" for k in range(1, 5)),
+                    tuple((line, "", "", "", "") for line in WORKING_LINES), widths=(1.6, 1, 1, 1, 1), font_size=7.4,
+                    row_height=19.5)
+    pages = [Page("Hand working: four sights", (
+        Text("Work down each column; the hourly pages give GHA and Dec, the corrections pages the rest. Keep the "
+             "working: it is the record of the sight.", "small"), working))]
+    hours = np.arange(0, days * 24 + 1, 6)
+    start = first.astype("datetime64[ns]")
+    lats, _ = track.position(start + hours * np.timedelta64(_NS_PER_HOUR, "ns"))
+    for band in plotting_bands(lats)[:6]:
+        pages.append(Page("", (Drawing(blank_plotting_sheet(band)),)))
+    log = Table(("Date", "Zone time", "Log nm", "Course °T", "Speed kn", "Run nm", "DR lat", "DR lon", "Set, drift",
+                 "Remarks, sights"), tuple(("",) * 10 for _ in range(20)),
+                widths=(0.8, 0.7, 0.65, 0.7, 0.65, 0.6, 1.1, 1.2, 0.8, 2.0), font_size=7.4, row_height=19.5)
+    pages.append(Page("DR log", (Text("Each alteration, each fix and each change of speed on a line; the run "
+                                      "= speed × time.", "small"), log), landscape=True))
+    return pages
+
+
+__all__ = ["PassagePaper", "passage_paper", "WORKING_LINES"]

@@ -1,0 +1,168 @@
+"""For the watch's compass: the azimuth table and the amplitudes against skyfield, the gyro and magnetic errors,
+the deviation curve against planted coefficients, and the compass error book from the command line."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import pytest
+from typer.testing import CliRunner
+
+from navred.cli import app
+from navred.compass import (
+    amplitudes,
+    azimuth_table,
+    deviation_card,
+    deviation_coefficients,
+    gyro_error_deg,
+    twilight_bearing_bodies,
+)
+from navred.errors import NavredError
+from navred.io.cautions import CAUTION
+from navred.plan import Track, voyage_events
+from tests.conftest import angle_diff_deg, frozen
+
+BOOK = "sample_sights/compass_book.csv"
+#: what scripts/make_compass_book.py planted (its docstring states them)
+PLANTED = {"gyro_high": 1.0, "A": 0.5, "B": 3.0, "C": -2.0, "D": 1.0, "E": 0.3}
+
+
+def skyfield_altaz(ts, eph, body, when, lat, lon):
+    from skyfield.api import wgs84
+
+    def compute():
+        t = ts.from_datetimes(pd.DatetimeIndex(when).tz_localize("UTC").to_pydatetime())
+        alt, az, _ = (eph["earth"] + wgs84.latlon(lat, lon)).at(t).observe(eph[body]).apparent().altaz()
+        return list(alt.degrees) + list(az.degrees)
+
+    key = f"compass-altaz|{body}|{int(when[0].astype(np.int64))}|{len(when)}|{lat!r}|{lon!r}"
+    values = np.asarray(frozen(key, compute))
+    return values[:len(when)], values[len(when):]
+
+
+def test_the_azimuth_table_matches_skyfield(ts, eph):
+    """Reference: skyfield's topocentric azimuth and airless altitude of the Sun (a fixed position): within 0.1°."""
+    track = Track(36.0, -20.0, np.datetime64("2025-06-10T00:00", "ns"))
+    times, zn, hc = azimuth_table(["Sun"], track, "2025-06-10T07:00", "2025-06-10T19:00", 20)
+    assert times.size == 37 and zn.shape == (1, 37)
+    alt, az = skyfield_altaz(ts, eph, "sun", times, 36.0, -20.0)
+    assert np.abs(angle_diff_deg(zn[0], az)).max() <= 0.1
+    assert np.abs(hc[0] - alt).max() <= 0.02  # geocentric against topocentric: the Sun's parallax, 0.15′
+    with pytest.raises(NavredError, match="1 to 240 minutes"):
+        azimuth_table(["Sun"], track, "2025-06-10T07:00", "2025-06-10T19:00", 0.5)
+
+
+@pytest.mark.parametrize("lat, lon, date", [(36.0, -20.0, "2025-06-10"), (-33.9, 18.4, "2025-01-15"),
+                                            (52.0, 4.0, "2025-12-21")])
+def test_amplitudes_against_skyfield_and_the_formula(ts, eph, lat, lon, date):
+    """Reference: skyfield's search for the Sun's centre crossing the celestial horizon (airless topocentric altitude
+    0°, find_discrete), and its azimuth there: our instant within 30 s, our true bearing within 0.1°; and the
+    amplitude sin A = sin δ / cos φ (common practice)."""
+    from skyfield import almanac
+    from skyfield.api import wgs84
+
+    events = voyage_events(date, 1, lat, lon)
+    found = amplitudes(events)
+
+    def crossings():
+        place = eph["earth"] + wgs84.latlon(lat, lon)
+        t0 = ts.from_datetime(pd.Timestamp(date, tz="UTC").to_pydatetime()) - lon / 360.0
+        t1 = t0 + 1.0
+
+        def up(t):
+            return place.at(t).observe(eph["sun"]).apparent().altaz()[0].degrees > 0.0
+
+        up.step_days = 0.02
+        times, states = almanac.find_discrete(t0, t1, up)
+        azimuths = place.at(times).observe(eph["sun"]).apparent().altaz()[1].degrees
+        return [t.timestamp() for t in times.utc_datetime()] + list(states.astype(float)) + list(azimuths)
+
+    values = np.asarray(frozen(f"compass-amplitude|{date}|{lat!r}|{lon!r}", crossings)).reshape(3, -1)
+    for seconds, state, azimuth in values.T:
+        rising = state == 1.0
+        ours = found.rising_utc[0] if rising else found.setting_utc[0]
+        ours_zn = found.rising_zn_deg[0] if rising else found.setting_zn_deg[0]
+        theirs = np.datetime64("1970-01-01", "ns") + np.timedelta64(int(round(seconds * 1e9)), "ns")
+        assert abs((ours - theirs) / np.timedelta64(1, "s")) <= 30.0
+        assert abs(angle_diff_deg(ours_zn, azimuth)) <= 0.1
+    from navred.almanac import places
+
+    dec = float(places("Sun", found.rising_utc[:1]).dec_deg[0])
+    assert found.rising_amplitude_deg[0] == pytest.approx(np.degrees(np.arcsin(np.sin(np.radians(dec))
+                                                                              / np.cos(np.radians(lat)))), abs=0.05)
+
+
+def test_a_bright_low_body_is_offered_at_twilight():
+    track = Track(36.0, -20.0, np.datetime64("2025-06-10T00:00", "ns"))
+    body, zn, hc = twilight_bearing_bodies(np.array(["2025-06-10T21:40"], dtype="datetime64[ns]"), track)
+    assert body[0] and 3.0 <= hc[0] <= 25.0
+
+
+def test_gyro_high_is_positive_and_low_negative():
+    assert float(gyro_error_deg(101.5, 100.0)) == pytest.approx(1.5)  # reads more than true: high
+    assert float(gyro_error_deg(359.0, 1.0)) == pytest.approx(-2.0)  # low, across north
+
+
+def test_the_deviation_curve_recovers_its_coefficients():
+    """The five coefficients from eight headings 45° apart, exactly without noise; three headings give A, B, C."""
+    headings = np.arange(0.0, 360.0, 45.0)
+    h = np.radians(headings)
+    truth = 0.5 + 3.0 * np.sin(h) - 2.0 * np.cos(h) + 1.0 * np.sin(2 * h) + 0.3 * np.cos(2 * h)
+    curve = deviation_coefficients(headings, truth)
+    assert np.allclose([curve.a_deg, curve.b_deg, curve.c_deg, curve.d_deg, curve.e_deg], [0.5, 3.0, -2.0, 1.0, 0.3])
+    assert curve.rms_deg < 1e-9 and curve.unfitted == ()
+    card_headings, card = deviation_card(curve)
+    assert card_headings.size == 24 and card[0] == pytest.approx(0.5 - 2.0 + 0.3)
+    three = deviation_coefficients([0.0, 120.0, 240.0], [1.0, 2.0, 3.0])
+    assert three.unfitted == ("D", "E")
+    one = deviation_coefficients([90.0, 95.0], [2.0, 3.0])
+    assert one.unfitted == ("B", "C", "D", "E") and one.a_deg == pytest.approx(2.5)
+
+
+def test_the_compass_book_finds_the_planted_errors():
+    """The sample book (scripts/make_compass_book.py: skyfield's true bearings with a gyro 1.0° high and a steering
+    compass with variation 4° W and planted deviation coefficients, readings noisy): the gyro's mean error within
+    0.2° and every coefficient within 0.4° of what was planted."""
+    result = CliRunner().invoke(app, ["compass-book", BOOK])
+    assert result.exit_code == 0, result.output
+    text = result.stdout
+    assert "gyro: mean error 1.0° high over 8 bearings" in text
+    import re
+
+    found = dict(re.findall(r"([ABCDE]) (−?\d+\.\d\d)°", text.split("deviation curve:")[1].split("\n")[0]))
+    for name in "ABCDE":
+        assert abs(float(found[name].replace("−", "-")) - PLANTED[name]) <= 0.4, name
+    assert "deviation card (by compass heading): 000°" in text
+    assert result.stderr.count(CAUTION) == 1
+
+
+def test_the_compass_book_sets_aside_what_it_cannot_judge(tmp_path):
+    book = tmp_path / "book.csv"
+    book.write_text("utc,body,compass,bearing,heading,variation,lat,lon\n"
+                    "2026-03-25T09:00:00Z,Sun,gyro,115.5,,,43 20 N,008 25 W\n"
+                    "2026-03-25T09:00:00Z,Sun,binnacle,115.5,,,43 20 N,008 25 W\n"
+                    "2026-03-25T09:00:00Z,Sun,magnetic,115.5,,4 W,43 20 N,008 25 W\n"
+                    "2026-03-25T23:00:00Z,Sun,gyro,115.5,,,43 20 N,008 25 W\n", encoding="utf-8")
+    result = CliRunner().invoke(app, ["compass-book", str(book)])
+    assert result.exit_code == 0, result.output
+    assert "row 3 of" in result.stdout and "binnacle" in result.stdout and "give gyro or magnetic" in result.stdout
+    assert "row 4 of" in result.stdout and "heading" in result.stdout
+    assert "row 5 of" in result.stdout and "below the horizon" in result.stdout
+    csv = CliRunner().invoke(app, ["compass-book", str(book), "--csv"])
+    table = pd.read_csv(__import__("io").StringIO(csv.stdout))
+    assert list(table.row) == [2] and table.gyro_error_deg[0] > 0
+
+
+def test_the_azimuths_command_prints_and_writes(tmp_path):
+    result = CliRunner().invoke(app, ["azimuths", "--date", "2026-03-26", "--lat", "44 30 N", "--lon", "012 00 W",
+                                      "--course", "215", "--speed", "6.5", "--every", "30", "-o", str(tmp_path / "a.pdf"),
+                                      "-o", str(tmp_path / "a.csv")])
+    assert result.exit_code == 0, result.output
+    assert "amplitude E " in result.stdout and "amplitude W " in result.stdout
+    assert "At twilight: a bright body" in result.stdout
+    table = pd.read_csv(tmp_path / "a.csv")
+    assert {"utc", "zone_time", "zn_deg", "hc_deg"} <= set(table.columns) and len(table) > 20
+    from pypdf import PdfReader
+
+    page = " ".join(PdfReader(str(tmp_path / "a.pdf")).pages[0].extract_text().split())
+    assert " ".join(CAUTION.split()) in page and "true amplitude" in page

@@ -103,7 +103,15 @@ def _sights(table: pd.DataFrame, workings: Workings, rows: np.ndarray) -> Sights
         dr_lat_deg=floats("dr_lat_deg"), dr_lon_deg=floats("dr_lon_deg"), dut1_s=floats("dut1_given_s"),
         method=workings.method[rows], compass_bearing_deg=workings.compass_bearing_deg[rows],
         variation_deg=workings.variation_deg[rows],
-        fix_group=table["fix_group"].astype(str).to_numpy(dtype=object) if "fix_group" in table else None)
+        fix_group=_rounds(table, workings.cadet[rows]))
+
+
+def _rounds(table: pd.DataFrame, cadets: np.ndarray) -> np.ndarray | None:
+    """Each sight's round for the plotted fix: its fix group, within its cadet (each plots their own lines)."""
+    if "fix_group" not in table:
+        return None
+    labels = table["fix_group"].astype(str).to_numpy(dtype=object)
+    return np.where(labels != "", np.asarray(cadets, dtype=object) + "\x00" + labels, "")
 
 
 def _feet(text: str) -> float:
@@ -303,9 +311,10 @@ def _fixes(marked: pd.DataFrame, marks: Marks | None, cadets: np.ndarray, exam: 
     records = []
     for fix in marks.fixes:
         rows = list(fix.rows)
+        label = str(marked["fix_group"].iloc[rows[0]])
         prefix = f"{source_name(str(marked['source'].iloc[rows[0]]))}: "
         full_prefix = f"{marked['source'].iloc[rows[0]]}: "
-        shown = fix.group[len(full_prefix):] if fix.group.startswith(full_prefix) else fix.group
+        shown = label[len(full_prefix):] if label.startswith(full_prefix) else label
         shown = shown[len(prefix):] if shown.startswith(prefix) else shown
         has_fix = fix.lat_deg == fix.lat_deg
         record = {"cadet": cadets[rows[0]], "fix_group": shown, "sights": len(rows), "lines": fix.lines,
@@ -318,7 +327,7 @@ def _fixes(marked: pd.DataFrame, marks: Marks | None, cadets: np.ndarray, exam: 
                   "from_dr_nm": round(fix.from_dr_nm, 1) if fix.from_dr_nm == fix.from_dr_nm else np.nan,
                   "note": fix.note}
         if not exam:
-            group = expected.get(fix.group)
+            group = expected.get(label)
             if group is not None and group.fix is not None and group.fix.is_fix and has_fix:
                 miles, _ = distance_bearing(fix.lat_deg, fix.lon_deg, group.fix.lat_deg, group.fix.lon_deg)
                 record.update({"navred_fix": f"{format_angle(group.fix.lat_deg, 'lat')} "

@@ -214,7 +214,7 @@ def main() -> None:
 
     ts = load.timescale(builtin=True)
     eph = load(str(files("skyfield_data") / "data" / "de421.bsp"))
-    start = pd.Timestamp("2026-04-14T05:00:00Z")  # stars at morning and evening twilight, the Sun at noon
+    start = pd.Timestamp("2026-04-14T00:00:00Z")  # stars at morning and evening twilight, the Sun at noon
     log, track, _ = make_passage(ts, eph, current=steady, start=start, lat=38.0, lon=-10.0, sky_times=True)
     log["remarks"] = "INVENTED demo"
     log.to_csv(OUT / "passage_log.csv", index=False)

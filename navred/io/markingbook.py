@@ -159,13 +159,14 @@ def write_template(path: str | Path) -> Path:
                  for name, letter, count in (("body", "A", len(bodies)), ("limb", "B", len(limbs)),
                                              ("horizon", "C", len(horizons)), ("method", "D", len(methods)))}
         row = 2
-        sight = list(SIGHT_LINES) + (list(COMPASS_SIGHT_LINES) if method == "amplitude" else [])
+        # a compass check takes no altitude; Polaris has no limb
+        left_out = {"amplitude": ("limb", "hs", "index_error", "eye_height_m", "horizon"), "polaris": ("limb",)}
+        sight = [line for line in SIGHT_LINES if line[1] not in left_out.get(method, ())] + (
+            list(COMPASS_SIGHT_LINES) if method == "amplitude" else [])
         for block in range(1, BLOCKS_PER_PAGE + 1):
             sheet.cell(row=row, column=1, value=f"Working {block}").font = Font(bold=True, size=12)
             row += 1
             for label, key, note in sight:
-                if key == "hs" and method == "amplitude":
-                    note = "leave blank for a compass check"
                 sheet.cell(row=row, column=1, value=label)
                 sheet.cell(row=row, column=3, value=note).font = grey
                 if key == "method":

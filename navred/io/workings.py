@@ -191,38 +191,46 @@ def _column_key(header: str) -> str:
     return _LINE_SPELLINGS.get(name) or _OBSERVATION_SPELLINGS.get(name, "")
 
 
-def _compass_rows_without_hs(table: RawTable) -> RawTable:
-    """A compass check takes no altitude, but the log's reader needs a sight's Hs: a compass working's blank
-    Hs is read as 0° (no altitude line of a compass working is judged, and none is built on its Hs)."""
+def _compass_checks_without_altitude(table: RawTable) -> RawTable:
+    """A compass check takes no altitude, but the log's reader needs a sight's Hs and, for a sea horizon, its
+    height of eye: a compass working's blank Hs and height of eye are read as 0 (no altitude line of a compass
+    working is judged, and nothing is built on its Hs)."""
     keys = [_column_key(h) for h in table.header]
     compass = [k for k, key in enumerate(keys) if key in ("amplitude_worked", "compass_error_worked",
                                                            "deviation_worked")]
     methods = [k for k, key in enumerate(keys) if key == "method"]
-    hs = [k for k, h in enumerate(table.header) if normalise_header(h) in ("hs", "sextant_altitude",
-                                                                           "sextant_alt", "sextant_reading")]
     if not (compass or methods):
         return table
+    header, columns = list(table.header), list(table.columns)
 
-    def filled(k, columns=table.columns):
+    def filled(k):
         return np.array([str(v).strip() not in ("", "nan", "None", "NaT") for v in columns[k].tolist()])
 
     is_compass = np.zeros(table.n_rows, dtype=bool)
     for k in compass:
         is_compass |= filled(k)
     for k in methods:
-        words = np.array([METHOD_WORDS.get(normalise_header(v), "") for v in table.columns[k].astype(str).tolist()])
+        words = np.array([METHOD_WORDS.get(normalise_header(v), "") for v in columns[k].astype(str).tolist()])
         is_compass |= np.isin(words, ["amplitude", "azimuth"])
-    header, columns = list(table.header), list(table.columns)
-    if not hs:  # no Hs column at all (a page of compass checks): one of blanks
-        header.append("hs")
-        columns.append(pd.Series([None] * table.n_rows, dtype=object))
-        hs = [len(header) - 1]
-    blank = is_compass & ~filled(hs[0], columns)
-    if not blank.any():
+    if not is_compass.any():
         return table
-    column = columns[hs[0]].astype(object).copy()
-    column[blank] = "0"
-    columns[hs[0]] = column
+    changed = False
+    for spellings, name in ((("hs", "sextant_altitude", "sextant_alt", "sextant_reading"), "hs"),
+                            (("eye_height", "height_of_eye", "hoe", "eye"), "eye_height_m")):
+        found = [k for k, h in enumerate(header)
+                 if normalise_header(re.sub(r"\s*[(\[].*$", "", str(h))) in spellings or normalise_header(h) == name]
+        if not found:  # no such column at all (a page of compass checks): one of blanks
+            header.append(name)
+            columns.append(pd.Series([None] * table.n_rows, dtype=object))
+            found = [len(header) - 1]
+        blank = is_compass & ~filled(found[0])
+        if blank.any():
+            column = columns[found[0]].astype(object).copy()
+            column[blank] = "0"
+            columns[found[0]] = column
+            changed = True
+    if not changed:
+        return table
     return RawTable(table.source, header, columns, table.row_numbers, table.row_problems, table.separator,
                     table.decimal_comma, table.empty_rows, table.malformed_cells)
 
@@ -240,7 +248,7 @@ def read_workings(source: object, *, dates: str | None = None) -> Workings:
         if is_page(table):
             table, rows = page_sights(table)
             line_rows.update(rows)
-        tables.append(_compass_rows_without_hs(table))
+        tables.append(_compass_checks_without_altitude(table))
     log = read_sight_log(tables, dates=dates)
     table = log.table
     n = len(table)

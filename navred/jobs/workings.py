@@ -8,7 +8,7 @@ cadet's own lines beside the fix they plotted (and navred's fix of the same sigh
 mode); each cadet's progress over the voyage, and, given the ship's track, their personal error
 (as `navred training` finds it). Lines are named as a sight book names them, values written in the
 cadet's own form, sources by their file's name. The writers are :mod:`navred.io.markingbook` (the
-workbook and the template) and :mod:`navred.figures.markingpages` (the printed pages).
+workbook and the template) and :mod:`navred.io.markingpages` (the printed sight books).
 """
 
 from __future__ import annotations
@@ -20,8 +20,8 @@ import numpy as np
 import pandas as pd
 
 from ..angles import format_angle
-from ..figures.markingpages import marking_pages, write_marking_pdf
 from ..io.markingbook import write_marking_workbook, write_template
+from ..io.markingpages import marking_document, write_marking_pdf
 from ..io.markingwords import (
     NOTICE_WORKING,
     RIGHT_WORKING,
@@ -173,6 +173,17 @@ def _tables(marked: pd.DataFrame, marks: Marks | None, workings: Workings, rows:
     given_text = {line: workings.text[line][rows] if line in workings.text else np.full(n, "", dtype=object)
                   for line in LINES}
     records, line_records = [], []
+    # a named line (a zenith distance, a latitude, an amplitude) the right size under the wrong name is "out" by
+    # its name, not by twice its size: its difference is left out (its cause names it)
+    named_lines = [k for k, name in enumerate(LINES) if WORKED_FORMS[name][0] in ("dec", "lat", "amplitude")]
+    for k in named_lines:
+        name = LINES[k]
+        given = marks.given[name]
+        expected = marks.expected[name]
+        scale = 1.0 if WORKED_FORMS[name][0] == "amplitude" else 60.0
+        reversed_name = (marks.verdict[:, k] == WRONG) & (np.abs((given + expected) * scale) <= TOLERANCES[name]) & \
+            (np.abs(given * scale) > TOLERANCES[name])
+        marks.difference[reversed_name, k] = np.nan
     verdicts = np.where(first != "", WRONG_WORKING, np.where(marks.noticed != "", NOTICE_WORKING, RIGHT_WORKING))
     remarks = workings.remarks[rows] if len(workings.remarks) else np.full(n, "", dtype=object)
     for i in range(n):
@@ -350,5 +361,5 @@ def marking_csv(report: MarkingReport) -> pd.DataFrame:
 
 
 __all__ = ["MarkingReport", "mark_workings", "marking_csv", "describe", "value_text", "difference_text", "cost_text",
-           "commonest", "write_marking_workbook", "write_marking_pdf", "marking_pages", "write_template", "read_workings", "parse_worked", "WORKED_FORMS",
+           "commonest", "write_marking_workbook", "write_marking_pdf", "marking_document", "write_template", "read_workings", "parse_worked", "WORKED_FORMS",
            "RIGHT_WORKING", "WRONG_WORKING", "NOTICE_WORKING", "ROW_COLUMNS", "LINE_COLUMNS"]

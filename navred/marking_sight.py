@@ -195,7 +195,11 @@ def almanac_lines(j: Judge, sky: Sky, kind: np.ndarray, aries_only: np.ndarray) 
     gha_tab = wrap_360(parts / ARCMIN_PER_DEG)
     own_parts = j.has("gha_hour_worked") | j.has("increment_worked") | j.has("v_corr_worked") | j.has("sha_worked")
     gha_expected = np.where(own_parts, gha_tab, at_t) * ARCMIN_PER_DEG
-    j.judge("gha_worked", gha_expected, gha_tab * ARCMIN_PER_DEG, angle=True, causes=(
+    # the right GHA is right too, whatever a slip in a part of it (the slip is that part's)
+    gha_true_tab = wrap_360((hour_tab + increment_tab + np.where(star, sha_tab, np.where(aries_only, 0.0, v_tab)))
+                            / ARCMIN_PER_DEG) * ARCMIN_PER_DEG
+    j.judge("gha_worked", gha_expected, gha_tab * ARCMIN_PER_DEG, angle=True,
+            also=(at_t * ARCMIN_PER_DEG, gha_true_tab), causes=(
         ("increment", gha_expected - increment_exact), ("increment", gha_tab * ARCMIN_PER_DEG - increment_tab),
         ("v sign", gha_expected - 2.0 * v_exact), ("v sign", gha_tab * ARCMIN_PER_DEG - 2.0 * v_tab)))
     gha_c = j.value("gha_worked", gha_expected) / ARCMIN_PER_DEG
@@ -207,7 +211,8 @@ def almanac_lines(j: Judge, sky: Sky, kind: np.ndarray, aries_only: np.ndarray) 
     own_dec = j.has("dec_hour_worked") | j.has("d_corr_worked")
     dec_tab = j.value("dec_hour_worked", dec_hour_tab) + j.value("d_corr_worked", d_tab)
     dec_expected = np.where(own_dec, dec_tab, sky.dec_t * ARCMIN_PER_DEG)
-    j.judge("dec_worked", dec_expected, dec_tab, causes=(("d sign", dec_expected - 2.0 * d_exact),
+    j.judge("dec_worked", dec_expected, dec_tab, also=(sky.dec_t * ARCMIN_PER_DEG, dec_hour_tab + d_tab),
+            causes=(("d sign", dec_expected - 2.0 * d_exact),
                                                          ("d sign", dec_tab - 2.0 * d_tab)))
     return Places(gha_c, j.value("dec_worked", dec_expected) / ARCMIN_PER_DEG,
                   j.value("gha_worked", gha_tab * ARCMIN_PER_DEG) / ARCMIN_PER_DEG,
@@ -245,7 +250,7 @@ def altitude_lines(j: Judge, sights: SightsToMark, sky: Sky, kind: np.ndarray, g
     dip_feet_as_metres = np.where(np.isfinite(feet), -DIP_ARCMIN_PER_SQRT_M * np.sqrt(np.abs(feet)), np.nan)
     j.judge("dip_worked", dip, causes=(("dip added", -dip), ("feet as metres", dip_feet_as_metres)))
     ha_expected = hs + j.value("ic_worked", ic) + j.value("dip_worked", dip)
-    j.judge("ha_worked", ha_expected)
+    j.judge("ha_worked", ha_expected, also=(hs + ic + dip,))
     ha_c = j.value("ha_worked", ha_expected)
     refraction = np.asarray(working.refraction_arcmin, dtype=float)
     sd = np.asarray(working.sd_arcmin, dtype=float)
@@ -303,7 +308,8 @@ def altitude_lines(j: Judge, sights: SightsToMark, sky: Sky, kind: np.ndarray, g
     ho_expected = total(refraction, sd, parallax, main)
     ho_tab = total(tenth(refraction), tenth(sd_tab), tenth(parallax_tab), tenth(main_tab))
     hp_part = main - first_part - ul_c
-    j.judge("ho_worked", ho_expected, ho_tab, tolerance=np.where(moon, MOON_HO_TOLERANCE_ARCMIN,
+    ho_right = np.asarray(working.ho_deg, dtype=float) * ARCMIN_PER_DEG  # the right Ho is right too
+    j.judge("ho_worked", ho_expected, ho_tab, also=(ho_right,), tolerance=np.where(moon, MOON_HO_TOLERANCE_ARCMIN,
                                                                    TOLERANCES["ho_worked"]), causes=(
         ("upper limb", np.where(two_part & upper & ~j.has("upper_limb_worked"), ho_expected - MOON_UPPER_LIMB_ARCMIN,
                                 np.nan)),

@@ -36,6 +36,13 @@ def value_text(line: str, value, given_text: str = "") -> str:
         return "" if value is None or np.isnat(value) else str(np.datetime64(value, "s")).replace("T", " ")
     if value is None or value != value:
         return ""
+    text = _value_text(line, value, given_text)
+    if _style_of(given_text) == "dm" and "°" not in str(given_text):  # written without the marks: 104 55.2
+        text = text.replace("° ", " ").replace("°", "").replace("′", "")
+    return text
+
+
+def _value_text(line: str, value, given_text: str) -> str:
     kind = WORKED_FORMS[line][0]
     style = _style_of(given_text)
     if line == "intercept_worked":
@@ -90,8 +97,8 @@ def difference_text(line: str, difference: float) -> str:
 
 def cost_text(method: str, cost_nm: float, cost_deg: float, line: str = "") -> str:
     """What a slip costs, in words ("" when nothing is wrong)."""
-    if cost_nm != cost_nm:
-        return ""
+    if cost_nm != cost_nm or (abs(cost_nm) < 0.05 and not cost_deg == cost_deg):
+        return ""  # the slip went no further than its line
     if line in ("fix_lat_worked", "fix_lon_worked"):
         return f"your plotted fix stands {abs(cost_nm):,.1f} nm from where your own lines cross"
     if method in ("amplitude", "azimuth"):

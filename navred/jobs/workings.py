@@ -238,20 +238,20 @@ def _by_cause(rows: pd.DataFrame) -> pd.DataFrame:
     wrong = rows[rows.verdict == WRONG_WORKING]
     table = (pd.DataFrame({"cause": _named_causes(wrong), "line_name": wrong.first_wrong_line_name,
                            "cadet": wrong.cadet})
-             .groupby(["cause", "line_name"], sort=False).agg(sights=("cadet", "size"),
+             .groupby(["cause", "line_name"], sort=False).agg(workings=("cadet", "size"),
                                                               cadets=("cadet", lambda c: ", ".join(sorted(set(c)))))
-             .reset_index().sort_values("sights", ascending=False, kind="stable"))
+             .reset_index().sort_values("workings", ascending=False, kind="stable"))
     return table.reset_index(drop=True)
 
 
 def _by_cadet(rows: pd.DataFrame) -> pd.DataFrame:
-    columns = ["cadet", "sights", "no_mistake", "no_mistake_pct", "noticed", "commonest_cause"]
+    columns = ["cadet", "workings", "no_mistake", "no_mistake_pct", "noticed", "commonest_cause"]
     if not len(rows):
         return pd.DataFrame(columns=columns)
     records = []
     for cadet, part in [*rows.groupby("cadet", sort=True), ("the class", rows)]:
         wrong = part[part.verdict == WRONG_WORKING]
-        records.append({"cadet": cadet, "sights": len(part), "no_mistake": int((part.verdict == RIGHT_WORKING).sum()),
+        records.append({"cadet": cadet, "workings": len(part), "no_mistake": int((part.verdict == RIGHT_WORKING).sum()),
                         "no_mistake_pct": round(100.0 * float((part.verdict == RIGHT_WORKING).mean()), 1),
                         "noticed": int((part.verdict == NOTICE_WORKING).sum()),
                         "commonest_cause": commonest(_named_causes(wrong))})

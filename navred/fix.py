@@ -26,76 +26,83 @@ independent fixes is solved at once (no Python loop over fixes or sights).
 from __future__ import annotations
 
 import functools
+import itertools
 from collections.abc import Callable
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 from numpy.typing import ArrayLike
 
-from .angles import wrap_180, wrap_360
+from .angles import format_angle, wrap_180, wrap_360
 from .constants import ARCMIN_PER_DEG
 from .errors import NavredError, failed_elements
-from .sailings import rhumb_destination, rhumb_track_through
+from .sailings import rhumb_inverse, rhumb_track_through
+from .stats import chi_square_2_quantile, chi_square_quantile, f_2_quantile, student_t_quantile
 from .timescales import utc_jd_to_datetime64, utc_julian_date
 from .triangle import computed_altitude_azimuth, destination, distance_bearing
 
 #: Assumed standard error of one sight when a fix has no redundancy (two sights), arcminutes:
 #: a good sight at sea is good to about 1′ (common practice).
 A_PRIORI_SIGMA_ARCMIN = 1.0
-#: No fix is credited with sights better than this, arcminutes (common practice: 0.2′ is about
-#: the best a marine sextant gives at sea).
-SIGMA_FLOOR_ARCMIN = 0.2
 #: The DR's own error over a run (common practice; set with dr_error_kn / dr_error_fraction):
 #: an unknown current and leeway of this many knots, and this fraction of the distance run for
 #: the log and the steering. The run from each sight to the fix time is displaced by one unknown
 #: amount, isotropic, of standard deviation DR_ERROR_KN·hours + DR_ERROR_FRACTION·miles run.
 DR_ERROR_KN = 0.3
 DR_ERROR_FRACTION = 0.02
-OUTLIER_SIGMAS = 3.0
-OUTLIER_ARCMIN_FEW_SIGHTS = 5.0
+#: The blunder test: the chance that a fix of sights with no blunder has one flagged, whatever the number
+#: of sights (the largest externally studentized residual against Student's t at BLUNDER_ALPHA / n, two-sided:
+#: Bonferroni's correction for testing every sight).
+BLUNDER_ALPHA = 0.05
+#: A sight is flagged only when its line also lies this far from the fix of the others (arcminutes): a
+#: smaller miss is within a good sight's own error, whatever the test says of sights that agree too well
+#: (common practice).
+BLUNDER_MIN_ARCMIN = 1.0
+#: A flagged sight whose line lies this far from the fix of the others (arcminutes) is a gross error beyond
+#: doubt (a misnamed body, a slip of degrees or of minutes, a wrong time): no sextant error, refraction
+#: anomaly or abnormal dip comes near a third of a degree (common practice). It is left out of the fix.
+GROSS_ARCMIN = 20.0
+#: The check on a round's scatter: a hand-held marine sextant at sea gives about 0.5-1′, 2′ in a seaway
+#: (common practice); a σ beyond this at 99.9 % (chi-square) is not a sextant's.
+SEXTANT_SIGMA_LIMIT_ARCMIN = 2.0
+SCATTER_CONFIDENCE = 0.999
+#: Sights spanning more than this (minutes) with no course, no speed and one DR: the ship is taken as
+#: stopped, and the fix says so.
+STOPPED_SPAN_MIN = 10.0
+#: A DR whose age the log does not give (a DR written on each sight) is taken to be this old (hours) when
+#: the fix is compared with it.
+UNKNOWN_DR_AGE_H = 24.0
+#: The fix is further from its DR than this many times the DR's own error (DR_ERROR_KN per hour of the DR's
+#: age and DR_ERROR_FRACTION of the miles run since), plus the fix's 95 % semi-major axis and a mile:
+#: the time, the DR or a body name is wrong (a fix-level warning).
+DR_DISAGREEMENT_SIGMAS = 4.0
+#: A group of more sights than this (a whole day's sights given one fix group, say) is not searched sight by
+#: sight for a gross error, and its σ is the residuals' sum of squares less the run's expected share rather
+#: than the restricted likelihood (both cost the cube of the sights).
+MAX_SIGHTS_SEARCHED = 60
 #: Lines of position that cross at less than this make a line (or a latitude), not a fix.
 LINE_ONLY_DEG = 15.0
 WEAK_CROSSING_DEG = 30.0
 #: Lines whose azimuths all lie within this of north or south are a latitude (sights on the meridian).
 MERIDIAN_AZIMUTH_DEG = 10.0
+#: A running fix whose track would come this close to a pole (degrees) is refused: a rhumb line is not
+#: defined through the pole (courses there are steered on a grid).
+POLAR_RUN_LIMIT_DEG = 0.1
 CONVERGED_NM = 0.01
 MAX_ITERATIONS = 25
 CONFIDENCE = 0.95
-#: the 95 % point of the normal distribution (a line's half-width), Abramowitz & Stegun table 26.1
-NORMAL_975 = 1.959964
+#: What every 95 % ellipse of navred covers, and what it cannot.
+ELLIPSE_COVERS = ("covers the sights' random error and the DR's error over the run; it cannot cover an error "
+                  "common to every sight (the clock: 1 s of time is 0.25′ of longitude; a wrong height of eye or "
+                  "index error; abnormal dip), nor a misnamed body")
 _NAT = np.datetime64("NaT")
 _EMPTY = np.zeros(0)
 _EMPTY.flags.writeable = False  # a placeholder for per-sight arrays not yet filled in (never written to)
 
 
-def chi_square_2_quantile(p: float) -> float:
-    """Quantile of the chi-square distribution with 2 degrees of freedom: −2 ln(1 − p)."""
-    return -2.0 * np.log(1.0 - p)
-
-
-def f_2_quantile(p: float, dof: ArrayLike) -> np.ndarray:
-    """Quantile of the F distribution with (2, dof) degrees of freedom, closed form.
-
-    For two numerator degrees of freedom the CDF is 1 − (1 + 2x/ν)^(−ν/2), so
-    x_p = (ν/2)((1 − p)^(−2/ν) − 1) (a standard identity of the F distribution).
-    """
-    dof = np.asarray(dof, dtype=float)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        return dof / 2.0 * ((1.0 - p) ** (-2.0 / dof) - 1.0)
-
-
 def t_quantile_975(dof: ArrayLike) -> np.ndarray:
-    """Student's t 97.5 % point (two-sided 95 %): exact for 1 and 2 degrees of freedom (tan(0.475π) and
-    2/√(2·0.975·0.025)·0.475), else the Cornish-Fisher expansion (Abramowitz & Stegun 26.7.5; from memory),
-    within 0.01 of the tables from 3 degrees of freedom."""
-    z = 1.959964
-    v = np.asarray(dof, dtype=float)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        t = (z + (z**3 + z) / (4 * v) + (5 * z**5 + 16 * z**3 + 3 * z) / (96 * v**2)
-             + (3 * z**7 + 19 * z**5 + 17 * z**3 - 15 * z) / (384 * v**3))
-    t = np.where(v == 1, np.tan(0.475 * np.pi), t)
-    t = np.where(v == 2, 0.95 / np.sqrt(2 * 0.975 * 0.025), t)
-    return np.where(v >= 1, t, np.nan)
+    """Student's t 97.5 % point (two-sided 95 %) for ``dof`` degrees of freedom (:mod:`navred.stats`)."""
+    return student_t_quantile(0.975, dof)
 
 
 def move_position(lat_deg: ArrayLike, lon_deg: ArrayLike, north_nm: ArrayLike, east_nm: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
@@ -108,6 +115,41 @@ def move_position(lat_deg: ArrayLike, lon_deg: ArrayLike, north_nm: ArrayLike, e
     lat = np.clip(lat, -89.999999, 89.999999)
     mid = np.radians((lat + np.asarray(lat_deg, dtype=float)) / 2.0)
     lon = np.asarray(lon_deg, dtype=float) + np.asarray(east_nm, dtype=float) / ARCMIN_PER_DEG / np.cos(mid)
+    return lat, wrap_180(lon)
+
+
+def step_on_sphere(lat_deg: ArrayLike, lon_deg: ArrayLike, north_nm: ArrayLike, east_nm: ArrayLike
+                   ) -> tuple[np.ndarray, np.ndarray]:
+    """Position moved along the great circle of a displacement (nautical miles north and east), exact at any
+    latitude, the poles included.
+
+    In three dimensions: the unit vector p of the position, the local north N = ∂p/∂φ and east
+    E = ∂p/∂λ / cos φ of its meridian (at a pole N and E still stand, along the meridian λ + 180° and
+    across it, the frame in which the spherical formula gives Zn there), and p cos d + u sin d for the
+    unit direction u of the displacement and its length d (one arcminute of great circle per nautical
+    mile; common practice). The latitude is taken by atan2, not arcsin, so it keeps its precision
+    next to a pole.
+
+    >>> lat, lon = step_on_sphere(89.5, 0.0, 60.0, 0.0)  # a degree north from 89° 30′ N on 0°: across the pole
+    >>> round(float(lat), 9), abs(round(float(lon), 9))
+    (89.5, 180.0)
+    """
+    phi = np.radians(np.asarray(lat_deg, dtype=float))
+    lam = np.radians(np.asarray(lon_deg, dtype=float))
+    north = np.asarray(north_nm, dtype=float)
+    east = np.asarray(east_nm, dtype=float)
+    sin_phi, cos_phi, sin_lam, cos_lam = np.sin(phi), np.cos(phi), np.sin(lam), np.cos(lam)
+    p = np.stack(np.broadcast_arrays(cos_phi * cos_lam, cos_phi * sin_lam, sin_phi), axis=-1)
+    n_axis = np.stack(np.broadcast_arrays(-sin_phi * cos_lam, -sin_phi * sin_lam, cos_phi), axis=-1)
+    e_axis = np.stack(np.broadcast_arrays(-sin_lam, cos_lam, np.zeros_like(lam)), axis=-1)
+    size = np.hypot(north, east)
+    d = np.radians(size / ARCMIN_PER_DEG)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        u = (north[..., None] * n_axis + east[..., None] * e_axis) / size[..., None]
+    u = np.where((size > 0)[..., None], u, 0.0)
+    q = p * np.cos(d)[..., None] + u * np.sin(d)[..., None]
+    lat = np.degrees(np.arctan2(q[..., 2], np.hypot(q[..., 0], q[..., 1])))
+    lon = np.where(size > 0, np.degrees(np.arctan2(q[..., 1], q[..., 0])), np.asarray(lon_deg, dtype=float))
     return lat, wrap_180(lon)
 
 
@@ -220,7 +262,7 @@ def solve_fixes(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, lat0_
                 *, dt_hours: ArrayLike = 0.0, velocity_north_kn: ArrayLike = 0.0, velocity_east_kn: ArrayLike = 0.0,
                 weights: ArrayLike = 1.0, mask: ArrayLike | None = None, solve_motion: bool = False,
                 velocity0_kn: ArrayLike = (0.0, 0.0), mark_singular: bool = False,
-                track: Track | None = None) -> CoreFixes:
+                track: Track | None = None, report: ArrayLike | None = None) -> CoreFixes:
     """Solve many independent fixes at once by Gauss-Newton on the sphere.
 
     Arrays of shape (fixes, sights): ``gha_deg``, ``dec_deg``, ``ho_deg`` of each sight,
@@ -232,14 +274,22 @@ def solve_fixes(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, lat0_
     well, starting from ``velocity0_kn`` (one pair, or a pair of arrays (fixes,)); the known
     velocities are then not used. Fixes whose lines are parallel raise, or with
     ``mark_singular`` are marked in ``singular`` and left at their start. ``track``: the
-    :class:`Track` of these times and velocities when the caller has it already.
+    :class:`Track` of these times and velocities when the caller has it already. ``report``: the
+    sights whose residual and azimuth at the solution are returned (default: those used); a sight
+    left out of the solution can still be shown against it.
+
+    Each step is taken on the sphere in three dimensions: the position moves along the great circle
+    of the step's direction in the local frame of the meridian it stands on (north and east; at a pole
+    the frame of its meridian still holds), so a fix is exact up to the pole, from a DR on any side.
     """
     gha = np.atleast_2d(np.asarray(gha_deg, dtype=float))
     shape = gha.shape
     dec = np.broadcast_to(np.asarray(dec_deg, dtype=float), shape)
     ho = np.broadcast_to(np.asarray(ho_deg, dtype=float), shape)
     use = np.ones(shape, dtype=bool) if mask is None else np.broadcast_to(np.asarray(mask, dtype=bool), shape)
-    use = use & np.isfinite(gha) & np.isfinite(dec) & np.isfinite(ho)
+    finite = np.isfinite(gha) & np.isfinite(dec) & np.isfinite(ho)
+    use = use & finite
+    shown = use if report is None else np.broadcast_to(np.asarray(report, dtype=bool), shape) & finite
     w = np.where(use, np.broadcast_to(np.asarray(weights, dtype=float), shape), 0.0)
     # a sight left out takes the time and velocity of its fix's earliest sight: it then adds only a
     # leg of no length to the track, wherever the fix time lies
@@ -262,9 +312,9 @@ def solve_fixes(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, lat0_
     converged = np.zeros(shape[0], dtype=bool)
     singular = np.zeros(shape[0], dtype=bool)
     iterations_each = np.zeros(shape[0], dtype=int)
-    safe_gha = np.where(use, gha, 0.0)
-    safe_dec = np.where(use, dec, 0.0)
-    safe_ho = np.where(use, ho, 0.0)
+    safe_gha = np.where(finite, gha, 0.0)
+    safe_dec = np.where(finite, dec, 0.0)
+    safe_ho = np.where(finite, ho, 0.0)
 
     known_track = Track(dt, given_n, given_e) if track is None else track
 
@@ -304,8 +354,7 @@ def solve_fixes(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, lat0_
         step = np.linalg.solve(np.where(parallel[:, None, None], identity, normal), rhs[..., None])[..., 0]
         step = np.where(parallel[:, None], 0.0, step)
         size = np.hypot(step[:, 0], step[:, 1])
-        lat[active], lon[active] = rhumb_destination(lat[active], lon[active],
-                                                     np.degrees(np.arctan2(step[:, 1], step[:, 0])), size)
+        lat[active], lon[active] = step_on_sphere(lat[active], lon[active], step[:, 0], step[:, 1])
         if solve_motion:
             vn[active], ve[active] = vn[active] + step[:, 2], ve[active] + step[:, 3]
         iterations_each[active] += ~parallel
@@ -315,13 +364,13 @@ def solve_fixes(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, lat0_
         if active.size == 0:
             break
     hc, zn, jac = linearised()
-    residual = np.where(use, (safe_ho - hc) * ARCMIN_PER_DEG, np.nan)
+    residual = np.where(shown, (safe_ho - hc) * ARCMIN_PER_DEG, np.nan)
     normal = np.einsum("fs,fsi,fsj->fij", w, jac, jac)
     covariance = np.linalg.inv(np.where(singular[:, None, None], identity, normal))
     covariance[singular] = np.nan
     return CoreFixes(lat, lon, vn if solve_motion else np.full(shape[0], np.nan),
                      ve if solve_motion else np.full(shape[0], np.nan), residual,
-                     np.where(use, zn, np.nan), covariance, jac, n_used, converged, iterations,
+                     np.where(shown, zn, np.nan), covariance, jac, n_used, converged, iterations,
                      iterations_each, singular)
 
 
@@ -391,8 +440,9 @@ class FixResult:
     confidence_scale: float
     sigma_source: str
     iterations: int
-    #: the quantile the ellipse is scaled by: 'F(2, ν)' for a σ estimated from ν redundant sights,
-    #: 'chi-square(2)' for a σ assumed or held at its floor
+    #: the quantile the ellipse is scaled by: 'F(2, ν)' for a σ estimated from ν redundant sights (ν an
+    #: effective number when the DR's known error over the run is part of the ellipse), 'chi-square(2)' for
+    #: a σ assumed (two sights), 't(ν)' for a line's band
     quantile: str = ""
     kind: str = FIX
     spread_deg: float = float("nan")
@@ -405,7 +455,32 @@ class FixResult:
     dr_error_included: bool = False
     course_made_good_deg: float | None = None
     speed_made_good_kn: float | None = None
+    #: the check fix: this one recomputed without the sights flagged as possible blunders (kept in it)
     without_outliers: FixResult | None = field(default=None, repr=False)
+    #: per input row: a sight whose line is a gross error beyond doubt, left out of this fix (see all_sights)
+    left_out: np.ndarray = field(default_factory=lambda: _EMPTY)
+    #: per input row: a flagged sight of this fix that is a gross error beyond doubt (GROSS_ARCMIN off)
+    gross: np.ndarray = field(default_factory=lambda: _EMPTY)
+    #: the fix from every sight, when a gross error was left out of this one
+    all_sights: FixResult | None = field(default=None, repr=False)
+    #: the names of the sights left out ('row 9', as the labels given)
+    left_out_names: list[str] = field(default_factory=list)
+    #: sights beyond the unknowns (n − k): how many check the others
+    redundant: int = 0
+    #: what the ellipse's size means for this count of sights, in words (few redundant sights)
+    ellipse_note: str = ""
+    #: what the blunder test can find with these sights, in words
+    blunder_note: str = ""
+    #: about the smallest blunder (arcminutes) the test finds in half the fixes, from this fix's scatter
+    #: (NaN when the sights are too few to single one out)
+    detectable_blunder_arcmin: float = float("nan")
+    #: how the run between the sights was found: 'course and speed', 'course, speed and current', 'the
+    #: rows' own DRs', or 'none' (sights taken together, or a ship taken as stopped)
+    run_from: str = ""
+    #: the fix's distance from the DR at the fix time (nm)
+    dr_distance_nm: float = float("nan")
+    #: the sights scatter beyond any hand-held sextant (SEXTANT_SIGMA_LIMIT_ARCMIN, at SCATTER_CONFIDENCE)
+    scatter_impossible: bool = False
     chart_distance_nm: float | None = None
     chart_bearing_deg: float | None = None
     chart_inside_ellipse: bool | None = None
@@ -429,6 +504,14 @@ class FixResult:
     def residual_nm(self) -> np.ndarray:
         """Residuals in nautical miles (one arcminute of altitude is one nautical mile)."""
         return self.residual_arcmin.copy()
+
+    def ellipse_text(self) -> str:
+        """The 95 % ellipse's full size as a navigator reads it, and its semi-axes: '10.9 × 2.8 nm, semi-axes
+        5.4 × 1.4 nm' (for a line or a latitude, the band's width: '2.8 nm wide, ±1.4 nm')."""
+        if not self.is_fix:
+            return f"{2 * self.ellipse_semi_minor_nm:.1f} nm wide, ±{self.ellipse_semi_minor_nm:.1f} nm"
+        a, b = self.ellipse_semi_major_nm, self.ellipse_semi_minor_nm
+        return f"{2 * a:.1f} × {2 * b:.1f} nm, semi-axes {a:.1f} × {b:.1f} nm"
 
     @property
     def standard_error_nm(self) -> float:
@@ -489,48 +572,274 @@ class GroupFixes:
     problems: list[str]
 
 
+@dataclass(frozen=True)
+class _Sights:
+    """The sights of a batch of fixes, one element per input row, read once."""
+
+    gha: np.ndarray
+    dec: np.ndarray
+    ho: np.ndarray
+    utc: np.ndarray  # datetime64[ns]
+    dr_lat: np.ndarray
+    dr_lon: np.ndarray
+    course: np.ndarray  # NaN: not given
+    speed: np.ndarray
+    set_deg: np.ndarray  # the current in force after each sight (0 drift: none)
+    drift_kn: np.ndarray
+    dr_age_h: np.ndarray  # the age of each sight's DR (NaN: not known)
+    names: np.ndarray
+    solve_motion: bool
+    dr_error_kn: float
+    dr_error_fraction: float
+
+
 def fixes_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, utc: ArrayLike,
                       dr_lat_deg: ArrayLike, dr_lon_deg: ArrayLike, group: ArrayLike, *,
                       usable: ArrayLike | None = None, course_deg: ArrayLike | None = None,
                       speed_kn: ArrayLike | None = None, at_utc: object | None = None,
                       chart_lat: ArrayLike | None = None, chart_lon: ArrayLike | None = None,
-                      solve_motion: bool = False, set_deg: float | None = None, drift_kn: float | None = None,
+                      solve_motion: bool = False, set_deg: ArrayLike | None = None, drift_kn: ArrayLike | None = None,
                       labels: ArrayLike | None = None, dr_error_kn: float = DR_ERROR_KN,
-                      dr_error_fraction: float = DR_ERROR_FRACTION, refit: bool = True) -> GroupFixes:
+                      dr_error_fraction: float = DR_ERROR_FRACTION, refit: bool = True,
+                      dr_age_hours: ArrayLike | None = None) -> GroupFixes:
     """Fix many groups of sights at once: one least-squares solve for every group, padded.
 
     The arrays are one element per sight (1-D), as for :func:`fix_from_sights`; ``group``
     numbers each sight's group 0, 1, ... (a negative number leaves the sight out). ``at_utc``
     is one fix time for all, one per group, or None (each group's last sight); ``chart_lat``
-    and ``chart_lon`` one chart or GNSS position per group (NaN where there is none). Each
-    group's arrays in its result follow its sights in input order. Every group gets the same
-    result it would get alone (tests/test_fix.py checks it).
+    and ``chart_lon`` one chart or GNSS position per group (NaN where there is none); ``set_deg``
+    and ``drift_kn`` one current for all or the current in force after each sight; ``dr_age_hours``
+    the age of each sight's DR (hours since the known position it was carried from; NaN or None:
+    not known). Each group's arrays in its result follow its sights in input order. Every group
+    gets the same result it would get alone (tests/test_fix.py checks it).
+
+    With ``refit`` (the default), a sight whose line is a gross error beyond doubt is left out of
+    its group's fix (the fix from every sight is kept as ``all_sights``), and the sights flagged as
+    possible blunders are left out of a check fix (``without_outliers``).
     """
     gha, dec, ho = (np.atleast_1d(np.asarray(v, dtype=float)) for v in (gha_deg, dec_deg, ho_deg))
     n_rows = gha.size
-    group = np.broadcast_to(np.asarray(group, dtype=np.intp), (n_rows,))
+
+    def per_row(values, fill=np.nan):
+        if values is None:
+            return np.full(n_rows, fill)
+        return np.array(np.broadcast_to(np.asarray(values, dtype=float), (n_rows,)), dtype=float)
+
+    drift = per_row(drift_kn, 0.0) if set_deg is not None else np.zeros(n_rows)
+    sights = _Sights(
+        gha, dec, ho, np.array(np.broadcast_to(_utc64(utc), (n_rows,))), per_row(dr_lat_deg), per_row(dr_lon_deg),
+        per_row(course_deg), per_row(speed_kn), np.nan_to_num(per_row(set_deg, 0.0)), np.nan_to_num(drift),
+        per_row(dr_age_hours),
+        np.arange(1, n_rows + 1).astype(str) if labels is None else np.asarray(labels).astype(str),
+        solve_motion, dr_error_kn, dr_error_fraction)
+    group = np.array(np.broadcast_to(np.asarray(group, dtype=np.intp), (n_rows,)))
     n_groups = int(group.max()) + 1 if n_rows and group.max() >= 0 else 0
-    names = np.arange(1, n_rows + 1).astype(str) if labels is None else np.asarray(labels).astype(str)
-    all_utc = np.broadcast_to(_utc64(utc), (n_rows,))
-    ok = (group >= 0) & np.isfinite(gha) & np.isfinite(dec) & np.isfinite(ho) & ~np.isnat(all_utc)
+    ok = (group >= 0) & np.isfinite(gha) & np.isfinite(dec) & np.isfinite(ho) & ~np.isnat(sights.utc)
     if usable is not None:
         ok &= np.broadcast_to(np.asarray(usable, dtype=bool), (n_rows,))
+    nothing = np.zeros(n_rows, dtype=bool)
+    results, problems = _fix_batch(sights, group, n_groups, ok, nothing, _fix_times(at_utc, n_groups))
+    if refit:
+        _leave_out_gross(sights, group, n_groups, ok, results)
+        _check_fixes(sights, group, n_groups, ok, results)
+    # --- the chart or GNSS cross-check ------------------------------------------------------------
+    if chart_lat is not None and chart_lon is not None:
+        _cross_check_all(results, np.broadcast_to(np.asarray(chart_lat, dtype=float), (n_groups,)),
+                         np.broadcast_to(np.asarray(chart_lon, dtype=float), (n_groups,)))
+    return GroupFixes(results, problems)
+
+
+def _cross_check_all(results: list[FixResult | None], chart_lat: np.ndarray, chart_lon: np.ndarray) -> None:
+    """:meth:`FixResult.cross_check` of every result that has a chart position, at once."""
+    chosen = [g for g, r in enumerate(results) if r is not None and np.isfinite(chart_lat[g])
+              and np.isfinite(chart_lon[g])]
+    if not chosen:
+        return
+    picked = [results[g] for g in chosen]
+    lat = np.array([r.lat_deg for r in picked])
+    lon = np.array([r.lon_deg for r in picked])
+    distance, bearing = distance_bearing(lat, lon, chart_lat[chosen], chart_lon[chosen])
+    b = np.radians(bearing)
+    offset = distance[:, None] * np.stack([np.cos(b), np.sin(b)], axis=1)
+    is_fix = np.array([r.is_fix for r in picked])
+    cov = np.stack([r.covariance_nm2 if r.is_fix else np.eye(2) for r in picked])
+    scale = np.array([r.confidence_scale for r in picked])
+    inside_fix = np.einsum("fi,fi->f", offset, np.linalg.solve(cov, offset[..., None])[..., 0]) <= scale**2
+    toward = np.array([r.line_toward_deg if r.line_toward_deg is not None else 0.0 for r in picked])
+    across = distance * np.cos(np.radians(bearing - toward))
+    inside_line = np.abs(across) <= np.array([r.ellipse_semi_minor_nm for r in picked])
+    inside = np.where(is_fix, inside_fix, inside_line)
+    for j, result in enumerate(picked):
+        result.chart_distance_nm, result.chart_bearing_deg = float(distance[j]), float(bearing[j])
+        result.chart_inside_ellipse = bool(inside[j])
+
+
+def _subset(group: np.ndarray, chosen: list[int], n_groups: int) -> np.ndarray:
+    """Group numbers for a batch of only the ``chosen`` groups (renumbered 0, 1, ...; others −1)."""
+    renumber = np.full(n_groups, -1, dtype=np.intp)
+    renumber[chosen] = np.arange(len(chosen))
+    return np.where(group >= 0, renumber[np.maximum(group, 0)], -1)
+
+
+def _leave_out_gross(sights: _Sights, group, n_groups, ok, results) -> None:
+    """Each group's gross errors beyond doubt left out of its fix, a round at a time (a second one can hide
+    behind the first); the fix from every sight kept beside it, and a loud warning naming each row."""
+    left_out = np.zeros(group.size, dtype=bool)
+    first = list(results)
+    bounds = np.concatenate([[0], np.cumsum(np.bincount(group[group >= 0], minlength=n_groups))])
+    by_group = np.argsort(np.where(group >= 0, group, n_groups), kind="stable")
+    for _ in range(3):
+        chosen, rows, wild = [], [], []
+        for g, result in enumerate(results):
+            if result is None:
+                continue
+            if result.gross.any():
+                chosen.append(g)
+                rows.append(by_group[bounds[g]:bounds[g + 1]][result.gross])
+            elif result.scatter_impossible and result.redundant >= 2 and result.n_sights <= MAX_SIGHTS_SEARCHED:
+                wild.append(g)
+        for g, found in _gross_by_leaving_out(sights, group, ok, left_out, wild, results).items():
+            chosen.append(g)
+            rows.append(np.array(found))
+        if not chosen:
+            break
+        left_out[np.concatenate(rows)] = True
+        times = np.array([results[g].utc for g in chosen], dtype="datetime64[ns]")
+        again, _ = _fix_batch(sights, _subset(group, chosen, n_groups), len(chosen), ok, left_out, times)
+        for j, g in enumerate(chosen):
+            if again[j] is not None:
+                results[g] = again[j]
+    for g, result in enumerate(results):
+        if result is None or first[g] is result or not result.left_out.any():
+            continue
+        every = first[g]
+        result.all_sights = every
+        names = sights.names[by_group[bounds[g]:bounds[g + 1]][result.left_out]]
+        result.left_out_names = [str(name) for name in names]
+        misses = np.abs(result.residual_arcmin[result.left_out])
+        miles = float(distance_bearing(result.lat_deg, result.lon_deg, every.lat_deg, every.lon_deg)[0])
+        lines = ", ".join(f"{name} ({miss:.0f}′ off)" for name, miss in zip(names, misses.tolist()))
+        result.warnings.insert(0, (
+            f"LEFT OUT of this {result.kind}: {lines}: {'their lines lie' if len(names) > 1 else 'its line lies'} "
+            f"far beyond any sextant error from the others (a misnamed body, a slip of degrees or minutes, a "
+            f"wrong time?); the {every.kind} from every sight is {miles:.1f} nm away, at "
+            f"{format_angle(every.lat_deg, 'lat')} {format_angle(every.lon_deg, 'lon')}"))
+        if miles > 1.0:
+            result.warnings.insert(1, f"this {result.kind} and the one from every sight differ by {miles:.1f} nm: "
+                                      "plot this one, and find out what is wrong with the sight left out")
+
+
+def _gross_by_leaving_out(sights: _Sights, group, ok, left_out, wild: list[int], results) -> dict[int, list[int]]:
+    """For fixes whose sights scatter beyond any sextant: each sight left out in turn (then, where that finds
+    nothing and six or more sights remain, each pair), every such fix of the others solved at once (from the DR,
+    not from the all-sights fix a gross error has dragged off). The sights whose leaving out makes the
+    others agree, each of whose lines then lies more than GROSS_ARCMIN and beyond the blunder test's limit
+    from their fix, are the gross errors: their rows, per group."""
+    found: dict[int, list[int]] = {}
+    for size in (1, 2):
+        todo = [g for g in wild if g not in found]
+        copies_rows, copies_group, copies_left, owner, dropped = [], [], [], [], []
+        for g in todo:
+            members = np.flatnonzero((group == g) & ok)
+            free = members[~left_out[members]]
+            if free.size - size < 2 + size:  # the others keep a check of their own: 3 for one out, 4 for two
+                continue
+            for chosen in itertools.combinations(free.tolist(), size):
+                copies_rows.append(members)
+                copies_group.append(np.full(members.size, len(owner)))
+                copies_left.append(left_out[members] | np.isin(members, chosen))
+                owner.append(g)
+                dropped.append(list(chosen))
+        if not owner:
+            continue
+        rows = np.concatenate(copies_rows)
+        sub = replace(sights, gha=sights.gha[rows], dec=sights.dec[rows], ho=sights.ho[rows], utc=sights.utc[rows],
+                      dr_lat=sights.dr_lat[rows], dr_lon=sights.dr_lon[rows], course=sights.course[rows],
+                      speed=sights.speed[rows], set_deg=sights.set_deg[rows], drift_kn=sights.drift_kn[rows],
+                      dr_age_h=sights.dr_age_h[rows], names=sights.names[rows])
+        times = np.array([results[g].utc for g in owner], dtype="datetime64[ns]")
+        trials, _ = _fix_batch(sub, np.concatenate(copies_group), len(owner), np.ones(rows.size, dtype=bool),
+                               np.concatenate(copies_left), times)
+        best: dict[int, tuple[float, list[int], np.ndarray, int]] = {}
+        for c, (g, chosen) in enumerate(zip(owner, dropped)):
+            trial = trials[c]
+            if trial is None or trial.redundant < 1 or trial.scatter_impossible:
+                continue
+            misses = np.array([float(trial.residual_arcmin[np.flatnonzero(copies_rows[c] == row)[0]])
+                               for row in chosen])
+            if g not in best or trial.sigma_arcmin < best[g][0]:
+                best[g] = (trial.sigma_arcmin, chosen, misses, trial.redundant)
+        for g, (sigma, chosen, misses, d) in best.items():
+            n = d + 2 + size  # the sights of the fix of the others (two unknowns) and those left out
+            limit = float(student_t_quantile(1.0 - BLUNDER_ALPHA / (2.0 * n), d)) * sigma
+            if np.all(np.abs(misses) > max(GROSS_ARCMIN, limit)):
+                found[g] = chosen
+    return found
+
+
+def _check_fixes(sights: _Sights, group, n_groups, ok, results) -> None:
+    """For each fix with sights flagged as possible blunders (kept in it): the check fix without them, and a
+    warning of how far it moves."""
+    bounds = np.concatenate([[0], np.cumsum(np.bincount(group[group >= 0], minlength=n_groups))])
+    by_group = np.argsort(np.where(group >= 0, group, n_groups), kind="stable")
+    left_out = np.zeros(group.size, dtype=bool)
+    chosen = []
+    for g, result in enumerate(results):
+        if result is None:
+            continue
+        rows = by_group[bounds[g]:bounds[g + 1]]
+        doubtful = result.outlier & ~_or_empty(result.left_out, rows.size)
+        if doubtful.any() and int(result.used.sum()) - int(doubtful.sum()) >= 2:
+            chosen.append(g)
+            left_out[rows[doubtful | _or_empty(result.left_out, rows.size)]] = True
+    if not chosen:
+        return
+    times = np.array([results[g].utc for g in chosen], dtype="datetime64[ns]")
+    checks, _ = _fix_batch(sights, _subset(group, chosen, n_groups), len(chosen), ok, left_out, times)
+    for j, g in enumerate(chosen):
+        result, check = results[g], checks[j]
+        if check is None:
+            continue
+        rows = by_group[bounds[g]:bounds[g + 1]]
+        doubtful = result.outlier & ~_or_empty(result.left_out, rows.size)
+        names = sights.names[rows[doubtful]]
+        count = len(names)
+        miles = float(distance_bearing(result.lat_deg, result.lon_deg, check.lat_deg, check.lon_deg)[0])
+        result.warnings.append(
+            f"{', '.join(names)} look{'' if count > 1 else 's'} like {'blunders' if count > 1 else 'a blunder'} "
+            f"(the blunder test, at {BLUNDER_ALPHA * 100:.0f} % false alarms for the whole fix); without "
+            f"{'them' if count > 1 else 'it'} the {result.kind} moves {miles:.1f} nm (the check fix)"
+            + (": more than a mile, so look at the sight before plotting either" if miles > 1.0 else ""))
+        result.without_outliers = check
+
+
+def _or_empty(values: np.ndarray, size: int) -> np.ndarray:
+    return values if values.size == size else np.zeros(size, dtype=bool)
+
+
+def _fix_batch(sights: _Sights, group: np.ndarray, n_groups: int, ok: np.ndarray, left_out: np.ndarray,
+               fix_time_given: np.ndarray) -> tuple[list[FixResult | None], list[str]]:
+    """One solve of every group (no check fixes): the sights ``ok`` are shown, those not ``left_out`` used."""
     results: list[FixResult | None] = [None] * n_groups
     problems = [""] * n_groups
     if n_groups == 0:
-        return GroupFixes(results, problems)
+        return results, problems
+    s = sights
+    n_rows = s.gha.size
+    weighted = ok & ~left_out
     by_group = np.argsort(np.where(group >= 0, group, n_groups), kind="stable")
     sizes = np.bincount(group[group >= 0], minlength=n_groups)
-    count_ok = np.bincount(group[ok], minlength=n_groups)
-    for g in np.flatnonzero(count_ok < 2):
-        problems[g] = (f"a fix needs two or more reduced sights; {int(count_ok[g])} of {int(sizes[g])} "
+    count_ok = np.bincount(group[ok & (group >= 0)], minlength=n_groups)
+    count_used = np.bincount(group[weighted & (group >= 0)], minlength=n_groups)
+    for g in np.flatnonzero(count_used < 2):
+        problems[g] = (f"a fix needs two or more reduced sights; {int(count_used[g])} of {int(sizes[g])} "
                        "are usable")
-    work = np.flatnonzero(count_ok >= 2)
+    work = np.flatnonzero(count_used >= 2)
     if work.size == 0:
-        return GroupFixes(results, problems)
+        return results, problems
 
-    # --- the padded layout: (groups at work, the most usable sights of any) ---------------------
-    ok_rows = by_group[ok[by_group]]
+    # --- the padded layout: (groups at work, the most sights of any) -----------------------------
+    ok_rows = by_group[ok[by_group] & (group[by_group] >= 0)]
     ok_rows = ok_rows[np.isin(group[ok_rows], work)]
     w_of_group = np.full(n_groups, -1, dtype=np.intp)
     w_of_group[work] = np.arange(work.size)
@@ -538,57 +847,60 @@ def fixes_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike,
     start = np.concatenate([[0], np.cumsum(count_ok[work])[:-1]])
     column = np.arange(ok_rows.size) - start[w]
     width = int(count_ok[work].max())
+    present = np.zeros((work.size, width), dtype=bool)
+    present[w, column] = True
     use = np.zeros((work.size, width), dtype=bool)
-    use[w, column] = True
+    use[w, column] = weighted[ok_rows]
     times = np.full((work.size, width), np.iinfo(np.int64).min, dtype=np.int64)
-    times[w, column] = all_utc[ok_rows].astype(np.int64)
-    # each group's last sight by time (the later row among equal times)
+    times[w, column] = np.where(weighted[ok_rows], s.utc[ok_rows].astype(np.int64), np.iinfo(np.int64).min)
+    # each group's last used sight by time (the later row among equal times)
     last = width - 1 - np.argmax(times[:, ::-1] == times.max(axis=1, keepdims=True), axis=1)
     index = np.empty((work.size, width), dtype=np.intp)
     index[:] = np.zeros((work.size, 1), dtype=np.intp)
     index[w, column] = ok_rows
     last_row = index[np.arange(work.size), last]
     # padding repeats each group's last sight: a zero-length leg at its time, no weight
-    index = np.where(use, index, last_row[:, None])
-    fix_time = _fix_times(at_utc, n_groups)[work]
-    fix_time = np.where(np.isnat(fix_time), all_utc[last_row], fix_time)
-    hours = (all_utc[index] - fix_time[:, None]).astype("timedelta64[ns]").astype(np.int64) / 3.6e12
-    vn, ve = _velocities(index, course_deg, speed_kn, set_deg, drift_kn, n_rows)
+    index = np.where(present, index, last_row[:, None])
+    fix_time = fix_time_given[work]
+    fix_time = np.where(np.isnat(fix_time), s.utc[last_row], fix_time)
+    hours = (s.utc[index] - fix_time[:, None]).astype("timedelta64[ns]").astype(np.int64) / 3.6e12
+    vn, ve, run_from = _run_velocities(s, index, present, hours)
     track = Track(hours, vn, ve)
-    g_gha, g_dec, g_ho = gha[index], dec[index], ho[index]
-    dr_lat = np.broadcast_to(np.asarray(dr_lat_deg, dtype=float), (n_rows,))
-    dr_lon = np.broadcast_to(np.asarray(dr_lon_deg, dtype=float), (n_rows,))
+    g_gha, g_dec, g_ho = s.gha[index], s.dec[index], s.ho[index]
     # the DR at the fix time: the last sight's DR carried on along the track to the fix time
-    lat0, lon0 = _carry(track, last, dr_lat[last_row], dr_lon[last_row])
+    lat0, lon0 = _carry(track, last, s.dr_lat[last_row], s.dr_lon[last_row])
     n_used = use.sum(axis=1)
+    # a running fix carried along rhumb lines through (or next to) a pole is refused
+    run_nm = np.where(present, track.run_distance_nm(), 0.0).max(axis=1)
+    polar = (run_nm > 0) & (np.abs(lat0) + run_nm / ARCMIN_PER_DEG > 90.0 - POLAR_RUN_LIMIT_DEG)
 
     # --- what each group is: a fix, a fix with its motion, or a line -----------------------------
     _, zn0 = computed_altitude_azimuth(lat0[:, None], lon0[:, None], g_gha, g_dec)
     spread0 = azimuth_spread_many(zn0, use)
     motion = np.zeros(work.size, dtype=bool)
     motion_problem = np.full(work.size, "", dtype=object)
-    if solve_motion:
+    if s.solve_motion:
         span_h = np.where(use, hours, -np.inf).max(axis=1) - np.where(use, hours, np.inf).min(axis=1)
         motion_problem = np.where(
             n_used < 5, [f"{n} sights (at least 5 are needed for position, course, speed and a check)"
                          for n in n_used],
-            np.where(span_h < 1.0, [f"the sights span {s * 60:.0f} minutes (at least an hour is needed)"
-                                    for s in span_h],
+            np.where(span_h < 1.0, [f"the sights span {s_ * 60:.0f} minutes (at least an hour is needed)"
+                                    for s_ in span_h],
                      np.where(spread0 < WEAK_CROSSING_DEG, "the azimuths are too alike", ""))).astype(object)
-        motion = motion_problem == ""
-    line = (spread0 < LINE_ONLY_DEG) & ~motion
+        motion = (motion_problem == "") & ~polar
+    line = (spread0 < LINE_ONLY_DEG) & ~motion & ~polar
     parts = {}
-    for k, chosen in ((2, ~line & ~motion), (4, motion)):
+    for k, chosen in ((2, ~line & ~motion & ~polar), (4, motion)):
         if chosen.any():
             rows = np.flatnonzero(chosen)
             velocity0 = (np.where(use[rows], vn[rows], 0.0).sum(1) / n_used[rows],
                          np.where(use[rows], ve[rows], 0.0).sum(1) / n_used[rows])
-            parts[k] = (rows, _solve_part(k, rows, g_gha, g_dec, g_ho, use, track, lat0, lon0, velocity0,
-                                          dr_error_kn, dr_error_fraction))
+            parts[k] = (rows, _solve_part(k, rows, g_gha, g_dec, g_ho, use, present, track, lat0, lon0, velocity0,
+                                          s.dr_error_kn, s.dr_error_fraction))
     if line.any():
         rows = np.flatnonzero(line)
-        parts["line"] = (rows, _line_part(rows, g_gha, g_dec, g_ho, use, track, lat0, lon0, spread0,
-                                          dr_error_kn, dr_error_fraction))
+        parts["line"] = (rows, _line_part(rows, g_gha, g_dec, g_ho, use, present, track, lat0, lon0, spread0,
+                                          s.dr_error_kn, s.dr_error_fraction))
 
     # --- each line of position for the plotting sheet, from the DR carried to its sight ---------
     sight_lat, sight_lon = track.positions(lat0, lon0)
@@ -605,22 +917,35 @@ def fixes_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike,
     # each group's arrays are slices (views) of one array
     residual = np.full((work.size, width), np.nan)
     outlier = np.zeros((work.size, width), dtype=bool)
+    gross = np.zeros((work.size, width), dtype=bool)
     for rows, part in parts.values():
-        residual[rows], outlier[rows] = part.residual_arcmin, part.outlier
-    sights = index[use]
+        residual[rows], outlier[rows], gross[rows] = part.residual_arcmin, part.outlier, part.gross
+    sight_index = index[present]
 
     def in_group_order(values, fill=np.nan, dtype=float):
         out = np.full(n_rows, fill, dtype=dtype)
-        out[sights] = values[use]
+        out[sight_index] = values[present]
         return out[by_group]
 
     columns = {name: in_group_order(values) for name, values in (
         ("residual_arcmin", residual), ("lop_intercept_nm", intercept), ("lop_zn_deg", zn),
         ("lop_foot_lat_deg", foot_lat), ("lop_foot_lon_deg", foot_lon), ("lop_tangent_deg", tangent))}
-    columns["outlier"] = in_group_order(outlier, False, bool)
+    shown_out = present & ~use
+    columns["outlier"] = in_group_order(outlier | shown_out, False, bool)
     columns["used"] = in_group_order(use, False, bool)
+    columns["left_out"] = in_group_order(shown_out, False, bool)
+    columns["gross"] = in_group_order(gross, False, bool)
     bounds = np.concatenate([[0], np.cumsum(sizes)]).tolist()
     lat0_list, lon0_list, work_list = lat0.tolist(), lon0.tolist(), work.tolist()
+    span_min = ((np.where(use, hours, -np.inf).max(axis=1) - np.where(use, hours, np.inf).min(axis=1)) * 60).tolist()
+    age_h = _dr_age_at_fix(s, last_row, fix_time)
+    speed_kn = np.hypot(vn[np.arange(work.size), last], ve[np.arange(work.size), last])
+    for wi in np.flatnonzero(polar).tolist():
+        problems[work_list[wi]] = (
+            f"a running fix this near the pole ({format_angle(lat0_list[wi], 'lat')}, the run {run_nm[wi]:.0f} nm) "
+            "is not carried along rhumb lines, which are not defined through the pole (courses there are "
+            "steered on a grid): fix from sights taken together, or give a DR for each sight and no course")
+    done: list[tuple[int, FixResult]] = []
     for key, (rows, part) in parts.items():
         for j, wi in enumerate(rows.tolist()):
             g = work_list[wi]
@@ -628,7 +953,7 @@ def fixes_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike,
             if result is None:
                 problems[g] = PARALLEL_LINES
                 continue
-            if key != "line" and solve_motion and motion_problem[wi]:
+            if key != "line" and s.solve_motion and motion_problem[wi]:
                 result.warnings.insert(0, f"course and speed made good cannot be solved: {motion_problem[wi]}; "
                                           "the known run is used")
             a, b = bounds[g], bounds[g + 1]
@@ -636,53 +961,78 @@ def fixes_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike,
                 setattr(result, name, values[a:b])
             result.utc = fix_time[wi]
             result.dr_lat_deg, result.dr_lon_deg = lat0_list[wi], lon0_list[wi]
+            result.run_from = run_from[wi] if key != 4 else "solved (course and speed made good)"
             if result.kind == LATITUDE and n_used[wi] >= 3:
                 used_here = use[wi]
                 _noon_curve(result, hours[wi][used_here], g_ho[wi][used_here], g_dec[wi][used_here])
             results[g] = result
+            done.append((wi, result))
+    if done:
+        chosen = np.array([wi for wi, _ in done])
+        _sense_checks([r for _, r in done], [run_from[wi] for wi in chosen.tolist()], np.asarray(span_min)[chosen],
+                      age_h[chosen], speed_kn[chosen], np.isfinite(s.dr_age_h[last_row[chosen]]))
+    return results, problems
 
-    # --- the check fix without the blunders, all such groups in one more batch ------------------
-    if refit:
-        flagged = outlier.sum(axis=1)
-        again = [g for g, w_ in zip(work_list, range(work.size)) if flagged[w_] and results[g] is not None
-                 and n_used[w_] - flagged[w_] >= 2]
-        if again:
-            keep = ok.copy()
-            keep[index[outlier]] = False
-            chosen = np.isin(group, again)
-            renumber = np.full(n_groups, -1, dtype=np.intp)
-            renumber[again] = np.arange(len(again))
-            sub = fixes_from_sights(
-                gha, dec, ho, all_utc, dr_lat, dr_lon, np.where(chosen, renumber[group], -1), usable=keep,
-                course_deg=course_deg, speed_kn=speed_kn, at_utc=np.array([results[g].utc for g in again]),
-                solve_motion=solve_motion, set_deg=set_deg, drift_kn=drift_kn, labels=names,
-                dr_error_kn=dr_error_kn, dr_error_fraction=dr_error_fraction, refit=False)
-            solved = [j for j, check in enumerate(sub.results) if check is not None]
-            first = [results[again[j]] for j in solved]
-            second = [sub.results[j] for j in solved]
-            moved, _ = distance_bearing(np.array([r.lat_deg for r in first]), np.array([r.lon_deg for r in first]),
-                                        np.array([c.lat_deg for c in second]), np.array([c.lon_deg for c in second]))
-            for j, result, check, miles in zip(solved, first, second, np.atleast_1d(moved).tolist()):
-                count = int(result.outlier.sum())
-                g = again[j]
-                labels_ = names[by_group[bounds[g]:bounds[g + 1]][result.outlier]]
-                result.warnings.append(
-                    f"sight{'s' if count > 1 else ''} {', '.join(labels_)} "
-                    f"look{'' if count > 1 else 's'} like {'blunders' if count > 1 else 'a blunder'}; without "
-                    f"{'them' if count > 1 else 'it'} the {result.kind} moves {miles:.1f} nm "
-                    "(see without_outliers)")
-                result.without_outliers = check
 
-    # --- the chart or GNSS cross-check ------------------------------------------------------------
-    if chart_lat is not None and chart_lon is not None:
-        c_lat = np.broadcast_to(np.asarray(chart_lat, dtype=float), (n_groups,))
-        c_lon = np.broadcast_to(np.asarray(chart_lon, dtype=float), (n_groups,))
-        for g in work:
-            if results[g] is not None and np.isfinite(c_lat[g]) and np.isfinite(c_lon[g]):
-                check = results[g].cross_check(c_lat[g], c_lon[g])
-                results[g].chart_distance_nm, results[g].chart_bearing_deg = check.distance_nm, check.bearing_deg
-                results[g].chart_inside_ellipse = check.inside_ellipse
-    return GroupFixes(results, problems)
+def _dr_age_at_fix(s: _Sights, last_row: np.ndarray, fix_time: np.ndarray) -> np.ndarray:
+    """The age (hours) of each group's DR at the fix time: its last sight's DR's age and the time since (a
+    DR of unknown age is taken as UNKNOWN_DR_AGE_H old)."""
+    since = np.abs((fix_time - s.utc[last_row]).astype("timedelta64[ns]").astype(np.int64) / 3.6e12)
+    age = s.dr_age_h[last_row]
+    return np.where(np.isfinite(age), np.abs(age) + since, UNKNOWN_DR_AGE_H)
+
+
+def _sense_checks(results: list[FixResult], run_from: list[str], span_min: np.ndarray, age_h: np.ndarray,
+                  speed_kn: np.ndarray, age_known: np.ndarray) -> None:
+    """The fix-level warnings that look past the arithmetic, for a batch of results at once: a ship taken
+    as stopped, a fix far from its DR, a scatter no sextant gives."""
+    lat = np.array([r.lat_deg for r in results])
+    lon = np.array([r.lon_deg for r in results])
+    distance = distance_bearing(np.array([r.dr_lat_deg for r in results]), np.array([r.dr_lon_deg for r in results]),
+                                lat, lon)[0]
+    is_fix = np.array([r.is_fix for r in results])
+    offset = np.array([abs(r.line_offset_nm) if r.line_offset_nm is not None else np.nan for r in results])
+    distance = np.where(is_fix, distance, offset)
+    size = np.array([r.ellipse_semi_major_nm if r.is_fix else r.ellipse_semi_minor_nm for r in results])
+    dr_sigma = DR_ERROR_KN * age_h + DR_ERROR_FRACTION * speed_kn * age_h
+    # the fix's own uncertainty widens the allowance, but no more than the DR's does: a fix as uncertain as
+    # that has its own warning
+    allowed = (DR_DISAGREEMENT_SIGMAS * dr_sigma
+               + np.minimum(np.where(np.isfinite(size), size, 0.0), DR_DISAGREEMENT_SIGMAS * dr_sigma) + 1.0)
+    dof = np.array([r.redundant for r in results])
+    sigma = np.array([r.sigma_arcmin for r in results])
+    limit = np.full(dof.size, np.inf)
+    if (dof >= 1).any():
+        limit[dof >= 1] = SEXTANT_SIGMA_LIMIT_ARCMIN * np.sqrt(chi_square_quantile(SCATTER_CONFIDENCE, dof[dof >= 1])
+                                                               / dof[dof >= 1])
+    wild = is_fix & (sigma > limit)
+    far = distance > allowed
+    stopped = (np.array(run_from) == "none") & (span_min > STOPPED_SPAN_MIN)
+    for j, result in enumerate(results):
+        result.dr_distance_nm = float(distance[j])
+        result.scatter_impossible = bool(wild[j])
+    for j in np.flatnonzero(stopped).tolist():
+        results[j].warnings.append(
+            f"the sights span {span_min[j]:.0f} minutes but the log gives no course or speed and one DR for them "
+            "all: the ship is taken as stopped; if she was under way, give the course and speed (or each "
+            "sight's own DR) and fix again")
+    for j in np.flatnonzero(far).tolist():
+        result = results[j]
+        age = (f"a DR {age_h[j]:.1f} h old" if age_known[j] else
+               f"a DR of unknown age, taken as {UNKNOWN_DR_AGE_H:.0f} h old")
+        result.warnings.append(
+            f"the {result.kind} is {distance[j]:.0f} nm from the DR, far more than the DR could be out (about "
+            f"{allowed[j]:.0f} nm for {age} at {speed_kn[j]:.1f} kn): check the time (the zone description and "
+            "its sign, the date, the watch error), the DR and the body names before using either")
+    for j in np.flatnonzero(wild).tolist():
+        result = results[j]
+        result.warnings.append(
+            f"the sights scatter by σ {result.sigma_arcmin:.1f}′ about the {result.kind}, beyond any hand-held "
+            f"sextant (a good sight is within about 1′, {SEXTANT_SIGMA_LIMIT_ARCMIN:.0f}′ in a seaway): most "
+            "likely the altitudes are written wrongly (degrees and minutes written as a decimal, 29.216 for "
+            "29° 21.6′), or a time or a body's name is wrong"
+            + ("; or the run between the sights (course, speed, current)" if run_from[j] not in ("none", "")
+               else ""))
 
 
 PARALLEL_LINES = "the lines of position are parallel (all azimuths alike or opposite): no fix"
@@ -692,9 +1042,10 @@ def fix_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, u
                     dr_lat_deg: ArrayLike, dr_lon_deg: ArrayLike, *, usable: ArrayLike | None = None,
                     course_deg: ArrayLike | None = None, speed_kn: ArrayLike | None = None,
                     at_utc: object | None = None, chart_lat: float | None = None, chart_lon: float | None = None,
-                    solve_motion: bool = False, set_deg: float | None = None, drift_kn: float | None = None,
-                    labels: ArrayLike | None = None, dr_error_kn: float = DR_ERROR_KN,
-                    dr_error_fraction: float = DR_ERROR_FRACTION) -> FixResult:
+                    solve_motion: bool = False, set_deg: ArrayLike | None = None,
+                    drift_kn: ArrayLike | None = None, labels: ArrayLike | None = None,
+                    dr_error_kn: float = DR_ERROR_KN, dr_error_fraction: float = DR_ERROR_FRACTION,
+                    dr_age_hours: ArrayLike | None = None) -> FixResult:
     """The least-squares fix from reduced sights, one element per sight (1-D arrays).
 
     ``gha_deg``, ``dec_deg`` and ``ho_deg`` of each sight, its ``utc`` (datetime64, taken as
@@ -702,8 +1053,12 @@ def fix_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, u
     finite values) picks the sights to fix from, the others get NaN residuals. Sights at
     different times make a running fix at ``at_utc`` (default: the last sight's time), along
     the DR track of ``course_deg`` and ``speed_kn`` (per sight: in force from each sight until
-    the next; NaN as 0), plus a current ``set_deg``/``drift_kn``; the run's own error,
-    ``dr_error_kn`` per hour and ``dr_error_fraction`` of the miles run, enters the ellipse.
+    the next; NaN as 0), plus a current ``set_deg``/``drift_kn`` (one, or per sight: in force
+    after it); with no course and no speed for any sight, the run between the sights is taken
+    from their own DRs where they differ (else the ship is taken as stopped, and a fix spanning
+    more than :data:`STOPPED_SPAN_MIN` minutes says so). The run's own error, ``dr_error_kn`` per
+    hour and ``dr_error_fraction`` of the miles run, enters the ellipse. ``dr_age_hours``: how old
+    each sight's DR is, for the check of the fix against it (default: not known, taken as a day).
     With ``solve_motion`` the course and speed made good are solved as well when the sights
     support it. A chart or GNSS position (``chart_lat``/``chart_lon``) is cross-checked.
     ``labels`` name the sights in messages (default: 1, 2, ...). One group of
@@ -715,7 +1070,7 @@ def fix_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, u
         course_deg=course_deg, speed_kn=speed_kn, at_utc=at_utc,
         chart_lat=np.nan if chart_lat is None else chart_lat, chart_lon=np.nan if chart_lon is None else chart_lon,
         solve_motion=solve_motion, set_deg=set_deg, drift_kn=drift_kn, labels=labels, dr_error_kn=dr_error_kn,
-        dr_error_fraction=dr_error_fraction)
+        dr_error_fraction=dr_error_fraction, dr_age_hours=dr_age_hours)
     if batch.results[0] is None:
         raise NavredError(batch.problems[0])
     return batch.results[0]
@@ -754,18 +1109,55 @@ def _carry(track: Track, sight: np.ndarray, lat: np.ndarray, lon: np.ndarray) ->
     return np.asarray(fix_lat, dtype=float), np.asarray(fix_lon, dtype=float)
 
 
-def _velocities(index, course_deg, speed_kn, set_deg, drift_kn, n_rows):
-    """Velocity over the ground (north, east knots) in force after each sight (NaN course or speed as 0)."""
-    def per_sight(values):
-        if values is None:
-            return np.zeros(index.shape)
-        return np.nan_to_num(np.broadcast_to(np.asarray(values, dtype=float), (n_rows,))[index])
+def _run_velocities(s: _Sights, index: np.ndarray, present: np.ndarray, hours: np.ndarray):
+    """Velocity over the ground (north, east knots) in force after each sight of the padded layout (the
+    course and speed through the water and the current in force, or, where a group gives no course or
+    speed, the run between its rows' own DRs), and how each group's run was found."""
+    course, speed = s.course[index], s.speed[index]
+    given = (np.isfinite(course) | np.isfinite(speed)) & present
+    vn, ve = velocity_kn(np.nan_to_num(course), np.nan_to_num(speed))
+    cn, ce = velocity_kn(s.set_deg[index], s.drift_kn[index])
+    vn, ve = vn + cn, ve + ce
+    moving = given.any(axis=1)
+    with_current = ((s.drift_kn[index] != 0) & present).any(axis=1)
+    apart = np.zeros(len(index), dtype=bool)
+    if not moving.all():
+        lat, lon = s.dr_lat[index], s.dr_lon[index]
+        miles, _ = distance_bearing(lat[:, :1], lon[:, :1], lat, lon)
+        with np.errstate(invalid="ignore"):
+            apart = (np.where(present, miles, 0.0) > CONVERGED_NM).any(axis=1) & ~moving
+        if apart.any():
+            rows = np.flatnonzero(apart)
+            vn[rows], ve[rows] = _dr_run(lat[rows], lon[rows], hours[rows], present[rows])
+    run_from = np.where(apart, "the rows' own DRs",
+                        np.where(moving, np.where(with_current, "course, speed and current", "course and speed"),
+                                 np.where(with_current, "current", "none")))
+    return vn, ve, run_from.tolist()
 
-    vn, ve = velocity_kn(per_sight(course_deg), per_sight(speed_kn))
-    if set_deg is not None and drift_kn is not None:
-        cn, ce = velocity_kn(set_deg, drift_kn)
-        vn, ve = vn + cn, ve + ce
-    return vn, ve
+
+def _dr_run(lat: np.ndarray, lon: np.ndarray, hours: np.ndarray, present: np.ndarray):
+    """The velocity after each sight (north, east knots) that carries the ship from its DR to the next
+    sight's DR along the rhumb line, sights in time order; the last keeps the leg before it."""
+    width = hours.shape[1]
+    order = np.argsort(np.where(present, hours, np.inf), axis=1, kind="stable")
+    t, la, lo = (np.take_along_axis(v, order, axis=1) for v in (hours, lat, lon))
+    count = present.sum(axis=1)
+    miles, course = rhumb_inverse(la[:, :-1], lo[:, :-1], la[:, 1:], lo[:, 1:])
+    dt = np.diff(t, axis=1)
+    valid = (np.arange(width - 1)[None, :] < (count - 1)[:, None]) & (dt > 0) & np.isfinite(miles)
+    speed = np.where(valid, np.nan_to_num(miles) / np.where(valid, dt, 1.0), 0.0)
+    north, east = velocity_kn(np.where(valid, course, 0.0), speed)
+    out = []
+    rows = np.arange(len(order))
+    last = np.maximum(count - 1, 0)
+    for leg in (north, east):
+        full = np.concatenate([leg, np.zeros((len(order), 1))], axis=1)
+        full[rows, last] = np.where(count >= 2, full[rows, np.maximum(last - 1, 0)], 0.0)
+        full = np.where(np.arange(width)[None, :] > last[:, None], full[rows, last][:, None], full)
+        back = np.empty_like(full)
+        np.put_along_axis(back, order, full, axis=1)
+        out.append(back)
+    return out[0], out[1]
 
 
 def run_error_covariance(zn_deg: ArrayLike, dt_hours: ArrayLike, run_nm: ArrayLike, dr_error_kn: float = DR_ERROR_KN,
@@ -784,37 +1176,182 @@ def run_error_covariance(zn_deg: ArrayLike, dt_hours: ArrayLike, run_nm: ArrayLi
 
 @dataclass(frozen=True)
 class _Part:
-    """The groups of a batch solved one way: their residuals and blunder flags (groups, sights),
-    and the FixResult of group j (its per-sight arrays are filled in by the caller)."""
+    """The groups of a batch solved one way: their residuals, blunder flags and gross errors (groups,
+    sights), and the FixResult of group j (its per-sight arrays are filled in by the caller)."""
 
     residual_arcmin: np.ndarray
     outlier: np.ndarray
+    gross: np.ndarray
     result: Callable[[int], FixResult | None]
 
 
-def _sigma_choice(dof, leftover):
-    """σ per group: estimated from the residuals, held at the floor, or assumed (no redundancy);
-    with the quantile that scales the ellipse and the text that says where σ came from."""
-    with np.errstate(invalid="ignore", divide="ignore"):
-        sigma_hat = np.sqrt(np.maximum(leftover, 0.0) / np.maximum(dof, 1))
-    estimated = (dof >= 1) & (sigma_hat >= SIGMA_FLOOR_ARCMIN)
-    sigma = np.where(dof >= 1, np.where(estimated, sigma_hat, SIGMA_FLOOR_ARCMIN), A_PRIORI_SIGMA_ARCMIN)
-    return sigma_hat, estimated, sigma
-
-
 def _plural(count: int) -> str:
-    return "s" if count > 1 else ""
+    return "s" if count != 1 else ""
 
 
-def _solve_part(k, rows, gha, dec, ho, use, track, lat0, lon0, velocity0, dr_error_kn, dr_error_fraction):
+def sight_variance(residual: np.ndarray, projector: np.ndarray, run_cov: np.ndarray, dof: np.ndarray
+                   ) -> tuple[np.ndarray, np.ndarray]:
+    """The sights' variance σ̂² (arcmin²) of each group of a batch, and its Fisher information, when the
+    residuals also carry the DR's known error over the run.
+
+    The residuals r = M e (M the residual projector, rank ν) of errors e with covariance σ²I + C: in the
+    eigenvectors of M C M within the residual space, the components z_j are independent with variances
+    σ² + λ_j. σ̂² maximises their (restricted) likelihood, Σ (z_j² − (σ² + λ_j))/(σ² + λ_j)² = 0, σ² ≥ 0
+    (H. D. Patterson and R. Thompson, "Recovery of inter-block information when block sizes are unequal",
+    Biometrika 58(3), 1971; from memory): a component the run's error swamps says little of σ and weighs
+    little. With no run (C = 0) it is Σr²/ν exactly. The information Σ 1/(2(σ̂² + λ_j)²) gives its variance.
+    Arrays (groups, sights), (groups, sights, sights).
+    """
+    r = np.nan_to_num(residual)
+    nu = np.maximum(np.asarray(dof, dtype=float), 0.0)
+    plain = ~run_cov.any(axis=(1, 2))
+    sigma2 = np.where(nu > 0, np.sum(r**2, axis=1) / np.maximum(nu, 1.0), 0.0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        information = np.where(sigma2 > 0, nu / (2.0 * sigma2**2), np.inf)
+    large = np.sum(np.any(run_cov != 0, axis=2), axis=1) > MAX_SIGHTS_SEARCHED
+    if large.any():  # the moment estimate, E[r'r] = σ²ν + tr MC, and its information as if C were nil
+        trace_mc = np.einsum("fij,fji->f", projector[large], run_cov[large])
+        sigma2[large] = np.maximum(np.sum(r[large] ** 2, axis=1) - trace_mc, 0.0) / np.maximum(nu[large], 1.0)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            information[large] = np.where(sigma2[large] > 0, nu[large] / (2.0 * sigma2[large] ** 2), np.inf)
+    rows = np.flatnonzero(~plain & (nu > 0) & ~large)
+    if rows.size:
+        m, c = projector[rows], run_cov[rows]
+        outside = np.trace(c, axis1=1, axis2=2)[:, None, None] * 1e6 + 1.0  # the directions M removes, set apart
+        lam, vec = np.linalg.eigh(m @ c @ m + outside * (np.eye(m.shape[1])[None] - m))
+        inside = lam < outside[:, :, 0] / 2.0
+        lam = np.where(inside, np.maximum(lam, 0.0), 0.0)
+        z2 = np.where(inside, np.einsum("fsj,fs->fj", vec, r[rows]) ** 2, 0.0)
+
+        def slope(v):  # the likelihood's slope at σ² = v (decreasing in v)
+            with np.errstate(divide="ignore", invalid="ignore"):
+                terms = (z2 - (v[:, None] + lam)) / (v[:, None] + lam) ** 2
+            return np.where(inside, np.nan_to_num(terms, nan=0.0, posinf=1e300), 0.0).sum(axis=1)
+
+        lo = np.zeros(rows.size)
+        hi = np.max(z2, axis=1) + 1e-12
+        found = np.zeros(rows.size)
+        positive = slope(np.full(rows.size, 1e-300)) > 0
+        for _ in range(80):
+            mid = (lo + hi) / 2.0
+            up = slope(mid) > 0
+            lo, hi = np.where(up, mid, lo), np.where(up, hi, mid)
+        found = np.where(positive, (lo + hi) / 2.0, 0.0)
+        sigma2[rows] = found
+        with np.errstate(divide="ignore", invalid="ignore"):
+            information[rows] = np.where(inside, 0.5 / (found[:, None] + lam) ** 2, 0.0).sum(axis=1)
+    return sigma2, information
+
+
+def effective_dof(dof: ArrayLike, sigma2: ArrayLike, trace_p: ArrayLike, trace_k: ArrayLike,
+                  information: ArrayLike) -> np.ndarray:
+    """The degrees of freedom of a position variance σ̂²·P + K whose sight part is estimated (with the
+    given Fisher information of σ̂²) and whose DR part K is known: Satterthwaite's approximation,
+    ν_eff = 2 V² / Var V̂ with V = σ̂² tr P + tr K and Var V̂ = tr(P)² / information (F. E. Satterthwaite,
+    "An approximate distribution of estimates of variance components", Biometrics Bulletin 2(6), 1946;
+    from memory). With no DR error this is ν exactly, and the ellipse is the exact F(2, ν) one.
+    """
+    nu = np.asarray(dof, dtype=float)
+    s2 = np.asarray(sigma2, dtype=float)
+    trace_p = np.asarray(trace_p, dtype=float)
+    trace_k = np.asarray(trace_k, dtype=float)
+    information = np.asarray(information, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        out = 2.0 * (s2 * trace_p + trace_k) ** 2 * information / trace_p**2
+    plain = trace_k <= 0
+    return np.where(plain, nu, np.where(np.isfinite(out), np.maximum(out, 1.0), np.inf))
+
+
+def _blunder_test(residual, leverage, use, dof, sigma):
+    """The blunder test of every sight of a batch of groups (groups, sights): flags, gross errors, and the
+    smallest blunder the test finds about half the time (per group).
+
+    Each sight's externally studentized residual t_i = r_i / (s_(i) √(1 − h_ii)), with s_(i) the scatter of
+    the others (so that a blunder cannot hide by inflating it) and h_ii its leverage, is Student's t with
+    ν − 1 degrees of freedom when the sights have Gaussian errors (D. A. Belsley, E. Kuh and R. E. Welsch,
+    Regression Diagnostics, 1980; from memory). The largest of the n is judged against t(ν − 1) at
+    1 − α/(2n), two-sided (Bonferroni's correction): a clean fix has a sight flagged in at most α of
+    fixes, whatever n. A sight is flagged only if its line also lies BLUNDER_MIN_ARCMIN from the fix of
+    the others (r_i / (1 − h_ii)), and is gross beyond doubt beyond GROSS_ARCMIN. Three sights for two
+    unknowns (ν = 1) cannot single one out: their residuals are one misfit seen from each.
+    """
+    r = np.where(use, residual, 0.0)
+    miss = np.clip(1.0 - leverage, 1e-12, 1.0)
+    n = use.sum(axis=1)
+    total = np.sum(r**2, axis=1, keepdims=True)
+    testable = dof >= 2
+    with np.errstate(invalid="ignore", divide="ignore"):
+        deleted = np.maximum((total - r**2 / miss) / (dof[:, None] - 1.0), 0.0)
+        t = np.abs(r) / (np.sqrt(deleted) * np.sqrt(miss))
+    t = np.where(np.abs(r) > 0, np.nan_to_num(t, nan=np.inf, posinf=np.inf), 0.0)
+    critical = np.where(testable, student_t_quantile(1.0 - BLUNDER_ALPHA / (2.0 * np.maximum(n, 1)),
+                                                     np.where(testable, dof - 1.0, 1.0)), np.inf)
+    off = np.abs(r) / miss  # the line's distance from the fix of the others
+    outlier = use & testable[:, None] & (t > critical[:, None]) & (off > BLUNDER_MIN_ARCMIN)
+    gross = outlier & (off > GROSS_ARCMIN)
+    detectable = np.full(len(r), np.nan)
+    if testable.any():
+        per_sight = critical[testable, None] * np.asarray(sigma)[testable, None] / np.sqrt(miss[testable])
+        detectable[testable] = np.nanmedian(np.where(use[testable], per_sight, np.nan), axis=1)
+    return outlier, gross, np.maximum(detectable, BLUNDER_MIN_ARCMIN)
+
+
+@functools.lru_cache(maxsize=256)
+def _scale_ratio(d: int) -> tuple[float, float]:
+    """The ellipse's scale with ν redundant sights and with one more, each over the known-σ scale."""
+    known = float(np.sqrt(chi_square_2_quantile(CONFIDENCE)))
+    return (float(np.sqrt(2.0 * f_2_quantile(CONFIDENCE, d))) / known,
+            float(np.sqrt(2.0 * f_2_quantile(CONFIDENCE, d + 1))) / known)
+
+
+def _blunder_note(n: int, d: int, detectable: float, k: int) -> str:
+    """What the blunder test can do with these sights, in words."""
+    if d <= 0:
+        return f"{n} sights for {k} unknowns: no check on a blunder at all"
+    if d == 1:
+        return (f"{n} sights for {k} unknowns cannot single out a bad sight: each residual is the same misfit "
+                "seen from one sight; take another sight to check them")
+    return (f"{n} sights can find a blunder of about {detectable:.0f}′ or more (about half the time at that size, "
+            f"from the sights' own scatter)")
+
+
+def _ellipse_note(n: int, k: int, d: int) -> str:
+    """What the ellipse's size means with few redundant sights, in words a navigator reads."""
+    if d <= 0:
+        return (f"{n} sights for {k} unknowns leave none to judge the sights by: the ellipse rests on an assumed "
+                f"{A_PRIORI_SIGMA_ARCMIN}′ per sight")
+    if d > 3:
+        return ""
+    ratio, next_ratio = _scale_ratio(d)
+    return (f"{n} sights for {k} unknowns leave {d} redundant sight{_plural(d)} to judge the sights' error by, so "
+            f"that error is known only roughly and the ellipse allows for it being larger than it looks: the "
+            f"sights' share of it is {ratio:.1f} times the size a known error would give; one more sight would "
+            f"make that {next_ratio:.1f} times")
+
+
+def _quantile_name(nu: float, d: int) -> str:
+    if not np.isfinite(nu) or nu > 1000.0:  # F(2, ν) is then chi-square(2)/2 to 0.3 %
+        return "chi-square(2)"
+    return f"F(2, {d})" if abs(nu - d) < 0.05 else f"F(2, {nu:.1f})"
+
+
+def _solve_part(k, rows, gha, dec, ho, use, present, track, lat0, lon0, velocity0, dr_error_kn, dr_error_fraction):
     """Fix the groups ``rows`` with k unknowns (2: position; 4: position, course and speed made
-    good) in one solve; returns a function giving group j's FixResult (per-sight arrays padded)."""
+    good) in one solve; returns a function giving group j's FixResult (per-sight arrays padded).
+
+    σ is estimated from the residuals with no floor (Σr²/ν; with a run, the restricted likelihood that
+    weighs out the DR error's share, :func:`sight_variance`); the position's covariance is
+    A(σ²I + C)Aᵀ and the 95 % ellipse is scaled by √(2 F(2, ν)), exact for Gaussian sight errors when
+    there is no run, ν an effective number (:func:`effective_dof`) when the DR's error over the run is
+    part of it.
+    """
     motion = k == 4
     u = use[rows]
     sub_track = track.take(rows)
     core = solve_fixes(gha[rows], dec[rows], ho[rows], lat0[rows], lon0[rows], dt_hours=sub_track.dt_hours,
                        velocity_north_kn=sub_track.north_kn, velocity_east_kn=sub_track.east_kn, mask=u,
-                       solve_motion=motion, velocity0_kn=velocity0, mark_singular=True, track=sub_track)
+                       report=present[rows], solve_motion=motion, velocity0_kn=velocity0, mark_singular=True,
+                       track=sub_track)
     n = u.sum(axis=1)
     dof = n - k
     residual = np.where(u, core.residual_arcmin, 0.0)
@@ -823,33 +1360,35 @@ def _solve_part(k, rows, gha, dec, ho, use, track, lat0, lon0, velocity0, dr_err
     if motion:  # no known run: the motion itself was solved
         run_cov = np.zeros((rows.size, width, width))
     else:
-        spread_s = np.where(u, 1.0, 0.0)
         run_cov = run_error_covariance(np.where(u, core.zn_deg, 0.0), sub_track.dt_hours,
                                        sub_track.run_distance_nm(), dr_error_kn, dr_error_fraction)
-        run_cov = run_cov * spread_s[:, :, None] * spread_s[:, None, :]
+        run_cov = run_cov * u[:, :, None] * u[:, None, :]
     gain = unit @ np.swapaxes(jac, 1, 2)  # x = gain @ residual: the least-squares estimator
-    hat = jac @ gain
-    # the sight error, once the part of the residuals the run's error accounts for is taken out
-    # (an unbiased estimate: E[r'(I − H)r] = σ²·dof + trace((I − H)·C_run))
-    leftover = np.sum(residual**2, axis=1) - (np.trace(run_cov, axis1=1, axis2=2)
-                                              - np.einsum("fij,fji->f", hat, run_cov))
-    sigma_hat, estimated, sigma = _sigma_choice(dof, leftover)
-    scale = np.where(estimated, np.sqrt(2.0 * f_2_quantile(CONFIDENCE, np.maximum(dof, 1))),
-                     np.sqrt(chi_square_2_quantile(CONFIDENCE)))
+    projector = np.eye(width)[None] * u[:, :, None] - jac @ gain  # M = I − H on the used sights
+    sigma2, information = sight_variance(residual, projector, run_cov, dof)
+    sigma_hat = np.sqrt(sigma2)
+    sigma = np.where(dof >= 1, sigma_hat, A_PRIORI_SIGMA_ARCMIN)
     identity = np.eye(width)[None] * u[:, :, None]
-    covariance = gain @ (sigma[:, None, None] ** 2 * identity + run_cov) @ np.swapaxes(gain, 1, 2)
+    known = gain @ run_cov @ np.swapaxes(gain, 1, 2)
+    covariance = sigma[:, None, None] ** 2 * (gain @ identity @ np.swapaxes(gain, 1, 2)) + known
     position_cov = covariance[:, :2, :2]
+    nu = effective_dof(dof, sigma2, np.trace(unit[:, :2, :2], axis1=1, axis2=2),
+                       np.trace(known[:, :2, :2], axis1=1, axis2=2), information)
+    nu = np.where(dof >= 1, nu, np.inf)
+    scale = np.sqrt(2.0 * f_2_quantile(CONFIDENCE, nu))
     major, minor, orientation = error_ellipse(position_cov, scale)
     spread = azimuth_spread_many(core.zn_deg, u)
-    outlier = _outliers_many(np.where(u, core.residual_arcmin, 0.0), jac, unit, dof) & u
+    leverage = np.einsum("fsi,fij,fsj->fs", jac, unit, jac)
+    outlier, gross, detectable = _blunder_test(residual, leverage, u, dof, sigma)
     speed_sigma = np.sqrt(np.trace(covariance[:, 2:, 2:], axis1=1, axis2=2)) if motion else np.zeros(rows.size)
 
     # plain Python numbers for the per-group results (a numpy scalar costs more to handle)
     lat, lon = core.lat_deg.tolist(), core.lon_deg.tolist()
-    numbers = [a.tolist() for a in (sigma, sigma_hat, major, minor, orientation, scale, spread, speed_sigma)]
-    sigma_l, sigma_hat_l, major_l, minor_l, orientation_l, scale_l, spread_l, speed_sigma_l = numbers
+    numbers = [a.tolist() for a in (sigma, sigma_hat, major, minor, orientation, scale, spread, speed_sigma,
+                                    nu, detectable)]
+    sigma_l, sigma_hat_l, major_l, minor_l, orientation_l, scale_l, spread_l, speed_sigma_l, nu_l, detect_l = numbers
     dof_l, n_l, steps_l = dof.tolist(), n.tolist(), core.iterations_each.tolist()
-    estimated_l, converged_l, singular_l = estimated.tolist(), core.converged.tolist(), core.singular.tolist()
+    converged_l, singular_l = core.converged.tolist(), core.singular.tolist()
     run_included = run_cov.any(axis=(1, 2)).tolist()
 
     def result(j: int) -> FixResult | None:
@@ -857,14 +1396,12 @@ def _solve_part(k, rows, gha, dec, ho, use, track, lat0, lon0, velocity0, dr_err
             return None
         warnings_: list[str] = []
         d = dof_l[j]
-        if d >= 1 and estimated_l[j]:
-            quantile, source = f"F(2, {d})", f"from the residuals, {d} redundant sight{_plural(d)}"
-        elif d >= 1:
-            quantile = "chi-square(2)"
-            source = (f"held at the floor of {SIGMA_FLOOR_ARCMIN}′ (the residuals give {sigma_hat_l[j]:.2f}′ "
-                      f"from {d} redundant sight{_plural(d)})")
+        if d >= 1:
+            source = f"from the residuals, {d} redundant sight{_plural(d)}"
+            if run_included[j]:
+                source += ", the DR's error over the run taken out"
         else:
-            quantile, source = "chi-square(2)", f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight, no redundancy"
+            source = f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight, no redundancy"
             warnings_.append(f"{n_l[j]} sights and {k} unknowns: no redundancy, so the ellipse rests on an "
                              f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight and there is no check on a blunder")
         if spread_l[j] < WEAK_CROSSING_DEG:
@@ -876,8 +1413,10 @@ def _solve_part(k, rows, gha, dec, ho, use, track, lat0, lon0, velocity0, dr_err
             utc=_NAT, lat_deg=lat[j], lon_deg=lon[j], sigma_arcmin=sigma_l[j], ellipse_semi_major_nm=major_l[j],
             ellipse_semi_minor_nm=minor_l[j], ellipse_orientation_deg=orientation_l[j], residual_arcmin=_EMPTY,
             outlier=_EMPTY, warnings=warnings_, used=_EMPTY, n_sights=n_l[j], covariance_nm2=position_cov[j],
-            confidence_scale=scale_l[j], sigma_source=source, iterations=steps_l[j], quantile=quantile,
-            spread_deg=spread_l[j], dr_error_included=run_included[j])
+            confidence_scale=scale_l[j], sigma_source=source, iterations=steps_l[j],
+            quantile=_quantile_name(nu_l[j], d), spread_deg=spread_l[j], dr_error_included=run_included[j],
+            redundant=d, ellipse_note=_ellipse_note(n_l[j], k, d),
+            blunder_note=_blunder_note(n_l[j], d, detect_l[j], k), detectable_blunder_arcmin=detect_l[j])
         if motion:
             vn, ve = float(core.velocity_north_kn[j]), float(core.velocity_east_kn[j])
             fix.course_made_good_deg = float(wrap_360(np.degrees(np.arctan2(ve, vn))))
@@ -886,75 +1425,85 @@ def _solve_part(k, rows, gha, dec, ho, use, track, lat0, lon0, velocity0, dr_err
                 warnings_.append(f"course and speed made good are poorly determined (±{speed_sigma_l[j]:.1f} kn)")
         return fix
 
-    return _Part(core.residual_arcmin, outlier, result)
+    return _Part(core.residual_arcmin, outlier, gross, result)
 
 
-def _line_part(rows, gha, dec, ho, use, track, lat0, lon0, spread0, dr_error_kn, dr_error_fraction):
+def _line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0, dr_error_kn, dr_error_fraction):
     """Groups whose lines of position (nearly) coincide: one combined line each, worked from the DR.
 
     Each line, advanced to the fix time, lies a_j miles from the DR toward its azimuth Z_j; the
     combined line runs across the mean azimuth Z (the axial mean) and lies p miles from the DR,
-    the least-squares p = Σ a_j c_j / Σ c_j² with c_j = cos(Z_j − Z).
+    the least-squares p = Σ a_j c_j / Σ c_j² with c_j = cos(Z_j − Z). Its 95 % band is Student's t
+    with n − 1 degrees of freedom (an effective number when the DR's error over the run is part of it).
     """
     u = use[rows]
+    shown = present[rows]
     sub_track = track.take(rows)
     sight_lat, sight_lon = sub_track.positions(lat0[rows], lon0[rows])
     hc, zn = computed_altitude_azimuth(sight_lat, sight_lon, gha[rows], dec[rows])
-    intercept = np.where(u, (ho[rows] - hc) * ARCMIN_PER_DEG, 0.0)
+    intercept_all = (ho[rows] - hc) * ARCMIN_PER_DEG
+    intercept = np.where(u, intercept_all, 0.0)
     doubled = np.radians(2.0 * zn)
     toward = np.degrees(np.arctan2(np.where(u, np.sin(doubled), 0.0).sum(1),
                                    np.where(u, np.cos(doubled), 0.0).sum(1))) / 2.0
-    cosines = np.where(u, np.cos(np.radians(zn - toward[:, None])), 0.0)
+    cosines_all = np.cos(np.radians(zn - toward[:, None]))
+    cosines = np.where(u, cosines_all, 0.0)
     flip = np.sum(intercept * cosines, axis=1) < 0  # point the line's azimuth to the side it lies on
     toward = wrap_360(np.where(flip, toward + 180.0, toward))
     cosines = np.where(flip[:, None], -cosines, cosines)
+    cosines_all = np.where(flip[:, None], -cosines_all, cosines_all)
     weight = np.sum(cosines**2, axis=1)
     offset = np.sum(intercept * cosines, axis=1) / weight
-    residual = np.where(u, intercept - offset[:, None] * cosines, np.nan)
+    residual = np.where(shown, intercept_all - offset[:, None] * cosines_all, np.nan)
+    r = np.where(u, residual, 0.0)
     n = u.sum(axis=1)
     dof = n - 1
     run_cov = run_error_covariance(np.where(u, zn, 0.0), sub_track.dt_hours, sub_track.run_distance_nm(),
                                    dr_error_kn, dr_error_fraction)
     run_cov = run_cov * u[:, :, None] * u[:, None, :]
     gain = cosines / weight[:, None]
-    leftover = np.nansum(residual**2, axis=1) - (np.trace(run_cov, axis1=1, axis2=2)
-                                                 - np.einsum("fi,fij,fj->f", gain, run_cov, cosines))
-    sigma_hat, estimated, sigma = _sigma_choice(dof, np.where(dof >= 1, leftover, 0.0))
-    variance = sigma**2 * np.sum(gain**2, axis=1) + np.einsum("fi,fij,fj->f", gain, run_cov, gain)
-    half_width = NORMAL_975 * np.sqrt(variance)
+    projector = np.eye(u.shape[1])[None] * u[:, :, None] - cosines[:, :, None] * gain[:, None, :]
+    sigma2, information = sight_variance(r, projector, run_cov, dof)
+    sigma_hat = np.sqrt(sigma2)
+    sigma = np.where(dof >= 1, sigma_hat, A_PRIORI_SIGMA_ARCMIN)
+    known = np.einsum("fi,fij,fj->f", gain, run_cov, gain)
+    unit = np.sum(gain**2, axis=1)
+    variance = sigma**2 * unit + known
+    nu = np.where(dof >= 1, effective_dof(dof, sigma2, unit, known, information), np.inf)
+    t = np.where(np.isfinite(nu), student_t_quantile(0.975, np.where(np.isfinite(nu), nu, 1.0)),
+                 float(student_t_quantile(0.975, np.inf)))
+    half_width = t * np.sqrt(variance)
     foot_lat, foot_lon = destination(lat0[rows], lon0[rows], toward, offset)
     near_meridian = np.minimum(np.abs(wrap_180(zn)), np.abs(wrap_180(zn - 180.0))) <= MERIDIAN_AZIMUTH_DEG
     meridian = np.all(near_meridian | ~u, axis=1)
     along = np.mod(wrap_360(toward + 90.0), 180.0)
-    limit = np.maximum(OUTLIER_SIGMAS * sigma, OUTLIER_ARCMIN_FEW_SIGHTS)
-    outlier = (np.abs(np.nan_to_num(residual)) > limit[:, None]) & (dof >= 2)[:, None] & u
+    outlier, gross, detectable = _blunder_test(r, cosines * gain, u, dof, sigma)
     run_included = run_cov.any(axis=(1, 2))
 
     def result(j: int) -> FixResult:
         d = int(dof[j])
-        if d >= 1 and estimated[j]:
-            source = f"from the residuals, {d} redundant sight{_plural(d)}"
-        elif d >= 1:
-            source = f"held at the floor of {SIGMA_FLOOR_ARCMIN}′"
-        else:
-            source = f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight"
+        source = (f"from the residuals, {d} redundant sight{_plural(d)}" if d >= 1
+                  else f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight")
         side = "toward" if offset[j] >= 0 else "away from"
         what = "a latitude (the sights are on the meridian)" if meridian[j] else "a line of position"
         message = (f"not a fix: the lines of position cross at {spread0[rows[j]]:.0f}° at most (below "
                    f"{LINE_ONLY_DEG:.0f}°), so the sights give {what}, {abs(offset[j]):.1f} nm {side} "
                    f"{toward[j]:03.0f}° from the DR, good to ±{half_width[j]:.1f} nm (95 %); the position along "
                    "it is the DR's")
+        quantile = "normal" if not np.isfinite(nu[j]) else (f"t({d})" if abs(nu[j] - d) < 0.05 else f"t({nu[j]:.1f})")
         return FixResult(
             utc=np.datetime64("NaT"), lat_deg=float(foot_lat[j]), lon_deg=float(foot_lon[j]),
             sigma_arcmin=float(sigma[j]), ellipse_semi_major_nm=float("inf"),
             ellipse_semi_minor_nm=float(half_width[j]), ellipse_orientation_deg=float(along[j]),
             residual_arcmin=residual[j], outlier=outlier[j], warnings=[message], used=u[j], n_sights=int(n[j]),
-            covariance_nm2=np.array([[variance[j], 0.0], [0.0, np.inf]]), confidence_scale=NORMAL_975,
-            sigma_source=source, iterations=0, quantile="normal", kind=LATITUDE if meridian[j] else LINE,
+            covariance_nm2=np.array([[variance[j], 0.0], [0.0, np.inf]]), confidence_scale=float(t[j]),
+            sigma_source=source, iterations=0, quantile=quantile, kind=LATITUDE if meridian[j] else LINE,
             spread_deg=float(spread0[rows[j]]), line_bearing_deg=float(along[j]), line_offset_nm=float(offset[j]),
-            line_toward_deg=float(toward[j]), dr_error_included=bool(run_included[j]))
+            line_toward_deg=float(toward[j]), dr_error_included=bool(run_included[j]), redundant=d,
+            blunder_note=_blunder_note(int(n[j]), d, float(detectable[j]), 1),
+            detectable_blunder_arcmin=float(detectable[j]))
 
-    return _Part(residual, outlier, result)
+    return _Part(residual, outlier, gross, result)
 
 
 def _noon_curve(result: FixResult, hours, ho, dec) -> None:
@@ -964,23 +1513,6 @@ def _noon_curve(result: FixResult, hours, ho, dec) -> None:
     latitude = latitude_from_noon_curve(hours, ho, np.mean(dec), bearing)
     if latitude is not None:
         result.noon_curve_latitude_deg = latitude
-
-
-def _outliers_many(residual, jacobian, covariance, dof):
-    """Flag blunders: externally studentized residual over 3, or over 5′ with too few sights.
-
-    The leverage of each sight comes from the normal equations, and each sight is judged
-    against the scatter of the others (the deleted residual), so one blunder cannot hide
-    by inflating the standard error. Arrays (groups, sights), padding with zero residuals.
-    """
-    leverage = np.clip(np.einsum("fsi,fij,fsj->fs", jacobian, covariance, jacobian), 0.0, 0.999)
-    total = np.sum(residual**2, axis=1, keepdims=True)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        deleted_var = (total - residual**2 / (1.0 - leverage)) / (dof[:, None] - 1)
-    deleted_sigma = np.sqrt(np.maximum(np.nan_to_num(deleted_var), SIGMA_FLOOR_ARCMIN**2))
-    studentized = residual / (deleted_sigma * np.sqrt(1.0 - leverage))
-    return np.where((dof >= 2)[:, None], np.abs(studentized) > OUTLIER_SIGMAS,
-                    np.abs(residual) > OUTLIER_ARCMIN_FEW_SIGHTS)
 
 
 def latitude_by_meridian_altitude(ho_deg: ArrayLike, dec_deg: ArrayLike, body_bearing: ArrayLike = "S", lower_transit: ArrayLike = False) -> np.ndarray:

@@ -25,7 +25,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .errors import NavredError
-from .fix import f_2_quantile, t_quantile_975
+from .stats import f_2_quantile, student_t_quantile
 
 #: The confidence of the rate-change test, before the correction for the number of splits tried.
 CHANGE_CONFIDENCE = 0.99
@@ -53,7 +53,7 @@ class RateFit:
     @property
     def rate_95_s_per_day(self) -> np.ndarray:
         """The half-width of the rate's 95 % interval (Student's t with n − 2 degrees of freedom)."""
-        return t_quantile_975(self.n - 2) * self.rate_se_s_per_day
+        return student_t_quantile(0.975, self.n - 2) * self.rate_se_s_per_day
 
     def error_s(self, days: ArrayLike) -> np.ndarray:
         """The predicted error (seconds, fast +) at the times (days, on the fit's scale)."""

@@ -3,7 +3,7 @@ NMEA and CSV.
 
 INVENTED DATA. The sail-training brigantine "Grey Shearwater" (she does not exist), her
 watch of three invented cadets and a passage of 8 days from 36° 00′ N 010° 00′ W on 230° at
-7 knots. Each cadet's sights are synthesized with skyfield at the true position (the
+7 knots: star rounds in morning and evening twilight (timed by the Sun at the ship), Sun sights by day. Each cadet's sights are synthesized with skyfield at the true position (the
 reference track) with a personal error and scatter of their own:
 
     Cadet Ansel  +1.5′ personal error, 0.6′ scatter
@@ -44,16 +44,49 @@ def true_position(when: pd.Timestamp):
                          SPEED * hours * np.sin(np.radians(COURSE)))
 
 
+#: The star rounds are taken in twilight: the morning round begins with the Sun 8.5° below the horizon and
+#: ends near 6°, the evening round begins with it 4° below (the sky dark enough for the stars, the sea
+#: horizon still sharp; common practice).
+MORNING_SUN_DEG, EVENING_SUN_DEG = -8.5, -4.0
+
+
+def sun_altitude_deg(ts, eph, when: pd.Timestamp) -> float:
+    """skyfield's altitude of the Sun's centre (no refraction) at the ship's true position."""
+    from skyfield.api import wgs84
+
+    lat, lon = (float(v) for v in true_position(when))
+    t = ts.from_datetime(when.to_pydatetime())
+    return float((eph["earth"] + wgs84.latlon(lat, lon)).at(t).observe(eph["sun"]).apparent().altaz()[0].degrees)
+
+
+def sun_at(ts, eph, start: pd.Timestamp, end: pd.Timestamp, altitude_deg: float) -> pd.Timestamp:
+    """The instant (to the second) between start and end when the Sun, rising or setting monotonically over
+    the window, stands at ``altitude_deg`` at the ship: bisection on skyfield's altitude."""
+    rising = sun_altitude_deg(ts, eph, end) > sun_altitude_deg(ts, eph, start)
+    for _ in range(30):
+        middle = start + (end - start) / 2
+        above = sun_altitude_deg(ts, eph, middle) > altitude_deg
+        if above == rising:
+            end = middle
+        else:
+            start = middle
+    return start.round("s")
+
+
 def make_voyage(ts, eph, days: int = 8, seed: int = 1805):
     rng = np.random.default_rng(seed)
     rows = []
     for day in range(days):
         date = START + pd.Timedelta(days=day)
-        plan = [(date + pd.Timedelta(hours=6, minutes=50), STARS_MORNING, ""),
+        morning = sun_at(ts, eph, date + pd.Timedelta(hours=5), date + pd.Timedelta(hours=8, minutes=30),
+                         MORNING_SUN_DEG)
+        evening = sun_at(ts, eph, date + pd.Timedelta(hours=17, minutes=30), date + pd.Timedelta(hours=21),
+                         EVENING_SUN_DEG)
+        plan = [(morning, STARS_MORNING, ""),
                 (date + pd.Timedelta(hours=10), ["Sun"], "lower"),
                 (date + pd.Timedelta(hours=13, minutes=10), ["Sun"] * 4, "lower"),  # a noon series
                 (date + pd.Timedelta(hours=16), ["Sun"], "lower"),
-                (date + pd.Timedelta(hours=19, minutes=20), STARS_EVENING, "")]
+                (evening, STARS_EVENING, "")]
         for when, bodies, limb in plan:
             dr_offset = rng.normal(0, 4, 2)  # the DR's error, the same for the watch's sights of that round
             for observer, (personal, scatter) in OBSERVERS.items():

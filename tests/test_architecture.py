@@ -15,7 +15,7 @@ import pytest
 ROOT = pathlib.Path(__file__).resolve().parents[1]
 PACKAGE = ROOT / "navred"
 #: The computational core, flat in navred/: numpy, pyerfa, jplephem and the standard library only.
-CORE = ("angles", "timescales", "ephemeris", "stars", "epochs", "almanac", "corrections", "triangle", "fix",
+CORE = ("angles", "timescales", "ephemeris", "stars", "epochs", "almanac", "corrections", "triangle", "stats", "fix",
         "plan", "series", "lunar", "constants", "errors", "vocabulary", "timework", "sailings", "marking", "reckoning",
         "rating", "handtables", "presets", "compass", "marking_judge", "marking_sight", "marking_methods",
         "marking_checks")

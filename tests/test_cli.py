@@ -98,8 +98,13 @@ def test_fix_on_the_demo_prints_every_group_with_its_ellipse():
     assert result.exit_code == 0, result.output
     for group in ("sun-run-sun", "moon-planet", "evening-stars"):
         assert f'Fix "{group}"' in result.output
-    assert result.output.count("95 % ellipse") == 3
+    assert result.output.count("  95 % ellipse   ") == 3
+    # the full size where a navigator reads it, then the semi-axes; what it covers and cannot, once
+    assert "2.8 × 1.9 nm, semi-axes 1.4 × 1.0 nm" in result.output
+    assert "cannot cover an error common to every sight (the clock" in result.output
     assert "no redundancy" in result.output  # the two-sight Moon-Jupiter fix says so
+    # three sights leave one redundant: what that does to the ellipse, and to the blunder check, in words
+    assert "leave 1 redundant sight" in result.output and "cannot single out a bad sight" in result.output
     assert "on the meridian: latitude 43°" in result.output  # the noon sight as a latitude check
 
 

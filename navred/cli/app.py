@@ -197,11 +197,17 @@ def _reduced(log):
 REDUCE_BLOCK_ROWS = 25_000
 
 
-def _reduced_block_csv(plan, k: int) -> str:
-    """Block ``k`` of a long log read, reduced and written as CSV (the header with the first)."""
+def _reduced_block_csv(plan, k: int) -> tuple[str, int]:
+    """Block ``k`` of a long log read, reduced and written as CSV (the header with the first), and how many of
+    its sights were reduced."""
     from ..io.output import csv_text
 
-    return csv_text(_reduced(plan.read(k)), header=k == 0)
+    reduced = _reduced(plan.read(k))
+    return csv_text(reduced, header=k == 0), _count_reduced(reduced)
+
+
+def _count_reduced(reduced) -> int:
+    return int((reduced["status"] != "error").sum()) if len(reduced) else 0
 
 
 def _labels(reduced):
@@ -239,11 +245,17 @@ def reduce_command(
             source = _source(sights_files)
             plan = sight_log_blocks(source, dates=dates, rates=ratings, block_rows=REDUCE_BLOCK_ROWS)
             if plan is None:
-                sys.stdout.write(csv_text(_reduced(read_sight_log(source, dates=dates, rates=ratings))))
+                reduced = _reduced(read_sight_log(source, dates=dates, rates=ratings))
+                sys.stdout.write(csv_text(reduced))
+                count = _count_reduced(reduced)
             else:
-                for text in forked_map(_reduced_block_csv, range(len(plan)), context=plan, workers=cores()):
+                count = 0
+                for text, done in forked_map(_reduced_block_csv, range(len(plan)), context=plan, workers=cores()):
                     sys.stdout.write(text)
+                    count += done
             sys.stdout.flush()
+            if count == 0:
+                raise NavredError("nothing could be reduced: every row's reason is in the CSV's message column")
             return
         log = read_sight_log(_source(sights_files), dates=dates, rates=_ratings(rates, dates))
         reduced = _reduced(log)
@@ -264,52 +276,66 @@ def reduce_command(
         typer.echo(f"{int(counts.get('ok', 0) + counts.get('warning', 0))} sights reduced "
                    f"({int(counts.get('warning', 0))} with a warning), {int(counts.get('error', 0))} not reduced{empty}")
         if counts.get("error", 0) == len(reduced):
-            raise typer.Exit(code=1)
+            raise NavredError("nothing could be reduced: each row above says why")
 
 
 def _print_fix(group, reduced, labels) -> None:
+    import numpy as np
+
     from ..angles import format_angle
 
     fix = group.fix
     when = str(fix.utc)[:19].replace("T", " ")
+    left_out = fix.left_out if fix.left_out.size == len(group.rows) else np.zeros(len(group.rows), dtype=bool)
     if fix.is_fix:
-        typer.echo(f'Fix "{group.name}": {int(fix.used.sum())} sights, at {when} UTC')
+        dropped = (f", {int(left_out.sum())} left out (see below)" if left_out.any() else "")
+        typer.echo(f'Fix "{group.name}": {int(fix.used.sum())} sights{dropped}, at {when} UTC')
         typer.echo(f"  position       {format_angle(fix.lat_deg, 'lat')}  {format_angle(fix.lon_deg, 'lon')}")
-        typer.echo(f"  95 % ellipse   {fix.ellipse_semi_major_nm:.1f} nm x {fix.ellipse_semi_minor_nm:.1f} nm, major "
+        typer.echo(f"  95 % ellipse   {fix.ellipse_text()}, major "
                    f"axis {fix.ellipse_orientation_deg:03.0f}°/{(fix.ellipse_orientation_deg + 180) % 360:03.0f}° "
                    f"(scaled by the {fix.quantile} quantile"
                    + ("; the DR's error over the run included)" if fix.dr_error_included else ")"))
+        if fix.ellipse_note:
+            typer.echo(f"                 {fix.ellipse_note}")
     else:
         typer.echo(f'No fix in "{group.name}": {int(fix.used.sum())} sights whose lines cross at {fix.spread_deg:.0f}° '
                    f"give a {fix.kind}, at {when} UTC")
         if fix.kind == "latitude":
-            typer.echo(f"  latitude       {format_angle(fix.lat_deg, 'lat')} ± {fix.ellipse_semi_minor_nm:.1f} nm (95 %)"
+            typer.echo(f"  latitude       {format_angle(fix.lat_deg, 'lat')}, 95 % band {fix.ellipse_text()}"
                        + (f"; noon curve {format_angle(fix.noon_curve_latitude_deg, 'lat')}"
                           if fix.noon_curve_latitude_deg is not None else ""))
         else:
             typer.echo(f"  line           through {format_angle(fix.lat_deg, 'lat')}  {format_angle(fix.lon_deg, 'lon')}, "
                        f"bearing {fix.line_bearing_deg:03.0f}°/{(fix.line_bearing_deg + 180) % 360:03.0f}°, "
-                       f"± {fix.ellipse_semi_minor_nm:.1f} nm (95 %)")
+                       f"95 % band {fix.ellipse_text()}")
         typer.echo(f"  from the DR    {abs(fix.line_offset_nm):.1f} nm {'toward' if fix.line_offset_nm >= 0 else 'away from'} "
                    f"{fix.line_toward_deg:03.0f}°")
     typer.echo(f"  sight error    {fix.sigma_arcmin:.2f}′ ({fix.sigma_source})"
                + (f"; fix standard error {fix.standard_error_nm:.2f} nm" if fix.is_fix else ""))
     if fix.course_made_good_deg is not None:
         typer.echo(f"  made good      {fix.course_made_good_deg:05.1f}° at {fix.speed_made_good_kn:.1f} kn")
+    if fix.run_from not in ("", "none"):
+        typer.echo(f"  run between the sights: {fix.run_from}")
+    typer.echo(f"  blunder check  {fix.blunder_note}")
     width = max([len(labels[r]) for r in group.rows] + [5])
     typer.echo(f"  {'sight':<{width}}  {'body':<16}{'residual':>10}  flag")
     for k, row in enumerate(group.rows):
         residual = fix.residual_arcmin[k]
         flag = "BLUNDER? left out of the check fix" if fix.outlier[k] else ""
+        if left_out[k]:
+            flag = "LEFT OUT of this fix: a gross error (its line from this fix)"
         if reduced.status.iloc[row] == "error":
             flag = "not reduced"
         text = f"{residual:+.1f}′" if residual == residual else "-"
         typer.echo(f"  {labels[row]:<{width}}  {str(reduced.body_name.iloc[row]):<16}{text:>10}  {flag}")
+    if fix.all_sights is not None:
+        other = fix.all_sights
+        typer.echo(f"  from every sight (not to plot): {format_angle(other.lat_deg, 'lat')}  "
+                   f"{format_angle(other.lon_deg, 'lon')}, 95 % ellipse {other.ellipse_text()}")
     if fix.without_outliers is not None:
         other = fix.without_outliers
-        typer.echo(f"  without the flagged sights: {format_angle(other.lat_deg, 'lat')}  "
-                   f"{format_angle(other.lon_deg, 'lon')}, ellipse {other.ellipse_semi_major_nm:.1f} x "
-                   f"{other.ellipse_semi_minor_nm:.1f} nm")
+        typer.echo(f"  without the flagged sights (the check fix): {format_angle(other.lat_deg, 'lat')}  "
+                   f"{format_angle(other.lon_deg, 'lon')}, 95 % ellipse {other.ellipse_text()}")
     if fix.chart_distance_nm is not None and fix.is_fix:
         where = "inside" if fix.chart_inside_ellipse else "OUTSIDE"
         typer.echo(f"  chart position {fix.chart_distance_nm:.1f} nm from the fix, bearing "
@@ -366,6 +392,7 @@ def _print_latitude_checks(reduced, labels) -> None:
 
 def _fixes_csv(voyage) -> str:
     """One line per fix group, decimal degrees, for a program to read."""
+    import numpy as np
     import pandas as pd
 
     labels = _labels(voyage.reduced)
@@ -375,12 +402,20 @@ def _fixes_csv(voyage) -> str:
         if fix is None:
             rows.append({"fix_group": group.name, "note": f"no fix: {group.problem}"})
             continue
-        rows.append({"fix_group": group.name, "utc": str(fix.utc)[:23] + "Z", "lat_deg": fix.lat_deg,
-                     "lon_deg": fix.lon_deg, "sights": int(fix.used.sum()), "sigma_arcmin": fix.sigma_arcmin,
+        left = fix.left_out if fix.left_out.size == len(group.rows) else np.zeros(len(group.rows), dtype=bool)
+        every = fix.all_sights
+        rows.append({"fix_group": group.name, "utc": str(fix.utc)[:23] + "Z", "kind": fix.kind,
+                     "lat_deg": fix.lat_deg, "lon_deg": fix.lon_deg, "sights": int(fix.used.sum()),
+                     "sigma_arcmin": fix.sigma_arcmin, "quantile": fix.quantile,
+                     "ellipse_length_nm": 2 * fix.ellipse_semi_major_nm, "ellipse_width_nm": 2 * fix.ellipse_semi_minor_nm,
                      "ellipse_semi_major_nm": fix.ellipse_semi_major_nm,
                      "ellipse_semi_minor_nm": fix.ellipse_semi_minor_nm,
                      "ellipse_orientation_deg": fix.ellipse_orientation_deg,
                      "flagged": " ".join(labels[group.rows[i]] for i in range(len(group.rows)) if fix.outlier[i]),
+                     "left_out": " ".join(labels[group.rows[i]] for i in range(len(group.rows)) if left[i]),
+                     "all_sights_lat_deg": every.lat_deg if every is not None else None,
+                     "all_sights_lon_deg": every.lon_deg if every is not None else None,
+                     "dr_distance_nm": fix.dr_distance_nm,
                      "chart_distance_nm": fix.chart_distance_nm, "chart_inside_ellipse": fix.chart_inside_ellipse,
                      "note": "; ".join(fix.warnings)})
     return _csv_safe(pd.DataFrame(rows)).to_csv(index=False, float_format="%.7f")
@@ -435,6 +470,8 @@ def fix_command(
             voyage.groups = [voyage.group(group)]
         if csv:
             typer.echo(_fixes_csv(voyage), nl=False)
+            if not any(item.fix is not None for item in voyage.groups):
+                raise NavredError("no group had two usable sights: nothing to fix")
             return
         labels = _labels(voyage.reduced)
         fixes = 0
@@ -446,6 +483,11 @@ def fix_command(
             _print_fix(item, voyage.reduced, labels)
             typer.echo("")
             fixes += 1
+        if fixes:
+            from ..fix import ELLIPSE_COVERS
+
+            typer.echo(f"Each 95 % ellipse (or band) {ELLIPSE_COVERS}.")
+            typer.echo("")
         _print_latitude_checks(voyage.reduced, labels)
         if voyage.n_rejected_rows:
             typer.echo(f"{voyage.n_rejected_rows} row(s) not reduced: see 'navred reduce' for why")
@@ -538,6 +580,7 @@ def workbook_command(
                 typer.echo(f"group {group.name}: no fix ({group.problem})")
             for text in (group.fix.warnings if group.fix is not None else []):
                 typer.echo(f"warning: group {group.name}: {text}", err=True)
+        _print_sight_warnings(voyage.reduced, _labels(voyage.reduced), err=True)
         typer.echo(voyage.summary())
         if voyage.n_reduced == 0:
             raise NavredError("nothing could be reduced: see the Rejected sheet for every row's reason")
@@ -1116,6 +1159,9 @@ def training_command(
                 typer.echo(f"{row['kind']} {row['fix group']} (not a fix): the reference lies "
                            f"{row['distance from reference (nm)']:.1f} nm off it, "
                            f"{row['reference inside 95 % ellipse']}")
+        for group in voyage.groups:
+            for text in (group.fix.warnings if group.fix is not None else []):
+                typer.echo(f"warning: group {group.name}: {text}", err=True)
         if output:
             typer.echo(f"wrote {write_workbook(voyage, output)}")
         if summary:
@@ -1249,8 +1295,12 @@ def days_command(
         voyage = process_log(_source(sights_files), dates=dates, plan=False, carry_current=carry_current,
                              rates=_ratings(rates, dates))
         days = voyage.days_work()
+        nothing = len(voyage.reduced) > 0 and voyage.n_reduced == 0
         if csv:
             sys.stdout.write(csv_text(days.noons))
+            for group in voyage.groups:
+                for text in (group.fix.warnings if group.fix is not None else []):
+                    typer.echo(f"warning: group {group.name}: {text}", err=True)
         else:
             typer.echo(voyage.summary())
             if days.empty:
@@ -1282,6 +1332,10 @@ def days_command(
             _print_sight_warnings(voyage.reduced, _labels(voyage.reduced), err=True)
             if voyage.n_rejected_rows:
                 typer.echo(f"{voyage.n_rejected_rows} row(s) not read: navred reduce names each and why", err=True)
+        if nothing or days.empty:
+            raise NavredError("nothing could be reduced: navred reduce names each row and why" if nothing else
+                              "no day's work: the log gives no departure (an entry row) and no fix to keep the DR "
+                              "from")
         if picture:
             from ..figures.plotting import canvas_bytes, voyage_track_picture
             from ..io.output import atomic_write

@@ -40,15 +40,21 @@ SHEET_PT = 576.0
 _AREA = (70.0, 58.0, 540.0, 528.0)  # x0, y0, x1, y1
 
 
-def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None):
+def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None, rows=None):
     """The fix's plotting sheet as a :class:`navred.figures.drawing.Canvas` (render it with ``to_svg`` or ``to_png``).
 
     ``fix`` is a :class:`navred.fix.FixResult`; ``bodies`` and ``times`` label its sights
-    (input-row order, as ``fix.residual_arcmin``); ``chart`` is an optional (lat, lon).
+    (input-row order, as ``fix.residual_arcmin``), ``rows`` name them in notes ('row 9'); ``chart``
+    is an optional (lat, lon). A sight left out of the fix as a gross error does not set the sheet's
+    extent (its line may lie a hundred miles off); the sheet names it, and marks the fix from every
+    sight where it falls on the sheet.
     """
     from .drawing import Canvas, blend
 
     bodies, times = list(bodies), list(times)
+    rows = list(rows) if rows is not None else [f"sight {k + 1}" for k in range(len(bodies))]
+    left_out = (np.asarray(fix.left_out, dtype=bool) if np.size(fix.left_out) == len(bodies)
+                else np.zeros(len(bodies), dtype=bool))
     lat0, lon0 = float(fix.dr_lat_deg), float(fix.dr_lon_deg)
     cos_lat = math.cos(math.radians(lat0))
 
@@ -68,7 +74,7 @@ def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None):
     z = np.radians(fix.lop_zn_deg[used])
     feet = np.stack(plane(fix.lop_foot_lat_deg[used], fix.lop_foot_lon_deg[used]), axis=1)
     tangent = np.radians(fix.lop_tangent_deg[used])
-    xs, ys = zip(*points, *map(tuple, feet))
+    xs, ys = zip(*points, *map(tuple, feet[~left_out[used]]))
     extent = fix.ellipse_semi_major_nm if fix.is_fix else fix.ellipse_semi_minor_nm
     half = max(np.ptp(xs), np.ptp(ys), 4.0 * extent, 2.0) * 0.75 + 1.0
     cx, cy = (max(xs) + min(xs)) / 2.0, (max(ys) + min(ys)) / 2.0
@@ -125,12 +131,14 @@ def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None):
         dx, dy = math.sin(turn), math.cos(turn)
         flagged = bool(outliers[row])
         colour = FLAGGED if flagged else INK
+        if left_out[row] and abs(fx - cx) + abs(fy - cy) > 4 * half:
+            continue  # a gross error's line, far off the sheet: named in the note below
         # a short azimuth tick from the DR toward the body, as on a hand plot
         tip = page(0.35 * half * math.sin(azimuth), 0.35 * half * math.cos(azimuth))
         sheet.line([dr_page[0], tip[0]], [dr_page[1], tip[1]], blend(colour, PAPER, 0.5), 0.6, clip=area)
         ends = page([fx - dx * length, fx + dx * length], [fy - dy * length, fy + dy * length])
         sheet.line(*ends, colour, 1.3, dash=(5.0, 3.0) if flagged else None, clip=area)
-        label = f"{bodies[row]} {times[row]}" + ("  (flagged)" if flagged else "")
+        label = f"{bodies[row]} {times[row]}" + ("  (left out)" if left_out[row] else "  (flagged)" if flagged else "")
         # the label sits on the line near the middle of the sheet, staggered so labels do not pile up
         nearest = (cx - fx) * dx + (cy - fy) * dy
         along = nearest + (-0.6 + 1.2 * k / count) * half
@@ -178,6 +186,12 @@ def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None):
         text = (f"{what} {format_angle(fix.lat_deg, 'lat')}" if fix.kind == "latitude"
                 else f"{what} through {format_angle(fix.lat_deg, 'lat')} {format_angle(fix.lon_deg, 'lon')}")
         fix_label(f"{text}: not a fix", 8)
+    every = fix.all_sights
+    if every is not None:
+        ex_, ey_ = page(*plane(float(every.lat_deg), float(every.lon_deg)))
+        if inside(ex_, ey_):
+            sheet.circle(ex_, ey_, 5.0, outline=FLAGGED, width=1.4)
+            sheet.text(ex_ + 8, ey_ + 12, "every sight (not the fix)", 7, FLAGGED)
     if chart is not None:
         px, py = page(*chart_xy)
         sheet.polygon([px - 3.5, px + 3.5, px + 3.5, px - 3.5], [py - 3.5, py - 3.5, py + 3.5, py + 3.5],
@@ -198,10 +212,18 @@ def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None):
     sheet.line([ax0, ax1, ax1, ax0, ax0], [ay0, ay0, ay1, ay1, ay0], INK, 0.8)
 
     sheet.text(ax0 - 12, 24, title or "Plotting sheet", 11, INK, bold=True)
-    extent_text = (f"95 % ellipse {fix.ellipse_semi_major_nm:.1f} × {fix.ellipse_semi_minor_nm:.1f} nm" if fix.is_fix
-                   else f"the lines cross at {fix.spread_deg:.0f}°: 95 % band ±{fix.ellipse_semi_minor_nm:.1f} nm")
+    extent_text = (f"95 % ellipse {fix.ellipse_text()}" if fix.is_fix
+                   else f"the lines cross at {fix.spread_deg:.0f}°: 95 % band {fix.ellipse_text()}")
     sheet.text(ax0 - 12, 40, f"{str(fix.utc)[:19].replace('T', ' ')} UTC · {extent_text} · σ {fix.sigma_arcmin:.2f}′ · "
                "grid: minutes of latitude and longitude", 8, INK)
+    if every is not None and left_out.any():
+        from ..triangle import distance_bearing
+
+        miles, bearing = distance_bearing(fix.lat_deg, fix.lon_deg, every.lat_deg, every.lon_deg)
+        names = ", ".join(f"{rows[k]} {bodies[k]} ({abs(float(fix.residual_arcmin[k])):.0f}′ off)"
+                          for k in np.flatnonzero(left_out))
+        sheet.text(ax0 - 12, 52, f"LEFT OUT as a gross error: {names}; the fix from every sight lies "
+                   f"{float(miles):.1f} nm {float(bearing):03.0f}° from this one", 8, FIX, bold=True)
     dr_miles = float(np.hypot(*fix_xy))
     if dr_miles > 30.0 and fix.is_fix:
         sheet.text(ax0 - 12, SHEET_PT - 14, f"The DR is {dr_miles:.0f} nm from the fix: straight lines of position "

@@ -23,6 +23,7 @@ from pathlib import Path
 import numpy as np
 
 from .. import __version__
+from ..fix import ELLIPSE_COVERS
 from ..jobs.voyage import VoyageResult
 from ..triangle import destination
 from .cautions import geojson_with_caution, gpx_with_caution
@@ -39,6 +40,34 @@ def _iso(utc) -> str:
     return str(utc)[:19] + "Z"
 
 
+def _ascii(text: str) -> str:
+    """A description as plain text every chart plotter shows."""
+    for a, b in (("×", "x"), ("±", "+-"), ("′", "'"), ("°", " deg"), ("σ", "sigma"), ("…", "...")):
+        text = text.replace(a, b)
+    return text
+
+
+def fix_description(group) -> str:
+    """What a navigator needs beside the fix's position: its 95 % ellipse's full size, what it covers, the
+    sights left out with the fix from every sight, and every warning of the fix."""
+    fix = group.fix
+    if fix.is_fix:
+        text = (f"celestial fix, {int(fix.used.sum())} sights, 95% ellipse {fix.ellipse_text()}, major axis "
+                f"{fix.ellipse_orientation_deg:.0f} deg")
+    else:
+        text = (f"not a fix: a {fix.kind} through this point, bearing {fix.line_bearing_deg:.0f} deg, "
+                f"95% band {fix.ellipse_text()} ({int(fix.used.sum())} sights)")
+    if fix.left_out_names:
+        rows = ", ".join(fix.left_out_names)
+        every = fix.all_sights
+        text += (f"; LEFT OUT as a gross error: {rows}; the fix from every sight is at "
+                 f"{every.lat_deg:.4f}, {every.lon_deg:.4f}") if every is not None else f"; LEFT OUT: {rows}"
+    text += f"; the ellipse {ELLIPSE_COVERS}"
+    for warning in fix.warnings:
+        text += f"; warning: {warning}"
+    return _ascii(text)
+
+
 def write_gpx(voyage: VoyageResult, path: str | Path) -> Path:
     """GPX 1.1 waypoints of every fix and of the DR at each fix time."""
     ET.register_namespace("", GPX_NAMESPACE)
@@ -50,17 +79,19 @@ def write_gpx(voyage: VoyageResult, path: str | Path) -> Path:
             point = ET.SubElement(root, f"{{{GPX_NAMESPACE}}}wpt", {"lat": f"{lat:.6f}", "lon": f"{lon:.6f}"})
             ET.SubElement(point, f"{{{GPX_NAMESPACE}}}time").text = _iso(fix.utc)
             ET.SubElement(point, f"{{{GPX_NAMESPACE}}}name").text = f"{kind} {group.name}"
-            if kind != "fix":
-                description = "DR at the fix time"
-            elif fix.is_fix:
-                description = (f"celestial fix, {int(fix.used.sum())} sights, 95% ellipse "
-                               f"{fix.ellipse_semi_major_nm:.1f} x {fix.ellipse_semi_minor_nm:.1f} nm, major axis "
-                               f"{fix.ellipse_orientation_deg:.0f} deg")
-            else:
-                description = (f"not a fix: a {fix.kind} through this point, bearing {fix.line_bearing_deg:.0f} deg, "
-                               f"95% band +-{fix.ellipse_semi_minor_nm:.1f} nm ({int(fix.used.sum())} sights)")
+            description = "DR at the fix time" if kind != "fix" else fix_description(group)
             ET.SubElement(point, f"{{{GPX_NAMESPACE}}}desc").text = description
             ET.SubElement(point, f"{{{GPX_NAMESPACE}}}type").text = kind
+        if fix.all_sights is not None:
+            every = fix.all_sights
+            point = ET.SubElement(root, f"{{{GPX_NAMESPACE}}}wpt", {"lat": f"{every.lat_deg:.6f}",
+                                                                    "lon": f"{every.lon_deg:.6f}"})
+            ET.SubElement(point, f"{{{GPX_NAMESPACE}}}time").text = _iso(fix.utc)
+            ET.SubElement(point, f"{{{GPX_NAMESPACE}}}name").text = f"every sight {group.name}"
+            ET.SubElement(point, f"{{{GPX_NAMESPACE}}}desc").text = _ascii(
+                f"NOT the fix: the {every.kind} from every sight of {group.name}, a gross error included "
+                f"(95% ellipse {every.ellipse_text()}); the fix leaves it out")
+            ET.SubElement(point, f"{{{GPX_NAMESPACE}}}type").text = "every sight"
     days = voyage.days_work()
     for kind, frame, name_of, text_of in (
             ("EP", days.estimated, lambda r: f"EP {r['fix group']}", lambda r: f"estimated position: {r['from']}" + (f"; warning: {r['note']}" if r["note"] else "")),
@@ -149,7 +180,17 @@ def write_geojson(voyage: VoyageResult, path: str | Path) -> Path:
                                         "ellipse_semi_major_nm": (fix.ellipse_semi_major_nm if fix.is_fix else None),
                                         "ellipse_semi_minor_nm": fix.ellipse_semi_minor_nm,
                                         "ellipse_orientation_deg": fix.ellipse_orientation_deg,
+                                        "ellipse": fix.ellipse_text(),
+                                        "description": fix_description(group),
+                                        "dr_distance_nm": _finite(fix.dr_distance_nm),
                                         "warnings": fix.warnings}})
+        if fix.all_sights is not None:
+            every = fix.all_sights
+            features.append({"type": "Feature",
+                             "geometry": {"type": "Point", "coordinates": [every.lon_deg, every.lat_deg]},
+                             "properties": {**common, "kind": "from every sight (not the fix)",
+                                            "ellipse": every.ellipse_text(),
+                                            "note": "a gross error included: the fix leaves it out"}})
         features.append({"type": "Feature",
                          "geometry": {"type": "Point", "coordinates": [fix.dr_lon_deg, fix.dr_lat_deg]},
                          "properties": {**common, "kind": "DR"}})

@@ -19,6 +19,7 @@ import pandas as pd
 
 from ..angles import format_angle
 from ..errors import NavredError
+from ..fix import ELLIPSE_COVERS
 from ..jobs.forking import can_fork, cores, forked_map
 from .output import atomic_write, atomic_write_many
 from .xlsxtables import TableWriter, safe_text
@@ -56,15 +57,19 @@ def working_table(voyage) -> pd.DataFrame:
     reduced = voyage.reduced
     residual = np.full(len(reduced), np.nan)
     flagged = np.zeros(len(reduced), dtype=bool)
+    left_out = np.zeros(len(reduced), dtype=bool)
     for group in voyage.groups:
         if group.fix is not None:
             residual[group.rows] = group.fix.residual_arcmin
             flagged[group.rows] = group.fix.outlier
+            if group.fix.left_out.size == len(group.rows):
+                left_out[group.rows] = group.fix.left_out
     ok = reduced.status.to_numpy() != "error"
     r = reduced[ok].reset_index(drop=True)
-    residual, flagged = residual[ok], flagged[ok]
-    notes = [("; ".join(x for x in (("BLUNDER? flagged by the fix" if f else ""), m) if x))
-             for f, m in zip(flagged, r.message.astype(str))]
+    residual, flagged, left_out = residual[ok], flagged[ok], left_out[ok]
+    notes = [("; ".join(x for x in (("BLUNDER: a gross error, LEFT OUT of the fix" if g else
+                                     "BLUNDER? flagged by the fix" if f else ""), m) if x))
+             for f, g, m in zip(flagged, left_out, r.message.astype(str))]
     zone = r.zone_description_used_h.to_numpy(dtype=float)
     table = pd.DataFrame({
         **_row_columns(voyage, r),
@@ -146,21 +151,27 @@ def fixes_table(voyage) -> pd.DataFrame:
     # every position's text at once (one call per kind, not four per group)
     fixes = [g.fix for g in voyage.groups if g.fix is not None]
     checks = [g.fix.without_outliers for g in voyage.groups if g.fix is not None and g.fix.without_outliers]
+    everies = [g.fix.all_sights for g in voyage.groups if g.fix is not None and g.fix.all_sights]
     charts = [g.chart for g in voyage.groups if g.fix is not None and g.chart]
     lat_text = iter(format_angle(np.array([f.lat_deg for f in fixes] + [c.lat_deg for c in checks]
-                                          + [c[0] for c in charts], dtype=float), "lat"))
+                                          + [e.lat_deg for e in everies] + [c[0] for c in charts], dtype=float),
+                                 "lat"))
     lon_text = iter(format_angle(np.array([f.lon_deg for f in fixes] + [c.lon_deg for c in checks]
-                                          + [c[1] for c in charts], dtype=float), "lon"))
+                                          + [e.lon_deg for e in everies] + [c[1] for c in charts], dtype=float),
+                                 "lon"))
     fix_texts = [(next(lat_text), next(lon_text)) for _ in fixes]
     check_texts = [f"{next(lat_text)} {next(lon_text)}" for _ in checks]
+    every_texts = [f"{next(lat_text)} {next(lon_text)}" for _ in everies]
     chart_texts = [f"{next(lat_text)} {next(lon_text)}" for _ in charts]
-    fix_texts, check_texts, chart_texts = iter(fix_texts), iter(check_texts), iter(chart_texts)
+    fix_texts, check_texts, every_texts, chart_texts = (iter(fix_texts), iter(check_texts), iter(every_texts),
+                                                        iter(chart_texts))
     for group in voyage.groups:
         fix = group.fix
         if fix is None:
             rows.append({"fix group": group.name, "UTC": "", "note": f"no fix: {group.problem}"})
             continue
-        outliers = ", ".join(labels[group.rows[i]] for i in np.flatnonzero(fix.outlier))
+        left = fix.left_out if fix.left_out.size == len(group.rows) else np.zeros(len(group.rows), dtype=bool)
+        outliers = ", ".join(labels[group.rows[i]] for i in np.flatnonzero(fix.outlier & ~left))
         rows.append({
             "fix group": group.name,
             "UTC": _utc_cell(fix.utc),
@@ -173,18 +184,25 @@ def fixes_table(voyage) -> pd.DataFrame:
             "sight σ (′)": fix.sigma_arcmin,
             "σ from": fix.sigma_source,
             "standard error (nm)": fix.standard_error_nm,
+            "95 % ellipse (full size)": fix.ellipse_text(),
             "95 % semi-major (nm)": fix.ellipse_semi_major_nm,
             "95 % semi-minor (nm)": fix.ellipse_semi_minor_nm,
             "major axis (deg true)": fix.ellipse_orientation_deg if fix.is_fix else None,
             "lines cross at (deg)": fix.spread_deg,
             "ellipse scaled by": f"{fix.quantile} quantile" + (", DR error over the run included"
                                                                if fix.dr_error_included else ""),
+            "the ellipse's size": fix.ellipse_note,
+            "run between the sights": fix.run_from,
+            "blunder check": fix.blunder_note,
             "line bearing (deg true)": fix.line_bearing_deg,
             "line from DR (nm)": fix.line_offset_nm,
             "noon curve latitude (° ′)": (format_angle(fix.noon_curve_latitude_deg, "lat")
                                           if fix.noon_curve_latitude_deg is not None else ""),
+            "left out (gross errors)": ", ".join(labels[group.rows[i]] for i in np.flatnonzero(left)),
+            "fix from every sight (° ′)": next(every_texts) if fix.all_sights is not None else "",
             "flagged sights": outliers,
             "fix without flagged (° ′)": next(check_texts) if fix.without_outliers is not None else "",
+            "from the DR (nm)": fix.dr_distance_nm,
             "chart position (° ′)": next(chart_texts) if group.chart else "",
             "chart distance (nm)": fix.chart_distance_nm,
             "chart bearing (deg true)": fix.chart_bearing_deg,
@@ -404,8 +422,10 @@ def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool | Pict
         ("Sights as read", "every row of the log, exactly as it was read"),
         ("Working", "one row per reduced sight: every correction from Hs to Ho, GHA, Dec, LHA, Hc, Zn, "
                     "the intercept, the residual at the fix and any flag (angles as ° ′ with decimal degrees beside)"),
-        ("Fixes", "one row per fix group: position, 95 % ellipse, sight error, flagged sights, chart check; "
-                  "the plotting sheets below the table"),
+        ("Fixes", "one row per fix group: position, 95 % ellipse (its full size, then its semi-axes), sight error, "
+                  "what the blunder check can find, sights left out as gross errors (with the fix from every "
+                  "sight beside it), flagged sights, chart check; the plotting sheets below the table. The 95 % "
+                  f"ellipse {ELLIPSE_COVERS}"),
         ("Rejected", "every row that could not be reduced, with the column, the value and why"),
         ("Row numbers", "a row is named everywhere by the row number a spreadsheet shows for it in the log "
                         "(the header is row 1), with its file when several logs were read"),
@@ -706,10 +726,13 @@ def _sight_labels(voyage) -> tuple[np.ndarray, np.ndarray]:
 def plotting_figure(voyage, group):
     """The plotting sheet figure of one fix group."""
     from ..figures.plotting import plotting_sheet
+    from ..jobs.frames import row_labels
 
     bodies, times = _sight_labels(voyage)
+    if "row labels" not in voyage.cache:
+        voyage.cache["row labels"] = row_labels(voyage.reduced)
     return plotting_sheet(group.fix, bodies[group.rows], times[group.rows], title=f"Plotting sheet: {group.name}",
-                          chart=group.chart)
+                          chart=group.chart, rows=voyage.cache["row labels"][group.rows])
 
 
 def plot_file_stems(names) -> list[str]:

@@ -25,6 +25,14 @@ from ..triangle import (
 )
 
 LARGE_INTERCEPT_NM = 30.0  # a larger intercept usually means a blunder or a poor DR (common practice)
+#: A star or planet on the sea horizon is taken in twilight: from when the Sun is about 3° below the horizon
+#: (the sky dark enough for the brighter stars) to when it is 12° below (the end of nautical twilight, when
+#: the horizon can no longer be made out: the almanac's definition of nautical twilight). Common practice;
+#: the navigation manuals give the best star time as the Sun between about 3° and 9° below the horizon.
+SUN_BRIGHT_SKY_DEG = -3.0
+SUN_DARK_HORIZON_DEG = -12.0
+#: The horizons that are the sea's own (a star needs it lit and the sky dark).
+SEA_HORIZONS = ("sea", "back")
 
 #: The columns reduce_sights adds to the parsed sights, in order (documented in docs/sight-log.md).
 RESULT_COLUMNS = [
@@ -168,6 +176,7 @@ def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
         notes.warn(far & ~below, f"intercept over {LARGE_INTERCEPT_NM:.0f} nm: check body, time, Hs and DR")
         notes.warn(high, "high sight (Hc above 85°): the straight line of position is a poor "
                          "approximation; fix it on the sphere")
+        _twilight_check(notes, rows, bodies, horizon, inst, lat, lon)
     bad = ~notes.ok
     result["ho_deg"] = np.where(bad, np.nan, result["ho_deg"])
     result["intercept_nm"] = np.where(bad, np.nan, intercept_nm(result["ho_deg"], result["hc_deg"]))
@@ -177,6 +186,35 @@ def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
     result["message"] = np.where(bad, notes.error, notes.warning).astype(object)
     result["error_column"] = notes.column
     return pd.DataFrame({column: result.pop(column) for column in RESULT_COLUMNS})
+
+
+def _twilight_check(notes: _Notes, rows: np.ndarray, bodies: np.ndarray, horizon: np.ndarray, inst, lat: np.ndarray,
+                    lon: np.ndarray) -> None:
+    """A star or planet on the sea horizon with the Sun too high for it to be seen, or too low for the horizon
+    to be: the Sun's altitude at the DR at the sight (SUN_BRIGHT_SKY_DEG, SUN_DARK_HORIZON_DEG)."""
+    point_like = ~np.isin(bodies[rows], ["Sun", "Moon"]) & np.isin(horizon[rows], SEA_HORIZONS)
+    if not point_like.any():
+        return
+    chosen = rows[point_like]
+    sun = places("Sun", inst[np.flatnonzero(point_like)])
+    altitude, _ = computed_altitude_azimuth(lat[chosen], lon[chosen], sun.gha_deg, sun.dec_deg)
+    planet = np.isin(bodies[chosen], ["Venus", "Mars", "Jupiter", "Saturn"])
+    bright = altitude > SUN_BRIGHT_SKY_DEG
+    dark = altitude < SUN_DARK_HORIZON_DEG
+    for k in np.flatnonzero(bright | dark).tolist():
+        where = (f"the Sun is {altitude[k]:.0f}° {'up' if altitude[k] >= 0 else 'below the horizon'} at the DR"
+                 if altitude[k] >= 0 or bright[k] else f"the Sun is {-altitude[k]:.0f}° below the horizon at the DR")
+        if bright[k]:
+            text = (f"{where}: a {'planet' if planet[k] else 'star'} on the sea horizon is taken in twilight, with "
+                    f"the Sun {-SUN_BRIGHT_SKY_DEG:.0f}° to {-SUN_DARK_HORIZON_DEG:.0f}° below the horizon"
+                    + (" (Venus and Jupiter can be seen in daylight through the telescope, if you knew where to "
+                       "look)" if planet[k] else " (no star is seen against a brighter sky)")
+                    + ": check the body, the time (zone, date) and the DR")
+        else:
+            text = (f"{where}: past the end of nautical twilight (the Sun {-SUN_DARK_HORIZON_DEG:.0f}° below) the sea "
+                    "horizon cannot be made out, so a sea-horizon sight is doubtful: check the time (zone, date) and "
+                    "the horizon (an artificial or bubble horizon needs no sea)")
+        notes.warn([chosen[k]], text)
 
 
 __all__ = ["reduce_sights", "parsed_sights", "RESULT_COLUMNS", "SIGHT_COLUMNS"]

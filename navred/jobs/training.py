@@ -19,9 +19,9 @@ import numpy as np
 import pandas as pd
 
 from ..constants import ARCMIN_PER_DEG
-from ..fix import t_quantile_975
 from ..io.track import ReferenceTrack
 from ..stars import SOLAR_SYSTEM
+from ..stats import student_t_quantile
 from ..triangle import computed_altitude_azimuth
 
 BLUNDER_ARCMIN = 5.0
@@ -53,7 +53,7 @@ def _summaries(frame: pd.DataFrame, keys: list[str]) -> pd.DataFrame:
         mean = float(good.mean()) if n_good else np.nan
         scatter = float(good.std(ddof=1)) if n_good > 1 else np.nan
         se = scatter / np.sqrt(n_good) if n_good > 1 else np.nan
-        half = float(t_quantile_975(n_good - 1)) * se if n_good > 1 else np.nan
+        half = float(student_t_quantile(0.975, n_good - 1)) * se if n_good > 1 else np.nan
         days = (part.sight_utc - part.sight_utc.min()).dt.total_seconds().to_numpy() / 86400.0
         slope = slope_se = np.nan
         if n_good >= 3 and np.ptp(days[~blunder]) > 1.0:

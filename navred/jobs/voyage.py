@@ -24,9 +24,10 @@ from .. import __version__
 from ..angles import format_angle
 from ..ephemeris import EPHEMERIS_NAME
 from ..errors import NavredError
-from ..fix import FixResult, fixes_from_sights
+from ..fix import SEXTANT_SIGMA_LIMIT_ARCMIN, FixResult, fixes_from_sights
 from ..io.logbook import REJECTED_COLUMNS, SightLog, read_sight_log
 from ..timescales import iers_table, leap_second_table
+from ..triangle import distance_bearing
 from .frames import row_labels, series_columns, utc64
 from .sights import reduce_sights
 
@@ -65,6 +66,9 @@ class VoyageResult:
     carry_current: bool = False
     #: the timepieces' rating (navred.io.timesignals.Ratings) when a rating log was given
     ratings: object | None = None
+    #: per reduced row, what the fix takes from the DR kept along the log (:func:`dr_context`): the current in
+    #: force at each sight and the age of its DR
+    context: dict | None = None
 
     def days_work(self):
         """The day's work of the voyage (navred.jobs.dayswork): set and drift, estimated positions, noons, the DR
@@ -125,9 +129,10 @@ def process_log(source: object, *, dates: str | None = None, solve_motion: bool 
     if len(reduced):
         for column, values in series_columns(reduced).items():
             reduced[column] = values
-    groups = fix_groups(reduced, solve_motion=solve_motion, at_utc=at_utc)
-    log, reduced, groups = _restart_dr_at_fixes(log, reduced, groups, progress, carry_current,
-                                                solve_motion=solve_motion, at_utc=at_utc)
+    context = dr_context(log, reduced, [])
+    groups = fix_groups(reduced, solve_motion=solve_motion, at_utc=at_utc, context=context)
+    log, reduced, groups, context = _restart_dr_at_fixes(log, reduced, groups, progress, carry_current, context,
+                                                         solve_motion=solve_motion, at_utc=at_utc)
     rejected = _rejected(log, reduced)
     usable = reduced.status.to_numpy() != "error" if len(reduced) else np.zeros(0, dtype=bool)
     table = iers_table()
@@ -157,6 +162,7 @@ def process_log(source: object, *, dates: str | None = None, solve_motion: bool 
                             + ("; the set and drift found at each fix carried on" if carry_current else ""))
     result = VoyageResult(", ".join(log.sources), log, reduced, rejected, groups, provenance)
     result.carry_current = carry_current
+    result.context = context
     result.ratings = rates
     if rates is not None:
         provenance["timepieces"] = "; ".join(p.summary() for p in rates.timepieces.values())
@@ -166,14 +172,15 @@ def process_log(source: object, *, dates: str | None = None, solve_motion: bool 
 
 
 def _restart_dr_at_fixes(log: SightLog, reduced: pd.DataFrame, groups: list[GroupFix], progress, carry_current,
-                         **fixing):
+                         context, **fixing):
     """The sights whose DR the reader carried from the departure get it again from the last known position
     before them, every fix included, and are reduced and fixed again (the fixes themselves do not depend on
-    the DR they start from; their DR, intercepts and plots do)."""
+    the DR they start from; their DR, intercepts and plots do; with ``carry_current``, the current found at
+    each fix advances the lines of the fixes after it)."""
     if not len(log.table) or not (log.table["dr_carried_from"] != "").any():
-        return log, reduced, groups
+        return log, reduced, groups, context
     if not any(g.fix is not None and g.fix.is_fix for g in groups) and not carry_current:
-        return log, reduced, groups
+        return log, reduced, groups, context
     from .dayswork import known_label_at, vessel_tracks
 
     draft = VoyageResult("", log, reduced, log.rejected, groups)
@@ -205,7 +212,53 @@ def _restart_dr_at_fixes(log: SightLog, reduced: pd.DataFrame, groups: list[Grou
     if len(reduced):
         for column, values in series_columns(reduced).items():
             reduced[column] = values
-    return log, reduced, fix_groups(reduced, **fixing)
+    context = dr_context(log, reduced, groups, carry_current=carry_current, tracks=tracks)
+    return log, reduced, fix_groups(reduced, context=context, **fixing), context
+
+
+def dr_context(log: SightLog, reduced: pd.DataFrame, groups: list[GroupFix], *, carry_current: bool = False,
+               tracks: dict | None = None) -> dict:
+    """What a fix takes from the DR kept along the log, per reduced row: the current in force at the sight
+    (``set_deg``, ``drift_kn``: the log's current entries and, with ``carry_current``, the set and drift found
+    at the last fix; the ground track less the track through the water) and the age of the sight's DR
+    (``age_h``: hours since the known position it was carried from). A DR given on the row has no age
+    known (NaN) and takes no current: the run between such rows is the course and speed given, or their
+    own DRs. ``tracks``: the vessels' tracks (:func:`navred.dayswork.vessel_tracks`) when worked out already."""
+    n = len(reduced)
+    out = {"set_deg": np.zeros(n), "drift_kn": np.zeros(n), "age_h": np.full(n, np.nan)}
+    if not n or "dr_carried_from" not in reduced.columns:
+        return out
+    carried = (reduced["dr_carried_from"].to_numpy(dtype=object) != "") & (reduced["status"].to_numpy() != "error")
+    if not carried.any():
+        return out
+    from ..reckoning import course_speed
+    from .dayswork import vessel_tracks
+
+    if tracks is None:
+        tracks = vessel_tracks(VoyageResult("", log, reduced, log.rejected, groups), carry_current=carry_current)
+    when = utc64(reduced["sight_utc"]).astype(np.int64)
+    vessels = reduced["vessel"].to_numpy(dtype=object)
+    for vessel, track in tracks.items():
+        rows = np.flatnonzero(carried & (vessels == vessel))
+        if not rows.size:
+            continue
+        k = np.searchsorted(track.kept.knot_ns, when[rows], side="right") - 1
+        kw = np.searchsorted(track.water.knot_ns, when[rows], side="right") - 1
+        valid = (k >= 0) & (kw >= 0)
+        k, kw = np.maximum(k, 0), np.maximum(kw, 0)
+        north = np.where(valid, track.kept.north_kn[k] - track.water.north_kn[kw], 0.0)
+        east = np.where(valid, track.kept.east_kn[k] - track.water.east_kn[kw], 0.0)
+        set_, drift = course_speed(north, east)
+        out["set_deg"][rows], out["drift_kn"][rows] = np.nan_to_num(set_), np.where(drift > 1e-9, drift, 0.0)
+        # the DR's age: a sight at the very instant of a known position is carried up to it
+        _, _, origin = track.kept.positions(when[rows], before_restart=True)
+        at_start = origin < 0
+        if at_start.any():
+            origin[at_start] = track.kept.positions(when[rows][at_start])[2]
+        known = origin >= 0
+        start = track.kept.knot_ns[np.maximum(origin, 0)]
+        out["age_h"][rows] = np.where(known, (when[rows] - start) / 3.6e12, np.nan)
+    return out
 
 
 def _rejected(log: SightLog, reduced: pd.DataFrame) -> pd.DataFrame:
@@ -275,11 +328,15 @@ def chart_positions(reduced: pd.DataFrame, group: np.ndarray, count: int
 
 
 def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: object | None = None,
-               only: str | None = None, chart: tuple[float, float] | None = None) -> list[GroupFix]:
+               only: str | None = None, chart: tuple[float, float] | None = None,
+               context: dict | None = None) -> list[GroupFix]:
     """Fix every group of a reduced table (or ``only`` one), with the one rule for chart positions.
 
     Every group is solved in one batch (:func:`navred.fix.fixes_from_sights`). ``chart``
-    overrides the chart position of the group (with ``only``).
+    overrides the chart position of the group (with ``only``). ``context``: the current in force at
+    each sight and the age of its DR (:func:`dr_context`; the voyage's ``context``). A fix whose
+    sights scatter beyond any sextant is tried with its Hs read as degrees and minutes written as a
+    decimal (29.216 for 29° 21.6′), and says so when that is what they were.
     """
     if len(reduced) == 0:
         return []
@@ -302,12 +359,15 @@ def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: obj
     def column(name):
         return reduced[name].to_numpy(dtype=float) if name in reduced.columns else None
 
-    batch = fixes_from_sights(
-        reduced["gha_deg"].to_numpy(dtype=float), reduced["dec_deg"].to_numpy(dtype=float),
-        reduced["ho_deg"].to_numpy(dtype=float), utc64(reduced["sight_utc"]),
-        reduced["dr_lat_deg"].to_numpy(dtype=float), reduced["dr_lon_deg"].to_numpy(dtype=float), group,
-        usable=usable, course_deg=column("course_deg"), speed_kn=column("speed_kn"), at_utc=at_utc,
-        chart_lat=chart_lat, chart_lon=chart_lon, solve_motion=solve_motion, labels=row_labels(reduced))
+    context = context or {}
+    arguments = dict(usable=usable, course_deg=column("course_deg"), speed_kn=column("speed_kn"), at_utc=at_utc,
+                     solve_motion=solve_motion, labels=row_labels(reduced), set_deg=context.get("set_deg"),
+                     drift_kn=context.get("drift_kn"), dr_age_hours=context.get("age_h"))
+    arrays = (reduced["gha_deg"].to_numpy(dtype=float), reduced["dec_deg"].to_numpy(dtype=float),
+              reduced["ho_deg"].to_numpy(dtype=float), utc64(reduced["sight_utc"]),
+              reduced["dr_lat_deg"].to_numpy(dtype=float), reduced["dr_lon_deg"].to_numpy(dtype=float))
+    batch = fixes_from_sights(*arrays, group, chart_lat=chart_lat, chart_lon=chart_lon, **arguments)
+    _degrees_and_minutes_as_decimal(reduced, group, batch.results, arrays, arguments)
     by_group = np.argsort(np.where(group >= 0, group, count), kind="stable")
     bounds = np.concatenate([[0], np.cumsum(np.bincount(group[group >= 0], minlength=count))]).tolist()
     usable_count = np.bincount(group[(group >= 0) & usable], minlength=count)
@@ -320,6 +380,43 @@ def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: obj
             problem = f"{usable_count[k]} usable sight(s): a fix needs two or more"
         groups.append(GroupFix(name, rows, batch.results[k], problem, position, notes[k] if position else ""))
     return groups
+
+
+def _degrees_and_minutes_as_decimal(reduced: pd.DataFrame, group: np.ndarray, results: list, arrays, arguments) -> None:
+    """Fixes whose sights scatter beyond any sextant, tried with their Hs read as degrees and minutes written as
+    a decimal (29.216 read as 29° 21.6′): where that makes the sights agree, the warning says so."""
+    wild = [g for g, r in enumerate(results) if r is not None and any(w.startswith("the sights scatter by")
+                                                                       for w in r.warnings)]
+    if not wild or "hs_deg" not in reduced.columns:
+        return
+    hs = reduced["hs_deg"].to_numpy(dtype=float)
+    degrees = np.trunc(hs)
+    minutes = np.round((hs - degrees) * 100.0, 6)
+    shift = np.where(np.abs(minutes) < 60.0, degrees + minutes / 60.0 - hs, np.nan)
+    members = np.isin(group, wild)
+    if not np.isfinite(shift[members & arguments["usable"]]).all():
+        members &= ~np.isin(group, np.unique(group[members & arguments["usable"] & ~np.isfinite(shift)]))
+    chosen = [g for g in wild if (members & (group == g)).any()]
+    if not chosen:
+        return
+    renumber = np.full(len(results), -1, dtype=np.intp)
+    renumber[chosen] = np.arange(len(chosen))
+    gha, dec, ho, utc, dr_lat, dr_lon = arrays
+    trial = dict(arguments, usable=arguments["usable"] & members)
+    again = fixes_from_sights(gha, dec, ho + np.nan_to_num(shift), utc, dr_lat, dr_lon,
+                              np.where(members, renumber[group], -1), refit=False, **trial)
+    for j, g in enumerate(chosen):
+        other, result = again.results[j], results[g]
+        if other is None or other.redundant < 1 or other.sigma_arcmin > SEXTANT_SIGMA_LIMIT_ARCMIN:
+            continue
+        miles = float(distance_bearing(result.lat_deg, result.lon_deg, other.lat_deg, other.lon_deg)[0])
+        example = hs[(group == g) & arguments["usable"]][0]
+        result.warnings.append(
+            f"read as degrees and minutes written as a decimal ({example:.3f} as "
+            f"{format_angle(example + shift[(group == g) & arguments['usable']][0], 'signed')}), the sights agree to "
+            f"σ {other.sigma_arcmin:.1f}′ and the {other.kind} lies {miles:.0f} nm from this one, at "
+            f"{format_angle(other.lat_deg, 'lat')} {format_angle(other.lon_deg, 'lon')}: write Hs as degrees and "
+            "minutes (29 21.6) or decimal degrees, and fix again")
 
 
 def _next_twilight_plan(voyage: VoyageResult):

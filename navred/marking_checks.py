@@ -3,8 +3,8 @@ lines, the things that should have been noticed, and what a slip costs in miles.
 
 Core code (numpy). Limits (common practice): an intercept beyond 30 nm, or a fix more than 30 nm
 from the DR, should make a navigator question the DR, the assumed position, the time or the body;
-a star or a planet (other than Venus) is shot with the sea horizon between the Sun at −3°, when the
-first stars show, and −12°, the end of nautical twilight, when "the horizon is indistinct" (the US
+a star or a planet is shot between the Sun at −3°, when the first stars show (whatever the horizon),
+and −12°, the end of nautical twilight (with the sea horizon), when "the horizon is indistinct" (the US
 Naval Observatory's definition of nautical twilight); a body more than 1° below the horizon cannot
 have been seen; an ex-meridian is worked no further from meridian passage, in minutes of time, than
 the zenith distance in degrees; an amplitude is taken with the body's centre on the horizon.
@@ -17,20 +17,22 @@ from dataclasses import dataclass
 import numpy as np
 
 from .angles import wrap_180
-from .constants import ARCMIN_PER_DEG
+from .constants import ARCMIN_PER_DEG, LARGE_INTERCEPT_NM, SUN_BRIGHT_SKY_DEG, SUN_DARK_HORIZON_DEG
 from .corrections import horizon_kind
 from .marking_judge import LINES, WRONG, Judge, SightsToMark
 from .marking_methods import Bearings, Latitudes, Lines, latitude_from_altitude_deg
 from .marking_sight import Altitudes, Sky
 from .triangle import computed_altitude_azimuth, destination
 
-#: An intercept beyond this should have been questioned (nautical miles; common practice).
-LONGEST_INTERCEPT_NM = 30.0
+#: A position line further than this from the DR should have been questioned (nautical miles; the intercept
+#: rule of navred.constants, common practice).
+LONGEST_INTERCEPT_NM = LARGE_INTERCEPT_NM
 #: A fix further than this from the DR should have been questioned (nautical miles; common practice).
 FARTHEST_FIX_FROM_DR_NM = 30.0
-#: Stars and planets are shot with the Sun between these altitudes (degrees; see the module's notes).
-STARS_SHOW_SUN_DEG = -3.0
-HORIZON_FADES_SUN_DEG = -12.0
+#: Stars and planets are shot with the Sun between these altitudes (degrees; navred.constants, with the
+#: reduction's own twilight check).
+STARS_SHOW_SUN_DEG = SUN_BRIGHT_SKY_DEG
+HORIZON_FADES_SUN_DEG = SUN_DARK_HORIZON_DEG
 #: Below this (degrees, the centre's true altitude) a body cannot have been seen (common practice).
 LOWEST_SEEN_DEG = -1.0
 #: An amplitude is taken with the centre within these altitudes of the horizon (degrees; common practice).
@@ -194,8 +196,9 @@ def sense_checks(sights: SightsToMark, kind: np.ndarray, method: np.ndarray, sky
     _joined(notes, below, [f"{b} stood {abs(h):.1f}° below the horizon at that time and DR: it cannot have been "
                            "seen; the time, the DR or the body should have been questioned"
                            for b, h in zip(body.tolist(), h_body.tolist())])
-    sea = horizon_kind(np.where(np.asarray(sights.horizon, dtype=object) == "", "sea", sights.horizon)) == "sea"
-    starlike = ((kind == "star") | ((kind == "planet") & (body != "Venus"))) & ~below
+    sea = np.isin(horizon_kind(np.where(np.asarray(sights.horizon, dtype=object) == "", "sea", sights.horizon)),
+                  ["sea", "back"])
+    starlike = ((kind == "star") | (kind == "planet")) & ~below
     what = np.where(kind == "star", "a star", "a planet")
     daylight = starlike & (h_sun > STARS_SHOW_SUN_DEG)
     _joined(notes, daylight, [f"{w} with the Sun {_signed(s)}° high: stars and planets are shot between the Sun at "

@@ -8,7 +8,8 @@ nautical twilight, when the horizon becomes indistinct (the US Naval Observatory
 nautical twilight; the −3° common practice); the Sun and the Moon are above the horizon (an amplitude at
 rising or setting with its centre on it); a Sun sight taken within an hour of the Sun's meridian passage
 is a noon sight and is taken within 15 minutes of it (common practice: the noon series is worked around
-the meridian passage).
+the meridian passage). navred's own sense checks (the twilight warnings of its reduction) stay silent on
+every sample too.
 """
 
 from __future__ import annotations
@@ -63,3 +64,14 @@ def test_every_samples_sights_fit_the_sky(ts, eph, name):
     near_noon = sun & (np.abs(sun_hour_angle) < 1.0)
     at_noon = np.abs(sun_hour_angle[near_noon]) <= 0.25
     assert at_noon.all(), sights[near_noon][~at_noon].assign(minutes=sun_hour_angle[near_noon][~at_noon] * 60)
+
+
+@pytest.mark.parametrize("name", [s for s in SAMPLES if not s.startswith("class")])
+def test_navreds_own_twilight_check_is_silent_on_every_sample_log(name):
+    """No star or planet on the sea horizon in daylight or past nautical twilight by navred's reduction's own
+    warnings (tests/test_sights.py checks that they fire)."""
+    from navred.jobs.sights import reduce_sights
+
+    reduced = reduce_sights(f"sample_sights/{name}")
+    assert not reduced.message.str.contains("twilight").any(), reduced.message[reduced.message.str.contains(
+        "twilight")]

@@ -682,3 +682,31 @@ def test_the_sample_class_is_marked_as_planted():
     # the plot's mistake shows on the round's last sight; its other sights and every other working are right
     plot_rows = {(p.cadet, p.row) for p in planted.itertuples() if p.planted in hand.PLOT_PLANTS}
     assert (others.verdict == "right").sum() >= len(others) - len(plot_rows) * 3
+
+
+def test_workings_timed_by_a_rated_timepiece_take_its_error_from_the_rating_log(ts, eph, pools, tmp_path):
+    """--rates on navred mark as on every command that reads sights: a working kept by "Chrono A" with no watch
+    error written takes the error its time signals predict (an invented chronometer 12.0 s fast, steady)."""
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+
+    sights = [hand.replace(s, eye_in_feet=False) for s in hand.make_rounds(ts, eph, 3, seed=41)[0]]
+    rows = []
+    for sight in sights:
+        row = hand.log_row(hand.replace(sight, watch_error_s=12), hand.work(ts, eph, sight, None, "short"))
+        row["Watch error"] = ""
+        row["Timepiece"] = "Chrono A"
+        rows.append(row)
+    pd.DataFrame(rows).to_csv(tmp_path / "w.csv", index=False)
+    first = sights[0].utc - pd.Timedelta(days=2)
+    signals = pd.DataFrame({"timepiece": "Chrono A",
+                            "utc": [(first + pd.Timedelta(days=k)).strftime("%Y-%m-%dT%H:%M:%SZ") for k in range(4)],
+                            "reading": [(first + pd.Timedelta(days=k, seconds=12)).strftime("%H:%M:%S.0")
+                                        for k in range(4)]})
+    signals.to_csv(tmp_path / "signals.csv", index=False)
+    result = CliRunner().invoke(app, ["mark", str(tmp_path / "w.csv"), "--rates", str(tmp_path / "signals.csv"),
+                                      "--csv"])
+    assert result.exit_code == 0, result.output
+    marks = pd.read_csv(io.StringIO(result.stdout), keep_default_na=False)
+    assert len(marks) == 3 and (marks.verdict == "right").all(), marks[["row", "first_wrong_line", "cause"]]

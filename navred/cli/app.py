@@ -1197,6 +1197,7 @@ def mark_command(
     track: str | None = typer.Option(None, "--track", help="The ship's reference track (GPX, NMEA or CSV, as for navred training): each cadet's personal error against it."),
     exam: bool = typer.Option(False, "--exam", help="Exam mode: leave out navred's fix and any reference position."),
     template: str | None = typer.Option(None, "--template", help="Write an empty sight book (.xlsx: a page per method) to this file and stop."),
+    rates: str | None = typer.Option(None, "--rates", help=_RATES_HELP),
     dates: str | None = typer.Option(None, "--dates", help=_DATES_HELP),
     pdf: str | None = typer.Option(None, "--pdf", hidden=True, help="Old name of -o FILE.pdf (kept for one release)."),
 ) -> None:
@@ -1235,8 +1236,8 @@ def mark_command(
                 kinds = ", ".join(MARK_OUTPUTS)
                 raise NavredError(f"-o {path}: navred mark writes {kinds} files (see --help); "
                                   f"{suffix or 'a name with no suffix'} is none of them")
-            check_output(path, [*workings, *([track] if track else [])])
-        report = mark_workings(_source(workings), dates=dates, exam=exam, track=track)
+            check_output(path, [*workings, *([track] if track else []), *([rates] if rates else [])])
+        report = mark_workings(_source(workings), dates=dates, exam=exam, track=track, rates=_ratings(rates, dates))
         written = []  # the files first: a target that cannot be written stops the run before the long list
         for path in targets:
             suffix = Path(str(path)).suffix.lower()

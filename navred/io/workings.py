@@ -235,13 +235,14 @@ def _compass_checks_without_altitude(table: RawTable) -> RawTable:
                     table.decimal_comma, table.empty_rows, table.malformed_cells)
 
 
-def read_workings(source: object, *, dates: str | None = None) -> Workings:
+def read_workings(source: object, *, dates: str | None = None, rates: object | None = None) -> Workings:
     """Read hand workings: a file, a folder of them, a workbook with a sheet per cadet, or sight-book pages.
 
     The sight's own columns go through :func:`navred.read_sight_log` (every rule of the sight
     log); the worked lines are its extra columns, each distinct cell read once. A row whose
     sight cannot be read is rejected there; a line that cannot be read is listed in
-    ``unreadable`` (and marked wrong, with the reason).
+    ``unreadable`` (and marked wrong, with the reason). ``rates``: the rating log's fit, for workings kept in
+    zone time by a rated timepiece (as for every log).
     """
     tables, line_rows = [], {}
     for table in read_table(source, all_sheets=True):
@@ -249,7 +250,7 @@ def read_workings(source: object, *, dates: str | None = None) -> Workings:
             table, rows = page_sights(table)
             line_rows.update(rows)
         tables.append(_compass_checks_without_altitude(table))
-    log = read_sight_log(tables, dates=dates)
+    log = read_sight_log(tables, dates=dates, rates=rates)
     table = log.table
     n = len(table)
     headers: dict[str, str] = {}

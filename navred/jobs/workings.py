@@ -121,13 +121,14 @@ def _feet(text: str) -> float:
 
 
 def mark_workings(source: object, *, dates: str | None = None, exam: bool = False,
-                  track: object | None = None) -> MarkingReport:
+                  track: object | None = None, rates: object | None = None) -> MarkingReport:
     """Read and mark hand workings: every line judged, the first wrong one named with its cause.
 
     ``exam``: leave out navred's fix and any reference position (a marking sheet handed back in an
     examination shows the cadet's own lines and verdicts only). ``track``: the ship's reference track
-    (a file, as `navred training` reads it): each cadet's personal error against it."""
-    workings = read_workings(source, dates=dates)
+    (a file, as `navred training` reads it): each cadet's personal error against it. ``rates``: a fitted
+    rating log (:func:`navred.io.timesignals.read_rating_log`) for workings timed by a rated timepiece."""
+    workings = read_workings(source, dates=dates, rates=rates)
     table = workings.log.table
     bad_method = np.array([str(m).startswith("?") for m in workings.method.tolist()], dtype=bool)
     ok = (table["read_problem"] == "").to_numpy() & ~bad_method

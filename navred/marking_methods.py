@@ -112,13 +112,10 @@ def _wrapped_arcmin(value):
     return wrap_180(np.asarray(value, dtype=float) / ARCMIN_PER_DEG) * ARCMIN_PER_DEG
 
 
-def intercept_lines(j: Judge, sights: SightsToMark, on: np.ndarray, places: Places, ho_c: np.ndarray) -> Lines:
-    """Judge the position, LHA, tables, Hc, Zn and intercept of the intercept method (``on``: its sights),
-    from an AP or from the DR; returns each sight's line as the cadet's own lines give it."""
+def _way_of_working(j: Judge, lat_dr, lon_dr, gha_c) -> tuple[np.ndarray, np.ndarray]:
+    """Which sights were worked from the DR (the DR written as the position, or the LHA the DR gives), and
+    which give nothing to tell (no position, LHA or tables: from an AP or the DR, both accepted)."""
     n = j.n
-    gha_c, dec_c = places.gha_deg, places.dec_deg
-    lat_dr = np.asarray(sights.dr_lat_deg, dtype=float)
-    lon_dr = np.asarray(sights.dr_lon_deg, dtype=float)
     tolerance = TOLERANCES["ap_lat"] + 1e-9
     lat_given = np.asarray(j.given.get("ap_lat", np.full(n, np.nan)), dtype=float)
     lon_given = np.asarray(j.given.get("ap_lon", np.full(n, np.nan)), dtype=float)
@@ -127,15 +124,18 @@ def intercept_lines(j: Judge, sights: SightsToMark, on: np.ndarray, places: Plac
     lha_dr = wrap_360(gha_c + lon_dr)
     lha_dr_whole = np.abs(wrap_180(lha_dr - np.round(lha_dr))) * ARCMIN_PER_DEG <= tolerance
     tables = j.has("tab_hc_worked") | j.has("tab_d_worked") | j.has("tab_z_worked") | j.has("hc_correction_worked")
-    # which way the cadet worked: the DR written as the position, or the LHA the DR gives
     lat_is_dr = j.has("ap_lat") & (np.abs(lat_given - lat_dr * ARCMIN_PER_DEG) <= tolerance) & ~dr_lat_whole
     lon_is_dr = j.has("ap_lon") & (np.abs(_wrapped_arcmin(lon_given - lon_dr * ARCMIN_PER_DEG)) <= tolerance)
     lha_is_dr = j.has("lha_worked") & (np.abs(_wrapped_arcmin(lha_given - lha_dr * ARCMIN_PER_DEG)) <= tolerance) \
         & ~lha_dr_whole
     no_position = ~j.has("ap_lat") & ~j.has("ap_lon")
     from_dr = lat_is_dr | (~j.has("ap_lat") & lon_is_dr) | (no_position & lha_is_dr)
-    undecided = no_position & ~j.has("lha_worked") & ~tables
+    return from_dr, no_position & ~j.has("lha_worked") & ~tables
 
+
+def _position_lines(j: Judge, on, lat_dr, lon_dr, gha_c, from_dr) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Judge the assumed (or DR) latitude and longitude and the LHA; return them carried forward (degrees)."""
+    n = j.n
     ap_lat_rule = np.round(lat_dr)
     ap_lon_rule = wrap_180(np.round(gha_c + lon_dr) - gha_c)
     lat_expected = np.where(from_dr, lat_dr, ap_lat_rule)
@@ -145,7 +145,7 @@ def intercept_lines(j: Judge, sights: SightsToMark, on: np.ndarray, places: Plac
     lon_expected = np.where(from_dr, lon_dr, ap_lon_rule)
     j.judge("ap_lon", lon_expected * ARCMIN_PER_DEG, also=(np.where(from_dr, ap_lon_rule * ARCMIN_PER_DEG, np.nan),),
             angle=True, only=on)
-    given_lon = lon_given / ARCMIN_PER_DEG
+    given_lon = np.asarray(j.given.get("ap_lon", np.full(n, np.nan)), dtype=float) / ARCMIN_PER_DEG
     lha_whole = np.abs(wrap_180(gha_c + given_lon - np.round(gha_c + given_lon))) * ARCMIN_PER_DEG <= 0.05
     # an AP longitude that makes GHA − longitude whole was chosen for LHA with the longitude's sign reversed
     reversed_whole = np.abs(wrap_180(gha_c - given_lon - np.round(gha_c - given_lon))) * ARCMIN_PER_DEG <= 0.05
@@ -155,10 +155,25 @@ def intercept_lines(j: Judge, sights: SightsToMark, on: np.ndarray, places: Plac
     lha_expected = wrap_360(gha_c + lon_c)
     j.judge("lha_worked", lha_expected * ARCMIN_PER_DEG, angle=True, only=on,
             causes=(("lha sign", wrap_360(gha_c - lon_c) * ARCMIN_PER_DEG),))
-    lha_c = j.value("lha_worked", lha_expected * ARCMIN_PER_DEG) / ARCMIN_PER_DEG
+    return lat_c, lon_c, j.value("lha_worked", lha_expected * ARCMIN_PER_DEG) / ARCMIN_PER_DEG
 
-    # --- the tables (from an AP): whole degrees of Dec, then the d correction for its minutes -----
-    by_tables = on & ~from_dr
+
+@dataclass
+class _Tables:
+    """What the tables (or a calculator) give at the cadet's position: Hc carried forward and as tabulated, the
+    exact Hc and Zn, the tabulated Z and Z interpolated for the minutes of Dec."""
+
+    hc_c: np.ndarray
+    hc_tab: np.ndarray
+    hc_exact: np.ndarray
+    zn_exact: np.ndarray
+    tab_z: np.ndarray
+    z_interpolated: np.ndarray
+    own_tables: np.ndarray
+
+
+def _table_lines(j: Judge, on, by_tables, lat_c, lha_c, dec_c, hc_other) -> _Tables:
+    """Judge the tables' Hc, d and Z at whole degrees of Dec, the d correction of Hc, and Hc."""
     whole_dec = np.sign(dec_c) * np.floor(np.abs(dec_c))
     step = np.where(dec_c >= 0, 1.0, -1.0)
     hc_whole, zn_whole = computed_altitude_azimuth(lat_c, 0.0, lha_c, whole_dec)
@@ -182,58 +197,77 @@ def intercept_lines(j: Judge, sights: SightsToMark, on: np.ndarray, places: Plac
     own_tables = by_tables & (j.has("tab_hc_worked") | j.has("hc_correction_worked"))
     hc_tab = j.value("tab_hc_worked", tab_hc) + j.value("hc_correction_worked", correction_tab)
     hc_expected = np.where(own_tables, hc_tab, hc_exact * ARCMIN_PER_DEG)
-    # a working with no position, LHA or tables may be from the DR: its Hc is accepted too
-    hc_dr, zn_dr = computed_altitude_azimuth(lat_dr, lon_dr, gha_c, dec_c)
-    hc_dr_tab, _ = computed_altitude_azimuth(lat_dr, lon_dr, places.gha_tab_deg, places.dec_tab_deg)
-    hc_other = np.where(undecided, hc_dr * ARCMIN_PER_DEG, np.nan)
     j.judge("hc_worked", hc_expected, np.where(by_tables, hc_tab, tenth(hc_exact * ARCMIN_PER_DEG)),
             also=(hc_other,), only=on, causes=(
                 ("hc d sign", hc_expected - 2.0 * j.value("hc_correction_worked", correction_tab)),
                 ("hc d sign", hc_exact * ARCMIN_PER_DEG - 2.0 * correction_exact)))
-    hc_c = j.value("hc_worked", hc_expected)
+    z_next = np.round(z_from_zn(zn_next, lat_c), 1)
+    return _Tables(j.value("hc_worked", hc_expected), hc_tab, hc_exact, zn_exact, tab_z,
+                   tab_z + (z_next - tab_z) * dec_minutes / ARCMIN_PER_DEG, own_tables)
 
-    # --- Zn: from Z as tabulated, or interpolated for the minutes of Dec, or exact ---------------
-    z_c = j.value("tab_z_worked", z_from_zn(zn_exact, lat_c))
-    z_interpolated = tab_z + (np.round(z_from_zn(zn_next, lat_c), 1) - tab_z) * dec_minutes / ARCMIN_PER_DEG
+
+def _zn_line(j: Judge, on, by_tables, undecided, lat_c, lha_c, tables: _Tables, zn_dr) -> np.ndarray:
+    """Judge Zn: from Z as tabulated, or interpolated for the minutes of Dec, or exact; return it carried."""
+    z_c = j.value("tab_z_worked", z_from_zn(tables.zn_exact, lat_c))
     from_z = np.where(by_tables & j.has("tab_z_worked"), zn_from_z(z_c, lat_c, lha_c), np.nan)
-    interpolated = np.where(by_tables, zn_from_z(z_interpolated, lat_c, lha_c), np.nan)
+    interpolated = np.where(by_tables, zn_from_z(tables.z_interpolated, lat_c, lha_c), np.nan)
     north = lat_c >= 0
-    right_zn = np.where(j.has("tab_z_worked"), from_z, zn_exact)
+    right_zn = np.where(j.has("tab_z_worked"), from_z, tables.zn_exact)
     alternatives = []
-    for z in (z_c, np.where(by_tables, z_interpolated, np.nan)):  # the rule misapplied to either Z
+    for z in (z_c, np.where(by_tables, tables.z_interpolated, np.nan)):  # the rule misapplied to either Z
         for rule in (np.where(north, z, 180.0 - z), np.where(north, 360.0 - z, 180.0 + z),
                      np.where(north, 180.0 - z, z), np.where(north, 180.0 + z, 360.0 - z)):
             alternatives.append(("zn rule", np.where(np.abs(wrap_180(rule - right_zn)) > TOLERANCES["zn_worked"],
                                                      rule % 360.0, np.nan)))
-    j.judge("zn_worked", zn_exact, np.where(by_tables, tenth(zn_from_z(tab_z, lat_c, lha_c)), tenth(zn_exact)),
+    j.judge("zn_worked", tables.zn_exact, np.where(by_tables, tenth(zn_from_z(tables.tab_z, lat_c, lha_c)),
+                                                   tenth(tables.zn_exact)),
             also=(from_z, interpolated, np.where(undecided, zn_dr, np.nan)), angle=True, only=on,
             causes=tuple(alternatives))
-    zn_c = j.value("zn_worked", np.where(j.has("tab_z_worked"), from_z, zn_exact))
+    return j.value("zn_worked", np.where(j.has("tab_z_worked"), from_z, tables.zn_exact))
 
-    # --- the intercept -------------------------------------------------------------------------
-    intercept_expected = ho_c - hc_c
-    intercept_tab = ho_c - np.where(j.has("hc_worked"), hc_c, hc_tab)
-    intercept_dr = np.where(undecided & ~j.has("hc_worked"), ho_c - hc_dr * ARCMIN_PER_DEG, np.nan)
-    intercept_dr_tab = np.where(undecided & ~j.has("hc_worked"), ho_c - tenth(hc_dr_tab * ARCMIN_PER_DEG), np.nan)
+
+def _intercept_line(j: Judge, on, undecided, ho_c, tables: _Tables, hc_dr, hc_dr_tab) -> tuple[np.ndarray, np.ndarray]:
+    """Judge the intercept (Ho − Hc, TOWARD when Ho is the greater); return it carried forward, and which
+    workings that give nothing but Ho, Zn and the intercept were laid off from the DR (it fits the DR better)."""
+    intercept_expected = ho_c - tables.hc_c
+    intercept_tab = ho_c - np.where(j.has("hc_worked"), tables.hc_c, tables.hc_tab)
+    bare = undecided & ~j.has("hc_worked")
+    intercept_dr = np.where(bare, ho_c - hc_dr * ARCMIN_PER_DEG, np.nan)
+    intercept_dr_tab = np.where(bare, ho_c - tenth(hc_dr_tab * ARCMIN_PER_DEG), np.nan)
     j.judge("intercept_worked", intercept_expected, intercept_tab, also=(intercept_dr, intercept_dr_tab), only=on,
             causes=(("toward away", -intercept_expected), ("toward away", -intercept_tab),
                     ("toward away", -intercept_dr), ("toward away", -intercept_dr_tab)))
-    swapped = np.abs(intercept_expected) <= TOLERANCES["intercept_worked"]
-    j.clear_cause("intercept_worked", swapped)  # a zero intercept has no direction to swap
+    j.clear_cause("intercept_worked", np.abs(intercept_expected) <= TOLERANCES["intercept_worked"])  # no direction
     intercept_c = j.value("intercept_worked", intercept_expected)
-    # a working with nothing but Ho, Zn and the intercept was laid off from where its intercept fits better
-    nearer_dr = undecided & ~j.has("hc_worked") & np.isfinite(intercept_dr) & (
+    nearer_dr = bare & np.isfinite(intercept_dr) & (
         np.minimum(np.abs(intercept_c - intercept_dr), np.abs(intercept_c - intercept_dr_tab))
         < np.minimum(np.abs(intercept_c - intercept_expected), np.abs(intercept_c - intercept_tab)))
+    return intercept_c, nearer_dr
+
+
+def intercept_lines(j: Judge, sights: SightsToMark, on: np.ndarray, places: Places, ho_c: np.ndarray) -> Lines:
+    """Judge the position, LHA, tables, Hc, Zn and intercept of the intercept method (``on``: its sights),
+    from an AP or from the DR; returns each sight's line as the cadet's own lines give it."""
+    gha_c, dec_c = places.gha_deg, places.dec_deg
+    lat_dr = np.asarray(sights.dr_lat_deg, dtype=float)
+    lon_dr = np.asarray(sights.dr_lon_deg, dtype=float)
+    from_dr, undecided = _way_of_working(j, lat_dr, lon_dr, gha_c)
+    lat_c, lon_c, lha_c = _position_lines(j, on, lat_dr, lon_dr, gha_c, from_dr)
+    by_tables = on & ~from_dr
+    # a working with no position, LHA or tables may be from the DR: its Hc and Zn there are accepted too
+    hc_dr, zn_dr = computed_altitude_azimuth(lat_dr, lon_dr, gha_c, dec_c)
+    hc_dr_tab, _ = computed_altitude_azimuth(lat_dr, lon_dr, places.gha_tab_deg, places.dec_tab_deg)
+    tables = _table_lines(j, on, by_tables, lat_c, lha_c, dec_c, np.where(undecided, hc_dr * ARCMIN_PER_DEG, np.nan))
+    zn_c = _zn_line(j, on, by_tables, undecided, lat_c, lha_c, tables, zn_dr)
+    intercept_c, nearer_dr = _intercept_line(j, on, undecided, ho_c, tables, hc_dr, hc_dr_tab)
     from_dr = from_dr | nearer_dr
-    lat_line = np.where(nearer_dr, lat_dr, lat_c)
-    lon_line = np.where(nearer_dr, lon_dr, lon_c)
     way = np.where(from_dr, "from the DR by calculator",
-                   np.where(own_tables | (by_tables & j.has("tab_z_worked")), "from an AP by the tables",
+                   np.where(tables.own_tables | (by_tables & j.has("tab_z_worked")), "from an AP by the tables",
                             "from an AP"))
-    nan = np.full(n, np.nan)
-    return Lines(np.where(on, lat_line, nan), np.where(on, lon_line, nan), np.where(on, zn_c, nan),
-                 np.where(on, intercept_c, nan), on & from_dr, np.where(on, way, ""))
+    nan = np.full(j.n, np.nan)
+    return Lines(np.where(on, np.where(nearer_dr, lat_dr, lat_c), nan), np.where(on, np.where(nearer_dr, lon_dr, lon_c),
+                                                                                 nan),
+                 np.where(on, zn_c, nan), np.where(on, intercept_c, nan), on & from_dr, np.where(on, way, ""))
 
 
 @dataclass

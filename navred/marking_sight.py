@@ -228,104 +228,161 @@ class Altitudes:
     ha_deg: np.ndarray
 
 
-def altitude_lines(j: Judge, sights: SightsToMark, sky: Sky, kind: np.ndarray, gha_c: np.ndarray,
-                   dec_c: np.ndarray) -> Altitudes:
-    """Judge Hs to Ho with the almanac's SD and HP at the cadet's UTC; return Ho carried forward."""
+@dataclass
+class _Parts:
+    """Every correction of Hs to Ho for each sight, exact (navred's chain) and as the tables give them."""
+
+    working: object  # the AltitudeCorrections of navred's chain
+    hs: np.ndarray  # arcminutes
+    ic: np.ndarray
+    dip: np.ndarray  # with the horizon's own line (an artificial or back horizon)
+    dip_feet_as_metres: np.ndarray
+    refraction: np.ndarray
+    sd: np.ndarray
+    parallax: np.ndarray
+    sd_tab: np.ndarray
+    parallax_tab: np.ndarray
+    sd_flipped: np.ndarray  # the change of SD + parallax with the SD's sign reversed, the tables' way
+    additional: np.ndarray
+    upper: np.ndarray  # the upper limb
+
+    @property
+    def main(self):
+        return self.refraction + self.sd + self.parallax
+
+    @property
+    def main_tab(self):
+        return self.refraction + self.sd_tab + self.parallax_tab
+
+
+def _parts(sights: SightsToMark, sky: Sky, kind: np.ndarray, gha_c: np.ndarray, dec_c: np.ndarray) -> _Parts:
+    """navred's chain of corrections with the almanac's SD and HP at the cadet's UTC, and the tables' parts."""
     lat_dr = np.asarray(sights.dr_lat_deg, dtype=float)
     lon_dr = np.asarray(sights.dr_lon_deg, dtype=float)
     hc_dr, zn_dr = computed_altitude_azimuth(lat_dr, lon_dr, gha_c, dec_c)
     limb = np.where(np.asarray(sights.limb, dtype=object) == "", "centre", sights.limb)
     _, phase = planet_phases(np.asarray(sights.body, dtype=object), sky.t, lat_dr, lon_dr, hc_dr, zn_dr)
-    sd_t, hp_t = sky.sd_arcmin, sky.hp_arcmin
     working = correct_altitudes(
         sights.hs_deg, index_error_arcmin=sights.index_error_arcmin, eye_height_m=sights.eye_height_m,
         horizon=sights.horizon, temperature_c=sights.temperature_c, pressure_hpa=sights.pressure_hpa,
-        limb=limb, sd_arcmin=sd_t, hp_arcmin=hp_t, augment_sd=kind == "moon", lat_deg=lat_dr, zn_deg=zn_dr,
-        phase_arcmin=phase)
-    hs = np.asarray(sights.hs_deg, dtype=float) * ARCMIN_PER_DEG
-    ic = np.asarray(working.ic_arcmin, dtype=float)
-    j.judge("ic_worked", ic, causes=(("index on off", -ic),))
-    dip = np.asarray(working.dip_arcmin, dtype=float) + np.asarray(working.horizon_arcmin, dtype=float)
+        limb=limb, sd_arcmin=sky.sd_arcmin, hp_arcmin=sky.hp_arcmin, augment_sd=kind == "moon", lat_deg=lat_dr,
+        zn_deg=zn_dr, phase_arcmin=phase)
     feet = np.asarray(sights.eye_height_ft, dtype=float)
-    dip_feet_as_metres = np.where(np.isfinite(feet), -DIP_ARCMIN_PER_SQRT_M * np.sqrt(np.abs(feet)), np.nan)
-    j.judge("dip_worked", dip, causes=(("dip added", -dip), ("feet as metres", dip_feet_as_metres)))
-    ha_expected = hs + j.value("ic_worked", ic) + j.value("dip_worked", dip)
-    j.judge("ha_worked", ha_expected, also=(hs + ic + dip,))
-    ha_c = j.value("ha_worked", ha_expected)
     refraction = np.asarray(working.refraction_arcmin, dtype=float)
     sd = np.asarray(working.sd_arcmin, dtype=float)
-    parallax = np.asarray(working.parallax_arcmin, dtype=float)
     # as the tables give them: the daily page's (geocentric) SD, unaugmented, and the spherical parallax
     # HP cos h at the altitude of the centre (the almanac's tables leave out the Earth's flattening)
-    sd_tab = np.where(np.isfinite(sd), limb_sign(limb) * np.nan_to_num(sd_t), np.nan)
+    sd_tab = np.where(np.isfinite(sd), limb_sign(limb) * np.nan_to_num(sky.sd_arcmin), np.nan)
     centre_deg = (np.asarray(working.ha_deg, dtype=float) * ARCMIN_PER_DEG + refraction + sd) / ARCMIN_PER_DEG
-    hp = np.nan_to_num(hp_t)
+    hp = np.nan_to_num(sky.hp_arcmin)
     parallax_tab = np.where(hp > 0, parallax_in_altitude_arcmin(centre_deg, hp), 0.0)
-    j.judge("refraction_worked", refraction, tenth(refraction))
-    has_sd = (kind == "sun") | (kind == "moon")
-    j.judge("sd_worked", np.where(has_sd, sd, np.nan), np.where(has_sd, sd_tab, np.nan),
-            causes=(("sd sign", -sd), ("sd sign", -sd_tab)))
-    moon = kind == "moon"
-    j.judge("parallax_worked", np.where(kind == "star", np.nan, parallax), np.where(kind == "star", np.nan,
-                                                                                    parallax_tab),
-            causes=(("moon parallax", np.where(moon, 0.0, np.nan)),))
-    main = refraction + sd + parallax
-    main_tab = refraction + sd_tab + parallax_tab
     # with the SD's sign reversed the centre stands 2 SD lower or higher, and so does the parallax's altitude
     parallax_flipped = np.where(hp > 0, parallax_in_altitude_arcmin(centre_deg - 2.0 * sd / ARCMIN_PER_DEG, hp), 0.0)
-    sd_flipped = -2.0 * sd + parallax_flipped - parallax_tab  # the change of SD + parallax, tables' way
+    return _Parts(working, np.asarray(sights.hs_deg, dtype=float) * ARCMIN_PER_DEG,
+                  np.asarray(working.ic_arcmin, dtype=float),
+                  np.asarray(working.dip_arcmin, dtype=float) + np.asarray(working.horizon_arcmin, dtype=float),
+                  np.where(np.isfinite(feet), -DIP_ARCMIN_PER_SQRT_M * np.sqrt(np.abs(feet)), np.nan),
+                  refraction, sd, np.asarray(working.parallax_arcmin, dtype=float), sd_tab, parallax_tab,
+                  -2.0 * sd + parallax_flipped - parallax_tab, np.asarray(working.phase_arcmin, dtype=float),
+                  limb_sign(limb) < 0)
+
+
+def _apparent_altitude_lines(j: Judge, p: _Parts) -> np.ndarray:
+    """Judge the index correction, the dip and Ha; return Ha carried forward (arcminutes)."""
+    j.judge("ic_worked", p.ic, causes=(("index on off", -p.ic),))
+    j.judge("dip_worked", p.dip, causes=(("dip added", -p.dip), ("feet as metres", p.dip_feet_as_metres)))
+    ha_expected = p.hs + j.value("ic_worked", p.ic) + j.value("dip_worked", p.dip)
+    j.judge("ha_worked", ha_expected, also=(p.hs + p.ic + p.dip,))
+    return j.value("ha_worked", ha_expected)
+
+
+@dataclass
+class _Moon:
+    """How a working took its main correction: the Moon's two-part table or not, the first correction at the
+    table's HP, and the cadet's main correction and upper limb's 30′ carried forward."""
+
+    two_part: np.ndarray
+    first_part: np.ndarray
+    main_c: np.ndarray
+    upper_limb_c: np.ndarray
+
+
+def _correction_lines(j: Judge, p: _Parts, kind: np.ndarray, ha_c: np.ndarray) -> _Moon:
+    """Judge refraction, SD, parallax, the main correction (or the Moon's first), the HP correction, the upper
+    limb's −30′ and the additional correction."""
+    moon = kind == "moon"
+    j.judge("refraction_worked", p.refraction, tenth(p.refraction))
+    has_sd = (kind == "sun") | moon
+    j.judge("sd_worked", np.where(has_sd, p.sd, np.nan), np.where(has_sd, p.sd_tab, np.nan),
+            causes=(("sd sign", -p.sd), ("sd sign", -p.sd_tab)))
+    star = kind == "star"
+    j.judge("parallax_worked", np.where(star, np.nan, p.parallax), np.where(star, np.nan, p.parallax_tab),
+            causes=(("moon parallax", np.where(moon, 0.0, np.nan)),))
     # the Moon's two-part table: the first correction at the standard HP, for the lower limb, at Ha
     two_part = moon & (j.has("hp_corr_worked") | j.has("upper_limb_worked"))
-    upper = limb_sign(limb) < 0
     first_part = moon_first_correction_arcmin(ha_c / ARCMIN_PER_DEG)
-    upper_limb = np.where(two_part & upper, MOON_UPPER_LIMB_ARCMIN, np.nan)
+    main, main_tab = p.main, p.main_tab
     j.judge("main_worked", np.where(two_part, first_part, main), np.where(two_part, tenth(first_part), main_tab),
             causes=(
-                ("sd sign", main - 2.0 * sd), ("sd sign", main_tab - 2.0 * sd_tab),
-                ("sd sign", main + sd_flipped), ("sd sign", main_tab + sd_flipped),
-                ("moon parallax", np.where(moon & ~two_part, main - parallax, np.nan)),
-                ("moon parallax", np.where(moon & ~two_part, main_tab - parallax_tab, np.nan)),
+                ("sd sign", main - 2.0 * p.sd), ("sd sign", main_tab - 2.0 * p.sd_tab),
+                ("sd sign", main + p.sd_flipped), ("sd sign", main_tab + p.sd_flipped),
+                ("moon parallax", np.where(moon & ~two_part, main - p.parallax, np.nan)),
+                ("moon parallax", np.where(moon & ~two_part, main_tab - p.parallax_tab, np.nan)),
                 ("moon parallax", np.where(moon & ~two_part, first_part, np.nan))))
     main_c = j.value("main_worked", np.where(two_part, first_part, main))
-    ul_c = np.where(two_part & upper, j.value("upper_limb_worked", MOON_UPPER_LIMB_ARCMIN), 0.0)
+    upper_limb_c = np.where(two_part & p.upper, j.value("upper_limb_worked", MOON_UPPER_LIMB_ARCMIN), 0.0)
     # the HP correction: what the day's HP adds to the cadet's first correction (and the upper limb's 30′)
-    hp_exact = np.where(two_part, main - main_c - ul_c, np.nan)
-    hp_tab = np.where(two_part, main_tab - main_c - ul_c, np.nan)
-    j.judge("hp_corr_worked", hp_exact, hp_tab, causes=(("sd sign", hp_exact - 2.0 * sd), ("sd sign", hp_tab - 2.0 *
-                                                                                          sd_tab)))
-    j.judge("upper_limb_worked", upper_limb)
-    additional = np.asarray(working.phase_arcmin, dtype=float)
-    j.judge("additional_worked", np.where((kind == "planet"), additional, np.nan))
+    hp_exact = np.where(two_part, main - main_c - upper_limb_c, np.nan)
+    hp_tab = np.where(two_part, main_tab - main_c - upper_limb_c, np.nan)
+    j.judge("hp_corr_worked", hp_exact, hp_tab, causes=(("sd sign", hp_exact - 2.0 * p.sd),
+                                                       ("sd sign", hp_tab - 2.0 * p.sd_tab)))
+    j.judge("upper_limb_worked", np.where(two_part & p.upper, MOON_UPPER_LIMB_ARCMIN, np.nan))
+    j.judge("additional_worked", np.where(kind == "planet", p.additional, np.nan))
+    return _Moon(two_part, first_part, main_c, upper_limb_c)
+
+
+def _ho_line(j: Judge, p: _Parts, kind: np.ndarray, ha_c: np.ndarray, m: _Moon) -> np.ndarray:
+    """Judge Ho, the sum of the cadet's own lines (or the right Ho); return it carried forward."""
+    moon = kind == "moon"
     own_main = j.has("main_worked")
 
     def total(refraction_, sd_, parallax_, main_):
-        two = main_c + j.value("hp_corr_worked", main_ - main_c - ul_c) + ul_c
+        two = m.main_c + j.value("hp_corr_worked", main_ - m.main_c - m.upper_limb_c) + m.upper_limb_c
         parts = j.value("refraction_worked", refraction_) + j.value("sd_worked", sd_) + \
             j.value("parallax_worked", parallax_)
-        return ha_c + j.value("additional_worked", additional) + np.where(
-            two_part, two, np.where(own_main, j.value("main_worked", main_), parts))
+        return ha_c + j.value("additional_worked", p.additional) + np.where(
+            m.two_part, two, np.where(own_main, j.value("main_worked", main_), parts))
 
-    ho_expected = total(refraction, sd, parallax, main)
-    ho_tab = total(tenth(refraction), tenth(sd_tab), tenth(parallax_tab), tenth(main_tab))
-    hp_part = main - first_part - ul_c
-    ho_right = np.asarray(working.ho_deg, dtype=float) * ARCMIN_PER_DEG  # the right Ho is right too
-    j.judge("ho_worked", ho_expected, ho_tab, also=(ho_right,), tolerance=np.where(moon, MOON_HO_TOLERANCE_ARCMIN,
-                                                                   TOLERANCES["ho_worked"]), causes=(
-        ("upper limb", np.where(two_part & upper & ~j.has("upper_limb_worked"), ho_expected - MOON_UPPER_LIMB_ARCMIN,
-                                np.nan)),
-        ("dip added", ho_expected - 2.0 * dip),
-        ("feet as metres", ho_expected - dip + dip_feet_as_metres),
-        ("index on off", ho_expected - 2.0 * ic),
-        ("sd sign", ho_expected - 2.0 * sd),
-        ("sd sign", ho_tab - 2.0 * sd_tab),
-        ("sd sign", ho_expected + sd_flipped),
-        ("sd sign", ho_tab + sd_flipped),
-        ("moon parallax", np.where(moon & two_part & ~j.has("hp_corr_worked"), ho_expected - hp_part, np.nan)),
-        ("moon parallax", np.where(moon & ~two_part, ho_expected - parallax, np.nan)),
-        ("moon parallax", np.where(moon & ~two_part, ho_tab - parallax_tab, np.nan)),
-        ("moon parallax", np.where(moon & ~two_part & own_main, ho_expected - main_c + first_part, np.nan))))
-    return Altitudes(j.value("ho_worked", ho_expected), np.asarray(working.ho_deg, dtype=float),
-                     np.asarray(working.ha_deg, dtype=float))
+    ho_expected = total(p.refraction, p.sd, p.parallax, p.main)
+    ho_tab = total(tenth(p.refraction), tenth(p.sd_tab), tenth(p.parallax_tab), tenth(p.main_tab))
+    hp_part = p.main - m.first_part - m.upper_limb_c  # what the Moon's HP correction adds
+    ho_right = np.asarray(p.working.ho_deg, dtype=float) * ARCMIN_PER_DEG  # the right Ho is right too
+    j.judge("ho_worked", ho_expected, ho_tab, also=(ho_right,), tolerance=np.where(
+        moon, MOON_HO_TOLERANCE_ARCMIN, TOLERANCES["ho_worked"]), causes=(
+        ("upper limb", np.where(m.two_part & p.upper & ~j.has("upper_limb_worked"),
+                                ho_expected - MOON_UPPER_LIMB_ARCMIN, np.nan)),
+        ("dip added", ho_expected - 2.0 * p.dip),
+        ("feet as metres", ho_expected - p.dip + p.dip_feet_as_metres),
+        ("index on off", ho_expected - 2.0 * p.ic),
+        ("sd sign", ho_expected - 2.0 * p.sd),
+        ("sd sign", ho_tab - 2.0 * p.sd_tab),
+        ("sd sign", ho_expected + p.sd_flipped),
+        ("sd sign", ho_tab + p.sd_flipped),
+        ("moon parallax", np.where(moon & m.two_part & ~j.has("hp_corr_worked"), ho_expected - hp_part, np.nan)),
+        ("moon parallax", np.where(moon & ~m.two_part, ho_expected - p.parallax, np.nan)),
+        ("moon parallax", np.where(moon & ~m.two_part, ho_tab - p.parallax_tab, np.nan)),
+        ("moon parallax", np.where(moon & ~m.two_part & ~own_main, ho_expected - p.main + m.first_part, np.nan))))
+    return j.value("ho_worked", ho_expected)
+
+
+def altitude_lines(j: Judge, sights: SightsToMark, sky: Sky, kind: np.ndarray, gha_c: np.ndarray,
+                   dec_c: np.ndarray) -> Altitudes:
+    """Judge Hs to Ho with the almanac's SD and HP at the cadet's UTC; return Ho carried forward."""
+    p = _parts(sights, sky, kind, gha_c, dec_c)
+    ha_c = _apparent_altitude_lines(j, p)
+    moon = _correction_lines(j, p, kind, ha_c)
+    ho_c = _ho_line(j, p, kind, ha_c, moon)
+    return Altitudes(ho_c, np.asarray(p.working.ho_deg, dtype=float), np.asarray(p.working.ha_deg, dtype=float))
 
 
 def moon_first_correction_arcmin(ha_deg: np.ndarray) -> np.ndarray:

@@ -119,112 +119,119 @@ def write_marking_workbook(report, path: str | Path) -> Path:
     return atomic_write(path, tables.save, inputs=report.workings.log.sources)
 
 
+def _template_lists(book) -> dict:
+    """The hidden sheet of words to choose from (bodies, limbs, horizons, methods) and the list rule of each."""
+
+    from ..stars import known_bodies
+    from ..vocabulary import HORIZONS, LIMBS
+
+    lists = book.create_sheet("Lists")
+    words = {"body": known_bodies(), "limb": sorted({v for v in LIMBS.values() if v}),
+             "horizon": sorted(set(HORIZONS.values())),
+             "method": ["intercept", "meridian", "ex-meridian", "polaris", "amplitude", "azimuth"]}
+    for column, values in enumerate(words.values(), start=1):
+        for k, word in enumerate(values, start=1):
+            lists.cell(row=k, column=column, value=word)
+    lists.sheet_state = "hidden"
+    return {name: (letter, len(values)) for (name, values), letter in zip(words.items(), "ABCD")}
+
+
+def _template_page(book, title: str, method: str, sections, own: dict, lists: dict) -> None:
+    """A page of the sight book: :data:`BLOCKS_PER_PAGE` workings down the sheet, one printed page each."""
+    from openpyxl.styles import Alignment, Font, PatternFill
+    from openpyxl.worksheet.datavalidation import DataValidation
+    from openpyxl.worksheet.pagebreak import Break
+
+    from .workbook import header_row
+
+    grey = Font(italic=True, color="666666", size=9)
+    shade = PatternFill("solid", fgColor="EEF2F7")
+    sheet = book.create_sheet(title)
+    header_row(sheet, 1, list(PAGE_HEADER))
+    for letter, width in (("A", 44), ("B", 26), ("C", 62)):
+        sheet.column_dimensions[letter].width = width
+    rules = {name: DataValidation(type="list", formula1=f"=Lists!${letter}$1:${letter}${count}", allow_blank=True,
+                                  showErrorMessage=True, errorTitle="navred", error=f"choose a {name} from the list")
+             for name, (letter, count) in lists.items()}
+    # a compass check takes no altitude; Polaris has no limb
+    left_out = {"amplitude": ("limb", "hs", "index_error", "eye_height_m", "horizon"), "polaris": ("limb",)}
+    sight = [line for line in SIGHT_LINES if line[1] not in left_out.get(method, ())] + (
+        list(COMPASS_SIGHT_LINES) if method == "amplitude" else [])
+    row = 2
+    for block in range(1, BLOCKS_PER_PAGE + 1):
+        sheet.cell(row=row, column=1, value=f"Working {block}").font = Font(bold=True, size=12)
+        row += 1
+        for label, key, note in sight:
+            sheet.cell(row=row, column=1, value=label)
+            sheet.cell(row=row, column=3, value=note).font = grey
+            prefilled = {"method": method, "body": "Polaris" if method == "polaris" else None}.get(key)
+            if prefilled:
+                sheet.cell(row=row, column=2, value=prefilled)
+            if key in rules:
+                rules[key].add(f"B{row}")
+            row += 1
+        for section, keys in sections:
+            sheet.cell(row=row, column=1, value=section).font = Font(bold=True)
+            for k in (1, 2, 3):
+                sheet.cell(row=row, column=k).fill = shade
+            row += 1
+            for key in keys:
+                _, what, example = WORKED_FORMS[key]
+                sheet.cell(row=row, column=1, value=own.get(key, LINE_NAMES[key]))
+                sheet.cell(row=row, column=3, value=f"{what}: {example}").font = grey
+                row += 1
+        sheet.cell(row=row, column=1, value=REMARKS_LINE[0]).font = Font(bold=True)
+        sheet.cell(row=row, column=3, value=REMARKS_LINE[2]).font = grey
+        sheet.cell(row=row, column=2).alignment = Alignment(wrap_text=True, vertical="top")
+        sheet.row_dimensions[row].height = 45
+        row += 2
+        sheet.row_breaks.append(Break(id=row - 1))
+    for rule in rules.values():
+        sheet.add_data_validation(rule)
+    sheet.freeze_panes = "A2"
+
+
+#: How to fill the sight book in: its instructions sheet, line by line (the caution follows).
+TEMPLATE_INSTRUCTIONS = (
+    "Work each sight in a block of its page, down the page, as you would by hand: the sight, the time to UTC, "
+    "the almanac, Hs to Ho, then the method's own lines. Fill what you wrote in your working; leave the rest.",
+    "Intercept: from an assumed position with the tables (AP, LHA, tabulated Hc, d and Z) or from the DR with a "
+    "calculator (write the DR as the position). Required: Ho, Zn and the intercept.",
+    "Noon: the latitude by meridian altitude (method meridian), or by ex-meridian (method ex-meridian, with the "
+    "LHA, a and the reduction). Required: Ho and the latitude.",
+    "Polaris: LHA Aries and the Polaris correction (a0 + a1 + a2 − 1°). Required: Ho and the latitude.",
+    "Compass: by amplitude at rising or setting (method amplitude) or by azimuth (method azimuth, with the LHA); "
+    "the compass bearing and the variation. Required: the compass error.",
+    "The Moon: one combined main correction, or the two-part table (the main correction, then the HP correction, "
+    "and −30′ for the upper limb).",
+    "The fix you plotted: on the last sight of the round, with the same fix group on every sight of it.",
+    "The instructor writes remarks under each working; navred keeps them when it marks the book again.",
+    "Each line's forms are beside it; docs/marking.md explains every line and how it is judged.",
+)
+
+
 def write_template(path: str | Path) -> Path:
     """An empty sight book: a page per method, each with :data:`BLOCKS_PER_PAGE` workings laid out down the
     page in the order of a hand reduction (one printed page each), lists to choose the body, limb, horizon
     and method from, and a sheet of instructions with the safety caution."""
     from openpyxl import Workbook
-    from openpyxl.styles import Alignment, Font, PatternFill
-    from openpyxl.worksheet.datavalidation import DataValidation
-    from openpyxl.worksheet.pagebreak import Break
+    from openpyxl.styles import Alignment, Font
 
-    from ..stars import known_bodies
-    from ..vocabulary import HORIZONS, LIMBS
     from .output import atomic_write
-    from .workbook import SAFETY, fit_pages, header_row
+    from .workbook import SAFETY, fit_pages
 
     book = Workbook()
     book.remove(book.active)
-    help_sheet = book.create_sheet("How to fill it in")
-    lists = book.create_sheet("Lists")
-    bodies = known_bodies()
-    limbs = sorted({v for v in LIMBS.values() if v})
-    horizons = sorted(set(HORIZONS.values()))
-    methods = ["intercept", "meridian", "ex-meridian", "polaris", "amplitude", "azimuth"]
-    for column, words in enumerate((bodies, limbs, horizons, methods), start=1):
-        for k, word in enumerate(words, start=1):
-            lists.cell(row=k, column=column, value=word)
-    lists.sheet_state = "hidden"
-    grey = Font(italic=True, color="666666", size=9)
-    shade = PatternFill("solid", fgColor="EEF2F7")
+    lists = _template_lists(book)
     for title, (method, sections, own) in PAGES.items():
-        sheet = book.create_sheet(title)
-        header_row(sheet, 1, list(PAGE_HEADER))
-        sheet.column_dimensions["A"].width = 44
-        sheet.column_dimensions["B"].width = 26
-        sheet.column_dimensions["C"].width = 62
-        rules = {name: DataValidation(type="list", formula1=f"=Lists!${letter}$1:${letter}${count}",
-                                      allow_blank=True, showErrorMessage=True, errorTitle="navred",
-                                      error=f"choose a {name} from the list")
-                 for name, letter, count in (("body", "A", len(bodies)), ("limb", "B", len(limbs)),
-                                             ("horizon", "C", len(horizons)), ("method", "D", len(methods)))}
-        row = 2
-        # a compass check takes no altitude; Polaris has no limb
-        left_out = {"amplitude": ("limb", "hs", "index_error", "eye_height_m", "horizon"), "polaris": ("limb",)}
-        sight = [line for line in SIGHT_LINES if line[1] not in left_out.get(method, ())] + (
-            list(COMPASS_SIGHT_LINES) if method == "amplitude" else [])
-        for block in range(1, BLOCKS_PER_PAGE + 1):
-            sheet.cell(row=row, column=1, value=f"Working {block}").font = Font(bold=True, size=12)
-            row += 1
-            for label, key, note in sight:
-                sheet.cell(row=row, column=1, value=label)
-                sheet.cell(row=row, column=3, value=note).font = grey
-                if key == "method":
-                    sheet.cell(row=row, column=2, value=method)
-                if key == "body" and method == "polaris":
-                    sheet.cell(row=row, column=2, value="Polaris")
-                if key in rules:
-                    rules[key].add(f"B{row}")
-                row += 1
-            for section, keys in sections:
-                cell = sheet.cell(row=row, column=1, value=section)
-                cell.font = Font(bold=True)
-                for k in (1, 2, 3):
-                    sheet.cell(row=row, column=k).fill = shade
-                row += 1
-                for key in keys:
-                    _, what, example = WORKED_FORMS[key]
-                    sheet.cell(row=row, column=1, value=own.get(key, LINE_NAMES[key]))
-                    sheet.cell(row=row, column=3, value=f"{what}: {example}").font = grey
-                    row += 1
-            sheet.cell(row=row, column=1, value=REMARKS_LINE[0]).font = Font(bold=True)
-            sheet.cell(row=row, column=3, value=REMARKS_LINE[2]).font = grey
-            sheet.cell(row=row, column=2).alignment = Alignment(wrap_text=True, vertical="top")
-            sheet.row_dimensions[row].height = 45
-            row += 1
-            sheet.row_breaks.append(Break(id=row))
-            row += 1
-        for rule in rules.values():
-            sheet.add_data_validation(rule)
-        sheet.freeze_panes = "A2"
-        sheet.print_title_rows = "1:1"
-        sheet.page_setup.orientation = "portrait"
-        sheet.page_setup.fitToWidth = 1
-        sheet.page_setup.fitToHeight = 0
-        sheet.sheet_properties.pageSetUpPr.fitToPage = True
+        _template_page(book, title, method, sections, own, lists)
+    help_sheet = book.create_sheet("How to fill it in")
     help_sheet["A1"] = "A sight book for navred mark: a page per method, one working per block."
     help_sheet["A1"].font = Font(bold=True, size=13)
-    lines = [
-        "Work each sight in a block of its page, down the page, as you would by hand: the sight, the time to UTC, "
-        "the almanac, Hs to Ho, then the method's own lines. Fill what you wrote in your working; leave the rest.",
-        "Intercept: from an assumed position with the tables (AP, LHA, tabulated Hc, d and Z) or from the DR with a "
-        "calculator (write the DR as the position). Required: Ho, Zn and the intercept.",
-        "Noon: the latitude by meridian altitude (method meridian), or by ex-meridian (method ex-meridian, with the "
-        "LHA, a and the reduction). Required: Ho and the latitude.",
-        "Polaris: LHA Aries and the Polaris correction (a0 + a1 + a2 − 1°). Required: Ho and the latitude.",
-        "Compass: by amplitude at rising or setting (method amplitude) or by azimuth (method azimuth, with the LHA); "
-        "the compass bearing and the variation. Required: the compass error.",
-        "The Moon: one combined main correction, or the two-part table (the main correction, then the HP correction, "
-        "and −30′ for the upper limb).",
-        "The fix you plotted: on the last sight of the round, with the same fix group on every sight of it.",
-        "The instructor writes remarks under each working; navred keeps them when it marks the book again.",
-        "Each line's forms are beside it; docs/marking.md explains every line and how it is judged.",
-    ]
-    for k, text in enumerate(lines, start=3):
+    for k, text in enumerate(TEMPLATE_INSTRUCTIONS, start=3):
         help_sheet.cell(row=k, column=1, value=text).alignment = Alignment(wrap_text=True)
-    help_sheet.cell(row=len(lines) + 4, column=1, value=SAFETY).alignment = Alignment(wrap_text=True)
+    help_sheet.cell(row=len(TEMPLATE_INSTRUCTIONS) + 4, column=1, value=SAFETY).alignment = Alignment(wrap_text=True)
     help_sheet.column_dimensions["A"].width = 120
-    book.move_sheet("How to fill it in", offset=len(book.sheetnames))
     book.move_sheet("Lists", offset=len(book.sheetnames))
     fit_pages(book)
     return atomic_write(path, book.save)

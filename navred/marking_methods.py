@@ -124,12 +124,14 @@ def _way_of_working(j: Judge, lat_dr, lon_dr, gha_c) -> tuple[np.ndarray, np.nda
     lha_dr = wrap_360(gha_c + lon_dr)
     lha_dr_whole = np.abs(wrap_180(lha_dr - np.round(lha_dr))) * ARCMIN_PER_DEG <= tolerance
     tables = j.has("tab_hc_worked") | j.has("tab_d_worked") | j.has("tab_z_worked") | j.has("hc_correction_worked")
-    lat_is_dr = j.has("ap_lat") & (np.abs(lat_given - lat_dr * ARCMIN_PER_DEG) <= tolerance) & ~dr_lat_whole
+    lat_at_dr = j.has("ap_lat") & (np.abs(lat_given - lat_dr * ARCMIN_PER_DEG) <= tolerance)
     lon_is_dr = j.has("ap_lon") & (np.abs(_wrapped_arcmin(lon_given - lon_dr * ARCMIN_PER_DEG)) <= tolerance)
     lha_is_dr = j.has("lha_worked") & (np.abs(_wrapped_arcmin(lha_given - lha_dr * ARCMIN_PER_DEG)) <= tolerance) \
         & ~lha_dr_whole
     no_position = ~j.has("ap_lat") & ~j.has("ap_lon")
-    from_dr = lat_is_dr | (~j.has("ap_lat") & lon_is_dr) | (no_position & lha_is_dr)
+    # the DR's latitude (when not a whole degree, an AP's could not be it), or the DR written whole
+    from_dr = (lat_at_dr & ~dr_lat_whole) | (lat_at_dr & lon_is_dr) | (~j.has("ap_lat") & lon_is_dr) | \
+        (no_position & lha_is_dr)
     return from_dr, no_position & ~j.has("lha_worked") & ~tables
 
 
@@ -226,15 +228,20 @@ def _zn_line(j: Judge, on, by_tables, undecided, lat_c, lha_c, tables: _Tables, 
     return j.value("zn_worked", np.where(j.has("tab_z_worked"), from_z, tables.zn_exact))
 
 
-def _intercept_line(j: Judge, on, undecided, ho_c, tables: _Tables, hc_dr, hc_dr_tab) -> tuple[np.ndarray, np.ndarray]:
+def _intercept_line(j: Judge, on, undecided, ho_c, tables: _Tables, hc_dr, hc_dr_tab,
+                    hc_ap_tab) -> tuple[np.ndarray, np.ndarray]:
     """Judge the intercept (Ho − Hc, TOWARD when Ho is the greater); return it carried forward, and which
-    workings that give nothing but Ho, Zn and the intercept were laid off from the DR (it fits the DR better)."""
+    workings that give nothing but Ho, Zn and the intercept were laid off from the DR (it fits the DR better).
+    Such a working may also have taken its AP from the printed GHA, which near half a degree of LHA rounds
+    the other way: ``hc_ap_tab`` is Hc at that AP."""
     intercept_expected = ho_c - tables.hc_c
     intercept_tab = ho_c - np.where(j.has("hc_worked"), tables.hc_c, tables.hc_tab)
     bare = undecided & ~j.has("hc_worked")
     intercept_dr = np.where(bare, ho_c - hc_dr * ARCMIN_PER_DEG, np.nan)
     intercept_dr_tab = np.where(bare, ho_c - tenth(hc_dr_tab * ARCMIN_PER_DEG), np.nan)
-    j.judge("intercept_worked", intercept_expected, intercept_tab, also=(intercept_dr, intercept_dr_tab), only=on,
+    intercept_ap_tab = np.where(bare, ho_c - hc_ap_tab * ARCMIN_PER_DEG, np.nan)
+    j.judge("intercept_worked", intercept_expected, intercept_tab,
+            also=(intercept_dr, intercept_dr_tab, intercept_ap_tab), only=on,
             causes=(("toward away", -intercept_expected), ("toward away", -intercept_tab),
                     ("toward away", -intercept_dr), ("toward away", -intercept_dr_tab)))
     j.clear_cause("intercept_worked", np.abs(intercept_expected) <= TOLERANCES["intercept_worked"])  # no direction
@@ -259,7 +266,9 @@ def intercept_lines(j: Judge, sights: SightsToMark, on: np.ndarray, places: Plac
     hc_dr_tab, _ = computed_altitude_azimuth(lat_dr, lon_dr, places.gha_tab_deg, places.dec_tab_deg)
     tables = _table_lines(j, on, by_tables, lat_c, lha_c, dec_c, np.where(undecided, hc_dr * ARCMIN_PER_DEG, np.nan))
     zn_c = _zn_line(j, on, by_tables, undecided, lat_c, lha_c, tables, zn_dr)
-    intercept_c, nearer_dr = _intercept_line(j, on, undecided, ho_c, tables, hc_dr, hc_dr_tab)
+    lha_tab = np.round(places.gha_tab_deg + lon_dr)  # the AP the printed GHA gives (its LHA whole)
+    hc_ap_tab, _ = computed_altitude_azimuth(np.round(lat_dr), 0.0, lha_tab, places.dec_tab_deg)
+    intercept_c, nearer_dr = _intercept_line(j, on, undecided, ho_c, tables, hc_dr, hc_dr_tab, hc_ap_tab)
     from_dr = from_dr | nearer_dr
     way = np.where(from_dr, "from the DR by calculator",
                    np.where(tables.own_tables | (by_tables & j.has("tab_z_worked")), "from an AP by the tables",

@@ -710,3 +710,33 @@ def test_workings_timed_by_a_rated_timepiece_take_its_error_from_the_rating_log(
     assert result.exit_code == 0, result.output
     marks = pd.read_csv(io.StringIO(result.stdout), keep_default_na=False)
     assert len(marks) == 3 and (marks.verdict == "right").all(), marks[["row", "first_wrong_line", "cause"]]
+
+
+def test_a_sight_book_with_some_pages_empty_is_read_and_an_empty_one_refused(ts, eph, pools, tmp_path):
+    """Only the pages a cadet filled are workings; a book with nothing filled is refused in one line."""
+    from openpyxl import load_workbook
+
+    from navred.io.sightbook import LABELS
+    from navred.vocabulary import normalise_header
+
+    write_template(tmp_path / "empty.xlsx")
+    with pytest.raises(NavredError, match="no working is filled in"):
+        mark_workings(tmp_path / "empty.xlsx")
+    book = load_workbook(tmp_path / "empty.xlsx")
+    sheet = book["Intercept"]
+    sight = [s for s in pools["intercept"] if not s.eye_in_feet][0]
+    row = hand.log_row(sight, hand.work(ts, eph, sight, None, "full"))
+    values = {"date": row["Date"], "zone_time": row["Watch time"], "zone_description": row["ZD"],
+              "watch_error": row["Watch error"], "body": sight.body, "limb": sight.limb, "hs": row["Hs"],
+              "index_error": row["IE"], "eye_height_m": sight.eye_m, "dr_lat": row["DR lat"],
+              "dr_lon": row["DR lon"], **hand.texts(hand.work(ts, eph, sight, None, "full"))}
+    r = 3
+    while not str(sheet.cell(r, 1).value or "").startswith("Working "):
+        key = LABELS.get(normalise_header(str(sheet.cell(r, 1).value or "")))
+        if values.get(key) not in (None, ""):
+            sheet.cell(r, 2, values[key])
+        r += 1
+    book.save(tmp_path / "one.xlsx")
+    report = mark_workings(tmp_path / "one.xlsx")
+    assert len(report.rows) == 1 and report.rows.verdict.iloc[0] == "right" and report.rejected.empty
+    assert report.rows.cadet.iloc[0] == "one"  # no cadet written: the book's file names the cadet

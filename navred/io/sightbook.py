@@ -109,11 +109,12 @@ def _blank(value) -> bool:
                                                                              and not value.strip())
 
 
-def page_sights(table: RawTable) -> tuple[RawTable, dict]:
+def page_sights(table: RawTable) -> tuple[RawTable | None, dict]:
     """A page's filled blocks as the table form: one row per working, named by its block's title row.
 
-    Returns the table and, for each working ((source, row)), the spreadsheet row of each of its lines. A
-    label navred does not know is kept as a column of its own, as a log's extra column is."""
+    Returns the table (None for a page with no filled working) and, for each working ((source, row)), the
+    spreadsheet row of each of its lines. A label navred does not know is kept as a column of its own, as a
+    log's extra column is."""
     labels, entries = table.columns[0].tolist(), table.columns[1].tolist()
     blocks: list[dict] = []
     block_rows: list[int] = []
@@ -137,6 +138,8 @@ def page_sights(table: RawTable) -> tuple[RawTable, dict]:
             line_rows.setdefault((table.source, block_rows[-1]), {})[column] = row
     prefilled = {"method", "body"}
     keep = [k for k, block in enumerate(blocks) if set(block) - prefilled or k in problems]
+    if not keep:
+        return None, {}
     header: list[str] = []
     for k in keep:
         header += [c for c in blocks[k] if c not in header]

@@ -244,12 +244,18 @@ def read_workings(source: object, *, dates: str | None = None, rates: object | N
     ``unreadable`` (and marked wrong, with the reason). ``rates``: the rating log's fit, for workings kept in
     zone time by a rated timepiece (as for every log).
     """
-    tables, line_rows = [], {}
+    tables, line_rows, pages = [], {}, []
     for table in read_table(source, all_sheets=True):
         if is_page(table):
+            pages.append(table.source)
             table, rows = page_sights(table)
             line_rows.update(rows)
+            if table is None:  # a page of the sight book not filled in
+                continue
         tables.append(_compass_checks_without_altitude(table))
+    if not tables:
+        raise NavredError(f"no working is filled in on the sight book's pages ({', '.join(map(source_name, pages))}): "
+                          "fill a block of a page (the sight and your lines) and mark it again")
     log = read_sight_log(tables, dates=dates, rates=rates)
     table = log.table
     n = len(table)
@@ -293,7 +299,8 @@ def read_workings(source: object, *, dates: str | None = None, rates: object | N
     variation = _observations(table, headers.get("variation"), "variation", problems, "variation", comma)
     remarks = _cells(table[headers["remarks"]]) if "remarks" in headers else np.full(n, "", dtype=object)
     unreadable = pd.DataFrame(problems, columns=["source", "row", "line", "value", "reason"])
-    return Workings(log, given, text, unreadable, _cadets(table), method, bearing, variation, remarks, line_rows)
+    return Workings(log, given, text, unreadable, _cadets(table, set(pages)), method, bearing, variation, remarks,
+                    line_rows)
 
 
 def _cells(column: pd.Series) -> np.ndarray:
@@ -322,15 +329,19 @@ def _observations(table: pd.DataFrame, column: str | None, kind: str, problems: 
     return out
 
 
-def _cadets(table: pd.DataFrame) -> np.ndarray:
-    """Each row's cadet: the observer as written, else the sheet of a class workbook, else the file."""
+def _cadets(table: pd.DataFrame, pages: set[str] = frozenset()) -> np.ndarray:
+    """Each row's cadet: the observer as written, else the sheet of a class workbook, else the file (a sight
+    book's pages are its methods, not its cadets: the book's file names the cadet)."""
     observers = table["observer"].astype(str).to_numpy(dtype=object) if "observer" in table else \
         np.full(len(table), "", dtype=object)
     sources = table["source"].astype(str).to_numpy(dtype=object)
     named = []
     for source in sources.tolist():
-        sheet = re.search(r"\(sheet '(.*)'\)$", source)
-        named.append(sheet.group(1) if sheet else Path(source).stem)
+        sheet = re.search(r"\s\(sheet '(.*)'\)$", source)
+        if sheet and source not in pages:
+            named.append(sheet.group(1))
+        else:
+            named.append(Path(source[: sheet.start()] if sheet else source).stem)
     return np.where(observers != "", observers, np.array(named, dtype=object))
 
 

@@ -74,6 +74,8 @@ def _parse_one(value: object, kind: AngleKind, decimal_comma: bool = False) -> f
     if not isinstance(value, str):
         raise _refused(value, kind)
     text = value.strip().replace("−", "-").replace("–", "-")
+    if _NOT_FINITE.fullmatch(text):
+        raise AngleInputError(f"{_NAMES[kind]} {value!r} is not a number; accepted: {_ACCEPTED[kind]}")
     if "," in text:
         if not decimal_comma:
             raise _refused(value, kind, "a comma here is ambiguous (a decimal comma, or two values?); write "
@@ -96,33 +98,66 @@ def _parse_one(value: object, kind: AngleKind, decimal_comma: bool = False) -> f
                                                 f"takes {letters[0]} or {letters[1]}")
                 hemi, text = letter, rest.strip()
                 break
-    parts = [p for p in _SPLIT.split(text) if p]
-    if not 1 <= len(parts) <= 3 or not all(re.fullmatch(_NUMBER, p) for p in parts):
+    parts, units = _parts_and_units(text)
+    if parts is None or not 1 <= len(parts) <= 3:
         raise _refused(value, kind)
+    if units is None:
+        raise _refused(value, kind, "its degree, minute and second marks are out of order (degrees ° first, then "
+                                    "minutes ′, then seconds ″, each once)")
     if any(p[0] in "+-" for p in parts[1:]):
         raise _refused(value, kind, "a sign inside the minutes or seconds; a sign belongs before the degrees")
     negative = parts[0].startswith("-")
     numbers = [abs(float(p)) for p in parts]
-    if len(numbers) > 1 and (numbers[1] >= 60.0 or (len(numbers) == 3 and numbers[2] >= 60.0)):
+    if any(n >= 60.0 for n, u in zip(numbers, units) if u > 0):
         raise _refused(value, kind, "minutes and seconds must be below 60")
     if len(numbers) > 1 and any("." in p for p in parts[:-1]):
         raise _refused(value, kind, "only the last part may have decimals")
-    magnitude = numbers[0] + sum(n / 60.0 ** i for i, n in enumerate(numbers[1:], start=1))
+    magnitude = sum(n / 60.0 ** u for n, u in zip(numbers, units))
     if hemi is not None:
         if negative or parts[0].startswith("+"):
             raise AngleInputError(
                 f"cannot read {value!r}: give either a sign or a hemisphere letter, not both")
         number = -magnitude if hemi in "SW" else magnitude
     else:
-        if letters and len(parts) > 1:
+        if letters and (len(parts) > 1 or units[0] > 0):
             # degrees and minutes with no hemisphere: north or south? east or west? Never guessed.
             a, b = letters
-            shown = " ".join(parts).lstrip("+-")
+            shown = text.lstrip("+-").strip()
             raise _refused(value, kind, f"degrees and minutes with no hemisphere letter could be {a} or {b}: "
                                         f"write {shown} {a} or {shown} {b} (a signed decimal follows ISO 6709, "
                                         "north and east positive)")
         number = -magnitude if negative else magnitude
     return _checked(number, value, kind)
+
+
+_NOT_FINITE = re.compile(r"[+-]?\s*(?:nan|inf|infinity)", re.IGNORECASE)
+_PART = re.compile(r"\s*([+-]?(?:\d+(?:\.\d*)?|\.\d+))\s*([°º˚dD]|['′’mM]|[\"″”sS])?\s*:?")
+_UNIT_OF_MARK = {**dict.fromkeys("°º˚dD", 0), **dict.fromkeys("'′’mM", 1), **dict.fromkeys('"″”sS', 2)}
+
+
+def _parts_and_units(text: str) -> tuple[list[str] | None, list[int] | None]:
+    """The numbers of an angle's text and the unit of each (0 degrees, 1 minutes, 2 seconds), from their
+    marks where they have them and from their place where they do not: ``30′`` is 30 minutes, ``12 30′``
+    12° 30′, ``44 10 30`` 44° 10′ 30″. (None, None) when the text is not numbers and marks; units None when
+    the marks are out of order or repeated (``30′ 12°``)."""
+    parts, marks, at = [], [], 0
+    while at < len(text):
+        found = _PART.match(text, at)
+        if not found or found.end() == at:
+            return None, None
+        parts.append(found.group(1))
+        marks.append(found.group(2))
+        at = found.end()
+    if not parts:
+        return None, None
+    units, previous = [], -1
+    for mark in marks:
+        unit = previous + 1 if mark is None else _UNIT_OF_MARK[mark]
+        if unit <= previous or unit > 2:
+            return parts, None
+        units.append(unit)
+        previous = unit
+    return parts, units
 
 
 _NAMES = {"lat": "latitude", "lon": "longitude", "dec": "declination",

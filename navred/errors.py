@@ -34,6 +34,34 @@ class SightInputError(NavredError):
     """A sight value (altitude, height of eye, limb, ...) that is not accepted."""
 
 
+class NavredInternalError(NavredError):
+    """A failure navred did not foresee, met at its public front: a fault of navred's, to be reported; the
+    original exception is its ``__cause__``."""
+
+
+def api_boundary(function):
+    """The public front of navred: an exception other than navred's own (a TypeError, a ValueError, an
+    IndexError from a library) comes out as a :class:`NavredInternalError` naming it, so that a caller
+    catching :class:`NavredError` is never surprised; navred's own errors, warnings, interruptions and
+    memory errors pass unchanged."""
+    import functools
+
+    @functools.wraps(function)
+    def wrapper(*args, **kwargs):
+        try:
+            return function(*args, **kwargs)
+        except NavredError:
+            raise
+        except (TypeError, ValueError, IndexError, KeyError, AttributeError, ZeroDivisionError, OverflowError,
+                LookupError, ArithmeticError) as exc:
+            text = " ".join(str(exc).split())[:200]
+            raise NavredInternalError(
+                f"an unexpected failure in {function.__name__} ({type(exc).__name__}: {text}); this is a fault in "
+                "navred: please report it with the input (docs/security.md)") from exc
+
+    return wrapper
+
+
 class NavredWarning(UserWarning):
     """A usable result that the navigator should check (low sight, stale table, ...)."""
 

@@ -20,7 +20,7 @@ from .almanac import places
 from .angles import wrap_180
 from .constants import ARCMIN_PER_DEG
 from .corrections import DIP_ARCMIN_PER_SQRT_M, refraction_arcmin
-from .errors import NavredError
+from .errors import NavredError, api_boundary
 from .fix import velocity_kn
 from .sailings import rhumb_destination
 from .stars import SOLAR_SYSTEM, known_bodies, star_table
@@ -70,7 +70,12 @@ def as_datetime64(value) -> np.datetime64:
 
 def _local_midnight(date, lon_deg: float) -> np.datetime64:
     """00:00 local mean time at the longitude on the civil ``date`` ('2026-03-26'), as UTC."""
-    day = np.datetime64(str(date)[:10], "D").astype("datetime64[ns]")
+    from .timework import parse_date
+
+    if isinstance(date, np.datetime64):
+        date = str(date.astype("datetime64[D]"))
+    year, month, day_of_month = parse_date(date if isinstance(date, str) else date, declarable=False)
+    day = np.datetime64(f"{year:04d}-{month:02d}-{day_of_month:02d}", "D").astype("datetime64[ns]")
     return day - np.timedelta64(int(round(lon_deg / 15.0 * _NS_PER_HOUR)), "ns")
 
 
@@ -143,6 +148,7 @@ def meridian_passage_utc(body: str, day_starts: object, track: Track, lower: boo
     return guess
 
 
+@api_boundary
 def sun_events(date: object, lat_deg: float, lon_deg: float, eye_height_m: float = 0.0,
                course_deg: float = 0.0, speed_kn: float = 0.0) -> dict:
     """Twilights, sunrise, meridian passage and sunset on the local civil ``date`` (UTC instants).
@@ -159,7 +165,18 @@ def sun_events(date: object, lat_deg: float, lon_deg: float, eye_height_m: float
     return {key: (None if np.isnat(events[key][0]) else events[key][0]) for key in EVENT_KEYS}
 
 
+def _number(value, what: str) -> float:
+    """One number given to the planner, or a NavredError naming it."""
+    if isinstance(value, (bool, str, bytes)) or np.ndim(value) != 0:
+        raise NavredError(f"{what} {value!r} is not a number")
+    try:
+        return float(value)
+    except (TypeError, ValueError):
+        raise NavredError(f"{what} {value!r} is not a number") from None
+
+
 def _check_position(lat_deg, lon_deg):
+    lat_deg, lon_deg = _number(lat_deg, "latitude"), _number(lon_deg, "longitude")
     if not (np.isfinite(lat_deg) and -90.0 <= lat_deg <= 90.0):
         raise NavredError(f"latitude {lat_deg!r} is outside -90 to 90°")
     if not (np.isfinite(lon_deg) and -180.0 <= lon_deg <= 360.0):
@@ -170,6 +187,9 @@ def voyage_events(first_date: object, days: int, lat_deg: float, lon_deg: float,
                   course_deg: float = 0.0, speed_kn: float = 0.0) -> dict:
     """:func:`sun_events` for ``days`` consecutive local dates along a DR track, as arrays."""
     _check_position(lat_deg, lon_deg)
+    lat_deg, lon_deg = float(lat_deg), float(lon_deg)
+    eye_height_m = _number(eye_height_m, "height of eye")
+    course_deg, speed_kn = _number(course_deg, "course"), _number(speed_kn, "speed")
     if not 0.0 <= eye_height_m <= 1000.0:
         raise NavredError(f"height of eye {eye_height_m!r} m is outside 0-1000 m")
     start = _local_midnight(first_date, lon_deg)

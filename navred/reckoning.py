@@ -35,6 +35,12 @@ from .sailings import (
 from .triangle import destination
 
 NS_PER_HOUR = 3_600_000_000_000
+#: The meridian arc from the equator to a pole (m): a rhumb line that would run farther north or south ends at
+#: the pole (it spirals into it), so a DR carried beyond it has no position and is refused, never clamped.
+POLE_ARC_M = float(meridian_arc_m(90.0))
+#: What a DR carried past a pole is told (with where it was carried from).
+PAST_POLE = ("the DR would be carried past the pole (a rhumb line ends there): give the DR, or a fix or known "
+             "position nearer this sight")
 #: Two-sided 95 % point of the normal distribution (set and drift intervals).
 NORMAL_975 = 1.959963984540054
 
@@ -81,7 +87,8 @@ class DRTrack:
         """The DR (latitude, longitude, degrees) at the instants, and the knot of the known position it was
         carried from (-1 where there is none yet: NaN positions). ``before_restart``: at the very instant of a
         known position, give the DR carried up to it rather than the position itself (to compare a fix
-        with the DR it restarts)."""
+        with the DR it restarts). A DR that would be carried past a pole has no position: NaN with its origin
+        (see :meth:`past_pole`)."""
         when = np.asarray(utc_ns, dtype=np.int64)
         k = np.searchsorted(self.knot_ns, when, side="right") - 1
         valid = k >= 0
@@ -91,6 +98,11 @@ class DRTrack:
         hours = np.where(valid, (when - self.knot_ns[kk]) / NS_PER_HOUR, 0.0)
         course, speed = course_speed(self.north_kn[kk], self.east_kn[kk])
         lat, lon = rhumb_destination(self.depart_lat[kk], self.depart_lon[kk], course, speed * hours)
+        with np.errstate(invalid="ignore"):
+            past_pole = np.abs(meridian_arc_m(np.nan_to_num(self.depart_lat[kk]))
+                               + self.north_kn[kk] * hours * METRES_PER_NM) > POLE_ARC_M
+        lat = np.where(past_pole, np.nan, lat)
+        lon = np.where(past_pole, np.nan, lon)
         lat = np.where(use_arrival, self.arrive_lat[kk], lat)
         lon = np.where(use_arrival, self.arrive_lon[kk], lon)
         origin = np.where(use_arrival, self.origin[np.maximum(kk - 1, 0)], self.origin[kk])
@@ -98,6 +110,12 @@ class DRTrack:
         lat = np.where(origin >= 0, lat, np.nan)
         lon = np.where(origin >= 0, lon, np.nan)
         return lat, lon, origin
+
+    def past_pole(self, utc_ns: ArrayLike, **kwargs) -> np.ndarray:
+        """Where the DR at the instants would be carried past a pole (it has a known position to come from, but
+        no position): the rhumb line it sails ends at the pole."""
+        lat, _, origin = self.positions(utc_ns, **kwargs)
+        return (origin >= 0) & ~np.isfinite(lat)
 
 
 def dr_track(change_ns: ArrayLike, course_deg: ArrayLike, speed_kn: ArrayLike, known_ns: ArrayLike,
@@ -159,14 +177,25 @@ def dr_track(change_ns: ArrayLike, course_deg: ArrayLike, speed_kn: ArrayLike, k
     has = origin >= 0
     o = np.maximum(origin, 0)
     arc = np.where(has, meridian_arc_m(np.where(has, r_lat[o], 0.0)) + run - run[o], np.nan)
-    lat = np.where(restart, r_lat, np.clip(latitude_from_meridian_arc_deg(np.nan_to_num(arc)), -89.999, 89.999))
-    lat = np.where(has, lat, np.nan)
+    # a rhumb line ends at the pole: a knot carried past it, and every knot carried on from that one before the
+    # next restart, has no position (NaN), never a latitude clamped short of the pole
+    over = has & ~restart & (np.abs(np.nan_to_num(arc)) > POLE_ARC_M)
+    lost = np.zeros(n, dtype=bool)
+    if over.any():
+        first_over = np.where(over, np.arange(n), n)
+        segment_first = np.full(n, n)
+        for k in np.unique(o[has]).tolist():
+            members = has & (o == k)
+            segment_first[members] = first_over[members].min()
+        lost = has & ~restart & (np.arange(n) >= segment_first)
+    lat = np.where(restart, r_lat, latitude_from_meridian_arc_deg(np.nan_to_num(arc)))
+    lat = np.where(has & ~lost, lat, np.nan)
     # the latitude each interval arrives at, carried (before a restart replaces it)
     arrive_lat = np.full(n, np.nan)
     arc_prev_segment = np.where(has[:-1], meridian_arc_m(np.where(has[:-1], r_lat[o[:-1]], 0.0)) + run[1:]
                                 - run[o[:-1]], np.nan)
-    arrive_lat[1:] = np.where(has[:-1], np.clip(latitude_from_meridian_arc_deg(np.nan_to_num(arc_prev_segment)),
-                                                 -89.999, 89.999), np.nan)
+    arrive_lat[1:] = np.where(has[:-1] & ~lost[:-1] & (np.abs(np.nan_to_num(arc_prev_segment)) <= POLE_ARC_M),
+                              latitude_from_meridian_arc_deg(np.nan_to_num(arc_prev_segment)), np.nan)
     course_g, speed_g = course_speed(vn[:-1], ve[:-1])
     with np.errstate(invalid="ignore"):
         dlon = np.degrees(longitude_change_rad(lat[:-1], arrive_lat[1:], np.radians(course_g),
@@ -174,9 +203,10 @@ def dr_track(change_ns: ArrayLike, course_deg: ArrayLike, speed_kn: ArrayLike, k
     dlon = np.where(has[:-1], np.nan_to_num(dlon), 0.0)
     turned = np.concatenate([[0.0], np.cumsum(dlon)])
     lon = np.where(restart, r_lon, wrap_180(np.where(has, r_lon[o], 0.0) + turned - turned[o]))
-    lon = np.where(has, lon, np.nan)
+    lon = np.where(has & np.isfinite(lat), lon, np.nan)
     arrive_lon = np.full(n, np.nan)
     arrive_lon[1:] = np.where(has[:-1], wrap_180(r_lon[o[:-1]] + turned[1:] - turned[o[:-1]]), np.nan)
+    arrive_lon = np.where(np.isfinite(arrive_lat), arrive_lon, np.nan)
     return DRTrack(knots, vn, ve, lat, lon, arrive_lat, arrive_lon, origin, restart)
 
 

@@ -40,7 +40,7 @@ ACCEPTED_DATES = "ISO 8601 such as 2026-03-26, 26 Mar 2026, or a date cell"
 ACCEPTED_TIMES = "hh:mm:ss on the 24-hour clock (19:41:30, 19:41, 194130), or a time cell"
 ACCEPTED_ZONES = "a whole signed hour from -12 to +12, ZT + ZD = UTC: +3, -10, 0, with its letter if you like (+1 N, -1 A, Z)"
 ACCEPTED_WATCH_ERRORS = ("'12 fast', '3 s slow', '1 m 05 s fast', '01:05 slow', or seconds with a sign "
-                         "(+12 fast, -3 slow)")
+                         "(+12 fast, -3 slow); a number with neither is refused (fast or slow?)")
 
 
 def _valid_date(year: int, month: int, day: int) -> bool:
@@ -220,13 +220,19 @@ def parse_watch_error_s(value: object) -> float:
 
     >>> parse_watch_error_s("12 fast"), parse_watch_error_s("3 s slow"), parse_watch_error_s("1 m 05 s fast")
     (12.0, -3.0, 65.0)
-    >>> parse_watch_error_s(-4.5)
-    -4.5
+    >>> parse_watch_error_s(-4.5), parse_watch_error_s("+12")
+    (-4.5, 12.0)
     """
     if isinstance(value, bool):
         raise TimeInputError(f"cannot read {value!r} as a watch error; accepted: {ACCEPTED_WATCH_ERRORS}")
     if isinstance(value, (int, float)):
         seconds = float(value)
+        if seconds > 0:
+            # a number cell has no sign to keep: a spreadsheet drops a leading +, as it does a zone description's
+            raise TimeInputError(
+                f"watch error {value:g} is a number, which has no fast or slow: {value:g} s fast (+{value:g}, "
+                f"subtracted from the watch) or {value:g} s slow (-{value:g}, added)? write '{value:g} fast' or "
+                f"'{value:g} slow' (or '+{value:g}' as text)")
     elif isinstance(value, str):
         match = _WATCH.match(value.strip().replace("−", "-"))
         if not match:
@@ -241,6 +247,11 @@ def parse_watch_error_s(value: object) -> float:
         way = (parts["way"] or "").lower()
         if way and parts["sign"]:
             raise TimeInputError(f"watch error {value!r}: give a sign or fast/slow, not both")
+        if not way and not parts["sign"] and seconds:
+            shown = value.strip()
+            raise TimeInputError(
+                f"watch error {value!r} has no fast or slow: {shown} fast (the watch is ahead; subtracted) or {shown} "
+                f"slow (behind; added)? write '{shown} fast' or '{shown} slow', or a sign (+ fast, - slow)")
         if way in ("slow", "sl") or parts["sign"] == "-":
             seconds = -seconds
     else:

@@ -75,7 +75,8 @@ COLUMNS: tuple[Column, ...] = (
     Column("zone_description", ("zone_description", "zd", "zone"), "zone",
            "the zone the watch keeps: a whole signed hour, ZT + ZD = UTC (+3, -10, +1 N, 0, Z)"),
     Column("watch_error", ("watch_error", "chronometer_error", "deck_watch_error", "dwe"),
-           "watch_error", "the watch's error: '12 fast', '3 s slow', '1 m 05 s fast', or seconds fast (+) / slow (−)",
+           "watch_error", "the watch's error: '12 fast', '3 s slow', '1 m 05 s fast', or seconds with a sign, fast (+) / "
+           "slow (−); a number with neither is refused",
            units=("s",), default_unit="s", low=-3600.0, high=3600.0, default=0.0),
     Column("timepiece", ("timepiece", "chronometer", "chronometer_name", "watch_name"), "text",
            "the timepiece read for zone_time; with a rating log (--rates) and no watch_error, its error is "
@@ -174,13 +175,16 @@ LIMBS = {"lower": "lower", "ll": "lower", "l": "lower", "lower_limb": "lower",
 #: bubble or other built-in horizon, on the body's centre; back: a back sight, measured over the
 #: zenith from the sea horizon behind; waterline: a waterline nearer than the sea horizon (a shore,
 #: a ship), its distance given.
-HORIZONS = {"sea": "sea", "natural": "sea", "visible": "sea", "": "sea", "nan": "sea", "none": "sea",
+HORIZONS = {"sea": "sea", "natural": "sea", "visible": "sea", "": "sea", "nan": "sea",
             "artificial": "artificial", "mercury": "artificial", "reflecting": "artificial", "art": "artificial",
             "water": "artificial", "glass": "artificial",
             "bubble": "bubble", "built_in": "bubble", "builtin": "bubble",
             "back": "back", "back_sight": "back", "backsight": "back",
             "waterline": "waterline", "short": "waterline", "shore": "waterline", "dip_short": "waterline",
             "short_of_horizon": "waterline"}
+
+#: Words that say there was no horizon: refused with what to write instead (a sight needs a horizon of some kind).
+NO_HORIZON = ("none", "no", "no_horizon", "n_a", "na", "without", "nil")
 
 #: The entries of the ship's progress a log may hold beside its sights, and the words that name them.
 ENTRIES = {"departure": "departure", "depart": "departure", "departed": "departure", "start": "departure",
@@ -275,6 +279,77 @@ def match_header(header: object) -> HeaderMatch:
     return HeaderMatch(str(header), key, column.default_unit)
 
 
+#: Headers that look like a correction navred applies, or a quantity it reads, yet are none of its
+#: spellings: read by no rule, such a column would be left out without a word and its default used
+#: (0′ of index error, 10 °C, 1010 hPa), or read with the wrong sign (an index correction is minus the
+#: index error). Each is refused with the column navred reads it from. (pattern on the normalised header
+#: with any unit dropped, the column, what navred expects there)
+LOOKALIKE_HEADERS: tuple[tuple[str, str, str], ...] = (
+    (r"i_?c|i_?e|ie_\w*|ic_\w*|idx\w*|index\w*|\w*_index|ind_?err\w*|\w*index_?(?:err|corr?)\w*", "the index error",
+     "index_error (arcminutes, on the arc positive: '1.4 on', '0.8 off'; an index correction is the index error "
+     "with its sign changed)"),
+    (r"\w*temp\w*|\w*therm\w*|t_?air|air_?t|oat", "the air temperature",
+     "temperature (C) or temperature (F), for refraction"),
+    (r"\w*press\w*|\w*baro\w*|qnh|qfe|mb|mbar|hpa|millibars?", "the air pressure",
+     "pressure (hPa), pressure (inHg) or pressure (mmHg), for refraction"),
+    (r"\w*height\w*|\w*hgt\w*|\w*eye\w*|h_?e|hoe_?\w*", "the height of eye",
+     "eye_height (m) or eye_height (ft), for the dip"),
+    (r"dip|dip_\w*|\w*_dip", "a dip", "measured_dip (a dip meter's reading in arcminutes; without one navred "
+                                    "works out the dip from eye_height)"),
+    (r"\w*watch_?err\w*|\w*chrono\w*_?err\w*|\w*clock_?err\w*|w_?e|c_?e", "the watch error",
+     "watch_error ('12 fast', '3 s slow', or seconds with a sign)"),
+    (r"dut\w*|ut1\w*", "DUT1", "dut1 (UT1 − UTC in seconds, from a radio time signal)"),
+)
+#: What a refusal of a column adds once: how to keep a column of one's own that looks like one navred reads.
+OWN_COLUMN_HINT = ("a column of your own that navred should not read keeps its text when its name begins with "
+                   "'note' or 'remark'")
+#: A header that begins with one of these is the navigator's own column: kept as text, never refused.
+OWN_COLUMN_PREFIXES = ("note", "remark", "comment", "own_")
+_UNIT_TAIL = re.compile(r"_(?:m|ft|c|f|hpa|mb|mbar|inhg|mmhg|deg|degrees|kn|kt|kts|s|sec|arcmin|min|nm|t)$")
+
+
+def unknown_header_refusal(header: object, accepted: dict[str, str] | None = None) -> str:
+    """Why a header that names no column is refused ('' when it is kept as the navigator's own text).
+
+    A header that looks like a correction or a quantity navred reads (:data:`LOOKALIKE_HEADERS`) is
+    refused with the column navred expects; one within a letter or two of a spelling (a misspelling,
+    ``obsever``) is refused with that spelling. ``accepted`` maps other spellings to their column
+    names (another table's vocabulary, such as the rating log's); by default the sight log's.
+
+    >>> unknown_header_refusal("remarks")
+    ''
+    >>> unknown_header_refusal("IC").split(" (")[0]
+    "column 'IC' looks like the index error, which navred reads only from a column named index_error"
+    >>> unknown_header_refusal("obsever").split(" rename")[0]
+    "column 'obsever' is not a column navred reads: is it 'observer'?"
+    """
+    import difflib
+
+    text = str(header).strip()
+    found = _UNIT_IN_BRACKETS.match(text)
+    if found and found.group("name"):
+        text = found.group("name")
+    name = normalise_header(text)
+    if not name or name.startswith(OWN_COLUMN_PREFIXES):
+        return ""
+    stem = _UNIT_TAIL.sub("", name)
+    own = ""
+    if accepted is None:
+        for pattern, what, expected in LOOKALIKE_HEADERS:
+            if re.fullmatch(pattern, stem) or re.fullmatch(pattern, name):
+                return (f"column {str(header)!r} looks like {what}, which navred reads only from a column named "
+                        f"{expected}: rename it{own}")
+        accepted = _SPELLINGS
+    if len(stem) >= 4:
+        near = difflib.get_close_matches(stem, list(accepted), n=1, cutoff=0.85)
+        if near:
+            column = accepted[near[0]]
+            also = f" (the column {column})" if column != near[0] else ""
+            return (f"column {str(header)!r} is not a column navred reads: is it {near[0]!r}{also}? rename it"
+                    f"{own}")
+    return ""
+
+
 def convert_to_working_unit(value: float, unit: str | None) -> float:
     """A number given in ``unit`` converted to the unit navred works in."""
     if unit is None:
@@ -284,4 +359,6 @@ def convert_to_working_unit(value: float, unit: str | None) -> float:
 
 
 __all__ = ["COLUMNS", "COLUMN", "Column", "HeaderMatch", "match_header", "normalise_header", "LIMBS", "ENTRIES",
+           "NO_HORIZON",
+           "LOOKALIKE_HEADERS", "OWN_COLUMN_PREFIXES", "OWN_COLUMN_HINT", "unknown_header_refusal",
            "HORIZONS", "ZONE_LETTERS", "UNIT_CONVERSIONS", "convert_to_working_unit"]

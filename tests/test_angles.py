@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import re
+
 import numpy as np
 import pytest
 from hypothesis import given
@@ -159,3 +161,33 @@ def test_one_angle_is_written_as_the_same_angle_in_an_array():
         for decimals in (0, 1, 2):
             together = format_angle(values, kind, decimals)
             assert [format_angle(v, kind, decimals) for v in values.tolist()] == together.tolist()
+
+
+@pytest.mark.parametrize("text, kind, expected", [
+    ("30' W", "variation", -0.5),          # issue 20: a minute mark is minutes (it was read as 30°)
+    ("30′ E", "variation", 0.5),
+    ("4° 30' W", "variation", -4.5),
+    ("10'30\"", "angle", 10.5 / 60),
+    ("44° 10′ 30″ N", "lat", 44.175),
+    ("44 10 30 N", "lat", 44.175),          # no marks: degrees, minutes, seconds by place, as before
+    ("44°10.1'N", "lat", 44 + 10.1 / 60),
+    ("5d 30m", "angle", 5.5),
+])
+def test_degree_minute_and_second_marks_are_honoured(text, kind, expected):
+    # common practice: ° degrees, ′ (or ') minutes, ″ (or ") seconds
+    assert parse_angle(text, kind) == pytest.approx(expected, abs=1e-12)
+
+
+@pytest.mark.parametrize("text, kind, fragment", [
+    ("30' 12° N", "lat", "marks are out of order"),
+    ("12° 30°", "angle", "marks are out of order"),
+    ("30\" 12'", "angle", "marks are out of order"),
+    ("75'", "angle", "below 60"),
+    ("30'", "lat", "could be N or S: write 30' N or 30' S"),
+    ("nan", "lat", "latitude 'nan' is not a number"),  # not a hemisphere problem
+    ("NaN", "variation", "is not a number"),
+    ("-inf", "lon", "is not a number"),
+])
+def test_misplaced_marks_and_words_that_are_not_numbers_are_refused(text, kind, fragment):
+    with pytest.raises(AngleInputError, match=re.escape(fragment)):
+        parse_angle(text, kind)

@@ -208,7 +208,7 @@ def test_series_and_lunar_commands(tmp_path):
     cells = [c for row in openpyxl.load_workbook(tmp_path / "l.xlsx")["Lunar distance"].values for c in row if c]
     assert "cleared distance deg" in cells and "Result" in cells
     csv_series = runner.invoke(app, ["series", "sample_sights/training_sights.csv", "--csv"])
-    assert csv_series.exit_code == 0 and "series_best_ho_deg" in csv_series.output.splitlines()[0]
+    assert csv_series.exit_code == 0 and "series_best_ho_deg" in csv_series.stdout.splitlines()[0]
     bad = runner.invoke(app, ["lunar", "29 44.7", "--other", "Moon", "--utc", "2024-09-12T19:33:00Z",
                               "--lat", "30 N", "--lon", "040 W"])
     assert bad.exit_code == 1 and "not to itself" in bad.output

@@ -284,3 +284,56 @@ def test_a_position_built_on_a_sight_with_a_warning_carries_the_warning(tmp_path
     two.write_text(path.read_text() + "2026-04-14,14:05:00,+1,,,,,,Sun,lower,50 10.0,3.0,afternoon\n")
     fixed = CliRunner().invoke(app, ["fix", str(two)])
     assert "warning: row 3 (Sun): intercept over 30 nm" in fixed.output
+
+
+def test_two_vessels_in_one_log_each_keep_their_own_dr(ts, eph, tmp_path):
+    """Issue 20: a log of two vessels, each with her own departure and courses, gives each vessel the DR, the
+    fixes and the noons that her own half of the log gives when it is read alone (make_passage sails each)."""
+    first, _, _ = passage.make_passage(ts, eph, current=passage.steady, start=START, lat=38.0, lon=-10.0, days=1)
+    second, _, _ = passage.make_passage(ts, eph, current=lambda t: (0.0, 0.0), start=START, lat=36.5, lon=-14.0,
+                                        days=1, vessel="Second Sea Swallow (invented)",
+                                        plan=[(START, 190.0, 5.0), (START + pd.Timedelta(hours=10), 120.0, 7.0)])
+    second["fix_group"] = second["fix_group"].map(lambda g: f"B {g}" if isinstance(g, str) else g)
+    both = pd.concat([first, second], ignore_index=True)
+    both.to_csv(tmp_path / "both.csv", index=False)
+    first.to_csv(tmp_path / "first.csv", index=False)
+    second.to_csv(tmp_path / "second.csv", index=False)
+    together = process_log(tmp_path / "both.csv", plan=False)
+    days = together.days_work()
+    for name, alone_file in ((first.vessel.iloc[0], "first.csv"), (second.vessel.iloc[0], "second.csv")):
+        alone = process_log(tmp_path / alone_file, plan=False)
+        mine = together.reduced[together.reduced.vessel == name].reset_index(drop=True)
+        assert len(mine) == len(alone.reduced) > 0
+        for column in ("dr_lat_deg", "dr_lon_deg", "ho_deg", "intercept_nm"):
+            assert np.allclose(mine[column], alone.reduced[column], atol=1e-9, rtol=0), (name, column)
+        noons = days.noons[days.noons.vessel == name].reset_index(drop=True)
+        own = alone.days_work().noons.reset_index(drop=True)
+        assert len(noons) == len(own) > 0
+        assert (noons["noon position"] == own["noon position"]).all()
+    # and the command that broke on it (a loop variable reused between the vessels) now runs
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+
+    result = CliRunner().invoke(app, ["days", str(tmp_path / "both.csv")])
+    assert result.exit_code == 0, result.output
+    assert first.vessel.iloc[0] in result.output and second.vessel.iloc[0] in result.output
+
+
+def test_a_dr_carried_past_the_pole_is_refused_never_clamped(tmp_path):
+    # issue 20: a DR carried past the pole stopped at 89° 59.9′ without a word. A rhumb line ends at the pole
+    # (Bowditch: a loxodrome spirals into it), so the DR beyond has no position: its sights are refused, named.
+    track = dr_track(np.array([0]), 0.0, 10.0, np.array([0]), 89.0, 0.0)
+    hour = 3_600_000_000_000
+    lat, _, origin = track.positions(np.array([0, 3 * hour, 7 * hour]))
+    assert lat[1] == pytest.approx(89.5, abs=0.01) and np.isnan(lat[2]) and origin[2] == 0
+    assert track.past_pole(np.array([3 * hour, 7 * hour])).tolist() == [False, True]
+    path = tmp_path / "polar.csv"
+    path.write_text("utc,entry,dr_lat,dr_lon,course,speed,vessel,body,hs,eye_height_m,fix_group\n"
+                    "2026-04-14T05:00:00Z,departure,89 30.0 N,010 00.0 W,000,10.0,Ice Petrel (invented),,,,\n"
+                    "2026-04-14T06:00:00Z,,,,,,Ice Petrel (invented),Sun,10 05.0,3.0,a\n"
+                    "2026-04-14T09:00:00Z,,,,,,Ice Petrel (invented),Sun,10 10.0,3.0,b\n")
+    log = read_sight_log(path)
+    assert list(log.sights.row) == [3] and log.sights.dr_lat_deg.iloc[0] == pytest.approx(89 + 40 / 60, abs=0.01)
+    reason = log.rejected.set_index("row").reason[4]
+    assert "carried past the pole" in reason and log.rejected.set_index("row").column[4] == "dr_lat"

@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import csv
 import io
+import string
 
 import numpy as np
 import pandas as pd
@@ -339,3 +340,349 @@ def test_mutated_rating_logs_keep_or_refuse_every_row_with_a_reason(tmp_path_fac
 def _blank_rows(rows) -> set[int]:
     """Rows left wholly blank by the edits: skipped by the reader as empty rows."""
     return {i + 2 for i, r in enumerate(rows) if all(not str(v).strip() for v in r.values())}
+
+
+# --- issue 20: the API, the tracks, the deviation card, a workbook's cells and every command's options ---------
+
+_VALUES = st.one_of(
+    st.none(), st.booleans(), st.integers(-10**20, 10**20), st.floats(allow_nan=True, allow_infinity=True),
+    st.text(alphabet=_ALPHABET, max_size=20), st.binary(max_size=10),
+    st.lists(st.one_of(st.none(), st.integers(), st.text(max_size=5)), max_size=3),
+    st.dictionaries(st.text(max_size=3), st.integers(), max_size=2),
+    st.sampled_from(["sample_sights", "sample_sights/demo_sights.csv", "/no/such/file.csv", "/", "/dev/null",
+                     "2026-02-30", "2026-03-26", "2026-03-26T19:41:00Z", "Sirius", "nan"]),
+)
+_FRAME_CELLS = st.one_of(_VALUES, _CELLS)
+
+
+def _api_calls():
+    import navred
+    from navred.io.cards import read_deviation_card
+    from navred.io.compassbook import read_compass_book
+    from navred.io.timesignals import read_rating_log
+    from navred.io.track import read_track
+    from navred.jobs.compasswork import compass_book
+
+    return {
+        "read_sight_log": navred.read_sight_log, "process_log": lambda x: navred.process_log(x, plan=False),
+        "reduce_sights": navred.reduce_sights, "mark_workings": navred.mark_workings, "read_track": read_track,
+        "read_rating_log": read_rating_log, "read_deviation_card": read_deviation_card,
+        "fix_position": navred.fix_position, "body_positions": lambda x: navred.body_positions(x, "2026-03-26T00:00Z"),
+        "body_positions at": lambda x: navred.body_positions("Sun", x),
+        "sun_events": lambda x: navred.sun_events(x, 44.0, -12.0),
+        "sun_events at": lambda x: navred.sun_events("2026-03-26", x, -12.0),
+        "read_compass_book": read_compass_book, "compass_book": compass_book,
+    }
+
+
+@seeded(120)
+@given(st.sampled_from(sorted(_api_calls())), st.one_of(_VALUES, st.builds(
+    lambda cells: pd.DataFrame({c: [cells[k % len(cells)]] for k, c in enumerate(HEADER[:8])}),
+    st.lists(_FRAME_CELLS, min_size=1, max_size=8))))
+def test_the_api_raises_only_navreds_own_errors(name, value):
+    # issue 20: API callers got bare TypeError, ValueError and IndexError; they get navred's own errors, and none
+    # of them the one for a failure navred did not foresee
+    from navred.errors import NavredError, NavredInternalError
+
+    try:
+        _api_calls()[name](value)
+    except NavredInternalError as exc:
+        raise AssertionError(f"{name}({value!r:.80}): {exc}") from exc
+    except NavredError as exc:
+        assert str(exc) and len(str(exc)) < 2000
+
+
+# the invented training track in each of its forms, and the points as read clean
+_TRACKS = {kind: open(f"sample_sights/training_track.{kind}", encoding="utf-8").read().splitlines()
+           for kind in ("gpx", "nmea", "csv")}
+
+
+def _track_points(kind, lines):
+    """The track points of a track's lines: GPX points by their place, NMEA and CSV by their line."""
+    if kind == "gpx":
+        return [i for i, line in enumerate(lines) if "<trkpt" in line]
+    if kind == "nmea":
+        return [i for i, line in enumerate(lines) if line.startswith("$")]
+    return list(range(1, len(lines)))
+
+
+_TRACK_EDITS = st.lists(st.tuples(st.integers(0, 10**6), st.sampled_from(["replace", "blank", "cut", "garble",
+                                                                            "sign", "nan"]), _CELLS),
+                        min_size=1, max_size=4)
+
+
+@seeded(40)
+@given(st.sampled_from(["gpx", "nmea", "csv"]), _TRACK_EDITS)
+def test_mutated_tracks_keep_or_refuse_every_point_by_its_number(tmp_path_factory, kind, edits):
+    """Hostile points in a reference track (GPX, NMEA, CSV): each point is used or refused by its number (a GPX
+    point's place, an NMEA or CSV line) with a reason, blank lines shift no number, and every point nobody
+    touched is read as it is in the clean track."""
+    from navred.io.track import TrackError, read_track
+
+    lines = list(_TRACKS[kind])
+    places = _track_points(kind, lines)
+    touched = set()
+    for at, how, cell in edits:
+        i = places[at % len(places)]
+        line = lines[i]
+        if how == "replace":
+            line = cell
+        elif how == "blank":
+            line = ""
+        elif how == "cut":
+            line = line[: len(line) // 2]
+        elif how == "garble":
+            line = line.replace("3", cell[:3] or "x", 1)
+        elif how == "sign":
+            line = line.replace(",", ",-", 2) if kind != "gpx" else line.replace('lat="', 'lat="-', 1)
+        else:
+            line = line.replace("36", "nan", 1)
+        lines[i] = line
+        touched.add(i)
+    lines.insert(len(lines) // 2, "")  # a blank line in the middle: numbers after it must not shift
+    path = tmp_path_factory.mktemp("track") / f"track.{kind}"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8", errors="replace")
+    try:
+        track = read_track(path)
+    except TrackError as exc:
+        assert "\n" not in str(exc)
+        return
+    clean = read_track(f"sample_sights/training_track.{kind}")
+    assert track.problems.reason.map(lambda r: isinstance(r, str) and len(r) > 5).all()
+    # the clean track's points are all in the mutated track at their positions, but for those an edit touched:
+    # at most two points an edit (an RMC and the GGA of its epoch), missing or moved
+    known = dict(zip(track.utc.astype("datetime64[s]").tolist(), zip(track.lat_deg, track.lon_deg)))
+    changed = 0
+    for when, lat, lon in zip(clean.utc.astype("datetime64[s]").tolist(), clean.lat_deg, clean.lon_deg):
+        if when not in known or abs(known[when][0] - lat) > 1e-9 or abs(known[when][1] - lon) > 1e-9:
+            changed += 1
+    assert changed <= 2 * len(touched), (changed, touched)
+
+
+_CARD = ["utc,body,lat_deg,lon_deg,compass_heading_deg,compass_bearing_deg,true_bearing_deg,compass_error_deg,"
+         "variation_deg,deviation_deg"] + [f"2026-03-2{k}T17:30:00Z,Sun,43.3,-13.1,215,262,{260 + k},-{k}.0,-4,{k}.5"
+                                           for k in range(6)]
+
+
+@seeded(40)
+@given(st.lists(st.tuples(st.integers(1, len(_CARD) - 1), st.integers(0, 9), _CELLS), min_size=1, max_size=4))
+def test_a_mutated_deviation_card_is_read_or_refused_in_one_line(tmp_path_factory, edits):
+    from navred.io.cards import CardError, read_deviation_card
+
+    rows = [line.split(",") for line in _CARD]
+    for row, column, cell in edits:
+        rows[row][column] = cell
+    path = tmp_path_factory.mktemp("card") / "card.csv"
+    with open(path, "w", newline="", encoding="utf-8", errors="replace") as handle:
+        csv.writer(handle).writerows(rows)
+    try:
+        card = read_deviation_card(path)
+    except CardError as exc:
+        assert "\n" not in str(exc) and "card" in str(exc)
+        return
+    assert len(card) <= len(_CARD) - 1
+
+
+# damaged cell XML: a cell of the demo workbook replaced by one of these (ECMA-376 cell types and their misuses)
+_DAMAGED = st.sampled_from([
+    '<c r="{ref}" t="n"><v>{text}</v></c>', '<c r="{ref}" t="s"><v>{number}</v></c>', '<c r="{ref}" t="b"><v>{text}</v></c>',
+    '<c r="{ref}" t="d"><v>{text}</v></c>', '<c r="{ref}" t="e"><v>#REF!</v></c>', '<c r="{ref}" t="{text}"><v>1</v></c>',
+    '<c r="Q{number}"><v>1</v></c>', '<c r="{ref}" s="{number}"><v>{number}</v></c>', '<c r="{ref}"><f>{text}</f></c>',
+    '<c r="{ref}" t="inlineStr"><is><r><t>{text}</t></r><rPh><t>x</t></rPh></is></c>', '<c r="{ref}" t="str"><v/></c>',
+])
+
+
+def _demo_sheet():
+    import zipfile
+
+    from openpyxl import Workbook
+
+    demo = pd.read_csv(DEMO, dtype=str, keep_default_na=False)
+    book = Workbook()
+    book.active.append(list(demo.columns))
+    for row in demo.itertuples(index=False):
+        book.active.append(list(row))
+    buffer = io.BytesIO()
+    book.save(buffer)
+    with zipfile.ZipFile(buffer) as archive:
+        return {item.filename: archive.read(item.filename) for item in archive.infolist()}
+
+
+_SHEET_PARTS = _demo_sheet()
+
+
+@seeded(40)
+@given(st.lists(st.tuples(st.integers(2, 12), st.integers(0, len(HEADER) - 1), _DAMAGED,
+                          st.text(alphabet=string.ascii_letters + string.digits + "<>&\"'.-+ ", max_size=12),
+                          st.integers(-5, 10**6)), min_size=1, max_size=4))
+def test_damaged_cells_of_a_workbook_reject_their_rows_alone(tmp_path_factory, edits):
+    """A workbook's cells damaged at random (a wrong type, a missing shared string, a bad reference, a formula with
+    no value, text that is not a number): every row is read or rejected by row and column, and the rows nobody
+    touched read as the demo does."""
+    import re
+    import zipfile
+    from xml.sax.saxutils import escape
+
+    from navred.io.readers import column_letter
+
+    sheet = _SHEET_PARTS["xl/worksheets/sheet1.xml"].decode()
+    touched = set()
+    for row, column, form, text, number in edits:
+        ref = f"{column_letter(column)}{row}"
+        cell = form.format(ref=ref, text=escape(text, {'"': "&quot;"}), number=number)
+        sheet = re.sub(rf'<c r="{ref}"[^>]*?(?:/>|>.*?</c>)', lambda _, c=cell: c, sheet, count=1)
+        touched.add(row)
+    path = tmp_path_factory.mktemp("book") / "log.xlsx"
+    with zipfile.ZipFile(path, "w") as archive:
+        for name, data in _SHEET_PARTS.items():
+            archive.writestr(name, sheet.encode() if name == "xl/worksheets/sheet1.xml" else data)
+    try:
+        log = read_sight_log(path)
+    except LogbookError as exc:
+        assert "\n" not in str(exc)
+        return
+    assert set(log.table.row) | set(log.rejected.row) >= set(range(2, 13)) - touched
+    assert log.rejected.reason.map(lambda r: isinstance(r, str) and len(r) > 5).all()
+    good = log.sights.set_index("row")
+    for row in sorted(set(range(2, 13)) - touched):
+        assert row in good.index, (row, log.rejected[log.rejected.row == row].reason.tolist())
+        for column in ("sight_utc", "hs_deg", "dr_lat_deg", "dr_lon_deg", "body_name"):
+            assert good.loc[row, column] == CLEAN.loc[row, column], (row, column)
+
+
+# every command with a good set of options; one option at a time gets a hostile value
+_ROOT = __import__("pathlib").Path.cwd()
+_HOSTILE = st.sampled_from(
+    ["", " ", "nan", "NaN N", "inf", "-inf", "1e309", "-1", "0", "999999", "=1+1", "\x00", "../../etc/passwd",
+     "/dev/null", "/proc/version", "/", "x" * 300, "2026-02-30", "05/03/2026", "12:00", "--", "-o", "W", "91 N",
+     "44 70 N", "30' 12° N", "30' W", "1,5", "0x10", "None", "true", "🙂", "out.csv", "out.xlsx", "plots",
+     "sample_sights/demo_sights.csv", "sample_sights/training_track.csv", "Sirius", "sideways", "day-first"])
+
+
+def _commands(folder):
+    s = str(_ROOT / "sample_sights")
+    return {
+        "almanac": (["almanac", "Sun", "Vega"], {"--utc": "2026-03-20T18:42:10Z", "--dut1": "0.1"}),
+        "reduce": (["reduce", f"{s}/demo_sights.csv"], {"--rates": f"{s}/passage_time_signals.csv",
+                                                      "--dates": "day-first"}),
+        "fix": (["fix", f"{s}/demo_sights.csv"], {"--group": "evening-stars", "--chart-lat": "43 16.5 N",
+                                                 "--chart-lon": "013 11.4 W", "--at": "2026-03-26T19:48:30Z"}),
+        "workbook": (["workbook", f"{s}/demo_sights.csv", "--pictures", "none"],
+                     {"-o": f"{folder}/v.xlsx", "--gpx": f"{folder}/f.gpx", "--plot-formats": "svg"}),
+        "plan": (["plan"], {"--date": "2026-03-26", "--lat": "44 30 N", "--lon": "012 00 W", "--course": "215",
+                            "--speed": "6.5", "--eye": "3", "--count": "3", "--at": "2026-03-26T19:30:00Z"}),
+        "compass": (["compass", "Sun"], {"--utc": "2026-03-26T17:30:00Z", "--lat": "43 20 N", "--lon": "013 10 W",
+                                         "--compass-bearing": "262", "--variation": "4 W", "--heading": "215",
+                                         "--card": f"{folder}/card.csv"}),
+        "identify": (["identify"], {"--utc": "2026-03-26T19:45:00Z", "--lat": "43 17 N", "--lon": "013 11 W",
+                                    "--alt": "30", "--az": "186", "--top": "3"}),
+        "series": (["series", f"{s}/demo_sights.csv"], {"--threshold": "2"}),
+        "training": (["training", f"{folder}/few.csv"], {"--track": f"{s}/training_track.csv",
+                                                         "--csv": f"{folder}/t.csv"}),
+        "mark": (["mark", f"{folder}/cadet.csv"], {"-o": f"{folder}/m.xlsx"}),
+        "days": (["days", f"{s}/passage_log.csv"], {"--picture": f"{folder}/p.svg"}),
+        "rate": (["rate", f"{s}/passage_time_signals.csv"], {"--dates": "day-first"}),
+        "route": (["route", "40 30 N", "073 00 W", "49 57 N", "005 12 W"], {"--spacing": "600", "--limit": "50 N",
+                                                                          "--geojson": f"{folder}/r.geojson"}),
+        "lunar": (["lunar", "29 44.7"], {"--other": "Antares", "--utc": "2024-09-12T19:33:00Z", "--lat": "30 N",
+                                         "--lon": "040 W", "--moon-limb": "far", "--index-error": "0.3 on",
+                                         "--other-alt": "20 10"}),
+        "paper": (["paper"], {"--from": "2026-03-26", "--to": "2026-03-26", "--lat": "44 30 N", "--lon": "012 00 W",
+                              "--eye": "2.8 m", "-o": f"{folder}/paper.pdf"}),
+        "azimuths": (["azimuths"], {"--date": "2026-03-26", "--lat": "43 16.6 N", "--lon": "013 11.4 W",
+                                    "--every": "60", "--eye": "2.8 m", "--zone": "+1"}),
+        "compass-book": (["compass-book", f"{s}/compass_book.csv"], {"-o": f"{folder}/book.csv"}),
+    }
+
+
+#: the cheaper commands are tried three times as often as those that write a workbook or mark a class
+_WEIGHTED = [c for c in ("almanac", "reduce", "fix", "compass", "identify", "route", "lunar", "rate", "series", "days",
+                         "azimuths", "compass-book") for _ in range(3)] + ["workbook", "plan", "training", "mark", "paper"]
+
+
+_SEEN: list = []
+
+
+@seeded(55)
+@given(st.sampled_from(_WEIGHTED), st.integers(0, 20), _HOSTILE)
+def test_every_commands_options_give_a_result_or_one_line_never_a_traceback(tmp_path_factory, command, which, value):
+    """A hostile value in any option (or argument) of any command: the command does its work (exit 0) or refuses
+    in one line naming the problem (exit 1, or 2 for a usage error as the command-line library gives), never a
+    traceback, never 'an unexpected failure', and never writes where it was not asked to."""
+    import os
+
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+
+    folder = tmp_path_factory.mktemp("options")
+    pd.read_csv("sample_sights/training_sights.csv", dtype=str).iloc[::10].to_csv(folder / "few.csv", index=False)
+    from openpyxl import load_workbook
+
+    sheet = load_workbook("sample_sights/class_workings.xlsx", read_only=True).worksheets[0]
+    pd.DataFrame([r for r in sheet.iter_rows(values_only=True)][1:6],
+                 columns=next(sheet.iter_rows(values_only=True))).to_csv(folder / "cadet.csv", index=False)
+    head, options = _commands(folder)[command]
+    names = list(options)
+    arguments = list(head)
+    target = which % (len(names) + len(head) - 1 or 1)
+    if target < len(names):
+        options = {**options, names[target]: value}
+    else:
+        arguments[1 + (target - len(names)) % (len(head) - 1)] = value
+    for name, option_value in options.items():
+        arguments += [name, option_value]
+    before = set(os.listdir(folder))
+    cwd = os.getcwd()
+    os.chdir(folder)  # a relative output name lands here, never in the repository
+    try:
+        result = CliRunner().invoke(app, arguments)
+    finally:
+        os.chdir(cwd)
+    _SEEN.append((command, result.exit_code))
+    assert result.exit_code in (0, 1, 2), (arguments, result.exit_code, result.output[-500:])
+    assert "Traceback" not in result.output and "unexpected failure" not in result.output, (arguments, result.output)
+    assert result.exception is None or isinstance(result.exception, SystemExit), (arguments, result.exception)
+    if result.exit_code == 1:
+        errors = [line for line in result.output.splitlines() if line.startswith("navred: error:")]
+        assert len(errors) == 1, (arguments, result.output)
+    if result.exit_code != 0:
+        written = set(os.listdir(folder)) - before
+        assert not {w for w in written if not w.startswith(".")} - {"v.xlsx", "book.csv"}, (arguments, written)
+
+
+_PASSAGE = list(csv.reader(open("sample_sights/passage_log.csv", encoding="utf-8")))
+_PASSAGE_EDITS = st.lists(st.tuples(st.integers(1, len(_PASSAGE) - 1), st.integers(0, len(_PASSAGE[0]) - 1),
+                                    _CELLS | st.sampled_from(["Second Sea Swallow (invented)", "departure", "course",
+                                                              "current", "position", "", "000", "90 N", "-0"])),
+                          min_size=1, max_size=5)
+
+
+@seeded(12)
+@given(_PASSAGE_EDITS)
+def test_mutated_passage_logs_keep_their_day_s_work_or_refuse_rows_by_name(tmp_path_factory, edits):
+    """A passage log kept with entry rows, mutated (cells, a second vessel's name, an entry word where a sight
+    was, a course to the pole): every row is a sight, an entry or a rejection with its reason, and the day's
+    work is done or refused in navred's own words, never a crash (the two-vessel log once failed here)."""
+    from navred.errors import NavredError, NavredInternalError
+    from navred.jobs.voyage import process_log
+
+    rows = [list(r) for r in _PASSAGE]
+    for row, column, cell in edits:
+        rows[row][column] = cell
+    path = tmp_path_factory.mktemp("passage") / "passage.csv"
+    with open(path, "w", newline="", encoding="utf-8", errors="replace") as handle:
+        csv.writer(handle).writerows(rows)
+    try:
+        voyage = process_log(path, plan=False)
+        voyage.days_work()
+    except NavredInternalError:
+        raise
+    except NavredError as exc:
+        assert "\n" not in str(exc)
+        return
+    log = voyage.log
+    kept = set(log.table.row) | set(log.entries.row) | set(log.rejected.row)
+    data = {k + 1 for k, r in enumerate(rows) if k and any(c.strip() for c in r)}
+    assert data <= kept, sorted(data - kept)
+    assert log.rejected.reason.map(lambda r: isinstance(r, str) and len(r) > 5).all()

@@ -120,6 +120,10 @@ def test_zone_time_and_watch_error_forms(tmp_path, row, expected):
     (zone_row(zone="+13"), "zone_description", "outside -12 to +12"),
     (zone_row(error="fast"), "watch_error", "cannot read"),
     (zone_row(error="-12 fast"), "watch_error", "a sign or fast/slow"),
+    # issue 19: an unsigned watch error has two readings, as an unsigned zone description has
+    (zone_row(error="12"), "watch_error", "'12' has no fast or slow: 12 fast (the watch is ahead; subtracted) or 12 slow"),
+    (zone_row(error="12 s"), "watch_error", "12 s fast (the watch is ahead; subtracted) or 12 s slow"),
+    (zone_row(error="01:05"), "watch_error", "no fast or slow"),
     (zone_row(time="18:42:30Z"), "zone_time", "carries a zone of its own"),
     (zone_row(time="7:41 pm"), "zone_time", "24-hour clock"),
     (zone_row(date="05/03/2026"), "date", "day-first it is 2026-03-05 (5 March), month-first 2026-05-03 (3 May)"),
@@ -512,3 +516,237 @@ def test_a_log_read_in_blocks_is_the_log_read_whole(tmp_path):
     frame.loc[200, "fix_group"] = ""
     frame.to_csv(path, index=False)
     assert len(list(read_sight_log_blocks(path, block_rows=50))) == 1  # an automatic group: read whole
+
+
+def _spreadsheet_with_shared_text(path):
+    """A workbook as spreadsheet programs save one (ECMA-376): shared text (plain, in runs, with a phonetic
+    guide), the 1904 date system, a built-in and a custom date format, a hidden sheet, a boolean, an error, a
+    formula with its saved value, an ISO date cell."""
+    import zipfile
+
+    main = 'xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main"'
+    rel = 'xmlns:r="http://schemas.openxmlformats.org/officeDocument/2006/relationships"'
+    kinds = "http://schemas.openxmlformats.org/officeDocument/2006/relationships"
+    parts = {
+        "[Content_Types].xml": '<Types xmlns="http://schemas.openxmlformats.org/package/2006/content-types">'
+                               '<Default Extension="rels" ContentType="application/vnd.openxmlformats-package.'
+                               'relationships+xml"/><Default Extension="xml" ContentType="application/xml"/>'
+                               '<Override PartName="/xl/workbook.xml" ContentType="application/vnd.openxmlformats-'
+                               'officedocument.spreadsheetml.sheet.main+xml"/>'
+                               + "".join(f'<Override PartName="/xl/{p}" ContentType="application/vnd.openxmlformats-'
+                                         f'officedocument.spreadsheetml.{k}+xml"/>' for p, k in (
+                                             ("worksheets/sheet1.xml", "worksheet"), ("worksheets/sheet2.xml",
+                                                                                      "worksheet"),
+                                             ("sharedStrings.xml", "sharedStrings"), ("styles.xml", "styles")))
+                               + "</Types>",
+        "_rels/.rels": '<Relationships xmlns="http://schemas.openxmlformats.org/package/2006/relationships">'
+                       f'<Relationship Id="rId1" Type="{kinds}/officeDocument" Target="xl/workbook.xml"/>'
+                       "</Relationships>",
+        "xl/workbook.xml": f'<workbook {main} {rel}><workbookPr date1904="1"/><sheets>'
+                           '<sheet name="Log" sheetId="1" r:id="rId1"/>'
+                           '<sheet name="Lists" sheetId="2" state="hidden" r:id="rId2"/></sheets></workbook>',
+        "xl/_rels/workbook.xml.rels":
+            '<Relationships xmlns="http://schemas.openxmlformats.org/package/2006/relationships">'
+            f'<Relationship Id="rId1" Type="{kinds}/worksheet" Target="worksheets/sheet1.xml"/>'
+            f'<Relationship Id="rId2" Type="{kinds}/worksheet" Target="/xl/worksheets/sheet2.xml"/>'
+            f'<Relationship Id="rId3" Type="{kinds}/sharedStrings" Target="sharedStrings.xml"/>'
+            f'<Relationship Id="rId4" Type="{kinds}/styles" Target="styles.xml"/></Relationships>',
+        "xl/sharedStrings.xml": f'<sst {main} count="4" uniqueCount="4"><si><t>utc</t></si><si><t>Sirius</t></si>'
+                                '<si><r><t>Cadet </t></r><r><rPr><b/></rPr><t>Zoë</t></r></si>'
+                                '<si><t>Kaito</t><rPh sb="0" eb="1"><t>カイト</t></rPh></si></sst>',
+        "xl/styles.xml": f'<styleSheet {main}><numFmts count="1"><numFmt numFmtId="164" formatCode="yyyy-mm-dd hh:mm"/>'
+                         '</numFmts><cellStyleXfs count="1"><xf numFmtId="14"/></cellStyleXfs><cellXfs count="3">'
+                         '<xf numFmtId="0"/><xf numFmtId="14"/><xf numFmtId="164"/></cellXfs></styleSheet>',
+        "xl/worksheets/sheet1.xml": f'<worksheet {main}><sheetData>'
+                                    '<row r="1"><c r="A1" t="s"><v>0</v></c><c r="B1" t="s"><v>1</v></c></row>'
+                                    '<row r="3"><c r="A3" s="2"><v>44646.8201388889</v></c><c r="B3" s="1"><v>3</v>'
+                                    '</c><c r="C3" t="s"><v>2</v></c><c r="D3" t="s"><v>3</v></c>'
+                                    '<c r="E3" t="b"><v>1</v></c><c r="F3" t="e"><v>#N/A</v></c>'
+                                    '<c r="G3"><f>1+1</f><v>2</v></c><c r="H3" t="str"><f>"a"</f><v>a</v></c>'
+                                    '<c r="I3" t="d"><v>2026-03-26T19:41:00</v></c><c r="J3" s="0"><v>2.5</v></c>'
+                                    '</row></sheetData></worksheet>',
+        "xl/worksheets/sheet2.xml": f'<worksheet {main}><sheetData><row r="1"><c r="A1" t="inlineStr"><is><t>x</t>'
+                                    '</is></c></row></sheetData></worksheet>',
+    }
+    with zipfile.ZipFile(path, "w") as archive:
+        for name, text in parts.items():
+            archive.writestr(name, '<?xml version="1.0" encoding="UTF-8"?>' + text)
+
+
+@pytest.mark.filterwarnings("ignore:Workbook contains no default style")  # openpyxl, of the hand-made workbook
+def test_the_sheet_reader_reads_every_cell_as_openpyxl_does(tmp_path):
+    # navred reads a workbook itself (navred.io.sheetreader) so that a damaged cell costs its row alone and a big
+    # sheet is not parsed before it is counted; on sound workbooks (the demo, the class's workings, a workbook
+    # navred wrote with dates, numbers and text, one saved with shared text and a hidden sheet) every sheet and
+    # value is the one openpyxl's read-only, data-only reading gives (the general-purpose reference)
+    import zipfile
+
+    import openpyxl
+
+    from navred.io.sheetreader import open_workbook, read_sheet_cells
+    from navred.io.workbook import write_workbook
+    from navred.jobs.voyage import process_log
+
+    written = tmp_path / "demo.navred.xlsx"
+    write_workbook(process_log("sample_sights/demo_sights.csv", plan=False), written, plots=False)
+    saved = tmp_path / "shared.xlsx"
+    _spreadsheet_with_shared_text(saved)
+    compared = 0
+    for path in ("sample_sights/demo_sights.xlsx", "sample_sights/class_workings.xlsx", written, saved):
+        reference = openpyxl.load_workbook(path, read_only=True, data_only=True)
+        with zipfile.ZipFile(path) as archive:
+            book = open_workbook(archive)
+            assert book.sheetnames == reference.sheetnames
+            assert [s.state for s in book.sheets] == [reference[n].sheet_state for n in reference.sheetnames]
+            assert book.epoch == reference.epoch
+            entries = {s.name: s for s in book.sheets}
+            for name in reference.sheetnames:
+                expected = {}
+                for number, row in enumerate(reference[name].iter_rows(values_only=True), start=1):
+                    for column, value in enumerate(row, start=1):
+                        if value is not None:
+                            expected[(number, column)] = value
+                cells = read_sheet_cells(book, entries[name], archive, take_cells=lambda n: None)
+                got = {(number, column): value for number, values in cells.rows
+                       for column, value in enumerate(values, start=1) if value is not None}
+                if path == saved and name == "Log":  # an error cell is named as unreadable, not read as text
+                    assert got.pop((3, 6)).reason.startswith("the spreadsheet shows the error #N/A")
+                    assert expected.pop((3, 6)) == "#N/A"
+                assert got == expected, (path, name)
+                compared += len(got)
+        reference.close()
+    assert compared > 1500
+
+
+# --- issue 19 item 6 and issue 20 item 2: every column named, nothing dropped without a word --------------
+
+DEMO = "sample_sights/demo_sights.csv"
+
+
+def demo_with(tmp_path, rename=None, extra=None, name="log.csv"):
+    """The demo log with a column renamed or added (header: values for every row)."""
+    frame = pd.read_csv(DEMO, dtype=str, keep_default_na=False)
+    if rename:
+        frame = frame.rename(columns=rename)
+    for header, value in (extra or {}).items():
+        frame[header] = value
+    path = tmp_path / name
+    frame.to_csv(path, index=False)
+    return path
+
+
+def test_columns_navred_does_not_read_are_named_in_a_note(tmp_path):
+    log = read_sight_log(demo_with(tmp_path, extra={"remarks": "calm", "sextant": "No. 2"}))
+    assert len(log.sights) == 11
+    assert log.notes == ("log.csv: columns navred does not read, kept as text: 'remarks', 'sextant'",)
+    assert "remarks" in log.extra_columns  # kept as text, for the Working sheet
+    # a column of the navigator's own that looks like a correction is kept when its name says so
+    kept = read_sight_log(demo_with(tmp_path, extra={"note sea temp": "14"}, name="own.csv"))
+    assert kept.notes == ("own.csv: column navred does not read, kept as text: 'note sea temp'",)
+
+
+@pytest.mark.parametrize("header, expected", [
+    ("IC", "index_error (arcminutes, on the arc positive"),
+    ("Index corr", "an index correction is the index error with its sign changed"),
+    ("I.E.", "index_error"),
+    ("Air temp F", "temperature (C) or temperature (F)"),
+    ("index_eror_arcmin", "index_error"),
+    ("temprature_c", "temperature (C)"),
+    ("height", "eye_height (m) or eye_height (ft)"),
+    ("Chrono err", "watch_error"),
+    ("barometric_hpa", "pressure (hPa)"),
+    ("obsever", "is it 'observer'?"),
+    ("fix_gruop", "is it 'fix_group'?"),
+])
+def test_a_column_that_looks_like_a_correction_is_refused_with_the_name_navred_expects(tmp_path, header, expected):
+    # read by no rule, such a column was dropped and its default used (0′ of index error, 10 °C): 1.4 nm
+    with pytest.raises(LogbookError) as refusal:
+        read_sight_log(demo_with(tmp_path, extra={header: "1.4"}))
+    message = str(refusal.value)
+    assert f"column {header!r}" in message and expected in message and "\n" not in message
+
+
+def test_a_repeated_column_reads_as_one_where_it_agrees(tmp_path):
+    lines = ["utc,body,hs,eye_height_m,dr_lat,dr_lon,hs",
+             "2026-03-26T19:41:00Z,Sirius,30 02.4,2.8,43 14 N,13 04 W,30 02.4",
+             "2026-03-26T19:42:00Z,Sirius,30 03.4,2.8,43 14 N,13 04 W,30 09.9",
+             "2026-03-26T19:43:00Z,Sirius,30 04.4,2.8,43 14 N,13 04 W,"]
+    log = read_sight_log(write(tmp_path, lines))
+    assert list(log.sights.row) == [2, 4]  # agreeing, and given once: read; disagreeing: refused by name
+    assert "two values for hs: 'hs' '30 03.4' and 'hs' '30 09.9'" in reasons(log, 3)[0]
+    assert log.notes == ("log.csv: columns C and G are all headed 'hs': read as one where they agree; a row where "
+                         "they differ is rejected",)
+
+
+def test_a_value_right_of_the_last_header_rejects_its_row_by_name(tmp_path):
+    # the same row in CSV (a field too many) and in .xlsx (a cell with no header): both rejected, named
+    book = openpyxl.Workbook()
+    sheet = book.active
+    sheet.append(["utc", "body", "hs", "eye_height_m", "dr_lat", "dr_lon"])
+    sheet.append(["2026-03-26T19:41:00Z", "Sirius", "30 02.4", 2.8, "43 14 N", "13 04 W"])
+    sheet.append(["2026-03-26T19:42:00Z", "Sirius", "30 03.4", 2.8, "43 14 N", "13 04 W", None, "13 05 W"])
+    book.save(tmp_path / "log.xlsx")
+    log = read_sight_log(tmp_path / "log.xlsx")
+    assert list(log.sights.row) == [2]
+    text, columns = reasons(log, 3)
+    assert columns == {"H"} and "a value ('13 05 W') in column H, right of the last header (F 'dr_lon')" in text
+    csv_log = read_sight_log(write(tmp_path, ["utc,body,hs,eye_height_m,dr_lat,dr_lon",
+                                              "2026-03-26T19:41:00Z,Sirius,30 02.4,2.8,43 14 N,13 04 W",
+                                              "2026-03-26T19:42:00Z,Sirius,30 03.4,2.8,43 14 N,13 04 W,,13 05 W"]))
+    assert list(csv_log.sights.row) == [2] and "row has 8 fields where the header has 6" in reasons(csv_log, 3)[0]
+
+
+def test_text_is_decoded_cell_by_cell(tmp_path):
+    # a UTF-8 log with one byte that is not UTF-8: that cell's row alone is refused, named, and every other
+    # cell keeps its own text (Zoë stays Zoë, 44° 10.1′ N stays an angle)
+    lines = ["utc,body,hs,eye_height_m,dr_lat,dr_lon,observer",
+             "2026-03-26T19:41:00Z,Sirius,30° 02.4′,2.8,43° 14′ N,13° 04′ W,Zoë",
+             "2026-03-26T19:42:00Z,Sirius,30° 03.4′,2.8,43° 14′ N,13° 04′ W,Zoë"]
+    data = ("\n".join(lines) + "\n").encode("utf-8")
+    data = data.replace("Zoë\n".encode(), b"Zo\xeb\n", 1)  # one cell typed in another code page
+    path = tmp_path / "mixed.csv"
+    path.write_bytes(data)
+    log = read_sight_log(path)
+    assert list(log.sights.row) == [3] and log.sights.observer.tolist() == ["Zoë"]
+    assert log.sights.hs_deg.tolist() == pytest.approx([30 + 3.4 / 60])
+    text, columns = reasons(log, 2)
+    assert columns == {"observer"} and "the byte 0xEB, which is not UTF-8 like the rest of the file" in text
+    # a file with nothing of UTF-8 in it is an 8-bit file of a spreadsheet on Windows: read, and noted
+    legacy = tmp_path / "legacy.csv"
+    legacy.write_bytes(("\n".join(lines) + "\n").replace("′", "'").encode("cp1252"))
+    old = read_sight_log(legacy)
+    assert old.sights.observer.tolist() == ["Zoë", "Zoë"] and len(old.rejected) == 0
+    assert any("read as Windows-1252" in note for note in old.notes)
+
+
+def test_horizon_none_is_refused_with_what_to_write(tmp_path):
+    log = read_sight_log(write(tmp_path, ["utc,body,hs,eye_height_m,dr_lat,dr_lon,horizon",
+                                          "2026-03-26T19:41:00Z,Sirius,30 02.4,2.8,43 14 N,13 04 W,none",
+                                          "2026-03-26T19:42:00Z,Sirius,30 02.4,2.8,43 14 N,13 04 W,"]))
+    assert list(log.sights.row) == [3] and log.sights.horizon.tolist() == ["sea"]
+    assert "write bubble" in reasons(log, 2)[0]
+
+
+def test_a_blank_course_or_speed_is_carried_from_the_row_before_or_refused_by_name(tmp_path):
+    # issue 20: a blank speed in a running fix was taken as 0 kn (a 191 x 174 nm ellipse, every sight flagged);
+    # now it is carried from the last row that gives one, named, or refused where no row before gives one
+    frame = pd.read_csv(DEMO, dtype=str, keep_default_na=False)
+    frame.loc[1, "speed_kn"] = ""  # row 3, in the Sun-run-Sun: carried from row 2
+    frame.loc[7, "course_deg"] = ""  # row 9, a star of the evening round: carried from row 8
+    frame.to_csv(tmp_path / "carried.csv", index=False)
+    log = read_sight_log(tmp_path / "carried.csv")
+    assert len(log.sights) == 11
+    notes = log.table.set_index("row").motion_carried_from
+    assert notes[3] == "speed 6.5 kn carried from row 2" and notes[9] == "course 215° carried from row 8"
+    assert (notes.drop([3, 9]) == "").all()
+    plain = process_log(DEMO, plan=False).group("sun-run-sun").fix
+    carried = process_log(log, plan=False).group("sun-run-sun").fix
+    assert abs(carried.lat_deg - plain.lat_deg) < 1e-9 and abs(carried.lon_deg - plain.lon_deg) < 1e-9
+    # the first sight of the run has nothing before it: refused, named, rather than read as a ship stopped
+    frame.loc[0, "speed_kn"] = ""
+    frame.to_csv(tmp_path / "refused.csv", index=False)
+    refused = read_sight_log(tmp_path / "refused.csv")
+    text, columns = reasons(refused, 2)
+    assert columns == {"speed_kn"} and "no row before gives one" in text and "running fix (sun-run-sun)" in text
+    assert refused.table.set_index("row").motion_carried_from[3] == ""  # row 3 is now refused too: nothing before
+    assert set(refused.rejected.row) == {2, 3}

@@ -33,7 +33,7 @@ def with_chronometer_error(frame):
     out = frame.copy()
     reading = pd.to_datetime(out.utc) + pd.Timedelta(seconds=120)
     out["utc"] = reading.dt.strftime("%Y-%m-%dT%H:%M:%SZ")
-    out["chronometer_error_s"] = "120"
+    out["chronometer_error_s"] = "120 fast"  # a bare 120 is refused: fast or slow?
     return out
 
 

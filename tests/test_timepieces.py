@@ -192,3 +192,37 @@ def test_a_numeric_date_in_the_rating_log_follows_the_sight_logs_rule(tmp_path):
     assert comparisons["error_s"].tolist() == pytest.approx([1.0, 1.5])
     cli = runner.invoke(app, ["rate", str(path), "--dates", "day-first"])
     assert cli.exit_code == 0 and "2 comparisons" in cli.output
+
+
+def test_two_comparisons_at_one_instant_are_one_or_neither_and_no_rate_is_made_up(tmp_path):
+    # issue 20: two comparisons at one instant gave "rate +0.00", three "± nan"
+    path = _signals(tmp_path / "signals.csv", [
+        {"timepiece": "A", "utc": "2026-03-20T12:00:00Z", "reading": "12:00:03.1"},   # 2
+        {"timepiece": "A", "utc": "2026-03-20T12:00:00Z", "reading": "12:00:03.1"},   # 3 the same comparison again
+        {"timepiece": "B", "utc": "2026-03-20T12:00:00Z", "reading": "12:00:05.0"},   # 4
+        {"timepiece": "B", "utc": "2026-03-20T12:00:00Z", "reading": "12:00:09.0"},   # 5 the same signal, another error
+        {"timepiece": "B", "utc": "2026-03-21T12:00:00Z", "reading": "12:00:05.5"},   # 6
+        {"timepiece": "B", "utc": "2026-03-22T12:00:00Z", "reading": "12:00:06.0"},   # 7
+    ])
+    ratings = read_rating_log(path)
+    reasons = ratings.rejected.set_index("row").reason
+    assert set(reasons.index) == {3, 4, 5}
+    assert "the same comparison as row 2" in reasons[3]
+    assert "row 4, row 5 compare the timepiece with the one signal" in reasons[4] and "neither is used" in reasons[5]
+    a, b = ratings.timepieces["A"], ratings.timepieces["B"]
+    assert list(a.comparisons.row) == [2] and "rate unknown (one comparison)" in a.summary()
+    assert list(b.comparisons.row) == [6, 7] and "rate +0.50 s a day (two comparisons" in b.summary()
+    for piece in (a, b):
+        assert "nan" not in piece.summary()
+    result = runner.invoke(app, ["rate", str(path)])
+    assert result.exit_code == 0 and "nan" not in result.output and "row 5" in result.output
+
+
+def test_rating_log_columns_are_named_or_refused_as_the_sight_logs_are(tmp_path):
+    rows = [{"timepiece": "A", "utc": f"2026-03-2{k}T12:00:00Z", "reading": f"12:00:0{3 + k}", "remarks": "ok"}
+            for k in range(3)]
+    ratings = read_rating_log(_signals(tmp_path / "noted.csv", rows))
+    assert ratings.notes == ["noted.csv: column of the rating log navred does not read, kept aside: 'remarks'"]
+    misspelt = [{"timepeice" if k == "timepiece" else k: v for k, v in row.items()} for row in rows]
+    with pytest.raises(LogbookError, match="column 'timepeice' is not a column navred reads: is it 'timepiece'"):
+        read_rating_log(_signals(tmp_path / "misspelt.csv", misspelt))

@@ -13,7 +13,7 @@ import warnings
 import typer
 
 from .. import __version__
-from ..errors import NavredError, NavredWarning
+from ..errors import NavredError, NavredInternalError, NavredWarning
 
 app = typer.Typer(
     name="navred",
@@ -27,7 +27,7 @@ app = typer.Typer(
 
 
 @contextlib.contextmanager
-def _reported():
+def _reported(ctx=None):
     """Turn navred errors into one line and exit 1; print every warning. Anything unforeseen is one
     line too (no traceback reaches a user; NAVRED_DEBUG=1 shows it)."""
     import os
@@ -35,8 +35,11 @@ def _reported():
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", NavredWarning)
         try:
+            _refuse_empty_values(ctx)
             yield
         except NavredError as exc:
+            if os.environ.get("NAVRED_DEBUG") and isinstance(exc, NavredInternalError):
+                raise
             _print_warnings(caught)
             typer.echo(f"navred: error: {exc}", err=True)
             raise typer.Exit(code=1) from None
@@ -70,20 +73,80 @@ def _reported():
     _caution()
 
 
+def _refuse_empty_values(context) -> None:
+    """An option or argument given as an empty string (``-o ''``, ``--rates ''``) is refused by name: it is a
+    slip (an unset shell variable), never a choice, and must not pass for an option not given."""
+    if context is None:
+        return
+    for parameter in context.command.params:
+        value = context.params.get(parameter.name)
+        values = value if isinstance(value, (list, tuple)) else [value]
+        if any(isinstance(v, str) and not v.strip() for v in values):
+            name = "/".join(o for o in parameter.opts if o.startswith("--")) or (parameter.opts[0] if parameter.opts
+                                                                                  else parameter.name)
+            if not parameter.opts or not parameter.opts[0].startswith("-"):
+                name = (parameter.metavar or parameter.name).upper().rstrip(".")
+            raise NavredError(f"{name}: an empty value was given; give a value, or leave the option out")
+
+
+def _print_notes(*sources, err: bool = True) -> None:
+    """The notes a reader made about its files as a whole (the columns it does not read, a file read as
+    Windows-1252, a column repeated), one line each."""
+    seen = set()
+    for source in sources:
+        for note in getattr(source, "notes", None) or ():
+            if note not in seen:
+                seen.add(note)
+                typer.echo(f"note: {note}", err=err)
+
+
+def _input_files(*groups) -> list[str]:
+    """Every file a run reads from these paths (a folder's logs included), to be refused as an output."""
+    from pathlib import Path
+
+    files = []
+    for group in groups:
+        for item in ([group] if isinstance(group, str) else list(group or [])):
+            if not item:
+                continue
+            path = Path(item)
+            files.append(str(path))
+            if path.is_dir():
+                files.extend(str(p) for p in path.iterdir() if p.is_file())
+    return files
+
+
+def _check_folder(folder: str, inputs, name: str) -> None:
+    """A folder to write pictures into, checked before the work: not a file, not an input, writable."""
+    from pathlib import Path
+
+    from ..io.output import check_output
+
+    path = Path(folder)
+    if path.exists() and not path.is_dir():
+        raise NavredError(f"{name} {folder}: that is a file; give a folder")
+    if any(Path(i).resolve() == path.resolve() for i in inputs):
+        raise NavredError(f"{name} {folder}: that is one of the inputs of this run; give another folder")
+    check_output(path / "picture.png", inputs, what=name)
+
+
 def _csv_safe(frame):
     from ..io.output import csv_safe
 
     return csv_safe(frame)
 
 
-def _number(value: float | None, name: str, low: float, high: float):
-    """A number given on the command line, refused with one line when not finite or out of range."""
+def _number(value: float | None, name: str, low: float, high: float, why: str = ""):
+    """A number given on the command line, refused with one line when not finite or out of range (``why``: what
+    the range is, for the message)."""
     import math
 
     if value is None:
         return None
-    if not math.isfinite(value) or not low <= value <= high:
-        raise NavredError(f"{name} {value!r} is outside {low:g} to {high:g}")
+    if not math.isfinite(value):
+        raise NavredError(f"{name} {value!r} is not a number; give a value from {low:g} to {high:g}")
+    if not low <= value <= high:
+        raise NavredError(f"{name} {value!r} is outside {low:g} to {high:g}" + (f" ({why})" if why else ""))
     return value
 
 
@@ -109,6 +172,7 @@ def _main(version: bool = typer.Option(False, "--version", callback=_version, is
 
 @app.command("almanac")
 def almanac_command(
+    ctx: typer.Context,
     bodies: list[str] = typer.Argument(..., help="Body names: Sun, Moon, Venus, Mars, Jupiter, Saturn or a navigational star."),
     utc: str = typer.Option(..., "--utc", "-t", help="Instant, ISO 8601 with a zone, e.g. 2026-03-20T18:42:10Z."),
     dut1: float | None = typer.Option(None, "--dut1", help="UT1 - UTC in seconds (from a radio time signal); default: the IERS table."),
@@ -121,7 +185,11 @@ def almanac_command(
     from ..almanac import places
     from ..angles import format_angle
 
-    with _reported():
+    with _reported(ctx):
+        from ..vocabulary import COLUMN
+
+        _number(dut1, "--dut1", COLUMN["dut1"].low, COLUMN["dut1"].high,  # as the log's dut1 column
+                "seconds: UT1 − UTC is kept within 0.9 s by leap seconds, and the log's dut1 column is held to it")
         result = places(list(bodies), _single_instant(utc), dut1_s=dut1)
         instant = result.instants.utc_datetime64()[0]
         stamp = str(instant.astype("datetime64[ms]"))
@@ -197,13 +265,22 @@ def _reduced(log):
 REDUCE_BLOCK_ROWS = 25_000
 
 
-def _reduced_block_csv(plan, k: int) -> tuple[str, int]:
-    """Block ``k`` of a long log read, reduced and written as CSV (the header with the first), and how many of
-    its sights were reduced."""
+def _reduced_block_csv(plan, k: int) -> tuple[str, int, int]:
+    """Block ``k`` of a long log read, reduced and written as CSV (the header with the first), with the number
+    of its rows and of its sights reduced."""
     from ..io.output import csv_text
 
     reduced = _reduced(plan.read(k))
-    return csv_text(reduced, header=k == 0), _count_reduced(reduced)
+    return csv_text(reduced, header=k == 0), len(reduced), int((reduced.status != "error").sum())
+
+
+def _nothing_reduced(rows: int, reduced: int, where: str = "navred reduce names each row and why") -> None:
+    """Exit 1 with one line when a run reduced no sight: a log with no sight rows, or none readable."""
+    if rows == 0:
+        raise NavredError("nothing could be reduced: the log holds no sights, only a header (and perhaps empty rows)")
+    if reduced == 0:
+        raise NavredError(f"nothing could be reduced: {'the one row was' if rows == 1 else f'every one of the {rows} rows was'} "
+                          f"rejected; {where}")
 
 
 def _count_reduced(reduced) -> int:
@@ -218,6 +295,7 @@ def _labels(reduced):
 
 @app.command("reduce")
 def reduce_command(
+    ctx: typer.Context,
     sights_files: list[str] = typer.Argument(..., metavar="SIGHTS...", help=_SIGHTS_HELP),
     csv: bool = typer.Option(False, "--csv", help="Print every column of every sight (reduced or not) as CSV."),
     rates: str | None = typer.Option(None, "--rates", help=_RATES_HELP),
@@ -233,7 +311,7 @@ def reduce_command(
     from ..angles import format_angle
     from ..io.logbook import read_sight_log
 
-    with _reported():
+    with _reported(ctx):
         if csv:
             # block by block, the blocks shared among the cores: a fleet's archive of a million sights never sits
             # in memory whole
@@ -244,20 +322,25 @@ def reduce_command(
             ratings = _ratings(rates, dates)
             source = _source(sights_files)
             plan = sight_log_blocks(source, dates=dates, rates=ratings, block_rows=REDUCE_BLOCK_ROWS)
+            rows = done = 0
             if plan is None:
-                reduced = _reduced(read_sight_log(source, dates=dates, rates=ratings))
+                log = read_sight_log(source, dates=dates, rates=ratings)
+                _print_notes(ratings, log)
+                reduced = _reduced(log)
                 sys.stdout.write(csv_text(reduced))
-                count = _count_reduced(reduced)
+                rows, done = len(reduced), int((reduced.status != "error").sum())
             else:
-                count = 0
-                for text, done in forked_map(_reduced_block_csv, range(len(plan)), context=plan, workers=cores()):
+                _print_notes(ratings, plan)
+                for text, block_rows, block_done in forked_map(_reduced_block_csv, range(len(plan)), context=plan,
+                                                               workers=cores()):
                     sys.stdout.write(text)
-                    count += done
+                    rows, done = rows + block_rows, done + block_done
             sys.stdout.flush()
-            if count == 0:
-                raise NavredError("nothing could be reduced: every row's reason is in the CSV's message column")
+            _nothing_reduced(rows, done, "the CSV names each row and why (status, message)")
             return
-        log = read_sight_log(_source(sights_files), dates=dates, rates=_ratings(rates, dates))
+        ratings = _ratings(rates, dates)
+        log = read_sight_log(_source(sights_files), dates=dates, rates=ratings)
+        _print_notes(ratings, log)
         reduced = _reduced(log)
         labels = [label.removeprefix("row ") for label in _labels(reduced)]
         width = max([len(x) for x in labels] + [3])
@@ -269,14 +352,15 @@ def reduce_command(
                            f"{row.message}")
                 continue
             intercept = f"{abs(row.intercept_nm):5.1f} nm {row.intercept_direction}"
+            carried = getattr(row, "motion_carried_from", "")
+            note = "; ".join(t for t in (row.message, carried) if t)
             typer.echo(f"{label:>{width}}  {row.body_name:<15}{when:<21}{format_angle(row.ho_deg, 'signed'):>12}"
-                       f"{format_angle(row.hc_deg, 'signed'):>12}{row.zn_deg:7.1f}°  {intercept:<18}{row.message}")
+                       f"{format_angle(row.hc_deg, 'signed'):>12}{row.zn_deg:7.1f}°  {intercept:<18}{note}")
         counts = reduced.status.value_counts()
         empty = f", {log.empty_rows} empty row{'s' if log.empty_rows > 1 else ''} skipped" if log.empty_rows else ""
         typer.echo(f"{int(counts.get('ok', 0) + counts.get('warning', 0))} sights reduced "
                    f"({int(counts.get('warning', 0))} with a warning), {int(counts.get('error', 0))} not reduced{empty}")
-        if counts.get("error", 0) == len(reduced):
-            raise NavredError("nothing could be reduced: each row above says why")
+        _nothing_reduced(len(reduced), len(reduced) - int(counts.get("error", 0)), "each row's reason is above")
 
 
 def _print_fix(group, reduced, labels) -> None:
@@ -326,6 +410,8 @@ def _print_fix(group, reduced, labels) -> None:
             flag = "LEFT OUT of this fix: a gross error (its line from this fix)"
         if reduced.status.iloc[row] == "error":
             flag = "not reduced"
+        carried = reduced["motion_carried_from"].iloc[row] if "motion_carried_from" in reduced.columns else ""
+        flag = "; ".join(t for t in (flag, carried) if t)
         text = f"{residual:+.1f}′" if residual == residual else "-"
         typer.echo(f"  {labels[row]:<{width}}  {str(reduced.body_name.iloc[row]):<16}{text:>10}  {flag}")
     if fix.all_sights is not None:
@@ -423,6 +509,7 @@ def _fixes_csv(voyage) -> str:
 
 @app.command("fix")
 def fix_command(
+    ctx: typer.Context,
     sights_files: list[str] = typer.Argument(..., metavar="SIGHTS...", help=_SIGHTS_HELP),
     at: str | None = typer.Option(None, "--at", help="Fix time (ISO 8601 with a zone); default: the last sight of each group."),
     chart_lat: str | None = typer.Option(None, "--chart-lat", help="Chart or GNSS latitude to cross-check, e.g. '43 16.5 N'."),
@@ -443,7 +530,7 @@ def fix_command(
     """
     from ..jobs.voyage import fix_groups, process_log
 
-    with _reported():
+    with _reported(ctx):
         lat = _angle_option(chart_lat, "lat", "--chart-lat") if chart_lat is not None else None
         lon = _angle_option(chart_lon, "lon", "--chart-lon") if chart_lon is not None else None
         if at is not None:
@@ -457,6 +544,8 @@ def fix_command(
             raise NavredError("give both --chart-lat and --chart-lon, or neither")
         voyage = process_log(_source(sights_files), dates=dates, solve_motion=solve_motion, plan=False, at_utc=at,
                              rates=_ratings(rates, dates))
+        _print_notes(voyage, err=True)
+        _nothing_reduced(len(voyage.reduced), voyage.n_reduced)
         names = [g.name for g in voyage.groups]
         if group is not None:
             voyage.group(group)  # refuses an unknown group, naming the log's groups
@@ -497,6 +586,7 @@ def fix_command(
 
 @app.command("workbook")
 def workbook_command(
+    ctx: typer.Context,
     sights_files: list[str] = typer.Argument(..., metavar="SIGHTS...", help=_SIGHTS_HELP),
     output: str | None = typer.Option(None, "--output", "-o", help="Workbook to write (.xlsx); default: the first log with .navred.xlsx."),
     plots: str | None = typer.Option(None, "--plots", help="Also write each fix's plotting sheet as files (PNG and SVG) into this folder."),
@@ -525,7 +615,7 @@ def workbook_command(
     from ..io.workbook import Pictures, check_fits, write_plots, write_workbook
     from ..jobs.voyage import process_log
 
-    with _reported():
+    with _reported(ctx):
         first = Path(sights_files[0])
         target = Path(output) if output else (first / "logs.navred.xlsx" if first.is_dir()
                                               else first.with_suffix(".navred.xlsx"))
@@ -536,14 +626,24 @@ def workbook_command(
             raise NavredError(f"--plot-formats {plot_formats!r}: give png, svg or png,svg")
         if pictures == "files" and not plots:
             plots = str(target.with_name(target.name.removesuffix(".xlsx") + "-plots"))
-        if plots and Path(plots).exists() and not Path(plots).is_dir():
-            raise NavredError(f"--plots {plots}: that is a file; give a folder for the plotting sheets")
+        inputs = _input_files(sights_files, rates)
+        # every output refused now, before the work, not after it
+        check_output(target, inputs, suffixes=(".xlsx",), what="--output")
+        if gpx:
+            check_output(gpx, inputs, suffixes=(".gpx",), what="--gpx")
+        if geojson:
+            check_output(geojson, inputs, suffixes=(".geojson", ".json"), what="--geojson")
+        if plots:
+            _check_folder(plots, inputs, "--plots")
         ratings = _ratings(rates, dates)
         log = read_sight_log(_source(sights_files), dates=dates, rates=ratings)
+        _print_notes(ratings, log)
         check_fits(len(log.table))
+        if not len(log.table):
+            _nothing_reduced(0, 0)
         for path in (target, gpx, geojson):
             if path:
-                check_output(path, log.sources)  # refused now, before the work, not after it
+                check_output(path, log.sources)  # a folder's logs, now that they are known
         bar = None
 
         def progress(done: int, total: int) -> None:
@@ -583,7 +683,7 @@ def workbook_command(
         _print_sight_warnings(voyage.reduced, _labels(voyage.reduced), err=True)
         typer.echo(voyage.summary())
         if voyage.n_reduced == 0:
-            raise NavredError("nothing could be reduced: see the Rejected sheet for every row's reason")
+            raise NavredError(f"nothing could be reduced: the Rejected sheet of {target} gives every row's reason")
         if strict and voyage.n_rejected_rows:
             typer.echo(f"--strict: {voyage.n_rejected_rows} row(s) rejected", err=True)
             raise typer.Exit(code=1)
@@ -638,6 +738,7 @@ def _angle_option(text: str | None, kind: str, name: str):
 
 @app.command("plan")
 def plan_command(
+    ctx: typer.Context,
     date: str = typer.Option(..., "--date", help="Local civil date of the first day, e.g. 2026-03-26."),
     lat: str = typer.Option(..., "--lat", help="DR latitude at 00:00 local time, e.g. '43 16.6 N'."),
     lon: str = typer.Option(..., "--lon", help="DR longitude at 00:00 local time, e.g. '013 11.4 W'."),
@@ -669,7 +770,16 @@ def plan_command(
     from ..jobs.bridge import bridge_plan
     from ..timework import parse_date, parse_zone_description
 
-    with _reported():
+    with _reported(ctx):
+        from pathlib import Path
+
+        from ..io.output import check_output
+
+        if csv_out:
+            check_output(csv_out, suffixes=(".csv",), what="--csv")
+            check_output(Path(csv_out).with_name(Path(csv_out).stem + "-plans.csv"), what="--csv")
+        if sky:
+            check_output(sky, suffixes=(".png", ".svg"), what="--sky")
         lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
         _number(course, "--course", 0.0, 360.0), _number(speed, "--speed", 0.0, 60.0)
         _number(min_alt, "--min-alt", 0.0, 90.0), _number(max_alt, "--max-alt", 0.0, 90.0)
@@ -688,11 +798,6 @@ def plan_command(
             raise NavredError(f"--date: {exc}") from None
         files = _output_files(output, {".pdf": "a page per round of sights, for the bridge", ".txt": "the text shown",
                                        ".png": "the first round's sky", ".svg": "the first round's sky"})
-        for path in (csv_out, sky):
-            if path:
-                from ..io.output import check_output
-
-                check_output(path)
         plan = bridge_plan(date, days, lat_deg, lon_deg, course_deg=course, speed_kn=speed, eye_height_m=eye_m,
                            index_error_arcmin=index_error_arcmin, zone_description_h=zd, count=count,
                            min_alt_deg=min_alt, max_alt_deg=max_alt, at=at)
@@ -788,6 +893,7 @@ def _caution() -> None:
 
 @app.command("paper")
 def paper_command(
+    ctx: typer.Context,
     first: str = typer.Option(..., "--from", help="The passage's first date (UTC), e.g. 2026-03-26."),
     last: str = typer.Option(..., "--to", help="The passage's last date (UTC), inclusive."),
     lat: str = typer.Option(..., "--lat", help="DR latitude at 00:00 local time of the first date, e.g. '44 30 N'."),
@@ -814,7 +920,7 @@ def paper_command(
     from ..jobs.paper import passage_paper
     from ..timework import parse_zone_description
 
-    with _reported():
+    with _reported(ctx):
         files = _output_files(output, {".pdf": "the printed paper"})
         if not files and not tables:
             raise NavredError("give -o FILE.pdf for the printed paper, --tables DIR for its tables as CSV, or both")
@@ -846,6 +952,7 @@ def paper_command(
 
 @app.command("compass")
 def compass_command(
+    ctx: typer.Context,
     body: str = typer.Argument(..., help="The body whose bearing was taken (Sun, a star, a planet, the Moon)."),
     utc: str = typer.Option(..., "--utc", "-t", help="Instant of the bearing, ISO 8601 with a zone."),
     lat: str = typer.Option(..., "--lat", help="DR latitude."),
@@ -876,7 +983,11 @@ def compass_command(
     )
     from ..stars import canonical_body_name
 
-    with _reported():
+    with _reported(ctx):
+        if card:
+            from ..io.output import check_output
+
+            check_output(card, suffixes=(".csv",), what="--card")
         lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
         variation = _angle_option(variation_text, "variation", "--variation")
         _number(bearing, "--compass-bearing", 0.0, 360.0), _number(heading, "--heading", 0.0, 360.0)
@@ -914,6 +1025,7 @@ def compass_command(
 
 @app.command("azimuths")
 def azimuths_command(
+    ctx: typer.Context,
     date: str = typer.Option(..., "--date", help="Local civil date of the first day, e.g. 2026-03-26."),
     lat: str = typer.Option(..., "--lat", help="DR latitude at 00:00 local time, e.g. '43 16.6 N'."),
     lon: str = typer.Option(..., "--lon", help="DR longitude at 00:00 local time, e.g. '013 11.4 W'."),
@@ -937,7 +1049,7 @@ def azimuths_command(
     from ..jobs.compasswork import watch_azimuths
     from ..timework import parse_date, parse_zone_description
 
-    with _reported():
+    with _reported(ctx):
         lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
         _number(course, "--course", 0.0, 360.0), _number(speed, "--speed", 0.0, 60.0)
         _number(every, "--every", 1.0, 240.0)
@@ -980,6 +1092,7 @@ def azimuths_command(
 
 @app.command("compass-book")
 def compass_book_command(
+    ctx: typer.Context,
     books: list[str] = typer.Argument(..., metavar="BOOK...", help="Compass error books: CSV or .xlsx with utc, body, compass (gyro or magnetic), bearing, lat, lon, and heading and variation for a magnetic compass (docs/compass.md)."),
     csv: bool = typer.Option(False, "--csv", help="Print every bearing worked out as CSV (nothing else on stdout)."),
     output: list[str] = typer.Option(None, "--output", "-o", help="Files to write, by suffix: .pdf (the book and the deviation card printed), .csv (every bearing worked out)."),
@@ -995,7 +1108,7 @@ def compass_book_command(
     from ..io.output import atomic_write, csv_text
     from ..jobs.compasswork import compass_book
 
-    with _reported():
+    with _reported(ctx):
         files = _output_files(output, {".pdf": "the book and the deviation card printed",
                                        ".csv": "every bearing worked out"}, inputs=books)
         book = compass_book(_source(books), dates=dates)
@@ -1019,6 +1132,7 @@ def compass_book_command(
 
 @app.command("identify")
 def identify_command(
+    ctx: typer.Context,
     utc: str = typer.Option(..., "--utc", "-t", help="Instant of the observation, ISO 8601 with a zone."),
     lat: str = typer.Option(..., "--lat", help="DR latitude."),
     lon: str = typer.Option(..., "--lon", help="DR longitude."),
@@ -1035,7 +1149,7 @@ def identify_command(
 
     from ..plan import identify
 
-    with _reported():
+    with _reported(ctx):
         lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")
         _number(altitude, "--alt", -5.0, 90.0), _number(azimuth, "--az", 0.0, 360.0)
         if top < 1:
@@ -1053,6 +1167,7 @@ def identify_command(
 
 @app.command("series")
 def series_command(
+    ctx: typer.Context,
     sights_files: list[str] = typer.Argument(..., metavar="SIGHTS...", help=_SIGHTS_HELP),
     threshold: float = typer.Option(2.0, "--threshold", help="Flag a sight this far off the curve (arcminutes)."),
     csv: bool = typer.Option(False, "--csv", help="Print every sight with its series columns as CSV."),
@@ -1072,9 +1187,11 @@ def series_command(
     from ..jobs.frames import series_columns
     from ..jobs.voyage import process_log
 
-    with _reported():
+    with _reported(ctx):
         _number(threshold, "--threshold", 0.1, 60.0)
         voyage = process_log(_source(sights_files), dates=dates, plan=False)
+        _print_notes(voyage)
+        _nothing_reduced(len(voyage.reduced), voyage.n_reduced)
         reduced = voyage.reduced
         if len(reduced):
             for column, values in series_columns(reduced, threshold_arcmin=threshold).items():
@@ -1099,6 +1216,7 @@ def series_command(
 
 @app.command("training")
 def training_command(
+    ctx: typer.Context,
     sights_files: list[str] = typer.Argument(..., metavar="SIGHTS...", help="Sight logs with an observer column: CSV or .xlsx files, or a folder of them."),
     track: str = typer.Option(..., "--track", help="The ship's reference track: GPX 1.1, NMEA 0183 (RMC/GGA) or CSV (utc, lat, lon)."),
     output: str | None = typer.Option(None, "--output", "-o", help="Workbook to write (.xlsx), with a Training sheet."),
@@ -1126,9 +1244,21 @@ def training_command(
     from ..jobs.training import observer_figure, summary_figure, training_report
     from ..jobs.voyage import process_log
 
-    with _reported():
+    with _reported(ctx):
+        protected = _input_files(sights_files, track)
+        # every output checked before the work: its suffix, its folder, not an input
+        if output:
+            check_output(output, protected, suffixes=(".xlsx",), what="--output")
+        if summary:
+            check_output(summary, protected, suffixes=(".pdf", ".png", ".svg"), what="--summary")
+        if csv:
+            check_output(csv, protected, suffixes=(".csv",), what="--csv")
+            check_output(Path(csv).with_name(Path(csv).stem + "-observers.csv"), protected, what="--csv")
+        if plots:
+            _check_folder(plots, protected, "--plots")
         reference = read_track(track)
         log = read_sight_log(_source(sights_files), dates=dates)
+        _print_notes(log)
         protected = [*log.sources, track]
         for path in (output, summary, csv):
             if path:
@@ -1136,8 +1266,10 @@ def training_command(
         if output:
             check_fits(len(log.table))
         voyage = process_log(log)
+        _nothing_reduced(len(voyage.reduced), voyage.n_reduced)
         report = training_report(voyage.reduced, reference, voyage.groups)
         voyage.training = report
+        _print_track_problems(reference)
         unmarked = report.sights[~report.sights.within_track]
         typer.echo(f"{len(report.sights) - len(unmarked)} of {len(report.sights)} sights marked against {track}"
                    + (f"; {len(unmarked)} not marked:" if len(unmarked) else ""))
@@ -1183,6 +1315,19 @@ def training_command(
             typer.echo(f"wrote {target} and {others}")
 
 
+def _print_track_problems(reference, shown: int = 20) -> None:
+    """The points of the reference track that were refused, each by its point (GPX) or line (NMEA, CSV)."""
+    problems = reference.problems
+    if not len(problems):
+        return
+    where = "point" if reference.source.lower().endswith(".gpx") else "line"
+    typer.echo(f"{len(problems)} point{'s' if len(problems) > 1 else ''} of the track refused (not used):")
+    for row in problems.head(shown).itertuples():
+        typer.echo(f"  {where} {row.point}: {row.reason}")
+    if len(problems) > shown:
+        typer.echo(f"  ... and {len(problems) - shown} more (every one is on the Training sheet of the workbook, -o)")
+
+
 #: What `navred mark -o FILE` writes, by the file's suffix.
 MARK_OUTPUTS = {".xlsx": "the marking workbook: the class, the mistakes, the fixes, each cadet's progress and a "
                          "marking sheet per cadet", ".pdf": "each cadet's sight book, printed: progress, fixes and "
@@ -1191,6 +1336,7 @@ MARK_OUTPUTS = {".xlsx": "the marking workbook: the class, the mistakes, the fix
 
 @app.command("mark")
 def mark_command(
+    ctx: typer.Context,
     workings: list[str] = typer.Argument(None, metavar="WORKINGS...", help="Hand workings: CSV or .xlsx files, a folder of them, a workbook with a sheet per cadet, or filled sight-book pages (see docs/marking.md)."),
     output: list[str] = typer.Option(None, "--output", "-o", help="A file to write; its suffix picks what: " + "; ".join(f"{k} {v}" for k, v in MARK_OUTPUTS.items()) + ". Give -o several times for several files."),
     csv: bool = typer.Option(False, "--csv", help="Print one row per working as CSV: row, verdict, first_wrong_line (empty when all is right), cause, noticed, and more."),
@@ -1211,16 +1357,17 @@ def mark_command(
 
     from ..io.output import check_output, csv_text
 
-    with _reported():
+    with _reported(ctx):
         if template:
             from ..jobs.workings import write_template
 
-            check_output(template)
+            check_output(template, _input_files(workings), suffixes=(".xlsx",), what="--template")
             typer.echo(f"wrote {write_template(template)}")
             return
         if not workings:
             raise NavredError("give the workings to mark (files, a folder, a workbook with a sheet per cadet, or "
                               "filled sight-book pages), or --template FILE for an empty sight book")
+        from ..io.workings import source_name
         from ..jobs.workings import (
             describe,
             mark_workings,
@@ -1229,15 +1376,15 @@ def mark_command(
             write_marking_workbook,
         )
 
+        source = _source(workings)
+        inputs = _input_files(workings, track, rates)
         targets = list(output or []) + ([pdf] if pdf else [])
         for path in targets:
-            suffix = Path(str(path)).suffix.lower()
-            if suffix not in MARK_OUTPUTS:
-                kinds = ", ".join(MARK_OUTPUTS)
-                raise NavredError(f"-o {path}: navred mark writes {kinds} files (see --help); "
-                                  f"{suffix or 'a name with no suffix'} is none of them")
-            check_output(path, [*workings, *([track] if track else []), *([rates] if rates else [])])
-        report = mark_workings(_source(workings), dates=dates, exam=exam, track=track, rates=_ratings(rates, dates))
+            check_output(path, inputs, suffixes=tuple(MARK_OUTPUTS), what="-o")
+        report = mark_workings(source, dates=dates, exam=exam, track=track, rates=_ratings(rates, dates))
+        _print_notes(report.workings.log)
+        if not len(report.rows) and not len(report.workings.log.table):
+            _nothing_reduced(0, 0)
         written = []  # the files first: a target that cannot be written stops the run before the long list
         for path in targets:
             suffix = Path(str(path)).suffix.lower()
@@ -1258,21 +1405,22 @@ def mark_command(
             for row in report.rows.to_dict("records"):
                 if row["verdict"] != "right":
                     typer.echo(describe(row))
-            if len(report.personal):
-                for p in report.personal.to_dict("records"):
-                    typer.echo(f"{p['cadet']}: personal error {p['personal error (′)']:+.2f}′ "
-                               f"± {p['95 % interval (′)']:.2f}′ (95 %) against the track, over {int(p['sights'])} "
-                               "sights")
+            for p in report.personal.to_dict("records") if len(report.personal) else []:
+                typer.echo(f"{p['cadet']}: personal error {p['personal error (′)']:+.2f}′ "
+                           f"± {p['95 % interval (′)']:.2f}′ (95 %) against the track, over {int(p['sights'])} sights")
             for row in report.rejected.itertuples():
-                from ..io.workings import source_name
-
                 typer.echo(f"not read: {source_name(row.source)} row {row.row}: {row.column}: {row.reason}")
         for path in written:
             typer.echo(f"wrote {path}", err=csv)
+        if not len(report.rows):
+            raise NavredError("no working could be marked: every row was rejected"
+                              + (" (the reasons are above)" if not csv else " (navred mark without --csv gives "
+                                                                             "the reasons)"))
 
 
 @app.command("days")
 def days_command(
+    ctx: typer.Context,
     sights_files: list[str] = typer.Argument(..., metavar="LOG...", help=_SIGHTS_HELP + " Entry rows (entry: departure, position, course, current) keep the DR."),
     carry_current: bool = typer.Option(False, "--carry-current", help="Carry the set and drift found at each fix on in the DR until the next fix."),
     csv: bool = typer.Option(False, "--csv", help="Print the noon positions and the day's run as CSV."),
@@ -1288,13 +1436,12 @@ def days_command(
     from ..io.output import check_output, csv_text
     from ..jobs.voyage import process_log
 
-    with _reported():
+    with _reported(ctx):
         if picture:
-            check_output(picture, sights_files)
-            if not picture.lower().endswith((".png", ".svg")):
-                raise NavredError(f"--picture {picture}: give a file ending .png or .svg")
+            check_output(picture, _input_files(sights_files, rates), suffixes=(".png", ".svg"), what="--picture")
         voyage = process_log(_source(sights_files), dates=dates, plan=False, carry_current=carry_current,
                              rates=_ratings(rates, dates))
+        _print_notes(voyage)
         days = voyage.days_work()
         nothing = len(voyage.reduced) > 0 and voyage.n_reduced == 0
         if csv:
@@ -1333,23 +1480,24 @@ def days_command(
             _print_sight_warnings(voyage.reduced, _labels(voyage.reduced), err=True)
             if voyage.n_rejected_rows:
                 typer.echo(f"{voyage.n_rejected_rows} row(s) not read: navred reduce names each and why", err=True)
-        if nothing or days.empty:
-            raise NavredError("nothing could be reduced: navred reduce names each row and why" if nothing else
-                              "no day's work: the log gives no departure (an entry row) and no fix to keep the DR "
-                              "from")
+        if nothing or (days.empty and not len(voyage.reduced)):
+            _nothing_reduced(len(voyage.reduced), voyage.n_reduced)
+        if days.empty:
+            raise NavredError("no day's work: the log gives no departure (an entry row) and no fix to keep the DR from")
         if picture:
             from ..figures.plotting import canvas_bytes, voyage_track_picture
             from ..io.output import atomic_write
 
             vessels = list(days.tracks) or [None]
             data = canvas_bytes(voyage_track_picture(days, vessels[0]), picture.rsplit(".", 1)[-1], png_width_px=1320)
-            written = atomic_write(picture, lambda p: open(p, "wb").write(data), inputs=voyage.log.sources)
+            written = atomic_write(picture, lambda p: open(p, "wb").write(data), inputs=voyage.inputs)
             typer.echo(f"wrote {written}" + (f" (the first of {len(vessels)} vessels)" if len(vessels) > 1 else ""),
                        err=csv)
 
 
 @app.command("rate")
 def rate_command(
+    ctx: typer.Context,
     rating_logs: list[str] = typer.Argument(..., metavar="RATING_LOG...", help="Time-signal comparisons: CSV or .xlsx with utc (the signal), reading (the timepiece at it), and timepiece and zone_description where needed."),
     csv: bool = typer.Option(False, "--csv", help="Print every comparison with its error and residual as CSV."),
     dates: str | None = typer.Option(None, "--dates", help=_DATES_HELP),
@@ -1361,8 +1509,9 @@ def rate_command(
     """
     from ..io.output import csv_text
 
-    with _reported():
+    with _reported(ctx):
         ratings = _ratings(rating_logs if len(rating_logs) > 1 else rating_logs[0], dates)
+        _print_notes(ratings)
         if csv:
             import pandas as pd
 
@@ -1378,6 +1527,7 @@ def rate_command(
 
 @app.command("route", context_settings={"ignore_unknown_options": True})
 def route_command(
+    ctx: typer.Context,
     from_lat: str = typer.Argument(..., metavar="FROM_LAT", help="Latitude of the start: 49 57.0 N"),
     from_lon: str = typer.Argument(..., metavar="FROM_LON", help="Longitude of the start: 005 12.0 W"),
     to_lat: str = typer.Argument(..., metavar="TO_LAT", help="Latitude of the destination"),
@@ -1396,16 +1546,17 @@ def route_command(
     """
     from ..jobs.routes import plan_route, route_geojson, route_gpx
 
-    with _reported():
+    with _reported(ctx):
         lat1, lon1 = _angle_option(from_lat, "lat", "FROM_LAT"), _angle_option(from_lon, "lon", "FROM_LON")
         lat2, lon2 = _angle_option(to_lat, "lat", "TO_LAT"), _angle_option(to_lon, "lon", "TO_LON")
         limit_deg = _angle_option(limit, "lat", "--limit") if limit is not None else None
         spacing = _number(spacing, "--spacing", 1.0, 20000.0)
         from ..io.output import check_output, csv_text
 
-        for path in (gpx, geojson):
-            if path:
-                check_output(path)
+        if gpx:
+            check_output(gpx, suffixes=(".gpx",), what="--gpx")
+        if geojson:
+            check_output(geojson, suffixes=(".geojson", ".json"), what="--geojson")
         route = plan_route(lat1, lon1, lat2, lon2, spacing_nm=spacing, limit_lat_deg=limit_deg)
         if csv:
             sys.stdout.write(csv_text(route.waypoints))
@@ -1420,6 +1571,7 @@ def route_command(
 
 @app.command("lunar")
 def lunar_command(
+    ctx: typer.Context,
     distance: str = typer.Argument(..., help="The sextant reading of the distance, e.g. '38 52.4' (degrees and minutes)."),
     other: str = typer.Option(..., "--other", help="The body the distance was taken to: Sun, a planet or a star."),
     utc: str = typer.Option(..., "--utc", "-t", help="The chronometer's time of the observation (ISO 8601 with a zone)."),
@@ -1444,7 +1596,11 @@ def lunar_command(
     from ..corrections import parse_index_error_arcmin
     from ..lunar import lunar_distance
 
-    with _reported():
+    with _reported(ctx):
+        if xlsx:
+            from ..io.output import check_output
+
+            check_output(xlsx, suffixes=(".xlsx",), what="--xlsx")
         result = lunar_distance(
             float(parse_angle(distance, "angle")), other, utc, _angle_option(lat, "lat", "--lat"),
             _angle_option(lon, "lon", "--lon"), moon_limb=moon_limb, other_limb=other_limb,

@@ -12,7 +12,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from ..errors import NavredError
+from ..errors import NavredError, api_boundary
 from .output import atomic_write, check_output, csv_safe
 from .readers import read_table
 
@@ -29,8 +29,11 @@ class CardError(NavredError):
     """A deviation card that cannot be read or added to."""
 
 
+@api_boundary
 def read_deviation_card(path: str | Path) -> pd.DataFrame:
     """The checks of a deviation card (an empty card when the file does not exist yet)."""
+    if not isinstance(path, (str, Path)) or not str(path).strip() or "\x00" in str(path):
+        raise CardError(f"a deviation card is a CSV file: give its name, not {str(path)[:40]!r}")
     path = Path(path)
     if not path.exists():
         return pd.DataFrame({c: pd.Series(dtype=float if c in NUMERIC_COLUMNS else object) for c in CARD_COLUMNS})

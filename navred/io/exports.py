@@ -122,7 +122,7 @@ def write_gpx(voyage: VoyageResult, path: str | Path) -> Path:
     tree = ET.ElementTree(root)
     ET.indent(tree)
     return atomic_write(path, lambda p: tree.write(p, encoding="utf-8", xml_declaration=True),
-                        inputs=voyage.log.sources)
+                        inputs=voyage.inputs)
 
 
 def ellipse_polygon(fix, points: int = 72) -> list[list[float]]:
@@ -234,4 +234,4 @@ def write_geojson(voyage: VoyageResult, path: str | Path) -> Path:
                                "to_utc": _iso(str(leg.utc.iloc[-1]).replace(" ", "T"))}})
     collection = geojson_with_caution({"type": "FeatureCollection", "features": features})
     text = json.dumps(collection, indent=1, allow_nan=False)
-    return atomic_write(path, lambda p: Path(p).write_text(text, encoding="utf-8"), inputs=voyage.log.sources)
+    return atomic_write(path, lambda p: Path(p).write_text(text, encoding="utf-8"), inputs=voyage.inputs)

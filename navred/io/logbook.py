@@ -20,7 +20,7 @@ from __future__ import annotations
 
 import datetime as _dt
 import functools
-from collections.abc import Iterator
+from collections.abc import Iterable, Iterator
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -29,7 +29,7 @@ import pandas as pd
 
 from ..angles import parse_angle, parse_angles_fast
 from ..corrections import HIGHEST_READING_DEG, parse_index_error_arcmin
-from ..errors import NavredError
+from ..errors import NavredError, api_boundary
 from ..stars import canonical_body_name
 from ..timescales import (
     instant_components,
@@ -53,17 +53,21 @@ from ..vocabulary import (
     ENTRIES,
     HORIZONS,
     LIMBS,
+    NO_HORIZON,
     OUTPUT_SUFFIX,
+    OWN_COLUMN_HINT,
     UNIT_CONVERSIONS,
     UNIT_NAMES,
     convert_to_working_unit,
     match_header,
     normalise_header,
+    unknown_header_refusal,
 )
 from .readers import (
     LogbookError,
     MissingFormulaValue,
     RawTable,
+    ReadBudget,
     blank_mask,
     plain_csv_blocks,
     read_table,
@@ -84,7 +88,7 @@ SIGHT_COLUMNS = [
     "measured_dip_arcmin", "temperature_c",
     "temperature_as_given", "pressure_hpa", "pressure_as_given", "dr_lat_deg", "dr_lon_deg", "course_deg",
     "speed_kn", "dut1_given_s", "fix_group", "fix_group_given", "chart_lat_deg", "chart_lon_deg", "vessel",
-    "observer", "voyage", "series", "read_problem", "read_problem_column", "dr_carried_from",
+    "observer", "voyage", "series", "read_problem", "read_problem_column", "dr_carried_from", "motion_carried_from",
 ]
 #: The columns of a log's entries (:attr:`SightLog.entries`).
 ENTRY_COLUMNS = ["source", "row", "utc", "entry", "lat_deg", "lon_deg", "course_deg", "speed_kn", "set_deg",
@@ -118,6 +122,9 @@ class SightLog:
     #: the entries of the ship's progress read well (departure, position, course, current), in file order:
     #: :data:`ENTRY_COLUMNS`; they are not sights and are not in ``table``
     entries: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(columns=ENTRY_COLUMNS))
+    #: what the navigator should know of the files as a whole: the columns navred does not read (kept as
+    #: text), columns repeated, a file read as Windows-1252; every command prints them, the workbook keeps them
+    notes: tuple[str, ...] = field(default=())
 
     @functools.cached_property
     def as_read(self) -> pd.DataFrame:
@@ -141,7 +148,9 @@ class SightLog:
 
 
 class _Problems:
-    """The problems found, one entry per (row, column), collected column by column."""
+    """The problems found, one entry per (row, column), collected column by column; at most
+    :data:`MAX_REASONS_PER_ROW` kept a row (the first found), the others counted by their columns (so that a
+    log wrong in every cell costs a few entries a row, not a dozen)."""
 
     def __init__(self, n: int):
         self.n = n
@@ -149,29 +158,54 @@ class _Problems:
         self.columns: list[np.ndarray] = []
         self.values: list[np.ndarray] = []
         self.reasons: list[np.ndarray] = []
+        self.count = np.zeros(n, dtype=np.int32)
+        self.more: dict[int, list[str]] = {}  # row -> the columns of its problems not kept
 
     def add(self, rows, column, value, reason) -> None:
         rows = np.asarray(rows, dtype=int).ravel()
         if rows.size == 0:
             return
-        self.rows.append(rows)
-        for target, item in ((self.columns, column), (self.values, value), (self.reasons, reason)):
+        items = []
+        for item in (column, value, reason):
             array = np.empty(rows.size, dtype=object)
             array[:] = item if isinstance(item, str) else list(np.asarray(item, dtype=object).ravel())
+            items.append(array)
+        before = self.count[rows]
+        np.add.at(self.count, rows, 1)
+        keep = before < MAX_REASONS_PER_ROW
+        if not keep.all():
+            for row, name in zip(rows[~keep].tolist(), items[0][~keep].tolist()):
+                self.more.setdefault(row, []).append(str(name))
+            rows = rows[keep]
+            items = [a[keep] for a in items]
+        self.rows.append(rows)
+        for target, array in zip((self.columns, self.values, self.reasons), items):
             target.append(array)
 
     def mask(self) -> np.ndarray:
         """The rows with a problem so far."""
-        out = np.zeros(self.n, dtype=bool)
-        for rows in self.rows:
-            out[rows] = True
-        return out
+        return self.count > 0
 
     def frame(self) -> pd.DataFrame:
+        """Every problem kept, in row order (within a row, in the order found); the last kept of a row with more
+        counts the others and names their columns."""
         if not self.rows:
             return pd.DataFrame({"index": np.zeros(0, dtype=int), "column": [], "value": [], "reason": []})
-        return pd.DataFrame({"index": np.concatenate(self.rows), "column": np.concatenate(self.columns),
-                             "value": np.concatenate(self.values), "reason": np.concatenate(self.reasons)})
+        frame = pd.DataFrame({"index": np.concatenate(self.rows), "column": np.concatenate(self.columns),
+                              "value": np.concatenate(self.values), "reason": np.concatenate(self.reasons)})
+        frame = frame.sort_values(["index"], kind="stable").reset_index(drop=True)
+        if self.more:
+            index = frame["index"].to_numpy()
+            last = np.flatnonzero(np.append(index[1:] != index[:-1], True))
+            reasons = frame["reason"].to_numpy(dtype=object).copy()
+            for at in last.tolist():
+                others = self.more.get(int(index[at]))
+                if others:
+                    names = ", ".join(dict.fromkeys(others))
+                    reasons[at] = (f"{reasons[at]} (and {len(others)} more column{'s' if len(others) > 1 else ''} "
+                                   f"with a problem: {names})")
+            frame["reason"] = reasons
+        return frame
 
 
 def _blank(value) -> bool:
@@ -237,6 +271,15 @@ def _word(value, table: dict, what: str) -> str:
     return table[word]
 
 
+def _horizon(value) -> str:
+    """The horizon a sight was taken on; a word saying there was none is refused with what to write."""
+    if normalise_header(_text(value)) in NO_HORIZON:
+        raise NavredError(f"horizon {value!r}: every altitude is measured from a horizon of some kind: write bubble "
+                          "(a bubble or other built-in horizon), artificial (a reflecting one), or sea (or leave the "
+                          "cell blank) for the sea horizon")
+    return _word(value, HORIZONS, "horizon")
+
+
 def _ranged(number: float, key: str, unit: str | None) -> float:
     column = COLUMN[key]
     used = convert_to_working_unit(number, unit)
@@ -297,7 +340,7 @@ _PARSERS = {
     "body": lambda v, dc, unit, dates: canonical_body_name(_text(_not_formula(v))),
     "limb": lambda v, dc, unit, dates: _word(_not_formula(v), LIMBS, "limb"),
     "entry": lambda v, dc, unit, dates: _word(_not_formula(v), ENTRIES, "entry"),
-    "horizon": lambda v, dc, unit, dates: _word(_not_formula(v), HORIZONS, "horizon"),
+    "horizon": lambda v, dc, unit, dates: _horizon(_not_formula(v)),
     "altitude": lambda v, dc, unit, dates: float(parse_angle(_not_formula(v), "angle", dc)),
     "lat": lambda v, dc, unit, dates: float(parse_angle(_not_formula(v), "lat", dc)),
     "lon": lambda v, dc, unit, dates: float(parse_angle(_not_formula(v), "lon", dc)),
@@ -353,13 +396,20 @@ class _Layout:
     units: dict[int, str | None]  # header index -> the unit it is given in
     extras: list[int]  # headers navred does not know: carried through as text
     problems: list[str]  # headers refused (ambiguous, or a unit the column does not take)
+    #: what the navigator should know of the headers: the columns navred does not read, the repeated ones
+    notes: list[str] = field(default_factory=list)
 
 
-def _layout(table: RawTable) -> _Layout:
+def _layout(table: RawTable, also_reads: frozenset[str] = frozenset()) -> _Layout:
+    """The table's headers matched with the vocabulary; ``also_reads``: normalised headers the caller reads
+    itself (a hand working's lines), kept as extra columns without a note."""
+    from .readers import column_letter
+
     normalised = [normalise_header(h) for h in table.header]
     # navred's own reduce output read back: its parsed columns carry the sight, the rest is computed again
     output = {"ho_deg", "hc_deg", "intercept_nm", "status", "sight_utc", "body_name"} <= set(normalised)
     layout = _Layout({}, {}, [], [])
+    unread = []
     for k, header in enumerate(table.header):
         name = normalised[k]
         if name in BOOKKEEPING_HEADERS:
@@ -377,9 +427,28 @@ def _layout(table: RawTable) -> _Layout:
             layout.problems.append(match.problem)
         elif match.key is None:
             layout.extras.append(k)
+            if name in also_reads or header.strip().endswith(OUTPUT_SUFFIX):
+                continue
+            refusal = unknown_header_refusal(header)
+            if refusal:
+                layout.problems.append(refusal)
+            else:
+                unread.append(header)
         else:
             layout.keys.setdefault(match.key, []).append(k)
             layout.units[k] = match.unit
+    file = Path(table.source).name if table.source != "(table)" else "the table"
+    if unread:
+        shown = ", ".join(repr(h) for h in unread[:12]) + (f" and {len(unread) - 12} more" if len(unread) > 12 else "")
+        layout.notes.append(f"{file}: column{'s' if len(unread) > 1 else ''} navred does not read, kept as text: "
+                            f"{shown}")
+    for indices in layout.keys.values():
+        same = [k for k in indices if normalised[k] == normalised[indices[0]]]
+        if len(same) > 1:
+            letters = " and ".join(column_letter(k) for k in same)
+            layout.notes.append(f"{file}: columns {letters} are all headed {table.header[same[0]]!r}: read as one "
+                                "where they agree; a row where they differ is rejected")
+    layout.notes.extend(table.notes)
     return layout
 
 
@@ -394,8 +463,10 @@ def _result_names() -> set[str]:
     return _RESULT_NAMES
 
 
+@api_boundary
 def read_sight_log(source: object, *, dates: str | None = None, all_sheets: bool = False,
-                   rates: object | None = None) -> SightLog:
+                   rates: object | None = None, also_reads: Iterable[str] = (),
+                   budget: ReadBudget | None = None) -> SightLog:
     """Read and check sight logs: a file (CSV or .xlsx), a list of files, a folder, or a DataFrame.
 
     ``dates`` declares the order of numeric dates that are not ISO 8601 for the whole log
@@ -404,18 +475,24 @@ def read_sight_log(source: object, *, dates: str | None = None, all_sheets: bool
     hand workings, a sheet per cadet) instead of one. ``rates`` (a
     :class:`navred.io.timesignals.Ratings`, from the rating log) gives the watch error of a sight
     kept in zone time whose ``watch_error`` is blank: the error its timepiece's rating predicts.
+    ``also_reads``: headers the caller reads itself (a hand working's lines), kept as extra columns.
+    A column navred does not read is named in :attr:`SightLog.notes`; one that looks like a correction or a
+    misspelt column is refused, naming the column navred expects. ``budget`` bounds what the run reads
+    (:class:`navred.readers.ReadBudget`; by default the bounds of one run).
     Returns a :class:`SightLog`; a source that is not a sight log at all raises
     :class:`LogbookError` with one message.
     """
     if dates is not None and dates not in DATE_ORDERS:
         raise LogbookError(f"dates {dates!r} is not one of {', '.join(DATE_ORDERS)}")
     _result_names()
-    tables = read_table(source, all_sheets=all_sheets)
+    own = frozenset(normalise_header(h) for h in also_reads)
+    tables = read_table(source, all_sheets=all_sheets, budget=budget)
     layouts = []
     for table in tables:
-        layout = _layout(table)
+        layout = _layout(table, own)
         if layout.problems:
-            raise LogbookError(f"{table.source}: " + "; ".join(layout.problems))
+            hint = f" ({OWN_COLUMN_HINT})" if any("rename it" in p for p in layout.problems) else ""
+            raise LogbookError(f"{table.source}: " + "; ".join(layout.problems) + hint)
         _check_is_log(table, layout.keys)
         layouts.append(layout)
     return _parse(tables, layouts, dates, rates)
@@ -449,6 +526,11 @@ class LogBlocks:
     layout: object
     dates: str | None
     rates: object | None
+
+    @property
+    def notes(self) -> list[str]:
+        """What the navigator should know of the log's headers (as :attr:`SightLog.notes`)."""
+        return list(self.layout.notes)
 
     def __len__(self) -> int:
         return len(self.plain)
@@ -551,6 +633,8 @@ def _gather(tables, layouts, key) -> _Cells:
             cells = table.columns[k].to_numpy(dtype=object)
             filled = ~blank_mask(pd.Series(cells, dtype=object))
             for i in np.flatnonzero(filled & ~blank):
+                if layout.units[k] == unit[i] and _text(cells[i]).strip() == _text(column[i]).strip():
+                    continue  # the same value twice, in the same unit (a column repeated): one value
                 table.row_problems.setdefault(int(i), (table.header[k], (
                     f"two values for {key.replace('_', ' ')}: {header[i]!r} {_text(column[i])!r} and "
                     f"{table.header[k]!r} {_text(cells[i])!r}; keep one")))
@@ -597,7 +681,7 @@ def _numeric_checks(column, numbers: np.ndarray, units: np.ndarray) -> tuple[np.
         elif kind == "index_error":
             bad |= np.abs(used) > 30.0
         elif kind == "watch_error":
-            bad |= np.abs(used) > 3600.0
+            bad |= (np.abs(used) > 3600.0) | (used > 0.0)  # a positive number has lost its sign: judged one by one
         elif kind == "zone":
             bad |= True  # a number cell of a zone description: each is judged one by one
     return used, bad
@@ -692,9 +776,13 @@ def _parse_key(cells: _Cells, key: str, problems: _Problems, dates) -> _Parsed:
                 table[:] = [r if r is not None else (np.nan if value.dtype == float else None) for r in results]
                 value[members] = table[codes]
             refused[members[~good[codes]]] = True
-            for u, reason in reasons.items():
-                where = members[codes == u]
-                problems.add(where, cells.headers[where], [_text(v) for v in values.iloc[where]], reason)
+            if reasons:  # every refused cell with its value as written and its reason, in one go
+                bad = ~good[codes]
+                where = members[bad]
+                texts = np.array([_text(distinct[u]) if u in reasons else "" for u in range(len(distinct))],
+                                 dtype=object)
+                why = np.array([reasons.get(u, "") for u in range(len(distinct))], dtype=object)
+                problems.add(where, cells.headers[where], texts[codes[bad]], why[codes[bad]])
     return _Parsed(~cells.blank & ~refused, value)
 
 
@@ -720,13 +808,15 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
         else np.zeros(0, dtype=object)
     rows = np.concatenate([t.row_numbers for t in tables]) if tables else np.zeros(0, dtype=int)
     gathered = {c.key: _gather(tables, layouts, c.key) for c in COLUMNS}
-    parsed = {c.key: _parse_key(gathered[c.key], c.key, problems, dates) for c in COLUMNS}
-    # malformed rows (wrong field count, control characters, two values for one quantity)
+    # malformed rows (wrong field count, control characters, two values for one quantity), first
     offset = 0
+    by_reader: dict[int, str] = {}  # rows the reader refused whole: their one reason stands alone
     for table in tables:
         for index, (header, reason) in sorted(table.row_problems.items()):
             problems.add([offset + index], header or "(row)", "", reason)
+            by_reader[offset + index] = reason
         offset += table.n_rows
+    parsed = {c.key: _parse_key(gathered[c.key], c.key, problems, dates) for c in COLUMNS}
     entry = _words(parsed["entry"])
     is_entry = parsed["entry"].ok
     for column in COLUMNS:
@@ -763,31 +853,12 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
     times = _time_working(parsed, gathered, problems, rates)
     entries = _entries(n, sources, rows, entry, is_entry, parsed, times, problems)
     dr = _carried_dr(parsed, gathered, times, is_entry, entries, problems)
-
-    found = problems.frame().sort_values(["index"], kind="stable")
-    index = found["index"].to_numpy(dtype=int)
-    found["source"] = sources[index]
-    found["row"] = rows[index]
-    message = np.full(n, "", dtype=object)
-    where = np.full(n, "", dtype=object)
-    if len(found):
-        joined = found.assign(text=found.column.astype(str) + ": " + found.reason.astype(str))
-        grouped = joined.groupby("index", sort=False)
-        texts = grouped.text.agg("; ".join)
-        message[texts.index.to_numpy(dtype=int)] = texts.to_numpy(dtype=object)
-        columns = grouped.column.agg(lambda c: ", ".join(dict.fromkeys(str(x) for x in c)))
-        where[columns.index.to_numpy(dtype=int)] = columns.to_numpy(dtype=object)
-    table = _sight_table(n, sources, rows, parsed, gathered, times, message, where)
-    table["dr_lat_deg"], table["dr_lon_deg"] = dr["lat"], dr["lon"]
-    table["course_deg"], table["speed_kn"] = dr["course"], dr["speed"]
-    table["dr_carried_from"] = dr["note"]
-    sight_row = ~(is_entry & (message == ""))  # an entry read well is kept apart; a bad one is a rejected row
-    bad_entry = is_entry & (message != "") & gathered["body"].blank
-    if bad_entry.any():  # named by its kind, in brackets, where a sight names its body
-        body = table["body_name"].to_numpy(dtype=object).copy()
-        body[bad_entry] = np.char.add(np.char.add("(", entry[bad_entry].astype(str)), ")").astype(object)
-        table["body_name"] = body
-    table["fix_group"], table["fix_group_given"] = _fix_groups(table, (message == "") & sight_row)
+    motion_note = _carried_motion(dr, parsed, gathered, times, is_entry, entries, rows, problems)
+    while True:
+        table, found, message, sight_row = _tabled(n, sources, rows, parsed, gathered, times, problems, by_reader,
+                                                    dr, motion_note, entry, is_entry)
+        if not _motion_missing(table, (message == "") & sight_row, gathered, problems):
+            break  # (a sight refused for a running fix without its motion changes the groups: made again)
     extras, names = _extras(tables, layouts)
     for name, values in extras.items():
         table[name] = values
@@ -795,9 +866,157 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
     rejected["row"] = rejected["row"].astype(int)
     if not sight_row.all():
         table = table[sight_row].reset_index(drop=True)
+    notes = tuple(dict.fromkeys(note for layout in layouts for note in layout.notes))
     return SightLog(table, rejected, tuple(t.source for t in tables), sum(t.empty_rows for t in tables), dates,
-                    tuple(names), tuple(tables), entries=entries)
+                    tuple(names), tuple(tables), entries=entries, notes=notes)
 
+
+def _tabled(n, sources, rows, parsed, gathered, times, problems, by_reader, dr, motion_note, entry, is_entry):
+    """The sight table of the problems found so far: (table, the problems as rows, each row's message, which
+    rows are sights)."""
+    found = problems.frame()
+    if by_reader:
+        # a row refused as read (a damaged cell, the wrong number of fields, a control character) had its cells
+        # set aside: what its other columns lack follows from that, and is not said
+        reader_reason = found["index"].map(by_reader)
+        keep = reader_reason.isna().to_numpy() | (found["reason"] == reader_reason).to_numpy()
+        found = found[keep]
+        found = found[~found.duplicated(["index"]) | ~found["index"].isin(list(by_reader))]
+    index = found["index"].to_numpy(dtype=int)
+    found["source"] = sources[index]
+    found["row"] = rows[index]
+    message = np.full(n, "", dtype=object)
+    where = np.full(n, "", dtype=object)
+    if len(found):
+        # each row's reasons joined (at most MAX_REASONS_PER_ROW, in the order found), row by row
+        starts = np.flatnonzero(np.concatenate([[True], index[1:] != index[:-1]]))
+        rank = np.arange(index.size) - np.repeat(starts, np.diff(np.append(starts, index.size)))
+        texts = [np.full(n, None, dtype=object) for _ in range(MAX_REASONS_PER_ROW)]
+        names = [np.full(n, None, dtype=object) for _ in range(MAX_REASONS_PER_ROW)]
+        column_text = found["column"].astype(str).to_numpy(dtype=object)
+        reason_text = found["reason"].astype(str).to_numpy(dtype=object)
+        for k in range(MAX_REASONS_PER_ROW):
+            at = rank == k
+            texts[k][index[at]] = [f"{c}: {r}" for c, r in zip(column_text[at].tolist(), reason_text[at].tolist())]
+            names[k][index[at]] = column_text[at]
+        rejected_rows = np.unique(index)
+        message[rejected_rows] = ["; ".join(t for t in parts if t is not None)
+                                  for parts in zip(*(t[rejected_rows].tolist() for t in texts))]
+        where[rejected_rows] = [", ".join(dict.fromkeys(c for c in parts if c is not None))
+                                for parts in zip(*(c[rejected_rows].tolist() for c in names))]
+    table = _sight_table(n, sources, rows, parsed, gathered, times, message, where)
+    table["dr_lat_deg"], table["dr_lon_deg"] = dr["lat"], dr["lon"]
+    table["course_deg"], table["speed_kn"] = dr["course"], dr["speed"]
+    table["dr_carried_from"] = dr["note"]
+    table["motion_carried_from"] = motion_note
+    sight_row = ~(is_entry & (message == ""))  # an entry read well is kept apart; a bad one is a rejected row
+    bad_entry = is_entry & (message != "") & gathered["body"].blank
+    if bad_entry.any():  # named by its kind, in brackets, where a sight names its body
+        body = table["body_name"].to_numpy(dtype=object).copy()
+        body[bad_entry] = np.char.add(np.char.add("(", entry[bad_entry].astype(str)), ")").astype(object)
+        table["body_name"] = body
+    table["fix_group"], table["fix_group_given"] = _fix_groups(table, (message == "") & sight_row)
+    return table, found, message, sight_row
+
+
+#: The reasons given for one row, at most: a row that is wrong in every column (a shifted or pasted line) is
+#: named by its first few, and the rest counted, rather than by a dozen lines (and megabytes a row).
+MAX_REASONS_PER_ROW = 3
+
+
+#: A sight taken more than this before its fix's time is advanced to it along the course and speed in force
+#: after it (a running fix): a blank course or speed there would be read as a ship stopped.
+RUN_MINUTES = 2.0
+
+
+def _carried_motion(dr, parsed, gathered, times, is_entry, entries, rows, problems) -> np.ndarray:
+    """A sight's blank course or speed carried from the last row before it (of its vessel, in time) that gives
+    one, a sight's or an entry's, and named in the note returned ('speed 6.5 kn carried from row 7'). The course
+    and speed in ``dr`` are filled in place."""
+    n = rows.size
+    note = np.full(n, "", dtype=object)
+    if not (gathered["course"].present or gathered["speed"].present or len(entries)):
+        return note  # the log keeps no motion at all: nothing to carry (a fix warns of a run without one)
+    course, speed = dr["course"], dr["speed"]
+    given_course, given_speed = _floats(parsed["course"]), _floats(parsed["speed"])
+    ok = times["ok"] & ~problems.mask()
+    sight = ~is_entry
+    when = np.full(n, np.iinfo(np.int64).min, dtype=np.int64)
+    when[times["ok"]] = utc_jd_to_datetime64(times["jd1"][times["ok"]], times["jd2"][times["ok"]]).astype(np.int64)
+    vessels = _words(parsed["vessel"])
+    e_vessel = entries["vessel"].to_numpy(dtype=object) if len(entries) else np.zeros(0, dtype=object)
+    named = set(vessels[sight].tolist()) - {""}
+    if len(entries) and not (e_vessel != "").any() and len(named) == 1:
+        e_vessel = np.full(len(entries), next(iter(named)), dtype=object)
+    e_when = entries["utc"].dt.tz_convert(None).to_numpy().astype("datetime64[ns]").astype(np.int64) \
+        if len(entries) else np.zeros(0, dtype=np.int64)
+    blank = sight & ok & (np.isnan(given_course) | np.isnan(given_speed))
+    for vessel in dict.fromkeys(vessels[blank].tolist()):
+        mine = vessels == vessel
+        own = sight & ok & mine
+        e_mine = e_vessel == vessel
+        change_ns = np.concatenate([e_when[e_mine], when[own]])
+        change_row = np.concatenate([entries["row"].to_numpy(dtype=int)[e_mine], rows[own]])
+        order = np.argsort(change_ns, kind="stable")
+        t = change_ns[order]
+        targets = np.flatnonzero(blank & mine)
+        texts = [[] for _ in targets]
+        for values, given, unit, name in ((np.concatenate([entries["course_deg"].to_numpy(dtype=float)[e_mine],
+                                                           given_course[own]]), given_course, "°", "course"),
+                                          (np.concatenate([entries["speed_kn"].to_numpy(dtype=float)[e_mine],
+                                                           given_speed[own]]), given_speed, " kn", "speed")):
+            values = values[order]
+            last = np.maximum.accumulate(np.where(np.isfinite(values), np.arange(values.size), -1)) \
+                if values.size else np.zeros(0, dtype=int)
+            # the last value given strictly before the sight (its own row gives none), or at its instant by another
+            k = np.searchsorted(t, when[targets], side="right") - 1
+            source = np.where(k >= 0, last[np.maximum(k, 0)] if last.size else -1, -1)
+            for j, (i, src) in enumerate(zip(targets.tolist(), source.tolist())):
+                if np.isfinite(given[i]) or src < 0:
+                    continue
+                value = float(values[src])
+                target = course if name == "course" else speed
+                target[i] = value
+                texts[j].append((name, f"{value:g}{unit}", int(change_row[order][src])))
+        for j, i in enumerate(targets.tolist()):
+            if texts[j]:
+                from_rows = {r for _, _, r in texts[j]}
+                if len(from_rows) == 1:
+                    note[i] = " and ".join(f"{a} {b}" for a, b, _ in texts[j]) + f" carried from row {from_rows.pop()}"
+                else:
+                    note[i] = "; ".join(f"{a} {b} carried from row {r}" for a, b, r in texts[j])
+    return note
+
+
+def _motion_missing(table: pd.DataFrame, usable: np.ndarray, gathered, problems) -> bool:
+    """Refuse the sights of a running fix (taken more than :data:`RUN_MINUTES` before their group's last sight)
+    whose course or speed is blank with none to carry, where other sights of the group give one: read as 0 kn
+    for that leg alone, their lines would be advanced wrongly. True when any was refused."""
+    if not (gathered["course"].present or gathered["speed"].present) or not usable.any():
+        return False
+    ticks = table["sight_utc"].dt.tz_convert(None).to_numpy().astype("datetime64[ns]").astype(np.int64)
+    groups = table["fix_group"].to_numpy(dtype=object)
+    frame = pd.DataFrame({"group": groups[usable], "t": ticks[usable]})
+    last = frame.groupby("group", sort=False)["t"].transform("max").to_numpy()
+    rows = np.flatnonzero(usable)
+    early = (last - frame["t"].to_numpy()) > RUN_MINUTES * 60e9
+    lacking = []
+    for key, what in (("course", "course"), ("speed", "speed")):
+        values = table[f"{key}_{'deg' if key == 'course' else 'kn'}"].to_numpy(dtype=float)[rows]
+        # only where the group keeps this motion on some sight: a group that keeps none is run from its rows'
+        # own DRs, or said to be taken as stopped, by the fix (navred.fix)
+        kept = frame.assign(given=np.isfinite(values)).groupby("group", sort=False)["given"].transform("any")
+        missing = rows[early & ~np.isfinite(values) & kept.to_numpy(dtype=bool)]
+        for i in missing.tolist():
+            lacking.append((i, key, what))
+    if not lacking:
+        return False
+    for i, key, what in lacking:
+        problems.add([i], gathered[key].headers[i] if gathered[key].present else key, "",
+                     f"{what} is blank, and no row before gives one: this sight is advanced to its running fix "
+                     f"({table['fix_group'].iloc[i]}) along the {what} in force, so give it (a speed of 0 if the "
+                     "ship lay stopped)")
+    return True
 
 def _check_entries(entry, is_entry, parsed, gathered, problems) -> None:
     """An entry row holds no sight, and what its kind needs: a position, a course or speed, or a current."""
@@ -839,7 +1058,7 @@ def _carried_dr(parsed, gathered, times, is_entry, entries: pd.DataFrame, proble
     """Each sight's DR: as given, or carried along the log's DR track (its departure or last known position,
     every course, speed and current since, the sights' own courses and speeds too) to the sight; and the
     course and speed in force where a sight gives none. Each vessel keeps its own track."""
-    from ..reckoning import dr_track
+    from ..reckoning import PAST_POLE, dr_track
 
     lat, lon = _floats(parsed["dr_lat"]), _floats(parsed["dr_lon"])
     course, speed = _floats(parsed["course"]), _floats(parsed["speed"])
@@ -884,14 +1103,16 @@ def _carried_dr(parsed, gathered, times, is_entry, entries: pd.DataFrame, proble
         rows_here = np.flatnonzero(wanted & mine)
         if rows_here.size:
             t_lat, t_lon, origin = track.positions(when[rows_here])
-            found = origin >= 0
+            polar = (origin >= 0) & ~np.isfinite(t_lat)
+            problems.add(rows_here[polar], "dr_lat", "", PAST_POLE)
+            found = (origin >= 0) & ~polar
             lat[rows_here[found]], lon[rows_here[found]] = t_lat[found], t_lon[found]
             known_rows = entries["row"].to_numpy()[known]
-            known_kind = entries["entry"].to_numpy(dtype=object)[known]
+            known_words = entries["entry"].to_numpy(dtype=object)[known]
             slots = np.searchsorted(track.knot_ns, e_when[known])
-            by_knot = {int(k): f"the {w} at row {int(r)}" for k, w, r in zip(slots, known_kind, known_rows)}
+            by_knot = {int(k): f"the {w} at row {int(r)}" for k, w, r in zip(slots, known_words, known_rows)}
             note[rows_here[found]] = [f"carried from {by_knot[int(o)]}" for o in origin[found]]
-            lost = rows_here[~found]
+            lost = rows_here[origin < 0]
             problems.add(lost, "dr_lat", "", "no DR: this sight comes before the log's first departure or known "
                          "position (an entry row); give dr_lat and dr_lon, or an earlier departure")
         # the course and speed in force, where a sight gives none (for the run between its sights)

@@ -30,11 +30,29 @@ class OutputError(NavredError):
     """An output path navred will not write to."""
 
 
-def check_output(path: str | Path, inputs: Iterable[str | Path] = ()) -> Path:
-    """The output path, after refusing one that is not a regular file, is an input, or cannot be written."""
+#: The longest temporary name navred adds to a target's name (".NAME.PID.RANDOM.navred-tmp.EXT"), less the name.
+_TEMP_EXTRA = len(".") + len(".4194304.") + 8 + len(".navred-tmp")
+
+
+def check_output(path: str | Path, inputs: Iterable[str | Path] = (), *, suffixes: Iterable[str] = (),
+                 what: str = "") -> Path:
+    """The output path, after refusing one that is not a regular file, is an input, cannot be written, has a
+    name too long for its temporary file, or (``suffixes`` given, such as ('.xlsx',)) does not end with a
+    suffix whose format navred writes there (``what``: the option, for the message)."""
     target = Path(path)
+    named = f"{what} " if what else ""
     if str(path).strip() == "":
-        raise OutputError("no output file given (an empty name)")
+        raise OutputError(f"{named}no output file given (an empty name)".strip())
+    if "\x00" in str(path):
+        raise OutputError(f"{named}a file name cannot hold a NUL byte".strip())
+    try:
+        longest = os.pathconf(_existing_folder(target), "PC_NAME_MAX")
+    except (OSError, ValueError):
+        longest = 255
+    if len(os.fsencode(target.name)) + len(os.fsencode(target.suffix)) + _TEMP_EXTRA > longest:
+        raise OutputError(f"{named}{target.name[:40]}...: the name is too long for this folder ({len(target.name)} "
+                          f"characters; navred writes through a temporary name {_TEMP_EXTRA + len(target.suffix)} "
+                          f"characters longer, and the folder takes {longest}): give a shorter name")
     if target.is_symlink():
         raise OutputError(f"{target} is a symbolic link: give the real path of the file to write")
     if target.exists():
@@ -53,6 +71,10 @@ def check_output(path: str | Path, inputs: Iterable[str | Path] = ()) -> Path:
         if same or source_path.resolve() == target.resolve():
             raise OutputError(f"{target} is one of the inputs of this run: writing it would overwrite it; give "
                               "another output name")
+    suffixes = tuple(s.lower() for s in suffixes)
+    if suffixes and target.suffix.lower() not in suffixes:
+        raise OutputError(f"{named}{target}: navred writes {' or '.join(s.lstrip('.').upper() for s in suffixes)} "
+                          f"there, so the name must end {' or '.join(suffixes)} (the suffix says what the file holds)")
     parent = target.parent
     for folder in (parent, *parent.parents):
         if folder.exists():
@@ -62,6 +84,14 @@ def check_output(path: str | Path, inputs: Iterable[str | Path] = ()) -> Path:
                 raise OutputError(f"cannot write {target}: the folder {folder} is not writable (read-only?)")
             break
     return target
+
+
+def _existing_folder(target: Path) -> Path:
+    """The nearest folder of the target's that exists (where its name will be made)."""
+    for folder in (target.parent, *target.parent.parents):
+        if folder.is_dir():
+            return folder
+    return Path(".")
 
 
 def _sweep(folder: Path, name: str) -> None:
@@ -262,7 +292,7 @@ def csv_text(frame, *, header: bool = True, float_format: str = "%.6f") -> str:
         gap_text = float_format % _GAP
         for k in np.flatnonzero(gaps).tolist():
             rows[k] = rows[k].replace(gap_text, "")
-    lines = [",".join(_quoted(str(name)) for name in frame.columns)] if header else []
+    lines = [",".join(_quoted(_neutral(str(name))) for name in frame.columns)] if header else []
     return "\n".join(lines + rows) + ("\n" if lines or rows else "")
 
 
@@ -309,6 +339,11 @@ def _csv_cell(value, float_format: str) -> str:
     return str(value)
 
 
+def _neutral(text: str) -> str:
+    """Text a spreadsheet would not take for a formula: a ' before =, +, -, @, a tab or a carriage return."""
+    return "'" + text if text.startswith(FORMULA_STARTS) else text
+
+
 def _quoted(text: str) -> str:
     if "," in text or '"' in text or "\n" in text or "\r" in text:
         return '"' + text.replace('"', '""') + '"'
@@ -316,9 +351,12 @@ def _quoted(text: str) -> str:
 
 
 def csv_safe(frame):
-    """A copy of a table whose text cells cannot be taken for formulas by a spreadsheet: a cell that
-    begins with =, +, -, @, a tab or a carriage return gets a ' before it (OWASP, "CSV Injection")."""
+    """A copy of a table whose text cells and headers cannot be taken for formulas by a spreadsheet: a
+    cell or header that begins with =, +, -, @, a tab or a carriage return gets a ' before it (OWASP,
+    "CSV Injection")."""
     out = frame.copy()
+    # the header too: an extra column of a log keeps its own header, which came from the file (OWASP)
+    out.columns = [_neutral(c) if isinstance(c, str) else c for c in out.columns]
     for column in out.columns:
         values = out[column]
         if values.dtype == object or str(values.dtype) in ("str", "string"):

@@ -25,14 +25,29 @@ import pandas as pd
 
 from ..errors import NavredError
 from ..vocabulary import match_header
+from .sheetreader import (
+    CellProblem,
+    MissingFormulaValue,
+    column_letters,
+    open_workbook,
+    read_sheet_cells,
+)
 
-#: Limits on what one file may hold (documented in docs/sight-log.md); a larger log is split.
+#: Limits on what one file may hold (docs/security.md lists each with what it protects); a larger log is split.
 MAX_FILE_BYTES = 128 * 1024 * 1024
+#: rows of one plain CSV log read block by block (navred reduce --csv)
 MAX_ROWS = 2_000_000
 MAX_COLUMNS = 200
 MAX_CELL_CHARS = 32_767  # the most a spreadsheet cell holds
 MAX_UNZIPPED_BYTES = 512 * 1024 * 1024
 MAX_ZIP_RATIO = 200.0
+#: Limits on one run, across every file and sheet it reads (a folder of logs, a class workbook of many sheets):
+#: the text of its files, the spreadsheet XML it parses, and the rows and cells it holds at once. Each keeps a
+#: run within about a gigabyte of memory and its reading within seconds (docs/security.md, docs/speed.md).
+MAX_RUN_BYTES = 256 * 1024 * 1024
+MAX_RUN_XML_BYTES = 32 * 1024 * 1024
+MAX_RUN_ROWS = 200_000
+MAX_RUN_CELLS = 8_000_000
 
 SEPARATORS = {",": "comma", ";": "semicolon", "\t": "tab"}
 _CONTROL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
@@ -42,19 +57,6 @@ _CR_STANDIN = "\ue001"  # a carriage return alone inside a line, likewise
 
 class LogbookError(NavredError):
     """A file that is not a readable sight log at all."""
-
-
-class MissingFormulaValue:
-    """A spreadsheet formula cell with no saved value (its value is unknown until a spreadsheet program computes it)."""
-
-    def __init__(self, formula: str):
-        self.formula = formula
-
-    def __repr__(self) -> str:
-        return f"formula {self.formula} with no saved value"
-
-    def __str__(self) -> str:
-        return self.formula
 
 
 @dataclass
@@ -72,29 +74,83 @@ class RawTable:
     empty_rows: int = 0
     #: rows as read that are not in ``columns`` (too many or too few fields), for the as-read sheet
     malformed_cells: dict[int, list[str]] = field(default_factory=dict)
+    #: what the reader noted about the file as a whole (how it was decoded), for the navigator
+    notes: list[str] = field(default_factory=list)
 
     @property
     def n_rows(self) -> int:
         return len(self.row_numbers)
 
 
-def read_table(source: object, *, all_sheets: bool = False) -> list[RawTable]:
+class ReadBudget:
+    """What one run may read, across every file and sheet: bytes of text, bytes of spreadsheet XML, rows and
+    cells held at once. Each ``take_*`` counts what a file is about to cost and refuses, in one line naming the
+    file, what would go beyond the bound, before the expensive work is done."""
+
+    def __init__(self, *, rows: int | None = None, cells: int | None = None, text_bytes: int | None = None,
+                 xml_bytes: int | None = None):
+        self.limits = {"rows": MAX_RUN_ROWS if rows is None else rows, "cells": MAX_RUN_CELLS if cells is None else cells,
+                       "text": MAX_RUN_BYTES if text_bytes is None else text_bytes,
+                       "xml": MAX_RUN_XML_BYTES if xml_bytes is None else xml_bytes}
+        self.used = dict.fromkeys(self.limits, 0)
+
+    def _take(self, what: str, amount: int, source: str, message) -> None:
+        if self.used[what] + amount > self.limits[what]:
+            raise LogbookError(message(self.used[what] + amount, self.limits[what]))
+        self.used[what] += amount
+
+    def take_text(self, size: int, source: str) -> None:
+        self._take("text", size, source, lambda total, limit: (
+            f"{source}: the logs of this run come to {total / 2**20:,.0f} MiB; navred reads at most "
+            f"{limit // 2**20} MiB in one run: give the logs in several runs"))
+
+    def take_xml(self, size: int, source: str) -> None:
+        self._take("xml", size, source, lambda total, limit: (
+            f"{source}: the spreadsheets of this run unzip to {total / 2**20:,.0f} MiB of cells; navred reads at "
+            f"most {limit // 2**20} MiB of a spreadsheet's cells in one run (about a million cells): save a long "
+            "log as CSV, or split it"))
+
+    def check_rows(self, rows: int, source: str) -> None:
+        """Refuse now, without counting them, rows that could not be held (a file's lines, before it is read)."""
+        if self.used["rows"] + rows > self.limits["rows"] + 1:
+            self.take_rows(rows, 1, source)
+
+    def take_rows(self, rows: int, columns: int, source: str) -> None:
+        self._take("rows", rows, source, lambda total, limit: (
+            f"{source}: the logs of this run hold {total:,} rows or more; navred holds at most {limit:,} rows at "
+            "once (about a gigabyte of memory): split the logs, or reduce a long plain CSV log with navred reduce "
+            "--csv, which reads it in blocks when every row gives its fix_group and its DR"))
+        self.take_cells(rows * max(columns, 1), source)
+
+    def take_cells(self, cells: int, source: str) -> None:
+        self._take("cells", cells, source, lambda total, limit: (
+            f"{source}: the logs of this run hold {total:,} cells or more; navred holds at most {limit:,} at once: "
+            "split the logs, or leave out the columns navred does not use"))
+
+
+def read_table(source: object, *, all_sheets: bool = False, budget: ReadBudget | None = None) -> list[RawTable]:
     """The tables of a source: one file, a list of files, a folder of logs, a pandas DataFrame, or a RawTable.
 
     ``all_sheets``: every sheet of a workbook that holds a table (a class's workings, a sheet per
     cadet), named ``file (sheet 'name')``; otherwise a workbook gives one table (navred's own from
-    its 'Sights as read' sheet, else the first sheet)."""
+    its 'Sights as read' sheet, else the first sheet). Everything read is counted against
+    ``budget`` (one :class:`ReadBudget` for the whole call when none is given)."""
+    budget = ReadBudget() if budget is None else budget
     if hasattr(source, "columns") and hasattr(source, "iloc"):
+        budget.take_rows(len(source), source.shape[1], "(table)")
         return [_from_frame(source)]
-    if isinstance(source, RawTable):  # a table already read (a sight-book page turned into a table)
+    if isinstance(source, RawTable):  # a table already read (a sight-book page turned into a table): counted then
         return [source]
     if isinstance(source, (list, tuple)):
         tables = []
         for item in source:
-            tables.extend(read_table(item, all_sheets=all_sheets))
+            tables.extend(read_table(item, all_sheets=all_sheets, budget=budget))
         if not tables:
             raise LogbookError("no sight logs given")
         return tables
+    if not isinstance(source, (str, Path)) or (isinstance(source, str) and not source.strip()) or "\x00" in str(source):
+        raise LogbookError(f"cannot read {_shown(repr(source))[:80]} as a sight log: give a file name, a folder, a "
+                           "list of them, or a pandas DataFrame")
     path = Path(source)
     if path.is_dir():
         files = sorted(p for p in path.iterdir()
@@ -102,19 +158,35 @@ def read_table(source: object, *, all_sheets: bool = False) -> list[RawTable]:
                        and not p.name.startswith((".", "~$")))
         if not files:
             raise LogbookError(f"{path} is a folder with no sight logs in it (.csv, .tsv, .txt or .xlsx)")
-        return [table for file in files for table in read_table(file, all_sheets=all_sheets)]
+        return [table for file in files for table in read_table(file, all_sheets=all_sheets, budget=budget)]
     if all_sheets and path.suffix.lower() in (".xlsx", ".xlsm") and path.is_file():
         _check_file(path)
-        return _read_xlsx_sheets(path)
-    return [_read_file(path)]
+        return _read_xlsx_sheets(path, budget)
+    return [_read_file(path, budget)]
+
+
+def check_input_file(path: Path, what: str = "file") -> None:
+    """A file to be read: present and a regular file (not a folder, a pipe, a device or a socket)."""
+    import stat
+
+    try:
+        mode = path.stat().st_mode
+    except FileNotFoundError:
+        raise LogbookError(f"no such {what}: {path}") from None
+    except OSError as exc:
+        raise LogbookError(f"cannot read the {what} {path}: {exc.strerror or exc}") from None
+    except ValueError:  # a NUL byte in the name: no file has one
+        raise LogbookError(f"no such {what}: {_shown(str(path))[:80]!r} (a name cannot hold a NUL byte)") from None
+    if stat.S_ISDIR(mode):
+        raise LogbookError(f"{path} is a folder, not a {what}")
+    if not stat.S_ISREG(mode):
+        kind = "a pipe" if stat.S_ISFIFO(mode) else "a socket" if stat.S_ISSOCK(mode) else "a device"
+        raise LogbookError(f"{path} is {kind}, not a regular file: navred reads a {what} from a file saved on disk")
 
 
 def _check_file(path: Path) -> None:
     """The bounds every file is read under: present, a regular file, not empty, not too large."""
-    if not path.exists():
-        raise LogbookError(f"no such file: {path}")
-    if not path.is_file():
-        raise LogbookError(f"{path} is not a regular file")
+    check_input_file(path)
     size = path.stat().st_size
     if size == 0:
         raise LogbookError(f"{path} is empty: a sight log needs a header row and one row per sight")
@@ -123,36 +195,57 @@ def _check_file(path: Path) -> None:
                            f"{MAX_FILE_BYTES // 2**20} MiB: split it into several files and give them all")
 
 
-def _read_file(path: Path) -> RawTable:
+def _read_file(path: Path, budget: ReadBudget) -> RawTable:
     _check_file(path)
     with open(path, "rb") as handle:
         head = handle.read(8)
     if path.suffix.lower() in (".xlsx", ".xlsm"):
         if not head.startswith(b"PK"):
             raise LogbookError(f"{path} is named .xlsx but is not a spreadsheet file")
-        return _read_xlsx(path)
+        return _read_xlsx(path, budget)
     if head.startswith(b"PK"):
         raise LogbookError(f"{path} is not a text CSV file: it is a zip archive (an .xlsx workbook named "
                            "otherwise?); give it its .xlsx name or save the log as CSV")
     if head.startswith(b"\x1f\x8b"):
         raise LogbookError(f"{path} is a compressed (gzip) file, not a text CSV file: unpack it first")
-    return _read_csv(path, path.read_bytes())
+    budget.take_text(path.stat().st_size, str(path))
+    data = path.read_bytes()
+    budget.check_rows(data.count(b"\n"), str(path))  # before the text is decoded or split: a quick refusal
+    return _read_csv(path, data, budget)
 
 
-def _decode(data: bytes, path: Path) -> str:
+#: A byte sequence that can only be UTF-8: a lead byte and its continuation bytes.
+_UTF8_SEQUENCE = re.compile(rb"[\xc2-\xdf][\x80-\xbf]|[\xe0-\xef][\x80-\xbf]{2}|[\xf0-\xf4][\x80-\xbf]{3}")
+_NOT_UTF8 = "\udc80-\udcff"  # a byte that is not UTF-8, kept as a lone surrogate (Python's surrogateescape)
+
+
+def _decode(data: bytes, path: Path) -> tuple[str, str]:
+    """The file's text, and a note on how it was decoded ('' for UTF-8).
+
+    UTF-8 (with or without its byte-order mark) and UTF-16 with its mark are read as such. A file
+    with bytes that are not UTF-8 is read cell by cell: where the rest of it is UTF-8 (it holds
+    UTF-8 sequences), each byte that is not is kept aside and the cell that holds it is refused,
+    named; where nothing in it is UTF-8, it is an 8-bit file of the Windows code page 1252, read as
+    such and noted."""
     if data.startswith(b"\xef\xbb\xbf"):
-        return data[3:].decode("utf-8", errors="replace")
+        return data[3:].decode("utf-8", errors="surrogateescape"), ""
     if data.startswith((b"\xff\xfe", b"\xfe\xff")):
-        return data.decode("utf-16", errors="replace")  # a spreadsheet's "Unicode text" export
+        return data.decode("utf-16", errors="replace"), ""  # a spreadsheet's "Unicode text" export
     head = data[:4096]
     binary = sum(head.count(bytes([c])) for c in (*range(0, 9), *range(14, 32)))
     if binary > len(head) // 100:
         raise LogbookError(f"{path} is not a text CSV file (it looks binary, or is UTF-16 without a "
                            "byte-order mark); save the log as CSV (UTF-8) or .xlsx")
     try:
-        return data.decode("utf-8")
+        return data.decode("utf-8"), ""
     except UnicodeDecodeError:
-        return data.decode("cp1252", errors="replace")
+        pass
+    if _UTF8_SEQUENCE.search(data):
+        # mostly UTF-8: the odd byte that is not is kept aside, and refuses its own cell (named) alone
+        return data.decode("utf-8", errors="surrogateescape"), ""
+    return data.decode("cp1252", errors="surrogateescape"), (
+        f"{path.name} is not UTF-8: it was read as Windows-1252 (the 8-bit text of a spreadsheet program on "
+        "Windows); check its names and degree signs, or save it as UTF-8")
 
 
 def _split(line: str, separator: str) -> list[str]:
@@ -171,8 +264,10 @@ def _choose_separator(first_line: str) -> str:
     return best
 
 
-def _read_csv(path: Path, data: bytes) -> RawTable:
-    text = _decode(data, path).replace("\x00", _NUL_STANDIN)
+def _read_csv(path: Path, data: bytes, budget: ReadBudget | None = None) -> RawTable:
+    text, decoding = _decode(data, path)
+    del data
+    text = text.replace("\x00", _NUL_STANDIN)
     if "\r" in text:
         if "\n" not in text:
             text = text.replace("\r", "\n")  # the old line ends of some spreadsheet programs
@@ -180,15 +275,23 @@ def _read_csv(path: Path, data: bytes) -> RawTable:
             # a carriage return alone inside a line is a control character there: the row is refused alone
             text = text.replace("\r\n", "\n").replace("\r", _CR_STANDIN)
     first, header_line = None, ""
-    for index, line in enumerate(io.StringIO(text)):
-        if line.strip().strip(",;\t"):
-            first, header_line = index, line
+    start, index = 0, 0
+    while start < len(text):  # the first line that is not blank (without copying the text line by line)
+        end = text.find("\n", start)
+        end = len(text) if end < 0 else end + 1
+        if text[start:end].strip().strip(",;\t"):
+            first, header_line = index, text[start:end]
             break
+        start, index = end, index + 1
     if first is None:
         raise LogbookError(f"{path} has no header row: a sight log needs one, naming its columns")
     separator = _choose_separator(header_line)
+    if budget is not None:  # the rows the file may hold, counted before it is split
+        budget.take_rows(max(text.count("\n", len(header_line)) - first, 1), len(_split(header_line, separator)),
+                         str(path))
     quick = _plain_table(str(path), text, first, separator)
     if quick is not None:
+        quick.notes.extend([decoding] if decoding else [])
         return quick
     csv.field_size_limit(MAX_CELL_CHARS * 4)
     problems: dict[int, tuple[str, str]] = {}
@@ -209,7 +312,10 @@ def _read_csv(path: Path, data: bytes) -> RawTable:
     # a file with no control character, NUL or lone carriage return anywhere needs no cell-by-cell look for
     # them (checked on the whole text at once); cell lengths are still checked column by column
     clean = not problems and _BAD_TEXT.search(text) is None
-    return _table(str(path), header, records[first + 1:], first + 2, problems, separator, clean=clean)
+    table = _table(str(path), [_shown(h) for h in header], records[first + 1:], first + 2, problems, separator,
+                   clean=clean)
+    table.notes.extend([decoding] if decoding else [])
+    return table
 
 
 def _plain_lines(text: str, first: int, separator: str, source: str) -> tuple[list[str], list[str]] | None:
@@ -346,9 +452,9 @@ def plain_csv_blocks(path: str | Path, rows: int) -> PlainBlocks | None:
     data = path.read_bytes()
     if data.startswith((b"PK", b"\x1f\x8b")):
         return None
-    text = _decode(data, path)
+    text, decoding = _decode(data, path)
     del data
-    if "\r" in text or "\x00" in text:
+    if "\r" in text or "\x00" in text or decoding:
         return None
     first = next((k for k, line in enumerate(io.StringIO(text)) if line.strip().strip(",;\t")), None)
     if first is None:
@@ -432,14 +538,21 @@ def _check_width(source, header) -> None:
 
 
 def _shown(cell: str) -> str:
-    """A cell's text made safe to show: control characters replaced, length bounded."""
-    return _CONTROL.sub("\ufffd", cell.replace(_NUL_STANDIN, "\ufffd").replace(_CR_STANDIN, "\ufffd"))[:MAX_CELL_CHARS]
+    """A cell's text made safe to show: control characters and bytes that are not UTF-8 replaced, length
+    bounded."""
+    text = _CONTROL.sub("\ufffd", cell.replace(_NUL_STANDIN, "\ufffd").replace(_CR_STANDIN, "\ufffd"))
+    return _NOT_UTF8_TEXT.sub("\ufffd", text)[:MAX_CELL_CHARS]
 
 
-_BAD_TEXT = re.compile(f"[{_NUL_STANDIN}{_CR_STANDIN}\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
+_BAD_TEXT = re.compile(f"[{_NUL_STANDIN}{_CR_STANDIN}\x00-\x08\x0b\x0c\x0e-\x1f\x7f{_NOT_UTF8}]")
+_NOT_UTF8_TEXT = re.compile(f"[{_NOT_UTF8}]")
 
 
 def _text_problem(cell: str) -> str:
+    odd = _NOT_UTF8_TEXT.search(cell)
+    if odd:
+        return (f"the cell holds the byte 0x{ord(odd.group()) - 0xDC00:02X}, which is not UTF-8 like the rest of "
+                f"the file ({_shown(cell)[:40]!r}): retype the cell, or save the whole file as UTF-8")
     if _NUL_STANDIN in cell or "\x00" in cell:
         return "the cell holds a NUL byte (a damaged or binary file?)"
     if _CR_STANDIN in cell:
@@ -519,137 +632,166 @@ def _is_blank(value) -> bool:
         return False
 
 
-def _check_zip(path: Path) -> None:
-    """Refuse a spreadsheet that would unzip to far more than it is (a zip bomb), before parsing it."""
+def _check_zip(path: Path, budget: ReadBudget) -> zipfile.ZipFile:
+    """The spreadsheet as a zip archive, after refusing one that would unzip to far more than it is (a zip
+    bomb), or whose parts read whole (the list of sheets, the shared text, the styles) would take the run
+    beyond its bound on XML read, before anything is unzipped."""
+    from .sheetreader import parts_opened_whole
+
     try:
-        with zipfile.ZipFile(path) as archive:
-            members = archive.infolist()
-    except zipfile.BadZipFile as exc:
+        archive = zipfile.ZipFile(path)
+        members = archive.infolist()
+    except (zipfile.BadZipFile, OSError, ValueError) as exc:
         raise LogbookError(f"{path} cannot be opened as a spreadsheet: {exc}") from None
-    unzipped = sum(m.file_size for m in members)
-    zipped = max(sum(m.compress_size for m in members), 1)
-    if unzipped > MAX_UNZIPPED_BYTES or unzipped / zipped > MAX_ZIP_RATIO:
-        raise LogbookError(f"{path} would unzip to {unzipped / 2**20:,.0f} MiB from {zipped / 2**20:,.1f} MiB; "
-                           f"navred opens spreadsheets of up to {MAX_UNZIPPED_BYTES // 2**20} MiB unzipped "
-                           f"and {MAX_ZIP_RATIO:.0f} times their size: split the log, or save it as CSV")
+    try:
+        unzipped = sum(m.file_size for m in members)
+        zipped = max(sum(m.compress_size for m in members), 1)
+        if unzipped > MAX_UNZIPPED_BYTES or unzipped / zipped > MAX_ZIP_RATIO:
+            raise LogbookError(f"{path} would unzip to {unzipped / 2**20:,.0f} MiB from {zipped / 2**20:,.1f} MiB; "
+                               f"navred opens spreadsheets of up to {MAX_UNZIPPED_BYTES // 2**20} MiB unzipped "
+                               f"and {MAX_ZIP_RATIO:.0f} times their size: split the log, or save it as CSV")
+        sizes = {m.filename: m.file_size for m in members}
+        relationships = sum(size for name, size in sizes.items() if name.endswith(".rels"))
+        budget.take_xml(relationships, f"{path} (its relationships)")
+        try:
+            parts = parts_opened_whole(archive)
+        except NavredError as exc:
+            raise LogbookError(f"{path} cannot be opened as a spreadsheet: {exc}") from None
+        budget.take_xml(sum(sizes.get(p, 0) for p in parts), f"{path} (its list of sheets, shared text and styles)")
+    except LogbookError:
+        archive.close()
+        raise
+    return archive
 
 
-def _read_xlsx(path: Path) -> RawTable:
+def _read_xlsx(path: Path, budget: ReadBudget) -> RawTable:
     def chosen(names):
         lower = {n.lower(): n for n in names}
         # navred's own workbook is read from its 'Sights as read' sheet: the log exactly as it was
         return [lower.get("sights as read") or lower.get("sights") or names[0]]
 
-    return _read_xlsx_sheets(path, chosen, refuse_empty=True)[0]
+    return _read_xlsx_sheets(path, budget, chosen, refuse_empty=True)[0]
 
 
-def _read_xlsx_sheets(path: Path, choose=None, *, refuse_empty: bool = False) -> list[RawTable]:
+def _read_xlsx_sheets(path: Path, budget: ReadBudget, choose=None, *, refuse_empty: bool = False) -> list[RawTable]:
     """The tables of a workbook's sheets (``choose`` picks the sheet names; default: every visible sheet
-    that holds a table of two columns or more), each read under the row bound."""
-    import openpyxl
-
-    _check_zip(path)
-    try:
-        book = openpyxl.load_workbook(path, read_only=True, data_only=True)
-    except Exception as exc:  # openpyxl raises many kinds for a damaged file
-        raise LogbookError(f"{path} cannot be opened as a spreadsheet: {exc}") from None
-    contents = []
-    try:
-        names = book.sheetnames
-        for name in (choose(names) if choose else names):
-            if choose is None and getattr(book[name], "sheet_state", "visible") != "visible":
-                continue  # a hidden sheet (a template's lists) is not a table of sights
-            rows = []
-            for row in book[name].iter_rows(values_only=True):
-                rows.append(list(row))
-                if len(rows) > MAX_ROWS + 1:
-                    raise LogbookError(f"{path}, sheet {name!r} has more than {MAX_ROWS:,} rows: split it")
-            contents.append((name, rows))
-    finally:
-        book.close()
+    that holds a table of two columns or more), each read cell by cell (:mod:`navred.io.sheetreader`) under the
+    run's bounds, each sheet's XML counted before it is read."""
+    archive = _check_zip(path, budget)
     tables = []
-    for name, rows in contents:
-        table = _sheet_table(path, name, rows, len(names), refuse_empty or choose is not None)
-        if table is not None:
-            tables.append(table)
+    try:
+        try:
+            book = open_workbook(archive)
+        except NavredError as exc:
+            raise LogbookError(f"{path} cannot be opened as a spreadsheet: {exc}") from None
+        except Exception as exc:  # a part that cannot be unzipped, a damaged archive
+            raise LogbookError(f"{path} cannot be opened as a spreadsheet: {_one_line(exc)}") from None
+        names = book.sheetnames
+        if not names:
+            raise LogbookError(f"{path} has no worksheet")
+        sizes = {m.filename: m.file_size for m in archive.infolist()}
+        entries = {s.name: s for s in book.sheets}
+        for name in (choose(names) if choose else names):
+            sheet = entries[name]
+            if choose is None and sheet.state != "visible":
+                continue  # a hidden sheet (a template's lists) is not a table of sights
+            label = f"{path} (sheet {name!r})" if len(names) > 1 else str(path)
+            budget.take_xml(sizes.get(sheet.member, 0), label)
+            try:
+                cells = read_sheet_cells(book, sheet, archive, take_cells=lambda n, where=label:
+                                         budget.take_cells(n, where))
+            except LogbookError:
+                raise
+            except NavredError as exc:
+                raise LogbookError(f"{label} cannot be read: {exc}") from None
+            except Exception as exc:  # a member that cannot be unzipped (a damaged archive)
+                raise LogbookError(f"{label} cannot be read: {_one_line(exc)} (a damaged file?)") from None
+            table = _sheet_table(path, label, name, cells, refuse_empty or choose is not None, budget)
+            if table is not None:
+                tables.append(table)
+    finally:
+        archive.close()
     if not tables:
         raise LogbookError(f"{path} has no sheet with a table in it")
     return tables
 
 
-def _sheet_table(path: Path, name: str, rows: list, sheets: int, refuse_empty: bool) -> RawTable | None:
-    label = f"{path} (sheet {name!r})" if sheets > 1 else str(path)
-    first = next((i for i, r in enumerate(rows) if any(_filled(v) for v in r)), None)
-    if first is None:
+def _one_line(exc: Exception) -> str:
+    text = " ".join(str(exc).split())
+    return (text[:200] + "...") if len(text) > 200 else text or type(exc).__name__
+
+
+def _sheet_table(path: Path, label: str, name: str, cells, refuse_empty: bool, budget: ReadBudget) -> RawTable | None:
+    """The table of one sheet's rows (as :mod:`navred.sheetreader` read them): its header is the first row
+    with a value; the rows the file does not hold are empty rows."""
+    rows = [(number, values) for number, values in cells.rows if any(_filled(v) for v in values)]
+    if not rows:
         if not refuse_empty:
             return None  # an empty sheet of a class workbook: nothing to read
         raise LogbookError(f"{path}, sheet {name!r} is empty")
-    header = ["" if v is None else str(v).strip() for v in rows[first]]
+    header_number, header_cells = rows[0]
+    header = ["" if v is None or isinstance(v, CellProblem) else str(v).strip() for v in header_cells]
+    bad_header = next((k for k, v in enumerate(header_cells) if isinstance(v, CellProblem)), None)
+    if bad_header is not None:
+        raise LogbookError(f"{label}: the header cell {column_letter(bad_header)}{header_number} cannot be read: "
+                           f"{header_cells[bad_header].reason}")
     while header and header[-1] == "":
         header.pop()
     if not refuse_empty and sum(1 for h in header if h) < 2:
         return None  # a sheet of notes in a class workbook (one column of text), not a table
-    body = rows[first + 1:]
-    last = max((i for i, r in enumerate(body) if any(_filled(v) for v in r)), default=-1)
-    body = body[:last + 1]
-    _mark_formulas(path, name, body, first + 1, len(header))
-    return _typed_table(label, header, body, first + 2)
+    body = rows[1:]
+    budget.take_rows(len(body), len(header), label)
+    empty = (body[-1][0] - header_number - len(body)) if body else 0
+    return _typed_table(label, header, body, empty, cells.row_problems)
 
 
 def _filled(value) -> bool:
     return value is not None and not (isinstance(value, str) and not value.strip())
 
 
-def _mark_formulas(path, sheet_name, body, first_index, width) -> None:
-    """Put a MissingFormulaValue where a formula cell has no saved value (openpyxl gives None)."""
-    blanks = {(i, k) for i, row in enumerate(body) for k in range(min(width, len(row))) if row[k] is None}
-    if not blanks:
-        return
-    import openpyxl
-
-    book = openpyxl.load_workbook(path, read_only=True, data_only=False)
-    try:
-        for i, row in enumerate(book[sheet_name].iter_rows(min_row=first_index + 1,
-                                                            max_row=first_index + len(body))):
-            for k, cell in enumerate(row[:width]):
-                if (i, k) in blanks and getattr(cell, "data_type", None) == "f":
-                    body[i][k] = MissingFormulaValue(str(cell.value))
-    finally:
-        book.close()
-
-
-def _typed_table(source, header, body, first_row_number) -> RawTable:
-    """A RawTable from a spreadsheet's typed cells: empty rows skipped, bad text noted."""
+def _typed_table(source, header, body, empty, row_problems=None) -> RawTable:
+    """A RawTable from a spreadsheet's typed rows ((row number, cells)); a cell that could not be read, a
+    value right of the last header or a row the file numbers wrongly rejects its row alone."""
     _check_width(source, header)
     width = len(header)
     for k, name in enumerate(header):
-        if name == "" and any(k < len(r) and _filled(r[k]) for r in body):
-            raise LogbookError(f"{source}: column {_column_letter(k)} holds values but has no header (merged "
+        if name == "" and any(k < len(r) and _filled(r[k]) for _, r in body):
+            raise LogbookError(f"{source}: column {column_letter(k)} holds values but has no header (merged "
                                "header cells?); give each column its own header cell")
     columns: list[list[object]] = [[] for _ in range(width)]
     numbers: list[int] = []
-    empty = 0
-    for index, raw in enumerate(body):
+    problems: dict[int, tuple[str, str]] = {}
+    malformed: dict[int, list[str]] = {}
+    row_problems = row_problems or {}
+    for index, (number, raw) in enumerate(body):
         cells = list(raw[:width]) + [None] * (width - len(raw))
-        if not any(_filled(v) for v in cells):
-            empty += 1
-            continue
-        numbers.append(first_row_number + index)
+        numbers.append(number)
+        problem = None
+        if number in row_problems:
+            problem = ("(row)", row_problems[number])
+        bad = next((k for k, v in enumerate(raw) if isinstance(v, CellProblem)), None)
+        if problem is None and bad is not None:
+            problem = (header[bad] if bad < width else column_letter(bad), raw[bad].reason)
+        beyond = next((k for k in range(width, len(raw)) if _filled(raw[k])), None)
+        if problem is None and beyond is not None:
+            problem = (column_letter(beyond), (
+                f"a value ({_shown(str(raw[beyond]))[:40]!r}) in column {column_letter(beyond)}, right of the last "
+                f"header ({column_letter(width - 1)} {header[-1]!r}): a header is missing, or the value is in the "
+                "wrong column"))
+        if problem is not None:
+            problems[index] = problem
+            malformed[index] = ["" if v is None else _shown(str(v)) for v in raw]
         for k in range(width):
             value = cells[k]
             # a TRUE/FALSE cell is text to navred (True == 1 must not pass for a number)
             columns[k].append(("TRUE" if value else "FALSE") if isinstance(value, bool) else value)
     series = [pd.Series(column, dtype=object) for column in columns]
-    return _finish(source, header, series, np.asarray(numbers, dtype=int), {}, {}, None, empty)
+    return _finish(source, header, series, np.asarray(numbers, dtype=int), problems, malformed, None, empty)
 
 
-def _column_letter(index: int) -> str:
-    letters = ""
-    index += 1
-    while index:
-        index, remainder = divmod(index - 1, 26)
-        letters = chr(65 + remainder) + letters
-    return letters
+def column_letter(index: int) -> str:
+    """The letters of a 0-based column index: 0 is 'A'."""
+    return column_letters(index + 1)
 
 
 def _from_frame(frame) -> RawTable:
@@ -662,7 +804,7 @@ def _from_frame(frame) -> RawTable:
         if column.dtype == bool:
             column = column.map({True: "TRUE", False: "FALSE"}).astype(object)
         elif column.dtype == object:
-            column = column.map(lambda v: ("TRUE" if v else "FALSE") if isinstance(v, (bool, np.bool_)) else v)
+            column = column.map(_frame_cell).astype(object)
         columns.append(column)
     numbers = np.arange(1, len(frame) + 1)
     blank = np.column_stack([_blank_mask(c) for c in columns]) if columns else np.ones((len(frame), 0), bool)
@@ -670,7 +812,38 @@ def _from_frame(frame) -> RawTable:
     if not keep.all():
         columns = [c[keep].reset_index(drop=True) for c in columns]
         numbers = numbers[keep]
-    return _finish("(table)", header, columns, numbers, {}, {}, None, int((~keep).sum()))
+    problems: dict[int, tuple[str, str]] = {}
+    for k, column in enumerate(columns):  # a cell no log could hold rejects its row, named by its column
+        if column.dtype == object:
+            for index in np.flatnonzero(column.map(lambda v: isinstance(v, CellProblem)).to_numpy(dtype=bool)):
+                problems.setdefault(int(index), (header[k], column.iloc[index].reason))
+    malformed = {i: ["" for _ in header] for i in problems}
+    if problems:
+        rows = np.fromiter(problems, dtype=int)
+        for k, column in enumerate(columns):
+            cells = column.to_numpy(dtype=object, copy=True)
+            cells[rows] = None
+            columns[k] = pd.Series(cells, dtype=object)
+    return _finish("(table)", header, columns, numbers, problems, malformed, None, int((~keep).sum()))
+
+
+#: What a DataFrame cell may hold: a value a log's cell could (text, a number, an instant, nothing).
+_CELL_TYPES = (str, int, float, np.integer, np.floating, pd.Timestamp, np.datetime64)
+
+
+def _frame_cell(value):
+    """A DataFrame cell as the reader takes it: TRUE/FALSE for a boolean, a value as it is, and a cell holding
+    a list, a dictionary or another object (no log's cell could) marked unreadable, for its row alone."""
+    import datetime as _dt
+
+    if value is None or isinstance(value, MissingFormulaValue):
+        return value
+    if isinstance(value, (bool, np.bool_)):
+        return "TRUE" if value else "FALSE"
+    if isinstance(value, _CELL_TYPES + (_dt.date, _dt.time)):
+        return value
+    return CellProblem(f"the cell holds a {type(value).__name__}, not a value a log's cell holds (text, a number or "
+                       "an instant)", "")
 
 
 def blank_mask(column: pd.Series) -> np.ndarray:
@@ -688,5 +861,5 @@ def _blank_mask(column: pd.Series) -> np.ndarray:
     return missing
 
 
-__all__ = ["RawTable", "read_table", "plain_csv_blocks", "PlainBlocks", "blank_mask", "LogbookError", "MissingFormulaValue", "MAX_FILE_BYTES",
+__all__ = ["RawTable", "read_table", "ReadBudget", "column_letter", "check_input_file", "plain_csv_blocks", "PlainBlocks", "blank_mask", "LogbookError", "MissingFormulaValue", "MAX_FILE_BYTES",
            "MAX_ROWS", "MAX_COLUMNS", "MAX_CELL_CHARS"]

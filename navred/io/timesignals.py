@@ -18,15 +18,16 @@ sight log's; the others are fitted (:func:`navred.rating.fit_rate`).
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
-from ..errors import NavredError
+from ..errors import NavredError, api_boundary
 from ..rating import RateChange, RateFit, error_in_half_day, fit_rate, rate_change, residuals_s
 from ..timescales import utc_jd_to_datetime64, utc_julian_date, utc_julian_date_from_components
 from ..timework import DATE_ORDERS, iso_instant_text, parse_time_of_day, parse_zone_description
-from ..vocabulary import normalise_header
+from ..vocabulary import normalise_header, unknown_header_refusal
 from .readers import LogbookError, read_table
 
 #: The rating log's columns and the headers that name them.
@@ -69,6 +70,8 @@ class Timepiece:
         error_now = float(f.error_s(days_of(np.array([last.signal_utc.tz_convert(None).to_datetime64()]))[0]))
         if n < 2:
             rate = "rate unknown (one comparison)"
+        elif not float(f.spread_days) > 0:
+            rate = "rate unknown (every comparison at one instant)"
         elif n == 2:
             rate = f"rate {f.rate_s_per_day:+.2f} s a day (two comparisons: no uncertainty)"
         else:
@@ -110,7 +113,8 @@ class Ratings:
             error[rows] = piece.fit.error_s(days[rows])
             se[rows] = piece.fit.error_se_at(days[rows])
             last = float(days_of(np.array([piece.last_signal.tz_convert(None).to_datetime64()]))[0])
-            rate = "no rate" if int(piece.fit.n) < 2 else f"rate {float(piece.fit.rate_s_per_day):+.2f} s a day"
+            rate = "no rate" if int(piece.fit.n) < 2 or not float(piece.fit.spread_days) > 0 \
+                else f"rate {float(piece.fit.rate_s_per_day):+.2f} s a day"
             for i in rows.tolist():
                 beyond = days[i] - last
                 text = f"{piece.name or 'the timepiece'} rated: {rate}"
@@ -128,6 +132,7 @@ def _cell_text(value) -> str:
     return str(value).strip()
 
 
+@api_boundary
 def read_rating_log(source: object, *, dates: str | None = None) -> Ratings:
     """Read a rating log (one file, several, or a folder) and fit each timepiece's error and rate.
 
@@ -136,9 +141,10 @@ def read_rating_log(source: object, *, dates: str | None = None) -> Ratings:
     if dates is not None and dates not in DATE_ORDERS:
         raise LogbookError(f"dates {dates!r} is not one of {', '.join(DATE_ORDERS)}")
     tables = read_table(source)
-    rows, problems = [], []
+    rows, problems, notes = [], [], []
     for table in tables:
         keys = {}
+        unread = []
         for k, header in enumerate(table.header):
             key = _HEADERS.get(normalise_header(header))
             if key is not None:
@@ -146,6 +152,15 @@ def read_rating_log(source: object, *, dates: str | None = None) -> Ratings:
                     raise LogbookError(f"{table.source}: two columns give the {key}: {table.header[keys[key]]!r} and "
                                        f"{header!r}; keep one")
                 keys[key] = k
+            elif header.strip():
+                refusal = unknown_header_refusal(header, _HEADERS)
+                if refusal:
+                    raise LogbookError(f"{table.source}: {refusal}")
+                unread.append(header)
+        if unread:
+            notes.append(f"{Path(table.source).name}: column{'s' if len(unread) > 1 else ''} of the rating log navred "
+                         f"does not read, kept aside: {', '.join(repr(h) for h in unread)}")
+        notes.extend(table.notes)
         missing = [k for k in ("utc", "reading") if k not in keys]
         if missing:
             raise LogbookError(f"{table.source} is not a rating log: it has no {' or '.join(missing)} column; a rating "
@@ -163,9 +178,11 @@ def read_rating_log(source: object, *, dates: str | None = None) -> Ratings:
                 problems.append((table.source, number, header, value, reason))
             if not trouble:
                 rows.append({"source": table.source, "row": number, **row})
-    rejected = pd.DataFrame(problems, columns=REJECTED_COLUMNS)
     frame = pd.DataFrame(rows, columns=["source", "row", "timepiece", "signal_utc", "reading", "zone_description_h",
                                         "error_s"])
+    frame, twice = _one_comparison_an_instant(frame)
+    rejected = pd.DataFrame(problems + twice, columns=REJECTED_COLUMNS).sort_values(["source", "row"], kind="stable")
+    rejected = rejected.reset_index(drop=True)
     pieces = {}
     for name, part in frame.groupby("timepiece", sort=False):
         part = part.sort_values("signal_utc", kind="stable").reset_index(drop=True)
@@ -177,7 +194,37 @@ def read_rating_log(source: object, *, dates: str | None = None) -> Ratings:
     if not pieces:
         raise LogbookError("the rating log has no comparison that could be read: "
                            + "; ".join(f"row {r.row}: {r.column}: {r.reason}" for r in rejected.head(5).itertuples()))
-    return Ratings(pieces, rejected, tuple(t.source for t in tables))
+    return Ratings(pieces, rejected, tuple(t.source for t in tables), notes)
+
+
+def _one_comparison_an_instant(frame: pd.DataFrame) -> tuple[pd.DataFrame, list[tuple]]:
+    """One comparison of a timepiece at one instant: two that agree are one (the later row is refused as a
+    repeat); two that disagree are both refused, neither trusted (as two positions of a track at one instant)."""
+    if frame.empty:
+        return frame, []
+    key = ["timepiece", "signal_utc"]
+    repeated = frame.duplicated(key, keep=False)
+    if not repeated.any():
+        return frame, []
+    refused = []
+    drop = np.zeros(len(frame), dtype=bool)
+    for _, part in frame[repeated].groupby(key, sort=False):
+        rows = part.index.to_numpy()
+        labels = ", ".join(f"row {r}" for r in part.row)
+        when = f"{part.signal_utc.iloc[0]:%Y-%m-%d %H:%M:%S}"
+        if np.ptp(part.error_s.to_numpy(dtype=float)) < 0.05:
+            for index in rows[1:]:
+                drop[frame.index.get_loc(index)] = True
+                refused.append((frame.source[index], int(frame.row[index]), "utc", when,
+                                f"the same comparison as row {int(part.row.iloc[0])} (one signal, one reading): "
+                                "counted once"))
+        else:
+            for index in rows:
+                drop[frame.index.get_loc(index)] = True
+                refused.append((frame.source[index], int(frame.row[index]), "reading", frame.reading[index],
+                                f"{labels} compare the timepiece with the one signal at {when} UTC and disagree: "
+                                "neither is used; keep the right one"))
+    return frame[~drop].reset_index(drop=True), refused
 
 
 def _comparison(cells: dict, dates: str | None = None) -> tuple[dict, list[tuple[str, str, str]]]:

@@ -134,6 +134,10 @@ def working_table(voyage) -> pd.DataFrame:
     carried = r.dr_carried_from.astype(str).to_numpy()
     if (carried != "").any():
         table.insert(table.columns.get_loc("DR lon (° ′)") + 1, "DR", np.where(carried != "", carried, "as given"))
+    motion = r["motion_carried_from"].astype(str).to_numpy() if "motion_carried_from" in r.columns else np.zeros(0)
+    if (motion != "").any():
+        where = table.columns.get_loc("speed (kn)") + 1 if "speed (kn)" in table.columns else len(table.columns)
+        table.insert(where, "course and speed", np.where(motion != "", motion, "as given"))
     if not (r.time_given == "zone time").any() and not (r.watch_error_applied_s != 0).any():
         table = table.drop(columns=["watch error (s, fast +)", "zone date", "zone time", "ZD (h)"])
     # the log's own extra columns (a cadet's note, a sight number...) ride along at the end
@@ -416,6 +420,13 @@ def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool | Pict
         line += 1
         write_text_safe(about.cell(row=line, column=1), key)
         write_text_safe(about.cell(row=line, column=2), _cell_value(value))  # file names come from the user
+    notes = getattr(voyage, "notes", ())
+    if notes:
+        line += 2
+        about.cell(row=line, column=1, value="Notes on the files").font = Font(bold=True)
+        for note in notes:
+            line += 1
+            write_text_safe(about.cell(row=line, column=2), note)  # names of columns and files come from the user
     line += 2
     about.cell(row=line, column=1, value="Sheets").font = Font(bold=True)
     for name, meaning in (
@@ -487,7 +498,7 @@ def write_workbook(voyage: VoyageResult, path: str | Path, *, plots: bool | Pict
         _add_figure(fixes_sheet, plotting_figure(voyage, group), f"A{anchor_row}", 560, 560)
         anchor_row += 30
     fit_pages(book, tables)
-    return atomic_write(path, tables.save, inputs=voyage.log.sources)
+    return atomic_write(path, tables.save, inputs=voyage.inputs)
 
 
 #: A sheet wider than this many columns prints landscape.
@@ -597,6 +608,12 @@ def _write_training_sheet(tables: TableWriter, sheet, report, pictures: Pictures
               ("By kind of body", report.by_body), ("Fixes against the reference track", report.fixes),
               ("Every sight: error = Ho − Hc at the reference position",
                report.sights.assign(sight_utc=report.sights.sight_utc.dt.strftime("%Y-%m-%d %H:%M:%S")))]
+    problems = getattr(report, "track_problems", None)
+    if problems is not None and len(problems):
+        where = "point" if str(getattr(report, "track_source", "")).lower().endswith(".gpx") else "line"
+        refused = problems.rename(columns={"point": f"{where} of the track"})
+        blocks.insert(3, (f"Points of the reference track refused ({len(problems)}; not used), by their {where} in "
+                          f"{Path(report.track_source).name}", refused))
     line = 1
     for title, frame in blocks:
         sheet.cell(row=line, column=1, value=title).font = Font(bold=True)
@@ -773,13 +790,13 @@ def write_plots(voyage: VoyageResult, folder: str | Path, formats: tuple[str, ..
             picture = voyage_track_picture(days, vessel)
             for suffix in formats:
                 pictures[f"{stem}.{suffix}"] = canvas_bytes(picture, suffix, png_width_px=1320)
-        written += atomic_write_many(out, pictures, inputs=voyage.log.sources)
+        written += atomic_write_many(out, pictures, inputs=voyage.inputs)
     stems = plot_file_stems(g.name for g in chosen)
     batches = [(start, min(start + PLOTS_PER_WRITE, len(chosen))) for start in range(0, len(chosen), PLOTS_PER_WRITE)]
     _sight_labels(voyage)  # worked out once, before any drawer starts
     context = {"voyage": voyage, "chosen": chosen, "stems": stems, "formats": tuple(formats)}
     for files in forked_map(_draw_batch, batches, context=context, workers=drawers_for(len(chosen), workers)):
-        written += atomic_write_many(out, files, inputs=voyage.log.sources)
+        written += atomic_write_many(out, files, inputs=voyage.inputs)
     return written
 
 

@@ -256,7 +256,9 @@ def read_workings(source: object, *, dates: str | None = None, rates: object | N
     if not tables:
         raise NavredError(f"no working is filled in on the sight book's pages ({', '.join(map(source_name, pages))}): "
                           "fill a block of a page (the sight and your lines) and mark it again")
-    log = read_sight_log(tables, dates=dates, rates=rates)
+    # the lines, the method, the compass's and the remarks' columns are read here, not noted as unread
+    own = [header for table in tables for header in table.header if _column_key(header)]
+    log = read_sight_log(tables, dates=dates, rates=rates, also_reads=own)
     table = log.table
     n = len(table)
     headers: dict[str, str] = {}

@@ -29,6 +29,7 @@ from ..angles import format_angle
 from ..fix import DR_ERROR_FRACTION, DR_ERROR_KN
 from ..reckoning import (
     NS_PER_HOUR,
+    PAST_POLE,
     DRTrack,
     course_speed,
     days_run,
@@ -337,7 +338,9 @@ def _noon_rows(voyage, vessel: str, track: VesselTrack, estimated: list[dict]) -
     if not days.size:
         return []
     lat, lon, origin = track.kept.positions(noon)
-    source = [f"DR from the {track.known_label[_known_index(track, o)]}" if o >= 0 else "" for o in origin]
+    source = [(f"DR from the {track.known_label[_known_index(track, o)]}" if np.isfinite(la) else
+               f"none: {PAST_POLE.split(':')[0]} from the {track.known_label[_known_index(track, o)]}")
+              if o >= 0 else "" for o, la in zip(origin, lat)]
     # a fix, else an estimated position, within the hour carried to noon along the DR's velocity
     fixes = [(int(t), la, lo, lab) for t, la, lo, lab in zip(track.known_ns, track.known_lat, track.known_lon,
                                                             track.known_label) if lab.startswith("fix ")]

@@ -12,11 +12,12 @@ import pandas as pd
 from numpy.typing import ArrayLike
 
 from ..almanac import places
-from ..errors import NavredError
+from ..errors import NavredError, api_boundary
 from ..fix import FixResult, fix_from_sights
 from ..series import SIGMAS, THRESHOLD_ARCMIN, check_series, series_ids
 
 
+@api_boundary
 def body_positions(body: str | ArrayLike, utc: object, dut1_s: ArrayLike | None = None) -> pd.DataFrame:
     """Almanac data of bodies at instants, as a pandas DataFrame (one row per pair).
 
@@ -35,6 +36,8 @@ def body_positions(body: str | ArrayLike, utc: object, dut1_s: ArrayLike | None 
     >>> round(float(row.dec_deg), 2)
     23.44
     """
+    if isinstance(body, (pd.DataFrame, dict)) or (not isinstance(body, str) and np.ndim(body) > 1):
+        raise NavredError(f"body_positions takes a body's name or a list of names, not a {type(body).__name__}")
     result = places(body, utc, dut1_s)
     flat = {name: np.ravel(value) for name, value in {
         "body": result.body,
@@ -94,6 +97,7 @@ def row_list(frame: pd.DataFrame) -> str:
     return "; ".join(parts)
 
 
+@api_boundary
 def fix_position(reduced: pd.DataFrame, at_utc: object | None = None, *, chart_lat: float | None = None,
                  chart_lon: float | None = None, solve_motion: bool = False, set_deg: float | None = None,
                  drift_kn: float | None = None, course_deg: float | None = None,
@@ -106,6 +110,8 @@ def fix_position(reduced: pd.DataFrame, at_utc: object | None = None, *, chart_l
     set, plus a current ``set_deg``/``drift_kn``. See :func:`navred.fix.fix_from_sights`.
     """
     needed = ("gha_deg", "dec_deg", "ho_deg", "sight_utc", "dr_lat_deg", "dr_lon_deg")
+    if not isinstance(reduced, pd.DataFrame):
+        raise NavredError(f"fix_position takes the table reduce_sights returns, not {type(reduced).__name__}")
     missing = [c for c in needed if c not in reduced.columns]
     if missing:
         raise NavredError(f"fix_position needs the columns of reduce_sights; missing: {', '.join(missing)}")

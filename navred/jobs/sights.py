@@ -16,6 +16,7 @@ import pandas as pd
 from ..almanac import places
 from ..constants import LARGE_INTERCEPT_NM, SUN_BRIGHT_SKY_DEG, SUN_DARK_HORIZON_DEG
 from ..corrections import correct_altitudes, planet_phases
+from ..errors import api_boundary
 from ..io.logbook import SIGHT_COLUMNS, SightLog, read_sight_log
 from ..timescales import UT1_BEFORE, UT1_BEYOND, instants_from_utc_jd
 from ..triangle import (
@@ -84,6 +85,7 @@ def parsed_sights(sights: object) -> pd.DataFrame:
     return read_sight_log(sights).table
 
 
+@api_boundary
 def reduce_sights(sights: object) -> pd.DataFrame:
     """Reduce sights to Ho, Hc, Zn and intercept, one row per sight in order.
 

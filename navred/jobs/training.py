@@ -13,7 +13,7 @@ Edge code (pandas); the arithmetic is the core's.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
@@ -40,6 +40,9 @@ class TrainingReport:
     by_body: pd.DataFrame
     fixes: pd.DataFrame
     track_span: tuple[str, str]
+    #: the reference track's file and the points of it that were refused (point or line, field, value, reason)
+    track_source: str = ""
+    track_problems: pd.DataFrame = field(default_factory=pd.DataFrame)
 
 
 def _summaries(frame: pd.DataFrame, keys: list[str]) -> pd.DataFrame:
@@ -126,7 +129,8 @@ def training_report(reduced: pd.DataFrame, track: ReferenceTrack, groups: object
                              "95 % semi-major (nm)": np.nan,
                              "note": f"not a fix: the lines cross at {fix.spread_deg:.0f}°; marked by the distance off "
                                      f"the {fix.kind}"})
-    return TrainingReport(sights, observers, by_body, pd.DataFrame(fix_rows), span)
+    return TrainingReport(sights, observers, by_body, pd.DataFrame(fix_rows), span, track.source,
+                          track.problems.copy())
 
 
 def observer_figure(report: TrainingReport, observer: str):

@@ -23,9 +23,10 @@ import pandas as pd
 from .. import __version__
 from ..angles import format_angle
 from ..ephemeris import EPHEMERIS_NAME
-from ..errors import NavredError
+from ..errors import NavredError, api_boundary
 from ..fix import SEXTANT_SIGMA_LIMIT_ARCMIN, FixResult, fixes_from_sights
 from ..io.logbook import REJECTED_COLUMNS, SightLog, read_sight_log
+from ..reckoning import PAST_POLE
 from ..timescales import iers_table, leap_second_table
 from ..triangle import distance_bearing
 from .frames import row_labels, series_columns, utc64
@@ -80,6 +81,19 @@ class VoyageResult:
         return self.cache["days_work"]
 
     @property
+    def inputs(self) -> tuple[str, ...]:
+        """Every file the run read (the logs, the rating log, a reference track): never to be written over."""
+        ratings = getattr(self.ratings, "sources", ()) if self.ratings is not None else ()
+        track = (self.training.track_source,) if getattr(self.training, "track_source", "") else ()
+        return tuple(dict.fromkeys([*self.log.sources, *ratings, *track]))
+
+    @property
+    def notes(self) -> tuple[str, ...]:
+        """What the readers noted about the files as a whole (the log's and the rating log's)."""
+        ratings = tuple(getattr(self.ratings, "notes", ()) or ()) if self.ratings is not None else ()
+        return tuple(dict.fromkeys([*self.log.notes, *ratings]))
+
+    @property
     def raw(self) -> pd.DataFrame:
         """The log exactly as read (for the 'Sights as read' sheet)."""
         return self.log.as_read
@@ -110,6 +124,7 @@ class VoyageResult:
         raise NavredError(f"no fix group {name!r}; the log has: {', '.join(g.name for g in self.groups)}")
 
 
+@api_boundary
 def process_log(source: object, *, dates: str | None = None, solve_motion: bool = False,
                 progress: Callable[[int, int], None] | None = None, plan: bool = True,
                 at_utc: object | None = None, carry_current: bool = False, rates: object | None = None) -> VoyageResult:
@@ -192,6 +207,7 @@ def _restart_dr_at_fixes(log: SightLog, reduced: pd.DataFrame, groups: list[Grou
     lat = table["dr_lat_deg"].to_numpy(dtype=float).copy()
     lon = table["dr_lon_deg"].to_numpy(dtype=float).copy()
     note = table["dr_carried_from"].to_numpy(dtype=object).copy()
+    past_pole: list[tuple[int, str]] = []
     for vessel, track in tracks.items():
         rows = carried[vessels[carried] == vessel]
         if not rows.size:
@@ -203,11 +219,27 @@ def _restart_dr_at_fixes(log: SightLog, reduced: pd.DataFrame, groups: list[Grou
         if at_start.any():
             s_lat, s_lon, s_origin = track.kept.positions(when[rows][at_start])
             t_lat[at_start], t_lon[at_start], origin[at_start] = s_lat, s_lon, s_origin
-        found = origin >= 0
+        found = (origin >= 0) & np.isfinite(t_lat)
         lat[rows[found]], lon[rows[found]] = t_lat[found], t_lon[found]
         note[rows[found]] = [f"carried from the {known_label_at(track, o)}" for o in origin[found]]
+        polar = rows[(origin >= 0) & ~np.isfinite(t_lat)]
+        past_pole.extend((int(r), f"{PAST_POLE} (carried from the {known_label_at(track, o)})")
+                         for r, o in zip(polar.tolist(), origin[(origin >= 0) & ~np.isfinite(t_lat)].tolist()))
     table["dr_lat_deg"], table["dr_lon_deg"], table["dr_carried_from"] = lat, lon, note
-    log = replace(log, table=table)
+    rejected = log.rejected
+    if past_pole:  # refused as the reader refuses a row, with its one reason, and kept in the Rejected sheet
+        problem = table["read_problem"].to_numpy(dtype=object).copy()
+        where = table["read_problem_column"].to_numpy(dtype=object).copy()
+        extra = []
+        for row, reason in past_pole:
+            problem[row], where[row] = f"dr_lat: {reason}", "dr_lat"
+            lat[row] = lon[row] = np.nan
+            extra.append({"source": table["source"].iloc[row], "row": int(table["row"].iloc[row]),
+                          "column": "dr_lat", "value": "", "reason": reason})
+        table["read_problem"], table["read_problem_column"] = problem, where
+        table["dr_lat_deg"], table["dr_lon_deg"] = lat, lon
+        rejected = pd.concat([rejected, pd.DataFrame(extra, columns=REJECTED_COLUMNS)], ignore_index=True)
+    log = replace(log, table=table, rejected=rejected)
     reduced = _reduce_with_progress(log, progress)
     if len(reduced):
         for column, values in series_columns(reduced).items():

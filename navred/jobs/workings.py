@@ -20,6 +20,7 @@ import numpy as np
 import pandas as pd
 
 from ..angles import format_angle
+from ..errors import api_boundary
 from ..io.markingbook import write_marking_workbook, write_template
 from ..io.markingpages import marking_document, write_marking_pdf
 from ..io.markingwords import (
@@ -120,6 +121,7 @@ def _feet(text: str) -> float:
     return float(found.group(1)) if found else np.nan
 
 
+@api_boundary
 def mark_workings(source: object, *, dates: str | None = None, exam: bool = False,
                   track: object | None = None, rates: object | None = None) -> MarkingReport:
     """Read and mark hand workings: every line judged, the first wrong one named with its cause.

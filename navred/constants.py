@@ -47,3 +47,14 @@ MARS_RADIUS_KM = 3389.5  # the same Working Group (2015 report), mean radius (fr
 # --- Time ------------------------------------------------------------------
 TT_MINUS_TAI_S = 32.184  # IAU 1991 Resolution A4
 GHA_ERROR_ARCMIN_PER_S_UT1 = 0.25  # 360 deg per sidereal day ~ 15 arcsec of GHA per second of UT1
+
+# --- Navigation conventions --------------------------------------------------
+#: A star or planet on the sea horizon is taken in twilight: from when the Sun is about 3° below the horizon
+#: (the sky dark enough for the brighter stars; common practice) to when it is 12° below (the end of nautical
+#: twilight, when the horizon can no longer be made out: the almanac's and the US Naval Observatory's
+#: definition of nautical twilight, from memory).
+SUN_BRIGHT_SKY_DEG = -3.0
+SUN_DARK_HORIZON_DEG = -12.0
+#: An intercept (a position line's distance from the DR) beyond this usually means a blunder or a poor DR:
+#: it should be questioned (common practice).
+LARGE_INTERCEPT_NM = 30.0

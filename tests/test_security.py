@@ -686,7 +686,7 @@ def test_every_file_a_run_reads_is_refused_as_an_output(tmp_path):
 
 
 @pytest.mark.parametrize("arguments, fragment", [
-    (["mark", "sample_sights/class_workings.xlsx", "-o", "{tmp}/m.csv"], "--output {tmp}/m.csv: navred writes XLSX"),
+    (["mark", "sample_sights/class_workings.xlsx", "-o", "{tmp}/m.txt"], "-o {tmp}/m.txt: navred writes XLSX or PDF or CSV"),
     (["mark", "--template", "{tmp}/t.csv"], "--template {tmp}/t.csv: navred writes XLSX"),
     (["workbook", DEMO, "-o", "{tmp}/w.pdf"], "the name must end .xlsx"),
     (["workbook", DEMO, "-o", "{tmp}/w.xlsx", "--gpx", "{tmp}/w.kml"], "--gpx {tmp}/w.kml: navred writes GPX"),

@@ -1337,22 +1337,33 @@ def _print_track_problems(reference, shown: int = 20) -> None:
         typer.echo(f"  ... and {len(problems) - shown} more (every one is on the Training sheet of the workbook, -o)")
 
 
+#: What `navred mark -o FILE` writes, by the file's suffix.
+MARK_OUTPUTS = {".xlsx": "the marking workbook: the class, the mistakes, the fixes, each cadet's progress and a "
+                         "marking sheet per cadet", ".pdf": "each cadet's sight book, printed: progress, fixes and "
+                         "every working with its marks", ".csv": "one row per working (the table --csv prints)"}
+
+
 @app.command("mark")
 def mark_command(
     ctx: typer.Context,
-    workings: list[str] = typer.Argument(None, metavar="WORKINGS...", help="Hand workings: CSV or .xlsx files, a folder of them, or a workbook with a sheet per cadet (see docs/marking.md)."),
-    output: str | None = typer.Option(None, "--output", "-o", help="Workbook to write (.xlsx): the class, the mistakes, the fixes and a marking sheet per cadet."),
-    csv: bool = typer.Option(False, "--csv", help="Print one row per sight as CSV: row, first_wrong_line (empty when all is right), cause, and more."),
-    pdf: str | None = typer.Option(None, "--pdf", help="A printable PDF with one page per cadet."),
-    exam: bool = typer.Option(False, "--exam", help="Exam mode: leave out the expected fix and any reference position."),
-    template: str | None = typer.Option(None, "--template", help="Write an empty hand-working template (.xlsx) to this file and stop."),
+    workings: list[str] = typer.Argument(None, metavar="WORKINGS...", help="Hand workings: CSV or .xlsx files, a folder of them, a workbook with a sheet per cadet, or filled sight-book pages (see docs/marking.md)."),
+    output: list[str] = typer.Option(None, "--output", "-o", help="A file to write; its suffix picks what: " + "; ".join(f"{k} {v}" for k, v in MARK_OUTPUTS.items()) + ". Give -o several times for several files."),
+    csv: bool = typer.Option(False, "--csv", help="Print one row per working as CSV: row, verdict, first_wrong_line (empty when all is right), cause, noticed, and more."),
+    track: str | None = typer.Option(None, "--track", help="The ship's reference track (GPX, NMEA or CSV, as for navred training): each cadet's personal error against it."),
+    exam: bool = typer.Option(False, "--exam", help="Exam mode: leave out navred's fix and any reference position."),
+    template: str | None = typer.Option(None, "--template", help="Write an empty sight book (.xlsx: a page per method) to this file and stop."),
+    rates: str | None = typer.Option(None, "--rates", help=_RATES_HELP),
     dates: str | None = typer.Option(None, "--dates", help=_DATES_HELP),
+    pdf: str | None = typer.Option(None, "--pdf", hidden=True, help="Old name of -o FILE.pdf (kept for one release)."),
 ) -> None:
-    """Mark hand reductions: every line recomputed from the cadet's own earlier lines, the first wrong
-    line named with its probable cause.
+    """Mark hand reductions by every method taught: each line recomputed from the cadet's own earlier
+    lines, the first wrong line named with its probable cause, what should have been noticed, and what
+    a slip costs in miles.
 
-    Example:  navred mark sample_sights/class_workings.xlsx -o marking.xlsx --pdf marking.pdf
+    Example:  navred mark sample_sights/class_workings.xlsx -o marking.xlsx -o sight_books.pdf
     """
+    from pathlib import Path
+
     from ..io.output import check_output, csv_text
 
     with _reported(ctx):
@@ -1363,44 +1374,51 @@ def mark_command(
             typer.echo(f"wrote {write_template(template)}")
             return
         if not workings:
-            raise NavredError("give the workings to mark (files, a folder, or a workbook with a sheet per cadet), "
-                              "or --template FILE for an empty one")
+            raise NavredError("give the workings to mark (files, a folder, a workbook with a sheet per cadet, or "
+                              "filled sight-book pages), or --template FILE for an empty sight book")
+        from ..io.workings import source_name
         from ..jobs.workings import (
+            describe,
             mark_workings,
             marking_csv,
-            unit_text,
             write_marking_pdf,
             write_marking_workbook,
         )
 
         source = _source(workings)
-        inputs = _input_files(workings)
-        if output:
-            check_output(output, inputs, suffixes=(".xlsx",), what="--output")
-        if pdf:
-            check_output(pdf, inputs, suffixes=(".pdf",), what="--pdf")
-        report = mark_workings(source, dates=dates, exam=exam)
+        inputs = _input_files(workings, track, rates)
+        targets = list(output or []) + ([pdf] if pdf else [])
+        for path in targets:
+            check_output(path, inputs, suffixes=tuple(MARK_OUTPUTS), what="-o")
+        report = mark_workings(source, dates=dates, exam=exam, track=track, rates=_ratings(rates, dates))
         _print_notes(report.workings.log)
         if not len(report.rows) and not len(report.workings.log.table):
             _nothing_reduced(0, 0)
         written = []  # the files first: a target that cannot be written stops the run before the long list
-        if output:
-            written.append(write_marking_workbook(report, output))
-        if pdf:
-            written.append(write_marking_pdf(report, pdf))
+        for path in targets:
+            suffix = Path(str(path)).suffix.lower()
+            if suffix == ".xlsx":
+                written.append(write_marking_workbook(report, path))
+            elif suffix == ".pdf":
+                written.append(write_marking_pdf(report, path))
+            else:
+                from ..io.output import atomic_write
+
+                table = csv_text(marking_csv(report))
+                written.append(atomic_write(path, lambda p, text=table: Path(p).write_text(text, encoding="utf-8"),
+                                            inputs=report.workings.log.sources))
         if csv:
             sys.stdout.write(csv_text(marking_csv(report)))
         else:
             typer.echo(report.summary())
             for row in report.rows.to_dict("records"):
-                if row["first_wrong_line"]:
-                    off = row["difference"]
-                    typer.echo(f"{row['cadet']}: row {row['row']} ({row['body']}): first wrong line "
-                               f"{row['first_wrong_line']} (given {row['given']}, expected {row['expected']}"
-                               + (f", off by {off:+.1f}{unit_text(row['unit'])}" if off == off else "") + ")"
-                               + (f": {row['cause']}" if row["cause"] else ": no catalogued cause"))
-            for row in report.workings.log.rejected.itertuples():
-                typer.echo(f"not read: row {row.row} of {row.source}: {row.column}: {row.reason}")
+                if row["verdict"] != "right":
+                    typer.echo(describe(row))
+            for p in report.personal.to_dict("records") if len(report.personal) else []:
+                typer.echo(f"{p['cadet']}: personal error {p['personal error (′)']:+.2f}′ "
+                           f"± {p['95 % interval (′)']:.2f}′ (95 %) against the track, over {int(p['sights'])} sights")
+            for row in report.rejected.itertuples():
+                typer.echo(f"not read: {source_name(row.source)} row {row.row}: {row.column}: {row.reason}")
         for path in written:
             typer.echo(f"wrote {path}", err=csv)
         if not len(report.rows):

@@ -213,8 +213,8 @@ def _blank(value) -> bool:
 
 
 def _text(value) -> str:
-    """A cell as text, the way a person typed it (a whole number without '.0')."""
-    if value is None:
+    """A cell as text, the way a person typed it (a whole number without '.0'; a missing value blank)."""
+    if value is None or (isinstance(value, float) and value != value):
         return ""
     if isinstance(value, float) and value.is_integer():
         return str(int(value))

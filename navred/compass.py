@@ -30,7 +30,8 @@ from .angles import wrap_180, wrap_360
 from .constants import NS_PER_MINUTE
 from .errors import NavredError
 from .events import first_crossings
-from .plan import Track, amplitude_deg, magnitudes, sun_altitude_deg
+from .plan import amplitude_deg, magnitudes, sun_altitude_deg
+from .reckoning import DRTrack
 from .stars import known_bodies
 from .triangle import computed_altitude_azimuth
 
@@ -46,7 +47,7 @@ def gyro_error_deg(gyro_bearing_deg: ArrayLike, true_bearing_deg: ArrayLike) -> 
     return wrap_180(np.asarray(gyro_bearing_deg, dtype=float) - np.asarray(true_bearing_deg, dtype=float))
 
 
-def azimuth_table(bodies: ArrayLike, track: Track, start: object, end: object, step_minutes: float
+def azimuth_table(bodies: ArrayLike, track: DRTrack, start: object, end: object, step_minutes: float
                   ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """(instants datetime64[ns] (n,), Zn (bodies, n), Hc (bodies, n)) of ``bodies`` from the DR along
     ``track`` every ``step_minutes`` from ``start`` to ``end`` (both included when on the grid)."""
@@ -83,7 +84,7 @@ class Amplitudes:
 HORIZON_WINDOW_MINUTES, HORIZON_STEP_MINUTES = 120, 10
 
 
-def _horizon_crossing(track: Track, near: np.ndarray, rising: bool) -> np.ndarray:
+def _horizon_crossing(track: DRTrack, near: np.ndarray, rising: bool) -> np.ndarray:
     """The instant the Sun's centre crosses true altitude 0° within two hours of each instant (NaT where none)."""
     out = np.full(near.shape, np.datetime64("NaT"), dtype="datetime64[ns]")
     given = ~np.isnat(near)
@@ -122,7 +123,7 @@ def amplitudes(events: dict) -> Amplitudes:
                       np.asarray(wrap_360(90.0 - out["rising"])), np.asarray(wrap_360(270.0 + out["setting"])))
 
 
-def twilight_bearing_bodies(utc64: ArrayLike, track: Track) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def twilight_bearing_bodies(utc64: ArrayLike, track: DRTrack) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """For each instant: the brightest star or planet between :data:`BEARING_ALTITUDES_DEG` (magnitude
     :data:`BEARING_MAGNITUDE` or brighter), its Zn and Hc; '' and NaN where none."""
     when = np.atleast_1d(np.asarray(utc64, dtype="datetime64[ns]"))

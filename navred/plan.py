@@ -21,7 +21,7 @@ from .constants import ARCMIN_PER_DEG, MINUTES_PER_DAY, NS_PER_HOUR, NS_PER_MINU
 from .corrections import dip_angle_arcmin, refraction_angle_arcmin
 from .errors import NavredError, api_boundary
 from .events import first_crossings
-from .sailings import rhumb_destination
+from .reckoning import DRTrack, steady_track
 from .stars import SOLAR_SYSTEM, known_bodies, star_table
 from .timescales import utc_jd_to_datetime64, utc_julian_date
 from .triangle import computed_altitude_azimuth
@@ -34,25 +34,6 @@ CIVIL_DEG, NAUTICAL_DEG = -6.0, -12.0
 SAMPLE_MINUTES = 10
 EVENT_KEYS = ("nautical_dawn", "civil_dawn", "sunrise", "meridian_passage", "sunset", "civil_dusk",
               "nautical_dusk")
-
-
-@dataclass(frozen=True)
-class Track:
-    """A DR track: a start position and time, and a course and speed (both may be zero)."""
-
-    lat_deg: float
-    lon_deg: float
-    start: np.datetime64
-    course_deg: float = 0.0
-    speed_kn: float = 0.0
-
-    def position(self, utc64):
-        """DR latitude and longitude (degrees) at the instants ``utc64`` (datetime64 array)."""
-        hours = (np.asarray(utc64, dtype="datetime64[ns]") - self.start).astype(np.int64) / NS_PER_HOUR
-        # the rhumb line steered, on the WGS 84 ellipsoid (hours before the start run it backwards)
-        return rhumb_destination(self.lat_deg, self.lon_deg, np.where(hours >= 0, self.course_deg,
-                                                                      self.course_deg + 180.0),
-                                 np.abs(hours) * self.speed_kn)
 
 
 def as_datetime64(value) -> np.datetime64:
@@ -73,7 +54,7 @@ def _local_midnight(date, lon_deg: float) -> np.datetime64:
     return day - np.timedelta64(int(round(lon_deg / 15.0 * NS_PER_HOUR)), "ns")
 
 
-def sun_altitude_deg(utc64: object, track: Track) -> np.ndarray:
+def sun_altitude_deg(utc64: object, track: DRTrack) -> np.ndarray:
     """Geocentric altitude (degrees) of the Sun's centre from the DR at the instants."""
     when = np.asarray(utc64, dtype="datetime64[ns]")
     lat, lon = track.position(when)
@@ -82,7 +63,7 @@ def sun_altitude_deg(utc64: object, track: Track) -> np.ndarray:
     return np.asarray(hc).reshape(when.shape)
 
 
-def _sun_crossings(day_starts: np.ndarray, track: Track, thresholds_deg: dict) -> tuple[dict, dict]:
+def _sun_crossings(day_starts: np.ndarray, track: DRTrack, thresholds_deg: dict) -> tuple[dict, dict]:
     """For each day and threshold: the first rising and the first setting of the Sun's centre through it
     (NaT if none), by the one event search (:func:`navred.events.first_crossings`) on a grid every
     :data:`SAMPLE_MINUTES` of the day."""
@@ -104,7 +85,7 @@ def _sun_crossings(day_starts: np.ndarray, track: Track, thresholds_deg: dict) -
 PASSAGE_WINDOW_HOURS, PASSAGE_STEP_HOURS = 26, 2
 
 
-def meridian_passage_utc(body: str, day_starts: object, track: Track, lower: bool = False) -> np.ndarray:
+def meridian_passage_utc(body: str, day_starts: object, track: DRTrack, lower: bool = False) -> np.ndarray:
     """UTC of a body's upper (or lower) meridian passage: the first after each day start (datetime64 array).
 
     The instant the local hour angle at the moving DR passes 0° (180° for the lower passage), found by
@@ -172,7 +153,7 @@ def voyage_events(first_date: object, days: int, lat_deg: float, lon_deg: float,
     if not eye.low <= eye_height_m <= eye.high:
         raise NavredError(f"height of eye {eye_height_m!r} m is outside {eye.low:g}-{eye.high:g} m")
     start = _local_midnight(first_date, lon_deg)
-    track = Track(lat_deg, lon_deg, start, course_deg, speed_kn)
+    track = steady_track(lat_deg, lon_deg, start, course_deg, speed_kn)
     # each day starts at local midnight at that day's DR longitude (near enough: iterate once)
     day_starts = start + np.arange(days) * np.timedelta64(24 * NS_PER_HOUR, "ns")
     _, lons = track.position(day_starts)
@@ -198,7 +179,7 @@ def noon_sight(date: object, lat_deg: float, lon_deg: float, course_deg: float =
     return body_meridian_passage("Sun", events["meridian_passage"][0], events["track"])
 
 
-def body_meridian_passage(body: str, near_utc: object, track: Track) -> dict:
+def body_meridian_passage(body: str, near_utc: object, track: DRTrack) -> dict:
     """A body's upper meridian passage nearest ``near_utc`` at the DR, and its altitude then."""
     start = np.asarray([as_datetime64(near_utc) - np.timedelta64(12 * NS_PER_HOUR, "ns")])
     utc = meridian_passage_utc(body, start, track)[0]
@@ -459,7 +440,7 @@ def daytime_fix_windows(first_date: object, days: int, lat_deg: float, lon_deg: 
     start = _local_midnight(first_date, lon_deg)
     step = np.timedelta64(int(step_minutes * NS_PER_MINUTE), "ns")
     grid = start + np.arange(int(days * MINUTES_PER_DAY / step_minutes) + 1) * step
-    track = Track(lat_deg, lon_deg, start, course_deg, speed_kn)
+    track = steady_track(lat_deg, lon_deg, start, course_deg, speed_kn)
     lat, lon = track.position(grid)
     bodies = ["Moon", "Venus", "Jupiter", "Mars"]
     names = np.array(["Sun"] + bodies, dtype=object)

@@ -17,7 +17,8 @@ Core code: numpy only; instants are int64 nanoseconds of UTC (datetime64[ns] vie
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+import functools
+from dataclasses import dataclass, field
 
 import numpy as np
 from numpy.typing import ArrayLike
@@ -31,6 +32,7 @@ from .sailings import (
     meridian_arc_m,
     rhumb_destination,
     rhumb_inverse,
+    rhumb_track_through,
 )
 from .stats import normal_quantile
 from .triangle import destination
@@ -62,26 +64,57 @@ def course_speed(north_kn: ArrayLike, east_kn: ArrayLike) -> tuple[np.ndarray, n
     return wrap_360(np.degrees(np.arctan2(e, n))), np.hypot(n, e)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class DRTrack:
-    """A DR track as knots (see the module's notes), in time order.
+    """A DR track, the one representation of the ship's run for the fix, the plan and the day's work.
 
-    ``knot_ns``: the instants; ``north_kn``/``east_kn``: the velocity over the ground from each knot to the
-    next (the last runs on without end); ``depart_lat``/``depart_lon``: the position at each knot, after a
-    restart there; ``arrive_lat``/``arrive_lon``: the position at each knot carried from the knot before
-    (NaN at the first knot of the track); ``origin``: the knot of the known position each knot is carried
-    from (-1 before the first).
+    ``knot_ns`` (int64 ns UTC): the knots, every instant at which the velocity over the ground changes
+    or a position is known; ``north_kn``/``east_kn``: the velocity over the ground from each knot to the
+    next (the last runs on without end). A velocity of NaN keeps the one in force before it (before any,
+    the first given after it). Knots need not be in time order; a track may be a batch, its knots
+    along the last axis (a running fix's sights and its fix time, for every fix of a batch at once).
+
+    Positions come two ways:
+
+    - from the track's own known positions (``known_ns``, ``known_lat``, ``known_lon``, each at a knot:
+      the departure, each fix), each restarting the DR: :meth:`positions` at any instants, for a single
+      track (:func:`dr_track` builds one from a log's changes, :func:`steady_track` one of a single course
+      and speed). Before its first known position a track has no DR, unless ``carry_back`` (a plan's track,
+      carried back along its first velocity). ``known_label`` and ``known_cov_nm2`` name each known
+      position and give its covariance (north-east nm², zero for a position entered); ``through_water``
+      is the same DR without any current, against which the current is found;
+    - through a position given at one knot, for a batch: :meth:`through` (the running fix carries its
+      trial position back to each sight), :meth:`run_nm`.
     """
 
     knot_ns: np.ndarray
     north_kn: np.ndarray
     east_kn: np.ndarray
-    depart_lat: np.ndarray
-    depart_lon: np.ndarray
-    arrive_lat: np.ndarray
-    arrive_lon: np.ndarray
-    origin: np.ndarray
-    restart: np.ndarray
+    known_ns: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.int64))
+    known_lat: np.ndarray = field(default_factory=lambda: np.zeros(0))
+    known_lon: np.ndarray = field(default_factory=lambda: np.zeros(0))
+    known_label: tuple[str, ...] = ()
+    known_cov_nm2: np.ndarray | None = None
+    carry_back: bool = False
+    through_water: DRTrack | None = None
+
+    # --- positions from the track's own known positions (a single track) -------------------------------
+
+    @functools.cached_property
+    def _anchored(self) -> dict[str, np.ndarray]:
+        """The position at every knot, carried from the known positions (see :func:`_carried_from_known`)."""
+        return _carried_from_known(self.knot_ns, self.north_kn, self.east_kn, self.known_ns, self.known_lat,
+                                   self.known_lon)
+
+    @property
+    def restart(self) -> np.ndarray:
+        """True at each knot where a known position restarts the DR."""
+        return self._anchored["restart"]
+
+    @property
+    def origin(self) -> np.ndarray:
+        """The knot of the known position each knot is carried from (-1 before the first)."""
+        return self._anchored["origin"]
 
     def positions(self, utc_ns: ArrayLike, *, before_restart: bool = False) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         """The DR (latitude, longitude, degrees) at the instants, and the knot of the known position it was
@@ -89,27 +122,33 @@ class DRTrack:
         known position, give the DR carried up to it rather than the position itself (to compare a fix
         with the DR it restarts). A DR that would be carried past a pole has no position: NaN with its origin
         (see :meth:`past_pole`)."""
+        a = self._anchored
         when = np.asarray(utc_ns, dtype=np.int64)
         k = np.searchsorted(self.knot_ns, when, side="right") - 1
-        valid = k >= 0
-        kk = np.where(valid, k, 0)
-        at_knot = valid & (self.knot_ns[kk] == when)
-        use_arrival = at_knot & before_restart & self.restart[kk]
+        valid = (k >= 0) | self.carry_back
+        kk = np.maximum(k, 0)
+        at_knot = (k >= 0) & (self.knot_ns[kk] == when)
+        use_arrival = at_knot & before_restart & a["restart"][kk]
         hours = np.where(valid, (when - self.knot_ns[kk]) / NS_PER_HOUR, 0.0)
         course, speed = course_speed(self.north_kn[kk], self.east_kn[kk])
-        lat, lon = rhumb_destination(self.depart_lat[kk], self.depart_lon[kk], course, speed * hours)
+        lat, lon = rhumb_destination(a["depart_lat"][kk], a["depart_lon"][kk], course, speed * hours)
         with np.errstate(invalid="ignore"):
-            past_pole = np.abs(meridian_arc_m(np.nan_to_num(self.depart_lat[kk]))
+            past_pole = np.abs(meridian_arc_m(np.nan_to_num(a["depart_lat"][kk]))
                                + self.north_kn[kk] * hours * METRES_PER_NM) > POLE_ARC_M
         lat = np.where(past_pole, np.nan, lat)
         lon = np.where(past_pole, np.nan, lon)
-        lat = np.where(use_arrival, self.arrive_lat[kk], lat)
-        lon = np.where(use_arrival, self.arrive_lon[kk], lon)
-        origin = np.where(use_arrival, self.origin[np.maximum(kk - 1, 0)], self.origin[kk])
+        lat = np.where(use_arrival, a["arrive_lat"][kk], lat)
+        lon = np.where(use_arrival, a["arrive_lon"][kk], lon)
+        origin = np.where(use_arrival, a["origin"][np.maximum(kk - 1, 0)], a["origin"][kk])
         origin = np.where(valid & (kk - use_arrival >= 0), origin, -1)
         lat = np.where(origin >= 0, lat, np.nan)
         lon = np.where(origin >= 0, lon, np.nan)
         return lat, lon, origin
+
+    def position(self, utc: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
+        """The DR (latitude, longitude, degrees) at instants given as datetime64 (the planner's form)."""
+        lat, lon, _ = self.positions(np.asarray(utc, dtype="datetime64[ns]").astype(np.int64))
+        return lat, lon
 
     def past_pole(self, utc_ns: ArrayLike, **kwargs) -> np.ndarray:
         """Where the DR at the instants would be carried past a pole (it has a known position to come from, but
@@ -117,17 +156,97 @@ class DRTrack:
         lat, _, origin = self.positions(utc_ns, **kwargs)
         return (origin >= 0) & ~np.isfinite(lat)
 
+    def known_index(self, knot: int) -> int:
+        """The known position (its index) that restarts the track at a knot."""
+        return int(np.searchsorted(self.known_ns, self.knot_ns[int(knot)]))
+
+    # --- positions through one given at a knot (a batch) --------------------------------------------------
+
+    @functools.cached_property
+    def _legs(self):
+        """The legs between consecutive knots in time order (worked out once): the order of the knots, the
+        northing, course and length of each leg."""
+        order = np.argsort(self.knot_ns, axis=-1, kind="stable")
+        times = np.take_along_axis(self.knot_ns, order, axis=-1)
+        given = np.isfinite(self.north_kn) & np.isfinite(self.east_kn)
+        valid = np.take_along_axis(given, order, axis=-1)
+        north = _fill_forward(np.take_along_axis(np.where(given, self.north_kn, 0.0), order, axis=-1), valid)
+        east = _fill_forward(np.take_along_axis(np.where(given, self.east_kn, 0.0), order, axis=-1), valid)
+        hours = np.diff(times, axis=-1) / NS_PER_HOUR
+        leg_north, leg_east = north[..., :-1] * hours, east[..., :-1] * hours
+        return order, leg_north, np.degrees(np.arctan2(leg_east, leg_north)), np.hypot(leg_north, leg_east)
+
+    @functools.cached_property
+    def _back(self) -> np.ndarray:
+        """Where each knot stands in time order: undoes the legs' ordering."""
+        return np.argsort(self._legs[0], axis=-1, kind="stable")
+
+    def through(self, lat_deg: ArrayLike, lon_deg: ArrayLike, at: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
+        """The position at every knot (..., K), in the knots' own order, when the ship is at (lat, lon) (...,) at
+        knot ``at`` (...,): the track of rhumb lines on the WGS 84 ellipsoid sailed on and back from there."""
+        order, north, course, distance = self._legs
+        at_time = np.take_along_axis(self._back, np.asarray(at, dtype=np.intp)[..., None], axis=-1)[..., 0]
+        lat = np.broadcast_to(np.asarray(lat_deg, dtype=float), at_time.shape)
+        lon = np.broadcast_to(np.asarray(lon_deg, dtype=float), at_time.shape)
+        if not distance.any():  # no run (knots at one instant, or no velocity): every knot is where the ship is
+            shape = self.knot_ns.shape
+            return np.array(np.broadcast_to(lat[..., None], shape)), np.array(np.broadcast_to(lon[..., None], shape))
+        lat_all, lon_all = rhumb_track_through(lat, lon, at_time, north, course, distance)
+        return np.take_along_axis(lat_all, self._back, axis=-1), np.take_along_axis(lon_all, self._back, axis=-1)
+
+    def run_nm(self, at: ArrayLike) -> np.ndarray:
+        """Miles run along the track between each knot and knot ``at`` (..., K), in the knots' own order."""
+        _, _, _, distance = self._legs
+        at_time = np.take_along_axis(self._back, np.asarray(at, dtype=np.intp)[..., None], axis=-1)
+        run = np.concatenate([np.zeros(distance.shape[:-1] + (1,)), np.cumsum(distance, axis=-1)], axis=-1)
+        from_at = np.abs(run - np.take_along_axis(run, at_time, axis=-1))
+        return np.take_along_axis(from_at, self._back, axis=-1)
+
+    def take(self, rows: np.ndarray) -> DRTrack:
+        """The tracks of some rows of a batch, keeping what has been worked out already."""
+        if rows.size == self.knot_ns.shape[0] and np.array_equal(rows, np.arange(rows.size)):
+            return self
+        part = DRTrack(self.knot_ns[rows], self.north_kn[rows], self.east_kn[rows])
+        for name in ("_legs", "_back"):
+            if name in self.__dict__:
+                value = self.__dict__[name]
+                part.__dict__[name] = tuple(v[rows] for v in value) if isinstance(value, tuple) else value[rows]
+        return part
+
+
+def _fill_forward(values: np.ndarray, valid: np.ndarray) -> np.ndarray:
+    """Along the last axis, each invalid element takes the last valid one before it (or, if none, the first after)."""
+    n = values.shape[-1]
+    index = np.where(valid, np.arange(n), -1)
+    before = np.maximum.accumulate(index, axis=-1)
+    after = np.flip(np.minimum.accumulate(np.flip(np.where(valid, np.arange(n), n), axis=-1), axis=-1), axis=-1)
+    chosen = np.where(before >= 0, before, np.minimum(after, n - 1))
+    return np.take_along_axis(values, chosen, axis=-1)
+
+
+def steady_track(lat_deg: float, lon_deg: float, start: object, course_deg: float = 0.0,
+                 speed_kn: float = 0.0) -> DRTrack:
+    """The DR of a ship at (lat, lon) at ``start`` (datetime64) on one course and speed (both may be zero),
+    carried back along the same rhumb line before the start: a plan's track."""
+    start_ns = np.array([np.datetime64(start, "ns").astype(np.int64)])
+    north, east = velocity_kn(course_deg, speed_kn)
+    return DRTrack(start_ns, np.array([float(north)]), np.array([float(east)]), start_ns,
+                   np.array([float(lat_deg)]), np.array([float(lon_deg)]), carry_back=True)
+
 
 def dr_track(change_ns: ArrayLike, course_deg: ArrayLike, speed_kn: ArrayLike, known_ns: ArrayLike,
              known_lat: ArrayLike, known_lon: ArrayLike, *, set_deg: ArrayLike = 0.0,
-             drift_kn: ArrayLike = 0.0) -> DRTrack:
+             drift_kn: ArrayLike = 0.0, known_label: tuple[str, ...] = (), known_cov_nm2: ArrayLike | None = None,
+             through_water: DRTrack | None = None) -> DRTrack:
     """Build a DR track from changes of course and speed (and current) and known positions.
 
     ``change_ns`` (int64 ns UTC), ``course_deg``, ``speed_kn``: each change is in force from its instant until
     the next (a NaN course or speed keeps the one before; before the first change the ship lies stopped);
     ``set_deg``/``drift_kn``: a current from that instant on (NaN keeps the one before; 0 drift ends it). ``known_ns``,
-    ``known_lat``, ``known_lon``: the departure and each fix, each restarting the DR. Changes and known
-    positions at one instant act together (the known position holds at that instant).
+    ``known_lat``, ``known_lon``: the departure and each fix, each restarting the DR, with their
+    ``known_label`` and ``known_cov_nm2`` if wanted (kept in time order with them). Changes and known
+    positions at one instant act together (the known position holds at that instant). ``through_water``:
+    the same DR without its currents, to keep beside it.
     """
     change = np.atleast_1d(np.asarray(change_ns, dtype=np.int64))
     course, speed, set_, drift = np.broadcast_arrays(*(np.atleast_1d(np.asarray(v, dtype=float)) for v in
@@ -143,7 +262,6 @@ def dr_track(change_ns: ArrayLike, course_deg: ArrayLike, speed_kn: ArrayLike, k
     if np.any(speed[np.isfinite(speed)] < 0) or np.any(drift[np.isfinite(drift)] < 0):
         raise ReckoningError("a speed or a drift is negative: give the course it is made on instead")
     knots = np.unique(np.concatenate([change, known]))
-    n = knots.size
     # the velocity through the water in force at each knot: the last change at or before it (NaN keeps the one
     # before, so carry each column's last finite value forward)
     order = np.argsort(change, kind="stable")
@@ -162,6 +280,22 @@ def dr_track(change_ns: ArrayLike, course_deg: ArrayLike, speed_kn: ArrayLike, k
     wn, we = velocity_kn(c_knot, s_knot)
     cn, ce = velocity_kn(current_set, current_drift)
     vn, ve = wn + cn, we + ce
+    in_time = np.argsort(known, kind="stable")
+    labels = tuple(known_label[i] for i in in_time.tolist()) if len(known_label) else ()
+    covariances = None if known_cov_nm2 is None else np.asarray(known_cov_nm2, dtype=float)[in_time]
+    return DRTrack(knots, vn, ve, known[in_time], np.array(k_lat[in_time]), np.array(k_lon[in_time]), labels,
+                   covariances, through_water=through_water)
+
+
+def _carried_from_known(knots: np.ndarray, vn: np.ndarray, ve: np.ndarray, known: np.ndarray, k_lat: np.ndarray,
+                        k_lon: np.ndarray) -> dict[str, np.ndarray]:
+    """The position at every knot of a track (knots in time order), carried from its known positions:
+    ``depart_lat``/``depart_lon``, the position at each knot after a restart there; ``arrive_lat``/
+    ``arrive_lon``, the position at each knot carried from the knot before (NaN at the first knot of the
+    track); ``origin``, the knot of the known position each knot is carried from (-1 before the first);
+    ``restart``, True where a known position restarts the DR. Every knot of a track, through every restart,
+    is one segmented cumulative sum (no loop over legs or positions)."""
+    n = knots.size
     # known positions at the knots (the last given at an instant holds)
     slot = np.searchsorted(knots, known)
     restart = np.zeros(n, dtype=bool)
@@ -207,7 +341,10 @@ def dr_track(change_ns: ArrayLike, course_deg: ArrayLike, speed_kn: ArrayLike, k
     arrive_lon = np.full(n, np.nan)
     arrive_lon[1:] = np.where(has[:-1], wrap_180(r_lon[o[:-1]] + turned[1:] - turned[o[:-1]]), np.nan)
     arrive_lon = np.where(np.isfinite(arrive_lat), arrive_lon, np.nan)
-    return DRTrack(knots, vn, ve, lat, lon, arrive_lat, arrive_lon, origin, restart)
+    return {"depart_lat": lat, "depart_lon": lon, "arrive_lat": arrive_lat, "arrive_lon": arrive_lon,
+            "origin": origin, "restart": restart}
+
+
 
 
 def estimated_position(dr_lat_deg: ArrayLike, dr_lon_deg: ArrayLike, intercept_nm: ArrayLike,
@@ -312,5 +449,5 @@ def days_run(noon_ns: ArrayLike, lat_deg: ArrayLike, lon_deg: ArrayLike) -> Days
     return DaysRun(distance, course, speed, hours)
 
 
-__all__ = ["DRTrack", "dr_track", "estimated_position", "SetDrift", "set_and_drift", "ship_noon_ns",
+__all__ = ["DRTrack", "dr_track", "steady_track", "estimated_position", "SetDrift", "set_and_drift", "ship_noon_ns",
            "zone_description_h", "DaysRun", "days_run", "velocity_kn", "course_speed", "ReckoningError"]

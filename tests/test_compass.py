@@ -19,7 +19,8 @@ from navred.compass import (
 )
 from navred.errors import NavredError
 from navred.io.cautions import CAUTION
-from navred.plan import Track, voyage_events
+from navred.plan import voyage_events
+from navred.reckoning import steady_track
 from tests.conftest import angle_diff_deg, frozen
 
 BOOK = "sample_sights/compass_book.csv"
@@ -42,7 +43,7 @@ def skyfield_altaz(ts, eph, body, when, lat, lon):
 
 def test_the_azimuth_table_matches_skyfield(ts, eph):
     """Reference: skyfield's topocentric azimuth and airless altitude of the Sun (a fixed position): within 0.1°."""
-    track = Track(36.0, -20.0, np.datetime64("2025-06-10T00:00", "ns"))
+    track = steady_track(36.0, -20.0, np.datetime64("2025-06-10T00:00", "ns"))
     times, zn, hc = azimuth_table(["Sun"], track, "2025-06-10T07:00", "2025-06-10T19:00", 20)
     assert times.size == 37 and zn.shape == (1, 37)
     alt, az = skyfield_altaz(ts, eph, "sun", times, 36.0, -20.0)
@@ -93,7 +94,7 @@ def test_amplitudes_against_skyfield_and_the_formula(ts, eph, lat, lon, date):
 
 
 def test_a_bright_low_body_is_offered_at_twilight():
-    track = Track(36.0, -20.0, np.datetime64("2025-06-10T00:00", "ns"))
+    track = steady_track(36.0, -20.0, np.datetime64("2025-06-10T00:00", "ns"))
     body, zn, hc = twilight_bearing_bodies(np.array(["2025-06-10T21:40"], dtype="datetime64[ns]"), track)
     assert body[0] and 3.0 <= hc[0] <= 25.0
 

@@ -141,8 +141,8 @@ def test_carrying_the_current_brings_the_dr_to_the_next_fix(steady):
     # set and drift are the whole current either way (found against the DR through the water)
     assert np.allclose(plain.set_drift["drift (kn)"], carried.set_drift["drift (kn)"])
     track = carried.tracks[next(iter(carried.tracks))]
-    lat, lon, _ = track.kept.positions(track.known_ns[2:], before_restart=True)
-    water_lat, water_lon, _ = track.water.positions(track.known_ns[2:], before_restart=True)
+    lat, lon, _ = track.positions(track.known_ns[2:], before_restart=True)
+    water_lat, water_lon, _ = track.through_water.positions(track.known_ns[2:], before_restart=True)
     for k in range(lat.size):
         kept = GEOD.Inverse(lat[k], lon[k], track.known_lat[k + 2], track.known_lon[k + 2])["s12"] / NM
         water = GEOD.Inverse(water_lat[k], water_lon[k], track.known_lat[k + 2], track.known_lon[k + 2])["s12"] / NM

@@ -18,7 +18,7 @@ from typer.testing import CliRunner
 
 from navred.cli import app
 from navred.io.cautions import CAUTION
-from navred.plan import Track
+from navred.reckoning import steady_track
 from navred.triangle import destination
 from tests.conftest import ARCMIN, angle_diff_deg, frozen, sky_star, skyfield_sight
 
@@ -252,7 +252,7 @@ def test_the_pdf_text_is_extractable_with_its_symbols(paper):
 
 def truth(when) -> tuple[float, float]:
     """The ship's true position: her DR (the track the paper was planned on) moved 3 nm on 045°."""
-    track = Track(START_LAT, START_LON, np.datetime64(FIRST, "ns") - np.timedelta64(int(round(-START_LON / 15 * 3600)),
+    track = steady_track(START_LAT, START_LON, np.datetime64(FIRST, "ns") - np.timedelta64(int(round(-START_LON / 15 * 3600)),
                                                                                    "s"), COURSE, SPEED)
     lat, lon = track.position(np.array([np.datetime64(when, "ns")]))
     north, east = destination(lat[0], lon[0], TRUTH_BEARING, TRUTH_OFFSET_NM)

@@ -11,7 +11,6 @@ import pytest
 
 from navred.errors import NavredError
 from navred.plan import (
-    Track,
     amplitude_deg,
     best_set,
     body_meridian_passage,
@@ -26,6 +25,7 @@ from navred.plan import (
     twilight_plans,
     visible_horizon_altitude_deg,
 )
+from navred.reckoning import steady_track
 from tests.conftest import angle_diff_deg, frozen, sky_target
 
 PLACES = [(0.0, -30.0), (20.0, 150.0), (-35.0, 18.0), (45.0, -20.5), (55.0, 5.0), (60.0, -3.0), (-60.0, -65.0)]
@@ -116,7 +116,7 @@ def test_moving_vessel_events_follow_the_track(ts, eph):
     from skyfield import almanac
     from skyfield.api import wgs84
 
-    track = Track(45.0, -20.0, np.datetime64("2024-09-15T00:00") + np.timedelta64(80, "m"), 270.0, 20.0)
+    track = steady_track(45.0, -20.0, np.datetime64("2024-09-15T00:00") + np.timedelta64(80, "m"), 270.0, 20.0)
     lat, lon = track.position(np.array([moving["sunset"]]))
     t0, t1 = _window(ts, "2024-09-15", float(lon[0]))
     times, states = almanac.find_discrete(t0, t1, almanac.sunrise_sunset(eph, wgs84.latlon(float(lat[0]), float(lon[0]))))
@@ -141,7 +141,7 @@ def test_noon_altitude_and_star_meridian_passage(ts, eph):
     alt, az, _ = (eph["earth"] + wgs84.latlon(noon["lat_deg"], noon["lon_deg"])).at(t).observe(eph["sun"]).apparent().altaz()
     assert noon["hc_deg"] == pytest.approx(alt.degrees, abs=0.05)  # geocentric vs topocentric: 0.15′
     assert noon["bearing"] == "S" and abs(az.degrees - 180.0) < 0.1
-    vega = body_meridian_passage("Vega", np.datetime64("2024-09-15T21:00"), Track(45.0, -20.0, np.datetime64("2024-09-15T00:00")))
+    vega = body_meridian_passage("Vega", np.datetime64("2024-09-15T21:00"), steady_track(45.0, -20.0, np.datetime64("2024-09-15T00:00")))
     t = ts.from_datetime(pd.Timestamp(vega["utc"]).round("us").tz_localize("UTC").to_pydatetime())
     alt, az, _ = (eph["earth"] + wgs84.latlon(45.0, -20.0)).at(t).observe(sky_target(ts, eph, "Vega")).apparent().altaz()
     assert abs(angle_diff_deg(az.degrees, 0.0 if vega["bearing"] == "N" else 180.0)) < 0.05

@@ -479,7 +479,7 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
     arrow_nm = 0.06 * max(width_nm, height_nm) / 1.0  # an arrow this long stands for one knot
     scale = math.sqrt(chi_square_2_quantile(0.95))  # chi-square(2) 95 %
     if track is not None:
-        for lat, lon, label, cov in zip(track.known_lat, track.known_lon, track.known_label, track.known_cov):
+        for lat, lon, label, cov in zip(track.known_lat, track.known_lon, track.known_label, track.known_cov_nm2):
             fx, fy = (float(v) for v in page(*plane(lat, lon)))
             if label.startswith("fix "):
                 # the ellipse where it shows (a fleet's tiny ellipses on a chart of a thousand miles are dots)

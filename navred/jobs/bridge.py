@@ -20,7 +20,6 @@ from ..plan import (
     EVENT_KEYS,
     DayWindow,
     SightPlan,
-    Track,
     as_datetime64,
     body_meridian_passage,
     daytime_fix_windows,
@@ -28,7 +27,7 @@ from ..plan import (
     twilight_plans,
 )
 from ..presets import SightPresets, preset_hs_deg, sight_presets
-from ..reckoning import zone_description_h
+from ..reckoning import DRTrack, zone_description_h
 
 
 def signed(value: float, decimals: int = 1) -> str:
@@ -117,7 +116,7 @@ def zone_for(lon_deg: float, given: float | None) -> float:
     return float(given) if given is not None else float(zone_description_h(lon_deg))
 
 
-def planned_rounds(events: dict, plans: list[SightPlan], track: Track, *, eye_height_m: float,
+def planned_rounds(events: dict, plans: list[SightPlan], track: DRTrack, *, eye_height_m: float,
                    index_error_arcmin: float, zone_given: float | None, count: int, min_alt_deg: float,
                    max_alt_deg: float, label: str | None = None) -> list[PlannedTwilight]:
     """Each plan again at its time rounded to the whole minute (a watch works to the minute), with its bodies'
@@ -146,7 +145,7 @@ def planned_rounds(events: dict, plans: list[SightPlan], track: Track, *, eye_he
     return rounds
 
 
-def noon_suns(events: dict, track: Track, *, eye_height_m: float, index_error_arcmin: float,
+def noon_suns(events: dict, track: DRTrack, *, eye_height_m: float, index_error_arcmin: float,
               zone_given: float | None) -> list[NoonSun]:
     """The Sun's meridian passage at the moving DR on each local date, and the lower limb's Hs to preset."""
     from ..almanac import places

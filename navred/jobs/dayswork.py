@@ -50,21 +50,6 @@ TRACK_STEP_HOURS = 1.0
 
 
 @dataclass
-class VesselTrack:
-    """One vessel's DR: the track kept (with currents), the track through the water (for set and drift),
-    and the known positions that restart them, in time order."""
-
-    vessel: str
-    kept: DRTrack
-    water: DRTrack
-    known_ns: np.ndarray
-    known_lat: np.ndarray
-    known_lon: np.ndarray
-    known_label: list[str]
-    known_cov: np.ndarray  # (k, 2, 2) nm², north-east; zero for an entry's position
-
-
-@dataclass
 class DaysWork:
     """The day's work of a voyage: set and drift at each fix, estimated positions, noons, the DR track."""
 
@@ -72,7 +57,8 @@ class DaysWork:
     estimated: pd.DataFrame
     noons: pd.DataFrame
     track_points: pd.DataFrame
-    tracks: dict[str, VesselTrack] = field(default_factory=dict)
+    #: each vessel's DR (with its known positions, and its DR through the water beside it)
+    tracks: dict[str, DRTrack] = field(default_factory=dict)
     carry_current: bool = False
 
     def of_vessel(self, vessel: str) -> tuple[pd.DataFrame, pd.DataFrame, pd.DataFrame, pd.DataFrame]:
@@ -136,7 +122,7 @@ def _entry_vessels(voyage) -> np.ndarray:
     return names
 
 
-def vessel_tracks(voyage, *, carry_current: bool = False) -> dict[str, VesselTrack]:
+def vessel_tracks(voyage, *, carry_current: bool = False) -> dict[str, DRTrack]:
     """Every vessel's DR track, restarted at its departure, its position entries and its fixes."""
     fix_vessel = _fix_vessels(voyage)
     entries = voyage.log.entries
@@ -167,7 +153,7 @@ def vessel_tracks(voyage, *, carry_current: bool = False) -> dict[str, VesselTra
         labels = [k[3] for k in known]
         covs = np.stack([k[4] for k in known])
         when, course, speed, set_, drift = _changes(voyage, vessel)
-        water = dr_track(when, course, speed, k_ns, k_lat, k_lon)
+        water = dr_track(when, course, speed, k_ns, k_lat, k_lon, known_label=tuple(labels), known_cov_nm2=covs)
         kept_when, kept_set, kept_drift = when, set_, drift
         kept_course, kept_speed = course, speed
         if carry_current:
@@ -178,9 +164,9 @@ def vessel_tracks(voyage, *, carry_current: bool = False) -> dict[str, VesselTra
             kept_speed = np.concatenate([speed, np.full(carry.sum(), np.nan)])
             kept_set = np.concatenate([set_, found[0][carry]])
             kept_drift = np.concatenate([drift, found[1][carry]])
-        kept = dr_track(kept_when, kept_course, kept_speed, k_ns, k_lat, k_lon, set_deg=kept_set,
-                        drift_kn=kept_drift)
-        tracks[vessel] = VesselTrack(vessel, kept, water, k_ns, k_lat, k_lon, labels, covs)
+        tracks[vessel] = dr_track(kept_when, kept_course, kept_speed, k_ns, k_lat, k_lon, set_deg=kept_set,
+                                  drift_kn=kept_drift, known_label=tuple(labels), known_cov_nm2=covs,
+                                  through_water=water)
     return tracks
 
 
@@ -254,9 +240,9 @@ def _stamp(ns) -> str:
     return _stamps([int(ns)])[0]
 
 
-def _set_drift_rows(vessel: str, track: VesselTrack) -> list[dict]:
-    _, _, detail = _set_drift_at_known(track.water, track.known_ns, track.known_lat, track.known_lon,
-                                       track.known_cov)
+def _set_drift_rows(vessel: str, track: DRTrack) -> list[dict]:
+    _, _, detail = _set_drift_at_known(track.through_water, track.known_ns, track.known_lat, track.known_lon,
+                                       track.known_cov_nm2)
     rows = []
     if detail is None:
         return rows
@@ -315,7 +301,7 @@ def _estimated_positions(voyage, tracks) -> list[dict]:
     return out
 
 
-def _noon_rows(voyage, vessel: str, track: VesselTrack, estimated: list[dict]) -> list[dict]:
+def _noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict]) -> list[dict]:
     reduced = voyage.reduced
     mine = (reduced["vessel"].to_numpy(dtype=object) == vessel) & (reduced["status"].to_numpy() != SightStatus.ERROR) \
         if len(reduced) else np.zeros(0, dtype=bool)
@@ -330,16 +316,16 @@ def _noon_rows(voyage, vessel: str, track: VesselTrack, estimated: list[dict]) -
     # a chronometer's or a watch's kept on another zone); twice, so that the zone settles
     guess = np.zeros(days.size)
     for _ in range(2):
-        _, lon, _ = track.kept.positions(ship_noon_ns(days, guess))
+        _, lon, _ = track.positions(ship_noon_ns(days, guess))
         guess = np.where(np.isfinite(lon), zone_description_h(lon), guess)
     noon = ship_noon_ns(days, guess)
     inside = (noon >= first) & (noon <= last)
     days, noon, guess = days[inside], noon[inside], guess[inside]
     if not days.size:
         return []
-    lat, lon, origin = track.kept.positions(noon)
-    source = [(f"DR from the {track.known_label[_known_index(track, o)]}" if np.isfinite(la) else
-               f"none: {PAST_POLE.split(':')[0]} from the {track.known_label[_known_index(track, o)]}")
+    lat, lon, origin = track.positions(noon)
+    source = [(f"DR from the {track.known_label[track.known_index(o)]}" if np.isfinite(la) else
+               f"none: {PAST_POLE.split(':')[0]} from the {track.known_label[track.known_index(o)]}")
               if o >= 0 else "" for o, la in zip(origin, lat)]
     # a fix, else an estimated position, within the hour carried to noon along the DR's velocity
     fixes = [(int(t), la, lo, lab) for t, la, lo, lab in zip(track.known_ns, track.known_lat, track.known_lon,
@@ -351,8 +337,8 @@ def _noon_rows(voyage, vessel: str, track: VesselTrack, estimated: list[dict]) -
             near = [c for c in candidates if abs(c[0] - t) <= NOON_WINDOW_HOURS * NS_PER_HOUR]
             if near:
                 c = min(near, key=lambda c: abs(c[0] - t))
-                kk = np.searchsorted(track.kept.knot_ns, c[0], side="right") - 1
-                course, speed = course_speed(track.kept.north_kn[max(kk, 0)], track.kept.east_kn[max(kk, 0)])
+                kk = np.searchsorted(track.knot_ns, c[0], side="right") - 1
+                course, speed = course_speed(track.north_kn[max(kk, 0)], track.east_kn[max(kk, 0)])
                 hours = (t - c[0]) / NS_PER_HOUR
                 la, lo = rhumb_destination(c[1], c[2], course + (0.0 if hours >= 0 else 180.0),
                                            float(speed) * abs(hours))
@@ -361,7 +347,7 @@ def _noon_rows(voyage, vessel: str, track: VesselTrack, estimated: list[dict]) -
                              + (" carried to noon" if abs(hours) * 3600.0 >= 30.0 else ""))
                 break
     run = days_run(noon, lat, lon)
-    through = _water_run_nm(track.water, noon[:-1], noon[1:]) if noon.size > 1 else np.zeros(0)
+    through = _water_run_nm(track.through_water, noon[:-1], noon[1:]) if noon.size > 1 else np.zeros(0)
     fix_times = np.array([f[0] for f in fixes], dtype=np.int64)
     rows = []
     for k in range(days.size):
@@ -382,17 +368,12 @@ def _noon_rows(voyage, vessel: str, track: VesselTrack, estimated: list[dict]) -
     return rows
 
 
-def _known_index(track: VesselTrack, knot: int) -> int:
-    """The known position (its index) that restarts the track at a knot."""
-    return int(np.searchsorted(track.known_ns, track.kept.knot_ns[knot]))
-
-
-def known_label_at(track: VesselTrack, knot: int) -> str:
+def known_label_at(track: DRTrack, knot: int) -> str:
     """What the known position restarting the track at a knot is ('fix sun-run-sun', 'departure at row 2')."""
-    return track.known_label[_known_index(track, int(knot))]
+    return track.known_label[track.known_index(knot)]
 
 
-def _track_points(voyage, vessel: str, track: VesselTrack) -> list[dict]:
+def _track_points(voyage, vessel: str, track: DRTrack) -> list[dict]:
     """The DR track as points: every knot, and one an hour between, from the first known position to the last
     sight, each segment (from one known position to the next) its own leg; at each restart the leg that ends
     there closes on the DR carried to it."""
@@ -403,11 +384,11 @@ def _track_points(voyage, vessel: str, track: VesselTrack) -> list[dict]:
     first = int(track.known_ns[0])
     step = int(TRACK_STEP_HOURS * NS_PER_HOUR)
     hourly = np.arange(first, last + 1, step, dtype=np.int64)
-    knots = track.kept.knot_ns[(track.kept.knot_ns >= first) & (track.kept.knot_ns <= last)]
+    knots = track.knot_ns[(track.knot_ns >= first) & (track.knot_ns <= last)]
     times = np.unique(np.concatenate([hourly, knots, [last]]))
-    lat, lon, origin = track.kept.positions(times)
+    lat, lon, origin = track.positions(times)
     restart = np.isin(times, track.known_ns) & (times > first)
-    b_lat, b_lon, b_origin = track.kept.positions(times[restart], before_restart=True)
+    b_lat, b_lon, b_origin = track.positions(times[restart], before_restart=True)
     closing = b_origin >= 0
     # the closing points go just before their restart in time order
     t_all = np.concatenate([times, times[restart][closing]])
@@ -426,5 +407,5 @@ def _track_points(voyage, vessel: str, track: VesselTrack) -> list[dict]:
                                      leg_all[order].tolist(), kind_all[order].tolist())]
 
 
-__all__ = ["DaysWork", "VesselTrack", "days_work", "vessel_tracks", "known_label_at", "NOON_WINDOW_HOURS", "SET_DRIFT_COLUMNS",
+__all__ = ["DaysWork", "days_work", "vessel_tracks", "known_label_at", "NOON_WINDOW_HOURS", "SET_DRIFT_COLUMNS",
            "NOON_COLUMNS", "ESTIMATED_COLUMNS"]

@@ -216,10 +216,10 @@ def _restart_dr_at_fixes(log: SightLog, reduced: pd.DataFrame, groups: list[Grou
             continue
         # a sight at the very instant of a fix is one of the sights that make it: its DR is the one carried
         # up to that instant, not the fix itself (but a sight at the departure's instant starts from it)
-        t_lat, t_lon, origin = track.kept.positions(when[rows], before_restart=True)
+        t_lat, t_lon, origin = track.positions(when[rows], before_restart=True)
         at_start = origin < 0
         if at_start.any():
-            s_lat, s_lon, s_origin = track.kept.positions(when[rows][at_start])
+            s_lat, s_lon, s_origin = track.positions(when[rows][at_start])
             t_lat[at_start], t_lon[at_start], origin[at_start] = s_lat, s_lon, s_origin
         found = (origin >= 0) & np.isfinite(t_lat)
         lat[rows[found]], lon[rows[found]] = t_lat[found], t_lon[found]
@@ -276,21 +276,21 @@ def dr_context(log: SightLog, reduced: pd.DataFrame, groups: list[GroupFix], *, 
         rows = np.flatnonzero(carried & (vessels == vessel))
         if not rows.size:
             continue
-        k = np.searchsorted(track.kept.knot_ns, when[rows], side="right") - 1
-        kw = np.searchsorted(track.water.knot_ns, when[rows], side="right") - 1
+        k = np.searchsorted(track.knot_ns, when[rows], side="right") - 1
+        kw = np.searchsorted(track.through_water.knot_ns, when[rows], side="right") - 1
         valid = (k >= 0) & (kw >= 0)
         k, kw = np.maximum(k, 0), np.maximum(kw, 0)
-        north = np.where(valid, track.kept.north_kn[k] - track.water.north_kn[kw], 0.0)
-        east = np.where(valid, track.kept.east_kn[k] - track.water.east_kn[kw], 0.0)
+        north = np.where(valid, track.north_kn[k] - track.through_water.north_kn[kw], 0.0)
+        east = np.where(valid, track.east_kn[k] - track.through_water.east_kn[kw], 0.0)
         set_, drift = course_speed(north, east)
         out["set_deg"][rows], out["drift_kn"][rows] = np.nan_to_num(set_), np.where(drift > 1e-9, drift, 0.0)
         # the DR's age: a sight at the very instant of a known position is carried up to it
-        _, _, origin = track.kept.positions(when[rows], before_restart=True)
+        _, _, origin = track.positions(when[rows], before_restart=True)
         at_start = origin < 0
         if at_start.any():
-            origin[at_start] = track.kept.positions(when[rows][at_start])[2]
+            origin[at_start] = track.positions(when[rows][at_start])[2]
         known = origin >= 0
-        start = track.kept.knot_ns[np.maximum(origin, 0)]
+        start = track.knot_ns[np.maximum(origin, 0)]
         out["age_h"][rows] = np.where(known, (when[rows] - start) / NS_PER_HOUR, np.nan)
     return out
 
@@ -456,7 +456,8 @@ def _degrees_and_minutes_as_decimal(reduced: pd.DataFrame, group: np.ndarray, re
 def _next_twilight_plan(voyage: VoyageResult):
     """Plan the next twilight that begins after the latest fix, carried on from the fix by the last
     sight's course and speed."""
-    from ..plan import Track, sight_plans, voyage_events
+    from ..plan import sight_plans, voyage_events
+    from ..reckoning import steady_track
 
     fixes = [g for g in voyage.groups if g.fix is not None]
     if not fixes:
@@ -469,7 +470,7 @@ def _next_twilight_plan(voyage: VoyageResult):
     when = np.datetime64(fix.utc, "ns")
     date = str((when + np.timedelta64(int(fix.lon_deg / DEG_PER_HOUR * NS_PER_HOUR), "ns")).astype("datetime64[D]"))
     events = voyage_events(date, 2, fix.lat_deg, fix.lon_deg, course_deg=course, speed_kn=speed)
-    track = Track(fix.lat_deg, fix.lon_deg, when, course, speed)
+    track = steady_track(fix.lat_deg, fix.lon_deg, when, course, speed)
     candidates = []
     for dawn, dusk in (("nautical_dawn", "civil_dawn"), ("civil_dusk", "nautical_dusk")):
         for a, b in zip(events[dawn], events[dusk]):

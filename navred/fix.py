@@ -36,8 +36,8 @@ from numpy.typing import ArrayLike
 from .angles import format_angle, wrap_180, wrap_360, wrap_axial
 from .constants import ARCMIN_PER_DEG, NS_PER_HOUR
 from .errors import NavredError, failed_elements
-from .reckoning import velocity_kn
-from .sailings import rhumb_inverse, rhumb_track_through
+from .reckoning import DRTrack, velocity_kn
+from .sailings import rhumb_inverse
 from .stats import chi_square_2_quantile, chi_square_quantile, f_2_quantile, student_t_quantile
 from .status import FixKind, RunFrom
 from .timescales import utc_jd_to_datetime64, utc_julian_date
@@ -150,83 +150,46 @@ def step_on_sphere(lat_deg: ArrayLike, lon_deg: ArrayLike, north_nm: ArrayLike, 
     return lat, wrap_180(lon)
 
 
-def _fill_forward(values: np.ndarray, valid: np.ndarray) -> np.ndarray:
-    """Along the last axis, each invalid element takes the last valid one before it (or, if none, the first after)."""
-    n = values.shape[-1]
-    index = np.where(valid, np.arange(n), -1)
-    before = np.maximum.accumulate(index, axis=-1)
-    after = np.flip(np.minimum.accumulate(np.flip(np.where(valid, np.arange(n), n), axis=-1), axis=-1), axis=-1)
-    chosen = np.where(before >= 0, before, np.minimum(after, n - 1))
-    return np.take_along_axis(values, chosen, axis=-1)
+def sight_track(dt_hours: ArrayLike, north_kn: ArrayLike, east_kn: ArrayLike) -> DRTrack:
+    """The DR track of a batch of fixes (:class:`navred.reckoning.DRTrack`): arrays (fixes, sights) of each
+    sight's time from the fix (hours) and the velocity over the ground in force after it. Its knots are the
+    sights, then the fix time (a last knot, which keeps the velocity in force); between two of them the vessel
+    sails the rhumb line of the velocity in force after the earlier one (before the first sight, the first
+    sight's)."""
+    dt = np.asarray(dt_hours, dtype=float)
+    north, east = np.broadcast_to(np.asarray(north_kn, dtype=float), dt.shape), \
+        np.broadcast_to(np.asarray(east_kn, dtype=float), dt.shape)
+    return _sight_track_ns(np.rint(dt * NS_PER_HOUR).astype(np.int64), north, east)
 
 
-@dataclass(frozen=True)
-class Track:
-    """The DR track of a batch of fixes: each sight's time from the fix and the velocity after it.
+def _sight_track_ns(offset_ns: np.ndarray, north_kn: np.ndarray, east_kn: np.ndarray) -> DRTrack:
+    """:func:`sight_track` from the sights' offsets from the fix time in int64 nanoseconds (exact)."""
+    last = offset_ns.shape[:-1] + (1,)
+    return DRTrack(np.concatenate([offset_ns, np.zeros(last, dtype=np.int64)], axis=-1),
+                   np.concatenate([north_kn, np.full(last, np.nan)], axis=-1),
+                   np.concatenate([east_kn, np.full(last, np.nan)], axis=-1))
 
-    Arrays of shape (fixes, sights). The track runs through every sight time and the fix time;
-    between two of them the vessel sails the rhumb line of the velocity in force after the earlier
-    sight (before the first sight, the first sight's).
-    """
 
-    dt_hours: np.ndarray  # sight time minus fix time
-    north_kn: np.ndarray  # velocity over the ground in force after each sight
-    east_kn: np.ndarray
+def _fix_knot(track: DRTrack) -> np.ndarray:
+    """The knot of each fix time in a :func:`sight_track` (its last)."""
+    return np.full(track.knot_ns.shape[:-1], track.knot_ns.shape[-1] - 1)
 
-    @functools.cached_property
-    def _legs(self):
-        """The legs between consecutive times (sights and the fix), in time order (worked out once)."""
-        shape = self.dt_hours.shape
-        zero = np.zeros(shape[:-1] + (1,))
-        times = np.concatenate([self.dt_hours, zero], axis=-1)  # the fix is the last column
-        order = np.argsort(times, axis=-1, kind="stable")
-        ordered = np.take_along_axis(times, order, axis=-1)
-        is_sight = order < shape[-1]
-        north = _fill_forward(np.take_along_axis(np.concatenate([self.north_kn, zero], -1), order, -1), is_sight)
-        east = _fill_forward(np.take_along_axis(np.concatenate([self.east_kn, zero], -1), order, -1), is_sight)
-        hours = np.diff(ordered, axis=-1)
-        leg_north, leg_east = north[..., :-1] * hours, east[..., :-1] * hours
-        return order, np.argmax(~is_sight, axis=-1), leg_north, np.degrees(np.arctan2(leg_east, leg_north)), \
-            np.hypot(leg_north, leg_east)
 
-    def positions(self, lat_deg: ArrayLike, lon_deg: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
-        """Each sight's position (F, S) when the vessel is at (lat, lon) (F,) at the fix time: the
-        track of rhumb lines on the WGS 84 ellipsoid, sailed back (or on) from the fix."""
-        order, fix_at, north, course, distance = self._legs
-        lat_fix = np.broadcast_to(np.asarray(lat_deg, dtype=float), fix_at.shape)
-        lon_fix = np.broadcast_to(np.asarray(lon_deg, dtype=float), fix_at.shape)
-        if not distance.any():  # no run (sights taken together, or no course and speed): no track to sail
-            shape = self.dt_hours.shape
-            return (np.array(np.broadcast_to(lat_fix[..., None], shape)),
-                    np.array(np.broadcast_to(lon_fix[..., None], shape)))
-        # sailed on and back from the fix along every leg at once
-        lat_all, lon_all = rhumb_track_through(lat_fix, lon_fix, fix_at, north, course, distance)
-        back = self._back
-        return (np.take_along_axis(lat_all, back, axis=-1)[..., :-1],
-                np.take_along_axis(lon_all, back, axis=-1)[..., :-1])
+def at_sights(track: DRTrack, lat_deg: ArrayLike, lon_deg: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
+    """Each sight's position (fixes, sights) of a :func:`sight_track` when the vessel is at (lat, lon) (fixes,) at
+    the fix time: the track sailed back (or on) from the fix."""
+    lat, lon = track.through(lat_deg, lon_deg, _fix_knot(track))
+    return lat[..., :-1], lon[..., :-1]
 
-    def take(self, rows: np.ndarray) -> Track:
-        """The track of some of the fixes, keeping what has been worked out already."""
-        if rows.size == self.dt_hours.shape[0] and np.array_equal(rows, np.arange(rows.size)):
-            return self
-        part = Track(self.dt_hours[rows], self.north_kn[rows], self.east_kn[rows])
-        for name in ("_legs", "_back"):
-            if name in self.__dict__:
-                value = self.__dict__[name]
-                part.__dict__[name] = tuple(v[rows] for v in value) if isinstance(value, tuple) else value[rows]
-        return part
 
-    @functools.cached_property
-    def _back(self) -> np.ndarray:
-        """Where each sight (then the fix) stands in time order: undoes the legs' ordering."""
-        return np.argsort(self._legs[0], axis=-1, kind="stable")
+def _run_to_fix_nm(track: DRTrack) -> np.ndarray:
+    """Miles run between each sight of a :func:`sight_track` and the fix time (fixes, sights)."""
+    return track.run_nm(_fix_knot(track))[..., :-1]
 
-    def run_distance_nm(self) -> np.ndarray:
-        """Miles run along the track between each sight and the fix time (F, S)."""
-        order, fix_at, _, _, distance = self._legs
-        run = np.concatenate([np.zeros(distance.shape[:-1] + (1,)), np.cumsum(distance, axis=-1)], axis=-1)
-        from_fix = np.abs(run - np.take_along_axis(run, fix_at[..., None], axis=-1))
-        return np.take_along_axis(from_fix, self._back, axis=-1)[..., :-1]
+
+def _sight_hours(track: DRTrack) -> np.ndarray:
+    """Each sight's time from the fix (hours) of a :func:`sight_track`."""
+    return track.knot_ns[..., :-1] / NS_PER_HOUR
 
 
 @dataclass
@@ -252,7 +215,7 @@ def solve_fixes(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, lat0_
                 *, dt_hours: ArrayLike = 0.0, velocity_north_kn: ArrayLike = 0.0, velocity_east_kn: ArrayLike = 0.0,
                 weights: ArrayLike = 1.0, mask: ArrayLike | None = None, solve_motion: bool = False,
                 velocity0_kn: ArrayLike = (0.0, 0.0), mark_singular: bool = False,
-                track: Track | None = None, report: ArrayLike | None = None) -> CoreFixes:
+                track: DRTrack | None = None, report: ArrayLike | None = None) -> CoreFixes:
     """Solve many independent fixes at once by Gauss-Newton on the sphere.
 
     Arrays of shape (fixes, sights): ``gha_deg``, ``dec_deg``, ``ho_deg`` of each sight,
@@ -264,7 +227,7 @@ def solve_fixes(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, lat0_
     well, starting from ``velocity0_kn`` (one pair, or a pair of arrays (fixes,)); the known
     velocities are then not used. Fixes whose lines are parallel raise, or with
     ``mark_singular`` are marked in ``singular`` and left at their start. ``track``: the
-    :class:`Track` of these times and velocities when the caller has it already. ``report``: the
+    :func:`sight_track` of these times and velocities when the caller has it already. ``report``: the
     sights whose residual and azimuth at the solution are returned (default: those used); a sight
     left out of the solution can still be shown against it.
 
@@ -306,17 +269,17 @@ def solve_fixes(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, lat0_
     safe_dec = np.where(finite, dec, 0.0)
     safe_ho = np.where(finite, ho, 0.0)
 
-    known_track = Track(dt, given_n, given_e) if track is None else track
+    known_track = sight_track(dt, given_n, given_e) if track is None else track
 
     def linearised(rows=None):
         """Hc, Zn and the Jacobian (F, S, k) of the fixes ``rows`` (all when None) at their estimates."""
         pick = slice(None) if rows is None else rows
         if solve_motion:
-            moving_track = Track(dt[pick], np.broadcast_to(vn[pick, None], dt[pick].shape),
+            moving_track = sight_track(dt[pick], np.broadcast_to(vn[pick, None], dt[pick].shape),
                                  np.broadcast_to(ve[pick, None], dt[pick].shape))
         else:
             moving_track = known_track if rows is None else known_track.take(rows)  # legs worked out once
-        sight_lat, sight_lon = moving_track.positions(lat[pick], lon[pick])
+        sight_lat, sight_lon = at_sights(moving_track, lat[pick], lon[pick])
         hc, zn = computed_altitude_azimuth(sight_lat, sight_lon, safe_gha[pick], safe_dec[pick])
         z = np.radians(zn)
         columns = [np.cos(z), np.sin(z)] + ([np.cos(z) * dt[pick], np.sin(z) * dt[pick]] if solve_motion else [])
@@ -850,15 +813,17 @@ def _fix_batch(sights: _Sights, group: np.ndarray, n_groups: int, ok: np.ndarray
     index = np.where(present, index, last_row[:, None])
     fix_time = fix_time_given[work]
     fix_time = np.where(np.isnat(fix_time), s.utc[last_row], fix_time)
-    hours = (s.utc[index] - fix_time[:, None]).astype("timedelta64[ns]").astype(np.int64) / NS_PER_HOUR
+    offset_ns = (s.utc[index] - fix_time[:, None]).astype("timedelta64[ns]").astype(np.int64)
+    hours = offset_ns / NS_PER_HOUR
     vn, ve, run_from = _run_velocities(s, index, present, hours)
-    track = Track(hours, vn, ve)
+    track = _sight_track_ns(offset_ns, vn, ve)
     g_gha, g_dec, g_ho = s.gha[index], s.dec[index], s.ho[index]
     # the DR at the fix time: the last sight's DR carried on along the track to the fix time
-    lat0, lon0 = _carry(track, last, s.dr_lat[last_row], s.dr_lon[last_row])
+    dr_lat, dr_lon = track.through(s.dr_lat[last_row], s.dr_lon[last_row], last)
+    lat0, lon0 = dr_lat[:, -1], dr_lon[:, -1]
     n_used = use.sum(axis=1)
     # a running fix carried along rhumb lines through (or next to) a pole is refused
-    run_nm = np.where(present, track.run_distance_nm(), 0.0).max(axis=1)
+    run_nm = np.where(present, _run_to_fix_nm(track), 0.0).max(axis=1)
     polar = (run_nm > 0) & (np.abs(lat0) + run_nm / ARCMIN_PER_DEG > 90.0 - POLAR_RUN_LIMIT_DEG)
 
     # --- what each group is: a fix, a fix with its motion, or a line -----------------------------
@@ -890,7 +855,7 @@ def _fix_batch(sights: _Sights, group: np.ndarray, n_groups: int, ok: np.ndarray
                                           s.dr_error_kn, s.dr_error_fraction))
 
     # --- each line of position for the plotting sheet, from the DR carried to its sight ---------
-    sight_lat, sight_lon = track.positions(lat0, lon0)
+    sight_lat, sight_lon = at_sights(track, lat0, lon0)
     hc, zn = computed_altitude_azimuth(sight_lat, sight_lon, g_gha, g_dec)
     intercept = (g_ho - hc) * ARCMIN_PER_DEG
     foot_lat, foot_lon = destination(lat0[:, None], lon0[:, None], zn, intercept)
@@ -1076,24 +1041,6 @@ def azimuth_spread_many(zn_deg: np.ndarray, use: np.ndarray) -> np.ndarray:
     valid = np.arange(gaps.shape[1])[None, :] < count[:, None]
     widest = np.where(valid, gaps, -np.inf).max(axis=1)
     return np.where(count >= 2, 180.0 - widest, 0.0)
-
-
-def _carry(track: Track, sight: np.ndarray, lat: np.ndarray, lon: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Each group's DR at one of its sights (``sight``, a column) carried along its track to the fix time."""
-    pick = (np.arange(sight.size), sight)
-    if not np.any(track.dt_hours[pick]):  # the fix is at that sight's time: nothing to carry
-        return np.asarray(lat, dtype=float), np.asarray(lon, dtype=float)
-    # positions() gives the sights from the fix; run it from a trial fix and shift by the sight's offset
-    lat_s, lon_s = track.positions(lat, lon)
-    fix_lat, fix_lon = lat + (lat - lat_s[pick]), wrap_180(lon + wrap_180(lon - lon_s[pick]))
-    for _ in range(3):  # the track's shape varies slowly with latitude: a few corrections settle it
-        lat_s, lon_s = track.positions(fix_lat, fix_lon)
-        north, east = lat - lat_s[pick], wrap_180(lon - lon_s[pick])
-        fix_lat, fix_lon = fix_lat + north, wrap_180(fix_lon + east)
-        if np.max(np.abs(north), initial=0.0) + np.max(np.abs(east), initial=0.0) < 1e-10:  # 0.01 mm
-            break
-    fix_lat = np.clip(fix_lat, -90.0, 90.0)  # a DR at the pole is carried no further than the pole
-    return np.asarray(fix_lat, dtype=float), np.asarray(fix_lon, dtype=float)
 
 
 def _run_velocities(s: _Sights, index: np.ndarray, present: np.ndarray, hours: np.ndarray):
@@ -1335,8 +1282,9 @@ def _solve_part(k, rows, gha, dec, ho, use, present, track, lat0, lon0, velocity
     motion = k == 4
     u = use[rows]
     sub_track = track.take(rows)
-    core = solve_fixes(gha[rows], dec[rows], ho[rows], lat0[rows], lon0[rows], dt_hours=sub_track.dt_hours,
-                       velocity_north_kn=sub_track.north_kn, velocity_east_kn=sub_track.east_kn, mask=u,
+    core = solve_fixes(gha[rows], dec[rows], ho[rows], lat0[rows], lon0[rows], dt_hours=_sight_hours(sub_track),
+                       velocity_north_kn=sub_track.north_kn[..., :-1], velocity_east_kn=sub_track.east_kn[..., :-1],
+                       mask=u,
                        report=present[rows], solve_motion=motion, velocity0_kn=velocity0, mark_singular=True,
                        track=sub_track)
     n = u.sum(axis=1)
@@ -1347,8 +1295,8 @@ def _solve_part(k, rows, gha, dec, ho, use, present, track, lat0, lon0, velocity
     if motion:  # no known run: the motion itself was solved
         run_cov = np.zeros((rows.size, width, width))
     else:
-        run_cov = run_error_covariance(np.where(u, core.zn_deg, 0.0), sub_track.dt_hours,
-                                       sub_track.run_distance_nm(), dr_error_kn, dr_error_fraction)
+        run_cov = run_error_covariance(np.where(u, core.zn_deg, 0.0), _sight_hours(sub_track),
+                                       _run_to_fix_nm(sub_track), dr_error_kn, dr_error_fraction)
         run_cov = run_cov * u[:, :, None] * u[:, None, :]
     gain = unit @ np.swapaxes(jac, 1, 2)  # x = gain @ residual: the least-squares estimator
     projector = np.eye(width)[None] * u[:, :, None] - jac @ gain  # M = I − H on the used sights
@@ -1426,7 +1374,7 @@ def _line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0, dr_
     u = use[rows]
     shown = present[rows]
     sub_track = track.take(rows)
-    sight_lat, sight_lon = sub_track.positions(lat0[rows], lon0[rows])
+    sight_lat, sight_lon = at_sights(sub_track, lat0[rows], lon0[rows])
     hc, zn = computed_altitude_azimuth(sight_lat, sight_lon, gha[rows], dec[rows])
     intercept_all = (ho[rows] - hc) * ARCMIN_PER_DEG
     intercept = np.where(u, intercept_all, 0.0)
@@ -1445,7 +1393,7 @@ def _line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0, dr_
     r = np.where(u, residual, 0.0)
     n = u.sum(axis=1)
     dof = n - 1
-    run_cov = run_error_covariance(np.where(u, zn, 0.0), sub_track.dt_hours, sub_track.run_distance_nm(),
+    run_cov = run_error_covariance(np.where(u, zn, 0.0), _sight_hours(sub_track), _run_to_fix_nm(sub_track),
                                    dr_error_kn, dr_error_fraction)
     run_cov = run_cov * u[:, :, None] * u[:, None, :]
     gain = cosines / weight[:, None]
@@ -1615,6 +1563,6 @@ def latitude_from_noon_curve(hours: ArrayLike, ho_deg: ArrayLike, dec_deg: float
     return float(latitude_by_meridian_altitude(a + b * peak + c * peak**2, dec_deg, body_bearing))
 
 
-__all__ = ["fix_from_sights", "fixes_from_sights", "GroupFixes", "FixResult", "ChartCheck", "solve_fixes", "error_ellipse", "Track",
+__all__ = ["fix_from_sights", "fixes_from_sights", "GroupFixes", "FixResult", "ChartCheck", "solve_fixes", "error_ellipse", "sight_track", "at_sights",
            "run_error_covariance", "azimuth_spread_deg", "latitude_by_meridian_altitude", "latitude_by_polaris",
            "ex_meridian_latitude", "latitude_from_noon_curve"]

@@ -18,9 +18,10 @@ import time
 import numpy as np
 import pandas as pd
 
-from navred.fix import move_position, solve_fixes
 from navred.jobs.frames import fix_position
 from navred.jobs.voyage import fix_groups
+from navred.leastsquares import solve_fixes
+from navred.sailings import move_position
 from navred.triangle import computed_altitude_azimuth
 
 

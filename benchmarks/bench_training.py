@@ -17,9 +17,9 @@ import numpy as np
 import pandas as pd
 
 from navred import reduce_sights
-from navred.fix import move_position
 from navred.io.track import ReferenceTrack
 from navred.jobs.training import training_report
+from navred.sailings import move_position
 from navred.stars import known_bodies
 
 

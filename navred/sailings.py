@@ -22,7 +22,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .angles import wrap_180, wrap_360
-from .constants import EARTH_EQUATORIAL_RADIUS_KM, EARTH_FLATTENING, METRES_PER_NM
+from .constants import ARCMIN_PER_DEG, EARTH_EQUATORIAL_RADIUS_KM, EARTH_FLATTENING, METRES_PER_NM
 from .errors import NavredError
 
 A_M = EARTH_EQUATORIAL_RADIUS_KM * 1000.0
@@ -209,6 +209,19 @@ def rhumb_track_through(lat_deg: ArrayLike, lon_deg: ArrayLike, at: ArrayLike, n
     turned = np.concatenate([zero, np.cumsum(dlon, axis=-1)], axis=-1)
     lons = wrap_180(lon + np.degrees(turned - np.take_along_axis(turned, at, axis=-1)))
     return lats, lons
+
+
+def move_position(lat_deg: ArrayLike, lon_deg: ArrayLike, north_nm: ArrayLike, east_nm: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
+    """Position moved by a small displacement in nautical miles north and east (mid-latitude sailing).
+
+    For offsets of a few miles (a DR set off the truth, a step of the iteration); a run of the
+    vessel is sailed on the rhumb line (:func:`navred.sailings.rhumb_destination`).
+    """
+    lat = np.asarray(lat_deg, dtype=float) + np.asarray(north_nm, dtype=float) / ARCMIN_PER_DEG
+    lat = np.clip(lat, -89.999999, 89.999999)
+    mid = np.radians((lat + np.asarray(lat_deg, dtype=float)) / 2.0)
+    lon = np.asarray(lon_deg, dtype=float) + np.asarray(east_nm, dtype=float) / ARCMIN_PER_DEG / np.cos(mid)
+    return lat, wrap_180(lon)
 
 
 # --- the great circle: the geodesic on the ellipsoid ------------------------------------------------

@@ -29,7 +29,7 @@ sys.path.insert(0, str(ROOT))
 from navred.almanac import places  # noqa: E402
 from navred.angles import format_angle  # noqa: E402
 from navred.corrections import correct_altitudes  # noqa: E402
-from navred.fix import move_position  # noqa: E402
+from navred.sailings import move_position  # noqa: E402
 from navred.stars import star_table  # noqa: E402
 from navred.triangle import computed_altitude_azimuth  # noqa: E402
 

@@ -28,7 +28,7 @@ import pandas as pd
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from navred.fix import move_position  # noqa: E402
+from navred.sailings import move_position  # noqa: E402
 from tests.conftest import skyfield_sight  # noqa: E402  (the same independent synthesizer the tests use)
 
 OUT = ROOT / "sample_sights"

@@ -18,7 +18,8 @@ PACKAGE = ROOT / "navred"
 CORE = ("angles", "timescales", "ephemeris", "stars", "epochs", "almanac", "corrections", "triangle", "stats", "fix",
         "plan", "series", "lunar", "constants", "errors", "vocabulary", "timework", "sailings", "marking", "reckoning",
         "rating", "handtables", "presets", "compass", "marking_judge", "marking_sight", "marking_methods",
-        "marking_checks", "status", "events")
+        "marking_checks", "status", "events", "leastsquares", "fixstats", "fixresult", "fixkinds", "fixbatch",
+        "grosserrors", "sensechecks", "latitudes")
 CORE_LIBRARIES = {"numpy", "erfa", "jplephem"}
 EDGE_LIBRARIES = {"pandas", "openpyxl", "matplotlib", "typer", "PIL", "defusedxml", "reportlab"}
 #: The edge's folders, and the folders each may not import.

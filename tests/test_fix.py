@@ -8,18 +8,14 @@ import pytest
 
 from navred import reduce_sights
 from navred.errors import NavredError
-from navred.fix import (
-    error_ellipse,
-    fix_from_sights,
-    latitude_by_meridian_altitude,
-    latitude_by_polaris,
-    move_position,
-    solve_fixes,
-)
+from navred.fix import fix_from_sights
+from navred.fixstats import error_ellipse
 from navred.jobs.frames import fix_position
+from navred.latitudes import latitude_by_meridian_altitude, latitude_by_polaris
+from navred.leastsquares import solve_fixes
 from navred.stats import f_2_quantile
 from navred.triangle import distance_bearing
-from tests.conftest import skyfield_sight
+from tests.conftest import offset_position, rhumb_integrated, skyfield_sight
 
 TWILIGHT = pd.Timestamp("2024-09-15T19:05:00Z")  # near sunset at 45° N 20° W (the Sun 4° up): the stars give the geometry
 TRUE_LAT, TRUE_LON = 45.25, -20.5
@@ -30,7 +26,7 @@ def star_sights(ts, eph, names=STARS, when=TWILIGHT, lat=TRUE_LAT, lon=TRUE_LON,
     rows = [skyfield_sight(ts, eph, name, when + pd.Timedelta(minutes=2 * k), lat, lon, **kw)
             for k, name in enumerate(names)]
     frame = pd.DataFrame(rows)
-    dr_lat, dr_lon = move_position(lat, lon, *dr_offset)
+    dr_lat, dr_lon = offset_position(lat, lon, *dr_offset)
     frame["dr_lat"], frame["dr_lon"] = float(dr_lat), float(dr_lon)
     return frame
 
@@ -70,8 +66,7 @@ def test_running_fix_recovers_the_last_position(ts, eph):
     rows = []
     for when in times:
         hours = (when - start).total_seconds() / 3600
-        lat, lon = move_position(38.0, -30.0, speed * hours * np.cos(np.radians(course)),
-                                 speed * hours * np.sin(np.radians(course)))
+        lat, lon = rhumb_integrated(38.0, -30.0, course, speed * hours)  # the truth, sailed on WGS 84 in the test
         rows.append(skyfield_sight(ts, eph, "Sun", when, float(lat), float(lon), limb="lower"))
     frame = pd.DataFrame(rows).assign(course_deg=course, speed_kn=speed)
     frame["dr_lat"], frame["dr_lon"] = frame.dr_lat + 0.15, frame.dr_lon - 0.2  # a DR 12 nm out
@@ -90,8 +85,9 @@ def test_current_is_added_to_the_run(ts, eph):
     start = pd.Timestamp("2024-06-10T09:00:00Z")
     rows = []
     for hours in (0.0, 3.5, 7.0):
-        # water track 000° at 6 kn plus a current setting 090° at 2 kn
-        lat, lon = move_position(38.0, -30.0, 6.0 * hours, 2.0 * hours)
+        # water track 000° at 6 kn plus a current setting 090° at 2 kn: over the ground their sum (the current
+        # triangle, common practice), sailed on WGS 84 in the test
+        lat, lon = rhumb_integrated(38.0, -30.0, np.degrees(np.arctan2(2.0, 6.0)), np.hypot(6.0, 2.0) * hours)
         rows.append(skyfield_sight(ts, eph, "Sun", start + pd.Timedelta(hours=hours), float(lat), float(lon),
                                    limb="lower"))
     frame = pd.DataFrame(rows).assign(course_deg=0.0, speed_kn=6.0)
@@ -165,7 +161,7 @@ def test_meridian_altitude_formula_cases():
 
 def test_cross_check_reports_distance_bearing_and_ellipse(ts, eph):
     fix = fix_position(reduce_sights(star_sights(ts, eph)), at_utc=TWILIGHT)
-    lat, lon = move_position(fix.lat_deg, fix.lon_deg, 3.0, 4.0)
+    lat, lon = offset_position(fix.lat_deg, fix.lon_deg, 3.0, 4.0)
     check = fix.cross_check(float(lat), float(lon))
     # a 3-4-5 triangle, one nautical mile per arcminute of great circle (common practice)
     assert check.distance_nm == pytest.approx(5.0, abs=0.01)
@@ -232,7 +228,7 @@ def test_course_and_speed_made_good(ts, eph):
     start = pd.Timestamp("2024-04-05T08:00:00Z")
     rows = []
     for hours in np.arange(0.0, 9.0, 1.0):
-        lat, lon = move_position(30.0, -40.0, 11 * hours * np.cos(np.radians(250)), 11 * hours * np.sin(np.radians(250)))
+        lat, lon = rhumb_integrated(30.0, -40.0, 250.0, 11 * hours)  # the truth, sailed on WGS 84 in the test
         rows.append(skyfield_sight(ts, eph, "Sun", start + pd.Timedelta(hours=hours), float(lat), float(lon),
                                    limb="lower"))
     frame = pd.DataFrame(rows).assign(course_deg=240.0, speed_kn=9.0)  # the DR course is wrong
@@ -356,14 +352,15 @@ def twilight_rounds(ts, eph):
     rows = [skyfield_sight(ts, eph, name, MC_TWILIGHT + pd.Timedelta(minutes=2 * k), TRUE_LAT, TRUE_LON)
             for k, name in enumerate(MC_STARS)]
     frame = pd.DataFrame(rows)
-    dr_lat, dr_lon = move_position(TRUE_LAT, TRUE_LON, 4.0, -6.0)
+    dr_lat, dr_lon = offset_position(TRUE_LAT, TRUE_LON, 4.0, -6.0)
     frame["dr_lat"], frame["dr_lon"] = float(dr_lat), float(dr_lon)
     return {n: reduce_sights(frame.iloc[:n]) for n in (3, 4, 5, 6, 8)}
 
 
 def monte_carlo(reduced, sigma, trials, rng, blunder_arcmin=0.0):
     """``trials`` noisy copies of a round solved in one batch: the results, and the sight given the blunder."""
-    from navred.fix import DR_ERROR_KN, fixes_from_sights
+    from navred.fix import fixes_from_sights
+    from navred.fixstats import DR_ERROR_KN
 
     n = len(reduced)
     hours = (reduced.sight_utc - reduced.sight_utc.iloc[-1]).dt.total_seconds().to_numpy() / 3600
@@ -402,7 +399,7 @@ def test_the_ellipse_covers_and_the_flags_false_alarm_as_stated_for_each_case(n,
         assert false_alarms <= 0.05 + 3 * np.sqrt(0.05 * 0.95 / MC_TRIALS), (n, sigma, false_alarms)
         # the stated ellipse is its axes: the inside test agrees with the semi-axes and orientation printed
         r = results[0]
-        from navred.fix import error_ellipse
+        from navred.fixstats import error_ellipse
 
         major, minor, _ = error_ellipse(r.covariance_nm2, r.confidence_scale)
         assert (float(major), float(minor)) == pytest.approx((r.ellipse_semi_major_nm, r.ellipse_semi_minor_nm))

@@ -9,53 +9,25 @@ import pytest
 
 from navred import reduce_sights
 from navred.errors import NavredError
-from navred.fix import (
-    DR_ERROR_FRACTION,
-    DR_ERROR_KN,
+from navred.fixstats import DR_ERROR_FRACTION, DR_ERROR_KN
+from navred.jobs.frames import fix_position
+from navred.jobs.voyage import process_log
+from navred.latitudes import (
     ex_meridian_latitude,
     latitude_by_meridian_altitude,
     latitude_from_noon_curve,
 )
-from navred.jobs.frames import fix_position
-from navred.jobs.voyage import process_log
 from navred.sailings import meridional_parts, rhumb_destination
 from navred.stats import chi_square_2_quantile
 from navred.triangle import distance_bearing
-from tests.conftest import skyfield_sight
-
-WGS84_A_M, WGS84_F = 6378137.0, 1 / 298.257223563  # the WGS 84 ellipsoid (NIMA TR8350.2)
-
-
-def rhumb_integrated(lat_deg, lon_deg, course_deg, distance_nm, steps=4000):
-    """The rhumb line sailed by integrating dφ/ds = cos C / ρ(φ), dλ/ds = sin C / (ν(φ) cos φ) with
-    Runge-Kutta steps on the WGS 84 ellipsoid (ρ, ν the radii of curvature in the meridian and the
-    prime vertical; common geodesy). The test's own code: independent of navred.sailings."""
-    e2 = WGS84_F * (2 - WGS84_F)
-    c = np.radians(course_deg)
-    h = distance_nm * 1852.0 / steps
-
-    def derivative(phi):
-        w = 1 - e2 * np.sin(phi) ** 2
-        rho = WGS84_A_M * (1 - e2) / w**1.5
-        nu = WGS84_A_M / np.sqrt(w)
-        return np.cos(c) / rho, np.sin(c) / (nu * np.cos(phi))
-
-    phi, lam = np.radians(lat_deg), np.radians(lon_deg)
-    for _ in range(steps):
-        k1 = derivative(phi)
-        k2 = derivative(phi + h / 2 * k1[0])
-        k3 = derivative(phi + h / 2 * k2[0])
-        k4 = derivative(phi + h * k3[0])
-        phi += h / 6 * (k1[0] + 2 * k2[0] + 2 * k3[0] + k4[0])
-        lam += h / 6 * (k1[1] + 2 * k2[1] + 2 * k3[1] + k4[1])
-    return np.degrees(phi), np.degrees(lam)
+from tests.conftest import WGS84_F, rhumb_integrated, skyfield_sight
 
 
 def test_rhumb_line_against_integration_and_meridional_parts():
     # navred.sailings against the test's own integration of the rhumb line, within 1 m
     for lat, course, distance in ((70.0, 35.0, 160.0), (-55.0, 250.0, 300.0), (10.0, 90.0, 120.0), (60.0, 0.0, 480.0)):
         ours = rhumb_destination(lat, -20.0, course, distance)
-        truth = rhumb_integrated(lat, -20.0, course, distance)
+        truth = rhumb_integrated(lat, -20.0, course, distance, steps=4000)
         assert float(distance_bearing(*ours, *truth)[0]) < 0.001
     # meridional parts on the spheroid, M = (a/1′)[ln tan(45° + φ/2) − e² sin φ − (e⁴/3) sin³φ − (e⁶/5) sin⁵φ]
     # (the formula printed with the nautical tables of meridional parts; from memory)

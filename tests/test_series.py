@@ -7,11 +7,10 @@ import pandas as pd
 import pytest
 
 from navred import reduce_sights
-from navred.fix import move_position
 from navred.jobs.frames import series_columns as series_of_log
 from navred.series import check_series, series_ids
 from navred.stars import star_table
-from tests.conftest import skyfield_sight
+from tests.conftest import offset_position, rhumb_integrated, skyfield_sight
 
 
 def synthetic_series(ts, eph, trials, seed):
@@ -32,12 +31,11 @@ def synthetic_series(ts, eph, trials, seed):
         series_rows = []
         for k, seconds in enumerate(gaps):
             hours = seconds / 3600
-            lat, lon = move_position(lat0, lon0, speed * hours * np.cos(np.radians(course)),
-                                     speed * hours * np.sin(np.radians(course)))
+            lat, lon = rhumb_integrated(lat0, lon0, course, speed * hours)  # the truth, sailed in the test
             noise = rng.normal(0, 0.3) + (4.0 if k == blunder else 0.0)
             sight = skyfield_sight(ts, eph, name, start + pd.Timedelta(seconds=float(seconds)), float(lat), float(lon),
                                    noise_arcmin=noise, eye_height_m=3.0)
-            dr_lat, dr_lon = move_position(float(lat), float(lon), 3.0, -2.0)
+            dr_lat, dr_lon = offset_position(float(lat), float(lon), 3.0, -2.0)
             sight.update(dr_lat=float(dr_lat), dr_lon=float(dr_lon), series=f"s{made}", blunder=k == blunder)
             series_rows.append(sight)
         if all(15 < r["true_alt_deg"] < 75 for r in series_rows):

@@ -11,12 +11,11 @@ import pandas as pd
 import pytest
 
 from navred.figures.plotting import save_plotting_sheet
-from navred.fix import move_position
 from navred.io.exports import GPX_NAMESPACE, write_geojson, write_gpx
 from navred.io.workbook import SAFETY, atomic_write, write_workbook
 from navred.jobs.frames import fix_position
 from navred.jobs.voyage import process_log
-from tests.conftest import skyfield_sight
+from tests.conftest import offset_position, skyfield_sight
 
 
 @pytest.fixture(scope="module")
@@ -103,7 +102,7 @@ def _lops_fix(ts, eph, names, offset=(3.0, -4.0)):
     rows = [skyfield_sight(ts, eph, name, when + pd.Timedelta(minutes=k), 45.25, -20.5)
             for k, name in enumerate(names)]
     frame = pd.DataFrame(rows)
-    lat, lon = move_position(45.25, -20.5, *offset)
+    lat, lon = offset_position(45.25, -20.5, *offset)
     frame["dr_lat"], frame["dr_lon"] = float(lat), float(lon)
     reduced = reduce_sights(frame)
     return fix_position(reduced, at_utc=when), reduced

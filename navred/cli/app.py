@@ -463,7 +463,7 @@ def _print_latitude_checks(reduced, labels) -> None:
     import numpy as np
 
     from ..angles import format_angle
-    from ..fix import latitude_by_meridian_altitude, latitude_by_polaris
+    from ..latitudes import latitude_by_meridian_altitude, latitude_by_polaris
 
     usable = reduced.status.to_numpy() != SightStatus.ERROR
     lha = reduced.lha_deg.to_numpy()
@@ -582,7 +582,7 @@ def fix_command(
             typer.echo("")
             fixes += 1
         if fixes:
-            from ..fix import ELLIPSE_COVERS
+            from ..fixstats import ELLIPSE_COVERS
 
             typer.echo(f"Each 95 % ellipse (or band) {ELLIPSE_COVERS}.")
             typer.echo("")

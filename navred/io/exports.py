@@ -23,7 +23,7 @@ from pathlib import Path
 import numpy as np
 
 from .. import __version__
-from ..fix import ELLIPSE_COVERS
+from ..fixstats import ELLIPSE_COVERS
 from ..jobs.voyage import VoyageResult
 from ..triangle import destination
 from .cautions import geojson_with_caution, gpx_with_caution

@@ -19,7 +19,7 @@ import pandas as pd
 
 from ..angles import format_angle
 from ..errors import NavredError
-from ..fix import ELLIPSE_COVERS
+from ..fixstats import ELLIPSE_COVERS
 from ..jobs.forking import can_fork, cores, forked_map
 from ..status import SightStatus
 from .output import atomic_write, atomic_write_many

@@ -27,7 +27,7 @@ import pandas as pd
 
 from ..angles import format_angle
 from ..constants import NS_PER_HOUR, NS_PER_SECOND
-from ..fix import DR_ERROR_FRACTION, DR_ERROR_KN
+from ..fixstats import DR_ERROR_FRACTION, DR_ERROR_KN
 from ..reckoning import (
     PAST_POLE,
     DRTrack,

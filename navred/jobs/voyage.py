@@ -25,9 +25,10 @@ from ..angles import format_angle
 from ..constants import DEG_PER_HOUR, NS_PER_HOUR
 from ..ephemeris import EPHEMERIS_NAME
 from ..errors import NavredError, api_boundary
-from ..fix import SEXTANT_SIGMA_LIMIT_ARCMIN, FixResult, fixes_from_sights
+from ..fix import FixResult, fixes_from_sights
 from ..io.logbook import REJECTED_COLUMNS, SightLog, read_sight_log
 from ..reckoning import PAST_POLE
+from ..sensechecks import SEXTANT_SIGMA_LIMIT_ARCMIN
 from ..status import SightStatus
 from ..timescales import iers_table, leap_second_table
 from ..triangle import distance_bearing

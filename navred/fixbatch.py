@@ -1,0 +1,284 @@
+"""One solve of every group of a batch of sights: the groups laid out padded side by side, each group's run
+between its sights, the DR at its fix time, each judged a fix, a fix with its motion or a line, solved
+(:mod:`navred.fixkinds`), its lines of position for the plotting sheet, and the sense checks."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .angles import format_angle, wrap_180, wrap_360
+from .constants import ARCMIN_PER_DEG, NS_PER_HOUR
+from .fixkinds import WEAK_CROSSING_DEG, solve_fix_part, solve_line_part
+from .fixresult import LINE_ONLY_DEG, PARALLEL_LINES, FixResult
+from .fixstats import azimuth_spread_many
+from .latitudes import latitude_from_noon_curve
+from .leastsquares import CONVERGED_NM, at_sights, run_to_fix_nm, sight_track_ns
+from .reckoning import velocity_kn
+from .sailings import rhumb_inverse
+from .sensechecks import UNKNOWN_DR_AGE_H, sense_checks
+from .status import FixKind, RunFrom
+from .triangle import computed_altitude_azimuth, destination, distance_bearing
+
+#: A running fix whose track would come this close to a pole (degrees) is refused: a rhumb line is not
+#: defined through the pole (courses there are steered on a grid).
+POLAR_RUN_LIMIT_DEG = 0.1
+
+
+@dataclass(frozen=True)
+class SightRows:
+    """The sights of a batch of fixes, one element per input row, read once."""
+
+    gha: np.ndarray
+    dec: np.ndarray
+    ho: np.ndarray
+    utc: np.ndarray  # datetime64[ns]
+    dr_lat: np.ndarray
+    dr_lon: np.ndarray
+    course: np.ndarray  # NaN: not given
+    speed: np.ndarray
+    set_deg: np.ndarray  # the current in force after each sight (0 drift: none)
+    drift_kn: np.ndarray
+    dr_age_h: np.ndarray  # the age of each sight's DR (NaN: not known)
+    names: np.ndarray
+    solve_motion: bool
+    dr_error_kn: float
+    dr_error_fraction: float
+
+
+def subset_groups(group: np.ndarray, chosen: list[int], n_groups: int) -> np.ndarray:
+    """Group numbers for a batch of only the ``chosen`` groups (renumbered 0, 1, ...; others −1)."""
+    renumber = np.full(n_groups, -1, dtype=np.intp)
+    renumber[chosen] = np.arange(len(chosen))
+    return np.where(group >= 0, renumber[np.maximum(group, 0)], -1)
+
+
+def fix_batch(sights: SightRows, group: np.ndarray, n_groups: int, ok: np.ndarray, left_out: np.ndarray,
+               fix_time_given: np.ndarray) -> tuple[list[FixResult | None], list[str]]:
+    """One solve of every group (no check fixes): the sights ``ok`` are shown, those not ``left_out`` used."""
+    results: list[FixResult | None] = [None] * n_groups
+    problems = [""] * n_groups
+    if n_groups == 0:
+        return results, problems
+    s = sights
+    n_rows = s.gha.size
+    weighted = ok & ~left_out
+    by_group = np.argsort(np.where(group >= 0, group, n_groups), kind="stable")
+    sizes = np.bincount(group[group >= 0], minlength=n_groups)
+    count_ok = np.bincount(group[ok & (group >= 0)], minlength=n_groups)
+    count_used = np.bincount(group[weighted & (group >= 0)], minlength=n_groups)
+    for g in np.flatnonzero(count_used < 2):
+        problems[g] = (f"a fix needs two or more reduced sights; {int(count_used[g])} of {int(sizes[g])} "
+                       "are usable")
+    work = np.flatnonzero(count_used >= 2)
+    if work.size == 0:
+        return results, problems
+
+    # --- the padded layout: (groups at work, the most sights of any) -----------------------------
+    ok_rows = by_group[ok[by_group] & (group[by_group] >= 0)]
+    ok_rows = ok_rows[np.isin(group[ok_rows], work)]
+    w_of_group = np.full(n_groups, -1, dtype=np.intp)
+    w_of_group[work] = np.arange(work.size)
+    w = w_of_group[group[ok_rows]]
+    start = np.concatenate([[0], np.cumsum(count_ok[work])[:-1]])
+    column = np.arange(ok_rows.size) - start[w]
+    width = int(count_ok[work].max())
+    present = np.zeros((work.size, width), dtype=bool)
+    present[w, column] = True
+    use = np.zeros((work.size, width), dtype=bool)
+    use[w, column] = weighted[ok_rows]
+    times = np.full((work.size, width), np.iinfo(np.int64).min, dtype=np.int64)
+    times[w, column] = np.where(weighted[ok_rows], s.utc[ok_rows].astype(np.int64), np.iinfo(np.int64).min)
+    # each group's last used sight by time (the later row among equal times)
+    last = width - 1 - np.argmax(times[:, ::-1] == times.max(axis=1, keepdims=True), axis=1)
+    index = np.empty((work.size, width), dtype=np.intp)
+    index[:] = np.zeros((work.size, 1), dtype=np.intp)
+    index[w, column] = ok_rows
+    last_row = index[np.arange(work.size), last]
+    # padding repeats each group's last sight: a zero-length leg at its time, no weight
+    index = np.where(present, index, last_row[:, None])
+    fix_time = fix_time_given[work]
+    fix_time = np.where(np.isnat(fix_time), s.utc[last_row], fix_time)
+    offset_ns = (s.utc[index] - fix_time[:, None]).astype("timedelta64[ns]").astype(np.int64)
+    hours = offset_ns / NS_PER_HOUR
+    vn, ve, run_from = _run_velocities(s, index, present, hours)
+    track = sight_track_ns(offset_ns, vn, ve)
+    g_gha, g_dec, g_ho = s.gha[index], s.dec[index], s.ho[index]
+    # the DR at the fix time: the last sight's DR carried on along the track to the fix time
+    dr_lat, dr_lon = track.through(s.dr_lat[last_row], s.dr_lon[last_row], last)
+    lat0, lon0 = dr_lat[:, -1], dr_lon[:, -1]
+    n_used = use.sum(axis=1)
+    # a running fix carried along rhumb lines through (or next to) a pole is refused
+    run_nm = np.where(present, run_to_fix_nm(track), 0.0).max(axis=1)
+    polar = (run_nm > 0) & (np.abs(lat0) + run_nm / ARCMIN_PER_DEG > 90.0 - POLAR_RUN_LIMIT_DEG)
+
+    # --- what each group is: a fix, a fix with its motion, or a line -----------------------------
+    _, zn0 = computed_altitude_azimuth(lat0[:, None], lon0[:, None], g_gha, g_dec)
+    spread0 = azimuth_spread_many(zn0, use)
+    motion = np.zeros(work.size, dtype=bool)
+    motion_problem = np.full(work.size, "", dtype=object)
+    if s.solve_motion:
+        span_h = np.where(use, hours, -np.inf).max(axis=1) - np.where(use, hours, np.inf).min(axis=1)
+        motion_problem = np.where(
+            n_used < 5, [f"{n} sights (at least 5 are needed for position, course, speed and a check)"
+                         for n in n_used],
+            np.where(span_h < 1.0, [f"the sights span {s_ * 60:.0f} minutes (at least an hour is needed)"
+                                    for s_ in span_h],
+                     np.where(spread0 < WEAK_CROSSING_DEG, "the azimuths are too alike", ""))).astype(object)
+        motion = (motion_problem == "") & ~polar
+    line = (spread0 < LINE_ONLY_DEG) & ~motion & ~polar
+    parts = {}
+    for k, chosen in ((2, ~line & ~motion & ~polar), (4, motion)):
+        if chosen.any():
+            rows = np.flatnonzero(chosen)
+            velocity0 = (np.where(use[rows], vn[rows], 0.0).sum(1) / n_used[rows],
+                         np.where(use[rows], ve[rows], 0.0).sum(1) / n_used[rows])
+            parts[k] = (rows, solve_fix_part(k, rows, g_gha, g_dec, g_ho, use, present, track, lat0, lon0, velocity0,
+                                          s.dr_error_kn, s.dr_error_fraction))
+    if line.any():
+        rows = np.flatnonzero(line)
+        parts["line"] = (rows, solve_line_part(rows, g_gha, g_dec, g_ho, use, present, track, lat0, lon0, spread0,
+                                          s.dr_error_kn, s.dr_error_fraction))
+
+    # --- each line of position for the plotting sheet, from the DR carried to its sight ---------
+    sight_lat, sight_lon = at_sights(track, lat0, lon0)
+    hc, zn = computed_altitude_azimuth(sight_lat, sight_lon, g_gha, g_dec)
+    intercept = (g_ho - hc) * ARCMIN_PER_DEG
+    foot_lat, foot_lon = destination(lat0[:, None], lon0[:, None], zn, intercept)
+    # the line is tangent to the circle of equal altitude at the foot: across the azimuth there,
+    # toward the body's geographical position (latitude Dec, longitude −GHA)
+    _, toward_gp = distance_bearing(foot_lat, foot_lon, g_dec, wrap_180(-g_gha))
+    tangent = wrap_360(toward_gp + 90.0)
+
+    # --- the results, group by group, in input-row order ----------------------------------------
+    # every per-sight array is scattered to the input rows once, then put in group order, so that
+    # each group's arrays are slices (views) of one array
+    residual = np.full((work.size, width), np.nan)
+    outlier = np.zeros((work.size, width), dtype=bool)
+    gross = np.zeros((work.size, width), dtype=bool)
+    for rows, part in parts.values():
+        residual[rows], outlier[rows], gross[rows] = part.residual_arcmin, part.outlier, part.gross
+    sight_index = index[present]
+
+    def in_group_order(values, fill=np.nan, dtype=float):
+        out = np.full(n_rows, fill, dtype=dtype)
+        out[sight_index] = values[present]
+        return out[by_group]
+
+    columns = {name: in_group_order(values) for name, values in (
+        ("residual_arcmin", residual), ("lop_intercept_nm", intercept), ("lop_zn_deg", zn),
+        ("lop_foot_lat_deg", foot_lat), ("lop_foot_lon_deg", foot_lon), ("lop_tangent_deg", tangent))}
+    shown_out = present & ~use
+    columns["outlier"] = in_group_order(outlier | shown_out, False, bool)
+    columns["used"] = in_group_order(use, False, bool)
+    columns["left_out"] = in_group_order(shown_out, False, bool)
+    columns["gross"] = in_group_order(gross, False, bool)
+    bounds = np.concatenate([[0], np.cumsum(sizes)]).tolist()
+    lat0_list, lon0_list, work_list = lat0.tolist(), lon0.tolist(), work.tolist()
+    span_min = ((np.where(use, hours, -np.inf).max(axis=1) - np.where(use, hours, np.inf).min(axis=1)) * 60).tolist()
+    age_h = dr_age_at_fix(s, last_row, fix_time)
+    speed_kn = np.hypot(vn[np.arange(work.size), last], ve[np.arange(work.size), last])
+    for wi in np.flatnonzero(polar).tolist():
+        problems[work_list[wi]] = (
+            f"a running fix this near the pole ({format_angle(lat0_list[wi], 'lat')}, the run {run_nm[wi]:.0f} nm) "
+            "is not carried along rhumb lines, which are not defined through the pole (courses there are "
+            "steered on a grid): fix from sights taken together, or give a DR for each sight and no course")
+    done: list[tuple[int, FixResult]] = []
+    for key, (rows, part) in parts.items():
+        for j, wi in enumerate(rows.tolist()):
+            g = work_list[wi]
+            result = part.result(j)
+            if result is None:
+                problems[g] = PARALLEL_LINES
+                continue
+            if key != "line" and s.solve_motion and motion_problem[wi]:
+                result.warnings.insert(0, f"course and speed made good cannot be solved: {motion_problem[wi]}; "
+                                          "the known run is used")
+            a, b = bounds[g], bounds[g + 1]
+            for name, values in columns.items():
+                setattr(result, name, values[a:b])
+            result.utc = fix_time[wi]
+            result.dr_lat_deg, result.dr_lon_deg = lat0_list[wi], lon0_list[wi]
+            result.run_from = run_from[wi] if key != 4 else RunFrom.SOLVED
+            if result.kind == FixKind.LATITUDE and n_used[wi] >= 3:
+                used_here = use[wi]
+                _noon_curve(result, hours[wi][used_here], g_ho[wi][used_here], g_dec[wi][used_here])
+            results[g] = result
+            done.append((wi, result))
+    if done:
+        chosen = np.array([wi for wi, _ in done])
+        sense_checks([r for _, r in done], [run_from[wi] for wi in chosen.tolist()], np.asarray(span_min)[chosen],
+                      age_h[chosen], speed_kn[chosen], np.isfinite(s.dr_age_h[last_row[chosen]]))
+    return results, problems
+
+
+def _run_velocities(s: SightRows, index: np.ndarray, present: np.ndarray, hours: np.ndarray):
+    """Velocity over the ground (north, east knots) in force after each sight of the padded layout (the
+    course and speed through the water and the current in force, or, where a group gives no course or
+    speed, the run between its rows' own DRs), and how each group's run was found."""
+    course, speed = s.course[index], s.speed[index]
+    given = (np.isfinite(course) | np.isfinite(speed)) & present
+    vn, ve = velocity_kn(np.nan_to_num(course), np.nan_to_num(speed))
+    cn, ce = velocity_kn(s.set_deg[index], s.drift_kn[index])
+    vn, ve = vn + cn, ve + ce
+    moving = given.any(axis=1)
+    with_current = ((s.drift_kn[index] != 0) & present).any(axis=1)
+    apart = np.zeros(len(index), dtype=bool)
+    if not moving.all():
+        lat, lon = s.dr_lat[index], s.dr_lon[index]
+        miles, _ = distance_bearing(lat[:, :1], lon[:, :1], lat, lon)
+        with np.errstate(invalid="ignore"):
+            apart = (np.where(present, miles, 0.0) > CONVERGED_NM).any(axis=1) & ~moving
+        if apart.any():
+            rows = np.flatnonzero(apart)
+            vn[rows], ve[rows] = _dr_run(lat[rows], lon[rows], hours[rows], present[rows])
+    run_from = np.where(apart, RunFrom.OWN_DRS,
+                        np.where(moving, np.where(with_current, RunFrom.COURSE_SPEED_AND_CURRENT, RunFrom.COURSE_AND_SPEED),
+                                 np.where(with_current, RunFrom.CURRENT, RunFrom.NONE)))
+    return vn, ve, [RunFrom(word) for word in run_from.tolist()]
+
+
+def _dr_run(lat: np.ndarray, lon: np.ndarray, hours: np.ndarray, present: np.ndarray):
+    """The velocity after each sight (north, east knots) that carries the ship from its DR to the next
+    sight's DR along the rhumb line, sights in time order; the last keeps the leg before it."""
+    width = hours.shape[1]
+    order = np.argsort(np.where(present, hours, np.inf), axis=1, kind="stable")
+    t, la, lo = (np.take_along_axis(v, order, axis=1) for v in (hours, lat, lon))
+    count = present.sum(axis=1)
+    miles, course = rhumb_inverse(la[:, :-1], lo[:, :-1], la[:, 1:], lo[:, 1:])
+    dt = np.diff(t, axis=1)
+    valid = (np.arange(width - 1)[None, :] < (count - 1)[:, None]) & (dt > 0) & np.isfinite(miles)
+    speed = np.where(valid, np.nan_to_num(miles) / np.where(valid, dt, 1.0), 0.0)
+    north, east = velocity_kn(np.where(valid, course, 0.0), speed)
+    out = []
+    rows = np.arange(len(order))
+    last = np.maximum(count - 1, 0)
+    for leg in (north, east):
+        full = np.concatenate([leg, np.zeros((len(order), 1))], axis=1)
+        full[rows, last] = np.where(count >= 2, full[rows, np.maximum(last - 1, 0)], 0.0)
+        full = np.where(np.arange(width)[None, :] > last[:, None], full[rows, last][:, None], full)
+        back = np.empty_like(full)
+        np.put_along_axis(back, order, full, axis=1)
+        out.append(back)
+    return out[0], out[1]
+
+
+def _noon_curve(result: FixResult, hours, ho, dec) -> None:
+    """For a latitude: the noon-curve latitude too, when the series straddles meridian passage."""
+    zn = np.radians(result.lop_zn_deg[result.used])
+    bearing = "S" if np.cos(zn).sum() < 0 else "N"  # where the body bears on the meridian
+    latitude = latitude_from_noon_curve(hours, ho, np.mean(dec), bearing)
+    if latitude is not None:
+        result.noon_curve_latitude_deg = latitude
+
+
+def dr_age_at_fix(s: SightRows, last_row: np.ndarray, fix_time: np.ndarray) -> np.ndarray:
+    """The age (hours) of each group's DR at the fix time: its last sight's DR's age and the time since (a
+    DR of unknown age is taken as UNKNOWN_DR_AGE_H old)."""
+    since = np.abs((fix_time - s.utc[last_row]).astype("timedelta64[ns]").astype(np.int64) / NS_PER_HOUR)
+    age = s.dr_age_h[last_row]
+    return np.where(np.isfinite(age), np.abs(age) + since, UNKNOWN_DR_AGE_H)
+
+
+__all__ = ["POLAR_RUN_LIMIT_DEG", "SightRows", "subset_groups", "fix_batch", "dr_age_at_fix"]

@@ -1,0 +1,234 @@
+"""A batch of groups solved the way each calls for: a fix (position, or position, course and speed made
+good) by least squares, or, when the lines of position (nearly) coincide, one combined line of position
+or a latitude, worked from the DR. Each way gives its groups' residuals, blunder flags and results."""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+
+import numpy as np
+
+from .angles import wrap_180, wrap_360, wrap_axial
+from .constants import ARCMIN_PER_DEG
+from .fixresult import EMPTY_ROWS, LINE_ONLY_DEG, FixResult
+from .fixstats import (
+    A_PRIORI_SIGMA_ARCMIN,
+    CONFIDENCE,
+    azimuth_spread_many,
+    blunder_note,
+    blunder_test,
+    effective_dof,
+    ellipse_note,
+    error_ellipse,
+    plural,
+    quantile_name,
+    run_error_covariance,
+    sight_variance,
+)
+from .leastsquares import (
+    CONVERGED_NM,
+    MAX_ITERATIONS,
+    at_sights,
+    run_to_fix_nm,
+    sight_hours,
+    solve_fixes,
+)
+from .stats import f_2_quantile, student_t_quantile
+from .status import FixKind
+from .triangle import computed_altitude_azimuth, destination
+
+WEAK_CROSSING_DEG = 30.0
+
+
+#: Lines whose azimuths all lie within this of north or south are a latitude (sights on the meridian).
+MERIDIAN_AZIMUTH_DEG = 10.0
+
+
+_NAT = np.datetime64("NaT")
+
+
+@dataclass(frozen=True)
+class Part:
+    """The groups of a batch solved one way: their residuals, blunder flags and gross errors (groups,
+    sights), and the FixResult of group j (its per-sight arrays are filled in by the caller)."""
+
+    residual_arcmin: np.ndarray
+    outlier: np.ndarray
+    gross: np.ndarray
+    result: Callable[[int], FixResult | None]
+
+
+def solve_fix_part(k, rows, gha, dec, ho, use, present, track, lat0, lon0, velocity0, dr_error_kn, dr_error_fraction):
+    """Fix the groups ``rows`` with k unknowns (2: position; 4: position, course and speed made
+    good) in one solve; returns a function giving group j's FixResult (per-sight arrays padded).
+
+    σ is estimated from the residuals with no floor (Σr²/ν; with a run, the restricted likelihood that
+    weighs out the DR error's share, :func:`sight_variance`); the position's covariance is
+    A(σ²I + C)Aᵀ and the 95 % ellipse is scaled by √(2 F(2, ν)), exact for Gaussian sight errors when
+    there is no run, ν an effective number (:func:`effective_dof`) when the DR's error over the run is
+    part of it.
+    """
+    motion = k == 4
+    u = use[rows]
+    sub_track = track.take(rows)
+    core = solve_fixes(gha[rows], dec[rows], ho[rows], lat0[rows], lon0[rows], dt_hours=sight_hours(sub_track),
+                       velocity_north_kn=sub_track.north_kn[..., :-1], velocity_east_kn=sub_track.east_kn[..., :-1],
+                       mask=u,
+                       report=present[rows], solve_motion=motion, velocity0_kn=velocity0, mark_singular=True,
+                       track=sub_track)
+    n = u.sum(axis=1)
+    dof = n - k
+    residual = np.where(u, core.residual_arcmin, 0.0)
+    unit, jac = core.covariance_nm2, core.jacobian
+    width = u.shape[1]
+    if motion:  # no known run: the motion itself was solved
+        run_cov = np.zeros((rows.size, width, width))
+    else:
+        run_cov = run_error_covariance(np.where(u, core.zn_deg, 0.0), sight_hours(sub_track),
+                                       run_to_fix_nm(sub_track), dr_error_kn, dr_error_fraction)
+        run_cov = run_cov * u[:, :, None] * u[:, None, :]
+    gain = unit @ np.swapaxes(jac, 1, 2)  # x = gain @ residual: the least-squares estimator
+    projector = np.eye(width)[None] * u[:, :, None] - jac @ gain  # M = I − H on the used sights
+    sigma2, information = sight_variance(residual, projector, run_cov, dof)
+    sigma_hat = np.sqrt(sigma2)
+    sigma = np.where(dof >= 1, sigma_hat, A_PRIORI_SIGMA_ARCMIN)
+    identity = np.eye(width)[None] * u[:, :, None]
+    known = gain @ run_cov @ np.swapaxes(gain, 1, 2)
+    covariance = sigma[:, None, None] ** 2 * (gain @ identity @ np.swapaxes(gain, 1, 2)) + known
+    position_cov = covariance[:, :2, :2]
+    nu = effective_dof(dof, sigma2, np.trace(unit[:, :2, :2], axis1=1, axis2=2),
+                       np.trace(known[:, :2, :2], axis1=1, axis2=2), information)
+    nu = np.where(dof >= 1, nu, np.inf)
+    scale = np.sqrt(2.0 * f_2_quantile(CONFIDENCE, nu))
+    major, minor, orientation = error_ellipse(position_cov, scale)
+    spread = azimuth_spread_many(core.zn_deg, u)
+    leverage = np.einsum("fsi,fij,fsj->fs", jac, unit, jac)
+    outlier, gross, detectable = blunder_test(residual, leverage, u, dof, sigma)
+    speed_sigma = np.sqrt(np.trace(covariance[:, 2:, 2:], axis1=1, axis2=2)) if motion else np.zeros(rows.size)
+
+    # plain Python numbers for the per-group results (a numpy scalar costs more to handle)
+    lat, lon = core.lat_deg.tolist(), core.lon_deg.tolist()
+    numbers = [a.tolist() for a in (sigma, sigma_hat, major, minor, orientation, scale, spread, speed_sigma,
+                                    nu, detectable)]
+    sigma_l, sigma_hat_l, major_l, minor_l, orientation_l, scale_l, spread_l, speed_sigma_l, nu_l, detect_l = numbers
+    dof_l, n_l, steps_l = dof.tolist(), n.tolist(), core.iterations_each.tolist()
+    converged_l, singular_l = core.converged.tolist(), core.singular.tolist()
+    run_included = run_cov.any(axis=(1, 2)).tolist()
+
+    def result(j: int) -> FixResult | None:
+        if singular_l[j]:
+            return None
+        warnings_: list[str] = []
+        d = dof_l[j]
+        if d >= 1:
+            source = f"from the residuals, {d} redundant sight{plural(d)}"
+            if run_included[j]:
+                source += ", the DR's error over the run taken out"
+        else:
+            source = f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight, no redundancy"
+            warnings_.append(f"{n_l[j]} sights and {k} unknowns: no redundancy, so the ellipse rests on an "
+                             f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight and there is no check on a blunder")
+        if spread_l[j] < WEAK_CROSSING_DEG:
+            warnings_.append(f"weak fix: the lines of position cross at {spread_l[j]:.0f}° at most (azimuths "
+                             f"alike or opposite); below {WEAK_CROSSING_DEG:.0f}° the fix is poorly defined")
+        if not converged_l[j]:
+            warnings_.append(f"the iteration did not settle to {CONVERGED_NM} nm in {MAX_ITERATIONS} steps")
+        fix = FixResult(
+            utc=_NAT, lat_deg=lat[j], lon_deg=lon[j], sigma_arcmin=sigma_l[j], ellipse_semi_major_nm=major_l[j],
+            ellipse_semi_minor_nm=minor_l[j], ellipse_orientation_deg=orientation_l[j], residual_arcmin=EMPTY_ROWS,
+            outlier=EMPTY_ROWS, warnings=warnings_, used=EMPTY_ROWS, n_sights=n_l[j], covariance_nm2=position_cov[j],
+            confidence_scale=scale_l[j], sigma_source=source, iterations=steps_l[j],
+            quantile=quantile_name(nu_l[j], d), spread_deg=spread_l[j], dr_error_included=run_included[j],
+            redundant=d, ellipse_note=ellipse_note(n_l[j], k, d),
+            blunder_note=blunder_note(n_l[j], d, detect_l[j], k), detectable_blunder_arcmin=detect_l[j])
+        if motion:
+            vn, ve = float(core.velocity_north_kn[j]), float(core.velocity_east_kn[j])
+            fix.course_made_good_deg = float(wrap_360(np.degrees(np.arctan2(ve, vn))))
+            fix.speed_made_good_kn = float(np.hypot(vn, ve))
+            if speed_sigma_l[j] > 2.0:
+                warnings_.append(f"course and speed made good are poorly determined (±{speed_sigma_l[j]:.1f} kn)")
+        return fix
+
+    return Part(core.residual_arcmin, outlier, gross, result)
+
+
+def solve_line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0, dr_error_kn, dr_error_fraction):
+    """Groups whose lines of position (nearly) coincide: one combined line each, worked from the DR.
+
+    Each line, advanced to the fix time, lies a_j miles from the DR toward its azimuth Z_j; the
+    combined line runs across the mean azimuth Z (the axial mean) and lies p miles from the DR,
+    the least-squares p = Σ a_j c_j / Σ c_j² with c_j = cos(Z_j − Z). Its 95 % band is Student's t
+    with n − 1 degrees of freedom (an effective number when the DR's error over the run is part of it).
+    """
+    u = use[rows]
+    shown = present[rows]
+    sub_track = track.take(rows)
+    sight_lat, sight_lon = at_sights(sub_track, lat0[rows], lon0[rows])
+    hc, zn = computed_altitude_azimuth(sight_lat, sight_lon, gha[rows], dec[rows])
+    intercept_all = (ho[rows] - hc) * ARCMIN_PER_DEG
+    intercept = np.where(u, intercept_all, 0.0)
+    doubled = np.radians(2.0 * zn)
+    toward = np.degrees(np.arctan2(np.where(u, np.sin(doubled), 0.0).sum(1),
+                                   np.where(u, np.cos(doubled), 0.0).sum(1))) / 2.0
+    cosines_all = np.cos(np.radians(zn - toward[:, None]))
+    cosines = np.where(u, cosines_all, 0.0)
+    flip = np.sum(intercept * cosines, axis=1) < 0  # point the line's azimuth to the side it lies on
+    toward = wrap_360(np.where(flip, toward + 180.0, toward))
+    cosines = np.where(flip[:, None], -cosines, cosines)
+    cosines_all = np.where(flip[:, None], -cosines_all, cosines_all)
+    weight = np.sum(cosines**2, axis=1)
+    offset = np.sum(intercept * cosines, axis=1) / weight
+    residual = np.where(shown, intercept_all - offset[:, None] * cosines_all, np.nan)
+    r = np.where(u, residual, 0.0)
+    n = u.sum(axis=1)
+    dof = n - 1
+    run_cov = run_error_covariance(np.where(u, zn, 0.0), sight_hours(sub_track), run_to_fix_nm(sub_track),
+                                   dr_error_kn, dr_error_fraction)
+    run_cov = run_cov * u[:, :, None] * u[:, None, :]
+    gain = cosines / weight[:, None]
+    projector = np.eye(u.shape[1])[None] * u[:, :, None] - cosines[:, :, None] * gain[:, None, :]
+    sigma2, information = sight_variance(r, projector, run_cov, dof)
+    sigma_hat = np.sqrt(sigma2)
+    sigma = np.where(dof >= 1, sigma_hat, A_PRIORI_SIGMA_ARCMIN)
+    known = np.einsum("fi,fij,fj->f", gain, run_cov, gain)
+    unit = np.sum(gain**2, axis=1)
+    variance = sigma**2 * unit + known
+    nu = np.where(dof >= 1, effective_dof(dof, sigma2, unit, known, information), np.inf)
+    t = np.where(np.isfinite(nu), student_t_quantile(0.975, np.where(np.isfinite(nu), nu, 1.0)),
+                 float(student_t_quantile(0.975, np.inf)))
+    half_width = t * np.sqrt(variance)
+    foot_lat, foot_lon = destination(lat0[rows], lon0[rows], toward, offset)
+    near_meridian = np.minimum(np.abs(wrap_180(zn)), np.abs(wrap_180(zn - 180.0))) <= MERIDIAN_AZIMUTH_DEG
+    meridian = np.all(near_meridian | ~u, axis=1)
+    along = wrap_axial(toward + 90.0)
+    outlier, gross, detectable = blunder_test(r, cosines * gain, u, dof, sigma)
+    run_included = run_cov.any(axis=(1, 2))
+
+    def result(j: int) -> FixResult:
+        d = int(dof[j])
+        source = (f"from the residuals, {d} redundant sight{plural(d)}" if d >= 1
+                  else f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight")
+        side = "toward" if offset[j] >= 0 else "away from"
+        what = "a latitude (the sights are on the meridian)" if meridian[j] else "a line of position"
+        message = (f"not a fix: the lines of position cross at {spread0[rows[j]]:.0f}° at most (below "
+                   f"{LINE_ONLY_DEG:.0f}°), so the sights give {what}, {abs(offset[j]):.1f} nm {side} "
+                   f"{toward[j]:03.0f}° from the DR, good to ±{half_width[j]:.1f} nm (95 %); the position along "
+                   "it is the DR's")
+        quantile = "normal" if not np.isfinite(nu[j]) else (f"t({d})" if abs(nu[j] - d) < 0.05 else f"t({nu[j]:.1f})")
+        return FixResult(
+            utc=np.datetime64("NaT"), lat_deg=float(foot_lat[j]), lon_deg=float(foot_lon[j]),
+            sigma_arcmin=float(sigma[j]), ellipse_semi_major_nm=float("inf"),
+            ellipse_semi_minor_nm=float(half_width[j]), ellipse_orientation_deg=float(along[j]),
+            residual_arcmin=residual[j], outlier=outlier[j], warnings=[message], used=u[j], n_sights=int(n[j]),
+            covariance_nm2=np.array([[variance[j], 0.0], [0.0, np.inf]]), confidence_scale=float(t[j]),
+            sigma_source=source, iterations=0, quantile=quantile, kind=FixKind.LATITUDE if meridian[j] else FixKind.LINE,
+            spread_deg=float(spread0[rows[j]]), line_bearing_deg=float(along[j]), line_offset_nm=float(offset[j]),
+            line_toward_deg=float(toward[j]), dr_error_included=bool(run_included[j]), redundant=d,
+            blunder_note=blunder_note(int(n[j]), d, float(detectable[j]), 1),
+            detectable_blunder_arcmin=float(detectable[j]))
+
+    return Part(residual, outlier, gross, result)
+
+
+__all__ = ["WEAK_CROSSING_DEG", "MERIDIAN_AZIMUTH_DEG", "Part", "solve_fix_part", "solve_line_part"]

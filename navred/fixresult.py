@@ -1,0 +1,169 @@
+"""What a fix gives: :class:`FixResult` (a fix, a line of position or a latitude, how good it is and which
+sight was bad), a chart position compared with it (:class:`ChartCheck`), and a batch's results
+(:class:`GroupFixes`)."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .status import FixKind, RunFrom
+from .triangle import distance_bearing
+
+#: Lines of position that cross at less than this make a line (or a latitude), not a fix.
+LINE_ONLY_DEG = 15.0
+
+
+EMPTY_ROWS = np.zeros(0)
+EMPTY_ROWS.flags.writeable = False  # a placeholder for per-sight arrays not yet filled in (never written to)
+
+
+@dataclass
+class ChartCheck:
+    """A chart or satellite position compared with the celestial fix."""
+
+    lat_deg: float
+    lon_deg: float
+    distance_nm: float
+    bearing_deg: float
+    inside_ellipse: bool
+
+
+@dataclass
+class FixResult:
+    """A fix (or a line, or a latitude), how good it is, and which sight was bad. One residual and flag per input row.
+
+    ``kind`` is a :class:`~navred.status.FixKind` (``"fix"``, ``"line of position"`` or ``"latitude"``): when the lines cross at less
+    than :data:`LINE_ONLY_DEG` there is no fix, and ``lat_deg``/``lon_deg`` are the foot of the
+    combined line nearest the DR, which runs at ``line_bearing_deg``; the ellipse is then a band
+    of half-width ``ellipse_semi_minor_nm`` along the line (its semi-major axis is infinite).
+    """
+
+    utc: np.datetime64
+    lat_deg: float
+    lon_deg: float
+    sigma_arcmin: float
+    ellipse_semi_major_nm: float
+    ellipse_semi_minor_nm: float
+    ellipse_orientation_deg: float
+    residual_arcmin: np.ndarray
+    outlier: np.ndarray
+    warnings: list[str]
+    used: np.ndarray
+    n_sights: int
+    covariance_nm2: np.ndarray
+    confidence_scale: float
+    sigma_source: str
+    iterations: int
+    #: the quantile the ellipse is scaled by: 'F(2, ν)' for a σ estimated from ν redundant sights (ν an
+    #: effective number when the DR's known error over the run is part of the ellipse), 'chi-square(2)' for
+    #: a σ assumed (two sights), 't(ν)' for a line's band
+    quantile: str = ""
+    kind: FixKind = FixKind.FIX
+    spread_deg: float = float("nan")
+    line_bearing_deg: float | None = None
+    #: the line's distance from the DR at the fix time, toward line_toward_deg (a line or latitude)
+    line_offset_nm: float | None = None
+    line_toward_deg: float | None = None
+    #: the latitude from the noon curve (a parabola fitted to a series around meridian passage)
+    noon_curve_latitude_deg: float | None = None
+    dr_error_included: bool = False
+    course_made_good_deg: float | None = None
+    speed_made_good_kn: float | None = None
+    #: the check fix: this one recomputed without the sights flagged as possible blunders (kept in it)
+    without_outliers: FixResult | None = field(default=None, repr=False)
+    #: per input row: a sight whose line is a gross error beyond doubt, left out of this fix (see all_sights)
+    left_out: np.ndarray = field(default_factory=lambda: EMPTY_ROWS)
+    #: per input row: a flagged sight of this fix that is a gross error beyond doubt (GROSS_ARCMIN off)
+    gross: np.ndarray = field(default_factory=lambda: EMPTY_ROWS)
+    #: the fix from every sight, when a gross error was left out of this one
+    all_sights: FixResult | None = field(default=None, repr=False)
+    #: the names of the sights left out ('row 9', as the labels given)
+    left_out_names: list[str] = field(default_factory=list)
+    #: sights beyond the unknowns (n − k): how many check the others
+    redundant: int = 0
+    #: what the ellipse's size means for this count of sights, in words (few redundant sights)
+    ellipse_note: str = ""
+    #: what the blunder test can find with these sights, in words
+    blunder_note: str = ""
+    #: about the smallest blunder (arcminutes) the test finds in half the fixes, from this fix's scatter
+    #: (NaN when the sights are too few to single one out)
+    detectable_blunder_arcmin: float = float("nan")
+    #: how the run between the sights was found: 'course and speed', 'course, speed and current', 'the
+    #: rows' own DRs', or 'none' (sights taken together, or a ship taken as stopped)
+    run_from: RunFrom = RunFrom.NONE
+    #: the fix's distance from the DR at the fix time (nm)
+    dr_distance_nm: float = float("nan")
+    #: the sights scatter beyond any hand-held sextant (SEXTANT_SIGMA_LIMIT_ARCMIN, at SCATTER_CONFIDENCE)
+    scatter_impossible: bool = False
+    chart_distance_nm: float | None = None
+    chart_bearing_deg: float | None = None
+    chart_inside_ellipse: bool | None = None
+    #: the DR at the fix time, and each sight's line of position advanced (or retired) to the
+    #: fix time, as an intercept and azimuth from that DR (input-row order, NaN if unused)
+    dr_lat_deg: float = float("nan")
+    dr_lon_deg: float = float("nan")
+    lop_intercept_nm: np.ndarray = field(default_factory=lambda: EMPTY_ROWS)
+    lop_zn_deg: np.ndarray = field(default_factory=lambda: EMPTY_ROWS)
+    #: each line's foot (the intercept along Zn from that DR) and the true bearing of the line there:
+    #: tangent to the circle of equal altitude at the foot
+    lop_foot_lat_deg: np.ndarray = field(default_factory=lambda: EMPTY_ROWS)
+    lop_foot_lon_deg: np.ndarray = field(default_factory=lambda: EMPTY_ROWS)
+    lop_tangent_deg: np.ndarray = field(default_factory=lambda: EMPTY_ROWS)
+
+    @property
+    def is_fix(self) -> bool:
+        return self.kind == FixKind.FIX
+
+    @property
+    def residual_nm(self) -> np.ndarray:
+        """Residuals in nautical miles (one arcminute of altitude is one nautical mile)."""
+        return self.residual_arcmin.copy()
+
+    def ellipse_text(self) -> str:
+        """The 95 % ellipse's full size as a navigator reads it, and its semi-axes: '10.9 × 2.8 nm, semi-axes
+        5.4 × 1.4 nm' (for a line or a latitude, the band's width: '2.8 nm wide, ±1.4 nm')."""
+        if not self.is_fix:
+            return f"{2 * self.ellipse_semi_minor_nm:.1f} nm wide, ±{self.ellipse_semi_minor_nm:.1f} nm"
+        a, b = self.ellipse_semi_major_nm, self.ellipse_semi_minor_nm
+        return f"{2 * a:.1f} × {2 * b:.1f} nm, semi-axes {a:.1f} × {b:.1f} nm"
+
+    @property
+    def standard_error_nm(self) -> float:
+        """Root of the trace of the position covariance: the fix's standard error, nm."""
+        return float(np.sqrt(np.trace(self.covariance_nm2)))
+
+    def cross_check(self, lat_deg: float, lon_deg: float) -> ChartCheck:
+        """Distance and bearing from the fix to a chart or GNSS position, and whether it lies inside
+        the 95 % ellipse (for a line of position: within its 95 % band)."""
+        distance, bearing = distance_bearing(self.lat_deg, self.lon_deg, lat_deg, lon_deg)
+        if not self.is_fix:
+            across = self.distance_off_line_nm(lat_deg, lon_deg)
+            return ChartCheck(float(lat_deg), float(lon_deg), float(distance), float(bearing),
+                              bool(abs(across) <= self.ellipse_semi_minor_nm))
+        b = np.radians(float(bearing))
+        offset = float(distance) * np.array([np.cos(b), np.sin(b)])
+        inside = float(offset @ np.linalg.solve(self.covariance_nm2, offset)) <= self.confidence_scale**2
+        return ChartCheck(float(lat_deg), float(lon_deg), float(distance), float(bearing), bool(inside))
+
+    def distance_off_line_nm(self, lat_deg: float, lon_deg: float) -> float:
+        """For a line of position or a latitude: how far a position lies off the line (positive
+        on the side the line's azimuth points to)."""
+        distance, bearing = distance_bearing(self.lat_deg, self.lon_deg, lat_deg, lon_deg)
+        toward = self.line_toward_deg if self.line_toward_deg is not None else 0.0
+        return float(distance * np.cos(np.radians(float(bearing) - toward)))
+
+
+@dataclass
+class GroupFixes:
+    """One fix (or line, or latitude) per group, or the reason there is none."""
+
+    results: list[FixResult | None]
+    problems: list[str]
+
+
+PARALLEL_LINES = "the lines of position are parallel (all azimuths alike or opposite): no fix"
+
+
+__all__ = ["LINE_ONLY_DEG", "EMPTY_ROWS", "ChartCheck", "FixResult", "GroupFixes", "PARALLEL_LINES"]

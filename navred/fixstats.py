@@ -1,0 +1,276 @@
+"""The statistics of a fix: the sights' σ, the 95 % ellipse or band, the blunder test, and what they mean.
+
+σ is estimated from the residuals with no floor (with a run between the sights, by the restricted
+likelihood that weighs out the DR error's share, :func:`sight_variance`); the ellipse is scaled by
+√(2 F(2, ν)), ν an effective number (:func:`effective_dof`) when the DR's error over the run is part
+of it; the blunder test is the largest externally studentized residual against Student's t with
+Bonferroni's correction (:func:`blunder_test`). Every quantile comes from :mod:`navred.stats`.
+"""
+
+from __future__ import annotations
+
+import functools
+
+import numpy as np
+from numpy.typing import ArrayLike
+
+from .angles import wrap_axial
+from .stats import chi_square_2_quantile, f_2_quantile, student_t_quantile
+
+#: Assumed standard error of one sight when a fix has no redundancy (two sights), arcminutes:
+#: a good sight at sea is good to about 1′ (common practice).
+A_PRIORI_SIGMA_ARCMIN = 1.0
+
+
+#: The DR's own error over a run (common practice; set with dr_error_kn / dr_error_fraction):
+#: an unknown current and leeway of this many knots, and this fraction of the distance run for
+#: the log and the steering. The run from each sight to the fix time is displaced by one unknown
+#: amount, isotropic, of standard deviation DR_ERROR_KN·hours + DR_ERROR_FRACTION·miles run.
+DR_ERROR_KN = 0.3
+
+
+DR_ERROR_FRACTION = 0.02
+
+
+#: The blunder test: the chance that a fix of sights with no blunder has one flagged, whatever the number
+#: of sights (the largest externally studentized residual against Student's t at BLUNDER_ALPHA / n, two-sided:
+#: Bonferroni's correction for testing every sight).
+BLUNDER_ALPHA = 0.05
+
+
+#: A sight is flagged only when its line also lies this far from the fix of the others (arcminutes): a
+#: smaller miss is within a good sight's own error, whatever the test says of sights that agree too well
+#: (common practice).
+BLUNDER_MIN_ARCMIN = 1.0
+
+
+#: A flagged sight whose line lies this far from the fix of the others (arcminutes) is a gross error beyond
+#: doubt (a misnamed body, a slip of degrees or of minutes, a wrong time): no sextant error, refraction
+#: anomaly or abnormal dip comes near a third of a degree (common practice). It is left out of the fix.
+GROSS_ARCMIN = 20.0
+
+
+#: A group of more sights than this (a whole day's sights given one fix group, say) is not searched sight by
+#: sight for a gross error, and its σ is the residuals' sum of squares less the run's expected share rather
+#: than the restricted likelihood (both cost the cube of the sights).
+MAX_SIGHTS_SEARCHED = 60
+
+
+CONFIDENCE = 0.95
+
+
+#: What every 95 % ellipse of navred covers, and what it cannot.
+ELLIPSE_COVERS = ("covers the sights' random error and the DR's error over the run; it cannot cover an error "
+                  "common to every sight (the clock: 1 s of time is 0.25′ of longitude; a wrong height of eye or "
+                  "index error; abnormal dip), nor a misnamed body")
+
+
+def error_ellipse(covariance_nm2: ArrayLike, scale: ArrayLike) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Semi-major and semi-minor axes (nm) and true bearing of the major axis (0-180°).
+
+    ``covariance_nm2`` (..., 2, 2) in (north, east); ``scale`` multiplies the standard
+    deviations (the confidence factor).
+    """
+    c = np.asarray(covariance_nm2, dtype=float)
+    nn, ee, ne = c[..., 0, 0], c[..., 1, 1], c[..., 0, 1]
+    mean = (nn + ee) / 2.0
+    radius = np.sqrt(((nn - ee) / 2.0) ** 2 + ne**2)
+    major = scale * np.sqrt(np.maximum(mean + radius, 0.0))
+    minor = scale * np.sqrt(np.maximum(mean - radius, 0.0))
+    orientation = np.degrees(0.5 * np.arctan2(2.0 * ne, nn - ee))  # from north toward east
+    return major, minor, wrap_axial(orientation)
+
+
+def azimuth_spread_deg(zn_deg: ArrayLike) -> float:
+    """The widest angle at which the lines of position cross (azimuths taken modulo 180°)."""
+    zn = np.asarray(zn_deg, dtype=float)
+    directions = np.sort(wrap_axial(zn[np.isfinite(zn)]))
+    if directions.size < 2:
+        return 0.0
+    gaps = np.diff(np.concatenate([directions, directions[:1] + 180.0]))
+    return float(180.0 - gaps.max())
+
+
+def azimuth_spread_many(zn_deg: np.ndarray, use: np.ndarray) -> np.ndarray:
+    """:func:`azimuth_spread_deg` of each row of (groups, sights) azimuths, using the sights ``use`` marks."""
+    directions = np.sort(np.where(use, wrap_axial(zn_deg), np.inf), axis=1)
+    count = use.sum(axis=1)
+    first = directions[:, :1] + 180.0
+    padded = np.concatenate([directions, np.full_like(first, np.inf)], axis=1)
+    # the wrap-around gap closes the circle after the last used direction
+    padded[np.arange(len(count)), count] = first[:, 0]
+    with np.errstate(invalid="ignore"):
+        gaps = np.diff(padded, axis=1)  # inf − inf beyond the used directions, masked next
+    valid = np.arange(gaps.shape[1])[None, :] < count[:, None]
+    widest = np.where(valid, gaps, -np.inf).max(axis=1)
+    return np.where(count >= 2, 180.0 - widest, 0.0)
+
+
+def run_error_covariance(zn_deg: ArrayLike, dt_hours: ArrayLike, run_nm: ArrayLike, dr_error_kn: float = DR_ERROR_KN,
+                         dr_error_fraction: float = DR_ERROR_FRACTION) -> np.ndarray:
+    """Covariance (nm², sights × sights) that the DR's error over each run adds to the altitude residuals.
+
+    Each sight's position is carried from its time to the fix time; the carrying is wrong by one
+    unknown displacement, isotropic, of standard deviation s = dr_error_kn·|hours| +
+    dr_error_fraction·miles run (common practice). Its component along each sight's azimuth
+    moves that line: cov_ij = s_i s_j cos(Zn_i − Zn_j). Arrays (..., sights) give (..., sights, sights).
+    """
+    zn = np.radians(np.asarray(zn_deg, dtype=float))
+    s = dr_error_kn * np.abs(np.asarray(dt_hours, dtype=float)) + dr_error_fraction * np.asarray(run_nm, dtype=float)
+    return s[..., :, None] * s[..., None, :] * np.cos(zn[..., :, None] - zn[..., None, :])
+
+
+def plural(count: int) -> str:
+    return "s" if count != 1 else ""
+
+
+def sight_variance(residual: np.ndarray, projector: np.ndarray, run_cov: np.ndarray, dof: np.ndarray
+                   ) -> tuple[np.ndarray, np.ndarray]:
+    """The sights' variance σ̂² (arcmin²) of each group of a batch, and its Fisher information, when the
+    residuals also carry the DR's known error over the run.
+
+    The residuals r = M e (M the residual projector, rank ν) of errors e with covariance σ²I + C: in the
+    eigenvectors of M C M within the residual space, the components z_j are independent with variances
+    σ² + λ_j. σ̂² maximises their (restricted) likelihood, Σ (z_j² − (σ² + λ_j))/(σ² + λ_j)² = 0, σ² ≥ 0
+    (H. D. Patterson and R. Thompson, "Recovery of inter-block information when block sizes are unequal",
+    Biometrika 58(3), 1971; from memory): a component the run's error swamps says little of σ and weighs
+    little. With no run (C = 0) it is Σr²/ν exactly. The information Σ 1/(2(σ̂² + λ_j)²) gives its variance.
+    Arrays (groups, sights), (groups, sights, sights).
+    """
+    r = np.nan_to_num(residual)
+    nu = np.maximum(np.asarray(dof, dtype=float), 0.0)
+    plain = ~run_cov.any(axis=(1, 2))
+    sigma2 = np.where(nu > 0, np.sum(r**2, axis=1) / np.maximum(nu, 1.0), 0.0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        information = np.where(sigma2 > 0, nu / (2.0 * sigma2**2), np.inf)
+    large = np.sum(np.any(run_cov != 0, axis=2), axis=1) > MAX_SIGHTS_SEARCHED
+    if large.any():  # the moment estimate, E[r'r] = σ²ν + tr MC, and its information as if C were nil
+        trace_mc = np.einsum("fij,fji->f", projector[large], run_cov[large])
+        sigma2[large] = np.maximum(np.sum(r[large] ** 2, axis=1) - trace_mc, 0.0) / np.maximum(nu[large], 1.0)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            information[large] = np.where(sigma2[large] > 0, nu[large] / (2.0 * sigma2[large] ** 2), np.inf)
+    rows = np.flatnonzero(~plain & (nu > 0) & ~large)
+    if rows.size:
+        m, c = projector[rows], run_cov[rows]
+        outside = np.trace(c, axis1=1, axis2=2)[:, None, None] * 1e6 + 1.0  # the directions M removes, set apart
+        lam, vec = np.linalg.eigh(m @ c @ m + outside * (np.eye(m.shape[1])[None] - m))
+        inside = lam < outside[:, :, 0] / 2.0
+        lam = np.where(inside, np.maximum(lam, 0.0), 0.0)
+        z2 = np.where(inside, np.einsum("fsj,fs->fj", vec, r[rows]) ** 2, 0.0)
+
+        def slope(v):  # the likelihood's slope at σ² = v (decreasing in v)
+            with np.errstate(divide="ignore", invalid="ignore"):
+                terms = (z2 - (v[:, None] + lam)) / (v[:, None] + lam) ** 2
+            return np.where(inside, np.nan_to_num(terms, nan=0.0, posinf=1e300), 0.0).sum(axis=1)
+
+        lo = np.zeros(rows.size)
+        hi = np.max(z2, axis=1) + 1e-12
+        found = np.zeros(rows.size)
+        positive = slope(np.full(rows.size, 1e-300)) > 0
+        for _ in range(80):
+            mid = (lo + hi) / 2.0
+            up = slope(mid) > 0
+            lo, hi = np.where(up, mid, lo), np.where(up, hi, mid)
+        found = np.where(positive, (lo + hi) / 2.0, 0.0)
+        sigma2[rows] = found
+        with np.errstate(divide="ignore", invalid="ignore"):
+            information[rows] = np.where(inside, 0.5 / (found[:, None] + lam) ** 2, 0.0).sum(axis=1)
+    return sigma2, information
+
+
+def effective_dof(dof: ArrayLike, sigma2: ArrayLike, trace_p: ArrayLike, trace_k: ArrayLike,
+                  information: ArrayLike) -> np.ndarray:
+    """The degrees of freedom of a position variance σ̂²·P + K whose sight part is estimated (with the
+    given Fisher information of σ̂²) and whose DR part K is known: Satterthwaite's approximation,
+    ν_eff = 2 V² / Var V̂ with V = σ̂² tr P + tr K and Var V̂ = tr(P)² / information (F. E. Satterthwaite,
+    "An approximate distribution of estimates of variance components", Biometrics Bulletin 2(6), 1946;
+    from memory). With no DR error this is ν exactly, and the ellipse is the exact F(2, ν) one.
+    """
+    nu = np.asarray(dof, dtype=float)
+    s2 = np.asarray(sigma2, dtype=float)
+    trace_p = np.asarray(trace_p, dtype=float)
+    trace_k = np.asarray(trace_k, dtype=float)
+    information = np.asarray(information, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        out = 2.0 * (s2 * trace_p + trace_k) ** 2 * information / trace_p**2
+    plain = trace_k <= 0
+    return np.where(plain, nu, np.where(np.isfinite(out), np.maximum(out, 1.0), np.inf))
+
+
+def blunder_test(residual, leverage, use, dof, sigma):
+    """The blunder test of every sight of a batch of groups (groups, sights): flags, gross errors, and the
+    smallest blunder the test finds about half the time (per group).
+
+    Each sight's externally studentized residual t_i = r_i / (s_(i) √(1 − h_ii)), with s_(i) the scatter of
+    the others (so that a blunder cannot hide by inflating it) and h_ii its leverage, is Student's t with
+    ν − 1 degrees of freedom when the sights have Gaussian errors (D. A. Belsley, E. Kuh and R. E. Welsch,
+    Regression Diagnostics, 1980; from memory). The largest of the n is judged against t(ν − 1) at
+    1 − α/(2n), two-sided (Bonferroni's correction): a clean fix has a sight flagged in at most α of
+    fixes, whatever n. A sight is flagged only if its line also lies BLUNDER_MIN_ARCMIN from the fix of
+    the others (r_i / (1 − h_ii)), and is gross beyond doubt beyond GROSS_ARCMIN. Three sights for two
+    unknowns (ν = 1) cannot single one out: their residuals are one misfit seen from each.
+    """
+    r = np.where(use, residual, 0.0)
+    miss = np.clip(1.0 - leverage, 1e-12, 1.0)
+    n = use.sum(axis=1)
+    total = np.sum(r**2, axis=1, keepdims=True)
+    testable = dof >= 2
+    with np.errstate(invalid="ignore", divide="ignore"):
+        deleted = np.maximum((total - r**2 / miss) / (dof[:, None] - 1.0), 0.0)
+        t = np.abs(r) / (np.sqrt(deleted) * np.sqrt(miss))
+    t = np.where(np.abs(r) > 0, np.nan_to_num(t, nan=np.inf, posinf=np.inf), 0.0)
+    critical = np.where(testable, student_t_quantile(1.0 - BLUNDER_ALPHA / (2.0 * np.maximum(n, 1)),
+                                                     np.where(testable, dof - 1.0, 1.0)), np.inf)
+    off = np.abs(r) / miss  # the line's distance from the fix of the others
+    outlier = use & testable[:, None] & (t > critical[:, None]) & (off > BLUNDER_MIN_ARCMIN)
+    gross = outlier & (off > GROSS_ARCMIN)
+    detectable = np.full(len(r), np.nan)
+    if testable.any():
+        per_sight = critical[testable, None] * np.asarray(sigma)[testable, None] / np.sqrt(miss[testable])
+        detectable[testable] = np.nanmedian(np.where(use[testable], per_sight, np.nan), axis=1)
+    return outlier, gross, np.maximum(detectable, BLUNDER_MIN_ARCMIN)
+
+
+@functools.lru_cache(maxsize=256)
+def _scale_ratio(d: int) -> tuple[float, float]:
+    """The ellipse's scale with ν redundant sights and with one more, each over the known-σ scale."""
+    known = float(np.sqrt(chi_square_2_quantile(CONFIDENCE)))
+    return (float(np.sqrt(2.0 * f_2_quantile(CONFIDENCE, d))) / known,
+            float(np.sqrt(2.0 * f_2_quantile(CONFIDENCE, d + 1))) / known)
+
+
+def blunder_note(n: int, d: int, detectable: float, k: int) -> str:
+    """What the blunder test can do with these sights, in words."""
+    if d <= 0:
+        return f"{n} sights for {k} unknowns: no check on a blunder at all"
+    if d == 1:
+        return (f"{n} sights for {k} unknowns cannot single out a bad sight: each residual is the same misfit "
+                "seen from one sight; take another sight to check them")
+    return (f"{n} sights can find a blunder of about {detectable:.0f}′ or more (about half the time at that size, "
+            f"from the sights' own scatter)")
+
+
+def ellipse_note(n: int, k: int, d: int) -> str:
+    """What the ellipse's size means with few redundant sights, in words a navigator reads."""
+    if d <= 0:
+        return (f"{n} sights for {k} unknowns leave none to judge the sights by: the ellipse rests on an assumed "
+                f"{A_PRIORI_SIGMA_ARCMIN}′ per sight")
+    if d > 3:
+        return ""
+    ratio, next_ratio = _scale_ratio(d)
+    return (f"{n} sights for {k} unknowns leave {d} redundant sight{plural(d)} to judge the sights' error by, so "
+            f"that error is known only roughly and the ellipse allows for it being larger than it looks: the "
+            f"sights' share of it is {ratio:.1f} times the size a known error would give; one more sight would "
+            f"make that {next_ratio:.1f} times")
+
+
+def quantile_name(nu: float, d: int) -> str:
+    if not np.isfinite(nu) or nu > 1000.0:  # F(2, ν) is then chi-square(2)/2 to 0.3 %
+        return "chi-square(2)"
+    return f"F(2, {d})" if abs(nu - d) < 0.05 else f"F(2, {nu:.1f})"
+
+
+__all__ = ["A_PRIORI_SIGMA_ARCMIN", "DR_ERROR_KN", "DR_ERROR_FRACTION", "BLUNDER_ALPHA", "BLUNDER_MIN_ARCMIN",
+           "GROSS_ARCMIN", "MAX_SIGHTS_SEARCHED", "CONFIDENCE", "ELLIPSE_COVERS", "error_ellipse",
+           "azimuth_spread_deg", "azimuth_spread_many", "run_error_covariance", "plural", "sight_variance",
+           "effective_dof", "blunder_test", "blunder_note", "ellipse_note", "quantile_name"]

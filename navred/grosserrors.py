@@ -1,0 +1,158 @@
+"""The gross errors of a batch of fixes left out, and the check fixes.
+
+A sight whose line lies far beyond any sextant error from the others (a misnamed body, a slip of
+degrees or minutes, a wrong time) is left out of its fix, the fix from every sight kept beside it;
+where the scatter alone betrays a gross error, each sight (then each pair) is left out in turn to
+find it. The sights flagged as possible blunders, kept in the fix, are left out of a check fix."""
+
+from __future__ import annotations
+
+import itertools
+from dataclasses import replace
+
+import numpy as np
+
+from .angles import format_angle
+from .fixbatch import SightRows, fix_batch, subset_groups
+from .fixstats import BLUNDER_ALPHA, GROSS_ARCMIN, MAX_SIGHTS_SEARCHED
+from .stats import student_t_quantile
+from .triangle import distance_bearing
+
+
+def leave_out_gross(sights: SightRows, group, n_groups, ok, results) -> None:
+    """Each group's gross errors beyond doubt left out of its fix, a round at a time (a second one can hide
+    behind the first); the fix from every sight kept beside it, and a loud warning naming each row."""
+    left_out = np.zeros(group.size, dtype=bool)
+    first = list(results)
+    bounds = np.concatenate([[0], np.cumsum(np.bincount(group[group >= 0], minlength=n_groups))])
+    by_group = np.argsort(np.where(group >= 0, group, n_groups), kind="stable")
+    for _ in range(3):
+        chosen, rows, wild = [], [], []
+        for g, result in enumerate(results):
+            if result is None:
+                continue
+            if result.gross.any():
+                chosen.append(g)
+                rows.append(by_group[bounds[g]:bounds[g + 1]][result.gross])
+            elif result.scatter_impossible and result.redundant >= 2 and result.n_sights <= MAX_SIGHTS_SEARCHED:
+                wild.append(g)
+        for g, found in _gross_by_leaving_out(sights, group, ok, left_out, wild, results).items():
+            chosen.append(g)
+            rows.append(np.array(found))
+        if not chosen:
+            break
+        left_out[np.concatenate(rows)] = True
+        times = np.array([results[g].utc for g in chosen], dtype="datetime64[ns]")
+        again, _ = fix_batch(sights, subset_groups(group, chosen, n_groups), len(chosen), ok, left_out, times)
+        for j, g in enumerate(chosen):
+            if again[j] is not None:
+                results[g] = again[j]
+    for g, result in enumerate(results):
+        if result is None or first[g] is result or not result.left_out.any():
+            continue
+        every = first[g]
+        result.all_sights = every
+        names = sights.names[by_group[bounds[g]:bounds[g + 1]][result.left_out]]
+        result.left_out_names = [str(name) for name in names]
+        misses = np.abs(result.residual_arcmin[result.left_out])
+        miles = float(distance_bearing(result.lat_deg, result.lon_deg, every.lat_deg, every.lon_deg)[0])
+        lines = ", ".join(f"{name} ({miss:.0f}′ off)" for name, miss in zip(names, misses.tolist()))
+        result.warnings.insert(0, (
+            f"LEFT OUT of this {result.kind}: {lines}: {'their lines lie' if len(names) > 1 else 'its line lies'} "
+            f"far beyond any sextant error from the others (a misnamed body, a slip of degrees or minutes, a "
+            f"wrong time?); the {every.kind} from every sight is {miles:.1f} nm away, at "
+            f"{format_angle(every.lat_deg, 'lat')} {format_angle(every.lon_deg, 'lon')}"))
+        if miles > 1.0:
+            result.warnings.insert(1, f"this {result.kind} and the one from every sight differ by {miles:.1f} nm: "
+                                      "plot this one, and find out what is wrong with the sight left out")
+
+
+def _gross_by_leaving_out(sights: SightRows, group, ok, left_out, wild: list[int], results) -> dict[int, list[int]]:
+    """For fixes whose sights scatter beyond any sextant: each sight left out in turn (then, where that finds
+    nothing and six or more sights remain, each pair), every such fix of the others solved at once (from the DR,
+    not from the all-sights fix a gross error has dragged off). The sights whose leaving out makes the
+    others agree, each of whose lines then lies more than GROSS_ARCMIN and beyond the blunder test's limit
+    from their fix, are the gross errors: their rows, per group."""
+    found: dict[int, list[int]] = {}
+    for size in (1, 2):
+        todo = [g for g in wild if g not in found]
+        copies_rows, copies_group, copies_left, owner, dropped = [], [], [], [], []
+        for g in todo:
+            members = np.flatnonzero((group == g) & ok)
+            free = members[~left_out[members]]
+            if free.size - size < 2 + size:  # the others keep a check of their own: 3 for one out, 4 for two
+                continue
+            for chosen in itertools.combinations(free.tolist(), size):
+                copies_rows.append(members)
+                copies_group.append(np.full(members.size, len(owner)))
+                copies_left.append(left_out[members] | np.isin(members, chosen))
+                owner.append(g)
+                dropped.append(list(chosen))
+        if not owner:
+            continue
+        rows = np.concatenate(copies_rows)
+        sub = replace(sights, gha=sights.gha[rows], dec=sights.dec[rows], ho=sights.ho[rows], utc=sights.utc[rows],
+                      dr_lat=sights.dr_lat[rows], dr_lon=sights.dr_lon[rows], course=sights.course[rows],
+                      speed=sights.speed[rows], set_deg=sights.set_deg[rows], drift_kn=sights.drift_kn[rows],
+                      dr_age_h=sights.dr_age_h[rows], names=sights.names[rows])
+        times = np.array([results[g].utc for g in owner], dtype="datetime64[ns]")
+        trials, _ = fix_batch(sub, np.concatenate(copies_group), len(owner), np.ones(rows.size, dtype=bool),
+                               np.concatenate(copies_left), times)
+        best: dict[int, tuple[float, list[int], np.ndarray, int]] = {}
+        for c, (g, chosen) in enumerate(zip(owner, dropped)):
+            trial = trials[c]
+            if trial is None or trial.redundant < 1 or trial.scatter_impossible:
+                continue
+            misses = np.array([float(trial.residual_arcmin[np.flatnonzero(copies_rows[c] == row)[0]])
+                               for row in chosen])
+            if g not in best or trial.sigma_arcmin < best[g][0]:
+                best[g] = (trial.sigma_arcmin, chosen, misses, trial.redundant)
+        for g, (sigma, chosen, misses, d) in best.items():
+            n = d + 2 + size  # the sights of the fix of the others (two unknowns) and those left out
+            limit = float(student_t_quantile(1.0 - BLUNDER_ALPHA / (2.0 * n), d)) * sigma
+            if np.all(np.abs(misses) > max(GROSS_ARCMIN, limit)):
+                found[g] = chosen
+    return found
+
+
+def check_fixes(sights: SightRows, group, n_groups, ok, results) -> None:
+    """For each fix with sights flagged as possible blunders (kept in it): the check fix without them, and a
+    warning of how far it moves."""
+    bounds = np.concatenate([[0], np.cumsum(np.bincount(group[group >= 0], minlength=n_groups))])
+    by_group = np.argsort(np.where(group >= 0, group, n_groups), kind="stable")
+    left_out = np.zeros(group.size, dtype=bool)
+    chosen = []
+    for g, result in enumerate(results):
+        if result is None:
+            continue
+        rows = by_group[bounds[g]:bounds[g + 1]]
+        doubtful = result.outlier & ~_or_empty(result.left_out, rows.size)
+        if doubtful.any() and int(result.used.sum()) - int(doubtful.sum()) >= 2:
+            chosen.append(g)
+            left_out[rows[doubtful | _or_empty(result.left_out, rows.size)]] = True
+    if not chosen:
+        return
+    times = np.array([results[g].utc for g in chosen], dtype="datetime64[ns]")
+    checks, _ = fix_batch(sights, subset_groups(group, chosen, n_groups), len(chosen), ok, left_out, times)
+    for j, g in enumerate(chosen):
+        result, check = results[g], checks[j]
+        if check is None:
+            continue
+        rows = by_group[bounds[g]:bounds[g + 1]]
+        doubtful = result.outlier & ~_or_empty(result.left_out, rows.size)
+        names = sights.names[rows[doubtful]]
+        count = len(names)
+        miles = float(distance_bearing(result.lat_deg, result.lon_deg, check.lat_deg, check.lon_deg)[0])
+        result.warnings.append(
+            f"{', '.join(names)} look{'' if count > 1 else 's'} like {'blunders' if count > 1 else 'a blunder'} "
+            f"(the blunder test, at {BLUNDER_ALPHA * 100:.0f} % false alarms for the whole fix); without "
+            f"{'them' if count > 1 else 'it'} the {result.kind} moves {miles:.1f} nm (the check fix)"
+            + (": more than a mile, so look at the sight before plotting either" if miles > 1.0 else ""))
+        result.without_outliers = check
+
+
+def _or_empty(values: np.ndarray, size: int) -> np.ndarray:
+    return values if values.size == size else np.zeros(size, dtype=bool)
+
+
+__all__ = ["leave_out_gross", "check_fixes"]

@@ -1,0 +1,254 @@
+"""The least-squares fix on the sphere: many independent fixes solved at once by Gauss-Newton.
+
+The fix is the position that minimises the sum of squared altitude residuals Ho − Hc, found
+by Gauss-Newton iteration on the sphere from the DR: at each step Hc and Zn are recomputed
+from the full spherical formula at the current estimate, the residuals are projected on the
+azimuths (∂Hc/∂north = cos Zn, ∂Hc/∂east = sin Zn, one arcminute per nautical mile) and the
+position is moved until the step is below 0.01 nautical mile. This is the published
+least-squares method for celestial fixes (G. H. Kaplan, "Determining the position and motion
+of a vessel from celestial observations", Navigation 42(4), 1995; citation recalled from
+memory). Because Hc is exact at every step it stays right for high sights and for a DR far
+from the truth.
+
+Sights taken at different times are referred to one fix time by the vessel's run: each sight's
+position is the fix position carried back (or on) along its DR track (:func:`sight_track`, a
+:class:`navred.reckoning.DRTrack`), leg by leg, each leg the rhumb line steered at the course and
+speed in force after the sight that begins it (plus any current), on the WGS 84 ellipsoid.
+
+The solver works on arrays of shape (fixes, sights), so a fleet's archive of independent fixes
+is solved at once (no Python loop over fixes or sights).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+from numpy.typing import ArrayLike
+
+from .angles import wrap_180
+from .constants import ARCMIN_PER_DEG, NS_PER_HOUR
+from .errors import NavredError, failed_elements
+from .reckoning import DRTrack
+from .triangle import computed_altitude_azimuth
+
+CONVERGED_NM = 0.01
+
+
+MAX_ITERATIONS = 25
+
+
+def step_on_sphere(lat_deg: ArrayLike, lon_deg: ArrayLike, north_nm: ArrayLike, east_nm: ArrayLike
+                   ) -> tuple[np.ndarray, np.ndarray]:
+    """Position moved along the great circle of a displacement (nautical miles north and east), exact at any
+    latitude, the poles included.
+
+    In three dimensions: the unit vector p of the position, the local north N = ∂p/∂φ and east
+    E = ∂p/∂λ / cos φ of its meridian (at a pole N and E still stand, along the meridian λ + 180° and
+    across it, the frame in which the spherical formula gives Zn there), and p cos d + u sin d for the
+    unit direction u of the displacement and its length d (one arcminute of great circle per nautical
+    mile; common practice). The latitude is taken by atan2, not arcsin, so it keeps its precision
+    next to a pole.
+
+    >>> lat, lon = step_on_sphere(89.5, 0.0, 60.0, 0.0)  # a degree north from 89° 30′ N on 0°: across the pole
+    >>> round(float(lat), 9), abs(round(float(lon), 9))
+    (89.5, 180.0)
+    """
+    phi = np.radians(np.asarray(lat_deg, dtype=float))
+    lam = np.radians(np.asarray(lon_deg, dtype=float))
+    north = np.asarray(north_nm, dtype=float)
+    east = np.asarray(east_nm, dtype=float)
+    sin_phi, cos_phi, sin_lam, cos_lam = np.sin(phi), np.cos(phi), np.sin(lam), np.cos(lam)
+    p = np.stack(np.broadcast_arrays(cos_phi * cos_lam, cos_phi * sin_lam, sin_phi), axis=-1)
+    n_axis = np.stack(np.broadcast_arrays(-sin_phi * cos_lam, -sin_phi * sin_lam, cos_phi), axis=-1)
+    e_axis = np.stack(np.broadcast_arrays(-sin_lam, cos_lam, np.zeros_like(lam)), axis=-1)
+    size = np.hypot(north, east)
+    d = np.radians(size / ARCMIN_PER_DEG)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        u = (north[..., None] * n_axis + east[..., None] * e_axis) / size[..., None]
+    u = np.where((size > 0)[..., None], u, 0.0)
+    q = p * np.cos(d)[..., None] + u * np.sin(d)[..., None]
+    lat = np.degrees(np.arctan2(q[..., 2], np.hypot(q[..., 0], q[..., 1])))
+    lon = np.where(size > 0, np.degrees(np.arctan2(q[..., 1], q[..., 0])), np.asarray(lon_deg, dtype=float))
+    return lat, wrap_180(lon)
+
+
+def sight_track(dt_hours: ArrayLike, north_kn: ArrayLike, east_kn: ArrayLike) -> DRTrack:
+    """The DR track of a batch of fixes (:class:`navred.reckoning.DRTrack`): arrays (fixes, sights) of each
+    sight's time from the fix (hours) and the velocity over the ground in force after it. Its knots are the
+    sights, then the fix time (a last knot, which keeps the velocity in force); between two of them the vessel
+    sails the rhumb line of the velocity in force after the earlier one (before the first sight, the first
+    sight's)."""
+    dt = np.asarray(dt_hours, dtype=float)
+    north, east = np.broadcast_to(np.asarray(north_kn, dtype=float), dt.shape), \
+        np.broadcast_to(np.asarray(east_kn, dtype=float), dt.shape)
+    return sight_track_ns(np.rint(dt * NS_PER_HOUR).astype(np.int64), north, east)
+
+
+def sight_track_ns(offset_ns: np.ndarray, north_kn: np.ndarray, east_kn: np.ndarray) -> DRTrack:
+    """:func:`sight_track` from the sights' offsets from the fix time in int64 nanoseconds (exact)."""
+    last = offset_ns.shape[:-1] + (1,)
+    return DRTrack(np.concatenate([offset_ns, np.zeros(last, dtype=np.int64)], axis=-1),
+                   np.concatenate([north_kn, np.full(last, np.nan)], axis=-1),
+                   np.concatenate([east_kn, np.full(last, np.nan)], axis=-1))
+
+
+def _fix_knot(track: DRTrack) -> np.ndarray:
+    """The knot of each fix time in a :func:`sight_track` (its last)."""
+    return np.full(track.knot_ns.shape[:-1], track.knot_ns.shape[-1] - 1)
+
+
+def at_sights(track: DRTrack, lat_deg: ArrayLike, lon_deg: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
+    """Each sight's position (fixes, sights) of a :func:`sight_track` when the vessel is at (lat, lon) (fixes,) at
+    the fix time: the track sailed back (or on) from the fix."""
+    lat, lon = track.through(lat_deg, lon_deg, _fix_knot(track))
+    return lat[..., :-1], lon[..., :-1]
+
+
+def run_to_fix_nm(track: DRTrack) -> np.ndarray:
+    """Miles run between each sight of a :func:`sight_track` and the fix time (fixes, sights)."""
+    return track.run_nm(_fix_knot(track))[..., :-1]
+
+
+def sight_hours(track: DRTrack) -> np.ndarray:
+    """Each sight's time from the fix (hours) of a :func:`sight_track`."""
+    return track.knot_ns[..., :-1] / NS_PER_HOUR
+
+
+@dataclass
+class CoreFixes:
+    """The solution of a batch of fixes; arrays have shape (fixes,) or (fixes, sights)."""
+
+    lat_deg: np.ndarray
+    lon_deg: np.ndarray
+    velocity_north_kn: np.ndarray
+    velocity_east_kn: np.ndarray
+    residual_arcmin: np.ndarray
+    zn_deg: np.ndarray
+    covariance_nm2: np.ndarray  # (fixes, k, k): the inverse normal matrix, unit weight
+    jacobian: np.ndarray  # (fixes, sights, k) at the solution
+    n_sights: np.ndarray
+    converged: np.ndarray
+    iterations: int  # steps taken by the batch
+    iterations_each: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=int))  # steps of each fix
+    singular: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=bool))  # parallel lines, no fix
+
+
+def solve_fixes(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, lat0_deg: ArrayLike, lon0_deg: ArrayLike,
+                *, dt_hours: ArrayLike = 0.0, velocity_north_kn: ArrayLike = 0.0, velocity_east_kn: ArrayLike = 0.0,
+                weights: ArrayLike = 1.0, mask: ArrayLike | None = None, solve_motion: bool = False,
+                velocity0_kn: ArrayLike = (0.0, 0.0), mark_singular: bool = False,
+                track: DRTrack | None = None, report: ArrayLike | None = None) -> CoreFixes:
+    """Solve many independent fixes at once by Gauss-Newton on the sphere.
+
+    Arrays of shape (fixes, sights): ``gha_deg``, ``dec_deg``, ``ho_deg`` of each sight,
+    ``dt_hours`` the sight's time minus the fix time, ``velocity_north_kn`` and
+    ``velocity_east_kn`` the velocity over the ground in force after each sight (the DR
+    track, sailed as rhumb lines), ``weights`` (1/σ² relative) and ``mask`` (True for sights
+    to use). ``lat0_deg``, ``lon0_deg`` (fixes,) start the iteration (the DR at the fix time).
+    With ``solve_motion`` a constant velocity made good (north, east knots) is solved as
+    well, starting from ``velocity0_kn`` (one pair, or a pair of arrays (fixes,)); the known
+    velocities are then not used. Fixes whose lines are parallel raise, or with
+    ``mark_singular`` are marked in ``singular`` and left at their start. ``track``: the
+    :func:`sight_track` of these times and velocities when the caller has it already. ``report``: the
+    sights whose residual and azimuth at the solution are returned (default: those used); a sight
+    left out of the solution can still be shown against it.
+
+    Each step is taken on the sphere in three dimensions: the position moves along the great circle
+    of the step's direction in the local frame of the meridian it stands on (north and east; at a pole
+    the frame of its meridian still holds), so a fix is exact up to the pole, from a DR on any side.
+    """
+    gha = np.atleast_2d(np.asarray(gha_deg, dtype=float))
+    shape = gha.shape
+    dec = np.broadcast_to(np.asarray(dec_deg, dtype=float), shape)
+    ho = np.broadcast_to(np.asarray(ho_deg, dtype=float), shape)
+    use = np.ones(shape, dtype=bool) if mask is None else np.broadcast_to(np.asarray(mask, dtype=bool), shape)
+    finite = np.isfinite(gha) & np.isfinite(dec) & np.isfinite(ho)
+    use = use & finite
+    shown = use if report is None else np.broadcast_to(np.asarray(report, dtype=bool), shape) & finite
+    w = np.where(use, np.broadcast_to(np.asarray(weights, dtype=float), shape), 0.0)
+    # a sight left out takes the time and velocity of its fix's earliest sight: it then adds only a
+    # leg of no length to the track, wherever the fix time lies
+    dt_all = np.broadcast_to(np.asarray(dt_hours, dtype=float), shape)
+    earliest = (np.arange(shape[0]), np.argmin(np.where(use, dt_all, np.inf), axis=1))
+
+    def as_earliest(values):
+        values = np.broadcast_to(np.asarray(values, dtype=float), shape)
+        return np.where(use, values, values[earliest][:, None])
+
+    dt, given_n, given_e = (as_earliest(v) for v in (dt_hours, velocity_north_kn, velocity_east_kn))
+    lat = np.array(np.broadcast_to(np.asarray(lat0_deg, dtype=float), shape[:1]), dtype=float)
+    lon = np.array(np.broadcast_to(np.asarray(lon0_deg, dtype=float), shape[:1]), dtype=float)
+    k = 4 if solve_motion else 2
+    vn = np.array(np.broadcast_to(np.asarray(velocity0_kn[0], dtype=float), shape[:1]))
+    ve = np.array(np.broadcast_to(np.asarray(velocity0_kn[1], dtype=float), shape[:1]))
+    n_used = use.sum(axis=1)
+    if np.any(n_used < 2):
+        raise NavredError(f"a fix needs two or more usable sights; too few in {failed_elements(n_used < 2)}")
+    converged = np.zeros(shape[0], dtype=bool)
+    singular = np.zeros(shape[0], dtype=bool)
+    iterations_each = np.zeros(shape[0], dtype=int)
+    safe_gha = np.where(finite, gha, 0.0)
+    safe_dec = np.where(finite, dec, 0.0)
+    safe_ho = np.where(finite, ho, 0.0)
+
+    known_track = sight_track(dt, given_n, given_e) if track is None else track
+
+    def linearised(rows=None):
+        """Hc, Zn and the Jacobian (F, S, k) of the fixes ``rows`` (all when None) at their estimates."""
+        pick = slice(None) if rows is None else rows
+        if solve_motion:
+            moving_track = sight_track(dt[pick], np.broadcast_to(vn[pick, None], dt[pick].shape),
+                                 np.broadcast_to(ve[pick, None], dt[pick].shape))
+        else:
+            moving_track = known_track if rows is None else known_track.take(rows)  # legs worked out once
+        sight_lat, sight_lon = at_sights(moving_track, lat[pick], lon[pick])
+        hc, zn = computed_altitude_azimuth(sight_lat, sight_lon, safe_gha[pick], safe_dec[pick])
+        z = np.radians(zn)
+        columns = [np.cos(z), np.sin(z)] + ([np.cos(z) * dt[pick], np.sin(z) * dt[pick]] if solve_motion else [])
+        return hc, zn, np.stack(columns, axis=-1) * use[pick][..., None]  # (F, S, k)
+
+    iterations = 0
+    identity = np.eye(k)
+    active = np.arange(shape[0])  # the fixes still moving: only they are worked again
+    for _ in range(MAX_ITERATIONS):
+        iterations += 1
+        hc, zn, jac = linearised(active)
+        weight = w[active]
+        residual_nm = (safe_ho[active] - hc) * ARCMIN_PER_DEG
+        normal = np.einsum("fs,fsi,fsj->fij", weight, jac, jac)
+        rhs = np.einsum("fs,fsi,fs->fi", weight, jac, residual_nm)
+        determinant = np.linalg.det(normal)
+        parallel = ~(np.abs(determinant) > 1e-12 * np.max(np.abs(normal), axis=(1, 2)) ** k)
+        singular[active[parallel]] = True
+        if parallel.any() and not mark_singular:
+            raise NavredError(
+                f"the lines of position are parallel (all azimuths alike or opposite): no fix "
+                f"in {failed_elements(singular)}")
+        # a fix that has settled (or is singular) takes no further step: each fix of a batch gets
+        # the steps it would get alone
+        step = np.linalg.solve(np.where(parallel[:, None, None], identity, normal), rhs[..., None])[..., 0]
+        step = np.where(parallel[:, None], 0.0, step)
+        size = np.hypot(step[:, 0], step[:, 1])
+        lat[active], lon[active] = step_on_sphere(lat[active], lon[active], step[:, 0], step[:, 1])
+        if solve_motion:
+            vn[active], ve[active] = vn[active] + step[:, 2], ve[active] + step[:, 3]
+        iterations_each[active] += ~parallel
+        settled = ~parallel & (size < CONVERGED_NM)
+        converged[active[settled]] = True
+        active = active[~settled & ~parallel]
+        if active.size == 0:
+            break
+    hc, zn, jac = linearised()
+    residual = np.where(shown, (safe_ho - hc) * ARCMIN_PER_DEG, np.nan)
+    normal = np.einsum("fs,fsi,fsj->fij", w, jac, jac)
+    covariance = np.linalg.inv(np.where(singular[:, None, None], identity, normal))
+    covariance[singular] = np.nan
+    return CoreFixes(lat, lon, vn if solve_motion else np.full(shape[0], np.nan),
+                     ve if solve_motion else np.full(shape[0], np.nan), residual,
+                     np.where(shown, zn, np.nan), covariance, jac, n_used, converged, iterations,
+                     iterations_each, singular)
+
+
+__all__ = ["CONVERGED_NM", "MAX_ITERATIONS", "step_on_sphere", "sight_track", "sight_track_ns", "at_sights",
+           "run_to_fix_nm", "sight_hours", "CoreFixes", "solve_fixes"]

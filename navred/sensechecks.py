@@ -1,0 +1,92 @@
+"""The fix-level checks that look past the arithmetic: a ship taken as stopped, a fix far from its DR, a
+scatter no hand-held sextant gives. Each adds a warning a navigator can act on."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .fixresult import FixResult
+from .fixstats import DR_ERROR_FRACTION, DR_ERROR_KN
+from .stats import chi_square_quantile
+from .status import RunFrom
+from .triangle import distance_bearing
+
+#: The check on a round's scatter: a hand-held marine sextant at sea gives about 0.5-1′, 2′ in a seaway
+#: (common practice); a σ beyond this at 99.9 % (chi-square) is not a sextant's.
+SEXTANT_SIGMA_LIMIT_ARCMIN = 2.0
+
+
+SCATTER_CONFIDENCE = 0.999
+
+
+#: Sights spanning more than this (minutes) with no course, no speed and one DR: the ship is taken as
+#: stopped, and the fix says so.
+STOPPED_SPAN_MIN = 10.0
+
+
+#: A DR whose age the log does not give (a DR written on each sight) is taken to be this old (hours) when
+#: the fix is compared with it.
+UNKNOWN_DR_AGE_H = 24.0
+
+
+#: The fix is further from its DR than this many times the DR's own error (DR_ERROR_KN per hour of the DR's
+#: age and DR_ERROR_FRACTION of the miles run since), plus the fix's 95 % semi-major axis and a mile:
+#: the time, the DR or a body name is wrong (a fix-level warning).
+DR_DISAGREEMENT_SIGMAS = 4.0
+
+
+def sense_checks(results: list[FixResult], run_from: list[RunFrom], span_min: np.ndarray, age_h: np.ndarray,
+                  speed_kn: np.ndarray, age_known: np.ndarray) -> None:
+    """The fix-level warnings that look past the arithmetic, for a batch of results at once: a ship taken
+    as stopped, a fix far from its DR, a scatter no sextant gives."""
+    lat = np.array([r.lat_deg for r in results])
+    lon = np.array([r.lon_deg for r in results])
+    distance = distance_bearing(np.array([r.dr_lat_deg for r in results]), np.array([r.dr_lon_deg for r in results]),
+                                lat, lon)[0]
+    is_fix = np.array([r.is_fix for r in results])
+    offset = np.array([abs(r.line_offset_nm) if r.line_offset_nm is not None else np.nan for r in results])
+    distance = np.where(is_fix, distance, offset)
+    size = np.array([r.ellipse_semi_major_nm if r.is_fix else r.ellipse_semi_minor_nm for r in results])
+    dr_sigma = DR_ERROR_KN * age_h + DR_ERROR_FRACTION * speed_kn * age_h
+    # the fix's own uncertainty widens the allowance, but no more than the DR's does: a fix as uncertain as
+    # that has its own warning
+    allowed = (DR_DISAGREEMENT_SIGMAS * dr_sigma
+               + np.minimum(np.where(np.isfinite(size), size, 0.0), DR_DISAGREEMENT_SIGMAS * dr_sigma) + 1.0)
+    dof = np.array([r.redundant for r in results])
+    sigma = np.array([r.sigma_arcmin for r in results])
+    limit = np.full(dof.size, np.inf)
+    if (dof >= 1).any():
+        limit[dof >= 1] = SEXTANT_SIGMA_LIMIT_ARCMIN * np.sqrt(chi_square_quantile(SCATTER_CONFIDENCE, dof[dof >= 1])
+                                                               / dof[dof >= 1])
+    wild = is_fix & (sigma > limit)
+    far = distance > allowed
+    stopped = (np.array(run_from, dtype=object) == RunFrom.NONE) & (span_min > STOPPED_SPAN_MIN)
+    for j, result in enumerate(results):
+        result.dr_distance_nm = float(distance[j])
+        result.scatter_impossible = bool(wild[j])
+    for j in np.flatnonzero(stopped).tolist():
+        results[j].warnings.append(
+            f"the sights span {span_min[j]:.0f} minutes but the log gives no course or speed and one DR for them "
+            "all: the ship is taken as stopped; if she was under way, give the course and speed (or each "
+            "sight's own DR) and fix again")
+    for j in np.flatnonzero(far).tolist():
+        result = results[j]
+        age = (f"a DR {age_h[j]:.1f} h old" if age_known[j] else
+               f"a DR of unknown age, taken as {UNKNOWN_DR_AGE_H:.0f} h old")
+        result.warnings.append(
+            f"the {result.kind} is {distance[j]:.0f} nm from the DR, far more than the DR could be out (about "
+            f"{allowed[j]:.0f} nm for {age} at {speed_kn[j]:.1f} kn): check the time (the zone description and "
+            "its sign, the date, the watch error), the DR and the body names before using either")
+    for j in np.flatnonzero(wild).tolist():
+        result = results[j]
+        result.warnings.append(
+            f"the sights scatter by σ {result.sigma_arcmin:.1f}′ about the {result.kind}, beyond any hand-held "
+            f"sextant (a good sight is within about 1′, {SEXTANT_SIGMA_LIMIT_ARCMIN:.0f}′ in a seaway): most "
+            "likely the altitudes are written wrongly (degrees and minutes written as a decimal, 29.216 for "
+            "29° 21.6′), or a time or a body's name is wrong"
+            + ("; or the run between the sights (course, speed, current)" if run_from[j] != RunFrom.NONE
+               else ""))
+
+
+__all__ = ["SEXTANT_SIGMA_LIMIT_ARCMIN", "SCATTER_CONFIDENCE", "STOPPED_SPAN_MIN", "UNKNOWN_DR_AGE_H",
+           "DR_DISAGREEMENT_SIGMAS", "sense_checks"]

@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import time
 
-from navred.plan import twilight_plans
+from navred.sightplan import twilight_plans
 
 
 def main() -> None:

@@ -357,6 +357,23 @@ def phase_angle_deg(body: Places, sun: Places) -> np.ndarray:
     return np.degrees(np.arccos(np.clip(cosine, -1.0, 1.0)))
 
 
+def separation_deg(dec1_deg: ArrayLike, ra1_hours: ArrayLike, dec2_deg: ArrayLike, ra2_hours: ArrayLike) -> np.ndarray:
+    """The angle between two places on the sky (degrees), from their declinations and right ascensions: the
+    angle between their unit vectors, by the arctangent of the cross and dot products (exact at any angle,
+    small ones included).
+
+    >>> round(float(separation_deg(0.0, 0.0, 0.0, 6.0)), 9)  # six hours of RA on the equator: 90°
+    90.0
+    """
+    def unit(dec_deg, ra_hours):
+        ra = np.radians(np.asarray(ra_hours, dtype=float) * DEG_PER_HOUR)
+        dec = np.radians(np.asarray(dec_deg, dtype=float))
+        return np.stack(np.broadcast_arrays(np.cos(dec) * np.cos(ra), np.cos(dec) * np.sin(ra), np.sin(dec)), axis=-1)
+
+    a, b = np.broadcast_arrays(unit(dec1_deg, ra1_hours), unit(dec2_deg, ra2_hours))
+    return np.degrees(np.arctan2(np.linalg.norm(np.cross(a, b), axis=-1), np.sum(a * b, axis=-1)))
+
+
 def gha_aries_deg(utc: object, dut1_s: ArrayLike | None = None) -> np.ndarray:
     """Greenwich hour angle of the first point of Aries (GAST) in degrees [0, 360).
 

@@ -10,8 +10,8 @@ Core code (numpy, and navred's own almanac, triangle and plan).
 - :func:`twilight_bearing_bodies`: the body best for a compass bearing at each twilight: a bright
   star or planet low enough to be taken on the compass (3° to 25°; common practice: a low body is
   bearing-friendly on a compass whose sight vane tilts little).
-- :func:`gyro_error_deg` (high or low), :func:`navred.plan.compass_error_deg` and
-  :func:`navred.plan.deviation_deg` for a magnetic compass.
+- :func:`gyro_error_deg` (high or low), :func:`compass_error_deg` and
+  :func:`deviation_deg` for a magnetic compass.
 - :func:`deviation_coefficients`: the deviation on each compass heading by least squares to
   A + B sin h + C cos h + D sin 2h + E cos 2h, the approximate coefficients of the classical analysis
   of a ship's magnetism (Admiralty Manual of Navigation; Bowditch, "Magnetic compass adjustment";
@@ -27,10 +27,12 @@ from numpy.typing import ArrayLike
 
 from .almanac import places
 from .angles import wrap_180, wrap_360
-from .constants import NS_PER_MINUTE
+from .constants import ARCMIN_PER_DEG, NS_PER_MINUTE
+from .corrections import dip_angle_arcmin, refraction_angle_arcmin
 from .errors import NavredError
 from .events import first_crossings
-from .plan import amplitude_deg, magnitudes, sun_altitude_deg
+from .magnitudes import magnitudes
+from .plan import sun_altitude_deg
 from .reckoning import DRTrack
 from .stars import known_bodies
 from .triangle import computed_altitude_azimuth
@@ -205,6 +207,69 @@ def deviation_card(curve: DeviationCurve, step_deg: float = 15.0) -> tuple[np.nd
     headings = np.arange(0.0, 360.0, step_deg)
     return headings, curve.deviation_deg(headings)
 
+
+
+#: The lowest true altitude at which a body's centre can still be seen on the horizon, degrees: the
+#: refraction at the horizon (34′) and the dip of a high bridge (about 6′) (common practice).
+LOWEST_VISIBLE_DEG = -1.0
+
+
+def amplitude_deg(dec_deg: ArrayLike, lat_deg: ArrayLike, altitude_deg: ArrayLike = 0.0) -> np.ndarray:
+    """Amplitude (degrees, positive toward north) of a body at the given true altitude.
+
+    At true rising or setting (altitude 0) sin A = sin δ / cos φ (common practice); at any
+    altitude, exactly, cos Z = (sin δ − sin φ sin h) / (cos φ cos h) with A = 90° − Z.
+    Rising bearing = 090° − A, setting bearing = 270° + A. NaN where the body does not
+    reach that altitude.
+    """
+    phi = np.radians(np.asarray(lat_deg, dtype=float))
+    dec = np.radians(np.asarray(dec_deg, dtype=float))
+    h = np.radians(np.asarray(altitude_deg, dtype=float))
+    cos_z = (np.sin(dec) - np.sin(phi) * np.sin(h)) / (np.cos(phi) * np.cos(h))
+    with np.errstate(invalid="ignore"):
+        return np.where(np.abs(cos_z) <= 1.0, 90.0 - np.degrees(np.arccos(np.clip(cos_z, -1, 1))), np.nan)
+
+
+def visible_horizon_altitude_deg(eye_height_m: ArrayLike = 0.0) -> np.ndarray:
+    """True altitude of a body's centre when it appears on the visible sea horizon (degrees).
+
+    The apparent altitude is −dip; refraction there (Bennett at −dip) lowers the true
+    altitude further: h = −dip − R(−dip). At sea level −34.5′.
+    """
+    apparent = -dip_angle_arcmin(eye_height_m) / ARCMIN_PER_DEG
+    return apparent - refraction_angle_arcmin(np.maximum(apparent, -1.0)) / ARCMIN_PER_DEG
+
+
+def true_azimuth(body: str, utc: object, lat_deg: ArrayLike, lon_deg: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
+    """True azimuth Zn and computed altitude Hc (degrees) of a body at instants and positions."""
+    p = places(body, utc)
+    hc, zn = computed_altitude_azimuth(lat_deg, lon_deg, p.gha_deg, p.dec_deg)
+    return zn, hc
+
+
+def compass_check(body: str, utc: object, lat_deg: float, lon_deg: float) -> tuple[float, float]:
+    """The true azimuth Zn and altitude Hc (degrees) of a body whose bearing was taken, or refuse it.
+
+    A body below the horizon cannot have been seen: a bearing "of" it is of something else, or
+    the time or DR is wrong. Refused below :data:`LOWEST_VISIBLE_DEG`.
+    """
+    zn, hc = true_azimuth(body, utc, lat_deg, lon_deg)
+    zn, hc = float(np.ravel(zn)[0]), float(np.ravel(hc)[0])
+    if hc < LOWEST_VISIBLE_DEG:
+        raise NavredError(f"{body} is {abs(hc):.1f}° below the horizon at that time and position: it cannot have "
+                          "been seen, so its bearing cannot check the compass; check the time (UTC), the DR and "
+                          "the body")
+    return zn, hc
+
+
+def compass_error_deg(true_bearing_deg: ArrayLike, compass_bearing_deg: ArrayLike) -> np.ndarray:
+    """Compass error (degrees, east positive): true − compass ("compass least, error east")."""
+    return wrap_180(np.asarray(true_bearing_deg, dtype=float) - np.asarray(compass_bearing_deg, dtype=float))
+
+
+def deviation_deg(compass_error: ArrayLike, variation_deg: ArrayLike) -> np.ndarray:
+    """Deviation (degrees, east positive) = compass error − variation (variation east positive)."""
+    return wrap_180(np.asarray(compass_error, dtype=float) - np.asarray(variation_deg, dtype=float))
 
 __all__ = ["BEARING_ALTITUDES_DEG", "BEARING_MAGNITUDE", "gyro_error_deg", "azimuth_table", "Amplitudes", "amplitudes",
            "twilight_bearing_bodies", "DeviationCurve", "deviation_coefficients", "deviation_card"]

@@ -17,15 +17,8 @@ from .fixbatch import SightRows, fix_batch
 from .fixresult import FixResult, GroupFixes
 from .fixstats import DR_ERROR_FRACTION, DR_ERROR_KN
 from .grosserrors import check_fixes, leave_out_gross
-from .timescales import utc_jd_to_datetime64, utc_julian_date
+from .timescales import utc_datetime64
 from .triangle import distance_bearing
-
-
-def _utc64(values) -> np.ndarray:
-    """UTC instants as datetime64[ns] (numpy datetime64 is UTC; other forms through the time scales)."""
-    if isinstance(values, np.ndarray) and np.issubdtype(values.dtype, np.datetime64):
-        return values.astype("datetime64[ns]")
-    return utc_jd_to_datetime64(*utc_julian_date(values))
 
 
 def _fix_times(at_utc, groups: int) -> np.ndarray:
@@ -42,7 +35,7 @@ def _fix_times(at_utc, groups: int) -> np.ndarray:
         given = np.array([v is not None and not (isinstance(v, float) and np.isnan(v)) for v in values])
         times = np.full(values.shape, np.datetime64("NaT"), dtype="datetime64[ns]")
         if given.any():
-            times[given] = _utc64(values[given])
+            times[given] = utc_datetime64(values[given])
     return np.broadcast_to(times, (groups,)).copy()
 
 
@@ -80,7 +73,7 @@ def fixes_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike,
 
     drift = per_row(drift_kn, 0.0) if set_deg is not None else np.zeros(n_rows)
     sights = SightRows(
-        gha, dec, ho, np.array(np.broadcast_to(_utc64(utc), (n_rows,))), per_row(dr_lat_deg), per_row(dr_lon_deg),
+        gha, dec, ho, np.array(np.broadcast_to(utc_datetime64(utc), (n_rows,))), per_row(dr_lat_deg), per_row(dr_lon_deg),
         per_row(course_deg), per_row(speed_kn), np.nan_to_num(per_row(set_deg, 0.0)), np.nan_to_num(drift),
         per_row(dr_age_hours),
         np.arange(1, n_rows + 1).astype(str) if labels is None else np.asarray(labels).astype(str),

@@ -33,7 +33,7 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import ArrayLike
 
-from .almanac import places
+from .almanac import places, separation_deg
 from .angles import wrap_180
 from .constants import ARCMIN_PER_DEG, NS_PER_MINUTE, NS_PER_SECOND
 from .corrections import (
@@ -93,9 +93,7 @@ def _angle_deg(a: np.ndarray, b: np.ndarray) -> np.ndarray:
 
 def _geocentric_distance_deg(moon, other) -> np.ndarray:
     """Angle between the almanac's geocentric apparent places (RA/Dec of date) of two bodies."""
-    a = _unit(moon.dec_deg, -moon.ra_hours * 15.0)  # any consistent spherical frame will do
-    b = _unit(other.dec_deg, -other.ra_hours * 15.0)
-    return _angle_deg(a, b)
+    return separation_deg(moon.dec_deg, moon.ra_hours, other.dec_deg, other.ra_hours)
 
 
 def clear_distance(apparent_distance_deg: ArrayLike, moon_apparent_deg: ArrayLike, other_apparent_deg: ArrayLike,

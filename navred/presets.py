@@ -32,7 +32,7 @@ from .corrections import (
     sun_bearing_from_up_deg,
 )
 from .handtables import printed_deg
-from .plan import as_datetime64
+from .timescales import utc_datetime64
 from .triangle import computed_altitude_azimuth
 
 #: The straight-line prediction of Hc is trusted while it stays within this of the truth (arcminutes).
@@ -124,7 +124,7 @@ def sight_presets(bodies: ArrayLike, utc: object, lat_deg: float, lon_deg: float
     whose altitude turns over). Vectorised over the bodies and the grid.
     """
     names = np.atleast_1d(np.asarray(bodies, dtype=object))
-    when = as_datetime64(utc)
+    when = utc_datetime64(utc)
     steps = np.arange(0, LONGEST_MINUTES * 60 + 1, _STEP_S)
     grid = when + (steps * 1_000_000_000).astype("timedelta64[ns]")
     n, m = names.size, steps.size

@@ -663,6 +663,14 @@ def instants_from_utc_jd(utc1: ArrayLike, utc2: ArrayLike, dut1_s: ArrayLike | N
                     _SOURCES[np.ravel(source)].reshape(shape))
 
 
+def utc_datetime64(utc: object) -> np.datetime64 | np.ndarray:
+    """UTC instants in any form navred accepts (:func:`utc_julian_date`), as numpy datetime64[ns]: one
+    instant for one given, an array for several. A numpy datetime64 is taken as UTC as it stands."""
+    if isinstance(utc, (np.ndarray, np.datetime64)) and np.issubdtype(np.asarray(utc).dtype, np.datetime64):
+        return np.asarray(utc).astype("datetime64[ns]")[()]
+    return utc_jd_to_datetime64(*utc_julian_date(utc))[()]
+
+
 def utc_jd_to_datetime64(utc1: ArrayLike, utc2: ArrayLike) -> np.ndarray:
     """numpy datetime64[ns] for two-part UTC Julian dates (leap second clipped to :59.999999999)."""
     with warnings.catch_warnings():

@@ -9,23 +9,18 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from navred.errors import NavredError
-from navred.plan import (
+from navred.compass import (
     amplitude_deg,
-    best_set,
-    body_meridian_passage,
     compass_error_deg,
     deviation_deg,
-    identify,
-    noon_sight,
-    position_dop,
-    sight_plans,
-    sun_events,
     true_azimuth,
-    twilight_plans,
     visible_horizon_altitude_deg,
 )
+from navred.errors import NavredError
+from navred.identify import identify
+from navred.plan import body_meridian_passage, noon_sight, sun_events
 from navred.reckoning import steady_track
+from navred.sightplan import best_set, position_dop, sight_plans, twilight_plans
 from tests.conftest import angle_diff_deg, frozen, sky_target
 
 PLACES = [(0.0, -30.0), (20.0, 150.0), (-35.0, 18.0), (45.0, -20.5), (55.0, 5.0), (60.0, -3.0), (-60.0, -65.0)]
@@ -278,7 +273,7 @@ def test_no_star_is_recommended_while_the_sun_is_up(ts, eph):
     recommended pair is the Sun and the Moon or a bright planet, their lines crossing at 30° or more."""
     from skyfield.api import wgs84
 
-    from navred.plan import sight_plans
+    from navred.sightplan import sight_plans
     from navred.stars import star_table
 
     rng = np.random.default_rng(365)
@@ -307,7 +302,7 @@ def test_no_star_is_recommended_while_the_sun_is_up(ts, eph):
 
 def test_daytime_fix_windows():
     # the invented demo passage (sample_sights/README.md): Sun with the Moon, Venus or Jupiter by day
-    from navred.plan import daytime_fix_windows, sight_plans
+    from navred.sightplan import daytime_fix_windows, sight_plans
 
     windows = daytime_fix_windows("2026-03-26", 2, 44.5, -12.0, course_deg=215, speed_kn=6.5)
     assert windows and {w.body for w in windows} <= {"Moon", "Venus", "Jupiter", "Mars"}
@@ -319,8 +314,8 @@ def test_daytime_fix_windows():
 
 
 def test_a_compass_check_refuses_a_body_below_the_horizon():
+    from navred.compass import compass_check
     from navred.errors import NavredError
-    from navred.plan import compass_check
 
     with pytest.raises(NavredError, match="below the horizon"):
         compass_check("Sun", "2026-03-26T01:30:00Z", 43.3, -13.2)  # the middle of the night at 13° W

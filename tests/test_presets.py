@@ -9,7 +9,6 @@ import pytest
 
 from navred.corrections import correct_altitudes
 from navred.jobs.sights import reduce_sights
-from navred.plan import twilight_plans
 from navred.presets import (
     RATE_MINUTES,
     RATE_TOLERANCE_ARCMIN,
@@ -17,6 +16,7 @@ from navred.presets import (
     preset_hs_deg,
     sight_presets,
 )
+from navred.sightplan import twilight_plans
 from tests.conftest import ARCMIN, angle_diff_deg, frozen, skyfield_sight
 
 #: passages of the checks: (first date, latitude, longitude, course, speed)

@@ -543,10 +543,10 @@ def fix_command(
         lat = _angle_option(chart_lat, "lat", "--chart-lat") if chart_lat is not None else None
         lon = _angle_option(chart_lon, "lon", "--chart-lon") if chart_lon is not None else None
         if at is not None:
-            from ..plan import as_datetime64
+            from ..timescales import utc_datetime64
 
             try:
-                as_datetime64(at)
+                utc_datetime64(at)
             except NavredError as exc:
                 raise NavredError(f"--at: {exc}") from None
         if (lat is None) != (lon is None):
@@ -982,14 +982,14 @@ def compass_command(
 
     from ..almanac import places
     from ..angles import format_angle
-    from ..io.cards import add_check
-    from ..plan import (
+    from ..compass import (
         amplitude_deg,
         compass_check,
         compass_error_deg,
         deviation_deg,
         visible_horizon_altitude_deg,
     )
+    from ..io.cards import add_check
     from ..stars import canonical_body_name
 
     with _reported(ctx):
@@ -1156,7 +1156,7 @@ def identify_command(
     """
     import pandas as pd
 
-    from ..plan import identify
+    from ..identify import identify
 
     with _reported(ctx):
         lat_deg, lon_deg = _angle_option(lat, "lat", "--lat"), _angle_option(lon, "lon", "--lon")

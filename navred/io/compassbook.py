@@ -102,13 +102,13 @@ def _degrees(text: str, column: str) -> float:
 
 
 def _read_row(cell, dates, canonical_body_name) -> dict:
-    from ..plan import as_datetime64
+    from ..timescales import utc_datetime64
 
     for name in REQUIRED:
         if not cell(name):
             raise NavredError(f"{name}: empty; every bearing needs {', '.join(REQUIRED)}")
     try:
-        utc = as_datetime64(iso_instant_text(cell("utc"), dates))
+        utc = utc_datetime64(iso_instant_text(cell("utc"), dates))
     except NavredError as exc:
         raise NavredError(f"utc: {exc}") from None
     try:

@@ -16,18 +16,11 @@ import numpy as np
 
 from ..angles import format_angle
 from ..constants import NS_PER_MINUTE
-from ..plan import (
-    EVENT_KEYS,
-    DayWindow,
-    SightPlan,
-    as_datetime64,
-    body_meridian_passage,
-    daytime_fix_windows,
-    sight_plans,
-    twilight_plans,
-)
+from ..plan import EVENT_KEYS, body_meridian_passage
 from ..presets import SightPresets, preset_hs_deg, sight_presets
 from ..reckoning import DRTrack, zone_description_h
+from ..sightplan import DayWindow, SightPlan, daytime_fix_windows, sight_plans, twilight_plans
+from ..timescales import utc_datetime64
 
 
 def signed(value: float, decimals: int = 1) -> str:
@@ -386,7 +379,7 @@ def bridge_plan(first_date: object, days: int, lat_deg: float, lon_deg: float, *
     track = events["track"]
     label = None
     if at is not None:
-        when = to_minute(as_datetime64(at))
+        when = to_minute(utc_datetime64(at))
         lat, lon = track.position(np.array([when]))
         plans = sight_plans(np.array([when]), lat, lon, count=count, min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg)
         label = f"Sight plan, {str(when)[:10]}"

@@ -16,14 +16,17 @@ from ..compass import (
     DeviationCurve,
     amplitudes,
     azimuth_table,
+    compass_error_deg,
     deviation_card,
     deviation_coefficients,
+    deviation_deg,
     gyro_error_deg,
+    true_azimuth,
     twilight_bearing_bodies,
 )
 from ..constants import NS_PER_MINUTE
 from ..errors import NavredError
-from ..plan import compass_error_deg, deviation_deg, true_azimuth, voyage_events
+from ..plan import voyage_events
 from .bridge import dm, hm, provenance_line, signed, to_minute, zone_for, zone_text, zone_time
 
 

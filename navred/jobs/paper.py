@@ -48,8 +48,8 @@ from ..handtables import (
 )
 from ..io.cautions import CAUTION
 from ..io.printed import Document, Drawing, Page, Side, Table, Text
-from ..plan import twilight_plans
 from ..presets import RATE_MINUTES
+from ..sightplan import twilight_plans
 from .bridge import (
     NoonSun,
     PlannedTwilight,

@@ -457,8 +457,9 @@ def _degrees_and_minutes_as_decimal(reduced: pd.DataFrame, group: np.ndarray, re
 def _next_twilight_plan(voyage: VoyageResult):
     """Plan the next twilight that begins after the latest fix, carried on from the fix by the last
     sight's course and speed."""
-    from ..plan import sight_plans, voyage_events
+    from ..plan import voyage_events
     from ..reckoning import steady_track
+    from ..sightplan import sight_plans
 
     fixes = [g for g in voyage.groups if g.fix is not None]
     if not fixes:

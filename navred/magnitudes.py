@@ -1,0 +1,50 @@
+"""How bright each body looks: visual magnitudes for ranking bodies in a sight plan or for a compass bearing."""
+
+from __future__ import annotations
+
+import numpy as np
+from numpy.typing import ArrayLike
+
+from .almanac import phase_angle_deg, places, separation_deg
+from .constants import AU_KM
+from .stars import star_table
+
+#: V(1,0) and phase coefficients, J. Meeus, Astronomical Algorithms (2nd ed., 1998), ch. 41
+#: (from memory). Saturn's rings are left out (up to about ±0.8 mag): these magnitudes only rank.
+_PLANET_MAGNITUDE = {"Venus": (-4.40, 0.0009, 0.000239, -0.00000065), "Mars": (-1.52, 0.016, 0.0, 0.0),
+                     "Jupiter": (-9.40, 0.005, 0.0, 0.0), "Saturn": (-8.88, 0.0, 0.0, 0.0)}
+
+
+MOON_MAGNITUDE = -11.0  # a rough figure for ranking (common practice: -12.7 full, about -10 at quarter)
+
+
+SUN_MAGNITUDE = -26.7
+
+
+#: A planet this bright or brighter can be found in daylight with a preset sextant (common practice;
+#: from memory): Venus always, Jupiter and Mars near opposition.
+DAYLIGHT_MAGNITUDE = -2.0
+
+
+def magnitudes(bodies: ArrayLike, utc64: object) -> np.ndarray:
+    """Visual magnitude of each (body, instant): stars from the catalogue (Hipparcos Hp),
+    planets from their distances and phase angle, the Sun and Moon as fixed figures."""
+    names = np.asarray(bodies, dtype=object)
+    when = np.broadcast_to(np.asarray(utc64, dtype="datetime64[ns]"), names.shape)
+    table = star_table()
+    index = {name: i for i, name in enumerate(table.name)}
+    out = np.array([table.magnitude[index[n]] if n in index else np.nan for n in names.ravel()]).reshape(names.shape)
+    out = np.where(names == "Sun", SUN_MAGNITUDE, np.where(names == "Moon", MOON_MAGNITUDE, out))
+    for planet, (v10, a1, a2, a3) in _PLANET_MAGNITUDE.items():
+        rows = names == planet
+        if rows.any():
+            geo = places(planet, when[rows])
+            sun = places("Sun", when[rows])
+            delta_au = geo.distance_km / AU_KM
+            earth_sun_au = sun.distance_km / AU_KM
+            # heliocentric distance from the triangle Sun-Earth-planet (the elongation from the places)
+            cos_e = np.cos(np.radians(separation_deg(geo.dec_deg, geo.ra_hours, sun.dec_deg, sun.ra_hours)))
+            r_au = np.sqrt(delta_au**2 + earth_sun_au**2 - 2 * delta_au * earth_sun_au * cos_e)
+            i = phase_angle_deg(geo, sun)
+            out[rows] = v10 + 5 * np.log10(r_au * delta_au) + a1 * i + a2 * i**2 + a3 * i**3
+    return out

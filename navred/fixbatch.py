@@ -15,7 +15,7 @@ from .fixresult import LINE_ONLY_DEG, PARALLEL_LINES, FixResult
 from .fixstats import azimuth_spread_many
 from .latitudes import latitude_from_noon_curve
 from .leastsquares import CONVERGED_NM, at_sights, run_to_fix_nm, sight_track_ns
-from .reckoning import velocity_kn
+from .reckoning import DRTrack, velocity_kn
 from .sailings import rhumb_inverse
 from .sensechecks import UNKNOWN_DR_AGE_H, sense_checks
 from .status import FixKind, RunFrom
@@ -55,18 +55,14 @@ def subset_groups(group: np.ndarray, chosen: list[int], n_groups: int) -> np.nda
 
 
 def fix_batch(sights: SightRows, group: np.ndarray, n_groups: int, ok: np.ndarray, left_out: np.ndarray,
-               fix_time_given: np.ndarray) -> tuple[list[FixResult | None], list[str]]:
+              fix_time_given: np.ndarray) -> tuple[list[FixResult | None], list[str]]:
     """One solve of every group (no check fixes): the sights ``ok`` are shown, those not ``left_out`` used."""
     results: list[FixResult | None] = [None] * n_groups
     problems = [""] * n_groups
     if n_groups == 0:
         return results, problems
-    s = sights
-    n_rows = s.gha.size
     weighted = ok & ~left_out
-    by_group = np.argsort(np.where(group >= 0, group, n_groups), kind="stable")
     sizes = np.bincount(group[group >= 0], minlength=n_groups)
-    count_ok = np.bincount(group[ok & (group >= 0)], minlength=n_groups)
     count_used = np.bincount(group[weighted & (group >= 0)], minlength=n_groups)
     for g in np.flatnonzero(count_used < 2):
         problems[g] = (f"a fix needs two or more reduced sights; {int(count_used[g])} of {int(sizes[g])} "
@@ -74,8 +70,54 @@ def fix_batch(sights: SightRows, group: np.ndarray, n_groups: int, ok: np.ndarra
     work = np.flatnonzero(count_used >= 2)
     if work.size == 0:
         return results, problems
+    lay = _layout(sights, group, n_groups, ok, weighted, work, fix_time_given)
+    motion, motion_problem, line, spread0 = _kinds(sights, lay)
+    parts = _solve_kinds(sights, lay, motion, line, spread0)
+    columns = _row_columns(lay, parts, _plotting_lines(lay), sights.gha.size, group, n_groups)
+    for wi in np.flatnonzero(lay.polar).tolist():
+        problems[int(work[wi])] = (
+            f"a running fix this near the pole ({format_angle(float(lay.lat0[wi]), 'lat')}, the run "
+            f"{lay.run_nm[wi]:.0f} nm) is not carried along rhumb lines, which are not defined through the pole "
+            "(courses there are steered on a grid): fix from sights taken together, or give a DR for each sight "
+            "and no course")
+    done = _fill_results(sights, lay, parts, columns, motion_problem, sizes, results, problems)
+    if done:
+        _check_sense(sights, lay, done)
+    return results, problems
 
-    # --- the padded layout: (groups at work, the most sights of any) -----------------------------
+
+@dataclass(frozen=True)
+class _Layout:
+    """The groups at work laid out padded side by side (groups at work, the most sights of any), each padding
+    column repeating its group's last sight (a zero-length leg at its time, no weight), with their DR tracks."""
+
+    work: np.ndarray  # the group number of each row
+    index: np.ndarray  # the input row of each cell
+    present: np.ndarray  # a sight of the group (shown)
+    use: np.ndarray  # a sight used in the fix
+    last: np.ndarray  # each group's last used sight by time (its column; the later row among equal times)
+    last_row: np.ndarray
+    fix_time: np.ndarray  # datetime64[ns]
+    hours: np.ndarray  # each sight's time from the fix
+    vn: np.ndarray  # the velocity over the ground after each sight (knots)
+    ve: np.ndarray
+    run_from: list[RunFrom]
+    track: DRTrack
+    gha: np.ndarray
+    dec: np.ndarray
+    ho: np.ndarray
+    lat0: np.ndarray  # the DR at the fix time
+    lon0: np.ndarray
+    n_used: np.ndarray
+    run_nm: np.ndarray  # the longest run between a sight and the fix time
+    polar: np.ndarray  # a running fix carried through (or next to) a pole: refused
+
+
+def _layout(s: SightRows, group, n_groups, ok, weighted, work, fix_time_given) -> _Layout:
+    """The padded layout of the groups at work, each group's run between its sights, and its DR at the fix time
+    (the last sight's DR carried on along the track)."""
+    by_group = np.argsort(np.where(group >= 0, group, n_groups), kind="stable")
+    count_ok = np.bincount(group[ok & (group >= 0)], minlength=n_groups)
     ok_rows = by_group[ok[by_group] & (group[by_group] >= 0)]
     ok_rows = ok_rows[np.isin(group[ok_rows], work)]
     w_of_group = np.full(n_groups, -1, dtype=np.intp)
@@ -88,15 +130,13 @@ def fix_batch(sights: SightRows, group: np.ndarray, n_groups: int, ok: np.ndarra
     present[w, column] = True
     use = np.zeros((work.size, width), dtype=bool)
     use[w, column] = weighted[ok_rows]
-    times = np.full((work.size, width), np.iinfo(np.int64).min, dtype=np.int64)
-    times[w, column] = np.where(weighted[ok_rows], s.utc[ok_rows].astype(np.int64), np.iinfo(np.int64).min)
-    # each group's last used sight by time (the later row among equal times)
+    never = np.iinfo(np.int64).min
+    times = np.full((work.size, width), never, dtype=np.int64)
+    times[w, column] = np.where(weighted[ok_rows], s.utc[ok_rows].astype(np.int64), never)
     last = width - 1 - np.argmax(times[:, ::-1] == times.max(axis=1, keepdims=True), axis=1)
-    index = np.empty((work.size, width), dtype=np.intp)
-    index[:] = np.zeros((work.size, 1), dtype=np.intp)
+    index = np.zeros((work.size, width), dtype=np.intp)
     index[w, column] = ok_rows
     last_row = index[np.arange(work.size), last]
-    # padding repeats each group's last sight: a zero-length leg at its time, no weight
     index = np.where(present, index, last_row[:, None])
     fix_time = fix_time_given[work]
     fix_time = np.where(np.isnat(fix_time), s.utc[last_row], fix_time)
@@ -104,86 +144,98 @@ def fix_batch(sights: SightRows, group: np.ndarray, n_groups: int, ok: np.ndarra
     hours = offset_ns / NS_PER_HOUR
     vn, ve, run_from = _run_velocities(s, index, present, hours)
     track = sight_track_ns(offset_ns, vn, ve)
-    g_gha, g_dec, g_ho = s.gha[index], s.dec[index], s.ho[index]
-    # the DR at the fix time: the last sight's DR carried on along the track to the fix time
     dr_lat, dr_lon = track.through(s.dr_lat[last_row], s.dr_lon[last_row], last)
     lat0, lon0 = dr_lat[:, -1], dr_lon[:, -1]
-    n_used = use.sum(axis=1)
-    # a running fix carried along rhumb lines through (or next to) a pole is refused
     run_nm = np.where(present, run_to_fix_nm(track), 0.0).max(axis=1)
     polar = (run_nm > 0) & (np.abs(lat0) + run_nm / ARCMIN_PER_DEG > 90.0 - POLAR_RUN_LIMIT_DEG)
+    return _Layout(work, index, present, use, last, last_row, fix_time, hours, vn, ve, run_from, track,
+                   s.gha[index], s.dec[index], s.ho[index], lat0, lon0, use.sum(axis=1), run_nm, polar)
 
-    # --- what each group is: a fix, a fix with its motion, or a line -----------------------------
-    _, zn0 = computed_altitude_azimuth(lat0[:, None], lon0[:, None], g_gha, g_dec)
-    spread0 = azimuth_spread_many(zn0, use)
-    motion = np.zeros(work.size, dtype=bool)
-    motion_problem = np.full(work.size, "", dtype=object)
+
+def _kinds(s: SightRows, lay: _Layout):
+    """What each group is: a fix with its motion (asked for and supported), a line (the lines cross at less than
+    LINE_ONLY_DEG), or a fix; why the motion cannot be solved where it was asked for; the widest crossing."""
+    _, zn0 = computed_altitude_azimuth(lay.lat0[:, None], lay.lon0[:, None], lay.gha, lay.dec)
+    spread0 = azimuth_spread_many(zn0, lay.use)
+    size = lay.work.size
+    motion = np.zeros(size, dtype=bool)
+    motion_problem = np.full(size, "", dtype=object)
     if s.solve_motion:
-        span_h = np.where(use, hours, -np.inf).max(axis=1) - np.where(use, hours, np.inf).min(axis=1)
+        span_h = np.where(lay.use, lay.hours, -np.inf).max(axis=1) - np.where(lay.use, lay.hours, np.inf).min(axis=1)
         motion_problem = np.where(
-            n_used < 5, [f"{n} sights (at least 5 are needed for position, course, speed and a check)"
-                         for n in n_used],
+            lay.n_used < 5, [f"{n} sights (at least 5 are needed for position, course, speed and a check)"
+                             for n in lay.n_used],
             np.where(span_h < 1.0, [f"the sights span {s_ * 60:.0f} minutes (at least an hour is needed)"
                                     for s_ in span_h],
                      np.where(spread0 < WEAK_CROSSING_DEG, "the azimuths are too alike", ""))).astype(object)
-        motion = (motion_problem == "") & ~polar
-    line = (spread0 < LINE_ONLY_DEG) & ~motion & ~polar
+        motion = (motion_problem == "") & ~lay.polar
+    line = (spread0 < LINE_ONLY_DEG) & ~motion & ~lay.polar
+    return motion, motion_problem, line, spread0
+
+
+def _solve_kinds(s: SightRows, lay: _Layout, motion, line, spread0) -> dict:
+    """Each kind of group solved at once: {2: fixes, 4: fixes with their motion, 'line': lines}, each (rows, Part)."""
     parts = {}
-    for k, chosen in ((2, ~line & ~motion & ~polar), (4, motion)):
+    for k, chosen in ((2, ~line & ~motion & ~lay.polar), (4, motion)):
         if chosen.any():
             rows = np.flatnonzero(chosen)
-            velocity0 = (np.where(use[rows], vn[rows], 0.0).sum(1) / n_used[rows],
-                         np.where(use[rows], ve[rows], 0.0).sum(1) / n_used[rows])
-            parts[k] = (rows, solve_fix_part(k, rows, g_gha, g_dec, g_ho, use, present, track, lat0, lon0, velocity0,
-                                          s.dr_error_kn, s.dr_error_fraction))
+            velocity0 = (np.where(lay.use[rows], lay.vn[rows], 0.0).sum(1) / lay.n_used[rows],
+                         np.where(lay.use[rows], lay.ve[rows], 0.0).sum(1) / lay.n_used[rows])
+            parts[k] = (rows, solve_fix_part(k, rows, lay.gha, lay.dec, lay.ho, lay.use, lay.present, lay.track,
+                                             lay.lat0, lay.lon0, velocity0, s.dr_error_kn, s.dr_error_fraction))
     if line.any():
         rows = np.flatnonzero(line)
-        parts["line"] = (rows, solve_line_part(rows, g_gha, g_dec, g_ho, use, present, track, lat0, lon0, spread0,
-                                          s.dr_error_kn, s.dr_error_fraction))
+        parts["line"] = (rows, solve_line_part(rows, lay.gha, lay.dec, lay.ho, lay.use, lay.present, lay.track,
+                                               lay.lat0, lay.lon0, spread0, s.dr_error_kn, s.dr_error_fraction))
+    return parts
 
-    # --- each line of position for the plotting sheet, from the DR carried to its sight ---------
-    sight_lat, sight_lon = at_sights(track, lat0, lon0)
-    hc, zn = computed_altitude_azimuth(sight_lat, sight_lon, g_gha, g_dec)
-    intercept = (g_ho - hc) * ARCMIN_PER_DEG
-    foot_lat, foot_lon = destination(lat0[:, None], lon0[:, None], zn, intercept)
-    # the line is tangent to the circle of equal altitude at the foot: across the azimuth there,
-    # toward the body's geographical position (latitude Dec, longitude −GHA)
-    _, toward_gp = distance_bearing(foot_lat, foot_lon, g_dec, wrap_180(-g_gha))
-    tangent = wrap_360(toward_gp + 90.0)
 
-    # --- the results, group by group, in input-row order ----------------------------------------
-    # every per-sight array is scattered to the input rows once, then put in group order, so that
-    # each group's arrays are slices (views) of one array
-    residual = np.full((work.size, width), np.nan)
-    outlier = np.zeros((work.size, width), dtype=bool)
-    gross = np.zeros((work.size, width), dtype=bool)
+def _plotting_lines(lay: _Layout) -> dict[str, np.ndarray]:
+    """Each line of position for the plotting sheet, from the DR carried to its sight: its intercept and Zn
+    from the DR at the fix time, its foot, and its bearing there (tangent to the circle of equal altitude at
+    the foot: across the azimuth, toward the body's geographical position, latitude Dec, longitude −GHA)."""
+    sight_lat, sight_lon = at_sights(lay.track, lay.lat0, lay.lon0)
+    hc, zn = computed_altitude_azimuth(sight_lat, sight_lon, lay.gha, lay.dec)
+    intercept = (lay.ho - hc) * ARCMIN_PER_DEG
+    foot_lat, foot_lon = destination(lay.lat0[:, None], lay.lon0[:, None], zn, intercept)
+    _, toward_gp = distance_bearing(foot_lat, foot_lon, lay.dec, wrap_180(-lay.gha))
+    return {"lop_intercept_nm": intercept, "lop_zn_deg": zn, "lop_foot_lat_deg": foot_lat,
+            "lop_foot_lon_deg": foot_lon, "lop_tangent_deg": wrap_360(toward_gp + 90.0)}
+
+
+def _row_columns(lay: _Layout, parts: dict, lines: dict, n_rows: int, group, n_groups) -> dict[str, np.ndarray]:
+    """Every per-sight array scattered to the input rows once, then put in group order, so that each group's
+    arrays are slices (views) of one array."""
+    shape = lay.present.shape
+    residual = np.full(shape, np.nan)
+    outlier = np.zeros(shape, dtype=bool)
+    gross = np.zeros(shape, dtype=bool)
     for rows, part in parts.values():
         residual[rows], outlier[rows], gross[rows] = part.residual_arcmin, part.outlier, part.gross
-    sight_index = index[present]
+    sight_index = lay.index[lay.present]
+    by_group = np.argsort(np.where(group >= 0, group, n_groups), kind="stable")
 
     def in_group_order(values, fill=np.nan, dtype=float):
         out = np.full(n_rows, fill, dtype=dtype)
-        out[sight_index] = values[present]
+        out[sight_index] = values[lay.present]
         return out[by_group]
 
-    columns = {name: in_group_order(values) for name, values in (
-        ("residual_arcmin", residual), ("lop_intercept_nm", intercept), ("lop_zn_deg", zn),
-        ("lop_foot_lat_deg", foot_lat), ("lop_foot_lon_deg", foot_lon), ("lop_tangent_deg", tangent))}
-    shown_out = present & ~use
+    columns = {"residual_arcmin": in_group_order(residual)}
+    columns.update({name: in_group_order(values) for name, values in lines.items()})
+    shown_out = lay.present & ~lay.use
     columns["outlier"] = in_group_order(outlier | shown_out, False, bool)
-    columns["used"] = in_group_order(use, False, bool)
+    columns["used"] = in_group_order(lay.use, False, bool)
     columns["left_out"] = in_group_order(shown_out, False, bool)
     columns["gross"] = in_group_order(gross, False, bool)
+    return columns
+
+
+def _fill_results(s: SightRows, lay: _Layout, parts: dict, columns: dict, motion_problem, sizes, results,
+                  problems) -> list[tuple[int, FixResult]]:
+    """Each group's FixResult completed (its per-sight arrays, fix time, DR, run, noon-curve latitude) and put
+    in ``results``; the groups whose lines are parallel named in ``problems``. Returns (row, result) of each."""
     bounds = np.concatenate([[0], np.cumsum(sizes)]).tolist()
-    lat0_list, lon0_list, work_list = lat0.tolist(), lon0.tolist(), work.tolist()
-    span_min = ((np.where(use, hours, -np.inf).max(axis=1) - np.where(use, hours, np.inf).min(axis=1)) * 60).tolist()
-    age_h = dr_age_at_fix(s, last_row, fix_time)
-    speed_kn = np.hypot(vn[np.arange(work.size), last], ve[np.arange(work.size), last])
-    for wi in np.flatnonzero(polar).tolist():
-        problems[work_list[wi]] = (
-            f"a running fix this near the pole ({format_angle(lat0_list[wi], 'lat')}, the run {run_nm[wi]:.0f} nm) "
-            "is not carried along rhumb lines, which are not defined through the pole (courses there are "
-            "steered on a grid): fix from sights taken together, or give a DR for each sight and no course")
+    lat0_list, lon0_list, work_list = lay.lat0.tolist(), lay.lon0.tolist(), lay.work.tolist()
     done: list[tuple[int, FixResult]] = []
     for key, (rows, part) in parts.items():
         for j, wi in enumerate(rows.tolist()):
@@ -198,19 +250,26 @@ def fix_batch(sights: SightRows, group: np.ndarray, n_groups: int, ok: np.ndarra
             a, b = bounds[g], bounds[g + 1]
             for name, values in columns.items():
                 setattr(result, name, values[a:b])
-            result.utc = fix_time[wi]
+            result.utc = lay.fix_time[wi]
             result.dr_lat_deg, result.dr_lon_deg = lat0_list[wi], lon0_list[wi]
-            result.run_from = run_from[wi] if key != 4 else RunFrom.SOLVED
-            if result.kind == FixKind.LATITUDE and n_used[wi] >= 3:
-                used_here = use[wi]
-                _noon_curve(result, hours[wi][used_here], g_ho[wi][used_here], g_dec[wi][used_here])
+            result.run_from = lay.run_from[wi] if key != 4 else RunFrom.SOLVED
+            if result.kind == FixKind.LATITUDE and lay.n_used[wi] >= 3:
+                used_here = lay.use[wi]
+                _noon_curve(result, lay.hours[wi][used_here], lay.ho[wi][used_here], lay.dec[wi][used_here])
             results[g] = result
             done.append((wi, result))
-    if done:
-        chosen = np.array([wi for wi, _ in done])
-        sense_checks([r for _, r in done], [run_from[wi] for wi in chosen.tolist()], np.asarray(span_min)[chosen],
-                      age_h[chosen], speed_kn[chosen], np.isfinite(s.dr_age_h[last_row[chosen]]))
-    return results, problems
+    return done
+
+
+def _check_sense(s: SightRows, lay: _Layout, done: list[tuple[int, FixResult]]) -> None:
+    """The sense checks of the results at once (:func:`navred.sensechecks.sense_checks`)."""
+    chosen = np.array([wi for wi, _ in done])
+    span_min = (np.where(lay.use, lay.hours, -np.inf).max(axis=1) - np.where(lay.use, lay.hours, np.inf).min(axis=1)) * 60
+    age_h = dr_age_at_fix(s, lay.last_row, lay.fix_time)
+    rows = np.arange(lay.work.size)
+    speed_kn = np.hypot(lay.vn[rows, lay.last], lay.ve[rows, lay.last])
+    sense_checks([r for _, r in done], [lay.run_from[wi] for wi in chosen.tolist()], span_min[chosen], age_h[chosen],
+                 speed_kn[chosen], np.isfinite(s.dr_age_h[lay.last_row[chosen]]))
 
 
 def _run_velocities(s: SightRows, index: np.ndarray, present: np.ndarray, hours: np.ndarray):

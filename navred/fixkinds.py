@@ -29,6 +29,7 @@ from .fixstats import (
 from .leastsquares import (
     CONVERGED_NM,
     MAX_ITERATIONS,
+    CoreFixes,
     at_sights,
     run_to_fix_nm,
     sight_hours,
@@ -74,16 +75,24 @@ def solve_fix_part(k, rows, gha, dec, ho, use, present, track, lat0, lon0, veloc
     sub_track = track.take(rows)
     core = solve_fixes(gha[rows], dec[rows], ho[rows], lat0[rows], lon0[rows], dt_hours=sight_hours(sub_track),
                        velocity_north_kn=sub_track.north_kn[..., :-1], velocity_east_kn=sub_track.east_kn[..., :-1],
-                       mask=u,
-                       report=present[rows], solve_motion=motion, velocity0_kn=velocity0, mark_singular=True,
+                       mask=u, report=present[rows], solve_motion=motion, velocity0_kn=velocity0, mark_singular=True,
                        track=sub_track)
+    st = _fix_statistics(core, u, sub_track, k, dr_error_kn, dr_error_fraction)
+    return Part(core.residual_arcmin, st["outlier"], st["gross"], _fix_results(core, st, k))
+
+
+def _fix_statistics(core: CoreFixes, u: np.ndarray, sub_track, k: int, dr_error_kn: float,
+                    dr_error_fraction: float) -> dict[str, np.ndarray]:
+    """Each fix's σ, covariance, ellipse, effective degrees of freedom, crossing and blunder test (arrays over
+    the fixes; see :func:`solve_fix_part`)."""
+    motion = k == 4
     n = u.sum(axis=1)
     dof = n - k
     residual = np.where(u, core.residual_arcmin, 0.0)
     unit, jac = core.covariance_nm2, core.jacobian
     width = u.shape[1]
     if motion:  # no known run: the motion itself was solved
-        run_cov = np.zeros((rows.size, width, width))
+        run_cov = np.zeros((u.shape[0], width, width))
     else:
         run_cov = run_error_covariance(np.where(u, core.zn_deg, 0.0), sight_hours(sub_track),
                                        run_to_fix_nm(sub_track), dr_error_kn, dr_error_fraction)
@@ -96,61 +105,70 @@ def solve_fix_part(k, rows, gha, dec, ho, use, present, track, lat0, lon0, veloc
     identity = np.eye(width)[None] * u[:, :, None]
     known = gain @ run_cov @ np.swapaxes(gain, 1, 2)
     covariance = sigma[:, None, None] ** 2 * (gain @ identity @ np.swapaxes(gain, 1, 2)) + known
-    position_cov = covariance[:, :2, :2]
     nu = effective_dof(dof, sigma2, np.trace(unit[:, :2, :2], axis1=1, axis2=2),
                        np.trace(known[:, :2, :2], axis1=1, axis2=2), information)
     nu = np.where(dof >= 1, nu, np.inf)
     scale = np.sqrt(2.0 * f_2_quantile(CONFIDENCE, nu))
-    major, minor, orientation = error_ellipse(position_cov, scale)
-    spread = azimuth_spread_many(core.zn_deg, u)
+    major, minor, orientation = error_ellipse(covariance[:, :2, :2], scale)
     leverage = np.einsum("fsi,fij,fsj->fs", jac, unit, jac)
     outlier, gross, detectable = blunder_test(residual, leverage, u, dof, sigma)
-    speed_sigma = np.sqrt(np.trace(covariance[:, 2:, 2:], axis1=1, axis2=2)) if motion else np.zeros(rows.size)
+    speed_sigma = np.sqrt(np.trace(covariance[:, 2:, 2:], axis1=1, axis2=2)) if motion else np.zeros(u.shape[0])
+    return {"n": n, "dof": dof, "sigma": sigma, "position_cov": covariance[:, :2, :2], "scale": scale, "major": major,
+            "minor": minor, "orientation": orientation, "spread": azimuth_spread_many(core.zn_deg, u), "nu": nu,
+            "detectable": detectable, "speed_sigma": speed_sigma, "run_included": run_cov.any(axis=(1, 2)),
+            "outlier": outlier, "gross": gross}
 
-    # plain Python numbers for the per-group results (a numpy scalar costs more to handle)
+
+def _fix_results(core: CoreFixes, st: dict[str, np.ndarray], k: int) -> Callable[[int], FixResult | None]:
+    """A function giving fix j's FixResult (None for parallel lines), its words and warnings, from the solution
+    and its statistics; plain Python numbers, converted once (a numpy scalar costs more to handle)."""
+    motion = k == 4
     lat, lon = core.lat_deg.tolist(), core.lon_deg.tolist()
-    numbers = [a.tolist() for a in (sigma, sigma_hat, major, minor, orientation, scale, spread, speed_sigma,
-                                    nu, detectable)]
-    sigma_l, sigma_hat_l, major_l, minor_l, orientation_l, scale_l, spread_l, speed_sigma_l, nu_l, detect_l = numbers
-    dof_l, n_l, steps_l = dof.tolist(), n.tolist(), core.iterations_each.tolist()
-    converged_l, singular_l = core.converged.tolist(), core.singular.tolist()
-    run_included = run_cov.any(axis=(1, 2)).tolist()
+    numbers = {name: st[name].tolist() for name in ("sigma", "major", "minor", "orientation", "scale", "spread",
+                                                     "speed_sigma", "nu", "detectable", "dof", "n", "run_included")}
+    steps_l, converged_l, singular_l = (core.iterations_each.tolist(), core.converged.tolist(),
+                                        core.singular.tolist())
+    position_cov = st["position_cov"]
 
     def result(j: int) -> FixResult | None:
         if singular_l[j]:
             return None
         warnings_: list[str] = []
-        d = dof_l[j]
+        d, n, run_included = numbers["dof"][j], numbers["n"][j], numbers["run_included"][j]
         if d >= 1:
             source = f"from the residuals, {d} redundant sight{plural(d)}"
-            if run_included[j]:
+            if run_included:
                 source += ", the DR's error over the run taken out"
         else:
             source = f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight, no redundancy"
-            warnings_.append(f"{n_l[j]} sights and {k} unknowns: no redundancy, so the ellipse rests on an "
+            warnings_.append(f"{n} sights and {k} unknowns: no redundancy, so the ellipse rests on an "
                              f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight and there is no check on a blunder")
-        if spread_l[j] < WEAK_CROSSING_DEG:
-            warnings_.append(f"weak fix: the lines of position cross at {spread_l[j]:.0f}° at most (azimuths "
+        spread = numbers["spread"][j]
+        if spread < WEAK_CROSSING_DEG:
+            warnings_.append(f"weak fix: the lines of position cross at {spread:.0f}° at most (azimuths "
                              f"alike or opposite); below {WEAK_CROSSING_DEG:.0f}° the fix is poorly defined")
         if not converged_l[j]:
             warnings_.append(f"the iteration did not settle to {CONVERGED_NM} nm in {MAX_ITERATIONS} steps")
+        detectable = numbers["detectable"][j]
         fix = FixResult(
-            utc=_NAT, lat_deg=lat[j], lon_deg=lon[j], sigma_arcmin=sigma_l[j], ellipse_semi_major_nm=major_l[j],
-            ellipse_semi_minor_nm=minor_l[j], ellipse_orientation_deg=orientation_l[j], residual_arcmin=EMPTY_ROWS,
-            outlier=EMPTY_ROWS, warnings=warnings_, used=EMPTY_ROWS, n_sights=n_l[j], covariance_nm2=position_cov[j],
-            confidence_scale=scale_l[j], sigma_source=source, iterations=steps_l[j],
-            quantile=quantile_name(nu_l[j], d), spread_deg=spread_l[j], dr_error_included=run_included[j],
-            redundant=d, ellipse_note=ellipse_note(n_l[j], k, d),
-            blunder_note=blunder_note(n_l[j], d, detect_l[j], k), detectable_blunder_arcmin=detect_l[j])
+            utc=_NAT, lat_deg=lat[j], lon_deg=lon[j], sigma_arcmin=numbers["sigma"][j],
+            ellipse_semi_major_nm=numbers["major"][j], ellipse_semi_minor_nm=numbers["minor"][j],
+            ellipse_orientation_deg=numbers["orientation"][j], residual_arcmin=EMPTY_ROWS, outlier=EMPTY_ROWS,
+            warnings=warnings_, used=EMPTY_ROWS, n_sights=n, covariance_nm2=position_cov[j],
+            confidence_scale=numbers["scale"][j], sigma_source=source, iterations=steps_l[j],
+            quantile=quantile_name(numbers["nu"][j], d), spread_deg=spread, dr_error_included=run_included,
+            redundant=d, ellipse_note=ellipse_note(n, k, d), blunder_note=blunder_note(n, d, detectable, k),
+            detectable_blunder_arcmin=detectable)
         if motion:
             vn, ve = float(core.velocity_north_kn[j]), float(core.velocity_east_kn[j])
             fix.course_made_good_deg = float(wrap_360(np.degrees(np.arctan2(ve, vn))))
             fix.speed_made_good_kn = float(np.hypot(vn, ve))
-            if speed_sigma_l[j] > 2.0:
-                warnings_.append(f"course and speed made good are poorly determined (±{speed_sigma_l[j]:.1f} kn)")
+            if numbers["speed_sigma"][j] > 2.0:
+                warnings_.append(f"course and speed made good are poorly determined "
+                                 f"(±{numbers['speed_sigma'][j]:.1f} kn)")
         return fix
 
-    return Part(core.residual_arcmin, outlier, gross, result)
+    return result
 
 
 def solve_line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0, dr_error_kn, dr_error_fraction):

@@ -158,6 +158,64 @@ def solve_fixes(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, lat0_
     of the step's direction in the local frame of the meridian it stands on (north and east; at a pole
     the frame of its meridian still holds), so a fix is exact up to the pole, from a DR on any side.
     """
+    batch = _read_batch(gha_deg, dec_deg, ho_deg, lat0_deg, lon0_deg, dt_hours, velocity_north_kn, velocity_east_kn,
+                        weights, mask, solve_motion, velocity0_kn, track, report)
+    converged, singular, iterations_each, iterations = _iterate(batch, mark_singular)
+    hc, zn, jac = batch.linearised()
+    residual = np.where(batch.shown, (batch.ho - hc) * ARCMIN_PER_DEG, np.nan)
+    normal = np.einsum("fs,fsi,fsj->fij", batch.w, jac, jac)
+    covariance = np.linalg.inv(np.where(singular[:, None, None], np.eye(batch.k), normal))
+    covariance[singular] = np.nan
+    fixes = batch.lat.size
+    return CoreFixes(batch.lat, batch.lon, batch.vn if solve_motion else np.full(fixes, np.nan),
+                     batch.ve if solve_motion else np.full(fixes, np.nan), residual,
+                     np.where(batch.shown, zn, np.nan), covariance, jac, batch.use.sum(axis=1), converged, iterations,
+                     iterations_each, singular)
+
+
+@dataclass
+class _Batch:
+    """The inputs of :func:`solve_fixes` read once (NaN sights set to 0 and unused), and the estimates it moves:
+    the position (and with ``solve_motion`` the velocity made good) of each fix."""
+
+    gha: np.ndarray
+    dec: np.ndarray
+    ho: np.ndarray
+    use: np.ndarray
+    shown: np.ndarray
+    w: np.ndarray
+    dt: np.ndarray
+    track: DRTrack
+    solve_motion: bool
+    lat: np.ndarray
+    lon: np.ndarray
+    vn: np.ndarray
+    ve: np.ndarray
+
+    @property
+    def k(self) -> int:
+        """The unknowns: position, or position and velocity."""
+        return 4 if self.solve_motion else 2
+
+    def linearised(self, rows=None):
+        """Hc, Zn and the Jacobian (F, S, k) of the fixes ``rows`` (all when None) at their estimates."""
+        pick = slice(None) if rows is None else rows
+        dt = self.dt[pick]
+        if self.solve_motion:
+            track = sight_track(dt, np.broadcast_to(self.vn[pick, None], dt.shape),
+                                np.broadcast_to(self.ve[pick, None], dt.shape))
+        else:
+            track = self.track if rows is None else self.track.take(rows)  # legs worked out once
+        sight_lat, sight_lon = at_sights(track, self.lat[pick], self.lon[pick])
+        hc, zn = computed_altitude_azimuth(sight_lat, sight_lon, self.gha[pick], self.dec[pick])
+        z = np.radians(zn)
+        columns = [np.cos(z), np.sin(z)] + ([np.cos(z) * dt, np.sin(z) * dt] if self.solve_motion else [])
+        return hc, zn, np.stack(columns, axis=-1) * self.use[pick][..., None]  # (F, S, k)
+
+
+def _read_batch(gha_deg, dec_deg, ho_deg, lat0_deg, lon0_deg, dt_hours, velocity_north_kn, velocity_east_kn,
+                weights, mask, solve_motion, velocity0_kn, track, report) -> _Batch:
+    """:func:`solve_fixes`'s inputs broadcast to (fixes, sights) and checked."""
     gha = np.atleast_2d(np.asarray(gha_deg, dtype=float))
     shape = gha.shape
     dec = np.broadcast_to(np.asarray(dec_deg, dtype=float), shape)
@@ -166,7 +224,9 @@ def solve_fixes(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, lat0_
     finite = np.isfinite(gha) & np.isfinite(dec) & np.isfinite(ho)
     use = use & finite
     shown = use if report is None else np.broadcast_to(np.asarray(report, dtype=bool), shape) & finite
-    w = np.where(use, np.broadcast_to(np.asarray(weights, dtype=float), shape), 0.0)
+    n_used = use.sum(axis=1)
+    if np.any(n_used < 2):
+        raise NavredError(f"a fix needs two or more usable sights; too few in {failed_elements(n_used < 2)}")
     # a sight left out takes the time and velocity of its fix's earliest sight: it then adds only a
     # leg of no length to the track, wherever the fix time lies
     dt_all = np.broadcast_to(np.asarray(dt_hours, dtype=float), shape)
@@ -177,78 +237,56 @@ def solve_fixes(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, lat0_
         return np.where(use, values, values[earliest][:, None])
 
     dt, given_n, given_e = (as_earliest(v) for v in (dt_hours, velocity_north_kn, velocity_east_kn))
-    lat = np.array(np.broadcast_to(np.asarray(lat0_deg, dtype=float), shape[:1]), dtype=float)
-    lon = np.array(np.broadcast_to(np.asarray(lon0_deg, dtype=float), shape[:1]), dtype=float)
-    k = 4 if solve_motion else 2
-    vn = np.array(np.broadcast_to(np.asarray(velocity0_kn[0], dtype=float), shape[:1]))
-    ve = np.array(np.broadcast_to(np.asarray(velocity0_kn[1], dtype=float), shape[:1]))
-    n_used = use.sum(axis=1)
-    if np.any(n_used < 2):
-        raise NavredError(f"a fix needs two or more usable sights; too few in {failed_elements(n_used < 2)}")
-    converged = np.zeros(shape[0], dtype=bool)
-    singular = np.zeros(shape[0], dtype=bool)
-    iterations_each = np.zeros(shape[0], dtype=int)
-    safe_gha = np.where(finite, gha, 0.0)
-    safe_dec = np.where(finite, dec, 0.0)
-    safe_ho = np.where(finite, ho, 0.0)
 
-    known_track = sight_track(dt, given_n, given_e) if track is None else track
+    def per_fix(values):
+        return np.array(np.broadcast_to(np.asarray(values, dtype=float), shape[:1]), dtype=float)
 
-    def linearised(rows=None):
-        """Hc, Zn and the Jacobian (F, S, k) of the fixes ``rows`` (all when None) at their estimates."""
-        pick = slice(None) if rows is None else rows
-        if solve_motion:
-            moving_track = sight_track(dt[pick], np.broadcast_to(vn[pick, None], dt[pick].shape),
-                                 np.broadcast_to(ve[pick, None], dt[pick].shape))
-        else:
-            moving_track = known_track if rows is None else known_track.take(rows)  # legs worked out once
-        sight_lat, sight_lon = at_sights(moving_track, lat[pick], lon[pick])
-        hc, zn = computed_altitude_azimuth(sight_lat, sight_lon, safe_gha[pick], safe_dec[pick])
-        z = np.radians(zn)
-        columns = [np.cos(z), np.sin(z)] + ([np.cos(z) * dt[pick], np.sin(z) * dt[pick]] if solve_motion else [])
-        return hc, zn, np.stack(columns, axis=-1) * use[pick][..., None]  # (F, S, k)
+    return _Batch(np.where(finite, gha, 0.0), np.where(finite, dec, 0.0), np.where(finite, ho, 0.0), use, shown,
+                  np.where(use, np.broadcast_to(np.asarray(weights, dtype=float), shape), 0.0), dt,
+                  sight_track(dt, given_n, given_e) if track is None else track, solve_motion,
+                  per_fix(lat0_deg), per_fix(lon0_deg), per_fix(velocity0_kn[0]), per_fix(velocity0_kn[1]))
 
+
+def _iterate(batch: _Batch, mark_singular: bool):
+    """Gauss-Newton steps until each fix settles (a step below CONVERGED_NM) or MAX_ITERATIONS: only the fixes
+    still moving are worked again, so each fix of a batch gets the steps it would get alone. Returns
+    (converged, singular, the steps of each fix, the steps of the batch)."""
+    fixes = batch.lat.size
+    converged = np.zeros(fixes, dtype=bool)
+    singular = np.zeros(fixes, dtype=bool)
+    iterations_each = np.zeros(fixes, dtype=int)
+    identity = np.eye(batch.k)
+    active = np.arange(fixes)
     iterations = 0
-    identity = np.eye(k)
-    active = np.arange(shape[0])  # the fixes still moving: only they are worked again
     for _ in range(MAX_ITERATIONS):
         iterations += 1
-        hc, zn, jac = linearised(active)
-        weight = w[active]
-        residual_nm = (safe_ho[active] - hc) * ARCMIN_PER_DEG
+        hc, _, jac = batch.linearised(active)
+        weight = batch.w[active]
+        residual_nm = (batch.ho[active] - hc) * ARCMIN_PER_DEG
         normal = np.einsum("fs,fsi,fsj->fij", weight, jac, jac)
         rhs = np.einsum("fs,fsi,fs->fi", weight, jac, residual_nm)
         determinant = np.linalg.det(normal)
-        parallel = ~(np.abs(determinant) > 1e-12 * np.max(np.abs(normal), axis=(1, 2)) ** k)
+        parallel = ~(np.abs(determinant) > 1e-12 * np.max(np.abs(normal), axis=(1, 2)) ** batch.k)
         singular[active[parallel]] = True
         if parallel.any() and not mark_singular:
             raise NavredError(
                 f"the lines of position are parallel (all azimuths alike or opposite): no fix "
                 f"in {failed_elements(singular)}")
-        # a fix that has settled (or is singular) takes no further step: each fix of a batch gets
-        # the steps it would get alone
+        # a fix that has settled (or is singular) takes no further step
         step = np.linalg.solve(np.where(parallel[:, None, None], identity, normal), rhs[..., None])[..., 0]
         step = np.where(parallel[:, None], 0.0, step)
         size = np.hypot(step[:, 0], step[:, 1])
-        lat[active], lon[active] = step_on_sphere(lat[active], lon[active], step[:, 0], step[:, 1])
-        if solve_motion:
-            vn[active], ve[active] = vn[active] + step[:, 2], ve[active] + step[:, 3]
+        batch.lat[active], batch.lon[active] = step_on_sphere(batch.lat[active], batch.lon[active], step[:, 0],
+                                                              step[:, 1])
+        if batch.solve_motion:
+            batch.vn[active], batch.ve[active] = batch.vn[active] + step[:, 2], batch.ve[active] + step[:, 3]
         iterations_each[active] += ~parallel
         settled = ~parallel & (size < CONVERGED_NM)
         converged[active[settled]] = True
         active = active[~settled & ~parallel]
         if active.size == 0:
             break
-    hc, zn, jac = linearised()
-    residual = np.where(shown, (safe_ho - hc) * ARCMIN_PER_DEG, np.nan)
-    normal = np.einsum("fs,fsi,fsj->fij", w, jac, jac)
-    covariance = np.linalg.inv(np.where(singular[:, None, None], identity, normal))
-    covariance[singular] = np.nan
-    return CoreFixes(lat, lon, vn if solve_motion else np.full(shape[0], np.nan),
-                     ve if solve_motion else np.full(shape[0], np.nan), residual,
-                     np.where(shown, zn, np.nan), covariance, jac, n_used, converged, iterations,
-                     iterations_each, singular)
-
+    return converged, singular, iterations_each, iterations
 
 __all__ = ["CONVERGED_NM", "MAX_ITERATIONS", "step_on_sphere", "sight_track", "sight_track_ns", "at_sights",
            "run_to_fix_nm", "sight_hours", "CoreFixes", "solve_fixes"]

@@ -109,74 +109,81 @@ def sight_plans(utc64: object, lat_deg: ArrayLike, lon_deg: ArrayLike, *, min_al
     when = np.atleast_1d(np.asarray(utc64, dtype="datetime64[ns]"))
     lat = np.broadcast_to(np.asarray(lat_deg, dtype=float), when.shape)
     lon = np.broadcast_to(np.asarray(lon_deg, dtype=float), when.shape)
-    names = np.array(known_bodies(), dtype=object)
-    n_plans, n_bodies = when.size, names.size
-    grid_names = np.broadcast_to(names[None, :], (n_plans, n_bodies))
-    grid_when = np.broadcast_to(when[:, None], (n_plans, n_bodies))
-    p = places(grid_names.ravel(), grid_when.ravel())
-    hc, zn = computed_altitude_azimuth(np.repeat(lat, n_bodies), np.repeat(lon, n_bodies), p.gha_deg, p.dec_deg)
-    hc, zn = hc.reshape(n_plans, n_bodies), zn.reshape(n_plans, n_bodies)
-    dec, ra = p.dec_deg.reshape(n_plans, n_bodies), p.ra_hours.reshape(n_plans, n_bodies)
-    moon = int(np.flatnonzero(names == "Moon")[0])
-    sun = int(np.flatnonzero(names == "Sun")[0])
-    moon_sep = separation_deg(dec, ra, dec[:, [moon]], ra[:, [moon]])
-    moon_sep[:, moon] = 0.0
-    mag = magnitudes(grid_names.ravel(), grid_when.ravel()).reshape(n_plans, n_bodies)
+    sky = _sky(when, lat, lon)
+    names, hc, zn, mag = sky["names"], sky["hc"], sky["zn"], sky["mag"]
     # by day (the Sun's centre above the horizon) no star is shown: only the Sun, the Moon and the
     # planets bright enough to find in daylight with a preset sextant
-    day = hc[:, sun] > 0.0
+    day = hc[:, sky["sun"]] > 0.0
     daylight = np.isin(names, ["Sun", "Moon"]) | ((mag <= DAYLIGHT_MAGNITUDE) & np.isin(names, list(SOLAR_SYSTEM.values())))
     shown = np.where(day[:, None], daylight, names[None, :] != "Sun")
     in_limits = (hc >= min_alt_deg) & (hc <= max_alt_deg) & shown
-    moon_up = hc[:, [moon]] > -1.0
-    clear = (moon_sep >= moon_clear_deg) | ~moon_up
-    clear[:, moon] = True
+    moon_up = hc[:, [sky["moon"]]] > -1.0
+    clear = (sky["moon_sep"] >= moon_clear_deg) | ~moon_up
+    clear[:, sky["moon"]] = True
     clear &= ~day[:, None]  # the twilight set is chosen at twilight; by day the pair is chosen below
     # candidate slots: the brightest bodies within the limits and clear of the Moon
     order = np.argsort(np.where(in_limits & clear, mag, np.inf), axis=1, kind="stable")[:, :max_candidates]
     slots_valid = np.take_along_axis(in_limits & clear, order, axis=1)
-    plans = []
     if slots_valid.sum(axis=1).max() >= count:
         chosen, dop, least = best_set(np.take_along_axis(zn, order, axis=1),
                                       np.take_along_axis(mag, order, axis=1), count, slots_valid)
     else:
         chosen = dop = least = None
     partner, crossing = day_pairs(hc, zn, in_limits & day[:, None], names)
-    for k in range(n_plans):
+    limits = f"between {min_alt_deg:g}° and {max_alt_deg:g}°"
+    plans = []
+    for k in range(when.size):
         visible = np.flatnonzero(in_limits[k])
-        recommended = np.zeros(visible.size, dtype=bool)
         if day[k]:
-            if partner[k] >= 0:
-                recommended = np.isin(visible, [sun, partner[k]])
-                explanation = (f"by day: the Sun and {names[partner[k]]}, whose lines cross at {crossing[k]:.0f}° "
-                               f"(the best crossing of the Sun with the Moon or a planet bright enough to see in "
-                               f"daylight, magnitude {DAYLIGHT_MAGNITUDE:g} or brighter); no star is shown while "
-                               "the Sun is up")
-            else:
-                explanation = (f"by day, and no body stands with the Sun between {min_alt_deg:g}° and "
-                               f"{max_alt_deg:g}° with their lines crossing at {DAY_CROSSING_DEG:g}° or more: "
-                               "a Sun line alone (see the daytime fix windows); no star is shown while the Sun is up")
-            plans.append(SightPlan(when[k], float(lat[k]), float(lon[k]), names[visible], hc[k, visible],
-                                   zn[k, visible], mag[k, visible], moon_sep[k, visible], recommended,
-                                   float("inf"), explanation))
-            continue
-        if chosen is not None and np.isfinite(dop[k]):
+            recommended = np.isin(visible, [sky["sun"], partner[k]]) if partner[k] >= 0 else \
+                np.zeros(visible.size, dtype=bool)
+            explanation, set_dop = _day_explanation(names, partner[k], crossing[k], limits), float("inf")
+        elif chosen is not None and np.isfinite(dop[k]):
             picked = order[k, chosen[k]]
             recommended = np.isin(visible, picked)
             explanation = (f"{', '.join(names[picked])}: position dilution of precision {dop[k]:.2f}; "
-                           f"every set of {count} of the {int(slots_valid[k].sum())} brightest bodies between "
-                           f"{min_alt_deg:g}° and {max_alt_deg:g}°"
+                           f"every set of {count} of the {int(slots_valid[k].sum())} brightest bodies {limits}"
                            f"{f' and at least {moon_clear_deg:g}° from the Moon' if moon_up[k, 0] else ''} was "
                            f"scored; the least DOP was {least[k]:.2f} and among sets within 5 % of it the "
                            "brightest was taken (DOP counts a common altitude error, so bodies spread round "
                            "the horizon win)")
+            set_dop = float(dop[k])
         else:
-            explanation = (f"fewer than {count} bodies between {min_alt_deg:g}° and {max_alt_deg:g}° "
-                           "clear of the Moon: no set recommended")
+            recommended = np.zeros(visible.size, dtype=bool)
+            explanation = f"fewer than {count} bodies {limits} clear of the Moon: no set recommended"
+            set_dop = float(dop[k]) if chosen is not None else float("inf")
         plans.append(SightPlan(when[k], float(lat[k]), float(lon[k]), names[visible], hc[k, visible],
-                               zn[k, visible], mag[k, visible], moon_sep[k, visible], recommended,
-                               float(dop[k]) if chosen is not None else float("inf"), explanation))
+                               zn[k, visible], mag[k, visible], sky["moon_sep"][k, visible], recommended, set_dop,
+                               explanation))
     return plans
+
+
+def _sky(when: np.ndarray, lat: np.ndarray, lon: np.ndarray) -> dict:
+    """Every body of the catalogue at each instant from its DR: (plans, bodies) arrays of Hc, Zn, magnitude and
+    distance from the Moon, with the bodies' names and the columns of the Sun and the Moon."""
+    names = np.array(known_bodies(), dtype=object)
+    n_plans, n_bodies = when.size, names.size
+    grid_names = np.broadcast_to(names[None, :], (n_plans, n_bodies))
+    grid_when = np.broadcast_to(when[:, None], (n_plans, n_bodies))
+    p = places(grid_names.ravel(), grid_when.ravel())
+    hc, zn = computed_altitude_azimuth(np.repeat(lat, n_bodies), np.repeat(lon, n_bodies), p.gha_deg, p.dec_deg)
+    dec, ra = p.dec_deg.reshape(n_plans, n_bodies), p.ra_hours.reshape(n_plans, n_bodies)
+    moon = int(np.flatnonzero(names == "Moon")[0])
+    moon_sep = separation_deg(dec, ra, dec[:, [moon]], ra[:, [moon]])
+    moon_sep[:, moon] = 0.0
+    return {"names": names, "hc": hc.reshape(n_plans, n_bodies), "zn": zn.reshape(n_plans, n_bodies),
+            "mag": magnitudes(grid_names.ravel(), grid_when.ravel()).reshape(n_plans, n_bodies),
+            "moon_sep": moon_sep, "sun": int(np.flatnonzero(names == "Sun")[0]), "moon": moon}
+
+
+def _day_explanation(names: np.ndarray, partner: int, crossing: float, limits: str) -> str:
+    """Why a plan by day recommends the Sun and one body, or the Sun alone."""
+    if partner >= 0:
+        return (f"by day: the Sun and {names[partner]}, whose lines cross at {crossing:.0f}° (the best crossing of "
+                f"the Sun with the Moon or a planet bright enough to see in daylight, magnitude "
+                f"{DAYLIGHT_MAGNITUDE:g} or brighter); no star is shown while the Sun is up")
+    return (f"by day, and no body stands with the Sun {limits} with their lines crossing at {DAY_CROSSING_DEG:g}° or "
+            "more: a Sun line alone (see the daytime fix windows); no star is shown while the Sun is up")
 
 
 def day_pairs(hc_deg: np.ndarray, zn_deg: np.ndarray, valid: np.ndarray, names: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

@@ -24,6 +24,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .constants import (
+    DAYS_PER_JULIAN_YEAR,
     JD_J2000,
     NS_PER_DAY,
     NS_PER_SECOND,
@@ -581,7 +582,6 @@ def instants_from_utc_jd(utc1: ArrayLike, utc2: ArrayLike, dut1_s: ArrayLike | N
     table (a log whose rows give DUT1 on some sights and not on others).
     """
     utc1, utc2 = np.broadcast_arrays(np.asarray(utc1, dtype=float), np.asarray(utc2, dtype=float))
-    shape = utc1.shape
     pre_utc = (utc1 + utc2) < _UTC_START_JD
     table = iers_table()
     mjd = (utc1 - _MJD0) + utc2
@@ -591,6 +591,19 @@ def instants_from_utc_jd(utc1: ArrayLike, utc2: ArrayLike, dut1_s: ArrayLike | N
             warnings.simplefilter("ignore", erfa.ErfaWarning)
             y, m, d, _ = erfa.jd2cal(utc1[~covered], utc2[~covered])
             tai_utc[~covered] = erfa.dat(y, m, d, 0.0)
+    dut1, source = _dut1_s(mjd, tai_utc, dut1_s, pre_utc, table)
+    _warn_leap_seconds_expired(utc1, utc2, pre_utc)
+    tt1, tt2, ut11, ut12 = _tt_and_ut1(utc1, utc2, tai_utc, covered, dut1, pre_utc)
+    return Instants(np.asarray(utc1), np.asarray(utc2), np.asarray(tt1), np.asarray(tt2),
+                    np.asarray(ut11), np.asarray(ut12), np.asarray(dut1, dtype=float),
+                    _SOURCES[np.ravel(source)].reshape(utc1.shape))
+
+
+def _dut1_s(mjd: np.ndarray, tai_utc: np.ndarray, dut1_s: ArrayLike | None, pre_utc: np.ndarray, table):
+    """DUT1 (seconds) at each instant and the code of its source: given (a radio time signal), the IERS table
+    (measured or predicted), held at the table's last prediction beyond it (warned), 0 before it (warned), 0
+    before UTC began."""
+    shape = mjd.shape
     given = np.zeros(shape, dtype=bool)
     if dut1_s is not None:
         given_dut1 = np.broadcast_to(np.asarray(dut1_s, dtype=float), shape)
@@ -615,18 +628,23 @@ def instants_from_utc_jd(utc1: ArrayLike, utc2: ArrayLike, dut1_s: ArrayLike | N
                 f"({failed_elements(beyond)}): DUT1 is held at its last predicted value {table.dut1_s[-1]:+.3f} s. Take DUT1 "
                 "from a radio time signal (dut1_s=...) if you can: every 0.9 s of DUT1 error is "
                 "0.225′ of GHA, about 0.2 nautical mile of longitude at the equator.",
-                NavredWarning, stacklevel=2)
+                NavredWarning, stacklevel=3)
         before_utc_table = before & ~pre_utc
         if before_utc_table.any():
             warnings.warn(
                 f"instants before the IERS table of 1973-01-02 ({failed_elements(before_utc_table)}): DUT1 is "
                 "taken as 0 s, good to about 0.1 s from 1960 to 1972 when UTC was steered to UT1 "
-                "(at most 0.025′ of GHA).", NavredWarning, stacklevel=2)
+                "(at most 0.025′ of GHA).", NavredWarning, stacklevel=3)
         if given.any():
             dut1 = np.where(given, given_dut1, dut1)
             source[given] = _SOURCE_CODE[UT1_GIVEN]
     dut1 = np.where(pre_utc, 0.0, dut1)
     source[pre_utc] = _SOURCE_CODE[UT1_PRE_UTC]
+    return dut1, source
+
+
+def _warn_leap_seconds_expired(utc1: np.ndarray, utc2: np.ndarray, pre_utc: np.ndarray) -> None:
+    """A warning for instants after the expiry date of the installed leap-second table."""
     expires = leap_second_table().expires
     expiry_jd = erfa.cal2jd(expires.year, expires.month, expires.day)
     late = ~pre_utc & ((utc1 + utc2) > sum(expiry_jd))
@@ -635,10 +653,16 @@ def instants_from_utc_jd(utc1: ArrayLike, utc2: ArrayLike, dut1_s: ArrayLike | N
             f"instants after {expires.isoformat()}, the expiry date of the installed leap-second "
             f"table ({failed_elements(late)}): a leap second may have been announced since. Update "
             "astropy-iers-data; until then TT may be 1 s out (about 0.5″ of the Moon's place, which moves about 33′ an hour).",
-            NavredWarning, stacklevel=2)
-    # UTC -> TAI -> TT and UTC -> UT1 (IERS Conventions 2010, ch. 5): from 1972, away from the
-    # days that end with a leap second, TAI = UTC + (TAI − UTC) and UT1 = UTC + DUT1, as ERFA's
-    # utctai and utcut1 compute them; the other instants go through ERFA
+            NavredWarning, stacklevel=3)
+
+
+def _tt_and_ut1(utc1, utc2, tai_utc, covered, dut1, pre_utc):
+    """TT and UT1 (two-part Julian dates) from UTC.
+
+    UTC -> TAI -> TT and UTC -> UT1 (IERS Conventions 2010, ch. 5): from 1972, away from the days that end with
+    a leap second, TAI = UTC + (TAI − UTC) and UT1 = UTC + DUT1, as ERFA's utctai and utcut1 compute them; the
+    other instants go through ERFA; before UTC (1960), TT = UT + ΔT and UT1 = UT.
+    """
     tt1, ut11 = utc1, utc1
     tt2 = utc2 + (tai_utc + TT_MINUS_TAI_S) / SECONDS_PER_DAY
     ut12 = utc2 + dut1 / SECONDS_PER_DAY
@@ -648,19 +672,17 @@ def instants_from_utc_jd(utc1: ArrayLike, utc2: ArrayLike, dut1_s: ArrayLike | N
             u1, u2 = utc1[~covered], utc2[~covered]
             tai1, tai2 = erfa.utctai(u1, u2)
             slow_tt1, slow_tt2 = erfa.taitt(tai1, tai2)
-            slow_ut11, slow_ut12 = erfa.utcut1(u1, u2, np.broadcast_to(dut1, shape)[~covered])
+            slow_ut11, slow_ut12 = erfa.utcut1(u1, u2, np.broadcast_to(dut1, utc1.shape)[~covered])
         tt1, tt2, ut11, ut12 = (np.array(a, dtype=float, copy=True) for a in (tt1, tt2, ut11, ut12))
         tt1[~covered], tt2[~covered] = slow_tt1, slow_tt2
         ut11[~covered], ut12[~covered] = slow_ut11, slow_ut12
     if pre_utc.any():
-        year_fraction = 2000.0 + ((utc1 - JD_J2000) + utc2) / 365.25
+        year_fraction = 2000.0 + ((utc1 - JD_J2000) + utc2) / DAYS_PER_JULIAN_YEAR
         delta_t = delta_t_before_1960_s(year_fraction)
         tt1 = np.where(pre_utc, utc1, tt1)
         tt2 = np.where(pre_utc, utc2 + delta_t / SECONDS_PER_DAY, tt2)
         ut11, ut12 = np.where(pre_utc, utc1, ut11), np.where(pre_utc, utc2, ut12)
-    return Instants(np.asarray(utc1), np.asarray(utc2), np.asarray(tt1), np.asarray(tt2),
-                    np.asarray(ut11), np.asarray(ut12), np.asarray(dut1, dtype=float),
-                    _SOURCES[np.ravel(source)].reshape(shape))
+    return tt1, tt2, ut11, ut12
 
 
 def utc_datetime64(utc: object) -> np.datetime64 | np.ndarray:

@@ -38,8 +38,6 @@ _ACCEPTED = {
 }
 _HEMISPHERES = {"lat": "NS", "dec": "NS", "lon": "EW", "variation": "EW"}
 _LIMITS = {"lat": 90.0, "dec": 90.0, "lon": 360.0, "angle": 360.0, "signed": 360.0, "variation": 180.0}
-_NUMBER = r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)"
-_SPLIT = re.compile(r"[°º˚d'′’m\"″”s:\s]+", re.IGNORECASE)
 _MARK_THEN_POINT = re.compile(r"(\d)\s*['′’\"″”]\s*\.(\d)")
 _HEMISPHERE_OF = {"N": "a latitude", "S": "a latitude", "E": "a longitude", "W": "a longitude"}
 

@@ -14,7 +14,6 @@ SECONDS_PER_MINUTE = 60.0
 SECONDS_PER_HOUR = 3600.0
 SECONDS_PER_DAY = 86400.0
 MINUTES_PER_HOUR = 60.0
-HOURS_PER_DAY = 24.0
 MINUTES_PER_DAY = 1440.0
 #: Instants are numpy datetime64[ns] (UTC); these turn their int64 nanoseconds into whole units.
 NS_PER_MILLISECOND = 1_000_000

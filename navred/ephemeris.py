@@ -31,7 +31,6 @@ _CHAINS = {
     "jupiter": ((0, 5),),  # DE421 has the barycentre only (the planet is within 0.001″ of it at Earth)
     "saturn": ((0, 6),),  # ditto
 }
-SOLAR_SYSTEM_BODIES = ("Sun", "Moon", "Venus", "Mars", "Jupiter", "Saturn")
 
 
 def ephemeris_path() -> str:
@@ -187,8 +186,3 @@ class SegmentCache:
         body_p, body_v = barycentric_state(body, t1, t2)
         earth_p, earth_v = self.barycentric("earth")
         return body_p - earth_p[:, rows], body_v - earth_v[:, rows]
-
-
-def barycentric_position(body: str, tdb1: ArrayLike, tdb2: ArrayLike = 0.0) -> np.ndarray:
-    """Barycentric position (km) of a body, shape (3, ...)."""
-    return sum(_evaluate(c, t, tdb1, tdb2, velocity=False)[0] for c, t in _chain(body))

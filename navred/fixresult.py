@@ -116,11 +116,6 @@ class FixResult:
     def is_fix(self) -> bool:
         return self.kind == FixKind.FIX
 
-    @property
-    def residual_nm(self) -> np.ndarray:
-        """Residuals in nautical miles (one arcminute of altitude is one nautical mile)."""
-        return self.residual_arcmin.copy()
-
     def ellipse_text(self) -> str:
         """The 95 % ellipse's full size as a navigator reads it, and its semi-axes: '10.9 × 2.8 nm, semi-axes
         5.4 × 1.4 nm' (for a line or a latitude, the band's width: '2.8 nm wide, ±1.4 nm')."""

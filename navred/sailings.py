@@ -159,30 +159,6 @@ def rhumb_inverse(lat1_deg: ArrayLike, lon1_deg: ArrayLike, lat2_deg: ArrayLike,
     return distance / METRES_PER_NM, wrap_360(np.degrees(course))
 
 
-def rhumb_track(lat0_deg: ArrayLike, lon0_deg: ArrayLike, north_nm: ArrayLike, course_deg: ArrayLike,
-                distance_nm: ArrayLike, axis: int = -1) -> tuple[np.ndarray, np.ndarray]:
-    """Positions along a track of rhumb-line legs that starts at (lat0, lon0), one per leg end.
-
-    ``course_deg`` and ``distance_nm`` give the legs in order along ``axis`` (a leg of
-    negative distance is sailed backwards: the track may run back in time); ``north_nm`` is
-    each leg's northing, distance × cos course, passed in so that the caller's sums are used
-    exactly. The start broadcasts against the legs without their axis. Returns the latitude
-    and longitude at the end of every leg.
-    """
-    course = np.radians(np.asarray(course_deg, dtype=float))
-    distance_m = np.asarray(distance_nm, dtype=float) * METRES_PER_NM
-    north_m = np.asarray(north_nm, dtype=float) * METRES_PER_NM
-    lat0 = np.expand_dims(np.asarray(lat0_deg, dtype=float), axis)
-    lon0 = np.expand_dims(np.asarray(lon0_deg, dtype=float), axis)
-    arcs = meridian_arc_m(lat0) + np.cumsum(north_m, axis=axis)
-    ends = np.clip(latitude_from_meridian_arc_deg(arcs), -POLAR_LIMIT_DEG, POLAR_LIMIT_DEG)
-    starts = np.concatenate([np.broadcast_to(lat0, ends.shape[:axis % ends.ndim] + (1,) +
-                                             ends.shape[axis % ends.ndim + 1:]),
-                             np.take(ends, np.arange(ends.shape[axis] - 1), axis=axis)], axis=axis)
-    dlon = longitude_change_rad(starts, ends, course, distance_m)
-    return ends, wrap_180(lon0 + np.degrees(np.cumsum(dlon, axis=axis)))
-
-
 def rhumb_track_through(lat_deg: ArrayLike, lon_deg: ArrayLike, at: ArrayLike, north_nm: ArrayLike,
                         course_deg: ArrayLike, distance_nm: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
     """Every point of a track of rhumb-line legs, given the position (lat, lon) of its point ``at``.
@@ -385,12 +361,6 @@ def great_circle_vertex(lat_deg: ArrayLike, lon_deg: ArrayLike, course_deg: Arra
     return vlat * nan, vlon * nan, distance * nan
 
 
-def great_circle_points(lat_deg: float, lon_deg: float, course_deg: float, distances_nm: ArrayLike
-                        ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Points along one great circle at the distances from its start: latitudes, longitudes, courses."""
-    return great_circle_destination(lat_deg, lon_deg, course_deg, np.asarray(distances_nm, dtype=float))
-
-
 def composite_great_circle(lat1_deg: float, lon1_deg: float, lat2_deg: float, lon2_deg: float,
                            limit_lat_deg: float) -> dict:
     """The shortest route that keeps equatorward of a limiting latitude (composite sailing).
@@ -444,6 +414,6 @@ def composite_great_circle(lat1_deg: float, lon1_deg: float, lat2_deg: float, lo
 
 
 __all__ = ["meridian_arc_m", "latitude_from_meridian_arc_deg", "isometric_latitude", "meridional_parts",
-           "prime_vertical_radius_m", "meridian_radius_m", "rhumb_destination", "rhumb_inverse", "rhumb_track", "rhumb_track_through",
-           "longitude_change_rad", "great_circle_inverse", "great_circle_destination", "great_circle_vertex", "great_circle_points",
+           "prime_vertical_radius_m", "meridian_radius_m", "rhumb_destination", "rhumb_inverse", "rhumb_track_through",
+           "longitude_change_rad", "great_circle_inverse", "great_circle_destination", "great_circle_vertex",
            "composite_great_circle", "GeodesicError"]

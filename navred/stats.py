@@ -24,7 +24,6 @@ from numpy.typing import ArrayLike
 _TINY = 1e-300
 _EPS = 1e-15
 _MAX_TERMS = 400
-_BISECTIONS = 64
 #: quantiles worked out already, by (distribution, p, degrees of freedom): a batch of fixes asks for few
 #: distinct ones, again and again
 _CACHE: dict[tuple, float] = {}

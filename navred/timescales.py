@@ -26,6 +26,7 @@ from numpy.typing import ArrayLike
 from .constants import (
     DAYS_PER_JULIAN_YEAR,
     JD_J2000,
+    JD_UNIX_EPOCH,
     NS_PER_DAY,
     NS_PER_SECOND,
     SECONDS_PER_DAY,
@@ -37,7 +38,6 @@ from .errors import NavredWarning, TimeInputError, failed_elements
 
 #: The span navred accepts: the JPL DE421 ephemeris covers 1899-07-29 to 2053-10-09.
 FIRST_YEAR, LAST_YEAR = 1900, 2050
-_FIRST_JD = 2415020.5  # 1900-01-01 0h
 _END_JD = 2469807.5  # 2051-01-01 0h
 _MJD0 = 2400000.5
 _UTC_START_JD = 2436934.5  # 1960-01-01: ERFA's UTC (with its pre-1972 drift rates) starts here
@@ -432,7 +432,6 @@ def utc_julian_date(utc: object) -> tuple[np.ndarray, np.ndarray]:
     return jd1, jd2
 
 
-_UNIX_EPOCH_JD = 2440587.5
 _FAST_START_MJD = 41317.0  # 1972-01-01: from here TAI − UTC is a whole number of seconds
 
 
@@ -469,12 +468,12 @@ def _utc_julian_date_from_datetime64(values: np.ndarray) -> tuple[np.ndarray, np
     if np.isnat(ns).any():
         return None
     days, rest = np.divmod(ns.astype(np.int64), NS_PER_DAY)
-    mjd = days + (_UNIX_EPOCH_JD - _MJD0)
+    mjd = days + (JD_UNIX_EPOCH - _MJD0)
     _, covered = tai_minus_utc_fast_s(mjd.astype(float))
-    if not covered.all() or (days > (_END_JD - _UNIX_EPOCH_JD - 1)).any():
+    if not covered.all() or (days > (_END_JD - JD_UNIX_EPOCH - 1)).any():
         return None
     # the layout of ERFA's dtf2d: the Julian date of 0h, and the fraction of the day
-    return days + _UNIX_EPOCH_JD, rest / NS_PER_DAY
+    return days + JD_UNIX_EPOCH, rest / NS_PER_DAY
 
 
 _DIGITS = (0, 1, 2, 3, 5, 6, 8, 9, 11, 12, 14, 15, 17, 18)

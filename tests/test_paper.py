@@ -18,9 +18,15 @@ from typer.testing import CliRunner
 
 from navred.cli import app
 from navred.io.cautions import CAUTION
-from navred.reckoning import steady_track
-from navred.triangle import destination
-from tests.conftest import ARCMIN, angle_diff_deg, frozen, sky_star, skyfield_sight
+from tests.conftest import (
+    ARCMIN,
+    angle_diff_deg,
+    frozen,
+    offset_position,
+    rhumb_integrated,
+    sky_star,
+    skyfield_sight,
+)
 
 FIRST, LAST = "2025-06-10", "2025-06-11"
 START_LAT, START_LON = 40.0, -20.0  # the DR at 00:00 local time of the first date
@@ -251,12 +257,14 @@ def test_the_pdf_text_is_extractable_with_its_symbols(paper):
 
 
 def truth(when) -> tuple[float, float]:
-    """The ship's true position: her DR (the track the paper was planned on) moved 3 nm on 045°."""
-    track = steady_track(START_LAT, START_LON, np.datetime64(FIRST, "ns") - np.timedelta64(int(round(-START_LON / 15 * 3600)),
-                                                                                   "s"), COURSE, SPEED)
-    lat, lon = track.position(np.array([np.datetime64(when, "ns")]))
-    north, east = destination(lat[0], lon[0], TRUTH_BEARING, TRUTH_OFFSET_NM)
-    return float(north), float(east)
+    """The ship's true position: her DR (the track the paper was planned on: from 00:00 local mean time at 20° W,
+    01:20 UTC, on the course and speed) moved 3 nm on 045°; sailed in the test on WGS 84 and offset by the
+    spherical direct formula (tests/conftest.py), not by navred."""
+    start = np.datetime64(FIRST, "ns") + np.timedelta64(int(round(-START_LON / 15 * 3600)), "s")
+    hours = (np.datetime64(when, "ns") - start) / np.timedelta64(1, "h")
+    lat, lon = rhumb_integrated(START_LAT, START_LON, COURSE, SPEED * hours)
+    bearing = np.radians(TRUTH_BEARING)
+    return offset_position(float(lat), float(lon), TRUTH_OFFSET_NM * np.cos(bearing), TRUTH_OFFSET_NM * np.sin(bearing))
 
 
 def interpolated_row(rows: list[list[str]], x: float) -> float:

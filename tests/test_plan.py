@@ -21,7 +21,7 @@ from navred.identify import identify
 from navred.plan import body_meridian_passage, noon_sight, sun_events
 from navred.reckoning import steady_track
 from navred.sightplan import best_set, position_dop, sight_plans, twilight_plans
-from tests.conftest import angle_diff_deg, frozen, sky_target
+from tests.conftest import angle_diff_deg, frozen, rhumb_integrated, sky_target
 
 PLACES = [(0.0, -30.0), (20.0, 150.0), (-35.0, 18.0), (45.0, -20.5), (55.0, 5.0), (60.0, -3.0), (-60.0, -65.0)]
 DATES = ["2024-03-20", "2024-06-21", "2024-09-22", "2024-12-21"]
@@ -154,9 +154,8 @@ def test_amplitude_against_the_formula_and_skyfield(ts, eph):
         t1 = ts.from_datetime(pd.Timestamp(date + "T23:59Z").to_pydatetime())
         rise, _ = almanac.find_risings(eph["earth"] + place, eph["sun"], t0, t1, horizon_degrees=0.0)
         _, az, _ = (eph["earth"] + place).at(rise[0]).observe(eph["sun"]).apparent().altaz()
-        from navred.almanac import places
-
-        dec = places("Sun", pd.Timestamp(rise[0].utc_datetime()).tz_convert("UTC")).dec_deg
+        # skyfield's apparent declination then (the amplitude's input, independent of navred's almanac)
+        dec = eph["earth"].at(rise[0]).observe(eph["sun"]).apparent().radec(epoch="date")[1].degrees
         assert abs((90.0 - float(amplitude_deg(dec, lat))) - az.degrees) < 0.1
     # at the visible sea horizon the centre is 34.5′ below the true horizon at sea level
     assert float(visible_horizon_altitude_deg(0.0)) * 60 == pytest.approx(-34.5, abs=0.1)
@@ -306,10 +305,15 @@ def test_daytime_fix_windows():
 
     windows = daytime_fix_windows("2026-03-26", 2, 44.5, -12.0, course_deg=215, speed_kn=6.5)
     assert windows and {w.body for w in windows} <= {"Moon", "Venus", "Jupiter", "Mars"}
+    # the track starts at 00:00 local mean time at 12° W (00:48 UTC, 15° of longitude an hour)
+    start = np.datetime64("2026-03-26T00:48", "ns")
     for window in windows:
         assert window.start <= window.best <= window.end and window.crossing_deg >= 30
         assert 15 <= window.sun_hc_deg <= 70 and 15 <= window.body_hc_deg <= 70
-        plan = sight_plans(np.array([window.best]), 44.5 - 0.0, -12.0)[0]  # the day plan sees the pair too
+        # the day plan at the DR then (sailed in the test on WGS 84 from the start) sees the pair too
+        hours = (window.best - start) / np.timedelta64(1, "h")
+        lat, lon = rhumb_integrated(44.5, -12.0, 215.0, 6.5 * hours)
+        plan = sight_plans(np.array([window.best]), float(lat), float(lon))[0]
         assert "Sun" in plan.body and window.body in plan.body
 
 

@@ -124,12 +124,29 @@ def test_ut1_source_is_recorded():
     assert pred.ut1_source.item() == timescales.UT1_PREDICTED
 
 
-def test_dut1_matches_the_iers_table_value():
-    # finals2000A.all, 2020-06-01: UT1-UTC read directly from the file's column (IERS Bulletin A format)
-    table = timescales.iers_table()
-    mjd = float((np.datetime64("2020-06-01") - np.datetime64("1858-11-17")).astype(int))  # MJD 0
-    expected = float(table.dut1_s[table.mjd == mjd][0])
-    assert float(instants("2020-06-01T00:00Z").dut1_s) == pytest.approx(expected, abs=1e-7)
+def finals_ut1_minus_utc_s(mjd: int) -> float:
+    """UT1 − UTC (s) of one day read straight from the IERS finals2000A.all file installed by astropy-iers-data:
+    its fixed columns (ReadMe.finals2000A: bytes 8-15 the MJD, byte 58 the I/P flag, bytes 59-68 Bulletin A's
+    UT1-UTC). The test's own reading, independent of navred's parser."""
+    import importlib.resources
+
+    text = (importlib.resources.files("astropy_iers_data") / "data" / "finals2000A.all").read_text()
+    for line in text.splitlines():
+        if len(line) >= 68 and line[7:15].strip() and float(line[7:15]) == mjd:
+            assert line[57] in "IP"
+            return float(line[58:68])
+    raise AssertionError(f"MJD {mjd} is not in finals2000A.all")
+
+
+@pytest.mark.parametrize("day", ["2020-06-01", "2024-03-15", "2016-12-30"])
+def test_dut1_matches_the_iers_file(day):
+    # Reference: the IERS Bulletin A value of UT1 − UTC in finals2000A.all, read from the file's fixed columns in
+    # the test (not through navred): at 0h UTC exactly, and at noon halfway between two days (linear in UT1 − UTC
+    # between two days with no leap second, the way the daily table is meant to be read; common practice)
+    mjd = int((np.datetime64(day) - np.datetime64("1858-11-17")).astype(int))  # MJD 0 is 1858-11-17
+    midnight, next_day = finals_ut1_minus_utc_s(mjd), finals_ut1_minus_utc_s(mjd + 1)
+    assert float(instants(f"{day}T00:00Z").dut1_s) == pytest.approx(midnight, abs=1e-7)
+    assert float(instants(f"{day}T12:00Z").dut1_s) == pytest.approx((midnight + next_day) / 2, abs=1e-6)
 
 
 def test_beyond_the_table_warns_once_with_the_possible_error():

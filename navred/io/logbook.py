@@ -28,6 +28,7 @@ import numpy as np
 import pandas as pd
 
 from ..angles import parse_angle, parse_angles_fast, wrap_180
+from ..constants import NS_PER_HOUR, NS_PER_MINUTE, SECONDS_PER_DAY
 from ..corrections import HIGHEST_READING_DEG, parse_index_error_arcmin
 from ..errors import NavredError, api_boundary
 from ..stars import canonical_body_name
@@ -999,7 +1000,7 @@ def _motion_missing(table: pd.DataFrame, usable: np.ndarray, gathered, problems)
     frame = pd.DataFrame({"group": groups[usable], "t": ticks[usable]})
     last = frame.groupby("group", sort=False)["t"].transform("max").to_numpy()
     rows = np.flatnonzero(usable)
-    early = (last - frame["t"].to_numpy()) > RUN_MINUTES * 60e9
+    early = (last - frame["t"].to_numpy()) > RUN_MINUTES * NS_PER_MINUTE
     lacking = []
     for key, what in (("course", "course"), ("speed", "speed")):
         values = table[f"{key}_{'deg' if key == 'course' else 'kn'}"].to_numpy(dtype=float)[rows]
@@ -1184,7 +1185,7 @@ def _time_working(parsed, gathered, problems, rates=None) -> dict:
     both = ok & has_utc & complete
     if both.any():
         z1, z2, _ = utc_julian_date_from_components(*zone[:, both])
-        apart = np.abs(((jd1[both] - z1) + (jd2[both] - z2)) * 86400.0)
+        apart = np.abs(((jd1[both] - z1) + (jd2[both] - z2)) * SECONDS_PER_DAY)
         for i in np.flatnonzero(both)[~(apart <= TIME_AGREEMENT_S)]:
             problems.add([i], gathered["zone_time"].headers[i], _text(gathered["zone_time"].values.iloc[i]),
                          f"utc {_text(gathered['utc'].values.iloc[i])} and the zone time disagree: give one, or "
@@ -1232,7 +1233,7 @@ def _sight_table(n, sources, rows, parsed, gathered, times, message, where) -> p
         stamps[ok_time] = utc_jd_to_datetime64(times["jd1"][ok_time], times["jd2"][ok_time])
     utc = pd.Series(stamps).dt.tz_localize("UTC")
     zd = times["zd"]
-    shift = np.where(np.isfinite(zd), zd * 3600e9, 0).astype(np.int64).astype("timedelta64[ns]")
+    shift = np.where(np.isfinite(zd), zd * NS_PER_HOUR, 0).astype(np.int64).astype("timedelta64[ns]")
     shown = np.isfinite(zd) & ok_time
     corrected = np.full(n, "", dtype=object)
     if shown.any():
@@ -1303,7 +1304,7 @@ def _fix_groups(table: pd.DataFrame, ok: np.ndarray) -> tuple[np.ndarray, np.nda
         key_codes = who.groupby(list(who.columns), sort=False).ngroup().to_numpy()
         ticks = times.astype(np.int64)
         order = np.lexsort((ticks, key_codes))
-        gap = np.diff(ticks[order]) > DEFAULT_GROUP_GAP_HOURS * 3600e9
+        gap = np.diff(ticks[order]) > DEFAULT_GROUP_GAP_HOURS * NS_PER_HOUR
         new = np.concatenate([[True], gap | (key_codes[order][1:] != key_codes[order][:-1])])
         ids = np.empty(rows.size, dtype=int)
         ids[order] = np.cumsum(new) - 1

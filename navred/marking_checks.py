@@ -191,6 +191,11 @@ def fix_lines(j: Judge, sights: SightsToMark, lines: Lines, times_s: np.ndarray,
     return out
 
 
+def _named(body: str) -> str:
+    """A body as a sentence names it: "the Sun", "the Moon", "Spica"."""
+    return f"the {body}" if body in ("Sun", "Moon") else body
+
+
 def _sun_at(altitude_deg: float) -> str:
     """Where the Sun stood, in words: "the Sun 70° above the horizon", "the Sun 2° below the horizon"."""
     whole = int(round(altitude_deg))
@@ -220,7 +225,7 @@ def sense_checks(sights: SightsToMark, kind: np.ndarray, method: np.ndarray, sky
         / ARCMIN_PER_DEG
     h_sun, _ = computed_altitude_azimuth(lat_dr, lon_dr, sky.sun_gha, sky.sun_dec)
     below = h_body < LOWEST_SEEN_DEG
-    _joined(notes, below, [f"{b} stood {abs(h):.1f}° below the horizon at that time and DR: it cannot have been "
+    _joined(notes, below, [f"{_named(b)} stood {abs(h):.1f}° below the horizon at that time and DR: it cannot have been "
                            "seen; the time, the DR or the body should have been questioned"
                            for b, h in zip(body.tolist(), h_body.tolist())])
     sea = np.isin(horizon_kind(np.where(np.asarray(sights.horizon, dtype=object) == "", "sea", sights.horizon)),
@@ -265,7 +270,7 @@ def sense_checks(sights: SightsToMark, kind: np.ndarray, method: np.ndarray, sky
                                   for m, s in zip(np.nan_to_num(t).tolist(), np.nan_to_num(slack).tolist())])
     high = (method == "amplitude") & ~below & ((h_body < AMPLITUDE_ALTITUDES_DEG[0]) |
                                                (h_body > AMPLITUDE_ALTITUDES_DEG[1]))
-    _joined(notes, high, [f"{b} stood {h:.1f}° high: an amplitude is taken with the body's centre on the horizon; "
+    _joined(notes, high, [f"{_named(b)} stood {h:.1f}° high: an amplitude is taken with the body's centre on the horizon; "
                           "work it by azimuth" for b, h in zip(body.tolist(), h_body.tolist())])
     for fix in fixes:
         if fix.from_dr_nm == fix.from_dr_nm and fix.from_dr_nm > FARTHEST_FIX_FROM_DR_NM:

@@ -981,7 +981,8 @@ def given_arrays(workings: list[dict]) -> dict:
 
 #: The invented class: three cadets of the invented training ship "Grey Shearwater" (she does not exist),
 #: hove to for a day's exercise, each working the morning stars, an amplitude at sunrise, a forenoon Sun,
-#: an ex-meridian and the noon Sun, an azimuth in the afternoon, Polaris and the evening stars; and the
+#: an ex-meridian and the noon Sun (crossed with the forenoon Sun as the noon round), an azimuth in the
+#: afternoon, Polaris and the evening stars; and the
 #: mistakes planted in their workings (working number -> the catalogue's key; "plot" plants on the round's
 #: plotted fix).
 CADETS = {"Cadet Ansel": {2: "zone sign", 10: "toward away"},
@@ -1049,14 +1050,15 @@ def demo_sights(ts, eph, seed: int = 1790):
 
     o = {"eye_m": 3.5, "in_feet": False, "ie": 1.2, "watch": 7}
     morning, evening = times["morning"], times["evening"]
-    plan = [  # (fix group, method, body, limb, UTC, style)
+    plan = [  # (the round, "" for a working on its own; method, body, limb, UTC, style): the forenoon Sun crossed
+        # with the noon latitudes, the stars of each twilight
         *[("06 Oct morning stars", "intercept", s, "", morning + 150 * k * SECOND_NS, style)
           for k, (s, style) in enumerate(zip(stars_up(morning, MORNING_STARS, 3), ("full", "calculator", "dr")))],
-        ("06 Oct sunrise", "amplitude", "Sun", "", times["sunrise"], "full"),
-        ("06 Oct forenoon Sun", "intercept", "Sun", "lower", times["noon"] - int(2.5 * HOUR_NS), "full"),
+        ("", "amplitude", "Sun", "", times["sunrise"], "full"),
+        ("06 Oct noon", "intercept", "Sun", "lower", times["noon"] - int(2.5 * HOUR_NS), "full"),
         ("06 Oct noon", "ex-meridian", "Sun", "lower", times["noon"] - 12 * 60 * SECOND_NS, "full"),
         ("06 Oct noon", "meridian", "Sun", "lower", times["noon"], "full"),
-        ("06 Oct afternoon", "azimuth", "Sun", "", times["noon"] + int(3.2 * HOUR_NS), "full"),
+        ("", "azimuth", "Sun", "", times["noon"] + int(3.2 * HOUR_NS), "full"),
         ("06 Oct evening stars", "polaris", "Polaris", "", evening, "full"),
         *[("06 Oct evening stars", "intercept", s, "", evening + 150 * (k + 1) * SECOND_NS, style)
           for k, (s, style) in enumerate(zip(stars_up(evening, EVENING_STARS, 2), ("full", "interpolated")))],
@@ -1101,7 +1103,7 @@ def make_class(ts, eph, seed: int = 1790):
                             "planted": plant})
     # each round of position lines: the fix the cadet plotted, on its last sight
     for (cadet, _group), members in rounds.items():
-        lines = [m[2] for m in members if m[1].method in ("intercept", "polaris")]
+        lines = [m[2] for m in members if m[1].method in ("intercept", "polaris", "meridian", "ex-meridian")]
         if len(lines) < 2 or not any(m[1].method == "intercept" for m in members):
             continue
         plant = next((m[3] for m in members if m[3] in PLOT_PLANTS), None)

@@ -254,7 +254,8 @@ def write_template(path: str | Path) -> Path:
     for title, page in PAGES.items():
         _template_page(book, title, page, lists)
     help_sheet = book.create_sheet("How to fill it in")
-    help_sheet["A1"] = "A sight book for navred mark: a page per method, one working per block."
+    help_sheet["A1"] = ("A sight book for navred mark: a page for each way of working (the intercept method by body, noon, "
+                        "Polaris, the compass check), one working per block.")
     help_sheet["A1"].font = Font(bold=True, size=13)
     for k, text in enumerate(TEMPLATE_INSTRUCTIONS, start=3):
         help_sheet.cell(row=k, column=1, value=text).alignment = Alignment(wrap_text=True)

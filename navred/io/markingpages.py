@@ -88,7 +88,7 @@ def _working(r: dict, lines) -> list:
         shown = x["verdict"]
         if shown == "wrong":
             off = difference_text(x["line"], x["difference"])
-            shown = f"wrong ({off})" if off else "wrong"
+            shown = "missing" if not x["given"] else f"wrong ({off})" if off else "wrong"
             notes.append(f"{x['line_name']}: " + (f"probable cause: {x['cause']}." if x["cause"] else
                                                    NO_CATALOGUED_CAUSE))
         rows.append((x["line_name"], x["given"], x["expected"] if x["verdict"] != "right" else "", shown))

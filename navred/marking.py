@@ -122,8 +122,8 @@ def mark(sights: SightsToMark, given: dict[str, ArrayLike]) -> Marks:
 
     ``given`` maps line names of :data:`LINES` to the cadet's values (``utc_worked`` as datetime64
     UTC; the lines of :data:`DEGREE_LINES` in degrees (latitudes and declinations north +,
-    longitudes east +); Z, Zn, the amplitude (north +), the compass error and the deviation (east +)
-    in degrees; every correction (increment, v, d, IC, dip, refraction, SD, parallax, main, HP
+    longitudes east +); Z (tabulated or interpolated), Zn, the amplitude (north +), the compass error
+    and the deviation (east +) in degrees; the body's bearing at meridian passage 0° (N) or 180° (S); every correction (increment, v, d, IC, dip, refraction, SD, parallax, main, HP
     correction, upper limb, additional, the tables' d, the Hc correction, the reduction and the
     Polaris correction) in arcminutes, signed as added; ``a`` in arcseconds; the intercept in
     nautical miles, + TOWARD); a missing line is absent or NaN/NaT.

@@ -7,11 +7,13 @@ Core code (numpy). The methods and their conventions (common practice; the navig
   GHA + longitude (east +) a whole degree; the tables' Hc, d and Z at the whole LHA, latitude and
   degrees of Dec, Hc = tabulated Hc + d × (minutes of Dec)/60; Zn from Z (north latitude, LHA over
   180°: Zn = Z, under: 360° − Z; south latitude, LHA over 180°: 180° − Z, under: 180° + Z), Z as
-  tabulated or interpolated for the minutes of Dec; intercept = Ho − Hc, TOWARD when Ho is the greater.
+  tabulated or interpolated for the minutes of Dec (written in the one Z line, or on a line of its own);
+  intercept = Ho − Hc, TOWARD when Ho is the greater.
 - **Intercept from the DR** (a calculator): LHA = GHA + DR longitude, Hc and Zn at the DR by the
   cosine and azimuth formulas, each rounded as written (0.1′ and 0.1°).
-- **Latitude by meridian altitude**: zenith distance = 90° − Ho, named opposite to the body's
-  bearing (N when the body bears south); latitude = Dec + zenith distance, the names as signs (same
+- **Latitude by meridian altitude**: the body bears north at meridian passage when its declination
+  is north of the latitude, else south; zenith distance = 90° − Ho, named opposite to that bearing
+  (N when the body bears south; the cadet's own bearing where written); latitude = Dec + zenith distance, the names as signs (same
   names add, contrary names subtract).
 - **Ex-meridian**: the meridian angle t (minutes of time) from LHA = GHA + DR longitude; the
   reduction to the meridian a·t², a = 1.9635″ cos L cos d / sin(L ∼ d) the change of altitude in

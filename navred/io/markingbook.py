@@ -100,8 +100,10 @@ def write_marking_workbook(report, path: str | Path) -> Path:
         _, what, _ = WORKED_FORMS[name]
         about.cell(row=line, column=1, value=LINE_NAMES[name])
         unit = UNITS[name] if UNITS[name] in ("′", "°", "″") else f" {UNITS[name]}"
-        about.cell(row=line, column=2, value=f"{what}: right within {TOLERANCES[name]:g}{unit} of the exact value "
-                                             "or of the printed tables' (docs/marking.md)")
+        judged = ("right when named as the body bears (docs/marking.md)" if name == "bearing_worked" else
+                  f"right within {TOLERANCES[name]:g}{unit} of the exact value or of the printed tables' "
+                  "(docs/marking.md)")
+        about.cell(row=line, column=2, value=f"{what}: {judged}")
     about.column_dimensions["A"].width = 38
     about.column_dimensions["B"].width = 110
     write_table_sheet(tables, book.create_sheet("Class"), labelled(report.by_cadet))

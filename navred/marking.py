@@ -169,8 +169,8 @@ def mark(sights: SightsToMark, given: dict[str, ArrayLike]) -> Marks:
                                                any_wrong(marks.verdict))
     plotted = np.isin(marks.first_wrong_line, ["fix_lat_worked", "fix_lon_worked"])
     for fix in fixes:  # a slip of the plot costs the distance of the plotted fix from the lines' crossing
-        rows = np.array(fix.rows)
-        marks.cost_nm[rows[plotted[rows]]] = fix.apart_nm
+        if fix.charged >= 0 and plotted[fix.charged]:
+            marks.cost_nm[fix.charged] = fix.apart_nm
     marks.fixes = fixes
     return marks
 

@@ -139,7 +139,10 @@ def fix_lines(j: Judge, sights: SightsToMark, lines: Lines, times_s: np.ndarray,
         members = groups == name
         named = bool(named_by_cadet[members].any())
         rows = np.flatnonzero(members & np.isin(method, ROUND_METHODS if named else TIMED_ROUND_METHODS))
-        if len(rows) == 0 or not (named or gives_fix[rows].any()):
+        # the fix plotted may be written on any working of the round (on its last sight, as the book asks)
+        plotted = np.flatnonzero(members & gives_fix)
+        plotted = plotted[np.argsort(times_s[plotted], kind="stable")]
+        if len(rows) == 0 or not (named or np.isin(plotted, rows).any()):
             continue  # no line, or sights taken together that the cadet did not plot as a fix
         last = rows[np.argmax(times_s[rows])]
         lat0, lon0 = float(lat_dr[last]), float(lon_dr[last])
@@ -153,7 +156,6 @@ def fix_lines(j: Judge, sights: SightsToMark, lines: Lines, times_s: np.ndarray,
                 else "a single line of position: no fix" if len(used) == 1
                 else f"the lines cut at under {SHALLOWEST_CUT_DEG:.0f}°: no fix")
         fix_lat, fix_lon = _position(origin, solution) if solution is not None else (np.nan, np.nan)
-        plotted = rows[gives_fix[rows]]
         p_lat = float(plotted_lat[plotted[-1]]) if len(plotted) else np.nan
         p_lon = float(plotted_lon[plotted[-1]]) if len(plotted) else np.nan
         apart = float(np.hypot(*_plane(p_lat, p_lon, fix_lat, fix_lon))) if solution is not None else np.nan

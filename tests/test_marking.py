@@ -99,7 +99,7 @@ def _correct(ts, eph, pools):
 
 def test_correct_workings_by_every_method_are_marked_right_and_nothing_is_noticed(ts, eph, pools, tmp_path):
     """Correct workings by every method (intercept from an AP by the tables with Z tabulated or interpolated,
-    by a calculator, from the DR; the Moon's one combined or two-part correction; the meridian altitude, the
+    the interpolated Z written in the one Z line or on its own line, by a calculator, from the DR; the Moon's one combined or two-part correction; the meridian altitude, the
     ex-meridian, Polaris, the amplitude and the azimuth; every line or only the required ones), read from
     hand-kept files: no line wrong, nothing noticed, the method told from the lines."""
     rows, sights, styles = _correct(ts, eph, pools)

@@ -56,6 +56,7 @@ from ..vocabulary import (
     NO_HORIZON,
     OUTPUT_SUFFIX,
     OWN_COLUMN_HINT,
+    RESULT_COLUMNS,
     UNIT_CONVERSIONS,
     UNIT_NAMES,
     convert_to_working_unit,
@@ -64,6 +65,7 @@ from ..vocabulary import (
     unknown_header_refusal,
 )
 from .readers import (
+    REJECTED_COLUMNS,
     LogbookError,
     MissingFormulaValue,
     RawTable,
@@ -73,7 +75,6 @@ from .readers import (
     read_table,
 )
 
-REJECTED_COLUMNS = ["source", "row", "column", "value", "reason"]
 #: Sights closer together than this fall in one fix group when the log gives none (issue 5).
 DEFAULT_GROUP_GAP_HOURS = 2.0
 #: A utc and a zone time given for one sight must agree this closely (seconds).
@@ -419,7 +420,7 @@ def _layout(table: RawTable, also_reads: frozenset[str] = frozenset()) -> _Layou
                 key = _OUTPUT_COLUMNS[name]
                 layout.keys.setdefault(key, []).append(k)
                 layout.units[k] = _OUTPUT_UNITS.get(key, COLUMN[key].default_unit)
-            elif header.strip().endswith(OUTPUT_SUFFIX) or (name not in SIGHT_COLUMNS and name not in _RESULT_NAMES):
+            elif header.strip().endswith(OUTPUT_SUFFIX) or (name not in SIGHT_COLUMNS and name not in RESULT_NAMES):
                 layout.extras.append(k)
             continue
         match = match_header(header)
@@ -452,17 +453,6 @@ def _layout(table: RawTable, also_reads: frozenset[str] = frozenset()) -> _Layou
     return layout
 
 
-_RESULT_NAMES: set[str] = set()
-
-
-def _result_names() -> set[str]:
-    if not _RESULT_NAMES:
-        from ..jobs.sights import RESULT_COLUMNS
-
-        _RESULT_NAMES.update(RESULT_COLUMNS)
-    return _RESULT_NAMES
-
-
 @api_boundary
 def read_sight_log(source: object, *, dates: str | None = None, all_sheets: bool = False,
                    rates: object | None = None, also_reads: Iterable[str] = (),
@@ -484,7 +474,6 @@ def read_sight_log(source: object, *, dates: str | None = None, all_sheets: bool
     """
     if dates is not None and dates not in DATE_ORDERS:
         raise LogbookError(f"dates {dates!r} is not one of {', '.join(DATE_ORDERS)}")
-    _result_names()
     own = frozenset(normalise_header(h) for h in also_reads)
     tables = read_table(source, all_sheets=all_sheets, budget=budget)
     layouts = []
@@ -550,7 +539,6 @@ def sight_log_blocks(source: object, *, dates: str | None = None, block_rows: in
         else None
     if plain is None or len(plain.lines) <= block_rows:
         return None
-    _result_names()
     first = plain.block(0)
     layout = _layout(first)
     if layout.problems:
@@ -575,6 +563,9 @@ def _check_is_log(table: RawTable, keys: dict) -> None:
             f"Hs or DR{separator}; required: utc (or date, zone_time and zone_description), body, hs, dr_lat, "
             "dr_lon (see docs/sight-log.md)")
 
+
+#: the reduction's columns (a log of reduced rows read back)
+RESULT_NAMES = frozenset(RESULT_COLUMNS)
 
 _SEPARATOR_NAMES = {",": "comma", ";": "semicolon", "\t": "tab"}
 
@@ -1324,7 +1315,7 @@ def _extra_name(header: str) -> str:
     if header.strip().endswith(OUTPUT_SUFFIX):
         return f"{normalise_header(header.strip()[:-len(OUTPUT_SUFFIX)])} {OUTPUT_SUFFIX}"
     name = normalise_header(header) or "column"
-    return f"{name} {OUTPUT_SUFFIX}" if name in SIGHT_COLUMNS or name in _RESULT_NAMES else name
+    return f"{name} {OUTPUT_SUFFIX}" if name in SIGHT_COLUMNS or name in RESULT_NAMES else name
 
 
 def _extras(tables, layouts) -> tuple[dict[str, np.ndarray], list[str]]:

@@ -54,6 +54,10 @@ _CONTROL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
 _NUL_STANDIN = "\ue000"  # a NUL byte while the CSV is split (the csv module refuses NUL itself)
 _CR_STANDIN = "\ue001"  # a carriage return alone inside a line, likewise
 
+#: The columns of every table of rejected rows (a sight log's, a rating log's): the file, the row as a
+#: spreadsheet shows it, the column, the value as written and why it was refused.
+REJECTED_COLUMNS = ["source", "row", "column", "value", "reason"]
+
 
 class LogbookError(NavredError):
     """A file that is not a readable sight log at all."""

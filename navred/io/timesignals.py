@@ -28,7 +28,7 @@ from ..rating import RateChange, RateFit, error_in_half_day, fit_rate, rate_chan
 from ..timescales import utc_jd_to_datetime64, utc_julian_date, utc_julian_date_from_components
 from ..timework import DATE_ORDERS, iso_instant_text, parse_time_of_day, parse_zone_description
 from ..vocabulary import normalise_header, unknown_header_refusal
-from .readers import LogbookError, read_table
+from .readers import REJECTED_COLUMNS, LogbookError, read_table
 
 #: The rating log's columns and the headers that name them.
 RATING_COLUMNS = {
@@ -38,7 +38,6 @@ RATING_COLUMNS = {
     "zone_description": ("zone_description", "zd", "zone"),
 }
 _HEADERS = {spelling: key for key, spellings in RATING_COLUMNS.items() for spelling in spellings}
-REJECTED_COLUMNS = ["source", "row", "column", "value", "reason"]
 #: A prediction further than this beyond the comparisons (days) is noted: the rate may have changed.
 EXTRAPOLATION_NOTE_DAYS = 30.0
 _DAY_NS = 86_400_000_000_000

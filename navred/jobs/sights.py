@@ -24,6 +24,7 @@ from ..triangle import (
     intercept_direction,
     intercept_nm,
 )
+from ..vocabulary import RESULT_COLUMNS  # the columns reduce_sights adds, in order
 
 LARGE_INTERCEPT_NM = 30.0  # a larger intercept usually means a blunder or a poor DR (common practice)
 #: A star or planet on the sea horizon is taken in twilight: from when the Sun is about 3° below the horizon
@@ -35,13 +36,6 @@ SUN_DARK_HORIZON_DEG = -12.0
 #: The horizons that are the sea's own (a star needs it lit and the sky dark).
 SEA_HORIZONS = ("sea", "back")
 
-#: The columns reduce_sights adds to the parsed sights, in order (documented in docs/sight-log.md).
-RESULT_COLUMNS = [
-    "dut1_s", "ut1_source", "gha_aries_deg", "sha_deg", "gha_deg", "dec_deg", "hp_arcmin", "almanac_sd_arcmin",
-    "lha_deg", "ic_arcmin", "horizon_arcmin", "dip_arcmin", "ha_deg", "refraction_arcmin", "sd_arcmin",
-    "parallax_arcmin", "phase_angle_deg", "phase_arcmin", "ho_deg", "hc_deg", "zn_deg", "intercept_nm",
-    "intercept_direction", "status", "message", "error_column",
-]
 STATUS_OK, STATUS_WARNING, STATUS_ERROR = "ok", "warning", "error"
 
 

@@ -423,11 +423,11 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
     vessels = list(days.tracks)
     vessel = vessel if vessel is not None else (vessels[0] if vessels else "")
     points, fixes, estimated, noons = days.of_vessel(vessel)
-    noons = noons[np.isfinite(noons["lat (deg)"].astype(float))]
+    noons = noons[np.isfinite(noons["lat_deg"].astype(float))]
     track = days.tracks.get(vessel)
-    lats = np.concatenate([points.lat_deg.to_numpy(float), estimated["lat (deg)"].to_numpy(float),
+    lats = np.concatenate([points.lat_deg.to_numpy(float), estimated["lat_deg"].to_numpy(float),
                            track.known_lat if track is not None else []])
-    lons = np.concatenate([points.lon_deg.to_numpy(float), estimated["lon (deg)"].to_numpy(float),
+    lons = np.concatenate([points.lon_deg.to_numpy(float), estimated["lon_deg"].to_numpy(float),
                            track.known_lon if track is not None else []])
     sheet = Canvas(SHEET_PT * 1.5, SHEET_PT, PAPER)
     ax0, ay0, ax1, ay1 = 70.0, 58.0, SHEET_PT * 1.5 - 40.0, SHEET_PT - 84.0
@@ -494,11 +494,11 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
                 sheet.polygon([fx - 4, fx + 4, fx + 4, fx - 4], [fy - 4, fy - 4, fy + 4, fy + 4], outline=INK, width=1.4)
                 sheet.text(fx + 7, fy + 10, label.split(" at ")[0], 7, INK)
     for f in fixes.to_dict("records"):
-        if not np.isfinite(f["set (deg)"]):
+        if not np.isfinite(f["set_deg"]):
             continue
-        fx, fy = plane(f["fix lat (deg)"], f["fix lon (deg)"])
-        length = f["drift (kn)"] * arrow_nm
-        turn = math.radians(f["set (deg)"])
+        fx, fy = plane(f["fix_lat_deg"], f["fix_lon_deg"])
+        length = f["drift_kn"] * arrow_nm
+        turn = math.radians(f["set_deg"])
         tx, ty = float(fx) + length * math.sin(turn), float(fy) + length * math.cos(turn)
         (sx, sy), (ex_, ey_) = page(float(fx), float(fy)), page(tx, ty)
         sheet.line([float(sx), float(ex_)], [float(sy), float(ey_)], CHART, 1.6)
@@ -507,11 +507,11 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
         sheet.polygon([float(ex_), head[0][0], head[1][0]], [float(ey_), head[0][1], head[1][1]], fill=CHART,
                       outline=CHART, width=0.5)
     for e in estimated.to_dict("records"):
-        px, py = (float(v) for v in page(*plane(e["lat (deg)"], e["lon (deg)"])))
+        px, py = (float(v) for v in page(*plane(e["lat_deg"], e["lon_deg"])))
         sheet.polygon([px - 4, px + 4, px + 4, px - 4], [py - 4, py - 4, py + 4, py + 4], outline=FIX, width=1.2)
-        sheet.text(px + 7, py - 6, f"EP {e['UTC'][11:16]}" + (" (see its warning)" if e.get("note") else ""), 7, FIX)
+        sheet.text(px + 7, py - 6, f"EP {e['utc'][11:16]}" + (" (see its warning)" if e.get("note") else ""), 7, FIX)
     for n in noons.to_dict("records"):
-        px, py = (float(v) for v in page(*plane(n["lat (deg)"], n["lon (deg)"])))
+        px, py = (float(v) for v in page(*plane(n["lat_deg"], n["lon_deg"])))
         sheet.circle(px, py, 3.2, fill=INK)
         sheet.text(px + 7, py + 13, f"noon {n['date'][5:]}", 7, INK)
     sheet.line([ax0, ax1, ax1, ax0, ax0], [ay0, ay0, ay1, ay1, ay0], INK, 0.8)

@@ -67,6 +67,7 @@ from ..vocabulary import (
 from .readers import (
     REJECTED_COLUMNS,
     LogbookError,
+    LogSource,
     MissingFormulaValue,
     RawTable,
     ReadBudget,
@@ -74,6 +75,7 @@ from .readers import (
     plain_csv_blocks,
     read_table,
 )
+from .timesignals import Ratings
 
 #: Sights closer together than this fall in one fix group when the log gives none (issue 5).
 DEFAULT_GROUP_GAP_HOURS = 2.0
@@ -454,8 +456,8 @@ def _layout(table: RawTable, also_reads: frozenset[str] = frozenset()) -> _Layou
 
 
 @api_boundary
-def read_sight_log(source: object, *, dates: str | None = None, all_sheets: bool = False,
-                   rates: object | None = None, also_reads: Iterable[str] = (),
+def read_sight_log(source: LogSource, *, dates: str | None = None, all_sheets: bool = False,
+                   rates: Ratings | None = None, also_reads: Iterable[str] = (),
                    budget: ReadBudget | None = None) -> SightLog:
     """Read and check sight logs: a file (CSV or .xlsx), a list of files, a folder, or a DataFrame.
 
@@ -487,8 +489,8 @@ def read_sight_log(source: object, *, dates: str | None = None, all_sheets: bool
     return _parse(tables, layouts, dates, rates)
 
 
-def read_sight_log_blocks(source: object, *, dates: str | None = None, block_rows: int = 100_000,
-                          rates: object | None = None) -> Iterator[SightLog]:
+def read_sight_log_blocks(source: LogSource, *, dates: str | None = None, block_rows: int = 100_000,
+                          rates: Ratings | None = None) -> Iterator[SightLog]:
     """A sight log read in blocks of rows, each block by the same rules as :func:`read_sight_log`.
 
     For a log too long to hold whole in memory with all its working (``navred reduce --csv`` of a
@@ -528,8 +530,8 @@ class LogBlocks:
         return _parse([self.plain.block(k)], [self.layout], self.dates, self.rates)
 
 
-def sight_log_blocks(source: object, *, dates: str | None = None, block_rows: int = 100_000,
-                     rates: object | None = None) -> LogBlocks | None:
+def sight_log_blocks(source: LogSource, *, dates: str | None = None, block_rows: int = 100_000,
+                     rates: Ratings | None = None) -> LogBlocks | None:
     """The blocks a log can be read in (see :func:`read_sight_log_blocks`), or None when it must be read
     whole with :func:`read_sight_log` (not a plain CSV file, no longer than one block, or rows that leave
     their fix group or their DR to be worked out from the whole log)."""

@@ -176,6 +176,11 @@ def atomic_write(path: str | Path, write: Callable[[str], object], *, inputs: It
     return target
 
 
+def write_text(path: str | Path, text: str, *, inputs: Iterable[str | Path] = ()) -> Path:
+    """A text file (UTF-8) written through :func:`atomic_write`."""
+    return atomic_write(path, lambda p: Path(p).write_text(text, encoding="utf-8"), inputs=inputs)
+
+
 def atomic_write_many(folder: str | Path, files: dict[str, bytes], *, inputs: Iterable[str | Path] = ()) -> list[Path]:
     """:func:`atomic_write` for many files in one folder (the plotting sheets of a long passage).
 

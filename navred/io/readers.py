@@ -17,7 +17,9 @@ import csv
 import io
 import re
 import zipfile
+from collections.abc import Sequence
 from dataclasses import dataclass, field
+from os import PathLike
 from pathlib import Path
 
 import numpy as np
@@ -57,6 +59,9 @@ _CR_STANDIN = "\ue001"  # a carriage return alone inside a line, likewise
 #: The columns of every table of rejected rows (a sight log's, a rating log's): the file, the row as a
 #: spreadsheet shows it, the column, the value as written and why it was refused.
 REJECTED_COLUMNS = ["source", "row", "column", "value", "reason"]
+
+#: What a reader takes: a file (its path), a list of files, a folder of them, or a pandas DataFrame.
+LogSource = str | PathLike[str] | Sequence[str | PathLike[str]] | pd.DataFrame
 
 
 class LogbookError(NavredError):
@@ -132,7 +137,7 @@ class ReadBudget:
             "split the logs, or leave out the columns navred does not use"))
 
 
-def read_table(source: object, *, all_sheets: bool = False, budget: ReadBudget | None = None) -> list[RawTable]:
+def read_table(source: LogSource, *, all_sheets: bool = False, budget: ReadBudget | None = None) -> list[RawTable]:
     """The tables of a source: one file, a list of files, a folder of logs, or a pandas DataFrame.
 
     ``all_sheets``: every sheet of a workbook that holds a table (a class's workings, a sheet per

@@ -95,6 +95,13 @@ class Ratings:
     sources: tuple[str, ...] = ()
     notes: list[str] = field(default_factory=list)
 
+    def comparisons_table(self) -> pd.DataFrame:
+        """Every comparison of every timepiece with its error and residual (the --csv table), the signal's
+        instant as ISO 8601 with Z."""
+        frames = [p.comparisons.assign(signal_utc=p.comparisons.signal_utc.dt.strftime("%Y-%m-%dT%H:%M:%SZ"))
+                  for p in self.timepieces.values()]
+        return pd.concat(frames, ignore_index=True) if frames else pd.DataFrame()
+
     def predict(self, names: np.ndarray, utc64: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         """Each sight's predicted error (seconds, fast +), its standard error, and the note that says where it
         came from ('' and NaN where the timepiece is not rated). ``names`` '' means the one rated timepiece."""

@@ -149,7 +149,7 @@ def test_the_workbook_navred_wrote_reads_back_to_the_same_fixes(tmp_path):
     for source in ("sample_sights/demo_sights.csv", "sample_sights/training_sights.csv"):
         voyage = process_log(source, plan=False)
         book = tmp_path / "voyage.xlsx"
-        from navred.io.workbook import write_workbook
+        from navred.jobs.voyagebook import write_workbook
 
         write_workbook(voyage, book, plots=False)
         again = process_log(book, plan=False)

@@ -673,10 +673,10 @@ def test_every_file_a_run_reads_is_refused_as_an_output(tmp_path):
     track = tmp_path / "track.xlsx"
     track.write_bytes(open("sample_sights/training_track.csv", "rb").read())
     cases = [
-        ["workbook", str(log), "--rates", str(rates), "--gpx", str(rates)],
-        ["days", str(log), "--rates", str(rates), "--picture", str(log)],
+        ["workbook", str(log), "--rates", str(rates), "-o", str(rates)],
+        ["days", str(log), "--rates", str(rates), "-o", str(log)],
         ["training", str(log), "--track", str(track), "-o", str(track)],
-        ["mark", str(tmp_path), "--pdf", str(log)],
+        ["mark", str(tmp_path), "-o", str(log)],
     ]
     before = {p: p.read_bytes() for p in (log, rates, track)}
     for arguments in cases:
@@ -686,19 +686,21 @@ def test_every_file_a_run_reads_is_refused_as_an_output(tmp_path):
 
 
 @pytest.mark.parametrize("arguments, fragment", [
-    (["mark", "sample_sights/class_workings.xlsx", "-o", "{tmp}/m.csv"], "--output {tmp}/m.csv: navred writes XLSX"),
+    (["mark", "sample_sights/class_workings.xlsx", "-o", "{tmp}/m.csv"], "-o {tmp}/m.csv: navred does not write .csv"),
     (["mark", "--template", "{tmp}/t.csv"], "--template {tmp}/t.csv: navred writes XLSX"),
-    (["workbook", DEMO, "-o", "{tmp}/w.pdf"], "the name must end .xlsx"),
-    (["workbook", DEMO, "-o", "{tmp}/w.xlsx", "--gpx", "{tmp}/w.kml"], "--gpx {tmp}/w.kml: navred writes GPX"),
-    (["plan", "--date", "2026-03-26", "--lat", "44 N", "--lon", "12 W", "--sky", "{tmp}/sky.pdf"], "PNG or SVG"),
-    (["training", DEMO, "--track", "sample_sights/training_track.csv", "--summary", "{tmp}/s.txt"], "PDF or PNG or SVG"),
-    (["days", "sample_sights/passage_log.csv", "--picture", "{tmp}/p.jpg"], "--picture {tmp}/p.jpg: navred writes PNG"),
+    (["workbook", DEMO, "-o", "{tmp}/w.pdf"], "-o {tmp}/w.pdf: navred does not write .pdf here; accepted: .xlsx"),
+    (["workbook", DEMO, "-o", "{tmp}/w.xlsx", "-o", "{tmp}/w.kml"], "-o {tmp}/w.kml: navred does not write .kml"),
+    (["plan", "--date", "2026-03-26", "--lat", "44 N", "--lon", "12 W", "-o", "{tmp}/sky.gif"], "accepted: .pdf"),
+    (["training", DEMO, "--track", "sample_sights/training_track.csv", "-o", "{tmp}/s.txt"], "accepted: .xlsx"),
+    (["days", "sample_sights/passage_log.csv", "-o", "{tmp}/p.jpg"], "-o {tmp}/p.jpg: navred does not write .jpg"),
     (["lunar", "29 44.7", "--other", "Antares", "--utc", "2024-09-12T19:33:00Z", "--lat", "30 N", "--lon", "40 W",
-      "--xlsx", "{tmp}/l.csv"], "--xlsx {tmp}/l.csv: navred writes XLSX"),
-    (["route", "40 N", "73 W", "49 N", "5 W", "--geojson", "{tmp}/r.gpx"], "GEOJSON or JSON"),
+      "-o", "{tmp}/l.csv"], "-o {tmp}/l.csv: navred does not write .csv here; accepted: .xlsx"),
+    (["route", "40 N", "73 W", "49 N", "5 W", "-o", "{tmp}/r.kml"], "accepted: .gpx"),
     (["workbook", DEMO, "-o", "{tmp}/" + "v" * 240 + ".xlsx"], "the name is too long for this folder"),
     (["workbook", DEMO, "-o", "{tmp}/no/such/" + "v" * 250 + ".xlsx"], "the name is too long"),
     (["training", DEMO, "--track", "sample_sights/training_track.csv", "--plots", "{log}"], "that is a file"),
+    (["plan", "--date", "2026-03-26", "--lat", "44 N", "--lon", "12 W", "-o", "{tmp}/no/such/plan.pdf"],
+     "the folder {tmp}/no/such does not exist"),
 ])
 def test_outputs_are_checked_for_suffix_name_and_folder_before_the_work(tmp_path, arguments, fragment):
     # issue 20: --sky/--summary with an unsupported suffix failed after the whole job; a temporary name too long
@@ -719,7 +721,7 @@ def test_outputs_are_checked_for_suffix_name_and_folder_before_the_work(tmp_path
     (["workbook", DEMO, "-o", ""], "--output"),
     (["reduce", DEMO, "--rates", ""], "--rates"),
     (["fix", DEMO, "--group", "  "], "--group"),
-    (["days", DEMO, "--picture", ""], "--picture"),
+    (["days", DEMO, "-o", ""], "--output"),
     (["training", DEMO, "--track", ""], "--track"),
     (["workbook", DEMO, "--plots", ""], "--plots"),
     (["mark", "--template", ""], "--template"),

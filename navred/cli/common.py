@@ -68,9 +68,10 @@ class CsvFileOfOld(TyperCommand):
         for k, arg in enumerate(args):
             if arg == "--":
                 break
-            if arg.startswith("--csv=") and arg != "--csv=":
+            if arg.startswith("--csv="):
                 args[k:k + 1] = ["--csv-file", arg[len("--csv="):]]
-            elif arg == "--csv" and k + 1 < len(args) and args[k + 1].lower().endswith(".csv") \
+            elif arg == "--csv" and k + 1 < len(args) and (args[k + 1].lower().endswith(".csv")
+                                                           or not args[k + 1].strip()) \
                     and not args[k + 1].startswith("-"):
                 args[k:k + 2] = ["--csv-file", args[k + 1]]
         return super().parse_args(ctx, args)
@@ -141,6 +142,10 @@ def reported(ctx=None, *, caution: bool = True):
         print_caution()
 
 
+#: hidden options that stand for the old form of a visible one (``--csv FILE`` is read as ``--csv-file FILE``)
+OLD_FORMS = {"--csv-file": "--csv"}
+
+
 def refuse_empty_values(context) -> None:
     """An option or argument given as an empty string (``-o ''``, ``--rates ''``) is refused by name: it is a
     slip (an unset shell variable), never a choice, and must not pass for an option not given."""
@@ -152,6 +157,7 @@ def refuse_empty_values(context) -> None:
         if any(isinstance(v, str) and not v.strip() for v in values):
             name = "/".join(o for o in parameter.opts if o.startswith("--")) or (parameter.opts[0] if parameter.opts
                                                                                   else parameter.name)
+            name = OLD_FORMS.get(name, name)
             if not parameter.opts or not parameter.opts[0].startswith("-"):
                 name = (parameter.metavar or parameter.name).upper().rstrip(".")
             raise NavredError(f"{name}: an empty value was given; give a value, or leave the option out")
@@ -365,6 +371,7 @@ def output_files(paths: list[str] | None, suffixes: dict[str, str], inputs=(),
     for path in paths or []:
         if not str(path).strip():
             raise NavredError(f"-o: an empty file name; accepted: {accepted}")
+        check_output(path, inputs, what="-o")  # an input, a folder, a device, a name too long: refused first
         suffix = Path(path).suffix.lower()
         if suffix not in suffixes:
             raise NavredError(f"-o {path}: navred does not write {suffix or 'a file without a suffix'} here; "
@@ -374,7 +381,6 @@ def output_files(paths: list[str] | None, suffixes: dict[str, str], inputs=(),
             raise NavredError(f"-o {path}: a second {suffix} file (the first is {chosen[suffix]})")
         if not Path(path).parent.exists():
             raise NavredError(f"-o {path}: the folder {Path(path).parent} does not exist")
-        check_output(path, inputs)
         chosen[suffix] = path
     return chosen
 

@@ -6,6 +6,8 @@ library's tables and --csv keep their snake_case names with units.
 
 from __future__ import annotations
 
+from collections.abc import Iterator
+
 import numpy as np
 import pandas as pd
 
@@ -142,28 +144,27 @@ def card_lines(path, card: pd.DataFrame) -> list[str]:
 
 # --- reduce and fix ---------------------------------------------------------------------------
 
-def reduce_lines(done) -> list[str]:
-    """Every sight of a :class:`navred.jobs.reducing.ReducedLog`: Ho, Hc, Zn and the intercept, or why not."""
+def reduce_lines(done) -> Iterator[str]:
+    """Every sight of a :class:`navred.jobs.reducing.ReducedLog`: Ho, Hc, Zn and the intercept, or why not; line by
+    line as it is made (a long log's first lines reach a pager at once)."""
     reduced, log = done.reduced, done.log
     labels = [label.removeprefix("row ") for label in labels_of(reduced)]
     width = max([len(x) for x in labels] + [3])
-    lines = [f"{'row':>{width}}  {'body':<15}{'UTC':<21}{'Ho':>12}{'Hc':>12}{'Zn':>8}  {'intercept':<18}note"]
+    yield (f"{'row':>{width}}  {'body':<15}{'UTC':<21}{'Ho':>12}{'Hc':>12}{'Zn':>8}  {'intercept':<18}note")
     for label, row in zip(labels, reduced.itertuples()):
         when = f"{row.sight_utc:%Y-%m-%d %H:%M:%S}" if str(row.sight_utc) != "NaT" else ""
         if row.status == "error":
-            lines.append(f"{label:>{width}}  {str(row.body_name or '?'):<15}{when:<21}{'not reduced:':>12} "
-                         f"{row.message}")
+            yield f"{label:>{width}}  {str(row.body_name or '?'):<15}{when:<21}{'not reduced:':>12} {row.message}"
             continue
         intercept = f"{abs(row.intercept_nm):5.1f} nm {row.intercept_direction}"
         carried = getattr(row, "motion_carried_from", "")
         note = "; ".join(t for t in (row.message, carried) if t)
-        lines.append(f"{label:>{width}}  {row.body_name:<15}{when:<21}{format_angle(row.ho_deg, 'signed'):>12}"
-                     f"{format_angle(row.hc_deg, 'signed'):>12}{row.zn_deg:7.1f}°  {intercept:<18}{note}")
+        yield (f"{label:>{width}}  {row.body_name:<15}{when:<21}{format_angle(row.ho_deg, 'signed'):>12}"
+               f"{format_angle(row.hc_deg, 'signed'):>12}{row.zn_deg:7.1f}°  {intercept:<18}{note}")
     counts = reduced.status.value_counts()
     empty = f", {log.empty_rows} empty row{'s' if log.empty_rows > 1 else ''} skipped" if log.empty_rows else ""
-    lines.append(f"{int(counts.get('ok', 0) + counts.get('warning', 0))} sights reduced "
-                 f"({int(counts.get('warning', 0))} with a warning), {int(counts.get('error', 0))} not reduced{empty}")
-    return lines
+    yield (f"{int(counts.get('ok', 0) + counts.get('warning', 0))} sights reduced "
+           f"({int(counts.get('warning', 0))} with a warning), {int(counts.get('error', 0))} not reduced{empty}")
 
 
 def sight_warning_lines(reduced: pd.DataFrame, labels, rows=None, *, indent: str = "") -> list[str]:

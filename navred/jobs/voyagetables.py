@@ -30,7 +30,9 @@ def _row_columns(voyage, frame: pd.DataFrame) -> dict[str, object]:
 
 
 def working_table(voyage) -> pd.DataFrame:
-    """One row per reduced sight with every line of the working, units in the headers."""
+    """One row per reduced sight with every line of the working, units in the headers; the columns a log uses
+    only sometimes (a value in other units, a waterline, a rated watch, a carried DR, its own extra columns)
+    where it uses them."""
     reduced = voyage.reduced
     residual = np.full(len(reduced), np.nan)
     flagged = np.zeros(len(reduced), dtype=bool)
@@ -94,6 +96,11 @@ def working_table(voyage) -> pd.DataFrame:
         "UT1 source": r.ut1_source,
         "flags": notes,
     })
+    return _with_columns_used(table, r, voyage.log.extra_columns)
+
+
+def _with_columns_used(table: pd.DataFrame, r: pd.DataFrame, extra_columns) -> pd.DataFrame:
+    """The Working sheet's columns that only some logs need, inserted beside their kin."""
     # a value given in other units (feet, °F, inHg, mmHg) is shown as given beside the value used
     for column, label, after in (("eye_height_as_given", "height of eye as given", "height of eye (m)"),
                                  ("temperature_as_given", "temperature as given", "temperature (°C)"),
@@ -118,7 +125,7 @@ def working_table(voyage) -> pd.DataFrame:
     if not (r.time_given == "zone time").any() and not (r.watch_error_applied_s != 0).any():
         table = table.drop(columns=["watch error (s, fast +)", "zone date", "zone time", "ZD (h)"])
     # the log's own extra columns (a cadet's note, a sight number...) ride along at the end
-    for column in voyage.log.extra_columns:
+    for column in extra_columns:
         if column in r.columns and column not in table:
             table[column] = r[column].astype(str).to_numpy()
     return table

@@ -227,8 +227,8 @@ def test_the_days_work_goes_to_the_workbook_the_exports_and_the_command(steady, 
     path = tmp_path / "passage.csv"
     log.to_csv(path, index=False)
     runner = CliRunner()
-    result = runner.invoke(app, ["workbook", str(path), "-o", str(tmp_path / "p.xlsx"), "--gpx", str(tmp_path / "p.gpx"),
-                                 "--geojson", str(tmp_path / "p.geojson")])
+    result = runner.invoke(app, ["workbook", str(path), "-o", str(tmp_path / "p.xlsx"), "-o", str(tmp_path / "p.gpx"),
+                                 "-o", str(tmp_path / "p.geojson")])
     assert result.exit_code == 0, result.output
     book = load_workbook(tmp_path / "p.xlsx")
     assert "Day's work" in book.sheetnames
@@ -247,7 +247,7 @@ def test_the_days_work_goes_to_the_workbook_the_exports_and_the_command(steady, 
     assert kinds["DR track"] == 12 and kinds["noon position"] == 3
     fix = next(f for f in features if f["properties"]["kind"] == "fix")
     assert {"set_deg", "drift_kn", "set_95_deg", "drift_95_kn"} <= set(fix["properties"])
-    days = runner.invoke(app, ["days", str(path), "--picture", str(tmp_path / "p.svg")])
+    days = runner.invoke(app, ["days", str(path), "-o", str(tmp_path / "p.svg")])
     assert days.exit_code == 0, days.output
     assert "noon positions and the day's run" in days.output and "set 0" in days.output
     assert (tmp_path / "p.svg").read_text().startswith("<svg")
@@ -274,7 +274,7 @@ def test_a_position_built_on_a_sight_with_a_warning_carries_the_warning(tmp_path
     result = CliRunner().invoke(app, ["days", str(path)])
     assert result.exit_code == 0 and "warning: row 3 (Sun): intercept over 30 nm" in result.output
     book = CliRunner().invoke(app, ["workbook", str(path), "-o", str(tmp_path / "b.xlsx"),
-                                    "--geojson", str(tmp_path / "b.geojson")])
+                                    "-o", str(tmp_path / "b.geojson")])
     assert book.exit_code == 0, book.output
     features = json.loads((tmp_path / "b.geojson").read_text())["features"]
     ep = [f for f in features if f["properties"].get("kind") == "estimated position"]

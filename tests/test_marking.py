@@ -290,7 +290,7 @@ def test_cli_and_api_give_the_same_marks(ts, eph, pool, tmp_path):
     _class_workbook(ts, eph, pool, tmp_path / "class.xlsx")
     runner = CliRunner()
     result = runner.invoke(app, ["mark", str(tmp_path / "class.xlsx"), "-o", str(tmp_path / "marks.xlsx"),
-                                 "--pdf", str(tmp_path / "marks.pdf")])
+                                 "-o", str(tmp_path / "marks.pdf")])
     assert result.exit_code == 0, result.output
     assert "9 workings of 3 cadets marked: 7 with no mistake" in result.output
     assert "Ansel: row 3 (" in result.output and CAUSES["zone sign"] in result.output

@@ -161,7 +161,7 @@ def test_route_command_prints_and_writes_csv_gpx_geojson(tmp_path):
     import gpxpy
 
     result = runner.invoke(app, ["route", "40 30 N", "073 00 W", "49 57 N", "005 12 W", "--limit", "50 N",
-                                 "--gpx", str(tmp_path / "r.gpx"), "--geojson", str(tmp_path / "r.geojson")])
+                                 "-o", str(tmp_path / "r.gpx"), "-o", str(tmp_path / "r.geojson")])
     assert result.exit_code == 0, result.output
     assert "rhumb line:" in result.output and "great circle:" in result.output and "vertex:" in result.output
     assert "composite great circle within 50° 00.0′ N" in result.output

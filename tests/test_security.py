@@ -802,7 +802,7 @@ BAD_OPTIONS = [
     ["plan", "--date", "2026-03-26", "--lat", "44 N", "--lon", "12 W", "--speed", "1e308"],
     ["plan", "--date", "2026-03-26", "--lat", "44 N", "--lon", "12 W", "--eye", "-inf"],
     ["plan", "--date", "2026-03-26", "--lat", "44 N", "--lon", "12 W", "--count", "9"],
-    ["plan", "--date", "2026-03-26", "--lat", "44 N", "--lon", "12 W", "--at", "18:42:30Z"],
+    ["plan", "--date", "2026-03-26", "--lat", "44 N", "--lon", "12 W", "--utc", "18:42:30Z"],
     ["almanac", "Sun", "--utc", ""], ["almanac", "", "--utc", "2026-03-26T00:00Z"],
     ["almanac", "Sun", "--utc", "2026-03-26T00:00Z", "--dut1", "nan"],
     ["compass", "Sun", "--utc", "2026-03-26T17:30Z", "--lat", "43 N", "--lon", "13 W", "--compass-bearing", "inf"],
@@ -813,10 +813,10 @@ BAD_OPTIONS = [
     ["lunar", "29 44.7", "--other", "Antares", "--utc", "2024-09-12T19:33Z", "--lat", "30 N", "--lon", "40 W",
      "--index-error", "nan"],
     ["reduce", "/no/such/file.csv"], ["reduce", "sample_sights"], ["fix", DEMO, "--group", ""],
-    ["fix", DEMO, "--at", "tomorrow"], ["series", DEMO, "--threshold", "nan"],
+    ["fix", DEMO, "--utc", "tomorrow"], ["series", DEMO, "--threshold", "nan"],
     ["training", DEMO, "--track", "/no/track.gpx"],
     ["workbook", DEMO, "-o", "/proc/version"], ["workbook", DEMO, "--dates", "sideways"],
-    ["mark"], ["mark", DEMO], ["mark", "sample_sights/class_workings.xlsx", "--pdf", "/proc/version"],
+    ["mark"], ["mark", DEMO], ["mark", "sample_sights/class_workings.xlsx", "-o", "/proc/version"],
 ]
 
 
@@ -837,24 +837,6 @@ def test_bad_options_give_one_line_never_a_traceback(arguments):
     assert result.exit_code in (1, 2), (result.exit_code, result.output)
     assert "Traceback" not in result.output and result.exception is None or isinstance(result.exception, SystemExit)
     assert result.output.strip().count("\n") < 6
-
-
-def test_every_command_runs_without_the_network(no_network, tmp_path):
-    commands = [
-        ["almanac", "Sun", "Vega", "--utc", "2026-03-20T18:42:10Z"], ["bodies"], ["reduce", DEMO],
-        ["fix", DEMO], ["workbook", DEMO, "-o", str(tmp_path / "v.xlsx"), "--gpx", str(tmp_path / "f.gpx"),
-                        "--geojson", str(tmp_path / "f.geojson")],
-        ["plan", "--date", "2026-03-26", "--lat", "44 30 N", "--lon", "012 00 W"],
-        ["compass", "Sun", "--utc", "2026-03-26T17:30:00Z", "--lat", "43 20 N", "--lon", "013 10 W"],
-        ["identify", "--utc", "2026-03-26T19:45:00Z", "--lat", "43 17 N", "--lon", "013 11 W", "--alt", "30",
-         "--az", "186"],
-        ["series", "sample_sights/training_sights.csv"],
-        ["lunar", "29 44.7", "--other", "Antares", "--utc", "2024-09-12T19:33:00Z", "--lat", "30 N", "--lon", "040 W",
-         "--moon-limb", "far"],
-    ]
-    for arguments in commands:
-        result = runner.invoke(app, arguments)
-        assert result.exit_code == 0, (arguments, result.output)
 
 
 def test_csv_text_is_what_pandas_writes_of_the_neutralised_table():

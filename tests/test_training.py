@@ -103,7 +103,7 @@ def test_training_command_on_the_demo(tmp_path):
     sights.iloc[:60].to_csv(day, index=False)
     result = CliRunner().invoke(app, ["training", str(day), "--track",
                                       "sample_sights/training_track.gpx", "-o", str(tmp_path / "t.xlsx"),
-                                      "--summary", str(tmp_path / "summary.pdf"), "--csv", str(tmp_path / "t.csv")])
+                                      "-o", str(tmp_path / "summary.pdf"), "-o", str(tmp_path / "t.csv")])
     assert result.exit_code == 0, result.output
     assert "Cadet Ansel" in result.output and "personal error" in result.output
     assert (tmp_path / "summary.pdf").read_bytes().startswith(b"%PDF")

@@ -14,6 +14,9 @@ from .common import app, main
 #: the commands in the order navred --help lists them: from the sky and the sights to the passage and the ship
 ORDER = ("almanac", "reduce", "fix", "workbook", "plan", "paper", "compass", "azimuths", "compass-book", "identify",
          "series", "training", "mark", "days", "rate", "route", "lunar", "bodies")
+#: commands whose work is the files they write (a workbook, printed pages): they print what they wrote and a
+#: summary, no table, and so take no --csv; every other command prints its main table as CSV with --csv
+FILE_COMMANDS = ("workbook", "paper")
 app.registered_commands.sort(key=lambda c: ORDER.index(c.name) if c.name in ORDER else len(ORDER))
 
-__all__ = ["app", "main"]
+__all__ = ["app", "main", "ORDER", "FILE_COMMANDS"]

@@ -104,6 +104,7 @@ def reported(ctx=None, *, caution: bool = True):
         warnings.simplefilter("always", NavredWarning)
         try:
             refuse_empty_values(ctx)
+            check_dates(ctx)
             yield
         except NavredError as exc:
             if os.environ.get("NAVRED_DEBUG") and isinstance(exc, NavredInternalError):
@@ -144,6 +145,19 @@ def reported(ctx=None, *, caution: bool = True):
 
 #: hidden options that stand for the old form of a visible one (``--csv FILE`` is read as ``--csv-file FILE``)
 OLD_FORMS = {"--csv-file": "--csv"}
+
+
+def check_dates(context) -> None:
+    """--dates, where a command takes it, is one of the orders navred knows: refused at once, whether or not the
+    log holds a date it would decide."""
+    if context is None:
+        return
+    value = context.params.get("dates")
+    if value is not None:
+        from ..timework import DATE_ORDERS
+
+        if value not in DATE_ORDERS:
+            raise NavredError(f"--dates {value!r}: give {' or '.join(DATE_ORDERS)}")
 
 
 def refuse_empty_values(context) -> None:
@@ -338,7 +352,7 @@ def input_files(*groups) -> list[str]:
                 continue
             path = Path(item)
             files.append(str(path))
-            if path.is_dir():
+            if "\x00" not in str(item) and path.is_dir():  # (a NUL byte: no file, refused by its reader)
                 files.extend(str(p) for p in path.iterdir() if p.is_file())
     return files
 
@@ -350,9 +364,11 @@ def check_folder(folder: str, inputs, name: str) -> None:
     from ..io.output import check_output
 
     path = Path(folder)
+    if "\x00" in str(folder):
+        raise NavredError(f"{name}: a folder name cannot hold a NUL byte")
     if path.exists() and not path.is_dir():
         raise NavredError(f"{name} {folder}: that is a file; give a folder")
-    if any(Path(i).resolve() == path.resolve() for i in inputs):
+    if any(Path(i).resolve() == path.resolve() for i in inputs if "\x00" not in str(i)):
         raise NavredError(f"{name} {folder}: that is one of the inputs of this run; give another folder")
     check_output(path / "picture.png", inputs, what=name)
 

@@ -426,6 +426,14 @@ def rate_lines(ratings) -> list[str]:
         f"not read: row {r.row} of {r.source}: {r.column}: {r.reason}" for r in ratings.rejected.itertuples()]
 
 
+def mark_csv(report) -> str:
+    """The marking as CSV, one row per sight, its headers in snake_case as every --csv's."""
+    from ..jobs.workings import marking_csv
+
+    table = marking_csv(report)
+    return csv_text(table.rename(columns={c: "_".join(str(c).split()) for c in table.columns}))
+
+
 def mark_lines(report) -> list[str]:
     from ..jobs.workings import unit_text
 

@@ -437,7 +437,7 @@ def mark_command(
 
     Example:  navred mark sample_sights/class_workings.xlsx -o marking.xlsx -o marking.pdf
     """
-    from ..io.output import check_output, csv_text
+    from ..io.output import check_output
     from ..jobs.reducing import require_reduced
 
     with reported(ctx):
@@ -452,11 +452,10 @@ def mark_command(
                               "or --template FILE for an empty one")
         from ..jobs.workings import (
             mark_workings,
-            marking_csv,
             write_marking_pdf,
             write_marking_workbook,
         )
-        from .format import mark_lines
+        from .format import mark_csv, mark_lines
 
         files = output_files(old_outputs(output, pdf=pdf), MARK_FILES, input_files(workings))
         report = mark_workings(source(workings), dates=dates, exam=exam)
@@ -469,7 +468,7 @@ def mark_command(
         if ".pdf" in files:
             written.append(write_marking_pdf(report, files[".pdf"]))
         if csv:
-            echo_csv(csv_text(marking_csv(report)))
+            echo_csv(mark_csv(report))
         else:
             echo_lines(mark_lines(report))
         for path in written:

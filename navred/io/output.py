@@ -63,6 +63,8 @@ def check_output(path: str | Path, inputs: Iterable[str | Path] = (), *, suffixe
             raise OutputError(f"{target} is not a regular file (a device, a pipe or a socket): navred writes only "
                               "regular files")
     for source in inputs:
+        if "\x00" in str(source):
+            continue  # no file has such a name: it is refused by its reader
         source_path = Path(source)
         try:
             same = source_path.exists() and target.exists() and os.path.samefile(source_path, target)

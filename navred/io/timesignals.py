@@ -28,7 +28,7 @@ from ..rating import RateChange, RateFit, error_in_half_day, fit_rate, rate_chan
 from ..timescales import utc_jd_to_datetime64, utc_julian_date, utc_julian_date_from_components
 from ..timework import DATE_ORDERS, iso_instant_text, parse_time_of_day, parse_zone_description
 from ..vocabulary import normalise_header, unknown_header_refusal
-from .readers import REJECTED_COLUMNS, LogbookError, read_table
+from .readers import REJECTED_COLUMNS, LogbookError, LogSource, read_table
 
 #: The rating log's columns and the headers that name them.
 RATING_COLUMNS = {
@@ -49,7 +49,7 @@ def days_of(utc64: np.ndarray) -> np.ndarray:
     return (np.asarray(utc64, dtype="datetime64[ns]") - _EPOCH).astype(np.int64) / _DAY_NS
 
 
-@dataclass
+@dataclass(frozen=True)
 class Timepiece:
     """One timepiece: its comparisons (in time order), the fitted line and the test for a change of rate."""
 
@@ -86,7 +86,7 @@ class Timepiece:
         return text
 
 
-@dataclass
+@dataclass(frozen=True)
 class Ratings:
     """The rating log read: every timepiece, and the rows that could not be read."""
 
@@ -139,7 +139,7 @@ def _cell_text(value) -> str:
 
 
 @api_boundary
-def read_rating_log(source: object, *, dates: str | None = None) -> Ratings:
+def read_rating_log(source: LogSource, *, dates: str | None = None) -> Ratings:
     """Read a rating log (one file, several, or a folder) and fit each timepiece's error and rate.
 
     ``dates``: the order of numeric dates (``'day-first'`` or ``'month-first'``), as for a sight log;

@@ -64,9 +64,11 @@ class VesselTrack:
     known_cov: np.ndarray  # (k, 2, 2) nm², north-east; zero for an entry's position
 
 
-@dataclass
+@dataclass(frozen=True)
 class DaysWork:
-    """The day's work of a voyage: set and drift at each fix, estimated positions, noons, the DR track."""
+    """The day's work of a voyage: set and drift at each fix, estimated positions, noons, the DR track. The
+    tables' columns are snake_case with units (:data:`SET_DRIFT_COLUMNS`, :data:`ESTIMATED_COLUMNS`,
+    :data:`NOON_COLUMNS`); the workbook shows them with their labels (:mod:`navred.io.labels`)."""
 
     set_drift: pd.DataFrame
     estimated: pd.DataFrame
@@ -74,16 +76,18 @@ class DaysWork:
     track_points: pd.DataFrame
     tracks: dict[str, VesselTrack] = field(default_factory=dict)
     carry_current: bool = False
+    #: each table split by vessel, made when first asked for (:meth:`of_vessel`)
+    cache: dict = field(default_factory=dict, repr=False, compare=False)
 
     def of_vessel(self, vessel: str) -> tuple[pd.DataFrame, pd.DataFrame, pd.DataFrame, pd.DataFrame]:
         """One vessel's track points, set and drift, estimated positions and noons (split once, kept)."""
-        if not hasattr(self, "_by_vessel"):
+        tables = (self.track_points, self.set_drift, self.estimated, self.noons)
+        if "by vessel" not in self.cache:
             def split(frame):
                 return {v: part for v, part in frame.groupby("vessel", sort=False)} if len(frame) else {}
 
-            self._by_vessel = [split(f) for f in (self.track_points, self.set_drift, self.estimated, self.noons)]
-        empty = (self.track_points, self.set_drift, self.estimated, self.noons)
-        return tuple(parts.get(vessel, frame.iloc[:0]) for parts, frame in zip(self._by_vessel, empty))
+            self.cache["by vessel"] = [split(f) for f in tables]
+        return tuple(parts.get(vessel, frame.iloc[:0]) for parts, frame in zip(self.cache["by vessel"], tables))
 
     @property
     def empty(self) -> bool:

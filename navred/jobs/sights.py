@@ -16,7 +16,7 @@ import pandas as pd
 from ..almanac import places
 from ..corrections import correct_altitudes, planet_phases
 from ..errors import api_boundary
-from ..io.logbook import SIGHT_COLUMNS, SightLog, read_sight_log
+from ..io.logbook import SIGHT_COLUMNS, LogSource, SightLog, read_sight_log
 from ..timescales import UT1_BEFORE, UT1_BEYOND, instants_from_utc_jd
 from ..triangle import (
     HIGH_ALTITUDE_DEG,
@@ -73,7 +73,7 @@ class _Notes:
 BLOCK_ROWS = 200_000
 
 
-def parsed_sights(sights: object) -> pd.DataFrame:
+def parsed_sights(sights: SightLog | LogSource) -> pd.DataFrame:
     """The parsed table of every row: from a :class:`SightLog`, a parsed table, or a raw table read now."""
     if isinstance(sights, SightLog):
         return sights.table
@@ -83,7 +83,7 @@ def parsed_sights(sights: object) -> pd.DataFrame:
 
 
 @api_boundary
-def reduce_sights(sights: object) -> pd.DataFrame:
+def reduce_sights(sights: SightLog | LogSource) -> pd.DataFrame:
     """Reduce sights to Ho, Hc, Zn and intercept, one row per sight in order.
 
     ``sights`` is what :func:`navred.read_sight_log` returns (a :class:`SightLog`, or its

@@ -53,7 +53,9 @@ def main(folder: str | None = None) -> None:
         subprocess.run([sys.executable, str(ROOT / "scripts" / "make_fleet_log.py"), str(log_path)], check=True)
 
     from navred.io.logbook import read_sight_log
-    from navred.io.workbook import Pictures, write_plots, write_workbook
+    from navred.io.workbook import Pictures
+    from navred.jobs.plotfiles import write_plots
+    from navred.jobs.voyagebook import write_workbook
     from navred.jobs.frames import series_columns
     from navred.jobs.sights import reduce_sights
     from navred.jobs.voyage import VoyageResult, _next_twilight_plan, _rejected, fix_groups

@@ -157,7 +157,7 @@ def check_dates(context) -> None:
         from ..timework import DATE_ORDERS
 
         if value not in DATE_ORDERS:
-            raise NavredError(f"--dates {value!r}: give {' or '.join(DATE_ORDERS)}")
+            raise NavredError(f"--dates {value!r} is not one of {', '.join(DATE_ORDERS)}")
 
 
 def refuse_empty_values(context) -> None:

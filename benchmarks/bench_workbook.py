@@ -54,11 +54,11 @@ def main(folder: str | None = None) -> None:
 
     from navred.io.logbook import read_sight_log
     from navred.io.workbook import Pictures
-    from navred.jobs.plotfiles import write_plots
-    from navred.jobs.voyagebook import write_workbook
     from navred.jobs.frames import series_columns
+    from navred.jobs.plotfiles import write_plots
     from navred.jobs.sights import reduce_sights
     from navred.jobs.voyage import VoyageResult, _next_twilight_plan, _rejected, fix_groups
+    from navred.jobs.voyagebook import write_workbook
 
     print(f"the workbook of {log_path} by stage:")
     log = timed("read and check the log", lambda: read_sight_log(log_path))

@@ -40,3 +40,12 @@ GHA_ERROR_ARCMIN_PER_S_UT1 = 0.25  # 360 deg per sidereal day ~ 15 arcsec of GHA
 # --- Navigation conventions --------------------------------------------------
 DEFAULT_TEMPERATURE_C = 10.0  # standard conditions of the almanac's refraction table (common practice)
 DEFAULT_PRESSURE_HPA = 1010.0  # ditto (common practice)
+#: A star or planet on the sea horizon is taken in twilight: from when the Sun is about 3° below the horizon
+#: (the sky dark enough for the brighter stars; common practice) to when it is 12° below (the end of nautical
+#: twilight, when the horizon can no longer be made out: the almanac's and the US Naval Observatory's
+#: definition of nautical twilight, from memory).
+SUN_BRIGHT_SKY_DEG = -3.0
+SUN_DARK_HORIZON_DEG = -12.0
+#: An intercept (a position line's distance from the DR) beyond this usually means a blunder or a poor DR:
+#: it should be questioned (common practice).
+LARGE_INTERCEPT_NM = 30.0

@@ -4,8 +4,9 @@ The ship is sailed in this script's own code: through the water on the courses a
 plan, plus a current, integrated step by step along the ellipsoid (dφ/dt = v_N / ρ(φ), dλ/dt = v_E /
 (ν(φ) cos φ), ρ and ν the WGS 84 radii of curvature in the meridian and the prime vertical,
 Bowditch / Snyder's formulas; fourth-order Runge-Kutta, 60 s steps). At each round of sights the true
-position gives noise-free star sights from skyfield (tests/conftest.py), all at one instant (the
-daylight is ignored: the sky is the sky). The log holds what a navigator would write: the departure,
+position gives star sights from skyfield (tests/conftest.py), all at one instant: for the tests of the DR
+every few hours whatever the daylight (the sky is the sky) and without noise, for the invented sample as a
+navigator takes them (stars at morning and evening twilight, the Sun at noon) with a sextant's scatter. The log holds what a navigator would write: the departure,
 each alteration of course and speed (entry rows), and the sights with no DR: navred carries the DR.
 
 Used by tests/test_dayswork.py (the set and drift, the day's run), and by ``main()`` for the invented
@@ -106,8 +107,16 @@ def star_round(ts, eph, when, lat, lon, count=4):
 
 
 def make_passage(ts, eph, *, current, days=3, start=pd.Timestamp("2026-04-14T06:00:00Z"),
-                 lat=38.0, lon=-20.0, plan=None, rounds_per_day=4, vessel="Moth Orchid (invented)"):
-    """(the log as a DataFrame, the true track, the fix times). ``current(t_hours) -> (set, drift)``."""
+                 lat=38.0, lon=-20.0, plan=None, rounds_per_day=4, vessel="Moth Orchid (invented)",
+                 sky_times: bool = False, noise_arcmin: float = 0.0, seed: int = 1852):
+    """(the log as a DataFrame, the true track, the fix times). ``current(t_hours) -> (set, drift)``.
+
+    Rounds of four stars every 24/``rounds_per_day`` hours from ``start`` (the daylight ignored: the sky is
+    the sky, for the tests of the DR), or, with ``sky_times``, as a navigator takes them: four stars at
+    morning and at evening nautical twilight (the Sun 7° below the horizon at the ship) and the Sun at
+    its meridian passage over the ship (skyfield's sky at the true track, :func:`sky_rounds`). Each Hs has
+    Gaussian noise of ``noise_arcmin`` (seeded; none for the tests of the DR)."""
+    rng = np.random.default_rng(seed)
     if plan is None:
         plan = [(start, 250.0, 6.0), (start + pd.Timedelta(hours=20), 235.0, 6.5),
                 (start + pd.Timedelta(hours=47), 260.0, 5.5)]
@@ -119,17 +128,61 @@ def make_passage(ts, eph, *, current, days=3, start=pd.Timestamp("2026-04-14T06:
         rows.append({"utc": when.strftime("%Y-%m-%dT%H:%M:%SZ"), "entry": "course", "course": course,
                      "speed": speed, "vessel": vessel})
     fix_times = []
-    step = pd.Timedelta(hours=24 / rounds_per_day)
-    when = start + step
-    while when <= until:
+    if sky_times:
+        rounds = sky_rounds(ts, eph, track, start, until)
+    else:
+        step = pd.Timedelta(hours=24 / rounds_per_day)
+        rounds = []
+        when = start + step
+        while when <= until:
+            rounds.append((when, "stars"))
+            when += step
+    for when, kind in rounds:
         true_lat, true_lon = position_at(track, when)
+        if kind == "noon":
+            sight = skyfield_sight(ts, eph, "Sun", when, true_lat, true_lon, limb="lower", eye_height_m=3.0,
+                                   noise_arcmin=rng.normal(0.0, noise_arcmin) if noise_arcmin else 0.0)
+            rows.append({"utc": when.strftime("%Y-%m-%dT%H:%M:%SZ"), "body": "Sun", "limb": "lower",
+                         "hs": round(sight["hs"], 6), "eye_height_m": 3.0, "fix_group": f"{when:%d} noon",
+                         "vessel": vessel})
+            continue
         for sight in star_round(ts, eph, when, true_lat, true_lon):
+            noise = rng.normal(0.0, noise_arcmin) / 60.0 if noise_arcmin else 0.0
             rows.append({"utc": when.strftime("%Y-%m-%dT%H:%M:%SZ"), "body": sight["body"],
-                         "hs": round(sight["hs"], 6), "eye_height_m": 3.0, "fix_group": f"{when:%d %H%M}",
+                         "hs": round(sight["hs"] + noise, 6), "eye_height_m": 3.0, "fix_group": f"{when:%d %H%M}",
                          "vessel": vessel})
         fix_times.append(when)
-        when += step
     return pd.DataFrame(rows), track, fix_times
+
+
+#: The Sun's altitude (degrees) at which the sample's star rounds are taken: mid nautical twilight, when
+#: the brightest stars and the sea horizon are both seen (common practice).
+TWILIGHT_SUN_DEG = -7.0
+
+
+def sky_rounds(ts, eph, track: pd.DataFrame, start: pd.Timestamp, until: pd.Timestamp) -> list:
+    """(instant, 'stars' or 'noon') of each round as a navigator takes them along the true track: the stars
+    when the Sun stands at :data:`TWILIGHT_SUN_DEG` at the ship, morning and evening, and the Sun at its
+    meridian passage over the ship (its hour angle 0), each on the track's whole minute (skyfield)."""
+    from skyfield.api import wgs84
+
+    times = track.utc.iloc[::5].reset_index(drop=True)  # every five minutes
+    t = ts.from_datetimes(list(times.dt.to_pydatetime()))
+    lat, lon = track.lat.iloc[::5].to_numpy(), track.lon.iloc[::5].to_numpy()
+    place = eph["earth"] + wgs84.latlon(lat, lon)
+    # each instant seen from the ship's own position then (elementwise: one position per instant)
+    sun = place.at(t).observe(eph["sun"]).apparent()
+    altitude = sun.altaz()[0].degrees
+    hour_angle = sun.hadec()[0].hours
+    rounds = []
+    for k in range(1, len(times)):
+        a0, a1 = altitude[k - 1] - TWILIGHT_SUN_DEG, altitude[k] - TWILIGHT_SUN_DEG
+        if a0 * a1 <= 0 and a0 != a1:
+            rounds.append((times[k - 1] + (times[k] - times[k - 1]) * (a0 / (a0 - a1)), "stars"))
+        h0, h1 = ((hour_angle[k - 1] + 12) % 24) - 12, ((hour_angle[k] + 12) % 24) - 12
+        if h0 < 0 <= h1:
+            rounds.append((times[k - 1] + (times[k] - times[k - 1]) * (-h0 / (h1 - h0)), "noon"))
+    return [(when.round("min"), kind) for when, kind in rounds if start < when.round("min") <= until]
 
 
 def mean_current(current, t0_h, t1_h, samples=721):
@@ -165,8 +218,10 @@ def main() -> None:
 
     ts = load.timescale(builtin=True)
     eph = load(str(files("skyfield_data") / "data" / "de421.bsp"))
-    start = pd.Timestamp("2026-04-14T05:00:00Z")  # rounds at 13:00 (noon in zone +1), 21:00 and 05:00 UTC
-    log, track, _ = make_passage(ts, eph, current=steady, start=start, lat=38.0, lon=-10.0, rounds_per_day=3)
+    start = pd.Timestamp("2026-04-14T00:00:00Z")  # stars at morning and evening twilight, the Sun at noon
+    # the sextant's noise 0.5′ (seeded), as a careful observer's scatter (common practice)
+    log, track, _ = make_passage(ts, eph, current=steady, start=start, lat=38.0, lon=-10.0, sky_times=True,
+                                 noise_arcmin=0.5, seed=1852)
     log["remarks"] = "INVENTED demo"
     log.to_csv(OUT / "passage_log.csv", index=False)
     track.iloc[::10].assign(utc=track.utc.iloc[::10].dt.strftime("%Y-%m-%dT%H:%M:%SZ")).to_csv(

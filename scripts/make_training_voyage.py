@@ -3,8 +3,9 @@ NMEA and CSV.
 
 INVENTED DATA. The sail-training brigantine "Grey Shearwater" (she does not exist), her
 watch of three invented cadets and a passage of 8 days from 36° 00′ N 010° 00′ W on 230° at
-7 knots: star rounds in morning and evening twilight (timed by the Sun at the ship), Sun sights by day. Each cadet's sights are synthesized with skyfield at the true position (the
-reference track) with a personal error and scatter of their own:
+7 knots: star rounds in morning and evening twilight (timed by the Sun at the ship), Sun sights by day and
+a noon series around the Sun's meridian passage at the ship. Each cadet's sights are synthesized with
+skyfield at the true position (the reference track) with a personal error and scatter of their own:
 
     Cadet Ansel  +1.5′ personal error, 0.6′ scatter
     Cadet Birch   0.0′,                0.8′
@@ -73,6 +74,28 @@ def sun_at(ts, eph, start: pd.Timestamp, end: pd.Timestamp, altitude_deg: float)
     return start.round("s")
 
 
+def sun_hour_angle_h(ts, eph, when: pd.Timestamp) -> float:
+    """skyfield's local hour angle of the Sun (hours, −12 to 12) at the ship's true position."""
+    from skyfield.api import wgs84
+
+    lat, lon = (float(v) for v in true_position(when))
+    t = ts.from_datetime(when.to_pydatetime())
+    hours = (eph["earth"] + wgs84.latlon(lat, lon)).at(t).observe(eph["sun"]).apparent().hadec()[0].hours
+    return float((hours + 12.0) % 24.0 - 12.0)
+
+
+def meridian_passage(ts, eph, start: pd.Timestamp, end: pd.Timestamp) -> pd.Timestamp:
+    """The instant (to the second) between start and end when the Sun crosses the ship's meridian (its hour
+    angle 0 at the ship as she sails): bisection on skyfield's hour angle."""
+    for _ in range(30):
+        middle = start + (end - start) / 2
+        if sun_hour_angle_h(ts, eph, middle) < 0:
+            start = middle
+        else:
+            end = middle
+    return start.round("s")
+
+
 def make_voyage(ts, eph, days: int = 8, seed: int = 1805):
     rng = np.random.default_rng(seed)
     rows = []
@@ -82,9 +105,11 @@ def make_voyage(ts, eph, days: int = 8, seed: int = 1805):
                          MORNING_SUN_DEG)
         evening = sun_at(ts, eph, date + pd.Timedelta(hours=17, minutes=30), date + pd.Timedelta(hours=21),
                          EVENING_SUN_DEG)
+        # a noon series of four Sun sights two minutes apart, centred on the Sun's meridian passage at the ship
+        noon = meridian_passage(ts, eph, date + pd.Timedelta(hours=11), date + pd.Timedelta(hours=15))
         plan = [(morning, STARS_MORNING, ""),
                 (date + pd.Timedelta(hours=10), ["Sun"], "lower"),
-                (date + pd.Timedelta(hours=13, minutes=10), ["Sun"] * 4, "lower"),  # a noon series
+                (noon - pd.Timedelta(minutes=3, seconds=25), ["Sun"] * 4, "lower"),
                 (date + pd.Timedelta(hours=16), ["Sun"], "lower"),
                 (evening, STARS_EVENING, "")]
         for when, bodies, limb in plan:
@@ -105,7 +130,8 @@ def make_voyage(ts, eph, days: int = 8, seed: int = 1805):
                                  "hs": round(sight["hs"], 5), "index_error_arcmin": "0.6 off", "eye_height_m": 3.5,
                                  "dr_lat": round(float(dr_lat), 5), "dr_lon": round(float(dr_lon), 5),
                                  "course_deg": COURSE, "speed_kn": SPEED,
-                                 "fix_group": f"{at:%Y-%m-%d}-{observer.split()[-1]}-{when:%H%M}",
+                                 "fix_group": f"{at:%Y-%m-%d}-{observer.split()[-1]}-"
+                                              + ("noon" if len(bodies) == 4 and body == "Sun" else f"{when:%H%M}"),
                                  "vessel": "Grey Shearwater (invented)", "observer": observer,
                                  "voyage": "Training passage (invented)", "true_error_arcmin": round(error, 3)})
     track_times = pd.date_range(START - pd.Timedelta(hours=1), START + pd.Timedelta(days=days, hours=1), freq="10min")

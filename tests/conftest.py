@@ -43,6 +43,11 @@ def frozen(key: str, compute):
     return value
 
 
+def is_frozen(key: str) -> bool:
+    """Whether skyfield's result for ``key`` is in the frozen file (a synthesis may then skip computing it)."""
+    return key in _FROZEN
+
+
 def pytest_sessionfinish(session, exitstatus):
     if _RECORDING and _RECORDED:
         import skyfield

@@ -17,7 +17,8 @@ PACKAGE = ROOT / "navred"
 #: The computational core, flat in navred/: numpy, pyerfa, jplephem and the standard library only.
 CORE = ("angles", "timescales", "ephemeris", "stars", "epochs", "almanac", "corrections", "triangle", "stats", "fix",
         "plan", "series", "lunar", "constants", "errors", "vocabulary", "timework", "sailings", "marking", "reckoning",
-        "rating", "handtables", "presets", "compass")
+        "rating", "handtables", "presets", "compass", "marking_judge", "marking_sight", "marking_methods",
+        "marking_checks")
 CORE_LIBRARIES = {"numpy", "erfa", "jplephem"}
 EDGE_LIBRARIES = {"pandas", "openpyxl", "matplotlib", "typer", "PIL", "defusedxml", "reportlab"}
 #: The edge's folders, and the folders each may not import.

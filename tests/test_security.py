@@ -686,7 +686,7 @@ def test_every_file_a_run_reads_is_refused_as_an_output(tmp_path):
 
 
 @pytest.mark.parametrize("arguments, fragment", [
-    (["mark", "sample_sights/class_workings.xlsx", "-o", "{tmp}/m.csv"], "-o {tmp}/m.csv: navred does not write .csv"),
+    (["mark", "sample_sights/class_workings.xlsx", "-o", "{tmp}/m.txt"], "-o {tmp}/m.txt: navred does not write .txt"),
     (["mark", "--template", "{tmp}/t.csv"], "--template {tmp}/t.csv: navred writes XLSX"),
     (["workbook", DEMO, "-o", "{tmp}/w.pdf"], "-o {tmp}/w.pdf: navred does not write .pdf here; accepted: .xlsx"),
     (["workbook", DEMO, "-o", "{tmp}/w.xlsx", "-o", "{tmp}/w.kml"], "-o {tmp}/w.kml: navred does not write .kml"),

@@ -121,7 +121,7 @@ def test_a_series_with_a_blunder_still_draws_its_curve(tmp_path):
     from navred.jobs.voyage import process_log
 
     frame = pd.read_csv("sample_sights/training_sights.csv", dtype=str, keep_default_na=False)
-    sun = frame.index[(frame.body == "Sun") & frame.fix_group.str.endswith("1310")][1]
+    sun = frame.index[(frame.body == "Sun") & frame.fix_group.str.endswith("noon")][1]
     frame.loc[sun, "hs"] = str(float(frame.loc[sun, "hs"]) + 20 / 60)
     path = tmp_path / "log.csv"
     frame.to_csv(path, index=False)

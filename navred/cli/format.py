@@ -435,16 +435,16 @@ def mark_csv(report) -> str:
 
 
 def mark_lines(report) -> list[str]:
-    from ..jobs.workings import unit_text
+    """navred mark's text: the class's summary, each working that is not right in words, each cadet's personal
+    error against a track, and the rows not read."""
+    from ..io.workings import source_name
+    from ..jobs.workings import describe
 
     lines = [report.summary()]
-    for row in report.rows.to_dict("records"):
-        if row["first_wrong_line"]:
-            off = row["difference"]
-            lines.append(f"{row['cadet']}: row {row['row']} ({row['body']}): first wrong line "
-                         f"{row['first_wrong_line']} (given {row['given']}, expected {row['expected']}"
-                         + (f", off by {off:+.1f}{unit_text(row['unit'])}" if off == off else "") + ")"
-                         + (f": {row['cause']}" if row["cause"] else ": no catalogued cause"))
-    lines += [f"not read: row {row.row} of {row.source}: {row.column}: {row.reason}"
-              for row in report.workings.log.rejected.itertuples()]
+    lines += [describe(row) for row in report.rows.to_dict("records") if row["verdict"] != "right"]
+    for p in report.personal.to_dict("records") if len(report.personal) else []:
+        lines.append(f"{p['cadet']}: personal error {p['personal error (′)']:+.2f}′ ± {p['95 % interval (′)']:.2f}′ "
+                     f"(95 %) against the track, over {int(p['sights'])} sights")
+    lines += [f"not read: {source_name(row.source)} row {row.row}: {row.column}: {row.reason}"
+              for row in report.rejected.itertuples()]
     return lines

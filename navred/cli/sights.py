@@ -418,26 +418,31 @@ def training_command(
             typer.echo(f"wrote {target} and {others}", **said)
 
 
-MARK_FILES = {".xlsx": "the class, the mistakes, the fixes and a marking sheet per cadet",
-              ".pdf": "a printable page per cadet"}
+MARK_FILES = {".xlsx": "the marking workbook: the class, the mistakes, the fixes, each cadet's progress and a "
+                       "marking sheet per cadet", ".pdf": "each cadet's sight book, printed: progress, fixes and "
+                       "every working with its marks", ".csv": "one row per working (the table --csv prints)"}
 
 
 @command("mark")
 def mark_command(
     ctx: typer.Context,
-    workings: list[str] = typer.Argument(None, metavar="WORKINGS...", help="Hand workings: CSV or .xlsx files, a folder of them, or a workbook with a sheet per cadet (see docs/marking.md)."),
+    workings: list[str] = typer.Argument(None, metavar="WORKINGS...", help="Hand workings: CSV or .xlsx files, a folder of them, a workbook with a sheet per cadet, or filled sight-book pages (see docs/marking.md)."),
     output: list[str] = typer.Option(None, "--output", "-o", help=outputs_help(MARK_FILES)),
-    csv: bool = typer.Option(False, "--csv", help=CSV_HELP.format(what="one row per sight: row, first_wrong_line (empty when all is right), cause, and more")),
-    exam: bool = typer.Option(False, "--exam", help="Exam mode: leave out the expected fix and any reference position."),
-    template: str | None = typer.Option(None, "--template", help="Write an empty hand-working template (.xlsx) to this file and stop."),
+    csv: bool = typer.Option(False, "--csv", help=CSV_HELP.format(what="one row per working: row, verdict, first_wrong_line (empty when all is right), cause, noticed, and more")),
+    track: str | None = typer.Option(None, "--track", help="The ship's reference track (GPX, NMEA or CSV, as for navred training): each cadet's personal error against it."),
+    exam: bool = typer.Option(False, "--exam", help="Exam mode: leave out navred's fix and any reference position."),
+    template: str | None = typer.Option(None, "--template", help="Write an empty sight book (.xlsx: a page per method) to this file and stop."),
+    rates: str | None = _rates(),
     dates: str | None = _dates(),
     pdf: str | None = typer.Option(None, "--pdf", hidden=True),
 ) -> None:
-    """Mark hand reductions: every line recomputed from the cadet's own earlier lines, the first wrong line named with its probable cause.
+    """Mark hand reductions by every method taught: each line recomputed from the cadet's own earlier lines, the first wrong line named with its probable cause.
 
-    Example:  navred mark sample_sights/class_workings.xlsx -o marking.xlsx -o marking.pdf
+    What should have been noticed is said too, and what a slip costs in miles.
+
+    Example:  navred mark sample_sights/class_workings.xlsx -o marking.xlsx -o sight_books.pdf
     """
-    from ..io.output import check_output
+    from ..io.output import check_output, write_text
     from ..jobs.reducing import require_reduced
 
     with reported(ctx):
@@ -448,17 +453,13 @@ def mark_command(
             typer.echo(f"wrote {write_template(template)}")
             return
         if not workings:
-            raise NavredError("give the workings to mark (files, a folder, or a workbook with a sheet per cadet), "
-                              "or --template FILE for an empty one")
-        from ..jobs.workings import (
-            mark_workings,
-            write_marking_pdf,
-            write_marking_workbook,
-        )
+            raise NavredError("give the workings to mark (files, a folder, a workbook with a sheet per cadet, or "
+                              "filled sight-book pages), or --template FILE for an empty sight book")
+        from ..jobs.workings import mark_workings, write_marking_pdf, write_marking_workbook
         from .format import mark_csv, mark_lines
 
-        files = output_files(old_outputs(output, pdf=pdf), MARK_FILES, input_files(workings))
-        report = mark_workings(source(workings), dates=dates, exam=exam)
+        files = output_files(old_outputs(output, pdf=pdf), MARK_FILES, input_files(workings, track, rates))
+        report = mark_workings(source(workings), dates=dates, exam=exam, track=track, rates=ratings(rates, dates))
         print_notes(report.workings.log)
         if not len(report.rows) and not len(report.workings.log.table):
             require_reduced(0, 0)
@@ -467,6 +468,8 @@ def mark_command(
             written.append(write_marking_workbook(report, files[".xlsx"]))
         if ".pdf" in files:
             written.append(write_marking_pdf(report, files[".pdf"]))
+        if ".csv" in files:
+            written.append(write_text(files[".csv"], mark_csv(report), inputs=report.workings.log.sources))
         if csv:
             echo_csv(mark_csv(report))
         else:

@@ -105,8 +105,8 @@ class Problems:
 
 
 def cell_text(value) -> str:
-    """A cell as text, the way a person typed it (a whole number without '.0')."""
-    if value is None:
+    """A cell as text, the way a person typed it (a whole number without '.0'; a missing value blank)."""
+    if value is None or (isinstance(value, float) and value != value):
         return ""
     if isinstance(value, float) and value.is_integer():
         return str(int(value))

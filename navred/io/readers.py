@@ -137,8 +137,9 @@ class ReadBudget:
             "split the logs, or leave out the columns navred does not use"))
 
 
-def read_table(source: LogSource, *, all_sheets: bool = False, budget: ReadBudget | None = None) -> list[RawTable]:
-    """The tables of a source: one file, a list of files, a folder of logs, or a pandas DataFrame.
+def read_table(source: LogSource | RawTable, *, all_sheets: bool = False,
+               budget: ReadBudget | None = None) -> list[RawTable]:
+    """The tables of a source: one file, a list of files, a folder of logs, a pandas DataFrame, or a RawTable.
 
     ``all_sheets``: every sheet of a workbook that holds a table (a class's workings, a sheet per
     cadet), named ``file (sheet 'name')``; otherwise a workbook gives one table (navred's own from
@@ -148,6 +149,8 @@ def read_table(source: LogSource, *, all_sheets: bool = False, budget: ReadBudge
     if hasattr(source, "columns") and hasattr(source, "iloc"):
         budget.take_rows(len(source), source.shape[1], "(table)")
         return [_from_frame(source)]
+    if isinstance(source, RawTable):  # a table already read (a sight-book page turned into a table): counted then
+        return [source]
     if isinstance(source, (list, tuple)):
         tables = []
         for item in source:

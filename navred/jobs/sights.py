@@ -14,6 +14,7 @@ import numpy as np
 import pandas as pd
 
 from ..almanac import places
+from ..constants import LARGE_INTERCEPT_NM, SUN_BRIGHT_SKY_DEG, SUN_DARK_HORIZON_DEG
 from ..corrections import correct_altitudes, planet_phases
 from ..errors import api_boundary
 from ..io.logbook import SIGHT_COLUMNS, LogSource, SightLog, read_sight_log
@@ -26,13 +27,9 @@ from ..triangle import (
 )
 from ..vocabulary import RESULT_COLUMNS  # the columns reduce_sights adds, in order
 
-LARGE_INTERCEPT_NM = 30.0  # a larger intercept usually means a blunder or a poor DR (common practice)
-#: A star or planet on the sea horizon is taken in twilight: from when the Sun is about 3° below the horizon
-#: (the sky dark enough for the brighter stars) to when it is 12° below (the end of nautical twilight, when
-#: the horizon can no longer be made out: the almanac's definition of nautical twilight). Common practice;
-#: the navigation manuals give the best star time as the Sun between about 3° and 9° below the horizon.
-SUN_BRIGHT_SKY_DEG = -3.0
-SUN_DARK_HORIZON_DEG = -12.0
+# A star or planet on the sea horizon is taken in twilight (SUN_BRIGHT_SKY_DEG to SUN_DARK_HORIZON_DEG, in
+# navred.constants with their sources); the navigation manuals give the best star time as the Sun between
+# about 3° and 9° below the horizon. LARGE_INTERCEPT_NM: a larger intercept usually means a blunder or a poor DR.
 #: The horizons that are the sea's own (a star needs it lit and the sky dark).
 SEA_HORIZONS = ("sea", "back")
 

@@ -1,0 +1,128 @@
+"""The printed marking: each cadet's sight book as pages of one PDF (the printed-page model of
+:mod:`navred.io.printed`).
+
+Edge code. For each cadet, a first page with their progress over the voyage (day by day), their
+personal error against the ship's track when it was given, their fixes, and what to look at again
+in words; then every working laid out down the page as it was worked: each line given, what it
+should be and the verdict, the probable cause of a wrong line, what the slip costs, what should
+have been noticed, and the instructor's remarks. Lines are named as a sight book names them,
+sources by their file's name; every page carries the caution. Built from a
+:class:`navred.jobs.workings.MarkingReport`.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+
+from ..errors import NavredError
+from .cautions import CAUTION
+from .markingwords import NOTICE_WORKING, RIGHT_WORKING, cost_text, describe, difference_text
+from .printed import Document, Page, Table, Text, pdf_bytes
+from .workings import source_name
+
+#: The columns of a working's table.
+LINES_COLUMNS = ("line", "you wrote", "it should be", "verdict")
+
+
+def _front(report, cadet: str, part) -> list:
+    right = int((part.verdict == RIGHT_WORKING).sum())
+    noticed = int((part.verdict == NOTICE_WORKING).sum())
+    sources = sorted({source_name(s) for s in part.source})
+    blocks: list = [Text(f"{len(part)} working{'s' if len(part) != 1 else ''} marked, {right} with no mistake"
+                         + (f", {noticed} with something that should have been noticed" if noticed else "")
+                         + f". From {', '.join(sources)}.")]
+    if report.exam:
+        blocks.append(Text("Exam mode: navred's fix and any reference position are left out.", "small"))
+    progress = report.progress[report.progress.cadet == cadet] if len(report.progress) else report.progress
+    if len(progress):
+        blocks.append(Table(("date", "workings", "no mistake", "noticed", "mistakes"),
+                            tuple((r["date"], str(r["workings"]), f"{r['no_mistake']} ({r['no_mistake_pct']:.0f} %)",
+                                   str(r["noticed"]), r["mistakes"] or "none")
+                                  for r in progress.to_dict("records")),
+                            title="Progress over the voyage", widths=(1.0, 0.8, 1.0, 0.7, 6.0), left_columns=5))
+    personal = report.personal[report.personal.cadet == cadet] if len(report.personal) else report.personal
+    if len(personal):
+        p = personal.iloc[0]
+        blocks += [Text("Against the ship's track", "subheading"),
+                   Text(f"Personal error {p['personal error (′)']:+.2f}′ ± {p['95 % interval (′)']:.2f}′ (95 %), "
+                        f"scatter {p['scatter (′)']:.2f}′, over {int(p['sights'])} sights, {int(p['blunders'])} of "
+                        f"them blunders (over 5′, left out of the mean); trend {p['trend (′ per day)']:+.3f}′ a day. "
+                        "The error is Ho − Hc at the ship's position from the track: it covers the sextant, the "
+                        "horizon and the observer, not the working.")]
+    fixes = report.fixes[report.fixes.cadet == cadet] if len(report.fixes) else report.fixes
+    if len(fixes):
+        blocks.append(Text("Your fixes", "subheading"))
+        for f in fixes.to_dict("records"):
+            if f["note"]:
+                words = f"{f['fix_group']}: {f['note']}."
+            else:
+                words = f"{f['fix_group']}: your lines cross at {f['fix_from_your_lines']}"
+                if f["your_plotted_fix"]:
+                    words += f"; you plotted {f['your_plotted_fix']}, {f['plotted_apart_nm']:.1f} nm from it"
+                if not report.exam and isinstance(f.get("navred_fix"), str) and f["navred_fix"]:
+                    words += f"; navred's fix of the same sights {f['navred_fix']}, {f['navred_apart_nm']:.1f} nm off"
+                words += "."
+            blocks.append(Text(words))
+    flagged = part[part.verdict != RIGHT_WORKING]
+    if len(flagged):
+        blocks.append(Text("What to look at again", "subheading"))
+        blocks += [Text(describe(r)) for r in flagged.to_dict("records")]
+    return blocks
+
+
+def _working(r: dict, lines) -> list:
+    verdict = "every line right" if r["verdict"] == RIGHT_WORKING else r["verdict"]
+    rows, notes = [], []
+    for x in lines.to_dict("records"):
+        shown = x["verdict"]
+        if shown == "wrong":
+            off = difference_text(x["line"], x["difference"])
+            shown = f"wrong ({off})" if off else "wrong"
+            notes.append(f"{x['line_name']}: " + (f"probable cause: {x['cause']}." if x["cause"] else
+                                                   "no catalogued mistake fits: check the line against what it "
+                                                   "should be."))
+        rows.append((x["line_name"], x["given"], x["expected"] if x["verdict"] != "right" else "", shown))
+    # the working's heading is its table's title, kept on the page with it
+    blocks: list = [Table(LINES_COLUMNS, tuple(rows), title=f"Row {r['row']}: {r['body']}, {r['utc']} UTC; {r['way']}; "
+                          f"{verdict}", widths=(3.2, 2.2, 2.2, 2.6), left_columns=4, compact=True)]
+    blocks += [Text(note) for note in notes]
+    cost = cost_text(r["method"], r.get("cost_nm", np.nan), r.get("cost_deg", np.nan), r["first_wrong_line"])
+    if cost:
+        blocks.append(Text(f"Left uncorrected, {cost}."))
+    if r["noticed"]:
+        blocks.append(Text(f"Should have been noticed: {r['noticed']}."))
+    if r["remarks"]:
+        blocks.append(Text(f"Instructor's remarks: {r['remarks']}"))
+    return blocks
+
+
+def marking_document(report) -> Document:
+    """Every cadet's sight book as a printed document: their front page, then their workings (see the module)."""
+    pages = []
+    for cadet, part in report.rows.groupby("cadet", sort=True):
+        pages.append(Page(f"Sight book: {cadet}", tuple(_front(report, cadet, part))))
+        lines = report.lines[report.lines.cadet == cadet]
+        blocks = []
+        for r in part.to_dict("records"):
+            blocks += _working(r, lines[(lines.source == r["source"]) & (lines.row == r["row"])])
+        pages.append(Page(f"Sight book: {cadet}, every working", tuple(blocks)))
+    if not pages:
+        raise NavredError("no working was marked: nothing to print")
+    dates = sorted(set(report.rows.utc.str[:10])) if len(report.rows) else []
+    valid = f"{dates[0]} to {dates[-1]}" if len(dates) > 1 else (dates[0] if dates else "")
+    provenance = ("navred mark: an aid to instruction; the examiner's judgement, the official almanac and tables, "
+                  f"and licensed practice decide. Workings: {report.provenance.get('workings', '')}.")
+    return Document("navred sight books", valid, provenance, CAUTION, tuple(pages))
+
+
+def write_marking_pdf(report, path: str | Path) -> Path:
+    """Every cadet's sight book, printed, as one PDF."""
+    from .output import atomic_write
+
+    data = pdf_bytes(marking_document(report))
+    return atomic_write(path, lambda p: Path(p).write_bytes(data), inputs=report.workings.log.sources)
+
+
+__all__ = ["marking_document", "write_marking_pdf"]

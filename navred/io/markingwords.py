@@ -1,0 +1,135 @@
+"""The words of a marking: values as the cadet wrote theirs, differences, what a slip costs, a working described.
+
+Edge code, shared by the marking job, its workbook and its printed pages: lines are named as a sight
+book names them (:data:`navred.marking.LINE_NAMES`), angles in degrees and minutes where the cadet
+wrote them so (and every correction of a degree or more), TOWARD and AWAY in the cadet's own words,
+times out in hours, minutes and seconds.
+"""
+
+from __future__ import annotations
+
+import re
+
+import numpy as np
+
+from ..angles import format_angle
+from ..marking import UNITS
+from ..marking_checks import COMPASS_RUN_NM
+from .workings import WORKED_FORMS
+
+#: The verdicts of a whole working.
+RIGHT_WORKING, WRONG_WORKING, NOTICE_WORKING = "right", "wrong", "should have been noticed"
+
+
+def _style_of(given_text: str) -> str:
+    """How the cadet wrote a number: 'dm' (degrees and minutes), 'decimal', or '' (nothing written)."""
+    text = str(given_text or "").strip()
+    if not text:
+        return ""
+    return "dm" if ("°" in text or re.search(r"\d\s+\d", text)) else "decimal"
+
+
+def value_text(line: str, value, given_text: str = "") -> str:
+    """A line's value written as the cadet wrote theirs: degrees and minutes where they wrote them (and for
+    every correction of a degree or more), TOWARD/AWAY in their words, compass errors named E or W."""
+    if line == "utc_worked":
+        return "" if value is None or np.isnat(value) else str(np.datetime64(value, "s")).replace("T", " ")
+    if value is None or value != value:
+        return ""
+    text = _value_text(line, value, given_text)
+    if _style_of(given_text) == "dm" and "°" not in str(given_text):  # written without the marks: 104 55.2
+        text = text.replace("° ", " ").replace("°", "").replace("′", "")
+    return text
+
+
+def _value_text(line: str, value, given_text: str) -> str:
+    kind = WORKED_FORMS[line][0]
+    style = _style_of(given_text)
+    if line == "intercept_worked":
+        words = ("TOWARD", "AWAY")
+        written = str(given_text).strip().lower()
+        if re.search(r"\b(t|a)\s*$", written):
+            words = ("T", "A")
+        elif re.search(r"(toward|towards|away)\s*$", written):
+            words = ("toward", "away")
+        return f"{abs(value):.1f} {words[0] if value >= 0 else words[1]}"
+    if kind in ("lat", "lon", "dec"):
+        return format_angle(value, kind)
+    if kind == "named":
+        return f"{abs(value):.1f}° {'E' if value >= 0 else 'W'}"
+    if kind == "amplitude":
+        return f"{abs(value):.1f}° {'N' if value >= 0 else 'S'}"
+    if kind == "degrees":
+        return format_angle(value, "angle") if style == "dm" else f"{value % 360.0:05.1f}°"
+    if kind == "arcsec":
+        return f"{value:.1f}″"
+    if kind == "arcmin":
+        signed = str(given_text).strip()[:1] in ("+", "-", "−") or not str(given_text).strip()
+        if abs(value) >= 60.0 or style == "dm":
+            return ("+" if value >= 0 and signed else "") + format_angle(value / 60.0, "signed")
+        return f"{value:+.1f}′" if signed or value < 0 else f"{value:.1f}′"
+    if line == "lha_worked" and style == "decimal":
+        return f"{value % 360.0:.1f}°"
+    if style == "decimal":
+        return f"{value:.2f}°" if kind == "signed" else f"{value % 360.0:.2f}°"
+    return format_angle(value, "signed" if kind == "signed" else "angle")
+
+
+def difference_text(line: str, difference: float) -> str:
+    """A difference in words: '7 s late', '2 h 00 min 00 s early', '+0.7′', '−39.1°', '+23.4 nm'."""
+    if difference != difference:
+        return ""
+    unit = UNITS[line]
+    if unit == "s":
+        seconds = abs(difference)
+        if seconds >= 60:
+            h, rest = divmod(int(round(seconds)), 3600)
+            m, s = divmod(rest, 60)
+            span = (f"{h} h {m:02d} min {s:02d} s" if h else f"{m} min {s:02d} s")
+        else:
+            span = f"{seconds:.0f} s"
+        return f"{span} {'late' if difference > 0 else 'early'}"
+    if unit == "′" and abs(difference) >= 60:
+        return ("+" if difference >= 0 else "−") + format_angle(abs(difference) / 60.0, "signed")
+    sign = "+" if difference >= 0 else "−"
+    return f"{sign}{abs(difference):.1f}{unit}" if unit in ("′", "°", "″") else f"{sign}{abs(difference):.1f} {unit}"
+
+
+def cost_text(method: str, cost_nm: float, cost_deg: float, line: str = "") -> str:
+    """What a slip costs, in words ("" when nothing is wrong)."""
+    if cost_nm != cost_nm or (abs(cost_nm) < 0.05 and not cost_deg == cost_deg):
+        return ""  # the slip went no further than its line
+    if line in ("fix_lat_worked", "fix_lon_worked"):
+        return f"your plotted fix stands {abs(cost_nm):,.1f} nm from where your own lines cross"
+    if method in ("amplitude", "azimuth"):
+        return (f"the compass error is {abs(cost_deg):.1f}° out: {abs(cost_nm):.1f} nm off the track in a "
+                f"{COMPASS_RUN_NM:.0f}-mile run")
+    what = "your latitude" if method in ("meridian", "ex-meridian", "polaris") else "your position line"
+    return f"this moves {what} {abs(cost_nm):,.1f} nm"
+
+
+def describe(row: dict) -> str:
+    """One working's marking in words, for the screen and the printed page."""
+    where = f"row {row['row']}"
+    head = f"{row['cadet']}, {where}, {row['body']} at {row['utc'][11:16]} UTC ({row['way']})"
+    if row["first_wrong_line"]:
+        off = difference_text(row["first_wrong_line"], row["difference"])
+        text = (f"{head}: {row['first_wrong_line_name']} is wrong: you wrote {row['given'] or '(nothing)'}, "
+                f"it should be {row['expected'] or 'given'}" + (f" ({off})" if off else "") + ". "
+                + (f"Probable cause: {row['cause']}." if row["cause"] else
+                   "It fits no mistake in the catalogue: check the line against the expected value."))
+        cost = cost_text(row["method"], row.get("cost_nm", np.nan), row.get("cost_deg", np.nan),
+                         row["first_wrong_line"])
+        if cost:
+            text += f" Left uncorrected, {cost}."
+        later = int(row["lines_wrong"]) - 1
+        if later > 0:
+            text += f" {later} later line{'s' if later > 1 else ''} wrong as well."
+    else:
+        text = f"{head}: every line right."
+    if row["noticed"]:
+        text += f" Should have been noticed: {row['noticed']}."
+    return text
+
+
+__all__ = ["RIGHT_WORKING", "WRONG_WORKING", "NOTICE_WORKING", "value_text", "difference_text", "cost_text", "describe"]

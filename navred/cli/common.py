@@ -41,6 +41,33 @@ EYE_HELP = "Height of eye with its unit, '2.8 m' or '9 ft'"
 CSV_HELP = "Print {what} as CSV on stdout (snake_case headers with units; nothing else on stdout)."
 
 
+# --- The options of a DR track from a date (plan, azimuths): one declaration each --------------------------------
+
+def first_date_option():
+    return typer.Option(..., "--date", help="Local civil date of the first day, e.g. 2026-03-26.")
+
+
+def dr_lat_option():
+    return typer.Option(..., "--lat", help="DR latitude at 00:00 local time, e.g. '43 16.6 N'.")
+
+
+def dr_lon_option():
+    return typer.Option(..., "--lon", help="DR longitude at 00:00 local time, e.g. '013 11.4 W'.")
+
+
+def course_option():
+    return typer.Option(0.0, "--course", help="Course to steer (degrees true) for the DR track.")
+
+
+def speed_option():
+    return typer.Option(0.0, "--speed", help="Speed (knots) for the DR track.")
+
+
+def zone_kept_option():
+    return typer.Option(None, "--zone", help="The zone description kept (ZT + ZD = UTC), e.g. '+1'; default: the DR "
+                                             "longitude's zone each day.")
+
+
 def first_sentence(doc: str | None) -> str:
     """A command's first sentence, whole, as the top-level help lists it."""
     paragraph = inspect.cleandoc(doc or "").split("\n\n")[0].replace("\n", " ")

@@ -443,7 +443,7 @@ def mark_lines(report) -> list[str]:
     lines = [report.summary()]
     lines += [describe(row) for row in report.rows.to_dict("records") if row["verdict"] != "right"]
     for p in report.personal.to_dict("records") if len(report.personal) else []:
-        lines.append(f"{p['cadet']}: personal error {p['personal error (′)']:+.2f}′ ± {p['95 % interval (′)']:.2f}′ "
+        lines.append(f"{p['cadet']}: personal error {p['personal_error_arcmin']:+.2f}′ ± {p['interval_95_arcmin']:.2f}′ "
                      f"(95 %) against the track, over {int(p['sights'])} sights")
     lines += [f"not read: {source_name(row.source)} row {row.row}: {row.column}: {row.reason}"
               for row in report.rejected.itertuples()]

@@ -17,6 +17,8 @@ from pathlib import Path
 import pandas as pd
 
 from ..marking import LINE_NAMES, LINES, TOLERANCES, UNITS
+from .labels import LABELS
+from .labels import labelled as labelled_columns
 from .sightbook import (
     BLOCKS_PER_PAGE,
     COMPASS_SIGHT_LINES,
@@ -28,29 +30,13 @@ from .sightbook import (
 from .workings import WORKED_FORMS
 
 #: The words each table's column is shown under on a sheet (the library's tables keep snake_case names).
-SHEET_LABELS = {
-    "source": "file", "row": "row", "cadet": "cadet", "body": "body", "utc": "UTC", "method": "method", "way": "worked",
-    "verdict": "verdict", "first_wrong_line_name": "first wrong line", "cause": "probable cause",
-    "given": "you wrote", "expected": "it should be", "difference": "out by", "unit": "unit",
-    "cost_nm": "the slip costs (nm)", "cost_deg": "compass error out (°)", "noticed": "should have been noticed",
-    "remarks": "instructor's remarks", "lines_given": "lines given", "lines_wrong": "lines wrong",
-    "error_vs_track_arcmin": "error against the track (′)", "line_name": "line", "sheet_row": "sheet row",
-    "expected_from_tables": "from the tables", "tolerance": "right within", "sights": "sights",
-    "no_mistake": "no mistake", "no_mistake_pct": "no mistake (%)", "commonest_cause": "commonest cause",
-    "cadets": "cadets", "fix_group": "fix group", "lines": "lines", "fix_from_your_lines": "fix from your lines",
-    "fix_lat_deg": "fix lat (deg)", "fix_lon_deg": "fix lon (deg)", "your_plotted_fix": "your plotted fix",
-    "plotted_apart_nm": "plotted fix off (nm)", "from_dr_nm": "from the DR (nm)", "note": "note",
-    "navred_fix": "navred's fix", "navred_fix_lat_deg": "navred's fix lat (deg)",
-    "navred_fix_lon_deg": "navred's fix lon (deg)", "navred_apart_nm": "navred's fix off (nm)",
-    "reference_position": "reference position", "date": "date", "workings": "workings", "mistakes": "mistakes",
-    "column": "column", "value": "value", "reason": "reason", "line": "line",
-}
+#: the marking's columns in words: the one table of display labels (navred.io.labels)
+SHEET_LABELS = LABELS
 
 
 def labelled(frame: pd.DataFrame, drop: tuple[str, ...] = ()) -> pd.DataFrame:
     """A table with its columns in words (:data:`SHEET_LABELS`), the identifier columns left out."""
-    kept = frame.drop(columns=[c for c in drop if c in frame.columns])
-    return kept.rename(columns={c: SHEET_LABELS.get(c, c) for c in kept.columns})
+    return labelled_columns(frame.drop(columns=[c for c in drop if c in frame.columns]))
 
 
 def _sheet_name(name: str, taken: set[str]) -> str:

@@ -7,12 +7,26 @@ library's tables and --csv keep their snake_case names with units.
 from __future__ import annotations
 
 from collections.abc import Iterator
+from typing import TYPE_CHECKING
 
 import numpy as np
-import pandas as pd
 
 from ..angles import format_angle
-from ..io.output import csv_safe, csv_text
+
+if TYPE_CHECKING:  # pandas is imported by the formatters that need it: navred almanac stays quick
+    import pandas as pd
+
+
+def csv_text(frame, **options) -> str:
+    from ..io.output import csv_text as text
+
+    return text(frame, **options)
+
+
+def csv_safe(frame):
+    from ..io.output import csv_safe as safe
+
+    return safe(frame)
 
 
 def time_text(value) -> str:
@@ -61,6 +75,8 @@ def almanac_lines(result) -> list[str]:
 
 
 def bodies_table() -> pd.DataFrame:
+    import pandas as pd
+
     from ..stars import SOLAR_SYSTEM, star_table
 
     table = star_table()

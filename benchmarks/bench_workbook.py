@@ -68,8 +68,8 @@ def main(folder: str | None = None) -> None:
     for column, values in series.items():
         reduced[column] = values
     groups = timed("fix every group", lambda: fix_groups(reduced))
-    voyage = VoyageResult(str(log_path), log, reduced, rejected, groups, {"run": "benchmark"})
-    voyage.next_events, voyage.next_plan = timed("plan the next twilight", lambda: _next_twilight_plan(voyage))
+    events, plan = timed("plan the next twilight", lambda: _next_twilight_plan(groups, reduced))
+    voyage = VoyageResult(str(log_path), log, reduced, rejected, tuple(groups), {"run": "benchmark"}, plan, events)
     print(f"  ({len(reduced):,} sights, {sum(g.fix is not None for g in groups):,} fixes of {len(groups):,} groups)")
     timed("write the workbook (pictures as files)",
           lambda: write_workbook(voyage, work / "fleet.xlsx", plots=Pictures(embed=False, folder=str(work / "plots"))))

@@ -259,7 +259,7 @@ def _short_rows(path, rows=2_000_000):
 
 
 CRAFTED_RUN = textwrap.dedent("""
-    import json, resource, sys, time
+    import json, os, resource, sys, time
     from typer.testing import CliRunner
     from navred.cli import app
     from navred.io.logbook import read_sight_log
@@ -284,7 +284,11 @@ CRAFTED_RUN = textwrap.dedent("""
         except NavredError as exc:
             verdict = "refused: " + str(exc)
         out[name] = [time.perf_counter() - started, verdict]
-    out["peak_mib"] = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+    # the peak of this process's own memory: VmHWM (Linux) starts afresh at exec, whereas ru_maxrss keeps the
+    # resident size of the parent it was forked from (a test worker that has grown would be counted)
+    peaks = [line.split()[1] for line in open("/proc/self/status") if line.startswith("VmHWM:")] \
+        if os.path.exists("/proc/self/status") else []
+    out["peak_mib"] = int(peaks[0]) / 1024 if peaks else resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
     print(json.dumps(out))
 """)
 

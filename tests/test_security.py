@@ -824,10 +824,15 @@ BAD_OPTIONS = [
 ]
 
 
-def test_output_cut_short_by_its_reader_is_one_line_never_a_traceback():
-    """`navred reduce LOG | head -1`: the pipe closes early; navred says so in one line."""
+def test_output_cut_short_by_its_reader_is_one_line_never_a_traceback(tmp_path):
+    """`navred reduce LOG | head -1`: the pipe closes early; navred says so in one line. The log is long enough
+    that its lines overfill the pipe's buffer (64 KiB), so that navred is still writing when its reader goes,
+    whatever the machine's load."""
+    text = open("sample_sights/training_sights.csv", encoding="utf-8").read().splitlines()
+    log = tmp_path / "long.csv"
+    log.write_text("\n".join([text[0]] + text[1:] * 4) + "\n", encoding="utf-8")
     reader = subprocess.Popen([sys.executable, "-c", "import sys; sys.stdin.readline()"], stdin=subprocess.PIPE)
-    done = subprocess.run([sys.executable, "-m", "navred", "reduce", "sample_sights/training_sights.csv"],
+    done = subprocess.run([sys.executable, "-m", "navred", "reduce", str(log)],
                           stdout=reader.stdin, stderr=subprocess.PIPE, text=True, timeout=120)
     reader.stdin.close()
     reader.wait(timeout=30)

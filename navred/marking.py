@@ -49,6 +49,7 @@ from .marking_judge import (
     Judge,
     Marks,
     SightsToMark,
+    catalogue_cause,
     tenth,
 )
 from .marking_methods import (
@@ -87,7 +88,8 @@ def method_of(given: dict[str, np.ndarray], body: np.ndarray, stated: np.ndarray
         return np.isfinite(np.asarray(value, dtype=float))
 
     polaris = np.asarray(body, dtype=object) == "Polaris"
-    latitude = has("latitude_worked") | has("zenith_distance_worked") | has("meridian_altitude_worked")
+    latitude = has("latitude_worked") | has("zenith_distance_worked") | has("meridian_altitude_worked") | \
+        has("bearing_worked")
     told = np.select(
         [has("amplitude_worked"), has("compass_error_worked") | has("deviation_worked"),
          has("polaris_corr_worked") | (polaris & has("latitude_worked") & ~has("zenith_distance_worked")),
@@ -120,8 +122,8 @@ def mark(sights: SightsToMark, given: dict[str, ArrayLike]) -> Marks:
 
     ``given`` maps line names of :data:`LINES` to the cadet's values (``utc_worked`` as datetime64
     UTC; the lines of :data:`DEGREE_LINES` in degrees (latitudes and declinations north +,
-    longitudes east +); Z, Zn, the amplitude (north +), the compass error and the deviation (east +)
-    in degrees; every correction (increment, v, d, IC, dip, refraction, SD, parallax, main, HP
+    longitudes east +); Z (tabulated or interpolated), Zn, the amplitude (north +), the compass error
+    and the deviation (east +) in degrees; the body's bearing at meridian passage 0° (N) or 180° (S); every correction (increment, v, d, IC, dip, refraction, SD, parallax, main, HP
     correction, upper limb, additional, the tables' d, the Hc correction, the reduction and the
     Polaris correction) in arcminutes, signed as added; ``a`` in arcseconds; the intercept in
     nautical miles, + TOWARD); a missing line is absent or NaN/NaT.
@@ -155,20 +157,20 @@ def mark(sights: SightsToMark, given: dict[str, ArrayLike]) -> Marks:
                   np.where(latitude_rows, 0.0, intercept.zn_deg), np.where(latitude_rows, 0.0, intercept.intercept_nm),
                   intercept.from_dr | latitude_rows, intercept.way)
     times_s = np.asarray(sights.utc, dtype="datetime64[ns]").astype(np.int64) / 1e9
-    fixes = fix_lines(j, sights, lines, times_s)
+    fixes = fix_lines(j, sights, lines, times_s, method)
     j.verdict[(j.verdict == NOT_GIVEN) & np.stack([j.has(line) for line in LINES], axis=1)] = NOT_JUDGED
 
     marks = _in_given_units(j, n)
     marks.method = method
-    marks.way = _ways(method, intercept.way, kind, cadet)
+    marks.way = _ways(method, intercept.way, kind, altitudes.two_part, j.has("main_worked"))
     marks.refresh_first()
     marks.noticed = sense_checks(sights, kind, method, sky, lines, latitudes, fixes)
     marks.cost_nm, marks.cost_deg = slip_costs(sights, method, sky, altitudes, lines, latitudes, bearings,
                                                any_wrong(marks.verdict))
     plotted = np.isin(marks.first_wrong_line, ["fix_lat_worked", "fix_lon_worked"])
     for fix in fixes:  # a slip of the plot costs the distance of the plotted fix from the lines' crossing
-        rows = np.array(fix.rows)
-        marks.cost_nm[rows[plotted[rows]]] = fix.apart_nm
+        if fix.charged >= 0 and plotted[fix.charged]:
+            marks.cost_nm[fix.charged] = fix.apart_nm
     marks.fixes = fixes
     return marks
 
@@ -192,27 +194,21 @@ def _in_given_units(j: Judge, n: int) -> Marks:
     return Marks(LINES, given_out, exact, tabular, j.verdict, j.cause, j.difference, expected)
 
 
-def _ways(method: np.ndarray, intercept_way: np.ndarray, kind: np.ndarray, cadet: dict) -> np.ndarray:
+def _ways(method: np.ndarray, intercept_way: np.ndarray, kind: np.ndarray, two_part: np.ndarray,
+          has_main: np.ndarray) -> np.ndarray:
     """How each working was done, in words: the method, and for the intercept and the Moon how it was worked."""
-    n = len(method)
-
-    def has(line):
-        value = cadet.get(line)
-        return np.zeros(n, dtype=bool) if value is None else np.isfinite(np.asarray(value, dtype=float))
-
     words = {"meridian": "latitude by meridian altitude", "ex-meridian": "latitude by ex-meridian",
              "polaris": "latitude by Polaris", "amplitude": "compass error by amplitude",
              "azimuth": "compass error by azimuth"}
     named = np.array([words.get(m, "") for m in method.tolist()], dtype=object)
     text = np.where(method == "intercept", "intercept " + intercept_way.astype(object), named)
-    two_part = has("hp_corr_worked") | has("upper_limb_worked")
-    combined = has("main_worked") & ~two_part
     moon = kind == "moon"
+    combined = has_main & ~two_part
     text = np.where(moon & two_part, text + "; the Moon by the two-part table", text)
     return np.where(moon & combined, text + "; the Moon by one combined correction", text).astype(object)
 
 
 __all__ = ["LINES", "LINE_NAMES", "LINE_TABLE", "REQUIRED_LINES", "REQUIRED", "FINAL_LINES", "DEGREE_LINES",
            "TOLERANCES", "CAUSES", "ZONE_OR_DATE", "UNITS", "METHODS", "SightsToMark", "Marks", "GroupFix", "mark",
-           "method_of", "zn_from_z", "z_from_zn", "tenth", "BASE_RATE_DEG_PER_HOUR", "RIGHT", "WRONG", "NOT_GIVEN",
+           "method_of", "zn_from_z", "z_from_zn", "tenth", "catalogue_cause", "BASE_RATE_DEG_PER_HOUR", "RIGHT", "WRONG", "NOT_GIVEN",
            "NOT_JUDGED"]

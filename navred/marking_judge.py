@@ -62,12 +62,14 @@ LINE_TABLE: tuple[Line, ...] = (
     Line("ex_meridian_a_worked", "Change of altitude in one minute (a)", "″", 0.1, "arcsec"),
     Line("reduction_worked", "Reduction to the meridian", "′", 0.2, "arcmin"),
     Line("meridian_altitude_worked", "Meridian altitude", "′", 0.1, "deg"),
+    Line("bearing_worked", "Bearing at meridian passage", "°", 1.0, "zn"),
     Line("zenith_distance_worked", "Zenith distance", "′", 0.1, "deg"),
     Line("polaris_corr_worked", "Polaris correction (a0 + a1 + a2 − 1°)", "′", 0.3, "arcmin"),
     Line("latitude_worked", "Latitude", "′", 0.1, "deg"),
     Line("tab_hc_worked", "Tabulated Hc", "′", 0.1, "deg"),
     Line("tab_d_worked", "Tables' d", "′", 0.1, "arcmin"),
     Line("tab_z_worked", "Tabulated Z", "°", 0.1, "zn"),
+    Line("z_interpolated_worked", "Z interpolated", "°", 0.1, "zn"),
     Line("hc_correction_worked", "d correction of Hc", "′", 0.1, "arcmin"),
     Line("hc_worked", "Hc", "′", 0.3, "deg"),
     Line("zn_worked", "Zn", "°", 0.3, "zn"),
@@ -83,7 +85,7 @@ LINES = tuple(line.key for line in LINE_TABLE)
 #: Each line's name in a sight book ("GHA increment", "Zn"): what cadets and instructors read.
 LINE_NAMES = {line.key: line.name for line in LINE_TABLE}
 #: Lines given in degrees and judged in arcminutes (every other angle line is a correction in
-#: arcminutes, or Z, Zn, an amplitude, a compass error or a deviation in degrees).
+#: arcminutes, or Z, Zn, an amplitude, a compass error, a deviation or a bearing (N 0°, S 180°) in degrees).
 DEGREE_LINES = tuple(line.key for line in LINE_TABLE if line.given_in == "deg")
 #: The unit of each line's difference (given minus expected) and tolerance.
 UNITS = {line.key: line.unit for line in LINE_TABLE}
@@ -134,6 +136,8 @@ CAUSES = {
     "upper limb": "the upper limb's 30′ not taken off (the Moon's two-part table)",
     "toward away": "TOWARD and AWAY swapped",
     "reduction sign": "reduction to the meridian taken off instead of added",
+    "bearing name": "the body's bearing at meridian passage named the wrong way (it bears north when its "
+                    "declination is north of your latitude)",
     "zenith name": "zenith distance named the wrong way (same names add, contrary names subtract)",
     "polaris degree": "the 1° of the Polaris tables not taken off",
     "amplitude name": "amplitude named or laid off from the wrong cardinal point",
@@ -148,6 +152,14 @@ ZONE_OR_DATE = ("zone description applied with the wrong sign, or the Greenwich 
 RIGHT, WRONG, NOT_GIVEN = "right", "wrong", "not given"
 #: A line given for a method it is not part of (a Zn beside a noon latitude): read, not judged.
 NOT_JUDGED = "not part of this method"
+
+
+def catalogue_cause(cause: str) -> str:
+    """The catalogue's words of a cause, without the detail :meth:`Judge.name_cause` may add."""
+    for words in CAUSES.values():
+        if cause.startswith(words):
+            return words
+    return cause
 
 
 def tenth(arcmin: ArrayLike) -> np.ndarray:
@@ -180,8 +192,11 @@ class SightsToMark:
     #: compass methods; NaN where not given
     compass_bearing_deg: np.ndarray | None = None
     variation_deg: np.ndarray | None = None
-    #: the fix group of each sight ("" for none): the cadet's fix is judged from the group's lines
+    #: the round (fix group) of each sight ("" for none): the cadet's fix is judged from the round's lines
     fix_group: np.ndarray | None = None
+    #: where the cadet named the round (False: a group of sights taken close together, made by the log's
+    #: reader, which forms a round only where the cadet plotted a fix from it); None: every group named
+    fix_group_given: np.ndarray | None = None
 
 
 @dataclass
@@ -196,8 +211,10 @@ class Marks:
     minus the nearest accepted value, in the line's unit. Per sight: ``method`` (the method it was
     judged by), ``way`` (how: "from an AP by tables", "from the DR by calculator", ...),
     ``first_wrong_line`` and ``first_cause``; ``noticed`` (what an examiner would have wanted
-    noticed although the arithmetic follows: "" when nothing), ``cost_nm`` (how far the first slip
-    moves the position line or latitude, nautical miles) and ``cost_deg`` (a compass slip, degrees);
+    noticed although the arithmetic follows: "" when nothing), ``cost_nm`` (how far the slip puts the
+    position line or latitude from where it should be near the DR, nautical miles, or a compass slip's miles
+    off the track in a run) and ``cost_deg`` (how far it turns the position line, or how far off a course
+    steered by the cadet's compass error or deviation is, degrees);
     ``fixes``: each fix group's fix from the cadet's own lines beside the fix they plotted.
     """
 
@@ -268,13 +285,15 @@ class Judge:
         return np.where(self.has(line), self.given.get(line, otherwise), otherwise)
 
     def judge(self, line: str, exact, tabular=None, *, also: tuple = (), tolerance=None, angle: bool = False,
-              causes: tuple[tuple[str, object], ...] = (), only=None) -> np.ndarray:
+              causes: tuple[tuple, ...] = (), only=None) -> np.ndarray:
         """Judge a line: right within its tolerance of the exact value, the tables' value or any of ``also``
         (other accepted values); NaN where a value does not apply, and a line with no accepted value at
         all is not judged (not part of the sight's method). A wrong line is matched against ``causes``
-        (each a key of :data:`CAUSES` and the value that mistake would give), first fit first. ``angle``:
-        differences wrap at 360° (in the line's judging unit). ``only``: judge these sights only (a
-        method's; the others keep what another method gave them). Returns the mask of lines judged right."""
+        (each a key of :data:`CAUSES`, the value that mistake would give and, optionally, the right value
+        the mistake was made on), first fit first; a wrong line's expected value is that right value where
+        a cause names one, else the accepted value nearest the cadet's. ``angle``: differences wrap at 360°
+        (in the line's judging unit). ``only``: judge these sights only (a method's; the others keep what
+        another method gave them). Returns the mask of lines judged right."""
         k = LINES.index(line)
         n = self.n
         mask = np.ones(n, dtype=bool) if only is None else np.asarray(only, dtype=bool)
@@ -297,27 +316,41 @@ class Judge:
         applies = np.isfinite(candidates).any(axis=0)
         first_finite = np.argmax(np.isfinite(candidates), axis=0)
         shown = np.where(given, candidates[best, np.arange(n)], candidates[first_finite, np.arange(n)])
-        for store, new in ((self.exact, exact_), (self.tabular, tab), (self.expected, shown)):
-            store[line] = np.where(mask, new, store.get(line, np.full(n, np.nan)))
         judged = given & applies & mask
         right = judged & (np.abs(nearest) <= tol + 1e-9)
         wrong = judged & ~right
-        self.verdict[judged, k] = np.where(right[judged], RIGHT, WRONG)
-        self.verdict[given & ~applies & mask, k] = NOT_JUDGED
-        self.difference[judged, k] = nearest[judged]
         cause = np.full(n, "", dtype=object)
-        for key, alternative in causes:
+        for key, alternative, *intended in causes:
             alternative = _as_array(alternative, n)
             fits = wrong & (cause == "") & np.isfinite(alternative) & (np.abs(off(alternative)) <= tol + 1e-9)
             cause[fits] = CAUSES[key]
+            if intended:  # the right value this mistake was made on: what the line should have been
+                right_value = _as_array(intended[0], n)
+                named = fits & np.isfinite(right_value)
+                shown = np.where(named, right_value, shown)
+                nearest = np.where(named, off(right_value), nearest)
+        for store, new in ((self.exact, exact_), (self.tabular, tab), (self.expected, shown)):
+            store[line] = np.where(mask, new, store.get(line, np.full(n, np.nan)))
+        self.verdict[judged, k] = np.where(right[judged], RIGHT, WRONG)
+        self.verdict[given & ~applies & mask, k] = NOT_JUDGED
+        self.difference[judged, k] = nearest[judged]
         self.cause[wrong, k] = cause[wrong]
         return right
 
-    def name_cause(self, line: str, mask: np.ndarray, key: str) -> None:
-        """Name ``key`` as the cause of the line where it is wrong under ``mask`` and has no cause yet."""
+    def name_cause(self, line: str, mask: np.ndarray, key: str, detail: str = "") -> None:
+        """Name ``key`` as the cause of the line where it is wrong under ``mask`` and has no cause yet;
+        ``detail`` (which line of a round, say) follows the catalogue's words in brackets."""
         k = LINES.index(line)
         fits = (self.verdict[:, k] == WRONG) & (self.cause[:, k] == "") & mask
-        self.cause[fits, k] = CAUSES[key] if key in CAUSES else key
+        words = CAUSES[key] if key in CAUSES else key
+        self.cause[fits, k] = f"{words} ({detail})" if detail else words
+
+    def missing(self, line: str, mask: np.ndarray, key: str) -> None:
+        """Mark a line the working needed but left out (under ``mask``, where not given) wrong, with the cause."""
+        k = LINES.index(line)
+        absent = mask & ~self.has(line)
+        self.verdict[absent, k] = WRONG
+        self.cause[absent, k] = CAUSES[key] if key in CAUSES else key
 
     def clear_cause(self, line: str, mask: np.ndarray) -> None:
         self.cause[mask & (self.verdict[:, LINES.index(line)] == WRONG), LINES.index(line)] = ""
@@ -325,4 +358,4 @@ class Judge:
 
 __all__ = ["Line", "LINE_TABLE", "LINE", "LINES", "LINE_NAMES", "DEGREE_LINES", "UNITS", "TOLERANCES", "METHODS",
            "REQUIRED", "FINAL_LINES", "CAUSES", "ZONE_OR_DATE", "RIGHT", "WRONG", "NOT_GIVEN", "NOT_JUDGED",
-           "MOON_HO_TOLERANCE_ARCMIN", "SightsToMark", "Marks", "Judge", "tenth"]
+           "MOON_HO_TOLERANCE_ARCMIN", "SightsToMark", "Marks", "Judge", "tenth", "catalogue_cause"]

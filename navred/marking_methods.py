@@ -7,11 +7,13 @@ Core code (numpy). The methods and their conventions (common practice; the navig
   GHA + longitude (east +) a whole degree; the tables' Hc, d and Z at the whole LHA, latitude and
   degrees of Dec, Hc = tabulated Hc + d × (minutes of Dec)/60; Zn from Z (north latitude, LHA over
   180°: Zn = Z, under: 360° − Z; south latitude, LHA over 180°: 180° − Z, under: 180° + Z), Z as
-  tabulated or interpolated for the minutes of Dec; intercept = Ho − Hc, TOWARD when Ho is the greater.
+  tabulated or interpolated for the minutes of Dec (written in the one Z line, or on a line of its own);
+  intercept = Ho − Hc, TOWARD when Ho is the greater.
 - **Intercept from the DR** (a calculator): LHA = GHA + DR longitude, Hc and Zn at the DR by the
   cosine and azimuth formulas, each rounded as written (0.1′ and 0.1°).
-- **Latitude by meridian altitude**: zenith distance = 90° − Ho, named opposite to the body's
-  bearing (N when the body bears south); latitude = Dec + zenith distance, the names as signs (same
+- **Latitude by meridian altitude**: the body bears north at meridian passage when its declination
+  is north of the latitude, else south; zenith distance = 90° − Ho, named opposite to that bearing
+  (N when the body bears south; the cadet's own bearing where written); latitude = Dec + zenith distance, the names as signs (same
   names add, contrary names subtract).
 - **Ex-meridian**: the meridian angle t (minutes of time) from LHA = GHA + DR longitude; the
   reduction to the meridian a·t², a = 1.9635″ cos L cos d / sin(L ∼ d) the change of altitude in
@@ -123,7 +125,8 @@ def _way_of_working(j: Judge, lat_dr, lon_dr, gha_c) -> tuple[np.ndarray, np.nda
     dr_lat_whole = np.abs(lat_dr - np.round(lat_dr)) * ARCMIN_PER_DEG <= tolerance
     lha_dr = wrap_360(gha_c + lon_dr)
     lha_dr_whole = np.abs(wrap_180(lha_dr - np.round(lha_dr))) * ARCMIN_PER_DEG <= tolerance
-    tables = j.has("tab_hc_worked") | j.has("tab_d_worked") | j.has("tab_z_worked") | j.has("hc_correction_worked")
+    tables = j.has("tab_hc_worked") | j.has("tab_d_worked") | j.has("tab_z_worked") | j.has("hc_correction_worked") | \
+        j.has("z_interpolated_worked")
     lat_at_dr = j.has("ap_lat") & (np.abs(lat_given - lat_dr * ARCMIN_PER_DEG) <= tolerance)
     lon_is_dr = j.has("ap_lon") & (np.abs(_wrapped_arcmin(lon_given - lon_dr * ARCMIN_PER_DEG)) <= tolerance)
     lha_is_dr = j.has("lha_worked") & (np.abs(_wrapped_arcmin(lha_given - lha_dr * ARCMIN_PER_DEG)) <= tolerance) \
@@ -189,9 +192,18 @@ def _table_lines(j: Judge, on, by_tables, lat_c, lha_c, dec_c, hc_other) -> _Tab
 
     j.judge("tab_hc_worked", tables_only(hc_whole * ARCMIN_PER_DEG), tables_only(tab_hc), only=on)
     j.judge("tab_d_worked", tables_only((hc_next - hc_whole) * ARCMIN_PER_DEG), tables_only(tab_d), only=on)
-    j.judge("tab_z_worked", tables_only(z_from_zn(zn_whole, lat_c)), tables_only(tab_z), only=on)
     dec_minutes = np.abs(dec_c - whole_dec) * ARCMIN_PER_DEG
     hc_exact, zn_exact = computed_altitude_azimuth(lat_c, 0.0, lha_c, dec_c)
+    z_next = np.round(z_from_zn(zn_next, lat_c), 1)
+    z_exact = z_from_zn(zn_exact, lat_c)
+    # Z interpolated for the minutes of Dec is a Z as good as the tabulated one: a working with one Z line
+    # may write either there
+    j.judge("tab_z_worked", tables_only(z_from_zn(zn_whole, lat_c)), tables_only(tab_z),
+            also=(tables_only(tab_z + (z_next - tab_z) * dec_minutes / ARCMIN_PER_DEG), tables_only(z_exact)),
+            only=on)
+    own_z = j.value("tab_z_worked", tab_z)  # the interpolation from the cadet's own tabulated Z
+    j.judge("z_interpolated_worked", tables_only(z_exact),
+            tables_only(own_z + (z_next - tab_z) * dec_minutes / ARCMIN_PER_DEG), only=on)
     correction_exact = (hc_exact - hc_whole) * ARCMIN_PER_DEG
     correction_tab = tenth(j.value("tab_d_worked", tab_d) * dec_minutes / ARCMIN_PER_DEG)
     j.judge("hc_correction_worked", tables_only(correction_exact), tables_only(correction_tab), only=on,
@@ -203,18 +215,18 @@ def _table_lines(j: Judge, on, by_tables, lat_c, lha_c, dec_c, hc_other) -> _Tab
             also=(hc_other,), only=on, causes=(
                 ("hc d sign", hc_expected - 2.0 * j.value("hc_correction_worked", correction_tab)),
                 ("hc d sign", hc_exact * ARCMIN_PER_DEG - 2.0 * correction_exact)))
-    z_next = np.round(z_from_zn(zn_next, lat_c), 1)
     return _Tables(j.value("hc_worked", hc_expected), hc_tab, hc_exact, zn_exact, tab_z,
                    tab_z + (z_next - tab_z) * dec_minutes / ARCMIN_PER_DEG, own_tables)
 
 
 def _zn_line(j: Judge, on, by_tables, undecided, lat_c, lha_c, tables: _Tables, zn_dr) -> np.ndarray:
     """Judge Zn: from Z as tabulated, or interpolated for the minutes of Dec, or exact; return it carried."""
-    z_c = j.value("tab_z_worked", z_from_zn(tables.zn_exact, lat_c))
-    from_z = np.where(by_tables & j.has("tab_z_worked"), zn_from_z(z_c, lat_c, lha_c), np.nan)
+    z_c = j.value("z_interpolated_worked", j.value("tab_z_worked", z_from_zn(tables.zn_exact, lat_c)))
+    own_z = j.has("tab_z_worked") | j.has("z_interpolated_worked")
+    from_z = np.where(by_tables & own_z, zn_from_z(z_c, lat_c, lha_c), np.nan)
     interpolated = np.where(by_tables, zn_from_z(tables.z_interpolated, lat_c, lha_c), np.nan)
     north = lat_c >= 0
-    right_zn = np.where(j.has("tab_z_worked"), from_z, tables.zn_exact)
+    right_zn = np.where(own_z, from_z, tables.zn_exact)
     alternatives = []
     for z in (z_c, np.where(by_tables, tables.z_interpolated, np.nan)):  # the rule misapplied to either Z
         for rule in (np.where(north, z, 180.0 - z), np.where(north, 360.0 - z, 180.0 + z),
@@ -225,7 +237,7 @@ def _zn_line(j: Judge, on, by_tables, undecided, lat_c, lha_c, tables: _Tables, 
                                                    tenth(tables.zn_exact)),
             also=(from_z, interpolated, np.where(undecided, zn_dr, np.nan)), angle=True, only=on,
             causes=tuple(alternatives))
-    return j.value("zn_worked", np.where(j.has("tab_z_worked"), from_z, tables.zn_exact))
+    return j.value("zn_worked", np.where(own_z, from_z, tables.zn_exact))
 
 
 def _intercept_line(j: Judge, on, undecided, ho_c, tables: _Tables, hc_dr, hc_dr_tab,
@@ -242,8 +254,8 @@ def _intercept_line(j: Judge, on, undecided, ho_c, tables: _Tables, hc_dr, hc_dr
     intercept_ap_tab = np.where(bare, ho_c - hc_ap_tab * ARCMIN_PER_DEG, np.nan)
     j.judge("intercept_worked", intercept_expected, intercept_tab,
             also=(intercept_dr, intercept_dr_tab, intercept_ap_tab), only=on,
-            causes=(("toward away", -intercept_expected), ("toward away", -intercept_tab),
-                    ("toward away", -intercept_dr), ("toward away", -intercept_dr_tab)))
+            causes=(("toward away", -intercept_expected, intercept_expected), ("toward away", -intercept_tab, intercept_tab),
+                    ("toward away", -intercept_dr, intercept_dr), ("toward away", -intercept_dr_tab, intercept_dr_tab)))
     j.clear_cause("intercept_worked", np.abs(intercept_expected) <= TOLERANCES["intercept_worked"])  # no direction
     intercept_c = j.value("intercept_worked", intercept_expected)
     nearer_dr = bare & np.isfinite(intercept_dr) & (
@@ -271,7 +283,8 @@ def intercept_lines(j: Judge, sights: SightsToMark, on: np.ndarray, places: Plac
     intercept_c, nearer_dr = _intercept_line(j, on, undecided, ho_c, tables, hc_dr, hc_dr_tab, hc_ap_tab)
     from_dr = from_dr | nearer_dr
     way = np.where(from_dr, "from the DR by calculator",
-                   np.where(tables.own_tables | (by_tables & j.has("tab_z_worked")), "from an AP by the tables",
+                   np.where(tables.own_tables | (by_tables & (j.has("tab_z_worked") | j.has("z_interpolated_worked"))),
+                            "from an AP by the tables",
                             "from an AP"))
     nan = np.full(j.n, np.nan)
     return Lines(np.where(on, np.where(nearer_dr, lat_dr, lat_c), nan), np.where(on, np.where(nearer_dr, lon_dr, lon_c),
@@ -318,18 +331,29 @@ def latitude_lines(j: Judge, sights: SightsToMark, method: np.ndarray, sky_sha_d
     reduction_exact = (on_meridian - at_sight) * ARCMIN_PER_DEG
     # a reduction whose a is not written was worked from a read from the tables: it carries a's allowance
     slack = np.where(j.has("ex_meridian_a_worked"), 0.0, EX_MERIDIAN_A_SHARE * np.abs(np.nan_to_num(reduction_table)))
+    reduction_a_tab = np.round(a_exact, 1) * t_minutes**2 / 60.0
+    # the reduction is added: written negative (and added) or taken off, it was applied the wrong way; what
+    # it should be is what the cadet's own a gives
     j.judge("reduction_worked", np.where(ex_meridian, reduction_table, np.nan),
             np.where(ex_meridian, reduction_exact, np.nan),
-            also=(np.where(ex_meridian, np.round(a_exact, 1) * t_minutes**2 / 60.0, np.nan),),
-            tolerance=TOLERANCES["reduction_worked"] + slack, only=on)
+            also=(np.where(ex_meridian, reduction_a_tab, np.nan),),
+            tolerance=TOLERANCES["reduction_worked"] + slack, only=on,
+            causes=(("reduction sign", -reduction_table, reduction_table),
+                    ("reduction sign", -reduction_exact, reduction_table),
+                    ("reduction sign", -reduction_a_tab, reduction_table)))
     reduction_c = np.where(ex_meridian, j.value("reduction_worked", reduction_table), 0.0)
     meridian_altitude = ho_c + reduction_c
     j.judge("meridian_altitude_worked", np.where(meridian | ex_meridian, meridian_altitude, np.nan), only=on,
             causes=(("reduction sign", np.where(ex_meridian, ho_c - reduction_c, np.nan)),))
     meridian_altitude_c = j.value("meridian_altitude_worked", meridian_altitude)
 
-    # --- the zenith distance, named opposite to the bearing; latitude = Dec + zenith distance -----
-    name = np.where(lat_dr >= dec_c, 1.0, -1.0)  # the body bears south of a DR north of it: z named N
+    # --- the body's bearing, the zenith distance named opposite to it; latitude = Dec + zenith distance -----
+    bears_south = lat_dr >= dec_c  # the body bears south of a DR north of it
+    bearing = np.where(bears_south, 180.0, 0.0)
+    j.judge("bearing_worked", np.where(meridian | ex_meridian, bearing, np.nan), angle=True, only=on,
+            causes=(("bearing name", 180.0 - bearing),))
+    bearing_c = j.value("bearing_worked", bearing)  # the cadet's bearing names their zenith distance
+    name = np.where(np.abs(wrap_180(bearing_c - 180.0)) < 90.0, 1.0, -1.0)  # bearing south: z named N
     zenith = name * (90.0 * ARCMIN_PER_DEG - meridian_altitude_c)
     j.judge("zenith_distance_worked", np.where(meridian | ex_meridian, zenith, np.nan), only=on,
             causes=(("zenith name", -zenith),))

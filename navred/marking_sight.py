@@ -226,6 +226,7 @@ class Altitudes:
     ho_c: np.ndarray
     ho_exact_deg: np.ndarray
     ha_deg: np.ndarray
+    two_part: np.ndarray  # the Moon worked by its two-part table
 
 
 @dataclass
@@ -318,10 +319,16 @@ def _correction_lines(j: Judge, p: _Parts, kind: np.ndarray, ha_c: np.ndarray) -
     star = kind == "star"
     j.judge("parallax_worked", np.where(star, np.nan, p.parallax), np.where(star, np.nan, p.parallax_tab),
             causes=(("moon parallax", np.where(moon, 0.0, np.nan)),))
-    # the Moon's two-part table: the first correction at the standard HP, for the lower limb, at Ha
-    two_part = moon & (j.has("hp_corr_worked") | j.has("upper_limb_worked"))
+    # the Moon's two-part table: the first correction at the standard HP, for the lower limb, at Ha; a working
+    # that gives that first correction alone (not the whole correction) took the table and left out the rest
     first_part = moon_first_correction_arcmin(ha_c / ARCMIN_PER_DEG)
     main, main_tab = p.main, p.main_tab
+    main_given = np.asarray(j.given.get("main_worked", np.full(j.n, np.nan)), dtype=float)
+    within = TOLERANCES["main_worked"] + 1e-9
+    first_only = j.has("main_worked") & (np.minimum(np.abs(main_given - first_part),
+                                                    np.abs(main_given - tenth(first_part))) <= within) & \
+        ~(np.minimum(np.abs(main_given - main), np.abs(main_given - main_tab)) <= within)
+    two_part = moon & (j.has("hp_corr_worked") | j.has("upper_limb_worked") | first_only)
     j.judge("main_worked", np.where(two_part, first_part, main), np.where(two_part, tenth(first_part), main_tab),
             causes=(
                 ("sd sign", main - 2.0 * p.sd), ("sd sign", main_tab - 2.0 * p.sd_tab),
@@ -336,6 +343,9 @@ def _correction_lines(j: Judge, p: _Parts, kind: np.ndarray, ha_c: np.ndarray) -
     hp_tab = np.where(two_part, main_tab - main_c - upper_limb_c, np.nan)
     j.judge("hp_corr_worked", hp_exact, hp_tab, causes=(("sd sign", hp_exact - 2.0 * p.sd),
                                                        ("sd sign", hp_tab - 2.0 * p.sd_tab)))
+    # the table's second part left out where it adds more than its tolerance: the line is missing
+    j.missing("hp_corr_worked", two_part & (np.abs(np.nan_to_num(hp_exact)) > TOLERANCES["hp_corr_worked"]),
+              "moon parallax")
     j.judge("upper_limb_worked", np.where(two_part & p.upper, MOON_UPPER_LIMB_ARCMIN, np.nan))
     j.judge("additional_worked", np.where(kind == "planet", p.additional, np.nan))
     return _Moon(two_part, first_part, main_c, upper_limb_c)
@@ -382,7 +392,8 @@ def altitude_lines(j: Judge, sights: SightsToMark, sky: Sky, kind: np.ndarray, g
     ha_c = _apparent_altitude_lines(j, p)
     moon = _correction_lines(j, p, kind, ha_c)
     ho_c = _ho_line(j, p, kind, ha_c, moon)
-    return Altitudes(ho_c, np.asarray(p.working.ho_deg, dtype=float), np.asarray(p.working.ha_deg, dtype=float))
+    return Altitudes(ho_c, np.asarray(p.working.ho_deg, dtype=float), np.asarray(p.working.ha_deg, dtype=float),
+                     moon.two_part)
 
 
 def moon_first_correction_arcmin(ha_deg: np.ndarray) -> np.ndarray:

@@ -255,6 +255,7 @@ PLANTS = {
     "upper limb": ("intercept",),
     "toward away": ("intercept",),
     "zenith name": ("meridian", "ex-meridian"),
+    "bearing name": ("meridian", "ex-meridian"),
     "reduction sign": ("ex-meridian",),
     "polaris degree": ("polaris",),
     "amplitude name": ("amplitude",),
@@ -263,9 +264,12 @@ PLANTS = {
 }
 #: The plot's mistakes, made on a round's plotted fix (:func:`plotted_fix`).
 PLOT_PLANTS = ("plotted away", "plotted from dr")
-#: How a working is written, by method: which lines it gives and how it works them.
+#: How a working is written, by method: which lines it gives and how it works them ("z-line": Z interpolated for
+#: the minutes of Dec written in the only Z line; "z-interpolated": on a line of its own below the tabulated Z;
+#: besides these, "signed" is the full ex-meridian with a reduction taken off written negative and added).
 STYLES = {
-    "intercept": ("full", "main", "short", "minimal", "interpolated", "calculator", "dr", "dr-minimal", "two-part"),
+    "intercept": ("full", "main", "short", "minimal", "interpolated", "z-line", "z-interpolated", "calculator", "dr",
+                  "dr-minimal", "two-part"),
     "meridian": ("full", "minimal"), "ex-meridian": ("full", "minimal"), "polaris": ("full", "minimal"),
     "amplitude": ("full", "minimal"), "azimuth": ("full", "minimal"),
 }
@@ -417,15 +421,20 @@ def _intercept(lines: dict, sight: Sight, gha: float, dec: float, ho: float, pla
             lines["hc_correction_worked"] = -correction if plant == "hc d sign" else correction
             lines["hc_worked"] = lines["tab_hc_worked"] + lines["hc_correction_worked"] / 60.0
             z = lines["tab_z_worked"]
-            if zn_from == "interpolated":
+            if zn_from != "tabulated":  # Z interpolated for the minutes of Dec, from the next degree's Z
                 z1 = float(np.round(z_of(zn1, lat), 1))
                 z = float(np.round(z + (z1 - z) * minutes, 1))
+                if zn_from == "z-line":  # written in the only Z line
+                    lines["tab_z_worked"] = z
+                elif zn_from == "z-interpolated":  # written on a line of its own, below the tabulated Z
+                    lines["z_interpolated_worked"] = z
             lines["zn_worked"] = zn_rule(z, lat, lha, reversed_lha=plant == "zn rule")
     intercept = r1((ho - lines["hc_worked"]) * 60.0)
     lines["intercept_worked"] = -intercept if plant == "toward away" else intercept
 
 
-def _latitude(lines: dict, sight: Sight, gha: float, dec: float, ho: float, plant: str | None, ex: bool) -> None:
+def _latitude(lines: dict, sight: Sight, gha: float, dec: float, ho: float, plant: str | None, ex: bool,
+              signed: bool = False) -> None:
     """The meridian altitude (or the ex-meridian's reduction to it), the zenith distance and the latitude."""
     meridian = ho * 60.0
     if ex:
@@ -438,8 +447,14 @@ def _latitude(lines: dict, sight: Sight, gha: float, dec: float, ho: float, plan
         lines["reduction_worked"] = r1(a * t * t / 60.0)
         meridian = meridian - lines["reduction_worked"] if plant == "reduction sign" else \
             meridian + lines["reduction_worked"]
+        if plant == "reduction sign" and signed:  # written negative, as a correction taken off, and added
+            lines["reduction_worked"] = -lines["reduction_worked"]
         lines["meridian_altitude_worked"] = meridian / 60.0
-    name = 1.0 if sight.dr_lat > dec else -1.0  # the body bears south: the zenith distance is named north
+    bears_south = sight.dr_lat > dec  # the body's bearing at meridian passage (Bowditch ch. 20)
+    if plant == "bearing name":
+        bears_south = not bears_south
+    lines["bearing_worked"] = 180.0 if bears_south else 0.0
+    name = 1.0 if bears_south else -1.0  # the body bears south: the zenith distance is named north
     zenith = name * (90.0 * 60.0 - meridian)
     lines["zenith_distance_worked"] = (-zenith if plant == "zenith name" else zenith) / 60.0
     lines["latitude_worked"] = dec + lines["zenith_distance_worked"]
@@ -492,11 +507,12 @@ def work(ts, eph, sight: Sight, plant: str | None = None, style: str = "full") -
     ho = _altitude(ts, eph, lines, sight, a, kind, utc, plant, style == "two-part")
     if sight.method == "intercept":
         way = {"dr": "dr", "dr-minimal": "dr", "calculator": "calculator"}.get(style, "tables")
-        _intercept(lines, sight, gha, dec, ho, plant, way, "interpolated" if style == "interpolated" else "tabulated")
+        _intercept(lines, sight, gha, dec, ho, plant, way,
+                   style if style in ("interpolated", "z-line", "z-interpolated") else "tabulated")
     elif sight.method == "polaris":
         _polaris(lines, sight, a, gha, ho, plant)
     else:
-        _latitude(lines, sight, gha, dec, ho, plant, sight.method == "ex-meridian")
+        _latitude(lines, sight, gha, dec, ho, plant, sight.method == "ex-meridian", style == "signed")
     return _styled(lines, sight, style)
 
 
@@ -511,7 +527,8 @@ def _styled(lines: dict, sight: Sight, style: str) -> dict:
                 "zn_worked", "intercept_worked")
         return {k: v for k, v in lines.items() if k in keep}
     out = dict(lines)
-    if style in ("full", "interpolated", "calculator", "dr") and "hp_corr_worked" not in out:
+    if style in ("full", "interpolated", "z-line", "z-interpolated", "calculator", "dr", "signed") and \
+            "hp_corr_worked" not in out:
         out.pop("main_worked", None)
     elif style == "main":
         for k in ("refraction_worked", "sd_worked", "parallax_worked"):
@@ -550,6 +567,7 @@ def eligible(sight: Sight, right: dict, plant: str, style: str = "full") -> bool
         >= 0.05 if "gha_worked" in right else False,
         "lha sign": abs(sight.dr_lon) >= 0.5,
         "zenith name": abs(right.get("zenith_distance_worked", 0.0)) >= 0.5,
+        "bearing name": "bearing_worked" in right and abs(right.get("zenith_distance_worked", 0.0)) >= 0.5,
         "reduction sign": abs(right.get("reduction_worked", 0.0)) >= 0.3,
         "amplitude name": abs(right.get("amplitude_worked", 0.0)) >= 0.3,
         "error name": abs(right.get("compass_error_worked", 0.0)) >= 0.3,
@@ -868,8 +886,10 @@ def texts(lines: dict, rng: np.random.Generator | None = None, amplitude_side: s
             out[name] = dm(value, "lon")
         elif name in ("dec_worked", "dec_hour_worked", "zenith_distance_worked"):
             out[name] = dm(value, "dec")
-        elif name in ("zn_worked", "tab_z_worked"):
+        elif name in ("zn_worked", "tab_z_worked", "z_interpolated_worked"):
             out[name] = f"{value:.1f}"
+        elif name == "bearing_worked":
+            out[name] = "S" if value == 180.0 else "N"
         elif name == "amplitude_worked":
             out[name] = f"{amplitude_side} {abs(value):.1f} {'N' if value >= 0 else 'S'}".strip()
         elif name in ("compass_error_worked", "deviation_worked"):
@@ -961,7 +981,8 @@ def given_arrays(workings: list[dict]) -> dict:
 
 #: The invented class: three cadets of the invented training ship "Grey Shearwater" (she does not exist),
 #: hove to for a day's exercise, each working the morning stars, an amplitude at sunrise, a forenoon Sun,
-#: an ex-meridian and the noon Sun, an azimuth in the afternoon, Polaris and the evening stars; and the
+#: an ex-meridian and the noon Sun (crossed with the forenoon Sun as the noon round), an azimuth in the
+#: afternoon, Polaris and the evening stars; and the
 #: mistakes planted in their workings (working number -> the catalogue's key; "plot" plants on the round's
 #: plotted fix).
 CADETS = {"Cadet Ansel": {2: "zone sign", 10: "toward away"},
@@ -1029,14 +1050,15 @@ def demo_sights(ts, eph, seed: int = 1790):
 
     o = {"eye_m": 3.5, "in_feet": False, "ie": 1.2, "watch": 7}
     morning, evening = times["morning"], times["evening"]
-    plan = [  # (fix group, method, body, limb, UTC, style)
+    plan = [  # (the round, "" for a working on its own; method, body, limb, UTC, style): the forenoon Sun crossed
+        # with the noon latitudes, the stars of each twilight
         *[("06 Oct morning stars", "intercept", s, "", morning + 150 * k * SECOND_NS, style)
           for k, (s, style) in enumerate(zip(stars_up(morning, MORNING_STARS, 3), ("full", "calculator", "dr")))],
-        ("06 Oct sunrise", "amplitude", "Sun", "", times["sunrise"], "full"),
-        ("06 Oct forenoon Sun", "intercept", "Sun", "lower", times["noon"] - int(2.5 * HOUR_NS), "full"),
+        ("", "amplitude", "Sun", "", times["sunrise"], "full"),
+        ("06 Oct noon", "intercept", "Sun", "lower", times["noon"] - int(2.5 * HOUR_NS), "full"),
         ("06 Oct noon", "ex-meridian", "Sun", "lower", times["noon"] - 12 * 60 * SECOND_NS, "full"),
         ("06 Oct noon", "meridian", "Sun", "lower", times["noon"], "full"),
-        ("06 Oct afternoon", "azimuth", "Sun", "", times["noon"] + int(3.2 * HOUR_NS), "full"),
+        ("", "azimuth", "Sun", "", times["noon"] + int(3.2 * HOUR_NS), "full"),
         ("06 Oct evening stars", "polaris", "Polaris", "", evening, "full"),
         *[("06 Oct evening stars", "intercept", s, "", evening + 150 * (k + 1) * SECOND_NS, style)
           for k, (s, style) in enumerate(zip(stars_up(evening, EVENING_STARS, 2), ("full", "interpolated")))],
@@ -1081,7 +1103,7 @@ def make_class(ts, eph, seed: int = 1790):
                             "planted": plant})
     # each round of position lines: the fix the cadet plotted, on its last sight
     for (cadet, _group), members in rounds.items():
-        lines = [m[2] for m in members if m[1].method in ("intercept", "polaris")]
+        lines = [m[2] for m in members if m[1].method in ("intercept", "polaris", "meridian", "ex-meridian")]
         if len(lines) < 2 or not any(m[1].method == "intercept" for m in members):
             continue
         plant = next((m[3] for m in members if m[3] in PLOT_PLANTS), None)

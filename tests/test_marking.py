@@ -40,6 +40,7 @@ from navred.marking import (
     LINES,
     METHODS,
     ZONE_OR_DATE,
+    catalogue_cause,
     mark,
     tenth,
     z_from_zn,
@@ -98,7 +99,7 @@ def _correct(ts, eph, pools):
 
 def test_correct_workings_by_every_method_are_marked_right_and_nothing_is_noticed(ts, eph, pools, tmp_path):
     """Correct workings by every method (intercept from an AP by the tables with Z tabulated or interpolated,
-    by a calculator, from the DR; the Moon's one combined or two-part correction; the meridian altitude, the
+    the interpolated Z written in the one Z line or on its own line, by a calculator, from the DR; the Moon's one combined or two-part correction; the meridian altitude, the
     ex-meridian, Polaris, the amplitude and the azimuth; every line or only the required ones), read from
     hand-kept files: no line wrong, nothing noticed, the method told from the lines."""
     rows, sights, styles = _correct(ts, eph, pools)
@@ -128,10 +129,12 @@ def _named(cause: str, plant: str) -> bool:
 def _style_for(plant: str, method: str, rng) -> str:
     """A style in which the planted line is written (a two-part Moon for its own mistakes, some from the DR)."""
     if method != "intercept":
-        return "full"
+        # the reduction taken off: written positive and subtracted, or written negative and added
+        return str(rng.choice(["full", "signed"])) if plant == "reduction sign" else "full"
     return {"upper limb": "two-part", "moon parallax": str(rng.choice(["full", "main", "two-part"])),
             "sd sign": str(rng.choice(["full", "main"])), "lha sign": str(rng.choice(["full", "dr"])),
-            "zn rule": str(rng.choice(["full", "interpolated", "calculator"]))}.get(plant, "full")
+            "zn rule": str(rng.choice(["full", "interpolated", "z-line", "z-interpolated", "calculator"]))}.get(
+        plant, "full")
 
 
 def test_each_catalogued_mistake_is_named_on_its_line_in_each_method(ts, eph, pools):
@@ -182,7 +185,7 @@ def _round_workings(ts, eph, rounds, plant=None):
 def test_the_plotted_fix_is_judged_against_the_fix_of_the_cadets_own_lines(ts, eph):
     """Rounds of three stars (scripts/make_class_workings.py plots each round by its own least squares): a fix
     plotted from the lines is right; one plotted with an intercept laid off the wrong way, or a line from the
-    DR, is named, each in at least 95 % of rounds."""
+    DR, is named with the line it was made on ("your Sirius line"), each in at least 95 % of rounds."""
     def distinct(members):
         """Each slip moves the plotted fix 2.5 nm or more, from the right fix and from the other slip's fix."""
         lines = [hand.work(ts, eph, s, None, "full") for s in members]
@@ -202,7 +205,9 @@ def test_the_plotted_fix_is_judged_against_the_fix_of_the_cadets_own_lines(ts, e
             assert (marks.first_wrong_line == "").all() and (marks.noticed == "").all()
             assert max(f.apart_nm for f in marks.fixes) <= 1.0
         else:
-            named = marks.first_cause[last] == CAUSES[plant]
+            # the slip is planted on each round's first line (hand.plotted_fix's ``which``)
+            named = np.array([cause == f"{CAUSES[plant]} (your {r[0].body} line)"
+                              for cause, r in zip(marks.first_cause[last], rounds)])
             assert named.mean() >= 0.95, (plant, marks.first_wrong_line[last][~named], marks.first_cause[last][~named])
             assert set(marks.first_wrong_line[last]) <= {"fix_lat_worked", "fix_lon_worked"}
 
@@ -321,9 +326,15 @@ def _filled_pages(ts, eph, pools, path: Path) -> tuple[list[dict], list]:
 
     write_template(path)
     book = load_workbook(path)
-    chosen = {"Intercept": [(s, st) for s, st in zip(pools["intercept"][:3], ("full", "dr", "calculator"))]
-              + [(pools["moon"][0], "two-part")],
-              "Noon": [(pools["meridian"][0], "full"), (pools["ex-meridian"][0], "full")],
+    def first(pool, kind, skip=0):
+        return [s for s in pools[pool] if hand.kind_of(s.body) == kind and not s.eye_in_feet][skip]
+
+    # the intercept method a page per kind of body, each working by another way
+    chosen = {"Sun": [(first("intercept", "sun"), "full")],
+              "Stars": [(first("intercept", "star"), "dr"), (first("intercept", "star", 1), "z-interpolated")],
+              "Planets": [(first("intercept", "planet"), "calculator")],
+              "Moon": [(pools["moon"][0], "two-part")],
+              "Noon": [(first("meridian", "sun"), "full"), (first("ex-meridian", "sun"), "full")],
               "Polaris": [(pools["polaris"][0], "full")],
               "Compass": [(pools["amplitude"][0], "full"), (pools["azimuth"][0], "full")]}
     rows, order = [], []
@@ -364,7 +375,7 @@ def test_the_sight_book_template_read_back_gives_the_marks_of_the_table_form(ts,
     rows, _ = _filled_pages(ts, eph, pools, tmp_path / "book.xlsx")
     pages = mark_workings(tmp_path / "book.xlsx")
     table = mark_workings(pd.DataFrame(rows))
-    assert len(pages.rows) == len(rows) == 9
+    assert len(pages.rows) == len(rows) == 10
     assert (pages.rows.verdict == "right").all(), pages.rows[["row", "way", "first_wrong_line", "cause"]]
     key = ["method", "body", "utc", "verdict", "first_wrong_line"]
     left = pages.rows.sort_values(["method", "utc"])[key].reset_index(drop=True)
@@ -381,12 +392,19 @@ def test_the_sight_book_template_read_back_gives_the_marks_of_the_table_form(ts,
     common = both[both._merge == "both"]
     assert (common.verdict_page == common.verdict_table).all() and (common.expected_page ==
                                                                      common.expected_table).all()
-    assert set(pages.rows.remarks) == {"seen Intercept", "seen Noon", "seen Polaris", "seen Compass"}
+    assert set(pages.rows.remarks) == {f"seen {page}" for page in ("Sun", "Stars", "Planets", "Moon", "Noon", "Polaris",
+                                                                  "Compass")}
     assert pages.lines.sheet_row.notna().all()  # each line's own row on the page
+    from navred.jobs.workings import describe
+
+    # a page's working is cited by its sheet (the page) and row, on the screen and the printed page
+    assert all(describe(r).startswith(f"Cadet Test, sheet '{r['remarks'][5:]}', row {r['row']}, ")
+               for r in pages.rows.to_dict("records"))
     # the template: a sight-book page, down the page in the order of a hand reduction, in the trade's words
     book = load_workbook(tmp_path / "book.xlsx")
-    assert {"Intercept", "Noon", "Polaris", "Compass", "How to fill it in"} <= set(book.sheetnames)
-    labels = [str(c.value) for c in book["Intercept"]["A"] if c.value]
+    assert {"Sun", "Moon", "Stars", "Planets", "Noon", "Polaris", "Compass", "How to fill it in"} <= set(
+        book.sheetnames)
+    labels = [str(c.value) for c in book["Sun"]["A"] if c.value]
     for earlier, later in (("UTC", "GHA increment"), ("GHA increment", "Ho"), ("Ho", "LHA"), ("LHA", "Zn"),
                            ("Zn", "Intercept")):
         assert labels.index(earlier) < labels.index(later)
@@ -676,7 +694,8 @@ def test_the_sample_class_is_marked_as_planted():
     marked = report.rows.set_index(["cadet", "row"])
     for item in planted.itertuples():
         row = marked.loc[(item.cadet, item.row)]
-        assert row.verdict == "wrong" and row.cause == CAUSES[item.planted], (item, row.cause, row.first_wrong_line)
+        assert row.verdict == "wrong" and catalogue_cause(row.cause) == CAUSES[item.planted], (
+            item, row.cause, row.first_wrong_line)
     others = report.rows[~report.rows.set_index(["cadet", "row"]).index.isin(
         list(zip(planted.cadet, planted.row)))]
     # the plot's mistake shows on the round's last sight; its other sights and every other working are right
@@ -723,8 +742,8 @@ def test_a_sight_book_with_some_pages_empty_is_read_and_an_empty_one_refused(ts,
     with pytest.raises(NavredError, match="no working is filled in"):
         mark_workings(tmp_path / "empty.xlsx")
     book = load_workbook(tmp_path / "empty.xlsx")
-    sheet = book["Intercept"]
-    sight = [s for s in pools["intercept"] if not s.eye_in_feet][0]
+    sight = [s for s in pools["intercept"] if not s.eye_in_feet and hand.kind_of(s.body) == "star"][0]
+    sheet = book["Stars"]
     row = hand.log_row(sight, hand.work(ts, eph, sight, None, "full"))
     values = {"date": row["Date"], "zone_time": row["Watch time"], "zone_description": row["ZD"],
               "watch_error": row["Watch error"], "body": sight.body, "limb": sight.limb, "hs": row["Hs"],
@@ -740,3 +759,269 @@ def test_a_sight_book_with_some_pages_empty_is_read_and_an_empty_one_refused(ts,
     report = mark_workings(tmp_path / "one.xlsx")
     assert len(report.rows) == 1 and report.rows.verdict.iloc[0] == "right" and report.rejected.empty
     assert report.rows.cadet.iloc[0] == "one"  # no cadet written: the book's file names the cadet
+
+
+# --- an examiner's second trial: the rounds, the cost of a slip, Z, the reduction, the Moon, the plot, the pages ----
+
+def _moved(sight, degrees: float = 1.0):
+    """The sight with its DR moved north by ``degrees`` (the working right from that DR)."""
+    return hand.replace(sight, dr_lat=hand.written(sight.dr_lat + degrees))
+
+
+def _dawn(ts, eph):
+    """A round of three stars in morning twilight from one DR (scripts/make_class_workings.py, skyfield) and the
+    Sun's amplitude at sunrise from the same DR within the hour and a half after it (the centre on the celestial
+    horizon, skyfield), the DR of each moved 60 nm north (so that the round's lines cross far from it)."""
+    for members in hand.make_rounds(ts, eph, 80, seed=31):
+        first = _moved(members[0])
+        if first.eye_in_feet:
+            continue
+        now = hand.altitude_at(ts, eph, "Sun", first.utc_ns, first.dr_lat, first.dr_lon)
+        rate = (hand.altitude_at(ts, eph, "Sun", first.utc_ns + 600 * hand.SECOND_NS, first.dr_lat, first.dr_lon)
+                - now) / 600.0  # degrees a second: the Sun climbing, a morning round
+        if rate <= 0:
+            continue
+        sunrise = hand._altitude_zero(ts, eph, "Sun", first.utc_ns + int(-now / rate) * hand.SECOND_NS,
+                                      first.dr_lat, first.dr_lon)
+        if not 0 < sunrise - members[-1].utc_ns < 1.5 * hand.HOUR_NS:
+            continue
+        a = hand.sky_almanac(ts, eph, "Sun", sunrise)
+        zn = hand.hc_zn(first.dr_lat, (a["gha"][0] + first.dr_lon) % 360.0, a["dec"][0])[1]
+        amplitude = hand.replace(first, body="Sun", utc_ns=sunrise, hs_arcmin=float("nan"), method="amplitude",
+                                 compass_deg=round(((zn + 6.0 - 1.5) % 360.0) * 2) / 2, variation_deg=-6.0)
+        return [_moved(s) for s in members], amplitude
+    raise AssertionError("no morning round with sunrise soon after")
+
+
+def test_only_the_rounds_a_cadet_named_or_plotted_are_crossed_and_nothing_else_is_charged(ts, eph, tmp_path):
+    """Workings written with no round: a dawn round of three stars and the Sun's amplitude at sunrise, each from a
+    DR 60 nm out (skyfield's sky, scripts/make_class_workings.py). Unplotted, they are no round: no fix, no
+    working charged with where lines cross. Plotted (the fix on the last star), the stars are a round named by
+    its time, the amplitude outside it. Named as one round, the amplitude still gives no line and is not
+    charged: the star that closes the round is."""
+    stars, amplitude = _dawn(ts, eph)
+    lines = [hand.work(ts, eph, s, None, "full") for s in stars]
+    rows = [hand.log_row(s, w) for s, w in zip(stars, lines)]
+    rows.append(hand.log_row(amplitude, hand.work(ts, eph, amplitude, None, "full")))
+    loose = mark_workings(pd.DataFrame(rows))
+    assert loose.fixes.empty and not any("cross" in n for n in loose.rows.noticed), loose.rows.noticed.tolist()
+    fix = hand.plotted_fix(lines, None, 0, (stars[0].dr_lat, stars[0].dr_lon))
+    plotted = [dict(r) for r in rows]
+    plotted[2].update({"fix_lat_worked": hand.dm(fix[0], "lat"), "fix_lon_worked": hand.dm(fix[1], "lon")})
+    timed = mark_workings(pd.DataFrame(plotted))
+    assert len(timed.fixes) == 1 and timed.fixes.sights.iloc[0] == 3, timed.fixes
+    assert timed.fixes.fix_group.iloc[0].startswith("your sights from ")
+    assert "cross" in timed.rows.noticed.iloc[2] and "cross" not in timed.rows.noticed.iloc[3]
+    named = mark_workings(pd.DataFrame([{**r, "Fix group": "dawn"} for r in rows]))
+    assert len(named.fixes) == 1 and named.fixes.sights.iloc[0] == 3 and named.fixes.fix_group.iloc[0] == "dawn"
+    assert "cross" in named.rows.noticed.iloc[2] and "cross" not in named.rows.noticed.iloc[3]
+    assert (named.rows.verdict.iloc[:3] != "wrong").all() and named.rows.verdict.iloc[3] != "wrong"
+
+
+def _plane_line(lines: dict, dr: tuple[float, float]):
+    """A working's line on the plotting sheet about the DR (this test's own plane, the scale cos latitude): its
+    foot and its unit normal (toward the body), in nautical miles east and north."""
+    scale = np.cos(np.radians(dr[0]))
+    position = np.array([(lines["ap_lon"] - dr[1]) * 60.0 * scale, (lines["ap_lat"] - dr[0]) * 60.0])
+    normal = np.array([np.sin(np.radians(lines["zn_worked"])), np.cos(np.radians(lines["zn_worked"]))])
+    return position + lines["intercept_worked"] * normal, normal
+
+
+def test_a_slip_is_costed_by_what_it_does_to_the_plot_or_the_course(ts, eph, pools):
+    """A Zn slip turns the line: the cost is the angle (against the body's true Zn from the AP, skyfield) and the
+    farthest the line stands from the right working's line within 10 nm of the DR (this test's own plane). A
+    deviation slip is a course steered that far wrong (100 sin of it off the track in 100 miles). A zone slip's
+    cost agrees with how far the line is said to lie from the DR."""
+    def z_of(s):
+        return hand.work(ts, eph, s, None, "full").get("tab_z_worked", 0.0)
+
+    turned = [s for s in pools["intercept"] if 25.0 <= z_of(s) <= 65.0][:10]
+    sights = turned + [next(s for s in pools["azimuth"] if abs(s.variation_deg) >= 3.0),
+                       next(s for s in pools["intercept"] if abs(s.zd_h) >= 4 and not s.eye_in_feet)]
+    plants = ["zn rule"] * len(turned) + ["variation sign", "zone sign"]
+    workings = [hand.work(ts, eph, s, p, "full") for s, p in zip(sights, plants)]
+    marks = mark(hand.sights_to_mark(sights), hand.given_arrays(workings))
+    for k, sight in enumerate(turned):
+        right = hand.work(ts, eph, sight, None, "full")
+        a = hand.sky_almanac(ts, eph, sight.body, sight.utc_ns)
+        true_zn = hand.hc_zn(right["ap_lat"], (a["gha"][0] + right["ap_lon"]) % 360.0, a["dec"][0])[1]
+        assert abs(hand.wrap180(workings[k]["zn_worked"] - true_zn - marks.cost_deg[k])) < 0.2, (k, marks.cost_deg[k])
+        dr = (sight.dr_lat, sight.dr_lon)
+        (right_foot, right_n), (foot, normal) = _plane_line(right, dr), _plane_line(workings[k], dr)
+        nearest = right_n * (right_foot @ right_n)  # the right line's point nearest the DR
+        along = np.array([right_n[1], -right_n[0]])
+        facing = 1.0 if normal @ right_n >= 0 else -1.0
+        expected = max(((foot - (nearest + s * along)) @ normal * facing for s in (-10.0, 0.0, 10.0)), key=abs)
+        assert abs(marks.cost_nm[k] - expected) < 1.0, (k, marks.cost_nm[k], expected)
+    azimuth = len(turned)
+    variation = sights[azimuth].variation_deg
+    assert abs(abs(marks.cost_deg[azimuth]) - 2.0 * abs(variation)) < 0.15, marks.cost_deg[azimuth]
+    assert abs(marks.cost_nm[azimuth] - 100.0 * np.sin(np.radians(2.0 * abs(variation)))) < 0.3
+    zone = azimuth + 1
+    said = float(marks.noticed[zone].split("your position line lies ")[1].split(" nm")[0].replace(",", ""))
+    assert abs(abs(marks.cost_nm[zone]) - said) < 20.0, (marks.cost_nm[zone], said)
+
+
+def test_z_interpolated_is_right_in_the_z_line_or_on_its_own_and_a_later_slip_still_shows(ts, eph, pools):
+    """Z interpolated for the minutes of Dec (scripts/make_class_workings.py, skyfield's sky) written in the only
+    Z line, or on its own line below the tabulated Z: right, Zn from it right; a later slip (TOWARD and AWAY
+    swapped) is still the one named."""
+    sights = [s for s in pools["intercept"] if "tab_z_worked" in hand.work(ts, eph, s, None, "full")][:24]
+    moved = [abs(hand.work(ts, eph, s, None, "z-line")["tab_z_worked"] - hand.work(ts, eph, s)["tab_z_worked"])
+             for s in sights]
+    assert sum(m >= 0.2 for m in moved) >= 6  # the interpolated Z is not the tabulated one
+    swapped = [s for s in sights if hand.eligible(s, hand.work(ts, eph, s, None, "z-line"), "toward away", "z-line")]
+    workings = [hand.work(ts, eph, s, None, "z-line") for s in sights]
+    workings += [hand.work(ts, eph, s, "toward away", "z-line") for s in swapped]
+    marks = mark(hand.sights_to_mark(sights + swapped), hand.given_arrays(workings))
+    right = len(sights)
+    assert (marks.first_wrong_line[:right] == "").all(), marks.first_wrong_line[:right]
+    assert (marks.first_wrong_line[right:] == "intercept_worked").all()
+    assert (marks.first_cause[right:] == CAUSES["toward away"]).all()
+    assert "z_interpolated_worked" in LINES and LINE_NAMES["z_interpolated_worked"] == "Z interpolated"
+    own_line = [hand.work(ts, eph, s, None, "z-interpolated") for s in sights]
+    marks = mark(hand.sights_to_mark(sights), hand.given_arrays(own_line))
+    assert (marks.first_wrong_line == "").all(), marks.first_wrong_line
+    assert (marks.verdict[:, LINES.index("z_interpolated_worked")] == "right").all()
+
+
+def test_a_reduction_taken_off_is_named_on_its_line_however_it_is_signed(ts, eph, pools):
+    """The reduction to the meridian written negative and added (signed as the sight book asks, the sign wrong),
+    with the cadet's a and without it: named on the reduction's line, and what it should be is what the cadet's
+    own a gives, a t² (t in minutes of time from the cadet's LHA; Bowditch, reduction to the meridian)."""
+    sights = [s for s in pools["ex-meridian"]
+              if hand.eligible(s, hand.work(ts, eph, s), "reduction sign")][:20]
+    # (the body's bearing left out, as the sight book had no line for it)
+    signed = [{k: v for k, v in hand.work(ts, eph, s, "reduction sign", "signed").items() if k != "bearing_worked"}
+              for s in sights]
+    without_a = [{k: v for k, v in w.items() if k != "ex_meridian_a_worked"} for w in signed]
+    marks = mark(hand.sights_to_mark(sights * 2), hand.given_arrays(signed + without_a))
+    assert (marks.first_wrong_line == "reduction_worked").all(), marks.first_wrong_line
+    assert (marks.first_cause == CAUSES["reduction sign"]).all(), marks.first_cause
+    own = np.array([w["ex_meridian_a_worked"] * (abs(hand.wrap180(w["lha_worked"])) * 4.0) ** 2 / 60.0
+                    for w in signed])
+    assert np.allclose(marks.expected["reduction_worked"][:len(sights)], own, atol=0.05)
+
+
+def test_the_moons_first_correction_alone_is_the_two_part_table_with_its_hp_correction_missing(ts, eph, pools):
+    """The Moon worked by its two-part table with the HP correction left out (the first correction right, Ho
+    short by the HP correction; scripts/make_class_workings.py from skyfield's distance): the working is the
+    two-part table's, the first correction right, and the missing line is the HP correction, with its value."""
+    sights = [s for s in pools["moon"] if s.limb == "lower" and
+              hand.eligible(s, hand.work(ts, eph, s, None, "two-part"), "moon parallax", "two-part")][:20]
+    assert len(sights) >= 10
+    workings = [hand.work(ts, eph, s, "moon parallax", "two-part") for s in sights]
+    assert not any("hp_corr_worked" in w or "upper_limb_worked" in w for w in workings)
+    marks = mark(hand.sights_to_mark(sights), hand.given_arrays(workings))
+    assert (marks.first_wrong_line == "hp_corr_worked").all(), marks.first_wrong_line
+    assert (marks.first_cause == CAUSES["moon parallax"]).all()
+    assert (marks.verdict[:, LINES.index("main_worked")] == "right").all()
+    right = np.array([hand.work(ts, eph, s, None, "two-part")["hp_corr_worked"] for s in sights])
+    assert np.allclose(marks.expected["hp_corr_worked"], right, atol=0.3)
+    assert all("two-part table" in w for w in marks.way)
+
+
+def _overruns(pdf: Path) -> list:
+    """Text printed past the page's right edge: each run's start (pypdf) plus its width in the font it is set in
+    (reportlab's metrics of the same DejaVu fonts)."""
+    from pypdf import PdfReader
+    from reportlab.pdfbase import pdfmetrics
+
+    from navred.io.printed import _FONTS
+
+    for name, file in _FONTS.values():
+        if name not in pdfmetrics.getRegisteredFontNames():
+            import matplotlib
+            from reportlab.pdfbase.ttfonts import TTFont
+
+            pdfmetrics.registerFont(TTFont(name, str(Path(matplotlib.get_data_path()) / "fonts" / "ttf" / file)))
+    out = []
+    for number, page in enumerate(PdfReader(str(pdf)).pages, start=1):
+        width = float(page.mediabox.width)
+
+        def visit(text, cm, tm, font, size, number=number, width=width):
+            base = str((font or {}).get("/BaseFont", ""))
+            name = _FONTS["bold" if "Bold" in base else "mono" if "Mono" in base else
+                          "italic" if "Oblique" in base else "regular"][0]
+            right = tm[4] * cm[0] + cm[4] + pdfmetrics.stringWidth(text.rstrip("\n"), name, size * tm[0] * cm[0])
+            if text.strip() and right > width:
+                out.append((number, text[:50]))
+
+        page.extract_text(visitor_text=visit)
+    return out
+
+
+def test_the_printed_sight_book_and_the_workbook_read_as_a_cadet_reads(ts, eph, pools, tmp_path):
+    """A cadet's workings with many different slips (skyfield's sky, scripts/make_class_workings.py): Z is written
+    as an azimuth angle named from the elevated pole ("N 79.3° E"); an LHA 92° out is out by degrees and minutes
+    in the workbook; the progress is by the ship's date (a sight whose UTC is the next day's counts on the zone
+    date written); a day with every catalogued slip wraps within the page; every page is headed with the
+    workings' dates, not "valid"; no notice carries "(common practice)"."""
+    from openpyxl import load_workbook
+    from pypdf import PdfReader
+
+    day = [s for s in pools["intercept"] if "tab_z_worked" in hand.work(ts, eph, s) and not s.eye_in_feet]
+    plants = ["zone sign", "increment", "dip added", "index on off", "toward away", "hc d sign", "zn rule",
+              "ap lat", "watch error", None]
+    chosen = []
+    for plant in plants:
+        chosen.append(next(s for s in day if s not in chosen and (plant is not None or s.crosses_midnight) and
+                           (plant is None or hand.eligible(s, hand.work(ts, eph, s), plant))))
+    rows = [hand.log_row(s, hand.work(ts, eph, s, p, "full"), Observer="Cadet Tern") for s, p in zip(chosen, plants)]
+    z_row, lha_row = rows[-1], dict(rows[-1])
+    z_row["tab_z_worked"] = f"{float(z_row['tab_z_worked']) + 1.0:.1f}"  # 1° out
+    lha_row["lha_worked"] = str((int(lha_row["lha_worked"]) + 92) % 360)  # 92° out
+    report = mark_workings(pd.DataFrame(rows[:-1] + [z_row, lha_row]))
+    # Z named from the elevated pole (the AP's latitude) toward the body's side (east when LHA is over 180°)
+    working = hand.work(ts, eph, chosen[-1])
+    z = report.rows.iloc[-2]
+    assert z.first_wrong_line == "tab_z_worked"
+    assert z.expected == (f"{'N' if working['ap_lat'] >= 0 else 'S'} {working['tab_z_worked']:.1f}° "
+                          f"{'E' if working['lha_worked'] % 360 > 180 else 'W'}"), z.expected
+    assert report.rows.iloc[-1].first_wrong_line == "lha_worked"
+    assert not any("common practice" in n for n in report.rows.noticed)
+    # the ship's date: the date written with the zone time, whatever the UTC's date
+    zone_dates = [s.zone_time.strftime("%Y-%m-%d") for s in chosen] + [chosen[-1].zone_time.strftime("%Y-%m-%d")]
+    assert report.rows.date.tolist() == zone_dates
+    assert set(report.progress.date) == set(zone_dates)
+    assert chosen[-1].utc.strftime("%Y-%m-%d") not in set(report.progress.date[report.progress.workings == 2])
+    book = load_workbook(write_marking_workbook(report, tmp_path / "marks.xlsx"))
+    sheet = book["Marks Cadet Tern"]
+    header = [c.value for c in sheet[1]]
+    lha = [r for r in sheet.iter_rows(min_row=2, values_only=True) if r[header.index("first wrong line")] == "LHA"]
+    assert lha and "°" in lha[0][header.index("out by")] and "′" in lha[0][header.index("out by")], lha
+    # a day on which every catalogued slip was made: its list is longer than a line of the page
+    report.progress.loc[0, "mistakes"] = "; ".join(f"{cause} (1)" for cause in CAUSES.values())
+    pdf = write_marking_pdf(report, tmp_path / "marks.pdf")
+    assert _overruns(pdf) == []
+    heads = [page.extract_text().splitlines()[0] for page in PdfReader(str(pdf)).pages]
+    assert all("workings of" in h and "valid" not in h for h in heads), heads
+
+
+def test_the_sight_books_pages_hold_each_bodys_lines_and_their_own_notes(tmp_path):
+    """The template: the intercept method a page per kind of body with only the lines it takes, Z interpolated on
+    its own line, the body's bearing at meridian passage on the noon page, and no page's notes speaking of
+    another page's body or method."""
+    from openpyxl import load_workbook
+
+    book = load_workbook(write_template(tmp_path / "blank.xlsx"))
+
+    def page(title):
+        sheet = book[title]
+        return ([str(r[0]) for r in sheet.iter_rows(values_only=True) if r[0]],
+                " ".join(str(r[2]) for r in sheet.iter_rows(values_only=True) if r[2]))
+
+    labels, notes = page("Stars")
+    assert "Z interpolated" in labels and "Tabulated Z" in labels
+    for other in ("v correction", "Semi-diameter", "HP correction", "Upper limb −30′", "Limb"):
+        assert other not in labels, other
+    for title, foreign in (("Polaris", ("Moon", "Venus")), ("Compass", ("Polaris", "Moon")),
+                           ("Stars", ("Moon", "Polaris")), ("Sun", ("Moon", "Aries", "Polaris")),
+                           ("Noon", ("Polaris", "Aries"))):
+        _, notes = page(title)
+        assert not any(word in notes for word in foreign), (title, [w for w in foreign if w in notes])
+    labels, _ = page("Noon")
+    assert labels.index("Meridian altitude") < labels.index("Bearing at meridian passage") < labels.index(
+        "Zenith distance")
+    labels, _ = page("Moon")
+    assert {"First correction", "HP correction", "Upper limb −30′"} <= set(labels)

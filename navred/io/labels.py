@@ -2,7 +2,8 @@
 console, beside the snake_case names (with units) of the library's tables and of ``--csv``.
 
 A table is labelled only where it is shown (a workbook sheet, a PDF): :func:`labelled` renames the
-columns it knows and leaves the others as they are. One entry per column name, whichever table holds it.
+columns it knows and leaves the others as they are. One entry per column name, whichever table holds it (a
+class's marking speaks to cadets in words of its own: :data:`navred.io.markingbook.SHEET_LABELS`).
 """
 
 from __future__ import annotations
@@ -34,22 +35,6 @@ LABELS = {
     # a timepiece's comparisons (navred.io.timesignals)
     "signal_utc": "signal (UTC)", "zone_description_h": "zone (h)", "error_s": "error (s, fast +)",
     "residual_s": "residual (s)",
-    # a class's marking (navred.jobs.workings, its workbook navred.io.markingbook)
-    "source": "file", "row": "row", "cadet": "cadet", "body": "body", "method": "method", "way": "worked",
-    "verdict": "verdict", "first_wrong_line_name": "first wrong line", "cause": "probable cause",
-    "given": "you wrote", "expected": "it should be", "difference": "out by", "unit": "unit",
-    "cost_nm": "the slip costs (nm)", "cost_deg": "compass error out (°)", "noticed": "should have been noticed",
-    "remarks": "instructor's remarks", "lines_given": "lines given", "lines_wrong": "lines wrong",
-    "error_vs_track_arcmin": "error against the track (′)", "line_name": "line", "sheet_row": "sheet row",
-    "expected_from_tables": "from the tables", "tolerance": "right within", "sights": "sights",
-    "no_mistake": "no mistake", "no_mistake_pct": "no mistake (%)", "commonest_cause": "commonest cause",
-    "cadets": "cadets", "lines": "lines", "fix_from_your_lines": "fix from your lines",
-    "your_plotted_fix": "your plotted fix",
-    "plotted_apart_nm": "plotted fix off (nm)", "from_dr_nm": "from the DR (nm)", "note": "note",
-    "navred_fix": "navred's fix", "navred_fix_lat_deg": "navred's fix lat (deg)",
-    "navred_fix_lon_deg": "navred's fix lon (deg)", "navred_apart_nm": "navred's fix off (nm)",
-    "reference_position": "reference position", "date": "date", "workings": "workings", "mistakes": "mistakes",
-    "column": "column", "value": "value", "reason": "reason", "line": "line",
 }
 
 

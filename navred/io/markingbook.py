@@ -17,26 +17,44 @@ from pathlib import Path
 import pandas as pd
 
 from ..marking import LINE_NAMES, LINES, TOLERANCES, UNITS
-from .labels import LABELS
-from .labels import labelled as labelled_columns
+from .markingwords import difference_text
 from .sightbook import (
     BLOCKS_PER_PAGE,
     COMPASS_SIGHT_LINES,
+    HINTS,
     PAGE_HEADER,
     PAGES,
     REMARKS_LINE,
     SIGHT_LINES,
+    SightBookPage,
 )
 from .workings import WORKED_FORMS
 
 #: The words each table's column is shown under on a sheet (the library's tables keep snake_case names).
-#: the marking's columns in words: the one table of display labels (navred.io.labels)
-SHEET_LABELS = LABELS
+SHEET_LABELS = {
+    "source": "file", "row": "row", "cadet": "cadet", "body": "body", "utc": "UTC", "method": "method", "way": "worked",
+    "verdict": "verdict", "first_wrong_line_name": "first wrong line", "cause": "probable cause",
+    "given": "you wrote", "expected": "it should be", "difference": "out by", "unit": "unit",
+    "cost_nm": "the slip costs (nm)", "cost_deg": "line turned, or course out (°)",
+    "noticed": "should have been noticed",
+    "remarks": "instructor's remarks", "lines_given": "lines given", "lines_wrong": "lines wrong",
+    "error_vs_track_arcmin": "error against the track (′)", "line_name": "line", "sheet_row": "sheet row",
+    "expected_from_tables": "from the tables", "tolerance": "right within", "sights": "sights",
+    "no_mistake": "no mistake", "no_mistake_pct": "no mistake (%)", "commonest_cause": "commonest cause",
+    "cadets": "cadets", "fix_group": "round", "lines": "lines", "fix_from_your_lines": "fix from your lines",
+    "fix_lat_deg": "fix lat (deg)", "fix_lon_deg": "fix lon (deg)", "your_plotted_fix": "your plotted fix",
+    "plotted_apart_nm": "plotted fix off (nm)", "from_dr_nm": "from the DR (nm)", "note": "note",
+    "navred_fix": "navred's fix", "navred_fix_lat_deg": "navred's fix lat (deg)",
+    "navred_fix_lon_deg": "navred's fix lon (deg)", "navred_apart_nm": "navred's fix off (nm)",
+    "reference_position": "reference position", "date": "ship's date", "workings": "workings", "mistakes": "mistakes",
+    "column": "column", "value": "value", "reason": "reason", "line": "line",
+}
 
 
 def labelled(frame: pd.DataFrame, drop: tuple[str, ...] = ()) -> pd.DataFrame:
     """A table with its columns in words (:data:`SHEET_LABELS`), the identifier columns left out."""
-    return labelled_columns(frame.drop(columns=[c for c in drop if c in frame.columns]))
+    kept = frame.drop(columns=[c for c in drop if c in frame.columns])
+    return kept.rename(columns={c: SHEET_LABELS.get(c, c) for c in kept.columns})
 
 
 def _sheet_name(name: str, taken: set[str]) -> str:
@@ -46,6 +64,17 @@ def _sheet_name(name: str, taken: set[str]) -> str:
         candidate, k = f"Marks {base[:20]} {k}", k + 1
     taken.add(candidate.lower())
     return candidate
+
+
+def _unit(unit: str) -> str:
+    return unit if unit in ("′", "°", "″") else f" {unit}"
+
+
+def _out_by(frame: pd.DataFrame, line_column: str) -> pd.DataFrame:
+    """The table with its difference written in words for a reader ("+1° 32.2′", "6 h 00 min 00 s early"): a
+    sheet shows it as text, the CSV keeps the number and its unit."""
+    return frame.assign(difference=[difference_text(line, d) if line else ""
+                                    for line, d in zip(frame[line_column], frame["difference"])])
 
 
 def write_marking_workbook(report, path: str | Path) -> Path:
@@ -71,8 +100,10 @@ def write_marking_workbook(report, path: str | Path) -> Path:
         _, what, _ = WORKED_FORMS[name]
         about.cell(row=line, column=1, value=LINE_NAMES[name])
         unit = UNITS[name] if UNITS[name] in ("′", "°", "″") else f" {UNITS[name]}"
-        about.cell(row=line, column=2, value=f"{what}: right within {TOLERANCES[name]:g}{unit} of the exact value "
-                                             "or of the printed tables' (docs/marking.md)")
+        judged = ("right when named as the body bears (docs/marking.md)" if name == "bearing_worked" else
+                  f"right within {TOLERANCES[name]:g}{unit} of the exact value or of the printed tables' "
+                  "(docs/marking.md)")
+        about.cell(row=line, column=2, value=f"{what}: {judged}")
     about.column_dimensions["A"].width = 38
     about.column_dimensions["B"].width = 110
     write_table_sheet(tables, book.create_sheet("Class"), labelled(report.by_cadet))
@@ -86,10 +117,11 @@ def write_marking_workbook(report, path: str | Path) -> Path:
     for cadet, part in report.lines.groupby("cadet", sort=True):
         sheet = book.create_sheet(_sheet_name(cadet, taken))
         rows = report.rows[report.rows.cadet == cadet]
-        shown = labelled(rows, drop=("cadet", "first_wrong_line", "method"))
+        shown = labelled(_out_by(rows, "first_wrong_line"), drop=("cadet", "first_wrong_line", "method", "unit"))
         write_table_sheet(tables, sheet, shown, wide={"probable cause": 50, "should have been noticed": 60,
                                                       "instructor's remarks": 40, "worked": 36})
-        write_table_sheet(tables, sheet, labelled(part, drop=("cadet", "line")), first_row=len(rows) + 4,
+        lines = _out_by(part, "line").assign(tolerance=[f"{t:g}{_unit(u)}" for t, u in zip(part.tolerance, part.unit)])
+        write_table_sheet(tables, sheet, labelled(lines, drop=("cadet", "line", "unit")), first_row=len(rows) + 4,
                           wide={"probable cause": 50})
     rejected = report.rejected
     if len(report.workings.unreadable):
@@ -122,7 +154,18 @@ def _template_lists(book) -> dict:
     return {name: (letter, len(values)) for (name, values), letter in zip(words.items(), "ABCD")}
 
 
-def _template_page(book, title: str, method: str, sections, own: dict, lists: dict) -> None:
+def hint(page: SightBookPage, key: str) -> str:
+    """The note beside a line on a page: the page's own, else the sight book's (:data:`HINTS`), else the
+    line's general note (:data:`navred.io.workings.WORKED_FORMS`)."""
+    if key in page.hints:
+        return page.hints[key]
+    if key in HINTS:
+        return HINTS[key]
+    _, what, example = WORKED_FORMS[key]
+    return f"{what}: {example}"
+
+
+def _template_page(book, title: str, page: SightBookPage, lists: dict) -> None:
     """A page of the sight book: :data:`BLOCKS_PER_PAGE` workings down the sheet, one printed page each."""
     from openpyxl.styles import Alignment, Font, PatternFill
     from openpyxl.worksheet.datavalidation import DataValidation
@@ -139,10 +182,8 @@ def _template_page(book, title: str, method: str, sections, own: dict, lists: di
     rules = {name: DataValidation(type="list", formula1=f"=Lists!${letter}$1:${letter}${count}", allow_blank=True,
                                   showErrorMessage=True, errorTitle="navred", error=f"choose a {name} from the list")
              for name, (letter, count) in lists.items()}
-    # a compass check takes no altitude; Polaris has no limb
-    left_out = {"amplitude": ("limb", "hs", "index_error", "eye_height_m", "horizon"), "polaris": ("limb",)}
-    sight = [line for line in SIGHT_LINES if line[1] not in left_out.get(method, ())] + (
-        list(COMPASS_SIGHT_LINES) if method == "amplitude" else [])
+    sight = [line for line in SIGHT_LINES if line[1] not in page.leaves_out] + (
+        list(COMPASS_SIGHT_LINES) if page.method == "amplitude" else [])
     row = 2
     for block in range(1, BLOCKS_PER_PAGE + 1):
         sheet.cell(row=row, column=1, value=f"Working {block}").font = Font(bold=True, size=12)
@@ -150,21 +191,20 @@ def _template_page(book, title: str, method: str, sections, own: dict, lists: di
         for label, key, note in sight:
             sheet.cell(row=row, column=1, value=label)
             sheet.cell(row=row, column=3, value=note).font = grey
-            prefilled = {"method": method, "body": "Polaris" if method == "polaris" else None}.get(key)
+            prefilled = {"method": page.method, "body": page.body or None}.get(key)
             if prefilled:
                 sheet.cell(row=row, column=2, value=prefilled)
             if key in rules:
                 rules[key].add(f"B{row}")
             row += 1
-        for section, keys in sections:
+        for section, keys in page.sections:
             sheet.cell(row=row, column=1, value=section).font = Font(bold=True)
             for k in (1, 2, 3):
                 sheet.cell(row=row, column=k).fill = shade
             row += 1
             for key in keys:
-                _, what, example = WORKED_FORMS[key]
-                sheet.cell(row=row, column=1, value=own.get(key, LINE_NAMES[key]))
-                sheet.cell(row=row, column=3, value=f"{what}: {example}").font = grey
+                sheet.cell(row=row, column=1, value=page.labels.get(key, LINE_NAMES[key]))
+                sheet.cell(row=row, column=3, value=hint(page, key)).font = grey
                 row += 1
         sheet.cell(row=row, column=1, value=REMARKS_LINE[0]).font = Font(bold=True)
         sheet.cell(row=row, column=3, value=REMARKS_LINE[2]).font = grey
@@ -181,16 +221,20 @@ def _template_page(book, title: str, method: str, sections, own: dict, lists: di
 TEMPLATE_INSTRUCTIONS = (
     "Work each sight in a block of its page, down the page, as you would by hand: the sight, the time to UTC, "
     "the almanac, Hs to Ho, then the method's own lines. Fill what you wrote in your working; leave the rest.",
-    "Intercept: from an assumed position with the tables (AP, LHA, tabulated Hc, d and Z) or from the DR with a "
-    "calculator (write the DR as the position). Required: Ho, Zn and the intercept.",
+    "The intercept method has a page for each kind of body (Sun, Moon, Stars, Planets), each with only the lines "
+    "that body takes: from an assumed position with the tables (AP, LHA, tabulated Hc, d and Z, and Z "
+    "interpolated if you interpolate it) or from the DR with a calculator (write the DR as the position). "
+    "Required: Ho, Zn and the intercept.",
     "Noon: the latitude by meridian altitude (method meridian), or by ex-meridian (method ex-meridian, with the "
-    "LHA, a and the reduction). Required: Ho and the latitude.",
+    "LHA, a and the reduction); the body's bearing at meridian passage (N or S) names the zenith distance. "
+    "Required: Ho and the latitude.",
     "Polaris: LHA Aries and the Polaris correction (a0 + a1 + a2 − 1°). Required: Ho and the latitude.",
     "Compass: by amplitude at rising or setting (method amplitude) or by azimuth (method azimuth, with the LHA); "
     "the compass bearing and the variation. Required: the compass error.",
-    "The Moon: one combined main correction, or the two-part table (the main correction, then the HP correction, "
-    "and −30′ for the upper limb).",
-    "The fix you plotted: on the last sight of the round, with the same fix group on every sight of it.",
+    "The Moon: by its two-part table (the first correction, the HP correction, and −30′ for the upper limb), or "
+    "by calculator (refraction, semi-diameter and parallax).",
+    "A round: write the same words on the Round line of every sight you cross as one fix, and the fix you "
+    "plotted on the round's last sight. A sight in no round is marked on its own.",
     "The instructor writes remarks under each working; navred keeps them when it marks the book again.",
     "Each line's forms are beside it; docs/marking.md explains every line and how it is judged.",
 )
@@ -209,10 +253,11 @@ def write_template(path: str | Path) -> Path:
     book = Workbook()
     book.remove(book.active)
     lists = _template_lists(book)
-    for title, (method, sections, own) in PAGES.items():
-        _template_page(book, title, method, sections, own, lists)
+    for title, page in PAGES.items():
+        _template_page(book, title, page, lists)
     help_sheet = book.create_sheet("How to fill it in")
-    help_sheet["A1"] = "A sight book for navred mark: a page per method, one working per block."
+    help_sheet["A1"] = ("A sight book for navred mark: a page for each way of working (the intercept method by body, noon, "
+                        "Polaris, the compass check), one working per block.")
     help_sheet["A1"].font = Font(bold=True, size=13)
     for k, text in enumerate(TEMPLATE_INSTRUCTIONS, start=3):
         help_sheet.cell(row=k, column=1, value=text).alignment = Alignment(wrap_text=True)

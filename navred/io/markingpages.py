@@ -18,7 +18,15 @@ import numpy as np
 
 from ..errors import NavredError
 from .cautions import CAUTION
-from .markingwords import NOTICE_WORKING, RIGHT_WORKING, cost_text, describe, difference_text
+from .markingwords import (
+    NO_CATALOGUED_CAUSE,
+    NOTICE_WORKING,
+    RIGHT_WORKING,
+    cost_text,
+    describe,
+    difference_text,
+    where_text,
+)
 from .printed import Document, Page, Table, Text, pdf_bytes
 from .workings import source_name
 
@@ -41,7 +49,8 @@ def _front(report, cadet: str, part) -> list:
                             tuple((r["date"], str(r["workings"]), f"{r['no_mistake']} ({r['no_mistake_pct']:.0f} %)",
                                    str(r["noticed"]), r["mistakes"] or "none")
                                   for r in progress.to_dict("records")),
-                            title="Progress over the voyage", widths=(1.0, 0.8, 1.0, 0.7, 6.0), left_columns=5))
+                            title="Progress over the voyage (by the ship's date)", widths=(1.0, 0.8, 1.0, 0.7, 6.0),
+                            left_columns=5, wrap_columns=(4,)))
     personal = report.personal[report.personal.cadet == cadet] if len(report.personal) else report.personal
     if len(personal):
         p = personal.iloc[0]
@@ -53,7 +62,7 @@ def _front(report, cadet: str, part) -> list:
                         "horizon and the observer, not the working.")]
     fixes = report.fixes[report.fixes.cadet == cadet] if len(report.fixes) else report.fixes
     if len(fixes):
-        blocks.append(Text("Your fixes", "subheading"))
+        blocks.append(Text("Your rounds and fixes", "subheading"))
         for f in fixes.to_dict("records"):
             if f["note"]:
                 words = f"{f['fix_group']}: {f['note']}."
@@ -79,14 +88,15 @@ def _working(r: dict, lines) -> list:
         shown = x["verdict"]
         if shown == "wrong":
             off = difference_text(x["line"], x["difference"])
-            shown = f"wrong ({off})" if off else "wrong"
+            shown = "missing" if not x["given"] else f"wrong ({off})" if off else "wrong"
             notes.append(f"{x['line_name']}: " + (f"probable cause: {x['cause']}." if x["cause"] else
-                                                   "no catalogued mistake fits: check the line against what it "
-                                                   "should be."))
+                                                   NO_CATALOGUED_CAUSE))
         rows.append((x["line_name"], x["given"], x["expected"] if x["verdict"] != "right" else "", shown))
     # the working's heading is its table's title, kept on the page with it
-    blocks: list = [Table(LINES_COLUMNS, tuple(rows), title=f"Row {r['row']}: {r['body']}, {r['utc']} UTC; {r['way']}; "
-                          f"{verdict}", widths=(3.2, 2.2, 2.2, 2.6), left_columns=4, compact=True)]
+    where = where_text(r)
+    blocks: list = [Table(LINES_COLUMNS, tuple(rows), title=f"{where[0].upper()}{where[1:]}: {r['body']}, {r['utc']} "
+                          f"UTC; {r['way']}; {verdict}", widths=(3.2, 2.2, 2.2, 2.6), left_columns=4, compact=True,
+                          wrap_columns=(0, 1, 2, 3))]
     blocks += [Text(note) for note in notes]
     cost = cost_text(r["method"], r.get("cost_nm", np.nan), r.get("cost_deg", np.nan), r["first_wrong_line"])
     if cost:
@@ -110,11 +120,11 @@ def marking_document(report) -> Document:
         pages.append(Page(f"Sight book: {cadet}, every working", tuple(blocks)))
     if not pages:
         raise NavredError("no working was marked: nothing to print")
-    dates = sorted(set(report.rows.utc.str[:10])) if len(report.rows) else []
-    valid = f"{dates[0]} to {dates[-1]}" if len(dates) > 1 else (dates[0] if dates else "")
+    dates = sorted(set(report.rows.date)) if len(report.rows) else []
+    span = f"{dates[0]} to {dates[-1]}" if len(dates) > 1 else (dates[0] if dates else "")
     provenance = ("navred mark: an aid to instruction; the examiner's judgement, the official almanac and tables, "
                   f"and licensed practice decide. Workings: {report.provenance.get('workings', '')}.")
-    return Document("navred sight books", valid, provenance, CAUTION, tuple(pages))
+    return Document("navred sight books", span, provenance, CAUTION, tuple(pages), dates_label="workings of")
 
 
 def write_marking_pdf(report, path: str | Path) -> Path:

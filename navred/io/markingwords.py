@@ -14,7 +14,7 @@ import numpy as np
 
 from ..angles import format_angle
 from ..marking import UNITS
-from ..marking_checks import COMPASS_RUN_NM
+from ..marking_checks import COMPASS_RUN_NM, PLOTTING_SPAN_NM
 from .workings import WORKED_FORMS
 
 #: The verdicts of a whole working.
@@ -29,13 +29,28 @@ def _style_of(given_text: str) -> str:
     return "dm" if ("°" in text or re.search(r"\d\s+\d", text)) else "decimal"
 
 
-def value_text(line: str, value, given_text: str = "") -> str:
+#: The lines that hold the tables' azimuth angle Z, written named from the elevated pole toward the body's side.
+Z_LINES = ("tab_z_worked", "z_interpolated_worked")
+
+
+def z_names(lat_deg: float, lha_deg: float) -> tuple[str, str]:
+    """How Z is named: from the elevated pole (N in north latitude) toward east or west (east when LHA is
+    over 180°), as "N 79.3° E"."""
+    if lat_deg != lat_deg or lha_deg != lha_deg:
+        return "", ""
+    return ("N" if lat_deg >= 0 else "S"), ("E" if lha_deg % 360.0 > 180.0 else "W")
+
+
+def value_text(line: str, value, given_text: str = "", names: tuple[str, str] = ("", "")) -> str:
     """A line's value written as the cadet wrote theirs: degrees and minutes where they wrote them (and for
-    every correction of a degree or more), TOWARD/AWAY in their words, compass errors named E or W."""
+    every correction of a degree or more), TOWARD/AWAY in their words, compass errors named E or W, Z named
+    from the elevated pole (``names``: :func:`z_names`)."""
     if line == "utc_worked":
         return "" if value is None or np.isnat(value) else str(np.datetime64(value, "s")).replace("T", " ")
     if value is None or value != value:
         return ""
+    if line in Z_LINES and names[0]:
+        return f"{names[0]} {value:.1f}° {names[1]}"
     text = _value_text(line, value, given_text)
     if _style_of(given_text) == "dm" and "°" not in str(given_text):  # written without the marks: 104 55.2
         text = text.replace("° ", " ").replace("°", "").replace("′", "")
@@ -59,6 +74,8 @@ def _value_text(line: str, value, given_text: str) -> str:
         return f"{abs(value):.1f}° {'E' if value >= 0 else 'W'}"
     if kind == "amplitude":
         return f"{abs(value):.1f}° {'N' if value >= 0 else 'S'}"
+    if kind == "bearing":
+        return "N" if abs((value + 180.0) % 360.0 - 180.0) < 90.0 else "S"
     if kind == "degrees":
         return format_angle(value, "angle") if style == "dm" else f"{value % 360.0:05.1f}°"
     if kind == "arcsec":
@@ -96,28 +113,48 @@ def difference_text(line: str, difference: float) -> str:
 
 
 def cost_text(method: str, cost_nm: float, cost_deg: float, line: str = "") -> str:
-    """What a slip costs, in words ("" when nothing is wrong)."""
-    if cost_nm != cost_nm or (abs(cost_nm) < 0.05 and not cost_deg == cost_deg):
+    """What a slip does to what the cadet would plot or steer, in words ("" when nothing is wrong)."""
+    if cost_nm != cost_nm or (abs(cost_nm) < 0.05 and not abs(cost_deg) >= 0.05):
         return ""  # the slip went no further than its line
     if line in ("fix_lat_worked", "fix_lon_worked"):
         return f"your plotted fix stands {abs(cost_nm):,.1f} nm from where your own lines cross"
     if method in ("amplitude", "azimuth"):
-        return (f"the compass error is {abs(cost_deg):.1f}° out: {abs(cost_nm):.1f} nm off the track in a "
-                f"{COMPASS_RUN_NM:.0f}-mile run")
-    what = "your latitude" if method in ("meridian", "ex-meridian", "polaris") else "your position line"
-    return f"this moves {what} {abs(cost_nm):,.1f} nm"
+        what = "deviation" if line == "deviation_worked" else "compass error"
+        return (f"your {what} is {abs(cost_deg):.1f}° out: a course steered by it would take the ship "
+                f"{abs(cost_nm):.1f} nm off her track in a {COMPASS_RUN_NM:.0f}-mile run")
+    if method in ("meridian", "ex-meridian", "polaris"):
+        return f"this moves your latitude {abs(cost_nm):,.1f} nm"
+    if cost_deg == cost_deg:  # the slip turned the line (navred.marking_checks.SMALLEST_TURN_DEG or more)
+        return (f"this turns your position line {abs(cost_deg):.1f}° and, within {PLOTTING_SPAN_NM:.0f} nm of the "
+                f"DR, puts it up to {abs(cost_nm):,.1f} nm from where it should lie")
+    return f"this moves your position line {abs(cost_nm):,.1f} nm"
+
+
+def where_text(row: dict) -> str:
+    """Where a working is: its row, and its sheet where the sheet is not the cadet's own ("row 7", "sheet
+    'Sun', row 116")."""
+    sheet = re.search(r"\s\(sheet '(.*)'\)$", str(row.get("source", "")))
+    if sheet and sheet.group(1) != row.get("cadet"):
+        return f"sheet '{sheet.group(1)}', row {row['row']}"
+    return f"row {row['row']}"
+
+
+#: What the marking says of a wrong line that fits no catalogued mistake.
+NO_CATALOGUED_CAUSE = "It is not one of the usual mistakes: work the line again from the lines before it."
 
 
 def describe(row: dict) -> str:
     """One working's marking in words, for the screen and the printed page."""
-    where = f"row {row['row']}"
-    head = f"{row['cadet']}, {where}, {row['body']} at {row['utc'][11:16]} UTC ({row['way']})"
+    head = f"{row['cadet']}, {where_text(row)}, {row['body']} at {row['utc'][11:16]} UTC ({row['way']})"
     if row["first_wrong_line"]:
         off = difference_text(row["first_wrong_line"], row["difference"])
-        text = (f"{head}: {row['first_wrong_line_name']} is wrong: you wrote {row['given'] or '(nothing)'}, "
-                f"it should be {row['expected'] or 'given'}" + (f" ({off})" if off else "") + ". "
-                + (f"Probable cause: {row['cause']}." if row["cause"] else
-                   "It fits no mistake in the catalogue: check the line against the expected value."))
+        if row["given"]:
+            text = (f"{head}: {row['first_wrong_line_name']} is wrong: you wrote {row['given']}, "
+                    f"it should be {row['expected'] or 'given'}" + (f" ({off})" if off else "") + ". ")
+        else:
+            text = f"{head}: {row['first_wrong_line_name']} is missing" + (
+                f": it should be {row['expected']}. " if row["expected"] else ". ")
+        text += f"Probable cause: {row['cause']}." if row["cause"] else NO_CATALOGUED_CAUSE
         cost = cost_text(row["method"], row.get("cost_nm", np.nan), row.get("cost_deg", np.nan),
                          row["first_wrong_line"])
         if cost:
@@ -132,4 +169,5 @@ def describe(row: dict) -> str:
     return text
 
 
-__all__ = ["RIGHT_WORKING", "WRONG_WORKING", "NOTICE_WORKING", "value_text", "difference_text", "cost_text", "describe"]
+__all__ = ["RIGHT_WORKING", "WRONG_WORKING", "NOTICE_WORKING", "NO_CATALOGUED_CAUSE", "Z_LINES", "value_text",
+           "z_names", "difference_text", "cost_text", "where_text", "describe"]

@@ -47,6 +47,8 @@ class Table:
     left_columns: int = 1
     width_fraction: float = 1.0
     compact: bool = False
+    #: columns whose cells wrap within their width (long words in a narrow column), left-aligned
+    wrap_columns: tuple[int, ...] = ()
 
     def __post_init__(self):
         if self.name and len(self.csv_columns) != len(self.columns):
@@ -100,6 +102,8 @@ class Document:
     provenance: str
     caution: str
     pages: tuple[Page, ...] = field(default_factory=tuple)
+    #: the word before the dates in every page's head ("valid" for tables of a period; "workings of" ...)
+    dates_label: str = "valid"
 
     def tables(self) -> list[Table]:
         """Every named table, in page order (a table inside a :class:`Side` too)."""
@@ -264,7 +268,15 @@ def _flowables(blocks, width: float, styles, fonts, *, nested: bool = False):
                     row[first] = label
                 data.append(row)
             data.append(list(block.columns))
-            data.extend(list(r) for r in block.rows)
+            if block.wrap_columns:
+                from reportlab.lib.styles import ParagraphStyle
+
+                cell = ParagraphStyle("cell", fontName=fonts["regular"], fontSize=block.font_size,
+                                      leading=block.font_size * 1.25, textColor=colors.HexColor(INK))
+                data.extend([Paragraph(_escape(c), cell) if k in block.wrap_columns else c for k, c in enumerate(r)]
+                            for r in block.rows)
+            else:
+                data.extend(list(r) for r in block.rows)
             total = width * block.width_fraction
             shares = block.widths or (1.0,) * len(block.columns)
             widths = [total * s / sum(shares) for s in shares]
@@ -373,7 +385,7 @@ def pdf_bytes(document: Document, *, made: _dt.date | None = None) -> bytes:
         inner = width - 2 * MARGIN_PT
         pdf.setFillColor(ink)
         pdf.setFont(fonts["bold"], 8)
-        pdf.drawString(MARGIN_PT, height - 20, f"{document.title}   ·   valid {document.valid_for}")
+        pdf.drawString(MARGIN_PT, height - 20, f"{document.title}   ·   {document.dates_label} {document.valid_for}")
         pdf.drawRightString(width - MARGIN_PT, height - 20, f"page {doc.page}")
         y = height - 28.5
         # the provenance and the caution are wrapped, never cut: two lines each at most on A4

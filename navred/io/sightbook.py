@@ -13,6 +13,7 @@ sight named by the spreadsheet row of its block's title.
 from __future__ import annotations
 
 import re
+from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
@@ -31,72 +32,177 @@ SIGHT_LINES = (
     ("Watch time", "zone_time", "06:51:45"),
     ("Zone description", "zone_description", "+1 (or +1 N): UTC = zone time + ZD"),
     ("Watch error", "watch_error", "7 s fast, 3 s slow"),
-    ("Body", "body", "Sun, Moon, Venus, Mars, Jupiter, Saturn or a navigational star"),
-    ("Limb", "limb", "lower or upper (Sun and Moon)"),
+    ("Body", "body", "the body you took"),
+    ("Limb", "limb", "lower or upper"),
     ("Sextant altitude (Hs)", "hs", "35° 15.2′, 35 15.2"),
     ("Index error", "index_error", "1.2 on, 0.8 off"),
     ("Height of eye (m)", "eye_height_m", "3.5"),
     ("Horizon", "horizon", "sea (the default), artificial, bubble"),
     ("DR latitude", "dr_lat", "35° 12.0′ N"),
     ("DR longitude", "dr_lon", "012° 48.0′ W"),
-    ("Fix group", "fix_group", "the same words on every sight of one fix"),
+    ("Round", "fix_group", "the same words on every sight you cross as one fix"),
 )
 COMPASS_SIGHT_LINES = (("Compass bearing", "compass_bearing", "262.5 (degrees by the compass)"),
                        ("Variation", "variation", "4 W, 3° 30′ E (from the chart)"))
 REMARKS_LINE = ("Instructor's remarks", "remarks", "the instructor's; navred keeps them")
+#: Labels of earlier templates, still read back.
+LEGACY_LABELS = {"Fix group": "fix_group"}
 
 TIME = ("utc_worked",)
-ALMANAC = ("gha_hour_worked", "increment_worked", "v_corr_worked", "sha_worked", "gha_worked", "dec_hour_worked",
-           "d_corr_worked", "dec_worked")
-ALTITUDE = ("ic_worked", "dip_worked", "ha_worked", "refraction_worked", "sd_worked", "parallax_worked",
-            "main_worked", "hp_corr_worked", "upper_limb_worked", "additional_worked", "ho_worked")
 FIX = ("fix_lat_worked", "fix_lon_worked")
-#: Each page: its sheet name, the method filled in, the sections of lines, and labels of its own.
+POSITION = ("The position worked from (the AP, or the DR)", ("ap_lat", "ap_lon", "lha_worked"))
+TABLES = ("The tables (from an AP) or the calculator", ("tab_hc_worked", "tab_d_worked", "tab_z_worked",
+                                                        "z_interpolated_worked", "hc_correction_worked", "hc_worked",
+                                                        "zn_worked"))
+LINE_AND_FIX = (("The line", ("intercept_worked",)), ("The fix you plotted (on the round's last sight)", FIX))
+#: What a page says of a line beside it where the line's general note (navred.io.workings.WORKED_FORMS) speaks
+#: of other bodies or methods: the note every page gives, unless the page gives its own.
+HINTS = {
+    "gha_hour_worked": "GHA at the whole hour: 123° 45.6′",
+    "v_corr_worked": "v correction, ′, for the minutes past the hour: +3.1",
+    "gha_worked": "GHA: 123° 45.6′",
+    "parallax_worked": "parallax in altitude, ′: HP × cos of the altitude: +0.1",
+    "main_worked": "main correction, ′: refraction, SD and parallax together: +14.0",
+    "hp_corr_worked": "HP correction, ′ (the table's second part, the L or U column): +4.6",
+    "upper_limb_worked": "the upper limb: −30",
+    "additional_worked": "additional correction, ′ (the phase): +0.1",
+    "ap_lat": "assumed latitude (the DR's, worked from the DR): 44° N, 44 00.0 N",
+    "ap_lon": "assumed longitude (the DR's, worked from the DR): 012° 04.7′ W",
+    "lha_worked": "LHA = GHA + longitude (east +, west −): 304, 304° 00.0′",
+}
+
+
+@dataclass(frozen=True)
+class SightBookPage:
+    """A page of the sight book: the method and body filled in, the sections of lines down a block, the
+    labels and notes of its own (where a line's sight-book name and note do not fit the page), and the
+    sight's lines it leaves out."""
+
+    method: str
+    body: str
+    sections: tuple[tuple[str, tuple[str, ...]], ...]
+    labels: dict = field(default_factory=dict)
+    hints: dict = field(default_factory=dict)
+    leaves_out: tuple[str, ...] = ()
+
+
+#: The pages: the intercept method a page per kind of body (only the lines that body takes), then the noon
+#: sight (meridian and ex-meridian), Polaris and the compass check.
 PAGES = {
-    "Intercept": ("intercept", (
-        ("The time", TIME), ("The almanac", ALMANAC), ("Hs to Ho", ALTITUDE),
-        ("The position worked from (the AP, or the DR)", ("ap_lat", "ap_lon", "lha_worked")),
-        ("The tables (from an AP) or the calculator", ("tab_hc_worked", "tab_d_worked", "tab_z_worked",
-                                                       "hc_correction_worked", "hc_worked", "zn_worked")),
-        ("The line", ("intercept_worked",)), ("The fix you plotted (on the round's last sight)", FIX)), {}),
-    "Noon": ("meridian", (
-        ("The time", TIME), ("The almanac", ("gha_hour_worked", "increment_worked", "v_corr_worked", "gha_worked",
-                                             "dec_hour_worked", "d_corr_worked", "dec_worked")),
-        ("Hs to Ho", ALTITUDE),
+    "Sun": SightBookPage("intercept", "Sun", (
+        ("The time", TIME),
+        ("The almanac", ("gha_hour_worked", "increment_worked", "gha_worked", "dec_hour_worked", "d_corr_worked",
+                         "dec_worked")),
+        ("Hs to Ho", ("ic_worked", "dip_worked", "ha_worked", "refraction_worked", "sd_worked", "parallax_worked",
+                      "main_worked", "ho_worked")),
+        POSITION, TABLES, *LINE_AND_FIX),
+        hints={"main_worked": "or, from the Sun's table, the main correction, ′: refraction, SD and parallax "
+                              "together: +14.0"}),
+    "Moon": SightBookPage("intercept", "Moon", (
+        ("The time", TIME),
+        ("The almanac", ("gha_hour_worked", "increment_worked", "v_corr_worked", "gha_worked", "dec_hour_worked",
+                         "d_corr_worked", "dec_worked")),
+        ("Hs to Ho", ("ic_worked", "dip_worked", "ha_worked")),
+        ("By the Moon's two-part table", ("main_worked", "hp_corr_worked", "upper_limb_worked")),
+        ("Or by calculator", ("refraction_worked", "sd_worked", "parallax_worked")),
+        ("The observed altitude", ("ho_worked",)),
+        POSITION, TABLES, *LINE_AND_FIX),
+        labels={"main_worked": "First correction"},
+        hints={"main_worked": "the table's first correction, ′, for Ha: +56.4, +1° 02.3′",
+               "upper_limb_worked": "the upper limb only: −30",
+               "parallax_worked": "parallax in altitude, ′: HP × cos of the altitude: +54.3"}),
+    "Stars": SightBookPage("intercept", "", (
+        ("The time", TIME),
+        ("The almanac", ("gha_hour_worked", "increment_worked", "sha_worked", "gha_worked", "dec_worked")),
+        ("Hs to Ho", ("ic_worked", "dip_worked", "ha_worked", "refraction_worked", "ho_worked")),
+        POSITION, TABLES, *LINE_AND_FIX),
+        labels={"gha_hour_worked": "GHA Aries at the whole hour", "increment_worked": "Increment (Aries)"},
+        hints={"gha_hour_worked": "GHA Aries at the whole hour: 123° 45.6′",
+               "increment_worked": "for the minutes and seconds, from the Aries column: 2° 23.9′",
+               "gha_worked": "GHA of the star: GHA Aries + increment + SHA: 123° 45.6′",
+               "refraction_worked": "refraction, ′ (the stars' table): −1.1"},
+        leaves_out=("limb",)),
+    "Planets": SightBookPage("intercept", "", (
+        ("The time", TIME),
+        ("The almanac", ("gha_hour_worked", "increment_worked", "v_corr_worked", "gha_worked", "dec_hour_worked",
+                         "d_corr_worked", "dec_worked")),
+        ("Hs to Ho", ("ic_worked", "dip_worked", "ha_worked", "refraction_worked", "parallax_worked",
+                      "additional_worked", "ho_worked")),
+        POSITION, TABLES, *LINE_AND_FIX),
+        hints={"refraction_worked": "refraction, ′ (the planets' table): −1.1",
+               "parallax_worked": "Venus and Mars: parallax in altitude, ′, HP × cos of the altitude: +0.1",
+               "additional_worked": "Venus and Mars: the additional correction for the phase, ′: +0.1"},
+        leaves_out=("limb",)),
+    "Noon": SightBookPage("meridian", "Sun", (
+        ("The time", TIME),
+        ("The almanac", ("gha_hour_worked", "increment_worked", "v_corr_worked", "gha_worked", "dec_hour_worked",
+                         "d_corr_worked", "dec_worked")),
+        ("Hs to Ho", ("ic_worked", "dip_worked", "ha_worked", "refraction_worked", "sd_worked", "parallax_worked",
+                      "main_worked", "ho_worked")),
         ("Ex-meridian only (method ex-meridian)", ("lha_worked", "ex_meridian_a_worked", "reduction_worked")),
-        ("The latitude", ("meridian_altitude_worked", "zenith_distance_worked", "latitude_worked")),
-        ("The fix you plotted (on the round's last sight)", FIX)), {}),
-    "Polaris": ("polaris", (
+        ("The latitude", ("meridian_altitude_worked", "bearing_worked", "zenith_distance_worked",
+                          "latitude_worked")),
+        ("The fix you plotted (on the round's last sight)", FIX)),
+        hints={"v_corr_worked": "v correction, ′ (the Moon only): +3.1",
+               "gha_worked": "GHA (for the ex-meridian's LHA): 123° 45.6′",
+               "lha_worked": "LHA = GHA + DR longitude (east +, west −): 357° 12.4′",
+               "main_worked": "or, from the Sun's table, the main correction, ′: refraction, SD and parallax "
+                              "together: +14.0"}),
+    "Polaris": SightBookPage("polaris", "Polaris", (
         ("The time", TIME), ("The almanac", ("gha_hour_worked", "increment_worked", "gha_worked")),
-        ("Hs to Ho", ("ic_worked", "dip_worked", "ha_worked", "refraction_worked", "main_worked", "ho_worked")),
+        ("Hs to Ho", ("ic_worked", "dip_worked", "ha_worked", "refraction_worked", "ho_worked")),
         ("The Polaris tables", ("lha_worked", "polaris_corr_worked", "latitude_worked")),
         ("The fix you plotted (on the round's last sight)", FIX)),
-        {"gha_hour_worked": "GHA Aries at the whole hour", "gha_worked": "GHA Aries", "lha_worked": "LHA Aries"}),
-    "Compass": ("amplitude", (
-        ("The time", TIME), ("The almanac", ALMANAC),
+        labels={"gha_hour_worked": "GHA Aries at the whole hour", "gha_worked": "GHA Aries",
+                "lha_worked": "LHA Aries"},
+        hints={"gha_hour_worked": "GHA Aries at the whole hour: 123° 45.6′",
+               "increment_worked": "for the minutes and seconds, from the Aries column: 2° 23.9′",
+               "gha_worked": "GHA Aries: 123° 45.6′",
+               "lha_worked": "LHA Aries = GHA Aries + DR longitude (east +, west −): 304° 12.4′",
+               "refraction_worked": "refraction, ′ (the stars' table): −1.1"},
+        leaves_out=("limb",)),
+    "Compass": SightBookPage("amplitude", "Sun", (
+        ("The time", TIME),
+        ("The almanac", ("gha_hour_worked", "increment_worked", "gha_worked", "dec_hour_worked", "d_corr_worked",
+                         "dec_worked")),
         ("Amplitude (at rising or setting)", ("amplitude_worked",)),
         ("Azimuth (method azimuth)", ("lha_worked",)),
         ("The error", ("zn_worked", "compass_error_worked", "deviation_worked"))),
-        {"zn_worked": "True bearing (Zn)"}),
+        labels={"zn_worked": "True bearing (Zn)"},
+        hints={"gha_worked": "GHA (for the azimuth's LHA): 123° 45.6′",
+               "lha_worked": "LHA = GHA + DR longitude (east +, west −), for the azimuth: 304° 12.4′"},
+        leaves_out=("limb", "hs", "index_error", "eye_height_m", "horizon")),
 }
+
+
 #: Blocks (workings) on each page of the template.
 BLOCKS_PER_PAGE = 6
 _BLOCK = re.compile(r"^\s*working\s*(\d+)\s*$", re.IGNORECASE)
 
 
+#: The labels of earlier templates' pages of their own, still read back (a page's label of a line).
+LEGACY_LINE_LABELS = {"GHA Aries at the whole hour": "gha_hour_worked", "GHA Aries": "gha_worked",
+                      "LHA Aries": "lha_worked", "True bearing (Zn)": "zn_worked"}
+
+
 def _labels() -> dict[str, str]:
     """Every label a page may give, normalised, and the column it fills."""
     table = {normalise_header(label): key for label, key, _ in (*SIGHT_LINES, *COMPASS_SIGHT_LINES, REMARKS_LINE)}
-    for _, sections, own in PAGES.values():
-        for _, keys in sections:
+    table.update({normalise_header(label): key for label, key in {**LEGACY_LABELS, **LEGACY_LINE_LABELS}.items()})
+    for key, name in LINE_NAMES.items():
+        table[normalise_header(name)] = key
+    for page in PAGES.values():
+        for _, keys in page.sections:
             for key in keys:
-                table[normalise_header(own.get(key, LINE_NAMES[key]))] = key
-                table[normalise_header(LINE_NAMES[key])] = key
+                table[normalise_header(page.labels.get(key, LINE_NAMES[key]))] = key
     return table
 
 
 LABELS = _labels()
-SECTION_TITLES = {normalise_header(title) for _, sections, _ in PAGES.values() for title, _ in sections}
+SECTION_TITLES = {normalise_header(title) for page in PAGES.values() for title, _ in page.sections} | {
+    normalise_header(t) for t in ("The almanac", "Hs to Ho", "The fix you plotted (on the round's last sight)",
+                                  "Amplitude (at rising or setting)", "Azimuth (method azimuth)", "The error",
+                                  "The latitude", "The Polaris tables", "The time", "The line")}
 
 
 def is_page(table: RawTable) -> bool:
@@ -154,5 +260,5 @@ def page_sights(table: RawTable) -> tuple[RawTable | None, dict]:
     return sights, {key: rows for key, rows in line_rows.items() if key[1] in set(numbers.tolist())}
 
 
-__all__ = ["PAGE_HEADER", "PAGES", "SIGHT_LINES", "COMPASS_SIGHT_LINES", "REMARKS_LINE", "BLOCKS_PER_PAGE", "LABELS",
-           "is_page", "page_sights"]
+__all__ = ["PAGE_HEADER", "PAGES", "SightBookPage", "SIGHT_LINES", "COMPASS_SIGHT_LINES", "REMARKS_LINE", "HINTS",
+           "BLOCKS_PER_PAGE", "LABELS", "is_page", "page_sights"]

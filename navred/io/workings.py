@@ -61,6 +61,7 @@ WORKED_FORMS: dict[str, tuple[str, str, str]] = {
     "ex_meridian_a_worked": ("arcsec", "the change of altitude in one minute from meridian passage, ″", "6.4"),
     "reduction_worked": ("arcmin", "reduction to the meridian, ′ (added)", "+3.7"),
     "meridian_altitude_worked": ("signed", "meridian altitude", "52° 14.6′"),
+    "bearing_worked": ("bearing", "the body's bearing at meridian passage, N or S", "S, N, bears S"),
     "zenith_distance_worked": ("dec", "zenith distance, named N or S (opposite to the body's bearing)",
                                "37° 45.4′ N"),
     "polaris_corr_worked": ("arcmin", "Polaris correction, ′: the tables' a0 + a1 + a2 − 1°", "-23.4"),
@@ -68,6 +69,7 @@ WORKED_FORMS: dict[str, tuple[str, str, str]] = {
     "tab_hc_worked": ("signed", "tabulated Hc at the whole degrees of Dec", "25° 03.1′"),
     "tab_d_worked": ("arcmin", "the tables' d, ′ for 1° of Dec, signed", "+42.6"),
     "tab_z_worked": ("degrees", "the tables' azimuth angle Z, degrees", "113.5"),
+    "z_interpolated_worked": ("degrees", "Z interpolated for the minutes of Dec, degrees", "113.9"),
     "hc_correction_worked": ("arcmin", "the d correction of Hc, ′", "+9.8"),
     "hc_worked": ("signed", "computed altitude Hc", "25° 19.1′"),
     "zn_worked": ("degrees", "true azimuth Zn (the true bearing), degrees", "113.5, 113° 30′"),
@@ -118,6 +120,7 @@ _UTC = re.compile(r"^\s*(\d{4})-(\d{2})-(\d{2})[T ](\d{2}):(\d{2})(?::(\d{2}(?:\
                   re.IGNORECASE)
 _NAMED = re.compile(r"[EW]\s*$", re.IGNORECASE)
 _AMPLITUDE = re.compile(r"^\s*([EW])\s*(?=\d)", re.IGNORECASE)
+_BEARING = re.compile(r"^\s*(?:bears\s+)?(n|north|s|south)\s*$", re.IGNORECASE)
 
 
 def parse_worked(line: str, text: str, decimal_comma: bool = False) -> float | np.datetime64:
@@ -164,6 +167,11 @@ def parse_worked(line: str, text: str, decimal_comma: bool = False) -> float | n
         if not _NAMED.search(value):
             raise NavredError(f"{value!r} is not named: write E or W (compass least, error east), as {example}")
         return float(parse_angle(value, "lon", decimal_comma))
+    if kind == "bearing":  # north 0°, south 180°
+        found = _BEARING.match(value)
+        if not found:
+            raise NavredError(f"cannot read {value!r} as the body's bearing at meridian passage; accepted: {example}")
+        return 0.0 if found.group(1).lower().startswith("n") else 180.0
     if kind == "amplitude":  # E or W before it says rising or setting; the value is its N or S
         return float(parse_angle(_AMPLITUDE.sub("", value), "dec", decimal_comma))
     if kind == "degrees":

@@ -31,6 +31,7 @@ from ..io.markingwords import (
     describe,
     difference_text,
     value_text,
+    z_names,
 )
 from ..io.workings import WORKED_FORMS, Workings, parse_worked, read_workings, source_name
 from ..marking import (
@@ -43,11 +44,12 @@ from ..marking import (
     WRONG,
     Marks,
     SightsToMark,
+    catalogue_cause,
     mark,
 )
 from .sights import reduce_sights
 
-ROW_COLUMNS = ["source", "row", "cadet", "body", "utc", "method", "way", "verdict", "first_wrong_line",
+ROW_COLUMNS = ["source", "row", "cadet", "body", "utc", "date", "method", "way", "verdict", "first_wrong_line",
                "first_wrong_line_name", "cause", "given", "expected", "difference", "unit", "cost_nm", "cost_deg", "noticed",
                "remarks", "lines_given", "lines_wrong"]
 LINE_COLUMNS = ["source", "row", "cadet", "line", "line_name", "sheet_row", "given", "expected",
@@ -104,15 +106,30 @@ def _sights(table: pd.DataFrame, workings: Workings, rows: np.ndarray) -> Sights
         dr_lat_deg=floats("dr_lat_deg"), dr_lon_deg=floats("dr_lon_deg"), dut1_s=floats("dut1_given_s"),
         method=workings.method[rows], compass_bearing_deg=workings.compass_bearing_deg[rows],
         variation_deg=workings.variation_deg[rows],
-        fix_group=_rounds(table, workings.cadet[rows]))
+        fix_group=_rounds(table, workings.cadet[rows]),
+        fix_group_given=table["fix_group_given"].to_numpy(dtype=bool) if "fix_group_given" in table else None)
 
 
 def _rounds(table: pd.DataFrame, cadets: np.ndarray) -> np.ndarray | None:
-    """Each sight's round for the plotted fix: its fix group, within its cadet (each plots their own lines)."""
+    """Each sight's round for the plotted fix: its fix group, within its cadet (each plots their own lines). A
+    group the cadet did not name (sights close together, grouped by the log's reader) is a round only where
+    the cadet plotted a fix from it (the core decides, :class:`navred.marking_checks.GroupFix`)."""
     if "fix_group" not in table:
         return None
     labels = table["fix_group"].astype(str).to_numpy(dtype=object)
     return np.where(labels != "", np.asarray(cadets, dtype=object) + "\x00" + labels, "")
+
+
+def ship_dates(table: pd.DataFrame) -> np.ndarray:
+    """Each sight's date at the ship (the zone date): the date written with a zone time, else the UTC date
+    moved by the DR longitude's zone description (15° a zone, common practice), as YYYY-MM-DD."""
+    utc = table["sight_utc"].dt.tz_convert(None)
+    zone_h = np.round(-table["dr_lon_deg"].to_numpy(dtype=float) / 15.0) if "dr_lon_deg" in table else 0.0
+    if "zone_description_used_h" in table:
+        given = table["zone_description_used_h"].to_numpy(dtype=float)
+        zone_h = np.where(np.isfinite(given), given, zone_h)
+    local = utc - pd.to_timedelta(np.nan_to_num(zone_h), unit="h")
+    return local.dt.strftime("%Y-%m-%d").fillna("").to_numpy(dtype=object)
 
 
 def _feet(text: str) -> float:
@@ -179,6 +196,8 @@ def _tables(marked: pd.DataFrame, marks: Marks | None, workings: Workings, rows:
     # a named line (a zenith distance, a latitude, an amplitude) the right size under the wrong name is "out" by
     # its name, not by twice its size: its difference is left out (its cause names it)
     named_lines = [k for k, name in enumerate(LINES) if WORKED_FORMS[name][0] in ("dec", "lat", "amplitude")]
+    bearing = LINES.index("bearing_worked")  # a bearing is N or S: out by its name, no number
+    marks.difference[marks.verdict[:, bearing] == WRONG, bearing] = np.nan
     for k in named_lines:
         name = LINES[k]
         given = marks.given[name]
@@ -189,15 +208,23 @@ def _tables(marked: pd.DataFrame, marks: Marks | None, workings: Workings, rows:
         marks.difference[reversed_name, k] = np.nan
     verdicts = np.where(first != "", WRONG_WORKING, np.where(marks.noticed != "", NOTICE_WORKING, RIGHT_WORKING))
     remarks = workings.remarks[rows] if len(workings.remarks) else np.full(n, "", dtype=object)
+    dates = ship_dates(marked)
+    # Z is named from the elevated pole (the latitude worked from) toward the body's side (the LHA worked)
+    lat_worked = np.where(np.isfinite(marks.given["ap_lat"]), marks.given["ap_lat"], marks.expected["ap_lat"])
+    lat_worked = np.where(np.isfinite(lat_worked), lat_worked, marked["dr_lat_deg"].to_numpy(dtype=float))
+    lha_worked = np.where(np.isfinite(marks.given["lha_worked"]), marks.given["lha_worked"],
+                          marks.expected["lha_worked"])
+    names = [z_names(a, b) for a, b in zip(lat_worked.tolist(), lha_worked.tolist())]
     for i in range(n):
         line = first[i]
         k = LINES.index(line) if line else -1
         records.append({
             "source": sources[i], "row": int(marked["row"].iloc[i]), "cadet": cadets[i],
-            "body": marked["body_name"].iloc[i], "utc": utc_text[i], "method": marks.method[i], "way": marks.way[i],
+            "body": marked["body_name"].iloc[i], "utc": utc_text[i], "date": dates[i], "method": marks.method[i],
+            "way": marks.way[i],
             "verdict": verdicts[i], "first_wrong_line": line, "first_wrong_line_name": LINE_NAMES.get(line, ""),
             "cause": marks.first_cause[i], "given": given_text[line][i] if line else "",
-            "expected": value_text(line, marks.expected[line][i], given_text[line][i]) if line else "",
+            "expected": value_text(line, marks.expected[line][i], given_text[line][i], names[i]) if line else "",
             "difference": round(float(marks.difference[i, k]), 2) if line else np.nan,
             "unit": UNITS[line] if line else "",
             "cost_nm": round(float(marks.cost_nm[i]), 1) if line else np.nan,
@@ -213,9 +240,9 @@ def _tables(marked: pd.DataFrame, marks: Marks | None, workings: Workings, rows:
             line_records.append({
                 "source": sources[i], "row": key[1], "cadet": cadets[i], "line": name, "line_name": LINE_NAMES[name],
                 "sheet_row": sheet_rows.get(name, np.nan), "given": given_text[name][i],
-                "expected": value_text(name, marks.expected[name][i], given_text[name][i]),
+                "expected": value_text(name, marks.expected[name][i], given_text[name][i], names[i]),
                 "expected_from_tables": "" if name == "utc_worked" else
-                value_text(name, marks.tabular[name][i], given_text[name][i]),
+                value_text(name, marks.tabular[name][i], given_text[name][i], names[i]),
                 "difference": round(float(marks.difference[i, k_]), 2), "unit": UNITS[name],
                 "tolerance": TOLERANCES[name],
                 "verdict": marks.verdict[i, k_], "cause": marks.cause[i, k_]})
@@ -233,8 +260,13 @@ def commonest(causes: pd.Series) -> str:
     return "; ".join(sorted(map(str, top.index))) + f" (tied, {int(counts.iloc[0])} each)"
 
 
+#: How a wrong line that fits no catalogued mistake is counted among the causes.
+UNCATALOGUED = "not one of the usual mistakes"
+
+
 def _named_causes(wrong: pd.DataFrame) -> pd.Series:
-    return wrong.cause.where(wrong.cause != "", "(no catalogued cause: see the line's expected value)")
+    """Each wrong working's cause as the catalogue words it (the line a slip of the plot was made on left out)."""
+    return wrong.cause.map(lambda c: catalogue_cause(c) if c else f"({UNCATALOGUED})")
 
 
 def _by_cause(rows: pd.DataFrame) -> pd.DataFrame:
@@ -267,7 +299,7 @@ def _progress(rows: pd.DataFrame) -> pd.DataFrame:
     if not len(rows):
         return pd.DataFrame(columns=columns)
     records = []
-    for (cadet, day), part in rows.assign(date=rows.utc.str[:10]).groupby(["cadet", "date"], sort=True):
+    for (cadet, day), part in rows.groupby(["cadet", "date"], sort=True):  # the ship's date
         wrong = part[part.verdict == WRONG_WORKING]
         records.append({"cadet": cadet, "date": day, "workings": len(part),
                         "no_mistake": int((part.verdict == RIGHT_WORKING).sum()),
@@ -330,6 +362,9 @@ def _fixes(marked: pd.DataFrame, marks: Marks | None, cadets: np.ndarray, exam: 
         full_prefix = f"{marked['source'].iloc[rows[0]]}: "
         shown = label[len(full_prefix):] if label.startswith(full_prefix) else label
         shown = shown[len(prefix):] if shown.startswith(prefix) else shown
+        if not fix.named:  # sights taken close together, plotted as a fix: named by their time
+            first = marked["sight_utc"].iloc[rows].min()
+            shown = f"your sights from {first:%H:%M} UTC on {first:%Y-%m-%d}"
         has_fix = fix.lat_deg == fix.lat_deg
         record = {"cadet": cadets[rows[0]], "fix_group": shown, "sights": len(rows), "lines": fix.lines,
                   "fix_from_your_lines": f"{format_angle(fix.lat_deg, 'lat')} {format_angle(fix.lon_deg, 'lon')}"

@@ -53,10 +53,12 @@ def main(folder: str | None = None) -> None:
         subprocess.run([sys.executable, str(ROOT / "scripts" / "make_fleet_log.py"), str(log_path)], check=True)
 
     from navred.io.logbook import read_sight_log
-    from navred.io.workbook import Pictures, write_plots, write_workbook
+    from navred.io.workbook import Pictures
     from navred.jobs.frames import series_columns
+    from navred.jobs.plotfiles import write_plots
     from navred.jobs.sights import reduce_sights
     from navred.jobs.voyage import VoyageResult, _next_twilight_plan, _rejected, fix_groups
+    from navred.jobs.voyagebook import write_workbook
 
     print(f"the workbook of {log_path} by stage:")
     log = timed("read and check the log", lambda: read_sight_log(log_path))
@@ -66,8 +68,8 @@ def main(folder: str | None = None) -> None:
     for column, values in series.items():
         reduced[column] = values
     groups = timed("fix every group", lambda: fix_groups(reduced))
-    voyage = VoyageResult(str(log_path), log, reduced, rejected, groups, {"run": "benchmark"})
-    voyage.next_events, voyage.next_plan = timed("plan the next twilight", lambda: _next_twilight_plan(voyage))
+    events, plan = timed("plan the next twilight", lambda: _next_twilight_plan(groups, reduced))
+    voyage = VoyageResult(str(log_path), log, reduced, rejected, tuple(groups), {"run": "benchmark"}, plan, events)
     print(f"  ({len(reduced):,} sights, {sum(g.fix is not None for g in groups):,} fixes of {len(groups):,} groups)")
     timed("write the workbook (pictures as files)",
           lambda: write_workbook(voyage, work / "fleet.xlsx", plots=Pictures(embed=False, folder=str(work / "plots"))))

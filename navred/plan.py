@@ -107,7 +107,7 @@ def meridian_passage_utc(body: str, day_starts: object, track: DRTrack, lower: b
 
 
 @api_boundary
-def sun_events(date: object, lat_deg: float, lon_deg: float, eye_height_m: float = 0.0,
+def sun_events(date: str | np.datetime64, lat_deg: float, lon_deg: float, eye_height_m: float = 0.0,
                course_deg: float = 0.0, speed_kn: float = 0.0) -> dict:
     """Twilights, sunrise, meridian passage and sunset on the local civil ``date`` (UTC instants).
 

@@ -23,7 +23,7 @@ from numpy.typing import ArrayLike
 
 from .almanac import places
 from .angles import wrap_180, wrap_360
-from .constants import ARCMIN_PER_DEG
+from .constants import ARCMIN_PER_DEG, NS_PER_SECOND
 from .corrections import (
     DEFAULT_PRESSURE_HPA,
     DEFAULT_TEMPERATURE_C,
@@ -126,7 +126,7 @@ def sight_presets(bodies: ArrayLike, utc: object, lat_deg: float, lon_deg: float
     names = np.atleast_1d(np.asarray(bodies, dtype=object))
     when = utc_datetime64(utc)
     steps = np.arange(0, LONGEST_MINUTES * 60 + 1, _STEP_S)
-    grid = when + (steps * 1_000_000_000).astype("timedelta64[ns]")
+    grid = when + (steps * NS_PER_SECOND).astype("timedelta64[ns]")
     n, m = names.size, steps.size
     p = places(np.repeat(names, m), np.tile(grid, n))
     hc, zn = computed_altitude_azimuth(lat_deg, lon_deg, p.gha_deg, p.dec_deg)

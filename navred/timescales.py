@@ -48,6 +48,10 @@ UT1_BEYOND = "beyond the IERS table"
 UT1_BEFORE = "before the IERS table"
 UT1_GIVEN = "given by the caller"
 UT1_PRE_UTC = "before 1960: time taken as UT"
+
+#: One instant as navred takes it: ISO 8601 text with a zone ('2026-03-20T18:42:10Z'), a datetime with a zone,
+#: or a numpy datetime64 (read as UTC); a pandas Timestamp is a datetime.
+Instant = str | _dt.datetime | np.datetime64
 _SOURCES = np.array([UT1_MEASURED, UT1_PREDICTED, UT1_BEYOND, UT1_BEFORE, UT1_GIVEN, UT1_PRE_UTC], dtype=object)
 _SOURCE_CODE = {name: k for k, name in enumerate(_SOURCES)}
 
@@ -702,6 +706,6 @@ def utc_jd_to_datetime64(utc1: ArrayLike, utc2: ArrayLike) -> np.ndarray:
     s = np.minimum(s, 59)
     f = np.where(ihmsf["s"] >= 60, 999999999, f)
     days = _date64(y, m, d).astype("datetime64[ns]")
-    ns = ((h.astype(np.int64) * 60 + mi) * 60 + s) * 1_000_000_000 + f
+    ns = ((h.astype(np.int64) * 60 + mi) * 60 + s) * NS_PER_SECOND + f
     return days + ns.astype("timedelta64[ns]")
 

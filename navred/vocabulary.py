@@ -166,6 +166,15 @@ BOOKKEEPING_HEADERS = ("row_in_log", "source_file")
 #: Columns that ``reduce_sights`` adds: a table that has them is navred's own output, read back.
 OUTPUT_SUFFIX = "(as read)"
 
+#: The columns the reduction (``navred.reduce_sights``) adds to the parsed sights, in order (documented in
+#: docs/sight-log.md); the reader knows them so that a log of reduced rows read back is read as one.
+RESULT_COLUMNS = (
+    "dut1_s", "ut1_source", "gha_aries_deg", "sha_deg", "gha_deg", "dec_deg", "hp_arcmin", "almanac_sd_arcmin",
+    "lha_deg", "ic_arcmin", "horizon_arcmin", "dip_arcmin", "ha_deg", "refraction_arcmin", "sd_arcmin",
+    "parallax_arcmin", "phase_angle_deg", "phase_arcmin", "ho_deg", "hc_deg", "zn_deg", "intercept_nm",
+    "intercept_direction", "status", "message", "error_column",
+)
+
 # --- Words of the trade ----------------------------------------------------------
 LIMBS = {"lower": "lower", "ll": "lower", "l": "lower", "lower_limb": "lower",
          "upper": "upper", "ul": "upper", "u": "upper", "upper_limb": "upper",

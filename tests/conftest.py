@@ -119,6 +119,9 @@ def utc_of(t):
 @pytest.fixture
 def no_network(monkeypatch):
     """Make every attempt to open a socket fail loudly."""
+    import ssl  # noqa: F401  (the standard library's modules that subclass socket.socket, imported first:
+    import urllib.request  # noqa: F401  their import is no connection, and cannot subclass the stand-in)
+
     def refuse(*args, **kwargs):
         raise AssertionError("navred tried to open a network connection")
 

@@ -158,7 +158,7 @@ def test_plan_options_are_refused_before_the_work(tmp_path):
 
 def test_a_plan_at_an_instant_is_rounded_to_the_minute():
     result = CliRunner().invoke(app, ["plan", "--date", "2025-06-10", "--lat", "40 N", "--lon", "20 W",
-                                      "--at", "2025-06-10T21:37:41Z"])
+                                      "--utc", "2025-06-10T21:37:41Z"])
     assert result.exit_code == 0, result.output
     assert "Sight plan, 2025-06-10: 20:38 zone (+1), 21:38 UTC" in result.stdout
     assert np.all([":41" not in line for line in result.stdout.splitlines()])

@@ -65,11 +65,11 @@ def test_every_gpx_and_geojson_carries_the_caution(tmp_path):
     import gpxpy
 
     files = {name: tmp_path / name for name in ("fixes.gpx", "fixes.geojson", "route.gpx", "route.geojson")}
-    done = runner.invoke(app, ["workbook", DEMO, "-o", str(tmp_path / "v.xlsx"), "--gpx", str(files["fixes.gpx"]),
-                               "--geojson", str(files["fixes.geojson"]), "--pictures", "none"])
+    done = runner.invoke(app, ["workbook", DEMO, "-o", str(tmp_path / "v.xlsx"), "-o", str(files["fixes.gpx"]),
+                               "-o", str(files["fixes.geojson"]), "--pictures", "none"])
     assert done.exit_code == 0, done.output
-    done = runner.invoke(app, ["route", "40 30 N", "073 00 W", "49 57 N", "005 12 W", "--gpx", str(files["route.gpx"]),
-                               "--geojson", str(files["route.geojson"])])
+    done = runner.invoke(app, ["route", "40 30 N", "073 00 W", "49 57 N", "005 12 W", "-o", str(files["route.gpx"]),
+                               "-o", str(files["route.geojson"])])
     assert done.exit_code == 0, done.output
     for name in ("fixes.gpx", "route.gpx"):
         gpx = gpxpy.parse(files[name].read_text(encoding="utf-8"))

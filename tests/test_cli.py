@@ -52,14 +52,6 @@ def test_bodies_lists_the_catalogue():
     assert "Rigil Kentaurus" in result.output and "Jupiter" in result.output
 
 
-def test_help_on_every_command_has_an_example():
-    for command in ("almanac", "bodies", "reduce", "fix", "workbook", "plan", "compass", "identify", "series",
-                    "training", "lunar"):
-        result = runner.invoke(app, [command, "--help"])
-        assert result.exit_code == 0
-        assert "Example:" in result.output
-
-
 def test_reduce_prints_one_line_per_sight():
     result = runner.invoke(app, ["reduce", "sample_sights/demo_sights.csv"])
     assert result.exit_code == 0, result.output
@@ -124,8 +116,8 @@ def test_fix_cross_checks_a_chart_position_for_one_group():
 def test_workbook_command_on_the_demo(tmp_path):
     out = tmp_path / "voyage.xlsx"
     result = runner.invoke(app, ["workbook", "sample_sights/demo_sights.csv", "-o", str(out),
-                                 "--plots", str(tmp_path / "plots"), "--gpx", str(tmp_path / "f.gpx"),
-                                 "--geojson", str(tmp_path / "f.geojson")])
+                                 "--plots", str(tmp_path / "plots"), "-o", str(tmp_path / "f.gpx"),
+                                 "-o", str(tmp_path / "f.geojson")])
     assert result.exit_code == 0, result.output
     assert "11 sights reduced, 3 fixes, 0 rejected" in result.output
     assert out.exists() and (tmp_path / "f.gpx").exists() and (tmp_path / "f.geojson").exists()
@@ -165,7 +157,7 @@ def test_python_dash_m_navred_works():
 def test_plan_command_prints_twilights_and_plans(tmp_path):
     result = runner.invoke(app, ["plan", "--date", "2026-03-26", "--lat", "44 30 N", "--lon", "012 00 W",
                                  "--course", "215", "--speed", "6.5", "--days", "2", "--count", "4",
-                                 "--csv", str(tmp_path / "plan.csv"), "--sky", str(tmp_path / "sky.svg")])
+                                 "-o", str(tmp_path / "plan.csv"), "-o", str(tmp_path / "sky.svg")])
     assert result.exit_code == 0, result.output
     assert "nautical dawn" in result.output and "Evening twilight, Friday 27 March 2026:" in result.output
     assert result.output.count("<- recommended") == 16
@@ -200,7 +192,7 @@ def test_series_and_lunar_commands(tmp_path):
     assert lunar.exit_code == 0, lunar.output
     assert "chronometer is" in lunar.output and "fast" in lunar.output and "sensitivity" in lunar.output
     saved = runner.invoke(app, ["lunar", "29 44.7", "--other", "Antares", "--utc", "2024-09-12T19:33:00Z",
-                                "--lat", "30 N", "--lon", "040 W", "--moon-limb", "far", "--xlsx", str(tmp_path / "l.xlsx"),
+                                "--lat", "30 N", "--lon", "040 W", "--moon-limb", "far", "-o", str(tmp_path / "l.xlsx"),
                                 "--csv"])
     assert saved.exit_code == 0 and "cleared_distance_deg" in saved.output
     import openpyxl

@@ -12,8 +12,10 @@ from typer.testing import CliRunner
 
 from navred.cli import app
 from navred.figures.drawing import Canvas, blend, clip_polygon, clip_segment
-from navred.io.workbook import Pictures, plot_file_stems, write_workbook
+from navred.io.workbook import Pictures
+from navred.jobs.plotfiles import plot_file_stems
 from navred.jobs.voyage import process_log
+from navred.jobs.voyagebook import write_workbook
 
 runner = CliRunner()
 DEMO = "sample_sights/demo_sights.csv"
@@ -146,7 +148,7 @@ def test_the_picture_options_of_the_workbook_command(tmp_path):
 def test_sheets_drawn_by_several_processes_are_the_files_drawn_by_one(tmp_path, monkeypatch):
     """A fleet's hundreds of plotting sheets are drawn by forked processes; each file must be byte for byte
     the one a single process draws, under the same name, none missing."""
-    import navred.io.workbook as workbook
+    import navred.jobs.plotfiles as workbook
 
     voyage = process_log("sample_sights/demo_sights.csv", plan=False)
     monkeypatch.setattr(workbook, "PLOTS_PER_WRITE", 1)  # a batch per sheet, so that the drawers share them
@@ -163,7 +165,7 @@ def test_a_drawing_process_that_dies_leaves_its_sheets_to_the_first(tmp_path, mo
     first process: every file is still written, the same as one process writes it."""
     import os
 
-    import navred.io.workbook as workbook
+    import navred.jobs.plotfiles as workbook
 
     voyage = process_log("sample_sights/demo_sights.csv", plan=False)
     monkeypatch.setattr(workbook, "PLOTS_PER_WRITE", 1)

@@ -12,11 +12,12 @@ import pytest
 from typer.testing import CliRunner
 
 import navred.jobs.forking as forking
+from navred.cli import app
 from navred.errors import NavredWarning
 from navred.jobs.forking import forked_map
 
-#: the command line's module (the package's own name `navred.cli.app` is the typer app it exposes)
-cli = importlib.import_module("navred.cli.app")
+#: the reduction job that shares a long log's blocks among the cores
+reducing = importlib.import_module("navred.jobs.reducing")
 
 runner = CliRunner()
 PARENT = os.getpid()
@@ -53,13 +54,13 @@ def test_reduce_csv_shared_among_processes_writes_what_one_process_writes(monkey
     """The training voyage (invented, 405 sights, every row naming its fix group) in blocks of 60 rows: shared
     among two processes, worked by one, and read whole, the CSV is the same text."""
     log = "sample_sights/training_sights.csv"
-    monkeypatch.setattr(cli, "REDUCE_BLOCK_ROWS", 60)
+    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 60)
     monkeypatch.setattr(forking, "cores", lambda: 2)
-    shared = runner.invoke(cli.app, ["reduce", log, "--csv"])
+    shared = runner.invoke(app, ["reduce", log, "--csv"])
     monkeypatch.setattr(forking, "cores", lambda: 1)
-    alone = runner.invoke(cli.app, ["reduce", log, "--csv"])
-    monkeypatch.setattr(cli, "REDUCE_BLOCK_ROWS", 100_000)
-    whole = runner.invoke(cli.app, ["reduce", log, "--csv"])
+    alone = runner.invoke(app, ["reduce", log, "--csv"])
+    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 100_000)
+    whole = runner.invoke(app, ["reduce", log, "--csv"])
     assert shared.exit_code == alone.exit_code == whole.exit_code == 0
     assert shared.stdout == alone.stdout == whole.stdout
     assert len(shared.stdout.splitlines()) == 406

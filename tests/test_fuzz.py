@@ -566,11 +566,11 @@ def _commands(folder):
         "reduce": (["reduce", f"{s}/demo_sights.csv"], {"--rates": f"{s}/passage_time_signals.csv",
                                                       "--dates": "day-first"}),
         "fix": (["fix", f"{s}/demo_sights.csv"], {"--group": "evening-stars", "--chart-lat": "43 16.5 N",
-                                                 "--chart-lon": "013 11.4 W", "--at": "2026-03-26T19:48:30Z"}),
+                                                 "--chart-lon": "013 11.4 W", "--utc": "2026-03-26T19:48:30Z"}),
         "workbook": (["workbook", f"{s}/demo_sights.csv", "--pictures", "none"],
-                     {"-o": f"{folder}/v.xlsx", "--gpx": f"{folder}/f.gpx", "--plot-formats": "svg"}),
+                     {"-o": f"{folder}/v.xlsx", "--output": f"{folder}/f.gpx", "--plot-formats": "svg"}),
         "plan": (["plan"], {"--date": "2026-03-26", "--lat": "44 30 N", "--lon": "012 00 W", "--course": "215",
-                            "--speed": "6.5", "--eye": "3", "--count": "3", "--at": "2026-03-26T19:30:00Z"}),
+                            "--speed": "6.5", "--eye": "3 m", "--count": "3", "--utc": "2026-03-26T19:30:00Z"}),
         "compass": (["compass", "Sun"], {"--utc": "2026-03-26T17:30:00Z", "--lat": "43 20 N", "--lon": "013 10 W",
                                          "--compass-bearing": "262", "--variation": "4 W", "--heading": "215",
                                          "--card": f"{folder}/card.csv"}),
@@ -578,12 +578,12 @@ def _commands(folder):
                                     "--alt": "30", "--az": "186", "--top": "3"}),
         "series": (["series", f"{s}/demo_sights.csv"], {"--threshold": "2"}),
         "training": (["training", f"{folder}/few.csv"], {"--track": f"{s}/training_track.csv",
-                                                         "--csv": f"{folder}/t.csv"}),
+                                                         "-o": f"{folder}/t.csv"}),
         "mark": (["mark", f"{folder}/cadet.csv"], {"-o": f"{folder}/m.xlsx"}),
-        "days": (["days", f"{s}/passage_log.csv"], {"--picture": f"{folder}/p.svg"}),
+        "days": (["days", f"{s}/passage_log.csv"], {"-o": f"{folder}/p.svg"}),
         "rate": (["rate", f"{s}/passage_time_signals.csv"], {"--dates": "day-first"}),
         "route": (["route", "40 30 N", "073 00 W", "49 57 N", "005 12 W"], {"--spacing": "600", "--limit": "50 N",
-                                                                          "--geojson": f"{folder}/r.geojson"}),
+                                                                          "-o": f"{folder}/r.geojson"}),
         "lunar": (["lunar", "29 44.7"], {"--other": "Antares", "--utc": "2024-09-12T19:33:00Z", "--lat": "30 N",
                                          "--lon": "040 W", "--moon-limb": "far", "--index-error": "0.3 on",
                                          "--other-alt": "20 10"}),
@@ -592,12 +592,21 @@ def _commands(folder):
         "azimuths": (["azimuths"], {"--date": "2026-03-26", "--lat": "43 16.6 N", "--lon": "013 11.4 W",
                                     "--every": "60", "--eye": "2.8 m", "--zone": "+1"}),
         "compass-book": (["compass-book", f"{s}/compass_book.csv"], {"-o": f"{folder}/book.csv"}),
+        "bodies": (["bodies", "--csv"], {}),
     }
+
+
+def test_the_options_fuzz_covers_every_registered_command(tmp_path):
+    import typer.main
+
+    from navred.cli import app
+
+    assert set(_commands(tmp_path)) == set(typer.main.get_command(app).commands)
 
 
 #: the cheaper commands are tried three times as often as those that write a workbook or mark a class
 _WEIGHTED = [c for c in ("almanac", "reduce", "fix", "compass", "identify", "route", "lunar", "rate", "series", "days",
-                         "azimuths", "compass-book") for _ in range(3)] + ["workbook", "plan", "training", "mark", "paper"]
+                         "azimuths", "compass-book", "bodies") for _ in range(3)] + ["workbook", "plan", "training", "mark", "paper"]
 
 
 _SEEN: list = []

@@ -584,8 +584,8 @@ def test_the_sheet_reader_reads_every_cell_as_openpyxl_does(tmp_path):
     import openpyxl
 
     from navred.io.sheetreader import open_workbook, read_sheet_cells
-    from navred.io.workbook import write_workbook
     from navred.jobs.voyage import process_log
+    from navred.jobs.voyagebook import write_workbook
 
     written = tmp_path / "demo.navred.xlsx"
     write_workbook(process_log("sample_sights/demo_sights.csv", plan=False), written, plots=False)

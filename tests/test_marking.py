@@ -442,7 +442,7 @@ def test_a_cadets_sight_book_over_a_voyage_keeps_remarks_and_shows_progress_and_
     training = training_report(voyage.reduced, read_track(track_path), voyage.groups).observers
     for row in report.personal.to_dict("records"):
         same = training[training.observer == row["cadet"]].iloc[0]
-        assert row["personal error (′)"] == pytest.approx(same["personal error (′)"], abs=1e-9)
+        assert row["personal_error_arcmin"] == pytest.approx(same["personal_error_arcmin"], abs=1e-9)
     workbook = write_marking_workbook(report, tmp_path / "book.xlsx")
     from openpyxl import load_workbook
 

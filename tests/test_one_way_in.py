@@ -149,7 +149,7 @@ def test_the_workbook_navred_wrote_reads_back_to_the_same_fixes(tmp_path):
     for source in ("sample_sights/demo_sights.csv", "sample_sights/training_sights.csv"):
         voyage = process_log(source, plan=False)
         book = tmp_path / "voyage.xlsx"
-        from navred.io.workbook import write_workbook
+        from navred.jobs.voyagebook import write_workbook
 
         write_workbook(voyage, book, plots=False)
         again = process_log(book, plan=False)
@@ -286,7 +286,7 @@ def test_a_misnamed_star_is_left_out_of_the_position_everywhere(tmp_path, ts, ep
     book, plots = tmp_path / "m.xlsx", tmp_path / "plots"
     gpx, geojson = tmp_path / "m.gpx", tmp_path / "m.geojson"
     done = runner.invoke(app, ["workbook", str(path), "-o", str(book), "--plots", str(plots), "--plot-formats", "svg",
-                               "--gpx", str(gpx), "--geojson", str(geojson)])
+                               "-o", str(gpx), "-o", str(geojson)])
     assert done.exit_code == 0, done.output
     assert "LEFT OUT of this fix: row 4" in done.output  # the workbook's console says so too
     fixes = sheet(book, "Fixes").set_index("fix group")
@@ -331,7 +331,7 @@ def test_a_fix_far_from_its_dr_is_warned_by_every_command_and_file(tmp_path):
     assert fix.exit_code == 0 and fix.output.count(far) == 3, fix.output
     assert "check the time (the zone description and its sign" in fix.output
     book, gpx, geojson = tmp_path / "z.xlsx", tmp_path / "z.gpx", tmp_path / "z.geojson"
-    work = runner.invoke(app, ["workbook", str(path), "-o", str(book), "--gpx", str(gpx), "--geojson", str(geojson)])
+    work = runner.invoke(app, ["workbook", str(path), "-o", str(book), "-o", str(gpx), "-o", str(geojson)])
     assert work.exit_code == 0 and work.output.count(far) == 3, work.output
     assert "row 7 (Sirius)" in work.output and "taken in twilight" in work.output  # the sight warnings too
     days = runner.invoke(app, ["days", str(path)])

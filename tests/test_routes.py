@@ -134,8 +134,8 @@ def test_the_composite_great_circle_touches_the_limit_and_keeps_within_it():
     assert route["distance_nm"] == pytest.approx(route["first_nm"] + route["parallel_nm"] + route["last_nm"])
     assert route["distance_nm"] > route["great_circle_nm"]
     plan = plan_route(40.5, -73.0, 49.9, -5.2, spacing_nm=100.0, limit_lat_deg=50.0)
-    assert plan.waypoints["lat (deg)"].max() <= 50.0 + 1e-9
-    assert plan.waypoints["from start (nm)"].iloc[-1] == pytest.approx(route["distance_nm"])
+    assert plan.waypoints["lat_deg"].max() <= 50.0 + 1e-9
+    assert plan.waypoints["from_start_nm"].iloc[-1] == pytest.approx(route["distance_nm"])
     # a limit the great circle never reaches changes nothing
     assert composite_great_circle(40.5, -73.0, 49.9, -5.2, 60.0)["kind"] == "great circle"
     with pytest.raises(NavredError, match="beyond it"):
@@ -150,8 +150,8 @@ def test_waypoints_lie_on_the_great_circle_at_the_spacing():
     assert (w.waypoint == np.arange(len(w))).all()
     for a, b in zip(w.iloc[:-2].itertuples(), w.iloc[1:-1].itertuples()):
         assert GEOD.Inverse(a[4], a[5], b[4], b[5])["s12"] / NM == pytest.approx(300.0, abs=0.01)
-    assert (w["lat (deg)"].iloc[-1], w["lon (deg)"].iloc[-1]) == (-37.8, 144.9)
-    legs = w["rhumb distance to next (nm)"].iloc[:-1].sum()
+    assert (w["lat_deg"].iloc[-1], w["lon_deg"].iloc[-1]) == (-37.8, 144.9)
+    legs = w["rhumb_distance_to_next_nm"].iloc[:-1].sum()
     assert plan.great_circle_nm < legs < plan.rhumb_nm  # sailing rhumb legs between waypoints, common practice
     with pytest.raises(NavredError, match="at most"):
         plan_route(0, 0, 10, 10, spacing_nm=0.1)
@@ -161,7 +161,7 @@ def test_route_command_prints_and_writes_csv_gpx_geojson(tmp_path):
     import gpxpy
 
     result = runner.invoke(app, ["route", "40 30 N", "073 00 W", "49 57 N", "005 12 W", "--limit", "50 N",
-                                 "--gpx", str(tmp_path / "r.gpx"), "--geojson", str(tmp_path / "r.geojson")])
+                                 "-o", str(tmp_path / "r.gpx"), "-o", str(tmp_path / "r.geojson")])
     assert result.exit_code == 0, result.output
     assert "rhumb line:" in result.output and "great circle:" in result.output and "vertex:" in result.output
     assert "composite great circle within 50° 00.0′ N" in result.output

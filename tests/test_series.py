@@ -115,7 +115,7 @@ def test_series_are_grouped_by_body_observer_and_gap():
 def test_a_series_with_a_blunder_still_draws_its_curve(tmp_path):
     # the invented training voyage (sample_sights/): its first noon series of four Sun sights, one off by 20′
     from navred.figures.plotting import INK
-    from navred.io.workbook import series_figure
+    from navred.figures.series import series_figure
     from navred.jobs.voyage import process_log
 
     frame = pd.read_csv("sample_sights/training_sights.csv", dtype=str, keep_default_na=False)
@@ -129,7 +129,7 @@ def test_a_series_with_a_blunder_still_draws_its_curve(tmp_path):
     assert voyage.reduced.series_flag[row]
     members = voyage.reduced[voyage.reduced.series == name]
     assert members.series_flag.sum() == 1 and np.isfinite(members.series_offset_arcmin).all()
-    picture = series_figure(voyage, name)  # a navred.figures.drawing.Canvas: its items are the drawn primitives
+    picture = series_figure(voyage.reduced, name)  # a navred.figures.drawing.Canvas: its items are the drawn primitives
     labels = [item.text for item in picture.items if hasattr(item, "text")]
     assert not any("nan" in label.lower() for label in labels)
     assert any(label.startswith("Ho − ") for label in labels)

@@ -161,18 +161,18 @@ def test_the_rated_passage_gives_the_days_work_of_the_passage_kept_in_utc():
     rated = process_log("sample_sights/passage_log_chronometer.csv", plan=False,
                         rates=read_rating_log("sample_sights/passage_time_signals.csv")).days_work()
     kept = process_log("sample_sights/passage_log.csv", plan=False).days_work()
-    assert list(rated.noons["noon from"]) == list(kept.noons["noon from"])  # no "carried to noon" for 0.02 s
+    assert list(rated.noons["noon_from"]) == list(kept.noons["noon_from"])  # no "carried to noon" for 0.02 s
     # two star rounds a day (scripts/make_passage.py: evening and morning twilight), the first day from the
     # departure at 05:00 UTC holding only its morning round before noon
-    assert list(rated.noons["fixes that day"]) == list(kept.noons["fixes that day"]) == [1, 2, 2]
+    assert list(rated.noons["fixes_that_day"]) == list(kept.noons["fixes_that_day"]) == [1, 2, 2]
     # the readings are kept to 0.1 s and the rating leaves a few hundredths of a second: a fix moves by up to
     # 0.05 s x 15"/s, under 0.02 nm at each end of a run
-    assert np.allclose(rated.noons["run (nm)"].to_numpy(float)[1:], kept.noons["run (nm)"].to_numpy(float)[1:],
+    assert np.allclose(rated.noons["run_nm"].to_numpy(float)[1:], kept.noons["run_nm"].to_numpy(float)[1:],
                        atol=0.03)
-    assert list(rated.set_drift["fix (UTC)"]) == list(kept.set_drift["fix (UTC)"])  # to the nearest second
+    assert list(rated.set_drift["fix_utc"]) == list(kept.set_drift["fix_utc"])  # to the nearest second
     # the same 0.02 nm at each end of the run between fixes, over its hours
     allowed = 0.04 / kept.set_drift["hours"].to_numpy(float)
-    assert (np.abs(rated.set_drift["drift (kn)"] - kept.set_drift["drift (kn)"]).to_numpy() <= allowed).all()
+    assert (np.abs(rated.set_drift["drift_kn"] - kept.set_drift["drift_kn"]).to_numpy() <= allowed).all()
 
 
 def test_a_numeric_date_in_the_rating_log_follows_the_sight_logs_rule(tmp_path):

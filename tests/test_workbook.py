@@ -11,10 +11,14 @@ import pandas as pd
 import pytest
 
 from navred.figures.plotting import save_plotting_sheet
-from navred.io.exports import GPX_NAMESPACE, write_geojson, write_gpx
-from navred.io.workbook import SAFETY, atomic_write, write_workbook
+from navred.io.exports import GPX_NAMESPACE
+from navred.io.output import atomic_write
+from navred.io.workbook import SAFETY
+from navred.jobs.chartfiles import write_voyage_geojson as write_geojson
+from navred.jobs.chartfiles import write_voyage_gpx as write_gpx
 from navred.jobs.frames import fix_position
 from navred.jobs.voyage import process_log
+from navred.jobs.voyagebook import write_workbook
 from tests.conftest import offset_position, skyfield_sight
 
 

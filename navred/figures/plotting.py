@@ -411,6 +411,33 @@ def series_plot(times, ho_deg, flagged, curve_times, curve_ho_deg, best_index, *
     return picture
 
 
+class _VoyageChart:
+    """The voyage picture's Mercator chart about the middle latitude: ``plane`` takes positions to miles east
+    and north of the chart's reference, ``page`` takes miles to the sheet's points."""
+
+    def __init__(self, lats: np.ndarray, lons: np.ndarray, box: tuple[float, float, float, float]):
+        self.ax0, self.ay0, self.ax1, self.ay1 = box
+        self.lat_mid = float(np.mean([lats.min(), lats.max()]))
+        self.lon_ref = float(lons[0])
+        self.cos_lat = math.cos(math.radians(self.lat_mid))
+        xs, ys = self.plane(lats, lons)
+        self.width_nm = max(float(np.ptp(xs)), 1.0)
+        self.height_nm = max(float(np.ptp(ys)), 1.0)
+        self.per_nm = min((self.ax1 - self.ax0) / (self.width_nm * 1.15), (self.ay1 - self.ay0) / (self.height_nm * 1.15))
+        self.cx, self.cy = (xs.max() + xs.min()) / 2.0, (ys.max() + ys.min()) / 2.0
+
+    def plane(self, lat, lon):
+        d_lon = wrap_180(np.asarray(lon, dtype=float) - self.lon_ref)
+        return d_lon * 60.0 * self.cos_lat, (np.asarray(lat, dtype=float) - self.lat_mid) * 60.0
+
+    def page(self, x, y):
+        return ((self.ax0 + self.ax1) / 2.0 + (np.asarray(x) - self.cx) * self.per_nm,
+                (self.ay0 + self.ay1) / 2.0 - (np.asarray(y) - self.cy) * self.per_nm)
+
+    def at(self, lat, lon) -> tuple[float, float]:
+        return tuple(float(v) for v in self.page(*self.plane(lat, lon)))
+
+
 def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
     """A vessel's voyage on one sheet (a :class:`navred.figures.drawing.Canvas`): the DR legs from each known
     position (dashed), the fixes with their 95 % ellipses, the estimated positions, an arrow of the set
@@ -420,104 +447,112 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
     Drawn as a Mercator chart about the voyage's middle latitude: a minute of latitude is a nautical
     mile up the page, a minute of longitude cos φ miles across (good to a few per cent over a passage
     of some hundreds of miles; the positions themselves are exact)."""
-    from .drawing import Canvas, blend
+    from .drawing import Canvas
 
     vessels = list(days.tracks)
     vessel = vessel if vessel is not None else (vessels[0] if vessels else "")
     points, fixes, estimated, noons = days.of_vessel(vessel)
-    noons = noons[np.isfinite(noons["lat (deg)"].astype(float))]
+    noons = noons[np.isfinite(noons["lat_deg"].astype(float))]
     track = days.tracks.get(vessel)
-    lats = np.concatenate([points.lat_deg.to_numpy(float), estimated["lat (deg)"].to_numpy(float),
+    lats = np.concatenate([points.lat_deg.to_numpy(float), estimated["lat_deg"].to_numpy(float),
                            track.known_lat if track is not None else []])
-    lons = np.concatenate([points.lon_deg.to_numpy(float), estimated["lon (deg)"].to_numpy(float),
+    lons = np.concatenate([points.lon_deg.to_numpy(float), estimated["lon_deg"].to_numpy(float),
                            track.known_lon if track is not None else []])
     sheet = Canvas(SHEET_PT * 1.5, SHEET_PT, PAPER)
-    ax0, ay0, ax1, ay1 = 70.0, 58.0, SHEET_PT * 1.5 - 40.0, SHEET_PT - 84.0
-    sheet.text(ax0 - 12, 24, title or f"Voyage track: {vessel or 'the vessel'}", 11, INK, bold=True)
+    box = (70.0, 58.0, SHEET_PT * 1.5 - 40.0, SHEET_PT - 84.0)
+    sheet.text(box[0] - 12, 24, title or f"Voyage track: {vessel or 'the vessel'}", 11, INK, bold=True)
     if lats.size == 0:
-        sheet.text(ax0, 100, "No known position: nothing to draw (give the departure as an entry row).", 9, INK)
+        sheet.text(box[0], 100, "No known position: nothing to draw (give the departure as an entry row).", 9, INK)
         return sheet
-    lat_mid = float(np.mean([lats.min(), lats.max()]))
-    lon_ref = float(lons[0])
-    cos_lat = math.cos(math.radians(lat_mid))
-
-    def plane(lat, lon):
-        d_lon = wrap_180(np.asarray(lon, dtype=float) - lon_ref)
-        return d_lon * 60.0 * cos_lat, (np.asarray(lat, dtype=float) - lat_mid) * 60.0
-
-    xs, ys = plane(lats, lons)
-    width_nm = max(float(np.ptp(xs)), 1.0)
-    height_nm = max(float(np.ptp(ys)), 1.0)
-    per_nm = min((ax1 - ax0) / (width_nm * 1.15), (ay1 - ay0) / (height_nm * 1.15))
-    cx, cy = (xs.max() + xs.min()) / 2.0, (ys.max() + ys.min()) / 2.0
-
-    def page(x, y):
-        return (ax0 + ax1) / 2.0 + (np.asarray(x) - cx) * per_nm, (ay0 + ay1) / 2.0 - (np.asarray(y) - cy) * per_nm
-
-    # the grid: degrees and minutes of latitude and longitude
-    half_w, half_h = (ax1 - ax0) / 2.0 / per_nm, (ay1 - ay0) / 2.0 / per_nm
-    step = _grid_step(2 * max(half_w, half_h))
-    lat_lo, lat_hi = lat_mid + (cy - half_h) / 60.0, lat_mid + (cy + half_h) / 60.0
-    lon_lo, lon_hi = lon_ref + (cx - half_w) / 60.0 / cos_lat, lon_ref + (cx + half_w) / 60.0 / cos_lat
-    for value in np.arange(np.ceil(lat_lo * 60 / step), np.floor(lat_hi * 60 / step) + 1) * step / 60:
-        _, py = page(0.0, plane(value, lon_ref)[1])
-        sheet.line([ax0, ax1], [float(py), float(py)], GRID, 0.6)
-        sheet.text(ax0 - 4, float(py), format_angle(float(value), "lat"), 7, INK, anchor="end", baseline="middle")
-    for value in np.arange(np.ceil(lon_lo * 60 / step), np.floor(lon_hi * 60 / step) + 1) * step / 60:
-        px, _ = page(plane(lat_mid, value)[0], 0.0)
-        sheet.line([float(px), float(px)], [ay0, ay1], GRID, 0.6)
-        sheet.text(float(px), ay1 + 6, format_angle(float(value), "lon"), 7, INK, anchor="end", baseline="top",
-                   rotation=30)
+    chart = _VoyageChart(lats, lons, box)
+    _voyage_grid(sheet, chart)
     # the DR legs, one per known position (the sheet is drawn to hold every point: nothing to clip)
     legs = points.leg.to_numpy()
-    px_all, py_all = page(*plane(points.lat_deg.to_numpy(float), points.lon_deg.to_numpy(float)))
+    px_all, py_all = chart.page(*chart.plane(points.lat_deg.to_numpy(float), points.lon_deg.to_numpy(float)))
     cuts = np.flatnonzero(np.diff(legs) != 0) + 1
     for xs_leg, ys_leg in zip(np.split(px_all, cuts), np.split(py_all, cuts)):
         if xs_leg.size >= 2:
             sheet.line(xs_leg.tolist(), ys_leg.tolist(), INK, 1.1, dash=(5.0, 3.0))
-    # the fixes and their ellipses; the set and drift arrows
-    arrow_nm = 0.06 * max(width_nm, height_nm) / 1.0  # an arrow this long stands for one knot
-    scale = math.sqrt(chi_square_2_quantile(0.95))  # chi-square(2) 95 %
+    arrow_nm = 0.06 * max(chart.width_nm, chart.height_nm) / 1.0  # an arrow this long stands for one knot
     if track is not None:
-        for lat, lon, label, cov in zip(track.known_lat, track.known_lon, track.known_label, track.known_cov_nm2):
-            fx, fy = (float(v) for v in page(*plane(lat, lon)))
-            if label.startswith("fix "):
-                # the ellipse where it shows (a fleet's tiny ellipses on a chart of a thousand miles are dots)
-                if np.all(np.isfinite(cov)) and np.trace(cov) > 0 and scale * math.sqrt(np.trace(cov)) * per_nm > 1.5:
-                    values, vectors = np.linalg.eigh(cov)
-                    t = np.linspace(0, 2 * np.pi, 48)
-                    ring = (vectors @ np.vstack([np.sqrt(max(values[0], 0)) * np.cos(t),
-                                                 np.sqrt(max(values[1], 0)) * np.sin(t)])) * scale
-                    ex, ey = page(plane(lat, lon)[0] + ring[1], plane(lat, lon)[1] + ring[0])
-                    sheet.polygon(ex.tolist(), ey.tolist(), fill=blend(ELLIPSE, PAPER, 0.2), outline=ELLIPSE, width=0.8)
-                sheet.line([fx - 5, fx + 5], [fy, fy], FIX, 1.8)
-                sheet.line([fx, fx], [fy - 5, fy + 5], FIX, 1.8)
-            else:
-                sheet.polygon([fx - 4, fx + 4, fx + 4, fx - 4], [fy - 4, fy - 4, fy + 4, fy + 4], outline=INK, width=1.4)
-                sheet.text(fx + 7, fy + 10, label.split(" at ")[0], 7, INK)
+        _voyage_known_positions(sheet, chart, track)
+    _voyage_marks(sheet, chart, fixes, estimated, noons, arrow_nm)
+    sheet.line([chart.ax0, chart.ax1, chart.ax1, chart.ax0, chart.ax0],
+               [chart.ay0, chart.ay0, chart.ay1, chart.ay1, chart.ay0], INK, 0.8)
+    _voyage_key(sheet, chart, arrow_nm)
+    return sheet
+
+
+def _voyage_grid(sheet, chart: _VoyageChart) -> None:
+    """The grid: degrees and minutes of latitude and longitude."""
+    half_w, half_h = (chart.ax1 - chart.ax0) / 2.0 / chart.per_nm, (chart.ay1 - chart.ay0) / 2.0 / chart.per_nm
+    step = _grid_step(2 * max(half_w, half_h))
+    lat_lo, lat_hi = chart.lat_mid + (chart.cy - half_h) / 60.0, chart.lat_mid + (chart.cy + half_h) / 60.0
+    lon_lo = chart.lon_ref + (chart.cx - half_w) / 60.0 / chart.cos_lat
+    lon_hi = chart.lon_ref + (chart.cx + half_w) / 60.0 / chart.cos_lat
+    for value in np.arange(np.ceil(lat_lo * 60 / step), np.floor(lat_hi * 60 / step) + 1) * step / 60:
+        _, py = chart.page(0.0, chart.plane(value, chart.lon_ref)[1])
+        sheet.line([chart.ax0, chart.ax1], [float(py), float(py)], GRID, 0.6)
+        sheet.text(chart.ax0 - 4, float(py), format_angle(float(value), "lat"), 7, INK, anchor="end",
+                   baseline="middle")
+    for value in np.arange(np.ceil(lon_lo * 60 / step), np.floor(lon_hi * 60 / step) + 1) * step / 60:
+        px, _ = chart.page(chart.plane(chart.lat_mid, value)[0], 0.0)
+        sheet.line([float(px), float(px)], [chart.ay0, chart.ay1], GRID, 0.6)
+        sheet.text(float(px), chart.ay1 + 6, format_angle(float(value), "lon"), 7, INK, anchor="end", baseline="top",
+                   rotation=30)
+
+
+def _voyage_known_positions(sheet, chart: _VoyageChart, track) -> None:
+    """The fixes with their ellipses, and the departure and position entries."""
+    from .drawing import blend
+
+    scale = math.sqrt(chi_square_2_quantile(0.95))  # chi-square(2) 95 %
+    for lat, lon, label, cov in zip(track.known_lat, track.known_lon, track.known_label, track.known_cov_nm2):
+        fx, fy = chart.at(lat, lon)
+        if label.startswith("fix "):
+            # the ellipse where it shows (a fleet's tiny ellipses on a chart of a thousand miles are dots)
+            if np.all(np.isfinite(cov)) and np.trace(cov) > 0 and scale * math.sqrt(np.trace(cov)) * chart.per_nm > 1.5:
+                values, vectors = np.linalg.eigh(cov)
+                t = np.linspace(0, 2 * np.pi, 48)
+                ring = (vectors @ np.vstack([np.sqrt(max(values[0], 0)) * np.cos(t),
+                                             np.sqrt(max(values[1], 0)) * np.sin(t)])) * scale
+                ex, ey = chart.page(chart.plane(lat, lon)[0] + ring[1], chart.plane(lat, lon)[1] + ring[0])
+                sheet.polygon(ex.tolist(), ey.tolist(), fill=blend(ELLIPSE, PAPER, 0.2), outline=ELLIPSE, width=0.8)
+            sheet.line([fx - 5, fx + 5], [fy, fy], FIX, 1.8)
+            sheet.line([fx, fx], [fy - 5, fy + 5], FIX, 1.8)
+        else:
+            sheet.polygon([fx - 4, fx + 4, fx + 4, fx - 4], [fy - 4, fy - 4, fy + 4, fy + 4], outline=INK, width=1.4)
+            sheet.text(fx + 7, fy + 10, label.split(" at ")[0], 7, INK)
+
+
+def _voyage_marks(sheet, chart: _VoyageChart, fixes, estimated, noons, arrow_nm: float) -> None:
+    """The set and drift arrows at the fixes, the estimated positions and the noon positions."""
     for f in fixes.to_dict("records"):
-        if not np.isfinite(f["set (deg)"]):
+        if not np.isfinite(f["set_deg"]):
             continue
-        fx, fy = plane(f["fix lat (deg)"], f["fix lon (deg)"])
-        length = f["drift (kn)"] * arrow_nm
-        turn = math.radians(f["set (deg)"])
+        fx, fy = chart.plane(f["fix_lat_deg"], f["fix_lon_deg"])
+        length = f["drift_kn"] * arrow_nm
+        turn = math.radians(f["set_deg"])
         tx, ty = float(fx) + length * math.sin(turn), float(fy) + length * math.cos(turn)
-        (sx, sy), (ex_, ey_) = page(float(fx), float(fy)), page(tx, ty)
+        (sx, sy), (ex_, ey_) = chart.page(float(fx), float(fy)), chart.page(tx, ty)
         sheet.line([float(sx), float(ex_)], [float(sy), float(ey_)], CHART, 1.6)
         back = math.atan2(float(sy) - float(ey_), float(sx) - float(ex_))
         head = [(float(ex_) + 6 * math.cos(back + s), float(ey_) + 6 * math.sin(back + s)) for s in (0.45, -0.45)]
         sheet.polygon([float(ex_), head[0][0], head[1][0]], [float(ey_), head[0][1], head[1][1]], fill=CHART,
                       outline=CHART, width=0.5)
     for e in estimated.to_dict("records"):
-        px, py = (float(v) for v in page(*plane(e["lat (deg)"], e["lon (deg)"])))
+        px, py = chart.at(e["lat_deg"], e["lon_deg"])
         sheet.polygon([px - 4, px + 4, px + 4, px - 4], [py - 4, py - 4, py + 4, py + 4], outline=FIX, width=1.2)
-        sheet.text(px + 7, py - 6, f"EP {e['UTC'][11:16]}" + (" (see its warning)" if e.get("note") else ""), 7, FIX)
+        sheet.text(px + 7, py - 6, f"EP {e['utc'][11:16]}" + (" (see its warning)" if e.get("note") else ""), 7, FIX)
     for n in noons.to_dict("records"):
-        px, py = (float(v) for v in page(*plane(n["lat (deg)"], n["lon (deg)"])))
+        px, py = chart.at(n["lat_deg"], n["lon_deg"])
         sheet.circle(px, py, 3.2, fill=INK)
         sheet.text(px + 7, py + 13, f"noon {n['date'][5:]}", 7, INK)
-    sheet.line([ax0, ax1, ax1, ax0, ax0], [ay0, ay0, ay1, ay1, ay0], INK, 0.8)
-    # the key, the scale bar and the north arrow
+
+
+def _voyage_key(sheet, chart: _VoyageChart, arrow_nm: float) -> None:
+    """The key, the scale bar and the north arrow."""
+    ax0, ay0, ax1 = chart.ax0, chart.ay0, chart.ax1
     key_y = SHEET_PT - 16
     sheet.line([ax0, ax0 + 22], [key_y, key_y], INK, 1.1, dash=(5.0, 3.0))
     sheet.text(ax0 + 26, key_y + 3, "DR from each known position", 7, INK)
@@ -536,10 +571,10 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
     kx += 125
     sheet.circle(kx, key_y, 3.2, fill=INK)
     sheet.text(kx + 8, key_y + 3, "noon", 7, INK)
-    bar = _nice_length(max(width_nm, height_nm) * 0.2)
+    bar = _nice_length(max(chart.width_nm, chart.height_nm) * 0.2)
     bx, by = ax0 + 14, ay0 + 18
-    sheet.line([bx, bx + bar * per_nm], [by, by], INK, 3.0)
-    sheet.text(bx + bar * per_nm / 2, by - 5, f"{bar:g} nautical mile{'s' if bar != 1 else ''}", 8, INK,
+    sheet.line([bx, bx + bar * chart.per_nm], [by, by], INK, 3.0)
+    sheet.text(bx + bar * chart.per_nm / 2, by - 5, f"{bar:g} nautical mile{'s' if bar != 1 else ''}", 8, INK,
                anchor="middle", box=PAPER)
     nx, ny = ax1 - 20, ay0 + 50
     sheet.line([nx, nx], [ny, ny - 28], INK, 1.6)
@@ -547,4 +582,3 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
     sheet.text(nx, ny - 37, "N", 11, INK, anchor="middle", bold=True)
     sheet.text(ax0 - 12, 40, "Each fix restarts the DR; set and drift are found against the DR through the water. "
                "An aid to navigation, not a sole means.", 8, INK)
-    return sheet

@@ -55,9 +55,9 @@ def _front(report, cadet: str, part) -> list:
     if len(personal):
         p = personal.iloc[0]
         blocks += [Text("Against the ship's track", "subheading"),
-                   Text(f"Personal error {p['personal error (′)']:+.2f}′ ± {p['95 % interval (′)']:.2f}′ (95 %), "
-                        f"scatter {p['scatter (′)']:.2f}′, over {int(p['sights'])} sights, {int(p['blunders'])} of "
-                        f"them blunders (over 5′, left out of the mean); trend {p['trend (′ per day)']:+.3f}′ a day. "
+                   Text(f"Personal error {p['personal_error_arcmin']:+.2f}′ ± {p['interval_95_arcmin']:.2f}′ (95 %), "
+                        f"scatter {p['scatter_arcmin']:.2f}′, over {int(p['sights'])} sights, {int(p['blunders'])} of "
+                        f"them blunders (over 5′, left out of the mean); trend {p['trend_arcmin_per_day']:+.3f}′ a day. "
                         "The error is Ho − Hc at the ship's position from the track: it covers the sextant, the "
                         "horizon and the observer, not the working.")]
     fixes = report.fixes[report.fixes.cadet == cadet] if len(report.fixes) else report.fixes

@@ -63,6 +63,8 @@ def check_output(path: str | Path, inputs: Iterable[str | Path] = (), *, suffixe
             raise OutputError(f"{target} is not a regular file (a device, a pipe or a socket): navred writes only "
                               "regular files")
     for source in inputs:
+        if "\x00" in str(source):
+            continue  # no file has such a name: it is refused by its reader
         source_path = Path(source)
         try:
             same = source_path.exists() and target.exists() and os.path.samefile(source_path, target)
@@ -174,6 +176,11 @@ def atomic_write(path: str | Path, write: Callable[[str], object], *, inputs: It
         if os.path.exists(temporary):
             os.unlink(temporary)
     return target
+
+
+def write_text(path: str | Path, text: str, *, inputs: Iterable[str | Path] = ()) -> Path:
+    """A text file (UTF-8) written through :func:`atomic_write`."""
+    return atomic_write(path, lambda p: Path(p).write_text(text, encoding="utf-8"), inputs=inputs)
 
 
 def atomic_write_many(folder: str | Path, files: dict[str, bytes], *, inputs: Iterable[str | Path] = ()) -> list[Path]:

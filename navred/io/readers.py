@@ -17,7 +17,9 @@ import csv
 import io
 import re
 import zipfile
+from collections.abc import Sequence
 from dataclasses import dataclass, field
+from os import PathLike
 from pathlib import Path
 
 import numpy as np
@@ -53,6 +55,13 @@ SEPARATORS = {",": "comma", ";": "semicolon", "\t": "tab"}
 _CONTROL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
 _NUL_STANDIN = "\ue000"  # a NUL byte while the CSV is split (the csv module refuses NUL itself)
 _CR_STANDIN = "\ue001"  # a carriage return alone inside a line, likewise
+
+#: The columns of every table of rejected rows (a sight log's, a rating log's): the file, the row as a
+#: spreadsheet shows it, the column, the value as written and why it was refused.
+REJECTED_COLUMNS = ["source", "row", "column", "value", "reason"]
+
+#: What a reader takes: a file (its path), a list of files, a folder of them, or a pandas DataFrame.
+LogSource = str | PathLike[str] | Sequence[str | PathLike[str]] | pd.DataFrame
 
 
 class LogbookError(NavredError):
@@ -128,7 +137,8 @@ class ReadBudget:
             "split the logs, or leave out the columns navred does not use"))
 
 
-def read_table(source: object, *, all_sheets: bool = False, budget: ReadBudget | None = None) -> list[RawTable]:
+def read_table(source: LogSource | RawTable, *, all_sheets: bool = False,
+               budget: ReadBudget | None = None) -> list[RawTable]:
     """The tables of a source: one file, a list of files, a folder of logs, a pandas DataFrame, or a RawTable.
 
     ``all_sheets``: every sheet of a workbook that holds a table (a class's workings, a sheet per

@@ -29,7 +29,7 @@ from ..rating import RateChange, RateFit, error_in_half_day, fit_rate, rate_chan
 from ..timescales import utc_jd_to_datetime64, utc_julian_date, utc_julian_date_from_components
 from ..timework import DATE_ORDERS, iso_instant_text, parse_time_of_day, parse_zone_description
 from ..vocabulary import normalise_header, unknown_header_refusal
-from .readers import LogbookError, read_table
+from .readers import REJECTED_COLUMNS, LogbookError, LogSource, read_table
 
 #: The rating log's columns and the headers that name them.
 RATING_COLUMNS = {
@@ -39,7 +39,6 @@ RATING_COLUMNS = {
     "zone_description": ("zone_description", "zd", "zone"),
 }
 _HEADERS = {spelling: key for key, spellings in RATING_COLUMNS.items() for spelling in spellings}
-REJECTED_COLUMNS = ["source", "row", "column", "value", "reason"]
 #: A prediction further than this beyond the comparisons (days) is noted: the rate may have changed.
 EXTRAPOLATION_NOTE_DAYS = 30.0
 _EPOCH = np.datetime64("2000-01-01T00:00:00", "ns")
@@ -50,7 +49,7 @@ def days_of(utc64: np.ndarray) -> np.ndarray:
     return (np.asarray(utc64, dtype="datetime64[ns]") - _EPOCH).astype(np.int64) / NS_PER_DAY
 
 
-@dataclass
+@dataclass(frozen=True)
 class Timepiece:
     """One timepiece: its comparisons (in time order), the fitted line and the test for a change of rate."""
 
@@ -87,7 +86,7 @@ class Timepiece:
         return text
 
 
-@dataclass
+@dataclass(frozen=True)
 class Ratings:
     """The rating log read: every timepiece, and the rows that could not be read."""
 
@@ -95,6 +94,13 @@ class Ratings:
     rejected: pd.DataFrame
     sources: tuple[str, ...] = ()
     notes: list[str] = field(default_factory=list)
+
+    def comparisons_table(self) -> pd.DataFrame:
+        """Every comparison of every timepiece with its error and residual (the --csv table), the signal's
+        instant as ISO 8601 with Z."""
+        frames = [p.comparisons.assign(signal_utc=p.comparisons.signal_utc.dt.strftime("%Y-%m-%dT%H:%M:%SZ"))
+                  for p in self.timepieces.values()]
+        return pd.concat(frames, ignore_index=True) if frames else pd.DataFrame()
 
     def predict(self, names: np.ndarray, utc64: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         """Each sight's predicted error (seconds, fast +), its standard error, and the note that says where it
@@ -133,7 +139,7 @@ def _cell_text(value) -> str:
 
 
 @api_boundary
-def read_rating_log(source: object, *, dates: str | None = None) -> Ratings:
+def read_rating_log(source: LogSource, *, dates: str | None = None) -> Ratings:
     """Read a rating log (one file, several, or a folder) and fit each timepiece's error and rate.
 
     ``dates``: the order of numeric dates (``'day-first'`` or ``'month-first'``), as for a sight log;

@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import datetime as dt
 from dataclasses import dataclass
+from pathlib import Path
 
 import numpy as np
 
@@ -399,5 +400,38 @@ def bridge_plan(first_date: object, days: int, lat_deg: float, lon_deg: float, *
                       tuple(day_events), tuple(noons), tuple(rounds), tuple(windows))
 
 
+
+def plans_csv_path(path: str | Path) -> Path:
+    """Where :func:`write_plan_files` writes the plans table beside the day's times (the name with -plans)."""
+    target = Path(path)
+    return target.with_name(target.stem + "-plans" + target.suffix)
+
+
+def write_plan_files(plan: BridgePlan, files: dict[str, str]) -> list[Path]:
+    """The plan's files by suffix: .txt (the text shown), .pdf (a page per round, for the bridge), .csv (the
+    day's times, and the plans beside it: :func:`plans_csv_path`), .png or .svg (the first round's sky). The
+    files written, in that order."""
+    from ..io.output import atomic_write, csv_text, write_text
+
+    written = []
+    if ".txt" in files:
+        written.append(write_text(files[".txt"], "\n".join(plan.text_lines()) + "\n"))
+    if ".pdf" in files:
+        from ..io.printed import write_pdf
+
+        written.append(write_pdf(plan.document(), files[".pdf"]))
+    if ".csv" in files:
+        events, table = csv_text(plan.events_table()), csv_text(plan.plans_table())
+        written.append(write_text(files[".csv"], events))
+        written.append(write_text(plans_csv_path(files[".csv"]), table))
+    pictures = [files[s] for s in (".png", ".svg") if s in files]
+    if pictures and plan.rounds:
+        from ..figures.plotting import save_figure, sky_picture
+
+        first = plan.rounds[0]
+        for path in pictures:
+            written.append(atomic_write(path, lambda p: save_figure(sky_picture(first.plan, title=first.label), p)))
+    return written
+
 __all__ = ["BridgePlan", "PlannedTwilight", "NoonSun", "DayEvents", "bridge_plan", "planned_rounds", "noon_suns",
-           "provenance_line", "signed", "dm", "hm", "zone_time", "zone_text", "to_minute", "long_date", "zone_for"]
+           "provenance_line", "write_plan_files", "plans_csv_path", "signed", "dm", "hm", "zone_time", "zone_text", "to_minute", "long_date", "zone_for"]

@@ -48,6 +48,8 @@ class WatchAzimuths:
     twilight: pd.DataFrame
     risings: pd.DataFrame
     step_minutes: float
+    #: the local dates the tables hold ('2026-03-26 to 2026-03-28 (local dates)'), for the printed pages
+    valid_for: str = ""
 
     def text_lines(self) -> list[str]:
         lines = ["Sunrise and sunset along the DR: the true amplitude when the Sun's centre is on the celestial "
@@ -70,7 +72,7 @@ class WatchAzimuths:
                              f"{r['zn_deg']:05.1f}° {r['hc_deg']:6.1f}°")
         return lines
 
-    def document(self, valid: str):
+    def document(self, valid: str | None = None):
         from ..io.cautions import CAUTION
         from ..io.printed import Document, Page, Table, Text
         from ..timescales import instants
@@ -97,7 +99,7 @@ class WatchAzimuths:
                                 compact=True, width_fraction=0.7))
         utc = pd.to_datetime(self.sun.utc).to_numpy(dtype="datetime64[ns]")
         inst = instants(utc[:1] if utc.size else np.array([np.datetime64("2000-01-01", "ns")]))
-        return Document("navred azimuths for the compass", valid, provenance_line(inst.dut1_s, inst.ut1_source),
+        return Document("navred azimuths for the compass", valid or self.valid_for, provenance_line(inst.dut1_s, inst.ut1_source),
                         CAUTION, (Page("Azimuths and amplitudes along the DR", tuple(blocks)),))
 
 
@@ -153,8 +155,11 @@ def watch_azimuths(first_date: object, days: int, lat_deg: float, lon_deg: float
                 twilight_rows.append({"utc": str(np.datetime64(t, "m")).replace("T", " "),
                                       "zone_time": hm(zone_time(t, zd)), "zone_description_h": zd, "body": body[0],
                                       "zn_deg": float(z), "hc_deg": float(h)})
+    first = str(np.datetime64(str(first_date), "D"))
+    last = str(np.datetime64(first) + np.timedelta64(days - 1, "D"))
+    valid = first + (f" to {last}" if days > 1 else "") + " (local dates)"
     return WatchAzimuths(pd.DataFrame(sun_rows), pd.DataFrame(twilight_rows), pd.DataFrame(rise_rows),
-                         float(step_minutes))
+                         float(step_minutes), valid)
 
 
 def _ceil(when, step) -> np.datetime64:
@@ -175,6 +180,14 @@ class CompassBook:
     curve: DeviationCurve | None
     card: pd.DataFrame
     sources: tuple[str, ...]
+
+    #: the columns of :meth:`table`, every bearing worked out (the --csv table)
+    TABLE_COLUMNS = ("row", "source", "utc", "body", "compass", "bearing_deg", "true_bearing_deg", "altitude_deg",
+                     "gyro_error_deg", "heading_deg", "variation_deg", "compass_error_deg", "deviation_deg", "remarks")
+
+    def table(self) -> pd.DataFrame:
+        """Every bearing worked out, one row each (the columns :attr:`TABLE_COLUMNS` the book has)."""
+        return self.observations[[c for c in self.TABLE_COLUMNS if c in self.observations]]
 
     def text_lines(self) -> list[str]:
         lines = [f"{'row':>4}  {'UTC':<21}{'body':<11}{'compass':<9}{'read':>7}{'true':>8}  error"]
@@ -286,4 +299,66 @@ def compass_book(source, *, dates: str | None = None) -> CompassBook:
     return CompassBook(table, pd.concat(rejected, ignore_index=True), curve, card, book.sources)
 
 
-__all__ = ["WatchAzimuths", "watch_azimuths", "CompassBook", "compass_book", "zone_text"]
+# --- One bearing checked ------------------------------------------------------------------------
+
+@dataclass(frozen=True)
+class BearingCheck:
+    """A body's true azimuth at an instant from the DR, its amplitudes (at the true and at the visible horizon),
+    and, with a compass bearing, the compass error and the deviation against the variation."""
+
+    body: str
+    utc: str
+    lat_deg: float
+    lon_deg: float
+    zn_deg: float
+    hc_deg: float
+    #: (horizon, amplitude in degrees, north +; NaN where the body does not rise or set there)
+    amplitudes: tuple[tuple[str, float], ...]
+    compass_bearing_deg: float | None = None
+    variation_deg: float = 0.0
+    heading_deg: float | None = None
+    compass_error_deg: float | None = None
+    deviation_deg: float | None = None
+
+    @property
+    def card_row(self) -> dict:
+        """The check as a row of the deviation card (:data:`navred.io.cards.CARD_COLUMNS`)."""
+        return {"utc": self.utc, "body": self.body, "lat_deg": self.lat_deg, "lon_deg": self.lon_deg,
+                "compass_heading_deg": self.heading_deg, "compass_bearing_deg": self.compass_bearing_deg,
+                "true_bearing_deg": round(self.zn_deg, 2),
+                "compass_error_deg": None if self.compass_error_deg is None else round(self.compass_error_deg, 2),
+                "variation_deg": self.variation_deg,
+                "deviation_deg": None if self.deviation_deg is None else round(self.deviation_deg, 2)}
+
+    def table(self) -> pd.DataFrame:
+        """The check as one row (the --csv table): the card's columns and the two amplitudes."""
+        row = self.card_row | {"hc_deg": self.hc_deg}
+        for horizon, value in self.amplitudes:
+            row[f"amplitude_{horizon.replace(' ', '_')}_deg"] = value
+        return pd.DataFrame([row])
+
+
+def bearing_check(body: str, utc: str, lat_deg: float, lon_deg: float, *, compass_bearing_deg: float | None = None,
+                  variation_deg: float = 0.0, heading_deg: float | None = None,
+                  eye_height_m: float = 0.0) -> BearingCheck:
+    """A compass check on one body (see :class:`BearingCheck`); the amplitude at the visible horizon is for a
+    height of eye of ``eye_height_m``."""
+    from ..almanac import places
+    from ..compass import amplitude_deg, compass_check, visible_horizon_altitude_deg
+    from ..stars import canonical_body_name
+
+    name = canonical_body_name(body)
+    zn, hc = compass_check(name, utc, lat_deg, lon_deg)
+    dec = float(np.ravel(places(name, utc).dec_deg)[0])
+    amplitudes = tuple((horizon, float(amplitude_deg(dec, lat_deg, altitude))) for horizon, altitude in (
+        ("true horizon", 0.0), ("visible horizon", float(visible_horizon_altitude_deg(eye_height_m)))))
+    if compass_bearing_deg is None:
+        return BearingCheck(name, utc, lat_deg, lon_deg, float(zn), float(hc), amplitudes,
+                            variation_deg=variation_deg, heading_deg=heading_deg)
+    error = float(compass_error_deg(zn, compass_bearing_deg))
+    return BearingCheck(name, utc, lat_deg, lon_deg, float(zn), float(hc), amplitudes, compass_bearing_deg,
+                        variation_deg, heading_deg, error, float(deviation_deg(error, variation_deg)))
+
+
+__all__ = ["WatchAzimuths", "watch_azimuths", "CompassBook", "compass_book", "BearingCheck", "bearing_check",
+           "zone_text"]

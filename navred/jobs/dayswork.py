@@ -49,9 +49,11 @@ NOON_WINDOW_HOURS = 1.0
 TRACK_STEP_HOURS = 1.0
 
 
-@dataclass
+@dataclass(frozen=True)
 class DaysWork:
-    """The day's work of a voyage: set and drift at each fix, estimated positions, noons, the DR track."""
+    """The day's work of a voyage: set and drift at each fix, estimated positions, noons, the DR track. The
+    tables' columns are snake_case with units (:data:`SET_DRIFT_COLUMNS`, :data:`ESTIMATED_COLUMNS`,
+    :data:`NOON_COLUMNS`); the workbook shows them with their labels (:mod:`navred.io.labels`)."""
 
     set_drift: pd.DataFrame
     estimated: pd.DataFrame
@@ -60,29 +62,31 @@ class DaysWork:
     #: each vessel's DR (with its known positions, and its DR through the water beside it)
     tracks: dict[str, DRTrack] = field(default_factory=dict)
     carry_current: bool = False
+    #: each table split by vessel, made when first asked for (:meth:`of_vessel`)
+    cache: dict = field(default_factory=dict, repr=False, compare=False)
 
     def of_vessel(self, vessel: str) -> tuple[pd.DataFrame, pd.DataFrame, pd.DataFrame, pd.DataFrame]:
         """One vessel's track points, set and drift, estimated positions and noons (split once, kept)."""
-        if not hasattr(self, "_by_vessel"):
+        tables = (self.track_points, self.set_drift, self.estimated, self.noons)
+        if "by vessel" not in self.cache:
             def split(frame):
                 return {v: part for v, part in frame.groupby("vessel", sort=False)} if len(frame) else {}
 
-            self._by_vessel = [split(f) for f in (self.track_points, self.set_drift, self.estimated, self.noons)]
-        empty = (self.track_points, self.set_drift, self.estimated, self.noons)
-        return tuple(parts.get(vessel, frame.iloc[:0]) for parts, frame in zip(self._by_vessel, empty))
+            self.cache["by vessel"] = [split(f) for f in tables]
+        return tuple(parts.get(vessel, frame.iloc[:0]) for parts, frame in zip(self.cache["by vessel"], tables))
 
     @property
     def empty(self) -> bool:
         return not len(self.set_drift) and not len(self.estimated) and not len(self.noons)
 
 
-SET_DRIFT_COLUMNS = ["vessel", "fix group", "fix (UTC)", "fix", "from", "hours", "DR at the fix",
-                     "set (deg)", "set ±95 % (deg)", "drift (kn)", "drift ±95 % (kn)", "note",
-                     "fix lat (deg)", "fix lon (deg)", "dr lat (deg)", "dr lon (deg)"]
-ESTIMATED_COLUMNS = ["vessel", "fix group", "UTC", "estimated position", "from", "note", "lat (deg)", "lon (deg)"]
-NOON_COLUMNS = ["vessel", "date", "zone (h)", "noon (UTC)", "noon position", "noon from", "run (nm)",
-                "course made good (deg)", "speed made good (kn)", "through the water (nm)", "hours",
-                "fixes that day", "lat (deg)", "lon (deg)"]
+SET_DRIFT_COLUMNS = ["vessel", "fix_group", "fix_utc", "fix", "from", "hours", "dr_at_fix",
+                     "set_deg", "set_95_deg", "drift_kn", "drift_95_kn", "note",
+                     "fix_lat_deg", "fix_lon_deg", "dr_lat_deg", "dr_lon_deg"]
+ESTIMATED_COLUMNS = ["vessel", "fix_group", "utc", "estimated_position", "from", "note", "lat_deg", "lon_deg"]
+NOON_COLUMNS = ["vessel", "date", "zone_h", "noon_utc", "noon_position", "noon_from", "run_nm",
+                "course_made_good_deg", "speed_made_good_kn", "through_water_nm", "hours",
+                "fixes_that_day", "lat_deg", "lon_deg"]
 
 
 def _fix_vessels(voyage) -> dict[str, str]:
@@ -260,15 +264,15 @@ def _set_drift_rows(vessel: str, track: DRTrack) -> list[dict]:
         set_sigma = result.set_95_deg[j]
         note = ("the drift does not stand clear of its uncertainty: the set is not determined"
                 if not np.isfinite(set_sigma) else "")
-        rows.append({"vessel": vessel, "fix group": label[4:], "fix (UTC)": _stamp(track.known_ns[i]),
+        rows.append({"vessel": vessel, "fix_group": label[4:], "fix_utc": _stamp(track.known_ns[i]),
                      "fix": fix_text[j],
                      "from": track.known_label[k], "hours": round(float(hours[k]), 2),
-                     "DR at the fix": dr_text[j],
-                     "set (deg)": float(result.set_deg[j]), "set ±95 % (deg)": float(set_sigma),
-                     "drift (kn)": float(result.drift_kn[j]), "drift ±95 % (kn)": float(result.drift_95_kn[j]),
-                     "note": note, "fix lat (deg)": float(track.known_lat[i]),
-                     "fix lon (deg)": float(track.known_lon[i]), "dr lat (deg)": float(dr_lat[k]),
-                     "dr lon (deg)": float(dr_lon[k])})
+                     "dr_at_fix": dr_text[j],
+                     "set_deg": float(result.set_deg[j]), "set_95_deg": float(set_sigma),
+                     "drift_kn": float(result.drift_kn[j]), "drift_95_kn": float(result.drift_95_kn[j]),
+                     "note": note, "fix_lat_deg": float(track.known_lat[i]),
+                     "fix_lon_deg": float(track.known_lon[i]), "dr_lat_deg": float(dr_lat[k]),
+                     "dr_lon_deg": float(dr_lon[k])})
     return rows
 
 
@@ -287,17 +291,17 @@ def _estimated_positions(voyage, tracks) -> list[dict]:
                          if status[k] == SightStatus.WARNING and messages[k])
         if group.fix is not None and not group.fix.is_fix:
             fix = group.fix
-            out.append({"vessel": vessels[group.name], "fix group": group.name, "UTC": _stamp(
-                np.datetime64(fix.utc, "ns").astype(np.int64)), "estimated position": _position_text(
-                fix.lat_deg, fix.lon_deg), "from": f"the {fix.kind} nearest the DR", "note": note, "lat (deg)": fix.lat_deg,
-                "lon (deg)": fix.lon_deg})
+            out.append({"vessel": vessels[group.name], "fix_group": group.name, "utc": _stamp(
+                np.datetime64(fix.utc, "ns").astype(np.int64)), "estimated_position": _position_text(
+                fix.lat_deg, fix.lon_deg), "from": f"the {fix.kind} nearest the DR", "note": note, "lat_deg": fix.lat_deg,
+                "lon_deg": fix.lon_deg})
         elif group.fix is None and usable.size == 1:
             r = reduced.iloc[int(usable[0])]
             lat, lon = estimated_position(r["dr_lat_deg"], r["dr_lon_deg"], r["intercept_nm"], r["zn_deg"])
-            out.append({"vessel": vessels[group.name], "fix group": group.name,
-                        "UTC": str(r["sight_utc"])[:19], "estimated position": _position_text(float(lat), float(lon)),
+            out.append({"vessel": vessels[group.name], "fix_group": group.name,
+                        "utc": str(r["sight_utc"])[:19], "estimated_position": _position_text(float(lat), float(lon)),
                         "from": f"one {r['body_name']} line: the foot of the perpendicular from the DR",
-                        "note": note, "lat (deg)": float(lat), "lon (deg)": float(lon)})
+                        "note": note, "lat_deg": float(lat), "lon_deg": float(lon)})
     return out
 
 
@@ -330,7 +334,7 @@ def _noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict]) -> li
     # a fix, else an estimated position, within the hour carried to noon along the DR's velocity
     fixes = [(int(t), la, lo, lab) for t, la, lo, lab in zip(track.known_ns, track.known_lat, track.known_lon,
                                                             track.known_label) if lab.startswith("fix ")]
-    eps = [(int(pd.Timestamp(e["UTC"]).value), e["lat (deg)"], e["lon (deg)"], f"estimated position {e['fix group']}")
+    eps = [(int(pd.Timestamp(e["utc"]).value), e["lat_deg"], e["lon_deg"], f"estimated position {e['fix_group']}")
            for e in estimated if e["vessel"] == vessel]
     for k, t in enumerate(noon.tolist()):
         for candidates in (fixes, eps):
@@ -356,15 +360,15 @@ def _noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict]) -> li
         # a fix within half a minute of noon is the noon fix (a chronometer's error moves it by a fraction of a second)
         count = (int(((fix_times > previous + 30 * NS_PER_SECOND) & (fix_times <= noon[k] + 30 * NS_PER_SECOND)).sum())
                  if fix_times.size else 0)
-        rows.append({"vessel": vessel, "date": date, "zone (h)": float(guess[k]), "noon (UTC)": _stamp(noon[k]),
-                     "noon position": _position_text(lat[k], lon[k]) if np.isfinite(lat[k]) else "",
-                     "noon from": source[k],
-                     "run (nm)": float(run.distance_nm[k - 1]) if k else np.nan,
-                     "course made good (deg)": float(run.course_deg[k - 1]) if k else np.nan,
-                     "speed made good (kn)": float(run.speed_kn[k - 1]) if k else np.nan,
-                     "through the water (nm)": float(through[k - 1]) if k else np.nan,
-                     "hours": float(run.hours[k - 1]) if k else np.nan, "fixes that day": count,
-                     "lat (deg)": float(lat[k]), "lon (deg)": float(lon[k])})
+        rows.append({"vessel": vessel, "date": date, "zone_h": float(guess[k]), "noon_utc": _stamp(noon[k]),
+                     "noon_position": _position_text(lat[k], lon[k]) if np.isfinite(lat[k]) else "",
+                     "noon_from": source[k],
+                     "run_nm": float(run.distance_nm[k - 1]) if k else np.nan,
+                     "course_made_good_deg": float(run.course_deg[k - 1]) if k else np.nan,
+                     "speed_made_good_kn": float(run.speed_kn[k - 1]) if k else np.nan,
+                     "through_water_nm": float(through[k - 1]) if k else np.nan,
+                     "hours": float(run.hours[k - 1]) if k else np.nan, "fixes_that_day": count,
+                     "lat_deg": float(lat[k]), "lon_deg": float(lon[k])})
     return rows
 
 

@@ -7,6 +7,8 @@ so that the core never sees a DataFrame.
 
 from __future__ import annotations
 
+from collections.abc import Sequence
+
 import numpy as np
 import pandas as pd
 from numpy.typing import ArrayLike
@@ -16,10 +18,12 @@ from ..errors import NavredError, api_boundary
 from ..fix import FixResult, fix_from_sights
 from ..series import SIGMAS, THRESHOLD_ARCMIN, check_series, series_ids
 from ..status import SightStatus
+from ..timescales import Instant
 
 
 @api_boundary
-def body_positions(body: str | ArrayLike, utc: object, dut1_s: ArrayLike | None = None) -> pd.DataFrame:
+def body_positions(body: str | ArrayLike, utc: Instant | Sequence[Instant] | np.ndarray,
+                   dut1_s: ArrayLike | None = None) -> pd.DataFrame:
     """Almanac data of bodies at instants, as a pandas DataFrame (one row per pair).
 
     ``body``: a name or a sequence of names (stars by their IAU names, Sun, Moon,
@@ -99,16 +103,20 @@ def row_list(frame: pd.DataFrame) -> str:
 
 
 @api_boundary
-def fix_position(reduced: pd.DataFrame, at_utc: object | None = None, *, chart_lat: float | None = None,
-                 chart_lon: float | None = None, solve_motion: bool = False, set_deg: float | None = None,
-                 drift_kn: float | None = None, course_deg: float | None = None,
+def fix_position(reduced: pd.DataFrame, at_utc: Instant | None = None, *, group: str | None = None,
+                 chart_lat: float | None = None, chart_lon: float | None = None, solve_motion: bool = False,
+                 set_deg: float | None = None, drift_kn: float | None = None, course_deg: float | None = None,
                  speed_kn: float | None = None) -> FixResult:
-    """The least-squares fix from reduced sights (the output of :func:`navred.reduce_sights`).
+    """The least-squares fix of one fix group's reduced sights (the output of :func:`navred.reduce_sights`).
 
     Rows with ``status == 'error'`` are left out (their residual is NaN). Sights at
     different times make a running fix at ``at_utc`` (default: the last sight's time), using
     the ``course_deg`` and ``speed_kn`` columns, or the arguments of that name for the whole
     set, plus a current ``set_deg``/``drift_kn``. See :func:`navred.fix.fix_from_sights`.
+
+    The sights of several fix groups (a whole log's) are refused, naming the groups: fixed as one they would
+    make one running fix across hours. Give ``group`` to fix one of them, or fix every group with
+    :func:`navred.process_log`.
     """
     needed = ("gha_deg", "dec_deg", "ho_deg", "sight_utc", "dr_lat_deg", "dr_lon_deg")
     if not isinstance(reduced, pd.DataFrame):
@@ -116,6 +124,7 @@ def fix_position(reduced: pd.DataFrame, at_utc: object | None = None, *, chart_l
     missing = [c for c in needed if c not in reduced.columns]
     if missing:
         raise NavredError(f"fix_position needs the columns of reduce_sights; missing: {', '.join(missing)}")
+    reduced = one_fix_group(reduced, group)
     usable = (reduced["status"].to_numpy() != SightStatus.ERROR) if "status" in reduced.columns else None
 
     def column(name, given):
@@ -130,6 +139,34 @@ def fix_position(reduced: pd.DataFrame, at_utc: object | None = None, *, chart_l
         usable=usable, course_deg=column("course_deg", course_deg), speed_kn=column("speed_kn", speed_kn),
         at_utc=at_utc, chart_lat=chart_lat, chart_lon=chart_lon, solve_motion=solve_motion, set_deg=set_deg,
         drift_kn=drift_kn, labels=row_labels(reduced))
+
+
+def one_fix_group(reduced: pd.DataFrame, group: str | None = None) -> pd.DataFrame:
+    """The sights of one fix group: ``group``'s, or all of them when they hold one group. The sights of several
+    groups that the log names (its fix_group column) are refused, naming them: a whole log fixed as one would be
+    one running fix across hours. Sights the log gave no group are the caller's to fix together (a running fix
+    of sights taken hours apart falls in several automatic groups)."""
+    if "fix_group" not in reduced.columns:
+        if group is not None:
+            raise NavredError(f"group {group!r}: these sights have no fix_group column")
+        return reduced
+    usable = (reduced["status"].to_numpy() != SightStatus.ERROR) if "status" in reduced.columns else np.ones(len(reduced), bool)
+    labels = reduced["fix_group"].astype(str).to_numpy()
+    names = list(dict.fromkeys(labels[usable].tolist()))
+    if group is not None:
+        if group not in names:
+            raise NavredError(f"no fix group {group!r} among these sights; they hold: {', '.join(names) or 'none'}")
+        return reduced[labels == group]
+    labelled = reduced["fix_group_given"].to_numpy(dtype=bool)[usable] if "fix_group_given" in reduced.columns \
+        else np.ones(int(usable.sum()), dtype=bool)
+    if len(names) > 1 and labelled.any():
+        times = utc64(reduced["sight_utc"])[usable]
+        hours = float((times.max() - times.min()) / np.timedelta64(1, "h")) if times.size else 0.0
+        shown = ", ".join(repr(n) for n in names[:6]) + (f" and {len(names) - 6} more" if len(names) > 6 else "")
+        raise NavredError(f"these sights hold {len(names)} fix groups ({shown}) over {hours:.1f} hours: fixed as one "
+                          "they would make one running fix across them all; give group= to fix one, or fix every "
+                          "group with navred.process_log")
+    return reduced
 
 
 def series_columns(reduced: pd.DataFrame, *, threshold_arcmin: float = THRESHOLD_ARCMIN,
@@ -173,4 +210,4 @@ def series_columns(reduced: pd.DataFrame, *, threshold_arcmin: float = THRESHOLD
             "series_best_ho_deg": np.where(single, np.nan, check.best_ho_deg)}
 
 
-__all__ = ["body_positions", "fix_position", "series_columns", "row_labels", "utc64"]
+__all__ = ["body_positions", "fix_position", "one_fix_group", "series_columns", "row_labels", "row_list", "utc64"]

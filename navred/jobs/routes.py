@@ -9,19 +9,16 @@ a great circle is sailed as a series of rhumb lines).
 
 from __future__ import annotations
 
-import json
-import xml.etree.ElementTree as ET
 from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
-from .. import __version__
 from ..angles import format_angle, wrap_180, wrap_360
 from ..errors import NavredError
-from ..io.cautions import ROUTE_CAUTION, geojson_with_caution, gpx_with_caution
-from ..io.output import atomic_write
+from ..io.cautions import ROUTE_CAUTION
+from ..io.exports import GpxPoint, GpxRoute, line_feature, point_feature, write_geojson, write_gpx
 from ..sailings import (
     composite_great_circle,
     great_circle_destination,
@@ -30,15 +27,14 @@ from ..sailings import (
     rhumb_inverse,
 )
 
-GPX_NAMESPACE = "http://www.topografix.com/GPX/1/1"
 #: The most waypoints a route is given (the spacing is refused when it would make more).
 MAX_WAYPOINTS = 2000
 
-WAYPOINT_COLUMNS = ["waypoint", "lat", "lon", "lat (deg)", "lon (deg)", "from start (nm)", "part",
-                    "rhumb course to next (deg)", "rhumb distance to next (nm)"]
+WAYPOINT_COLUMNS = ["waypoint", "lat", "lon", "lat_deg", "lon_deg", "from_start_nm", "part",
+                    "rhumb_course_to_next_deg", "rhumb_distance_to_next_nm"]
 
 
-@dataclass
+@dataclass(frozen=True)
 class Route:
     """A planned passage: both sailings compared, the vertex, and the waypoints."""
 
@@ -87,9 +83,9 @@ class Route:
                      f"{'composite route' if self.composite and self.composite['kind'] == 'composite' else 'great circle'}"
                      "; steer the rhumb line between them, each leg checked on the chart first:")
         for r in self.waypoints.to_dict("records"):
-            leg = (f"  then {r['rhumb course to next (deg)']:05.1f}° for {r['rhumb distance to next (nm)']:.1f} nm"
-                   if r["rhumb distance to next (nm)"] == r["rhumb distance to next (nm)"] else "")
-            lines.append(f"  {r['waypoint']:>4}  {r['lat']:>12} {r['lon']:>13}  {r['from start (nm)']:8.1f} nm{leg}")
+            leg = (f"  then {r['rhumb_course_to_next_deg']:05.1f}° for {r['rhumb_distance_to_next_nm']:.1f} nm"
+                   if r["rhumb_distance_to_next_nm"] == r["rhumb_distance_to_next_nm"] else "")
+            lines.append(f"  {r['waypoint']:>4}  {r['lat']:>12} {r['lon']:>13}  {r['from_start_nm']:8.1f} nm{leg}")
         lines.append(ROUTE_CAUTION)
         return lines
 
@@ -156,49 +152,35 @@ def _waypoints(lat1, lon1, lat2, lon2, course1, gc_nm, spacing, composite) -> pd
     legs, courses = rhumb_inverse(lat[:-1], lon[:-1], lat[1:], lon[1:])
     return pd.DataFrame({
         "waypoint": np.arange(len(along)), "lat": [format_angle(v, "lat") for v in lat],
-        "lon": [format_angle(v, "lon") for v in lon], "lat (deg)": lat, "lon (deg)": lon, "from start (nm)": along,
-        "part": part, "rhumb course to next (deg)": np.append(courses, np.nan),
-        "rhumb distance to next (nm)": np.append(legs, np.nan)})[WAYPOINT_COLUMNS]
+        "lon": [format_angle(v, "lon") for v in lon], "lat_deg": lat, "lon_deg": lon, "from_start_nm": along,
+        "part": part, "rhumb_course_to_next_deg": np.append(courses, np.nan),
+        "rhumb_distance_to_next_nm": np.append(legs, np.nan)})[WAYPOINT_COLUMNS]
 
 
 def route_gpx(route: Route, path: str | Path) -> Path:
     """The route as a GPX 1.1 route (rte) of its waypoints."""
-    ET.register_namespace("", GPX_NAMESPACE)
-    root = ET.Element(f"{{{GPX_NAMESPACE}}}gpx", {"version": "1.1", "creator": f"navred {__version__}"})
-    gpx_with_caution(root, GPX_NAMESPACE)
-    rte = ET.SubElement(root, f"{{{GPX_NAMESPACE}}}rte")
-    ET.SubElement(rte, f"{{{GPX_NAMESPACE}}}name").text = "navred route"
-    ET.SubElement(rte, f"{{{GPX_NAMESPACE}}}desc").text = (
-        f"{'composite great circle' if route.composite and route.composite['kind'] == 'composite' else 'great circle'}"
-        f", waypoints every {route.spacing_nm:g} nm; an aid to planning. {ROUTE_CAUTION}")
-    for r in route.waypoints.to_dict("records"):
-        point = ET.SubElement(rte, f"{{{GPX_NAMESPACE}}}rtept", {"lat": f"{r['lat (deg)']:.6f}",
-                                                                 "lon": f"{r['lon (deg)']:.6f}"})
-        ET.SubElement(point, f"{{{GPX_NAMESPACE}}}name").text = f"WP{int(r['waypoint']):03d}"
-        ET.SubElement(point, f"{{{GPX_NAMESPACE}}}desc").text = f"{r['part']}, {r['from start (nm)']:.1f} nm from the start"
-    tree = ET.ElementTree(root)
-    ET.indent(tree)
-    return atomic_write(path, lambda p: tree.write(p, encoding="utf-8", xml_declaration=True))
+    kind = "composite great circle" if route.composite and route.composite["kind"] == "composite" else "great circle"
+    points = [GpxPoint(r["lat_deg"], r["lon_deg"], name=f"WP{int(r['waypoint']):03d}",
+                       description=f"{r['part']}, {r['from_start_nm']:.1f} nm from the start")
+              for r in route.waypoints.to_dict("records")]
+    return write_gpx(path, routes=[GpxRoute("navred route", f"{kind}, waypoints every {route.spacing_nm:g} nm; an "
+                                                           f"aid to planning. {ROUTE_CAUTION}", points)])
 
 
 def route_geojson(route: Route, path: str | Path) -> Path:
     """The route as GeoJSON (RFC 7946): the waypoints (Points) and the route through them (a LineString)."""
     w = route.waypoints
-    features = [{"type": "Feature", "geometry": {"type": "LineString", "coordinates": [
-        [float(lon), float(lat)] for lat, lon in zip(w["lat (deg)"], w["lon (deg)"])]},
-        "properties": {"kind": "route", "great_circle_nm": route.great_circle_nm, "rhumb_nm": route.rhumb_nm,
-                       "composite_nm": (route.composite or {}).get("distance_nm"),
-                       "spacing_nm": route.spacing_nm, "caution": ROUTE_CAUTION}}]
-    for r in w.to_dict("records"):
-        features.append({"type": "Feature", "geometry": {"type": "Point", "coordinates": [r["lon (deg)"], r["lat (deg)"]]},
-                         "properties": {"kind": "waypoint", "waypoint": int(r["waypoint"]), "part": r["part"],
-                                        "from_start_nm": r["from start (nm)"]}})
+    features = [line_feature(w["lat_deg"], w["lon_deg"], {
+        "kind": "route", "great_circle_nm": route.great_circle_nm, "rhumb_nm": route.rhumb_nm,
+        "composite_nm": (route.composite or {}).get("distance_nm"), "spacing_nm": route.spacing_nm,
+        "caution": ROUTE_CAUTION})]
+    features += [point_feature(r["lat_deg"], r["lon_deg"], {"kind": "waypoint", "waypoint": int(r["waypoint"]),
+                                                            "part": r["part"], "from_start_nm": r["from_start_nm"]})
+                 for r in w.to_dict("records")]
     if route.vertex is not None and route.vertex_on_route:
-        features.append({"type": "Feature", "geometry": {"type": "Point", "coordinates": [route.vertex[1], route.vertex[0]]},
-                         "properties": {"kind": "vertex", "from_start_nm": route.vertex_from_start_nm}})
-    text = json.dumps(geojson_with_caution({"type": "FeatureCollection", "features": features}), indent=1,
-                      allow_nan=False)
-    return atomic_write(path, lambda p: Path(p).write_text(text, encoding="utf-8"))
+        features.append(point_feature(route.vertex[0], route.vertex[1], {
+            "kind": "vertex", "from_start_nm": route.vertex_from_start_nm}))
+    return write_geojson(path, features)
 
 
 __all__ = ["Route", "plan_route", "route_gpx", "route_geojson", "WAYPOINT_COLUMNS", "MAX_WAYPOINTS"]

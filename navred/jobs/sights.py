@@ -18,7 +18,7 @@ from ..angles import wrap_360
 from ..constants import LARGE_INTERCEPT_NM, SUN_BRIGHT_SKY_DEG, SUN_DARK_HORIZON_DEG
 from ..corrections import correct_altitudes, planet_phases
 from ..errors import api_boundary
-from ..io.logbook import SIGHT_COLUMNS, SightLog, read_sight_log
+from ..io.logbook import SIGHT_COLUMNS, LogSource, SightLog, read_sight_log
 from ..status import SightStatus
 from ..timescales import UT1_BEFORE, UT1_BEYOND, instants_from_utc_jd
 from ..triangle import (
@@ -27,6 +27,7 @@ from ..triangle import (
     intercept_direction,
     intercept_nm,
 )
+from ..vocabulary import RESULT_COLUMNS  # the columns reduce_sights adds, in order
 
 # A star or planet on the sea horizon is taken in twilight (SUN_BRIGHT_SKY_DEG to SUN_DARK_HORIZON_DEG, in
 # navred.constants with their sources); the navigation manuals give the best star time as the Sun between
@@ -34,13 +35,6 @@ from ..triangle import (
 #: The horizons that are the sea's own (a star needs it lit and the sky dark).
 SEA_HORIZONS = ("sea", "back")
 
-#: The columns reduce_sights adds to the parsed sights, in order (documented in docs/sight-log.md).
-RESULT_COLUMNS = [
-    "dut1_s", "ut1_source", "gha_aries_deg", "sha_deg", "gha_deg", "dec_deg", "hp_arcmin", "almanac_sd_arcmin",
-    "lha_deg", "ic_arcmin", "horizon_arcmin", "dip_arcmin", "ha_deg", "refraction_arcmin", "sd_arcmin",
-    "parallax_arcmin", "phase_angle_deg", "phase_arcmin", "ho_deg", "hc_deg", "zn_deg", "intercept_nm",
-    "intercept_direction", "status", "message", "error_column",
-]
 
 
 class _Notes:
@@ -77,7 +71,7 @@ class _Notes:
 BLOCK_ROWS = 200_000
 
 
-def parsed_sights(sights: object) -> pd.DataFrame:
+def parsed_sights(sights: SightLog | LogSource) -> pd.DataFrame:
     """The parsed table of every row: from a :class:`SightLog`, a parsed table, or a raw table read now."""
     if isinstance(sights, SightLog):
         return sights.table
@@ -87,7 +81,7 @@ def parsed_sights(sights: object) -> pd.DataFrame:
 
 
 @api_boundary
-def reduce_sights(sights: object) -> pd.DataFrame:
+def reduce_sights(sights: SightLog | LogSource) -> pd.DataFrame:
     """Reduce sights to Ho, Hc, Zn and intercept, one row per sight in order.
 
     ``sights`` is what :func:`navred.read_sight_log` returns (a :class:`SightLog`, or its

@@ -13,17 +13,21 @@ Edge code (pandas); the arithmetic is the core's.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
 
 from ..constants import ARCMIN_PER_DEG, SECONDS_PER_DAY
-from ..io.track import ReferenceTrack
+from ..io.logbook import LogSource, SightLog, read_sight_log
+from ..io.timesignals import Ratings
+from ..io.track import ReferenceTrack, read_track
 from ..stars import SOLAR_SYSTEM
 from ..stats import student_t_quantile
 from ..status import SightStatus
 from ..triangle import computed_altitude_azimuth
+from .voyage import VoyageResult, process_log
 
 BLUNDER_ARCMIN = 5.0
 
@@ -34,7 +38,7 @@ def body_kind(name: str) -> str:
     return "planet" if name in SOLAR_SYSTEM else "star"
 
 
-@dataclass
+@dataclass(frozen=True)
 class TrainingReport:
     sights: pd.DataFrame
     observers: pd.DataFrame
@@ -69,9 +73,9 @@ def _summaries(frame: pd.DataFrame, keys: list[str]) -> pd.DataFrame:
             slope_se = float(np.sqrt(np.sum(residual**2) / (n_good - 2) / sxx))
         names = key if isinstance(key, tuple) else (key,)
         rows.append({**dict(zip(keys, names)), "sights": int(error.size), "blunders": int(blunder.sum()),
-                     "blunder rate": float(blunder.mean()), "personal error (′)": mean,
-                     "standard error (′)": se, "95 % interval (′)": half, "scatter (′)": scatter,
-                     "trend (′ per day)": slope, "trend standard error (′ per day)": slope_se})
+                     "blunder_rate": float(blunder.mean()), "personal_error_arcmin": mean,
+                     "standard_error_arcmin": se, "interval_95_arcmin": half, "scatter_arcmin": scatter,
+                     "trend_arcmin_per_day": slope, "trend_standard_error_arcmin_per_day": slope_se})
     return pd.DataFrame(rows)
 
 
@@ -93,14 +97,14 @@ def training_report(reduced: pd.DataFrame, track: ReferenceTrack, groups: object
         "row": frame["row"] if "row" in frame.columns else np.arange(1, len(frame) + 1),
         "sight": row_labels(frame),
         "observer": observer.replace("", "(not given)"), "body": frame.body_name,
-        "body kind": [body_kind(b) for b in frame.body_name], "sight_utc": frame.sight_utc,
+        "body_kind": [body_kind(b) for b in frame.body_name], "sight_utc": frame.sight_utc,
         "reference_lat_deg": lat, "reference_lon_deg": lon, "hc_reference_deg": np.where(inside, hc, np.nan),
         "ho_deg": frame.ho_deg, "error_arcmin": error, "blunder": np.abs(np.nan_to_num(error)) > BLUNDER_ARCMIN,
         "within_track": inside,
         "note": why_not,
     })
     observers = _summaries(sights, ["observer"])
-    by_body = _summaries(sights, ["observer", "body kind"])
+    by_body = _summaries(sights, ["observer", "body_kind"])
     fix_rows = []
     for group in groups:
         fix = getattr(group, "fix", None)
@@ -108,106 +112,108 @@ def training_report(reduced: pd.DataFrame, track: ReferenceTrack, groups: object
             continue
         f_lat, f_lon, f_why = track.positions_at(np.array([fix.utc], dtype="datetime64[ns]"))
         if f_why[0]:
-            fix_rows.append({"fix group": group.name, "UTC": str(fix.utc)[:19], "note": f_why[0]})
+            fix_rows.append({"fix_group": group.name, "utc": str(fix.utc)[:19], "note": f_why[0]})
             continue
         check = fix.cross_check(float(f_lat[0]), float(f_lon[0]))
         members = reduced.iloc[group.rows]
         who = ", ".join(sorted(set(members["observer"].astype(str)))) if "observer" in members.columns else ""
         if fix.is_fix:
-            fix_rows.append({"fix group": group.name, "UTC": str(fix.utc)[:19], "observers": who, "kind": fix.kind,
-                             "distance from reference (nm)": check.distance_nm,
-                             "bearing from fix to reference (deg)": check.bearing_deg,
-                             "reference inside 95 % ellipse": "yes" if check.inside_ellipse else "NO",
-                             "95 % semi-major (nm)": fix.ellipse_semi_major_nm, "note": ""})
+            fix_rows.append({"fix_group": group.name, "utc": str(fix.utc)[:19], "observers": who, "kind": fix.kind,
+                             "distance_from_reference_nm": check.distance_nm,
+                             "bearing_to_reference_deg": check.bearing_deg,
+                             "reference_inside_95": "yes" if check.inside_ellipse else "NO",
+                             "ellipse_semi_major_95_nm": fix.ellipse_semi_major_nm, "note": ""})
         else:
             # not a fix: the sights give one line (or a latitude), so they are marked by the reference's distance off it
-            fix_rows.append({"fix group": group.name, "UTC": str(fix.utc)[:19], "observers": who, "kind": fix.kind,
-                             "distance from reference (nm)": abs(fix.distance_off_line_nm(float(f_lat[0]),
+            fix_rows.append({"fix_group": group.name, "utc": str(fix.utc)[:19], "observers": who, "kind": fix.kind,
+                             "distance_from_reference_nm": abs(fix.distance_off_line_nm(float(f_lat[0]),
                                                                                           float(f_lon[0]))),
-                             "bearing from fix to reference (deg)": np.nan,
-                             "reference inside 95 % ellipse": "yes (within the line's band)" if check.inside_ellipse
+                             "bearing_to_reference_deg": np.nan,
+                             "reference_inside_95": "yes (within the line's band)" if check.inside_ellipse
                              else "NO (off the line's band)",
-                             "95 % semi-major (nm)": np.nan,
+                             "ellipse_semi_major_95_nm": np.nan,
                              "note": f"not a fix: the lines cross at {fix.spread_deg:.0f}°; marked by the distance off "
                                      f"the {fix.kind}"})
     return TrainingReport(sights, observers, by_body, pd.DataFrame(fix_rows), span, track.source,
                           track.problems.copy())
 
 
-def observer_figure(report: TrainingReport, observer: str):
-    """Error against time and a histogram for one observer (matplotlib)."""
-    import matplotlib
+@dataclass(frozen=True)
+class TrainingRun:
+    """navred training's result: the voyage (every sight reduced and fixed), the reference track read, and the
+    report against it."""
 
-    matplotlib.use("Agg")
-    from matplotlib.figure import Figure
+    voyage: VoyageResult
+    reference: ReferenceTrack
+    report: TrainingReport
 
-    from ..figures.plotting import FIX, GRID, INK, PAPER
-
-    part = report.sights[(report.sights.observer == observer) & report.sights.within_track]
-    row = report.observers[report.observers.observer == observer].iloc[0]
-    figure = Figure(figsize=(8.0, 3.4), dpi=100, facecolor=PAPER)
-    left = figure.add_axes([0.08, 0.17, 0.56, 0.68], facecolor=PAPER)
-    right = figure.add_axes([0.72, 0.17, 0.25, 0.68], facecolor=PAPER)
-    kinds = {"star": "o", "planet": "s", "Sun": "D", "Moon": "^"}
-    for kind, marker in kinds.items():
-        sub = part[part["body kind"] == kind]
-        if len(sub):
-            left.plot(sub.sight_utc.dt.tz_convert(None), sub.error_arcmin, marker, ms=4, color=INK, alpha=0.7, label=kind)
-    blunders = part[part.blunder]
-    if len(blunders):
-        left.plot(blunders.sight_utc.dt.tz_convert(None), blunders.error_arcmin, "x", ms=8, color=FIX, label="over 5′")
-    left.axhline(0, color=GRID, lw=1)
-    if np.isfinite(row["personal error (′)"]):
-        left.axhline(row["personal error (′)"], color=FIX, lw=1, ls="--", label="personal error")
-    left.set_ylabel("error Ho − Hc(reference) (′)", fontsize=7)
-    left.tick_params(labelsize=6)
-    left.legend(fontsize=6, frameon=False, ncol=3)
-    left.grid(color=GRID, lw=0.4)
-    good = part.error_arcmin[~part.blunder]
-    right.hist(good, bins=max(5, min(20, len(good) // 3)), color=INK, alpha=0.8)
-    right.set_xlabel("error (′), blunders left out", fontsize=7)
-    right.tick_params(labelsize=6)
-    figure.suptitle(f"{observer}: {int(row['sights'])} sights, personal error {row['personal error (′)']:+.2f}′ "
-                    f"± {row['95 % interval (′)']:.2f}′ (95 %), scatter {row['scatter (′)']:.2f}′, "
-                    f"blunders {int(row['blunders'])}", fontsize=8, color=INK, x=0.08, ha="left")
-    return figure
+    @property
+    def inputs(self) -> tuple[str, ...]:
+        """Every file the run read (the logs, the rating log, the track): never to be written over."""
+        return tuple(dict.fromkeys([*self.voyage.inputs, self.reference.source]))
 
 
-def summary_figure(report: TrainingReport, title: str = "Training summary"):
-    """One printable page across observers: a table of the figures and their 95 % intervals."""
-    import matplotlib
+def train_log(source: LogSource, track: str, *, dates: str | None = None, rates: Ratings | None = None,
+              check_rows: Callable[[SightLog], None] | None = None) -> TrainingRun:
+    """Each observer's errors in a log (or a folder of cadets' logs) against the ship's reference track (GPX,
+    NMEA or CSV), every sight reduced and fixed as every command does. ``check_rows``: called with the number
+    of rows read before the work (a workbook's bound, say)."""
+    reference = read_track(track)
+    log = read_sight_log(source, dates=dates, rates=rates)
+    if check_rows is not None:
+        check_rows(log)
+    voyage = process_log(log, rates=rates)
+    return TrainingRun(voyage, reference, training_report(voyage.reduced, reference, voyage.groups))
 
-    matplotlib.use("Agg")
-    from matplotlib.figure import Figure
 
-    from ..figures.plotting import FIX, GRID, INK
+def observer_stem(name: str) -> str:
+    """A file-name stem for an observer's picture (letters and digits, the rest as hyphens)."""
+    return "".join(c if c.isalnum() else "-" for c in name)
 
-    figure = Figure(figsize=(8.27, 11.69), dpi=100, facecolor="white")  # A4 portrait
-    figure.text(0.07, 0.96, title, fontsize=14, weight="bold", color=INK)
-    figure.text(0.07, 0.93, f"Reference track {report.track_span[0]} to {report.track_span[1]} UTC. Error = Ho − Hc "
-                "at the reference position.\nPersonal error: mean error of the sights within 5′, with its 95 % "
-                "interval. Blunders: errors over 5′. Trend: change of the error per day.",
-                fontsize=7, color=INK)
-    obs = report.observers
-    chart = figure.add_axes([0.25, 0.58, 0.68, 0.33])
-    y = np.arange(len(obs))[::-1]
-    chart.errorbar(obs["personal error (′)"], y, xerr=obs["95 % interval (′)"], fmt="o", color=INK, ecolor=FIX, capsize=3)
-    chart.axvline(0, color=GRID, lw=1)
-    chart.set_yticks(y)
-    chart.set_yticklabels(obs.observer, fontsize=7)
-    chart.set_xlabel("personal error and 95 % interval (′)", fontsize=8)
-    chart.grid(color=GRID, lw=0.4, axis="x")
-    table_ax = figure.add_axes([0.05, 0.06, 0.9, 0.45])
-    table_ax.axis("off")
-    columns = ["observer", "sights", "blunders", "personal error (′)", "95 % interval (′)", "scatter (′)",
-               "trend (′ per day)"]
-    cells = [[f"{v:.2f}" if isinstance(v, float) else str(v) for v in obs[c]] for c in columns]
-    rows = list(zip(*cells))
-    table = table_ax.table(cellText=rows, colLabels=["observer", "sights", "blunders", "personal error′", "± 95 %′",
-                                                     "scatter′", "trend ′/day"], loc="upper center", cellLoc="center")
-    table.auto_set_font_size(False)
-    table.set_fontsize(7)
-    table.scale(1.0, 1.3)
-    figure.text(0.07, 0.02, "navred training summary. An aid to instruction and navigation, not a sole means.",
-                fontsize=7, style="italic", color=INK)
-    return figure
+
+def write_training_summary(report: TrainingReport, path, *, inputs=()):
+    """One printable page across observers (PDF, PNG or SVG, by the suffix)."""
+    from ..figures.plotting import save_figure
+    from ..figures.training import summary_figure
+    from ..io.output import atomic_write
+
+    return atomic_write(path, lambda p: save_figure(summary_figure(report), p), inputs=inputs)
+
+
+def write_observer_pictures(report: TrainingReport, folder, *, inputs=()) -> int:
+    """One picture per observer (PNG) in ``folder``: how many were written."""
+    from pathlib import Path
+
+    from ..figures.plotting import save_figure
+    from ..figures.training import observer_figure
+    from ..io.output import atomic_write
+
+    folder = Path(folder)
+    folder.mkdir(parents=True, exist_ok=True)
+    for name in report.observers.observer:
+        atomic_write(folder / f"observer-{observer_stem(name)}.png",
+                     lambda p, n=name: save_figure(observer_figure(report, n), p), inputs=inputs)
+    return len(report.observers)
+
+
+def write_training_csv(report: TrainingReport, path, *, inputs=()):
+    """The per-sight errors as CSV in ``path``, and the per-observer and per-kind figures beside it (the name
+    with -observers): the two files written."""
+    from pathlib import Path
+
+    from ..io.output import atomic_write, csv_safe
+
+    target = Path(path)
+    atomic_write(target, lambda p: csv_safe(report.sights).to_csv(p, index=False), inputs=inputs)
+    others = observers_csv_path(target)
+    atomic_write(others, lambda p: csv_safe(pd.concat([report.observers, report.by_body])).to_csv(p, index=False),
+                 inputs=inputs)
+    return target, others
+
+
+def observers_csv_path(path):
+    """Where :func:`write_training_csv` writes the per-observer figures beside the per-sight errors."""
+    from pathlib import Path
+
+    target = Path(path)
+    return target.with_name(target.stem + "-observers" + target.suffix)

@@ -26,17 +26,19 @@ from ..constants import DEG_PER_HOUR, NS_PER_HOUR
 from ..ephemeris import EPHEMERIS_NAME
 from ..errors import NavredError, api_boundary
 from ..fix import FixResult, fixes_from_sights
-from ..io.logbook import REJECTED_COLUMNS, SightLog, read_sight_log
+from ..io.logbook import REJECTED_COLUMNS, LogSource, SightLog, read_sight_log
+from ..io.timesignals import Ratings
 from ..reckoning import PAST_POLE
 from ..sensechecks import SEXTANT_SIGMA_LIMIT_ARCMIN
+from ..sightplan import SightPlan
 from ..status import SightStatus
-from ..timescales import iers_table, leap_second_table
+from ..timescales import Instant, iers_table, leap_second_table
 from ..triangle import distance_bearing
 from .frames import row_labels, series_columns, utc64
 from .sights import reduce_sights
 
 
-@dataclass
+@dataclass(frozen=True)
 class GroupFix:
     """One fix group: its name, the rows of the reduced table it holds, and its fix (or why not)."""
 
@@ -49,30 +51,31 @@ class GroupFix:
     chart_note: str = ""
 
 
-@dataclass
+@dataclass(frozen=True)
 class VoyageResult:
-    """Everything a run produced, for the workbook and the exports."""
+    """Everything a run on sight logs produced, built once by :func:`process_log`: the log as read, the
+    reduced sights, the rows rejected, every fix group with its fix, the provenance, and what the workbook,
+    the day's work and the exports take from it."""
 
     source: str
     log: SightLog
     reduced: pd.DataFrame
     rejected: pd.DataFrame
-    groups: list[GroupFix]
+    groups: tuple[GroupFix, ...]
     provenance: dict[str, str] = field(default_factory=dict)
     #: the sight plan for the next twilight after the last fix, from it along the last course and speed
-    next_plan: object | None = None
+    next_plan: SightPlan | None = None
+    #: the twilights and the Sun's events from the last fix on (navred.plan.voyage_events), with next_plan
     next_events: dict | None = None
-    #: a navred.jobs.training.TrainingReport when the run was marked against a reference track
-    training: object | None = None
-    #: what the writers work out once a run and reuse (labels of every sight, say)
-    cache: dict = field(default_factory=dict, repr=False, compare=False)
     #: the set and drift found at each fix carried on in the DR (process_log's option)
     carry_current: bool = False
-    #: the timepieces' rating (navred.io.timesignals.Ratings) when a rating log was given
-    ratings: object | None = None
+    #: the timepieces' rating when a rating log was given
+    ratings: Ratings | None = None
     #: per reduced row, what the fix takes from the DR kept along the log (:func:`dr_context`): the current in
     #: force at each sight and the age of its DR
     context: dict | None = None
+    #: what the writers work out once a run and reuse (the day's work, labels of every sight)
+    cache: dict = field(default_factory=dict, repr=False, compare=False)
 
     def days_work(self):
         """The day's work of the voyage (navred.jobs.dayswork): set and drift, estimated positions, noons, the DR
@@ -86,14 +89,13 @@ class VoyageResult:
     @property
     def inputs(self) -> tuple[str, ...]:
         """Every file the run read (the logs, the rating log, a reference track): never to be written over."""
-        ratings = getattr(self.ratings, "sources", ()) if self.ratings is not None else ()
-        track = (self.training.track_source,) if getattr(self.training, "track_source", "") else ()
-        return tuple(dict.fromkeys([*self.log.sources, *ratings, *track]))
+        ratings = self.ratings.sources if self.ratings is not None else ()
+        return tuple(dict.fromkeys([*self.log.sources, *ratings]))
 
     @property
     def notes(self) -> tuple[str, ...]:
         """What the readers noted about the files as a whole (the log's and the rating log's)."""
-        ratings = tuple(getattr(self.ratings, "notes", ()) or ()) if self.ratings is not None else ()
+        ratings = tuple(self.ratings.notes or ()) if self.ratings is not None else ()
         return tuple(dict.fromkeys([*self.log.notes, *ratings]))
 
     @property
@@ -128,9 +130,10 @@ class VoyageResult:
 
 
 @api_boundary
-def process_log(source: object, *, dates: str | None = None, solve_motion: bool = False,
+def process_log(source: LogSource | SightLog, *, dates: str | None = None, solve_motion: bool = False,
                 progress: Callable[[int, int], None] | None = None, plan: bool = True,
-                at_utc: object | None = None, carry_current: bool = False, rates: object | None = None) -> VoyageResult:
+                at_utc: Instant | None = None, carry_current: bool = False,
+                rates: Ratings | None = None) -> VoyageResult:
     """Read sight logs and do the whole job; every input row ends up reduced or rejected.
 
     ``source`` is anything :func:`navred.read_sight_log` takes (a file, a list of files, a
@@ -178,15 +181,11 @@ def process_log(source: object, *, dates: str | None = None, solve_motion: bool 
         provenance["DR"] = ("carried along the log's track (its entries, and the sights' courses and speeds) from "
                             "the departure or last known position, restarted at each fix"
                             + ("; the set and drift found at each fix carried on" if carry_current else ""))
-    result = VoyageResult(", ".join(log.sources), log, reduced, rejected, groups, provenance)
-    result.carry_current = carry_current
-    result.context = context
-    result.ratings = rates
     if rates is not None:
         provenance["timepieces"] = "; ".join(p.summary() for p in rates.timepieces.values())
-    if plan:
-        result.next_events, result.next_plan = _next_twilight_plan(result)
-    return result
+    events, next_plan = _next_twilight_plan(groups, reduced) if plan else (None, None)
+    return VoyageResult(", ".join(log.sources), log, reduced, rejected, tuple(groups), provenance, next_plan, events,
+                        carry_current, rates, context)
 
 
 def _restart_dr_at_fixes(log: SightLog, reduced: pd.DataFrame, groups: list[GroupFix], progress, carry_current,
@@ -454,18 +453,18 @@ def _degrees_and_minutes_as_decimal(reduced: pd.DataFrame, group: np.ndarray, re
             "minutes (29 21.6) or decimal degrees, and fix again")
 
 
-def _next_twilight_plan(voyage: VoyageResult):
+def _next_twilight_plan(groups: list[GroupFix], reduced: pd.DataFrame):
     """Plan the next twilight that begins after the latest fix, carried on from the fix by the last
     sight's course and speed."""
     from ..plan import voyage_events
     from ..reckoning import steady_track
     from ..sightplan import sight_plans
 
-    fixes = [g for g in voyage.groups if g.fix is not None]
+    fixes = [g for g in groups if g.fix is not None]
     if not fixes:
         return None, None
     latest = max(fixes, key=lambda g: g.fix.utc)
-    last_row = voyage.reduced.iloc[latest.rows[-1]]
+    last_row = reduced.iloc[latest.rows[-1]]
     course = float(np.nan_to_num(last_row.get("course_deg", 0.0)))
     speed = float(np.nan_to_num(last_row.get("speed_kn", 0.0)))
     fix = latest.fix

@@ -1,0 +1,467 @@
+"""The console text of each command's result: pure functions from a result to lines (the command prints them).
+
+Display words (Zn, Ho, intercept, the degree and minute marks) appear here and in the writers only; the
+library's tables and --csv keep their snake_case names with units.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+from typing import TYPE_CHECKING
+
+import numpy as np
+
+from ..angles import format_angle, wrap_360
+from ..status import FixKind, RunFrom, SightStatus
+
+if TYPE_CHECKING:  # pandas is imported by the formatters that need it: navred almanac stays quick
+    import pandas as pd
+
+
+def csv_text(frame, **options) -> str:
+    from ..io.output import csv_text as text
+
+    return text(frame, **options)
+
+
+def csv_safe(frame):
+    from ..io.output import csv_safe as safe
+
+    return safe(frame)
+
+
+def time_text(value) -> str:
+    if value is None or (isinstance(value, np.datetime64) and np.isnat(value)):
+        return "-"
+    return str(value)[:19].replace("T", " ")
+
+
+def labels_of(reduced: pd.DataFrame) -> np.ndarray:
+    from ..jobs.frames import row_labels
+
+    return row_labels(reduced)
+
+
+# --- almanac, bodies, identify ------------------------------------------------------------------
+
+ALMANAC_COLUMNS = ("gha_aries_deg", "ra_hours", "sha_deg", "gha_deg", "dec_deg", "hp_arcmin", "sd_arcmin",
+                   "distance_km")
+
+
+def almanac_csv(result) -> str:
+    """The almanac as CSV: a row per body, decimal degrees to 1e-7 (body names are the catalogue's own)."""
+    stamp = str(result.instants.utc_datetime64()[0].astype("datetime64[ms]"))
+    dut1_s, source = float(result.instants.dut1_s[0]), str(result.instants.ut1_source[0])
+    lines = [",".join(["body", "utc", *ALMANAC_COLUMNS, "dut1_s", "ut1_source"])]
+    for k, body in enumerate(result.body.tolist()):
+        numbers = ["" if v != v else f"{v:.7f}" for v in (float(getattr(result, c)[k]) for c in ALMANAC_COLUMNS)]
+        lines.append(",".join([body, f"{stamp}000Z", *numbers, f"{dut1_s:.7f}", source]))
+    return "\n".join(lines) + "\n"
+
+
+def almanac_lines(result) -> list[str]:
+    stamp = str(result.instants.utc_datetime64()[0].astype("datetime64[ms]"))
+    dut1_s, source = float(result.instants.dut1_s[0]), str(result.instants.ut1_source[0])
+    lines = [f"UTC {stamp[:19].replace('T', ' ')}   DUT1 {dut1_s:+.3f} s ({source})",
+             f"GHA Aries {format_angle(float(result.gha_aries_deg[0]))}", "",
+             f"{'body':<16}{'GHA':>13}{'Dec':>14}{'SHA':>13}{'HP':>8}{'SD':>8}"]
+    for k, body in enumerate(result.body.tolist()):
+        hp_value, sd_value = float(result.hp_arcmin[k]), float(result.sd_arcmin[k])
+        hp = f"{hp_value:.1f}′" if hp_value else "-"
+        sd = f"{sd_value:.1f}′" if sd_value else "-"
+        lines.append(f"{body:<16}{format_angle(float(result.gha_deg[k])):>13}"
+                     f"{format_angle(float(result.dec_deg[k]), 'dec'):>14}{format_angle(float(result.sha_deg[k])):>13}"
+                     f"{hp:>8}{sd:>8}")
+    return lines
+
+
+def bodies_table() -> pd.DataFrame:
+    import pandas as pd
+
+    from ..stars import SOLAR_SYSTEM, star_table
+
+    table = star_table()
+    stars = pd.DataFrame({"number": table.number, "body": table.name, "hip": table.hip,
+                          "magnitude_hp": table.magnitude, "kind": "star"})
+    others = pd.DataFrame({"number": 0, "body": list(SOLAR_SYSTEM.values()), "hip": 0, "magnitude_hp": np.nan,
+                           "kind": "solar system"})
+    return pd.concat([others, stars], ignore_index=True)
+
+
+def bodies_lines() -> list[str]:
+    from ..stars import SOLAR_SYSTEM, star_table
+
+    lines = ["Sun, Moon and planets: " + ", ".join(SOLAR_SYSTEM.values())]
+    table = star_table()
+    lines.append(f"{'no.':>4}  {'star':<18}{'HIP':>7}{'mag (Hp)':>10}")
+    for number, name, hip, mag in zip(table.number, table.name, table.hip, table.magnitude):
+        lines.append(f"{number if number else '-':>4}  {name:<18}{hip:>7}{mag:>10.2f}")
+    return lines
+
+
+def identify_csv(ranked: pd.DataFrame) -> str:
+    return csv_safe(ranked).to_csv(index=False, float_format="%.3f")
+
+
+def identify_lines(ranked: pd.DataFrame, top: int) -> list[str]:
+    lines = [f"{'rank':>4}  {'body':<16}{'Hc':>8}{'Zn':>8}{'ΔH':>7}{'ΔZ':>7}{'score':>7}"]
+    for rank, row in enumerate(ranked.head(top).itertuples(), start=1):
+        lines.append(f"{rank:>4}  {row.body:<16}{row.hc_deg:7.1f}°{row.zn_deg:7.1f}°"
+                     f"{row.altitude_difference_deg:+6.1f}°{row.azimuth_difference_deg:+6.1f}°{row.score:7.2f}")
+    lines.append("score: the differences in units of 1° of altitude and 3° of bearing; lowest first")
+    return lines
+
+
+def lunar_csv(working) -> str:
+    values = working.values
+    return ",".join(values) + "\n" + ",".join("" if v is None else str(v) for v in values.values()) + "\n"
+
+
+def lunar_lines(working) -> list[str]:
+    result = working.result
+    lines = [f"apparent distance of the centres {format_angle(result.apparent_distance_deg)}, "
+             f"cleared {format_angle(result.cleared_distance_deg)}",
+             f"UTC {time_text(result.utc)}; the chronometer is {abs(result.chronometer_error_s):.0f} s "
+             f"{'fast' if result.chronometer_error_s >= 0 else 'slow'}",
+             f"sensitivity: 0.1′ of distance is {result.seconds_per_tenth_arcmin:.0f} s of time, "
+             f"{result.seconds_per_tenth_arcmin * 0.25:.1f}′ of longitude"]
+    if result.longitude_deg is not None:
+        lines.append(f"longitude {format_angle(result.longitude_deg, 'lon')} ({result.longitude_from})")
+    else:
+        lines.append("longitude: observe the other body's altitude (--other-alt) for a time sight")
+    return lines
+
+
+# --- compass ----------------------------------------------------------------------------------
+
+def _east_west(value: float) -> str:
+    return f"{abs(value):.1f}° {'E' if value >= 0 else 'W'}"
+
+
+def bearing_check_lines(check) -> list[str]:
+    lines = [f"{check.body} at {check.utc}: true azimuth Zn {check.zn_deg:05.1f}°, altitude "
+             f"{format_angle(check.hc_deg, 'signed')}"]
+    for horizon, a in check.amplitudes:
+        if np.isnan(a):
+            lines.append(f"  amplitude ({horizon}): the body does not rise or set at this latitude")
+            continue
+        side = "N" if a >= 0 else "S"
+        lines.append(f"  amplitude ({horizon}): rising E {abs(a):.1f}° {side} (Zn {90 - a:05.1f}°), "
+                     f"setting W {abs(a):.1f}° {side} (Zn {270 + a:05.1f}°)")
+    if check.compass_bearing_deg is not None:
+        lines.append(f"  compass {check.compass_bearing_deg:05.1f}°: compass error {_east_west(check.compass_error_deg)}, "
+                     f"variation {_east_west(check.variation_deg)}, deviation {_east_west(check.deviation_deg)}")
+    return lines
+
+
+def card_lines(path, card: pd.DataFrame) -> list[str]:
+    return [f"deviation card {path} ({len(card)} checks):",
+            card[["utc", "body", "compass_heading_deg", "compass_error_deg", "deviation_deg"]].to_string(index=False)]
+
+
+# --- reduce and fix ---------------------------------------------------------------------------
+
+def reduce_lines(done) -> Iterator[str]:
+    """Every sight of a :class:`navred.jobs.reducing.ReducedLog`: Ho, Hc, Zn and the intercept, or why not; line by
+    line as it is made (a long log's first lines reach a pager at once)."""
+    reduced, log = done.reduced, done.log
+    labels = [label.removeprefix("row ") for label in labels_of(reduced)]
+    width = max([len(x) for x in labels] + [3])
+    yield (f"{'row':>{width}}  {'body':<15}{'UTC':<21}{'Ho':>12}{'Hc':>12}{'Zn':>8}  {'intercept':<18}note")
+    for label, row in zip(labels, reduced.itertuples()):
+        when = f"{row.sight_utc:%Y-%m-%d %H:%M:%S}" if str(row.sight_utc) != "NaT" else ""
+        if row.status == SightStatus.ERROR:
+            yield f"{label:>{width}}  {str(row.body_name or '?'):<15}{when:<21}{'not reduced:':>12} {row.message}"
+            continue
+        intercept = f"{abs(row.intercept_nm):5.1f} nm {row.intercept_direction}"
+        carried = getattr(row, "motion_carried_from", "")
+        note = "; ".join(t for t in (row.message, carried) if t)
+        yield (f"{label:>{width}}  {row.body_name:<15}{when:<21}{format_angle(row.ho_deg, 'signed'):>12}"
+               f"{format_angle(row.hc_deg, 'signed'):>12}{row.zn_deg:7.1f}°  {intercept:<18}{note}")
+    counts = reduced.status.value_counts()
+    empty = f", {log.empty_rows} empty row{'s' if log.empty_rows > 1 else ''} skipped" if log.empty_rows else ""
+    yield (f"{int(counts.get('ok', 0) + counts.get('warning', 0))} sights reduced "
+           f"({int(counts.get('warning', 0))} with a warning), {int(counts.get('error', 0))} not reduced{empty}")
+
+
+def sight_warning_lines(reduced: pd.DataFrame, labels, rows=None, *, indent: str = "") -> list[str]:
+    """Each sight's own warning (a long intercept, a low altitude...), named by its row: a command that shows
+    a fix or a position built on the sight shows its warnings too."""
+    if not len(reduced):
+        return []
+    rows = range(len(reduced)) if rows is None else rows
+    status = reduced["status"].to_numpy()
+    messages = reduced["message"].to_numpy(dtype=object)
+    bodies = reduced["body_name"].to_numpy(dtype=object)
+    return [f"{indent}warning: {labels[row]} ({bodies[row]}): {messages[row]}" for row in rows
+            if status[row] == SightStatus.WARNING and messages[row]]
+
+
+def group_warning_lines(groups) -> list[str]:
+    return [f"warning: group {group.name}: {text}" for group in groups
+            for text in (group.fix.warnings if group.fix is not None else [])]
+
+
+def _fix_head_lines(group) -> list[str]:
+    fix = group.fix
+    when = str(fix.utc)[:19].replace("T", " ")
+    left_out = fix.left_out if fix.left_out.size == len(group.rows) else np.zeros(len(group.rows), dtype=bool)
+    if fix.is_fix:
+        dropped = (f", {int(left_out.sum())} left out (see below)" if left_out.any() else "")
+        lines = [f'Fix "{group.name}": {int(fix.used.sum())} sights{dropped}, at {when} UTC',
+                 f"  position       {format_angle(fix.lat_deg, 'lat')}  {format_angle(fix.lon_deg, 'lon')}",
+                 f"  95 % ellipse   {fix.ellipse_text()}, major "
+                 f"axis {fix.ellipse_orientation_deg:03.0f}°/{float(wrap_360(fix.ellipse_orientation_deg + 180)):03.0f}° "
+                 f"(scaled by the {fix.quantile} quantile"
+                 + ("; the DR's error over the run included)" if fix.dr_error_included else ")")]
+        if fix.ellipse_note:
+            lines.append(f"                 {fix.ellipse_note}")
+        return lines
+    lines = [f'No fix in "{group.name}": {int(fix.used.sum())} sights whose lines cross at {fix.spread_deg:.0f}° '
+             f"give a {fix.kind}, at {when} UTC"]
+    if fix.kind == FixKind.LATITUDE:
+        lines.append(f"  latitude       {format_angle(fix.lat_deg, 'lat')}, 95 % band {fix.ellipse_text()}"
+                     + (f"; noon curve {format_angle(fix.noon_curve_latitude_deg, 'lat')}"
+                        if fix.noon_curve_latitude_deg is not None else ""))
+    else:
+        lines.append(f"  line           through {format_angle(fix.lat_deg, 'lat')}  {format_angle(fix.lon_deg, 'lon')}, "
+                     f"bearing {fix.line_bearing_deg:03.0f}°/{float(wrap_360(fix.line_bearing_deg + 180)):03.0f}°, "
+                     f"95 % band {fix.ellipse_text()}")
+    lines.append(f"  from the DR    {abs(fix.line_offset_nm):.1f} nm {'toward' if fix.line_offset_nm >= 0 else 'away from'} "
+                 f"{fix.line_toward_deg:03.0f}°")
+    return lines
+
+
+def _residual_lines(group, reduced, labels) -> list[str]:
+    fix = group.fix
+    left_out = fix.left_out if fix.left_out.size == len(group.rows) else np.zeros(len(group.rows), dtype=bool)
+    width = max([len(labels[r]) for r in group.rows] + [5])
+    lines = [f"  {'sight':<{width}}  {'body':<16}{'residual':>10}  flag"]
+    for k, row in enumerate(group.rows):
+        residual = fix.residual_arcmin[k]
+        flag = "BLUNDER? left out of the check fix" if fix.outlier[k] else ""
+        if left_out[k]:
+            flag = "LEFT OUT of this fix: a gross error (its line from this fix)"
+        if reduced.status.iloc[row] == SightStatus.ERROR:
+            flag = "not reduced"
+        carried = reduced["motion_carried_from"].iloc[row] if "motion_carried_from" in reduced.columns else ""
+        flag = "; ".join(t for t in (flag, carried) if t)
+        text = f"{residual:+.1f}′" if residual == residual else "-"
+        lines.append(f"  {labels[row]:<{width}}  {str(reduced.body_name.iloc[row]):<16}{text:>10}  {flag}")
+    return lines
+
+
+def _check_lines(group) -> list[str]:
+    fix = group.fix
+    lines = []
+    if fix.all_sights is not None:
+        other = fix.all_sights
+        lines.append(f"  from every sight (not to plot): {format_angle(other.lat_deg, 'lat')}  "
+                     f"{format_angle(other.lon_deg, 'lon')}, 95 % ellipse {other.ellipse_text()}")
+    if fix.without_outliers is not None:
+        other = fix.without_outliers
+        lines.append(f"  without the flagged sights (the check fix): {format_angle(other.lat_deg, 'lat')}  "
+                     f"{format_angle(other.lon_deg, 'lon')}, 95 % ellipse {other.ellipse_text()}")
+    if fix.chart_distance_nm is not None and fix.is_fix:
+        where = "inside" if fix.chart_inside_ellipse else "OUTSIDE"
+        lines.append(f"  chart position {fix.chart_distance_nm:.1f} nm from the fix, bearing "
+                     f"{fix.chart_bearing_deg:03.0f}°: {where} the 95 % ellipse ({group.chart_note})")
+    elif fix.chart_distance_nm is not None:
+        off = abs(fix.distance_off_line_nm(*group.chart))
+        lines.append(f"  chart position {off:.1f} nm off the {fix.kind}: "
+                     f"{'within' if fix.chart_inside_ellipse else 'OUTSIDE'} its 95 % band ({group.chart_note})")
+    return lines + [f"  warning: {text}" for text in fix.warnings]
+
+
+def fix_lines(group, reduced: pd.DataFrame, labels) -> list[str]:
+    """One fix group's fix: position, ellipse or band, sight error, residuals and flags, checks and warnings."""
+    fix = group.fix
+    lines = _fix_head_lines(group)
+    lines.append(f"  sight error    {fix.sigma_arcmin:.2f}′ ({fix.sigma_source})"
+                 + (f"; fix standard error {fix.standard_error_nm:.2f} nm" if fix.is_fix else ""))
+    if fix.course_made_good_deg is not None:
+        lines.append(f"  made good      {fix.course_made_good_deg:05.1f}° at {fix.speed_made_good_kn:.1f} kn")
+    if fix.run_from != RunFrom.NONE:
+        lines.append(f"  run between the sights: {fix.run_from}")
+    lines.append(f"  blunder check  {fix.blunder_note}")
+    return (lines + _residual_lines(group, reduced, labels) + _check_lines(group)
+            + sight_warning_lines(reduced, labels, group.rows, indent="  "))
+
+
+def latitude_lines(checks: pd.DataFrame) -> list[str]:
+    """Latitude by meridian altitude and by Polaris (:func:`navred.jobs.fixing.latitude_checks`), as checks."""
+    if not len(checks):
+        return []
+    lines = ["Latitude checks"]
+    for row in checks.to_dict("records"):
+        dr = format_angle(row["dr_lat_deg"], "lat")
+        if row["method"] == "Polaris":
+            lines.append(f"  {row['row']:<8} Polaris: latitude {format_angle(float(row['lat_deg']), 'lat')} (DR {dr})")
+        else:
+            lines.append(f"  {row['row']:<8} {row['body']:<10} on the meridian: latitude "
+                         f"{format_angle(float(row['lat_deg']), 'lat')} (DR {dr})")
+    return lines + [""]
+
+
+def fix_report_lines(report) -> list[str]:
+    """navred fix's text: each group's fix (or why not), what the ellipses cover, the latitude checks."""
+    from ..fixstats import ELLIPSE_COVERS
+
+    voyage = report.voyage
+    labels = labels_of(voyage.reduced)
+    lines = []
+    for item in report.groups:
+        if item.fix is None:
+            lines += [f"Group {item.name}: no fix ({item.problem})", ""]
+            continue
+        lines += fix_lines(item, voyage.reduced, labels) + [""]
+    if report.n_fixes:
+        lines += [f"Each 95 % ellipse (or band) {ELLIPSE_COVERS}.", ""]
+    lines += latitude_lines(report.latitude_checks())
+    if voyage.n_rejected_rows:
+        lines.append(f"{voyage.n_rejected_rows} row(s) not reduced: see 'navred reduce' for why")
+    return lines
+
+
+def fixes_csv(report) -> str:
+    return csv_safe(report.table()).to_csv(index=False, float_format="%.7f")
+
+
+# --- series, training, days, rate, mark -----------------------------------------------------
+
+def series_csv(report) -> str:
+    return csv_safe(report.sights).to_csv(index=False, float_format="%.5f")
+
+
+def series_lines(report) -> list[str]:
+    sights, voyage = report.sights, report.voyage
+    labels = labels_of(sights)
+    multi = report.series
+    lines = [f"{multi.series.nunique() if len(multi) else 0} series of two or more sights "
+             f"({voyage.n_rejected_rows} rows rejected)"]
+    for name, part in multi.groupby("series", sort=False):
+        best = part[part.series_best]
+        flagged = [labels[i] for i in part.index[part.series_flag]]
+        lines.append(f"  {name:<12} {part.body_name.iloc[0]:<12} {len(part)} sights, offset "
+                     f"{part.series_offset_arcmin.iloc[0]:+.1f}′, scatter {np.nanmedian(part.series_scatter_arcmin):.1f}′"
+                     + (f", FLAGGED {', '.join(flagged)}" if flagged else ""))
+        if len(best):
+            lines.append(f"  {'':<12} best sight: {labels[best.index[0]]} at "
+                         f"{best.sight_utc.iloc[0]:%H:%M:%S} UTC, Ho {format_angle(best.series_best_ho_deg.iloc[0], 'signed')}")
+    return lines
+
+
+def training_csv(report) -> str:
+    """Every sight's error against the reference (the per-sight table of a training report)."""
+    return csv_safe(report.sights).to_csv(index=False)
+
+
+def track_problem_lines(reference, shown: int = 20) -> list[str]:
+    """The points of the reference track that were refused, each by its point (GPX) or line (NMEA, CSV)."""
+    problems = reference.problems
+    if not len(problems):
+        return []
+    where = "point" if reference.source.lower().endswith(".gpx") else "line"
+    lines = [f"{len(problems)} point{'s' if len(problems) > 1 else ''} of the track refused (not used):"]
+    lines += [f"  {where} {row.point}: {row.reason}" for row in problems.head(shown).itertuples()]
+    if len(problems) > shown:
+        lines.append(f"  ... and {len(problems) - shown} more (every one is on the Training sheet of the workbook, -o)")
+    return lines
+
+
+def training_lines(run, track: str) -> list[str]:
+    from ..jobs.frames import row_list
+
+    report = run.report
+    lines = track_problem_lines(run.reference)
+    unmarked = report.sights[~report.sights.within_track]
+    lines.append(f"{len(report.sights) - len(unmarked)} of {len(report.sights)} sights marked against {track}"
+                 + (f"; {len(unmarked)} not marked:" if len(unmarked) else ""))
+    for note, rows in unmarked.groupby("note", sort=False):
+        lines.append(f"  {row_list(rows)} ({len(rows)} sight{'s' if len(rows) > 1 else ''}): {note}")
+    lines.append(f"{'observer':<22}{'sights':>7}{'blunders':>9}{'personal error':>16}{'± 95 %':>8}{'scatter':>9}"
+                 f"{'trend/day':>11}")
+    for v in report.observers.to_dict("records"):
+        lines.append(f"{v['observer']:<22}{v['sights']:>7}{v['blunders']:>9}{v['personal_error_arcmin']:>+15.2f}′"
+                     f"{v['interval_95_arcmin']:>7.2f}′{v['scatter_arcmin']:>8.2f}′{v['trend_arcmin_per_day']:>+10.3f}′")
+    for row in report.fixes.to_dict("records"):
+        distance = row.get("distance_from_reference_nm")
+        if distance is None or distance != distance:
+            continue
+        if row.get("kind", FixKind.FIX) == FixKind.FIX:
+            lines.append(f"fix {row['fix_group']}: {distance:.1f} nm from the reference, "
+                         f"reference inside the 95 % ellipse: {row['reference_inside_95']}")
+        else:
+            lines.append(f"{row['kind']} {row['fix_group']} (not a fix): the reference lies {distance:.1f} nm off it, "
+                         f"{row['reference_inside_95']}")
+    return lines
+
+
+def _noon_lines(days, vessel) -> list[str]:
+    noons = days.noons[days.noons.vessel == vessel]
+    lines = [f"\n{vessel or 'the vessel'}: noon positions and the day's run"]
+    for r in noons.to_dict("records"):
+        run = (f"  run {r['run_nm']:6.1f} nm, {r['course_made_good_deg']:05.1f}° made good at "
+               f"{r['speed_made_good_kn']:4.1f} kn in {r['hours']:.0f} h ({r['through_water_nm']:.1f} "
+               "nm through the water)" if r["run_nm"] == r["run_nm"] else "")
+        lines.append(f"  {r['date']} noon (ZD {r['zone_h']:+.0f}) {r['noon_position']:<24} {r['noon_from']}{run}")
+    return lines
+
+
+def _set_drift_lines(days, vessel) -> list[str]:
+    sets = days.set_drift[days.set_drift.vessel == vessel]
+    lines = [f"{vessel or 'the vessel'}: set and drift at each fix (95 %)"] if len(sets) else []
+    for r in sets.to_dict("records"):
+        spread = f"±{r['set_95_deg']:.0f}°" if r["set_95_deg"] == r["set_95_deg"] else "(set not determined)"
+        lines.append(f"  {r['fix_utc']} fix {r['fix_group']}: set {r['set_deg']:05.1f}° {spread}, drift "
+                     f"{r['drift_kn']:.2f} ±{r['drift_95_kn']:.2f} kn over {r['hours']:.1f} h from the {r['from']}")
+    return lines
+
+
+NO_DAYS_WORK = "no day's work: the log gives no departure (an entry row) and no fix to keep the DR from"
+
+
+def days_lines(report) -> list[str]:
+    """navred days's text: the summary, each vessel's noons and day's run, set and drift, estimated positions."""
+    voyage, days = report.voyage, report.days
+    lines = [voyage.summary()]
+    if days.empty:
+        lines.append(NO_DAYS_WORK)
+    for vessel in days.tracks:
+        lines += _noon_lines(days, vessel) + _set_drift_lines(days, vessel)
+    lines += [f"estimated position {r['fix_group']} at {r['utc']}: {r['estimated_position']} ({r['from']})"
+              for r in days.estimated.to_dict("records")]
+    return lines
+
+
+def days_csv(report) -> str:
+    return csv_text(report.days.noons)
+
+
+def rate_lines(ratings) -> list[str]:
+    return [piece.summary() for piece in ratings.timepieces.values()] + [
+        f"not read: row {r.row} of {r.source}: {r.column}: {r.reason}" for r in ratings.rejected.itertuples()]
+
+
+def mark_csv(report) -> str:
+    """The marking as CSV, one row per sight, its headers in snake_case as every --csv's."""
+    from ..jobs.workings import marking_csv
+
+    table = marking_csv(report)
+    return csv_text(table.rename(columns={c: "_".join(str(c).split()) for c in table.columns}))
+
+
+def mark_lines(report) -> list[str]:
+    """navred mark's text: the class's summary, each working that is not right in words, each cadet's personal
+    error against a track, and the rows not read."""
+    from ..io.workings import source_name
+    from ..jobs.workings import describe
+
+    lines = [report.summary()]
+    lines += [describe(row) for row in report.rows.to_dict("records") if row["verdict"] != "right"]
+    for p in report.personal.to_dict("records") if len(report.personal) else []:
+        lines.append(f"{p['cadet']}: personal error {p['personal_error_arcmin']:+.2f}′ ± {p['interval_95_arcmin']:.2f}′ "
+                     f"(95 %) against the track, over {int(p['sights'])} sights")
+    lines += [f"not read: {source_name(row.source)} row {row.row}: {row.column}: {row.reason}"
+              for row in report.rejected.itertuples()]
+    return lines

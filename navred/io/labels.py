@@ -1,0 +1,51 @@
+"""The display labels of navred's tables: the words a navigator reads in a sheet, a printed page or the
+console, beside the snake_case names (with units) of the library's tables and of ``--csv``.
+
+A table is labelled only where it is shown (a workbook sheet, a PDF): :func:`labelled` renames the
+columns it knows and leaves the others as they are. One entry per column name, whichever table holds it (a
+class's marking speaks to cadets in words of its own: :data:`navred.io.markingbook.SHEET_LABELS`).
+"""
+
+from __future__ import annotations
+
+import pandas as pd
+
+#: snake_case column -> its display label (the unit in brackets, as the workbook's number formats read it)
+LABELS = {
+    # the day's work (navred.jobs.dayswork)
+    "fix_group": "fix group", "fix_utc": "fix (UTC)", "dr_at_fix": "DR at the fix", "set_deg": "set (deg)",
+    "set_95_deg": "set ±95 % (deg)", "drift_kn": "drift (kn)", "drift_95_kn": "drift ±95 % (kn)",
+    "fix_lat_deg": "fix lat (deg)", "fix_lon_deg": "fix lon (deg)", "dr_lat_deg": "dr lat (deg)",
+    "dr_lon_deg": "dr lon (deg)", "utc": "UTC", "estimated_position": "estimated position", "lat_deg": "lat (deg)",
+    "lon_deg": "lon (deg)", "zone_h": "zone (h)", "noon_utc": "noon (UTC)", "noon_position": "noon position",
+    "noon_from": "noon from", "run_nm": "run (nm)", "course_made_good_deg": "course made good (deg)",
+    "speed_made_good_kn": "speed made good (kn)", "through_water_nm": "through the water (nm)",
+    "fixes_that_day": "fixes that day",
+    # training records (navred.jobs.training)
+    "body_kind": "body kind", "blunder_rate": "blunder rate", "personal_error_arcmin": "personal error (′)",
+    "standard_error_arcmin": "standard error (′)", "interval_95_arcmin": "95 % interval (′)",
+    "scatter_arcmin": "scatter (′)", "trend_arcmin_per_day": "trend (′ per day)",
+    "trend_standard_error_arcmin_per_day": "trend standard error (′ per day)",
+    "distance_from_reference_nm": "distance from reference (nm)",
+    "bearing_to_reference_deg": "bearing from fix to reference (deg)",
+    "reference_inside_95": "reference inside 95 % ellipse", "ellipse_semi_major_95_nm": "95 % semi-major (nm)",
+    # a route's waypoints (navred.jobs.routes)
+    "from_start_nm": "from start (nm)", "rhumb_course_to_next_deg": "rhumb course to next (deg)",
+    "rhumb_distance_to_next_nm": "rhumb distance to next (nm)",
+    # a timepiece's comparisons (navred.io.timesignals)
+    "signal_utc": "signal (UTC)", "zone_description_h": "zone (h)", "error_s": "error (s, fast +)",
+    "residual_s": "residual (s)",
+}
+
+
+def label(name: str) -> str:
+    """The display label of a column (its own name when it has none)."""
+    return LABELS.get(name, name)
+
+
+def labelled(frame: pd.DataFrame) -> pd.DataFrame:
+    """The table with its columns' display labels, for a sheet or a page."""
+    return frame.rename(columns={c: LABELS[c] for c in frame.columns if c in LABELS})
+
+
+__all__ = ["LABELS", "label", "labelled"]

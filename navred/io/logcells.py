@@ -1,0 +1,511 @@
+"""A sight log's cells read: one parser per kind of column (angles, times, dates, units, words), every value
+checked against the vocabulary's range, and every problem named by its row, its column and its value as written.
+
+Plain numbers and ISO instants are read in bulk; anything else each distinct (value, unit, comma rule) once, by
+the parsers of the core and of :mod:`navred.timework`. Used by :mod:`navred.io.logbook` (the one reader).
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from ..angles import parse_angle, parse_angles_fast, wrap_180
+from ..corrections import parse_index_error_arcmin
+from ..errors import NavredError
+from ..stars import canonical_body_name
+from ..timescales import instant_components, iso_z_datetime64
+from ..timework import (
+    iso_instant_text,
+    parse_date,
+    parse_time_of_day,
+    parse_watch_error_s,
+    parse_zone_description,
+)
+from ..vocabulary import (
+    COLUMN,
+    ENTRIES,
+    HORIZONS,
+    LIMBS,
+    NO_HORIZON,
+    UNIT_CONVERSIONS,
+    UNIT_NAMES,
+    convert_to_working_unit,
+    normalise_header,
+)
+from .readers import MissingFormulaValue, blank_mask
+
+#: The reasons given for one row, at most: a row that is wrong in every column (a shifted or pasted line) is
+#: named by its first few, and the rest counted, rather than by a dozen lines (and megabytes a row).
+MAX_REASONS_PER_ROW = 3
+
+
+class Problems:
+    """The problems found, one entry per (row, column), collected column by column; at most
+    :data:`MAX_REASONS_PER_ROW` kept a row (the first found), the others counted by their columns (so that a
+    log wrong in every cell costs a few entries a row, not a dozen)."""
+
+    def __init__(self, n: int):
+        self.n = n
+        self.rows: list[np.ndarray] = []
+        self.columns: list[np.ndarray] = []
+        self.values: list[np.ndarray] = []
+        self.reasons: list[np.ndarray] = []
+        self.count = np.zeros(n, dtype=np.int32)
+        self.more: dict[int, list[str]] = {}  # row -> the columns of its problems not kept
+
+    def add(self, rows, column, value, reason) -> None:
+        rows = np.asarray(rows, dtype=int).ravel()
+        if rows.size == 0:
+            return
+        items = []
+        for item in (column, value, reason):
+            array = np.empty(rows.size, dtype=object)
+            array[:] = item if isinstance(item, str) else list(np.asarray(item, dtype=object).ravel())
+            items.append(array)
+        before = self.count[rows]
+        np.add.at(self.count, rows, 1)
+        keep = before < MAX_REASONS_PER_ROW
+        if not keep.all():
+            for row, name in zip(rows[~keep].tolist(), items[0][~keep].tolist()):
+                self.more.setdefault(row, []).append(str(name))
+            rows = rows[keep]
+            items = [a[keep] for a in items]
+        self.rows.append(rows)
+        for target, array in zip((self.columns, self.values, self.reasons), items):
+            target.append(array)
+
+    def mask(self) -> np.ndarray:
+        """The rows with a problem so far."""
+        return self.count > 0
+
+    def frame(self) -> pd.DataFrame:
+        """Every problem kept, in row order (within a row, in the order found); the last kept of a row with more
+        counts the others and names their columns."""
+        if not self.rows:
+            return pd.DataFrame({"index": np.zeros(0, dtype=int), "column": [], "value": [], "reason": []})
+        frame = pd.DataFrame({"index": np.concatenate(self.rows), "column": np.concatenate(self.columns),
+                              "value": np.concatenate(self.values), "reason": np.concatenate(self.reasons)})
+        frame = frame.sort_values(["index"], kind="stable").reset_index(drop=True)
+        if self.more:
+            index = frame["index"].to_numpy()
+            last = np.flatnonzero(np.append(index[1:] != index[:-1], True))
+            reasons = frame["reason"].to_numpy(dtype=object).copy()
+            for at in last.tolist():
+                others = self.more.get(int(index[at]))
+                if others:
+                    names = ", ".join(dict.fromkeys(others))
+                    reasons[at] = (f"{reasons[at]} (and {len(others)} more column{'s' if len(others) > 1 else ''} "
+                                   f"with a problem: {names})")
+            frame["reason"] = reasons
+        return frame
+
+
+def cell_text(value) -> str:
+    """A cell as text, the way a person typed it (a whole number without '.0'; a missing value blank)."""
+    if value is None or (isinstance(value, float) and value != value):
+        return ""
+    if isinstance(value, float) and value.is_integer():
+        return str(int(value))
+    if isinstance(value, _dt.datetime):
+        return value.isoformat(sep=" ")
+    return str(value)
+
+
+def cell_texts(values: pd.Series) -> np.ndarray:
+    """Every cell of a column as text, as :func:`_text` writes it (each distinct value once)."""
+    if pd.api.types.is_datetime64_any_dtype(values.dtype):
+        stamps = values.dt.tz_convert(None) if values.dt.tz is not None else values
+        text = np.datetime_as_string(stamps.to_numpy().astype("datetime64[us]")).astype(object)
+        return np.where(values.isna().to_numpy(), "", np.char.replace(text.astype(str), "T", " ")).astype(object)
+    codes, uniques = pd.factorize(values, use_na_sentinel=True)
+    texts = np.array([cell_text(u) for u in uniques] + [""], dtype=object)
+    return texts[codes]
+
+
+def with_decimal_point(text: str, decimal_comma: bool) -> str:
+    """A number's text with its decimal comma made a point, where the file's separator allows a decimal
+    comma; elsewhere a comma is refused as ambiguous (a decimal comma, or two values?)."""
+    if "," not in text:
+        return text
+    if not decimal_comma:
+        raise NavredError(f"{text!r}: a comma here is ambiguous (a decimal comma, or two values?); write the "
+                          "decimal with a point")
+    if "." in text or text.count(",") > 1:
+        raise NavredError(f"{text!r} has both a decimal comma and a point")
+    return text.replace(",", ".")
+
+
+def _number(value, decimal_comma: bool) -> float:
+    if isinstance(value, bool) or isinstance(value, MissingFormulaValue):
+        raise NavredError(f"{value!r} is not a number")
+    if isinstance(value, (int, float)):
+        number = float(value)
+    else:
+        text = with_decimal_point(str(value).strip(), decimal_comma)
+        try:
+            number = float(text)
+        except ValueError:
+            raise NavredError(f"{value!r} is not a number") from None
+    if not np.isfinite(number):
+        raise NavredError(f"{value!r} is not a finite number")
+    return number
+
+
+def _word(value, table: dict, what: str) -> str:
+    word = normalise_header(cell_text(value))
+    if word not in table:
+        accepted = ", ".join(sorted({k for k in table if k}))
+        raise NavredError(f"{what} {value!r} is not one navred knows; accepted: {accepted}")
+    return table[word]
+
+
+def _horizon(value) -> str:
+    """The horizon a sight was taken on; a word saying there was none is refused with what to write."""
+    if normalise_header(cell_text(value)) in NO_HORIZON:
+        raise NavredError(f"horizon {value!r}: every altitude is measured from a horizon of some kind: write bubble "
+                          "(a bubble or other built-in horizon), artificial (a reflecting one), or sea (or leave the "
+                          "cell blank) for the sea horizon")
+    return _word(value, HORIZONS, "horizon")
+
+
+def _ranged(number: float, key: str, unit: str | None) -> float:
+    column = COLUMN[key]
+    used = convert_to_working_unit(number, unit)
+    if (column.low is not None and used < column.low) or (column.high is not None and used > column.high):
+        working = UNIT_NAMES.get(column.units[0], "") if column.units else "°"
+        shown = f"{number:g} {UNIT_NAMES[unit]} ({used:.4g} {working})" if unit and unit != column.units[0] \
+            else f"{number:g}"
+        raise NavredError(f"{key.replace('_', ' ')} {shown} is outside {column.low:g} to {column.high:g} {working}")
+    return used
+
+
+def _utc_components(value, dates):
+    """(y, m, d, h, mi, s, offset minutes) of a value in the utc column."""
+    if isinstance(value, MissingFormulaValue):
+        raise NavredError(f"{value!r}: the instant is unknown")
+    if isinstance(value, _dt.datetime):
+        if value.tzinfo is None:  # a spreadsheet date-time cell: the column's name says UTC
+            value = value.replace(tzinfo=_dt.timezone.utc)
+    elif isinstance(value, _dt.date):
+        raise NavredError(f"{value} is a date without a time of day; give the instant in the utc column "
+                          "(2026-03-26T19:41:00Z), or zone_time with zone_description")
+    elif isinstance(value, (int, float)):
+        raise NavredError(f"{value!r} is a number, not an instant: format the cell as a date-time, or write "
+                          "2026-03-26T19:41:00Z")
+    elif isinstance(value, str):
+        value = iso_instant_text(value.strip(), dates)
+    return tuple(float(np.asarray(c)) for c in instant_components(value))
+
+
+def _parse_time_cell(value):
+    """(h, m, s, y, mo, d) of a zone-time cell (a date-time cell carries its date; NaN for none)."""
+    if isinstance(value, MissingFormulaValue):
+        raise NavredError(f"{value!r}")
+    if isinstance(value, (int, float)) and not isinstance(value, bool):
+        raise NavredError(f"{value!r} is a number, not a time of day: write 19:41:30, or format the cell as a time")
+    hour, minute, second = parse_time_of_day(value)
+    if isinstance(value, _dt.datetime) and value.date() not in _SPREADSHEET_EPOCHS:
+        return hour, minute, second, value.year, value.month, value.day
+    return hour, minute, second, np.nan, np.nan, np.nan
+
+
+#: A time typed into a date-time cell comes back on the spreadsheet's day zero: no date at all.
+_SPREADSHEET_EPOCHS = (_dt.date(1899, 12, 30), _dt.date(1899, 12, 31), _dt.date(1904, 1, 1))
+
+
+def _not_formula(value):
+    if isinstance(value, MissingFormulaValue):
+        raise NavredError(f"{value!r}")
+    return value
+
+
+def _decimal_text(value, decimal_comma):
+    return value if isinstance(value, (int, float)) else with_decimal_point(cell_text(value), decimal_comma)
+
+
+#: One parser per kind of column: (value, decimal comma allowed, unit, declared date order) -> result.
+PARSERS = {
+    "body": lambda v, dc, unit, dates: canonical_body_name(cell_text(_not_formula(v))),
+    "limb": lambda v, dc, unit, dates: _word(_not_formula(v), LIMBS, "limb"),
+    "entry": lambda v, dc, unit, dates: _word(_not_formula(v), ENTRIES, "entry"),
+    "horizon": lambda v, dc, unit, dates: _horizon(_not_formula(v)),
+    "altitude": lambda v, dc, unit, dates: float(parse_angle(_not_formula(v), "angle", dc)),
+    "lat": lambda v, dc, unit, dates: float(parse_angle(_not_formula(v), "lat", dc)),
+    "lon": lambda v, dc, unit, dates: float(parse_angle(_not_formula(v), "lon", dc)),
+    "index_error": lambda v, dc, unit, dates: float(parse_index_error_arcmin(_decimal_text(_not_formula(v), dc))),
+    "number": lambda v, dc, unit, dates: _number(_not_formula(v), dc),
+    "watch_error": lambda v, dc, unit, dates: parse_watch_error_s(_decimal_text(_not_formula(v), dc)),
+    "utc": lambda v, dc, unit, dates: _utc_components(v, dates),
+    "date": lambda v, dc, unit, dates: parse_date(_not_formula(v), dates),
+    "time": lambda v, dc, unit, dates: _parse_time_cell(v),
+    "zone": lambda v, dc, unit, dates: float(parse_zone_description(_not_formula(v))),
+    "text": lambda v, dc, unit, dates: cell_text(_not_formula(v)).strip(),
+    "name": lambda v, dc, unit, dates: " ".join(cell_text(_not_formula(v)).split()),
+}
+#: Kinds whose result is several numbers (a row of an array), and how many.
+TUPLE_KINDS = {"utc": 7, "date": 3, "time": 6}
+#: Kinds whose result is one number.
+FLOAT_KINDS = {"altitude", "lat", "lon", "index_error", "number", "watch_error", "zone"}
+
+
+def _parse_one(column, value, decimal_comma, unit, dates):
+    """One value of a column parsed, converted to navred's unit and checked against the range; or raise."""
+    result = PARSERS[column.kind](value, decimal_comma, unit, dates)
+    if column.kind in ("number", "altitude") and column.low is not None:
+        result = _ranged(float(result), column.key, unit if column.kind == "number" else None)
+    return result
+
+
+def _parse_fast(column, originals: list, unit) -> list:
+    """The values of an angle column in the common written forms, read in bulk
+    (:func:`navred.angles.parse_angles_fast`: only what the careful parser reads to the same
+    value); None where the careful parser must look. A decimal comma is left to the careful parser."""
+    kind = {"altitude": "angle", "lat": "lat", "lon": "lon"}.get(column.kind)
+    if kind is None:
+        return [None] * len(originals)
+    values, done = parse_angles_fast(originals, kind)
+    out: list = [None] * len(originals)
+    for k in np.flatnonzero(done).tolist():
+        number = float(values[k])
+        if column.kind == "altitude" and column.low is not None:
+            try:
+                number = _ranged(number, column.key, None)
+            except NavredError:
+                continue  # the careful parser gives the reason
+        out[k] = number
+    return out
+
+
+@dataclass
+class Cells:
+    """One column key across every table: the cells, their units and header names, row by row."""
+
+    values: pd.Series  # index 0..n-1; None where the row gives nothing
+    blank: np.ndarray
+    units: np.ndarray
+    headers: np.ndarray
+    decimal_comma: np.ndarray
+    present: bool
+
+
+@dataclass
+class Parsed:
+    """The parsed values of one key: a mask of the rows with a good value, and the values
+    (n,) for one number or word per row, (k, n) for kinds that give several numbers."""
+
+    ok: np.ndarray
+    value: np.ndarray
+
+
+def gather(tables, layouts, key) -> Cells:
+    """The cells of one key across all tables (blank where a table lacks it); two columns of one
+    table that give the same key are combined row by row (one value at most).
+
+    The tables' cells are joined first and looked at once, so a folder of many small logs costs
+    about what one log of all their rows would."""
+    values, units, headers = [], [], []
+    present = False
+    counts = np.array([t.n_rows for t in tables], dtype=int)
+    for table, layout in zip(tables, layouts):
+        n = table.n_rows
+        indices = layout.keys.get(key, [])
+        if not indices:
+            values.append(np.full(n, None, dtype=object))
+            units.append(COLUMN[key].default_unit)
+            headers.append(key)
+            continue
+        present = True
+        first = indices[0]
+        column = table.columns[first].to_numpy(dtype=object)
+        if len(indices) == 1:
+            values.append(column)
+            units.append(layout.units[first])
+            headers.append(table.header[first])
+            continue
+        # two columns of one table give this key: combined row by row, with their units and names
+        blank = blank_mask(pd.Series(column, dtype=object))
+        unit = np.full(n, layout.units[first], dtype=object)
+        header = np.full(n, table.header[first], dtype=object)
+        for k in indices[1:]:
+            cells = table.columns[k].to_numpy(dtype=object)
+            filled = ~blank_mask(pd.Series(cells, dtype=object))
+            for i in np.flatnonzero(filled & ~blank):
+                if layout.units[k] == unit[i] and cell_text(cells[i]).strip() == cell_text(column[i]).strip():
+                    continue  # the same value twice, in the same unit (a column repeated): one value
+                table.row_problems.setdefault(int(i), (table.header[k], (
+                    f"two values for {key.replace('_', ' ')}: {header[i]!r} {cell_text(column[i])!r} and "
+                    f"{table.header[k]!r} {cell_text(cells[i])!r}; keep one")))
+            column = np.where(filled, cells, column)
+            unit = np.where(filled & blank, layout.units[k], unit)
+            header = np.where(filled & blank, table.header[k], header)
+            blank = blank & ~filled
+        values.append(column)
+        units.append(unit)
+        headers.append(header)
+    joined = pd.Series(np.concatenate(values) if values else np.zeros(0, dtype=object), dtype=object)
+
+    def per_row(parts):
+        if all(not isinstance(p, np.ndarray) for p in parts):
+            return np.repeat(np.array(parts, dtype=object), counts)
+        return np.concatenate([p if isinstance(p, np.ndarray) else np.full(c, p, dtype=object)
+                               for p, c in zip(parts, counts)]) if parts else np.zeros(0, dtype=object)
+
+    commas = np.repeat(np.array([t.decimal_comma for t in tables], dtype=bool), counts)
+    return Cells(joined, blank_mask(joined), per_row(units), per_row(headers), commas, present)
+
+
+def _numeric_checks(column, numbers: np.ndarray, units: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Plain numbers of a column checked (and converted) in bulk: (values used, refused mask).
+
+    The refused ones are parsed again one by one, which gives their reasons."""
+    kind = column.kind
+    used = numbers.astype(float)
+    if kind == "number" and column.units:
+        factors = np.ones(numbers.size)
+        offsets = np.zeros(numbers.size)
+        for unit in set(units) - {None}:
+            factors[units == unit], offsets[units == unit] = UNIT_CONVERSIONS[unit]
+        used = numbers * factors + offsets
+    bad = ~np.isfinite(used)
+    with np.errstate(invalid="ignore"):
+        if kind in ("number", "altitude") and column.low is not None:
+            bad |= (used < column.low) | (used > column.high)
+        elif kind == "lat":
+            bad |= np.abs(used) > 90.0
+        elif kind == "lon":
+            bad |= (used < -180.0) | (used > 360.0)
+            used = wrap_180(used)  # 354.47 east of Greenwich is 5.53 west
+        elif kind == "index_error":
+            bad |= (used < column.low) | (used > column.high)
+        elif kind == "watch_error":
+            bad |= (used < column.low) | (used > column.high) | (used > 0.0)  # a positive number has lost its sign: judged one by one
+        elif kind == "zone":
+            bad |= True  # a number cell of a zone description: each is judged one by one
+    return used, bad
+
+
+_ISO_Z = r"^\s*(\d{4})-(\d{2})-(\d{2})[T ](\d{2}):(\d{2}):(\d{2}(?:\.\d+)?)\s*Z\s*$"
+
+
+def parse_key(cells: Cells, key: str, problems: Problems, dates) -> Parsed:
+    """Parse one key: plain numbers and ISO instants in bulk, anything else each distinct
+    (value, unit, comma rule) once; converted to navred's unit and checked against the range."""
+    column = COLUMN[key]
+    n = len(cells.values)
+    width = TUPLE_KINDS.get(column.kind)
+    if width:
+        value = np.full((width, n), np.nan)
+    elif column.kind in FLOAT_KINDS:
+        value = np.full(n, np.nan)
+    else:
+        value = np.full(n, None, dtype=object)
+    todo = ~cells.blank
+    if not todo.any():
+        return Parsed(np.zeros(n, dtype=bool), value)
+    _parse_in_bulk(column, cells, value, todo)
+    refused = np.zeros(n, dtype=bool)
+    rows = np.flatnonzero(todo)
+    if rows.size:
+        units = cells.units[rows]
+        commas = np.asarray(cells.decimal_comma[rows], dtype=bool)
+        if (units == units[0]).all() and (commas == commas[0]).all():
+            batches = [(units[0], bool(commas[0]), rows)]  # the usual case: one unit and one comma rule
+        else:
+            keys = np.array([f"{u}|{c}" for u, c in zip(units, commas)])
+            batches = [(units[keys == k][0], bool(commas[keys == k][0]), rows[keys == k]) for k in dict.fromkeys(keys)]
+        for unit, comma, members in batches:
+            _parse_each_distinct(column, cells, members, unit, comma, dates, value, refused, problems)
+    return Parsed(~cells.blank & ~refused, value)
+
+
+def _parse_in_bulk(column, cells: Cells, value: np.ndarray, todo: np.ndarray) -> None:
+    """Plain numbers, ISO 'Z' instants and date-time cells read at once into ``value``, their rows taken off
+    ``todo``."""
+    rows = np.flatnonzero(todo)
+    subset = cells.values.iloc[rows]
+    inferred = pd.api.types.infer_dtype(subset, skipna=True)
+    if column.kind in FLOAT_KINDS and inferred in ("floating", "integer", "mixed-integer-float"):
+        used, bad = _numeric_checks(column, subset.to_numpy(dtype=float, na_value=np.nan), cells.units[rows])
+        value[rows[~bad]] = used[~bad]
+        todo[rows[~bad]] = False
+    elif column.kind == "utc" and inferred == "string":
+        stamps = iso_z_datetime64(subset.to_numpy(dtype=object))  # every cell a real 'Z' instant: numpy reads them
+        if stamps is not None:
+            value[:, rows] = np.vstack(instant_components(stamps))
+            todo[rows] = False
+        else:
+            parts = subset.str.extract(_ISO_Z).to_numpy(dtype=object)
+            matched = ~pd.isna(parts[:, 0])
+            if matched.any():
+                value[:6, rows[matched]] = parts[matched].astype(float).T
+                value[6, rows[matched]] = 0.0
+                todo[rows[matched]] = False
+    elif column.kind == "utc" and inferred in ("datetime", "datetime64"):
+        try:
+            stamps = pd.to_datetime(subset)
+            stamps = stamps.dt.tz_convert("UTC") if stamps.dt.tz is not None else stamps
+        except (TypeError, ValueError):
+            return  # naive and aware mixed: one by one
+        fraction = stamps.dt.microsecond.to_numpy() / 1e6 + stamps.dt.nanosecond.to_numpy() / 1e9
+        value[:, rows] = np.vstack([stamps.dt.year, stamps.dt.month, stamps.dt.day, stamps.dt.hour,
+                                    stamps.dt.minute, stamps.dt.second.to_numpy() + fraction, np.zeros(rows.size)])
+        todo[rows] = False
+
+
+def _parse_each_distinct(column, cells: Cells, members: np.ndarray, unit, comma: bool, dates, value: np.ndarray,
+                         refused: np.ndarray, problems: Problems) -> None:
+    """The cells of ``members`` (one unit, one comma rule) parsed each distinct value once into ``value``; the
+    refused ones marked in ``refused`` and added to ``problems`` with their value as written and their reason."""
+    originals = cells.values.iloc[members]
+    # each distinct value once (TRUE/FALSE cells were made text by the reader, so that True is not 1)
+    codes, uniques = pd.factorize(originals, use_na_sentinel=False)
+    first = np.full(len(uniques), -1)
+    first[codes[::-1]] = np.arange(codes.size)[::-1]
+    distinct = originals.to_numpy(dtype=object)[first].tolist()
+    quick = _parse_fast(column, distinct, unit)
+    results, reasons = [], {}
+    for u, original in enumerate(distinct):
+        if quick[u] is not None:
+            results.append(quick[u])
+            continue
+        try:
+            results.append(_parse_one(column, original, bool(comma), unit, dates))
+        except (NavredError, ValueError, TypeError) as exc:
+            results.append(None)
+            reasons[u] = _reason(exc, original)
+    good = np.array([r is not None for r in results], dtype=bool)
+    if value.ndim == 2:
+        table = np.full((value.shape[0], len(uniques)), np.nan)
+        for u in np.flatnonzero(good):
+            table[:, u] = results[u]
+        value[:, members] = table[:, codes]
+    else:
+        table = np.empty(len(uniques), dtype=value.dtype)
+        table[:] = [r if r is not None else (np.nan if value.dtype == float else None) for r in results]
+        value[members] = table[codes]
+    refused[members[~good[codes]]] = True
+    if reasons:  # every refused cell with its value as written and its reason, in one go
+        bad = ~good[codes]
+        where = members[bad]
+        texts = np.array([cell_text(distinct[u]) if u in reasons else "" for u in range(len(distinct))], dtype=object)
+        why = np.array([reasons.get(u, "") for u in range(len(distinct))], dtype=object)
+        problems.add(where, cells.headers[where], texts[codes[bad]], why[codes[bad]])
+
+
+def _reason(exc: Exception, value) -> str:
+    if isinstance(value, MissingFormulaValue):
+        return (f"a formula ({value.formula}) with no saved value: open and save the file in a spreadsheet program "
+                "so that its value is stored, or type the value")
+    return str(exc)
+
+
+def floats(parsed: Parsed, default=np.nan) -> np.ndarray:
+    return np.where(parsed.ok, parsed.value, default).astype(float)
+
+
+def words(parsed: Parsed, default="") -> np.ndarray:
+    return np.where(parsed.ok, parsed.value, default).astype(object)

@@ -1,0 +1,236 @@
+"""The reader's first carry of the DR along a sight log's track: the entry rows (departure, position, course,
+current) checked and read, each sight's DR carried from the departure or last known position where the row gives
+none, and a blank course or speed carried from the last row that gives one. Each vessel keeps her own track
+(:func:`navred.reckoning.dr_track`). The fixes restart it later (:func:`navred.jobs.voyage.process_log`).
+Used by :mod:`navred.io.logbook`."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from ..constants import NS_PER_MINUTE
+from ..timescales import utc_jd_to_datetime64
+from .logcells import floats, words
+
+#: The columns of a log's entries (:attr:`navred.io.logbook.SightLog.entries`).
+ENTRY_COLUMNS = ["source", "row", "utc", "entry", "lat_deg", "lon_deg", "course_deg", "speed_kn", "set_deg",
+                 "drift_kn", "vessel"]
+
+#: A sight taken more than this before its fix's time is advanced to it along the course and speed in force
+#: after it (a running fix): a blank course or speed there would be read as a ship stopped.
+RUN_MINUTES = 2.0
+
+
+def carried_motion(dr, parsed, gathered, times, is_entry, entries, rows, problems) -> np.ndarray:
+    """A sight's blank course or speed carried from the last row before it (of its vessel, in time) that gives
+    one, a sight's or an entry's, and named in the note returned ('speed 6.5 kn carried from row 7'). The course
+    and speed in ``dr`` are filled in place."""
+    n = rows.size
+    note = np.full(n, "", dtype=object)
+    if not (gathered["course"].present or gathered["speed"].present or len(entries)):
+        return note  # the log keeps no motion at all: nothing to carry (a fix warns of a run without one)
+    course, speed = dr["course"], dr["speed"]
+    given_course, given_speed = floats(parsed["course"]), floats(parsed["speed"])
+    ok = times["ok"] & ~problems.mask()
+    sight = ~is_entry
+    when = np.full(n, np.iinfo(np.int64).min, dtype=np.int64)
+    when[times["ok"]] = utc_jd_to_datetime64(times["jd1"][times["ok"]], times["jd2"][times["ok"]]).astype(np.int64)
+    vessels = words(parsed["vessel"])
+    e_vessel = entries["vessel"].to_numpy(dtype=object) if len(entries) else np.zeros(0, dtype=object)
+    named = set(vessels[sight].tolist()) - {""}
+    if len(entries) and not (e_vessel != "").any() and len(named) == 1:
+        e_vessel = np.full(len(entries), next(iter(named)), dtype=object)
+    e_when = entries["utc"].dt.tz_convert(None).to_numpy().astype("datetime64[ns]").astype(np.int64) \
+        if len(entries) else np.zeros(0, dtype=np.int64)
+    blank = sight & ok & (np.isnan(given_course) | np.isnan(given_speed))
+    for vessel in dict.fromkeys(vessels[blank].tolist()):
+        mine = vessels == vessel
+        own = sight & ok & mine
+        e_mine = e_vessel == vessel
+        change_ns = np.concatenate([e_when[e_mine], when[own]])
+        change_row = np.concatenate([entries["row"].to_numpy(dtype=int)[e_mine], rows[own]])
+        order = np.argsort(change_ns, kind="stable")
+        t = change_ns[order]
+        targets = np.flatnonzero(blank & mine)
+        texts = [[] for _ in targets]
+        for values, given, unit, name in ((np.concatenate([entries["course_deg"].to_numpy(dtype=float)[e_mine],
+                                                           given_course[own]]), given_course, "°", "course"),
+                                          (np.concatenate([entries["speed_kn"].to_numpy(dtype=float)[e_mine],
+                                                           given_speed[own]]), given_speed, " kn", "speed")):
+            values = values[order]
+            last = np.maximum.accumulate(np.where(np.isfinite(values), np.arange(values.size), -1)) \
+                if values.size else np.zeros(0, dtype=int)
+            # the last value given strictly before the sight (its own row gives none), or at its instant by another
+            k = np.searchsorted(t, when[targets], side="right") - 1
+            source = np.where(k >= 0, last[np.maximum(k, 0)] if last.size else -1, -1)
+            for j, (i, src) in enumerate(zip(targets.tolist(), source.tolist())):
+                if np.isfinite(given[i]) or src < 0:
+                    continue
+                value = float(values[src])
+                target = course if name == "course" else speed
+                target[i] = value
+                texts[j].append((name, f"{value:g}{unit}", int(change_row[order][src])))
+        for j, i in enumerate(targets.tolist()):
+            if texts[j]:
+                from_rows = {r for _, _, r in texts[j]}
+                if len(from_rows) == 1:
+                    note[i] = " and ".join(f"{a} {b}" for a, b, _ in texts[j]) + f" carried from row {from_rows.pop()}"
+                else:
+                    note[i] = "; ".join(f"{a} {b} carried from row {r}" for a, b, r in texts[j])
+    return note
+
+
+def motion_missing(table: pd.DataFrame, usable: np.ndarray, gathered, problems) -> bool:
+    """Refuse the sights of a running fix (taken more than :data:`RUN_MINUTES` before their group's last sight)
+    whose course or speed is blank with none to carry, where other sights of the group give one: read as 0 kn
+    for that leg alone, their lines would be advanced wrongly. True when any was refused."""
+    if not (gathered["course"].present or gathered["speed"].present) or not usable.any():
+        return False
+    ticks = table["sight_utc"].dt.tz_convert(None).to_numpy().astype("datetime64[ns]").astype(np.int64)
+    groups = table["fix_group"].to_numpy(dtype=object)
+    frame = pd.DataFrame({"group": groups[usable], "t": ticks[usable]})
+    last = frame.groupby("group", sort=False)["t"].transform("max").to_numpy()
+    rows = np.flatnonzero(usable)
+    early = (last - frame["t"].to_numpy()) > RUN_MINUTES * NS_PER_MINUTE
+    lacking = []
+    for key, what in (("course", "course"), ("speed", "speed")):
+        values = table[f"{key}_{'deg' if key == 'course' else 'kn'}"].to_numpy(dtype=float)[rows]
+        # only where the group keeps this motion on some sight: a group that keeps none is run from its rows'
+        # own DRs, or said to be taken as stopped, by the fix (navred.fix)
+        kept = frame.assign(given=np.isfinite(values)).groupby("group", sort=False)["given"].transform("any")
+        missing = rows[early & ~np.isfinite(values) & kept.to_numpy(dtype=bool)]
+        for i in missing.tolist():
+            lacking.append((i, key, what))
+    if not lacking:
+        return False
+    for i, key, what in lacking:
+        problems.add([i], gathered[key].headers[i] if gathered[key].present else key, "",
+                     f"{what} is blank, and no row before gives one: this sight is advanced to its running fix "
+                     f"({table['fix_group'].iloc[i]}) along the {what} in force, so give it (a speed of 0 if the "
+                     "ship lay stopped)")
+    return True
+
+def check_entries(entry, is_entry, parsed, gathered, problems) -> None:
+    """An entry row holds no sight, and what its kind needs: a position, a course or speed, or a current."""
+    sight_cells = is_entry & (~gathered["body"].blank | ~gathered["hs"].blank)
+    problems.add(np.flatnonzero(sight_cells), "entry", entry[sight_cells],
+                 "an entry row holds no sight: put the sight on a row of its own")
+    for kind, needs, text in (("departure", ("dr_lat", "dr_lon"), "a departure needs its position (dr_lat, dr_lon)"),
+                              ("position", ("dr_lat", "dr_lon"), "a position entry needs the position (dr_lat, "
+                                                                 "dr_lon)"),
+                              ("current", ("set", "drift"), "a current entry needs its set and drift")):
+        lacking = is_entry & (entry == kind) & np.logical_or.reduce([gathered[k].blank for k in needs])
+        problems.add(np.flatnonzero(lacking), "entry", entry[lacking], text)
+    still = is_entry & (entry == "course") & gathered["course"].blank & gathered["speed"].blank
+    problems.add(np.flatnonzero(still), "entry", entry[still], "a course entry needs a course, a speed or both")
+    for a, b in (("dr_lat", "dr_lon"), ("dr_lon", "dr_lat"), ("set", "drift"), ("drift", "set")):
+        alone = parsed[a].ok & gathered[b].blank
+        problems.add(np.flatnonzero(alone), gathered[b].headers[alone], "",
+                     f"{a.replace('_', ' ')} is given without {b.replace('_', ' ')}: give both, or neither"
+                     if gathered[b].present else f"required column {b} is missing (it goes with {a})")
+    stray = ~is_entry & (~gathered["set"].blank | ~gathered["drift"].blank)
+    problems.add(np.flatnonzero(stray), "set", "", "a current is given on an entry row (entry: current), not on a sight")
+
+
+def read_entries(n, sources, rows, entry, is_entry, parsed, times, problems) -> pd.DataFrame:
+    """The entries read well, as :data:`ENTRY_COLUMNS`."""
+    good = is_entry & ~problems.mask() & times["ok"]
+    if not good.any():
+        return pd.DataFrame(columns=ENTRY_COLUMNS)
+    stamps = utc_jd_to_datetime64(times["jd1"][good], times["jd2"][good])
+    return pd.DataFrame({
+        "source": sources[good], "row": rows[good].astype(int), "utc": pd.Series(stamps).dt.tz_localize("UTC"),
+        "entry": entry[good], "lat_deg": floats(parsed["dr_lat"])[good], "lon_deg": floats(parsed["dr_lon"])[good],
+        "course_deg": floats(parsed["course"])[good], "speed_kn": floats(parsed["speed"])[good],
+        "set_deg": floats(parsed["set"])[good], "drift_kn": floats(parsed["drift"])[good],
+        "vessel": words(parsed["vessel"])[good]})
+
+
+def carried_dr(parsed, gathered, times, is_entry, entries: pd.DataFrame, problems) -> dict:
+    """Each sight's DR: as given, or carried along the log's DR track (its departure or last known position,
+    every course, speed and current since, the sights' own courses and speeds too) to the sight; and the
+    course and speed in force where a sight gives none. Each vessel keeps its own track."""
+    from ..reckoning import PAST_POLE, dr_track
+
+    lat, lon = floats(parsed["dr_lat"]), floats(parsed["dr_lon"])
+    course, speed = floats(parsed["course"]), floats(parsed["speed"])
+    n = lat.size
+    note = np.full(n, "", dtype=object)
+    sight = ~is_entry
+    wanted = sight & gathered["dr_lat"].blank & gathered["dr_lon"].blank & times["ok"] & ~problems.mask()
+    also_course = sight & times["ok"] & (np.isnan(course) | np.isnan(speed)) & (len(entries) > 0)
+    if not wanted.any() and not also_course.any():
+        none = sight & gathered["dr_lat"].blank & gathered["dr_lon"].blank
+        problems.add(np.flatnonzero(none), "dr_lat", "", "no DR: give dr_lat and dr_lon, or an entry row with the "
+                     "departure or a known position before this sight (entry: departure)")
+        return {"lat": lat, "lon": lon, "course": course, "speed": speed, "note": note}
+    when = np.full(n, np.iinfo(np.int64).min, dtype=np.int64)
+    ok = times["ok"]
+    when[ok] = utc_jd_to_datetime64(times["jd1"][ok], times["jd2"][ok]).astype(np.int64)
+    vessels = words(parsed["vessel"])
+    e_when = entries["utc"].dt.tz_convert(None).to_numpy().astype("datetime64[ns]").astype(np.int64) \
+        if len(entries) else np.zeros(0, dtype=np.int64)
+    e_vessel = entries["vessel"].to_numpy(dtype=object) if len(entries) else np.zeros(0, dtype=object)
+    named = set(vessels[sight].tolist()) - {""}
+    if len(entries) and not (e_vessel != "").any() and len(named) == 1:
+        e_vessel = np.full(len(entries), named.pop(), dtype=object)  # one ship: her entries need not name her
+    known_kind = entries["entry"].isin(["departure", "position"]).to_numpy() if len(entries) else np.zeros(0, bool)
+    usable_sight = sight & ok & ~problems.mask()
+    for vessel in dict.fromkeys(vessels[wanted | also_course].tolist()):
+        mine = vessels == vessel
+        e_mine = e_vessel == vessel
+        # the sights' own courses and speeds are changes too (in force from each sight)
+        own = usable_sight & mine & (np.isfinite(course) | np.isfinite(speed))
+        change_ns = np.concatenate([e_when[e_mine], when[own]])
+        change_course = np.concatenate([entries["course_deg"].to_numpy(dtype=float)[e_mine], course[own]])
+        change_speed = np.concatenate([entries["speed_kn"].to_numpy(dtype=float)[e_mine], speed[own]])
+        change_set = np.concatenate([entries["set_deg"].to_numpy(dtype=float)[e_mine], np.full(own.sum(), np.nan)])
+        change_drift = np.concatenate([entries["drift_kn"].to_numpy(dtype=float)[e_mine], np.full(own.sum(), np.nan)])
+        known = e_mine & known_kind
+        if not known.any():
+            continue  # no departure for this vessel: her sights without a DR are refused below
+        track = dr_track(change_ns, change_course, change_speed, e_when[known],
+                         entries["lat_deg"].to_numpy(dtype=float)[known],
+                         entries["lon_deg"].to_numpy(dtype=float)[known], set_deg=change_set, drift_kn=change_drift)
+        rows_here = np.flatnonzero(wanted & mine)
+        if rows_here.size:
+            t_lat, t_lon, origin = track.positions(when[rows_here])
+            polar = (origin >= 0) & ~np.isfinite(t_lat)
+            problems.add(rows_here[polar], "dr_lat", "", PAST_POLE)
+            found = (origin >= 0) & ~polar
+            lat[rows_here[found]], lon[rows_here[found]] = t_lat[found], t_lon[found]
+            known_rows = entries["row"].to_numpy()[known]
+            known_words = entries["entry"].to_numpy(dtype=object)[known]
+            slots = np.searchsorted(track.knot_ns, e_when[known])
+            by_knot = {int(k): f"the {w} at row {int(r)}" for k, w, r in zip(slots, known_words, known_rows)}
+            note[rows_here[found]] = [f"carried from {by_knot[int(o)]}" for o in origin[found]]
+            lost = rows_here[origin < 0]
+            problems.add(lost, "dr_lat", "", "no DR: this sight comes before the log's first departure or known "
+                         "position (an entry row); give dr_lat and dr_lon, or an earlier departure")
+        # the course and speed in force, where a sight gives none (for the run between its sights)
+        blank_motion = np.flatnonzero(also_course & mine)
+        if blank_motion.size:
+            k = np.searchsorted(track.knot_ns, when[blank_motion], side="right") - 1
+            has = k >= 0
+            water_course, water_speed = _water_motion(change_ns, change_course, change_speed, when[blank_motion])
+            course[blank_motion] = np.where(np.isnan(course[blank_motion]) & has, water_course, course[blank_motion])
+            speed[blank_motion] = np.where(np.isnan(speed[blank_motion]) & has, water_speed, speed[blank_motion])
+    none = sight & gathered["dr_lat"].blank & gathered["dr_lon"].blank & np.isnan(lat) & ~problems.mask()
+    problems.add(np.flatnonzero(none), "dr_lat", "", "no DR: give dr_lat and dr_lon, or an entry row with the "
+                 "departure or a known position before this sight (entry: departure)")
+    return {"lat": lat, "lon": lon, "course": course, "speed": speed, "note": note}
+
+
+def _water_motion(change_ns, change_course, change_speed, when):
+    """The course and speed through the water in force at each instant: the last given at or before it."""
+    order = np.argsort(change_ns, kind="stable")
+    t = change_ns[order]
+    out = []
+    for values in (change_course[order], change_speed[order]):
+        index = np.maximum.accumulate(np.where(np.isfinite(values), np.arange(values.size), -1)) if values.size \
+            else np.zeros(0, dtype=int)
+        k = np.searchsorted(t, when, side="right") - 1
+        last = np.where(k >= 0, index[np.maximum(k, 0)] if index.size else -1, -1)
+        out.append(np.where(last >= 0, values[np.maximum(last, 0)] if values.size else np.nan, np.nan))
+    return out[0], out[1]

@@ -1,0 +1,122 @@
+"""The plotting sheets of a voyage's fixes and its track as picture files (PNG, SVG), drawn by several
+processes for a fleet's hundreds of sheets (:func:`navred.jobs.forking.forked_map`), each file the same
+byte for byte whoever draws it."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+
+from ..errors import NavredError
+from ..io.output import atomic_write, atomic_write_many
+from .forking import can_fork, cores, forked_map
+from .frames import row_labels
+
+
+def _sight_labels(voyage) -> tuple[np.ndarray, np.ndarray]:
+    """Each reduced sight's body and time (HH:MM) as a plotting sheet labels its line, made once a run."""
+    if "sight labels" not in voyage.cache:
+        reduced = voyage.reduced
+        voyage.cache["sight labels"] = (reduced.body_name.astype(str).to_numpy(),
+                                        reduced.sight_utc.dt.strftime("%H:%M").fillna("").to_numpy())
+    return voyage.cache["sight labels"]
+
+
+def plotting_figure(voyage, group):
+    """The plotting sheet figure of one fix group."""
+    from ..figures.plotting import plotting_sheet
+    bodies, times = _sight_labels(voyage)
+    if "row labels" not in voyage.cache:
+        voyage.cache["row labels"] = row_labels(voyage.reduced)
+    return plotting_sheet(group.fix, bodies[group.rows], times[group.rows], title=f"Plotting sheet: {group.name}",
+                          chart=group.chart, rows=voyage.cache["row labels"][group.rows])
+
+
+def plot_file_stems(names) -> list[str]:
+    """A file-name stem for each fix group's plotting sheet: the name's letters and digits, made
+    unique ('a b' and 'a-b' would both be 'a-b': the second becomes 'a-b-2')."""
+    import re
+
+    stems, seen = [], {}
+    for name in names:
+        stem = re.sub(r"[^A-Za-z0-9_.-]+", "-", str(name)).strip("-.") or "fix"
+        count = seen.get(stem.lower(), 0) + 1
+        seen[stem.lower()] = count
+        stems.append(stem if count == 1 else f"{stem}-{count}")
+    return stems
+
+
+def write_plots(voyage, folder: str | Path, formats: tuple[str, ...] = ("png", "svg"), *,
+                groups=None, workers: int | None = None) -> list[Path]:
+    """Every fix's plotting sheet (or those of ``groups``) as PNG and SVG files in ``folder``.
+
+    Hundreds of sheets are drawn by ``workers`` processes at once (default: one per core this process
+    may use, for :data:`PARALLEL_FROM` sheets or more, where the system can fork); each file is the
+    same byte for byte whoever draws it."""
+    from ..figures.plotting import canvas_bytes
+
+    out = Path(folder)
+    if out.exists() and not out.is_dir():
+        raise NavredError(f"{out} is a file: give a folder for the plotting sheets")
+    out.mkdir(parents=True, exist_ok=True)
+    chosen = [g for g in (voyage.groups if groups is None else groups) if g.fix is not None]
+    written: list[Path] = []
+    if groups is None and not voyage.days_work().empty:
+        from ..figures.plotting import voyage_track_picture
+
+        days = voyage.days_work()
+        pictures = {}
+        for vessel, stem in zip(days.tracks, plot_file_stems(f"track-{v or 'vessel'}" for v in days.tracks)):
+            picture = voyage_track_picture(days, vessel)
+            for suffix in formats:
+                pictures[f"{stem}.{suffix}"] = canvas_bytes(picture, suffix, png_width_px=1320)
+        written += atomic_write_many(out, pictures, inputs=voyage.inputs)
+    stems = plot_file_stems(g.name for g in chosen)
+    batches = [(start, min(start + PLOTS_PER_WRITE, len(chosen))) for start in range(0, len(chosen), PLOTS_PER_WRITE)]
+    _sight_labels(voyage)  # worked out once, before any drawer starts
+    context = {"voyage": voyage, "chosen": chosen, "stems": stems, "formats": tuple(formats)}
+    for files in forked_map(_draw_batch, batches, context=context, workers=drawers_for(len(chosen), workers)):
+        written += atomic_write_many(out, files, inputs=voyage.inputs)
+    return written
+
+
+#: plotting sheets drawn and written together (their files are held in memory until written)
+PLOTS_PER_WRITE = 250
+#: from this many plotting sheets, several processes draw them
+PARALLEL_FROM = 400
+
+
+def _draw_batch(context: dict, batch: tuple[int, int]) -> dict[str, bytes]:
+    """One batch of plotting sheets drawn (in this process or in a forked drawer)."""
+    from ..figures.plotting import canvas_bytes
+
+    voyage, chosen, stems, formats = (context[k] for k in ("voyage", "chosen", "stems", "formats"))
+    files = {}
+    for group, stem in zip(chosen[batch[0]:batch[1]], stems[batch[0]:batch[1]]):
+        sheet = plotting_figure(voyage, group)
+        for suffix in formats:
+            files[f"plot-{stem}.{suffix}"] = canvas_bytes(sheet, suffix)
+    return files
+
+
+def drawers_for(n_sheets: int, workers: int | None) -> int:
+    """How many processes draw: one below PARALLEL_FROM sheets (or where processes cannot be forked), else
+    ``workers``, by default one per core."""
+    if not can_fork():
+        return 1
+    if workers is None:
+        return 1 if n_sheets < PARALLEL_FROM else cores()
+    return max(1, int(workers))
+
+
+
+def write_track_picture(days, path: str | Path, *, inputs=()) -> tuple[Path, int]:
+    """The voyage picture of the day's work (:class:`navred.jobs.dayswork.DaysWork`; its first vessel's) as
+    PNG or SVG, by the file's suffix; the file written and the number of vessels."""
+    from ..figures.plotting import canvas_bytes, voyage_track_picture
+
+    vessels = list(days.tracks) or [None]
+    data = canvas_bytes(voyage_track_picture(days, vessels[0]), Path(path).suffix.lstrip(".").lower(),
+                        png_width_px=1320)
+    return atomic_write(path, lambda p: Path(p).write_bytes(data), inputs=inputs), len(vessels)

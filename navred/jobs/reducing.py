@@ -1,0 +1,115 @@
+"""The reduction of a log as a command runs it: every sight to Ho, Hc, Zn and the intercept, read through the
+one reader (:func:`navred.io.logbook.read_sight_log`), with a DR carried along the log's track carried from
+the last fix before the sight as every command that fixes carries it (:func:`navred.jobs.voyage.process_log`),
+so that the intercepts agree. A long plain log is reduced block by block, the blocks shared among the cores
+(:func:`reduce_log_csv`), so that a fleet's archive never sits in memory whole."""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+from dataclasses import dataclass
+
+import pandas as pd
+
+from ..errors import NavredError
+from ..io.logbook import LogBlocks, LogSource, SightLog, read_sight_log, sight_log_blocks
+from ..io.output import csv_text
+from ..io.timesignals import Ratings
+from ..status import SightStatus
+from .forking import cores, forked_map
+from .sights import reduce_sights
+from .voyage import process_log
+
+#: rows of a long log reduced together by :func:`reduce_log_csv` (each core holds one block's working)
+REDUCE_BLOCK_ROWS = 25_000
+
+
+def count_reduced(reduced: pd.DataFrame) -> int:
+    """How many sights of a reduced table were reduced (with or without a warning)."""
+    return int((reduced["status"] != SightStatus.ERROR).sum()) if len(reduced) else 0
+
+
+def require_reduced(rows: int, reduced: int, where: str = "navred reduce names each row and why") -> None:
+    """Refuse a run that reduced no sight, in one line: a log with no sight rows, or none readable
+    (``where``: where the navigator finds each row's reason)."""
+    if rows == 0:
+        raise NavredError("nothing could be reduced: the log holds no sights, only a header (and perhaps empty rows)")
+    if reduced == 0:
+        raise NavredError(f"nothing could be reduced: {'the one row was' if rows == 1 else f'every one of the {rows} rows was'} "
+                          f"rejected; {where}")
+
+
+def reduced_sights(log: SightLog) -> pd.DataFrame:
+    """A log's sights reduced; a DR the reader carried along the log's track is carried from the last fix
+    before the sight, as :func:`navred.jobs.voyage.process_log` carries it."""
+    if len(log.table) and (log.table["dr_carried_from"] != "").any():
+        return process_log(log, plan=False).reduced
+    return reduce_sights(log)
+
+
+@dataclass(frozen=True)
+class ReducedLog:
+    """A log read and reduced: the log as read (its notes, empty rows, rejections) and one reduced row per sight."""
+
+    log: SightLog
+    reduced: pd.DataFrame
+    ratings: Ratings | None = None
+
+    @property
+    def notes(self) -> tuple[str, ...]:
+        """What the readers noted about the files as a whole (the rating log's, then the log's)."""
+        ratings = tuple(self.ratings.notes) if self.ratings is not None else ()
+        return tuple(dict.fromkeys([*ratings, *self.log.notes]))
+
+    @property
+    def n_reduced(self) -> int:
+        return count_reduced(self.reduced)
+
+
+def reduce_log(source: LogSource, *, dates: str | None = None, rates: Ratings | None = None) -> ReducedLog:
+    """Read a log (or several) and reduce every sight (see the module)."""
+    log = read_sight_log(source, dates=dates, rates=rates)
+    return ReducedLog(log, reduced_sights(log), rates)
+
+
+def _block_csv(plan: LogBlocks, k: int) -> tuple[str, int, int]:
+    """Block ``k`` of a long log read, reduced and written as CSV (the header with the first), with the number
+    of its rows and of its sights reduced."""
+    reduced = reduced_sights(plan.read(k))
+    return csv_text(reduced, header=k == 0), len(reduced), count_reduced(reduced)
+
+
+@dataclass(frozen=True)
+class ReducedCsv:
+    """A log to be reduced and written as CSV: :meth:`blocks` gives its text block by block, in order, with each
+    block's number of rows and of sights reduced; a log that must be read whole is one block."""
+
+    ratings: Ratings | None
+    #: the long log's blocks, or None when the log was read whole (``whole``)
+    plan: LogBlocks | None
+    whole: ReducedLog | None
+
+    @property
+    def notes(self) -> tuple[str, ...]:
+        if self.whole is not None:
+            return self.whole.notes
+        ratings = tuple(self.ratings.notes) if self.ratings is not None else ()
+        return tuple(dict.fromkeys([*ratings, *self.plan.notes]))
+
+    def blocks(self) -> Iterator[tuple[str, int, int]]:
+        if self.whole is not None:
+            yield csv_text(self.whole.reduced), len(self.whole.reduced), self.whole.n_reduced
+            return
+        yield from forked_map(_block_csv, range(len(self.plan)), context=self.plan, workers=cores())
+
+
+def reduce_log_csv(source: LogSource, *, dates: str | None = None, rates: Ratings | None = None) -> ReducedCsv:
+    """A log's reduction as CSV text (every column of every sight, reduced or not), a long plain CSV log block
+    by block (:data:`REDUCE_BLOCK_ROWS` rows each, shared among the cores): the same text as one process
+    reading the log whole (tested)."""
+    plan = sight_log_blocks(source, dates=dates, rates=rates, block_rows=REDUCE_BLOCK_ROWS)
+    return ReducedCsv(rates, plan, reduce_log(source, dates=dates, rates=rates) if plan is None else None)
+
+
+__all__ = ["REDUCE_BLOCK_ROWS", "ReducedLog", "ReducedCsv", "reduce_log", "reduce_log_csv", "reduced_sights",
+           "require_reduced", "count_reduced"]

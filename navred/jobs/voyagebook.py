@@ -1,0 +1,269 @@
+"""The voyage's workbook (openpyxl): a workbook a master or instructor opens and reads unaided.
+
+Sheets: About (provenance, the safety caution, what each sheet holds), Sights as read, Working (every
+correction step of every sight), Fixes (with the plotting sheets), Rejected, and where the run has them
+the next Sight plan, Training, Series, Day's work and Timepieces. Headers carry their units and stay
+frozen; angles are in navigational form with the decimal value beside them where a formula may need it.
+The file is written to a temporary file and renamed over the target, so an interrupted run never leaves
+half a workbook. The workbook's style and the mechanics are :mod:`navred.io.workbook`'s.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pandas as pd
+
+from ..angles import format_angle
+from ..figures.series import series_figure
+from ..fixstats import ELLIPSE_COVERS
+from ..io.labels import labelled
+from ..io.output import atomic_write
+from ..io.workbook import (
+    Pictures,
+    add_figure,
+    cell_value,
+    fit_pages,
+    front_sheet,
+    new_tables,
+    pictures_below,
+    write_table_sheet,
+    write_text_safe,
+)
+from ..io.xlsxtables import TableWriter
+from .plotfiles import plotting_figure
+from .voyagetables import fixes_table, plan_table, rejected_table, series_table, working_table
+
+#: What each sheet holds, on the About sheet.
+SHEETS = (
+    ("Sights as read", "every row of the log, exactly as it was read"),
+    ("Working", "one row per reduced sight: every correction from Hs to Ho, GHA, Dec, LHA, Hc, Zn, "
+                "the intercept, the residual at the fix and any flag (angles as ° ′ with decimal degrees beside)"),
+    ("Fixes", "one row per fix group: position, 95 % ellipse (its full size, then its semi-axes), sight error, "
+              "what the blunder check can find, sights left out as gross errors (with the fix from every "
+              "sight beside it), flagged sights, chart check; the plotting sheets below the table. The 95 % "
+              f"ellipse {ELLIPSE_COVERS}"),
+    ("Rejected", "every row that could not be reduced, with the column, the value and why"),
+    ("Row numbers", "a row is named everywhere by the row number a spreadsheet shows for it in the log "
+                    "(the header is row 1), with its file when several logs were read"),
+    ("Training", "present when the log was marked against the ship's reference track: each observer's "
+                 "personal error with its 95 % interval, scatter, blunders and trend, by kind of body, every "
+                 "fix and sight against the reference, and a picture per observer"),
+    ("Series", "each series of sights of one body by one observer: the offset from the predicted altitude "
+               "curve, the scatter, the flagged sights and the best sight to carry into the fix, with a plot"),
+    ("Sight plan", "the next twilight after the last fix: bodies to shoot with Hc to preset and Zn, the "
+                   "recommended set and why, and a picture of the sky"),
+    ("Timepieces", "present when a rating log of time signals was given: each timepiece's error and daily "
+                   "rate by least squares with the rate's 95 % interval, a flag when the rate has changed, every "
+                   "comparison with its residual"),
+    ("Day's work", "present when the DR can be kept (a departure entry, or fixes and the sights' courses and "
+                   "speeds): the noon positions and the day's run, the set and drift at each fix against the DR "
+                   "carried through the water from the fix before (with its 95 % uncertainty), the estimated "
+                   "positions from single lines, and a picture of the voyage"),
+)
+
+
+def default_workbook_path(first_log: str | Path) -> Path:
+    """Where the workbook goes when no file is named: beside the first log, as NAME.navred.xlsx (a folder's
+    logs: logs.navred.xlsx in the folder)."""
+    first = Path(first_log)
+    return first / "logs.navred.xlsx" if first.is_dir() else first.with_suffix(".navred.xlsx")
+
+
+def write_workbook(voyage, path: str | Path, *, plots: bool | Pictures = True, training=None) -> Path:
+    """Write the spreadsheet log of a :class:`navred.jobs.voyage.VoyageResult` to ``path`` (.xlsx).
+
+    ``plots`` True embeds the pictures (up to :data:`navred.io.workbook.MAX_EMBEDDED_PICTURES` of each kind,
+    the rest counted on their sheet), False leaves them out, or a :class:`Pictures` says exactly.
+    ``training``: a :class:`navred.jobs.training.TrainingReport` for the Training sheet."""
+    pictures = plots if isinstance(plots, Pictures) else Pictures(embed=bool(plots))
+    from openpyxl import Workbook
+
+    book = Workbook()
+    tables = new_tables(book)
+    _write_about_sheet(book, voyage)
+    write_table_sheet(tables, book.create_sheet("Sights as read"), voyage.raw)
+    write_table_sheet(tables, book.create_sheet("Working"), working_table(voyage), flag_column="flags")
+    fixes_sheet = book.create_sheet("Fixes")
+    fixes = fixes_table(voyage)
+    write_table_sheet(tables, fixes_sheet, fixes, wide={"note": 80, "σ from": 30})
+    write_table_sheet(tables, book.create_sheet("Rejected"), rejected_table(voyage), wide={"reason": 90})
+    if voyage.next_plan is not None:
+        _write_plan_sheet(tables, book.create_sheet("Sight plan"), voyage.next_plan, pictures.embed)
+    if training is not None:
+        _write_training_sheet(tables, book.create_sheet("Training"), training, pictures)
+    series = series_table(voyage)
+    if len(series):
+        _write_series_sheet(tables, book.create_sheet("Series"), voyage, series, pictures)
+    days = voyage.days_work()
+    if not days.empty:
+        _write_days_sheet(tables, book.create_sheet("Day's work"), days, pictures)
+    if voyage.ratings is not None:
+        _write_timepieces_sheet(tables, book.create_sheet("Timepieces"), voyage)
+    _plotting_sheets_below(fixes_sheet, voyage, len(fixes) + 4, pictures)
+    fit_pages(book, tables)
+    inputs = voyage.inputs + ((training.track_source,) if training is not None and training.track_source else ())
+    return atomic_write(path, tables.save, inputs=inputs)
+
+
+def _write_about_sheet(book, voyage) -> None:
+    """The first sheet: the caution, the summary, the provenance, the notes on the files, what each sheet holds."""
+    from openpyxl.styles import Alignment, Font
+
+    about = front_sheet(book, "About", "navred sight-reduction log")
+    about["A5"] = "Summary"
+    about["A5"].font = Font(bold=True)
+    write_text_safe(about["B5"], voyage.summary())
+    line = 7
+    about.cell(row=line, column=1, value="Provenance").font = Font(bold=True)
+    for key, value in voyage.provenance.items():
+        line += 1
+        write_text_safe(about.cell(row=line, column=1), key)
+        write_text_safe(about.cell(row=line, column=2), cell_value(value))  # file names come from the user
+    if voyage.notes:
+        line += 2
+        about.cell(row=line, column=1, value="Notes on the files").font = Font(bold=True)
+        for note in voyage.notes:
+            line += 1
+            write_text_safe(about.cell(row=line, column=2), note)  # names of columns and files come from the user
+    line += 2
+    about.cell(row=line, column=1, value="Sheets").font = Font(bold=True)
+    for name, meaning in SHEETS:
+        line += 1
+        about.cell(row=line, column=1, value=name)
+        about.cell(row=line, column=2, value=meaning)
+    about.column_dimensions["A"].width = 22
+    about.column_dimensions["B"].width = 110
+    for cell in about["A"][4:]:
+        cell.alignment = Alignment(vertical="top")
+    for cell in about["B"]:
+        cell.alignment = Alignment(wrap_text=True, vertical="top")
+        if cell.value and len(str(cell.value)) > 100:
+            # spreadsheet programs do not grow a row for wrapped text they did not lay out themselves
+            about.row_dimensions[cell.row].height = 15 * (len(str(cell.value)) // 100 + 1)
+
+
+def _plotting_sheets_below(fixes_sheet, voyage, anchor_row: int, pictures: Pictures) -> None:
+    """The plotting sheets of the fixes below the Fixes table, as many as ``pictures`` allows."""
+    fixed = [group for group in voyage.groups if group.fix is not None]
+    shown = fixed[:pictures.limit] if pictures.embed else []
+    note = pictures.note("plotting sheets", len(shown), len(fixed))
+    if note:
+        write_text_safe(fixes_sheet.cell(row=anchor_row - 1, column=1), note)
+        anchor_row += 1
+    for group in shown:
+        add_figure(fixes_sheet, plotting_figure(voyage, group), f"A{anchor_row}", 560, 560)
+        anchor_row += 30
+
+
+def _write_timepieces_sheet(tables: TableWriter, sheet, voyage) -> None:
+    """Each timepiece: its error and rate, the rate-change test, its comparisons with their residuals, and how
+    many sights took their error from it."""
+    from openpyxl.styles import Font
+
+    ratings = voyage.ratings
+    used = voyage.reduced["watch_error_from"].astype(str) if len(voyage.reduced) else pd.Series(dtype=str)
+    line = 1
+    for name, piece in ratings.timepieces.items():
+        sheet.cell(row=line, column=1, value=f"Timepiece: {name or '(the one rated)'}").font = Font(bold=True)
+        write_text_safe(sheet.cell(row=line + 1, column=1), piece.summary())
+        count = int(used.str.startswith(f"{name or 'the timepiece'} rated").sum())
+        sheet.cell(row=line + 2, column=1, value=f"{count} sight(s) of this log took their watch error from this rating")
+        line += 4
+        frame = piece.comparisons.assign(signal_utc=piece.comparisons.signal_utc.dt.strftime("%Y-%m-%d %H:%M:%S"))
+        write_table_sheet(tables, sheet, labelled(frame), first_row=line)
+        line += len(frame) + 3
+    if len(ratings.rejected):
+        sheet.cell(row=line, column=1, value="Comparisons not read").font = Font(bold=True)
+        write_table_sheet(tables, sheet, ratings.rejected, first_row=line + 1, wide={"reason": 90})
+
+
+def _write_days_sheet(tables: TableWriter, sheet, days, pictures: Pictures) -> None:
+    """The day's work: noons and the day's run, set and drift, estimated positions, a voyage picture per vessel."""
+    from openpyxl.styles import Font
+
+    from ..figures.plotting import voyage_track_picture
+
+    blocks = [("Noon positions (12:00 ship's time) and the day's run, noon to noon along the rhumb line",
+               days.noons),
+              ("Set and drift at each fix: the fix against the DR carried through the water from the known position "
+               "before (the 95 % uncertainty includes the DR's own error, 0.3 kn and 2 % of the run)", days.set_drift),
+              ("Estimated positions from a single line", days.estimated)]
+    line = 1
+    for title, frame in blocks:
+        sheet.cell(row=line, column=1, value=title).font = Font(bold=True)
+        line += 1
+        if len(frame):
+            write_table_sheet(tables, sheet, labelled(frame), first_row=line,
+                              wide={"noon from": 40, "from": 30, "note": 60})
+            line += len(frame)
+        else:
+            sheet.cell(row=line + 1, column=1, value="none")
+        line += 3
+    if days.carry_current:
+        sheet.cell(row=line, column=1, value="The set and drift found at each fix were carried on in the DR.")
+        line += 2
+    pictures_below(sheet, line, pictures, "voyage pictures", list(days.tracks),
+                    lambda vessel: voyage_track_picture(days, vessel), (900, 600), 32)
+
+
+def _write_training_sheet(tables: TableWriter, sheet, report, pictures: Pictures) -> None:
+    from openpyxl.styles import Font
+
+    from ..figures.training import observer_figure
+
+    blocks = [("Observers (personal error = mean error of the sights within 5′; 95 % interval from Student's t)",
+               report.observers),
+              ("By kind of body", report.by_body), ("Fixes against the reference track", report.fixes),
+              ("Every sight: error = Ho − Hc at the reference position",
+               report.sights.assign(sight_utc=report.sights.sight_utc.dt.strftime("%Y-%m-%d %H:%M:%S")))]
+    problems = getattr(report, "track_problems", None)
+    if problems is not None and len(problems):
+        where = "point" if str(getattr(report, "track_source", "")).lower().endswith(".gpx") else "line"
+        refused = problems.rename(columns={"point": f"{where} of the track"})
+        blocks.insert(3, (f"Points of the reference track refused ({len(problems)}; not used), by their {where} in "
+                          f"{Path(report.track_source).name}", refused))
+    line = 1
+    for title, frame in blocks:
+        sheet.cell(row=line, column=1, value=title).font = Font(bold=True)
+        line += 1
+        if len(frame):
+            write_table_sheet(tables, sheet, labelled(frame), first_row=line)
+            line += len(frame)
+        line += 3
+    for k in range(1, 16):
+        sheet.column_dimensions[sheet.cell(row=1, column=k).column_letter].width = 16
+    pictures_below(sheet, line, pictures, "observer pictures", list(report.observers.observer),
+                    lambda name: observer_figure(report, name), (640, 272), 15)
+
+
+def _write_series_sheet(tables: TableWriter, sheet, voyage, table: pd.DataFrame, pictures: Pictures) -> None:
+    write_table_sheet(tables, sheet, table)
+    row = len(table) + 3
+    names = list(table.series)
+    shown = names[:pictures.limit] if pictures.embed else []
+    note = pictures.note("series pictures", len(shown), len(names))
+    if note:
+        write_text_safe(sheet.cell(row=row, column=1), note)
+        row += 2
+    for k, name in enumerate(shown):
+        add_figure(sheet, series_figure(voyage.reduced, name), f"{'A' if k % 2 == 0 else 'G'}{row + (k // 2) * 14}", 400, 256)
+
+
+def _write_plan_sheet(tables: TableWriter, sheet, plan, plots: bool) -> None:
+    from openpyxl.styles import Font
+
+    table = plan_table(plan)
+    write_table_sheet(tables, sheet, table)
+    line = len(table) + 3
+    sheet.cell(row=line, column=1, value="When and where").font = Font(bold=True)
+    sheet.cell(row=line, column=2, value=f"{str(plan.utc)[:19].replace('T', ' ')} UTC, DR "
+               f"{format_angle(plan.lat_deg, 'lat')} {format_angle(plan.lon_deg, 'lon')} (midway between civil "
+               "and nautical twilight)")
+    sheet.cell(row=line + 1, column=1, value="How the set was chosen").font = Font(bold=True)
+    sheet.cell(row=line + 1, column=2, value=plan.explanation)
+    if plots:
+        from ..figures.plotting import sky_picture
+
+        add_figure(sheet, sky_picture(plan, title="Sight plan: the next twilight"), f"A{line + 4}", 520, 555)
+

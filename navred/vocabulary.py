@@ -117,10 +117,11 @@ COLUMNS: tuple[Column, ...] = (
            "DR longitude at the sight: 013 03.7 W, or a signed decimal (east positive, ISO 6709); blank: carried "
            "as the latitude"),
     Column("course", ("course", "course_steered", "course_true"), "number",
-           "course (degrees true) in force from this sight until the next", units=("deg",), default_unit="deg",
-           low=0.0, high=360.0),
-    Column("speed", ("speed", "speed_through_water", "speed_made_good"), "number",
-           "speed (knots) in force from this sight until the next", units=("kn",), default_unit="kn",
+           "course (degrees true) steered through the water, in force from this sight until the next",
+           units=("deg",), default_unit="deg", low=0.0, high=360.0),
+    Column("speed", ("speed", "speed_through_water", "log_speed"), "number",
+           "speed through the water (knots) in force from this sight until the next (a speed made good over "
+           "the ground is not one: see MADE_GOOD_HEADERS)", units=("kn",), default_unit="kn",
            low=0.0, high=60.0),
     Column("entry", ("entry", "event", "log_entry"), "entry",
            "a row that is not a sight but an entry of the ship's progress: departure or position (a known "
@@ -309,6 +310,16 @@ LOOKALIKE_HEADERS: tuple[tuple[str, str, str], ...] = (
      "watch_error ('12 fast', '3 s slow', or seconds with a sign)"),
     (r"dut\w*|ut1\w*", "DUT1", "dut1 (UT1 − UTC in seconds, from a radio time signal)"),
 )
+#: Headers of a motion made good over the ground (a satellite receiver's COG and SOG, a day's run): the DR's
+#: course and speed are through the water, and the current is entered apart, so a made-good quantity read as
+#: one would count the current twice. No spelling maps one onto the other: each is refused with what to give.
+MADE_GOOD_HEADERS = re.compile(r"\w*made_?good\w*|[cs]_?m_?g|[cs]_?o_?g|\w*over_?(?:the_?)?ground\w*|"
+                               r"ground_?(?:speed|course|track)\w*|gnss_?(?:speed|course)\w*|"
+                               r"gps_?(?:speed|course)\w*")
+MADE_GOOD_REFUSAL = ("column {header!r} looks like a course or speed made good over the ground; navred's course and "
+                     "speed are through the water (the current goes on an entry row: entry current, set, drift), so "
+                     "it does not read one as the other: give course (steered, true) and speed (through the water), "
+                     "or rename the column")
 #: What a refusal of a column adds once: how to keep a column of one's own that looks like one navred reads.
 OWN_COLUMN_HINT = ("a column of your own that navred should not read keeps its text when its name begins with "
                    "'note' or 'remark'")
@@ -343,6 +354,8 @@ def unknown_header_refusal(header: object, accepted: dict[str, str] | None = Non
         return ""
     stem = _UNIT_TAIL.sub("", name)
     own = ""
+    if accepted is None and (MADE_GOOD_HEADERS.fullmatch(stem) or MADE_GOOD_HEADERS.fullmatch(name)):
+        return MADE_GOOD_REFUSAL.format(header=str(header))
     if accepted is None:
         for pattern, what, expected in LOOKALIKE_HEADERS:
             if re.fullmatch(pattern, stem) or re.fullmatch(pattern, name):
@@ -369,5 +382,6 @@ def convert_to_working_unit(value: float, unit: str | None) -> float:
 
 __all__ = ["COLUMNS", "COLUMN", "Column", "HeaderMatch", "match_header", "normalise_header", "LIMBS", "ENTRIES",
            "NO_HORIZON",
-           "LOOKALIKE_HEADERS", "OWN_COLUMN_PREFIXES", "OWN_COLUMN_HINT", "unknown_header_refusal",
+           "LOOKALIKE_HEADERS", "MADE_GOOD_HEADERS", "MADE_GOOD_REFUSAL", "OWN_COLUMN_PREFIXES", "OWN_COLUMN_HINT",
+           "unknown_header_refusal",
            "HORIZONS", "ZONE_LETTERS", "UNIT_CONVERSIONS", "convert_to_working_unit"]

@@ -133,6 +133,35 @@ COLUMNS: tuple[Column, ...] = (
     Column("drift", ("drift", "current_drift", "rate_of_current"), "number",
            "the drift of a current (knots), on a current entry (0 ends it)", units=("kn",), default_unit="kn",
            low=0.0, high=15.0),
+    Column("compass_course", ("compass_course", "course_compass", "course_by_compass", "compass_heading",
+                              "heading_compass"), "number",
+           "on a course entry: the course steered by the magnetic compass (degrees compass), made true through its "
+           "deviation (the row's, or the deviation card's with --card) and the variation", units=("deg",),
+           default_unit="deg", low=0.0, high=360.0),
+    Column("deviation", ("deviation", "compass_deviation", "dev"), "east_west",
+           "on a course entry: the compass's deviation on that heading, east or west ('3 E', '2.5 W', or signed "
+           "east +); blank: from the deviation card (--card)", units=("deg",), default_unit="deg", low=-30.0,
+           high=30.0),
+    Column("variation", ("variation", "magnetic_variation", "var", "declination_magnetic"), "east_west",
+           "on a course entry: the magnetic variation, east or west ('12 W', '4.5 E', or signed east +)",
+           units=("deg",), default_unit="deg", low=-180.0, high=180.0),
+    Column("leeway", ("leeway", "leeway_angle"), "leeway",
+           "on a course entry: the leeway, degrees, and the side the ship is set to ('5 port', '4 stbd'), or "
+           "degrees alone with the wind's side (wind_side)", units=("deg",), default_unit="deg", low=0.0,
+           high=45.0),
+    Column("wind_side", ("wind_side", "wind_on", "tack", "wind_on_side"), "side",
+           "the side the wind blows on (port or starboard): the leeway is to the other side"),
+    Column("log_reading", ("log_reading", "log_nm", "patent_log", "log_distance", "log_miles"), "number",
+           "on an entry row: the ship's log (distance run through the water, nautical miles, as the log reads); the "
+           "speed between two readings is their difference over the time", units=("nm",), default_unit="nm",
+           low=0.0, high=10_000_000.0),
+    Column("clocks", ("clocks", "clock_change", "clocks_to", "new_zone", "new_zone_description", "ship_zone"),
+           "clocks",
+           "on a clocks entry: the zone the ship's clocks keep from this instant ('+3', '-12 M'), or the change "
+           "('advance 1 h', 'retard 1 h')"),
+    Column("role", ("role", "sight_role", "keeps_dr"), "role",
+           "whose sight: ship (the ship's navigator: its fixes keep the DR and the noon) or exercise (a training "
+           "sight: reduced, fixed and compared with the ship's position, never restarting the DR)"),
     Column("fix_group", ("fix_group", "fix_id"), "text",
            "sights fixed together; blank: one observer's sights within two hours of each other"),
     Column("chart_lat", ("chart_lat", "chart_latitude", "gnss_lat", "gps_lat", "gnss_latitude", "gps_latitude"),
@@ -200,7 +229,18 @@ NO_HORIZON = ("none", "no", "no_horizon", "n_a", "na", "without", "nil")
 ENTRIES = {"departure": "departure", "depart": "departure", "departed": "departure", "start": "departure",
            "position": "position", "known_position": "position", "fix": "position", "landfall": "position",
            "course": "course", "alter_course": "course", "course_change": "course", "a_c": "course",
-           "speed": "course", "current": "current", "set_and_drift": "current"}
+           "speed": "course", "current": "current", "set_and_drift": "current",
+           "clocks": "clocks", "clock": "clocks", "clocks_changed": "clocks", "zone_change": "clocks",
+           "date_line": "clocks", "log": "log", "log_reading": "log", "destination": "destination",
+           "bound_for": "destination"}
+
+#: Whose sight a row is (the role column): the ship's navigator's, or a training exercise's.
+ROLES = {"ship": "ship", "ships": "ship", "navigator": "ship", "ships_navigator": "ship", "officer": "ship",
+         "exercise": "exercise", "training": "exercise", "practice": "exercise", "cadet": "exercise"}
+
+#: The side of the ship (the wind's, or the way the leeway sets her).
+SIDES = {"port": "port", "p": "port", "larboard": "port", "starboard": "starboard", "stbd": "starboard",
+         "stb": "starboard", "sb": "starboard"}
 
 #: Nautical time-zone letters and their zone descriptions (ZT + ZD = UTC): A-M (no J) are the
 #: zones east of Greenwich, −1 to −12; N-Y those west, +1 to +12; Z is zero (common practice).
@@ -381,6 +421,7 @@ def convert_to_working_unit(value: float, unit: str | None) -> float:
 
 
 __all__ = ["COLUMNS", "COLUMN", "Column", "HeaderMatch", "match_header", "normalise_header", "LIMBS", "ENTRIES",
+           "ROLES", "SIDES",
            "NO_HORIZON",
            "LOOKALIKE_HEADERS", "MADE_GOOD_HEADERS", "MADE_GOOD_REFUSAL", "OWN_COLUMN_PREFIXES", "OWN_COLUMN_HINT",
            "unknown_header_refusal",

@@ -182,7 +182,7 @@ def test_entry_rows_are_read_by_the_log_reader_and_refused_with_reasons(tmp_path
     log = read_sight_log(path)
     reasons = log.rejected.groupby("row").reason.agg(" | ".join)
     assert "before the log's first departure" in reasons[3]
-    assert "a course entry needs a course, a speed or both" in reasons[4]
+    assert "a course entry needs a course (true or compass), a speed or a log reading" in reasons[4]
     assert "set is given without drift" in reasons[5]
     assert "an entry row holds no sight" in reasons[6]
     assert "entry 'sideways' is not one navred knows" in reasons[7]

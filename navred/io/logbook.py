@@ -26,6 +26,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from ..compass import DeviationCurve
 from ..constants import NS_PER_HOUR
 from ..corrections import HIGHEST_READING_DEG
 from ..errors import api_boundary
@@ -59,6 +60,7 @@ from .logcells import (
 )
 from .logdr import (
     ENTRY_COLUMNS,
+    ENTRY_ONLY,
     carried_dr,
     carried_motion,
     check_entries,
@@ -87,7 +89,8 @@ SIGHT_COLUMNS = [
     "measured_dip_arcmin", "temperature_c",
     "temperature_as_given", "pressure_hpa", "pressure_as_given", "dr_lat_deg", "dr_lon_deg", "course_deg",
     "speed_kn", "dut1_given_s", "fix_group", "fix_group_given", "chart_lat_deg", "chart_lon_deg", "vessel",
-    "observer", "voyage", "series", "read_problem", "read_problem_column", "dr_carried_from", "motion_carried_from",
+    "observer", "voyage", "series", "role", "read_problem", "read_problem_column", "dr_carried_from",
+    "motion_carried_from",
 ]
 
 #: navred's own output (``reduce --csv``) read back: its parsed columns that carry a sight, and their keys.
@@ -97,7 +100,8 @@ _OUTPUT_COLUMNS = {"sight_utc": "utc", "body_name": "body", "limb": "limb", "hs_
                    "temperature_c": "temperature", "pressure_hpa": "pressure", "dr_lat_deg": "dr_lat",
                    "dr_lon_deg": "dr_lon", "course_deg": "course", "speed_kn": "speed", "dut1_given_s": "dut1",
                    "fix_group": "fix_group", "chart_lat_deg": "chart_lat", "chart_lon_deg": "chart_lon",
-                   "vessel": "vessel", "observer": "observer", "voyage": "voyage", "series": "series"}
+                   "vessel": "vessel", "observer": "observer", "voyage": "voyage", "series": "series",
+                   "role": "role"}
 _OUTPUT_UNITS = {"eye_height": "m", "temperature": "c", "pressure": "hpa"}
 
 
@@ -176,6 +180,9 @@ def _layout(table: RawTable, also_reads: frozenset[str] = frozenset()) -> _Layou
             elif header.strip().endswith(OUTPUT_SUFFIX) or (name not in SIGHT_COLUMNS and name not in RESULT_NAMES):
                 layout.extras.append(k)
             continue
+        if name in also_reads and match_header(header).key in ENTRY_ONLY:
+            layout.extras.append(k)  # the caller's own column (a compass working's variation), not a DR entry's
+            continue
         match = match_header(header)
         if match.problem:
             layout.problems.append(match.problem)
@@ -209,7 +216,7 @@ def _layout(table: RawTable, also_reads: frozenset[str] = frozenset()) -> _Layou
 @api_boundary
 def read_sight_log(source: LogSource, *, dates: str | None = None, all_sheets: bool = False,
                    rates: Ratings | None = None, also_reads: Iterable[str] = (),
-                   budget: ReadBudget | None = None) -> SightLog:
+                   budget: ReadBudget | None = None, deviation: DeviationCurve | None = None) -> SightLog:
     """Read and check sight logs: a file (CSV or .xlsx), a list of files, a folder, or a DataFrame.
 
     ``dates`` declares the order of numeric dates that are not ISO 8601 for the whole log
@@ -221,7 +228,9 @@ def read_sight_log(source: LogSource, *, dates: str | None = None, all_sheets: b
     ``also_reads``: headers the caller reads itself (a hand working's lines), kept as extra columns.
     A column navred does not read is named in :attr:`SightLog.notes`; one that looks like a correction or a
     misspelt column is refused, naming the column navred expects. ``budget`` bounds what the run reads
-    (:class:`navred.readers.ReadBudget`; by default the bounds of one run).
+    (:class:`navred.readers.ReadBudget`; by default the bounds of one run). ``deviation`` (a
+    :class:`navred.compass.DeviationCurve`, from the deviation card) gives the deviation of a compass course
+    entered without one.
     Returns a :class:`SightLog`; a source that is not a sight log at all raises
     :class:`LogbookError` with one message.
     """
@@ -237,7 +246,7 @@ def read_sight_log(source: LogSource, *, dates: str | None = None, all_sheets: b
             raise LogbookError(f"{table.source}: " + "; ".join(layout.problems) + hint)
         _check_is_log(table, layout.keys)
         layouts.append(layout)
-    return _parse(tables, layouts, dates, rates)
+    return _parse(tables, layouts, dates, rates, deviation)
 
 
 def read_sight_log_blocks(source: LogSource, *, dates: str | None = None, block_rows: int = 100_000,
@@ -325,7 +334,7 @@ RESULT_NAMES = frozenset(RESULT_COLUMNS)
 _SEPARATOR_NAMES = {",": "comma", ";": "semicolon", "\t": "tab"}
 
 
-def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
+def _parse(tables: list[RawTable], layouts, dates, rates=None, deviation=None) -> SightLog:
     n = sum(t.n_rows for t in tables)
     problems = Problems(n)
     sources = np.concatenate([np.full(t.n_rows, t.source, dtype=object) for t in tables]) if tables \
@@ -350,7 +359,7 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
         elif column.required:
             empty = cells.blank & ~is_entry
             problems.add(np.flatnonzero(empty), cells.headers[empty], "", f"{column.key.replace('_', ' ')} is empty")
-    check_entries(entry, is_entry, parsed, gathered, problems)
+    check_entries(entry, is_entry, parsed, gathered, problems, has_card=deviation is not None)
     horizon = words(parsed["horizon"], "sea")
     # the reading a horizon gives: to 90°, or to 180° for an artificial horizon or a back sight
     highest = np.array([HIGHEST_READING_DEG.get(h, 90.0) for h in horizon]) if n else np.zeros(0)
@@ -375,7 +384,7 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
         problems.add(np.flatnonzero(alone), gathered[b].headers[alone], "",
                      f"{a.replace('_', ' ')} is given without {b.replace('_', ' ')}: give both, or neither")
     times = time_working(parsed, gathered, problems, rates)
-    entries = read_entries(n, sources, rows, entry, is_entry, parsed, times, problems)
+    entries = read_entries(n, sources, rows, entry, is_entry, parsed, times, problems, deviation)
     dr = carried_dr(parsed, gathered, times, is_entry, entries, problems)
     motion_note = carried_motion(dr, parsed, gathered, times, is_entry, entries, rows, problems)
     while True:
@@ -493,7 +502,7 @@ def _sight_table(n, sources, rows, parsed, gathered, times, message, where) -> p
         "fix_group": words(parsed["fix_group"]), "fix_group_given": parsed["fix_group"].ok,
         "chart_lat_deg": numbers("chart_lat"), "chart_lon_deg": numbers("chart_lon"),
         "vessel": words(parsed["vessel"]), "observer": observer_names(words(parsed["observer"])),
-        "voyage": words(parsed["voyage"]), "series": words(parsed["series"]),
+        "voyage": words(parsed["voyage"]), "series": words(parsed["series"]), "role": words(parsed["role"]),
         "read_problem": message, "read_problem_column": where,
     })
 

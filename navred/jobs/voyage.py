@@ -22,6 +22,7 @@ import pandas as pd
 
 from .. import __version__
 from ..angles import format_angle
+from ..compass import DeviationCurve
 from ..constants import DEG_PER_HOUR, NS_PER_HOUR
 from ..ephemeris import EPHEMERIS_NAME
 from ..errors import NavredError, api_boundary
@@ -74,6 +75,10 @@ class VoyageResult:
     #: per reduced row, what the fix takes from the DR kept along the log (:func:`dr_context`): the current in
     #: force at each sight and the age of its DR
     context: dict | None = None
+    #: the observers whose sights are the ship's (the rest are exercises: navred.jobs.shipsfixes)
+    navigators: tuple[str, ...] = ()
+    #: the waypoints ahead (lat_deg, lon_deg, name: navred route's), for the noon report's distance to go
+    route: pd.DataFrame | None = None
     #: what the writers work out once a run and reuse (the day's work, labels of every sight)
     cache: dict = field(default_factory=dict, repr=False, compare=False)
 
@@ -133,7 +138,8 @@ class VoyageResult:
 def process_log(source: LogSource | SightLog, *, dates: str | None = None, solve_motion: bool = False,
                 progress: Callable[[int, int], None] | None = None, plan: bool = True,
                 at_utc: Instant | None = None, carry_current: bool = False,
-                rates: Ratings | None = None) -> VoyageResult:
+                rates: Ratings | None = None, navigators: tuple[str, ...] | list[str] = (),
+                route: pd.DataFrame | None = None, deviation: DeviationCurve | None = None) -> VoyageResult:
     """Read sight logs and do the whole job; every input row ends up reduced or rejected.
 
     ``source`` is anything :func:`navred.read_sight_log` takes (a file, a list of files, a
@@ -144,8 +150,20 @@ def process_log(source: LogSource | SightLog, *, dates: str | None = None, solve
     before it (each fix restarts the DR; ``carry_current`` carries the set and drift found at
     each fix on in the DR). ``rates`` (a :class:`navred.io.timesignals.Ratings`) predicts the watch
     error of sights kept in zone time without one; it is kept for the workbook's Timepieces sheet.
+    ``navigators``: the observers whose sights are the ship's, every other's an exercise that never restarts
+    her DR (:mod:`navred.jobs.shipsfixes`; a log's own ``role`` column says it row by row). ``route``: the
+    waypoints ahead (``lat_deg``, ``lon_deg``, ``name``; :func:`navred.io.routefile.read_route`) for the noon
+    report. ``deviation`` (a :class:`navred.compass.DeviationCurve`, from the deviation card) makes a compass
+    course entered without its deviation true.
     """
-    log = source if isinstance(source, SightLog) else read_sight_log(source, dates=dates, rates=rates)
+    log = source if isinstance(source, SightLog) else read_sight_log(source, dates=dates, rates=rates,
+                                                                     deviation=deviation)
+    if navigators:
+        from .shipsfixes import check_navigators
+
+        observers = set(log.table["observer"].tolist()) if len(log.table) else set()
+        navigators = check_navigators(observers, navigators)
+    navigators = tuple(navigators)
     reduced = _reduce_with_progress(log, progress)
     if len(reduced):
         for column, values in series_columns(reduced).items():
@@ -153,7 +171,7 @@ def process_log(source: LogSource | SightLog, *, dates: str | None = None, solve
     context = dr_context(log, reduced, [])
     groups = fix_groups(reduced, solve_motion=solve_motion, at_utc=at_utc, context=context)
     log, reduced, groups, context = _restart_dr_at_fixes(log, reduced, groups, progress, carry_current, context,
-                                                         solve_motion=solve_motion, at_utc=at_utc)
+                                                         navigators, solve_motion=solve_motion, at_utc=at_utc)
     rejected = _rejected(log, reduced)
     usable = reduced.status.to_numpy() != SightStatus.ERROR if len(reduced) else np.zeros(0, dtype=bool)
     table = iers_table()
@@ -185,11 +203,11 @@ def process_log(source: LogSource | SightLog, *, dates: str | None = None, solve
         provenance["timepieces"] = "; ".join(p.summary() for p in rates.timepieces.values())
     events, next_plan = _next_twilight_plan(groups, reduced) if plan else (None, None)
     return VoyageResult(", ".join(log.sources), log, reduced, rejected, tuple(groups), provenance, next_plan, events,
-                        carry_current, rates, context)
+                        carry_current, rates, context, navigators, route)
 
 
 def _restart_dr_at_fixes(log: SightLog, reduced: pd.DataFrame, groups: list[GroupFix], progress, carry_current,
-                         context, **fixing):
+                         context, navigators=(), **fixing):
     """The sights whose DR the reader carried from the departure get it again from the last known position
     before them, every fix included, and are reduced and fixed again (the fixes themselves do not depend on
     the DR they start from; their DR, intercepts and plots do; with ``carry_current``, the current found at
@@ -200,7 +218,7 @@ def _restart_dr_at_fixes(log: SightLog, reduced: pd.DataFrame, groups: list[Grou
         return log, reduced, groups, context
     from .dayswork import known_label_at, vessel_tracks
 
-    draft = VoyageResult("", log, reduced, log.rejected, groups)
+    draft = VoyageResult("", log, reduced, log.rejected, groups, navigators=navigators)
     tracks = vessel_tracks(draft, carry_current=carry_current)
     table = log.table.copy()
     carried = np.flatnonzero((table["dr_carried_from"] != "").to_numpy() & (table["read_problem"] == "").to_numpy())
@@ -246,12 +264,12 @@ def _restart_dr_at_fixes(log: SightLog, reduced: pd.DataFrame, groups: list[Grou
     if len(reduced):
         for column, values in series_columns(reduced).items():
             reduced[column] = values
-    context = dr_context(log, reduced, groups, carry_current=carry_current, tracks=tracks)
+    context = dr_context(log, reduced, groups, carry_current=carry_current, tracks=tracks, navigators=navigators)
     return log, reduced, fix_groups(reduced, context=context, **fixing), context
 
 
 def dr_context(log: SightLog, reduced: pd.DataFrame, groups: list[GroupFix], *, carry_current: bool = False,
-               tracks: dict | None = None) -> dict:
+               tracks: dict | None = None, navigators=()) -> dict:
     """What a fix takes from the DR kept along the log, per reduced row: the current in force at the sight
     (``set_deg``, ``drift_kn``: the log's current entries and, with ``carry_current``, the set and drift found
     at the last fix; the ground track less the track through the water) and the age of the sight's DR
@@ -269,7 +287,8 @@ def dr_context(log: SightLog, reduced: pd.DataFrame, groups: list[GroupFix], *, 
     from .dayswork import vessel_tracks
 
     if tracks is None:
-        tracks = vessel_tracks(VoyageResult("", log, reduced, log.rejected, groups), carry_current=carry_current)
+        tracks = vessel_tracks(VoyageResult("", log, reduced, log.rejected, groups, navigators=tuple(navigators)),
+                               carry_current=carry_current)
     when = utc64(reduced["sight_utc"]).astype(np.int64)
     vessels = reduced["vessel"].to_numpy(dtype=object)
     for vessel, track in tracks.items():

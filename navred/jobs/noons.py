@@ -29,6 +29,7 @@ import pandas as pd
 from ..constants import NS_PER_HOUR, NS_PER_MINUTE, NS_PER_SECOND
 from ..fixstats import DR_ERROR_FRACTION, DR_ERROR_KN
 from ..reckoning import (
+    estimated_position,
     NORMAL_975,
     PAST_POLE,
     DRTrack,
@@ -97,21 +98,19 @@ def vessel_lines(voyage, vessel: str, ships: ShipsSights) -> list[dict]:
         elif fix is None and usable.size == 1:
             k = int(usable[0])
             r = reduced.iloc[k]
+            # the sight's own line of position (the intercept worked from the DR): exact, where the reductions to
+            # the meridian approximate it; a sight that gives a latitude by its method is a latitude line
+            lat, lon = estimated_position(r["dr_lat_deg"], r["dr_lon_deg"], r["intercept_nm"], r["zn_deg"])
             check = by_row.get(k)
+            method = f"{body} line"
             if check is not None:
                 method = {"meridian": "meridian altitude", "ex-meridian": "ex-meridian", "Polaris": "Polaris"}[
                     check["method"]]
                 if check["method"] == "ex-meridian":
                     method += (f" ({check['minutes_from_meridian']:.0f} min from the meridian, within its "
                                f"{check['limit_minutes']:.0f} min)")
-                lines.append({**base, "utc_ns": int(when[k]), "foot_lat": float(check["lat_deg"]),
-                              "foot_lon": float(r["dr_lon_deg"]), "zn": 0.0, "latitude": True, "method": method})
-            else:
-                from ..reckoning import estimated_position
-
-                lat, lon = estimated_position(r["dr_lat_deg"], r["dr_lon_deg"], r["intercept_nm"], r["zn_deg"])
-                lines.append({**base, "utc_ns": int(when[k]), "foot_lat": float(lat), "foot_lon": float(lon),
-                              "zn": float(r["zn_deg"]), "latitude": False, "method": f"{body} line"})
+            lines.append({**base, "utc_ns": int(when[k]), "foot_lat": float(lat), "foot_lon": float(lon),
+                          "zn": float(r["zn_deg"]), "latitude": check is not None, "method": method})
     return lines
 
 
@@ -279,6 +278,8 @@ def distance_to_go(lat: float, lon: float, waypoints: list[tuple[float, float, s
         # the leg whose ends' distances add up nearest its length: the one the ship is on
         excess = to_each[:-1] + to_each[1:] - np.asarray(legs)
         nxt = int(np.argmin(excess)) + 1
+        if to_each[nxt] < 0.01 and nxt < len(waypoints) - 1:
+            nxt += 1  # at a waypoint: the next one is steered for (the same distance to go)
     name = waypoints[-1][2] if nxt == len(waypoints) - 1 else f"{waypoints[nxt][2]}, then on to {waypoints[-1][2]}"
     return float(to_each[nxt] + after[nxt]), name
 
@@ -295,17 +296,19 @@ def noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict], lines:
     last = int(max(sight_ns.max() if sight_ns.size else first, track.known_ns[-1],
                    entry_ns[entries["entry"].to_numpy() != "destination"].max() if len(entries) and
                    (entries["entry"] != "destination").any() else first))
+    # a noon within the hour after the log's last row is the day's work of that morning (its fix run up to noon)
+    log_end, last = last, last + int(NOON_WINDOW_HOURS * NS_PER_HOUR)
     clocks, how = vessel_clocks(entries, track, first, last)
     label = vessel or "the vessel"
     notes = [f"{label}: ship's time: {how}"]
     noon, day, zone = ship_noons(clocks, first, last)
     if not noon.size:
-        start, end = clocks.ship_time_ns([first, last])
-        if last - first < NS_PER_MINUTE:
+        start, end = clocks.ship_time_ns([first, log_end])
+        if log_end - first < NS_PER_MINUTE:
             span = (f"the DR starts at {stamp(first)} UTC ({stamp(start)[11:16]} by the ship's clocks) and the log ends "
                     "there")
         else:
-            span = (f"the DR runs from {stamp(first)} to {stamp(last)} UTC ({stamp(start)} to {stamp(end)} by the "
+            span = (f"the DR runs from {stamp(first)} to {stamp(log_end)} UTC ({stamp(start)} to {stamp(end)} by the "
                     "ship's clocks)")
         notes.append(f"{label}: Noon positions: none: {span}, and no noon by her clocks falls within it")
         return [], notes, (clocks, how)

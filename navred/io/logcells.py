@@ -272,7 +272,10 @@ def _leeway(value, decimal_comma) -> tuple[float, float]:
             raise NavredError(f"leeway {value:g} is signed: to port or to starboard? write '{abs(value):g} port' or "
                               f"'{abs(value):g} stbd', or give the wind's side (wind_side)")
         return float(value), float("nan")
-    text = with_decimal_point(cell_text(value), decimal_comma)
+    text = with_decimal_point(cell_text(value), decimal_comma).replace("−", "-").strip()
+    if text[:1] in "+-" and text[1:2].isdigit():
+        raise NavredError(f"leeway {value!r} is signed: to port or to starboard? write '{text[1:]} port' or "
+                          f"'{text[1:]} stbd', or give the wind's side (wind_side)")
     match = _LEEWAY.match(text)
     if not match:
         raise NavredError(f"cannot read {value!r} as a leeway; accepted: '5 port', '4 stbd', '3° to starboard', or "

@@ -202,13 +202,14 @@ def group_warning_lines(groups) -> list[str]:
             for text in (group.fix.warnings if group.fix is not None else [])]
 
 
-def _fix_head_lines(group) -> list[str]:
+def _fix_head_lines(group, vessel: str = "") -> list[str]:
     fix = group.fix
     when = str(fix.utc)[:19].replace("T", " ")
     left_out = fix.left_out if fix.left_out.size == len(group.rows) else np.zeros(len(group.rows), dtype=bool)
+    ship = f"{vessel}: " if vessel else ""
     if fix.is_fix:
         dropped = (f", {int(left_out.sum())} left out (see below)" if left_out.any() else "")
-        lines = [f'Fix "{group.name}": {int(fix.used.sum())} sights{dropped}, at {when} UTC',
+        lines = [f'{ship}Fix "{group.name}": {int(fix.used.sum())} sights{dropped}, at {when} UTC',
                  f"  position       {format_angle(fix.lat_deg, 'lat')}  {format_angle(fix.lon_deg, 'lon')}",
                  f"  95 % ellipse   {fix.ellipse_text()}, major "
                  f"axis {fix.ellipse_orientation_deg:03.0f}°/{float(wrap_360(fix.ellipse_orientation_deg + 180)):03.0f}° "
@@ -217,7 +218,7 @@ def _fix_head_lines(group) -> list[str]:
         if fix.ellipse_note:
             lines.append(f"                 {fix.ellipse_note}")
         return lines
-    lines = [f'No fix in "{group.name}": {int(fix.used.sum())} sights whose lines cross at {fix.spread_deg:.0f}° '
+    lines = [f'{ship}No fix in "{group.name}": {int(fix.used.sum())} sights whose lines cross at {fix.spread_deg:.0f}° '
              f"give a {fix.kind}, at {when} UTC"]
     if fix.kind == FixKind.LATITUDE:
         lines.append(f"  latitude       {format_angle(fix.lat_deg, 'lat')}, 95 % band {fix.ellipse_text()}"
@@ -273,10 +274,11 @@ def _check_lines(group) -> list[str]:
     return lines + [f"  warning: {text}" for text in fix.warnings]
 
 
-def fix_lines(group, reduced: pd.DataFrame, labels) -> list[str]:
-    """One fix group's fix: position, ellipse or band, sight error, residuals and flags, checks and warnings."""
+def fix_lines(group, reduced: pd.DataFrame, labels, vessel: str = "") -> list[str]:
+    """One fix group's fix: position, ellipse or band, sight error, residuals and flags, checks and warnings;
+    ``vessel`` names the ship where the log holds several."""
     fix = group.fix
-    lines = _fix_head_lines(group)
+    lines = _fix_head_lines(group, vessel)
     lines.append(f"  sight error    {fix.sigma_arcmin:.2f}′ ({fix.sigma_source})"
                  + (f"; fix standard error {fix.standard_error_nm:.2f} nm" if fix.is_fix else ""))
     if fix.course_made_good_deg is not None:
@@ -317,9 +319,11 @@ def fix_report_lines(report) -> list[str]:
     lines = []
     for item in report.groups:
         if item.fix is None:
-            lines += [f"Group {item.name}: no fix ({item.problem})", ""]
+            ship = f"{voyage.vessel_of(item.name)}: " if len(voyage.vessels) > 1 else ""
+            lines += [f"{ship}Group {item.name}: no fix ({item.problem})", ""]
             continue
-        lines += fix_lines(item, voyage.reduced, labels) + [""]
+        vessel = voyage.vessel_of(item.name) if len(voyage.vessels) > 1 else ""
+        lines += fix_lines(item, voyage.reduced, labels, vessel) + [""]
     if report.n_fixes:
         lines += [f"Each 95 % ellipse (or band) {ELLIPSE_COVERS}.", ""]
     lines += latitude_lines(report.latitude_checks())

@@ -22,7 +22,7 @@ from .latitudechecks import MERIDIAN_LHA_DEG, latitude_checks
 from .voyage import GroupFix, VoyageResult, fix_groups, process_log
 
 #: The columns of the fixes table (:func:`fixes_table`), one row per fix group, decimal degrees.
-FIX_COLUMNS = ("fix_group", "utc", "kind", "lat_deg", "lon_deg", "sights", "sigma_arcmin", "quantile",
+FIX_COLUMNS = ("vessel", "fix_group", "utc", "kind", "lat_deg", "lon_deg", "sights", "sigma_arcmin", "quantile",
                "ellipse_length_nm", "ellipse_width_nm", "ellipse_semi_major_nm", "ellipse_semi_minor_nm",
                "ellipse_orientation_deg", "flagged", "left_out", "all_sights_lat_deg", "all_sights_lon_deg",
                "dr_distance_nm", "chart_distance_nm", "chart_inside_ellipse", "note")
@@ -35,12 +35,13 @@ def fixes_table(voyage: VoyageResult, groups: tuple[GroupFix, ...] | None = None
     rows = []
     for group in voyage.groups if groups is None else groups:
         fix = group.fix
+        vessel = voyage.vessel_of(group.name)
         if fix is None:
-            rows.append({"fix_group": group.name, "note": f"no fix: {group.problem}"})
+            rows.append({"vessel": vessel, "fix_group": group.name, "note": f"no fix: {group.problem}"})
             continue
         left = fix.left_out if fix.left_out.size == len(group.rows) else np.zeros(len(group.rows), dtype=bool)
         every = fix.all_sights
-        rows.append({"fix_group": group.name, "utc": str(fix.utc)[:23] + "Z", "kind": fix.kind,
+        rows.append({"vessel": vessel, "fix_group": group.name, "utc": str(fix.utc)[:23] + "Z", "kind": fix.kind,
                      "lat_deg": fix.lat_deg, "lon_deg": fix.lon_deg, "sights": int(fix.used.sum()),
                      "sigma_arcmin": fix.sigma_arcmin, "quantile": fix.quantile,
                      "ellipse_length_nm": 2 * fix.ellipse_semi_major_nm,

@@ -29,7 +29,9 @@ def plotting_figure(voyage, group):
     bodies, times = _sight_labels(voyage)
     if "row labels" not in voyage.cache:
         voyage.cache["row labels"] = row_labels(voyage.reduced)
-    return plotting_sheet(group.fix, bodies[group.rows], times[group.rows], title=f"Plotting sheet: {group.name}",
+    vessel = voyage.vessel_of(group.name) if len(voyage.vessels) > 1 else ""
+    title = f"Plotting sheet: {vessel + ', ' if vessel else ''}{group.name}"
+    return plotting_sheet(group.fix, bodies[group.rows], times[group.rows], title=title,
                           chart=group.chart, rows=voyage.cache["row labels"][group.rows])
 
 

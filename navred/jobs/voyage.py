@@ -127,6 +127,20 @@ class VoyageResult:
         return (f"{self.n_reduced} sights reduced, {self.n_fixes} fixes, "
                 f"{self.n_rejected_rows} rejected{empty}")
 
+    @property
+    def vessels(self) -> tuple[str, ...]:
+        """The vessels the log names, in the order first met."""
+        if not len(self.reduced):
+            return ()
+        return tuple(v for v in dict.fromkeys(self.reduced["vessel"].astype(str).tolist()) if v)
+
+    def vessel_of(self, group: str) -> str:
+        """The vessel of a fix group (its first sight's), '' where the log names none."""
+        if "group vessels" not in self.cache:
+            vessels = self.reduced["vessel"].astype(str).to_numpy() if len(self.reduced) else np.zeros(0, dtype=str)
+            self.cache["group vessels"] = {g.name: str(vessels[g.rows[0]]) if len(g.rows) else "" for g in self.groups}
+        return self.cache["group vessels"].get(group, "")
+
     def group(self, name: str) -> GroupFix:
         for group in self.groups:
             if group.name == name:

@@ -97,6 +97,8 @@ def working_table(voyage) -> pd.DataFrame:
         "UT1 source": r.ut1_source,
         "flags": notes,
     })
+    if len(voyage.vessels) > 1:  # a log of several ships: each sight names its own
+        table.insert(table.columns.get_loc("fix group"), "vessel", r["vessel"].astype(str).to_numpy())
     return _with_columns_used(table, r, voyage.log.extra_columns)
 
 
@@ -199,7 +201,10 @@ def fixes_table(voyage) -> pd.DataFrame:
             "speed made good (kn)": fix.speed_made_good_kn,
             "note": "; ".join(fix.warnings + ([group.chart_note] if group.chart_note else [])),
         })
-    return pd.DataFrame(rows)
+    frame = pd.DataFrame(rows)
+    if len(voyage.vessels) > 1 and len(frame):  # a log of several ships: each fix names its own
+        frame.insert(0, "vessel", [voyage.vessel_of(g.name) for g in voyage.groups])
+    return frame
 
 
 def rejected_table(voyage) -> pd.DataFrame:

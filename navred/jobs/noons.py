@@ -354,6 +354,10 @@ def _days_run_columns(run, through, water_n, water_e, k: int, found) -> dict:
     observed = found[k - 1][3] and found[k][3]
     if not np.isfinite(drift):
         return out
+    if found[k - 1][2].startswith("DR from") and found[k - 1][2] == found[k][2]:
+        out["current_note"] = (f"none observed: both noons are the {found[k][2]} (its current is what the log "
+                               "enters or carries)")
+        return out
     if drift > MAX_CURRENT_KN:
         out["current_note"] = (f"not determined: the noon positions are {drift * hours:.1f} nm from the run through the "
                                f"water, more than any current ({MAX_CURRENT_KN:g} kn): check them")

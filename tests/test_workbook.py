@@ -41,7 +41,8 @@ def test_every_input_row_is_in_the_workbook_and_values_read_back(mixed_log, tmp_
     voyage = process_log(path)
     out = write_workbook(voyage, tmp_path / "voyage.xlsx")
     book = openpyxl.load_workbook(out)
-    assert book.sheetnames == ["About", "Sights as read", "Working", "Fixes", "Rejected", "Sight plan", "Day's work"]
+    assert book.sheetnames == ["About", "Sights as read", "Working", "Fixes", "Rejected", "Sight plan", "Day's work",
+                               "Noon report"]
     working = pd.DataFrame(list(book["Working"].values)[1:], columns=list(book["Working"].values)[0])
     rejected = pd.DataFrame(list(book["Rejected"].values)[1:], columns=list(book["Rejected"].values)[0])
     as_read = list(book["Sights as read"].values)

@@ -14,28 +14,41 @@ import numpy as np
 
 from .angles import format_angle
 from .fixbatch import SightRows, fix_batch, subset_groups
-from .fixstats import BLUNDER_ALPHA, GROSS_ARCMIN, MAX_SIGHTS_SEARCHED
+from .fixstats import BLUNDER_ALPHA, BLUNDER_CLEAR_ALPHA, GROSS_ARCMIN, MAX_SIGHTS_SEARCHED
 from .stats import student_t_quantile
 from .triangle import distance_bearing
 
 
-def leave_out_gross(sights: SightRows, group, n_groups, ok, results) -> None:
+def leave_out_gross(sights: SightRows, group, n_groups, ok, results, skip: frozenset[int] = frozenset()) -> None:
     """Each group's gross errors beyond doubt left out of its fix, a round at a time (a second one can hide
-    behind the first); the fix from every sight kept beside it, and a loud warning naming each row."""
+    behind the first), and the sights the blunder test flags once the gross errors are out (while three or more
+    sights remain to fix from and check); the fix from every sight kept beside it, and a loud warning naming
+    each row. The groups ``skip`` are left as they are (a round that cannot be trusted as written)."""
     left_out = np.zeros(group.size, dtype=bool)
+    by_test = np.zeros(group.size, dtype=bool)
+    tested: set[int] = set()
     first = list(results)
     bounds = np.concatenate([[0], np.cumsum(np.bincount(group[group >= 0], minlength=n_groups))])
     by_group = np.argsort(np.where(group >= 0, group, n_groups), kind="stable")
     for _ in range(3):
         chosen, rows, wild = [], [], []
         for g, result in enumerate(results):
-            if result is None:
+            if result is None or g in skip:
                 continue
+            members = by_group[bounds[g]:bounds[g + 1]]
+            doubtful = result.clear_blunder & ~_or_empty(result.left_out, members.size)
             if result.gross.any():
                 chosen.append(g)
-                rows.append(by_group[bounds[g]:bounds[g + 1]][result.gross])
+                rows.append(members[result.gross])
+            elif (g not in tested and doubtful.any() and result.is_fix
+                  and int(result.used.sum()) - int(doubtful.sum()) >= 3):
+                tested.add(g)
+                chosen.append(g)
+                rows.append(members[doubtful])
+                by_test[members[doubtful]] = True
             elif result.scatter_impossible and result.redundant >= 2 and result.n_sights <= MAX_SIGHTS_SEARCHED:
                 wild.append(g)
+            tested.add(g)
         for g, found in _gross_by_leaving_out(sights, group, ok, left_out, wild, results).items():
             chosen.append(g)
             rows.append(np.array(found))
@@ -50,21 +63,40 @@ def leave_out_gross(sights: SightRows, group, n_groups, ok, results) -> None:
     for g, result in enumerate(results):
         if result is None or first[g] is result or not result.left_out.any():
             continue
-        every = first[g]
-        result.all_sights = every
-        names = sights.names[by_group[bounds[g]:bounds[g + 1]][result.left_out]]
-        result.left_out_names = [str(name) for name in names]
-        misses = np.abs(result.residual_arcmin[result.left_out])
-        miles = float(distance_bearing(result.lat_deg, result.lon_deg, every.lat_deg, every.lon_deg)[0])
-        lines = ", ".join(f"{name} ({miss:.0f}′ off)" for name, miss in zip(names, misses.tolist()))
-        result.warnings.insert(0, (
-            f"LEFT OUT of this {result.kind}: {lines}: {'their lines lie' if len(names) > 1 else 'its line lies'} "
-            f"far beyond any sextant error from the others (a misnamed body, a slip of degrees or minutes, a "
-            f"wrong time?); the {every.kind} from every sight is {miles:.1f} nm away, at "
-            f"{format_angle(every.lat_deg, 'lat')} {format_angle(every.lon_deg, 'lon')}"))
-        if miles > 1.0:
-            result.warnings.insert(1, f"this {result.kind} and the one from every sight differ by {miles:.1f} nm: "
-                                      "plot this one, and find out what is wrong with the sight left out")
+        members = by_group[bounds[g]:bounds[g + 1]]
+        result.all_sights = first[g]
+        result.blunder_left_out = by_test[members] & result.left_out
+        _say_left_out(result, sights.names[members])
+
+
+def _say_left_out(result, names_here: np.ndarray) -> None:
+    """The loud warning of the sights left out of a fix: each row, how far its line lies, and why."""
+    every = result.all_sights
+    out = result.left_out
+    names = names_here[out]
+    result.left_out_names = [str(name) for name in names]
+    misses = np.abs(result.residual_arcmin[out]).tolist()
+    tested = result.blunder_left_out[out].tolist()
+    miles = float(distance_bearing(result.lat_deg, result.lon_deg, every.lat_deg, every.lon_deg)[0])
+    gross = [f"{name} ({miss:.0f}′ off)" for name, miss, t in zip(names, misses, tested) if not t]
+    flagged = [f"{name} ({miss:.1f}′ off)" for name, miss, t in zip(names, misses, tested) if t]
+    reasons = []
+    if gross:
+        reasons.append(f"{', '.join(gross)}: {'their lines lie' if len(gross) > 1 else 'its line lies'} far beyond "
+                       "any sextant error from the others (a misnamed body, a slip of degrees or minutes, a wrong "
+                       "time?)")
+    if flagged:
+        reasons.append(f"{', '.join(flagged)}: the blunder test finds {'them' if len(flagged) > 1 else 'it'} a "
+                       f"clear blunder (beyond its {BLUNDER_CLEAR_ALPHA * 100:.0f} % level: a good round has a sight "
+                       "left out one time in a hundred at most)")
+    result.warnings.insert(0, (
+        f"LEFT OUT of this {result.kind}: {'; '.join(reasons)}; the {every.kind} from every sight is {miles:.1f} nm "
+        f"away, at {format_angle(every.lat_deg, 'lat')} {format_angle(every.lon_deg, 'lon')}"))
+    if miles > 1.0:
+        rows = ", ".join(str(name) for name in names)
+        result.warnings.insert(1, f"this {result.kind} and the one from every sight differ by {miles:.1f} nm: "
+                                  f"plot this one, and find out what is wrong with {rows} (its time, body, "
+                                  "altitude)")
 
 
 def _gross_by_leaving_out(sights: SightRows, group, ok, left_out, wild: list[int], results) -> dict[int, list[int]]:

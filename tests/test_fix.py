@@ -102,11 +102,13 @@ def test_planted_blunder_is_flagged_and_the_refit_is_good(ts, eph):
     reduced.loc[3, "ho_deg"] += 10.0 / 60.0  # the blunder: 10′
     fix = fix_position(reduced, at_utc=TWILIGHT)
     assert fix.outlier[3] and fix.outlier.sum() == 1
-    assert any("blunder" in w for w in fix.warnings)
-    assert fix.without_outliers is not None
-    assert miles_from_truth(fix.without_outliers) < 0.5
-    # the sight is kept in the log, flagged, and shown against the check fix (about its 10′ off)
-    assert not fix.without_outliers.used[3] and fix.without_outliers.residual_arcmin[3] == pytest.approx(10.0, abs=1.5)
+    # the flagged sight leaves the headline (named, loudly), the fix from every sight kept beside it
+    assert fix.left_out[3] and fix.blunder_left_out[3] and fix.left_out.sum() == 1
+    assert fix.warnings[0].startswith("LEFT OUT of this fix: row 4") and "blunder test" in fix.warnings[0]
+    assert miles_from_truth(fix) < 0.5
+    assert fix.all_sights is not None and miles_from_truth(fix.all_sights) > miles_from_truth(fix)
+    # the sight is kept in the log, flagged, and shown against the headline (about its 10′ off)
+    assert not fix.used[3] and fix.residual_arcmin[3] == pytest.approx(10.0, abs=1.5)
 
 
 def test_a_sight_is_never_dropped_silently():

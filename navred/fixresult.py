@@ -87,6 +87,9 @@ class FixResult:
     #: altitudes read another way agree (degrees and minutes written as a decimal), or whose sights still
     #: scatter beyond any hand-held sextant
     untrusted: str = ""
+    #: the fix of every sight with its Hs read as degrees and minutes written as a decimal, when that reading
+    #: makes the sights agree (the reason this one is untrusted)
+    other_reading: FixResult | None = field(default=None, repr=False)
     #: the names of the sights left out ('row 9', as the labels given)
     left_out_names: list[str] = field(default_factory=list)
     #: sights beyond the unknowns (n − k): how many check the others

@@ -14,7 +14,14 @@ import numpy as np
 
 from .angles import format_angle
 from .fixbatch import SightRows, fix_batch, subset_groups
-from .fixstats import BLUNDER_ALPHA, BLUNDER_CLEAR_ALPHA, GROSS_ARCMIN, MAX_SIGHTS_SEARCHED
+from .fixstats import (
+    A_PRIORI_SIGMA_ARCMIN,
+    BLUNDER_ALPHA,
+    BLUNDER_CLEAR_ALPHA,
+    GROSS_ARCMIN,
+    MAX_SIGHTS_SEARCHED,
+)
+from .sensechecks import SEXTANT_SIGMA_LIMIT_ARCMIN
 from .stats import student_t_quantile
 from .triangle import distance_bearing
 
@@ -147,6 +154,80 @@ def _gross_by_leaving_out(sights: SightRows, group, ok, left_out, wild: list[int
     return found
 
 
+#: A round read again with its Hs as degrees and minutes written as a decimal (29.216 as 29° 21.6′) is taken to
+#: have been written so when its residuals' sum of squares falls by at least this factor, to a scatter a sextant
+#: gives: read as written, the sights then disagree ten times as much (in variance) as read that way.
+DECIMAL_EVIDENCE = 10.0
+
+
+def misread_rounds(sights: SightRows, hs_deg: np.ndarray, group, n_groups, ok, results) -> set[int]:
+    """The groups whose Hs look like degrees and minutes written as a decimal (29.216 for 29° 21.6′): every
+    usable Hs reads that way too (a fraction under .60), the sights as written scatter more than a good sight
+    (A_PRIORI_SIGMA_ARCMIN), and read that way they agree to a sextant's scatter, DECIMAL_EVIDENCE times better
+    (the sums of squares of the residuals). Each such fix is marked as not to be trusted (``untrusted``), with
+    the position the other reading gives; its gross errors are not looked for (they would be the misreading's).
+    Run on the fixes of every sight, before any sight is left out."""
+    degrees = np.trunc(hs_deg)
+    minutes = np.round((hs_deg - degrees) * 100.0, 6)
+    shift = np.where(np.abs(minutes) < 60.0, degrees + minutes / 60.0 - hs_deg, np.nan)
+    bounds = np.concatenate([[0], np.cumsum(np.bincount(group[group >= 0], minlength=n_groups))])
+    by_group = np.argsort(np.where(group >= 0, group, n_groups), kind="stable")
+    chosen = []
+    for g, result in enumerate(results):
+        if result is None or not result.is_fix or result.redundant < 1 or result.sigma_arcmin <= A_PRIORI_SIGMA_ARCMIN:
+            continue
+        members = by_group[bounds[g]:bounds[g + 1]][result.used]
+        if np.isfinite(shift[members]).all() and np.any(shift[members] != 0):
+            chosen.append(g)
+    if not chosen:
+        return set()
+    times = np.array([results[g].utc for g in chosen], dtype="datetime64[ns]")
+    other = replace(sights, ho=sights.ho + np.nan_to_num(shift) * ok)
+    again, _ = fix_batch(other, subset_groups(group, chosen, n_groups), len(chosen), ok, np.zeros(group.size, bool),
+                         times)
+    found = set()
+    for j, g in enumerate(chosen):
+        result, trial = results[g], again[j]
+        if trial is None or trial.redundant < 1 or trial.sigma_arcmin > SEXTANT_SIGMA_LIMIT_ARCMIN:
+            continue
+        written = float(np.nansum(result.residual_arcmin[result.used] ** 2))
+        read = float(np.nansum(trial.residual_arcmin[trial.used] ** 2))
+        if written < DECIMAL_EVIDENCE * read:
+            continue
+        found.add(g)
+        row = by_group[bounds[g]:bounds[g + 1]][result.used][0]
+        miles = float(distance_bearing(result.lat_deg, result.lon_deg, trial.lat_deg, trial.lon_deg)[0])
+        result.untrusted = (
+            f"the altitudes read as degrees and minutes written as a decimal ({hs_deg[row]:.3f} as "
+            f"{format_angle(hs_deg[row] + shift[row], 'signed')}) agree to σ {np.sqrt(read / trial.redundant):.1f}′, "
+            f"against σ {np.sqrt(written / result.redundant):.1f}′ as written, and put the {trial.kind} "
+            f"{miles:.0f} nm from this one, at {format_angle(trial.lat_deg, 'lat')} "
+            f"{format_angle(trial.lon_deg, 'lon')}: write Hs as degrees and minutes (29 21.6) or as decimal "
+            "degrees, and fix again")
+        result.other_reading = trial
+    return found
+
+
+def mark_untrusted(results) -> None:
+    """Every fix that cannot be trusted as the position to plot says so first, plainly, with why: a round
+    misread (:func:`misread_rounds`), or sights that still scatter beyond any hand-held sextant once the gross
+    errors are out (or with none found)."""
+    for result in results:
+        if result is None or not result.is_fix:
+            continue
+        if not result.untrusted and (result.scatter_impossible or (
+                result.left_out.any() and result.sigma_arcmin > SEXTANT_SIGMA_LIMIT_ARCMIN)):
+            left = " left in it" if result.left_out.any() else ""
+            result.untrusted = (
+                f"the sights{left} scatter by σ {result.sigma_arcmin:.1f}′, more than a hand-held sextant gives "
+                f"(about 1′, {SEXTANT_SIGMA_LIMIT_ARCMIN:.0f}′ in a seaway): some altitude, time or body name is "
+                "wrong and the others cannot tell which; find it and fix again")
+        if result.untrusted:
+            result.warnings[:] = [w.replace("plot this one, and find out", "plot neither as it stands: find out")
+                                  for w in result.warnings]
+            result.warnings.insert(0, f"CANNOT BE TRUSTED as the position to plot: {result.untrusted}")
+
+
 def check_fixes(sights: SightRows, group, n_groups, ok, results) -> None:
     """For each fix with sights flagged as possible blunders (kept in it): the check fix without them, and a
     warning of how far it moves."""
@@ -187,4 +268,4 @@ def _or_empty(values: np.ndarray, size: int) -> np.ndarray:
     return values if values.size == size else np.zeros(size, dtype=bool)
 
 
-__all__ = ["leave_out_gross", "check_fixes"]
+__all__ = ["DECIMAL_EVIDENCE", "leave_out_gross", "misread_rounds", "mark_untrusted", "check_fixes"]

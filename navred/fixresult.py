@@ -106,6 +106,11 @@ class FixResult:
     run_from: RunFrom = RunFrom.NONE
     #: the fix's distance from the DR at the fix time (nm)
     dr_distance_nm: float = float("nan")
+    #: the DR's age at the fix time (hours; UNKNOWN_DR_AGE_H where the log does not date it), whether the log
+    #: dates it, and how far the fix may lie from it before the far-from-DR warning (nm)
+    dr_age_h: float = float("nan")
+    dr_age_known: bool = False
+    dr_allowed_nm: float = float("nan")
     #: the sights scatter beyond any hand-held sextant (SEXTANT_SIGMA_LIMIT_ARCMIN, at SCATTER_CONFIDENCE)
     scatter_impossible: bool = False
     chart_distance_nm: float | None = None

@@ -332,7 +332,7 @@ def ellipse_note(n: int, k: int, d: int, nu: float = float("nan"), weight: float
                     f"make a larger ellipse than this), and the ellipse is scaled as for a known error "
                     f"({quantile_name(nu, d)})")
         return ""
-    if not run_included:
+    if not run_included or (weight >= 0.995 and abs(nu - d) < 0.05):
         ratio, next_ratio = _scale_ratio(d)
         return (f"{n} sights for {k} unknowns leave {d} redundant sight{plural(d)} to judge the sights' error by, so "
                 f"that error is known only roughly and the ellipse allows for it being larger than it looks: the "

@@ -198,8 +198,9 @@ def misread_rounds(sights: SightRows, hs_deg: np.ndarray, group, n_groups, ok, r
         row = by_group[bounds[g]:bounds[g + 1]][result.used][0]
         miles = float(distance_bearing(result.lat_deg, result.lon_deg, trial.lat_deg, trial.lon_deg)[0])
         result.untrusted = (
-            f"the altitudes read as degrees and minutes written as a decimal ({hs_deg[row]:.3f} as "
-            f"{format_angle(hs_deg[row] + shift[row], 'signed')}) agree to σ {np.sqrt(read / trial.redundant):.1f}′, "
+            f"Hs looks like degrees and minutes written as a decimal: read so ({hs_deg[row]:.3f} as "
+            f"{format_angle(hs_deg[row] + shift[row], 'signed')}), the sights agree to σ "
+            f"{np.sqrt(read / trial.redundant):.1f}′, "
             f"against σ {np.sqrt(written / result.redundant):.1f}′ as written, and put the {trial.kind} "
             f"{miles:.0f} nm from this one, at {format_angle(trial.lat_deg, 'lat')} "
             f"{format_angle(trial.lon_deg, 'lon')}: write Hs as degrees and minutes (29 21.6) or as decimal "
@@ -219,7 +220,7 @@ def mark_untrusted(results) -> None:
                 result.left_out.any() and result.sigma_arcmin > SEXTANT_SIGMA_LIMIT_ARCMIN)):
             left = " left in it" if result.left_out.any() else ""
             result.untrusted = (
-                f"the sights{left} scatter by σ {result.sigma_arcmin:.1f}′, more than a hand-held sextant gives "
+                f"the sights{left} scatter beyond a sextant: σ {result.sigma_arcmin:.1f}′, more than a hand-held one gives "
                 f"(about 1′, {SEXTANT_SIGMA_LIMIT_ARCMIN:.0f}′ in a seaway): some altitude, time or body name is "
                 "wrong and the others cannot tell which; find it and fix again")
         if result.untrusted:

@@ -66,6 +66,8 @@ def sense_checks(results: list[FixResult], run_from: list[RunFrom], span_min: np
     stopped = (np.array(run_from, dtype=object) == RunFrom.NONE) & (span_min > STOPPED_SPAN_MIN)
     for j, result in enumerate(results):
         result.dr_distance_nm = float(distance[j])
+        result.dr_age_h, result.dr_age_known = float(age_h[j]), bool(age_known[j])
+        result.dr_allowed_nm = float(allowed[j])
         result.scatter_impossible = bool(wild[j])
     for j in np.flatnonzero(stopped).tolist():
         results[j].warnings.append(

@@ -288,6 +288,11 @@ def fix_lines(group, reduced: pd.DataFrame, labels) -> list[str]:
         lines.append(f"  made good      {fix.course_made_good_deg:05.1f}° at {fix.speed_made_good_kn:.1f} kn")
     if fix.run_from != RunFrom.NONE:
         lines.append(f"  run between the sights: {fix.run_from}")
+    if fix.dr_allowed_nm == fix.dr_allowed_nm:
+        lines.append(f"  from the DR    {fix.dr_distance_nm:.1f} nm; " + (
+            f"a DR {fix.dr_age_h:.1f} h old: beyond {fix.dr_allowed_nm:.0f} nm it is questioned" if fix.dr_age_known
+            else f"the log does not date the DR, taken as {fix.dr_age_h:.0f} h old: up to {fix.dr_allowed_nm:.0f} nm "
+                 "passes unquestioned (an entry row with the departure or a known position dates it)"))
     lines.append(f"  blunder check  {fix.blunder_note}")
     return (lines + _residual_lines(group, reduced, labels) + _check_lines(group)
             + sight_warning_lines(reduced, labels, group.rows, indent="  "))

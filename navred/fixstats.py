@@ -292,8 +292,8 @@ def blunder_note(n: int, d: int, detectable: float, k: int) -> str:
     if d == 1:
         return (f"{n} sights for {k} unknowns cannot single out a bad sight: each residual is the same misfit "
                 "seen from one sight; take another sight to check them")
-    return (f"{n} sights can find a blunder of about {detectable:.0f}′ or more (about half the time at that size, "
-            f"from the sights' own scatter)")
+    return (f"{n} sights find a blunder of about {detectable:.0f}′ in half the rounds and a larger one in most (from "
+            f"the sights' own scatter); a smaller one only now and then")
 
 
 #: The weight of the residuals in the sights' σ (:class:`SightVariance`) below which σ is said to be assumed.
@@ -331,6 +331,11 @@ def ellipse_note(n: int, k: int, d: int, nu: float = float("nan"), weight: float
                     f"sights' error, which is taken as {A_PRIORI_SIGMA_ARCMIN}′ (a good sight at sea; worse sights "
                     f"make a larger ellipse than this), and the ellipse is scaled as for a known error "
                     f"({quantile_name(nu, d)})")
+        if weight < 0.995:
+            return (f"{n} sights for {k} unknowns leave {d} redundant sight{plural(d)}, worth {weight * d:.1f} against "
+                    f"the DR's error over the run: the sights' error is judged partly from them and partly taken as "
+                    f"{A_PRIORI_SIGMA_ARCMIN}′ (a good sight at sea), and the ellipse is scaled as for a known error "
+                    f"({quantile_name(nu, d)})")
         return ""
     if not run_included or (weight >= 0.995 and abs(nu - d) < 0.05):
         ratio, next_ratio = _scale_ratio(d)
@@ -346,7 +351,7 @@ def ellipse_note(n: int, k: int, d: int, nu: float = float("nan"), weight: float
 def quantile_name(nu: float, d: int) -> str:
     if not np.isfinite(nu) or nu > 1000.0:  # F(2, ν) is then chi-square(2)/2 to 0.3 %
         return "chi-square(2)"
-    return f"F(2, {d})" if abs(nu - d) < 0.05 else f"F(2, {nu:.1f})"
+    return f"F(2, {d})" if abs(nu - d) < 0.05 else f"F(2, {nu:.1f})" if nu < 100 else f"F(2, {nu:.0f})"
 
 
 __all__ = ["A_PRIORI_SIGMA_ARCMIN", "DR_ERROR_KN", "DR_ERROR_FRACTION", "BLUNDER_ALPHA", "BLUNDER_CLEAR_ALPHA", "BLUNDER_MIN_ARCMIN",

@@ -263,6 +263,10 @@ def check_fixes(sights: SightRows, group, n_groups, ok, results) -> None:
             f"{'them' if count > 1 else 'it'} the {result.kind} moves {miles:.1f} nm (the check fix)"
             + (": more than a mile, so look at the sight before plotting either" if miles > 1.0 else ""))
         result.without_outliers = check
+        smaller = [f"{name} ({abs(r):.1f}′ off)" for name, r in zip(names, check.residual_arcmin[doubtful].tolist())
+                   if abs(r) < result.detectable_blunder_arcmin]
+        if smaller:
+            result.blunder_note += f"; {', '.join(smaller)} is flagged all the same: a smaller one is found now and then"
 
 
 def _or_empty(values: np.ndarray, size: int) -> np.ndarray:

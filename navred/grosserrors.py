@@ -221,8 +221,8 @@ def mark_untrusted(results) -> None:
             left = " left in it" if result.left_out.any() else ""
             result.untrusted = (
                 f"the sights{left} scatter beyond a sextant: σ {result.sigma_arcmin:.1f}′, more than a hand-held one gives "
-                f"(about 1′, {SEXTANT_SIGMA_LIMIT_ARCMIN:.0f}′ in a seaway): some altitude, time or body name is "
-                "wrong and the others cannot tell which; find it and fix again")
+                f"(about 1′, {SEXTANT_SIGMA_LIMIT_ARCMIN:.0f}′ in a seaway): some altitude, time or body name, or "
+                "the run between the sights, is wrong and the others cannot tell which; find it and fix again")
         if result.untrusted:
             result.warnings[:] = [w.replace("plot this one, and find out", "plot neither as it stands: find out")
                                   for w in result.warnings]

@@ -422,3 +422,16 @@ def test_every_output_names_the_ship_when_a_log_holds_two(tmp_path):
     days = runner.invoke(app, ["days", str(tmp_path / "two.csv")])
     assert "Moth Orchid (invented): noon positions" in days.stdout or "Moth Orchid (invented):" in days.stdout
     assert "Brisa (invented):" in days.stdout
+
+
+def test_the_voyage_picture_draws_the_ellipse_each_fix_states():
+    # each fix's 95 % ellipse is scaled by its own quantile (F(2, ν) from few sights), not chi-square(2): the
+    # picture takes each fix's confidence_scale by its label on the track (DaysWork.ellipse_scales)
+    from navred.figures import plotting
+
+    voyage = process_log("sample_sights/demo_sights.csv", plan=False)
+    days = voyage.days_work()
+    stars = voyage.group("evening-stars").fix
+    assert days.ellipse_scales["fix evening-stars"] == pytest.approx(stars.confidence_scale)
+    assert stars.confidence_scale > 1.4 * np.sqrt(5.991)  # F(2, 4): wider than chi-square(2) (from the tables)
+    assert plotting.voyage_track_picture(days) is not None

@@ -65,6 +65,9 @@ class DaysWork:
     notes: tuple[str, ...] = ()
     #: each vessel's clocks (navred.reckoning.ShipsClocks) and how they were found
     clocks: dict = field(default_factory=dict)
+    #: each fix's ellipse scale (FixResult.confidence_scale, the quantile its 95 % ellipse is drawn at), by the
+    #: label of its known position on the track ('fix <group>'): a picture draws the ellipse the fix states
+    ellipse_scales: dict[str, float] = field(default_factory=dict)
     #: each table split by vessel, made when first asked for (:meth:`of_vessel`)
     cache: dict = field(default_factory=dict, repr=False, compare=False)
 
@@ -106,7 +109,9 @@ def days_work(voyage, *, carry_current: bool = False) -> DaysWork:
                     pd.DataFrame(noon_rows_all, columns=NOON_COLUMNS),
                     pd.DataFrame(point_rows, columns=["vessel", "utc", "lat_deg", "lon_deg", "leg", "kind"]),
                     tracks, carry_current, pd.DataFrame(exercises(voyage, ships, tracks), columns=EXERCISE_COLUMNS),
-                    entry_work(voyage), ship_latitudes(voyage, ships), tuple(dict.fromkeys(notes)), clocks)
+                    entry_work(voyage), ship_latitudes(voyage, ships), tuple(dict.fromkeys(notes)), clocks,
+                    {f"fix {g.name}": float(g.fix.confidence_scale) for g in voyage.groups
+                     if g.fix is not None and g.fix.is_fix})
 
 
 __all__ = ["DaysWork", "days_work", "vessel_tracks", "known_label_at", "NOON_WINDOW_HOURS", "SET_DRIFT_COLUMNS",

@@ -83,7 +83,7 @@ from .timesignals import Ratings
 #: The parsed columns of every sight, in order (documented in docs/sight-log.md).
 SIGHT_COLUMNS = [
     "source", "row", "sight_utc", "utc_jd1", "utc_jd2", "time_given", "time_as_read", "watch_error_applied_s",
-    "watch_error_from", "timepiece",
+    "watch_error_from", "watch_error_warning", "timepiece",
     "zone_date_used", "zone_time_corrected", "zone_description_used_h", "greenwich_date", "body_name", "limb",
     "hs_deg", "index_error_arcmin", "eye_height_m", "eye_height_as_given", "horizon", "waterline_distance_nm",
     "measured_dip_arcmin", "temperature_c",
@@ -501,7 +501,8 @@ def _sight_table(n, sources, rows, parsed, gathered, times, message, where) -> p
         "source": sources, "row": rows.astype(int), "sight_utc": utc,
         "utc_jd1": times["jd1"], "utc_jd2": times["jd2"], "time_given": times["time_given"],
         "time_as_read": times["as_read"], "watch_error_applied_s": times["watch_error_s"],
-        "watch_error_from": times["watch_error_from"], "timepiece": words(parsed["timepiece"]),
+        "watch_error_from": times["watch_error_from"], "watch_error_warning": times["watch_error_warning"],
+        "timepiece": words(parsed["timepiece"]),
         "zone_date_used": times["zone_date"], "zone_time_corrected": corrected,
         "zone_description_used_h": zd,
         "greenwich_date": greenwich,

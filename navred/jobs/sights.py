@@ -112,6 +112,10 @@ def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
     notes.warn(~has_disc & np.isin(limb, ["lower", "upper"]) & notes.ok,
                "limb ignored: only the Sun and Moon show a disc")
     limb = np.where(has_disc & no_limb, "lower", np.where(has_disc, limb, "centre"))
+    if "watch_error_warning" in frame.columns:  # a rated timepiece's error extrapolated or across a change
+        timed = frame["watch_error_warning"].fillna("").astype(str).to_numpy(dtype=object)
+        warned = np.flatnonzero((timed != "") & notes.ok)
+        notes.warn(warned, timed[warned])
     horizon = frame["horizon"].to_numpy(dtype=object)
     notes.warn(has_disc & (horizon == "bubble") & np.isin(frame["limb"].to_numpy(dtype=object), ["lower", "upper"])
                & notes.ok, "limb ignored: a bubble horizon is on the body's centre")

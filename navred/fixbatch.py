@@ -45,6 +45,9 @@ class SightRows:
     solve_motion: bool
     dr_error_kn: float
     dr_error_fraction: float
+    #: each line's own stated σ (nautical miles) where it has one: a bearing or range of a charted object
+    #: (:mod:`navred.landmarks`); NaN for a sight, whose σ the fix estimates (None: every row a sight)
+    line_sigma: np.ndarray | None = None
 
 
 def subset_groups(group: np.ndarray, chosen: list[int], n_groups: int) -> np.ndarray:
@@ -111,6 +114,7 @@ class _Layout:
     n_used: np.ndarray
     run_nm: np.ndarray  # the longest run between a sight and the fix time
     polar: np.ndarray  # a running fix carried through (or next to) a pole: refused
+    sigma: np.ndarray | None = None  # each cell's stated σ (nm; NaN: a sight), None when no row states one
 
 
 def _layout(s: SightRows, group, n_groups, ok, weighted, work, fix_time_given) -> _Layout:
@@ -148,8 +152,11 @@ def _layout(s: SightRows, group, n_groups, ok, weighted, work, fix_time_given) -
     lat0, lon0 = dr_lat[:, -1], dr_lon[:, -1]
     run_nm = np.where(present, run_to_fix_nm(track), 0.0).max(axis=1)
     polar = (run_nm > 0) & (np.abs(lat0) + run_nm / ARCMIN_PER_DEG > 90.0 - POLAR_RUN_LIMIT_DEG)
+    sigma = None
+    if s.line_sigma is not None and np.isfinite(s.line_sigma).any():
+        sigma = np.where(present, s.line_sigma[index], np.nan)
     return _Layout(work, index, present, use, last, last_row, fix_time, hours, vn, ve, run_from, track,
-                   s.gha[index], s.dec[index], s.ho[index], lat0, lon0, use.sum(axis=1), run_nm, polar)
+                   s.gha[index], s.dec[index], s.ho[index], lat0, lon0, use.sum(axis=1), run_nm, polar, sigma)
 
 
 def _kinds(s: SightRows, lay: _Layout):
@@ -182,7 +189,8 @@ def _solve_kinds(s: SightRows, lay: _Layout, motion, line, spread0) -> dict:
             velocity0 = (np.where(lay.use[rows], lay.vn[rows], 0.0).sum(1) / lay.n_used[rows],
                          np.where(lay.use[rows], lay.ve[rows], 0.0).sum(1) / lay.n_used[rows])
             parts[k] = (rows, solve_fix_part(k, rows, lay.gha, lay.dec, lay.ho, lay.use, lay.present, lay.track,
-                                             lay.lat0, lay.lon0, velocity0, s.dr_error_kn, s.dr_error_fraction))
+                                             lay.lat0, lay.lon0, velocity0, s.dr_error_kn, s.dr_error_fraction,
+                                             None if lay.sigma is None else lay.sigma[rows]))
     if line.any():
         rows = np.flatnonzero(line)
         parts["line"] = (rows, solve_line_part(rows, lay.gha, lay.dec, lay.ho, lay.use, lay.present, lay.track,

@@ -168,6 +168,25 @@ COLUMNS: tuple[Column, ...] = (
            "lat", "a chart or GNSS latitude at this sight, to cross-check the fix"),
     Column("chart_lon", ("chart_lon", "chart_long", "chart_longitude", "gnss_lon", "gps_lon", "gnss_longitude",
                          "gps_longitude"), "lon", "a chart or GNSS longitude at this sight, to cross-check the fix"),
+    Column("mark", ("mark", "charted_object", "landmark", "mark_name"), "text",
+           "a charted object (a light, a headland, a beacon) observed at landfall: the row is a bearing or a "
+           "radar range of it, not a sight (body and hs blank); its position in mark_lat/mark_lon"),
+    Column("mark_lat", ("mark_lat", "mark_latitude", "landmark_lat"), "lat",
+           "the charted latitude of the mark"),
+    Column("mark_lon", ("mark_lon", "mark_long", "mark_longitude", "landmark_lon"), "lon",
+           "the charted longitude of the mark"),
+    Column("bearing", ("bearing", "true_bearing", "bearing_true", "visual_bearing"), "number",
+           "on a mark row: the true bearing of the mark from the ship (degrees true; a compass bearing made true "
+           "first)", units=("deg",), default_unit="deg", low=0.0, high=360.0),
+    Column("range", ("range", "radar_range", "range_nm", "distance_off"), "number",
+           "on a mark row: the radar range of the mark (nautical miles)", units=("nm",), default_unit="nm",
+           low=0.0, high=60.0),
+    Column("bearing_sigma", ("bearing_sigma", "bearing_sd", "bearing_error"), "number",
+           "on a mark row: the bearing's standard error (degrees); blank: 1°", units=("deg",), default_unit="deg",
+           low=0.01, high=20.0),
+    Column("range_sigma", ("range_sigma", "range_sd", "range_error"), "number",
+           "on a mark row: the range's standard error (nautical miles); blank: 1 % of the range, at least 0.02 nm",
+           units=("nm",), default_unit="nm", low=0.001, high=5.0),
     Column("dut1", ("dut1", "ut1_utc", "ut1_minus_utc"), "number",
            "UT1 − UTC from a radio time signal (seconds); blank: the IERS table",
            units=("s",), default_unit="s", low=-0.9, high=0.9),
@@ -202,7 +221,7 @@ RESULT_COLUMNS = (
     "dut1_s", "ut1_source", "gha_aries_deg", "sha_deg", "gha_deg", "dec_deg", "hp_arcmin", "almanac_sd_arcmin",
     "lha_deg", "ic_arcmin", "horizon_arcmin", "dip_arcmin", "ha_deg", "refraction_arcmin", "sd_arcmin",
     "parallax_arcmin", "phase_angle_deg", "phase_arcmin", "ho_deg", "hc_deg", "zn_deg", "intercept_nm",
-    "intercept_direction", "status", "message", "error_column",
+    "intercept_direction", "status", "message", "error_column", "line_sigma_nm",
 )
 
 # --- Words of the trade ----------------------------------------------------------

@@ -203,7 +203,7 @@ def test_the_noon_report_gives_the_distance_to_go_and_eta_by_the_routes_own_figu
     hours = expected / at_waypoint["speed_made_good_kn"]
     eta = pd.Timestamp("2026-06-02T16:00:00") + pd.Timedelta(hours=hours)
     assert abs((pd.Timestamp(at_waypoint["eta_utc"]) - eta).total_seconds()) <= 30
-    assert at_waypoint["eta_ship_time"].startswith(str((pd.Timestamp(at_waypoint["eta_utc"]) - pd.Timedelta(hours=4)))[:16])
+    assert at_waypoint["eta_ship_time"].startswith(str(pd.Timestamp(at_waypoint["eta_utc"]) - pd.Timedelta(hours=4))[:16])
     # the report as text, as CSV, and as the master sends it
     result = CliRunner().invoke(app, ["days", str(tmp_path / "log.csv"), "--route", str(route), "-o",
                                       str(tmp_path / "reports.txt")])

@@ -89,7 +89,8 @@ SIGHT_COLUMNS = [
     "measured_dip_arcmin", "temperature_c",
     "temperature_as_given", "pressure_hpa", "pressure_as_given", "dr_lat_deg", "dr_lon_deg", "course_deg",
     "speed_kn", "dut1_given_s", "fix_group", "fix_group_given", "chart_lat_deg", "chart_lon_deg", "vessel",
-    "observer", "voyage", "series", "role", "read_problem", "read_problem_column", "dr_carried_from",
+    "observer", "voyage", "series", "role", "mark", "mark_lat_deg", "mark_lon_deg", "bearing_deg", "range_nm",
+    "bearing_sigma_deg", "range_sigma_nm", "read_problem", "read_problem_column", "dr_carried_from",
     "motion_carried_from",
 ]
 
@@ -314,6 +315,34 @@ def sight_log_blocks(source: LogSource, *, dates: str | None = None, block_rows:
     return LogBlocks(plain, layout, dates, rates)
 
 
+#: The sight's own columns a mark row (a bearing or range of a charted object) leaves blank.
+MARK_FREE = frozenset({"body", "hs"})
+#: The columns that belong to a mark row only.
+MARK_COLUMNS = ("mark_lat", "mark_lon", "bearing", "range", "bearing_sigma", "range_sigma")
+
+
+def check_marks(is_mark: np.ndarray, gathered, problems) -> None:
+    """A mark row gives the mark's charted position and one of a bearing and a range, and no body or Hs; a
+    sight gives none of a mark's columns."""
+    for key in ("mark_lat", "mark_lon"):
+        missing = is_mark & gathered[key].blank
+        problems.add(np.flatnonzero(missing), key, "", f"a mark's {key.replace('_', ' ')} is needed: the charted "
+                     "position of the object observed")
+    bearing, ranged = ~gathered["bearing"].blank, ~gathered["range"].blank
+    problems.add(np.flatnonzero(is_mark & ~bearing & ~ranged), "bearing", "",
+                 "a mark row gives its bearing (degrees true) or its radar range (nm)")
+    problems.add(np.flatnonzero(is_mark & bearing & ranged), "range", "",
+                 "a mark row gives a bearing or a range, not both: write the range on a row of its own")
+    for key in MARK_FREE:
+        given = is_mark & ~gathered[key].blank
+        problems.add(np.flatnonzero(given), gathered[key].headers[given], "",
+                     f"a mark row is a bearing or range of a charted object, not a sight: leave {key} blank")
+    for key in MARK_COLUMNS:
+        stray = ~is_mark & ~gathered[key].blank
+        problems.add(np.flatnonzero(stray), gathered[key].headers[stray], "",
+                     f"{key.replace('_', ' ')} belongs to a mark row: name the charted object in the mark column")
+
+
 def _check_is_log(table: RawTable, keys: dict) -> None:
     required = [c.key for c in COLUMNS if c.required]
     if len(set(keys) & ({"utc", "zone_time"} | set(required))) < 2:
@@ -352,13 +381,16 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None, deviation=None) -
     parsed = {c.key: parse_key(gathered[c.key], c.key, problems, dates) for c in COLUMNS}
     entry = words(parsed["entry"])
     is_entry = parsed["entry"].ok
+    is_mark = ~gathered["mark"].blank & ~is_entry
     for column in COLUMNS:
         cells = gathered[column.key]
+        sightless = is_entry | (is_mark if column.key in MARK_FREE else False)
         if column.required and not cells.present:
-            problems.add(np.flatnonzero(~is_entry), column.key, "", f"required column {column.key} is missing")
+            problems.add(np.flatnonzero(~sightless), column.key, "", f"required column {column.key} is missing")
         elif column.required:
-            empty = cells.blank & ~is_entry
+            empty = cells.blank & ~sightless
             problems.add(np.flatnonzero(empty), cells.headers[empty], "", f"{column.key.replace('_', ' ')} is empty")
+    check_marks(is_mark, gathered, problems)
     check_entries(entry, is_entry, parsed, gathered, problems, has_card=deviation is not None)
     horizon = words(parsed["horizon"], "sea")
     # the reading a horizon gives: to 90°, or to 180° for an artificial horizon or a back sight
@@ -370,7 +402,7 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None, deviation=None) -
                  [f"Hs {v:g}° is outside 0-{h:g}° for a {k} horizon" for v, h, k in
                   zip(hs[too_high], highest[too_high], horizon[too_high])])
     dipped = np.isin(horizon, ["sea", "back", "waterline"]) & ~(parsed["measured_dip"].ok & (horizon != "waterline"))
-    needs_eye = gathered["eye_height"].blank & dipped & ~is_entry
+    needs_eye = gathered["eye_height"].blank & dipped & ~is_entry & ~is_mark
     problems.add(np.flatnonzero(needs_eye), gathered["eye_height"].headers[needs_eye], "",
                  "height of eye is needed for the dip of a sea horizon")
     no_distance = (horizon == "waterline") & gathered["waterline_distance"].blank
@@ -506,7 +538,8 @@ def _sight_table(n, sources, rows, parsed, gathered, times, message, where) -> p
         "zone_date_used": times["zone_date"], "zone_time_corrected": corrected,
         "zone_description_used_h": zd,
         "greenwich_date": greenwich,
-        "body_name": words(parsed["body"]), "limb": words(parsed["limb"]), "hs_deg": numbers("hs"),
+        "body_name": _body_or_mark(words(parsed["body"]), words(parsed["mark"]), parsed["range"].ok),
+        "limb": words(parsed["limb"]), "hs_deg": numbers("hs"),
         "index_error_arcmin": numbers("index_error"),
         "eye_height_m": numbers("eye_height"), "eye_height_as_given": as_given("eye_height"),
         "horizon": words(parsed["horizon"], "sea"), "waterline_distance_nm": numbers("waterline_distance"),
@@ -519,8 +552,21 @@ def _sight_table(n, sources, rows, parsed, gathered, times, message, where) -> p
         "chart_lat_deg": numbers("chart_lat"), "chart_lon_deg": numbers("chart_lon"),
         "vessel": words(parsed["vessel"]), "observer": observer_names(words(parsed["observer"])),
         "voyage": words(parsed["voyage"]), "series": words(parsed["series"]), "role": words(parsed["role"]),
+        "mark": words(parsed["mark"]), "mark_lat_deg": numbers("mark_lat"), "mark_lon_deg": numbers("mark_lon"),
+        "bearing_deg": numbers("bearing"), "range_nm": numbers("range"),
+        "bearing_sigma_deg": numbers("bearing_sigma"), "range_sigma_nm": numbers("range_sigma"),
         "read_problem": message, "read_problem_column": where,
     })
+
+
+def _body_or_mark(body: np.ndarray, mark: np.ndarray, ranged: np.ndarray) -> np.ndarray:
+    """Each row's body, or on a mark row the mark and what was taken of it ('Carn light (bearing)'), so that
+    every table and message names the line by what it is."""
+    out = body.copy()
+    marked = mark != ""
+    if marked.any():
+        out[marked] = [f"{m} ({'range' if r else 'bearing'})" for m, r in zip(mark[marked], ranged[marked])]
+    return out
 
 
 def _extra_name(header: str) -> str:

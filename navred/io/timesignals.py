@@ -26,8 +26,15 @@ import pandas as pd
 
 from ..constants import NS_PER_DAY
 from ..errors import NavredError, api_boundary
-from ..rating import (RateChange, RateFit, error_in_half_day, error_on_twelve_hour_dial, fit_rate, fit_step,
-                      rate_change)
+from ..rating import (
+    RateChange,
+    RateFit,
+    error_in_half_day,
+    error_on_twelve_hour_dial,
+    fit_rate,
+    fit_step,
+    rate_change,
+)
 from ..timescales import utc_jd_to_datetime64, utc_julian_date, utc_julian_date_from_components
 from ..timework import DATE_ORDERS, iso_instant_text, parse_time_of_day, parse_zone_description
 from ..vocabulary import normalise_header, unknown_header_refusal

@@ -29,11 +29,11 @@ import pandas as pd
 from ..constants import NS_PER_HOUR, NS_PER_MINUTE, NS_PER_SECOND
 from ..fixstats import DR_ERROR_FRACTION, DR_ERROR_KN
 from ..reckoning import (
-    estimated_position,
     NORMAL_975,
     PAST_POLE,
     DRTrack,
     days_run,
+    estimated_position,
     lines_crossed,
     ship_noons,
     velocity_kn,

@@ -76,7 +76,10 @@ def fix_batch(sights: SightRows, group: np.ndarray, n_groups: int, ok: np.ndarra
     lay = _layout(sights, group, n_groups, ok, weighted, work, fix_time_given)
     motion, motion_problem, line, spread0 = _kinds(sights, lay)
     parts = _solve_kinds(sights, lay, motion, line, spread0)
-    columns = _row_columns(lay, parts, _plotting_lines(lay), sights.gha.size, group, n_groups)
+    lines = _plotting_lines(lay)
+    if lay.sigma is not None:
+        _mark_lines_at_fix(lay, parts, lines)
+    columns = _row_columns(lay, parts, lines, sights.gha.size, group, n_groups)
     for wi in np.flatnonzero(lay.polar).tolist():
         problems[int(work[wi])] = (
             f"a running fix this near the pole ({format_angle(float(lay.lat0[wi]), 'lat')}, the run "
@@ -209,6 +212,27 @@ def _plotting_lines(lay: _Layout) -> dict[str, np.ndarray]:
     _, toward_gp = distance_bearing(foot_lat, foot_lon, lay.dec, wrap_180(-lay.gha))
     return {"lop_intercept_nm": intercept, "lop_zn_deg": zn, "lop_foot_lat_deg": foot_lat,
             "lop_foot_lon_deg": foot_lon, "lop_tangent_deg": wrap_360(toward_gp + 90.0)}
+
+
+def _mark_lines_at_fix(lay: _Layout, parts: dict, lines: dict) -> None:
+    """A mark's line on the plotting sheet drawn through the point of it nearest the fix, not the DR: a radar
+    range is a circle of a few miles, whose tangent at the DR's foot would stand off the fix by a mile."""
+    for key, (rows, part) in parts.items():
+        if key == "line":
+            continue
+        for j, wi in enumerate(rows.tolist()):
+            marks = np.isfinite(lay.sigma[wi]) & lay.present[wi]
+            if not marks.any():
+                continue
+            result = part.result(j)
+            if result is None:
+                continue
+            hc, zn = computed_altitude_azimuth(result.lat_deg, result.lon_deg, lay.gha[wi][marks], lay.dec[wi][marks])
+            foot_lat, foot_lon = destination(result.lat_deg, result.lon_deg, zn, (lay.ho[wi][marks] - hc) * ARCMIN_PER_DEG)
+            _, toward_gp = distance_bearing(foot_lat, foot_lon, lay.dec[wi][marks], wrap_180(-lay.gha[wi][marks]))
+            lines["lop_foot_lat_deg"][wi, marks] = foot_lat
+            lines["lop_foot_lon_deg"][wi, marks] = foot_lon
+            lines["lop_tangent_deg"][wi, marks] = wrap_360(toward_gp + 90.0)
 
 
 def _row_columns(lay: _Layout, parts: dict, lines: dict, n_rows: int, group, n_groups) -> dict[str, np.ndarray]:

@@ -130,3 +130,27 @@ def test_a_navigator_who_is_not_in_the_log_is_refused_naming_the_observers(train
     marked = CliRunner().invoke(app, ["days", str(tmp_path / "log.csv")])
     assert marked.exit_code == 0, marked.output
     assert "exercises against the ship's position" in marked.stdout and "Cadet Corrie:" in marked.stdout
+
+
+def test_a_group_mixing_the_navigator_and_a_cadet_is_split_by_observer():
+    """Trial finding: a fix group holding the navigator's sights and a cadet's (5′ low) was taken whole as the
+    ship's, the cadet never named. Split by observer, the ship's noons are those of the navigator's sights
+    alone (sample_sights/passage_log.csv, its sights invented from skyfield at the true track), by --navigator
+    and by the role column alike, and a note names each group split."""
+    log = pd.read_csv("sample_sights/passage_log.csv")
+    sights = log.body.notna()
+    alone = log.assign(observer=np.where(sights, "2/O Hale", ""))
+    cadet = alone[sights].assign(observer="Cadet Pike", hs=alone[sights].hs - 5.0 / 60.0)
+    mixed = pd.concat([alone, cadet], ignore_index=True)
+    truth = process_log(alone, plan=False).days_work().noons
+    voyage = process_log(mixed, plan=False, navigators=("2/O Hale",))
+    noons = voyage.days_work().noons
+    assert np.allclose(noons.lat_deg, truth.lat_deg, atol=1e-9) and np.allclose(noons.lon_deg, truth.lon_deg,
+                                                                                atol=1e-9)
+    assert any(n.startswith("fix group 14 0536 held the sights of 2/O Hale and of Cadet Pike: split by observer")
+               for n in voyage.notes)
+    assert "14 0536 (Cadet Pike)" in {g.name for g in voyage.groups}
+    by_role = mixed.assign(role=np.where(mixed.observer == "Cadet Pike", "exercise",
+                                         np.where(mixed.observer == "2/O Hale", "ship", "")))
+    noons = process_log(by_role, plan=False).days_work().noons
+    assert np.allclose(noons.lat_deg, truth.lat_deg, atol=1e-9)

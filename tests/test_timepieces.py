@@ -81,6 +81,8 @@ def test_the_rating_log_reads_each_comparison_or_refuses_it_with_a_reason(tmp_pa
     # at 00:00:01 UTC it read 00:59:59: 2 s slow (across midnight, within half a day)
     assert w.comparisons.error_s.tolist() == pytest.approx([7.0, -2.0])
     assert "2 comparisons" in w.summary()
+    # the last signal's error as the line gives it, and as read where they differ (trial finding)
+    assert "error 3.6 s fast at the last signal;" in a.summary()
     with pytest.raises(LogbookError, match="not a rating log"):
         read_rating_log(_signals(tmp_path / "bad.csv", [{"when": "x", "what": "y"}]))
 
@@ -279,6 +281,10 @@ def test_a_sight_after_a_change_of_rate_takes_the_later_line(tmp_path):
     one_line = piece.fit.error_s(np.array([_days(t) for t in pd.to_datetime(log.table.sight_utc)]))
     assert np.abs(one_line - true_error).min() > 1.0  # what the single line would have applied
     assert log.table.watch_error_from.str.endswith("after its change of rate").all()
+    # every command that takes the error says so (a note), in a navigator's words, no test statistic
+    assert any(n.startswith("timepiece Chrono A: RATE CHANGED between") and "s a day after" in n
+               and ("gaining 1.59" in n or "gaining 1.60" in n or "gaining 1.61" in n) and "F " not in n
+               for n in log.notes), log.notes
     # between signals, after the change: no extrapolation, so no warning from the timepiece
     reduced = process_log(log, plan=False).reduced
     assert not reduced.message.str.contains("watch error").any()

@@ -432,7 +432,8 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None, deviation=None) -
     if not sight_row.all():
         table = table[sight_row].reset_index(drop=True)
     notes = tuple(dict.fromkeys([note for layout in layouts for note in layout.notes]
-                                + _assumed_notes(gathered, sources, rows, (message == "") & sight_row)))
+                                + _assumed_notes(gathered, sources, rows, (message == "") & sight_row)
+                                + list(times.get("notes", []))))
     return SightLog(table, rejected, tuple(t.source for t in tables), sum(t.empty_rows for t in tables), dates,
                     tuple(names), tuple(tables), entries=entries, notes=notes)
 

@@ -63,6 +63,7 @@ def time_working(parsed, gathered, problems, rates=None) -> dict:
     error = floats(parsed["watch_error"], 0.0)
     error_from = np.where(parsed["watch_error"].ok, "given", "").astype(object)
     error_warning = np.full(n, "", dtype=object)
+    rating_notes: list[str] = []
     # a timepiece's error from its rating, where the log keeps zone time and gives no watch error
     piece = words(parsed["timepiece"])
     unrated = use_zone & ~parsed["watch_error"].ok & ok
@@ -74,6 +75,7 @@ def time_working(parsed, gathered, problems, rates=None) -> dict:
         error[rows[found]] = predicted[found]
         error_from[rows[found]] = note[found]
         error_warning[rows[found]] = warning[found]
+        rating_notes = rates.change_notes(piece[rows[found]].tolist())
         named = rows[~found & (piece[rows] != "")]
         problems.add(named, gathered["timepiece"].headers[named], piece[named],
                      "this timepiece has no time signals in the rating log: give its watch_error, or its signals")
@@ -93,7 +95,7 @@ def time_working(parsed, gathered, problems, rates=None) -> dict:
     if shown_zone.any():
         zone_date[shown_zone] = [f"{int(y):04d}-{int(m):02d}-{int(d):02d}" for y, m, d in day[:, shown_zone].T]
     return {"jd1": jd1, "jd2": jd2, "ok": ok, "watch_error_s": error, "watch_error_from": error_from,
-            "watch_error_warning": error_warning,
+            "watch_error_warning": error_warning, "notes": rating_notes,
             "zd": np.where(shown_zone, zd.value, np.nan), "zone_date": zone_date,
             "time_given": np.where(has_utc, "utc", np.where(use_zone, "zone time", "")).astype(object),
             "as_read": as_read}

@@ -110,9 +110,9 @@ class Timepiece:
                     f"({c.common_rate_s_per_day:+.2f} ± {c.common_rate_95_s_per_day:.2f} s a day, 95 %; the rates "
                     f"either side {c.rate_before_s_per_day:+.2f} and {c.rate_after_s_per_day:+.2f} agree); sights "
                     "after it take the error after the step")
-        return (f"RATE CHANGED {between}: {c.rate_before_s_per_day:+.2f} s a day before, "
-                f"{c.rate_after_s_per_day:+.2f} after (F {c.f_statistic:.1f} > {c.f_critical:.1f}); sights after "
-                "it take the later signals' line")
+        return (f"RATE CHANGED {between}: {_rate_words(c.rate_before_s_per_day)} before, "
+                f"{_rate_words(c.rate_after_s_per_day)} after (a change beyond the signals' own scatter, at 99 %); "
+                "sights after it take the later signals' line")
 
     def summary(self) -> str:
         f = self.lines()[1]
@@ -128,12 +128,20 @@ class Timepiece:
         else:
             rate = (f"rate {float(f.rate_s_per_day):+.2f} ± {float(f.rate_95_s_per_day):.2f} s a day (95 %), "
                     f"scatter {float(f.sigma_s):.2f} s")
+        read = float(last.error_s)
+        read_text = (f" by the rated line (the signal read {abs(read):.1f} s {'fast' if read >= 0 else 'slow'})"
+                     if abs(read - error_now) >= 0.05 else "")
         text = (f"{self.name or 'the timepiece'}: {n} comparison{'s' if n != 1 else ''} from "
                 f"{self.comparisons.signal_utc.iloc[0]:%Y-%m-%d} to {last.signal_utc:%Y-%m-%d}; error "
-                f"{abs(error_now):.1f} s {'fast' if error_now >= 0 else 'slow'} at the last signal; {rate}")
+                f"{abs(error_now):.1f} s {'fast' if error_now >= 0 else 'slow'} at the last signal{read_text}; {rate}")
         if self.change.changed:
             text += ". " + self.change_text()
         return text
+
+
+def _rate_words(rate: float) -> str:
+    """A daily rate in a navigator's words: 'gaining 0.45 s a day', 'losing 1.20 s a day'."""
+    return f"{'gaining' if rate >= 0 else 'losing'} {abs(rate):.2f} s a day"
 
 
 def _span_text(days: float) -> str:
@@ -162,6 +170,17 @@ class Ratings:
         The warnings (:meth:`predict_warnings`) say which errors are extrapolated."""
         error, se, note, _ = self.predict_with_warnings(names, utc64)
         return error, se, note
+
+    def change_notes(self, names) -> list[str]:
+        """A note for each timepiece among ``names`` ('' the one rated) whose rate changed or that was reset, for
+        every command that takes a sight's error from it."""
+        only = next(iter(self.timepieces)) if len(self.timepieces) == 1 else None
+        notes = []
+        for name in dict.fromkeys(list(names)):
+            piece = self.timepieces.get(name or only) if (name or only) is not None else None
+            if piece is not None and piece.change.changed:
+                notes.append(f"timepiece {piece.name or 'the timepiece'}: {piece.change_text()}")
+        return list(dict.fromkeys(notes))
 
     def predict_with_warnings(self, names: np.ndarray, utc64: np.ndarray):
         """As :meth:`predict`, and a fourth array: the warning of each sight whose error is extrapolated (before

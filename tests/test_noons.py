@@ -224,3 +224,22 @@ def test_the_noon_report_gives_the_distance_to_go_and_eta_by_the_routes_own_figu
     row = last_leg[last_leg["noon_utc"] == "2026-06-02 16:00:00"].iloc[0]
     assert row["to_go_nm"] == pytest.approx(waypoints.rhumb_distance_to_next_nm.iloc[-2], abs=0.01)
     assert row["to"].startswith("the destination (row")
+
+
+def test_a_noon_on_a_dr_without_the_current_its_fixes_found_says_so():
+    """Trial finding: the invented passage's noons lay 7-8 nm west of the truth (scripts/make_passage.py sails a
+    current of 1.2 kn setting 060° the log does not enter), while every fix printed that current. Each noon says
+    its DR allows no current and what the fix before it found; --carry-current brings it within 0.6 nm of the
+    truth (sample_sights/passage_truth.csv, geographiclib)."""
+    from geographiclib.geodesic import Geodesic
+
+    plain = process_log("sample_sights/passage_log.csv", plan=False).days_work().noons
+    assert plain.noon_from.str.contains("its DR allows no current, but the fix 14 0536 found a current of 06").any()
+    assert plain.noon_from.str.contains("--carry-current carries each fix's").all()
+    carried = process_log("sample_sights/passage_log.csv", plan=False, carry_current=True).days_work().noons
+    assert not carried.noon_from.str.contains("allows no current").any()
+    truth = pd.read_csv("sample_sights/passage_truth.csv")
+    truth["utc"] = pd.to_datetime(truth.utc)
+    for noon in carried.itertuples():
+        true = truth[truth.utc == pd.Timestamp(noon.noon_utc + "Z")].iloc[0]
+        assert Geodesic.WGS84.Inverse(true.lat, true.lon, noon.lat_deg, noon.lon_deg)["s12"] / 1852.0 < 0.6

@@ -321,6 +321,7 @@ def noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict], lines:
         np.zeros(0), np.zeros(0))
     fix_times = np.array([t for t, lab in zip(track.known_ns, track.known_label) if is_fix_label(lab)], dtype=np.int64)
     waypoints = _waypoints(voyage, vessel)
+    unallowed = _current_not_allowed(voyage, vessel, track, entries)
     rows = []
     for k in range(noon.size):
         previous = int(noon[k - 1]) if k else first
@@ -329,7 +330,7 @@ def noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict], lines:
         row = {"vessel": vessel, "date": str(np.datetime64(int(day[k]), "ns").astype("datetime64[D]")),
                "zone_h": float(zone[k]) + 0.0, "zone": zone_text(zone[k]), "noon_utc": stamp(noon[k]),
                "noon_position": position_text(lat[k], lon[k]) if np.isfinite(lat[k]) else "",
-               "noon_from": found[k][2], "run_nm": np.nan, "course_made_good_deg": np.nan,
+               "noon_from": found[k][2] + _current_words(found[k][2], unallowed, int(noon[k])), "run_nm": np.nan, "course_made_good_deg": np.nan,
                "speed_made_good_kn": np.nan, "through_water_nm": np.nan, "hours": np.nan,
                "current_set_deg": np.nan, "current_drift_kn": np.nan, "current_95_kn": np.nan, "current_note": "", "to": "", "to_go_nm": np.nan,
                "eta_utc": "", "eta_ship_time": "", "clock_changes": clock_changes_text(clocks, previous, int(noon[k])),
@@ -339,6 +340,33 @@ def noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict], lines:
         row.update(_to_go_columns(row, waypoints, track, int(noon[k]), clocks))
         rows.append(row)
     return rows, notes, (clocks, how)
+
+
+def _current_not_allowed(voyage, vessel: str, track: DRTrack, entries) -> list[tuple[int, str]]:
+    """Where the DR carries no current (none entered, none carried) but the ship's fixes found one: (the fix's
+    time, what it found) of each fix whose set and drift are determined, in time order; else none."""
+    from .shiptrack import set_drift_rows
+
+    if getattr(voyage, "carry_current", False) or (len(entries) and (entries["entry"] == "current").any()):
+        return []
+    found = []
+    for row in set_drift_rows(vessel, track):
+        if np.isfinite(row.get("drift_kn", np.nan)) and np.isfinite(row.get("set_deg", np.nan)):
+            when = int(pd.Timestamp(row["fix_utc"]).value)
+            found.append((when, f"the fix {row['fix_group']} found a current of {row['set_deg']:03.0f}° "
+                                f"{row['drift_kn']:.1f} kn"))
+    return sorted(found)
+
+
+def _current_words(noon_from: str, unallowed: list[tuple[int, str]], noon: int) -> str:
+    """What a noon carried along a DR with no current must say when a fix before it found one."""
+    if not unallowed or noon_from.startswith("fix ") or "running fix" in noon_from and "at noon" not in noon_from:
+        return ""
+    before = [text for when, text in unallowed if when <= noon]
+    if not before:
+        return ""
+    return (f"; its DR allows no current, but {before[-1]} (enter it as a current, or --carry-current carries "
+            "each fix's)")
 
 
 def _days_run_columns(run, through, water_n, water_e, k: int, found) -> dict:

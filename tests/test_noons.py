@@ -243,3 +243,18 @@ def test_a_noon_on_a_dr_without_the_current_its_fixes_found_says_so():
     for noon in carried.itertuples():
         true = truth[truth.utc == pd.Timestamp(noon.noon_utc + "Z")].iloc[0]
         assert Geodesic.WGS84.Inverse(true.lat, true.lon, noon.lat_deg, noon.lon_deg)["s12"] / 1852.0 < 0.6
+
+
+def test_the_noon_report_sheet_shows_numbers_to_their_units_precision(tmp_path):
+    """Trial finding: the Noon report sheet's run, set and drift were General cells (122.91477703460333)."""
+    from openpyxl import load_workbook
+
+    from navred.jobs.voyagebook import write_workbook
+
+    voyage = process_log("sample_sights/passage_log.csv", plan=False)
+    write_workbook(voyage, tmp_path / "p.xlsx", plots=False)
+    sheet = load_workbook(tmp_path / "p.xlsx")["Noon report"]
+    header = {sheet.cell(row=3, column=c).value: c for c in range(1, sheet.max_column + 1)}
+    for name in ("run (nm)", "current set (deg)", "current drift (kn)", "speed made good (kn)"):
+        cell = sheet.cell(row=5, column=header[name])
+        assert isinstance(cell.value, float) and cell.number_format.startswith("0.0"), (name, cell.number_format)

@@ -170,3 +170,19 @@ def test_a_clocks_entry_is_read_as_a_zone_or_a_change_and_refused_without_one(tm
     clocks = log.entries[log.entries.entry == "clocks"]
     assert list(clocks["clocks_change_h"].fillna(99)) == [-1.0, 99]
     assert list(clocks["clocks_zone_h"].fillna(99)) == [99, 12.0]
+
+
+def test_a_fix_group_spanning_many_hours_is_warned():
+    """Trial finding: a group of two days' noon sights under one name (a date repeated eastbound across the date
+    line) was one running fix over 27.6 h without a word. The demo's sights (sample_sights/demo_sights.csv, 09:10 to
+    19:48 UTC) under one group name are warned (common practice: a running fix spans a few hours)."""
+    import pandas as pd
+
+    from navred.jobs.voyage import LONG_GROUP_HOURS, process_log
+
+    assert LONG_GROUP_HOURS == 8.0
+    demo = pd.read_csv("sample_sights/demo_sights.csv").assign(fix_group="all day")
+    fix = process_log(demo, plan=False).group("all day").fix
+    assert any(w.startswith("the group's sights span 10.6 h: a running fix over more than 8 h") for w in fix.warnings)
+    rounds = process_log("sample_sights/demo_sights.csv", plan=False)
+    assert not any("the group's sights span" in w for g in rounds.groups if g.fix for w in g.fix.warnings)

@@ -463,6 +463,11 @@ def chart_positions(reduced: pd.DataFrame, group: np.ndarray, count: int
     return lat, lon, notes
 
 
+#: A fix group whose sights span more than this (hours) is warned: a running fix is a matter of a few hours
+#: (a Sun-run-Sun of three or four; common practice), and a longer one is most often two rounds under one name.
+LONG_GROUP_HOURS = 8.0
+
+
 def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: object | None = None,
                only: str | None = None, chart: tuple[float, float] | None = None,
                context: dict | None = None) -> list[GroupFix]:
@@ -514,7 +519,16 @@ def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: obj
         problem = batch.problems[k]
         if usable_count[k] < 2:
             problem = f"{usable_count[k]} usable sight(s): a fix needs two or more"
-        groups.append(GroupFix(name, rows, batch.results[k], problem, position, notes[k] if position else ""))
+        result = batch.results[k]
+        if result is not None and rows.size > 1:
+            times = utc64(reduced["sight_utc"].iloc[rows])
+            span_h = float((times.max() - times.min()) / np.timedelta64(1, "h"))
+            if span_h > LONG_GROUP_HOURS:
+                result.warnings.append(
+                    f"the group's sights span {span_h:.1f} h: a running fix over more than {LONG_GROUP_HOURS:.0f} h "
+                    "rests on the DR's run between them; is it two rounds under one name (a date repeated across "
+                    "the date line names two days alike)? give each round its own fix group")
+        groups.append(GroupFix(name, rows, result, problem, position, notes[k] if position else ""))
     return groups
 
 

@@ -186,3 +186,20 @@ def test_a_fix_group_spanning_many_hours_is_warned():
     assert any(w.startswith("the group's sights span 10.6 h: a running fix over more than 8 h") for w in fix.warnings)
     rounds = process_log("sample_sights/demo_sights.csv", plan=False)
     assert not any("the group's sights span" in w for g in rounds.groups if g.fix for w in g.fix.warnings)
+
+
+def test_days_prints_each_rejected_rows_reason(tmp_path):
+    """Trial finding: a rejected clocks entry was summed up as '1 row(s) not read: navred reduce names each and
+    why' while the output went on to assume the ship's time; navred days now prints each row and its reason."""
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+
+    log = tmp_path / "log.csv"
+    log.write_text("utc,entry,dr_lat,dr_lon,course,speed,clocks,body,hs,eye_height_m\n"
+                   "2026-03-26T06:00:00Z,departure,44 10.1 N,012 09.3 W,215,9,,,,\n"
+                   "2026-03-26T06:00:00Z,clocks,,,,,sometime,,,\n"
+                   "2026-03-26T12:56:03Z,,,,,,,Sun,48 16.0,2.8\n")
+    result = CliRunner().invoke(app, ["days", str(log)])
+    assert "1 row(s) not reduced:" in result.output
+    assert "row 3 (clocks): clocks 'sometime': give the zone the clocks keep from then" in result.output

@@ -294,6 +294,7 @@ def days_command(
         group_warning_lines,
         labels_of,
         noon_reports_text,
+        rejected_lines,
         sight_warning_lines,
     )
 
@@ -313,8 +314,8 @@ def days_command(
             echo_lines(days_lines(report))
             echo_lines(group_warning_lines(voyage.groups), err=True)
             echo_lines(sight_warning_lines(voyage.reduced, labels_of(voyage.reduced)), err=True)
-            if voyage.n_rejected_rows:
-                typer.echo(f"{voyage.n_rejected_rows} row(s) not read: navred reduce names each and why", err=True)
+            if voyage.n_rejected_rows:  # each with its reason: a rejected entry row changes the day's work
+                echo_lines(rejected_lines(voyage.rejected), err=True)
         if report.nothing_reduced or (days.empty and not len(voyage.reduced)):
             require_reduced(len(voyage.reduced), voyage.n_reduced)
         if days.empty:

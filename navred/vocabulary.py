@@ -220,8 +220,8 @@ OUTPUT_SUFFIX = "(as read)"
 RESULT_COLUMNS = (
     "dut1_s", "ut1_source", "gha_aries_deg", "sha_deg", "gha_deg", "dec_deg", "hp_arcmin", "almanac_sd_arcmin",
     "lha_deg", "ic_arcmin", "horizon_arcmin", "dip_arcmin", "ha_deg", "refraction_arcmin", "sd_arcmin",
-    "parallax_arcmin", "phase_angle_deg", "phase_arcmin", "ho_deg", "hc_deg", "zn_deg", "intercept_nm",
-    "intercept_direction", "status", "message", "error_column", "line_sigma_nm",
+    "parallax_arcmin", "phase_angle_deg", "phase_arcmin", "line_sigma_nm", "ho_deg", "hc_deg", "zn_deg", "intercept_nm",
+    "intercept_direction", "status", "message", "error_column",
 )
 
 # --- Words of the trade ----------------------------------------------------------

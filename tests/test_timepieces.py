@@ -164,6 +164,9 @@ def test_the_rated_passage_gives_the_days_work_of_the_passage_kept_in_utc():
                         rates=read_rating_log("sample_sights/passage_time_signals.csv")).days_work()
     kept = process_log("sample_sights/passage_log.csv", plan=False).days_work()
     assert list(rated.noons["noon_from"]) == list(kept.noons["noon_from"])  # no "carried to noon" for 0.02 s
+    # the chronometer keeps Greenwich: its zone is not the ship's clocks (trial finding: "clocks retarded 1 h")
+    assert list(rated.noons["clock_changes"]) == list(kept.noons["clock_changes"])
+    assert list(rated.noons["zone"]) == list(kept.noons["zone"])
     # two star rounds a day (scripts/make_passage.py: evening and morning twilight), the first day from the
     # departure at 05:00 UTC holding only its morning round before noon
     assert list(rated.noons["fixes_that_day"]) == list(kept.noons["fixes_that_day"]) == [1, 2, 2]

@@ -201,7 +201,9 @@ def read_entries(n, sources, rows, entry, is_entry, parsed, times, problems, dev
         "entry": entry[good], "lat_deg": floats(parsed["dr_lat"])[good], "lon_deg": floats(parsed["dr_lon"])[good],
         "course_deg": floats(parsed["course"])[good], "speed_kn": floats(parsed["speed"])[good],
         "set_deg": floats(parsed["set"])[good], "drift_kn": floats(parsed["drift"])[good],
-        "vessel": vessels[good], "zone_h": np.asarray(times["zd"], dtype=float)[good] + 0.0,
+        # the zone of an entry's time is the ship's clocks', unless a timepiece (a chronometer on Greenwich) kept it
+        "vessel": vessels[good], "zone_h": np.where(words(parsed["timepiece"]) != "", np.nan,
+                                                    np.asarray(times["zd"], dtype=float))[good] + 0.0,
         "compass_course_deg": floats(parsed["compass_course"])[good],
         "deviation_deg": floats(parsed["deviation"])[good], "variation_deg": floats(parsed["variation"])[good],
         "leeway_deg": _signed_leeway(parsed)[good], "log_reading_nm": floats(parsed["log_reading"])[good],

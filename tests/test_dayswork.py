@@ -435,3 +435,22 @@ def test_the_voyage_picture_draws_the_ellipse_each_fix_states():
     assert days.ellipse_scales["fix evening-stars"] == pytest.approx(stars.confidence_scale)
     assert stars.confidence_scale > 1.4 * np.sqrt(5.991)  # F(2, 4): wider than chi-square(2) (from the tables)
     assert plotting.voyage_track_picture(days) is not None
+
+
+def test_a_current_that_turns_about_at_a_fix_names_the_fix_not_the_sea():
+    """Trial finding: the invented passage with one evening round timed 4 minutes late printed 'set 286.6°
+    2.39 kn' then 'set 084.7° 5.95 kn' as currents. The currents either side of that fix differ by 8 kn (common
+    practice: no ocean current turns about in hours): both are not determined, and the fix is named."""
+    from navred.jobs.shiptrack import CURRENT_JUMP_KN
+
+    assert CURRENT_JUMP_KN == 3.0
+    log = pd.read_csv("sample_sights/passage_log.csv")
+    late = log.fix_group == "14 1954"
+    log.loc[late, "utc"] = (pd.to_datetime(log.utc[late]) + pd.Timedelta(minutes=4)).dt.strftime("%Y-%m-%dT%H:%M:%SZ")
+    rows = process_log(log, plan=False).days_work().set_drift.set_index("fix_group")
+    for group in ("14 1954", "15 0545"):
+        assert np.isnan(rows.loc[group, "drift_kn"])
+        assert "the fix 14 1954 is more likely wrong" in rows.loc[group, "note"]
+    assert np.isfinite(rows.loc["14 0536", "drift_kn"]) and np.isfinite(rows.loc["15 2002", "drift_kn"])
+    plain = process_log("sample_sights/passage_log.csv", plan=False).days_work().set_drift
+    assert not plain.note.str.contains("more likely wrong").any()

@@ -31,6 +31,10 @@ SET_DRIFT_MAX_95_KN = 1.5
 #: No current of the open sea runs faster than this (knots; the strongest, the Gulf Stream, the Kuroshio and the
 #: Agulhas, run 4-5 kn: from memory): a fix this far from the DR says a fix or the DR is wrong, never a current.
 MAX_CURRENT_KN = 8.0
+#: Currents found either side of one fix that differ by more than this (knots, as vectors) and by more than their
+#: own uncertainty put the fix between them in doubt (common practice: an ocean current does not turn about in a
+#: few hours).
+CURRENT_JUMP_KN = 3.0
 
 
 SET_DRIFT_COLUMNS = ["vessel", "fix_group", "fix_utc", "fix", "from", "hours", "dr_at_fix", "dr_to_fix_nm",
@@ -310,7 +314,41 @@ def set_drift_rows(vessel: str, track: DRTrack) -> list[dict]:
                      "note": note, "fix_lat_deg": float(track.known_lat[i]),
                      "fix_lon_deg": float(track.known_lon[i]), "dr_lat_deg": float(dr_lat[k]),
                      "dr_lon_deg": float(dr_lon[k])})
+    _suspect_fixes(rows)
     return rows
+
+
+def _suspect_fixes(rows: list[dict]) -> None:
+    """Two currents found either side of one fix that differ by more than their uncertainty allows and by more
+    than CURRENT_JUMP_KN (a current that turns about between fixes hours apart) point at the fix between them,
+    not at the sea. The fix with the largest such jump among its neighbours is named on both its rows, whose set
+    and drift are no longer given as found."""
+    jumps = []
+    for before, after in zip(rows, rows[1:]):
+        jump = np.nan
+        if before["drift_kn"] == before["drift_kn"] and after["drift_kn"] == after["drift_kn"] \
+                and after["from"] == f"fix {before['fix_group']}":
+            a = np.radians(before["set_deg"]), np.radians(after["set_deg"])
+            north = after["drift_kn"] * np.cos(a[1]) - before["drift_kn"] * np.cos(a[0])
+            east = after["drift_kn"] * np.sin(a[1]) - before["drift_kn"] * np.sin(a[0])
+            limit = max(CURRENT_JUMP_KN, float(np.hypot(before["drift_95_kn"], after["drift_95_kn"])))
+            jump = float(np.hypot(north, east)) if np.hypot(north, east) > limit else np.nan
+        jumps.append(jump)
+    size = np.nan_to_num(np.array(jumps, dtype=float), nan=0.0)
+    suspects = [j for j in range(size.size) if size[j] > 0 and size[j] >= (size[j - 1] if j else 0.0)
+                and size[j] >= (size[j + 1] if j + 1 < size.size else 0.0)]
+    marks = []
+    for j in suspects:
+        before, after = rows[j], rows[j + 1]
+        words = (f"{before['set_deg']:03.0f}° {before['drift_kn']:.1f} kn before the fix {before['fix_group']} and "
+                 f"{after['set_deg']:03.0f}° {after['drift_kn']:.1f} kn after it, {size[j]:.1f} kn apart: not a "
+                 f"current of the sea; the fix {before['fix_group']} is more likely wrong (its time, a body, an Hs): "
+                 "check it")
+        marks += [(before, words), (after, words)]
+    for row, words in marks:
+        row["note"] = f"not determined: {words}"
+        for key in ("set_deg", "set_95_deg", "drift_kn", "drift_95_kn"):
+            row[key] = np.nan
 
 
 def estimated_positions(voyage, ships: ShipsSights, *, exercises: bool = False) -> list[dict]:

@@ -258,3 +258,19 @@ def test_the_noon_report_sheet_shows_numbers_to_their_units_precision(tmp_path):
     for name in ("run (nm)", "current set (deg)", "current drift (kn)", "speed made good (kn)"):
         cell = sheet.cell(row=5, column=header[name])
         assert isinstance(cell.value, float) and cell.number_format.startswith("0.0"), (name, cell.number_format)
+
+
+def test_the_distance_to_go_steers_for_the_waypoint_ahead_and_says_when_off_the_route(tmp_path):
+    """Trial finding: the passage's last noon, some 100 nm off a route made by navred route, counted 270 nm to go
+    by a waypoint abaft her beam; the direct rhumb to the destination is 211 nm (geographiclib's geodesic 210.7)."""
+    from navred.io.routefile import read_route
+
+    route = tmp_path / "route.csv"
+    made = CliRunner().invoke(app, ["route", "38 00 N", "010 00 W", "32 40 N", "017 00 W", "-o", str(route)])
+    assert made.exit_code == 0, made.output
+    noons = process_log("sample_sights/passage_log.csv", plan=False,
+                        route=read_route(route)).days_work().noons
+    last = noons.iloc[-1]
+    direct = Geodesic.WGS84.Inverse(last.lat_deg, last.lon_deg, 32 + 40 / 60, -17.0)["s12"] / 1852.0
+    assert abs(last.to_go_nm - direct) < 1.0
+    assert "nm right of the route's leg" in last.to

@@ -262,7 +262,12 @@ def _waypoints(voyage, vessel: str) -> list[tuple[float, float, str]]:
     return [(float(r.lat_deg), float(r.lon_deg), f"the destination (row {r.row})") for r in ends.itertuples()]
 
 
-def distance_to_go(lat: float, lon: float, waypoints: list[tuple[float, float, str]]) -> tuple[float, str]:
+#: A noon position farther than this from the route's leg (nautical miles) is said to be off the route.
+OFF_ROUTE_NM = 10.0
+
+
+def distance_to_go(lat: float, lon: float, waypoints: list[tuple[float, float, str]],
+                   course_deg: float | None = None) -> tuple[float, str]:
     """Miles to go (rhumb lines) from a position along the waypoints to the last one, and the waypoint steered for:
     the next waypoint is the end of the leg the position lies nearest (a position beyond a leg's end is past it)."""
     if not waypoints:
@@ -280,8 +285,22 @@ def distance_to_go(lat: float, lon: float, waypoints: list[tuple[float, float, s
         nxt = int(np.argmin(excess)) + 1
         if to_each[nxt] < 0.01 and nxt < len(waypoints) - 1:
             nxt += 1  # at a waypoint: the next one is steered for (the same distance to go)
+    off = ""
+    if len(waypoints) > 1:
+        a = max(nxt - 1, 0)
+        _, leg_course = rhumb_inverse(w_lat[a], w_lon[a], w_lat[a + 1], w_lon[a + 1])
+        _, from_start = rhumb_inverse(w_lat[a], w_lon[a], lat, lon)
+        across = float(to_each[a] * np.sin(np.radians(float(from_start) - float(leg_course))))
+        heading = float(course_deg) if course_deg is not None and np.isfinite(course_deg) else float(leg_course)
+        _, toward = rhumb_inverse(lat, lon, w_lat[nxt], w_lon[nxt])
+        while nxt < len(waypoints) - 1 and abs((float(toward) - heading + 180.0) % 360.0 - 180.0) > 90.0:
+            nxt += 1  # the waypoint lies abaft the ship's beam: it is past; steer for the next
+            _, toward = rhumb_inverse(lat, lon, w_lat[nxt], w_lon[nxt])
+        if abs(across) > OFF_ROUTE_NM:
+            off = (f" (the noon position is {abs(across):.0f} nm {'right' if across > 0 else 'left'} of the route's "
+                   "leg: the distance is to the next waypoint ahead and along the route from it)")
     name = waypoints[-1][2] if nxt == len(waypoints) - 1 else f"{waypoints[nxt][2]}, then on to {waypoints[-1][2]}"
-    return float(to_each[nxt] + after[nxt]), name
+    return float(to_each[nxt] + after[nxt]), name + off
 
 
 def noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict], lines: list[dict], ships: ShipsSights):
@@ -405,7 +424,9 @@ def _to_go_columns(row: dict, waypoints, track: DRTrack, noon: int, clocks) -> d
     """Distance to go and the ETA at the day's average speed made good (else the speed in force at noon)."""
     if not waypoints or not np.isfinite(row["lat_deg"]):
         return {}
-    to_go, name = distance_to_go(row["lat_deg"], row["lon_deg"], waypoints)
+    north, east = track.velocity_at(np.array([noon]))
+    course = float(np.degrees(np.arctan2(east[0], north[0])) % 360.0) if np.hypot(north[0], east[0]) > 0.1 else None
+    to_go, name = distance_to_go(row["lat_deg"], row["lon_deg"], waypoints, course)
     speed = row["speed_made_good_kn"]
     basis = "the day's average speed"
     if not (np.isfinite(speed) and speed > 0.1):

@@ -154,3 +154,12 @@ def test_a_group_mixing_the_navigator_and_a_cadet_is_split_by_observer():
                                          np.where(mixed.observer == "2/O Hale", "ship", "")))
     noons = process_log(by_role, plan=False).days_work().noons
     assert np.allclose(noons.lat_deg, truth.lat_deg, atol=1e-9)
+
+    # and navred days counts the cadet's exercises in words ("6 fixes", never "6 fixs")
+    import tempfile
+
+    with tempfile.TemporaryDirectory() as folder:
+        path = Path(folder) / "mixed.csv"
+        mixed.to_csv(path, index=False)
+        text = CliRunner().invoke(app, ["days", str(path), "--navigator", "2/O Hale"]).stdout
+    assert "Cadet Pike: 6 fixes, 3 estimated positions" in text

@@ -500,6 +500,13 @@ def _set_drift_lines(days, vessel) -> list[str]:
     return lines
 
 
+def _plural_words(kind: str, n: int) -> str:
+    """'fix' → 'fixes', 'estimated position' → 'estimated positions' (n > 1)."""
+    if n <= 1:
+        return kind
+    return kind + ("es" if kind.endswith(("x", "s", "ch", "sh")) else "s")
+
+
 def _exercise_lines(days, vessel) -> list[str]:
     table = days.exercises[days.exercises.vessel == vessel] if len(days.exercises) else days.exercises
     if not len(table):
@@ -508,7 +515,7 @@ def _exercise_lines(days, vessel) -> list[str]:
     for observer, part in table.groupby("observer", sort=False):
         off = part["off_nm"].to_numpy(dtype=float)
         kinds = part["kind"].value_counts().to_dict()
-        counted = ", ".join(f"{n} {k}{'s' if n > 1 else ''}" for k, n in kinds.items())
+        counted = ", ".join(f"{n} {_plural_words(str(k), n)}" for k, n in kinds.items())
         if np.isfinite(off).any():
             lines.append(f"  {observer or '(no observer)'}: {counted}, {np.nanmean(off):.1f} nm off on average "
                          f"(at most {np.nanmax(off):.1f})")

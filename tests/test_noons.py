@@ -274,3 +274,6 @@ def test_the_distance_to_go_steers_for_the_waypoint_ahead_and_says_when_off_the_
     direct = Geodesic.WGS84.Inverse(last.lat_deg, last.lon_deg, 32 + 40 / 60, -17.0)["s12"] / 1852.0
     assert abs(last.to_go_nm - direct) < 1.0
     assert "nm right of the route's leg" in last.to
+    # the ETA by the ship's clocks is a time, and what it rests on a column of its own (trial finding)
+    assert str(pd.Timestamp(last.eta_ship_time))[:16] == last.eta_ship_time
+    assert last.eta_basis.startswith("ZD +1, at the day's average speed")

@@ -446,7 +446,7 @@ def _noon_lines(days, vessel) -> list[str]:
                          f"{r['speed_made_good_kn']:.1f} kn in {r['hours']:.0f} h; {r['through_water_nm']:.1f} nm "
                          f"through the water{current}")
         if r["to_go_nm"] == r["to_go_nm"]:
-            eta = f": ETA {r['eta_ship_time']}" if r["eta_ship_time"] else ""
+            eta = f": ETA {r['eta_ship_time']} ({r['eta_basis']})" if r["eta_ship_time"] else ""
             lines.append(f"      {r['to_go_nm']:.0f} nm to go to {r['to']}{eta}")
         if r["clock_changes"]:
             lines.append(f"      {r['clock_changes']}")
@@ -472,7 +472,7 @@ def noon_report_lines(row: dict) -> list[str]:
     if row["to_go_nm"] == row["to_go_nm"]:
         lines.append(f"  to go             {row['to_go_nm']:.0f} nm to {row['to']}")
         if row["eta_ship_time"]:
-            lines.append(f"  ETA               {row['eta_ship_time']}; {row['eta_utc']} UTC")
+            lines.append(f"  ETA               {row['eta_ship_time']} ({row['eta_basis']}); {row['eta_utc']} UTC")
     lines.append(f"  clocks            {row['clock_changes'] or 'unchanged since the last noon'}")
     return lines
 

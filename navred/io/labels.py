@@ -23,7 +23,7 @@ LABELS = {
     "fixes_that_day": "fixes that day", "zone": "ship's zone", "dr_to_fix_nm": "DR to fix (nm)",
     "current_set_deg": "current set (deg)", "current_drift_kn": "current drift (kn)",
     "current_95_kn": "current ±95 % (kn)", "current_note": "current from", "to": "steering for",
-    "to_go_nm": "to go (nm)", "eta_utc": "ETA (UTC)", "eta_ship_time": "ETA (ship's time)",
+    "to_go_nm": "to go (nm)", "eta_utc": "ETA (UTC)", "eta_ship_time": "ETA (ship's time)", "eta_basis": "ETA by",
     "clock_changes": "clock changes since the last noon", "ship_position": "ship's position",
     "ship_from": "ship's position from", "off_nm": "off the ship (nm)", "bearing_deg": "bearing from the ship (deg)",
     "course_working": "course: the working", "speed_working": "speed: the working",

@@ -352,7 +352,7 @@ def noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict], lines:
                "noon_from": found[k][2] + _current_words(found[k][2], unallowed, int(noon[k])), "run_nm": np.nan, "course_made_good_deg": np.nan,
                "speed_made_good_kn": np.nan, "through_water_nm": np.nan, "hours": np.nan,
                "current_set_deg": np.nan, "current_drift_kn": np.nan, "current_95_kn": np.nan, "current_note": "", "to": "", "to_go_nm": np.nan,
-               "eta_utc": "", "eta_ship_time": "", "clock_changes": clock_changes_text(clocks, previous, int(noon[k])),
+               "eta_utc": "", "eta_ship_time": "", "eta_basis": "", "clock_changes": clock_changes_text(clocks, previous, int(noon[k])),
                "fixes_that_day": count, "lat_deg": float(lat[k]), "lon_deg": float(lon[k])}
         if k:
             row.update(_days_run_columns(run, through, water_n, water_e, k, found))
@@ -436,8 +436,8 @@ def _to_go_columns(row: dict, waypoints, track: DRTrack, noon: int, clocks) -> d
     if speed > 0.1 and np.isfinite(to_go):
         eta = noon + int(round(to_go / speed * NS_PER_HOUR / NS_PER_MINUTE)) * NS_PER_MINUTE
         ship = eta - int(round(clocks.zone_at(np.array([noon]))[0] * NS_PER_HOUR))
-        out.update({"eta_utc": stamp(eta)[:16], "eta_ship_time": f"{stamp(ship)[:16]} ({row['zone']}, at {basis} "
-                                                                 f"{speed:.1f} kn)"})
+        out.update({"eta_utc": stamp(eta)[:16], "eta_ship_time": stamp(ship)[:16],
+                    "eta_basis": f"{row['zone']}, at {basis} {speed:.1f} kn"})
     return out
 
 

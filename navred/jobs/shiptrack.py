@@ -43,7 +43,7 @@ SET_DRIFT_COLUMNS = ["vessel", "fix_group", "fix_utc", "fix", "from", "hours", "
 ESTIMATED_COLUMNS = ["vessel", "fix_group", "utc", "estimated_position", "from", "note", "lat_deg", "lon_deg"]
 NOON_COLUMNS = ["vessel", "date", "zone_h", "zone", "noon_utc", "noon_position", "noon_from", "run_nm",
                 "course_made_good_deg", "speed_made_good_kn", "through_water_nm", "hours", "current_set_deg",
-                "current_drift_kn", "current_95_kn", "current_note", "to", "to_go_nm", "eta_utc", "eta_ship_time", "clock_changes",
+                "current_drift_kn", "current_95_kn", "current_note", "to", "to_go_nm", "eta_utc", "eta_ship_time", "eta_basis", "clock_changes",
                 "fixes_that_day", "lat_deg", "lon_deg"]
 EXERCISE_COLUMNS = ["vessel", "fix_group", "observer", "utc", "kind", "position", "ship_position", "ship_from",
                     "off_nm", "bearing_deg", "lat_deg", "lon_deg"]

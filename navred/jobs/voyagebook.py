@@ -240,7 +240,7 @@ def _write_noon_report_sheet(tables: TableWriter, sheet, days) -> None:
         return
     columns = ["vessel", "date", "zone", "noon_utc", "noon_position", "noon_from", "course_made_good_deg", "run_nm",
                "hours", "speed_made_good_kn", "through_water_nm", "current_set_deg", "current_drift_kn",
-               "current_95_kn", "current_note", "to", "to_go_nm", "eta_ship_time", "eta_utc", "clock_changes",
+               "current_95_kn", "current_note", "to", "to_go_nm", "eta_ship_time", "eta_basis", "eta_utc", "clock_changes",
                "lat_deg", "lon_deg"]
     write_table_sheet(tables, sheet, labelled(days.noons[columns]), first_row=3,
                       wide={"noon from": 50, "current from": 40, "clock changes since the last noon": 50,

@@ -319,6 +319,13 @@ def noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict], lines:
     log_end, last = last, last + int(NOON_WINDOW_HOURS * NS_PER_HOUR)
     clocks, how = vessel_clocks(entries, track, first, last)
     label = vessel or "the vessel"
+    rejected = getattr(voyage, "rejected", None)
+    if how.startswith("no clocks entry") and rejected is not None and len(rejected):
+        refused = rejected[rejected["column"].astype(str).str.contains("clocks")]
+        if len(refused):
+            rows = ", ".join(f"row {r}" for r in refused["row"].drop_duplicates().tolist())
+            how = (f"no clocks entry read ({rows} refused: see its reason), so " + how[len("no clocks entry: "):]
+                   if how.startswith("no clocks entry: ") else how)
     notes = [f"{label}: ship's time: {how}"]
     noon, day, zone = ship_noons(clocks, first, last)
     if not noon.size:

@@ -10,16 +10,13 @@ import openpyxl
 import pandas as pd
 import pytest
 
-from navred.figures.plotting import save_plotting_sheet
 from navred.io.exports import GPX_NAMESPACE
 from navred.io.output import atomic_write
 from navred.io.workbook import SAFETY
 from navred.jobs.chartfiles import write_voyage_geojson as write_geojson
 from navred.jobs.chartfiles import write_voyage_gpx as write_gpx
-from navred.jobs.frames import fix_position
 from navred.jobs.voyage import process_log
 from navred.jobs.voyagebook import write_workbook
-from tests.conftest import offset_position, skyfield_sight
 
 
 @pytest.fixture(scope="module")
@@ -97,47 +94,6 @@ def test_the_workbook_plans_the_next_twilight(mixed_log, tmp_path):
 def test_summary_counts(mixed_log):
     voyage = process_log(mixed_log[0])
     assert voyage.summary() == "11 sights reduced, 3 fixes, 2 rejected"
-
-
-def _lops_fix(ts, eph, names, offset=(3.0, -4.0)):
-    from navred import reduce_sights
-
-    when = pd.Timestamp("2024-09-15T19:05:00Z")
-    rows = [skyfield_sight(ts, eph, name, when + pd.Timedelta(minutes=k), 45.25, -20.5)
-            for k, name in enumerate(names)]
-    frame = pd.DataFrame(rows)
-    lat, lon = offset_position(45.25, -20.5, *offset)
-    frame["dr_lat"], frame["dr_lon"] = float(lat), float(lon)
-    reduced = reduce_sights(frame)
-    return fix_position(reduced, at_utc=when), reduced
-
-
-@pytest.mark.parametrize("names, offset", [
-    (["Vega", "Arcturus"], (3.0, -4.0)),
-    (["Vega", "Arcturus", "Antares"], (3.0, -4.0)),
-    (["Vega", "Altair", "Arcturus", "Deneb", "Antares", "Dubhe", "Kochab", "Alphecca", "Rasalhague",
-      "Eltanin", "Alkaid", "Polaris"], (3.0, -4.0)),
-    (["Vega", "Arcturus", "Antares", "Dubhe"], (60.0, 90.0)),  # a fix 110 nm from the DR
-])
-def test_plotting_sheet_renders(ts, eph, tmp_path, names, offset):
-    fix, reduced = _lops_fix(ts, eph, names, offset)
-    times = reduced.sight_utc.dt.strftime("%H:%M")
-    for suffix in ("png", "svg"):
-        save_plotting_sheet(fix, reduced.body_name, times, tmp_path / f"sheet.{suffix}",
-                            title=f"{len(names)} lines", chart=(45.25, -20.5))
-    from PIL import Image
-
-    with Image.open(tmp_path / "sheet.png") as png:  # a real picture, at the size asked, with lines drawn on it
-        assert png.format == "PNG" and png.size == (880, 880)
-        assert len(png.convert("RGB").getcolors(1 << 20)) > 50
-    svg = (tmp_path / "sheet.svg").read_text()
-    root = ET.fromstring(svg)
-    assert root.tag == "{http://www.w3.org/2000/svg}svg"  # well-formed SVG (W3C SVG 1.1)
-    assert len(root.findall("{http://www.w3.org/2000/svg}polyline")) >= len(names)
-    plotted = set(reduced.body_name[np.isfinite(fix.lop_intercept_nm)])
-    assert len(plotted) == len(names)
-    assert all(f">{name} " in svg for name in plotted)  # every line is labelled with its body
-    assert "nautical mile" in svg and ">N<" in svg and ">DR<" in svg and "fix " in svg
 
 
 def test_gpx_and_geojson_exports(tmp_path):

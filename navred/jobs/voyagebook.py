@@ -152,8 +152,10 @@ def _plotting_sheets_below(fixes_sheet, voyage, anchor_row: int, pictures: Pictu
         write_text_safe(fixes_sheet.cell(row=anchor_row - 1, column=1), note)
         anchor_row += 1
     for group in shown:
-        add_figure(fixes_sheet, plotting_figure(voyage, group), f"A{anchor_row}", 560, 560)
-        anchor_row += 30
+        figure = plotting_figure(voyage, group)
+        height = round(560 * figure.height / figure.width)  # the sheet's notes make some taller than others
+        add_figure(fixes_sheet, figure, f"A{anchor_row}", 560, height)
+        anchor_row += height // 20 + 2
 
 
 def _write_timepieces_sheet(tables: TableWriter, sheet, voyage) -> None:

@@ -85,7 +85,7 @@ SIGHT_COLUMNS = [
     "zone_date_used", "zone_time_corrected", "zone_description_used_h", "greenwich_date", "body_name", "limb",
     "hs_deg", "index_error_arcmin", "eye_height_m", "eye_height_as_given", "horizon", "waterline_distance_nm",
     "measured_dip_arcmin", "temperature_c",
-    "temperature_as_given", "pressure_hpa", "pressure_as_given", "dr_lat_deg", "dr_lon_deg", "course_deg",
+    "temperature_as_given", "pressure_hpa", "pressure_as_given", "assumed", "dr_lat_deg", "dr_lon_deg", "course_deg",
     "speed_kn", "dut1_given_s", "fix_group", "fix_group_given", "chart_lat_deg", "chart_lon_deg", "vessel",
     "observer", "voyage", "series", "read_problem", "read_problem_column", "dr_carried_from", "motion_carried_from",
 ]
@@ -488,6 +488,7 @@ def _sight_table(n, sources, rows, parsed, gathered, times, message, where) -> p
         "measured_dip_arcmin": numbers("measured_dip"),
         "temperature_c": numbers("temperature"), "temperature_as_given": as_given("temperature"),
         "pressure_hpa": numbers("pressure"), "pressure_as_given": as_given("pressure"),
+        "assumed": assumed_defaults(parsed, n),
         "dr_lat_deg": numbers("dr_lat"), "dr_lon_deg": numbers("dr_lon"),
         "course_deg": numbers("course"), "speed_kn": numbers("speed"), "dut1_given_s": numbers("dut1"),
         "fix_group": words(parsed["fix_group"]), "fix_group_given": parsed["fix_group"].ok,
@@ -496,6 +497,24 @@ def _sight_table(n, sources, rows, parsed, gathered, times, message, where) -> p
         "voyage": words(parsed["voyage"]), "series": words(parsed["series"]),
         "read_problem": message, "read_problem_column": where,
     })
+
+
+#: The log's quantities whose default a sight may take (vocabulary.COLUMNS), as a working names them and
+#: the unit it writes
+ASSUMED = (("index_error", "index error", "′"), ("temperature", "temperature", " °C"), ("pressure", "pressure", " hPa"))
+
+
+def assumed_defaults(parsed, n: int) -> np.ndarray:
+    """What each sight took as its default because the log left it blank, in words ('index error 0′;
+    temperature 10 °C'), '' where nothing was assumed: a value assumed is never shown as observed."""
+    out = np.full(n, "", dtype=object)
+    for key, name, unit in ASSUMED:
+        blank = ~parsed[key].ok
+        if blank.any():
+            default = COLUMN[key].default
+            text = f"{name} {default:g}{unit}"
+            out[blank] = np.where(out[blank] == "", text, out[blank] + "; " + text)
+    return out
 
 
 def _extra_name(header: str) -> str:

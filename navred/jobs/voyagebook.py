@@ -32,13 +32,28 @@ from ..io.workbook import (
 )
 from ..io.xlsxtables import TableWriter
 from .plotfiles import plotting_figure
-from .voyagetables import fixes_table, plan_table, rejected_table, series_table, working_table
+from .voyagetables import (
+    fixes_table,
+    hand_working_table,
+    plan_table,
+    rejected_table,
+    series_table,
+    working_table,
+)
 
 #: What each sheet holds, on the About sheet.
 SHEETS = (
     ("Sights as read", "every row of the log, exactly as it was read"),
     ("Working", "one row per reduced sight: every correction from Hs to Ho, GHA, Dec, LHA, Hc, Zn, "
-                "the intercept, the residual at the fix and any flag (angles as ° ′ with decimal degrees beside)"),
+                "the intercept, the residual at the fix and any flag (angles as ° ′ with decimal degrees beside; "
+                "a temperature, pressure or index error the log left blank is shown as assumed, '10 °C "
+                "assumed'; a blank says why)"),
+    ("Working by hand", "the Working sheet's sights worked again in the order and rounding of a hand working from "
+                        "an assumed position, as a sight book sets it out: GHA at the whole hour (of Aries for a "
+                        "star), increment, v and its correction, SHA, Dec at the whole hour, d and its correction, "
+                        "HP; Hs, IC, dip, Ha, the main correction, Ho; the assumed position, LHA, the tables' "
+                        "Hc, d and Z, the d correction of Hc, Hc, Z and Zn, and the intercept from the assumed "
+                        "position (a cadet checks a page against it line by line)"),
     ("Fixes", "one row per fix group: position, 95 % ellipse (its full size, then its semi-axes), sight error, "
               "what the blunder check can find, sights left out as gross errors (with the fix from every "
               "sight beside it), flagged sights, chart check; the plotting sheets below the table. The 95 % "
@@ -84,6 +99,7 @@ def write_workbook(voyage, path: str | Path, *, plots: bool | Pictures = True, t
     _write_about_sheet(book, voyage)
     write_table_sheet(tables, book.create_sheet("Sights as read"), voyage.raw)
     write_table_sheet(tables, book.create_sheet("Working"), working_table(voyage), flag_column="flags")
+    write_table_sheet(tables, book.create_sheet("Working by hand"), hand_working_table(voyage))
     fixes_sheet = book.create_sheet("Fixes")
     fixes = fixes_table(voyage)
     write_table_sheet(tables, fixes_sheet, fixes, wide={"note": 80, "σ from": 30})

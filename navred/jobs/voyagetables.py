@@ -38,7 +38,9 @@ def working_table(voyage) -> pd.DataFrame:
     residual = np.full(len(reduced), np.nan)
     flagged = np.zeros(len(reduced), dtype=bool)
     left_out = np.zeros(len(reduced), dtype=bool)
+    no_residual = np.full(len(reduced), "not in a fix group", dtype=object)
     for group in voyage.groups:
+        no_residual[group.rows] = f"no fix: {group.problem}" if group.fix is None else "not used by the fix"
         if group.fix is not None:
             residual[group.rows] = group.fix.residual_arcmin
             flagged[group.rows] = group.fix.outlier
@@ -46,7 +48,7 @@ def working_table(voyage) -> pd.DataFrame:
                 left_out[group.rows] = group.fix.left_out
     ok = reduced.status.to_numpy() != SightStatus.ERROR
     r = reduced[ok].reset_index(drop=True)
-    residual, flagged, left_out = residual[ok], flagged[ok], left_out[ok]
+    residual, flagged, left_out, no_residual = residual[ok], flagged[ok], left_out[ok], no_residual[ok]
     notes = [("; ".join(x for x in (("BLUNDER: a gross error, LEFT OUT of the fix" if g else
                                      "BLUNDER? flagged by the fix" if f else ""), m) if x))
              for f, g, m in zip(flagged, left_out, r.message.astype(str))]
@@ -65,10 +67,10 @@ def working_table(voyage) -> pd.DataFrame:
         "Hs (° ′)": format_angle(r.hs_deg.to_numpy(dtype=float), "signed"),
         "Hs (deg)": r.hs_deg,
         "horizon": r.horizon,
-        "index error (′, on +)": r.index_error_arcmin,
+        "index error (′, on +)": assumed_cells(r.index_error_arcmin, r.assumed, "index error", "′"),
         "height of eye (m)": r.eye_height_m,
-        "temperature (°C)": r.temperature_c,
-        "pressure (hPa)": r.pressure_hpa,
+        "temperature (°C)": assumed_cells(r.temperature_c, r.assumed, "temperature", " °C"),
+        "pressure (hPa)": assumed_cells(r.pressure_hpa, r.assumed, "pressure", " hPa"),
         "IC (′)": r.ic_arcmin,
         "horizon (′)": r.horizon_arcmin,
         "dip (′)": r.dip_arcmin,
@@ -89,15 +91,26 @@ def working_table(voyage) -> pd.DataFrame:
         "LHA (° ′)": format_angle(r.lha_deg.to_numpy(dtype=float), "angle"),
         "Hc (° ′)": format_angle(r.hc_deg.to_numpy(dtype=float), "signed"),
         "Hc (deg)": r.hc_deg,
-        "Zn (deg)": r.zn_deg,
+        "Zn (deg true)": r.zn_deg,
         "intercept (nm)": r.intercept_nm.abs(),
         "TOWARD/AWAY": r.intercept_direction,
-        "residual at fix (′)": residual,
+        "residual at fix (′)": np.where(np.isfinite(residual), residual.astype(object), no_residual),
         "DUT1 (s)": r.dut1_s,
         "UT1 source": r.ut1_source,
-        "flags": notes,
+        "flags": [n or "none" for n in notes],
     })
     return _with_columns_used(table, r, voyage.log.extra_columns)
+
+
+def assumed_cells(values: pd.Series, assumed: pd.Series, name: str, unit: str) -> np.ndarray:
+    """A column of the working whose default a sight took where the log left it blank: the number where the
+    log gave it, the words '10 °C assumed' where the default was taken (never shown as observed)."""
+    taken = assumed.astype(str).str.contains(f"{name} ", regex=False).to_numpy()
+    numbers = values.to_numpy(dtype=float)
+    if not taken.any():
+        return numbers
+    return np.array([f"{v:g}{unit} assumed" if t else v for v, t in zip(numbers.tolist(), taken.tolist())],
+                    dtype=object)
 
 
 def _with_columns_used(table: pd.DataFrame, r: pd.DataFrame, extra_columns) -> pd.DataFrame:
@@ -132,7 +145,116 @@ def _with_columns_used(table: pd.DataFrame, r: pd.DataFrame, extra_columns) -> p
     return table
 
 
+def hand_working_table(voyage) -> pd.DataFrame:
+    """The Working sheet's second view: each reduced sight worked as a cadet works it by hand from an assumed
+    position (:func:`navred.handworking.hand_working`), in the order of the sight book's lines and their
+    rounding: the time, the almanac (GHA at the whole hour, of Aries for a star, increment, v, SHA, Dec at
+    the whole hour, d, HP), the altitude (Hs, IC, dip, Ha, the main correction, Ho), the assumed position and
+    LHA, the tables (tabulated Hc, d and Z), Hc, Zn and the intercept from the AP. The same sights, Ho and
+    almanac as the Working sheet."""
+    from ..handworking import hand_working
+
+    reduced = voyage.reduced
+    r = reduced[reduced.status.to_numpy() != SightStatus.ERROR].reset_index(drop=True)
+    if not len(r):
+        return pd.DataFrame()
+    w = hand_working(r.sight_utc.dt.tz_convert(None).to_numpy(dtype="datetime64[ns]"), r.body_name.to_numpy(),
+                     r.ho_deg.to_numpy(dtype=float), r.dr_lat_deg.to_numpy(dtype=float),
+                     r.dr_lon_deg.to_numpy(dtype=float), r.dut1_s.to_numpy(dtype=float))
+    star = w.kind == "star"
+    ha = r.ha_deg.to_numpy(dtype=float)
+    ho = r.ho_deg.to_numpy(dtype=float)
+    main = (ho - ha) * 60.0  # refraction, SD, parallax and phase together, as the almanac's tables give them
+
+    def angle(values, kind="angle"):
+        return format_angle(np.asarray(values, dtype=float), kind)
+
+    return pd.DataFrame({
+        **_row_columns(voyage, r),
+        "fix group": r["fix_group"].astype(str),
+        "body": r.body_name,
+        "UTC": [utc_cell(v) for v in r.sight_utc.dt.tz_convert(None).to_numpy()],
+        "GHA at the whole hour (Aries for a star) (° ′)": angle(w.gha_hour_deg),
+        "GHA increment (′)": w.increment_arcmin,
+        "v (′)": np.where(np.isfinite(w.v_arcmin), w.v_arcmin.astype(object), "Sun or star"),
+        "v correction (′)": np.where(np.isfinite(w.v_correction_arcmin), w.v_correction_arcmin.astype(object),
+                                     "Sun or star"),
+        "SHA (° ′)": np.where(star, angle(w.sha_deg), "not a star"),
+        "GHA (° ′)": angle(w.gha_deg),
+        "Dec at the whole hour (° ′)": np.where(star, "a star", angle(w.dec_hour_deg, "dec")),
+        "d (′, Dec growing north +)": np.where(star, "a star", w.d_arcmin.astype(object)),
+        "d correction (′)": np.where(star, "a star", w.d_correction_arcmin.astype(object)),
+        "Dec (° ′)": angle(w.dec_deg, "dec"),
+        "HP (′)": np.where(star, "a star", w.hp_arcmin.astype(object)),
+        "Hs (° ′)": angle(r.hs_deg, "signed"),
+        "IC (′)": r.ic_arcmin.to_numpy(dtype=float),
+        "dip (′)": r.dip_arcmin.to_numpy(dtype=float) + r.horizon_arcmin.to_numpy(dtype=float),
+        "Ha (° ′)": angle(ha, "signed"),
+        "main correction (′)": main,
+        "Ho (° ′)": angle(w.ho_deg, "signed"),
+        "AP lat (° ′)": angle(w.ap_lat_deg, "lat"),
+        "AP lon (° ′)": angle(w.ap_lon_deg, "lon"),
+        "LHA (°)": [f"{v:03.0f}°" for v in w.lha_deg.tolist()],
+        "tables' Dec (°)": [f"{abs(v):.0f}° {'N' if v >= 0 else 'S'}" for v in w.tab_dec_deg.tolist()],
+        "tabulated Hc (° ′)": angle(w.tab_hc_deg, "signed"),
+        "tables' d (′)": w.tab_d_arcmin,
+        "tabulated Z (deg)": w.tab_z_deg,
+        "d correction of Hc (′)": w.hc_correction_arcmin,
+        "Hc (° ′)": angle(w.hc_deg, "signed"),
+        "Z interpolated (deg)": w.z_deg,
+        "Zn (deg true)": w.zn_deg,
+        "intercept (nm)": np.abs(w.intercept_nm),
+        "TOWARD/AWAY": np.where(w.intercept_nm >= 0, "TOWARD", "AWAY"),
+    })
+
+
+#: Why a cell of the Fixes sheet is blank, by column: a cell is never left blank without a word.
+FIXES_BLANK = {
+    "major axis (deg true)": "a line: no ellipse", "line bearing (deg true)": "a fix: not a line",
+    "line from DR (nm)": "a fix: not a line", "the ellipse's size": "enough sights to judge their error by",
+    "left out (gross errors)": "none", "flagged sights": "none", "fix from every sight (° ′)": "nothing left out",
+    "fix without flagged (° ′)": "nothing flagged", "chart position (° ′)": "none given",
+    "chart distance (nm)": "no chart position", "chart bearing (deg true)": "no chart position",
+    "chart inside 95 % ellipse": "no chart position", "noon curve latitude (° ′)": "no noon series",
+    "course made good (deg)": "not solved (navred workbook --solve-motion)",
+    "speed made good (kn)": "not solved (navred workbook --solve-motion)", "blunder check": "none",
+    "angle of cut (deg)": "one line", "note": "none",
+}
+#: Columns of the Fixes sheet that belong to a feature of some logs only: left out when no row has one.
+FIXES_OPTIONAL = ("line bearing (deg true)", "line from DR (nm)", "noon curve latitude (° ′)",
+                  "fix from every sight (° ′)", "fix without flagged (° ′)", "chart position (° ′)",
+                  "chart distance (nm)", "chart bearing (deg true)", "chart inside 95 % ellipse",
+                  "course made good (deg)", "speed made good (kn)")
+
+
+def _blank(value) -> bool:
+    return value is None or (isinstance(value, float) and not np.isfinite(value)) or value == ""
+
+
+def with_reasons(table: pd.DataFrame, reasons: dict[str, str], optional=()) -> pd.DataFrame:
+    """A sheet's table with every blank cell of a column in ``reasons`` saying why it is blank, and the
+    ``optional`` columns that are blank in every row left out."""
+    out = table.copy()
+    for column in optional:
+        if column in out and all(_blank(v) for v in out[column].tolist()):
+            out = out.drop(columns=[column])
+    for column, reason in reasons.items():
+        if column in out:
+            values = out[column].astype(object).tolist()
+            out[column] = pd.Series([reason if _blank(v) else v for v in values], index=out.index, dtype=object)
+    return out
+
+
+def _no_fix_row(voyage, group) -> dict:
+    """A fix group with no fix: its time (its last sight's) and, in the kind, why there is none."""
+    utc = voyage.reduced.sight_utc.iloc[group.rows].max() if len(group.rows) else None
+    return {"fix group": group.name, "UTC": utc_cell(utc.tz_convert(None).to_datetime64()) if utc is not None else None,
+            "kind": f"no fix: {group.problem}", "sights used": 0}
+
+
 def fixes_table(voyage) -> pd.DataFrame:
+    """One row per fix group as the Fixes sheet shows it: positions in degrees and minutes beside decimal
+    degrees, the ellipse, the angle of cut (0°-90°), the checks; a blank cell says why it is blank."""
     labels = row_labels(voyage.reduced) if len(voyage.reduced) else np.zeros(0, dtype=str)
     rows = []
     # every position's text at once (one call per kind, not four per group)
@@ -155,7 +277,7 @@ def fixes_table(voyage) -> pd.DataFrame:
     for group in voyage.groups:
         fix = group.fix
         if fix is None:
-            rows.append({"fix group": group.name, "UTC": "", "note": f"no fix: {group.problem}"})
+            rows.append(_no_fix_row(voyage, group))
             continue
         left = fix.left_out if fix.left_out.size == len(group.rows) else np.zeros(len(group.rows), dtype=bool)
         outliers = ", ".join(labels[group.rows[i]] for i in np.flatnonzero(fix.outlier & ~left))
@@ -172,10 +294,10 @@ def fixes_table(voyage) -> pd.DataFrame:
             "σ from": fix.sigma_source,
             "standard error (nm)": fix.standard_error_nm,
             "95 % ellipse (full size)": fix.ellipse_text(),
-            "95 % semi-major (nm)": fix.ellipse_semi_major_nm,
+            "95 % semi-major (nm)": fix.ellipse_semi_major_nm if fix.is_fix else None,
             "95 % semi-minor (nm)": fix.ellipse_semi_minor_nm,
             "major axis (deg true)": fix.ellipse_orientation_deg if fix.is_fix else None,
-            "lines cross at (deg)": fix.spread_deg,
+            "angle of cut (deg)": fix.angle_of_cut_deg,
             "ellipse scaled by": f"{fix.quantile} quantile" + (", DR error over the run included"
                                                                if fix.dr_error_included else ""),
             "the ellipse's size": fix.ellipse_note,
@@ -199,7 +321,18 @@ def fixes_table(voyage) -> pd.DataFrame:
             "speed made good (kn)": fix.speed_made_good_kn,
             "note": "; ".join(fix.warnings + ([group.chart_note] if group.chart_note else [])),
         })
-    return pd.DataFrame(rows)
+    table = pd.DataFrame(rows)
+    if table.empty:
+        return table
+    no_fix = table["kind"].astype(str).str.startswith("no fix").to_numpy()
+    reasons = {column: reason for column, reason in FIXES_BLANK.items()}
+    shown = with_reasons(table, reasons, FIXES_OPTIONAL)
+    # a group with no fix: the kind says why; its other cells say so too
+    if no_fix.any():
+        for column in shown.columns:
+            if column not in ("fix group", "UTC", "kind", "sights used"):
+                shown[column] = shown[column].astype(object).where(~no_fix, "no fix")
+    return shown
 
 
 def rejected_table(voyage) -> pd.DataFrame:

@@ -101,6 +101,24 @@ class Instants:
         """UTC as numpy datetime64[ns]; a leap second 23:59:60.x is shown as 23:59:59.999999999."""
         return utc_jd_to_datetime64(self.utc1, self.utc2)
 
+    def utc_text(self, decimals: int = 3) -> np.ndarray:
+        """UTC as ISO 8601 text ('2016-12-31T23:59:60.500', no zone), to ``decimals`` of a second; a leap
+        second is written as the :60 it is (ERFA's d2dtf, the UTC calendar of the leap-second table), never
+        as 23:59:59.999.
+
+        >>> instants(np.array(["2016-12-31T23:59:60.5Z"], dtype=object)).utc_text(1).tolist()
+        ['2016-12-31T23:59:60.5']
+        """
+        import erfa
+
+        year, month, day, hmsf = erfa.d2dtf("UTC", decimals, np.atleast_1d(self.utc1), np.atleast_1d(self.utc2))
+        fields = hmsf.view(np.int32).reshape(-1, 4) if hmsf.dtype.names is None else np.stack(
+            [hmsf[name] for name in hmsf.dtype.names], axis=-1).reshape(-1, 4)
+        texts = [f"{y:04d}-{m:02d}-{d:02d}T{h:02d}:{mi:02d}:{sec:02d}" + (f".{frac:0{decimals}d}" if decimals else "")
+                 for y, m, d, (h, mi, sec, frac) in zip(year.ravel().tolist(), month.ravel().tolist(),
+                                                         day.ravel().tolist(), fields.tolist())]
+        return np.array(texts, dtype=object).reshape(np.shape(self.utc1))
+
     def __getitem__(self, index) -> Instants:
         return Instants(*(np.asarray(getattr(self, f))[index] for f in INSTANT_FIELDS))
 
@@ -236,6 +254,16 @@ def offset_minutes(zone: str) -> float:
         raise TimeInputError(f"UTC offset {zone!r} is not a real one: offsets lie within ±14:00 and their "
                              "minutes below 60")
     return float((hours * 60 + minutes) * (-1 if match.group(1) == "-" else 1))
+
+
+def iso_zone_missing(text: str) -> bool:
+    """Whether ISO 8601 date-time text gives no zone (no Z and no offset); False for anything else.
+
+    >>> iso_zone_missing("2026-03-26 19:41:00"), iso_zone_missing("2026-03-26T19:41:00Z")
+    (True, False)
+    """
+    match = _ISO.match(text)
+    return bool(match) and match.group(7) is None
 
 
 def _components_from_one(value, index) -> tuple:

@@ -27,7 +27,7 @@ def mixed_log(tmp_path_factory):
     folder = tmp_path_factory.mktemp("log")
     demo = pd.read_csv("sample_sights/demo_sights.csv", dtype=str, keep_default_na=False)
     bad = demo.iloc[[5, 6]].copy()
-    bad.iloc[0, bad.columns.get_loc("utc")] = "2026-03-26T19:41:00"  # no zone
+    bad.iloc[0, bad.columns.get_loc("utc")] = "2026-03-26T19:41:00+25:00"  # no such zone
     bad.iloc[1, bad.columns.get_loc("body")] = "Betelguese"
     log = pd.concat([demo.iloc[:6], bad, demo.iloc[6:]], ignore_index=True)
     path = folder / "mixed.csv"
@@ -52,7 +52,7 @@ def test_every_input_row_is_in_the_workbook_and_values_read_back(mixed_log, tmp_
     assert reduced_rows | rejected_rows == set(range(2, n_rows + 2))
     assert not reduced_rows & rejected_rows
     assert rejected_rows == {8, 9}
-    assert any("no time zone" in r for r in rejected.reason) and any("closest" in r for r in rejected.reason)
+    assert any("not a real one" in r for r in rejected.reason) and any("closest" in r for r in rejected.reason)
     # values read back with openpyxl equal what was computed
     computed = voyage.reduced[voyage.reduced.status != "error"].reset_index(drop=True)
     assert np.allclose(working["Ho (deg)"].astype(float), computed.ho_deg)
@@ -293,3 +293,30 @@ def test_defaults_are_shown_as_assumed_and_no_zero_is_signed(tmp_path):
                         decimals = len(form.split(".")[1]) if "." in form else 0
                         shown = f"{cell.value:.{decimals}f}"
                         assert not (shown.startswith("-") and float(shown) == 0.0), (name, cell.coordinate, cell.value)
+
+
+def test_every_header_a_person_reads_is_in_the_trades_words(tmp_path):
+    """Every table's header on every sheet is a display label (words and a unit, 'personal error (′)'), never a
+    program's snake_case name (error_arcmin), except the log's own columns, shown as the log names them (the
+    Sights as read sheet, and a log's extra columns carried along)."""
+    from navred.io.timesignals import read_rating_log
+    from navred.jobs.training import train_log
+
+    run = train_log("sample_sights/training_sights.csv", "sample_sights/training_track.gpx")
+    books = [(write_workbook(run.voyage, tmp_path / "t.xlsx", plots=False, training=run.report), run.voyage)]
+    rates = read_rating_log("sample_sights/passage_time_signals.csv")
+    passage = process_log("sample_sights/passage_log_chronometer.csv", rates=rates)
+    books.append((write_workbook(passage, tmp_path / "p.xlsx", plots=False), passage))
+    for path, voyage in books:
+        book = openpyxl.load_workbook(path)
+        own = set(voyage.log.extra_columns)
+        for sheet in book.worksheets:
+            if sheet.title == "Sights as read":
+                continue
+            for row in sheet.iter_rows():
+                for cell in row:
+                    header = cell.fill is not None and str(cell.fill.fgColor.rgb).endswith("1D3557")
+                    if header and isinstance(cell.value, str) and cell.value not in own:
+                        assert not re.fullmatch(r"[a-z0-9]+(_[a-z0-9]+)+", cell.value), (sheet.title, cell.value)
+        assert "Training" not in book.sheetnames or any(
+            c.value == "personal error (′)" for row in book["Training"].iter_rows() for c in row)

@@ -56,6 +56,7 @@ from .logcells import (
     parse_key,
     with_decimal_point,
     words,
+    zoneless_utc,
 )
 from .logdr import (
     ENTRY_COLUMNS,
@@ -390,9 +391,26 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
     rejected["row"] = rejected["row"].astype(int)
     if not sight_row.all():
         table = table[sight_row].reset_index(drop=True)
-    notes = tuple(dict.fromkeys(note for layout in layouts for note in layout.notes))
+    notes = tuple(dict.fromkeys([note for layout in layouts for note in layout.notes]
+                                + _zone_notes(gathered["utc"], parsed["utc"].ok & sight_row, dates, sources, rows)))
     return SightLog(table, rejected, tuple(t.source for t in tables), sum(t.empty_rows for t in tables), dates,
                     tuple(names), tuple(tables), entries=entries, notes=notes)
+
+
+def _zone_notes(cells, ok, dates, sources, rows) -> list[str]:
+    """The note on instants of the utc column that give no zone (taken as UTC, as the column's name says)."""
+    zoneless = zoneless_utc(cells.values, ok, dates)
+    if not zoneless.any():
+        return []
+    several = len(set(sources.tolist())) > 1
+    named = [f"{Path(str(s)).name} row {r}" if several else f"row {r}" for s, r in
+             zip(sources[zoneless].tolist(), rows[zoneless].tolist())]
+    shown = ", ".join(named[:5]) + (f" and {len(named) - 5} more" if len(named) > 5 else "")
+    count = len(named)
+    return [f"{count} instant{'s' if count > 1 else ''} in the utc column give{'' if count > 1 else 's'} no zone "
+            f"({shown}): taken as UTC, as the column's name says, whether written as text or as a spreadsheet "
+            "date-time cell; if the log holds ship's time, give date, zone_time and zone_description instead "
+            "(write Z, 2026-03-26T19:41:00Z, to say UTC)"]
 
 
 def _tabled(n, sources, rows, parsed, gathered, times, problems, by_reader, dr, motion_note, entry, is_entry):

@@ -27,6 +27,7 @@ from ..io.workbook import (
     front_sheet,
     new_tables,
     pictures_below,
+    utc_cell,
     write_table_sheet,
     write_text_safe,
 )
@@ -234,7 +235,8 @@ def _write_training_sheet(tables: TableWriter, sheet, report, pictures: Pictures
                report.observers),
               ("By kind of body", report.by_body), ("Fixes against the reference track", report.fixes),
               ("Every sight: error = Ho − Hc at the reference position",
-               report.sights.assign(sight_utc=report.sights.sight_utc.dt.strftime("%Y-%m-%d %H:%M:%S")))]
+               report.sights.assign(sight_utc=[utc_cell(v) for v in
+                                               report.sights.sight_utc.dt.tz_convert(None).to_numpy()]))]
     problems = getattr(report, "track_problems", None)
     if problems is not None and len(problems):
         where = "point" if str(getattr(report, "track_source", "")).lower().endswith(".gpx") else "line"

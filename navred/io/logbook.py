@@ -86,7 +86,7 @@ SIGHT_COLUMNS = [
     "zone_date_used", "zone_time_corrected", "zone_description_used_h", "greenwich_date", "body_name", "limb",
     "hs_deg", "index_error_arcmin", "eye_height_m", "eye_height_as_given", "horizon", "waterline_distance_nm",
     "measured_dip_arcmin", "temperature_c",
-    "temperature_as_given", "pressure_hpa", "pressure_as_given", "assumed", "dr_lat_deg", "dr_lon_deg", "course_deg",
+    "temperature_as_given", "pressure_hpa", "pressure_as_given", "assumed", "sigma_arcmin", "dr_lat_deg", "dr_lon_deg", "course_deg",
     "speed_kn", "dut1_given_s", "fix_group", "fix_group_given", "chart_lat_deg", "chart_lon_deg", "vessel",
     "observer", "voyage", "series", "read_problem", "read_problem_column", "dr_carried_from", "motion_carried_from",
 ]
@@ -98,7 +98,8 @@ _OUTPUT_COLUMNS = {"sight_utc": "utc", "body_name": "body", "limb": "limb", "hs_
                    "temperature_c": "temperature", "pressure_hpa": "pressure", "dr_lat_deg": "dr_lat",
                    "dr_lon_deg": "dr_lon", "course_deg": "course", "speed_kn": "speed", "dut1_given_s": "dut1",
                    "fix_group": "fix_group", "chart_lat_deg": "chart_lat", "chart_lon_deg": "chart_lon",
-                   "vessel": "vessel", "observer": "observer", "voyage": "voyage", "series": "series"}
+                   "vessel": "vessel", "observer": "observer", "voyage": "voyage", "series": "series",
+                   "sigma_arcmin": "sigma"}
 _OUTPUT_UNITS = {"eye_height": "m", "temperature": "c", "pressure": "hpa"}
 
 
@@ -506,7 +507,7 @@ def _sight_table(n, sources, rows, parsed, gathered, times, message, where) -> p
         "measured_dip_arcmin": numbers("measured_dip"),
         "temperature_c": numbers("temperature"), "temperature_as_given": as_given("temperature"),
         "pressure_hpa": numbers("pressure"), "pressure_as_given": as_given("pressure"),
-        "assumed": assumed_defaults(parsed, n),
+        "assumed": assumed_defaults(parsed, n), "sigma_arcmin": numbers("sigma"),
         "dr_lat_deg": numbers("dr_lat"), "dr_lon_deg": numbers("dr_lon"),
         "course_deg": numbers("course"), "speed_kn": numbers("speed"), "dut1_given_s": numbers("dut1"),
         "fix_group": words(parsed["fix_group"]), "fix_group_given": parsed["fix_group"].ok,

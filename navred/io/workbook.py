@@ -21,7 +21,7 @@ from .xlsxtables import TableWriter, safe_text
 SAFETY = ("SAFETY OF NAVIGATION: navred is an aid to navigation, not a sole means of navigation. "
           "Verify against the official nautical almanac and the publications of your flag state; "
           "keep a DR plot and cross-check every fix with every other means; low sights (below "
-          "about 10°) and Moon sights carry larger errors; defer to local regulations, the "
+          "5° of altitude) and Moon sights carry larger errors; defer to local regulations, the "
           "ship's master and licensed practice.")
 
 _HEADER_FILL = "1D3557"

@@ -126,6 +126,10 @@ def _with_columns_used(table: pd.DataFrame, r: pd.DataFrame, extra_columns) -> p
                                  ("phase_angle_deg", "phase angle (deg)", "phase (′)")):
         if np.isfinite(r[column].to_numpy(dtype=float)).any():
             table.insert(table.columns.get_loc(after), label, r[column].to_numpy(dtype=float))
+    sigma = r["sigma_arcmin"].to_numpy(dtype=float) if "sigma_arcmin" in r.columns else np.zeros(0)
+    if np.isfinite(sigma).any():  # the log weights some sights: each one's σ, as the fix weighs it
+        table.insert(table.columns.get_loc("residual at fix (′)"), "sight σ given (′)",
+                     np.where(np.isfinite(sigma), sigma.astype(object), "not given: as any sight"))
     rated = r.watch_error_from.astype(str).to_numpy()
     if ((rated != "") & (rated != "given")).any():
         table.insert(table.columns.get_loc("watch error (s, fast +)") + 1, "watch error from", rated)

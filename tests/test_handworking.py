@@ -145,7 +145,7 @@ def test_the_working_by_hand_sheet_is_the_same_reduction(ts, eph, tmp_path):
     hand = pd.DataFrame(values[1:], columns=values[0])
     working = pd.DataFrame(list(book["Working"].values)[1:], columns=list(book["Working"].values)[0])
     assert list(hand["body"]) == [b for b, _ in bodies]
-    assert list(hand.columns[3:8]) == ["UTC", "GHA at the whole hour (Aries for a star) (° ′)", "GHA increment (′)",
+    assert list(hand.columns[3:8]) == ["UTC", "GHA at the whole hour (Aries for a star) (° ′)", "GHA increment (° ′)",
                                        "v (′)", "v correction (′)"]
     assert hand["Ho (° ′)"].tolist() == working["Ho (° ′)"].tolist()  # the same reduction
     for row, (name, _) in zip(hand.to_dict("records"), bodies):

@@ -600,9 +600,10 @@ def _footer(sheet, frame: _Frame, lops: list[_Lop], listed: list[_Lop]) -> None:
         y = _text_lines(sheet, MARGIN_PT, y, f"{where}: {lop.label}", 7, lop.colour, width, kind="line list")
     y = _key(sheet, y + 6.0, {item.kind for item in sheet.items if item.kind}, lops)
     if any(lop.moved for lop in lops):
-        text = ("A line marked » was moved by the run to the fix time: advanced from its sight's time (or retired), "
-                "labelled with both times; where the sheet holds it, the line at its own time is dotted and the run "
-                "that moved it is an arrow.")
+        text = ("A line with a double chevron was moved by the ship's run to the fix time, the chevron pointing the "
+                "way: advanced from its sight's time (or retired), labelled with both times.")
+        if any(lop.before is not None for lop in lops):
+            text += " Dotted: a running fix's line at its own time; the green arrow: the run that advanced it."
         y = _text_lines(sheet, MARGIN_PT, y, text, 7, INK, width, kind="key")
     y = _text_lines(sheet, MARGIN_PT, y, "Each line: body, sight time (→ time moved to), intercept toward (T) or away "
                     "(A) from the DR, Zn. The thin line from the DR to each line of position is its intercept along "

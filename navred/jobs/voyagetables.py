@@ -179,7 +179,7 @@ def hand_working_table(voyage) -> pd.DataFrame:
         "body": r.body_name,
         "UTC": [utc_cell(v) for v in r.sight_utc.dt.tz_convert(None).to_numpy()],
         "GHA at the whole hour (Aries for a star) (° ′)": angle(w.gha_hour_deg),
-        "GHA increment (′)": w.increment_arcmin,
+        "GHA increment (° ′)": angle(w.increment_arcmin / 60.0, "signed"),
         "v (′)": np.where(np.isfinite(w.v_arcmin), w.v_arcmin.astype(object), "Sun or star"),
         "v correction (′)": np.where(np.isfinite(w.v_correction_arcmin), w.v_correction_arcmin.astype(object),
                                      "Sun or star"),

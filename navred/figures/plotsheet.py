@@ -40,6 +40,7 @@ from .symbols import (
     INK,
     PAPER,
     SHEET_PT,
+    check_fix_symbol,
     dr_symbol,
     ep_symbol,
     every_sight_symbol,
@@ -234,19 +235,36 @@ def _header(sheet, placer, fix, sights, rows, left_out, title, frame) -> float:
 
 
 def _warnings(fix, sights, rows, left_out, frame) -> list[str]:
-    """What the sheet must say before anything is plotted from it: sights left out, the fix's own warnings,
-    a DR far enough off that straight lines are only approximate."""
+    """What the sheet must say before anything is plotted from it: a round that cannot be trusted, sights left
+    out (and why), a flagged sight's check fix, the fix's other warnings, a DR far enough off that straight
+    lines are only approximate."""
+    from ..triangle import distance_bearing
+
     out = []
+    warnings = list(fix.warnings)
+    if fix.untrusted:
+        out += [w for w in warnings if w.startswith("CANNOT BE TRUSTED")] or [
+            f"CANNOT BE TRUSTED as the position to plot: {fix.untrusted}"]
     every = fix.all_sights
     if every is not None and left_out.any():
-        from ..triangle import distance_bearing
-
+        n = len(sights.body)
+        by_test = (np.asarray(fix.blunder_left_out, dtype=bool) if np.size(fix.blunder_left_out) == n
+                   else np.zeros(n, dtype=bool))
         miles, bearing = distance_bearing(fix.lat_deg, fix.lon_deg, every.lat_deg, every.lon_deg)
-        names = ", ".join(f"{rows[k]} {sights.body[k]} ({abs(float(fix.residual_arcmin[k])):.0f}′ off)"
+        names = ", ".join(f"{rows[k]} {sights.body[k]} ({abs(float(fix.residual_arcmin[k])):.0f}′ off, "
+                          f"{'the blunder test' if by_test[k] else 'a gross error'})"
                           for k in np.flatnonzero(left_out))
-        out.append(f"LEFT OUT as a gross error: {names}; the fix from every sight lies {float(miles):.1f} nm "
+        out.append(f"LEFT OUT: {names}; the fix from every sight lies {float(miles):.1f} nm "
                    f"{float(bearing):03.0f}° from this one.")
-    out += [f"Warning: {w}" for w in fix.warnings]
+    check = fix.without_outliers
+    if check is not None:
+        flagged = ", ".join(f"{rows[k]} {sights.body[k]}"
+                            for k in np.flatnonzero(np.asarray(fix.outlier, dtype=bool) & ~left_out))
+        miles, bearing = distance_bearing(fix.lat_deg, fix.lon_deg, check.lat_deg, check.lon_deg)
+        out.append(f"BLUNDER? {flagged}: the check fix without it lies {float(miles):.1f} nm {float(bearing):03.0f}° "
+                   "from this one.")
+    out += [f"Warning: {w}" for w in warnings
+            if not w.startswith("CANNOT BE TRUSTED") and not (left_out.any() and w.startswith("LEFT OUT of this"))]
     dr_miles = float(np.hypot(*frame.fix_xy))
     if dr_miles > 30.0 and fix.is_fix:
         out.append(f"The DR is {dr_miles:.0f} nm from the fix: straight lines of position drawn from it are "
@@ -523,6 +541,13 @@ def _symbols(sheet, placer, fix, sights, frame: _Frame, chart) -> list:
             placer.take(every_sight_symbol(sheet, ex, ey))
             marks.append(("fix from every sight (not the fix)", 7, FLAGGED, _around(ex, ey, 9.0), "every sight label",
                           False))
+    check = fix.without_outliers
+    if check is not None:
+        kx, ky = frame.page(*frame.plane(float(check.lat_deg), float(check.lon_deg)))
+        if frame.inside(kx, ky, 8.0):
+            placer.take(check_fix_symbol(sheet, kx, ky))
+            marks.append(("check fix (without the flagged)", 7, FLAGGED, _around(kx, ky, 9.0), "check fix label",
+                          False))
     if chart is not None:
         px, py = frame.page(*frame.plane(float(chart[0]), float(chart[1])))
         if frame.inside(px, py, 8.0):
@@ -587,7 +612,8 @@ def _line_labels(sheet, placer, frame: _Frame, lops: list[_Lop]) -> list[_Lop]:
 
 
 _KEY = (("fix", "fix"), ("running fix", "running fix"), ("dr", "DR"), ("ep", "estimated position (EP)"),
-        ("chart position", "chart or GNSS position"), ("every sight fix", "fix from every sight (not the fix)"))
+        ("chart position", "chart or GNSS position"), ("every sight fix", "fix from every sight (not the fix)"),
+        ("check fix", "check fix, the flagged sights left out (not the fix)"))
 
 
 def _footer(sheet, frame: _Frame, lops: list[_Lop], listed: list[_Lop]) -> None:
@@ -616,7 +642,8 @@ def _footer(sheet, frame: _Frame, lops: list[_Lop], listed: list[_Lop]) -> None:
 def _key(sheet, y: float, kinds: set, lops: list[_Lop]) -> float:
     """A row of the symbols drawn on this sheet with their words; the y below it."""
     drawers = {"fix": fix_symbol, "running fix": fix_symbol, "dr": dr_symbol, "ep": ep_symbol,
-               "chart position": position_symbol, "every sight fix": every_sight_symbol}
+               "chart position": position_symbol, "every sight fix": every_sight_symbol,
+               "check fix": check_fix_symbol}
     x, y = MARGIN_PT + 6.0, y + 8.0
     for kind, words in _KEY:
         if kind not in kinds:

@@ -234,7 +234,7 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
     points, fixes, estimated, noons = days.of_vessel(vessel)
     noons = noons[np.isfinite(noons["lat_deg"].astype(float))]
     track = days.tracks.get(vessel)
-    reach_lat, reach_lon = _ellipse_reach(track)
+    reach_lat, reach_lon = _ellipse_reach(track, days.ellipse_scales)
     lats = np.concatenate([points.lat_deg.to_numpy(float), estimated["lat_deg"].to_numpy(float), reach_lat])
     lons = np.concatenate([points.lon_deg.to_numpy(float), estimated["lon_deg"].to_numpy(float), reach_lon])
     sheet = Canvas(SHEET_PT * 1.5, SHEET_PT, PAPER)
@@ -254,7 +254,7 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
             sheet.line(xs_leg.tolist(), ys_leg.tolist(), INK, 1.1, dash=(5.0, 3.0))
     arrow_nm = 0.06 * max(chart.width_nm, chart.height_nm) / 1.0  # an arrow this long stands for one knot
     placer = Placer()
-    labels = _voyage_known_positions(sheet, placer, chart, track) if track is not None else []
+    labels = _voyage_known_positions(sheet, placer, chart, track, days.ellipse_scales) if track is not None else []
     labels += _voyage_marks(sheet, placer, chart, fixes, estimated, noons, arrow_nm)
     frame = (chart.ax0 + 2, chart.ay0 + 2, chart.ax1 - 2, chart.ay1 - 2)
     for text, colour, x, y in labels:
@@ -287,14 +287,15 @@ def _voyage_grid(sheet, chart: _VoyageChart) -> None:
                    rotation=30)
 
 
-def _ellipse_reach(track) -> tuple[np.ndarray, np.ndarray]:
-    """The known positions and, for a fix, the north, south, east and west reach of its 95 % ellipse: the
-    voyage picture is drawn to hold them whole."""
+def _ellipse_reach(track, scales: dict[str, float]) -> tuple[np.ndarray, np.ndarray]:
+    """The known positions and, for a fix, the north, south, east and west reach of its 95 % ellipse (at the
+    fix's own quantile): the voyage picture is drawn to hold them whole."""
     if track is None:
         return np.zeros(0), np.zeros(0)
     lat, lon = np.asarray(track.known_lat, dtype=float), np.asarray(track.known_lon, dtype=float)
     cov = np.asarray(track.known_cov_nm2, dtype=float).reshape(-1, 2, 2)
-    scale = math.sqrt(chi_square_2_quantile(0.95))
+    known = math.sqrt(chi_square_2_quantile(0.95))
+    scale = np.array([scales.get(label, known) for label in track.known_label], dtype=float)
     with np.errstate(invalid="ignore"):
         north = np.nan_to_num(scale * np.sqrt(np.maximum(cov[:, 0, 0], 0.0)) / 60.0)
         east = np.nan_to_num(scale * np.sqrt(np.maximum(cov[:, 1, 1], 0.0)) / 60.0
@@ -315,16 +316,17 @@ def _beside(x: float, y: float) -> list:
     return spots
 
 
-def _voyage_known_positions(sheet, placer, chart: _VoyageChart, track) -> list:
-    """The fixes with their ellipses (cut to the chart), and the departure and position entries; their labels
-    to place."""
+def _voyage_known_positions(sheet, placer, chart: _VoyageChart, track, scales: dict[str, float]) -> list:
+    """The fixes with the 95 % ellipses they state (each at its own quantile, F(2, ν) or chi-square(2); cut to
+    the chart), and the departure and position entries; their labels to place."""
     from .drawing import blend
 
-    scale = math.sqrt(chi_square_2_quantile(0.95))  # chi-square(2) 95 %
+    known = math.sqrt(chi_square_2_quantile(0.95))  # a fix whose scale is not given: chi-square(2) 95 %
     box = (chart.ax0, chart.ay0, chart.ax1, chart.ay1)
     labels = []
     for lat, lon, label, cov in zip(track.known_lat, track.known_lon, track.known_label, track.known_cov_nm2):
         fx, fy = chart.at(lat, lon)
+        scale = scales.get(label, known)
         if label.startswith("fix "):
             # the ellipse where it shows (a fleet's tiny ellipses on a chart of a thousand miles are dots)
             if np.all(np.isfinite(cov)) and np.trace(cov) > 0 and scale * math.sqrt(np.trace(cov)) * chart.per_nm > 1.5:

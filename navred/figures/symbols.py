@@ -75,5 +75,14 @@ def every_sight_symbol(sheet, x: float, y: float, kind: str = "every sight fix")
     return rect_corners(x - 7, y - 7, x + 7, y + 7)
 
 
+def check_fix_symbol(sheet, x: float, y: float, kind: str = "check fix") -> np.ndarray:
+    """The check fix, the flagged sights left out (not the fix): a grey circle with a cross. Its box."""
+    sheet.circle(x, y, 5.5, outline=FLAGGED, width=1.3, kind=kind)
+    sheet.line([x - 3.9, x + 3.9], [y - 3.9, y + 3.9], FLAGGED, 1.1, kind=kind)
+    sheet.line([x - 3.9, x + 3.9], [y + 3.9, y - 3.9], FLAGGED, 1.1, kind=kind)
+    return rect_corners(x - 6.5, y - 6.5, x + 6.5, y + 6.5)
+
+
 __all__ = ["PAPER", "GRID", "INK", "FIX", "CHART", "ELLIPSE", "FLAGGED", "SHEET_PT", "grid_step", "nice_length",
-           "fix_symbol", "dr_symbol", "ep_symbol", "position_symbol", "every_sight_symbol"]
+           "fix_symbol", "dr_symbol", "ep_symbol", "position_symbol", "every_sight_symbol",
+           "check_fix_symbol"]

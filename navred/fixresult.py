@@ -96,6 +96,8 @@ class FixResult:
     gross: np.ndarray = field(default_factory=lambda: EMPTY_ROWS)
     #: per input row: a flagged sight of this fix that the blunder test also flags at BLUNDER_CLEAR_ALPHA
     clear_blunder: np.ndarray = field(default_factory=lambda: EMPTY_ROWS)
+    #: per input row: the sight's weight in the fix, (A_PRIORI_SIGMA_ARCMIN / its own σ)², 1 where the log gives no σ
+    weight: np.ndarray = field(default_factory=lambda: EMPTY_ROWS)
     #: per input row: a sight left out of this fix by the blunder test alone (flagged, not a gross error)
     blunder_left_out: np.ndarray = field(default_factory=lambda: EMPTY_ROWS)
     #: the fix from every sight, when a sight was left out of this one (a gross error, or flagged by the test)
@@ -165,6 +167,19 @@ class FixResult:
         if np.size(self.left_out) == zn.size:
             use = use & ~np.asarray(self.left_out, dtype=bool)
         return angle_of_cut_deg(zn[use])
+
+    @property
+    def weighted(self) -> bool:
+        """Whether the log weighs some sight of this fix by its own σ (a weight other than 1)."""
+        return bool(np.any(np.asarray(self.weight)[np.asarray(self.used, dtype=bool)] != 1.0)) \
+            if np.size(self.weight) == np.size(self.used) else False
+
+    @property
+    def sight_sigma_arcmin(self) -> np.ndarray:
+        """Per input row: the standard error the fix takes each sight to have, σ/√w (σ the round's, that of a
+        sight of weight 1; w the sight's weight)."""
+        weight = np.asarray(self.weight, dtype=float) if np.size(self.weight) else np.ones(np.size(self.used))
+        return self.sigma_arcmin / np.sqrt(weight)
 
     @property
     def standard_error_nm(self) -> float:

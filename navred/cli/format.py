@@ -241,7 +241,10 @@ def _residual_lines(group, reduced, labels) -> list[str]:
     fix = group.fix
     left_out = fix.left_out if fix.left_out.size == len(group.rows) else np.zeros(len(group.rows), dtype=bool)
     width = max([len(labels[r]) for r in group.rows] + [5])
-    lines = [f"  {'sight':<{width}}  {'body':<16}{'residual':>10}  flag"]
+    weighted = fix.weighted
+    sigmas = fix.sight_sigma_arcmin if weighted else None
+    lines = [f"  {'sight':<{width}}  {'body':<16}{'residual':>10}" + (f"{'σ taken':>10}" if weighted else "")
+             + "  flag"]
     for k, row in enumerate(group.rows):
         residual = fix.residual_arcmin[k]
         flag = "BLUNDER? left out of the check fix" if fix.outlier[k] else ""
@@ -255,7 +258,12 @@ def _residual_lines(group, reduced, labels) -> list[str]:
         dr_from = reduced["dr_carried_from"].iloc[row] if "dr_carried_from" in reduced.columns else ""
         flag = "; ".join(t for t in (flag, f"DR {dr_from}" if dr_from else "", carried) if t)
         text = f"{signed(residual)}′" if residual == residual else "not used"
-        lines.append(f"  {labels[row]:<{width}}  {str(reduced.body_name.iloc[row]):<16}{text:>10}  {flag}")
+        text = f"{text:>10}"
+        if weighted:  # each sight's σ as the fix weighs it: the round's σ scaled by the σ the log gives it
+            given = fix.weight[k] != 1.0
+            text += f"{sigmas[k]:>9.2f}′" if fix.used[k] else f"{'':>10}"
+            flag = "; ".join(t for t in (flag, "weighted by its σ in the log" if given else "") if t)
+        lines.append(f"  {labels[row]:<{width}}  {str(reduced.body_name.iloc[row]):<16}{text}  {flag}".rstrip())
     return lines
 
 

@@ -61,6 +61,7 @@ ADVANCED_MINUTES = 1.0
 
 _CIRCLE_STEPS = np.linspace(0.0, 2.0 * np.pi, 73)[:-1]
 LABEL_PT, NOTE_PT = 6.5, 8.0
+_WEIGHTED = " (of a sight of weight 1: the log's σ weighs the sights)"
 
 
 @dataclass(frozen=True)
@@ -227,8 +228,8 @@ def _header(sheet, placer, fix, sights, rows, left_out, title, frame) -> float:
     extent = (f"95 % ellipse {fix.ellipse_text()}" if fix.is_fix else
               f"angle of cut {fix.angle_of_cut_deg:.0f}°: 95 % band {fix.ellipse_text()}")
     y = _text_lines(sheet, MARGIN_PT, y + 2, f"{_what(fix, sights)} at {str(fix.utc)[:19].replace('T', ' ')} UTC · "
-                    f"{extent} · σ {fix.sigma_arcmin:.2f}′ · grid: minutes of latitude and longitude", NOTE_PT, INK,
-                    width, kind="subtitle")
+                    f"{extent} · σ {fix.sigma_arcmin:.2f}′{_WEIGHTED if fix.weighted else ''} · grid: minutes of latitude "
+                    "and longitude", NOTE_PT, INK, width, kind="subtitle")
     for warning in _warnings(fix, sights, rows, left_out, frame):
         y = _text_lines(sheet, MARGIN_PT, y, warning, NOTE_PT, FIX, width, kind="warning", bold=True)
     return y + 12.0

@@ -432,7 +432,7 @@ def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: obj
               reduced["ho_deg"].to_numpy(dtype=float), utc64(reduced["sight_utc"]),
               reduced["dr_lat_deg"].to_numpy(dtype=float), reduced["dr_lon_deg"].to_numpy(dtype=float))
     batch = fixes_from_sights(*arrays, group, chart_lat=chart_lat, chart_lon=chart_lon, hs_deg=column("hs_deg"),
-                              **arguments)
+                              sigma_arcmin=column("sigma_arcmin"), **arguments)
     by_group = np.argsort(np.where(group >= 0, group, count), kind="stable")
     bounds = np.concatenate([[0], np.cumsum(np.bincount(group[group >= 0], minlength=count))]).tolist()
     usable_count = np.bincount(group[(group >= 0) & usable], minlength=count)

@@ -40,6 +40,8 @@ def working_table(voyage) -> pd.DataFrame:
     left_out = np.zeros(len(reduced), dtype=bool)
     no_residual = np.full(len(reduced), "not in a fix group", dtype=object)
     by_test = np.zeros(len(reduced), dtype=bool)
+    weight_used = np.full(len(reduced), "not in a fix", dtype=object)
+    sigma_taken = np.full(len(reduced), "not in a fix", dtype=object)
     for group in voyage.groups:
         no_residual[group.rows] = f"no fix: {group.problem}" if group.fix is None else "not used by the fix"
         if group.fix is not None:
@@ -49,6 +51,11 @@ def working_table(voyage) -> pd.DataFrame:
                 left_out[group.rows] = group.fix.left_out
             if group.fix.blunder_left_out.size == len(group.rows):
                 by_test[group.rows] = group.fix.blunder_left_out
+            if group.fix.weight.size == len(group.rows):
+                used = np.asarray(group.fix.used, dtype=bool)
+                weight_used[group.rows] = np.where(used, group.fix.weight.astype(object), "not used by the fix")
+                sigma_taken[group.rows] = np.where(used, group.fix.sight_sigma_arcmin.astype(object),
+                                                   "not used by the fix")
     ok = reduced.status.to_numpy() != SightStatus.ERROR
     r = reduced[ok].reset_index(drop=True)
     residual, flagged, left_out, no_residual, by_test = residual[ok], flagged[ok], left_out[ok], no_residual[ok], by_test[ok]
@@ -103,7 +110,7 @@ def working_table(voyage) -> pd.DataFrame:
         "UT1 source": r.ut1_source,
         "flags": [n or "none" for n in notes],
     })
-    return _with_columns_used(table, r, voyage.log.extra_columns)
+    return _with_columns_used(table, r, voyage.log.extra_columns, (weight_used[ok], sigma_taken[ok]))
 
 
 def assumed_cells(values: pd.Series, assumed: pd.Series, name: str, unit: str) -> np.ndarray:
@@ -117,7 +124,7 @@ def assumed_cells(values: pd.Series, assumed: pd.Series, name: str, unit: str) -
                     dtype=object)
 
 
-def _with_columns_used(table: pd.DataFrame, r: pd.DataFrame, extra_columns) -> pd.DataFrame:
+def _with_columns_used(table: pd.DataFrame, r: pd.DataFrame, extra_columns, weighing=None) -> pd.DataFrame:
     """The Working sheet's columns that only some logs need, inserted beside their kin."""
     # a value given in other units (feet, °F, inHg, mmHg) is shown as given beside the value used
     for column, label, after in (("eye_height_as_given", "height of eye as given", "height of eye (m)"),
@@ -134,6 +141,9 @@ def _with_columns_used(table: pd.DataFrame, r: pd.DataFrame, extra_columns) -> p
     if np.isfinite(sigma).any():  # the log weights some sights: each one's σ, as the fix weighs it
         table.insert(table.columns.get_loc("residual at fix (′)"), "sight σ given (′)",
                      np.where(np.isfinite(sigma), sigma.astype(object), "not given: as any sight"))
+        if weighing is not None:  # the weight (1′/σ)² and the σ the fix takes each sight to have
+            table.insert(table.columns.get_loc("residual at fix (′)"), "weight in the fix", weighing[0])
+            table.insert(table.columns.get_loc("residual at fix (′)"), "σ the fix takes (′)", weighing[1])
     rated = r.watch_error_from.astype(str).to_numpy()
     if ((rated != "") & (rated != "given")).any():
         table.insert(table.columns.get_loc("watch error (s, fast +)") + 1, "watch error from", rated)

@@ -26,8 +26,9 @@ SVG = "{http://www.w3.org/2000/svg}"
 DEMO = "sample_sights/demo_sights.csv"
 #: what is drawn on the chart: inside its frame
 CHART_KINDS = {"ellipse", "ellipse tint", "band", "grid", "azimuth", "run", "line before advance", "advance mark",
-               "fix", "running fix", "dr", "ep", "chart position", "every sight fix", "north", "scale"}
-CHART_LABELS = {"line label", "line tag", "fix label", "dr label", "chart label", "every sight label"}
+               "fix", "running fix", "dr", "ep", "chart position", "every sight fix", "check fix", "north", "scale"}
+CHART_LABELS = {"line label", "line tag", "fix label", "dr label", "chart label", "every sight label",
+                "check fix label"}
 LABEL = re.compile(r"^(?P<body>.+?) (?P<time>\d\d:\d\d)(?:→(?P<to>\d\d:\d\d))? · (?P<a>\d+\.\d) nm (?P<ta>[TA]) · "
                    r"Zn (?P<zn>\d{3}\.\d)°")
 
@@ -237,6 +238,31 @@ def test_a_gross_error_left_out_is_named_and_the_fix_from_every_sight_marked(ts,
     check_page(page)
     warnings = " ".join(e.text for e in page.of("warning"))
     assert "LEFT OUT" in warnings and "Deneb" in warnings
+
+
+def test_a_flagged_sight_kept_in_the_fix_has_its_check_fix_marked(ts, eph, tmp_path):
+    """Reference: skyfield's stars from a ship stopped, each Hs off by a few tenths (invented scatter) and
+    Arcturus' by 3.5′ more: the blunder test flags it but does not find it clear, so it stays in the fix; the
+    sheet says BLUNDER? naming it, marks the check fix without it with its own symbol, names that in the key,
+    and keeps every label apart and inside the frame."""
+    when = pd.Timestamp("2024-09-15T19:05:00Z")
+    names = ["Vega", "Altair", "Arcturus", "Antares", "Dubhe", "Kochab", "Deneb"]
+    rows = [skyfield_sight(ts, eph, name, when + pd.Timedelta(minutes=k), 45.25, -20.5)
+            for k, name in enumerate(names)]
+    errors = np.array([0.5, -0.6, 0.4 + 3.5, -0.3, 0.6, -0.5, 0.2]) / 60.0
+    for row, error in zip(rows, errors):
+        row["hs"] += error
+    voyage = process_log(_frame(rows, 2.0, 3.0, "flagged"), plan=False)
+    group = voyage.groups[0]
+    fix = group.fix
+    assert fix.outlier.tolist() == [False, False, True, False, False, False, False] and not fix.left_out.any()
+    assert fix.without_outliers is not None
+    page = Page(plotting_figure(voyage, group).to_svg())
+    check_page(page)
+    assert "check fix" in page.kinds() and page.of("check fix label")
+    warnings = " ".join(e.text for e in page.of("warning"))
+    assert "BLUNDER? row 3 Arcturus: the check fix without it lies" in warnings
+    assert any("check fix, the flagged sights left out" in e.text for e in page.of("key"))
 
 
 @pytest.mark.parametrize("names, offset", [

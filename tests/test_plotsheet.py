@@ -238,6 +238,33 @@ def test_a_gross_error_left_out_is_named_and_the_fix_from_every_sight_marked(ts,
     check_page(page)
     warnings = " ".join(e.text for e in page.of("warning"))
     assert "LEFT OUT" in warnings and "Deneb" in warnings
+    # its line, far off the chart, is not drawn but its label is listed under the chart with the others
+    labels = check_lines(page, group.fix, voyage.reduced.body_name.to_numpy()[group.rows])
+    assert any(d["body"] == "Deneb" and d["text"].endswith("(left out)") for d in labels)
+
+
+@pytest.mark.parametrize("lat, spread", [(89.67, 30.0), (-60.0, 3000.0)])
+def test_a_sheet_near_a_pole_or_of_thousands_of_miles_keeps_its_grid_readable(ts, eph, lat, spread):
+    """Reference: skyfield's stars over a ship stopped at 89° 40′ N in the polar night (a minute of longitude is
+    0.006 nm there), and over one at 60° S whose log names three stars wrongly, drawing a fix miles off: the
+    meridians get a step of their own, no latitude beyond a pole is labelled, no grid label overlaps another."""
+    when = pd.Timestamp("2026-10-20T02:00:00Z")
+    names = (["Vega", "Capella", "Deneb", "Dubhe", "Mirfak", "Arcturus"] if lat > 0 else
+             ["Canopus", "Achernar", "Rigil Kentaurus", "Acrux", "Peacock", "Sirius"])
+    rows = [skyfield_sight(ts, eph, name, when + pd.Timedelta(minutes=2 * k), lat, 45.0)
+            for k, name in enumerate(names)]
+    if spread > 100:  # three altitudes logged against the wrong stars' names: the fix lies far off
+        for k, other in ((0, "Fomalhaut"), (2, "Hadar"), (4, "Miaplacidus")):
+            rows[k]["body"] = other
+    voyage = process_log(_frame(rows, 3.0, -4.0, "far"), plan=False)
+    group = voyage.groups[0]
+    page = Page(plotting_figure(voyage, group).to_svg())
+    check_page(page)
+    grid = [e.text for e in page.of("grid label")]
+    meridians = sum(t.endswith((" E", " W")) for t in grid)
+    assert (2 if spread < 100 else 0) <= meridians <= 9  # (none on a sheet that spans every meridian)
+    assert 2 <= len(grid) - meridians <= 10
+    assert all(int(t.split("°")[0]) <= 90 for t in grid if t.endswith((" N", " S")))
 
 
 def test_a_flagged_sight_kept_in_the_fix_has_its_check_fix_marked(ts, eph, tmp_path):

@@ -285,12 +285,17 @@ def _ellipse_page(fix, frame: _Frame):
 def _grid(sheet, placer, frame: _Frame) -> None:
     """Whole multiples of the step in latitude and in longitude, labelled outside the area."""
     ax0, ay0, ax1, ay1 = frame.area
-    step = grid_step(2 * frame.half)
+    step = _longitude_step(2 * frame.half)  # (a sheet of thousands of miles too gets eight lines or fewer)
     lat_lo, lat_hi = frame.lat0 + (frame.cy - frame.half) / 60, frame.lat0 + (frame.cy + frame.half) / 60
+    lat_lo, lat_hi = max(lat_lo, -90.0), min(lat_hi, 90.0)  # a sheet reaching past a pole: no latitude beyond it
     lon_lo = frame.lon0 + (frame.cx - frame.half) / 60 / frame.cos_lat
     lon_hi = frame.lon0 + (frame.cx + frame.half) / 60 / frame.cos_lat
     lat_ticks = np.arange(np.ceil(lat_lo * 60 / step), np.floor(lat_hi * 60 / step) + 1) * step / 60
-    lon_ticks = np.arange(np.ceil(lon_lo * 60 / step), np.floor(lon_hi * 60 / step) + 1) * step / 60
+    # the meridians by a step of their own: a minute of longitude is cos φ miles, so that near a pole the
+    # latitude's step would crowd them (about eight lines or fewer); none on a sheet that spans every meridian
+    lon_step = _longitude_step((lon_hi - lon_lo) * 60)
+    lon_ticks = (np.arange(np.ceil(lon_lo * 60 / lon_step), np.floor(lon_hi * 60 / lon_step) + 1) * lon_step / 60
+                 if lon_hi - lon_lo < 360.0 else np.zeros(0))
     _, lat_rows = frame.page(np.zeros(lat_ticks.size), frame.plane(lat_ticks, frame.lon0)[1])
     for py, text in zip(np.atleast_1d(lat_rows).tolist(), [format_angle(v, "lat") for v in lat_ticks.tolist()]):
         sheet.line([ax0, ax1], [py, py], GRID, 0.7, kind="grid")
@@ -302,6 +307,20 @@ def _grid(sheet, placer, frame: _Frame) -> None:
         sheet.line([px, px], [ay0, ay1], GRID, 0.7, kind="grid")
         sheet.text(px, ay1 + 6, text, 7, INK, anchor="end", baseline="top", rotation=30, kind="grid label")
         placer.take(text_corners(px, ay1 + 6, text, 7, anchor="end", baseline="top", rotation=30))
+
+
+#: steps of the grid beyond the plotting sheet's usual (minutes of arc): 20°, 30°, 45°, 60°, 90°
+_WIDE_STEPS_ARCMIN = (1200.0, 1800.0, 2700.0, 3600.0, 5400.0)
+
+
+def _longitude_step(span_arcmin: float) -> float:
+    """The grid's step for a sheet ``span_arcmin`` of longitude (or latitude) across: about eight lines or fewer."""
+    step = grid_step(span_arcmin)
+    for wide in _WIDE_STEPS_ARCMIN:
+        if span_arcmin / step <= 8:
+            break
+        step = wide
+    return step
 
 
 def _line_text(fix, sights: SheetSights, row: int, moved: str, left_out: bool) -> str:
@@ -333,10 +352,12 @@ def _lines(fix, sights: SheetSights, frame: _Frame, used, feet, left_out) -> lis
     lops = []
     for row in used.tolist():
         fx, fy = (float(v) for v in frame.plane(float(fix.lop_foot_lat_deg[row]), float(fix.lop_foot_lon_deg[row])))
-        if left_out[row] and abs(fx - frame.cx) + abs(fy - frame.cy) > 4 * frame.half:
-            continue  # a gross error's line, far off the sheet: named in the warning above
         flagged = bool(fix.outlier[row])
         moved = _moved(fix, sights, row)
+        if left_out[row] and abs(fx - frame.cx) + abs(fy - frame.cy) > 4 * frame.half:
+            # a gross error's line, far off the sheet: not drawn, its label listed under the chart
+            lops.append(_Lop(row, _line_text(fix, sights, row, moved, True), FLAGGED, True, None, moved, None))
+            continue
         lop = _Lop(row, _line_text(fix, sights, row, moved, bool(left_out[row])), FLAGGED if flagged else INK,
                    flagged, frame.line_across(fx, fy, float(fix.lop_tangent_deg[row])), moved, None)
         if moved:

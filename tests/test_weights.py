@@ -201,6 +201,11 @@ def test_the_log_column_weighs_the_fix_everywhere(tmp_path):
     assert "weighted by its σ in the log" in sirius
     assert f"{2.0 * group.fix.sigma_arcmin:.2f}′" in sirius  # σ 2′: twice a sight of weight 1
     assert "weighted by the σ the log gives them" in result.stdout
+    import io
+
+    table = pd.read_csv(io.StringIO(runner.invoke(app, ["fix", str(path), "--csv"]).stdout)).set_index("fix_group")
+    assert table.loc["evening-stars", "weighted"] == "row 7 row 11"  # the rows the log weighs (σ not 1′)
+    assert table.loc["evening-stars", "sigma_arcmin"] == pytest.approx(group.fix.sigma_arcmin)
 
     book = tmp_path / "v.xlsx"
     assert runner.invoke(app, ["workbook", str(path), "-o", str(book)]).exit_code == 0

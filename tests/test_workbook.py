@@ -229,6 +229,9 @@ def test_the_fixes_sheet_reads_as_the_trade_writes(tmp_path):
     fixes, formats = sheet_frame(book["Fixes"])
     working, working_formats = sheet_frame(book["Working"])
     assert "lines cross at (deg)" not in fixes.columns
+    # a fix from sights taken hours apart, carried by the run, is a running fix (common practice), as on its sheet
+    kinds = dict(zip(fixes["fix group"], fixes["kind"]))
+    assert kinds["sun-run-sun"] == "running fix" and kinds["evening-stars"] == "fix"
     for row in fixes.to_dict("records"):
         assert all(v is not None and v != "" for v in row.values()), row  # a reason for every blank
         if row["kind"].startswith("no fix"):

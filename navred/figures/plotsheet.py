@@ -207,6 +207,12 @@ def _text_lines(sheet, x: float, y: float, text: str, size: float, colour: str, 
     return y
 
 
+def is_running_fix(fix, utc) -> bool:
+    """Whether a fix is a running fix: its sights (``utc``, in its input-row order) taken more than
+    RUNNING_FIX_MINUTES apart, the lines carried by a run to the fix time (common practice)."""
+    return _is_running_fix(fix, SheetSights([""] * len(utc), np.asarray(utc, dtype="datetime64[ns]")))
+
+
 def _is_running_fix(fix, sights: SheetSights) -> bool:
     utc = np.asarray(sights.utc, dtype="datetime64[ns]")[np.asarray(fix.used, dtype=bool)]
     utc = utc[~np.isnat(utc)]
@@ -688,4 +694,4 @@ def save_plotting_sheet(fix, sights: SheetSights, path, *, title: str = "", char
     return atomic_write(Path(path), lambda p: write_canvas(sheet, p))
 
 
-__all__ = ["SheetSights", "plotting_sheet", "save_plotting_sheet", "RUNNING_FIX_MINUTES", "ADVANCED_MINUTES"]
+__all__ = ["SheetSights", "plotting_sheet", "is_running_fix", "save_plotting_sheet", "RUNNING_FIX_MINUTES", "ADVANCED_MINUTES"]

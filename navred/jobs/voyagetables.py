@@ -12,6 +12,7 @@ import numpy as np
 import pandas as pd
 
 from ..angles import format_angle
+from ..figures.plotsheet import is_running_fix
 from ..io.workbook import utc_cell
 from ..status import SightStatus
 from .frames import row_labels
@@ -274,6 +275,8 @@ def fixes_table(voyage) -> pd.DataFrame:
     """One row per fix group as the Fixes sheet shows it: positions in degrees and minutes beside decimal
     degrees, the ellipse, the angle of cut (0°-90°), the checks; a blank cell says why it is blank."""
     labels = row_labels(voyage.reduced) if len(voyage.reduced) else np.zeros(0, dtype=str)
+    sight_utc = (voyage.reduced["sight_utc"].dt.tz_convert(None).to_numpy(dtype="datetime64[ns]")
+                 if len(voyage.reduced) else np.zeros(0, dtype="datetime64[ns]"))
     rows = []
     # every position's text at once (one call per kind, not four per group)
     fixes = [g.fix for g in voyage.groups if g.fix is not None]
@@ -302,7 +305,8 @@ def fixes_table(voyage) -> pd.DataFrame:
         rows.append({
             "fix group": group.name,
             "UTC": utc_cell(fix.utc),
-            "kind": fix.kind if fix.is_fix else f"{fix.kind} (not a fix)",
+            "kind": (("running fix" if is_running_fix(fix, sight_utc[group.rows]) else fix.kind) if fix.is_fix
+                     else f"{fix.kind} (not a fix)"),
             "latitude (° ′)": (texts := next(fix_texts))[0],
             "longitude (° ′)": texts[1],
             "latitude (deg)": fix.lat_deg,

@@ -264,6 +264,10 @@ def test_a_sheet_near_a_pole_or_of_thousands_of_miles_keeps_its_grid_readable(ts
     meridians = sum(t.endswith((" E", " W")) for t in grid)
     assert (2 if spread < 100 else 0) <= meridians <= 9  # (none on a sheet that spans every meridian)
     assert 2 <= len(grid) - meridians <= 10
+    # the subtitle says what the grid's lines are: minutes near the pole's small sheet, degrees on the large one
+    subtitle = " ".join(e.text for e in page.of("subtitle"))
+    step = re.search(r"grid: every (\d+)([′°]) of latitude", subtitle)
+    assert step and step.group(2) == ("′" if spread < 100 else "°")
     assert all(int(t.split("°")[0]) <= 90 for t in grid if t.endswith((" N", " S")))
 
 

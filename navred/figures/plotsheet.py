@@ -234,8 +234,8 @@ def _header(sheet, placer, fix, sights, rows, left_out, title, frame) -> float:
     extent = (f"95 % ellipse {fix.ellipse_text()}" if fix.is_fix else
               f"angle of cut {fix.angle_of_cut_deg:.0f}°: 95 % band {fix.ellipse_text()}")
     y = _text_lines(sheet, MARGIN_PT, y + 2, f"{_what(fix, sights)} at {str(fix.utc)[:19].replace('T', ' ')} UTC · "
-                    f"{extent} · σ {fix.sigma_arcmin:.2f}′{_WEIGHTED if fix.weighted else ''} · grid: minutes of latitude "
-                    "and longitude", NOTE_PT, INK, width, kind="subtitle")
+                    f"{extent} · σ {fix.sigma_arcmin:.2f}′{_WEIGHTED if fix.weighted else ''} · {_grid_words(frame)}",
+                    NOTE_PT, INK, width, kind="subtitle")
     for warning in _warnings(fix, sights, rows, left_out, frame):
         y = _text_lines(sheet, MARGIN_PT, y, warning, NOTE_PT, FIX, width, kind="warning", bold=True)
     return y + 12.0
@@ -317,6 +317,22 @@ def _grid(sheet, placer, frame: _Frame) -> None:
 
 #: steps of the grid beyond the plotting sheet's usual (minutes of arc): 20°, 30°, 45°, 60°, 90°
 _WIDE_STEPS_ARCMIN = (1200.0, 1800.0, 2700.0, 3600.0, 5400.0)
+
+
+def _arc_words(arcmin: float) -> str:
+    return f"{arcmin / 60:g}°" if arcmin >= 60 else f"{arcmin:g}′"
+
+
+def _grid_words(frame: _Frame) -> str:
+    """What the grid's lines are, as the sheet draws them: 'grid: every 5′ of latitude, 10′ of longitude'."""
+    lat_step = _longitude_step(2 * frame.half)
+    lon_span = 2 * frame.half / frame.cos_lat
+    if lon_span >= 360.0 * 60:
+        return f"grid: every {_arc_words(lat_step)} of latitude (the sheet spans every meridian)"
+    lon_step = _longitude_step(lon_span)
+    if lon_step == lat_step:
+        return f"grid: every {_arc_words(lat_step)} of latitude and longitude"
+    return f"grid: every {_arc_words(lat_step)} of latitude, {_arc_words(lon_step)} of longitude"
 
 
 def _longitude_step(span_arcmin: float) -> float:
@@ -660,7 +676,8 @@ def _footer(sheet, frame: _Frame, lops: list[_Lop], listed: list[_Lop]) -> None:
             text += " Dotted: a running fix's line at its own time; the green arrow: the run that advanced it."
         y = _text_lines(sheet, MARGIN_PT, y, text, 7, INK, width, kind="key")
     y = _text_lines(sheet, MARGIN_PT, y, "Each line: body, sight time (→ time moved to), intercept toward (T) or away "
-                    "(A) from the DR, Zn. The thin line from the DR to each line of position is its intercept along "
+                    "(A) and Zn from the DR at the fix time (a moved line's differ from the Working sheet's, worked "
+                    "from the DR at its own time). The thin line from the DR to each line of position is its intercept along "
                     "Zn, the arrow toward the body.", 7, INK, width, kind="key")
     y = _text_lines(sheet, MARGIN_PT, y + 2, "An aid to navigation, not a sole means: check against the official "
                     "almanac and keep a DR plot.", 7, INK, width, kind="caution", italic=True)

@@ -230,6 +230,9 @@ def test_the_fixes_sheet_reads_as_the_trade_writes(tmp_path):
     working, working_formats = sheet_frame(book["Working"])
     assert "lines cross at (deg)" not in fixes.columns
     # a fix from sights taken hours apart, carried by the run, is a running fix (common practice), as on its sheet
+    # the limb worked beside the body, whose SD the sheet applies (a star or planet has none)
+    assert working.loc[working["body"] == "Sun", "limb"].tolist() == ["lower"] * 3
+    assert set(working.loc[working["body"] == "Sirius", "limb"]) == {"none (a point of light)"}
     kinds = dict(zip(fixes["fix group"], fixes["kind"]))
     assert kinds["sun-run-sun"] == "running fix" and kinds["evening-stars"] == "fix"
     for row in fixes.to_dict("records"):

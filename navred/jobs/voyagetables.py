@@ -145,6 +145,9 @@ def _with_columns_used(table: pd.DataFrame, r: pd.DataFrame, extra_columns, weig
         if weighing is not None:  # the weight (1′/σ)² and the σ the fix takes each sight to have
             table.insert(table.columns.get_loc("residual at fix (′)"), "weight in the fix", weighing[0])
             table.insert(table.columns.get_loc("residual at fix (′)"), "σ the fix takes (′)", weighing[1])
+    limb = r["limb"].astype(str).to_numpy() if "limb" in r.columns else np.zeros(0, dtype=str)
+    if (limb != "").any():  # the limb worked, whose semi-diameter the SD column applies
+        table.insert(table.columns.get_loc("body") + 1, "limb", np.where(limb != "", limb, "none (a point of light)"))
     rated = r.watch_error_from.astype(str).to_numpy()
     if ((rated != "") & (rated != "given")).any():
         table.insert(table.columns.get_loc("watch error (s, fast +)") + 1, "watch error from", rated)

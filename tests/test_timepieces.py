@@ -150,7 +150,7 @@ def test_rate_command_workbook_sheet_and_rates_option(tmp_path):
     assert "Timepieces" in workbook.sheetnames
     assert "watch error from" in [c.value for c in workbook["Working"][1]]
     texts = [c.value for row in workbook["Timepieces"].iter_rows() for c in row if isinstance(c.value, str)]
-    assert any("11 sight(s) of this log took their watch error from this rating" in t for t in texts)
+    assert any("11 sights of this log took their watch error from this rating" in t for t in texts)
     reduced = runner.invoke(app, ["reduce", str(kept), "--rates", str(signals)])
     assert reduced.exit_code == 0 and "11 sights reduced" in reduced.output
 

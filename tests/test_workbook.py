@@ -326,3 +326,20 @@ def test_every_header_a_person_reads_is_in_the_trades_words(tmp_path):
                         assert not re.fullmatch(r"[a-z0-9]+(_[a-z0-9]+)+", cell.value), (sheet.title, cell.value)
         assert "Training" not in book.sheetnames or any(
             c.value == "personal error (′)" for row in book["Training"].iter_rows() for c in row)
+
+
+def test_a_blank_cell_refused_reads_blank_and_a_lone_sight_says_why(tmp_path):
+    """The Rejected sheet writes a blank value as '(blank)' (an empty cell reads as a lost one); a group left with
+    one sight says so in sea English and what one sight gives instead (common practice)."""
+    demo = pd.read_csv("sample_sights/demo_sights.csv", dtype=str, keep_default_na=False)
+    demo.loc[9, "hs"] = ""  # Regulus' altitude left blank
+    demo.loc[3, "fix_group"] = "lonely"
+    demo.to_csv(tmp_path / "log.csv", index=False)
+    voyage = process_log(tmp_path / "log.csv", plan=False)
+    book = openpyxl.load_workbook(write_workbook(voyage, tmp_path / "v.xlsx", plots=False))
+    rejected, _ = sheet_frame(book["Rejected"])
+    assert rejected.loc[rejected["row in log"] == 11, "value"].tolist() == ["(blank)"]
+    fixes, _ = sheet_frame(book["Fixes"])
+    lonely = fixes.loc[fixes["fix group"] == "lonely", "kind"].iloc[0]
+    assert "1 usable sight: a fix needs two or more (one sight gives a line of position" in lonely
+    assert "sight(s)" not in " ".join(map(str, fixes["kind"]))

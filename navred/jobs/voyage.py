@@ -442,7 +442,10 @@ def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: obj
         position = (float(chart_lat[k]), float(chart_lon[k])) if np.isfinite(chart_lat[k]) else None
         problem = batch.problems[k]
         if usable_count[k] < 2:
-            problem = f"{usable_count[k]} usable sight(s): a fix needs two or more"
+            count_k = int(usable_count[k])
+            problem = (f"{count_k} usable sight{'' if count_k == 1 else 's'}: a fix needs two or more"
+                       + (" (one sight gives a line of position; on the meridian, a latitude: see the latitude "
+                          "checks)" if count_k == 1 else ""))
         groups.append(GroupFix(name, rows, batch.results[k], problem, position, notes[k] if position else ""))
     return groups
 

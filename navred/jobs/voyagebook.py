@@ -187,7 +187,7 @@ def _write_timepieces_sheet(tables: TableWriter, sheet, voyage) -> None:
         sheet.cell(row=line, column=1, value=f"Timepiece: {name or '(the one rated)'}").font = Font(bold=True)
         write_text_safe(sheet.cell(row=line + 1, column=1), piece.summary())
         count = int(used.str.startswith(f"{name or 'the timepiece'} rated").sum())
-        sheet.cell(row=line + 2, column=1, value=f"{count} sight(s) of this log took their watch error from this rating")
+        sheet.cell(row=line + 2, column=1, value=f"{count} sight{'' if count == 1 else 's'} of this log took their watch error from this rating")
         line += 4
         frame = piece.comparisons.assign(signal_utc=piece.comparisons.signal_utc.dt.strftime("%Y-%m-%d %H:%M:%S"))
         write_table_sheet(tables, sheet, labelled(frame), first_row=line)

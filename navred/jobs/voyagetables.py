@@ -364,7 +364,8 @@ def rejected_table(voyage) -> pd.DataFrame:
     """Every problem of every row not reduced: the row, the column, the value and why."""
     rejected = voyage.rejected
     out = pd.DataFrame({"row in log": rejected["row"].to_numpy(), "column": rejected["column"].to_numpy(),
-                        "value": rejected["value"].to_numpy(), "reason": rejected["reason"].to_numpy()})
+                        "value": [v if str(v).strip() else "(blank)" for v in rejected["value"].tolist()],
+                        "reason": rejected["reason"].to_numpy()})
     if _several(voyage):
         out.insert(0, "source file", [Path(s).name for s in rejected["source"]])
     return out

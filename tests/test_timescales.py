@@ -164,6 +164,12 @@ def test_after_leap_second_expiry_warns():
     later = f"{expires.year + 1}-01-15T00:00Z"
     with pytest.warns(NavredWarning, match=r"leap second may have been announced.*0\.5″ of the Moon"):
         instants(later, dut1_s=0.0)
+    # the words a navigator reads: which instants without '(the value)', and the risk to GHA named
+    with pytest.warns(NavredWarning) as record:
+        instants([later, later], dut1_s=0.0)
+    text = " ".join(str(w.message) for w in record)
+    assert "Values 1 and 2 of 2 are instants after" in text and "(the value)" not in text
+    assert "0.25′ of longitude" in text
 
 
 @pytest.mark.parametrize("dut1, fragment", [

@@ -109,9 +109,10 @@ def identify_lines(ranked: pd.DataFrame, top: int) -> list[str]:
         zn = f"{row.zn_deg % 360.0:05.1f}°"
         lines.append(f"{rank:>4}  {row.body:<16}{row.magnitude:+6.1f}{row.hc_deg:7.1f}°{zn:>8}"
                      f"{signed(row.altitude_difference_deg):>6}°{signed(row.azimuth_difference_deg):>6}°{row.score:7.2f}")
-    lines.append("score: the differences in units of 1° of altitude and 3° of bearing; lowest first. mag.: the "
-                 "visual magnitude (the brighter the smaller: Venus about −4, Sirius −1, Spica +1); a body much "
-                 "brighter or fainter than the one seen is not it")
+    lines.append("score: the differences in units of 1° of altitude and 3° of bearing; lowest first. mag.: how "
+                 "bright (the brighter the smaller): a planet's visual magnitude, a star's in the Hipparcos "
+                 "catalogue's own band, within a few tenths of the visual magnitude an almanac prints (Sirius −1.1 "
+                 "there for −1.5, Spica +1.0); a body much brighter or fainter than the one seen is not it")
     return lines
 
 

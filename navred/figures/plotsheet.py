@@ -675,7 +675,7 @@ def _footer(sheet, frame: _Frame, lops: list[_Lop], listed: list[_Lop]) -> None:
         if any(lop.before is not None for lop in lops):
             text += " Dotted: a running fix's line at its own time; the green arrow: the run that advanced it."
         y = _text_lines(sheet, MARGIN_PT, y, text, 7, INK, width, kind="key")
-    y = _text_lines(sheet, MARGIN_PT, y, "Each line: body, sight time (→ time moved to), intercept toward (T) or away "
+    y = _text_lines(sheet, MARGIN_PT, y, "Each line: body, sight time in UTC (→ time moved to), intercept toward (T) or away "
                     "(A) and Zn from the DR at the fix time (a moved line's differ from the Working sheet's, worked "
                     "from the DR at its own time). The thin line from the DR to each line of position is its intercept along "
                     "Zn, the arrow toward the body.", 7, INK, width, kind="key")

@@ -216,3 +216,33 @@ def test_the_log_column_weighs_the_fix_everywhere(tmp_path):
     fixes = pd.read_excel(book, sheet_name="Fixes").set_index("fix group")
     assert "weighted by the σ the log gives them" in fixes.loc["evening-stars", "σ from"]
     assert "weighted" not in fixes.loc["sun-run-sun", "σ from"]
+
+
+def test_a_weighted_line_of_position_is_the_weighted_mean_line():
+    """Three lines whose azimuths lie within 12° (no fix, one line): the combined line lies p = Σ w a c / Σ w c²
+    from the DR across the weighted axial mean azimuth Z (c = cos(Zn − Z)), its σ² = Σ w r² / (n − 1) and its 95 %
+    band t(0.975, n − 1) σ / √(Σ w c²) (scipy's t), all worked here from the sight reduction formula at the DR."""
+    gha, dec = _bodies(60)  # bodies every 6° of azimuth round the horizon: three neighbours
+    gha, dec = gha[[0, 1, 2]], dec[[0, 1, 2]]
+    hc_true, _ = _hc_zn(TRUE_LAT, TRUE_LON, gha, dec)
+    ho = hc_true + np.array([0.6, -0.5, 0.9]) / 60.0
+    sigma = np.array([np.nan, 2.0, 0.8])
+    weight = np.where(np.isnan(sigma), 1.0, 1.0 / sigma**2)
+    dr_lat, dr_lon = TRUE_LAT + 0.05, TRUE_LON + 0.08
+    fix = fix_from_sights(gha, dec, ho, np.full(3, UTC), dr_lat, dr_lon, sigma_arcmin=sigma)
+    assert not fix.is_fix
+    hc, zn = _hc_zn(dr_lat, dr_lon, gha, dec)
+    a = (ho - hc) * 60.0
+    doubled = np.radians(2 * zn)
+    z = np.degrees(np.arctan2(np.sum(weight * np.sin(doubled)), np.sum(weight * np.cos(doubled)))) / 2.0
+    c = np.cos(np.radians(zn - z))
+    p = np.sum(weight * a * c) / np.sum(weight * c**2)
+    if p < 0:
+        p, z = -p, z + 180.0
+    assert fix.line_offset_nm == pytest.approx(p, abs=0.002)
+    assert (fix.line_toward_deg - z % 360.0 + 180.0) % 360.0 - 180.0 == pytest.approx(0.0, abs=0.01)
+    r = a - p * np.cos(np.radians(zn - z))
+    s = np.sqrt(np.sum(weight * r**2) / 2)
+    assert fix.sigma_arcmin == pytest.approx(s, rel=1e-3)
+    half = sps.t.ppf(0.975, 2) * s / np.sqrt(np.sum(weight * c**2))
+    assert fix.ellipse_semi_minor_nm == pytest.approx(half, rel=1e-3)

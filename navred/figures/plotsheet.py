@@ -178,8 +178,16 @@ def plotting_sheet(fix, sights: SheetSights, *, title: str = "", chart=None) -> 
     for lop in lops:
         if lop.moved and lop.run_page is not None and lop.ends is not None:
             _chevrons(sheet, placer, frame, lop)
+    lines_drawn = [_segment_box(*lop.ends, 1.2) for lop in lops if lop.ends is not None]
     for text, size, colour, spots, kind, bold in marks:
-        spot = placer.place(text, size, spots, _inner(frame.area), bold=bold)
+        # a spot that hides no line of position first (the label is boxed on paper: it would cut the line)
+        clear_of_lines = Placer(placer.gap_pt)
+        clear_of_lines.taken = placer.taken + lines_drawn
+        spot = clear_of_lines.place(text, size, spots, _inner(frame.area), bold=bold)
+        if spot is not None:
+            placer.take(clear_of_lines.taken[-1])
+        else:
+            spot = placer.place(text, size, spots, _inner(frame.area), bold=bold)
         if spot is not None:
             sheet.text(spot.x, spot.y, text, size, colour, anchor=spot.anchor, baseline=spot.baseline,
                        bold=bold, box=PAPER, kind=kind)

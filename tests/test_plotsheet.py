@@ -160,6 +160,18 @@ def test_the_demo_sheets_in_the_plotting_convention(demo):
         assert "dr" in kinds and {"fix", "running fix"} & kinds and "ep" not in kinds, group.name
         check_lines(page, group.fix, bodies[group.rows])
         assert len(page.of("fix label")) == 1 and len(page.of("dr label")) == 1
+    # where the sheet has room, the fix's label hides no line of position (the evening stars' round)
+    group = demo.group("evening-stars")
+    page = Page(plotting_figure(demo, group).to_svg())
+    label = text_box(page.of("fix label")[0])
+    for e in page.shapes:
+        if (e.get("class") or "").startswith("line of position"):
+            ends = points_of(e)
+            for (x0, y0), (x1, y1) in zip(ends[:-1], ends[1:]):
+                length = math.hypot(x1 - x0, y1 - y0) or 1.0
+                nx, ny = -(y1 - y0) / length * 0.6, (x1 - x0) / length * 0.6  # the line's 1.2-point width
+                stroke = np.array([(x0 + nx, y0 + ny), (x1 + nx, y1 + ny), (x1 - nx, y1 - ny), (x0 - nx, y0 - ny)])
+                assert not overlap(label, stroke, slack=0.0), "the fix's label hides a line of position"
 
 
 def test_a_running_fix_marks_its_advanced_lines_with_both_times(demo):

@@ -343,3 +343,16 @@ def test_a_blank_cell_refused_reads_blank_and_a_lone_sight_says_why(tmp_path):
     lonely = fixes.loc[fixes["fix group"] == "lonely", "kind"].iloc[0]
     assert "1 usable sight: a fix needs two or more (one sight gives a line of position" in lonely
     assert "sight(s)" not in " ".join(map(str, fixes["kind"]))
+
+
+def test_the_sight_plan_sheet_in_the_trade_figures(tmp_path):
+    """Magnitudes to 0.1 and the Moon's distance to the degree, as a star list prints them; 'yes' or 'no' in
+    every recommended cell (common practice)."""
+    voyage = process_log("sample_sights/demo_sights.csv")
+    book = openpyxl.load_workbook(write_workbook(voyage, tmp_path / "v.xlsx", plots=False))
+    plan, _ = sheet_frame(book["Sight plan"])
+    plan = plan[plan["body"].notna() & plan["magnitude"].notna()]
+    assert len(plan) >= 5
+    assert all(round(float(m), 1) == float(m) for m in plan["magnitude"])
+    assert all(float(d) == round(float(d)) for d in plan["from the Moon (deg)"].dropna())
+    assert set(plan["recommended"]) == {"yes", "no"}

@@ -414,8 +414,8 @@ def plan_table(plan) -> pd.DataFrame:
         "Hc to preset (° ′)": [format_angle(v, "signed") for v in plan.hc_deg[order]],
         "Hc (deg)": plan.hc_deg[order],
         "Zn (deg true)": plan.zn_deg[order],
-        "magnitude": plan.magnitude[order],
-        "from the Moon (deg)": plan.moon_separation_deg[order],
-        "recommended": np.where(plan.recommended[order], "yes", ""),
+        "magnitude": np.round(plan.magnitude[order], 1),  # as a star list prints it
+        "from the Moon (deg)": np.round(plan.moon_separation_deg[order], 0),
+        "recommended": np.where(plan.recommended[order], "yes", "no"),
     })
 

@@ -233,6 +233,12 @@ def test_the_fixes_sheet_reads_as_the_trade_writes(tmp_path):
     # the limb worked beside the body, whose SD the sheet applies (a star or planet has none)
     assert working.loc[working["body"] == "Sun", "limb"].tolist() == ["lower"] * 3
     assert set(working.loc[working["body"] == "Sirius", "limb"]) == {"none (a point of light)"}
+    # the noon Sun's latitude beside its Ho, as navred fix prints it (row 3: the Sun at 12:56, on the meridian)
+    noon = working.loc[working["row in log"] == 3, "latitude (° ′)"].iloc[0]
+    assert noon.endswith("(meridian altitude)")
+    truth = pd.read_csv("sample_sights/demo_truth.csv")  # the invented demo's true track (skyfield's sky)
+    assert dm(noon.split(" (")[0]) == pytest.approx(float(truth.loc[1, "true_lat_deg"]) * 60.0, abs=0.3)
+    assert set(working.loc[working["row in log"] != 3, "latitude (° ′)"]) == {"not on the meridian"}
     kinds = dict(zip(fixes["fix group"], fixes["kind"]))
     assert kinds["sun-run-sun"] == "running fix" and kinds["evening-stars"] == "fix"
     for row in fixes.to_dict("records"):

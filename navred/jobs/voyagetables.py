@@ -111,7 +111,26 @@ def working_table(voyage) -> pd.DataFrame:
         "UT1 source": r.ut1_source,
         "flags": [n or "none" for n in notes],
     })
-    return _with_columns_used(table, r, voyage.log.extra_columns, (weight_used[ok], sigma_taken[ok]))
+    table = _with_columns_used(table, r, voyage.log.extra_columns, (weight_used[ok], sigma_taken[ok]))
+    return _with_latitudes(table, r)
+
+
+def _with_latitudes(table: pd.DataFrame, r: pd.DataFrame) -> pd.DataFrame:
+    """The latitude a sight on the meridian (or of Polaris) gives, beside its Ho, where the log has one: the
+    noon latitude is the first figure a master looks for in the day's work (navred fix prints the same)."""
+    from .fixing import latitude_checks
+
+    checks = latitude_checks(r)
+    if not len(checks):
+        return table
+    labels = row_labels(r)
+    texts = np.full(len(r), "not on the meridian", dtype=object)
+    where = {label: k for k, label in enumerate(labels.tolist())}
+    for row in checks.itertuples():
+        method = "meridian altitude" if row.method == "meridian" else "Polaris"
+        texts[where[row.row]] = f"{format_angle(float(row.lat_deg), 'lat')} ({method})"
+    table.insert(table.columns.get_loc("Hc (° ′)"), "latitude (° ′)", texts)
+    return table
 
 
 def assumed_cells(values: pd.Series, assumed: pd.Series, name: str, unit: str) -> np.ndarray:

@@ -357,8 +357,8 @@ def _line_text(fix, sights: SheetSights, row: int, moved: str, left_out: bool) -
     """'Sun 09:10→15:40 · 6.2 nm A · Zn 113.5°': body, time (and the time moved to), intercept, Zn."""
     intercept = float(fix.lop_intercept_nm[row])
     when = _hhmm(sights.utc[row]) + (f"→{_hhmm(fix.utc)}" if moved else "")
-    text = (f"{sights.body[row]} {when} · {abs(intercept):.1f} nm {'T' if intercept >= 0 else 'A'} · "
-            f"Zn {float(fix.lop_zn_deg[row]) % 360:05.1f}°")
+    side = "" if round(abs(intercept), 1) == 0.0 else " T" if intercept > 0 else " A"  # a nil intercept has no side
+    text = f"{sights.body[row]} {when} · {abs(intercept):.1f} nm{side} · Zn {float(fix.lop_zn_deg[row]) % 360:05.1f}°"
     return text + (" (left out)" if left_out else " (flagged)" if bool(fix.outlier[row]) else "")
 
 

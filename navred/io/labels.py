@@ -28,6 +28,11 @@ LABELS = {
     "ship_from": "ship's position from", "off_nm": "off the ship (nm)", "bearing_deg": "bearing from the ship (deg)",
     "course_working": "course: the working", "speed_working": "speed: the working",
     "minutes_from_meridian": "from the meridian (min)", "limit_minutes": "ex-meridian limit (min)",
+    # the DR's entries (navred.io.logdr)
+    "course_deg": "course (deg)", "speed_kn": "speed (kn)", "compass_course_deg": "compass course (deg)",
+    "deviation_deg": "deviation (deg, E +)", "variation_deg": "variation (deg, E +)", "leeway_deg": "leeway (deg)",
+    "log_reading_nm": "log reading (nm)", "clocks_zone_h": "clocks to zone (h)", "clocks_change_h": "clocks changed (h)",
+    "body_name": "body", "lat_by": "latitude by",
     # training records (navred.jobs.training)
     "body_kind": "body kind", "blunder_rate": "blunder rate", "personal_error_arcmin": "personal error (′)",
     "standard_error_arcmin": "standard error (′)", "interval_95_arcmin": "95 % interval (′)",
@@ -36,12 +41,15 @@ LABELS = {
     "distance_from_reference_nm": "distance from reference (nm)",
     "bearing_to_reference_deg": "bearing from fix to reference (deg)",
     "reference_inside_95": "reference inside 95 % ellipse", "ellipse_semi_major_95_nm": "95 % semi-major (nm)",
+    "trend_note": "why no trend", "sight_utc": "UTC", "reference_lat_deg": "reference lat (deg)",
+    "reference_lon_deg": "reference lon (deg)", "hc_reference_deg": "Hc at the reference (deg)", "ho_deg": "Ho (deg)",
+    "error_arcmin": "error Ho − Hc (′)", "within_track": "within the track",
     # a route's waypoints (navred.jobs.routes)
     "from_start_nm": "from start (nm)", "rhumb_course_to_next_deg": "rhumb course to next (deg)",
     "rhumb_distance_to_next_nm": "rhumb distance to next (nm)",
     # a timepiece's comparisons (navred.io.timesignals)
     "signal_utc": "signal (UTC)", "zone_description_h": "zone (h)", "error_s": "error (s, fast +)",
-    "residual_s": "residual (s)",
+    "residual_s": "residual (s)", "dial_h": "dial (h)",
 }
 
 

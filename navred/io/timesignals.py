@@ -110,8 +110,8 @@ class Timepiece:
                     f"({c.common_rate_s_per_day:+.2f} ± {c.common_rate_95_s_per_day:.2f} s a day, 95 %; the rates "
                     f"either side {c.rate_before_s_per_day:+.2f} and {c.rate_after_s_per_day:+.2f} agree); sights "
                     "after it take the error after the step")
-        return (f"RATE CHANGED {between}: {_rate_words(c.rate_before_s_per_day)} before, "
-                f"{_rate_words(c.rate_after_s_per_day)} after (a change beyond the signals' own scatter, at 99 %); "
+        return (f"RATE CHANGED {between}: {rate_words(c.rate_before_s_per_day)} before, "
+                f"{rate_words(c.rate_after_s_per_day)} after (a change beyond the signals' own scatter, at 99 %); "
                 "sights after it take the later signals' line")
 
     def summary(self) -> str:
@@ -124,10 +124,9 @@ class Timepiece:
         elif not float(f.spread_days) > 0:
             rate = "rate unknown (every comparison at one instant)"
         elif int(f.n) == 2:
-            rate = f"rate {float(f.rate_s_per_day):+.2f} s a day (two comparisons: no uncertainty)"
+            rate = f"{rate_words(f.rate_s_per_day)} (two comparisons: no uncertainty)"
         else:
-            rate = (f"rate {float(f.rate_s_per_day):+.2f} ± {float(f.rate_95_s_per_day):.2f} s a day (95 %), "
-                    f"scatter {float(f.sigma_s):.2f} s")
+            rate = (f"{rate_words(f.rate_s_per_day, f.rate_95_s_per_day)} (95 %), scatter {float(f.sigma_s):.2f} s")
         read = float(last.error_s)
         read_text = (f" by the rated line (the signal read {abs(read):.1f} s {'fast' if read >= 0 else 'slow'})"
                      if abs(read - error_now) >= 0.05 else "")
@@ -139,9 +138,14 @@ class Timepiece:
         return text
 
 
-def _rate_words(rate: float) -> str:
-    """A daily rate in a navigator's words: 'gaining 0.45 s a day', 'losing 1.20 s a day'."""
-    return f"{'gaining' if rate >= 0 else 'losing'} {abs(rate):.2f} s a day"
+def rate_words(rate_s_per_day: float, interval_95_s: float | None = None) -> str:
+    """A timepiece's daily rate as the trade says it: 'gaining 0.46 s a day' (a rate that makes it fast),
+    'losing 1.20 s a day', with its 95 % interval when given ('gaining 0.46 ± 0.10 s a day')."""
+    rate = float(rate_s_per_day)
+    spread = f" ± {float(interval_95_s):.2f}" if interval_95_s is not None else ""
+    if f"{abs(rate):.2f}" == "0.00":
+        return f"neither gaining nor losing (0.00{spread} s a day)"
+    return f"{'gaining' if rate > 0 else 'losing'} {abs(rate):.2f}{spread} s a day"
 
 
 def _span_text(days: float) -> str:
@@ -206,7 +210,7 @@ class Ratings:
             for k, i in enumerate(rows.tolist()):
                 line = after if later[k] else before
                 rate = ("no rate" if int(line.n) < 2 or not float(line.spread_days) > 0
-                        else f"rate {float(line.rate_s_per_day):+.2f} s a day")
+                        else rate_words(float(line.rate_s_per_day)))
                 text = f"{label} rated: {rate}"
                 if piece.change.changed:
                     text += (f", {'after' if later[k] else 'before'} its "
@@ -412,4 +416,4 @@ def _comparison(cells: dict, dates: str | None = None) -> tuple[dict, list[tuple
             "dial_h": dial, "error_s": error}, []
 
 
-__all__ = ["Ratings", "Timepiece", "read_rating_log", "RATING_COLUMNS", "days_of", "EXTRAPOLATION_NOTE_DAYS"]
+__all__ = ["rate_words", "Ratings", "Timepiece", "read_rating_log", "RATING_COLUMNS", "days_of", "EXTRAPOLATION_NOTE_DAYS"]

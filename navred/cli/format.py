@@ -45,33 +45,54 @@ def labels_of(reduced: pd.DataFrame) -> np.ndarray:
 # --- almanac, bodies, identify ------------------------------------------------------------------
 
 ALMANAC_COLUMNS = ("gha_aries_deg", "ra_hours", "sha_deg", "gha_deg", "dec_deg", "hp_arcmin", "sd_arcmin",
-                   "distance_km")
+                   "distance_km", "v_arcmin", "d_arcmin")
 
 
 def almanac_csv(result) -> str:
-    """The almanac as CSV: a row per body, decimal degrees to 1e-7 (body names are the catalogue's own)."""
-    stamp = str(result.instants.utc_datetime64()[0].astype("datetime64[ms]"))
-    dut1_s, source = float(result.instants.dut1_s[0]), str(result.instants.ut1_source[0])
+    """The almanac (:class:`navred.handtables.InstantAlmanac`) as CSV: a row per body, decimal degrees to 1e-7
+    (body names are the catalogue's own; an empty field where a body has no such value)."""
+    stamp = str(result.utc.astype("datetime64[ms]"))
     lines = [",".join(["body", "utc", *ALMANAC_COLUMNS, "dut1_s", "ut1_source"])]
-    for k, body in enumerate(result.body.tolist()):
-        numbers = ["" if v != v else f"{v:.7f}" for v in (float(getattr(result, c)[k]) for c in ALMANAC_COLUMNS)]
-        lines.append(",".join([body, f"{stamp}000Z", *numbers, f"{dut1_s:.7f}", source]))
+    for k, body in enumerate(result.body):
+        numbers = []
+        for column in ALMANAC_COLUMNS:
+            value = result.gha_aries_deg if column == "gha_aries_deg" else float(getattr(result, column)[k])
+            numbers.append("" if value != value else f"{value:.7f}")
+        lines.append(",".join([body, f"{stamp}000Z", *numbers, f"{result.dut1_s:.7f}", result.ut1_source]))
     return "\n".join(lines) + "\n"
 
 
+def almanac_text(bodies: list[str], utc: str, dut1_s: float | None, *, csv: bool) -> str:
+    """What ``navred almanac`` prints on stdout: the almanac of ``bodies`` at ``utc`` as CSV or as lines."""
+    from ..handtables import almanac_at
+
+    result = almanac_at(bodies, utc, dut1_s)
+    return almanac_csv(result) if csv else "\n".join(almanac_lines(result)) + "\n"
+
+
+def _arcmin_text(value: float, signed: bool = False) -> str:
+    if value != value:
+        return "-"
+    return f"{value:+.1f}′" if signed else (f"{value:.1f}′" if value else "-")
+
+
 def almanac_lines(result) -> list[str]:
-    stamp = str(result.instants.utc_datetime64()[0].astype("datetime64[ms]"))
-    dut1_s, source = float(result.instants.dut1_s[0]), str(result.instants.ut1_source[0])
-    lines = [f"UTC {stamp[:19].replace('T', ' ')}   DUT1 {dut1_s:+.3f} s ({source})",
-             f"GHA Aries {format_angle(float(result.gha_aries_deg[0]))}", "",
-             f"{'body':<16}{'GHA':>13}{'Dec':>14}{'SHA':>13}{'HP':>8}{'SD':>8}"]
-    for k, body in enumerate(result.body.tolist()):
-        hp_value, sd_value = float(result.hp_arcmin[k]), float(result.sd_arcmin[k])
-        hp = f"{hp_value:.1f}′" if hp_value else "-"
-        sd = f"{sd_value:.1f}′" if sd_value else "-"
+    """The almanac at one instant in navigational form; v and d (signed, d + northward) for the Sun, Moon and
+    planets over the hour of UTC that holds the instant."""
+    stamp = str(result.utc.astype("datetime64[ms]"))
+    lines = [f"UTC {stamp[:19].replace('T', ' ')}   DUT1 {result.dut1_s:+.3f} s ({result.ut1_source})",
+             f"GHA Aries {format_angle(result.gha_aries_deg)}", "",
+             f"{'body':<16}{'GHA':>13}{'v':>8}{'Dec':>14}{'d':>8}{'SHA':>13}{'HP':>8}{'SD':>8}"]
+    for k, body in enumerate(result.body):
         lines.append(f"{body:<16}{format_angle(float(result.gha_deg[k])):>13}"
-                     f"{format_angle(float(result.dec_deg[k]), 'dec'):>14}{format_angle(float(result.sha_deg[k])):>13}"
-                     f"{hp:>8}{sd:>8}")
+                     f"{_arcmin_text(float(result.v_arcmin[k]), True):>8}"
+                     f"{format_angle(float(result.dec_deg[k]), 'dec'):>14}"
+                     f"{_arcmin_text(float(result.d_arcmin[k]), True):>8}"
+                     f"{format_angle(float(result.sha_deg[k])):>13}"
+                     f"{_arcmin_text(float(result.hp_arcmin[k])):>8}{_arcmin_text(float(result.sd_arcmin[k])):>8}")
+    if any(v == v for v in result.v_arcmin.tolist()):
+        lines += ["", "v: the hour's change of GHA less the increments table's rate (15° 00.0′; the Moon 14° 19.0′); "
+                      "d: the hour's change of Dec (+ north); both over the hour of UTC that holds the instant"]
     return lines
 
 

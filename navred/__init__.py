@@ -22,6 +22,7 @@ FUNCTIONS = {
     "reduce_sights": "jobs.sights",  # sights -> Ho, Hc, Zn and the intercept, a row per sight
     "process_log": "jobs.voyage",  # the whole job: read, reduce, fix every group -> VoyageResult
     "fix_position": "jobs.frames",  # one fix group's reduced sights -> FixResult
+    "fix_positions": "jobs.frames",  # every fix group's reduced sights at once -> GroupedFixes
     "body_positions": "jobs.frames",  # the almanac as a table
     "sun_events": "plan",  # twilights, sunrise, meridian passage and sunset of a date
     "mark_workings": "jobs.workings",  # a cadet's hand working marked line by line -> MarkingReport
@@ -31,7 +32,7 @@ FUNCTIONS = {
 }
 #: The results those functions return (frozen dataclasses).
 RESULTS = {
-    "SightLog": "io.logbook", "VoyageResult": "jobs.voyage", "GroupFix": "jobs.voyage", "FixResult": "fix",
+    "SightLog": "io.logbook", "VoyageResult": "jobs.voyage", "GroupFix": "jobs.voyage", "FixResult": "fix", "GroupedFixes": "jobs.frames",
     "Places": "almanac", "MarkingReport": "jobs.workings", "ReferenceTrack": "io.track", "Ratings": "io.timesignals",
 }
 #: The errors navred raises (all NavredError, a ValueError) and the warning it gives.

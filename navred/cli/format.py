@@ -96,6 +96,27 @@ def almanac_lines(result) -> list[str]:
     return lines
 
 
+def plot_plan_line(plan, folder: str) -> str:
+    """The line a long run of picture files starts with: how many, what, where, and about how long."""
+    minutes = plan.seconds / 60.0
+    when = (f"about {minutes:.0f} minutes" if minutes >= 1.5 else
+            f"about {max(plan.seconds, 1):.0f} seconds")
+    kinds = " and ".join(f.upper() for f in plan.formats)
+    who = f" by {plan.drawers} processes" if plan.drawers > 1 else ""
+    faster = ""
+    if "png" in plan.formats and plan.sheets:
+        svg_share = _svg_share(plan)
+        faster = f"; --plot-formats svg would take about {svg_share:.0%} of that"
+    return (f"writing {plan.files:,} picture files to {folder} ({plan.sheets:,} plotting sheets as {kinds}"
+            f"{f', {plan.track_pictures} voyage pictures' if plan.track_pictures else ''}), {when}{who}{faster}")
+
+
+def _svg_share(plan) -> float:
+    from ..jobs.plotfiles import SECONDS_PER_SHEET
+
+    return SECONDS_PER_SHEET["svg"] / sum(SECONDS_PER_SHEET[f] for f in plan.formats)
+
+
 def bodies_table() -> pd.DataFrame:
     import pandas as pd
 

@@ -218,6 +218,30 @@ def _processed(sights_files, files, dates, rates, solve_motion, carry_current, c
     return voyage
 
 
+def _announced_plots(voyage, plots: str, formats):
+    """For a run that will write many picture files: a line on stderr saying how many and about how long, and a
+    progress bar (the callback :func:`navred.jobs.plotfiles.write_plots` reports to); None for a short run."""
+    from ..jobs.plotfiles import plot_plan
+    from .format import plot_plan_line
+
+    plan = plot_plan(voyage, formats)
+    if not plan.announced:
+        return None
+    typer.echo(plot_plan_line(plan, plots), err=True)
+    bar = None
+
+    def progress(done: int, total: int) -> None:
+        nonlocal bar
+        if bar is None:
+            bar = typer.progressbar(length=total, label="drawing plotting sheets", file=sys.stderr)
+            bar.__enter__()
+        bar.update(done - bar.pos)
+        if done >= total:
+            bar.__exit__(None, None, None)
+
+    return progress
+
+
 def _write_voyage_files(voyage, files: dict[str, str], chosen, plots: str | None, formats) -> None:
     from ..jobs.chartfiles import write_voyage_geojson, write_voyage_gpx
     from ..jobs.plotfiles import write_plots
@@ -229,7 +253,7 @@ def _write_voyage_files(voyage, files: dict[str, str], chosen, plots: str | None
     if note:
         typer.echo(f"note: {note}", err=True)
     if plots:
-        written = write_plots(voyage, plots, formats)
+        written = write_plots(voyage, plots, formats, progress=_announced_plots(voyage, plots, formats))
         typer.echo(f"wrote {len(written)} picture files (plotting sheets and the voyage track) to {plots}")
     if ".gpx" in files:
         typer.echo(f"wrote {write_voyage_gpx(voyage, files['.gpx'])}")

@@ -50,6 +50,8 @@ MAX_RUN_BYTES = 256 * 1024 * 1024
 MAX_RUN_XML_BYTES = 32 * 1024 * 1024
 MAX_RUN_ROWS = 200_000
 MAX_RUN_CELLS = 8_000_000
+#: rows of a DataFrame an API caller passes (already in its memory: the bound of one long CSV log, MAX_ROWS)
+MAX_FRAME_ROWS = MAX_ROWS
 
 SEPARATORS = {",": "comma", ";": "semicolon", "\t": "tab"}
 _CONTROL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
@@ -147,7 +149,11 @@ def read_table(source: LogSource | RawTable, *, all_sheets: bool = False,
     ``budget`` (one :class:`ReadBudget` for the whole call when none is given)."""
     budget = ReadBudget() if budget is None else budget
     if hasattr(source, "columns") and hasattr(source, "iloc"):
-        budget.take_rows(len(source), source.shape[1], "(table)")
+        # a DataFrame is already in the caller's memory (not a file from another ship): held to the rows of one
+        # long CSV log, not to what a run may read from files (docs/security.md)
+        if len(source) > MAX_FRAME_ROWS:
+            raise LogbookError(f"the table holds {len(source):,} rows; navred reads at most {MAX_FRAME_ROWS:,} rows "
+                               "of a DataFrame at once: give it in parts")
         return [_from_frame(source)]
     if isinstance(source, RawTable):  # a table already read (a sight-book page turned into a table): counted then
         return [source]
@@ -872,4 +878,4 @@ def _blank_mask(column: pd.Series) -> np.ndarray:
 
 
 __all__ = ["RawTable", "read_table", "ReadBudget", "column_letter", "check_input_file", "plain_csv_blocks", "PlainBlocks", "blank_mask", "LogbookError", "MissingFormulaValue", "MAX_FILE_BYTES",
-           "MAX_ROWS", "MAX_COLUMNS", "MAX_CELL_CHARS"]
+           "MAX_ROWS", "MAX_COLUMNS", "MAX_CELL_CHARS", "MAX_FRAME_ROWS"]

@@ -195,20 +195,34 @@ def _twilight_check(notes: _Notes, rows: np.ndarray, bodies: np.ndarray, horizon
     planet = np.isin(bodies[chosen], ["Venus", "Mars", "Jupiter", "Saturn"])
     bright = altitude > SUN_BRIGHT_SKY_DEG
     dark = altitude < SUN_DARK_HORIZON_DEG
-    for k in np.flatnonzero(bright | dark).tolist():
-        where = (f"the Sun is {altitude[k]:.0f}° {'up' if altitude[k] >= 0 else 'below the horizon'} at the DR"
-                 if altitude[k] >= 0 or bright[k] else f"the Sun is {-altitude[k]:.0f}° below the horizon at the DR")
-        if bright[k]:
-            text = (f"{where}: a {'planet' if planet[k] else 'star'} on the sea horizon is taken in twilight, with "
-                    f"the Sun {-SUN_BRIGHT_SKY_DEG:.0f}° to {-SUN_DARK_HORIZON_DEG:.0f}° below the horizon"
-                    + (" (Venus and Jupiter can be seen in daylight through the telescope, if you knew where to "
-                       "look)" if planet[k] else " (no star is seen against a brighter sky)")
-                    + ": check the body, the time (zone, date) and the DR")
-        else:
-            text = (f"{where}: past the end of nautical twilight (the Sun {-SUN_DARK_HORIZON_DEG:.0f}° below) the sea "
-                    "horizon cannot be made out, so a sea-horizon sight is doubtful: check the time (zone, date) and "
-                    "the horizon (an artificial or bubble horizon needs no sea)")
-        notes.warn([chosen[k]], text)
+    if not (bright | dark).any():
+        return
+    # each warned row's text made from its whole degrees (the few distinct texts each made once)
+    degrees = np.rint(altitude).astype(int)
+    up = (altitude >= 0) | bright
+    kinds = np.where(bright, np.where(planet, 1, 2), 0)
+    keys = pd.Series(degrees * 16 + (altitude >= 0) * 8 + up * 4 + kinds)  # (what each text depends on)
+    warned = np.flatnonzero(bright | dark)
+    codes, distinct = pd.factorize(keys.iloc[warned])
+    first = warned[np.unique(codes, return_index=True)[1]]
+    texts = np.array([_twilight_text(float(altitude[k]), bool(bright[k]), bool(planet[k])) for k in first.tolist()],
+                     dtype=object)
+    notes.warn(chosen[warned], texts[codes])
+
+
+def _twilight_text(altitude: float, bright: bool, planet: bool) -> str:
+    """The warning of a star or planet sight with the Sun at ``altitude`` (degrees) at the DR."""
+    where = (f"the Sun is {altitude:.0f}° {'up' if altitude >= 0 else 'below the horizon'} at the DR"
+             if altitude >= 0 or bright else f"the Sun is {-altitude:.0f}° below the horizon at the DR")
+    if bright:
+        return (f"{where}: a {'planet' if planet else 'star'} on the sea horizon is taken in twilight, with "
+                f"the Sun {-SUN_BRIGHT_SKY_DEG:.0f}° to {-SUN_DARK_HORIZON_DEG:.0f}° below the horizon"
+                + (" (Venus and Jupiter can be seen in daylight through the telescope, if you knew where to "
+                   "look)" if planet else " (no star is seen against a brighter sky)")
+                + ": check the body, the time (zone, date) and the DR")
+    return (f"{where}: past the end of nautical twilight (the Sun {-SUN_DARK_HORIZON_DEG:.0f}° below) the sea "
+            "horizon cannot be made out, so a sea-horizon sight is doubtful: check the time (zone, date) and "
+            "the horizon (an artificial or bubble horizon needs no sea)")
 
 
 __all__ = ["reduce_sights", "parsed_sights", "RESULT_COLUMNS", "SIGHT_COLUMNS"]

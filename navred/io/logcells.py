@@ -552,4 +552,19 @@ def floats(parsed: Parsed, default=np.nan) -> np.ndarray:
 
 
 def words(parsed: Parsed, default="") -> np.ndarray:
-    return np.where(parsed.ok, parsed.value, default).astype(object)
+    out = np.asarray(parsed.value, dtype=object).copy()
+    out[~np.asarray(parsed.ok, dtype=bool)] = default  # (one text object shared by every row that takes it)
+    return out
+
+
+def texts_of(n: int, text: str = "") -> np.ndarray:
+    """``n`` rows of one text, every row holding the same object (``np.full`` makes an object per row)."""
+    out = np.empty(n, dtype=object)
+    out[:] = text
+    return out
+
+
+def chosen_texts(index: np.ndarray, choices: list[str]) -> np.ndarray:
+    """Each row's text ``choices[index]``, every row holding one of the few objects (``np.where`` between
+    texts makes an object per row, which a long table pays for)."""
+    return np.array(choices, dtype=object)[np.asarray(index, dtype=np.intp)]

@@ -292,7 +292,7 @@ def sight_log_blocks(source: LogSource, *, dates: str | None = None, block_rows:
         raise LogbookError(f"dates {dates!r} is not one of {', '.join(DATE_ORDERS)}")
     plain = plain_csv_blocks(source, block_rows) if isinstance(source, (str, Path)) and Path(source).is_file() \
         else None
-    if plain is None or len(plain.lines) <= block_rows:
+    if plain is None or plain.n_lines <= block_rows:
         return None
     first = plain.block(0)
     layout = _layout(first)

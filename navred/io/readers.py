@@ -405,48 +405,70 @@ def _plain_table(source: str, text: str, first: int, separator: str) -> RawTable
 
 @dataclass
 class PlainBlocks:
-    """A plain CSV log's lines, read once, handed out as tables of ``rows`` lines each."""
+    """A plain CSV log to be read in blocks of ``rows`` lines: the byte offset in the file where each block
+    begins (the file was looked at once, a piece at a time, and is never held whole): each block is read from
+    the file when it is asked for, by whichever process works it."""
 
     source: str
     header: list[str]
     separator: str
-    lines: list[str]
+    #: the byte offset of each block's first line, and of the end of the last (one more than the blocks)
+    offsets: np.ndarray
+    #: the lines of each block (``rows`` but for the last)
+    counts: np.ndarray
     first_row_number: int
     rows: int
+    #: whether some line that is not blank leaves each column blank (columns by index), as looked at
+    blank_columns: np.ndarray
+    #: the longest line, in bytes (no cell of a plain file is longer than its line)
+    longest_line: int = 0
+
+    @property
+    def n_lines(self) -> int:
+        return int(self.counts.sum())
 
     def any_blank(self, columns: list[int]) -> bool:
         """Whether some line that is not blank has every one of these columns blank."""
-        separator = self.separator
         if len(columns) == 1:
-            # the one column read by pandas' C parser (a plain file splits the same way), then looked at
-            cells = pd.read_csv(io.StringIO("\n".join(self.lines)), sep=separator, header=None, usecols=columns,
-                                names=list(range(len(self.header))), dtype=object, keep_default_na=False,
-                                na_values=[], quoting=csv.QUOTE_NONE, engine="c", skip_blank_lines=False,
-                                skipinitialspace=False, comment=None)[columns[0]].tolist()
-            if len(cells) == len(self.lines):
-                return any(not cell.strip() and line.replace(separator, "").strip()
-                           for cell, line in zip(cells, self.lines))
-        for line in self.lines:
-            if not line.replace(separator, "").strip():
-                continue
-            cells = line.split(separator)
-            if all(not cells[k].strip() for k in columns):
-                return True
+            return bool(self.blank_columns[columns[0]])
+        return bool(self.blank_columns[columns].all()) and self._all_blank_somewhere(columns)
+
+    def _all_blank_somewhere(self, columns: list[int]) -> bool:
+        for k in range(len(self)):
+            for line in self._lines(k):
+                if not line.replace(self.separator, "").strip():
+                    continue
+                cells = line.split(self.separator)
+                if all(not cells[c].strip() for c in columns):
+                    return True
         return False
 
     def __len__(self) -> int:
         """The number of blocks."""
-        return -(-len(self.lines) // self.rows)
+        return len(self.counts)
+
+    def _lines(self, k: int) -> list[str]:
+        with open(self.source, "rb") as handle:
+            handle.seek(int(self.offsets[k]))
+            data = handle.read(int(self.offsets[k + 1] - self.offsets[k]))
+        try:
+            text = data.decode("utf-8")
+        except UnicodeDecodeError:
+            text = None
+        lines = text.split("\n") if text is not None else []
+        if lines and lines[-1] == "":
+            lines.pop()
+        if text is None or len(lines) != self.counts[k] or '"' in text or _BAD_TEXT.search(text) is not None:
+            raise LogbookError(f"{self.source} changed while it was being read: read it again")
+        return lines
 
     def block(self, k: int) -> RawTable:
-        """Block ``k`` (from 0) as a table of its rows, numbered as in the file."""
-        if not hasattr(self, "_short"):
-            self._short = max(map(len, self.lines), default=0) <= MAX_CELL_CHARS
-        start = k * self.rows
-        table = _plain_block(self.source, list(self.header), self.lines[start:start + self.rows],
-                             self.first_row_number + start, self.separator, short_lines=self._short)
-        if table is None:  # every line's fields were counted when the file was read
-            raise LogbookError(f"{self.source}: a block could not be read as it was checked (a navred defect)")
+        """Block ``k`` (from 0) as a table of its rows, numbered as in the file, read from the file now."""
+        lines = self._lines(k)
+        table = _plain_block(self.source, list(self.header), lines, self.first_row_number + k * self.rows,
+                             self.separator, short_lines=self.longest_line <= MAX_CELL_CHARS)
+        if table is None:  # every line's fields were counted when the file was looked at
+            raise LogbookError(f"{self.source} changed while it was being read: read it again")
         return table
 
     def __iter__(self):
@@ -454,37 +476,155 @@ class PlainBlocks:
             yield self.block(k)
 
 
+#: bytes of a long plain log looked at a time (the file is never held whole)
+SCAN_BYTES = 8 * 1024 * 1024
+_ASCII_SPACE = np.zeros(256, dtype=bool)
+_ASCII_SPACE[[9, 10, 11, 12, 13, 28, 29, 30, 31, 32]] = True  # what str.strip() removes among ASCII bytes
+_BAD_BYTES = re.compile(rb'["\r\x00-\x08\x0b\x0c\x0e-\x1f\x7f]')
+
+
 def plain_csv_blocks(path: str | Path, rows: int) -> PlainBlocks | None:
     """A plain CSV sight log to be read in blocks of ``rows`` lines (each a :class:`RawTable` with the
     rows' own numbers), under the same bounds as :func:`read_table`; None when the file is not a plain
-    CSV (quoted cells, control characters, an .xlsx) or a line has the wrong number of fields: read it
-    whole with :func:`read_table` then."""
+    UTF-8 CSV (quoted cells, control characters, another encoding, an .xlsx) or a line has the wrong number
+    of fields: read it whole with :func:`read_table` then. The file is looked at a piece at a time
+    (:data:`SCAN_BYTES`): its lines' fields counted, the blank cells of each column noted, and where each
+    block begins; no line of it is kept."""
     path = Path(path)
     if not path.is_file() or path.suffix.lower() in (".xlsx", ".xlsm"):
         return None
     size = path.stat().st_size
     if size == 0 or size > MAX_FILE_BYTES:
         return None  # read_table gives the refusal
-    data = path.read_bytes()
-    if data.startswith((b"PK", b"\x1f\x8b")):
+    with open(path, "rb") as handle:
+        head = handle.read(min(size, SCAN_BYTES))
+        if head.startswith((b"PK", b"\x1f\x8b", b"\xff\xfe", b"\xfe\xff")):
+            return None
+        start = 3 if head.startswith(b"\xef\xbb\xbf") else 0
+        header_end, first, header_line = start, 0, None
+        while True:  # the first line that is not blank is the header
+            end = head.find(b"\n", header_end)
+            if end < 0:
+                return None
+            line = head[header_end:end]
+            if line.strip().strip(b",;\t"):
+                header_line = line
+                header_end = end + 1
+                break
+            header_end, first = end + 1, first + 1
+        if _BAD_BYTES.search(header_line):
+            return None
+        try:
+            header_text = header_line.decode("utf-8")
+        except UnicodeDecodeError:
+            return None
+        if not header_text.strip().strip(",;\t"):
+            return None  # (a line of spaces beyond ASCII: the careful reader decides)
+        separator = _choose_separator(header_text)
+        header = [h.strip() for h in header_text.split(separator)]
+        if not header or header[-1] == "":
+            return None
+        _check_width(str(path), header)
+        handle.seek(header_end)
+        scan = _scan_plain_lines(handle, separator.encode(), len(header), rows, header_end)
+    if scan is None:
         return None
-    text, decoding = _decode(data, path)
-    del data
-    if "\r" in text or "\x00" in text or decoding:
+    offsets, counts, blank_columns, longest = scan
+    if counts.sum() > MAX_ROWS or counts.sum() == 0:
         return None
-    first = next((k for k, line in enumerate(io.StringIO(text)) if line.strip().strip(",;\t")), None)
-    if first is None:
+    return PlainBlocks(str(path), header, separator, offsets, counts, first + 2, rows, blank_columns, longest)
+
+
+def _scan_plain_lines(handle, separator: bytes, width: int, rows: int, position: int):
+    """(block offsets, lines per block, the columns some non-blank line leaves blank, the longest line) of the
+    lines from ``position`` on, looked at :data:`SCAN_BYTES` at a time; None when a line is not plain or has
+    another number of fields than the header."""
+    code = separator[0]
+    offsets, lines_seen, carry = [position], 0, b""
+    blank_columns = np.zeros(width, dtype=bool)
+    longest = 0
+    while True:
+        chunk = handle.read(SCAN_BYTES)
+        data = carry + chunk
+        if not chunk:
+            if not data:
+                break
+            data += b"\n"  # a last line without its line end
+        cut = data.rfind(b"\n") + 1
+        body, carry = data[:cut], data[cut:]
+        if not body:
+            continue
+        if _BAD_BYTES.search(body):
+            return None
+        try:
+            body.decode("utf-8")
+        except UnicodeDecodeError:
+            return None
+        looked = _look_at_lines(np.frombuffer(body, dtype=np.uint8), code, width, body)
+        if looked is None:
+            return None
+        ends, blanks, lengths = looked
+        blank_columns |= blanks
+        longest = max(longest, int(lengths.max(initial=0)))
+        # where each block begins: after every rows-th line
+        firsts = np.arange((-lines_seen) % rows, ends.size, rows)
+        firsts = firsts[firsts > 0] if lines_seen == 0 else firsts
+        starts = np.concatenate([[0], ends[:-1] + 1])
+        offsets.extend((position + starts[firsts]).tolist())
+        lines_seen += ends.size
+        position += len(body)
+        if not chunk:
+            break
+    offsets.append(position)
+    counts = np.diff(np.arange(0, lines_seen + rows, rows).clip(max=lines_seen))
+    counts = counts[counts > 0]
+    if len(offsets) != counts.size + 1:
         return None
-    separator = _choose_separator(text.split("\n", first + 1)[first])
-    plain = _plain_lines(text, first, separator, str(path))
-    del text
-    if plain is None:
+    return np.array(offsets, dtype=np.int64), counts, blank_columns, longest
+
+
+def _look_at_lines(data: np.ndarray, separator: int, width: int, body: bytes):
+    """(each line's end, the columns some non-blank line leaves blank, each line's length) of whole lines of
+    bytes; None when a line that is not blank has another number of fields than ``width``."""
+    ends = np.flatnonzero(data == 10)
+    starts = np.concatenate([[0], ends[:-1] + 1])
+    is_separator = data == separator
+    content = ~_ASCII_SPACE[data] & ~is_separator
+    wide = data >= 128  # a byte of a character beyond ASCII: str.strip() may take it for a space
+    seps = np.concatenate([[0], np.cumsum(is_separator)])
+    filled = np.concatenate([[0], np.cumsum(content)])
+    fields = seps[ends] - seps[starts]
+    blank_line = (filled[ends] - filled[starts]) == 0
+    unsure = blank_line.copy()
+    unsure[:] = False
+    if wide.any():  # lines of nothing but wide bytes and spaces: judged as text, as the careful reader does
+        many = np.concatenate([[0], np.cumsum(wide & content)])
+        only_wide = (filled[ends] - filled[starts]) == (many[ends] - many[starts])
+        unsure = only_wide & ~blank_line
+    for k in np.flatnonzero(unsure).tolist():
+        line = body[starts[k]:ends[k]].decode("utf-8")
+        blank_line[k] = not line.replace(chr(separator), "").strip()
+    if np.any(fields[~blank_line] != width - 1):
         return None
-    header, lines = plain
-    width = len(header)
-    if any(line.count(separator) != width - 1 for line in lines if line.replace(separator, "").strip()):
-        return None
-    return PlainBlocks(str(path), header, separator, lines, first + 2, rows)
+    blanks = np.zeros(width, dtype=bool)
+    kept = np.flatnonzero(~blank_line)
+    if kept.size and width > 1:
+        where = np.flatnonzero(is_separator)
+        # every kept line has width-1 separators: the fields' bounds line by line
+        first_sep = seps[starts[kept]]
+        bounds = where[first_sep[:, None] + np.arange(width - 1)[None, :]]
+        left = np.column_stack([starts[kept], bounds + 1])
+        right = np.column_stack([bounds, ends[kept]])
+        empty = (filled[right] - filled[left]) == 0
+        if wide.any():
+            many = np.concatenate([[0], np.cumsum(wide & content)])
+            maybe = ~empty & ((filled[right] - filled[left]) == (many[right] - many[left]))
+            for i, j in zip(*np.nonzero(maybe)):
+                empty[i, j] = not body[left[i, j]:right[i, j]].decode("utf-8").strip()
+        blanks = empty.any(axis=0)
+    elif kept.size:
+        blanks[0] = False
+    return ends, blanks, ends - starts
 
 
 def _records(reader, path, first) -> list[list[str]]:

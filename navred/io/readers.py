@@ -478,9 +478,8 @@ class PlainBlocks:
 
 #: bytes of a long plain log looked at a time (the file is never held whole)
 SCAN_BYTES = 8 * 1024 * 1024
-_ASCII_SPACE = np.zeros(256, dtype=bool)
-_ASCII_SPACE[[9, 10, 11, 12, 13, 28, 29, 30, 31, 32]] = True  # what str.strip() removes among ASCII bytes
 _BAD_BYTES = re.compile(rb'["\r\x00-\x08\x0b\x0c\x0e-\x1f\x7f]')
+
 
 
 def plain_csv_blocks(path: str | Path, rows: int) -> PlainBlocks | None:
@@ -554,13 +553,15 @@ def _scan_plain_lines(handle, separator: bytes, width: int, rows: int, position:
         body, carry = data[:cut], data[cut:]
         if not body:
             continue
-        if _BAD_BYTES.search(body):
-            return None
+        codes = np.frombuffer(body, dtype=np.uint8)
+        if b'"' in body or b"\x7f" in body or \
+                np.count_nonzero(codes < 32) != body.count(b"\n") + body.count(b"\t"):
+            return None  # a quote, a carriage return or another control character: not plain
         try:
             body.decode("utf-8")
         except UnicodeDecodeError:
             return None
-        looked = _look_at_lines(np.frombuffer(body, dtype=np.uint8), code, width, body)
+        looked = _look_at_lines(codes, code, width, body)
         if looked is None:
             return None
         ends, blanks, lengths = looked
@@ -585,46 +586,54 @@ def _scan_plain_lines(handle, separator: bytes, width: int, rows: int, position:
 
 def _look_at_lines(data: np.ndarray, separator: int, width: int, body: bytes):
     """(each line's end, the columns some non-blank line leaves blank, each line's length) of whole lines of
-    bytes; None when a line that is not blank has another number of fields than ``width``."""
+    bytes; None when a line that is not blank has another number of fields than ``width``. Bytes are
+    counted between bounds from the sorted positions of the few kinds that matter (separators, spaces,
+    bytes beyond ASCII), never byte by byte in Python."""
     ends = np.flatnonzero(data == 10)
     starts = np.concatenate([[0], ends[:-1] + 1])
-    is_separator = data == separator
-    content = ~_ASCII_SPACE[data] & ~is_separator
-    wide = data >= 128  # a byte of a character beyond ASCII: str.strip() may take it for a space
-    seps = np.concatenate([[0], np.cumsum(is_separator)])
-    filled = np.concatenate([[0], np.cumsum(content)])
-    fields = seps[ends] - seps[starts]
-    blank_line = (filled[ends] - filled[starts]) == 0
-    unsure = blank_line.copy()
-    unsure[:] = False
-    if wide.any():  # lines of nothing but wide bytes and spaces: judged as text, as the careful reader does
-        many = np.concatenate([[0], np.cumsum(wide & content)])
-        only_wide = (filled[ends] - filled[starts]) == (many[ends] - many[starts])
-        unsure = only_wide & ~blank_line
-    for k in np.flatnonzero(unsure).tolist():
-        line = body[starts[k]:ends[k]].decode("utf-8")
-        blank_line[k] = not line.replace(chr(separator), "").strip()
+    spaces = (data == 32) | (data == 9)  # (the other spaces str.strip() removes are control characters: refused)
+    where = np.flatnonzero(data == separator)
+    if spaces[where].any():
+        spaces[where] = False  # (a tab separating fields is not a space inside one)
+    blank_at = np.flatnonzero(spaces)
+    wide_at = np.flatnonzero(data >= 128)  # a byte of a character beyond ASCII: str.strip() may take it for a space
+
+    def count(positions, left, right):
+        return np.searchsorted(positions, right) - np.searchsorted(positions, left)
+
+    fields = count(where, starts, ends)
+    lengths = ends - starts
+    filled = lengths - fields - count(blank_at, starts, ends)  # bytes that are neither separators nor spaces
+    blank_line = filled == 0
+    if wide_at.size:  # lines of nothing but wide bytes and spaces: judged as text, as the careful reader does
+        unsure = ~blank_line & (filled == count(wide_at, starts, ends))
+        for k in np.flatnonzero(unsure).tolist():
+            line = body[starts[k]:ends[k]].decode("utf-8")
+            blank_line[k] = not line.replace(chr(separator), "").strip()
     if np.any(fields[~blank_line] != width - 1):
         return None
     blanks = np.zeros(width, dtype=bool)
     kept = np.flatnonzero(~blank_line)
     if kept.size and width > 1:
-        where = np.flatnonzero(is_separator)
         # every kept line has width-1 separators: the fields' bounds line by line
-        first_sep = seps[starts[kept]]
+        first_sep = np.searchsorted(where, starts[kept])
         bounds = where[first_sep[:, None] + np.arange(width - 1)[None, :]]
         left = np.column_stack([starts[kept], bounds + 1])
         right = np.column_stack([bounds, ends[kept]])
-        empty = (filled[right] - filled[left]) == 0
-        if wide.any():
-            many = np.concatenate([[0], np.cumsum(wide & content)])
-            maybe = ~empty & ((filled[right] - filled[left]) == (many[right] - many[left]))
-            for i, j in zip(*np.nonzero(maybe)):
-                empty[i, j] = not body[left[i, j]:right[i, j]].decode("utf-8").strip()
+        size = right - left
+        empty = size == 0
+        # a field of spaces begins with one, and one beyond ASCII with a wide byte: only those are counted
+        maybe = ~empty & (spaces[np.minimum(left, len(data) - 1)] | (data[np.minimum(left, len(data) - 1)] >= 128))
+        if maybe.any():
+            i, j = np.nonzero(maybe)
+            a, b = left[i, j], right[i, j]
+            empty[i, j] = (b - a) == count(blank_at, a, b)
+            if wide_at.size:
+                for i_, j_, a_, b_ in zip(i.tolist(), j.tolist(), a.tolist(), b.tolist()):
+                    if not empty[i_, j_] and count(wide_at, a_, b_):
+                        empty[i_, j_] = not body[a_:b_].decode("utf-8").strip()
         blanks = empty.any(axis=0)
-    elif kept.size:
-        blanks[0] = False
-    return ends, blanks, ends - starts
+    return ends, blanks, lengths
 
 
 def _records(reader, path, first) -> list[list[str]]:

@@ -267,9 +267,8 @@ def _twilight_check(notes: _Notes, rows: np.ndarray, bodies: np.ndarray, horizon
         return
     # each warned row's text made from its whole degrees (the few distinct texts each made once)
     degrees = np.rint(altitude).astype(int)
-    up = (altitude >= 0) | bright
     kinds = np.where(bright, np.where(planet, 1, 2), 0)
-    keys = pd.Series(degrees * 16 + (altitude >= 0) * 8 + up * 4 + kinds)  # (what each text depends on)
+    keys = pd.Series(degrees * 8 + (altitude >= 0) * 4 + kinds)  # (what each text depends on)
     warned = np.flatnonzero(bright | dark)
     codes, distinct = pd.factorize(keys.iloc[warned])
     first = warned[np.unique(codes, return_index=True)[1]]
@@ -280,8 +279,8 @@ def _twilight_check(notes: _Notes, rows: np.ndarray, bodies: np.ndarray, horizon
 
 def _twilight_text(altitude: float, bright: bool, planet: bool) -> str:
     """The warning of a star or planet sight with the Sun at ``altitude`` (degrees) at the DR."""
-    where = (f"the Sun is {altitude:.0f}° {'up' if altitude >= 0 else 'below the horizon'} at the DR"
-             if altitude >= 0 or bright else f"the Sun is {-altitude:.0f}° below the horizon at the DR")
+    where = (f"the Sun is {altitude:.0f}° up at the DR" if altitude >= 0
+             else f"the Sun is {-altitude:.0f}° below the horizon at the DR")
     if bright:
         return (f"{where}: a {'planet' if planet else 'star'} on the sea horizon is taken in twilight, with "
                 f"the Sun {-SUN_BRIGHT_SKY_DEG:.0f}° to {-SUN_DARK_HORIZON_DEG:.0f}° below the horizon"

@@ -37,19 +37,33 @@ def tree_pss_mb(pid: int) -> float:
 class Run:
     seconds: float
     tree_peak_mb: float
+    #: user + system seconds of the command and every process it waited for (the processor time it took, which
+    #: a shared machine's load does not inflate as it does the wall time)
+    cpu_seconds: float = float("nan")
 
 
 def run(command: list[str], *, stdout=None, sample_s: float = 0.05) -> Run:
-    """One run of a command: its wall time and the peak of its process tree's PSS, sampled."""
+    """One run of a command: its wall time, its processor time and the peak of its process tree's PSS, sampled."""
     start = time.perf_counter()
     process = subprocess.Popen(command, stdout=stdout or subprocess.DEVNULL, stderr=subprocess.DEVNULL)
     peak = 0.0
-    while process.poll() is None:
+    while True:
+        pid, status, usage = os.wait4(process.pid, os.WNOHANG)
+        if pid:
+            break
         peak = max(peak, tree_pss_mb(process.pid))
         time.sleep(sample_s)
+    seconds = time.perf_counter() - start
+    process.returncode = os.waitstatus_to_exitcode(status)
     if process.returncode != 0:
         raise SystemExit(f"{' '.join(command)} failed ({process.returncode})")
-    return Run(time.perf_counter() - start, peak)
+    return Run(seconds, peak, usage.ru_utime + usage.ru_stime)
+
+
+def load_average() -> str:
+    """The machine's load over the last minute and five minutes (2 cores: above 2, others wait)."""
+    one, five, _ = os.getloadavg()
+    return f"load average {one:.1f} (1 min), {five:.1f} (5 min) on {os.cpu_count()} cores"
 
 
 def largest_child_mb(command: list[str]) -> float:

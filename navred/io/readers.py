@@ -130,7 +130,8 @@ class ReadBudget:
         self._take("rows", rows, source, lambda total, limit: (
             f"{source}: the logs of this run hold {total:,} rows or more; navred holds at most {limit:,} rows at "
             "once (about a gigabyte of memory): split the logs, or reduce a long plain CSV log with navred reduce "
-            "--csv, which reads it in blocks when every row gives its fix_group and its DR"))
+            "--csv, which reads it in blocks when it is plain (no quoted cells, no control characters, one kind of line "
+            "end) and every row gives its fix_group and its DR"))
         self.take_cells(rows * max(columns, 1), source)
 
     def take_cells(self, cells: int, source: str) -> None:
@@ -422,6 +423,8 @@ class PlainBlocks:
     blank_columns: np.ndarray
     #: the longest line, in bytes (no cell of a plain file is longer than its line)
     longest_line: int = 0
+    #: every line ends with a carriage return and a line feed (as a spreadsheet on Windows writes a CSV)
+    crlf: bool = False
 
     @property
     def n_lines(self) -> int:
@@ -455,10 +458,11 @@ class PlainBlocks:
             text = data.decode("utf-8")
         except UnicodeDecodeError:
             text = None
-        lines = text.split("\n") if text is not None else []
+        lines = text.split("\r\n" if self.crlf else "\n") if text is not None else []
         if lines and lines[-1] == "":
             lines.pop()
-        if text is None or len(lines) != self.counts[k] or '"' in text or _BAD_TEXT.search(text) is not None:
+        if text is None or len(lines) != self.counts[k] or '"' in text or _BAD_TEXT.search(text) is not None \
+                or text.count("\r") != (text.count("\r\n") if self.crlf else 0):
             raise LogbookError(f"{self.source} changed while it was being read: read it again")
         return lines
 
@@ -511,6 +515,9 @@ def plain_csv_blocks(path: str | Path, rows: int) -> PlainBlocks | None:
                 header_end = end + 1
                 break
             header_end, first = end + 1, first + 1
+        crlf = header_line.endswith(b"\r")  # every line must then end so (a file of mixed line ends is read whole)
+        if crlf:
+            header_line = header_line[:-1]
         if _BAD_BYTES.search(header_line):
             return None
         try:
@@ -525,19 +532,20 @@ def plain_csv_blocks(path: str | Path, rows: int) -> PlainBlocks | None:
             return None
         _check_width(str(path), header)
         handle.seek(header_end)
-        scan = _scan_plain_lines(handle, separator.encode(), len(header), rows, header_end)
+        scan = _scan_plain_lines(handle, separator.encode(), len(header), rows, header_end, crlf)
     if scan is None:
         return None
     offsets, counts, blank_columns, longest = scan
     if counts.sum() > MAX_ROWS or counts.sum() == 0:
         return None
-    return PlainBlocks(str(path), header, separator, offsets, counts, first + 2, rows, blank_columns, longest)
+    return PlainBlocks(str(path), header, separator, offsets, counts, first + 2, rows, blank_columns, longest, crlf)
 
 
-def _scan_plain_lines(handle, separator: bytes, width: int, rows: int, position: int):
+def _scan_plain_lines(handle, separator: bytes, width: int, rows: int, position: int, crlf: bool = False):
     """(block offsets, lines per block, the columns some non-blank line leaves blank, the longest line) of the
     lines from ``position`` on, looked at :data:`SCAN_BYTES` at a time; None when a line is not plain or has
-    another number of fields than the header."""
+    another number of fields than the header. ``crlf``: every line ends with a carriage return before its
+    line feed (None when one does not)."""
     code = separator[0]
     offsets, lines_seen, carry = [position], 0, b""
     blank_columns = np.zeros(width, dtype=bool)
@@ -548,20 +556,21 @@ def _scan_plain_lines(handle, separator: bytes, width: int, rows: int, position:
         if not chunk:
             if not data:
                 break
-            data += b"\n"  # a last line without its line end
+            data += b"\r\n" if crlf else b"\n"  # a last line without its line end
         cut = data.rfind(b"\n") + 1
         body, carry = data[:cut], data[cut:]
         if not body:
             continue
         codes = np.frombuffer(body, dtype=np.uint8)
-        if b'"' in body or b"\x7f" in body or \
-                np.count_nonzero(codes < 32) != body.count(b"\n") + body.count(b"\t"):
-            return None  # a quote, a carriage return or another control character: not plain
+        returns = body.count(b"\r\n") if crlf else 0
+        if b'"' in body or b"\x7f" in body or (crlf and returns != body.count(b"\n")) or \
+                np.count_nonzero(codes < 32) != body.count(b"\n") + body.count(b"\t") + returns:
+            return None  # a quote, a lone carriage return or another control character: not plain
         try:
             body.decode("utf-8")
         except UnicodeDecodeError:
             return None
-        looked = _look_at_lines(codes, code, width, body)
+        looked = _look_at_lines(codes, code, width, body, crlf)
         if looked is None:
             return None
         ends, blanks, lengths = looked
@@ -584,13 +593,15 @@ def _scan_plain_lines(handle, separator: bytes, width: int, rows: int, position:
     return np.array(offsets, dtype=np.int64), counts, blank_columns, longest
 
 
-def _look_at_lines(data: np.ndarray, separator: int, width: int, body: bytes):
+def _look_at_lines(data: np.ndarray, separator: int, width: int, body: bytes, crlf: bool = False):
     """(each line's end, the columns some non-blank line leaves blank, each line's length) of whole lines of
     bytes; None when a line that is not blank has another number of fields than ``width``. Bytes are
     counted between bounds from the sorted positions of the few kinds that matter (separators, spaces,
-    bytes beyond ASCII), never byte by byte in Python."""
-    ends = np.flatnonzero(data == 10)
-    starts = np.concatenate([[0], ends[:-1] + 1])
+    bytes beyond ASCII), never byte by byte in Python. ``crlf``: each line feed follows a carriage return,
+    which is no part of the line."""
+    feeds = np.flatnonzero(data == 10)
+    starts = np.concatenate([[0], feeds[:-1] + 1])
+    ends = feeds - 1 if crlf else feeds  # where each line's text stops (before its carriage return)
     spaces = (data == 32) | (data == 9)  # (the other spaces str.strip() removes are control characters: refused)
     where = np.flatnonzero(data == separator)
     if spaces[where].any():
@@ -633,7 +644,7 @@ def _look_at_lines(data: np.ndarray, separator: int, width: int, body: bytes):
                     if not empty[i_, j_] and count(wide_at, a_, b_):
                         empty[i_, j_] = not body[a_:b_].decode("utf-8").strip()
         blanks = empty.any(axis=0)
-    return ends, blanks, lengths
+    return feeds, blanks, lengths
 
 
 def _records(reader, path, first) -> list[list[str]]:

@@ -98,3 +98,23 @@ def test_the_demo_logs_groups_at_once_as_one_at_a_time():
         assert len(fixes.results) >= 2
         for name in fixes.results:
             same(fixes[name], fix_position(reduced, group=name), name)
+
+
+def test_the_table_of_many_fixes_has_the_columns_and_positions_of_fix_csv():
+    # one vocabulary: the API's table of fixes is laid out as `navred fix --csv` (it named n_sights and problem)
+    import io
+
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+
+    reduced = navred.reduce_sights(navred.read_sight_log("sample_sights/demo_sights.csv"))
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", navred.NavredWarning)
+        table = fix_positions(reduced).table()
+    printed = pd.read_csv(io.StringIO(CliRunner().invoke(app, ["fix", "sample_sights/demo_sights.csv", "--csv"]).stdout))
+    assert list(table.columns) == list(printed.columns)
+    assert table.fix_group.tolist() == printed.fix_group.tolist() and table.sights.tolist() == printed.sights.tolist()
+    np.testing.assert_allclose(table.lat_deg, printed.lat_deg, atol=1e-6)
+    np.testing.assert_allclose(table.lon_deg, printed.lon_deg, atol=1e-6)
+    assert table.utc.dt.tz is not None

@@ -18,19 +18,12 @@ from ..io.timesignals import Ratings
 from ..latitudes import latitude_by_meridian_altitude, latitude_by_polaris
 from ..status import SightStatus
 from ..timescales import Instant, utc_datetime64
-from .frames import row_labels
+from .frames import FIX_COLUMNS, fix_table_row, row_labels
 from .voyage import GroupFix, VoyageResult, fix_groups, process_log
 
 #: A sight within this many degrees of LHA 0 (either side) is on the meridian: its Ho gives the latitude
 #: (a fixed arc is common practice: the altitude changes by under 0.1′ within about 1° of LHA at sea).
 MERIDIAN_LHA_DEG = 0.25
-
-#: The columns of the fixes table (:func:`fixes_table`), one row per fix group, decimal degrees.
-FIX_COLUMNS = ("fix_group", "utc", "kind", "lat_deg", "lon_deg", "sights", "sigma_arcmin", "quantile",
-               "ellipse_length_nm", "ellipse_width_nm", "ellipse_semi_major_nm", "ellipse_semi_minor_nm",
-               "ellipse_orientation_deg", "flagged", "left_out", "all_sights_lat_deg", "all_sights_lon_deg",
-               "dr_distance_nm", "chart_distance_nm", "chart_inside_ellipse", "note")
-
 
 def latitude_checks(reduced: pd.DataFrame) -> pd.DataFrame:
     """Latitude by meridian altitude (a sight within :data:`MERIDIAN_LHA_DEG` of LHA 0, Polaris apart) and by
@@ -64,29 +57,8 @@ def fixes_table(voyage: VoyageResult, groups: tuple[GroupFix, ...] | None = None
     """One row per fix group (``groups``, default every one), decimal degrees, the columns :data:`FIX_COLUMNS`;
     a group with no fix says why in ``note``."""
     labels = row_labels(voyage.reduced)
-    rows = []
-    for group in voyage.groups if groups is None else groups:
-        fix = group.fix
-        if fix is None:
-            rows.append({"fix_group": group.name, "note": f"no fix: {group.problem}"})
-            continue
-        left = fix.left_out if fix.left_out.size == len(group.rows) else np.zeros(len(group.rows), dtype=bool)
-        every = fix.all_sights
-        rows.append({"fix_group": group.name, "utc": str(fix.utc)[:23] + "Z", "kind": fix.kind,
-                     "lat_deg": fix.lat_deg, "lon_deg": fix.lon_deg, "sights": int(fix.used.sum()),
-                     "sigma_arcmin": fix.sigma_arcmin, "quantile": fix.quantile,
-                     "ellipse_length_nm": 2 * fix.ellipse_semi_major_nm,
-                     "ellipse_width_nm": 2 * fix.ellipse_semi_minor_nm,
-                     "ellipse_semi_major_nm": fix.ellipse_semi_major_nm,
-                     "ellipse_semi_minor_nm": fix.ellipse_semi_minor_nm,
-                     "ellipse_orientation_deg": fix.ellipse_orientation_deg,
-                     "flagged": " ".join(labels[group.rows[i]] for i in range(len(group.rows)) if fix.outlier[i]),
-                     "left_out": " ".join(labels[group.rows[i]] for i in range(len(group.rows)) if left[i]),
-                     "all_sights_lat_deg": every.lat_deg if every is not None else None,
-                     "all_sights_lon_deg": every.lon_deg if every is not None else None,
-                     "dr_distance_nm": fix.dr_distance_nm,
-                     "chart_distance_nm": fix.chart_distance_nm, "chart_inside_ellipse": fix.chart_inside_ellipse,
-                     "note": "; ".join(fix.warnings)})
+    rows = [fix_table_row(group.name, group.fix, labels[group.rows], group.problem)
+            for group in (voyage.groups if groups is None else groups)]
     frame = pd.DataFrame(rows)
     return frame[[c for c in FIX_COLUMNS if c in frame.columns]] if len(frame) else frame
 

@@ -8,7 +8,7 @@ so that the core never sees a DataFrame.
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
@@ -145,6 +145,37 @@ def fix_position(reduced: pd.DataFrame, at_utc: Instant | None = None, *, group:
         drift_kn=drift_kn, labels=row_labels(reduced, several=several))
 
 
+#: The columns of a table of fixes (``navred fix --csv``, :meth:`GroupedFixes.table`), one row per fix group,
+#: decimal degrees.
+FIX_COLUMNS = ("fix_group", "utc", "kind", "lat_deg", "lon_deg", "sights", "sigma_arcmin", "quantile",
+               "ellipse_length_nm", "ellipse_width_nm", "ellipse_semi_major_nm", "ellipse_semi_minor_nm",
+               "ellipse_orientation_deg", "flagged", "left_out", "all_sights_lat_deg", "all_sights_lon_deg",
+               "dr_distance_nm", "chart_distance_nm", "chart_inside_ellipse", "note")
+
+
+def fix_table_row(name: str, fix: FixResult | None, row_names: np.ndarray, problem: str = "") -> dict:
+    """One fix group's row of a table of fixes (:data:`FIX_COLUMNS`): ``row_names`` are the names of the group's
+    rows (in the order the fix holds them); a group with no fix says why in ``note``."""
+    if fix is None:
+        return {"fix_group": name, "note": f"no fix: {problem}"}
+    n = len(row_names)
+    left = fix.left_out if fix.left_out.size == n else np.zeros(n, dtype=bool)
+    outlier = fix.outlier if fix.outlier.size == n else np.zeros(n, dtype=bool)
+    every = fix.all_sights
+    return {"fix_group": name, "utc": str(fix.utc)[:23] + "Z", "kind": fix.kind,
+            "lat_deg": fix.lat_deg, "lon_deg": fix.lon_deg, "sights": int(fix.used.sum()),
+            "sigma_arcmin": fix.sigma_arcmin, "quantile": fix.quantile,
+            "ellipse_length_nm": 2 * fix.ellipse_semi_major_nm, "ellipse_width_nm": 2 * fix.ellipse_semi_minor_nm,
+            "ellipse_semi_major_nm": fix.ellipse_semi_major_nm, "ellipse_semi_minor_nm": fix.ellipse_semi_minor_nm,
+            "ellipse_orientation_deg": fix.ellipse_orientation_deg,
+            "flagged": " ".join(str(r) for r, o in zip(row_names.tolist(), outlier.tolist()) if o),
+            "left_out": " ".join(str(r) for r, o in zip(row_names.tolist(), left.tolist()) if o),
+            "all_sights_lat_deg": every.lat_deg if every is not None else None,
+            "all_sights_lon_deg": every.lon_deg if every is not None else None,
+            "dr_distance_nm": fix.dr_distance_nm, "chart_distance_nm": fix.chart_distance_nm,
+            "chart_inside_ellipse": fix.chart_inside_ellipse, "note": "; ".join(fix.warnings)}
+
+
 @dataclass(frozen=True)
 class GroupedFixes:
     """The fixes of many fix groups (:func:`fix_positions`): each group's fix (or line of position, or latitude)
@@ -157,6 +188,8 @@ class GroupedFixes:
     groups: tuple[str, ...]
     results: Mapping[str, FixResult]
     problems: Mapping[str, str]
+    #: the names of each group's rows (as every sheet and note names them), in the order its fix holds them
+    rows: Mapping[str, tuple[str, ...]] = field(default_factory=dict)
 
     def __len__(self) -> int:
         return len(self.groups)
@@ -178,22 +211,13 @@ class GroupedFixes:
         return self.results.get(name)
 
     def table(self) -> pd.DataFrame:
-        """One row per group: its fix's time, position, kind, sights, σ and ellipse, or why it has none."""
-        rows = []
-        for name in self.groups:
-            fix = self.results.get(name)
-            if fix is None:
-                rows.append({"fix_group": name, "problem": self.problems.get(name, "")})
-                continue
-            rows.append({"fix_group": name, "utc": fix.utc, "kind": str(fix.kind), "lat_deg": fix.lat_deg,
-                         "lon_deg": fix.lon_deg, "n_sights": fix.n_sights, "sigma_arcmin": fix.sigma_arcmin,
-                         "ellipse_semi_major_nm": fix.ellipse_semi_major_nm,
-                         "ellipse_semi_minor_nm": fix.ellipse_semi_minor_nm,
-                         "ellipse_orientation_deg": fix.ellipse_orientation_deg, "problem": ""})
-        columns = ["fix_group", "utc", "kind", "lat_deg", "lon_deg", "n_sights", "sigma_arcmin",
-                   "ellipse_semi_major_nm", "ellipse_semi_minor_nm", "ellipse_orientation_deg", "problem"]
-        frame = pd.DataFrame(rows, columns=columns)
-        frame["utc"] = pd.to_datetime(frame["utc"]).dt.tz_localize("UTC")
+        """One row per group, the columns of ``navred fix --csv`` (:data:`FIX_COLUMNS`; ``utc`` as instants):
+        its fix's time, position, kind, sights, σ and ellipse, the rows flagged and left out, the distances
+        from the DR and the chart, and its notes, or why it has none (``note``)."""
+        rows = [fix_table_row(name, self.results.get(name), np.asarray(self.rows.get(name, ()), dtype=object),
+                              self.problems.get(name, "")) for name in self.groups]
+        frame = pd.DataFrame(rows, columns=list(FIX_COLUMNS))
+        frame["utc"] = pd.to_datetime(frame["utc"].str.rstrip("Z"), format="ISO8601").dt.tz_localize("UTC")
         return frame
 
 
@@ -243,16 +267,20 @@ def fix_positions(reduced: pd.DataFrame, at_utc: Instant | Mapping[str, Instant]
             return float(given)
         return reduced[name].to_numpy(dtype=float) if name in reduced.columns else None
 
+    labels = row_labels(reduced)
     batch = fixes_from_sights(
         reduced["gha_deg"].to_numpy(dtype=float), reduced["dec_deg"].to_numpy(dtype=float),
         reduced["ho_deg"].to_numpy(dtype=float), utc64(reduced["sight_utc"]),
         reduced["dr_lat_deg"].to_numpy(dtype=float), reduced["dr_lon_deg"].to_numpy(dtype=float), group,
         usable=usable, course_deg=column("course_deg", course_deg), speed_kn=column("speed_kn", speed_kn),
         at_utc=at_utc, chart_lat=chart_lat, chart_lon=chart_lon, solve_motion=solve_motion, set_deg=set_deg,
-        drift_kn=drift_kn, labels=row_labels(reduced))
+        drift_kn=drift_kn, labels=labels)
     results = {name: batch.results[k] for k, name in enumerate(chosen) if batch.results[k] is not None}
     problems = {name: batch.problems[k] for k, name in enumerate(chosen) if batch.results[k] is None}
-    return GroupedFixes(tuple(chosen), results, problems)
+    order = np.argsort(group, kind="stable")
+    bounds = np.searchsorted(group[order], np.arange(len(chosen) + 1))
+    rows = {name: tuple(labels[order[bounds[k]:bounds[k + 1]]].tolist()) for k, name in enumerate(chosen)}
+    return GroupedFixes(tuple(chosen), results, problems, rows)
 
 
 def one_fix_group(reduced: pd.DataFrame, group: str | None = None) -> pd.DataFrame:
@@ -324,4 +352,5 @@ def series_columns(reduced: pd.DataFrame, *, threshold_arcmin: float = THRESHOLD
             "series_best_ho_deg": np.where(single, np.nan, check.best_ho_deg)}
 
 
-__all__ = ["body_positions", "fix_position", "fix_positions", "GroupedFixes", "one_fix_group", "series_columns", "row_labels", "row_list", "utc64"]
+__all__ = ["FIX_COLUMNS", "fix_table_row", "body_positions", "fix_position", "fix_positions", "GroupedFixes",
+           "one_fix_group", "series_columns", "row_labels", "row_list", "utc64"]

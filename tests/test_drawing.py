@@ -206,5 +206,6 @@ def test_a_run_of_many_picture_files_says_how_many_and_how_long_and_shows_its_pr
     line = next(x for x in loud.stderr.splitlines() if x.startswith("writing "))
     assert f"writing {plan.files} picture files to {tmp_path / 'b'}" in line
     assert f"{voyage.n_fixes} plotting sheets as PNG and SVG" in line and "about" in line and "--plot-formats svg" in line
+    assert "longer on a busy one" in line and "Ctrl-C stops it" in line  # (a trial's run took twice the estimate)
     assert "drawing plotting sheets" in loud.stderr  # the progress bar
     assert f"wrote {plan.files} picture files" in loud.stdout

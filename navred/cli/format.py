@@ -108,7 +108,8 @@ def plot_plan_line(plan, folder: str) -> str:
         svg_share = _svg_share(plan)
         faster = f"; --plot-formats svg would take about {svg_share:.0%} of that"
     return (f"writing {plan.files:,} picture files to {folder} ({plan.sheets:,} plotting sheets as {kinds}"
-            f"{f', {plan.track_pictures} voyage pictures' if plan.track_pictures else ''}), {when}{who}{faster}")
+            f"{f', {plan.track_pictures} voyage pictures' if plan.track_pictures else ''}), {when}{who} on a machine "
+            f"doing nothing else (longer on a busy one){faster}; Ctrl-C stops it")
 
 
 def _svg_share(plan) -> float:

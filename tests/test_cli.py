@@ -220,7 +220,7 @@ def test_almanac_answers_aries_and_gives_v_and_d():
     result = runner.invoke(app, ["almanac", "Aries", "Moon", "Vega", "--utc", "2026-03-20T18:42:10Z"])
     assert result.exit_code == 0, result.output
     aries = next(line for line in result.stdout.splitlines() if line.startswith("Aries"))
-    assert "°" in aries
+    assert aries.count("°") == 1 and aries.split()[3:] == ["-"] * 6  # its GHA; no Dec or SHA, as an almanac
     header = next(line for line in result.stdout.splitlines() if line.startswith("body"))
     assert header.split()[:6] == ["body", "GHA", "v", "Dec", "d", "SHA"]
     frame = pd.read_csv(io.StringIO(runner.invoke(app, ["almanac", "Aries", "Moon", "Vega", "--utc",

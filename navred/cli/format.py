@@ -84,11 +84,12 @@ def almanac_lines(result) -> list[str]:
              f"GHA Aries {format_angle(result.gha_aries_deg)}", "",
              f"{'body':<16}{'GHA':>13}{'v':>8}{'Dec':>14}{'d':>8}{'SHA':>13}{'HP':>8}{'SD':>8}"]
     for k, body in enumerate(result.body):
+        aries = body == "Aries"  # (no Dec or SHA of its own: an almanac leaves them blank; 0 in --csv)
         lines.append(f"{body:<16}{format_angle(float(result.gha_deg[k])):>13}"
                      f"{_arcmin_text(float(result.v_arcmin[k]), True):>8}"
-                     f"{format_angle(float(result.dec_deg[k]), 'dec'):>14}"
+                     f"{'-' if aries else format_angle(float(result.dec_deg[k]), 'dec'):>14}"
                      f"{_arcmin_text(float(result.d_arcmin[k]), True):>8}"
-                     f"{format_angle(float(result.sha_deg[k])):>13}"
+                     f"{'-' if aries else format_angle(float(result.sha_deg[k])):>13}"
                      f"{_arcmin_text(float(result.hp_arcmin[k])):>8}{_arcmin_text(float(result.sd_arcmin[k])):>8}")
     if any(v == v for v in result.v_arcmin.tolist()):
         lines += ["", "v: the hour's change of GHA less the increments table's rate (15° 00.0′; the Moon 14° 19.0′); "

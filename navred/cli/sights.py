@@ -203,19 +203,31 @@ def _processed(sights_files, files, dates, rates, solve_motion, carry_current, c
         require_reduced(0, 0)
     for path in files.values():
         check_output(path, log.sources)  # a folder's logs, now that they are known
-    bar = None
-
-    def progress(done: int, total: int) -> None:
-        nonlocal bar
-        if bar is None:
-            bar = typer.progressbar(length=total, label="reducing sights", file=sys.stderr)
-            bar.__enter__()
-        bar.update(done - bar.pos)
-
+    progress = _StderrBar("reducing sights")
     voyage = process_log(log, solve_motion=solve_motion, progress=progress, carry_current=carry_current, rates=rated)
-    if bar is not None:
-        bar.__exit__(None, None, None)
+    progress.close()
     return voyage
+
+
+class _StderrBar:
+    """A progress callback ``(done, total)`` showing a bar on stderr from its first call; ``close_when_done``:
+    closed once ``done`` reaches ``total`` (else by :meth:`close`)."""
+
+    def __init__(self, label: str, *, close_when_done: bool = False) -> None:
+        self.label, self.close_when_done, self.bar = label, close_when_done, None
+
+    def __call__(self, done: int, total: int) -> None:
+        if self.bar is None:
+            self.bar = typer.progressbar(length=total, label=self.label, file=sys.stderr)
+            self.bar.__enter__()
+        self.bar.update(done - self.bar.pos)
+        if self.close_when_done and done >= total:
+            self.close()
+
+    def close(self) -> None:
+        if self.bar is not None:
+            self.bar.__exit__(None, None, None)
+            self.bar = None
 
 
 def _announced_plots(voyage, plots: str, formats):
@@ -228,18 +240,7 @@ def _announced_plots(voyage, plots: str, formats):
     if not plan.announced:
         return None
     typer.echo(plot_plan_line(plan, plots), err=True)
-    bar = None
-
-    def progress(done: int, total: int) -> None:
-        nonlocal bar
-        if bar is None:
-            bar = typer.progressbar(length=total, label="drawing plotting sheets", file=sys.stderr)
-            bar.__enter__()
-        bar.update(done - bar.pos)
-        if done >= total:
-            bar.__exit__(None, None, None)
-
-    return progress
+    return _StderrBar("drawing plotting sheets", close_when_done=True)
 
 
 def _write_voyage_files(voyage, files: dict[str, str], chosen, plots: str | None, formats) -> None:

@@ -307,7 +307,7 @@ def sight_log_blocks(source: LogSource, *, dates: str | None = None, block_rows:
 
 def _check_is_log(table: RawTable, keys: dict) -> None:
     required = [c.key for c in COLUMNS if c.required]
-    if len(set(keys) & ({"utc", "zone_time"} | set(required))) < 2:
+    if len(set(keys) & ({"utc", "zone_time", "entry"} | set(required))) < 2:
         separator = f"; it is {_SEPARATOR_NAMES.get(table.separator, 'a spreadsheet')}-separated" \
             if table.separator else ""
         shown = ", ".join(repr(h) for h in table.header[:10]) + (", ..." if len(table.header) > 10 else "")

@@ -49,7 +49,7 @@ from ..handtables import (
 from ..io.cautions import CAUTION
 from ..io.printed import Document, Drawing, Page, Side, Table, Text
 from ..presets import RATE_MINUTES
-from ..sightplan import twilight_plans
+from ..sightplan import track_twilight_plans
 from .bridge import (
     NoonSun,
     PlannedTwilight,
@@ -62,13 +62,14 @@ from .bridge import (
     signed,
     zone_text,
 )
+from .passagedr import PassageDR, departure_dr, log_passage_dr, route_passage_dr
 
 PLANETS = ("Venus", "Mars", "Jupiter", "Saturn")
 
 
 @dataclass(frozen=True)
 class PassagePaper:
-    """The printed backup: the document, and the numbers it was set from."""
+    """The printed backup: the document, and the numbers it was set from (``dr`` the DR it was planned along)."""
 
     document: Document
     hourly: HourlyTable
@@ -77,17 +78,28 @@ class PassagePaper:
     noons: tuple[NoonSun, ...]
     first_date: np.datetime64
     days: int
+    dr: PassageDR | None = None
 
 
-def passage_paper(first_date: object, last_date: object, lat_deg: float, lon_deg: float, *, course_deg: float = 0.0,
-                  speed_kn: float = 0.0, eye_height_m: float = 0.0, index_error_arcmin: float = 0.0,
+def passage_paper(first_date: object, last_date: object, lat_deg: float | None = None, lon_deg: float | None = None, *,
+                  course_deg: float | None = None, speed_kn: float | None = None, route=None, depart: object = None,
+                  log=None, vessel: str | None = None, dates: str | None = None, rates=None,
+                  carry_current: bool = False, eye_height_m: float = 0.0, index_error_arcmin: float = 0.0,
                   zone_description_h: float | None = None, count: int = 4, min_alt_deg: float = 15.0,
                   max_alt_deg: float = 70.0) -> PassagePaper:
-    """The paper for a passage from ``first_date`` to ``last_date`` (inclusive), the DR starting at
-    (``lat_deg``, ``lon_deg``) at 00:00 local time of the first date and running on ``course_deg`` at
-    ``speed_kn`` (0 for a fixed position). ``zone_description_h`` is the zone the ship keeps (ZT + ZD
-    = UTC); without it each twilight and noon takes the zone of the DR's longitude then. The height
-    of eye and index error give the Hs to preset."""
+    """The paper for a passage from ``first_date`` to ``last_date`` (inclusive), planned along one of three DRs
+    (:mod:`navred.jobs.passagedr`):
+
+    - a departure: (``lat_deg``, ``lon_deg``) at 00:00 local time of the first date, then ``course_deg`` at
+      ``speed_kn`` (both left out, or 0, for a fixed position);
+    - ``route``: the waypoints of a route file (`navred route`'s CSV or GPX, or a list of waypoints written by
+      hand) sailed at ``speed_kn``, leaving the first at ``depart`` (default 00:00 local time of the first date);
+    - ``log``: a sight log with entry rows (anything :func:`navred.read_sight_log` takes, read with ``dates`` and
+      ``rates``), its DR as the day's work keeps it (its one vessel's, or ``vessel``'s; ``carry_current``
+      carries the set and drift found at each fix).
+
+    ``zone_description_h`` is the zone the ship keeps (ZT + ZD = UTC); without it each twilight and noon takes
+    the zone of the DR's longitude then. The height of eye and index error give the Hs to preset."""
     first = _date(first_date, "first date")
     last = _date(last_date, "last date")
     days = int((last - first).astype(int)) + 1
@@ -95,19 +107,51 @@ def passage_paper(first_date: object, last_date: object, lat_deg: float, lon_deg
         raise NavredError(f"the passage ends ({last}) before it begins ({first})")
     if days > MAX_DAYS:
         raise NavredError(f"{days} days: the paper covers at most {MAX_DAYS} days at once; print the passage in parts")
+    dr = _passage_dr(first, days, lat_deg, lon_deg, course_deg, speed_kn, route, depart, log, vessel, dates, rates,
+                     carry_current)
     hourly = hourly_table(first, days)
     stars = star_blocks(first, days)
-    events, plans = twilight_plans(str(first), days, lat_deg, lon_deg, course_deg=course_deg, speed_kn=speed_kn,
-                                   eye_height_m=eye_height_m, count=count, min_alt_deg=min_alt_deg,
-                                   max_alt_deg=max_alt_deg)
+    events, plans = track_twilight_plans(dr.track, dr.start, days, eye_height_m=eye_height_m, count=count,
+                                         min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg)
     track = events["track"]
     options = dict(eye_height_m=eye_height_m, index_error_arcmin=index_error_arcmin, zone_given=zone_description_h)
     twilights = planned_rounds(events, plans, track, count=count, min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg,
                                **options)
     noons = noon_suns(events, track, **options)
-    document = _document(first, days, hourly, stars, twilights, noons, track, lat_deg, lon_deg, course_deg, speed_kn,
-                         eye_height_m, index_error_arcmin, zone_description_h, events)
-    return PassagePaper(document, hourly, tuple(stars), tuple(twilights), tuple(noons), first, days)
+    document = _document(first, days, hourly, stars, twilights, noons, dr, eye_height_m, index_error_arcmin,
+                         zone_description_h, events)
+    return PassagePaper(document, hourly, tuple(stars), tuple(twilights), tuple(noons), first, days, dr)
+
+
+def _passage_dr(first, days, lat_deg, lon_deg, course_deg, speed_kn, route, depart, log, vessel, dates, rates,
+                carry_current) -> PassageDR:
+    """The one DR the paper is planned along; two given at once are refused (which would be meant?)."""
+    given = [name for name, value in (("a position (--lat, --lon)", lat_deg is not None or lon_deg is not None),
+                                      ("a route (--route)", route is not None), ("a log (--log)", log is not None))
+             if value]
+    if len(given) != 1:
+        raise NavredError(("the paper is planned along one DR; given " + " and ".join(given) + ": give one") if given
+                          else "give the DR to plan along: a position (--lat, --lon) with --course and --speed, a "
+                               "route (--route) with --speed, or a log with entry rows (--log)")
+    if depart is not None and route is None:
+        raise NavredError("--depart is the time she leaves a route's first waypoint: give it with --route")
+    if vessel is not None and log is None:
+        raise NavredError("--vessel names the vessel of a log: give it with --log")
+    if route is not None:
+        if course_deg is not None:
+            raise NavredError("a route gives the course of each leg: leave out --course (or plan along a position "
+                              "with --lat, --lon and --course instead)")
+        if speed_kn is None:
+            raise NavredError("a route is sailed at a speed: give --speed (knots through the water)")
+        return route_passage_dr(first, route, speed_kn, depart)
+    if log is not None:
+        if course_deg is not None or speed_kn is not None:
+            raise NavredError("a log gives the courses and speeds of its DR: leave out --course and --speed")
+        return log_passage_dr(first, days, log, vessel=vessel, dates=dates, rates=rates, carry_current=carry_current)
+    if lat_deg is None or lon_deg is None:
+        raise NavredError("a position needs both --lat and --lon")
+    return departure_dr(first, lat_deg, lon_deg, 0.0 if course_deg is None else course_deg,
+                        0.0 if speed_kn is None else speed_kn)
 
 
 def _date(value: object, what: str) -> np.datetime64:
@@ -124,11 +168,12 @@ def _provenance(hourly: HourlyTable) -> str:
     return provenance_line(hourly.dut1_s, hourly.ut1_source)
 
 
-def _document(first, days, hourly, stars, twilights, noons, track, lat_deg, lon_deg, course_deg, speed_kn,
-              eye_height_m, index_error_arcmin, zone_given, events) -> Document:
+def _document(first, days, hourly, stars, twilights, noons, dr: PassageDR, eye_height_m, index_error_arcmin,
+              zone_given, events) -> Document:
     last = first + np.timedelta64(days - 1, "D")
-    pages = [_cover(first, last, days, lat_deg, lon_deg, course_deg, speed_kn, eye_height_m, index_error_arcmin,
-                    zone_given)]
+    pages = [_cover(first, last, days, dr, eye_height_m, index_error_arcmin, zone_given)]
+    if dr.table:
+        pages.append(_dr_page(dr))
     pages += [_hourly_page(hourly, first + np.timedelta64(d, "D"), d) for d in range(days)]
     pages += _star_pages(stars)
     pages += _correction_pages(first, days)
@@ -136,21 +181,19 @@ def _document(first, days, hourly, stars, twilights, noons, track, lat_deg, lon_
     pages.append(_noon_page(noons, hourly))
     pages += _polaris_pages(first, days)
     pages.append(_formulas_page(twilights, hourly, stars, eye_height_m, index_error_arcmin))
-    pages += _blank_forms(track, first, days)
+    pages += _blank_forms(dr.track, first, days)
     valid = f"{first} to {last} (UTC dates)" if days > 1 else f"{first} (UTC date)"
     return Document("navred passage paper", valid, _provenance(hourly), CAUTION, tuple(pages))
 
 
 # --- The cover ---------------------------------------------------------------------------------
 
-def _cover(first, last, days, lat_deg, lon_deg, course_deg, speed_kn, eye_height_m, index_error_arcmin, zone_given):
-    moving = f"then {course_deg:05.1f}° true at {speed_kn:.1f} kn along the rhumb line" if speed_kn > 0 else \
-        "a fixed position"
+def _cover(first, last, days, dr: PassageDR, eye_height_m, index_error_arcmin, zone_given):
     zone = (f"zone description {zone_text(zone_given)} throughout" if zone_given is not None else
             "the zone of the DR's longitude at each twilight and noon (ZT + ZD = UTC)")
+    where = dr.summary + (" Its changes are listed on the next page." if dr.table else "")
     blocks = (
-        Text(f"From {first} to {last}: {days} day{'s' if days > 1 else ''}. DR from {dm(lat_deg, 'lat')} "
-             f"{dm(lon_deg, 'lon')} at 00:00 local time of {first}, {moving}. Height of eye {eye_height_m:g} m, "
+        Text(f"From {first} to {last}: {days} day{'s' if days > 1 else ''}. {where} Height of eye {eye_height_m:g} m, "
              f"index error {signed(index_error_arcmin)}′ (on the arc positive). Zone time: {zone}."),
         Text("What this is", "subheading"),
         Text("A backup for the day the computer fails: with these pages, a pencil and a calculator a navigator "
@@ -166,7 +209,7 @@ def _cover(first, last, days, lat_deg, lon_deg, course_deg, speed_kn, eye_height
              "subtracted. A star's GHA is the GHA of Aries so found plus the star's SHA. Each hourly page "
              "works one example through."),
         Text("The pages", "subheading"),
-        Text("1 this page · 2 the hourly GHA and Dec, a page per UTC date · 3 the stars' SHA and Dec · 4 the "
+        Text(("1 this page and the DR it is planned along · " if dr.table else "1 this page · ") + "2 the hourly GHA and Dec, a page per UTC date · 3 the stars' SHA and Dec · 4 the "
              "altitude corrections: dip, refraction, the Sun's SD, the Moon's parallax and SD, Venus and Mars · 5 "
              "for each day the twilight stars planned along the DR with Hc, Zn and their change per minute, the "
              "Hs to preset, and the noon Sun · 6 the noon Sun for every day · 7 the Polaris latitude table · 8 the "
@@ -184,6 +227,20 @@ def _cover(first, last, days, lat_deg, lon_deg, course_deg, speed_kn, eye_height
              "holds within 0.5′."),
     )
     return Page("Passage paper: the backup for hand reduction", blocks)
+
+
+def _dr_page(dr: PassageDR) -> Page:
+    columns, csv_columns, rows = dr.table
+    title = "The route as planned" if dr.kind == "route" else "The DR as the log keeps it"
+    note = ("Each waypoint, the time she leaves or reaches it at the speed given, the rhumb line to the next and "
+            "its length, and the miles run. The DR of every page follows these legs." if dr.kind == "route" else
+            "Each change of the DR from the one in force when the paper begins: a known position or fix (the DR "
+            "restarts there) or a change of course, speed or current; the course and speed are those made good "
+            "over the ground (the current included) from then on. The DR of every page follows it.")
+    table = Table(columns, rows, name="route" if dr.kind == "route" else "dr-changes", csv_columns=csv_columns,
+                  widths=(1.0, 2.3, 1.5, 1.2, 0.8, 0.8) if dr.kind == "route" else (1.2, 2.4, 2.3, 0.8, 0.8),
+                  left_columns=2, font_size=7.4, wrap_columns=(1,) if dr.kind == "log" else ())
+    return Page(title, (Text(note, "small"), table))
 
 
 # --- The hourly pages ----------------------------------------------------------------------------

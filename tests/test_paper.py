@@ -681,3 +681,82 @@ def test_the_dr_is_given_one_way_and_refused_two(tmp_path):
         assert not (tmp_path / "a.pdf").exists()
     result = CliRunner().invoke(app, base + ["--log", str(tmp_path / "log.csv"), "--vessel", "Bravo"])
     assert result.exit_code == 0, result.output
+
+
+# --- The blank hand-working forms: the sight book's pages, printed -------------------------------------------------
+
+def test_the_blank_forms_are_the_sight_books_pages_line_for_line(paper, tmp_path):
+    """Each blank form of the paper holds, in order, the lines of one working of its page of the sight book that
+    `navred mark --template` writes (read back from the workbook): the two cannot drift apart. Every page of the
+    sight book is printed (the Sun, the Moon, stars, planets, noon, Polaris, the compass check), and its lines
+    are in the PDF's text in that order."""
+    from openpyxl import load_workbook
+
+    from navred.io.printed import Side, Table
+    from navred.jobs.paper import passage_paper
+
+    result = CliRunner().invoke(app, ["mark", "--template", str(tmp_path / "book.xlsx")])
+    assert result.exit_code == 0, result.output
+    book = load_workbook(tmp_path / "book.xlsx")
+    document = passage_paper(FIRST, LAST, START_LAT, START_LON, course_deg=COURSE, speed_kn=SPEED).document
+    forms = [page for page in document.pages if page.title.startswith("Hand working: ")]
+    titles = ["Sun", "Moon", "Stars", "Planets", "Noon", "Polaris", "Compass"]
+    assert len(forms) == len(titles)
+    for title, form in zip(titles, forms):
+        # the template's first working: column A from "Working 1" to the row before "Working 2"
+        labels = [row[0] for row in book[title].iter_rows(min_col=1, max_col=2, values_only=True)]
+        first = labels.index("Working 1")
+        template = [label for label in labels[first + 1:labels.index("Working 2")] if label]
+        prefilled = {row[0]: row[1] for row in book[title].iter_rows(min_row=first + 2, max_col=2, values_only=True)
+                     if row[0] in ("Method", "Body")}
+        halves = next(block for block in form.blocks if isinstance(block, Side)).blocks
+        assert all(isinstance(h, Table) for h in halves)
+        printed = [row[0] for half in halves for row in half.rows]
+        assert printed == template, title
+        for half in halves:
+            for row in half.rows:
+                if row[0] in prefilled:
+                    assert row[1:] == (prefilled[row[0]] or "",) * 3, (title, row)
+        assert f"sight book's {title} page" in " ".join(b.text for b in form.blocks if hasattr(b, "text"))
+    # in the PDF's text, each form's labels in the template's order
+    for title, form in zip(titles, forms):
+        page = next(lines_of(p) for p in paper["pages"] if form.title in " ".join(p.split()))
+        halves = next(block for block in form.blocks if isinstance(block, Side)).blocks
+        labels = [row[0] for half in halves for row in half.rows]
+        text = iter(page)
+        assert all(any(label == line for line in text) for label in labels), title
+
+
+def test_the_forms_say_how_this_paper_gives_the_almanacs_lines(paper):
+    """A line an almanac gives otherwise (the increment, the v correction, the Polaris correction) is explained on
+    the form where it appears, and only there."""
+    flat = {title: " ".join(p.split()) for p in paper["pages"] for title in
+            ("the Sun, by the intercept method", "latitude by Polaris", "stars, by the intercept method")
+            if f"Hand working: {title}" in " ".join(p.split())}
+    assert "f × (next hour − this hour)" in flat["the Sun, by the intercept method"]
+    assert "no 1° to take off" in flat["latitude by Polaris"]
+    assert "no 1° to take off" not in flat["the Sun, by the intercept method"]
+    assert "the stars page" in flat["stars, by the intercept method"]
+
+
+def test_the_sight_book_prints_blank_as_the_papers_forms(paper, tmp_path):
+    """`navred mark --template book.pdf`: the same forms, without the paper's notes, each form's lines in the PDF's
+    text in the template's order (pypdf)."""
+    from pypdf import PdfReader
+
+    from navred.io.markingbook import block_lines
+    from navred.io.markingpages import FORM_TITLES
+    from navred.io.sightbook import PAGES
+
+    result = CliRunner().invoke(app, ["mark", "--template", str(tmp_path / "book.pdf")])
+    assert result.exit_code == 0, result.output
+    pages = [" ".join(p.extract_text().split()) for p in PdfReader(str(tmp_path / "book.pdf")).pages]
+    assert len(pages) == 1 + len(PAGES)
+    for title, text in zip(PAGES, pages[1:]):
+        assert f"Hand working: {FORM_TITLES[title]}" in text and "With this paper" not in text
+        position = 0
+        for line in block_lines(PAGES[title]):
+            found = text.find(line.label, position)
+            assert found >= 0, (title, line.label)
+            position = found + len(line.label)
+        assert " ".join(CAUTION.split()) in text

@@ -620,23 +620,59 @@ def _worked_sight(twilights, hourly, stars, eye_height_m, index_error_arcmin) ->
 
 # --- Blank forms -----------------------------------------------------------------------------------
 
-WORKING_LINES = (
-    "Body, limb", "Date, zone time", "ZD, watch error", "UTC (h m s)", "f = (m + s/60)/60", "Hs", "IC (− index error)",
-    "dip (−)", "Ha", "refraction × factor (−)", "SD (LL +, UL −)", "parallax (Moon, planets)", "phase (Venus, Mars)",
-    "Ho", "GHA at the hour (♈ for a star)", "f × (next hour − this)", "SHA (star)", "GHA", "longitude (E +, W −)",
-    "LHA", "Dec at the hour", "f × (next − this)", "Dec (N +, S −)", "latitude (N +, S −)", "sin Hc", "Hc",
-    "cos Z", "Zn", "intercept Ho − Hc (T +, A −)")
+#: How this paper gives a line of the sight book, where an almanac and tables would give it otherwise: each a
+#: sentence of the note above a blank form, said when one of its lines is on the form (and, where given, only on
+#: those pages).
+WITH_THIS_PAPER = (
+    (("gha_hour_worked", "dec_hour_worked"), "GHA and Dec at the whole hour: the hourly page", ()),
+    (("sha_worked",), "a star's GHA at the whole hour is Aries's; its SHA and Dec: the stars page", ()),
+    (("polaris_corr_worked",), "GHA Aries at the whole hour: the hourly page", ()),
+    (("increment_worked", "d_corr_worked"), "the increment and the d correction: f × (next hour − this hour), f = "
+                                            "(minutes + seconds/60) / 60", ()),
+    (("v_corr_worked",), "the v correction: 0 (the increment is the whole change)", ()),
+    (("dip_worked", "refraction_worked"), "dip and refraction (× the air's factor): the corrections pages", ()),
+    (("sd_worked",), "SD: the Sun's by date (corrections page 2)", ("Sun", "Noon")),
+    (("sd_worked",), "SD: 0.2725 × HP (HP from the hourly page) and its growth with altitude (corrections page 2)",
+     ("Moon",)),
+    (("parallax_worked",), "parallax: 0.15′ × cos Ha", ("Sun", "Noon")),
+    (("parallax_worked",), "parallax: the table by h and HP (corrections page 2)", ("Moon",)),
+    (("parallax_worked",), "parallax: Venus and Mars HP × cos Ha, HP by date (corrections page 2); Jupiter and "
+                           "Saturn none", ("Planets",)),
+    (("additional_worked",), "the phase of Venus and Mars: by date, with its rule (corrections page 2)", ()),
+    (("main_worked", "hp_corr_worked", "upper_limb_worked"), "the main (first) correction, the HP correction and "
+                                                             "the upper limb's −30′ are an almanac's tables: leave "
+                                                             "them blank and write the parts", ()),
+    (("tab_hc_worked",), "work from the DR by calculator (the formulas page): the DR is the position, LHA = GHA + "
+                         "longitude; leave the tables' lines blank", ()),
+    (("polaris_corr_worked",), "the Polaris correction: first term + second term of the Polaris page (no 1° to "
+                               "take off)", ()),
+    (("reduction_worked",), "ex-meridian: the reduction = a × t², t the minutes of time from meridian passage, a "
+                            "= 1.9635″ cos L cos d / sin(L ∼ d)", ()),
+    (("zenith_distance_worked",), "latitude = Dec ± (90° − Ho) as the noon page says", ()),
+    (("amplitude_worked",), "amplitude: sin A = sin Dec / cos latitude, the bearing taken with the Sun's centre "
+                            "on the celestial horizon (its lower limb about half a diameter above the sea "
+                            "horizon); azimuth: Zn by the formulas page; compass error = true − compass bearing "
+                            "(compass least, error east); deviation = compass error − variation", ()),
+)
+
+
+def _form_note(title: str) -> str:
+    """The note above a blank form: whose lines these are, and how this paper gives the ones an almanac would."""
+    from ..io.markingbook import block_lines
+    from ..io.sightbook import PAGES
+
+    keys = {line.key for line in block_lines(PAGES[title])}
+    said = [words for wanted, words, pages in WITH_THIS_PAPER if keys & set(wanted) and (not pages or title in pages)]
+    return (f"The lines of the sight book's {title} page (navred mark --template), three workings side by side, so "
+            "that a working can be typed into the sight book and marked. With this paper: " + "; ".join(said) + ".")
 
 
 def _blank_forms(track, first, days) -> list[Page]:
     from ..figures.paperforms import blank_plotting_sheet, plotting_bands
+    from ..io.markingpages import blank_form_page
+    from ..io.sightbook import PAGES
 
-    working = Table(("Line",) + tuple(f"sight {k}" for k in range(1, 5)),
-                    tuple((line, "", "", "", "") for line in WORKING_LINES), widths=(1.6, 1, 1, 1, 1), font_size=7.4,
-                    row_height=19.5)
-    pages = [Page("Hand working: four sights", (
-        Text("Work down each column; the hourly pages give GHA and Dec, the corrections pages the rest. Keep the "
-             "working: it is the record of the sight.", "small"), working))]
+    pages = [blank_form_page(title, _form_note(title)) for title in PAGES]
     hours = np.arange(0, days * 24 + 1, 6)
     start = first.astype("datetime64[ns]")
     lats, _ = track.position(start + hours * np.timedelta64(NS_PER_HOUR, "ns"))
@@ -650,4 +686,4 @@ def _blank_forms(track, first, days) -> list[Page]:
     return pages
 
 
-__all__ = ["PassagePaper", "passage_paper", "WORKING_LINES"]
+__all__ = ["PassagePaper", "passage_paper", "WITH_THIS_PAPER"]

@@ -524,12 +524,13 @@ def printed_rounds(paper) -> list[dict]:
         hhmm = f"{stamp[11:13]}:{stamp[13:15]}"
         where = re.search(rf"planned \d\d:\d\d zone time \([^)]*\), {hhmm} UTC, from DR (\S+ \S+ [NS]) (\S+ \S+ [EW])",
                           flat)
-        times = re.search(rf"Nautical twilight (\d\d:\d\d) UTC, civil (\d\d:\d\d) UTC\. For a sight m minutes after "
-                          rf"{hhmm} UTC", flat)
+        times = re.search(rf"(Nautical|Civil) twilight (\d\d:\d\d) UTC, (?:civil|nautical) (\d\d:\d\d) UTC\. For a "
+                          rf"sight m minutes after {hhmm} UTC", flat)
         assert where and times, stamp
 
         out.append({"utc": utc, "lat": angle(where.group(1)), "lon": angle(where.group(2)),
-                    "nautical": nearest_instant(times.group(1), utc), "civil": nearest_instant(times.group(2), utc),
+                    "nautical": nearest_instant(times.group(2 if times.group(1) == "Nautical" else 3), utc),
+                    "civil": nearest_instant(times.group(3 if times.group(1) == "Nautical" else 2), utc),
                     "bodies": pd.read_csv(path, dtype=str, keep_default_na=False)})
     return out
 

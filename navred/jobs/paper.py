@@ -460,7 +460,10 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
             kind = twilight.label.split(" ", 1)[0]
             blocks.append(Text(f"{kind} twilight: planned {hm(zone_time)} zone time ({zone_text(zd)}), "
                                f"{hm(p.utc)} UTC, from DR {dm(p.lat_deg, 'lat')} {dm(p.lon_deg, 'lon')}", "subheading"))
-            blocks.append(Text(f"Nautical twilight {hm(twilight.nautical)} UTC, civil {hm(twilight.civil)} UTC. For a "
+            times = (f"Nautical twilight {hm(twilight.nautical)} UTC, civil {hm(twilight.civil)} UTC" if
+                     twilight.nautical < twilight.civil else
+                     f"Civil twilight {hm(twilight.civil)} UTC, nautical {hm(twilight.nautical)} UTC")
+            blocks.append(Text(f"{times}. For a "
                                f"sight m minutes after {hm(p.utc)} UTC: Hc = Hc + m × (Hc ′/min), Zn = Zn + m × "
                                "(Zn °/min), within 0.5′ for the minutes shown; plot every line from the DR above "
                                "and move it for the ship's run. Hs to preset: Hc with dip, refraction, SD, "
@@ -489,7 +492,7 @@ def _noon_page(noons, hourly) -> Page:
                   tuple(rows), name="noon-sun",
                   csv_columns=("date", "zone_time", "zone_description", "utc", "dr_lat", "dr_lon", "sun_dec", "hc",
                                "hs_preset_lower_limb", "bearing"),
-                  widths=(1.1, 0.7, 0.4, 0.6, 1.1, 1.2, 1.1, 0.95, 0.95, 0.45), font_size=7.4)
+                  widths=(1.1, 0.7, 0.65, 0.6, 1.1, 1.2, 1.1, 0.95, 0.95, 0.45), font_size=7.4)
     return Page("The noon Sun: local apparent noon along the DR", (
         Text("The time of the Sun's meridian passage at the DR then (it moves with the ship: about 4 minutes "
              "of time for each degree of longitude made good). Latitude from the noon altitude: with the Sun to "
@@ -562,7 +565,6 @@ def _worked_sight(twilights, hourly, stars, eye_height_m, index_error_arcmin) ->
     """A star of the first twilight, taken four minutes after the planned time with the preset reading, worked
     from the printed tables: the lines a navigator writes."""
     from ..corrections import dip_angle_arcmin, refraction_angle_arcmin
-    from ..handtables import hourly_value_at
 
     for twilight in twilights:
         p = twilight.presets
@@ -586,13 +588,15 @@ def _worked_sight(twilights, hourly, stars, eye_height_m, index_error_arcmin) ->
     row = int(offset // NS_PER_HOUR)
     f = (offset - row * NS_PER_HOUR) / NS_PER_HOUR
     aries = hourly.gha_deg[hourly.column("Aries")]
-    gha_aries = float(hourly_value_at(hourly, "Aries", np.array([when]))[0])
+    # GHA Aries as the navigator works it: the printed hour, f to four places times the printed hour's change
+    step = round(float(wrap_360(aries[row + 1] - aries[row])) * 600.0) / 600.0
+    gha_aries = round(float(wrap_360(aries[row] + round(f, 4) * step)) * 600.0) / 600.0
     dip = round(float(dip_angle_arcmin(eye_height_m)), 1)
     ha = hs + (-index_error_arcmin - dip) / ARCMIN_PER_DEG
     refraction = round(float(refraction_angle_arcmin(ha)), 1)
     ho = ha - refraction / ARCMIN_PER_DEG
     gha = float(wrap_360(gha_aries + sha))
-    lat, lon = p.lat_deg, p.lon_deg
+    lat, lon = round(p.lat_deg * 600.0) / 600.0, round(p.lon_deg * 600.0) / 600.0  # the DR as printed, to 0.1′
     lha = float(wrap_360(gha + lon))
     phi, delta, t = math.radians(lat), math.radians(dec), math.radians(lha)
     sin_hc = math.sin(phi) * math.sin(delta) + math.cos(phi) * math.cos(delta) * math.cos(t)
@@ -602,19 +606,21 @@ def _worked_sight(twilights, hourly, stars, eye_height_m, index_error_arcmin) ->
     zn = z if lha > 180.0 else 360.0 - z
     intercept = (ho - hc) * ARCMIN_PER_DEG
     stamp = str(when.astype("datetime64[s]")).replace("T", " ")
-    step = float(wrap_360(aries[row + 1] - aries[row]))
+    # the sight page's check, worked from its printed (rounded) Hc and rate as a navigator would
+    page_hc, page_rate = round(float(p.hc_deg[i]) * 600.0) / 600.0, round(float(p.hc_rate_arcmin_per_min[i]), 2)
     return [
-        f"{star}, {stamp} UTC, Hs {dm(hs, 'signed')}, index error {signed(index_error_arcmin)}′, eye "
+        f"{star}, {stamp} UTC, Hs {dm(hs, 'signed')}, index error {abs(index_error_arcmin):.1f}′"
+        f"{' on the arc' if index_error_arcmin > 0 else ' off the arc' if index_error_arcmin < 0 else ''}, eye "
         f"{eye_height_m:g} m, DR {dm(lat, 'lat')} {dm(lon, 'lon')}",
         f"IC {signed(-index_error_arcmin)}′  dip −{dip:.1f}′  Ha {dm(ha, 'signed')}  R −{refraction:.1f}′ (10 °C, "
         f"1010 hPa)  Ho {dm(ho, 'signed')}",
         f"f = {f:.4f}; GHA ♈ {dm(aries[row])} + {f:.4f} × {dm(step)} = {dm(gha_aries)}",
         f"SHA {dm(sha)}  GHA {dm(gha)}  longitude {dm(lon, 'lon')}  LHA {dm(lha)}  Dec {dm(dec, 'dec')}",
         f"sin Hc = sin({lat:.4f}) sin({dec:.4f}) + cos({lat:.4f}) cos({dec:.4f}) cos({lha:.4f}) = {sin_hc:.5f}",
-        f"Hc {dm(hc, 'signed')};  cos Z = {cos_z:.5f}, Z {z:.1f}°, Zn {zn:05.1f}°",
+        f"Hc {dm(hc, 'signed')};  cos Z = {signed(cos_z, 5)}, Z {z:.1f}°, Zn {zn:05.1f}°",
         f"intercept {abs(intercept):.1f} nm {'toward' if intercept >= 0 else 'away'}  (check by the sight page: Hc "
-        f"{dm(float(p.hc_deg[i]), 'signed')} + {late_s / 60:.2f} min × {signed(p.hc_rate_arcmin_per_min[i], 2)}′ = "
-        f"{dm(float(p.hc_deg[i]) + late_s / 60 * float(p.hc_rate_arcmin_per_min[i]) / ARCMIN_PER_DEG, 'signed')})",
+        f"{dm(page_hc, 'signed')} + {late_s / 60:.2f} min × {signed(page_rate, 2)}′ = "
+        f"{dm(page_hc + round(round(late_s / 60, 2) * page_rate, 1) / ARCMIN_PER_DEG, 'signed')})",
     ]
 
 
@@ -678,9 +684,9 @@ def _blank_forms(track, first, days) -> list[Page]:
     lats, _ = track.position(start + hours * np.timedelta64(NS_PER_HOUR, "ns"))
     for band in plotting_bands(lats)[:6]:
         pages.append(Page("", (Drawing(blank_plotting_sheet(band)),)))
-    log = Table(("Date", "Zone time", "Log nm", "Course °T", "Speed kn", "Run nm", "DR lat", "DR lon", "Set, drift",
-                 "Remarks, sights"), tuple(("",) * 10 for _ in range(20)),
-                widths=(0.8, 0.7, 0.65, 0.7, 0.65, 0.6, 1.1, 1.2, 0.8, 2.0), font_size=7.4, row_height=19.5)
+    log = Table(("Date", "Zone time", "ZD", "Log nm", "Course °T", "Speed kn", "Run nm", "DR lat", "DR lon",
+                 "Set, drift", "Remarks, sights"), tuple(("",) * 11 for _ in range(20)),
+                widths=(0.8, 0.7, 0.4, 0.65, 0.7, 0.65, 0.6, 1.1, 1.2, 0.8, 2.0), font_size=7.4, row_height=19.5)
     pages.append(Page("DR log", (Text("Each alteration, each fix and each change of speed on a line; the run "
                                       "= speed × time.", "small"), log), landscape=True))
     return pages

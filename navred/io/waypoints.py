@@ -95,6 +95,10 @@ def read_waypoints(path: str | Path) -> Waypoints:
 def _read_csv(file: Path) -> tuple[np.ndarray, np.ndarray, list[str]]:
     from .readers import ReadBudget, read_table
 
+    lines = file.read_bytes().count(b"\n")
+    if lines > MAX_READ_WAYPOINTS + 1:
+        raise WaypointError(f"{file} has {lines:,} lines; a route of up to {MAX_READ_WAYPOINTS:,} waypoints is read "
+                            "(a track of positions is not a route: give its waypoints)")
     try:
         table = read_table(file, budget=ReadBudget(rows=MAX_READ_WAYPOINTS + 1, cells=64 * (MAX_READ_WAYPOINTS + 1)))[0]
     except NavredError as exc:

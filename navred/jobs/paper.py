@@ -143,7 +143,7 @@ def _passage_dr(first, days, lat_deg, lon_deg, course_deg, speed_kn, route, depa
                               "with --lat, --lon and --course instead)")
         if speed_kn is None:
             raise NavredError("a route is sailed at a speed: give --speed (knots through the water)")
-        return route_passage_dr(first, route, speed_kn, depart)
+        return route_passage_dr(first, route, speed_kn, depart, days=days)
     if log is not None:
         if course_deg is not None or speed_kn is not None:
             raise NavredError("a log gives the courses and speeds of its DR: leave out --course and --speed")

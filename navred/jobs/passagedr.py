@@ -30,6 +30,16 @@ from ..reckoning import DRTrack, course_speed, steady_track
 
 #: The most changes of the DR a paper lists (the last ones before and during the passage).
 MAX_LISTED = 40
+#: A log's DR carried longer than this from its last known position to the paper's first day is warned of.
+CARRIED_HOURS = 48.0
+
+
+def _warn(message: str) -> None:
+    import warnings
+
+    from ..errors import NavredWarning
+
+    warnings.warn(message, NavredWarning, stacklevel=3)
 
 
 @dataclass(frozen=True)
@@ -75,7 +85,8 @@ def departure_dr(first: np.datetime64, lat_deg: float, lon_deg: float, course_de
                      float(course_deg), float(speed_kn))
 
 
-def route_passage_dr(first: np.datetime64, route, speed_kn: float, depart: object | None = None) -> PassageDR:
+def route_passage_dr(first: np.datetime64, route, speed_kn: float, depart: object | None = None, *,
+                     days: int = 1) -> PassageDR:
     """The DR along a route's waypoints (a file `navred route` writes, a list written by hand, or
     :class:`navred.io.waypoints.Waypoints`) at ``speed_kn``, leaving the first waypoint at ``depart`` (ISO 8601
     with a zone; default 00:00 local time of the first date there)."""
@@ -103,7 +114,15 @@ def route_passage_dr(first: np.datetime64, route, speed_kn: float, depart: objec
                f"{_utc(dr.eta[-1].astype(np.int64))} UTC. Before she leaves she is taken at the first waypoint, "
                "after she arrives at the last. The times are those of the speed given: keep the DR by the log "
                "and reprint when she falls behind.")
-    return PassageDR(dr.track, track_local_midnight(first, dr.track), "route", summary, table)
+    start = track_local_midnight(first, dr.track)
+    end = start + np.timedelta64(days * 24 * NS_PER_HOUR, "ns")
+    if dr.eta[0] >= end:
+        _warn(f"she leaves {dr.names[0]} at {_utc(dr.eta[0].astype(np.int64))} UTC, after the paper's last day: every "
+              "page is planned at that waypoint; check --depart and the dates")
+    elif dr.eta[-1] <= start:
+        _warn(f"she reaches {dr.names[-1]} at {_utc(dr.eta[-1].astype(np.int64))} UTC, before the paper's first day: "
+              "every page is planned at that waypoint; check --depart, --speed and the dates")
+    return PassageDR(dr.track, start, "route", summary, table)
 
 
 def log_passage_dr(first: np.datetime64, days: int, source, *, vessel: str | None = None, dates: str | None = None,
@@ -138,6 +157,13 @@ def log_passage_dr(first: np.datetime64, days: int, source, *, vessel: str | Non
                f"paper ends: the {kept.known_label[last]} at {_utc(kept.known_ns[last])} UTC; after the log's "
                f"last change she is carried on at {course:05.1f}° true, {speed:.1f} kn over the ground. Before "
                f"the {kept.known_label[0]} ({_utc(kept.known_ns[0])} UTC) she is taken to lie there.")
+    if kept.known_ns[0] >= end.astype(np.int64) - 24 * NS_PER_HOUR:
+        _warn(f"the log's first known position (the {kept.known_label[0]}, {_utc(kept.known_ns[0])} UTC) comes after "
+              "the paper's last day: every page is planned there; check the dates")
+    elif (start.astype(np.int64) - kept.known_ns[last]) / NS_PER_HOUR > CARRIED_HOURS:
+        _warn(f"the DR is carried {(start.astype(np.int64) - kept.known_ns[last]) / NS_PER_HOUR / 24:.1f} days from the "
+              f"log's last known position (the {kept.known_label[last]}, {_utc(kept.known_ns[last])} UTC) to the paper's "
+              "first day: a DR so old may be far from the ship; enter a newer position, or check the dates")
     return PassageDR(track, start, "log", summary, table)
 
 

@@ -61,20 +61,12 @@ class Waypoints:
 @api_boundary
 def read_waypoints(path: str | Path) -> Waypoints:
     """The waypoints of a route file (CSV or GPX 1.1; see the module), checked whole."""
-    from .readers import check_input_file
+    from .readers import named_input_file
 
-    if not isinstance(path, (str, Path)) or (isinstance(path, str) and not path.strip()):
-        raise WaypointError(f"cannot read {str(path)[:60]!r} as a route: give the name of a CSV or GPX file")
-    file = Path(path)
-    try:
-        check_input_file(file, "route file")
-    except NavredError as exc:
-        raise WaypointError(str(exc)) from None
-    size = file.stat().st_size
-    if size > MAX_WAYPOINT_BYTES:
-        raise WaypointError(f"{file} is {size / 2**20:.1f} MiB; a route file of up to {MAX_WAYPOINT_BYTES // 2**20} "
-                            f"MiB ({MAX_READ_WAYPOINTS:,} waypoints) is read")
-    if size == 0:
+    file = named_input_file(path, "route file", "CSV or GPX", WaypointError, MAX_WAYPOINT_BYTES,
+                            "{file} is {mib:.1f} MiB; a route file of up to " f"{MAX_WAYPOINT_BYTES // 2**20} MiB "
+                            f"({MAX_READ_WAYPOINTS:,} waypoints) is read")
+    if file.stat().st_size == 0:
         raise WaypointError(f"{file} is empty: a route needs two waypoints or more")
     with open(file, "rb") as handle:
         head = handle.read(500)

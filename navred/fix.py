@@ -16,7 +16,7 @@ from .errors import NavredError
 from .fixbatch import SightRows, fix_batch
 from .fixresult import FixResult, GroupFixes
 from .fixstats import DR_ERROR_FRACTION, DR_ERROR_KN
-from .grosserrors import check_fixes, leave_out_gross
+from .grosserrors import check_fixes, leave_out_gross, mark_untrusted, misread_rounds
 from .timescales import utc_datetime64
 from .triangle import distance_bearing
 
@@ -47,7 +47,7 @@ def fixes_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike,
                       solve_motion: bool = False, set_deg: ArrayLike | None = None, drift_kn: ArrayLike | None = None,
                       labels: ArrayLike | None = None, dr_error_kn: float = DR_ERROR_KN,
                       dr_error_fraction: float = DR_ERROR_FRACTION, refit: bool = True,
-                      dr_age_hours: ArrayLike | None = None) -> GroupFixes:
+                      dr_age_hours: ArrayLike | None = None, hs_deg: ArrayLike | None = None) -> GroupFixes:
     """Fix many groups of sights at once: one least-squares solve for every group, padded.
 
     The arrays are one element per sight (1-D), as for :func:`fix_from_sights`; ``group``
@@ -61,7 +61,9 @@ def fixes_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike,
 
     With ``refit`` (the default), a sight whose line is a gross error beyond doubt is left out of
     its group's fix (the fix from every sight is kept as ``all_sights``), and the sights flagged as
-    possible blunders are left out of a check fix (``without_outliers``).
+    possible blunders are left out of a check fix (``without_outliers``). With ``hs_deg`` (each sight's
+    sextant altitude as read), a round whose Hs read as degrees and minutes written as a decimal agree is marked
+    as not to be trusted, before any sight is left out; so is one whose sights still scatter beyond a sextant.
     """
     gha, dec, ho = (np.atleast_1d(np.asarray(v, dtype=float)) for v in (gha_deg, dec_deg, ho_deg))
     n_rows = gha.size
@@ -86,8 +88,11 @@ def fixes_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike,
     nothing = np.zeros(n_rows, dtype=bool)
     results, problems = fix_batch(sights, group, n_groups, ok, nothing, _fix_times(at_utc, n_groups))
     if refit:
-        leave_out_gross(sights, group, n_groups, ok, results)
+        misread = (misread_rounds(sights, per_row(hs_deg), group, n_groups, ok, results) if hs_deg is not None
+                   else set())
+        leave_out_gross(sights, group, n_groups, ok, results, frozenset(misread))
         check_fixes(sights, group, n_groups, ok, results)
+        mark_untrusted(results)
     # --- the chart or GNSS cross-check ------------------------------------------------------------
     if chart_lat is not None and chart_lon is not None:
         _cross_check_all(results, np.broadcast_to(np.asarray(chart_lat, dtype=float), (n_groups,)),
@@ -127,7 +132,7 @@ def fix_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, u
                     solve_motion: bool = False, set_deg: ArrayLike | None = None,
                     drift_kn: ArrayLike | None = None, labels: ArrayLike | None = None,
                     dr_error_kn: float = DR_ERROR_KN, dr_error_fraction: float = DR_ERROR_FRACTION,
-                    dr_age_hours: ArrayLike | None = None) -> FixResult:
+                    dr_age_hours: ArrayLike | None = None, hs_deg: ArrayLike | None = None) -> FixResult:
     """The least-squares fix from reduced sights, one element per sight (1-D arrays).
 
     ``gha_deg``, ``dec_deg`` and ``ho_deg`` of each sight, its ``utc`` (datetime64, taken as
@@ -142,7 +147,8 @@ def fix_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, u
     hour and ``dr_error_fraction`` of the miles run, enters the ellipse. ``dr_age_hours``: how old
     each sight's DR is, for the check of the fix against it (default: not known, taken as a day).
     With ``solve_motion`` the course and speed made good are solved as well when the sights
-    support it. A chart or GNSS position (``chart_lat``/``chart_lon``) is cross-checked.
+    support it. A chart or GNSS position (``chart_lat``/``chart_lon``) is cross-checked. ``hs_deg``: each
+    sight's Hs as read, for the check of a round written in degrees and minutes as a decimal.
     ``labels`` name the sights in messages (default: 1, 2, ...). One group of
     :func:`fixes_from_sights`.
     """
@@ -152,7 +158,7 @@ def fix_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, u
         course_deg=course_deg, speed_kn=speed_kn, at_utc=at_utc,
         chart_lat=np.nan if chart_lat is None else chart_lat, chart_lon=np.nan if chart_lon is None else chart_lon,
         solve_motion=solve_motion, set_deg=set_deg, drift_kn=drift_kn, labels=labels, dr_error_kn=dr_error_kn,
-        dr_error_fraction=dr_error_fraction, dr_age_hours=dr_age_hours)
+        dr_error_fraction=dr_error_fraction, dr_age_hours=dr_age_hours, hs_deg=hs_deg)
     if batch.results[0] is None:
         raise NavredError(batch.problems[0])
     return batch.results[0]

@@ -210,8 +210,10 @@ def _row_columns(lay: _Layout, parts: dict, lines: dict, n_rows: int, group, n_g
     residual = np.full(shape, np.nan)
     outlier = np.zeros(shape, dtype=bool)
     gross = np.zeros(shape, dtype=bool)
+    clear = np.zeros(shape, dtype=bool)
     for rows, part in parts.values():
-        residual[rows], outlier[rows], gross[rows] = part.residual_arcmin, part.outlier, part.gross
+        residual[rows], outlier[rows], gross[rows], clear[rows] = (part.residual_arcmin, part.outlier, part.gross,
+                                                                   part.clear)
     sight_index = lay.index[lay.present]
     by_group = np.argsort(np.where(group >= 0, group, n_groups), kind="stable")
 
@@ -227,6 +229,7 @@ def _row_columns(lay: _Layout, parts: dict, lines: dict, n_rows: int, group, n_g
     columns["used"] = in_group_order(lay.use, False, bool)
     columns["left_out"] = in_group_order(shown_out, False, bool)
     columns["gross"] = in_group_order(gross, False, bool)
+    columns["clear_blunder"] = in_group_order(clear, False, bool)
     return columns
 
 

@@ -15,16 +15,17 @@ from .fixresult import EMPTY_ROWS, LINE_ONLY_DEG, FixResult
 from .fixstats import (
     A_PRIORI_SIGMA_ARCMIN,
     CONFIDENCE,
+    WEAK_CROSSING_DEG,
     azimuth_spread_many,
     blunder_note,
     blunder_test,
     effective_dof,
     ellipse_note,
     error_ellipse,
-    plural,
     quantile_name,
     run_error_covariance,
     sight_variance,
+    sigma_source,
 )
 from .leastsquares import (
     CONVERGED_NM,
@@ -38,9 +39,6 @@ from .leastsquares import (
 from .stats import f_2_quantile, student_t_quantile
 from .status import FixKind
 from .triangle import computed_altitude_azimuth, destination
-
-WEAK_CROSSING_DEG = 30.0
-
 
 #: Lines whose azimuths all lie within this of north or south are a latitude (sights on the meridian).
 MERIDIAN_AZIMUTH_DEG = 10.0
@@ -57,6 +55,7 @@ class Part:
     residual_arcmin: np.ndarray
     outlier: np.ndarray
     gross: np.ndarray
+    clear: np.ndarray
     result: Callable[[int], FixResult | None]
 
 
@@ -78,7 +77,7 @@ def solve_fix_part(k, rows, gha, dec, ho, use, present, track, lat0, lon0, veloc
                        mask=u, report=present[rows], solve_motion=motion, velocity0_kn=velocity0, mark_singular=True,
                        track=sub_track)
     st = _fix_statistics(core, u, sub_track, k, dr_error_kn, dr_error_fraction)
-    return Part(core.residual_arcmin, st["outlier"], st["gross"], _fix_results(core, st, k))
+    return Part(core.residual_arcmin, st["outlier"], st["gross"], st["clear"], _fix_results(core, st, k))
 
 
 def _fix_statistics(core: CoreFixes, u: np.ndarray, sub_track, k: int, dr_error_kn: float,
@@ -99,9 +98,9 @@ def _fix_statistics(core: CoreFixes, u: np.ndarray, sub_track, k: int, dr_error_
         run_cov = run_cov * u[:, :, None] * u[:, None, :]
     gain = unit @ np.swapaxes(jac, 1, 2)  # x = gain @ residual: the least-squares estimator
     projector = np.eye(width)[None] * u[:, :, None] - jac @ gain  # M = I − H on the used sights
-    sigma2, information = sight_variance(residual, projector, run_cov, dof)
-    sigma_hat = np.sqrt(sigma2)
-    sigma = np.where(dof >= 1, sigma_hat, A_PRIORI_SIGMA_ARCMIN)
+    variance = sight_variance(residual, projector, run_cov, dof)
+    sigma2, information = variance.working, variance.information
+    sigma = np.where(dof >= 1, np.sqrt(sigma2), A_PRIORI_SIGMA_ARCMIN)
     identity = np.eye(width)[None] * u[:, :, None]
     known = gain @ run_cov @ np.swapaxes(gain, 1, 2)
     covariance = sigma[:, None, None] ** 2 * (gain @ identity @ np.swapaxes(gain, 1, 2)) + known
@@ -111,12 +110,12 @@ def _fix_statistics(core: CoreFixes, u: np.ndarray, sub_track, k: int, dr_error_
     scale = np.sqrt(2.0 * f_2_quantile(CONFIDENCE, nu))
     major, minor, orientation = error_ellipse(covariance[:, :2, :2], scale)
     leverage = np.einsum("fsi,fij,fsj->fs", jac, unit, jac)
-    outlier, gross, detectable = blunder_test(residual, leverage, u, dof, sigma)
+    outlier, gross, clear, detectable = blunder_test(residual, leverage, u, dof, sigma)
     speed_sigma = np.sqrt(np.trace(covariance[:, 2:, 2:], axis1=1, axis2=2)) if motion else np.zeros(u.shape[0])
     return {"n": n, "dof": dof, "sigma": sigma, "position_cov": covariance[:, :2, :2], "scale": scale, "major": major,
             "minor": minor, "orientation": orientation, "spread": azimuth_spread_many(core.zn_deg, u), "nu": nu,
             "detectable": detectable, "speed_sigma": speed_sigma, "run_included": run_cov.any(axis=(1, 2)),
-            "outlier": outlier, "gross": gross}
+            "outlier": outlier, "gross": gross, "clear": clear, "weight": variance.weight}
 
 
 def _fix_results(core: CoreFixes, st: dict[str, np.ndarray], k: int) -> Callable[[int], FixResult | None]:
@@ -125,7 +124,8 @@ def _fix_results(core: CoreFixes, st: dict[str, np.ndarray], k: int) -> Callable
     motion = k == 4
     lat, lon = core.lat_deg.tolist(), core.lon_deg.tolist()
     numbers = {name: st[name].tolist() for name in ("sigma", "major", "minor", "orientation", "scale", "spread",
-                                                     "speed_sigma", "nu", "detectable", "dof", "n", "run_included")}
+                                                     "speed_sigma", "nu", "detectable", "dof", "n", "run_included",
+                                                     "weight")}
     steps_l, converged_l, singular_l = (core.iterations_each.tolist(), core.converged.tolist(),
                                         core.singular.tolist())
     position_cov = st["position_cov"]
@@ -135,10 +135,9 @@ def _fix_results(core: CoreFixes, st: dict[str, np.ndarray], k: int) -> Callable
             return None
         warnings_: list[str] = []
         d, n, run_included = numbers["dof"][j], numbers["n"][j], numbers["run_included"][j]
+        weight = numbers["weight"][j]
         if d >= 1:
-            source = f"from the residuals, {d} redundant sight{plural(d)}"
-            if run_included:
-                source += ", the DR's error over the run taken out"
+            source = sigma_source(d, weight, run_included)
         else:
             source = f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight, no redundancy"
             warnings_.append(f"{n} sights and {k} unknowns: no redundancy, so the ellipse rests on an "
@@ -157,7 +156,8 @@ def _fix_results(core: CoreFixes, st: dict[str, np.ndarray], k: int) -> Callable
             warnings=warnings_, used=EMPTY_ROWS, n_sights=n, covariance_nm2=position_cov[j],
             confidence_scale=numbers["scale"][j], sigma_source=source, iterations=steps_l[j],
             quantile=quantile_name(numbers["nu"][j], d), spread_deg=spread, dr_error_included=run_included,
-            redundant=d, ellipse_note=ellipse_note(n, k, d), blunder_note=blunder_note(n, d, detectable, k),
+            redundant=d, ellipse_note=ellipse_note(n, k, d, numbers["nu"][j], weight, run_included),
+            blunder_note=blunder_note(n, d, detectable, k),
             detectable_blunder_arcmin=detectable)
         if motion:
             vn, ve = float(core.velocity_north_kn[j]), float(core.velocity_east_kn[j])
@@ -206,9 +206,9 @@ def solve_line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0
     run_cov = run_cov * u[:, :, None] * u[:, None, :]
     gain = cosines / weight[:, None]
     projector = np.eye(u.shape[1])[None] * u[:, :, None] - cosines[:, :, None] * gain[:, None, :]
-    sigma2, information = sight_variance(r, projector, run_cov, dof)
-    sigma_hat = np.sqrt(sigma2)
-    sigma = np.where(dof >= 1, sigma_hat, A_PRIORI_SIGMA_ARCMIN)
+    sights_variance = sight_variance(r, projector, run_cov, dof)
+    sigma2, information = sights_variance.working, sights_variance.information
+    sigma = np.where(dof >= 1, np.sqrt(sigma2), A_PRIORI_SIGMA_ARCMIN)
     known = np.einsum("fi,fij,fj->f", gain, run_cov, gain)
     unit = np.sum(gain**2, axis=1)
     variance = sigma**2 * unit + known
@@ -220,12 +220,12 @@ def solve_line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0
     near_meridian = np.minimum(np.abs(wrap_180(zn)), np.abs(wrap_180(zn - 180.0))) <= MERIDIAN_AZIMUTH_DEG
     meridian = np.all(near_meridian | ~u, axis=1)
     along = wrap_axial(toward + 90.0)
-    outlier, gross, detectable = blunder_test(r, cosines * gain, u, dof, sigma)
+    outlier, gross, clear, detectable = blunder_test(r, cosines * gain, u, dof, sigma)
     run_included = run_cov.any(axis=(1, 2))
 
     def result(j: int) -> FixResult:
         d = int(dof[j])
-        source = (f"from the residuals, {d} redundant sight{plural(d)}" if d >= 1
+        source = (sigma_source(d, float(sights_variance.weight[j]), bool(run_included[j])) if d >= 1
                   else f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight")
         side = "toward" if offset[j] >= 0 else "away from"
         what = "a latitude (the sights are on the meridian)" if meridian[j] else "a line of position"
@@ -246,7 +246,7 @@ def solve_line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0
             blunder_note=blunder_note(int(n[j]), d, float(detectable[j]), 1),
             detectable_blunder_arcmin=float(detectable[j]))
 
-    return Part(residual, outlier, gross, result)
+    return Part(residual, outlier, gross, clear, result)
 
 
 __all__ = ["WEAK_CROSSING_DEG", "MERIDIAN_AZIMUTH_DEG", "Part", "solve_fix_part", "solve_line_part"]

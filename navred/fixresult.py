@@ -77,8 +77,19 @@ class FixResult:
     left_out: np.ndarray = field(default_factory=lambda: EMPTY_ROWS)
     #: per input row: a flagged sight of this fix that is a gross error beyond doubt (GROSS_ARCMIN off)
     gross: np.ndarray = field(default_factory=lambda: EMPTY_ROWS)
-    #: the fix from every sight, when a gross error was left out of this one
+    #: per input row: a flagged sight of this fix that the blunder test also flags at BLUNDER_CLEAR_ALPHA
+    clear_blunder: np.ndarray = field(default_factory=lambda: EMPTY_ROWS)
+    #: per input row: a sight left out of this fix by the blunder test alone (flagged, not a gross error)
+    blunder_left_out: np.ndarray = field(default_factory=lambda: EMPTY_ROWS)
+    #: the fix from every sight, when a sight was left out of this one (a gross error, or flagged by the test)
     all_sights: FixResult | None = field(default=None, repr=False)
+    #: why this position cannot be trusted as the position to plot ('' when nothing says so): a round whose
+    #: altitudes read another way agree (degrees and minutes written as a decimal), or whose sights still
+    #: scatter beyond any hand-held sextant
+    untrusted: str = ""
+    #: the fix of every sight with its Hs read as degrees and minutes written as a decimal, when that reading
+    #: makes the sights agree (the reason this one is untrusted)
+    other_reading: FixResult | None = field(default=None, repr=False)
     #: the names of the sights left out ('row 9', as the labels given)
     left_out_names: list[str] = field(default_factory=list)
     #: sights beyond the unknowns (n − k): how many check the others
@@ -95,6 +106,11 @@ class FixResult:
     run_from: RunFrom = RunFrom.NONE
     #: the fix's distance from the DR at the fix time (nm)
     dr_distance_nm: float = float("nan")
+    #: the DR's age at the fix time (hours; UNKNOWN_DR_AGE_H where the log does not date it), whether the log
+    #: dates it, and how far the fix may lie from it before the far-from-DR warning (nm)
+    dr_age_h: float = float("nan")
+    dr_age_known: bool = False
+    dr_allowed_nm: float = float("nan")
     #: the sights scatter beyond any hand-held sextant (SEXTANT_SIGMA_LIMIT_ARCMIN, at SCATTER_CONFIDENCE)
     scatter_impossible: bool = False
     chart_distance_nm: float | None = None

@@ -10,6 +10,7 @@ Bonferroni's correction (:func:`blunder_test`). Every quantile comes from :mod:`
 from __future__ import annotations
 
 import functools
+from dataclasses import dataclass
 
 import numpy as np
 from numpy.typing import ArrayLike
@@ -38,6 +39,12 @@ DR_ERROR_FRACTION = 0.02
 BLUNDER_ALPHA = 0.05
 
 
+#: A flagged sight is a clear blunder, left out of the headline fix, when the same test flags it at this
+#: false-alarm rate too: a good round has a sight left out in at most this share of fixes (leaving out the largest
+#: residual of a good round shrinks its ellipse, so that one misses the truth more often than one in twenty).
+BLUNDER_CLEAR_ALPHA = 0.01
+
+
 #: A sight is flagged only when its line also lies this far from the fix of the others (arcminutes): a
 #: smaller miss is within a good sight's own error, whatever the test says of sights that agree too well
 #: (common practice).
@@ -57,6 +64,15 @@ MAX_SIGHTS_SEARCHED = 60
 
 
 CONFIDENCE = 0.95
+
+
+#: Lines of position crossing at less than this make a weak fix (a warning).
+WEAK_CROSSING_DEG = 30.0
+
+
+#: The DR's own 95 % radius over a run, in units of its standard deviation: √chi-square(2; 0.95), the circle of
+#: one isotropic displacement (the running fix's ellipse is compared with it).
+DR_ALONE_SCALE = float(np.sqrt(chi_square_2_quantile(CONFIDENCE)))
 
 
 #: What every 95 % ellipse of navred covers, and what it cannot.
@@ -125,17 +141,25 @@ def plural(count: int) -> str:
 
 
 def sight_variance(residual: np.ndarray, projector: np.ndarray, run_cov: np.ndarray, dof: np.ndarray
-                   ) -> tuple[np.ndarray, np.ndarray]:
-    """The sights' variance σ̂² (arcmin²) of each group of a batch, and its Fisher information, when the
-    residuals also carry the DR's known error over the run.
+                   ) -> SightVariance:
+    """The sights' variance (arcmin²) of each group of a batch: the residuals' own estimate σ̂², the variance the
+    ellipse is built on, its Fisher information, and the weight of the residuals in it, when the residuals also
+    carry the DR's known error over the run.
 
     The residuals r = M e (M the residual projector, rank ν) of errors e with covariance σ²I + C: in the
     eigenvectors of M C M within the residual space, the components z_j are independent with variances
     σ² + λ_j. σ̂² maximises their (restricted) likelihood, Σ (z_j² − (σ² + λ_j))/(σ² + λ_j)² = 0, σ² ≥ 0
     (H. D. Patterson and R. Thompson, "Recovery of inter-block information when block sizes are unequal",
     Biometrika 58(3), 1971; from memory): a component the run's error swamps says little of σ and weighs
-    little. With no run (C = 0) it is Σr²/ν exactly. The information Σ 1/(2(σ̂² + λ_j)²) gives its variance.
-    Arrays (groups, sights), (groups, sights, sights).
+    little. With no run (C = 0) it is Σr²/ν exactly.
+
+    How many of the ν redundant sights judge σ at all: m = Σ (σ₀²/(σ₀² + λ_j))², σ₀ the a priori
+    A_PRIORI_SIGMA_ARCMIN (ν with no run; near 0 where the run's error swamps every component). The rest say
+    nothing of σ, and count as sights of σ₀ (a good sight at sea; the assumption a fix of two sights makes):
+    the ellipse's σ² = w σ̂² + (1 − w) σ₀², w = m/ν, and its information Σ 1/(2(σ² + λ_j)²) / w². With no run
+    w = 1 and everything is the residuals' alone (the F(2, ν) ellipse is then exact). Without it, a 3-sight
+    running fix over 7 h got an ellipse 80 nm long (ν clamped at 1) and one over 3 h, σ̂ = 0 at the likelihood's
+    boundary, covered the truth two times in three. Arrays (groups, sights), (groups, sights, sights).
     """
     r = np.nan_to_num(residual)
     nu = np.maximum(np.asarray(dof, dtype=float), 0.0)
@@ -143,10 +167,14 @@ def sight_variance(residual: np.ndarray, projector: np.ndarray, run_cov: np.ndar
     sigma2 = np.where(nu > 0, np.sum(r**2, axis=1) / np.maximum(nu, 1.0), 0.0)
     with np.errstate(divide="ignore", invalid="ignore"):
         information = np.where(sigma2 > 0, nu / (2.0 * sigma2**2), np.inf)
+    working = sigma2.copy()
+    weight = np.ones(nu.shape)
+    prior = A_PRIORI_SIGMA_ARCMIN**2
     large = np.sum(np.any(run_cov != 0, axis=2), axis=1) > MAX_SIGHTS_SEARCHED
     if large.any():  # the moment estimate, E[r'r] = σ²ν + tr MC, and its information as if C were nil
         trace_mc = np.einsum("fij,fji->f", projector[large], run_cov[large])
         sigma2[large] = np.maximum(np.sum(r[large] ** 2, axis=1) - trace_mc, 0.0) / np.maximum(nu[large], 1.0)
+        working[large] = sigma2[large]
         with np.errstate(divide="ignore", invalid="ignore"):
             information[large] = np.where(sigma2[large] > 0, nu[large] / (2.0 * sigma2[large] ** 2), np.inf)
     rows = np.flatnonzero(~plain & (nu > 0) & ~large)
@@ -165,7 +193,6 @@ def sight_variance(residual: np.ndarray, projector: np.ndarray, run_cov: np.ndar
 
         lo = np.zeros(rows.size)
         hi = np.max(z2, axis=1) + 1e-12
-        found = np.zeros(rows.size)
         positive = slope(np.full(rows.size, 1e-300)) > 0
         for _ in range(80):
             mid = (lo + hi) / 2.0
@@ -173,9 +200,24 @@ def sight_variance(residual: np.ndarray, projector: np.ndarray, run_cov: np.ndar
             lo, hi = np.where(up, mid, lo), np.where(up, hi, mid)
         found = np.where(positive, (lo + hi) / 2.0, 0.0)
         sigma2[rows] = found
+        judging = np.where(inside, 1.0 / (1.0 + (lam / prior) ** 2), 0.0).sum(axis=1)
+        weight[rows] = np.clip(judging / nu[rows], 0.0, 1.0)
+        working[rows] = weight[rows] * found + (1.0 - weight[rows]) * prior
         with np.errstate(divide="ignore", invalid="ignore"):
-            information[rows] = np.where(inside, 0.5 / (found[:, None] + lam) ** 2, 0.0).sum(axis=1)
-    return sigma2, information
+            information[rows] = (np.where(inside, 0.5 / (working[rows][:, None] + lam) ** 2, 0.0).sum(axis=1)
+                                 / weight[rows] ** 2)
+    return SightVariance(sigma2, working, information, weight)
+
+
+@dataclass(frozen=True)
+class SightVariance:
+    """:func:`sight_variance`: per group, the residuals' own σ̂² (arcmin²), the σ² the ellipse is built on, its
+    Fisher information, and the weight w of the residuals in it (1: the residuals alone; 0: σ₀ alone)."""
+
+    residuals: np.ndarray
+    working: np.ndarray
+    information: np.ndarray
+    weight: np.ndarray
 
 
 def effective_dof(dof: ArrayLike, sigma2: ArrayLike, trace_p: ArrayLike, trace_k: ArrayLike,
@@ -198,8 +240,9 @@ def effective_dof(dof: ArrayLike, sigma2: ArrayLike, trace_p: ArrayLike, trace_k
 
 
 def blunder_test(residual, leverage, use, dof, sigma):
-    """The blunder test of every sight of a batch of groups (groups, sights): flags, gross errors, and the
-    smallest blunder the test finds about half the time (per group).
+    """The blunder test of every sight of a batch of groups (groups, sights): flags, gross errors, clear
+    blunders (flagged at BLUNDER_CLEAR_ALPHA too), and the smallest blunder the test finds about half the time
+    (per group).
 
     Each sight's externally studentized residual t_i = r_i / (s_(i) √(1 − h_ii)), with s_(i) the scatter of
     the others (so that a blunder cannot hide by inflating it) and h_ii its leverage, is Student's t with
@@ -224,11 +267,14 @@ def blunder_test(residual, leverage, use, dof, sigma):
     off = np.abs(r) / miss  # the line's distance from the fix of the others
     outlier = use & testable[:, None] & (t > critical[:, None]) & (off > BLUNDER_MIN_ARCMIN)
     gross = outlier & (off > GROSS_ARCMIN)
+    strict = np.where(testable, student_t_quantile(1.0 - BLUNDER_CLEAR_ALPHA / (2.0 * np.maximum(n, 1)),
+                                                   np.where(testable, dof - 1.0, 1.0)), np.inf)
+    clear = outlier & (t > strict[:, None])
     detectable = np.full(len(r), np.nan)
     if testable.any():
         per_sight = critical[testable, None] * np.asarray(sigma)[testable, None] / np.sqrt(miss[testable])
         detectable[testable] = np.nanmedian(np.where(use[testable], per_sight, np.nan), axis=1)
-    return outlier, gross, np.maximum(detectable, BLUNDER_MIN_ARCMIN)
+    return outlier, gross, clear, np.maximum(detectable, BLUNDER_MIN_ARCMIN)
 
 
 @functools.lru_cache(maxsize=256)
@@ -246,31 +292,70 @@ def blunder_note(n: int, d: int, detectable: float, k: int) -> str:
     if d == 1:
         return (f"{n} sights for {k} unknowns cannot single out a bad sight: each residual is the same misfit "
                 "seen from one sight; take another sight to check them")
-    return (f"{n} sights can find a blunder of about {detectable:.0f}′ or more (about half the time at that size, "
-            f"from the sights' own scatter)")
+    return (f"{n} sights find a blunder of about {detectable:.0f}′ in half the rounds and a larger one in most (from "
+            f"the sights' own scatter); a smaller one only now and then")
 
 
-def ellipse_note(n: int, k: int, d: int) -> str:
-    """What the ellipse's size means with few redundant sights, in words a navigator reads."""
+#: The weight of the residuals in the sights' σ (:class:`SightVariance`) below which σ is said to be assumed.
+SWAMPED_WEIGHT = 0.05
+
+
+def sigma_source(d: int, weight: float, run_included: bool) -> str:
+    """Where the sights' σ comes from, in words (``d`` ≥ 1 redundant sights, the residuals' ``weight`` in it)."""
+    if weight >= 0.995:
+        return (f"from the residuals, {d} redundant sight{plural(d)}"
+                + (", the DR's error over the run taken out" if run_included else ""))
+    if weight < SWAMPED_WEIGHT:
+        return (f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight, a good sight at sea: the DR's error over the run swamps "
+                f"the {d} redundant sight{plural(d)}, which cannot judge it")
+    return (f"from the residuals ({d} redundant sight{plural(d)}, worth {weight * d:.1f} against the DR's error over "
+            f"the run) and an assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight for the rest")
+
+
+def ellipse_note(n: int, k: int, d: int, nu: float = float("nan"), weight: float = 1.0,
+                 run_included: bool = False) -> str:
+    """What the ellipse's size means with few redundant sights, in words a navigator reads, for the quantile
+    actually used (F(2, ν), ν the effective number ``nu`` when the DR's error over the run is part of it)."""
     if d <= 0:
         return (f"{n} sights for {k} unknowns leave none to judge the sights by: the ellipse rests on an assumed "
                 f"{A_PRIORI_SIGMA_ARCMIN}′ per sight")
     if d > 3:
         return ""
-    ratio, next_ratio = _scale_ratio(d)
-    return (f"{n} sights for {k} unknowns leave {d} redundant sight{plural(d)} to judge the sights' error by, so "
-            f"that error is known only roughly and the ellipse allows for it being larger than it looks: the "
-            f"sights' share of it is {ratio:.1f} times the size a known error would give; one more sight would "
-            f"make that {next_ratio:.1f} times")
+    if not run_included or not np.isfinite(nu):
+        nu = d
+    known = float(np.sqrt(chi_square_2_quantile(CONFIDENCE)))
+    ratio = float(np.sqrt(2.0 * f_2_quantile(CONFIDENCE, nu))) / known
+    if ratio < 1.05:  # the quantile is that of a known error
+        if weight < SWAMPED_WEIGHT:
+            return (f"the DR's error over the run swamps the {d} redundant sight{plural(d)}: they cannot judge the "
+                    f"sights' error, which is taken as {A_PRIORI_SIGMA_ARCMIN}′ (a good sight at sea; worse sights "
+                    f"make a larger ellipse than this), and the ellipse is scaled as for a known error "
+                    f"({quantile_name(nu, d)})")
+        if weight < 0.995:
+            return (f"{n} sights for {k} unknowns leave {d} redundant sight{plural(d)}, worth {weight * d:.1f} against "
+                    f"the DR's error over the run: the sights' error is judged partly from them and partly taken as "
+                    f"{A_PRIORI_SIGMA_ARCMIN}′ (a good sight at sea), and the ellipse is scaled as for a known error "
+                    f"({quantile_name(nu, d)})")
+        return ""
+    if not run_included or (weight >= 0.995 and abs(nu - d) < 0.05):
+        ratio, next_ratio = _scale_ratio(d)
+        return (f"{n} sights for {k} unknowns leave {d} redundant sight{plural(d)} to judge the sights' error by, so "
+                f"that error is known only roughly and the ellipse allows for it being larger than it looks: the "
+                f"sights' share of it is {ratio:.1f} times the size a known error would give; one more sight would "
+                f"make that {next_ratio:.1f} times")
+    return (f"{n} sights for {k} unknowns leave {d} redundant sight{plural(d)}, worth {weight * d:.1f} against the "
+            f"DR's error over the run, to judge the sights' error by, so that error is known only roughly: the "
+            f"ellipse, scaled by {quantile_name(nu, d)}, is {ratio:.1f} times the size a known error would give")
 
 
 def quantile_name(nu: float, d: int) -> str:
     if not np.isfinite(nu) or nu > 1000.0:  # F(2, ν) is then chi-square(2)/2 to 0.3 %
         return "chi-square(2)"
-    return f"F(2, {d})" if abs(nu - d) < 0.05 else f"F(2, {nu:.1f})"
+    return f"F(2, {d})" if abs(nu - d) < 0.05 else f"F(2, {nu:.1f})" if nu < 100 else f"F(2, {nu:.0f})"
 
 
-__all__ = ["A_PRIORI_SIGMA_ARCMIN", "DR_ERROR_KN", "DR_ERROR_FRACTION", "BLUNDER_ALPHA", "BLUNDER_MIN_ARCMIN",
-           "GROSS_ARCMIN", "MAX_SIGHTS_SEARCHED", "CONFIDENCE", "ELLIPSE_COVERS", "error_ellipse",
-           "azimuth_spread_deg", "azimuth_spread_many", "run_error_covariance", "plural", "sight_variance",
+__all__ = ["A_PRIORI_SIGMA_ARCMIN", "DR_ERROR_KN", "DR_ERROR_FRACTION", "BLUNDER_ALPHA", "BLUNDER_CLEAR_ALPHA", "BLUNDER_MIN_ARCMIN",
+           "GROSS_ARCMIN", "MAX_SIGHTS_SEARCHED", "CONFIDENCE", "WEAK_CROSSING_DEG", "DR_ALONE_SCALE", "SWAMPED_WEIGHT", "ELLIPSE_COVERS",
+           "sigma_source", "error_ellipse",
+           "azimuth_spread_deg", "azimuth_spread_many", "run_error_covariance", "plural", "sight_variance", "SightVariance",
            "effective_dof", "blunder_test", "blunder_note", "ellipse_note", "quantile_name"]

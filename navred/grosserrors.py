@@ -14,28 +14,48 @@ import numpy as np
 
 from .angles import format_angle
 from .fixbatch import SightRows, fix_batch, subset_groups
-from .fixstats import BLUNDER_ALPHA, GROSS_ARCMIN, MAX_SIGHTS_SEARCHED
+from .fixstats import (
+    A_PRIORI_SIGMA_ARCMIN,
+    BLUNDER_ALPHA,
+    BLUNDER_CLEAR_ALPHA,
+    GROSS_ARCMIN,
+    MAX_SIGHTS_SEARCHED,
+)
+from .sensechecks import SEXTANT_SIGMA_LIMIT_ARCMIN
 from .stats import student_t_quantile
 from .triangle import distance_bearing
 
 
-def leave_out_gross(sights: SightRows, group, n_groups, ok, results) -> None:
+def leave_out_gross(sights: SightRows, group, n_groups, ok, results, skip: frozenset[int] = frozenset()) -> None:
     """Each group's gross errors beyond doubt left out of its fix, a round at a time (a second one can hide
-    behind the first); the fix from every sight kept beside it, and a loud warning naming each row."""
+    behind the first), and the sights the blunder test flags once the gross errors are out (while three or more
+    sights remain to fix from and check); the fix from every sight kept beside it, and a loud warning naming
+    each row. The groups ``skip`` are left as they are (a round that cannot be trusted as written)."""
     left_out = np.zeros(group.size, dtype=bool)
+    by_test = np.zeros(group.size, dtype=bool)
+    tested: set[int] = set()
     first = list(results)
     bounds = np.concatenate([[0], np.cumsum(np.bincount(group[group >= 0], minlength=n_groups))])
     by_group = np.argsort(np.where(group >= 0, group, n_groups), kind="stable")
     for _ in range(3):
         chosen, rows, wild = [], [], []
         for g, result in enumerate(results):
-            if result is None:
+            if result is None or g in skip:
                 continue
+            members = by_group[bounds[g]:bounds[g + 1]]
+            doubtful = result.clear_blunder & ~_or_empty(result.left_out, members.size)
             if result.gross.any():
                 chosen.append(g)
-                rows.append(by_group[bounds[g]:bounds[g + 1]][result.gross])
+                rows.append(members[result.gross])
+            elif (g not in tested and doubtful.any() and result.is_fix
+                  and int(result.used.sum()) - int(doubtful.sum()) >= 3):
+                tested.add(g)
+                chosen.append(g)
+                rows.append(members[doubtful])
+                by_test[members[doubtful]] = True
             elif result.scatter_impossible and result.redundant >= 2 and result.n_sights <= MAX_SIGHTS_SEARCHED:
                 wild.append(g)
+            tested.add(g)
         for g, found in _gross_by_leaving_out(sights, group, ok, left_out, wild, results).items():
             chosen.append(g)
             rows.append(np.array(found))
@@ -50,21 +70,40 @@ def leave_out_gross(sights: SightRows, group, n_groups, ok, results) -> None:
     for g, result in enumerate(results):
         if result is None or first[g] is result or not result.left_out.any():
             continue
-        every = first[g]
-        result.all_sights = every
-        names = sights.names[by_group[bounds[g]:bounds[g + 1]][result.left_out]]
-        result.left_out_names = [str(name) for name in names]
-        misses = np.abs(result.residual_arcmin[result.left_out])
-        miles = float(distance_bearing(result.lat_deg, result.lon_deg, every.lat_deg, every.lon_deg)[0])
-        lines = ", ".join(f"{name} ({miss:.0f}′ off)" for name, miss in zip(names, misses.tolist()))
-        result.warnings.insert(0, (
-            f"LEFT OUT of this {result.kind}: {lines}: {'their lines lie' if len(names) > 1 else 'its line lies'} "
-            f"far beyond any sextant error from the others (a misnamed body, a slip of degrees or minutes, a "
-            f"wrong time?); the {every.kind} from every sight is {miles:.1f} nm away, at "
-            f"{format_angle(every.lat_deg, 'lat')} {format_angle(every.lon_deg, 'lon')}"))
-        if miles > 1.0:
-            result.warnings.insert(1, f"this {result.kind} and the one from every sight differ by {miles:.1f} nm: "
-                                      "plot this one, and find out what is wrong with the sight left out")
+        members = by_group[bounds[g]:bounds[g + 1]]
+        result.all_sights = first[g]
+        result.blunder_left_out = by_test[members] & result.left_out
+        _say_left_out(result, sights.names[members])
+
+
+def _say_left_out(result, names_here: np.ndarray) -> None:
+    """The loud warning of the sights left out of a fix: each row, how far its line lies, and why."""
+    every = result.all_sights
+    out = result.left_out
+    names = names_here[out]
+    result.left_out_names = [str(name) for name in names]
+    misses = np.abs(result.residual_arcmin[out]).tolist()
+    tested = result.blunder_left_out[out].tolist()
+    miles = float(distance_bearing(result.lat_deg, result.lon_deg, every.lat_deg, every.lon_deg)[0])
+    gross = [f"{name} ({miss:.0f}′ off)" for name, miss, t in zip(names, misses, tested) if not t]
+    flagged = [f"{name} ({miss:.1f}′ off)" for name, miss, t in zip(names, misses, tested) if t]
+    reasons = []
+    if gross:
+        reasons.append(f"{', '.join(gross)}: {'their lines lie' if len(gross) > 1 else 'its line lies'} far beyond "
+                       "any sextant error from the others (a misnamed body, a slip of degrees or minutes, a wrong "
+                       "time?)")
+    if flagged:
+        reasons.append(f"{', '.join(flagged)}: the blunder test finds {'them' if len(flagged) > 1 else 'it'} a "
+                       f"clear blunder (beyond its {BLUNDER_CLEAR_ALPHA * 100:.0f} % level: a good round has a sight "
+                       "left out one time in a hundred at most)")
+    result.warnings.insert(0, (
+        f"LEFT OUT of this {result.kind}: {'; '.join(reasons)}; the {every.kind} from every sight is {miles:.1f} nm "
+        f"away, at {format_angle(every.lat_deg, 'lat')} {format_angle(every.lon_deg, 'lon')}"))
+    if miles > 1.0:
+        rows = ", ".join(str(name) for name in names)
+        result.warnings.insert(1, f"this {result.kind} and the one from every sight differ by {miles:.1f} nm: "
+                                  f"plot this one, and find out what is wrong with {rows} (its time, body, "
+                                  "altitude)")
 
 
 def _gross_by_leaving_out(sights: SightRows, group, ok, left_out, wild: list[int], results) -> dict[int, list[int]]:
@@ -115,6 +154,81 @@ def _gross_by_leaving_out(sights: SightRows, group, ok, left_out, wild: list[int
     return found
 
 
+#: A round read again with its Hs as degrees and minutes written as a decimal (29.216 as 29° 21.6′) is taken to
+#: have been written so when its residuals' sum of squares falls by at least this factor, to a scatter a sextant
+#: gives: read as written, the sights then disagree ten times as much (in variance) as read that way.
+DECIMAL_EVIDENCE = 10.0
+
+
+def misread_rounds(sights: SightRows, hs_deg: np.ndarray, group, n_groups, ok, results) -> set[int]:
+    """The groups whose Hs look like degrees and minutes written as a decimal (29.216 for 29° 21.6′): every
+    usable Hs reads that way too (a fraction under .60), the sights as written scatter more than a good sight
+    (A_PRIORI_SIGMA_ARCMIN), and read that way they agree to a sextant's scatter, DECIMAL_EVIDENCE times better
+    (the sums of squares of the residuals). Each such fix is marked as not to be trusted (``untrusted``), with
+    the position the other reading gives; its gross errors are not looked for (they would be the misreading's).
+    Run on the fixes of every sight, before any sight is left out."""
+    degrees = np.trunc(hs_deg)
+    minutes = np.round((hs_deg - degrees) * 100.0, 6)
+    shift = np.where(np.abs(minutes) < 60.0, degrees + minutes / 60.0 - hs_deg, np.nan)
+    bounds = np.concatenate([[0], np.cumsum(np.bincount(group[group >= 0], minlength=n_groups))])
+    by_group = np.argsort(np.where(group >= 0, group, n_groups), kind="stable")
+    chosen = []
+    for g, result in enumerate(results):
+        if result is None or not result.is_fix or result.redundant < 1 or result.sigma_arcmin <= A_PRIORI_SIGMA_ARCMIN:
+            continue
+        members = by_group[bounds[g]:bounds[g + 1]][result.used]
+        if np.isfinite(shift[members]).all() and np.any(shift[members] != 0):
+            chosen.append(g)
+    if not chosen:
+        return set()
+    times = np.array([results[g].utc for g in chosen], dtype="datetime64[ns]")
+    other = replace(sights, ho=sights.ho + np.nan_to_num(shift) * ok)
+    again, _ = fix_batch(other, subset_groups(group, chosen, n_groups), len(chosen), ok, np.zeros(group.size, bool),
+                         times)
+    found = set()
+    for j, g in enumerate(chosen):
+        result, trial = results[g], again[j]
+        if trial is None or trial.redundant < 1 or trial.sigma_arcmin > SEXTANT_SIGMA_LIMIT_ARCMIN:
+            continue
+        written = float(np.nansum(result.residual_arcmin[result.used] ** 2))
+        read = float(np.nansum(trial.residual_arcmin[trial.used] ** 2))
+        if written < DECIMAL_EVIDENCE * read:
+            continue
+        found.add(g)
+        row = by_group[bounds[g]:bounds[g + 1]][result.used][0]
+        miles = float(distance_bearing(result.lat_deg, result.lon_deg, trial.lat_deg, trial.lon_deg)[0])
+        result.untrusted = (
+            f"Hs looks like degrees and minutes written as a decimal: read so ({hs_deg[row]:.3f} as "
+            f"{format_angle(hs_deg[row] + shift[row], 'signed')}), the sights agree to σ "
+            f"{np.sqrt(read / trial.redundant):.1f}′, "
+            f"against σ {np.sqrt(written / result.redundant):.1f}′ as written, and put the {trial.kind} "
+            f"{miles:.0f} nm from this one, at {format_angle(trial.lat_deg, 'lat')} "
+            f"{format_angle(trial.lon_deg, 'lon')}: write Hs as degrees and minutes (29 21.6) or as decimal "
+            "degrees, and fix again")
+        result.other_reading = trial
+    return found
+
+
+def mark_untrusted(results) -> None:
+    """Every fix that cannot be trusted as the position to plot says so first, plainly, with why: a round
+    misread (:func:`misread_rounds`), or sights that still scatter beyond any hand-held sextant once the gross
+    errors are out (or with none found)."""
+    for result in results:
+        if result is None or not result.is_fix:
+            continue
+        if not result.untrusted and (result.scatter_impossible or (
+                result.left_out.any() and result.sigma_arcmin > SEXTANT_SIGMA_LIMIT_ARCMIN)):
+            left = " left in it" if result.left_out.any() else ""
+            result.untrusted = (
+                f"the sights{left} scatter beyond a sextant: σ {result.sigma_arcmin:.1f}′, more than a hand-held one gives "
+                f"(about 1′, {SEXTANT_SIGMA_LIMIT_ARCMIN:.0f}′ in a seaway): some altitude, time or body name, or "
+                "the run between the sights, is wrong and the others cannot tell which; find it and fix again")
+        if result.untrusted:
+            result.warnings[:] = [w.replace("plot this one, and find out", "plot neither as it stands: find out")
+                                  for w in result.warnings]
+            result.warnings.insert(0, f"CANNOT BE TRUSTED as the position to plot: {result.untrusted}")
+
+
 def check_fixes(sights: SightRows, group, n_groups, ok, results) -> None:
     """For each fix with sights flagged as possible blunders (kept in it): the check fix without them, and a
     warning of how far it moves."""
@@ -149,10 +263,14 @@ def check_fixes(sights: SightRows, group, n_groups, ok, results) -> None:
             f"{'them' if count > 1 else 'it'} the {result.kind} moves {miles:.1f} nm (the check fix)"
             + (": more than a mile, so look at the sight before plotting either" if miles > 1.0 else ""))
         result.without_outliers = check
+        smaller = [f"{name} ({abs(r):.1f}′ off)" for name, r in zip(names, check.residual_arcmin[doubtful].tolist())
+                   if abs(r) < result.detectable_blunder_arcmin]
+        if smaller:
+            result.blunder_note += f"; {', '.join(smaller)} is flagged all the same: a smaller one is found now and then"
 
 
 def _or_empty(values: np.ndarray, size: int) -> np.ndarray:
     return values if values.size == size else np.zeros(size, dtype=bool)
 
 
-__all__ = ["leave_out_gross", "check_fixes"]
+__all__ = ["DECIMAL_EVIDENCE", "leave_out_gross", "misread_rounds", "mark_untrusted", "check_fixes"]

@@ -16,7 +16,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .angles import wrap_180
+from .angles import wrap_180, wrap_360
 from .constants import ARCMIN_PER_DEG, LARGE_INTERCEPT_NM, SUN_BRIGHT_SKY_DEG, SUN_DARK_HORIZON_DEG
 from .corrections import horizon_kind
 from .marking_judge import LINES, WRONG, Judge, SightsToMark
@@ -335,7 +335,7 @@ def slip_costs(sights: SightsToMark, method: np.ndarray, sky: Sky, altitudes: Al
                                                                                          dtype=float)
         with np.errstate(invalid="ignore"):
             amplitude = np.degrees(np.arcsin(np.sin(np.radians(sky.true_dec)) / np.cos(np.radians(lat_dr))))
-        rising = np.mod(sky.true_gha + lon_dr, 360.0) > 180.0
+        rising = wrap_360(sky.true_gha + lon_dr) > 180.0
         zn = np.where(method == "amplitude", np.where(rising, 90.0 - amplitude, 270.0 + amplitude), zn_right)
         right_error = wrap_180(zn - bearing)
         error_slip = wrap_180(bearings.error_deg - right_error)

@@ -55,13 +55,13 @@ def zn_from_z(z_deg, lat_deg, lha_deg) -> np.ndarray:
     """True azimuth Zn from the tables' azimuth angle Z (0-180°), by the hemisphere and LHA (the rule above)."""
     z = np.asarray(z_deg, dtype=float)
     north = np.asarray(lat_deg, dtype=float) >= 0
-    east = np.mod(np.asarray(lha_deg, dtype=float), 360.0) > 180.0  # LHA over 180°: the body is east
-    return np.where(north, np.where(east, z, 360.0 - z), np.where(east, 180.0 - z, 180.0 + z)) % 360.0
+    east = wrap_360(lha_deg) > 180.0  # LHA over 180°: the body is east
+    return wrap_360(np.where(north, np.where(east, z, 360.0 - z), np.where(east, 180.0 - z, 180.0 + z)))
 
 
 def z_from_zn(zn_deg, lat_deg) -> np.ndarray:
     """The tables' azimuth angle Z (0-180°, from the elevated pole) of a true azimuth."""
-    zn = np.mod(np.asarray(zn_deg, dtype=float), 360.0)
+    zn = wrap_360(zn_deg)
     north = np.asarray(lat_deg, dtype=float) >= 0
     return np.where(north, np.where(zn <= 180.0, zn, 360.0 - zn), np.where(zn <= 180.0, 180.0 - zn, zn - 180.0))
 
@@ -232,7 +232,7 @@ def _zn_line(j: Judge, on, by_tables, undecided, lat_c, lha_c, tables: _Tables, 
         for rule in (np.where(north, z, 180.0 - z), np.where(north, 360.0 - z, 180.0 + z),
                      np.where(north, 180.0 - z, z), np.where(north, 180.0 + z, 360.0 - z)):
             alternatives.append(("zn rule", np.where(np.abs(wrap_180(rule - right_zn)) > TOLERANCES["zn_worked"],
-                                                     rule % 360.0, np.nan)))
+                                                     wrap_360(rule), np.nan)))
     j.judge("zn_worked", tables.zn_exact, np.where(by_tables, tenth(zn_from_z(tables.tab_z, lat_c, lha_c)),
                                                    tenth(tables.zn_exact)),
             also=(from_z, interpolated, np.where(undecided, zn_dr, np.nan)), angle=True, only=on,
@@ -410,7 +410,7 @@ def compass_lines(j: Judge, sights: SightsToMark, method: np.ndarray, gha_c: np.
             only=on, causes=(("amplitude name", -a_exact),))
     a_c = j.value("amplitude_worked", a_exact)
     rising = wrap_360(gha_c + lon_dr) > 180.0  # the body east of the meridian
-    zn_amplitude = np.where(rising, 90.0 - a_c, 270.0 + a_c) % 360.0
+    zn_amplitude = wrap_360(np.where(rising, 90.0 - a_c, 270.0 + a_c))
     wrong_sides = (np.where(rising, 90.0 + a_c, 270.0 - a_c), np.where(rising, 270.0 + a_c, 90.0 - a_c),
                    np.where(rising, 270.0 - a_c, 90.0 + a_c))
     # azimuth: LHA from the DR, Zn at the DR
@@ -422,7 +422,7 @@ def compass_lines(j: Judge, sights: SightsToMark, method: np.ndarray, gha_c: np.
     zn_expected = np.where(amplitude, zn_amplitude, zn_azimuth)
     j.judge("zn_worked", zn_expected, tenth(zn_expected), angle=True, only=on,
             tolerance=np.where(amplitude, TOLERANCES["amplitude_worked"], TOLERANCES["zn_worked"]),
-            causes=tuple(("amplitude name", np.where(amplitude, side % 360.0, np.nan)) for side in wrong_sides))
+            causes=tuple(("amplitude name", np.where(amplitude, wrap_360(side), np.nan)) for side in wrong_sides))
     zn_c = j.value("zn_worked", zn_expected)
     error = wrap_180(zn_c - bearing)
     j.judge("compass_error_worked", error, angle=True, only=on, causes=(("error name", -error),))

@@ -30,7 +30,7 @@ import numpy as np
 
 from .almanac import places
 from .angles import wrap_180, wrap_360
-from .constants import ARCMIN_PER_DEG
+from .constants import ARCMIN_PER_DEG, SECONDS_PER_DAY, SECONDS_PER_HOUR
 from .corrections import (
     DIP_ARCMIN_PER_SQRT_M,
     correct_altitudes,
@@ -113,11 +113,11 @@ def time_lines(j: Judge, sights: SightsToMark) -> np.ndarray:
     wrong_utc = has_utc & ~right_utc
     j.verdict[has_utc, k] = np.where(right_utc[has_utc], RIGHT, WRONG)
     j.difference[has_utc, k] = seconds[has_utc]
-    zone_s = np.nan_to_num(np.asarray(sights.zone_description_h, dtype=float)) * 3600.0
+    zone_s = np.nan_to_num(np.asarray(sights.zone_description_h, dtype=float)) * SECONDS_PER_HOUR
     watch_s = np.nan_to_num(np.asarray(sights.watch_error_s, dtype=float))
     cause = np.full(n, "", dtype=object)
     fitting = {}
-    for key, shift, applies in (("zone sign", 2.0 * zone_s, zone_s != 0), ("greenwich date", 86400.0, True),
+    for key, shift, applies in (("zone sign", 2.0 * zone_s, zone_s != 0), ("greenwich date", SECONDS_PER_DAY, True),
                                 ("watch error", 2.0 * watch_s, watch_s != 0)):
         fitting[key] = wrong_utc & applies & (np.abs(np.abs(seconds) - np.abs(shift)) <= TOLERANCES["utc_worked"])
         cause[fitting[key] & (cause == "")] = CAUSES[key]

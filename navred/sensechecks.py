@@ -6,7 +6,7 @@ from __future__ import annotations
 import numpy as np
 
 from .fixresult import FixResult
-from .fixstats import DR_ERROR_FRACTION, DR_ERROR_KN
+from .fixstats import DR_ALONE_SCALE, DR_ERROR_FRACTION, DR_ERROR_KN, WEAK_CROSSING_DEG
 from .stats import chi_square_quantile
 from .status import RunFrom
 from .triangle import distance_bearing
@@ -60,9 +60,14 @@ def sense_checks(results: list[FixResult], run_from: list[RunFrom], span_min: np
                                                                / dof[dof >= 1])
     wild = is_fix & (sigma > limit)
     far = distance > allowed
+    dr_alone = DR_ALONE_SCALE * dr_sigma
+    major = np.where(is_fix, size, 0.0)
+    larger = is_fix & age_known & (dr_alone > 0) & (major > dr_alone)
     stopped = (np.array(run_from, dtype=object) == RunFrom.NONE) & (span_min > STOPPED_SPAN_MIN)
     for j, result in enumerate(results):
         result.dr_distance_nm = float(distance[j])
+        result.dr_age_h, result.dr_age_known = float(age_h[j]), bool(age_known[j])
+        result.dr_allowed_nm = float(allowed[j])
         result.scatter_impossible = bool(wild[j])
     for j in np.flatnonzero(stopped).tolist():
         results[j].warnings.append(
@@ -77,6 +82,20 @@ def sense_checks(results: list[FixResult], run_from: list[RunFrom], span_min: np
             f"the {result.kind} is {distance[j]:.0f} nm from the DR, far more than the DR could be out (about "
             f"{allowed[j]:.0f} nm for {age} at {speed_kn[j]:.1f} kn): check the time (the zone description and "
             "its sign, the date, the watch error), the DR and the body names before using either")
+    for j in np.flatnonzero(larger).tolist():
+        result = results[j]
+        if result.spread_deg < 2 * WEAK_CROSSING_DEG:
+            why = f"the lines cross at {result.spread_deg:.0f}° at most, too fine an angle to fix it along that axis"
+        elif result.ellipse_note:
+            why = "the sights are too few to judge their own error by (see the ellipse's note)"
+        else:
+            why = f"the sights scatter by σ {result.sigma_arcmin:.1f}′"
+        axis = result.ellipse_orientation_deg
+        result.warnings.append(
+            f"the 95 % ellipse ({result.ellipse_semi_major_nm:.1f} nm semi-major axis, along {axis:03.0f}°/"
+            f"{(axis + 180.0) % 360.0:03.0f}°) is larger than the DR's own 95 % circle ({dr_alone[j]:.1f} nm for a DR "
+            f"{age_h[j]:.1f} h old at {speed_kn[j]:.1f} kn, navred's DR-error model): {why}; along that axis the "
+            "DR is the better guide")
     for j in np.flatnonzero(wild).tolist():
         result = results[j]
         result.warnings.append(

@@ -29,9 +29,9 @@ sys.path.insert(0, str(ROOT))
 from navred.almanac import places  # noqa: E402
 from navred.angles import format_angle  # noqa: E402
 from navred.corrections import correct_altitudes  # noqa: E402
-from navred.sailings import move_position  # noqa: E402
 from navred.stars import star_table  # noqa: E402
 from navred.triangle import computed_altitude_azimuth  # noqa: E402
+from tests.conftest import rhumb_integrated  # noqa: E402  (the rhumb line sailed outside navred)
 
 START = pd.Timestamp("2026-01-10T00:00:00Z")
 VESSELS, OBSERVERS, EYE_HEIGHT_M, INDEX_ERROR_ARCMIN = 14, 2, 6.0, 1.4
@@ -39,10 +39,11 @@ LEG_HOURS = 96.0  # each vessel turns back every four days, so that the fleet st
 
 
 def _sailed(lat0, lon0, course, speed, hours):
-    """A vessel's position after ``hours``, sailing back and forth on ``course`` (flat-earth steps)."""
+    """A vessel's position after ``hours``, sailing back and forth on the rhumb line ``course`` (sailed on WGS 84
+    outside navred: tests/conftest.py's RK4)."""
     phase = np.mod(hours, 2 * LEG_HOURS)
     run = speed * np.where(phase < LEG_HOURS, phase, 2 * LEG_HOURS - phase)
-    return move_position(lat0, lon0, run * np.cos(np.radians(course)), run * np.sin(np.radians(course)))
+    return rhumb_integrated(lat0, lon0, course, run, steps=64)  # 64 RK4 steps: metres over 1,440 nm
 
 
 def _text(values: np.ndarray, kind: str) -> list[str]:
@@ -104,8 +105,9 @@ def fleet_log(sights: int = 20_000, seed: int = 2027) -> pd.DataFrame:
                                       limb=np.where(limb == "", "centre", limb), sd_arcmin=p.sd_arcmin,
                                       hp_arcmin=p.hp_arcmin, lat_deg=log.true_lat.to_numpy(), zn_deg=zn)
         hs = hs + (ho - corrected.ho_deg)
-    dr_lat, dr_lon = move_position(log.true_lat.to_numpy(), log.true_lon.to_numpy(),
-                                   rng.normal(0, 5, len(log)), rng.normal(0, 5, len(log)))
+    north, east = rng.normal(0, 5, len(log)), rng.normal(0, 5, len(log))
+    dr_lat, dr_lon = rhumb_integrated(log.true_lat.to_numpy(), log.true_lon.to_numpy(),
+                                      np.degrees(np.arctan2(east, north)), np.hypot(north, east), steps=16)
     return pd.DataFrame({
         "utc": pd.DatetimeIndex(utc).strftime("%Y-%m-%dT%H:%M:%SZ"), "body": log.body, "limb": limb,
         "hs": _text(hs, "signed"), "index_error_arcmin": f"{INDEX_ERROR_ARCMIN} on",

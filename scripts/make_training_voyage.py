@@ -28,8 +28,11 @@ import pandas as pd
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from navred.sailings import move_position  # noqa: E402
-from tests.conftest import skyfield_sight  # noqa: E402  (the same independent synthesizer the tests use)
+from tests.conftest import (  # noqa: E402  (the same independent synthesizer and sailings the tests use)
+    offset_position,
+    rhumb_integrated,
+    skyfield_sight,
+)
 
 OUT = ROOT / "sample_sights"
 OBSERVERS = {"Cadet Ansel": (1.5, 0.6), "Cadet Birch": (0.0, 0.8), "Cadet Corrie": (-0.8, 0.5)}
@@ -40,9 +43,9 @@ STARS_MORNING = ["Sirius", "Capella", "Procyon", "Aldebaran", "Regulus", "Dubhe"
 
 
 def true_position(when: pd.Timestamp):
+    """The ship on the rhumb line she steers, sailed on WGS 84 outside navred (tests/conftest.py's RK4)."""
     hours = (when - START).total_seconds() / 3600.0
-    return move_position(LAT0, LON0, SPEED * hours * np.cos(np.radians(COURSE)),
-                         SPEED * hours * np.sin(np.radians(COURSE)))
+    return rhumb_integrated(LAT0, LON0, COURSE, SPEED * hours)
 
 
 #: The star rounds are taken in twilight: the morning round begins with the Sun 8.5° below the horizon and
@@ -125,7 +128,7 @@ def make_voyage(ts, eph, days: int = 8, seed: int = 1805):
                                            index_error_arcmin=-0.6, noise_arcmin=error)
                     if not 12.0 < sight["true_alt_deg"] < 78.0:
                         continue
-                    dr_lat, dr_lon = move_position(lat, lon, *dr_offset)
+                    dr_lat, dr_lon = offset_position(lat, lon, *dr_offset)
                     rows.append({"utc": at.strftime("%Y-%m-%dT%H:%M:%SZ"), "body": body, "limb": limb,
                                  "hs": round(sight["hs"], 5), "index_error_arcmin": "0.6 off", "eye_height_m": 3.5,
                                  "dr_lat": round(float(dr_lat), 5), "dr_lon": round(float(dr_lon), 5),
@@ -141,8 +144,7 @@ def make_voyage(ts, eph, days: int = 8, seed: int = 1805):
 
 def true_position_array(times: pd.DatetimeIndex):
     hours = (times - START).total_seconds().to_numpy() / 3600.0
-    return move_position(LAT0, LON0, SPEED * hours * np.cos(np.radians(COURSE)),
-                         SPEED * hours * np.sin(np.radians(COURSE)))
+    return rhumb_integrated(LAT0, LON0, COURSE, SPEED * hours)
 
 
 def write_gpx(track: pd.DataFrame, path: Path) -> None:

@@ -213,3 +213,23 @@ def test_the_package_front_names_what_a_user_calls():
         assert getattr(navred, name) is not None
     frame = navred.body_positions("Vega", "2026-03-26T19:45:00Z")
     assert frame.body[0] == "Vega"
+
+
+def test_fix_says_why_each_row_was_not_reduced_and_how_old_the_dr_is(tmp_path):
+    # the navigator's trial: 'see navred reduce for why' named no reason; and a DR written on each row was taken
+    # as a day old without a word (silent up to 60 nm). Now each rejected row's reason is printed, and the console
+    # says how the DR is dated and how far a fix may lie from it unquestioned; an entry row dates it.
+    frame = pd.read_csv("sample_sights/demo_sights.csv", dtype=str, keep_default_na=False)
+    frame.loc[2, "body"] = ""
+    frame.to_csv(tmp_path / "log.csv", index=False)
+    result = runner.invoke(app, ["fix", str(tmp_path / "log.csv"), "--group", "evening-stars"])
+    assert result.exit_code == 0, result.output
+    assert "row 4 (body): body is empty" in result.stdout and "see 'navred reduce'" not in result.stdout
+    assert "the log does not date the DR, taken as 24 h old: up to" in result.stdout
+    dated = pd.concat([pd.DataFrame([{"utc": "2026-03-26T17:00:00Z", "entry": "departure", "dr_lat": "43 20.0 N",
+                                      "dr_lon": "013 00.0 W", "course_deg": "215", "speed_kn": "6.5"}]), frame])
+    dated.fillna("").to_csv(tmp_path / "dated.csv", index=False)
+    result = runner.invoke(app, ["fix", str(tmp_path / "dated.csv"), "--group", "evening-stars"])
+    assert result.exit_code == 0, result.output
+    line = next(x for x in result.stdout.splitlines() if x.strip().startswith("from the DR"))
+    assert "a DR 2.8 h old: beyond" in line, line  # the stars at 19:48 UTC, the departure at 17:00

@@ -337,3 +337,16 @@ def test_a_dr_carried_past_the_pole_is_refused_never_clamped(tmp_path):
     assert list(log.sights.row) == [3] and log.sights.dr_lat_deg.iloc[0] == pytest.approx(89 + 40 / 60, abs=0.01)
     reason = log.rejected.set_index("row").reason[4]
     assert "carried past the pole" in reason and log.rejected.set_index("row").column[4] == "dr_lat"
+
+
+def test_the_voyage_picture_draws_the_ellipse_each_fix_states():
+    # each fix's 95 % ellipse is scaled by its own quantile (F(2, ν) from few sights), not chi-square(2): the
+    # picture takes each fix's confidence_scale by its label on the track (DaysWork.ellipse_scales)
+    from navred.figures import plotting
+
+    voyage = process_log("sample_sights/demo_sights.csv", plan=False)
+    days = voyage.days_work()
+    stars = voyage.group("evening-stars").fix
+    assert days.ellipse_scales["fix evening-stars"] == pytest.approx(stars.confidence_scale)
+    assert stars.confidence_scale > 1.4 * np.sqrt(5.991)  # F(2, 4): wider than chi-square(2) (from the tables)
+    assert plotting.voyage_track_picture(days) is not None

@@ -102,11 +102,16 @@ def test_planted_blunder_is_flagged_and_the_refit_is_good(ts, eph):
     reduced.loc[3, "ho_deg"] += 10.0 / 60.0  # the blunder: 10′
     fix = fix_position(reduced, at_utc=TWILIGHT)
     assert fix.outlier[3] and fix.outlier.sum() == 1
-    assert any("blunder" in w for w in fix.warnings)
-    assert fix.without_outliers is not None
-    assert miles_from_truth(fix.without_outliers) < 0.5
-    # the sight is kept in the log, flagged, and shown against the check fix (about its 10′ off)
-    assert not fix.without_outliers.used[3] and fix.without_outliers.residual_arcmin[3] == pytest.approx(10.0, abs=1.5)
+    # the flagged sight leaves the headline (named, loudly), the fix from every sight kept beside it
+    assert fix.left_out[3] and fix.blunder_left_out[3] and fix.left_out.sum() == 1
+    assert fix.warnings[0].startswith("LEFT OUT of this fix: row 4") and "blunder test" in fix.warnings[0]
+    assert miles_from_truth(fix) < 0.5
+    assert fix.all_sights is not None and miles_from_truth(fix.all_sights) > miles_from_truth(fix)
+    # the sight is kept in the log, flagged, and shown against the headline (about its 10′ off)
+    assert not fix.used[3] and fix.residual_arcmin[3] == pytest.approx(10.0, abs=1.5)
+    # what the test can find, from the scatter of the sights kept, does not contradict the flag
+    assert fix.detectable_blunder_arcmin < abs(fix.residual_arcmin[3])
+    assert "in half the rounds and a larger one in most" in fix.blunder_note
 
 
 def test_a_sight_is_never_dropped_silently():
@@ -459,30 +464,66 @@ def test_the_ellipse_changes_smoothly_with_the_residuals(twilight_rounds):
     assert steps.max() < 0.2 * max(sizes) and max(sizes) > 3 * min(sizes)
 
 
-def test_a_round_with_an_impossible_scatter_is_warned_with_its_likely_cause(tmp_path, twilight_rounds):
-    """Hs written as degrees and minutes in a decimal (29.216 meaning 29° 21.6′, read as 29.216°): the round's
-    σ is beyond any hand-held sextant, and the warning names the likely cause; read the other way the sights
-    agree. Reference: skyfield's altitudes of a twilight round at a known position (twilight_rounds)."""
-    from typer.testing import CliRunner
-
+def _written_as_decimal(reduced, path):
+    """The round's Hs written as degrees and minutes in a decimal (29° 21.6′ as 29.216), as a log a navigator
+    might send; skyfield's altitudes (the round's hs_deg) written by format_angle to the tenth of a minute."""
     from navred.angles import format_angle
-    from navred.cli import app
 
-    reduced = twilight_rounds[6]
     rows = []
     for r in reduced.itertuples():
         degrees, minutes = format_angle(r.hs_deg, "signed").replace("°", "").replace("′", "").split()
         rows.append({"utc": r.sight_utc.strftime("%Y-%m-%dT%H:%M:%SZ"), "body": r.body_name,
                      "hs": f"{int(degrees)}.{float(minutes) * 10:03.0f}", "eye_height_m": 3.0,
                      "dr_lat": r.dr_lat_deg, "dr_lon": r.dr_lon_deg, "fix_group": "stars"})
-    path = tmp_path / "decimal.csv"
     pd.DataFrame(rows).to_csv(path, index=False)
+    return path
+
+
+@pytest.mark.parametrize("n", [4, 6])
+def test_a_round_written_in_degrees_and_minutes_as_a_decimal_is_never_the_position_to_plot(tmp_path, twilight_rounds,
+                                                                                           n):
+    """Hs written as degrees and minutes in a decimal (29.216 meaning 29° 21.6′, read as 29.216°). With six
+    sights the round's σ is beyond any hand-held sextant; with four it is not (2′ from two redundant sights), yet
+    the fix is miles off. Either way the check runs before any sight is left out: the position is said plainly
+    not to be trusted, no sight is left out as a "gross error" of the misreading, nothing says "plot this one",
+    and the other reading's fix lies on the truth. Reference: skyfield's altitudes of a twilight round at a known
+    position (twilight_rounds), the truth TRUE_LAT, TRUE_LON."""
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+    from navred.jobs.voyage import process_log
+
+    reduced = twilight_rounds[n]
+    path = _written_as_decimal(reduced, tmp_path / "decimal.csv")
     result = CliRunner().invoke(app, ["fix", str(path)])
     assert result.exit_code == 0, result.output
-    assert "beyond any hand-held sextant" in result.output and "degrees and minutes written as a decimal" in result.output
-    assert "read as degrees and minutes written as a decimal" in result.output  # and the sights then agree
+    position = next(line for line in result.output.splitlines() if line.strip().startswith("position"))
+    assert "CANNOT BE TRUSTED" in position
+    assert "degrees and minutes written as a decimal" in result.output
+    assert "plot this one" not in result.output and "LEFT OUT" not in result.output
+    fix = process_log(path, plan=False).group("stars").fix
+    assert fix.untrusted and not fix.left_out.any() and fix.warnings[0].startswith("CANNOT BE TRUSTED")
+    assert miles_from_truth(fix.other_reading) < 0.5 and miles_from_truth(fix) > 2.0
     clean = fix_position(reduced)
-    assert not any("beyond any hand-held sextant" in w for w in clean.warnings)
+    assert not clean.untrusted and not any("beyond any hand-held sextant" in w for w in clean.warnings)
+
+
+def test_a_round_still_scattering_beyond_a_sextant_once_a_gross_error_is_out_is_not_to_be_plotted(twilight_rounds):
+    """Reference: skyfield's twilight round (twilight_rounds): one of six stars reduced under another star's
+    name (a gross error, left out), and the other five scattered by σ 4′ (seeded; beyond any hand-held sextant,
+    2′ in a seaway, common practice). The sight is left out, but the fix of the others is not called the position
+    to plot: it says it cannot be trusted and why."""
+    from navred.almanac import places
+
+    reduced = twilight_rounds[6].copy()
+    place = places("Rigel", reduced.sight_utc.iloc[2].to_datetime64())
+    reduced.loc[2, "gha_deg"], reduced.loc[2, "dec_deg"] = float(place.gha_deg), float(place.dec_deg)
+    noise = np.array([4.0, -5.0, 0.0, 3.5, -4.5, 5.0]) / 60.0  # σ about 4.5′ on the five good sights
+    reduced["ho_deg"] = reduced.ho_deg + noise
+    fix = fix_position(reduced)
+    assert list(np.flatnonzero(fix.left_out)) == [2]
+    assert fix.untrusted and "beyond a sextant" in fix.untrusted and fix.warnings[0].startswith("CANNOT BE TRUSTED")
+    assert not any("plot this one" in w for w in fix.warnings) and any("plot neither" in w for w in fix.warnings)
 
 
 def test_a_running_fix_across_the_pole_is_refused_with_the_reason():

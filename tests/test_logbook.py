@@ -750,3 +750,31 @@ def test_a_blank_course_or_speed_is_carried_from_the_row_before_or_refused_by_na
     assert columns == {"speed_kn"} and "no row before gives one" in text and "running fix (sun-run-sun)" in text
     assert refused.table.set_index("row").motion_carried_from[3] == ""  # row 3 is now refused too: nothing before
     assert set(refused.rejected.row) == {2, 3}
+
+
+def test_a_blank_dr_is_carried_from_the_row_before_as_its_course_and_speed_are(tmp_path):
+    # the navigator's trial: a blank course and speed were carried from the row above, a blank DR refused. Now the
+    # DR given on the row before is carried on along the course and speed in force, and named. Reference: the
+    # rhumb line sailed in the test (tests/conftest.py rhumb_integrated, RK4 on WGS 84) from row 2's DR.
+    from tests.conftest import rhumb_integrated
+
+    frame = pd.read_csv(DEMO, dtype=str, keep_default_na=False)
+    frame.loc[1, ["dr_lat", "dr_lon"]] = ""  # row 3, the 12:56 Sun: its DR left blank
+    frame.to_csv(tmp_path / "blank_dr.csv", index=False)
+    log = read_sight_log(tmp_path / "blank_dr.csv")
+    assert log.rejected.empty
+    row = log.table.set_index("row").loc[3]
+    assert row.dr_carried_from == "carried from the DR at row 2"
+    hours = (pd.Timestamp("2026-03-26T12:56:03Z") - pd.Timestamp("2026-03-26T09:10:00Z")).total_seconds() / 3600
+    lat, lon = rhumb_integrated(44 + 10.1 / 60, -(12 + 9.3 / 60), 215.0, 6.5 * hours)  # row 2: 44 10.1 N 012 09.3 W
+    assert abs(row.dr_lat_deg - float(lat)) * 60 < 0.05
+    assert abs(row.dr_lon_deg - float(lon)) * 60 * np.cos(np.radians(float(lat))) < 0.05
+
+
+def test_a_blank_index_error_is_said_to_be_taken_as_nil(tmp_path):
+    frame = pd.read_csv(DEMO, dtype=str, keep_default_na=False)
+    frame.loc[[0, 4], "index_error_arcmin"] = ""
+    frame.to_csv(tmp_path / "blank_ie.csv", index=False)
+    log = read_sight_log(tmp_path / "blank_ie.csv")
+    assert any("index error blank on row 2, row 6: IE 0′ assumed" in note for note in log.notes)
+    assert not any("index error" in note for note in read_sight_log(DEMO).notes)

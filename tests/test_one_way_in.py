@@ -134,13 +134,14 @@ def test_a_planted_blunder_is_named_by_its_row_everywhere(tmp_path):
     result = runner.invoke(app, ["fix", str(path), "--group", "evening-stars"])
     assert result.exit_code == 0, result.output
     line = next(x for x in result.output.splitlines() if x.strip().startswith("row 9 "))
-    assert "Procyon" in line and "BLUNDER" in line
-    assert "row 9 looks like a blunder" in result.output
+    assert "Procyon" in line and "BLUNDER" in line and "LEFT OUT" in line
+    # a clear blunder leaves the headline, named loudly, the fix from every sight beside it
+    assert "warning: LEFT OUT of this fix: row 9" in result.output and "from every sight (not to plot)" in result.output
     book = tmp_path / "v.xlsx"
     assert runner.invoke(app, ["workbook", str(path), "-o", str(book)]).exit_code == 0
     fixes = sheet(book, "Fixes").set_index("fix group")
-    assert fixes.loc["evening-stars", "flagged sights"] == "row 9"
-    assert "row 9 looks like a blunder" in fixes.loc["evening-stars", "note"]
+    assert "row 9" in fixes.loc["evening-stars", "left out (gross errors, clear blunders)"]
+    assert "LEFT OUT of this fix: row 9" in fixes.loc["evening-stars", "note"]
     working = sheet(book, "Working").set_index("row in log")
     assert "BLUNDER" in working.loc[9, "flags"] and "BLUNDER" not in str(working.loc[10, "flags"])
 
@@ -291,7 +292,7 @@ def test_a_misnamed_star_is_left_out_of_the_position_everywhere(tmp_path, ts, ep
     assert "LEFT OUT of this fix: row 4" in done.output  # the workbook's console says so too
     fixes = sheet(book, "Fixes").set_index("fix group")
     assert off(fixes.loc["stars", "latitude (deg)"], fixes.loc["stars", "longitude (deg)"]) < 1.0
-    assert fixes.loc["stars", "left out (gross errors)"] == "row 4"
+    assert fixes.loc["stars", "left out (gross errors, clear blunders)"] == "row 4"
     assert fixes.loc["stars", "fix from every sight (° ′)"] and "LEFT OUT" in fixes.loc["stars", "note"]
     working = sheet(book, "Working").set_index("row in log")
     assert "LEFT OUT" in working.loc[4, "flags"] and "BLUNDER" not in str(working.loc[3, "flags"])
@@ -299,8 +300,8 @@ def test_a_misnamed_star_is_left_out_of_the_position_everywhere(tmp_path, ts, ep
 
     waypoints = {w.name: w for w in gpxpy.parse(gpx.read_text()).waypoints}
     assert off(waypoints["fix stars"].latitude, waypoints["fix stars"].longitude) < 1.0
-    assert "LEFT OUT as a gross error: row 4" in waypoints["fix stars"].description
-    assert "every sight stars" in waypoints
+    assert "LEFT OUT (a gross error or a clear blunder): row 4" in waypoints["fix stars"].description
+    assert "NOT THE FIX stars (all sights)" in waypoints  # a plotter shows only the name
     import json
 
     features = json.loads(geojson.read_text())["features"]
@@ -309,7 +310,7 @@ def test_a_misnamed_star_is_left_out_of_the_position_everywhere(tmp_path, ts, ep
     assert "LEFT OUT" in fix["properties"]["description"]
     assert any(f["properties"].get("kind") == "from every sight (not the fix)" for f in features)
     svg = next(plots.glob("*stars*.svg")).read_text()
-    assert "LEFT OUT as a gross error: row 4 Alkaid" in svg
+    assert "LEFT OUT: row 4 Alkaid" in svg and "a gross error" in svg
     # the ellipse's full size, then its semi-axes, in the plot title, the GPX description and the console
     size = fixes.loc["stars", "95 % ellipse (full size)"]
     assert " × " in size and ", semi-axes " in size and f"95 % ellipse {size}" in svg

@@ -209,7 +209,9 @@ def _fix_head_lines(group) -> list[str]:
     if fix.is_fix:
         dropped = (f", {int(left_out.sum())} left out (see below)" if left_out.any() else "")
         lines = [f'Fix "{group.name}": {int(fix.used.sum())} sights{dropped}, at {when} UTC',
-                 f"  position       {format_angle(fix.lat_deg, 'lat')}  {format_angle(fix.lon_deg, 'lon')}",
+                 f"  position       {format_angle(fix.lat_deg, 'lat')}  {format_angle(fix.lon_deg, 'lon')}"
+                 + ("   CANNOT BE TRUSTED: not the position to plot (the first warning says why)"
+                    if fix.untrusted else ""),
                  f"  95 % ellipse   {fix.ellipse_text()}, major "
                  f"axis {fix.ellipse_orientation_deg:03.0f}°/{float(wrap_360(fix.ellipse_orientation_deg + 180)):03.0f}° "
                  f"(scaled by the {fix.quantile} quantile"
@@ -241,11 +243,14 @@ def _residual_lines(group, reduced, labels) -> list[str]:
         residual = fix.residual_arcmin[k]
         flag = "BLUNDER? left out of the check fix" if fix.outlier[k] else ""
         if left_out[k]:
-            flag = "LEFT OUT of this fix: a gross error (its line from this fix)"
+            by_test = fix.blunder_left_out.size == len(group.rows) and fix.blunder_left_out[k]
+            flag = ("LEFT OUT of this fix: BLUNDER, a clear one by the blunder test (its line from this fix)" if by_test
+                    else "LEFT OUT of this fix: a gross error (its line from this fix)")
         if reduced.status.iloc[row] == SightStatus.ERROR:
             flag = "not reduced"
         carried = reduced["motion_carried_from"].iloc[row] if "motion_carried_from" in reduced.columns else ""
-        flag = "; ".join(t for t in (flag, carried) if t)
+        dr_from = reduced["dr_carried_from"].iloc[row] if "dr_carried_from" in reduced.columns else ""
+        flag = "; ".join(t for t in (flag, f"DR {dr_from}" if dr_from else "", carried) if t)
         text = f"{residual:+.1f}′" if residual == residual else "-"
         lines.append(f"  {labels[row]:<{width}}  {str(reduced.body_name.iloc[row]):<16}{text:>10}  {flag}")
     return lines
@@ -283,6 +288,11 @@ def fix_lines(group, reduced: pd.DataFrame, labels) -> list[str]:
         lines.append(f"  made good      {fix.course_made_good_deg:05.1f}° at {fix.speed_made_good_kn:.1f} kn")
     if fix.run_from != RunFrom.NONE:
         lines.append(f"  run between the sights: {fix.run_from}")
+    if fix.dr_allowed_nm == fix.dr_allowed_nm:
+        lines.append(f"  from the DR    {fix.dr_distance_nm:.1f} nm; " + (
+            f"a DR {fix.dr_age_h:.1f} h old: beyond {fix.dr_allowed_nm:.0f} nm it is questioned" if fix.dr_age_known
+            else f"the log does not date the DR, taken as {fix.dr_age_h:.0f} h old: up to {fix.dr_allowed_nm:.0f} nm "
+                 "passes unquestioned (an entry row with the departure or a known position dates it)"))
     lines.append(f"  blunder check  {fix.blunder_note}")
     return (lines + _residual_lines(group, reduced, labels) + _check_lines(group)
             + sight_warning_lines(reduced, labels, group.rows, indent="  "))
@@ -319,7 +329,21 @@ def fix_report_lines(report) -> list[str]:
         lines += [f"Each 95 % ellipse (or band) {ELLIPSE_COVERS}.", ""]
     lines += latitude_lines(report.latitude_checks())
     if voyage.n_rejected_rows:
-        lines.append(f"{voyage.n_rejected_rows} row(s) not reduced: see 'navred reduce' for why")
+        lines += rejected_lines(voyage.rejected)
+    return lines
+
+
+def rejected_lines(rejected: pd.DataFrame, shown: int = 20) -> list[str]:
+    """The rows not reduced, each with its reason (the first ``shown``; the rest counted)."""
+    table = rejected.drop_duplicates(["source", "row"])
+    several = table["source"].nunique() > 1
+    lines = [f"{len(table)} row(s) not reduced:"]
+    for item in table.head(shown).to_dict("records"):
+        where = f"{item['source']} row {item['row']}" if several else f"row {item['row']}"
+        column = f" ({item['column']})" if item["column"] else ""
+        lines.append(f"  {where}{column}: {item['reason']}")
+    if len(table) > shown:
+        lines.append(f"  and {len(table) - shown} more: 'navred reduce' lists every one")
     return lines
 
 

@@ -194,6 +194,12 @@ def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None, rows=None
         if inside(ex_, ey_):
             sheet.circle(ex_, ey_, 5.0, outline=FLAGGED, width=1.4)
             sheet.text(ex_ + 8, ey_ + 12, "every sight (not the fix)", 7, FLAGGED)
+    check = fix.without_outliers
+    if check is not None:
+        cx_, cy_ = page(*plane(float(check.lat_deg), float(check.lon_deg)))
+        if inside(cx_, cy_):
+            sheet.polygon([cx_, cx_ + 5, cx_, cx_ - 5], [cy_ - 5, cy_, cy_ + 5, cy_], outline=FLAGGED, width=1.4)
+            sheet.text(cx_ + 8, cy_ + 12, "check fix (without the flagged)", 7, FLAGGED)
     if chart is not None:
         px, py = page(*chart_xy)
         sheet.polygon([px - 3.5, px + 3.5, px + 3.5, px - 3.5], [py - 3.5, py - 3.5, py + 3.5, py + 3.5],
@@ -218,14 +224,30 @@ def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None, rows=None
                    else f"the lines cross at {fix.spread_deg:.0f}°: 95 % band {fix.ellipse_text()}")
     sheet.text(ax0 - 12, 40, f"{str(fix.utc)[:19].replace('T', ' ')} UTC · {extent_text} · σ {fix.sigma_arcmin:.2f}′ · "
                "grid: minutes of latitude and longitude", 8, INK)
-    if every is not None and left_out.any():
-        from ..triangle import distance_bearing
+    from ..triangle import distance_bearing
 
+    warning_y = 52
+    if fix.untrusted:
+        sheet.text(ax0 - 12, warning_y, "CANNOT BE TRUSTED as the position to plot: " + fix.untrusted.split(":")[0]
+                   + " (the fix's warnings say why)",
+                   8, FIX, bold=True)
+        warning_y += 12
+    if every is not None and left_out.any():
+        by_test = (np.asarray(fix.blunder_left_out, dtype=bool) if np.size(fix.blunder_left_out) == len(bodies)
+                   else np.zeros(len(bodies), dtype=bool))
         miles, bearing = distance_bearing(fix.lat_deg, fix.lon_deg, every.lat_deg, every.lon_deg)
-        names = ", ".join(f"{rows[k]} {bodies[k]} ({abs(float(fix.residual_arcmin[k])):.0f}′ off)"
+        names = ", ".join(f"{rows[k]} {bodies[k]} ({abs(float(fix.residual_arcmin[k])):.0f}′ off, "
+                          f"{'the blunder test' if by_test[k] else 'a gross error'})"
                           for k in np.flatnonzero(left_out))
-        sheet.text(ax0 - 12, 52, f"LEFT OUT as a gross error: {names}; the fix from every sight lies "
+        sheet.text(ax0 - 12, warning_y, f"LEFT OUT: {names}; the fix from every sight lies "
                    f"{float(miles):.1f} nm {float(bearing):03.0f}° from this one", 8, FIX, bold=True)
+        warning_y += 12
+    if check is not None:
+        flagged_rows = ", ".join(f"{rows[k]} {bodies[k]}" for k in np.flatnonzero(np.asarray(fix.outlier, bool)
+                                                                                  & ~left_out))
+        miles, bearing = distance_bearing(fix.lat_deg, fix.lon_deg, check.lat_deg, check.lon_deg)
+        sheet.text(ax0 - 12, warning_y, f"BLUNDER? {flagged_rows}: the check fix without it lies {float(miles):.1f} nm "
+                   f"{float(bearing):03.0f}° from this one", 8, FIX, bold=True)
     dr_miles = float(np.hypot(*fix_xy))
     if dr_miles > 30.0 and fix.is_fix:
         sheet.text(ax0 - 12, SHEET_PT - 14, f"The DR is {dr_miles:.0f} nm from the fix: straight lines of position "
@@ -475,7 +497,7 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
             sheet.line(xs_leg.tolist(), ys_leg.tolist(), INK, 1.1, dash=(5.0, 3.0))
     arrow_nm = 0.06 * max(chart.width_nm, chart.height_nm) / 1.0  # an arrow this long stands for one knot
     if track is not None:
-        _voyage_known_positions(sheet, chart, track)
+        _voyage_known_positions(sheet, chart, track, days.ellipse_scales)
     _voyage_marks(sheet, chart, fixes, estimated, noons, arrow_nm)
     sheet.line([chart.ax0, chart.ax1, chart.ax1, chart.ax0, chart.ax0],
                [chart.ay0, chart.ay0, chart.ay1, chart.ay1, chart.ay0], INK, 0.8)
@@ -502,13 +524,15 @@ def _voyage_grid(sheet, chart: _VoyageChart) -> None:
                    rotation=30)
 
 
-def _voyage_known_positions(sheet, chart: _VoyageChart, track) -> None:
-    """The fixes with their ellipses, and the departure and position entries."""
+def _voyage_known_positions(sheet, chart: _VoyageChart, track, scales: dict[str, float]) -> None:
+    """The fixes with the 95 % ellipses they state (each at its own quantile, F(2, ν) or chi-square(2)), and the
+    departure and position entries."""
     from .drawing import blend
 
-    scale = math.sqrt(chi_square_2_quantile(0.95))  # chi-square(2) 95 %
+    known = math.sqrt(chi_square_2_quantile(0.95))  # a fix whose scale is not given: chi-square(2) 95 %
     for lat, lon, label, cov in zip(track.known_lat, track.known_lon, track.known_label, track.known_cov_nm2):
         fx, fy = chart.at(lat, lon)
+        scale = scales.get(label, known)
         if label.startswith("fix "):
             # the ellipse where it shows (a fleet's tiny ellipses on a chart of a thousand miles are dots)
             if np.all(np.isfinite(cov)) and np.trace(cov) > 0 and scale * math.sqrt(np.trace(cov)) * chart.per_nm > 1.5:

@@ -376,7 +376,7 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
                      f"{a.replace('_', ' ')} is given without {b.replace('_', ' ')}: give both, or neither")
     times = time_working(parsed, gathered, problems, rates)
     entries = read_entries(n, sources, rows, entry, is_entry, parsed, times, problems)
-    dr = carried_dr(parsed, gathered, times, is_entry, entries, problems)
+    dr = carried_dr(parsed, gathered, times, is_entry, entries, problems, rows)
     motion_note = carried_motion(dr, parsed, gathered, times, is_entry, entries, rows, problems)
     while True:
         table, found, message, sight_row = _tabled(n, sources, rows, parsed, gathered, times, problems, by_reader,
@@ -390,9 +390,24 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
     rejected["row"] = rejected["row"].astype(int)
     if not sight_row.all():
         table = table[sight_row].reset_index(drop=True)
-    notes = tuple(dict.fromkeys(note for layout in layouts for note in layout.notes))
+    notes = tuple(dict.fromkeys([note for layout in layouts for note in layout.notes]
+                                + _assumed_notes(gathered, sources, rows, (message == "") & sight_row)))
     return SightLog(table, rejected, tuple(t.source for t in tables), sum(t.empty_rows for t in tables), dates,
                     tuple(names), tuple(tables), entries=entries, notes=notes)
+
+
+def _assumed_notes(gathered, sources, rows, sights: np.ndarray) -> list[str]:
+    """Where a value the navigator left blank is taken as its default, say so: a blank index error is 0′."""
+    cells = gathered["index_error"]
+    if not cells.present:
+        return []
+    blank = np.flatnonzero(cells.blank & sights)
+    if not blank.size:
+        return []
+    several = len(set(sources.tolist())) > 1
+    named = [f"{sources[i]} row {rows[i]}" if several else f"row {rows[i]}" for i in blank[:8].tolist()]
+    more = f" and {blank.size - 8} more" if blank.size > 8 else ""
+    return [f"index error blank on {', '.join(named)}{more}: IE 0′ assumed (write 0 where it is nil)"]
 
 
 def _tabled(n, sources, rows, parsed, gathered, times, problems, by_reader, dr, motion_note, entry, is_entry):

@@ -70,7 +70,8 @@ def carried_motion(dr, parsed, gathered, times, is_entry, entries, rows, problem
                 value = float(values[src])
                 target = course if name == "course" else speed
                 target[i] = value
-                texts[j].append((name, f"{value:g}{unit}", int(change_row[order][src])))
+                shown = f"{value:03.0f}°" if name == "course" and value == round(value) else f"{value:g}{unit}"
+                texts[j].append((name, shown, int(change_row[order][src])))
         for j, i in enumerate(targets.tolist()):
             if texts[j]:
                 from_rows = {r for _, _, r in texts[j]}
@@ -147,10 +148,11 @@ def read_entries(n, sources, rows, entry, is_entry, parsed, times, problems) -> 
         "vessel": words(parsed["vessel"])[good]})
 
 
-def carried_dr(parsed, gathered, times, is_entry, entries: pd.DataFrame, problems) -> dict:
-    """Each sight's DR: as given, or carried along the log's DR track (its departure or last known position,
-    every course, speed and current since, the sights' own courses and speeds too) to the sight; and the
-    course and speed in force where a sight gives none. Each vessel keeps its own track."""
+def carried_dr(parsed, gathered, times, is_entry, entries: pd.DataFrame, problems, rows_of: np.ndarray) -> dict:
+    """Each sight's DR: as given, or carried along the log's DR track (its departure or last known position, or
+    the last DR given on one of her sights, and every course, speed and current since, the sights' own courses
+    and speeds too) to the sight; and the course and speed in force where a sight gives none. Each vessel keeps
+    its own track. ``rows_of``: each row's number, for the notes."""
     from ..reckoning import PAST_POLE, dr_track
 
     lat, lon = floats(parsed["dr_lat"]), floats(parsed["dr_lon"])
@@ -188,11 +190,22 @@ def carried_dr(parsed, gathered, times, is_entry, entries: pd.DataFrame, problem
         change_set = np.concatenate([entries["set_deg"].to_numpy(dtype=float)[e_mine], np.full(own.sum(), np.nan)])
         change_drift = np.concatenate([entries["drift_kn"].to_numpy(dtype=float)[e_mine], np.full(own.sum(), np.nan)])
         known = e_mine & known_kind
-        if not known.any():
+        # a sight's own DR is carried on to a later sight of hers whose DR is blank, as her course and speed are
+        given_dr = usable_sight & mine & np.isfinite(lat) & np.isfinite(lon) & ~wanted
+        if not known.any() and not given_dr.any():
             continue  # no departure for this vessel: her sights without a DR are refused below
-        track = dr_track(change_ns, change_course, change_speed, e_when[known],
-                         entries["lat_deg"].to_numpy(dtype=float)[known],
-                         entries["lon_deg"].to_numpy(dtype=float)[known], set_deg=change_set, drift_kn=change_drift)
+        known_ns = np.concatenate([e_when[known], when[given_dr]])
+        known_lat = np.concatenate([entries["lat_deg"].to_numpy(dtype=float)[known], lat[given_dr]])
+        known_lon = np.concatenate([entries["lon_deg"].to_numpy(dtype=float)[known], lon[given_dr]])
+        known_text = ([f"the {w} at row {int(r)}" for w, r in zip(entries["entry"].to_numpy(dtype=object)[known],
+                                                                  entries["row"].to_numpy()[known])]
+                      + [f"the DR at row {int(r)}" for r in rows_of[given_dr]])
+        # at one instant an entry's known position holds (it comes first; np.unique keeps the first)
+        _, first = np.unique(known_ns, return_index=True)
+        known_ns, known_lat, known_lon = known_ns[first], known_lat[first], known_lon[first]
+        known_text = [known_text[i] for i in first.tolist()]
+        track = dr_track(change_ns, change_course, change_speed, known_ns, known_lat, known_lon,
+                         set_deg=change_set, drift_kn=change_drift)
         rows_here = np.flatnonzero(wanted & mine)
         if rows_here.size:
             t_lat, t_lon, origin = track.positions(when[rows_here])
@@ -200,10 +213,8 @@ def carried_dr(parsed, gathered, times, is_entry, entries: pd.DataFrame, problem
             problems.add(rows_here[polar], "dr_lat", "", PAST_POLE)
             found = (origin >= 0) & ~polar
             lat[rows_here[found]], lon[rows_here[found]] = t_lat[found], t_lon[found]
-            known_rows = entries["row"].to_numpy()[known]
-            known_words = entries["entry"].to_numpy(dtype=object)[known]
-            slots = np.searchsorted(track.knot_ns, e_when[known])
-            by_knot = {int(k): f"the {w} at row {int(r)}" for k, w, r in zip(slots, known_words, known_rows)}
+            slots = np.searchsorted(track.knot_ns, known_ns)
+            by_knot = {int(k): text for k, text in zip(slots, known_text)}
             note[rows_here[found]] = [f"carried from {by_knot[int(o)]}" for o in origin[found]]
             lost = rows_here[origin < 0]
             problems.add(lost, "dr_lat", "", "no DR: this sight comes before the log's first departure or known "

@@ -12,7 +12,7 @@ import re
 
 import numpy as np
 
-from ..angles import format_angle
+from ..angles import format_angle, wrap_180, wrap_360
 from ..marking import UNITS
 from ..marking_checks import COMPASS_RUN_NM, PLOTTING_SPAN_NM
 from .workings import WORKED_FORMS
@@ -38,7 +38,7 @@ def z_names(lat_deg: float, lha_deg: float) -> tuple[str, str]:
     over 180°), as "N 79.3° E"."""
     if lat_deg != lat_deg or lha_deg != lha_deg:
         return "", ""
-    return ("N" if lat_deg >= 0 else "S"), ("E" if lha_deg % 360.0 > 180.0 else "W")
+    return ("N" if lat_deg >= 0 else "S"), ("E" if float(wrap_360(lha_deg)) > 180.0 else "W")
 
 
 def value_text(line: str, value, given_text: str = "", names: tuple[str, str] = ("", "")) -> str:
@@ -75,9 +75,9 @@ def _value_text(line: str, value, given_text: str) -> str:
     if kind == "amplitude":
         return f"{abs(value):.1f}° {'N' if value >= 0 else 'S'}"
     if kind == "bearing":
-        return "N" if abs((value + 180.0) % 360.0 - 180.0) < 90.0 else "S"
+        return "N" if abs(float(wrap_180(value))) < 90.0 else "S"
     if kind == "degrees":
-        return format_angle(value, "angle") if style == "dm" else f"{value % 360.0:05.1f}°"
+        return format_angle(value, "angle") if style == "dm" else f"{float(wrap_360(value)):05.1f}°"
     if kind == "arcsec":
         return f"{value:.1f}″"
     if kind == "arcmin":
@@ -86,9 +86,9 @@ def _value_text(line: str, value, given_text: str) -> str:
             return ("+" if value >= 0 and signed else "") + format_angle(value / 60.0, "signed")
         return f"{value:+.1f}′" if signed or value < 0 else f"{value:.1f}′"
     if line == "lha_worked" and style == "decimal":
-        return f"{value % 360.0:.1f}°"
+        return f"{float(wrap_360(value)):.1f}°"
     if style == "decimal":
-        return f"{value:.2f}°" if kind == "signed" else f"{value % 360.0:.2f}°"
+        return f"{value:.2f}°" if kind == "signed" else f"{float(wrap_360(value)):.2f}°"
     return format_angle(value, "signed" if kind == "signed" else "angle")
 
 

@@ -48,7 +48,7 @@ def fix_description(group) -> str:
     if fix.left_out_names:
         rows = ", ".join(fix.left_out_names)
         every = fix.all_sights
-        text += (f"; LEFT OUT as a gross error: {rows}; the fix from every sight is at "
+        text += (f"; LEFT OUT (a gross error or a clear blunder): {rows}; the fix from every sight is at "
                  f"{every.lat_deg:.4f}, {every.lon_deg:.4f}") if every is not None else f"; LEFT OUT: {rows}"
     text += f"; the ellipse {ELLIPSE_COVERS}"
     for warning in fix.warnings:
@@ -58,13 +58,15 @@ def fix_description(group) -> str:
 
 def _fix_waypoints(group) -> list[GpxPoint]:
     fix, when = group.fix, iso_z(group.fix.utc)
-    points = [GpxPoint(fix.lat_deg, fix.lon_deg, when, f"fix {group.name}", fix_description(group), "fix"),
+    name = f"UNTRUSTED fix {group.name}" if fix.untrusted else f"fix {group.name}"
+    points = [GpxPoint(fix.lat_deg, fix.lon_deg, when, name, fix_description(group), "fix"),
               GpxPoint(fix.dr_lat_deg, fix.dr_lon_deg, when, f"DR {group.name}", "DR at the fix time", "DR")]
     if fix.all_sights is not None:
         every = fix.all_sights
-        points.append(GpxPoint(every.lat_deg, every.lon_deg, when, f"every sight {group.name}", ascii_text(
-            f"NOT the fix: the {every.kind} from every sight of {group.name}, a gross error included "
-            f"(95% ellipse {every.ellipse_text()}); the fix leaves it out"), "every sight"))
+        # a plotter shows only the name: it says plainly that this is not the fix
+        points.append(GpxPoint(every.lat_deg, every.lon_deg, when, f"NOT THE FIX {group.name} (all sights)", ascii_text(
+            f"NOT the fix: the {every.kind} from every sight of {group.name}, the sights left out included "
+            f"(95% ellipse {every.ellipse_text()}); the fix leaves them out"), "every sight"))
     return points
 
 

@@ -62,6 +62,9 @@ class DaysWork:
     #: each vessel's DR (with its known positions, and its DR through the water beside it)
     tracks: dict[str, DRTrack] = field(default_factory=dict)
     carry_current: bool = False
+    #: each fix's ellipse scale (FixResult.confidence_scale, the quantile its 95 % ellipse is drawn at), by the
+    #: label of its known position on the track ('fix <group>'): a picture draws the ellipse the fix states
+    ellipse_scales: dict[str, float] = field(default_factory=dict)
     #: each table split by vessel, made when first asked for (:meth:`of_vessel`)
     cache: dict = field(default_factory=dict, repr=False, compare=False)
 
@@ -219,7 +222,9 @@ def days_work(voyage, *, carry_current: bool = False) -> DaysWork:
                     pd.DataFrame(estimated, columns=ESTIMATED_COLUMNS),
                     pd.DataFrame(noon_rows, columns=NOON_COLUMNS),
                     pd.DataFrame(point_rows, columns=["vessel", "utc", "lat_deg", "lon_deg", "leg", "kind"]),
-                    tracks, carry_current)
+                    tracks, carry_current,
+                    {f"fix {g.name}": float(g.fix.confidence_scale) for g in voyage.groups
+                     if g.fix is not None and g.fix.is_fix})
 
 
 def _position_text(lat, lon) -> str:

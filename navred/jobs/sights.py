@@ -196,8 +196,8 @@ def _twilight_check(notes: _Notes, rows: np.ndarray, bodies: np.ndarray, horizon
     bright = altitude > SUN_BRIGHT_SKY_DEG
     dark = altitude < SUN_DARK_HORIZON_DEG
     for k in np.flatnonzero(bright | dark).tolist():
-        where = (f"the Sun is {altitude[k]:.0f}° {'up' if altitude[k] >= 0 else 'below the horizon'} at the DR"
-                 if altitude[k] >= 0 or bright[k] else f"the Sun is {-altitude[k]:.0f}° below the horizon at the DR")
+        where = (f"the Sun is {altitude[k]:.0f}° up at the DR" if altitude[k] >= 0
+                 else f"the Sun is {-altitude[k]:.0f}° below the horizon at the DR")
         if bright[k]:
             text = (f"{where}: a {'planet' if planet[k] else 'star'} on the sea horizon is taken in twilight, with "
                     f"the Sun {-SUN_BRIGHT_SKY_DEG:.0f}° to {-SUN_DARK_HORIZON_DEG:.0f}° below the horizon"

@@ -29,11 +29,9 @@ from ..fix import FixResult, fixes_from_sights
 from ..io.logbook import REJECTED_COLUMNS, LogSource, SightLog, read_sight_log
 from ..io.timesignals import Ratings
 from ..reckoning import PAST_POLE
-from ..sensechecks import SEXTANT_SIGMA_LIMIT_ARCMIN
 from ..sightplan import SightPlan
 from ..status import SightStatus
 from ..timescales import Instant, iers_table, leap_second_table
-from ..triangle import distance_bearing
 from .frames import row_labels, series_columns, utc64
 from .sights import reduce_sights
 
@@ -255,13 +253,15 @@ def dr_context(log: SightLog, reduced: pd.DataFrame, groups: list[GroupFix], *, 
     """What a fix takes from the DR kept along the log, per reduced row: the current in force at the sight
     (``set_deg``, ``drift_kn``: the log's current entries and, with ``carry_current``, the set and drift found
     at the last fix; the ground track less the track through the water) and the age of the sight's DR
-    (``age_h``: hours since the known position it was carried from). A DR given on the row has no age
-    known (NaN) and takes no current: the run between such rows is the course and speed given, or their
-    own DRs. ``tracks``: the vessels' tracks (:func:`navred.dayswork.vessel_tracks`) when worked out already."""
+    (``age_h``: hours since the known position it was carried from; for a DR given on the row, since the
+    log's last known position or earlier fix group before the sight's group, :func:`_written_dr_age`, NaN where
+    the log gives neither). A DR given on the row takes no current: the run between such rows is the course
+    and speed given, or their own DRs. ``tracks``: the vessels' tracks (:func:`navred.dayswork.vessel_tracks`) when worked out already."""
     n = len(reduced)
     out = {"set_deg": np.zeros(n), "drift_kn": np.zeros(n), "age_h": np.full(n, np.nan)}
     if not n or "dr_carried_from" not in reduced.columns:
         return out
+    out["age_h"] = _written_dr_age(log, reduced)
     carried = (reduced["dr_carried_from"].to_numpy(dtype=object) != "") & (reduced["status"].to_numpy() != SightStatus.ERROR)
     if not carried.any():
         return out
@@ -293,6 +293,37 @@ def dr_context(log: SightLog, reduced: pd.DataFrame, groups: list[GroupFix], *, 
         start = track.knot_ns[np.maximum(origin, 0)]
         out["age_h"][rows] = np.where(known, (when[rows] - start) / NS_PER_HOUR, np.nan)
     return out
+
+
+def _written_dr_age(log: SightLog, reduced: pd.DataFrame) -> np.ndarray:
+    """The age (hours) of a DR written on a sight's own row, where the log says something of it: a log that keeps
+    known positions (an entry row's departure or position) keeps its DR from them, so a DR written on a sight is
+    no older than the latest known position before the sight's fix group. NaN where the log gives none (the
+    sense check then takes it as a day old, and says so). An earlier fix in the log does not date it: nothing
+    says the DR written was renewed from it."""
+    n = len(reduced)
+    age = np.full(n, np.nan)
+    entries = log.entries
+    usable = (reduced["status"].to_numpy() != SightStatus.ERROR) & (reduced["dr_carried_from"].to_numpy(dtype=object) == "")
+    if not usable.any() or not len(entries):
+        return age
+    known = entries[entries["entry"].isin(["departure", "position"])]
+    if not len(known):
+        return age
+    e_when = known["utc"].dt.tz_convert(None).to_numpy().astype("datetime64[ns]").astype(np.int64)
+    e_vessel = known["vessel"].to_numpy(dtype=object)
+    when = utc64(reduced["sight_utc"]).astype(np.int64)
+    groups = reduced["fix_group"].astype(str).to_numpy(dtype=object)
+    vessels = reduced["vessel"].to_numpy(dtype=object) if "vessel" in reduced.columns else np.full(n, "", object)
+    for vessel in dict.fromkeys(vessels[usable].tolist()):
+        mine = usable & (vessels == vessel)
+        times = np.sort(e_when if not (e_vessel != "").any() else e_when[e_vessel == vessel])
+        for g in dict.fromkeys(groups[mine].tolist()):
+            rows = np.flatnonzero(mine & (groups == g))
+            before = times[times <= when[rows].min()]
+            if before.size:
+                age[rows] = (when[rows] - before[-1]) / NS_PER_HOUR
+    return age
 
 
 def _rejected(log: SightLog, reduced: pd.DataFrame) -> pd.DataFrame:
@@ -368,9 +399,9 @@ def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: obj
 
     Every group is solved in one batch (:func:`navred.fix.fixes_from_sights`). ``chart``
     overrides the chart position of the group (with ``only``). ``context``: the current in force at
-    each sight and the age of its DR (:func:`dr_context`; the voyage's ``context``). A fix whose
-    sights scatter beyond any sextant is tried with its Hs read as degrees and minutes written as a
-    decimal (29.216 for 29° 21.6′), and says so when that is what they were.
+    each sight and the age of its DR (:func:`dr_context`; the voyage's ``context``). A round whose Hs
+    read as degrees and minutes written as a decimal (29.216 for 29° 21.6′) agree is marked as not to be
+    trusted (:func:`navred.grosserrors.misread_rounds`).
     """
     if len(reduced) == 0:
         return []
@@ -400,8 +431,8 @@ def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: obj
     arrays = (reduced["gha_deg"].to_numpy(dtype=float), reduced["dec_deg"].to_numpy(dtype=float),
               reduced["ho_deg"].to_numpy(dtype=float), utc64(reduced["sight_utc"]),
               reduced["dr_lat_deg"].to_numpy(dtype=float), reduced["dr_lon_deg"].to_numpy(dtype=float))
-    batch = fixes_from_sights(*arrays, group, chart_lat=chart_lat, chart_lon=chart_lon, **arguments)
-    _degrees_and_minutes_as_decimal(reduced, group, batch.results, arrays, arguments)
+    batch = fixes_from_sights(*arrays, group, chart_lat=chart_lat, chart_lon=chart_lon, hs_deg=column("hs_deg"),
+                              **arguments)
     by_group = np.argsort(np.where(group >= 0, group, count), kind="stable")
     bounds = np.concatenate([[0], np.cumsum(np.bincount(group[group >= 0], minlength=count))]).tolist()
     usable_count = np.bincount(group[(group >= 0) & usable], minlength=count)
@@ -414,43 +445,6 @@ def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: obj
             problem = f"{usable_count[k]} usable sight(s): a fix needs two or more"
         groups.append(GroupFix(name, rows, batch.results[k], problem, position, notes[k] if position else ""))
     return groups
-
-
-def _degrees_and_minutes_as_decimal(reduced: pd.DataFrame, group: np.ndarray, results: list, arrays, arguments) -> None:
-    """Fixes whose sights scatter beyond any sextant, tried with their Hs read as degrees and minutes written as
-    a decimal (29.216 read as 29° 21.6′): where that makes the sights agree, the warning says so."""
-    wild = [g for g, r in enumerate(results) if r is not None and any(w.startswith("the sights scatter by")
-                                                                       for w in r.warnings)]
-    if not wild or "hs_deg" not in reduced.columns:
-        return
-    hs = reduced["hs_deg"].to_numpy(dtype=float)
-    degrees = np.trunc(hs)
-    minutes = np.round((hs - degrees) * 100.0, 6)
-    shift = np.where(np.abs(minutes) < 60.0, degrees + minutes / 60.0 - hs, np.nan)
-    members = np.isin(group, wild)
-    if not np.isfinite(shift[members & arguments["usable"]]).all():
-        members &= ~np.isin(group, np.unique(group[members & arguments["usable"] & ~np.isfinite(shift)]))
-    chosen = [g for g in wild if (members & (group == g)).any()]
-    if not chosen:
-        return
-    renumber = np.full(len(results), -1, dtype=np.intp)
-    renumber[chosen] = np.arange(len(chosen))
-    gha, dec, ho, utc, dr_lat, dr_lon = arrays
-    trial = dict(arguments, usable=arguments["usable"] & members)
-    again = fixes_from_sights(gha, dec, ho + np.nan_to_num(shift), utc, dr_lat, dr_lon,
-                              np.where(members, renumber[group], -1), refit=False, **trial)
-    for j, g in enumerate(chosen):
-        other, result = again.results[j], results[g]
-        if other is None or other.redundant < 1 or other.sigma_arcmin > SEXTANT_SIGMA_LIMIT_ARCMIN:
-            continue
-        miles = float(distance_bearing(result.lat_deg, result.lon_deg, other.lat_deg, other.lon_deg)[0])
-        example = hs[(group == g) & arguments["usable"]][0]
-        result.warnings.append(
-            f"read as degrees and minutes written as a decimal ({example:.3f} as "
-            f"{format_angle(example + shift[(group == g) & arguments['usable']][0], 'signed')}), the sights agree to "
-            f"σ {other.sigma_arcmin:.1f}′ and the {other.kind} lies {miles:.0f} nm from this one, at "
-            f"{format_angle(other.lat_deg, 'lat')} {format_angle(other.lon_deg, 'lon')}: write Hs as degrees and "
-            "minutes (29 21.6) or decimal degrees, and fix again")
 
 
 def _next_twilight_plan(groups: list[GroupFix], reduced: pd.DataFrame):

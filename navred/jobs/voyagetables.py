@@ -38,18 +38,22 @@ def working_table(voyage) -> pd.DataFrame:
     residual = np.full(len(reduced), np.nan)
     flagged = np.zeros(len(reduced), dtype=bool)
     left_out = np.zeros(len(reduced), dtype=bool)
+    by_test = np.zeros(len(reduced), dtype=bool)
     for group in voyage.groups:
         if group.fix is not None:
             residual[group.rows] = group.fix.residual_arcmin
             flagged[group.rows] = group.fix.outlier
             if group.fix.left_out.size == len(group.rows):
                 left_out[group.rows] = group.fix.left_out
+            if group.fix.blunder_left_out.size == len(group.rows):
+                by_test[group.rows] = group.fix.blunder_left_out
     ok = reduced.status.to_numpy() != SightStatus.ERROR
     r = reduced[ok].reset_index(drop=True)
-    residual, flagged, left_out = residual[ok], flagged[ok], left_out[ok]
-    notes = [("; ".join(x for x in (("BLUNDER: a gross error, LEFT OUT of the fix" if g else
+    residual, flagged, left_out, by_test = residual[ok], flagged[ok], left_out[ok], by_test[ok]
+    notes = [("; ".join(x for x in (("BLUNDER: a clear one by the blunder test, LEFT OUT of the fix" if t else
+                                     "BLUNDER: a gross error, LEFT OUT of the fix" if g else
                                      "BLUNDER? flagged by the fix" if f else ""), m) if x))
-             for f, g, m in zip(flagged, left_out, r.message.astype(str))]
+             for f, g, t, m in zip(flagged, left_out, by_test, r.message.astype(str))]
     zone = r.zone_description_used_h.to_numpy(dtype=float)
     table = pd.DataFrame({
         **_row_columns(voyage, r),
@@ -185,7 +189,7 @@ def fixes_table(voyage) -> pd.DataFrame:
             "line from DR (nm)": fix.line_offset_nm,
             "noon curve latitude (° ′)": (format_angle(fix.noon_curve_latitude_deg, "lat")
                                           if fix.noon_curve_latitude_deg is not None else ""),
-            "left out (gross errors)": ", ".join(labels[group.rows[i]] for i in np.flatnonzero(left)),
+            "left out (gross errors, clear blunders)": ", ".join(labels[group.rows[i]] for i in np.flatnonzero(left)),
             "fix from every sight (° ′)": next(every_texts) if fix.all_sights is not None else "",
             "flagged sights": outliers,
             "fix without flagged (° ′)": next(check_texts) if fix.without_outliers is not None else "",

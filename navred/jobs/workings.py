@@ -48,6 +48,7 @@ from ..marking import (
     catalogue_cause,
     mark,
 )
+from ..status import SightStatus
 from .sights import reduce_sights
 
 ROW_COLUMNS = ["source", "row", "cadet", "body", "utc", "date", "method", "way", "verdict", "first_wrong_line",
@@ -328,7 +329,7 @@ def _personal(marked: pd.DataFrame, marks: Marks | None, cadets: np.ndarray, tra
     reduced = reduce_sights(sights)
     report = training_report(reduced, read_track(track), fix_groups(reduced))
     errors = np.full(len(marked), np.nan)
-    reduced_ok = (reduced.status != "error").to_numpy()  # the training report keeps these, in order
+    reduced_ok = (reduced.status != SightStatus.ERROR).to_numpy()  # the training report keeps these, in order
     errors[np.flatnonzero(usable)[reduced_ok]] = report.sights.error_arcmin.to_numpy(dtype=float)
     return report.observers.rename(columns={"observer": "cadet"}), errors
 

@@ -763,21 +763,31 @@ def test_the_sight_book_prints_blank_as_the_papers_forms(paper, tmp_path):
         assert " ".join(CAUTION.split()) in text
 
 
-def test_a_dr_that_misses_the_papers_dates_is_warned_of(tmp_path):
+def test_a_dr_that_misses_the_papers_dates_is_warned_of(tmp_path, paper):
     """A route left after the paper's last day or finished before its first, a log that begins after it or whose
-    last known position is days old: the paper is made, and says so (every page would be planned at one place,
-    or from a DR far from the ship)."""
+    last known position is days old: the paper is made, and says so on the console and on its first page, under
+    a warning heading (every page would be planned at one place, or from a DR far from the ship). A passage
+    whose DR covers its dates has no such heading."""
     from navred.errors import NavredWarning
     from navred.jobs.paper import passage_paper
 
+    def cover(made) -> str:
+        return " ".join(block.text for block in made.document.pages[0].blocks if hasattr(block, "text"))
+
     (tmp_path / "r.csv").write_text("lat,lon\n40 N,20 W\n40 N,19 W\n", encoding="utf-8")
-    with pytest.warns(NavredWarning, match="after the paper's last day"):
-        passage_paper(FIRST, FIRST, route=tmp_path / "r.csv", speed_kn=6.0, depart="2025-06-12T00:00Z")
-    with pytest.warns(NavredWarning, match="before the paper's first day"):
-        passage_paper(FIRST, FIRST, route=tmp_path / "r.csv", speed_kn=6.0, depart="2025-06-01T00:00Z")
     (tmp_path / "log.csv").write_text("utc,entry,dr_lat,dr_lon,course,speed\n"
                                       "2025-06-01T06:00:00Z,departure,40 N,20 W,90,6\n", encoding="utf-8")
-    with pytest.warns(NavredWarning, match="carried 8.7 days"):
-        passage_paper(FIRST, FIRST, log=tmp_path / "log.csv")
-    with pytest.warns(NavredWarning, match="comes after the paper's last day"):
-        passage_paper("2025-05-20", "2025-05-21", log=tmp_path / "log.csv")
+    for words, call in (
+            ("after the paper's last day", lambda: passage_paper(FIRST, FIRST, route=tmp_path / "r.csv", speed_kn=6.0,
+                                                                 depart="2025-06-12T00:00Z")),
+            ("before the paper's first day", lambda: passage_paper(FIRST, FIRST, route=tmp_path / "r.csv",
+                                                                   speed_kn=6.0, depart="2025-06-01T00:00Z")),
+            ("carried 8.7 days", lambda: passage_paper(FIRST, FIRST, log=tmp_path / "log.csv")),
+            ("comes after the paper's last day", lambda: passage_paper("2025-05-20", "2025-05-21",
+                                                                       log=tmp_path / "log.csv"))):
+        with pytest.warns(NavredWarning, match=words):
+            made = call()
+        assert made.dr.warnings and words in made.dr.warnings[0]
+        printed = cover(made)
+        assert "WARNING: check the DR before using these pages" in printed and words in printed, printed
+    assert "WARNING" not in " ".join(paper["pages"][0].split())

@@ -195,6 +195,8 @@ def _cover(first, last, days, dr: PassageDR, eye_height_m, index_error_arcmin, z
     blocks = (
         Text(f"From {first} to {last}: {days} day{'s' if days > 1 else ''}. {where} Height of eye {eye_height_m:g} m, "
              f"index error {signed(index_error_arcmin)}′ (on the arc positive). Zone time: {zone}."),
+        *((Text("WARNING: check the DR before using these pages", "subheading"),
+           *(Text(f"{message[0].upper()}{message[1:]}.") for message in dr.warnings)) if dr.warnings else ()),
         Text("What this is", "subheading"),
         Text("A backup for the day the computer fails: with these pages, a pencil and a calculator a navigator "
              "reduces sights without navred. Print it before sailing and keep it dry with the sight book. It is "

@@ -34,12 +34,14 @@ MAX_LISTED = 40
 CARRIED_HOURS = 48.0
 
 
-def _warn(message: str) -> None:
+def _warn(message: str) -> str:
+    """Issue ``message`` as a NavredWarning (the console prints it) and return it for the cover."""
     import warnings
 
     from ..errors import NavredWarning
 
     warnings.warn(message, NavredWarning, stacklevel=3)
+    return message
 
 
 @dataclass(frozen=True)
@@ -49,7 +51,8 @@ class PassageDR:
     ``track`` is the DR; ``start`` 00:00 local time of the first date at the DR's longitude (UTC), where the first
     day begins; ``kind`` is 'departure', 'route' or 'log'; ``summary`` what the cover says of it; ``table`` the
     changes of the DR as printed (header, CSV header, rows), empty for a departure; ``course_deg``/``speed_kn``
-    those of a departure (NaN otherwise)."""
+    those of a departure (NaN otherwise); ``warnings`` what is wrong with it for the paper's dates (each also
+    issued as a :class:`navred.errors.NavredWarning`), printed on the cover."""
 
     track: DRTrack
     start: np.datetime64
@@ -58,6 +61,7 @@ class PassageDR:
     table: tuple
     course_deg: float = float("nan")
     speed_kn: float = float("nan")
+    warnings: tuple[str, ...] = ()
 
 
 def _position(lat: float, lon: float) -> str:
@@ -116,13 +120,16 @@ def route_passage_dr(first: np.datetime64, route, speed_kn: float, depart: objec
                "and reprint when she falls behind.")
     start = track_local_midnight(first, dr.track)
     end = start + np.timedelta64(days * 24 * NS_PER_HOUR, "ns")
+    warned: list[str] = []
     if dr.eta[0] >= end:
-        _warn(f"she leaves {dr.names[0]} at {_utc(dr.eta[0].astype(np.int64))} UTC, after the paper's last day: every "
-              "page is planned at that waypoint; check --depart and the dates")
+        warned.append(_warn(
+            f"she leaves {dr.names[0]} at {_utc(dr.eta[0].astype(np.int64))} UTC, after the paper's last day: "
+            "every page is planned at that waypoint; check --depart and the dates"))
     elif dr.eta[-1] <= start:
-        _warn(f"she reaches {dr.names[-1]} at {_utc(dr.eta[-1].astype(np.int64))} UTC, before the paper's first day: "
-              "every page is planned at that waypoint; check --depart, --speed and the dates")
-    return PassageDR(dr.track, start, "route", summary, table)
+        warned.append(_warn(
+            f"she reaches {dr.names[-1]} at {_utc(dr.eta[-1].astype(np.int64))} UTC, before the paper's first "
+            "day: every page is planned at that waypoint; check --depart, --speed and the dates"))
+    return PassageDR(dr.track, start, "route", summary, table, warnings=tuple(warned))
 
 
 def log_passage_dr(first: np.datetime64, days: int, source, *, vessel: str | None = None, dates: str | None = None,
@@ -157,14 +164,18 @@ def log_passage_dr(first: np.datetime64, days: int, source, *, vessel: str | Non
                f"paper ends: the {kept.known_label[last]} at {_utc(kept.known_ns[last])} UTC; after the log's "
                f"last change she is carried on at {course:05.1f}° true, {speed:.1f} kn over the ground. Before "
                f"the {kept.known_label[0]} ({_utc(kept.known_ns[0])} UTC) she is taken to lie there.")
+    warned: list[str] = []
+    carried_days = (start.astype(np.int64) - kept.known_ns[last]) / NS_PER_HOUR / 24
     if kept.known_ns[0] >= end.astype(np.int64) - 24 * NS_PER_HOUR:
-        _warn(f"the log's first known position (the {kept.known_label[0]}, {_utc(kept.known_ns[0])} UTC) comes after "
-              "the paper's last day: every page is planned there; check the dates")
-    elif (start.astype(np.int64) - kept.known_ns[last]) / NS_PER_HOUR > CARRIED_HOURS:
-        _warn(f"the DR is carried {(start.astype(np.int64) - kept.known_ns[last]) / NS_PER_HOUR / 24:.1f} days from the "
-              f"log's last known position (the {kept.known_label[last]}, {_utc(kept.known_ns[last])} UTC) to the paper's "
-              "first day: a DR so old may be far from the ship; enter a newer position, or check the dates")
-    return PassageDR(track, start, "log", summary, table)
+        warned.append(_warn(
+            f"the log's first known position (the {kept.known_label[0]}, {_utc(kept.known_ns[0])} UTC) comes "
+            "after the paper's last day: every page is planned there; check the dates"))
+    elif carried_days * 24 > CARRIED_HOURS:
+        warned.append(_warn(
+            f"the DR is carried {carried_days:.1f} days from the log's last known position (the "
+            f"{kept.known_label[last]}, {_utc(kept.known_ns[last])} UTC) to the paper's first day: a DR so old "
+            "may be far from the ship; enter a newer position, or check the dates"))
+    return PassageDR(track, start, "log", summary, table, warnings=tuple(warned))
 
 
 def held_before_first_known(track: DRTrack, since: np.datetime64) -> DRTrack:

@@ -222,9 +222,12 @@ def test_stars_from_the_printed_aries_and_sha_reproduce_skyfield(paper, ts, eph)
     assert max(errors) > 0.02
 
 
-def test_every_page_is_headed_with_its_dates_provenance_and_caution(paper):
-    assert len(paper["pages"]) >= 12
-    for number_, page in enumerate(paper["pages"], start=1):
+@pytest.mark.parametrize("which", ["paper", "route_paper", "log_paper"])
+def test_every_page_is_headed_with_its_dates_provenance_and_caution(which, request):
+    """Every page of the departure's, the route's and the log's paper, the DR's page and the blank forms too."""
+    made = request.getfixturevalue(which)
+    assert len(made["pages"]) >= 12
+    for number_, page in enumerate(made["pages"], start=1):
         flat = " ".join(page.split())
         assert f"valid {FIRST} to {LAST} (UTC dates)" in flat, number_
         assert "JPL DE421" in flat and "ERFA" in flat and "Hipparcos 2" in flat, number_

@@ -77,7 +77,8 @@ class WatchAzimuths:
         from ..io.printed import Document, Page, Table, Text
         from ..timescales import instants
 
-        rises = Table(("Date", "Event", "visible (zone)", "centre on horizon (zone)", "UTC", "amplitude", "true Zn"),
+        rises = Table(("Date", "Event", "visible (zone)", "centre on horizon (zone)", "centre (UTC)", "amplitude",
+                       "true Zn"),
                       tuple((r["date"], r["event"], r["visible_zone_time"], r["amplitude_zone_time"],
                              r["amplitude_utc"][11:], r["amplitude"], r["zn"]) for r in self.risings.to_dict("records")),
                       title="Sunrise and sunset: the true amplitude", font_size=7.6,

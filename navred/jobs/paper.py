@@ -20,14 +20,17 @@ the texts printed, and the same texts go to the CSV files. The pages, in order:
 
 from __future__ import annotations
 
+import datetime as _dt
 import math
 from dataclasses import dataclass
+from os import PathLike
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from ..angles import wrap_360
 from ..constants import ARCMIN_PER_DEG, NS_PER_HOUR
-from ..errors import NavredError
+from ..errors import NavredError, api_boundary
 from ..handtables import (
     MAX_DAYS,
     POLARIS_BLOCK_DAYS,
@@ -64,6 +67,15 @@ from .bridge import (
 )
 from .passagedr import PassageDR, departure_dr, log_passage_dr, route_passage_dr
 
+if TYPE_CHECKING:
+    from ..io.logbook import LogSource, SightLog
+    from ..io.timesignals import Ratings
+    from ..io.waypoints import Waypoints
+    from ..timescales import Instant
+
+#: A date of the passage: '2026-03-26', a datetime.date or a numpy datetime64 (its UTC date).
+DateGiven = str | _dt.date | np.datetime64
+
 PLANETS = ("Venus", "Mars", "Jupiter", "Saturn")
 
 
@@ -81,9 +93,12 @@ class PassagePaper:
     dr: PassageDR | None = None
 
 
-def passage_paper(first_date: object, last_date: object, lat_deg: float | None = None, lon_deg: float | None = None, *,
-                  course_deg: float | None = None, speed_kn: float | None = None, route=None, depart: object = None,
-                  log=None, vessel: str | None = None, dates: str | None = None, rates=None,
+@api_boundary
+def passage_paper(first_date: DateGiven, last_date: DateGiven, lat_deg: float | None = None,
+                  lon_deg: float | None = None, *, course_deg: float | None = None, speed_kn: float | None = None,
+                  route: str | PathLike[str] | Waypoints | None = None, depart: Instant | None = None,
+                  log: LogSource | SightLog | None = None, vessel: str | None = None, dates: str | None = None,
+                  rates: Ratings | None = None,
                   carry_current: bool = False, eye_height_m: float = 0.0, index_error_arcmin: float = 0.0,
                   zone_description_h: float | None = None, count: int = 4, min_alt_deg: float = 15.0,
                   max_alt_deg: float = 70.0) -> PassagePaper:

@@ -169,3 +169,22 @@ def test_the_azimuths_command_prints_and_writes(tmp_path):
 
     page = " ".join(PdfReader(str(tmp_path / "a.pdf")).pages[0].extract_text().split())
     assert " ".join(CAUTION.split()) in page and "true amplitude" in page
+
+
+def test_the_compass_book_prints_its_bearings_and_card_under_the_caution(tmp_path):
+    """The printed book: every page headed with the caution, every bearing's row with its error (gyro high or
+    low, magnetic east or west) as the console gives it, and the deviation card every 15° of compass heading."""
+    from pypdf import PdfReader
+
+    result = CliRunner().invoke(app, ["compass-book", BOOK, "-o", str(tmp_path / "book.pdf")])
+    assert result.exit_code == 0, result.output
+    csv = pd.read_csv(__import__("io").StringIO(CliRunner().invoke(app, ["compass-book", BOOK, "--csv"]).stdout))
+    pages = [" ".join(page.extract_text().split()) for page in PdfReader(str(tmp_path / "book.pdf")).pages]
+    assert pages and all(" ".join(CAUTION.split()) in page for page in pages)
+    text = " ".join(pages)
+    assert "Deviation card" in text and all(f"{heading:03d}°" in text for heading in range(0, 360, 15))
+    gyro = csv[csv.compass == "gyro"]
+    assert len(gyro) == 8 and all(f"{abs(e):.1f}° {'high' if e > 0 else 'low'}" in text for e in gyro.gyro_error_deg)
+    magnetic = csv[csv.compass == "magnetic"]  # compass least, error east  # common practice
+    assert len(magnetic) == 8 and all(f"{abs(e):.1f}° {'E' if e > 0 else 'W'}" in text
+                                      for e in magnetic.compass_error_deg)

@@ -235,11 +235,15 @@ def test_every_page_is_headed_with_its_dates_provenance_and_caution(which, reque
         assert f"page {number_}" in flat
 
 
-def test_the_csv_tables_carry_the_printed_values(paper):
-    """Every row of every CSV table appears, cell by cell in order, in the PDF's extracted text."""
+@pytest.mark.parametrize("which", ["paper", "route_paper", "log_paper"])
+def test_the_csv_tables_carry_the_printed_values(which, request):
+    """Every row of every CSV table appears, cell by cell in order, in the PDF's extracted text (the route's legs
+    and the log's DR changes too)."""
+    paper = request.getfixturevalue(which)
     text = "\n".join(lines for page in paper["pages"] for lines in [page])
     compact = "\n".join(line.strip() for line in text.split("\n") if line.strip())
     files = sorted(paper["tables"].glob("*.csv"))
+    assert {"paper": "noon-sun", "route_paper": "route", "log_paper": "dr-changes"}[which] in {f.stem for f in files}
     assert {f.stem.split("-")[0] for f in files} >= {"hourly", "stars", "dip", "refraction", "moon", "sights", "noon",
                                                       "polaris", "sun"}
     checked = 0

@@ -452,7 +452,7 @@ def _twilight_table(twilight: PlannedTwilight, name: str) -> Table:
             limb += " (horns up and down)"
         rows.append((str(p.body[i]), "●" if twilight.plan.recommended[i] else "", dm(p.hs_deg[i], "signed"), limb,
                      dm(p.hc_deg[i], "signed"), f"{p.zn_deg[i]:05.1f}", signed(p.hc_rate_arcmin_per_min[i], 2),
-                     signed(p.zn_rate_deg_per_min[i], 2), f"{good}" + ("" if good >= RATE_MINUTES else " near meridian"),
+                     signed(p.zn_rate_deg_per_min[i], 2), f"{good}" + ("" if good >= RATE_MINUTES else ", then formulas"),
                      signed(twilight.plan.magnitude[i])))
     return Table(("Body", "set", "Hs to preset", "limb", "Hc", "Zn °", "Hc ′/min", "Zn °/min", "holds min", "mag"),
                  tuple(rows), name=name,
@@ -482,7 +482,8 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
                      f"Civil twilight {hm(twilight.civil)} UTC, nautical {hm(twilight.nautical)} UTC")
             blocks.append(Text(f"{times}. For a "
                                f"sight m minutes after {hm(p.utc)} UTC: Hc = Hc + m × (Hc ′/min), Zn = Zn + m × "
-                               "(Zn °/min), within 0.5′ for the minutes shown; plot every line from the DR above "
+                               "(Zn °/min), within 0.5′ for the minutes the rate holds (later, work it by the formulas "
+                               "page); plot every line from the DR above "
                                "and move it for the ship's run. Hs to preset: Hc with dip, refraction, SD, "
                                "parallax and index error taken back off. ● the recommended set.", "small"))
             stamp = str(p.utc.astype("datetime64[m]")).replace(":", "").replace("T", "-")

@@ -798,3 +798,39 @@ def test_a_dr_that_misses_the_papers_dates_is_warned_of(tmp_path, paper):
         printed = cover(made)
         assert "WARNING: check the DR before using these pages" in printed and words in printed, printed
     assert "WARNING" not in " ".join(paper["pages"][0].split())
+
+
+@pytest.mark.parametrize("lat, lon, date, words, extreme", [
+    (60.17, -5.0, "2026-06-20", "does not go 12° below the horizon at the DR (no nautical twilight)",
+     ("lowest", -12.0, -6.0)),
+    (70.0, 20.0, "2026-06-20", "the Sun does not set at the DR", ("lowest", 0.0, 90.0)),
+    (75.0, 20.0, "2026-12-20", "does not come up to 6° below the horizon at the DR (no civil twilight)",
+     ("highest", -12.0, -6.0)),
+    (85.0, 20.0, "2026-12-20", "stays more than 12° below the horizon at the DR all day", ("highest", -90.0, -12.0))])
+def test_a_day_without_a_twilight_round_says_why(lat, lon, date, words, extreme, ts, eph):
+    """A day's sight page with no twilight round says which twilight does not happen (never a page that is
+    silently empty). Reference: skyfield's geometric altitude of the Sun's centre at the position every 5 minutes
+    of the local day: its lowest within the range the page's words imply (above −12° but below −6°; above the
+    horizon), or, in the polar night, its highest (between −12° and −6°; below −12°)."""
+    from skyfield.api import wgs84
+
+    from navred.jobs.paper import passage_paper
+
+    made = passage_paper(date, date, lat, lon)
+    page = next(p for p in made.document.pages if p.title.startswith("Sights for"))
+    text = " ".join(block.text for block in page.blocks if hasattr(block, "text"))
+    assert text.count(words) == 2, text  # morning and evening
+    assert "No morning twilight round" in text and "No evening twilight round" in text
+    start = np.datetime64(date, "ns") - np.timedelta64(int(lon / 15.0 * 3600), "s")
+    when = start + np.arange(0, 24 * 60 + 1, 5) * np.timedelta64(60, "s")
+    digest = hashlib.sha1(when.astype(np.int64).tobytes()).hexdigest()[:16]
+
+    def compute():
+        t = ts.from_datetimes(pd.DatetimeIndex(when).tz_localize("UTC").to_pydatetime())
+        altitude, _, _ = (eph["earth"] + wgs84.latlon(lat, lon)).at(t).observe(eph["sun"]).apparent().altaz()
+        return list(altitude.degrees)
+
+    altitude = np.asarray(frozen(f"paper-sun-altitude|{lat}|{lon}|{digest}", compute))
+    which, low, high = extreme
+    found = altitude.min() if which == "lowest" else altitude.max()
+    assert low < found < high, (which, found)

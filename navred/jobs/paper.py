@@ -470,6 +470,9 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
     for noon in noons:
         label = long_date(noon.date)
         blocks = []
+        held = {twilight.kind for twilight in by_date.get(label, [])}
+        if "Morning twilight" not in held:
+            blocks.append(_no_round("morning", events, noon))
         for twilight in by_date.get(label, []):
             p = twilight.presets
             zd = twilight.zone_h
@@ -488,6 +491,8 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
                                "parallax and index error taken back off. ● the recommended set.", "small"))
             stamp = str(p.utc.astype("datetime64[m]")).replace(":", "").replace("T", "-")
             blocks.append(_twilight_table(twilight, f"sights-{stamp}"))
+        if "Evening twilight" not in held:
+            blocks.append(_no_round("evening", events, noon))
         zone_noon = noon.utc - np.timedelta64(int(noon.zone_h * 60), "m")
         blocks.append(Text(f"Noon: the Sun on the meridian at {hm(zone_noon)} zone time ({zone_text(noon.zone_h)}), "
                            f"{hm(noon.utc)} UTC", "subheading"))
@@ -497,6 +502,30 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
                            "and take the highest reading; latitude = Dec ± (90° − Ho) (the noon page).", "body"))
         pages.append(Page(f"Sights for {label}", tuple(blocks)))
     return pages
+
+
+def _no_round(when: str, events: dict, noon) -> Text:
+    """Why a day's page has no morning (or evening) round: the twilight that does not happen at the DR."""
+    day = int(np.flatnonzero(events["date"] == noon.date)[0])
+    side = "dawn" if when == "morning" else "dusk"
+    nautical, civil = events[f"nautical_{side}"][day], events[f"civil_{side}"][day]
+    rise = events["sunrise" if when == "morning" else "sunset"][day]
+    if np.isnat(rise) and noon.hc_deg > 0:
+        why = "the Sun does not set at the DR"
+    elif np.isnat(civil) and not np.isnat(rise):
+        why = "the Sun does not go 6° below the horizon at the DR (no civil twilight)"
+    elif np.isnat(nautical) and not np.isnat(civil):
+        why = ("the Sun does not go 12° below the horizon at the DR (no nautical twilight): near the darkest of the "
+               "night the horizon and the brightest stars may both be seen; plan such sights with navred plan "
+               "--utc before sailing, or work them by the formulas page")
+    elif np.isnat(civil) and not np.isnat(nautical):
+        why = ("the Sun does not come up to 6° below the horizon at the DR (no civil twilight): the horizon is lit "
+               "only dimly, near noon")
+    elif np.isnat(civil):
+        why = "the Sun stays more than 12° below the horizon at the DR all day (no twilight)"
+    else:
+        why = "no navigational body stands between the planned altitudes then"
+    return Text(f"No {when} twilight round: {why}.", "subheading")
 
 
 def _noon_page(noons, hourly) -> Page:

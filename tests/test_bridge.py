@@ -162,3 +162,12 @@ def test_a_plan_at_an_instant_is_rounded_to_the_minute():
     assert result.exit_code == 0, result.output
     assert "Sight plan, 2025-06-10: 20:38 zone (+1), 21:38 UTC" in result.stdout
     assert np.all([":41" not in line for line in result.stdout.splitlines()])
+
+
+def test_the_plan_names_the_index_error_on_or_off_the_arc_or_none(shown):
+    assert "index error 1.2′ on the arc: the Hs to preset" in shown
+    for given, words in (("0.8 off", "index error 0.8′ off the arc: "), ("0", "index error 0.0′: ")):
+        result = CliRunner().invoke(app, ["plan", "--date", "2025-06-10", "--lat", "40 00 N", "--lon", "020 00 W",
+                                          "--index-error", given])
+        assert result.exit_code == 0, result.output
+        assert words in result.stdout and " the arc: " not in result.stdout.replace(words, ""), result.stdout[:300]

@@ -204,8 +204,8 @@ class BridgePlan:
         ie = self.index_error_arcmin
         lines = [f"Sight plan along the DR from {dm(self.lat_deg, 'lat')} {dm(self.lon_deg, 'lon')} at 00:00 local "
                  f"time of {self.first_date}{moving}",
-                 f"Height of eye {self.eye_height_m:g} m, index error {abs(ie):.1f}′ "
-                 f"{'on' if ie > 0 else 'off' if ie < 0 else ''} the arc".replace("  ", " ")
+                 f"Height of eye {self.eye_height_m:g} m, index error {abs(ie):.1f}′"
+                 + (" on the arc" if ie > 0 else " off the arc" if ie < 0 else "")
                  + ": the Hs to preset is Hc with dip, refraction, SD, parallax and index error taken back off.",
                  "Times are zone time (ZT + ZD = UTC) with UTC in brackets, to the minute; '-': the event does not "
                  "happen that day.", ""]

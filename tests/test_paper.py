@@ -834,3 +834,28 @@ def test_a_day_without_a_twilight_round_says_why(lat, lon, date, words, extreme,
     which, low, high = extreme
     found = altitude.min() if which == "lowest" else altitude.max()
     assert low < found < high, (which, found)
+
+
+@pytest.mark.parametrize("lon, first_table_date, last_table_date", [
+    (150.0, "2026-12-13", "2026-12-15"), (179.0, "2026-12-13", "2026-12-15"), (-170.0, "2026-12-14", "2026-12-16")])
+def test_far_east_or_west_the_hourly_pages_take_in_every_planned_sight(lon, first_table_date, last_table_date):
+    """At 150° E the first local morning's twilight falls on the UTC date before the first (the paper failed
+    there), at 170° W the last evening's on the date after: the hourly pages take that date in, every planned
+    round and noon lies within them, the header and the cover say which UTC dates, and the worked sight is made."""
+    from navred.jobs.paper import passage_paper
+
+    made = passage_paper("2026-12-14", "2026-12-15", -17.5, lon)
+    hours = made.hourly.hours
+    assert str(hours[0].astype("datetime64[D]")) == first_table_date
+    assert str((hours[-1] - np.timedelta64(1, "h")).astype("datetime64[D]")) == last_table_date
+    times = [t.presets.utc for t in made.twilights] + [n.utc for n in made.noons]
+    assert len(made.twilights) == 4 and len(made.noons) == 2
+    assert all(hours[0] <= t and t + np.timedelta64(15, "m") <= hours[-1] for t in times)
+    assert made.document.valid_for == f"{first_table_date} to {last_table_date} (UTC dates)"
+    cover = " ".join(block.text for block in made.document.pages[0].blocks if hasattr(block, "text"))
+    assert f"The hourly pages run over the UTC dates {first_table_date} to {last_table_date}" in cover
+    titles = [page.title for page in made.document.pages]
+    assert sum(title.startswith("Hourly GHA and Dec") for title in titles) == 3
+    formulas = next(page for page in made.document.pages if page.title.startswith("The calculator's formulas"))
+    assert any("intercept" in getattr(block, "text", "") and "nm" in getattr(block, "text", "")
+               for block in formulas.blocks)

@@ -77,6 +77,8 @@ if TYPE_CHECKING:
 DateGiven = str | _dt.date | np.datetime64
 
 PLANETS = ("Venus", "Mars", "Jupiter", "Saturn")
+#: The most days a paper is made for at once: its hourly pages may need a UTC date either side (far east or west).
+PASSAGE_MAX_DAYS = MAX_DAYS - 2
 
 
 @dataclass(frozen=True)
@@ -120,12 +122,11 @@ def passage_paper(first_date: DateGiven, last_date: DateGiven, lat_deg: float | 
     days = int((last - first).astype(int)) + 1
     if days < 1:
         raise NavredError(f"the passage ends ({last}) before it begins ({first})")
-    if days > MAX_DAYS:
-        raise NavredError(f"{days} days: the paper covers at most {MAX_DAYS} days at once; print the passage in parts")
+    if days > PASSAGE_MAX_DAYS:
+        raise NavredError(f"{days} days: the paper covers at most {PASSAGE_MAX_DAYS} days at once; print the passage "
+                          "in parts")
     dr = _passage_dr(first, days, lat_deg, lon_deg, course_deg, speed_kn, route, depart, log, vessel, dates, rates,
                      carry_current)
-    hourly = hourly_table(first, days)
-    stars = star_blocks(first, days)
     events, plans = track_twilight_plans(dr.track, dr.start, days, eye_height_m=eye_height_m, count=count,
                                          min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg)
     track = events["track"]
@@ -133,8 +134,15 @@ def passage_paper(first_date: DateGiven, last_date: DateGiven, lat_deg: float | 
     twilights = planned_rounds(events, plans, track, count=count, min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg,
                                **options)
     noons = noon_suns(events, track, **options)
+    # the hourly pages cover every UTC date a planned sight or noon falls on: east of about 80° E the first
+    # morning twilight comes on the UTC date before the first, far west the last evening's on the date after
+    times = [t.presets.utc for t in twilights] + [n.utc for n in noons]
+    table_first = min([first] + [t.astype("datetime64[D]") for t in times])
+    table_days = int((max([last] + [t.astype("datetime64[D]") for t in times]) - table_first).astype(int)) + 1
+    hourly = hourly_table(table_first, table_days)
+    stars = star_blocks(table_first, table_days)
     document = _document(first, days, hourly, stars, twilights, noons, dr, eye_height_m, index_error_arcmin,
-                         zone_description_h, events)
+                         zone_description_h, events, table_first, table_days)
     return PassagePaper(document, hourly, tuple(stars), tuple(twilights), tuple(noons), first, days, dr)
 
 
@@ -184,32 +192,37 @@ def _provenance(hourly: HourlyTable) -> str:
 
 
 def _document(first, days, hourly, stars, twilights, noons, dr: PassageDR, eye_height_m, index_error_arcmin,
-              zone_given, events) -> Document:
+              zone_given, events, table_first, table_days) -> Document:
     last = first + np.timedelta64(days - 1, "D")
-    pages = [_cover(first, last, days, dr, eye_height_m, index_error_arcmin, zone_given)]
+    pages = [_cover(first, last, days, dr, eye_height_m, index_error_arcmin, zone_given, table_first, table_days)]
     if dr.table:
         pages.append(_dr_page(dr))
-    pages += [_hourly_page(hourly, first + np.timedelta64(d, "D"), d) for d in range(days)]
+    pages += [_hourly_page(hourly, table_first + np.timedelta64(d, "D"), d) for d in range(table_days)]
     pages += _star_pages(stars)
-    pages += _correction_pages(first, days)
+    pages += _correction_pages(table_first, table_days)
     pages += _sight_pages(twilights, noons, events, hourly)
     pages.append(_noon_page(noons, hourly))
-    pages += _polaris_pages(first, days)
+    pages += _polaris_pages(table_first, table_days)
     pages.append(_formulas_page(twilights, hourly, stars, eye_height_m, index_error_arcmin))
     pages += _blank_forms(dr.track, first, days)
-    valid = f"{first} to {last} (UTC dates)" if days > 1 else f"{first} (UTC date)"
+    table_last = table_first + np.timedelta64(table_days - 1, "D")
+    valid = f"{table_first} to {table_last} (UTC dates)" if table_days > 1 else f"{table_first} (UTC date)"
     return Document("navred passage paper", valid, _provenance(hourly), CAUTION, tuple(pages))
 
 
 # --- The cover ---------------------------------------------------------------------------------
 
-def _cover(first, last, days, dr: PassageDR, eye_height_m, index_error_arcmin, zone_given):
+def _cover(first, last, days, dr: PassageDR, eye_height_m, index_error_arcmin, zone_given, table_first, table_days):
     zone = (f"zone description {zone_text(zone_given)} throughout" if zone_given is not None else
             "the zone of the DR's longitude at each twilight and noon (ZT + ZD = UTC)")
     where = dr.summary + (" Its changes are listed on the next page." if dr.table else "")
     blocks = (
         Text(f"From {first} to {last}: {days} day{'s' if days > 1 else ''}. {where} Height of eye {eye_height_m:g} m, "
-             f"index error {signed(index_error_arcmin)}′ (on the arc positive). Zone time: {zone}."),
+             f"index error {signed(index_error_arcmin)}′ (on the arc positive). Zone time: {zone}."
+             + ("" if (table_first, table_days) == (first, days) else
+                f" The hourly pages run over the UTC dates {table_first} to "
+                f"{table_first + np.timedelta64(table_days - 1, 'D')}: every planned sight and noon of the local "
+                "dates falls on one of them.")),
         *((Text("WARNING: check the DR before using these pages", "subheading"),
            *(Text(f"{message[0].upper()}{message[1:]}.") for message in dr.warnings)) if dr.warnings else ()),
         Text("What this is", "subheading"),

@@ -171,3 +171,16 @@ def test_the_plan_names_the_index_error_on_or_off_the_arc_or_none(shown):
                                           "--index-error", given])
         assert result.exit_code == 0, result.output
         assert words in result.stdout and " the arc: " not in result.stdout.replace(words, ""), result.stdout[:300]
+
+
+def test_a_course_without_a_speed_is_refused_and_a_missing_eye_is_said():
+    """Left out, either would be filled in silently (a fixed position, or she sails 000°); without --eye every Hs
+    to preset is for an eye at the sea's surface, which stderr says (the paper too)."""
+    base = ["plan", "--date", "2025-06-10", "--lat", "40 00 N", "--lon", "020 00 W"]
+    for extra, words in ((["--course", "225"], "--course without --speed"), (["--speed", "6"], "--speed without --course")):
+        result = CliRunner().invoke(app, base + extra)
+        assert result.exit_code == 1 and words in result.output, result.output
+    result = CliRunner().invoke(app, base)
+    assert result.exit_code == 0 and "warning: no --eye given" in result.stderr and "no --eye" not in result.stdout
+    result = CliRunner().invoke(app, base + ["--eye", "3 m"])
+    assert result.exit_code == 0 and "no --eye" not in result.stderr

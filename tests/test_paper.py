@@ -682,6 +682,8 @@ def test_the_dr_is_given_one_way_and_refused_two(tmp_path):
             (["--lat", "40 N", "--lon", "20 W", "--depart", "2025-06-10T06:00Z"], "give it with --route"),
             (["--lat", "40 N", "--lon", "20 W", "--vessel", "Alpha"], "give it with --log"),
             (["--lat", "40 N"], "needs both --lat and --lon"),
+            (["--lat", "40 N", "--lon", "20 W", "--course", "225"], "--course without --speed"),
+            (["--lat", "40 N", "--lon", "20 W", "--speed", "6"], "--speed without --course"),
             ([], "give the DR to plan along"),
             (["--route", str(tmp_path / "r.csv"), "--speed", "6", "-o", str(tmp_path / "r.csv")], "inputs")):
         result = CliRunner().invoke(app, base + extra)
@@ -689,6 +691,7 @@ def test_the_dr_is_given_one_way_and_refused_two(tmp_path):
         assert not (tmp_path / "a.pdf").exists()
     result = CliRunner().invoke(app, base + ["--log", str(tmp_path / "log.csv"), "--vessel", "Bravo"])
     assert result.exit_code == 0, result.output
+    assert "warning: no --eye given: every Hs to preset is for a height of eye of 0 m" in result.stderr
 
 
 # --- The blank hand-working forms: the sight book's pages, printed -------------------------------------------------

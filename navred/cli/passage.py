@@ -21,6 +21,7 @@ from .common import (
     check_folder,
     column_number,
     command,
+    course_and_speed_together,
     course_option,
     date_option,
     dr_lat_option,
@@ -32,6 +33,7 @@ from .common import (
     index_error_option,
     input_files,
     instant_option,
+    no_eye_warning,
     number,
     old_outputs,
     output_files,
@@ -94,8 +96,10 @@ def plan_command(
         column_number(course, "--course", "course"), column_number(speed, "--speed", "speed")
         number(min_alt, "--min-alt", 0.0, 90.0), number(max_alt, "--max-alt", 0.0, 90.0)
         eye_m, index_error_arcmin = eye_option(eye), index_error_option(index_error)
+        course_and_speed_together(ctx)
         zd, first = zone_option(zone), date_option(date)
         utc = instant_option(renamed(utc, at, "--utc", "--at"))
+        no_eye_warning(eye)
         plan = bridge_plan(first, days, lat_deg, lon_deg, course_deg=course, speed_kn=speed, eye_height_m=eye_m,
                            index_error_arcmin=index_error_arcmin, zone_description_h=zd, count=count,
                            min_alt_deg=min_alt, max_alt_deg=max_alt, at=utc)
@@ -159,6 +163,7 @@ def paper_command(
         index_error_arcmin, zd = index_error_option(index_error), zone_option(zone)
         if count not in (3, 4, 5):
             raise NavredError(f"--count {count}: give 3, 4 or 5")
+        no_eye_warning(eye)
         paper = passage_paper(first, last, lat_deg, lon_deg, course_deg=course, speed_kn=speed, route=route,
                               depart=instant_option(depart, "--depart"), log=log, vessel=vessel, dates=dates,
                               rates=ratings(rates, dates), carry_current=carry_current,

@@ -173,6 +173,10 @@ def _passage_dr(first, days, lat_deg, lon_deg, course_deg, speed_kn, route, depa
         return log_passage_dr(first, days, log, vessel=vessel, dates=dates, rates=rates, carry_current=carry_current)
     if lat_deg is None or lon_deg is None:
         raise NavredError("a position needs both --lat and --lon")
+    if (course_deg is None) != (speed_kn is None):
+        raise NavredError(f"{'--course' if speed_kn is None else '--speed'} without "
+                          f"{'--speed' if speed_kn is None else '--course'}: a departure's DR needs both (leave both "
+                          "out for a fixed position, at anchor or hove to)")
     return departure_dr(first, lat_deg, lon_deg, 0.0 if course_deg is None else course_deg,
                         0.0 if speed_kn is None else speed_kn)
 

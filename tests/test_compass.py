@@ -188,3 +188,17 @@ def test_the_compass_book_prints_its_bearings_and_card_under_the_caution(tmp_pat
     magnetic = csv[csv.compass == "magnetic"]  # compass least, error east  # common practice
     assert len(magnetic) == 8 and all(f"{abs(e):.1f}° {'E' if e > 0 else 'W'}" in text
                                       for e in magnetic.compass_error_deg)
+
+
+def test_a_book_of_two_magnetic_compasses_is_refused(tmp_path):
+    """A steering and a standard compass have each their own deviation: one card fitted to both would fit neither
+    (a trial's two compasses gave B 0.5° for B 3° and B −2°), so the book is refused, naming each compass's rows."""
+    book = tmp_path / "book.csv"
+    lines = ["utc,body,compass,bearing,heading,variation,lat,lon"]
+    for k, heading in enumerate(range(0, 360, 45)):
+        lines.append(f"2026-03-25T09:{k:02d}:00Z,Sun,steering,{116 + k % 3},{heading},4 W,43 20 N,008 25 W")
+        lines.append(f"2026-03-25T09:{k:02d}:30Z,Sun,Standard,{117 - k % 2},{heading},4 W,43 20 N,008 25 W")
+    book.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    result = CliRunner().invoke(app, ["compass-book", str(book)])
+    assert result.exit_code == 1 and "2 compasses (standard, steering)" in result.output, result.output
+    assert "standard: rows 3, 5," in result.output and "steering: rows 2, 4," in result.output

@@ -290,6 +290,13 @@ def compass_book(source, *, dates: str | None = None) -> CompassBook:
         raise NavredError("no bearing in the book could be worked: " + "; ".join(
             f"row {r.row}: {r.column}: {r.reason}" for r in pd.concat(rejected).head(3).itertuples()))
     magnetic = table[table.compass == "magnetic"]
+    names = sorted(set(magnetic.compass_written))
+    if len(names) > 1:
+        rows = "; ".join(f"{name}: rows {', '.join(str(r) for r in magnetic.row[magnetic.compass_written == name])}"
+                         for name in names)
+        raise NavredError(f"the book holds magnetic compass bearings written as {len(names)} compasses "
+                          f"({', '.join(names)}): each compass has its own deviation, so one card would fit neither; "
+                          f"give each compass a book of its own ({rows})")
     curve, card = None, pd.DataFrame(columns=["compass_heading_deg", "deviation_deg", "deviation"])
     if len(magnetic):
         curve = deviation_coefficients(magnetic.heading_deg, magnetic.deviation_deg)

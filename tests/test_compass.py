@@ -3,6 +3,8 @@ the deviation curve against planted coefficients, and the compass error book fro
 
 from __future__ import annotations
 
+import re
+
 import numpy as np
 import pandas as pd
 import pytest
@@ -202,3 +204,23 @@ def test_a_book_of_two_magnetic_compasses_is_refused(tmp_path):
     result = CliRunner().invoke(app, ["compass-book", str(book)])
     assert result.exit_code == 1 and "2 compasses (standard, steering)" in result.output, result.output
     assert "standard: rows 3, 5," in result.output and "steering: rows 2, 4," in result.output
+
+
+def test_a_card_from_too_few_headings_and_a_huge_deviation_are_flagged(tmp_path):
+    """Two bearings on one heading (a latitude typed S for N in one: its 'deviation' some 30°) give no card to steer
+    by, and the large deviation is named with its row, on the console and on the printed page."""
+    from pypdf import PdfReader
+
+    book = tmp_path / "book.csv"
+    book.write_text("utc,body,compass,bearing,heading,variation,lat,lon\n"
+                    "2026-03-25T09:00:00Z,Sun,steering,119.7,135,4 W,43 20 N,008 25 W\n"
+                    "2026-03-25T09:10:00Z,Sun,steering,121.0,135,4 W,43 20 S,008 25 W\n", encoding="utf-8")
+    result = CliRunner().invoke(app, ["compass-book", str(book), "-o", str(tmp_path / "b.pdf")])
+    assert result.exit_code == 0, result.output
+    assert "WARNING: NOT A CARD TO STEER BY" in result.stdout
+    assert re.search(r"WARNING: row 3: deviation \d\d\.\d° [EW] on 135\.0°, more than 10°", result.stdout), result.stdout
+    assert "WARNING: row 2" not in result.stdout
+    page = " ".join(PdfReader(str(tmp_path / "b.pdf")).pages[0].extract_text().split())
+    assert "NOT A CARD TO STEER BY" in page and "row 3: deviation" in page
+    sample = CliRunner().invoke(app, ["compass-book", BOOK])
+    assert "WARNING" not in sample.stdout  # a swing through eight headings, deviations of a few degrees

@@ -862,3 +862,18 @@ def test_far_east_or_west_the_hourly_pages_take_in_every_planned_sight(lon, firs
     formulas = next(page for page in made.document.pages if page.title.startswith("The calculator's formulas"))
     assert any("intercept" in getattr(block, "text", "") and "nm" in getattr(block, "text", "")
                for block in formulas.blocks)
+
+
+def test_the_moons_change_of_dec_is_printed_with_its_sign(paper):
+    """ΔDec beside the Moon's Dec carries its sign both ways (north +), and is the next hour's printed Dec less this
+    hour's (so that f × ΔDec is added as printed, in north or south declination)."""
+    checked = 0
+    for day in (FIRST, LAST):
+        rows = hourly_rows(paper, day)
+        for this, following in zip(rows[:-1], rows[1:]):
+            cell = this[7]
+            assert re.fullmatch(r"[+−]\d+\.\d|0\.0", cell), cell
+            change = (angle(following[6]) - angle(this[6])) * 60.0
+            assert abs(float(cell.replace("−", "-")) - change) <= 0.051, (cell, change)
+            checked += 1
+    assert checked == 48

@@ -289,7 +289,10 @@ def _hourly_rows(hourly: HourlyTable, d: int) -> tuple[list[tuple[str, ...]], di
     for k in range(25):
         last = k == 24
         d_gha = "" if last else dm(float(wrap_360(moon_gha[k + 1] - moon_gha[k])), "signed")
+        # the Moon's change of Dec with its sign both ways (north +): in south declination a bare 1.2 would read
+        # as the Dec growing
         d_dec = "" if last else signed((moon_dec[k + 1] - moon_dec[k]) * ARCMIN_PER_DEG)
+        d_dec = "+" + d_dec if d_dec and d_dec[0] != "−" and float(d_dec) != 0.0 else d_dec
         row = [f"{k:02d}", dm(values["Aries"][0][k]), dm(values["Sun"][0][k]), dm(values["Sun"][1][k], "dec"),
                dm(moon_gha[k]), d_gha, dm(moon_dec[k], "dec"), d_dec, f"{moon_hp[k]:.1f}"]
         for planet in PLANETS:

@@ -72,7 +72,8 @@ def lines_of(page: str) -> list[str]:
 
 
 def page_titled(paper, title: str) -> list[str]:
-    found = [lines_of(p) for p in paper["pages"] if title in p]
+    # a line that begins with the title (the cover names the pages by their titles, within its lines)
+    found = [lines_of(p) for p in paper["pages"] if any(line.startswith(title) for line in lines_of(p))]
     assert found, f"no page titled {title!r}"
     return found[0]
 

@@ -243,12 +243,14 @@ def _cover(first, last, days, dr: PassageDR, eye_height_m, index_error_arcmin, z
              "subtracted. A star's GHA is the GHA of Aries so found plus the star's SHA. Each hourly page "
              "works one example through."),
         Text("The pages", "subheading"),
-        Text(("1 this page and the DR it is planned along · " if dr.table else "1 this page · ") + "2 the hourly GHA and Dec, a page per UTC date · 3 the stars' SHA and Dec · 4 the "
-             "altitude corrections: dip, refraction, the Sun's SD, the Moon's parallax and SD, Venus and Mars · 5 "
-             "for each day the twilight stars planned along the DR with Hc, Zn and their change per minute, the "
-             "Hs to preset, and the noon Sun · 6 the noon Sun for every day · 7 the Polaris latitude table · 8 the "
-             "calculator's formulas with a sight worked through · 9 blank forms: the hand working, plotting "
-             "sheets for the passage's latitudes, a DR log page."),
+        Text("In this order, each headed by its title (look them up by title: a long table runs onto a second "
+             "sheet): this page" + (" and the DR it is planned along" if dr.table else "") + " · Hourly GHA and "
+             "Dec, a page per UTC date · The stars: SHA and Dec · Altitude corrections: dip and refraction · "
+             "Altitude corrections: the Moon, the Sun and the planets · Sights for each day: the twilight stars "
+             "planned along the DR with Hc, Zn and their change per minute, the Hs to preset, and the noon Sun · "
+             "The noon Sun for every day · Latitude by Polaris · The calculator's formulas, with a sight worked "
+             "through · blank forms: Hand working (one per way of working), Plotting sheets for the passage's "
+             "latitudes, a DR log page."),
         Text("Time", "subheading"),
         Text("Every table is for UTC. Keep the chronometer's error and rate by time signals; a second of time is "
              "15″ of GHA, a quarter of a mile of longitude. Zone times on the sight pages are for convenience "
@@ -519,7 +521,7 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
         blocks.append(Text(f"DR then {dm(noon.lat_deg, 'lat')} {dm(noon.lon_deg, 'lon')}; Sun's Dec "
                            f"{dm(noon.dec_deg, 'dec')}; Hc {dm(noon.hc_deg, 'signed')}, bearing {noon.bearing}; Hs to "
                            f"preset (lower limb) {dm(noon.hs_deg, 'signed')}. Start a few minutes early, follow it up "
-                           "and take the highest reading; latitude = Dec ± (90° − Ho) (the noon page).", "body"))
+                           "and take the highest reading; latitude = Dec ± (90° − Ho) (The noon Sun page).", "body"))
         pages.append(Page(f"Sights for {label}", tuple(blocks)))
     return pages
 
@@ -704,14 +706,14 @@ WITH_THIS_PAPER = (
                                             "(minutes + seconds/60) / 60", ()),
     (("v_corr_worked",), "the v correction: 0 (the increment is the whole change)", ()),
     (("dip_worked", "refraction_worked"), "dip and refraction (× the air's factor): the corrections pages", ()),
-    (("sd_worked",), "SD: the Sun's by date (corrections page 2)", ("Sun", "Noon")),
-    (("sd_worked",), "SD: 0.2725 × HP (HP from the hourly page) and its growth with altitude (corrections page 2)",
+    (("sd_worked",), "SD: the Sun's by date (Altitude corrections: the Moon, the Sun and the planets)", ("Sun", "Noon")),
+    (("sd_worked",), "SD: 0.2725 × HP (HP from the hourly page) and its growth with altitude (Altitude corrections: the Moon, the Sun and the planets)",
      ("Moon",)),
     (("parallax_worked",), "parallax: 0.15′ × cos Ha", ("Sun", "Noon")),
-    (("parallax_worked",), "parallax: the table by h and HP (corrections page 2)", ("Moon",)),
-    (("parallax_worked",), "parallax: Venus and Mars HP × cos Ha, HP by date (corrections page 2); Jupiter and "
+    (("parallax_worked",), "parallax: the table by h and HP (Altitude corrections: the Moon, the Sun and the planets)", ("Moon",)),
+    (("parallax_worked",), "parallax: Venus and Mars HP × cos Ha, HP by date (Altitude corrections: the Moon, the Sun and the planets); Jupiter and "
                            "Saturn none", ("Planets",)),
-    (("additional_worked",), "the phase of Venus and Mars: by date, with its rule (corrections page 2)", ()),
+    (("additional_worked",), "the phase of Venus and Mars: by date, with its rule (Altitude corrections: the Moon, the Sun and the planets)", ()),
     (("main_worked", "hp_corr_worked", "upper_limb_worked"), "the main (first) correction, the HP correction and "
                                                              "the upper limb's −30′ are an almanac's tables: leave "
                                                              "them blank and write the parts", ()),
@@ -721,7 +723,7 @@ WITH_THIS_PAPER = (
                                "take off)", ()),
     (("reduction_worked",), "ex-meridian: the reduction = a × t², t the minutes of time from meridian passage, a "
                             "= 1.9635″ cos L cos d / sin(L ∼ d)", ()),
-    (("zenith_distance_worked",), "latitude = Dec ± (90° − Ho) as the noon page says", ()),
+    (("zenith_distance_worked",), "latitude = Dec ± (90° − Ho) as The noon Sun page says", ()),
     (("amplitude_worked",), "amplitude: sin A = sin Dec / cos latitude, the bearing taken with the Sun's centre "
                             "on the celestial horizon (its lower limb about half a diameter above the sea "
                             "horizon); azimuth: Zn by the formulas page; compass error = true − compass bearing "

@@ -680,7 +680,9 @@ def test_the_dr_is_given_one_way_and_refused_two(tmp_path):
             (["--log", str(tmp_path / "log.csv"), "--speed", "6"], "leave out --course and --speed"),
             (["--log", str(tmp_path / "log.csv")], "name the one to plan for with --vessel"),
             (["--log", str(tmp_path / "log.csv"), "--vessel", "Charlie"], "it keeps Alpha, Bravo"),
-            (["--lat", "40 N", "--lon", "20 W", "--depart", "2025-06-10T06:00Z"], "give it with --route"),
+            (["--lat", "40 N", "--lon", "20 W", "--depart", "2025-06-10T06:00Z"], "a fixed position does not depart"),
+            (["--log", str(tmp_path / "log.csv"), "--vessel", "Bravo", "--depart", "2025-06-10T06:00Z"],
+             "a log gives its own departure"),
             (["--lat", "40 N", "--lon", "20 W", "--vessel", "Alpha"], "give it with --log"),
             (["--lat", "40 N"], "needs both --lat and --lon"),
             (["--lat", "40 N", "--lon", "20 W", "--course", "225"], "--course without --speed"),
@@ -878,3 +880,23 @@ def test_the_moons_change_of_dec_is_printed_with_its_sign(paper):
             assert abs(float(cell.replace("−", "-")) - change) <= 0.051, (cell, change)
             checked += 1
     assert checked == 48
+
+
+DEPART = np.datetime64("2025-06-10T09:30", "ns")
+
+
+def test_a_departure_at_the_hour_she_sails(tmp_path, ts, eph):
+    """--depart with a position, course and speed: she lies at the position until then (the first morning is
+    planned there), then sails on; every DR printed follows the one sailed in the test (RK4), and what is planned
+    there is skyfield's (as for the route and the log)."""
+    made = make_paper(tmp_path, ["--lat", "40 N", "--lon", "20 W", "--course", str(COURSE), "--speed", str(SPEED),
+                                 "--depart", "2025-06-10T10:30+01:00"])
+
+    def truth(when):
+        return sailed(when, DEPART, START_LAT, START_LON, [(1e9, COURSE, SPEED)])
+
+    counts = check_the_pages_follow(made, truth, ts, eph)
+    assert counts["rounds"] == 4 and counts["noons"] == 2, counts
+    first = printed_rounds(made)[0]
+    assert first["utc"] < DEPART and miss_nm(first["lat"], first["lon"], START_LAT, START_LON) < 0.01
+    assert "where she lies until she departs at 2025-06-10 09:30 UTC" in " ".join(made["pages"][0].split())

@@ -122,7 +122,7 @@ def paper_command(
     course: float | None = typer.Option(None, "--course", help="Course to steer (degrees true) from the position given; not with --route or --log."),
     speed: float | None = typer.Option(None, "--speed", help="Speed (knots) from the position given, or along the --route; left out with a position: a fixed position."),
     route: str | None = typer.Option(None, "--route", help="Plan along a route's waypoints in turn: the CSV or GPX navred route writes, or a CSV of waypoints (lat, lon) written by hand; with --speed."),
-    depart: str | None = typer.Option(None, "--depart", help="When she leaves the route's first waypoint (ISO 8601 with a zone); default 00:00 local time of the first date."),
+    depart: str | None = typer.Option(None, "--depart", help="When she leaves the route's first waypoint, or the --lat/--lon position on her --course and --speed (ISO 8601 with a zone); default 00:00 local time of the first date."),
     log: str | None = typer.Option(None, "--log", help="Plan along the DR of a sight log with entry rows (departure, course, current), as navred days keeps it."),
     vessel: str | None = typer.Option(None, "--vessel", help="The vessel of the --log to plan for, when it keeps several."),
     carry_current: bool = typer.Option(False, "--carry-current", help="With --log: carry the set and drift found at each fix on in the DR."),

@@ -107,7 +107,8 @@ def passage_paper(first_date: DateGiven, last_date: DateGiven, lat_deg: float | 
     """The paper for a passage from ``first_date`` to ``last_date`` (inclusive), planned along one of three DRs
     (:mod:`navred.jobs.passagedr`):
 
-    - a departure: (``lat_deg``, ``lon_deg``) at 00:00 local time of the first date, then ``course_deg`` at
+    - a departure: (``lat_deg``, ``lon_deg``) at 00:00 local time of the first date (or lying there until
+      ``depart``, ISO 8601 with a zone), then ``course_deg`` at
       ``speed_kn`` (both left out, or 0, for a fixed position);
     - ``route``: the waypoints of a route file (`navred route`'s CSV or GPX, or a list of waypoints written by
       hand) sailed at ``speed_kn``, leaving the first at ``depart`` (default 00:00 local time of the first date);
@@ -156,8 +157,9 @@ def _passage_dr(first, days, lat_deg, lon_deg, course_deg, speed_kn, route, depa
         raise NavredError(("the paper is planned along one DR; given " + " and ".join(given) + ": give one") if given
                           else "give the DR to plan along: a position (--lat, --lon) with --course and --speed, a "
                                "route (--route) with --speed, or a log with entry rows (--log)")
-    if depart is not None and route is None:
-        raise NavredError("--depart is the time she leaves a route's first waypoint: give it with --route")
+    if depart is not None and route is None and log is not None:
+        raise NavredError("--depart is the time she leaves a route's first waypoint or a departure position: a log "
+                          "gives its own departure")
     if vessel is not None and log is None:
         raise NavredError("--vessel names the vessel of a log: give it with --log")
     if route is not None:
@@ -177,8 +179,11 @@ def _passage_dr(first, days, lat_deg, lon_deg, course_deg, speed_kn, route, depa
         raise NavredError(f"{'--course' if speed_kn is None else '--speed'} without "
                           f"{'--speed' if speed_kn is None else '--course'}: a departure's DR needs both (leave both "
                           "out for a fixed position, at anchor or hove to)")
+    if depart is not None and not speed_kn:
+        raise NavredError("--depart is the time she leaves the position given on her course and speed: give --course "
+                          "and --speed (a fixed position does not depart)")
     return departure_dr(first, lat_deg, lon_deg, 0.0 if course_deg is None else course_deg,
-                        0.0 if speed_kn is None else speed_kn)
+                        0.0 if speed_kn is None else speed_kn, depart=depart, days=days)
 
 
 def _date(value: object, what: str) -> np.datetime64:

@@ -76,17 +76,37 @@ def _utc(ns) -> str:
 
 
 def departure_dr(first: np.datetime64, lat_deg: float, lon_deg: float, course_deg: float = 0.0,
-                 speed_kn: float = 0.0) -> PassageDR:
-    """The DR from (lat, lon) at 00:00 local time of the first date on one course and speed (0 for a fixed
-    position): the rhumb line, carried back along it before then."""
+                 speed_kn: float = 0.0, *, depart: object | None = None, days: int = 1) -> PassageDR:
+    """The DR from (lat, lon) at 00:00 local (mean) time of the first date on one course and speed (0 for a fixed
+    position): the rhumb line, carried back along it before then. With ``depart`` (ISO 8601 with a zone) she lies
+    at (lat, lon) until then, and sails from there on the course and speed."""
+    from ..reckoning import velocity_kn
+    from ..timescales import utc_datetime64
+
     check_position(lat_deg, lon_deg)
     course_deg, speed_kn = planner_number(course_deg, "course"), planner_number(speed_kn, "speed")
     start = local_midnight(first, lon_deg)
     moving = (f"then {course_deg:05.1f}° true at {speed_kn:.1f} kn along the rhumb line" if speed_kn > 0 else
               "a fixed position")
-    summary = f"DR from {_position(lat_deg, lon_deg)} at 00:00 local time of {first}, {moving}."
-    return PassageDR(steady_track(lat_deg, lon_deg, start, course_deg, speed_kn), start, "departure", summary, (),
-                     float(course_deg), float(speed_kn))
+    if depart is None:
+        summary = f"DR from {_position(lat_deg, lon_deg)} at 00:00 local time of {first}, {moving}."
+        return PassageDR(steady_track(lat_deg, lon_deg, start, course_deg, speed_kn), start, "departure", summary,
+                         (), float(course_deg), float(speed_kn))
+    leave = np.datetime64(utc_datetime64(depart), "ns").astype(np.int64)
+    north, east = velocity_kn(course_deg, speed_kn)
+    # lying at the position (known there) from three days before the paper or the departure, then sailing
+    since = min(leave, int(start.astype(np.int64))) - 3 * 24 * NS_PER_HOUR
+    track = DRTrack(np.array([since, leave]), np.array([0.0, float(north)]), np.array([0.0, float(east)]),
+                    np.array([since, leave]), np.array([float(lat_deg)] * 2), np.array([float(lon_deg)] * 2))
+    summary = (f"DR from {_position(lat_deg, lon_deg)}, where she lies until she departs at {_utc(leave)} UTC, "
+               f"{moving}.")
+    start = track_local_midnight(first, track)
+    warned: list[str] = []
+    if leave >= start.astype(np.int64) + days * 24 * NS_PER_HOUR:
+        warned.append(_warn(f"she departs at {_utc(leave)} UTC, after the paper's last day: every page is planned "
+                            "at the position given; check --depart and the dates"))
+    return PassageDR(track, start, "departure", summary, (), float(course_deg), float(speed_kn),
+                     warnings=tuple(warned))
 
 
 def route_passage_dr(first: np.datetime64, route, speed_kn: float, depart: object | None = None, *,

@@ -900,3 +900,16 @@ def test_a_departure_at_the_hour_she_sails(tmp_path, ts, eph):
     first = printed_rounds(made)[0]
     assert first["utc"] < DEPART and miss_nm(first["lat"], first["lon"], START_LAT, START_LON) < 0.01
     assert "where she lies until she departs at 2025-06-10 09:30 UTC" in " ".join(made["pages"][0].split())
+
+
+def test_the_sight_pages_say_the_rate_is_for_after_the_planned_time_only(paper):
+    """The rate is the mean of the ten minutes after the planned time; used back to nautical twilight it is minutes
+    of arc out for a planet, so each round's note says to work an earlier sight by the formulas page."""
+    rounds = printed_rounds(paper)
+    for page in paper["pages"]:
+        flat = " ".join(page.split())
+        if "Morning twilight: planned" in flat or "Evening twilight: planned" in flat:
+            count = flat.count("Morning twilight: planned") + flat.count("Evening twilight: planned")
+            assert flat.count("Only after the planned time: for a sight before it, work it by the formulas page") \
+                == count, flat[:200]
+    assert len(rounds) == 4

@@ -513,7 +513,8 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
             blocks.append(Text(f"{times}. For a "
                                f"sight m minutes after {hm(p.utc)} UTC: Hc = Hc + m × (Hc ′/min), Zn = Zn + m × "
                                "(Zn °/min), within 0.5′ for the minutes the rate holds (later, work it by the formulas "
-                               "page); plot every line from the DR above "
+                               "page). Only after the planned time: for a sight before it, work it by the formulas "
+                               "page (the rate is the ten minutes after). Plot every line from the DR above "
                                "and move it for the ship's run. Hs to preset: Hc with dip, refraction, SD, "
                                "parallax and index error taken back off. ● the recommended set.", "small"))
             stamp = str(p.utc.astype("datetime64[m]")).replace(":", "").replace("T", "-")

@@ -913,3 +913,28 @@ def test_the_sight_pages_say_the_rate_is_for_after_the_planned_time_only(paper):
             assert flat.count("Only after the planned time: for a sight before it, work it by the formulas page") \
                 == count, flat[:200]
     assert len(rounds) == 4
+
+
+def test_a_log_kept_in_zone_time_gives_the_paper_its_zone(tmp_path):
+    """A log whose sights are written in zone time with ZD +2 (not the +1 of its longitude): the paper's zone times
+    are the log's clocks (ZT = UTC − 2 h), and the cover says so; --zone still chooses another."""
+    from navred.jobs.paper import passage_paper
+
+    (tmp_path / "log.csv").write_text("date,zone_time,zone_description,entry,dr_lat,dr_lon,course,speed,body,limb,hs,"
+                                      "eye_height_m\n"
+                                      "2025-06-10,08:00,+2,departure,40 N,20 W,90,6,,,,\n"
+                                      "2025-06-10,10:00,+2,,,,,,Sun,lower,45 00.0,3\n", encoding="utf-8")
+    made = passage_paper(FIRST, LAST, log=tmp_path / "log.csv")
+    assert made.dr.zone_h == 2.0
+    for noon in made.noons:
+        assert noon.zone_h == 2.0
+    cover = " ".join(block.text for block in made.document.pages[0].blocks if hasattr(block, "text"))
+    assert "zone description +2 throughout (the zone the log keeps" in cover, cover
+    page = next(p for p in made.document.pages if p.title.startswith("Sights for"))
+    text = " ".join(block.text for block in page.blocks if hasattr(block, "text"))
+    found = re.search(r"Noon: the Sun on the meridian at (\d\d):(\d\d) zone time \(\+2\), (\d\d):(\d\d) UTC", text)
+    assert found, text
+    zone_h, zone_m, utc_h, utc_m = (int(v) for v in found.groups())
+    assert (utc_h * 60 + utc_m) - (zone_h * 60 + zone_m) == 120
+    other = passage_paper(FIRST, LAST, log=tmp_path / "log.csv", zone_description_h=1.0)
+    assert all(noon.zone_h == 1.0 for noon in other.noons)

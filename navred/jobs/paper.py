@@ -128,6 +128,9 @@ def passage_paper(first_date: DateGiven, last_date: DateGiven, lat_deg: float | 
                           "in parts")
     dr = _passage_dr(first, days, lat_deg, lon_deg, course_deg, speed_kn, route, depart, log, vessel, dates, rates,
                      carry_current)
+    zone_from_log = zone_description_h is None and dr.zone_h is not None
+    if zone_from_log:
+        zone_description_h = dr.zone_h  # the zone the log keeps: its clocks are the ship's
     events, plans = track_twilight_plans(dr.track, dr.start, days, eye_height_m=eye_height_m, count=count,
                                          min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg)
     track = events["track"]
@@ -222,7 +225,9 @@ def _document(first, days, hourly, stars, twilights, noons, dr: PassageDR, eye_h
 # --- The cover ---------------------------------------------------------------------------------
 
 def _cover(first, last, days, dr: PassageDR, eye_height_m, index_error_arcmin, zone_given, table_first, table_days):
-    zone = (f"zone description {zone_text(zone_given)} throughout" if zone_given is not None else
+    kept = " (the zone the log keeps, by its latest row in zone time; --zone to choose another)" if (
+        dr.kind == "log" and dr.zone_h is not None and zone_given == dr.zone_h) else ""
+    zone = (f"zone description {zone_text(zone_given)} throughout{kept}" if zone_given is not None else
             "the zone of the DR's longitude at each twilight and noon (ZT + ZD = UTC)")
     where = dr.summary + (" Its changes are listed on the next page." if dr.table else "")
     blocks = (

@@ -52,7 +52,8 @@ class PassageDR:
     day begins; ``kind`` is 'departure', 'route' or 'log'; ``summary`` what the cover says of it; ``table`` the
     changes of the DR as printed (header, CSV header, rows), empty for a departure; ``course_deg``/``speed_kn``
     those of a departure (NaN otherwise); ``warnings`` what is wrong with it for the paper's dates (each also
-    issued as a :class:`navred.errors.NavredWarning`), printed on the cover."""
+    issued as a :class:`navred.errors.NavredWarning`), printed on the cover; ``zone_h`` the zone description a log
+    keeps (its latest row's, as written), None otherwise."""
 
     track: DRTrack
     start: np.datetime64
@@ -62,6 +63,7 @@ class PassageDR:
     course_deg: float = float("nan")
     speed_kn: float = float("nan")
     warnings: tuple[str, ...] = ()
+    zone_h: float | None = None
 
 
 def _position(lat: float, lon: float) -> str:
@@ -195,7 +197,25 @@ def log_passage_dr(first: np.datetime64, days: int, source, *, vessel: str | Non
             f"the DR is carried {carried_days:.1f} days from the log's last known position (the "
             f"{kept.known_label[last]}, {_utc(kept.known_ns[last])} UTC) to the paper's first day: a DR so old "
             "may be far from the ship; enter a newer position, or check the dates"))
-    return PassageDR(track, start, "log", summary, table, warnings=tuple(warned))
+    return PassageDR(track, start, "log", summary, table, warnings=tuple(warned),
+                     zone_h=_zone_kept(voyage.log.table, name))
+
+
+def _zone_kept(table, vessel: str) -> float | None:
+    """The zone description the log keeps for ``vessel``: that of its latest row written in zone time, or None when
+    the log is kept in UTC alone."""
+    rows = table if not vessel or "vessel" not in table else table[table.vessel.fillna("") == vessel]
+    if "zone_description_used_h" not in rows:
+        return None
+    zones = rows.zone_description_used_h.to_numpy(dtype=float)
+    times = rows.sight_utc.to_numpy(dtype="datetime64[ns]") if "sight_utc" in rows else None
+    given = np.isfinite(zones)
+    if not given.any():
+        return None
+    if times is None:
+        return float(zones[given][-1])
+    k = np.flatnonzero(given)[np.argmax(times[given])]
+    return float(zones[k])
 
 
 def held_before_first_known(track: DRTrack, since: np.datetime64) -> DRTrack:

@@ -224,3 +224,17 @@ def test_a_card_from_too_few_headings_and_a_huge_deviation_are_flagged(tmp_path)
     assert "NOT A CARD TO STEER BY" in page and "row 3: deviation" in page
     sample = CliRunner().invoke(app, ["compass-book", BOOK])
     assert "WARNING" not in sample.stdout  # a swing through eight headings, deviations of a few degrees
+
+
+def test_one_compass_check_with_a_huge_deviation_says_so():
+    """navred compass with a bearing 20° off the Sun's true azimuth: the deviation is printed and flagged (a wrong
+    time, DR, body, variation or heading is likelier than such a compass); a bearing 2° off is not flagged."""
+    base = ["compass", "Sun", "--utc", "2026-03-26T17:30:00Z", "--lat", "43 20 N", "--lon", "013 10 W",
+            "--variation", "-4", "--heading", "215"]
+    from navred.jobs.compasswork import bearing_check
+
+    true = bearing_check("Sun", "2026-03-26T17:30:00Z", 43 + 20 / 60, -(13 + 10 / 60)).zn_deg
+    for off, flagged in ((20.0, True), (-2.0, False)):
+        result = CliRunner().invoke(app, base + ["--compass-bearing", f"{(true + 4.0 + off) % 360:.1f}"])
+        assert result.exit_code == 0, result.output
+        assert ("WARNING: a deviation over 10°" in result.stdout) == flagged, result.stdout

@@ -151,6 +151,11 @@ def bearing_check_lines(check) -> list[str]:
     if check.compass_bearing_deg is not None:
         lines.append(f"  compass {check.compass_bearing_deg:05.1f}°: compass error {_east_west(check.compass_error_deg)}, "
                      f"variation {_east_west(check.variation_deg)}, deviation {_east_west(check.deviation_deg)}")
+        from ..jobs.compasswork import LARGE_DEVIATION_DEG
+
+        if check.deviation_deg is not None and abs(check.deviation_deg) > LARGE_DEVIATION_DEG:
+            lines.append(f"  WARNING: a deviation over {LARGE_DEVIATION_DEG:g}°: check the time (UTC), the DR, the body, "
+                         "the variation and the heading before trusting it")
     return lines
 
 

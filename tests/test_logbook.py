@@ -380,6 +380,27 @@ def test_automatic_fix_groups_are_one_observers_sights_within_two_hours(tmp_path
     assert groups[2] == "2026-03-26 1945Z B" and groups[3] == "2026-03-27 0500Z A"
 
 
+def test_two_ships_sights_are_never_one_fix_group(tmp_path):
+    # two ships' officers of the watch, both logged as "OOW", at the same minute with no fix group written:
+    # two groups, named by their ship; a label written alike by both ships is two groups too
+    path = write(tmp_path, ["UTC,Body,HS,Eye_Height_M,DR_Lat,DR_Lon,Observer,Vessel,Fix_Group",
+                            "2026-03-26T19:41:00Z,Sirius,30 02.4,2.8,43 14 N,13 04 W,OOW,Alba,",
+                            "2026-03-26T19:44:00Z,Vega,30 02.4,2.8,43 14 N,13 04 W,OOW,Alba,",
+                            "2026-03-26T19:41:00Z,Sirius,40 02.4,2.8,12 14 S,80 04 E,OOW,Brise,",
+                            "2026-03-26T19:43:00Z,Vega,20 02.4,2.8,12 14 S,80 04 E,OOW,Brise,",
+                            "2026-03-27T05:00:00Z,Vega,30 02.4,2.8,43 14 N,13 04 W,OOW,Alba,dawn",
+                            "2026-03-27T05:00:00Z,Vega,30 02.4,2.8,12 14 S,80 04 E,OOW,Brise,dawn"])
+    groups = read_sight_log(path).sights.fix_group.tolist()
+    assert groups[:4] == ["Alba: 2026-03-26 1941Z OOW"] * 2 + ["Brise: 2026-03-26 1941Z OOW"] * 2
+    assert groups[4:] == ["Alba: dawn", "Brise: dawn"]
+    # a label only one ship uses, or a row naming no ship, keeps its label as written
+    path = write(tmp_path, ["UTC,Body,HS,Eye_Height_M,DR_Lat,DR_Lon,Observer,Vessel,Fix_Group",
+                            "2026-03-27T05:00:00Z,Vega,30 02.4,2.8,43 14 N,13 04 W,OOW,Alba,dawn",
+                            "2026-03-27T05:02:00Z,Deneb,30 02.4,2.8,43 14 N,13 04 W,OOW,,dawn",
+                            "2026-03-27T05:00:00Z,Vega,30 02.4,2.8,12 14 S,80 04 E,OOW,Brise,dusk"])
+    assert read_sight_log(path).sights.fix_group.tolist() == ["dawn", "dawn", "dusk"]
+
+
 # --- files that are not sight logs --------------------------------------------------------
 
 @pytest.mark.parametrize("content, fragment", [

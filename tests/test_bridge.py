@@ -184,3 +184,20 @@ def test_a_course_without_a_speed_is_refused_and_a_missing_eye_is_said():
     assert result.exit_code == 0 and "warning: no --eye given" in result.stderr and "no --eye" not in result.stdout
     result = CliRunner().invoke(app, base + ["--eye", "3 m"])
     assert result.exit_code == 0 and "no --eye" not in result.stderr
+
+
+def test_an_event_that_does_not_happen_is_blank_in_every_csv(tmp_path):
+    """At 75° N on the solstice the Sun neither rises nor sets and there is no twilight (common practice: the
+    midnight sun): the plan's CSV files leave those cells blank (never '-' or its formula-safe form "'-"), the
+    text says '-' and why."""
+    runner = CliRunner()
+    result = runner.invoke(app, ["plan", "--date", "2026-06-21", "--lat", "75 N", "--lon", "030 W", "--course", "90",
+                                 "--speed", "10", "--eye", "3 m", "-o", str(tmp_path / "p.csv")])
+    assert result.exit_code == 0, result.output
+    events = pd.read_csv(tmp_path / "p.csv", dtype=str, keep_default_na=False)
+    for column in ("sunrise_utc", "sunset_zone_time", "nautical_dawn_utc", "civil_dusk_zone_time"):
+        assert events[column].tolist() == [""], column
+    assert events["meridian_passage_utc"].iloc[0].startswith("2026-06-21 ")
+    for path in tmp_path.glob("*.csv"):
+        assert "'-" not in path.read_text() and ",-," not in path.read_text(), path.name
+    assert "'-': the event does not happen that day" in result.stdout

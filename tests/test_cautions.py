@@ -121,3 +121,20 @@ def test_every_workbook_sheet_prints_one_page_wide_with_the_caution_in_its_foote
         working = book["Working"] if "Working" in book.sheetnames else None
         if working is not None:
             assert working.print_title_rows == "$1:$1"
+
+
+def test_the_readme_and_the_workbook_name_the_low_sight_the_code_warns_of():
+    # the altitude below which a sight is warned as low (navred.corrections.LOW_ALTITUDE_DEG) is the one the
+    # README's safety section and the workbook's caution name, and the log column the README points to exists
+    import re
+    from pathlib import Path
+
+    from navred.corrections import LOW_ALTITUDE_DEG
+    from navred.io.workbook import SAFETY
+    from navred.vocabulary import COLUMN
+
+    readme = Path("README.md").read_text(encoding="utf-8")
+    line = next(text for text in readme.splitlines() if "**Low sights**" in text)
+    assert [float(v) for v in re.findall(r"below (\d+(?:\.\d+)?)°", line)] == [LOW_ALTITUDE_DEG]
+    assert [float(v) for v in re.findall(r"below (\d+(?:\.\d+)?)° of altitude", SAFETY)] == [LOW_ALTITUDE_DEG]
+    assert "`sigma` column" in line and "sigma" in COLUMN

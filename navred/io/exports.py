@@ -86,25 +86,29 @@ def _gpx_point(parent, tag: str, point: GpxPoint) -> None:
 def write_gpx(path: str | Path, *, waypoints: Iterable[GpxPoint] = (), routes: Iterable[GpxRoute] = (),
               tracks: Iterable[GpxTrack] = (), inputs: Iterable[str] = ()) -> Path:
     """A GPX 1.1 file of waypoints, routes and tracks, with the caution in its metadata; ``inputs``: the
-    files the run read (never written over)."""
+    files the run read (never written over). A route without points, a track without a segment of two
+    points and an empty segment are left out: a chart plotter shows an empty element as a nameless item."""
     ET.register_namespace("", GPX_NAMESPACE)
     root = ET.Element(f"{{{GPX_NAMESPACE}}}gpx", {"version": "1.1", "creator": f"navred {__version__}"})
     gpx_with_caution(root, GPX_NAMESPACE)
     for point in waypoints:
         _gpx_point(root, "wpt", point)
-    for route in routes:
+    for route in (r for r in routes if len(r.points)):
         rte = ET.SubElement(root, f"{{{GPX_NAMESPACE}}}rte")
-        ET.SubElement(rte, f"{{{GPX_NAMESPACE}}}name").text = route.name
-        ET.SubElement(rte, f"{{{GPX_NAMESPACE}}}cmt").text = CAUTION
-        ET.SubElement(rte, f"{{{GPX_NAMESPACE}}}desc").text = route.description
+        for child, text in (("name", route.name), ("cmt", CAUTION), ("desc", route.description)):
+            if text:
+                ET.SubElement(rte, f"{{{GPX_NAMESPACE}}}{child}").text = text
         for point in route.points:
             _gpx_point(rte, "rtept", point)
     for track in tracks:
+        segments = [segment for segment in track.segments if len(segment) >= 2]
+        if not segments:
+            continue
         trk = ET.SubElement(root, f"{{{GPX_NAMESPACE}}}trk")
-        ET.SubElement(trk, f"{{{GPX_NAMESPACE}}}name").text = track.name
-        ET.SubElement(trk, f"{{{GPX_NAMESPACE}}}cmt").text = CAUTION
-        ET.SubElement(trk, f"{{{GPX_NAMESPACE}}}type").text = track.kind
-        for segment in track.segments:
+        for child, text in (("name", track.name), ("cmt", CAUTION), ("type", track.kind)):
+            if text:
+                ET.SubElement(trk, f"{{{GPX_NAMESPACE}}}{child}").text = text
+        for segment in segments:
             trkseg = ET.SubElement(trk, f"{{{GPX_NAMESPACE}}}trkseg")
             for point in segment:
                 _gpx_point(trkseg, "trkpt", point)

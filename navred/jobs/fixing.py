@@ -26,7 +26,7 @@ from .voyage import GroupFix, VoyageResult, fix_groups, process_log
 MERIDIAN_LHA_DEG = 0.25
 
 #: The columns of the fixes table (:func:`fixes_table`), one row per fix group, decimal degrees.
-FIX_COLUMNS = ("fix_group", "utc", "kind", "lat_deg", "lon_deg", "sights", "sigma_arcmin", "quantile",
+FIX_COLUMNS = ("fix_group", "utc", "kind", "lat_deg", "lon_deg", "sights", "sigma_arcmin", "weighted", "quantile",
                "ellipse_length_nm", "ellipse_width_nm", "ellipse_semi_major_nm", "ellipse_semi_minor_nm",
                "ellipse_orientation_deg", "flagged", "left_out", "all_sights_lat_deg", "all_sights_lon_deg",
                "dr_distance_nm", "chart_distance_nm", "chart_inside_ellipse", "note")
@@ -74,7 +74,11 @@ def fixes_table(voyage: VoyageResult, groups: tuple[GroupFix, ...] | None = None
         every = fix.all_sights
         rows.append({"fix_group": group.name, "utc": str(fix.utc)[:23] + "Z", "kind": fix.kind,
                      "lat_deg": fix.lat_deg, "lon_deg": fix.lon_deg, "sights": int(fix.used.sum()),
-                     "sigma_arcmin": fix.sigma_arcmin, "quantile": fix.quantile,
+                     "sigma_arcmin": fix.sigma_arcmin,
+                     "weighted": " ".join(labels[group.rows[i]] for i in range(len(group.rows))
+                                          if fix.used[i] and fix.weight.size == len(group.rows)
+                                          and fix.weight[i] != 1.0),
+                     "quantile": fix.quantile,
                      "ellipse_length_nm": 2 * fix.ellipse_semi_major_nm,
                      "ellipse_width_nm": 2 * fix.ellipse_semi_minor_nm,
                      "ellipse_semi_major_nm": fix.ellipse_semi_major_nm,

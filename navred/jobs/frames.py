@@ -138,7 +138,8 @@ def fix_position(reduced: pd.DataFrame, at_utc: Instant | None = None, *, group:
         reduced["dr_lat_deg"].to_numpy(dtype=float), reduced["dr_lon_deg"].to_numpy(dtype=float),
         usable=usable, course_deg=column("course_deg", course_deg), speed_kn=column("speed_kn", speed_kn),
         at_utc=at_utc, chart_lat=chart_lat, chart_lon=chart_lon, solve_motion=solve_motion, set_deg=set_deg,
-        drift_kn=drift_kn, labels=row_labels(reduced))
+        drift_kn=drift_kn, labels=row_labels(reduced),
+        sigma_arcmin=reduced["sigma_arcmin"].to_numpy(dtype=float) if "sigma_arcmin" in reduced.columns else None)
 
 
 def one_fix_group(reduced: pd.DataFrame, group: str | None = None) -> pd.DataFrame:

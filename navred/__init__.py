@@ -29,11 +29,13 @@ FUNCTIONS = {
     "read_track": "io.track",  # a reference track (GPX, NMEA, CSV) -> ReferenceTrack
     "read_rating_log": "io.timesignals",  # time signals -> Ratings of each timepiece
     "read_deviation_card": "io.cards",  # a deviation card (CSV) -> a table
+    "passage_paper": "jobs.paper",  # the printed backup of a passage along a DR -> PassagePaper
 }
 #: The results those functions return (frozen dataclasses).
 RESULTS = {
     "SightLog": "io.logbook", "VoyageResult": "jobs.voyage", "GroupFix": "jobs.voyage", "FixResult": "fix", "GroupedFixes": "jobs.frames",
     "Places": "almanac", "MarkingReport": "jobs.workings", "ReferenceTrack": "io.track", "Ratings": "io.timesignals",
+    "PassagePaper": "jobs.paper",
 }
 #: The errors navred raises (all NavredError, a ValueError) and the warning it gives.
 ERRORS = {

@@ -268,13 +268,14 @@ def _body_codes(body, shape) -> tuple[list[str], np.ndarray]:
     first = ""
     for k, spelling in enumerate(spellings.tolist()):  # plain str: a message never shows numpy's repr
         try:
-            canonical.append(canonical_body_name(spelling))
+            canonical.append(canonical_body_name(str(spelling)))
         except BodyNameError as exc:
             canonical.append("")
             bad[k] = True
             first = first or str(exc)
     if bad.any():
-        raise BodyNameError(f"unknown bodies in {failed_elements(bad[inverse].reshape(names.shape))}; first: {first}")
+        where = failed_elements(bad[inverse].reshape(names.shape))
+        raise BodyNameError(first if where == "the value" else f"unknown bodies ({where}); the first: {first}")
     distinct = list(dict.fromkeys(canonical))
     to_distinct = np.array([distinct.index(c) for c in canonical], dtype=np.intp)
     return distinct, np.broadcast_to(to_distinct[inverse].reshape(names.shape), shape)

@@ -67,23 +67,31 @@ class NavredWarning(UserWarning):
 
 
 def failed_elements(mask: np.ndarray, limit: int = 10) -> str:
-    """Describe which elements of an array failed a check, for an error message.
+    """Describe which values of an array failed a check, for an error message a person reads: 'the value'
+    for one, else which of them counted from 1 (never a program's indices from 0).
 
     >>> import numpy as np
     >>> failed_elements(np.array([False, True, True]))
-    '2 of 3 elements (indices 1, 2)'
-    >>> failed_elements(np.array(True))
+    'values 2 and 3 of 3'
+    >>> failed_elements(np.array([True]))
     'the value'
+    >>> failed_elements(np.array([True, False]))
+    'value 1 of 2'
+    >>> failed_elements(np.arange(30) > 5)
+    'values 7, 8, 9, 10, 11, 12, 13, 14, 15, 16 and 14 more of 30'
     """
     import numpy as np
 
     mask = np.asarray(mask, dtype=bool)
-    if mask.ndim == 0:
+    if mask.size == 1:
         return "the value"
-    flat = np.flatnonzero(mask.ravel())
-    shown = ", ".join(str(i) for i in flat[:limit])
-    more = f", ... ({flat.size - limit} more)" if flat.size > limit else ""
-    return f"{flat.size} of {mask.size} elements (indices {shown}{more})"
+    flat = np.flatnonzero(mask.ravel()) + 1
+    shown = [str(i) for i in flat[:limit].tolist()]
+    if flat.size > limit:
+        return f"values {', '.join(shown)} and {flat.size - limit} more of {mask.size}"
+    if len(shown) == 1:
+        return f"value {shown[0]} of {mask.size}"
+    return f"values {', '.join(shown[:-1])} and {shown[-1]} of {mask.size}"
 
 
 def first_bad(values: np.ndarray, mask: np.ndarray) -> object:

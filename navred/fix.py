@@ -15,7 +15,7 @@ from numpy.typing import ArrayLike
 from .errors import NavredError
 from .fixbatch import SightRows, fix_batch
 from .fixresult import FixResult, GroupFixes
-from .fixstats import DR_ERROR_FRACTION, DR_ERROR_KN
+from .fixstats import A_PRIORI_SIGMA_ARCMIN, DR_ERROR_FRACTION, DR_ERROR_KN
 from .grosserrors import check_fixes, leave_out_gross, mark_untrusted, misread_rounds
 from .timescales import utc_datetime64
 from .triangle import distance_bearing
@@ -47,7 +47,8 @@ def fixes_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike,
                       solve_motion: bool = False, set_deg: ArrayLike | None = None, drift_kn: ArrayLike | None = None,
                       labels: ArrayLike | None = None, dr_error_kn: float = DR_ERROR_KN,
                       dr_error_fraction: float = DR_ERROR_FRACTION, refit: bool = True,
-                      dr_age_hours: ArrayLike | None = None, hs_deg: ArrayLike | None = None) -> GroupFixes:
+                      dr_age_hours: ArrayLike | None = None, hs_deg: ArrayLike | None = None,
+                      sigma_arcmin: ArrayLike | None = None) -> GroupFixes:
     """Fix many groups of sights at once: one least-squares solve for every group, padded.
 
     The arrays are one element per sight (1-D), as for :func:`fix_from_sights`; ``group``
@@ -64,6 +65,11 @@ def fixes_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike,
     possible blunders are left out of a check fix (``without_outliers``). With ``hs_deg`` (each sight's
     sextant altitude as read), a round whose Hs read as degrees and minutes written as a decimal agree is marked
     as not to be trusted, before any sight is left out; so is one whose sights still scatter beyond a sextant.
+
+    ``sigma_arcmin``: each sight's own standard error (arcminutes; NaN or None: a sight as good as any). The fix
+    then weighs each sight by w = (A_PRIORI_SIGMA_ARCMIN / σᵢ)² (weighted least squares, and its statistics on
+    the whitened sights: :func:`navred.fixkinds.solve_fix_part`); the σ given is relative, the round's own
+    scatter still sets the ellipse. Without it every weight is 1 and the fix is the unweighted one, bit for bit.
     """
     gha, dec, ho = (np.atleast_1d(np.asarray(v, dtype=float)) for v in (gha_deg, dec_deg, ho_deg))
     n_rows = gha.size
@@ -74,12 +80,13 @@ def fixes_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike,
         return np.array(np.broadcast_to(np.asarray(values, dtype=float), (n_rows,)), dtype=float)
 
     drift = per_row(drift_kn, 0.0) if set_deg is not None else np.zeros(n_rows)
+    weight = sight_weights(per_row(sigma_arcmin), labels)
     sights = SightRows(
         gha, dec, ho, np.array(np.broadcast_to(utc_datetime64(utc), (n_rows,))), per_row(dr_lat_deg), per_row(dr_lon_deg),
         per_row(course_deg), per_row(speed_kn), np.nan_to_num(per_row(set_deg, 0.0)), np.nan_to_num(drift),
         per_row(dr_age_hours),
         np.arange(1, n_rows + 1).astype(str) if labels is None else np.asarray(labels).astype(str),
-        solve_motion, dr_error_kn, dr_error_fraction)
+        solve_motion, dr_error_kn, dr_error_fraction, weight)
     group = np.array(np.broadcast_to(np.asarray(group, dtype=np.intp), (n_rows,)))
     n_groups = int(group.max()) + 1 if n_rows and group.max() >= 0 else 0
     ok = (group >= 0) & np.isfinite(gha) & np.isfinite(dec) & np.isfinite(ho) & ~np.isnat(sights.utc)
@@ -98,6 +105,23 @@ def fixes_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike,
         _cross_check_all(results, np.broadcast_to(np.asarray(chart_lat, dtype=float), (n_groups,)),
                          np.broadcast_to(np.asarray(chart_lon, dtype=float), (n_groups,)))
     return GroupFixes(results, problems)
+
+
+def sight_weights(sigma_arcmin: np.ndarray, labels=None) -> np.ndarray:
+    """Each sight's weight in the fix, (A_PRIORI_SIGMA_ARCMIN / σ)², from its own standard error in arcminutes (NaN:
+    a sight as good as any, weight 1). A σ that is not a positive number is refused, naming its sights.
+
+    >>> sight_weights(np.array([np.nan, 1.0, 2.0, 0.5])).tolist()
+    [1.0, 1.0, 0.25, 4.0]
+    """
+    sigma = np.asarray(sigma_arcmin, dtype=float)
+    bad = ~np.isnan(sigma) & ~(np.isfinite(sigma) & (sigma > 0))
+    if bad.any():
+        names = (np.arange(1, sigma.size + 1).astype(str) if labels is None else np.asarray(labels).astype(str))
+        shown = ", ".join(f"{name} ({value:g}′)" for name, value in zip(names[bad][:8], sigma[bad][:8].tolist()))
+        raise NavredError(f"a sight's σ must be a positive number of arcminutes; not so for {shown}")
+    with np.errstate(divide="ignore"):
+        return np.where(np.isnan(sigma), 1.0, (A_PRIORI_SIGMA_ARCMIN / np.where(np.isnan(sigma), 1.0, sigma)) ** 2)
 
 
 def _cross_check_all(results: list[FixResult | None], chart_lat: np.ndarray, chart_lon: np.ndarray) -> None:
@@ -132,7 +156,8 @@ def fix_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, u
                     solve_motion: bool = False, set_deg: ArrayLike | None = None,
                     drift_kn: ArrayLike | None = None, labels: ArrayLike | None = None,
                     dr_error_kn: float = DR_ERROR_KN, dr_error_fraction: float = DR_ERROR_FRACTION,
-                    dr_age_hours: ArrayLike | None = None, hs_deg: ArrayLike | None = None) -> FixResult:
+                    dr_age_hours: ArrayLike | None = None, hs_deg: ArrayLike | None = None,
+                    sigma_arcmin: ArrayLike | None = None) -> FixResult:
     """The least-squares fix from reduced sights, one element per sight (1-D arrays).
 
     ``gha_deg``, ``dec_deg`` and ``ho_deg`` of each sight, its ``utc`` (datetime64, taken as
@@ -148,7 +173,9 @@ def fix_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, u
     each sight's DR is, for the check of the fix against it (default: not known, taken as a day).
     With ``solve_motion`` the course and speed made good are solved as well when the sights
     support it. A chart or GNSS position (``chart_lat``/``chart_lon``) is cross-checked. ``hs_deg``: each
-    sight's Hs as read, for the check of a round written in degrees and minutes as a decimal.
+    sight's Hs as read, for the check of a round written in degrees and minutes as a decimal. ``sigma_arcmin``:
+    each sight's own standard error, weighing it in the fix (NaN: a sight as good as any; see
+    :func:`fixes_from_sights`).
     ``labels`` name the sights in messages (default: 1, 2, ...). One group of
     :func:`fixes_from_sights`.
     """
@@ -158,10 +185,10 @@ def fix_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, u
         course_deg=course_deg, speed_kn=speed_kn, at_utc=at_utc,
         chart_lat=np.nan if chart_lat is None else chart_lat, chart_lon=np.nan if chart_lon is None else chart_lon,
         solve_motion=solve_motion, set_deg=set_deg, drift_kn=drift_kn, labels=labels, dr_error_kn=dr_error_kn,
-        dr_error_fraction=dr_error_fraction, dr_age_hours=dr_age_hours, hs_deg=hs_deg)
+        dr_error_fraction=dr_error_fraction, dr_age_hours=dr_age_hours, hs_deg=hs_deg, sigma_arcmin=sigma_arcmin)
     if batch.results[0] is None:
         raise NavredError(batch.problems[0])
     return batch.results[0]
 
 
-__all__ = ["fixes_from_sights", "fix_from_sights", "FixResult", "GroupFixes"]
+__all__ = ["fixes_from_sights", "fix_from_sights", "sight_weights", "FixResult", "GroupFixes"]

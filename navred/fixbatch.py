@@ -45,6 +45,8 @@ class SightRows:
     solve_motion: bool
     dr_error_kn: float
     dr_error_fraction: float
+    #: each sight's weight, (A_PRIORI_SIGMA_ARCMIN / its own σ)² (1: a sight as good as any)
+    weight: np.ndarray | None = None
 
 
 def subset_groups(group: np.ndarray, chosen: list[int], n_groups: int) -> np.ndarray:
@@ -111,6 +113,7 @@ class _Layout:
     n_used: np.ndarray
     run_nm: np.ndarray  # the longest run between a sight and the fix time
     polar: np.ndarray  # a running fix carried through (or next to) a pole: refused
+    weight: np.ndarray  # each sight's weight (1: a sight as good as any)
 
 
 def _layout(s: SightRows, group, n_groups, ok, weighted, work, fix_time_given) -> _Layout:
@@ -148,8 +151,9 @@ def _layout(s: SightRows, group, n_groups, ok, weighted, work, fix_time_given) -
     lat0, lon0 = dr_lat[:, -1], dr_lon[:, -1]
     run_nm = np.where(present, run_to_fix_nm(track), 0.0).max(axis=1)
     polar = (run_nm > 0) & (np.abs(lat0) + run_nm / ARCMIN_PER_DEG > 90.0 - POLAR_RUN_LIMIT_DEG)
+    weight = np.ones(index.shape) if s.weight is None else s.weight[index]
     return _Layout(work, index, present, use, last, last_row, fix_time, hours, vn, ve, run_from, track,
-                   s.gha[index], s.dec[index], s.ho[index], lat0, lon0, use.sum(axis=1), run_nm, polar)
+                   s.gha[index], s.dec[index], s.ho[index], lat0, lon0, use.sum(axis=1), run_nm, polar, weight)
 
 
 def _kinds(s: SightRows, lay: _Layout):
@@ -182,11 +186,13 @@ def _solve_kinds(s: SightRows, lay: _Layout, motion, line, spread0) -> dict:
             velocity0 = (np.where(lay.use[rows], lay.vn[rows], 0.0).sum(1) / lay.n_used[rows],
                          np.where(lay.use[rows], lay.ve[rows], 0.0).sum(1) / lay.n_used[rows])
             parts[k] = (rows, solve_fix_part(k, rows, lay.gha, lay.dec, lay.ho, lay.use, lay.present, lay.track,
-                                             lay.lat0, lay.lon0, velocity0, s.dr_error_kn, s.dr_error_fraction))
+                                             lay.lat0, lay.lon0, velocity0, s.dr_error_kn, s.dr_error_fraction,
+                                             lay.weight))
     if line.any():
         rows = np.flatnonzero(line)
         parts["line"] = (rows, solve_line_part(rows, lay.gha, lay.dec, lay.ho, lay.use, lay.present, lay.track,
-                                               lay.lat0, lay.lon0, spread0, s.dr_error_kn, s.dr_error_fraction))
+                                               lay.lat0, lay.lon0, spread0, s.dr_error_kn, s.dr_error_fraction,
+                                               lay.weight))
     return parts
 
 
@@ -227,6 +233,7 @@ def _row_columns(lay: _Layout, parts: dict, lines: dict, n_rows: int, group, n_g
     shown_out = lay.present & ~lay.use
     columns["outlier"] = in_group_order(outlier | shown_out, False, bool)
     columns["used"] = in_group_order(lay.use, False, bool)
+    columns["weight"] = in_group_order(lay.weight, 1.0)
     columns["left_out"] = in_group_order(shown_out, False, bool)
     columns["gross"] = in_group_order(gross, False, bool)
     columns["clear_blunder"] = in_group_order(clear, False, bool)

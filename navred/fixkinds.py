@@ -46,6 +46,10 @@ MERIDIAN_AZIMUTH_DEG = 10.0
 
 _NAT = np.datetime64("NaT")
 
+#: How σ reads when the log weighs some sights by their own σ.
+WEIGHTED_WORDS = ("; the sights weighted by the σ the log gives them, 1/σ²: this σ is that of a sight the log "
+                  "gives none (1′ as given), a sight of σ s′ is taken as good to s times it")
+
 
 @dataclass(frozen=True)
 class Part:
@@ -59,9 +63,18 @@ class Part:
     result: Callable[[int], FixResult | None]
 
 
-def solve_fix_part(k, rows, gha, dec, ho, use, present, track, lat0, lon0, velocity0, dr_error_kn, dr_error_fraction):
+def solve_fix_part(k, rows, gha, dec, ho, use, present, track, lat0, lon0, velocity0, dr_error_kn, dr_error_fraction,
+                   weight=None):
     """Fix the groups ``rows`` with k unknowns (2: position; 4: position, course and speed made
     good) in one solve; returns a function giving group j's FixResult (per-sight arrays padded).
+
+    ``weight`` (groups, sights): each sight's weight w = (σ₀/σᵢ)², σ₀ = A_PRIORI_SIGMA_ARCMIN (1 for a sight
+    the log gives no σ). The fix is then the weighted least-squares one, x = (AᵀWA)⁻¹AᵀW r, and every statistic
+    below is worked on the whitened sights (each residual and each row of A times √w, the run's covariance
+    D C D with D = diag √w), in which the sights' errors are again alike: σ is that of a sight of unit weight
+    (one the log gives no σ), a sight of weight w is taken as good to σ/√w, and the blunder test and the ellipse
+    follow (C. F. Gauss's weighted least squares; any text on adjustment computations, e.g. P. D. Ghilani,
+    *Adjustment Computations*, ch. 10; from memory). With every weight 1 this is the unweighted fix, bit for bit.
 
     σ is estimated from the residuals with no floor (Σr²/ν; with a run, the restricted likelihood that
     weighs out the DR error's share, :func:`sight_variance`); the position's covariance is
@@ -71,31 +84,33 @@ def solve_fix_part(k, rows, gha, dec, ho, use, present, track, lat0, lon0, veloc
     """
     motion = k == 4
     u = use[rows]
+    w = np.ones(u.shape) if weight is None else np.where(u, weight[rows], 1.0)
     sub_track = track.take(rows)
     core = solve_fixes(gha[rows], dec[rows], ho[rows], lat0[rows], lon0[rows], dt_hours=sight_hours(sub_track),
                        velocity_north_kn=sub_track.north_kn[..., :-1], velocity_east_kn=sub_track.east_kn[..., :-1],
-                       mask=u, report=present[rows], solve_motion=motion, velocity0_kn=velocity0, mark_singular=True,
-                       track=sub_track)
-    st = _fix_statistics(core, u, sub_track, k, dr_error_kn, dr_error_fraction)
+                       weights=w, mask=u, report=present[rows], solve_motion=motion, velocity0_kn=velocity0,
+                       mark_singular=True, track=sub_track)
+    st = _fix_statistics(core, u, sub_track, k, dr_error_kn, dr_error_fraction, np.sqrt(w))
+    st["weighted"] = np.any(u & (w != 1.0), axis=1)
     return Part(core.residual_arcmin, st["outlier"], st["gross"], st["clear"], _fix_results(core, st, k))
 
 
 def _fix_statistics(core: CoreFixes, u: np.ndarray, sub_track, k: int, dr_error_kn: float,
-                    dr_error_fraction: float) -> dict[str, np.ndarray]:
+                    dr_error_fraction: float, root_w: np.ndarray) -> dict[str, np.ndarray]:
     """Each fix's σ, covariance, ellipse, effective degrees of freedom, crossing and blunder test (arrays over
-    the fixes; see :func:`solve_fix_part`)."""
+    the fixes; see :func:`solve_fix_part`), worked on the sights whitened by ``root_w`` (√ of each weight)."""
     motion = k == 4
     n = u.sum(axis=1)
     dof = n - k
-    residual = np.where(u, core.residual_arcmin, 0.0)
-    unit, jac = core.covariance_nm2, core.jacobian
+    residual = np.where(u, core.residual_arcmin * root_w, 0.0)
+    unit, jac = core.covariance_nm2, core.jacobian * root_w[..., None]  # (ÃᵀÃ)⁻¹ = (AᵀWA)⁻¹ already
     width = u.shape[1]
     if motion:  # no known run: the motion itself was solved
         run_cov = np.zeros((u.shape[0], width, width))
     else:
         run_cov = run_error_covariance(np.where(u, core.zn_deg, 0.0), sight_hours(sub_track),
                                        run_to_fix_nm(sub_track), dr_error_kn, dr_error_fraction)
-        run_cov = run_cov * u[:, :, None] * u[:, None, :]
+        run_cov = run_cov * (u * root_w)[:, :, None] * (u * root_w)[:, None, :]
     gain = unit @ np.swapaxes(jac, 1, 2)  # x = gain @ residual: the least-squares estimator
     projector = np.eye(width)[None] * u[:, :, None] - jac @ gain  # M = I − H on the used sights
     variance = sight_variance(residual, projector, run_cov, dof)
@@ -110,7 +125,7 @@ def _fix_statistics(core: CoreFixes, u: np.ndarray, sub_track, k: int, dr_error_
     scale = np.sqrt(2.0 * f_2_quantile(CONFIDENCE, nu))
     major, minor, orientation = error_ellipse(covariance[:, :2, :2], scale)
     leverage = np.einsum("fsi,fij,fsj->fs", jac, unit, jac)
-    outlier, gross, clear, detectable = blunder_test(residual, leverage, u, dof, sigma)
+    outlier, gross, clear, detectable = blunder_test(residual, leverage, u, dof, sigma, root_w)
     speed_sigma = np.sqrt(np.trace(covariance[:, 2:, 2:], axis1=1, axis2=2)) if motion else np.zeros(u.shape[0])
     return {"n": n, "dof": dof, "sigma": sigma, "position_cov": covariance[:, :2, :2], "scale": scale, "major": major,
             "minor": minor, "orientation": orientation, "spread": azimuth_spread_many(core.zn_deg, u), "nu": nu,
@@ -125,7 +140,7 @@ def _fix_results(core: CoreFixes, st: dict[str, np.ndarray], k: int) -> Callable
     lat, lon = core.lat_deg.tolist(), core.lon_deg.tolist()
     numbers = {name: st[name].tolist() for name in ("sigma", "major", "minor", "orientation", "scale", "spread",
                                                      "speed_sigma", "nu", "detectable", "dof", "n", "run_included",
-                                                     "weight")}
+                                                     "weight", "weighted")}
     steps_l, converged_l, singular_l = (core.iterations_each.tolist(), core.converged.tolist(),
                                         core.singular.tolist())
     position_cov = st["position_cov"]
@@ -142,6 +157,8 @@ def _fix_results(core: CoreFixes, st: dict[str, np.ndarray], k: int) -> Callable
             source = f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight, no redundancy"
             warnings_.append(f"{n} sights and {k} unknowns: no redundancy, so the ellipse rests on an "
                              f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight and there is no check on a blunder")
+        if numbers["weighted"][j]:
+            source += WEIGHTED_WORDS
         spread = numbers["spread"][j]
         if spread < WEAK_CROSSING_DEG:
             warnings_.append(f"weak fix: the lines of position cross at {spread:.0f}° at most (azimuths "
@@ -171,15 +188,20 @@ def _fix_results(core: CoreFixes, st: dict[str, np.ndarray], k: int) -> Callable
     return result
 
 
-def solve_line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0, dr_error_kn, dr_error_fraction):
+def solve_line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0, dr_error_kn, dr_error_fraction,
+                    weight=None):
     """Groups whose lines of position (nearly) coincide: one combined line each, worked from the DR.
 
     Each line, advanced to the fix time, lies a_j miles from the DR toward its azimuth Z_j; the
     combined line runs across the mean azimuth Z (the axial mean) and lies p miles from the DR,
     the least-squares p = Σ a_j c_j / Σ c_j² with c_j = cos(Z_j − Z). Its 95 % band is Student's t
     with n − 1 degrees of freedom (an effective number when the DR's error over the run is part of it).
+    With ``weight`` w_j (:func:`solve_fix_part`) the sums are weighted, p = Σ w_j a_j c_j / Σ w_j c_j², Z the
+    weighted axial mean, and the statistics are those of the whitened sights.
     """
     u = use[rows]
+    w = np.ones(u.shape) if weight is None else np.where(u, weight[rows], 1.0)
+    root_w = np.sqrt(w)
     shown = present[rows]
     sub_track = track.take(rows)
     sight_lat, sight_lon = at_sights(sub_track, lat0[rows], lon0[rows])
@@ -187,24 +209,25 @@ def solve_line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0
     intercept_all = (ho[rows] - hc) * ARCMIN_PER_DEG
     intercept = np.where(u, intercept_all, 0.0)
     doubled = np.radians(2.0 * zn)
-    toward = np.degrees(np.arctan2(np.where(u, np.sin(doubled), 0.0).sum(1),
-                                   np.where(u, np.cos(doubled), 0.0).sum(1))) / 2.0
+    toward = np.degrees(np.arctan2(np.where(u, w * np.sin(doubled), 0.0).sum(1),
+                                   np.where(u, w * np.cos(doubled), 0.0).sum(1))) / 2.0
     cosines_all = np.cos(np.radians(zn - toward[:, None]))
     cosines = np.where(u, cosines_all, 0.0)
-    flip = np.sum(intercept * cosines, axis=1) < 0  # point the line's azimuth to the side it lies on
+    flip = np.sum(w * intercept * cosines, axis=1) < 0  # point the line's azimuth to the side it lies on
     toward = wrap_360(np.where(flip, toward + 180.0, toward))
     cosines = np.where(flip[:, None], -cosines, cosines)
     cosines_all = np.where(flip[:, None], -cosines_all, cosines_all)
-    weight = np.sum(cosines**2, axis=1)
-    offset = np.sum(intercept * cosines, axis=1) / weight
+    cosines = cosines * root_w  # whitened: each line's row and intercept times √w
+    total = np.sum(cosines**2, axis=1)
+    offset = np.sum(intercept * root_w * cosines, axis=1) / total
     residual = np.where(shown, intercept_all - offset[:, None] * cosines_all, np.nan)
-    r = np.where(u, residual, 0.0)
+    r = np.where(u, residual * root_w, 0.0)
     n = u.sum(axis=1)
     dof = n - 1
     run_cov = run_error_covariance(np.where(u, zn, 0.0), sight_hours(sub_track), run_to_fix_nm(sub_track),
                                    dr_error_kn, dr_error_fraction)
-    run_cov = run_cov * u[:, :, None] * u[:, None, :]
-    gain = cosines / weight[:, None]
+    run_cov = run_cov * (u * root_w)[:, :, None] * (u * root_w)[:, None, :]
+    gain = cosines / total[:, None]
     projector = np.eye(u.shape[1])[None] * u[:, :, None] - cosines[:, :, None] * gain[:, None, :]
     sights_variance = sight_variance(r, projector, run_cov, dof)
     sigma2, information = sights_variance.working, sights_variance.information
@@ -220,13 +243,14 @@ def solve_line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0
     near_meridian = np.minimum(np.abs(wrap_180(zn)), np.abs(wrap_180(zn - 180.0))) <= MERIDIAN_AZIMUTH_DEG
     meridian = np.all(near_meridian | ~u, axis=1)
     along = wrap_axial(toward + 90.0)
-    outlier, gross, clear, detectable = blunder_test(r, cosines * gain, u, dof, sigma)
+    outlier, gross, clear, detectable = blunder_test(r, cosines * gain, u, dof, sigma, root_w)
+    weighted = np.any(u & (w != 1.0), axis=1)
     run_included = run_cov.any(axis=(1, 2))
 
     def result(j: int) -> FixResult:
         d = int(dof[j])
         source = (sigma_source(d, float(sights_variance.weight[j]), bool(run_included[j])) if d >= 1
-                  else f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight")
+                  else f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight") + (WEIGHTED_WORDS if weighted[j] else "")
         side = "toward" if offset[j] >= 0 else "away from"
         what = "a latitude (the sights are on the meridian)" if meridian[j] else "a line of position"
         message = (f"not a fix: the lines of position cross at {spread0[rows[j]]:.0f}° at most (below "
@@ -249,4 +273,4 @@ def solve_line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0
     return Part(residual, outlier, gross, clear, result)
 
 
-__all__ = ["WEAK_CROSSING_DEG", "MERIDIAN_AZIMUTH_DEG", "Part", "solve_fix_part", "solve_line_part"]
+__all__ = ["WEIGHTED_WORDS", "WEAK_CROSSING_DEG", "MERIDIAN_AZIMUTH_DEG", "Part", "solve_fix_part", "solve_line_part"]

@@ -8,11 +8,28 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .angles import wrap_axial
 from .status import FixKind, RunFrom
 from .triangle import distance_bearing
 
 #: Lines of position that cross at less than this make a line (or a latitude), not a fix.
 LINE_ONLY_DEG = 15.0
+
+
+def angle_of_cut_deg(zn_deg) -> float:
+    """The angle of cut of lines of position, 0°-90°: the widest acute angle at which two of them cross (each
+    line runs across its azimuth, so lines whose azimuths differ by d cross at d or 180° − d, whichever is
+    less; common practice). NaN with fewer than two lines.
+
+    >>> angle_of_cut_deg([113.5, 180.2, 233.1])
+    66.7
+    """
+    directions = wrap_axial(np.asarray(zn_deg, dtype=float))
+    directions = directions[np.isfinite(directions)]
+    if directions.size < 2:
+        return float("nan")
+    d = np.abs(directions[:, None] - directions[None, :])
+    return round(float(np.minimum(d, 180.0 - d).max()), 10)
 
 
 EMPTY_ROWS = np.zeros(0)
@@ -79,6 +96,8 @@ class FixResult:
     gross: np.ndarray = field(default_factory=lambda: EMPTY_ROWS)
     #: per input row: a flagged sight of this fix that the blunder test also flags at BLUNDER_CLEAR_ALPHA
     clear_blunder: np.ndarray = field(default_factory=lambda: EMPTY_ROWS)
+    #: per input row: the sight's weight in the fix, (A_PRIORI_SIGMA_ARCMIN / its own σ)², 1 where the log gives no σ
+    weight: np.ndarray = field(default_factory=lambda: EMPTY_ROWS)
     #: per input row: a sight left out of this fix by the blunder test alone (flagged, not a gross error)
     blunder_left_out: np.ndarray = field(default_factory=lambda: EMPTY_ROWS)
     #: the fix from every sight, when a sight was left out of this one (a gross error, or flagged by the test)
@@ -141,6 +160,28 @@ class FixResult:
         return f"{2 * a:.1f} × {2 * b:.1f} nm, semi-axes {a:.1f} × {b:.1f} nm"
 
     @property
+    def angle_of_cut_deg(self) -> float:
+        """The angle of cut of the lines the fix used, 0°-90° (:func:`angle_of_cut_deg`)."""
+        zn = np.asarray(self.lop_zn_deg, dtype=float)
+        use = np.asarray(self.used, dtype=bool) if np.size(self.used) == zn.size else np.ones(zn.size, dtype=bool)
+        if np.size(self.left_out) == zn.size:
+            use = use & ~np.asarray(self.left_out, dtype=bool)
+        return angle_of_cut_deg(zn[use])
+
+    @property
+    def weighted(self) -> bool:
+        """Whether the log weighs some sight of this fix by its own σ (a weight other than 1)."""
+        return bool(np.any(np.asarray(self.weight)[np.asarray(self.used, dtype=bool)] != 1.0)) \
+            if np.size(self.weight) == np.size(self.used) else False
+
+    @property
+    def sight_sigma_arcmin(self) -> np.ndarray:
+        """Per input row: the standard error the fix takes each sight to have, σ/√w (σ the round's, that of a
+        sight of weight 1; w the sight's weight)."""
+        weight = np.asarray(self.weight, dtype=float) if np.size(self.weight) else np.ones(np.size(self.used))
+        return self.sigma_arcmin / np.sqrt(weight)
+
+    @property
     def standard_error_nm(self) -> float:
         """Root of the trace of the position covariance: the fix's standard error, nm."""
         return float(np.sqrt(np.trace(self.covariance_nm2)))
@@ -177,4 +218,4 @@ class GroupFixes:
 PARALLEL_LINES = "the lines of position are parallel (all azimuths alike or opposite): no fix"
 
 
-__all__ = ["LINE_ONLY_DEG", "EMPTY_ROWS", "ChartCheck", "FixResult", "GroupFixes", "PARALLEL_LINES"]
+__all__ = ["angle_of_cut_deg", "LINE_ONLY_DEG", "EMPTY_ROWS", "ChartCheck", "FixResult", "GroupFixes", "PARALLEL_LINES"]

@@ -239,7 +239,7 @@ def effective_dof(dof: ArrayLike, sigma2: ArrayLike, trace_p: ArrayLike, trace_k
     return np.where(plain, nu, np.where(np.isfinite(out), np.maximum(out, 1.0), np.inf))
 
 
-def blunder_test(residual, leverage, use, dof, sigma):
+def blunder_test(residual, leverage, use, dof, sigma, root_w=None):
     """The blunder test of every sight of a batch of groups (groups, sights): flags, gross errors, clear
     blunders (flagged at BLUNDER_CLEAR_ALPHA too), and the smallest blunder the test finds about half the time
     (per group).
@@ -252,8 +252,13 @@ def blunder_test(residual, leverage, use, dof, sigma):
     fixes, whatever n. A sight is flagged only if its line also lies BLUNDER_MIN_ARCMIN from the fix of
     the others (r_i / (1 − h_ii)), and is gross beyond doubt beyond GROSS_ARCMIN. Three sights for two
     unknowns (ν = 1) cannot single one out: their residuals are one misfit seen from each.
+
+    Weighted sights (``root_w``, √ of each weight) come whitened (residuals times √w, leverages of the
+    whitened rows): t_i is then the same statistic, and a line's distance from the fix of the others, in
+    arcminutes, is r_i / (√w_i (1 − h_ii)); the smallest blunder found is that of a sight of unit weight.
     """
     r = np.where(use, residual, 0.0)
+    root = np.ones(r.shape) if root_w is None else np.where(use, root_w, 1.0)
     miss = np.clip(1.0 - leverage, 1e-12, 1.0)
     n = use.sum(axis=1)
     total = np.sum(r**2, axis=1, keepdims=True)
@@ -264,7 +269,7 @@ def blunder_test(residual, leverage, use, dof, sigma):
     t = np.where(np.abs(r) > 0, np.nan_to_num(t, nan=np.inf, posinf=np.inf), 0.0)
     critical = np.where(testable, student_t_quantile(1.0 - BLUNDER_ALPHA / (2.0 * np.maximum(n, 1)),
                                                      np.where(testable, dof - 1.0, 1.0)), np.inf)
-    off = np.abs(r) / miss  # the line's distance from the fix of the others
+    off = np.abs(r) / miss / root  # the line's distance from the fix of the others (arcminutes)
     outlier = use & testable[:, None] & (t > critical[:, None]) & (off > BLUNDER_MIN_ARCMIN)
     gross = outlier & (off > GROSS_ARCMIN)
     strict = np.where(testable, student_t_quantile(1.0 - BLUNDER_CLEAR_ALPHA / (2.0 * np.maximum(n, 1)),
@@ -272,7 +277,8 @@ def blunder_test(residual, leverage, use, dof, sigma):
     clear = outlier & (t > strict[:, None])
     detectable = np.full(len(r), np.nan)
     if testable.any():
-        per_sight = critical[testable, None] * np.asarray(sigma)[testable, None] / np.sqrt(miss[testable])
+        per_sight = (critical[testable, None] * np.asarray(sigma)[testable, None] / np.sqrt(miss[testable])
+                     / root[testable])
         detectable[testable] = np.nanmedian(np.where(use[testable], per_sight, np.nan), axis=1)
     return outlier, gross, clear, np.maximum(detectable, BLUNDER_MIN_ARCMIN)
 

@@ -133,23 +133,25 @@ def _gross_by_leaving_out(sights: SightRows, group, ok, left_out, wild: list[int
         sub = replace(sights, gha=sights.gha[rows], dec=sights.dec[rows], ho=sights.ho[rows], utc=sights.utc[rows],
                       dr_lat=sights.dr_lat[rows], dr_lon=sights.dr_lon[rows], course=sights.course[rows],
                       speed=sights.speed[rows], set_deg=sights.set_deg[rows], drift_kn=sights.drift_kn[rows],
-                      dr_age_h=sights.dr_age_h[rows], names=sights.names[rows])
+                      dr_age_h=sights.dr_age_h[rows], names=sights.names[rows],
+                      weight=None if sights.weight is None else sights.weight[rows])
         times = np.array([results[g].utc for g in owner], dtype="datetime64[ns]")
         trials, _ = fix_batch(sub, np.concatenate(copies_group), len(owner), np.ones(rows.size, dtype=bool),
                                np.concatenate(copies_left), times)
-        best: dict[int, tuple[float, list[int], np.ndarray, int]] = {}
+        best: dict[int, tuple[float, list[int], np.ndarray, int, np.ndarray]] = {}
         for c, (g, chosen) in enumerate(zip(owner, dropped)):
             trial = trials[c]
             if trial is None or trial.redundant < 1 or trial.scatter_impossible:
                 continue
             misses = np.array([float(trial.residual_arcmin[np.flatnonzero(copies_rows[c] == row)[0]])
                                for row in chosen])
+            roots = np.sqrt(np.ones(len(chosen)) if sights.weight is None else sights.weight[chosen])
             if g not in best or trial.sigma_arcmin < best[g][0]:
-                best[g] = (trial.sigma_arcmin, chosen, misses, trial.redundant)
-        for g, (sigma, chosen, misses, d) in best.items():
+                best[g] = (trial.sigma_arcmin, chosen, misses, trial.redundant, roots)
+        for g, (sigma, chosen, misses, d, roots) in best.items():
             n = d + 2 + size  # the sights of the fix of the others (two unknowns) and those left out
-            limit = float(student_t_quantile(1.0 - BLUNDER_ALPHA / (2.0 * n), d)) * sigma
-            if np.all(np.abs(misses) > max(GROSS_ARCMIN, limit)):
+            limit = float(student_t_quantile(1.0 - BLUNDER_ALPHA / (2.0 * n), d)) * sigma / roots  # σ of each
+            if np.all((np.abs(misses) > GROSS_ARCMIN) & (np.abs(misses) > limit)):
                 found[g] = chosen
     return found
 
@@ -190,8 +192,9 @@ def misread_rounds(sights: SightRows, hs_deg: np.ndarray, group, n_groups, ok, r
         result, trial = results[g], again[j]
         if trial is None or trial.redundant < 1 or trial.sigma_arcmin > SEXTANT_SIGMA_LIMIT_ARCMIN:
             continue
-        written = float(np.nansum(result.residual_arcmin[result.used] ** 2))
-        read = float(np.nansum(trial.residual_arcmin[trial.used] ** 2))
+        weight = result.weight[result.used] if result.weight.size == result.used.size else 1.0
+        written = float(np.nansum(weight * result.residual_arcmin[result.used] ** 2))
+        read = float(np.nansum(weight * trial.residual_arcmin[trial.used] ** 2))
         if written < DECIMAL_EVIDENCE * read:
             continue
         found.add(g)

@@ -212,6 +212,8 @@ class InstantAlmanac:
     v_arcmin: np.ndarray
     #: the hourly change of Dec over the same hour, + northward (:func:`hourly_d_arcmin`)
     d_arcmin: np.ndarray
+    #: the instant as UTC text to the microsecond, no zone (a leap second written as the 23:59:60 it is)
+    utc_text: str = ""
 
 
 def almanac_at(bodies: str | list[str] | tuple[str, ...], utc: object, dut1_s: float | None = None) -> InstantAlmanac:
@@ -253,7 +255,7 @@ def almanac_at(bodies: str | list[str] | tuple[str, ...], utc: object, dut1_s: f
             out["d"][moving] = hourly_d_arcmin(dec[0], dec[1])
     return InstantAlmanac(tuple(canonical.tolist()), when, float(inst.dut1_s[0]), str(inst.ut1_source[0]), gha_aries,
                           out["gha"], out["dec"], out["sha"], out["ra"], out["hp"], out["sd"], out["km"], out["v"],
-                          out["d"])
+                          out["d"], str(np.ravel(inst.utc_text(6))[0]))
 
 
 @dataclass(frozen=True)

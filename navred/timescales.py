@@ -101,6 +101,24 @@ class Instants:
         """UTC as numpy datetime64[ns]; a leap second 23:59:60.x is shown as 23:59:59.999999999."""
         return utc_jd_to_datetime64(self.utc1, self.utc2)
 
+    def utc_text(self, decimals: int = 3) -> np.ndarray:
+        """UTC as ISO 8601 text ('2016-12-31T23:59:60.500', no zone), to ``decimals`` of a second; a leap
+        second is written as the :60 it is (ERFA's d2dtf, the UTC calendar of the leap-second table), never
+        as 23:59:59.999.
+
+        >>> instants(np.array(["2016-12-31T23:59:60.5Z"], dtype=object)).utc_text(1).tolist()
+        ['2016-12-31T23:59:60.5']
+        """
+        import erfa
+
+        year, month, day, hmsf = erfa.d2dtf("UTC", decimals, np.atleast_1d(self.utc1), np.atleast_1d(self.utc2))
+        fields = hmsf.view(np.int32).reshape(-1, 4) if hmsf.dtype.names is None else np.stack(
+            [hmsf[name] for name in hmsf.dtype.names], axis=-1).reshape(-1, 4)
+        texts = [f"{y:04d}-{m:02d}-{d:02d}T{h:02d}:{mi:02d}:{sec:02d}" + (f".{frac:0{decimals}d}" if decimals else "")
+                 for y, m, d, (h, mi, sec, frac) in zip(year.ravel().tolist(), month.ravel().tolist(),
+                                                         day.ravel().tolist(), fields.tolist())]
+        return np.array(texts, dtype=object).reshape(np.shape(self.utc1))
+
     def __getitem__(self, index) -> Instants:
         return Instants(*(np.asarray(getattr(self, f))[index] for f in INSTANT_FIELDS))
 
@@ -236,6 +254,16 @@ def offset_minutes(zone: str) -> float:
         raise TimeInputError(f"UTC offset {zone!r} is not a real one: offsets lie within ±14:00 and their "
                              "minutes below 60")
     return float((hours * 60 + minutes) * (-1 if match.group(1) == "-" else 1))
+
+
+def iso_zone_missing(text: str) -> bool:
+    """Whether ISO 8601 date-time text gives no zone (no Z and no offset); False for anything else.
+
+    >>> iso_zone_missing("2026-03-26 19:41:00"), iso_zone_missing("2026-03-26T19:41:00Z")
+    (True, False)
+    """
+    match = _ISO.match(text)
+    return bool(match) and match.group(7) is None
 
 
 def _components_from_one(value, index) -> tuple:
@@ -627,15 +655,15 @@ def _dut1_s(mjd: np.ndarray, tai_utc: np.ndarray, dut1_s: ArrayLike | None, pre_
         source[before] = _SOURCE_CODE[UT1_BEFORE]
         if beyond.any():
             warnings.warn(
-                f"instants after {table.last_predicted_date}, the end of the IERS table "
-                f"({failed_elements(beyond)}): DUT1 is held at its last predicted value {table.dut1_s[-1]:+.3f} s. Take DUT1 "
-                "from a radio time signal (dut1_s=...) if you can: every 0.9 s of DUT1 error is "
-                "0.225′ of GHA, about 0.2 nautical mile of longitude at the equator.",
+                f"{_instants(beyond)} after {table.last_predicted_date}, the end of the IERS table: DUT1 is held at "
+                f"its last predicted value {table.dut1_s[-1]:+.3f} s. Take DUT1 from a radio time signal if you can "
+                "(the log's dut1 column, --dut1 on the command line, dut1_s= in Python): every 0.9 s of DUT1 error "
+                "is 0.225′ of GHA, about 0.2 nautical mile of longitude at the equator.",
                 NavredWarning, stacklevel=3)
         before_utc_table = before & ~pre_utc
         if before_utc_table.any():
             warnings.warn(
-                f"instants before the IERS table of 1973-01-02 ({failed_elements(before_utc_table)}): DUT1 is "
+                f"{_instants(before_utc_table)} before the IERS table of 1973-01-02: DUT1 is "
                 "taken as 0 s, good to about 0.1 s from 1960 to 1972 when UTC was steered to UT1 "
                 "(at most 0.025′ of GHA).", NavredWarning, stacklevel=3)
         if given.any():
@@ -653,10 +681,17 @@ def _warn_leap_seconds_expired(utc1: np.ndarray, utc2: np.ndarray, pre_utc: np.n
     late = ~pre_utc & ((utc1 + utc2) > sum(expiry_jd))
     if late.any():
         warnings.warn(
-            f"instants after {expires.isoformat()}, the expiry date of the installed leap-second "
-            f"table ({failed_elements(late)}): a leap second may have been announced since. Update "
-            "astropy-iers-data; until then TT may be 1 s out (about 0.5″ of the Moon's place, which moves about 33′ an hour).",
+            f"{_instants(late)} after {expires.isoformat()}, the expiry date of the installed leap-second "
+            "table: a leap second may have been announced since. UTC as kept aboard is right whatever the table "
+            "says (check the chronometer against a radio time signal), but the almanac's time scales may be 1 s "
+            "out (TT: about 0.5″ of the Moon's place, which moves about 33′ an hour; UT1 and so GHA: 15″, 0.25′ of "
+            "longitude, unless DUT1 is taken from a time signal). Update astropy-iers-data.",
             NavredWarning, stacklevel=3)
+
+
+def _instants(mask: np.ndarray) -> str:
+    """The instants a warning is about, in words: 'the instant' for one, else which (counted from 1)."""
+    return "the instant is" if np.asarray(mask).size == 1 else f"{failed_elements(mask).capitalize()} are instants"
 
 
 def _tt_and_ut1(utc1, utc2, tai_utc, covered, dut1, pre_utc):

@@ -91,12 +91,23 @@ def parse_date(value: object, order: str | None = None, *, declarable: bool = Tr
                                      f"({ACCEPTED_DATES})")
             a, b, year = int(a), int(b), int(year_text)
             if order is None:
+                day_first, month_first = _reading(year, b, a), _reading(year, a, b)
+                valid = [r for r in (day_first, month_first) if r != "not a date"]
+                what = ("has two readings" if len(valid) == 2 else
+                        "is not a date either way" if not valid else
+                        "is read by the order of the log's dates, which is not declared")
                 raise TimeInputError(
-                    f"date {value!r} is not ISO 8601 and has two readings: day-first it is "
-                    f"{_reading(year, b, a)}, month-first {_reading(year, a, b)}; write it as "
-                    "ISO 8601 (YYYY-MM-DD)" + (", or declare the order of the whole log (--dates day-first "
-                                               "or --dates month-first)" if declarable else ""))
+                    f"date {value!r} is not ISO 8601 and {what}: day-first it is {day_first}, month-first "
+                    f"{month_first}; write it as ISO 8601 (YYYY-MM-DD)" + (
+                        ", or declare the order of the whole log (--dates day-first or --dates month-first: a log "
+                        "writes all its dates one way)" if declarable else ""))
             day, month = (a, b) if order == "day-first" else (b, a)
+            if not _valid_date(year, month, day):
+                other = "month-first" if order == "day-first" else "day-first"
+                raise TimeInputError(
+                    f"date {value!r} read {order}, as declared (--dates {order}), is not a date (no day {day} in "
+                    f"month {month} of {year}); {other} it would be {_reading(year, day, month)}, but a log writes "
+                    "all its dates one way: check this one")
         else:
             named = _NAMED_DAY_FIRST.match(text) or _NAMED_MONTH_FIRST.match(text)
             if not named:

@@ -109,6 +109,11 @@ COLUMNS: tuple[Column, ...] = (
     Column("pressure", ("pressure", "air_pressure", "barometer", "baro"), "number",
            "air pressure, for refraction, in hPa (mb), inHg or mmHg (the header names which)",
            units=("hpa", "inhg", "mmhg"), low=850.0, high=1100.0, default=1010.0),
+    Column("sigma", ("sigma", "sight_sigma", "standard_error", "std_error"), "number",
+           "the sight's own standard error (arcminutes), weighting it in the fix by 1/σ² against the others: a "
+           "low sight, the Moon, a doubtful horizon (2′, say); blank: a sight as good as any (1′, its weight "
+           "relative; the fix still judges the whole round's error by its scatter)",
+           units=("arcmin",), default_unit="arcmin", low=0.1, high=30.0),
     Column("dr_lat", ("dr_lat", "dr_latitude", "lat_dr", "latitude_dr"), "lat",
            "DR latitude at the sight: 43 14.1 N, or a signed decimal (north positive, ISO 6709); blank: carried "
            "from the log's departure or last known position (an entry row); on a departure or position entry: "

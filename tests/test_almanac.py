@@ -173,7 +173,7 @@ def test_bad_input_errors_say_what_is_accepted():
         body_positions("Sun", "1850-02-01T19:00Z")
     with pytest.raises(TimeInputError, match="finite"):
         body_positions("Sun", "2026-02-01T19:00Z", dut1_s=np.inf)
-    with pytest.raises(BodyNameError, match=r"1 of 2 elements \(indices 1\)"):
+    with pytest.raises(BodyNameError, match=r"value 2 of 2"):
         body_positions(["Sun", "Vegga"], "2026-02-01T19:00Z")
 
 

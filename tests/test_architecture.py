@@ -17,7 +17,7 @@ PACKAGE = ROOT / "navred"
 #: The computational core, flat in navred/: numpy, pyerfa, jplephem and the standard library only.
 CORE = ("angles", "timescales", "ephemeris", "stars", "epochs", "almanac", "corrections", "triangle", "stats", "fix",
         "plan", "series", "lunar", "constants", "errors", "vocabulary", "timework", "sailings", "marking", "reckoning",
-        "rating", "handtables", "presets", "compass", "marking_judge", "marking_sight", "marking_methods",
+        "rating", "handtables", "handworking", "presets", "compass", "marking_judge", "marking_sight", "marking_methods",
         "marking_checks", "status", "events", "leastsquares", "fixstats", "fixresult", "fixkinds", "fixbatch",
         "grosserrors", "sensechecks", "latitudes", "sightplan", "magnitudes", "identify")
 CORE_LIBRARIES = {"numpy", "erfa", "jplephem"}

@@ -75,10 +75,15 @@ def test_every_gpx_and_geojson_carries_the_caution(tmp_path):
         gpx = gpxpy.parse(files[name].read_text(encoding="utf-8"))
         assert gpx.description == CAUTION, name
         assert gpx.waypoints or gpx.routes
+        # and beside every waypoint, route and track, for a plotter that imports them alone
+        for item in [*gpx.waypoints, *gpx.routes, *gpx.tracks]:
+            assert item.comment == CAUTION, (name, item.name)
     assert ROUTE_CAUTION in gpxpy.parse(files["route.gpx"].read_text(encoding="utf-8")).routes[0].description
     for name in ("fixes.geojson", "route.geojson"):
         collection = json.loads(files[name].read_text(encoding="utf-8"))
         assert collection["type"] == "FeatureCollection" and collection["navred"]["caution"] == CAUTION
+        assert collection["features"] and all(f["properties"]["navred_caution"] == CAUTION
+                                              for f in collection["features"])
 
 
 def test_the_route_says_to_check_the_chart_beside_its_legs():
@@ -116,3 +121,20 @@ def test_every_workbook_sheet_prints_one_page_wide_with_the_caution_in_its_foote
         working = book["Working"] if "Working" in book.sheetnames else None
         if working is not None:
             assert working.print_title_rows == "$1:$1"
+
+
+def test_the_readme_and_the_workbook_name_the_low_sight_the_code_warns_of():
+    # the altitude below which a sight is warned as low (navred.corrections.LOW_ALTITUDE_DEG) is the one the
+    # README's safety section and the workbook's caution name, and the log column the README points to exists
+    import re
+    from pathlib import Path
+
+    from navred.corrections import LOW_ALTITUDE_DEG
+    from navred.io.workbook import SAFETY
+    from navred.vocabulary import COLUMN
+
+    readme = Path("README.md").read_text(encoding="utf-8")
+    line = next(text for text in readme.splitlines() if "**Low sights**" in text)
+    assert [float(v) for v in re.findall(r"below (\d+(?:\.\d+)?)°", line)] == [LOW_ALTITUDE_DEG]
+    assert [float(v) for v in re.findall(r"below (\d+(?:\.\d+)?)° of altitude", SAFETY)] == [LOW_ALTITUDE_DEG]
+    assert "`sigma` column" in line and "sigma" in COLUMN

@@ -35,6 +35,12 @@ def test_errors_are_one_line_and_exit_1():
     result = runner.invoke(app, ["almanac", "Sirus", "--utc", "2026-03-20T18:42:10Z"])
     assert result.exit_code == 1
     assert "closest: Sirius" in result.output
+    # a person's words: no program's element counts or indices, no numpy names
+    assert result.output.startswith("navred: error: unknown body 'Sirus'; closest: Sirius")
+    for leak in ("elements", "indices", "np.str_", "1 of 1"):
+        assert leak not in result.output
+    several = runner.invoke(app, ["almanac", "Sun", "Sirus", "--utc", "2026-03-20T18:42:10Z"])
+    assert "(value 2 of 2)" in several.output and "indices" not in several.output
     assert "Traceback" not in result.output
     result = runner.invoke(app, ["almanac", "Sun", "--utc", "2026-03-20T18:42:10"])
     assert result.exit_code == 1
@@ -74,10 +80,10 @@ def test_reduce_explains_bad_rows_and_fails_only_when_nothing_reduced(tmp_path):
     log = tmp_path / "log.csv"
     log.write_text("utc,body,hs,eye_height_m,dr_lat,dr_lon\n"
                    "2026-03-26T19:41:00Z,Sirius,30 02.4,2.8,43 14 N,13 04 W\n"
-                   "2026-03-26T19:41:00,Sirius,30 02.4,2.8,43 14 N,13 04 W\n")
+                   "2026-03-26T19:41:00Z,Sirus,30 02.4,2.8,43 14 N,13 04 W\n")
     result = runner.invoke(app, ["reduce", str(log)])
     assert result.exit_code == 0
-    assert "not reduced" in result.output and "no time zone" in result.output
+    assert "not reduced" in result.output and "closest: Sirius" in result.output
     bad = tmp_path / "bad.csv"
     bad.write_text("utc,body,hs,eye_height_m,dr_lat,dr_lon\n2026-03-26T19:41:00,Sirus,95,2.8,43 14 N,13 04 W\n")
     result = runner.invoke(app, ["reduce", str(bad)])
@@ -182,6 +188,13 @@ def test_compass_and_identify_commands(tmp_path):
     found = runner.invoke(app, ["identify", "--utc", "2026-03-26T19:45:00Z", "--lat", "43 17 N", "--lon", "013 11 W",
                                 "--alt", "30", "--az", "186"])
     assert found.exit_code == 0 and found.output.splitlines()[1].split()[1] == "Sirius"
+    # each candidate's visual magnitude: Sirius about −1.5 in V (−1.1 in the catalogue's Hp), from memory
+    assert found.output.splitlines()[0].split()[2] == "mag." and -1.6 <= float(found.output.splitlines()[1].split()[2]) <= -1.0
+    ranked = pd.read_csv(io.StringIO(runner.invoke(app, [
+        "identify", "--utc", "2026-03-26T19:45:00Z", "--lat", "43 17 N", "--lon", "013 11 W", "--alt", "30", "--az",
+        "186", "--csv"]).stdout))
+    venus = float(ranked.loc[ranked.body == "Venus", "magnitude"].iloc[0])
+    assert -4.9 <= venus <= -3.7  # Venus is always about −4 (from memory)
 
 
 def test_series_and_lunar_commands(tmp_path):

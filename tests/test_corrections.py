@@ -65,7 +65,7 @@ def test_refraction_scales_with_density():
 def test_refraction_refuses_below_minus_one_and_above_90():
     with pytest.raises(SightInputError, match="-1° to 90°"):
         refraction_angle_arcmin(-1.5)
-    with pytest.raises(SightInputError, match=r"indices 1"):
+    with pytest.raises(SightInputError, match=r"value 2 of"):
         refraction_angle_arcmin([10.0, 91.0])
 
 
@@ -177,7 +177,7 @@ def test_the_chain_returns_every_line():
     assert "low sight" in result.warning[1]
     assert "outside the readings" in result.error[2] and np.isnan(result.ho_deg[2])
     assert result.error_column[2] == "hs"
-    with pytest.raises(SightInputError, match=r"indices 2"):
+    with pytest.raises(SightInputError, match=r"value 3 of"):
         result.raise_errors()
 
 

@@ -37,7 +37,6 @@ def reasons(log, row):
 # --- every bad value is named by its row and column --------------------------------------
 
 @pytest.mark.parametrize("bad_row, column, fragment", [
-    ("2026-03-26 19:41:00,Sirius,,30 02.4,0,2.8,43 14 N,13 04 W,x", "utc", "no time zone"),
     ("yesterday,Sirius,,30 02.4,0,2.8,43 14 N,13 04 W,x", "utc", "cannot read"),
     ("2026-03-26T19:41:00Z,Sirus,,30 02.4,0,2.8,43 14 N,13 04 W,x", "body", "closest: Sirius"),
     ("2026-03-26T19:41:00Z,Sirius,,95 00.0,0,2.8,43 14 N,13 04 W,x", "hs", "outside 0-90° for a sea horizon"),
@@ -67,6 +66,42 @@ def test_each_bad_row_gets_its_message_and_good_rows_survive(tmp_path, bad_row, 
     hit = log.rejected[log.rejected.column == column]
     assert list(hit.row) == [3], log.rejected
     assert fragment in hit.reason.iloc[0]
+
+
+def test_an_instant_without_a_zone_is_read_alike_as_text_and_as_a_cell(tmp_path):
+    """The utc column's name says UTC: an instant written there without Z, as text or as a spreadsheet
+    date-time cell (which cannot hold a zone), is taken as UTC alike, and the log's notes say so with its rows;
+    the same log saved from the spreadsheet as CSV reads the same (one way in, one answer). A non-ISO date in
+    it follows --dates like any other date."""
+    import openpyxl
+
+    text = read_sight_log(write(tmp_path, [HEADER, GOOD, GOOD.replace("2026-03-26T19:41:00Z", "2026-03-26 19:41:00")]))
+    assert len(text.sights) == 2 and text.rejected.empty
+    assert text.sights.sight_utc.iloc[1] == text.sights.sight_utc.iloc[0]
+    assert any("1 instant in the utc column gives no zone (row 3): taken as UTC" in n for n in text.notes)
+    book = openpyxl.Workbook()
+    sheet = book.active
+    sheet.append(HEADER.split(","))
+    for line in (GOOD, GOOD):
+        cells = line.split(",")
+        cells[0] = dt.datetime(2026, 3, 26, 19, 41)  # a date-time cell
+        sheet.append(cells)
+    book.save(tmp_path / "cells.xlsx")
+    cells = read_sight_log(tmp_path / "cells.xlsx")
+    assert list(cells.sights.sight_utc) == [text.sights.sight_utc.iloc[0]] * 2
+    assert any("2 instants in the utc column give no zone (row 2, row 3)" in n for n in cells.notes)
+    day_first = read_sight_log(write(tmp_path, [HEADER, GOOD.replace("2026-03-26T19:41:00Z", "26/03/2026 19:41:00")],
+                                     "day.csv"), dates="day-first")
+    assert day_first.sights.sight_utc.iloc[0] == text.sights.sight_utc.iloc[0] and day_first.notes
+    undeclared = read_sight_log(write(tmp_path, [HEADER, GOOD.replace("2026-03-26T19:41:00Z", "26/03/2026 19:41:00")],
+                                      "undeclared.csv"))
+    reason = undeclared.rejected.reason.iloc[0]
+    # 26/03 is only a date read day-first: the message does not call that two readings
+    assert "two readings" not in reason and "month-first not a date" in reason and "--dates day-first" in reason
+    wrong = read_sight_log(write(tmp_path, [HEADER, GOOD.replace("2026-03-26T19:41:00Z", "03/26/2026 19:41:00")],
+                                 "wrong.csv"), dates="day-first")
+    assert "read day-first, as declared (--dates day-first), is not a date" in wrong.rejected.reason.iloc[0]
+    assert "month-first it would be 2026-03-26" in wrong.rejected.reason.iloc[0]
 
 
 def test_the_minute_mark_before_the_point_is_read_as_tenths_of_a_minute(tmp_path):
@@ -378,6 +413,27 @@ def test_automatic_fix_groups_are_one_observers_sights_within_two_hours(tmp_path
     groups = read_sight_log(path).sights.fix_group.tolist()
     assert groups[0] == groups[1] == "2026-03-26 1941Z A"
     assert groups[2] == "2026-03-26 1945Z B" and groups[3] == "2026-03-27 0500Z A"
+
+
+def test_two_ships_sights_are_never_one_fix_group(tmp_path):
+    # two ships' officers of the watch, both logged as "OOW", at the same minute with no fix group written:
+    # two groups, named by their ship; a label written alike by both ships is two groups too
+    path = write(tmp_path, ["UTC,Body,HS,Eye_Height_M,DR_Lat,DR_Lon,Observer,Vessel,Fix_Group",
+                            "2026-03-26T19:41:00Z,Sirius,30 02.4,2.8,43 14 N,13 04 W,OOW,Alba,",
+                            "2026-03-26T19:44:00Z,Vega,30 02.4,2.8,43 14 N,13 04 W,OOW,Alba,",
+                            "2026-03-26T19:41:00Z,Sirius,40 02.4,2.8,12 14 S,80 04 E,OOW,Brise,",
+                            "2026-03-26T19:43:00Z,Vega,20 02.4,2.8,12 14 S,80 04 E,OOW,Brise,",
+                            "2026-03-27T05:00:00Z,Vega,30 02.4,2.8,43 14 N,13 04 W,OOW,Alba,dawn",
+                            "2026-03-27T05:00:00Z,Vega,30 02.4,2.8,12 14 S,80 04 E,OOW,Brise,dawn"])
+    groups = read_sight_log(path).sights.fix_group.tolist()
+    assert groups[:4] == ["Alba: 2026-03-26 1941Z OOW"] * 2 + ["Brise: 2026-03-26 1941Z OOW"] * 2
+    assert groups[4:] == ["Alba: dawn", "Brise: dawn"]
+    # a label only one ship uses, or a row naming no ship, keeps its label as written
+    path = write(tmp_path, ["UTC,Body,HS,Eye_Height_M,DR_Lat,DR_Lon,Observer,Vessel,Fix_Group",
+                            "2026-03-27T05:00:00Z,Vega,30 02.4,2.8,43 14 N,13 04 W,OOW,Alba,dawn",
+                            "2026-03-27T05:02:00Z,Deneb,30 02.4,2.8,43 14 N,13 04 W,OOW,,dawn",
+                            "2026-03-27T05:00:00Z,Vega,30 02.4,2.8,12 14 S,80 04 E,OOW,Brise,dusk"])
+    assert read_sight_log(path).sights.fix_group.tolist() == ["dawn", "dawn", "dusk"]
 
 
 # --- files that are not sight logs --------------------------------------------------------

@@ -66,13 +66,14 @@ def test_every_row_comes_back_in_order_with_status_and_message():
     })
     reduced = reduce_sights(sights)
     assert list(reduced.remark) == ["A", "B", "C", "D"]  # unknown columns carried through, in order
-    assert list(reduced.status[1:]) == ["error", "error", "error"]
+    assert list(reduced.status[2:]) == ["error", "error"]
     assert reduced.status[0] == "warning" and "below the horizon" in reduced.message[0]
-    assert "no time zone" in reduced.message[1]
+    # the UTC column's name says UTC: an instant there without a zone is taken as UTC, as a date-time cell is
+    assert reduced.sight_utc[1] == reduced.sight_utc[0] and reduced.status[1] == "warning"
     assert "closest: Sirius" in reduced.message[2]
     assert "outside 0-90°" in reduced.message[3]
     assert set(RESULT_COLUMNS) <= set(reduced.columns)
-    assert np.isfinite(reduced.ho_deg[0]) and np.isnan(reduced.ho_deg[1])
+    assert np.isfinite(reduced.ho_deg[0]) and np.isnan(reduced.ho_deg[2])
     assert reduced.intercept_direction[0] in ("TOWARD", "AWAY")
 
 

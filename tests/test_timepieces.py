@@ -115,7 +115,7 @@ def test_the_predicted_error_times_sights_kept_by_the_chronometer(tmp_path):
     assert log.n_rejected_rows == 0
     off = (log.table.sight_utc - true_utc).dt.total_seconds().abs()
     assert off.max() < 0.2, off.max()  # the noise of the signals over a week's rating, and 3 days' extrapolation
-    assert log.table.watch_error_from.str.startswith("Chrono A rated: rate +0.5").all()
+    assert log.table.watch_error_from.str.startswith("Chrono A rated: gaining 0.5").all()
     # the same fixes as the demo kept in UTC, to the time's agreement
     rated = process_log(log, plan=False)
     demo = process_log("sample_sights/demo_sights.csv", plan=False)
@@ -141,6 +141,7 @@ def test_rate_command_workbook_sheet_and_rates_option(tmp_path):
     result = runner.invoke(app, ["rate", str(signals)])
     assert result.exit_code == 0, result.output
     assert result.output.startswith("Chrono A: 8 comparisons") and "s a day (95 %)" in result.output
+    assert "gaining " in result.output and "rate +" not in result.output  # the trade's words, never a signed rate
     table = pd.read_csv(io.StringIO(runner.invoke(app, ["rate", str(signals), "--csv"]).stdout))
     assert {"error_s", "residual_s"} <= set(table.columns) and len(table) == 8
     book = runner.invoke(app, ["workbook", str(kept), "--rates", str(signals), "-o", str(tmp_path / "k.xlsx")])
@@ -149,7 +150,7 @@ def test_rate_command_workbook_sheet_and_rates_option(tmp_path):
     assert "Timepieces" in workbook.sheetnames
     assert "watch error from" in [c.value for c in workbook["Working"][1]]
     texts = [c.value for row in workbook["Timepieces"].iter_rows() for c in row if isinstance(c.value, str)]
-    assert any("11 sight(s) of this log took their watch error from this rating" in t for t in texts)
+    assert any("11 sights of this log took their watch error from this rating" in t for t in texts)
     reduced = runner.invoke(app, ["reduce", str(kept), "--rates", str(signals)])
     assert reduced.exit_code == 0 and "11 sights reduced" in reduced.output
 
@@ -211,7 +212,7 @@ def test_two_comparisons_at_one_instant_are_one_or_neither_and_no_rate_is_made_u
     assert "row 4, row 5 compare the timepiece with the one signal" in reasons[4] and "neither is used" in reasons[5]
     a, b = ratings.timepieces["A"], ratings.timepieces["B"]
     assert list(a.comparisons.row) == [2] and "rate unknown (one comparison)" in a.summary()
-    assert list(b.comparisons.row) == [6, 7] and "rate +0.50 s a day (two comparisons" in b.summary()
+    assert list(b.comparisons.row) == [6, 7] and "gaining 0.50 s a day (two comparisons" in b.summary()
     for piece in (a, b):
         assert "nan" not in piece.summary()
     result = runner.invoke(app, ["rate", str(path)])
@@ -226,3 +227,23 @@ def test_rating_log_columns_are_named_or_refused_as_the_sight_logs_are(tmp_path)
     misspelt = [{"timepeice" if k == "timepiece" else k: v for k, v in row.items()} for row in rows]
     with pytest.raises(LogbookError, match="column 'timepeice' is not a column navred reads: is it 'timepiece'"):
         read_rating_log(_signals(tmp_path / "misspelt.csv", misspelt))
+
+
+def test_a_rate_is_said_gaining_or_losing():
+    # common practice: a timepiece gains when its error fast grows (it runs ahead), loses when it falls behind
+    from navred.io.timesignals import rate_words
+
+    assert rate_words(0.46) == "gaining 0.46 s a day"
+    assert rate_words(-1.2, 0.31) == "losing 1.20 ± 0.31 s a day"
+    assert rate_words(-0.001).startswith("neither gaining nor losing")
+
+
+def test_a_losing_chronometer_is_said_to_lose(tmp_path):
+    # a chronometer 3.0 s fast on the 20th, 2.0 s fast on the 22nd: it loses half a second a day
+    path = _signals(tmp_path / "signals.csv", [
+        {"timepiece": "A", "utc": "2026-03-20T12:00:00Z", "reading": "12:00:03.0"},
+        {"timepiece": "A", "utc": "2026-03-21T12:00:00Z", "reading": "12:00:02.5"},
+        {"timepiece": "A", "utc": "2026-03-22T12:00:00Z", "reading": "12:00:02.0"},
+    ])
+    result = runner.invoke(app, ["rate", str(path)])
+    assert result.exit_code == 0 and "losing 0.50 ± 0.00 s a day" in result.output, result.output

@@ -71,9 +71,9 @@ def test_refuses_with_a_clear_reason(value, fragment):
 
 
 def test_array_errors_say_how_many_and_which():
-    with pytest.raises(TimeInputError, match=r"could not be read: 2 of 4 elements \(indices 1, 3\)"):
+    with pytest.raises(TimeInputError, match=r"could not be read: values 2 and 4 of 4"):
         instants(["2026-01-01T00:00Z", "2026-01-01T00:00", "2026-01-02T00:00Z", "nonsense"])
-    with pytest.raises(TimeInputError, match=r"1900-2050.*1 of 2 elements \(indices 1\)"):
+    with pytest.raises(TimeInputError, match=r"1900-2050.*value 2 of 2"):
         instants(["2026-01-01T00:00Z", "2060-01-01T00:00Z"])
 
 
@@ -164,6 +164,12 @@ def test_after_leap_second_expiry_warns():
     later = f"{expires.year + 1}-01-15T00:00Z"
     with pytest.warns(NavredWarning, match=r"leap second may have been announced.*0\.5″ of the Moon"):
         instants(later, dut1_s=0.0)
+    # the words a navigator reads: which instants without '(the value)', and the risk to GHA named
+    with pytest.warns(NavredWarning) as record:
+        instants([later, later], dut1_s=0.0)
+    text = " ".join(str(w.message) for w in record)
+    assert "Values 1 and 2 of 2 are instants after" in text and "(the value)" not in text
+    assert "0.25′ of longitude" in text
 
 
 @pytest.mark.parametrize("dut1, fragment", [
@@ -219,3 +225,19 @@ def test_iso_strings_read_in_bulk_match_the_careful_reader():
         utc_julian_date(["2026-02-30T10:00:00Z", texts[0]])
     leap = instants(["2016-12-31T23:59:60Z", "2017-01-01T00:00:00Z"])  # a real leap second: one SI second apart
     assert ((leap.tt1[1] - leap.tt1[0]) + (leap.tt2[1] - leap.tt2[0])) * 86400 == pytest.approx(1.0, abs=1e-6)
+
+
+def test_a_leap_second_is_written_as_second_60():
+    # IERS Bulletin C 52: a positive leap second was inserted at the end of 2016 December 31 (23:59:60 UTC)
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+    from navred.timescales import instants
+
+    texts = instants(np.array(["2016-12-31T23:59:59.5Z", "2016-12-31T23:59:60.25Z", "2017-01-01T00:00:00Z"],
+                              dtype=object)).utc_text(2)
+    assert texts.tolist() == ["2016-12-31T23:59:59.50", "2016-12-31T23:59:60.25", "2017-01-01T00:00:00.00"]
+    result = CliRunner().invoke(app, ["almanac", "Sun", "--utc", "2016-12-31T23:59:60.5Z", "--csv"])
+    assert result.exit_code == 0 and ",2016-12-31T23:59:60.500000Z," in result.stdout
+    text = CliRunner().invoke(app, ["almanac", "Sun", "--utc", "2016-12-31T23:59:60Z"])
+    assert text.stdout.startswith("UTC 2016-12-31 23:59:60 ")

@@ -130,3 +130,27 @@ def test_one_body_groups_are_marked_by_their_distance_off_the_line(training_file
         if group.fix is not None and not group.fix.is_fix:
             sun_only = set(voyage.reduced.body_name.iloc[group.rows]) == {"Sun"}
             assert sun_only and group.fix.spread_deg < 15
+
+
+def test_a_voyage_of_one_day_gives_no_trend_and_says_why(tmp_path):
+    """A trend needs three good sights spread over more than a day: the first day's sights of the invented
+    training voyage give none, and the console, the instructor's page and the sheet say why instead of 'nan'."""
+    import shutil
+    import subprocess
+
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+
+    log = pd.read_csv("sample_sights/training_sights.csv", dtype=str, keep_default_na=False)
+    log[log.utc.str.startswith("2026-10-05")].to_csv(tmp_path / "day.csv", index=False)
+    result = CliRunner().invoke(app, ["training", str(tmp_path / "day.csv"), "--track",
+                                      "sample_sights/training_track.gpx", "-o", str(tmp_path / "t.pdf")])
+    assert result.exit_code == 0, result.output
+    assert "nan" not in result.stdout.lower()
+    assert "trend/day none: sights within a day" in result.stdout
+    reader = shutil.which("pdftotext")  # poppler's, where the machine has it
+    text = subprocess.run([reader, str(tmp_path / "t.pdf"), "-"], capture_output=True, text=True).stdout if reader else ""
+    assert "nan" not in text.lower()
+    if text:
+        assert "none (see below)" in text

@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import json
+import math
+import re
 import xml.etree.ElementTree as ET
 
 import numpy as np
@@ -10,16 +12,13 @@ import openpyxl
 import pandas as pd
 import pytest
 
-from navred.figures.plotting import save_plotting_sheet
 from navred.io.exports import GPX_NAMESPACE
 from navred.io.output import atomic_write
 from navred.io.workbook import SAFETY
 from navred.jobs.chartfiles import write_voyage_geojson as write_geojson
 from navred.jobs.chartfiles import write_voyage_gpx as write_gpx
-from navred.jobs.frames import fix_position
 from navred.jobs.voyage import process_log
 from navred.jobs.voyagebook import write_workbook
-from tests.conftest import offset_position, skyfield_sight
 
 
 @pytest.fixture(scope="module")
@@ -28,7 +27,7 @@ def mixed_log(tmp_path_factory):
     folder = tmp_path_factory.mktemp("log")
     demo = pd.read_csv("sample_sights/demo_sights.csv", dtype=str, keep_default_na=False)
     bad = demo.iloc[[5, 6]].copy()
-    bad.iloc[0, bad.columns.get_loc("utc")] = "2026-03-26T19:41:00"  # no zone
+    bad.iloc[0, bad.columns.get_loc("utc")] = "2026-03-26T19:41:00+25:00"  # no such zone
     bad.iloc[1, bad.columns.get_loc("body")] = "Betelguese"
     log = pd.concat([demo.iloc[:6], bad, demo.iloc[6:]], ignore_index=True)
     path = folder / "mixed.csv"
@@ -41,7 +40,7 @@ def test_every_input_row_is_in_the_workbook_and_values_read_back(mixed_log, tmp_
     voyage = process_log(path)
     out = write_workbook(voyage, tmp_path / "voyage.xlsx")
     book = openpyxl.load_workbook(out)
-    assert book.sheetnames == ["About", "Sights as read", "Working", "Fixes", "Rejected", "Sight plan", "Day's work"]
+    assert book.sheetnames == ["About", "Sights as read", "Working", "Working by hand", "Fixes", "Rejected", "Sight plan", "Day's work"]
     working = pd.DataFrame(list(book["Working"].values)[1:], columns=list(book["Working"].values)[0])
     rejected = pd.DataFrame(list(book["Rejected"].values)[1:], columns=list(book["Rejected"].values)[0])
     as_read = list(book["Sights as read"].values)
@@ -53,11 +52,11 @@ def test_every_input_row_is_in_the_workbook_and_values_read_back(mixed_log, tmp_
     assert reduced_rows | rejected_rows == set(range(2, n_rows + 2))
     assert not reduced_rows & rejected_rows
     assert rejected_rows == {8, 9}
-    assert any("no time zone" in r for r in rejected.reason) and any("closest" in r for r in rejected.reason)
+    assert any("not a real one" in r for r in rejected.reason) and any("closest" in r for r in rejected.reason)
     # values read back with openpyxl equal what was computed
     computed = voyage.reduced[voyage.reduced.status != "error"].reset_index(drop=True)
     assert np.allclose(working["Ho (deg)"].astype(float), computed.ho_deg)
-    assert np.allclose(working["Zn (deg)"].astype(float), computed.zn_deg)
+    assert np.allclose(working["Zn (deg true)"].astype(float), computed.zn_deg)
     assert list(working["TOWARD/AWAY"]) == list(computed.intercept_direction)
     fixes = pd.DataFrame(list(book["Fixes"].values)[1:], columns=list(book["Fixes"].values)[0])
     star_fix = next(g.fix for g in voyage.groups if g.name == "evening-stars")
@@ -99,47 +98,6 @@ def test_summary_counts(mixed_log):
     assert voyage.summary() == "11 sights reduced, 3 fixes, 2 rejected"
 
 
-def _lops_fix(ts, eph, names, offset=(3.0, -4.0)):
-    from navred import reduce_sights
-
-    when = pd.Timestamp("2024-09-15T19:05:00Z")
-    rows = [skyfield_sight(ts, eph, name, when + pd.Timedelta(minutes=k), 45.25, -20.5)
-            for k, name in enumerate(names)]
-    frame = pd.DataFrame(rows)
-    lat, lon = offset_position(45.25, -20.5, *offset)
-    frame["dr_lat"], frame["dr_lon"] = float(lat), float(lon)
-    reduced = reduce_sights(frame)
-    return fix_position(reduced, at_utc=when), reduced
-
-
-@pytest.mark.parametrize("names, offset", [
-    (["Vega", "Arcturus"], (3.0, -4.0)),
-    (["Vega", "Arcturus", "Antares"], (3.0, -4.0)),
-    (["Vega", "Altair", "Arcturus", "Deneb", "Antares", "Dubhe", "Kochab", "Alphecca", "Rasalhague",
-      "Eltanin", "Alkaid", "Polaris"], (3.0, -4.0)),
-    (["Vega", "Arcturus", "Antares", "Dubhe"], (60.0, 90.0)),  # a fix 110 nm from the DR
-])
-def test_plotting_sheet_renders(ts, eph, tmp_path, names, offset):
-    fix, reduced = _lops_fix(ts, eph, names, offset)
-    times = reduced.sight_utc.dt.strftime("%H:%M")
-    for suffix in ("png", "svg"):
-        save_plotting_sheet(fix, reduced.body_name, times, tmp_path / f"sheet.{suffix}",
-                            title=f"{len(names)} lines", chart=(45.25, -20.5))
-    from PIL import Image
-
-    with Image.open(tmp_path / "sheet.png") as png:  # a real picture, at the size asked, with lines drawn on it
-        assert png.format == "PNG" and png.size == (880, 880)
-        assert len(png.convert("RGB").getcolors(1 << 20)) > 50
-    svg = (tmp_path / "sheet.svg").read_text()
-    root = ET.fromstring(svg)
-    assert root.tag == "{http://www.w3.org/2000/svg}svg"  # well-formed SVG (W3C SVG 1.1)
-    assert len(root.findall("{http://www.w3.org/2000/svg}polyline")) >= len(names)
-    plotted = set(reduced.body_name[np.isfinite(fix.lop_intercept_nm)])
-    assert len(plotted) == len(names)
-    assert all(f">{name} " in svg for name in plotted)  # every line is labelled with its body
-    assert "nautical mile" in svg and ">N<" in svg and ">DR<" in svg and "fix " in svg
-
-
 def test_gpx_and_geojson_exports(tmp_path):
     voyage = process_log("sample_sights/demo_sights.csv")
     gpx = ET.parse(write_gpx(voyage, tmp_path / "fixes.gpx")).getroot()
@@ -159,6 +117,24 @@ def test_gpx_and_geojson_exports(tmp_path):
     assert fix_feature["geometry"]["coordinates"] == pytest.approx([star.lon_deg, star.lat_deg])
     ring = next(f for f in data["features"] if f["properties"]["kind"] == "95 % ellipse")["geometry"]["coordinates"][0]
     assert ring[0] == ring[-1]
+
+
+def test_a_gpx_file_holds_no_empty_element(tmp_path):
+    # GPX 1.1 (Topografix schema): a track is made of segments of points; a chart plotter lists an empty <trk>
+    # as a nameless item. One star fix and no departure: the DR has no leg yet, so there is no track at all.
+    demo = pd.read_csv("sample_sights/demo_sights.csv", dtype=str, keep_default_na=False)
+    stars = demo[demo.fix_group == "evening-stars"]
+    stars.to_csv(tmp_path / "stars.csv", index=False)
+    tracks = []
+    for voyage in (process_log(tmp_path / "stars.csv", plan=False), process_log("sample_sights/demo_sights.csv")):
+        gpx = ET.parse(write_gpx(voyage, tmp_path / "v.gpx")).getroot()
+        for element in gpx.iter():
+            assert len(element) or (element.text or "").strip() or element.attrib, f"an empty <{element.tag}>"
+        tracks.append(gpx.findall(f"{{{GPX_NAMESPACE}}}trk"))
+        for track in tracks[-1]:
+            segments = track.findall(f"{{{GPX_NAMESPACE}}}trkseg")
+            assert segments and all(len(s.findall(f"{{{GPX_NAMESPACE}}}trkpt")) >= 2 for s in segments)
+    assert len(tracks[0]) == 0 and len(tracks[1]) == 1  # the demo's DR track from its first fix
 
 
 def test_atomic_write_keeps_the_old_file_when_interrupted(tmp_path):
@@ -262,3 +238,159 @@ def test_a_workbooks_tables_go_to_a_temporary_file_as_they_are_made_and_come_bac
                 assert a.read(name) == b.read(name), name
     book = openpyxl.load_workbook(few, read_only=True)
     assert book["Working"].max_row == len(voyage.reduced) + 1
+
+
+def sheet_frame(sheet) -> tuple[pd.DataFrame, dict]:
+    """A sheet's table (down to its first empty row) and each column's number format (of its first data row)."""
+    values = list(sheet.values)
+    end = next((k for k, row in enumerate(values) if all(v is None for v in row)), len(values))
+    values = values[:end]
+    formats = {c.value: sheet.cell(row=2, column=c.column).number_format for c in sheet[1]}
+    return pd.DataFrame(values[1:], columns=values[0]), formats
+
+
+def test_the_fixes_sheet_reads_as_the_trade_writes(tmp_path):
+    """The angle of cut (0°-90°), true directions in three figures to 0.1°, positions in degrees and minutes to
+    0.1′ with the decimal degrees beside at full precision, and a blank cell nowhere without a reason: the
+    demo with one of its Sun sights made a group of its own (one sight: no fix, and the sheet says why)."""
+    demo = pd.read_csv("sample_sights/demo_sights.csv", dtype=str, keep_default_na=False)
+    demo.loc[3, "fix_group"] = "lonely"  # the Moon alone, and Jupiter left alone in its group
+    demo.to_csv(tmp_path / "log.csv", index=False)
+    voyage = process_log(tmp_path / "log.csv", plan=False)
+    book = openpyxl.load_workbook(write_workbook(voyage, tmp_path / "v.xlsx", plots=False))
+    fixes, formats = sheet_frame(book["Fixes"])
+    working, working_formats = sheet_frame(book["Working"])
+    assert "lines cross at (deg)" not in fixes.columns
+    # a fix from sights taken hours apart, carried by the run, is a running fix (common practice), as on its sheet
+    # the limb worked beside the body, whose SD the sheet applies (a star or planet has none)
+    assert working.loc[working["body"] == "Sun", "limb"].tolist() == ["lower"] * 3
+    assert set(working.loc[working["body"] == "Sirius", "limb"]) == {"none (a point of light)"}
+    # the noon Sun's latitude beside its Ho, as navred fix prints it (row 3: the Sun at 12:56, on the meridian)
+    noon = working.loc[working["row in log"] == 3, "latitude (° ′)"].iloc[0]
+    assert noon.endswith("(meridian altitude)")
+    truth = pd.read_csv("sample_sights/demo_truth.csv")  # the invented demo's true track (skyfield's sky)
+    assert dm(noon.split(" (")[0]) == pytest.approx(float(truth.loc[1, "true_lat_deg"]) * 60.0, abs=0.3)
+    assert set(working.loc[working["row in log"] != 3, "latitude (° ′)"]) == {"not on the meridian"}
+    kinds = dict(zip(fixes["fix group"], fixes["kind"]))
+    assert kinds["sun-run-sun"] == "running fix" and kinds["evening-stars"] == "fix"
+    for row in fixes.to_dict("records"):
+        assert all(v is not None and v != "" for v in row.values()), row  # a reason for every blank
+        if row["kind"].startswith("no fix"):
+            assert row["fix group"] in ("lonely", "moon-planet") and "1 usable sight" in row["kind"]
+            assert row["sight σ (′)"] == "no fix"
+            continue
+        # the angle of cut: the widest acute angle between two of the lines (each runs across its Zn; common
+        # practice), worked here from the Working sheet's Zn of the group's sights
+        zn = working.loc[working["fix group"] == row["fix group"], "Zn (deg true)"].astype(float).to_numpy()
+        pairs = [abs(a - b) % 180.0 for i, a in enumerate(zn) for b in zn[i + 1:]]
+        assert row["angle of cut (deg)"] == pytest.approx(max(min(p, 180.0 - p) for p in pairs), abs=0.05)
+        assert 0.0 <= row["angle of cut (deg)"] <= 90.0
+        assert re.fullmatch(r"\d\d° \d\d\.\d′ [NS]", row["latitude (° ′)"])
+        assert re.fullmatch(r"\d\d\d° \d\d\.\d′ [EW]", row["longitude (° ′)"])
+        assert dm(row["latitude (° ′)"]) == pytest.approx(row["latitude (deg)"] * 60.0, abs=0.05)
+    assert formats["major axis (deg true)"] == "000.0" and formats["angle of cut (deg)"] == "0"
+    assert formats["latitude (deg)"] == "0.0000" and working_formats["Zn (deg true)"] == "000.0"
+    assert working_formats["intercept (nm)"] == "0.0"
+    # the cells keep full precision behind the figures shown
+    fix = voyage.group("evening-stars").fix
+    star_row = fixes[fixes["fix group"] == "evening-stars"].iloc[0]
+    assert star_row["major axis (deg true)"] == pytest.approx(fix.ellipse_orientation_deg, abs=1e-9)
+    assert star_row["latitude (deg)"] == pytest.approx(fix.lat_deg, abs=1e-12)
+    moon = working[working["fix group"] == "lonely"].iloc[0]
+    assert moon["residual at fix (′)"].startswith("no fix: 1 usable sight")
+
+
+def dm(text: str) -> float:
+    """'43° 16.6′ N' as signed arcminutes (south and west negative)."""
+    degrees, minutes = text[:-2].replace("′", "").split("°")
+    return (-1.0 if text.endswith(("S", "W")) else 1.0) * (float(degrees) * 60.0 + float(minutes))
+
+
+def test_defaults_are_shown_as_assumed_and_no_zero_is_signed(tmp_path):
+    """A log that leaves temperature, pressure and index error blank: the Working sheet shows '10 °C assumed',
+    '1010 hPa assumed', '0′ assumed' (vocabulary.COLUMNS's defaults), never as observed; one that gives them
+    shows the numbers. An index error of 0 gives an IC of 0.0, not -0.0, and no number in any table shows as
+    a signed zero at the precision its column shows."""
+    demo = pd.read_csv("sample_sights/demo_sights.csv", dtype=str, keep_default_na=False)
+    blank = demo.drop(columns=["temperature_c", "pressure_hpa"]).assign(index_error_arcmin="")
+    blank.loc[0, "index_error_arcmin"] = "0.0"  # one sight gives it: a zero index error, observed
+    blank.to_csv(tmp_path / "blank.csv", index=False)
+    book = openpyxl.load_workbook(write_workbook(process_log(tmp_path / "blank.csv", plan=False), tmp_path / "b.xlsx",
+                                                 plots=False))
+    working, _ = sheet_frame(book["Working"])
+    assert set(working["temperature (°C)"]) == {"10 °C assumed"}
+    assert set(working["pressure (hPa)"]) == {"1010 hPa assumed"}
+    assert working["index error (′, on +)"].iloc[0] == 0.0
+    assert set(working["index error (′, on +)"].iloc[1:]) == {"0′ assumed"}
+    assert all(math.copysign(1.0, v) == 1.0 for v in working["IC (′)"])  # IC = −IE: 0.0, not −0.0
+    given = openpyxl.load_workbook(write_workbook(process_log("sample_sights/demo_sights.csv", plan=False),
+                                                  tmp_path / "g.xlsx", plots=False))
+    working, _ = sheet_frame(given["Working"])
+    assert working["temperature (°C)"].tolist() == [10.0] * len(working)  # given in the log: observed
+    for book_ in (book, given):
+        for name in ("Working", "Working by hand", "Fixes"):
+            sheet = book_[name]
+            for column in sheet.iter_cols(min_row=2):
+                for cell in column:
+                    form = cell.number_format
+                    if isinstance(cell.value, float) and form != "General":
+                        decimals = len(form.split(".")[1]) if "." in form else 0
+                        shown = f"{cell.value:.{decimals}f}"
+                        assert not (shown.startswith("-") and float(shown) == 0.0), (name, cell.coordinate, cell.value)
+
+
+def test_every_header_a_person_reads_is_in_the_trades_words(tmp_path):
+    """Every table's header on every sheet is a display label (words and a unit, 'personal error (′)'), never a
+    program's snake_case name (error_arcmin), except the log's own columns, shown as the log names them (the
+    Sights as read sheet, and a log's extra columns carried along)."""
+    from navred.io.timesignals import read_rating_log
+    from navred.jobs.training import train_log
+
+    run = train_log("sample_sights/training_sights.csv", "sample_sights/training_track.gpx")
+    books = [(write_workbook(run.voyage, tmp_path / "t.xlsx", plots=False, training=run.report), run.voyage)]
+    rates = read_rating_log("sample_sights/passage_time_signals.csv")
+    passage = process_log("sample_sights/passage_log_chronometer.csv", rates=rates)
+    books.append((write_workbook(passage, tmp_path / "p.xlsx", plots=False), passage))
+    for path, voyage in books:
+        book = openpyxl.load_workbook(path)
+        own = set(voyage.log.extra_columns)
+        for sheet in book.worksheets:
+            if sheet.title == "Sights as read":
+                continue
+            for row in sheet.iter_rows():
+                for cell in row:
+                    header = cell.fill is not None and str(cell.fill.fgColor.rgb).endswith("1D3557")
+                    if header and isinstance(cell.value, str) and cell.value not in own:
+                        assert not re.fullmatch(r"[a-z0-9]+(_[a-z0-9]+)+", cell.value), (sheet.title, cell.value)
+        assert "Training" not in book.sheetnames or any(
+            c.value == "personal error (′)" for row in book["Training"].iter_rows() for c in row)
+
+
+def test_a_blank_cell_refused_reads_blank_and_a_lone_sight_says_why(tmp_path):
+    """The Rejected sheet writes a blank value as '(blank)' (an empty cell reads as a lost one); a group left with
+    one sight says so in sea English and what one sight gives instead (common practice)."""
+    demo = pd.read_csv("sample_sights/demo_sights.csv", dtype=str, keep_default_na=False)
+    demo.loc[9, "hs"] = ""  # Regulus' altitude left blank
+    demo.loc[3, "fix_group"] = "lonely"
+    demo.to_csv(tmp_path / "log.csv", index=False)
+    voyage = process_log(tmp_path / "log.csv", plan=False)
+    book = openpyxl.load_workbook(write_workbook(voyage, tmp_path / "v.xlsx", plots=False))
+    rejected, _ = sheet_frame(book["Rejected"])
+    assert rejected.loc[rejected["row in log"] == 11, "value"].tolist() == ["(blank)"]
+    fixes, _ = sheet_frame(book["Fixes"])
+    lonely = fixes.loc[fixes["fix group"] == "lonely", "kind"].iloc[0]
+    assert "1 usable sight: a fix needs two or more (one sight gives a line of position" in lonely
+    assert "sight(s)" not in " ".join(map(str, fixes["kind"]))
+
+
+def test_the_sight_plan_sheet_in_the_trade_figures(tmp_path):
+    """Magnitudes to 0.1 and the Moon's distance to the degree, as a star list prints them; 'yes' or 'no' in
+    every recommended cell (common practice)."""
+    voyage = process_log("sample_sights/demo_sights.csv")
+    book = openpyxl.load_workbook(write_workbook(voyage, tmp_path / "v.xlsx", plots=False))
+    plan, _ = sheet_frame(book["Sight plan"])
+    plan = plan[plan["body"].notna() & plan["magnitude"].notna()]
+    assert len(plan) >= 5
+    assert all(round(float(m), 1) == float(m) for m in plan["magnitude"])
+    assert all(float(d) == round(float(d)) for d in plan["from the Moon (deg)"].dropna())
+    assert set(plan["recommended"]) == {"yes", "no"}

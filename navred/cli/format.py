@@ -51,14 +51,14 @@ ALMANAC_COLUMNS = ("gha_aries_deg", "ra_hours", "sha_deg", "gha_deg", "dec_deg",
 def almanac_csv(result) -> str:
     """The almanac (:class:`navred.handtables.InstantAlmanac`) as CSV: a row per body, decimal degrees to 1e-7
     (body names are the catalogue's own; an empty field where a body has no such value)."""
-    stamp = str(result.utc.astype("datetime64[ms]"))
+    stamp = result.utc_text or str(result.utc.astype("datetime64[us]"))  # a leap second is 23:59:60
     lines = [",".join(["body", "utc", *ALMANAC_COLUMNS, "dut1_s", "ut1_source"])]
     for k, body in enumerate(result.body):
         numbers = []
         for column in ALMANAC_COLUMNS:
             value = result.gha_aries_deg if column == "gha_aries_deg" else float(getattr(result, column)[k])
             numbers.append("" if value != value else f"{value:.7f}")
-        lines.append(",".join([body, f"{stamp}000Z", *numbers, f"{result.dut1_s:.7f}", result.ut1_source]))
+        lines.append(",".join([body, f"{stamp}Z", *numbers, f"{result.dut1_s:.7f}", result.ut1_source]))
     return "\n".join(lines) + "\n"
 
 
@@ -79,7 +79,7 @@ def _arcmin_text(value: float, signed: bool = False) -> str:
 def almanac_lines(result) -> list[str]:
     """The almanac at one instant in navigational form; v and d (signed, d + northward) for the Sun, Moon and
     planets over the hour of UTC that holds the instant."""
-    stamp = str(result.utc.astype("datetime64[ms]"))
+    stamp = result.utc_text or str(result.utc.astype("datetime64[us]"))  # a leap second is 23:59:60
     lines = [f"UTC {stamp[:19].replace('T', ' ')}   DUT1 {result.dut1_s:+.3f} s ({result.ut1_source})",
              f"GHA Aries {format_angle(result.gha_aries_deg)}", "",
              f"{'body':<16}{'GHA':>13}{'v':>8}{'Dec':>14}{'d':>8}{'SHA':>13}{'HP':>8}{'SD':>8}"]
@@ -148,11 +148,15 @@ def identify_csv(ranked: pd.DataFrame) -> str:
 
 
 def identify_lines(ranked: pd.DataFrame, top: int) -> list[str]:
-    lines = [f"{'rank':>4}  {'body':<16}{'Hc':>8}{'Zn':>8}{'ΔH':>7}{'ΔZ':>7}{'score':>7}"]
+    lines = [f"{'rank':>4}  {'body':<16}{'mag.':>6}{'Hc':>8}{'Zn':>8}{'ΔH':>7}{'ΔZ':>7}{'score':>7}"]
     for rank, row in enumerate(ranked.head(top).itertuples(), start=1):
-        lines.append(f"{rank:>4}  {row.body:<16}{row.hc_deg:7.1f}°{row.zn_deg:7.1f}°"
-                     f"{row.altitude_difference_deg:+6.1f}°{row.azimuth_difference_deg:+6.1f}°{row.score:7.2f}")
-    lines.append("score: the differences in units of 1° of altitude and 3° of bearing; lowest first")
+        zn = f"{row.zn_deg % 360.0:05.1f}°"
+        lines.append(f"{rank:>4}  {row.body:<16}{row.magnitude:+6.1f}{row.hc_deg:7.1f}°{zn:>8}"
+                     f"{signed(row.altitude_difference_deg):>6}°{signed(row.azimuth_difference_deg):>6}°{row.score:7.2f}")
+    lines.append("score: the differences in units of 1° of altitude and 3° of bearing; lowest first. mag.: how "
+                 "bright (the brighter the smaller): a planet's visual magnitude, a star's in the Hipparcos "
+                 "catalogue's own band, within a few tenths of the visual magnitude an almanac prints (Sirius −1.1 "
+                 "there for −1.5, Spica +1.0); a body much brighter or fainter than the one seen is not it")
     return lines
 
 
@@ -195,6 +199,11 @@ def bearing_check_lines(check) -> list[str]:
     if check.compass_bearing_deg is not None:
         lines.append(f"  compass {check.compass_bearing_deg:05.1f}°: compass error {_east_west(check.compass_error_deg)}, "
                      f"variation {_east_west(check.variation_deg)}, deviation {_east_west(check.deviation_deg)}")
+        from ..jobs.compasswork import LARGE_DEVIATION_DEG
+
+        if check.deviation_deg is not None and abs(check.deviation_deg) > LARGE_DEVIATION_DEG:
+            lines.append(f"  WARNING: a deviation over {LARGE_DEVIATION_DEG:g}°: check the time (UTC), the DR, the body, "
+                         "the variation and the heading before trusting it")
     return lines
 
 
@@ -221,7 +230,7 @@ def reduce_lines(done) -> Iterator[str]:
         carried = getattr(row, "motion_carried_from", "")
         note = "; ".join(t for t in (row.message, carried) if t)
         yield (f"{label:>{width}}  {row.body_name:<15}{when:<21}{format_angle(row.ho_deg, 'signed'):>12}"
-               f"{format_angle(row.hc_deg, 'signed'):>12}{row.zn_deg:7.1f}°  {intercept:<18}{note}")
+               f"{format_angle(row.hc_deg, 'signed'):>12}{f'{row.zn_deg % 360.0:05.1f}°':>8}  {intercept:<18}{note}")
     counts = reduced.status.value_counts()
     empty = f", {log.empty_rows} empty row{'s' if log.empty_rows > 1 else ''} skipped" if log.empty_rows else ""
     yield (f"{int(counts.get('ok', 0) + counts.get('warning', 0))} sights reduced "
@@ -282,7 +291,10 @@ def _residual_lines(group, reduced, labels) -> list[str]:
     fix = group.fix
     left_out = fix.left_out if fix.left_out.size == len(group.rows) else np.zeros(len(group.rows), dtype=bool)
     width = max([len(labels[r]) for r in group.rows] + [5])
-    lines = [f"  {'sight':<{width}}  {'body':<16}{'residual':>10}  flag"]
+    weighted = fix.weighted
+    sigmas = fix.sight_sigma_arcmin if weighted else None
+    lines = [f"  {'sight':<{width}}  {'body':<16}{'residual':>10}" + (f"{'σ taken':>10}" if weighted else "")
+             + "  flag"]
     for k, row in enumerate(group.rows):
         residual = fix.residual_arcmin[k]
         flag = "BLUNDER? left out of the check fix" if fix.outlier[k] else ""
@@ -295,8 +307,13 @@ def _residual_lines(group, reduced, labels) -> list[str]:
         carried = reduced["motion_carried_from"].iloc[row] if "motion_carried_from" in reduced.columns else ""
         dr_from = reduced["dr_carried_from"].iloc[row] if "dr_carried_from" in reduced.columns else ""
         flag = "; ".join(t for t in (flag, f"DR {dr_from}" if dr_from else "", carried) if t)
-        text = f"{residual:+.1f}′" if residual == residual else "-"
-        lines.append(f"  {labels[row]:<{width}}  {str(reduced.body_name.iloc[row]):<16}{text:>10}  {flag}")
+        text = f"{signed(residual)}′" if residual == residual else "not used"
+        text = f"{text:>10}"
+        if weighted:  # each sight's σ as the fix weighs it: the round's σ scaled by the σ the log gives it
+            given = fix.weight[k] != 1.0
+            text += f"{sigmas[k]:>9.2f}′" if fix.used[k] else f"{'':>10}"
+            flag = "; ".join(t for t in (flag, "weighted by its σ in the log" if given else "") if t)
+        lines.append(f"  {labels[row]:<{width}}  {str(reduced.body_name.iloc[row]):<16}{text}  {flag}".rstrip())
     return lines
 
 
@@ -411,7 +428,7 @@ def series_lines(report) -> list[str]:
         best = part[part.series_best]
         flagged = [labels[i] for i in part.index[part.series_flag]]
         lines.append(f"  {name:<12} {part.body_name.iloc[0]:<12} {len(part)} sights, offset "
-                     f"{part.series_offset_arcmin.iloc[0]:+.1f}′, scatter {np.nanmedian(part.series_scatter_arcmin):.1f}′"
+                     f"{signed(part.series_offset_arcmin.iloc[0])}′, scatter {np.nanmedian(part.series_scatter_arcmin):.1f}′"
                      + (f", FLAGGED {', '.join(flagged)}" if flagged else ""))
         if len(best):
             lines.append(f"  {'':<12} best sight: {labels[best.index[0]]} at "
@@ -437,6 +454,19 @@ def track_problem_lines(reference, shown: int = 20) -> list[str]:
     return lines
 
 
+def signed(value: float, decimals: int = 1) -> str:
+    """A signed figure ('+1.2', '-0.4'), and an unsigned zero where it shows as zero (never '-0.0')."""
+    text = f"{value:+.{decimals}f}"
+    return text[1:] if float(text) == 0.0 else text
+
+
+def figure_or(value, form: str, reason: str, unit: str = "") -> str:
+    """A figure in ``form`` ('+.2f' signed) with its unit, or the reason there is none (never 'nan', never '-0')."""
+    if value is None or value != value:
+        return reason
+    return f"{signed(value, int(form[2]))}{unit}" if form.startswith("+.") else f"{value:{form}}{unit}"
+
+
 def training_lines(run, track: str) -> list[str]:
     from ..jobs.frames import row_list
 
@@ -450,8 +480,14 @@ def training_lines(run, track: str) -> list[str]:
     lines.append(f"{'observer':<22}{'sights':>7}{'blunders':>9}{'personal error':>16}{'± 95 %':>8}{'scatter':>9}"
                  f"{'trend/day':>11}")
     for v in report.observers.to_dict("records"):
-        lines.append(f"{v['observer']:<22}{v['sights']:>7}{v['blunders']:>9}{v['personal_error_arcmin']:>+15.2f}′"
-                     f"{v['interval_95_arcmin']:>7.2f}′{v['scatter_arcmin']:>8.2f}′{v['trend_arcmin_per_day']:>+10.3f}′")
+        lines.append(f"{v['observer']:<22}{v['sights']:>7}{v['blunders']:>9}"
+                     f"{figure_or(v['personal_error_arcmin'], '+.2f', 'no good sight', '′'):>16}"
+                     f"{figure_or(v['interval_95_arcmin'], '.2f', 'one sight', '′'):>8}"
+                     f"{figure_or(v['scatter_arcmin'], '.2f', 'one sight', '′'):>9}"
+                     f"{figure_or(v['trend_arcmin_per_day'], '+.3f', 'none', '′'):>11}")
+    notes = {v["trend_note"] for v in report.observers.to_dict("records") if v.get("trend_note")}
+    if notes:
+        lines.append(f"trend/day none: {'; '.join(sorted(notes))} (a trend needs 3 good sights over more than a day)")
     for row in report.fixes.to_dict("records"):
         distance = row.get("distance_from_reference_nm")
         if distance is None or distance != distance:
@@ -528,7 +564,7 @@ def mark_lines(report) -> list[str]:
     lines = [report.summary()]
     lines += [describe(row) for row in report.rows.to_dict("records") if row["verdict"] != "right"]
     for p in report.personal.to_dict("records") if len(report.personal) else []:
-        lines.append(f"{p['cadet']}: personal error {p['personal_error_arcmin']:+.2f}′ ± {p['interval_95_arcmin']:.2f}′ "
+        lines.append(f"{p['cadet']}: personal error {signed(p['personal_error_arcmin'], 2)}′ ± {p['interval_95_arcmin']:.2f}′ "
                      f"(95 %) against the track, over {int(p['sights'])} sights")
     lines += [f"not read: {source_name(row.source)} row {row.row}: {row.column}: {row.reason}"
               for row in report.rejected.itertuples()]

@@ -456,7 +456,7 @@ def mark_command(
     csv: bool = typer.Option(False, "--csv", help=CSV_HELP.format(what="one row per working: row, verdict, first_wrong_line (empty when all is right), cause, noticed, and more")),
     track: str | None = typer.Option(None, "--track", help="The ship's reference track (GPX, NMEA or CSV, as for navred training): each cadet's personal error against it."),
     exam: bool = typer.Option(False, "--exam", help="Exam mode: leave out navred's fix and any reference position."),
-    template: str | None = typer.Option(None, "--template", help="Write an empty sight book (.xlsx: a page per method) to this file and stop."),
+    template: str | None = typer.Option(None, "--template", help="Write an empty sight book to this file and stop: .xlsx a page per method to fill in, .pdf the same pages printed blank."),
     rates: str | None = _rates(),
     dates: str | None = _dates(),
     pdf: str | None = typer.Option(None, "--pdf", hidden=True),
@@ -474,7 +474,7 @@ def mark_command(
         if template:
             from ..jobs.workings import write_template
 
-            check_output(template, input_files(workings), suffixes=(".xlsx",), what="--template")
+            check_output(template, input_files(workings), suffixes=(".xlsx", ".pdf"), what="--template")
             typer.echo(f"wrote {write_template(template)}")
             return
         if not workings:

@@ -93,6 +93,7 @@ class _Line:
     colour: str
     width: float
     dash: tuple[float, ...] | None
+    kind: str | None = None
 
 
 @dataclass(frozen=True)
@@ -101,6 +102,7 @@ class _Polygon:
     fill: str | None
     outline: str | None
     width: float
+    kind: str | None = None
 
 
 @dataclass(frozen=True)
@@ -116,11 +118,68 @@ class _Text:
     bold: bool
     italic: bool
     box: str | None
+    kind: str | None = None
+
+
+#: The font's ascent and descent, in ems (DejaVu Sans: 1901 and 483 of 2048 units): a label's box runs from the
+#: ascent above its baseline to the descent below it, as wide as the font's advance widths make it.
+FONT_ASCENT_EM = 0.929
+FONT_DESCENT_EM = 0.236
+#: where the baseline lies below the point a label is placed at, in ems, by its ``baseline``
+_BASELINE_SHIFT = {"bottom": -FONT_DESCENT_EM, "middle": (FONT_ASCENT_EM - FONT_DESCENT_EM) / 2.0,
+                   "top": FONT_ASCENT_EM}
+_METRIC_PX = 200  # the size the advance widths are measured at (they scale with the size)
+
+
+def text_width_pt(text: str, size: float, bold: bool = False, italic: bool = False) -> float:
+    """The advance width of ``text`` in points at ``size`` points, from the font the PNG renderer draws with
+    (the SVG names the same font): the canvas's own metrics, which the label placing and its tests share."""
+    return _advance(str(text), bool(bold), bool(italic)) * size / _METRIC_PX
+
+
+@lru_cache(maxsize=4096)
+def _advance(text: str, bold: bool, italic: bool) -> float:
+    return float(_font(_METRIC_PX, bold, italic).getlength(text))
+
+
+def text_corners(x: float, y: float, text: str, size: float, *, anchor: str = "start", baseline: str = "bottom",
+                 rotation: float = 0.0, bold: bool = False, italic: bool = False, pad: float = 0.0) -> np.ndarray:
+    """The four corners (4 × 2, points, y down) of a label's box as :meth:`Canvas.text` places it: from the
+    font's ascent above the baseline to its descent below, as wide as its advance, turned ``rotation`` degrees
+    counter-clockwise about (x, y), grown by ``pad`` points on every side."""
+    width = text_width_pt(text, size, bold, italic)
+    start = {"start": 0.0, "middle": -width / 2.0, "end": -width}[anchor]
+    base = _BASELINE_SHIFT[baseline] * size
+    x0, x1 = start - pad, start + width + pad
+    y0, y1 = base - FONT_ASCENT_EM * size - pad, base + FONT_DESCENT_EM * size + pad
+    local = np.array([(x0, y0), (x1, y0), (x1, y1), (x0, y1)])
+    turn = math.radians(rotation)
+    cos_t, sin_t = math.cos(turn), math.sin(turn)
+    # counter-clockwise on the page, whose y runs down
+    return np.column_stack([x + local[:, 0] * cos_t + local[:, 1] * sin_t,
+                            y - local[:, 0] * sin_t + local[:, 1] * cos_t])
+
+
+def wrap_text(text: str, size: float, width_pt: float, bold: bool = False, italic: bool = False) -> list[str]:
+    """``text`` broken at spaces into lines no wider than ``width_pt`` at ``size`` (a word longer than the
+    line stands alone on its line): a long note is wrapped, never cut."""
+    lines: list[str] = []
+    for word in str(text).split(" "):
+        if lines and text_width_pt(f"{lines[-1]} {word}", size, bold, italic) <= width_pt:
+            lines[-1] = f"{lines[-1]} {word}"
+        else:
+            lines.append(word)
+    return lines or [""]
+
+
+#: the margin of a label's background box around its text, in ems
+BOX_PAD_EM = 0.15
 
 
 @dataclass
 class Canvas:
-    """A page of primitives, ``width`` by ``height`` points, on a ``background`` colour."""
+    """A page of primitives, ``width`` by ``height`` points, on a ``background`` colour. Every primitive may
+    carry a ``kind`` (what it draws: 'fix', 'dr', 'line label'...), written as its SVG class."""
 
     width: float
     height: float
@@ -128,38 +187,39 @@ class Canvas:
     items: list = field(default_factory=list)
 
     def line(self, xs, ys, colour: str, width: float = 1.0, dash: tuple[float, ...] | None = None,
-             clip: Rect | None = None) -> None:
+             clip: Rect | None = None, kind: str | None = None) -> None:
         """A polyline through the points (a straight segment when two), clipped to ``clip``."""
         points = [(float(x), float(y)) for x, y in zip(xs, ys)]
         if clip is None:
-            self.items.append(_Line(tuple(points), colour, width, dash))
+            self.items.append(_Line(tuple(points), colour, width, dash, kind))
             return
         for p, q in zip(points, points[1:]):
             cut = clip_segment(*p, *q, clip)
             if cut is not None:
-                self.items.append(_Line(((cut[0], cut[1]), (cut[2], cut[3])), colour, width, dash))
+                self.items.append(_Line(((cut[0], cut[1]), (cut[2], cut[3])), colour, width, dash, kind))
 
     def polygon(self, xs, ys, fill: str | None = None, outline: str | None = None, width: float = 1.0,
-                clip: Rect | None = None) -> None:
+                clip: Rect | None = None, kind: str | None = None) -> None:
         xs, ys = np.asarray(xs, dtype=float), np.asarray(ys, dtype=float)
         points = list(zip(xs.tolist(), ys.tolist()))
         if clip is not None and not (xs.min() >= clip[0] and xs.max() <= clip[2] and ys.min() >= clip[1]
                                      and ys.max() <= clip[3]):
             points = clip_polygon(points, clip)  # only a polygon that reaches outside is cut
         if len(points) >= 3:
-            self.items.append(_Polygon(tuple(points), fill, outline, width))
+            self.items.append(_Polygon(tuple(points), fill, outline, width, kind))
 
     def circle(self, x: float, y: float, radius: float, fill: str | None = None, outline: str | None = None,
-               width: float = 1.0) -> None:
-        self.polygon(x + radius * _UNIT_CIRCLE[0], y + radius * _UNIT_CIRCLE[1], fill, outline, width)
+               width: float = 1.0, kind: str | None = None) -> None:
+        self.polygon(x + radius * _UNIT_CIRCLE[0], y + radius * _UNIT_CIRCLE[1], fill, outline, width, kind=kind)
 
     def text(self, x: float, y: float, text: str, size: float, colour: str, *, anchor: str = "start",
              baseline: str = "bottom", rotation: float = 0.0, bold: bool = False, italic: bool = False,
-             box: str | None = None) -> None:
-        """A label whose ``anchor`` (start, middle, end) and ``baseline`` (bottom, middle, top) sit at (x, y),
-        turned ``rotation`` degrees counter-clockwise about that point, on a ``box`` of colour if given."""
+             box: str | None = None, kind: str | None = None) -> None:
+        """A label whose ``anchor`` (start, middle, end) and ``baseline`` (bottom: the font's descent; middle;
+        top: its ascent) sit at (x, y), turned ``rotation`` degrees counter-clockwise about that point, on a
+        ``box`` of colour if given. Its extent is :func:`text_corners`'s."""
         self.items.append(_Text(float(x), float(y), str(text), size, colour, anchor, baseline, float(rotation),
-                                bold, italic, box))
+                                bold, italic, box, kind))
 
     def replay(self, pen) -> None:
         """Draw every primitive, in order, with another renderer: ``pen.line(points, colour, width, dash)``,
@@ -177,22 +237,23 @@ class Canvas:
     # --- SVG ---------------------------------------------------------------------------
 
     def to_svg(self) -> str:
-        """The page as an SVG 1.1 document (text kept as text)."""
+        """The page as an SVG 1.1 document (text kept as text; each primitive's kind as its class)."""
         out = [f'<svg xmlns="http://www.w3.org/2000/svg" version="1.1" width="{self.width:g}pt" '
                f'height="{self.height:g}pt" viewBox="0 0 {self.width:g} {self.height:g}">',
                f'<rect width="100%" height="100%" fill="{self.background}"/>']
         for item in self.items:
+            kind = f' class="{escape(item.kind, {chr(34): "&quot;"})}"' if item.kind else ""
             if isinstance(item, _Line):
                 path = _svg_points(item.points)
                 dash = f' stroke-dasharray="{" ".join(f"{d:g}" for d in item.dash)}"' if item.dash else ""
-                out.append(f'<polyline points="{path}" fill="none" stroke="{item.colour}" '
+                out.append(f'<polyline{kind} points="{path}" fill="none" stroke="{item.colour}" '
                            f'stroke-width="{item.width:g}"{dash}/>')
             elif isinstance(item, _Polygon):
                 path = _svg_points(item.points)
                 stroke = f' stroke="{item.outline}" stroke-width="{item.width:g}"' if item.outline else ""
-                out.append(f'<polygon points="{path}" fill="{item.fill or "none"}"{stroke}/>')
+                out.append(f'<polygon{kind} points="{path}" fill="{item.fill or "none"}"{stroke}/>')
             else:
-                out.append(_svg_text(item))
+                out.append(_svg_text(item, kind))
         out.append("</svg>")
         return "\n".join(out) + "\n"
 
@@ -233,23 +294,23 @@ def _svg_points(points) -> str:
 
 
 _SVG_ANCHOR = {"start": "start", "middle": "middle", "end": "end"}
-_SVG_BASELINE = {"bottom": 0.0, "middle": 0.35, "top": 0.75}  # shift of the baseline, in ems
 
 
-def _svg_text(item: _Text) -> str:
+def _svg_text(item: _Text, kind: str = "") -> str:
+    """A label: its baseline written where :func:`text_corners` puts it, its box the corners' rectangle."""
     weight = ' font-weight="bold"' if item.bold else ""
     style = ' font-style="italic"' if item.italic else ""
     turn = f' transform="rotate({-item.rotation:.2f} {item.x:.2f} {item.y:.2f})"' if item.rotation else ""
-    dy = _SVG_BASELINE[item.baseline] * item.size - (0.2 * item.size if item.baseline == "bottom" else 0.0)
+    base_y = item.y + _BASELINE_SHIFT[item.baseline] * item.size
     box = ""
     if item.box:
-        width = 0.56 * item.size * len(item.text) + 0.4 * item.size
-        x0 = {"start": item.x - 0.2 * item.size, "middle": item.x - width / 2, "end": item.x - width + 0.2 * item.size}[
-            item.anchor]
-        top = item.y + dy - 0.95 * item.size
-        box = (f'<rect x="{x0:.2f}" y="{top:.2f}" width="{width:.2f}" height="{1.25 * item.size:.2f}" rx="2" '
+        # the box unturned (the transform turns it with its text)
+        corners = text_corners(item.x, item.y, item.text, item.size, anchor=item.anchor, baseline=item.baseline,
+                               bold=item.bold, italic=item.italic, pad=BOX_PAD_EM * item.size)
+        (x0, y0), (x1, y1) = corners.min(axis=0), corners.max(axis=0)
+        box = (f'<rect x="{x0:.2f}" y="{y0:.2f}" width="{x1 - x0:.2f}" height="{y1 - y0:.2f}" rx="1.5" '
                f'fill="{item.box}"{turn}/>')
-    return (f'{box}<text x="{item.x:.2f}" y="{item.y + dy:.2f}" font-family="DejaVu Sans, Verdana, sans-serif" '
+    return (f'{box}<text{kind} x="{item.x:.2f}" y="{base_y:.2f}" font-family="DejaVu Sans, Verdana, sans-serif" '
             f'font-size="{item.size:g}" fill="{item.colour}" text-anchor="{_SVG_ANCHOR[item.anchor]}"'
             f'{weight}{style}{turn}>{escape(item.text)}</text>')
 
@@ -267,35 +328,37 @@ def _font(size_px: int, bold: bool, italic: bool):
     return ImageFont.truetype(str(path), size_px)
 
 
-_PIL_ANCHOR = {("start", "bottom"): "ld", ("middle", "bottom"): "md", ("end", "bottom"): "rd",
-               ("start", "middle"): "lm", ("middle", "middle"): "mm", ("end", "middle"): "rm",
-               ("start", "top"): "la", ("middle", "top"): "ma", ("end", "top"): "ra"}
+_PIL_ANCHOR = {"start": "ls", "middle": "ms", "end": "rs"}  # on the baseline, which the canvas places itself
 
 
 def _png_text(image, draw, item: _Text, scale: float) -> None:
     from PIL import Image, ImageDraw
 
     font = _font(max(4, int(round(item.size * scale))), item.bold, item.italic)
-    anchor = _PIL_ANCHOR[(item.anchor, item.baseline)]
-    pad = 0.2 * item.size * scale
+    anchor = _PIL_ANCHOR[item.anchor]
+    shift = _BASELINE_SHIFT[item.baseline] * item.size
+    pad = BOX_PAD_EM * item.size
     if not item.rotation:
-        x, y = item.x * scale, item.y * scale
         if item.box:
-            x0, y0, x1, y1 = draw.textbbox((x, y), item.text, font=font, anchor=anchor)
-            draw.rounded_rectangle((x0 - pad, y0 - pad, x1 + pad, y1 + pad), radius=pad, fill=item.box)
-        draw.text((x, y), item.text, fill=item.colour, font=font, anchor=anchor)
+            corners = text_corners(item.x, item.y, item.text, item.size, anchor=item.anchor, baseline=item.baseline,
+                                   bold=item.bold, italic=item.italic, pad=pad) * scale
+            (x0, y0), (x1, y1) = corners.min(axis=0), corners.max(axis=0)
+            draw.rounded_rectangle((x0, y0, x1, y1), radius=pad * scale, fill=item.box)
+        draw.text((item.x * scale, (item.y + shift) * scale), item.text, fill=item.colour, font=font, anchor=anchor)
         return
-    # a turned label: drawn on its own tile, turned, and laid on so that its anchor lands on (x, y)
-    x0, y0, x1, y1 = draw.textbbox((0, 0), item.text, font=font, anchor=anchor)
-    margin = int(math.ceil(pad)) + 1
+    # a turned label: drawn unturned on its own tile about its anchor, turned, and laid on so that the anchor
+    # lands on (x, y)
+    corners = text_corners(0.0, 0.0, item.text, item.size, anchor=item.anchor, baseline=item.baseline,
+                           bold=item.bold, italic=item.italic, pad=pad) * scale
+    (x0, y0), (x1, y1) = corners.min(axis=0), corners.max(axis=0)
+    margin = 2
     width, height = int(math.ceil(x1 - x0)) + 2 * margin, int(math.ceil(y1 - y0)) + 2 * margin
     at_x, at_y = margin - x0, margin - y0  # the anchor in the tile
     tile = Image.new("RGBA", (width, height), (0, 0, 0, 0))
     pen = ImageDraw.Draw(tile)
     if item.box:
-        pen.rounded_rectangle((margin - pad, margin - pad, width - margin + pad, height - margin + pad),
-                              radius=pad, fill=item.box)
-    pen.text((at_x, at_y), item.text, fill=item.colour, font=font, anchor=anchor)
+        pen.rounded_rectangle((margin, margin, margin + x1 - x0, margin + y1 - y0), radius=pad * scale, fill=item.box)
+    pen.text((at_x, at_y + shift * scale), item.text, fill=item.colour, font=font, anchor=anchor)
     turned = tile.rotate(item.rotation, resample=Image.BILINEAR, expand=True)
     # where the anchor went: its offset from the tile's centre, turned counter-clockwise on the page
     angle = math.radians(item.rotation)
@@ -325,4 +388,5 @@ def _dashed(points, dash):
             at, k = end, k + 1
 
 
-__all__ = ["Canvas", "blend", "clip_segment", "clip_polygon"]
+__all__ = ["Canvas", "blend", "clip_segment", "clip_polygon", "text_width_pt", "text_corners", "wrap_text",
+           "FONT_ASCENT_EM", "FONT_DESCENT_EM", "BOX_PAD_EM"]

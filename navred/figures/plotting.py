@@ -1,15 +1,8 @@
-"""The pictures: the plotting sheet of a fix, the sky of a sight plan, a sight series. Edge code.
+"""The pictures: the palette and the files, the voyage's track, a sight series, the sky of a sight plan. Edge code.
 
-The plotting sheet is drawn on navred's light canvas (:mod:`navred.figures.drawing`, SVG or PNG in a
-few milliseconds, so a workbook can hold hundreds); the sky and the series pictures use
-matplotlib, imported lazily.
-
-A local chart of the fix: a grid of latitude and longitude minutes scaled as on a Mercator
-chart at the fix's latitude (one minute of latitude is one nautical mile up the page, one
-minute of longitude cos φ miles across), the DR at the fix time, each line of position
-advanced or retired to the fix time and labelled with its body and time, the fix and its
-95 % ellipse, the chart position when there is one, a scale bar in nautical miles and a
-north arrow.
+The plotting sheet of a fix is :mod:`navred.figures.plotsheet`'s. The voyage picture and the series are drawn on
+navred's light canvas (:mod:`navred.figures.drawing`, SVG or PNG in a few milliseconds, so a workbook can hold
+hundreds); the sky picture uses matplotlib, imported lazily.
 """
 
 from __future__ import annotations
@@ -19,262 +12,27 @@ from pathlib import Path
 
 import numpy as np
 
-from ..angles import format_angle, wrap_180, wrap_axial
+from ..angles import format_angle, wrap_180
 from ..stats import chi_square_2_quantile
-from ..status import FixKind
-
-# navred's own palette: sea-chart paper, ink-blue lines, a vermilion fix
-PAPER, GRID, INK, FIX, CHART, ELLIPSE, FLAGGED = ("#f7f3e8", "#c9c2ad", "#1d3557", "#d1495b",
-                                                  "#2a9d8f", "#d1495b", "#8d99ae")
-_STEPS_ARCMIN = (0.5, 1, 2, 5, 10, 15, 30, 60, 120, 300, 600)
-
-
-def _grid_step(span_nm: float) -> float:
-    for step in _STEPS_ARCMIN:
-        if span_nm / step <= 8:
-            return step
-    return _STEPS_ARCMIN[-1]
-
-
-_ELLIPSE_STEPS = (np.cos(np.linspace(0.0, 2.0 * np.pi, 73)[:-1]), np.sin(np.linspace(0.0, 2.0 * np.pi, 73)[:-1]))
-#: the page of a plotting sheet, in points: 8 inches square, the plotting area a square inside it
-SHEET_PT = 576.0
-_AREA = (70.0, 58.0, 540.0, 528.0)  # x0, y0, x1, y1
-
-
-def plotting_sheet(fix, bodies, times, *, title: str = "", chart=None, rows=None):
-    """The fix's plotting sheet as a :class:`navred.figures.drawing.Canvas` (render it with ``to_svg`` or ``to_png``).
-
-    ``fix`` is a :class:`navred.fix.FixResult`; ``bodies`` and ``times`` label its sights
-    (input-row order, as ``fix.residual_arcmin``), ``rows`` name them in notes ('row 9'); ``chart``
-    is an optional (lat, lon). A sight left out of the fix as a gross error does not set the sheet's
-    extent (its line may lie a hundred miles off); the sheet names it, and marks the fix from every
-    sight where it falls on the sheet.
-    """
-    from .drawing import Canvas, blend
-
-    bodies, times = list(bodies), list(times)
-    rows = list(rows) if rows is not None else [f"sight {k + 1}" for k in range(len(bodies))]
-    left_out = (np.asarray(fix.left_out, dtype=bool) if np.size(fix.left_out) == len(bodies)
-                else np.zeros(len(bodies), dtype=bool))
-    lat0, lon0 = float(fix.dr_lat_deg), float(fix.dr_lon_deg)
-    cos_lat = math.cos(math.radians(lat0))
-
-    def plane(lat, lon):
-        """Positions to sheet miles east and north of the DR (numbers or arrays)."""
-        if isinstance(lat, float) and isinstance(lon, float):
-            return float(wrap_180(lon - lon0)) * 60.0 * cos_lat, (lat - lat0) * 60.0
-        d_lon = wrap_180(np.asarray(lon) - lon0)
-        return d_lon * 60.0 * cos_lat, (np.asarray(lat) - lat0) * 60.0
-
-    fix_xy = plane(float(fix.lat_deg), float(fix.lon_deg))
-    points = [(0.0, 0.0), fix_xy]
-    if chart is not None:
-        chart_xy = plane(float(chart[0]), float(chart[1]))
-        points.append(chart_xy)
-    used = np.flatnonzero(np.isfinite(fix.lop_intercept_nm))
-    z = np.radians(fix.lop_zn_deg[used])
-    feet = np.stack(plane(fix.lop_foot_lat_deg[used], fix.lop_foot_lon_deg[used]), axis=1)
-    tangent = np.radians(fix.lop_tangent_deg[used])
-    xs, ys = zip(*points, *map(tuple, feet[~left_out[used]]))
-    extent = fix.ellipse_semi_major_nm if fix.is_fix else fix.ellipse_semi_minor_nm
-    half = max(np.ptp(xs), np.ptp(ys), 4.0 * extent, 2.0) * 0.75 + 1.0
-    cx, cy = (max(xs) + min(xs)) / 2.0, (max(ys) + min(ys)) / 2.0
-    ax0, ay0, ax1, ay1 = _AREA
-    per_nm = (ax1 - ax0) / (2.0 * half)
-
-    left, bottom = cx - half, cy - half
-
-    def page(x, y):
-        """Sheet miles (east, north of the DR) to points on the page (numbers, lists or arrays)."""
-        if isinstance(x, list):
-            return [ax0 + (v - left) * per_nm for v in x], [ay1 - (v - bottom) * per_nm for v in y]
-        if isinstance(x, np.ndarray) or isinstance(y, np.ndarray):
-            return ax0 + (np.asarray(x) - left) * per_nm, ay1 - (np.asarray(y) - bottom) * per_nm
-        return ax0 + (x - left) * per_nm, ay1 - (y - bottom) * per_nm
-
-    def inside(px, py):
-        return ax0 <= px <= ax1 and ay0 <= py <= ay1
-
-    sheet = Canvas(SHEET_PT, SHEET_PT, PAPER)
-    area = _AREA
-    if fix.is_fix:  # the ellipse's tint first, so that the grid and the lines show through it
-        turn = math.radians(fix.ellipse_orientation_deg)
-        cos_t, sin_t = _ELLIPSE_STEPS
-        a, b = fix.ellipse_semi_major_nm, fix.ellipse_semi_minor_nm
-        ex = fix_xy[0] + a * cos_t * math.sin(turn) + b * sin_t * math.cos(turn)
-        ey = fix_xy[1] + a * cos_t * math.cos(turn) - b * sin_t * math.sin(turn)
-        ellipse = page(ex, ey)
-        sheet.polygon(*ellipse, fill=blend(ELLIPSE, PAPER, 0.15), clip=area)
-
-    # the grid: whole multiples of the step in latitude and in longitude, labelled outside the area
-    step = _grid_step(2 * half)
-    lat_lo, lat_hi = lat0 + (cy - half) / 60, lat0 + (cy + half) / 60
-    lon_lo, lon_hi = lon0 + (cx - half) / 60 / cos_lat, lon0 + (cx + half) / 60 / cos_lat
-    lat_ticks = np.arange(np.ceil(lat_lo * 60 / step), np.floor(lat_hi * 60 / step) + 1) * step / 60
-    lon_ticks = np.arange(np.ceil(lon_lo * 60 / step), np.floor(lon_hi * 60 / step) + 1) * step / 60
-    _, lat_rows = page(0.0, plane(lat_ticks, lon0)[1])
-    for py, text in zip(np.atleast_1d(lat_rows).tolist(), [format_angle(v, "lat") for v in lat_ticks.tolist()]):
-        sheet.line([ax0, ax1], [py, py], GRID, 0.7)
-        sheet.text(ax0 - 4, py, text, 7, INK, anchor="end", baseline="middle")
-    lon_columns, _ = page(plane(lat0, lon_ticks)[0], 0.0)
-    for px, text in zip(np.atleast_1d(lon_columns).tolist(), [format_angle(v, "lon") for v in lon_ticks.tolist()]):
-        sheet.line([px, px], [ay0, ay1], GRID, 0.7)
-        sheet.text(px, ay1 + 6, text, 7, INK, anchor="end", baseline="top", rotation=30)
-
-    # the lines of position, tangent to their circles at the foot, drawn across the sheet, labelled
-    length = 2.2 * half
-    count = max(len(used) - 1, 1)
-    dr_page = page(0.0, 0.0)
-    labels = []
-    outliers = fix.outlier.tolist()
-    for k, (row, (fx, fy), turn, azimuth) in enumerate(zip(used.tolist(), feet.tolist(), tangent.tolist(),
-                                                          z.tolist())):
-        dx, dy = math.sin(turn), math.cos(turn)
-        flagged = bool(outliers[row])
-        colour = FLAGGED if flagged else INK
-        if left_out[row] and abs(fx - cx) + abs(fy - cy) > 4 * half:
-            continue  # a gross error's line, far off the sheet: named in the note below
-        # a short azimuth tick from the DR toward the body, as on a hand plot
-        tip = page(0.35 * half * math.sin(azimuth), 0.35 * half * math.cos(azimuth))
-        sheet.line([dr_page[0], tip[0]], [dr_page[1], tip[1]], blend(colour, PAPER, 0.5), 0.6, clip=area)
-        ends = page([fx - dx * length, fx + dx * length], [fy - dy * length, fy + dy * length])
-        sheet.line(*ends, colour, 1.3, dash=(5.0, 3.0) if flagged else None, clip=area)
-        label = f"{bodies[row]} {times[row]}" + ("  (left out)" if left_out[row] else "  (flagged)" if flagged else "")
-        # the label sits on the line near the middle of the sheet, staggered so labels do not pile up
-        nearest = (cx - fx) * dx + (cy - fy) * dy
-        along = nearest + (-0.6 + 1.2 * k / count) * half
-        lx, ly = page(fx + dx * along, fy + dy * along)
-        labels.append((lx, ly, label, colour, float(wrap_axial(math.degrees(math.atan2(dy, dx)) + 90.0)) - 90.0))
-
-    # the DR, the fix and its ellipse (or the combined line and its band), the chart position
-    if fix.is_fix:
-        sheet.polygon(*ellipse, outline=ELLIPSE, width=1.2, clip=area)
-    else:
-        along = np.radians(fix.line_bearing_deg)
-        across = np.radians(fix.line_toward_deg)
-        dx, dy = np.sin(along), np.cos(along)
-        for offset, dash in ((0.0, None), (fix.ellipse_semi_minor_nm, (1.5, 2.5)), (-fix.ellipse_semi_minor_nm, (1.5, 2.5))):
-            ox, oy = fix_xy[0] + offset * np.sin(across), fix_xy[1] + offset * np.cos(across)
-            ends = page([ox - dx * length, ox + dx * length], [oy - dy * length, oy + dy * length])
-            sheet.line(*ends, FIX, 2.2 if offset == 0 else 1.0, dash=dash, clip=area)
-    for lx, ly, label, colour, angle in labels:
-        if inside(lx, ly):
-            sheet.text(lx, ly, label, 7, colour, anchor="middle", baseline="bottom", rotation=angle, box=PAPER)
-    sheet.circle(*dr_page, 4.5, outline=INK, width=1.4)
-    sheet.text(dr_page[0] + 6, dr_page[1] + 12, "DR", 8, INK)
-    fx_page = page(*fix_xy)
-
-    def fix_label(text: str, size: float) -> None:
-        """The fix's label beside it, on the side where it fits inside the area, else centred above it."""
-        width = 0.6 * size * len(text) + 10
-        fits_right, fits_left = fx_page[0] + width <= ax1, fx_page[0] - width >= ax0
-        if fits_right and not (fits_left and fx_page[0] > (ax0 + ax1) / 2 + 0.3 * (ax1 - ax0) / 2):
-            x, anchor = fx_page[0] + 10, "start"
-        elif fits_left:
-            x, anchor = fx_page[0] - 10, "end"
-        else:
-            x, anchor = min(max(fx_page[0], ax0 + width / 2), ax1 - width / 2), "middle"
-        sheet.text(x, fx_page[1] - 8, text, size, FIX, anchor=anchor, bold=True, box=PAPER)
-
-    if fix.is_fix:
-        sheet.line([fx_page[0] - 8, fx_page[0] + 8], [fx_page[1], fx_page[1]], FIX, 2.2)
-        sheet.line([fx_page[0], fx_page[0]], [fx_page[1] - 8, fx_page[1] + 8], FIX, 2.2)
-        sheet.circle(*fx_page, 2.5, fill=FIX)
-        fix_label(f"fix {format_angle(fix.lat_deg, 'lat')} {format_angle(fix.lon_deg, 'lon')}", 8)
-    else:
-        sheet.circle(*fx_page, 2.5, fill=FIX)
-        what = str(fix.kind)
-        text = (f"{what} {format_angle(fix.lat_deg, 'lat')}" if fix.kind == FixKind.LATITUDE
-                else f"{what} through {format_angle(fix.lat_deg, 'lat')} {format_angle(fix.lon_deg, 'lon')}")
-        fix_label(f"{text}: not a fix", 8)
-    every = fix.all_sights
-    if every is not None:
-        ex_, ey_ = page(*plane(float(every.lat_deg), float(every.lon_deg)))
-        if inside(ex_, ey_):
-            sheet.circle(ex_, ey_, 5.0, outline=FLAGGED, width=1.4)
-            sheet.text(ex_ + 8, ey_ + 12, "every sight (not the fix)", 7, FLAGGED)
-    check = fix.without_outliers
-    if check is not None:
-        cx_, cy_ = page(*plane(float(check.lat_deg), float(check.lon_deg)))
-        if inside(cx_, cy_):
-            sheet.polygon([cx_, cx_ + 5, cx_, cx_ - 5], [cy_ - 5, cy_, cy_ + 5, cy_], outline=FLAGGED, width=1.4)
-            sheet.text(cx_ + 8, cy_ + 12, "check fix (without the flagged)", 7, FLAGGED)
-    if chart is not None:
-        px, py = page(*chart_xy)
-        sheet.polygon([px - 3.5, px + 3.5, px + 3.5, px - 3.5], [py - 3.5, py - 3.5, py + 3.5, py + 3.5],
-                      outline=CHART, width=1.6)
-        sheet.text(px + 8, py + 12, "chart", 8, CHART)
-
-    # scale bar (nautical miles) and north arrow
-    bar = _nice_length(half * 0.5)
-    x0, y0 = page(cx - half * 0.92, cy - half * 0.9)
-    sheet.line([x0, x0 + bar * per_nm], [y0, y0], INK, 3.0)
-    sheet.text(x0 + bar * per_nm / 2, y0 - 5, f"{bar:g} nautical mile{'s' if bar != 1 else ''}", 8, INK,
-               anchor="middle")
-    nx, ny = page(cx + half * 0.86, cy + half * 0.72)
-    top = ny - 0.18 * half * per_nm
-    sheet.line([nx, nx], [ny, top + 6], INK, 1.6)
-    sheet.polygon([nx - 4, nx, nx + 4], [top + 8, top, top + 8], fill=INK, outline=INK, width=0.5)
-    sheet.text(nx, top - 2, "N", 11, INK, anchor="middle", bold=True)
-    sheet.line([ax0, ax1, ax1, ax0, ax0], [ay0, ay0, ay1, ay1, ay0], INK, 0.8)
-
-    sheet.text(ax0 - 12, 24, title or "Plotting sheet", 11, INK, bold=True)
-    extent_text = (f"95 % ellipse {fix.ellipse_text()}" if fix.is_fix
-                   else f"the lines cross at {fix.spread_deg:.0f}°: 95 % band {fix.ellipse_text()}")
-    sheet.text(ax0 - 12, 40, f"{str(fix.utc)[:19].replace('T', ' ')} UTC · {extent_text} · σ {fix.sigma_arcmin:.2f}′ · "
-               "grid: minutes of latitude and longitude", 8, INK)
-    from ..triangle import distance_bearing
-
-    warning_y = 52
-    if fix.untrusted:
-        sheet.text(ax0 - 12, warning_y, "CANNOT BE TRUSTED as the position to plot: " + fix.untrusted.split(":")[0]
-                   + " (the fix's warnings say why)",
-                   8, FIX, bold=True)
-        warning_y += 12
-    if every is not None and left_out.any():
-        by_test = (np.asarray(fix.blunder_left_out, dtype=bool) if np.size(fix.blunder_left_out) == len(bodies)
-                   else np.zeros(len(bodies), dtype=bool))
-        miles, bearing = distance_bearing(fix.lat_deg, fix.lon_deg, every.lat_deg, every.lon_deg)
-        names = ", ".join(f"{rows[k]} {bodies[k]} ({abs(float(fix.residual_arcmin[k])):.0f}′ off, "
-                          f"{'the blunder test' if by_test[k] else 'a gross error'})"
-                          for k in np.flatnonzero(left_out))
-        sheet.text(ax0 - 12, warning_y, f"LEFT OUT: {names}; the fix from every sight lies "
-                   f"{float(miles):.1f} nm {float(bearing):03.0f}° from this one", 8, FIX, bold=True)
-        warning_y += 12
-    if check is not None:
-        flagged_rows = ", ".join(f"{rows[k]} {bodies[k]}" for k in np.flatnonzero(np.asarray(fix.outlier, bool)
-                                                                                  & ~left_out))
-        miles, bearing = distance_bearing(fix.lat_deg, fix.lon_deg, check.lat_deg, check.lon_deg)
-        sheet.text(ax0 - 12, warning_y, f"BLUNDER? {flagged_rows}: the check fix without it lies {float(miles):.1f} nm "
-                   f"{float(bearing):03.0f}° from this one", 8, FIX, bold=True)
-    dr_miles = float(np.hypot(*fix_xy))
-    if dr_miles > 30.0 and fix.is_fix:
-        sheet.text(ax0 - 12, SHEET_PT - 14, f"The DR is {dr_miles:.0f} nm from the fix: straight lines of position "
-                   "drawn from it are approximate this far out; the fix itself is solved on the sphere.", 7, FIX)
-    sheet.text(ax0 - 12, SHEET_PT - 4, "An aid to navigation, not a sole means: check against the official almanac "
-               "and keep a DR plot.", 7, INK, italic=True)
-    return sheet
-
-
-def _nice_length(target: float) -> float:
-    for value in (0.1, 0.2, 0.5, 1, 2, 5, 10, 20, 50, 100, 200, 500, 1000):
-        if value >= target * 0.5:
-            return value
-    return 1000.0
-
+from .placing import Placer, rect_corners
+from .symbols import (  # noqa: F401  (the palette, also for the other figures)
+    CHART,
+    ELLIPSE,
+    FIX,
+    FLAGGED,
+    GRID,
+    INK,
+    PAPER,
+    SHEET_PT,
+    ep_symbol,
+    fix_symbol,
+    grid_step,
+    nice_length,
+    position_symbol,
+)
 
 #: the width of a plotting sheet saved as PNG (the page is 8 inches: 110 pixels an inch)
 SHEET_PNG_PX = 880
-
-
-def save_plotting_sheet(fix, bodies, times, path, *, title: str = "", chart=None) -> Path:
-    """Draw the plotting sheet and save it (PNG or SVG by the file's suffix)."""
-    from ..io.output import atomic_write
-
-    target = Path(path)
-    sheet = plotting_sheet(fix, bodies, times, title=title, chart=chart)
-    return atomic_write(target, lambda p: write_canvas(sheet, p))
 
 
 def canvas_bytes(canvas, suffix: str, *, png_width_px: int = SHEET_PNG_PX) -> bytes:
@@ -476,10 +234,9 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
     points, fixes, estimated, noons = days.of_vessel(vessel)
     noons = noons[np.isfinite(noons["lat_deg"].astype(float))]
     track = days.tracks.get(vessel)
-    lats = np.concatenate([points.lat_deg.to_numpy(float), estimated["lat_deg"].to_numpy(float),
-                           track.known_lat if track is not None else []])
-    lons = np.concatenate([points.lon_deg.to_numpy(float), estimated["lon_deg"].to_numpy(float),
-                           track.known_lon if track is not None else []])
+    reach_lat, reach_lon = _ellipse_reach(track, days.ellipse_scales)
+    lats = np.concatenate([points.lat_deg.to_numpy(float), estimated["lat_deg"].to_numpy(float), reach_lat])
+    lons = np.concatenate([points.lon_deg.to_numpy(float), estimated["lon_deg"].to_numpy(float), reach_lon])
     sheet = Canvas(SHEET_PT * 1.5, SHEET_PT, PAPER)
     box = (70.0, 58.0, SHEET_PT * 1.5 - 40.0, SHEET_PT - 84.0)
     sheet.text(box[0] - 12, 24, title or f"Voyage track: {vessel or 'the vessel'}", 11, INK, bold=True)
@@ -496,9 +253,15 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
         if xs_leg.size >= 2:
             sheet.line(xs_leg.tolist(), ys_leg.tolist(), INK, 1.1, dash=(5.0, 3.0))
     arrow_nm = 0.06 * max(chart.width_nm, chart.height_nm) / 1.0  # an arrow this long stands for one knot
-    if track is not None:
-        _voyage_known_positions(sheet, chart, track, days.ellipse_scales)
-    _voyage_marks(sheet, chart, fixes, estimated, noons, arrow_nm)
+    placer = Placer()
+    labels = _voyage_known_positions(sheet, placer, chart, track, days.ellipse_scales) if track is not None else []
+    labels += _voyage_marks(sheet, placer, chart, fixes, estimated, noons, arrow_nm)
+    frame = (chart.ax0 + 2, chart.ay0 + 2, chart.ax1 - 2, chart.ay1 - 2)
+    for text, colour, x, y in labels:
+        spot = placer.place(text, 7, _beside(x, y), frame)
+        if spot is not None:
+            sheet.text(spot.x, spot.y, text, 7, colour, anchor=spot.anchor, baseline=spot.baseline, box=PAPER,
+                       kind="label")
     sheet.line([chart.ax0, chart.ax1, chart.ax1, chart.ax0, chart.ax0],
                [chart.ay0, chart.ay0, chart.ay1, chart.ay1, chart.ay0], INK, 0.8)
     _voyage_key(sheet, chart, arrow_nm)
@@ -508,7 +271,7 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
 def _voyage_grid(sheet, chart: _VoyageChart) -> None:
     """The grid: degrees and minutes of latitude and longitude."""
     half_w, half_h = (chart.ax1 - chart.ax0) / 2.0 / chart.per_nm, (chart.ay1 - chart.ay0) / 2.0 / chart.per_nm
-    step = _grid_step(2 * max(half_w, half_h))
+    step = grid_step(2 * max(half_w, half_h))
     lat_lo, lat_hi = chart.lat_mid + (chart.cy - half_h) / 60.0, chart.lat_mid + (chart.cy + half_h) / 60.0
     lon_lo = chart.lon_ref + (chart.cx - half_w) / 60.0 / chart.cos_lat
     lon_hi = chart.lon_ref + (chart.cx + half_w) / 60.0 / chart.cos_lat
@@ -524,12 +287,43 @@ def _voyage_grid(sheet, chart: _VoyageChart) -> None:
                    rotation=30)
 
 
-def _voyage_known_positions(sheet, chart: _VoyageChart, track, scales: dict[str, float]) -> None:
-    """The fixes with the 95 % ellipses they state (each at its own quantile, F(2, ν) or chi-square(2)), and the
-    departure and position entries."""
+def _ellipse_reach(track, scales: dict[str, float]) -> tuple[np.ndarray, np.ndarray]:
+    """The known positions and, for a fix, the north, south, east and west reach of its 95 % ellipse (at the
+    fix's own quantile): the voyage picture is drawn to hold them whole."""
+    if track is None:
+        return np.zeros(0), np.zeros(0)
+    lat, lon = np.asarray(track.known_lat, dtype=float), np.asarray(track.known_lon, dtype=float)
+    cov = np.asarray(track.known_cov_nm2, dtype=float).reshape(-1, 2, 2)
+    known = math.sqrt(chi_square_2_quantile(0.95))
+    scale = np.array([scales.get(label, known) for label in track.known_label], dtype=float)
+    with np.errstate(invalid="ignore"):
+        north = np.nan_to_num(scale * np.sqrt(np.maximum(cov[:, 0, 0], 0.0)) / 60.0)
+        east = np.nan_to_num(scale * np.sqrt(np.maximum(cov[:, 1, 1], 0.0)) / 60.0
+                             / np.maximum(np.cos(np.radians(lat)), 0.01))
+    return (np.concatenate([lat, lat + north, lat - north, lat, lat]),
+            np.concatenate([lon, lon, lon, lon + east, lon - east]))
+
+
+def _beside(x: float, y: float) -> list:
+    """Spots for a label beside a mark, nearest first."""
+    from .placing import Spot
+
+    spots = []
+    for far in (7.0, 14.0, 26.0, 42.0):
+        spots += [Spot(x + far, y + 3, "start", "top"), Spot(x + far, y - 3, "start", "bottom"),
+                  Spot(x - far, y - 3, "end", "bottom"), Spot(x - far, y + 3, "end", "top"),
+                  Spot(x, y - far, "middle", "bottom"), Spot(x, y + far, "middle", "top")]
+    return spots
+
+
+def _voyage_known_positions(sheet, placer, chart: _VoyageChart, track, scales: dict[str, float]) -> list:
+    """The fixes with the 95 % ellipses they state (each at its own quantile, F(2, ν) or chi-square(2); cut to
+    the chart), and the departure and position entries; their labels to place."""
     from .drawing import blend
 
     known = math.sqrt(chi_square_2_quantile(0.95))  # a fix whose scale is not given: chi-square(2) 95 %
+    box = (chart.ax0, chart.ay0, chart.ax1, chart.ay1)
+    labels = []
     for lat, lon, label, cov in zip(track.known_lat, track.known_lon, track.known_label, track.known_cov_nm2):
         fx, fy = chart.at(lat, lon)
         scale = scales.get(label, known)
@@ -541,16 +335,18 @@ def _voyage_known_positions(sheet, chart: _VoyageChart, track, scales: dict[str,
                 ring = (vectors @ np.vstack([np.sqrt(max(values[0], 0)) * np.cos(t),
                                              np.sqrt(max(values[1], 0)) * np.sin(t)])) * scale
                 ex, ey = chart.page(chart.plane(lat, lon)[0] + ring[1], chart.plane(lat, lon)[1] + ring[0])
-                sheet.polygon(ex.tolist(), ey.tolist(), fill=blend(ELLIPSE, PAPER, 0.2), outline=ELLIPSE, width=0.8)
-            sheet.line([fx - 5, fx + 5], [fy, fy], FIX, 1.8)
-            sheet.line([fx, fx], [fy - 5, fy + 5], FIX, 1.8)
+                sheet.polygon(ex.tolist(), ey.tolist(), fill=blend(ELLIPSE, PAPER, 0.2), outline=ELLIPSE, width=0.8,
+                              clip=box, kind="ellipse")
+            placer.take(fix_symbol(sheet, fx, fy))
         else:
-            sheet.polygon([fx - 4, fx + 4, fx + 4, fx - 4], [fy - 4, fy - 4, fy + 4, fy + 4], outline=INK, width=1.4)
-            sheet.text(fx + 7, fy + 10, label.split(" at ")[0], 7, INK)
+            placer.take(position_symbol(sheet, fx, fy, INK, kind="position entry"))
+            labels.append((label.split(" at ")[0], INK, fx, fy))
+    return labels
 
 
-def _voyage_marks(sheet, chart: _VoyageChart, fixes, estimated, noons, arrow_nm: float) -> None:
-    """The set and drift arrows at the fixes, the estimated positions and the noon positions."""
+def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, arrow_nm: float) -> list:
+    """The set and drift arrows at the fixes, the estimated positions and the noon positions; their labels."""
+    labels = []
     for f in fixes.to_dict("records"):
         if not np.isfinite(f["set_deg"]):
             continue
@@ -559,19 +355,21 @@ def _voyage_marks(sheet, chart: _VoyageChart, fixes, estimated, noons, arrow_nm:
         turn = math.radians(f["set_deg"])
         tx, ty = float(fx) + length * math.sin(turn), float(fy) + length * math.cos(turn)
         (sx, sy), (ex_, ey_) = chart.page(float(fx), float(fy)), chart.page(tx, ty)
-        sheet.line([float(sx), float(ex_)], [float(sy), float(ey_)], CHART, 1.6)
+        sheet.line([float(sx), float(ex_)], [float(sy), float(ey_)], CHART, 1.6, kind="set and drift")
         back = math.atan2(float(sy) - float(ey_), float(sx) - float(ex_))
         head = [(float(ex_) + 6 * math.cos(back + s), float(ey_) + 6 * math.sin(back + s)) for s in (0.45, -0.45)]
         sheet.polygon([float(ex_), head[0][0], head[1][0]], [float(ey_), head[0][1], head[1][1]], fill=CHART,
-                      outline=CHART, width=0.5)
+                      outline=CHART, width=0.5, kind="set and drift")
     for e in estimated.to_dict("records"):
         px, py = chart.at(e["lat_deg"], e["lon_deg"])
-        sheet.polygon([px - 4, px + 4, px + 4, px - 4], [py - 4, py - 4, py + 4, py + 4], outline=FIX, width=1.2)
-        sheet.text(px + 7, py - 6, f"EP {e['utc'][11:16]}" + (" (see its warning)" if e.get("note") else ""), 7, FIX)
+        placer.take(ep_symbol(sheet, px, py))
+        labels.append((f"EP {e['utc'][11:16]}" + (" (see its warning)" if e.get("note") else ""), FIX, px, py))
     for n in noons.to_dict("records"):
         px, py = chart.at(n["lat_deg"], n["lon_deg"])
-        sheet.circle(px, py, 3.2, fill=INK)
-        sheet.text(px + 7, py + 13, f"noon {n['date'][5:]}", 7, INK)
+        sheet.circle(px, py, 3.2, fill=INK, kind="noon")
+        placer.take(rect_corners(px - 4, py - 4, px + 4, py + 4))
+        labels.append((f"noon {n['date'][5:]}", INK, px, py))
+    return labels
 
 
 def _voyage_key(sheet, chart: _VoyageChart, arrow_nm: float) -> None:
@@ -583,23 +381,22 @@ def _voyage_key(sheet, chart: _VoyageChart, arrow_nm: float) -> None:
     sheet.line([ax0 + 150, ax0 + 172], [key_y, key_y], CHART, 1.6)
     sheet.text(ax0 + 176, key_y + 3, f"set and drift at a fix ({arrow_nm:.0f} nm of arrow a knot)", 7, CHART)
     kx = ax0 + 360
-    sheet.line([kx - 5, kx + 5], [key_y, key_y], FIX, 1.8)
-    sheet.line([kx, kx], [key_y - 5, key_y + 5], FIX, 1.8)
+    fix_symbol(sheet, kx, key_y, kind="key")
     sheet.text(kx + 9, key_y + 3, "fix (and its 95 % ellipse)", 7, FIX)
     kx += 120
-    sheet.polygon([kx - 4, kx + 4, kx + 4, kx - 4], [key_y - 4, key_y - 4, key_y + 4, key_y + 4], outline=FIX, width=1.2)
+    ep_symbol(sheet, kx, key_y, kind="key")
     sheet.text(kx + 9, key_y + 3, "estimated position", 7, FIX)
     kx += 95
-    sheet.polygon([kx - 4, kx + 4, kx + 4, kx - 4], [key_y - 4, key_y - 4, key_y + 4, key_y + 4], outline=INK, width=1.4)
-    sheet.text(kx + 9, key_y + 3, "departure or position entry", 7, INK)
+    position_symbol(sheet, kx, key_y, INK, kind="key")
+    sheet.text(kx + 10, key_y + 3, "departure or position entry", 7, INK)
     kx += 125
     sheet.circle(kx, key_y, 3.2, fill=INK)
     sheet.text(kx + 8, key_y + 3, "noon", 7, INK)
-    bar = _nice_length(max(chart.width_nm, chart.height_nm) * 0.2)
+    bar = nice_length(max(chart.width_nm, chart.height_nm) * 0.2)
     bx, by = ax0 + 14, ay0 + 18
     sheet.line([bx, bx + bar * chart.per_nm], [by, by], INK, 3.0)
     sheet.text(bx + bar * chart.per_nm / 2, by - 5, f"{bar:g} nautical mile{'s' if bar != 1 else ''}", 8, INK,
-               anchor="middle", box=PAPER)
+               anchor="middle", box=PAPER, kind="scale")
     nx, ny = ax1 - 20, ay0 + 50
     sheet.line([nx, nx], [ny, ny - 28], INK, 1.6)
     sheet.polygon([nx - 4, nx, nx + 4], [ny - 26, ny - 34, ny - 26], fill=INK, outline=INK, width=0.5)

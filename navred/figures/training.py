@@ -71,13 +71,19 @@ def summary_figure(report, title: str = "Training summary"):
     table_ax.axis("off")
     columns = ["observer", "sights", "blunders", "personal_error_arcmin", "interval_95_arcmin", "scatter_arcmin",
                "trend_arcmin_per_day"]
-    cells = [[f"{v:.2f}" if isinstance(v, float) else str(v) for v in obs[c]] for c in columns]
+    reasons = {"personal_error_arcmin": "no good sight", "interval_95_arcmin": "one sight",
+               "scatter_arcmin": "one sight", "trend_arcmin_per_day": "none (see below)"}
+    cells = [[(f"{v:.2f}" if v == v else reasons.get(c, "")) if isinstance(v, float) else str(v) for v in obs[c]]
+             for c in columns]
     rows = list(zip(*cells))
     table = table_ax.table(cellText=rows, colLabels=["observer", "sights", "blunders", "personal error′", "± 95 %′",
                                                      "scatter′", "trend ′/day"], loc="upper center", cellLoc="center")
     table.auto_set_font_size(False)
     table.set_fontsize(7)
     table.scale(1.0, 1.3)
+    if obs["trend_arcmin_per_day"].isna().any():
+        figure.text(0.07, 0.045, "trend ′/day: none where an observer has fewer than 3 good sights or all within a day",
+                    fontsize=7, color=INK)
     figure.text(0.07, 0.02, "navred training summary. An aid to instruction and navigation, not a sole means.",
                 fontsize=7, style="italic", color=INK)
     return figure

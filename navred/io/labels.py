@@ -29,6 +29,9 @@ LABELS = {
     "distance_from_reference_nm": "distance from reference (nm)",
     "bearing_to_reference_deg": "bearing from fix to reference (deg)",
     "reference_inside_95": "reference inside 95 % ellipse", "ellipse_semi_major_95_nm": "95 % semi-major (nm)",
+    "trend_note": "why no trend", "sight_utc": "UTC", "reference_lat_deg": "reference lat (deg)",
+    "reference_lon_deg": "reference lon (deg)", "hc_reference_deg": "Hc at the reference (deg)", "ho_deg": "Ho (deg)",
+    "error_arcmin": "error Ho − Hc (′)", "within_track": "within the track",
     # a route's waypoints (navred.jobs.routes)
     "from_start_nm": "from start (nm)", "rhumb_course_to_next_deg": "rhumb course to next (deg)",
     "rhumb_distance_to_next_nm": "rhumb distance to next (nm)",

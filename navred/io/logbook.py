@@ -57,6 +57,7 @@ from .logcells import (
     texts_of,
     with_decimal_point,
     words,
+    zoneless_utc,
 )
 from .logdr import (
     ENTRY_COLUMNS,
@@ -87,7 +88,7 @@ SIGHT_COLUMNS = [
     "zone_date_used", "zone_time_corrected", "zone_description_used_h", "greenwich_date", "body_name", "limb",
     "hs_deg", "index_error_arcmin", "eye_height_m", "eye_height_as_given", "horizon", "waterline_distance_nm",
     "measured_dip_arcmin", "temperature_c",
-    "temperature_as_given", "pressure_hpa", "pressure_as_given", "dr_lat_deg", "dr_lon_deg", "course_deg",
+    "temperature_as_given", "pressure_hpa", "pressure_as_given", "assumed", "sigma_arcmin", "dr_lat_deg", "dr_lon_deg", "course_deg",
     "speed_kn", "dut1_given_s", "fix_group", "fix_group_given", "chart_lat_deg", "chart_lon_deg", "vessel",
     "observer", "voyage", "series", "read_problem", "read_problem_column", "dr_carried_from", "motion_carried_from",
 ]
@@ -99,7 +100,8 @@ _OUTPUT_COLUMNS = {"sight_utc": "utc", "body_name": "body", "limb": "limb", "hs_
                    "temperature_c": "temperature", "pressure_hpa": "pressure", "dr_lat_deg": "dr_lat",
                    "dr_lon_deg": "dr_lon", "course_deg": "course", "speed_kn": "speed", "dut1_given_s": "dut1",
                    "fix_group": "fix_group", "chart_lat_deg": "chart_lat", "chart_lon_deg": "chart_lon",
-                   "vessel": "vessel", "observer": "observer", "voyage": "voyage", "series": "series"}
+                   "vessel": "vessel", "observer": "observer", "voyage": "voyage", "series": "series",
+                   "sigma_arcmin": "sigma"}
 _OUTPUT_UNITS = {"eye_height": "m", "temperature": "c", "pressure": "hpa"}
 
 
@@ -363,7 +365,7 @@ def whole_log_columns(columns: dict[str, np.ndarray]) -> None:
 
 def _check_is_log(table: RawTable, keys: dict) -> None:
     required = [c.key for c in COLUMNS if c.required]
-    if len(set(keys) & ({"utc", "zone_time"} | set(required))) < 2:
+    if len(set(keys) & ({"utc", "zone_time", "entry"} | set(required))) < 2:
         separator = f"; it is {_SEPARATOR_NAMES.get(table.separator, 'a spreadsheet')}-separated" \
             if table.separator else ""
         shown = ", ".join(repr(h) for h in table.header[:10]) + (", ..." if len(table.header) > 10 else "")
@@ -447,9 +449,26 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
     if not sight_row.all():
         table = table[sight_row].reset_index(drop=True)
     notes = tuple(dict.fromkeys([note for layout in layouts for note in layout.notes]
+                                + _zone_notes(gathered["utc"], parsed["utc"].ok & sight_row, dates, sources, rows)
                                 + _assumed_notes(gathered, sources, rows, (message == "") & sight_row)))
     return SightLog(table, rejected, tuple(t.source for t in tables), sum(t.empty_rows for t in tables), dates,
                     tuple(names), tuple(tables), entries=entries, notes=notes)
+
+
+def _zone_notes(cells, ok, dates, sources, rows) -> list[str]:
+    """The note on instants of the utc column that give no zone (taken as UTC, as the column's name says)."""
+    zoneless = zoneless_utc(cells.values, ok, dates)
+    if not zoneless.any():
+        return []
+    several = len(set(sources.tolist())) > 1
+    named = [f"{Path(str(s)).name} row {r}" if several else f"row {r}" for s, r in
+             zip(sources[zoneless].tolist(), rows[zoneless].tolist())]
+    shown = ", ".join(named[:5]) + (f" and {len(named) - 5} more" if len(named) > 5 else "")
+    count = len(named)
+    return [f"{count} instant{'s' if count > 1 else ''} in the utc column give{'' if count > 1 else 's'} no zone "
+            f"({shown}): taken as UTC, as the column's name says, whether written as text or as a spreadsheet "
+            "date-time cell; if the log holds ship's time, give date, zone_time and zone_description instead "
+            "(write Z, 2026-03-26T19:41:00Z, to say UTC)"]
 
 
 def _assumed_notes(gathered, sources, rows, sights: np.ndarray) -> list[str]:
@@ -560,6 +579,7 @@ def _sight_table(n, sources, rows, parsed, gathered, times, message, where) -> p
         "measured_dip_arcmin": numbers("measured_dip"),
         "temperature_c": numbers("temperature"), "temperature_as_given": as_given("temperature"),
         "pressure_hpa": numbers("pressure"), "pressure_as_given": as_given("pressure"),
+        "assumed": assumed_defaults(parsed, n), "sigma_arcmin": numbers("sigma"),
         "dr_lat_deg": numbers("dr_lat"), "dr_lon_deg": numbers("dr_lon"),
         "course_deg": numbers("course"), "speed_kn": numbers("speed"), "dut1_given_s": numbers("dut1"),
         "fix_group": words(parsed["fix_group"]), "fix_group_given": parsed["fix_group"].ok,
@@ -568,6 +588,24 @@ def _sight_table(n, sources, rows, parsed, gathered, times, message, where) -> p
         "voyage": words(parsed["voyage"]), "series": words(parsed["series"]),
         "read_problem": message, "read_problem_column": where,
     })
+
+
+#: The log's quantities whose default a sight may take (vocabulary.COLUMNS), as a working names them and
+#: the unit it writes
+ASSUMED = (("index_error", "index error", "′"), ("temperature", "temperature", " °C"), ("pressure", "pressure", " hPa"))
+
+
+def assumed_defaults(parsed, n: int) -> np.ndarray:
+    """What each sight took as its default because the log left it blank, in words ('index error 0′;
+    temperature 10 °C'), '' where nothing was assumed: a value assumed is never shown as observed."""
+    out = np.full(n, "", dtype=object)
+    for key, name, unit in ASSUMED:
+        blank = ~parsed[key].ok
+        if blank.any():
+            default = COLUMN[key].default
+            text = f"{name} {default:g}{unit}"
+            out[blank] = np.where(out[blank] == "", text, out[blank] + "; " + text)
+    return out
 
 
 def _extra_name(header: str) -> str:

@@ -17,7 +17,7 @@ from ..angles import parse_angle, parse_angles_fast, wrap_180
 from ..corrections import parse_index_error_arcmin
 from ..errors import NavredError
 from ..stars import canonical_body_name
-from ..timescales import instant_components, iso_z_datetime64
+from ..timescales import instant_components, iso_z_datetime64, iso_zone_missing
 from ..timework import (
     iso_instant_text,
     parse_date,
@@ -223,7 +223,22 @@ def _utc_components(value, dates):
                           "2026-03-26T19:41:00Z")
     elif isinstance(value, str):
         value = iso_instant_text(value.strip(), dates)
+        if iso_zone_missing(value):  # text in the utc column is read as a date-time cell is: UTC, as named
+            value += "Z"
     return tuple(float(np.asarray(c)) for c in instant_components(value))
+
+
+def zoneless_utc(values: np.ndarray, ok: np.ndarray, dates: str | None) -> np.ndarray:
+    """Which cells of the utc column (read ``ok``) gave no zone: a spreadsheet date-time cell, or text with
+    no Z or offset. Both are taken as UTC, as the column's name says; the log's notes say how many."""
+    out = np.zeros(len(values), dtype=bool)
+    for k in np.flatnonzero(ok).tolist():
+        value = values[k]
+        if isinstance(value, _dt.datetime):
+            out[k] = value.tzinfo is None
+        elif isinstance(value, str):
+            out[k] = iso_zone_missing(iso_instant_text(value.strip(), dates))
+    return out
 
 
 def _parse_time_cell(value):

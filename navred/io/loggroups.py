@@ -47,7 +47,29 @@ def automatic_fix_groups(table: pd.DataFrame, ok: np.ndarray) -> tuple[np.ndarra
         names = np.array([f"{t[:10]} {t[11:13]}{t[14:16]}Z" + (f" {o}" if o else "")
                           for t, o in zip(stamps, observers)], dtype=object)
         labels[rows] = names[ids]
+    labels = ships_apart(table, labels, ok)
     if table["source"].nunique() > 1:
         files = table["source"].map(lambda s: Path(s).name).to_numpy(dtype=object)
         labels = np.where(labels != "", files + ": " + labels.astype(str), labels).astype(object)
     return labels, has
+
+
+def ships_apart(table: pd.DataFrame, labels: np.ndarray, ok: np.ndarray) -> np.ndarray:
+    """A fix group's label (written in the log or made for it) that two named vessels share names two groups:
+    each such row's label is prefixed by its vessel, since no fix is made of two ships' sights (two officers
+    of the watch, both logged "OOW", at the same minute). A row naming no vessel is taken as the others'."""
+    vessels = table["vessel"].to_numpy(dtype=object)
+    named = ok & (vessels != "") & (labels != "")
+    if not named.any():
+        return labels
+    sources = table["source"].to_numpy(dtype=object)
+    pairs = pd.DataFrame({"source": sources[named], "label": labels[named], "vessel": vessels[named]})
+    counts = pairs.groupby(["source", "label"], sort=False)["vessel"].nunique()
+    shared = counts.index[counts.to_numpy() > 1]
+    if not len(shared):
+        return labels
+    keys = pd.MultiIndex.from_arrays([sources, labels])
+    rows = np.flatnonzero(named & keys.isin(shared))
+    out = labels.copy()
+    out[rows] = [f"{vessels[r]}: {labels[r]}" for r in rows]
+    return out

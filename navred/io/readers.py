@@ -201,6 +201,25 @@ def check_input_file(path: Path, what: str = "file") -> None:
         raise LogbookError(f"{path} is {kind}, not a regular file: navred reads a {what} from a file saved on disk")
 
 
+def named_input_file(path, what: str, kinds: str, error: type[NavredError], max_bytes: int, too_big: str) -> Path:
+    """A file a reader is given by name (a track, a route): a name, a regular file (:func:`check_input_file`), not
+    larger than ``max_bytes``; refused with ``error`` naming the ``what`` and the ``kinds`` of file it takes.
+    ``too_big`` is what to say of a larger file ('{file}' and '{mib}' are filled in)."""
+    if isinstance(path, str) and not path.strip():
+        raise error(f"no {what} given (an empty name)")
+    if not isinstance(path, (str, Path)):
+        raise error(f"cannot read {str(path)[:60]!r} as a {what}: give the name of a {kinds} file")
+    file = Path(path)
+    try:
+        check_input_file(file, what)
+    except NavredError as exc:
+        raise error(str(exc)) from None
+    size = file.stat().st_size
+    if size > max_bytes:
+        raise error(too_big.format(file=file, mib=size / 2**20))
+    return file
+
+
 def _check_file(path: Path) -> None:
     """The bounds every file is read under: present, a regular file, not empty, not too large."""
     check_input_file(path)

@@ -72,18 +72,28 @@ class Timepiece:
         elif not float(f.spread_days) > 0:
             rate = "rate unknown (every comparison at one instant)"
         elif n == 2:
-            rate = f"rate {f.rate_s_per_day:+.2f} s a day (two comparisons: no uncertainty)"
+            rate = f"{rate_words(f.rate_s_per_day)} (two comparisons: no uncertainty)"
         else:
-            rate = f"rate {f.rate_s_per_day:+.2f} ± {f.rate_95_s_per_day:.2f} s a day (95 %), scatter {f.sigma_s:.2f} s"
+            rate = (f"{rate_words(f.rate_s_per_day, f.rate_95_s_per_day)} (95 %), scatter {f.sigma_s:.2f} s")
         text = (f"{self.name or 'the timepiece'}: {n} comparison{'s' if n != 1 else ''} from "
                 f"{self.comparisons.signal_utc.iloc[0]:%Y-%m-%d} to {last.signal_utc:%Y-%m-%d}; error "
                 f"{abs(error_now):.1f} s {'fast' if error_now >= 0 else 'slow'} at the last signal; {rate}")
         if self.change.changed:
             at = self.comparisons.signal_utc.iloc[self.change.split_index]
-            text += (f". RATE CHANGED after {at:%Y-%m-%d %H:%M} UTC: {self.change.rate_before_s_per_day:+.2f} s a day "
-                     f"before, {self.change.rate_after_s_per_day:+.2f} after (F {self.change.f_statistic:.1f} > "
+            text += (f". RATE CHANGED after {at:%Y-%m-%d %H:%M} UTC: {rate_words(self.change.rate_before_s_per_day)} "
+                     f"before, {rate_words(self.change.rate_after_s_per_day)} after (F {self.change.f_statistic:.1f} > "
                      f"{self.change.f_critical:.1f}); rate it again from the later signals")
         return text
+
+
+def rate_words(rate_s_per_day: float, interval_95_s: float | None = None) -> str:
+    """A timepiece's daily rate as the trade says it: 'gaining 0.46 s a day' (a rate that makes it fast),
+    'losing 1.20 s a day', with its 95 % interval when given ('gaining 0.46 ± 0.10 s a day')."""
+    rate = float(rate_s_per_day)
+    spread = f" ± {float(interval_95_s):.2f}" if interval_95_s is not None else ""
+    if f"{abs(rate):.2f}" == "0.00":
+        return f"neither gaining nor losing (0.00{spread} s a day)"
+    return f"{'gaining' if rate > 0 else 'losing'} {abs(rate):.2f}{spread} s a day"
 
 
 @dataclass(frozen=True)
@@ -120,7 +130,7 @@ class Ratings:
             se[rows] = piece.fit.error_se_at(days[rows])
             last = float(days_of(np.array([piece.last_signal.tz_convert(None).to_datetime64()]))[0])
             rate = "no rate" if int(piece.fit.n) < 2 or not float(piece.fit.spread_days) > 0 \
-                else f"rate {float(piece.fit.rate_s_per_day):+.2f} s a day"
+                else rate_words(float(piece.fit.rate_s_per_day))
             for i in rows.tolist():
                 beyond = days[i] - last
                 text = f"{piece.name or 'the timepiece'} rated: {rate}"
@@ -284,4 +294,4 @@ def _comparison(cells: dict, dates: str | None = None) -> tuple[dict, list[tuple
             "error_s": error}, []
 
 
-__all__ = ["Ratings", "Timepiece", "read_rating_log", "RATING_COLUMNS", "days_of", "EXTRAPOLATION_NOTE_DAYS"]
+__all__ = ["rate_words", "Ratings", "Timepiece", "read_rating_log", "RATING_COLUMNS", "days_of", "EXTRAPOLATION_NOTE_DAYS"]

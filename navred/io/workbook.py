@@ -21,7 +21,7 @@ from .xlsxtables import TableWriter, safe_text
 SAFETY = ("SAFETY OF NAVIGATION: navred is an aid to navigation, not a sole means of navigation. "
           "Verify against the official nautical almanac and the publications of your flag state; "
           "keep a DR plot and cross-check every fix with every other means; low sights (below "
-          "about 10°) and Moon sights carry larger errors; defer to local regulations, the "
+          "5° of altitude) and Moon sights carry larger errors; defer to local regulations, the "
           "ship's master and licensed practice.")
 
 _HEADER_FILL = "1D3557"
@@ -69,9 +69,13 @@ def add_figure(sheet, figure, anchor: str, width: int, height: int) -> None:
     sheet.add_image(image, anchor)
 
 
-#: How a column displays its numbers, by the unit in its header: to 0.1′ for arcminutes, to 0.0001°
-#: (0.006′) for decimal degrees, to 0.1° for a course or a set, while the cell keeps full precision.
-_NUMBER_FORMATS = (("(′", "0.0"), ("course made good (deg)", "0.0"), ("set (deg)", "0.0"), ("±95 % (deg)", "0"),
+#: How a column displays its numbers, by the unit in its header, while the cell keeps full precision: to 0.1′
+#: for arcminutes; a true direction (Zn, a bearing, a course, a set, an axis) in three figures to 0.1° as the
+#: trade writes it (040.7°); the angle of cut in whole degrees; Z to 0.1°; other decimal degrees to 0.0001°
+#: (0.006′).
+_NUMBER_FORMATS = (("(′", "0.0"), ("zn (deg", "000.0"), ("(deg true)", "000.0"), ("bearing", "000.0"),
+                   ("course made good (deg)", "000.0"), ("set (deg)", "000.0"), ("±95 % (deg)", "0"),
+                   ("angle of cut (deg)", "0"), ("z (deg)", "0.0"), ("z interpolated (deg)", "0.0"),
                    ("(deg", "0.0000"), ("(nm)", "0.0"), ("(s", "0.000"), ("(m)", "0.00"),
                    ("(°c)", "0.0"), ("(hpa)", "0.0"), ("(kn)", "0.0"), ("(h)", "0"),
                    ("(%)", "0"))
@@ -81,6 +85,18 @@ DATE_TIME_FORMAT = "yyyy-mm-dd hh:mm:ss"
 def _number_format(name: str) -> str | None:
     lower = str(name).lower()
     return next((form for unit, form in _NUMBER_FORMATS if unit in lower), None)
+
+
+def without_negative_zero(values, form: str | None):
+    """A column's numbers with those that would show as "-0.0" in ``form`` (a negative zero, or a negative
+    value smaller than half the last figure shown) stored as 0: the trade never writes a signed zero."""
+    if form is None:
+        return values
+    half = 0.5 * 10.0 ** -(len(form.split(".")[1]) if "." in form else 0)
+    if pd.api.types.is_float_dtype(values):
+        array = np.asarray(values, dtype=float)
+        return np.where((array > -half) & (array <= 0.0), 0.0, array)
+    return [0.0 if isinstance(v, float) and -half < v <= 0.0 else v for v in values]
 
 
 def style_header(cell) -> None:
@@ -122,6 +138,11 @@ def write_table_sheet(tables: TableWriter, sheet, frame: pd.DataFrame, *, wide: 
                  flag_column: str | None = None, first_row: int = 1):
     """A table as a sheet: styled headers, frozen, numbers shown to their unit's precision, text as text."""
     formats = [_number_format(name) for name in frame.columns]
+    if any(formats):
+        frame = frame.copy()
+        for name, form in zip(list(frame.columns), formats):
+            if form:
+                frame[name] = without_negative_zero(frame[name], form)
     flagged = None
     if flag_column in frame.columns:
         flagged = frame[flag_column].astype(str).str.contains("BLUNDER", regex=False).to_numpy()

@@ -89,7 +89,8 @@ def _dr_tracks(days) -> list[GpxTrack]:
         # a known position the log ends at has no leg from it yet
         segments = [[GpxPoint(r["lat_deg"], r["lon_deg"], iso_z(r["utc"])) for r in leg.to_dict("records")]
                     for _, leg in part.groupby("leg", sort=False) if len(leg) >= 2]
-        tracks.append(GpxTrack(f"DR track {vessel}".strip(), "DR", segments))
+        if segments:  # a vessel whose DR has no leg yet has no track (never an empty <trk>)
+            tracks.append(GpxTrack(f"DR track {vessel}".strip(), "DR", segments))
     return tracks
 
 

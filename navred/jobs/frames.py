@@ -142,12 +142,12 @@ def fix_position(reduced: pd.DataFrame, at_utc: Instant | None = None, *, group:
         reduced["dr_lat_deg"].to_numpy(dtype=float), reduced["dr_lon_deg"].to_numpy(dtype=float),
         usable=usable, course_deg=column("course_deg", course_deg), speed_kn=column("speed_kn", speed_kn),
         at_utc=at_utc, chart_lat=chart_lat, chart_lon=chart_lon, solve_motion=solve_motion, set_deg=set_deg,
-        drift_kn=drift_kn, labels=row_labels(reduced, several=several))
+        drift_kn=drift_kn, labels=row_labels(reduced, several=several), **_per_sight(reduced))
 
 
 #: The columns of a table of fixes (``navred fix --csv``, :meth:`GroupedFixes.table`), one row per fix group,
 #: decimal degrees.
-FIX_COLUMNS = ("fix_group", "utc", "kind", "lat_deg", "lon_deg", "sights", "sigma_arcmin", "quantile",
+FIX_COLUMNS = ("fix_group", "utc", "kind", "lat_deg", "lon_deg", "sights", "sigma_arcmin", "weighted", "quantile",
                "ellipse_length_nm", "ellipse_width_nm", "ellipse_semi_major_nm", "ellipse_semi_minor_nm",
                "ellipse_orientation_deg", "flagged", "left_out", "all_sights_lat_deg", "all_sights_lon_deg",
                "dr_distance_nm", "chart_distance_nm", "chart_inside_ellipse", "note")
@@ -161,10 +161,14 @@ def fix_table_row(name: str, fix: FixResult | None, row_names: np.ndarray, probl
     n = len(row_names)
     left = fix.left_out if fix.left_out.size == n else np.zeros(n, dtype=bool)
     outlier = fix.outlier if fix.outlier.size == n else np.zeros(n, dtype=bool)
+    weight = fix.weight if fix.weight.size == n else np.ones(n)
     every = fix.all_sights
     return {"fix_group": name, "utc": str(fix.utc)[:23] + "Z", "kind": fix.kind,
             "lat_deg": fix.lat_deg, "lon_deg": fix.lon_deg, "sights": int(fix.used.sum()),
-            "sigma_arcmin": fix.sigma_arcmin, "quantile": fix.quantile,
+            "sigma_arcmin": fix.sigma_arcmin,
+            "weighted": " ".join(str(r) for r, u, w in zip(row_names.tolist(), fix.used.tolist(), weight.tolist())
+                                 if u and w != 1.0),
+            "quantile": fix.quantile,
             "ellipse_length_nm": 2 * fix.ellipse_semi_major_nm, "ellipse_width_nm": 2 * fix.ellipse_semi_minor_nm,
             "ellipse_semi_major_nm": fix.ellipse_semi_major_nm, "ellipse_semi_minor_nm": fix.ellipse_semi_minor_nm,
             "ellipse_orientation_deg": fix.ellipse_orientation_deg,
@@ -274,13 +278,20 @@ def fix_positions(reduced: pd.DataFrame, at_utc: Instant | Mapping[str, Instant]
         reduced["dr_lat_deg"].to_numpy(dtype=float), reduced["dr_lon_deg"].to_numpy(dtype=float), group,
         usable=usable, course_deg=column("course_deg", course_deg), speed_kn=column("speed_kn", speed_kn),
         at_utc=at_utc, chart_lat=chart_lat, chart_lon=chart_lon, solve_motion=solve_motion, set_deg=set_deg,
-        drift_kn=drift_kn, labels=labels)
+        drift_kn=drift_kn, labels=labels, **_per_sight(reduced))
     results = {name: batch.results[k] for k, name in enumerate(chosen) if batch.results[k] is not None}
     problems = {name: batch.problems[k] for k, name in enumerate(chosen) if batch.results[k] is None}
     order = np.argsort(group, kind="stable")
     bounds = np.searchsorted(group[order], np.arange(len(chosen) + 1))
     rows = {name: tuple(labels[order[bounds[k]:bounds[k + 1]]].tolist()) for k, name in enumerate(chosen)}
     return GroupedFixes(tuple(chosen), results, problems, rows)
+
+
+def _per_sight(reduced: pd.DataFrame) -> dict:
+    """What the fix takes per sight beside the lines when the table holds it, as the commands give it: the Hs as
+    read (the check for degrees and minutes written as a decimal) and each sight's own σ (its weight)."""
+    return {name: reduced[name].to_numpy(dtype=float) if name in reduced.columns else None
+            for name in ("hs_deg", "sigma_arcmin")}
 
 
 def one_fix_group(reduced: pd.DataFrame, group: str | None = None) -> pd.DataFrame:

@@ -16,23 +16,27 @@ from .forking import can_fork, cores, forked_map
 from .frames import row_labels
 
 
-def _sight_labels(voyage) -> tuple[np.ndarray, np.ndarray]:
-    """Each reduced sight's body and time (HH:MM) as a plotting sheet labels its line, made once a run."""
-    if "sight labels" not in voyage.cache:
+def _sight_columns(voyage) -> dict[str, np.ndarray]:
+    """What a plotting sheet needs of every reduced sight (body, UTC, row label, DR, intercept and Zn at its
+    time), made once a run."""
+    if "sheet columns" not in voyage.cache:
         reduced = voyage.reduced
-        voyage.cache["sight labels"] = (reduced.body_name.astype(str).to_numpy(),
-                                        reduced.sight_utc.dt.strftime("%H:%M").fillna("").to_numpy())
-    return voyage.cache["sight labels"]
+        voyage.cache["sheet columns"] = {
+            "body": reduced.body_name.astype(str).to_numpy(),
+            "utc": reduced.sight_utc.dt.tz_convert(None).to_numpy(dtype="datetime64[ns]") if len(reduced)
+            else np.zeros(0, dtype="datetime64[ns]"),
+            "rows": np.asarray(row_labels(reduced), dtype=object),
+            **{name: reduced[name].to_numpy(dtype=float) for name in ("dr_lat_deg", "dr_lon_deg", "intercept_nm",
+                                                                       "zn_deg")}}
+    return voyage.cache["sheet columns"]
 
 
 def plotting_figure(voyage, group):
     """The plotting sheet figure of one fix group."""
-    from ..figures.plotting import plotting_sheet
-    bodies, times = _sight_labels(voyage)
-    if "row labels" not in voyage.cache:
-        voyage.cache["row labels"] = row_labels(voyage.reduced)
-    return plotting_sheet(group.fix, bodies[group.rows], times[group.rows], title=f"Plotting sheet: {group.name}",
-                          chart=group.chart, rows=voyage.cache["row labels"][group.rows])
+    from ..figures.plotsheet import SheetSights, plotting_sheet
+
+    columns = {name: values[group.rows] for name, values in _sight_columns(voyage).items()}
+    return plotting_sheet(group.fix, SheetSights(**columns), title=f"Plotting sheet: {group.name}", chart=group.chart)
 
 
 def plot_file_stems(names) -> list[str]:
@@ -115,7 +119,7 @@ def write_plots(voyage, folder: str | Path, formats: tuple[str, ...] = ("png", "
         written += atomic_write_many(out, pictures, inputs=voyage.inputs)
     stems = plot_file_stems(g.name for g in chosen)
     batches = [(start, min(start + PLOTS_PER_WRITE, len(chosen))) for start in range(0, len(chosen), PLOTS_PER_WRITE)]
-    _sight_labels(voyage)  # worked out once, before any drawer starts
+    _sight_columns(voyage)  # worked out once, before any drawer starts
     context = {"voyage": voyage, "chosen": chosen, "stems": stems, "formats": tuple(formats)}
     done = 0
     if progress is not None:

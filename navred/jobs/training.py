@@ -64,7 +64,9 @@ def _summaries(frame: pd.DataFrame, keys: list[str]) -> pd.DataFrame:
         half = float(student_t_quantile(0.975, n_good - 1)) * se if n_good > 1 else np.nan
         days = (part.sight_utc - part.sight_utc.min()).dt.total_seconds().to_numpy() / SECONDS_PER_DAY
         slope = slope_se = np.nan
-        if n_good >= 3 and np.ptp(days[~blunder]) > 1.0:
+        trend_note = ("fewer than 3 good sights" if n_good < 3 else
+                      "sights within a day" if not np.ptp(days[~blunder]) > 1.0 else "")
+        if not trend_note:
             x = days[~blunder]
             x_mean = x.mean()
             sxx = np.sum((x - x_mean) ** 2)
@@ -75,7 +77,8 @@ def _summaries(frame: pd.DataFrame, keys: list[str]) -> pd.DataFrame:
         rows.append({**dict(zip(keys, names)), "sights": int(error.size), "blunders": int(blunder.sum()),
                      "blunder_rate": float(blunder.mean()), "personal_error_arcmin": mean,
                      "standard_error_arcmin": se, "interval_95_arcmin": half, "scatter_arcmin": scatter,
-                     "trend_arcmin_per_day": slope, "trend_standard_error_arcmin_per_day": slope_se})
+                     "trend_arcmin_per_day": slope, "trend_standard_error_arcmin_per_day": slope_se,
+                     "trend_note": trend_note})
     return pd.DataFrame(rows)
 
 

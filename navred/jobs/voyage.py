@@ -432,7 +432,7 @@ def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: obj
               reduced["ho_deg"].to_numpy(dtype=float), utc64(reduced["sight_utc"]),
               reduced["dr_lat_deg"].to_numpy(dtype=float), reduced["dr_lon_deg"].to_numpy(dtype=float))
     batch = fixes_from_sights(*arrays, group, chart_lat=chart_lat, chart_lon=chart_lon, hs_deg=column("hs_deg"),
-                              **arguments)
+                              sigma_arcmin=column("sigma_arcmin"), **arguments)
     by_group = np.argsort(np.where(group >= 0, group, count), kind="stable")
     bounds = np.concatenate([[0], np.cumsum(np.bincount(group[group >= 0], minlength=count))]).tolist()
     usable_count = np.bincount(group[(group >= 0) & usable], minlength=count)
@@ -442,7 +442,10 @@ def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: obj
         position = (float(chart_lat[k]), float(chart_lon[k])) if np.isfinite(chart_lat[k]) else None
         problem = batch.problems[k]
         if usable_count[k] < 2:
-            problem = f"{usable_count[k]} usable sight(s): a fix needs two or more"
+            count_k = int(usable_count[k])
+            problem = (f"{count_k} usable sight{'' if count_k == 1 else 's'}: a fix needs two or more"
+                       + (" (one sight gives a line of position; on the meridian, a latitude: see the latitude "
+                          "checks)" if count_k == 1 else ""))
         groups.append(GroupFix(name, rows, batch.results[k], problem, position, notes[k] if position else ""))
     return groups
 

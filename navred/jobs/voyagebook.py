@@ -27,18 +27,34 @@ from ..io.workbook import (
     front_sheet,
     new_tables,
     pictures_below,
+    utc_cell,
     write_table_sheet,
     write_text_safe,
 )
 from ..io.xlsxtables import TableWriter
 from .plotfiles import plotting_figure
-from .voyagetables import fixes_table, plan_table, rejected_table, series_table, working_table
+from .voyagetables import (
+    fixes_table,
+    hand_working_table,
+    plan_table,
+    rejected_table,
+    series_table,
+    working_table,
+)
 
 #: What each sheet holds, on the About sheet.
 SHEETS = (
     ("Sights as read", "every row of the log, exactly as it was read"),
     ("Working", "one row per reduced sight: every correction from Hs to Ho, GHA, Dec, LHA, Hc, Zn, "
-                "the intercept, the residual at the fix and any flag (angles as ° ′ with decimal degrees beside)"),
+                "the intercept, the residual at the fix and any flag (angles as ° ′ with decimal degrees beside; "
+                "a temperature, pressure or index error the log left blank is shown as assumed, '10 °C "
+                "assumed'; a blank says why)"),
+    ("Working by hand", "the Working sheet's sights worked again in the order and rounding of a hand working from "
+                        "an assumed position, as a sight book sets it out: GHA at the whole hour (of Aries for a "
+                        "star), increment, v and its correction, SHA, Dec at the whole hour, d and its correction, "
+                        "HP; Hs, IC, dip, Ha, the main correction, Ho; the assumed position, LHA, the tables' "
+                        "Hc, d and Z, the d correction of Hc, Hc, Z and Zn, and the intercept from the assumed "
+                        "position (a cadet checks a page against it line by line)"),
     ("Fixes", "one row per fix group: position, 95 % ellipse (its full size, then its semi-axes), sight error, "
               "what the blunder check can find, sights left out as gross errors (with the fix from every "
               "sight beside it), flagged sights, chart check; the plotting sheets below the table. The 95 % "
@@ -84,6 +100,7 @@ def write_workbook(voyage, path: str | Path, *, plots: bool | Pictures = True, t
     _write_about_sheet(book, voyage)
     write_table_sheet(tables, book.create_sheet("Sights as read"), voyage.raw)
     write_table_sheet(tables, book.create_sheet("Working"), working_table(voyage), flag_column="flags")
+    write_table_sheet(tables, book.create_sheet("Working by hand"), hand_working_table(voyage))
     fixes_sheet = book.create_sheet("Fixes")
     fixes = fixes_table(voyage)
     write_table_sheet(tables, fixes_sheet, fixes, wide={"note": 80, "σ from": 30})
@@ -152,8 +169,10 @@ def _plotting_sheets_below(fixes_sheet, voyage, anchor_row: int, pictures: Pictu
         write_text_safe(fixes_sheet.cell(row=anchor_row - 1, column=1), note)
         anchor_row += 1
     for group in shown:
-        add_figure(fixes_sheet, plotting_figure(voyage, group), f"A{anchor_row}", 560, 560)
-        anchor_row += 30
+        figure = plotting_figure(voyage, group)
+        height = round(560 * figure.height / figure.width)  # the sheet's notes make some taller than others
+        add_figure(fixes_sheet, figure, f"A{anchor_row}", 560, height)
+        anchor_row += height // 20 + 2
 
 
 def _write_timepieces_sheet(tables: TableWriter, sheet, voyage) -> None:
@@ -168,7 +187,7 @@ def _write_timepieces_sheet(tables: TableWriter, sheet, voyage) -> None:
         sheet.cell(row=line, column=1, value=f"Timepiece: {name or '(the one rated)'}").font = Font(bold=True)
         write_text_safe(sheet.cell(row=line + 1, column=1), piece.summary())
         count = int(used.str.startswith(f"{name or 'the timepiece'} rated").sum())
-        sheet.cell(row=line + 2, column=1, value=f"{count} sight(s) of this log took their watch error from this rating")
+        sheet.cell(row=line + 2, column=1, value=f"{count} sight{'' if count == 1 else 's'} of this log took their watch error from this rating")
         line += 4
         frame = piece.comparisons.assign(signal_utc=piece.comparisons.signal_utc.dt.strftime("%Y-%m-%d %H:%M:%S"))
         write_table_sheet(tables, sheet, labelled(frame), first_row=line)
@@ -216,7 +235,8 @@ def _write_training_sheet(tables: TableWriter, sheet, report, pictures: Pictures
                report.observers),
               ("By kind of body", report.by_body), ("Fixes against the reference track", report.fixes),
               ("Every sight: error = Ho − Hc at the reference position",
-               report.sights.assign(sight_utc=report.sights.sight_utc.dt.strftime("%Y-%m-%d %H:%M:%S")))]
+               report.sights.assign(sight_utc=[utc_cell(v) for v in
+                                               report.sights.sight_utc.dt.tz_convert(None).to_numpy()]))]
     problems = getattr(report, "track_problems", None)
     if problems is not None and len(problems):
         where = "point" if str(getattr(report, "track_source", "")).lower().endswith(".gpx") else "line"

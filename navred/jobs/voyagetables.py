@@ -12,6 +12,7 @@ import numpy as np
 import pandas as pd
 
 from ..angles import format_angle
+from ..figures.plotsheet import is_running_fix
 from ..io.workbook import utc_cell
 from ..status import SightStatus
 from .frames import row_labels
@@ -38,8 +39,12 @@ def working_table(voyage) -> pd.DataFrame:
     residual = np.full(len(reduced), np.nan)
     flagged = np.zeros(len(reduced), dtype=bool)
     left_out = np.zeros(len(reduced), dtype=bool)
+    no_residual = np.full(len(reduced), "not in a fix group", dtype=object)
     by_test = np.zeros(len(reduced), dtype=bool)
+    weight_used = np.full(len(reduced), "not in a fix", dtype=object)
+    sigma_taken = np.full(len(reduced), "not in a fix", dtype=object)
     for group in voyage.groups:
+        no_residual[group.rows] = f"no fix: {group.problem}" if group.fix is None else "not used by the fix"
         if group.fix is not None:
             residual[group.rows] = group.fix.residual_arcmin
             flagged[group.rows] = group.fix.outlier
@@ -47,9 +52,14 @@ def working_table(voyage) -> pd.DataFrame:
                 left_out[group.rows] = group.fix.left_out
             if group.fix.blunder_left_out.size == len(group.rows):
                 by_test[group.rows] = group.fix.blunder_left_out
+            if group.fix.weight.size == len(group.rows):
+                used = np.asarray(group.fix.used, dtype=bool)
+                weight_used[group.rows] = np.where(used, group.fix.weight.astype(object), "not used by the fix")
+                sigma_taken[group.rows] = np.where(used, group.fix.sight_sigma_arcmin.astype(object),
+                                                   "not used by the fix")
     ok = reduced.status.to_numpy() != SightStatus.ERROR
     r = reduced[ok].reset_index(drop=True)
-    residual, flagged, left_out, by_test = residual[ok], flagged[ok], left_out[ok], by_test[ok]
+    residual, flagged, left_out, no_residual, by_test = residual[ok], flagged[ok], left_out[ok], no_residual[ok], by_test[ok]
     notes = [("; ".join(x for x in (("BLUNDER: a clear one by the blunder test, LEFT OUT of the fix" if t else
                                      "BLUNDER: a gross error, LEFT OUT of the fix" if g else
                                      "BLUNDER? flagged by the fix" if f else ""), m) if x))
@@ -69,10 +79,10 @@ def working_table(voyage) -> pd.DataFrame:
         "Hs (° ′)": format_angle(r.hs_deg.to_numpy(dtype=float), "signed"),
         "Hs (deg)": r.hs_deg,
         "horizon": r.horizon,
-        "index error (′, on +)": r.index_error_arcmin,
+        "index error (′, on +)": assumed_cells(r.index_error_arcmin, r.assumed, "index error", "′"),
         "height of eye (m)": r.eye_height_m,
-        "temperature (°C)": r.temperature_c,
-        "pressure (hPa)": r.pressure_hpa,
+        "temperature (°C)": assumed_cells(r.temperature_c, r.assumed, "temperature", " °C"),
+        "pressure (hPa)": assumed_cells(r.pressure_hpa, r.assumed, "pressure", " hPa"),
         "IC (′)": r.ic_arcmin,
         "horizon (′)": r.horizon_arcmin,
         "dip (′)": r.dip_arcmin,
@@ -93,18 +103,48 @@ def working_table(voyage) -> pd.DataFrame:
         "LHA (° ′)": format_angle(r.lha_deg.to_numpy(dtype=float), "angle"),
         "Hc (° ′)": format_angle(r.hc_deg.to_numpy(dtype=float), "signed"),
         "Hc (deg)": r.hc_deg,
-        "Zn (deg)": r.zn_deg,
+        "Zn (deg true)": r.zn_deg,
         "intercept (nm)": r.intercept_nm.abs(),
         "TOWARD/AWAY": r.intercept_direction,
-        "residual at fix (′)": residual,
+        "residual at fix (′)": np.where(np.isfinite(residual), residual.astype(object), no_residual),
         "DUT1 (s)": r.dut1_s,
         "UT1 source": r.ut1_source,
-        "flags": notes,
+        "flags": [n or "none" for n in notes],
     })
-    return _with_columns_used(table, r, voyage.log.extra_columns)
+    table = _with_columns_used(table, r, voyage.log.extra_columns, (weight_used[ok], sigma_taken[ok]))
+    return _with_latitudes(table, r)
 
 
-def _with_columns_used(table: pd.DataFrame, r: pd.DataFrame, extra_columns) -> pd.DataFrame:
+def _with_latitudes(table: pd.DataFrame, r: pd.DataFrame) -> pd.DataFrame:
+    """The latitude a sight on the meridian (or of Polaris) gives, beside its Ho, where the log has one: the
+    noon latitude is the first figure a master looks for in the day's work (navred fix prints the same)."""
+    from .fixing import latitude_checks
+
+    checks = latitude_checks(r)
+    if not len(checks):
+        return table
+    labels = row_labels(r)
+    texts = np.full(len(r), "not on the meridian", dtype=object)
+    where = {label: k for k, label in enumerate(labels.tolist())}
+    for row in checks.itertuples():
+        method = "meridian altitude" if row.method == "meridian" else "Polaris"
+        texts[where[row.row]] = f"{format_angle(float(row.lat_deg), 'lat')} ({method})"
+    table.insert(table.columns.get_loc("Hc (° ′)"), "latitude (° ′)", texts)
+    return table
+
+
+def assumed_cells(values: pd.Series, assumed: pd.Series, name: str, unit: str) -> np.ndarray:
+    """A column of the working whose default a sight took where the log left it blank: the number where the
+    log gave it, the words '10 °C assumed' where the default was taken (never shown as observed)."""
+    taken = assumed.astype(str).str.contains(f"{name} ", regex=False).to_numpy()
+    numbers = values.to_numpy(dtype=float)
+    if not taken.any():
+        return numbers
+    return np.array([f"{v:g}{unit} assumed" if t else v for v, t in zip(numbers.tolist(), taken.tolist())],
+                    dtype=object)
+
+
+def _with_columns_used(table: pd.DataFrame, r: pd.DataFrame, extra_columns, weighing=None) -> pd.DataFrame:
     """The Working sheet's columns that only some logs need, inserted beside their kin."""
     # a value given in other units (feet, °F, inHg, mmHg) is shown as given beside the value used
     for column, label, after in (("eye_height_as_given", "height of eye as given", "height of eye (m)"),
@@ -117,6 +157,16 @@ def _with_columns_used(table: pd.DataFrame, r: pd.DataFrame, extra_columns) -> p
                                  ("phase_angle_deg", "phase angle (deg)", "phase (′)")):
         if np.isfinite(r[column].to_numpy(dtype=float)).any():
             table.insert(table.columns.get_loc(after), label, r[column].to_numpy(dtype=float))
+    sigma = r["sigma_arcmin"].to_numpy(dtype=float) if "sigma_arcmin" in r.columns else np.zeros(0)
+    if np.isfinite(sigma).any():  # the log weights some sights: each one's σ, as the fix weighs it
+        table.insert(table.columns.get_loc("residual at fix (′)"), "sight σ given (′)",
+                     np.where(np.isfinite(sigma), sigma.astype(object), "not given: as any sight"))
+        if weighing is not None:  # the weight (1′/σ)² and the σ the fix takes each sight to have
+            table.insert(table.columns.get_loc("residual at fix (′)"), "weight in the fix", weighing[0])
+            table.insert(table.columns.get_loc("residual at fix (′)"), "σ the fix takes (′)", weighing[1])
+    limb = r["limb"].astype(str).to_numpy() if "limb" in r.columns else np.zeros(0, dtype=str)
+    if (limb != "").any():  # the limb worked, whose semi-diameter the SD column applies
+        table.insert(table.columns.get_loc("body") + 1, "limb", np.where(limb != "", limb, "none (a point of light)"))
     rated = r.watch_error_from.astype(str).to_numpy()
     if ((rated != "") & (rated != "given")).any():
         table.insert(table.columns.get_loc("watch error (s, fast +)") + 1, "watch error from", rated)
@@ -136,8 +186,119 @@ def _with_columns_used(table: pd.DataFrame, r: pd.DataFrame, extra_columns) -> p
     return table
 
 
+def hand_working_table(voyage) -> pd.DataFrame:
+    """The Working sheet's second view: each reduced sight worked as a cadet works it by hand from an assumed
+    position (:func:`navred.handworking.hand_working`), in the order of the sight book's lines and their
+    rounding: the time, the almanac (GHA at the whole hour, of Aries for a star, increment, v, SHA, Dec at
+    the whole hour, d, HP), the altitude (Hs, IC, dip, Ha, the main correction, Ho), the assumed position and
+    LHA, the tables (tabulated Hc, d and Z), Hc, Zn and the intercept from the AP. The same sights, Ho and
+    almanac as the Working sheet."""
+    from ..handworking import hand_working
+
+    reduced = voyage.reduced
+    r = reduced[reduced.status.to_numpy() != SightStatus.ERROR].reset_index(drop=True)
+    if not len(r):
+        return pd.DataFrame()
+    w = hand_working(r.sight_utc.dt.tz_convert(None).to_numpy(dtype="datetime64[ns]"), r.body_name.to_numpy(),
+                     r.ho_deg.to_numpy(dtype=float), r.dr_lat_deg.to_numpy(dtype=float),
+                     r.dr_lon_deg.to_numpy(dtype=float), r.dut1_s.to_numpy(dtype=float))
+    star = w.kind == "star"
+    ha = r.ha_deg.to_numpy(dtype=float)
+    ho = r.ho_deg.to_numpy(dtype=float)
+    main = (ho - ha) * 60.0  # refraction, SD, parallax and phase together, as the almanac's tables give them
+
+    def angle(values, kind="angle"):
+        return format_angle(np.asarray(values, dtype=float), kind)
+
+    return pd.DataFrame({
+        **_row_columns(voyage, r),
+        "fix group": r["fix_group"].astype(str),
+        "body": r.body_name,
+        "UTC": [utc_cell(v) for v in r.sight_utc.dt.tz_convert(None).to_numpy()],
+        "GHA at the whole hour (Aries for a star) (° ′)": angle(w.gha_hour_deg),
+        "GHA increment (° ′)": angle(w.increment_arcmin / 60.0, "signed"),
+        "v (′)": np.where(np.isfinite(w.v_arcmin), w.v_arcmin.astype(object), "Sun or star"),
+        "v correction (′)": np.where(np.isfinite(w.v_correction_arcmin), w.v_correction_arcmin.astype(object),
+                                     "Sun or star"),
+        "SHA (° ′)": np.where(star, angle(w.sha_deg), "not a star"),
+        "GHA (° ′)": angle(w.gha_deg),
+        "Dec at the whole hour (° ′)": np.where(star, "a star", angle(w.dec_hour_deg, "dec")),
+        "d (′, Dec growing north +)": np.where(star, "a star", w.d_arcmin.astype(object)),
+        "d correction (′)": np.where(star, "a star", w.d_correction_arcmin.astype(object)),
+        "Dec (° ′)": angle(w.dec_deg, "dec"),
+        "HP (′)": np.where(star, "a star", w.hp_arcmin.astype(object)),
+        "Hs (° ′)": angle(r.hs_deg, "signed"),
+        "IC (′)": r.ic_arcmin.to_numpy(dtype=float),
+        "dip (′)": r.dip_arcmin.to_numpy(dtype=float) + r.horizon_arcmin.to_numpy(dtype=float),
+        "Ha (° ′)": angle(ha, "signed"),
+        "main correction (′)": main,
+        "Ho (° ′)": angle(w.ho_deg, "signed"),
+        "AP lat (° ′)": angle(w.ap_lat_deg, "lat"),
+        "AP lon (° ′)": angle(w.ap_lon_deg, "lon"),
+        "LHA (°)": [f"{v:03.0f}°" for v in w.lha_deg.tolist()],
+        "tables' Dec (°)": [f"{abs(v):.0f}° {'N' if v >= 0 else 'S'}" for v in w.tab_dec_deg.tolist()],
+        "tabulated Hc (° ′)": angle(w.tab_hc_deg, "signed"),
+        "tables' d (′)": w.tab_d_arcmin,
+        "tabulated Z (deg)": w.tab_z_deg,
+        "d correction of Hc (′)": w.hc_correction_arcmin,
+        "Hc (° ′)": angle(w.hc_deg, "signed"),
+        "Z interpolated (deg)": w.z_deg,
+        "Zn (deg true)": w.zn_deg,
+        "intercept (nm)": np.abs(w.intercept_nm),
+        "TOWARD/AWAY": np.where(w.intercept_nm >= 0, "TOWARD", "AWAY"),
+    })
+
+
+#: Why a cell of the Fixes sheet is blank, by column: a cell is never left blank without a word.
+FIXES_BLANK = {
+    "major axis (deg true)": "a line: no ellipse", "line bearing (deg true)": "a fix: not a line",
+    "line from DR (nm)": "a fix: not a line", "the ellipse's size": "enough sights to judge their error by",
+    "left out (gross errors)": "none", "flagged sights": "none", "fix from every sight (° ′)": "nothing left out",
+    "fix without flagged (° ′)": "nothing flagged", "chart position (° ′)": "none given",
+    "chart distance (nm)": "no chart position", "chart bearing (deg true)": "no chart position",
+    "chart inside 95 % ellipse": "no chart position", "noon curve latitude (° ′)": "no noon series",
+    "course made good (deg)": "not solved (navred workbook --solve-motion)",
+    "speed made good (kn)": "not solved (navred workbook --solve-motion)", "blunder check": "none",
+    "angle of cut (deg)": "one line", "note": "none",
+}
+#: Columns of the Fixes sheet that belong to a feature of some logs only: left out when no row has one.
+FIXES_OPTIONAL = ("line bearing (deg true)", "line from DR (nm)", "noon curve latitude (° ′)",
+                  "fix from every sight (° ′)", "fix without flagged (° ′)", "chart position (° ′)",
+                  "chart distance (nm)", "chart bearing (deg true)", "chart inside 95 % ellipse",
+                  "course made good (deg)", "speed made good (kn)")
+
+
+def _blank(value) -> bool:
+    return value is None or (isinstance(value, float) and not np.isfinite(value)) or value == ""
+
+
+def with_reasons(table: pd.DataFrame, reasons: dict[str, str], optional=()) -> pd.DataFrame:
+    """A sheet's table with every blank cell of a column in ``reasons`` saying why it is blank, and the
+    ``optional`` columns that are blank in every row left out."""
+    out = table.copy()
+    for column in optional:
+        if column in out and all(_blank(v) for v in out[column].tolist()):
+            out = out.drop(columns=[column])
+    for column, reason in reasons.items():
+        if column in out:
+            values = out[column].astype(object).tolist()
+            out[column] = pd.Series([reason if _blank(v) else v for v in values], index=out.index, dtype=object)
+    return out
+
+
+def _no_fix_row(voyage, group) -> dict:
+    """A fix group with no fix: its time (its last sight's) and, in the kind, why there is none."""
+    utc = voyage.reduced.sight_utc.iloc[group.rows].max() if len(group.rows) else None
+    return {"fix group": group.name, "UTC": utc_cell(utc.tz_convert(None).to_datetime64()) if utc is not None else None,
+            "kind": f"no fix: {group.problem}", "sights used": 0}
+
+
 def fixes_table(voyage) -> pd.DataFrame:
+    """One row per fix group as the Fixes sheet shows it: positions in degrees and minutes beside decimal
+    degrees, the ellipse, the angle of cut (0°-90°), the checks; a blank cell says why it is blank."""
     labels = row_labels(voyage.reduced) if len(voyage.reduced) else np.zeros(0, dtype=str)
+    sight_utc = (voyage.reduced["sight_utc"].dt.tz_convert(None).to_numpy(dtype="datetime64[ns]")
+                 if len(voyage.reduced) else np.zeros(0, dtype="datetime64[ns]"))
     rows = []
     # every position's text at once (one call per kind, not four per group)
     fixes = [g.fix for g in voyage.groups if g.fix is not None]
@@ -159,14 +320,15 @@ def fixes_table(voyage) -> pd.DataFrame:
     for group in voyage.groups:
         fix = group.fix
         if fix is None:
-            rows.append({"fix group": group.name, "UTC": "", "note": f"no fix: {group.problem}"})
+            rows.append(_no_fix_row(voyage, group))
             continue
         left = fix.left_out if fix.left_out.size == len(group.rows) else np.zeros(len(group.rows), dtype=bool)
         outliers = ", ".join(labels[group.rows[i]] for i in np.flatnonzero(fix.outlier & ~left))
         rows.append({
             "fix group": group.name,
             "UTC": utc_cell(fix.utc),
-            "kind": fix.kind if fix.is_fix else f"{fix.kind} (not a fix)",
+            "kind": (("running fix" if is_running_fix(fix, sight_utc[group.rows]) else fix.kind) if fix.is_fix
+                     else f"{fix.kind} (not a fix)"),
             "latitude (° ′)": (texts := next(fix_texts))[0],
             "longitude (° ′)": texts[1],
             "latitude (deg)": fix.lat_deg,
@@ -176,10 +338,10 @@ def fixes_table(voyage) -> pd.DataFrame:
             "σ from": fix.sigma_source,
             "standard error (nm)": fix.standard_error_nm,
             "95 % ellipse (full size)": fix.ellipse_text(),
-            "95 % semi-major (nm)": fix.ellipse_semi_major_nm,
+            "95 % semi-major (nm)": fix.ellipse_semi_major_nm if fix.is_fix else None,
             "95 % semi-minor (nm)": fix.ellipse_semi_minor_nm,
             "major axis (deg true)": fix.ellipse_orientation_deg if fix.is_fix else None,
-            "lines cross at (deg)": fix.spread_deg,
+            "angle of cut (deg)": fix.angle_of_cut_deg,
             "ellipse scaled by": f"{fix.quantile} quantile" + (", DR error over the run included"
                                                                if fix.dr_error_included else ""),
             "the ellipse's size": fix.ellipse_note,
@@ -203,14 +365,26 @@ def fixes_table(voyage) -> pd.DataFrame:
             "speed made good (kn)": fix.speed_made_good_kn,
             "note": "; ".join(fix.warnings + ([group.chart_note] if group.chart_note else [])),
         })
-    return pd.DataFrame(rows)
+    table = pd.DataFrame(rows)
+    if table.empty:
+        return table
+    no_fix = table["kind"].astype(str).str.startswith("no fix").to_numpy()
+    reasons = {column: reason for column, reason in FIXES_BLANK.items()}
+    shown = with_reasons(table, reasons, FIXES_OPTIONAL)
+    # a group with no fix: the kind says why; its other cells say so too
+    if no_fix.any():
+        for column in shown.columns:
+            if column not in ("fix group", "UTC", "kind", "sights used"):
+                shown[column] = shown[column].astype(object).where(~no_fix, "no fix")
+    return shown
 
 
 def rejected_table(voyage) -> pd.DataFrame:
     """Every problem of every row not reduced: the row, the column, the value and why."""
     rejected = voyage.rejected
     out = pd.DataFrame({"row in log": rejected["row"].to_numpy(), "column": rejected["column"].to_numpy(),
-                        "value": rejected["value"].to_numpy(), "reason": rejected["reason"].to_numpy()})
+                        "value": [v if str(v).strip() else "(blank)" for v in rejected["value"].tolist()],
+                        "reason": rejected["reason"].to_numpy()})
     if _several(voyage):
         out.insert(0, "source file", [Path(s).name for s in rejected["source"]])
     return out
@@ -259,8 +433,8 @@ def plan_table(plan) -> pd.DataFrame:
         "Hc to preset (° ′)": [format_angle(v, "signed") for v in plan.hc_deg[order]],
         "Hc (deg)": plan.hc_deg[order],
         "Zn (deg true)": plan.zn_deg[order],
-        "magnitude": plan.magnitude[order],
-        "from the Moon (deg)": plan.moon_separation_deg[order],
-        "recommended": np.where(plan.recommended[order], "yes", ""),
+        "magnitude": np.round(plan.magnitude[order], 1),  # as a star list prints it
+        "from the Moon (deg)": np.round(plan.moon_separation_deg[order], 0),
+        "recommended": np.where(plan.recommended[order], "yes", "no"),
     })
 

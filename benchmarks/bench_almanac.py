@@ -15,6 +15,9 @@ Also printed: the same instants for the Sun, the Moon, four planets and 58 stars
 reusable batch of instants (navred.timescales.instants), which shares the time scales, the
 Earth, the Sun and the frame across the 64 calls.
 
+Also printed (issue 26): `navred almanac` for five bodies at one instant, the whole command, against
+`python -c "import numpy"`, in turn (target: within 2 times; no pandas imported).
+
 Run:  python benchmarks/bench_almanac.py [N] [ROUNDS]
 """
 
@@ -22,12 +25,14 @@ from __future__ import annotations
 
 import importlib.resources
 import statistics
+import subprocess
 import sys
 import time
 import warnings
 
 import numpy as np
 from skyfield.api import Star, load
+from timing import PYTHON, paired
 
 from navred.almanac import places
 from navred.stars import known_bodies, star_table
@@ -92,6 +97,16 @@ def main(n: int = 50_000, rounds: int = 5) -> None:
     shared, _ = timed(lambda: [places(b, batch) for batch in [instants(utc64)] for b in bodies])
     print(f"{len(bodies)} bodies at the same instants: {separate:.2f} s as separate calls, "
           f"{shared:.2f} s through one reusable batch of instants ({separate / shared:.1f}x)")
+
+    # the command for one instant, the whole process, against python importing numpy alone, in turn
+    command = [PYTHON, "-m", "navred", "almanac", "Sun", "Moon", "Venus", "Vega", "Aries", "--utc",
+               "2026-03-20T18:42:10Z"]
+    loaded = subprocess.run([PYTHON, "-c", "import runpy, sys; sys.argv = ['navred'] + sys.argv[1:]; "
+                             "runpy.run_module('navred', run_name='__main__'); print('pandas' in sys.modules, "
+                             "file=sys.stderr)", *command[3:]], capture_output=True, text=True, check=True)
+    pair = paired(command, [PYTHON, "-c", "import numpy"], max(rounds, 7))
+    print(pair.line("navred almanac, five bodies at one instant", "python -c 'import numpy'")
+          + f" (target 2); pandas imported: {loaded.stderr.strip().splitlines()[-1]}")
 
 
 if __name__ == "__main__":

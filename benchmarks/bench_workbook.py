@@ -12,6 +12,11 @@ temporary folder), then reused. Each stage below is one step of what `navred wor
 the end-to-end figures run the command itself in a fresh process, three times, and print the
 median.
 
+Memory (issue 26): the largest process of `navred workbook` (pictures embedded, as by default) for 10,000,
+20,000 and 40,000 sights (the fleet log, and its first half, and two copies of it with their groups
+renamed): target under 300 MB at 20,000 sights and growing under 10 KB a sight. The sheets' rows are
+made a few thousand at a time and written to a temporary file, then streamed into the workbook.
+
 Run:  python benchmarks/bench_workbook.py [FOLDER]
 """
 
@@ -79,6 +84,23 @@ def main(folder: str | None = None) -> None:
     write_plots(voyage, work / "plots-png", ("png",), groups=sample)
     print(f"  (a plotting sheet as PNG takes {(time.perf_counter() - start) / len(sample) * 1000:.0f} ms: "
           f"{len(sample)} drawn)")
+
+    print("the largest process of navred workbook (pictures embedded), by the log's sights:")
+    import pandas as pd
+    from timing import PYTHON, largest_child_mb
+
+    base = pd.read_csv(log_path, dtype=str, keep_default_na=False)
+    logs = {10_000: base.iloc[:10_000], 20_000: base,
+            40_000: pd.concat([base, base.assign(fix_group=base.fix_group + "-copy")], ignore_index=True)}
+    sizes = {}
+    for count, frame in logs.items():  # (smallest first: the figure is the largest any child has reached)
+        path = work / f"fleet_{count}.csv"
+        frame.to_csv(path, index=False)
+        sizes[count] = largest_child_mb([PYTHON, "-m", "navred", "workbook", str(path), "-o",
+                                         str(work / f"fleet_{count}.xlsx")])
+        print(f"  {count:>6,} sights: {sizes[count]:6.0f} MB")
+    print(f"  growth from 10,000 to 40,000 sights: {(sizes[40_000] - sizes[10_000]) * 1024 / 30_000:.1f} KB a sight "
+          "(target 10 KB; 300 MB at 20,000)")
 
     print("end to end (median of 3 runs of the command):")
     fleet = end_to_end(["workbook", str(log_path), "-o", str(work / "fleet-e2e.xlsx"), "--pictures", "files",

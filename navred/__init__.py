@@ -22,17 +22,20 @@ FUNCTIONS = {
     "reduce_sights": "jobs.sights",  # sights -> Ho, Hc, Zn and the intercept, a row per sight
     "process_log": "jobs.voyage",  # the whole job: read, reduce, fix every group -> VoyageResult
     "fix_position": "jobs.frames",  # one fix group's reduced sights -> FixResult
+    "fix_positions": "jobs.frames",  # every fix group's reduced sights at once -> GroupedFixes
     "body_positions": "jobs.frames",  # the almanac as a table
     "sun_events": "plan",  # twilights, sunrise, meridian passage and sunset of a date
     "mark_workings": "jobs.workings",  # a cadet's hand working marked line by line -> MarkingReport
     "read_track": "io.track",  # a reference track (GPX, NMEA, CSV) -> ReferenceTrack
     "read_rating_log": "io.timesignals",  # time signals -> Ratings of each timepiece
     "read_deviation_card": "io.cards",  # a deviation card (CSV) -> a table
+    "passage_paper": "jobs.paper",  # the printed backup of a passage along a DR -> PassagePaper
 }
 #: The results those functions return (frozen dataclasses).
 RESULTS = {
-    "SightLog": "io.logbook", "VoyageResult": "jobs.voyage", "GroupFix": "jobs.voyage", "FixResult": "fix",
+    "SightLog": "io.logbook", "VoyageResult": "jobs.voyage", "GroupFix": "jobs.voyage", "FixResult": "fix", "GroupedFixes": "jobs.frames",
     "Places": "almanac", "MarkingReport": "jobs.workings", "ReferenceTrack": "io.track", "Ratings": "io.timesignals",
+    "PassagePaper": "jobs.paper",
 }
 #: The errors navred raises (all NavredError, a ValueError) and the warning it gives.
 ERRORS = {

@@ -266,7 +266,7 @@ def _body_codes(body, shape) -> tuple[list[str], np.ndarray]:
     canonical: list[str] = []
     bad = np.zeros(len(spellings), dtype=bool)
     first = ""
-    for k, spelling in enumerate(spellings):
+    for k, spelling in enumerate(spellings.tolist()):  # plain str: a message never shows numpy's repr
         try:
             canonical.append(canonical_body_name(str(spelling)))
         except BodyNameError as exc:

@@ -27,7 +27,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .almanac import phase_angle_deg, places
-from .angles import wrap_360, wrap_axial
+from .angles import wrap_180, wrap_360, wrap_axial
 from .constants import ARCMIN_PER_DEG, NS_PER_DAY, NS_PER_HOUR
 from .corrections import (
     PHASE_CENTROID_FACTOR,
@@ -39,6 +39,13 @@ from .corrections import (
 from .errors import NavredError
 from .stars import star_table
 from .vocabulary import UNIT_CONVERSIONS
+
+#: The rates of the tables of increments, degrees per hour (common practice; from memory): the Sun and the
+#: planets 15°, the Moon 14° 19.0′, Aries 15° 02.46′ (a sidereal day in 23 h 56 m 04.09 s). A body's v is
+#: the excess of its hourly change of GHA over its rate (:func:`hourly_v_arcmin`).
+INCREMENT_RATE_DEG_PER_HOUR = {"sun": 15.0, "moon": 14.0 + 19.0 / 60.0, "aries": 15.0 + 2.46 / 60.0, "planet": 15.0}
+#: The names the first point of Aries goes by where a body is asked for (normalised: lower case, no spaces)
+ARIES_NAMES = ("aries", "firstpointofaries", "ariesfirstpoint")
 
 #: The bodies of the hourly pages, in the order of their columns.
 HOURLY_BODIES = ("Aries", "Sun", "Moon", "Venus", "Mars", "Jupiter", "Saturn")
@@ -152,6 +159,103 @@ def hourly_value_at(table: HourlyTable, body: str, utc64: ArrayLike, what: str =
     fraction = (offset - row * NS_PER_HOUR) / NS_PER_HOUR
     values = {"gha": table.gha_deg, "dec": table.dec_deg, "hp": table.hp_arcmin}[what][table.column(body)]
     return interpolate_printed(values[row], values[row + 1], fraction, gha=what == "gha")
+
+
+def hourly_v_arcmin(gha_hour_deg: ArrayLike, gha_next_deg: ArrayLike, rate_deg_per_hour: ArrayLike) -> np.ndarray:
+    """v (arcminutes, signed): the excess of a body's change of GHA from one whole hour of UTC to the next
+    over the rate its table of increments uses (:data:`INCREMENT_RATE_DEG_PER_HOUR`); a tables working adds
+    v times the fraction of the hour to the hour's GHA and the increment (negative for Venus at times).
+
+    The trade's definition (the printed almanacs' explanation of the increments tables; common practice).
+
+    >>> round(float(hourly_v_arcmin(100.0, 115.0 + 0.2 / 60, 15.0)), 6)  # 15° 00.2′ in the hour: v +0.2′
+    0.2
+    """
+    change = wrap_180(np.asarray(gha_next_deg, dtype=float) - np.asarray(gha_hour_deg, dtype=float)
+                      - np.asarray(rate_deg_per_hour, dtype=float))
+    return np.asarray(change) * ARCMIN_PER_DEG
+
+
+def hourly_d_arcmin(dec_hour_deg: ArrayLike, dec_next_deg: ArrayLike) -> np.ndarray:
+    """d (arcminutes, signed, + northward): the change of a body's Dec from one whole hour of UTC to the
+    next; a tables working adds d times the fraction of the hour to the hour's Dec (common practice: a
+    printed almanac gives d without a sign, the navigator taking it from the Dec's trend)."""
+    return (np.asarray(dec_next_deg, dtype=float) - np.asarray(dec_hour_deg, dtype=float)) * ARCMIN_PER_DEG
+
+
+def is_aries(name: object) -> bool:
+    """Whether a body's name is the first point of Aries (``Aries``, ``First Point of Aries``)."""
+    return isinstance(name, str) and "".join(name.lower().split()).replace("'", "") in ARIES_NAMES
+
+
+@dataclass(frozen=True)
+class InstantAlmanac:
+    """The almanac of a few bodies at one instant: per body (in the order asked), GHA, Dec, SHA, RA, HP, SD
+    and distance, and the hourly differences v and d of a tables working (the Sun, the Moon and the planets;
+    NaN for a star and for Aries). The first point of Aries is a body here: GHA Aries, SHA 0, RA 0, Dec 0 (the
+    equinox lies on the equator), no HP, SD, distance, v or d."""
+
+    body: tuple[str, ...]
+    utc: np.datetime64
+    dut1_s: float
+    ut1_source: str
+    gha_aries_deg: float
+    gha_deg: np.ndarray
+    dec_deg: np.ndarray
+    sha_deg: np.ndarray
+    ra_hours: np.ndarray
+    hp_arcmin: np.ndarray
+    sd_arcmin: np.ndarray
+    distance_km: np.ndarray
+    #: the excess of the hourly change of GHA over the increments table's rate, from the whole hour of UTC
+    #: at or before the instant to the next (:func:`hourly_v_arcmin`)
+    v_arcmin: np.ndarray
+    #: the hourly change of Dec over the same hour, + northward (:func:`hourly_d_arcmin`)
+    d_arcmin: np.ndarray
+    #: the instant as UTC text to the microsecond, no zone (a leap second written as the 23:59:60 it is)
+    utc_text: str = ""
+
+
+def almanac_at(bodies: str | list[str] | tuple[str, ...], utc: object, dut1_s: float | None = None) -> InstantAlmanac:
+    """The almanac of ``bodies`` (names; ``Aries`` for the first point of Aries) at the instant ``utc``, with
+    v and d over the hour of UTC that holds it, as a tables working takes them (see :class:`InstantAlmanac`)."""
+    from .stars import SOLAR_SYSTEM
+    from .timescales import instants
+
+    names = [bodies] if isinstance(bodies, str) else list(bodies)
+    if not names:
+        raise NavredError("no body given: name one or more (Sun, Moon, a planet, a navigational star, Aries)")
+    aries = np.array([is_aries(name) for name in names], dtype=bool)
+    others = [name for name, a in zip(names, aries.tolist()) if not a]
+    inst = instants(np.array([utc], dtype=object), dut1_s)
+    found = places(others or ["Sun"], inst)  # (the Sun only for GHA Aries when Aries alone is asked)
+    when = inst.utc_datetime64()[0]
+    n = len(names)
+    out = {key: np.full(n, np.nan) for key in ("gha", "dec", "sha", "ra", "hp", "sd", "km", "v", "d")}
+    gha_aries = float(wrap_360(found.gha_aries_deg[0]))
+    out["gha"][aries], out["dec"][aries], out["sha"][aries], out["ra"][aries] = gha_aries, 0.0, 0.0, 0.0
+    canonical = np.array(["Aries"] * n, dtype=object)
+    if others:
+        rows = np.flatnonzero(~aries)
+        canonical[rows] = found.body
+        out["gha"][rows], out["dec"][rows], out["sha"][rows] = found.gha_deg, found.dec_deg, found.sha_deg
+        out["ra"][rows], out["hp"][rows], out["sd"][rows] = found.ra_hours, found.hp_arcmin, found.sd_arcmin
+        out["km"][rows] = found.distance_km
+        moving = [k for k, name in zip(rows.tolist(), found.body.tolist()) if name in SOLAR_SYSTEM.values()]
+        if moving:
+            hour = when.astype("datetime64[h]").astype("datetime64[ns]")
+            hours = np.array([hour, hour + np.timedelta64(NS_PER_HOUR, "ns")])
+            moved = canonical[moving].tolist()
+            at = places(np.array(moved * 2, dtype=object), instants(np.repeat(hours, len(moved)),
+                                                                     None if dut1_s is None else dut1_s))
+            gha, dec = at.gha_deg.reshape(2, -1), at.dec_deg.reshape(2, -1)
+            rate = np.array([INCREMENT_RATE_DEG_PER_HOUR["moon" if b == "Moon" else "sun" if b == "Sun" else "planet"]
+                             for b in moved])
+            out["v"][moving] = hourly_v_arcmin(gha[0], gha[1], rate)
+            out["d"][moving] = hourly_d_arcmin(dec[0], dec[1])
+    return InstantAlmanac(tuple(canonical.tolist()), when, float(inst.dut1_s[0]), str(inst.ut1_source[0]), gha_aries,
+                          out["gha"], out["dec"], out["sha"], out["ra"], out["hp"], out["sd"], out["km"], out["v"],
+                          out["d"], str(np.ravel(inst.utc_text(6))[0]))
 
 
 @dataclass(frozen=True)
@@ -378,7 +482,8 @@ def polaris_latitude_from_table(table: PolarisTable, ho_deg: float, lha_aries_de
     return float(ho_deg) + (first + second) / ARCMIN_PER_DEG
 
 
-__all__ = ["HOURLY_BODIES", "MAX_DAYS", "STAR_BLOCK_DAYS", "POLARIS_BLOCK_DAYS", "MOON_SD_PER_HP", "printed_deg", "printed_arcmin",
+__all__ = ["INCREMENT_RATE_DEG_PER_HOUR", "ARIES_NAMES", "hourly_v_arcmin", "hourly_d_arcmin", "is_aries",
+           "InstantAlmanac", "almanac_at", "HOURLY_BODIES", "MAX_DAYS", "STAR_BLOCK_DAYS", "POLARIS_BLOCK_DAYS", "MOON_SD_PER_HP", "printed_deg", "printed_arcmin",
            "interpolate_printed", "HourlyTable", "hourly_table", "hourly_value_at", "StarBlock", "star_blocks",
            "daily_places", "dip_rows", "refraction_rows", "refraction_factor_grid", "moon_parallax_grid",
            "moon_sd_rows", "moon_augmentation_grid", "DailyFigures", "daily_figures", "PolarisTable",

@@ -15,7 +15,16 @@ _PLANET_MAGNITUDE = {"Venus": (-4.40, 0.0009, 0.000239, -0.00000065), "Mars": (-
                      "Jupiter": (-9.40, 0.005, 0.0, 0.0), "Saturn": (-8.88, 0.0, 0.0, 0.0)}
 
 
-MOON_MAGNITUDE = -11.0  # a rough figure for ranking (common practice: -12.7 full, about -10 at quarter)
+#: The Moon's magnitude by its phase angle α (degrees): −12.73 + 0.026 |α| + 4 × 10⁻⁹ α⁴, C. W. Allen,
+#: Astrophysical Quantities (3rd ed., 1973), §66 (from memory): −12.7 full, about −10.1 at quarter, −8.9 at
+#: a five-day crescent.
+MOON_FULL_MAGNITUDE, MOON_PHASE_LINEAR, MOON_PHASE_QUARTIC = -12.73, 0.026, 4e-9
+
+
+def moon_magnitude(phase_angle_deg_: ArrayLike) -> np.ndarray:
+    """The Moon's visual magnitude by its phase angle (0° full, 180° new), Allen's formula."""
+    alpha = np.abs(np.asarray(phase_angle_deg_, dtype=float))
+    return MOON_FULL_MAGNITUDE + MOON_PHASE_LINEAR * alpha + MOON_PHASE_QUARTIC * alpha**4
 
 
 SUN_MAGNITUDE = -26.7
@@ -28,13 +37,16 @@ DAYLIGHT_MAGNITUDE = -2.0
 
 def magnitudes(bodies: ArrayLike, utc64: object) -> np.ndarray:
     """Visual magnitude of each (body, instant): stars from the catalogue (Hipparcos Hp),
-    planets from their distances and phase angle, the Sun and Moon as fixed figures."""
+    planets from their distances and phase angle, the Moon by its phase angle, the Sun as a fixed figure."""
     names = np.asarray(bodies, dtype=object)
     when = np.broadcast_to(np.asarray(utc64, dtype="datetime64[ns]"), names.shape)
     table = star_table()
     index = {name: i for i, name in enumerate(table.name)}
     out = np.array([table.magnitude[index[n]] if n in index else np.nan for n in names.ravel()]).reshape(names.shape)
-    out = np.where(names == "Sun", SUN_MAGNITUDE, np.where(names == "Moon", MOON_MAGNITUDE, out))
+    out = np.where(names == "Sun", SUN_MAGNITUDE, out)
+    moon = names == "Moon"
+    if moon.any():
+        out[moon] = moon_magnitude(phase_angle_deg(places("Moon", when[moon]), places("Sun", when[moon])))
     for planet, (v10, a1, a2, a3) in _PLANET_MAGNITUDE.items():
         rows = names == planet
         if rows.any():

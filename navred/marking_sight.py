@@ -39,6 +39,7 @@ from .corrections import (
     planet_phases,
     refraction_correction_arcmin,
 )
+from .handtables import INCREMENT_RATE_DEG_PER_HOUR, hourly_d_arcmin, hourly_v_arcmin
 from .marking_judge import (
     CAUSES,
     LINES,
@@ -55,9 +56,8 @@ from .stars import SOLAR_SYSTEM
 from .timescales import instants, instants_from_utc_jd
 from .triangle import computed_altitude_azimuth
 
-#: Base rates of the increment tables, degrees per hour (common practice; from memory): the Sun and
-#: planets 15°, the Moon 14° 19.0′, Aries 15° 02.46′ (a sidereal day in 23 h 56 m 04.09 s).
-BASE_RATE_DEG_PER_HOUR = {"sun": 15.0, "moon": 14.0 + 19.0 / 60.0, "aries": 15.0 + 2.46 / 60.0, "planet": 15.0}
+#: Base rates of the increment tables, degrees per hour (navred.handtables, where v is defined on them)
+BASE_RATE_DEG_PER_HOUR = INCREMENT_RATE_DEG_PER_HOUR
 #: The Moon's two-part altitude table (from memory): the first correction is worked for the lower limb at
 #: a standard horizontal parallax of 54.0′, the semi-diameter 0.2724 HP (the Moon's radius over the
 #: Earth's equatorial radius, 1737.4 / 6378.137, IAU), and the upper limb takes off 30′ besides.
@@ -172,9 +172,9 @@ def almanac_lines(j: Judge, sky: Sky, kind: np.ndarray, aries_only: np.ndarray) 
     next_gha = np.where(by_aries, sky.aries_next, sky.gha_next)
     at_t = np.where(aries_only, sky.aries_t, sky.gha_t)
     increment_exact = base * sky.fraction * ARCMIN_PER_DEG
-    v_rate = np.where(by_aries | (kind == "sun"), 0.0, wrap_180(next_gha - hour_gha - base) * ARCMIN_PER_DEG)
+    v_rate = np.where(by_aries | (kind == "sun"), 0.0, hourly_v_arcmin(hour_gha, next_gha, base))
     v_exact = np.where(by_aries, 0.0, wrap_180(sky.gha_t - hour_gha - base * sky.fraction) * ARCMIN_PER_DEG)
-    d_rate = (sky.dec_next - sky.dec_hour) * ARCMIN_PER_DEG
+    d_rate = hourly_d_arcmin(sky.dec_hour, sky.dec_next)
     d_exact = (sky.dec_t - sky.dec_hour) * ARCMIN_PER_DEG
 
     hour_tab = tenth(hour_gha * ARCMIN_PER_DEG)

@@ -143,20 +143,50 @@ def check_position(lat_deg, lon_deg):
 
 def voyage_events(first_date: object, days: int, lat_deg: float, lon_deg: float, *, eye_height_m: float = 0.0,
                   course_deg: float = 0.0, speed_kn: float = 0.0) -> dict:
-    """:func:`sun_events` for ``days`` consecutive local dates along a DR track, as arrays."""
+    """:func:`sun_events` for ``days`` consecutive local dates along a DR track of one course and speed, as arrays
+    (see :func:`track_events`)."""
     check_position(lat_deg, lon_deg)
     lat_deg, lon_deg = float(lat_deg), float(lon_deg)
-    eye_height_m = planner_number(eye_height_m, "height of eye")
     course_deg, speed_kn = planner_number(course_deg, "course"), planner_number(speed_kn, "speed")
+    start = local_midnight(first_date, lon_deg)
+    return track_events(steady_track(lat_deg, lon_deg, start, course_deg, speed_kn), start, days,
+                        eye_height_m=eye_height_m)
+
+
+def track_local_midnight(first_date: object, track: DRTrack) -> np.datetime64:
+    """00:00 local mean time on the civil ``first_date`` at the DR's longitude then, as UTC: the ship's day
+    starts where she is (found from the DR at 00:00 UTC, then once more at the midnight found)."""
+    day = local_midnight(first_date, 0.0)
+    for _ in range(2):
+        _, lon = track.position(np.array([day]))
+        if not np.isfinite(lon[0]):
+            raise NavredError(f"the DR has no position at {str(day)[:16]} UTC: give the departure before the "
+                              "passage's first date")
+        day = local_midnight(first_date, float(lon[0]))
+    return day
+
+
+def track_events(track: DRTrack, start: object, days: int, *, eye_height_m: float = 0.0) -> dict:
+    """Twilights, sunrise, the Sun's meridian passage and sunset for ``days`` consecutive local dates along any DR
+    track (a route's legs, a log's day's work), as arrays.
+
+    ``start`` is 00:00 local time of the first date (UTC; :func:`local_midnight` or :func:`track_local_midnight`);
+    each later day starts at 00:00 local time at that day's DR longitude. Returns the keys of
+    :data:`EVENT_KEYS` (NaT where an event does not happen), ``date`` (each local date) and ``track``.
+    """
+    eye_height_m = planner_number(eye_height_m, "height of eye")
     eye = COLUMN["eye_height"]
     if not eye.low <= eye_height_m <= eye.high:
         raise NavredError(f"height of eye {eye_height_m!r} m is outside {eye.low:g}-{eye.high:g} m")
-    start = local_midnight(first_date, lon_deg)
-    track = steady_track(lat_deg, lon_deg, start, course_deg, speed_kn)
+    start = np.datetime64(start, "ns")
+    _, lon0 = track.position(np.array([start]))
     # each day starts at local midnight at that day's DR longitude (near enough: iterate once)
     day_starts = start + np.arange(days) * np.timedelta64(24 * NS_PER_HOUR, "ns")
     _, lons = track.position(day_starts)
-    shift = ((wrap_180(lons - lon_deg)) / 15.0 * NS_PER_HOUR).astype(np.int64).astype("timedelta64[ns]")
+    if not np.all(np.isfinite(lons)):
+        raise NavredError("the DR has no position at the start of every day of the passage (a DR carried past a "
+                          "pole, or no known position before it)")
+    shift = ((wrap_180(lons - lon0[0])) / 15.0 * NS_PER_HOUR).astype(np.int64).astype("timedelta64[ns]")
     day_starts = day_starts - shift
     dip_deg = float(dip_angle_arcmin(eye_height_m)) / ARCMIN_PER_DEG
     rising, setting = _sun_crossings(day_starts, track, {

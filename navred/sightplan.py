@@ -18,8 +18,8 @@ from .constants import (
 )
 from .errors import NavredError
 from .magnitudes import DAYLIGHT_MAGNITUDE, magnitudes
-from .plan import check_position, local_midnight, voyage_events
-from .reckoning import steady_track
+from .plan import check_position, local_midnight, track_events, voyage_events
+from .reckoning import DRTrack, steady_track
 from .stars import SOLAR_SYSTEM, known_bodies
 from .triangle import computed_altitude_azimuth
 
@@ -260,7 +260,7 @@ def daytime_fix_windows(first_date: object, days: int, lat_deg: float, lon_deg: 
 
 def twilight_plans(first_date: object, days: int, lat_deg: float, lon_deg: float, *, course_deg: float = 0.0,
                    speed_kn: float = 0.0, eye_height_m: float = 0.0, **plan_options) -> tuple[dict, list[SightPlan]]:
-    """Twilight times and a sight plan for every morning and evening of a passage.
+    """Twilight times and a sight plan for every morning and evening of a passage on one course and speed.
 
     Star sights are planned midway between civil and nautical twilight, when stars and
     horizon are both in view (common practice). Returns the events (see
@@ -269,6 +269,20 @@ def twilight_plans(first_date: object, days: int, lat_deg: float, lon_deg: float
     """
     events = voyage_events(first_date, days, lat_deg, lon_deg, eye_height_m=eye_height_m,
                            course_deg=course_deg, speed_kn=speed_kn)
+    return events, plans_at_twilights(events, **plan_options)
+
+
+def track_twilight_plans(track: DRTrack, start: object, days: int, *, eye_height_m: float = 0.0,
+                         **plan_options) -> tuple[dict, list[SightPlan]]:
+    """:func:`twilight_plans` along any DR track (a route's legs, a log's day's work) from ``start``, 00:00 local
+    time of the first date (see :func:`navred.plan.track_events`)."""
+    events = track_events(track, start, days, eye_height_m=eye_height_m)
+    return events, plans_at_twilights(events, **plan_options)
+
+
+def plans_at_twilights(events: dict, **plan_options) -> list[SightPlan]:
+    """A sight plan midway between civil and nautical twilight of every morning and evening of the events, from
+    the DR then; twilights that do not happen are skipped."""
     times = []
     for dawn, dusk in ((events["nautical_dawn"], events["civil_dawn"]), (events["civil_dusk"], events["nautical_dusk"])):
         ok = ~np.isnat(dawn) & ~np.isnat(dusk)
@@ -277,6 +291,6 @@ def twilight_plans(first_date: object, days: int, lat_deg: float, lon_deg: float
     when = np.stack(times, axis=1).ravel()
     when = when[~np.isnat(when)]
     if when.size == 0:
-        return events, []
+        return []
     lat, lon = events["track"].position(when)
-    return events, sight_plans(when, lat, lon, **plan_options)
+    return sight_plans(when, lat, lon, **plan_options)

@@ -110,9 +110,13 @@ def canonical_body_name(name: str) -> str:
     if not isinstance(name, str) or not name.strip():
         raise BodyNameError(f"body name {name!r} is empty or not text; known bodies: "
                             f"{', '.join(known_bodies()[:8])}, ... (see navred bodies)")
+    name = str(name)  # (a numpy string too: a message shows the name as written, never numpy's repr)
     found = _lookup().get(_key(name))
     if found is not None:
         return found
+    if _key(name) in ("aries", "firstpointofaries"):
+        raise BodyNameError(f"{name!r} is the first point of Aries, not a body with a place of its own: its GHA is "
+                            "GHA Aries (gha_aries_deg of every place; navred almanac Aries prints it)")
     close = difflib.get_close_matches(_key(name), list(_lookup()), n=4, cutoff=0.5)
     names = list(dict.fromkeys(_lookup()[c] for c in close))
     hint = f"closest: {', '.join(names)}" if names else "no close name; see 'navred bodies'"

@@ -158,9 +158,9 @@ def intercept_nm(ho_deg: ArrayLike, hc_deg: ArrayLike) -> np.ndarray:
 def intercept_direction(intercept_nm_: ArrayLike) -> str | np.ndarray:
     """``'TOWARD'`` for a positive (or zero) intercept, ``'AWAY'`` for a negative one; '' for NaN."""
     value = np.asarray(intercept_nm_, dtype=float)
-    out = np.where(value >= 0, "TOWARD", "AWAY").astype(object)
-    out[~np.isfinite(value)] = ""
-    return out.item() if out.ndim == 0 else out
+    # (one text object per word, shared by the rows: np.where between texts makes an object per row)
+    out = np.array(["AWAY", "TOWARD", ""], dtype=object)[np.where(np.isfinite(value), value >= 0, 2).astype(np.intp)]
+    return out  # (a text for one intercept, an array for several)
 
 
 def destination(lat_deg: ArrayLike, lon_deg: ArrayLike, bearing_deg: ArrayLike, distance_nm: ArrayLike) -> tuple[np.ndarray, np.ndarray]:

@@ -164,6 +164,28 @@ def test_a_plan_at_an_instant_is_rounded_to_the_minute():
     assert np.all([":41" not in line for line in result.stdout.splitlines()])
 
 
+def test_the_plan_names_the_index_error_on_or_off_the_arc_or_none(shown):
+    assert "index error 1.2′ on the arc: the Hs to preset" in shown
+    for given, words in (("0.8 off", "index error 0.8′ off the arc: "), ("0", "index error 0.0′: ")):
+        result = CliRunner().invoke(app, ["plan", "--date", "2025-06-10", "--lat", "40 00 N", "--lon", "020 00 W",
+                                          "--index-error", given])
+        assert result.exit_code == 0, result.output
+        assert words in result.stdout and " the arc: " not in result.stdout.replace(words, ""), result.stdout[:300]
+
+
+def test_a_course_without_a_speed_is_refused_and_a_missing_eye_is_said():
+    """Left out, either would be filled in silently (a fixed position, or she sails 000°); without --eye every Hs
+    to preset is for an eye at the sea's surface, which stderr says (the paper too)."""
+    base = ["plan", "--date", "2025-06-10", "--lat", "40 00 N", "--lon", "020 00 W"]
+    for extra, words in ((["--course", "225"], "--course without --speed"), (["--speed", "6"], "--speed without --course")):
+        result = CliRunner().invoke(app, base + extra)
+        assert result.exit_code == 1 and words in result.output, result.output
+    result = CliRunner().invoke(app, base)
+    assert result.exit_code == 0 and "warning: no --eye given" in result.stderr and "no --eye" not in result.stdout
+    result = CliRunner().invoke(app, base + ["--eye", "3 m"])
+    assert result.exit_code == 0 and "no --eye" not in result.stderr
+
+
 def test_an_event_that_does_not_happen_is_blank_in_every_csv(tmp_path):
     """At 75° N on the solstice the Sun neither rises nor sets and there is no twilight (common practice: the
     midnight sun): the plan's CSV files leave those cells blank (never '-' or its formula-safe form "'-"), the

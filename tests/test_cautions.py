@@ -75,10 +75,15 @@ def test_every_gpx_and_geojson_carries_the_caution(tmp_path):
         gpx = gpxpy.parse(files[name].read_text(encoding="utf-8"))
         assert gpx.description == CAUTION, name
         assert gpx.waypoints or gpx.routes
+        # and beside every waypoint, route and track, for a plotter that imports them alone
+        for item in [*gpx.waypoints, *gpx.routes, *gpx.tracks]:
+            assert item.comment == CAUTION, (name, item.name)
     assert ROUTE_CAUTION in gpxpy.parse(files["route.gpx"].read_text(encoding="utf-8")).routes[0].description
     for name in ("fixes.geojson", "route.geojson"):
         collection = json.loads(files[name].read_text(encoding="utf-8"))
         assert collection["type"] == "FeatureCollection" and collection["navred"]["caution"] == CAUTION
+        assert collection["features"] and all(f["properties"]["navred_caution"] == CAUTION
+                                              for f in collection["features"])
 
 
 def test_the_route_says_to_check_the_chart_beside_its_legs():

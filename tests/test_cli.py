@@ -5,6 +5,7 @@ from __future__ import annotations
 import io
 
 import pandas as pd
+import pytest
 from typer.testing import CliRunner
 
 from navred.cli import app
@@ -226,6 +227,61 @@ def test_the_package_front_names_what_a_user_calls():
         assert getattr(navred, name) is not None
     frame = navred.body_positions("Vega", "2026-03-26T19:45:00Z")
     assert frame.body[0] == "Vega"
+
+
+def test_almanac_answers_aries_and_gives_v_and_d():
+    result = runner.invoke(app, ["almanac", "Aries", "Moon", "Vega", "--utc", "2026-03-20T18:42:10Z"])
+    assert result.exit_code == 0, result.output
+    aries = next(line for line in result.stdout.splitlines() if line.startswith("Aries"))
+    assert aries.count("°") == 1 and aries.split()[3:] == ["-"] * 6  # its GHA; no Dec or SHA, as an almanac
+    header = next(line for line in result.stdout.splitlines() if line.startswith("body"))
+    assert header.split()[:6] == ["body", "GHA", "v", "Dec", "d", "SHA"]
+    frame = pd.read_csv(io.StringIO(runner.invoke(app, ["almanac", "Aries", "Moon", "Vega", "--utc",
+                                                        "2026-03-20T18:42:10Z", "--csv"]).stdout))
+    assert list(frame.body) == ["Aries", "Moon", "Vega"]
+    assert frame.gha_deg[0] == pytest.approx(frame.gha_aries_deg[0])
+    assert frame.v_arcmin.isna().tolist() == [True, False, True]
+    assert frame.d_arcmin.isna().tolist() == [True, False, True]
+
+
+@pytest.mark.parametrize("body", ["Sirus", "Arie", "Polaris B"])
+def test_a_body_refused_is_named_as_written_never_as_a_numpy_repr(body):
+    result = runner.invoke(app, ["almanac", body, "Sun", "--utc", "2026-03-20T18:42:10Z"])
+    assert result.exit_code == 1
+    assert f"'{body}'" in result.output
+    assert "np." not in result.output and "str_" not in result.output
+
+
+@pytest.mark.parametrize("argv", [
+    ["almanac", "Sun", "Moon", "Venus", "Vega", "Aries", "--utc", "2026-03-20T18:42:10Z"],
+    ["almanac", "--csv", "Moon", "-t", "2026-03-20T18:42:10Z", "--dut1", "0.1"],
+    ["almanac", "Jupiter", "--utc=2026-03-20T18:42:10Z", "--dut1=-0.2", "--csv"],
+])
+def test_the_quick_almanac_prints_what_the_app_prints(argv, capsys):
+    """``navred almanac`` written plainly is answered without the command-line library: the same text."""
+    from navred.cli.quick import quick_answer
+
+    assert quick_answer(argv)
+    quick = capsys.readouterr()
+    full = runner.invoke(app, argv)
+    assert full.exit_code == 0
+    assert quick.out == full.stdout
+    assert quick.err.strip() == full.stderr.strip()
+
+
+@pytest.mark.parametrize("argv", [
+    ["almanac", "Sirus", "--utc", "2026-03-20T18:42:10Z"],  # an error: the app's message
+    ["almanac", "Sun", "--utc", "2045-03-20T18:42:10Z"],  # a warning: the app prints it
+    ["almanac", "Sun", "--utc", "2026-03-20T18:42:10Z", "--dut1", "2"],  # out of range
+    ["almanac", "Sun", "--utc", ""], ["almanac", "--help"], ["almanac", "Sun"],
+    ["almanac", "Sun", "--utc", "2026-03-20T18:42:10Z", "--utc", "2026-03-20T18:42:11Z"],
+    ["reduce", "sample_sights/demo_sights.csv"],
+])
+def test_the_quick_almanac_leaves_everything_else_to_the_app(argv, capsys):
+    from navred.cli.quick import quick_answer
+
+    assert not quick_answer(argv)
+    assert capsys.readouterr().out == ""
 
 
 def test_fix_says_why_each_row_was_not_reduced_and_how_old_the_dr_is(tmp_path):

@@ -3,6 +3,8 @@ the deviation curve against planted coefficients, and the compass error book fro
 
 from __future__ import annotations
 
+import re
+
 import numpy as np
 import pandas as pd
 import pytest
@@ -169,3 +171,70 @@ def test_the_azimuths_command_prints_and_writes(tmp_path):
 
     page = " ".join(PdfReader(str(tmp_path / "a.pdf")).pages[0].extract_text().split())
     assert " ".join(CAUTION.split()) in page and "true amplitude" in page
+
+
+def test_the_compass_book_prints_its_bearings_and_card_under_the_caution(tmp_path):
+    """The printed book: every page headed with the caution, every bearing's row with its error (gyro high or
+    low, magnetic east or west) as the console gives it, and the deviation card every 15° of compass heading."""
+    from pypdf import PdfReader
+
+    result = CliRunner().invoke(app, ["compass-book", BOOK, "-o", str(tmp_path / "book.pdf")])
+    assert result.exit_code == 0, result.output
+    csv = pd.read_csv(__import__("io").StringIO(CliRunner().invoke(app, ["compass-book", BOOK, "--csv"]).stdout))
+    pages = [" ".join(page.extract_text().split()) for page in PdfReader(str(tmp_path / "book.pdf")).pages]
+    assert pages and all(" ".join(CAUTION.split()) in page for page in pages)
+    text = " ".join(pages)
+    assert "Deviation card" in text and all(f"{heading:03d}°" in text for heading in range(0, 360, 15))
+    gyro = csv[csv.compass == "gyro"]
+    assert len(gyro) == 8 and all(f"{abs(e):.1f}° {'high' if e > 0 else 'low'}" in text for e in gyro.gyro_error_deg)
+    magnetic = csv[csv.compass == "magnetic"]  # compass least, error east  # common practice
+    assert len(magnetic) == 8 and all(f"{abs(e):.1f}° {'E' if e > 0 else 'W'}" in text
+                                      for e in magnetic.compass_error_deg)
+
+
+def test_a_book_of_two_magnetic_compasses_is_refused(tmp_path):
+    """A steering and a standard compass have each their own deviation: one card fitted to both would fit neither
+    (a trial's two compasses gave B 0.5° for B 3° and B −2°), so the book is refused, naming each compass's rows."""
+    book = tmp_path / "book.csv"
+    lines = ["utc,body,compass,bearing,heading,variation,lat,lon"]
+    for k, heading in enumerate(range(0, 360, 45)):
+        lines.append(f"2026-03-25T09:{k:02d}:00Z,Sun,steering,{116 + k % 3},{heading},4 W,43 20 N,008 25 W")
+        lines.append(f"2026-03-25T09:{k:02d}:30Z,Sun,Standard,{117 - k % 2},{heading},4 W,43 20 N,008 25 W")
+    book.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    result = CliRunner().invoke(app, ["compass-book", str(book)])
+    assert result.exit_code == 1 and "2 compasses (standard, steering)" in result.output, result.output
+    assert "standard: rows 3, 5," in result.output and "steering: rows 2, 4," in result.output
+
+
+def test_a_card_from_too_few_headings_and_a_huge_deviation_are_flagged(tmp_path):
+    """Two bearings on one heading (a latitude typed S for N in one: its 'deviation' some 30°) give no card to steer
+    by, and the large deviation is named with its row, on the console and on the printed page."""
+    from pypdf import PdfReader
+
+    book = tmp_path / "book.csv"
+    book.write_text("utc,body,compass,bearing,heading,variation,lat,lon\n"
+                    "2026-03-25T09:00:00Z,Sun,steering,119.7,135,4 W,43 20 N,008 25 W\n"
+                    "2026-03-25T09:10:00Z,Sun,steering,121.0,135,4 W,43 20 S,008 25 W\n", encoding="utf-8")
+    result = CliRunner().invoke(app, ["compass-book", str(book), "-o", str(tmp_path / "b.pdf")])
+    assert result.exit_code == 0, result.output
+    assert "WARNING: NOT A CARD TO STEER BY" in result.stdout
+    assert re.search(r"WARNING: row 3: deviation \d\d\.\d° [EW] on 135\.0°, more than 10°", result.stdout), result.stdout
+    assert "WARNING: row 2" not in result.stdout
+    page = " ".join(PdfReader(str(tmp_path / "b.pdf")).pages[0].extract_text().split())
+    assert "NOT A CARD TO STEER BY" in page and "row 3: deviation" in page
+    sample = CliRunner().invoke(app, ["compass-book", BOOK])
+    assert "WARNING" not in sample.stdout  # a swing through eight headings, deviations of a few degrees
+
+
+def test_one_compass_check_with_a_huge_deviation_says_so():
+    """navred compass with a bearing 20° off the Sun's true azimuth: the deviation is printed and flagged (a wrong
+    time, DR, body, variation or heading is likelier than such a compass); a bearing 2° off is not flagged."""
+    base = ["compass", "Sun", "--utc", "2026-03-26T17:30:00Z", "--lat", "43 20 N", "--lon", "013 10 W",
+            "--variation", "-4", "--heading", "215"]
+    from navred.jobs.compasswork import bearing_check
+
+    true = bearing_check("Sun", "2026-03-26T17:30:00Z", 43 + 20 / 60, -(13 + 10 / 60)).zn_deg
+    for off, flagged in ((20.0, True), (-2.0, False)):
+        result = CliRunner().invoke(app, base + ["--compass-bearing", f"{(true + 4.0 + off) % 360:.1f}"])
+        assert result.exit_code == 0, result.output
+        assert ("WARNING: a deviation over 10°" in result.stdout) == flagged, result.stdout

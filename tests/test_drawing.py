@@ -182,3 +182,30 @@ def test_a_drawing_process_that_dies_leaves_its_sheets_to_the_first(tmp_path, mo
     two = workbook.write_plots(voyage, tmp_path / "two", ("svg",), workers=2)
     assert [p.name for p in two] == [p.name for p in one]
     assert all(a.read_bytes() == b.read_bytes() for a, b in zip(one, two))
+
+
+def test_a_run_of_many_picture_files_says_how_many_and_how_long_and_shows_its_progress(tmp_path, monkeypatch):
+    """More than a few hundred picture files: a line first (how many, what, where, about how long, and that
+    SVG alone is quicker), then a progress bar, on stderr; the count said is the count written. A short run
+    says nothing of it."""
+    import navred.jobs.plotfiles as plotfiles
+
+    voyage = process_log("sample_sights/demo_sights.csv", plan=False)
+    plan = plotfiles.plot_plan(voyage, ("png", "svg"))
+    seen = []
+    written = plotfiles.write_plots(voyage, tmp_path / "p", ("png", "svg"), progress=lambda d, t: seen.append((d, t)))
+    assert plan.files == len(written) and plan.sheets == voyage.n_fixes and not plan.announced
+    assert seen[0] == (0, voyage.n_fixes) and seen[-1] == (voyage.n_fixes, voyage.n_fixes)
+    assert plan.seconds > 0 and plotfiles.plot_plan(voyage, ("svg",)).seconds < plan.seconds / 10
+
+    quiet = runner.invoke(app, ["workbook", DEMO, "-o", str(tmp_path / "a.xlsx"), "--plots", str(tmp_path / "a")])
+    assert quiet.exit_code == 0 and "picture files to" not in quiet.stderr.split("wrote")[0]
+    monkeypatch.setattr(plotfiles, "ANNOUNCE_FILES_FROM", 2)  # the demo's 8 files taken for a fleet's thousands
+    loud = runner.invoke(app, ["workbook", DEMO, "-o", str(tmp_path / "b.xlsx"), "--plots", str(tmp_path / "b")])
+    assert loud.exit_code == 0, loud.output
+    line = next(x for x in loud.stderr.splitlines() if x.startswith("writing "))
+    assert f"writing {plan.files} picture files to {tmp_path / 'b'}" in line
+    assert f"{voyage.n_fixes} plotting sheets as PNG and SVG" in line and "about" in line and "--plot-formats svg" in line
+    assert "longer on a busy one" in line and "Ctrl-C stops it" in line  # (a trial's run took twice the estimate)
+    assert "drawing plotting sheets" in loud.stderr  # the progress bar
+    assert f"wrote {plan.files} picture files" in loud.stdout

@@ -64,3 +64,56 @@ def test_reduce_csv_shared_among_processes_writes_what_one_process_writes(monkey
     assert shared.exit_code == alone.exit_code == whole.exit_code == 0
     assert shared.stdout == alone.stdout == whole.stdout
     assert len(shared.stdout.splitlines()) == 406
+
+
+WORKER_SCRIPT = """
+import os, sys, time
+from navred.jobs.forking import forked_map
+
+def slow(folder, item):
+    open(os.path.join(folder, str(os.getpid())), "w").close()
+    time.sleep(20)
+    return item
+
+print(list(forked_map(slow, range(4), context=sys.argv[1], workers=2)))
+"""
+
+
+@pytest.mark.skipif(not forking.can_fork(), reason="the system cannot fork: no process is forked")
+def test_a_run_stopped_by_a_signal_leaves_no_worker_behind(tmp_path):
+    # a navigator's trial: a workbook run stopped while drawing left its two drawers running, 0.3-0.9 GB each
+    import signal
+    import subprocess
+    import sys
+    import time
+
+    script = tmp_path / "work.py"
+    script.write_text(WORKER_SCRIPT)
+    folder = tmp_path / "pids"
+    folder.mkdir()
+    parent = subprocess.Popen([sys.executable, str(script), str(folder)], stdout=subprocess.DEVNULL)
+
+    def alive(pid: int) -> bool:
+        try:
+            with open(f"/proc/{pid}/status") as status:
+                return not any(line.startswith("State:") and "Z" in line.split()[1] for line in status)
+        except OSError:
+            return False
+
+    workers: list[int] = []
+    try:
+        deadline = time.monotonic() + 60
+        while len(workers) < 2 and time.monotonic() < deadline:
+            workers = [int(p.name) for p in folder.iterdir()]
+            time.sleep(0.05)
+        assert len(workers) == 2
+        parent.send_signal(signal.SIGTERM)
+        parent.wait(timeout=30)
+        deadline = time.monotonic() + 10
+        while any(alive(pid) for pid in workers) and time.monotonic() < deadline:
+            time.sleep(0.1)
+        assert not any(alive(pid) for pid in workers)
+    finally:
+        for pid in workers + [parent.pid]:  # (only the processes this test started)
+            if alive(pid):
+                os.kill(pid, signal.SIGKILL)

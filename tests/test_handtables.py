@@ -135,3 +135,45 @@ def test_polaris_table_gives_the_latitude_within_fifteen_hundredths(ts, eph):
     errors = [abs(polaris_latitude_from_table(table, ho, lha) - la) / ARCMIN for (ho, lha), la in zip(values, lat)]
     assert max(errors) <= 0.15, max(errors)
     assert max(errors) > 0.02
+
+
+@pytest.mark.parametrize("utc", ["2026-03-20T18:42:10Z", "2025-11-02T05:59:59Z", "2027-01-14T00:00:00Z"])
+def test_v_and_d_against_skyfields_hourly_values(ts, eph, sky_bodies, utc):
+    """v and d of the Sun, Moon and planets over the hour of UTC that holds the instant, against skyfield's
+    apparent places (same DE421 file, independent reduction) at the two whole hours: v the excess of the
+    hour's change of GHA over the increments table's rate (15° 00.0′, the Moon 14° 19.0′: common practice),
+    d the hour's change of Dec. Within 0.01′; a star and Aries have neither."""
+    from navred.handtables import almanac_at
+
+    names = ["Sun", "Moon", "Venus", "Mars", "Jupiter", "Saturn"]
+    stamp = np.datetime64(utc[:-1], "ns")
+    hour = stamp.astype("datetime64[h]")
+    when = [hour.astype(object), (hour + np.timedelta64(1, "h")).astype(object)]
+    t = ts.utc(*zip(*[(w.year, w.month, w.day, w.hour, w.minute, w.second) for w in when]))
+    ours = almanac_at(names + ["Vega", "Aries"], utc, dut1_s=float(t.dut1[0]))
+    for k, name in enumerate(names):
+        def hourly(name=name):
+            ra, dec, _ = eph["earth"].at(t).observe(sky_bodies[name]).apparent().radec(epoch="date")
+            return [*((t.gast - ra.hours) * 15.0), *dec.degrees]
+        gha0, gha1, dec0, dec1 = frozen(f"hourly v d {name} {utc}", hourly)
+        rate = 14.0 + 19.0 / 60.0 if name == "Moon" else 15.0  # common practice: the increments tables' rates
+        sky_v = ((gha1 - gha0 - rate + 180.0) % 360.0 - 180.0) / ARCMIN
+        sky_d = (dec1 - dec0) / ARCMIN
+        assert ours.v_arcmin[k] == pytest.approx(sky_v, abs=0.01), name
+        assert ours.d_arcmin[k] == pytest.approx(sky_d, abs=0.01), name
+    assert np.isnan(ours.v_arcmin[-2:]).all() and np.isnan(ours.d_arcmin[-2:]).all()
+    # the Moon's v is some minutes (its GHA gains 14° 19′ to 14° 37′ an hour), the planets' a few tenths
+    assert 0.0 < ours.v_arcmin[1] < 20.0
+    assert ours.body[-1] == "Aries" and ours.gha_deg[-1] == pytest.approx(ours.gha_aries_deg)
+    assert ours.dec_deg[-1] == 0.0 and ours.sha_deg[-1] == 0.0
+
+
+def test_aries_is_a_body_of_the_almanac_and_its_gha_is_skyfields(ts):
+    """Reference: skyfield's t.gast (apparent sidereal time) is GHA Aries."""
+    from navred.handtables import almanac_at
+
+    t = ts.utc(2026, 3, 20, 18, 42, 10)
+    for name in ("Aries", "aries", "First Point of Aries"):
+        ours = almanac_at([name], "2026-03-20T18:42:10Z", dut1_s=float(t.dut1))
+        assert ours.body == ("Aries",)
+        assert abs(ours.gha_deg[0] - float(t.gast) * 15.0) / ARCMIN < 0.001

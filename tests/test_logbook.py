@@ -828,6 +828,46 @@ def test_a_blank_course_or_speed_is_carried_from_the_row_before_or_refused_by_na
     assert set(refused.rejected.row) == {2, 3}
 
 
+@pytest.mark.parametrize("scan_bytes,line_end", [(777, "\n"), (1 << 20, "\n"), (777, "\r\n"), (1 << 20, "\r\n")])
+def test_a_long_log_is_looked_at_in_pieces_and_its_blocks_read_from_the_file(tmp_path, monkeypatch, scan_bytes,
+                                                                             line_end):
+    """navred reduce --csv never holds a long log whole: the file is looked at a piece at a time (pieces that
+    cut lines in two here), and each block is read from the file by whoever works it. Blank lines (of
+    separators, of spaces), a byte-order mark, blank lines before the header, names beyond ASCII, a last
+    line without its line end and lines ended as a spreadsheet on Windows ends them (CR LF) read as the one
+    reader reads the whole file; a fix group left blank (by a space beyond ASCII too) makes the log read
+    whole, and so do line ends of both kinds in one file."""
+    from navred.io import readers
+    from navred.io.logbook import read_sight_log_blocks
+
+    monkeypatch.setattr(readers, "SCAN_BYTES", scan_bytes)
+    frame = pd.read_csv("sample_sights/training_sights.csv", dtype=str, keep_default_na=False).iloc[:230]
+    frame.loc[11, "observer"] = "Zoë Ångström"
+    frame.loc[40, "hs"] = "95 00"
+    lines = frame.to_csv(index=False).splitlines()
+    lines[60:60] = [",,,,", "   "]  # blank rows, kept in the rows' numbering
+    text = "\ufeff" + line_end * 2 + line_end.join(lines)  # no line end after the last row
+    path = tmp_path / "log.csv"
+    path.write_bytes(text.encode("utf-8"))
+    whole = read_sight_log(path)
+    plain = readers.plain_csv_blocks(path, 50)
+    assert not hasattr(plain, "lines") and len(plain.offsets) == len(plain) + 1
+    blocks = list(read_sight_log_blocks(path, block_rows=50))
+    assert len(blocks) == 5 and sum(b.empty_rows for b in blocks) == whole.empty_rows == 2
+    joined = pd.concat([b.table for b in blocks], ignore_index=True)
+    pd.testing.assert_frame_equal(joined, whole.table, check_dtype=False)
+    rejected = pd.concat([b.rejected for b in blocks], ignore_index=True)
+    pd.testing.assert_frame_equal(rejected, whole.rejected.reset_index(drop=True), check_dtype=False)
+    for blank in ("", "\u00a0"):
+        changed = frame.copy()
+        changed.loc[150, "fix_group"] = blank
+        path.write_text(changed.to_csv(index=False), encoding="utf-8")
+        assert len(list(read_sight_log_blocks(path, block_rows=50))) == 1  # an automatic group: read whole
+    mixed = text.replace(line_end, "\r\n" if line_end == "\n" else "\n", 7)
+    path.write_bytes(mixed.encode("utf-8"))
+    assert readers.plain_csv_blocks(path, 50) is None and len(list(read_sight_log_blocks(path, block_rows=50))) == 1
+
+
 def test_a_blank_dr_is_carried_from_the_row_before_as_its_course_and_speed_are(tmp_path):
     # the navigator's trial: a blank course and speed were carried from the row above, a blank DR refused. Now the
     # DR given on the row before is carried on along the course and speed in force, and named. Reference: the

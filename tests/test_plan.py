@@ -325,3 +325,25 @@ def test_a_compass_check_refuses_a_body_below_the_horizon():
         compass_check("Sun", "2026-03-26T01:30:00Z", 43.3, -13.2)  # the middle of the night at 13° W
     zn, hc = compass_check("Sun", "2026-03-26T17:30:00Z", 43.3, -13.2)
     assert hc > 0 and 200 < zn < 300
+
+
+def test_the_moons_magnitude_follows_its_phase(ts, eph):
+    """Reference: the Moon's phase angle from skyfield (the angle at the Moon between the Sun and the Earth, DE421)
+    put into Allen's formula, −12.73 + 0.026 |α| + 4e-9 α⁴ (Astrophysical Quantities, 3rd ed., §66; from memory):
+    navred's magnitude within 0.05 at new, crescent, quarter, gibbous and full; a five-day crescent is about −9,
+    not the −11 of a fixed figure, and the full Moon about −12.7."""
+    from navred.magnitudes import magnitudes
+
+    when = np.array(["2026-12-05T12:00", "2026-12-09T12:00", "2026-12-14T12:00", "2026-12-20T12:00",
+                     "2026-12-24T12:00"], dtype="datetime64[ns]")
+
+    def compute():
+        t = ts.from_datetimes(pd.DatetimeIndex(when).tz_localize("UTC").to_pydatetime())
+        moon = eph["moon"].at(t)
+        return list(moon.observe(eph["sun"]).separation_from(moon.observe(eph["earth"])).degrees)
+
+    alpha = np.asarray(frozen("moon-phase-angle|2026-12", compute))
+    allen = -12.73 + 0.026 * alpha + 4e-9 * alpha**4
+    ours = magnitudes(["Moon"] * when.size, when)
+    assert np.abs(ours - allen).max() <= 0.05, (ours, allen)
+    assert ours.min() < -12.4 and ours.max() > -9.0

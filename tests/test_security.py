@@ -111,6 +111,13 @@ def test_xml_entity_bombs_are_refused_in_gpx_and_in_spreadsheets(tmp_path):
             target.writestr(item, data)
     message = refused_quickly(bomb, LogbookError, "declares XML entities or a document type")
     assert "laughs.xlsx" in message and "lol" not in message
+    # a route's waypoints (navred paper --route) read from GPX: the same refusal
+    from navred.io.waypoints import WaypointError, read_waypoints
+
+    route = tmp_path / "laughs-route.gpx"
+    route.write_text(BILLION_LAUGHS + '<gpx><rte><rtept lat="1" lon="1"><name>&lol4;</name></rtept></rte></gpx>')
+    message = refused_quickly(route, WaypointError, "XML entities", read_waypoints)
+    assert "laughs-route.gpx" in message and "lol" not in message
 
 
 def _demo_workbook(path):
@@ -681,6 +688,7 @@ def test_every_file_a_run_reads_is_refused_as_an_output(tmp_path):
         ["days", str(log), "--rates", str(rates), "-o", str(log)],
         ["training", str(log), "--track", str(track), "-o", str(track)],
         ["mark", str(tmp_path), "-o", str(log)],
+        ["paper", "--from", "2026-04-14", "--to", "2026-04-14", "--log", str(log), "-o", str(log)],
     ]
     before = {p: p.read_bytes() for p in (log, rates, track)}
     for arguments in cases:

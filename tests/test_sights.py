@@ -172,3 +172,57 @@ def test_star_sights_on_the_sea_horizon_are_checked_against_the_suns_altitude(ts
     assert "Sun" not in reduced.message[2] and reduced.status[2] == "ok"
     bubble = reduce_sights(frame.assign(horizon="bubble", hs=[r["true_alt_deg"] + 0.0 for r in rows]))
     assert not bubble.message.str.contains("Sun").any()
+
+
+def numeric_frame(n: int, seed: int = 5, **extra) -> pd.DataFrame:
+    """Invented numeric sights (random bodies, instants, Hs and DRs, for arithmetic only): numbers and
+    instants as a notebook holds them, with some rows a reader refuses (Hs out of range, a blank eye)."""
+    rng = np.random.default_rng(seed)
+    bodies = np.array(["Sun", "Moon", "Venus", "Jupiter", "Vega", "Sirius", "Canopus", "Arcturus"])
+    seconds = np.sort(rng.integers(0, 200 * 86400, n))
+    frame = pd.DataFrame({
+        "utc": pd.Timestamp("2025-01-01", tz="UTC") + pd.to_timedelta(seconds, unit="s"),
+        "body": bodies[rng.integers(0, len(bodies), n)], "limb": "lower", "hs": rng.uniform(10, 80, n),
+        "index_error_arcmin": rng.uniform(-2, 2, n), "eye_height_m": rng.uniform(2, 20, n),
+        "dr_lat": rng.uniform(-60, 60, n), "dr_lon": rng.uniform(-180, 180, n), **extra})
+    frame.loc[frame.index[::97], "hs"] = 95.0
+    frame.loc[frame.index[5::101], "eye_height_m"] = np.nan
+    return frame
+
+
+@pytest.mark.parametrize("extra", [{}, {"observer": ["Ann", "ann", " ANN ", "Bo"] * 100, "vessel": "Kestrel"},
+                                   {"fix_group": [f"g{k // 4}" for k in range(400)], "course_deg": 90.0,
+                                    "speed_kn": 12.0}])
+def test_a_long_numeric_frame_read_in_blocks_is_the_frame_read_whole(monkeypatch, extra):
+    """A DataFrame of numbers longer than a block is read and reduced a block of rows at a time (shared among
+    processes): the table is the one reading the whole frame gives, automatic fix groups, observers' spellings
+    and row numbers made across the blocks."""
+    import warnings
+
+    import navred.jobs.sights as sights
+
+    frame = numeric_frame(400, **extra)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        whole = reduce_sights(frame)
+        monkeypatch.setattr(sights, "FRAME_BLOCK_ROWS", 37)
+        assert sights.frame_blocks(frame, 37) is not None
+        blocks = reduce_sights(frame)
+    pd.testing.assert_frame_equal(blocks, whole)
+    assert (blocks.status == "error").sum() >= 8 and blocks.row.tolist() == list(range(1, 401))
+
+
+def test_a_numeric_frame_gives_what_its_text_gives(tmp_path):
+    """The numbers of a DataFrame reduced as they are (no text made of them) give the very results of the same
+    table written as a CSV log and read as text: every added column, and every parsed number."""
+    import warnings
+
+    frame = numeric_frame(300)
+    path = tmp_path / "numbers.csv"
+    frame.assign(utc=frame.utc.dt.strftime("%Y-%m-%dT%H:%M:%SZ")).to_csv(path, index=False)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        numbers, text = reduce_sights(frame), reduce_sights(str(path))
+    for column in [*RESULT_COLUMNS, "hs_deg", "dr_lat_deg", "dr_lon_deg", "eye_height_m", "index_error_arcmin",
+                                    "utc_jd1", "utc_jd2", "sight_utc", "fix_group"]:
+        pd.testing.assert_series_equal(numbers[column], text[column], check_dtype=False, obj=column)

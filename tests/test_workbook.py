@@ -209,6 +209,38 @@ def test_text_from_a_log_is_never_written_as_a_formula(tmp_path):
     assert any(v.startswith("@SUM(1+1)") for v in seen) and any("=injected.csv" in v for v in seen)
 
 
+def test_a_workbooks_tables_go_to_a_temporary_file_as_they_are_made_and_come_back_unchanged(tmp_path, monkeypatch):
+    """A table's rows are made a few at a time and written to a temporary file, not held until the save; the
+    workbook streamed from it is, sheet for sheet, the one made with every row at once."""
+    import zipfile
+
+    import navred.io.xlsxtables as xlsxtables
+
+    voyage = process_log("sample_sights/training_sights.csv", plan=False)
+    made = []
+    original = xlsxtables.TableWriter.write
+
+    def watched(self, sheet, frame, **options):
+        original(self, sheet, frame, **options)
+        made.append(self._plans[sheet.title].blocks[-1])
+
+    monkeypatch.setattr(xlsxtables.TableWriter, "write", watched)
+    monkeypatch.setattr(xlsxtables, "ROWS_AT_ONCE", 7)
+    few = write_workbook(voyage, tmp_path / "few.xlsx", plots=False)
+    spilled = [block for block in made if block.lengths is not None]
+    assert spilled and all(block.rows == [] and len(block.lengths) == block.last_row - block.first_row + 1
+                           for block in spilled)
+    monkeypatch.setattr(xlsxtables, "ROWS_AT_ONCE", 1_000_000)
+    many = write_workbook(voyage, tmp_path / "many.xlsx", plots=False)
+    with zipfile.ZipFile(few) as a, zipfile.ZipFile(many) as b:
+        assert a.namelist() == b.namelist()
+        for name in a.namelist():
+            if name.startswith("xl/worksheets/") and "sheet1.xml" not in name:  # (the About sheet has the time)
+                assert a.read(name) == b.read(name), name
+    book = openpyxl.load_workbook(few, read_only=True)
+    assert book["Working"].max_row == len(voyage.reduced) + 1
+
+
 def sheet_frame(sheet) -> tuple[pd.DataFrame, dict]:
     """A sheet's table (down to its first empty row) and each column's number format (of its first data row)."""
     values = list(sheet.values)

@@ -212,6 +212,25 @@ def print_warnings(caught) -> None:
             typer.echo(f"warning: {item.message}", err=True)
 
 
+def course_and_speed_together(ctx: typer.Context) -> None:
+    """A DR track's --course without --speed (or the other way) is refused: either alone would be filled in
+    silently (a fixed position, or a course of 000°)."""
+    # the source's name, so as to rely on no one click (typer carries its own)
+    given = {name: getattr(ctx.get_parameter_source(name), "name", "DEFAULT") != "DEFAULT"
+             for name in ("course", "speed")}
+    if given["course"] != given["speed"]:
+        alone, missing = ("--course", "--speed") if given["course"] else ("--speed", "--course")
+        raise NavredError(f"{alone} without {missing}: the DR track needs both (leave both out for a fixed position)")
+
+
+def no_eye_warning(eye: str | None) -> None:
+    """Said on stderr when --eye is left out of a command that presets the sextant: the Hs would be for an eye
+    at the sea's surface."""
+    if eye is None:
+        typer.echo("warning: no --eye given: every Hs to preset is for a height of eye of 0 m (about 3′ too high "
+                   "for a 3 m bridge, 6′ for 12 m); give --eye", err=True)
+
+
 def print_caution() -> None:
     """The safety caution, one line on stderr, once at the end of every run that did its work; on stderr, so
     that --csv output stays clean."""

@@ -45,34 +45,78 @@ def labels_of(reduced: pd.DataFrame) -> np.ndarray:
 # --- almanac, bodies, identify ------------------------------------------------------------------
 
 ALMANAC_COLUMNS = ("gha_aries_deg", "ra_hours", "sha_deg", "gha_deg", "dec_deg", "hp_arcmin", "sd_arcmin",
-                   "distance_km")
+                   "distance_km", "v_arcmin", "d_arcmin")
 
 
 def almanac_csv(result) -> str:
-    """The almanac as CSV: a row per body, decimal degrees to 1e-7 (body names are the catalogue's own)."""
-    stamp = str(np.ravel(result.instants.utc_text(6))[0])  # a leap second is 23:59:60
-    dut1_s, source = float(result.instants.dut1_s[0]), str(result.instants.ut1_source[0])
+    """The almanac (:class:`navred.handtables.InstantAlmanac`) as CSV: a row per body, decimal degrees to 1e-7
+    (body names are the catalogue's own; an empty field where a body has no such value)."""
+    stamp = result.utc_text or str(result.utc.astype("datetime64[us]"))  # a leap second is 23:59:60
     lines = [",".join(["body", "utc", *ALMANAC_COLUMNS, "dut1_s", "ut1_source"])]
-    for k, body in enumerate(result.body.tolist()):
-        numbers = ["" if v != v else f"{v:.7f}" for v in (float(getattr(result, c)[k]) for c in ALMANAC_COLUMNS)]
-        lines.append(",".join([body, f"{stamp}Z", *numbers, f"{dut1_s:.7f}", source]))
+    for k, body in enumerate(result.body):
+        numbers = []
+        for column in ALMANAC_COLUMNS:
+            value = result.gha_aries_deg if column == "gha_aries_deg" else float(getattr(result, column)[k])
+            numbers.append("" if value != value else f"{value:.7f}")
+        lines.append(",".join([body, f"{stamp}Z", *numbers, f"{result.dut1_s:.7f}", result.ut1_source]))
     return "\n".join(lines) + "\n"
 
 
+def almanac_text(bodies: list[str], utc: str, dut1_s: float | None, *, csv: bool) -> str:
+    """What ``navred almanac`` prints on stdout: the almanac of ``bodies`` at ``utc`` as CSV or as lines."""
+    from ..handtables import almanac_at
+
+    result = almanac_at(bodies, utc, dut1_s)
+    return almanac_csv(result) if csv else "\n".join(almanac_lines(result)) + "\n"
+
+
+def _arcmin_text(value: float, signed: bool = False) -> str:
+    if value != value:
+        return "-"
+    return f"{value:+.1f}′" if signed else (f"{value:.1f}′" if value else "-")
+
+
 def almanac_lines(result) -> list[str]:
-    stamp = str(np.ravel(result.instants.utc_text(0))[0])  # a leap second is 23:59:60
-    dut1_s, source = float(result.instants.dut1_s[0]), str(result.instants.ut1_source[0])
-    lines = [f"UTC {stamp.replace('T', ' ')}   DUT1 {dut1_s:+.3f} s ({source})",
-             f"GHA Aries {format_angle(float(result.gha_aries_deg[0]))}", "",
-             f"{'body':<16}{'GHA':>13}{'Dec':>14}{'SHA':>13}{'HP':>8}{'SD':>8}"]
-    for k, body in enumerate(result.body.tolist()):
-        hp_value, sd_value = float(result.hp_arcmin[k]), float(result.sd_arcmin[k])
-        hp = f"{hp_value:.1f}′" if hp_value else "-"
-        sd = f"{sd_value:.1f}′" if sd_value else "-"
+    """The almanac at one instant in navigational form; v and d (signed, d + northward) for the Sun, Moon and
+    planets over the hour of UTC that holds the instant."""
+    stamp = result.utc_text or str(result.utc.astype("datetime64[us]"))  # a leap second is 23:59:60
+    lines = [f"UTC {stamp[:19].replace('T', ' ')}   DUT1 {result.dut1_s:+.3f} s ({result.ut1_source})",
+             f"GHA Aries {format_angle(result.gha_aries_deg)}", "",
+             f"{'body':<16}{'GHA':>13}{'v':>8}{'Dec':>14}{'d':>8}{'SHA':>13}{'HP':>8}{'SD':>8}"]
+    for k, body in enumerate(result.body):
+        aries = body == "Aries"  # (no Dec or SHA of its own: an almanac leaves them blank; 0 in --csv)
         lines.append(f"{body:<16}{format_angle(float(result.gha_deg[k])):>13}"
-                     f"{format_angle(float(result.dec_deg[k]), 'dec'):>14}{format_angle(float(result.sha_deg[k])):>13}"
-                     f"{hp:>8}{sd:>8}")
+                     f"{_arcmin_text(float(result.v_arcmin[k]), True):>8}"
+                     f"{'-' if aries else format_angle(float(result.dec_deg[k]), 'dec'):>14}"
+                     f"{_arcmin_text(float(result.d_arcmin[k]), True):>8}"
+                     f"{'-' if aries else format_angle(float(result.sha_deg[k])):>13}"
+                     f"{_arcmin_text(float(result.hp_arcmin[k])):>8}{_arcmin_text(float(result.sd_arcmin[k])):>8}")
+    if any(v == v for v in result.v_arcmin.tolist()):
+        lines += ["", "v: the hour's change of GHA less the increments table's rate (15° 00.0′; the Moon 14° 19.0′); "
+                      "d: the hour's change of Dec (+ north); both over the hour of UTC that holds the instant"]
     return lines
+
+
+def plot_plan_line(plan, folder: str) -> str:
+    """The line a long run of picture files starts with: how many, what, where, and about how long."""
+    minutes = plan.seconds / 60.0
+    when = (f"about {minutes:.0f} minutes" if minutes >= 1.5 else
+            f"about {max(plan.seconds, 1):.0f} seconds")
+    kinds = " and ".join(f.upper() for f in plan.formats)
+    who = f" by {plan.drawers} processes" if plan.drawers > 1 else ""
+    faster = ""
+    if "png" in plan.formats and plan.sheets:
+        svg_share = _svg_share(plan)
+        faster = f"; --plot-formats svg would take about {svg_share:.0%} of that"
+    return (f"writing {plan.files:,} picture files to {folder} ({plan.sheets:,} plotting sheets as {kinds}"
+            f"{f', {plan.track_pictures} voyage pictures' if plan.track_pictures else ''}), {when}{who} on a machine "
+            f"doing nothing else (longer on a busy one){faster}; Ctrl-C stops it")
+
+
+def _svg_share(plan) -> float:
+    from ..jobs.plotfiles import SECONDS_PER_SHEET
+
+    return SECONDS_PER_SHEET["svg"] / sum(SECONDS_PER_SHEET[f] for f in plan.formats)
 
 
 def bodies_table() -> pd.DataFrame:
@@ -155,6 +199,11 @@ def bearing_check_lines(check) -> list[str]:
     if check.compass_bearing_deg is not None:
         lines.append(f"  compass {check.compass_bearing_deg:05.1f}°: compass error {_east_west(check.compass_error_deg)}, "
                      f"variation {_east_west(check.variation_deg)}, deviation {_east_west(check.deviation_deg)}")
+        from ..jobs.compasswork import LARGE_DEVIATION_DEG
+
+        if check.deviation_deg is not None and abs(check.deviation_deg) > LARGE_DEVIATION_DEG:
+            lines.append(f"  WARNING: a deviation over {LARGE_DEVIATION_DEG:g}°: check the time (UTC), the DR, the body, "
+                         "the variation and the heading before trusting it")
     return lines
 
 

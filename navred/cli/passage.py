@@ -13,10 +13,15 @@ import typer
 from ..errors import NavredError
 from .common import (
     CSV_HELP,
+    DATES_HELP,
     EYE_HELP,
+    RATES_HELP,
     CsvFileOfOld,
+    angle_option,
+    check_folder,
     column_number,
     command,
+    course_and_speed_together,
     course_option,
     date_option,
     dr_lat_option,
@@ -26,12 +31,15 @@ from .common import (
     eye_option,
     first_date_option,
     index_error_option,
+    input_files,
     instant_option,
+    no_eye_warning,
     number,
     old_outputs,
     output_files,
     outputs_help,
     position_option,
+    ratings,
     renamed,
     reported,
     speed_option,
@@ -39,6 +47,7 @@ from .common import (
     zone_option,
 )
 
+PAPER_FILES = {".pdf": "the printed paper"}
 PLAN_FILES = {".pdf": "a page per round of sights with the sky picture, for the bridge", ".txt": "the text shown",
               ".csv": "the day's times, and NAME-plans.csv every plan beside it",
               ".png": "the first round's sky", ".svg": "the first round's sky"}
@@ -87,8 +96,10 @@ def plan_command(
         column_number(course, "--course", "course"), column_number(speed, "--speed", "speed")
         number(min_alt, "--min-alt", 0.0, 90.0), number(max_alt, "--max-alt", 0.0, 90.0)
         eye_m, index_error_arcmin = eye_option(eye), index_error_option(index_error)
+        course_and_speed_together(ctx)
         zd, first = zone_option(zone), date_option(date)
         utc = instant_option(renamed(utc, at, "--utc", "--at"))
+        no_eye_warning(eye)
         plan = bridge_plan(first, days, lat_deg, lon_deg, course_deg=course, speed_kn=speed, eye_height_m=eye_m,
                            index_error_arcmin=index_error_arcmin, zone_description_h=zd, count=count,
                            min_alt_deg=min_alt, max_alt_deg=max_alt, at=utc)
@@ -106,21 +117,30 @@ def paper_command(
     ctx: typer.Context,
     first: str = typer.Option(..., "--from", help="The passage's first date (UTC), e.g. 2026-03-26."),
     last: str = typer.Option(..., "--to", help="The passage's last date (UTC), inclusive."),
-    lat: str = typer.Option(..., "--lat", help="DR latitude at 00:00 local time of the first date, e.g. '44 30 N'."),
-    lon: str = typer.Option(..., "--lon", help="DR longitude then, e.g. '012 00 W'."),
-    course: float = typer.Option(0.0, "--course", help="Course to steer (degrees true) for the DR track."),
-    speed: float = typer.Option(0.0, "--speed", help="Speed (knots) for the DR track; 0 for a fixed position."),
+    lat: str | None = typer.Option(None, "--lat", help="DR latitude at 00:00 local time of the first date, e.g. '44 30 N' (a departure or a fixed position)."),
+    lon: str | None = typer.Option(None, "--lon", help="DR longitude then, e.g. '012 00 W'."),
+    course: float | None = typer.Option(None, "--course", help="Course to steer (degrees true) from the position given; not with --route or --log."),
+    speed: float | None = typer.Option(None, "--speed", help="Speed (knots) from the position given, or along the --route; left out with a position: a fixed position."),
+    route: str | None = typer.Option(None, "--route", help="Plan along a route's waypoints in turn: the CSV or GPX navred route writes, or a CSV of waypoints (lat, lon) written by hand; with --speed."),
+    depart: str | None = typer.Option(None, "--depart", help="When she leaves the route's first waypoint, or the --lat/--lon position on her --course and --speed (ISO 8601 with a zone); default 00:00 local time of the first date."),
+    log: str | None = typer.Option(None, "--log", help="Plan along the DR of a sight log with entry rows (departure, course, current), as navred days keeps it."),
+    vessel: str | None = typer.Option(None, "--vessel", help="The vessel of the --log to plan for, when it keeps several."),
+    carry_current: bool = typer.Option(False, "--carry-current", help="With --log: carry the set and drift found at each fix on in the DR."),
     eye: str | None = typer.Option(None, "--eye", help=EYE_HELP + " (for the Hs to preset)."),
     index_error: str = typer.Option("0", "--index-error", help="Index error: '1.4 on' (on the arc), '0.8 off', or signed arcminutes."),
     zone: str | None = typer.Option(None, "--zone", help="The zone description kept (ZT + ZD = UTC), e.g. '+1'; default: the DR longitude's zone."),
     count: int = typer.Option(4, "--count", help="Bodies in each twilight's recommended set: 3, 4 or 5."),
-    output: list[str] = typer.Option(None, "--output", "-o", help=outputs_help({".pdf": "the printed paper"})),
+    output: list[str] = typer.Option(None, "--output", "-o", help=outputs_help(PAPER_FILES)),
     tables: str | None = typer.Option(None, "--tables", help="Also write every printed table as a CSV file into this folder."),
+    rates: str | None = typer.Option(None, "--rates", help=RATES_HELP),
+    dates: str | None = typer.Option(None, "--dates", help=DATES_HELP),
 ) -> None:
     """The printed backup of a passage: hourly GHA and Dec, the stars, altitude corrections, the twilight sights, noon, Polaris, formulas and blank forms.
 
-    The twilight sights are planned along the DR with Hc, Zn and their change per minute; the noon Sun,
-    a Polaris table, the calculator's formulas, and blank forms follow (docs/paper.md says what to print
+    Planned along a departure's course and speed (or a fixed position), a route's waypoints at a speed
+    (--route), or a log's DR with its entry rows (--log): the twilight sights with Hc, Zn and their
+    change per minute, the noon Sun, a Polaris table, the calculator's formulas, and blank forms (the
+    sight book's pages by method, plotting sheets, a DR log) follow (docs/paper.md says what to print
     and how to use each page).
 
     Example:  navred paper --from 2026-03-26 --to 2026-03-31 --lat "44 30 N" --lon "012 00 W" --course 215 --speed 6.5 --eye "2.8 m" -o passage.pdf --tables passage-tables
@@ -129,25 +149,32 @@ def paper_command(
     from ..jobs.paper import passage_paper
 
     with reported(ctx):
-        files = output_files(output, {".pdf": "the printed paper"})
+        inputs = input_files([log], [route], rates)
+        files = output_files(output, PAPER_FILES, inputs)
         if not files and not tables:
             raise NavredError("give -o FILE.pdf for the printed paper, --tables DIR for its tables as CSV, or both")
-        if tables and Path(tables).exists() and not Path(tables).is_dir():
-            raise NavredError(f"--tables {tables}: that is a file; give a folder for the tables")
-        lat_deg, lon_deg = position_option(lat, lon)
+        if tables:
+            if Path(tables).exists() and not Path(tables).is_dir():
+                raise NavredError(f"--tables {tables}: that is a file; give a folder for the tables")
+            check_folder(tables, inputs, "--tables")
+        lat_deg = angle_option(lat, "lat", "--lat") if lat is not None else None
+        lon_deg = angle_option(lon, "lon", "--lon") if lon is not None else None
         column_number(course, "--course", "course"), column_number(speed, "--speed", "speed")
         index_error_arcmin, zd = index_error_option(index_error), zone_option(zone)
         if count not in (3, 4, 5):
             raise NavredError(f"--count {count}: give 3, 4 or 5")
-        paper = passage_paper(first, last, lat_deg, lon_deg, course_deg=course, speed_kn=speed,
+        no_eye_warning(eye)
+        paper = passage_paper(first, last, lat_deg, lon_deg, course_deg=course, speed_kn=speed, route=route,
+                              depart=instant_option(depart, "--depart"), log=log, vessel=vessel, dates=dates,
+                              rates=ratings(rates, dates), carry_current=carry_current,
                               eye_height_m=eye_option(eye), index_error_arcmin=index_error_arcmin,
                               zone_description_h=zd, count=count)
         if ".pdf" in files:
-            written = write_pdf(paper.document, files[".pdf"])
+            written = write_pdf(paper.document, files[".pdf"], inputs=inputs)
             typer.echo(f"wrote {written} ({paper.days} day{'s' if paper.days > 1 else ''}, valid "
                        f"{paper.document.valid_for})")
         if tables:
-            written_tables = write_tables(paper.document, tables)
+            written_tables = write_tables(paper.document, tables, inputs=inputs)
             typer.echo(f"wrote {len(written_tables)} tables as CSV to {tables}")
 
 

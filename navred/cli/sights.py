@@ -220,19 +220,44 @@ def _processed(sights_files, files, dates, rates, solve_motion, carry_current, c
         require_reduced(0, 0)
     for path in files.values():
         check_output(path, log.sources)  # a folder's logs, now that they are known
-    bar = None
-
-    def progress(done: int, total: int) -> None:
-        nonlocal bar
-        if bar is None:
-            bar = typer.progressbar(length=total, label="reducing sights", file=sys.stderr)
-            bar.__enter__()
-        bar.update(done - bar.pos)
-
+    progress = _StderrBar("reducing sights")
     voyage = process_log(log, solve_motion=solve_motion, progress=progress, carry_current=carry_current, rates=rated)
-    if bar is not None:
-        bar.__exit__(None, None, None)
+    progress.close()
     return voyage
+
+
+class _StderrBar:
+    """A progress callback ``(done, total)`` showing a bar on stderr from its first call; ``close_when_done``:
+    closed once ``done`` reaches ``total`` (else by :meth:`close`)."""
+
+    def __init__(self, label: str, *, close_when_done: bool = False) -> None:
+        self.label, self.close_when_done, self.bar = label, close_when_done, None
+
+    def __call__(self, done: int, total: int) -> None:
+        if self.bar is None:
+            self.bar = typer.progressbar(length=total, label=self.label, file=sys.stderr)
+            self.bar.__enter__()
+        self.bar.update(done - self.bar.pos)
+        if self.close_when_done and done >= total:
+            self.close()
+
+    def close(self) -> None:
+        if self.bar is not None:
+            self.bar.__exit__(None, None, None)
+            self.bar = None
+
+
+def _announced_plots(voyage, plots: str, formats):
+    """For a run that will write many picture files: a line on stderr saying how many and about how long, and a
+    progress bar (the callback :func:`navred.jobs.plotfiles.write_plots` reports to); None for a short run."""
+    from ..jobs.plotfiles import plot_plan
+    from .format import plot_plan_line
+
+    plan = plot_plan(voyage, formats)
+    if not plan.announced:
+        return None
+    typer.echo(plot_plan_line(plan, plots), err=True)
+    return _StderrBar("drawing plotting sheets", close_when_done=True)
 
 
 def _write_voyage_files(voyage, files: dict[str, str], chosen, plots: str | None, formats) -> None:
@@ -246,7 +271,7 @@ def _write_voyage_files(voyage, files: dict[str, str], chosen, plots: str | None
     if note:
         typer.echo(f"note: {note}", err=True)
     if plots:
-        written = write_plots(voyage, plots, formats)
+        written = write_plots(voyage, plots, formats, progress=_announced_plots(voyage, plots, formats))
         typer.echo(f"wrote {len(written)} picture files (plotting sheets and the voyage track) to {plots}")
     if ".gpx" in files:
         typer.echo(f"wrote {write_voyage_gpx(voyage, files['.gpx'])}")
@@ -458,7 +483,7 @@ def mark_command(
     csv: bool = typer.Option(False, "--csv", help=CSV_HELP.format(what="one row per working: row, verdict, first_wrong_line (empty when all is right), cause, noticed, and more")),
     track: str | None = typer.Option(None, "--track", help="The ship's reference track (GPX, NMEA or CSV, as for navred training): each cadet's personal error against it."),
     exam: bool = typer.Option(False, "--exam", help="Exam mode: leave out navred's fix and any reference position."),
-    template: str | None = typer.Option(None, "--template", help="Write an empty sight book (.xlsx: a page per method) to this file and stop."),
+    template: str | None = typer.Option(None, "--template", help="Write an empty sight book to this file and stop: .xlsx a page per method to fill in, .pdf the same pages printed blank."),
     rates: str | None = _rates(),
     dates: str | None = _dates(),
     pdf: str | None = typer.Option(None, "--pdf", hidden=True),
@@ -476,7 +501,7 @@ def mark_command(
         if template:
             from ..jobs.workings import write_template
 
-            check_output(template, input_files(workings), suffixes=(".xlsx",), what="--template")
+            check_output(template, input_files(workings), suffixes=(".xlsx", ".pdf"), what="--template")
             typer.echo(f"wrote {write_template(template)}")
             return
         if not workings:

@@ -27,31 +27,26 @@ from .common import (
 @command("almanac")
 def almanac_command(
     ctx: typer.Context,
-    bodies: list[str] = typer.Argument(..., help="Body names: Sun, Moon, Venus, Mars, Jupiter, Saturn or a navigational star."),
+    bodies: list[str] = typer.Argument(..., help="Body names: Sun, Moon, Venus, Mars, Jupiter, Saturn, a navigational "
+                                                 "star, or Aries (the first point of Aries: its GHA)."),
     utc: str = typer.Option(..., "--utc", "-t", help="Instant, ISO 8601 with a zone, e.g. 2026-03-20T18:42:10Z."),
     dut1: float | None = typer.Option(None, "--dut1", help="UT1 - UTC in seconds (from a radio time signal); default: the IERS table."),
     csv: bool = typer.Option(False, "--csv", help=CSV_HELP.format(what="a row per body, decimal degrees,")),
 ) -> None:
-    """GHA, Dec, SHA, HP and SD of bodies at one instant, in navigational form.
+    """GHA, Dec, SHA, HP and SD of bodies at one instant, in navigational form, with v and d for a tables working.
 
-    Example:  navred almanac Sun Moon Vega --utc 2026-03-20T18:42:10Z
+    v is the excess of the hour's change of GHA over the increments table's rate, d the hour's change of Dec,
+    over the hour of UTC that holds the instant (the Sun, the Moon and the planets).
+
+    Example:  navred almanac Sun Moon Vega Aries --utc 2026-03-20T18:42:10Z
     """
-    import numpy as np
-
-    from ..almanac import places
-    from ..timescales import instants
     from ..vocabulary import COLUMN
-    from .format import almanac_csv, almanac_lines
+    from .format import almanac_text
 
     with reported(ctx):
         number(dut1, "--dut1", COLUMN["dut1"].low, COLUMN["dut1"].high,  # as the log's dut1 column
                "seconds: UT1 − UTC is kept within 0.9 s by leap seconds, and the log's dut1 column is held to it")
-        # one instant for every body (a list of one, so that the bodies pair with it)
-        result = places(list(bodies), instants(np.array([utc], dtype=object)), dut1_s=dut1)
-        if csv:
-            echo_csv(almanac_csv(result))
-        else:
-            echo_lines(almanac_lines(result))
+        echo_csv(almanac_text(list(bodies), utc, dut1, csv=csv))
 
 
 @command("bodies")

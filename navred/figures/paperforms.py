@@ -100,9 +100,10 @@ def blank_plotting_sheet(lat_deg: float):
 
 
 def plotting_bands(lat_deg) -> list[float]:
-    """The degrees of latitude (a point inside each band) a passage's DR latitudes pass through, in order."""
+    """The degrees of latitude (a point inside each band) a passage's DR latitudes (in time order) pass through, in
+    the order she reaches them."""
     values = np.asarray(lat_deg, dtype=float)
-    bands = sorted({math.floor(v) for v in values[np.isfinite(values)]})
+    bands = dict.fromkeys(math.floor(v) for v in values[np.isfinite(values)])
     return [b + 0.5 for b in bands]
 
 

@@ -84,8 +84,8 @@ def read_compass_book(source: str | Path, *, dates: str | None = None) -> BookRo
                 rejected.append({"row": int(row_number), "source": raw.source, "column": column, "reason": reason})
                 continue
             rows.append({"row": int(row_number), "source": raw.source, **row})
-    columns = ["row", "source", "utc", "body", "compass", "bearing_deg", "heading_deg", "variation_deg", "lat_deg",
-               "lon_deg", "remarks"]
+    columns = ["row", "source", "utc", "body", "compass", "compass_written", "bearing_deg", "heading_deg",
+               "variation_deg", "lat_deg", "lon_deg", "remarks"]
     table = pd.DataFrame(rows, columns=columns)
     return BookRows(table, pd.DataFrame(rejected, columns=["row", "source", "column", "reason"]),
                     tuple(t.source for t in tables))
@@ -133,7 +133,8 @@ def _read_row(cell, dates, canonical_body_name) -> dict:
         lat, lon = float(parse_angle(cell("lat"), "lat")), float(parse_angle(cell("lon"), "lon"))
     except NavredError as exc:
         raise NavredError(f"lat/lon: {exc}") from None
-    return {"utc": utc, "body": body, "compass": compass, "bearing_deg": bearing, "heading_deg": heading,
+    return {"utc": utc, "body": body, "compass": compass, "compass_written": " ".join(cell("compass").lower().split()),
+            "bearing_deg": bearing, "heading_deg": heading,
             "variation_deg": variation, "lat_deg": lat, "lon_deg": lon, "remarks": cell("remarks")}
 
 

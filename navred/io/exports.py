@@ -7,7 +7,8 @@
   WGS 84 degrees; a number that is not finite is written as null (JSON has no NaN); a line or a ring that
   crosses the antimeridian is cut there into two parts (§3.1.9), none of whose coordinates jump across it.
 
-Both carry the safety caution (GPX: the metadata's description; GeoJSON: a ``navred`` member) and are
+Both carry the safety caution (GPX: the metadata's description and the comment of every waypoint, route and
+track; GeoJSON: a ``navred`` member and every feature's ``navred_caution`` property) and are
 written atomically. What is written is the job's: a voyage's fixes and DR (:mod:`navred.jobs.chartfiles`),
 a route (:mod:`navred.jobs.routes`).
 """
@@ -23,7 +24,7 @@ from pathlib import Path
 import numpy as np
 
 from .. import __version__
-from .cautions import geojson_with_caution, gpx_with_caution
+from .cautions import CAUTION, geojson_with_caution, gpx_with_caution
 from .output import atomic_write
 
 GPX_NAMESPACE = "http://www.topografix.com/GPX/1/1"
@@ -74,8 +75,10 @@ def ascii_text(text: str) -> str:
 def _gpx_point(parent, tag: str, point: GpxPoint) -> None:
     element = ET.SubElement(parent, f"{{{GPX_NAMESPACE}}}{tag}", {"lat": f"{point.lat_deg:.6f}",
                                                                   "lon": f"{point.lon_deg:.6f}"})
-    # the schema's order: time, name, desc, type
-    for child, text in (("time", point.utc), ("name", point.name), ("desc", point.description),
+    # the schema's order: time, name, cmt, desc, type; a waypoint carries the caution as its comment, so that a
+    # plotter that imports the waypoints alone keeps it beside each
+    caution = CAUTION if tag == "wpt" else ""
+    for child, text in (("time", point.utc), ("name", point.name), ("cmt", caution), ("desc", point.description),
                         ("type", point.kind)):
         if text:
             ET.SubElement(element, f"{{{GPX_NAMESPACE}}}{child}").text = text
@@ -93,7 +96,7 @@ def write_gpx(path: str | Path, *, waypoints: Iterable[GpxPoint] = (), routes: I
         _gpx_point(root, "wpt", point)
     for route in (r for r in routes if len(r.points)):
         rte = ET.SubElement(root, f"{{{GPX_NAMESPACE}}}rte")
-        for child, text in (("name", route.name), ("desc", route.description)):
+        for child, text in (("name", route.name), ("cmt", CAUTION), ("desc", route.description)):
             if text:
                 ET.SubElement(rte, f"{{{GPX_NAMESPACE}}}{child}").text = text
         for point in route.points:
@@ -103,7 +106,7 @@ def write_gpx(path: str | Path, *, waypoints: Iterable[GpxPoint] = (), routes: I
         if not segments:
             continue
         trk = ET.SubElement(root, f"{{{GPX_NAMESPACE}}}trk")
-        for child, text in (("name", track.name), ("type", track.kind)):
+        for child, text in (("name", track.name), ("cmt", CAUTION), ("type", track.kind)):
             if text:
                 ET.SubElement(trk, f"{{{GPX_NAMESPACE}}}{child}").text = text
         for segment in segments:
@@ -221,6 +224,9 @@ def polygon_feature(lat_deg, lon_deg, properties: dict) -> dict:
 
 def write_geojson(path: str | Path, features: list[dict], *, inputs: Iterable[str] = ()) -> Path:
     """A GeoJSON FeatureCollection (RFC 7946) of ``features``, with the caution; ``inputs`` never written over."""
+    # the caution also in every feature's properties: a plotter that imports the features alone keeps it
+    features = [{**feature, "properties": {**(feature.get("properties") or {}), "navred_caution": CAUTION}}
+                for feature in features]
     collection = geojson_with_caution({"type": "FeatureCollection", "features": features})
     text = json.dumps(collection, indent=1, allow_nan=False)
     return atomic_write(path, lambda p: Path(p).write_text(text, encoding="utf-8"), inputs=list(inputs))

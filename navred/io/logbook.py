@@ -29,7 +29,7 @@ import pandas as pd
 from ..compass import DeviationCurve
 from ..constants import NS_PER_HOUR
 from ..corrections import HIGHEST_READING_DEG
-from ..errors import api_boundary
+from ..errors import NavredError, api_boundary
 from ..timescales import (
     utc_jd_to_datetime64,
 )
@@ -55,6 +55,7 @@ from .logcells import (
     floats,
     gather,
     parse_key,
+    texts_of,
     with_decimal_point,
     words,
     zoneless_utc,
@@ -76,6 +77,7 @@ from .readers import (
     LogSource,
     RawTable,
     ReadBudget,
+    blank_mask,
     plain_csv_blocks,
     read_table,
 )
@@ -301,7 +303,7 @@ def sight_log_blocks(source: LogSource, *, dates: str | None = None, block_rows:
         raise LogbookError(f"dates {dates!r} is not one of {', '.join(DATE_ORDERS)}")
     plain = plain_csv_blocks(source, block_rows) if isinstance(source, (str, Path)) and Path(source).is_file() \
         else None
-    if plain is None or len(plain.lines) <= block_rows:
+    if plain is None or plain.n_lines <= block_rows:
         return None
     first = plain.block(0)
     layout = _layout(first)
@@ -344,9 +346,63 @@ def check_marks(is_mark: np.ndarray, gathered, problems) -> None:
                      f"{key.replace('_', ' ')} belongs to a mark row: name the charted object in the mark column")
 
 
+#: the columns whose reading depends on the row alone (no DR or motion carried, no zone time worked from
+#: another row, no entry of the ship's progress): a DataFrame of these alone can be read in row blocks
+_ROW_LOCAL_KEYS = frozenset({"utc", "body", "limb", "hs", "index_error", "eye_height", "horizon", "waterline_distance",
+                             "measured_dip", "temperature", "pressure", "dr_lat", "dr_lon", "course", "speed", "dut1",
+                             "fix_group", "chart_lat", "chart_lon", "vessel", "observer", "voyage", "series"})
+
+
+def frame_blocks(frame: pd.DataFrame, block_rows: int) -> list[tuple[int, int]] | None:
+    """The spans of rows a DataFrame log can be read in, each on its own, giving what :func:`read_sight_log`
+    gives the whole frame once the fix groups and the observers' spellings are made across them
+    (:func:`whole_log_columns`): a frame longer than ``block_rows`` whose columns are all read row by row
+    (:data:`_ROW_LOCAL_KEYS`) and whose utc, DR (and course and speed, where given) no row leaves blank.
+    None otherwise: the frame is read whole."""
+    if len(frame) <= block_rows:
+        return None
+    header = [str(c) for c in frame.columns]
+    table = RawTable("(table)", header, [], np.zeros(0, dtype=int))
+    try:
+        layout = _layout(table)
+    except NavredError:
+        return None
+    if layout.problems or layout.extras or set(layout.keys) - _ROW_LOCAL_KEYS \
+            or any(len(v) > 1 for v in layout.keys.values()):
+        return None
+    for key in ("utc", "dr_lat", "dr_lon", "course", "speed"):
+        if key in ("utc", "dr_lat", "dr_lon") and key not in layout.keys:
+            return None
+        if key in layout.keys and blank_mask(frame.iloc[:, layout.keys[key][0]]).any():
+            return None
+    return [(start, min(start + block_rows, len(frame))) for start in range(0, len(frame), block_rows)]
+
+
+def read_frame_block(frame: pd.DataFrame, start: int, stop: int) -> SightLog:
+    """Rows ``start`` to ``stop`` of a DataFrame log (:func:`frame_blocks`) read by :func:`read_sight_log`,
+    each row numbered as in the whole frame."""
+    log = read_sight_log(frame.iloc[start:stop])
+    if start:
+        log.table["row"] += start
+        log.rejected["row"] += start
+    return log
+
+
+def whole_log_columns(columns: dict[str, np.ndarray]) -> None:
+    """The columns of a log read in row blocks (:func:`frame_blocks`) made what one reading of every row gives:
+    one spelling per observer, and the automatic fix groups across the blocks (in place)."""
+    columns["observer"] = observer_names(np.asarray(columns["observer"], dtype=object))
+    if not np.asarray(columns["fix_group_given"], dtype=bool).all():
+        table = pd.DataFrame({k: columns[k] for k in ("fix_group", "fix_group_given", "source", "vessel",
+                                                      "observer")}, copy=False)
+        table["sight_utc"] = columns["sight_utc"]
+        ok = np.asarray(columns["read_problem"], dtype=object) == ""
+        columns["fix_group"], columns["fix_group_given"] = automatic_fix_groups(table, ok)
+
+
 def _check_is_log(table: RawTable, keys: dict) -> None:
     required = [c.key for c in COLUMNS if c.required]
-    if len(set(keys) & ({"utc", "zone_time"} | set(required))) < 2:
+    if len(set(keys) & ({"utc", "zone_time", "entry"} | set(required))) < 2:
         separator = f"; it is {_SEPARATOR_NAMES.get(table.separator, 'a spreadsheet')}-separated" \
             if table.separator else ""
         shown = ", ".join(repr(h) for h in table.header[:10]) + (", ..." if len(table.header) > 10 else "")
@@ -367,7 +423,7 @@ _SEPARATOR_NAMES = {",": "comma", ";": "semicolon", "\t": "tab"}
 def _parse(tables: list[RawTable], layouts, dates, rates=None, deviation=None) -> SightLog:
     n = sum(t.n_rows for t in tables)
     problems = Problems(n)
-    sources = np.concatenate([np.full(t.n_rows, t.source, dtype=object) for t in tables]) if tables \
+    sources = np.concatenate([texts_of(t.n_rows, t.source) for t in tables]) if tables \
         else np.zeros(0, dtype=object)
     rows = np.concatenate([t.row_numbers for t in tables]) if tables else np.zeros(0, dtype=int)
     gathered = {c.key: gather(tables, layouts, c.key) for c in COLUMNS}
@@ -484,8 +540,8 @@ def _tabled(n, sources, rows, parsed, gathered, times, problems, by_reader, dr, 
     index = found["index"].to_numpy(dtype=int)
     found["source"] = sources[index]
     found["row"] = rows[index]
-    message = np.full(n, "", dtype=object)
-    where = np.full(n, "", dtype=object)
+    message = texts_of(n, "")
+    where = texts_of(n, "")
     if len(found):
         # each row's reasons joined (at most MAX_REASONS_PER_ROW, in the order found), row by row
         starts = np.flatnonzero(np.concatenate([[True], index[1:] != index[:-1]]))
@@ -527,14 +583,15 @@ def _sight_table(n, sources, rows, parsed, gathered, times, message, where) -> p
     zd = times["zd"]
     shift = np.where(np.isfinite(zd), zd * NS_PER_HOUR, 0).astype(np.int64).astype("timedelta64[ns]")
     shown = np.isfinite(zd) & ok_time
-    corrected = np.full(n, "", dtype=object)
+    corrected = texts_of(n, "")
     if shown.any():
         local = (stamps[shown] - shift[shown]).astype("datetime64[s]")
         corrected[shown] = np.datetime_as_string(local).astype(object)
         corrected[shown] = [text[11:19] for text in corrected[shown]]
-    greenwich = np.full(n, "", dtype=object)
-    if ok_time.any():
-        greenwich[ok_time] = np.datetime_as_string(stamps[ok_time].astype("datetime64[D]")).astype(object)
+    greenwich = texts_of(n, "")
+    if ok_time.any():  # each distinct date's text made once (and shared by its rows)
+        days, each = np.unique(stamps[ok_time].astype("datetime64[D]"), return_inverse=True)
+        greenwich[ok_time] = np.datetime_as_string(days).astype(object)[each]
     defaults = {c.key: c.default for c in COLUMNS}
 
     def numbers(key):
@@ -543,7 +600,7 @@ def _sight_table(n, sources, rows, parsed, gathered, times, message, where) -> p
     def as_given(key):
         cells = gathered[key]
         other = parsed[key].ok & (cells.units != COLUMN[key].units[0])
-        out = np.full(n, "", dtype=object)
+        out = texts_of(n, "")
         if other.any():
             out[other] = [f"{cell_text(v)} {UNIT_NAMES[u]}" for v, u in zip(cells.values[other], cells.units[other])]
         return out
@@ -623,7 +680,7 @@ def _extras(tables, layouts) -> tuple[dict[str, np.ndarray], list[str]]:
     for name in names:
         parts = []
         for table, layout in zip(tables, layouts):
-            column = np.full(table.n_rows, "", dtype=object)
+            column = texts_of(table.n_rows, "")
             for k in layout.extras:
                 if _extra_name(table.header[k]) == name:
                     column = table.columns[k].map(cell_text).to_numpy(dtype=object)
@@ -637,7 +694,7 @@ def _as_read(tables) -> pd.DataFrame:
     frames = []
     for table in tables:
         header = _unique(table.header)
-        data = {"source file": np.full(table.n_rows, table.source, dtype=object),
+        data = {"source file": texts_of(table.n_rows, table.source),
                 "row in log": table.row_numbers}
         width = len(header)
         for k, name in enumerate(header):
@@ -665,6 +722,7 @@ def _unique(header: list[str]) -> list[str]:
     return out
 
 
-__all__ = ["read_sight_log", "read_sight_log_blocks", "sight_log_blocks", "LogBlocks", "SightLog", "LogbookError",
+__all__ = ["read_sight_log", "read_sight_log_blocks", "sight_log_blocks", "LogBlocks", "frame_blocks",
+           "read_frame_block", "whole_log_columns", "SightLog", "LogbookError",
            "LogSource", "REJECTED_COLUMNS", "SIGHT_COLUMNS", "ENTRY_COLUMNS", "DEFAULT_GROUP_GAP_HOURS",
            "TIME_AGREEMENT_S", "MAX_REASONS_PER_ROW", "with_decimal_point"]

@@ -118,15 +118,40 @@ def cell_text(value) -> str:
     return str(value)
 
 
-def cell_texts(values: pd.Series) -> np.ndarray:
+def cell_texts(values: pd.Series | np.ndarray) -> np.ndarray:
     """Every cell of a column as text, as :func:`_text` writes it (each distinct value once)."""
-    if pd.api.types.is_datetime64_any_dtype(values.dtype):
+    if pd.api.types.is_datetime64_any_dtype(getattr(values, "dtype", None)):
         stamps = values.dt.tz_convert(None) if values.dt.tz is not None else values
         text = np.datetime_as_string(stamps.to_numpy().astype("datetime64[us]")).astype(object)
         return np.where(values.isna().to_numpy(), "", np.char.replace(text.astype(str), "T", " ")).astype(object)
+    if len(values) > 1000 and pd.api.types.infer_dtype(values, skipna=False) == "datetime":
+        aware = _instant_texts(values)  # a DataFrame's column of instants: every text at once
+        if aware is not None:
+            return aware
     codes, uniques = pd.factorize(values, use_na_sentinel=True)
     texts = np.array([cell_text(u) for u in uniques] + [""], dtype=object)
     return texts[codes]
+
+
+def _instant_texts(values) -> np.ndarray | None:
+    """The texts :func:`cell_text` gives a column of instants that all share one zone (``isoformat``: seconds,
+    the fraction where there is one, to the microsecond or the nanosecond, then the offset), made at once;
+    None for anything else."""
+    try:
+        stamps = pd.DatetimeIndex(pd.Series(values, dtype=object).tolist())
+    except (TypeError, ValueError):
+        return None
+    zone = stamps.tz
+    if zone is not None and str(zone) not in ("UTC", "utc"):
+        return None
+    naive = (stamps.tz_convert(None) if zone is not None else stamps).to_numpy().astype("datetime64[ns]")
+    whole = np.datetime_as_string(naive.astype("datetime64[s]")).astype(object)
+    ns = (naive - naive.astype("datetime64[s]")).astype(np.int64)
+    micro = np.char.zfill((ns // 1000).astype(str), 6).astype(object)
+    nano = np.char.zfill(ns.astype(str), 9).astype(object)
+    text = np.char.replace(whole.astype(str), "T", " ").astype(object)
+    text = np.where(ns == 0, text, np.where(ns % 1000 == 0, text + "." + micro, text + "." + nano))
+    return (text + "+00:00" if zone is not None else text).astype(object)
 
 
 def with_decimal_point(text: str, decimal_comma: bool) -> str:
@@ -413,6 +438,13 @@ def gather(tables, layouts, key) -> Cells:
     values, units, headers = [], [], []
     present = False
     counts = np.array([t.n_rows for t in tables], dtype=int)
+    typed = _typed_column(tables, layouts, key)
+    if typed is not None:  # a DataFrame's column of numbers or instants: kept as it is (no cell made an object)
+        table, index = tables[0], layouts[0].keys[key][0]
+        return Cells(typed, typed.isna().to_numpy(dtype=bool), np.full(table.n_rows, layouts[0].units[index],
+                                                                       dtype=object),
+                     np.full(table.n_rows, table.header[index], dtype=object),
+                     np.full(table.n_rows, table.decimal_comma, dtype=bool), True)
     for table, layout in zip(tables, layouts):
         n = table.n_rows
         indices = layout.keys.get(key, [])
@@ -459,6 +491,18 @@ def gather(tables, layouts, key) -> Cells:
 
     commas = np.repeat(np.array([t.decimal_comma for t in tables], dtype=bool), counts)
     return Cells(joined, blank_mask(joined), per_row(units), per_row(headers), commas, present)
+
+
+def _typed_column(tables, layouts, key) -> pd.Series | None:
+    """The one column that gives ``key`` in a lone table, when it holds numbers or instants as such (a
+    DataFrame's float, integer or datetime column, never a file's text): its cells are read in bulk as they
+    are, with no object made per cell. None otherwise."""
+    if len(tables) != 1 or len(layouts[0].keys.get(key, [])) != 1:
+        return None
+    column = tables[0].columns[layouts[0].keys[key][0]]
+    if column.dtype.kind not in "fiuM":
+        return None
+    return column.reset_index(drop=True)
 
 
 def _numeric_checks(column, numbers: np.ndarray, units: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -613,4 +657,19 @@ def floats(parsed: Parsed, default=np.nan) -> np.ndarray:
 
 
 def words(parsed: Parsed, default="") -> np.ndarray:
-    return np.where(parsed.ok, parsed.value, default).astype(object)
+    out = np.asarray(parsed.value, dtype=object).copy()
+    out[~np.asarray(parsed.ok, dtype=bool)] = default  # (one text object shared by every row that takes it)
+    return out
+
+
+def texts_of(n: int, text: str = "") -> np.ndarray:
+    """``n`` rows of one text, every row holding the same object (``np.full`` makes an object per row)."""
+    out = np.empty(n, dtype=object)
+    out[:] = text
+    return out
+
+
+def chosen_texts(index: np.ndarray, choices: list[str]) -> np.ndarray:
+    """Each row's text ``choices[index]``, every row holding one of the few objects (``np.where`` between
+    texts makes an object per row, which a long table pays for)."""
+    return np.array(choices, dtype=object)[np.asarray(index, dtype=np.intp)]

@@ -11,7 +11,7 @@ import pandas as pd
 
 from ..constants import NS_PER_MINUTE
 from ..timescales import utc_jd_to_datetime64
-from .logcells import floats, words
+from .logcells import floats, texts_of, words
 
 #: The columns of a log's entries (:attr:`navred.io.logbook.SightLog.entries`).
 ENTRY_COLUMNS = ["source", "row", "utc", "entry", "lat_deg", "lon_deg", "course_deg", "speed_kn", "set_deg",
@@ -31,7 +31,7 @@ def carried_motion(dr, parsed, gathered, times, is_entry, entries, rows, problem
     one, a sight's or an entry's, and named in the note returned ('speed 6.5 kn carried from row 7'). The course
     and speed in ``dr`` are filled in place."""
     n = rows.size
-    note = np.full(n, "", dtype=object)
+    note = texts_of(n, "")
     if not (gathered["course"].present or gathered["speed"].present or len(entries)):
         return note  # the log keeps no motion at all: nothing to carry (a fix warns of a run without one)
     course, speed = dr["course"], dr["speed"]
@@ -236,7 +236,7 @@ def carried_dr(parsed, gathered, times, is_entry, entries: pd.DataFrame, problem
     lat, lon = floats(parsed["dr_lat"]), floats(parsed["dr_lon"])
     course, speed = floats(parsed["course"]), floats(parsed["speed"])
     n = lat.size
-    note = np.full(n, "", dtype=object)
+    note = texts_of(n, "")
     sight = ~is_entry
     wanted = sight & gathered["dr_lat"].blank & gathered["dr_lon"].blank & times["ok"] & ~problems.mask()
     also_course = sight & times["ok"] & (np.isnan(course) | np.isnan(speed)) & (len(entries) > 0)

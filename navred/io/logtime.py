@@ -8,7 +8,7 @@ import numpy as np
 
 from ..constants import SECONDS_PER_DAY
 from ..timescales import utc_jd_to_datetime64, utc_julian_date_from_components, utc_minus_seconds
-from .logcells import cell_text, cell_texts, floats, words
+from .logcells import cell_text, cell_texts, chosen_texts, floats, texts_of, words
 
 #: A utc and a zone time given for one sight must agree this closely (seconds).
 TIME_AGREEMENT_S = 1.0
@@ -61,7 +61,7 @@ def time_working(parsed, gathered, problems, rates=None) -> dict:
                          f"utc {cell_text(gathered['utc'].values.iloc[i])} and the zone time disagree: give one, or "
                          "correct it")
     error = floats(parsed["watch_error"], 0.0)
-    error_from = np.where(parsed["watch_error"].ok, "given", "").astype(object)
+    error_from = chosen_texts(parsed["watch_error"].ok, ["", "given"])
     error_warning = np.full(n, "", dtype=object)
     rating_notes: list[str] = []
     # a timepiece's error from its rating, where the log keeps zone time and gives no watch error
@@ -91,11 +91,11 @@ def time_working(parsed, gathered, problems, rates=None) -> dict:
     # the time as written, for the time working
     as_read = np.where(~utc_blank, cell_texts(gathered["utc"].values), cell_texts(gathered["zone_time"].values))
     shown_zone = use_zone | both
-    zone_date = np.full(n, "", dtype=object)
+    zone_date = texts_of(n, "")
     if shown_zone.any():
         zone_date[shown_zone] = [f"{int(y):04d}-{int(m):02d}-{int(d):02d}" for y, m, d in day[:, shown_zone].T]
     return {"jd1": jd1, "jd2": jd2, "ok": ok, "watch_error_s": error, "watch_error_from": error_from,
             "watch_error_warning": error_warning, "notes": rating_notes,
             "zd": np.where(shown_zone, zd.value, np.nan), "zone_date": zone_date,
-            "time_given": np.where(has_utc, "utc", np.where(use_zone, "zone time", "")).astype(object),
+            "time_given": chosen_texts(np.where(has_utc, 2, np.where(use_zone, 1, 0)), ["", "zone time", "utc"]),
             "as_read": as_read}

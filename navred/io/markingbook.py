@@ -12,6 +12,7 @@ working is stored as text, never as a formula. The template is the sight book of
 from __future__ import annotations
 
 import re
+from dataclasses import dataclass
 from pathlib import Path
 
 import pandas as pd
@@ -165,8 +166,37 @@ def hint(page: SightBookPage, key: str) -> str:
     return f"{what}: {example}"
 
 
+@dataclass(frozen=True)
+class BlockLine:
+    """One line of a working (a block) of a sight-book page, top to bottom: ``kind`` is 'sight' (the sight's own
+    line), 'section' (a heading), 'line' (a line of the working) or 'remarks'; its label as printed, its key
+    (the table form's column, '' for a heading), the note of the forms accepted beside it, and what the page
+    fills in already (the method and the body)."""
+
+    kind: str
+    label: str
+    key: str = ""
+    note: str = ""
+    prefilled: str = ""
+
+
+def block_lines(page: SightBookPage) -> tuple[BlockLine, ...]:
+    """The lines of one working of a sight-book page, in order: the one definition the template's sheets and the
+    printed blank forms (navred paper) are both laid out from."""
+    sight = [line for line in SIGHT_LINES if line[1] not in page.leaves_out] + (
+        list(COMPASS_SIGHT_LINES) if page.method == "amplitude" else [])
+    prefilled = {"method": page.method, "body": page.body}
+    lines = [BlockLine("sight", label, key, note, prefilled.get(key, "")) for label, key, note in sight]
+    for section, keys in page.sections:
+        lines.append(BlockLine("section", section))
+        lines += [BlockLine("line", page.labels.get(key, LINE_NAMES[key]), key, hint(page, key)) for key in keys]
+    lines.append(BlockLine("remarks", *REMARKS_LINE))
+    return tuple(lines)
+
+
 def _template_page(book, title: str, page: SightBookPage, lists: dict) -> None:
-    """A page of the sight book: :data:`BLOCKS_PER_PAGE` workings down the sheet, one printed page each."""
+    """A page of the sight book: :data:`BLOCKS_PER_PAGE` workings down the sheet, one printed page each, each laid
+    out from :func:`block_lines`."""
     from openpyxl.styles import Alignment, Font, PatternFill
     from openpyxl.worksheet.datavalidation import DataValidation
     from openpyxl.worksheet.pagebreak import Break
@@ -182,35 +212,30 @@ def _template_page(book, title: str, page: SightBookPage, lists: dict) -> None:
     rules = {name: DataValidation(type="list", formula1=f"=Lists!${letter}$1:${letter}${count}", allow_blank=True,
                                   showErrorMessage=True, errorTitle="navred", error=f"choose a {name} from the list")
              for name, (letter, count) in lists.items()}
-    sight = [line for line in SIGHT_LINES if line[1] not in page.leaves_out] + (
-        list(COMPASS_SIGHT_LINES) if page.method == "amplitude" else [])
+    lines = block_lines(page)
     row = 2
     for block in range(1, BLOCKS_PER_PAGE + 1):
         sheet.cell(row=row, column=1, value=f"Working {block}").font = Font(bold=True, size=12)
         row += 1
-        for label, key, note in sight:
-            sheet.cell(row=row, column=1, value=label)
-            sheet.cell(row=row, column=3, value=note).font = grey
-            prefilled = {"method": page.method, "body": page.body or None}.get(key)
-            if prefilled:
-                sheet.cell(row=row, column=2, value=prefilled)
-            if key in rules:
-                rules[key].add(f"B{row}")
-            row += 1
-        for section, keys in page.sections:
-            sheet.cell(row=row, column=1, value=section).font = Font(bold=True)
-            for k in (1, 2, 3):
-                sheet.cell(row=row, column=k).fill = shade
-            row += 1
-            for key in keys:
-                sheet.cell(row=row, column=1, value=page.labels.get(key, LINE_NAMES[key]))
-                sheet.cell(row=row, column=3, value=hint(page, key)).font = grey
+        for line in lines:
+            sheet.cell(row=row, column=1, value=line.label)
+            if line.kind == "section":
+                sheet.cell(row=row, column=1).font = Font(bold=True)
+                for k in (1, 2, 3):
+                    sheet.cell(row=row, column=k).fill = shade
                 row += 1
-        sheet.cell(row=row, column=1, value=REMARKS_LINE[0]).font = Font(bold=True)
-        sheet.cell(row=row, column=3, value=REMARKS_LINE[2]).font = grey
-        sheet.cell(row=row, column=2).alignment = Alignment(wrap_text=True, vertical="top")
-        sheet.row_dimensions[row].height = 45
-        row += 2
+                continue
+            sheet.cell(row=row, column=3, value=line.note).font = grey
+            if line.prefilled:
+                sheet.cell(row=row, column=2, value=line.prefilled)
+            if line.key in rules:
+                rules[line.key].add(f"B{row}")
+            if line.kind == "remarks":
+                sheet.cell(row=row, column=1).font = Font(bold=True)
+                sheet.cell(row=row, column=2).alignment = Alignment(wrap_text=True, vertical="top")
+                sheet.row_dimensions[row].height = 45
+                row += 1
+            row += 1
         sheet.row_breaks.append(Break(id=row - 1))
     for rule in rules.values():
         sheet.add_data_validation(rule)
@@ -268,4 +293,4 @@ def write_template(path: str | Path) -> Path:
     return atomic_write(path, book.save)
 
 
-__all__ = ["write_marking_workbook", "write_template", "labelled", "SHEET_LABELS"]
+__all__ = ["write_marking_workbook", "write_template", "labelled", "SHEET_LABELS", "BlockLine", "block_lines"]

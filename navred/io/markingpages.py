@@ -127,6 +127,72 @@ def marking_document(report) -> Document:
     return Document("navred sight books", span, provenance, CAUTION, tuple(pages), dates_label="workings of")
 
 
+#: What each blank form is called on its page, by its sight-book page.
+FORM_TITLES = {
+    "Sun": "the Sun, by the intercept method", "Moon": "the Moon, by the intercept method",
+    "Stars": "stars, by the intercept method", "Planets": "planets, by the intercept method",
+    "Noon": "latitude by the noon Sun (meridian or ex-meridian altitude)", "Polaris": "latitude by Polaris",
+    "Compass": "a compass check, by amplitude or azimuth",
+}
+#: Workings side by side on a blank form.
+FORM_WORKINGS = 3
+#: The height (points) the two halves of a blank form may fill on a landscape A4 page below its title and note.
+FORM_HEIGHT_PT = 405.0
+
+
+def blank_form_page(title: str, note: str = "") -> Page:
+    """A sight-book page printed blank, for a pencil: every line of one working
+    (:func:`navred.io.markingbook.block_lines`, the template's own) down the page, in two halves side by side,
+    with :data:`FORM_WORKINGS` workings across; the method and body the page fills in already are printed.
+    ``note`` goes above it (how the paper it is printed with gives each line)."""
+    from .markingbook import block_lines
+    from .printed import Side
+    from .sightbook import PAGES
+
+    lines = block_lines(PAGES[title])
+    # the halves meet at the heading of a section, where they are most nearly equal
+    starts = [k for k, line in enumerate(lines) if line.kind == "section"]
+    split = min(starts, key=lambda k: max(k, len(lines) - k))
+    halves = (lines[:split], lines[split:])
+    rows = max(len(h) for h in halves)
+    height = min(19.0, FORM_HEIGHT_PT / (rows + 1))
+    columns = ("Line",) + tuple(f"Working {k}" for k in range(1, FORM_WORKINGS + 1))
+    tables = tuple(Table(columns, tuple((line.label,) + (line.prefilled,) * FORM_WORKINGS for line in half),
+                         widths=(1.9,) + (1.0,) * FORM_WORKINGS, font_size=6.9, row_height=height, left_columns=4,
+                         wrap_columns=(0,), compact=True,
+                         section_rows=tuple(k for k, line in enumerate(half) if line.kind == "section"))
+                   for half in halves)
+    blocks = (Text(note, "small"),) if note else ()
+    return Page(f"Hand working: {FORM_TITLES[title]}", blocks + (Side(tables),), landscape=True)
+
+
+def blank_sight_book_document() -> Document:
+    """The empty sight book as printed pages: a blank form of each of its pages (:func:`blank_form_page`)."""
+    from .. import __version__
+    from .sightbook import PAGES
+
+    pages = tuple(blank_form_page(title, f"The lines of the sight book's {title} page, {FORM_WORKINGS} workings side "
+                                         "by side, in the order of a hand reduction. Type a working into the sight "
+                                         "book (navred mark --template FILE.xlsx) to have it marked; docs/marking.md "
+                                         "gives the forms each line accepts.")
+                  for title in PAGES)
+    return Document("navred sight book (blank)", "any date",
+                    f"navred {__version__}: the sight book's pages, for hand workings marked by navred mark", CAUTION,
+                    (Page("A sight book to fill by hand", (Text(
+                        "A page for each way of working: the intercept method for the Sun, the Moon, stars and "
+                        "planets, latitude by the noon Sun and by Polaris, and the compass check. Each has the lines "
+                        "of the spreadsheet sight book in the same order and words."),)),) + pages,
+                    dates_label="for")
+
+
+def write_blank_sight_book(path: str | Path) -> Path:
+    """The empty sight book as a PDF to print (:func:`blank_sight_book_document`)."""
+    from .output import atomic_write
+
+    data = pdf_bytes(blank_sight_book_document())
+    return atomic_write(path, lambda p: Path(p).write_bytes(data))
+
+
 def write_marking_pdf(report, path: str | Path) -> Path:
     """Every cadet's sight book, printed, as one PDF."""
     from .output import atomic_write
@@ -135,4 +201,5 @@ def write_marking_pdf(report, path: str | Path) -> Path:
     return atomic_write(path, lambda p: Path(p).write_bytes(data), inputs=report.workings.log.sources)
 
 
-__all__ = ["marking_document", "write_marking_pdf"]
+__all__ = ["marking_document", "write_marking_pdf", "blank_form_page", "blank_sight_book_document", "write_blank_sight_book",
+           "FORM_TITLES", "FORM_WORKINGS"]

@@ -49,6 +49,8 @@ class Table:
     compact: bool = False
     #: columns whose cells wrap within their width (long words in a narrow column), left-aligned
     wrap_columns: tuple[int, ...] = ()
+    #: rows that head a section (a blank form's headings): their first cell across the whole row, bold and shaded
+    section_rows: tuple[int, ...] = ()
 
     def __post_init__(self):
         if self.name and len(self.csv_columns) != len(self.columns):
@@ -273,8 +275,10 @@ def _flowables(blocks, width: float, styles, fonts, *, nested: bool = False):
 
                 cell = ParagraphStyle("cell", fontName=fonts["regular"], fontSize=block.font_size,
                                       leading=block.font_size * 1.25, textColor=colors.HexColor(INK))
-                data.extend([Paragraph(_escape(c), cell) if k in block.wrap_columns else c for k, c in enumerate(r)]
-                            for r in block.rows)
+                heading = ParagraphStyle("cellheading", parent=cell, fontName=fonts["bold"])
+                data.extend([Paragraph(_escape(c), heading if j in block.section_rows else cell)
+                             if k in block.wrap_columns else c for k, c in enumerate(r)]
+                            for j, r in enumerate(block.rows))
             else:
                 data.extend(list(r) for r in block.rows)
             total = width * block.width_fraction
@@ -304,6 +308,10 @@ def _flowables(blocks, width: float, styles, fonts, *, nested: bool = False):
                 style.append(("LINEBEFORE", (first, 0), (first, -1), 0.4, colors.HexColor(RULE)))
             if block.row_height is not None:  # a blank form: every cell boxed, to be written in
                 style.append(("GRID", (0, 0), (-1, -1), 0.4, colors.HexColor(RULE)))
+            for r in block.section_rows:
+                style += [("SPAN", (0, header_rows + r), (-1, header_rows + r)),
+                          ("FONT", (0, header_rows + r), (-1, header_rows + r), fonts["bold"], size),
+                          ("BACKGROUND", (0, header_rows + r), (-1, header_rows + r), colors.HexColor(SHADE))]
             if block.shade_every:
                 for k in range(0, len(block.rows), 2 * block.shade_every):
                     for j in range(k + block.shade_every, min(k + 2 * block.shade_every, len(block.rows))):

@@ -50,6 +50,8 @@ MAX_RUN_BYTES = 256 * 1024 * 1024
 MAX_RUN_XML_BYTES = 32 * 1024 * 1024
 MAX_RUN_ROWS = 200_000
 MAX_RUN_CELLS = 8_000_000
+#: rows of a DataFrame an API caller passes (already in its memory: the bound of one long CSV log, MAX_ROWS)
+MAX_FRAME_ROWS = MAX_ROWS
 
 SEPARATORS = {",": "comma", ";": "semicolon", "\t": "tab"}
 _CONTROL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
@@ -128,7 +130,8 @@ class ReadBudget:
         self._take("rows", rows, source, lambda total, limit: (
             f"{source}: the logs of this run hold {total:,} rows or more; navred holds at most {limit:,} rows at "
             "once (about a gigabyte of memory): split the logs, or reduce a long plain CSV log with navred reduce "
-            "--csv, which reads it in blocks when every row gives its fix_group and its DR"))
+            "--csv, which reads it in blocks when it is plain (no quoted cells, no control characters, one kind of line "
+            "end) and every row gives its fix_group and its DR"))
         self.take_cells(rows * max(columns, 1), source)
 
     def take_cells(self, cells: int, source: str) -> None:
@@ -147,7 +150,11 @@ def read_table(source: LogSource | RawTable, *, all_sheets: bool = False,
     ``budget`` (one :class:`ReadBudget` for the whole call when none is given)."""
     budget = ReadBudget() if budget is None else budget
     if hasattr(source, "columns") and hasattr(source, "iloc"):
-        budget.take_rows(len(source), source.shape[1], "(table)")
+        # a DataFrame is already in the caller's memory (not a file from another ship): held to the rows of one
+        # long CSV log, not to what a run may read from files (docs/security.md)
+        if len(source) > MAX_FRAME_ROWS:
+            raise LogbookError(f"the table holds {len(source):,} rows; navred reads at most {MAX_FRAME_ROWS:,} rows "
+                               "of a DataFrame at once: give it in parts")
         return [_from_frame(source)]
     if isinstance(source, RawTable):  # a table already read (a sight-book page turned into a table): counted then
         return [source]
@@ -192,6 +199,25 @@ def check_input_file(path: Path, what: str = "file") -> None:
     if not stat.S_ISREG(mode):
         kind = "a pipe" if stat.S_ISFIFO(mode) else "a socket" if stat.S_ISSOCK(mode) else "a device"
         raise LogbookError(f"{path} is {kind}, not a regular file: navred reads a {what} from a file saved on disk")
+
+
+def named_input_file(path, what: str, kinds: str, error: type[NavredError], max_bytes: int, too_big: str) -> Path:
+    """A file a reader is given by name (a track, a route): a name, a regular file (:func:`check_input_file`), not
+    larger than ``max_bytes``; refused with ``error`` naming the ``what`` and the ``kinds`` of file it takes.
+    ``too_big`` is what to say of a larger file ('{file}' and '{mib}' are filled in)."""
+    if isinstance(path, str) and not path.strip():
+        raise error(f"no {what} given (an empty name)")
+    if not isinstance(path, (str, Path)):
+        raise error(f"cannot read {str(path)[:60]!r} as a {what}: give the name of a {kinds} file")
+    file = Path(path)
+    try:
+        check_input_file(file, what)
+    except NavredError as exc:
+        raise error(str(exc)) from None
+    size = file.stat().st_size
+    if size > max_bytes:
+        raise error(too_big.format(file=file, mib=size / 2**20))
+    return file
 
 
 def _check_file(path: Path) -> None:
@@ -399,48 +425,73 @@ def _plain_table(source: str, text: str, first: int, separator: str) -> RawTable
 
 @dataclass
 class PlainBlocks:
-    """A plain CSV log's lines, read once, handed out as tables of ``rows`` lines each."""
+    """A plain CSV log to be read in blocks of ``rows`` lines: the byte offset in the file where each block
+    begins (the file was looked at once, a piece at a time, and is never held whole): each block is read from
+    the file when it is asked for, by whichever process works it."""
 
     source: str
     header: list[str]
     separator: str
-    lines: list[str]
+    #: the byte offset of each block's first line, and of the end of the last (one more than the blocks)
+    offsets: np.ndarray
+    #: the lines of each block (``rows`` but for the last)
+    counts: np.ndarray
     first_row_number: int
     rows: int
+    #: whether some line that is not blank leaves each column blank (columns by index), as looked at
+    blank_columns: np.ndarray
+    #: the longest line, in bytes (no cell of a plain file is longer than its line)
+    longest_line: int = 0
+    #: every line ends with a carriage return and a line feed (as a spreadsheet on Windows writes a CSV)
+    crlf: bool = False
+
+    @property
+    def n_lines(self) -> int:
+        return int(self.counts.sum())
 
     def any_blank(self, columns: list[int]) -> bool:
         """Whether some line that is not blank has every one of these columns blank."""
-        separator = self.separator
         if len(columns) == 1:
-            # the one column read by pandas' C parser (a plain file splits the same way), then looked at
-            cells = pd.read_csv(io.StringIO("\n".join(self.lines)), sep=separator, header=None, usecols=columns,
-                                names=list(range(len(self.header))), dtype=object, keep_default_na=False,
-                                na_values=[], quoting=csv.QUOTE_NONE, engine="c", skip_blank_lines=False,
-                                skipinitialspace=False, comment=None)[columns[0]].tolist()
-            if len(cells) == len(self.lines):
-                return any(not cell.strip() and line.replace(separator, "").strip()
-                           for cell, line in zip(cells, self.lines))
-        for line in self.lines:
-            if not line.replace(separator, "").strip():
-                continue
-            cells = line.split(separator)
-            if all(not cells[k].strip() for k in columns):
-                return True
+            return bool(self.blank_columns[columns[0]])
+        return bool(self.blank_columns[columns].all()) and self._all_blank_somewhere(columns)
+
+    def _all_blank_somewhere(self, columns: list[int]) -> bool:
+        for k in range(len(self)):
+            for line in self._lines(k):
+                if not line.replace(self.separator, "").strip():
+                    continue
+                cells = line.split(self.separator)
+                if all(not cells[c].strip() for c in columns):
+                    return True
         return False
 
     def __len__(self) -> int:
         """The number of blocks."""
-        return -(-len(self.lines) // self.rows)
+        return len(self.counts)
+
+    def _lines(self, k: int) -> list[str]:
+        with open(self.source, "rb") as handle:
+            handle.seek(int(self.offsets[k]))
+            data = handle.read(int(self.offsets[k + 1] - self.offsets[k]))
+        try:
+            text = data.decode("utf-8")
+        except UnicodeDecodeError:
+            text = None
+        lines = text.split("\r\n" if self.crlf else "\n") if text is not None else []
+        if lines and lines[-1] == "":
+            lines.pop()
+        if text is None or len(lines) != self.counts[k] or '"' in text or _BAD_TEXT.search(text) is not None \
+                or text.count("\r") != (text.count("\r\n") if self.crlf else 0):
+            raise LogbookError(f"{self.source} changed while it was being read: read it again")
+        return lines
 
     def block(self, k: int) -> RawTable:
-        """Block ``k`` (from 0) as a table of its rows, numbered as in the file."""
-        if not hasattr(self, "_short"):
-            self._short = max(map(len, self.lines), default=0) <= MAX_CELL_CHARS
-        start = k * self.rows
-        table = _plain_block(self.source, list(self.header), self.lines[start:start + self.rows],
-                             self.first_row_number + start, self.separator, short_lines=self._short)
-        if table is None:  # every line's fields were counted when the file was read
-            raise LogbookError(f"{self.source}: a block could not be read as it was checked (a navred defect)")
+        """Block ``k`` (from 0) as a table of its rows, numbered as in the file, read from the file now."""
+        lines = self._lines(k)
+        table = _plain_block(self.source, list(self.header), lines, self.first_row_number + k * self.rows,
+                             self.separator, short_lines=self.longest_line <= MAX_CELL_CHARS)
+        if table is None:  # every line's fields were counted when the file was looked at
+            raise LogbookError(f"{self.source} changed while it was being read: read it again")
         return table
 
     def __iter__(self):
@@ -448,37 +499,171 @@ class PlainBlocks:
             yield self.block(k)
 
 
+#: bytes of a long plain log looked at a time (the file is never held whole)
+SCAN_BYTES = 8 * 1024 * 1024
+_BAD_BYTES = re.compile(rb'["\r\x00-\x08\x0b\x0c\x0e-\x1f\x7f]')
+
+
+
 def plain_csv_blocks(path: str | Path, rows: int) -> PlainBlocks | None:
     """A plain CSV sight log to be read in blocks of ``rows`` lines (each a :class:`RawTable` with the
     rows' own numbers), under the same bounds as :func:`read_table`; None when the file is not a plain
-    CSV (quoted cells, control characters, an .xlsx) or a line has the wrong number of fields: read it
-    whole with :func:`read_table` then."""
+    UTF-8 CSV (quoted cells, control characters, another encoding, an .xlsx) or a line has the wrong number
+    of fields: read it whole with :func:`read_table` then. The file is looked at a piece at a time
+    (:data:`SCAN_BYTES`): its lines' fields counted, the blank cells of each column noted, and where each
+    block begins; no line of it is kept."""
     path = Path(path)
     if not path.is_file() or path.suffix.lower() in (".xlsx", ".xlsm"):
         return None
     size = path.stat().st_size
     if size == 0 or size > MAX_FILE_BYTES:
         return None  # read_table gives the refusal
-    data = path.read_bytes()
-    if data.startswith((b"PK", b"\x1f\x8b")):
+    with open(path, "rb") as handle:
+        head = handle.read(min(size, SCAN_BYTES))
+        if head.startswith((b"PK", b"\x1f\x8b", b"\xff\xfe", b"\xfe\xff")):
+            return None
+        start = 3 if head.startswith(b"\xef\xbb\xbf") else 0
+        header_end, first, header_line = start, 0, None
+        while True:  # the first line that is not blank is the header
+            end = head.find(b"\n", header_end)
+            if end < 0:
+                return None
+            line = head[header_end:end]
+            if line.strip().strip(b",;\t"):
+                header_line = line
+                header_end = end + 1
+                break
+            header_end, first = end + 1, first + 1
+        crlf = header_line.endswith(b"\r")  # every line must then end so (a file of mixed line ends is read whole)
+        if crlf:
+            header_line = header_line[:-1]
+        if _BAD_BYTES.search(header_line):
+            return None
+        try:
+            header_text = header_line.decode("utf-8")
+        except UnicodeDecodeError:
+            return None
+        if not header_text.strip().strip(",;\t"):
+            return None  # (a line of spaces beyond ASCII: the careful reader decides)
+        separator = _choose_separator(header_text)
+        header = [h.strip() for h in header_text.split(separator)]
+        if not header or header[-1] == "":
+            return None
+        _check_width(str(path), header)
+        handle.seek(header_end)
+        scan = _scan_plain_lines(handle, separator.encode(), len(header), rows, header_end, crlf)
+    if scan is None:
         return None
-    text, decoding = _decode(data, path)
-    del data
-    if "\r" in text or "\x00" in text or decoding:
+    offsets, counts, blank_columns, longest = scan
+    if counts.sum() > MAX_ROWS or counts.sum() == 0:
         return None
-    first = next((k for k, line in enumerate(io.StringIO(text)) if line.strip().strip(",;\t")), None)
-    if first is None:
+    return PlainBlocks(str(path), header, separator, offsets, counts, first + 2, rows, blank_columns, longest, crlf)
+
+
+def _scan_plain_lines(handle, separator: bytes, width: int, rows: int, position: int, crlf: bool = False):
+    """(block offsets, lines per block, the columns some non-blank line leaves blank, the longest line) of the
+    lines from ``position`` on, looked at :data:`SCAN_BYTES` at a time; None when a line is not plain or has
+    another number of fields than the header. ``crlf``: every line ends with a carriage return before its
+    line feed (None when one does not)."""
+    code = separator[0]
+    offsets, lines_seen, carry = [position], 0, b""
+    blank_columns = np.zeros(width, dtype=bool)
+    longest = 0
+    while True:
+        chunk = handle.read(SCAN_BYTES)
+        data = carry + chunk
+        if not chunk:
+            if not data:
+                break
+            data += b"\r\n" if crlf else b"\n"  # a last line without its line end
+        cut = data.rfind(b"\n") + 1
+        body, carry = data[:cut], data[cut:]
+        if not body:
+            continue
+        codes = np.frombuffer(body, dtype=np.uint8)
+        returns = body.count(b"\r\n") if crlf else 0
+        if b'"' in body or b"\x7f" in body or (crlf and returns != body.count(b"\n")) or \
+                np.count_nonzero(codes < 32) != body.count(b"\n") + body.count(b"\t") + returns:
+            return None  # a quote, a lone carriage return or another control character: not plain
+        try:
+            body.decode("utf-8")
+        except UnicodeDecodeError:
+            return None
+        looked = _look_at_lines(codes, code, width, body, crlf)
+        if looked is None:
+            return None
+        ends, blanks, lengths = looked
+        blank_columns |= blanks
+        longest = max(longest, int(lengths.max(initial=0)))
+        # where each block begins: after every rows-th line
+        firsts = np.arange((-lines_seen) % rows, ends.size, rows)
+        firsts = firsts[firsts > 0] if lines_seen == 0 else firsts
+        starts = np.concatenate([[0], ends[:-1] + 1])
+        offsets.extend((position + starts[firsts]).tolist())
+        lines_seen += ends.size
+        position += len(body)
+        if not chunk:
+            break
+    offsets.append(position)
+    counts = np.diff(np.arange(0, lines_seen + rows, rows).clip(max=lines_seen))
+    counts = counts[counts > 0]
+    if len(offsets) != counts.size + 1:
         return None
-    separator = _choose_separator(text.split("\n", first + 1)[first])
-    plain = _plain_lines(text, first, separator, str(path))
-    del text
-    if plain is None:
+    return np.array(offsets, dtype=np.int64), counts, blank_columns, longest
+
+
+def _look_at_lines(data: np.ndarray, separator: int, width: int, body: bytes, crlf: bool = False):
+    """(each line's end, the columns some non-blank line leaves blank, each line's length) of whole lines of
+    bytes; None when a line that is not blank has another number of fields than ``width``. Bytes are
+    counted between bounds from the sorted positions of the few kinds that matter (separators, spaces,
+    bytes beyond ASCII), never byte by byte in Python. ``crlf``: each line feed follows a carriage return,
+    which is no part of the line."""
+    feeds = np.flatnonzero(data == 10)
+    starts = np.concatenate([[0], feeds[:-1] + 1])
+    ends = feeds - 1 if crlf else feeds  # where each line's text stops (before its carriage return)
+    spaces = (data == 32) | (data == 9)  # (the other spaces str.strip() removes are control characters: refused)
+    where = np.flatnonzero(data == separator)
+    if spaces[where].any():
+        spaces[where] = False  # (a tab separating fields is not a space inside one)
+    blank_at = np.flatnonzero(spaces)
+    wide_at = np.flatnonzero(data >= 128)  # a byte of a character beyond ASCII: str.strip() may take it for a space
+
+    def count(positions, left, right):
+        return np.searchsorted(positions, right) - np.searchsorted(positions, left)
+
+    fields = count(where, starts, ends)
+    lengths = ends - starts
+    filled = lengths - fields - count(blank_at, starts, ends)  # bytes that are neither separators nor spaces
+    blank_line = filled == 0
+    if wide_at.size:  # lines of nothing but wide bytes and spaces: judged as text, as the careful reader does
+        unsure = ~blank_line & (filled == count(wide_at, starts, ends))
+        for k in np.flatnonzero(unsure).tolist():
+            line = body[starts[k]:ends[k]].decode("utf-8")
+            blank_line[k] = not line.replace(chr(separator), "").strip()
+    if np.any(fields[~blank_line] != width - 1):
         return None
-    header, lines = plain
-    width = len(header)
-    if any(line.count(separator) != width - 1 for line in lines if line.replace(separator, "").strip()):
-        return None
-    return PlainBlocks(str(path), header, separator, lines, first + 2, rows)
+    blanks = np.zeros(width, dtype=bool)
+    kept = np.flatnonzero(~blank_line)
+    if kept.size and width > 1:
+        # every kept line has width-1 separators: the fields' bounds line by line
+        first_sep = np.searchsorted(where, starts[kept])
+        bounds = where[first_sep[:, None] + np.arange(width - 1)[None, :]]
+        left = np.column_stack([starts[kept], bounds + 1])
+        right = np.column_stack([bounds, ends[kept]])
+        size = right - left
+        empty = size == 0
+        # a field of spaces begins with one, and one beyond ASCII with a wide byte: only those are counted
+        maybe = ~empty & (spaces[np.minimum(left, len(data) - 1)] | (data[np.minimum(left, len(data) - 1)] >= 128))
+        if maybe.any():
+            i, j = np.nonzero(maybe)
+            a, b = left[i, j], right[i, j]
+            empty[i, j] = (b - a) == count(blank_at, a, b)
+            if wide_at.size:
+                for i_, j_, a_, b_ in zip(i.tolist(), j.tolist(), a.tolist(), b.tolist()):
+                    if not empty[i_, j_] and count(wide_at, a_, b_):
+                        empty[i_, j_] = not body[a_:b_].decode("utf-8").strip()
+        blanks = empty.any(axis=0)
+    return feeds, blanks, lengths
 
 
 def _records(reader, path, first) -> list[list[str]]:
@@ -872,4 +1057,4 @@ def _blank_mask(column: pd.Series) -> np.ndarray:
 
 
 __all__ = ["RawTable", "read_table", "ReadBudget", "column_letter", "check_input_file", "plain_csv_blocks", "PlainBlocks", "blank_mask", "LogbookError", "MissingFormulaValue", "MAX_FILE_BYTES",
-           "MAX_ROWS", "MAX_COLUMNS", "MAX_CELL_CHARS"]
+           "MAX_ROWS", "MAX_COLUMNS", "MAX_CELL_CHARS", "MAX_FRAME_ROWS"]

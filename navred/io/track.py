@@ -216,21 +216,11 @@ def _instant(points: _Points, point: int, value, *, naive_is_utc: bool) -> tuple
 @api_boundary
 def read_track(path: str | Path, *, max_gap_hours: float = MAX_GAP_HOURS) -> ReferenceTrack:
     """The reference track of a GPX 1.1, NMEA 0183 or CSV file, every point checked (see the module)."""
-    from .readers import check_input_file
+    from .readers import named_input_file
 
-    if isinstance(path, str) and not path.strip():
-        raise TrackError("no track file given (an empty name)")
-    if not isinstance(path, (str, Path)):
-        raise TrackError(f"cannot read {str(path)[:60]!r} as a track: give the name of a GPX, NMEA or CSV file")
-    file = Path(path)
-    try:
-        check_input_file(file, "track file")
-    except NavredError as exc:
-        raise TrackError(str(exc)) from None
-    size = file.stat().st_size
-    if size > MAX_TRACK_BYTES:
-        raise TrackError(f"{file} is {size / 2**20:.0f} MiB; navred reads tracks of up to "
-                         f"{MAX_TRACK_BYTES // 2**20} MiB: split it, or thin it to a point every few seconds")
+    file = named_input_file(path, "track file", "GPX, NMEA or CSV", TrackError, MAX_TRACK_BYTES,
+                            "{file} is {mib:.0f} MiB; navred reads tracks of up to " f"{MAX_TRACK_BYTES // 2**20} MiB: "
+                            "split it, or thin it to a point every few seconds")
     data = file.read_bytes()
     if data[:2] in (b"PK", b"\x1f\x8b"):
         raise TrackError(f"{file} is compressed (zip or gzip): unpack it first")

@@ -18,11 +18,14 @@ holds is cut with a note, as :func:`navred.io.workbook.write_text_safe` does for
 from __future__ import annotations
 
 import datetime as dt
+import heapq
 import io
+import itertools
 import re
+import tempfile
 import xml.etree.ElementTree as ET
 import zipfile
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -191,7 +194,11 @@ class _Block:
     last_row: int
     first_column: int
     last_column: int
-    rows: list[str]  # the cells of each row, joined
+    #: the cells of each row, joined (a block kept in memory: a header, a title, a note)
+    rows: list[str] = field(default_factory=list)
+    #: a table's rows written to the spill file as they were made: where they begin, and each row's bytes
+    spilled_at: int = -1
+    lengths: np.ndarray | None = None
 
 
 @dataclass
@@ -200,13 +207,20 @@ class _SheetPlan:
     heights: dict[int, float] = field(default_factory=dict)
 
 
+#: rows of a table made into the sheet's XML at a time (and written to the spill file at once)
+ROWS_AT_ONCE = 2_000
+
+
 class TableWriter:
-    """Tables of a workbook kept as their rows' XML until the workbook is saved.
+    """Tables of a workbook written to a temporary file as they are made, and into the workbook when it is
+    saved.
 
     ``write`` puts a DataFrame on a sheet (a styled header row, then one row per record, numbers
-    shown to their column's format, a flagged row filled). Any cell written on such a sheet
-    through openpyxl (a title, a note) is kept too. ``save`` writes the workbook with openpyxl
-    and then the tables into it.
+    shown to their column's format, a flagged row filled): its rows' XML is made :data:`ROWS_AT_ONCE` at a
+    time and written at once to a temporary file (unlinked, in the system's folder for them), so that a
+    fleet's workbook costs memory for a few thousand rows, not for every sheet. Any cell written on such a
+    sheet through openpyxl (a title, a note) is kept too. ``save`` writes the workbook with openpyxl and then
+    streams each table sheet's rows from the temporary file into it.
     """
 
     def __init__(self, book, header_style: Callable, flag_fill: str, date_format: str):
@@ -217,6 +231,7 @@ class TableWriter:
         self._scratch = book.create_sheet("navred-styles")
         self._ids: dict[tuple, int] = {}
         self._plans: dict[str, _SheetPlan] = {}
+        self._spill = None
 
     def style_id(self, *, number_format: str | None = None, fill: str | None = None, header: bool = False,
                  bold: bool = False) -> int:
@@ -250,20 +265,40 @@ class TableWriter:
 
     def write(self, sheet, frame: pd.DataFrame, *, first_row: int = 1, number_formats: list[str | None],
               flagged: np.ndarray | None = None, header_height: float = 32) -> None:
-        """A table on ``sheet`` from ``first_row``: the header, then its records."""
+        """A table on ``sheet`` from ``first_row``: the header, then its records (written to the spill file a
+        few thousand rows at a time)."""
         from openpyxl.utils import get_column_letter
 
         styles = self.styles(number_formats)
         names = [str(name) for name in frame.columns]
         letters = [get_column_letter(k) for k in range(1, len(names) + 1)]
         header = "".join(_text(letter, first_row, name, styles.header) for letter, name in zip(letters, names))
-        rows = np.arange(first_row + 1, first_row + 1 + len(frame))
-        columns = [column_cells(frame.iloc[:, k], letters[k], rows, _number_pair_style(number_formats[k], styles),
-                                flagged, styles) for k in range(len(names))]
-        body = ["".join(cells) for cells in zip(*columns)] if len(frame) else []
         plan = self._plan(sheet)
-        plan.blocks.append(_Block(first_row, first_row + len(frame), 1, max(len(names), 1), [header] + body))
+        width = max(len(names), 1)
+        plan.blocks.append(_Block(first_row, first_row, 1, width, [header]))
         plan.heights[first_row] = header_height
+        if not len(frame):
+            return
+        if self._spill is None:
+            self._spill = tempfile.TemporaryFile(prefix="navred-sheets-")
+        spill = self._spill
+        spill.seek(0, io.SEEK_END)
+        block = _Block(first_row + 1, first_row + len(frame), 1, width, spilled_at=spill.tell())
+        lengths = []
+        column_styles = [_number_pair_style(number_formats[k], styles) for k in range(len(names))]
+        for start in range(0, len(frame), ROWS_AT_ONCE):
+            stop = min(start + ROWS_AT_ONCE, len(frame))
+            rows = np.arange(first_row + 1 + start, first_row + 1 + stop)
+            part = frame.iloc[start:stop]
+            marks = flagged[start:stop] if flagged is not None else None
+            columns = [column_cells(part.iloc[:, k], letters[k], rows, column_styles[k], marks, styles)
+                       for k in range(len(names))]
+            encoded = ["".join(cells).encode("utf-8") for cells in zip(*columns)]
+            del columns
+            lengths.extend(len(row) for row in encoded)
+            spill.write(b"".join(encoded))
+        block.lengths = np.array(lengths, dtype=np.int64)
+        plan.blocks.append(block)
 
     def width(self, sheet) -> int:
         """The columns a sheet uses, its tables' and openpyxl's cells together."""
@@ -271,7 +306,7 @@ class TableWriter:
         return max([sheet.max_column] + ([b.last_column for b in plan.blocks] if plan else []))
 
     def save(self, path: str) -> None:
-        """Write the workbook to ``path``: openpyxl's file with the tables put into their sheets."""
+        """Write the workbook to ``path``: openpyxl's file with the tables streamed into their sheets."""
         self.book.remove(self._scratch)
         for title, plan in self._plans.items():
             self._take_openpyxl_cells(self.book[title], plan)
@@ -284,8 +319,13 @@ class TableWriter:
                 data = source.read(item.filename)
                 title = parts.get(item.filename)
                 if title in self._plans:
-                    data = _with_rows(data, self._plans[title])
-                target.writestr(item.filename, data)
+                    with target.open(item.filename, "w", force_zip64=True) as out:
+                        _write_rows(out, data, self._plans[title], self._spill)
+                else:
+                    target.writestr(item.filename, data)
+        if self._spill is not None:
+            self._spill.close()
+            self._spill = None
 
     def _take_openpyxl_cells(self, sheet, plan: _SheetPlan) -> None:
         """Cells written on a table sheet through openpyxl, carried into its rows (openpyxl's own
@@ -335,37 +375,53 @@ _SHEET_DATA = re.compile(rb"<sheetData\s*/>|<sheetData>.*?</sheetData>", re.S)
 _DIMENSION = re.compile(rb'<dimension ref="[^"]*"\s*/>')
 
 
-def _with_rows(sheet_xml: bytes, plan: _SheetPlan) -> bytes:
-    """A sheet's XML with its sheetData made from the plan's blocks, rows in order."""
+def _block_rows(block: _Block, spill) -> Iterator[tuple[int, int, int, bytes]]:
+    """(row number, first column, last column, the row's cells) of a block, in order; a spilled block's rows
+    read back from the spill file a few thousand at a time."""
+    if block.lengths is None:
+        for offset, cells in enumerate(block.rows):
+            yield block.first_row + offset, block.first_column, block.last_column, cells.encode("utf-8")
+        return
+    ends = np.cumsum(block.lengths)
+    starts = ends - block.lengths
+    for first in range(0, len(block.lengths), ROWS_AT_ONCE):
+        last = min(first + ROWS_AT_ONCE, len(block.lengths))
+        spill.seek(block.spilled_at + int(starts[first]))
+        data = spill.read(int(ends[last - 1] - starts[first]))
+        base = int(starts[first])
+        for k in range(first, last):
+            yield (block.first_row + k, block.first_column, block.last_column,
+                   data[int(starts[k]) - base:int(ends[k]) - base])
+
+
+def _write_rows(out, sheet_xml: bytes, plan: _SheetPlan, spill) -> None:
+    """A sheet's XML written to ``out`` with its sheetData made from the plan's blocks, rows in order."""
     from openpyxl.utils import get_column_letter
 
     # a table's rows go out as they are; a row that holds more than one block (a note beside a
     # table, say) has its parts put in column order, and parts that overlap are a defect
-    parts: dict[int, list[tuple[int, int, str]]] = {}
-    for block in plan.blocks:
-        for offset, cells in enumerate(block.rows):
-            parts.setdefault(block.first_row + offset, []).append((block.first_column, block.last_column, cells))
-    lines = []
-    heights = plan.heights
-    for number in sorted(parts):
-        row = parts[number]
-        if len(row) > 1:
-            row.sort()
-            if any(later[0] <= earlier[1] for earlier, later in zip(row, row[1:])):
-                raise NavredError(f"two things written in one place of a sheet (row {number}): a navred defect")
-        height = heights.get(number)
-        attributes = f' ht="{height:g}" customHeight="1"' if height else ""
-        lines.append(f'<row r="{number}"{attributes}>{row[0][2] if len(row) == 1 else "".join(p[2] for p in row)}'
-                     "</row>")
-    last_row = max(parts) if parts else 1
+    last_row = max([b.last_row for b in plan.blocks] + [1])
     last_column = max([1] + [block.last_column for block in plan.blocks])
     found = _SHEET_DATA.search(sheet_xml)
     if found is None:
         raise NavredError("the workbook's sheet has no sheetData element: a navred defect")
     head = _DIMENSION.sub(f'<dimension ref="A1:{get_column_letter(last_column)}{last_row}"/>'.encode(),
                           sheet_xml[:found.start()], 1)
-    return b"".join([head, b"<sheetData>", "".join(lines).encode("utf-8"), b"</sheetData>",
-                     sheet_xml[found.end():]])
+    out.write(head + b"<sheetData>")
+    heights = plan.heights
+    merged = heapq.merge(*(_block_rows(block, spill) for block in plan.blocks), key=lambda part: part[:2])
+    lines: list[bytes] = []
+    for number, parts in itertools.groupby(merged, key=lambda part: part[0]):
+        row = list(parts)
+        if len(row) > 1 and any(later[1] <= earlier[2] for earlier, later in zip(row, row[1:])):
+            raise NavredError(f"two things written in one place of a sheet (row {number}): a navred defect")
+        height = heights.get(number)
+        attributes = f' ht="{height:g}" customHeight="1"' if height else ""
+        lines.append(f'<row r="{number}"{attributes}>'.encode() + b"".join(p[3] for p in row) + b"</row>")
+        if len(lines) >= ROWS_AT_ONCE:
+            out.write(b"".join(lines))
+            lines = []
+    out.write(b"".join(lines) + b"</sheetData>" + sheet_xml[found.end():])
 
 
 __all__ = ["TableWriter", "column_cells", "safe_text"]

@@ -139,6 +139,14 @@ def planned_rounds(events: dict, plans: list[SightPlan], track: DRTrack, *, eye_
     return rounds
 
 
+def twilight_times(round_: PlannedTwilight, zone_h: float) -> str:
+    """A round's twilight in zone time, in the order they come: 'nautical twilight 04:39, civil 05:13' in the
+    morning, 'civil twilight 18:42, nautical 19:16' in the evening."""
+    nautical, civil = hm(zone_time(round_.nautical, zone_h)), hm(zone_time(round_.civil, zone_h))
+    return (f"nautical twilight {nautical}, civil {civil}" if round_.nautical < round_.civil else
+            f"civil twilight {civil}, nautical {nautical}")
+
+
 def noon_suns(events: dict, track: DRTrack, *, eye_height_m: float, index_error_arcmin: float,
               zone_given: float | None) -> list[NoonSun]:
     """The Sun's meridian passage at the moving DR on each local date, and the lower limb's Hs to preset."""
@@ -196,8 +204,8 @@ class BridgePlan:
         ie = self.index_error_arcmin
         lines = [f"Sight plan along the DR from {dm(self.lat_deg, 'lat')} {dm(self.lon_deg, 'lon')} at 00:00 local "
                  f"time of {self.first_date}{moving}",
-                 f"Height of eye {self.eye_height_m:g} m, index error {abs(ie):.1f}′ "
-                 f"{'on' if ie > 0 else 'off' if ie < 0 else ''} the arc".replace("  ", " ")
+                 f"Height of eye {self.eye_height_m:g} m, index error {abs(ie):.1f}′"
+                 + (" on the arc" if ie > 0 else " off the arc" if ie < 0 else "")
                  + ": the Hs to preset is Hc with dip, refraction, SD, parallax and index error taken back off.",
                  "Times are zone time (ZT + ZD = UTC) with UTC in brackets, to the minute; '-': the event does not "
                  "happen that day.", ""]
@@ -245,8 +253,7 @@ class BridgePlan:
                 f"{dm(p.lat_deg, 'lat')} {dm(p.lon_deg, 'lon')}")
         lines = [head]
         if not np.isnat(round_.nautical):
-            lines.append(f"  nautical twilight {hm(zone_time(round_.nautical, zd))}, civil "
-                         f"{hm(zone_time(round_.civil, zd))} zone")
+            lines.append(f"  {twilight_times(round_, zd)} zone")
         lines.append(f"  {'body':<16}{'Hs to preset':>13}  {'limb':<7}{'Hc':>12}{'Zn':>8}{'mag':>6}  {'from Moon':>9}")
         for k in self._order(round_):
             mark = "  <- recommended" if round_.plan.recommended[k] else ""
@@ -342,8 +349,8 @@ class BridgePlan:
             blocks = [Text(f"{hm(zone_time(p.utc, zd))} zone time (ZD {zone_text(zd)}), {hm(p.utc)} UTC, from DR "
                            f"{dm(p.lat_deg, 'lat')} {dm(p.lon_deg, 'lon')}", "subheading")]
             if not np.isnat(round_.nautical):
-                blocks.append(Text(f"Nautical twilight {hm(zone_time(round_.nautical, zd))}, civil "
-                                   f"{hm(zone_time(round_.civil, zd))} zone time. Height of eye {self.eye_height_m:g} "
+                times = twilight_times(round_, zd)
+                blocks.append(Text(f"{times[0].upper()}{times[1:]} zone time. Height of eye {self.eye_height_m:g} "
                                    f"m, index error {signed(self.index_error_arcmin)}′ (on the arc +): set the Hs and "
                                    "look along the Zn. ● the recommended set.", "body"))
             blocks.append(table)
@@ -434,4 +441,4 @@ def write_plan_files(plan: BridgePlan, files: dict[str, str]) -> list[Path]:
     return written
 
 __all__ = ["BridgePlan", "PlannedTwilight", "NoonSun", "DayEvents", "bridge_plan", "planned_rounds", "noon_suns",
-           "provenance_line", "write_plan_files", "plans_csv_path", "signed", "dm", "hm", "zone_time", "zone_text", "to_minute", "long_date", "zone_for"]
+           "provenance_line", "write_plan_files", "twilight_times", "plans_csv_path", "signed", "dm", "hm", "zone_time", "zone_text", "to_minute", "long_date", "zone_for"]

@@ -29,6 +29,10 @@ from ..errors import NavredError
 from ..plan import voyage_events
 from .bridge import dm, hm, provenance_line, signed, to_minute, zone_for, zone_text, zone_time
 
+#: A deviation larger than this (degrees) is flagged: a compass in use is adjusted to well within it, so a wrong
+#: time, position, body or heading is likelier  # common practice
+LARGE_DEVIATION_DEG = 10.0
+
 
 def _east_west(value: float) -> str:
     return "" if value != value else f"{abs(value):.1f}° {'E' if value >= 0 else 'W'}"
@@ -77,7 +81,8 @@ class WatchAzimuths:
         from ..io.printed import Document, Page, Table, Text
         from ..timescales import instants
 
-        rises = Table(("Date", "Event", "visible (zone)", "centre on horizon (zone)", "UTC", "amplitude", "true Zn"),
+        rises = Table(("Date", "Event", "visible (zone)", "centre on horizon (zone)", "centre (UTC)", "amplitude",
+                       "true Zn"),
                       tuple((r["date"], r["event"], r["visible_zone_time"], r["amplitude_zone_time"],
                              r["amplitude_utc"][11:], r["amplitude"], r["zn"]) for r in self.risings.to_dict("records")),
                       title="Sunrise and sunset: the true amplitude", font_size=7.6,
@@ -206,6 +211,7 @@ class CompassBook:
             mean = float(np.mean(gyro.gyro_error_deg))
             lines.append(f"gyro: mean error {_high_low(mean)} over {len(gyro)} bearing{'s' if len(gyro) > 1 else ''} "
                          f"(spread {float(np.std(gyro.gyro_error_deg)):.1f}°)")
+        lines += [f"WARNING: {text}" for text in self.warnings()]
         if self.curve is not None:
             c = self.curve
             lines.append(f"deviation curve: A {signed(c.a_deg, 2)}°, B {signed(c.b_deg, 2)}°, C {signed(c.c_deg, 2)}°, "
@@ -215,6 +221,20 @@ class CompassBook:
             lines.append("deviation card (by compass heading): " + ", ".join(
                 f"{h:03.0f}° {d}" for h, d in zip(self.card.compass_heading_deg, self.card.deviation)))
         return lines
+
+    def warnings(self) -> list[str]:
+        """What the book shows that should not be trusted: a deviation larger than a compass in use shows (a wrong
+        time, position, body or heading is likelier), a card from headings too few to fix the curve."""
+        out = []
+        if len(self.observations) and "deviation_deg" in self.observations:
+            large = self.observations[np.abs(self.observations.deviation_deg.to_numpy(dtype=float)) > LARGE_DEVIATION_DEG]
+            for r in large.to_dict("records"):
+                out.append(f"row {r['row']}: deviation {r['deviation']} on {r['heading_deg']:05.1f}°, more than "
+                           f"{LARGE_DEVIATION_DEG:g}°: check its time, position, body and heading before trusting it")
+        if self.curve is not None and self.curve.unfitted:
+            out.append(f"NOT A CARD TO STEER BY: the headings observed cannot fix {', '.join(self.curve.unfitted)} "
+                       "(set to 0); swing her through eight headings or more round the compass")
+        return out
 
     def document(self):
         from ..io.cautions import CAUTION
@@ -233,6 +253,8 @@ class CompassBook:
                   Table(("row", "UTC", "body", "compass", "read °", "true °", "error", "heading °", "variation",
                          "deviation"), tuple(rows), font_size=7.2, left_columns=4,
                         widths=(0.4, 1.3, 0.9, 0.7, 0.55, 0.55, 0.9, 0.65, 0.7, 0.7))]
+        for text in self.warnings():
+            blocks.append(Text(f"WARNING: {text}.", "subheading"))
         if self.curve is not None:
             c = self.curve
             blocks.append(Text(f"Deviation curve A + B sin h + C cos h + D sin 2h + E cos 2h: A {signed(c.a_deg, 2)}°, "
@@ -289,6 +311,13 @@ def compass_book(source, *, dates: str | None = None) -> CompassBook:
         raise NavredError("no bearing in the book could be worked: " + "; ".join(
             f"row {r.row}: {r.column}: {r.reason}" for r in pd.concat(rejected).head(3).itertuples()))
     magnetic = table[table.compass == "magnetic"]
+    names = sorted(set(magnetic.compass_written))
+    if len(names) > 1:
+        rows = "; ".join(f"{name}: rows {', '.join(str(r) for r in magnetic.row[magnetic.compass_written == name])}"
+                         for name in names)
+        raise NavredError(f"the book holds magnetic compass bearings written as {len(names)} compasses "
+                          f"({', '.join(names)}): each compass has its own deviation, so one card would fit neither; "
+                          f"give each compass a book of its own ({rows})")
     curve, card = None, pd.DataFrame(columns=["compass_heading_deg", "deviation_deg", "deviation"])
     if len(magnetic):
         curve = deviation_coefficients(magnetic.heading_deg, magnetic.deviation_deg)

@@ -10,57 +10,29 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-import numpy as np
 import pandas as pd
 
 from ..errors import NavredError
 from ..io.logbook import LogSource
 from ..io.timesignals import Ratings
 from ..timescales import Instant, utc_datetime64
-from .frames import row_labels
+from .frames import FIX_COLUMNS as GROUP_FIX_COLUMNS
+from .frames import fix_table_row, row_labels
 from .latitudechecks import MERIDIAN_LHA_DEG, latitude_checks
 from .voyage import GroupFix, VoyageResult, fix_groups, process_log
 
-#: The columns of the fixes table (:func:`fixes_table`), one row per fix group, decimal degrees.
-FIX_COLUMNS = ("vessel", "fix_group", "utc", "kind", "lat_deg", "lon_deg", "sights", "sigma_arcmin", "weighted",
-               "quantile",
-               "ellipse_length_nm", "ellipse_width_nm", "ellipse_semi_major_nm", "ellipse_semi_minor_nm",
-               "ellipse_orientation_deg", "flagged", "left_out", "all_sights_lat_deg", "all_sights_lon_deg",
-               "dr_distance_nm", "chart_distance_nm", "chart_inside_ellipse", "note")
+#: The columns of the fixes table (:func:`fixes_table`), one row per fix group, decimal degrees: the vessel, then
+#: a fix group's row (:data:`navred.jobs.frames.FIX_COLUMNS`).
+FIX_COLUMNS = ("vessel", *GROUP_FIX_COLUMNS)
 
 
 def fixes_table(voyage: VoyageResult, groups: tuple[GroupFix, ...] | None = None) -> pd.DataFrame:
     """One row per fix group (``groups``, default every one), decimal degrees, the columns :data:`FIX_COLUMNS`;
     a group with no fix says why in ``note``."""
     labels = row_labels(voyage.reduced)
-    rows = []
-    for group in voyage.groups if groups is None else groups:
-        fix = group.fix
-        vessel = voyage.vessel_of(group.name)
-        if fix is None:
-            rows.append({"vessel": vessel, "fix_group": group.name, "note": f"no fix: {group.problem}"})
-            continue
-        left = fix.left_out if fix.left_out.size == len(group.rows) else np.zeros(len(group.rows), dtype=bool)
-        every = fix.all_sights
-        rows.append({"vessel": vessel, "fix_group": group.name, "utc": str(fix.utc)[:23] + "Z", "kind": fix.kind,
-                     "lat_deg": fix.lat_deg, "lon_deg": fix.lon_deg, "sights": int(fix.used.sum()),
-                     "sigma_arcmin": fix.sigma_arcmin,
-                     "weighted": " ".join(labels[group.rows[i]] for i in range(len(group.rows))
-                                          if fix.used[i] and fix.weight.size == len(group.rows)
-                                          and fix.weight[i] != 1.0),
-                     "quantile": fix.quantile,
-                     "ellipse_length_nm": 2 * fix.ellipse_semi_major_nm,
-                     "ellipse_width_nm": 2 * fix.ellipse_semi_minor_nm,
-                     "ellipse_semi_major_nm": fix.ellipse_semi_major_nm,
-                     "ellipse_semi_minor_nm": fix.ellipse_semi_minor_nm,
-                     "ellipse_orientation_deg": fix.ellipse_orientation_deg,
-                     "flagged": " ".join(labels[group.rows[i]] for i in range(len(group.rows)) if fix.outlier[i]),
-                     "left_out": " ".join(labels[group.rows[i]] for i in range(len(group.rows)) if left[i]),
-                     "all_sights_lat_deg": every.lat_deg if every is not None else None,
-                     "all_sights_lon_deg": every.lon_deg if every is not None else None,
-                     "dr_distance_nm": fix.dr_distance_nm,
-                     "chart_distance_nm": fix.chart_distance_nm, "chart_inside_ellipse": fix.chart_inside_ellipse,
-                     "note": "; ".join(fix.warnings)})
+    rows = [{"vessel": voyage.vessel_of(group.name), **fix_table_row(group.name, group.fix, labels[group.rows],
+                                                                     group.problem)}
+            for group in (voyage.groups if groups is None else groups)]
     frame = pd.DataFrame(rows)
     return frame[[c for c in FIX_COLUMNS if c in frame.columns]] if len(frame) else frame
 

@@ -8,7 +8,8 @@ item and the result), yields the results in the items' order with a few pieces a
 (memory stays bounded), and re-issues here every warning a piece raised, so that the command
 prints it. Where the system cannot fork, or one piece is all there is, this process does the
 work; should a forked process die (out of memory, killed), the pieces not yet handed back are
-done here. The results are those this process would give (tested for both jobs).
+done here. The results are those this process would give (tested for both jobs). A forked process
+ends itself when the process that forked it is gone (a run stopped by a signal leaves no worker behind).
 """
 
 from __future__ import annotations
@@ -35,6 +36,25 @@ def can_fork() -> bool:
     return "fork" in multiprocessing.get_all_start_methods()
 
 
+#: how often (seconds) a forked process looks whether the process that forked it is still there
+PARENT_CHECK_S = 0.5
+
+
+def _end_with_parent(parent: int) -> None:
+    """In a forked process: end it as soon as the process that forked it has gone (stopped by a signal, or
+    killed), rather than leave it drawing or reducing for no one (a watch thread looks every
+    :data:`PARENT_CHECK_S`)."""
+    import threading
+    import time
+
+    def watch() -> None:
+        while os.getppid() == parent:
+            time.sleep(PARENT_CHECK_S)
+        os._exit(1)
+
+    threading.Thread(target=watch, name="navred-parent-watch", daemon=True).start()
+
+
 def _run(function: Callable[[Any, Any], Any], item: Any) -> tuple[Any, list[Warning]]:
     """One piece in a forked process: its result and the warnings it raised."""
     with warnings.catch_warnings(record=True) as caught:
@@ -57,7 +77,8 @@ def forked_map(function: Callable[[Any, Any], Any], items: Iterable[Any], *, con
         from concurrent.futures.process import BrokenProcessPool
 
         _CONTEXT["context"] = context
-        pool = ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("fork"))
+        pool = ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("fork"),
+                                   initializer=_end_with_parent, initargs=(os.getpid(),))
         try:
             pending: deque = deque()
             following = iter(items)

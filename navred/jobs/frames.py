@@ -7,7 +7,8 @@ so that the core never sees a DataFrame.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
@@ -15,7 +16,7 @@ from numpy.typing import ArrayLike
 
 from ..almanac import places
 from ..errors import NavredError, api_boundary
-from ..fix import FixResult, fix_from_sights
+from ..fix import FixResult, fix_from_sights, fixes_from_sights
 from ..series import SIGMAS, THRESHOLD_ARCMIN, check_series, series_ids
 from ..status import SightStatus
 from ..timescales import Instant
@@ -68,13 +69,15 @@ def utc64(values: pd.Series) -> np.ndarray:
     return values.dt.tz_convert(None).to_numpy().astype("datetime64[ns]")
 
 
-def row_labels(reduced: pd.DataFrame) -> np.ndarray:
+def row_labels(reduced: pd.DataFrame, *, several: bool | None = None) -> np.ndarray:
     """How a row is named in messages: its row number in the log, with its file when the table
-    holds several files ('log.csv row 7')."""
+    holds several files ('log.csv row 7'; ``several``: whether the whole table these rows came from does)."""
     if "row" not in reduced.columns:
         return np.arange(1, len(reduced) + 1).astype(str)
     rows = reduced["row"].astype(int).astype(str).to_numpy(dtype=object)
-    if "source" in reduced.columns and reduced["source"].nunique() > 1:
+    if several is None:
+        several = "source" in reduced.columns and reduced["source"].nunique() > 1
+    if several and "source" in reduced.columns:
         from pathlib import Path
 
         names = np.array([Path(s).name for s in reduced["source"]], dtype=object)
@@ -115,8 +118,8 @@ def fix_position(reduced: pd.DataFrame, at_utc: Instant | None = None, *, group:
     set, plus a current ``set_deg``/``drift_kn``. See :func:`navred.fix.fix_from_sights`.
 
     The sights of several fix groups (a whole log's) are refused, naming the groups: fixed as one they would
-    make one running fix across hours. Give ``group`` to fix one of them, or fix every group with
-    :func:`navred.process_log`.
+    make one running fix across hours. Give ``group`` to fix one of them, or fix every group at once with
+    :func:`fix_positions` (or :func:`navred.process_log`).
     """
     needed = ("gha_deg", "dec_deg", "ho_deg", "sight_utc", "dr_lat_deg", "dr_lon_deg")
     if not isinstance(reduced, pd.DataFrame):
@@ -124,6 +127,7 @@ def fix_position(reduced: pd.DataFrame, at_utc: Instant | None = None, *, group:
     missing = [c for c in needed if c not in reduced.columns]
     if missing:
         raise NavredError(f"fix_position needs the columns of reduce_sights; missing: {', '.join(missing)}")
+    several = "source" in reduced.columns and reduced["source"].nunique() > 1  # rows named as in the whole table
     reduced = one_fix_group(reduced, group)
     usable = (reduced["status"].to_numpy() != SightStatus.ERROR) if "status" in reduced.columns else None
 
@@ -138,8 +142,156 @@ def fix_position(reduced: pd.DataFrame, at_utc: Instant | None = None, *, group:
         reduced["dr_lat_deg"].to_numpy(dtype=float), reduced["dr_lon_deg"].to_numpy(dtype=float),
         usable=usable, course_deg=column("course_deg", course_deg), speed_kn=column("speed_kn", speed_kn),
         at_utc=at_utc, chart_lat=chart_lat, chart_lon=chart_lon, solve_motion=solve_motion, set_deg=set_deg,
-        drift_kn=drift_kn, labels=row_labels(reduced),
-        sigma_arcmin=reduced["sigma_arcmin"].to_numpy(dtype=float) if "sigma_arcmin" in reduced.columns else None)
+        drift_kn=drift_kn, labels=row_labels(reduced, several=several), **_per_sight(reduced))
+
+
+#: The columns of a table of fixes (``navred fix --csv``, :meth:`GroupedFixes.table`), one row per fix group,
+#: decimal degrees.
+FIX_COLUMNS = ("fix_group", "utc", "kind", "lat_deg", "lon_deg", "sights", "sigma_arcmin", "weighted", "quantile",
+               "ellipse_length_nm", "ellipse_width_nm", "ellipse_semi_major_nm", "ellipse_semi_minor_nm",
+               "ellipse_orientation_deg", "flagged", "left_out", "all_sights_lat_deg", "all_sights_lon_deg",
+               "dr_distance_nm", "chart_distance_nm", "chart_inside_ellipse", "note")
+
+
+def fix_table_row(name: str, fix: FixResult | None, row_names: np.ndarray, problem: str = "") -> dict:
+    """One fix group's row of a table of fixes (:data:`FIX_COLUMNS`): ``row_names`` are the names of the group's
+    rows (in the order the fix holds them); a group with no fix says why in ``note``."""
+    if fix is None:
+        return {"fix_group": name, "note": f"no fix: {problem}"}
+    n = len(row_names)
+    left = fix.left_out if fix.left_out.size == n else np.zeros(n, dtype=bool)
+    outlier = fix.outlier if fix.outlier.size == n else np.zeros(n, dtype=bool)
+    weight = fix.weight if fix.weight.size == n else np.ones(n)
+    every = fix.all_sights
+    return {"fix_group": name, "utc": str(fix.utc)[:23] + "Z", "kind": fix.kind,
+            "lat_deg": fix.lat_deg, "lon_deg": fix.lon_deg, "sights": int(fix.used.sum()),
+            "sigma_arcmin": fix.sigma_arcmin,
+            "weighted": " ".join(str(r) for r, u, w in zip(row_names.tolist(), fix.used.tolist(), weight.tolist())
+                                 if u and w != 1.0),
+            "quantile": fix.quantile,
+            "ellipse_length_nm": 2 * fix.ellipse_semi_major_nm, "ellipse_width_nm": 2 * fix.ellipse_semi_minor_nm,
+            "ellipse_semi_major_nm": fix.ellipse_semi_major_nm, "ellipse_semi_minor_nm": fix.ellipse_semi_minor_nm,
+            "ellipse_orientation_deg": fix.ellipse_orientation_deg,
+            "flagged": " ".join(str(r) for r, o in zip(row_names.tolist(), outlier.tolist()) if o),
+            "left_out": " ".join(str(r) for r, o in zip(row_names.tolist(), left.tolist()) if o),
+            "all_sights_lat_deg": every.lat_deg if every is not None else None,
+            "all_sights_lon_deg": every.lon_deg if every is not None else None,
+            "dr_distance_nm": fix.dr_distance_nm, "chart_distance_nm": fix.chart_distance_nm,
+            "chart_inside_ellipse": fix.chart_inside_ellipse, "note": "; ".join(fix.warnings)}
+
+
+@dataclass(frozen=True)
+class GroupedFixes:
+    """The fixes of many fix groups (:func:`fix_positions`): each group's fix (or line of position, or latitude)
+    by its name, in the order the table first names the groups, and why a group has none.
+
+    ``fixes[name]`` is a :class:`navred.FixResult`; ``fixes.get(name)`` is None for a group with no fix, whose
+    reason is ``problems[name]``; ``len`` and iteration go over every group asked for; :meth:`table` is one row
+    per group."""
+
+    groups: tuple[str, ...]
+    results: Mapping[str, FixResult]
+    problems: Mapping[str, str]
+    #: the names of each group's rows (as every sheet and note names them), in the order its fix holds them
+    rows: Mapping[str, tuple[str, ...]] = field(default_factory=dict)
+
+    def __len__(self) -> int:
+        return len(self.groups)
+
+    def __iter__(self):
+        return iter(self.groups)
+
+    def __contains__(self, name: object) -> bool:
+        return name in self.results or name in self.problems
+
+    def __getitem__(self, name: str) -> FixResult:
+        if name in self.results:
+            return self.results[name]
+        if name in self.problems:
+            raise NavredError(f"fix group {name!r} has no fix: {self.problems[name]}")
+        raise NavredError(f"no fix group {name!r} among these fixes")
+
+    def get(self, name: str) -> FixResult | None:
+        return self.results.get(name)
+
+    def table(self) -> pd.DataFrame:
+        """One row per group, the columns of ``navred fix --csv`` (:data:`FIX_COLUMNS`; ``utc`` as instants):
+        its fix's time, position, kind, sights, σ and ellipse, the rows flagged and left out, the distances
+        from the DR and the chart, and its notes, or why it has none (``note``)."""
+        rows = [fix_table_row(name, self.results.get(name), np.asarray(self.rows.get(name, ()), dtype=object),
+                              self.problems.get(name, "")) for name in self.groups]
+        frame = pd.DataFrame(rows, columns=list(FIX_COLUMNS))
+        frame["utc"] = pd.to_datetime(frame["utc"].str.rstrip("Z"), format="ISO8601").dt.tz_localize("UTC")
+        return frame
+
+
+@api_boundary
+def fix_positions(reduced: pd.DataFrame, at_utc: Instant | Mapping[str, Instant] | None = None, *,
+                  groups: Sequence[str] | None = None, chart: Mapping[str, tuple[float, float]] | None = None,
+                  solve_motion: bool = False, set_deg: float | None = None, drift_kn: float | None = None,
+                  course_deg: float | None = None, speed_kn: float | None = None) -> GroupedFixes:
+    """The fix of every fix group of a reduced table at once (the output of :func:`navred.reduce_sights` with a
+    ``fix_group`` column): each group gets what :func:`fix_position` gives it alone (tested), in one solve.
+
+    ``groups``: the names of the groups to fix (default: every group a usable row names; rows with no group
+    are in none). ``at_utc``: one fix time for every group, a mapping of group name to fix time, or None (each
+    group's last sight). ``chart``: a chart or GNSS position per group name, cross-checked.
+    ``solve_motion``, ``set_deg``, ``drift_kn``, ``course_deg`` and ``speed_kn`` as for :func:`fix_position`,
+    for every group. Returns a :class:`GroupedFixes`.
+    """
+    needed = ("gha_deg", "dec_deg", "ho_deg", "sight_utc", "dr_lat_deg", "dr_lon_deg", "fix_group")
+    if not isinstance(reduced, pd.DataFrame):
+        raise NavredError(f"fix_positions takes the table reduce_sights returns, not {type(reduced).__name__}")
+    missing = [c for c in needed if c not in reduced.columns]
+    if missing:
+        raise NavredError(f"fix_positions needs the columns of reduce_sights, fix_group among them; missing: "
+                          f"{', '.join(missing)} (fix sights with no groups with fix_position)")
+    usable = (reduced["status"].to_numpy() != SightStatus.ERROR) if "status" in reduced.columns \
+        else np.ones(len(reduced), dtype=bool)
+    names = reduced["fix_group"].astype(str).to_numpy(dtype=object)
+    named = list(dict.fromkeys(names[usable & (names != "")].tolist()))
+    if groups is None:
+        chosen = named
+    else:
+        chosen = list(dict.fromkeys(str(g) for g in ([groups] if isinstance(groups, str) else groups)))
+        unknown = [g for g in chosen if g not in named]
+        if unknown:
+            raise NavredError(f"no fix group {', '.join(repr(g) for g in unknown[:6])} among these sights; they "
+                              f"hold: {', '.join(named[:12]) or 'none'}{' ...' if len(named) > 12 else ''}")
+    index = {name: k for k, name in enumerate(chosen)}
+    group = np.array([index.get(name, -1) for name in names.tolist()], dtype=np.intp)
+    if isinstance(at_utc, Mapping):
+        at_utc = [at_utc.get(name) for name in chosen]
+    chart = chart or {}
+    chart_lat = np.array([float(chart[g][0]) if g in chart else np.nan for g in chosen])
+    chart_lon = np.array([float(chart[g][1]) if g in chart else np.nan for g in chosen])
+
+    def column(name, given):
+        if given is not None:
+            return float(given)
+        return reduced[name].to_numpy(dtype=float) if name in reduced.columns else None
+
+    labels = row_labels(reduced)
+    batch = fixes_from_sights(
+        reduced["gha_deg"].to_numpy(dtype=float), reduced["dec_deg"].to_numpy(dtype=float),
+        reduced["ho_deg"].to_numpy(dtype=float), utc64(reduced["sight_utc"]),
+        reduced["dr_lat_deg"].to_numpy(dtype=float), reduced["dr_lon_deg"].to_numpy(dtype=float), group,
+        usable=usable, course_deg=column("course_deg", course_deg), speed_kn=column("speed_kn", speed_kn),
+        at_utc=at_utc, chart_lat=chart_lat, chart_lon=chart_lon, solve_motion=solve_motion, set_deg=set_deg,
+        drift_kn=drift_kn, labels=labels, **_per_sight(reduced))
+    results = {name: batch.results[k] for k, name in enumerate(chosen) if batch.results[k] is not None}
+    problems = {name: batch.problems[k] for k, name in enumerate(chosen) if batch.results[k] is None}
+    order = np.argsort(group, kind="stable")
+    bounds = np.searchsorted(group[order], np.arange(len(chosen) + 1))
+    rows = {name: tuple(labels[order[bounds[k]:bounds[k + 1]]].tolist()) for k, name in enumerate(chosen)}
+    return GroupedFixes(tuple(chosen), results, problems, rows)
+
+
+def _per_sight(reduced: pd.DataFrame) -> dict:
+    """What the fix takes per sight beside the lines when the table holds it, as the commands give it: the Hs as
+    read (the check for degrees and minutes written as a decimal) and each sight's own σ (its weight)."""
+    return {name: reduced[name].to_numpy(dtype=float) if name in reduced.columns else None
+            for name in ("hs_deg", "sigma_arcmin")}
 
 
 def one_fix_group(reduced: pd.DataFrame, group: str | None = None) -> pd.DataFrame:
@@ -166,7 +318,7 @@ def one_fix_group(reduced: pd.DataFrame, group: str | None = None) -> pd.DataFra
         shown = ", ".join(repr(n) for n in names[:6]) + (f" and {len(names) - 6} more" if len(names) > 6 else "")
         raise NavredError(f"these sights hold {len(names)} fix groups ({shown}) over {hours:.1f} hours: fixed as one "
                           "they would make one running fix across them all; give group= to fix one, or fix every "
-                          "group with navred.process_log")
+                          "group at once with navred.fix_positions (or navred.process_log)")
     return reduced
 
 
@@ -211,4 +363,5 @@ def series_columns(reduced: pd.DataFrame, *, threshold_arcmin: float = THRESHOLD
             "series_best_ho_deg": np.where(single, np.nan, check.best_ho_deg)}
 
 
-__all__ = ["body_positions", "fix_position", "one_fix_group", "series_columns", "row_labels", "row_list", "utc64"]
+__all__ = ["FIX_COLUMNS", "fix_table_row", "body_positions", "fix_position", "fix_positions", "GroupedFixes",
+           "one_fix_group", "series_columns", "row_labels", "row_list", "utc64"]

@@ -20,14 +20,17 @@ the texts printed, and the same texts go to the CSV files. The pages, in order:
 
 from __future__ import annotations
 
+import datetime as _dt
 import math
 from dataclasses import dataclass
+from os import PathLike
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from ..angles import wrap_360
 from ..constants import ARCMIN_PER_DEG, NS_PER_HOUR
-from ..errors import NavredError
+from ..errors import NavredError, api_boundary
 from ..handtables import (
     MAX_DAYS,
     POLARIS_BLOCK_DAYS,
@@ -49,7 +52,7 @@ from ..handtables import (
 from ..io.cautions import CAUTION
 from ..io.printed import Document, Drawing, Page, Side, Table, Text
 from ..presets import RATE_MINUTES
-from ..sightplan import twilight_plans
+from ..sightplan import track_twilight_plans
 from .bridge import (
     NoonSun,
     PlannedTwilight,
@@ -62,13 +65,25 @@ from .bridge import (
     signed,
     zone_text,
 )
+from .passagedr import PassageDR, departure_dr, log_passage_dr, route_passage_dr
+
+if TYPE_CHECKING:
+    from ..io.logbook import LogSource, SightLog
+    from ..io.timesignals import Ratings
+    from ..io.waypoints import Waypoints
+    from ..timescales import Instant
+
+#: A date of the passage: '2026-03-26', a datetime.date or a numpy datetime64 (its UTC date).
+DateGiven = str | _dt.date | np.datetime64
 
 PLANETS = ("Venus", "Mars", "Jupiter", "Saturn")
+#: The most days a paper is made for at once: its hourly pages may need a UTC date either side (far east or west).
+PASSAGE_MAX_DAYS = MAX_DAYS - 2
 
 
 @dataclass(frozen=True)
 class PassagePaper:
-    """The printed backup: the document, and the numbers it was set from."""
+    """The printed backup: the document, and the numbers it was set from (``dr`` the DR it was planned along)."""
 
     document: Document
     hourly: HourlyTable
@@ -77,37 +92,101 @@ class PassagePaper:
     noons: tuple[NoonSun, ...]
     first_date: np.datetime64
     days: int
+    dr: PassageDR | None = None
 
 
-def passage_paper(first_date: object, last_date: object, lat_deg: float, lon_deg: float, *, course_deg: float = 0.0,
-                  speed_kn: float = 0.0, eye_height_m: float = 0.0, index_error_arcmin: float = 0.0,
+@api_boundary
+def passage_paper(first_date: DateGiven, last_date: DateGiven, lat_deg: float | None = None,
+                  lon_deg: float | None = None, *, course_deg: float | None = None, speed_kn: float | None = None,
+                  route: str | PathLike[str] | Waypoints | None = None, depart: Instant | None = None,
+                  log: LogSource | SightLog | None = None, vessel: str | None = None, dates: str | None = None,
+                  rates: Ratings | None = None,
+                  carry_current: bool = False, eye_height_m: float = 0.0, index_error_arcmin: float = 0.0,
                   zone_description_h: float | None = None, count: int = 4, min_alt_deg: float = 15.0,
                   max_alt_deg: float = 70.0) -> PassagePaper:
-    """The paper for a passage from ``first_date`` to ``last_date`` (inclusive), the DR starting at
-    (``lat_deg``, ``lon_deg``) at 00:00 local time of the first date and running on ``course_deg`` at
-    ``speed_kn`` (0 for a fixed position). ``zone_description_h`` is the zone the ship keeps (ZT + ZD
-    = UTC); without it each twilight and noon takes the zone of the DR's longitude then. The height
-    of eye and index error give the Hs to preset."""
+    """The paper for a passage from ``first_date`` to ``last_date`` (inclusive), planned along one of three DRs
+    (:mod:`navred.jobs.passagedr`):
+
+    - a departure: (``lat_deg``, ``lon_deg``) at 00:00 local time of the first date (or lying there until
+      ``depart``, ISO 8601 with a zone), then ``course_deg`` at
+      ``speed_kn`` (both left out, or 0, for a fixed position);
+    - ``route``: the waypoints of a route file (`navred route`'s CSV or GPX, or a list of waypoints written by
+      hand) sailed at ``speed_kn``, leaving the first at ``depart`` (default 00:00 local time of the first date);
+    - ``log``: a sight log with entry rows (anything :func:`navred.read_sight_log` takes, read with ``dates`` and
+      ``rates``), its DR as the day's work keeps it (its one vessel's, or ``vessel``'s; ``carry_current``
+      carries the set and drift found at each fix).
+
+    ``zone_description_h`` is the zone the ship keeps (ZT + ZD = UTC); without it each twilight and noon takes
+    the zone of the DR's longitude then. The height of eye and index error give the Hs to preset."""
     first = _date(first_date, "first date")
     last = _date(last_date, "last date")
     days = int((last - first).astype(int)) + 1
     if days < 1:
         raise NavredError(f"the passage ends ({last}) before it begins ({first})")
-    if days > MAX_DAYS:
-        raise NavredError(f"{days} days: the paper covers at most {MAX_DAYS} days at once; print the passage in parts")
-    hourly = hourly_table(first, days)
-    stars = star_blocks(first, days)
-    events, plans = twilight_plans(str(first), days, lat_deg, lon_deg, course_deg=course_deg, speed_kn=speed_kn,
-                                   eye_height_m=eye_height_m, count=count, min_alt_deg=min_alt_deg,
-                                   max_alt_deg=max_alt_deg)
+    if days > PASSAGE_MAX_DAYS:
+        raise NavredError(f"{days} days: the paper covers at most {PASSAGE_MAX_DAYS} days at once; print the passage "
+                          "in parts")
+    dr = _passage_dr(first, days, lat_deg, lon_deg, course_deg, speed_kn, route, depart, log, vessel, dates, rates,
+                     carry_current)
+    zone_from_log = zone_description_h is None and dr.zone_h is not None
+    if zone_from_log:
+        zone_description_h = dr.zone_h  # the zone the log keeps: its clocks are the ship's
+    events, plans = track_twilight_plans(dr.track, dr.start, days, eye_height_m=eye_height_m, count=count,
+                                         min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg)
     track = events["track"]
     options = dict(eye_height_m=eye_height_m, index_error_arcmin=index_error_arcmin, zone_given=zone_description_h)
     twilights = planned_rounds(events, plans, track, count=count, min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg,
                                **options)
     noons = noon_suns(events, track, **options)
-    document = _document(first, days, hourly, stars, twilights, noons, track, lat_deg, lon_deg, course_deg, speed_kn,
-                         eye_height_m, index_error_arcmin, zone_description_h, events)
-    return PassagePaper(document, hourly, tuple(stars), tuple(twilights), tuple(noons), first, days)
+    # the hourly pages cover every UTC date a planned sight or noon falls on: east of about 80° E the first
+    # morning twilight comes on the UTC date before the first, far west the last evening's on the date after
+    times = [t.presets.utc for t in twilights] + [n.utc for n in noons]
+    table_first = min([first] + [t.astype("datetime64[D]") for t in times])
+    table_days = int((max([last] + [t.astype("datetime64[D]") for t in times]) - table_first).astype(int)) + 1
+    hourly = hourly_table(table_first, table_days)
+    stars = star_blocks(table_first, table_days)
+    document = _document(first, days, hourly, stars, twilights, noons, dr, eye_height_m, index_error_arcmin,
+                         zone_description_h, events, table_first, table_days)
+    return PassagePaper(document, hourly, tuple(stars), tuple(twilights), tuple(noons), first, days, dr)
+
+
+def _passage_dr(first, days, lat_deg, lon_deg, course_deg, speed_kn, route, depart, log, vessel, dates, rates,
+                carry_current) -> PassageDR:
+    """The one DR the paper is planned along; two given at once are refused (which would be meant?)."""
+    given = [name for name, value in (("a position (--lat, --lon)", lat_deg is not None or lon_deg is not None),
+                                      ("a route (--route)", route is not None), ("a log (--log)", log is not None))
+             if value]
+    if len(given) != 1:
+        raise NavredError(("the paper is planned along one DR; given " + " and ".join(given) + ": give one") if given
+                          else "give the DR to plan along: a position (--lat, --lon) with --course and --speed, a "
+                               "route (--route) with --speed, or a log with entry rows (--log)")
+    if depart is not None and route is None and log is not None:
+        raise NavredError("--depart is the time she leaves a route's first waypoint or a departure position: a log "
+                          "gives its own departure")
+    if vessel is not None and log is None:
+        raise NavredError("--vessel names the vessel of a log: give it with --log")
+    if route is not None:
+        if course_deg is not None:
+            raise NavredError("a route gives the course of each leg: leave out --course (or plan along a position "
+                              "with --lat, --lon and --course instead)")
+        if speed_kn is None:
+            raise NavredError("a route is sailed at a speed: give --speed (knots through the water)")
+        return route_passage_dr(first, route, speed_kn, depart, days=days)
+    if log is not None:
+        if course_deg is not None or speed_kn is not None:
+            raise NavredError("a log gives the courses and speeds of its DR: leave out --course and --speed")
+        return log_passage_dr(first, days, log, vessel=vessel, dates=dates, rates=rates, carry_current=carry_current)
+    if lat_deg is None or lon_deg is None:
+        raise NavredError("a position needs both --lat and --lon")
+    if (course_deg is None) != (speed_kn is None):
+        raise NavredError(f"{'--course' if speed_kn is None else '--speed'} without "
+                          f"{'--speed' if speed_kn is None else '--course'}: a departure's DR needs both (leave both "
+                          "out for a fixed position, at anchor or hove to)")
+    if depart is not None and not speed_kn:
+        raise NavredError("--depart is the time she leaves the position given on her course and speed: give --course "
+                          "and --speed (a fixed position does not depart)")
+    return departure_dr(first, lat_deg, lon_deg, 0.0 if course_deg is None else course_deg,
+                        0.0 if speed_kn is None else speed_kn, depart=depart, days=days)
 
 
 def _date(value: object, what: str) -> np.datetime64:
@@ -124,34 +203,42 @@ def _provenance(hourly: HourlyTable) -> str:
     return provenance_line(hourly.dut1_s, hourly.ut1_source)
 
 
-def _document(first, days, hourly, stars, twilights, noons, track, lat_deg, lon_deg, course_deg, speed_kn,
-              eye_height_m, index_error_arcmin, zone_given, events) -> Document:
+def _document(first, days, hourly, stars, twilights, noons, dr: PassageDR, eye_height_m, index_error_arcmin,
+              zone_given, events, table_first, table_days) -> Document:
     last = first + np.timedelta64(days - 1, "D")
-    pages = [_cover(first, last, days, lat_deg, lon_deg, course_deg, speed_kn, eye_height_m, index_error_arcmin,
-                    zone_given)]
-    pages += [_hourly_page(hourly, first + np.timedelta64(d, "D"), d) for d in range(days)]
+    pages = [_cover(first, last, days, dr, eye_height_m, index_error_arcmin, zone_given, table_first, table_days)]
+    if dr.table:
+        pages.append(_dr_page(dr))
+    pages += [_hourly_page(hourly, table_first + np.timedelta64(d, "D"), d) for d in range(table_days)]
     pages += _star_pages(stars)
-    pages += _correction_pages(first, days)
+    pages += _correction_pages(table_first, table_days)
     pages += _sight_pages(twilights, noons, events, hourly)
     pages.append(_noon_page(noons, hourly))
-    pages += _polaris_pages(first, days)
+    pages += _polaris_pages(table_first, table_days)
     pages.append(_formulas_page(twilights, hourly, stars, eye_height_m, index_error_arcmin))
-    pages += _blank_forms(track, first, days)
-    valid = f"{first} to {last} (UTC dates)" if days > 1 else f"{first} (UTC date)"
+    pages += _blank_forms(dr.track, first, days)
+    table_last = table_first + np.timedelta64(table_days - 1, "D")
+    valid = f"{table_first} to {table_last} (UTC dates)" if table_days > 1 else f"{table_first} (UTC date)"
     return Document("navred passage paper", valid, _provenance(hourly), CAUTION, tuple(pages))
 
 
 # --- The cover ---------------------------------------------------------------------------------
 
-def _cover(first, last, days, lat_deg, lon_deg, course_deg, speed_kn, eye_height_m, index_error_arcmin, zone_given):
-    moving = f"then {course_deg:05.1f}° true at {speed_kn:.1f} kn along the rhumb line" if speed_kn > 0 else \
-        "a fixed position"
-    zone = (f"zone description {zone_text(zone_given)} throughout" if zone_given is not None else
+def _cover(first, last, days, dr: PassageDR, eye_height_m, index_error_arcmin, zone_given, table_first, table_days):
+    kept = " (the zone the log keeps, by its latest row in zone time; --zone to choose another)" if (
+        dr.kind == "log" and dr.zone_h is not None and zone_given == dr.zone_h) else ""
+    zone = (f"zone description {zone_text(zone_given)} throughout{kept}" if zone_given is not None else
             "the zone of the DR's longitude at each twilight and noon (ZT + ZD = UTC)")
+    where = dr.summary + (" Its changes are listed on the next page." if dr.table else "")
     blocks = (
-        Text(f"From {first} to {last}: {days} day{'s' if days > 1 else ''}. DR from {dm(lat_deg, 'lat')} "
-             f"{dm(lon_deg, 'lon')} at 00:00 local time of {first}, {moving}. Height of eye {eye_height_m:g} m, "
-             f"index error {signed(index_error_arcmin)}′ (on the arc positive). Zone time: {zone}."),
+        Text(f"From {first} to {last}: {days} day{'s' if days > 1 else ''}. {where} Height of eye {eye_height_m:g} m, "
+             f"index error {signed(index_error_arcmin)}′ (on the arc positive). Zone time: {zone}."
+             + ("" if (table_first, table_days) == (first, days) else
+                f" The hourly pages run over the UTC dates {table_first} to "
+                f"{table_first + np.timedelta64(table_days - 1, 'D')}: every planned sight and noon of the local "
+                "dates falls on one of them.")),
+        *((Text("WARNING: check the DR before using these pages", "subheading"),
+           *(Text(f"{message[0].upper()}{message[1:]}.") for message in dr.warnings)) if dr.warnings else ()),
         Text("What this is", "subheading"),
         Text("A backup for the day the computer fails: with these pages, a pencil and a calculator a navigator "
              "reduces sights without navred. Print it before sailing and keep it dry with the sight book. It is "
@@ -166,12 +253,14 @@ def _cover(first, last, days, lat_deg, lon_deg, course_deg, speed_kn, eye_height
              "subtracted. A star's GHA is the GHA of Aries so found plus the star's SHA. Each hourly page "
              "works one example through."),
         Text("The pages", "subheading"),
-        Text("1 this page · 2 the hourly GHA and Dec, a page per UTC date · 3 the stars' SHA and Dec · 4 the "
-             "altitude corrections: dip, refraction, the Sun's SD, the Moon's parallax and SD, Venus and Mars · 5 "
-             "for each day the twilight stars planned along the DR with Hc, Zn and their change per minute, the "
-             "Hs to preset, and the noon Sun · 6 the noon Sun for every day · 7 the Polaris latitude table · 8 the "
-             "calculator's formulas with a sight worked through · 9 blank forms: the hand working, plotting "
-             "sheets for the passage's latitudes, a DR log page."),
+        Text("In this order, each headed by its title (look them up by title: a long table runs onto a second "
+             "sheet): this page" + (" and the DR it is planned along" if dr.table else "") + " · Hourly GHA and "
+             "Dec, a page per UTC date · The stars: SHA and Dec · Altitude corrections: dip and refraction · "
+             "Altitude corrections: the Moon, the Sun and the planets · Sights for each day: the twilight stars "
+             "planned along the DR with Hc, Zn and their change per minute, the Hs to preset, and the noon Sun · "
+             "The noon Sun for every day · Latitude by Polaris · The calculator's formulas, with a sight worked "
+             "through · blank forms: Hand working (one per way of working), Plotting sheets for the passage's "
+             "latitudes, a DR log page."),
         Text("Time", "subheading"),
         Text("Every table is for UTC. Keep the chronometer's error and rate by time signals; a second of time is "
              "15″ of GHA, a quarter of a mile of longitude. Zone times on the sight pages are for convenience "
@@ -186,6 +275,20 @@ def _cover(first, last, days, lat_deg, lon_deg, course_deg, speed_kn, eye_height
     return Page("Passage paper: the backup for hand reduction", blocks)
 
 
+def _dr_page(dr: PassageDR) -> Page:
+    columns, csv_columns, rows = dr.table
+    title = "The route as planned" if dr.kind == "route" else "The DR as the log keeps it"
+    note = ("Each waypoint, the time she leaves or reaches it at the speed given, the rhumb line to the next and "
+            "its length, and the miles run. The DR of every page follows these legs." if dr.kind == "route" else
+            "Each change of the DR from the one in force when the paper begins: a known position or fix (the DR "
+            "restarts there) or a change of course, speed or current; the course and speed are those made good "
+            "over the ground (the current included) from then on. The DR of every page follows it.")
+    table = Table(columns, rows, name="route" if dr.kind == "route" else "dr-changes", csv_columns=csv_columns,
+                  widths=(1.0, 2.3, 1.5, 1.2, 0.8, 0.8) if dr.kind == "route" else (1.2, 2.4, 2.3, 0.8, 0.8),
+                  left_columns=2, font_size=7.4, wrap_columns=(1,) if dr.kind == "log" else ())
+    return Page(title, (Text(note, "small"), table))
+
+
 # --- The hourly pages ----------------------------------------------------------------------------
 
 def _hourly_rows(hourly: HourlyTable, d: int) -> tuple[list[tuple[str, ...]], dict]:
@@ -198,7 +301,10 @@ def _hourly_rows(hourly: HourlyTable, d: int) -> tuple[list[tuple[str, ...]], di
     for k in range(25):
         last = k == 24
         d_gha = "" if last else dm(float(wrap_360(moon_gha[k + 1] - moon_gha[k])), "signed")
+        # the Moon's change of Dec with its sign both ways (north +): in south declination a bare 1.2 would read
+        # as the Dec growing
         d_dec = "" if last else signed((moon_dec[k + 1] - moon_dec[k]) * ARCMIN_PER_DEG)
+        d_dec = "+" + d_dec if d_dec and d_dec[0] != "−" and float(d_dec) != 0.0 else d_dec
         row = [f"{k:02d}", dm(values["Aries"][0][k]), dm(values["Sun"][0][k]), dm(values["Sun"][1][k], "dec"),
                dm(moon_gha[k]), d_gha, dm(moon_dec[k], "dec"), d_dec, f"{moon_hp[k]:.1f}"]
         for planet in PLANETS:
@@ -378,7 +484,7 @@ def _twilight_table(twilight: PlannedTwilight, name: str) -> Table:
             limb += " (horns up and down)"
         rows.append((str(p.body[i]), "●" if twilight.plan.recommended[i] else "", dm(p.hs_deg[i], "signed"), limb,
                      dm(p.hc_deg[i], "signed"), f"{p.zn_deg[i]:05.1f}", signed(p.hc_rate_arcmin_per_min[i], 2),
-                     signed(p.zn_rate_deg_per_min[i], 2), f"{good}" + ("" if good >= RATE_MINUTES else " near meridian"),
+                     signed(p.zn_rate_deg_per_min[i], 2), f"{good}" + ("" if good >= RATE_MINUTES else ", then formulas"),
                      signed(twilight.plan.magnitude[i])))
     return Table(("Body", "set", "Hs to preset", "limb", "Hc", "Zn °", "Hc ′/min", "Zn °/min", "holds min", "mag"),
                  tuple(rows), name=name,
@@ -396,6 +502,9 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
     for noon in noons:
         label = long_date(noon.date)
         blocks = []
+        held = {twilight.kind for twilight in by_date.get(label, [])}
+        if "Morning twilight" not in held:
+            blocks.append(_no_round("morning", events, noon))
         for twilight in by_date.get(label, []):
             p = twilight.presets
             zd = twilight.zone_h
@@ -403,22 +512,53 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
             kind = twilight.label.split(" ", 1)[0]
             blocks.append(Text(f"{kind} twilight: planned {hm(zone_time)} zone time ({zone_text(zd)}), "
                                f"{hm(p.utc)} UTC, from DR {dm(p.lat_deg, 'lat')} {dm(p.lon_deg, 'lon')}", "subheading"))
-            blocks.append(Text(f"Nautical twilight {hm(twilight.nautical)} UTC, civil {hm(twilight.civil)} UTC. For a "
+            times = (f"Nautical twilight {hm(twilight.nautical)} UTC, civil {hm(twilight.civil)} UTC" if
+                     twilight.nautical < twilight.civil else
+                     f"Civil twilight {hm(twilight.civil)} UTC, nautical {hm(twilight.nautical)} UTC")
+            blocks.append(Text(f"{times}. For a "
                                f"sight m minutes after {hm(p.utc)} UTC: Hc = Hc + m × (Hc ′/min), Zn = Zn + m × "
-                               "(Zn °/min), within 0.5′ for the minutes shown; plot every line from the DR above "
+                               "(Zn °/min), within 0.5′ for the minutes the rate holds (later, work it by the formulas "
+                               "page). Only after the planned time: for a sight before it, work it by the formulas "
+                               "page (the rate is the ten minutes after). Plot every line from the DR above "
                                "and move it for the ship's run. Hs to preset: Hc with dip, refraction, SD, "
                                "parallax and index error taken back off. ● the recommended set.", "small"))
             stamp = str(p.utc.astype("datetime64[m]")).replace(":", "").replace("T", "-")
             blocks.append(_twilight_table(twilight, f"sights-{stamp}"))
+        if "Evening twilight" not in held:
+            blocks.append(_no_round("evening", events, noon))
         zone_noon = noon.utc - np.timedelta64(int(noon.zone_h * 60), "m")
         blocks.append(Text(f"Noon: the Sun on the meridian at {hm(zone_noon)} zone time ({zone_text(noon.zone_h)}), "
                            f"{hm(noon.utc)} UTC", "subheading"))
         blocks.append(Text(f"DR then {dm(noon.lat_deg, 'lat')} {dm(noon.lon_deg, 'lon')}; Sun's Dec "
                            f"{dm(noon.dec_deg, 'dec')}; Hc {dm(noon.hc_deg, 'signed')}, bearing {noon.bearing}; Hs to "
                            f"preset (lower limb) {dm(noon.hs_deg, 'signed')}. Start a few minutes early, follow it up "
-                           "and take the highest reading; latitude = Dec ± (90° − Ho) (the noon page).", "body"))
+                           "and take the highest reading; latitude = Dec ± (90° − Ho) (The noon Sun page).", "body"))
         pages.append(Page(f"Sights for {label}", tuple(blocks)))
     return pages
+
+
+def _no_round(when: str, events: dict, noon) -> Text:
+    """Why a day's page has no morning (or evening) round: the twilight that does not happen at the DR."""
+    day = int(np.flatnonzero(events["date"] == noon.date)[0])
+    side = "dawn" if when == "morning" else "dusk"
+    nautical, civil = events[f"nautical_{side}"][day], events[f"civil_{side}"][day]
+    rise = events["sunrise" if when == "morning" else "sunset"][day]
+    if np.isnat(rise) and noon.hc_deg > 0:
+        why = "the Sun does not set at the DR"
+    elif np.isnat(civil) and not np.isnat(rise):
+        why = "the Sun does not go 6° below the horizon at the DR (no civil twilight)"
+    elif np.isnat(nautical) and not np.isnat(civil):
+        why = ("the Sun does not go 12° below the horizon at the DR (no nautical twilight): near the darkest of the "
+               "night the horizon and the brightest stars may both be seen; plan such sights with navred plan "
+               "--utc before sailing, or work them by the formulas page")
+    elif np.isnat(civil) and not np.isnat(nautical):
+        why = ("the Sun does not come up to 6° below the horizon at the DR (no civil twilight): the horizon is lit "
+               "only dimly, near noon")
+    elif np.isnat(civil):
+        why = "the Sun stays more than 12° below the horizon at the DR all day (no twilight)"
+    else:
+        why = "no navigational body stands between the planned altitudes then"
+    return Text(f"No {when} twilight round: {why}.", "subheading")
 
 
 def _noon_page(noons, hourly) -> Page:
@@ -432,7 +572,7 @@ def _noon_page(noons, hourly) -> Page:
                   tuple(rows), name="noon-sun",
                   csv_columns=("date", "zone_time", "zone_description", "utc", "dr_lat", "dr_lon", "sun_dec", "hc",
                                "hs_preset_lower_limb", "bearing"),
-                  widths=(1.1, 0.7, 0.4, 0.6, 1.1, 1.2, 1.1, 0.95, 0.95, 0.45), font_size=7.4)
+                  widths=(1.1, 0.7, 0.65, 0.6, 1.1, 1.2, 1.1, 0.95, 0.95, 0.45), font_size=7.4)
     return Page("The noon Sun: local apparent noon along the DR", (
         Text("The time of the Sun's meridian passage at the DR then (it moves with the ship: about 4 minutes "
              "of time for each degree of longitude made good). Latitude from the noon altitude: with the Sun to "
@@ -505,7 +645,6 @@ def _worked_sight(twilights, hourly, stars, eye_height_m, index_error_arcmin) ->
     """A star of the first twilight, taken four minutes after the planned time with the preset reading, worked
     from the printed tables: the lines a navigator writes."""
     from ..corrections import dip_angle_arcmin, refraction_angle_arcmin
-    from ..handtables import hourly_value_at
 
     for twilight in twilights:
         p = twilight.presets
@@ -529,13 +668,15 @@ def _worked_sight(twilights, hourly, stars, eye_height_m, index_error_arcmin) ->
     row = int(offset // NS_PER_HOUR)
     f = (offset - row * NS_PER_HOUR) / NS_PER_HOUR
     aries = hourly.gha_deg[hourly.column("Aries")]
-    gha_aries = float(hourly_value_at(hourly, "Aries", np.array([when]))[0])
+    # GHA Aries as the navigator works it: the printed hour, f to four places times the printed hour's change
+    step = round(float(wrap_360(aries[row + 1] - aries[row])) * 600.0) / 600.0
+    gha_aries = round(float(wrap_360(aries[row] + round(f, 4) * step)) * 600.0) / 600.0
     dip = round(float(dip_angle_arcmin(eye_height_m)), 1)
     ha = hs + (-index_error_arcmin - dip) / ARCMIN_PER_DEG
     refraction = round(float(refraction_angle_arcmin(ha)), 1)
     ho = ha - refraction / ARCMIN_PER_DEG
     gha = float(wrap_360(gha_aries + sha))
-    lat, lon = p.lat_deg, p.lon_deg
+    lat, lon = round(p.lat_deg * 600.0) / 600.0, round(p.lon_deg * 600.0) / 600.0  # the DR as printed, to 0.1′
     lha = float(wrap_360(gha + lon))
     phi, delta, t = math.radians(lat), math.radians(dec), math.radians(lha)
     sin_hc = math.sin(phi) * math.sin(delta) + math.cos(phi) * math.cos(delta) * math.cos(t)
@@ -545,52 +686,90 @@ def _worked_sight(twilights, hourly, stars, eye_height_m, index_error_arcmin) ->
     zn = z if lha > 180.0 else 360.0 - z
     intercept = (ho - hc) * ARCMIN_PER_DEG
     stamp = str(when.astype("datetime64[s]")).replace("T", " ")
-    step = float(wrap_360(aries[row + 1] - aries[row]))
+    # the sight page's check, worked from its printed (rounded) Hc and rate as a navigator would
+    page_hc, page_rate = round(float(p.hc_deg[i]) * 600.0) / 600.0, round(float(p.hc_rate_arcmin_per_min[i]), 2)
     return [
-        f"{star}, {stamp} UTC, Hs {dm(hs, 'signed')}, index error {signed(index_error_arcmin)}′, eye "
+        f"{star}, {stamp} UTC, Hs {dm(hs, 'signed')}, index error {abs(index_error_arcmin):.1f}′"
+        f"{' on the arc' if index_error_arcmin > 0 else ' off the arc' if index_error_arcmin < 0 else ''}, eye "
         f"{eye_height_m:g} m, DR {dm(lat, 'lat')} {dm(lon, 'lon')}",
         f"IC {signed(-index_error_arcmin)}′  dip −{dip:.1f}′  Ha {dm(ha, 'signed')}  R −{refraction:.1f}′ (10 °C, "
         f"1010 hPa)  Ho {dm(ho, 'signed')}",
         f"f = {f:.4f}; GHA ♈ {dm(aries[row])} + {f:.4f} × {dm(step)} = {dm(gha_aries)}",
         f"SHA {dm(sha)}  GHA {dm(gha)}  longitude {dm(lon, 'lon')}  LHA {dm(lha)}  Dec {dm(dec, 'dec')}",
         f"sin Hc = sin({lat:.4f}) sin({dec:.4f}) + cos({lat:.4f}) cos({dec:.4f}) cos({lha:.4f}) = {sin_hc:.5f}",
-        f"Hc {dm(hc, 'signed')};  cos Z = {cos_z:.5f}, Z {z:.1f}°, Zn {zn:05.1f}°",
+        f"Hc {dm(hc, 'signed')};  cos Z = {signed(cos_z, 5)}, Z {z:.1f}°, Zn {zn:05.1f}°",
         f"intercept {abs(intercept):.1f} nm {'toward' if intercept >= 0 else 'away'}  (check by the sight page: Hc "
-        f"{dm(float(p.hc_deg[i]), 'signed')} + {late_s / 60:.2f} min × {signed(p.hc_rate_arcmin_per_min[i], 2)}′ = "
-        f"{dm(float(p.hc_deg[i]) + late_s / 60 * float(p.hc_rate_arcmin_per_min[i]) / ARCMIN_PER_DEG, 'signed')})",
+        f"{dm(page_hc, 'signed')} + {late_s / 60:.2f} min × {signed(page_rate, 2)}′ = "
+        f"{dm(page_hc + round(round(late_s / 60, 2) * page_rate, 1) / ARCMIN_PER_DEG, 'signed')})",
     ]
 
 
 # --- Blank forms -----------------------------------------------------------------------------------
 
-WORKING_LINES = (
-    "Body, limb", "Date, zone time", "ZD, watch error", "UTC (h m s)", "f = (m + s/60)/60", "Hs", "IC (− index error)",
-    "dip (−)", "Ha", "refraction × factor (−)", "SD (LL +, UL −)", "parallax (Moon, planets)", "phase (Venus, Mars)",
-    "Ho", "GHA at the hour (♈ for a star)", "f × (next hour − this)", "SHA (star)", "GHA", "longitude (E +, W −)",
-    "LHA", "Dec at the hour", "f × (next − this)", "Dec (N +, S −)", "latitude (N +, S −)", "sin Hc", "Hc",
-    "cos Z", "Zn", "intercept Ho − Hc (T +, A −)")
+#: How this paper gives a line of the sight book, where an almanac and tables would give it otherwise: each a
+#: sentence of the note above a blank form, said when one of its lines is on the form (and, where given, only on
+#: those pages).
+WITH_THIS_PAPER = (
+    (("gha_hour_worked", "dec_hour_worked"), "GHA and Dec at the whole hour: the hourly page", ()),
+    (("sha_worked",), "a star's GHA at the whole hour is Aries's; its SHA and Dec: the stars page", ()),
+    (("polaris_corr_worked",), "GHA Aries at the whole hour: the hourly page", ()),
+    (("increment_worked", "d_corr_worked"), "the increment and the d correction: f × (next hour − this hour), f = "
+                                            "(minutes + seconds/60) / 60", ()),
+    (("v_corr_worked",), "the v correction: 0 (the increment is the whole change)", ()),
+    (("dip_worked", "refraction_worked"), "dip and refraction (× the air's factor): the corrections pages", ()),
+    (("sd_worked",), "SD: the Sun's by date (Altitude corrections: the Moon, the Sun and the planets)", ("Sun", "Noon")),
+    (("sd_worked",), "SD: 0.2725 × HP (HP from the hourly page) and its growth with altitude (Altitude corrections: the Moon, the Sun and the planets)",
+     ("Moon",)),
+    (("parallax_worked",), "parallax: 0.15′ × cos Ha", ("Sun", "Noon")),
+    (("parallax_worked",), "parallax: the table by h and HP (Altitude corrections: the Moon, the Sun and the planets)", ("Moon",)),
+    (("parallax_worked",), "parallax: Venus and Mars HP × cos Ha, HP by date (Altitude corrections: the Moon, the Sun and the planets); Jupiter and "
+                           "Saturn none", ("Planets",)),
+    (("additional_worked",), "the phase of Venus and Mars: by date, with its rule (Altitude corrections: the Moon, the Sun and the planets)", ()),
+    (("main_worked", "hp_corr_worked", "upper_limb_worked"), "the main (first) correction, the HP correction and "
+                                                             "the upper limb's −30′ are an almanac's tables: leave "
+                                                             "them blank and write the parts", ()),
+    (("tab_hc_worked",), "work from the DR by calculator (the formulas page): the DR is the position, LHA = GHA + "
+                         "longitude; leave the tables' lines blank", ()),
+    (("polaris_corr_worked",), "the Polaris correction: first term + second term of the Polaris page (no 1° to "
+                               "take off)", ()),
+    (("reduction_worked",), "ex-meridian: the reduction = a × t², t the minutes of time from meridian passage, a "
+                            "= 1.9635″ cos L cos d / sin(L ∼ d)", ()),
+    (("zenith_distance_worked",), "latitude = Dec ± (90° − Ho) as The noon Sun page says", ()),
+    (("amplitude_worked",), "amplitude: sin A = sin Dec / cos latitude, the bearing taken with the Sun's centre "
+                            "on the celestial horizon (its lower limb about half a diameter above the sea "
+                            "horizon); azimuth: Zn by the formulas page; compass error = true − compass bearing "
+                            "(compass least, error east); deviation = compass error − variation", ()),
+)
+
+
+def _form_note(title: str) -> str:
+    """The note above a blank form: whose lines these are, and how this paper gives the ones an almanac would."""
+    from ..io.markingbook import block_lines
+    from ..io.sightbook import PAGES
+
+    keys = {line.key for line in block_lines(PAGES[title])}
+    said = [words for wanted, words, pages in WITH_THIS_PAPER if keys & set(wanted) and (not pages or title in pages)]
+    return (f"The lines of the sight book's {title} page (navred mark --template), three workings side by side, so "
+            "that a working can be typed into the sight book and marked. With this paper: " + "; ".join(said) + ".")
 
 
 def _blank_forms(track, first, days) -> list[Page]:
     from ..figures.paperforms import blank_plotting_sheet, plotting_bands
+    from ..io.markingpages import blank_form_page
+    from ..io.sightbook import PAGES
 
-    working = Table(("Line",) + tuple(f"sight {k}" for k in range(1, 5)),
-                    tuple((line, "", "", "", "") for line in WORKING_LINES), widths=(1.6, 1, 1, 1, 1), font_size=7.4,
-                    row_height=19.5)
-    pages = [Page("Hand working: four sights", (
-        Text("Work down each column; the hourly pages give GHA and Dec, the corrections pages the rest. Keep the "
-             "working: it is the record of the sight.", "small"), working))]
+    pages = [blank_form_page(title, _form_note(title)) for title in PAGES]
     hours = np.arange(0, days * 24 + 1, 6)
     start = first.astype("datetime64[ns]")
     lats, _ = track.position(start + hours * np.timedelta64(NS_PER_HOUR, "ns"))
     for band in plotting_bands(lats)[:6]:
         pages.append(Page("", (Drawing(blank_plotting_sheet(band)),)))
-    log = Table(("Date", "Zone time", "Log nm", "Course °T", "Speed kn", "Run nm", "DR lat", "DR lon", "Set, drift",
-                 "Remarks, sights"), tuple(("",) * 10 for _ in range(20)),
-                widths=(0.8, 0.7, 0.65, 0.7, 0.65, 0.6, 1.1, 1.2, 0.8, 2.0), font_size=7.4, row_height=19.5)
+    log = Table(("Date", "Zone time", "ZD", "Log nm", "Course °T", "Speed kn", "Run nm", "DR lat", "DR lon",
+                 "Set, drift", "Remarks, sights"), tuple(("",) * 11 for _ in range(20)),
+                widths=(0.8, 0.7, 0.4, 0.65, 0.7, 0.65, 0.6, 1.1, 1.2, 0.8, 2.0), font_size=7.4, row_height=19.5)
     pages.append(Page("DR log", (Text("Each alteration, each fix and each change of speed on a line; the run "
                                       "= speed × time.", "small"), log), landscape=True))
     return pages
 
 
-__all__ = ["PassagePaper", "passage_paper", "WORKING_LINES"]
+__all__ = ["PassagePaper", "passage_paper", "WITH_THIS_PAPER"]

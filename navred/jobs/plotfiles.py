@@ -4,6 +4,8 @@ byte for byte whoever draws it."""
 
 from __future__ import annotations
 
+from collections.abc import Callable
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
@@ -53,13 +55,52 @@ def plot_file_stems(names) -> list[str]:
     return stems
 
 
+#: a run that will write more picture files than this says first how many and about how long, and shows its
+#: progress (the command line)
+ANNOUNCE_FILES_FROM = 300
+#: about how long one plotting sheet takes to draw and write on one core, seconds a format (measured by
+#: benchmarks/bench_workbook.py on the shared two-core machine, docs/speed.md)
+SECONDS_PER_SHEET = {"png": 0.065, "svg": 0.0035}
+
+
+@dataclass(frozen=True)
+class PlotPlan:
+    """What :func:`write_plots` will write: its files, the plotting sheets among them, the voyage pictures,
+    the processes that draw them, and about how long it takes (seconds)."""
+
+    files: int
+    sheets: int
+    track_pictures: int
+    formats: tuple[str, ...]
+    drawers: int
+    seconds: float
+
+    @property
+    def announced(self) -> bool:
+        """Whether the run is long enough to say so first (:data:`ANNOUNCE_FILES_FROM` files)."""
+        return self.files > ANNOUNCE_FILES_FROM
+
+
+def plot_plan(voyage, formats: tuple[str, ...] = ("png", "svg"), *, groups=None,
+              workers: int | None = None) -> PlotPlan:
+    """What :func:`write_plots` with these arguments will write, and about how long it will take."""
+    sheets = sum(g.fix is not None for g in (voyage.groups if groups is None else groups))
+    tracks = len(voyage.days_work().tracks) if groups is None and not voyage.days_work().empty else 0
+    drawers = drawers_for(sheets, workers)
+    per_sheet = sum(SECONDS_PER_SHEET.get(f, SECONDS_PER_SHEET["png"]) for f in formats)
+    seconds = per_sheet * sheets / max(drawers, 1) + per_sheet * 20 * tracks  # (a voyage picture is larger)
+    return PlotPlan((sheets + tracks) * len(formats), sheets, tracks, tuple(formats), drawers, seconds)
+
+
 def write_plots(voyage, folder: str | Path, formats: tuple[str, ...] = ("png", "svg"), *,
-                groups=None, workers: int | None = None) -> list[Path]:
+                groups=None, workers: int | None = None,
+                progress: Callable[[int, int], None] | None = None) -> list[Path]:
     """Every fix's plotting sheet (or those of ``groups``) as PNG and SVG files in ``folder``.
 
     Hundreds of sheets are drawn by ``workers`` processes at once (default: one per core this process
     may use, for :data:`PARALLEL_FROM` sheets or more, where the system can fork); each file is the
-    same byte for byte whoever draws it."""
+    same byte for byte whoever draws it. ``progress(done, total)`` is told of the plotting sheets written
+    as they are (:func:`plot_plan` says beforehand how many files and about how long)."""
     from ..figures.plotting import canvas_bytes
 
     out = Path(folder)
@@ -82,8 +123,15 @@ def write_plots(voyage, folder: str | Path, formats: tuple[str, ...] = ("png", "
     batches = [(start, min(start + PLOTS_PER_WRITE, len(chosen))) for start in range(0, len(chosen), PLOTS_PER_WRITE)]
     _sight_columns(voyage)  # worked out once, before any drawer starts
     context = {"voyage": voyage, "chosen": chosen, "stems": stems, "formats": tuple(formats)}
-    for files in forked_map(_draw_batch, batches, context=context, workers=drawers_for(len(chosen), workers)):
+    done = 0
+    if progress is not None:
+        progress(0, len(chosen))
+    for (start, end), files in zip(batches, forked_map(_draw_batch, batches, context=context,
+                                                       workers=drawers_for(len(chosen), workers))):
         written += atomic_write_many(out, files, inputs=voyage.inputs)
+        done += end - start
+        if progress is not None:
+            progress(done, len(chosen))
     return written
 
 

@@ -16,9 +16,12 @@ import numpy as np
 import pandas as pd
 
 from ..angles import format_angle, wrap_180, wrap_360
+from ..constants import NS_PER_HOUR
 from ..errors import NavredError
 from ..io.cautions import ROUTE_CAUTION
 from ..io.exports import GpxPoint, GpxRoute, line_feature, point_feature, write_geojson, write_gpx
+from ..io.waypoints import MAX_WAYPOINTS
+from ..reckoning import DRTrack
 from ..sailings import (
     composite_great_circle,
     great_circle_destination,
@@ -26,9 +29,6 @@ from ..sailings import (
     great_circle_vertex,
     rhumb_inverse,
 )
-
-#: The most waypoints a route is given (the spacing is refused when it would make more).
-MAX_WAYPOINTS = 2000
 
 WAYPOINT_COLUMNS = ["waypoint", "lat", "lon", "lat_deg", "lon_deg", "from_start_nm", "part",
                     "rhumb_course_to_next_deg", "rhumb_distance_to_next_nm"]
@@ -157,6 +157,67 @@ def _waypoints(lat1, lon1, lat2, lon2, course1, gc_nm, spacing, composite) -> pd
         "rhumb_distance_to_next_nm": np.append(legs, np.nan)})[WAYPOINT_COLUMNS]
 
 
+@dataclass(frozen=True)
+class RouteDR:
+    """The DR of a ship sailing a route's waypoints in turn at one speed: the rhumb line of each leg (as a great
+    circle's waypoints are sailed), her time of arrival at each waypoint, and the DR track.
+
+    She lies at the first waypoint from ``since`` until she leaves it (``eta[0]``), and at the last from her
+    arrival on; the track is restarted at every waypoint, so that she is at each one at its time."""
+
+    lat_deg: np.ndarray
+    lon_deg: np.ndarray
+    names: tuple[str, ...]
+    speed_kn: float
+    eta: np.ndarray  # datetime64[ns] UTC: leaving the first waypoint, then arriving at each of the others
+    course_deg: np.ndarray  # the rhumb line of each leg (one fewer than the waypoints)
+    distance_nm: np.ndarray
+    track: DRTrack
+
+    @property
+    def total_nm(self) -> float:
+        return float(self.distance_nm.sum())
+
+
+def route_dr(lat_deg, lon_deg, depart_utc: object, speed_kn: float, *, since: object | None = None,
+             names: tuple[str, ...] = ()) -> RouteDR:
+    """The DR along waypoints (degrees, in the order sailed) leaving the first at ``depart_utc`` (datetime64 or
+    ISO 8601 with a zone) at ``speed_kn`` through the water, on the rhumb line of each leg on the WGS 84
+    ellipsoid; lying at the first waypoint from ``since`` (default: the departure) and at the last after her
+    arrival."""
+    from ..reckoning import dr_track
+    from ..timescales import utc_datetime64
+
+    lat = np.atleast_1d(np.asarray(lat_deg, dtype=float))
+    lon = np.atleast_1d(np.asarray(lon_deg, dtype=float))
+    if lat.size < 2 or lat.shape != lon.shape:
+        raise NavredError(f"a route needs two waypoints or more, each with its latitude and longitude; given {lat.size}")
+    if not (np.isfinite(speed_kn) and speed_kn > 0):
+        raise NavredError(f"a route is sailed at a speed: {speed_kn!r} kn given; give the speed through the water "
+                          "(more than 0)")
+    depart = np.datetime64(utc_datetime64(depart_utc), "ns")
+    start = depart if since is None else min(depart, np.datetime64(utc_datetime64(since), "ns"))
+    distance, course = rhumb_inverse(lat[:-1], lon[:-1], lat[1:], lon[1:])
+    distance, course = np.atleast_1d(distance), np.atleast_1d(course)
+    hours = np.concatenate([[0.0], np.cumsum(distance / speed_kn)])
+    eta = depart + np.round(hours * NS_PER_HOUR).astype(np.int64).astype("timedelta64[ns]")
+    eta_ns = eta.astype(np.int64)
+    # a change at each waypoint (the next leg's course; at the last, stopped); every waypoint a known position,
+    # and the first from ``since`` on, before she leaves it (before any change the ship lies stopped)
+    track = dr_track(eta_ns, np.append(course, 0.0), np.append(np.full(course.size, float(speed_kn)), 0.0),
+                     np.concatenate([[start.astype(np.int64)], eta_ns]) if start < depart else eta_ns,
+                     np.concatenate([[lat[0]], lat]) if start < depart else lat,
+                     np.concatenate([[lon[0]], lon]) if start < depart else lon,
+                     known_label=(((f"{_name(names, 0)}, before she leaves it",) if start < depart else ())
+                                  + tuple(f"waypoint {_name(names, k)}" for k in range(lat.size))))
+    return RouteDR(lat, lon, tuple(_name(names, k) for k in range(lat.size)), float(speed_kn), eta, course, distance,
+                   track)
+
+
+def _name(names: tuple[str, ...], k: int) -> str:
+    return names[k] if k < len(names) and names[k] else f"WP{k:03d}"
+
+
 def route_gpx(route: Route, path: str | Path) -> Path:
     """The route as a GPX 1.1 route (rte) of its waypoints."""
     kind = "composite great circle" if route.composite and route.composite["kind"] == "composite" else "great circle"
@@ -183,4 +244,4 @@ def route_geojson(route: Route, path: str | Path) -> Path:
     return write_geojson(path, features)
 
 
-__all__ = ["Route", "plan_route", "route_gpx", "route_geojson", "WAYPOINT_COLUMNS", "MAX_WAYPOINTS"]
+__all__ = ["Route", "RouteDR", "route_dr", "plan_route", "route_gpx", "route_geojson", "WAYPOINT_COLUMNS", "MAX_WAYPOINTS"]

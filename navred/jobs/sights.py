@@ -18,7 +18,16 @@ from ..angles import wrap_360
 from ..constants import LARGE_INTERCEPT_NM, SUN_BRIGHT_SKY_DEG, SUN_DARK_HORIZON_DEG
 from ..corrections import correct_altitudes, planet_phases
 from ..errors import api_boundary
-from ..io.logbook import SIGHT_COLUMNS, LogSource, SightLog, read_sight_log
+from ..io.logbook import (
+    SIGHT_COLUMNS,
+    LogSource,
+    SightLog,
+    frame_blocks,
+    read_frame_block,
+    read_sight_log,
+    whole_log_columns,
+)
+from ..io.logcells import chosen_texts, texts_of
 from ..landmarks import bearing_body, line_sigma_nm, range_body
 from ..status import SightStatus
 from ..timescales import UT1_BEFORE, UT1_BEYOND, instants_from_utc_jd
@@ -47,18 +56,30 @@ class _Notes:
     """Per-row error and warning messages, and the column each error belongs to."""
 
     def __init__(self, n: int):
-        self.error = np.full(n, "", dtype=object)
-        self.warning = np.full(n, "", dtype=object)
-        self.column = np.full(n, "", dtype=object)
+        self.error = texts_of(n, "")
+        self.warning = texts_of(n, "")
+        self.column = texts_of(n, "")
 
     @staticmethod
     def _add(target, rows, text, separator="; "):
+        """``text`` (one, or one per row) joined to each row's notes; each distinct joined text is made once and
+        shared by its rows (a long log would otherwise hold a copy of its commonest warning per row)."""
         rows = np.asarray(rows)
         rows = np.flatnonzero(rows) if rows.dtype == bool else rows.astype(int)
-        if rows.size:
-            current = target[rows]
-            text = np.asarray(text, dtype=object) if not isinstance(text, str) else text
-            target[rows] = np.where(current == "", text, current + separator + text)
+        if not rows.size:
+            return
+        current = target[rows]
+        texts = texts_of(rows.size, text) if isinstance(text, str) else np.asarray(text, dtype=object)
+        empty = current == ""
+        target[rows[empty]] = texts[empty]
+        if empty.all():
+            return
+        first, firsts = pd.factorize(current[~empty])
+        second, seconds = pd.factorize(texts[~empty])
+        pairs, distinct = pd.factorize(first.astype(np.int64) * max(len(seconds), 1) + second)
+        joined = np.array([f"{firsts[k // max(len(seconds), 1)]}{separator}{seconds[k % max(len(seconds), 1)]}"
+                           for k in distinct.tolist()], dtype=object)
+        target[rows[~empty]] = joined[pairs]
 
     def fail(self, rows, text, column):
         self._add(self.error, rows, text)
@@ -81,7 +102,7 @@ def parsed_sights(sights: SightLog | LogSource) -> pd.DataFrame:
     """The parsed table of every row: from a :class:`SightLog`, a parsed table, or a raw table read now."""
     if isinstance(sights, SightLog):
         return sights.table
-    if isinstance(sights, pd.DataFrame) and {"sight_utc", "utc_jd1", "hs_deg", "read_problem"} <= set(sights.columns):
+    if isinstance(sights, pd.DataFrame) and _is_parsed(sights):
         return sights
     return read_sight_log(sights).table
 
@@ -96,11 +117,58 @@ def reduce_sights(sights: SightLog | LogSource) -> pd.DataFrame:
     come back with status ``error`` and its reasons. The added columns are
     :data:`RESULT_COLUMNS`.
     """
+    if isinstance(sights, pd.DataFrame) and not _is_parsed(sights):
+        spans = frame_blocks(sights, FRAME_BLOCK_ROWS)
+        if spans is not None:
+            return _reduce_frame_in_blocks(sights, spans)
     table = parsed_sights(sights).reset_index(drop=True)
     added = pd.concat([_reduce_block(table.iloc[i:i + BLOCK_ROWS].reset_index(drop=True))
                        for i in range(0, max(len(table), 1), BLOCK_ROWS)], ignore_index=True)
     carried = table.drop(columns=[c for c in RESULT_COLUMNS if c in table.columns])
     return pd.concat([carried, added], axis=1)
+
+
+#: rows of a long DataFrame log read and reduced at a time (:func:`navred.io.logbook.frame_blocks`)
+FRAME_BLOCK_ROWS = 50_000
+
+
+def _is_parsed(frame: pd.DataFrame) -> bool:
+    return {"sight_utc", "utc_jd1", "hs_deg", "read_problem"} <= set(frame.columns)
+
+
+def _reduce_frame_in_blocks(frame: pd.DataFrame, spans: list[tuple[int, int]]) -> pd.DataFrame:
+    """A long DataFrame log read and reduced a block of rows at a time (the blocks shared among forked
+    processes, one per core), each block's columns written into the whole table's (made once, after the first
+    block): the table one reading of the whole frame gives (tested), in a fraction of the memory."""
+    from .forking import cores, forked_map
+
+    n = len(frame)
+    columns: dict[str, np.ndarray] = {}
+    zones: dict[str, object] = {}
+    for (start, stop), block in zip(spans, forked_map(_reduced_frame_block, spans, context=frame, workers=cores())):
+        for name in block.columns:
+            values = block[name]
+            if isinstance(values.dtype, pd.DatetimeTZDtype):
+                zones[name] = values.dtype.tz
+                values = values.dt.tz_convert(None)
+            values = values.to_numpy()
+            if name not in columns:
+                columns[name] = np.empty(n, dtype=values.dtype if values.dtype.kind in "fiubMO" else object)
+            elif values.dtype != columns[name].dtype:  # (a column whose type a block changes: widened)
+                wider = np.result_type(columns[name].dtype, values.dtype) if values.dtype.kind in "fiu" and \
+                    columns[name].dtype.kind in "fiu" else np.dtype(object)
+                columns[name] = columns[name].astype(wider)
+            columns[name][start:stop] = values
+        del block
+    for name, zone in zones.items():
+        columns[name] = pd.Series(columns[name]).dt.tz_localize(zone)
+    whole_log_columns(columns)
+    return pd.DataFrame(columns, copy=False)
+
+
+def _reduced_frame_block(frame: pd.DataFrame, span: tuple[int, int]) -> pd.DataFrame:
+    """Rows ``span`` of a long DataFrame log read and reduced (in this process or a forked one)."""
+    return reduce_sights(read_frame_block(frame, *span))
 
 
 def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
@@ -130,7 +198,7 @@ def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
 
     result = {c: np.full(n, np.nan) for c in RESULT_COLUMNS}
     for c in ("ut1_source", "intercept_direction", "status", "message", "error_column"):
-        result[c] = np.full(n, "", dtype=object)
+        result[c] = texts_of(n, "")
     mark = (frame["mark"].fillna("").astype(str).to_numpy(dtype=object) != "") if "mark" in frame.columns \
         else np.zeros(n, dtype=bool)
     if mark.any():
@@ -189,8 +257,8 @@ def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
     result["ho_deg"] = np.where(bad, np.nan, result["ho_deg"])
     result["intercept_nm"] = np.where(bad, np.nan, intercept_nm(result["ho_deg"], result["hc_deg"]))
     result["intercept_direction"] = intercept_direction(result["intercept_nm"])
-    result["status"] = np.where(bad, SightStatus.ERROR.value, np.where(notes.warning != "", SightStatus.WARNING.value,
-                                                                    SightStatus.OK.value)).astype(object)
+    result["status"] = chosen_texts(np.where(bad, 2, np.where(notes.warning != "", 1, 0)),
+                                    [SightStatus.OK.value, SightStatus.WARNING.value, SightStatus.ERROR.value])
     result["message"] = np.where(bad, notes.error, notes.warning).astype(object)
     result["error_column"] = notes.column
     return pd.DataFrame({column: result.pop(column) for column in RESULT_COLUMNS})
@@ -244,20 +312,33 @@ def _twilight_check(notes: _Notes, rows: np.ndarray, bodies: np.ndarray, horizon
     planet = np.isin(bodies[chosen], ["Venus", "Mars", "Jupiter", "Saturn"])
     bright = altitude > SUN_BRIGHT_SKY_DEG
     dark = altitude < SUN_DARK_HORIZON_DEG
-    for k in np.flatnonzero(bright | dark).tolist():
-        where = (f"the Sun is {altitude[k]:.0f}° up at the DR" if altitude[k] >= 0
-                 else f"the Sun is {-altitude[k]:.0f}° below the horizon at the DR")
-        if bright[k]:
-            text = (f"{where}: a {'planet' if planet[k] else 'star'} on the sea horizon is taken in twilight, with "
-                    f"the Sun {-SUN_BRIGHT_SKY_DEG:.0f}° to {-SUN_DARK_HORIZON_DEG:.0f}° below the horizon"
-                    + (" (Venus and Jupiter can be seen in daylight through the telescope, if you knew where to "
-                       "look)" if planet[k] else " (no star is seen against a brighter sky)")
-                    + ": check the body, the time (zone, date) and the DR")
-        else:
-            text = (f"{where}: past the end of nautical twilight (the Sun {-SUN_DARK_HORIZON_DEG:.0f}° below) the sea "
-                    "horizon cannot be made out, so a sea-horizon sight is doubtful: check the time (zone, date) and "
-                    "the horizon (an artificial or bubble horizon needs no sea)")
-        notes.warn([chosen[k]], text)
+    if not (bright | dark).any():
+        return
+    # each warned row's text made from its whole degrees (the few distinct texts each made once)
+    degrees = np.rint(altitude).astype(int)
+    kinds = np.where(bright, np.where(planet, 1, 2), 0)
+    keys = pd.Series(degrees * 8 + (altitude >= 0) * 4 + kinds)  # (what each text depends on)
+    warned = np.flatnonzero(bright | dark)
+    codes, distinct = pd.factorize(keys.iloc[warned])
+    first = warned[np.unique(codes, return_index=True)[1]]
+    texts = np.array([_twilight_text(float(altitude[k]), bool(bright[k]), bool(planet[k])) for k in first.tolist()],
+                     dtype=object)
+    notes.warn(chosen[warned], texts[codes])
+
+
+def _twilight_text(altitude: float, bright: bool, planet: bool) -> str:
+    """The warning of a star or planet sight with the Sun at ``altitude`` (degrees) at the DR."""
+    where = (f"the Sun is {altitude:.0f}° up at the DR" if altitude >= 0
+             else f"the Sun is {-altitude:.0f}° below the horizon at the DR")
+    if bright:
+        return (f"{where}: a {'planet' if planet else 'star'} on the sea horizon is taken in twilight, with "
+                f"the Sun {-SUN_BRIGHT_SKY_DEG:.0f}° to {-SUN_DARK_HORIZON_DEG:.0f}° below the horizon"
+                + (" (Venus and Jupiter can be seen in daylight through the telescope, if you knew where to "
+                   "look)" if planet else " (no star is seen against a brighter sky)")
+                + ": check the body, the time (zone, date) and the DR")
+    return (f"{where}: past the end of nautical twilight (the Sun {-SUN_DARK_HORIZON_DEG:.0f}° below) the sea "
+            "horizon cannot be made out, so a sea-horizon sight is doubtful: check the time (zone, date) and "
+            "the horizon (an artificial or bubble horizon needs no sea)")
 
 
 __all__ = ["reduce_sights", "parsed_sights", "RESULT_COLUMNS", "SIGHT_COLUMNS"]

@@ -21,8 +21,9 @@ import pandas as pd
 
 from ..angles import format_angle
 from ..errors import api_boundary
-from ..io.markingbook import write_marking_workbook, write_template
-from ..io.markingpages import marking_document, write_marking_pdf
+from ..io.markingbook import write_marking_workbook
+from ..io.markingbook import write_template as write_template_workbook
+from ..io.markingpages import marking_document, write_blank_sight_book, write_marking_pdf
 from ..io.markingwords import (
     NOTICE_WORKING,
     RIGHT_WORKING,
@@ -397,6 +398,16 @@ def marking_csv(report: MarkingReport) -> pd.DataFrame:
     """The CSV form: one row per working with its verdict, its first wrong line (empty when every line is
     right), the cause, what should have been noticed and the remarks."""
     return report.rows.copy()
+
+
+def write_template(path) -> object:
+    """The empty sight book: a workbook to fill in (.xlsx, :func:`navred.io.markingbook.write_template`) or its
+    pages printed blank for a pencil (.pdf, :func:`navred.io.markingpages.write_blank_sight_book`)."""
+    from pathlib import Path
+
+    if Path(path).suffix.lower() == ".pdf":
+        return write_blank_sight_book(path)
+    return write_template_workbook(path)
 
 
 __all__ = ["MarkingReport", "mark_workings", "marking_csv", "describe", "value_text", "difference_text", "cost_text",

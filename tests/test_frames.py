@@ -1,0 +1,120 @@
+"""The DataFrame fronts of the core (navred.jobs.frames): the fix of many groups at once against one group at a
+time, field by field."""
+
+from __future__ import annotations
+
+import dataclasses
+import warnings
+
+import numpy as np
+import pandas as pd
+import pytest
+
+import navred
+from navred.errors import NavredError
+from navred.jobs.frames import GroupedFixes, fix_position, fix_positions
+from navred.sailings import move_position
+from navred.triangle import computed_altitude_azimuth
+
+
+def same(a, b, path="fix"):
+    """Two results equal in every field (NaN equal to NaN), naming the first that differs."""
+    if dataclasses.is_dataclass(a):
+        assert type(a) is type(b), path
+        for f in dataclasses.fields(a):
+            same(getattr(a, f.name), getattr(b, f.name), f"{path}.{f.name}")
+    elif isinstance(a, np.ndarray) or isinstance(b, np.ndarray):
+        a, b = np.asarray(a), np.asarray(b)
+        assert a.shape == b.shape and a.dtype == b.dtype, path
+        assert np.array_equal(a, b, equal_nan=a.dtype.kind in "fc"), path
+    elif isinstance(a, float) and isinstance(b, float) and np.isnan(a) and np.isnan(b):
+        return
+    else:
+        assert a == b, path
+
+
+def groups_table(groups: int = 60, per_group: int = 4, seed: int = 11) -> pd.DataFrame:
+    """Invented exact sights (Ho computed at a random true position, the DR 10-30 nm off), a 6′ blunder in
+    some, a group of one sight and a group of parallel lines among them: the fixes' every kind and problem."""
+    rng = np.random.default_rng(seed)
+    lat, lon = rng.uniform(-60, 60, groups), rng.uniform(-180, 180, groups)
+    gha = np.mod(rng.uniform(-70, 70, (groups, per_group)) - lon[:, None], 360.0)
+    dec = np.clip(lat[:, None] + rng.uniform(-60, 60, (groups, per_group)), -60, 60)
+    gha[1] = gha[1, 0]  # one group's bodies on one hour circle at one declination: parallel lines
+    dec[1] = dec[1, 0]
+    ho, _ = computed_altitude_azimuth(lat[:, None], lon[:, None], gha, dec)
+    ho = ho + np.where(rng.uniform(size=ho.shape) < 0.08, 0.1, 0.0) + rng.normal(0, 0.3 / 60, ho.shape)
+    dr_lat, dr_lon = move_position(lat, lon, rng.uniform(-20, 20, groups), rng.uniform(-20, 20, groups))
+    start = pd.Timestamp("2025-06-01T20:00Z")
+    table = pd.DataFrame({
+        "gha_deg": gha.ravel(), "dec_deg": dec.ravel(), "ho_deg": ho.ravel(), "status": "ok",
+        "sight_utc": start + pd.to_timedelta(np.tile(np.arange(per_group), groups) * 240
+                                             + np.repeat(np.arange(groups), per_group) * 7200, unit="s"),
+        "dr_lat_deg": np.repeat(dr_lat, per_group), "dr_lon_deg": np.repeat(dr_lon, per_group),
+        "course_deg": 90.0, "speed_kn": 10.0,
+        "fix_group": np.repeat([f"g{k}" for k in range(groups)], per_group),
+        "row": np.arange(groups * per_group) + 2})
+    table.loc[table.index[8:11], "status"] = "error"  # group g2 keeps one sight
+    return table
+
+
+def test_every_group_fixed_at_once_is_what_it_is_alone():
+    table = groups_table()
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", navred.NavredWarning)
+        fixes = fix_positions(table)
+        assert isinstance(fixes, GroupedFixes) and len(fixes) == 60 and list(fixes)[:3] == ["g0", "g1", "g2"]
+        assert fixes.get("g2") is None and "two or more" in fixes.problems["g2"]
+        with pytest.raises(NavredError, match="g2"):
+            fixes["g2"]
+        assert sum(f.without_outliers is not None or f.all_sights is not None for f in fixes.results.values()) > 0
+        for name in fixes:
+            if name in fixes.problems:
+                with pytest.raises(NavredError):
+                    fix_position(table, group=name)
+                continue
+            same(fixes[name], fix_position(table, group=name), name)
+
+
+def test_a_fix_time_and_a_chart_position_per_group_and_the_groups_chosen():
+    table = groups_table(groups=6)
+    when = {"g3": "2025-06-01T23:00Z"}
+    chart = {"g4": (10.0, -20.0)}
+    fixes = fix_positions(table, at_utc=when, chart=chart, groups=["g4", "g3"])
+    assert list(fixes) == ["g4", "g3"]
+    same(fixes["g3"], fix_position(table, group="g3", at_utc="2025-06-01T23:00Z"))
+    same(fixes["g4"], fix_position(table, group="g4", chart_lat=10.0, chart_lon=-20.0))
+    frame = fixes.table()
+    assert list(frame.fix_group) == ["g4", "g3"] and frame.lat_deg.notna().all()
+    with pytest.raises(NavredError, match="no fix group 'g9'"):
+        fix_positions(table, groups=["g9"])
+
+
+def test_the_demo_logs_groups_at_once_as_one_at_a_time():
+    reduced = navred.reduce_sights(navred.read_sight_log("sample_sights/demo_sights.csv"))
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", navred.NavredWarning)
+        fixes = fix_positions(reduced)
+        assert len(fixes.results) >= 2
+        for name in fixes.results:
+            same(fixes[name], fix_position(reduced, group=name), name)
+
+
+def test_the_table_of_many_fixes_has_the_columns_and_positions_of_fix_csv():
+    # one vocabulary: the API's table of fixes is laid out as `navred fix --csv` (it named n_sights and problem)
+    import io
+
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+
+    reduced = navred.reduce_sights(navred.read_sight_log("sample_sights/demo_sights.csv"))
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", navred.NavredWarning)
+        table = fix_positions(reduced).table()
+    printed = pd.read_csv(io.StringIO(CliRunner().invoke(app, ["fix", "sample_sights/demo_sights.csv", "--csv"]).stdout))
+    assert list(table.columns) == list(printed.columns)
+    assert table.fix_group.tolist() == printed.fix_group.tolist() and table.sights.tolist() == printed.sights.tolist()
+    np.testing.assert_allclose(table.lat_deg, printed.lat_deg, atol=1e-6)
+    np.testing.assert_allclose(table.lon_deg, printed.lon_deg, atol=1e-6)
+    assert table.utc.dt.tz is not None

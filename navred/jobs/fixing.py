@@ -21,7 +21,8 @@ from .frames import fix_table_row, row_labels
 from .latitudechecks import MERIDIAN_LHA_DEG, latitude_checks
 from .voyage import GroupFix, VoyageResult, fix_groups, process_log
 
-#: The columns of the fixes table (:func:`fixes_table`), one row per fix group, decimal degrees: the vessel, then
+#: The columns of the fixes table (:func:`fixes_table`), one row per fix group, decimal degrees: the vessel (when the
+#: log holds two or more), then
 #: a fix group's row (:data:`navred.jobs.frames.FIX_COLUMNS`).
 FIX_COLUMNS = ("vessel", *GROUP_FIX_COLUMNS)
 
@@ -34,6 +35,8 @@ def fixes_table(voyage: VoyageResult, groups: tuple[GroupFix, ...] | None = None
                                                                      group.problem)}
             for group in (voyage.groups if groups is None else groups)]
     frame = pd.DataFrame(rows)
+    if len(voyage.vessels) <= 1 and "vessel" in frame.columns:
+        frame = frame.drop(columns="vessel")  # one ship: the API's table of fixes, column for column
     return frame[[c for c in FIX_COLUMNS if c in frame.columns]] if len(frame) else frame
 
 

@@ -100,7 +100,8 @@ def test_the_dr_and_the_noons_follow_the_navigators_fixes_only(training, marked_
         lat, lon = passage.position_at(track, pd.Timestamp(row["utc"]).tz_localize("UTC").round("min"))
         truth_off = GEOD.Inverse(lat, lon, row["lat_deg"], row["lon_deg"])["s12"] / NM
         assert row["off_nm"] == pytest.approx(truth_off, abs=0.1), row
-    assert exercises["ship_from"].str.startswith("DR from the fix Dunlin").all()
+    # each against the navigator's own fix of that round, carried on the minutes between along her DR
+    assert exercises["ship_from"].str.match(r"the ship's fix Dunlin \d\d carried on [123] min along her DR").all()
     assert days.estimated.empty
 
 
@@ -163,3 +164,78 @@ def test_a_group_mixing_the_navigator_and_a_cadet_is_split_by_observer():
         mixed.to_csv(path, index=False)
         text = CliRunner().invoke(app, ["days", str(path), "--navigator", "2/O Hale"]).stdout
     assert "Cadet Pike: 6 fixes, 3 estimated positions" in text
+
+
+@pytest.fixture(scope="module")
+def training_day(ts, eph):
+    """A training day sailed in the test's own code (make_passage.sail: RK4 on the WGS 84 ellipsoid): 6 kn on 250°
+    from 38° N 010° W, a current of 1.2 kn setting 060° that the log does not enter; the navigator's star fix at
+    the morning twilight, then at the Sun's meridian passage over the ship (skyfield) the navigator's Sun and the
+    cadets' a minute later, and the cadets' own star fixes at the morning twilight. Every sight from skyfield at the
+    true position; the navigator's without error, each cadet's with his personal error (′) alone."""
+    from tests.conftest import skyfield_sight
+
+    start = pd.Timestamp("2026-04-14T04:00:00Z")
+    until = start + pd.Timedelta(hours=12)
+    track = passage.sail(start, 38.0, -10.0, [(start, 250.0, 6.0)], lambda t: (60.0, 1.2), until)
+    rounds = dict((kind, when) for when, kind in reversed(passage.sky_rounds(ts, eph, track, start, until)))
+    cadets = {"Cadet Ansel": 3.0, "Cadet Birch": -2.0}
+    rows = [{"utc": start.strftime("%Y-%m-%dT%H:%M:%SZ"), "entry": "departure", "dr_lat": 38.0, "dr_lon": -10.0,
+             "course": 250.0, "speed": 6.0}]
+
+    def sight(body, at, observer, error, group, limb=""):
+        lat, lon = passage.position_at(track, at)
+        hs = skyfield_sight(ts, eph, body, at, lat, lon, limb=limb, eye_height_m=3.0)["hs"] + error / 60.0
+        rows.append({"utc": at.strftime("%Y-%m-%dT%H:%M:%SZ"), "body": body, "limb": limb, "hs": hs,
+                     "eye_height_m": 3.0, "observer": observer, "fix_group": group,
+                     "role": "ship" if observer.startswith("2/O") else "exercise"})
+
+    dawn = rounds["stars"]
+    t_lat, t_lon = passage.position_at(track, dawn)
+    stars = [s["body"] for s in passage.star_round(ts, eph, dawn, t_lat, t_lon)]
+    for k, (observer, error) in enumerate([("2/O Hale", 0.0), *cadets.items()]):
+        for star in stars:
+            sight(star, dawn + pd.Timedelta(minutes=k), observer, error, f"dawn {observer.split()[-1]}")
+    noon = rounds["noon"]
+    sight("Sun", noon, "2/O Hale", 0.0, "noon Hale", "lower")
+    for k, (observer, error) in enumerate(cadets.items()):
+        sight("Sun", noon + pd.Timedelta(minutes=k + 1), observer, error, f"noon {observer.split()[-1]}", "lower")
+    return pd.DataFrame(rows), track, cadets, noon
+
+
+def test_a_cadets_noon_is_marked_against_the_ships_own_noon_latitude_not_her_dr(training_day):
+    """Trial finding: a cadet's noon Sun line was marked against the ship's DR run 7 h from her morning fix with
+    no current allowed (4.6 nm out), not against the navigator's own meridian altitude at that time. Each cadet's
+    noon position now stands off the ship's by his personal error (1′ of altitude: 1 nm along the Sun's bearing,
+    here the meridian; # common practice) to 0.25 nm, against the navigator's estimated position of that noon carried
+    the minute along her DR, and the output says so; the DR at that time is over 5 nm from the truth (the current
+    the log leaves out), so marking against it would have been wrong by as much."""
+    log, track, cadets, noon = training_day
+    days = process_log(log, plan=False).days_work()
+    table = days.exercises
+    noons = table[table["fix_group"].str.startswith("noon")]
+    assert set(noons["observer"]) == set(cadets) and (noons["kind"] == "estimated position").all()
+    for row in noons.to_dict("records"):
+        assert row["ship_from"].startswith("the ship's estimated position noon Hale (one Sun line"), row
+        assert row["ship_from"].endswith(" carried on 1 min along her DR") or "2 min" in row["ship_from"], row
+        # to 0.25 nm: each line's foot lies on the perpendicular from a DR ~5 nm out (the current left out), and
+        # the Sun's bearing turns about 1° in the minutes between the lines (0.1 nm along them)
+        assert row["off_nm"] == pytest.approx(abs(cadets[row["observer"]]), abs=0.25), row
+        # high (a positive personal error) puts the cadet toward the Sun: south of the ship, in the northern spring
+        assert (90.0 < row["bearing_deg"] < 270.0) == (cadets[row["observer"]] > 0), row
+    # the ship's DR at noon, carried from her morning fix without the current, is far out: the old reference
+    dr_lat, dr_lon, _ = days.tracks[""].positions(np.array([noon.value]))
+    t_lat, t_lon = passage.position_at(track, noon)
+    assert GEOD.Inverse(t_lat, t_lon, float(dr_lat[0]), float(dr_lon[0]))["s12"] / NM > 5.0
+    # the dawn fixes against the navigator's own fix of that round
+    dawn = table[table["fix_group"].str.startswith("dawn")]
+    assert len(dawn) == 2 and dawn["ship_from"].str.startswith("the ship's fix dawn Hale carried on").all()
+
+
+def test_the_days_text_says_what_the_exercises_are_marked_against(training_day, tmp_path):
+    log, _, _, _ = training_day
+    log.to_csv(tmp_path / "day.csv", index=False)
+    result = CliRunner().invoke(app, ["days", str(tmp_path / "day.csv")])
+    assert result.exit_code == 0, result.output
+    assert ("each marked against the ship's best position at its time: her own fixes (2), her single-line "
+            "estimated positions (2)") in result.stdout

@@ -601,6 +601,18 @@ def _exercise_lines(days, vessel) -> list[str]:
                          f"(at most {np.nanmax(off):.1f})")
         else:
             lines.append(f"  {observer or '(no observer)'}: {counted}; no ship's DR to compare with")
+    kinds = {"the ship's fix": "her own fixes", "the ship's noon": "her noon positions",
+             "the ship's estimated position": "her single-line estimated positions", "DR from": "her DR (no position "
+             "of her own within the hour)"}
+    against = {}
+    for source in table["ship_from"].astype(str):
+        key = next((words for start, words in kinds.items() if source.startswith(start)), "")
+        if key:
+            against[key] = against.get(key, 0) + 1
+    if against:
+        lines.append("  each marked against the ship's best position at its time: "
+                     + ", ".join(f"{words} ({n})" for words, n in against.items())
+                     + " (the Day's work's Exercises table names each)")
     return lines
 
 

@@ -14,7 +14,8 @@ enters and, with ``carry_current``, the set and drift found at the last fix, res
   (:mod:`navred.jobs.noons`): a ship's fix within the hour, or the forenoon Sun line run up to the latitude at
   noon, or an estimated position within the hour, each carried to noon along the DR through every change
   between; else the DR. The noon report beside it.
-- **Exercises**: each exercise fix or line compared with the ship's position at its time.
+- **Exercises**: each exercise fix or line compared with the ship's best position at its time: her own fix, noon
+  or estimated position nearest in time within the hour, carried along her DR; else her DR (``ship_from`` says which).
 """
 
 from __future__ import annotations
@@ -108,7 +109,8 @@ def days_work(voyage, *, carry_current: bool = False) -> DaysWork:
                     pd.DataFrame(estimated, columns=ESTIMATED_COLUMNS),
                     pd.DataFrame(noon_rows_all, columns=NOON_COLUMNS),
                     pd.DataFrame(point_rows, columns=["vessel", "utc", "lat_deg", "lon_deg", "leg", "kind"]),
-                    tracks, carry_current, pd.DataFrame(exercises(voyage, ships, tracks), columns=EXERCISE_COLUMNS),
+                    tracks, carry_current, pd.DataFrame(exercises(voyage, ships, tracks, estimated, noon_rows_all),
+                                                        columns=EXERCISE_COLUMNS),
                     entry_work(voyage), ship_latitudes(voyage, ships), tuple(dict.fromkeys(notes)), clocks,
                     {f"fix {g.name}": float(g.fix.confidence_scale) for g in voyage.groups
                      if g.fix is not None and g.fix.is_fix})

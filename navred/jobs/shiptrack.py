@@ -10,7 +10,7 @@ import numpy as np
 import pandas as pd
 
 from ..angles import format_angle
-from ..constants import NS_PER_HOUR, NS_PER_SECOND
+from ..constants import NS_PER_HOUR, NS_PER_MINUTE, NS_PER_SECOND
 from ..fixstats import DR_ERROR_FRACTION, DR_ERROR_KN
 from ..reckoning import DRTrack, dr_track, estimated_position, set_and_drift
 from ..status import SightStatus
@@ -21,6 +21,9 @@ from .shipsfixes import EXERCISE, ShipsSights, combined_rounds, ships_sights, we
 
 #: A fix or an estimated position this close to noon (either side) gives the noon position.
 NOON_WINDOW_HOURS = 1.0
+#: an exercise is marked against a position of the ship's own (fix, noon, estimated position) within this many
+#: hours of it, carried along her DR; beyond, against her DR (the DR's own error grows with the hours run)
+EXERCISE_REFERENCE_HOURS = 1.0
 #: The DR track is drawn and exported with a point at least this often (hours), and at every knot.
 TRACK_STEP_HOURS = 1.0
 #: Set and drift are found only over a run at least this long between two of the ship's fixes: over less, a fix's
@@ -381,9 +384,30 @@ def estimated_positions(voyage, ships: ShipsSights, *, exercises: bool = False) 
     return out
 
 
-def exercises(voyage, ships: ShipsSights, tracks: dict[str, DRTrack]) -> list[dict]:
-    """Each exercise fix (and estimated position) against the ship's position at its time: her fix at that
-    instant, else her DR carried from her last known position."""
+def _ship_references(vessel: str, track: DRTrack, estimated: list[dict], noons: list[dict]):
+    """The ship's own positions an exercise can be marked against: her fixes, her noon positions found by a fix
+    or a Sun line (not those that are only her DR), her estimated positions; each (instant ns, lat, lon, words,
+    rank), the rank breaking a tie in time (a fix first)."""
+    refs = [(int(t), float(a), float(b), f"the ship's {label}", 0)
+            for t, a, b, label in zip(track.known_ns.tolist(), track.known_lat.tolist(), track.known_lon.tolist(),
+                                      track.known_label) if is_fix_label(label)]
+    refs += [(pd.Timestamp(n["noon_utc"]).value, float(n["lat_deg"]), float(n["lon_deg"]),
+              f"the ship's noon ({n['noon_from'].split(';')[0]})", 1)
+             for n in noons if n.get("vessel", "") == vessel and np.isfinite(n.get("lat_deg", np.nan))
+             and not str(n["noon_from"]).startswith("DR")]
+    refs += [(pd.Timestamp(e["utc"]).value, float(e["lat_deg"]), float(e["lon_deg"]),
+              f"the ship's estimated position {e['fix_group']} ({e['from']})", 2)
+             for e in estimated if e.get("vessel", "") == vessel]
+    return refs
+
+
+def exercises(voyage, ships: ShipsSights, tracks: dict[str, DRTrack], estimated: list[dict] | None = None,
+              noons: list[dict] | None = None) -> list[dict]:
+    """Each exercise fix (and estimated position) against the ship's best position at its time: the nearest in
+    time, within EXERCISE_REFERENCE_HOURS, of her own fixes, noon positions (by a fix or a Sun line) and estimated
+    positions (``estimated``, ``noons``: the ship's, as the day's work found them), carried to the exercise's
+    instant along her DR (through every change of course, speed and current); with none within the hour, her DR
+    from her last known position. ``ship_from`` says which."""
     if not any(r == EXERCISE for r in ships.role.values()):
         return []
     rows = []
@@ -391,6 +415,8 @@ def exercises(voyage, ships: ShipsSights, tracks: dict[str, DRTrack]) -> list[di
              for g in voyage.groups if g.fix is not None and g.fix.is_fix and not ships.is_ship(g.name)]
     lines = [(e["fix_group"], pd.Timestamp(e["utc"]).value, e["lat_deg"], e["lon_deg"], "estimated position")
              for e in estimated_positions(voyage, ships, exercises=True)]
+    references = {v: _ship_references(v, track, estimated or [], noons or []) for v, track in tracks.items()}
+    window = int(EXERCISE_REFERENCE_HOURS * NS_PER_HOUR)
     for name, t, lat, lon, kind in sorted(fixes + lines, key=lambda x: x[1]):
         vessel = ships.vessel.get(name, "")
         track = tracks.get(vessel)
@@ -398,14 +424,27 @@ def exercises(voyage, ships: ShipsSights, tracks: dict[str, DRTrack]) -> list[di
                "kind": kind, "position": position_text(lat, lon), "lat_deg": float(lat), "lon_deg": float(lon),
                "ship_position": "", "ship_from": "no DR kept", "off_nm": np.nan, "bearing_deg": np.nan}
         if track is not None:
-            s_lat, s_lon, origin = track.positions(np.array([t]))
-            if origin[0] >= 0 and np.isfinite(s_lat[0]):
-                distance, bearing = distance_bearing(s_lat[0], s_lon[0], lat, lon)
+            near = [r for r in references[vessel] if abs(r[0] - int(t)) <= window]
+            if near:
+                when, r_lat, r_lon, words, _ = min(near, key=lambda r: (abs(r[0] - int(t)), r[4]))
+                s_lat, s_lon = track.carried(r_lat, r_lon, when, int(t))
+                minutes = (int(t) - when) / NS_PER_MINUTE
+                carried = (" at the same time" if abs(minutes) < 0.5 else
+                           f" carried {'on' if minutes > 0 else 'back'} {abs(minutes):.0f} min along her DR")
+                s_lat, s_lon, source = float(s_lat), float(s_lon), words + carried
+            else:
+                d_lat, d_lon, origin = track.positions(np.array([t]))
+                if origin[0] < 0 or not np.isfinite(d_lat[0]):
+                    rows.append(row)
+                    continue
                 label = track.known_label[track.known_index(int(origin[0]))]
                 at_known = int(track.knot_ns[int(origin[0])]) == int(t)
-                row.update({"ship_position": position_text(s_lat[0], s_lon[0]),
-                            "ship_from": label if at_known else f"DR from the {label}",
-                            "off_nm": float(distance), "bearing_deg": float(bearing)})
+                s_lat, s_lon = float(d_lat[0]), float(d_lon[0])
+                source = label if at_known else (f"DR from the {label} (no position of the ship's own within "
+                                                 f"{EXERCISE_REFERENCE_HOURS:g} h)")
+            distance, bearing = distance_bearing(s_lat, s_lon, lat, lon)
+            row.update({"ship_position": position_text(s_lat, s_lon), "ship_from": source,
+                        "off_nm": float(distance), "bearing_deg": float(bearing)})
         rows.append(row)
     return rows
 

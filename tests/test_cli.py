@@ -139,7 +139,7 @@ def test_workbook_exit_codes(tmp_path):
                      "2026-03-26T19:41:00Z,Sirius,30 02.4,2.8,43 14 N,13 04 W\n"
                      "2026-03-26T19:42:00Z,Sirus,30 02.4,2.8,43 14 N,13 04 W\n")
     result = runner.invoke(app, ["workbook", str(mixed), "-o", str(tmp_path / "a.xlsx")])
-    assert result.exit_code == 0 and "1 sights reduced, 0 fixes, 1 rejected" in result.output
+    assert result.exit_code == 0 and "1 sight reduced, 0 fixes, 1 rejected" in result.output
     strict = runner.invoke(app, ["workbook", str(mixed), "-o", str(tmp_path / "b.xlsx"), "--strict"])
     assert strict.exit_code == 1
     hopeless = tmp_path / "hopeless.csv"

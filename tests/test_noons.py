@@ -166,7 +166,9 @@ def test_noon_positions_none_always_says_why(tmp_path):
                    "2026-05-10,19:58:04,+2 O,Spica,25° 54.4′,1.2 off,18,46° 35.0′ N,027° 48.0′ W,075,12\n")
     result = CliRunner().invoke(app, ["days", str(log)])
     assert result.exit_code == 0, result.output
-    assert "Noon positions: none: the DR starts at 2026-05-10 21:58:04 UTC (19:58 by the ship's clocks)" in result.stdout
+    # the DR starts at the first row's own DR (the navigator's, written on the row)
+    assert ("Noon positions: none: the DR runs from 2026-05-10 21:55:04 to 2026-05-10 21:58:04 UTC (2026-05-10 "
+            "19:55:04 to 2026-05-10 19:58:04 by the ship's clocks)") in result.stdout
     assert "no noon by her clocks falls within it" in result.stdout
     assert "no day's work" not in result.output
 
@@ -277,3 +279,31 @@ def test_the_distance_to_go_steers_for_the_waypoint_ahead_and_says_when_off_the_
     # the ETA by the ship's clocks is a time, and what it rests on a column of its own (trial finding)
     assert str(pd.Timestamp(last.eta_ship_time))[:16] == last.eta_ship_time
     assert last.eta_basis.startswith("ZD +1, at the day's average speed")
+
+
+def test_the_demo_log_gives_a_noon_from_its_forenoon_sun_and_meridian_altitude():
+    """Trial finding: the demo sight log, every row carrying the navigator's DR and a meridian altitude at 12:56,
+    gave "Noon positions: none: the DR runs from 15:40 UTC". With no departure entry, the DR starts at the first
+    ship's row's own DR (written on the row, 09:10); the 09:10 Sun line and the 12:56 meridian altitude, though in
+    the Sun-run-Sun fix group (whose running fix is at 15:40), give the noon (13:00 UTC by ZD +1) by the run-up.
+    Reference: the demo's true track (scripts/make_demo_sights.py, a rhumb line at 215° 6.5 kn; its sights from
+    skyfield, sample_sights/demo_truth.csv), the noon's distance from it by geographiclib: within 0.5 nm, where
+    the logged DR is 6 nm out. No set and drift is found from a logged DR (it measures that DR, not a current)."""
+    truth = pd.read_csv("sample_sights/demo_truth.csv")
+    result = CliRunner().invoke(app, ["days", "sample_sights/demo_sights.csv"])
+    assert result.exit_code == 0, result.output
+    assert "forenoon Sun line at 09:10 UTC run up to the latitude by meridian altitude (in the fix sun-run-sun) at " \
+           "12:56 UTC" in result.stdout
+    assert "Noon positions: none" not in result.stdout
+    days = process_log("sample_sights/demo_sights.csv", plan=False).days_work()
+    (noon,) = days.noons.to_dict("records")
+    assert noon["noon_utc"] == "2026-03-26 13:00:00"
+    # the truth at 13:00 along the true rhumb line, from the 12:56:03 truth (the script's own track)
+    at = truth[truth["utc"] == "2026-03-26T12:56:03Z"].iloc[0]
+    line = GEOD.InverseLine(at["true_lat_deg"], at["true_lon_deg"],
+                            *truth[truth["utc"] == "2026-03-26T15:40:00Z"][["true_lat_deg", "true_lon_deg"]].iloc[0])
+    move = 6.5 * (3 * 60 + 57) / 3600.0 * 1852.0
+    where = line.Position(move)
+    assert GEOD.Inverse(where["lat2"], where["lon2"], noon["lat_deg"], noon["lon_deg"])["s12"] / 1852.0 < 0.5
+    assert days.tracks["Moth Orchid (invented)"].known_label[0] == "DR as logged at row 2"
+    assert "sun-run-sun" not in set(days.set_drift["fix_group"])

@@ -514,7 +514,7 @@ def _noon_lines(days, vessel) -> list[str]:
     noons = days.noons[days.noons.vessel == vessel]
     if not len(noons):
         return []
-    lines = [f"\n{vessel or 'the vessel'}: noon positions and the day's run"]
+    lines = [f"\n{vessel or 'the ship'}: noon positions and the day's run"]
     for r in noons.to_dict("records"):
         lines.append(f"  {r['date']} noon ({r['zone']}, {r['noon_utc'][11:16]} UTC) {r['noon_position'] or 'no position'}"
                      f"  from {r['noon_from']}")
@@ -567,7 +567,7 @@ def noon_reports_text(days) -> str:
 
 def _set_drift_lines(days, vessel) -> list[str]:
     sets = days.set_drift[days.set_drift.vessel == vessel]
-    lines = [f"{vessel or 'the vessel'}: set and drift at each of the ship's fixes (95 %)"] if len(sets) else []
+    lines = [f"{vessel or 'the ship'}: set and drift at each of the ship's fixes (95 %)"] if len(sets) else []
     for r in sets.to_dict("records"):
         head = f"  {r['fix_utc']} fix {r['fix_group']}"
         if r["drift_kn"] == r["drift_kn"]:
@@ -591,7 +591,7 @@ def _exercise_lines(days, vessel) -> list[str]:
     table = days.exercises[days.exercises.vessel == vessel] if len(days.exercises) else days.exercises
     if not len(table):
         return []
-    lines = [f"{vessel or 'the vessel'}: exercises against the ship's position"]
+    lines = [f"{vessel or 'the ship'}: exercises against the ship's position"]
     for observer, part in table.groupby("observer", sort=False):
         off = part["off_nm"].to_numpy(dtype=float)
         kinds = part["kind"].value_counts().to_dict()

@@ -239,7 +239,7 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
     lons = np.concatenate([points.lon_deg.to_numpy(float), estimated["lon_deg"].to_numpy(float), reach_lon])
     sheet = Canvas(SHEET_PT * 1.5, SHEET_PT, PAPER)
     box = (70.0, 58.0, SHEET_PT * 1.5 - 40.0, SHEET_PT - 84.0)
-    sheet.text(box[0] - 12, 24, title or f"Voyage track: {vessel or 'the vessel'}", 11, INK, bold=True)
+    sheet.text(box[0] - 12, 24, title or f"Voyage track: {vessel or 'the ship'}", 11, INK, bold=True)
     if lats.size == 0:
         sheet.text(box[0], 100, "No known position: nothing to draw (give the departure as an entry row).", 9, INK)
         return sheet

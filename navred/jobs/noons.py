@@ -88,6 +88,17 @@ def vessel_lines(voyage, vessel: str, ships: ShipsSights) -> list[dict]:
         body = str(bodies[usable[0]]) if len({str(b) for b in bodies[usable]}) == 1 else "mixed"
         base = {"group": group.name, "body": body, "observer": ships.observer.get(group.name, "")}
         fix = group.fix
+        if fix is not None and fix.is_fix:
+            # a fix's own Sun lines and latitudes (a Sun-run-Sun group's forenoon line and meridian altitude) may
+            # still give the noon by the run-up when the fix itself is hours from noon
+            for k in usable.tolist():
+                k = int(k)
+                check = by_row.get(k)
+                if str(bodies[k]) != "Sun" and check is None:
+                    continue
+                lines += _sight_lines(reduced, k, check, {**base, "body": str(bodies[k])}, int(when[k]),
+                                      f" (in the fix {group.name})")
+            continue
         if fix is not None and not fix.is_fix:
             toward = fix.line_toward_deg if fix.line_toward_deg is not None else (fix.line_bearing_deg or 0.0) + 90.0
             latitude = fix.kind == FixKind.LATITUDE
@@ -97,21 +108,24 @@ def vessel_lines(voyage, vessel: str, ships: ShipsSights) -> list[dict]:
                           "method": method if latitude else f"{body} line"})
         elif fix is None and usable.size == 1:
             k = int(usable[0])
-            r = reduced.iloc[k]
-            # the sight's own line of position (the intercept worked from the DR): exact, where the reductions to
-            # the meridian approximate it; a sight that gives a latitude by its method is a latitude line
-            lat, lon = estimated_position(r["dr_lat_deg"], r["dr_lon_deg"], r["intercept_nm"], r["zn_deg"])
-            check = by_row.get(k)
-            method = f"{body} line"
-            if check is not None:
-                method = {"meridian": "meridian altitude", "ex-meridian": "ex-meridian", "Polaris": "Polaris"}[
-                    check["method"]]
-                if check["method"] == "ex-meridian":
-                    method += (f" ({check['minutes_from_meridian']:.0f} min from the meridian, within its "
-                               f"{check['limit_minutes']:.0f} min)")
-            lines.append({**base, "utc_ns": int(when[k]), "foot_lat": float(lat), "foot_lon": float(lon),
-                          "zn": float(r["zn_deg"]), "latitude": check is not None, "method": method})
+            lines += _sight_lines(reduced, k, by_row.get(k), base, int(when[k]), "")
     return lines
+
+
+def _sight_lines(reduced, k: int, check, base: dict, utc_ns: int, where: str) -> list[dict]:
+    """One sight's own line of position (the intercept worked from the DR): exact, where the reductions to the
+    meridian approximate it; a sight that gives a latitude by its method is a latitude line."""
+    r = reduced.iloc[k]
+    lat, lon = estimated_position(r["dr_lat_deg"], r["dr_lon_deg"], r["intercept_nm"], r["zn_deg"])
+    method = f"{base['body']} line"
+    if check is not None:
+        method = {"meridian": "meridian altitude", "ex-meridian": "ex-meridian", "Polaris": "Polaris"}[
+            check["method"]]
+        if check["method"] == "ex-meridian":
+            method += (f" ({check['minutes_from_meridian']:.0f} min from the meridian, within its "
+                       f"{check['limit_minutes']:.0f} min)")
+    return [{**base, "utc_ns": utc_ns, "foot_lat": float(lat), "foot_lon": float(lon), "zn": float(r["zn_deg"]),
+             "latitude": check is not None, "method": method + where}]
 
 
 def _round_of(chosen: dict, candidates: list[dict], ships: ShipsSights, vessel: str) -> list[dict]:
@@ -318,7 +332,7 @@ def noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict], lines:
     # a noon within the hour after the log's last row is the day's work of that morning (its fix run up to noon)
     log_end, last = last, last + int(NOON_WINDOW_HOURS * NS_PER_HOUR)
     clocks, how = vessel_clocks(entries, track, first, last)
-    label = vessel or "the vessel"
+    label = vessel or "the ship"
     rejected = getattr(voyage, "rejected", None)
     if how.startswith("no clocks entry") and rejected is not None and len(rejected):
         refused = rejected[rejected["column"].astype(str).str.contains("clocks")]

@@ -106,7 +106,7 @@ def ships_sights(voyage, navigators=()) -> ShipsSights:
                 role[name] = SHIP
         ship = [g for g in groups if role[g] == SHIP]
         exercise = [g for g in groups if role[g] == EXERCISE]
-        label = vessel or "the vessel"
+        label = vessel or "the ship"
         if marked.size or named:
             keepers = sorted({observer_of[g] for g in ship if observer_of[g]})
             how = "the role column" if marked.size else "--navigator"

@@ -144,8 +144,41 @@ def _known_positions(voyage, vessel: str, ships: ShipsSights, fix_vessel: dict[s
         for t, g in zip(times.tolist(), fixes):
             known.append((int(t), g.fix.lat_deg, g.fix.lon_deg, f"fix {g.name}",
                           np.asarray(g.fix.covariance_nm2, dtype=float)))
+    if not any(k[3].startswith(("departure", "position")) for k in known):
+        start = _logged_dr_start(voyage, vessel, ships, min((k[0] for k in known), default=None))
+        if start is not None:
+            known.append(start)
     known.sort(key=lambda k: k[0])
     return known
+
+
+#: The label of a DR track's start taken from the DR a sight's row carries (a log with no departure entry).
+LOGGED_DR = "DR as logged"
+
+
+def _logged_dr_start(voyage, vessel: str, ships: ShipsSights, before: int | None):
+    """A log with no departure entry whose ship's sights carry the navigator's DR (written on the row, not carried
+    by the reader) starts her track there: the earliest such row before her first fix, (ns, lat, lon, label,
+    covariance). It is a DR, not a known position: no set and drift is found from it."""
+    reduced = voyage.reduced
+    if not len(reduced) or "dr_carried_from" not in reduced.columns:
+        return None
+    written = reduced["dr_carried_from"].fillna("").astype(str).to_numpy() == ""
+    lat = reduced["dr_lat_deg"].to_numpy(dtype=float)
+    lon = reduced["dr_lon_deg"].to_numpy(dtype=float)
+    vessel_ok = reduced["vessel"].fillna("").astype(str).to_numpy() == vessel
+    groups = reduced["fix_group"].fillna("").astype(str).to_numpy()
+    ship = np.array([ships.is_ship(g) for g in groups], dtype=bool)
+    when = utc64(reduced["sight_utc"]).astype(np.int64)
+    usable = written & np.isfinite(lat) & np.isfinite(lon) & vessel_ok & ship & (
+        reduced["status"].to_numpy() != SightStatus.ERROR)
+    if before is not None:
+        usable &= when < before
+    if not usable.any():
+        return None
+    k = int(np.flatnonzero(usable)[np.argmin(when[usable])])
+    return (int(when[k]), float(lat[k]), float(lon[k]), f"{LOGGED_DR} at row {reduced['row'].iat[k]}",
+            np.zeros((2, 2)))
 
 
 def vessel_tracks(voyage, *, carry_current: bool = False) -> dict[str, DRTrack]:
@@ -218,7 +251,10 @@ def _set_drift_at_known(water: DRTrack, k_ns, k_lat, k_lon, covs):
         return out_set, out_drift, None
     dr_lat, dr_lon, origin = water.positions(k_ns[1:], before_restart=True)
     hours = (k_ns[1:] - k_ns[:-1]) / NS_PER_HOUR
-    ok = (origin >= 0) & (hours > 0)
+    # a run from the DR written on a sight's row (no departure entry) measures that DR, not a current
+    from_dr = np.array([str(lab).startswith(LOGGED_DR) for lab in water.known_label[:-1]], dtype=bool) \
+        if len(water.known_label) == n else np.zeros(n - 1, dtype=bool)
+    ok = (origin >= 0) & (hours > 0) & ~from_dr
     result, verdict = None, (np.zeros(0, dtype=bool), [])
     if ok.any():
         run = water_run_nm(water, k_ns[:-1][ok], k_ns[1:][ok])

@@ -122,7 +122,8 @@ class VoyageResult:
 
     def summary(self) -> str:
         empty = f", {self.log.empty_rows} empty row{'s' if self.log.empty_rows > 1 else ''} skipped" if self.log.empty_rows else ""
-        return (f"{self.n_reduced} sights reduced, {self.n_fixes} fixes, "
+        return (f"{self.n_reduced} sight{'' if self.n_reduced == 1 else 's'} reduced, {self.n_fixes} "
+                f"fix{'' if self.n_fixes == 1 else 'es'}, "
                 f"{self.n_rejected_rows} rejected{empty}")
 
     @property

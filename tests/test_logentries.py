@@ -110,3 +110,35 @@ def test_a_log_that_runs_back_is_refused_by_its_row(tmp_path):
         "2026-07-01T12:00:00Z,,,,,,,,,,,,Sun,70,3"]))
     reasons = " | ".join(log.rejected[log.rejected.row == 3].reason)
     assert "a log does not run back" in reasons and "1234 nm at row 2" in reasons
+
+
+def test_a_log_of_entries_alone_gives_a_workbook_with_its_days_work(tmp_path):
+    """Trial finding: `navred workbook` refused a log of entry rows alone ("the log holds no sights, only a
+    header") where `navred days` kept its DR. The hand-worked example above with no sight: the workbook is written,
+    says it holds no sights, and its Day's work and Noon report sheets carry the DR and the noon that `navred days`
+    gives (one way in), the 10:00 DR as worked by hand (within 0.1 nm)."""
+    import openpyxl
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+
+    path = _log(tmp_path, [
+        "2026-07-01T08:00:00Z,departure,40 00.0 N,020 00.0 W,240,3 E,12 W,5,starboard,1234.0,,,,,",
+        "2026-07-01T10:00:00Z,log,,,,,,,,1252.6,,,,,",
+        "2026-07-01T14:00:00Z,log,,,,,,,,1289.8,,,,,"])
+    book = tmp_path / "dr.xlsx"
+    result = CliRunner().invoke(app, ["workbook", str(path), "-o", str(book)])
+    assert result.exit_code == 0, result.output
+    assert "no sights: the log holds 3 entry rows" in result.stdout
+    assert "the log holds no sights, only 3 entry rows" in result.stderr
+    days = CliRunner().invoke(app, ["days", str(path), "--csv"])
+    noon = pd.read_csv(__import__("io").StringIO(days.stdout)).iloc[0]
+    sheets = openpyxl.load_workbook(book)
+    cells = {n: [str(c) for row in sheets[n].iter_rows(values_only=True) for c in row if c is not None]
+             for n in ("Day's work", "Noon report", "About")}
+    assert noon["noon_position"] in cells["Noon report"] and noon["noon_position"] in cells["Day's work"]
+    assert any(c.startswith("compass 240.0° + deviation 3° E") for c in cells["Day's work"])
+    assert any("no sights: the log holds 3 entry rows" in c for c in cells["About"])
+    dr = process_log(path, plan=False).days_work().tracks[""].positions(
+        np.array([pd.Timestamp("2026-07-01T10:00:00Z").value]))
+    assert GEOD.Inverse(39 + 47.08 / 60, -(20 + 17.44 / 60), dr[0][0], dr[1][0])["s12"] / NM < 0.1

@@ -164,6 +164,9 @@ def workbook_command(
     carry_current: bool = typer.Option(False, "--carry-current", help="Carry the set and drift found at each fix on in the DR until the next fix."),
     rates: str | None = _rates(),
     dates: str | None = _dates(),
+    navigator: list[str] = _navigators(),
+    route: str | None = _route(),
+    card: str | None = _card(),
     gpx: str | None = typer.Option(None, "--gpx", hidden=True),
     geojson: str | None = typer.Option(None, "--geojson", hidden=True),
 ) -> None:
@@ -185,7 +188,7 @@ def workbook_command(
         formats = tuple(dict.fromkeys(f.strip().lower() for f in plot_formats.split(",") if f.strip()))
         if not formats or set(formats) - {"png", "svg"}:
             raise NavredError(f"--plot-formats {plot_formats!r}: give png, svg or png,svg")
-        inputs = input_files(sights_files, rates)
+        inputs = input_files(sights_files, rates, route, card)
         # every output refused now, before the work, not after it
         files = output_files(old_outputs(output, gpx=gpx, geojson=geojson), WORKBOOK_FILES, inputs,
                              alike={".json": ".geojson"})
@@ -195,33 +198,44 @@ def workbook_command(
             plots = files[".xlsx"].removesuffix(".xlsx") + "-plots"
         if plots:
             check_folder(plots, inputs, "--plots")
-        voyage = _processed(sights_files, files, dates, rates, solve_motion, carry_current, check_fits)
+        voyage = _processed(sights_files, files, dates, rates, solve_motion, carry_current, check_fits,
+                            navigators=tuple(navigator or ()), route=route, card=card)
         _write_voyage_files(voyage, files, Pictures(embed=pictures == "embed", folder=plots), plots, formats)
-        if voyage.n_reduced == 0:
+        if not len(voyage.reduced) and len(voyage.log.entries):
+            typer.echo(f"note: the log holds no sights, only {len(voyage.log.entries)} entry rows: the workbook holds "
+                       "the DR they keep (Day's work, Noon report), and no fix", err=True)
+        elif voyage.n_reduced == 0:
             raise NavredError(f"nothing could be reduced: the Rejected sheet of {files['.xlsx']} gives every row's reason")
         if strict and voyage.n_rejected_rows:
             typer.echo(f"--strict: {voyage.n_rejected_rows} row(s) rejected", err=True)
             raise typer.Exit(code=1)
 
 
-def _processed(sights_files, files, dates, rates, solve_motion, carry_current, check_fits):
+def _processed(sights_files, files, dates, rates, solve_motion, carry_current, check_fits, *, navigators=(),
+               route=None, card=None):
     """The workbook's voyage: the logs read (their rows checked against a sheet's bound before the work), every
-    sight reduced with a progress bar on stderr, every group fixed."""
+    sight reduced with a progress bar on stderr, every group fixed; ``navigators``, ``route``, ``card`` as
+    navred days takes them. A log of entry rows alone (a DR kept without sights) is a voyage too."""
+    from ..io.cards import deviation_curve
     from ..io.logbook import read_sight_log
     from ..io.output import check_output
+    from ..io.routefile import read_route
     from ..jobs.reducing import require_reduced
     from ..jobs.voyage import process_log
 
     rated = ratings(rates, dates)
-    log = read_sight_log(source(sights_files), dates=dates, rates=rated)
+    waypoints = read_route(route) if route else None
+    deviation = deviation_curve(card) if card else None
+    log = read_sight_log(source(sights_files), dates=dates, rates=rated, deviation=deviation)
     print_notes(rated, log)
     check_fits(len(log.table))
-    if not len(log.table):
+    if not len(log.table) and not len(log.entries):
         require_reduced(0, 0)
     for path in files.values():
         check_output(path, log.sources)  # a folder's logs, now that they are known
     progress = _StderrBar("reducing sights")
-    voyage = process_log(log, solve_motion=solve_motion, progress=progress, carry_current=carry_current, rates=rated)
+    voyage = process_log(log, solve_motion=solve_motion, progress=progress, carry_current=carry_current, rates=rated,
+                         navigators=navigators, route=waypoints, deviation=deviation)
     progress.close()
     return voyage
 

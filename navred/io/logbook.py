@@ -147,8 +147,10 @@ class SightLog:
     def summary(self) -> str:
         files = f" from {len(self.sources)} files" if len(self.sources) > 1 else ""
         empty = f", {self.empty_rows} empty row{'s' if self.empty_rows > 1 else ''} skipped" if self.empty_rows else ""
-        return (f"{len(self.table)} rows read{files}: {len(self.table) - self.n_rejected_rows} sights, "
-                f"{self.n_rejected_rows} rejected{empty}")
+        entries = len(self.entries)
+        kept = f"{entries} entry row{'' if entries == 1 else 's'} (the DR), " if entries else ""
+        return (f"{len(self.table) + entries} rows read{files}: {len(self.table) - self.n_rejected_rows} sights, "
+                f"{kept}{self.n_rejected_rows} rejected{empty}")
 
 @dataclass
 class _Layout:

@@ -122,6 +122,10 @@ class VoyageResult:
 
     def summary(self) -> str:
         empty = f", {self.log.empty_rows} empty row{'s' if self.log.empty_rows > 1 else ''} skipped" if self.log.empty_rows else ""
+        if not len(self.reduced) and len(self.log.entries):
+            return (f"no sights: the log holds {len(self.log.entries)} entry row"
+                    f"{'' if len(self.log.entries) == 1 else 's'} (the DR, the Day's work), "
+                    f"{self.n_rejected_rows} rejected{empty}")
         return (f"{self.n_reduced} sight{'' if self.n_reduced == 1 else 's'} reduced, {self.n_fixes} "
                 f"fix{'' if self.n_fixes == 1 else 'es'}, "
                 f"{self.n_rejected_rows} rejected{empty}")

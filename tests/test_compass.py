@@ -238,3 +238,44 @@ def test_one_compass_check_with_a_huge_deviation_says_so():
         result = CliRunner().invoke(app, base + ["--compass-bearing", f"{(true + 4.0 + off) % 360:.1f}"])
         assert result.exit_code == 0, result.output
         assert ("WARNING: a deviation over 10°" in result.stdout) == flagged, result.stdout
+
+
+def test_the_compass_books_card_is_read_by_days_card(tmp_path):
+    """Trial finding: the card `navred compass-book ... -o card.csv` wrote was refused by `navred days --card`
+    ("not a deviation card navred keeps"): the ship's own swing could not feed her DR. One format now: the book's CSV
+    holds the card's columns. Round trip: a compass course of 265° C entered without its deviation is made true by
+    the book's card: the deviation within 0.5° of the one planted at 265° (scripts/make_compass_book.py; the book's
+    readings are noisy); the gyro's rows give none; `navred compass --card` adds a check to the same file and keeps
+    the book's columns."""
+    import math
+    import re
+
+    card = tmp_path / "card.csv"
+    made = CliRunner().invoke(app, ["compass-book", BOOK, "-o", str(card)])
+    assert made.exit_code == 0, made.output
+    log = tmp_path / "dr.csv"
+    log.write_text("utc,entry,dr_lat,dr_lon,compass_course,variation,speed\n"
+                   "2026-07-01T00:00:00Z,departure,50 00.0 N,020 00.0 W,265,12 W,6\n"
+                   "2026-07-01T14:00:00Z,course,,,265,12 W,6\n")
+    days = CliRunner().invoke(app, ["days", str(log), "--card", str(card)])
+    assert days.exit_code == 0, days.output
+    from navred import read_sight_log
+    from navred.io.cards import deviation_curve
+
+    entries = read_sight_log(log, deviation=deviation_curve(card)).entries
+    working = entries.iloc[0]["course_working"]
+    found = re.search(r"deviation (\d+\.?\d*)° ([EW]) \(the card's\)", working)
+    assert found, working
+    value = float(found.group(1)) * (1 if found.group(2) == "E" else -1)
+    h = math.radians(265.0)
+    planted = (PLANTED["A"] + PLANTED["B"] * math.sin(h) + PLANTED["C"] * math.cos(h) + PLANTED["D"] * math.sin(2 * h)
+               + PLANTED["E"] * math.cos(2 * h))
+    assert abs(value - planted) <= 0.5, (value, planted)
+    assert entries.iloc[0]["course_deg"] == pytest.approx(265.0 + value - 12.0, abs=0.051)
+    # the same card takes a check of navred compass, the book's columns kept
+    added = CliRunner().invoke(app, ["compass", "Sun", "--utc", "2026-03-25T12:00:00Z", "--lat", "43 20 N", "--lon",
+                                     "008 25 W", "--compass-bearing", "170", "--heading", "90", "--variation", "4 W",
+                                     "--card", str(card)])
+    assert added.exit_code == 0, added.output
+    again = pd.read_csv(card)
+    assert len(again) == 17 and "remarks" in again.columns and "compass" in again.columns

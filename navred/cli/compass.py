@@ -122,7 +122,8 @@ def azimuths_command(
             typer.echo(f"wrote {write_pdf(result.document(), files['.pdf'])}", err=True)
 
 
-BOOK_FILES = {".pdf": "the book and the deviation card printed", ".csv": "every bearing worked out"}
+BOOK_FILES = {".pdf": "the book and the deviation card printed",
+              ".csv": "every bearing worked out: a deviation card that navred days --card and navred compass --card read"}
 
 
 @command("compass-book")

@@ -51,7 +51,9 @@ def read_deviation_card(path: str | Path) -> pd.DataFrame:
         index, (column, reason) = min(table.row_problems.items())
         raise CardError(f"{path} row {table.row_numbers[index]}: {reason}; mend the card or start a new one")
     cells = {h: c for h, c in zip(table.header, table.columns)}
-    card = pd.DataFrame({c: cells[c].to_numpy(dtype=object) for c in CARD_COLUMNS})
+    # the card's columns, then the file's others kept as text (the compass book's: its compass, altitude, remarks)
+    others = [h for h in dict.fromkeys(table.header) if h not in CARD_COLUMNS and h]
+    card = pd.DataFrame({c: cells[c].to_numpy(dtype=object) for c in CARD_COLUMNS + others})
     for column in NUMERIC_COLUMNS:
         text = card[column].map(lambda v: "" if v is None else str(v).strip())
         numbers = pd.to_numeric(text.where(text != "", None), errors="coerce").to_numpy(dtype=float)
@@ -74,6 +76,8 @@ def deviation_curve(path: str | Path):
         raise CardError(f"no deviation card {str(path)!r}: give the card navred compass --card keeps")
     card = read_deviation_card(path)
     checked = np.isfinite(card["compass_heading_deg"].to_numpy(float)) & np.isfinite(card["deviation_deg"].to_numpy(float))
+    if "compass" in card.columns:  # a compass book's card: its gyro rows are no deviation of the magnetic compass
+        checked &= card["compass"].fillna("").astype(str).str.strip().str.lower().to_numpy() != "gyro"
     if not checked.any():
         raise CardError(f"{path} holds no deviation on a compass heading: it cannot give the deviation of a course")
     return deviation_coefficients(card["compass_heading_deg"].to_numpy(float)[checked],
@@ -88,7 +92,7 @@ def add_check(path: str | Path, check: dict, *, inputs=()) -> pd.DataFrame:
     unknown = set(check) - set(CARD_COLUMNS)
     if unknown:
         raise CardError(f"a deviation-card check has no column {', '.join(sorted(unknown))}")
-    row = pd.DataFrame([{c: check.get(c) for c in CARD_COLUMNS}])
+    row = pd.DataFrame([{c: check.get(c) for c in card.columns}])
     card = pd.concat([card, row], ignore_index=True) if len(card) else row
     atomic_write(path, lambda p: csv_safe(card).to_csv(p, index=False), inputs=inputs)
     return card

@@ -187,12 +187,18 @@ class CompassBook:
     sources: tuple[str, ...]
 
     #: the columns of :meth:`table`, every bearing worked out (the --csv table)
-    TABLE_COLUMNS = ("row", "source", "utc", "body", "compass", "bearing_deg", "true_bearing_deg", "altitude_deg",
-                     "gyro_error_deg", "heading_deg", "variation_deg", "compass_error_deg", "deviation_deg", "remarks")
+    #: the book's table holds the deviation card's columns (:data:`navred.io.cards.CARD_COLUMNS`) under their names,
+    #: the book's own beside them: its CSV is a deviation card `navred days --card` and `navred compass --card` read
+    TABLE_COLUMNS = ("row", "source", "utc", "body", "compass", "lat_deg", "lon_deg", "compass_heading_deg",
+                     "compass_bearing_deg", "true_bearing_deg", "altitude_deg", "gyro_error_deg", "compass_error_deg",
+                     "variation_deg", "deviation_deg", "remarks")
 
     def table(self) -> pd.DataFrame:
-        """Every bearing worked out, one row each (the columns :attr:`TABLE_COLUMNS` the book has)."""
-        return self.observations[[c for c in self.TABLE_COLUMNS if c in self.observations]]
+        """Every bearing worked out, one row each (the columns :attr:`TABLE_COLUMNS` the book has): a deviation
+        card too (its gyro rows give no deviation, the card's curve is fitted to the magnetic rows alone)."""
+        table = self.observations.rename(columns={"heading_deg": "compass_heading_deg",
+                                                  "bearing_deg": "compass_bearing_deg"})
+        return table[[c for c in self.TABLE_COLUMNS if c in table]]
 
     def text_lines(self) -> list[str]:
         lines = [f"{'row':>4}  {'UTC':<21}{'body':<11}{'compass':<9}{'read':>7}{'true':>8}  error"]

@@ -21,7 +21,7 @@ from .fixstats import (
     GROSS_ARCMIN,
     MAX_SIGHTS_SEARCHED,
 )
-from .sensechecks import SEXTANT_SIGMA_LIMIT_ARCMIN
+from .sensechecks import SEXTANT_SIGMA_LIMIT_ARCMIN, common_error_arcmin
 from .stats import student_t_quantile
 from .triangle import distance_bearing
 
@@ -223,10 +223,19 @@ def mark_untrusted(results) -> None:
         if not result.untrusted and (result.scatter_impossible or (
                 result.left_out.any() and result.sigma_arcmin > SEXTANT_SIGMA_LIMIT_ARCMIN)):
             left = " left in it" if result.left_out.any() else ""
-            result.untrusted = (
-                f"the sights{left} scatter beyond a sextant: σ {result.sigma_arcmin:.1f}′, more than a hand-held one gives "
-                f"(about 1′, {SEXTANT_SIGMA_LIMIT_ARCMIN:.0f}′ in a seaway): some altitude, time or body name, or "
-                "the run between the sights, is wrong and the others cannot tell which; find it and fix again")
+            common = common_error_arcmin(result)
+            if np.isfinite(common):
+                result.untrusted = (
+                    f"the sights{left} scatter beyond a sextant (σ {result.sigma_arcmin:.1f}′) but every one is off by "
+                    f"about the same {abs(common):.1f}′ ({'high' if common > 0 else 'low'}): an error common to every "
+                    "altitude, most likely the index error or the observer's personal error; its ellipse means "
+                    "nothing: correct the altitudes and fix again")
+            else:
+                result.untrusted = (
+                    f"the sights{left} scatter beyond a sextant: σ {result.sigma_arcmin:.1f}′, more than a hand-held "
+                    f"one gives (about 1′, {SEXTANT_SIGMA_LIMIT_ARCMIN:.0f}′ in a seaway): some altitude, time or body "
+                    "name, or the run between the sights, is wrong and the others cannot tell which; find it and fix "
+                    "again")
         if result.untrusted:
             result.warnings[:] = [w.replace("plot this one, and find out", "plot neither as it stands: find out")
                                   for w in result.warnings]

@@ -35,6 +35,69 @@ UNKNOWN_DR_AGE_H = 24.0
 DR_DISAGREEMENT_SIGMAS = 4.0
 
 
+#: An error common to every altitude of a fix (an index error mistaken or of the wrong sign, an observer's
+#: personal error). What a fix can see of it: a constant error c adds c to every intercept; the least-squares fix
+#: takes up the part of it that its two unknowns can (moving the fix), and the rest stays in the residuals. With
+#: the bodies evenly all round the horizon none is taken up (the fix stays, every residual is c); with them all on
+#: one side nearly all is (the fix moves by about c, the residuals show nothing). So the residuals' common part is
+#: estimated as the third unknown of the fix would be (ĉ = uᵀr / uᵀu, u the part of (1, ..., 1) the fix's two
+#: unknowns cannot take up), and named only where the bodies are spread enough (uᵀu at least
+#: COMMON_ERROR_MIN_SPREAD of the sights' count), ĉ is at least COMMON_ERROR_MIN_ARCMIN (common practice: an
+#: index error of a minute is worth correcting) and makes up COMMON_ERROR_SHARE of the residuals (a misread
+#: altitude or a wrong body leaves residuals of both signs), from COMMON_ERROR_MIN_SIGHTS sights or more (three
+#: bodies all round leave one residual degree of freedom, the common one, so that any scatter of three looks
+#: alike: a constant error and chance cannot be told apart).
+COMMON_ERROR_MIN_ARCMIN = 1.0
+COMMON_ERROR_SHARE = 0.8
+COMMON_ERROR_MIN_SIGHTS = 4
+COMMON_ERROR_MIN_SPREAD = 0.5
+
+
+def common_error(result: FixResult) -> tuple[float, float, float]:
+    """The error common to every altitude of a fix that its residuals show (ĉ arcminutes, + the altitudes read
+    high), and how far it moved the fix (north, east nm: the fix allowed for it lies that far the other way); NaNs
+    where the residuals show none (see COMMON_ERROR_MIN_ARCMIN and the rest)."""
+    nothing = (float("nan"),) * 3
+    residual = np.asarray(result.residual_arcmin, dtype=float)
+    zn = np.asarray(result.lop_zn_deg, dtype=float)
+    if zn.size != residual.size:
+        return nothing
+    used = np.asarray(result.used, dtype=bool) if np.size(result.used) == residual.size else np.ones(residual.size,
+                                                                                                   dtype=bool)
+    keep = used & np.isfinite(residual) & np.isfinite(zn)
+    r, z = residual[keep], np.radians(zn[keep])
+    if r.size < COMMON_ERROR_MIN_SIGHTS:
+        return nothing
+    a = np.column_stack([np.cos(z), np.sin(z)])
+    normal = a.T @ a
+    if abs(np.linalg.det(normal)) < 1e-12:
+        return nothing
+    taken = np.linalg.solve(normal, a.T @ np.ones(r.size))  # the fix's move for 1′ on every altitude (nm)
+    u = np.ones(r.size) - a @ taken
+    spread = float(u @ u)
+    if spread < COMMON_ERROR_MIN_SPREAD * r.size:
+        return nothing
+    c = float(u @ r) / spread
+    if abs(c) < COMMON_ERROR_MIN_ARCMIN or abs(c) * np.sqrt(spread) < COMMON_ERROR_SHARE * float(np.sqrt(r @ r)):
+        return nothing
+    return c, float(taken[0] * c), float(taken[1] * c)
+
+
+def common_error_arcmin(result: FixResult) -> float:
+    """The error common to every altitude that a fix's residuals show (:func:`common_error`), or NaN."""
+    return common_error(result)[0]
+
+
+def _common_error_words(result: FixResult) -> str:
+    c, north, east = common_error(result)
+    moved = float(np.hypot(north, east))
+    allowed = (f"; allowed for, the fix lies {moved:.1f} nm {np.degrees(np.arctan2(-east, -north)) % 360.0:03.0f}° "
+               "from this one" if moved >= 0.1 else "; the bodies all round, it leaves the fix in place")
+    return (f"every sight is off by about the same amount ({abs(c):.1f}′ {'high' if c > 0 else 'low'}): an error "
+            "common to every altitude, most likely the index error (its value or its sign: 'on the arc' is "
+            f"subtracted) or the observer's personal error{allowed}")
+
+
 def sense_checks(results: list[FixResult], run_from: list[RunFrom], span_min: np.ndarray, age_h: np.ndarray,
                   speed_kn: np.ndarray, age_known: np.ndarray) -> None:
     """The fix-level warnings that look past the arithmetic, for a batch of results at once: a ship taken
@@ -96,8 +159,14 @@ def sense_checks(results: list[FixResult], run_from: list[RunFrom], span_min: np
             f"{(axis + 180.0) % 360.0:03.0f}°) is larger than the DR's own 95 % circle ({dr_alone[j]:.1f} nm for a DR "
             f"{age_h[j]:.1f} h old at {speed_kn[j]:.1f} kn, navred's DR-error model): {why}; along that axis the "
             "DR is the better guide")
+    common = np.array([common_error_arcmin(r) if w else np.nan for r, w in zip(results, wild)])
     for j in np.flatnonzero(wild).tolist():
         result = results[j]
+        if np.isfinite(common[j]):
+            result.warnings.append(
+                f"the sights scatter by σ {result.sigma_arcmin:.1f}′ about the {result.kind}, beyond any hand-held "
+                f"sextant: {_common_error_words(result)}")
+            continue
         result.warnings.append(
             f"the sights scatter by σ {result.sigma_arcmin:.1f}′ about the {result.kind}, beyond any hand-held "
             f"sextant (a good sight is within about 1′, {SEXTANT_SIGMA_LIMIT_ARCMIN:.0f}′ in a seaway): most "
@@ -108,4 +177,6 @@ def sense_checks(results: list[FixResult], run_from: list[RunFrom], span_min: np
 
 
 __all__ = ["SEXTANT_SIGMA_LIMIT_ARCMIN", "SCATTER_CONFIDENCE", "STOPPED_SPAN_MIN", "UNKNOWN_DR_AGE_H",
-           "DR_DISAGREEMENT_SIGMAS", "sense_checks"]
+           "DR_DISAGREEMENT_SIGMAS", "COMMON_ERROR_MIN_ARCMIN", "COMMON_ERROR_SHARE", "COMMON_ERROR_MIN_SIGHTS",
+           "COMMON_ERROR_MIN_SPREAD", "common_error", "common_error_arcmin",
+           "sense_checks"]

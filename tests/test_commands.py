@@ -180,3 +180,28 @@ def test_the_old_csv_file_of_training_is_refused_where_it_could_be_a_log(tmp_pat
                                  "sample_sights/training_track.gpx", "--csv", str(log)])
     assert result.exit_code == 1 and "--csv is a flag now" in result.output and "put it before --csv" in result.output
     assert log.read_bytes() == open("sample_sights/training_sights.csv", "rb").read()
+
+
+def test_every_option_the_docs_show_is_one_the_command_takes():
+    """Trial finding: sample_sights/README.md told the reader `navred days ... --picture passage.png`, an option
+    the help does not list (a hidden old name). Every `navred COMMAND ... --option` written in the README, the
+    samples' README, DEVELOPERS.md and docs/ (inline, or a line of a console block) names an option the command
+    lists in its help (not hidden)."""
+    from pathlib import Path
+
+    files = [Path("README.md"), Path("DEVELOPERS.md"), Path("sample_sights/README.md"), *sorted(Path("docs").glob("*.md"))]
+    wrong = []
+    for path in files:
+        text = path.read_text(encoding="utf-8")
+        inline = re.finditer(r"`navred ([a-z-]+)((?: [^`\n]*)?)`", text)
+        blocks = re.finditer(r"^\s*(?:\$ )?navred ([a-z-]+)((?: [^\n]*)?)$", text, flags=re.MULTILINE)
+        for found in [*inline, *blocks]:
+            name = found.group(1)
+            if name not in GROUP.commands:
+                continue
+            shown = {o for p in GROUP.commands[name].params if not getattr(p, "hidden", False)
+                     for o in (*p.opts, *getattr(p, "secondary_opts", ()))}
+            for option in re.findall(r"(?<![\w-])(--[a-z][a-z0-9-]*)", found.group(2)):
+                if option not in shown and option != "--help":
+                    wrong.append(f"{path}: navred {name} {option}")
+    assert not wrong, wrong

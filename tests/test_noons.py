@@ -305,5 +305,5 @@ def test_the_demo_log_gives_a_noon_from_its_forenoon_sun_and_meridian_altitude()
     move = 6.5 * (3 * 60 + 57) / 3600.0 * 1852.0
     where = line.Position(move)
     assert GEOD.Inverse(where["lat2"], where["lon2"], noon["lat_deg"], noon["lon_deg"])["s12"] / 1852.0 < 0.5
-    assert days.tracks["Moth Orchid (invented)"].known_label[0] == "DR as logged at row 2"
+    assert days.tracks["Moth Orchid (invented)"].known_label[0] == "logged DR at row 2"
     assert "sun-run-sun" not in set(days.set_drift["fix_group"])

@@ -239,3 +239,42 @@ def test_the_days_text_says_what_the_exercises_are_marked_against(training_day, 
     assert result.exit_code == 0, result.output
     assert ("each marked against the ship's best position at its time: her own fixes (2), her single-line "
             "estimated positions (2)") in result.stdout
+
+
+def test_navigator_is_taken_alike_by_every_command_that_keeps_the_dr(training, tmp_path):
+    """Trial finding: `workbook` had no --navigator (only the role column) while `days` had. The training log
+    without its role column, the navigator named by --navigator: `days`, `workbook`, `fix` and `reduce` take it
+    alike (one way in, one answer): the workbook's Noon report holds the noons `days --csv` gives, `fix --csv`
+    fixes the same groups as the day's work, and `reduce --csv` gives each sight the DR the day's work does."""
+    import io
+
+    import openpyxl
+
+    log, _ = training
+    path = tmp_path / "watch.csv"
+    log.drop(columns=["role"]).to_csv(path, index=False)
+    runner = CliRunner()
+    days = runner.invoke(app, ["days", str(path), "--navigator", "Mate Dunlin", "--csv"])
+    assert days.exit_code == 0, days.output
+    noons = pd.read_csv(io.StringIO(days.stdout))
+    book = tmp_path / "watch.xlsx"
+    made = runner.invoke(app, ["workbook", str(path), "--navigator", "Mate Dunlin", "-o", str(book), "--pictures",
+                               "none"])
+    assert made.exit_code == 0, made.output
+    cells = [str(c) for row in openpyxl.load_workbook(book)["Noon report"].iter_rows(values_only=True) for c in row
+             if c is not None]
+    assert all(p in cells for p in noons["noon_position"]) and len(noons) == 2
+    assert all("fix Dunlin" in f for f in noons["noon_from"])
+    unnamed = runner.invoke(app, ["workbook", str(path), "-o", str(tmp_path / "other.xlsx"), "--pictures", "none"])
+    other = [str(c) for row in openpyxl.load_workbook(tmp_path / "other.xlsx")["Noon report"].iter_rows(
+        values_only=True) for c in row if c is not None]
+    assert unnamed.exit_code == 0 and any("4 observers combined" in c for c in other)
+    fixed = runner.invoke(app, ["fix", str(path), "--navigator", "Mate Dunlin", "--csv"])
+    assert fixed.exit_code == 0, fixed.output
+    reduced = runner.invoke(app, ["reduce", str(path), "--navigator", "Mate Dunlin", "--csv"])
+    assert reduced.exit_code == 0, reduced.output
+    voyage = process_log(path, plan=False, navigators=("Mate Dunlin",))
+    table = pd.read_csv(io.StringIO(reduced.stdout))
+    assert np.allclose(table["dr_lat_deg"], voyage.reduced["dr_lat_deg"].astype(float), atol=1e-9)
+    refused = runner.invoke(app, ["workbook", str(path), "--navigator", "Captain Nemo", "-o", str(tmp_path / "x.xlsx")])
+    assert refused.exit_code == 1 and "names no observer of the log" in refused.output

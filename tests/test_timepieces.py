@@ -311,7 +311,7 @@ def test_a_step_in_the_error_is_a_reset_with_the_rate_unchanged(tmp_path):
     assert change.step_s == pytest.approx(-10.0, abs=0.15)
     assert change.common_rate_s_per_day == pytest.approx(0.5, abs=0.03)
     summary = ratings.timepieces["Chrono A"].summary()
-    assert "RESET between the signals of 2026-03-20 12:00 and 2026-03-21 12:00 UTC: a step of -10.0 s" in summary
+    assert "RESET between the signals of 2026-03-20 12:00 and 2026-03-21 12:00 UTC: its error stepped 10.0 s slower" in summary
     assert "the rate unchanged" in summary and "RATE CHANGED" not in summary
     log = read_sight_log(kept, rates=ratings)
     assert np.abs(log.table.watch_error_applied_s.to_numpy(float) - true_error).max() < 0.15

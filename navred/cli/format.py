@@ -517,7 +517,7 @@ def _noon_lines(days, vessel) -> list[str]:
     lines = [f"\n{vessel or 'the ship'}: noon positions and the day's run"]
     for r in noons.to_dict("records"):
         lines.append(f"  {r['date']} noon ({r['zone']}, {r['noon_utc'][11:16]} UTC) {r['noon_position'] or 'no position'}"
-                     f"  from {r['noon_from']}")
+                     f"  {'by' if str(r['noon_from']).startswith('DR ') else 'from'} {r['noon_from']}")
         if r["run_nm"] == r["run_nm"]:
             current = (f"; current {r['current_set_deg']:05.1f}° {r['current_drift_kn']:.1f} "
                        f"±{r['current_95_kn']:.1f} kn" if r["current_drift_kn"] == r["current_drift_kn"] else

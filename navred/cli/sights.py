@@ -71,6 +71,7 @@ def reduce_command(
     csv: bool = typer.Option(False, "--csv", help=CSV_HELP.format(what="every column of every sight, reduced or not,")),
     rates: str | None = _rates(),
     dates: str | None = _dates(),
+    navigator: list[str] = _navigators(),
 ) -> None:
     """Reduce every sight: Ho, Hc, Zn and the intercept TOWARD or AWAY, with any warning.
 
@@ -84,7 +85,8 @@ def reduce_command(
 
     with reported(ctx):
         if csv:
-            done = reduce_log_csv(source(sights_files), dates=dates, rates=ratings(rates, dates))
+            done = reduce_log_csv(source(sights_files), dates=dates, rates=ratings(rates, dates),
+                                  navigators=tuple(navigator or ()))
             print_notes(done)
             rows = reduced = 0
             for text, block_rows, block_reduced in done.blocks():
@@ -95,7 +97,8 @@ def reduce_command(
             return
         from .format import reduce_lines
 
-        done = reduce_log(source(sights_files), dates=dates, rates=ratings(rates, dates))
+        done = reduce_log(source(sights_files), dates=dates, rates=ratings(rates, dates),
+                          navigators=tuple(navigator or ()))
         print_notes(done)
         echo_lines(reduce_lines(done))
         require_reduced(len(done.reduced), done.n_reduced, "each row's reason is above")
@@ -113,6 +116,7 @@ def fix_command(
     csv: bool = typer.Option(False, "--csv", help=CSV_HELP.format(what="one line per fix group (decimal degrees)")),
     rates: str | None = _rates(),
     dates: str | None = _dates(),
+    navigator: list[str] = _navigators(),
     at: str | None = typer.Option(None, "--at", hidden=True),
 ) -> None:
     """Least-squares fix of every fix group: position, 95 % ellipse, residuals and flags.
@@ -133,7 +137,8 @@ def fix_command(
         if (lat is None) != (lon is None):
             raise NavredError("give both --chart-lat and --chart-lon, or neither")
         report = fix_log(source(sights_files), dates=dates, rates=ratings(rates, dates), at_utc=utc, group=group,
-                         chart=None if lat is None else (lat, lon), solve_motion=solve_motion)
+                         chart=None if lat is None else (lat, lon), solve_motion=solve_motion,
+                         navigators=tuple(navigator or ()))
         print_notes(report.voyage, err=True)
         require_reduced(len(report.voyage.reduced), report.voyage.n_reduced)
         from .format import fix_report_lines, fixes_csv

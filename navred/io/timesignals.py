@@ -106,10 +106,11 @@ class Timepiece:
         after = self.comparisons.signal_utc.iloc[c.split_index + 1]
         between = f"between the signals of {before:%Y-%m-%d %H:%M} and {after:%Y-%m-%d %H:%M} UTC"
         if c.kind == "reset":
-            return (f"RESET {between}: a step of {c.step_s:+.1f} s in its error, the rate unchanged "
-                    f"({c.common_rate_s_per_day:+.2f} ± {c.common_rate_95_s_per_day:.2f} s a day, 95 %; the rates "
-                    f"either side {c.rate_before_s_per_day:+.2f} and {c.rate_after_s_per_day:+.2f} agree); sights "
-                    "after it take the error after the step")
+            step = f"{abs(c.step_s):.1f} s {'fast' if c.step_s > 0 else 'slow'}er" if c.step_s else "0.0 s"
+            return (f"RESET {between}: its error stepped {step}, the rate unchanged "
+                    f"({rate_words(c.common_rate_s_per_day, c.common_rate_95_s_per_day)}, 95 %; the rates either "
+                    f"side, {rate_words(c.rate_before_s_per_day)} and {rate_words(c.rate_after_s_per_day)}, agree); "
+                    "sights after it take the error after the step")
         return (f"RATE CHANGED {between}: {rate_words(c.rate_before_s_per_day)} before, "
                 f"{rate_words(c.rate_after_s_per_day)} after (a change beyond the signals' own scatter, at 99 %); "
                 "sights after it take the later signals' line")

@@ -61,14 +61,18 @@ class FixReport:
 
 def fix_log(source: LogSource, *, dates: str | None = None, rates: Ratings | None = None,
             at_utc: Instant | None = None, group: str | None = None,
-            chart: tuple[float, float] | None = None, solve_motion: bool = False) -> FixReport:
+            chart: tuple[float, float] | None = None, solve_motion: bool = False,
+            navigators: tuple[str, ...] = ()) -> FixReport:
     """Fix every group of a log (or only ``group``), at ``at_utc`` (default: each group's last sight).
 
     ``chart`` (latitude, longitude in degrees): a chart or GNSS position to check the fix against; it belongs
-    to one fix, so a log of several groups needs ``group``. An unknown group is refused naming the log's."""
+    to one fix, so a log of several groups needs ``group``. An unknown group is refused naming the log's.
+    ``navigators``: whose sights are the ship's (a group mixing them with another observer's is split by
+    observer; the ship's fixes alone carry a sight's DR), as navred days takes them."""
     if at_utc is not None:
         utc_datetime64(at_utc)  # refused now, with its reason, rather than group by group
-    voyage = process_log(source, dates=dates, solve_motion=solve_motion, plan=False, at_utc=at_utc, rates=rates)
+    voyage = process_log(source, dates=dates, solve_motion=solve_motion, plan=False, at_utc=at_utc, rates=rates,
+                         navigators=tuple(navigators))
     names = [g.name for g in voyage.groups]
     if group is not None:
         voyage.group(group)  # refuses an unknown group, naming the log's groups

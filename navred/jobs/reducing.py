@@ -39,11 +39,12 @@ def require_reduced(rows: int, reduced: int, where: str = "navred reduce names e
                           f"rejected; {where}")
 
 
-def reduced_sights(log: SightLog) -> pd.DataFrame:
-    """A log's sights reduced; a DR the reader carried along the log's track is carried from the last fix
-    before the sight, as :func:`navred.jobs.voyage.process_log` carries it."""
+def reduced_sights(log: SightLog, navigators: tuple[str, ...] = ()) -> pd.DataFrame:
+    """A log's sights reduced; a DR the reader carried along the log's track is carried from the last of the
+    ship's fixes before the sight (``navigators``: whose fixes are the ship's), as
+    :func:`navred.jobs.voyage.process_log` carries it."""
     if len(log.table) and (log.table["dr_carried_from"] != "").any():
-        return process_log(log, plan=False).reduced
+        return process_log(log, plan=False, navigators=navigators).reduced
     return reduce_sights(log)
 
 
@@ -66,10 +67,16 @@ class ReducedLog:
         return count_reduced(self.reduced)
 
 
-def reduce_log(source: LogSource, *, dates: str | None = None, rates: Ratings | None = None) -> ReducedLog:
-    """Read a log (or several) and reduce every sight (see the module)."""
+def reduce_log(source: LogSource, *, dates: str | None = None, rates: Ratings | None = None,
+               navigators: tuple[str, ...] = ()) -> ReducedLog:
+    """Read a log (or several) and reduce every sight (see the module); ``navigators`` as navred days takes them
+    (whose fixes carry a sight's DR)."""
     log = read_sight_log(source, dates=dates, rates=rates)
-    return ReducedLog(log, reduced_sights(log), rates)
+    if navigators:  # refused when it names no observer, whether or not a DR is carried
+        from .shipsfixes import check_navigators
+
+        navigators = check_navigators(set(log.table["observer"].tolist()) if len(log.table) else set(), navigators)
+    return ReducedLog(log, reduced_sights(log, tuple(navigators)), rates)
 
 
 def _block_csv(plan: LogBlocks, k: int) -> tuple[str, int, int]:
@@ -103,12 +110,15 @@ class ReducedCsv:
         yield from forked_map(_block_csv, range(len(self.plan)), context=self.plan, workers=cores())
 
 
-def reduce_log_csv(source: LogSource, *, dates: str | None = None, rates: Ratings | None = None) -> ReducedCsv:
+def reduce_log_csv(source: LogSource, *, dates: str | None = None, rates: Ratings | None = None,
+                   navigators: tuple[str, ...] = ()) -> ReducedCsv:
     """A log's reduction as CSV text (every column of every sight, reduced or not), a long plain CSV log block
     by block (:data:`REDUCE_BLOCK_ROWS` rows each, shared among the cores): the same text as one process
-    reading the log whole (tested)."""
-    plan = sight_log_blocks(source, dates=dates, rates=rates, block_rows=REDUCE_BLOCK_ROWS)
-    return ReducedCsv(rates, plan, reduce_log(source, dates=dates, rates=rates) if plan is None else None)
+    reading the log whole (tested). With ``navigators`` the log is read whole (the ship's fixes anywhere in it
+    carry each sight's DR)."""
+    plan = None if navigators else sight_log_blocks(source, dates=dates, rates=rates, block_rows=REDUCE_BLOCK_ROWS)
+    return ReducedCsv(rates, plan, reduce_log(source, dates=dates, rates=rates, navigators=navigators)
+                      if plan is None else None)
 
 
 __all__ = ["REDUCE_BLOCK_ROWS", "ReducedLog", "ReducedCsv", "reduce_log", "reduce_log_csv", "reduced_sights",

@@ -153,7 +153,7 @@ def _known_positions(voyage, vessel: str, ships: ShipsSights, fix_vessel: dict[s
 
 
 #: The label of a DR track's start taken from the DR a sight's row carries (a log with no departure entry).
-LOGGED_DR = "DR as logged"
+LOGGED_DR = "logged DR"
 
 
 def _logged_dr_start(voyage, vessel: str, ships: ShipsSights, before: int | None):

@@ -233,7 +233,8 @@ def reduce_lines(done) -> Iterator[str]:
                f"{format_angle(row.hc_deg, 'signed'):>12}{f'{row.zn_deg % 360.0:05.1f}°':>8}  {intercept:<18}{note}")
     counts = reduced.status.value_counts()
     empty = f", {log.empty_rows} empty row{'s' if log.empty_rows > 1 else ''} skipped" if log.empty_rows else ""
-    yield (f"{int(counts.get('ok', 0) + counts.get('warning', 0))} sights reduced "
+    done = int(counts.get('ok', 0) + counts.get('warning', 0))
+    yield (f"{done} sight{'' if done == 1 else 's'} reduced "
            f"({int(counts.get('warning', 0))} with a warning), {int(counts.get('error', 0))} not reduced{empty}")
 
 

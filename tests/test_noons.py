@@ -166,9 +166,8 @@ def test_noon_positions_none_always_says_why(tmp_path):
                    "2026-05-10,19:58:04,+2 O,Spica,25° 54.4′,1.2 off,18,46° 35.0′ N,027° 48.0′ W,075,12\n")
     result = CliRunner().invoke(app, ["days", str(log)])
     assert result.exit_code == 0, result.output
-    # the DR starts at the first row's own DR (the navigator's, written on the row)
-    assert ("Noon positions: none: the DR runs from 2026-05-10 21:55:04 to 2026-05-10 21:58:04 UTC (2026-05-10 "
-            "19:55:04 to 2026-05-10 19:58:04 by the ship's clocks)") in result.stdout
+    # the rows' own DRs are minutes before the fix: no start of the DR (the fix starts it)
+    assert "Noon positions: none: the DR starts at 2026-05-10 21:58:04 UTC (19:58 by the ship's clocks)" in result.stdout
     assert "no noon by her clocks falls within it" in result.stdout
     assert "no day's work" not in result.output
 

@@ -104,7 +104,8 @@ def test_gpx_and_geojson_exports(tmp_path):
     gpx = ET.parse(write_gpx(voyage, tmp_path / "fixes.gpx")).getroot()
     assert gpx.tag == f"{{{GPX_NAMESPACE}}}gpx" and gpx.get("version") == "1.1"  # GPX 1.1 schema
     points = gpx.findall(f"{{{GPX_NAMESPACE}}}wpt")
-    assert len(points) == 6  # a fix and a DR per group
+    assert len(points) == 7  # a fix and a DR per group, and the day's noon (its logged DR gives the DR a start)
+    assert sum(p.find(f"{{{GPX_NAMESPACE}}}name").text.startswith("noon") for p in points) == 1
     star = next(g.fix for g in voyage.groups if g.name == "evening-stars")
     fix_point = next(p for p in points if p.find(f"{{{GPX_NAMESPACE}}}name").text == "fix evening-stars")
     assert float(fix_point.get("lat")) == pytest.approx(star.lat_deg, abs=1e-6)
@@ -135,7 +136,9 @@ def test_a_gpx_file_holds_no_empty_element(tmp_path):
         for track in tracks[-1]:
             segments = track.findall(f"{{{GPX_NAMESPACE}}}trkseg")
             assert segments and all(len(s.findall(f"{{{GPX_NAMESPACE}}}trkpt")) >= 2 for s in segments)
-    assert len(tracks[0]) == 0 and len(tracks[1]) == 1  # the demo's DR track from its first fix
+    # the demo's DR track from its logged DR (09:10, hours before its first fix); the stars' logged DRs are minutes
+    # before their fix: no start
+    assert len(tracks[0]) == 0 and len(tracks[1]) == 1
 
 
 def test_atomic_write_keeps_the_old_file_when_interrupted(tmp_path):

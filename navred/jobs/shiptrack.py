@@ -154,12 +154,14 @@ def _known_positions(voyage, vessel: str, ships: ShipsSights, fix_vessel: dict[s
 
 #: The label of a DR track's start taken from the DR a sight's row carries (a log with no departure entry).
 LOGGED_DR = "logged DR"
+#: ... taken only this long (hours) or more before the ship's first fix
+LOGGED_DR_LEAD_HOURS = 1.0
 
 
 def _logged_dr_start(voyage, vessel: str, ships: ShipsSights, before: int | None):
     """A log with no departure entry whose ship's sights carry the navigator's DR (written on the row, not carried
-    by the reader) starts her track there: the earliest such row before her first fix, (ns, lat, lon, label,
-    covariance). It is a DR, not a known position: no set and drift is found from it."""
+    by the reader) starts her track there: the earliest such row at least LOGGED_DR_LEAD_HOURS before her first
+    fix, (ns, lat, lon, label, covariance). It is a DR, not a known position: no set and drift is found from it."""
     reduced = voyage.reduced
     if not len(reduced) or "dr_carried_from" not in reduced.columns:
         return None
@@ -172,8 +174,8 @@ def _logged_dr_start(voyage, vessel: str, ships: ShipsSights, before: int | None
     when = utc64(reduced["sight_utc"]).astype(np.int64)
     usable = written & np.isfinite(lat) & np.isfinite(lon) & vessel_ok & ship & (
         reduced["status"].to_numpy() != SightStatus.ERROR)
-    if before is not None:
-        usable &= when < before
+    if before is not None:  # a logged DR minutes before the first fix adds nothing the fix does not give
+        usable &= when <= before - int(LOGGED_DR_LEAD_HOURS * NS_PER_HOUR)
     if not usable.any():
         return None
     k = int(np.flatnonzero(usable)[np.argmin(when[usable])])

@@ -388,8 +388,8 @@ def _voyage_key(sheet, chart: _VoyageChart, arrow_nm: float) -> None:
     sheet.text(kx + 9, key_y + 3, "estimated position", 7, FIX)
     kx += 95
     position_symbol(sheet, kx, key_y, INK, kind="key")
-    sheet.text(kx + 10, key_y + 3, "departure or position entry", 7, INK)
-    kx += 125
+    sheet.text(kx + 10, key_y + 3, "departure, position entry or logged DR", 7, INK)
+    kx += 170
     sheet.circle(kx, key_y, 3.2, fill=INK)
     sheet.text(kx + 8, key_y + 3, "noon", 7, INK)
     bar = nice_length(max(chart.width_nm, chart.height_nm) * 0.2)

@@ -902,16 +902,19 @@ def test_a_departure_at_the_hour_she_sails(tmp_path, ts, eph):
     assert "where she lies until she departs at 2025-06-10 09:30 UTC" in " ".join(made["pages"][0].split())
 
 
-def test_the_sight_pages_say_the_rate_is_for_after_the_planned_time_only(paper):
-    """The rate is the mean of the ten minutes after the planned time; used back to nautical twilight it is minutes
-    of arc out for a planet, so each round's note says to work an earlier sight by the formulas page."""
+def test_the_sight_pages_say_the_rate_holds_either_side_of_the_planned_time(paper):
+    """The rate and bend are centred on the planned time: each round's note says how to work a sight before it
+    (m negative), and each body's span is printed both ways (±N) or 'do not use'."""
     rounds = printed_rounds(paper)
     for page in paper["pages"]:
         flat = " ".join(page.split())
         if "Morning twilight: planned" in flat or "Evening twilight: planned" in flat:
             count = flat.count("Morning twilight: planned") + flat.count("Evening twilight: planned")
-            assert flat.count("Only after the planned time: for a sight before it, work it by the formulas page") \
-                == count, flat[:200]
+            assert flat.count("(m negative before it): Hc = Hc + m × (Hc ′/min + m × bend)") == count, flat[:200]
+            assert "Only after the planned time" not in flat
+    for round_ in rounds:
+        holds = round_["bodies"]["rate_holds_minutes"]
+        assert holds.str.fullmatch(r"±\d+|do not use: formulas").all(), holds.tolist()
     assert len(rounds) == 4
 
 

@@ -224,7 +224,7 @@ def test_at_the_date_line_every_event_carries_its_own_zone_and_date(tmp_path, ts
     out = tmp_path / "dl.csv"
     result = CliRunner().invoke(app, ["plan", "--date", "2026-12-14", "--lat", "17 30 S", "--lon", lon_text,
                                       "--course", f"{course:03.0f}", "--speed", "8", "--days", "3", "--eye", "3 m",
-                                      "-o", str(out)])
+                                      "-o", str(out), "-o", str(tmp_path / "dl.pdf")])
     assert result.exit_code == 0, result.output
     assert "the date line" in result.stdout
     start = np.datetime64("2026-12-14T00:00", "ns") - np.timedelta64(int(round(lon0 / 15.0 * 3600e9)), "ns")
@@ -274,6 +274,20 @@ def test_at_the_date_line_every_event_carries_its_own_zone_and_date(tmp_path, ts
         assert days == [-24] and seen_dates.count("2026-12-14") == 2, (days, seen_dates)
     else:
         assert days == [24] and seen_dates[:2] == ["2026-12-14", "2026-12-15"], (days, seen_dates)
+    # each printed round's noon is its own day's: within 14 hours of it (a local date comes twice eastbound)
+    from pypdf import PdfReader
+
+    for page in PdfReader(str(tmp_path / "dl.pdf")).pages:
+        flat = " ".join(page.extract_text().split())
+        head = re.search(r"(\d\d:\d\d) UTC (\d{4}-\d\d-\d\d), from DR", flat)
+        noon = re.search(r"Noon that day: the Sun on the meridian at (\d\d:\d\d) zone \(([+−]?\d+), ([\d-]+); "
+                         r"(\d\d:\d\d) UTC\)", flat)
+        assert head and noon, flat[:300]
+        at = np.datetime64(f"{head.group(2)}T{head.group(1)}")
+        zd = int(noon.group(2).replace("−", "-"))
+        noon_utc = np.datetime64(f"{noon.group(3)}T{noon.group(1)}") + np.timedelta64(zd, "h")
+        assert str(noon_utc)[11:16] == noon.group(4)  # zone date and time + ZD = the UTC printed
+        assert abs((noon_utc - at) / np.timedelta64(1, "h")) <= 14, (head.group(0), noon.group(0))
     # the rounds are labelled with their own zone date and zone
     plans = pd.read_csv(tmp_path / "dl-plans.csv", dtype=str, keep_default_na=False).drop_duplicates("round")
     for row in plans.itertuples(index=False):

@@ -429,7 +429,6 @@ class BridgePlan:
         from ..io.printed import Document, Page, Picture, Table, Text
 
         pages = []
-        by_date = {str(n.zone_date): n for n in self.noons}
         if not self.rounds:  # no twilight (white nights, midnight sun): the days' times and the daytime fixes
             rows = []
             for day in self.days:
@@ -467,14 +466,17 @@ class BridgePlan:
                                                     f"{hm(p.utc)} UTC")
             blocks.append(Picture(figure_png(figure, dpi=150), 255.0))
             blocks.append(Text(f"Choice: {round_.plan.explanation}", "small"))
-            noon = by_date.get(str(zone_date(p.utc, zd)))
+            # the noon of the round's own day: the nearest (a local date can come twice at the date line)
+            noon = min(self.noons, key=lambda n: abs((n.utc - p.utc) / np.timedelta64(1, "m")), default=None)
+            if noon is not None and abs((noon.utc - p.utc) / np.timedelta64(1, "h")) > 14:
+                noon = None
             if noon is not None:
                 blocks.append(Text(f"Noon that day: the Sun on the meridian at {hm(zone_time(noon.utc, noon.zone_h))} "
-                                   f"zone ({hm(noon.utc)} UTC), bearing {noon.bearing}, Hs to preset (lower limb) "
+                                   f"zone ({zone_text(noon.zone_h)}, {noon.zone_date}; {hm(noon.utc)} UTC), bearing {noon.bearing}, Hs to preset (lower limb) "
                                    f"{dm(noon.hs_deg, 'signed')}.", "body"))
             pages.append(Page(round_.label, tuple(blocks)))
-        dates = [d.date for d in self.days] or [np.datetime64(self.rounds[0].presets.utc, "D")]
-        valid = f"{dates[0]}" + (f" to {dates[-1]}" if len(dates) > 1 else "") + " (local dates)"
+        dates = sorted({d.date for d in self.days}) or [np.datetime64(self.rounds[0].presets.utc, "D")]
+        valid = f"{dates[0]}" + (f" to {dates[-1]}" if len(dates) > 1 else "") + " (zone dates)"
         from ..timescales import instants
 
         when = [r.presets.utc for r in self.rounds] or [n.utc for n in self.noons] or [dates[0]]

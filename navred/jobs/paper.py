@@ -497,16 +497,21 @@ def _twilight_table(twilight: PlannedTwilight, name: str) -> Table:
 
 def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
     pages = []
-    by_date = {}
+    # each round on the page of its own day: the day whose noon is nearest it (a local date comes twice when she
+    # crosses the date line eastbound, so the date alone does not tell the days apart)
+    by_day: dict[int, list] = {}
+    noon_ns = np.array([n.utc for n in noons], dtype="datetime64[ns]").astype(np.int64)
     for twilight in twilights:
-        by_date.setdefault(long_date(twilight.local_date), []).append(twilight)
-    for noon in noons:
+        if noon_ns.size:
+            day = int(np.argmin(np.abs(noon_ns - np.datetime64(twilight.presets.utc, "ns").astype(np.int64))))
+            by_day.setdefault(day, []).append(twilight)
+    for n, noon in enumerate(noons):
         label = long_date(noon.date)
         blocks = []
-        held = {twilight.kind for twilight in by_date.get(label, [])}
+        held = {twilight.kind for twilight in by_day.get(n, [])}
         if "Morning twilight" not in held:
             blocks.append(_no_round("morning", events, noon))
-        for twilight in by_date.get(label, []):
+        for twilight in by_day.get(n, []):
             p = twilight.presets
             zd = twilight.zone_h
             zone_time = p.utc - np.timedelta64(int(zd * 60), "m")
@@ -534,7 +539,9 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
                            f"{dm(noon.dec_deg, 'dec')}; Hc {dm(noon.hc_deg, 'signed')}, bearing {noon.bearing}; Hs to "
                            f"preset (lower limb) {dm(noon.hs_deg, 'signed')}. Start a few minutes early, follow it up "
                            "and take the highest reading; latitude = Dec ± (90° − Ho) (The noon Sun page).", "body"))
-        pages.append(Page(f"Sights for {label}", tuple(blocks)))
+        again = n > 0 and noons[n - 1].date == noon.date  # eastbound over the date line the ship's date repeats
+        pages.append(Page(f"Sights for {label}" + (" (the date again: over the date line)" if again else ""),
+                          tuple(blocks)))
     return pages
 
 

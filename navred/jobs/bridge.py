@@ -150,9 +150,8 @@ def zone_rows(events: dict, track: DRTrack, given: float | None) -> list[DayEven
                 utc.append(np.datetime64(events[key][d], "ns"))
                 keys.append(key)
     if not utc:
-        return [DayEvents(np.datetime64(day, "D"), zone_for(0.0, given) if given is not None else
-                          float(zone_at(day, track, None)[0]), {key: np.datetime64("NaT", "ns") for key in EVENT_KEYS})
-                for day in events["date"]]
+        return [DayEvents(np.datetime64(day, "D"), float(zone_at(day, track, given)[0]),
+                          {key: np.datetime64("NaT", "ns") for key in EVENT_KEYS}) for day in events["date"]]
     order = np.argsort(np.array(utc, dtype="datetime64[ns]"), kind="stable")
     when = np.array(utc, dtype="datetime64[ns]")[order]
     zones = zone_at(when, track, given)

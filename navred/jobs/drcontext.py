@@ -23,10 +23,11 @@ class _Draft:
     log: SightLog
     reduced: pd.DataFrame
     groups: list
+    navigators: tuple[str, ...] = ()
 
 
 def dr_context(log: SightLog, reduced: pd.DataFrame, groups: list, *, carry_current: bool = False,
-               tracks: dict | None = None) -> dict:
+               tracks: dict | None = None, navigators=()) -> dict:
     """What a fix takes from the DR kept along the log, per reduced row: the current in force at the sight
     (``set_deg``, ``drift_kn``: the log's current entries and, with ``carry_current``, the set and drift found
     at the last fix; the ground track less the track through the water) and the age of the sight's DR
@@ -46,7 +47,7 @@ def dr_context(log: SightLog, reduced: pd.DataFrame, groups: list, *, carry_curr
     from .dayswork import vessel_tracks
 
     if tracks is None:
-        tracks = vessel_tracks(_Draft(log, reduced, groups), carry_current=carry_current)
+        tracks = vessel_tracks(_Draft(log, reduced, groups, tuple(navigators)), carry_current=carry_current)
     when = utc64(reduced["sight_utc"]).astype(np.int64)
     vessels = reduced["vessel"].to_numpy(dtype=object)
     for vessel, track in tracks.items():

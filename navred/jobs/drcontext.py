@@ -4,7 +4,7 @@ table), so that the API and the commands date a DR alike."""
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
@@ -17,13 +17,16 @@ from .frames import utc64
 
 @dataclass(frozen=True)
 class _Draft:
-    """What the vessels' DR tracks are built from (navred.jobs.dayswork.vessel_tracks): the log, its reduced
-    sights and the fix groups so far."""
+    """What the vessels' DR tracks are built from (navred.jobs.shiptrack.vessel_tracks reads these names of a
+    VoyageResult): the log, its reduced sights, the fix groups so far, the navigators; not the voyage job's
+    result, which is built from this module's context (and imports the reduction, which dates its DRs here)."""
 
     log: SightLog
     reduced: pd.DataFrame
     groups: list
     navigators: tuple[str, ...] = ()
+    #: what the track's builders work out once and keep (as VoyageResult.cache)
+    cache: dict = field(default_factory=dict, repr=False, compare=False)
 
 
 def dr_context(log: SightLog, reduced: pd.DataFrame, groups: list, *, carry_current: bool = False,

@@ -33,7 +33,7 @@ from ..reckoning import PAST_POLE
 from ..sightplan import SightPlan
 from ..status import SightStatus
 from ..timescales import Instant, iers_table, leap_second_table
-from ..vocabulary import DR_AGE_COLUMN
+from ..vocabulary import CURRENT_DRIFT_COLUMN, CURRENT_SET_COLUMN, DR_AGE_COLUMN
 from .drcontext import dr_context
 from .frames import row_labels, series_columns, utc64
 from .sights import reduce_sights
@@ -195,6 +195,7 @@ def process_log(source: LogSource | SightLog, *, dates: str | None = None, solve
                                                          navigators, solve_motion=solve_motion, at_utc=at_utc)
     if len(reduced):  # the DR's age each fix took, in the table, for the API to take the same (fix_positions)
         reduced[DR_AGE_COLUMN] = context["age_h"]
+        reduced[CURRENT_SET_COLUMN], reduced[CURRENT_DRIFT_COLUMN] = context["set_deg"], context["drift_kn"]
     rejected = _rejected(log, reduced)
     usable = reduced.status.to_numpy() != SightStatus.ERROR if len(reduced) else np.zeros(0, dtype=bool)
     table = iers_table()

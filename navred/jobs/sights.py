@@ -127,6 +127,10 @@ def reduce_sights(sights: SightLog | LogSource) -> pd.DataFrame:
     log = sights if isinstance(sights, SightLog) else None
     if log is None and not (isinstance(sights, pd.DataFrame) and _is_parsed(sights)):
         log = read_sight_log(sights)
+    if log is not None:  # a fix group mixing the ship's sights and an exercise's is split, as the commands split it
+        from .shipsfixes import split_mixed_groups
+
+        log = split_mixed_groups(log)
     table = (log.table if log is not None else parsed_sights(sights)).reset_index(drop=True)
     added = pd.concat([_reduce_block(table.iloc[i:i + BLOCK_ROWS].reset_index(drop=True))
                        for i in range(0, max(len(table), 1), BLOCK_ROWS)], ignore_index=True)

@@ -366,3 +366,74 @@ def test_every_form_of_reduce_fix_and_days_exits_1_when_nothing_could_be_done(tm
     assert "nothing" in result.output
     good = runner.invoke(app, [*command, "sample_sights/demo_sights.csv"])
     assert good.exit_code == 0, good.output
+
+
+def test_the_api_dates_the_dr_as_the_commands_do(tmp_path):
+    """The demo with a known position logged at 06:00 (an entry row) and every DR written 36′ of latitude off: the
+    log dates each DR (3 to 14 h old), and a DR that young cannot be some 33 nm out (common practice: 0.3 kn of unknown
+    current and 2 % of the run, four times over, navred.sensechecks). reduce_sights carries each DR's age in its
+    table (dr_age_h), and fix_positions takes it: the API gives the same DR ages, allowances and notes as
+    process_log and `navred fix --csv`, the far-from-DR warning among them."""
+    from navred import fix_positions
+    from navred.vocabulary import DR_AGE_COLUMN
+
+    frame = demo()
+    frame["dr_lat"] = (reduce_sights(demo()).dr_lat_deg + 0.6).round(5).astype(str)
+    entry = dict.fromkeys(frame.columns, "") | {"utc": "2026-03-26T06:00:00Z", "entry": "position",
+                                                 "dr_lat": "44 20.0 N", "dr_lon": "012 00.0 W",
+                                                 "vessel": frame.vessel[0]}
+    log = pd.concat([pd.DataFrame([entry]), frame.assign(entry="")], ignore_index=True)
+    path = tmp_path / "dated.csv"
+    log.to_csv(path, index=False)
+    reduced = reduce_sights(path)
+    assert reduced[DR_AGE_COLUMN].notna().sum() == len(demo())  # every sight's DR dated, the entry row not a sight
+    voyage = process_log(path)
+    api = fix_positions(reduced)
+    table = pd.read_csv(io.StringIO(runner.invoke(app, ["fix", str(path), "--csv"]).stdout)).set_index("fix_group")
+    far = "nm from the DR, far more than the DR could be out"
+    for group in voyage.groups:
+        mine = api[group.name]
+        assert mine.dr_age_known and group.fix.dr_age_known
+        assert mine.dr_age_h == pytest.approx(group.fix.dr_age_h) and mine.dr_age_h < 15
+        assert mine.dr_allowed_nm == pytest.approx(group.fix.dr_allowed_nm)
+        assert mine.warnings == group.fix.warnings
+        assert "; ".join(mine.warnings) == table.loc[group.name, "note"]
+        assert any(far in w and " h old at " in w for w in mine.warnings)
+    # without the column the API cannot date the DR: it takes it as a day old, says so, and lets 33 nm pass
+    undated = fix_positions(reduced.drop(columns=[DR_AGE_COLUMN]))
+    assert all(not undated[g.name].dr_age_known and not any(far in w for w in undated[g.name].warnings)
+               for g in voyage.groups)
+
+
+def test_the_api_runs_the_lines_through_the_logs_current_as_the_commands_do(tmp_path):
+    """The invented day at sea's forenoon and noon Sun as one running fix, with a current entry in the
+    log (090°, 1.3 kn, along the forenoon Sun's azimuth): reduce_sights carries the current in force at each sight
+    (current_set_deg, current_drift_kn) as the day's work keeps it, and fix_positions advances the lines through
+    it, as process_log and `navred fix --csv` do; without the columns the API runs the lines by course and speed
+    alone, a fix miles off (the current's run over the 3.2 h between the sights is 4.1 nm, most of it along the
+    advanced line's azimuth; common practice)."""
+    from navred import fix_positions
+    from navred.triangle import distance_bearing
+    from navred.vocabulary import CURRENT_DRIFT_COLUMN, CURRENT_SET_COLUMN
+
+    frame = pd.read_csv("sample_sights/day_at_sea.csv", dtype=str, keep_default_na=False)
+    frame = frame[frame.fix_group.isin(["", "forenoon Sun", "noon Sun"]) & (frame.entry != "destination")]
+    frame.loc[frame.fix_group != "", "fix_group"] = "sun-run-sun"
+    current = dict.fromkeys(frame.columns, "") | {"utc": "2026-06-20T04:00:00Z", "entry": "current",
+                                                   "vessel": frame.vessel.iloc[0]}
+    frame = pd.concat([frame.iloc[:1], pd.DataFrame([current]), frame.iloc[1:]], ignore_index=True)
+    frame["set"], frame["drift"] = "", ""
+    frame.loc[1, ["set", "drift"]] = ["090", "1.3"]
+    path = tmp_path / "current.csv"
+    frame.to_csv(path, index=False)
+    reduced = reduce_sights(path)
+    assert len(reduced) == 2 and np.allclose(reduced[CURRENT_DRIFT_COLUMN], 1.3)
+    assert np.allclose(reduced[CURRENT_SET_COLUMN], 90.0)
+    api = fix_positions(reduced)["sun-run-sun"]
+    commands = process_log(path).group("sun-run-sun").fix
+    table = pd.read_csv(io.StringIO(runner.invoke(app, ["fix", str(path), "--csv"]).stdout)).set_index("fix_group")
+    assert (api.lat_deg, api.lon_deg) == pytest.approx((commands.lat_deg, commands.lon_deg), abs=1e-9)
+    assert (table.loc["sun-run-sun", "lat_deg"], table.loc["sun-run-sun", "lon_deg"]) == pytest.approx(
+        (api.lat_deg, api.lon_deg), abs=1e-6)
+    without = fix_positions(reduced.drop(columns=[CURRENT_SET_COLUMN, CURRENT_DRIFT_COLUMN]))["sun-run-sun"]
+    assert 2.0 < float(distance_bearing(without.lat_deg, without.lon_deg, api.lat_deg, api.lon_deg)[0]) < 6.0

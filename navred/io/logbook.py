@@ -40,6 +40,7 @@ from ..vocabulary import (
     BOOKKEEPING_HEADERS,
     COLUMN,
     COLUMNS,
+    DR_CONTEXT_COLUMNS,
     OUTPUT_SUFFIX,
     OWN_COLUMN_HINT,
     RESULT_COLUMNS,
@@ -415,9 +416,7 @@ def _check_is_log(table: RawTable, keys: dict) -> None:
 
 
 #: the reduction's columns (a log of reduced rows read back)
-
-#: the reduction's columns (a log of reduced rows read back)
-RESULT_NAMES = frozenset(RESULT_COLUMNS)
+RESULT_NAMES = frozenset((*RESULT_COLUMNS, *DR_CONTEXT_COLUMNS))
 
 _SEPARATOR_NAMES = {",": "comma", ";": "semicolon", "\t": "tab"}
 

@@ -45,6 +45,10 @@ def reduced_sights(log: SightLog, navigators: tuple[str, ...] = ()) -> pd.DataFr
     :func:`navred.jobs.voyage.process_log` carries it."""
     if len(log.table) and (log.table["dr_carried_from"] != "").any():
         return process_log(log, plan=False, navigators=navigators).reduced
+    if navigators:  # a group mixing the navigators' sights and another observer's is split, as process_log does
+        from .shipsfixes import split_mixed_groups
+
+        log = split_mixed_groups(log, tuple(navigators))
     return reduce_sights(log)
 
 

@@ -333,8 +333,20 @@ def blunder_test(residual, leverage, use, dof, sigma, root_w=None):
     if testable.any():
         per_sight = (critical[testable, None] * np.asarray(sigma)[testable, None] / np.sqrt(miss[testable])
                      / root[testable])
-        detectable[testable] = np.nanmedian(np.where(use[testable], per_sight, np.nan), axis=1)
+        detectable[testable] = _row_median(np.where(use[testable], per_sight, np.nan))
     return outlier, gross, clear, np.maximum(detectable, BLUNDER_MIN_ARCMIN)
+
+
+def _row_median(values: np.ndarray) -> np.ndarray:
+    """Each row's median of its numbers (NaN left out; NaN for a row of none): ``np.nanmedian(values, axis=1)``
+    to the bit (tested), without its masked-array path, which cost a small fix a tenth of its time."""
+    ordered = np.sort(values, axis=1)  # NaN sorts last
+    count = np.sum(~np.isnan(values), axis=1)
+    last = max(values.shape[1] - 1, 0)
+    low = np.take_along_axis(ordered, np.clip((count - 1) // 2, 0, last)[:, None], axis=1)[:, 0]
+    high = np.take_along_axis(ordered, np.clip(count // 2, 0, last)[:, None], axis=1)[:, 0]
+    with np.errstate(invalid="ignore", over="ignore"):
+        return np.where(count == 0, np.nan, np.where(count % 2 == 1, low, (low + high) / 2.0))
 
 
 @functools.lru_cache(maxsize=256)

@@ -221,13 +221,13 @@ def test_bulk_angle_reading_never_reads_what_the_careful_parser_would_not():
 def test_plain_degrees_and_minutes_read_at_once_are_read_as_one_by_one():
     # issue 26: texts written plainly ("33 06.7 S", "067 58.9") are read by numpy's string functions, all at
     # once, and must give each text exactly what the careful one-by-one parser (parse_angle) gives, and take
-    # nothing it refuses; 20,000 seeded texts of that form, half of them mutated by a character put in, taken
+    # nothing it refuses; 8,000 seeded texts of that form, half of them mutated by a character put in, taken
     # out or changed (a second space, a letter of the wrong kind, 60′ or more, a non-ASCII digit, a sign...)
     from navred.angles import parse_angle, parse_angles_fast
     from navred.errors import AngleInputError
 
     rng = np.random.default_rng(26)
-    count = 20_000
+    count = 8_000
     degrees = [f"{d:0{w}d}" for d, w in zip(rng.integers(0, 400, count).tolist(), rng.integers(1, 4, count).tolist())]
     minutes = [f"{m:0{4 + p}.{p}f}" if p else f"{int(m):02d}" for m, p in
                zip(rng.uniform(0, 61, count).tolist(), rng.integers(0, 4, count).tolist())]
@@ -251,7 +251,7 @@ def test_plain_degrees_and_minutes_read_at_once_are_read_as_one_by_one():
                 continue
             if read:
                 assert careful == value, (kind, text, careful, value)
-    assert taken > 8_000  # the plain form is taken at once
+    assert taken > 3_000  # the plain form is taken at once
 
 
 def test_the_common_forms_are_read_in_bulk():

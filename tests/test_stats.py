@@ -114,3 +114,30 @@ def test_the_likelihood_root_is_the_halvings_and_scipys():
                 if np.count_nonzero(np.diff(np.sign([slope(v) for v in grid]))) == 1:
                     reference_root = brentq(slope, 1e-12, np.max(z2[k]) + 1e-12, xtol=1e-15, rtol=1e-14)
                     assert found[k] == pytest.approx(reference_root, rel=1e-9, abs=1e-12)
+
+
+def test_the_blunder_tests_median_is_numpys_nanmedian():
+    # issue 26: the smallest blunder a fix finds is each group's median over its sights; navred takes it without
+    # numpy's masked-array path and must give numpy.nanmedian's value (the general-purpose reference) to the bit,
+    # per number of sights, gaps, infinities and huge values included
+    import warnings
+
+    from navred.fixstats import BLUNDER_ALPHA, BLUNDER_MIN_ARCMIN, blunder_test
+
+    rng = np.random.default_rng(26)
+    for sights in range(3, 13):
+        residual = rng.normal(0, 1, (300, sights))
+        leverage = rng.uniform(0, 0.9, (300, sights))
+        use = rng.random((300, sights)) < 0.85
+        dof = use.sum(axis=1) - 2.0
+        sigma = rng.uniform(0.1, 3, 300) * 10.0 ** rng.integers(-3, 200, 300)
+        *_, detectable = blunder_test(residual, leverage, use, dof, sigma)
+        testable = dof >= 2
+        n = np.maximum(use.sum(axis=1), 1)
+        critical = student_t_quantile(1.0 - BLUNDER_ALPHA / (2.0 * n), np.where(testable, dof - 1.0, 1.0))
+        per_sight = critical[:, None] * sigma[:, None] / np.sqrt(np.clip(1.0 - leverage, 1e-12, 1.0))
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", RuntimeWarning)
+            expected = np.nanmedian(np.where(use, per_sight, np.nan), axis=1)
+        expected = np.maximum(np.where(testable, expected, np.nan), BLUNDER_MIN_ARCMIN)
+        assert np.array_equal(detectable, expected, equal_nan=True), sights

@@ -195,10 +195,10 @@ def likelihood_root(z2: np.ndarray, lam: np.ndarray, inside: np.ndarray) -> np.n
             single |= falling(lo, hi)
         with np.errstate(divide="ignore", invalid="ignore"):
             newton = v - value / change
-        inward = single & (change < 0) & np.isfinite(newton) & (newton > lo) & (newton < hi)
+        close = single & (change < 0) & (np.abs(newton - v) <= ROOT_TOLERANCE * v)  # at the root: the last step
+        inward = close | (single & (change < 0) & np.isfinite(newton) & (newton > lo) & (newton < hi))
         nxt = np.where(inward, newton, (lo + hi) / 2.0)
-        now = ~settled & ((inward & (np.abs(nxt - v) <= ROOT_TOLERANCE * nxt)) | (hi - lo <= resolution)
-                          | (value == 0.0))
+        now = ~settled & (close | (hi - lo <= resolution) | (value == 0.0))
         v = np.where(settled | (value == 0.0), v, nxt)
         settled |= now
         if settled.all():

@@ -134,7 +134,8 @@ def _gross_by_leaving_out(sights: SightRows, group, ok, left_out, wild: list[int
                       dr_lat=sights.dr_lat[rows], dr_lon=sights.dr_lon[rows], course=sights.course[rows],
                       speed=sights.speed[rows], set_deg=sights.set_deg[rows], drift_kn=sights.drift_kn[rows],
                       dr_age_h=sights.dr_age_h[rows], names=sights.names[rows],
-                      weight=None if sights.weight is None else sights.weight[rows])
+                      weight=None if sights.weight is None else sights.weight[rows],
+                      line_sigma=None if sights.line_sigma is None else sights.line_sigma[rows])
         times = np.array([results[g].utc for g in owner], dtype="datetime64[ns]")
         trials, _ = fix_batch(sub, np.concatenate(copies_group), len(owner), np.ones(rows.size, dtype=bool),
                                np.concatenate(copies_left), times)

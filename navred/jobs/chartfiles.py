@@ -25,6 +25,7 @@ from ..io.exports import (
     iso_z,
     line_feature,
     point_feature,
+    polygon_feature,
     write_geojson,
     write_gpx,
 )
@@ -158,8 +159,8 @@ def _fix_features(voyage, group, current: dict) -> list[dict]:
             "note": "a gross error included: the fix leaves it out"}))
     features.append(point_feature(fix.dr_lat_deg, fix.dr_lon_deg, {**common, "kind": "DR"}))
     if fix.is_fix:
-        features.append({"type": "Feature", "geometry": {"type": "Polygon", "coordinates": [ellipse_polygon(fix)]},
-                         "properties": {**common, "kind": "95 % ellipse"}})
+        ring = ellipse_polygon(fix)
+        features.append(polygon_feature([p[1] for p in ring], [p[0] for p in ring], {**common, "kind": "95 % ellipse"}))
     else:
         length = max(20.0, 10 * fix.ellipse_semi_minor_nm)
         ends = [destination(fix.lat_deg, fix.lon_deg, fix.line_bearing_deg + side, length) for side in (0.0, 180.0)]

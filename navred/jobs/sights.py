@@ -28,15 +28,21 @@ from ..io.logbook import (
     whole_log_columns,
 )
 from ..io.logcells import chosen_texts, texts_of
+from ..landmarks import bearing_body, line_sigma_nm, range_body
 from ..status import SightStatus
 from ..timescales import UT1_BEFORE, UT1_BEYOND, instants_from_utc_jd
 from ..triangle import (
     HIGH_ALTITUDE_DEG,
     computed_altitude_azimuth,
+    distance_bearing,
     intercept_direction,
     intercept_nm,
 )
 from ..vocabulary import RESULT_COLUMNS  # the columns reduce_sights adds, in order
+
+#: A mark farther than this from the DR is not one a bearing is taken of (nautical miles; common practice: a
+#: light's range in clear weather is some 20-30 nm).
+MARK_FAR_NM = 40.0
 
 # A star or planet on the sea horizon is taken in twilight (SUN_BRIGHT_SKY_DEG to SUN_DARK_HORIZON_DEG, in
 # navred.constants with their sources); the navigation manuals give the best star time as the Sun between
@@ -180,6 +186,10 @@ def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
     notes.warn(~has_disc & np.isin(limb, ["lower", "upper"]) & notes.ok,
                "limb ignored: only the Sun and Moon show a disc")
     limb = np.where(has_disc & no_limb, "lower", np.where(has_disc, limb, "centre"))
+    if "watch_error_warning" in frame.columns:  # a rated timepiece's error extrapolated or across a change
+        timed = frame["watch_error_warning"].fillna("").astype(str).to_numpy(dtype=object)
+        warned = np.flatnonzero((timed != "") & notes.ok)
+        notes.warn(warned, timed[warned])
     horizon = frame["horizon"].to_numpy(dtype=object)
     notes.warn(has_disc & (horizon == "bubble") & np.isin(frame["limb"].to_numpy(dtype=object), ["lower", "upper"])
                & notes.ok, "limb ignored: a bubble horizon is on the body's centre")
@@ -189,7 +199,11 @@ def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
     result = {c: np.full(n, np.nan) for c in RESULT_COLUMNS}
     for c in ("ut1_source", "intercept_direction", "status", "message", "error_column"):
         result[c] = texts_of(n, "")
-    rows = np.flatnonzero(notes.ok)
+    mark = (frame["mark"].fillna("").astype(str).to_numpy(dtype=object) != "") if "mark" in frame.columns \
+        else np.zeros(n, dtype=bool)
+    if mark.any():
+        _reduce_marks(frame, notes, mark, lat, lon, result)
+    rows = np.flatnonzero(notes.ok & ~mark)
     if rows.size:
         inst = instants_from_utc_jd(frame["utc_jd1"].to_numpy(dtype=float)[rows],
                                     frame["utc_jd2"].to_numpy(dtype=float)[rows],
@@ -248,6 +262,41 @@ def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
     result["message"] = np.where(bad, notes.error, notes.warning).astype(object)
     result["error_column"] = notes.column
     return pd.DataFrame({column: result.pop(column) for column in RESULT_COLUMNS})
+
+
+def _reduce_marks(frame: pd.DataFrame, notes: _Notes, mark: np.ndarray, lat: np.ndarray, lon: np.ndarray,
+                  result: dict) -> None:
+    """The rows that are a bearing or a radar range of a charted object: each turned into a body of its own
+    (:mod:`navred.landmarks`), its Ho, Hc from the DR, Zn and intercept, and its σ across the line."""
+    rows = np.flatnonzero(mark & notes.ok)
+    if not rows.size:
+        return
+    mark_lat = frame["mark_lat_deg"].to_numpy(dtype=float)[rows]
+    mark_lon = frame["mark_lon_deg"].to_numpy(dtype=float)[rows]
+    bearing = frame["bearing_deg"].to_numpy(dtype=float)[rows]
+    ranged = frame["range_nm"].to_numpy(dtype=float)[rows]
+    is_range = np.isfinite(ranged)
+    near_lat, near_lon = lat[rows], lon[rows]
+    gha_b, dec_b, ho_b = bearing_body(mark_lat, mark_lon, np.nan_to_num(bearing), near_lat, near_lon)
+    gha_r, dec_r, ho_r = range_body(mark_lat, mark_lon, np.nan_to_num(ranged), near_lat, near_lon)
+    gha = np.where(is_range, gha_r, gha_b)
+    dec = np.where(is_range, dec_r, dec_b)
+    ho = np.where(is_range, ho_r, ho_b)
+    hc, zn = computed_altitude_azimuth(near_lat, near_lon, gha, dec)
+    distance, _ = distance_bearing(near_lat, near_lon, mark_lat, mark_lon)
+    sigma = np.where(is_range, frame["range_sigma_nm"].to_numpy(dtype=float)[rows],
+                     frame["bearing_sigma_deg"].to_numpy(dtype=float)[rows])
+    kind = np.where(is_range, "range", "bearing").astype(object)
+    line_sigma = line_sigma_nm(kind, sigma, ranged, np.where(is_range, ranged, distance))
+    for column, value in (("gha_deg", gha), ("dec_deg", dec), ("ho_deg", ho), ("hc_deg", hc), ("zn_deg", zn),
+                          ("lha_deg", wrap_360(gha + near_lon)), ("line_sigma_nm", line_sigma)):
+        result[column][rows] = value
+    far = distance > MARK_FAR_NM
+    notes.warn(rows[far & ~is_range], f"the DR is over {MARK_FAR_NM:.0f} nm from the mark: a visual bearing of "
+                                      "it is unlikely; check the mark's position and the DR")
+    notes.warn(rows[~np.isfinite(sigma)], np.where(is_range[~np.isfinite(sigma)],
+                                                   "range σ not given: 1 % of the range assumed",
+                                                   "bearing σ not given: 1° assumed"))
 
 
 def _twilight_check(notes: _Notes, rows: np.ndarray, bodies: np.ndarray, horizon: np.ndarray, inst, lat: np.ndarray,

@@ -169,7 +169,10 @@ def _layout(s: SightRows, group, n_groups, ok, weighted, work, fix_time_given) -
 def _kinds(s: SightRows, lay: _Layout):
     """What each group is: a fix with its motion (asked for and supported), a line (the lines cross at less than
     LINE_ONLY_DEG), or a fix; why the motion cannot be solved where it was asked for; the widest crossing."""
-    _, zn0 = computed_altitude_azimuth(lay.lat0[:, None], lay.lon0[:, None], lay.gha, lay.dec)
+    # each line's azimuth where it was observed: the DR carried back (or on) to each sight, as the solution
+    # works it (at the DR of the fix time a noon Sun near the zenith hours before would have another azimuth)
+    sight_lat, sight_lon = at_sights(lay.track, lay.lat0, lay.lon0)
+    _, zn0 = computed_altitude_azimuth(sight_lat, sight_lon, lay.gha, lay.dec)
     spread0 = azimuth_spread_many(zn0, lay.use)
     size = lay.work.size
     motion = np.zeros(size, dtype=bool)
@@ -188,21 +191,37 @@ def _kinds(s: SightRows, lay: _Layout):
 
 
 def _solve_kinds(s: SightRows, lay: _Layout, motion, line, spread0) -> dict:
-    """Each kind of group solved at once: {2: fixes, 4: fixes with their motion, 'line': lines}, each (rows, Part)."""
+    """Each kind of group solved at once: {2: fixes, 4: fixes with their motion, 'line': lines}, each (rows, Part).
+
+    One rule makes a fix: a group solved as a fix whose position is none after all (its lines cross at less
+    than LINE_ONLY_DEG where it lies, the iteration did not settle, or its ellipse is a line's:
+    :func:`navred.fixkinds.not_a_fix`) is worked as a line of position (or a latitude) with the others, and
+    says why."""
     parts = {}
+    line = line.copy()
+    shown = np.array(spread0, dtype=float)
+    reason = np.full(line.size, "", dtype=object)
     for k, chosen in ((2, ~line & ~motion & ~lay.polar), (4, motion)):
         if chosen.any():
             rows = np.flatnonzero(chosen)
             velocity0 = (np.where(lay.use[rows], lay.vn[rows], 0.0).sum(1) / lay.n_used[rows],
                          np.where(lay.use[rows], lay.ve[rows], 0.0).sum(1) / lay.n_used[rows])
-            parts[k] = (rows, solve_fix_part(k, rows, lay.gha, lay.dec, lay.ho, lay.use, lay.present, lay.track,
-                                             lay.lat0, lay.lon0, velocity0, s.dr_error_kn, s.dr_error_fraction,
-                                             lay.weight, None if lay.sigma is None else lay.sigma[rows]))
+            part = solve_fix_part(k, rows, lay.gha, lay.dec, lay.ho, lay.use, lay.present, lay.track,
+                                  lay.lat0, lay.lon0, velocity0, s.dr_error_kn, s.dr_error_fraction, lay.weight,
+                                  None if lay.sigma is None else lay.sigma[rows])
+            demoted = part.not_fix != ""
+            if demoted.any():
+                line[rows[demoted]] = True
+                shown[rows[demoted]] = part.spread_deg[demoted]
+                reason[rows[demoted]] = part.not_fix[demoted]
+                part, rows = part.take(np.flatnonzero(~demoted)), rows[~demoted]
+            if rows.size:
+                parts[k] = (rows, part)
     if line.any():
         rows = np.flatnonzero(line)
         parts["line"] = (rows, solve_line_part(rows, lay.gha, lay.dec, lay.ho, lay.use, lay.present, lay.track,
-                                               lay.lat0, lay.lon0, spread0, s.dr_error_kn, s.dr_error_fraction,
-                                               lay.weight))
+                                               lay.lat0, lay.lon0, shown, s.dr_error_kn, s.dr_error_fraction,
+                                               lay.weight, reason))
     return parts
 
 

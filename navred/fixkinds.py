@@ -11,7 +11,14 @@ import numpy as np
 
 from .angles import wrap_180, wrap_360, wrap_axial
 from .constants import ARCMIN_PER_DEG
-from .fixresult import EMPTY_ROWS, LINE_ONLY_DEG, FixResult
+from .fixresult import (
+    EMPTY_ROWS,
+    FIX_ELLIPSE_LIMIT_NM,
+    LINE_ONLY_DEG,
+    LINE_ONLY_RATIO,
+    FixResult,
+    angle_words,
+)
 from .fixstats import (
     A_PRIORI_SIGMA_ARCMIN,
     CONFIDENCE,
@@ -63,6 +70,44 @@ class Part:
     gross: np.ndarray
     clear: np.ndarray
     result: Callable[[int], FixResult | None]
+    #: a fix part's groups: why each is no fix after all ('' for a fix; see :func:`not_a_fix`)
+    not_fix: np.ndarray | None = None
+    #: a fix part's groups: the widest angle at which the lines cross at the position solved
+    spread_deg: np.ndarray | None = None
+
+    def take(self, keep: np.ndarray) -> Part:
+        """This part's groups ``keep`` (indices), in that order."""
+        keep = np.asarray(keep, dtype=np.intp)
+        picked = keep.tolist()
+        return Part(self.residual_arcmin[keep], self.outlier[keep], self.gross[keep], self.clear[keep],
+                    lambda j: self.result(picked[j]),
+                    None if self.not_fix is None else self.not_fix[keep],
+                    None if self.spread_deg is None else self.spread_deg[keep])
+
+
+def not_a_fix(spread_deg: np.ndarray, converged: np.ndarray, major_nm: np.ndarray, minor_nm: np.ndarray,
+              singular: np.ndarray) -> np.ndarray:
+    """Why each least-squares position is no fix, in words ('' for a fix), one rule for every group: its lines
+    cross at less than LINE_ONLY_DEG where it lies; the iteration did not settle; or its 95 % ellipse is longer
+    than FIX_ELLIPSE_LIMIT_NM (semi-major axis) and as narrow as lines crossing below LINE_ONLY_DEG give
+    (LINE_ONLY_RATIO). Each such group is then worked as what it is, a line of position (or a latitude). A long
+    round ellipse (a scatter, or too few sights) stays a position, marked as not to be trusted
+    (:func:`navred.grosserrors.mark_untrusted`)."""
+    out = np.full(spread_deg.shape, "", dtype=object)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        narrow = (major_nm > FIX_ELLIPSE_LIMIT_NM) & (major_nm > LINE_ONLY_RATIO * minor_nm)
+    for j in np.flatnonzero(~singular & ((spread_deg < LINE_ONLY_DEG) | ~converged | narrow)).tolist():
+        angle = angle_words(float(spread_deg[j]), LINE_ONLY_DEG)
+        if spread_deg[j] < LINE_ONLY_DEG:
+            out[j] = f"the lines of position cross at {angle} at most (below {LINE_ONLY_DEG:.0f}°)"
+        elif not converged[j]:
+            out[j] = (f"the least-squares position did not settle to {CONVERGED_NM} nm in {MAX_ITERATIONS} steps "
+                      f"(the lines cross at {angle} at most)")
+        else:
+            out[j] = (f"its 95 % ellipse would be {2 * major_nm[j]:.0f} × {2 * minor_nm[j]:.1f} nm, beyond the "
+                      f"{2 * FIX_ELLIPSE_LIMIT_NM:.0f} nm of a position to plot as a fix and as thin as a line's (the "
+                      f"lines cross at {angle} at most)")
+    return out
 
 
 def solve_fix_part(k, rows, gha, dec, ho, use, present, track, lat0, lon0, velocity0, dr_error_kn, dr_error_fraction,
@@ -109,7 +154,9 @@ def solve_fix_part(k, rows, gha, dec, ho, use, present, track, lat0, lon0, veloc
     st["weighted"] = np.any(u & (w != 1.0), axis=1)
     if stated is not None:
         _stated_statistics(st, core, u, sub_track, k, stated, each, dr_error_kn, dr_error_fraction)
-    return Part(core.residual_arcmin, st["outlier"], st["gross"], st["clear"], _fix_results(core, st, k))
+    why = not_a_fix(st["spread"], core.converged, st["major"], st["minor"], core.singular)
+    return Part(core.residual_arcmin, st["outlier"], st["gross"], st["clear"], _fix_results(core, st, k), why,
+                st["spread"])
 
 
 def _stated_statistics(st: dict, core: CoreFixes, u: np.ndarray, sub_track, k: int, stated: np.ndarray,
@@ -233,8 +280,9 @@ def _fix_results(core: CoreFixes, st: dict[str, np.ndarray], k: int) -> Callable
             source += WEIGHTED_WORDS
         spread = numbers["spread"][j]
         if spread < WEAK_CROSSING_DEG:
-            warnings_.append(f"weak fix: the lines of position cross at {spread:.0f}° at most (azimuths "
-                             f"alike or opposite); below {WEAK_CROSSING_DEG:.0f}° the fix is poorly defined")
+            warnings_.append(f"weak fix: the lines of position cross at {angle_words(spread, WEAK_CROSSING_DEG)} at "
+                             f"most (azimuths alike or opposite); below {WEAK_CROSSING_DEG:.0f}° the fix is poorly "
+                             "defined")
         if not converged_l[j]:
             warnings_.append(f"the iteration did not settle to {CONVERGED_NM} nm in {MAX_ITERATIONS} steps")
         detectable = numbers["detectable"][j]
@@ -263,7 +311,7 @@ def _fix_results(core: CoreFixes, st: dict[str, np.ndarray], k: int) -> Callable
 
 
 def solve_line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0, dr_error_kn, dr_error_fraction,
-                    weight=None):
+                    weight=None, reason=None):
     """Groups whose lines of position (nearly) coincide: one combined line each, worked from the DR.
 
     Each line, advanced to the fix time, lies a_j miles from the DR toward its azimuth Z_j; the
@@ -327,8 +375,10 @@ def solve_line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0
                   else f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight") + (WEIGHTED_WORDS if weighted[j] else "")
         side = "toward" if offset[j] >= 0 else "away from"
         what = "a latitude (the sights are on the meridian)" if meridian[j] else "a line of position"
-        message = (f"not a fix: the lines of position cross at {spread0[rows[j]]:.0f}° at most (below "
-                   f"{LINE_ONLY_DEG:.0f}°), so the sights give {what}, {abs(offset[j]):.1f} nm {side} "
+        why = (reason[rows[j]] if reason is not None else "") or (
+            f"the lines of position cross at {angle_words(float(spread0[rows[j]]), LINE_ONLY_DEG)} at most (below "
+            f"{LINE_ONLY_DEG:.0f}°)")
+        message = (f"not a fix: {why}, so the sights give {what}, {abs(offset[j]):.1f} nm {side} "
                    f"{toward[j]:03.0f}° from the DR, good to ±{half_width[j]:.1f} nm (95 %); the position along "
                    "it is the DR's")
         quantile = "normal" if not np.isfinite(nu[j]) else (f"t({d})" if abs(nu[j] - d) < 0.05 else f"t({nu[j]:.1f})")
@@ -340,11 +390,12 @@ def solve_line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0
             covariance_nm2=np.array([[variance[j], 0.0], [0.0, np.inf]]), confidence_scale=float(t[j]),
             sigma_source=source, iterations=0, quantile=quantile, kind=FixKind.LATITUDE if meridian[j] else FixKind.LINE,
             spread_deg=float(spread0[rows[j]]), line_bearing_deg=float(along[j]), line_offset_nm=float(offset[j]),
-            line_toward_deg=float(toward[j]), dr_error_included=bool(run_included[j]), redundant=d,
+            line_toward_deg=float(toward[j]), dr_error_included=bool(run_included[j]), redundant=d, not_fix_reason=why,
             blunder_note=blunder_note(int(n[j]), d, float(detectable[j]), 1),
             detectable_blunder_arcmin=float(detectable[j]))
 
     return Part(residual, outlier, gross, clear, result)
 
 
-__all__ = ["WEIGHTED_WORDS", "WEAK_CROSSING_DEG", "MERIDIAN_AZIMUTH_DEG", "Part", "solve_fix_part", "solve_line_part"]
+__all__ = ["WEIGHTED_WORDS", "WEAK_CROSSING_DEG", "MERIDIAN_AZIMUTH_DEG", "Part", "not_a_fix", "solve_fix_part",
+           "solve_line_part"]

@@ -229,6 +229,11 @@ RESULT_COLUMNS = (
     "intercept_direction", "status", "message", "error_column",
 )
 
+#: The column of a reduced table that holds each sight's DR's age (hours; NaN: the log does not date it), added by
+#: ``navred.reduce_sights`` and ``navred.process_log``: the fix takes it for its check against the DR whichever
+#: way it is called (``navred.fix_positions`` as the commands).
+DR_AGE_COLUMN = "dr_age_h"
+
 # --- Words of the trade ----------------------------------------------------------
 LIMBS = {"lower": "lower", "ll": "lower", "l": "lower", "lower_limb": "lower",
          "upper": "upper", "ul": "upper", "u": "upper", "upper_limb": "upper",

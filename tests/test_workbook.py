@@ -94,6 +94,35 @@ def test_the_workbook_plans_the_next_twilight(mixed_log, tmp_path):
     assert "How the set was chosen" in cells and len(book["Sight plan"]._images) == 1
 
 
+def test_a_fleet_workbook_plans_each_vessels_next_twilight(tmp_path):
+    """Two vessels in one log (the invented demo as Alba; its first three Sun sights again as Brisa): each gets
+    the plan of its own next twilight after its own latest fix, named; a one-vessel log's plan names its vessel.
+    The twilights are navred's own (tested against skyfield in tests/test_plan.py)."""
+    demo = pd.read_csv("sample_sights/demo_sights.csv", dtype=str, keep_default_na=False)
+    fleet = pd.concat([demo.assign(vessel="Alba"), demo.iloc[:3].assign(vessel="Brisa")], ignore_index=True)
+    path = tmp_path / "fleet.csv"
+    fleet.to_csv(path, index=False)
+    voyage = process_log(path)
+    plans = dict(voyage.vessel_plans)
+    assert list(plans) == ["Alba", "Brisa"]
+    latest = {name: max(g.fix.utc for g in voyage.groups if g.fix is not None and g.name.startswith(name))
+              for name in plans}
+    for name, plan in plans.items():  # the first twilight that begins after the vessel's own latest fix
+        assert latest[name] < plan.utc < latest[name] + np.timedelta64(15, "h")
+    assert plans["Brisa"].utc < plans["Alba"].utc  # Brisa's last fix is the afternoon Sun: that evening's twilight
+    book = openpyxl.load_workbook(write_workbook(voyage, tmp_path / "fleet.xlsx"))
+    values = list(book["Sight plan"].values)
+    assert values[0][0] == "vessel"
+    assert {row[0] for row in values[1:] if row[0] in plans} == {"Alba", "Brisa"}
+    cells = [str(c) for row in values for c in row if c]
+    assert any(c.startswith("Alba: 2026-03-27") for c in cells) and any(c.startswith("Brisa: 2026-03-26") for c in cells)
+    assert len(book["Sight plan"]._images) == 2
+    one = openpyxl.load_workbook(write_workbook(process_log("sample_sights/demo_sights.csv"), tmp_path / "one.xlsx"))
+    cells = [str(c) for row in one["Sight plan"].values for c in row if c]
+    assert any(c.startswith("Moth Orchid (invented): ") for c in cells)
+    assert list(one["Sight plan"].values)[0][0] == "body"
+
+
 def test_summary_counts(mixed_log):
     voyage = process_log(mixed_log[0])
     assert voyage.summary() == "11 sights reduced, 3 fixes, 2 rejected"

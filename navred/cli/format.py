@@ -12,6 +12,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from ..angles import format_angle, wrap_360
+from ..fixresult import LINE_ONLY_DEG, angle_words
 from ..status import FixKind, RunFrom, SightStatus
 
 if TYPE_CHECKING:  # pandas is imported by the formatters that need it: navred almanac stays quick
@@ -273,8 +274,9 @@ def _fix_head_lines(group, vessel: str = "") -> list[str]:
         if fix.ellipse_note:
             lines.append(f"                 {fix.ellipse_note}")
         return lines
-    lines = [f'{ship}No fix in "{group.name}": {int(fix.used.sum())} sights whose lines cross at {fix.spread_deg:.0f}° '
-             f"give a {fix.kind}, at {when} UTC"]
+    why = fix.not_fix_reason or f"their lines cross at {angle_words(fix.spread_deg, LINE_ONLY_DEG)} at most"
+    lines = [f'{ship}No fix in "{group.name}": {int(fix.used.sum())} sights give a {fix.kind}, at {when} UTC: '
+             f"{why}"]
     if fix.kind == FixKind.LATITUDE:
         lines.append(f"  latitude       {format_angle(fix.lat_deg, 'lat')}, 95 % band {fix.ellipse_text()}"
                      + (f"; noon curve {format_angle(fix.noon_curve_latitude_deg, 'lat')}"

@@ -40,6 +40,7 @@ from ..vocabulary import (
     BOOKKEEPING_HEADERS,
     COLUMN,
     COLUMNS,
+    DR_AGE_COLUMN,
     OUTPUT_SUFFIX,
     OWN_COLUMN_HINT,
     RESULT_COLUMNS,
@@ -413,9 +414,7 @@ def _check_is_log(table: RawTable, keys: dict) -> None:
 
 
 #: the reduction's columns (a log of reduced rows read back)
-
-#: the reduction's columns (a log of reduced rows read back)
-RESULT_NAMES = frozenset(RESULT_COLUMNS)
+RESULT_NAMES = frozenset((*RESULT_COLUMNS, DR_AGE_COLUMN))
 
 _SEPARATOR_NAMES = {",": "comma", ";": "semicolon", "\t": "tab"}
 

@@ -59,8 +59,11 @@ def fix_description(group) -> str:
 
 def _fix_waypoints(group) -> list[GpxPoint]:
     fix, when = group.fix, iso_z(group.fix.utc)
-    name = f"UNTRUSTED fix {group.name}" if fix.untrusted else f"fix {group.name}"
-    points = [GpxPoint(fix.lat_deg, fix.lon_deg, when, name, fix_description(group), "fix"),
+    if not fix.is_fix:  # a plotter shows only the name: the foot of a line (or a latitude) is an EP on it, no fix
+        name, kind = f"EP {group.name} on the {fix.kind}, not a fix", f"EP on the {fix.kind}"
+    else:
+        name, kind = (f"UNTRUSTED fix {group.name}" if fix.untrusted else f"fix {group.name}"), "fix"
+    points = [GpxPoint(fix.lat_deg, fix.lon_deg, when, name, fix_description(group), kind),
               GpxPoint(fix.dr_lat_deg, fix.dr_lon_deg, when, f"DR {group.name}", "DR at the fix time", "DR")]
     if fix.all_sights is not None:
         every = fix.all_sights

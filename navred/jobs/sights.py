@@ -38,7 +38,7 @@ from ..triangle import (
     intercept_direction,
     intercept_nm,
 )
-from ..vocabulary import RESULT_COLUMNS  # the columns reduce_sights adds, in order
+from ..vocabulary import DR_AGE_COLUMN, RESULT_COLUMNS  # the columns reduce_sights adds, in order
 
 #: A mark farther than this from the DR is not one a bearing is taken of (nautical miles; common practice: a
 #: light's range in clear weather is some 20-30 nm).
@@ -121,11 +121,29 @@ def reduce_sights(sights: SightLog | LogSource) -> pd.DataFrame:
         spans = frame_blocks(sights, FRAME_BLOCK_ROWS)
         if spans is not None:
             return _reduce_frame_in_blocks(sights, spans)
-    table = parsed_sights(sights).reset_index(drop=True)
+    log = sights if isinstance(sights, SightLog) else None
+    if log is None and not (isinstance(sights, pd.DataFrame) and _is_parsed(sights)):
+        log = read_sight_log(sights)
+    table = (log.table if log is not None else parsed_sights(sights)).reset_index(drop=True)
     added = pd.concat([_reduce_block(table.iloc[i:i + BLOCK_ROWS].reset_index(drop=True))
                        for i in range(0, max(len(table), 1), BLOCK_ROWS)], ignore_index=True)
-    carried = table.drop(columns=[c for c in RESULT_COLUMNS if c in table.columns])
-    return pd.concat([carried, added], axis=1)
+    carried = table.drop(columns=[c for c in (*RESULT_COLUMNS, DR_AGE_COLUMN) if c in table.columns])
+    out = pd.concat([carried, added], axis=1)
+    out[DR_AGE_COLUMN] = _dr_ages(log, out)
+    return out
+
+
+def _dr_ages(log: SightLog | None, reduced: pd.DataFrame) -> np.ndarray:
+    """Each sight's DR's age (hours) from the log's known positions, as :func:`navred.process_log` dates it
+    before any fix (:func:`navred.jobs.drcontext.dr_context`); NaN where the log does not say (a table already
+    parsed, whose entry rows are not at hand)."""
+    if log is None or not len(reduced):
+        return np.full(len(reduced), np.nan)
+    from .drcontext import (
+        dr_context,  # the DR's track is the day's work's, which reads the reduced table
+    )
+
+    return dr_context(log, reduced, [])["age_h"]
 
 
 #: rows of a long DataFrame log read and reduced at a time (:func:`navred.io.logbook.frame_blocks`)

@@ -112,7 +112,7 @@ def write_workbook(voyage, path: str | Path, *, plots: bool | Pictures = True, t
     write_table_sheet(tables, fixes_sheet, fixes, wide={"note": 80, "σ from": 30})
     write_table_sheet(tables, book.create_sheet("Rejected"), rejected_table(voyage), wide={"reason": 90})
     if voyage.next_plan is not None:
-        _write_plan_sheet(tables, book.create_sheet("Sight plan"), voyage.next_plan, pictures.embed)
+        _write_plan_sheet(tables, book.create_sheet("Sight plan"), voyage, pictures)
     if training is not None:
         _write_training_sheet(tables, book.create_sheet("Training"), training, pictures)
     series = series_table(voyage)
@@ -310,20 +310,33 @@ def _write_series_sheet(tables: TableWriter, sheet, voyage, table: pd.DataFrame,
         add_figure(sheet, series_figure(voyage.reduced, name), f"{'A' if k % 2 == 0 else 'G'}{row + (k // 2) * 14}", 400, 256)
 
 
-def _write_plan_sheet(tables: TableWriter, sheet, plan, plots: bool) -> None:
+def _write_plan_sheet(tables: TableWriter, sheet, voyage, pictures: Pictures) -> None:
+    """The next twilight's plan: of the one vessel (named when the log names it), or of each vessel the log
+    names, one after another (a vessel column), each from its own latest fix."""
     from openpyxl.styles import Font
 
-    table = plan_table(plan)
+    plans = list(voyage.vessel_plans) or [("", voyage.next_plan)]
+    several = len(plans) > 1
+    table = pd.concat([plan_table(plan).assign(vessel=name)[["vessel", *plan_table(plan).columns]]
+                       if several else plan_table(plan) for name, plan in plans], ignore_index=True)
     write_table_sheet(tables, sheet, table)
     line = len(table) + 3
-    sheet.cell(row=line, column=1, value="When and where").font = Font(bold=True)
-    sheet.cell(row=line, column=2, value=f"{str(plan.utc)[:19].replace('T', ' ')} UTC, DR "
-               f"{format_angle(plan.lat_deg, 'lat')} {format_angle(plan.lon_deg, 'lon')} (midway between civil "
-               "and nautical twilight)")
-    sheet.cell(row=line + 1, column=1, value="How the set was chosen").font = Font(bold=True)
-    sheet.cell(row=line + 1, column=2, value=plan.explanation)
-    if plots:
+    for name, plan in plans:
+        whose = f"{name}: " if name else ""
+        sheet.cell(row=line, column=1, value="When and where").font = Font(bold=True)
+        write_text_safe(sheet.cell(row=line, column=2), (
+            f"{whose}{str(plan.utc)[:19].replace('T', ' ')} UTC, DR {format_angle(plan.lat_deg, 'lat')} "
+            f"{format_angle(plan.lon_deg, 'lon')} (midway between civil and nautical twilight), carried on from "
+            f"the position {'its' if name else 'the'} latest sights gave by {'its' if name else 'the'} last course "
+            "and speed"))
+        sheet.cell(row=line + 1, column=1, value="How the set was chosen").font = Font(bold=True)
+        write_text_safe(sheet.cell(row=line + 1, column=2), f"{whose}{plan.explanation}")
+        line += 2
+    if pictures.embed:
         from ..figures.plotting import sky_picture
 
-        add_figure(sheet, sky_picture(plan, title="Sight plan: the next twilight"), f"A{line + 4}", 520, 555)
+        by_name = dict(plans)
+        pictures_below(sheet, line + 2, pictures, "sight plans", list(by_name),
+                       lambda name: sky_picture(by_name[name], title=f"Sight plan{': ' + name if name else ''}: "
+                                                                     "the next twilight"), (520, 555), 30)
 

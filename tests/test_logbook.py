@@ -137,7 +137,6 @@ def zone_row(date="2026-03-26", time="20:41:30", zone="+1", error="30 fast"):
     (zone_row(time="08:41:30", zone="-10", error=""), "2026-03-25T22:41:30"),
     (zone_row(time="08:41:30", zone="-10 K", error="12 slow"), "2026-03-25T22:41:42"),
     (zone_row(zone="0", error="1 m 05 s fast"), "2026-03-26T20:40:25"),
-    (zone_row(zone="Z", error="-3"), "2026-03-26T20:41:33"),  # a bare signed number: seconds, fast positive
     (zone_row(time="1941", zone="+1", error=""), "2026-03-26T20:41:00"),
     (zone_row(date="26 Mar 2026", time="23:30:00", zone="+5", error=""), "2026-03-27T04:30:00"),
 ])
@@ -159,6 +158,11 @@ def test_zone_time_and_watch_error_forms(tmp_path, row, expected):
     (zone_row(error="12"), "watch_error", "'12' has no fast or slow: 12 fast (the watch is ahead; subtracted) or 12 slow"),
     (zone_row(error="12 s"), "watch_error", "12 s fast (the watch is ahead; subtracted) or 12 s slow"),
     (zone_row(error="01:05"), "watch_error", "no fast or slow"),
+    # a sign alone is an error's (+ fast) or a correction's (+ added, the watch slow): 24 s, 6′ of longitude apart
+    (zone_row(error="+12 s"), "watch_error", "as an error (+ fast) it is 12 s fast (subtracted from the watch's "
+                                             "reading); as a correction (+ added) it is 12 s slow"),
+    (zone_row(error="-3"), "watch_error", "as an error (+ fast) it is 3 s slow (added to the watch's reading); as a "
+                                          "correction (+ added) it is 3 s fast"),
     (zone_row(time="18:42:30Z"), "zone_time", "carries a zone of its own"),
     (zone_row(time="7:41 pm"), "zone_time", "24-hour clock"),
     (zone_row(date="05/03/2026"), "date", "day-first it is 2026-03-05 (5 March), month-first 2026-05-03 (3 May)"),
@@ -172,6 +176,39 @@ def test_ambiguous_or_wrong_time_working_is_refused_by_name(tmp_path, row, colum
     hit = log.rejected[log.rejected.column == column]
     assert list(hit.row) == [2], log.rejected
     assert fragment in hit.reason.iloc[0]
+
+
+@pytest.mark.parametrize("header, error, expected", [
+    # the header states the sign, so a signed or bare number has one reading (common practice: both are kept)
+    ("watch error (s, fast +)", "-3", "2026-03-26T21:41:33"),
+    ("watch error (s, fast +)", "+30", "2026-03-26T21:41:00"),
+    ("watch error (fast +)", "30", "2026-03-26T21:41:00"),
+    ("watch error (s, slow +)", "+12", "2026-03-26T21:41:42"),  # a correction: added
+    ("watch error (slow −)", "-12", "2026-03-26T21:41:42"),
+    ("watch error (s, slow +)", "30 fast", "2026-03-26T21:41:00"),  # words win over the header's sign
+])
+def test_a_header_that_states_the_sign_reads_signed_watch_errors(tmp_path, header, error, expected):
+    log = read_sight_log(write(tmp_path, [ZONE_HEADER.replace("watch_error", f'"{header}"'), zone_row(error=error)]))
+    assert log.rejected.empty, log.rejected
+    assert str(log.sights.sight_utc[0].tz_convert(None)) == expected.replace("T", " ")
+
+
+def test_number_cells_of_a_watch_error_need_the_sign_stated():
+    frame = pd.DataFrame({"date": ["2026-03-26"] * 2, "zone_time": ["20:41:30"] * 2, "zone_description": ["+1"] * 2,
+                          "watch_error": [-3.0, 0.0], "body": ["Sirius"] * 2, "hs": ["30 02.4"] * 2,
+                          "eye_height_m": [2.8] * 2, "dr_lat": ["43 14 N"] * 2, "dr_lon": ["13 04 W"] * 2})
+    log = read_sight_log(frame)
+    assert list(log.rejected.row) == [1] and "as a correction (+ added) it is 3 s fast" in log.rejected.reason.iloc[0]
+    stated = read_sight_log(frame.rename(columns={"watch_error": "watch error (s, fast +)"}))
+    assert stated.rejected.empty and list(stated.sights.watch_error_applied_s) == [-3.0, 0.0]
+    assert list(stated.sights.watch_error_as_given) == ["-3 (3 s slow)", "0 (0 s)"]
+    slow = read_sight_log(frame.rename(columns={"watch_error": "watch error (s, slow +)"}))
+    assert list(slow.sights.watch_error_applied_s) == [3.0, 0.0]
+
+
+def test_a_watch_error_header_with_an_unknown_convention_is_refused(tmp_path):
+    with pytest.raises(LogbookError, match="neither seconds nor a sign convention"):
+        read_sight_log(write(tmp_path, [ZONE_HEADER.replace("watch_error", '"watch error (s, ahead)"'), zone_row()]))
 
 
 def test_declared_date_order_applies_to_the_whole_log(tmp_path):

@@ -182,7 +182,7 @@ def test_the_working_sheet_adds_up_and_shows_its_numbers_to_a_tenth(tmp_path):
     assert cell["dip (′)"].number_format == "0.0" and cell["Ho (deg)"].number_format == "0.0000"
     assert isinstance(cell["UTC"].value, dt.datetime) and cell["UTC"].number_format == "yyyy-mm-dd hh:mm:ss"
     # the time working and the units as given are shown
-    assert cell["time as read"].value == "08:09:53" and cell["watch error (s, fast +)"].value == -7
+    assert cell["time as read"].value == "08:09:53" and cell["watch error"].value == "7 s slow"  # as the log wrote it
     assert cell["ZD (h)"].value == "+1" and cell["height of eye as given"].value == "9.1864 feet"
 
 

@@ -19,6 +19,7 @@ Edge code (pandas); every value is checked with the parsers of the core and of
 from __future__ import annotations
 
 import functools
+import re
 from collections.abc import Iterable, Iterator
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -34,6 +35,7 @@ from ..timescales import (
 )
 from ..timework import (
     DATE_ORDERS,
+    watch_error_words,
 )
 from ..vocabulary import (
     BOOKKEEPING_HEADERS,
@@ -84,7 +86,7 @@ from .timesignals import Ratings
 #: The parsed columns of every sight, in order (documented in docs/sight-log.md).
 SIGHT_COLUMNS = [
     "source", "row", "sight_utc", "utc_jd1", "utc_jd2", "time_given", "time_as_read", "watch_error_applied_s",
-    "watch_error_from", "timepiece",
+    "watch_error_as_given", "watch_error_from", "timepiece",
     "zone_date_used", "zone_time_corrected", "zone_description_used_h", "greenwich_date", "body_name", "limb",
     "hs_deg", "index_error_arcmin", "eye_height_m", "eye_height_as_given", "horizon", "waterline_distance_nm",
     "measured_dip_arcmin", "temperature_c",
@@ -564,10 +566,26 @@ def _sight_table(n, sources, rows, parsed, gathered, times, message, where) -> p
             out[other] = [f"{cell_text(v)} {UNIT_NAMES[u]}" for v, u in zip(cells.values[other], cells.units[other])]
         return out
 
+    def watch_error_as_given():
+        """The watch error as the navigator wrote it ('7 s slow'); a bare number under a header that states the
+        sign, with its meaning ('-7 (7 s slow)'); blank where none was given."""
+        cells, ok = gathered["watch_error"], parsed["watch_error"].ok
+        out = texts_of(n, "")
+        shown: dict = {}  # each distinct (cell, seconds) once: a log repeats its watch error row after row
+        for i in np.flatnonzero(ok & ~cells.blank):
+            key = (cell_text(cells.values.iloc[i]).strip(), float(parsed["watch_error"].value[i]))
+            if key not in shown:
+                said = watch_error_words(key[1])
+                worded = re.search(r"fast|slow|\d\s*(?:f|sl)\.?$", key[0], re.IGNORECASE)
+                shown[key] = key[0] if worded else f"{key[0]} ({said})"
+            out[i] = shown[key]
+        return out
+
     return pd.DataFrame({
         "source": sources, "row": rows.astype(int), "sight_utc": utc,
         "utc_jd1": times["jd1"], "utc_jd2": times["jd2"], "time_given": times["time_given"],
         "time_as_read": times["as_read"], "watch_error_applied_s": times["watch_error_s"],
+        "watch_error_as_given": watch_error_as_given(),
         "watch_error_from": times["watch_error_from"], "timepiece": words(parsed["timepiece"]),
         "zone_date_used": times["zone_date"], "zone_time_corrected": corrected,
         "zone_description_used_h": zd,

@@ -267,6 +267,10 @@ def _decimal_text(value, decimal_comma):
     return value if isinstance(value, (int, float)) else with_decimal_point(cell_text(value), decimal_comma)
 
 
+#: The sign convention a watch error's header states, by the unit it was read as (vocabulary.WATCH_SIGN_WORDS).
+_WATCH_SIGN_STATED = {"s_fast": "fast", "s_slow": "slow"}
+
+
 #: One parser per kind of column: (value, decimal comma allowed, unit, declared date order) -> result.
 PARSERS = {
     "body": lambda v, dc, unit, dates: canonical_body_name(cell_text(_not_formula(v))),
@@ -278,7 +282,8 @@ PARSERS = {
     "lon": lambda v, dc, unit, dates: float(parse_angle(_not_formula(v), "lon", dc)),
     "index_error": lambda v, dc, unit, dates: float(parse_index_error_arcmin(_decimal_text(_not_formula(v), dc))),
     "number": lambda v, dc, unit, dates: _number(_not_formula(v), dc),
-    "watch_error": lambda v, dc, unit, dates: parse_watch_error_s(_decimal_text(_not_formula(v), dc)),
+    "watch_error": lambda v, dc, unit, dates: parse_watch_error_s(_decimal_text(_not_formula(v), dc),
+                                                                  _WATCH_SIGN_STATED.get(unit)),
     "utc": lambda v, dc, unit, dates: _utc_components(v, dates),
     "date": lambda v, dc, unit, dates: parse_date(_not_formula(v), dates),
     "time": lambda v, dc, unit, dates: _parse_time_cell(v),
@@ -441,7 +446,11 @@ def _numeric_checks(column, numbers: np.ndarray, units: np.ndarray) -> tuple[np.
         elif kind == "index_error":
             bad |= (used < column.low) | (used > column.high)
         elif kind == "watch_error":
-            bad |= (used < column.low) | (used > column.high) | (used > 0.0)  # a positive number has lost its sign: judged one by one
+            stated = np.isin(units.astype(str), list(_WATCH_SIGN_STATED))
+            used = np.where(units.astype(str) == "s_slow", -used, used)  # + is a slow watch: a correction, added
+            # without a stated sign a number has two readings (a spreadsheet drops a +; - is an error's slow or a
+            # correction's fast): judged one by one, and refused
+            bad |= (used < column.low) | (used > column.high) | ((used != 0.0) & ~stated)
         elif kind == "zone":
             bad |= True  # a number cell of a zone description: each is judged one by one
     return used, bad

@@ -70,7 +70,7 @@ def working_table(voyage) -> pd.DataFrame:
         "fix group": r["fix_group"].astype(str),
         "body": r.body_name,
         "time as read": r.time_as_read,
-        "watch error (s, fast +)": r.watch_error_applied_s,
+        "watch error": _watch_error_as_written(r),
         "zone date": r.zone_date_used,
         "zone time": r.zone_time_corrected,
         "ZD (h)": [f"{z:+.0f}" if np.isfinite(z) else "" for z in zone],
@@ -113,6 +113,17 @@ def working_table(voyage) -> pd.DataFrame:
     })
     table = _with_columns_used(table, r, voyage.log.extra_columns, (weight_used[ok], sigma_taken[ok]))
     return _with_latitudes(table, r)
+
+
+def _watch_error_as_written(r: pd.DataFrame) -> list[str]:
+    """The watch error as the log wrote it ('7 s slow'), or as a rating predicted it ('3.6 s fast'); 'none given'
+    where the time was taken as read."""
+    from ..timework import watch_error_words
+
+    given = r["watch_error_as_given"].astype(str) if "watch_error_as_given" in r.columns else pd.Series([""] * len(r))
+    applied = r.watch_error_applied_s.to_numpy(dtype=float)
+    return [g if g else (watch_error_words(a) if a else "none given")
+            for g, a in zip(given.tolist(), applied.tolist())]
 
 
 def _with_latitudes(table: pd.DataFrame, r: pd.DataFrame) -> pd.DataFrame:
@@ -169,7 +180,7 @@ def _with_columns_used(table: pd.DataFrame, r: pd.DataFrame, extra_columns, weig
         table.insert(table.columns.get_loc("body") + 1, "limb", np.where(limb != "", limb, "none (a point of light)"))
     rated = r.watch_error_from.astype(str).to_numpy()
     if ((rated != "") & (rated != "given")).any():
-        table.insert(table.columns.get_loc("watch error (s, fast +)") + 1, "watch error from", rated)
+        table.insert(table.columns.get_loc("watch error") + 1, "watch error from", rated)
     carried = r.dr_carried_from.astype(str).to_numpy()
     if (carried != "").any():
         table.insert(table.columns.get_loc("DR lon (° ′)") + 1, "DR", np.where(carried != "", carried, "as given"))
@@ -178,7 +189,7 @@ def _with_columns_used(table: pd.DataFrame, r: pd.DataFrame, extra_columns, weig
         where = table.columns.get_loc("speed (kn)") + 1 if "speed (kn)" in table.columns else len(table.columns)
         table.insert(where, "course and speed", np.where(motion != "", motion, "as given"))
     if not (r.time_given == "zone time").any() and not (r.watch_error_applied_s != 0).any():
-        table = table.drop(columns=["watch error (s, fast +)", "zone date", "zone time", "ZD (h)"])
+        table = table.drop(columns=["watch error", "zone date", "zone time", "ZD (h)"])
     # the log's own extra columns (a cadet's note, a sight number...) ride along at the end
     for column in extra_columns:
         if column in r.columns and column not in table:

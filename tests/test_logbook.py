@@ -244,6 +244,27 @@ def test_a_leap_second_in_zone_time_is_a_real_instant(tmp_path):
     assert leap.rejected.empty and str(leap.sights.sight_utc[0]).startswith("2016-12-31 23:59:59")
 
 
+def test_corrected_times_are_rounded_to_the_second_and_a_leap_second_is_written_60(tmp_path):
+    # the Working sheet's corrected zone time and UTC, and reduce's UTC: rounded, not cut (05:35:59.96 was shown
+    # 05:35:59, a second early: 0.25′ of longitude); 2016 December 31 ended with a leap second (IERS Bulletin C 52)
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+    from navred.jobs.voyagetables import utc_second_cells
+
+    rows = [ZONE_HEADER, zone_row(date="2016-12-31", time="23:59:60", zone="0", error=""),
+            zone_row(date="2017-01-01", time="00:59:60", zone="-1", error=""),
+            zone_row(date="2026-04-14", time="05:36:03.6", zone="0", error="3.64 s fast"),
+            zone_row(date="2026-04-14", time="05:36:03.0", zone="0", error="3.64 s fast")]
+    path = write(tmp_path, rows)
+    sights = read_sight_log(path).sights
+    assert sights.zone_time_corrected.tolist() == ["23:59:60", "00:59:60", "05:36:00", "05:35:59"]
+    assert utc_second_cells(sights)[:2] == ["2016-12-31 23:59:60"] * 2  # no date cell holds :60
+    assert utc_second_cells(sights)[2:] == [dt.datetime(2026, 4, 14, 5, 36), dt.datetime(2026, 4, 14, 5, 35, 59)]
+    out = CliRunner().invoke(app, ["reduce", str(path)]).stdout
+    assert out.count("2016-12-31 23:59:60") == 2 and "2026-04-14 05:36:00" in out and "05:35:59 " in out
+
+
 def test_utc_and_zone_time_given_together_must_agree(tmp_path):
     header = "utc,date,zone_time,zone_description,body,hs,eye_height_m,dr_lat,dr_lon"
     body = "Sirius,30 02.4,2.8,43 14 N,13 04 W"

@@ -221,8 +221,13 @@ def reduce_lines(done) -> Iterator[str]:
     labels = [label.removeprefix("row ") for label in labels_of(reduced)]
     width = max([len(x) for x in labels] + [3])
     yield (f"{'row':>{width}}  {'body':<15}{'UTC':<21}{'Ho':>12}{'Hc':>12}{'Zn':>8}  {'intercept':<18}note")
-    for label, row in zip(labels, reduced.itertuples()):
-        when = f"{row.sight_utc:%Y-%m-%d %H:%M:%S}" if str(row.sight_utc) != "NaT" else ""
+    from ..timescales import utc_jd_to_seconds_text
+
+    # to the nearest second, a leap second as its :60 (a time cut to the second shows a sight early)
+    shown = utc_jd_to_seconds_text(reduced.utc_jd1.to_numpy(dtype=float), reduced.utc_jd2.to_numpy(dtype=float)) \
+        if len(reduced) and "utc_jd1" in reduced.columns else np.zeros(len(reduced), dtype=object)
+    for label, row, when in zip(labels, reduced.itertuples(), shown.tolist()):
+        when = when or ""
         if row.status == SightStatus.ERROR:
             yield f"{label:>{width}}  {str(row.body_name or '?'):<15}{when:<21}{'not reduced:':>12} {row.message}"
             continue

@@ -27,11 +27,11 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from ..constants import NS_PER_HOUR
 from ..corrections import HIGHEST_READING_DEG
 from ..errors import NavredError, api_boundary
 from ..timescales import (
     utc_jd_to_datetime64,
+    utc_jd_to_seconds_text,
 )
 from ..timework import (
     DATE_ORDERS,
@@ -542,13 +542,11 @@ def _sight_table(n, sources, rows, parsed, gathered, times, message, where) -> p
         stamps[ok_time] = utc_jd_to_datetime64(times["jd1"][ok_time], times["jd2"][ok_time])
     utc = pd.Series(stamps).dt.tz_localize("UTC")
     zd = times["zd"]
-    shift = np.where(np.isfinite(zd), zd * NS_PER_HOUR, 0).astype(np.int64).astype("timedelta64[ns]")
     shown = np.isfinite(zd) & ok_time
     corrected = texts_of(n, "")
-    if shown.any():
-        local = (stamps[shown] - shift[shown]).astype("datetime64[s]")
-        corrected[shown] = np.datetime_as_string(local).astype(object)
-        corrected[shown] = [text[11:19] for text in corrected[shown]]
+    if shown.any():  # rounded to the second, a leap second kept as its :60 (ZT = UTC − ZD, whole hours)
+        local = utc_jd_to_seconds_text(times["jd1"][shown], times["jd2"][shown], zd[shown])
+        corrected[shown] = [text[11:19] for text in local.tolist()]
     greenwich = texts_of(n, "")
     if ok_time.any():  # each distinct date's text made once (and shared by its rows)
         days, each = np.unique(stamps[ok_time].astype("datetime64[D]"), return_inverse=True)

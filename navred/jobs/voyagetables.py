@@ -74,7 +74,7 @@ def working_table(voyage) -> pd.DataFrame:
         "zone date": r.zone_date_used,
         "zone time": r.zone_time_corrected,
         "ZD (h)": [f"{z:+.0f}" if np.isfinite(z) else "" for z in zone],
-        "UTC": [utc_cell(v) for v in r.sight_utc.dt.tz_convert(None).to_numpy()],
+        "UTC": utc_second_cells(r),
         "Greenwich date": r.greenwich_date,
         "Hs (° ′)": format_angle(r.hs_deg.to_numpy(dtype=float), "signed"),
         "Hs (deg)": r.hs_deg,
@@ -113,6 +113,19 @@ def working_table(voyage) -> pd.DataFrame:
     })
     table = _with_columns_used(table, r, voyage.log.extra_columns, (weight_used[ok], sigma_taken[ok]))
     return _with_latitudes(table, r)
+
+
+def utc_second_cells(r: pd.DataFrame) -> list:
+    """Each sight's UTC as a date-time cell rounded to the second, as the sheet shows it (a time cut to the second
+    shows a sight up to a second early); a leap second as the text '2016-12-31 23:59:60', which no date cell
+    holds."""
+    import datetime as dt
+
+    from ..timescales import utc_jd_to_seconds_text
+
+    texts = utc_jd_to_seconds_text(r.utc_jd1.to_numpy(dtype=float), r.utc_jd2.to_numpy(dtype=float)) \
+        if len(r) else np.zeros(0, dtype=object)
+    return [None if not t else t if t.endswith(":60") else dt.datetime.fromisoformat(t) for t in texts.tolist()]
 
 
 def _watch_error_as_written(r: pd.DataFrame) -> list[str]:
@@ -225,7 +238,7 @@ def hand_working_table(voyage) -> pd.DataFrame:
         **_row_columns(voyage, r),
         "fix group": r["fix_group"].astype(str),
         "body": r.body_name,
-        "UTC": [utc_cell(v) for v in r.sight_utc.dt.tz_convert(None).to_numpy()],
+        "UTC": utc_second_cells(r),
         "GHA at the whole hour (Aries for a star) (° ′)": angle(w.gha_hour_deg),
         "GHA increment (° ′)": angle(w.increment_arcmin / 60.0, "signed"),
         "v (′)": np.where(np.isfinite(w.v_arcmin), w.v_arcmin.astype(object), "Sun or star"),

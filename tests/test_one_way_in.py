@@ -333,6 +333,17 @@ def test_a_fix_far_from_its_dr_is_warned_by_every_command_and_file(tmp_path):
     fix = runner.invoke(app, ["fix", str(path)])
     assert fix.exit_code == 0 and fix.output.count(far) == 3, fix.output
     assert "check the time (the zone description and its sign" in fix.output
+    # the likely cause named, against the DR's nautical zone (ZD = longitude west / 15°: 12° W is +1; common
+    # practice), in the fix's warning and in each far row's note
+    cause = "likely cause: the zone description -1 is a zone east of Greenwich, but the DR, 1"
+    assert "the DR, 12° W, is in zone +1: a ZD of the wrong sign puts the time 2 h out" in fix.output
+    assert fix.output.count("warning: " + cause) == 3, fix.output
+    reduced = reduce_sights(read_sight_log(path))
+    assert reduced.message.str.contains(cause).sum() >= 6
+    from navred import fix_positions
+
+    grouped = fix_positions(reduced)
+    assert all(any(cause in w for w in grouped.results[g].warnings) for g in grouped.results)
     book, gpx, geojson = tmp_path / "z.xlsx", tmp_path / "z.gpx", tmp_path / "z.geojson"
     work = runner.invoke(app, ["workbook", str(path), "-o", str(book), "-o", str(gpx), "-o", str(geojson)])
     assert work.exit_code == 0 and work.output.count(far) == 3, work.output
@@ -350,7 +361,8 @@ def test_a_fix_far_from_its_dr_is_warned_by_every_command_and_file(tmp_path):
     assert sum(far in f["properties"].get("description", "") for f in features) == 3
     # and the plain demo, its DRs a few miles out, has no such warning anywhere
     plain = runner.invoke(app, ["fix", "sample_sights/demo_sights.csv"])
-    assert far not in plain.output and "taken in twilight" not in plain.output
+    assert far not in plain.output and "taken in twilight" not in plain.output and "cause:" not in plain.output
+    assert not reduce_sights(read_sight_log(with_zone_time(demo()))).message.str.contains("cause:").any()
 
 
 @pytest.mark.parametrize("command", [["reduce"], ["reduce", "--csv"], ["fix"], ["fix", "--csv"], ["days"],

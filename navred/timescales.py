@@ -341,7 +341,7 @@ def instant_components(utc: object) -> tuple[np.ndarray, ...]:
             bad[index] = True
             first = first or str(exc)
     if bad.any():
-        if items.ndim == 0:
+        if items.size == 1:  # one instant: its own reason, no count of elements
             raise TimeInputError(first)
         raise TimeInputError(f"instants that could not be read: {failed_elements(bad)}; first: {first}")
     return tuple(out)

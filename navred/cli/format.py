@@ -226,10 +226,15 @@ def reduce_lines(done) -> Iterator[str]:
     # to the nearest second, a leap second as its :60 (a time cut to the second shows a sight early)
     shown = utc_jd_to_seconds_text(reduced.utc_jd1.to_numpy(dtype=float), reduced.utc_jd2.to_numpy(dtype=float)) \
         if len(reduced) and "utc_jd1" in reduced.columns else np.zeros(len(reduced), dtype=object)
+    kinds: dict[str, list] = {}  # each kind of refusal: its rows' labels (the first few shown in full)
     for label, row, when in zip(labels, reduced.itertuples(), shown.tolist()):
         when = when or ""
         if row.status == SightStatus.ERROR:
-            yield f"{label:>{width}}  {str(row.body_name or '?'):<15}{when:<21}{'not reduced:':>12} {row.message}"
+            alike = kinds.setdefault(refusal_kind(row.message), [])
+            alike.append(label)
+            said = row.message if len(alike) <= FULL_REFUSALS else \
+                f"as row {alike[0]}{_first_quoted(row.message)}"
+            yield f"{label:>{width}}  {str(row.body_name or '?'):<15}{when:<21}{'not reduced:':>12} {said}"
             continue
         intercept = f"{abs(row.intercept_nm):5.1f} nm {row.intercept_direction}"
         carried = getattr(row, "motion_carried_from", "")
@@ -240,6 +245,42 @@ def reduce_lines(done) -> Iterator[str]:
     empty = f", {log.empty_rows} empty row{'s' if log.empty_rows > 1 else ''} skipped" if log.empty_rows else ""
     yield (f"{int(counts.get('ok', 0) + counts.get('warning', 0))} sights reduced "
            f"({int(counts.get('warning', 0))} with a warning), {int(counts.get('error', 0))} not reduced{empty}")
+    for kind, alike in kinds.items():  # a refusal repeated row after row, counted once with its rows
+        if len(alike) > FULL_REFUSALS:
+            yield (f"  {len(alike)} rows not reduced for the reason given in full at row {alike[0]} "
+                   f"({_compact(alike)})")
+
+
+#: How many rows of one kind of refusal are given in full before the rest say "as row N".
+FULL_REFUSALS = 3
+
+
+def refusal_kind(message: str) -> str:
+    """A refusal with the values it quotes taken out: the rows of a log refused for one reason (600 spreadsheet
+    date-times with two readings) share it, whatever their values."""
+    import re
+
+    kind = re.sub(r"'[^']*'", "'…'", str(message))
+    kind = re.sub(r"\d+", "#", kind)
+    return re.sub(r"\(# [A-Z][a-z]+\)", "(#)", kind)
+
+
+def _first_quoted(message: str) -> str:
+    import re
+
+    found = re.search(r"'[^']*'", str(message))
+    return f" ({found.group(0)})" if found else ""
+
+
+def _compact(labels: list) -> str:
+    """Row labels as a compact list ('rows 2-601'); labels that are not plain numbers listed as they are."""
+    import pandas as pd
+
+    from ..jobs.frames import row_list
+
+    if all(str(x).isdigit() for x in labels):
+        return row_list(pd.DataFrame({"row": [int(x) for x in labels], "source": ["log"] * len(labels)}))
+    return ", ".join(map(str, labels[:12])) + (f" and {len(labels) - 12} more" if len(labels) > 12 else "")
 
 
 def sight_warning_lines(reduced: pd.DataFrame, labels, rows=None, *, indent: str = "") -> list[str]:
@@ -401,15 +442,24 @@ def fix_report_lines(report) -> list[str]:
 
 def rejected_lines(rejected: pd.DataFrame, shown: int = 20) -> list[str]:
     """The rows not reduced, each with its reason (the first ``shown``; the rest counted)."""
+    from ..jobs.frames import row_list
+
     table = rejected.drop_duplicates(["source", "row"])
     several = table["source"].nunique() > 1
-    lines = [f"{len(table)} row(s) not reduced:"]
-    for item in table.head(shown).to_dict("records"):
-        where = f"{item['source']} row {item['row']}" if several else f"row {item['row']}"
-        column = f" ({item['column']})" if item["column"] else ""
-        lines.append(f"  {where}{column}: {item['reason']}")
-    if len(table) > shown:
-        lines.append(f"  and {len(table) - shown} more: 'navred reduce' lists every one")
+    lines = [f"{len(table)} row{'' if len(table) == 1 else 's'} not reduced:"]
+    # by kind of reason, in the order met: the first few rows of each in full, the rest counted; no kind hidden
+    kinds = table["reason"].astype(str).map(refusal_kind)
+    groups = list(table.groupby(kinds.to_numpy(), sort=False))
+    each = max(FULL_REFUSALS, shown // max(len(groups), 1)) if len(groups) > 1 else shown
+    each = min(each, shown) if len(table) > shown else len(table)
+    for _, members in groups:
+        for item in members.head(each).to_dict("records"):
+            where = f"{item['source']} row {item['row']}" if several else f"row {item['row']}"
+            column = f" ({item['column']})" if item["column"] else ""
+            lines.append(f"  {where}{column}: {item['reason']}")
+        if len(members) > each:
+            rest = members.iloc[each:]
+            lines.append(f"  and {len(rest)} more like it ({row_list(rest)}): 'navred reduce' lists every one")
     return lines
 
 

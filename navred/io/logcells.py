@@ -222,9 +222,20 @@ def _utc_components(value, dates):
         raise NavredError(f"{value!r} is a number, not an instant: format the cell as a date-time, or write "
                           "2026-03-26T19:41:00Z")
     elif isinstance(value, str):
-        value = iso_instant_text(value.strip(), dates)
-        if iso_zone_missing(value):  # text in the utc column is read as a date-time cell is: UTC, as named
-            value += "Z"
+        written = value.strip()
+        try:
+            value = iso_instant_text(written, dates)
+            made = value
+            if iso_zone_missing(value):  # text in the utc column is read as a date-time cell is: UTC, as named
+                value += "Z"
+            return tuple(float(np.asarray(c)) for c in instant_components(value))
+        except (NavredError, ValueError) as exc:
+            # the reason quotes the cell as the file holds it, never the text navred made of it
+            reason = str(exc)
+            for made_text in dict.fromkeys((value, locals().get("made", written))):
+                if made_text != written:
+                    reason = reason.replace(repr(made_text), repr(written))
+            raise NavredError(reason if repr(written) in reason else f"{written!r}: {reason}") from None
     return tuple(float(np.asarray(c)) for c in instant_components(value))
 
 

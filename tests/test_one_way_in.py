@@ -101,10 +101,11 @@ def test_every_command_and_the_api_give_the_same_answer(tmp_path, kind):
     sheet_fixes = sheet_fixes[pd.to_numeric(sheet_fixes["latitude (deg)"], errors="coerce").notna()].reset_index(
         drop=True)
     assert len(api_fixes) == len(fixes) == len(sheet_fixes) >= 1
-    for group, cli_row, sheet_row in zip(api_fixes, fixes.itertuples(), sheet_fixes.itertuples()):
-        assert group.name == cli_row.fix_group == sheet_row[1]
-        for lat, lon in ((cli_row.lat_deg, cli_row.lon_deg), (sheet_fixes.loc[sheet_row.Index, "latitude (deg)"],
-                                                             sheet_fixes.loc[sheet_row.Index, "longitude (deg)"])):
+    by_name = sheet_fixes.set_index("fix group")  # the sheet lists the fixes by time: matched by group name
+    for group, cli_row in zip(api_fixes, fixes.itertuples()):
+        assert group.name == cli_row.fix_group and group.name in by_name.index
+        for lat, lon in ((cli_row.lat_deg, cli_row.lon_deg), (by_name.loc[group.name, "latitude (deg)"],
+                                                             by_name.loc[group.name, "longitude (deg)"])):
             assert abs(lat - group.fix.lat_deg) * 60 < 0.01 and abs(lon - group.fix.lon_deg) * 60 < 0.01
     if kind == "chart on one row":
         star = voyage.group("evening-stars")
@@ -146,6 +147,20 @@ def test_a_planted_blunder_is_named_by_its_row_everywhere(tmp_path):
     assert "LEFT OUT of this fix: row 9" in fixes.loc["evening-stars", "note"]
     working = sheet(book, "Working").set_index("row in log")
     assert "BLUNDER" in working.loc[9, "flags"] and "BLUNDER" not in str(working.loc[10, "flags"])
+
+
+def test_the_fixes_sheet_of_two_logs_is_in_time_order(tmp_path):
+    # a master reads a fix list in time order (common practice): the later log given first on the command line
+    frame = demo()
+    early, late = frame[frame.fix_group == "sun-run-sun"], frame[frame.fix_group == "evening-stars"]
+    first, second = tmp_path / "late.csv", tmp_path / "early.csv"
+    late.to_csv(first, index=False)
+    early.to_csv(second, index=False)
+    book = tmp_path / "both.xlsx"
+    assert runner.invoke(app, ["workbook", str(first), str(second), "-o", str(book)]).exit_code == 0
+    fixes = sheet(book, "Fixes")
+    assert list(fixes["fix group"]) == ["early.csv: sun-run-sun", "late.csv: evening-stars"]  # names kept
+    assert list(pd.to_datetime(fixes["UTC"])) == sorted(pd.to_datetime(fixes["UTC"]))
 
 
 def test_the_workbook_navred_wrote_reads_back_to_the_same_fixes(tmp_path):

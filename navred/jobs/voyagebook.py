@@ -162,7 +162,8 @@ def _write_about_sheet(book, voyage) -> None:
 
 def _plotting_sheets_below(fixes_sheet, voyage, anchor_row: int, pictures: Pictures) -> None:
     """The plotting sheets of the fixes below the Fixes table, as many as ``pictures`` allows."""
-    fixed = [group for group in voyage.groups if group.fix is not None]
+    # in the order of the Fixes table above them: by the fixes' times
+    fixed = sorted((group for group in voyage.groups if group.fix is not None), key=lambda group: group.fix.utc)
     shown = fixed[:pictures.limit] if pictures.embed else []
     note = pictures.note("plotting sheets", len(shown), len(fixed))
     if note:

@@ -389,6 +389,9 @@ def fixes_table(voyage) -> pd.DataFrame:
             "speed made good (kn)": fix.speed_made_good_kn,
             "note": "; ".join(fix.warnings + ([group.chart_note] if group.chart_note else [])),
         })
+    # in the order of the fixes' times, as a master reads a fix list (two logs' groups came file by file); a
+    # group keeps its name, and its sights their row names; stable, so groups at one time keep the log's order
+    rows.sort(key=lambda row: (row["UTC"] is None, row["UTC"] or 0))
     table = pd.DataFrame(rows)
     if table.empty:
         return table

@@ -68,3 +68,41 @@ def test_rows_not_reduced_are_listed_by_kind_every_kind_shown():
     assert lines[0] == "39 rows not reduced:"
     assert any("row 40 (hs): Hs '95 00' is beyond 90°" in line for line in lines)  # the rare kind is not hidden
     assert "  and 28 more like it (rows 12-39): 'navred reduce' lists every one" in lines
+
+
+def test_a_wall_of_warnings_is_counted_by_kind_on_the_console_and_kept_whole_in_the_workbook(tmp_path):
+    # the demo with every DR 2° of latitude north (120 nm): each sight's intercept is over 30 nm and each fix far
+    # from its DR; the two-sight moon-planet fix's "no redundancy" is a kind met once, which must not be hidden
+    import openpyxl
+
+    frame = pd.read_csv("sample_sights/demo_sights.csv", dtype=str, keep_default_na=False)
+    frame["dr_lat"] = frame.dr_lat.str.replace(r"^(\d+)", lambda m: str(int(m.group(1)) + 2), regex=True)
+    path, book = tmp_path / "far.csv", tmp_path / "far.xlsx"
+    frame.to_csv(path, index=False)
+    result = runner.invoke(app, ["workbook", str(path), "-o", str(book)])
+    assert result.exit_code == 0, result.output
+    err = result.stderr
+    intercept = "intercept over 30 nm: check body, time, Hs and DR"
+    shown = [line for line in err.splitlines() if line.startswith("warning: row") and line.endswith(intercept)]
+    assert len(shown) == 3
+    more = [line for line in err.splitlines() if "more like it (rows" in line]
+    assert len(more) == 1
+    counted = int(more[0].split("and ")[1].split(" more")[0])
+    assert "2 sights and 2 unknowns: no redundancy" in err  # a kind met once is shown
+    assert "the first 3 of each kind shown above: every one is in the workbook" in err
+    # the workbook keeps every one: each sight's warning in the Working sheet's flags
+    working = openpyxl.load_workbook(book, read_only=True)["Working"]
+    rows = list(working.iter_rows(values_only=True))
+    flags = rows[0].index("flags")
+    assert sum(intercept in str(r[flags]) for r in rows[1:]) == 3 + counted
+
+
+def test_by_kind_shows_every_kind_and_counts_the_rest():
+    from navred.cli.format import by_kind
+
+    entries = [(f"row {r}", f"warning: row {r}: high sight {r}", f"high sight (Hc {80 + r % 5}°)") for r in range(2, 30)]
+    entries.insert(10, ("row 99", "warning: row 99: a rare one", "a rare one"))
+    lines = by_kind(entries, 3)
+    assert lines == ["warning: row 2: high sight 2", "warning: row 3: high sight 3", "warning: row 4: high sight 4",
+                     "  and 25 more like it (rows 5-29)", "warning: row 99: a rare one"]
+    assert by_kind(entries[:4], 3) == [line for _, line, _ in entries[:4]]  # never 'and 1 more like it'

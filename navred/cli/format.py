@@ -245,7 +245,7 @@ def reduce_lines(done) -> Iterator[str]:
     empty = f", {log.empty_rows} empty row{'s' if log.empty_rows > 1 else ''} skipped" if log.empty_rows else ""
     yield (f"{int(counts.get('ok', 0) + counts.get('warning', 0))} sights reduced "
            f"({int(counts.get('warning', 0))} with a warning), {int(counts.get('error', 0))} not reduced{empty}")
-    for kind, alike in kinds.items():  # a refusal repeated row after row, counted once with its rows
+    for alike in kinds.values():  # a refusal repeated row after row, counted once with its rows
         if len(alike) > FULL_REFUSALS:
             yield (f"  {len(alike)} rows not reduced for the reason given in full at row {alike[0]} "
                    f"({_compact(alike)})")
@@ -283,22 +283,66 @@ def _compact(labels: list) -> str:
     return ", ".join(map(str, labels[:12])) + (f" and {len(labels) - 12} more" if len(labels) > 12 else "")
 
 
-def sight_warning_lines(reduced: pd.DataFrame, labels, rows=None, *, indent: str = "") -> list[str]:
+def sight_warning_lines(reduced: pd.DataFrame, labels, rows=None, *, indent: str = "",
+                        shown: int | None = None) -> list[str]:
     """Each sight's own warning (a long intercept, a low altitude...), named by its row: a command that shows
-    a fix or a position built on the sight shows its warnings too."""
+    a fix or a position built on the sight shows its warnings too. ``shown``: at most this many of each kind
+    of warning, the rest counted (:func:`by_kind`); None: every one."""
     if not len(reduced):
         return []
     rows = range(len(reduced)) if rows is None else rows
     status = reduced["status"].to_numpy()
     messages = reduced["message"].to_numpy(dtype=object)
     bodies = reduced["body_name"].to_numpy(dtype=object)
-    return [f"{indent}warning: {labels[row]} ({bodies[row]}): {messages[row]}" for row in rows
-            if status[row] == SightStatus.WARNING and messages[row]]
+    entries = [(labels[row], f"{indent}warning: {labels[row]} ({bodies[row]}): {messages[row]}", messages[row])
+               for row in rows if status[row] == SightStatus.WARNING and messages[row]]
+    return by_kind(entries, shown, indent=indent)
 
 
-def group_warning_lines(groups) -> list[str]:
-    return [f"warning: group {group.name}: {text}" for group in groups
-            for text in (group.fix.warnings if group.fix is not None else [])]
+def group_warning_lines(groups, *, shown: int | None = None) -> list[str]:
+    """Each fix's warnings, named by its group; ``shown`` as for :func:`sight_warning_lines`."""
+    entries = [(f"group {group.name}", f"warning: group {group.name}: {text}", text) for group in groups
+               for text in (group.fix.warnings if group.fix is not None else [])]
+    return by_kind(entries, shown)
+
+
+def no_fix_lines(groups, *, shown: int | None = None) -> list[str]:
+    """The groups that gave no fix, and why; ``shown`` as for :func:`sight_warning_lines`."""
+    entries = [(f"group {g.name}", f"group {g.name}: no fix ({g.problem})", g.problem) for g in groups
+               if g.fix is None]
+    return by_kind(entries, shown)
+
+
+#: How many of each kind of warning a long run prints before counting the rest (the workbook keeps all).
+WARNINGS_SHOWN = 3
+
+
+def by_kind(entries: list[tuple[str, str, str]], shown: int | None, *, indent: str = "") -> list[str]:
+    """Lines (label, line, message) as they are (``shown`` None), or by kind of message (:func:`refusal_kind`:
+    the values taken out) in the order each kind is first met: the first ``shown`` of each kind, then
+    'and N more like it (rows ...)'. No kind is hidden behind another, however rare."""
+    if shown is None or len(entries) <= shown:
+        return [line for _, line, _ in entries]
+    kinds: dict[str, list] = {}
+    for label, line, message in entries:
+        kinds.setdefault(refusal_kind(message), []).append((label, line))
+    out = []
+    for members in kinds.values():
+        if len(members) <= shown + 1:  # never 'and 1 more like it': the line itself is as short
+            out += [line for _, line in members]
+            continue
+        out += [line for _, line in members[:shown]]
+        if len(members) > shown:
+            rest = [str(label) for label, _ in members[shown:]]
+            out.append(f"{indent}  and {len(rest)} more like it ({_label_list(rest)})")
+    return out
+
+
+def _label_list(labels: list[str]) -> str:
+    """Row or group labels as a short list: 'rows 12-40, 52' for plain rows of one log, else the first dozen."""
+    if all(label.startswith("row ") and label[4:].isdigit() for label in labels):
+        return _compact([label[4:] for label in labels])
+    return ", ".join(labels[:12]) + (f" and {len(labels) - 12} more" if len(labels) > 12 else "")
 
 
 def _fix_head_lines(group) -> list[str]:

@@ -388,9 +388,37 @@ def test_the_sight_plan_sheet_in_the_trade_figures(tmp_path):
     every recommended cell (common practice)."""
     voyage = process_log("sample_sights/demo_sights.csv")
     book = openpyxl.load_workbook(write_workbook(voyage, tmp_path / "v.xlsx", plots=False))
-    plan, _ = sheet_frame(book["Sight plan"])
+    values = list(book["Sight plan"].values)
+    # when and where above the table, as a plan is read (common practice)
+    assert values[0][0] == "When and where" and " UTC, DR " in values[0][1]
+    assert values[1][0] == "How the set was chosen" and values[2][0] is None
+    end = next((k for k in range(3, len(values)) if all(v is None for v in values[k])), len(values))
+    plan = pd.DataFrame(values[4:end], columns=values[3])
     plan = plan[plan["body"].notna() & plan["magnitude"].notna()]
     assert len(plan) >= 5
     assert all(round(float(m), 1) == float(m) for m in plan["magnitude"])
     assert all(float(d) == round(float(d)) for d in plan["from the Moon (deg)"].dropna())
     assert set(plan["recommended"]) == {"yes", "no"}
+
+
+def test_the_days_work_sheet_says_why_each_blank_is_blank(tmp_path):
+    """The first noon has no run, a drift within its uncertainty no set: each blank cell says so (common
+    practice: a blank in a log is a question)."""
+    voyage = process_log("sample_sights/passage_log.csv")
+    book = openpyxl.load_workbook(write_workbook(voyage, tmp_path / "p.xlsx", plots=False))
+    values = list(book["Day's work"].values)
+    blocks, k = [], 0
+    while k < len(values):  # each block: a title row, a header row, its rows, then an empty row
+        if values[k][0] and k + 1 < len(values) and values[k + 1][0] == "vessel":
+            header = [h for h in values[k + 1] if h is not None]
+            end = next((j for j in range(k + 2, len(values)) if all(v is None for v in values[j])), len(values))
+            blocks.append([dict(zip(header, row)) for row in values[k + 2:end]])
+            k = end
+        k += 1
+    assert len(blocks) == 3 and all(blocks)
+    for block in blocks:
+        for row in block:
+            assert all(v is not None and v != "" for v in row.values()), row
+    first = blocks[0][0]
+    assert first["run (nm)"] == "the first noon of the log: no noon before it to run from"
+    assert isinstance(blocks[0][1]["run (nm)"], float)

@@ -39,6 +39,7 @@ from .voyagetables import (
     plan_table,
     rejected_table,
     series_table,
+    with_reasons,
     working_table,
 )
 
@@ -198,6 +199,19 @@ def _write_timepieces_sheet(tables: TableWriter, sheet, voyage) -> None:
         write_table_sheet(tables, sheet, ratings.rejected, first_row=line + 1, wide={"reason": 90})
 
 
+#: Why a cell of the Day's work is blank, by block (noons, set and drift, estimated positions) and column: a blank
+#: cell always says why (the first noon has no run; a drift within its uncertainty leaves the set undetermined).
+_FIRST_NOON = "the first noon of the log: no noon before it to run from"
+DAYS_BLANK = (
+    {"noon position": "no position at noon (see noon from)", "run (nm)": _FIRST_NOON,
+     "course made good (deg)": _FIRST_NOON, "speed made good (kn)": _FIRST_NOON,
+     "through the water (nm)": _FIRST_NOON, "hours": _FIRST_NOON},
+    {"set (deg)": "no drift: no set", "set ±95 % (deg)": "not determined: the drift is within its uncertainty",
+     "drift ±95 % (kn)": "not determined", "note": "none"},
+    {"note": "none"},
+)
+
+
 def _write_days_sheet(tables: TableWriter, sheet, days, pictures: Pictures) -> None:
     """The day's work: noons and the day's run, set and drift, estimated positions, a voyage picture per vessel."""
     from openpyxl.styles import Font
@@ -210,11 +224,11 @@ def _write_days_sheet(tables: TableWriter, sheet, days, pictures: Pictures) -> N
                "before (the 95 % uncertainty includes the DR's own error, 0.3 kn and 2 % of the run)", days.set_drift),
               ("Estimated positions from a single line", days.estimated)]
     line = 1
-    for title, frame in blocks:
+    for (title, frame), reasons in zip(blocks, DAYS_BLANK):
         sheet.cell(row=line, column=1, value=title).font = Font(bold=True)
         line += 1
         if len(frame):
-            write_table_sheet(tables, sheet, labelled(frame), first_row=line,
+            write_table_sheet(tables, sheet, with_reasons(labelled(frame), reasons, ()), first_row=line,
                               wide={"noon from": 40, "from": 30, "note": 60})
             line += len(frame)
         else:
@@ -275,14 +289,16 @@ def _write_plan_sheet(tables: TableWriter, sheet, plan, plots: bool) -> None:
     from openpyxl.styles import Font
 
     table = plan_table(plan)
-    write_table_sheet(tables, sheet, table)
-    line = len(table) + 3
-    sheet.cell(row=line, column=1, value="When and where").font = Font(bold=True)
-    sheet.cell(row=line, column=2, value=f"{str(plan.utc)[:19].replace('T', ' ')} UTC, DR "
+    # when and where first: a plan is read for its time and place before its bodies
+    sheet.cell(row=1, column=1, value="When and where").font = Font(bold=True)
+    sheet.cell(row=1, column=2, value=f"{str(plan.utc)[:19].replace('T', ' ')} UTC, DR "
                f"{format_angle(plan.lat_deg, 'lat')} {format_angle(plan.lon_deg, 'lon')} (midway between civil "
                "and nautical twilight)")
-    sheet.cell(row=line + 1, column=1, value="How the set was chosen").font = Font(bold=True)
-    sheet.cell(row=line + 1, column=2, value=plan.explanation)
+    sheet.cell(row=2, column=1, value="How the set was chosen").font = Font(bold=True)
+    write_text_safe(sheet.cell(row=2, column=2), plan.explanation)
+    write_table_sheet(tables, sheet, table, first_row=4)
+    sheet.freeze_panes = "A5"
+    line = len(table) + 6
     if plots:
         from ..figures.plotting import sky_picture
 

@@ -202,6 +202,17 @@ def deviation_coefficients(compass_heading_deg: ArrayLike, deviation: ArrayLike)
     return DeviationCurve(*map(float, values), residual, rms, names[used:])
 
 
+def true_course_deg(compass_deg: ArrayLike, deviation_deg: ArrayLike, variation_deg: ArrayLike) -> np.ndarray:
+    """The true course (degrees) of a compass course: compass + deviation + variation, each east + and west −
+    (the navigation manuals' rule, common practice).
+
+    >>> float(true_course_deg(240.0, 3.0, -12.0))
+    231.0
+    """
+    return wrap_360(np.asarray(compass_deg, dtype=float) + np.asarray(deviation_deg, dtype=float)
+                    + np.asarray(variation_deg, dtype=float))
+
+
 def deviation_card(curve: DeviationCurve, step_deg: float = 15.0) -> tuple[np.ndarray, np.ndarray]:
     """(compass headings every ``step_deg`` from 000°, the deviation on each, degrees east +)."""
     headings = np.arange(0.0, 360.0, step_deg)
@@ -272,4 +283,4 @@ def deviation_deg(compass_error: ArrayLike, variation_deg: ArrayLike) -> np.ndar
     return wrap_180(np.asarray(compass_error, dtype=float) - np.asarray(variation_deg, dtype=float))
 
 __all__ = ["BEARING_ALTITUDES_DEG", "BEARING_MAGNITUDE", "gyro_error_deg", "azimuth_table", "Amplitudes", "amplitudes",
-           "twilight_bearing_bodies", "DeviationCurve", "deviation_coefficients", "deviation_card"]
+           "twilight_bearing_bodies", "DeviationCurve", "deviation_coefficients", "deviation_card", "true_course_deg"]

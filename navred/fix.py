@@ -48,7 +48,7 @@ def fixes_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike,
                       labels: ArrayLike | None = None, dr_error_kn: float = DR_ERROR_KN,
                       dr_error_fraction: float = DR_ERROR_FRACTION, refit: bool = True,
                       dr_age_hours: ArrayLike | None = None, hs_deg: ArrayLike | None = None,
-                      sigma_arcmin: ArrayLike | None = None) -> GroupFixes:
+                      sigma_arcmin: ArrayLike | None = None, line_sigma_nm: ArrayLike | None = None) -> GroupFixes:
     """Fix many groups of sights at once: one least-squares solve for every group, padded.
 
     The arrays are one element per sight (1-D), as for :func:`fix_from_sights`; ``group``
@@ -70,6 +70,10 @@ def fixes_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike,
     then weighs each sight by w = (A_PRIORI_SIGMA_ARCMIN / σᵢ)² (weighted least squares, and its statistics on
     the whitened sights: :func:`navred.fixkinds.solve_fix_part`); the σ given is relative, the round's own
     scatter still sets the ellipse. Without it every weight is 1 and the fix is the unweighted one, bit for bit.
+
+    ``line_sigma_nm``: each row's own σ (nautical miles) where it is a bearing or a range of a charted object
+    turned into a body of its own (:mod:`navred.landmarks`), NaN for a sight. A group holding such a line is a
+    mixed fix: every line weighed by its own σ, the sights' the a priori 1′, in one ellipse of the stated σ.
     """
     gha, dec, ho = (np.atleast_1d(np.asarray(v, dtype=float)) for v in (gha_deg, dec_deg, ho_deg))
     n_rows = gha.size
@@ -86,7 +90,8 @@ def fixes_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike,
         per_row(course_deg), per_row(speed_kn), np.nan_to_num(per_row(set_deg, 0.0)), np.nan_to_num(drift),
         per_row(dr_age_hours),
         np.arange(1, n_rows + 1).astype(str) if labels is None else np.asarray(labels).astype(str),
-        solve_motion, dr_error_kn, dr_error_fraction, weight)
+        solve_motion, dr_error_kn, dr_error_fraction, weight,
+        None if line_sigma_nm is None else per_row(line_sigma_nm))
     group = np.array(np.broadcast_to(np.asarray(group, dtype=np.intp), (n_rows,)))
     n_groups = int(group.max()) + 1 if n_rows and group.max() >= 0 else 0
     ok = (group >= 0) & np.isfinite(gha) & np.isfinite(dec) & np.isfinite(ho) & ~np.isnat(sights.utc)

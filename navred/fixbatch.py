@@ -47,6 +47,9 @@ class SightRows:
     dr_error_fraction: float
     #: each sight's weight, (A_PRIORI_SIGMA_ARCMIN / its own σ)² (1: a sight as good as any)
     weight: np.ndarray | None = None
+    #: each line's own stated σ (nautical miles) where it has one: a bearing or range of a charted object
+    #: (:mod:`navred.landmarks`); NaN for a sight, whose σ the fix estimates (None: every row a sight)
+    line_sigma: np.ndarray | None = None
 
 
 def subset_groups(group: np.ndarray, chosen: list[int], n_groups: int) -> np.ndarray:
@@ -75,7 +78,10 @@ def fix_batch(sights: SightRows, group: np.ndarray, n_groups: int, ok: np.ndarra
     lay = _layout(sights, group, n_groups, ok, weighted, work, fix_time_given)
     motion, motion_problem, line, spread0 = _kinds(sights, lay)
     parts = _solve_kinds(sights, lay, motion, line, spread0)
-    columns = _row_columns(lay, parts, _plotting_lines(lay), sights.gha.size, group, n_groups)
+    lines = _plotting_lines(lay)
+    if lay.sigma is not None:
+        _mark_lines_at_fix(lay, parts, lines)
+    columns = _row_columns(lay, parts, lines, sights.gha.size, group, n_groups)
     for wi in np.flatnonzero(lay.polar).tolist():
         problems[int(work[wi])] = (
             f"a running fix this near the pole ({format_angle(float(lay.lat0[wi]), 'lat')}, the run "
@@ -114,6 +120,7 @@ class _Layout:
     run_nm: np.ndarray  # the longest run between a sight and the fix time
     polar: np.ndarray  # a running fix carried through (or next to) a pole: refused
     weight: np.ndarray  # each sight's weight (1: a sight as good as any)
+    sigma: np.ndarray | None = None  # each cell's stated σ (nm; NaN: a sight), None when no row states one
 
 
 def _layout(s: SightRows, group, n_groups, ok, weighted, work, fix_time_given) -> _Layout:
@@ -152,14 +159,20 @@ def _layout(s: SightRows, group, n_groups, ok, weighted, work, fix_time_given) -
     run_nm = np.where(present, run_to_fix_nm(track), 0.0).max(axis=1)
     polar = (run_nm > 0) & (np.abs(lat0) + run_nm / ARCMIN_PER_DEG > 90.0 - POLAR_RUN_LIMIT_DEG)
     weight = np.ones(index.shape) if s.weight is None else s.weight[index]
+    sigma = None
+    if s.line_sigma is not None and np.isfinite(s.line_sigma).any():
+        sigma = np.where(present, s.line_sigma[index], np.nan)
     return _Layout(work, index, present, use, last, last_row, fix_time, hours, vn, ve, run_from, track,
-                   s.gha[index], s.dec[index], s.ho[index], lat0, lon0, use.sum(axis=1), run_nm, polar, weight)
+                   s.gha[index], s.dec[index], s.ho[index], lat0, lon0, use.sum(axis=1), run_nm, polar, weight, sigma)
 
 
 def _kinds(s: SightRows, lay: _Layout):
     """What each group is: a fix with its motion (asked for and supported), a line (the lines cross at less than
     LINE_ONLY_DEG), or a fix; why the motion cannot be solved where it was asked for; the widest crossing."""
-    _, zn0 = computed_altitude_azimuth(lay.lat0[:, None], lay.lon0[:, None], lay.gha, lay.dec)
+    # each line's azimuth where it was observed: the DR carried back (or on) to each sight, as the solution
+    # works it (at the DR of the fix time a noon Sun near the zenith hours before would have another azimuth)
+    sight_lat, sight_lon = at_sights(lay.track, lay.lat0, lay.lon0)
+    _, zn0 = computed_altitude_azimuth(sight_lat, sight_lon, lay.gha, lay.dec)
     spread0 = azimuth_spread_many(zn0, lay.use)
     size = lay.work.size
     motion = np.zeros(size, dtype=bool)
@@ -178,21 +191,37 @@ def _kinds(s: SightRows, lay: _Layout):
 
 
 def _solve_kinds(s: SightRows, lay: _Layout, motion, line, spread0) -> dict:
-    """Each kind of group solved at once: {2: fixes, 4: fixes with their motion, 'line': lines}, each (rows, Part)."""
+    """Each kind of group solved at once: {2: fixes, 4: fixes with their motion, 'line': lines}, each (rows, Part).
+
+    One rule makes a fix: a group solved as a fix whose position is none after all (its lines cross at less
+    than LINE_ONLY_DEG where it lies, the iteration did not settle, or its ellipse is a line's:
+    :func:`navred.fixkinds.not_a_fix`) is worked as a line of position (or a latitude) with the others, and
+    says why."""
     parts = {}
+    line = line.copy()
+    shown = np.array(spread0, dtype=float)
+    reason = np.full(line.size, "", dtype=object)
     for k, chosen in ((2, ~line & ~motion & ~lay.polar), (4, motion)):
         if chosen.any():
             rows = np.flatnonzero(chosen)
             velocity0 = (np.where(lay.use[rows], lay.vn[rows], 0.0).sum(1) / lay.n_used[rows],
                          np.where(lay.use[rows], lay.ve[rows], 0.0).sum(1) / lay.n_used[rows])
-            parts[k] = (rows, solve_fix_part(k, rows, lay.gha, lay.dec, lay.ho, lay.use, lay.present, lay.track,
-                                             lay.lat0, lay.lon0, velocity0, s.dr_error_kn, s.dr_error_fraction,
-                                             lay.weight))
+            part = solve_fix_part(k, rows, lay.gha, lay.dec, lay.ho, lay.use, lay.present, lay.track,
+                                  lay.lat0, lay.lon0, velocity0, s.dr_error_kn, s.dr_error_fraction, lay.weight,
+                                  None if lay.sigma is None else lay.sigma[rows])
+            demoted = part.not_fix != ""
+            if demoted.any():
+                line[rows[demoted]] = True
+                shown[rows[demoted]] = part.spread_deg[demoted]
+                reason[rows[demoted]] = part.not_fix[demoted]
+                part, rows = part.take(np.flatnonzero(~demoted)), rows[~demoted]
+            if rows.size:
+                parts[k] = (rows, part)
     if line.any():
         rows = np.flatnonzero(line)
         parts["line"] = (rows, solve_line_part(rows, lay.gha, lay.dec, lay.ho, lay.use, lay.present, lay.track,
-                                               lay.lat0, lay.lon0, spread0, s.dr_error_kn, s.dr_error_fraction,
-                                               lay.weight))
+                                               lay.lat0, lay.lon0, shown, s.dr_error_kn, s.dr_error_fraction,
+                                               lay.weight, reason))
     return parts
 
 
@@ -207,6 +236,27 @@ def _plotting_lines(lay: _Layout) -> dict[str, np.ndarray]:
     _, toward_gp = distance_bearing(foot_lat, foot_lon, lay.dec, wrap_180(-lay.gha))
     return {"lop_intercept_nm": intercept, "lop_zn_deg": zn, "lop_foot_lat_deg": foot_lat,
             "lop_foot_lon_deg": foot_lon, "lop_tangent_deg": wrap_360(toward_gp + 90.0)}
+
+
+def _mark_lines_at_fix(lay: _Layout, parts: dict, lines: dict) -> None:
+    """A mark's line on the plotting sheet drawn through the point of it nearest the fix, not the DR: a radar
+    range is a circle of a few miles, whose tangent at the DR's foot would stand off the fix by a mile."""
+    for key, (rows, part) in parts.items():
+        if key == "line":
+            continue
+        for j, wi in enumerate(rows.tolist()):
+            marks = np.isfinite(lay.sigma[wi]) & lay.present[wi]
+            if not marks.any():
+                continue
+            result = part.result(j)
+            if result is None:
+                continue
+            hc, zn = computed_altitude_azimuth(result.lat_deg, result.lon_deg, lay.gha[wi][marks], lay.dec[wi][marks])
+            foot_lat, foot_lon = destination(result.lat_deg, result.lon_deg, zn, (lay.ho[wi][marks] - hc) * ARCMIN_PER_DEG)
+            _, toward_gp = distance_bearing(foot_lat, foot_lon, lay.dec[wi][marks], wrap_180(-lay.gha[wi][marks]))
+            lines["lop_foot_lat_deg"][wi, marks] = foot_lat
+            lines["lop_foot_lon_deg"][wi, marks] = foot_lon
+            lines["lop_tangent_deg"][wi, marks] = wrap_360(toward_gp + 90.0)
 
 
 def _row_columns(lay: _Layout, parts: dict, lines: dict, n_rows: int, group, n_groups) -> dict[str, np.ndarray]:

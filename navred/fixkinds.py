@@ -11,7 +11,14 @@ import numpy as np
 
 from .angles import wrap_180, wrap_360, wrap_axial
 from .constants import ARCMIN_PER_DEG
-from .fixresult import EMPTY_ROWS, LINE_ONLY_DEG, FixResult
+from .fixresult import (
+    EMPTY_ROWS,
+    FIX_ELLIPSE_LIMIT_NM,
+    LINE_ONLY_DEG,
+    LINE_ONLY_RATIO,
+    FixResult,
+    angle_words,
+)
 from .fixstats import (
     A_PRIORI_SIGMA_ARCMIN,
     CONFIDENCE,
@@ -36,10 +43,12 @@ from .leastsquares import (
     sight_hours,
     solve_fixes,
 )
-from .stats import f_2_quantile, student_t_quantile
+from .stats import chi_square_cdf, f_2_quantile, student_t_quantile
 from .status import FixKind
 from .triangle import computed_altitude_azimuth, destination
 
+#: A mixed fix whose lines agree with their stated σ less often than this (chi-square) is warned.
+STATED_DISAGREE = 0.01
 #: Lines whose azimuths all lie within this of north or south are a latitude (sights on the meridian).
 MERIDIAN_AZIMUTH_DEG = 10.0
 
@@ -61,10 +70,48 @@ class Part:
     gross: np.ndarray
     clear: np.ndarray
     result: Callable[[int], FixResult | None]
+    #: a fix part's groups: why each is no fix after all ('' for a fix; see :func:`not_a_fix`)
+    not_fix: np.ndarray | None = None
+    #: a fix part's groups: the widest angle at which the lines cross at the position solved
+    spread_deg: np.ndarray | None = None
+
+    def take(self, keep: np.ndarray) -> Part:
+        """This part's groups ``keep`` (indices), in that order."""
+        keep = np.asarray(keep, dtype=np.intp)
+        picked = keep.tolist()
+        return Part(self.residual_arcmin[keep], self.outlier[keep], self.gross[keep], self.clear[keep],
+                    lambda j: self.result(picked[j]),
+                    None if self.not_fix is None else self.not_fix[keep],
+                    None if self.spread_deg is None else self.spread_deg[keep])
+
+
+def not_a_fix(spread_deg: np.ndarray, converged: np.ndarray, major_nm: np.ndarray, minor_nm: np.ndarray,
+              singular: np.ndarray) -> np.ndarray:
+    """Why each least-squares position is no fix, in words ('' for a fix), one rule for every group: its lines
+    cross at less than LINE_ONLY_DEG where it lies; the iteration did not settle; or its 95 % ellipse is longer
+    than FIX_ELLIPSE_LIMIT_NM (semi-major axis) and as narrow as lines crossing below LINE_ONLY_DEG give
+    (LINE_ONLY_RATIO). Each such group is then worked as what it is, a line of position (or a latitude). A long
+    round ellipse (a scatter, or too few sights) stays a position, marked as not to be trusted
+    (:func:`navred.grosserrors.mark_untrusted`)."""
+    out = np.full(spread_deg.shape, "", dtype=object)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        narrow = (major_nm > FIX_ELLIPSE_LIMIT_NM) & (major_nm > LINE_ONLY_RATIO * minor_nm)
+    for j in np.flatnonzero(~singular & ((spread_deg < LINE_ONLY_DEG) | ~converged | narrow)).tolist():
+        angle = angle_words(float(spread_deg[j]), LINE_ONLY_DEG)
+        if spread_deg[j] < LINE_ONLY_DEG:
+            out[j] = f"the lines of position cross at {angle} at most (below {LINE_ONLY_DEG:.0f}°)"
+        elif not converged[j]:
+            out[j] = (f"the least-squares position did not settle to {CONVERGED_NM} nm in {MAX_ITERATIONS} steps "
+                      f"(the lines cross at {angle} at most)")
+        else:
+            out[j] = (f"its 95 % ellipse would be {2 * major_nm[j]:.0f} × {2 * minor_nm[j]:.1f} nm, beyond the "
+                      f"{2 * FIX_ELLIPSE_LIMIT_NM:.0f} nm of a position to plot as a fix and as thin as a line's (the "
+                      f"lines cross at {angle} at most)")
+    return out
 
 
 def solve_fix_part(k, rows, gha, dec, ho, use, present, track, lat0, lon0, velocity0, dr_error_kn, dr_error_fraction,
-                   weight=None):
+                   weight=None, sigma=None):
     """Fix the groups ``rows`` with k unknowns (2: position; 4: position, course and speed made
     good) in one solve; returns a function giving group j's FixResult (per-sight arrays padded).
 
@@ -81,18 +128,81 @@ def solve_fix_part(k, rows, gha, dec, ho, use, present, track, lat0, lon0, veloc
     A(σ²I + C)Aᵀ and the 95 % ellipse is scaled by √(2 F(2, ν)), exact for Gaussian sight errors when
     there is no run, ν an effective number (:func:`effective_dof`) when the DR's error over the run is
     part of it.
+
+    A mixed fix (``sigma``, each cell's stated σ in nautical miles where it has one: a bearing or range of a
+    charted object, :mod:`navred.landmarks`) weighs every line by its own σ, a sight's taken as the a priori
+    A_PRIORI_SIGMA_ARCMIN, and its ellipse is the covariance of those stated σ (and the run's error) at the
+    chi-square(2) quantile; the lines' agreement with their σ is tested (chi-square, 99 %). A group with no
+    stated σ is worked as above, unchanged.
     """
     motion = k == 4
     u = use[rows]
     w = np.ones(u.shape) if weight is None else np.where(u, weight[rows], 1.0)
     sub_track = track.take(rows)
+    stated, each = None, None
+    if sigma is not None and np.any(u & np.isfinite(sigma)):
+        stated = sigma
+        mixed = np.any(u & np.isfinite(stated), axis=1)
+        # a mark's line its stated σ; a sight its own (the a priori 1′ scaled by its weight)
+        each = np.where(np.isfinite(stated), stated, A_PRIORI_SIGMA_ARCMIN / np.sqrt(w))
+        w = np.where(mixed[:, None], (A_PRIORI_SIGMA_ARCMIN / each) ** 2, w)
     core = solve_fixes(gha[rows], dec[rows], ho[rows], lat0[rows], lon0[rows], dt_hours=sight_hours(sub_track),
                        velocity_north_kn=sub_track.north_kn[..., :-1], velocity_east_kn=sub_track.east_kn[..., :-1],
                        weights=w, mask=u, report=present[rows], solve_motion=motion, velocity0_kn=velocity0,
                        mark_singular=True, track=sub_track)
     st = _fix_statistics(core, u, sub_track, k, dr_error_kn, dr_error_fraction, np.sqrt(w))
     st["weighted"] = np.any(u & (w != 1.0), axis=1)
-    return Part(core.residual_arcmin, st["outlier"], st["gross"], st["clear"], _fix_results(core, st, k))
+    if stated is not None:
+        _stated_statistics(st, core, u, sub_track, k, stated, each, dr_error_kn, dr_error_fraction)
+    why = not_a_fix(st["spread"], core.converged, st["major"], st["minor"], core.singular)
+    return Part(core.residual_arcmin, st["outlier"], st["gross"], st["clear"], _fix_results(core, st, k), why,
+                st["spread"])
+
+
+def _stated_statistics(st: dict, core: CoreFixes, u: np.ndarray, sub_track, k: int, stated: np.ndarray,
+                       each_sigma: np.ndarray, dr_error_kn: float, dr_error_fraction: float) -> None:
+    """The statistics of the mixed fixes of a part, in place of the estimated ones (see :func:`solve_fix_part`):
+    each line weighed by its stated σ, the covariance G (diag σ² + C) Gᵀ of the weighted estimator G, the
+    chi-square(2) ellipse, the blunder test on the residuals each scaled to the sights' σ, and the chi-square
+    test of the lines' agreement."""
+    mixed = np.any(u & np.isfinite(stated), axis=1)
+    f = np.flatnonzero(mixed)
+    uu = u[f]
+    each = each_sigma[f]
+    weight = np.where(uu, (A_PRIORI_SIGMA_ARCMIN / each) ** 2, 0.0)
+    unit, jac = core.covariance_nm2[f], core.jacobian[f]
+    gain = (unit @ np.swapaxes(jac, 1, 2)) * weight[:, None, :]
+    if k == 4:
+        run_cov = np.zeros((f.size, uu.shape[1], uu.shape[1]))
+    else:
+        run_cov = run_error_covariance(np.where(uu, core.zn_deg[f], 0.0), sight_hours(sub_track)[f],
+                                       run_to_fix_nm(sub_track)[f], dr_error_kn, dr_error_fraction)
+        run_cov = run_cov * uu[:, :, None] * uu[:, None, :]
+    errors = np.eye(uu.shape[1])[None] * np.where(uu, each**2, 0.0)[:, :, None] + run_cov
+    covariance = gain @ errors @ np.swapaxes(gain, 1, 2)
+    scale = np.full(f.size, np.sqrt(-2.0 * np.log(1.0 - CONFIDENCE)))  # chi-square(2): the σ are stated
+    major, minor, orientation = error_ellipse(covariance[:, :2, :2], scale)
+    residual = np.where(uu, core.residual_arcmin[f], 0.0)
+    scaled = residual * A_PRIORI_SIGMA_ARCMIN / each
+    leverage = np.einsum("fsi,fij,fsj->fs", jac, unit, jac) * weight
+    dof = st["dof"][f]
+    outlier, gross, clear, detectable = blunder_test(scaled, leverage, uu, dof,
+                                                     np.full(f.size, A_PRIORI_SIGMA_ARCMIN))
+    misfit = np.sum((residual / each) ** 2, axis=1)
+    with np.errstate(invalid="ignore"):
+        chance = np.where(dof >= 1, 1.0 - chi_square_cdf(misfit, np.maximum(dof, 1)), 1.0)
+    for name, value in (("position_cov", covariance[:, :2, :2]), ("scale", scale), ("major", major),
+                        ("minor", minor), ("orientation", orientation), ("detectable", detectable)):
+        st[name][f] = value
+    st["sigma"][f] = A_PRIORI_SIGMA_ARCMIN
+    st["nu"][f] = np.inf
+    st["weight"][f] = 1.0
+    for name, value in (("outlier", outlier), ("gross", gross), ("clear", clear)):
+        st[name][f] = value
+    if k == 4:
+        st["speed_sigma"][f] = np.sqrt(np.trace(covariance[:, 2:, 2:], axis1=1, axis2=2))
+    st["stated"] = {int(j): (float(chance[i]), int(np.sum(uu[i] & np.isfinite(stated[j])))) for i, j in
+                    enumerate(f.tolist())}
 
 
 def _fix_statistics(core: CoreFixes, u: np.ndarray, sub_track, k: int, dr_error_kn: float,
@@ -144,6 +254,7 @@ def _fix_results(core: CoreFixes, st: dict[str, np.ndarray], k: int) -> Callable
     steps_l, converged_l, singular_l = (core.iterations_each.tolist(), core.converged.tolist(),
                                         core.singular.tolist())
     position_cov = st["position_cov"]
+    stated = st.get("stated", {})
 
     def result(j: int) -> FixResult | None:
         if singular_l[j]:
@@ -151,7 +262,15 @@ def _fix_results(core: CoreFixes, st: dict[str, np.ndarray], k: int) -> Callable
         warnings_: list[str] = []
         d, n, run_included = numbers["dof"][j], numbers["n"][j], numbers["run_included"][j]
         weight = numbers["weight"][j]
-        if d >= 1:
+        chance, lines = stated.get(j, (None, 0))
+        if lines:
+            source = (f"stated: {A_PRIORI_SIGMA_ARCMIN}′ a sight (a good sight at sea) and each mark's line its own "
+                      f"σ ({lines} line{'s' if lines != 1 else ''} of charted objects)")
+            if chance < STATED_DISAGREE:
+                warnings_.append(f"the lines disagree beyond their stated σ (a chance of {chance:.1%} if the σ "
+                                 "are right): a sight or a mark's line is wrong, or the σ are too small; the ellipse "
+                                 "rests on the stated σ")
+        elif d >= 1:
             source = sigma_source(d, weight, run_included)
         else:
             source = f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight, no redundancy"
@@ -161,8 +280,9 @@ def _fix_results(core: CoreFixes, st: dict[str, np.ndarray], k: int) -> Callable
             source += WEIGHTED_WORDS
         spread = numbers["spread"][j]
         if spread < WEAK_CROSSING_DEG:
-            warnings_.append(f"weak fix: the lines of position cross at {spread:.0f}° at most (azimuths "
-                             f"alike or opposite); below {WEAK_CROSSING_DEG:.0f}° the fix is poorly defined")
+            warnings_.append(f"weak fix: the lines of position cross at {angle_words(spread, WEAK_CROSSING_DEG)} at "
+                             f"most (azimuths alike or opposite); below {WEAK_CROSSING_DEG:.0f}° the fix is poorly "
+                             "defined")
         if not converged_l[j]:
             warnings_.append(f"the iteration did not settle to {CONVERGED_NM} nm in {MAX_ITERATIONS} steps")
         detectable = numbers["detectable"][j]
@@ -173,7 +293,9 @@ def _fix_results(core: CoreFixes, st: dict[str, np.ndarray], k: int) -> Callable
             warnings=warnings_, used=EMPTY_ROWS, n_sights=n, covariance_nm2=position_cov[j],
             confidence_scale=numbers["scale"][j], sigma_source=source, iterations=steps_l[j],
             quantile=quantile_name(numbers["nu"][j], d), spread_deg=spread, dr_error_included=run_included,
-            redundant=d, ellipse_note=ellipse_note(n, k, d, numbers["nu"][j], weight, run_included),
+            redundant=d, ellipse_note=(
+                "the 95 % ellipse of the stated σ of every line (chi-square(2)): each line weighed by its own σ"
+                if lines else ellipse_note(n, k, d, numbers["nu"][j], weight, run_included)),
             blunder_note=blunder_note(n, d, detectable, k),
             detectable_blunder_arcmin=detectable)
         if motion:
@@ -189,7 +311,7 @@ def _fix_results(core: CoreFixes, st: dict[str, np.ndarray], k: int) -> Callable
 
 
 def solve_line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0, dr_error_kn, dr_error_fraction,
-                    weight=None):
+                    weight=None, reason=None):
     """Groups whose lines of position (nearly) coincide: one combined line each, worked from the DR.
 
     Each line, advanced to the fix time, lies a_j miles from the DR toward its azimuth Z_j; the
@@ -253,8 +375,10 @@ def solve_line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0
                   else f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight") + (WEIGHTED_WORDS if weighted[j] else "")
         side = "toward" if offset[j] >= 0 else "away from"
         what = "a latitude (the sights are on the meridian)" if meridian[j] else "a line of position"
-        message = (f"not a fix: the lines of position cross at {spread0[rows[j]]:.0f}° at most (below "
-                   f"{LINE_ONLY_DEG:.0f}°), so the sights give {what}, {abs(offset[j]):.1f} nm {side} "
+        why = (reason[rows[j]] if reason is not None else "") or (
+            f"the lines of position cross at {angle_words(float(spread0[rows[j]]), LINE_ONLY_DEG)} at most (below "
+            f"{LINE_ONLY_DEG:.0f}°)")
+        message = (f"not a fix: {why}, so the sights give {what}, {abs(offset[j]):.1f} nm {side} "
                    f"{toward[j]:03.0f}° from the DR, good to ±{half_width[j]:.1f} nm (95 %); the position along "
                    "it is the DR's")
         quantile = "normal" if not np.isfinite(nu[j]) else (f"t({d})" if abs(nu[j] - d) < 0.05 else f"t({nu[j]:.1f})")
@@ -266,11 +390,12 @@ def solve_line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0
             covariance_nm2=np.array([[variance[j], 0.0], [0.0, np.inf]]), confidence_scale=float(t[j]),
             sigma_source=source, iterations=0, quantile=quantile, kind=FixKind.LATITUDE if meridian[j] else FixKind.LINE,
             spread_deg=float(spread0[rows[j]]), line_bearing_deg=float(along[j]), line_offset_nm=float(offset[j]),
-            line_toward_deg=float(toward[j]), dr_error_included=bool(run_included[j]), redundant=d,
+            line_toward_deg=float(toward[j]), dr_error_included=bool(run_included[j]), redundant=d, not_fix_reason=why,
             blunder_note=blunder_note(int(n[j]), d, float(detectable[j]), 1),
             detectable_blunder_arcmin=float(detectable[j]))
 
     return Part(residual, outlier, gross, clear, result)
 
 
-__all__ = ["WEIGHTED_WORDS", "WEAK_CROSSING_DEG", "MERIDIAN_AZIMUTH_DEG", "Part", "solve_fix_part", "solve_line_part"]
+__all__ = ["WEIGHTED_WORDS", "WEAK_CROSSING_DEG", "MERIDIAN_AZIMUTH_DEG", "Part", "not_a_fix", "solve_fix_part",
+           "solve_line_part"]

@@ -4,6 +4,7 @@ sight was bad), a chart position compared with it (:class:`ChartCheck`), and a b
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -12,8 +13,33 @@ from .angles import wrap_axial
 from .status import FixKind, RunFrom
 from .triangle import distance_bearing
 
-#: Lines of position that cross at less than this make a line (or a latitude), not a fix.
+#: Lines of position that cross at less than this make a line (or a latitude), not a fix (common practice: below
+#: about 15° the lines' crossing is too fine to plot a point by).
 LINE_ONLY_DEG = 15.0
+
+#: A least-squares position whose 95 % ellipse has a semi-major axis beyond this (nm) is not plotted as a fix:
+#: a position not known within 30 miles along an axis is no fix, and the plotting sheet's flat working of
+#: intercepts holds to about that distance (common practice; the same 30 nm as LARGE_INTERCEPT_NM). An ellipse
+#: that long and as narrow as lines crossing below LINE_ONLY_DEG give (LINE_ONLY_RATIO) is a line of position;
+#: one that long and round is a position that cannot be trusted (too few sights, or a scatter).
+FIX_ELLIPSE_LIMIT_NM = 30.0
+
+#: The ratio of the ellipse's axes for two equally good lines crossing at LINE_ONLY_DEG: cot(θ/2) (the normal
+#: matrix n₁n₁ᵀ + n₂n₂ᵀ has eigenvalues 1 ± cos θ; the axes go as their inverse square roots).
+LINE_ONLY_RATIO = 1.0 / math.tan(math.radians(LINE_ONLY_DEG / 2.0))
+
+
+def angle_words(angle_deg: float, limit_deg: float) -> str:
+    """An angle of cut written beside a limit, in whole degrees, or in tenths (cut down, never up) where an angle
+    below the limit would otherwise read as the limit itself: '3°', '14.7°' for 14.74° beside 15°, never
+    '15° ... below 15°'.
+
+    >>> angle_words(3.2, 15.0), angle_words(14.96, 15.0), angle_words(40.0, 15.0)
+    ('3°', '14.9°', '40°')
+    """
+    if angle_deg < limit_deg and round(angle_deg) >= limit_deg:
+        return f"{math.floor(angle_deg * 10.0) / 10.0:.1f}°"
+    return f"{angle_deg:.0f}°"
 
 
 def angle_of_cut_deg(zn_deg) -> float:
@@ -111,6 +137,9 @@ class FixResult:
     other_reading: FixResult | None = field(default=None, repr=False)
     #: the names of the sights left out ('row 9', as the labels given)
     left_out_names: list[str] = field(default_factory=list)
+    #: why the sights give no fix (a line or a latitude), in words: the lines cross too finely, the least-squares
+    #: position did not settle, or its ellipse is longer than a fix's (FIX_ELLIPSE_LIMIT_NM); '' for a fix
+    not_fix_reason: str = ""
     #: sights beyond the unknowns (n − k): how many check the others
     redundant: int = 0
     #: what the ellipse's size means for this count of sights, in words (few redundant sights)
@@ -218,4 +247,4 @@ class GroupFixes:
 PARALLEL_LINES = "the lines of position are parallel (all azimuths alike or opposite): no fix"
 
 
-__all__ = ["angle_of_cut_deg", "LINE_ONLY_DEG", "EMPTY_ROWS", "ChartCheck", "FixResult", "GroupFixes", "PARALLEL_LINES"]
+__all__ = ["angle_of_cut_deg", "angle_words", "LINE_ONLY_DEG", "FIX_ELLIPSE_LIMIT_NM", "LINE_ONLY_RATIO", "EMPTY_ROWS", "ChartCheck", "FixResult", "GroupFixes", "PARALLEL_LINES"]

@@ -14,6 +14,7 @@ import numpy as np
 
 from .angles import format_angle
 from .fixbatch import SightRows, fix_batch, subset_groups
+from .fixresult import FIX_ELLIPSE_LIMIT_NM
 from .fixstats import (
     A_PRIORI_SIGMA_ARCMIN,
     BLUNDER_ALPHA,
@@ -134,7 +135,8 @@ def _gross_by_leaving_out(sights: SightRows, group, ok, left_out, wild: list[int
                       dr_lat=sights.dr_lat[rows], dr_lon=sights.dr_lon[rows], course=sights.course[rows],
                       speed=sights.speed[rows], set_deg=sights.set_deg[rows], drift_kn=sights.drift_kn[rows],
                       dr_age_h=sights.dr_age_h[rows], names=sights.names[rows],
-                      weight=None if sights.weight is None else sights.weight[rows])
+                      weight=None if sights.weight is None else sights.weight[rows],
+                      line_sigma=None if sights.line_sigma is None else sights.line_sigma[rows])
         times = np.array([results[g].utc for g in owner], dtype="datetime64[ns]")
         trials, _ = fix_batch(sub, np.concatenate(copies_group), len(owner), np.ones(rows.size, dtype=bool),
                                np.concatenate(copies_left), times)
@@ -215,7 +217,9 @@ def misread_rounds(sights: SightRows, hs_deg: np.ndarray, group, n_groups, ok, r
 def mark_untrusted(results) -> None:
     """Every fix that cannot be trusted as the position to plot says so first, plainly, with why: a round
     misread (:func:`misread_rounds`), or sights that still scatter beyond any hand-held sextant once the gross
-    errors are out (or with none found)."""
+    errors are out (or with none found). A round 95 % ellipse longer than a fix's (FIX_ELLIPSE_LIMIT_NM) is said
+    first among the warnings, as a wide fix (a long narrow one is already a line of position,
+    :func:`navred.fixkinds.not_a_fix`)."""
     for result in results:
         if result is None or not result.is_fix:
             continue
@@ -226,6 +230,14 @@ def mark_untrusted(results) -> None:
                 f"the sights{left} scatter beyond a sextant: σ {result.sigma_arcmin:.1f}′, more than a hand-held one gives "
                 f"(about 1′, {SEXTANT_SIGMA_LIMIT_ARCMIN:.0f}′ in a seaway): some altitude, time or body name, or "
                 "the run between the sights, is wrong and the others cannot tell which; find it and fix again")
+        if not result.untrusted and result.ellipse_semi_major_nm > FIX_ELLIPSE_LIMIT_NM:
+            # (not untrusted: the sights agree as well as a sextant's may; too few of them judge their scatter)
+            result.warnings.insert(0, (
+                f"a wide fix: its 95 % ellipse is {result.ellipse_text()}, longer than the "
+                f"{2 * FIX_ELLIPSE_LIMIT_NM:.0f} nm of a position a navigator plots as a fix without question: "
+                f"{result.n_sights} sights scattering by σ {result.sigma_arcmin:.1f}′ with {result.redundant} beyond "
+                "the unknowns cannot show that the scatter is smaller; plot it, but as no better than that ellipse, "
+                "and take more sights (a cocked hat of this size also comes from an error common to every sight)"))
         if result.untrusted:
             result.warnings[:] = [w.replace("plot this one, and find out", "plot neither as it stands: find out")
                                   for w in result.warnings]

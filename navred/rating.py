@@ -11,7 +11,10 @@ their standard errors from the residual scatter with n − 2 degrees of freedom)
 sight is predicted from the line, with its standard error (the line's, and the scatter of one
 comparison for a reading the line does not know). A change of rate is tested by splitting the
 comparisons at each one in turn and fitting a line to each side (the Chow test, F with 2 and n − 4
-degrees of freedom), at 99 % with a Bonferroni correction for the splits tried.
+degrees of freedom), at 99 % with a Bonferroni correction for the splits tried. A change found is then
+told apart: when the two sides' rates agree (Student's t on their difference, at 99 %) the timepiece was
+reset (a step in its error, the rate unchanged: the common rate and the step are fitted together);
+otherwise its rate changed. Either way its error after the change is the later side's.
 
 Core code: arrays in, arrays out; every function broadcasts over leading axes (many timepieces, or
 many trials, at once).
@@ -109,6 +112,13 @@ class RateChange:
     rate_after_s_per_day: float
     f_statistic: float
     f_critical: float
+    #: 'rate' (the rate changed), 'reset' (a step in the error, the rate unchanged) or '' (no change)
+    kind: str = ""
+    #: a reset's step (seconds, the later error less the earlier at one instant; NaN for a change of rate)
+    step_s: float = float("nan")
+    #: a reset's common rate (s a day) and its 95 % half-width (NaN otherwise)
+    common_rate_s_per_day: float = float("nan")
+    common_rate_95_s_per_day: float = float("nan")
 
 
 def rate_change(days: ArrayLike, error_s: ArrayLike) -> RateChange:
@@ -139,8 +149,61 @@ def rate_change(days: ArrayLike, error_s: ArrayLike) -> RateChange:
     best = int(np.nanargmax(np.where(np.isfinite(f), f, -np.inf)))
     critical = float(f_2_quantile(1.0 - (1.0 - CHANGE_CONFIDENCE) / splits.size, dof))
     changed = bool(np.isfinite(f[best]) and f[best] > critical)
-    return RateChange(changed, int(splits[best]) - 1, float(first.rate_s_per_day[best]),
-                      float(second.rate_s_per_day[best]), float(f[best]), critical)
+    split = int(splits[best]) - 1
+    before_rate, after_rate = float(first.rate_s_per_day[best]), float(second.rate_s_per_day[best])
+    if not changed:
+        return RateChange(False, split, before_rate, after_rate, float(f[best]), critical)
+    # the rates either side: the same within their uncertainty (a reset) or not (a change of rate)
+    sigma = np.sqrt(rss[best] / dof) if dof > 0 else np.nan
+    spread = float(first.spread_days[best]), float(second.spread_days[best])
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t_rates = abs(after_rate - before_rate) / (sigma * np.sqrt(1.0 / spread[0] + 1.0 / spread[1]))
+    same_rate = bool(min(spread) > 0 and np.isfinite(t_rates)
+                     and t_rates <= float(student_t_quantile(CHANGE_CONFIDENCE + (1 - CHANGE_CONFIDENCE) / 2, dof)))
+    if not same_rate:
+        return RateChange(True, split, before_rate, after_rate, float(f[best]), critical, "rate")
+    step = fit_step(t, e, split)
+    return RateChange(True, split, before_rate, after_rate, float(f[best]), critical, "reset", step.step_s,
+                      step.rate_s_per_day, step.rate_95_s_per_day)
+
+
+@dataclass(frozen=True)
+class StepFit:
+    """One rate with a step in the error after a comparison (a timepiece reset): the line before and after."""
+
+    rate_s_per_day: float
+    rate_95_s_per_day: float
+    before: RateFit  # the common-rate line through the comparisons before the step
+    after: RateFit  # and after it
+    step_s: float  # after less before, at any one instant
+
+
+def fit_step(days: ArrayLike, error_s: ArrayLike, split_index: int) -> StepFit:
+    """Least squares of one rate and two errors (before and after comparison ``split_index``): the model of a
+    timepiece reset at a time signal and running on at its rate. 1-D comparisons in time order."""
+    t = np.asarray(days, dtype=float)
+    e = np.asarray(error_s, dtype=float)
+    side = np.arange(t.size) > split_index
+    parts = [~side, side]
+    means = [(t[p].mean(), e[p].mean()) for p in parts]
+    sxx = sum(float(np.sum((t[p] - m[0]) ** 2)) for p, m in zip(parts, means))
+    sxy = sum(float(np.sum((t[p] - m[0]) * (e[p] - m[1]))) for p, m in zip(parts, means))
+    if not sxx > 0:
+        raise RatingError("a step cannot be fitted: the comparisons either side are each at one instant")
+    rate = sxy / sxx
+    residual = np.concatenate([e[p] - (m[1] + rate * (t[p] - m[0])) for p, m in zip(parts, means)])
+    dof = t.size - 3
+    sigma = float(np.sqrt(np.sum(residual**2) / dof)) if dof > 0 else np.nan
+    rate_se = sigma / np.sqrt(sxx)
+    lines = []
+    for p, m in zip(parts, means):
+        count = int(p.sum())
+        lines.append(RateFit(np.asarray(m[0]), np.asarray(m[1]), np.asarray(rate), np.asarray(sigma),
+                             np.asarray(rate_se), np.asarray(sigma / np.sqrt(count)), np.asarray(count),
+                             np.asarray(float(np.sum((t[p] - m[0]) ** 2)))))
+    step = float(lines[1].error_s(0.0) - lines[0].error_s(0.0))
+    return StepFit(rate, float(student_t_quantile(0.975, max(dof, 1)) * rate_se) if dof > 0 else np.nan,
+                   lines[0], lines[1], step)
 
 
 def error_in_half_day(reading_minus_signal_s: ArrayLike) -> np.ndarray:
@@ -151,5 +214,13 @@ def error_in_half_day(reading_minus_signal_s: ArrayLike) -> np.ndarray:
     return (d + half_day) % SECONDS_PER_DAY - half_day
 
 
+def error_on_twelve_hour_dial(reading_minus_signal_s: ArrayLike) -> np.ndarray:
+    """A 12-hour dial's reading less the signal's time, as an error within ±6 hours (seconds): a chronometer
+    dial that reads 3:15:22 at a signal at 15:15:20 UTC is 2 s fast (its hands go round twice a day)."""
+    d = np.asarray(reading_minus_signal_s, dtype=float)
+    quarter_day = SECONDS_PER_DAY / 4.0
+    return (d + quarter_day) % (SECONDS_PER_DAY / 2.0) - quarter_day
+
+
 __all__ = ["RateFit", "fit_rate", "residuals_s", "RateChange", "rate_change", "error_in_half_day",
-           "RatingError", "CHANGE_CONFIDENCE"]
+           "error_on_twelve_hour_dial", "StepFit", "fit_step", "RatingError", "CHANGE_CONFIDENCE"]

@@ -58,6 +58,16 @@ def velocity_kn(course_deg: ArrayLike, speed_kn: ArrayLike) -> tuple[np.ndarray,
     return s * np.cos(c), s * np.sin(c)
 
 
+def leeway_track_deg(heading_deg: ArrayLike, leeway_deg: ArrayLike) -> np.ndarray:
+    """The course through the water (degrees true) of a ship heading ``heading_deg`` and set to leeward by
+    ``leeway_deg`` (+ to starboard, − to port: away from the side the wind blows on; common practice).
+
+    >>> float(leeway_track_deg(231.0, -5.0))
+    226.0
+    """
+    return wrap_360(np.asarray(heading_deg, dtype=float) + np.asarray(leeway_deg, dtype=float))
+
+
 def course_speed(north_kn: ArrayLike, east_kn: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
     """Course (degrees true) and speed (knots) of a velocity's north and east components."""
     n, e = np.asarray(north_kn, dtype=float), np.asarray(east_kn, dtype=float)
@@ -201,6 +211,41 @@ class DRTrack:
         run = np.concatenate([np.zeros(distance.shape[:-1] + (1,)), np.cumsum(distance, axis=-1)], axis=-1)
         from_at = np.abs(run - np.take_along_axis(run, at_time, axis=-1))
         return np.take_along_axis(from_at, self._back, axis=-1)
+
+    def velocity_at(self, utc_ns: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
+        """The velocity over the ground (north, east knots) in force at the instants: the last knot's at or before
+        each (before the first knot, the first knot's). A single track."""
+        k = np.clip(np.searchsorted(self.knot_ns, np.asarray(utc_ns, dtype=np.int64), side="right") - 1, 0,
+                    self.knot_ns.size - 1)
+        return self.north_kn[k], self.east_kn[k]
+
+    def carried(self, lat_deg: ArrayLike, lon_deg: ArrayLike, from_ns: ArrayLike, to_ns: ArrayLike
+                ) -> tuple[np.ndarray, np.ndarray]:
+        """Positions (lat, lon degrees) at ``from_ns`` carried to ``to_ns`` along this track's velocities, through
+        every change of course, speed and current between the two instants, forward or backward (a fix run up to
+        noon, or back to it): each leg a rhumb line on the WGS 84 ellipsoid (:func:`rhumb_track_through`). The
+        track's known positions play no part. Broadcasts over the positions and instants."""
+        lat, lon, start, end = np.broadcast_arrays(np.asarray(lat_deg, dtype=float), np.asarray(lon_deg, dtype=float),
+                                                   np.asarray(from_ns, dtype=np.int64), np.asarray(to_ns, dtype=np.int64))
+        shape = lat.shape
+        lat, lon, start, end = (a.reshape(-1) for a in (lat, lon, start, end))
+        low, high = np.minimum(start, end), np.maximum(start, end)
+        inside = (self.knot_ns[None, :] > low[:, None]) & (self.knot_ns[None, :] < high[:, None])
+        width = int(inside.sum(axis=1).max()) if inside.size else 0
+        # each pair's knots in time order: its two ends and the track's knots between them, padded with its end
+        between = np.where(inside, self.knot_ns[None, :], np.iinfo(np.int64).max)
+        between = np.sort(between, axis=1)[:, :width]
+        between = np.where(between == np.iinfo(np.int64).max, high[:, None], between)
+        knots = np.concatenate([low[:, None], between, high[:, None]], axis=1)
+        north, east = self.velocity_at(knots)
+        hours = np.diff(knots, axis=1) / NS_PER_HOUR
+        leg_north, leg_east = north[:, :-1] * hours, east[:, :-1] * hours
+        at = np.where(start <= end, 0, knots.shape[1] - 1)
+        lats, lons = rhumb_track_through(lat, lon, at, leg_north, np.degrees(np.arctan2(leg_east, leg_north)),
+                                         np.hypot(leg_north, leg_east))
+        other = np.where(start <= end, knots.shape[1] - 1, 0)
+        rows = np.arange(lat.size)
+        return lats[rows, other].reshape(shape), lons[rows, other].reshape(shape)
 
     def take(self, rows: np.ndarray) -> DRTrack:
         """The tracks of some rows of a batch, keeping what has been worked out already."""
@@ -412,6 +457,106 @@ def set_and_drift(dr_lat_deg: ArrayLike, dr_lon_deg: ArrayLike, fix_lat_deg: Arr
                     cov)
 
 
+@dataclass(frozen=True)
+class ShipsClocks:
+    """The zone the ship's clocks keep, piecewise in time: ``zone_h[k]`` (ZD, hours, ZT + ZD = UTC) from
+    ``change_ns[k]`` (int64 ns UTC) until the next change; before the first change, ``zone_h[0]``."""
+
+    change_ns: np.ndarray
+    zone_h: np.ndarray
+
+    def zone_at(self, utc_ns: ArrayLike) -> np.ndarray:
+        """The zone the clocks keep at each instant."""
+        k = np.clip(np.searchsorted(self.change_ns, np.asarray(utc_ns, dtype=np.int64), side="right") - 1, 0,
+                    self.zone_h.size - 1)
+        return self.zone_h[k]
+
+    def ship_time_ns(self, utc_ns: ArrayLike) -> np.ndarray:
+        """The ship's clock at each instant (int64 ns on the calendar scale): UTC − ZD."""
+        when = np.asarray(utc_ns, dtype=np.int64)
+        return when - np.round(self.zone_at(when) * NS_PER_HOUR).astype(np.int64)
+
+
+#: A ship's day is at least this long (hours): a noon closer than this to the one before is not a new ship's day
+#: (clocks retarded over noon would show noon twice).
+SHORTEST_SHIPS_DAY_H = 12.0
+
+
+def ship_noons(clocks: ShipsClocks, start_ns: int, end_ns: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Every noon by the ship's clocks between two instants: (noon UTC int64 ns, the ship's date as int64 ns of its
+    00:00, the zone kept), in time order, one per ship's day.
+
+    A noon is an instant at which the clocks read 12:00: for each ship's date and each stretch of one zone, noon
+    = the date's 12:00 + ZD, if that instant falls within the stretch. So a date the clocks skip (westbound across
+    the date line, advanced 24 h) has no noon, and a date they repeat (eastbound, retarded 24 h) has two, a day
+    apart, each its own ship's day; clocks changed by an hour give a day of 23 or 25 hours. A noon less than
+    :data:`SHORTEST_SHIPS_DAY_H` after the one before (clocks retarded across noon) is not another ship's day.
+    """
+    day = NS_PER_HOUR * 24
+    span = np.arange((int(start_ns) // day - 2) * day, (int(end_ns) // day + 3) * day, day, dtype=np.int64)
+    bounds = np.concatenate([[np.iinfo(np.int64).min], clocks.change_ns[1:], [np.iinfo(np.int64).max]]) \
+        if clocks.change_ns.size else np.array([np.iinfo(np.int64).min, np.iinfo(np.int64).max])
+    zones = clocks.zone_h if clocks.change_ns.size else clocks.zone_h[:1]
+    candidate = span[:, None] + 12 * NS_PER_HOUR + np.round(zones[None, :] * NS_PER_HOUR).astype(np.int64)
+    inside = (candidate >= bounds[None, :-1]) & (candidate < bounds[None, 1:])
+    inside &= (candidate >= start_ns) & (candidate <= end_ns)
+    dates, stretch = np.nonzero(inside)
+    noon = candidate[dates, stretch]
+    order = np.argsort(noon, kind="stable")
+    noon, dates, stretch = noon[order], dates[order], stretch[order]
+    keep = np.ones(noon.size, dtype=bool)
+    last = None
+    for k in range(noon.size):  # a handful of noons a passage: drop the second noon of one ship's day
+        if last is not None and noon[k] - last < SHORTEST_SHIPS_DAY_H * NS_PER_HOUR:
+            keep[k] = False
+        else:
+            last = noon[k]
+    return noon[keep], span[dates[keep]], zones[stretch[keep]] + 0.0
+
+
+def clocks_at_midnights(track: DRTrack, start_ns: int, end_ns: int, first_zone_h: float) -> ShipsClocks:
+    """The clocks of a ship that keeps the nautical zone of her DR, changed at each ship's midnight (common
+    practice: the clocks are altered in the night watches): from ``first_zone_h`` at ``start_ns``, at each
+    midnight by the ship's clocks the zone of the DR's longitude then (:func:`zone_description_h`). Across the
+    date line the zone goes from +12 to −12 (a date skipped) or back (a date repeated)."""
+    day = NS_PER_HOUR * 24
+    dates = np.arange((int(start_ns) // day) * day, (int(end_ns) // day + 2) * day, day, dtype=np.int64)
+    zone = np.full(dates.size, float(first_zone_h))
+    for _ in range(4):  # each midnight's zone from the one before (a day changes it by an hour or so): it settles
+        before = np.concatenate([[first_zone_h], zone[:-1]])
+        midnight = dates + np.round(before * NS_PER_HOUR).astype(np.int64)
+        _, lon, origin = track.positions(midnight)
+        zone = np.where((origin >= 0) & np.isfinite(lon), zone_description_h(lon), before)
+    before = np.concatenate([[first_zone_h], zone[:-1]])
+    midnight = dates + np.round(before * NS_PER_HOUR).astype(np.int64)
+    after = midnight > start_ns
+    change = np.concatenate([[start_ns], midnight[after]])
+    zones = np.concatenate([[first_zone_h], zone[after]])
+    moved = np.concatenate([[True], zones[1:] != zones[:-1]])
+    return ShipsClocks(change[moved].astype(np.int64), zones[moved] + 0.0)
+
+
+def lines_crossed(lat_deg: float, lon_deg: float, foot_lat_deg: ArrayLike, foot_lon_deg: ArrayLike,
+                  zn_deg: ArrayLike) -> tuple[float, float, float]:
+    """The point where lines of position cross, by least squares on the plane tangent at (lat, lon) (a position
+    near them, the DR): each line passes through its foot, square to its azimuth Zn. Returns (lat, lon, the
+    smallest angle between the lines, degrees). Over the few tens of miles of a running fix the plane is good to a
+    few hundredths of a mile (common practice: the plotting sheet)."""
+    foot_lat = np.asarray(foot_lat_deg, dtype=float)
+    foot_lon = np.asarray(foot_lon_deg, dtype=float)
+    zn = np.radians(np.asarray(zn_deg, dtype=float))
+    north = (foot_lat - lat_deg) * 60.0
+    east = wrap_180(foot_lon - lon_deg) * 60.0 * np.cos(np.radians((foot_lat + lat_deg) / 2.0))
+    normal = np.stack([np.cos(zn), np.sin(zn)], axis=-1)
+    offset = normal[:, 0] * north + normal[:, 1] * east
+    solution = np.linalg.lstsq(normal, offset, rcond=None)[0]
+    axis = np.degrees(zn) % 180.0
+    spread = np.abs((axis[:, None] - axis[None, :] + 90.0) % 180.0 - 90.0)
+    lat = lat_deg + solution[0] / 60.0
+    lon = float(wrap_180(lon_deg + solution[1] / 60.0 / np.cos(np.radians((lat + lat_deg) / 2.0))))
+    return float(lat), lon, float(spread.max())
+
+
 def ship_noon_ns(day_ns: ArrayLike, zone_description_h: ArrayLike) -> np.ndarray:
     """12:00 ship's time (zone time) on each date, as UTC int64 ns: noon + ZD (ZT + ZD = UTC).
 
@@ -450,4 +595,6 @@ def days_run(noon_ns: ArrayLike, lat_deg: ArrayLike, lon_deg: ArrayLike) -> Days
 
 
 __all__ = ["DRTrack", "dr_track", "steady_track", "estimated_position", "SetDrift", "set_and_drift", "ship_noon_ns",
-           "zone_description_h", "DaysRun", "days_run", "velocity_kn", "course_speed", "ReckoningError"]
+           "zone_description_h", "DaysRun", "days_run", "velocity_kn", "course_speed", "ReckoningError",
+           "leeway_track_deg", "ShipsClocks", "ship_noons", "clocks_at_midnights", "lines_crossed",
+           "SHORTEST_SHIPS_DAY_H"]

@@ -132,10 +132,11 @@ COLUMNS: tuple[Column, ...] = (
            "DR longitude at the sight: 013 03.7 W, or a signed decimal (east positive, ISO 6709); blank: carried "
            "as the latitude"),
     Column("course", ("course", "course_steered", "course_true"), "number",
-           "course (degrees true) in force from this sight until the next", units=("deg",), default_unit="deg",
-           low=0.0, high=360.0),
-    Column("speed", ("speed", "speed_through_water", "speed_made_good"), "number",
-           "speed (knots) in force from this sight until the next", units=("kn",), default_unit="kn",
+           "course (degrees true) steered through the water, in force from this sight until the next",
+           units=("deg",), default_unit="deg", low=0.0, high=360.0),
+    Column("speed", ("speed", "speed_through_water", "log_speed"), "number",
+           "speed through the water (knots) in force from this sight until the next (a speed made good over "
+           "the ground is not one: see MADE_GOOD_HEADERS)", units=("kn",), default_unit="kn",
            low=0.0, high=60.0),
     Column("entry", ("entry", "event", "log_entry"), "entry",
            "a row that is not a sight but an entry of the ship's progress: departure or position (a known "
@@ -147,12 +148,60 @@ COLUMNS: tuple[Column, ...] = (
     Column("drift", ("drift", "current_drift", "rate_of_current"), "number",
            "the drift of a current (knots), on a current entry (0 ends it)", units=("kn",), default_unit="kn",
            low=0.0, high=15.0),
+    Column("compass_course", ("compass_course", "course_compass", "course_by_compass", "compass_heading",
+                              "heading_compass"), "number",
+           "on a course entry: the course steered by the magnetic compass (degrees compass), made true through its "
+           "deviation (the row's, or the deviation card's with --card) and the variation", units=("deg",),
+           default_unit="deg", low=0.0, high=360.0),
+    Column("deviation", ("deviation", "compass_deviation", "dev"), "east_west",
+           "on a course entry: the compass's deviation on that heading, east or west ('3 E', '2.5 W', or signed "
+           "east +); blank: from the deviation card (--card)", units=("deg",), default_unit="deg", low=-30.0,
+           high=30.0),
+    Column("variation", ("variation", "magnetic_variation", "var", "declination_magnetic"), "east_west",
+           "on a course entry: the magnetic variation, east or west ('12 W', '4.5 E', or signed east +)",
+           units=("deg",), default_unit="deg", low=-180.0, high=180.0),
+    Column("leeway", ("leeway", "leeway_angle"), "leeway",
+           "on a course entry: the leeway, degrees, and the side the ship is set to ('5 port', '4 stbd'), or "
+           "degrees alone with the wind's side (wind_side)", units=("deg",), default_unit="deg", low=0.0,
+           high=45.0),
+    Column("wind_side", ("wind_side", "wind_on", "tack", "wind_on_side"), "side",
+           "the side the wind blows on (port or starboard): the leeway is to the other side"),
+    Column("log_reading", ("log_reading", "log_nm", "patent_log", "log_distance", "log_miles"), "number",
+           "on an entry row: the ship's log (distance run through the water, nautical miles, as the log reads); the "
+           "speed between two readings is their difference over the time", units=("nm",), default_unit="nm",
+           low=0.0, high=10_000_000.0),
+    Column("clocks", ("clocks", "clock_change", "clocks_to", "new_zone", "new_zone_description", "ship_zone"),
+           "clocks",
+           "on a clocks entry: the zone the ship's clocks keep from this instant ('+3', '-12 M'), or the change "
+           "('advance 1 h', 'retard 1 h')"),
+    Column("role", ("role", "sight_role", "keeps_dr"), "role",
+           "whose sight: ship (the ship's navigator: its fixes keep the DR and the noon) or exercise (a training "
+           "sight: reduced, fixed and compared with the ship's position, never restarting the DR)"),
     Column("fix_group", ("fix_group", "fix_id"), "text",
            "sights fixed together; blank: one observer's sights within two hours of each other"),
     Column("chart_lat", ("chart_lat", "chart_latitude", "gnss_lat", "gps_lat", "gnss_latitude", "gps_latitude"),
            "lat", "a chart or GNSS latitude at this sight, to cross-check the fix"),
     Column("chart_lon", ("chart_lon", "chart_long", "chart_longitude", "gnss_lon", "gps_lon", "gnss_longitude",
                          "gps_longitude"), "lon", "a chart or GNSS longitude at this sight, to cross-check the fix"),
+    Column("mark", ("mark", "charted_object", "landmark", "mark_name"), "text",
+           "a charted object (a light, a headland, a beacon) observed at landfall: the row is a bearing or a "
+           "radar range of it, not a sight (body and hs blank); its position in mark_lat/mark_lon"),
+    Column("mark_lat", ("mark_lat", "mark_latitude", "landmark_lat"), "lat",
+           "the charted latitude of the mark"),
+    Column("mark_lon", ("mark_lon", "mark_long", "mark_longitude", "landmark_lon"), "lon",
+           "the charted longitude of the mark"),
+    Column("bearing", ("bearing", "true_bearing", "bearing_true", "visual_bearing"), "number",
+           "on a mark row: the true bearing of the mark from the ship (degrees true; a compass bearing made true "
+           "first)", units=("deg",), default_unit="deg", low=0.0, high=360.0),
+    Column("range", ("range", "radar_range", "range_nm", "distance_off"), "number",
+           "on a mark row: the radar range of the mark (nautical miles)", units=("nm",), default_unit="nm",
+           low=0.0, high=60.0),
+    Column("bearing_sigma", ("bearing_sigma", "bearing_sd", "bearing_error"), "number",
+           "on a mark row: the bearing's standard error (degrees); blank: 1°", units=("deg",), default_unit="deg",
+           low=0.01, high=20.0),
+    Column("range_sigma", ("range_sigma", "range_sd", "range_error"), "number",
+           "on a mark row: the range's standard error (nautical miles); blank: 1 % of the range, at least 0.02 nm",
+           units=("nm",), default_unit="nm", low=0.001, high=5.0),
     Column("dut1", ("dut1", "ut1_utc", "ut1_minus_utc"), "number",
            "UT1 − UTC from a radio time signal (seconds); blank: the IERS table",
            units=("s",), default_unit="s", low=-0.9, high=0.9),
@@ -186,9 +235,14 @@ OUTPUT_SUFFIX = "(as read)"
 RESULT_COLUMNS = (
     "dut1_s", "ut1_source", "gha_aries_deg", "sha_deg", "gha_deg", "dec_deg", "hp_arcmin", "almanac_sd_arcmin",
     "lha_deg", "ic_arcmin", "horizon_arcmin", "dip_arcmin", "ha_deg", "refraction_arcmin", "sd_arcmin",
-    "parallax_arcmin", "phase_angle_deg", "phase_arcmin", "ho_deg", "hc_deg", "zn_deg", "intercept_nm",
+    "parallax_arcmin", "phase_angle_deg", "phase_arcmin", "line_sigma_nm", "ho_deg", "hc_deg", "zn_deg", "intercept_nm",
     "intercept_direction", "status", "message", "error_column",
 )
+
+#: The column of a reduced table that holds each sight's DR's age (hours; NaN: the log does not date it), added by
+#: ``navred.reduce_sights`` and ``navred.process_log``: the fix takes it for its check against the DR whichever
+#: way it is called (``navred.fix_positions`` as the commands).
+DR_AGE_COLUMN = "dr_age_h"
 
 # --- Words of the trade ----------------------------------------------------------
 LIMBS = {"lower": "lower", "ll": "lower", "l": "lower", "lower_limb": "lower",
@@ -214,7 +268,18 @@ NO_HORIZON = ("none", "no", "no_horizon", "n_a", "na", "without", "nil")
 ENTRIES = {"departure": "departure", "depart": "departure", "departed": "departure", "start": "departure",
            "position": "position", "known_position": "position", "fix": "position", "landfall": "position",
            "course": "course", "alter_course": "course", "course_change": "course", "a_c": "course",
-           "speed": "course", "current": "current", "set_and_drift": "current"}
+           "speed": "course", "current": "current", "set_and_drift": "current",
+           "clocks": "clocks", "clock": "clocks", "clocks_changed": "clocks", "zone_change": "clocks",
+           "date_line": "clocks", "log": "log", "log_reading": "log", "destination": "destination",
+           "bound_for": "destination"}
+
+#: Whose sight a row is (the role column): the ship's navigator's, or a training exercise's.
+ROLES = {"ship": "ship", "ships": "ship", "navigator": "ship", "ships_navigator": "ship", "officer": "ship",
+         "exercise": "exercise", "training": "exercise", "practice": "exercise", "cadet": "exercise"}
+
+#: The side of the ship (the wind's, or the way the leeway sets her).
+SIDES = {"port": "port", "p": "port", "larboard": "port", "starboard": "starboard", "stbd": "starboard",
+         "stb": "starboard", "sb": "starboard"}
 
 #: Nautical time-zone letters and their zone descriptions (ZT + ZD = UTC): A-M (no J) are the
 #: zones east of Greenwich, −1 to −12; N-Y those west, +1 to +12; Z is zero (common practice).
@@ -344,6 +409,16 @@ LOOKALIKE_HEADERS: tuple[tuple[str, str, str], ...] = (
      "watch_error ('12 fast', '3 s slow', or seconds with a sign)"),
     (r"dut\w*|ut1\w*", "DUT1", "dut1 (UT1 − UTC in seconds, from a radio time signal)"),
 )
+#: Headers of a motion made good over the ground (a satellite receiver's COG and SOG, a day's run): the DR's
+#: course and speed are through the water, and the current is entered apart, so a made-good quantity read as
+#: one would count the current twice. No spelling maps one onto the other: each is refused with what to give.
+MADE_GOOD_HEADERS = re.compile(r"\w*made_?good\w*|[cs]_?m_?g|[cs]_?o_?g|\w*over_?(?:the_?)?ground\w*|"
+                               r"ground_?(?:speed|course|track)\w*|gnss_?(?:speed|course)\w*|"
+                               r"gps_?(?:speed|course)\w*")
+MADE_GOOD_REFUSAL = ("column {header!r} looks like a course or speed made good over the ground; navred's course and "
+                     "speed are through the water (the current goes on an entry row: entry current, set, drift), so "
+                     "it does not read one as the other: give course (steered, true) and speed (through the water), "
+                     "or rename the column")
 #: What a refusal of a column adds once: how to keep a column of one's own that looks like one navred reads.
 OWN_COLUMN_HINT = ("a column of your own that navred should not read keeps its text when its name begins with "
                    "'note' or 'remark'")
@@ -378,6 +453,8 @@ def unknown_header_refusal(header: object, accepted: dict[str, str] | None = Non
         return ""
     stem = _UNIT_TAIL.sub("", name)
     own = ""
+    if accepted is None and (MADE_GOOD_HEADERS.fullmatch(stem) or MADE_GOOD_HEADERS.fullmatch(name)):
+        return MADE_GOOD_REFUSAL.format(header=str(header))
     if accepted is None:
         for pattern, what, expected in LOOKALIKE_HEADERS:
             if re.fullmatch(pattern, stem) or re.fullmatch(pattern, name):
@@ -403,6 +480,8 @@ def convert_to_working_unit(value: float, unit: str | None) -> float:
 
 
 __all__ = ["COLUMNS", "COLUMN", "Column", "HeaderMatch", "match_header", "normalise_header", "LIMBS", "ENTRIES",
+           "ROLES", "SIDES",
            "NO_HORIZON",
-           "LOOKALIKE_HEADERS", "OWN_COLUMN_PREFIXES", "OWN_COLUMN_HINT", "unknown_header_refusal",
+           "LOOKALIKE_HEADERS", "MADE_GOOD_HEADERS", "MADE_GOOD_REFUSAL", "OWN_COLUMN_PREFIXES", "OWN_COLUMN_HINT",
+           "unknown_header_refusal",
            "HORIZONS", "ZONE_LETTERS", "UNIT_CONVERSIONS", "convert_to_working_unit"]

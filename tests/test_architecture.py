@@ -19,7 +19,7 @@ CORE = ("angles", "timescales", "ephemeris", "stars", "epochs", "almanac", "corr
         "plan", "series", "lunar", "constants", "errors", "vocabulary", "timework", "sailings", "marking", "reckoning",
         "rating", "handtables", "handworking", "presets", "compass", "marking_judge", "marking_sight", "marking_methods",
         "marking_checks", "status", "events", "leastsquares", "fixstats", "fixresult", "fixkinds", "fixbatch",
-        "grosserrors", "sensechecks", "latitudes", "sightplan", "magnitudes", "identify")
+        "grosserrors", "sensechecks", "latitudes", "landmarks", "sightplan", "magnitudes", "identify")
 CORE_LIBRARIES = {"numpy", "erfa", "jplephem"}
 EDGE_LIBRARIES = {"pandas", "openpyxl", "matplotlib", "typer", "PIL", "defusedxml", "reportlab"}
 #: The edge's folders, and the folders each may not import.

@@ -182,7 +182,7 @@ def test_entry_rows_are_read_by_the_log_reader_and_refused_with_reasons(tmp_path
     log = read_sight_log(path)
     reasons = log.rejected.groupby("row").reason.agg(" | ".join)
     assert "before the log's first departure" in reasons[3]
-    assert "a course entry needs a course, a speed or both" in reasons[4]
+    assert "a course entry needs a course (true or compass), a speed or a log reading" in reasons[4]
     assert "set is given without drift" in reasons[5]
     assert "an entry row holds no sight" in reasons[6]
     assert "entry 'sideways' is not one navred knows" in reasons[7]
@@ -339,6 +339,91 @@ def test_a_dr_carried_past_the_pole_is_refused_never_clamped(tmp_path):
     assert "carried past the pole" in reason and log.rejected.set_index("row").column[4] == "dr_lat"
 
 
+def _rounds_log(ts, eph, track, start, departure, fix_times):
+    rows = [{"utc": start.strftime("%Y-%m-%dT%H:%M:%SZ"), "entry": "departure", "dr_lat": departure[0],
+             "dr_lon": departure[1], "course": 250.0, "speed": 6.0}]
+    for when in fix_times:
+        lat, lon = passage.position_at(track, when)
+        rows += [{"utc": when.strftime("%Y-%m-%dT%H:%M:%SZ"), "body": s["body"], "hs": s["hs"], "eye_height_m": 3.0,
+                  "fix_group": f"{when:%H%M}"} for s in passage.star_round(ts, eph, when, lat, lon)]
+    return pd.DataFrame(rows)
+
+
+def test_set_and_drift_only_where_it_means_something(ts, eph, tmp_path):
+    """Fixes 12 minutes apart give no set and drift (the rule: a run of at least 2 h, a drift known to ±1.5 kn,
+    no drift beyond 8 kn); a fix 60 miles from a DR six hours old gives none either (no current of the sea runs
+    10 kn: a fix or the DR is wrong); neither is printed as a drift nor drawn as an arrow on the voyage picture,
+    and each says why. (The 12-minute case used to print 'drift 0.81 ±12.29 kn'.)"""
+    from navred.figures.drawing import _Polygon
+    from navred.figures.plotting import CHART, voyage_track_picture
+    from navred.jobs.shiptrack import MAX_CURRENT_KN, SET_DRIFT_MIN_HOURS
+
+    assert (SET_DRIFT_MIN_HOURS, MAX_CURRENT_KN) == (2.0, 8.0)
+    start = pd.Timestamp("2026-04-14T06:00:00Z")
+    track = passage.sail(start, 38.0, -12.0, [(start, 250.0, 6.0)], passage.steady, start + pd.Timedelta(hours=8))
+    times = [start + pd.Timedelta(hours=6), start + pd.Timedelta(hours=6, minutes=12)]
+    near = process_log(_rounds_log(ts, eph, track, start, (38.0, -12.0), times), plan=False).days_work()
+    rows = near.set_drift.set_index("fix_group")
+    assert np.isfinite(rows.loc["1200", "drift_kn"])  # six hours from the departure: found
+    assert rows.loc["1200", "drift_kn"] == pytest.approx(1.2, abs=0.1)
+    assert np.isnan(rows.loc["1212", "drift_kn"]) and np.isnan(rows.loc["1212", "set_deg"])
+    assert rows.loc["1212", "note"].startswith("not determined: 12 min between the fixes, less than the 2 h")
+    far = process_log(_rounds_log(ts, eph, track, start, (39.0, -12.0), times[:1]), plan=False).days_work()
+    row = far.set_drift.iloc[0]
+    assert np.isnan(row["drift_kn"]) and "more than any current of the sea (8 kn)" in row["note"]
+    assert row["dr_to_fix_nm"] > 50
+    for days, arrows in ((near, 1), (far, 0)):
+        picture = voyage_track_picture(days)
+        drawn = [item for item in picture.items if isinstance(item, _Polygon) and item.fill == CHART]
+        assert len(drawn) == arrows
+    log = _rounds_log(ts, eph, track, start, (38.0, -12.0), times)
+    log.to_csv(tmp_path / "log.csv", index=False)
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+
+    text = CliRunner().invoke(app, ["days", str(tmp_path / "log.csv")]).stdout
+    assert "fix 1212: set and drift not determined: 12 min between the fixes" in text
+    assert text.count(" kn over ") == 1
+
+
+def test_every_output_names_the_ship_when_a_log_holds_two(tmp_path):
+    """Two vessels in one log (the demo kept by two ships): the console headings of navred fix and days, fix
+    --csv, the Fixes and Working sheets and the plotting sheets' titles name each one's ship."""
+    import openpyxl
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+    from navred.jobs.plotfiles import plotting_figure
+
+    demo = pd.read_csv("sample_sights/demo_sights.csv")
+    other = demo.assign(vessel="Brisa (invented)", fix_group=demo.fix_group + " B")
+    pd.concat([demo, other]).to_csv(tmp_path / "two.csv", index=False)
+    runner = CliRunner()
+    fix = runner.invoke(app, ["fix", str(tmp_path / "two.csv")])
+    assert fix.exit_code == 0, fix.output
+    assert 'Moth Orchid (invented): Fix "evening-stars"' in fix.stdout
+    assert 'Brisa (invented): Fix "evening-stars B"' in fix.stdout
+    table = pd.read_csv(io.StringIO(runner.invoke(app, ["fix", str(tmp_path / "two.csv"), "--csv"]).stdout))
+    assert list(table.columns[:2]) == ["vessel", "fix_group"]
+    assert set(table.vessel) == {"Moth Orchid (invented)", "Brisa (invented)"}
+    out = tmp_path / "two.xlsx"
+    assert runner.invoke(app, ["workbook", str(tmp_path / "two.csv"), "-o", str(out), "--pictures", "none"]
+                         ).exit_code == 0
+    book = openpyxl.load_workbook(out, read_only=True)
+    for sheet in ("Fixes", "Working"):
+        header = [c.value for c in next(book[sheet].iter_rows(min_row=1, max_row=1))]
+        assert "vessel" in [str(h).lower() for h in header], (sheet, header)
+    voyage = process_log(tmp_path / "two.csv", plan=False)
+    group = voyage.group("evening-stars B")
+    picture = plotting_figure(voyage, group)
+    titles = [getattr(item, "text", "") for item in picture.items]
+    assert any("Brisa (invented), evening-stars B" in t for t in titles)
+    days = runner.invoke(app, ["days", str(tmp_path / "two.csv")])
+    assert "Moth Orchid (invented): noon positions" in days.stdout or "Moth Orchid (invented):" in days.stdout
+    assert "Brisa (invented):" in days.stdout
+
+
 def test_the_voyage_picture_draws_the_ellipse_each_fix_states():
     # each fix's 95 % ellipse is scaled by its own quantile (F(2, ν) from few sights), not chi-square(2): the
     # picture takes each fix's confidence_scale by its label on the track (DaysWork.ellipse_scales)
@@ -350,3 +435,22 @@ def test_the_voyage_picture_draws_the_ellipse_each_fix_states():
     assert days.ellipse_scales["fix evening-stars"] == pytest.approx(stars.confidence_scale)
     assert stars.confidence_scale > 1.4 * np.sqrt(5.991)  # F(2, 4): wider than chi-square(2) (from the tables)
     assert plotting.voyage_track_picture(days) is not None
+
+
+def test_a_current_that_turns_about_at_a_fix_names_the_fix_not_the_sea():
+    """Trial finding: the invented passage with one evening round timed 4 minutes late printed 'set 286.6°
+    2.39 kn' then 'set 084.7° 5.95 kn' as currents. The currents either side of that fix differ by 8 kn (common
+    practice: no ocean current turns about in hours): both are not determined, and the fix is named."""
+    from navred.jobs.shiptrack import CURRENT_JUMP_KN
+
+    assert CURRENT_JUMP_KN == 3.0
+    log = pd.read_csv("sample_sights/passage_log.csv")
+    late = log.fix_group == "14 1954"
+    log.loc[late, "utc"] = (pd.to_datetime(log.utc[late]) + pd.Timedelta(minutes=4)).dt.strftime("%Y-%m-%dT%H:%M:%SZ")
+    rows = process_log(log, plan=False).days_work().set_drift.set_index("fix_group")
+    for group in ("14 1954", "15 0545"):
+        assert np.isnan(rows.loc[group, "drift_kn"])
+        assert "the fix 14 1954 is more likely wrong" in rows.loc[group, "note"]
+    assert np.isfinite(rows.loc["14 0536", "drift_kn"]) and np.isfinite(rows.loc["15 2002", "drift_kn"])
+    plain = process_log("sample_sights/passage_log.csv", plan=False).days_work().set_drift
+    assert not plain.note.str.contains("more likely wrong").any()

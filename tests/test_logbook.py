@@ -780,6 +780,26 @@ def test_a_column_that_looks_like_a_correction_is_refused_with_the_name_navred_e
     assert f"column {header!r}" in message and expected in message and "\n" not in message
 
 
+@pytest.mark.parametrize("header", ["speed_made_good", "Speed made good (kn)", "SOG", "COG", "SMG", "CMG",
+                                    "course made good", "Speed over ground", "ground speed", "GPS speed"])
+def test_a_made_good_column_is_never_read_as_the_speed_or_course_through_the_water(tmp_path, header):
+    """A speed made good already holds the current: read as the speed through the water with a current entered, the
+    current would be counted twice (common practice: the current triangle). Refused, saying what to give."""
+    with pytest.raises(LogbookError) as refusal:
+        read_sight_log(demo_with(tmp_path, extra={header: "6.5"}))
+    message = str(refusal.value)
+    assert f"column {header!r}" in message and "made good over the ground" in message
+    assert "speed (through the water)" in message and "\n" not in message
+
+
+def test_no_spelling_of_a_column_through_the_water_names_a_made_good_quantity():
+    from navred.vocabulary import COLUMN, MADE_GOOD_HEADERS
+
+    for key in ("course", "speed"):
+        for spelling in COLUMN[key].spellings:
+            assert not MADE_GOOD_HEADERS.fullmatch(spelling), (key, spelling)
+
+
 def test_a_repeated_column_reads_as_one_where_it_agrees(tmp_path):
     lines = ["utc,body,hs,eye_height_m,dr_lat,dr_lon,hs",
              "2026-03-26T19:41:00Z,Sirius,30 02.4,2.8,43 14 N,13 04 W,30 02.4",

@@ -393,3 +393,40 @@ def test_every_form_of_reduce_fix_and_days_exits_1_when_nothing_could_be_done(tm
     assert "nothing" in result.output
     good = runner.invoke(app, [*command, "sample_sights/demo_sights.csv"])
     assert good.exit_code == 0, good.output
+
+
+def test_the_api_dates_the_dr_as_the_commands_do(tmp_path):
+    """The demo with a known position logged at 06:00 (an entry row) and every DR written 36′ of latitude off: the
+    log dates each DR (3 to 14 h old), and a DR that young cannot be some 33 nm out (common practice: 0.3 kn of unknown
+    current and 2 % of the run, four times over, navred.sensechecks). reduce_sights carries each DR's age in its
+    table (dr_age_h), and fix_positions takes it: the API gives the same DR ages, allowances and notes as
+    process_log and `navred fix --csv`, the far-from-DR warning among them."""
+    from navred import fix_positions
+    from navred.jobs.sights import DR_AGE_COLUMN
+
+    frame = demo()
+    frame["dr_lat"] = (reduce_sights(demo()).dr_lat_deg + 0.6).round(5).astype(str)
+    entry = dict.fromkeys(frame.columns, "") | {"utc": "2026-03-26T06:00:00Z", "entry": "position",
+                                                 "dr_lat": "44 20.0 N", "dr_lon": "012 00.0 W",
+                                                 "vessel": frame.vessel[0]}
+    log = pd.concat([pd.DataFrame([entry]), frame.assign(entry="")], ignore_index=True)
+    path = tmp_path / "dated.csv"
+    log.to_csv(path, index=False)
+    reduced = reduce_sights(path)
+    assert reduced[DR_AGE_COLUMN].notna().sum() == len(demo())  # every sight's DR dated, the entry row not a sight
+    voyage = process_log(path)
+    api = fix_positions(reduced)
+    table = pd.read_csv(io.StringIO(runner.invoke(app, ["fix", str(path), "--csv"]).stdout)).set_index("fix_group")
+    far = "nm from the DR, far more than the DR could be out"
+    for group in voyage.groups:
+        mine = api[group.name]
+        assert mine.dr_age_known and group.fix.dr_age_known
+        assert mine.dr_age_h == pytest.approx(group.fix.dr_age_h) and mine.dr_age_h < 15
+        assert mine.dr_allowed_nm == pytest.approx(group.fix.dr_allowed_nm)
+        assert mine.warnings == group.fix.warnings
+        assert "; ".join(mine.warnings) == table.loc[group.name, "note"]
+        assert any(far in w and " h old at " in w for w in mine.warnings)
+    # without the column the API cannot date the DR: it takes it as a day old, says so, and lets 33 nm pass
+    undated = fix_positions(reduced.drop(columns=[DR_AGE_COLUMN]))
+    assert all(not undated[g.name].dr_age_known and not any(far in w for w in undated[g.name].warnings)
+               for g in voyage.groups)

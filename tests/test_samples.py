@@ -21,7 +21,7 @@ import pytest
 #: Every sample log and class in sample_sights/ (the chronometer's copy of the passage is the same sights,
 #: tests/test_timepieces.py checks it against passage_log.csv).
 SAMPLES = ("demo_sights.csv", "demo_sights.xlsx", "demo_sights_hand_kept.csv", "passage_log.csv",
-           "training_sights.csv", "class_workings.xlsx")
+           "training_sights.csv", "class_workings.xlsx", "day_at_sea.csv")
 
 
 def _sights(name: str) -> pd.DataFrame:

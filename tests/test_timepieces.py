@@ -81,6 +81,8 @@ def test_the_rating_log_reads_each_comparison_or_refuses_it_with_a_reason(tmp_pa
     # at 00:00:01 UTC it read 00:59:59: 2 s slow (across midnight, within half a day)
     assert w.comparisons.error_s.tolist() == pytest.approx([7.0, -2.0])
     assert "2 comparisons" in w.summary()
+    # the last signal's error as the line gives it, and as read where they differ (trial finding)
+    assert "error 3.6 s fast at the last signal;" in a.summary()
     with pytest.raises(LogbookError, match="not a rating log"):
         read_rating_log(_signals(tmp_path / "bad.csv", [{"when": "x", "what": "y"}]))
 
@@ -163,6 +165,9 @@ def test_the_rated_passage_gives_the_days_work_of_the_passage_kept_in_utc():
                         rates=read_rating_log("sample_sights/passage_time_signals.csv")).days_work()
     kept = process_log("sample_sights/passage_log.csv", plan=False).days_work()
     assert list(rated.noons["noon_from"]) == list(kept.noons["noon_from"])  # no "carried to noon" for 0.02 s
+    # the chronometer keeps Greenwich: its zone is not the ship's clocks (trial finding: "clocks retarded 1 h")
+    assert list(rated.noons["clock_changes"]) == list(kept.noons["clock_changes"])
+    assert list(rated.noons["zone"]) == list(kept.noons["zone"])
     # two star rounds a day (scripts/make_passage.py: evening and morning twilight), the first day from the
     # departure at 05:00 UTC holding only its morning round before noon
     assert list(rated.noons["fixes_that_day"]) == list(kept.noons["fixes_that_day"]) == [1, 2, 2]
@@ -227,6 +232,154 @@ def test_rating_log_columns_are_named_or_refused_as_the_sight_logs_are(tmp_path)
     misspelt = [{"timepeice" if k == "timepiece" else k: v for k, v in row.items()} for row in rows]
     with pytest.raises(LogbookError, match="column 'timepeice' is not a column navred reads: is it 'timepiece'"):
         read_rating_log(_signals(tmp_path / "misspelt.csv", misspelt))
+
+
+def _kept_by(tmp_path, truth, signal_times, *, name="Chrono A", noise_s=0.05, seed=21):
+    """The demo's sights kept in zone time (ZD 0) by a chronometer whose true error (s, fast +) at UTC ``t`` is
+    ``truth(t)``, and its time signals at ``signal_times`` read with ``noise_s`` of scatter: the truth is known
+    here, so the error applied to each sight can be checked against it."""
+    rng = np.random.default_rng(seed)
+    rows = []
+    for when in signal_times:
+        error = truth(when) + rng.normal(0.0, noise_s)
+        rows.append({"timepiece": name, "utc": when.strftime("%Y-%m-%dT%H:%M:%SZ"),
+                     "reading": (when + pd.Timedelta(seconds=error)).strftime("%H:%M:%S.%f")[:-4]})
+    _signals(tmp_path / "signals.csv", rows)
+    demo = pd.read_csv("sample_sights/demo_sights.csv")
+    utc = pd.to_datetime(demo.utc)
+    true_error = np.array([truth(t) for t in utc])
+    reading = utc + pd.to_timedelta(true_error, unit="s")
+    kept = demo.drop(columns=["utc"]).assign(date=reading.dt.strftime("%Y-%m-%d"),
+                                             zone_time=reading.dt.strftime("%H:%M:%S.%f").str[:-3],
+                                             zone_description="0", timepiece=name)
+    kept.to_csv(tmp_path / "kept.csv", index=False)
+    return tmp_path / "kept.csv", tmp_path / "signals.csv", true_error
+
+
+_EPOCH = pd.Timestamp("2026-03-14T12:00:00Z")
+
+
+def _days(t):
+    return (t - _EPOCH).total_seconds() / 86400.0
+
+
+def test_a_sight_after_a_change_of_rate_takes_the_later_line(tmp_path):
+    """Issue 22: after a change of rate found in the signals, the sights took the error of one line fitted
+    across the change (−3.71 s applied where the truth was +2.15 s: 0.59 nm). Truth synthesized here: +0.4 s a
+    day to 20 March, then +1.6 s a day; the demo's sights on 26 March between two signals take the later
+    line's error within 0.15 s of the truth (one line through all would be off by about 2 s)."""
+    def truth(t):
+        d = _days(t)
+        return 1.0 + 0.4 * d if d <= 6.0 else 3.4 + 1.6 * (d - 6.0)
+
+    times = [_EPOCH + pd.Timedelta(days=k) for k in range(14)]  # to 27 March: the sights lie between signals
+    kept, signals, true_error = _kept_by(tmp_path, truth, times)
+    ratings = read_rating_log(signals)
+    piece = ratings.timepieces["Chrono A"]
+    assert piece.change.changed and piece.change.kind == "rate"
+    assert piece.change.rate_after_s_per_day == pytest.approx(1.6, abs=0.05)
+    assert "RATE CHANGED between the signals of 2026-03-20 12:00 and 2026-03-21 12:00 UTC" in piece.summary()
+    log = read_sight_log(kept, rates=ratings)
+    applied = log.table.watch_error_applied_s.to_numpy(float)
+    assert np.abs(applied - true_error).max() < 0.15
+    one_line = piece.fit.error_s(np.array([_days(t) for t in pd.to_datetime(log.table.sight_utc)]))
+    assert np.abs(one_line - true_error).min() > 1.0  # what the single line would have applied
+    assert log.table.watch_error_from.str.endswith("after its change of rate").all()
+    # every command that takes the error says so (a note), in a navigator's words, no test statistic
+    assert any(n.startswith("timepiece Chrono A: RATE CHANGED between") and "s a day after" in n
+               and ("gaining 1.59" in n or "gaining 1.60" in n or "gaining 1.61" in n) and "F " not in n
+               for n in log.notes), log.notes
+    # between signals, after the change: no extrapolation, so no warning from the timepiece
+    reduced = process_log(log, plan=False).reduced
+    assert not reduced.message.str.contains("watch error").any()
+
+
+def test_a_step_in_the_error_is_a_reset_with_the_rate_unchanged(tmp_path):
+    """A chronometer set back 10 s at sea (a reset) runs on at its rate: the step is reported as a reset with
+    the rate unchanged (not as a change of rate), and sights after it take the error after the step. Truth
+    synthesized here: +0.5 s a day throughout, −10 s from 20 March 18:00."""
+    reset_at = pd.Timestamp("2026-03-20T18:00:00Z")
+
+    def truth(t):
+        return 2.0 + 0.5 * _days(t) - (10.0 if t >= reset_at else 0.0)
+
+    times = [_EPOCH + pd.Timedelta(days=k) for k in range(14)]
+    kept, signals, true_error = _kept_by(tmp_path, truth, times)
+    ratings = read_rating_log(signals)
+    change = ratings.timepieces["Chrono A"].change
+    assert change.changed and change.kind == "reset"
+    assert change.step_s == pytest.approx(-10.0, abs=0.15)
+    assert change.common_rate_s_per_day == pytest.approx(0.5, abs=0.03)
+    summary = ratings.timepieces["Chrono A"].summary()
+    assert "RESET between the signals of 2026-03-20 12:00 and 2026-03-21 12:00 UTC: a step of -10.0 s" in summary
+    assert "the rate unchanged" in summary and "RATE CHANGED" not in summary
+    log = read_sight_log(kept, rates=ratings)
+    assert np.abs(log.table.watch_error_applied_s.to_numpy(float) - true_error).max() < 0.15
+    assert log.table.watch_error_from.str.endswith("after its reset").all()
+    result = runner.invoke(app, ["rate", str(signals)])
+    assert result.exit_code == 0 and "RESET between" in result.stdout
+
+
+def test_every_extrapolated_or_straddling_error_carries_a_warning(tmp_path):
+    """A sight past the last signal, or between the signals either side of a change, is warned (the sight's
+    own warning, in navred days and the Working sheet); truth synthesized here."""
+    def steady(t):
+        return 1.0 + 0.5 * _days(t)
+
+    times = [_EPOCH + pd.Timedelta(days=k) for k in range(11)]  # the last signal 24 March 12:00, sights 26 March
+    kept, signals, true_error = _kept_by(tmp_path, steady, times)
+    voyage = process_log(kept, plan=False, rates=read_rating_log(signals))
+    messages = voyage.reduced.message
+    assert messages.str.contains("watch error extrapolated ").all()
+    assert messages.str.contains("past Chrono A's last time signal \\(2026-03-24 12:00 UTC\\)").all()
+    assert (voyage.reduced.status == "warning").all()
+    days = runner.invoke(app, ["days", str(kept), "--rates", str(signals)])
+    assert days.exit_code == 0  # the warnings on stderr, each sight's by its row
+    assert "row 2 (Sun): watch error extrapolated 45.2 h past Chrono A's last time signal" in days.output
+    assert "row 12 (Dubhe): watch error extrapolated 2.3 days past" in days.output
+
+    # a change of rate between 26 March 00:00 and 27 March 00:00: the sights of 26 March straddle it
+    def changed(t):
+        d = (t - pd.Timestamp("2026-03-26T00:00:00Z")).total_seconds() / 86400.0
+        return 2.0 + 0.4 * d if d <= 0.5 else 2.2 + 2.0 * (d - 0.5)
+
+    midnight = [pd.Timestamp("2026-03-16T00:00:00Z") + pd.Timedelta(days=k) for k in range(16)]
+    kept, signals, _ = _kept_by(tmp_path, changed, midnight)
+    ratings = read_rating_log(signals)
+    assert ratings.timepieces["Chrono A"].change.kind == "rate"
+    log = read_sight_log(kept, rates=ratings)
+    assert log.table.watch_error_warning.str.startswith("watch error across the change of rate of Chrono A").all()
+    book = tmp_path / "k.xlsx"
+    assert runner.invoke(app, ["workbook", str(kept), "--rates", str(signals), "-o", str(book),
+                               "--pictures", "none"]).exit_code == 0
+    from openpyxl import load_workbook
+
+    sheet = load_workbook(book, read_only=True)["Working"]
+    texts = [c for row in sheet.iter_rows(values_only=True) for c in row if isinstance(c, str)]
+    assert sum("watch error across the change of rate" in t for t in texts) >= len(log.table)
+
+
+def test_a_twelve_hour_dial_is_read_and_a_24_hour_reading_12_hours_out_says_so(tmp_path):
+    """A marine chronometer's dial shows 12 hours (common practice): read with dial 12, 3:00:02.5 at a signal
+    at 15:00:00 UTC is 2.5 s fast; without the dial column the reading is refused with a hint to give it; a
+    reading past 12 on a 12-hour dial is refused."""
+    rows = [{"timepiece": "No. 1", "utc": "2026-03-20T15:00:00Z", "reading": "3:00:02.5", "dial": "12"},   # 2
+            {"timepiece": "No. 1", "utc": "2026-03-21T09:00:00Z", "reading": "9:00:03.0", "dial": "12"},   # 3
+            {"timepiece": "No. 1", "utc": "2026-03-21T23:59:59Z", "reading": "12:00:02.5", "dial": "12 h"},  # 4
+            {"timepiece": "No. 1", "utc": "2026-03-22T15:00:00Z", "reading": "15:00:04.0", "dial": "12"},  # 5
+            {"timepiece": "No. 1", "utc": "2026-03-22T15:00:00Z", "reading": "3:00:04.0", "dial": "11"}]   # 6
+    ratings = read_rating_log(_signals(tmp_path / "dial.csv", rows))
+    comparisons = ratings.timepieces["No. 1"].comparisons
+    assert list(comparisons.row) == [2, 3, 4]
+    assert comparisons.error_s.tolist() == pytest.approx([2.5, 3.0, 3.5])
+    reasons = ratings.rejected.set_index("row").reason
+    assert "a 12-hour dial reads 0 to 12 hours, not 15" in reasons[5]
+    assert "the dial is 12" in reasons[6]
+    plain = read_rating_log(_signals(tmp_path / "plain.csv", [{k: v for k, v in r.items() if k != "dial"}
+                                                               for r in rows[:2]]))
+    assert "is the zone description right; or, if the timepiece has a 12-hour dial (a marine chronometer's), " \
+           "give dial 12?" in plain.rejected.set_index("row").reason[2]
+    assert plain.timepieces["No. 1"].comparisons.error_s.tolist() == pytest.approx([3.0])
 
 
 def test_a_rate_is_said_gaining_or_losing():

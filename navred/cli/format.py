@@ -12,6 +12,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from ..angles import format_angle, wrap_360
+from ..fixresult import LINE_ONLY_DEG, angle_words
 from ..status import FixKind, RunFrom, SightStatus
 
 if TYPE_CHECKING:  # pandas is imported by the formatters that need it: navred almanac stays quick
@@ -345,13 +346,14 @@ def _label_list(labels: list[str]) -> str:
     return ", ".join(labels[:12]) + (f" and {len(labels) - 12} more" if len(labels) > 12 else "")
 
 
-def _fix_head_lines(group) -> list[str]:
+def _fix_head_lines(group, vessel: str = "") -> list[str]:
     fix = group.fix
     when = str(fix.utc)[:19].replace("T", " ")
     left_out = fix.left_out if fix.left_out.size == len(group.rows) else np.zeros(len(group.rows), dtype=bool)
+    ship = f"{vessel}: " if vessel else ""
     if fix.is_fix:
         dropped = (f", {int(left_out.sum())} left out (see below)" if left_out.any() else "")
-        lines = [f'Fix "{group.name}": {int(fix.used.sum())} sights{dropped}, at {when} UTC',
+        lines = [f'{ship}Fix "{group.name}": {int(fix.used.sum())} sights{dropped}, at {when} UTC',
                  f"  position       {format_angle(fix.lat_deg, 'lat')}  {format_angle(fix.lon_deg, 'lon')}"
                  + ("   CANNOT BE TRUSTED: not the position to plot (the first warning says why)"
                     if fix.untrusted else ""),
@@ -362,8 +364,9 @@ def _fix_head_lines(group) -> list[str]:
         if fix.ellipse_note:
             lines.append(f"                 {fix.ellipse_note}")
         return lines
-    lines = [f'No fix in "{group.name}": {int(fix.used.sum())} sights whose lines cross at {fix.spread_deg:.0f}° '
-             f"give a {fix.kind}, at {when} UTC"]
+    why = fix.not_fix_reason or f"their lines cross at {angle_words(fix.spread_deg, LINE_ONLY_DEG)} at most"
+    lines = [f'{ship}No fix in "{group.name}": {int(fix.used.sum())} sights give a {fix.kind}, at {when} UTC: '
+             f"{why}"]
     if fix.kind == FixKind.LATITUDE:
         lines.append(f"  latitude       {format_angle(fix.lat_deg, 'lat')}, 95 % band {fix.ellipse_text()}"
                      + (f"; noon curve {format_angle(fix.noon_curve_latitude_deg, 'lat')}"
@@ -429,10 +432,11 @@ def _check_lines(group) -> list[str]:
     return lines + [f"  warning: {text}" for text in fix.warnings]
 
 
-def fix_lines(group, reduced: pd.DataFrame, labels) -> list[str]:
-    """One fix group's fix: position, ellipse or band, sight error, residuals and flags, checks and warnings."""
+def fix_lines(group, reduced: pd.DataFrame, labels, vessel: str = "") -> list[str]:
+    """One fix group's fix: position, ellipse or band, sight error, residuals and flags, checks and warnings;
+    ``vessel`` names the ship where the log holds several."""
     fix = group.fix
-    lines = _fix_head_lines(group)
+    lines = _fix_head_lines(group, vessel)
     lines.append(f"  sight error    {fix.sigma_arcmin:.2f}′ ({fix.sigma_source})"
                  + (f"; fix standard error {fix.standard_error_nm:.2f} nm" if fix.is_fix else ""))
     if fix.course_made_good_deg is not None:
@@ -450,7 +454,8 @@ def fix_lines(group, reduced: pd.DataFrame, labels) -> list[str]:
 
 
 def latitude_lines(checks: pd.DataFrame) -> list[str]:
-    """Latitude by meridian altitude and by Polaris (:func:`navred.jobs.fixing.latitude_checks`), as checks."""
+    """Latitude by meridian altitude, ex-meridian and Polaris (:func:`navred.jobs.fixing.latitude_checks`), as
+    checks."""
     if not len(checks):
         return []
     lines = ["Latitude checks"]
@@ -458,6 +463,10 @@ def latitude_lines(checks: pd.DataFrame) -> list[str]:
         dr = format_angle(row["dr_lat_deg"], "lat")
         if row["method"] == "Polaris":
             lines.append(f"  {row['row']:<8} Polaris: latitude {format_angle(float(row['lat_deg']), 'lat')} (DR {dr})")
+        elif row["method"] == "ex-meridian":
+            lines.append(f"  {row['row']:<8} {row['body']:<10} ex-meridian, {row['minutes_from_meridian']:.1f} min "
+                         f"from the meridian (limit {row['limit_minutes']:.0f} min): latitude "
+                         f"{format_angle(float(row['lat_deg']), 'lat')} (DR {dr})")
         else:
             lines.append(f"  {row['row']:<8} {row['body']:<10} on the meridian: latitude "
                          f"{format_angle(float(row['lat_deg']), 'lat')} (DR {dr})")
@@ -473,9 +482,11 @@ def fix_report_lines(report) -> list[str]:
     lines = []
     for item in report.groups:
         if item.fix is None:
-            lines += [f"Group {item.name}: no fix ({item.problem})", ""]
+            ship = f"{voyage.vessel_of(item.name)}: " if len(voyage.vessels) > 1 else ""
+            lines += [f"{ship}Group {item.name}: no fix ({item.problem})", ""]
             continue
-        lines += fix_lines(item, voyage.reduced, labels) + [""]
+        vessel = voyage.vessel_of(item.name) if len(voyage.vessels) > 1 else ""
+        lines += fix_lines(item, voyage.reduced, labels, vessel) + [""]
     if report.n_fixes:
         lines += [f"Each 95 % ellipse (or band) {ELLIPSE_COVERS}.", ""]
     lines += latitude_lines(report.latitude_checks())
@@ -602,38 +613,114 @@ def training_lines(run, track: str) -> list[str]:
 
 def _noon_lines(days, vessel) -> list[str]:
     noons = days.noons[days.noons.vessel == vessel]
+    if not len(noons):
+        return []
     lines = [f"\n{vessel or 'the vessel'}: noon positions and the day's run"]
     for r in noons.to_dict("records"):
-        run = (f"  run {r['run_nm']:6.1f} nm, {r['course_made_good_deg']:05.1f}° made good at "
-               f"{r['speed_made_good_kn']:4.1f} kn in {r['hours']:.0f} h ({r['through_water_nm']:.1f} "
-               "nm through the water)" if r["run_nm"] == r["run_nm"] else "")
-        lines.append(f"  {r['date']} noon (ZD {r['zone_h']:+.0f}) {r['noon_position']:<24} {r['noon_from']}{run}")
+        lines.append(f"  {r['date']} noon ({r['zone']}, {r['noon_utc'][11:16]} UTC) {r['noon_position'] or 'no position'}"
+                     f"  from {r['noon_from']}")
+        if r["run_nm"] == r["run_nm"]:
+            current = (f"; current {r['current_set_deg']:05.1f}° {r['current_drift_kn']:.1f} "
+                       f"±{r['current_95_kn']:.1f} kn" if r["current_drift_kn"] == r["current_drift_kn"] else
+                       f"; current {r['current_note'].split(' (')[0]}" if r["current_note"] else "")
+            lines.append(f"      run {r['run_nm']:.1f} nm made good on {r['course_made_good_deg']:05.1f}° at "
+                         f"{r['speed_made_good_kn']:.1f} kn in {r['hours']:.0f} h; {r['through_water_nm']:.1f} nm "
+                         f"through the water{current}")
+        if r["to_go_nm"] == r["to_go_nm"]:
+            eta = f": ETA {r['eta_ship_time']} ({r['eta_basis']})" if r["eta_ship_time"] else ""
+            lines.append(f"      {r['to_go_nm']:.0f} nm to go to {r['to']}{eta}")
+        if r["clock_changes"]:
+            lines.append(f"      {r['clock_changes']}")
     return lines
+
+
+def noon_report_lines(row: dict) -> list[str]:
+    """One noon report as the master sends it: position and how found, the day's run and current, the distance to
+    go and ETA, the clock changes."""
+    lines = [f"NOON REPORT {row['vessel'] or ''}".rstrip() + f", {row['date']} ({row['zone']}; {row['noon_utc']} UTC)",
+             f"  position          {row['noon_position'] or 'not known'}", f"  found by          {row['noon_from']}"]
+    if row["run_nm"] == row["run_nm"]:
+        lines += [f"  made good         {row['course_made_good_deg']:05.1f}°, {row['run_nm']:.1f} nm in "
+                  f"{row['hours']:.0f} h: average speed {row['speed_made_good_kn']:.1f} kn",
+                  f"  through the water {row['through_water_nm']:.1f} nm"]
+        if row["current_drift_kn"] == row["current_drift_kn"]:
+            lines.append(f"  current           {row['current_set_deg']:05.1f}° {row['current_drift_kn']:.1f} "
+                         f"±{row['current_95_kn']:.1f} kn (95 %; {row['current_note']})")
+        elif row["current_note"]:
+            lines.append(f"  current           {row['current_note']}")
+    else:
+        lines.append("  made good         (the first noon: no day's run yet)")
+    if row["to_go_nm"] == row["to_go_nm"]:
+        lines.append(f"  to go             {row['to_go_nm']:.0f} nm to {row['to']}")
+        if row["eta_ship_time"]:
+            lines.append(f"  ETA               {row['eta_ship_time']} ({row['eta_basis']}); {row['eta_utc']} UTC")
+    lines.append(f"  clocks            {row['clock_changes'] or 'unchanged since the last noon'}")
+    return lines
+
+
+def noon_reports_text(days) -> str:
+    """Every noon report of the day's work, as text (navred days -o FILE.txt)."""
+    from ..io.cautions import CAUTION
+
+    blocks = ["\n".join(noon_report_lines(r)) for r in days.noons.to_dict("records")]
+    return "\n\n".join(blocks + [CAUTION]) + "\n"
 
 
 def _set_drift_lines(days, vessel) -> list[str]:
     sets = days.set_drift[days.set_drift.vessel == vessel]
-    lines = [f"{vessel or 'the vessel'}: set and drift at each fix (95 %)"] if len(sets) else []
+    lines = [f"{vessel or 'the vessel'}: set and drift at each of the ship's fixes (95 %)"] if len(sets) else []
     for r in sets.to_dict("records"):
-        spread = f"±{r['set_95_deg']:.0f}°" if r["set_95_deg"] == r["set_95_deg"] else "(set not determined)"
-        lines.append(f"  {r['fix_utc']} fix {r['fix_group']}: set {r['set_deg']:05.1f}° {spread}, drift "
-                     f"{r['drift_kn']:.2f} ±{r['drift_95_kn']:.2f} kn over {r['hours']:.1f} h from the {r['from']}")
+        head = f"  {r['fix_utc']} fix {r['fix_group']}"
+        if r["drift_kn"] == r["drift_kn"]:
+            lines.append(f"{head}: set {r['set_deg']:05.1f}° ±{r['set_95_deg']:.0f}°, drift {r['drift_kn']:.2f} "
+                         f"±{r['drift_95_kn']:.2f} kn over {r['hours']:.1f} h from the {r['from']}")
+        elif r["note"].startswith("not determined"):
+            lines.append(f"{head}: set and drift {r['note']} (from the {r['from']})")
+        else:
+            lines.append(f"{head}: {r['note']}, over {r['hours']:.1f} h from the {r['from']}")
     return lines
 
 
-NO_DAYS_WORK = "no day's work: the log gives no departure (an entry row) and no fix to keep the DR from"
+def _plural_words(kind: str, n: int) -> str:
+    """'fix' → 'fixes', 'estimated position' → 'estimated positions' (n > 1)."""
+    if n <= 1:
+        return kind
+    return kind + ("es" if kind.endswith(("x", "s", "ch", "sh")) else "s")
+
+
+def _exercise_lines(days, vessel) -> list[str]:
+    table = days.exercises[days.exercises.vessel == vessel] if len(days.exercises) else days.exercises
+    if not len(table):
+        return []
+    lines = [f"{vessel or 'the vessel'}: exercises against the ship's position"]
+    for observer, part in table.groupby("observer", sort=False):
+        off = part["off_nm"].to_numpy(dtype=float)
+        kinds = part["kind"].value_counts().to_dict()
+        counted = ", ".join(f"{n} {_plural_words(str(k), n)}" for k, n in kinds.items())
+        if np.isfinite(off).any():
+            lines.append(f"  {observer or '(no observer)'}: {counted}, {np.nanmean(off):.1f} nm off on average "
+                         f"(at most {np.nanmax(off):.1f})")
+        else:
+            lines.append(f"  {observer or '(no observer)'}: {counted}; no ship's DR to compare with")
+    return lines
+
+
+NO_DAYS_WORK = "no day's work: the log gives no departure (an entry row) and none of the ship's fixes to keep the DR from"
 
 
 def days_lines(report) -> list[str]:
-    """navred days's text: the summary, each vessel's noons and day's run, set and drift, estimated positions."""
+    """navred days's text: the summary, what the day's work rests on, each vessel's noons and day's run, set and
+    drift, exercises, estimated positions, and the last noon report in full."""
     voyage, days = report.voyage, report.days
-    lines = [voyage.summary()]
-    if days.empty:
-        lines.append(NO_DAYS_WORK)
+    lines = [voyage.summary()] + list(days.notes)
     for vessel in days.tracks:
-        lines += _noon_lines(days, vessel) + _set_drift_lines(days, vessel)
+        lines += _noon_lines(days, vessel) + _set_drift_lines(days, vessel) + _exercise_lines(days, vessel)
     lines += [f"estimated position {r['fix_group']} at {r['utc']}: {r['estimated_position']} ({r['from']})"
               for r in days.estimated.to_dict("records")]
+    for vessel in days.tracks:
+        noons = days.noons[days.noons.vessel == vessel]
+        if len(noons):
+            lines += [""] + noon_report_lines(noons.iloc[-1].to_dict())
     return lines
 
 

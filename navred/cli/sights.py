@@ -47,6 +47,23 @@ def _dates():
     return typer.Option(None, "--dates", help=DATES_HELP)
 
 
+def _navigators():
+    return typer.Option(None, "--navigator", help="An observer whose sights are the ship's (repeat for more): their "
+                        "fixes keep the DR and the noon; every other observer's are exercises, fixed and compared "
+                        "with the ship's position. Without it, a log's role column decides, else each round of "
+                        "several observers' fixes is combined.")
+
+
+def _route():
+    return typer.Option(None, "--route", help="A route file (the CSV navred route writes): the noon report's distance "
+                        "to go and ETA along its waypoints.")
+
+
+def _card():
+    return typer.Option(None, "--card", help="The deviation card (navred compass --card): the deviation of a compass "
+                        "course entered without one.")
+
+
 @command("reduce")
 def reduce_command(
     ctx: typer.Context,
@@ -291,7 +308,7 @@ def _counted_note(voyage) -> str:
 
 
 DAYS_FILES = {".png": "the voyage's picture (DR legs, fixes, set and drift, noons)", ".svg": "the same picture",
-              ".csv": "the noon positions and the day's run"}
+              ".csv": "the noon report table (a row a noon)", ".txt": "every noon report as the master sends it"}
 
 
 @command("days")
@@ -303,11 +320,15 @@ def days_command(
     output: list[str] = typer.Option(None, "--output", "-o", help=outputs_help(DAYS_FILES)),
     rates: str | None = _rates(),
     dates: str | None = _dates(),
+    navigator: list[str] = _navigators(),
+    route: str | None = _route(),
+    card: str | None = _card(),
     picture: str | None = typer.Option(None, "--picture", hidden=True),
 ) -> None:
-    """The day's work: the noon positions and the day's run, the set and drift at each fix, the estimated positions.
+    """The day's work: the noon report and the day's run, the set and drift at each fix, the estimated positions.
 
-    The DR is kept from the departure through every course and speed and restarted at each fix.
+    The DR is kept from the departure through every course and speed and restarted at each of the ship's fixes;
+    noon is 12:00 by the ship's clocks (clocks entries), one a ship's day.
 
     Example:  navred days sample_sights/passage_log.csv -o passage.png
     """
@@ -322,14 +343,18 @@ def days_command(
         days_lines,
         group_warning_lines,
         labels_of,
+        noon_reports_text,
+        rejected_lines,
         sight_warning_lines,
     )
 
     with reported(ctx):
-        files = output_files(old_outputs(output, picture=picture), DAYS_FILES, input_files(sights_files, rates))
+        files = output_files(old_outputs(output, picture=picture), DAYS_FILES,
+                             input_files(sights_files, rates, route, card))
         if ".png" in files and ".svg" in files:
             raise NavredError("give one picture file, .png or .svg")
-        report = days_log(source(sights_files), dates=dates, rates=ratings(rates, dates), carry_current=carry_current)
+        report = days_log(source(sights_files), dates=dates, rates=ratings(rates, dates), carry_current=carry_current,
+                          navigators=tuple(navigator or ()), route=route, card=card)
         voyage, days = report.voyage, report.days
         print_notes(voyage)
         if csv:
@@ -340,14 +365,16 @@ def days_command(
             echo_lines(group_warning_lines(voyage.groups, shown=WARNINGS_SHOWN), err=True)
             echo_lines(sight_warning_lines(voyage.reduced, labels_of(voyage.reduced), shown=WARNINGS_SHOWN),
                        err=True)
-            if voyage.n_rejected_rows:
-                typer.echo(f"{voyage.n_rejected_rows} row(s) not read: navred reduce names each and why", err=True)
+            if voyage.n_rejected_rows:  # each with its reason: a rejected entry row changes the day's work
+                echo_lines(rejected_lines(voyage.rejected), err=True)
         if report.nothing_reduced or (days.empty and not len(voyage.reduced)):
             require_reduced(len(voyage.reduced), voyage.n_reduced)
         if days.empty:
             raise NavredError(NO_DAYS_WORK)
         if ".csv" in files:
             typer.echo(f"wrote {write_text(files['.csv'], days_csv(report), inputs=voyage.inputs)}", err=csv)
+        if ".txt" in files:
+            typer.echo(f"wrote {write_text(files['.txt'], noon_reports_text(days), inputs=voyage.inputs)}", err=csv)
         for suffix in (".png", ".svg"):
             if suffix in files:
                 written, vessels = write_track_picture(days, files[suffix], inputs=voyage.inputs)

@@ -65,6 +65,21 @@ def read_deviation_card(path: str | Path) -> pd.DataFrame:
     return card
 
 
+def deviation_curve(path: str | Path):
+    """The deviation curve of a card (:func:`navred.compass.deviation_coefficients` fitted to its checks on the
+    magnetic compass), to make a compass course true; a card with no such check is refused."""
+    from ..compass import deviation_coefficients
+
+    if not Path(path).exists():
+        raise CardError(f"no deviation card {str(path)!r}: give the card navred compass --card keeps")
+    card = read_deviation_card(path)
+    checked = np.isfinite(card["compass_heading_deg"].to_numpy(float)) & np.isfinite(card["deviation_deg"].to_numpy(float))
+    if not checked.any():
+        raise CardError(f"{path} holds no deviation on a compass heading: it cannot give the deviation of a course")
+    return deviation_coefficients(card["compass_heading_deg"].to_numpy(float)[checked],
+                                  card["deviation_deg"].to_numpy(float)[checked])
+
+
 def add_check(path: str | Path, check: dict, *, inputs=()) -> pd.DataFrame:
     """Add one compass check to a card and write the card back whole; the card with the check is returned."""
     path = Path(path)
@@ -79,4 +94,4 @@ def add_check(path: str | Path, check: dict, *, inputs=()) -> pd.DataFrame:
     return card
 
 
-__all__ = ["CARD_COLUMNS", "CardError", "add_check", "read_deviation_card", "MAX_CARD_BYTES", "MAX_CARD_ROWS"]
+__all__ = ["CARD_COLUMNS", "CardError", "add_check", "read_deviation_card", "deviation_curve", "MAX_CARD_BYTES", "MAX_CARD_ROWS"]

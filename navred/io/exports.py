@@ -4,7 +4,8 @@
   of ``rtept``) and tracks (``trk`` of segments of ``trkpt``), each point with its time, name, description
   and type where it has them.
 - GeoJSON (RFC 7946): a FeatureCollection of the features given, coordinates as [longitude, latitude] in
-  WGS 84 degrees; a number that is not finite is written as null (JSON has no NaN).
+  WGS 84 degrees; a number that is not finite is written as null (JSON has no NaN); a line or a ring that
+  crosses the antimeridian is cut there into two parts (§3.1.9), none of whose coordinates jump across it.
 
 Both carry the safety caution (GPX: the metadata's description and the comment of every waypoint, route and
 track; GeoJSON: a ``navred`` member and every feature's ``navred_caution`` property) and are
@@ -131,10 +132,94 @@ def point_feature(lat_deg: float, lon_deg: float, properties: dict) -> dict:
             "properties": properties}
 
 
+def _unwrapped(lon_deg) -> np.ndarray:
+    """Longitudes made continuous (each step the short way round, under 180°), from the first one."""
+    lon = np.asarray(lon_deg, dtype=float)
+    if lon.size < 2:
+        return lon.copy()
+    step = (np.diff(lon) + 180.0) % 360.0 - 180.0
+    return np.concatenate([[lon[0]], lon[0] + np.cumsum(step)])
+
+
+def _wrapped(lon: float, side: float) -> float:
+    """A longitude of a part in −180..180, a point on the antimeridian kept on its part's ``side`` (±180)."""
+    value = (lon + 180.0) % 360.0 - 180.0
+    return side if abs(abs(value) - 180.0) < 1e-9 else value
+
+
+def antimeridian_lines(lat_deg, lon_deg) -> list[list[list[float]]]:
+    """The line through the points as [lon, lat] parts, cut where it crosses the antimeridian (RFC 7946 §3.1.9):
+    each part ends on 180° on its own side (the crossing interpolated linearly, as GeoJSON draws the line), so
+    that no part's coordinates jump across the map. A line that does not cross is one part."""
+    lat = np.asarray(lat_deg, dtype=float)
+    lon = _unwrapped(lon_deg)
+    parts: list[list[list[float]]] = [[]]
+    for k in range(lat.size):
+        if k:
+            a, b = lon[k - 1], lon[k]
+            # each odd multiple of 180° between the two points is a crossing of the antimeridian
+            low, high = sorted((a, b))
+            first = np.ceil((low - 180.0) / 360.0)
+            last = np.floor((high - 180.0) / 360.0)
+            crossings = [180.0 + 360.0 * m for m in np.arange(first, last + 1)]
+            for cross in (crossings if b >= a else crossings[::-1]):
+                if cross in (a, b):
+                    continue
+                t = (cross - a) / (b - a)
+                at_lat = float(lat[k - 1] + t * (lat[k] - lat[k - 1]))
+                side = 180.0 if b > a else -180.0
+                parts[-1].append([side, at_lat])
+                parts.append([[-side, at_lat]])
+        side = 180.0 if (k + 1 < lat.size and lon[k + 1] > lon[k]) else -180.0
+        parts[-1].append([_wrapped(float(lon[k]), side if k + 1 < lat.size else -side), float(lat[k])])
+    return [p for p in parts if len(p) >= 2] or [parts[0]]
+
+
 def line_feature(lat_deg, lon_deg, properties: dict) -> dict:
-    """A GeoJSON LineString feature through the points given (latitudes and longitudes in degrees)."""
-    return {"type": "Feature", "geometry": {"type": "LineString", "coordinates": [
-        [float(lon), float(lat)] for lat, lon in zip(lat_deg, lon_deg)]}, "properties": properties}
+    """A GeoJSON LineString feature through the points given (latitudes and longitudes in degrees); a line that
+    crosses the antimeridian is a MultiLineString cut there (RFC 7946 §3.1.9)."""
+    parts = antimeridian_lines(lat_deg, lon_deg)
+    geometry = ({"type": "LineString", "coordinates": parts[0]} if len(parts) == 1
+                else {"type": "MultiLineString", "coordinates": parts})
+    return {"type": "Feature", "geometry": geometry, "properties": properties}
+
+
+def _clipped(ring: list[tuple[float, float]], boundary: float, keep_below: bool) -> list[list[float]]:
+    """A ring (unwrapped [lon, lat]) clipped to one side of the meridian ``boundary`` (Sutherland-Hodgman)."""
+    inside = (lambda p: p[0] <= boundary) if keep_below else (lambda p: p[0] >= boundary)
+    out = []
+    for k in range(len(ring)):
+        current, previous = ring[k], ring[k - 1]
+        if inside(current) != inside(previous):
+            t = (boundary - previous[0]) / (current[0] - previous[0])
+            out.append([boundary, previous[1] + t * (current[1] - previous[1])])
+        if inside(current):
+            out.append(list(current))
+    return out
+
+
+def polygon_feature(lat_deg, lon_deg, properties: dict) -> dict:
+    """A GeoJSON Polygon feature of one ring (latitudes and longitudes in degrees, closed or not); a ring that
+    crosses the antimeridian is a MultiPolygon of its two parts, cut there (RFC 7946 §3.1.9). A ring around a
+    pole is not cut (navred's rings, the 95 % ellipses, are small)."""
+    lat = np.asarray(lat_deg, dtype=float)
+    lon = _unwrapped(lon_deg)
+    ring = list(zip(lon.tolist(), lat.tolist()))
+    if ring and ring[0] == ring[-1]:
+        ring = ring[:-1]
+    low, high = float(np.min(lon)), float(np.max(lon))
+    boundary = float(180.0 + 360.0 * np.floor((high - 180.0) / 360.0))
+    if not (low < boundary < high):
+        coordinates = [[_wrapped(x, 180.0), y] for x, y in ring]
+        return {"type": "Feature", "geometry": {"type": "Polygon", "coordinates": [coordinates + [coordinates[0]]]},
+                "properties": properties}
+    polygons = []
+    for keep_below, side in ((True, 180.0), (False, -180.0)):
+        part = _clipped(ring, boundary, keep_below)
+        coordinates = [[_wrapped(x, side), y] for x, y in part]
+        polygons.append([coordinates + [coordinates[0]]])
+    return {"type": "Feature", "geometry": {"type": "MultiPolygon", "coordinates": polygons},
+            "properties": properties}
 
 
 def write_geojson(path: str | Path, features: list[dict], *, inputs: Iterable[str] = ()) -> Path:
@@ -148,4 +233,4 @@ def write_geojson(path: str | Path, features: list[dict], *, inputs: Iterable[st
 
 
 __all__ = ["GPX_NAMESPACE", "GpxPoint", "GpxRoute", "GpxTrack", "write_gpx", "write_geojson", "point_feature",
-           "line_feature", "finite", "iso_z", "ascii_text"]
+           "line_feature", "polygon_feature", "antimeridian_lines", "finite", "iso_z", "ascii_text"]

@@ -20,7 +20,19 @@ LABELS = {
     "lon_deg": "lon (deg)", "zone_h": "zone (h)", "noon_utc": "noon (UTC)", "noon_position": "noon position",
     "noon_from": "noon from", "run_nm": "run (nm)", "course_made_good_deg": "course made good (deg)",
     "speed_made_good_kn": "speed made good (kn)", "through_water_nm": "through the water (nm)",
-    "fixes_that_day": "fixes that day",
+    "fixes_that_day": "fixes that day", "zone": "ship's zone", "dr_to_fix_nm": "DR to fix (nm)",
+    "current_set_deg": "current set (deg)", "current_drift_kn": "current drift (kn)",
+    "current_95_kn": "current ±95 % (kn)", "current_note": "current from", "to": "steering for",
+    "to_go_nm": "to go (nm)", "eta_utc": "ETA (UTC)", "eta_ship_time": "ETA (ship's time)", "eta_basis": "ETA by",
+    "clock_changes": "clock changes since the last noon", "ship_position": "ship's position",
+    "ship_from": "ship's position from", "off_nm": "off the ship (nm)", "bearing_deg": "bearing from the ship (deg)",
+    "course_working": "course: the working", "speed_working": "speed: the working",
+    "minutes_from_meridian": "from the meridian (min)", "limit_minutes": "ex-meridian limit (min)",
+    # the DR's entries (navred.io.logdr)
+    "course_deg": "course (deg)", "speed_kn": "speed (kn)", "compass_course_deg": "compass course (deg)",
+    "deviation_deg": "deviation (deg, E +)", "variation_deg": "variation (deg, E +)", "leeway_deg": "leeway (deg)",
+    "log_reading_nm": "log reading (nm)", "clocks_zone_h": "clocks to zone (h)", "clocks_change_h": "clocks changed (h)",
+    "body_name": "body", "lat_by": "latitude by",
     # training records (navred.jobs.training)
     "body_kind": "body kind", "blunder_rate": "blunder rate", "personal_error_arcmin": "personal error (′)",
     "standard_error_arcmin": "standard error (′)", "interval_95_arcmin": "95 % interval (′)",
@@ -37,7 +49,7 @@ LABELS = {
     "rhumb_distance_to_next_nm": "rhumb distance to next (nm)",
     # a timepiece's comparisons (navred.io.timesignals)
     "signal_utc": "signal (UTC)", "zone_description_h": "zone (h)", "error_s": "error (s, fast +)",
-    "residual_s": "residual (s)",
+    "residual_s": "residual (s)", "dial_h": "dial (h)",
 }
 
 

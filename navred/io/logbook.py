@@ -27,6 +27,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from ..compass import DeviationCurve
 from ..corrections import HIGHEST_READING_DEG
 from ..errors import NavredError, api_boundary
 from ..timescales import (
@@ -41,6 +42,7 @@ from ..vocabulary import (
     BOOKKEEPING_HEADERS,
     COLUMN,
     COLUMNS,
+    DR_AGE_COLUMN,
     OUTPUT_SUFFIX,
     OWN_COLUMN_HINT,
     RESULT_COLUMNS,
@@ -63,6 +65,7 @@ from .logcells import (
 )
 from .logdr import (
     ENTRY_COLUMNS,
+    ENTRY_ONLY,
     carried_dr,
     carried_motion,
     check_entries,
@@ -86,13 +89,15 @@ from .timesignals import Ratings
 #: The parsed columns of every sight, in order (documented in docs/sight-log.md).
 SIGHT_COLUMNS = [
     "source", "row", "sight_utc", "utc_jd1", "utc_jd2", "time_given", "time_as_read", "watch_error_applied_s",
-    "watch_error_as_given", "watch_error_from", "timepiece",
+    "watch_error_as_given", "watch_error_from", "watch_error_warning", "timepiece",
     "zone_date_used", "zone_time_corrected", "zone_description_used_h", "greenwich_date", "body_name", "limb",
     "hs_deg", "index_error_arcmin", "eye_height_m", "eye_height_as_given", "horizon", "waterline_distance_nm",
     "measured_dip_arcmin", "temperature_c",
     "temperature_as_given", "pressure_hpa", "pressure_as_given", "assumed", "sigma_arcmin", "dr_lat_deg", "dr_lon_deg", "course_deg",
     "speed_kn", "dut1_given_s", "fix_group", "fix_group_given", "chart_lat_deg", "chart_lon_deg", "vessel",
-    "observer", "voyage", "series", "read_problem", "read_problem_column", "dr_carried_from", "motion_carried_from",
+    "observer", "voyage", "series", "role", "mark", "mark_lat_deg", "mark_lon_deg", "bearing_deg", "range_nm",
+    "bearing_sigma_deg", "range_sigma_nm", "read_problem", "read_problem_column", "dr_carried_from",
+    "motion_carried_from",
 ]
 
 #: navred's own output (``reduce --csv``) read back: its parsed columns that carry a sight, and their keys.
@@ -103,7 +108,7 @@ _OUTPUT_COLUMNS = {"sight_utc": "utc", "body_name": "body", "limb": "limb", "hs_
                    "dr_lon_deg": "dr_lon", "course_deg": "course", "speed_kn": "speed", "dut1_given_s": "dut1",
                    "fix_group": "fix_group", "chart_lat_deg": "chart_lat", "chart_lon_deg": "chart_lon",
                    "vessel": "vessel", "observer": "observer", "voyage": "voyage", "series": "series",
-                   "sigma_arcmin": "sigma"}
+                   "role": "role", "sigma_arcmin": "sigma"}
 _OUTPUT_UNITS = {"eye_height": "m", "temperature": "c", "pressure": "hpa"}
 
 
@@ -182,6 +187,9 @@ def _layout(table: RawTable, also_reads: frozenset[str] = frozenset()) -> _Layou
             elif header.strip().endswith(OUTPUT_SUFFIX) or (name not in SIGHT_COLUMNS and name not in RESULT_NAMES):
                 layout.extras.append(k)
             continue
+        if name in also_reads and match_header(header).key in ENTRY_ONLY:
+            layout.extras.append(k)  # the caller's own column (a compass working's variation), not a DR entry's
+            continue
         match = match_header(header)
         if match.problem:
             layout.problems.append(match.problem)
@@ -215,7 +223,7 @@ def _layout(table: RawTable, also_reads: frozenset[str] = frozenset()) -> _Layou
 @api_boundary
 def read_sight_log(source: LogSource, *, dates: str | None = None, all_sheets: bool = False,
                    rates: Ratings | None = None, also_reads: Iterable[str] = (),
-                   budget: ReadBudget | None = None) -> SightLog:
+                   budget: ReadBudget | None = None, deviation: DeviationCurve | None = None) -> SightLog:
     """Read and check sight logs: a file (CSV or .xlsx), a list of files, a folder, or a DataFrame.
 
     ``dates`` declares the order of numeric dates that are not ISO 8601 for the whole log
@@ -227,7 +235,9 @@ def read_sight_log(source: LogSource, *, dates: str | None = None, all_sheets: b
     ``also_reads``: headers the caller reads itself (a hand working's lines), kept as extra columns.
     A column navred does not read is named in :attr:`SightLog.notes`; one that looks like a correction or a
     misspelt column is refused, naming the column navred expects. ``budget`` bounds what the run reads
-    (:class:`navred.readers.ReadBudget`; by default the bounds of one run).
+    (:class:`navred.readers.ReadBudget`; by default the bounds of one run). ``deviation`` (a
+    :class:`navred.compass.DeviationCurve`, from the deviation card) gives the deviation of a compass course
+    entered without one.
     Returns a :class:`SightLog`; a source that is not a sight log at all raises
     :class:`LogbookError` with one message.
     """
@@ -243,7 +253,7 @@ def read_sight_log(source: LogSource, *, dates: str | None = None, all_sheets: b
             raise LogbookError(f"{table.source}: " + "; ".join(layout.problems) + hint)
         _check_is_log(table, layout.keys)
         layouts.append(layout)
-    return _parse(tables, layouts, dates, rates)
+    return _parse(tables, layouts, dates, rates, deviation)
 
 
 def read_sight_log_blocks(source: LogSource, *, dates: str | None = None, block_rows: int = 100_000,
@@ -309,6 +319,34 @@ def sight_log_blocks(source: LogSource, *, dates: str | None = None, block_rows:
     if not labels or plain.any_blank(labels) or "entry" in layout.keys or not dr_given or plain.any_blank(dr_given):
         return None
     return LogBlocks(plain, layout, dates, rates)
+
+
+#: The sight's own columns a mark row (a bearing or range of a charted object) leaves blank.
+MARK_FREE = frozenset({"body", "hs"})
+#: The columns that belong to a mark row only.
+MARK_COLUMNS = ("mark_lat", "mark_lon", "bearing", "range", "bearing_sigma", "range_sigma")
+
+
+def check_marks(is_mark: np.ndarray, gathered, problems) -> None:
+    """A mark row gives the mark's charted position and one of a bearing and a range, and no body or Hs; a
+    sight gives none of a mark's columns."""
+    for key in ("mark_lat", "mark_lon"):
+        missing = is_mark & gathered[key].blank
+        problems.add(np.flatnonzero(missing), key, "", f"a mark's {key.replace('_', ' ')} is needed: the charted "
+                     "position of the object observed")
+    bearing, ranged = ~gathered["bearing"].blank, ~gathered["range"].blank
+    problems.add(np.flatnonzero(is_mark & ~bearing & ~ranged), "bearing", "",
+                 "a mark row gives its bearing (degrees true) or its radar range (nm)")
+    problems.add(np.flatnonzero(is_mark & bearing & ranged), "range", "",
+                 "a mark row gives a bearing or a range, not both: write the range on a row of its own")
+    for key in MARK_FREE:
+        given = is_mark & ~gathered[key].blank
+        problems.add(np.flatnonzero(given), gathered[key].headers[given], "",
+                     f"a mark row is a bearing or range of a charted object, not a sight: leave {key} blank")
+    for key in MARK_COLUMNS:
+        stray = ~is_mark & ~gathered[key].blank
+        problems.add(np.flatnonzero(stray), gathered[key].headers[stray], "",
+                     f"{key.replace('_', ' ')} belongs to a mark row: name the charted object in the mark column")
 
 
 #: the columns whose reading depends on the row alone (no DR or motion carried, no zone time worked from
@@ -378,14 +416,12 @@ def _check_is_log(table: RawTable, keys: dict) -> None:
 
 
 #: the reduction's columns (a log of reduced rows read back)
-
-#: the reduction's columns (a log of reduced rows read back)
-RESULT_NAMES = frozenset(RESULT_COLUMNS)
+RESULT_NAMES = frozenset((*RESULT_COLUMNS, DR_AGE_COLUMN))
 
 _SEPARATOR_NAMES = {",": "comma", ";": "semicolon", "\t": "tab"}
 
 
-def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
+def _parse(tables: list[RawTable], layouts, dates, rates=None, deviation=None) -> SightLog:
     n = sum(t.n_rows for t in tables)
     problems = Problems(n)
     sources = np.concatenate([texts_of(t.n_rows, t.source) for t in tables]) if tables \
@@ -403,14 +439,17 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
     parsed = {c.key: parse_key(gathered[c.key], c.key, problems, dates) for c in COLUMNS}
     entry = words(parsed["entry"])
     is_entry = parsed["entry"].ok
+    is_mark = ~gathered["mark"].blank & ~is_entry
     for column in COLUMNS:
         cells = gathered[column.key]
+        sightless = is_entry | (is_mark if column.key in MARK_FREE else False)
         if column.required and not cells.present:
-            problems.add(np.flatnonzero(~is_entry), column.key, "", f"required column {column.key} is missing")
+            problems.add(np.flatnonzero(~sightless), column.key, "", f"required column {column.key} is missing")
         elif column.required:
-            empty = cells.blank & ~is_entry
+            empty = cells.blank & ~sightless
             problems.add(np.flatnonzero(empty), cells.headers[empty], "", f"{column.key.replace('_', ' ')} is empty")
-    check_entries(entry, is_entry, parsed, gathered, problems)
+    check_marks(is_mark, gathered, problems)
+    check_entries(entry, is_entry, parsed, gathered, problems, has_card=deviation is not None)
     horizon = words(parsed["horizon"], "sea")
     # the reading a horizon gives: to 90°, or to 180° for an artificial horizon or a back sight
     highest = np.array([HIGHEST_READING_DEG.get(h, 90.0) for h in horizon]) if n else np.zeros(0)
@@ -421,7 +460,7 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
                  [f"Hs {v:g}° is outside 0-{h:g}° for a {k} horizon" for v, h, k in
                   zip(hs[too_high], highest[too_high], horizon[too_high])])
     dipped = np.isin(horizon, ["sea", "back", "waterline"]) & ~(parsed["measured_dip"].ok & (horizon != "waterline"))
-    needs_eye = gathered["eye_height"].blank & dipped & ~is_entry
+    needs_eye = gathered["eye_height"].blank & dipped & ~is_entry & ~is_mark
     problems.add(np.flatnonzero(needs_eye), gathered["eye_height"].headers[needs_eye], "",
                  "height of eye is needed for the dip of a sea horizon")
     no_distance = (horizon == "waterline") & gathered["waterline_distance"].blank
@@ -435,7 +474,7 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
         problems.add(np.flatnonzero(alone), gathered[b].headers[alone], "",
                      f"{a.replace('_', ' ')} is given without {b.replace('_', ' ')}: give both, or neither")
     times = time_working(parsed, gathered, problems, rates)
-    entries = read_entries(n, sources, rows, entry, is_entry, parsed, times, problems)
+    entries = read_entries(n, sources, rows, entry, is_entry, parsed, times, problems, deviation)
     dr = carried_dr(parsed, gathered, times, is_entry, entries, problems, rows)
     motion_note = carried_motion(dr, parsed, gathered, times, is_entry, entries, rows, problems)
     while True:
@@ -452,7 +491,8 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None) -> SightLog:
         table = table[sight_row].reset_index(drop=True)
     notes = tuple(dict.fromkeys([note for layout in layouts for note in layout.notes]
                                 + _zone_notes(gathered["utc"], parsed["utc"].ok & sight_row, dates, sources, rows)
-                                + _assumed_notes(gathered, sources, rows, (message == "") & sight_row)))
+                                + _assumed_notes(gathered, sources, rows, (message == "") & sight_row)
+                                + list(times.get("notes", []))))
     return SightLog(table, rejected, tuple(t.source for t in tables), sum(t.empty_rows for t in tables), dates,
                     tuple(names), tuple(tables), entries=entries, notes=notes)
 
@@ -584,11 +624,13 @@ def _sight_table(n, sources, rows, parsed, gathered, times, message, where) -> p
         "utc_jd1": times["jd1"], "utc_jd2": times["jd2"], "time_given": times["time_given"],
         "time_as_read": times["as_read"], "watch_error_applied_s": times["watch_error_s"],
         "watch_error_as_given": watch_error_as_given(),
-        "watch_error_from": times["watch_error_from"], "timepiece": words(parsed["timepiece"]),
+        "watch_error_from": times["watch_error_from"], "watch_error_warning": times["watch_error_warning"],
+        "timepiece": words(parsed["timepiece"]),
         "zone_date_used": times["zone_date"], "zone_time_corrected": corrected,
         "zone_description_used_h": zd,
         "greenwich_date": greenwich,
-        "body_name": words(parsed["body"]), "limb": words(parsed["limb"]), "hs_deg": numbers("hs"),
+        "body_name": _body_or_mark(words(parsed["body"]), words(parsed["mark"]), parsed["range"].ok),
+        "limb": words(parsed["limb"]), "hs_deg": numbers("hs"),
         "index_error_arcmin": numbers("index_error"),
         "eye_height_m": numbers("eye_height"), "eye_height_as_given": as_given("eye_height"),
         "horizon": words(parsed["horizon"], "sea"), "waterline_distance_nm": numbers("waterline_distance"),
@@ -601,9 +643,22 @@ def _sight_table(n, sources, rows, parsed, gathered, times, message, where) -> p
         "fix_group": words(parsed["fix_group"]), "fix_group_given": parsed["fix_group"].ok,
         "chart_lat_deg": numbers("chart_lat"), "chart_lon_deg": numbers("chart_lon"),
         "vessel": words(parsed["vessel"]), "observer": observer_names(words(parsed["observer"])),
-        "voyage": words(parsed["voyage"]), "series": words(parsed["series"]),
+        "voyage": words(parsed["voyage"]), "series": words(parsed["series"]), "role": words(parsed["role"]),
+        "mark": words(parsed["mark"]), "mark_lat_deg": numbers("mark_lat"), "mark_lon_deg": numbers("mark_lon"),
+        "bearing_deg": numbers("bearing"), "range_nm": numbers("range"),
+        "bearing_sigma_deg": numbers("bearing_sigma"), "range_sigma_nm": numbers("range_sigma"),
         "read_problem": message, "read_problem_column": where,
     })
+
+
+def _body_or_mark(body: np.ndarray, mark: np.ndarray, ranged: np.ndarray) -> np.ndarray:
+    """Each row's body, or on a mark row the mark and what was taken of it ('Carn light (bearing)'), so that
+    every table and message names the line by what it is."""
+    out = body.copy()
+    marked = mark != ""
+    if marked.any():
+        out[marked] = [f"{m} ({'range' if r else 'bearing'})" for m, r in zip(mark[marked], ranged[marked])]
+    return out
 
 
 #: The log's quantities whose default a sight may take (vocabulary.COLUMNS), as a working names them and

@@ -8,6 +8,7 @@ the parsers of the core and of :mod:`navred.timework`. Used by :mod:`navred.io.l
 from __future__ import annotations
 
 import datetime as _dt
+import re
 from dataclasses import dataclass
 
 import numpy as np
@@ -31,6 +32,8 @@ from ..vocabulary import (
     HORIZONS,
     LIMBS,
     NO_HORIZON,
+    ROLES,
+    SIDES,
     UNIT_CONVERSIONS,
     UNIT_NAMES,
     convert_to_working_unit,
@@ -282,6 +285,84 @@ def _decimal_text(value, decimal_comma):
 _WATCH_SIGN_STATED = {"s_fast": "fast", "s_slow": "slow"}
 
 
+_EAST_WEST = re.compile(r"^\s*(?:([EW])\s*)?([+-]?\d+(?:\.\d*)?)\s*°?\s*([EW])?\s*$", re.IGNORECASE)
+
+
+def _east_west(value, decimal_comma) -> float:
+    """Degrees east (+) or west (−) as written: '3 E', '2.5 W', 'W 4', '+3', '-2.5'; a bare number other than
+    0 is refused with both readings (a deviation or variation written without its side)."""
+    if isinstance(value, (int, float)) and not isinstance(value, bool):
+        number = float(value)
+        if number and number == number:
+            raise NavredError(f"{number:g} is a number with neither E nor W: {abs(number):g} E or {abs(number):g} W? "
+                              f"write it with its side ('{abs(number):g} E'), or signed east + as text")
+        return number
+    text = with_decimal_point(cell_text(value), decimal_comma).replace("−", "-")
+    match = _EAST_WEST.match(text)
+    if not match:
+        raise NavredError(f"cannot read {value!r} as degrees east or west; accepted: '3 E', '2.5 W', or signed "
+                          "(east +)")
+    before, number_text, after = match.groups()
+    side = (before or after or "").upper()
+    number = float(number_text)
+    signed = number_text.startswith(("+", "-"))
+    if (before and after) or (side and signed):
+        raise NavredError(f"{value!r} gives its side twice: write '3 E' or '+3'")
+    if side:
+        return number if side == "E" else -number
+    if number and not signed:
+        raise NavredError(f"{value!r} has neither E nor W: {number:g} E or {number:g} W? write it with its side "
+                          f"('{number:g} E'), or signed east +")
+    return number
+
+
+_LEEWAY = re.compile(r"^\s*(\d+(?:\.\d*)?)\s*°?\s*(?:to\s+)?([a-z]*)\s*$", re.IGNORECASE)
+
+
+def _leeway(value, decimal_comma) -> tuple[float, float]:
+    """Leeway as written: (degrees, the side it sets the ship to: +1 starboard, −1 port, NaN not said): '5 port',
+    '4° to stbd', '3' (with the wind's side in wind_side). A signed number is refused: which side?"""
+    if isinstance(value, (int, float)) and not isinstance(value, bool):
+        if value < 0:
+            raise NavredError(f"leeway {value:g} is signed: to port or to starboard? write '{abs(value):g} port' or "
+                              f"'{abs(value):g} stbd', or give the wind's side (wind_side)")
+        return float(value), float("nan")
+    text = with_decimal_point(cell_text(value), decimal_comma).replace("−", "-").strip()
+    if text[:1] in "+-" and text[1:2].isdigit():
+        raise NavredError(f"leeway {value!r} is signed: to port or to starboard? write '{text[1:]} port' or "
+                          f"'{text[1:]} stbd', or give the wind's side (wind_side)")
+    match = _LEEWAY.match(text)
+    if not match:
+        raise NavredError(f"cannot read {value!r} as a leeway; accepted: '5 port', '4 stbd', '3° to starboard', or "
+                          "degrees with the wind's side in wind_side")
+    number, side = float(match.group(1)), normalise_header(match.group(2))
+    if side and side not in SIDES:
+        raise NavredError(f"leeway {value!r}: {match.group(2)!r} is not a side; accepted: port, starboard (stbd)")
+    return number, (float("nan") if not side else (1.0 if SIDES[side] == "starboard" else -1.0))
+
+
+_CLOCK_CHANGE = re.compile(r"^\s*(advance|advanced|retard|retarded|put\s+forward|put\s+back|forward|back)\s*(?:by\s*)?"
+                           r"(\d+(?:\.\d*)?)?\s*(?:h|hr|hrs|hour|hours)?\s*$", re.IGNORECASE)
+
+
+def _clocks(value) -> tuple[float, float]:
+    """A clocks entry's cell: (the zone the clocks keep from then, NaN) for a zone description ('+3', '-12 M'), or
+    (NaN, the change in hours, + advanced) for 'advance 1 h' / 'retard 1 h' (1 h when no number is written)."""
+    text = cell_text(value)
+    match = _CLOCK_CHANGE.match(text)
+    if match:
+        hours = float(match.group(2)) if match.group(2) else 1.0
+        if hours != round(hours) or not 0 < hours <= 24:
+            raise NavredError(f"clocks {value!r}: the ship's clocks are changed by whole hours, 1 to 24")
+        forward = match.group(1).lower().startswith(("advance", "put forward", "forward"))
+        return float("nan"), hours if forward else -hours
+    try:
+        return float(parse_zone_description(value)), float("nan")
+    except NavredError as exc:
+        raise NavredError(f"clocks {value!r}: give the zone the clocks keep from then ('+3', '-12 M') or the change "
+                          f"('advance 1 h', 'retard 1 h'): {exc}") from None
+
+
 #: One parser per kind of column: (value, decimal comma allowed, unit, declared date order) -> result.
 PARSERS = {
     "body": lambda v, dc, unit, dates: canonical_body_name(cell_text(_not_formula(v))),
@@ -301,18 +382,25 @@ PARSERS = {
     "zone": lambda v, dc, unit, dates: float(parse_zone_description(_not_formula(v))),
     "text": lambda v, dc, unit, dates: cell_text(_not_formula(v)).strip(),
     "name": lambda v, dc, unit, dates: " ".join(cell_text(_not_formula(v)).split()),
+    "role": lambda v, dc, unit, dates: _word(_not_formula(v), ROLES, "role"),
+    "side": lambda v, dc, unit, dates: _word(_not_formula(v), SIDES, "side"),
+    "east_west": lambda v, dc, unit, dates: _east_west(_not_formula(v), dc),
+    "leeway": lambda v, dc, unit, dates: _leeway(_not_formula(v), dc),
+    "clocks": lambda v, dc, unit, dates: _clocks(_not_formula(v)),
 }
 #: Kinds whose result is several numbers (a row of an array), and how many.
-TUPLE_KINDS = {"utc": 7, "date": 3, "time": 6}
+TUPLE_KINDS = {"utc": 7, "date": 3, "time": 6, "leeway": 2, "clocks": 2}
 #: Kinds whose result is one number.
-FLOAT_KINDS = {"altitude", "lat", "lon", "index_error", "number", "watch_error", "zone"}
+FLOAT_KINDS = {"altitude", "lat", "lon", "index_error", "number", "watch_error", "zone", "east_west"}
 
 
 def _parse_one(column, value, decimal_comma, unit, dates):
     """One value of a column parsed, converted to navred's unit and checked against the range; or raise."""
     result = PARSERS[column.kind](value, decimal_comma, unit, dates)
-    if column.kind in ("number", "altitude") and column.low is not None:
+    if column.kind in ("number", "altitude", "east_west") and column.low is not None:
         result = _ranged(float(result), column.key, unit if column.kind == "number" else None)
+    elif column.kind == "leeway":
+        result = (_ranged(float(result[0]), column.key, None), result[1])
     return result
 
 
@@ -464,6 +552,8 @@ def _numeric_checks(column, numbers: np.ndarray, units: np.ndarray) -> tuple[np.
             bad |= (used < column.low) | (used > column.high) | ((used != 0.0) & ~stated)
         elif kind == "zone":
             bad |= True  # a number cell of a zone description: each is judged one by one
+        elif kind == "east_west":
+            bad |= used != 0.0  # a number cell east or west: refused one by one, with both readings
     return used, bad
 
 

@@ -15,7 +15,11 @@ from .logcells import floats, texts_of, words
 
 #: The columns of a log's entries (:attr:`navred.io.logbook.SightLog.entries`).
 ENTRY_COLUMNS = ["source", "row", "utc", "entry", "lat_deg", "lon_deg", "course_deg", "speed_kn", "set_deg",
-                 "drift_kn", "vessel"]
+                 "drift_kn", "vessel", "zone_h", "compass_course_deg", "deviation_deg", "variation_deg",
+                 "leeway_deg", "log_reading_nm", "clocks_zone_h", "clocks_change_h", "course_working",
+                 "speed_working"]
+#: The columns only an entry row gives (the ship's progress): refused on a sight's row.
+ENTRY_ONLY = ("compass_course", "deviation", "variation", "leeway", "wind_side", "log_reading", "clocks")
 
 #: A sight taken more than this before its fix's time is advanced to it along the course and speed in force
 #: after it (a running fix): a blank course or speed there would be read as a ship stopped.
@@ -112,19 +116,64 @@ def motion_missing(table: pd.DataFrame, usable: np.ndarray, gathered, problems) 
                      "ship lay stopped)")
     return True
 
-def check_entries(entry, is_entry, parsed, gathered, problems) -> None:
-    """An entry row holds no sight, and what its kind needs: a position, a course or speed, or a current."""
+def check_entries(entry, is_entry, parsed, gathered, problems, *, has_card: bool = False) -> None:
+    """An entry row holds no sight, and what its kind needs: a position, a course or speed, a current, the clocks'
+    zone or change, a log reading; a compass course its variation and deviation (the row's, or the card's:
+    ``has_card``), a leeway its side."""
     sight_cells = is_entry & (~gathered["body"].blank | ~gathered["hs"].blank)
     problems.add(np.flatnonzero(sight_cells), "entry", entry[sight_cells],
                  "an entry row holds no sight: put the sight on a row of its own")
     for kind, needs, text in (("departure", ("dr_lat", "dr_lon"), "a departure needs its position (dr_lat, dr_lon)"),
                               ("position", ("dr_lat", "dr_lon"), "a position entry needs the position (dr_lat, "
                                                                  "dr_lon)"),
-                              ("current", ("set", "drift"), "a current entry needs its set and drift")):
+                              ("current", ("set", "drift"), "a current entry needs its set and drift"),
+                              ("destination", ("dr_lat", "dr_lon"), "a destination entry needs its position (dr_lat, "
+                                                                    "dr_lon)")):
         lacking = is_entry & (entry == kind) & np.logical_or.reduce([gathered[k].blank for k in needs])
         problems.add(np.flatnonzero(lacking), "entry", entry[lacking], text)
-    still = is_entry & (entry == "course") & gathered["course"].blank & gathered["speed"].blank
-    problems.add(np.flatnonzero(still), "entry", entry[still], "a course entry needs a course, a speed or both")
+    for kind, key, text in (("clocks", "clocks", "a clocks entry needs the zone the clocks keep from then, or the "
+                                                "change (clocks: '+3', '-12 M', 'advance 1 h', 'retard 1 h')"),
+                            ("log", "log_reading", "a log entry needs the log's reading (log_reading, nm)")):
+        lacking = is_entry & (entry == kind) & gathered[key].blank
+        problems.add(np.flatnonzero(lacking), "entry", entry[lacking], text)
+    still = (is_entry & (entry == "course") & gathered["course"].blank & gathered["speed"].blank
+             & gathered["compass_course"].blank & gathered["log_reading"].blank)
+    problems.add(np.flatnonzero(still), "entry", entry[still], "a course entry needs a course (true or compass), a "
+                 "speed or a log reading")
+    for key in ENTRY_ONLY:
+        stray = ~is_entry & ~gathered[key].blank
+        problems.add(np.flatnonzero(stray), gathered[key].headers[stray], "",
+                     f"{key.replace('_', ' ')} goes on an entry row (entry: course, log or clocks), not on a sight's")
+    compass, true = ~gathered["compass_course"].blank, ~gathered["course"].blank
+    both = is_entry & compass & true
+    problems.add(np.flatnonzero(both), gathered["compass_course"].headers[both], "",
+                 "a course entry gives the course true (course) or by compass (compass_course), not both")
+    no_variation = is_entry & compass & gathered["variation"].blank
+    problems.add(np.flatnonzero(no_variation), "variation", "",
+                 "a compass course needs the variation to be made true ('12 W', '4 E')")
+    if not has_card:
+        no_deviation = is_entry & compass & gathered["deviation"].blank
+        problems.add(np.flatnonzero(no_deviation), "deviation", "",
+                     "a compass course needs its deviation: give it ('3 E', '0'), or the deviation card (--card FILE)")
+    for key in ("deviation", "variation"):
+        alone = is_entry & ~gathered[key].blank & ~compass
+        problems.add(np.flatnonzero(alone), gathered[key].headers[alone], "",
+                     f"{key} is given without a compass course (compass_course): it makes nothing true")
+    leeway = parsed["leeway"]
+    unsided = is_entry & leeway.ok & ~np.isfinite(leeway.value[1]) & (leeway.value[0] != 0) & ~parsed["wind_side"].ok
+    problems.add(np.flatnonzero(unsided), gathered["leeway"].headers[unsided], "",
+                 "a leeway needs its side: to port or to starboard ('5 port'), or the wind's side in wind_side "
+                 "(the leeway is to the other side)")
+    sided = leeway.ok & np.isfinite(leeway.value[1]) & parsed["wind_side"].ok
+    if sided.any():
+        wind = words(parsed["wind_side"])
+        against = sided & (np.where(wind == "port", 1.0, -1.0) != leeway.value[1])
+        problems.add(np.flatnonzero(against), gathered["leeway"].headers[against], "",
+                     "the leeway sets the ship toward the side the wind blows on: it is to leeward, the other side "
+                     "from wind_side")
+    motionless = is_entry & ~gathered["leeway"].blank & gathered["course"].blank & gathered["compass_course"].blank
+    problems.add(np.flatnonzero(motionless), gathered["leeway"].headers[motionless], "",
+                 "a leeway goes with the course it is made on: give the course (true or compass) on the same row")
     for a, b in (("dr_lat", "dr_lon"), ("dr_lon", "dr_lat"), ("set", "drift"), ("drift", "set")):
         alone = parsed[a].ok & gathered[b].blank
         problems.add(np.flatnonzero(alone), gathered[b].headers[alone], "",
@@ -134,18 +183,47 @@ def check_entries(entry, is_entry, parsed, gathered, problems) -> None:
     problems.add(np.flatnonzero(stray), "set", "", "a current is given on an entry row (entry: current), not on a sight")
 
 
-def read_entries(n, sources, rows, entry, is_entry, parsed, times, problems) -> pd.DataFrame:
-    """The entries read well, as :data:`ENTRY_COLUMNS`."""
+def read_entries(n, sources, rows, entry, is_entry, parsed, times, problems, deviation=None) -> pd.DataFrame:
+    """The entries read well, as :data:`ENTRY_COLUMNS`: a compass course made true (through the row's deviation or
+    the card's, ``deviation`` a :class:`navred.compass.DeviationCurve`, and the variation) and a leeway applied,
+    the course through the water in ``course_deg`` and its working in ``course_working``; a speed from the log
+    readings (``speed_working``); the clocks' new zone or change."""
+    from .logentries import check_log_readings, entry_courses, log_speeds
+
+    vessels = words(parsed["vessel"])
+    check_log_readings(is_entry, floats(parsed["log_reading"]), times, vessels, rows, problems)
     good = is_entry & ~problems.mask() & times["ok"]
     if not good.any():
         return pd.DataFrame(columns=ENTRY_COLUMNS)
     stamps = utc_jd_to_datetime64(times["jd1"][good], times["jd2"][good])
-    return pd.DataFrame({
+    frame = pd.DataFrame({
         "source": sources[good], "row": rows[good].astype(int), "utc": pd.Series(stamps).dt.tz_localize("UTC"),
         "entry": entry[good], "lat_deg": floats(parsed["dr_lat"])[good], "lon_deg": floats(parsed["dr_lon"])[good],
         "course_deg": floats(parsed["course"])[good], "speed_kn": floats(parsed["speed"])[good],
         "set_deg": floats(parsed["set"])[good], "drift_kn": floats(parsed["drift"])[good],
-        "vessel": words(parsed["vessel"])[good]})
+        # the zone of an entry's time is the ship's clocks', unless a timepiece (a chronometer on Greenwich) kept it
+        "vessel": vessels[good], "zone_h": np.where(words(parsed["timepiece"]) != "", np.nan,
+                                                    np.asarray(times["zd"], dtype=float))[good] + 0.0,
+        "compass_course_deg": floats(parsed["compass_course"])[good],
+        "deviation_deg": floats(parsed["deviation"])[good], "variation_deg": floats(parsed["variation"])[good],
+        "leeway_deg": _signed_leeway(parsed)[good], "log_reading_nm": floats(parsed["log_reading"])[good],
+        "clocks_zone_h": np.asarray(parsed["clocks"].value[0], dtype=float)[good],
+        "clocks_change_h": np.asarray(parsed["clocks"].value[1], dtype=float)[good],
+        "course_working": "", "speed_working": ""})
+    frame = entry_courses(frame, deviation)
+    return log_speeds(frame)
+
+
+def _signed_leeway(parsed) -> np.ndarray:
+    """Each row's leeway, degrees, + to starboard (clockwise of the heading), − to port; from its own side, or the
+    other side from the wind's (wind_side); NaN where none is given."""
+    leeway = parsed["leeway"]
+    degrees = np.where(leeway.ok, leeway.value[0], np.nan)
+    side = leeway.value[1]
+    wind = words(parsed["wind_side"])
+    from_wind = np.where(wind == "port", 1.0, np.where(wind == "starboard", -1.0, np.nan))
+    side = np.where(np.isfinite(side), side, from_wind)
+    return np.where(np.isfinite(degrees) & (degrees == 0), 0.0, degrees * side)
 
 
 def carried_dr(parsed, gathered, times, is_entry, entries: pd.DataFrame, problems, rows_of: np.ndarray) -> dict:

@@ -63,16 +63,20 @@ def time_working(parsed, gathered, problems, rates=None) -> dict:
                          "correct it")
     error = floats(parsed["watch_error"], 0.0)
     error_from = chosen_texts(parsed["watch_error"].ok, ["", "given"])
+    error_warning = np.full(n, "", dtype=object)
+    rating_notes: list[str] = []
     # a timepiece's error from its rating, where the log keeps zone time and gives no watch error
     piece = words(parsed["timepiece"])
     unrated = use_zone & ~parsed["watch_error"].ok & ok
     if rates is not None and unrated.any():
         rows = np.flatnonzero(unrated)
         when = utc_jd_to_datetime64(jd1[rows], jd2[rows])
-        predicted, _, note = rates.predict(piece[rows], when)
+        predicted, _, note, warning = rates.predict_with_warnings(piece[rows], when)
         found = np.isfinite(predicted)
         error[rows[found]] = predicted[found]
         error_from[rows[found]] = note[found]
+        error_warning[rows[found]] = warning[found]
+        rating_notes = rates.change_notes(piece[rows[found]].tolist())
         named = rows[~found & (piece[rows] != "")]
         problems.add(named, gathered["timepiece"].headers[named], piece[named],
                      "this timepiece has no time signals in the rating log: give its watch_error, or its signals")
@@ -92,6 +96,7 @@ def time_working(parsed, gathered, problems, rates=None) -> dict:
     if shown_zone.any():
         zone_date[shown_zone] = [f"{int(y):04d}-{int(m):02d}-{int(d):02d}" for y, m, d in day[:, shown_zone].T]
     return {"jd1": jd1, "jd2": jd2, "ok": ok, "watch_error_s": error, "watch_error_from": error_from,
+            "watch_error_warning": error_warning, "notes": rating_notes,
             "zd": np.where(shown_zone, zd.value, np.nan), "zone_date": zone_date,
             "time_given": chosen_texts(np.where(has_utc, 2, np.where(use_zone, 1, 0)), ["", "zone time", "utc"]),
             "as_read": as_read}

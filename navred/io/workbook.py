@@ -138,6 +138,15 @@ def write_table_sheet(tables: TableWriter, sheet, frame: pd.DataFrame, *, wide: 
                  flag_column: str | None = None, first_row: int = 1):
     """A table as a sheet: styled headers, frozen, numbers shown to their unit's precision, text as text."""
     formats = [_number_format(name) for name in frame.columns]
+    # a column of numbers held as objects (a table built row by row, NaN where a row has none) is written as
+    # numbers, to its unit's precision, not as the General cells a spreadsheet shows to 15 digits
+    mixed = [name for name, form in zip(frame.columns, formats) if form and frame[name].dtype == object]
+    if mixed:
+        frame = frame.copy()
+        for name in mixed:
+            numbers = pd.to_numeric(frame[name], errors="coerce")
+            if (numbers.notna() | frame[name].isna()).all():
+                frame[name] = numbers.astype(float)
     if any(formats):
         frame = frame.copy()
         for name, form in zip(list(frame.columns), formats):

@@ -25,6 +25,7 @@ from ..io.exports import (
     iso_z,
     line_feature,
     point_feature,
+    polygon_feature,
     write_geojson,
     write_gpx,
 )
@@ -58,8 +59,11 @@ def fix_description(group) -> str:
 
 def _fix_waypoints(group) -> list[GpxPoint]:
     fix, when = group.fix, iso_z(group.fix.utc)
-    name = f"UNTRUSTED fix {group.name}" if fix.untrusted else f"fix {group.name}"
-    points = [GpxPoint(fix.lat_deg, fix.lon_deg, when, name, fix_description(group), "fix"),
+    if not fix.is_fix:  # a plotter shows only the name: the foot of a line (or a latitude) is an EP on it, no fix
+        name, kind = f"EP {group.name} on the {fix.kind}, not a fix", f"EP on the {fix.kind}"
+    else:
+        name, kind = (f"UNTRUSTED fix {group.name}" if fix.untrusted else f"fix {group.name}"), "fix"
+    points = [GpxPoint(fix.lat_deg, fix.lon_deg, when, name, fix_description(group), kind),
               GpxPoint(fix.dr_lat_deg, fix.dr_lon_deg, when, f"DR {group.name}", "DR at the fix time", "DR")]
     if fix.all_sights is not None:
         every = fix.all_sights
@@ -158,8 +162,8 @@ def _fix_features(voyage, group, current: dict) -> list[dict]:
             "note": "a gross error included: the fix leaves it out"}))
     features.append(point_feature(fix.dr_lat_deg, fix.dr_lon_deg, {**common, "kind": "DR"}))
     if fix.is_fix:
-        features.append({"type": "Feature", "geometry": {"type": "Polygon", "coordinates": [ellipse_polygon(fix)]},
-                         "properties": {**common, "kind": "95 % ellipse"}})
+        ring = ellipse_polygon(fix)
+        features.append(polygon_feature([p[1] for p in ring], [p[0] for p in ring], {**common, "kind": "95 % ellipse"}))
     else:
         length = max(20.0, 10 * fix.ellipse_semi_minor_nm)
         ends = [destination(fix.lat_deg, fix.lon_deg, fix.line_bearing_deg + side, length) for side in (0.0, 180.0)]

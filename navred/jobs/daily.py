@@ -25,11 +25,20 @@ class DaysReport:
 
 
 def days_log(source: LogSource, *, dates: str | None = None, rates: Ratings | None = None,
-             carry_current: bool = False) -> DaysReport:
+             carry_current: bool = False, navigators: tuple[str, ...] | list[str] = (), route: str | None = None,
+             card: str | None = None) -> DaysReport:
     """The day's work of a log: the DR kept from the departure through every course and speed and restarted at
-    each fix (``carry_current``: the set and drift found at each fix carried on), the set and drift at each fix,
-    the estimated positions, the noon positions and the day's run."""
-    voyage = process_log(source, dates=dates, plan=False, carry_current=carry_current, rates=rates)
+    each of the ship's fixes (``carry_current``: the set and drift found at each fix carried on), the set and
+    drift at each fix, the estimated positions, the noon positions and the noon report. ``navigators``: the
+    observers whose sights are the ship's (the others are exercises); ``route``: a route file (``navred route``'s
+    CSV) whose waypoints give the distance to go; ``card``: the deviation card that makes compass courses true."""
+    from ..io.cards import deviation_curve
+    from ..io.routefile import read_route
+
+    waypoints = read_route(route) if route else None
+    deviation = deviation_curve(card) if card else None
+    voyage = process_log(source, dates=dates, plan=False, carry_current=carry_current, rates=rates,
+                         navigators=navigators, route=waypoints, deviation=deviation)
     return DaysReport(voyage, voyage.days_work())
 
 

@@ -2,64 +2,41 @@
 checked against the fix it belongs to, the latitude checks its sights allow, and the fixes as a table.
 
 Every decision is here, not in the command line: which group a chart position belongs to, the fix done again
-with it, the sights that give a latitude by meridian altitude or by Polaris, and the columns of the fixes table.
+with it, the sights that give a latitude by meridian altitude, ex-meridian or Polaris, and the columns of the fixes
+table.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass
 
-import numpy as np
 import pandas as pd
 
 from ..errors import NavredError
 from ..io.logbook import LogSource
 from ..io.timesignals import Ratings
-from ..latitudes import latitude_by_meridian_altitude, latitude_by_polaris
-from ..status import SightStatus
 from ..timescales import Instant, utc_datetime64
-from .frames import FIX_COLUMNS, fix_table_row, row_labels
+from .frames import FIX_COLUMNS as GROUP_FIX_COLUMNS
+from .frames import fix_table_row, row_labels
+from .latitudechecks import MERIDIAN_LHA_DEG, latitude_checks
 from .voyage import GroupFix, VoyageResult, fix_groups, process_log
 
-#: A sight within this many degrees of LHA 0 (either side) is on the meridian: its Ho gives the latitude
-#: (a fixed arc is common practice: the altitude changes by under 0.1′ within about 1° of LHA at sea).
-MERIDIAN_LHA_DEG = 0.25
-
-def latitude_checks(reduced: pd.DataFrame) -> pd.DataFrame:
-    """Latitude by meridian altitude (a sight within :data:`MERIDIAN_LHA_DEG` of LHA 0, Polaris apart) and by
-    Polaris, as checks on the fix: one row per such sight with its ``row`` label, ``body``, ``method``
-    ('meridian' or 'Polaris'), ``lat_deg`` and the sight's ``dr_lat_deg``."""
-    columns = ["row", "body", "method", "lat_deg", "dr_lat_deg"]
-    if not len(reduced):
-        return pd.DataFrame(columns=columns)
-    usable = reduced.status.to_numpy() != SightStatus.ERROR
-    lha = reduced.lha_deg.to_numpy(dtype=float)
-    bodies = reduced.body_name.to_numpy(dtype=object)
-    on_meridian = usable & ((lha < MERIDIAN_LHA_DEG) | (lha > 360.0 - MERIDIAN_LHA_DEG)) & (bodies != "Polaris")
-    polaris = usable & (bodies == "Polaris")
-    ho, dec = reduced.ho_deg.to_numpy(dtype=float), reduced.dec_deg.to_numpy(dtype=float)
-    meridian = np.flatnonzero(on_meridian)
-    zn = reduced.zn_deg.to_numpy(dtype=float)[meridian]
-    by_meridian = latitude_by_meridian_altitude(ho[meridian], dec[meridian],
-                                                np.where((zn > 90.0) & (zn < 270.0), "S", "N"))
-    north = np.flatnonzero(polaris)
-    by_polaris = latitude_by_polaris(ho[north], reduced.gha_deg.to_numpy(dtype=float)[north], dec[north],
-                                     reduced.dr_lon_deg.to_numpy(dtype=float)[north])
-    rows = np.concatenate([meridian, north])
-    labels = row_labels(reduced)
-    return pd.DataFrame({"row": labels[rows], "body": bodies[rows],
-                         "method": ["meridian"] * meridian.size + ["Polaris"] * north.size,
-                         "lat_deg": np.concatenate([np.atleast_1d(by_meridian), np.atleast_1d(by_polaris)]),
-                         "dr_lat_deg": reduced.dr_lat_deg.to_numpy(dtype=float)[rows]}, columns=columns)
+#: The columns of the fixes table (:func:`fixes_table`), one row per fix group, decimal degrees: the vessel (when the
+#: log holds two or more), then
+#: a fix group's row (:data:`navred.jobs.frames.FIX_COLUMNS`).
+FIX_COLUMNS = ("vessel", *GROUP_FIX_COLUMNS)
 
 
 def fixes_table(voyage: VoyageResult, groups: tuple[GroupFix, ...] | None = None) -> pd.DataFrame:
     """One row per fix group (``groups``, default every one), decimal degrees, the columns :data:`FIX_COLUMNS`;
     a group with no fix says why in ``note``."""
     labels = row_labels(voyage.reduced)
-    rows = [fix_table_row(group.name, group.fix, labels[group.rows], group.problem)
+    rows = [{"vessel": voyage.vessel_of(group.name), **fix_table_row(group.name, group.fix, labels[group.rows],
+                                                                     group.problem)}
             for group in (voyage.groups if groups is None else groups)]
     frame = pd.DataFrame(rows)
+    if len(voyage.vessels) <= 1 and "vessel" in frame.columns:
+        frame = frame.drop(columns="vessel")  # one ship: the API's table of fixes, column for column
     return frame[[c for c in FIX_COLUMNS if c in frame.columns]] if len(frame) else frame
 
 

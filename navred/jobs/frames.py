@@ -20,6 +20,7 @@ from ..fix import FixResult, fix_from_sights, fixes_from_sights
 from ..series import SIGMAS, THRESHOLD_ARCMIN, check_series, series_ids
 from ..status import SightStatus
 from ..timescales import Instant
+from ..vocabulary import DR_AGE_COLUMN
 from .sights import name_zone_slips
 
 
@@ -291,9 +292,12 @@ def fix_positions(reduced: pd.DataFrame, at_utc: Instant | Mapping[str, Instant]
 
 def _per_sight(reduced: pd.DataFrame) -> dict:
     """What the fix takes per sight beside the lines when the table holds it, as the commands give it: the Hs as
-    read (the check for degrees and minutes written as a decimal) and each sight's own σ (its weight)."""
-    return {name: reduced[name].to_numpy(dtype=float) if name in reduced.columns else None
-            for name in ("hs_deg", "sigma_arcmin")}
+    read (the check for degrees and minutes written as a decimal), each sight's own σ (its weight) and its DR's
+    age (``dr_age_h``, from reduce_sights or process_log: the check of the fix against its DR)."""
+    out = {name: reduced[name].to_numpy(dtype=float) if name in reduced.columns else None
+           for name in ("hs_deg", "sigma_arcmin")}
+    out["dr_age_hours"] = reduced[DR_AGE_COLUMN].to_numpy(dtype=float) if DR_AGE_COLUMN in reduced.columns else None
+    return out
 
 
 def one_fix_group(reduced: pd.DataFrame, group: str | None = None) -> pd.DataFrame:

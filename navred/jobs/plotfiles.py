@@ -36,7 +36,9 @@ def plotting_figure(voyage, group):
     from ..figures.plotsheet import SheetSights, plotting_sheet
 
     columns = {name: values[group.rows] for name, values in _sight_columns(voyage).items()}
-    return plotting_sheet(group.fix, SheetSights(**columns), title=f"Plotting sheet: {group.name}", chart=group.chart)
+    vessel = voyage.vessel_of(group.name) if len(voyage.vessels) > 1 else ""
+    title = f"Plotting sheet: {vessel + ', ' if vessel else ''}{group.name}"
+    return plotting_sheet(group.fix, SheetSights(**columns), title=title, chart=group.chart)
 
 
 def plot_file_stems(names) -> list[str]:

@@ -28,15 +28,21 @@ from ..io.logbook import (
     whole_log_columns,
 )
 from ..io.logcells import chosen_texts, texts_of
+from ..landmarks import bearing_body, line_sigma_nm, range_body
 from ..status import SightStatus
 from ..timescales import UT1_BEFORE, UT1_BEYOND, instants_from_utc_jd
 from ..triangle import (
     HIGH_ALTITUDE_DEG,
     computed_altitude_azimuth,
+    distance_bearing,
     intercept_direction,
     intercept_nm,
 )
-from ..vocabulary import RESULT_COLUMNS  # the columns reduce_sights adds, in order
+from ..vocabulary import DR_AGE_COLUMN, RESULT_COLUMNS  # the columns reduce_sights adds, in order
+
+#: A mark farther than this from the DR is not one a bearing is taken of (nautical miles; common practice: a
+#: light's range in clear weather is some 20-30 nm).
+MARK_FAR_NM = 40.0
 
 # A star or planet on the sea horizon is taken in twilight (SUN_BRIGHT_SKY_DEG to SUN_DARK_HORIZON_DEG, in
 # navred.constants with their sources); the navigation manuals give the best star time as the Sun between
@@ -115,11 +121,29 @@ def reduce_sights(sights: SightLog | LogSource) -> pd.DataFrame:
         spans = frame_blocks(sights, FRAME_BLOCK_ROWS)
         if spans is not None:
             return _reduce_frame_in_blocks(sights, spans)
-    table = parsed_sights(sights).reset_index(drop=True)
+    log = sights if isinstance(sights, SightLog) else None
+    if log is None and not (isinstance(sights, pd.DataFrame) and _is_parsed(sights)):
+        log = read_sight_log(sights)
+    table = (log.table if log is not None else parsed_sights(sights)).reset_index(drop=True)
     added = pd.concat([_reduce_block(table.iloc[i:i + BLOCK_ROWS].reset_index(drop=True))
                        for i in range(0, max(len(table), 1), BLOCK_ROWS)], ignore_index=True)
-    carried = table.drop(columns=[c for c in RESULT_COLUMNS if c in table.columns])
-    return pd.concat([carried, added], axis=1)
+    carried = table.drop(columns=[c for c in (*RESULT_COLUMNS, DR_AGE_COLUMN) if c in table.columns])
+    out = pd.concat([carried, added], axis=1)
+    out[DR_AGE_COLUMN] = _dr_ages(log, out)
+    return out
+
+
+def _dr_ages(log: SightLog | None, reduced: pd.DataFrame) -> np.ndarray:
+    """Each sight's DR's age (hours) from the log's known positions, as :func:`navred.process_log` dates it
+    before any fix (:func:`navred.jobs.drcontext.dr_context`); NaN where the log does not say (a table already
+    parsed, whose entry rows are not at hand)."""
+    if log is None or not len(reduced):
+        return np.full(len(reduced), np.nan)
+    from .drcontext import (
+        dr_context,  # the DR's track is the day's work's, which reads the reduced table
+    )
+
+    return dr_context(log, reduced, [])["age_h"]
 
 
 #: rows of a long DataFrame log read and reduced at a time (:func:`navred.io.logbook.frame_blocks`)
@@ -180,6 +204,10 @@ def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
     notes.warn(~has_disc & np.isin(limb, ["lower", "upper"]) & notes.ok,
                "limb ignored: only the Sun and Moon show a disc")
     limb = np.where(has_disc & no_limb, "lower", np.where(has_disc, limb, "centre"))
+    if "watch_error_warning" in frame.columns:  # a rated timepiece's error extrapolated or across a change
+        timed = frame["watch_error_warning"].fillna("").astype(str).to_numpy(dtype=object)
+        warned = np.flatnonzero((timed != "") & notes.ok)
+        notes.warn(warned, timed[warned])
     horizon = frame["horizon"].to_numpy(dtype=object)
     notes.warn(has_disc & (horizon == "bubble") & np.isin(frame["limb"].to_numpy(dtype=object), ["lower", "upper"])
                & notes.ok, "limb ignored: a bubble horizon is on the body's centre")
@@ -189,7 +217,11 @@ def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
     result = {c: np.full(n, np.nan) for c in RESULT_COLUMNS}
     for c in ("ut1_source", "intercept_direction", "status", "message", "error_column"):
         result[c] = texts_of(n, "")
-    rows = np.flatnonzero(notes.ok)
+    mark = (frame["mark"].fillna("").astype(str).to_numpy(dtype=object) != "") if "mark" in frame.columns \
+        else np.zeros(n, dtype=bool)
+    if mark.any():
+        _reduce_marks(frame, notes, mark, lat, lon, result)
+    rows = np.flatnonzero(notes.ok & ~mark)
     if rows.size:
         inst = instants_from_utc_jd(frame["utc_jd1"].to_numpy(dtype=float)[rows],
                                     frame["utc_jd2"].to_numpy(dtype=float)[rows],
@@ -296,6 +328,41 @@ def name_zone_slips(results: list, reduced: pd.DataFrame, group: np.ndarray) -> 
         named.setdefault(int(group[row]), text)
     for k, text in named.items():
         results[k].warnings.append(text)
+
+
+def _reduce_marks(frame: pd.DataFrame, notes: _Notes, mark: np.ndarray, lat: np.ndarray, lon: np.ndarray,
+                  result: dict) -> None:
+    """The rows that are a bearing or a radar range of a charted object: each turned into a body of its own
+    (:mod:`navred.landmarks`), its Ho, Hc from the DR, Zn and intercept, and its σ across the line."""
+    rows = np.flatnonzero(mark & notes.ok)
+    if not rows.size:
+        return
+    mark_lat = frame["mark_lat_deg"].to_numpy(dtype=float)[rows]
+    mark_lon = frame["mark_lon_deg"].to_numpy(dtype=float)[rows]
+    bearing = frame["bearing_deg"].to_numpy(dtype=float)[rows]
+    ranged = frame["range_nm"].to_numpy(dtype=float)[rows]
+    is_range = np.isfinite(ranged)
+    near_lat, near_lon = lat[rows], lon[rows]
+    gha_b, dec_b, ho_b = bearing_body(mark_lat, mark_lon, np.nan_to_num(bearing), near_lat, near_lon)
+    gha_r, dec_r, ho_r = range_body(mark_lat, mark_lon, np.nan_to_num(ranged), near_lat, near_lon)
+    gha = np.where(is_range, gha_r, gha_b)
+    dec = np.where(is_range, dec_r, dec_b)
+    ho = np.where(is_range, ho_r, ho_b)
+    hc, zn = computed_altitude_azimuth(near_lat, near_lon, gha, dec)
+    distance, _ = distance_bearing(near_lat, near_lon, mark_lat, mark_lon)
+    sigma = np.where(is_range, frame["range_sigma_nm"].to_numpy(dtype=float)[rows],
+                     frame["bearing_sigma_deg"].to_numpy(dtype=float)[rows])
+    kind = np.where(is_range, "range", "bearing").astype(object)
+    line_sigma = line_sigma_nm(kind, sigma, ranged, np.where(is_range, ranged, distance))
+    for column, value in (("gha_deg", gha), ("dec_deg", dec), ("ho_deg", ho), ("hc_deg", hc), ("zn_deg", zn),
+                          ("lha_deg", wrap_360(gha + near_lon)), ("line_sigma_nm", line_sigma)):
+        result[column][rows] = value
+    far = distance > MARK_FAR_NM
+    notes.warn(rows[far & ~is_range], f"the DR is over {MARK_FAR_NM:.0f} nm from the mark: a visual bearing of "
+                                      "it is unlikely; check the mark's position and the DR")
+    notes.warn(rows[~np.isfinite(sigma)], np.where(is_range[~np.isfinite(sigma)],
+                                                   "range σ not given: 1 % of the range assumed",
+                                                   "bearing σ not given: 1° assumed"))
 
 
 def _twilight_check(notes: _Notes, rows: np.ndarray, bodies: np.ndarray, horizon: np.ndarray, inst, lat: np.ndarray,

@@ -135,8 +135,8 @@ def training_report(reduced: pd.DataFrame, track: ReferenceTrack, groups: object
                              "reference_inside_95": "yes (within the line's band)" if check.inside_ellipse
                              else "NO (off the line's band)",
                              "ellipse_semi_major_95_nm": np.nan,
-                             "note": f"not a fix: the lines cross at {fix.spread_deg:.0f}°; marked by the distance off "
-                                     f"the {fix.kind}"})
+                             "note": f"not a fix: {fix.not_fix_reason or 'the lines cross too finely'}; marked by "
+                                     f"the distance off the {fix.kind}"})
     return TrainingReport(sights, observers, by_body, pd.DataFrame(fix_rows), span, track.source,
                           track.problems.copy())
 

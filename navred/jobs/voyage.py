@@ -22,6 +22,7 @@ import pandas as pd
 
 from .. import __version__
 from ..angles import format_angle
+from ..compass import DeviationCurve
 from ..constants import DEG_PER_HOUR, NS_PER_HOUR
 from ..ephemeris import EPHEMERIS_NAME
 from ..errors import NavredError, api_boundary
@@ -32,6 +33,8 @@ from ..reckoning import PAST_POLE
 from ..sightplan import SightPlan
 from ..status import SightStatus
 from ..timescales import Instant, iers_table, leap_second_table
+from ..vocabulary import DR_AGE_COLUMN
+from .drcontext import dr_context
 from .frames import row_labels, series_columns, utc64
 from .sights import name_zone_slips, reduce_sights
 
@@ -72,8 +75,15 @@ class VoyageResult:
     #: per reduced row, what the fix takes from the DR kept along the log (:func:`dr_context`): the current in
     #: force at each sight and the age of its DR
     context: dict | None = None
+    #: the observers whose sights are the ship's (the rest are exercises: navred.jobs.shipsfixes)
+    navigators: tuple[str, ...] = ()
+    #: the waypoints ahead (lat_deg, lon_deg, name: navred route's), for the noon report's distance to go
+    route: pd.DataFrame | None = None
     #: what the writers work out once a run and reuse (the day's work, labels of every sight)
     cache: dict = field(default_factory=dict, repr=False, compare=False)
+    #: each vessel the log names, with the plan of its own next twilight after its own latest fix (next_plan is
+    #: the plan of the vessel with the latest fix of all); empty when the log names no vessel
+    vessel_plans: tuple[tuple[str, SightPlan], ...] = ()
 
     def days_work(self):
         """The day's work of the voyage (navred.jobs.dayswork): set and drift, estimated positions, noons, the DR
@@ -117,8 +127,25 @@ class VoyageResult:
 
     def summary(self) -> str:
         empty = f", {self.log.empty_rows} empty row{'s' if self.log.empty_rows > 1 else ''} skipped" if self.log.empty_rows else ""
-        return (f"{self.n_reduced} sights reduced, {self.n_fixes} fixes, "
+        lines = sum(g.fix is not None and not g.fix.is_fix for g in self.groups)
+        not_fixes = f", {lines} line{'s' if lines > 1 else ''} of position or latitude{'s' if lines > 1 else ''} " \
+            "(no fix)" if lines else ""
+        return (f"{self.n_reduced} sights reduced, {self.n_fixes - lines} fixes{not_fixes}, "
                 f"{self.n_rejected_rows} rejected{empty}")
+
+    @property
+    def vessels(self) -> tuple[str, ...]:
+        """The vessels the log names, in the order first met."""
+        if not len(self.reduced):
+            return ()
+        return tuple(v for v in dict.fromkeys(self.reduced["vessel"].astype(str).tolist()) if v)
+
+    def vessel_of(self, group: str) -> str:
+        """The vessel of a fix group (its first sight's), '' where the log names none."""
+        if "group vessels" not in self.cache:
+            vessels = self.reduced["vessel"].astype(str).to_numpy() if len(self.reduced) else np.zeros(0, dtype=str)
+            self.cache["group vessels"] = {g.name: str(vessels[g.rows[0]]) if len(g.rows) else "" for g in self.groups}
+        return self.cache["group vessels"].get(group, "")
 
     def group(self, name: str) -> GroupFix:
         for group in self.groups:
@@ -131,7 +158,8 @@ class VoyageResult:
 def process_log(source: LogSource | SightLog, *, dates: str | None = None, solve_motion: bool = False,
                 progress: Callable[[int, int], None] | None = None, plan: bool = True,
                 at_utc: Instant | None = None, carry_current: bool = False,
-                rates: Ratings | None = None) -> VoyageResult:
+                rates: Ratings | None = None, navigators: tuple[str, ...] | list[str] = (),
+                route: pd.DataFrame | None = None, deviation: DeviationCurve | None = None) -> VoyageResult:
     """Read sight logs and do the whole job; every input row ends up reduced or rejected.
 
     ``source`` is anything :func:`navred.read_sight_log` takes (a file, a list of files, a
@@ -142,8 +170,21 @@ def process_log(source: LogSource | SightLog, *, dates: str | None = None, solve
     before it (each fix restarts the DR; ``carry_current`` carries the set and drift found at
     each fix on in the DR). ``rates`` (a :class:`navred.io.timesignals.Ratings`) predicts the watch
     error of sights kept in zone time without one; it is kept for the workbook's Timepieces sheet.
+    ``navigators``: the observers whose sights are the ship's, every other's an exercise that never restarts
+    her DR (:mod:`navred.jobs.shipsfixes`; a log's own ``role`` column says it row by row). ``route``: the
+    waypoints ahead (``lat_deg``, ``lon_deg``, ``name``; :func:`navred.io.routefile.read_route`) for the noon
+    report. ``deviation`` (a :class:`navred.compass.DeviationCurve`, from the deviation card) makes a compass
+    course entered without its deviation true.
     """
-    log = source if isinstance(source, SightLog) else read_sight_log(source, dates=dates, rates=rates)
+    log = source if isinstance(source, SightLog) else read_sight_log(source, dates=dates, rates=rates,
+                                                                     deviation=deviation)
+    if navigators:
+        from .shipsfixes import check_navigators
+
+        observers = set(log.table["observer"].tolist()) if len(log.table) else set()
+        navigators = check_navigators(observers, navigators)
+    navigators = tuple(navigators)
+    log = split_mixed_groups(log, navigators)
     reduced = _reduce_with_progress(log, progress)
     if len(reduced):
         for column, values in series_columns(reduced).items():
@@ -151,7 +192,9 @@ def process_log(source: LogSource | SightLog, *, dates: str | None = None, solve
     context = dr_context(log, reduced, [])
     groups = fix_groups(reduced, solve_motion=solve_motion, at_utc=at_utc, context=context)
     log, reduced, groups, context = _restart_dr_at_fixes(log, reduced, groups, progress, carry_current, context,
-                                                         solve_motion=solve_motion, at_utc=at_utc)
+                                                         navigators, solve_motion=solve_motion, at_utc=at_utc)
+    if len(reduced):  # the DR's age each fix took, in the table, for the API to take the same (fix_positions)
+        reduced[DR_AGE_COLUMN] = context["age_h"]
     rejected = _rejected(log, reduced)
     usable = reduced.status.to_numpy() != SightStatus.ERROR if len(reduced) else np.zeros(0, dtype=bool)
     table = iers_table()
@@ -182,12 +225,50 @@ def process_log(source: LogSource | SightLog, *, dates: str | None = None, solve
     if rates is not None:
         provenance["timepieces"] = "; ".join(p.summary() for p in rates.timepieces.values())
     events, next_plan = _next_twilight_plan(groups, reduced) if plan else (None, None)
+    vessel_plans = _vessel_plans(groups, reduced, next_plan) if plan else ()
     return VoyageResult(", ".join(log.sources), log, reduced, rejected, tuple(groups), provenance, next_plan, events,
-                        carry_current, rates, context)
+                        carry_current, rates, context, navigators, route, vessel_plans=vessel_plans)
+
+
+def split_mixed_groups(log: SightLog, navigators: tuple[str, ...] = ()) -> SightLog:
+    """A fix group that holds the ship's sights (the navigators', or rows marked ship) and another observer's is
+    split by observer: the others' rows become a group of their own, '<group> (<observer>)', so that no exercise
+    sight ever enters the ship's position; a note names each group split. Nothing changes when no navigator is
+    named and no row carries a role."""
+    table = log.table
+    if not len(table) or "observer" not in table.columns:
+        return log
+    roles = table["role"].fillna("").astype(str).to_numpy(dtype=object) if "role" in table.columns \
+        else np.full(len(table), "", dtype=object)
+    if not navigators and not (roles != "").any():
+        return log
+    observers = table["observer"].fillna("").astype(str).to_numpy(dtype=object)
+    groups = table["fix_group"].fillna("").astype(str).to_numpy(dtype=object)
+    keeper = np.where(roles != "", roles == "ship", np.isin(observers, list(navigators)))
+    renamed = groups.copy()
+    notes = []
+    for name in dict.fromkeys(groups[groups != ""].tolist()):
+        rows = np.flatnonzero(groups == name)
+        if not keeper[rows].any() or keeper[rows].all():
+            continue
+        others = rows[~keeper[rows]]
+        for who in dict.fromkeys(observers[others].tolist()):
+            mine = others[observers[others] == who]
+            renamed[mine] = f"{name} ({who or 'no observer'})"
+        ship_names = ", ".join(sorted({o for o in observers[rows[keeper[rows]]].tolist() if o})) or "the ship"
+        other_names = ", ".join(sorted({o or "no observer" for o in observers[others].tolist()}))
+        notes.append(f"fix group {name} held the sights of {ship_names} and of {other_names}: split by observer, the "
+                     f"ship's fix from {ship_names}'s sights alone, the others' an exercise of their own "
+                     f"({', '.join(sorted({renamed[k] for k in others.tolist()}))})")
+    if not notes:
+        return log
+    from dataclasses import replace
+
+    return replace(log, table=table.assign(fix_group=renamed), notes=tuple(dict.fromkeys([*log.notes, *notes])))
 
 
 def _restart_dr_at_fixes(log: SightLog, reduced: pd.DataFrame, groups: list[GroupFix], progress, carry_current,
-                         context, **fixing):
+                         context, navigators=(), **fixing):
     """The sights whose DR the reader carried from the departure get it again from the last known position
     before them, every fix included, and are reduced and fixed again (the fixes themselves do not depend on
     the DR they start from; their DR, intercepts and plots do; with ``carry_current``, the current found at
@@ -198,7 +279,7 @@ def _restart_dr_at_fixes(log: SightLog, reduced: pd.DataFrame, groups: list[Grou
         return log, reduced, groups, context
     from .dayswork import known_label_at, vessel_tracks
 
-    draft = VoyageResult("", log, reduced, log.rejected, groups)
+    draft = VoyageResult("", log, reduced, log.rejected, groups, navigators=navigators)
     tracks = vessel_tracks(draft, carry_current=carry_current)
     table = log.table.copy()
     carried = np.flatnonzero((table["dr_carried_from"] != "").to_numpy() & (table["read_problem"] == "").to_numpy())
@@ -244,86 +325,8 @@ def _restart_dr_at_fixes(log: SightLog, reduced: pd.DataFrame, groups: list[Grou
     if len(reduced):
         for column, values in series_columns(reduced).items():
             reduced[column] = values
-    context = dr_context(log, reduced, groups, carry_current=carry_current, tracks=tracks)
+    context = dr_context(log, reduced, groups, carry_current=carry_current, tracks=tracks, navigators=navigators)
     return log, reduced, fix_groups(reduced, context=context, **fixing), context
-
-
-def dr_context(log: SightLog, reduced: pd.DataFrame, groups: list[GroupFix], *, carry_current: bool = False,
-               tracks: dict | None = None) -> dict:
-    """What a fix takes from the DR kept along the log, per reduced row: the current in force at the sight
-    (``set_deg``, ``drift_kn``: the log's current entries and, with ``carry_current``, the set and drift found
-    at the last fix; the ground track less the track through the water) and the age of the sight's DR
-    (``age_h``: hours since the known position it was carried from; for a DR given on the row, since the
-    log's last known position or earlier fix group before the sight's group, :func:`_written_dr_age`, NaN where
-    the log gives neither). A DR given on the row takes no current: the run between such rows is the course
-    and speed given, or their own DRs. ``tracks``: the vessels' tracks (:func:`navred.dayswork.vessel_tracks`) when worked out already."""
-    n = len(reduced)
-    out = {"set_deg": np.zeros(n), "drift_kn": np.zeros(n), "age_h": np.full(n, np.nan)}
-    if not n or "dr_carried_from" not in reduced.columns:
-        return out
-    out["age_h"] = _written_dr_age(log, reduced)
-    carried = (reduced["dr_carried_from"].to_numpy(dtype=object) != "") & (reduced["status"].to_numpy() != SightStatus.ERROR)
-    if not carried.any():
-        return out
-    from ..reckoning import course_speed
-    from .dayswork import vessel_tracks
-
-    if tracks is None:
-        tracks = vessel_tracks(VoyageResult("", log, reduced, log.rejected, groups), carry_current=carry_current)
-    when = utc64(reduced["sight_utc"]).astype(np.int64)
-    vessels = reduced["vessel"].to_numpy(dtype=object)
-    for vessel, track in tracks.items():
-        rows = np.flatnonzero(carried & (vessels == vessel))
-        if not rows.size:
-            continue
-        k = np.searchsorted(track.knot_ns, when[rows], side="right") - 1
-        kw = np.searchsorted(track.through_water.knot_ns, when[rows], side="right") - 1
-        valid = (k >= 0) & (kw >= 0)
-        k, kw = np.maximum(k, 0), np.maximum(kw, 0)
-        north = np.where(valid, track.north_kn[k] - track.through_water.north_kn[kw], 0.0)
-        east = np.where(valid, track.east_kn[k] - track.through_water.east_kn[kw], 0.0)
-        set_, drift = course_speed(north, east)
-        out["set_deg"][rows], out["drift_kn"][rows] = np.nan_to_num(set_), np.where(drift > 1e-9, drift, 0.0)
-        # the DR's age: a sight at the very instant of a known position is carried up to it
-        _, _, origin = track.positions(when[rows], before_restart=True)
-        at_start = origin < 0
-        if at_start.any():
-            origin[at_start] = track.positions(when[rows][at_start])[2]
-        known = origin >= 0
-        start = track.knot_ns[np.maximum(origin, 0)]
-        out["age_h"][rows] = np.where(known, (when[rows] - start) / NS_PER_HOUR, np.nan)
-    return out
-
-
-def _written_dr_age(log: SightLog, reduced: pd.DataFrame) -> np.ndarray:
-    """The age (hours) of a DR written on a sight's own row, where the log says something of it: a log that keeps
-    known positions (an entry row's departure or position) keeps its DR from them, so a DR written on a sight is
-    no older than the latest known position before the sight's fix group. NaN where the log gives none (the
-    sense check then takes it as a day old, and says so). An earlier fix in the log does not date it: nothing
-    says the DR written was renewed from it."""
-    n = len(reduced)
-    age = np.full(n, np.nan)
-    entries = log.entries
-    usable = (reduced["status"].to_numpy() != SightStatus.ERROR) & (reduced["dr_carried_from"].to_numpy(dtype=object) == "")
-    if not usable.any() or not len(entries):
-        return age
-    known = entries[entries["entry"].isin(["departure", "position"])]
-    if not len(known):
-        return age
-    e_when = known["utc"].dt.tz_convert(None).to_numpy().astype("datetime64[ns]").astype(np.int64)
-    e_vessel = known["vessel"].to_numpy(dtype=object)
-    when = utc64(reduced["sight_utc"]).astype(np.int64)
-    groups = reduced["fix_group"].astype(str).to_numpy(dtype=object)
-    vessels = reduced["vessel"].to_numpy(dtype=object) if "vessel" in reduced.columns else np.full(n, "", object)
-    for vessel in dict.fromkeys(vessels[usable].tolist()):
-        mine = usable & (vessels == vessel)
-        times = np.sort(e_when if not (e_vessel != "").any() else e_when[e_vessel == vessel])
-        for g in dict.fromkeys(groups[mine].tolist()):
-            rows = np.flatnonzero(mine & (groups == g))
-            before = times[times <= when[rows].min()]
-            if before.size:
-                age[rows] = (when[rows] - before[-1]) / NS_PER_HOUR
-    return age
 
 
 def _rejected(log: SightLog, reduced: pd.DataFrame) -> pd.DataFrame:
@@ -392,6 +395,11 @@ def chart_positions(reduced: pd.DataFrame, group: np.ndarray, count: int
     return lat, lon, notes
 
 
+#: A fix group whose sights span more than this (hours) is warned: a running fix is a matter of a few hours
+#: (a Sun-run-Sun of three or four; common practice), and a longer one is most often two rounds under one name.
+LONG_GROUP_HOURS = 8.0
+
+
 def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: object | None = None,
                only: str | None = None, chart: tuple[float, float] | None = None,
                context: dict | None = None) -> list[GroupFix]:
@@ -432,7 +440,7 @@ def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: obj
               reduced["ho_deg"].to_numpy(dtype=float), utc64(reduced["sight_utc"]),
               reduced["dr_lat_deg"].to_numpy(dtype=float), reduced["dr_lon_deg"].to_numpy(dtype=float))
     batch = fixes_from_sights(*arrays, group, chart_lat=chart_lat, chart_lon=chart_lon, hs_deg=column("hs_deg"),
-                              sigma_arcmin=column("sigma_arcmin"), **arguments)
+                              sigma_arcmin=column("sigma_arcmin"), line_sigma_nm=column("line_sigma_nm"), **arguments)
     name_zone_slips(batch.results, reduced, group)
     by_group = np.argsort(np.where(group >= 0, group, count), kind="stable")
     bounds = np.concatenate([[0], np.cumsum(np.bincount(group[group >= 0], minlength=count))]).tolist()
@@ -447,21 +455,60 @@ def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: obj
             problem = (f"{count_k} usable sight{'' if count_k == 1 else 's'}: a fix needs two or more"
                        + (" (one sight gives a line of position; on the meridian, a latitude: see the latitude "
                           "checks)" if count_k == 1 else ""))
-        groups.append(GroupFix(name, rows, batch.results[k], problem, position, notes[k] if position else ""))
+        result = batch.results[k]
+        if result is not None and rows.size > 1:
+            times = utc64(reduced["sight_utc"].iloc[rows])
+            span_h = float((times.max() - times.min()) / np.timedelta64(1, "h"))
+            if span_h > LONG_GROUP_HOURS:
+                result.warnings.append(
+                    f"the group's sights span {span_h:.1f} h: a running fix over more than {LONG_GROUP_HOURS:.0f} h "
+                    "rests on the DR's run between them; is it two rounds under one name (a date repeated across "
+                    "the date line names two days alike)? give each round its own fix group")
+        groups.append(GroupFix(name, rows, result, problem, position, notes[k] if position else ""))
     return groups
 
 
 def _next_twilight_plan(groups: list[GroupFix], reduced: pd.DataFrame):
     """Plan the next twilight that begins after the latest fix, carried on from the fix by the last
     sight's course and speed."""
+    fixes = [g for g in groups if g.fix is not None]
+    if not fixes:
+        return None, None
+    return _plan_after(max(fixes, key=lambda g: g.fix.utc), reduced)
+
+
+def _vessel_plans(groups: list[GroupFix], reduced: pd.DataFrame,
+                  next_plan: SightPlan | None) -> tuple[tuple[str, SightPlan], ...]:
+    """Each named vessel's own plan of its next twilight, after its own latest fix (vessels in the order the log
+    first names them; none when the log names no vessel). ``next_plan``: the plan after the latest fix of all
+    (:func:`_next_twilight_plan`), not worked twice."""
+    fixes = [g for g in groups if g.fix is not None]
+    if "vessel" not in reduced.columns or not fixes:
+        return ()
+    overall = max(fixes, key=lambda g: g.fix.utc)
+    vessel = reduced["vessel"].to_numpy(dtype=object)
+    latest: dict[str, GroupFix] = {}
+    for g in groups:
+        name = str(vessel[g.rows[-1]]) if len(g.rows) else ""
+        if g.fix is not None and name and (name not in latest or g.fix.utc > latest[name].fix.utc):
+            latest[name] = g
+    order = list(dict.fromkeys(str(v) for v in vessel if v))
+    plans = []
+    for name in order:
+        if name in latest:
+            plan = next_plan if latest[name] is overall else _plan_after(latest[name], reduced)[1]
+            if plan is not None:
+                plans.append((name, plan))
+    return tuple(plans)
+
+
+def _plan_after(latest: GroupFix, reduced: pd.DataFrame):
+    """The twilights from ``latest``'s fix on, and the plan of the next one that begins after it, carried on from
+    the fix by its last sight's course and speed."""
     from ..plan import voyage_events
     from ..reckoning import steady_track
     from ..sightplan import sight_plans
 
-    fixes = [g for g in groups if g.fix is not None]
-    if not fixes:
-        return None, None
-    latest = max(fixes, key=lambda g: g.fix.utc)
     last_row = reduced.iloc[latest.rows[-1]]
     course = float(np.nan_to_num(last_row.get("course_deg", 0.0)))
     speed = float(np.nan_to_num(last_row.get("speed_kn", 0.0)))

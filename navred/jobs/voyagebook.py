@@ -73,10 +73,16 @@ SHEETS = (
     ("Timepieces", "present when a rating log of time signals was given: each timepiece's error and daily "
                    "rate by least squares with the rate's 95 % interval, a flag when the rate has changed, every "
                    "comparison with its residual"),
-    ("Day's work", "present when the DR can be kept (a departure entry, or fixes and the sights' courses and "
-                   "speeds): the noon positions and the day's run, the set and drift at each fix against the DR "
-                   "carried through the water from the fix before (with its 95 % uncertainty), the estimated "
-                   "positions from single lines, and a picture of the voyage"),
+    ("Day's work", "present when the DR can be kept (a departure entry, or the ship's fixes): whose fixes keep "
+                   "the DR and how the ship's clocks were kept, the noon positions and the day's run, the set and "
+                   "drift at each of the ship's fixes against the DR carried through the water from the fix before "
+                   "(with its 95 % uncertainty, or why it is not determined), the estimated positions from single "
+                   "lines, the latitudes by meridian altitude, ex-meridian and Polaris, the exercises against the "
+                   "ship's position, the DR's entries with their working (compass course made true, leeway, log "
+                   "readings, clocks), and a picture of the voyage"),
+    ("Noon report", "present with the day's work: one row a noon, as the master sends it: the noon position and "
+                    "how it was found, course and distance made good, average speed, distance through the water, "
+                    "the day's current, the distance to go and ETA, the clock changes"),
 )
 
 
@@ -107,7 +113,7 @@ def write_workbook(voyage, path: str | Path, *, plots: bool | Pictures = True, t
     write_table_sheet(tables, fixes_sheet, fixes, wide={"note": 80, "σ from": 30})
     write_table_sheet(tables, book.create_sheet("Rejected"), rejected_table(voyage), wide={"reason": 90})
     if voyage.next_plan is not None:
-        _write_plan_sheet(tables, book.create_sheet("Sight plan"), voyage.next_plan, pictures.embed)
+        _write_plan_sheet(tables, book.create_sheet("Sight plan"), voyage, pictures)
     if training is not None:
         _write_training_sheet(tables, book.create_sheet("Training"), training, pictures)
     series = series_table(voyage)
@@ -116,6 +122,7 @@ def write_workbook(voyage, path: str | Path, *, plots: bool | Pictures = True, t
     days = voyage.days_work()
     if not days.empty:
         _write_days_sheet(tables, book.create_sheet("Day's work"), days, pictures)
+        _write_noon_report_sheet(tables, book.create_sheet("Noon report"), days)
     if voyage.ratings is not None:
         _write_timepieces_sheet(tables, book.create_sheet("Timepieces"), voyage)
     _plotting_sheets_below(fixes_sheet, voyage, len(fixes) + 4, pictures)
@@ -218,13 +225,27 @@ def _write_days_sheet(tables: TableWriter, sheet, days, pictures: Pictures) -> N
 
     from ..figures.plotting import voyage_track_picture
 
-    blocks = [("Noon positions (12:00 ship's time) and the day's run, noon to noon along the rhumb line",
-               days.noons),
-              ("Set and drift at each fix: the fix against the DR carried through the water from the known position "
-               "before (the 95 % uncertainty includes the DR's own error, 0.3 kn and 2 % of the run)", days.set_drift),
-              ("Estimated positions from a single line", days.estimated)]
+    noon_columns = ["vessel", "date", "zone", "noon_utc", "noon_position", "noon_from", "run_nm",
+                    "course_made_good_deg", "speed_made_good_kn", "through_water_nm", "hours", "fixes_that_day",
+                    "lat_deg", "lon_deg"]
+    blocks = [("Noon positions (12:00 by the ship's clocks) and the day's run, noon to noon along the rhumb line",
+               days.noons[noon_columns] if len(days.noons) else days.noons),
+              ("Set and drift at each of the ship's fixes: the fix against the DR carried through the water from the "
+               "known position before (the 95 % uncertainty includes the DR's own error, 0.3 kn and 2 % of the run); "
+               "found only over 2 h or more, to ±1.5 kn or better, and never beyond 8 kn", days.set_drift),
+              ("Estimated positions from a single line of the ship's", days.estimated),
+              ("Latitudes by meridian altitude, ex-meridian (within its limit) and Polaris", days.latitudes),
+              ("Exercises against the ship's position (they never restart her DR)", days.exercises),
+              ("The DR's entries and their working (a compass course made true, a leeway, a speed from the log, the "
+               "clocks)", days.entries)]
     line = 1
-    for (title, frame), reasons in zip(blocks, DAYS_BLANK):
+    sheet.cell(row=line, column=1, value="What the day's work rests on").font = Font(bold=True)
+    for note in days.notes:
+        line += 1
+        write_text_safe(sheet.cell(row=line, column=1), note)
+    line += 3
+    for k, (title, frame) in enumerate(blocks):
+        reasons = DAYS_BLANK[k] if k < len(DAYS_BLANK) else {}
         sheet.cell(row=line, column=1, value=title).font = Font(bold=True)
         line += 1
         if len(frame):
@@ -239,6 +260,26 @@ def _write_days_sheet(tables: TableWriter, sheet, days, pictures: Pictures) -> N
         line += 2
     pictures_below(sheet, line, pictures, "voyage pictures", list(days.tracks),
                     lambda vessel: voyage_track_picture(days, vessel), (900, 600), 32)
+
+
+def _write_noon_report_sheet(tables: TableWriter, sheet, days) -> None:
+    """The noon report, one row a noon: as the master sends it."""
+    from openpyxl.styles import Font
+
+    sheet.cell(row=1, column=1, value="Noon report: one row a noon (12:00 by the ship's clocks), as the master sends "
+                                      "it").font = Font(bold=True)
+    if not len(days.noons):
+        notes = [n for n in days.notes if "Noon positions: none" in n] or ["Noon positions: none"]
+        for k, note in enumerate(notes):
+            write_text_safe(sheet.cell(row=3 + k, column=1), note)
+        return
+    columns = ["vessel", "date", "zone", "noon_utc", "noon_position", "noon_from", "course_made_good_deg", "run_nm",
+               "hours", "speed_made_good_kn", "through_water_nm", "current_set_deg", "current_drift_kn",
+               "current_95_kn", "current_note", "to", "to_go_nm", "eta_ship_time", "eta_basis", "eta_utc", "clock_changes",
+               "lat_deg", "lon_deg"]
+    write_table_sheet(tables, sheet, labelled(days.noons[columns]), first_row=3,
+                      wide={"noon from": 50, "current from": 40, "clock changes since the last noon": 50,
+                            "steering for": 30})
 
 
 def _write_training_sheet(tables: TableWriter, sheet, report, pictures: Pictures) -> None:
@@ -285,22 +326,36 @@ def _write_series_sheet(tables: TableWriter, sheet, voyage, table: pd.DataFrame,
         add_figure(sheet, series_figure(voyage.reduced, name), f"{'A' if k % 2 == 0 else 'G'}{row + (k // 2) * 14}", 400, 256)
 
 
-def _write_plan_sheet(tables: TableWriter, sheet, plan, plots: bool) -> None:
+def _write_plan_sheet(tables: TableWriter, sheet, voyage, pictures: Pictures) -> None:
+    """The next twilight's plan: of the one vessel (named when the log names it), or of each vessel the log
+    names, one after another (a vessel column), each from its own latest fix."""
     from openpyxl.styles import Font
 
-    table = plan_table(plan)
+    plans = list(voyage.vessel_plans) or [("", voyage.next_plan)]
+    several = len(plans) > 1
+    table = pd.concat([plan_table(plan).assign(vessel=name)[["vessel", *plan_table(plan).columns]]
+                       if several else plan_table(plan) for name, plan in plans], ignore_index=True)
     # when and where first: a plan is read for its time and place before its bodies
-    sheet.cell(row=1, column=1, value="When and where").font = Font(bold=True)
-    sheet.cell(row=1, column=2, value=f"{str(plan.utc)[:19].replace('T', ' ')} UTC, DR "
-               f"{format_angle(plan.lat_deg, 'lat')} {format_angle(plan.lon_deg, 'lon')} (midway between civil "
-               "and nautical twilight)")
-    sheet.cell(row=2, column=1, value="How the set was chosen").font = Font(bold=True)
-    write_text_safe(sheet.cell(row=2, column=2), plan.explanation)
-    write_table_sheet(tables, sheet, table, first_row=4)
-    sheet.freeze_panes = "A5"
-    line = len(table) + 6
-    if plots:
+    line = 1
+    for name, plan in plans:
+        whose = f"{name}: " if name else ""
+        sheet.cell(row=line, column=1, value="When and where").font = Font(bold=True)
+        write_text_safe(sheet.cell(row=line, column=2), (
+            f"{whose}{str(plan.utc)[:19].replace('T', ' ')} UTC, DR {format_angle(plan.lat_deg, 'lat')} "
+            f"{format_angle(plan.lon_deg, 'lon')} (midway between civil and nautical twilight), carried on from "
+            f"the position {'its' if name else 'the'} latest sights gave by {'its' if name else 'the'} last course "
+            "and speed"))
+        sheet.cell(row=line + 1, column=1, value="How the set was chosen").font = Font(bold=True)
+        write_text_safe(sheet.cell(row=line + 1, column=2), f"{whose}{plan.explanation}")
+        line += 2
+    write_table_sheet(tables, sheet, table, first_row=line + 1)
+    sheet.freeze_panes = f"A{line + 2}"
+    line += len(table) + 2
+    if pictures.embed:
         from ..figures.plotting import sky_picture
 
-        add_figure(sheet, sky_picture(plan, title="Sight plan: the next twilight"), f"A{line + 4}", 520, 555)
+        by_name = dict(plans)
+        pictures_below(sheet, line + 2, pictures, "sight plans", list(by_name),
+                       lambda name: sky_picture(by_name[name], title=f"Sight plan{': ' + name if name else ''}: "
+                                                                     "the next twilight"), (520, 555), 30)
 

@@ -112,6 +112,8 @@ def working_table(voyage) -> pd.DataFrame:
         "flags": [n or "none" for n in notes],
     })
     table = _with_columns_used(table, r, voyage.log.extra_columns, (weight_used[ok], sigma_taken[ok]))
+    if len(voyage.vessels) > 1:  # a log of several ships: each sight names its own
+        table.insert(table.columns.get_loc("fix group"), "vessel", r["vessel"].astype(str).to_numpy())
     return _with_latitudes(table, r)
 
 
@@ -151,7 +153,7 @@ def _with_latitudes(table: pd.DataFrame, r: pd.DataFrame) -> pd.DataFrame:
     texts = np.full(len(r), "not on the meridian", dtype=object)
     where = {label: k for k, label in enumerate(labels.tolist())}
     for row in checks.itertuples():
-        method = "meridian altitude" if row.method == "meridian" else "Polaris"
+        method = {"meridian": "meridian altitude"}.get(str(row.method), str(row.method))
         texts[where[row.row]] = f"{format_angle(float(row.lat_deg), 'lat')} ({method})"
     table.insert(table.columns.get_loc("Hc (° ′)"), "latitude (° ′)", texts)
     return table
@@ -220,7 +222,9 @@ def hand_working_table(voyage) -> pd.DataFrame:
     from ..handworking import hand_working
 
     reduced = voyage.reduced
-    r = reduced[reduced.status.to_numpy() != SightStatus.ERROR].reset_index(drop=True)
+    celestial = (reduced["mark"].fillna("").astype(str) == "").to_numpy() if "mark" in reduced.columns \
+        else np.ones(len(reduced), dtype=bool)  # a mark's bearing or range is no sight worked from an almanac
+    r = reduced[(reduced.status.to_numpy() != SightStatus.ERROR) & celestial].reset_index(drop=True)
     if not len(r):
         return pd.DataFrame()
     w = hand_working(r.sight_utc.dt.tz_convert(None).to_numpy(dtype="datetime64[ns]"), r.body_name.to_numpy(),
@@ -395,13 +399,15 @@ def fixes_table(voyage) -> pd.DataFrame:
     table = pd.DataFrame(rows)
     if table.empty:
         return table
+    if len(voyage.vessels) > 1:  # a log of several ships: each fix names its own
+        table.insert(0, "vessel", [voyage.vessel_of(g.name) for g in voyage.groups])
     no_fix = table["kind"].astype(str).str.startswith("no fix").to_numpy()
     reasons = {column: reason for column, reason in FIXES_BLANK.items()}
     shown = with_reasons(table, reasons, FIXES_OPTIONAL)
     # a group with no fix: the kind says why; its other cells say so too
     if no_fix.any():
         for column in shown.columns:
-            if column not in ("fix group", "UTC", "kind", "sights used"):
+            if column not in ("vessel", "fix group", "UTC", "kind", "sights used"):
                 shown[column] = shown[column].astype(object).where(~no_fix, "no fix")
     return shown
 

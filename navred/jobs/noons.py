@@ -1,0 +1,452 @@
+"""Noon: the noon position by the ship's clocks and the noon report the master sends. Edge code over
+:mod:`navred.reckoning` (the DR track, the lines crossed) and :mod:`navred.jobs.shipstime` (the clocks).
+
+The noon position, in order of preference (each carried to noon along the DR track, through every change of
+course, speed and current between, forward or back: :meth:`navred.reckoning.DRTrack.carried`):
+
+1. one of the ship's fixes within :data:`NOON_WINDOW_HOURS` of noon;
+2. a running fix at noon: the forenoon Sun line (taken within :data:`FORENOON_HOURS` before noon) run up to the
+   latitude at noon (by meridian altitude or ex-meridian within the hour of noon, or by Polaris within the
+   twelve hours before), crossing it at :data:`RUN_UP_CUT_DEG` or more (common practice: the noon position of the
+   navigation manuals);
+3. an estimated position within the hour;
+4. the DR, named with the known position it was carried from.
+
+A vessel whose rounds are combined (:mod:`navred.jobs.shipsfixes`) takes every line of the round chosen (the
+least-squares crossing), and the mean of a round's estimated positions.
+
+The report beside it: the day's run made good (distance, course, average speed) from the last noon, the distance
+through the water, the day's current (the run made good less the run through the water, over the hours), the
+distance to go and the ETA to the destination (a ``destination`` entry) or along the route's waypoints (``navred
+route``'s, given with ``--route``), at the day's average speed, and the clock changes since the last noon.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from ..constants import NS_PER_HOUR, NS_PER_MINUTE, NS_PER_SECOND
+from ..fixstats import DR_ERROR_FRACTION, DR_ERROR_KN
+from ..reckoning import (
+    NORMAL_975,
+    PAST_POLE,
+    DRTrack,
+    days_run,
+    estimated_position,
+    lines_crossed,
+    ship_noons,
+    velocity_kn,
+)
+from ..sailings import rhumb_inverse
+from ..status import FixKind, SightStatus
+from .frames import utc64
+from .latitudechecks import latitude_checks
+from .shipsfixes import ROUND_MINUTES, ShipsSights, combined_rounds
+from .shipstime import clock_changes_text, vessel_clocks, zone_text
+from .shiptrack import (
+    MAX_CURRENT_KN,
+    NOON_WINDOW_HOURS,
+    is_fix_label,
+    position_text,
+    stamp,
+    vessel_entries,
+    water_run_nm,
+    water_vector_nm,
+)
+
+#: The forenoon Sun line is taken at most this long before noon.
+FORENOON_HOURS = 6.0
+#: ... and at least this long before it (nearer noon the Sun bears near the meridian: a latitude, not a line to
+#: run up).
+FORENOON_LATEST_HOURS = 0.25
+#: A Polaris latitude up to this long before noon is run up to it.
+POLARIS_HOURS = 12.0
+#: Lines run up to noon must cross at this angle or more (common practice: the Sun's bearing changed by 30°).
+RUN_UP_CUT_DEG = 30.0
+
+
+def vessel_lines(voyage, vessel: str, ships: ShipsSights) -> list[dict]:
+    """The ship's lines of position of one vessel (not her fixes): each a line through ``foot`` square to ``zn``
+    at ``utc_ns``; a latitude (by meridian altitude, ex-meridian or Polaris) has ``latitude`` True, its line the
+    parallel of the latitude the method gives."""
+    reduced = voyage.reduced
+    if not len(reduced):
+        return []
+    status = reduced["status"].to_numpy()
+    checks = latitude_checks(reduced)
+    by_row = {int(r["index"]): r for r in checks.to_dict("records")}
+    bodies = reduced["body_name"].to_numpy(dtype=object)
+    when = utc64(reduced["sight_utc"]).astype(np.int64)
+    lines = []
+    for group in voyage.groups:
+        if not ships.is_ship(group.name) or ships.vessel.get(group.name, "") != vessel:
+            continue
+        usable = group.rows[status[group.rows] != SightStatus.ERROR]
+        if not usable.size:
+            continue
+        body = str(bodies[usable[0]]) if len({str(b) for b in bodies[usable]}) == 1 else "mixed"
+        base = {"group": group.name, "body": body, "observer": ships.observer.get(group.name, "")}
+        fix = group.fix
+        if fix is not None and not fix.is_fix:
+            toward = fix.line_toward_deg if fix.line_toward_deg is not None else (fix.line_bearing_deg or 0.0) + 90.0
+            latitude = fix.kind == FixKind.LATITUDE
+            method = ("Polaris" if body == "Polaris" else "meridian altitude" if body != "mixed" else "latitude")
+            lines.append({**base, "utc_ns": int(np.datetime64(fix.utc, "ns").astype(np.int64)),
+                          "foot_lat": fix.lat_deg, "foot_lon": fix.lon_deg, "zn": float(toward), "latitude": latitude,
+                          "method": method if latitude else f"{body} line"})
+        elif fix is None and usable.size == 1:
+            k = int(usable[0])
+            r = reduced.iloc[k]
+            # the sight's own line of position (the intercept worked from the DR): exact, where the reductions to
+            # the meridian approximate it; a sight that gives a latitude by its method is a latitude line
+            lat, lon = estimated_position(r["dr_lat_deg"], r["dr_lon_deg"], r["intercept_nm"], r["zn_deg"])
+            check = by_row.get(k)
+            method = f"{body} line"
+            if check is not None:
+                method = {"meridian": "meridian altitude", "ex-meridian": "ex-meridian", "Polaris": "Polaris"}[
+                    check["method"]]
+                if check["method"] == "ex-meridian":
+                    method += (f" ({check['minutes_from_meridian']:.0f} min from the meridian, within its "
+                               f"{check['limit_minutes']:.0f} min)")
+            lines.append({**base, "utc_ns": int(when[k]), "foot_lat": float(lat), "foot_lon": float(lon),
+                          "zn": float(r["zn_deg"]), "latitude": check is not None, "method": method})
+    return lines
+
+
+def _round_of(chosen: dict, candidates: list[dict], ships: ShipsSights, vessel: str) -> list[dict]:
+    """The line chosen, and in a vessel whose rounds are combined the other observers' lines of its round."""
+    if vessel not in ships.combined:
+        return [chosen]
+    ordered = sorted(candidates, key=lambda c: c["utc_ns"])
+    times = np.array([c["utc_ns"] for c in ordered], dtype=np.int64)
+    for members in combined_rounds(times, [c["group"] for c in ordered], ships.observer):
+        if any(ordered[m] is chosen for m in members):
+            return [ordered[m] for m in members]
+    return [chosen]
+
+
+#: The error a line of position is taken to have at its time (nm, 1 σ) in the noon position's uncertainty: a mile
+#: (common practice: a sextant line good to a mile or so at sea).
+LINE_SIGMA_NM = 1.0
+
+
+def _dr_sigma_nm(track: DRTrack, start: int, end: int) -> float:
+    """The DR's own error (1 σ, nm, each way) over a run between two instants: the model navred's fixes use."""
+    hours = abs(end - start) / NS_PER_HOUR
+    miles = float(water_run_nm(track.through_water, min(start, end), max(start, end)))
+    return DR_ERROR_KN * hours + DR_ERROR_FRACTION * miles
+
+
+def _hhmm(ns: int) -> str:
+    return stamp(int(ns) + 30 * NS_PER_SECOND)[11:16]
+
+
+def _changes_between(track: DRTrack, a: int, b: int) -> int:
+    """The changes of the velocity over the ground strictly between two instants (a second apart from either)."""
+    low, high = min(a, b) + NS_PER_SECOND, max(a, b) - NS_PER_SECOND
+    north, east = track.north_kn, track.east_kn
+    changed = np.concatenate([[False], (np.abs(np.diff(north)) + np.abs(np.diff(east))) > 1e-9])
+    return int(((track.knot_ns > low) & (track.knot_ns < high) & changed).sum())
+
+
+def _carried_text(what: str, t: int, noon: int, track: DRTrack) -> str:
+    if abs(noon - t) < 30 * NS_PER_SECOND:
+        return f"{what} at {_hhmm(t)} UTC"
+    changes = _changes_between(track, t, noon)
+    through = f" through {changes} change{'s' if changes != 1 else ''} of course, speed or current" if changes else ""
+    return f"{what} at {_hhmm(t)} UTC carried {'back ' if t > noon else ''}to noon{through}"
+
+
+def _from_fix(track: DRTrack, noon: int):
+    fixes = [(int(t), la, lo, lab) for t, la, lo, lab in zip(track.known_ns, track.known_lat, track.known_lon,
+                                                            track.known_label) if is_fix_label(lab)]
+    near = [c for c in fixes if abs(c[0] - noon) <= NOON_WINDOW_HOURS * NS_PER_HOUR]
+    if not near:
+        return None
+    t, lat, lon, label = min(near, key=lambda c: abs(c[0] - noon))
+    cov = track.known_cov_nm2[int(np.searchsorted(track.known_ns, t))] if track.known_cov_nm2 is not None else 0.0
+    sigma = float(np.sqrt(np.trace(np.atleast_2d(cov)) / 2.0 + _dr_sigma_nm(track, t, noon) ** 2))
+    lat, lon = track.carried(lat, lon, t, noon)
+    return float(lat), float(lon), _carried_text(label, t, noon, track), True, sigma
+
+
+def _run_up(track: DRTrack, noon: int, lines: list[dict], ships: ShipsSights, vessel: str):
+    """The forenoon Sun line run up to the latitude at noon (a running fix), or None."""
+    window = NOON_WINDOW_HOURS * NS_PER_HOUR
+    latitudes = [x for x in lines if x["latitude"] and (
+        abs(x["utc_ns"] - noon) <= window if not x["method"].startswith("Polaris")
+        else -POLARIS_HOURS * NS_PER_HOUR <= x["utc_ns"] - noon <= window)]
+    if not latitudes:
+        return None
+    latitude = min(latitudes, key=lambda x: (x["method"].startswith("Polaris"), abs(x["utc_ns"] - noon)))
+    suns = [x for x in lines if not x["latitude"] and x["body"] == "Sun"
+            and -FORENOON_HOURS * NS_PER_HOUR <= x["utc_ns"] - noon <= -FORENOON_LATEST_HOURS * NS_PER_HOUR
+            and abs((x["zn"] - latitude["zn"] + 90.0) % 180.0 - 90.0) >= RUN_UP_CUT_DEG]
+    if not suns:
+        return None
+    sun = max(suns, key=lambda x: x["utc_ns"])
+    chosen = _round_of(latitude, latitudes, ships, vessel) + _round_of(sun, suns, ships, vessel)
+    dr_lat, dr_lon, origin = track.positions(np.array([noon]))
+    if origin[0] < 0 or not np.isfinite(dr_lat[0]):
+        return None
+    feet_lat, feet_lon = track.carried(np.array([c["foot_lat"] for c in chosen]),
+                                       np.array([c["foot_lon"] for c in chosen]),
+                                       np.array([c["utc_ns"] for c in chosen]), noon)
+    lat, lon, cut = lines_crossed(float(dr_lat[0]), float(dr_lon[0]), feet_lat, feet_lon,
+                                  [c["zn"] for c in chosen])
+    earliest = min(c["utc_ns"] for c in chosen)
+    sigma = float(np.hypot(LINE_SIGMA_NM / np.sqrt(len(chosen) / 2.0), _dr_sigma_nm(track, earliest, noon)))
+    several = f" ({len(chosen)} lines of the watch's rounds)" if len(chosen) > 2 else ""
+    text = (f"forenoon Sun line at {_hhmm(sun['utc_ns'])} UTC run up to the latitude by {latitude['method']} at "
+            f"{_hhmm(latitude['utc_ns'])} UTC: a running fix at noon, the lines crossing at {cut:.0f}°{several}")
+    return lat, lon, text, True, sigma
+
+
+def _from_estimated(track: DRTrack, noon: int, estimated: list[dict], ships: ShipsSights, vessel: str):
+    eps = [{"utc_ns": int(pd.Timestamp(e["utc"]).value), "lat": e["lat_deg"], "lon": e["lon_deg"],
+            "group": e["fix_group"]} for e in estimated if e["vessel"] == vessel]
+    near = [e for e in eps if abs(e["utc_ns"] - noon) <= NOON_WINDOW_HOURS * NS_PER_HOUR]
+    if not near:
+        return None
+    chosen = min(near, key=lambda e: abs(e["utc_ns"] - noon))
+    members = _round_of(chosen, near, ships, vessel)
+    lat, lon = track.carried(np.array([m["lat"] for m in members]), np.array([m["lon"] for m in members]),
+                             np.array([m["utc_ns"] for m in members]), noon)
+    if len(members) == 1:
+        text = _carried_text(f"estimated position {chosen['group']}", chosen["utc_ns"], noon, track)
+    else:
+        text = _carried_text(f"the mean of {len(members)} estimated positions of the round", chosen["utc_ns"], noon,
+                             track)
+    east = np.mean(((np.atleast_1d(lon) - float(np.atleast_1d(lon)[0]) + 180.0) % 360.0) - 180.0)
+    sigma = _from_dr(track, noon)[4]
+    return float(np.mean(lat)), float((np.atleast_1d(lon)[0] + east + 180.0) % 360.0 - 180.0), text, False, sigma
+
+
+def _from_dr(track: DRTrack, noon: int):
+    lat, lon, origin = track.positions(np.array([noon]))
+    if origin[0] < 0:
+        return np.nan, np.nan, "", False, np.nan
+    index = track.known_index(int(origin[0]))
+    label = track.known_label[index]
+    if not np.isfinite(lat[0]):
+        return np.nan, np.nan, f"none: {PAST_POLE.split(':')[0]} from the {label}", False, np.nan
+    cov = track.known_cov_nm2[index] if track.known_cov_nm2 is not None else np.zeros((2, 2))
+    sigma = float(np.sqrt(np.trace(cov) / 2.0 + _dr_sigma_nm(track, int(track.known_ns[index]), noon) ** 2))
+    return float(lat[0]), float(lon[0]), f"DR from the {label}", False, sigma
+
+
+def noon_position(track: DRTrack, noon: int, estimated: list[dict], lines: list[dict], ships: ShipsSights,
+                  vessel: str) -> tuple[float, float, str, bool, float]:
+    """(lat, lon, how it was found, observed, its error: 1 σ each way, nm) of the noon position (the module's order
+    of preference). The error: a fix's own, or a mile a line (:data:`LINE_SIGMA_NM`), with the DR's error over the
+    run to noon (0.3 kn an hour and 2 % of the miles, the model of navred's fixes)."""
+    for found in (_from_fix(track, noon), _run_up(track, noon, lines, ships, vessel),
+                  _from_estimated(track, noon, estimated, ships, vessel)):
+        if found is not None:
+            return found
+    return _from_dr(track, noon)
+
+
+def _waypoints(voyage, vessel: str) -> list[tuple[float, float, str]]:
+    """The waypoints ahead of the vessel: the route given with the run, else her destination entries."""
+    route = getattr(voyage, "route", None)
+    if route is not None and len(route):
+        names = route["name"].astype(str).tolist() if "name" in route.columns else [""] * len(route)
+        return [(float(a), float(b), n or f"waypoint {k + 1}") for k, (a, b, n) in
+                enumerate(zip(route["lat_deg"], route["lon_deg"], names))]
+    entries = vessel_entries(voyage, vessel)
+    if not len(entries):
+        return []
+    ends = entries[entries["entry"] == "destination"]
+    return [(float(r.lat_deg), float(r.lon_deg), f"the destination (row {r.row})") for r in ends.itertuples()]
+
+
+#: A noon position farther than this from the route's leg (nautical miles) is said to be off the route.
+OFF_ROUTE_NM = 10.0
+
+
+def distance_to_go(lat: float, lon: float, waypoints: list[tuple[float, float, str]],
+                   course_deg: float | None = None) -> tuple[float, str]:
+    """Miles to go (rhumb lines) from a position along the waypoints to the last one, and the waypoint steered for:
+    the next waypoint is the end of the leg the position lies nearest (a position beyond a leg's end is past it)."""
+    if not waypoints:
+        return np.nan, ""
+    w_lat = np.array([w[0] for w in waypoints])
+    w_lon = np.array([w[1] for w in waypoints])
+    legs, _ = rhumb_inverse(w_lat[:-1], w_lon[:-1], w_lat[1:], w_lon[1:]) if len(waypoints) > 1 else (np.zeros(0), 0)
+    after = np.concatenate([np.cumsum(np.asarray(legs)[::-1])[::-1], [0.0]]) if len(waypoints) > 1 else np.zeros(1)
+    to_each, _ = rhumb_inverse(lat, lon, w_lat, w_lon)
+    to_each = np.atleast_1d(to_each)
+    nxt = 0
+    if len(waypoints) > 1:
+        # the leg whose ends' distances add up nearest its length: the one the ship is on
+        excess = to_each[:-1] + to_each[1:] - np.asarray(legs)
+        nxt = int(np.argmin(excess)) + 1
+        if to_each[nxt] < 0.01 and nxt < len(waypoints) - 1:
+            nxt += 1  # at a waypoint: the next one is steered for (the same distance to go)
+    off = ""
+    if len(waypoints) > 1:
+        a = max(nxt - 1, 0)
+        _, leg_course = rhumb_inverse(w_lat[a], w_lon[a], w_lat[a + 1], w_lon[a + 1])
+        _, from_start = rhumb_inverse(w_lat[a], w_lon[a], lat, lon)
+        across = float(to_each[a] * np.sin(np.radians(float(from_start) - float(leg_course))))
+        heading = float(course_deg) if course_deg is not None and np.isfinite(course_deg) else float(leg_course)
+        _, toward = rhumb_inverse(lat, lon, w_lat[nxt], w_lon[nxt])
+        while nxt < len(waypoints) - 1 and abs((float(toward) - heading + 180.0) % 360.0 - 180.0) > 90.0:
+            nxt += 1  # the waypoint lies abaft the ship's beam: it is past; steer for the next
+            _, toward = rhumb_inverse(lat, lon, w_lat[nxt], w_lon[nxt])
+        if abs(across) > OFF_ROUTE_NM:
+            off = (f" (the noon position is {abs(across):.0f} nm {'right' if across > 0 else 'left'} of the route's "
+                   "leg: the distance is to the next waypoint ahead and along the route from it)")
+    name = waypoints[-1][2] if nxt == len(waypoints) - 1 else f"{waypoints[nxt][2]}, then on to {waypoints[-1][2]}"
+    return float(to_each[nxt] + after[nxt]), name + off
+
+
+def noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict], lines: list[dict], ships: ShipsSights):
+    """One vessel's noon report rows, the notes on it (the clocks, why there is no noon), and her clocks."""
+    reduced = voyage.reduced
+    mine = (reduced["vessel"].to_numpy(dtype=object) == vessel) & (reduced["status"].to_numpy() != SightStatus.ERROR) \
+        if len(reduced) else np.zeros(0, dtype=bool)
+    sight_ns = utc64(reduced["sight_utc"]).astype(np.int64)[mine] if mine.any() else np.zeros(0, np.int64)
+    entries = vessel_entries(voyage, vessel)
+    entry_ns = utc64(entries["utc"]).astype(np.int64) if len(entries) else np.zeros(0, np.int64)
+    first = int(track.known_ns[0])
+    last = int(max(sight_ns.max() if sight_ns.size else first, track.known_ns[-1],
+                   entry_ns[entries["entry"].to_numpy() != "destination"].max() if len(entries) and
+                   (entries["entry"] != "destination").any() else first))
+    # a noon within the hour after the log's last row is the day's work of that morning (its fix run up to noon)
+    log_end, last = last, last + int(NOON_WINDOW_HOURS * NS_PER_HOUR)
+    clocks, how = vessel_clocks(entries, track, first, last)
+    label = vessel or "the vessel"
+    rejected = getattr(voyage, "rejected", None)
+    if how.startswith("no clocks entry") and rejected is not None and len(rejected):
+        refused = rejected[rejected["column"].astype(str).str.contains("clocks")]
+        if len(refused):
+            rows = ", ".join(f"row {r}" for r in refused["row"].drop_duplicates().tolist())
+            how = (f"no clocks entry read ({rows} refused: see its reason), so " + how[len("no clocks entry: "):]
+                   if how.startswith("no clocks entry: ") else how)
+    notes = [f"{label}: ship's time: {how}"]
+    noon, day, zone = ship_noons(clocks, first, last)
+    if not noon.size:
+        start, end = clocks.ship_time_ns([first, log_end])
+        if log_end - first < NS_PER_MINUTE:
+            span = (f"the DR starts at {stamp(first)} UTC ({stamp(start)[11:16]} by the ship's clocks) and the log ends "
+                    "there")
+        else:
+            span = (f"the DR runs from {stamp(first)} to {stamp(log_end)} UTC ({stamp(start)} to {stamp(end)} by the "
+                    "ship's clocks)")
+        notes.append(f"{label}: Noon positions: none: {span}, and no noon by her clocks falls within it")
+        return [], notes, (clocks, how)
+    found = [noon_position(track, int(t), estimated, lines, ships, vessel) for t in noon.tolist()]
+    lat = np.array([f[0] for f in found], dtype=float)
+    lon = np.array([f[1] for f in found], dtype=float)
+    run = days_run(noon, lat, lon)
+    through = water_run_nm(track.through_water, noon[:-1], noon[1:]) if noon.size > 1 else np.zeros(0)
+    water_n, water_e = water_vector_nm(track.through_water, noon[:-1], noon[1:]) if noon.size > 1 else (
+        np.zeros(0), np.zeros(0))
+    fix_times = np.array([t for t, lab in zip(track.known_ns, track.known_label) if is_fix_label(lab)], dtype=np.int64)
+    waypoints = _waypoints(voyage, vessel)
+    unallowed = _current_not_allowed(voyage, vessel, track, entries)
+    rows = []
+    for k in range(noon.size):
+        previous = int(noon[k - 1]) if k else first
+        count = int(((fix_times > previous + 30 * NS_PER_SECOND) & (fix_times <= noon[k] + 30 * NS_PER_SECOND)).sum()
+                    ) if fix_times.size else 0
+        row = {"vessel": vessel, "date": str(np.datetime64(int(day[k]), "ns").astype("datetime64[D]")),
+               "zone_h": float(zone[k]) + 0.0, "zone": zone_text(zone[k]), "noon_utc": stamp(noon[k]),
+               "noon_position": position_text(lat[k], lon[k]) if np.isfinite(lat[k]) else "",
+               "noon_from": found[k][2] + _current_words(found[k][2], unallowed, int(noon[k])), "run_nm": np.nan, "course_made_good_deg": np.nan,
+               "speed_made_good_kn": np.nan, "through_water_nm": np.nan, "hours": np.nan,
+               "current_set_deg": np.nan, "current_drift_kn": np.nan, "current_95_kn": np.nan, "current_note": "", "to": "", "to_go_nm": np.nan,
+               "eta_utc": "", "eta_ship_time": "", "eta_basis": "", "clock_changes": clock_changes_text(clocks, previous, int(noon[k])),
+               "fixes_that_day": count, "lat_deg": float(lat[k]), "lon_deg": float(lon[k])}
+        if k:
+            row.update(_days_run_columns(run, through, water_n, water_e, k, found))
+        row.update(_to_go_columns(row, waypoints, track, int(noon[k]), clocks))
+        rows.append(row)
+    return rows, notes, (clocks, how)
+
+
+def _current_not_allowed(voyage, vessel: str, track: DRTrack, entries) -> list[tuple[int, str]]:
+    """Where the DR carries no current (none entered, none carried) but the ship's fixes found one: (the fix's
+    time, what it found) of each fix whose set and drift are determined, in time order; else none."""
+    from .shiptrack import set_drift_rows
+
+    if getattr(voyage, "carry_current", False) or (len(entries) and (entries["entry"] == "current").any()):
+        return []
+    found = []
+    for row in set_drift_rows(vessel, track):
+        if np.isfinite(row.get("drift_kn", np.nan)) and np.isfinite(row.get("set_deg", np.nan)):
+            when = int(pd.Timestamp(row["fix_utc"]).value)
+            found.append((when, f"the fix {row['fix_group']} found a current of {row['set_deg']:03.0f}° "
+                                f"{row['drift_kn']:.1f} kn"))
+    return sorted(found)
+
+
+def _current_words(noon_from: str, unallowed: list[tuple[int, str]], noon: int) -> str:
+    """What a noon carried along a DR with no current must say when a fix before it found one."""
+    if not unallowed or noon_from.startswith("fix ") or "running fix" in noon_from and "at noon" not in noon_from:
+        return ""
+    before = [text for when, text in unallowed if when <= noon]
+    if not before:
+        return ""
+    return (f"; its DR allows no current, but {before[-1]} (enter it as a current, or --carry-current carries "
+            "each fix's)")
+
+
+def _days_run_columns(run, through, water_n, water_e, k: int, found) -> dict:
+    """The day's run to noon ``k`` and the day's current: the run made good less the run through the water."""
+    hours = float(run.hours[k - 1])
+    out = {"run_nm": float(run.distance_nm[k - 1]), "course_made_good_deg": float(run.course_deg[k - 1]),
+           "speed_made_good_kn": float(run.speed_kn[k - 1]), "through_water_nm": float(through[k - 1]),
+           "hours": hours}
+    ground_n, ground_e = velocity_kn(run.course_deg[k - 1], run.distance_nm[k - 1])
+    north, east = (float(ground_n) - float(water_n[k - 1])) / hours, (float(ground_e) - float(water_e[k - 1])) / hours
+    drift = float(np.hypot(north, east))
+    spread = NORMAL_975 * float(np.hypot(found[k - 1][4], found[k][4])) / hours
+    observed = found[k - 1][3] and found[k][3]
+    if not np.isfinite(drift):
+        return out
+    if found[k - 1][2].startswith("DR from") and found[k - 1][2] == found[k][2]:
+        out["current_note"] = (f"none observed: both noons are the {found[k][2]} (its current is what the log "
+                               "enters or carries)")
+        return out
+    if drift > MAX_CURRENT_KN:
+        out["current_note"] = (f"not determined: the noon positions are {drift * hours:.1f} nm from the run through the "
+                               f"water, more than any current ({MAX_CURRENT_KN:g} kn): check them")
+        return out
+    basis = ("the noon positions less the run through the water" if observed else
+             "the noon positions are not both fixes: the current is only as good as the DR they rest on")
+    out["current_95_kn"] = spread
+    if not drift > spread:
+        out["current_note"] = f"under {drift + spread:.1f} kn, its set not determined ({basis})"
+        return out
+    out.update({"current_set_deg": float(np.degrees(np.arctan2(east, north)) % 360.0), "current_drift_kn": drift,
+                "current_note": basis})
+    return out
+
+
+def _to_go_columns(row: dict, waypoints, track: DRTrack, noon: int, clocks) -> dict:
+    """Distance to go and the ETA at the day's average speed made good (else the speed in force at noon)."""
+    if not waypoints or not np.isfinite(row["lat_deg"]):
+        return {}
+    north, east = track.velocity_at(np.array([noon]))
+    course = float(np.degrees(np.arctan2(east[0], north[0])) % 360.0) if np.hypot(north[0], east[0]) > 0.1 else None
+    to_go, name = distance_to_go(row["lat_deg"], row["lon_deg"], waypoints, course)
+    speed = row["speed_made_good_kn"]
+    basis = "the day's average speed"
+    if not (np.isfinite(speed) and speed > 0.1):
+        north, east = track.velocity_at(np.array([noon]))
+        speed, basis = float(np.hypot(north[0], east[0])), "the speed in force at noon"
+    out = {"to": name, "to_go_nm": to_go}
+    if speed > 0.1 and np.isfinite(to_go):
+        eta = noon + int(round(to_go / speed * NS_PER_HOUR / NS_PER_MINUTE)) * NS_PER_MINUTE
+        ship = eta - int(round(clocks.zone_at(np.array([noon]))[0] * NS_PER_HOUR))
+        out.update({"eta_utc": stamp(eta)[:16], "eta_ship_time": stamp(ship)[:16],
+                    "eta_basis": f"{row['zone']}, at {basis} {speed:.1f} kn"})
+    return out
+
+
+__all__ = ["noon_rows", "noon_position", "vessel_lines", "distance_to_go", "FORENOON_HOURS", "RUN_UP_CUT_DEG",
+           "POLARIS_HOURS", "ROUND_MINUTES"]

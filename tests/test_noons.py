@@ -1,0 +1,279 @@
+"""Noon: the noon position carried through every change, the forenoon Sun run up to the noon latitude, the noon
+report's distance to go and ETA.
+
+The references: passages sailed in scripts/make_passage.py's own code (fourth-order Runge-Kutta along the WGS 84
+ellipsoid's radii of curvature, one-minute steps, with the courses, speeds and currents of each test), sights from
+skyfield at the true positions (tests/conftest.py), geographiclib for distances on the ellipsoid; the route's own
+figures (navred route's CSV, its rhumb legs) for the distance to go.
+"""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+from geographiclib.geodesic import Geodesic
+from typer.testing import CliRunner
+
+from navred.cli import app
+from navred.jobs.voyage import process_log
+from tests.conftest import skyfield_sight
+
+sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "scripts"))
+import make_passage as passage  # noqa: E402  (sails the ship outside navred)
+
+GEOD = Geodesic.WGS84
+NM = 1852.0
+
+
+def _off_nm(lat1, lon1, lat2, lon2) -> float:
+    return GEOD.Inverse(lat1, lon1, lat2, lon2)["s12"] / NM
+
+
+def _iso(when: pd.Timestamp) -> str:
+    return when.strftime("%Y-%m-%dT%H:%M:%SZ")
+
+
+def _star_rows(ts, eph, when, track, group):
+    lat, lon = passage.position_at(track, when)
+    return [{"utc": _iso(when), "body": s["body"], "hs": s["hs"], "eye_height_m": 3.0, "fix_group": group}
+            for s in passage.star_round(ts, eph, when, lat, lon)]
+
+
+@pytest.mark.parametrize("case", ["forward", "backward"])
+def test_the_noon_position_is_carried_through_every_change_between_the_fix_and_noon(ts, eph, case):
+    """A fix 50 minutes from noon, and between them changes of course, speed and current (entered as they were):
+    the noon position lies within 0.05 nm of the ship's true noon position, carried forward (a fix at 12:10 UTC,
+    noon 13:00 in zone +1) or back (a fix at 13:50). The truth is sailed by Runge-Kutta in make_passage.sail."""
+    start = pd.Timestamp("2026-04-14T10:00:00Z")
+    noon = pd.Timestamp("2026-04-14T13:00:00Z")  # 12:00 in zone +1 (the ship at 14-15° W)
+    if case == "forward":
+        fix_at = pd.Timestamp("2026-04-14T12:10:00Z")
+        plan = [(start, 270.0, 10.0), (pd.Timestamp("2026-04-14T12:40:00Z"), 0.0, 10.0)]
+        current_change = pd.Timestamp("2026-04-14T12:50:00Z")
+    else:
+        fix_at = pd.Timestamp("2026-04-14T13:50:00Z")
+        plan = [(start, 270.0, 10.0), (pd.Timestamp("2026-04-14T13:20:00Z"), 45.0, 6.0)]
+        current_change = pd.Timestamp("2026-04-14T13:30:00Z")
+    change_h = (current_change - start).total_seconds() / 3600.0
+
+    def current(t_h):  # 1.5 kn setting 135°, then 0.5 kn setting 200°
+        return (135.0, 1.5) if t_h < change_h - 1e-9 else (200.0, 0.5)
+
+    track = passage.sail(start, 38.0, -14.0, plan, current, pd.Timestamp("2026-04-14T15:00:00Z"))
+    rows = [{"utc": _iso(start), "entry": "departure", "dr_lat": "38 05.0 N", "dr_lon": "014 07.0 W",
+             "course": 270, "speed": 10},  # a departure 6 miles off: only the fix puts the ship right
+            {"utc": _iso(start), "entry": "current", "set": 135, "drift": 1.5},
+            {"utc": _iso(plan[1][0]), "entry": "course", "course": plan[1][1], "speed": plan[1][2]},
+            {"utc": _iso(current_change), "entry": "current", "set": 200, "drift": 0.5}]
+    rows += _star_rows(ts, eph, fix_at, track, "the fix")
+    days = process_log(pd.DataFrame(rows), plan=False).days_work()
+    noons = days.noons
+    assert list(noons["noon_utc"]) == ["2026-04-14 13:00:00"] and noons["zone"].iloc[0] == "ZD +1"
+    row = noons.iloc[0]
+    assert row["noon_from"].startswith("fix the fix at ")
+    assert ("carried back to noon" if case == "backward" else "carried to noon") in row["noon_from"]
+    assert "through 2 changes of course, speed or current" in row["noon_from"]
+    true_lat, true_lon = passage.position_at(track, noon)
+    assert _off_nm(true_lat, true_lon, row["lat_deg"], row["lon_deg"]) < 0.05
+    # carried along the one velocity at the fix, as navred used to, it would be miles out
+    fix = process_log(pd.DataFrame(rows), plan=False).group("the fix").fix
+    hours = (noon - fix_at).total_seconds() / 3600.0
+    n, e = passage.velocity(plan[0][1] if case == "forward" else plan[1][1], 10.0 if case == "forward" else 6.0)
+    cn, ce = passage.velocity(*current(0.0 if case == "forward" else 10.0))
+    one = GEOD.Direct(fix.lat_deg, fix.lon_deg, np.degrees(np.arctan2(e + ce, n + cn)),
+                      np.hypot(n + cn, e + ce) * hours * NM)
+    assert _off_nm(true_lat, true_lon, one["lat2"], one["lon2"]) > 1.0
+
+
+def _sun_rows(ts, eph, when, track, group, **kwargs):
+    lat, lon = passage.position_at(track, when)
+    s = skyfield_sight(ts, eph, kwargs.pop("body", "Sun"), when, lat, lon, eye_height_m=3.0, **kwargs)
+    return {"utc": _iso(when), "body": s["body"], "limb": s["limb"], "hs": s["hs"], "eye_height_m": 3.0,
+            "fix_group": group}
+
+
+def _meridian_passage(ts, eph, track, around: pd.Timestamp) -> pd.Timestamp:
+    """The instant (to the minute) the Sun crosses the ship's meridian: skyfield's hour angle at the true track."""
+    from skyfield.api import wgs84
+
+    best, smallest = around, 99.0
+    for minutes in range(-90, 91):
+        when = around + pd.Timedelta(minutes=minutes)
+        lat, lon = passage.position_at(track, when)
+        t = ts.from_datetime(when.to_pydatetime())
+        hour = (eph["earth"] + wgs84.latlon(lat, lon)).at(t).observe(eph["sun"]).apparent().hadec()[0].hours
+        hour = (hour + 12.0) % 24.0 - 12.0
+        if abs(hour) < smallest:
+            best, smallest = when, abs(hour)
+    return best
+
+
+@pytest.fixture(scope="module")
+def forenoon(ts, eph):
+    """A ship steaming east at 12 kn near the Greenwich meridian on 13 June 2026, her course altered to 045° at
+    11:00 UTC; her departure entered 4 miles off the truth and no fix all morning."""
+    start = pd.Timestamp("2026-06-13T03:00:00Z")
+    plan = [(start, 90.0, 12.0), (pd.Timestamp("2026-06-13T11:00:00Z"), 45.0, 12.0)]
+    track = passage.sail(start, 40.0, -1.5, plan, lambda t: (0.0, 0.0), pd.Timestamp("2026-06-13T14:00:00Z"))
+    entries = [{"utc": _iso(start), "entry": "departure", "dr_lat": "40 03.0 N", "dr_lon": "001 33.5 W",
+                "course": 90, "speed": 12},
+               {"utc": _iso(plan[1][0]), "entry": "course", "course": 45, "speed": 12}]
+    return track, entries, _meridian_passage(ts, eph, track, pd.Timestamp("2026-06-13T12:00:00Z"))
+
+
+@pytest.mark.parametrize("latitude_by", ["meridian altitude", "ex-meridian", "Polaris"])
+def test_the_forenoon_sun_run_up_to_the_noon_latitude_gives_noon_within_a_fifth_of_a_mile(ts, eph, forenoon,
+                                                                                         latitude_by):
+    """The forenoon Sun line (09:00 UTC) run up along the DR through the alteration of course to the latitude at
+    noon (a meridian altitude series around the Sun's meridian passage, a single ex-meridian sight within its
+    limit, or Polaris at morning twilight): the running fix at noon lies within 0.2 nm of the true noon
+    position, where the DR, from a departure entered 4 miles out, is miles away."""
+    track, entries, passage_time = forenoon
+    rows = list(entries) + [_sun_rows(ts, eph, pd.Timestamp("2026-06-13T09:00:00Z"), track, "forenoon",
+                                      limb="lower")]
+    if latitude_by == "meridian altitude":
+        rows += [_sun_rows(ts, eph, passage_time + pd.Timedelta(minutes=m), track, "noon", limb="lower")
+                 for m in (-2, 0, 2)]
+    elif latitude_by == "ex-meridian":  # 9 minutes before; the Sun's zenith distance is 17°: a limit of 17 min
+        rows += [_sun_rows(ts, eph, passage_time - pd.Timedelta(minutes=9), track, "noon", limb="lower")]
+    else:
+        rows += [_sun_rows(ts, eph, pd.Timestamp("2026-06-13T03:40:00Z"), track, "dawn", body="Polaris")]
+    voyage = process_log(pd.DataFrame(rows), plan=False)
+    days = voyage.days_work()
+    noon = days.noons.iloc[0]
+    assert noon["noon_utc"] == "2026-06-13 12:00:00" and noon["zone"] == "ZD 0"
+    assert noon["noon_from"].startswith("forenoon Sun line at 09:00 UTC run up to the latitude by " + latitude_by)
+    true_lat, true_lon = passage.position_at(track, pd.Timestamp("2026-06-13T12:00:00Z"))
+    assert _off_nm(true_lat, true_lon, noon["lat_deg"], noon["lon_deg"]) < 0.2
+    dr = voyage.days_work().tracks[""].positions(np.array([pd.Timestamp("2026-06-13T12:00:00Z").value]))
+    assert _off_nm(true_lat, true_lon, dr[0][0], dr[1][0]) > 3.0
+    # the latitude by its method is in the day's work and navred fix's checks
+    method = {"meridian altitude": "meridian", "ex-meridian": "ex-meridian", "Polaris": "Polaris"}[latitude_by]
+    assert method in set(days.latitudes["method"])
+
+
+def test_noon_positions_none_always_says_why(tmp_path):
+    """A log whose one fix falls after the ship's noon (a hand-kept evening round, no departure): navred days
+    says there is no noon and why, and exits 0 (it made a fix, and the DR from it)."""
+    log = tmp_path / "evening.csv"
+    log.write_text("Date,Watch time,ZD,Body,Hs,IE,Height of eye (m),DR lat,DR lon,Course,Speed\n"
+                   "2026-05-10,19:55:04,+2 O,Vega,16° 03.3′,1.2 off,18,46° 35.0′ N,027° 48.0′ W,075,12\n"
+                   "2026-05-10,19:56:34,+2 O,Arcturus,44° 50.1′,1.2 off,18,46° 35.0′ N,027° 48.0′ W,075,12\n"
+                   "2026-05-10,19:58:04,+2 O,Spica,25° 54.4′,1.2 off,18,46° 35.0′ N,027° 48.0′ W,075,12\n")
+    result = CliRunner().invoke(app, ["days", str(log)])
+    assert result.exit_code == 0, result.output
+    assert "Noon positions: none: the DR starts at 2026-05-10 21:58:04 UTC (19:58 by the ship's clocks)" in result.stdout
+    assert "no noon by her clocks falls within it" in result.stdout
+    assert "no day's work" not in result.output
+
+
+def test_the_noon_report_gives_the_distance_to_go_and_eta_by_the_routes_own_figures(ts, eph, tmp_path):
+    """A ship on navred route's great circle, her position entered at a waypoint at noon: the distance to go is
+    the route's own rhumb legs from that waypoint on, summed, and the ETA that distance at the day's average speed
+    made good (the report's own figure) after noon. A destination entry instead gives the rhumb distance to it
+    (the route's last leg figure, from its last waypoint but one)."""
+    route = tmp_path / "route.csv"
+    made = CliRunner().invoke(app, ["route", "40 30 N", "073 00 W", "49 57 N", "005 12 W", "--spacing", "300",
+                                    "-o", str(route)])
+    assert made.exit_code == 0, made.output
+    waypoints = pd.read_csv(route)
+    k = 3
+    log = pd.DataFrame([
+        {"utc": "2026-06-01T16:00:00Z", "entry": "departure", "dr_lat": waypoints.lat_deg[k - 1],
+         "dr_lon": waypoints.lon_deg[k - 1], "course": 60, "speed": 12},
+        {"utc": "2026-06-02T16:00:00Z", "entry": "position", "dr_lat": waypoints.lat_deg[k],
+         "dr_lon": waypoints.lon_deg[k]},
+    ])
+    sun = skyfield_sight(ts, eph, "Sun", pd.Timestamp("2026-06-01T18:00:00Z"), 42.0, -62.0, limb="lower")
+    log = pd.concat([log, pd.DataFrame([{"utc": "2026-06-01T18:00:00Z", "body": "Sun", "limb": "lower",
+                                         "hs": sun["hs"], "eye_height_m": 3.0}])], ignore_index=True)
+    log.to_csv(tmp_path / "log.csv", index=False)
+    from navred.jobs.daily import days_log
+
+    report = days_log(str(tmp_path / "log.csv"), route=str(route))
+    noons = report.days.noons
+    at_waypoint = noons[noons["noon_utc"] == "2026-06-02 16:00:00"].iloc[0]  # 12:00 in zone +4 (near 60° W)
+    expected = waypoints.rhumb_distance_to_next_nm[k:].sum()  # the route's own figures
+    assert at_waypoint["to_go_nm"] == pytest.approx(expected, abs=0.01)
+    assert at_waypoint["to"].startswith(f"waypoint {waypoints.waypoint[k + 1]}")
+    hours = expected / at_waypoint["speed_made_good_kn"]
+    eta = pd.Timestamp("2026-06-02T16:00:00") + pd.Timedelta(hours=hours)
+    assert abs((pd.Timestamp(at_waypoint["eta_utc"]) - eta).total_seconds()) <= 30
+    assert at_waypoint["eta_ship_time"].startswith(str(pd.Timestamp(at_waypoint["eta_utc"]) - pd.Timedelta(hours=4))[:16])
+    # the report as text, as CSV, and as the master sends it
+    result = CliRunner().invoke(app, ["days", str(tmp_path / "log.csv"), "--route", str(route), "-o",
+                                      str(tmp_path / "reports.txt")])
+    assert result.exit_code == 0, result.output
+    assert f"to go             {expected:.0f} nm to waypoint" in result.stdout
+    text = (tmp_path / "reports.txt").read_text()
+    assert text.count("NOON REPORT") == len(noons) and "ETA" in text
+    csv = CliRunner().invoke(app, ["days", str(tmp_path / "log.csv"), "--route", str(route), "--csv"])
+    table = pd.read_csv(pd.io.common.StringIO(csv.stdout))
+    assert {"to_go_nm", "eta_utc", "current_set_deg", "clock_changes", "zone"} <= set(table.columns)
+    # a destination entry: the distance to it along the rhumb line
+    with_end = pd.concat([log, pd.DataFrame([{"utc": "2026-06-01T16:00:00Z", "entry": "destination",
+                                              "dr_lat": waypoints.lat_deg.iloc[-1],
+                                              "dr_lon": waypoints.lon_deg.iloc[-1]}])])
+    last_leg = process_log(pd.concat([with_end, pd.DataFrame([{
+        "utc": "2026-06-02T16:00:00Z", "entry": "position", "dr_lat": waypoints.lat_deg.iloc[-2],
+        "dr_lon": waypoints.lon_deg.iloc[-2]}])]), plan=False).days_work().noons
+    row = last_leg[last_leg["noon_utc"] == "2026-06-02 16:00:00"].iloc[0]
+    assert row["to_go_nm"] == pytest.approx(waypoints.rhumb_distance_to_next_nm.iloc[-2], abs=0.01)
+    assert row["to"].startswith("the destination (row")
+
+
+def test_a_noon_on_a_dr_without_the_current_its_fixes_found_says_so():
+    """Trial finding: the invented passage's noons lay 7-8 nm west of the truth (scripts/make_passage.py sails a
+    current of 1.2 kn setting 060° the log does not enter), while every fix printed that current. Each noon says
+    its DR allows no current and what the fix before it found; --carry-current brings it within 0.6 nm of the
+    truth (sample_sights/passage_truth.csv, geographiclib)."""
+    from geographiclib.geodesic import Geodesic
+
+    plain = process_log("sample_sights/passage_log.csv", plan=False).days_work().noons
+    assert plain.noon_from.str.contains("its DR allows no current, but the fix 14 0536 found a current of 06").any()
+    assert plain.noon_from.str.contains("--carry-current carries each fix's").all()
+    carried = process_log("sample_sights/passage_log.csv", plan=False, carry_current=True).days_work().noons
+    assert not carried.noon_from.str.contains("allows no current").any()
+    truth = pd.read_csv("sample_sights/passage_truth.csv")
+    truth["utc"] = pd.to_datetime(truth.utc)
+    for noon in carried.itertuples():
+        true = truth[truth.utc == pd.Timestamp(noon.noon_utc + "Z")].iloc[0]
+        assert Geodesic.WGS84.Inverse(true.lat, true.lon, noon.lat_deg, noon.lon_deg)["s12"] / 1852.0 < 0.6
+
+
+def test_the_noon_report_sheet_shows_numbers_to_their_units_precision(tmp_path):
+    """Trial finding: the Noon report sheet's run, set and drift were General cells (122.91477703460333)."""
+    from openpyxl import load_workbook
+
+    from navred.jobs.voyagebook import write_workbook
+
+    voyage = process_log("sample_sights/passage_log.csv", plan=False)
+    write_workbook(voyage, tmp_path / "p.xlsx", plots=False)
+    sheet = load_workbook(tmp_path / "p.xlsx")["Noon report"]
+    header = {sheet.cell(row=3, column=c).value: c for c in range(1, sheet.max_column + 1)}
+    for name in ("run (nm)", "current set (deg)", "current drift (kn)", "speed made good (kn)"):
+        cell = sheet.cell(row=5, column=header[name])
+        assert isinstance(cell.value, float) and cell.number_format != "General", (name, cell.number_format)
+
+
+def test_the_distance_to_go_steers_for_the_waypoint_ahead_and_says_when_off_the_route(tmp_path):
+    """Trial finding: the passage's last noon, some 100 nm off a route made by navred route, counted 270 nm to go
+    by a waypoint abaft her beam; the direct rhumb to the destination is 211 nm (geographiclib's geodesic 210.7)."""
+    from navred.io.routefile import read_route
+
+    route = tmp_path / "route.csv"
+    made = CliRunner().invoke(app, ["route", "38 00 N", "010 00 W", "32 40 N", "017 00 W", "-o", str(route)])
+    assert made.exit_code == 0, made.output
+    noons = process_log("sample_sights/passage_log.csv", plan=False,
+                        route=read_route(route)).days_work().noons
+    last = noons.iloc[-1]
+    direct = Geodesic.WGS84.Inverse(last.lat_deg, last.lon_deg, 32 + 40 / 60, -17.0)["s12"] / 1852.0
+    assert abs(last.to_go_nm - direct) < 1.0
+    assert "nm right of the route's leg" in last.to
+    # the ETA by the ship's clocks is a time, and what it rests on a column of its own (trial finding)
+    assert str(pd.Timestamp(last.eta_ship_time))[:16] == last.eta_ship_time
+    assert last.eta_basis.startswith("ZD +1, at the day's average speed")

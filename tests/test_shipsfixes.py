@@ -1,0 +1,165 @@
+"""The ship's fixes and the exercises of a training log: only the ship's navigator's fixes keep the DR, the set and
+drift and the noon; the cadets' exercises are fixed and compared with the ship, never restarting her DR.
+
+The references: a passage sailed in scripts/make_passage.py's own code (fourth-order Runge-Kutta along the WGS 84
+ellipsoid, with a current the log does not enter), sights from skyfield at the true positions (tests/conftest.py)
+with each cadet's personal error and a seeded scatter, geographiclib for distances on the ellipsoid.
+"""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+from geographiclib.geodesic import Geodesic
+from typer.testing import CliRunner
+
+from navred.cli import app
+from navred.jobs.shiptrack import SET_DRIFT_MIN_HOURS
+from navred.jobs.voyage import process_log
+
+sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "scripts"))
+import make_passage as passage  # noqa: E402  (sails the ship outside navred)
+
+GEOD = Geodesic.WGS84
+NM = 1852.0
+START = pd.Timestamp("2026-10-05T01:00:00Z")
+#: (personal error ′, scatter ′) of the watch; the navigator's sights carry no error at all, so that the ship's
+#: positions are the truth to the fixes' own precision and any cadet's fix taken for the ship shows
+WATCH = {"Mate Dunlin": (0.0, 0.0), "Cadet Ansel": (2.5, 0.6), "Cadet Birch": (-2.0, 0.8), "Cadet Corrie": (3.0, 0.5)}
+
+
+@pytest.fixture(scope="module")
+def training(ts, eph):
+    """A day and a half at 7 kn on 230° with a current of 1.0 kn setting 060° (not entered in the log); each round
+    (every 6 h, one of them at noon, 13:00 UTC in zone +1) taken by the navigator and then the three cadets, a
+    minute apart, each with his own fix group."""
+    from tests.conftest import skyfield_sight
+
+    rng = np.random.default_rng(2211)
+    until = START + pd.Timedelta(hours=36, minutes=10)
+    track = passage.sail(START, 36.0, -10.0, [(START, 230.0, 7.0)], lambda t: (60.0, 1.0), until)
+    rows = [{"utc": START.strftime("%Y-%m-%dT%H:%M:%SZ"), "entry": "departure", "dr_lat": 36.0, "dr_lon": -10.0,
+             "course": 230.0, "speed": 7.0, "observer": ""}]
+    for hours in (6, 12, 18, 24, 30, 36):
+        when = START + pd.Timedelta(hours=hours)
+        lat, lon = passage.position_at(track, when)
+        stars = [s["body"] for s in passage.star_round(ts, eph, when, lat, lon)]
+        for k, (observer, (personal, scatter)) in enumerate(WATCH.items()):
+            at = when + pd.Timedelta(minutes=k)  # one observer a minute (the truth is sailed by the minute)
+            t_lat, t_lon = passage.position_at(track, at)
+            for star in stars:
+                sight = skyfield_sight(ts, eph, star, at, t_lat, t_lon, eye_height_m=3.0)
+                noise = (personal + (rng.normal(0.0, scatter) if scatter else 0.0)) / 60.0
+                rows.append({"utc": at.strftime("%Y-%m-%dT%H:%M:%SZ"), "body": star,
+                             "hs": sight["hs"] + noise, "eye_height_m": 3.0, "observer": observer,
+                             "fix_group": f"{observer.split()[-1]} {hours:02d}",
+                             "role": "ship" if observer.startswith("Mate") else "exercise"})
+    return pd.DataFrame(rows), track
+
+
+def _noon_truth(track, noons):
+    return [passage.position_at(track, pd.Timestamp(u).tz_localize("UTC")) for u in noons["noon_utc"]]
+
+
+@pytest.mark.parametrize("marked_by", ["role column", "--navigator"])
+def test_the_dr_and_the_noons_follow_the_navigators_fixes_only(training, marked_by):
+    """Marked by the log's role column or by naming the navigator: every known position after the departure is
+    the navigator's fix, every noon lies within 0.2 nm of the truth, every set and drift is over a run of at least
+    the stated hours (and found at the navigator's fixes: the current sailed, 1.0 kn setting 060°, within its
+    95 % interval); the cadets' fixes are compared with the ship, each off by about his personal error."""
+    log, track = training
+    if marked_by == "--navigator":
+        voyage = process_log(log.drop(columns=["role"]), plan=False, navigators=("mate  dunlin",))
+    else:
+        voyage = process_log(log, plan=False)
+    days = voyage.days_work()
+    track_dr = days.tracks[""]
+    assert all(label.startswith("fix Dunlin") for label in track_dr.known_label[1:])
+    assert len(track_dr.known_label) == 7
+    assert any("kept by the fixes of Mate Dunlin" in note for note in days.notes)
+    noons = days.noons
+    assert len(noons) == 2 and noons["noon_from"].str.startswith("fix Dunlin").all()
+    for (lat, lon), row in zip(_noon_truth(track, noons), noons.to_dict("records")):
+        assert GEOD.Inverse(lat, lon, row["lat_deg"], row["lon_deg"])["s12"] / NM < 0.2
+    sets = days.set_drift
+    assert set(sets["fix_group"]) == {f"Dunlin {h:02d}" for h in (6, 12, 18, 24, 30, 36)}
+    assert (sets["hours"] >= SET_DRIFT_MIN_HOURS).all()
+    determined = sets[sets["drift_kn"].notna()]
+    assert len(determined) >= 4
+    assert (abs(determined["drift_kn"] - 1.0) <= determined["drift_95_kn"]).all()
+    # the exercises: fixed and compared with the ship, never a known position of hers
+    exercises = days.exercises
+    assert set(exercises["observer"]) == {"Cadet Ansel", "Cadet Birch", "Cadet Corrie"} and len(exercises) == 18
+    # each compared with the ship where she was (the navigator's fix a few minutes before, run on: the truth to
+    # within the current's run over those minutes, 0.05 nm)
+    for row in exercises.to_dict("records"):
+        lat, lon = passage.position_at(track, pd.Timestamp(row["utc"]).tz_localize("UTC").round("min"))
+        truth_off = GEOD.Inverse(lat, lon, row["lat_deg"], row["lon_deg"])["s12"] / NM
+        assert row["off_nm"] == pytest.approx(truth_off, abs=0.1), row
+    assert exercises["ship_from"].str.startswith("DR from the fix Dunlin").all()
+    assert days.estimated.empty
+
+
+def test_an_unmarked_training_log_combines_each_round_and_says_so(training):
+    """The same log with no role and no navigator named: each round's four fixes are one ship's fix (their mean
+    weighted by their ellipses), the output says so and how to mark the navigator; no set and drift over less
+    than the stated run (the old way found 'drifts' of hundreds of knots between fixes seconds apart)."""
+    log, track = training
+    days = process_log(log.drop(columns=["role"]), plan=False).days_work()
+    assert any("none marked as the ship's navigator" in n and "--navigator NAME" in n for n in days.notes)
+    labels = days.tracks[""].known_label[1:]
+    assert len(labels) == 6 and all("4 observers combined" in label for label in labels)
+    assert (days.set_drift["hours"] >= SET_DRIFT_MIN_HOURS).all()
+    assert len(days.set_drift) == 6
+    # the round's mean carries the cadets' personal errors in part: still the right neighbourhood
+    for (lat, lon), row in zip(_noon_truth(track, days.noons), days.noons.to_dict("records")):
+        assert GEOD.Inverse(lat, lon, row["lat_deg"], row["lon_deg"])["s12"] / NM < 2.0
+
+
+def test_a_navigator_who_is_not_in_the_log_is_refused_naming_the_observers(training, tmp_path):
+    log, _ = training
+    log.to_csv(tmp_path / "log.csv", index=False)
+    result = CliRunner().invoke(app, ["days", str(tmp_path / "log.csv"), "--navigator", "Captain Nemo"])
+    assert result.exit_code == 1
+    assert "--navigator 'Captain Nemo' names no observer of the log; its observers: Cadet Ansel, Cadet Birch" \
+        in result.output
+    marked = CliRunner().invoke(app, ["days", str(tmp_path / "log.csv")])
+    assert marked.exit_code == 0, marked.output
+    assert "exercises against the ship's position" in marked.stdout and "Cadet Corrie:" in marked.stdout
+
+
+def test_a_group_mixing_the_navigator_and_a_cadet_is_split_by_observer():
+    """Trial finding: a fix group holding the navigator's sights and a cadet's (5′ low) was taken whole as the
+    ship's, the cadet never named. Split by observer, the ship's noons are those of the navigator's sights
+    alone (sample_sights/passage_log.csv, its sights invented from skyfield at the true track), by --navigator
+    and by the role column alike, and a note names each group split."""
+    log = pd.read_csv("sample_sights/passage_log.csv")
+    sights = log.body.notna()
+    alone = log.assign(observer=np.where(sights, "2/O Hale", ""))
+    cadet = alone[sights].assign(observer="Cadet Pike", hs=alone[sights].hs - 5.0 / 60.0)
+    mixed = pd.concat([alone, cadet], ignore_index=True)
+    truth = process_log(alone, plan=False).days_work().noons
+    voyage = process_log(mixed, plan=False, navigators=("2/O Hale",))
+    noons = voyage.days_work().noons
+    assert np.allclose(noons.lat_deg, truth.lat_deg, atol=1e-9) and np.allclose(noons.lon_deg, truth.lon_deg,
+                                                                                atol=1e-9)
+    assert any(n.startswith("fix group 14 0536 held the sights of 2/O Hale and of Cadet Pike: split by observer")
+               for n in voyage.notes)
+    assert "14 0536 (Cadet Pike)" in {g.name for g in voyage.groups}
+    by_role = mixed.assign(role=np.where(mixed.observer == "Cadet Pike", "exercise",
+                                         np.where(mixed.observer == "2/O Hale", "ship", "")))
+    noons = process_log(by_role, plan=False).days_work().noons
+    assert np.allclose(noons.lat_deg, truth.lat_deg, atol=1e-9)
+
+    # and navred days counts the cadet's exercises in words ("6 fixes", never "6 fixs")
+    import tempfile
+
+    with tempfile.TemporaryDirectory() as folder:
+        path = Path(folder) / "mixed.csv"
+        mixed.to_csv(path, index=False)
+        text = CliRunner().invoke(app, ["days", str(path), "--navigator", "2/O Hale"]).stdout
+    assert "Cadet Pike: 6 fixes, 3 estimated positions" in text

@@ -75,8 +75,10 @@ def test_a_wall_of_warnings_is_counted_by_kind_on_the_console_and_kept_whole_in_
     # from its DR; the two-sight moon-planet fix's "no redundancy" is a kind met once, which must not be hidden
     import openpyxl
 
-    frame = pd.read_csv("sample_sights/demo_sights.csv", dtype=str, keep_default_na=False)
-    frame["dr_lat"] = frame.dr_lat.str.replace(r"^(\d+)", lambda m: str(int(m.group(1)) + 2), regex=True)
+    demo = pd.read_csv("sample_sights/demo_sights.csv", dtype=str, keep_default_na=False)
+    demo["dr_lat"] = demo.dr_lat.str.replace(r"^(\d+)", lambda m: str(int(m.group(1)) + 2), regex=True)
+    # four ships' days of it (over the 30 warnings a day's log lists in full), each ship's groups its own
+    frame = pd.concat([demo.assign(vessel=f"Ship {k}") for k in range(4)], ignore_index=True)
     path, book = tmp_path / "far.csv", tmp_path / "far.xlsx"
     frame.to_csv(path, index=False)
     result = runner.invoke(app, ["workbook", str(path), "-o", str(book)])
@@ -95,6 +97,11 @@ def test_a_wall_of_warnings_is_counted_by_kind_on_the_console_and_kept_whole_in_
     rows = list(working.iter_rows(values_only=True))
     flags = rows[0].index("flags")
     assert sum(intercept in str(r[flags]) for r in rows[1:]) == 3 + counted
+    # a day's log (the demo alone, 14 warnings) lists every one by its row
+    one = tmp_path / "one.csv"
+    demo.to_csv(one, index=False)
+    alone = runner.invoke(app, ["workbook", str(one), "-o", str(tmp_path / "one.xlsx")]).stderr
+    assert "more like it" not in alone and alone.count(intercept) == 10
 
 
 def test_by_kind_shows_every_kind_and_counts_the_rest():
@@ -102,7 +109,8 @@ def test_by_kind_shows_every_kind_and_counts_the_rest():
 
     entries = [(f"row {r}", f"warning: row {r}: high sight {r}", f"high sight (Hc {80 + r % 5}°)") for r in range(2, 30)]
     entries.insert(10, ("row 99", "warning: row 99: a rare one", "a rare one"))
+    entries += [(f"row {r}", f"warning: row {r}: high sight {r}", f"high sight (Hc {80 + r % 5}°)") for r in range(30, 40)]
     lines = by_kind(entries, 3)
     assert lines == ["warning: row 2: high sight 2", "warning: row 3: high sight 3", "warning: row 4: high sight 4",
-                     "  and 25 more like it (rows 5-29)", "warning: row 99: a rare one"]
-    assert by_kind(entries[:4], 3) == [line for _, line, _ in entries[:4]]  # never 'and 1 more like it'
+                     "  and 35 more like it (rows 5-39)", "warning: row 99: a rare one"]
+    assert by_kind(entries[:30], 3) == [line for _, line, _ in entries[:30]]  # a short list: every one

@@ -314,15 +314,18 @@ def no_fix_lines(groups, *, shown: int | None = None) -> list[str]:
     return by_kind(entries, shown)
 
 
-#: How many of each kind of warning a long run prints before counting the rest (the workbook keeps all).
+#: How many of each kind of warning a long run prints before counting the rest (the workbook keeps all), and
+#: up to how many warnings a run lists every one (a day's or a passage's log: each sight named by its row).
 WARNINGS_SHOWN = 3
+WARNINGS_LISTED = 30
 
 
 def by_kind(entries: list[tuple[str, str, str]], shown: int | None, *, indent: str = "") -> list[str]:
-    """Lines (label, line, message) as they are (``shown`` None), or by kind of message (:func:`refusal_kind`:
-    the values taken out) in the order each kind is first met: the first ``shown`` of each kind, then
-    'and N more like it (rows ...)'. No kind is hidden behind another, however rare."""
-    if shown is None or len(entries) <= shown:
+    """Lines (label, line, message) as they are (``shown`` None, or no more than :data:`WARNINGS_LISTED`), or by
+    kind of message (:func:`refusal_kind`: the values taken out) in the order each kind is first met: the first
+    ``shown`` of each kind, then 'and N more like it (rows ...)'. No kind is hidden behind another, however
+    rare."""
+    if shown is None or len(entries) <= WARNINGS_LISTED:  # a day's log lists every one, by its row
         return [line for _, line, _ in entries]
     kinds: dict[str, list] = {}
     for label, line, message in entries:

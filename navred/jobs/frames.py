@@ -21,7 +21,7 @@ from ..series import SIGMAS, THRESHOLD_ARCMIN, check_series, series_ids
 from ..status import SightStatus
 from ..timescales import Instant
 from ..vocabulary import DR_AGE_COLUMN
-from .sights import name_zone_slips
+from .zoneslips import name_zone_slips
 
 
 @api_boundary

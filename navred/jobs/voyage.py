@@ -36,7 +36,8 @@ from ..timescales import Instant, iers_table, leap_second_table
 from ..vocabulary import DR_AGE_COLUMN
 from .drcontext import dr_context
 from .frames import row_labels, series_columns, utc64
-from .sights import name_zone_slips, reduce_sights
+from .sights import reduce_sights
+from .zoneslips import name_zone_slips
 
 
 @dataclass(frozen=True)

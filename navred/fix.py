@@ -162,7 +162,7 @@ def fix_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, u
                     drift_kn: ArrayLike | None = None, labels: ArrayLike | None = None,
                     dr_error_kn: float = DR_ERROR_KN, dr_error_fraction: float = DR_ERROR_FRACTION,
                     dr_age_hours: ArrayLike | None = None, hs_deg: ArrayLike | None = None,
-                    sigma_arcmin: ArrayLike | None = None) -> FixResult:
+                    sigma_arcmin: ArrayLike | None = None, line_sigma_nm: ArrayLike | None = None) -> FixResult:
     """The least-squares fix from reduced sights, one element per sight (1-D arrays).
 
     ``gha_deg``, ``dec_deg`` and ``ho_deg`` of each sight, its ``utc`` (datetime64, taken as
@@ -180,7 +180,7 @@ def fix_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, u
     support it. A chart or GNSS position (``chart_lat``/``chart_lon``) is cross-checked. ``hs_deg``: each
     sight's Hs as read, for the check of a round written in degrees and minutes as a decimal. ``sigma_arcmin``:
     each sight's own standard error, weighing it in the fix (NaN: a sight as good as any; see
-    :func:`fixes_from_sights`).
+    :func:`fixes_from_sights`); ``line_sigma_nm``: a landmark bearing's or range's own σ, as there.
     ``labels`` name the sights in messages (default: 1, 2, ...). One group of
     :func:`fixes_from_sights`.
     """
@@ -190,7 +190,8 @@ def fix_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, u
         course_deg=course_deg, speed_kn=speed_kn, at_utc=at_utc,
         chart_lat=np.nan if chart_lat is None else chart_lat, chart_lon=np.nan if chart_lon is None else chart_lon,
         solve_motion=solve_motion, set_deg=set_deg, drift_kn=drift_kn, labels=labels, dr_error_kn=dr_error_kn,
-        dr_error_fraction=dr_error_fraction, dr_age_hours=dr_age_hours, hs_deg=hs_deg, sigma_arcmin=sigma_arcmin)
+        dr_error_fraction=dr_error_fraction, dr_age_hours=dr_age_hours, hs_deg=hs_deg, sigma_arcmin=sigma_arcmin,
+        line_sigma_nm=line_sigma_nm)
     if batch.results[0] is None:
         raise NavredError(batch.problems[0])
     return batch.results[0]

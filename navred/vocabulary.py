@@ -243,6 +243,12 @@ RESULT_COLUMNS = (
 #: ``navred.reduce_sights`` and ``navred.process_log``: the fix takes it for its check against the DR whichever
 #: way it is called (``navred.fix_positions`` as the commands).
 DR_AGE_COLUMN = "dr_age_h"
+#: The columns of a reduced table that hold the current in force at each sight as the log's DR keeps it (its current
+#: entries; set in degrees true, drift in knots; 0 kn where none), added beside :data:`DR_AGE_COLUMN`: the fix
+#: advances the lines of a running fix through it whichever way it is called.
+CURRENT_SET_COLUMN, CURRENT_DRIFT_COLUMN = "current_set_deg", "current_drift_kn"
+#: What the fix takes from the DR kept along the log, per reduced row (see above).
+DR_CONTEXT_COLUMNS = (DR_AGE_COLUMN, CURRENT_SET_COLUMN, CURRENT_DRIFT_COLUMN)
 
 # --- Words of the trade ----------------------------------------------------------
 LIMBS = {"lower": "lower", "ll": "lower", "l": "lower", "lower_limb": "lower",

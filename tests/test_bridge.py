@@ -201,3 +201,101 @@ def test_an_event_that_does_not_happen_is_blank_in_every_csv(tmp_path):
     for path in tmp_path.glob("*.csv"):
         assert "'-" not in path.read_text() and ",-," not in path.read_text(), path.name
     assert "'-': the event does not happen that day" in result.stdout
+
+
+#: the date line, sailed both ways (FINDINGS-24 item 2): 17° 30′ S, one degree short of 180°, steering 090° or 270°
+DATE_LINE = [("179 00 E", 179.0, 90.0), ("179 00 W", -179.0, 270.0)]
+LEVELS = {"nautical_dawn": -12.0, "civil_dawn": -6.0, "civil_dusk": -6.0, "nautical_dusk": -12.0}
+
+
+@pytest.mark.parametrize("lon_text, lon0, course", DATE_LINE)
+def test_at_the_date_line_every_event_carries_its_own_zone_and_date(tmp_path, ts, eph, lon_text, lon0, course):
+    """Each event of the day's times (the CSV written) against a DR sailed in the test (tests/conftest.py
+    rhumb_integrated, RK4 on WGS 84, from 00:00 local mean time of the first date) and skyfield's Sun: the UTC is
+    the instant skyfield's Sun (topocentric, airless centre) crosses −12° or −6° at the test's DR, or its hour
+    angle there is 0° (noon), to the minute; the ZD is the nautical zone of the test's DR then (−round(λ/15°),
+    ±12 either side of 180°; common practice); zone time + ZD = UTC with the zone date printed; each noon's DR is
+    its own. Eastbound the zone date goes back a day (a date lived twice), westbound forward (a date skipped)."""
+    from skyfield.api import wgs84
+
+    from tests.conftest import rhumb_integrated
+
+    lat0, speed = -17.5, 8.0
+    out = tmp_path / "dl.csv"
+    result = CliRunner().invoke(app, ["plan", "--date", "2026-12-14", "--lat", "17 30 S", "--lon", lon_text,
+                                      "--course", f"{course:03.0f}", "--speed", "8", "--days", "3", "--eye", "3 m",
+                                      "-o", str(out), "-o", str(tmp_path / "dl.pdf")])
+    assert result.exit_code == 0, result.output
+    assert "the date line" in result.stdout
+    start = np.datetime64("2026-12-14T00:00", "ns") - np.timedelta64(int(round(lon0 / 15.0 * 3600e9)), "ns")
+
+    def dr(when):
+        hours = (np.datetime64(when, "ns") - start) / np.timedelta64(1, "h")
+        lat, lon = rhumb_integrated(lat0, lon0, course, speed * hours)
+        return float(lat), float((lon + 180.0) % 360.0 - 180.0)
+
+    table = pd.read_csv(out, dtype=str, keep_default_na=False)
+    seen_dates, checked, events = [], 0, []
+    for row in table.itertuples(index=False):
+        zd = float(row.zone_description_h)
+        seen_dates.append(row.date)
+        for key in ("nautical_dawn", "civil_dawn", "meridian_passage", "civil_dusk", "nautical_dusk"):
+            utc_text, zone_text = getattr(row, f"{key}_utc"), getattr(row, f"{key}_zone_time")
+            if not utc_text:
+                continue
+            when = np.datetime64(utc_text.replace(" ", "T"), "ns")
+            lat, lon = dr(when)
+            assert zd == float(np.clip(-np.round(lon / 15.0), -12, 12)), (key, utc_text, lon, zd)  # common practice
+            zone = when - np.timedelta64(int(zd * 60), "m")
+            assert str(zone)[:10] == row.date and str(zone)[11:16] == zone_text, (key, utc_text, row.date, zone_text)
+            events.append((when, np.datetime64(f"{row.date}T{zone_text}", "ns")))
+            if key in LEVELS:
+                now = skyfield_sight(ts, eph, "Sun", when, lat, lon)["true_alt_deg"]
+                later = skyfield_sight(ts, eph, "Sun", when + np.timedelta64(1, "m"),
+                                       *dr(when + np.timedelta64(1, "m")))["true_alt_deg"]
+                assert abs(now - LEVELS[key]) <= 0.5 * abs(later - now) + 0.01, (key, when, now)
+            else:
+                # skyfield: the Sun's local hour angle at the test's DR (its hadec()) within half a minute of time
+                t = ts.from_datetime(pd.Timestamp(when).tz_localize("UTC").to_pydatetime())
+                ha, _, _ = (eph["earth"] + wgs84.latlon(lat, lon)).at(t).observe(eph["sun"]).apparent().hadec()
+                assert abs((ha.hours * 15.0 + 180.0) % 360.0 - 180.0) <= 0.5 * 0.25 + 0.01, (when, ha.hours)
+                assert abs(float(row.noon_lon_deg) - lon) * 60.0 * np.cos(np.radians(lat)) < 0.1
+            checked += 1
+    assert checked >= 14
+    noons = table[table.meridian_passage_utc != ""]
+    assert noons.noon_lon_deg.is_unique and len(noons) == 3
+    # between consecutive events, the clocks' jump (zone time's step less UTC's): 0, an hour at a change of zone,
+    # and once a whole day at the date line: back eastbound (a date lived twice), forward westbound (one skipped)
+    events.sort()
+    jumps = [((z2 - z1) - (u2 - u1)) / np.timedelta64(1, "h") for (u1, z1), (u2, z2) in zip(events, events[1:])]
+    assert {round(j) for j in jumps} <= {0, 1, -1, 24, -24}, jumps
+    days = [round(j) for j in jumps if abs(j) > 12]
+    if course == 90.0:
+        assert days == [-24] and seen_dates.count("2026-12-14") == 2, (days, seen_dates)
+    else:
+        assert days == [24] and seen_dates[:2] == ["2026-12-14", "2026-12-15"], (days, seen_dates)
+    # each printed round's noon is its own day's: within 14 hours of it (a local date comes twice eastbound)
+    from pypdf import PdfReader
+
+    for page in PdfReader(str(tmp_path / "dl.pdf")).pages:
+        flat = " ".join(page.extract_text().split())
+        head = re.search(r"(\d\d:\d\d) UTC (\d{4}-\d\d-\d\d), from DR", flat)
+        noon = re.search(r"Noon that day: the Sun on the meridian at (\d\d:\d\d) zone \(([+−]?\d+), ([\d-]+); "
+                         r"(\d\d:\d\d) UTC\)", flat)
+        assert head and noon, flat[:300]
+        at = np.datetime64(f"{head.group(2)}T{head.group(1)}")
+        zd = int(noon.group(2).replace("−", "-"))
+        noon_utc = np.datetime64(f"{noon.group(3)}T{noon.group(1)}") + np.timedelta64(zd, "h")
+        assert str(noon_utc)[11:16] == noon.group(4)  # zone date and time + ZD = the UTC printed
+        assert abs((noon_utc - at) / np.timedelta64(1, "h")) <= 14, (head.group(0), noon.group(0))
+    # the rounds are labelled with their own zone date and zone
+    plans = pd.read_csv(tmp_path / "dl-plans.csv", dtype=str, keep_default_na=False).drop_duplicates("round")
+    for row in plans.itertuples(index=False):
+        when = np.datetime64(row.utc.replace(" ", "T"), "ns")
+        zd = float(row.zone_description_h)
+        assert zd == float(np.clip(-np.round(dr(when)[1] / 15.0), -12, 12))
+        zone = when - np.timedelta64(int(zd * 60), "m")
+        assert str(zone)[11:16] == row.zone_time
+        import datetime as dt
+
+        assert dt.date.fromisoformat(str(zone)[:10]).strftime("%A %d %B %Y").replace(" 0", " ") in row.round

@@ -238,3 +238,26 @@ def test_one_compass_check_with_a_huge_deviation_says_so():
         result = CliRunner().invoke(app, base + ["--compass-bearing", f"{(true + 4.0 + off) % 360:.1f}"])
         assert result.exit_code == 0, result.output
         assert ("WARNING: a deviation over 10°" in result.stdout) == flagged, result.stdout
+
+
+def test_the_azimuth_tables_at_the_date_line_carry_each_rows_own_zone_and_date():
+    """179° E steering 090° at 8 kn (she crosses 180° in the morning): every row's ZD is the nautical zone of the
+    DR at its instant (−round(λ/15°), ±12 either side of 180°; common practice; the DR sailed by the test,
+    tests/conftest.py rhumb_integrated), and zone date and time + ZD = its UTC."""
+    from navred.jobs.compasswork import watch_azimuths
+    from tests.conftest import rhumb_integrated
+
+    made = watch_azimuths("2026-12-14", 2, -17.5, 179.0, course_deg=90.0, speed_kn=8.0, eye_height_m=3.0)
+    start = np.datetime64("2026-12-14T00:00", "ns") - np.timedelta64(int(round(179.0 / 15.0 * 3600e9)), "ns")
+    zones = set()
+    for table in (made.sun, made.twilight):
+        for r in table.to_dict("records"):
+            utc = np.datetime64(r["utc"].replace(" ", "T"), "ns")
+            _, lon = rhumb_integrated(-17.5, 179.0, 90.0, 8.0 * (utc - start) / np.timedelta64(1, "h"))
+            lon = (float(lon) + 180.0) % 360.0 - 180.0
+            assert r["zone_description_h"] == float(np.clip(-np.round(lon / 15.0), -12, 12)), (r, lon)
+            back = np.datetime64(f"{r['zone_date']}T{r['zone_time']}", "ns") + np.timedelta64(
+                int(r["zone_description_h"] * 60), "m")
+            assert back == utc, r
+            zones.add(r["zone_description_h"])
+    assert zones == {-12.0, 12.0}

@@ -402,7 +402,7 @@ def test_the_api_dates_the_dr_as_the_commands_do(tmp_path):
     table (dr_age_h), and fix_positions takes it: the API gives the same DR ages, allowances and notes as
     process_log and `navred fix --csv`, the far-from-DR warning among them."""
     from navred import fix_positions
-    from navred.jobs.sights import DR_AGE_COLUMN
+    from navred.vocabulary import DR_AGE_COLUMN
 
     frame = demo()
     frame["dr_lat"] = (reduce_sights(demo()).dr_lat_deg + 0.6).round(5).astype(str)
@@ -430,3 +430,37 @@ def test_the_api_dates_the_dr_as_the_commands_do(tmp_path):
     undated = fix_positions(reduced.drop(columns=[DR_AGE_COLUMN]))
     assert all(not undated[g.name].dr_age_known and not any(far in w for w in undated[g.name].warnings)
                for g in voyage.groups)
+
+
+def test_the_api_runs_the_lines_through_the_logs_current_as_the_commands_do(tmp_path):
+    """The invented day at sea's forenoon and noon Sun as one running fix, with a current entry in the
+    log (090°, 1.3 kn, along the forenoon Sun's azimuth): reduce_sights carries the current in force at each sight
+    (current_set_deg, current_drift_kn) as the day's work keeps it, and fix_positions advances the lines through
+    it, as process_log and `navred fix --csv` do; without the columns the API runs the lines by course and speed
+    alone, a fix miles off (the current's run over the 3.2 h between the sights is 4.1 nm, most of it along the
+    advanced line's azimuth; common practice)."""
+    from navred import fix_positions
+    from navred.triangle import distance_bearing
+    from navred.vocabulary import CURRENT_DRIFT_COLUMN, CURRENT_SET_COLUMN
+
+    frame = pd.read_csv("sample_sights/day_at_sea.csv", dtype=str, keep_default_na=False)
+    frame = frame[frame.fix_group.isin(["", "forenoon Sun", "noon Sun"]) & (frame.entry != "destination")]
+    frame.loc[frame.fix_group != "", "fix_group"] = "sun-run-sun"
+    current = dict.fromkeys(frame.columns, "") | {"utc": "2026-06-20T04:00:00Z", "entry": "current",
+                                                   "vessel": frame.vessel.iloc[0]}
+    frame = pd.concat([frame.iloc[:1], pd.DataFrame([current]), frame.iloc[1:]], ignore_index=True)
+    frame["set"], frame["drift"] = "", ""
+    frame.loc[1, ["set", "drift"]] = ["090", "1.3"]
+    path = tmp_path / "current.csv"
+    frame.to_csv(path, index=False)
+    reduced = reduce_sights(path)
+    assert len(reduced) == 2 and np.allclose(reduced[CURRENT_DRIFT_COLUMN], 1.3)
+    assert np.allclose(reduced[CURRENT_SET_COLUMN], 90.0)
+    api = fix_positions(reduced)["sun-run-sun"]
+    commands = process_log(path).group("sun-run-sun").fix
+    table = pd.read_csv(io.StringIO(runner.invoke(app, ["fix", str(path), "--csv"]).stdout)).set_index("fix_group")
+    assert (api.lat_deg, api.lon_deg) == pytest.approx((commands.lat_deg, commands.lon_deg), abs=1e-9)
+    assert (table.loc["sun-run-sun", "lat_deg"], table.loc["sun-run-sun", "lon_deg"]) == pytest.approx(
+        (api.lat_deg, api.lon_deg), abs=1e-6)
+    without = fix_positions(reduced.drop(columns=[CURRENT_SET_COLUMN, CURRENT_DRIFT_COLUMN]))["sun-run-sun"]
+    assert 2.0 < float(distance_bearing(without.lat_deg, without.lon_deg, api.lat_deg, api.lon_deg)[0]) < 6.0

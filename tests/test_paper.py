@@ -902,16 +902,19 @@ def test_a_departure_at_the_hour_she_sails(tmp_path, ts, eph):
     assert "where she lies until she departs at 2025-06-10 09:30 UTC" in " ".join(made["pages"][0].split())
 
 
-def test_the_sight_pages_say_the_rate_is_for_after_the_planned_time_only(paper):
-    """The rate is the mean of the ten minutes after the planned time; used back to nautical twilight it is minutes
-    of arc out for a planet, so each round's note says to work an earlier sight by the formulas page."""
+def test_the_sight_pages_say_the_rate_holds_either_side_of_the_planned_time(paper):
+    """The rate and bend are centred on the planned time: each round's note says how to work a sight before it
+    (m negative), and each body's span is printed both ways (±N) or 'do not use'."""
     rounds = printed_rounds(paper)
     for page in paper["pages"]:
         flat = " ".join(page.split())
         if "Morning twilight: planned" in flat or "Evening twilight: planned" in flat:
             count = flat.count("Morning twilight: planned") + flat.count("Evening twilight: planned")
-            assert flat.count("Only after the planned time: for a sight before it, work it by the formulas page") \
-                == count, flat[:200]
+            assert flat.count("(m negative before it): Hc = Hc + m × (Hc ′/min + m × bend)") == count, flat[:200]
+            assert "Only after the planned time" not in flat
+    for round_ in rounds:
+        holds = round_["bodies"]["rate_holds_minutes"]
+        assert holds.str.fullmatch(r"±\d+|do not use: formulas").all(), holds.tolist()
     assert len(rounds) == 4
 
 
@@ -938,3 +941,26 @@ def test_a_log_kept_in_zone_time_gives_the_paper_its_zone(tmp_path):
     assert (utc_h * 60 + utc_m) - (zone_h * 60 + zone_m) == 120
     other = passage_paper(FIRST, LAST, log=tmp_path / "log.csv", zone_description_h=1.0)
     assert all(noon.zone_h == 1.0 for noon in other.noons)
+
+
+def test_over_the_date_line_eastbound_each_round_is_on_its_own_days_page_once():
+    """179° E steering 090° at 8 kn: the ship's date repeats (two local days both 14 December, the second said to
+    be the date again); each round of sights is printed once, on the page of the day whose noon is nearest it,
+    with its own zone (−12 before 180°, +12 after; common practice), and every page holds its two rounds."""
+    from navred.jobs.paper import passage_paper
+
+    made = passage_paper("2026-12-14", "2026-12-16", -17.5, 179.0, course_deg=90.0, speed_kn=8.0, eye_height_m=3.0)
+    pages = [p for p in made.document.pages if p.title.startswith("Sights for")]
+    titles = [p.title for p in pages]
+    assert titles[:2] == ["Sights for Monday 14 December 2026",
+                          "Sights for Monday 14 December 2026 (the date again: over the date line)"], titles
+    planned = []
+    for page in pages:
+        text = " ".join(block.text for block in page.blocks if hasattr(block, "text"))
+        found = re.findall(r"(Morning|Evening) twilight: planned \d\d:\d\d zone time \(([+−]\d+)\), (\d\d:\d\d) UTC",
+                           text)
+        assert [f[0] for f in found] == ["Morning", "Evening"], (page.title, found)
+        planned += [f[2] for f in found]
+        if page is pages[0]:
+            assert [f[1] for f in found] == ["−12", "+12"]
+    assert len(planned) == len(set(planned)) == 2 * len(pages)

@@ -152,8 +152,17 @@ def test_a_group_mixing_the_navigator_and_a_cadet_is_split_by_observer():
     assert "14 0536 (Cadet Pike)" in {g.name for g in voyage.groups}
     by_role = mixed.assign(role=np.where(mixed.observer == "Cadet Pike", "exercise",
                                          np.where(mixed.observer == "2/O Hale", "ship", "")))
-    noons = process_log(by_role, plan=False).days_work().noons
+    by_role_voyage = process_log(by_role, plan=False)
+    noons = by_role_voyage.days_work().noons
     assert np.allclose(noons.lat_deg, truth.lat_deg, atol=1e-9)
+    # one way in: the API's reduce_sights splits the group alike, and fix_positions gives the ship's fix from her
+    # navigator's sights alone and the cadet's exercise apart, as the commands do
+    from navred import fix_positions, reduce_sights
+
+    api = fix_positions(reduce_sights(by_role))
+    for name in ("14 0536", "14 0536 (Cadet Pike)"):
+        mine, theirs = api[name], by_role_voyage.group(name).fix
+        assert (mine.lat_deg, mine.lon_deg) == pytest.approx((theirs.lat_deg, theirs.lon_deg), abs=1e-6), name
 
     # and navred days counts the cadet's exercises in words ("6 fixes", never "6 fixs")
     import tempfile

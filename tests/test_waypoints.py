@@ -4,6 +4,8 @@ reaches each at the time its legs take at the speed."""
 
 from __future__ import annotations
 
+import re
+
 import numpy as np
 import pytest
 from typer.testing import CliRunner
@@ -110,3 +112,52 @@ def test_gpx_files_refused(tmp_path):
     many.write_text("lat,lon\n" + "40 N,20 W\n" * 2100, encoding="utf-8")
     with pytest.raises(WaypointError, match="route"):
         read_waypoints(many)
+
+
+def _paper_warnings(tmp_path, text: str) -> list[str]:
+    (tmp_path / "hand.csv").write_text(text, encoding="utf-8")
+    result = CliRunner().invoke(app, ["paper", "--from", "2026-12-10", "--to", "2026-12-10", "--route",
+                                      str(tmp_path / "hand.csv"), "--speed", "6", "--eye", "3 m", "-o",
+                                      str(tmp_path / "p.pdf")])
+    assert result.exit_code == 0, result.output
+    return [line for line in result.stderr.splitlines() if line.startswith("warning: route")]
+
+
+def test_a_hand_route_with_a_longitude_sign_lost_is_remarked_naming_the_waypoint(tmp_path):
+    """A route written by hand from Las Palmas to Mindelo with one waypoint's W written E (a leg across Africa):
+    the paper warns naming that waypoint and the length with it turned; the route as meant is within 1 % of the
+    legs' geodesics (geographiclib, WGS 84: rhumb and geodesic differ far less than that on legs this short)."""
+    from geographiclib.geodesic import Geodesic
+
+    warned = _paper_warnings(tmp_path, "name,lat,lon\nLas Palmas,28 08.0 N,015 25.0 W\noff Hierro,27 30.0 N,018 30.0 W\n"
+                                       "WP3,24 00.0 N,021 00.0 E\nMindelo,16 53.0 N,024 59.0 W\n")
+    assert len(warned) == 1, warned
+    assert "WP3's longitude 021° 00.0′ E is E between two W ones" in warned[0] and "forgotten" in warned[0]
+    meant = re.search(r"with it W, ([\d,]+) nm", warned[0]).group(1)
+    geodesic = sum(Geodesic.WGS84.Inverse(a, b, c, d)["s12"] for a, b, c, d in
+                   ((27.5, -18.5, 24.0, -21.0), (24.0, -21.0, 16 + 53 / 60, -(24 + 59 / 60)))) / 1852.0
+    assert abs(float(meant.replace(",", "")) - geodesic) < 0.01 * geodesic
+
+
+def test_a_leg_far_longer_than_its_neighbours_is_remarked_and_a_sound_route_is_not(tmp_path):
+    """A latitude's N written S on a coastal route (legs of 5,600 nm among legs of about 70): remarked, naming
+    the waypoint (or, for the last, the leg's two); the same route written right, a route over 0° near Greenwich and one over 180°: no remark."""
+    warned = _paper_warnings(tmp_path, "lat,lon\n50 00 N,005 00 W\n48 30 N,006 00 W\n"
+                                       "46 50 S,004 00 W\n45 20 N,002 00 W\n")
+    assert len(warned) == 1 and "WP002 (46° 50.0′ S 004° 00.0′ W) takes her" in warned[0], warned
+    warned = _paper_warnings(tmp_path, "lat,lon\n50 00 N,005 00 W\n48 30 N,006 00 W\n47 10 N,005 00 W\n"
+                                       "46 50 S,004 00 W\n")
+    assert len(warned) == 1 and "the leg WP002 (47° 10.0′ N 005° 00.0′ W) to WP003 (46° 50.0′ S" in warned[0], warned
+    for sound in ("lat,lon\n50 00 N,005 00 W\n48 30 N,006 00 W\n46 50 N,004 00 W\n45 20 N,002 00 W\n",
+                  "lat,lon\n49 00 N,004 00 W\n50 00 N,002 00 E\n51 00 N,008 00 E\n",
+                  "lat,lon\n17 30 S,178 00 E\n17 30 S,179 30 W\n17 30 S,176 00 W\n"):
+        assert _paper_warnings(tmp_path, sound) == [], sound
+
+
+def test_a_vertex_beyond_the_route_is_not_printed_as_a_position():
+    """navred route from Las Palmas to Mindelo: the great circle's vertex lies far off the passage (in the South
+    Pacific), so the summary says there is none on the route instead of printing it."""
+    result = CliRunner().invoke(app, ["route", "28 08 N", "015 25 W", "16 53 N", "024 59 W"])
+    assert result.exit_code == 0, result.output
+    assert "no vertex on the route: its highest latitude is at the start (28° 08.0′ N)" in result.stdout
+    assert "vertex: " not in result.stdout and "126° 53.9′ W" not in result.stdout

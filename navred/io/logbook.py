@@ -42,7 +42,7 @@ from ..vocabulary import (
     BOOKKEEPING_HEADERS,
     COLUMN,
     COLUMNS,
-    DR_AGE_COLUMN,
+    DR_CONTEXT_COLUMNS,
     OUTPUT_SUFFIX,
     OWN_COLUMN_HINT,
     RESULT_COLUMNS,
@@ -416,7 +416,7 @@ def _check_is_log(table: RawTable, keys: dict) -> None:
 
 
 #: the reduction's columns (a log of reduced rows read back)
-RESULT_NAMES = frozenset((*RESULT_COLUMNS, DR_AGE_COLUMN))
+RESULT_NAMES = frozenset((*RESULT_COLUMNS, *DR_CONTEXT_COLUMNS))
 
 _SEPARATOR_NAMES = {",": "comma", ";": "semicolon", "\t": "tab"}
 

@@ -78,6 +78,12 @@ class PlannedTwilight:
     civil: np.datetime64
     plan: SightPlan
     presets: SightPresets
+    local_date: np.datetime64 | None = None
+
+    @property
+    def zone_date(self) -> np.datetime64:
+        """The date by the zone time of the planned instant (ZT = UTC − ZD)."""
+        return zone_date(self.presets.utc, self.zone_h)
 
 
 @dataclass(frozen=True)
@@ -95,10 +101,18 @@ class NoonSun:
     hs_deg: float
     bearing: str
 
+    @property
+    def zone_date(self) -> np.datetime64:
+        """The date by the zone time of the meridian passage (ZT = UTC − ZD); ``date`` is the ship's local day
+        it falls in."""
+        return zone_date(self.utc, self.zone_h)
+
 
 @dataclass(frozen=True)
 class DayEvents:
-    """A local date's events (UTC instants, NaT when it does not happen) and the zone description kept."""
+    """One row of the day's times: a zone date and zone description, and the events that fall in them (UTC
+    instants, NaT when the event does not happen or falls in another row: after a change of zone, or across
+    the date line, one local day's events fall in two rows)."""
 
     date: np.datetime64
     zone_h: float
@@ -110,11 +124,94 @@ def zone_for(lon_deg: float, given: float | None) -> float:
     return float(given) if given is not None else float(zone_description_h(lon_deg))
 
 
+def zone_date(utc64, zone_h: float) -> np.datetime64:
+    """The date by zone time of a UTC instant (ZT = UTC − ZD)."""
+    return zone_time(utc64, zone_h).astype("datetime64[D]")
+
+
+def zone_at(utc64, track: DRTrack, given: float | None) -> np.ndarray:
+    """The zone description of each instant: the one given (the ship's clocks), else the DR's nautical zone then."""
+    when = np.atleast_1d(np.asarray(utc64, dtype="datetime64[ns]"))
+    if given is not None:
+        return np.full(when.shape, float(given))
+    _, lon = track.position(when)
+    return np.asarray(zone_description_h(lon), dtype=float)
+
+
+def zone_rows(events: dict, track: DRTrack, given: float | None) -> list[DayEvents]:
+    """The day's times by zone date: every event with the zone description of its own instant (the DR's zone
+    then, or the one given) and its zone date; the events in time order, a row for each run of one zone date
+    and zone description. Across the date line eastbound (ZD −12 to +12) the zone date goes back a day and a
+    date is lived twice; westbound it goes forward a day and part of a date is never lived."""
+    utc, keys = [], []
+    for d in range(len(events["date"])):
+        for key in EVENT_KEYS:
+            if not np.isnat(events[key][d]):
+                utc.append(np.datetime64(events[key][d], "ns"))
+                keys.append(key)
+    if not utc:
+        return [DayEvents(np.datetime64(day, "D"), float(zone_at(day, track, given)[0]),
+                          {key: np.datetime64("NaT", "ns") for key in EVENT_KEYS}) for day in events["date"]]
+    order = np.argsort(np.array(utc, dtype="datetime64[ns]"), kind="stable")
+    when = np.array(utc, dtype="datetime64[ns]")[order]
+    zones = zone_at(when, track, given)
+    rows: list[DayEvents] = []
+    for k, i in enumerate(order):
+        date, zd, key = zone_date(when[k], zones[k]), float(zones[k]), keys[i]
+        row = rows[-1] if rows else None
+        if row is None or row.date != date or row.zone_h != zd or not np.isnat(row.times[key]):
+            row = DayEvents(date, zd, {name: np.datetime64("NaT", "ns") for name in EVENT_KEYS})
+            rows.append(row)
+        row.times[key] = when[k]
+    return rows
+
+
+@dataclass(frozen=True)
+class ZoneChange:
+    """The DR passes from one nautical zone to the next (to the minute): the UTC, the zone descriptions before
+    and after, and the DR's longitude."""
+
+    utc: np.datetime64
+    zone_before_h: float
+    zone_after_h: float
+    lon_deg: float
+
+    def text(self) -> str:
+        jump = self.zone_after_h - self.zone_before_h
+        line = (f"About {str(self.utc)[:16].replace('T', ' ')} UTC the DR ({dm(self.lon_deg, 'lon')}) passes from zone "
+                f"{zone_text(self.zone_before_h)} to {zone_text(self.zone_after_h)}")
+        if abs(jump) > 12:
+            line += (": the date line. Eastbound (−12 to +12) the zone date goes back a day: a date is lived twice"
+                     if jump > 0 else ": the date line. Westbound (+12 to −12) the zone date goes forward a day: a "
+                     "date is skipped")
+            line += "; the times here keep the DR's zone at each event (give --zone to keep the ship's clocks)"
+        return line + "."
+
+
+def zone_changes(track: DRTrack, start, end, given: float | None) -> list[ZoneChange]:
+    """Where the DR's nautical zone changes between ``start`` and ``end`` (none when the zone is given)."""
+    if given is not None:
+        return []
+    start, end = np.datetime64(start, "ns"), np.datetime64(end, "ns")
+    step = np.timedelta64(10 * NS_PER_MINUTE, "ns")
+    grid = np.arange(start, end + step, step)
+    zones = zone_at(grid, track, None)
+    out = []
+    for k in np.flatnonzero(np.diff(zones) != 0):
+        fine = np.arange(grid[k], grid[k + 1] + np.timedelta64(NS_PER_MINUTE, "ns"), np.timedelta64(NS_PER_MINUTE, "ns"))
+        z = zone_at(fine, track, None)
+        j = int(np.flatnonzero(z != zones[k])[0])
+        _, lon = track.position(fine[j:j + 1])
+        out.append(ZoneChange(fine[j], float(zones[k]), float(z[j]), float(lon[0])))
+    return out
+
+
 def planned_rounds(events: dict, plans: list[SightPlan], track: DRTrack, *, eye_height_m: float,
                    index_error_arcmin: float, zone_given: float | None, count: int, min_alt_deg: float,
                    max_alt_deg: float, label: str | None = None) -> list[PlannedTwilight]:
     """Each plan again at its time rounded to the whole minute (a watch works to the minute), with its bodies'
-    presets; a twilight is named by the local date whose noon is nearest."""
+    presets; a twilight is named by its own zone date (the zone of the DR then, or the one given) and belongs to
+    the local day whose noon is nearest (``local_date``)."""
     rounds = []
     noon = events["meridian_passage"].astype(np.int64)
     for plan in plans:
@@ -127,15 +224,17 @@ def planned_rounds(events: dict, plans: list[SightPlan], track: DRTrack, *, eye_
         presets = sight_presets(again.body, when, lat, lon, eye_height_m=eye_height_m,
                                 index_error_arcmin=index_error_arcmin)
         day = int(np.argmin(np.abs(noon - when.astype(np.int64))))
+        zd = zone_for(lon, zone_given)
         if label is not None:
             kind, name, nautical, civil = "Sight plan", label, np.datetime64("NaT"), np.datetime64("NaT")
         else:
             morning = when < events["meridian_passage"][day]
             kind = "Morning twilight" if morning else "Evening twilight"
-            name = f"{kind}, {long_date(events['date'][day])}"
+            name = f"{kind}, {long_date(zone_date(when, zd))}"
             nautical = events["nautical_dawn" if morning else "nautical_dusk"][day]
             civil = events["civil_dawn" if morning else "civil_dusk"][day]
-        rounds.append(PlannedTwilight(name, kind, zone_for(lon, zone_given), nautical, civil, again, presets))
+        rounds.append(PlannedTwilight(name, kind, zd, nautical, civil, again, presets,
+                                      np.datetime64(events["date"][day], "D")))
     return rounds
 
 
@@ -195,6 +294,8 @@ class BridgePlan:
     noons: tuple[NoonSun, ...]
     rounds: tuple[PlannedTwilight, ...]
     windows: tuple[DayWindow, ...]
+    window_zones: tuple[float, ...] = ()
+    changes: tuple[ZoneChange, ...] = ()
 
     # --- the console ---------------------------------------------------------------------------
 
@@ -210,6 +311,7 @@ class BridgePlan:
                  "Times are zone time (ZT + ZD = UTC) with UTC in brackets, to the minute; '-': the event does not "
                  "happen that day.", ""]
         names = ("nautical dawn", "civil dawn", "sunrise", "noon", "sunset", "civil dusk", "nautical dusk")
+        lines.extend(change.text() for change in self.changes)
         lines.append(f"{'date':<12}{'ZD':>4}" + "".join(f"{n:>16}" for n in names))
         for day in self.days:
             cells = []
@@ -220,7 +322,7 @@ class BridgePlan:
         lines.append("")
         lines.append("Noon: the Sun on the meridian at the DR (lower limb)")
         for noon in self.noons:
-            lines.append(f"  {noon.date}  {hm(zone_time(noon.utc, noon.zone_h))} zone ({zone_text(noon.zone_h)}), "
+            lines.append(f"  {noon.zone_date}  {hm(zone_time(noon.utc, noon.zone_h))} zone ({zone_text(noon.zone_h)}), "
                          f"{hm(noon.utc)} UTC: bearing {noon.bearing}, Hs to preset {dm(noon.hs_deg, 'signed')} "
                          f"(Hc {dm(noon.hc_deg, 'signed')}, Dec {dm(noon.dec_deg, 'dec')}), DR "
                          f"{dm(noon.lat_deg, 'lat')} {dm(noon.lon_deg, 'lon')}")
@@ -231,11 +333,12 @@ class BridgePlan:
         lines.append("Daytime fixes: the Sun with the Moon or a bright planet, their lines crossing at 30° or more")
         if not self.windows:
             lines.append("  none in these days")
-        for window in self.windows:
-            zd = zone_for(self.lon_deg, self.zone_given) if not self.days else self._zone_on(window.best)
-            lines.append(f"  Sun and {window.body:<8} {str(zone_time(window.start, zd))[:10]} "
-                         f"{hm(zone_time(window.start, zd))} to {hm(zone_time(window.end, zd))} zone "
-                         f"({zone_text(zd)}), {hm(window.start)} to {hm(window.end)} UTC; best "
+        for k, window in enumerate(self.windows):
+            zd = self.window_zones[k] if k < len(self.window_zones) else self._zone_on(window.best)
+            span = (f"{hm(zone_time(window.start, zd))} to {hm(zone_time(window.end, zd))} zone ({zone_text(zd)}), "
+                    f"{hm(window.start)} to {hm(window.end)} UTC" if hm(window.start) != hm(window.end) else
+                    f"only about {hm(zone_time(window.start, zd))} zone ({zone_text(zd)}), {hm(window.start)} UTC")
+            lines.append(f"  Sun and {window.body:<8} {str(zone_time(window.start, zd))[:10]} {span}; best "
                          f"{hm(zone_time(window.best, zd))} zone: crossing {window.crossing_deg:.0f}°, Sun "
                          f"{window.sun_hc_deg:.0f}°, {window.body} {window.body_hc_deg:.0f}°")
         return lines
@@ -280,14 +383,17 @@ class BridgePlan:
         import pandas as pd
 
         rows = []
-        by_date = {str(n.date): n for n in self.noons}
+        def noon_of(passage):  # the noon Sun worked from this row's meridian passage (found again at the DR)
+            near = [n for n in self.noons if abs((n.utc - passage) / np.timedelta64(1, "m")) < 60]
+            return near[0] if near else None
+
         for day in self.days:
             row = {"date": str(day.date), "zone_description_h": day.zone_h}
             for key in EVENT_KEYS:
                 when = day.times[key]
                 row[f"{key}_utc"] = "" if np.isnat(when) else str(to_minute(when))[:16].replace("T", " ")
                 row[f"{key}_zone_time"] = "" if np.isnat(when) else hm(zone_time(when, day.zone_h))
-            noon = by_date.get(str(day.date))
+            noon = None if np.isnat(day.times["meridian_passage"]) else noon_of(day.times["meridian_passage"])
             if noon is not None:
                 row.update({"noon_lat_deg": noon.lat_deg, "noon_lon_deg": noon.lon_deg, "noon_dec_deg": noon.dec_deg,
                             "noon_hc_deg": noon.hc_deg, "noon_hs_preset_deg": noon.hs_deg,
@@ -322,7 +428,6 @@ class BridgePlan:
         from ..io.printed import Document, Page, Picture, Table, Text
 
         pages = []
-        by_date = {str(n.date): n for n in self.noons}
         if not self.rounds:  # no twilight (white nights, midnight sun): the days' times and the daytime fixes
             rows = []
             for day in self.days:
@@ -346,8 +451,10 @@ class BridgePlan:
             table = Table(("Body", "set", "Hs to preset", "limb", "Hc", "Zn °", "mag"), tuple(rows), font_size=7.8,
                           widths=(1.5, 0.4, 1.1, 1.2, 1.1, 0.6, 0.5), left_columns=2, width_fraction=0.85,
                           compact=True)
-            blocks = [Text(f"{hm(zone_time(p.utc, zd))} zone time (ZD {zone_text(zd)}), {hm(p.utc)} UTC, from DR "
-                           f"{dm(p.lat_deg, 'lat')} {dm(p.lon_deg, 'lon')}", "subheading")]
+            blocks = [Text(f"{hm(zone_time(p.utc, zd))} zone time (ZD {zone_text(zd)}), {hm(p.utc)} UTC "
+                           f"{str(p.utc)[:10]}, from DR {dm(p.lat_deg, 'lat')} {dm(p.lon_deg, 'lon')}", "subheading")]
+            blocks += [Text(c.text(), "small") for c in self.changes
+                       if abs(c.zone_after_h - c.zone_before_h) > 12]
             if not np.isnat(round_.nautical):
                 times = twilight_times(round_, zd)
                 blocks.append(Text(f"{times[0].upper()}{times[1:]} zone time. Height of eye {self.eye_height_m:g} "
@@ -358,14 +465,17 @@ class BridgePlan:
                                                     f"{hm(p.utc)} UTC")
             blocks.append(Picture(figure_png(figure, dpi=150), 255.0))
             blocks.append(Text(f"Choice: {round_.plan.explanation}", "small"))
-            noon = by_date.get(str(np.datetime64(zone_time(p.utc, zd), "D")))
+            # the noon of the round's own day: the nearest (a local date can come twice at the date line)
+            noon = min(self.noons, key=lambda n: abs((n.utc - p.utc) / np.timedelta64(1, "m")), default=None)
+            if noon is not None and abs((noon.utc - p.utc) / np.timedelta64(1, "h")) > 14:
+                noon = None
             if noon is not None:
                 blocks.append(Text(f"Noon that day: the Sun on the meridian at {hm(zone_time(noon.utc, noon.zone_h))} "
-                                   f"zone ({hm(noon.utc)} UTC), bearing {noon.bearing}, Hs to preset (lower limb) "
+                                   f"zone ({zone_text(noon.zone_h)}, {noon.zone_date}; {hm(noon.utc)} UTC), bearing {noon.bearing}, Hs to preset (lower limb) "
                                    f"{dm(noon.hs_deg, 'signed')}.", "body"))
             pages.append(Page(round_.label, tuple(blocks)))
-        dates = [d.date for d in self.days] or [np.datetime64(self.rounds[0].presets.utc, "D")]
-        valid = f"{dates[0]}" + (f" to {dates[-1]}" if len(dates) > 1 else "") + " (local dates)"
+        dates = sorted({d.date for d in self.days}) or [np.datetime64(self.rounds[0].presets.utc, "D")]
+        valid = f"{dates[0]}" + (f" to {dates[-1]}" if len(dates) > 1 else "") + " (zone dates)"
         from ..timescales import instants
 
         when = [r.presets.utc for r in self.rounds] or [n.utc for n in self.noons] or [dates[0]]
@@ -395,17 +505,16 @@ def bridge_plan(first_date: object, days: int, lat_deg: float, lon_deg: float, *
     rounds = planned_rounds(events, plans, track, count=count, min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg,
                             label=label, **options)
     noons = noon_suns(events, track, **options)
-    day_events = []
-    for d in range(len(events["date"])):
-        noon_lon = next((n.lon_deg for n in noons if n.date == events["date"][d]), lon_deg)
-        day_events.append(DayEvents(events["date"][d], zone_for(noon_lon, zone_description_h),
-                                    {key: events[key][d] for key in EVENT_KEYS}))
+    day_events = zone_rows(events, track, zone_description_h)
     windows = daytime_fix_windows(str(first_date), days, lat_deg, lon_deg, course_deg=course_deg, speed_kn=speed_kn,
                                   min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg)
+    window_zones = tuple(float(zone_at(w.best, track, zone_description_h)[0]) for w in windows)
+    found = [np.datetime64(events[key][d], "ns") for key in EVENT_KEYS for d in range(len(events["date"]))
+             if not np.isnat(events[key][d])]
+    changes = zone_changes(track, min(found), max(found), zone_description_h) if found else []
     return BridgePlan(np.datetime64(str(first_date)[:10], "D"), float(lat_deg), float(lon_deg), float(course_deg),
                       float(speed_kn), float(eye_height_m), float(index_error_arcmin), zone_description_h,
-                      tuple(day_events), tuple(noons), tuple(rounds), tuple(windows))
-
+                      tuple(day_events), tuple(noons), tuple(rounds), tuple(windows), window_zones, tuple(changes))
 
 
 def plans_csv_path(path: str | Path) -> Path:
@@ -440,5 +549,5 @@ def write_plan_files(plan: BridgePlan, files: dict[str, str]) -> list[Path]:
             written.append(atomic_write(path, lambda p: save_figure(sky_picture(first.plan, title=first.label), p)))
     return written
 
-__all__ = ["BridgePlan", "PlannedTwilight", "NoonSun", "DayEvents", "bridge_plan", "planned_rounds", "noon_suns",
+__all__ = ["BridgePlan", "PlannedTwilight", "ZoneChange", "zone_rows", "zone_changes", "zone_at", "zone_date", "NoonSun", "DayEvents", "bridge_plan", "planned_rounds", "noon_suns",
            "provenance_line", "write_plan_files", "twilight_times", "plans_csv_path", "signed", "dm", "hm", "zone_time", "zone_text", "to_minute", "long_date", "zone_for"]

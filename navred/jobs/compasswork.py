@@ -27,7 +27,17 @@ from ..compass import (
 from ..constants import NS_PER_MINUTE
 from ..errors import NavredError
 from ..plan import voyage_events
-from .bridge import dm, hm, provenance_line, signed, to_minute, zone_for, zone_text, zone_time
+from .bridge import (
+    dm,
+    hm,
+    provenance_line,
+    signed,
+    to_minute,
+    zone_at,
+    zone_date,
+    zone_text,
+    zone_time,
+)
 
 #: A deviation larger than this (degrees) is flagged: a compass in use is adjusted to well within it, so a wrong
 #: time, position, body or heading is likelier  # common practice
@@ -59,21 +69,22 @@ class WatchAzimuths:
         lines = ["Sunrise and sunset along the DR: the true amplitude when the Sun's centre is on the celestial "
                  "horizon (its lower limb about half a diameter above the visible horizon)"]
         for r in self.risings.to_dict("records"):
-            lines.append(f"  {r['date']} {r['event']:<7} visible {r['visible_zone_time']} zone ({r['visible_utc'][11:]} "
+            lines.append(f"  {r['date']} {r['event']:<7} visible {r['visible_zone_time']} zone "
+                         f"({zone_text(r['zone_description_h'])}; {r['visible_utc'][11:]} "
                          f"UTC); centre on the horizon {r['amplitude_zone_time']} zone ({r['amplitude_utc'][11:]} UTC): "
                          f"amplitude {r['amplitude']}, true bearing {r['zn']}")
         lines.append("")
         lines.append(f"The Sun's true azimuth every {self.step_minutes:g} minutes (zone time, UTC in brackets)")
-        lines.append(f"  {'date':<11} {'zone':>5} {'(UTC)':>7} {'Zn':>6} {'Hc':>7}")
+        lines.append(f"  {'zone date':<11} {'zone':>5} {'ZD':>3} {'(UTC)':>7} {'Zn':>6} {'Hc':>7}")
         for r in self.sun.to_dict("records"):
-            lines.append(f"  {r['utc'][:10]:<11} {r['zone_time']:>5} ({r['utc'][11:]}) {r['zn_deg']:05.1f}° "
-                         f"{r['hc_deg']:6.1f}°")
+            lines.append(f"  {r['zone_date']:<11} {r['zone_time']:>5} {zone_text(r['zone_description_h']):>3} "
+                         f"({r['utc'][11:]}) {r['zn_deg']:05.1f}° {r['hc_deg']:6.1f}°")
         if len(self.twilight):
             lines.append("")
             lines.append("At twilight: a bright body low enough for a compass bearing (3° to 25°)")
             for r in self.twilight.to_dict("records"):
-                lines.append(f"  {r['utc'][:10]:<11} {r['zone_time']:>5} ({r['utc'][11:]}) {r['body']:<10} "
-                             f"{r['zn_deg']:05.1f}° {r['hc_deg']:6.1f}°")
+                lines.append(f"  {r['zone_date']:<11} {r['zone_time']:>5} {zone_text(r['zone_description_h']):>3} "
+                             f"({r['utc'][11:]}) {r['body']:<10} {r['zn_deg']:05.1f}° {r['hc_deg']:6.1f}°")
         return lines
 
     def document(self, valid: str | None = None):
@@ -81,14 +92,16 @@ class WatchAzimuths:
         from ..io.printed import Document, Page, Table, Text
         from ..timescales import instants
 
-        rises = Table(("Date", "Event", "visible (zone)", "centre on horizon (zone)", "centre (UTC)", "amplitude",
-                       "true Zn"),
-                      tuple((r["date"], r["event"], r["visible_zone_time"], r["amplitude_zone_time"],
-                             r["amplitude_utc"][11:], r["amplitude"], r["zn"]) for r in self.risings.to_dict("records")),
+        rises = Table(("Zone date", "ZD", "Event", "visible (zone)", "centre on horizon (zone)", "centre (UTC)",
+                       "amplitude", "true Zn"),
+                      tuple((r["date"], zone_text(r["zone_description_h"]), r["event"], r["visible_zone_time"],
+                             r["amplitude_zone_time"], r["amplitude_utc"][11:], r["amplitude"], r["zn"])
+                            for r in self.risings.to_dict("records")),
                       title="Sunrise and sunset: the true amplitude", font_size=7.6,
-                      widths=(0.9, 0.6, 0.9, 1.4, 0.6, 0.9, 0.7))
-        sun = Table(("Date", "zone time", "UTC", "Sun Zn", "Hc"),
-                    tuple((r["utc"][:10], r["zone_time"], r["utc"][11:], f"{r['zn_deg']:05.1f}", dm(r["hc_deg"], "signed"))
+                      widths=(0.9, 0.4, 0.6, 0.9, 1.4, 0.6, 0.9, 0.7))
+        sun = Table(("Zone date", "zone time", "ZD", "UTC", "Sun Zn", "Hc"),
+                    tuple((r["zone_date"], r["zone_time"], zone_text(r["zone_description_h"]), r["utc"][11:],
+                           f"{r['zn_deg']:05.1f}", dm(r["hc_deg"], "signed"))
                           for r in self.sun.to_dict("records")),
                     title=f"The Sun's true azimuth every {self.step_minutes:g} minutes", font_size=7.6, compact=True,
                     width_fraction=0.6, shade_every=3)
@@ -97,8 +110,9 @@ class WatchAzimuths:
                        "less). Log each with the ship's heading: navred compass-book works them out.", "small"),
                   rises, sun]
         if len(self.twilight):
-            blocks.append(Table(("Date", "zone time", "UTC", "body", "Zn", "Hc"),
-                                tuple((r["utc"][:10], r["zone_time"], r["utc"][11:], r["body"], f"{r['zn_deg']:05.1f}",
+            blocks.append(Table(("Zone date", "zone time", "ZD", "UTC", "body", "Zn", "Hc"),
+                                tuple((r["zone_date"], r["zone_time"], zone_text(r["zone_description_h"]),
+                                       r["utc"][11:], r["body"], f"{r['zn_deg']:05.1f}",
                                        dm(r["hc_deg"], "signed")) for r in self.twilight.to_dict("records")),
                                 title="At twilight: a bright body low enough for a compass bearing", font_size=7.6,
                                 compact=True, width_fraction=0.7))
@@ -120,9 +134,9 @@ def watch_azimuths(first_date: object, days: int, lat_deg: float, lon_deg: float
     found: Amplitudes = amplitudes(events)
     step = np.timedelta64(int(round(step_minutes * NS_PER_MINUTE)), "ns")
     for d in range(len(events["date"])):
-        date = events["date"][d]
-        noon_lon = float(track.position(np.array([events["meridian_passage"][d]]))[1][0])
-        zd = zone_for(noon_lon, zone_description_h)
+        def zone(when):  # each instant's own zone: the DR's then (or the one given)
+            return float(zone_at(when, track, zone_description_h)[0])
+
         for event, visible, when, amplitude, zn in (
                 ("sunrise", events["sunrise"][d], found.rising_utc[d], found.rising_amplitude_deg[d],
                  found.rising_zn_deg[d]),
@@ -130,7 +144,8 @@ def watch_azimuths(first_date: object, days: int, lat_deg: float, lon_deg: float
                  found.setting_zn_deg[d])):
             if np.isnat(when):
                 continue
-            rise_rows.append({"date": str(date), "event": event, "zone_description_h": zd,
+            zd = zone(when)
+            rise_rows.append({"date": str(zone_date(when, zd)), "event": event, "zone_description_h": zd,
                               "visible_utc": str(to_minute(visible))[:16].replace("T", " ")
                               if not np.isnat(visible) else "",
                               "visible_zone_time": hm(zone_time(visible, zd)) if not np.isnat(visible) else "",
@@ -145,8 +160,10 @@ def watch_azimuths(first_date: object, days: int, lat_deg: float, lon_deg: float
         first = _ceil(start, step)
         times, zn, hc = azimuth_table(["Sun"], track, first, end, step_minutes)
         for t, z, h in zip(times, zn[0], hc[0]):
-            sun_rows.append({"utc": str(np.datetime64(t, "m")).replace("T", " "), "zone_time": hm(zone_time(t, zd)),
-                             "zone_description_h": zd, "zn_deg": float(z), "hc_deg": float(h)})
+            zd = zone(t)
+            sun_rows.append({"utc": str(np.datetime64(t, "m")).replace("T", " "), "zone_date": str(zone_date(t, zd)),
+                             "zone_time": hm(zone_time(t, zd)), "zone_description_h": zd, "zn_deg": float(z),
+                             "hc_deg": float(h)})
         for begin, finish in ((events["nautical_dawn"][d], events["civil_dawn"][d]),
                               (events["civil_dusk"][d], events["nautical_dusk"][d])):
             if np.isnat(begin) or np.isnat(finish):
@@ -157,7 +174,8 @@ def watch_azimuths(first_date: object, days: int, lat_deg: float, lon_deg: float
                 continue
             times, zn, hc = azimuth_table([body[0]], track, _ceil(begin, step), finish, step_minutes)
             for t, z, h in zip(times, zn[0], hc[0]):
-                twilight_rows.append({"utc": str(np.datetime64(t, "m")).replace("T", " "),
+                zd = zone(t)
+                twilight_rows.append({"utc": str(np.datetime64(t, "m")).replace("T", " "), "zone_date": str(zone_date(t, zd)),
                                       "zone_time": hm(zone_time(t, zd)), "zone_description_h": zd, "body": body[0],
                                       "zn_deg": float(z), "hc_deg": float(h)})
     first = str(np.datetime64(str(first_date), "D"))

@@ -20,7 +20,7 @@ from ..fix import FixResult, fix_from_sights, fixes_from_sights
 from ..series import SIGMAS, THRESHOLD_ARCMIN, check_series, series_ids
 from ..status import SightStatus
 from ..timescales import Instant
-from ..vocabulary import DR_AGE_COLUMN
+from ..vocabulary import CURRENT_DRIFT_COLUMN, CURRENT_SET_COLUMN, DR_AGE_COLUMN
 from .zoneslips import name_zone_slips
 
 
@@ -143,8 +143,8 @@ def fix_position(reduced: pd.DataFrame, at_utc: Instant | None = None, *, group:
         reduced["ho_deg"].to_numpy(dtype=float), utc64(reduced["sight_utc"]),
         reduced["dr_lat_deg"].to_numpy(dtype=float), reduced["dr_lon_deg"].to_numpy(dtype=float),
         usable=usable, course_deg=column("course_deg", course_deg), speed_kn=column("speed_kn", speed_kn),
-        at_utc=at_utc, chart_lat=chart_lat, chart_lon=chart_lon, solve_motion=solve_motion, set_deg=set_deg,
-        drift_kn=drift_kn, labels=row_labels(reduced, several=several), **_per_sight(reduced))
+        at_utc=at_utc, chart_lat=chart_lat, chart_lon=chart_lon, solve_motion=solve_motion,
+        labels=row_labels(reduced, several=several), **_per_sight(reduced, set_deg, drift_kn))
 
 
 #: The columns of a table of fixes (``navred fix --csv``, :meth:`GroupedFixes.table`), one row per fix group,
@@ -279,8 +279,8 @@ def fix_positions(reduced: pd.DataFrame, at_utc: Instant | Mapping[str, Instant]
         reduced["ho_deg"].to_numpy(dtype=float), utc64(reduced["sight_utc"]),
         reduced["dr_lat_deg"].to_numpy(dtype=float), reduced["dr_lon_deg"].to_numpy(dtype=float), group,
         usable=usable, course_deg=column("course_deg", course_deg), speed_kn=column("speed_kn", speed_kn),
-        at_utc=at_utc, chart_lat=chart_lat, chart_lon=chart_lon, solve_motion=solve_motion, set_deg=set_deg,
-        drift_kn=drift_kn, labels=labels, **_per_sight(reduced))
+        at_utc=at_utc, chart_lat=chart_lat, chart_lon=chart_lon, solve_motion=solve_motion,
+        labels=labels, **_per_sight(reduced, set_deg, drift_kn))
     name_zone_slips(batch.results, reduced, group)
     results = {name: batch.results[k] for k, name in enumerate(chosen) if batch.results[k] is not None}
     problems = {name: batch.problems[k] for k, name in enumerate(chosen) if batch.results[k] is None}
@@ -290,13 +290,20 @@ def fix_positions(reduced: pd.DataFrame, at_utc: Instant | Mapping[str, Instant]
     return GroupedFixes(tuple(chosen), results, problems, rows)
 
 
-def _per_sight(reduced: pd.DataFrame) -> dict:
+def _per_sight(reduced: pd.DataFrame, set_deg: float | None, drift_kn: float | None) -> dict:
     """What the fix takes per sight beside the lines when the table holds it, as the commands give it: the Hs as
-    read (the check for degrees and minutes written as a decimal), each sight's own σ (its weight) and its DR's
-    age (``dr_age_h``, from reduce_sights or process_log: the check of the fix against its DR)."""
-    out = {name: reduced[name].to_numpy(dtype=float) if name in reduced.columns else None
-           for name in ("hs_deg", "sigma_arcmin")}
-    out["dr_age_hours"] = reduced[DR_AGE_COLUMN].to_numpy(dtype=float) if DR_AGE_COLUMN in reduced.columns else None
+    read (the check for degrees and minutes written as a decimal), each sight's own σ (its weight), a landmark
+    line's σ, its DR's age (``dr_age_h``, from reduce_sights or process_log: the check of the fix against its DR)
+    and the current the log's DR keeps at it (``current_set_deg``, ``current_drift_kn``), unless the caller gives
+    one current for all (``set_deg``, ``drift_kn``)."""
+    def column(name):
+        return reduced[name].to_numpy(dtype=float) if name in reduced.columns else None
+
+    out = {name: column(name) for name in ("hs_deg", "sigma_arcmin", "line_sigma_nm")}
+    out["dr_age_hours"] = column(DR_AGE_COLUMN)
+    if set_deg is None and drift_kn is None and column(CURRENT_DRIFT_COLUMN) is not None:
+        set_deg, drift_kn = column(CURRENT_SET_COLUMN), column(CURRENT_DRIFT_COLUMN)
+    out["set_deg"], out["drift_kn"] = set_deg, drift_kn
     return out
 
 

@@ -51,7 +51,6 @@ from ..handtables import (
 )
 from ..io.cautions import CAUTION
 from ..io.printed import Document, Drawing, Page, Side, Table, Text
-from ..presets import RATE_MINUTES
 from ..sightplan import track_twilight_plans
 from .bridge import (
     NoonSun,
@@ -268,9 +267,9 @@ def _cover(first, last, days, dr: PassageDR, eye_height_m, index_error_arcmin, z
         Text("Accuracy", "subheading"),
         Text("Printed values are rounded to 0.1′. Interpolated as above they agree with an independent "
              "ephemeris within 0.1′ for the Sun, Aries, the planets and the stars, and 0.3′ for the Moon. The "
-             "precomputed Hc and Zn are for the DR position printed with them; the change per minute is the "
-             "mean over the ten minutes after the planned time, and the page says for how many minutes it "
-             "holds within 0.5′."),
+             "precomputed Hc and Zn are for the DR position printed with them; the change per minute and the "
+             "bend are centred on the planned time (from the altitudes ten minutes before, at and after it), "
+             "and the page says for how many minutes either way they hold within 0.5′."),
     )
     return Page("Passage paper: the backup for hand reduction", blocks)
 
@@ -484,28 +483,35 @@ def _twilight_table(twilight: PlannedTwilight, name: str) -> Table:
             limb += " (horns up and down)"
         rows.append((str(p.body[i]), "●" if twilight.plan.recommended[i] else "", dm(p.hs_deg[i], "signed"), limb,
                      dm(p.hc_deg[i], "signed"), f"{p.zn_deg[i]:05.1f}", signed(p.hc_rate_arcmin_per_min[i], 2),
-                     signed(p.zn_rate_deg_per_min[i], 2), f"{good}" + ("" if good >= RATE_MINUTES else ", then formulas"),
+                     signed(p.hc_bend_arcmin_per_min2[i], 3), signed(p.zn_rate_deg_per_min[i], 2),
+                     f"±{good}" if good > 0 else "do not use: formulas",
                      signed(twilight.plan.magnitude[i])))
-    return Table(("Body", "set", "Hs to preset", "limb", "Hc", "Zn °", "Hc ′/min", "Zn °/min", "holds min", "mag"),
+    return Table(("Body", "set", "Hs to preset", "limb", "Hc", "Zn °", "Hc ′/min", "bend ′/min²", "Zn °/min",
+                  "holds min", "mag"),
                  tuple(rows), name=name,
                  csv_columns=("body", "recommended", "hs_preset", "limb", "hc", "zn_deg", "hc_change_arcmin_per_min",
-                              "zn_change_deg_per_min", "rate_holds_minutes", "magnitude"),
-                 widths=(1.3, 0.35, 1.0, 0.9, 1.0, 0.6, 0.7, 0.7, 1.05, 0.5), font_size=7.2, left_columns=2,
+                              "hc_bend_arcmin_per_min2", "zn_change_deg_per_min", "rate_holds_minutes", "magnitude"),
+                 widths=(1.25, 0.3, 0.95, 0.85, 0.95, 0.55, 0.65, 0.7, 0.65, 0.85, 0.45), font_size=7.0, left_columns=2,
                  compact=True)
 
 
 def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
     pages = []
-    by_date = {}
+    # each round on the page of its own day: the day whose noon is nearest it (a local date comes twice when she
+    # crosses the date line eastbound, so the date alone does not tell the days apart)
+    by_day: dict[int, list] = {}
+    noon_ns = np.array([n.utc for n in noons], dtype="datetime64[ns]").astype(np.int64)
     for twilight in twilights:
-        by_date.setdefault(str(twilight.label.split(", ", 1)[1]), []).append(twilight)
-    for noon in noons:
+        if noon_ns.size:
+            day = int(np.argmin(np.abs(noon_ns - np.datetime64(twilight.presets.utc, "ns").astype(np.int64))))
+            by_day.setdefault(day, []).append(twilight)
+    for n, noon in enumerate(noons):
         label = long_date(noon.date)
         blocks = []
-        held = {twilight.kind for twilight in by_date.get(label, [])}
+        held = {twilight.kind for twilight in by_day.get(n, [])}
         if "Morning twilight" not in held:
             blocks.append(_no_round("morning", events, noon))
-        for twilight in by_date.get(label, []):
+        for twilight in by_day.get(n, []):
             p = twilight.presets
             zd = twilight.zone_h
             zone_time = p.utc - np.timedelta64(int(zd * 60), "m")
@@ -516,10 +522,10 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
                      twilight.nautical < twilight.civil else
                      f"Civil twilight {hm(twilight.civil)} UTC, nautical {hm(twilight.nautical)} UTC")
             blocks.append(Text(f"{times}. For a "
-                               f"sight m minutes after {hm(p.utc)} UTC: Hc = Hc + m × (Hc ′/min), Zn = Zn + m × "
-                               "(Zn °/min), within 0.5′ for the minutes the rate holds (later, work it by the formulas "
-                               "page). Only after the planned time: for a sight before it, work it by the formulas "
-                               "page (the rate is the ten minutes after). Plot every line from the DR above "
+                               f"sight m minutes after {hm(p.utc)} UTC (m negative before it): Hc = Hc + m × "
+                               "(Hc ′/min + m × bend), Zn = Zn + m × (Zn °/min), within 0.5′ for as many minutes "
+                               "before or after as 'holds' says (±20: 20 minutes either way; further off, or 'do not "
+                               "use', work it by the formulas page). Plot every line from the DR above "
                                "and move it for the ship's run. Hs to preset: Hc with dip, refraction, SD, "
                                "parallax and index error taken back off. ● the recommended set.", "small"))
             stamp = str(p.utc.astype("datetime64[m]")).replace(":", "").replace("T", "-")
@@ -533,7 +539,9 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
                            f"{dm(noon.dec_deg, 'dec')}; Hc {dm(noon.hc_deg, 'signed')}, bearing {noon.bearing}; Hs to "
                            f"preset (lower limb) {dm(noon.hs_deg, 'signed')}. Start a few minutes early, follow it up "
                            "and take the highest reading; latitude = Dec ± (90° − Ho) (The noon Sun page).", "body"))
-        pages.append(Page(f"Sights for {label}", tuple(blocks)))
+        again = n > 0 and noons[n - 1].date == noon.date  # eastbound over the date line the ship's date repeats
+        pages.append(Page(f"Sights for {label}" + (" (the date again: over the date line)" if again else ""),
+                          tuple(blocks)))
     return pages
 
 
@@ -658,7 +666,7 @@ def _worked_sight(twilights, hourly, stars, eye_height_m, index_error_arcmin) ->
     star = str(p.body[i])
     late_s = 5 * 60 + 43  # taken 5 min 43 s after the planned time, reading 2.3′ above what the page predicts
     when = p.utc + np.timedelta64(late_s, "s")
-    hs = float(p.hs_deg[i]) + (late_s / 60.0 * float(p.hc_rate_arcmin_per_min[i]) + 2.3) / ARCMIN_PER_DEG
+    hs = float(p.hs_deg[i]) + (float(p.hc_at_deg(late_s / 60.0)[i] - p.hc_deg[i]) * ARCMIN_PER_DEG + 2.3) / ARCMIN_PER_DEG
     hs = round(hs * 600) / 600
     date = when.astype("datetime64[D]")
     block = next(b for b in stars if b.first <= date <= b.last)
@@ -688,6 +696,7 @@ def _worked_sight(twilights, hourly, stars, eye_height_m, index_error_arcmin) ->
     stamp = str(when.astype("datetime64[s]")).replace("T", " ")
     # the sight page's check, worked from its printed (rounded) Hc and rate as a navigator would
     page_hc, page_rate = round(float(p.hc_deg[i]) * 600.0) / 600.0, round(float(p.hc_rate_arcmin_per_min[i]), 2)
+    page_bend, m = round(float(p.hc_bend_arcmin_per_min2[i]), 3), round(late_s / 60, 2)
     return [
         f"{star}, {stamp} UTC, Hs {dm(hs, 'signed')}, index error {abs(index_error_arcmin):.1f}′"
         f"{' on the arc' if index_error_arcmin > 0 else ' off the arc' if index_error_arcmin < 0 else ''}, eye "
@@ -699,8 +708,8 @@ def _worked_sight(twilights, hourly, stars, eye_height_m, index_error_arcmin) ->
         f"sin Hc = sin({lat:.4f}) sin({dec:.4f}) + cos({lat:.4f}) cos({dec:.4f}) cos({lha:.4f}) = {sin_hc:.5f}",
         f"Hc {dm(hc, 'signed')};  cos Z = {signed(cos_z, 5)}, Z {z:.1f}°, Zn {zn:05.1f}°",
         f"intercept {abs(intercept):.1f} nm {'toward' if intercept >= 0 else 'away'}  (check by the sight page: Hc "
-        f"{dm(page_hc, 'signed')} + {late_s / 60:.2f} min × {signed(page_rate, 2)}′ = "
-        f"{dm(page_hc + round(round(late_s / 60, 2) * page_rate, 1) / ARCMIN_PER_DEG, 'signed')})",
+        f"{dm(page_hc, 'signed')} + {m:.2f} × ({signed(page_rate, 2)}′ + {m:.2f} × {signed(page_bend, 3)}′) = "
+        f"{dm(page_hc + round(m * (page_rate + m * page_bend), 1) / ARCMIN_PER_DEG, 'signed')})",
     ]
 
 

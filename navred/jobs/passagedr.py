@@ -118,7 +118,7 @@ def route_passage_dr(first: np.datetime64, route, speed_kn: float, depart: objec
     with a zone; default 00:00 local time of the first date there)."""
     from ..io.waypoints import Waypoints, read_waypoints
     from ..timescales import utc_datetime64
-    from .routes import route_dr
+    from .routes import route_dr, route_remarks
 
     points = route if isinstance(route, Waypoints) else read_waypoints(route)
     check_position(float(points.lat_deg[0]), float(points.lon_deg[0]))
@@ -142,7 +142,8 @@ def route_passage_dr(first: np.datetime64, route, speed_kn: float, depart: objec
                "and reprint when she falls behind.")
     start = track_local_midnight(first, dr.track)
     end = start + np.timedelta64(days * 24 * NS_PER_HOUR, "ns")
-    warned: list[str] = []
+    warned: list[str] = [_warn(f"route {points.source}: {remark}")
+                         for remark in route_remarks(dr.lat_deg, dr.lon_deg, dr.names)]
     if dr.eta[0] >= end:
         warned.append(_warn(
             f"she leaves {dr.names[0]} at {_utc(dr.eta[0].astype(np.int64))} UTC, after the paper's last day: "

@@ -63,9 +63,13 @@ class Route:
                  f"final course {self.final_course_deg:05.1f}°; {saving:.1f} nm shorter "
                  f"({100 * saving / self.rhumb_nm if self.rhumb_nm else 0:.1f} %)"]
         if self.vertex is not None:
-            where = (f"on the route, {self.vertex_from_start_nm:.1f} nm from the start" if self.vertex_on_route
-                     else "beyond the route: the highest latitude is at an end")
-            lines.append(f"vertex: {pos(self.vertex)} ({where})")
+            if self.vertex_on_route:
+                lines.append(f"vertex: {pos(self.vertex)} (on the route, {self.vertex_from_start_nm:.1f} nm from "
+                             "the start)")
+            else:  # the great circle's vertex lies off this passage: its position does not matter to her
+                high = self.start if abs(self.start[0]) >= abs(self.end[0]) else self.end
+                lines.append(f"no vertex on the route: its highest latitude is at "
+                             f"{'the start' if high is self.start else 'the destination'} ({format_angle(high[0], 'lat')})")
         if self.composite is not None:
             c = self.composite
             if c["kind"] == "composite":
@@ -214,6 +218,75 @@ def route_dr(lat_deg, lon_deg, depart_utc: object, speed_kn: float, *, since: ob
                    track)
 
 
+#: A leg is remarked when it is this many times the route's median leg (three legs or more), and over LONG_LEG_NM.
+LONG_LEG_FACTOR, LONG_LEG_NM = 6.0, 300.0
+#: Adjacent waypoints whose longitudes change from E to W (or W to E) with both at least this far from 0° and
+#: from 180° are remarked: a sign forgotten in a route written by hand puts a leg across a continent.
+SIGN_FLIP_DEG = 10.0
+
+
+def route_remarks(lat_deg, lon_deg, names: tuple[str, ...] = ()) -> list[str]:
+    """What looks wrong in a route written by hand, each naming its waypoints: a leg far longer than its
+    neighbours (a waypoint she goes out to and back from, its two legs more than half :data:`LONG_LEG_FACTOR`
+    times the leg that skips it and :data:`LONG_LEG_NM` longer; or one leg more than :data:`LONG_LEG_FACTOR`
+    times the route's median leg and over :data:`LONG_LEG_NM`), and
+    adjacent waypoints whose longitude changes sign far from 0° and 180° (both at least :data:`SIGN_FLIP_DEG`
+    from them), with the leg it would be with that sign turned. Nothing is changed: the route is sailed as
+    written."""
+    lat = np.atleast_1d(np.asarray(lat_deg, dtype=float))
+    lon = np.atleast_1d(np.asarray(lon_deg, dtype=float))
+    if lat.size < 2:
+        return []
+    distance = np.atleast_1d(rhumb_inverse(lat[:-1], lon[:-1], lat[1:], lon[1:])[0])
+    remarks = []
+
+    def leg(k):
+        return (f"{_name(names, k)} ({format_angle(lat[k], 'lat')} {format_angle(lon[k], 'lon')}) to "
+                f"{_name(names, k + 1)} ({format_angle(lat[k + 1], 'lat')} {format_angle(lon[k + 1], 'lon')})")
+
+    flips = [k for k in range(distance.size) if lon[k] * lon[k + 1] < 0 and min(
+        abs(lon[k]), abs(lon[k + 1]), 180.0 - abs(lon[k]), 180.0 - abs(lon[k + 1])) >= SIGN_FLIP_DEG]
+    # a waypoint she goes far out to and comes back from: its two legs much longer than the leg that skips it
+    named = set()
+    for i in range(1, lat.size - 1):
+        if i - 1 in flips and i in flips:  # said below: its longitude's sign
+            named.update((i - 1, i))
+            continue
+        skip = float(rhumb_inverse(lat[i - 1], lon[i - 1], lat[i + 1], lon[i + 1])[0])
+        both = float(distance[i - 1] + distance[i])
+        if both - skip > LONG_LEG_NM and both > LONG_LEG_FACTOR / 2.0 * max(skip, 1.0):
+            named.update((i - 1, i))
+            remarks.append(f"{_name(names, i)} ({format_angle(lat[i], 'lat')} {format_angle(lon[i], 'lon')}) takes "
+                           f"her {both:,.0f} nm out and back where the leg past it is {skip:,.0f} nm: check its "
+                           "position (a latitude's N/S or a longitude's E/W)")
+    if distance.size >= 3:
+        usual = float(np.median(distance))
+        for k in range(distance.size):
+            if k not in named and k not in flips and distance[k] > LONG_LEG_NM and distance[k] > LONG_LEG_FACTOR * usual:
+                remarks.append(f"the leg {leg(k)} is {distance[k]:,.0f} nm, {distance[k] / usual:.0f} times the "
+                               f"route's median leg ({usual:,.0f} nm): check both positions (a longitude's E/W or a "
+                               "latitude's N/S)")
+    done = set()
+    for k in flips:
+        if k in done:
+            continue
+        if k + 1 in flips:  # one waypoint whose longitude differs in sign from both its neighbours
+            i = k + 1
+            done.add(k + 1)
+            turned = float(np.sum(rhumb_inverse(lat[i - 1:i + 1:1], np.array([lon[i - 1], -lon[i]]),
+                                                lat[i:i + 2], np.array([-lon[i], lon[i + 1]]))[0]))
+            remarks.append(f"{_name(names, i)}'s longitude {format_angle(lon[i], 'lon')} is {'E' if lon[i] > 0 else 'W'} "
+                           f"between two {'W' if lon[i] > 0 else 'E'} ones, far from 0° and 180° (the legs {leg(i - 1)} "
+                           f"and on to {_name(names, i + 1)}: {distance[i - 1] + distance[i]:,.0f} nm; with it "
+                           f"{'W' if lon[i] > 0 else 'E'}, {turned:,.0f} nm): was an E or W forgotten?")
+            continue
+        turned = float(rhumb_inverse(lat[k], lon[k], lat[k + 1], -lon[k + 1])[0])
+        remarks.append(f"the longitude changes from {'E' if lon[k] > 0 else 'W'} to {'E' if lon[k + 1] > 0 else 'W'} "
+                       f"far from 0° and 180° on the leg {leg(k)} ({distance[k]:,.0f} nm; with one of the two "
+                       f"the other way, {turned:,.0f} nm): was an E or W forgotten?")
+    return remarks
+
+
 def _name(names: tuple[str, ...], k: int) -> str:
     return names[k] if k < len(names) and names[k] else f"WP{k:03d}"
 
@@ -244,4 +317,4 @@ def route_geojson(route: Route, path: str | Path) -> Path:
     return write_geojson(path, features)
 
 
-__all__ = ["Route", "RouteDR", "route_dr", "plan_route", "route_gpx", "route_geojson", "WAYPOINT_COLUMNS", "MAX_WAYPOINTS"]
+__all__ = ["Route", "RouteDR", "route_dr", "route_remarks", "plan_route", "route_gpx", "route_geojson", "WAYPOINT_COLUMNS", "MAX_WAYPOINTS"]

@@ -21,11 +21,12 @@ at their time (the Day's work's exercises table).
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
 from ..errors import NavredError
+from ..io.logbook import SightLog
 from ..status import SightStatus
 
 #: Fixes by different observers within this many minutes of one another are one round (a watch's star round).
@@ -164,5 +165,40 @@ def weighted_mean_position(lat_deg: np.ndarray, lon_deg: np.ndarray, cov_nm2: np
     return float(lat), float(lon), total
 
 
-__all__ = ["ShipsSights", "ships_sights", "check_navigators", "combined_rounds", "weighted_mean_position",
-           "ROUND_MINUTES", "SHIP", "EXERCISE"]
+def split_mixed_groups(log: SightLog, navigators: tuple[str, ...] = ()) -> SightLog:
+    """A fix group that holds the ship's sights (the navigators', or rows marked ship) and another observer's is
+    split by observer: the others' rows become a group of their own, '<group> (<observer>)', so that no exercise
+    sight ever enters the ship's position; a note names each group split. Nothing changes when no navigator is
+    named and no row carries a role."""
+    table = log.table
+    if not len(table) or "observer" not in table.columns:
+        return log
+    roles = table["role"].fillna("").astype(str).to_numpy(dtype=object) if "role" in table.columns \
+        else np.full(len(table), "", dtype=object)
+    if not navigators and not (roles != "").any():
+        return log
+    observers = table["observer"].fillna("").astype(str).to_numpy(dtype=object)
+    groups = table["fix_group"].fillna("").astype(str).to_numpy(dtype=object)
+    keeper = np.where(roles != "", roles == "ship", np.isin(observers, list(navigators)))
+    renamed = groups.copy()
+    notes = []
+    for name in dict.fromkeys(groups[groups != ""].tolist()):
+        rows = np.flatnonzero(groups == name)
+        if not keeper[rows].any() or keeper[rows].all():
+            continue
+        others = rows[~keeper[rows]]
+        for who in dict.fromkeys(observers[others].tolist()):
+            mine = others[observers[others] == who]
+            renamed[mine] = f"{name} ({who or 'no observer'})"
+        ship_names = ", ".join(sorted({o for o in observers[rows[keeper[rows]]].tolist() if o})) or "the ship"
+        other_names = ", ".join(sorted({o or "no observer" for o in observers[others].tolist()}))
+        notes.append(f"fix group {name} held the sights of {ship_names} and of {other_names}: split by observer, the "
+                     f"ship's fix from {ship_names}'s sights alone, the others' an exercise of their own "
+                     f"({', '.join(sorted({renamed[k] for k in others.tolist()}))})")
+    if not notes:
+        return log
+    return replace(log, table=table.assign(fix_group=renamed), notes=tuple(dict.fromkeys([*log.notes, *notes])))
+
+
+__all__ = ["split_mixed_groups", "ShipsSights", "ships_sights", "check_navigators", "combined_rounds",
+           "weighted_mean_position", "ROUND_MINUTES", "SHIP", "EXERCISE"]

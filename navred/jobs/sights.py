@@ -38,7 +38,10 @@ from ..triangle import (
     intercept_direction,
     intercept_nm,
 )
-from ..vocabulary import DR_AGE_COLUMN, RESULT_COLUMNS  # the columns reduce_sights adds, in order
+from ..vocabulary import (  # the columns reduce_sights adds, in order
+    DR_CONTEXT_COLUMNS,
+    RESULT_COLUMNS,
+)
 from .zoneslips import zone_sign_suspects
 
 #: A mark farther than this from the DR is not one a bearing is taken of (nautical miles; common practice: a
@@ -125,26 +128,33 @@ def reduce_sights(sights: SightLog | LogSource) -> pd.DataFrame:
     log = sights if isinstance(sights, SightLog) else None
     if log is None and not (isinstance(sights, pd.DataFrame) and _is_parsed(sights)):
         log = read_sight_log(sights)
+    if log is not None:  # a fix group mixing the ship's sights and an exercise's is split, as the commands split it
+        from .shipsfixes import split_mixed_groups
+
+        log = split_mixed_groups(log)
     table = (log.table if log is not None else parsed_sights(sights)).reset_index(drop=True)
     added = pd.concat([_reduce_block(table.iloc[i:i + BLOCK_ROWS].reset_index(drop=True))
                        for i in range(0, max(len(table), 1), BLOCK_ROWS)], ignore_index=True)
-    carried = table.drop(columns=[c for c in (*RESULT_COLUMNS, DR_AGE_COLUMN) if c in table.columns])
+    carried = table.drop(columns=[c for c in (*RESULT_COLUMNS, *DR_CONTEXT_COLUMNS) if c in table.columns])
     out = pd.concat([carried, added], axis=1)
-    out[DR_AGE_COLUMN] = _dr_ages(log, out)
+    for column, values in zip(DR_CONTEXT_COLUMNS, _dr_context(log, out)):
+        out[column] = values
     return out
 
 
-def _dr_ages(log: SightLog | None, reduced: pd.DataFrame) -> np.ndarray:
-    """Each sight's DR's age (hours) from the log's known positions, as :func:`navred.process_log` dates it
-    before any fix (:func:`navred.jobs.drcontext.dr_context`); NaN where the log does not say (a table already
-    parsed, whose entry rows are not at hand)."""
+def _dr_context(log: SightLog | None, reduced: pd.DataFrame) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Each sight's DR's age (hours) from the log's known positions and the current in force at it (set, drift)
+    from the log's current entries, as :func:`navred.process_log` takes them before any fix
+    (:func:`navred.jobs.drcontext.dr_context`); an age NaN and no current where the log does not say (a table
+    already parsed, whose entry rows are not at hand)."""
     if log is None or not len(reduced):
-        return np.full(len(reduced), np.nan)
+        return np.full(len(reduced), np.nan), np.zeros(len(reduced)), np.zeros(len(reduced))
     from .drcontext import (
         dr_context,  # the DR's track is the day's work's, which reads the reduced table
     )
 
-    return dr_context(log, reduced, [])["age_h"]
+    context = dr_context(log, reduced, [])
+    return context["age_h"], context["set_deg"], context["drift_kn"]
 
 
 #: rows of a long DataFrame log read and reduced at a time (:func:`navred.io.logbook.frame_blocks`)

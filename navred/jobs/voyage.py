@@ -33,9 +33,10 @@ from ..reckoning import PAST_POLE
 from ..sightplan import SightPlan
 from ..status import SightStatus
 from ..timescales import Instant, iers_table, leap_second_table
-from ..vocabulary import DR_AGE_COLUMN
+from ..vocabulary import CURRENT_DRIFT_COLUMN, CURRENT_SET_COLUMN, DR_AGE_COLUMN
 from .drcontext import dr_context
 from .frames import row_labels, series_columns, utc64
+from .shipsfixes import split_mixed_groups
 from .sights import reduce_sights
 from .zoneslips import name_zone_slips
 
@@ -196,6 +197,7 @@ def process_log(source: LogSource | SightLog, *, dates: str | None = None, solve
                                                          navigators, solve_motion=solve_motion, at_utc=at_utc)
     if len(reduced):  # the DR's age each fix took, in the table, for the API to take the same (fix_positions)
         reduced[DR_AGE_COLUMN] = context["age_h"]
+        reduced[CURRENT_SET_COLUMN], reduced[CURRENT_DRIFT_COLUMN] = context["set_deg"], context["drift_kn"]
     rejected = _rejected(log, reduced)
     usable = reduced.status.to_numpy() != SightStatus.ERROR if len(reduced) else np.zeros(0, dtype=bool)
     table = iers_table()
@@ -229,43 +231,6 @@ def process_log(source: LogSource | SightLog, *, dates: str | None = None, solve
     vessel_plans = _vessel_plans(groups, reduced, next_plan) if plan else ()
     return VoyageResult(", ".join(log.sources), log, reduced, rejected, tuple(groups), provenance, next_plan, events,
                         carry_current, rates, context, navigators, route, vessel_plans=vessel_plans)
-
-
-def split_mixed_groups(log: SightLog, navigators: tuple[str, ...] = ()) -> SightLog:
-    """A fix group that holds the ship's sights (the navigators', or rows marked ship) and another observer's is
-    split by observer: the others' rows become a group of their own, '<group> (<observer>)', so that no exercise
-    sight ever enters the ship's position; a note names each group split. Nothing changes when no navigator is
-    named and no row carries a role."""
-    table = log.table
-    if not len(table) or "observer" not in table.columns:
-        return log
-    roles = table["role"].fillna("").astype(str).to_numpy(dtype=object) if "role" in table.columns \
-        else np.full(len(table), "", dtype=object)
-    if not navigators and not (roles != "").any():
-        return log
-    observers = table["observer"].fillna("").astype(str).to_numpy(dtype=object)
-    groups = table["fix_group"].fillna("").astype(str).to_numpy(dtype=object)
-    keeper = np.where(roles != "", roles == "ship", np.isin(observers, list(navigators)))
-    renamed = groups.copy()
-    notes = []
-    for name in dict.fromkeys(groups[groups != ""].tolist()):
-        rows = np.flatnonzero(groups == name)
-        if not keeper[rows].any() or keeper[rows].all():
-            continue
-        others = rows[~keeper[rows]]
-        for who in dict.fromkeys(observers[others].tolist()):
-            mine = others[observers[others] == who]
-            renamed[mine] = f"{name} ({who or 'no observer'})"
-        ship_names = ", ".join(sorted({o for o in observers[rows[keeper[rows]]].tolist() if o})) or "the ship"
-        other_names = ", ".join(sorted({o or "no observer" for o in observers[others].tolist()}))
-        notes.append(f"fix group {name} held the sights of {ship_names} and of {other_names}: split by observer, the "
-                     f"ship's fix from {ship_names}'s sights alone, the others' an exercise of their own "
-                     f"({', '.join(sorted({renamed[k] for k in others.tolist()}))})")
-    if not notes:
-        return log
-    from dataclasses import replace
-
-    return replace(log, table=table.assign(fix_group=renamed), notes=tuple(dict.fromkeys([*log.notes, *notes])))
 
 
 def _restart_dr_at_fixes(log: SightLog, reduced: pd.DataFrame, groups: list[GroupFix], progress, carry_current,

@@ -218,6 +218,42 @@ def test_bulk_angle_reading_never_reads_what_the_careful_parser_would_not():
     assert taken > 5_000  # the bulk path was exercised
 
 
+def test_plain_degrees_and_minutes_read_at_once_are_read_as_one_by_one():
+    # issue 26: texts written plainly ("33 06.7 S", "067 58.9") are read by numpy's string functions, all at
+    # once, and must give each text exactly what the careful one-by-one parser (parse_angle) gives, and take
+    # nothing it refuses; 8,000 seeded texts of that form, half of them mutated by a character put in, taken
+    # out or changed (a second space, a letter of the wrong kind, 60′ or more, a non-ASCII digit, a sign...)
+    from navred.angles import parse_angle, parse_angles_fast
+    from navred.errors import AngleInputError
+
+    rng = np.random.default_rng(26)
+    count = 8_000
+    degrees = [f"{d:0{w}d}" for d, w in zip(rng.integers(0, 400, count).tolist(), rng.integers(1, 4, count).tolist())]
+    minutes = [f"{m:0{4 + p}.{p}f}" if p else f"{int(m):02d}" for m, p in
+               zip(rng.uniform(0, 61, count).tolist(), rng.integers(0, 4, count).tolist())]
+    letters = np.array(list("NSEWnsewX") + [""], dtype=object)[rng.integers(0, 10, count)].tolist()
+    texts = [f"{d} {m} {h}" if h else f"{d} {m}" for d, m, h in zip(degrees, minutes, letters)]
+    pieces = list(" .-+,°′'0123456789NSEW\u0663\u00a0\t")
+    for k in np.flatnonzero(rng.random(count) < 0.5).tolist():
+        text, at = texts[k], int(rng.integers(0, len(texts[k]) + 1))
+        piece = pieces[int(rng.integers(0, len(pieces)))]
+        texts[k] = [text[:at] + piece + text[at:], text[:at] + text[at + 1:], text[:at] + piece + text[at + 1:]][
+            int(rng.integers(0, 3))]
+    taken = 0
+    for kind in ("lat", "lon", "angle", "signed", "dec"):
+        values, done = parse_angles_fast(texts, kind)
+        taken += int(done.sum())
+        for text, value, read in zip(texts, values.tolist(), done.tolist()):
+            try:
+                careful = parse_angle(text, kind)
+            except AngleInputError:
+                assert not read, f"{kind} {text!r} read at once as {value} but refused one by one"
+                continue
+            if read:
+                assert careful == value, (kind, text, careful, value)
+    assert taken > 3_000  # the plain form is taken at once
+
+
 def test_the_common_forms_are_read_in_bulk():
     # the forms of the demo logs and the fleet benchmark are all taken by the bulk reader
     from navred.angles import parse_angles_fast

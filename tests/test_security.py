@@ -877,3 +877,28 @@ def test_csv_text_is_what_pandas_writes_of_the_neutralised_table():
     assert csv_text(frame.iloc[:0]) == csv_safe(frame.iloc[:0]).to_csv(index=False, float_format="%.6f")
     fractions = frame.assign(when=pd.to_datetime(["2026-03-26T09:10:00.25Z"] * 8, utc=True))
     assert csv_text(fractions) == csv_safe(fractions).to_csv(index=False, float_format="%.6f")
+
+
+def test_csv_text_of_constant_and_few_valued_columns_is_what_pandas_writes():
+    # issue 26: a column holding one value is written as part of each row's form, and a column of few distinct
+    # numbers is formatted each distinct number once; the text must still be pandas' to_csv's (the general-purpose
+    # reference) of the neutralised table, -0.0 apart from 0.0, a gap empty, a % or a comma in a constant kept
+    import numpy as np
+    import pandas as pd
+
+    from navred.io.output import csv_safe, csv_text
+
+    n = 6000  # more rows than the first look at a column takes
+    rng = np.random.default_rng(26)
+    few = rng.choice([0.0, -0.0, 1.5, np.nan, 1e-7, -2.5e-7, 359.9999995], n)
+    frame = pd.DataFrame({
+        "one_text": ["10 % off, said he"] * n, "one_formula": ["=1+1"] * n, "one_float": [12.25] * n,
+        "one_gap_free": [-0.0] * n, "one_int": [7] * n, "one_flag": [True] * n, "few": few,
+        "many": rng.normal(0, 100, n), "rare_gaps": np.where(rng.random(n) < 0.01, np.nan, rng.random(n)),
+        "late_few": np.r_[np.zeros(4096), rng.normal(0, 1, n - 4096)],
+        "counts": rng.integers(0, 3, n), "words": rng.choice(["a", "b,c", 'd"e'], n),
+    })
+    for form in ("%.6f", "%.2f"):
+        assert csv_text(frame, float_format=form) == csv_safe(frame).to_csv(index=False, float_format=form)
+        assert csv_text(frame.iloc[:1], float_format=form) == csv_safe(frame.iloc[:1]).to_csv(index=False,
+                                                                                            float_format=form)

@@ -64,3 +64,80 @@ def test_shapes_broadcast():
     assert student_t_quantile([0.9, 0.975], 4).shape == (2,)
     assert chi_square_quantile(0.95, np.ones((2, 3))).shape == (2, 3)
     assert np.isnan(student_t_quantile(0.975, 0.0)) and np.isnan(chi_square_quantile(1.0, 3))
+
+
+def _halved_root(z2, lam, inside):
+    """The restricted likelihood's root as navred sought it before (80 halvings of (0, max z²]), kept here as
+    the previous answer the quicker search must give."""
+    def slope(v):
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            terms = (z2 - (v[:, None] + lam)) / (v[:, None] + lam) ** 2
+            return np.where(inside, np.nan_to_num(terms, nan=0.0, posinf=1e300), 0.0).sum(axis=1)
+
+    lo, hi = np.zeros(z2.shape[0]), np.max(z2, axis=1) + 1e-12
+    positive = slope(np.full(z2.shape[0], 1e-300)) > 0
+    for _ in range(80):
+        mid = (lo + hi) / 2.0
+        up = slope(mid) > 0
+        lo, hi = np.where(up, mid, lo), np.where(up, hi, mid)
+    return np.where(positive, (lo + hi) / 2.0, 0.0)
+
+
+def test_the_likelihood_root_is_the_halvings_and_scipys():
+    # issue 26: the sights' σ² of a round over a run (navred.fixstats.sight_variance) is the root of the restricted
+    # likelihood's slope (Patterson and Thompson 1971), now sought by bracketed Newton steps; per case (each number
+    # of components, each spread of the run's variances) it must be the 80 halvings' root to 1e-9, and the root
+    # scipy.optimize.brentq (a general-purpose reference library) finds where the slope changes sign once
+    from scipy.optimize import brentq
+
+    from navred.fixstats import likelihood_root
+
+    rng = np.random.default_rng(26)
+    for components in (1, 2, 3, 5, 8):
+        for run_scale in (0.0, 0.1, 1.0, 30.0, 1e4):
+            rows = 400
+            sigma2 = rng.uniform(0.05, 4.0, (rows, 1))
+            lam = run_scale * rng.exponential(1.0, (rows, components)) * (rng.random((rows, components)) < 0.8)
+            z2 = (sigma2 + lam) * rng.chisquare(1, (rows, components))
+            z2[:5] = 0.0  # no residual at all: σ² = 0
+            inside = rng.random((rows, components)) < 0.95
+            inside[:, 0] = True
+            found, halved = likelihood_root(z2, lam, inside), _halved_root(z2, lam, inside)
+            apart = np.abs(found - halved) > 1e-9 * np.abs(halved) + 1e-15 * (1.0 + np.max(z2, axis=1))
+            assert not apart.any(), (components, run_scale, found[apart][:3], halved[apart][:3])
+            assert (found[:5] == 0.0).all()
+            for k in np.flatnonzero(found > 0)[:12].tolist():
+                def slope(v, z=z2[k, inside[k]], run=lam[k, inside[k]]):
+                    return float(np.sum((z - (v + run)) / (v + run) ** 2))
+
+                grid = np.geomspace(1e-9, np.max(z2[k]) + 1e-12, 200)
+                if np.count_nonzero(np.diff(np.sign([slope(v) for v in grid]))) == 1:
+                    reference_root = brentq(slope, 1e-12, np.max(z2[k]) + 1e-12, xtol=1e-15, rtol=1e-14)
+                    assert found[k] == pytest.approx(reference_root, rel=1e-9, abs=1e-12)
+
+
+def test_the_blunder_tests_median_is_numpys_nanmedian():
+    # issue 26: the smallest blunder a fix finds is each group's median over its sights; navred takes it without
+    # numpy's masked-array path and must give numpy.nanmedian's value (the general-purpose reference) to the bit,
+    # per number of sights, gaps, infinities and huge values included
+    import warnings
+
+    from navred.fixstats import BLUNDER_ALPHA, BLUNDER_MIN_ARCMIN, blunder_test
+
+    rng = np.random.default_rng(26)
+    for sights in range(3, 13):
+        residual = rng.normal(0, 1, (300, sights))
+        leverage = rng.uniform(0, 0.9, (300, sights))
+        use = rng.random((300, sights)) < 0.85
+        dof = use.sum(axis=1) - 2.0
+        sigma = rng.uniform(0.1, 3, 300) * 10.0 ** rng.integers(-3, 200, 300)
+        *_, detectable = blunder_test(residual, leverage, use, dof, sigma)
+        testable = dof >= 2
+        n = np.maximum(use.sum(axis=1), 1)
+        critical = student_t_quantile(1.0 - BLUNDER_ALPHA / (2.0 * n), np.where(testable, dof - 1.0, 1.0))
+        per_sight = critical[:, None] * sigma[:, None] / np.sqrt(np.clip(1.0 - leverage, 1e-12, 1.0))
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", RuntimeWarning)
+            expected = np.nanmedian(np.where(use, per_sight, np.nan), axis=1)
+        expected = np.maximum(np.where(testable, expected, np.nan), BLUNDER_MIN_ARCMIN)
+        assert np.array_equal(detectable, expected, equal_nan=True), sights

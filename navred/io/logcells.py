@@ -246,12 +246,19 @@ def zoneless_utc(values: np.ndarray, ok: np.ndarray, dates: str | None) -> np.nd
     """Which cells of the utc column (read ``ok``) gave no zone: a spreadsheet date-time cell, or text with
     no Z or offset. Both are taken as UTC, as the column's name says; the log's notes say how many."""
     out = np.zeros(len(values), dtype=bool)
+    cells = values.to_numpy(dtype=object) if isinstance(values, pd.Series) else np.asarray(values, dtype=object)
+    seen: dict = {}  # each distinct text once
     for k in np.flatnonzero(ok).tolist():
-        value = values[k]
-        if isinstance(value, _dt.datetime):
+        value = cells[k]
+        if isinstance(value, str):
+            if value.endswith("Z"):  # (the ISO form ends in its zone: only the zone's group takes a letter)
+                continue
+            missing = seen.get(value)
+            if missing is None:
+                missing = seen[value] = iso_zone_missing(iso_instant_text(value.strip(), dates))
+            out[k] = missing
+        elif isinstance(value, _dt.datetime):
             out[k] = value.tzinfo is None
-        elif isinstance(value, str):
-            out[k] = iso_zone_missing(iso_instant_text(value.strip(), dates))
     return out
 
 
@@ -412,16 +419,13 @@ def _parse_fast(column, originals: list, unit) -> list:
     if kind is None:
         return [None] * len(originals)
     values, done = parse_angles_fast(originals, kind)
-    out: list = [None] * len(originals)
-    for k in np.flatnonzero(done).tolist():
-        number = float(values[k])
-        if column.kind == "altitude" and column.low is not None:
-            try:
-                number = _ranged(number, column.key, None)
-            except NavredError:
-                continue  # the careful parser gives the reason
-        out[k] = number
-    return out
+    if column.kind == "altitude" and column.low is not None:  # out of range: the careful parser gives the reason
+        low, high = column.low, column.high
+        with np.errstate(invalid="ignore"):
+            done &= (values >= low) if high is None else (values >= low) & (values <= high)
+    out = np.full(len(originals), None, dtype=object)
+    out[done] = values[done].tolist()
+    return out.tolist()
 
 
 @dataclass

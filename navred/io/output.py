@@ -239,6 +239,8 @@ def atomic_write_many(folder: str | Path, files: dict[str, bytes], *, inputs: It
 
 #: rows of a table turned into CSV text together
 CSV_ROWS_AT_ONCE = 20_000
+#: a column of numbers with at most this share of distinct values is formatted each distinct value once
+FEW_DISTINCT = 0.25
 
 
 def csv_text(frame, *, header: bool = True, float_format: str = "%.6f") -> str:
@@ -273,6 +275,20 @@ def csv_text(frame, *, header: bool = True, float_format: str = "%.6f") -> str:
             if missing.all():
                 specs.append("")  # an empty field in every row
                 continue
+            # a column of few distinct numbers (a constant, a course, a speed): each formatted once, then text.
+            # Distinct by their bits, so that -0.0 and 0.0 keep their own texts
+            bits64 = numbers.astype(np.float64).view(np.int64)
+            few = len(pd.unique(bits64[:4096])) <= FEW_DISTINCT * min(len(bits64), 4096)  # (a look at the first rows)
+            codes, bits = pd.factorize(bits64) if few else (None, bits64)
+            if few and len(bits) <= FEW_DISTINCT * len(numbers):
+                cells = ["" if v != v else float_format % v for v in bits.view(np.float64).tolist()]
+                if len(cells) == 1:
+                    specs.append(cells[0].replace("%", "%%"))  # the same text in every row: part of the form
+                    continue
+                texts = np.array(cells, dtype=object)[codes].tolist()
+                specs.append("%s")
+                columns.append(texts)
+                continue
             if missing.any():
                 numbers = np.where(missing, _GAP, numbers)
                 gaps |= missing
@@ -280,14 +296,24 @@ def csv_text(frame, *, header: bool = True, float_format: str = "%.6f") -> str:
             columns.append(numbers.tolist())
             continue
         elif dtype.kind in "iub":
+            numbers = values.to_numpy()
+            if len(numbers) and (numbers == numbers[0]).all():
+                specs.append(str(numbers[:1].tolist()[0]).replace("%", "%%"))  # one value: part of the form
+                continue
             specs.append("%s")
-            columns.append(values.to_numpy().tolist())
+            columns.append(numbers.tolist())
             continue
         else:
             # each distinct value once (most text columns hold few: the body, the limb, the status...)
             codes, distinct = pd.factorize(values.to_numpy(dtype=object), use_na_sentinel=False)
-            cells = np.array([_csv_cell(v, float_format) for v in distinct.tolist()] + [""], dtype=object)
-            texts = cells[codes].tolist()
+            cells = [_quoted(_csv_cell(v, float_format)) for v in distinct.tolist()]
+            if len(cells) == 1:
+                specs.append(cells[0].replace("%", "%%"))  # the same text in every row: part of the form
+                continue
+            texts = np.array(cells + [""], dtype=object)[codes].tolist()
+            specs.append("%s")
+            columns.append(texts)
+            continue
         joined = "".join(texts)
         if "," in joined or '"' in joined or "\n" in joined or "\r" in joined:
             texts = [_quoted(t) for t in texts]

@@ -243,6 +243,8 @@ def parse_angle(value: object, kind: AngleKind = "angle", decimal_comma: bool = 
             bad[index] = True
             first_message = first_message or str(exc)
     if bad.any():
+        if items.size == 1:  # one angle: its own reason, no count of elements
+            raise AngleInputError(first_message)
         raise AngleInputError(f"angles that could not be read: {failed_elements(bad)}; first: {first_message}")
     return out
 

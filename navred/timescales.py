@@ -341,7 +341,7 @@ def instant_components(utc: object) -> tuple[np.ndarray, ...]:
             bad[index] = True
             first = first or str(exc)
     if bad.any():
-        if items.ndim == 0:
+        if items.size == 1:  # one instant: its own reason, no count of elements
             raise TimeInputError(first)
         raise TimeInputError(f"instants that could not be read: {failed_elements(bad)}; first: {first}")
     return tuple(out)
@@ -729,6 +729,37 @@ def utc_datetime64(utc: object) -> np.datetime64 | np.ndarray:
     if isinstance(utc, (np.ndarray, np.datetime64)) and np.issubdtype(np.asarray(utc).dtype, np.datetime64):
         return np.asarray(utc).astype("datetime64[ns]")[()]
     return utc_jd_to_datetime64(*utc_julian_date(utc))[()]
+
+
+def utc_jd_to_seconds_text(utc1: ArrayLike, utc2: ArrayLike, zone_h: ArrayLike = 0.0) -> np.ndarray:
+    """UTC (or the zone time of a whole-hour zone, ZT = UTC − ZD) as 'YYYY-MM-DD hh:mm:ss' text, ROUNDED to the
+    nearest second (ERFA's d2dtf, which knows the leap-second table), a leap second written as the :60 it is.
+
+    A time cut to the second shows a sight up to a second early (0.25′ of longitude); 23:59:59.999 is not the
+    leap second 23:59:60.
+
+    >>> jd1, jd2 = utc_julian_date_from_components(2016, 12, 31, 23, 59, 60.4)[:2]
+    >>> utc_jd_to_seconds_text(jd1, jd2).tolist(), utc_jd_to_seconds_text(jd1, jd2, -1.0).tolist()
+    (['2016-12-31 23:59:60'], ['2017-01-01 00:59:60'])
+    """
+    utc1, utc2 = np.atleast_1d(np.asarray(utc1, dtype=float)), np.atleast_1d(np.asarray(utc2, dtype=float))
+    known = np.isfinite(utc1) & np.isfinite(utc2)
+    if not known.all():  # no instant: no text
+        out = np.full(utc1.shape, "", dtype=object)
+        if known.any():
+            out[known] = utc_jd_to_seconds_text(utc1[known], utc2[known],
+                                                np.broadcast_to(zone_h, utc1.shape)[known])
+        return out
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", erfa.ErfaWarning)
+        y, m, d, ihmsf = erfa.d2dtf("UTC", 0, utc1, utc2)
+    ihmsf = np.asarray(ihmsf)
+    hours = ihmsf["h"].astype(np.int64) - np.rint(np.broadcast_to(zone_h, utc1.shape)).astype(np.int64)
+    start = _date64(y, m, d).astype("datetime64[h]") + hours.astype("timedelta64[h]")
+    hour_text = np.datetime_as_string(start, unit="h")  # 'YYYY-MM-DDThh'
+    seconds = ihmsf["s"].astype(np.int64)
+    return np.array([f"{t[:10]} {t[11:13]}:{mi:02d}:{sec:02d}" for t, mi, sec in
+                     zip(hour_text.tolist(), ihmsf["m"].tolist(), seconds.tolist())], dtype=object)
 
 
 def utc_jd_to_datetime64(utc1: ArrayLike, utc2: ArrayLike) -> np.ndarray:

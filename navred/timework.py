@@ -18,7 +18,7 @@ import datetime as _dt
 import re
 
 from .errors import TimeInputError
-from .vocabulary import COLUMN, ZONE_LETTERS
+from .vocabulary import COLUMN, WATCH_SIGN_WORDS, ZONE_LETTERS
 
 #: The declared orders of a numeric date that is not ISO 8601.
 DATE_ORDERS = ("day-first", "month-first")
@@ -39,8 +39,8 @@ _AM_PM = re.compile(r"\b(?:a\.?m\.?|p\.?m\.?)\s*$", re.IGNORECASE)
 ACCEPTED_DATES = "ISO 8601 such as 2026-03-26, 26 Mar 2026, or a date cell"
 ACCEPTED_TIMES = "hh:mm:ss on the 24-hour clock (19:41:30, 19:41, 194130), or a time cell"
 ACCEPTED_ZONES = "a whole signed hour from -12 to +12, ZT + ZD = UTC: +3, -10, 0, with its letter if you like (+1 N, -1 A, Z)"
-ACCEPTED_WATCH_ERRORS = ("'12 fast', '3 s slow', '1 m 05 s fast', '01:05 slow', or seconds with a sign "
-                         "(+12 fast, -3 slow); a number with neither is refused (fast or slow?)")
+ACCEPTED_WATCH_ERRORS = ("'12 fast', '3 s slow', '1 m 05 s fast', '01:05 slow'; a number, signed or not, only under "
+                         "a header that states the sign ('watch error (fast +)'): otherwise fast or slow?")
 
 
 def _valid_date(year: int, month: int, day: int) -> bool:
@@ -226,24 +226,44 @@ _WATCH = re.compile(
     r"(?:s|sec|secs|seconds)?)\.?\s*(?P<way>fast|slow|f|sl)?\s*$", re.IGNORECASE)
 
 
-def parse_watch_error_s(value: object) -> float:
+def _two_signed_readings(shown: str, seconds: float) -> str:
+    size = f"{abs(seconds):g}"
+    fast_way, slow_way = ("fast", "slow") if seconds >= 0 else ("slow", "fast")
+    return (f"watch error {shown!r} has a sign but no fast or slow: as an error (+ fast) it is {size} s {fast_way} "
+            f"({'subtracted from' if fast_way == 'fast' else 'added to'} the watch's reading); as a correction "
+            f"(+ added) it is {size} s {slow_way} ({'added to' if slow_way == 'slow' else 'subtracted from'} the "
+            f"reading), {2 * abs(seconds):g} s apart? write '{size} s fast' or '{size} s slow', or state the sign "
+            "in the column's header: 'watch error (fast +)' or 'watch error (slow +)'")
+
+
+def parse_watch_error_s(value: object, plus: str | None = None) -> float:
     """A watch's error in seconds, fast positive (it is subtracted from the watch's reading).
+
+    ``plus`` is the sign convention the column's header states (:data:`WATCH_SIGN_WORDS`): 'fast' (+ is a fast
+    watch, an error), 'slow' (+ is a slow watch, a correction added), or None (not stated): then a signed
+    error or a number cell has two readings and is refused, as an unsigned one is (common practice: both
+    conventions are written in logs).
 
     >>> parse_watch_error_s("12 fast"), parse_watch_error_s("3 s slow"), parse_watch_error_s("1 m 05 s fast")
     (12.0, -3.0, 65.0)
-    >>> parse_watch_error_s(-4.5), parse_watch_error_s("+12")
-    (-4.5, 12.0)
+    >>> parse_watch_error_s(-4.5, "fast"), parse_watch_error_s("+12", "fast"), parse_watch_error_s("+12", "slow")
+    (-4.5, 12.0, -12.0)
     """
+    flip = -1.0 if plus == "slow" else 1.0
     if isinstance(value, bool):
         raise TimeInputError(f"cannot read {value!r} as a watch error; accepted: {ACCEPTED_WATCH_ERRORS}")
     if isinstance(value, (int, float)):
         seconds = float(value)
-        if seconds > 0:
-            # a number cell has no sign to keep: a spreadsheet drops a leading +, as it does a zone description's
-            raise TimeInputError(
-                f"watch error {value:g} is a number, which has no fast or slow: {value:g} s fast (+{value:g}, "
-                f"subtracted from the watch) or {value:g} s slow (-{value:g}, added)? write '{value:g} fast' or "
-                f"'{value:g} slow' (or '+{value:g}' as text)")
+        if seconds and plus is None:
+            # a number cell has no sign to trust: a spreadsheet drops a leading +, and - is an error's slow or a
+            # correction's fast
+            if seconds > 0:
+                raise TimeInputError(
+                    f"watch error {value:g} is a number, which has no fast or slow: {value:g} s fast (+{value:g}, "
+                    f"subtracted from the watch) or {value:g} s slow (-{value:g}, added)? write '{value:g} fast' or "
+                    f"'{value:g} slow', or state the sign in the column's header: 'watch error (fast +)'")
+            raise TimeInputError(_two_signed_readings(f"{value:g}", seconds))
+        seconds *= flip
     elif isinstance(value, str):
         match = _WATCH.match(value.strip().replace("−", "-"))
         if not match:
@@ -258,19 +278,36 @@ def parse_watch_error_s(value: object) -> float:
         way = (parts["way"] or "").lower()
         if way and parts["sign"]:
             raise TimeInputError(f"watch error {value!r}: give a sign or fast/slow, not both")
-        if not way and not parts["sign"] and seconds:
+        if not way and plus is None and seconds:
             shown = value.strip()
+            if parts["sign"]:
+                raise TimeInputError(_two_signed_readings(shown, -seconds if parts["sign"] == "-" else seconds))
             raise TimeInputError(
                 f"watch error {value!r} has no fast or slow: {shown} fast (the watch is ahead; subtracted) or {shown} "
-                f"slow (behind; added)? write '{shown} fast' or '{shown} slow', or a sign (+ fast, - slow)")
-        if way in ("slow", "sl") or parts["sign"] == "-":
-            seconds = -seconds
+                f"slow (behind; added)? write '{shown} fast' or '{shown} slow', or state the sign in the column's "
+                "header: 'watch error (fast +)'")
+        if way:
+            seconds = -seconds if way in ("slow", "sl") else seconds
+        else:
+            seconds = (-seconds if parts["sign"] == "-" else seconds) * flip
     else:
         raise TimeInputError(f"cannot read {value!r} as a watch error; accepted: {ACCEPTED_WATCH_ERRORS}")
     if not seconds == seconds or abs(seconds) > MAX_WATCH_ERROR_S:
         raise TimeInputError(f"watch error {value!r} is outside ±{MAX_WATCH_ERROR_S:.0f} s: a watch that far out "
                              "is keeping another zone; check the zone description")
     return seconds
+
+
+def watch_error_words(seconds: float) -> str:
+    """A watch error in the navigator's words: '7 s slow', '3.6 s fast', '0 s'.
+
+    >>> watch_error_words(-7.0), watch_error_words(3.64), watch_error_words(0.0)
+    ('7 s slow', '3.6 s fast', '0 s')
+    """
+    if not seconds == seconds:
+        return ""
+    size = f"{abs(seconds):.1f}".rstrip("0").rstrip(".")
+    return "0 s" if size == "0" else f"{size} s {'fast' if seconds > 0 else 'slow'}"
 
 
 _UTC_NUMERIC_DATE = re.compile(r"^\s*(\d{1,2}[/.\-]\d{1,2}[/.\-]\d{2,4})[T ]\s*(.+)$")
@@ -290,4 +327,5 @@ def iso_instant_text(value: str, order: str | None = None) -> str:
 
 
 __all__ = ["parse_date", "parse_time_of_day", "parse_zone_description", "parse_watch_error_s",
+           "watch_error_words", "WATCH_SIGN_WORDS",
            "iso_instant_text", "DATE_ORDERS"]

@@ -23,6 +23,7 @@ UNIT_CONVERSIONS: dict[str, tuple[float, float]] = {
     "c": (1.0, 0.0), "f": (5.0 / 9.0, -32.0 * 5.0 / 9.0),
     "hpa": (1.0, 0.0), "inhg": (33.8639, 0.0), "mmhg": (1.33322, 0.0),
     "deg": (1.0, 0.0), "kn": (1.0, 0.0), "s": (1.0, 0.0), "arcmin": (1.0, 0.0), "nm": (1.0, 0.0),
+    "s_fast": (1.0, 0.0), "s_slow": (-1.0, 0.0),  # a watch error under a header that states its sign
 }
 #: How each unit may be written in a header, normalised (lower case, no spaces or dots).
 UNIT_SPELLINGS: dict[str, str] = {
@@ -40,9 +41,18 @@ UNIT_SPELLINGS: dict[str, str] = {
     "arcmin": "arcmin", "′": "arcmin", "'": "arcmin", "min": "arcmin", "minutes": "arcmin",
     "nm": "nm", "nmi": "nm", "nautical_miles": "nm", "miles": "nm",
 }
+#: How a header states the sign convention of its watch errors (the words in its brackets, spaces dropped,
+#: lower case): 'fast' when + means the watch is fast (an error, subtracted), 'slow' when + means it is slow
+#: (a correction, added). Without one, a signed watch error has two readings and is refused.
+WATCH_SIGN_WORDS = {"fast+": "fast", "+fast": "fast", "fast=+": "fast", "+=fast": "fast", "fastpositive": "fast",
+                    "slow-": "fast", "-slow": "fast", "slow=-": "fast", "slownegative": "fast",
+                    "slow+": "slow", "+slow": "slow", "slow=+": "slow", "+=slow": "slow", "slowpositive": "slow",
+                    "fast-": "slow", "-fast": "slow", "fast=-": "slow", "fastnegative": "slow"}
+
+
 UNIT_NAMES = {"m": "metres", "ft": "feet", "c": "°C", "f": "°F", "hpa": "hPa", "inhg": "inHg",
               "mmhg": "mmHg", "deg": "degrees", "kn": "knots", "s": "seconds", "arcmin": "arcminutes",
-              "nm": "nautical miles"}
+              "nm": "nautical miles", "s_fast": "seconds, fast +", "s_slow": "seconds, slow +"}
 
 
 @dataclass(frozen=True)
@@ -75,9 +85,9 @@ COLUMNS: tuple[Column, ...] = (
     Column("zone_description", ("zone_description", "zd", "zone"), "zone",
            "the zone the watch keeps: a whole signed hour, ZT + ZD = UTC (+3, -10, +1 N, 0, Z)"),
     Column("watch_error", ("watch_error", "chronometer_error", "deck_watch_error", "dwe"),
-           "watch_error", "the watch's error: '12 fast', '3 s slow', '1 m 05 s fast', or seconds with a sign, fast (+) / "
-           "slow (−); a number with neither is refused",
-           units=("s",), default_unit="s", low=-3600.0, high=3600.0, default=0.0),
+           "watch_error", "the watch's error: '12 fast', '3 s slow', '1 m 05 s fast'; a number or a signed one only under a "
+           "header that states the sign, 'watch error (fast +)' or '(slow +)'; otherwise refused (fast or slow?)",
+           units=("s", "s_fast", "s_slow"), default_unit="s", low=-3600.0, high=3600.0, default=0.0),
     Column("timepiece", ("timepiece", "chronometer", "chronometer_name", "watch_name"), "text",
            "the timepiece read for zone_time; with a rating log (--rates) and no watch_error, its error is "
            "predicted from its time signals"),
@@ -349,6 +359,8 @@ def match_header(header: object) -> HeaderMatch:
                                f"{AMBIGUOUS_HEADERS[name]}")
         return HeaderMatch(str(header), None, None)
     column = COLUMN[key]
+    if key == "watch_error" and unit_text is not None:
+        return _watch_error_header(str(header), unit_text)
     if unit_text is not None and column.units:
         unit = UNIT_SPELLINGS.get(re.sub(r"[\s.]+", "", unit_text.lower()))
         if unit not in column.units:
@@ -362,6 +374,24 @@ def match_header(header: object) -> HeaderMatch:
                            f"{key.replace('_', ' ')} may be in {' or '.join(UNIT_NAMES[u] for u in column.units)}: "
                            f"name it {accepted}")
     return HeaderMatch(str(header), key, column.default_unit)
+
+
+def _watch_error_header(header: str, unit_text: str) -> HeaderMatch:
+    """A watch error's header with brackets: the unit (seconds) and the sign convention it states, if any
+    ('watch error (fast +)' -> 's_fast'; '(slow +)' -> 's_slow'; '(s)' -> 's', no convention)."""
+    words = [w for w in re.split(r"[,;]", re.sub(r"\s+", "", unit_text.lower().replace("−", "-"))) if w]
+    unit, sign = "s", None
+    for word in words:
+        if word in WATCH_SIGN_WORDS and sign is None:
+            sign = WATCH_SIGN_WORDS[word]
+        elif UNIT_SPELLINGS.get(word) == "s":
+            continue
+        else:
+            return HeaderMatch(header, "watch_error", None, (
+                f"header {header!r}: {unit_text!r} is neither seconds nor a sign convention navred reads; accepted: "
+                "'watch error (s)', or with the sign stated, 'watch error (fast +)' (+ a fast watch, subtracted) "
+                "or 'watch error (slow +)' (+ a slow watch, added)"))
+    return HeaderMatch(header, "watch_error", unit if sign is None else f"s_{sign}")
 
 
 #: Headers that look like a correction navred applies, or a quantity it reads, yet are none of its

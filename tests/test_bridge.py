@@ -203,7 +203,7 @@ def test_an_event_that_does_not_happen_is_blank_in_every_csv(tmp_path):
     assert "'-': the event does not happen that day" in result.stdout
 
 
-#: the date line, sailed both ways (FINDINGS-24 item 2): 17° 30′ S, one degree short of 180°, steering 090° or 270°
+#: the date line, sailed both ways (a trial finding): 17° 30′ S, one degree short of 180°, steering 090° or 270°
 DATE_LINE = [("179 00 E", 179.0, 90.0), ("179 00 W", -179.0, 270.0)]
 LEVELS = {"nautical_dawn": -12.0, "civil_dawn": -6.0, "civil_dusk": -6.0, "nautical_dusk": -12.0}
 

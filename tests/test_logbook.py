@@ -137,7 +137,6 @@ def zone_row(date="2026-03-26", time="20:41:30", zone="+1", error="30 fast"):
     (zone_row(time="08:41:30", zone="-10", error=""), "2026-03-25T22:41:30"),
     (zone_row(time="08:41:30", zone="-10 K", error="12 slow"), "2026-03-25T22:41:42"),
     (zone_row(zone="0", error="1 m 05 s fast"), "2026-03-26T20:40:25"),
-    (zone_row(zone="Z", error="-3"), "2026-03-26T20:41:33"),  # a bare signed number: seconds, fast positive
     (zone_row(time="1941", zone="+1", error=""), "2026-03-26T20:41:00"),
     (zone_row(date="26 Mar 2026", time="23:30:00", zone="+5", error=""), "2026-03-27T04:30:00"),
 ])
@@ -159,6 +158,11 @@ def test_zone_time_and_watch_error_forms(tmp_path, row, expected):
     (zone_row(error="12"), "watch_error", "'12' has no fast or slow: 12 fast (the watch is ahead; subtracted) or 12 slow"),
     (zone_row(error="12 s"), "watch_error", "12 s fast (the watch is ahead; subtracted) or 12 s slow"),
     (zone_row(error="01:05"), "watch_error", "no fast or slow"),
+    # a sign alone is an error's (+ fast) or a correction's (+ added, the watch slow): 24 s, 6′ of longitude apart
+    (zone_row(error="+12 s"), "watch_error", "as an error (+ fast) it is 12 s fast (subtracted from the watch's "
+                                             "reading); as a correction (+ added) it is 12 s slow"),
+    (zone_row(error="-3"), "watch_error", "as an error (+ fast) it is 3 s slow (added to the watch's reading); as a "
+                                          "correction (+ added) it is 3 s fast"),
     (zone_row(time="18:42:30Z"), "zone_time", "carries a zone of its own"),
     (zone_row(time="7:41 pm"), "zone_time", "24-hour clock"),
     (zone_row(date="05/03/2026"), "date", "day-first it is 2026-03-05 (5 March), month-first 2026-05-03 (3 May)"),
@@ -172,6 +176,39 @@ def test_ambiguous_or_wrong_time_working_is_refused_by_name(tmp_path, row, colum
     hit = log.rejected[log.rejected.column == column]
     assert list(hit.row) == [2], log.rejected
     assert fragment in hit.reason.iloc[0]
+
+
+@pytest.mark.parametrize("header, error, expected", [
+    # the header states the sign, so a signed or bare number has one reading (common practice: both are kept)
+    ("watch error (s, fast +)", "-3", "2026-03-26T21:41:33"),
+    ("watch error (s, fast +)", "+30", "2026-03-26T21:41:00"),
+    ("watch error (fast +)", "30", "2026-03-26T21:41:00"),
+    ("watch error (s, slow +)", "+12", "2026-03-26T21:41:42"),  # a correction: added
+    ("watch error (slow −)", "-12", "2026-03-26T21:41:42"),
+    ("watch error (s, slow +)", "30 fast", "2026-03-26T21:41:00"),  # words win over the header's sign
+])
+def test_a_header_that_states_the_sign_reads_signed_watch_errors(tmp_path, header, error, expected):
+    log = read_sight_log(write(tmp_path, [ZONE_HEADER.replace("watch_error", f'"{header}"'), zone_row(error=error)]))
+    assert log.rejected.empty, log.rejected
+    assert str(log.sights.sight_utc[0].tz_convert(None)) == expected.replace("T", " ")
+
+
+def test_number_cells_of_a_watch_error_need_the_sign_stated():
+    frame = pd.DataFrame({"date": ["2026-03-26"] * 2, "zone_time": ["20:41:30"] * 2, "zone_description": ["+1"] * 2,
+                          "watch_error": [-3.0, 0.0], "body": ["Sirius"] * 2, "hs": ["30 02.4"] * 2,
+                          "eye_height_m": [2.8] * 2, "dr_lat": ["43 14 N"] * 2, "dr_lon": ["13 04 W"] * 2})
+    log = read_sight_log(frame)
+    assert list(log.rejected.row) == [1] and "as a correction (+ added) it is 3 s fast" in log.rejected.reason.iloc[0]
+    stated = read_sight_log(frame.rename(columns={"watch_error": "watch error (s, fast +)"}))
+    assert stated.rejected.empty and list(stated.sights.watch_error_applied_s) == [-3.0, 0.0]
+    assert list(stated.sights.watch_error_as_given) == ["-3 (3 s slow)", "0 (0 s)"]
+    slow = read_sight_log(frame.rename(columns={"watch_error": "watch error (s, slow +)"}))
+    assert list(slow.sights.watch_error_applied_s) == [3.0, 0.0]
+
+
+def test_a_watch_error_header_with_an_unknown_convention_is_refused(tmp_path):
+    with pytest.raises(LogbookError, match="neither seconds nor a sign convention"):
+        read_sight_log(write(tmp_path, [ZONE_HEADER.replace("watch_error", '"watch error (s, ahead)"'), zone_row()]))
 
 
 def test_declared_date_order_applies_to_the_whole_log(tmp_path):
@@ -205,6 +242,27 @@ def test_a_leap_second_in_zone_time_is_a_real_instant(tmp_path):
     leap = read_sight_log(write(tmp_path, [HEADER, GOOD.replace("2026-03-26T19:41:00Z", "2016-12-31T23:59:60.5Z")],
                                 "leap.csv"))
     assert leap.rejected.empty and str(leap.sights.sight_utc[0]).startswith("2016-12-31 23:59:59")
+
+
+def test_corrected_times_are_rounded_to_the_second_and_a_leap_second_is_written_60(tmp_path):
+    # the Working sheet's corrected zone time and UTC, and reduce's UTC: rounded, not cut (05:35:59.96 was shown
+    # 05:35:59, a second early: 0.25′ of longitude); 2016 December 31 ended with a leap second (IERS Bulletin C 52)
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+    from navred.jobs.voyagetables import utc_second_cells
+
+    rows = [ZONE_HEADER, zone_row(date="2016-12-31", time="23:59:60", zone="0", error=""),
+            zone_row(date="2017-01-01", time="00:59:60", zone="-1", error=""),
+            zone_row(date="2026-04-14", time="05:36:03.6", zone="0", error="3.64 s fast"),
+            zone_row(date="2026-04-14", time="05:36:03.0", zone="0", error="3.64 s fast")]
+    path = write(tmp_path, rows)
+    sights = read_sight_log(path).sights
+    assert sights.zone_time_corrected.tolist() == ["23:59:60", "00:59:60", "05:36:00", "05:35:59"]
+    assert utc_second_cells(sights)[:2] == ["2016-12-31 23:59:60"] * 2  # no date cell holds :60
+    assert utc_second_cells(sights)[2:] == [dt.datetime(2026, 4, 14, 5, 36), dt.datetime(2026, 4, 14, 5, 35, 59)]
+    out = CliRunner().invoke(app, ["reduce", str(path)]).stdout
+    assert out.count("2016-12-31 23:59:60") == 2 and "2026-04-14 05:36:00" in out and "05:35:59 " in out
 
 
 def test_utc_and_zone_time_given_together_must_agree(tmp_path):

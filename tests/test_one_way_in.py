@@ -101,10 +101,11 @@ def test_every_command_and_the_api_give_the_same_answer(tmp_path, kind):
     sheet_fixes = sheet_fixes[pd.to_numeric(sheet_fixes["latitude (deg)"], errors="coerce").notna()].reset_index(
         drop=True)
     assert len(api_fixes) == len(fixes) == len(sheet_fixes) >= 1
-    for group, cli_row, sheet_row in zip(api_fixes, fixes.itertuples(), sheet_fixes.itertuples()):
-        assert group.name == cli_row.fix_group == sheet_row[1]
-        for lat, lon in ((cli_row.lat_deg, cli_row.lon_deg), (sheet_fixes.loc[sheet_row.Index, "latitude (deg)"],
-                                                             sheet_fixes.loc[sheet_row.Index, "longitude (deg)"])):
+    by_name = sheet_fixes.set_index("fix group")  # the sheet lists the fixes by time: matched by group name
+    for group, cli_row in zip(api_fixes, fixes.itertuples()):
+        assert group.name == cli_row.fix_group and group.name in by_name.index
+        for lat, lon in ((cli_row.lat_deg, cli_row.lon_deg), (by_name.loc[group.name, "latitude (deg)"],
+                                                             by_name.loc[group.name, "longitude (deg)"])):
             assert abs(lat - group.fix.lat_deg) * 60 < 0.01 and abs(lon - group.fix.lon_deg) * 60 < 0.01
     if kind == "chart on one row":
         star = voyage.group("evening-stars")
@@ -146,6 +147,20 @@ def test_a_planted_blunder_is_named_by_its_row_everywhere(tmp_path):
     assert "LEFT OUT of this fix: row 9" in fixes.loc["evening-stars", "note"]
     working = sheet(book, "Working").set_index("row in log")
     assert "BLUNDER" in working.loc[9, "flags"] and "BLUNDER" not in str(working.loc[10, "flags"])
+
+
+def test_the_fixes_sheet_of_two_logs_is_in_time_order(tmp_path):
+    # a master reads a fix list in time order (common practice): the later log given first on the command line
+    frame = demo()
+    early, late = frame[frame.fix_group == "sun-run-sun"], frame[frame.fix_group == "evening-stars"]
+    first, second = tmp_path / "late.csv", tmp_path / "early.csv"
+    late.to_csv(first, index=False)
+    early.to_csv(second, index=False)
+    book = tmp_path / "both.xlsx"
+    assert runner.invoke(app, ["workbook", str(first), str(second), "-o", str(book)]).exit_code == 0
+    fixes = sheet(book, "Fixes")
+    assert list(fixes["fix group"]) == ["early.csv: sun-run-sun", "late.csv: evening-stars"]  # names kept
+    assert list(pd.to_datetime(fixes["UTC"])) == sorted(pd.to_datetime(fixes["UTC"]))
 
 
 def test_the_workbook_navred_wrote_reads_back_to_the_same_fixes(tmp_path):
@@ -333,6 +348,17 @@ def test_a_fix_far_from_its_dr_is_warned_by_every_command_and_file(tmp_path):
     fix = runner.invoke(app, ["fix", str(path)])
     assert fix.exit_code == 0 and fix.output.count(far) == 3, fix.output
     assert "check the time (the zone description and its sign" in fix.output
+    # the likely cause named, against the DR's nautical zone (ZD = longitude west / 15°: 12° W is +1; common
+    # practice), in the fix's warning and in each far row's note
+    cause = "likely cause: the zone description -1 is a zone east of Greenwich, but the DR, 1"
+    assert "the DR, 12° W, is in zone +1: a ZD of the wrong sign puts the time 2 h out" in fix.output
+    assert fix.output.count("warning: " + cause) == 3, fix.output
+    reduced = reduce_sights(read_sight_log(path))
+    assert reduced.message.str.contains(cause).sum() >= 6
+    from navred import fix_positions
+
+    grouped = fix_positions(reduced)
+    assert all(any(cause in w for w in grouped.results[g].warnings) for g in grouped.results)
     book, gpx, geojson = tmp_path / "z.xlsx", tmp_path / "z.gpx", tmp_path / "z.geojson"
     work = runner.invoke(app, ["workbook", str(path), "-o", str(book), "-o", str(gpx), "-o", str(geojson)])
     assert work.exit_code == 0 and work.output.count(far) == 3, work.output
@@ -350,7 +376,8 @@ def test_a_fix_far_from_its_dr_is_warned_by_every_command_and_file(tmp_path):
     assert sum(far in f["properties"].get("description", "") for f in features) == 3
     # and the plain demo, its DRs a few miles out, has no such warning anywhere
     plain = runner.invoke(app, ["fix", "sample_sights/demo_sights.csv"])
-    assert far not in plain.output and "taken in twilight" not in plain.output
+    assert far not in plain.output and "taken in twilight" not in plain.output and "cause:" not in plain.output
+    assert not reduce_sights(read_sight_log(with_zone_time(demo()))).message.str.contains("cause:").any()
 
 
 @pytest.mark.parametrize("command", [["reduce"], ["reduce", "--csv"], ["fix"], ["fix", "--csv"], ["days"],

@@ -201,7 +201,7 @@ def test_days_prints_each_rejected_rows_reason(tmp_path):
                    "2026-03-26T06:00:00Z,clocks,,,,,sometime,,,\n"
                    "2026-03-26T12:56:03Z,,,,,,,Sun,48 16.0,2.8\n")
     result = CliRunner().invoke(app, ["days", str(log)])
-    assert "1 row(s) not reduced:" in result.output
+    assert "1 row not reduced:" in result.output
     assert "row 3 (clocks): clocks 'sometime': give the zone the clocks keep from then" in result.output
     # and the ship's time does not say "no clocks entry" as if none were written
     assert "ship's time: no clocks entry read (row 3 refused: see its reason), so the ship is taken" in result.output

@@ -112,15 +112,17 @@ def test_a_fleet_workbook_plans_each_vessels_next_twilight(tmp_path):
     assert plans["Brisa"].utc < plans["Alba"].utc  # Brisa's last fix is the afternoon Sun: that evening's twilight
     book = openpyxl.load_workbook(write_workbook(voyage, tmp_path / "fleet.xlsx"))
     values = list(book["Sight plan"].values)
-    assert values[0][0] == "vessel"
-    assert {row[0] for row in values[1:] if row[0] in plans} == {"Alba", "Brisa"}
+    # each vessel's when and where above the table, then the table with its vessel column
+    assert [row[0] for row in values[:4]] == ["When and where", "How the set was chosen"] * 2
+    assert values[5][0] == "vessel"
+    assert {row[0] for row in values[6:] if row[0] in plans} == {"Alba", "Brisa"}
     cells = [str(c) for row in values for c in row if c]
     assert any(c.startswith("Alba: 2026-03-27") for c in cells) and any(c.startswith("Brisa: 2026-03-26") for c in cells)
     assert len(book["Sight plan"]._images) == 2
     one = openpyxl.load_workbook(write_workbook(process_log("sample_sights/demo_sights.csv"), tmp_path / "one.xlsx"))
     cells = [str(c) for row in one["Sight plan"].values for c in row if c]
     assert any(c.startswith("Moth Orchid (invented): ") for c in cells)
-    assert list(one["Sight plan"].values)[0][0] == "body"
+    assert list(one["Sight plan"].values)[3][0] == "body"  # one vessel: no vessel column, below its when and where
 
 
 def test_summary_counts(mixed_log):
@@ -215,7 +217,7 @@ def test_the_working_sheet_adds_up_and_shows_its_numbers_to_a_tenth(tmp_path):
     assert cell["dip (′)"].number_format == "0.0" and cell["Ho (deg)"].number_format == "0.0000"
     assert isinstance(cell["UTC"].value, dt.datetime) and cell["UTC"].number_format == "yyyy-mm-dd hh:mm:ss"
     # the time working and the units as given are shown
-    assert cell["time as read"].value == "08:09:53" and cell["watch error (s, fast +)"].value == -7
+    assert cell["time as read"].value == "08:09:53" and cell["watch error"].value == "7 s slow"  # as the log wrote it
     assert cell["ZD (h)"].value == "+1" and cell["height of eye as given"].value == "9.1864 feet"
 
 
@@ -425,9 +427,37 @@ def test_the_sight_plan_sheet_in_the_trade_figures(tmp_path):
     every recommended cell (common practice)."""
     voyage = process_log("sample_sights/demo_sights.csv")
     book = openpyxl.load_workbook(write_workbook(voyage, tmp_path / "v.xlsx", plots=False))
-    plan, _ = sheet_frame(book["Sight plan"])
+    values = list(book["Sight plan"].values)
+    # when and where above the table, as a plan is read (common practice)
+    assert values[0][0] == "When and where" and " UTC, DR " in values[0][1]
+    assert values[1][0] == "How the set was chosen" and values[2][0] is None
+    end = next((k for k in range(3, len(values)) if all(v is None for v in values[k])), len(values))
+    plan = pd.DataFrame(values[4:end], columns=values[3])
     plan = plan[plan["body"].notna() & plan["magnitude"].notna()]
     assert len(plan) >= 5
     assert all(round(float(m), 1) == float(m) for m in plan["magnitude"])
     assert all(float(d) == round(float(d)) for d in plan["from the Moon (deg)"].dropna())
     assert set(plan["recommended"]) == {"yes", "no"}
+
+
+def test_the_days_work_sheet_says_why_each_blank_is_blank(tmp_path):
+    """The first noon has no run, a drift within its uncertainty no set: each blank cell says so (common
+    practice: a blank in a log is a question)."""
+    voyage = process_log("sample_sights/passage_log.csv")
+    book = openpyxl.load_workbook(write_workbook(voyage, tmp_path / "p.xlsx", plots=False))
+    values = list(book["Day's work"].values)
+    blocks, k = [], 0
+    while k < len(values):  # each block: a title row, a header row, its rows, then an empty row
+        if values[k][0] and k + 1 < len(values) and values[k + 1][0] == "vessel":
+            header = [h for h in values[k + 1] if h is not None]
+            end = next((j for j in range(k + 2, len(values)) if all(v is None for v in values[j])), len(values))
+            blocks.append([dict(zip(header, row)) for row in values[k + 2:end]])
+            k = end
+        k += 1
+    assert len(blocks) >= 3 and all(blocks)
+    for block in blocks[:3]:  # noons, set and drift, estimated positions
+        for row in block:
+            assert all(v is not None and v != "" for v in row.values()), row
+    first = blocks[0][0]
+    assert first["run (nm)"] == "the first noon of the log: no noon before it to run from"
+    assert isinstance(blocks[0][1]["run (nm)"], float)

@@ -222,10 +222,20 @@ def reduce_lines(done) -> Iterator[str]:
     labels = [label.removeprefix("row ") for label in labels_of(reduced)]
     width = max([len(x) for x in labels] + [3])
     yield (f"{'row':>{width}}  {'body':<15}{'UTC':<21}{'Ho':>12}{'Hc':>12}{'Zn':>8}  {'intercept':<18}note")
-    for label, row in zip(labels, reduced.itertuples()):
-        when = f"{row.sight_utc:%Y-%m-%d %H:%M:%S}" if str(row.sight_utc) != "NaT" else ""
+    from ..timescales import utc_jd_to_seconds_text
+
+    # to the nearest second, a leap second as its :60 (a time cut to the second shows a sight early)
+    shown = utc_jd_to_seconds_text(reduced.utc_jd1.to_numpy(dtype=float), reduced.utc_jd2.to_numpy(dtype=float)) \
+        if len(reduced) and "utc_jd1" in reduced.columns else np.zeros(len(reduced), dtype=object)
+    kinds: dict[str, list] = {}  # each kind of refusal: its rows' labels (the first few shown in full)
+    for label, row, when in zip(labels, reduced.itertuples(), shown.tolist()):
+        when = when or ""
         if row.status == SightStatus.ERROR:
-            yield f"{label:>{width}}  {str(row.body_name or '?'):<15}{when:<21}{'not reduced:':>12} {row.message}"
+            alike = kinds.setdefault(refusal_kind(row.message), [])
+            alike.append(label)
+            said = row.message if len(alike) <= FULL_REFUSALS else \
+                f"as row {alike[0]}{_first_quoted(row.message)}"
+            yield f"{label:>{width}}  {str(row.body_name or '?'):<15}{when:<21}{'not reduced:':>12} {said}"
             continue
         intercept = f"{abs(row.intercept_nm):5.1f} nm {row.intercept_direction}"
         carried = getattr(row, "motion_carried_from", "")
@@ -237,24 +247,107 @@ def reduce_lines(done) -> Iterator[str]:
     done = int(counts.get('ok', 0) + counts.get('warning', 0))
     yield (f"{done} sight{'' if done == 1 else 's'} reduced "
            f"({int(counts.get('warning', 0))} with a warning), {int(counts.get('error', 0))} not reduced{empty}")
+    for alike in kinds.values():  # a refusal repeated row after row, counted once with its rows
+        if len(alike) > FULL_REFUSALS:
+            yield (f"  {len(alike)} rows not reduced for the reason given in full at row {alike[0]} "
+                   f"({_compact(alike)})")
 
 
-def sight_warning_lines(reduced: pd.DataFrame, labels, rows=None, *, indent: str = "") -> list[str]:
+#: How many rows of one kind of refusal are given in full before the rest say "as row N".
+FULL_REFUSALS = 3
+
+
+def refusal_kind(message: str) -> str:
+    """A refusal with the values it quotes taken out: the rows of a log refused for one reason (600 spreadsheet
+    date-times with two readings) share it, whatever their values."""
+    import re
+
+    kind = re.sub(r"'[^']*'", "'…'", str(message))
+    kind = re.sub(r"\d+", "#", kind)
+    return re.sub(r"\(# [A-Z][a-z]+\)", "(#)", kind)
+
+
+def _first_quoted(message: str) -> str:
+    import re
+
+    found = re.search(r"'[^']*'", str(message))
+    return f" ({found.group(0)})" if found else ""
+
+
+def _compact(labels: list) -> str:
+    """Row labels as a compact list ('rows 2-601'); labels that are not plain numbers listed as they are."""
+    import pandas as pd
+
+    from ..jobs.frames import row_list
+
+    if all(str(x).isdigit() for x in labels):
+        return row_list(pd.DataFrame({"row": [int(x) for x in labels], "source": ["log"] * len(labels)}))
+    return ", ".join(map(str, labels[:12])) + (f" and {len(labels) - 12} more" if len(labels) > 12 else "")
+
+
+def sight_warning_lines(reduced: pd.DataFrame, labels, rows=None, *, indent: str = "",
+                        shown: int | None = None) -> list[str]:
     """Each sight's own warning (a long intercept, a low altitude...), named by its row: a command that shows
-    a fix or a position built on the sight shows its warnings too."""
+    a fix or a position built on the sight shows its warnings too. ``shown``: at most this many of each kind
+    of warning, the rest counted (:func:`by_kind`); None: every one."""
     if not len(reduced):
         return []
     rows = range(len(reduced)) if rows is None else rows
     status = reduced["status"].to_numpy()
     messages = reduced["message"].to_numpy(dtype=object)
     bodies = reduced["body_name"].to_numpy(dtype=object)
-    return [f"{indent}warning: {labels[row]} ({bodies[row]}): {messages[row]}" for row in rows
-            if status[row] == SightStatus.WARNING and messages[row]]
+    entries = [(labels[row], f"{indent}warning: {labels[row]} ({bodies[row]}): {messages[row]}", messages[row])
+               for row in rows if status[row] == SightStatus.WARNING and messages[row]]
+    return by_kind(entries, shown, indent=indent)
 
 
-def group_warning_lines(groups) -> list[str]:
-    return [f"warning: group {group.name}: {text}" for group in groups
-            for text in (group.fix.warnings if group.fix is not None else [])]
+def group_warning_lines(groups, *, shown: int | None = None) -> list[str]:
+    """Each fix's warnings, named by its group; ``shown`` as for :func:`sight_warning_lines`."""
+    entries = [(f"group {group.name}", f"warning: group {group.name}: {text}", text) for group in groups
+               for text in (group.fix.warnings if group.fix is not None else [])]
+    return by_kind(entries, shown)
+
+
+def no_fix_lines(groups, *, shown: int | None = None) -> list[str]:
+    """The groups that gave no fix, and why; ``shown`` as for :func:`sight_warning_lines`."""
+    entries = [(f"group {g.name}", f"group {g.name}: no fix ({g.problem})", g.problem) for g in groups
+               if g.fix is None]
+    return by_kind(entries, shown)
+
+
+#: How many of each kind of warning a long run prints before counting the rest (the workbook keeps all), and
+#: up to how many warnings a run lists every one (a day's or a passage's log: each sight named by its row).
+WARNINGS_SHOWN = 3
+WARNINGS_LISTED = 30
+
+
+def by_kind(entries: list[tuple[str, str, str]], shown: int | None, *, indent: str = "") -> list[str]:
+    """Lines (label, line, message) as they are (``shown`` None, or no more than :data:`WARNINGS_LISTED`), or by
+    kind of message (:func:`refusal_kind`: the values taken out) in the order each kind is first met: the first
+    ``shown`` of each kind, then 'and N more like it (rows ...)'. No kind is hidden behind another, however
+    rare."""
+    if shown is None or len(entries) <= WARNINGS_LISTED:  # a day's log lists every one, by its row
+        return [line for _, line, _ in entries]
+    kinds: dict[str, list] = {}
+    for label, line, message in entries:
+        kinds.setdefault(refusal_kind(message), []).append((label, line))
+    out = []
+    for members in kinds.values():
+        if len(members) <= shown + 1:  # never 'and 1 more like it': the line itself is as short
+            out += [line for _, line in members]
+            continue
+        out += [line for _, line in members[:shown]]
+        if len(members) > shown:
+            rest = [str(label) for label, _ in members[shown:]]
+            out.append(f"{indent}  and {len(rest)} more like it ({_label_list(rest)})")
+    return out
+
+
+def _label_list(labels: list[str]) -> str:
+    """Row or group labels as a short list: 'rows 12-40, 52' for plain rows of one log, else the first dozen."""
+    if all(label.startswith("row ") and label[4:].isdigit() for label in labels):
+        return _compact([label[4:] for label in labels])
+    return ", ".join(labels[:12]) + (f" and {len(labels) - 12} more" if len(labels) > 12 else "")
 
 
 def _fix_head_lines(group, vessel: str = "") -> list[str]:
@@ -408,15 +501,24 @@ def fix_report_lines(report) -> list[str]:
 
 def rejected_lines(rejected: pd.DataFrame, shown: int = 20) -> list[str]:
     """The rows not reduced, each with its reason (the first ``shown``; the rest counted)."""
+    from ..jobs.frames import row_list
+
     table = rejected.drop_duplicates(["source", "row"])
     several = table["source"].nunique() > 1
-    lines = [f"{len(table)} row(s) not reduced:"]
-    for item in table.head(shown).to_dict("records"):
-        where = f"{item['source']} row {item['row']}" if several else f"row {item['row']}"
-        column = f" ({item['column']})" if item["column"] else ""
-        lines.append(f"  {where}{column}: {item['reason']}")
-    if len(table) > shown:
-        lines.append(f"  and {len(table) - shown} more: 'navred reduce' lists every one")
+    lines = [f"{len(table)} row{'' if len(table) == 1 else 's'} not reduced:"]
+    # by kind of reason, in the order met: the first few rows of each in full, the rest counted; no kind hidden
+    kinds = table["reason"].astype(str).map(refusal_kind)
+    groups = list(table.groupby(kinds.to_numpy(), sort=False))
+    each = max(FULL_REFUSALS, shown // max(len(groups), 1)) if len(groups) > 1 else shown
+    each = min(each, shown) if len(table) > shown else len(table)
+    for _, members in groups:
+        for item in members.head(each).to_dict("records"):
+            where = f"{item['source']} row {item['row']}" if several else f"row {item['row']}"
+            column = f" ({item['column']})" if item["column"] else ""
+            lines.append(f"  {where}{column}: {item['reason']}")
+        if len(members) > each:
+            rest = members.iloc[each:]
+            lines.append(f"  and {len(rest)} more like it ({row_list(rest)}): 'navred reduce' lists every one")
     return lines
 
 

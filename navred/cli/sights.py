@@ -283,7 +283,13 @@ def _write_voyage_files(voyage, files: dict[str, str], chosen, plots: str | None
     from ..jobs.chartfiles import write_voyage_geojson, write_voyage_gpx
     from ..jobs.plotfiles import write_plots
     from ..jobs.voyagebook import write_workbook
-    from .format import group_warning_lines, labels_of, sight_warning_lines
+    from .format import (
+        WARNINGS_SHOWN,
+        group_warning_lines,
+        labels_of,
+        no_fix_lines,
+        sight_warning_lines,
+    )
 
     typer.echo(f"wrote {write_workbook(voyage, files['.xlsx'], plots=chosen)}")
     note = chosen.note("plotting sheets", min(voyage.n_fixes, chosen.limit) if chosen.embed else 0, voyage.n_fixes)
@@ -296,10 +302,28 @@ def _write_voyage_files(voyage, files: dict[str, str], chosen, plots: str | None
         typer.echo(f"wrote {write_voyage_gpx(voyage, files['.gpx'])}")
     if ".geojson" in files:
         typer.echo(f"wrote {write_voyage_geojson(voyage, files['.geojson'])}")
-    echo_lines(f"group {g.name}: no fix ({g.problem})" for g in voyage.groups if g.fix is None)
-    echo_lines(group_warning_lines(voyage.groups), err=True)
-    echo_lines(sight_warning_lines(voyage.reduced, labels_of(voyage.reduced)), err=True)
+    # a long log's warnings counted by kind, the first few of each shown: the workbook keeps every one
+    echo_lines(no_fix_lines(voyage.groups, shown=WARNINGS_SHOWN))
+    echo_lines(group_warning_lines(voyage.groups, shown=WARNINGS_SHOWN), err=True)
+    echo_lines(sight_warning_lines(voyage.reduced, labels_of(voyage.reduced), shown=WARNINGS_SHOWN), err=True)
+    counted = _counted_note(voyage)
+    if counted:
+        typer.echo(counted, err=True)
     typer.echo(voyage.summary())
+
+
+def _counted_note(voyage) -> str:
+    """Where the warnings were counted rather than each printed, how many there are and where all of them are."""
+    from .format import WARNINGS_SHOWN, group_warning_lines, labels_of, sight_warning_lines
+
+    every = (len(group_warning_lines(voyage.groups))
+             + len(sight_warning_lines(voyage.reduced, labels_of(voyage.reduced))))
+    shown = (len(group_warning_lines(voyage.groups, shown=WARNINGS_SHOWN))
+             + len(sight_warning_lines(voyage.reduced, labels_of(voyage.reduced), shown=WARNINGS_SHOWN)))
+    if every <= shown:
+        return ""
+    return (f"note: {every:,} warnings in all, the first {WARNINGS_SHOWN} of each kind shown above: every one is in "
+            "the workbook (each sight's in the Working sheet's flags, each fix's in the Fixes sheet's note)")
 
 
 DAYS_FILES = {".png": "the voyage's picture (DR legs, fixes, set and drift, noons)", ".svg": "the same picture",
@@ -333,6 +357,7 @@ def days_command(
     from ..jobs.reducing import require_reduced
     from .format import (
         NO_DAYS_WORK,
+        WARNINGS_SHOWN,
         days_csv,
         days_lines,
         group_warning_lines,
@@ -353,11 +378,12 @@ def days_command(
         print_notes(voyage)
         if csv:
             echo_csv(days_csv(report))
-            echo_lines(group_warning_lines(voyage.groups), err=True)
+            echo_lines(group_warning_lines(voyage.groups, shown=WARNINGS_SHOWN), err=True)
         else:
             echo_lines(days_lines(report))
-            echo_lines(group_warning_lines(voyage.groups), err=True)
-            echo_lines(sight_warning_lines(voyage.reduced, labels_of(voyage.reduced)), err=True)
+            echo_lines(group_warning_lines(voyage.groups, shown=WARNINGS_SHOWN), err=True)
+            echo_lines(sight_warning_lines(voyage.reduced, labels_of(voyage.reduced), shown=WARNINGS_SHOWN),
+                       err=True)
             if voyage.n_rejected_rows:  # each with its reason: a rejected entry row changes the day's work
                 echo_lines(rejected_lines(voyage.rejected), err=True)
         if report.nothing_reduced or (days.empty and not len(voyage.reduced)):

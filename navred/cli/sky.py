@@ -46,7 +46,13 @@ def almanac_command(
     with reported(ctx):
         number(dut1, "--dut1", COLUMN["dut1"].low, COLUMN["dut1"].high,  # as the log's dut1 column
                "seconds: UT1 − UTC is kept within 0.9 s by leap seconds, and the log's dut1 column is held to it")
-        echo_csv(almanac_text(list(bodies), utc, dut1, csv=csv))
+        from ..errors import TimeInputError
+
+        try:
+            text = almanac_text(list(bodies), utc, dut1, csv=csv)
+        except TimeInputError as exc:  # named by the option it came from
+            raise TimeInputError(f"--utc: {exc}") from None
+        echo_csv(text)
 
 
 @command("bodies")

@@ -19,6 +19,7 @@ Edge code (pandas); every value is checked with the parsers of the core and of
 from __future__ import annotations
 
 import functools
+import re
 from collections.abc import Iterable, Iterator
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -27,14 +28,15 @@ import numpy as np
 import pandas as pd
 
 from ..compass import DeviationCurve
-from ..constants import NS_PER_HOUR
 from ..corrections import HIGHEST_READING_DEG
 from ..errors import NavredError, api_boundary
 from ..timescales import (
     utc_jd_to_datetime64,
+    utc_jd_to_seconds_text,
 )
 from ..timework import (
     DATE_ORDERS,
+    watch_error_words,
 )
 from ..vocabulary import (
     BOOKKEEPING_HEADERS,
@@ -87,7 +89,7 @@ from .timesignals import Ratings
 #: The parsed columns of every sight, in order (documented in docs/sight-log.md).
 SIGHT_COLUMNS = [
     "source", "row", "sight_utc", "utc_jd1", "utc_jd2", "time_given", "time_as_read", "watch_error_applied_s",
-    "watch_error_from", "watch_error_warning", "timepiece",
+    "watch_error_as_given", "watch_error_from", "watch_error_warning", "timepiece",
     "zone_date_used", "zone_time_corrected", "zone_description_used_h", "greenwich_date", "body_name", "limb",
     "hs_deg", "index_error_arcmin", "eye_height_m", "eye_height_as_given", "horizon", "waterline_distance_nm",
     "measured_dip_arcmin", "temperature_c",
@@ -582,13 +584,11 @@ def _sight_table(n, sources, rows, parsed, gathered, times, message, where) -> p
         stamps[ok_time] = utc_jd_to_datetime64(times["jd1"][ok_time], times["jd2"][ok_time])
     utc = pd.Series(stamps).dt.tz_localize("UTC")
     zd = times["zd"]
-    shift = np.where(np.isfinite(zd), zd * NS_PER_HOUR, 0).astype(np.int64).astype("timedelta64[ns]")
     shown = np.isfinite(zd) & ok_time
     corrected = texts_of(n, "")
-    if shown.any():
-        local = (stamps[shown] - shift[shown]).astype("datetime64[s]")
-        corrected[shown] = np.datetime_as_string(local).astype(object)
-        corrected[shown] = [text[11:19] for text in corrected[shown]]
+    if shown.any():  # rounded to the second, a leap second kept as its :60 (ZT = UTC − ZD, whole hours)
+        local = utc_jd_to_seconds_text(times["jd1"][shown], times["jd2"][shown], zd[shown])
+        corrected[shown] = [text[11:19] for text in local.tolist()]
     greenwich = texts_of(n, "")
     if ok_time.any():  # each distinct date's text made once (and shared by its rows)
         days, each = np.unique(stamps[ok_time].astype("datetime64[D]"), return_inverse=True)
@@ -606,10 +606,26 @@ def _sight_table(n, sources, rows, parsed, gathered, times, message, where) -> p
             out[other] = [f"{cell_text(v)} {UNIT_NAMES[u]}" for v, u in zip(cells.values[other], cells.units[other])]
         return out
 
+    def watch_error_as_given():
+        """The watch error as the navigator wrote it ('7 s slow'); a bare number under a header that states the
+        sign, with its meaning ('-7 (7 s slow)'); blank where none was given."""
+        cells, ok = gathered["watch_error"], parsed["watch_error"].ok
+        out = texts_of(n, "")
+        shown: dict = {}  # each distinct (cell, seconds) once: a log repeats its watch error row after row
+        for i in np.flatnonzero(ok & ~cells.blank):
+            key = (cell_text(cells.values.iloc[i]).strip(), float(parsed["watch_error"].value[i]))
+            if key not in shown:
+                said = watch_error_words(key[1])
+                worded = re.search(r"fast|slow|\d\s*(?:f|sl)\.?$", key[0], re.IGNORECASE)
+                shown[key] = key[0] if worded else f"{key[0]} ({said})"
+            out[i] = shown[key]
+        return out
+
     return pd.DataFrame({
         "source": sources, "row": rows.astype(int), "sight_utc": utc,
         "utc_jd1": times["jd1"], "utc_jd2": times["jd2"], "time_given": times["time_given"],
         "time_as_read": times["as_read"], "watch_error_applied_s": times["watch_error_s"],
+        "watch_error_as_given": watch_error_as_given(),
         "watch_error_from": times["watch_error_from"], "watch_error_warning": times["watch_error_warning"],
         "timepiece": words(parsed["timepiece"]),
         "zone_date_used": times["zone_date"], "zone_time_corrected": corrected,

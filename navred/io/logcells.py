@@ -225,9 +225,20 @@ def _utc_components(value, dates):
         raise NavredError(f"{value!r} is a number, not an instant: format the cell as a date-time, or write "
                           "2026-03-26T19:41:00Z")
     elif isinstance(value, str):
-        value = iso_instant_text(value.strip(), dates)
-        if iso_zone_missing(value):  # text in the utc column is read as a date-time cell is: UTC, as named
-            value += "Z"
+        written = value.strip()
+        try:
+            value = iso_instant_text(written, dates)
+            made = value
+            if iso_zone_missing(value):  # text in the utc column is read as a date-time cell is: UTC, as named
+                value += "Z"
+            return tuple(float(np.asarray(c)) for c in instant_components(value))
+        except (NavredError, ValueError) as exc:
+            # the reason quotes the cell as the file holds it, never the text navred made of it
+            reason = str(exc)
+            for made_text in dict.fromkeys((value, locals().get("made", written))):
+                if made_text != written:
+                    reason = reason.replace(repr(made_text), repr(written))
+            raise NavredError(reason if repr(written) in reason else f"{written!r}: {reason}") from None
     return tuple(float(np.asarray(c)) for c in instant_components(value))
 
 
@@ -275,6 +286,10 @@ def _not_formula(value):
 
 def _decimal_text(value, decimal_comma):
     return value if isinstance(value, (int, float)) else with_decimal_point(cell_text(value), decimal_comma)
+
+
+#: The sign convention a watch error's header states, by the unit it was read as (vocabulary.WATCH_SIGN_WORDS).
+_WATCH_SIGN_STATED = {"s_fast": "fast", "s_slow": "slow"}
 
 
 _EAST_WEST = re.compile(r"^\s*(?:([EW])\s*)?([+-]?\d+(?:\.\d*)?)\s*°?\s*([EW])?\s*$", re.IGNORECASE)
@@ -366,7 +381,8 @@ PARSERS = {
     "lon": lambda v, dc, unit, dates: float(parse_angle(_not_formula(v), "lon", dc)),
     "index_error": lambda v, dc, unit, dates: float(parse_index_error_arcmin(_decimal_text(_not_formula(v), dc))),
     "number": lambda v, dc, unit, dates: _number(_not_formula(v), dc),
-    "watch_error": lambda v, dc, unit, dates: parse_watch_error_s(_decimal_text(_not_formula(v), dc)),
+    "watch_error": lambda v, dc, unit, dates: parse_watch_error_s(_decimal_text(_not_formula(v), dc),
+                                                                  _WATCH_SIGN_STATED.get(unit)),
     "utc": lambda v, dc, unit, dates: _utc_components(v, dates),
     "date": lambda v, dc, unit, dates: parse_date(_not_formula(v), dates),
     "time": lambda v, dc, unit, dates: _parse_time_cell(v),
@@ -533,7 +549,11 @@ def _numeric_checks(column, numbers: np.ndarray, units: np.ndarray) -> tuple[np.
         elif kind == "index_error":
             bad |= (used < column.low) | (used > column.high)
         elif kind == "watch_error":
-            bad |= (used < column.low) | (used > column.high) | (used > 0.0)  # a positive number has lost its sign: judged one by one
+            stated = np.isin(units.astype(str), list(_WATCH_SIGN_STATED))
+            used = np.where(units.astype(str) == "s_slow", -used, used)  # + is a slow watch: a correction, added
+            # without a stated sign a number has two readings (a spreadsheet drops a +; - is an error's slow or a
+            # correction's fast): judged one by one, and refused
+            bad |= (used < column.low) | (used > column.high) | ((used != 0.0) & ~stated)
         elif kind == "zone":
             bad |= True  # a number cell of a zone description: each is judged one by one
         elif kind == "east_west":

@@ -50,7 +50,8 @@ def time_working(parsed, gathered, problems, rates=None) -> dict:
     refused = usable & (reasons != "")
     for i in np.flatnonzero(refused):
         key = "utc" if has_utc[i] else "zone_time"
-        problems.add([i], gathered[key].headers[i], cell_text(gathered[key].values.iloc[i]), reasons[i])
+        written = cell_text(gathered[key].values.iloc[i])
+        problems.add([i], gathered[key].headers[i], written, f"{written.strip()!r}: {reasons[i]}")
     ok = usable & ~refused
     both = ok & has_utc & complete
     if both.any():

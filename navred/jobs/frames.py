@@ -21,6 +21,7 @@ from ..series import SIGMAS, THRESHOLD_ARCMIN, check_series, series_ids
 from ..status import SightStatus
 from ..timescales import Instant
 from ..vocabulary import CURRENT_DRIFT_COLUMN, CURRENT_SET_COLUMN, DR_AGE_COLUMN
+from .zoneslips import name_zone_slips
 
 
 @api_boundary
@@ -280,6 +281,7 @@ def fix_positions(reduced: pd.DataFrame, at_utc: Instant | Mapping[str, Instant]
         usable=usable, course_deg=column("course_deg", course_deg), speed_kn=column("speed_kn", speed_kn),
         at_utc=at_utc, chart_lat=chart_lat, chart_lon=chart_lon, solve_motion=solve_motion,
         labels=labels, **_per_sight(reduced, set_deg, drift_kn))
+    name_zone_slips(batch.results, reduced, group)
     results = {name: batch.results[k] for k, name in enumerate(chosen) if batch.results[k] is not None}
     problems = {name: batch.problems[k] for k, name in enumerate(chosen) if batch.results[k] is None}
     order = np.argsort(group, kind="stable")

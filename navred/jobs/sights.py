@@ -42,6 +42,7 @@ from ..vocabulary import (  # the columns reduce_sights adds, in order
     DR_CONTEXT_COLUMNS,
     RESULT_COLUMNS,
 )
+from .zoneslips import zone_sign_suspects
 
 #: A mark farther than this from the DR is not one a bearing is taken of (nautical miles; common practice: a
 #: light's range in clear weather is some 20-30 nm).
@@ -278,6 +279,8 @@ def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
         far = np.zeros(n, dtype=bool)
         far[rows] = np.abs(intercept_nm(corrections.ho_deg, hc)) > LARGE_INTERCEPT_NM
         notes.warn(far & ~below, f"intercept over {LARGE_INTERCEPT_NM:.0f} nm: check body, time, Hs and DR")
+        suspect, why = zone_sign_suspects(frame, far | below)
+        notes.warn(suspect, why)
         notes.warn(high, "high sight (Hc above 85°): the straight line of position is a poor "
                          "approximation; fix it on the sphere")
         _twilight_check(notes, rows, bodies, horizon, inst, lat, lon)

@@ -39,6 +39,7 @@ from .voyagetables import (
     plan_table,
     rejected_table,
     series_table,
+    with_reasons,
     working_table,
 )
 
@@ -169,7 +170,8 @@ def _write_about_sheet(book, voyage) -> None:
 
 def _plotting_sheets_below(fixes_sheet, voyage, anchor_row: int, pictures: Pictures) -> None:
     """The plotting sheets of the fixes below the Fixes table, as many as ``pictures`` allows."""
-    fixed = [group for group in voyage.groups if group.fix is not None]
+    # in the order of the Fixes table above them: by the fixes' times
+    fixed = sorted((group for group in voyage.groups if group.fix is not None), key=lambda group: group.fix.utc)
     shown = fixed[:pictures.limit] if pictures.embed else []
     note = pictures.note("plotting sheets", len(shown), len(fixed))
     if note:
@@ -204,6 +206,19 @@ def _write_timepieces_sheet(tables: TableWriter, sheet, voyage) -> None:
         write_table_sheet(tables, sheet, ratings.rejected, first_row=line + 1, wide={"reason": 90})
 
 
+#: Why a cell of the Day's work is blank, by block (noons, set and drift, estimated positions) and column: a blank
+#: cell always says why (the first noon has no run; a drift within its uncertainty leaves the set undetermined).
+_FIRST_NOON = "the first noon of the log: no noon before it to run from"
+DAYS_BLANK = (
+    {"noon position": "no position at noon (see noon from)", "run (nm)": _FIRST_NOON,
+     "course made good (deg)": _FIRST_NOON, "speed made good (kn)": _FIRST_NOON,
+     "through the water (nm)": _FIRST_NOON, "hours": _FIRST_NOON},
+    {"set (deg)": "no drift: no set", "set ±95 % (deg)": "not determined: the drift is within its uncertainty",
+     "drift ±95 % (kn)": "not determined", "note": "none"},
+    {"note": "none"},
+)
+
+
 def _write_days_sheet(tables: TableWriter, sheet, days, pictures: Pictures) -> None:
     """The day's work: noons and the day's run, set and drift, estimated positions, a voyage picture per vessel."""
     from openpyxl.styles import Font
@@ -229,11 +244,12 @@ def _write_days_sheet(tables: TableWriter, sheet, days, pictures: Pictures) -> N
         line += 1
         write_text_safe(sheet.cell(row=line, column=1), note)
     line += 3
-    for title, frame in blocks:
+    for k, (title, frame) in enumerate(blocks):
+        reasons = DAYS_BLANK[k] if k < len(DAYS_BLANK) else {}
         sheet.cell(row=line, column=1, value=title).font = Font(bold=True)
         line += 1
         if len(frame):
-            write_table_sheet(tables, sheet, labelled(frame), first_row=line,
+            write_table_sheet(tables, sheet, with_reasons(labelled(frame), reasons, ()), first_row=line,
                               wide={"noon from": 40, "from": 30, "note": 60})
             line += len(frame)
         else:
@@ -319,8 +335,8 @@ def _write_plan_sheet(tables: TableWriter, sheet, voyage, pictures: Pictures) ->
     several = len(plans) > 1
     table = pd.concat([plan_table(plan).assign(vessel=name)[["vessel", *plan_table(plan).columns]]
                        if several else plan_table(plan) for name, plan in plans], ignore_index=True)
-    write_table_sheet(tables, sheet, table)
-    line = len(table) + 3
+    # when and where first: a plan is read for its time and place before its bodies
+    line = 1
     for name, plan in plans:
         whose = f"{name}: " if name else ""
         sheet.cell(row=line, column=1, value="When and where").font = Font(bold=True)
@@ -332,6 +348,9 @@ def _write_plan_sheet(tables: TableWriter, sheet, voyage, pictures: Pictures) ->
         sheet.cell(row=line + 1, column=1, value="How the set was chosen").font = Font(bold=True)
         write_text_safe(sheet.cell(row=line + 1, column=2), f"{whose}{plan.explanation}")
         line += 2
+    write_table_sheet(tables, sheet, table, first_row=line + 1)
+    sheet.freeze_panes = f"A{line + 2}"
+    line += len(table) + 2
     if pictures.embed:
         from ..figures.plotting import sky_picture
 

@@ -70,11 +70,11 @@ def working_table(voyage) -> pd.DataFrame:
         "fix group": r["fix_group"].astype(str),
         "body": r.body_name,
         "time as read": r.time_as_read,
-        "watch error (s, fast +)": r.watch_error_applied_s,
+        "watch error": _watch_error_as_written(r),
         "zone date": r.zone_date_used,
         "zone time": r.zone_time_corrected,
         "ZD (h)": [f"{z:+.0f}" if np.isfinite(z) else "" for z in zone],
-        "UTC": [utc_cell(v) for v in r.sight_utc.dt.tz_convert(None).to_numpy()],
+        "UTC": utc_second_cells(r),
         "Greenwich date": r.greenwich_date,
         "Hs (° ′)": format_angle(r.hs_deg.to_numpy(dtype=float), "signed"),
         "Hs (deg)": r.hs_deg,
@@ -115,6 +115,30 @@ def working_table(voyage) -> pd.DataFrame:
     if len(voyage.vessels) > 1:  # a log of several ships: each sight names its own
         table.insert(table.columns.get_loc("fix group"), "vessel", r["vessel"].astype(str).to_numpy())
     return _with_latitudes(table, r)
+
+
+def utc_second_cells(r: pd.DataFrame) -> list:
+    """Each sight's UTC as a date-time cell rounded to the second, as the sheet shows it (a time cut to the second
+    shows a sight up to a second early); a leap second as the text '2016-12-31 23:59:60', which no date cell
+    holds."""
+    import datetime as dt
+
+    from ..timescales import utc_jd_to_seconds_text
+
+    texts = utc_jd_to_seconds_text(r.utc_jd1.to_numpy(dtype=float), r.utc_jd2.to_numpy(dtype=float)) \
+        if len(r) else np.zeros(0, dtype=object)
+    return [None if not t else t if t.endswith(":60") else dt.datetime.fromisoformat(t) for t in texts.tolist()]
+
+
+def _watch_error_as_written(r: pd.DataFrame) -> list[str]:
+    """The watch error as the log wrote it ('7 s slow'), or as a rating predicted it ('3.6 s fast'); 'none given'
+    where the time was taken as read."""
+    from ..timework import watch_error_words
+
+    given = r["watch_error_as_given"].astype(str) if "watch_error_as_given" in r.columns else pd.Series([""] * len(r))
+    applied = r.watch_error_applied_s.to_numpy(dtype=float)
+    return [g if g else (watch_error_words(a) if a else "none given")
+            for g, a in zip(given.tolist(), applied.tolist())]
 
 
 def _with_latitudes(table: pd.DataFrame, r: pd.DataFrame) -> pd.DataFrame:
@@ -171,7 +195,7 @@ def _with_columns_used(table: pd.DataFrame, r: pd.DataFrame, extra_columns, weig
         table.insert(table.columns.get_loc("body") + 1, "limb", np.where(limb != "", limb, "none (a point of light)"))
     rated = r.watch_error_from.astype(str).to_numpy()
     if ((rated != "") & (rated != "given")).any():
-        table.insert(table.columns.get_loc("watch error (s, fast +)") + 1, "watch error from", rated)
+        table.insert(table.columns.get_loc("watch error") + 1, "watch error from", rated)
     carried = r.dr_carried_from.astype(str).to_numpy()
     if (carried != "").any():
         table.insert(table.columns.get_loc("DR lon (° ′)") + 1, "DR", np.where(carried != "", carried, "as given"))
@@ -180,7 +204,7 @@ def _with_columns_used(table: pd.DataFrame, r: pd.DataFrame, extra_columns, weig
         where = table.columns.get_loc("speed (kn)") + 1 if "speed (kn)" in table.columns else len(table.columns)
         table.insert(where, "course and speed", np.where(motion != "", motion, "as given"))
     if not (r.time_given == "zone time").any() and not (r.watch_error_applied_s != 0).any():
-        table = table.drop(columns=["watch error (s, fast +)", "zone date", "zone time", "ZD (h)"])
+        table = table.drop(columns=["watch error", "zone date", "zone time", "ZD (h)"])
     # the log's own extra columns (a cadet's note, a sight number...) ride along at the end
     for column in extra_columns:
         if column in r.columns and column not in table:
@@ -218,7 +242,7 @@ def hand_working_table(voyage) -> pd.DataFrame:
         **_row_columns(voyage, r),
         "fix group": r["fix_group"].astype(str),
         "body": r.body_name,
-        "UTC": [utc_cell(v) for v in r.sight_utc.dt.tz_convert(None).to_numpy()],
+        "UTC": utc_second_cells(r),
         "GHA at the whole hour (Aries for a star) (° ′)": angle(w.gha_hour_deg),
         "GHA increment (° ′)": angle(w.increment_arcmin / 60.0, "signed"),
         "v (′)": np.where(np.isfinite(w.v_arcmin), w.v_arcmin.astype(object), "Sun or star"),
@@ -369,6 +393,9 @@ def fixes_table(voyage) -> pd.DataFrame:
             "speed made good (kn)": fix.speed_made_good_kn,
             "note": "; ".join(fix.warnings + ([group.chart_note] if group.chart_note else [])),
         })
+    # in the order of the fixes' times, as a master reads a fix list (two logs' groups came file by file); a
+    # group keeps its name, and its sights their row names; stable, so groups at one time keep the log's order
+    rows.sort(key=lambda row: (row["UTC"] is None, row["UTC"] or 0))
     table = pd.DataFrame(rows)
     if table.empty:
         return table

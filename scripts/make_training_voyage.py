@@ -137,9 +137,40 @@ def make_voyage(ts, eph, days: int = 8, seed: int = 1805):
                                               + ("noon" if len(bodies) == 4 and body == "Sun" else f"{when:%H%M}"),
                                  "vessel": "Grey Shearwater (invented)", "observer": observer,
                                  "voyage": "Training passage (invented)", "true_error_arcmin": round(error, 3)})
+    return pd.DataFrame(rows), reference_track(days)
+
+
+def reference_track(days: int) -> pd.DataFrame:
+    """The ship's true track every 10 minutes over the voyage, from an hour before to an hour after."""
     track_times = pd.date_range(START - pd.Timedelta(hours=1), START + pd.Timedelta(days=days, hours=1), freq="10min")
     lat, lon = true_position_array(track_times)
-    return pd.DataFrame(rows), pd.DataFrame({"utc": track_times, "lat": lat, "lon": lon})
+    return pd.DataFrame({"utc": track_times, "lat": lat, "lon": lon})
+
+
+#: the voyages the tests use, synthesized once by ``python scripts/make_training_voyage.py --freeze`` (skyfield
+#: takes seconds a voyage) and read back by :func:`frozen_voyage`: (days, seed)
+FROZEN_VOYAGES = ((5, 77), (3, 77))
+FROZEN = ROOT / "tests" / "data"
+
+
+def frozen_voyage_path(days: int, seed: int) -> Path:
+    return FROZEN / f"training_voyage_{days}d_seed{seed}.csv"
+
+
+def frozen_voyage(ts, eph, days: int, seed: int):
+    """:func:`make_voyage`'s sights and track, the sights read from the file ``--freeze`` wrote (the very
+    values, CSV keeping every float's digits) where there is one, synthesized where there is none."""
+    path = frozen_voyage_path(days, seed)
+    if not path.exists():
+        return make_voyage(ts, eph, days=days, seed=seed)
+    return pd.read_csv(path, keep_default_na=False, dtype={"limb": str}), reference_track(days)
+
+
+def freeze(ts, eph) -> None:
+    for days, seed in FROZEN_VOYAGES:
+        sights, _ = make_voyage(ts, eph, days=days, seed=seed)
+        sights.to_csv(frozen_voyage_path(days, seed), index=False)
+        print(f"froze {len(sights)} sights of the {days}-day voyage (seed {seed}) in {frozen_voyage_path(days, seed)}")
 
 
 def true_position_array(times: pd.DatetimeIndex):
@@ -184,6 +215,9 @@ def main() -> None:
 
     ts = load.timescale(builtin=True)
     eph = load(str(files("skyfield_data") / "data" / "de421.bsp"))
+    if "--freeze" in sys.argv[1:]:
+        freeze(ts, eph)
+        return
     sights, track = make_voyage(ts, eph)
     sights.to_csv(OUT / "training_sights.csv", index=False)
     write_gpx(track, OUT / "training_track.gpx")

@@ -418,7 +418,7 @@ def test_a_cadets_sight_book_over_a_voyage_keeps_remarks_and_shows_progress_and_
     personal error the one `navred training` gives for the same sights."""
     import make_training_voyage as voyage_maker
 
-    sights, track = voyage_maker.make_voyage(ts, eph, days=3, seed=77)
+    sights, track = voyage_maker.frozen_voyage(ts, eph, days=3, seed=77)  # (frozen by the script: --freeze)
     track_path = tmp_path / "track.csv"
     track.assign(utc=track.utc.dt.strftime("%Y-%m-%dT%H:%M:%SZ")).to_csv(track_path, index=False)
     log = sights.drop(columns=["true_error_arcmin"])

@@ -20,7 +20,7 @@ import make_training_voyage as voyage_maker  # noqa: E402  (the invented voyage,
 @pytest.fixture(scope="module")
 def training_files(ts, eph, tmp_path_factory):
     folder = tmp_path_factory.mktemp("training")
-    sights, track = voyage_maker.make_voyage(ts, eph, days=5, seed=77)
+    sights, track = voyage_maker.frozen_voyage(ts, eph, days=5, seed=77)  # (frozen by the script: --freeze)
     sights.to_csv(folder / "sights.csv", index=False)
     voyage_maker.write_gpx(track, folder / "track.gpx")  # written by gpxpy, not navred
     voyage_maker.write_nmea(track, folder / "track.nmea")  # written by pynmea2, not navred

@@ -772,12 +772,7 @@ def _finish(source, header, columns, numbers, problems, malformed, separator, em
                 continue
             problems[int(row)] = (header[k], _text_problem(str(column.iloc[row])))
             malformed[int(row)] = ["" if _is_blank(c.iloc[row]) else _shown(str(c.iloc[row])) for c in columns]
-    if problems:
-        rows = np.fromiter(problems, dtype=int)
-        for k, column in enumerate(columns):
-            cells = column.to_numpy(dtype=object, copy=True)
-            cells[rows] = None
-            columns[k] = pd.Series(cells, dtype=object)
+    _blank_rows(columns, problems)
     return RawTable(source, header, columns, numbers, problems, separator, separator in (";", "\t"), empty,
                     malformed)
 
@@ -814,6 +809,17 @@ def _distinct_text(column: pd.Series):
         codes = np.where(codes >= 0, remap[codes], -1)
         uniques = uniques[is_text]
     return codes, uniques
+
+
+def _blank_rows(columns: list[pd.Series], problems: dict[int, tuple[str, str]]) -> None:
+    """Empty every cell of the rows a problem rejects (in place), so that nothing of a rejected row is read."""
+    if not problems:
+        return
+    rows = np.fromiter(problems, dtype=int)
+    for k, column in enumerate(columns):
+        cells = column.to_numpy(dtype=object, copy=True)
+        cells[rows] = None
+        columns[k] = pd.Series(cells, dtype=object)
 
 
 def _is_blank(value) -> bool:
@@ -1013,12 +1019,7 @@ def _from_frame(frame) -> RawTable:
             for index in np.flatnonzero(column.map(lambda v: isinstance(v, CellProblem)).to_numpy(dtype=bool)):
                 problems.setdefault(int(index), (header[k], column.iloc[index].reason))
     malformed = {i: ["" for _ in header] for i in problems}
-    if problems:
-        rows = np.fromiter(problems, dtype=int)
-        for k, column in enumerate(columns):
-            cells = column.to_numpy(dtype=object, copy=True)
-            cells[rows] = None
-            columns[k] = pd.Series(cells, dtype=object)
+    _blank_rows(columns, problems)
     return _finish("(table)", header, columns, numbers, problems, malformed, None, int((~keep).sum()))
 
 

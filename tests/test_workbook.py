@@ -441,21 +441,22 @@ def test_the_sight_plan_sheet_in_the_trade_figures(tmp_path):
 
 
 def test_the_days_work_sheet_says_why_each_blank_is_blank(tmp_path):
-    """The first noon has no run, a drift within its uncertainty no set: each blank cell says so (common
-    practice: a blank in a log is a question)."""
+    """The first noon has no run, a drift within its uncertainty no set, a latitude on the meridian no
+    ex-meridian limit, an entry no course of its own: each blank cell says so (common practice: a blank in a
+    log is a question)."""
     voyage = process_log("sample_sights/passage_log.csv")
     book = openpyxl.load_workbook(write_workbook(voyage, tmp_path / "p.xlsx", plots=False))
     values = list(book["Day's work"].values)
     blocks, k = [], 0
     while k < len(values):  # each block: a title row, a header row, its rows, then an empty row
-        if values[k][0] and k + 1 < len(values) and values[k + 1][0] == "vessel":
+        if values[k][0] and k + 1 < len(values) and values[k + 1][0] in ("vessel", "row"):
             header = [h for h in values[k + 1] if h is not None]
             end = next((j for j in range(k + 2, len(values)) if all(v is None for v in values[j])), len(values))
             blocks.append([dict(zip(header, row)) for row in values[k + 2:end]])
             k = end
         k += 1
-    assert len(blocks) >= 3 and all(blocks)
-    for block in blocks[:3]:  # noons, set and drift, estimated positions
+    assert len(blocks) >= 5 and all(blocks)
+    for block in blocks:  # noons, set and drift, estimated positions, latitudes, the DR's entries
         for row in block:
             assert all(v is not None and v != "" for v in row.values()), row
     first = blocks[0][0]

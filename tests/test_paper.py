@@ -964,3 +964,18 @@ def test_over_the_date_line_eastbound_each_round_is_on_its_own_days_page_once():
         if page is pages[0]:
             assert [f[1] for f in found] == ["−12", "+12"]
     assert len(planned) == len(set(planned)) == 2 * len(pages)
+
+
+def test_a_change_signed_plus_is_written_to_the_csv_and_anything_else_formula_like_is_refused():
+    """Trial finding: a passage whose Moon moves north (its hourly Dec change printed +15.8) lost every CSV table
+    ('could be taken for a formula'). A cell that is only a signed number is what a spreadsheet reads as that
+    number (common practice); a cell that could run as a formula is still refused, never written changed."""
+    from navred.errors import NavredError
+    from navred.io.printed import Table, table_csv
+
+    table = Table(columns=("hour", "Δ Dec"), rows=(("00", "+15.8"), ("01", "−3.8")), name="moon",
+                  csv_columns=("hour", "d_dec_arcmin"))
+    assert table_csv(table).splitlines() == ["hour,d_dec_arcmin", "00,+15.8", "01,−3.8"]
+    for bad in ("+15.8+cmd|' /C calc'!A0", "=1+1", "-2+3", "@SUM(1)"):
+        with pytest.raises(NavredError, match="could be taken for a formula"):
+            table_csv(Table(columns=("a",), rows=((bad,),), name="x", csv_columns=("a",)))

@@ -12,6 +12,7 @@ extracted and searched.
 from __future__ import annotations
 
 import datetime as _dt
+import re
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -123,12 +124,17 @@ class Document:
         return found
 
 
+#: a cell that is only a signed number (a spreadsheet reads it as that number, never as a formula)
+_SIGNED_NUMBER = re.compile(r"[+-]\d+(\.\d+)?")
+
+
 def table_csv(table: Table) -> str:
     """A table as CSV text: its snake_case headers and the printed cell texts, unchanged.
 
     A cell that a spreadsheet could take for a formula would have to be changed to be safe; navred's
-    own tables never begin a cell so (negative numbers use the minus sign −, not the hyphen), and
-    one that did is refused rather than written differently from the page.
+    own tables never begin a cell so (negative numbers use the minus sign −, not the hyphen) but for a
+    number signed + (a change northward, +15.8), which a spreadsheet reads as the number it is; any other
+    is refused rather than written differently from the page.
     """
     import csv
     import io
@@ -138,7 +144,7 @@ def table_csv(table: Table) -> str:
     writer.writerow(table.csv_columns)
     for row in table.rows:
         for cell in row:
-            if cell.startswith(FORMULA_STARTS):
+            if cell.startswith(FORMULA_STARTS) and not _SIGNED_NUMBER.fullmatch(cell):
                 raise NavredError(f"table {table.name}: the cell {cell!r} could be taken for a formula")
         writer.writerow(row)
     return out.getvalue()

@@ -952,3 +952,13 @@ def test_a_blank_index_error_is_said_to_be_taken_as_nil(tmp_path):
     log = read_sight_log(tmp_path / "blank_ie.csv")
     assert any("index error blank on row 2, row 6: IE 0′ assumed" in note for note in log.notes)
     assert not any("index error" in note for note in read_sight_log(DEMO).notes)
+
+
+def test_a_blank_watch_error_in_zone_time_is_said_to_be_taken_as_nil(tmp_path):
+    # trial finding: a blank watch-error cell was taken as 0 s without a word (a blank IE is said; so is this)
+    path = write(tmp_path, [ZONE_HEADER, zone_row(), zone_row(error=""), zone_row(error="0 s")])
+    log = read_sight_log(path)
+    assert [n for n in log.notes if "watch error blank" in n] == [
+        "watch error blank on row 3: the time taken as read, 0 s fast or slow assumed (write 0 s where the watch is "
+        "right; 1 s of time is 0.25′ of longitude)"]
+    assert not any("watch error blank" in n for n in read_sight_log(write(tmp_path, [ZONE_HEADER, zone_row()])).notes)

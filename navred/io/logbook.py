@@ -493,7 +493,7 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None, deviation=None) -
         table = table[sight_row].reset_index(drop=True)
     notes = tuple(dict.fromkeys([note for layout in layouts for note in layout.notes]
                                 + _zone_notes(gathered["utc"], parsed["utc"].ok & sight_row, dates, sources, rows)
-                                + _assumed_notes(gathered, sources, rows, (message == "") & sight_row)
+                                + _assumed_notes(gathered, sources, rows, (message == "") & sight_row, times)
                                 + list(times.get("notes", []))))
     return SightLog(table, rejected, tuple(t.source for t in tables), sum(t.empty_rows for t in tables), dates,
                     tuple(names), tuple(tables), entries=entries, notes=notes)
@@ -515,18 +515,29 @@ def _zone_notes(cells, ok, dates, sources, rows) -> list[str]:
             "(write Z, 2026-03-26T19:41:00Z, to say UTC)"]
 
 
-def _assumed_notes(gathered, sources, rows, sights: np.ndarray) -> list[str]:
-    """Where a value the navigator left blank is taken as its default, say so: a blank index error is 0′."""
-    cells = gathered["index_error"]
-    if not cells.present:
-        return []
-    blank = np.flatnonzero(cells.blank & sights)
-    if not blank.size:
-        return []
+def _assumed_notes(gathered, sources, rows, sights: np.ndarray, times: dict) -> list[str]:
+    """Where a value the navigator left blank is taken as its default, say so: a blank index error is 0′; a blank
+    watch error on a sight kept in zone time (no rating log giving it) is 0 s."""
     several = len(set(sources.tolist())) > 1
-    named = [f"{sources[i]} row {rows[i]}" if several else f"row {rows[i]}" for i in blank[:8].tolist()]
-    more = f" and {blank.size - 8} more" if blank.size > 8 else ""
-    return [f"index error blank on {', '.join(named)}{more}: IE 0′ assumed (write 0 where it is nil)"]
+    notes = []
+
+    def named(blank: np.ndarray) -> str:
+        shown = [f"{sources[i]} row {rows[i]}" if several else f"row {rows[i]}" for i in blank[:8].tolist()]
+        return ", ".join(shown) + (f" and {blank.size - 8} more" if blank.size > 8 else "")
+
+    cells = gathered["index_error"]
+    if cells.present:
+        blank = np.flatnonzero(cells.blank & sights)
+        if blank.size:
+            notes.append(f"index error blank on {named(blank)}: IE 0′ assumed (write 0 where it is nil)")
+    cells = gathered["watch_error"]
+    if cells.present:
+        zone_kept = np.isfinite(np.asarray(times["zd"], dtype=float)) & (np.asarray(times["watch_error_from"]) == "")
+        blank = np.flatnonzero(cells.blank & sights & zone_kept)
+        if blank.size:
+            notes.append(f"watch error blank on {named(blank)}: the time taken as read, 0 s fast or slow assumed "
+                         "(write 0 s where the watch is right; 1 s of time is 0.25′ of longitude)")
+    return notes
 
 
 def _tabled(n, sources, rows, parsed, gathered, times, problems, by_reader, dr, motion_note, entry, is_entry):

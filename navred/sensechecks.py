@@ -18,6 +18,12 @@ SEXTANT_SIGMA_LIMIT_ARCMIN = 2.0
 
 SCATTER_CONFIDENCE = 0.999
 
+#: The closest agreement sextant sights at sea give: about 0.3′ for the best work (the arc read to 0.1′, the
+#: horizon and the eye adding the rest; common practice). A round whose σ is below this at 99.9 % (chi-square,
+#: two or more sights beyond the unknowns) agrees more closely than sights observed: its ellipse, drawn from
+#: that agreement, is too small, and the fix says so.
+SEXTANT_SIGMA_BEST_ARCMIN = 0.3
+
 
 #: Sights spanning more than this (minutes) with no course, no speed and one DR: the ship is taken as
 #: stopped, and the fix says so.
@@ -122,6 +128,11 @@ def sense_checks(results: list[FixResult], run_from: list[RunFrom], span_min: np
         limit[dof >= 1] = SEXTANT_SIGMA_LIMIT_ARCMIN * np.sqrt(chi_square_quantile(SCATTER_CONFIDENCE, dof[dof >= 1])
                                                                / dof[dof >= 1])
     wild = is_fix & (sigma > limit)
+    floor = np.zeros(dof.size)
+    if (dof >= 2).any():
+        floor[dof >= 2] = SEXTANT_SIGMA_BEST_ARCMIN * np.sqrt(
+            chi_square_quantile(1.0 - SCATTER_CONFIDENCE, dof[dof >= 2]) / dof[dof >= 2])
+    too_close = is_fix & (dof >= 2) & (sigma < floor)
     far = distance > allowed
     dr_alone = DR_ALONE_SCALE * dr_sigma
     major = np.where(is_fix, size, 0.0)
@@ -159,6 +170,13 @@ def sense_checks(results: list[FixResult], run_from: list[RunFrom], span_min: np
             f"{(axis + 180.0) % 360.0:03.0f}°) is larger than the DR's own 95 % circle ({dr_alone[j]:.1f} nm for a DR "
             f"{age_h[j]:.1f} h old at {speed_kn[j]:.1f} kn, navred's DR-error model): {why}; along that axis the "
             "DR is the better guide")
+    for j in np.flatnonzero(too_close).tolist():
+        result = results[j]
+        result.warnings.append(
+            f"the sights agree to σ {result.sigma_arcmin:.2f}′, closer than sights observed at sea agree (the best "
+            f"sextant work is about {SEXTANT_SIGMA_BEST_ARCMIN:.1f}′): the 95 % ellipse, drawn from that agreement, is "
+            "too small to trust; if the altitudes were computed, rounded from a fix or copied, take the position as "
+            "good to a mile or two at best")
     common = np.array([common_error_arcmin(r) if w else np.nan for r, w in zip(results, wild)])
     for j in np.flatnonzero(wild).tolist():
         result = results[j]
@@ -176,7 +194,7 @@ def sense_checks(results: list[FixResult], run_from: list[RunFrom], span_min: np
                else ""))
 
 
-__all__ = ["SEXTANT_SIGMA_LIMIT_ARCMIN", "SCATTER_CONFIDENCE", "STOPPED_SPAN_MIN", "UNKNOWN_DR_AGE_H",
+__all__ = ["SEXTANT_SIGMA_LIMIT_ARCMIN", "SEXTANT_SIGMA_BEST_ARCMIN", "SCATTER_CONFIDENCE", "STOPPED_SPAN_MIN", "UNKNOWN_DR_AGE_H",
            "DR_DISAGREEMENT_SIGMAS", "COMMON_ERROR_MIN_ARCMIN", "COMMON_ERROR_SHARE", "COMMON_ERROR_MIN_SIGHTS",
            "COMMON_ERROR_MIN_SPREAD", "common_error", "common_error_arcmin",
            "sense_checks"]

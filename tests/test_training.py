@@ -154,3 +154,24 @@ def test_a_voyage_of_one_day_gives_no_trend_and_says_why(tmp_path):
     assert "nan" not in text.lower()
     if text:
         assert "none (see below)" in text
+
+
+def test_a_fix_that_cannot_be_trusted_is_never_marked_plainly_inside_its_ellipse():
+    """Trial finding: a fix headed CANNOT BE TRUSTED was reported 'reference inside the 95 % ellipse: yes' with no
+    word of it; an ellipse that means nothing cannot vouch for the fix (common practice)."""
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+
+    voyage = process_log("sample_sights/training_sights.csv", plan=False)
+    report = training_report(voyage.reduced, read_track("sample_sights/training_track.gpx"), voyage.groups)
+    untrusted = {g.name: g.fix.untrusted for g in voyage.groups if g.fix is not None and g.fix.untrusted}
+    assert untrusted  # the invented voyage holds one (a cadet's round)
+    rows = report.fixes.set_index("fix_group").loc[list(untrusted)]
+    assert all(v.endswith("(but the fix cannot be trusted)") for v in rows.reference_inside_95)
+    assert all(n == f"CANNOT BE TRUSTED: {untrusted[g]}" for g, n in rows.note.items())
+    text = CliRunner().invoke(app, ["training", "sample_sights/training_sights.csv", "--track",
+                                    "sample_sights/training_track.gpx"]).stdout
+    for name in untrusted:
+        line = next(line for line in text.splitlines() if line.startswith(f"fix {name}:"))
+        assert "(but the fix cannot be trusted); CANNOT BE TRUSTED:" in line

@@ -608,7 +608,8 @@ def training_lines(run, track: str) -> list[str]:
             continue
         if row.get("kind", FixKind.FIX) == FixKind.FIX:
             lines.append(f"fix {row['fix_group']}: {distance:.1f} nm from the reference, "
-                         f"reference inside the 95 % ellipse: {row['reference_inside_95']}")
+                         f"reference inside the 95 % ellipse: {row['reference_inside_95']}"
+                         + (f"; {row['note']}" if row.get("note") else ""))
         else:
             lines.append(f"{row['kind']} {row['fix_group']} (not a fix): the reference lies {distance:.1f} nm off it, "
                          f"{row['reference_inside_95']}")

@@ -124,8 +124,10 @@ def training_report(reduced: pd.DataFrame, track: ReferenceTrack, groups: object
             fix_rows.append({"fix_group": group.name, "utc": str(fix.utc)[:19], "observers": who, "kind": fix.kind,
                              "distance_from_reference_nm": check.distance_nm,
                              "bearing_to_reference_deg": check.bearing_deg,
-                             "reference_inside_95": "yes" if check.inside_ellipse else "NO",
-                             "ellipse_semi_major_95_nm": fix.ellipse_semi_major_nm, "note": ""})
+                             "reference_inside_95": ("yes" if check.inside_ellipse else "NO") + (
+                                 " (but the fix cannot be trusted)" if fix.untrusted else ""),
+                             "ellipse_semi_major_95_nm": fix.ellipse_semi_major_nm,
+                             "note": f"CANNOT BE TRUSTED: {fix.untrusted}" if fix.untrusted else ""})
         else:
             # not a fix: the sights give one line (or a latitude), so they are marked by the reference's distance off it
             fix_rows.append({"fix_group": group.name, "utc": str(fix.utc)[:19], "observers": who, "kind": fix.kind,

@@ -122,6 +122,9 @@ def test_the_bridge_pages_one_per_round_each_headed_with_the_caution(tmp_path):
         assert " ".join(CAUTION.split()) in flat and "valid 2025-06-10 to 2025-06-11" in flat and "JPL DE421" in flat
         assert re.search(r"\d\d:\d\d zone time \(ZD \+1\), \d\d:\d\d UTC", flat)
         assert "Hs to preset" in flat and "●" in flat
+    # the index error in the trade's words on the page as on the console, never a bare sign (trial finding)
+    words = re.search(r"index error \d+\.\d′( on the arc| off the arc)?", result.stdout).group(0)
+    assert all(words in " ".join(page.split()) for page in pages[1:]) and "(on the arc +)" not in "".join(pages)
     assert (tmp_path / "plan.txt").read_text(encoding="utf-8") == result.stdout
     assert result.stderr.count(CAUTION) == 1 and "wrote" in result.stderr and "wrote" not in result.stdout
 

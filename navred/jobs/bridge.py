@@ -299,14 +299,18 @@ class BridgePlan:
 
     # --- the console ---------------------------------------------------------------------------
 
+    def index_error_words(self) -> str:
+        """The index error as the trade says it, on or off the arc (never a bare sign a reader may take for the
+        correction): 'index error 2.0′ off the arc'."""
+        ie = self.index_error_arcmin
+        return f"index error {abs(ie):.1f}′" + (" on the arc" if ie > 0 else " off the arc" if ie < 0 else "")
+
     def text_lines(self) -> list[str]:
         moving = (f", then {self.course_deg:05.1f}° at {self.speed_kn:.1f} kn" if self.speed_kn > 0 else
                   " (a fixed position)")
-        ie = self.index_error_arcmin
         lines = [f"Sight plan along the DR from {dm(self.lat_deg, 'lat')} {dm(self.lon_deg, 'lon')} at 00:00 local "
                  f"time of {self.first_date}{moving}",
-                 f"Height of eye {self.eye_height_m:g} m, index error {abs(ie):.1f}′"
-                 + (" on the arc" if ie > 0 else " off the arc" if ie < 0 else "")
+                 f"Height of eye {self.eye_height_m:g} m, {self.index_error_words()}"
                  + ": the Hs to preset is Hc with dip, refraction, SD, parallax and index error taken back off.",
                  "Times are zone time (ZT + ZD = UTC) with UTC in brackets, to the minute; '-': the event does not "
                  "happen that day.", ""]
@@ -458,7 +462,7 @@ class BridgePlan:
             if not np.isnat(round_.nautical):
                 times = twilight_times(round_, zd)
                 blocks.append(Text(f"{times[0].upper()}{times[1:]} zone time. Height of eye {self.eye_height_m:g} "
-                                   f"m, index error {signed(self.index_error_arcmin)}′ (on the arc +): set the Hs and "
+                                   f"m, {self.index_error_words()}: set the Hs and "
                                    "look along the Zn. ● the recommended set.", "body"))
             blocks.append(table)
             figure = sky_picture(round_.plan, title=f"{round_.label}: {hm(zone_time(p.utc, zd))} zone, "

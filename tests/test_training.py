@@ -175,3 +175,12 @@ def test_a_fix_that_cannot_be_trusted_is_never_marked_plainly_inside_its_ellipse
     for name in untrusted:
         line = next(line for line in text.splitlines() if line.startswith(f"fix {name}:"))
         assert "(but the fix cannot be trusted); CANNOT BE TRUSTED:" in line
+
+
+def test_the_instructors_summary_never_prints_a_signed_zero():
+    # trial finding: the one-page summary printed "-0.00"; the trade never writes a signed zero (common practice)
+    from navred.figures.training import hundredths
+
+    assert [hundredths(v, True) for v in (-0.001, 0.004, 0.0, -0.0, 1.234, -1.236)] == [
+        "0.00", "0.00", "0.00", "0.00", "+1.23", "-1.24"]
+    assert [hundredths(v, False) for v in (-0.004, 0.456)] == ["0.00", "0.46"]

@@ -39,10 +39,16 @@ def observer_figure(report, observer: str):
     right.hist(good, bins=max(5, min(20, len(good) // 3)), color=INK, alpha=0.8)
     right.set_xlabel("error (′), blunders left out", fontsize=7)
     right.tick_params(labelsize=6)
-    figure.suptitle(f"{observer}: {int(row['sights'])} sights, personal error {row['personal_error_arcmin']:+.2f}′ "
+    figure.suptitle(f"{observer}: {int(row['sights'])} sights, personal error {hundredths(row['personal_error_arcmin'], True)}′ "
                     f"± {row['interval_95_arcmin']:.2f}′ (95 %), scatter {row['scatter_arcmin']:.2f}′, "
                     f"blunders {int(row['blunders'])}", fontsize=8, color=INK, x=0.08, ha="left")
     return figure
+
+
+def hundredths(value: float, signed: bool) -> str:
+    """A figure to 0.01′, signed where the sign says which way, never a signed zero ('-0.00')."""
+    text = f"{value:+.2f}" if signed else f"{value:.2f}"
+    return "0.00" if text in ("-0.00", "+0.00") else text
 
 
 def summary_figure(report, title: str = "Training summary"):
@@ -73,8 +79,9 @@ def summary_figure(report, title: str = "Training summary"):
                "trend_arcmin_per_day"]
     reasons = {"personal_error_arcmin": "no good sight", "interval_95_arcmin": "one sight",
                "scatter_arcmin": "one sight", "trend_arcmin_per_day": "none (see below)"}
-    cells = [[(f"{v:.2f}" if v == v else reasons.get(c, "")) if isinstance(v, float) else str(v) for v in obs[c]]
-             for c in columns]
+    signed = {"personal_error_arcmin", "trend_arcmin_per_day"}
+    cells = [[(hundredths(v, c in signed) if v == v else reasons.get(c, "")) if isinstance(v, float) else str(v)
+              for v in obs[c]] for c in columns]
     rows = list(zip(*cells))
     table = table_ax.table(cellText=rows, colLabels=["observer", "sights", "blunders", "personal error′", "± 95 %′",
                                                      "scatter′", "trend ′/day"], loc="upper center", cellLoc="center")

@@ -189,6 +189,8 @@ def test_a_running_fix_marks_its_advanced_lines_with_both_times(demo):
     assert any(e.text.startswith("running fix 15:40 ") for e in page.of("fix label"))
     # the line at its own time and the run that advanced it, where the sheet holds them
     assert "line before advance" in page.kinds() and "run" in page.kinds()
+    key = " ".join(e.text or "" for e in page.of("key"))  # the key names the green arrow it draws
+    assert "the green arrow: the run that advanced it" in " ".join(key.split())
 
 
 def _frame(rows, dr_north_nm, dr_east_nm, group="g", **columns):

@@ -681,7 +681,9 @@ def _footer(sheet, frame: _Frame, lops: list[_Lop], listed: list[_Lop]) -> None:
         text = ("A line with a double chevron was moved by the ship's run to the fix time, the chevron pointing the "
                 "way: advanced from its sight's time (or retired), labelled with both times.")
         if any(lop.before is not None for lop in lops):
-            text += " Dotted: a running fix's line at its own time; the green arrow: the run that advanced it."
+            text += " Dotted: a running fix's line at its own time"
+            text += ("; the green arrow: the run that advanced it." if any(lop.run_arrow is not None for lop in lops)
+                     else " (the run that advanced it falls outside the sheet).")
         y = _text_lines(sheet, MARGIN_PT, y, text, 7, INK, width, kind="key")
     y = _text_lines(sheet, MARGIN_PT, y, "Each line: body, sight time in UTC (→ time moved to), intercept toward (T) or away "
                     "(A) and Zn from the DR at the fix time (a moved line's differ from the Working sheet's, worked "

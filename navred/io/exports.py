@@ -24,6 +24,7 @@ from pathlib import Path
 import numpy as np
 
 from .. import __version__
+from ..angles import wrap_180
 from .cautions import CAUTION, geojson_with_caution, gpx_with_caution
 from .output import atomic_write
 
@@ -137,13 +138,13 @@ def _unwrapped(lon_deg) -> np.ndarray:
     lon = np.asarray(lon_deg, dtype=float)
     if lon.size < 2:
         return lon.copy()
-    step = (np.diff(lon) + 180.0) % 360.0 - 180.0
+    step = wrap_180(np.diff(lon))
     return np.concatenate([[lon[0]], lon[0] + np.cumsum(step)])
 
 
 def _wrapped(lon: float, side: float) -> float:
     """A longitude of a part in −180..180, a point on the antimeridian kept on its part's ``side`` (±180)."""
-    value = (lon + 180.0) % 360.0 - 180.0
+    value = float(wrap_180(lon))
     return side if abs(abs(value) - 180.0) < 1e-9 else value
 
 

@@ -12,7 +12,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from ..angles import parse_angle
+from ..angles import parse_angle, wrap_180
 from ..errors import NavredError, api_boundary
 from ..vocabulary import normalise_header
 from .readers import read_table
@@ -64,7 +64,7 @@ def read_route(path) -> pd.DataFrame:
     label = next((names[k] for k in ("name", "waypoint") if k in names), None)
     name = ([f"waypoint {str(v).strip()}" if label == names.get("waypoint") else str(v).strip()
              for v in table.columns[label]] if label is not None else [f"waypoint {k + 1}" for k in range(table.n_rows)])
-    lon = (lon + 180.0) % 360.0 - 180.0
+    lon = wrap_180(lon)
     return pd.DataFrame({"lat_deg": lat, "lon_deg": lon, "name": name})
 
 

@@ -26,6 +26,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from ..angles import wrap_180
 from ..constants import NS_PER_HOUR, NS_PER_MINUTE, NS_PER_SECOND
 from ..fixstats import DR_ERROR_FRACTION, DR_ERROR_KN
 from ..reckoning import (
@@ -232,9 +233,9 @@ def _from_estimated(track: DRTrack, noon: int, estimated: list[dict], ships: Shi
     else:
         text = _carried_text(f"the mean of {len(members)} estimated positions of the round", chosen["utc_ns"], noon,
                              track)
-    east = np.mean(((np.atleast_1d(lon) - float(np.atleast_1d(lon)[0]) + 180.0) % 360.0) - 180.0)
+    east = np.mean(wrap_180(np.atleast_1d(lon) - float(np.atleast_1d(lon)[0])))
     sigma = _from_dr(track, noon)[4]
-    return float(np.mean(lat)), float((np.atleast_1d(lon)[0] + east + 180.0) % 360.0 - 180.0), text, False, sigma
+    return float(np.mean(lat)), float(wrap_180(np.atleast_1d(lon)[0] + east)), text, False, sigma
 
 
 def _from_dr(track: DRTrack, noon: int):
@@ -307,7 +308,7 @@ def distance_to_go(lat: float, lon: float, waypoints: list[tuple[float, float, s
         across = float(to_each[a] * np.sin(np.radians(float(from_start) - float(leg_course))))
         heading = float(course_deg) if course_deg is not None and np.isfinite(course_deg) else float(leg_course)
         _, toward = rhumb_inverse(lat, lon, w_lat[nxt], w_lon[nxt])
-        while nxt < len(waypoints) - 1 and abs((float(toward) - heading + 180.0) % 360.0 - 180.0) > 90.0:
+        while nxt < len(waypoints) - 1 and abs(float(wrap_180(float(toward) - heading))) > 90.0:
             nxt += 1  # the waypoint lies abaft the ship's beam: it is past; steer for the next
             _, toward = rhumb_inverse(lat, lon, w_lat[nxt], w_lon[nxt])
         if abs(across) > OFF_ROUTE_NM:

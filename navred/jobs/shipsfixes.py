@@ -25,6 +25,7 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
+from ..angles import wrap_180
 from ..errors import NavredError
 from ..io.logbook import SightLog
 from ..status import SightStatus
@@ -152,7 +153,7 @@ def weighted_mean_position(lat_deg: np.ndarray, lon_deg: np.ndarray, cov_nm2: np
     independent, so it is the smallest the round can claim."""
     lat0, lon0 = float(lat_deg[0]), float(lon_deg[0])
     north = (np.asarray(lat_deg, dtype=float) - lat0) * 60.0
-    east = ((np.asarray(lon_deg, dtype=float) - lon0 + 180.0) % 360.0 - 180.0) * 60.0 * np.cos(np.radians(lat0))
+    east = wrap_180(np.asarray(lon_deg, dtype=float) - lon0) * 60.0 * np.cos(np.radians(lat0))
     cov = np.asarray(cov_nm2, dtype=float)
     good = np.array([np.all(np.isfinite(c)) and np.linalg.det(c) > 0 for c in cov])
     if not good.any():
@@ -161,7 +162,7 @@ def weighted_mean_position(lat_deg: np.ndarray, lon_deg: np.ndarray, cov_nm2: np
     total = np.linalg.inv(inverse.sum(axis=0))
     mean = total @ np.einsum("kij,kj->i", inverse, np.stack([north[good], east[good]], axis=1))
     lat = lat0 + mean[0] / 60.0
-    lon = (lon0 + mean[1] / 60.0 / np.cos(np.radians(lat0)) + 180.0) % 360.0 - 180.0
+    lon = float(wrap_180(lon0 + mean[1] / 60.0 / np.cos(np.radians(lat0))))
     return float(lat), float(lon), total
 
 

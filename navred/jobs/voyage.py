@@ -418,6 +418,7 @@ def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: obj
     bounds = np.concatenate([[0], np.cumsum(np.bincount(group[group >= 0], minlength=count))]).tolist()
     usable_count = np.bincount(group[(group >= 0) & usable], minlength=count)
     groups: list[GroupFix] = []
+    every_time = utc64(reduced["sight_utc"])  # (once for the table, not per group)
     for k, name in enumerate(distinct):
         rows = by_group[bounds[k]:bounds[k + 1]]
         position = (float(chart_lat[k]), float(chart_lon[k])) if np.isfinite(chart_lat[k]) else None
@@ -429,7 +430,7 @@ def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: obj
                           "checks)" if count_k == 1 else ""))
         result = batch.results[k]
         if result is not None and rows.size > 1:
-            times = utc64(reduced["sight_utc"].iloc[rows])
+            times = every_time[rows]
             span_h = float((times.max() - times.min()) / np.timedelta64(1, "h"))
             if span_h > LONG_GROUP_HOURS:
                 result.warnings.append(

@@ -200,7 +200,10 @@ def test_the_noon_report_gives_the_distance_to_go_and_eta_by_the_routes_own_figu
     at_waypoint = noons[noons["noon_utc"] == "2026-06-02 16:00:00"].iloc[0]  # 12:00 in zone +4 (near 60° W)
     expected = waypoints.rhumb_distance_to_next_nm[k:].sum()  # the route's own figures
     assert at_waypoint["to_go_nm"] == pytest.approx(expected, abs=0.01)
-    assert at_waypoint["to"].startswith(f"waypoint {waypoints.waypoint[k + 1]}")
+    from navred.io.waypoints import read_route
+
+    named = read_route(route).name.tolist()  # the names the route reader gives (WP004 for navred route's 4)
+    assert at_waypoint["to"].startswith(named[k + 1]) and named[k + 1].endswith(f"{waypoints.waypoint[k + 1]:03d}")
     hours = expected / at_waypoint["speed_made_good_kn"]
     eta = pd.Timestamp("2026-06-02T16:00:00") + pd.Timedelta(hours=hours)
     assert abs((pd.Timestamp(at_waypoint["eta_utc"]) - eta).total_seconds()) <= 30
@@ -209,7 +212,7 @@ def test_the_noon_report_gives_the_distance_to_go_and_eta_by_the_routes_own_figu
     result = CliRunner().invoke(app, ["days", str(tmp_path / "log.csv"), "--route", str(route), "-o",
                                       str(tmp_path / "reports.txt")])
     assert result.exit_code == 0, result.output
-    assert f"to go             {expected:.0f} nm to waypoint" in result.stdout
+    assert f"to go             {expected:.0f} nm to {named[k + 1]}" in result.stdout
     text = (tmp_path / "reports.txt").read_text()
     assert text.count("NOON REPORT") == len(noons) and "ETA" in text
     csv = CliRunner().invoke(app, ["days", str(tmp_path / "log.csv"), "--route", str(route), "--csv"])
@@ -264,7 +267,7 @@ def test_the_noon_report_sheet_shows_numbers_to_their_units_precision(tmp_path):
 def test_the_distance_to_go_steers_for_the_waypoint_ahead_and_says_when_off_the_route(tmp_path):
     """Trial finding: the passage's last noon, some 100 nm off a route made by navred route, counted 270 nm to go
     by a waypoint abaft her beam; the direct rhumb to the destination is 211 nm (geographiclib's geodesic 210.7)."""
-    from navred.io.routefile import read_route
+    from navred.io.waypoints import read_route
 
     route = tmp_path / "route.csv"
     made = CliRunner().invoke(app, ["route", "38 00 N", "010 00 W", "32 40 N", "017 00 W", "-o", str(route)])

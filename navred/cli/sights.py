@@ -224,7 +224,7 @@ def _processed(sights_files, files, dates, rates, solve_motion, carry_current, c
     from ..io.cards import deviation_curve
     from ..io.logbook import read_sight_log
     from ..io.output import check_output
-    from ..io.routefile import read_route
+    from ..io.waypoints import read_route
     from ..jobs.reducing import require_reduced
     from ..jobs.voyage import process_log
 

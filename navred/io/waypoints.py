@@ -84,6 +84,16 @@ def read_waypoints(path: str | Path) -> Waypoints:
     return Waypoints(lat, lon, tuple(names), str(file))
 
 
+def read_route(path: str | Path):
+    """The waypoints of a route file as a table (``lat_deg``, ``lon_deg`` in −180..180, ``name``), in order: the
+    waypoints ahead for the noon report's distance to go and ETA, read by :func:`read_waypoints` like the
+    paper's route (one reader of route files, the same refusals)."""
+    import pandas as pd
+
+    points = read_waypoints(path)
+    return pd.DataFrame({"lat_deg": points.lat_deg, "lon_deg": wrap_180(points.lon_deg), "name": list(points.names)})
+
+
 def _read_csv(file: Path) -> tuple[np.ndarray, np.ndarray, list[str]]:
     from .readers import ReadBudget, read_table
 
@@ -188,4 +198,4 @@ def _read_gpx(data: bytes, file: Path) -> tuple[np.ndarray, np.ndarray, list[str
     return lat, lon, [label or f"WP{k:03d}" for k, (_, _, label) in enumerate(chosen)]
 
 
-__all__ = ["Waypoints", "WaypointError", "read_waypoints", "MAX_WAYPOINTS", "MAX_READ_WAYPOINTS"]
+__all__ = ["read_route", "Waypoints", "WaypointError", "read_waypoints", "MAX_WAYPOINTS", "MAX_READ_WAYPOINTS"]

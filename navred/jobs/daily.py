@@ -33,7 +33,7 @@ def days_log(source: LogSource, *, dates: str | None = None, rates: Ratings | No
     observers whose sights are the ship's (the others are exercises); ``route``: a route file (``navred route``'s
     CSV) whose waypoints give the distance to go; ``card``: the deviation card that makes compass courses true."""
     from ..io.cards import deviation_curve
-    from ..io.routefile import read_route
+    from ..io.waypoints import read_route
 
     waypoints = read_route(route) if route else None
     deviation = deviation_curve(card) if card else None

@@ -180,7 +180,7 @@ def process_log(source: LogSource | SightLog, *, dates: str | None = None, solve
     error of sights kept in zone time without one; it is kept for the workbook's Timepieces sheet.
     ``navigators``: the observers whose sights are the ship's, every other's an exercise that never restarts
     her DR (:mod:`navred.jobs.shipsfixes`; a log's own ``role`` column says it row by row). ``route``: the
-    waypoints ahead (``lat_deg``, ``lon_deg``, ``name``; :func:`navred.io.routefile.read_route`) for the noon
+    waypoints ahead (``lat_deg``, ``lon_deg``, ``name``; :func:`navred.io.waypoints.read_route`) for the noon
     report. ``deviation`` (a :class:`navred.compass.DeviationCurve`, from the deviation card) makes a compass
     course entered without its deviation true.
     """

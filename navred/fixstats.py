@@ -364,8 +364,16 @@ def blunder_note(n: int, d: int, detectable: float, k: int) -> str:
     if d == 1:
         return (f"{n} sights for {k} unknowns cannot single out a bad sight: each residual is the same misfit "
                 "seen from one sight; take another sight to check them")
+    why = (" (so large because each sight is checked by few others in its direction: a blunder in one moves the "
+           "fix more than it shows in the residuals; take more sights, spread round the horizon)"
+           if detectable >= WEAK_CHECK_ARCMIN else "")
     return (f"{n} sights find a blunder of about {detectable:.0f}′ in half the rounds and a larger one in most (from "
-            f"the sights' own scatter); a smaller one only now and then")
+            f"the sights' own scatter){why}; a smaller one only now and then")
+
+
+#: A blunder the test finds only when it is this large (arcminutes) or larger is said to be so because the sights
+#: check each other little (a ten-minute slip of the vernier, the commonest slip, should be found; common practice).
+WEAK_CHECK_ARCMIN = 10.0
 
 
 #: The weight of the residuals in the sights' σ (:class:`SightVariance`) below which σ is said to be assumed.
@@ -426,7 +434,7 @@ def quantile_name(nu: float, d: int) -> str:
     return f"F(2, {d})" if abs(nu - d) < 0.05 else f"F(2, {nu:.1f})" if nu < 100 else f"F(2, {nu:.0f})"
 
 
-__all__ = ["A_PRIORI_SIGMA_ARCMIN", "DR_ERROR_KN", "DR_ERROR_FRACTION", "BLUNDER_ALPHA", "BLUNDER_CLEAR_ALPHA", "BLUNDER_MIN_ARCMIN",
+__all__ = ["A_PRIORI_SIGMA_ARCMIN", "WEAK_CHECK_ARCMIN", "DR_ERROR_KN", "DR_ERROR_FRACTION", "BLUNDER_ALPHA", "BLUNDER_CLEAR_ALPHA", "BLUNDER_MIN_ARCMIN",
            "GROSS_ARCMIN", "MAX_SIGHTS_SEARCHED", "CONFIDENCE", "WEAK_CROSSING_DEG", "DR_ALONE_SCALE", "SWAMPED_WEIGHT", "ELLIPSE_COVERS",
            "sigma_source", "error_ellipse",
            "azimuth_spread_deg", "azimuth_spread_many", "run_error_covariance", "plural", "sight_variance", "SightVariance",

@@ -112,6 +112,7 @@ def test_planted_blunder_is_flagged_and_the_refit_is_good(ts, eph):
     # what the test can find, from the scatter of the sights kept, does not contradict the flag
     assert fix.detectable_blunder_arcmin < abs(fix.residual_arcmin[3])
     assert "in half the rounds and a larger one in most" in fix.blunder_note
+    assert "checked by few others" not in fix.blunder_note  # a 10′ slip is found: nothing to explain
 
 
 def test_a_sight_is_never_dropped_silently():
@@ -597,3 +598,13 @@ def test_a_misread_altitude_is_not_called_a_common_error(twilight_rounds):
     noise[3] += 9.0 / 60.0
     fix = fix_position(reduced.assign(ho_deg=reduced.ho_deg + noise))
     assert not any("the same amount" in w for w in fix.warnings)
+
+
+def test_a_weak_blunder_check_says_why_it_is_weak():
+    # trial finding: a 4-sight Sun-run-Sun said "a blunder of about 57′ in half the rounds" with no word of why;
+    # a check that misses a 10′ slip (the commonest, common practice) says that the sights check each other little
+    from navred.fixstats import WEAK_CHECK_ARCMIN, blunder_note
+
+    weak = blunder_note(4, 2, 57.0, 2)
+    assert weak.startswith("4 sights find a blunder of about 57′ in half the rounds") and "checked by few others" in weak
+    assert "checked by few others" not in blunder_note(6, 4, WEAK_CHECK_ARCMIN - 0.5, 2)

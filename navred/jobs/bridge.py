@@ -463,7 +463,9 @@ class BridgePlan:
                 times = twilight_times(round_, zd)
                 blocks.append(Text(f"{times[0].upper()}{times[1:]} zone time. Height of eye {self.eye_height_m:g} "
                                    f"m, {self.index_error_words()}: set the Hs and "
-                                   "look along the Zn. ● the recommended set.", "body"))
+                                   "look along the Zn. ● the recommended set of "
+                                   f"{int(np.sum(round_.plan.recommended))} (--count; navred paper takes 4 unless "
+                                   "told, so its set may differ).", "body"))
             blocks.append(table)
             figure = sky_picture(round_.plan, title=f"{round_.label}: {hm(zone_time(p.utc, zd))} zone, "
                                                     f"{hm(p.utc)} UTC")

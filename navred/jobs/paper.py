@@ -527,7 +527,9 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
                                "before or after as 'holds' says (±20: 20 minutes either way; further off, or 'do not "
                                "use', work it by the formulas page). Plot every line from the DR above "
                                "and move it for the ship's run. Hs to preset: Hc with dip, refraction, SD, "
-                               "parallax and index error taken back off. ● the recommended set.", "small"))
+                               "parallax and index error taken back off. ● the recommended set of "
+                               f"{int(np.sum(twilight.plan.recommended))} (--count; navred plan takes 3 unless told, "
+                               "so its set may differ).", "small"))
             stamp = str(p.utc.astype("datetime64[m]")).replace(":", "").replace("T", "-")
             blocks.append(_twilight_table(twilight, f"sights-{stamp}"))
         if "Evening twilight" not in held:

@@ -72,6 +72,18 @@ def test_running_fix_at_70_north_with_a_90_degree_turn(ts, eph):
     assert fix.is_fix and fix.dr_error_included
 
 
+def displaced_altitudes(rng, trials, true_lat, true_lon, scale, gha, dec, sigma):
+    """Each trial's altitudes (degrees, trials × sights): the ship displaced once by the run's unknown error (one
+    normal draw in units of its σ, ``scale`` nm per sight), the altitude there by the spherical cosine formula
+    (common practice), plus the sights' own error of ``sigma`` arcminutes."""
+    shift = rng.normal(0.0, 1.0, (trials, 2))
+    lat = true_lat[None] + scale[None] * shift[:, :1] / 60.0
+    lon = true_lon[None] + scale[None] * shift[:, 1:] / 60.0 / np.cos(np.radians(true_lat))[None]
+    phi, d = np.radians(lat), np.radians(dec)[None]
+    return np.degrees(np.arcsin(np.sin(phi) * np.sin(d) + np.cos(phi) * np.cos(d)
+                                * np.cos(np.radians(gha[None] + lon)))) + rng.normal(0.0, sigma, lat.shape) / 60.0
+
+
 def test_the_dr_error_enters_the_ellipse_and_covers_the_truth(ts, eph):
     """Reference: Sun GHA and Dec from skyfield at each sight of the 70° N voyage (five sights over 8 h with a
     90° turn); altitudes computed in the test from the spherical formula at positions whose run from each
@@ -95,12 +107,7 @@ def test_the_dr_error_enters_the_ellipse_and_covers_the_truth(ts, eph):
         return np.tile(base[column].to_numpy(), trials)
 
     for sigma in (0.0, 0.5, 1.5):
-        shift = rng.normal(0.0, 1.0, (trials, 2))  # the one unknown displacement of the run, in units of its σ
-        lat = true_lat[None] + scale[None] * shift[:, :1] / 60.0
-        lon = true_lon[None] + scale[None] * shift[:, 1:] / 60.0 / np.cos(np.radians(true_lat))[None]
-        phi, d = np.radians(lat), np.radians(dec)[None]
-        ho = np.degrees(np.arcsin(np.sin(phi) * np.sin(d) + np.cos(phi) * np.cos(d)
-                                  * np.cos(np.radians(gha[None] + lon)))) + rng.normal(0.0, sigma, lat.shape) / 60.0
+        ho = displaced_altitudes(rng, trials, true_lat, true_lon, scale, gha, dec, sigma)
         batch = fixes_from_sights(
             tile("gha_deg"), tile("dec_deg"), ho.ravel(),
             np.tile(base.sight_utc.dt.tz_convert(None).to_numpy().astype("datetime64[ns]"), trials),
@@ -333,13 +340,7 @@ def test_a_three_sight_running_fix_over_seven_hours_gets_a_believable_ellipse(ts
         return np.tile(base[column].to_numpy(), trials)
 
     for sigma, low, high in ((0.3, 0.93, 0.995), (0.7, 0.93, 0.995), (1.5, 0.85, 0.97)):
-        shift = rng.normal(0.0, 1.0, (trials, 2))
-        lat = true_lat[None] + scale[None] * shift[:, :1] / 60.0
-        lon = true_lon[None] + scale[None] * shift[:, 1:] / 60.0 / np.cos(np.radians(true_lat))[None]
-        phi, d = np.radians(lat), np.radians(dec)[None]
-        # the altitude at the displaced position by the spherical cosine formula (common practice)
-        ho = np.degrees(np.arcsin(np.sin(phi) * np.sin(d) + np.cos(phi) * np.cos(d)
-                                  * np.cos(np.radians(gha[None] + lon)))) + rng.normal(0.0, sigma, lat.shape) / 60.0
+        ho = displaced_altitudes(rng, trials, true_lat, true_lon, scale, gha, dec, sigma)
         batch = fixes_from_sights(
             tile("gha_deg"), tile("dec_deg"), ho.ravel(),
             np.tile(base.sight_utc.dt.tz_convert(None).to_numpy().astype("datetime64[ns]"), trials),

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import importlib.resources
 import json
+import math
 import os
 import socket
 import warnings
@@ -163,6 +164,8 @@ def rhumb_integrated(lat_deg, lon_deg, course_deg, distance_nm, steps=None):
         return np.cos(c) / rho, np.sin(c) / (nu * np.cos(phi))
 
     phi, lam = np.radians(lat_deg), np.radians(lon_deg)
+    if all(np.ndim(v) == 0 for v in (lat_deg, lon_deg, course_deg, distance_nm)):
+        return _rhumb_integrated_scalar(float(phi), float(lam), float(c), float(h), steps, e2)
     for _ in range(steps):
         k1 = derivative(phi)
         k2 = derivative(phi + h / 2 * k1[0])
@@ -171,6 +174,27 @@ def rhumb_integrated(lat_deg, lon_deg, course_deg, distance_nm, steps=None):
         phi = phi + h / 6 * (k1[0] + 2 * k2[0] + 2 * k3[0] + k4[0])
         lam = lam + h / 6 * (k1[1] + 2 * k2[1] + 2 * k3[1] + k4[1])
     return np.degrees(phi), (np.degrees(lam) + 180.0) % 360.0 - 180.0
+
+
+def _rhumb_integrated_scalar(phi, lam, c, h, steps, e2):
+    """rhumb_integrated's very steps for one track, in Python floats (numpy's per-call overhead on scalars made
+    the tests' DRs take seconds); the same formulas and step count, the same result to rounding."""
+    cos_c, sin_c = math.cos(c), math.sin(c)
+    b = WGS84_A_M * (1 - e2)
+
+    def derivative(phi):
+        sin_phi = math.sin(phi)
+        w = 1 - e2 * sin_phi * sin_phi
+        return cos_c * w**1.5 / b, sin_c * math.sqrt(w) / (WGS84_A_M * math.cos(phi))
+
+    for _ in range(steps):
+        k1 = derivative(phi)
+        k2 = derivative(phi + h / 2 * k1[0])
+        k3 = derivative(phi + h / 2 * k2[0])
+        k4 = derivative(phi + h * k3[0])
+        phi = phi + h / 6 * (k1[0] + 2 * k2[0] + 2 * k3[0] + k4[0])
+        lam = lam + h / 6 * (k1[1] + 2 * k2[1] + 2 * k3[1] + k4[1])
+    return np.float64(math.degrees(phi)), (np.float64(math.degrees(lam)) + 180.0) % 360.0 - 180.0
 
 
 def offset_position(lat_deg, lon_deg, north_nm, east_nm):

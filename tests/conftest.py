@@ -32,12 +32,18 @@ _RECORDING = os.environ.get("NAVRED_FREEZE_SKYFIELD") == "1"
 _FROZEN = (json.loads(FROZEN_PATH.read_text(encoding="utf-8"))["results"]
            if FROZEN_PATH.exists() and not _RECORDING else {})
 _RECORDED: dict[str, list[float]] = {}
+#: the results computed live this run (not in the file: a new or changed synthesis), counted so that the run says
+#: the file wants refreezing (each costs tens of milliseconds every run until it is frozen)
+_LIVE: set[str] = set()
+_LIVE_KEY = "navred_skyfield_live"
+_WORKERS_LIVE: list[int] = []
 
 
 def frozen(key: str, compute):
     """skyfield's result for ``key`` from the frozen file, or computed now by ``compute()`` (a list of floats)."""
     if key in _FROZEN:
         return _FROZEN[key]
+    _LIVE.add(key)
     value = [float(v) for v in compute()]
     if _RECORDING:
         _RECORDED[key] = value
@@ -50,6 +56,8 @@ def is_frozen(key: str) -> bool:
 
 
 def pytest_sessionfinish(session, exitstatus):
+    if hasattr(session.config, "workeroutput"):  # a pytest-xdist worker: its count goes to the controller
+        session.config.workeroutput[_LIVE_KEY] = len(_LIVE)
     if _RECORDING and _RECORDED:
         import skyfield
 
@@ -59,6 +67,19 @@ def pytest_sessionfinish(session, exitstatus):
             "skyfield": skyfield.__version__, "ephemeris": "de421.bsp from skyfield-data",
             "timescale": "load.timescale(builtin=True)",
             "results": dict(sorted(_RECORDED.items()))}, indent=0) + "\n", encoding="utf-8")
+
+
+@pytest.hookimpl(optionalhook=True)
+def pytest_testnodedown(node, error):
+    _WORKERS_LIVE.append(getattr(node, "workeroutput", {}).get(_LIVE_KEY, 0))
+
+
+def pytest_terminal_summary(terminalreporter):
+    live = sum(_WORKERS_LIVE) + len(_LIVE)
+    if live and not _RECORDING:
+        terminalreporter.write_line(
+            f"{live:,} skyfield results were computed live, not read from {FROZEN_PATH.name} (a new or changed "
+            "synthesis; slower every run until frozen): python scripts/freeze_skyfield_references.py", yellow=True)
 
 
 ARCMIN = 1.0 / 60.0  # one arcminute in degrees

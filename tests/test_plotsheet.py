@@ -101,13 +101,13 @@ def inside(points: np.ndarray, rect, slack: float = 0.01) -> bool:
 LINE_KINDS = ("line of position", "band", "line before advance", "run", "leader")
 
 
-def strokes(page: Page) -> list[tuple[str, np.ndarray, float]]:
-    """Each drawn line's segments as boxes of its stroke's width (kind, corners, the segment's angle on the
-    page, degrees counter-clockwise, 0-180)."""
+def strokes(root, kinds=LINE_KINDS) -> list[tuple[str, np.ndarray, float]]:
+    """Each drawn line's segments (of the ``kinds``) as boxes of its stroke's width (kind, corners, the segment's
+    angle on the page, degrees counter-clockwise, 0-180)."""
     out = []
-    for e in page.root:
+    for e in root:
         kind = e.get("class") or ""
-        if e.tag != f"{SVG}polyline" or not kind.startswith(LINE_KINDS):
+        if e.tag != f"{SVG}polyline" or not kind.startswith(kinds):
             continue
         half = float(e.get("stroke-width", "1")) / 2
         ends = points_of(e)
@@ -132,13 +132,19 @@ def beside_its_own_line(label, box: np.ndarray, stroke: np.ndarray, angle: float
     return across < float(label.get("font-size")) * 1.5
 
 
-def check_page(page: Page) -> None:
-    """What every plotting sheet must be: no text over another or over the scale, everything on the page, the
-    chart's elements and labels inside its frame."""
-    boxes = [(e, text_box(e)) for e in page.texts]
+def texts_apart(texts) -> list:
+    """No text's box overlaps another's (the separating axis theorem above); (each text, its box)."""
+    boxes = [(e, text_box(e)) for e in texts]
     for i, (a, box_a) in enumerate(boxes):
         for b, box_b in boxes[i + 1:]:
             assert not overlap(box_a, box_b), f"{a.text!r} ({a.get('class')}) overlaps {b.text!r} ({b.get('class')})"
+    return boxes
+
+
+def check_page(page: Page) -> None:
+    """What every plotting sheet must be: no text over another or over the scale, everything on the page, the
+    chart's elements and labels inside its frame."""
+    boxes = texts_apart(page.texts)
     scale = [points_of(e) for e in page.shapes if e.get("class") == "scale"]
     assert scale, "a scale bar"
     for bar in scale:
@@ -148,7 +154,7 @@ def check_page(page: Page) -> None:
             assert e.get("class") == "scale" or not overlap(bar_box, box), f"{e.text!r} lies over the scale"
     # no label on the chart overprints a line (labels are boxed on paper: they would cut it), a line's own label
     # beside it excepted
-    lines = strokes(page)
+    lines = strokes(page.root)
     for e, box in boxes:
         if e.get("class") not in CHART_LABELS | {"line tag"}:
             continue

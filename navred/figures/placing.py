@@ -34,30 +34,31 @@ def overlap(a: np.ndarray, b: np.ndarray) -> bool:
     return True
 
 
-def overlaps(a: np.ndarray, b: np.ndarray, chunk: int = 2048) -> np.ndarray:
-    """Whether each of the rectangles ``a`` (n × 4 × 2) overlaps each of ``b`` (m × 4 × 2) with an area: n × m,
-    the separating axis theorem at once (a rectangle's axes are the normals of two adjacent edges)."""
+def overlaps(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Whether each of the rectangles ``a`` (n × 4 × 2) overlaps each of ``b`` (m × 4 × 2) with an area: n × m.
+    The pairs whose upright bounds meet are tested by the separating axis theorem at once (a rectangle's axes
+    are the normals of two adjacent edges)."""
     out = np.zeros((len(a), len(b)), dtype=bool)
     if not len(a) or not len(b):
         return out
+    a_low, a_high, b_low, b_high = a.min(axis=1), a.max(axis=1), b.min(axis=1), b.max(axis=1)
+    i, j = np.nonzero((a_low[:, None, 0] < b_high[None, :, 0]) & (b_low[None, :, 0] < a_high[:, None, 0])
+                      & (a_low[:, None, 1] < b_high[None, :, 1]) & (b_low[None, :, 1] < a_high[:, None, 1]))
+    if not i.size:
+        return out
+    pa, pb = a[i], b[j]  # the pairs: p × 4 × 2
 
     def axes(r):
-        edges = np.stack([r[:, 1] - r[:, 0], r[:, 2] - r[:, 1]], axis=1)  # k × 2 × 2
+        edges = np.stack([r[:, 1] - r[:, 0], r[:, 2] - r[:, 1]], axis=1)  # p × 2 × 2
         return np.stack([-edges[..., 1], edges[..., 0]], axis=-1)
 
-    b_axes = axes(b)  # m × 2 × 2
-    for start in range(0, len(a), chunk):
-        part = a[start:start + chunk]
-        a_axes = axes(part)
-        together = np.ones((len(part), len(b)), dtype=bool)
+    together = np.ones(i.size, dtype=bool)
+    for normals in (axes(pa), axes(pb)):
         for which in range(2):
-            for along in (np.broadcast_to(a_axes[:, None, which], (len(part), len(b), 2)),
-                          np.broadcast_to(b_axes[None, :, which], (len(part), len(b), 2))):
-                pa = np.einsum("nkd,nmd->nmk", part, along)
-                pb = np.einsum("mkd,nmd->nmk", b, along)
-                apart = (pa.max(axis=2) <= pb.min(axis=2) + 1e-9) | (pb.max(axis=2) <= pa.min(axis=2) + 1e-9)
-                together &= ~apart
-        out[start:start + len(part)] = together
+            n = normals[:, which]  # p × 2
+            qa, qb = np.einsum("pkd,pd->pk", pa, n), np.einsum("pkd,pd->pk", pb, n)
+            together &= ~((qa.max(axis=1) <= qb.min(axis=1) + 1e-9) | (qb.max(axis=1) <= qa.min(axis=1) + 1e-9))
+    out[i, j] = together
     return out
 
 
@@ -92,6 +93,17 @@ def segment_box(x0: float, y0: float, x1: float, y1: float, half_width: float) -
                      (x0 - ux + uy, y0 - uy - ux)])
 
 
+def segment_boxes(x0, y0, x1, y1, half_width: float) -> np.ndarray:
+    """:func:`segment_box` of many segments at once (n × 4 × 2)."""
+    x0, y0, x1, y1 = (np.asarray(v, dtype=float) for v in (x0, y0, x1, y1))
+    length = np.hypot(x1 - x0, y1 - y0)
+    length = np.where(length > 0, length, 1.0)
+    ux, uy = (x1 - x0) / length * half_width, (y1 - y0) / length * half_width
+    return np.stack([np.stack([x0 - ux - uy, y0 - uy + ux], axis=-1), np.stack([x1 + ux - uy, y1 + uy + ux], axis=-1),
+                     np.stack([x1 + ux + uy, y1 + uy - ux], axis=-1), np.stack([x0 - ux + uy, y0 - uy - ux], axis=-1)],
+                    axis=1)
+
+
 #: the step of the far search's grid of spots over the frame (points), and the gap a leader line keeps from
 #: the mark it points at (points)
 FAR_STEP_PT, LEADER_GAP_PT = 8.0, 7.0
@@ -116,7 +128,10 @@ class Placer:
 
     def free(self, corners: np.ndarray, frame: Rect) -> bool:
         """Whether a box lies inside ``frame`` and overlaps nothing taken."""
-        return inside(corners, frame) and not any(overlap(corners, other) for other in self.taken)
+        if not inside(corners, frame):
+            return False
+        return not self.taken or not overlaps(np.asarray(corners, dtype=float)[None],
+                                              np.array(self.taken, dtype=float).reshape(-1, 4, 2)).any()
 
     def place_far(self, text: str, size: float, x: float, y: float, frame: Rect, *, bold: bool = False,
                   italic: bool = False, leader_crosses=()) -> tuple[Spot, tuple[float, float, float, float]] | None:
@@ -144,19 +159,24 @@ class Placer:
         fits = ((low[:, 0] >= frame[0]) & (high[:, 0] <= frame[2]) & (low[:, 1] >= frame[1])
                 & (high[:, 1] <= frame[3]))
         candidates = np.flatnonzero(fits)
-        candidates = candidates[~overlaps(corners[candidates], taken).any(axis=1)]
-        if candidates.size == 0:
-            return None
         candidates = candidates[np.argsort(reach[candidates], kind="stable")]
-        # the leader: from LEADER_GAP_PT off the mark to the nearest point of the label's box
-        r = np.maximum(reach[candidates], 1e-9)
-        sx, sy = x + (ex[candidates] - x) / r * LEADER_GAP_PT, y + (ey[candidates] - y) / r * LEADER_GAP_PT
-        needs = reach[candidates] > LEADER_GAP_PT + 2.0
-        leaders = np.stack([segment_box(*e, 0.6) for e in zip(sx, sy, ex[candidates], ey[candidates])])
-        blocked = overlaps(leaders, taken[~crossable]).any(axis=1) & needs
-        ok = np.flatnonzero(~blocked)
-        if ok.size == 0:
+        blockers = taken[~crossable]
+        for start in range(0, candidates.size, 512):  # nearest first, a block at a time
+            block = candidates[start:start + 512]
+            block = block[~overlaps(corners[block], taken).any(axis=1)]
+            if not block.size:
+                continue
+            # the leader: from LEADER_GAP_PT off the mark to the nearest point of the label's box
+            r = np.maximum(reach[block], 1e-9)
+            sx, sy = x + (ex[block] - x) / r * LEADER_GAP_PT, y + (ey[block] - y) / r * LEADER_GAP_PT
+            needs = reach[block] > LEADER_GAP_PT + 2.0
+            blocked = overlaps(segment_boxes(sx, sy, ex[block], ey[block], 0.6), blockers).any(axis=1) & needs
+            ok = np.flatnonzero(~blocked)
+            if ok.size:
+                break
+        else:
             return None
+        candidates = block
         k, pick = int(candidates[ok[0]]), int(ok[0])
         self.take(corners[k])
         leader = (x, y, x, y)
@@ -177,4 +197,41 @@ class Placer:
         return None
 
 
-__all__ = ["overlap", "inside", "rect_corners", "segment_box", "overlaps", "Spot", "Placer", "FAR_STEP_PT", "LEADER_GAP_PT"]
+@dataclass(frozen=True)
+class Placed:
+    """Where a mark's label went: its spot, its size (smaller than asked where it had to be) and the ends of
+    its leader line (None when it sits beside its mark)."""
+
+    spot: Spot
+    size: float
+    leader: tuple[float, float, float, float] | None
+
+
+def place_mark_label(placer: Placer, text: str, size: float, spots, at: tuple[float, float], frame: Rect, *,
+                     lines=(), own=(), bold: bool = False, italic: bool = False,
+                     smaller_pt: float = 1.5) -> Placed | None:
+    """The one way a mark's label (a fix, a DR, a body in the sky) is placed, clear of every label and symbol
+    taken and of ``lines`` (boxes of the lines no label may overprint): at the first free of its own ``spots``
+    beside the mark at ``at``; else at the nearest free place in ``frame`` joined to the mark by a leader line
+    that crosses no line, else one that may (never another label); then ``smaller_pt`` smaller. The label and
+    leader are taken in ``placer``; None where the frame holds no place (the caller lists the label off the
+    picture). ``own``: the mark's own boxes (its symbol) that its leader starts inside."""
+    clear = placer.with_also(lines)
+    base = len(clear.taken)
+    spot = clear.place(text, size, spots, frame, bold=bold, italic=italic)
+    placed = Placed(spot, size, None) if spot is not None else None
+    for pt in (size, size - smaller_pt):
+        if placed is not None:
+            break
+        for crossing in (list(own), list(own) + list(lines)):
+            found = clear.place_far(text, pt, *at, frame, bold=bold, italic=italic, leader_crosses=crossing)
+            if found is not None:
+                spot, leader = found
+                placed = Placed(spot, pt, leader if leader[:2] != leader[2:] else None)
+                break
+    if placed is not None:
+        placer.taken.extend(clear.taken[base:])
+    return placed
+
+
+__all__ = ["Placed", "place_mark_label", "overlap", "inside", "rect_corners", "segment_box", "overlaps", "Spot", "Placer", "FAR_STEP_PT", "LEADER_GAP_PT"]

@@ -30,7 +30,7 @@ import numpy as np
 from ..angles import format_angle, wrap_180, wrap_axial
 from ..status import FixKind, RunFrom
 from .drawing import Canvas, blend, clip_segment, text_corners, text_width_pt, wrap_text
-from .placing import Placer, Spot, rect_corners, segment_box
+from .placing import Placer, Spot, place_mark_label, rect_corners, segment_box
 from .symbols import (
     CHART,
     ELLIPSE,
@@ -196,28 +196,18 @@ def _line_boxes(lops: list[_Lop], but: _Lop | None = None) -> list[np.ndarray]:
 
 def _place_mark(sheet, placer: Placer, frame: _Frame, line_boxes, text, size, colour, spots, kind, bold, at,
                 own) -> bool:
-    """A mark's label placed clear of every label, symbol and line: at one of its own spots; else anywhere on
-    the chart nearest the mark, joined to it by a leader line (one that crosses no line, else one that does),
-    at its size and then smaller; whether it found a place (else it is listed under the chart)."""
-    area = _inner(frame.area)
-    clear = placer.with_also(line_boxes)
-    base = len(clear.taken)
-    spot, leader = clear.place(text, size, spots, area, bold=bold), None
-    for smaller in (size, size - 1.5):
-        if spot is not None:
-            break
-        for crossing in (own, own + line_boxes):
-            found = clear.place_far(text, smaller, *at, area, bold=bold, leader_crosses=crossing)
-            if found is not None:
-                (spot, leader), size = found, smaller
-                break
-    if spot is None:
+    """A mark's label placed clear of every label, symbol and line (:func:`navred.figures.placing.place_mark_label`:
+    beside its symbol, else nearest with a leader line, else smaller); whether it found a place (else it is
+    listed under the chart)."""
+    placed = place_mark_label(placer, text, size, spots, at, _inner(frame.area), lines=line_boxes, own=own,
+                              bold=bold)
+    if placed is None:
         return False
-    placer.taken.extend(clear.taken[base:])
-    if leader is not None and leader[:2] != leader[2:]:
-        sheet.line(leader[0::2], leader[1::2], colour, 0.6, kind="leader")
-    sheet.text(spot.x, spot.y, text, size, colour, anchor=spot.anchor, baseline=spot.baseline, bold=bold, box=PAPER,
-               kind=kind)
+    if placed.leader is not None:
+        sheet.line(placed.leader[0::2], placed.leader[1::2], colour, 0.6, kind="leader")
+    spot = placed.spot
+    sheet.text(spot.x, spot.y, text, placed.size, colour, anchor=spot.anchor, baseline=spot.baseline, bold=bold,
+               box=PAPER, kind=kind)
     return True
 
 

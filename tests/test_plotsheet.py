@@ -423,3 +423,21 @@ def test_a_label_with_no_room_beside_its_mark_goes_further_with_a_leader():
     assert all(not overlap(label, wall) and not overlap(lead, wall) for wall in walls)
     assert math.hypot(leader[0] - 100.0, leader[1] - 100.0) == pytest.approx(7.0)  # from just off the mark
     assert label[:, 1].max() <= 40.0 + 1.0 and leader[3] == pytest.approx(label[:, 1].max())  # above the pen
+
+
+def test_the_voyage_picture_places_its_labels_by_the_same_rule():
+    """The invented passage's voyage picture (navred.figures.plotting.voyage_track_picture): its labels by the
+    plotting sheet's rule, checked by this file's overlap test: no label over another, over a DR leg, a set and
+    drift arrow or a leader; every fix's noon and EP labelled."""
+    from navred.figures.plotting import voyage_track_picture
+
+    days = process_log("sample_sights/passage_log.csv", plan=False).days_work()
+    root = ET.fromstring(voyage_track_picture(days).to_svg())
+    texts = list(root.iter(f"{SVG}text"))
+    boxes = texts_apart(texts)
+    labels = [(e, box) for e, box in boxes if e.get("class") == "label"]
+    assert {e.text for e, _ in labels} >= {"noon 04-14", "noon 04-15", "noon 04-16", "departure"}
+    lines = strokes(root, ("dr leg", "set and drift", "leader"))
+    assert lines
+    for e, box in labels:
+        assert not any(overlap(box, stroke, slack=0.0) for _, stroke, _ in lines), f"{e.text!r} lies over a line"

@@ -14,7 +14,7 @@ import numpy as np
 
 from ..angles import format_angle, wrap_180
 from ..stats import chi_square_2_quantile
-from .placing import Placer, rect_corners
+from .placing import Placer, place_mark_label, rect_corners, segment_box, segment_boxes
 from .symbols import (  # noqa: F401  (the palette, also for the other figures)
     CHART,
     ELLIPSE,
@@ -323,19 +323,32 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
     legs = points.leg.to_numpy()
     px_all, py_all = chart.page(*chart.plane(points.lat_deg.to_numpy(float), points.lon_deg.to_numpy(float)))
     cuts = np.flatnonzero(np.diff(legs) != 0) + 1
+    lines = []  # the boxes of the lines no label may overprint: the DR legs, the set and drift arrows
     for xs_leg, ys_leg in zip(np.split(px_all, cuts), np.split(py_all, cuts)):
         if xs_leg.size >= 2:
-            sheet.line(xs_leg.tolist(), ys_leg.tolist(), INK, 1.1, dash=(5.0, 3.0))
+            sheet.line(xs_leg.tolist(), ys_leg.tolist(), INK, 1.1, dash=(5.0, 3.0), kind="dr leg")
+            lines.extend(segment_boxes(xs_leg[:-1], ys_leg[:-1], xs_leg[1:], ys_leg[1:], 1.0))
     arrow_nm = 0.06 * max(chart.width_nm, chart.height_nm) / 1.0  # an arrow this long stands for one knot
     placer = Placer()
     labels = _voyage_known_positions(sheet, placer, chart, track, days.ellipse_scales) if track is not None else []
-    labels += _voyage_marks(sheet, placer, chart, fixes, estimated, noons, arrow_nm)
+    labels += _voyage_marks(sheet, placer, chart, fixes, estimated, noons, arrow_nm, lines)
     frame = (chart.ax0 + 2, chart.ay0 + 2, chart.ax1 - 2, chart.ay1 - 2)
-    for text, colour, x, y in labels:
-        spot = placer.place(text, 7, _beside(x, y), frame)
-        if spot is not None:
-            sheet.text(spot.x, spot.y, text, 7, colour, anchor=spot.anchor, baseline=spot.baseline, box=PAPER,
-                       kind="label")
+    unplaced = []
+    for text, colour, x, y in labels:  # the plotting sheets' rule: beside, else nearest with a leader, else smaller
+        own = [t for t in placer.taken if (t.min(axis=0) <= (x, y)).all() and (t.max(axis=0) >= (x, y)).all()]
+        placed = place_mark_label(placer, text, 7, _beside(x, y), (x, y), frame, lines=lines, own=own)
+        if placed is None:
+            unplaced.append(text)
+            continue
+        if placed.leader is not None:
+            sheet.line(placed.leader[0::2], placed.leader[1::2], colour, 0.6, kind="leader")
+        spot = placed.spot
+        sheet.text(spot.x, spot.y, text, placed.size, colour, anchor=spot.anchor, baseline=spot.baseline, box=PAPER,
+                   kind="label")
+    if unplaced:
+        sheet.text(box[0] - 12, 40, f"No room on the sheet for the labels of: {', '.join(unplaced[:12])}"
+                   + (f" and {len(unplaced) - 12} more" if len(unplaced) > 12 else "") + ".", 7, INK, italic=True,
+                   kind="mark list")
     sheet.line([chart.ax0, chart.ax1, chart.ax1, chart.ax0, chart.ax0],
                [chart.ay0, chart.ay0, chart.ay1, chart.ay1, chart.ay0], INK, 0.8)
     _voyage_key(sheet, chart, arrow_nm)
@@ -418,8 +431,10 @@ def _voyage_known_positions(sheet, placer, chart: _VoyageChart, track, scales: d
     return labels
 
 
-def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, arrow_nm: float) -> list:
-    """The set and drift arrows at the fixes, the estimated positions and the noon positions; their labels."""
+def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, arrow_nm: float,
+                  lines: list | None = None) -> list:
+    """The set and drift arrows at the fixes (their boxes added to ``lines``), the estimated positions and the
+    noon positions; their labels."""
     labels = []
     for f in fixes.to_dict("records"):
         if not np.isfinite(f["set_deg"]):
@@ -430,6 +445,8 @@ def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, a
         tx, ty = float(fx) + length * math.sin(turn), float(fy) + length * math.cos(turn)
         (sx, sy), (ex_, ey_) = chart.page(float(fx), float(fy)), chart.page(tx, ty)
         sheet.line([float(sx), float(ex_)], [float(sy), float(ey_)], CHART, 1.6, kind="set and drift")
+        if lines is not None:
+            lines.append(segment_box(float(sx), float(sy), float(ex_), float(ey_), 4.0))
         back = math.atan2(float(sy) - float(ey_), float(sx) - float(ex_))
         head = [(float(ex_) + 6 * math.cos(back + s), float(ey_) + 6 * math.sin(back + s)) for s in (0.45, -0.45)]
         sheet.polygon([float(ex_), head[0][0], head[1][0]], [float(ey_), head[0][1], head[1][1]], fill=CHART,

@@ -117,8 +117,12 @@ class Placer:
         self.gap_pt = gap_pt
 
     def take(self, corners: np.ndarray) -> None:
-        """Mark a box (a symbol, the scale, a label placed by hand) as taken."""
-        self.taken.append(np.asarray(corners, dtype=float))
+        """Mark a box (a symbol, the scale, a label placed by hand) as taken: a rectangle's four corners (any
+        other polygon is taken as the upright rectangle holding it)."""
+        corners = np.asarray(corners, dtype=float)
+        if corners.shape != (4, 2):
+            corners = rect_corners(*corners.min(axis=0), *corners.max(axis=0))
+        self.taken.append(corners)
 
     def with_also(self, boxes) -> Placer:
         """A placer that also counts ``boxes`` (the lines a label must keep clear of) as taken."""

@@ -63,18 +63,6 @@ def save_figure(figure, path) -> None:
         figure.savefig(target, facecolor=figure.get_facecolor(), format=fmt, metadata=metadata)
 
 
-def figure_png(figure, dpi: int = 160) -> bytes:
-    """A matplotlib figure (or a :class:`navred.figures.drawing.Canvas`) as PNG bytes (for a printed page)."""
-    import io
-
-    if hasattr(figure, "to_png"):
-        return figure.to_png(int(figure.width / 72.0 * dpi))
-
-    out = io.BytesIO()
-    figure.savefig(out, facecolor=figure.get_facecolor(), format="png", dpi=dpi)
-    return out.getvalue()
-
-
 #: the sky picture's page (points): its width, the disk's radius, the disk's centre below the page's top
 SKY_WIDTH_PT, SKY_RADIUS_PT = 540.0, 215.0
 SKY_DISK = "#e9eef5"

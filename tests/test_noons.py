@@ -368,3 +368,9 @@ def test_the_days_current_at_noon_is_given_by_the_rule_of_the_set_and_drift_at_e
     assert (later.current_95_kn.to_numpy() >= 1.959964 * dr / hours - 1e-9).all()  # at least the DR's own part
     assert (later.current_95_kn >= fixes.drift_95_kn.min() - 0.05).all()
     assert (abs(later.current_drift_kn - 1.2) < later.current_95_kn).all()
+    # the console says what each ± covers, at the fixes and at noon
+    shown = CliRunner().invoke(app, ["days", "sample_sights/passage_log.csv"]).stdout
+    assert "fixes (95 %: both fixes' errors and the DR's own over the run, 0.3 kn an hour and 2 % of the miles; " \
+           "the noon report's current by the same rule)" in shown
+    assert f"±{later.current_95_kn.iloc[-1]:.1f} kn (95 %; the noon positions are not both fixes" in shown
+    assert CURRENT_95_COVERS in shown

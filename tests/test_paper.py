@@ -983,6 +983,14 @@ def test_over_the_date_line_the_paper_dates_each_round_by_its_zone_date_as_the_p
             noon = next(n for n in made.noons if hm(zone_time(n.utc, n.zone_h)) == hhmm
                         and float(zone.replace("−", "-")) == n.zone_h)
             assert long_date_of(noon.zone_date) == date
+    # the noon Sun page dates each noon the same way
+    noon_page = next(p for p in made.document.pages if p.title.startswith("The noon Sun"))
+    table = next(block for block in noon_page.blocks if hasattr(block, "rows"))
+    # ZT = UTC − ZD (common practice), worked here
+    assert [row[0] for row in table.rows] == [str((pd.Timestamp(n.utc) - pd.Timedelta(hours=n.zone_h)).date())
+                                              for n in made.noons]
+    assert [row[2] for row in table.rows] == [f"ZD {'+' if n.zone_h > 0 else '−'}{abs(n.zone_h):g}"
+                                              for n in made.noons]
     # a page the line cuts says where its other round and noon are
     first = " ".join(block.text for block in pages[0].blocks if hasattr(block, "text"))
     assert f"round: on the page of {titles[1][len('Sights for '):].split(' (')[0]}, across the date line" in first

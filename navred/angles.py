@@ -267,11 +267,9 @@ def parse_angles_fast(texts: list[str], kind: AngleKind = "angle") -> tuple[np.n
     negative_letters = {"S", "W", "s", "w"}
     limit = _LIMITS[kind]
     low = -180.0 if kind in ("lon", "variation") else -limit
-    bulk_values, bulk_done = _plain_degrees_minutes(texts, letters, low, limit)
-    values = bulk_values.tolist()
-    done = bulk_done.tolist()
+    value, done = _plain_degrees_minutes(texts, letters, low, limit)
     decimal, dm = _FAST_DECIMAL.fullmatch, _FAST_DM.fullmatch
-    for k in np.flatnonzero(~bulk_done).tolist():
+    for k in np.flatnonzero(~done).tolist():
         text = texts[k]
         if type(text) is not str:
             continue
@@ -296,9 +294,8 @@ def parse_angles_fast(texts: list[str], kind: AngleKind = "angle") -> tuple[np.n
                 continue
             number = float(found.group(1))
         if low <= number <= limit:
-            values[k] = number
+            value[k] = number
             done[k] = True
-    value, done = np.array(values, dtype=float), np.array(done, dtype=bool)
     if kind == "lon":
         value = np.where(done & (value >= 180.0), wrap_180(value), value)
     return value, done
@@ -313,11 +310,19 @@ def _plain_degrees_minutes(texts: list, letters: str, low: float, limit: float) 
     values, done = np.full(n, np.nan), np.zeros(n, dtype=bool)
     if not hasattr(getattr(np, "strings", None), "partition"):  # numpy before 2.2: every text read one by one
         return values, done
-    index = np.array([k for k, t in enumerate(texts) if type(t) is str and t.isascii()], dtype=np.intp)
-    if not index.size:
-        return values, done
     strings, text = np.strings, np.dtypes.StringDType()
-    chosen = np.array([texts[k] for k in index.tolist()], dtype=text)
+    try:
+        every = "".join(texts).isascii()  # every one a text of ASCII (the usual column), told at once
+    except TypeError:
+        every = False  # (not every one a text)
+    if every:
+        index = np.arange(n)
+        chosen = np.array(texts, dtype=text)
+    else:
+        index = np.array([k for k, t in enumerate(texts) if type(t) is str and t.isascii()], dtype=np.intp)
+        if not index.size:
+            return values, done
+        chosen = np.array([texts[k] for k in index.tolist()], dtype=text)
     blank, dot = np.array(" ", dtype=text), np.array(".", dtype=text)
     degrees, space, rest = strings.partition(chosen, blank)
     minutes, space2, hemisphere = strings.partition(rest, blank)
@@ -329,11 +334,18 @@ def _plain_degrees_minutes(texts: list, letters: str, low: float, limit: float) 
         good &= (space2 == " ") & np.isin(hemisphere, np.array(allowed, dtype=text))
     else:
         good &= space2 == ""
+    # the numbers from their digits as whole numbers (numpy reads those several times quicker than decimals):
+    # the minutes m digits over 10**k, one correctly rounded division of exact numbers, the very float of the
+    # decimal text (up to 15 digits; longer ones are left to the reading one by one)
+    places = np.where(point == "", 0, strings.str_len(fraction))
+    good &= (strings.str_len(degrees) <= 15) & (strings.str_len(whole) + places <= 15)
     if not good.any():
         return values, done
-    index, degrees, minutes, hemisphere = index[good], degrees[good], minutes[good], hemisphere[good]
-    m = minutes.astype(np.float64)
-    number = degrees.astype(np.float64) + m / 60.0
+    index, degrees, hemisphere = index[good], degrees[good], hemisphere[good]
+    whole, fraction, places = whole[good], fraction[good], places[good]
+    digits = whole.astype(np.int64) * 10 ** places + np.where(places > 0, fraction, "0").astype(np.int64)
+    m = digits / 10.0 ** places
+    number = degrees.astype(np.int64).astype(np.float64) + m / 60.0
     if letters:
         south_west = np.isin(hemisphere, np.array(["S", "W", "s", "w"], dtype=text))
         number = np.where(south_west, -number, number)

@@ -411,21 +411,20 @@ def _parse_one(column, value, decimal_comma, unit, dates):
     return result
 
 
-def _parse_fast(column, originals: list, unit) -> list:
+def _parse_fast(column, originals: list, unit) -> tuple[np.ndarray, np.ndarray] | None:
     """The values of an angle column in the common written forms, read in bulk
     (:func:`navred.angles.parse_angles_fast`: only what the careful parser reads to the same
-    value); None where the careful parser must look. A decimal comma is left to the careful parser."""
+    value): (values, which were read); None for a column of another kind. A decimal comma is left to the
+    careful parser."""
     kind = {"altitude": "angle", "lat": "lat", "lon": "lon"}.get(column.kind)
     if kind is None:
-        return [None] * len(originals)
+        return None
     values, done = parse_angles_fast(originals, kind)
     if column.kind == "altitude" and column.low is not None:  # out of range: the careful parser gives the reason
         low, high = column.low, column.high
         with np.errstate(invalid="ignore"):
             done &= (values >= low) if high is None else (values >= low) & (values <= high)
-    out = np.full(len(originals), None, dtype=object)
-    out[done] = values[done].tolist()
-    return out.tolist()
+    return values, done
 
 
 @dataclass
@@ -465,6 +464,11 @@ def gather(tables, layouts, key) -> Cells:
                                                                        dtype=object),
                      np.full(table.n_rows, table.header[index], dtype=object),
                      np.full(table.n_rows, table.decimal_comma, dtype=bool), True)
+    if not any(layout.keys.get(key) for layout in layouts):  # no table gives this key: every cell blank, at once
+        total = int(counts.sum())
+        return Cells(pd.Series(texts_of(total, None), dtype=object), np.ones(total, dtype=bool),
+                     texts_of(total, COLUMN[key].default_unit), texts_of(total, key),
+                     np.repeat(np.array([t.decimal_comma for t in tables], dtype=bool), counts), False)
     for table, layout in zip(tables, layouts):
         n = table.n_rows
         indices = layout.keys.get(key, [])
@@ -640,10 +644,23 @@ def _parse_each_distinct(column, cells: Cells, members: np.ndarray, unit, comma:
     first[codes[::-1]] = np.arange(codes.size)[::-1]
     distinct = originals.to_numpy(dtype=object)[first].tolist()
     quick = _parse_fast(column, distinct, unit)
+    if quick is not None and value.ndim == 1 and value.dtype == float:  # the values read in bulk stay in numpy
+        numbers, good = quick
+        numbers, good = np.where(good, numbers, np.nan), good.copy()
+        reasons = {}
+        for u in np.flatnonzero(~good).tolist():
+            try:
+                numbers[u] = _parse_one(column, distinct[u], bool(comma), unit, dates)
+                good[u] = True
+            except (NavredError, ValueError, TypeError) as exc:
+                reasons[u] = _reason(exc, distinct[u])
+        value[members] = numbers[codes]
+        _refuse(cells, members, codes, good, distinct, reasons, refused, problems)
+        return
     results, reasons = [], {}
     for u, original in enumerate(distinct):
-        if quick[u] is not None:
-            results.append(quick[u])
+        if quick is not None and quick[1][u]:
+            results.append(float(quick[0][u]))
             continue
         try:
             results.append(_parse_one(column, original, bool(comma), unit, dates))
@@ -660,6 +677,11 @@ def _parse_each_distinct(column, cells: Cells, members: np.ndarray, unit, comma:
         table = np.empty(len(uniques), dtype=value.dtype)
         table[:] = [r if r is not None else (np.nan if value.dtype == float else None) for r in results]
         value[members] = table[codes]
+    _refuse(cells, members, codes, good, distinct, reasons, refused, problems)
+
+
+def _refuse(cells: Cells, members, codes, good, distinct, reasons, refused, problems) -> None:
+    """The cells whose distinct value was refused marked in ``refused`` and added to ``problems``."""
     refused[members[~good[codes]]] = True
     if reasons:  # every refused cell with its value as written and its reason, in one go
         bad = ~good[codes]

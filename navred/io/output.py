@@ -482,7 +482,7 @@ def _column_cells(values, decimals: int, float_format: str) -> _Cells:
             return _row_texts(n, [str(v) for v in numbers.tolist()])
         return _digit_cells(numbers.astype(np.int64), 0, None)
     if dtype.kind in "iub":  # an extension type of numbers: as the row-by-row form writes it
-        return _row_texts(n, ["%s" % v for v in values.to_numpy().tolist()])
+        return _row_texts(n, [str(v) for v in values.to_numpy().tolist()])
     # each distinct value once (most text columns hold few: the body, the limb, the status...)
     array = values.to_numpy(dtype=object)
     first = array[0]

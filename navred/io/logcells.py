@@ -514,7 +514,12 @@ def gather(tables, layouts, key) -> Cells:
                                for p, c in zip(parts, counts)]) if parts else np.zeros(0, dtype=object)
 
     commas = np.repeat(np.array([t.decimal_comma for t in tables], dtype=bool), counts)
-    return Cells(joined, blank_mask(joined), per_row(units), per_row(headers), commas, present)
+    indices = layouts[0].keys.get(key, []) if len(tables) == 1 else []
+    if len(indices) == 1 and indices[0] in tables[0].filled_columns:  # known to hold no blank cell
+        blank = np.zeros(len(joined), dtype=bool)
+    else:
+        blank = blank_mask(joined)
+    return Cells(joined, blank, per_row(units), per_row(headers), commas, present)
 
 
 def _typed_column(tables, layouts, key) -> pd.Series | None:

@@ -569,7 +569,7 @@ def _csv_text_by_rows(frame, *, header: bool = True, float_format: str = "%.6f")
         if isinstance(dtype, pd.DatetimeTZDtype) or str(dtype).startswith("datetime64"):
             texts = _instant_texts(values)
         elif dtype.kind == "f":
-            numbers = values.to_numpy()
+            numbers = values.to_numpy().astype(np.float64)  # (float32 cannot hold the gap's stand-in)
             missing = np.isnan(numbers)
             if missing.all():
                 specs.append("")  # an empty field in every row
@@ -643,7 +643,7 @@ def _instant_texts(values) -> list[str]:
     whole = plain[~missing]
     if whole.size and np.any(whole.astype("datetime64[s]") != whole):
         texts = values.astype(str).tolist()  # fractions of a second: pandas' own layout
-        return ["" if t in ("NaT", "nan", "None") else t for t in texts]
+        return ["" if not isinstance(t, str) or t in ("NaT", "nan", "None") else t for t in texts]  # (NaT: a NaN)
     suffix = "+00:00" if getattr(values.dt, "tz", None) is not None else ""
     texts = [t.replace("T", " ") + suffix for t in np.datetime_as_string(plain, unit="s").tolist()]
     for k in np.flatnonzero(missing).tolist():

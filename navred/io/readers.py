@@ -88,6 +88,8 @@ class RawTable:
     malformed_cells: dict[int, list[str]] = field(default_factory=dict)
     #: what the reader noted about the file as a whole (how it was decoded), for the navigator
     notes: list[str] = field(default_factory=list)
+    #: the columns (by index) known to hold no blank cell: the file was looked at (a long plain log's blocks)
+    filled_columns: frozenset[int] = frozenset()
 
     @property
     def n_rows(self) -> int:
@@ -504,6 +506,8 @@ class PlainBlocks:
                              no_blank=self.blank_lines is not None and self.blank_lines[k] == 0)
         if table is None:  # every line's fields were counted when the file was looked at
             raise LogbookError(f"{self.source} changed while it was being read: read it again")
+        if len(self.digests) > k:  # the very bytes looked at: the columns no line left blank hold no blank cell
+            table.filled_columns = frozenset(np.flatnonzero(~self.blank_columns).tolist())
         return table
 
     def __iter__(self):

@@ -515,12 +515,12 @@ def _plain_texts(distinct):
     for start in FORMULA_STARTS:
         if np.strings.startswith(texts, start).any():
             return None
-    for special in (",", '"', "\n", "\r", "\0"):
+    for special in (",", '"', "\n", "\r"):
         if (np.strings.find(texts, special) >= 0).any():
             return None
     points = texts.view(np.uint32).reshape(len(texts), -1)  # each character's code point (UCS-4)
-    if (points > 127).any():
-        return None
+    if (points > 127).any() or ((points == 0) & (np.arange(points.shape[1]) < lengths[:, None])).any():
+        return None  # beyond ASCII, or a NUL within a text
     return points.astype(np.uint8), lengths
 
 

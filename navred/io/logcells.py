@@ -129,7 +129,12 @@ def cell_texts(values: pd.Series | np.ndarray) -> np.ndarray:
         if aware is not None:
             return aware
     codes, uniques = pd.factorize(values, use_na_sentinel=True)
-    texts = np.array([cell_text(u) for u in uniques] + [""], dtype=object)
+    if pd.api.types.infer_dtype(uniques, skipna=False) == "string":  # texts (a file's cells): as they are
+        texts = np.empty(len(uniques) + 1, dtype=object)
+        texts[:-1] = uniques  # (cell_text of a text is the text)
+        texts[-1] = ""
+    else:
+        texts = np.array([cell_text(u) for u in uniques] + [""], dtype=object)
     return texts[codes]
 
 
@@ -248,7 +253,13 @@ def zoneless_utc(values: np.ndarray, ok: np.ndarray, dates: str | None) -> np.nd
     out = np.zeros(len(values), dtype=bool)
     cells = values.to_numpy(dtype=object) if isinstance(values, pd.Series) else np.asarray(values, dtype=object)
     seen: dict = {}  # each distinct text once
-    for k in np.flatnonzero(ok).tolist():
+    rows = np.flatnonzero(ok)
+    try:  # a column of texts: those ending in Z (the usual ISO form) told at once
+        zoned = np.strings.endswith(np.array(cells[rows].tolist(), dtype=np.dtypes.StringDType(coerce=False)), "Z")
+        rows = rows[~zoned]
+    except (TypeError, ValueError, AttributeError):
+        pass  # (not every cell a text, or numpy before 2.0: one by one)
+    for k in rows.tolist():
         value = cells[k]
         if isinstance(value, str):
             if value.endswith("Z"):  # (the ISO form ends in its zone: only the zone's group takes a letter)

@@ -406,6 +406,8 @@ PARSERS = {
     "leeway": lambda v, dc, unit, dates: _leeway(_not_formula(v), dc),
     "clocks": lambda v, dc, unit, dates: _clocks(_not_formula(v)),
 }
+#: Kinds read from a text by a text's own method, as :data:`PARSERS` reads a cell that is a text (the same result)
+_PLAIN_TEXT_KINDS = {"text": str.strip, "name": lambda v: " ".join(v.split())}
 #: Kinds whose result is several numbers (a row of an array), and how many.
 TUPLE_KINDS = {"utc": 7, "date": 3, "time": 6, "leeway": 2, "clocks": 2}
 #: Kinds whose result is one number.
@@ -672,6 +674,12 @@ def _parse_each_distinct(column, cells: Cells, members: np.ndarray, unit, comma:
                 reasons[u] = _reason(exc, distinct[u])
         value[members] = numbers[codes]
         _refuse(cells, members, codes, good, distinct, reasons, refused, problems)
+        return
+    if column.kind in _PLAIN_TEXT_KINDS and all(type(v) is str for v in distinct):  # texts: no reading can fail
+        results = [_PLAIN_TEXT_KINDS[column.kind](v) for v in distinct]
+        table = np.empty(len(uniques), dtype=object)
+        table[:] = results
+        value[members] = table[codes]
         return
     results, reasons = [], {}
     for u, original in enumerate(distinct):

@@ -151,3 +151,21 @@ def test_a_log_changed_between_the_look_and_the_reading_of_a_block_is_refused(tm
         assert plain.block(0).n_rows == 50  # (the block before is as it was)
         with pytest.raises(LogbookError, match="changed while it was being read"):
             plain.block(1)
+
+
+def test_instants_dates_are_numpys_calendar_across_the_whole_range():
+    # the date of each instant is worked from its day number (the civil calendar's arithmetic); numpy's own
+    # texts (np.datetime_as_string, the reference) over pandas' whole range of instants, leap days and century
+    # years (1900, 2000, 2100) and the days either side of 1970 included
+    rng = np.random.default_rng(264)
+    low, high = pd.Timestamp.min.value // 10**9 + 1, pd.Timestamp.max.value // 10**9
+    edges = [low, high, 0, -1, 86399, 86400, -86400, -86401]
+    for day in ("1900-02-28", "1900-03-01", "2000-02-29", "2000-03-01", "2100-02-28", "2100-03-01", "1999-12-31"):
+        edges += [int(pd.Timestamp(day).value // 10**9) + k for k in (-1, 0, 86399, 86400)]
+    seconds = np.r_[rng.integers(low, high, 20000), edges]
+    instants = pd.Series(pd.to_datetime(seconds, unit="s"))
+    expected = [t.replace("T", " ") for t in
+                np.datetime_as_string(instants.to_numpy().astype("datetime64[s]"), unit="s").tolist()]
+    assert csv_text(pd.DataFrame({"t": instants}), header=False).split("\n")[:-1] == expected
+    zoned = pd.DataFrame({"t": instants.dt.tz_localize("UTC")})
+    assert csv_text(zoned) == csv_safe(zoned).to_csv(index=False)  # pandas, the general-purpose reference

@@ -320,7 +320,7 @@ def csv_bytes(frame, *, header: bool = True, float_format: str = "%.6f") -> byte
     keep = np.ones((rows, width), dtype=bool)
     at = 0
     for j, c in enumerate(cells):  # what is the same in every row, once
-        if c.matrix.shape[0] == 1:
+        if c.constant:
             matrix[:, at:at + c.width] = c.matrix
         at += c.width
         matrix[:, at] = ord("\n") if j == len(cells) - 1 else ord(",")
@@ -331,10 +331,11 @@ def csv_bytes(frame, *, header: bool = True, float_format: str = "%.6f") -> byte
             matrix, keep = matrix[:stop - start], keep[:stop - start]
         at = 0
         for c in cells:
-            if c.matrix.shape[0] > 1:
-                matrix[:, at:at + c.width] = c.matrix[start:stop]
-            if c.keep is not None:
-                keep[:, at:at + c.width] = c.keep[start:stop]
+            if not c.constant:
+                cell_bytes, kept = c.rows(start, stop)
+                matrix[:, at:at + c.width] = cell_bytes
+                if kept is not None:
+                    keep[:, at:at + c.width] = kept
             at += c.width + 1
         parts.append(matrix[keep].tobytes())
     return b"".join(parts)
@@ -342,12 +343,34 @@ def csv_bytes(frame, *, header: bool = True, float_format: str = "%.6f") -> byte
 
 class _Cells:
     """One column's cells as bytes: ``matrix`` (rows x width) and ``keep`` (where the cell's bytes are; None:
-    everywhere), or one text for every row (``matrix`` of one row, broadcast)."""
+    everywhere), or one text for every row (``matrix`` of one row, broadcast), or (``codes`` given) a table of
+    distinct cells' bytes, ``matrix``, with their ``lengths``, row k holding cell ``codes[k]`` (gathered a
+    piece of rows at a time, where they are laid: a wide column of few texts is not made whole)."""
 
-    __slots__ = ("matrix", "keep", "width")
+    __slots__ = ("matrix", "keep", "width", "codes", "lengths", "full")
 
-    def __init__(self, matrix, keep=None):
+    def __init__(self, matrix, keep=None, codes=None, lengths=None):
+        import numpy as np
+
         self.matrix, self.keep, self.width = matrix, keep, matrix.shape[1]
+        self.codes, self.lengths = codes, lengths
+        self.full = lengths is None or bool((lengths == self.width).all())
+        if codes is not None:
+            self.codes = np.asarray(codes, dtype=np.intp)
+
+    @property
+    def constant(self) -> bool:
+        return self.codes is None and self.matrix.shape[0] == 1
+
+    def rows(self, start: int, stop: int):
+        """(bytes, where kept or None) of rows ``start`` to ``stop``."""
+        import numpy as np
+
+        if self.codes is None:
+            return self.matrix[start:stop], None if self.keep is None else self.keep[start:stop]
+        codes = self.codes[start:stop]
+        keep = None if self.full else np.arange(self.width) < self.lengths[codes][:, None]
+        return self.matrix[codes], keep
 
 
 def _text_cells(n: int, codes, texts: list[str]) -> _Cells:
@@ -365,9 +388,7 @@ def _text_cells(n: int, codes, texts: list[str]) -> _Cells:
         which = np.repeat(np.arange(len(encoded)), lengths)
         starts = np.repeat(np.cumsum(lengths) - lengths, lengths)
         table[which, np.arange(flat.size) - starts] = flat
-    codes = np.asarray(codes)
-    keep = np.arange(width) < lengths[codes][:, None]
-    return _Cells(table[codes], None if keep.all() else keep)
+    return _Cells(table, codes=codes, lengths=lengths)
 
 
 def _row_texts(n: int, texts: list[str]) -> _Cells:
@@ -492,7 +513,7 @@ def _column_cells(values, decimals: int, float_format: str) -> _Cells:
     if len(distinct) > _MANY_TEXTS:
         plain = _plain_texts(distinct)
         if plain is not None:
-            return _Cells(plain[0][codes], np.arange(plain[0].shape[1]) < plain[1][codes][:, None])
+            return _Cells(plain[0], codes=codes, lengths=plain[1])
     return _text_cells(n, codes, [_quoted(_csv_cell(v, float_format)) for v in distinct.tolist()])
 
 
@@ -539,13 +560,32 @@ def _instant_cells(values) -> _Cells:
         if "," in joined or '"' in joined or "\n" in joined or "\r" in joined:
             texts = [_quoted(t) for t in texts]
         return _row_texts(len(values), texts)
-    text = np.datetime_as_string(np.where(missing, np.datetime64(0, "s"), plain.astype("datetime64[s]")), unit="s")
-    matrix = text.astype("S19").view(np.uint8).reshape(len(values), 19)
+    seconds = np.where(missing, 0, plain.astype("datetime64[s]").astype(np.int64))
+    # the civil date of each day (H. Hinnant, "chrono-Compatible Low-Level Date Algorithms", civil_from_days:
+    # the proleptic Gregorian calendar from days since 1970-01-01, floor divisions throughout)
+    days, clock = np.divmod(seconds, 86400)
+    era, day_of_era = np.divmod(days + 719468, 146097)
+    year_of_era = (day_of_era - day_of_era // 1460 + day_of_era // 36524 - day_of_era // 146096) // 365
+    day_of_year = day_of_era - (365 * year_of_era + year_of_era // 4 - year_of_era // 100)
+    shifted_month = (5 * day_of_year + 2) // 153
+    day = day_of_year - (153 * shifted_month + 2) // 5 + 1
+    month = np.where(shifted_month < 10, shifted_month + 3, shifted_month - 9)
+    year = year_of_era + era * 400 + (month <= 2)
+    if n_rows := len(values):
+        if year.min() < 1000 or year.max() > 9999:  # (not four digits: numpy's own texts)
+            return _row_texts(n_rows, _instant_texts(values))
+    hour, rest = np.divmod(clock, 3600)
+    minute, second = np.divmod(rest, 60)
+    matrix = np.empty((len(values), 25 if zoned else 19), dtype=np.uint8)
+    for at, number in ((0, year // 100), (2, year % 100), (5, month), (8, day), (11, hour), (14, minute),
+                       (17, second)):
+        tens, units = np.divmod(number, 10)
+        matrix[:, at] = tens + 48
+        matrix[:, at + 1] = units + 48
+    for at, mark in ((4, "-"), (7, "-"), (10, " "), (13, ":"), (16, ":")):
+        matrix[:, at] = ord(mark)
     if zoned:
-        matrix = np.concatenate([matrix, np.broadcast_to(np.frombuffer(b"+00:00", dtype=np.uint8),
-                                                         (len(values), 6))], axis=1)
-    matrix = np.ascontiguousarray(matrix)
-    matrix[:, 10] = ord(" ")
+        matrix[:, 19:] = np.frombuffer(b"+00:00", dtype=np.uint8)
     keep = None
     if missing.any():
         keep = np.ones(matrix.shape, dtype=bool)

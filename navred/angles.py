@@ -312,12 +312,12 @@ def _plain_degrees_minutes(texts: list, letters: str, low: float, limit: float) 
         return values, done
     strings, text = np.strings, np.dtypes.StringDType()
     try:
-        every = "".join(texts).isascii()  # every one a text of ASCII (the usual column), told at once
+        joined = "".join(texts)
+        every = joined.isascii() and "\x00" not in joined  # every one a text of ASCII (the usual column), at once
     except TypeError:
         every = False  # (not every one a text)
-    if every:
-        index = np.arange(n)
-        chosen = np.array(texts, dtype=text)
+    if every and n:
+        return _plain_degrees_minutes_bytes(np.array(texts, dtype="S"), letters, low, limit)
     else:
         index = np.array([k for k, t in enumerate(texts) if type(t) is str and t.isascii()], dtype=np.intp)
         if not index.size:
@@ -352,6 +352,66 @@ def _plain_degrees_minutes(texts: list, letters: str, low: float, limit: float) 
     kept = (m < 60.0) & (low <= number) & (number <= limit)
     values[index[kept]] = number[kept]
     done[index[kept]] = True
+    return values, done
+
+
+def _plain_degrees_minutes_bytes(texts: np.ndarray, letters: str, low: float, limit: float):
+    """:func:`_plain_degrees_minutes` of texts of ASCII without NUL, as numpy's bytes (``S``): each text a row of
+    a matrix of bytes, its form told by where its spaces and its point are, its digits summed by their places
+    (the same texts taken, to the same numbers: the minutes' digits as a whole number over a power of ten)."""
+    n = texts.size
+    values, done = np.full(n, np.nan), np.zeros(n, dtype=bool)
+    width = texts.dtype.itemsize
+    codes = texts.view(np.uint8).reshape(n, width)
+    length = np.strings.str_len(texts) if hasattr(np, "strings") else np.char.str_len(texts)
+    column = np.arange(width)
+    inside = column < length[:, None]
+    space = (codes == 32) & inside
+    first = np.argmax(space, axis=1)  # the first space (0 when there is none: told by ``spaced``)
+    spaced = space.any(axis=1)
+    later = space & (column > first[:, None])
+    second = np.where(later.any(axis=1), np.argmax(later, axis=1), length)  # the second space, or the end
+    twice = second < length
+    digit = (codes >= 48) & (codes <= 57)
+    point = codes == 46
+    in_degrees = column < first[:, None]
+    in_minutes = (column > first[:, None]) & (column < second[:, None])
+    points = (point & in_minutes).sum(axis=1)
+    at_point = np.where(points > 0, np.argmax(point & in_minutes, axis=1), second)
+    good = (spaced & (first >= 1) & ~(in_degrees & ~digit).any(axis=1)
+            & ~(in_minutes & ~digit & ~point).any(axis=1) & (points <= 1)
+            & (at_point > first + 1) & ((points == 0) | (at_point < second - 1)))
+    if letters:
+        allowed = np.frombuffer((letters + letters.lower()).encode("ascii"), dtype=np.uint8)
+        hemisphere = codes[np.arange(n), np.minimum(second + 1, width - 1)]
+        good &= twice & (length == second + 2) & np.isin(hemisphere, allowed)
+    else:
+        good &= ~twice
+    places = np.where(points > 0, second - at_point - 1, 0)
+    good &= (first <= 15) & (second - first - 1 - points <= 15)
+    if not good.any():
+        return values, done
+    rows = np.flatnonzero(good)
+    codes, digit, column = codes[rows], digit[rows], column[None, :]
+    first, second, at_point, places = first[rows], second[rows], at_point[rows], places[rows]
+    pointed = (places > 0)[:, None]
+    ones = np.where(digit, codes.astype(np.int64) - 48, 0)
+    powers = 10 ** np.arange(16, dtype=np.int64)
+    # each digit's place: degrees' from the first space, minutes' from the end less the point behind it
+    degree_place = first[:, None] - 1 - column
+    minute_place = second[:, None] - 1 - column - ((column < at_point[:, None]) & pointed)
+    in_degrees = column < first[:, None]
+    in_minutes = (column > first[:, None]) & (column < second[:, None]) & digit
+    degrees = (ones * powers[np.clip(degree_place, 0, 15)] * in_degrees).sum(axis=1)
+    minutes = (ones * powers[np.clip(minute_place, 0, 15)] * in_minutes).sum(axis=1)
+    m = minutes / 10.0 ** places
+    number = degrees.astype(np.float64) + m / 60.0
+    if letters:
+        hemisphere = codes[np.arange(rows.size), second + 1]
+        number = np.where(np.isin(hemisphere, np.frombuffer(b"SWsw", dtype=np.uint8)), -number, number)
+    kept = (m < 60.0) & (low <= number) & (number <= limit)
+    values[rows[kept]] = number[kept]
+    done[rows[kept]] = True
     return values, done
 
 

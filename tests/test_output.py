@@ -169,3 +169,13 @@ def test_instants_dates_are_numpys_calendar_across_the_whole_range():
     assert csv_text(pd.DataFrame({"t": instants}), header=False).split("\n")[:-1] == expected
     zoned = pd.DataFrame({"t": instants.dt.tz_localize("UTC")})
     assert csv_text(zoned) == csv_safe(zoned).to_csv(index=False)  # pandas, the general-purpose reference
+
+
+def test_a_table_of_one_row_is_written_as_pandas_writes_it():
+    # a row alone: its cells are their own column (a gap, a missing instant, a negative number with padding)
+    frame = pd.DataFrame({"gap": [np.nan], "when": pd.to_datetime([None], utc=True), "x": [-1.5], "n": [-7],
+                          "t": ["a, b"]})
+    for row in (frame, frame.assign(gap=[2.0], when=pd.to_datetime(["2026-03-26T09:10:00Z"], utc=True))):
+        assert csv_text(row) == csv_safe(row).to_csv(index=False, float_format="%.6f")
+        assert csv_text(pd.concat([row, row], ignore_index=True)) == \
+            csv_safe(pd.concat([row, row], ignore_index=True)).to_csv(index=False, float_format="%.6f")

@@ -244,6 +244,8 @@ CSV_ROWS_AT_ONCE = 20_000
 FEW_DISTINCT = 0.25
 #: the float formats written by digits: "%.Nf", N from 0 to 9
 _FIXED_FORMAT = re.compile(r"%\.([0-9])f")
+
+
 class _Tables:
     """The digit tables, made when first used (numpy is not imported with this module): ``words``, the four
     bytes of k from 0 to 999 (a byte left for what goes before, then k's three digits); ``kept``, the
@@ -360,7 +362,8 @@ class _Cells:
 
     @property
     def constant(self) -> bool:
-        return self.codes is None and self.matrix.shape[0] == 1
+        """One text in every row (a table of one row is such a text only with every byte kept)."""
+        return self.codes is None and self.keep is None and self.matrix.shape[0] == 1
 
     def rows(self, start: int, stop: int):
         """(bytes, where kept or None) of rows ``start`` to ``stop``."""

@@ -179,3 +179,21 @@ def test_a_table_of_one_row_is_written_as_pandas_writes_it():
         assert csv_text(row) == csv_safe(row).to_csv(index=False, float_format="%.6f")
         assert csv_text(pd.concat([row, row], ignore_index=True)) == \
             csv_safe(pd.concat([row, row], ignore_index=True)).to_csv(index=False, float_format="%.6f")
+
+
+def test_reduce_csv_in_blocks_is_pandas_text_of_the_reduced_log(monkeypatch):
+    # navred reduce --csv of the invented training voyage (405 sights) in blocks of 60 rows, the blocks made as
+    # bytes by two processes: the text pandas' to_csv (the general-purpose reference) writes of the log reduced
+    # whole and neutralised, byte for byte
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+    from navred.jobs import forking, reducing
+
+    log = "sample_sights/training_sights.csv"
+    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 60)
+    monkeypatch.setattr(forking, "cores", lambda: 2)
+    result = CliRunner().invoke(app, ["reduce", log, "--csv"])
+    assert result.exit_code == 0
+    reduced = reducing.reduce_log(log).reduced
+    assert result.stdout == csv_safe(reduced).to_csv(index=False, float_format="%.6f")

@@ -33,10 +33,10 @@ def _numbers(rng: np.random.Generator, n: int, decimals: int) -> np.ndarray:
     return rng.permutation(values)
 
 
-@pytest.mark.parametrize("decimals", [0, 1, 2, 3, 5, 6, 7, 9])
+@pytest.mark.parametrize("decimals", [0, 1, 2, 3, 6, 9])
 def test_numbers_are_pythons_percent_format_and_pandas_text(decimals):
     rng = np.random.default_rng(2600 + decimals)
-    values = _numbers(rng, 4000, decimals)
+    values = _numbers(rng, 1500, decimals)
     form = f"%.{decimals}f"
     with np.errstate(over="ignore"):
         single = values.astype(np.float32)  # (beyond float32's range: infinite)

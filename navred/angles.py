@@ -357,7 +357,7 @@ def _plain_degrees_minutes(texts: list, letters: str, low: float, limit: float) 
 
 def _plain_degrees_minutes_bytes(texts: np.ndarray, letters: str, low: float, limit: float):
     """:func:`_plain_degrees_minutes` of texts of ASCII without NUL, as numpy's bytes (``S``): each text a row of
-    a matrix of bytes, its form told by where its spaces and its point are, its digits summed by their places
+    a matrix of bytes, its form told by where its spaces and its point are, its digits read left to right
     (the same texts taken, to the same numbers: the minutes' digits as a whole number over a power of ten)."""
     n = texts.size
     values, done = np.full(n, np.nan), np.zeros(n, dtype=bool)
@@ -394,16 +394,15 @@ def _plain_degrees_minutes_bytes(texts: np.ndarray, letters: str, low: float, li
     rows = np.flatnonzero(good)
     codes, digit, column = codes[rows], digit[rows], column[None, :]
     first, second, at_point, places = first[rows], second[rows], at_point[rows], places[rows]
-    pointed = (places > 0)[:, None]
-    ones = np.where(digit, codes.astype(np.int64) - 48, 0)
-    powers = 10 ** np.arange(16, dtype=np.int64)
-    # each digit's place: degrees' from the first space, minutes' from the end less the point behind it
-    degree_place = first[:, None] - 1 - column
-    minute_place = second[:, None] - 1 - column - ((column < at_point[:, None]) & pointed)
+    ones = codes.astype(np.int64) - 48
     in_degrees = column < first[:, None]
     in_minutes = (column > first[:, None]) & (column < second[:, None]) & digit
-    degrees = (ones * powers[np.clip(degree_place, 0, 15)] * in_degrees).sum(axis=1)
-    minutes = (ones * powers[np.clip(minute_place, 0, 15)] * in_minutes).sum(axis=1)
+    # the digits read left to right, ten times what is read so far plus the next (whole numbers: exact)
+    degrees = np.zeros(rows.size, dtype=np.int64)
+    minutes = np.zeros(rows.size, dtype=np.int64)
+    for j in range(width):
+        degrees = np.where(in_degrees[:, j], degrees * 10 + ones[:, j], degrees)
+        minutes = np.where(in_minutes[:, j], minutes * 10 + ones[:, j], minutes)
     m = minutes / 10.0 ** places
     number = degrees.astype(np.float64) + m / 60.0
     if letters:

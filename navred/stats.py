@@ -28,6 +28,8 @@ _MAX_TERMS = 400
 #: distinct ones, again and again
 _CACHE: dict[tuple, float] = {}
 _CACHE_LIMIT = 20_000
+#: up to this many (p, dof) pairs are looked up one by one (a sort to find the distinct ones costs more)
+_LOOKED_UP = 64
 
 
 def _log_beta(a: np.ndarray, b: np.ndarray) -> np.ndarray:
@@ -138,6 +140,10 @@ def _cached(kind: str, p: np.ndarray, dof: np.ndarray, solve) -> np.ndarray:
     """Each distinct (p, dof) solved once (and kept), in one vectorised call for those not known yet."""
     p, dof = np.broadcast_arrays(np.asarray(p, dtype=float), np.asarray(dof, dtype=float))
     shape = p.shape
+    if p.size <= _LOOKED_UP:  # a few pairs (one fix's): each looked up, when all are known already
+        known = [_CACHE.get((kind, a, b)) for a, b in zip(p.ravel().tolist(), dof.ravel().tolist())]
+        if None not in known:
+            return np.array(known, dtype=float).reshape(shape)
     pairs = np.stack([p.ravel(), dof.ravel()], axis=1)
     distinct, inverse = np.unique(pairs, axis=0, return_inverse=True)
     values = np.array([_CACHE.get((kind, a, b), np.nan) for a, b in distinct.tolist()])

@@ -4,6 +4,7 @@ between its sights, the DR at its fix time, each judged a fix, a fix with its mo
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 
 import numpy as np
@@ -122,6 +123,14 @@ class _Layout:
     weight: np.ndarray  # each sight's weight (1: a sight as good as any)
     sigma: np.ndarray | None = None  # each cell's stated σ (nm; NaN: a sight), None when no row states one
 
+    @functools.cached_property
+    def at_dr(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+        """Each sight's position, the DR at the fix time carried back (or on) to it, and the body's Hc and Zn
+        there: what the kinds of the groups and the plotting sheet's lines both take, worked once."""
+        sight_lat, sight_lon = at_sights(self.track, self.lat0, self.lon0)
+        hc, zn = computed_altitude_azimuth(sight_lat, sight_lon, self.gha, self.dec)
+        return sight_lat, sight_lon, hc, zn
+
 
 def _layout(s: SightRows, group, n_groups, ok, weighted, work, fix_time_given) -> _Layout:
     """The padded layout of the groups at work, each group's run between its sights, and its DR at the fix time
@@ -171,8 +180,7 @@ def _kinds(s: SightRows, lay: _Layout):
     LINE_ONLY_DEG), or a fix; why the motion cannot be solved where it was asked for; the widest crossing."""
     # each line's azimuth where it was observed: the DR carried back (or on) to each sight, as the solution
     # works it (at the DR of the fix time a noon Sun near the zenith hours before would have another azimuth)
-    sight_lat, sight_lon = at_sights(lay.track, lay.lat0, lay.lon0)
-    _, zn0 = computed_altitude_azimuth(sight_lat, sight_lon, lay.gha, lay.dec)
+    zn0 = lay.at_dr[3]
     spread0 = azimuth_spread_many(zn0, lay.use)
     size = lay.work.size
     motion = np.zeros(size, dtype=bool)
@@ -229,8 +237,7 @@ def _plotting_lines(lay: _Layout) -> dict[str, np.ndarray]:
     """Each line of position for the plotting sheet, from the DR carried to its sight: its intercept and Zn
     from the DR at the fix time, its foot, and its bearing there (tangent to the circle of equal altitude at
     the foot: across the azimuth, toward the body's geographical position, latitude Dec, longitude −GHA)."""
-    sight_lat, sight_lon = at_sights(lay.track, lay.lat0, lay.lon0)
-    hc, zn = computed_altitude_azimuth(sight_lat, sight_lon, lay.gha, lay.dec)
+    hc, zn = lay.at_dr[2:]
     intercept = (lay.ho - hc) * ARCMIN_PER_DEG
     foot_lat, foot_lon = destination(lay.lat0[:, None], lay.lon0[:, None], zn, intercept)
     _, toward_gp = distance_bearing(foot_lat, foot_lon, lay.dec, wrap_180(-lay.gha))

@@ -59,17 +59,21 @@ def step_on_sphere(lat_deg: ArrayLike, lon_deg: ArrayLike, north_nm: ArrayLike, 
     north = np.asarray(north_nm, dtype=float)
     east = np.asarray(east_nm, dtype=float)
     sin_phi, cos_phi, sin_lam, cos_lam = np.sin(phi), np.cos(phi), np.sin(lam), np.cos(lam)
-    p = np.stack(np.broadcast_arrays(cos_phi * cos_lam, cos_phi * sin_lam, sin_phi), axis=-1)
-    n_axis = np.stack(np.broadcast_arrays(-sin_phi * cos_lam, -sin_phi * sin_lam, cos_phi), axis=-1)
-    e_axis = np.stack(np.broadcast_arrays(-sin_lam, cos_lam, np.zeros_like(lam)), axis=-1)
     size = np.hypot(north, east)
     d = np.radians(size / ARCMIN_PER_DEG)
+    cos_d, sin_d = np.cos(d), np.sin(d)
+    moving = size > 0
+    # p, the north axis N, the east axis E and the unit direction u = (north N + east E)/size, component by
+    # component (x, y, z), and q = p cos d + u sin d
     with np.errstate(invalid="ignore", divide="ignore"):
-        u = (north[..., None] * n_axis + east[..., None] * e_axis) / size[..., None]
-    u = np.where((size > 0)[..., None], u, 0.0)
-    q = p * np.cos(d)[..., None] + u * np.sin(d)[..., None]
-    lat = np.degrees(np.arctan2(q[..., 2], np.hypot(q[..., 0], q[..., 1])))
-    lon = np.where(size > 0, np.degrees(np.arctan2(q[..., 1], q[..., 0])), np.asarray(lon_deg, dtype=float))
+        ux = np.where(moving, (north * (-sin_phi * cos_lam) + east * -sin_lam) / size, 0.0)
+        uy = np.where(moving, (north * (-sin_phi * sin_lam) + east * cos_lam) / size, 0.0)
+        uz = np.where(moving, (north * cos_phi + east * np.zeros_like(lam)) / size, 0.0)
+    qx = cos_phi * cos_lam * cos_d + ux * sin_d
+    qy = cos_phi * sin_lam * cos_d + uy * sin_d
+    qz = sin_phi * cos_d + uz * sin_d
+    lat = np.degrees(np.arctan2(qz, np.hypot(qx, qy)))
+    lon = np.where(moving, np.degrees(np.arctan2(qy, qx)), np.asarray(lon_deg, dtype=float))
     return lat, wrap_180(lon)
 
 

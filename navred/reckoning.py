@@ -195,12 +195,13 @@ class DRTrack:
         """The position at every knot (..., K), in the knots' own order, when the ship is at (lat, lon) (...,) at
         knot ``at`` (...,): the track of rhumb lines on the WGS 84 ellipsoid sailed on and back from there."""
         order, north, course, distance = self._legs
-        at_time = np.take_along_axis(self._back, np.asarray(at, dtype=np.intp)[..., None], axis=-1)[..., 0]
-        lat = np.broadcast_to(np.asarray(lat_deg, dtype=float), at_time.shape)
-        lon = np.broadcast_to(np.asarray(lon_deg, dtype=float), at_time.shape)
+        at = np.asarray(at, dtype=np.intp)
+        lat = np.broadcast_to(np.asarray(lat_deg, dtype=float), at.shape)
+        lon = np.broadcast_to(np.asarray(lon_deg, dtype=float), at.shape)
         if not distance.any():  # no run (knots at one instant, or no velocity): every knot is where the ship is
             shape = self.knot_ns.shape
             return np.array(np.broadcast_to(lat[..., None], shape)), np.array(np.broadcast_to(lon[..., None], shape))
+        at_time = np.take_along_axis(self._back, at[..., None], axis=-1)[..., 0]
         lat_all, lon_all = rhumb_track_through(lat, lon, at_time, north, course, distance)
         return np.take_along_axis(lat_all, self._back, axis=-1), np.take_along_axis(lon_all, self._back, axis=-1)
 

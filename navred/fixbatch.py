@@ -138,9 +138,9 @@ def _layout(s: SightRows, group, n_groups, ok, weighted, work, fix_time_given) -
     by_group = np.argsort(np.where(group >= 0, group, n_groups), kind="stable")
     count_ok = np.bincount(group[ok & (group >= 0)], minlength=n_groups)
     ok_rows = by_group[ok[by_group] & (group[by_group] >= 0)]
-    ok_rows = ok_rows[np.isin(group[ok_rows], work)]
     w_of_group = np.full(n_groups, -1, dtype=np.intp)
     w_of_group[work] = np.arange(work.size)
+    ok_rows = ok_rows[w_of_group[group[ok_rows]] >= 0]  # the rows of the groups at work
     w = w_of_group[group[ok_rows]]
     start = np.concatenate([[0], np.cumsum(count_ok[work])[:-1]])
     column = np.arange(ok_rows.size) - start[w]

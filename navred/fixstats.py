@@ -313,27 +313,30 @@ def _likelihood_root_one(z2: list[float], lam: list[float], inside: list[bool]) 
 
     def slope(v, derivative=False):
         total = [v + a for a in lam]
-        terms = [_divide(z - t, t * t) for z, t in zip(z2, total)]
+        terms = [(z - t) / d if (d := t * t) else _divide(z - t, d) for z, t in zip(z2, total)]
         if not all(map(math.isfinite, terms)):
             terms = [0.0 if x != x else 1e300 if x == _INF else -_MAX_FLOAT if x == -_INF else x for x in terms]
         value = _pairwise_sum([x if i else 0.0 for x, i in zip(terms, inside)])
         if not derivative:
             return value, 0.0
-        change = [_divide(t - 2.0 * z, t * t * t) for z, t in zip(z2, total)]
+        change = [(t - 2.0 * z) / d if (d := t * t * t) else _divide(t - 2.0 * z, d) for z, t in zip(z2, total)]
         if not all(map(math.isfinite, change)):
             change = [0.0 if x != x else _MAX_FLOAT if x == _INF else -_MAX_FLOAT if x == -_INF else x for x in change]
         return value, _pairwise_sum([x if i else 0.0 for x, i in zip(change, inside)])
 
-    def larger(x, y):  # np.maximum: NaN if either is
-        return _NAN if x != x or y != y else (x if x >= y else y)
-
     def falling(lo, hi):
         most = []
-        for z, a_, p in zip(z2, lam, present):
-            a, b = lo + a_, hi + a_
-            ends = larger(_divide(a - 2.0 * z, a * a * a), _divide(b - 2.0 * z, b * b * b))
-            peak = _divide(1.0, 27.0 * (z * z)) if (z > 0 and 3.0 * z >= a and 3.0 * z <= b) else -_INF
-            most.append(larger(ends, peak))
+        for z, shift in zip(z2, lam):
+            a, b = lo + shift, hi + shift
+            da, db = a * a * a, b * b * b
+            low = (a - 2.0 * z) / da if da else _divide(a - 2.0 * z, da)
+            high = (b - 2.0 * z) / db if db else _divide(b - 2.0 * z, db)
+            ends = _NAN if low != low or high != high else (low if low >= high else high)  # np.maximum
+            if z > 0 and 3.0 * z >= a and 3.0 * z <= b:
+                peak = 1.0 / d if (d := 27.0 * (z * z)) else _divide(1.0, d)
+            else:
+                peak = -_INF
+            most.append(_NAN if ends != ends or peak != peak else (ends if ends >= peak else peak))
         if not all(map(math.isfinite, most)):
             most = [_INF if x != x else _MAX_FLOAT if x == _INF else -_MAX_FLOAT if x == -_INF else x for x in most]
         return _pairwise_sum([x if p else 0.0 for x, p in zip(most, present)]) < 0

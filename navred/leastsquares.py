@@ -38,6 +38,13 @@ CONVERGED_NM = 0.01
 MAX_ITERATIONS = 25
 
 
+def broadcast(values: ArrayLike, shape: tuple[int, ...], dtype=float) -> np.ndarray:
+    """``np.broadcast_to(np.asarray(values, dtype), shape)`` (read only), without its cost when the values have that
+    shape already (a small fix's arrays mostly do)."""
+    values = np.asarray(values, dtype=dtype)
+    return values if values.shape == shape else np.broadcast_to(values, shape)
+
+
 def step_on_sphere(lat_deg: ArrayLike, lon_deg: ArrayLike, north_nm: ArrayLike, east_nm: ArrayLike
                    ) -> tuple[np.ndarray, np.ndarray]:
     """Position moved along the great circle of a displacement (nautical miles north and east), exact at any
@@ -84,8 +91,7 @@ def sight_track(dt_hours: ArrayLike, north_kn: ArrayLike, east_kn: ArrayLike) ->
     sails the rhumb line of the velocity in force after the earlier one (before the first sight, the first
     sight's)."""
     dt = np.asarray(dt_hours, dtype=float)
-    north, east = np.broadcast_to(np.asarray(north_kn, dtype=float), dt.shape), \
-        np.broadcast_to(np.asarray(east_kn, dtype=float), dt.shape)
+    north, east = broadcast(north_kn, dt.shape), broadcast(east_kn, dt.shape)
     return sight_track_ns(np.rint(dt * NS_PER_HOUR).astype(np.int64), north, east)
 
 
@@ -222,31 +228,31 @@ def _read_batch(gha_deg, dec_deg, ho_deg, lat0_deg, lon0_deg, dt_hours, velocity
     """:func:`solve_fixes`'s inputs broadcast to (fixes, sights) and checked."""
     gha = np.atleast_2d(np.asarray(gha_deg, dtype=float))
     shape = gha.shape
-    dec = np.broadcast_to(np.asarray(dec_deg, dtype=float), shape)
-    ho = np.broadcast_to(np.asarray(ho_deg, dtype=float), shape)
-    use = np.ones(shape, dtype=bool) if mask is None else np.broadcast_to(np.asarray(mask, dtype=bool), shape)
+    dec = broadcast(dec_deg, shape)
+    ho = broadcast(ho_deg, shape)
+    use = np.ones(shape, dtype=bool) if mask is None else broadcast(mask, shape, bool)
     finite = np.isfinite(gha) & np.isfinite(dec) & np.isfinite(ho)
     use = use & finite
-    shown = use if report is None else np.broadcast_to(np.asarray(report, dtype=bool), shape) & finite
+    shown = use if report is None else broadcast(report, shape, bool) & finite
     n_used = use.sum(axis=1)
     if np.any(n_used < 2):
         raise NavredError(f"a fix needs two or more usable sights; too few in {failed_elements(n_used < 2)}")
     # a sight left out takes the time and velocity of its fix's earliest sight: it then adds only a
     # leg of no length to the track, wherever the fix time lies
-    dt_all = np.broadcast_to(np.asarray(dt_hours, dtype=float), shape)
+    dt_all = broadcast(dt_hours, shape)
     earliest = (np.arange(shape[0]), np.argmin(np.where(use, dt_all, np.inf), axis=1))
 
     def as_earliest(values):
-        values = np.broadcast_to(np.asarray(values, dtype=float), shape)
+        values = broadcast(values, shape)
         return np.where(use, values, values[earliest][:, None])
 
     dt, given_n, given_e = (as_earliest(v) for v in (dt_hours, velocity_north_kn, velocity_east_kn))
 
     def per_fix(values):
-        return np.array(np.broadcast_to(np.asarray(values, dtype=float), shape[:1]), dtype=float)
+        return np.array(broadcast(values, shape[:1]), dtype=float)
 
     return _Batch(np.where(finite, gha, 0.0), np.where(finite, dec, 0.0), np.where(finite, ho, 0.0), use, shown,
-                  np.where(use, np.broadcast_to(np.asarray(weights, dtype=float), shape), 0.0), dt,
+                  np.where(use, broadcast(weights, shape), 0.0), dt,
                   sight_track(dt, given_n, given_e) if track is None else track, solve_motion,
                   per_fix(lat0_deg), per_fix(lon0_deg), per_fix(velocity0_kn[0]), per_fix(velocity0_kn[1]))
 
@@ -292,5 +298,5 @@ def _iterate(batch: _Batch, mark_singular: bool):
             break
     return converged, singular, iterations_each, iterations
 
-__all__ = ["CONVERGED_NM", "MAX_ITERATIONS", "step_on_sphere", "sight_track", "sight_track_ns", "at_sights",
+__all__ = ["CONVERGED_NM", "MAX_ITERATIONS", "broadcast", "step_on_sphere", "sight_track", "sight_track_ns", "at_sights",
            "run_to_fix_nm", "sight_hours", "CoreFixes", "solve_fixes"]

@@ -196,11 +196,17 @@ class DRTrack:
         knot ``at`` (...,): the track of rhumb lines on the WGS 84 ellipsoid sailed on and back from there."""
         order, north, course, distance = self._legs
         at = np.asarray(at, dtype=np.intp)
-        lat = np.broadcast_to(np.asarray(lat_deg, dtype=float), at.shape)
-        lon = np.broadcast_to(np.asarray(lon_deg, dtype=float), at.shape)
+        lat, lon = np.asarray(lat_deg, dtype=float), np.asarray(lon_deg, dtype=float)
+        if lat.shape != at.shape or lon.shape != at.shape:
+            lat, lon = np.broadcast_to(lat, at.shape), np.broadcast_to(lon, at.shape)
         if not distance.any():  # no run (knots at one instant, or no velocity): every knot is where the ship is
-            shape = self.knot_ns.shape
-            return np.array(np.broadcast_to(lat[..., None], shape)), np.array(np.broadcast_to(lon[..., None], shape))
+            lat_all, lon_all = np.empty(self.knot_ns.shape), np.empty(self.knot_ns.shape)
+            lat_all[...], lon_all[...] = lat[..., None], lon[..., None]
+            return lat_all, lon_all
+        if at.ndim == 1:  # a batch of tracks (rows, knots): plain indexing, the same elements
+            rows = np.arange(at.size)
+            lat_all, lon_all = rhumb_track_through(lat, lon, self._back[rows, at], north, course, distance)
+            return lat_all[rows[:, None], self._back], lon_all[rows[:, None], self._back]
         at_time = np.take_along_axis(self._back, at[..., None], axis=-1)[..., 0]
         lat_all, lon_all = rhumb_track_through(lat, lon, at_time, north, course, distance)
         return np.take_along_axis(lat_all, self._back, axis=-1), np.take_along_axis(lon_all, self._back, axis=-1)
@@ -263,6 +269,8 @@ class DRTrack:
 def _fill_forward(values: np.ndarray, valid: np.ndarray) -> np.ndarray:
     """Along the last axis, each invalid element takes the last valid one before it (or, if none, the first after)."""
     n = values.shape[-1]
+    if n >= 2 and valid[..., :-1].all() and not valid[..., -1].any():  # a sight track's: only its last knot open
+        return np.concatenate([values[..., :-1], values[..., -2:-1]], axis=-1)
     index = np.where(valid, np.arange(n), -1)
     before = np.maximum.accumulate(index, axis=-1)
     after = np.flip(np.minimum.accumulate(np.flip(np.where(valid, np.arange(n), n), axis=-1), axis=-1), axis=-1)

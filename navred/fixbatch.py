@@ -345,7 +345,7 @@ def _run_velocities(s: SightRows, index: np.ndarray, present: np.ndarray, hours:
     speed, the run between its rows' own DRs), and how each group's run was found."""
     course, speed = s.course[index], s.speed[index]
     given = (np.isfinite(course) | np.isfinite(speed)) & present
-    vn, ve = velocity_kn(np.nan_to_num(course), np.nan_to_num(speed))
+    vn, ve = velocity_kn(*(v if np.isfinite(v).all() else np.nan_to_num(v) for v in (course, speed)))
     cn, ce = velocity_kn(s.set_deg[index], s.drift_kn[index])
     vn, ve = vn + cn, ve + ce
     moving = given.any(axis=1)

@@ -390,7 +390,7 @@ def sight_variance(residual: np.ndarray, projector: np.ndarray, run_cov: np.ndar
     running fix over 7 h got an ellipse 80 nm long (ν clamped at 1) and one over 3 h, σ̂ = 0 at the likelihood's
     boundary, covered the truth two times in three. Arrays (groups, sights), (groups, sights, sights).
     """
-    r = np.nan_to_num(residual)
+    r = residual if np.isfinite(residual).all() else np.nan_to_num(residual)
     nu = np.maximum(np.asarray(dof, dtype=float), 0.0)
     plain = ~run_cov.any(axis=(1, 2))
     sigma2 = np.where(nu > 0, np.sum(r**2, axis=1) / np.maximum(nu, 1.0), 0.0)
@@ -483,7 +483,7 @@ def blunder_test(residual, leverage, use, dof, sigma, root_w=None):
     with np.errstate(invalid="ignore", divide="ignore"):
         deleted = np.maximum((total - r**2 / miss) / (dof[:, None] - 1.0), 0.0)
         t = np.abs(r) / (np.sqrt(deleted) * np.sqrt(miss))
-    t = np.where(np.abs(r) > 0, np.nan_to_num(t, nan=np.inf, posinf=np.inf), 0.0)
+    t = np.where(np.abs(r) > 0, t if np.isfinite(t).all() else np.nan_to_num(t, nan=np.inf, posinf=np.inf), 0.0)
     critical = np.where(testable, student_t_quantile(1.0 - BLUNDER_ALPHA / (2.0 * np.maximum(n, 1)),
                                                      np.where(testable, dof - 1.0, 1.0)), np.inf)
     off = np.abs(r) / miss / root  # the line's distance from the fix of the others (arcminutes)
@@ -506,8 +506,9 @@ def _row_median(values: np.ndarray) -> np.ndarray:
     ordered = np.sort(values, axis=1)  # NaN sorts last
     count = np.sum(~np.isnan(values), axis=1)
     last = max(values.shape[1] - 1, 0)
-    low = np.take_along_axis(ordered, np.clip((count - 1) // 2, 0, last)[:, None], axis=1)[:, 0]
-    high = np.take_along_axis(ordered, np.clip(count // 2, 0, last)[:, None], axis=1)[:, 0]
+    rows = np.arange(values.shape[0])
+    low = ordered[rows, np.clip((count - 1) // 2, 0, last)]
+    high = ordered[rows, np.clip(count // 2, 0, last)]
     with np.errstate(invalid="ignore", over="ignore"):
         return np.where(count == 0, np.nan, np.where(count % 2 == 1, low, (low + high) / 2.0))
 

@@ -177,11 +177,11 @@ class DRTrack:
         """The legs between consecutive knots in time order (worked out once): the order of the knots, the
         northing, course and length of each leg."""
         order = np.argsort(self.knot_ns, axis=-1, kind="stable")
-        times = np.take_along_axis(self.knot_ns, order, axis=-1)
+        times = _along(self.knot_ns, order)
         given = np.isfinite(self.north_kn) & np.isfinite(self.east_kn)
-        valid = np.take_along_axis(given, order, axis=-1)
-        north = _fill_forward(np.take_along_axis(np.where(given, self.north_kn, 0.0), order, axis=-1), valid)
-        east = _fill_forward(np.take_along_axis(np.where(given, self.east_kn, 0.0), order, axis=-1), valid)
+        valid = _along(given, order)
+        north = _fill_forward(_along(np.where(given, self.north_kn, 0.0), order), valid)
+        east = _fill_forward(_along(np.where(given, self.east_kn, 0.0), order), valid)
         hours = np.diff(times, axis=-1) / NS_PER_HOUR
         leg_north, leg_east = north[..., :-1] * hours, east[..., :-1] * hours
         return order, leg_north, np.degrees(np.arctan2(leg_east, leg_north)), np.hypot(leg_north, leg_east)
@@ -214,10 +214,10 @@ class DRTrack:
     def run_nm(self, at: ArrayLike) -> np.ndarray:
         """Miles run along the track between each knot and knot ``at`` (..., K), in the knots' own order."""
         _, _, _, distance = self._legs
-        at_time = np.take_along_axis(self._back, np.asarray(at, dtype=np.intp)[..., None], axis=-1)
+        at_time = _along(self._back, np.asarray(at, dtype=np.intp)[..., None])
         run = np.concatenate([np.zeros(distance.shape[:-1] + (1,)), np.cumsum(distance, axis=-1)], axis=-1)
-        from_at = np.abs(run - np.take_along_axis(run, at_time, axis=-1))
-        return np.take_along_axis(from_at, self._back, axis=-1)
+        from_at = np.abs(run - _along(run, at_time))
+        return _along(from_at, self._back)
 
     def velocity_at(self, utc_ns: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
         """The velocity over the ground (north, east knots) in force at the instants: the last knot's at or before
@@ -266,6 +266,16 @@ class DRTrack:
         return part
 
 
+def _along(values: np.ndarray, index: np.ndarray) -> np.ndarray:
+    """``np.take_along_axis(values, index, axis=-1)``, by plain indexing for a batch (rows, knots) or one track (the
+    same elements, without its cost on a small fix's arrays)."""
+    if values.ndim == 2 and index.ndim == 2:
+        return values[np.arange(values.shape[0])[:, None], index]
+    if values.ndim == 1 and index.ndim == 1:
+        return values[index]
+    return np.take_along_axis(values, index, axis=-1)
+
+
 def _fill_forward(values: np.ndarray, valid: np.ndarray) -> np.ndarray:
     """Along the last axis, each invalid element takes the last valid one before it (or, if none, the first after)."""
     n = values.shape[-1]
@@ -275,7 +285,7 @@ def _fill_forward(values: np.ndarray, valid: np.ndarray) -> np.ndarray:
     before = np.maximum.accumulate(index, axis=-1)
     after = np.flip(np.minimum.accumulate(np.flip(np.where(valid, np.arange(n), n), axis=-1), axis=-1), axis=-1)
     chosen = np.where(before >= 0, before, np.minimum(after, n - 1))
-    return np.take_along_axis(values, chosen, axis=-1)
+    return _along(values, chosen)
 
 
 def steady_track(lat_deg: float, lon_deg: float, start: object, course_deg: float = 0.0,

@@ -345,7 +345,7 @@ def _run_velocities(s: SightRows, index: np.ndarray, present: np.ndarray, hours:
     speed, the run between its rows' own DRs), and how each group's run was found."""
     course, speed = s.course[index], s.speed[index]
     given = (np.isfinite(course) | np.isfinite(speed)) & present
-    vn, ve = velocity_kn(*(v if np.isfinite(v).all() else np.nan_to_num(v) for v in (course, speed)))
+    vn, ve = velocity_kn(_nil_for_nan(course), _nil_for_nan(speed))
     cn, ce = velocity_kn(s.set_deg[index], s.drift_kn[index])
     vn, ve = vn + cn, ve + ce
     moving = given.any(axis=1)
@@ -359,10 +359,18 @@ def _run_velocities(s: SightRows, index: np.ndarray, present: np.ndarray, hours:
         if apart.any():
             rows = np.flatnonzero(apart)
             vn[rows], ve[rows] = _dr_run(lat[rows], lon[rows], hours[rows], present[rows])
-    run_from = np.where(apart, RunFrom.OWN_DRS,
-                        np.where(moving, np.where(with_current, RunFrom.COURSE_SPEED_AND_CURRENT, RunFrom.COURSE_AND_SPEED),
-                                 np.where(with_current, RunFrom.CURRENT, RunFrom.NONE)))
-    return vn, ve, [RunFrom(word) for word in run_from.tolist()]
+    run_from = [RunFrom.OWN_DRS if a else (RunFrom.COURSE_SPEED_AND_CURRENT if c else RunFrom.COURSE_AND_SPEED) if m
+                else RunFrom.CURRENT if c else RunFrom.NONE
+                for a, m, c in zip(apart.tolist(), moving.tolist(), with_current.tolist())]
+    return vn, ve, run_from
+
+
+_LARGEST = float(np.finfo(float).max)
+
+
+def _nil_for_nan(values: np.ndarray) -> np.ndarray:
+    """``np.nan_to_num(values)`` (NaN 0, an infinity the largest float of its sign), in a few calls."""
+    return np.where(np.isnan(values), 0.0, np.minimum(np.maximum(values, -_LARGEST), _LARGEST))
 
 
 def _dr_run(lat: np.ndarray, lon: np.ndarray, hours: np.ndarray, present: np.ndarray):

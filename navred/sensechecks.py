@@ -137,7 +137,7 @@ def sense_checks(results: list[FixResult], run_from: list[RunFrom], span_min: np
     dr_alone = DR_ALONE_SCALE * dr_sigma
     major = np.where(is_fix, size, 0.0)
     larger = is_fix & age_known & (dr_alone > 0) & (major > dr_alone)
-    stopped = (np.array(run_from, dtype=object) == RunFrom.NONE) & (span_min > STOPPED_SPAN_MIN)
+    stopped = np.array([r == RunFrom.NONE for r in run_from], dtype=bool) & (span_min > STOPPED_SPAN_MIN)
     for j, result in enumerate(results):
         result.dr_distance_nm = float(distance[j])
         result.dr_age_h, result.dr_age_known = float(age_h[j]), bool(age_known[j])

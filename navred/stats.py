@@ -138,12 +138,17 @@ def normal_cdf(z: ArrayLike) -> np.ndarray:
 
 def _cached(kind: str, p: np.ndarray, dof: np.ndarray, solve) -> np.ndarray:
     """Each distinct (p, dof) solved once (and kept), in one vectorised call for those not known yet."""
-    p, dof = np.broadcast_arrays(np.asarray(p, dtype=float), np.asarray(dof, dtype=float))
-    shape = p.shape
-    if p.size <= _LOOKED_UP:  # a few pairs (one fix's): each looked up, when all are known already
-        known = [_CACHE.get((kind, a, b)) for a, b in zip(p.ravel().tolist(), dof.ravel().tolist())]
+    p, dof = np.asarray(p, dtype=float), np.asarray(dof, dtype=float)
+    if p.size <= _LOOKED_UP and dof.size <= _LOOKED_UP and (p.ndim == 0 or dof.ndim == 0 or p.shape == dof.shape):
+        # a few pairs (one fix's): each looked up, when all are known already
+        shape = dof.shape if p.ndim == 0 else p.shape
+        ps = [float(p)] * dof.size if p.ndim == 0 else p.ravel().tolist()
+        dofs = [float(dof)] * p.size if dof.ndim == 0 else dof.ravel().tolist()
+        known = [_CACHE.get((kind, a, b)) for a, b in zip(ps, dofs)]
         if None not in known:
             return np.array(known, dtype=float).reshape(shape)
+    p, dof = np.broadcast_arrays(p, dof)
+    shape = p.shape
     pairs = np.stack([p.ravel(), dof.ravel()], axis=1)
     distinct, inverse = np.unique(pairs, axis=0, return_inverse=True)
     values = np.array([_CACHE.get((kind, a, b), np.nan) for a, b in distinct.tolist()])

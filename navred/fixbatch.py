@@ -279,8 +279,12 @@ def _row_columns(lay: _Layout, parts: dict, lines: dict, n_rows: int, group, n_g
                                                                    part.clear)
     sight_index = lay.index[lay.present]
     by_group = np.argsort(np.where(group >= 0, group, n_groups), kind="stable")
+    # every input row a sight of the layout, in group order already (one group's fix): no scattering
+    direct = sight_index.size == n_rows and np.array_equal(sight_index, by_group)
 
     def in_group_order(values, fill=np.nan, dtype=float):
+        if direct:
+            return np.asarray(values[lay.present], dtype=dtype)
         out = np.full(n_rows, fill, dtype=dtype)
         out[sight_index] = values[lay.present]
         return out[by_group]

@@ -312,21 +312,32 @@ def _likelihood_root_one(z2: list[float], lam: list[float], inside: list[bool]) 
     present = [i and math.isfinite(z) for i, z in zip(inside, z2)]
 
     def slope(v, derivative=False):
-        total = [v + a for a in lam]
-        terms = [(z - t) / d if (d := t * t) else _divide(z - t, d) for z, t in zip(z2, total)]
-        if not all(map(math.isfinite, terms)):
-            terms = [0.0 if x != x else 1e300 if x == _INF else -_MAX_FLOAT if x == -_INF else x for x in terms]
-        value = _pairwise_sum([x if i else 0.0 for x, i in zip(terms, inside)])
-        if not derivative:
-            return value, 0.0
-        change = [(t - 2.0 * z) / d if (d := t * t * t) else _divide(t - 2.0 * z, d) for z, t in zip(z2, total)]
-        if not all(map(math.isfinite, change)):
-            change = [0.0 if x != x else _MAX_FLOAT if x == _INF else -_MAX_FLOAT if x == -_INF else x for x in change]
-        return value, _pairwise_sum([x if i else 0.0 for x, i in zip(change, inside)])
+        terms, change = [], []  # each component's term and its rate of change (0 outside)
+        for z, shift, i in zip(z2, lam, inside):
+            if not i:
+                terms.append(0.0)
+                change.append(0.0)
+                continue
+            t = v + shift
+            d = t * t
+            x = (z - t) / d if d else _divide(z - t, d)
+            if not -_INF < x < _INF:  # np.nan_to_num(nan=0.0, posinf=1e300)
+                x = 0.0 if x != x else 1e300 if x > 0 else -_MAX_FLOAT
+            terms.append(x)
+            if derivative:
+                d *= t
+                y = (t - 2.0 * z) / d if d else _divide(t - 2.0 * z, d)
+                if not -_INF < y < _INF:  # np.nan_to_num(nan=0.0)
+                    y = 0.0 if y != y else _MAX_FLOAT if y > 0 else -_MAX_FLOAT
+                change.append(y)
+        return _pairwise_sum(terms), _pairwise_sum(change) if derivative else 0.0
 
     def falling(lo, hi):
         most = []
-        for z, shift in zip(z2, lam):
+        for z, shift, p in zip(z2, lam, present):
+            if not p:
+                most.append(0.0)
+                continue
             a, b = lo + shift, hi + shift
             da, db = a * a * a, b * b * b
             low = (a - 2.0 * z) / da if da else _divide(a - 2.0 * z, da)
@@ -336,10 +347,11 @@ def _likelihood_root_one(z2: list[float], lam: list[float], inside: list[bool]) 
                 peak = 1.0 / d if (d := 27.0 * (z * z)) else _divide(1.0, d)
             else:
                 peak = -_INF
-            most.append(_NAN if ends != ends or peak != peak else (ends if ends >= peak else peak))
-        if not all(map(math.isfinite, most)):
-            most = [_INF if x != x else _MAX_FLOAT if x == _INF else -_MAX_FLOAT if x == -_INF else x for x in most]
-        return _pairwise_sum([x if p else 0.0 for x, p in zip(most, present)]) < 0
+            m = _NAN if ends != ends or peak != peak else (ends if ends >= peak else peak)
+            if not -_INF < m < _INF:  # np.nan_to_num(nan=np.inf)
+                m = _INF if m != m else _MAX_FLOAT if m > 0 else -_MAX_FLOAT
+            most.append(m)
+        return _pairwise_sum(most) < 0
 
     top = (_NAN if any(z != z for z in z2) else max(z2)) + 1e-12
     resolution = top * 2.0**-ROOT_STEPS

@@ -219,8 +219,13 @@ class _Batch:
         sight_lat, sight_lon = at_sights(track, self.lat[pick], self.lon[pick])
         hc, zn = computed_altitude_azimuth(sight_lat, sight_lon, self.gha[pick], self.dec[pick])
         z = np.radians(zn)
-        columns = [np.cos(z), np.sin(z)] + ([np.cos(z) * dt, np.sin(z) * dt] if self.solve_motion else [])
-        return hc, zn, np.stack(columns, axis=-1) * self.use[pick][..., None]  # (F, S, k)
+        cos_z, sin_z = np.cos(z), np.sin(z)
+        columns = [cos_z, sin_z] + ([cos_z * dt, sin_z * dt] if self.solve_motion else [])
+        jac = np.empty(z.shape + (len(columns),))  # (F, S, k), the unused sights' rows nil
+        use = self.use[pick]
+        for j, column in enumerate(columns):
+            np.multiply(column, use, out=jac[..., j])
+        return hc, zn, jac
 
 
 def _read_batch(gha_deg, dec_deg, ho_deg, lat0_deg, lon0_deg, dt_hours, velocity_north_kn, velocity_east_kn,
@@ -270,27 +275,33 @@ def _iterate(batch: _Batch, mark_singular: bool):
     iterations = 0
     for _ in range(MAX_ITERATIONS):
         iterations += 1
-        hc, _, jac = batch.linearised(active)
-        weight = batch.w[active]
-        residual_nm = (batch.ho[active] - hc) * ARCMIN_PER_DEG
+        # while every fix is still moving (a fix alone, until it settles), its arrays are taken whole
+        every = active.size == fixes
+        pick = slice(None) if every else active
+        hc, _, jac = batch.linearised(None if every else active)
+        weight = batch.w[pick]
+        residual_nm = (batch.ho[pick] - hc) * ARCMIN_PER_DEG
         normal = np.einsum("fs,fsi,fsj->fij", weight, jac, jac)
         rhs = np.einsum("fs,fsi,fs->fi", weight, jac, residual_nm)
         determinant = np.linalg.det(normal)
         parallel = ~(np.abs(determinant) > 1e-12 * np.max(np.abs(normal), axis=(1, 2)) ** batch.k)
-        singular[active[parallel]] = True
-        if parallel.any() and not mark_singular:
-            raise NavredError(
-                f"the lines of position are parallel (all azimuths alike or opposite): no fix "
-                f"in {failed_elements(singular)}")
-        # a fix that has settled (or is singular) takes no further step
-        step = np.linalg.solve(np.where(parallel[:, None, None], identity, normal), rhs[..., None])[..., 0]
-        step = np.where(parallel[:, None], 0.0, step)
+        any_parallel = bool(parallel.any())
+        if any_parallel:
+            singular[active[parallel]] = True
+            if not mark_singular:
+                raise NavredError(
+                    f"the lines of position are parallel (all azimuths alike or opposite): no fix "
+                    f"in {failed_elements(singular)}")
+            # a fix that has settled (or is singular) takes no further step
+            step = np.linalg.solve(np.where(parallel[:, None, None], identity, normal), rhs[..., None])[..., 0]
+            step = np.where(parallel[:, None], 0.0, step)
+        else:
+            step = np.linalg.solve(normal, rhs[..., None])[..., 0]
         size = np.hypot(step[:, 0], step[:, 1])
-        batch.lat[active], batch.lon[active] = step_on_sphere(batch.lat[active], batch.lon[active], step[:, 0],
-                                                              step[:, 1])
+        batch.lat[pick], batch.lon[pick] = step_on_sphere(batch.lat[pick], batch.lon[pick], step[:, 0], step[:, 1])
         if batch.solve_motion:
-            batch.vn[active], batch.ve[active] = batch.vn[active] + step[:, 2], batch.ve[active] + step[:, 3]
-        iterations_each[active] += ~parallel
+            batch.vn[pick], batch.ve[pick] = batch.vn[pick] + step[:, 2], batch.ve[pick] + step[:, 3]
+        iterations_each[pick] += ~parallel
         settled = ~parallel & (size < CONVERGED_NM)
         converged[active[settled]] = True
         active = active[~settled & ~parallel]

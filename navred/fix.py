@@ -88,7 +88,7 @@ def fixes_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike,
     weight = sight_weights(per_row(sigma_arcmin), labels)
     sights = SightRows(
         gha, dec, ho, np.array(broadcast(utc_datetime64(utc), (n_rows,), None)), per_row(dr_lat_deg), per_row(dr_lon_deg),
-        per_row(course_deg), per_row(speed_kn), np.nan_to_num(per_row(set_deg, 0.0)), np.nan_to_num(drift),
+        per_row(course_deg), per_row(speed_kn), _nil_for_nan(per_row(set_deg, 0.0)), _nil_for_nan(drift),
         per_row(dr_age_hours),
         np.arange(1, n_rows + 1).astype(str) if labels is None else np.asarray(labels).astype(str),
         solve_motion, dr_error_kn, dr_error_fraction, weight,
@@ -121,6 +121,8 @@ def sight_weights(sigma_arcmin: np.ndarray, labels=None) -> np.ndarray:
     [1.0, 1.0, 0.25, 4.0]
     """
     sigma = np.asarray(sigma_arcmin, dtype=float)
+    if np.isnan(sigma).all():  # no sight given a σ of its own (the usual log)
+        return np.ones(sigma.shape)
     bad = ~np.isnan(sigma) & ~(np.isfinite(sigma) & (sigma > 0))
     if bad.any():
         names = (np.arange(1, sigma.size + 1).astype(str) if labels is None else np.asarray(labels).astype(str))
@@ -128,6 +130,11 @@ def sight_weights(sigma_arcmin: np.ndarray, labels=None) -> np.ndarray:
         raise NavredError(f"a sight's σ must be a positive number of arcminutes; not so for {shown}")
     with np.errstate(divide="ignore"):
         return np.where(np.isnan(sigma), 1.0, (A_PRIORI_SIGMA_ARCMIN / np.where(np.isnan(sigma), 1.0, sigma)) ** 2)
+
+
+def _nil_for_nan(values: np.ndarray) -> np.ndarray:
+    """``np.nan_to_num(values)``, without its cost where every value is a number already."""
+    return values if np.isfinite(values).all() else np.nan_to_num(values)
 
 
 def _cross_check_all(results: list[FixResult | None], chart_lat: np.ndarray, chart_lon: np.ndarray) -> None:

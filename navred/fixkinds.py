@@ -221,14 +221,15 @@ def _fix_statistics(core: CoreFixes, u: np.ndarray, sub_track, k: int, dr_error_
         run_cov = run_error_covariance(np.where(u, core.zn_deg, 0.0), sight_hours(sub_track),
                                        run_to_fix_nm(sub_track), dr_error_kn, dr_error_fraction)
         run_cov = run_cov * (u * root_w)[:, :, None] * (u * root_w)[:, None, :]
-    gain = unit @ np.swapaxes(jac, 1, 2)  # x = gain @ residual: the least-squares estimator
-    projector = np.eye(width)[None] * u[:, :, None] - jac @ gain  # M = I − H on the used sights
+    gain = unit @ jac.transpose(0, 2, 1)  # x = gain @ residual: the least-squares estimator
+    gain_t = gain.transpose(0, 2, 1)
+    identity = np.eye(width)[None] * u[:, :, None]  # I on the used sights
+    projector = identity - jac @ gain  # M = I − H on the used sights
     variance = sight_variance(residual, projector, run_cov, dof)
     sigma2, information = variance.working, variance.information
     sigma = np.where(dof >= 1, np.sqrt(sigma2), A_PRIORI_SIGMA_ARCMIN)
-    identity = np.eye(width)[None] * u[:, :, None]
-    known = gain @ run_cov @ np.swapaxes(gain, 1, 2)
-    covariance = sigma[:, None, None] ** 2 * (gain @ identity @ np.swapaxes(gain, 1, 2)) + known
+    known = gain @ run_cov @ gain_t
+    covariance = sigma[:, None, None] ** 2 * (gain @ identity @ gain_t) + known
     nu = effective_dof(dof, sigma2, np.trace(unit[:, :2, :2], axis1=1, axis2=2),
                        np.trace(known[:, :2, :2], axis1=1, axis2=2), information)
     nu = np.where(dof >= 1, nu, np.inf)

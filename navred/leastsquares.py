@@ -117,7 +117,7 @@ def at_sights(track: DRTrack, lat_deg: ArrayLike, lon_deg: ArrayLike) -> tuple[n
 
 def run_to_fix_nm(track: DRTrack) -> np.ndarray:
     """Miles run between each sight of a :func:`sight_track` and the fix time (fixes, sights)."""
-    return track.run_nm(_fix_knot(track))[..., :-1]
+    return track.run_to_last_nm[..., :-1]
 
 
 def sight_hours(track: DRTrack) -> np.ndarray:

@@ -219,6 +219,14 @@ class DRTrack:
         from_at = np.abs(run - _along(run, at_time))
         return _along(from_at, self._back)
 
+    @functools.cached_property
+    def run_to_last_nm(self) -> np.ndarray:
+        """Miles run between each knot and the last (..., K): a batch of sight tracks' run to each fix (worked once;
+        read only)."""
+        run = self.run_nm(np.full(self.knot_ns.shape[:-1], self.knot_ns.shape[-1] - 1))
+        run.flags.writeable = False
+        return run
+
     def velocity_at(self, utc_ns: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
         """The velocity over the ground (north, east knots) in force at the instants: the last knot's at or before
         each (before the first knot, the first knot's). A single track."""
@@ -259,7 +267,7 @@ class DRTrack:
         if rows.size == self.knot_ns.shape[0] and np.array_equal(rows, np.arange(rows.size)):
             return self
         part = DRTrack(self.knot_ns[rows], self.north_kn[rows], self.east_kn[rows])
-        for name in ("_legs", "_back"):
+        for name in ("_legs", "_back", "run_to_last_nm"):
             if name in self.__dict__:
                 value = self.__dict__[name]
                 part.__dict__[name] = tuple(v[rows] for v in value) if isinstance(value, tuple) else value[rows]

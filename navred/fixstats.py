@@ -112,12 +112,13 @@ def azimuth_spread_many(zn_deg: np.ndarray, use: np.ndarray) -> np.ndarray:
     """:func:`azimuth_spread_deg` of each row of (groups, sights) azimuths, using the sights ``use`` marks."""
     directions = np.sort(np.where(use, wrap_axial(zn_deg), np.inf), axis=1)
     count = use.sum(axis=1)
-    first = directions[:, :1] + 180.0
-    padded = np.concatenate([directions, np.full_like(first, np.inf)], axis=1)
+    padded = np.empty((directions.shape[0], directions.shape[1] + 1))
+    padded[:, :-1] = directions
+    padded[:, -1] = np.inf
     # the wrap-around gap closes the circle after the last used direction
-    padded[np.arange(len(count)), count] = first[:, 0]
+    padded[np.arange(len(count)), count] = directions[:, 0] + 180.0
     with np.errstate(invalid="ignore"):
-        gaps = np.diff(padded, axis=1)  # inf − inf beyond the used directions, masked next
+        gaps = padded[:, 1:] - padded[:, :-1]  # (np.diff) inf − inf beyond the used directions, masked next
     valid = np.arange(gaps.shape[1])[None, :] < count[:, None]
     widest = np.where(valid, gaps, -np.inf).max(axis=1)
     return np.where(count >= 2, 180.0 - widest, 0.0)
@@ -430,7 +431,7 @@ def sight_variance(residual: np.ndarray, projector: np.ndarray, run_cov: np.ndar
         found = likelihood_root(z2, lam, inside)
         sigma2[rows] = found
         judging = np.where(inside, 1.0 / (1.0 + (lam / prior) ** 2), 0.0).sum(axis=1)
-        weight[rows] = np.clip(judging / nu[rows], 0.0, 1.0)
+        weight[rows] = np.minimum(np.maximum(judging / nu[rows], 0.0), 1.0)  # (np.clip's values)
         working[rows] = weight[rows] * found + (1.0 - weight[rows]) * prior
         with np.errstate(divide="ignore", invalid="ignore"):
             information[rows] = (np.where(inside, 0.5 / (working[rows][:, None] + lam) ** 2, 0.0).sum(axis=1)

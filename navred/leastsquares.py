@@ -72,10 +72,11 @@ def step_on_sphere(lat_deg: ArrayLike, lon_deg: ArrayLike, north_nm: ArrayLike, 
     moving = size > 0
     # p, the north axis N, the east axis E and the unit direction u = (north N + east E)/size, component by
     # component (x, y, z), and q = p cos d + u sin d
+    minus_sin_phi = -sin_phi
     with np.errstate(invalid="ignore", divide="ignore"):
-        ux = np.where(moving, (north * (-sin_phi * cos_lam) + east * -sin_lam) / size, 0.0)
-        uy = np.where(moving, (north * (-sin_phi * sin_lam) + east * cos_lam) / size, 0.0)
-        uz = np.where(moving, (north * cos_phi + east * np.zeros_like(lam)) / size, 0.0)
+        ux = np.where(moving, (north * (minus_sin_phi * cos_lam) + east * -sin_lam) / size, 0.0)
+        uy = np.where(moving, (north * (minus_sin_phi * sin_lam) + east * cos_lam) / size, 0.0)
+        uz = np.where(moving, (north * cos_phi + east * 0.0) / size, 0.0)
     qx = cos_phi * cos_lam * cos_d + ux * sin_d
     qy = cos_phi * sin_lam * cos_d + uy * sin_d
     qz = sin_phi * cos_d + uz * sin_d

@@ -357,9 +357,11 @@ def _run_velocities(s: SightRows, index: np.ndarray, present: np.ndarray, hours:
     apart = np.zeros(len(index), dtype=bool)
     if not moving.all():
         lat, lon = s.dr_lat[index], s.dr_lon[index]
-        miles, _ = distance_bearing(lat[:, :1], lon[:, :1], lat, lon)
-        with np.errstate(invalid="ignore"):
-            apart = (np.where(present, miles, 0.0) > CONVERGED_NM).any(axis=1) & ~moving
+        one_dr = ~present | ((lat == lat[:, :1]) & (lon == lon[:, :1]))  # one DR written on every sight: nil apart
+        if not one_dr.all():
+            miles, _ = distance_bearing(lat[:, :1], lon[:, :1], lat, lon)
+            with np.errstate(invalid="ignore"):
+                apart = (np.where(present, miles, 0.0) > CONVERGED_NM).any(axis=1) & ~moving
         if apart.any():
             rows = np.flatnonzero(apart)
             vn[rows], ve[rows] = _dr_run(lat[rows], lon[rows], hours[rows], present[rows])

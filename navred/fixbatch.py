@@ -214,9 +214,11 @@ def _solve_kinds(s: SightRows, lay: _Layout, motion, line, spread0) -> dict:
             rows = np.flatnonzero(chosen)
             velocity0 = (np.where(lay.use[rows], lay.vn[rows], 0.0).sum(1) / lay.n_used[rows],
                          np.where(lay.use[rows], lay.ve[rows], 0.0).sum(1) / lay.n_used[rows])
+            # every group a fix of position: its first step starts from Hc and Zn at the DR, worked already
+            start = lay.at_dr[2:] if k == 2 and rows.size == lay.work.size else None
             part = solve_fix_part(k, rows, lay.gha, lay.dec, lay.ho, lay.use, lay.present, lay.track,
                                   lay.lat0, lay.lon0, velocity0, s.dr_error_kn, s.dr_error_fraction, lay.weight,
-                                  None if lay.sigma is None else lay.sigma[rows])
+                                  None if lay.sigma is None else lay.sigma[rows], start)
             demoted = part.not_fix != ""
             if demoted.any():
                 line[rows[demoted]] = True

@@ -149,7 +149,8 @@ def solve_fixes(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, lat0_
                 *, dt_hours: ArrayLike = 0.0, velocity_north_kn: ArrayLike = 0.0, velocity_east_kn: ArrayLike = 0.0,
                 weights: ArrayLike = 1.0, mask: ArrayLike | None = None, solve_motion: bool = False,
                 velocity0_kn: ArrayLike = (0.0, 0.0), mark_singular: bool = False,
-                track: DRTrack | None = None, report: ArrayLike | None = None) -> CoreFixes:
+                track: DRTrack | None = None, report: ArrayLike | None = None,
+                start: tuple[np.ndarray, np.ndarray] | None = None) -> CoreFixes:
     """Solve many independent fixes at once by Gauss-Newton on the sphere.
 
     Arrays of shape (fixes, sights): ``gha_deg``, ``dec_deg``, ``ho_deg`` of each sight,
@@ -168,9 +169,13 @@ def solve_fixes(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, lat0_
     Each step is taken on the sphere in three dimensions: the position moves along the great circle
     of the step's direction in the local frame of the meridian it stands on (north and east; at a pole
     the frame of its meridian still holds), so a fix is exact up to the pole, from a DR on any side.
+
+    ``start``: Hc and Zn (fixes, sights) at the starting positions along ``track``, when the caller has worked
+    them already (the first step takes them rather than working the triangle again; the same numbers).
     """
     batch = _read_batch(gha_deg, dec_deg, ho_deg, lat0_deg, lon0_deg, dt_hours, velocity_north_kn, velocity_east_kn,
                         weights, mask, solve_motion, velocity0_kn, track, report)
+    batch.start = None if solve_motion else start
     converged, singular, iterations_each, iterations = _iterate(batch, mark_singular)
     hc, zn, jac = batch.linearised()
     residual = np.where(batch.shown, (batch.ho - hc) * ARCMIN_PER_DEG, np.nan)
@@ -202,6 +207,8 @@ class _Batch:
     lon: np.ndarray
     vn: np.ndarray
     ve: np.ndarray
+    #: Hc and Zn at the starting positions, for the first step only (then None)
+    start: tuple[np.ndarray, np.ndarray] | None = None
 
     @property
     def k(self) -> int:
@@ -217,8 +224,11 @@ class _Batch:
                                 np.broadcast_to(self.ve[pick, None], dt.shape))
         else:
             track = self.track if rows is None else self.track.take(rows)  # legs worked out once
-        sight_lat, sight_lon = at_sights(track, self.lat[pick], self.lon[pick])
-        hc, zn = computed_altitude_azimuth(sight_lat, sight_lon, self.gha[pick], self.dec[pick])
+        if rows is None and self.start is not None:  # at the start, worked by the caller
+            (hc, zn), self.start = self.start, None
+        else:
+            sight_lat, sight_lon = at_sights(track, self.lat[pick], self.lon[pick])
+            hc, zn = computed_altitude_azimuth(sight_lat, sight_lon, self.gha[pick], self.dec[pick])
         z = np.radians(zn)
         cos_z, sin_z = np.cos(z), np.sin(z)
         columns = [cos_z, sin_z] + ([cos_z * dt, sin_z * dt] if self.solve_motion else [])

@@ -219,6 +219,14 @@ def test_a_long_numeric_frame_read_in_blocks_is_the_frame_read_whole(monkeypatch
         assert (np.signbit(blocks[column]) == np.signbit(whole[column])).all(), column
 
 
+def test_an_empty_numeric_frame_reduces_to_an_empty_table_as_its_text_does():
+    """A notebook's filter that kept no sight (a frame of no rows, its instants a column of datetimes) reduces to
+    an empty table with the columns the same frame of texts gives, not a fault."""
+    frame = numeric_frame(3).iloc[:0]
+    numbers, text = reduce_sights(frame), reduce_sights(frame.astype({"utc": str}))
+    assert len(numbers) == len(text) == 0 and list(numbers.columns) == list(text.columns)
+
+
 def test_a_whole_table_is_its_blocks_written_in_place():
     """The whole table of a long frame's blocks (each column made once, zeros lent by the system and blocks of
     zeros not written): each value is the block's own, a zero's sign too, whatever order the blocks come in;

@@ -467,6 +467,11 @@ def gather(tables, layouts, key) -> Cells:
                                                                        dtype=object),
                      np.full(table.n_rows, table.header[index], dtype=object),
                      np.full(table.n_rows, table.decimal_comma, dtype=bool), True)
+    if not any(layout.keys.get(key) for layout in layouts):  # no table gives it: every row blank, none looked at
+        n = int(counts.sum())  # (a DataFrame of a few columns leaves most keys out: a tenth of its reading time)
+        return Cells(pd.Series(np.full(n, None, dtype=object), dtype=object), np.ones(n, dtype=bool),
+                     texts_of(n, COLUMN[key].default_unit), texts_of(n, key),
+                     np.repeat(np.array([t.decimal_comma for t in tables], dtype=bool), counts), False)
     for table, layout in zip(tables, layouts):
         n = table.n_rows
         indices = layout.keys.get(key, [])

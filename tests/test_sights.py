@@ -204,6 +204,7 @@ def test_a_long_numeric_frame_read_in_blocks_is_the_frame_read_whole(monkeypatch
     and row numbers made across the blocks."""
     import warnings
 
+    import navred.jobs.forking as forking
     import navred.jobs.sights as sights
 
     frame = numeric_frame(400, **extra)
@@ -213,7 +214,10 @@ def test_a_long_numeric_frame_read_in_blocks_is_the_frame_read_whole(monkeypatch
         monkeypatch.setattr(sights, "FRAME_BLOCK_ROWS", 37)
         assert sights.frame_blocks(frame, 37) is not None
         blocks = reduce_sights(frame)
+        monkeypatch.setattr(forking, "cores", lambda: 1)  # the blocks worked by this process alone
+        alone = reduce_sights(frame)
     pd.testing.assert_frame_equal(blocks, whole)
+    pd.testing.assert_frame_equal(alone, whole)
     assert (blocks.status == "error").sum() >= 8 and blocks.row.tolist() == list(range(1, 401))
     for column in ("dr_lon_deg", "lha_deg", "current_set_deg"):  # a zero's sign is kept (-0.0 is written)
         assert (np.signbit(blocks[column]) == np.signbit(whole[column])).all(), column
@@ -233,7 +237,7 @@ def test_a_whole_table_is_its_blocks_written_in_place():
     a column a block widens is widened; instants get their zone back."""
     from navred.jobs.sights import WholeTable
 
-    whole = WholeTable(6)
+    whole = WholeTable(9)
     stamps = pd.Series(pd.to_datetime(["2026-01-01 12:00"] * 2)).to_numpy()
     whole.put(4, 6, {"x": (np.array([0.0, 0.0]), None), "n": (np.array([1, 2]), None),
                      "t": (np.array(["a", "b"], dtype=object), None), "utc": (stamps, "UTC")})
@@ -241,11 +245,13 @@ def test_a_whole_table_is_its_blocks_written_in_place():
                      "t": (np.array(["c", "c"], dtype=object), None), "utc": (stamps, "UTC")})
     whole.put(2, 4, {"x": (np.array([1.5, 0.0]), None), "n": (np.array([0.5, 0.0]), None),
                      "t": (np.array(["", "d"], dtype=object), None), "utc": (stamps, "UTC")})
+    whole.put(6, 9, {"x": (np.array([-0.0]), None), "n": (np.array([7.0]), None),  # one value for every row
+                     "t": (np.array(["e"], dtype=object), None), "utc": (stamps[:1], "UTC")})
     columns = whole.finished()
-    assert columns["x"].tolist() == [0.0, 0.0, 1.5, 0.0, 0.0, 0.0] and np.signbit(columns["x"]).tolist() == [
-        True, False, False, False, False, False]
-    assert columns["n"].tolist() == [0.0, 0.0, 0.5, 0.0, 1.0, 2.0] and columns["n"].dtype == float
-    assert columns["t"].tolist() == ["c", "c", "", "d", "a", "b"]
+    assert columns["x"].tolist() == [0.0, 0.0, 1.5, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0] and np.signbit(
+        columns["x"]).tolist() == [True, False, False, False, False, False, True, True, True]
+    assert columns["n"].tolist() == [0.0, 0.0, 0.5, 0.0, 1.0, 2.0, 7.0, 7.0, 7.0] and columns["n"].dtype == float
+    assert columns["t"].tolist() == ["c", "c", "", "d", "a", "b", "e", "e", "e"]
     assert str(columns["utc"].dt.tz) == "UTC" and (columns["utc"] == pd.Timestamp("2026-01-01 12:00Z")).all()
 
 

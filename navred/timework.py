@@ -34,10 +34,11 @@ _NAMED_MONTH_FIRST = re.compile(r"^\s*([A-Za-z]{3,9})\.?\s+(\d{1,2})(?:st|nd|rd|
 _TIME = re.compile(r"^\s*(\d{1,2})(?:[:h ]\s*(\d{2})(?:[:m ]\s*(\d{2}(?:[.,]\d+)?)\s*s?)?\s*m?)\s*$", re.IGNORECASE)
 _COMPACT_TIME = re.compile(r"^\s*(\d{2})(\d{2})(\d{2}(?:[.,]\d+)?)?\s*$")
 _ZONE_IN_TIME = re.compile(r"(?:[zZ]|UTC|GMT|[+-]\d{2}(?::?\d{2})?)\s*$")
-_AM_PM = re.compile(r"\b(?:a\.?m\.?|p\.?m\.?)\s*$", re.IGNORECASE)
+_AM_PM = re.compile(r"(?<![A-Za-z])([ap])\.?\s?m\.?\s*$", re.IGNORECASE)
 
 ACCEPTED_DATES = "ISO 8601 such as 2026-03-26, 26 Mar 2026, or a date cell"
-ACCEPTED_TIMES = "hh:mm:ss on the 24-hour clock (19:41:30, 19:41, 194130), or a time cell"
+ACCEPTED_TIMES = ("hh:mm:ss on the 24-hour clock (19:41:30, 19:41, 194130), a time cell, or 1 to 11 o'clock with "
+                  "am or pm (7:41:30 pm)")
 ACCEPTED_ZONES = "a whole signed hour from -12 to +12, ZT + ZD = UTC: +3, -10, 0, with its letter if you like (+1 N, -1 A, Z)"
 ACCEPTED_WATCH_ERRORS = ("'12 fast', '3 s slow', '1 m 05 s fast', '01:05 slow'; a number, signed or not, only under "
                          "a header that states the sign ('watch error (fast +)'): otherwise fast or slow?")
@@ -125,10 +126,11 @@ def parse_date(value: object, order: str | None = None, *, declarable: bool = Tr
 
 
 def parse_time_of_day(value: object) -> tuple[int, int, float]:
-    """(hour, minute, second) of a time of day as written (24-hour clock; second 60 for a leap second).
+    """(hour, minute, second) of a time of day as written (24-hour clock; second 60 for a leap second), or on
+    the 12-hour clock with am or pm (1 to 11; 12 am and 12 pm are refused with both readings).
 
-    >>> parse_time_of_day("19:41:30"), parse_time_of_day("1941")
-    ((19, 41, 30.0), (19, 41, 0.0))
+    >>> parse_time_of_day("19:41:30"), parse_time_of_day("1941"), parse_time_of_day("7:15 pm")
+    ((19, 41, 30.0), (19, 41, 0.0), (19, 15, 0.0))
     """
     if isinstance(value, _dt.datetime):
         value = value.time()
@@ -139,8 +141,9 @@ def parse_time_of_day(value: object) -> tuple[int, int, float]:
     if not isinstance(value, str):
         raise TimeInputError(f"cannot read {value!r} as a time of day; accepted: {ACCEPTED_TIMES}")
     text = value.strip()
-    if _AM_PM.search(text):
-        raise TimeInputError(f"time {value!r}: write it on the 24-hour clock (19:41:30), not with am/pm")
+    half = _AM_PM.search(text)
+    if half:
+        return _twelve_hour_time(value, text[:half.start()].strip(), half.group(1).lower() == "p")
     match = _TIME.match(text) or _COMPACT_TIME.match(text)
     if not match:
         if _ZONE_IN_TIME.search(text) and _TIME.match(_ZONE_IN_TIME.sub("", text).strip()):
@@ -154,6 +157,31 @@ def parse_time_of_day(value: object) -> tuple[int, int, float]:
         raise TimeInputError(f"{value!r} is not a time of day (hour 0-23, minute 0-59, second below 60, "
                              "or 60 in a leap second)")
     return hour, minute, second
+
+
+def _twelve_hour_time(value: str, clock: str, pm: bool) -> tuple[int, int, float]:
+    """A time written on the 12-hour clock with am or pm (``clock`` without them): hours 1 to 11 read as the
+    12-hour clock reads them (7:15 pm is 19:15); 12 am and 12 pm are refused with both readings (midnight or
+    noon: usage differs), and an hour of 0 or over 12 beside am/pm as a contradiction."""
+    half = "pm" if pm else "am"
+    match = _TIME.match(clock) or _COMPACT_TIME.match(clock)
+    if not match:
+        raise TimeInputError(f"cannot read {value!r} as a time of day; accepted: {ACCEPTED_TIMES}")
+    hour, minute = int(match.group(1)), int(match.group(2) or 0)
+    second = float((match.group(3) or "0").replace(",", "."))
+    rest = f"{minute:02d}" + (f":{match.group(3)}" if match.group(3) else "")
+    if minute > 59 or second >= 61.0:
+        raise TimeInputError(f"{value!r} is not a time of day (minute 0-59, second below 60, or 60 in a leap "
+                             "second)")
+    if hour == 12:
+        raise TimeInputError(
+            f"time {value!r} has two readings: 00:{rest}, just after midnight, or 12:{rest}, just after noon (what "
+            f"12 {half} means differs from one usage to another): write it on the 24-hour clock")
+    if hour == 0 or hour > 12:
+        raise TimeInputError(
+            f"time {value!r}: hour {hour} with {half}, but the 12-hour clock runs 1 to 12: write it on the 24-hour "
+            f"clock ({hour:02d}:{rest}) without {half}")
+    return hour + (12 if pm else 0), minute, second
 
 
 _ZONE = re.compile(r"^([+-]?)\s*(\d{1,2})(?:[.,]0+)?\s*(?:\(?\s*([A-Za-z])\s*\)?)?$")

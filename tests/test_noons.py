@@ -309,3 +309,68 @@ def test_the_demo_log_gives_a_noon_from_its_forenoon_sun_and_meridian_altitude()
     assert GEOD.Inverse(where["lat2"], where["lon2"], noon["lat_deg"], noon["lon_deg"])["s12"] / 1852.0 < 0.5
     assert days.tracks["Moth Orchid (invented)"].known_label[0] == "logged DR at row 2"
     assert "sun-run-sun" not in set(days.set_drift["fix_group"])
+
+
+def test_a_noon_from_a_dr_with_a_logged_current_is_named_so_everywhere(tmp_path):
+    """Trial finding: a noon from a DR with an entered current was called plain "DR". A log of entry rows alone
+    (invented: a departure, a current entered): each noon is the "DR with current" (the trade's estimated
+    position by course, speed and current) on the console, in days --csv and on the Noon report sheet; the same
+    log without its current row gives plain "DR". Reference: the position by scripts/make_passage.py's own
+    sailing (RK4 on WGS 84) with the same course, speed and current, within 0.1 nm (geographiclib)."""
+    from openpyxl import load_workbook
+
+    start = pd.Timestamp("2026-04-14T06:00:00Z")
+    rows = [{"utc": _iso(start), "entry": "departure", "dr_lat": "38 00.0 N", "dr_lon": "014 00.0 W",
+             "course": 250, "speed": 8},
+            {"utc": _iso(start), "entry": "current", "set": 135, "drift": 1.5},
+            {"utc": _iso(start + pd.Timedelta(hours=31)), "entry": "course", "course": 250, "speed": 8}]
+    log = tmp_path / "current.csv"
+    pd.DataFrame(rows).to_csv(log, index=False)
+    noons = process_log(log, plan=False).days_work().noons
+    assert len(noons) == 2 and noons.noon_from.str.startswith("DR with current from the departure").all()
+    track = passage.sail(start, 38.0, -14.0, [(start, 250.0, 8.0)], lambda t_h: (135.0, 1.5),
+                         pd.Timestamp(noons.noon_utc.iloc[-1] + "Z") + pd.Timedelta(minutes=1))
+    for noon in noons.itertuples():
+        lat, lon = passage.position_at(track, pd.Timestamp(noon.noon_utc + "Z"))
+        assert _off_nm(lat, lon, noon.lat_deg, noon.lon_deg) < 0.1
+    runner = CliRunner()
+    console = runner.invoke(app, ["days", str(log)])
+    assert console.exit_code == 0 and console.stdout.count("by DR with current from the departure") == 2
+    assert "found by          DR with current from the departure" in console.stdout
+    table = pd.read_csv(__import__("io").StringIO(runner.invoke(app, ["days", str(log), "--csv"]).stdout))
+    assert table.noon_from.str.startswith("DR with current from the departure").all()
+    assert runner.invoke(app, ["workbook", str(log), "-o", str(tmp_path / "c.xlsx")]).exit_code == 0
+    sheet = load_workbook(tmp_path / "c.xlsx")["Noon report"]
+    cells = [str(c.value) for row in sheet.iter_rows() for c in row if c.value is not None]
+    assert sum(c.startswith("DR with current from the departure") for c in cells) == 2
+    # the same log with no current: plain DR
+    pd.DataFrame([rows[0], rows[2]]).to_csv(tmp_path / "plain.csv", index=False)
+    plain = process_log(tmp_path / "plain.csv", plan=False).days_work().noons
+    assert plain.noon_from.str.startswith("DR from the departure").all()
+
+
+def test_the_days_current_at_noon_is_given_by_the_rule_of_the_set_and_drift_at_each_fix():
+    """Trial finding: the noon report's current said ±0.4 kn where every fix said ±0.8 kn. Both now by one rule
+    (navred.reckoning.set_and_drift): 1.96 × √(σ₁² + σ₂² + σ_DR²) / hours, σ_DR = 0.3 kn × hours + 2 % of the
+    miles through the water (the DR model of the docs, common practice), σ₁, σ₂ the noon positions' errors each
+    way; the note says what the ± covers. The invented passage's noons are 24 h apart: over ±0.8 kn as at
+    the fixes (taken 10-14 h apart), the current 1.2 kn it was sailed in (scripts/make_passage.py) inside it."""
+    from navred.jobs.noons import CURRENT_95_COVERS
+
+    days = process_log("sample_sights/passage_log.csv", plan=False).days_work()
+    noons = days.noons
+    fixes = days.set_drift
+    later = noons.iloc[1:]
+    assert later.current_note.str.contains(CURRENT_95_COVERS, regex=False).all()
+    through = later.through_water_nm.to_numpy()
+    hours = later.hours.to_numpy()
+    dr = 0.3 * hours + 0.02 * through
+    assert (later.current_95_kn.to_numpy() >= 1.959964 * dr / hours - 1e-9).all()  # at least the DR's own part
+    assert (later.current_95_kn >= fixes.drift_95_kn.min() - 0.05).all()
+    assert (abs(later.current_drift_kn - 1.2) < later.current_95_kn).all()
+    # the console says what each ± covers, at the fixes and at noon
+    shown = CliRunner().invoke(app, ["days", "sample_sights/passage_log.csv"]).stdout
+    assert "fixes (95 %: both fixes' errors and the DR's own over the run, 0.3 kn an hour and 2 % of the miles; " \
+           "the noon report's current by the same rule)" in shown
+    assert f"±{later.current_95_kn.iloc[-1]:.1f} kn (95 %; the noon positions are not both fixes" in shown
+    assert CURRENT_95_COVERS in shown

@@ -943,27 +943,68 @@ def test_a_log_kept_in_zone_time_gives_the_paper_its_zone(tmp_path):
     assert all(noon.zone_h == 1.0 for noon in other.noons)
 
 
-def test_over_the_date_line_eastbound_each_round_is_on_its_own_days_page_once():
-    """179° E steering 090° at 8 kn: the ship's date repeats (two local days both 14 December, the second said to
-    be the date again); each round of sights is printed once, on the page of the day whose noon is nearest it,
-    with its own zone (−12 before 180°, +12 after; common practice), and every page holds its two rounds."""
+@pytest.mark.parametrize("course, lon, titles", [
+    (90.0, 179.0, ["Sights for Monday 14 December 2026",
+                   "Sights for Sunday 13 December 2026 (over the date line: the date goes back a day)",
+                   "Sights for Monday 14 December 2026 (the date again: over the date line)"]),
+    (270.0, -179.0, ["Sights for Monday 14 December 2026",
+                     "Sights for Tuesday 15 December 2026 (over the date line: the date goes forward a day)",
+                     "Sights for Wednesday 16 December 2026"]),
+])
+def test_over_the_date_line_the_paper_dates_each_round_by_its_zone_date_as_the_plan_does(course, lon, titles):
+    """Trial finding: at 180° the paper grouped its pages by the ship's local day while the plan dated each round
+    by its zone date. Both now keep one rule: each event on the page of the zone date of its own instant in its
+    own zone (ZT = UTC − ZD; ZD −12 east of 180°, +12 west of it: common practice), eastbound the date going back
+    (a date lived twice), westbound forward. 17° 30′ S, 1° from the line, at 8 kn both ways; the plan
+    (navred.jobs.bridge.bridge_plan) of the same passage names each round by the same date and zone."""
+    from navred.jobs.bridge import bridge_plan, hm, zone_date, zone_time
     from navred.jobs.paper import passage_paper
 
-    made = passage_paper("2026-12-14", "2026-12-16", -17.5, 179.0, course_deg=90.0, speed_kn=8.0, eye_height_m=3.0)
+    made = passage_paper("2026-12-14", "2026-12-16", -17.5, lon, course_deg=course, speed_kn=8.0, eye_height_m=3.0)
     pages = [p for p in made.document.pages if p.title.startswith("Sights for")]
-    titles = [p.title for p in pages]
-    assert titles[:2] == ["Sights for Monday 14 December 2026",
-                          "Sights for Monday 14 December 2026 (the date again: over the date line)"], titles
+    assert [p.title for p in pages][:3] == titles
+    plan = bridge_plan("2026-12-14", 3, -17.5, lon, course_deg=course, speed_kn=8.0, eye_height_m=3.0)
+    by_plan = {str(r.presets.utc.astype("datetime64[m]")): (r.label.split(", ", 1)[1], r.zone_h) for r in plan.rounds}
     planned = []
     for page in pages:
+        date = page.title[len("Sights for "):].split(" (")[0]
         text = " ".join(block.text for block in page.blocks if hasattr(block, "text"))
-        found = re.findall(r"(Morning|Evening) twilight: planned \d\d:\d\d zone time \(([+−]\d+)\), (\d\d:\d\d) UTC",
-                           text)
-        assert [f[0] for f in found] == ["Morning", "Evening"], (page.title, found)
-        planned += [f[2] for f in found]
-        if page is pages[0]:
-            assert [f[1] for f in found] == ["−12", "+12"]
-    assert len(planned) == len(set(planned)) == 2 * len(pages)
+        for hhmm, zone, utc in re.findall(r"twilight: planned (\d\d:\d\d) zone time \(([+−]\d+)\), (\d\d:\d\d) UTC",
+                                          text):
+            twilight = next(t for t in made.twilights if hm(t.presets.utc) == utc
+                            and long_date_of(zone_date(t.presets.utc, t.zone_h)) == date)
+            assert hm(zone_time(twilight.presets.utc, twilight.zone_h)) == hhmm
+            assert float(zone.replace("−", "-")) == twilight.zone_h
+            key = str(twilight.presets.utc.astype("datetime64[m]"))
+            planned.append(key)
+            if key in by_plan:  # the plan names the same round by the same date and zone
+                assert by_plan[key] == (date, twilight.zone_h), (key, by_plan[key], date)
+        for hhmm, zone in re.findall(r"Noon: the Sun on the meridian at (\d\d:\d\d) zone time \(([+−]\d+)\)", text):
+            noon = next(n for n in made.noons if hm(zone_time(n.utc, n.zone_h)) == hhmm
+                        and float(zone.replace("−", "-")) == n.zone_h)
+            assert long_date_of(noon.zone_date) == date
+    # the noon Sun page dates each noon the same way
+    noon_page = next(p for p in made.document.pages if p.title.startswith("The noon Sun"))
+    table = next(block for block in noon_page.blocks if hasattr(block, "rows"))
+    # ZT = UTC − ZD (common practice), worked here
+    assert [row[0] for row in table.rows] == [str((pd.Timestamp(n.utc) - pd.Timedelta(hours=n.zone_h)).date())
+                                              for n in made.noons]
+    assert [row[2] for row in table.rows] == [f"ZD {'+' if n.zone_h > 0 else '−'}{abs(n.zone_h):g}"
+                                              for n in made.noons]
+    # a page the line cuts says where its other round and noon are
+    first = " ".join(block.text for block in pages[0].blocks if hasattr(block, "text"))
+    assert f"round: on the page of {titles[1][len('Sights for '):].split(' (')[0]}, across the date line" in first
+    # every round once, on one page; each day's zone east of 180° −12, west of it +12
+    assert len(planned) == len(set(planned)) == len(made.twilights)
+    assert len(set(planned) & set(by_plan)) >= 4
+    for t in made.twilights:
+        assert t.zone_h == (-12.0 if t.presets.lon_deg > 172.5 else 12.0 if t.presets.lon_deg < -172.5 else t.zone_h)
+
+
+def long_date_of(day) -> str:
+    from navred.jobs.bridge import long_date
+
+    return long_date(day)
 
 
 def test_a_change_signed_plus_is_written_to_the_csv_and_anything_else_formula_like_is_refused():

@@ -96,13 +96,55 @@ def inside(points: np.ndarray, rect, slack: float = 0.01) -> bool:
                 and (points[:, 1] >= rect[1] - slack).all() and (points[:, 1] <= rect[3] + slack).all())
 
 
-def check_page(page: Page) -> None:
-    """What every plotting sheet must be: no text over another or over the scale, everything on the page, the
-    chart's elements and labels inside its frame."""
-    boxes = [(e, text_box(e)) for e in page.texts]
+#: the lines no label may overprint: lines of position, a line's 95 % band, a line at its own time, a run, a
+#: label's leader line
+LINE_KINDS = ("line of position", "band", "line before advance", "run", "leader")
+
+
+def strokes(root, kinds=LINE_KINDS) -> list[tuple[str, np.ndarray, float]]:
+    """Each drawn line's segments (of the ``kinds``) as boxes of its stroke's width (kind, corners, the segment's
+    angle on the page, degrees counter-clockwise, 0-180)."""
+    out = []
+    for e in root:
+        kind = e.get("class") or ""
+        if e.tag != f"{SVG}polyline" or not kind.startswith(kinds):
+            continue
+        half = float(e.get("stroke-width", "1")) / 2
+        ends = points_of(e)
+        for (x0, y0), (x1, y1) in zip(ends[:-1], ends[1:]):
+            length = math.hypot(x1 - x0, y1 - y0) or 1.0
+            nx, ny = -(y1 - y0) / length * half, (x1 - x0) / length * half
+            box = np.array([(x0 + nx, y0 + ny), (x1 + nx, y1 + ny), (x1 - nx, y1 - ny), (x0 - nx, y0 - ny)])
+            out.append((kind, box, math.degrees(math.atan2(-(y1 - y0), x1 - x0)) % 180.0))
+    return out
+
+
+def beside_its_own_line(label, box: np.ndarray, stroke: np.ndarray, angle: float) -> bool:
+    """A line's label runs along its own line, beside it (common practice: a line is labelled along it): the
+    label turned as the line and its box's middle within its height of the line."""
+    turn = label.get("transform")
+    rotation = float(re.fullmatch(r"rotate\(([-\d.]+) .*\)", turn).group(1)) if turn else 0.0
+    if abs((rotation - angle + 90.0) % 180.0 - 90.0) > 0.5:
+        return False
+    (x0, y0), (x1, y1) = (stroke[0] + stroke[3]) / 2, (stroke[1] + stroke[2]) / 2
+    cx, cy = box.mean(axis=0)
+    across = abs((x1 - x0) * (cy - y0) - (y1 - y0) * (cx - x0)) / (math.hypot(x1 - x0, y1 - y0) or 1.0)
+    return across < float(label.get("font-size")) * 1.5
+
+
+def texts_apart(texts) -> list:
+    """No text's box overlaps another's (the separating axis theorem above); (each text, its box)."""
+    boxes = [(e, text_box(e)) for e in texts]
     for i, (a, box_a) in enumerate(boxes):
         for b, box_b in boxes[i + 1:]:
             assert not overlap(box_a, box_b), f"{a.text!r} ({a.get('class')}) overlaps {b.text!r} ({b.get('class')})"
+    return boxes
+
+
+def check_page(page: Page) -> None:
+    """What every plotting sheet must be: no text over another or over the scale, everything on the page, the
+    chart's elements and labels inside its frame."""
+    boxes = texts_apart(page.texts)
     scale = [points_of(e) for e in page.shapes if e.get("class") == "scale"]
     assert scale, "a scale bar"
     for bar in scale:
@@ -110,6 +152,17 @@ def check_page(page: Page) -> None:
                             (bar[:, 0].max(), bar[:, 1].max() + 1.5), (bar[:, 0].min(), bar[:, 1].max() + 1.5)])
         for e, box in boxes:
             assert e.get("class") == "scale" or not overlap(bar_box, box), f"{e.text!r} lies over the scale"
+    # no label on the chart overprints a line (labels are boxed on paper: they would cut it), a line's own label
+    # beside it excepted
+    lines = strokes(page.root)
+    for e, box in boxes:
+        if e.get("class") not in CHART_LABELS | {"line tag"}:
+            continue
+        for kind, stroke, angle in lines:
+            if e.get("class") in ("line label", "line tag") and kind.startswith("line of position") and \
+                    beside_its_own_line(e, box, stroke, angle):
+                continue
+            assert not overlap(box, stroke, slack=0.0), f"{e.text!r} ({e.get('class')}) overprints a {kind}"
     whole = (0.0, 0.0, page.width, page.height)
     for e, box in boxes:
         assert inside(box, whole), f"{e.text!r} runs off the page"
@@ -125,7 +178,7 @@ def line_labels(page: Page) -> list[dict]:
     """Every line's label, on the line or, where it found no room, in the list under the chart."""
     texts = [e.text for e in page.of("line label")]
     listed = " ".join(e.text for e in page.of("line list"))  # a listed label may wrap onto two lines
-    texts += [m.group(1) for m in re.finditer(r"(?:line \(\d+\)|off the chart): (.+?(?:°(?: \((?:left out|flagged)"
+    texts += [m.group(1) for m in re.finditer(r"(?:line \(\d+\)|line \(no room to mark it\)|off the chart): (.+?(?:°(?: \((?:left out|flagged)"
                                                r"\))?))(?= line \(| off the chart:|$)", listed)]
     return [LABEL.match(t).groupdict() | {"text": t} for t in texts]
 
@@ -162,18 +215,7 @@ def test_the_demo_sheets_in_the_plotting_convention(demo):
         assert "dr" in kinds and {"fix", "running fix"} & kinds and "ep" not in kinds, group.name
         check_lines(page, group.fix, bodies[group.rows])
         assert len(page.of("fix label")) == 1 and len(page.of("dr label")) == 1
-    # where the sheet has room, the fix's label hides no line of position (the evening stars' round)
-    group = demo.group("evening-stars")
-    page = Page(plotting_figure(demo, group).to_svg())
-    label = text_box(page.of("fix label")[0])
-    for e in page.shapes:
-        if (e.get("class") or "").startswith("line of position"):
-            ends = points_of(e)
-            for (x0, y0), (x1, y1) in zip(ends[:-1], ends[1:]):
-                length = math.hypot(x1 - x0, y1 - y0) or 1.0
-                nx, ny = -(y1 - y0) / length * 0.6, (x1 - x0) / length * 0.6  # the line's 1.2-point width
-                stroke = np.array([(x0 + nx, y0 + ny), (x1 + nx, y1 + ny), (x1 - nx, y1 - ny), (x0 - nx, y0 - ny)])
-                assert not overlap(label, stroke, slack=0.0), "the fix's label hides a line of position"
+    # check_page: on every sheet of the demo (the running fix's too) no label overprints a line or another label
 
 
 def test_a_running_fix_marks_its_advanced_lines_with_both_times(demo):
@@ -350,3 +392,52 @@ def test_sheets_of_few_and_many_lines_keep_their_labels_apart(ts, eph, tmp_path,
         assert png.format == "PNG" and png.size[0] == 880
         assert abs(png.size[1] - 880 * sheet.height / sheet.width) <= 1
         assert len(png.convert("RGB").getcolors(1 << 20)) > 50
+
+
+def test_the_placers_test_of_many_boxes_at_once_agrees_with_the_theorem_written_here():
+    """navred.figures.placing.overlaps (every pair at once) against this file's separating axis theorem, on
+    turned rectangles of every size and angle (invented, seeded)."""
+    from navred.figures.placing import overlaps, segment_box
+
+    rng = np.random.default_rng(27)
+    a = np.stack([segment_box(*rng.uniform(0, 100, 4), rng.uniform(0.3, 6)) for _ in range(120)])
+    b = np.stack([segment_box(*rng.uniform(0, 100, 4), rng.uniform(0.3, 6)) for _ in range(30)])
+    found = overlaps(a, b)
+    expected = np.array([[overlap(p, q, slack=1e-9) for q in b] for p in a])
+    assert 0 < found.sum() < found.size and (found == expected).all()
+
+
+def test_a_label_with_no_room_beside_its_mark_goes_further_with_a_leader():
+    """A mark in a narrow pen of lines open at the top: its label goes to the nearest free place, above the
+    pen, and a leader joins it to the mark, neither over anything taken (this file's theorem)."""
+    from navred.figures.placing import Placer, segment_box
+
+    placer = Placer()
+    walls = [segment_box(85, 40, 85, 140, 1.0), segment_box(115, 40, 115, 140, 1.0),
+             segment_box(85, 140, 115, 140, 1.0)]
+    for wall in walls:
+        placer.take(wall)
+    frame = (0.0, 0.0, 200.0, 200.0)
+    spot, leader = placer.place_far("a label far too wide", 8, 100.0, 100.0, frame)
+    label, lead = placer.taken[-2], placer.taken[-1]
+    assert all(not overlap(label, wall) and not overlap(lead, wall) for wall in walls)
+    assert math.hypot(leader[0] - 100.0, leader[1] - 100.0) == pytest.approx(7.0)  # from just off the mark
+    assert label[:, 1].max() <= 40.0 + 1.0 and leader[3] == pytest.approx(label[:, 1].max())  # above the pen
+
+
+def test_the_voyage_picture_places_its_labels_by_the_same_rule():
+    """The invented passage's voyage picture (navred.figures.plotting.voyage_track_picture): its labels by the
+    plotting sheet's rule, checked by this file's overlap test: no label over another, over a DR leg, a set and
+    drift arrow or a leader; every fix's noon and EP labelled."""
+    from navred.figures.plotting import voyage_track_picture
+
+    days = process_log("sample_sights/passage_log.csv", plan=False).days_work()
+    root = ET.fromstring(voyage_track_picture(days).to_svg())
+    texts = list(root.iter(f"{SVG}text"))
+    boxes = texts_apart(texts)
+    labels = [(e, box) for e, box in boxes if e.get("class") == "label"]
+    assert {e.text for e, _ in labels} >= {"noon 04-14", "noon 04-15", "noon 04-16", "departure"}
+    lines = strokes(root, ("dr leg", "set and drift", "leader"))
+    assert lines
+    for e, box in labels:
+        assert not any(overlap(box, stroke, slack=0.0) for _, stroke, _ in lines), f"{e.text!r} lies over a line"

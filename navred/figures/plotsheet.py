@@ -30,7 +30,7 @@ import numpy as np
 from ..angles import format_angle, wrap_180, wrap_axial
 from ..status import FixKind, RunFrom
 from .drawing import Canvas, blend, clip_segment, text_corners, text_width_pt, wrap_text
-from .placing import Placer, Spot, rect_corners
+from .placing import Placer, Spot, place_mark_label, rect_corners, segment_box
 from .symbols import (
     CHART,
     ELLIPSE,
@@ -165,36 +165,50 @@ def plotting_sheet(fix, sights: SheetSights, *, title: str = "", chart=None) -> 
     _grid(sheet, placer, frame)
     lops = _lines(fix, sights, frame, used, feet, left_out)
     _draw_lines(sheet, frame, lops)
+    band = []
     if ellipse is not None:
         sheet.polygon(*ellipse, outline=ELLIPSE, width=1.2, clip=frame.area, kind="ellipse")
     else:
-        _band(sheet, fix, frame)
+        band = [_segment_box(*ends, 1.6) for ends in _band(sheet, fix, frame)]
     _scale_and_north(sheet, placer, frame)
     for lop in lops:
         if lop.run_arrow is not None:
             placer.take(_segment_box(*lop.run_arrow, 3.0))
     marks = _symbols(sheet, placer, fix, sights, frame, chart)
-    _zone_of_the_fix(placer, frame)
+    marks[0][-1].append(_zone_of_the_fix(placer, frame))
     for lop in lops:
         if lop.moved and lop.run_page is not None and lop.ends is not None:
             _chevrons(sheet, placer, frame, lop)
-    lines_drawn = [_segment_box(*lop.ends, 1.2) for lop in lops if lop.ends is not None]
-    for text, size, colour, spots, kind, bold in marks:
-        # a spot that hides no line of position first (the label is boxed on paper: it would cut the line)
-        clear_of_lines = Placer(placer.gap_pt)
-        clear_of_lines.taken = placer.taken + lines_drawn
-        spot = clear_of_lines.place(text, size, spots, _inner(frame.area), bold=bold)
-        if spot is not None:
-            placer.take(clear_of_lines.taken[-1])
-        else:
-            spot = placer.place(text, size, spots, _inner(frame.area), bold=bold)
-        if spot is not None:
-            sheet.text(spot.x, spot.y, text, size, colour, anchor=spot.anchor, baseline=spot.baseline,
-                       bold=bold, box=PAPER, kind=kind)
-    listed = _line_labels(sheet, placer, frame, lops)
+    # the lines no label may overprint (a label is boxed on paper: it would cut the line)
+    line_boxes = _line_boxes(lops) + band
+    unplaced = [mark for mark in marks if not _place_mark(sheet, placer, frame, line_boxes, *mark)]
+    listed = _line_labels(sheet, placer, frame, lops, band)
     sheet.line(*_frame_lines(frame.area), INK, 0.8, kind="frame")
-    _footer(sheet, frame, lops, listed)
+    _footer(sheet, frame, lops, listed, [mark[0] for mark in unplaced])
     return sheet
+
+
+def _line_boxes(lops: list[_Lop], but: _Lop | None = None) -> list[np.ndarray]:
+    """The boxes of the lines of position drawn (and of the lines at their own time), ``but`` one's."""
+    ends = [e for lop in lops if lop is not but for e in (lop.ends, lop.before) if e is not None]
+    return [_segment_box(*e, 1.2) for e in ends]
+
+
+def _place_mark(sheet, placer: Placer, frame: _Frame, line_boxes, text, size, colour, spots, kind, bold, at,
+                own) -> bool:
+    """A mark's label placed clear of every label, symbol and line (:func:`navred.figures.placing.place_mark_label`:
+    beside its symbol, else nearest with a leader line, else smaller); whether it found a place (else it is
+    listed under the chart)."""
+    placed = place_mark_label(placer, text, size, spots, at, _inner(frame.area), lines=line_boxes, own=own,
+                              bold=bold)
+    if placed is None:
+        return False
+    if placed.leader is not None:
+        sheet.line(placed.leader[0::2], placed.leader[1::2], colour, 0.6, kind="leader")
+    spot = placed.spot
+    sheet.text(spot.x, spot.y, text, placed.size, colour, anchor=spot.anchor, baseline=spot.baseline, bold=bold,
+               box=PAPER, kind=kind)
+    return True
 
 
 def _inner(area, margin: float = 2.0):
@@ -516,14 +530,17 @@ def _azimuth(sheet, frame: _Frame, lop: _Lop, dr) -> None:
                     colour, 3.5, "azimuth")
 
 
-def _band(sheet, fix, frame: _Frame) -> None:
-    """A line (or latitude) and its 95 % band."""
+def _band(sheet, fix, frame: _Frame) -> list:
+    """A line (or latitude) and its 95 % band; the ends of the lines drawn."""
+    drawn = []
     across = math.radians(fix.line_toward_deg)
     for offset, dash in ((0.0, None), (fix.ellipse_semi_minor_nm, (1.5, 2.5)), (-fix.ellipse_semi_minor_nm, (1.5, 2.5))):
         ox, oy = frame.fix_xy[0] + offset * math.sin(across), frame.fix_xy[1] + offset * math.cos(across)
         ends = frame.line_across(ox, oy, float(fix.line_bearing_deg))
         if ends is not None:
             sheet.line(ends[0::2], ends[1::2], FIX, 2.2 if offset == 0 else 1.0, dash=dash, kind="band")
+            drawn.append(ends)
+    return drawn
 
 
 def _scale_and_north(sheet, placer, frame: _Frame) -> None:
@@ -544,12 +561,7 @@ def _scale_and_north(sheet, placer, frame: _Frame) -> None:
     placer.take(rect_corners(nx - 9, top - 2 - 12, nx + 9, ny + 2))
 
 
-def _segment_box(x0: float, y0: float, x1: float, y1: float, half_width: float) -> np.ndarray:
-    """The rectangle a segment covers, ``half_width`` either side of it and beyond its ends."""
-    length = math.hypot(x1 - x0, y1 - y0) or 1.0
-    ux, uy = (x1 - x0) / length * half_width, (y1 - y0) / length * half_width
-    return np.array([(x0 - ux - uy, y0 - uy + ux), (x1 + ux - uy, y1 + uy + ux), (x1 + ux + uy, y1 + uy - ux),
-                     (x0 - ux + uy, y0 - uy - ux)])
+_segment_box = segment_box
 
 
 def _hull(box: np.ndarray, x0: float, y0: float, x1: float, y1: float) -> np.ndarray:
@@ -575,43 +587,48 @@ def _symbols(sheet, placer, fix, sights, frame: _Frame, chart) -> list:
     when = _hhmm(fix.utc)
     dr = frame.page(0.0, 0.0)
     placer.take(dr_symbol(sheet, *dr))
+    dr_box = placer.taken[-1]
     at = frame.page(*frame.fix_xy)
     position = f"{format_angle(fix.lat_deg, 'lat')} {format_angle(fix.lon_deg, 'lon')}"
     what = _what(fix, sights)
     if fix.is_fix:
         placer.take(fix_symbol(sheet, *at, kind="running fix" if what == "running fix" else "fix"))
+        fix_box = placer.taken[-1]
         text = f"{what} {when}  {position}"
     else:
         placer.take(ep_symbol(sheet, *at))
+        fix_box = placer.taken[-1]
         text = f"EP {when}  {position} on the {'latitude' if fix.kind == FixKind.LATITUDE else 'line'} (not a fix)"
-    marks.append((text, 8, FIX, _around(*at, 9.0), "fix label", True))
-    marks.append((f"DR {when}", 7.5, INK, _around(*dr, 8.0), "dr label", False))
+    marks.append((text, 8, FIX, _around(*at, 9.0), "fix label", True, at, [fix_box]))
+    marks.append((f"DR {when}", 7.5, INK, _around(*dr, 8.0), "dr label", False, dr, [dr_box]))
     every = fix.all_sights
     if every is not None:
         ex, ey = frame.page(*frame.plane(float(every.lat_deg), float(every.lon_deg)))
         if frame.inside(ex, ey, 8.0):
             placer.take(every_sight_symbol(sheet, ex, ey))
             marks.append(("fix from every sight (not the fix)", 7, FLAGGED, _around(ex, ey, 9.0), "every sight label",
-                          False))
+                          False, (ex, ey), [placer.taken[-1]]))
     check = fix.without_outliers
     if check is not None:
         kx, ky = frame.page(*frame.plane(float(check.lat_deg), float(check.lon_deg)))
         if frame.inside(kx, ky, 8.0):
             placer.take(check_fix_symbol(sheet, kx, ky))
             marks.append(("check fix (without the flagged)", 7, FLAGGED, _around(kx, ky, 9.0), "check fix label",
-                          False))
+                          False, (kx, ky), [placer.taken[-1]]))
     if chart is not None:
         px, py = frame.page(*frame.plane(float(chart[0]), float(chart[1])))
         if frame.inside(px, py, 8.0):
             placer.take(position_symbol(sheet, px, py))
-            marks.append(("chart or GNSS position", 7, CHART, _around(px, py, 9.0), "chart label", False))
+            marks.append(("chart or GNSS position", 7, CHART, _around(px, py, 9.0), "chart label", False, (px, py),
+                          [placer.taken[-1]]))
     return marks
 
 
-def _zone_of_the_fix(placer, frame: _Frame) -> None:
-    """Line labels keep clear of the fix itself, where the lines cross."""
+def _zone_of_the_fix(placer, frame: _Frame) -> np.ndarray:
+    """Line labels keep clear of the fix itself, where the lines cross (the fix's own leader may cross it)."""
     x, y = frame.page(*frame.fix_xy)
     placer.take(rect_corners(x - 16.0, y - 16.0, x + 16.0, y + 16.0))
+    return placer.taken[-1]
 
 
 def _readable(ux: float, uy: float) -> float:
@@ -621,41 +638,43 @@ def _readable(ux: float, uy: float) -> float:
 
 
 def _line_spots(lop: _Lop, k: int, count: int) -> list[Spot]:
-    """Spots along a line for its label, beside the line on either side, from a place staggered per line
-    outward."""
+    """Spots along a line for its label, beside the line on either side (never on it), from a place staggered
+    per line outward."""
     x0, y0, x1, y1 = lop.ends
     angle = _readable(x1 - x0, y1 - y0)
     turn = math.radians(angle)
-    ux, uy = math.cos(turn), -math.sin(turn)  # along the text
     nx, ny = -math.sin(turn), -math.cos(turn)  # the text's up, on the page
     first = 0.3 + 0.4 * (k / max(count - 1, 1))
     fractions = sorted(np.arange(0.04, 0.97, 0.02), key=lambda f: abs(f - first))
-    spots, on_line = [], []
+    spots = []
     for f in fractions:
         px, py = x0 + f * (x1 - x0), y0 + f * (y1 - y0)
         spots.append(Spot(px + 1.6 * nx, py + 1.6 * ny, "middle", "bottom", angle))
         spots.append(Spot(px - 1.6 * nx, py - 1.6 * ny, "middle", "top", angle))
-        on_line.append(Spot(px, py, "middle", "middle", angle))  # on the line itself, hiding a piece of it
-    del ux, uy
-    return spots + on_line
+    return spots
 
 
-def _line_labels(sheet, placer, frame: _Frame, lops: list[_Lop]) -> list[_Lop]:
-    """Each line's label beside it where it overlaps nothing; else a number on the line (the label goes
-    under the chart); the lines so listed."""
+def _line_labels(sheet, placer, frame: _Frame, lops: list[_Lop], band) -> list[_Lop]:
+    """Each line's label beside it where it overlaps no label, symbol or other line; else a number beside the
+    line (the label goes under the chart); the lines so listed. ``band``: the boxes of a line's band."""
     listed = []
     area = _inner(frame.area)
     drawn = [lop for lop in lops if lop.ends is not None]
     for k, lop in enumerate(drawn):
         spots = _line_spots(lop, k, len(drawn))
-        spot = placer.place(lop.label, LABEL_PT, spots, area)
+        clear = placer.with_also(_line_boxes(lops, but=lop) + band)
+        base = len(clear.taken)
+        spot = clear.place(lop.label, LABEL_PT, spots, area)
         if spot is not None:
+            placer.taken.extend(clear.taken[base:])
             sheet.text(spot.x, spot.y, lop.label, LABEL_PT, lop.colour, anchor=spot.anchor, baseline=spot.baseline,
                        rotation=spot.rotation, box=PAPER, kind="line label")
             continue
-        lop.tag = f"({len(listed) + 1})"
-        spot = placer.place(lop.tag, LABEL_PT, spots, area, bold=True)
+        tag = f"({len(listed) + 1})"
+        spot = clear.place(tag, LABEL_PT, spots, area, bold=True)
         if spot is not None:
+            lop.tag = tag
+            placer.taken.extend(clear.taken[base:])
             sheet.text(spot.x, spot.y, lop.tag, LABEL_PT, lop.colour, anchor=spot.anchor, baseline=spot.baseline,
                        rotation=spot.rotation, bold=True, box=PAPER, kind="line tag")
         listed.append(lop)
@@ -668,13 +687,15 @@ _KEY = (("fix", "fix"), ("running fix", "running fix"), ("dr", "DR"), ("ep", "es
         ("check fix", "check fix, the flagged sights left out (not the fix)"))
 
 
-def _footer(sheet, frame: _Frame, lops: list[_Lop], listed: list[_Lop]) -> None:
+def _footer(sheet, frame: _Frame, lops: list[_Lop], listed: list[_Lop], marks: list[str]) -> None:
     """Under the chart: the labels that found no room on it, the key to the symbols on this sheet, how a line
     is labelled, and the caution; the page's height set to hold them."""
     width = SHEET_PT - 2 * MARGIN_PT
     y = frame.area[3] + 46.0
+    for text in marks:
+        y = _text_lines(sheet, MARGIN_PT, y, f"no room on the chart: {text}", 7, INK, width, kind="mark list")
     for lop in listed:
-        where = f"line {lop.tag}" if lop.tag else "off the chart"
+        where = f"line {lop.tag}" if lop.tag else "off the chart" if lop.ends is None else "line (no room to mark it)"
         y = _text_lines(sheet, MARGIN_PT, y, f"{where}: {lop.label}", 7, lop.colour, width, kind="line list")
     y = _key(sheet, y + 6.0, {item.kind for item in sheet.items if item.kind}, lops)
     if any(lop.moved for lop in lops):

@@ -2,7 +2,7 @@
 
 The plotting sheet of a fix is :mod:`navred.figures.plotsheet`'s. The voyage picture and the series are drawn on
 navred's light canvas (:mod:`navred.figures.drawing`, SVG or PNG in a few milliseconds, so a workbook can hold
-hundreds); the sky picture uses matplotlib, imported lazily.
+hundreds), and so is the sky of a sight plan.
 """
 
 from __future__ import annotations
@@ -14,7 +14,7 @@ import numpy as np
 
 from ..angles import format_angle, wrap_180
 from ..stats import chi_square_2_quantile
-from .placing import Placer, rect_corners
+from .placing import Placer, place_mark_label, rect_corners, segment_box, segment_boxes
 from .symbols import (  # noqa: F401  (the palette, also for the other figures)
     CHART,
     ELLIPSE,
@@ -48,7 +48,11 @@ def write_canvas(canvas, path, *, png_width_px: int = SHEET_PNG_PX) -> None:
 
 
 def save_figure(figure, path) -> None:
-    """Save a figure as PNG or SVG (by suffix); SVG keeps its text as text, searchable and editable."""
+    """Save a figure as PNG or SVG (by suffix); SVG keeps its text as text, searchable and editable. A
+    :class:`navred.figures.drawing.Canvas` is written by :func:`write_canvas`."""
+    if hasattr(figure, "to_svg"):
+        write_canvas(figure, path)
+        return
     import matplotlib
 
     target = Path(path)
@@ -59,54 +63,112 @@ def save_figure(figure, path) -> None:
         figure.savefig(target, facecolor=figure.get_facecolor(), format=fmt, metadata=metadata)
 
 
-def figure_png(figure, dpi: int = 160) -> bytes:
-    """A matplotlib figure as PNG bytes (for a printed page)."""
-    import io
+#: the sky picture's page (points): its width, the disk's radius, the disk's centre below the page's top
+SKY_WIDTH_PT, SKY_RADIUS_PT = 540.0, 215.0
+SKY_DISK = "#e9eef5"
 
-    out = io.BytesIO()
-    figure.savefig(out, facecolor=figure.get_facecolor(), format="png", dpi=dpi)
-    return out.getvalue()
+
+def _sky_xy(cx: float, cy: float, zn_deg, hc_deg):
+    """A body's place on the disk: azimuth clockwise from north at the top, the zenith at the centre and the
+    horizon at the rim (the distance from the centre proportional to the zenith distance)."""
+    r = (90.0 - np.asarray(hc_deg, dtype=float)) / 90.0 * SKY_RADIUS_PT
+    zn = np.radians(np.asarray(zn_deg, dtype=float))
+    return cx + r * np.sin(zn), cy - r * np.cos(zn)
 
 
 def sky_picture(plan, *, title: str = ""):
-    """A polar picture of the sky for a sight plan: azimuth around, altitude inward.
+    """A picture of the sky for a sight plan, as a :class:`navred.figures.drawing.Canvas`: azimuth around,
+    altitude inward.
 
-    The zenith is at the centre and the horizon at the rim; bearings run clockwise from
-    north at the top, as on a compass card. Every candidate is labelled; the recommended
-    set is ringed and joined to the centre.
+    The zenith is at the centre and the horizon at the rim; bearings run clockwise from north at the top, as
+    on a compass card. Every candidate is a dot sized by its brightness and labelled with its name; the
+    recommended set is ringed and joined to the centre. The labels are placed as the plotting sheet's are
+    (:func:`navred.figures.placing.place_mark_label`): beside the dot where there is room, clear of every other
+    label, dot and ring and of the lines to the centre; else at the nearest free place with a leader line;
+    else smaller; a name with no room at all is listed under the disk.
     """
-    import matplotlib
+    from .drawing import Canvas, blend, text_corners, wrap_text
+    from .placing import Spot, place_mark_label, segment_box
 
-    matplotlib.use("Agg")
-    from matplotlib.figure import Figure
-
-    figure = Figure(figsize=(7.5, 8.0), dpi=110, facecolor=PAPER)
-    ax = figure.add_axes([0.08, 0.1, 0.84, 0.78], projection="polar", facecolor="#e9eef5")
-    ax.set_theta_zero_location("N")
-    ax.set_theta_direction(-1)
-    ax.set_rlim(0, 90)
-    ax.set_rticks([20, 45, 70, 90])
-    ax.set_yticklabels(["70°", "45°", "20°", "0°"], fontsize=7, color=INK)
-    ax.set_xticks(np.radians(np.arange(0, 360, 45)))
-    ax.set_xticklabels(["N 000°", "045°", "E 090°", "135°", "S 180°", "225°", "W 270°", "315°"], fontsize=8)
-    ax.grid(color=GRID, lw=0.7)
-    theta = np.radians(plan.zn_deg)
-    radius = 90.0 - plan.hc_deg
-    size = np.clip(60 - 14 * np.nan_to_num(plan.magnitude, nan=2.0), 8, 140)
-    ax.scatter(theta, radius, s=size, c=INK, zorder=3)
-    for t, r, name, chosen in zip(theta, radius, plan.body, plan.recommended):
-        ax.annotate(str(name), (t, r), xytext=(5, 4), textcoords="offset points", fontsize=7,
-                    color=FIX if chosen else INK, weight="bold" if chosen else "normal")
-        if chosen:
-            ax.scatter([t], [r], s=260, facecolors="none", edgecolors=FIX, linewidths=1.8, zorder=4)
-            ax.plot([0, t], [0, r], color=FIX, lw=0.8, alpha=0.6, zorder=2)
-    figure.suptitle(title or "Sight plan", x=0.08, ha="left", fontsize=11, color=INK, weight="bold")
-    figure.text(0.08, 0.935, f"{str(plan.utc)[:16].replace('T', ' ')} UTC at {format_angle(plan.lat_deg, 'lat')} "
-                f"{format_angle(plan.lon_deg, 'lon')} · ringed: the recommended set (DOP {plan.dop:.2f})",
-                fontsize=8, color=INK)
-    figure.text(0.08, 0.02, "Zenith at the centre, horizon at the rim. An aid, not a sole means of navigation.",
-                fontsize=7, color=INK, style="italic")
-    return figure
+    sheet = Canvas(SKY_WIDTH_PT, 600.0, PAPER)
+    placer = Placer()
+    width = SKY_WIDTH_PT - 2 * 36.0
+    y = 12.0
+    for line in wrap_text(title or "Sight plan", 11, width, True):
+        y += 14.0
+        sheet.text(36.0, y, line, 11, INK, bold=True, kind="title")
+    for line in wrap_text(f"{str(plan.utc)[:16].replace('T', ' ')} UTC at {format_angle(plan.lat_deg, 'lat')} "
+                          f"{format_angle(plan.lon_deg, 'lon')} · ringed: the recommended set (DOP {plan.dop:.2f})",
+                          8, width):
+        y += 10.4
+        sheet.text(36.0, y, line, 8, INK, kind="subtitle")
+    cx, cy = SKY_WIDTH_PT / 2.0, y + 34.0 + SKY_RADIUS_PT
+    steps = np.linspace(0.0, 2.0 * np.pi, 181)[:-1]
+    sheet.polygon(cx + SKY_RADIUS_PT * np.sin(steps), cy - SKY_RADIUS_PT * np.cos(steps), fill=SKY_DISK, outline=GRID,
+                  width=0.9, kind="disk")
+    for alt in (20, 45, 70):
+        r = (90.0 - alt) / 90.0 * SKY_RADIUS_PT
+        sheet.line(cx + r * np.sin(steps), cy - r * np.cos(steps), GRID, 0.7, kind="grid")
+    names = ("N 000°", "045°", "E 090°", "135°", "S 180°", "225°", "W 270°", "315°")
+    for k, name in enumerate(names):
+        zn = math.radians(45.0 * k)
+        sheet.line([cx, cx + SKY_RADIUS_PT * math.sin(zn)], [cy, cy - SKY_RADIUS_PT * math.cos(zn)], GRID, 0.7,
+                   kind="grid")
+        tx, ty = cx + (SKY_RADIUS_PT + 12.0) * math.sin(zn), cy - (SKY_RADIUS_PT + 12.0) * math.cos(zn)
+        sheet.text(tx, ty, name, 8, INK, anchor="middle", baseline="middle", kind="grid label")
+        placer.take(text_corners(tx, ty, name, 8, anchor="middle", baseline="middle", pad=placer.gap_pt))
+    shown = np.isfinite(plan.hc_deg) & np.isfinite(plan.zn_deg)
+    x, y_ = _sky_xy(cx, cy, plan.zn_deg, np.clip(plan.hc_deg, 0.0, 90.0))
+    chosen = np.asarray(plan.recommended, dtype=bool) & shown
+    lines = []
+    for k in np.flatnonzero(chosen):  # the recommended set joined to the centre
+        sheet.line([cx, x[k]], [cy, y_[k]], blend(FIX, SKY_DISK, 0.6), 0.8, kind="line to the centre")
+        lines.append(segment_box(cx, cy, float(x[k]), float(y_[k]), 0.9))
+    # matplotlib's scatter sizes of the picture this replaces: an area of 60 − 14 m square points, 8 to 140
+    radius = np.sqrt(np.clip(60 - 14 * np.nan_to_num(plan.magnitude, nan=2.0), 8, 140)) / 2.0
+    marks = []
+    for k in np.flatnonzero(shown):
+        sheet.circle(float(x[k]), float(y_[k]), float(radius[k]), fill=INK, outline=INK, width=0.5, kind="body")
+        reach = float(radius[k]) + (7.0 if chosen[k] else 1.5)
+        if chosen[k]:
+            sheet.circle(float(x[k]), float(y_[k]), 8.0, outline=FIX, width=1.8, kind="ring")
+        placer.take(rect_corners(x[k] - reach, y_[k] - reach, x[k] + reach, y_[k] + reach))
+        marks.append((k, placer.taken[-1], reach))
+    unplaced = []
+    frame = (12.0, cy - SKY_RADIUS_PT - 24.0, SKY_WIDTH_PT - 12.0, cy + SKY_RADIUS_PT + 24.0)
+    dots = [m[1] for m in marks]  # a leader may pass over another body's dot (a cluster), never over a name
+    for k, _, reach in sorted(marks, key=lambda m: (not chosen[m[0]], m[0])):  # the set's names first
+        name, bold, colour = str(plan.body[k]), bool(chosen[k]), FIX if chosen[k] else INK
+        spots = _beside(float(x[k]), float(y_[k]), reach + 2.0)
+        placed = place_mark_label(placer, name, 7.5, spots, (float(x[k]), float(y_[k])), frame, lines=lines,
+                                  own=dots, bold=bold)
+        if placed is None:
+            unplaced.append(name)
+            continue
+        if placed.leader is not None:
+            sheet.line(placed.leader[0::2], placed.leader[1::2], colour, 0.6, kind="leader")
+        spot: Spot = placed.spot
+        sheet.text(spot.x, spot.y, name, placed.size, colour, anchor=spot.anchor, baseline=spot.baseline, bold=bold,
+                   box=SKY_DISK, kind="body label")
+    for alt in (20, 45, 70):  # the altitude of each ring, where it is clear of the bodies and their names
+        r = (90.0 - alt) / 90.0 * SKY_RADIUS_PT
+        spots = [Spot(cx + r * math.sin(math.radians(zn)), cy - r * math.cos(math.radians(zn)), "middle", "middle")
+                 for zn in (22.5, 337.5, 157.5, 202.5, 67.5, 292.5, 112.5, 247.5)]
+        spot = placer.place(f"{alt}°", 7, spots, frame)
+        if spot is not None:
+            sheet.text(spot.x, spot.y, f"{alt}°", 7, INK, anchor="middle", baseline="middle", box=SKY_DISK,
+                       kind="grid label")
+    y = cy + SKY_RADIUS_PT + 34.0
+    notes = ([f"No room on the picture for: {', '.join(unplaced)}."] if unplaced else []) + [
+        "Zenith at the centre, horizon at the rim; the rings at altitudes 20°, 45° and 70°; the dots sized by "
+        "brightness. An aid, not a sole means of "
+        "navigation."]
+    for note in notes:
+        for line in wrap_text(note, 7, width, italic=True):
+            y += 9.5
+            sheet.text(36.0, y, line, 7, INK, italic=True, kind="caution")
+    sheet.height = math.ceil(y + 12.0)
+    return sheet
 
 
 def nice_ticks(low: float, high: float, most: int = 7) -> np.ndarray:
@@ -249,19 +311,32 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
     legs = points.leg.to_numpy()
     px_all, py_all = chart.page(*chart.plane(points.lat_deg.to_numpy(float), points.lon_deg.to_numpy(float)))
     cuts = np.flatnonzero(np.diff(legs) != 0) + 1
+    lines = []  # the boxes of the lines no label may overprint: the DR legs, the set and drift arrows
     for xs_leg, ys_leg in zip(np.split(px_all, cuts), np.split(py_all, cuts)):
         if xs_leg.size >= 2:
-            sheet.line(xs_leg.tolist(), ys_leg.tolist(), INK, 1.1, dash=(5.0, 3.0))
+            sheet.line(xs_leg.tolist(), ys_leg.tolist(), INK, 1.1, dash=(5.0, 3.0), kind="dr leg")
+            lines.extend(segment_boxes(xs_leg[:-1], ys_leg[:-1], xs_leg[1:], ys_leg[1:], 1.0))
     arrow_nm = 0.06 * max(chart.width_nm, chart.height_nm) / 1.0  # an arrow this long stands for one knot
     placer = Placer()
     labels = _voyage_known_positions(sheet, placer, chart, track, days.ellipse_scales) if track is not None else []
-    labels += _voyage_marks(sheet, placer, chart, fixes, estimated, noons, arrow_nm)
+    labels += _voyage_marks(sheet, placer, chart, fixes, estimated, noons, arrow_nm, lines)
     frame = (chart.ax0 + 2, chart.ay0 + 2, chart.ax1 - 2, chart.ay1 - 2)
-    for text, colour, x, y in labels:
-        spot = placer.place(text, 7, _beside(x, y), frame)
-        if spot is not None:
-            sheet.text(spot.x, spot.y, text, 7, colour, anchor=spot.anchor, baseline=spot.baseline, box=PAPER,
-                       kind="label")
+    unplaced = []
+    for text, colour, x, y in labels:  # the plotting sheets' rule: beside, else nearest with a leader, else smaller
+        own = [t for t in placer.taken if (t.min(axis=0) <= (x, y)).all() and (t.max(axis=0) >= (x, y)).all()]
+        placed = place_mark_label(placer, text, 7, _beside(x, y), (x, y), frame, lines=lines, own=own)
+        if placed is None:
+            unplaced.append(text)
+            continue
+        if placed.leader is not None:
+            sheet.line(placed.leader[0::2], placed.leader[1::2], colour, 0.6, kind="leader")
+        spot = placed.spot
+        sheet.text(spot.x, spot.y, text, placed.size, colour, anchor=spot.anchor, baseline=spot.baseline, box=PAPER,
+                   kind="label")
+    if unplaced:
+        sheet.text(box[0] - 12, 40, f"No room on the sheet for the labels of: {', '.join(unplaced[:12])}"
+                   + (f" and {len(unplaced) - 12} more" if len(unplaced) > 12 else "") + ".", 7, INK, italic=True,
+                   kind="mark list")
     sheet.line([chart.ax0, chart.ax1, chart.ax1, chart.ax0, chart.ax0],
                [chart.ay0, chart.ay0, chart.ay1, chart.ay1, chart.ay0], INK, 0.8)
     _voyage_key(sheet, chart, arrow_nm)
@@ -304,12 +379,12 @@ def _ellipse_reach(track, scales: dict[str, float]) -> tuple[np.ndarray, np.ndar
             np.concatenate([lon, lon, lon, lon + east, lon - east]))
 
 
-def _beside(x: float, y: float) -> list:
+def _beside(x: float, y: float, gap: float = 7.0) -> list:
     """Spots for a label beside a mark, nearest first."""
     from .placing import Spot
 
     spots = []
-    for far in (7.0, 14.0, 26.0, 42.0):
+    for far in (gap, gap + 7.0, gap + 19.0, gap + 35.0):
         spots += [Spot(x + far, y + 3, "start", "top"), Spot(x + far, y - 3, "start", "bottom"),
                   Spot(x - far, y - 3, "end", "bottom"), Spot(x - far, y + 3, "end", "top"),
                   Spot(x, y - far, "middle", "bottom"), Spot(x, y + far, "middle", "top")]
@@ -344,8 +419,10 @@ def _voyage_known_positions(sheet, placer, chart: _VoyageChart, track, scales: d
     return labels
 
 
-def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, arrow_nm: float) -> list:
-    """The set and drift arrows at the fixes, the estimated positions and the noon positions; their labels."""
+def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, arrow_nm: float,
+                  lines: list | None = None) -> list:
+    """The set and drift arrows at the fixes (their boxes added to ``lines``), the estimated positions and the
+    noon positions; their labels."""
     labels = []
     for f in fixes.to_dict("records"):
         if not np.isfinite(f["set_deg"]):
@@ -356,6 +433,8 @@ def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, a
         tx, ty = float(fx) + length * math.sin(turn), float(fy) + length * math.cos(turn)
         (sx, sy), (ex_, ey_) = chart.page(float(fx), float(fy)), chart.page(tx, ty)
         sheet.line([float(sx), float(ex_)], [float(sy), float(ey_)], CHART, 1.6, kind="set and drift")
+        if lines is not None:
+            lines.append(segment_box(float(sx), float(sy), float(ex_), float(ey_), 4.0))
         back = math.atan2(float(sy) - float(ey_), float(sx) - float(ex_))
         head = [(float(ex_) + 6 * math.cos(back + s), float(ey_) + 6 * math.sin(back + s)) for s in (0.45, -0.45)]
         sheet.polygon([float(ex_), head[0][0], head[1][0]], [float(ey_), head[0][1], head[1][1]], fill=CHART,

@@ -427,9 +427,9 @@ class BridgePlan:
     def document(self):
         """A page per round of sights: the times, the bodies with their Hs to preset, the sky picture, the day's
         noon; headed like every printed page (the dates, the provenance, the caution)."""
-        from ..figures.plotting import figure_png, sky_picture
+        from ..figures.plotting import sky_picture
         from ..io.cautions import CAUTION
-        from ..io.printed import Document, Page, Picture, Table, Text
+        from ..io.printed import Document, Drawing, Page, Table, Text
 
         pages = []
         if not self.rounds:  # no twilight (white nights, midnight sun): the days' times and the daytime fixes
@@ -469,7 +469,7 @@ class BridgePlan:
             blocks.append(table)
             figure = sky_picture(round_.plan, title=f"{round_.label}: {hm(zone_time(p.utc, zd))} zone, "
                                                     f"{hm(p.utc)} UTC")
-            blocks.append(Picture(figure_png(figure, dpi=150), 255.0))
+            blocks.append(Drawing(figure, 255.0 / figure.width))
             blocks.append(Text(f"Choice: {round_.plan.explanation}", "small"))
             # the noon of the round's own day: the nearest (a local date can come twice at the date line)
             noon = min(self.noons, key=lambda n: abs((n.utc - p.utc) / np.timedelta64(1, "m")), default=None)

@@ -30,14 +30,12 @@ from ..angles import wrap_180
 from ..constants import NS_PER_HOUR, NS_PER_MINUTE, NS_PER_SECOND
 from ..fixstats import DR_ERROR_FRACTION, DR_ERROR_KN
 from ..reckoning import (
-    NORMAL_975,
     PAST_POLE,
     DRTrack,
     days_run,
     estimated_position,
     lines_crossed,
     ship_noons,
-    velocity_kn,
 )
 from ..sailings import rhumb_inverse
 from ..status import FixKind, SightStatus
@@ -46,7 +44,6 @@ from .latitudechecks import latitude_checks
 from .shipsfixes import ROUND_MINUTES, ShipsSights, combined_rounds
 from .shipstime import clock_changes_text, vessel_clocks, zone_text
 from .shiptrack import (
-    MAX_CURRENT_KN,
     NOON_WINDOW_HOURS,
     is_fix_label,
     position_text,
@@ -248,7 +245,29 @@ def _from_dr(track: DRTrack, noon: int):
         return np.nan, np.nan, f"none: {PAST_POLE.split(':')[0]} from the {label}", False, np.nan
     cov = track.known_cov_nm2[index] if track.known_cov_nm2 is not None else np.zeros((2, 2))
     sigma = float(np.sqrt(np.trace(cov) / 2.0 + _dr_sigma_nm(track, int(track.known_ns[index]), noon) ** 2))
-    return float(lat[0]), float(lon[0]), f"DR from the {label}", False, sigma
+    what = DR_WITH_CURRENT if _carries_current(track, int(track.known_ns[index]), noon) else "DR"
+    return float(lat[0]), float(lon[0]), f"{what} from the {label}", False, sigma
+
+
+#: A noon from a DR that carries a current (entered in the log, or each fix's carried): the trade's estimated
+#: position by course, speed and current, named so wherever the noon is shown, never plain "DR".
+DR_WITH_CURRENT = "DR with current"
+
+
+def _carries_current(track: DRTrack, start: int, end: int) -> bool:
+    """Whether the DR between two instants carries a current: its velocity over the ground differs from the one
+    through the water (by 0.05 kn or more) anywhere between."""
+    water = track.through_water
+    if water is None:
+        return False
+    low, high = min(start, end), max(start, end)
+    knots = np.concatenate([track.knot_ns, water.knot_ns]).astype(np.int64)
+    times = np.unique(np.concatenate([[low], knots[(knots > low) & (knots < high)], [high]]))
+    middles = times[:-1] + (times[1:] - times[:-1]) // 2 if times.size > 1 else times
+    ground_n, ground_e = track.velocity_at(middles)
+    water_n, water_e = water.velocity_at(middles)
+    current = np.hypot(np.asarray(ground_n) - np.asarray(water_n), np.asarray(ground_e) - np.asarray(water_e))
+    return bool((np.nan_to_num(current) >= 0.05).any())
 
 
 def noon_position(track: DRTrack, noon: int, estimated: list[dict], lines: list[dict], ships: ShipsSights,
@@ -410,35 +429,52 @@ def _current_words(noon_from: str, unallowed: list[tuple[int, str]], noon: int) 
             "each fix's)")
 
 
+#: What the day's current's ± covers: the rule of the set and drift at each fix (navred.reckoning.set_and_drift,
+#: navred.jobs.shiptrack.current_verdict), stated with the figure.
+CURRENT_95_COVERS = ("the ± covers both noon positions' errors and the DR's own over the run, 0.3 kn an hour and 2 % "
+                     "of the miles, as at each fix")
+
+
 def _days_run_columns(run, through, water_n, water_e, k: int, found) -> dict:
-    """The day's run to noon ``k`` and the day's current: the run made good less the run through the water."""
+    """The day's run to noon ``k`` and the day's current: the run made good less the run through the water, its
+    95 % interval and whether it is determined by the one rule of the set and drift at each fix
+    (:func:`navred.reckoning.set_and_drift` from the noon positions' errors and the DR's own over the run,
+    :func:`navred.jobs.shiptrack.current_verdict`)."""
+    from ..reckoning import set_and_drift
+    from ..sailings import rhumb_destination
+    from .shiptrack import current_verdict
+
     hours = float(run.hours[k - 1])
     out = {"run_nm": float(run.distance_nm[k - 1]), "course_made_good_deg": float(run.course_deg[k - 1]),
            "speed_made_good_kn": float(run.speed_kn[k - 1]), "through_water_nm": float(through[k - 1]),
            "hours": hours}
-    ground_n, ground_e = velocity_kn(run.course_deg[k - 1], run.distance_nm[k - 1])
-    north, east = (float(ground_n) - float(water_n[k - 1])) / hours, (float(ground_e) - float(water_e[k - 1])) / hours
-    drift = float(np.hypot(north, east))
-    spread = NORMAL_975 * float(np.hypot(found[k - 1][4], found[k][4])) / hours
-    observed = found[k - 1][3] and found[k][3]
-    if not np.isfinite(drift):
+    if not (np.isfinite(found[k - 1][0]) and np.isfinite(found[k][0]) and hours > 0):
         return out
-    if found[k - 1][2].startswith("DR from") and found[k - 1][2] == found[k][2]:
+    if found[k - 1][2].startswith("DR") and found[k - 1][2] == found[k][2]:
         out["current_note"] = (f"none observed: both noons are the {found[k][2]} (its current is what the log "
                                "enters or carries)")
         return out
-    if drift > MAX_CURRENT_KN:
-        out["current_note"] = (f"not determined: the noon positions are {drift * hours:.1f} nm from the run through the "
-                               f"water, more than any current ({MAX_CURRENT_KN:g} kn): check them")
-        return out
+    # the DR at this noon through the water from the last noon position: the fix's rule against it
+    water = float(np.hypot(water_n[k - 1], water_e[k - 1]))
+    course = float(np.degrees(np.arctan2(water_e[k - 1], water_n[k - 1])) % 360.0)
+    dr_lat, dr_lon = rhumb_destination(found[k - 1][0], found[k - 1][1], course, water)
+    covs = [np.eye(2) * float(found[j][4]) ** 2 if np.isfinite(found[j][4]) else np.zeros((2, 2)) for j in (k - 1, k)]
+    result = set_and_drift(float(dr_lat), float(dr_lon), found[k][0], found[k][1], hours, covs[1], covs[0],
+                           float(through[k - 1]), dr_error_kn=DR_ERROR_KN, dr_error_fraction=DR_ERROR_FRACTION)
+    drift, spread = float(result.drift_kn), float(result.drift_95_kn)
+    good, reasons = current_verdict(hours, drift, spread, drift * hours)
+    observed = found[k - 1][3] and found[k][3]
     basis = ("the noon positions less the run through the water" if observed else
              "the noon positions are not both fixes: the current is only as good as the DR they rest on")
     out["current_95_kn"] = spread
-    if not drift > spread:
-        out["current_note"] = f"under {drift + spread:.1f} kn, its set not determined ({basis})"
+    if not good[0]:
+        out["current_note"] = reasons[0].replace("the fixes", "the noons").replace("the fix ", "the noon position ")
         return out
-    out.update({"current_set_deg": float(np.degrees(np.arctan2(east, north)) % 360.0), "current_drift_kn": drift,
-                "current_note": basis})
+    if not np.isfinite(result.set_95_deg):
+        out["current_note"] = f"under {drift + spread:.1f} kn, its set not determined ({basis}; {CURRENT_95_COVERS})"
+        return out
+    out.update({"current_set_deg": float(result.set_deg), "current_drift_kn": drift,
+                "current_note": f"{basis}; {CURRENT_95_COVERS}"})
     return out
 
 

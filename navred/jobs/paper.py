@@ -495,23 +495,44 @@ def _twilight_table(twilight: PlannedTwilight, name: str) -> Table:
                  compact=True)
 
 
+def sight_days(twilights, noons) -> list[dict]:
+    """The rounds and noons of a passage by days, the one rule the plan keeps: each event by the zone date of
+    its own instant in its own zone (ZT = UTC − ZD: :func:`navred.jobs.bridge.zone_date`). In time order, a new
+    day when the zone date changes or the zone jumps across the date line (12 h or more): over the date line
+    eastbound the zone date goes back and a date is lived twice (two days of one date); westbound it goes
+    forward and part of a date is never lived. Each day: its ``date``, the ``zone_h`` of its first event,
+    ``again`` (a date lived before), its ``twilights`` and ``noon`` (None where its noon fell on the other
+    side of the line)."""
+    events = sorted([(np.datetime64(t.presets.utc, "ns"), t.zone_date, t.zone_h, t) for t in twilights]
+                    + [(np.datetime64(n.utc, "ns"), n.zone_date, n.zone_h, n) for n in noons], key=lambda e: e[0])
+    days: list[dict] = []
+    for _, date, zone_h, item in events:
+        day = days[-1] if days else None
+        if day is None or day["date"] != date or abs(zone_h - day["last_zone_h"]) >= 12.0:
+            day = {"date": date, "zone_h": zone_h, "again": any(d["date"] == date for d in days), "twilights": [],
+                   "noon": None}
+            days.append(day)
+        day["last_zone_h"] = zone_h
+        if isinstance(item, PlannedTwilight):
+            day["twilights"].append(item)
+        else:
+            day["noon"] = item
+    return days
+
+
 def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
     pages = []
-    # each round on the page of its own day: the day whose noon is nearest it (a local date comes twice when she
-    # crosses the date line eastbound, so the date alone does not tell the days apart)
-    by_day: dict[int, list] = {}
-    noon_ns = np.array([n.utc for n in noons], dtype="datetime64[ns]").astype(np.int64)
-    for twilight in twilights:
-        if noon_ns.size:
-            day = int(np.argmin(np.abs(noon_ns - np.datetime64(twilight.presets.utc, "ns").astype(np.int64))))
-            by_day.setdefault(day, []).append(twilight)
-    for n, noon in enumerate(noons):
-        label = long_date(noon.date)
+    days = sight_days(twilights, noons)
+    for n, day in enumerate(days):
+        noon = day["noon"]
         blocks = []
-        held = {twilight.kind for twilight in by_day.get(n, [])}
-        if "Morning twilight" not in held:
-            blocks.append(_no_round("morning", events, noon))
-        for twilight in by_day.get(n, []):
+        held = {twilight.kind for twilight in day["twilights"]}
+        across = [days[m] for m in (n - 1, n + 1) if 0 <= m < len(days) and abs(
+            days[m]["zone_h"] - day["zone_h"]) >= 12.0]  # the days on the other side of the date line, beside it
+        crossed = bool(across)
+        if "Morning twilight" not in held and (noon is not None or crossed):
+            blocks.append(_no_round("morning", events, noon, _other_side("Morning twilight", across)))
+        for twilight in day["twilights"]:
             p = twilight.presets
             zd = twilight.zone_h
             zone_time = p.utc - np.timedelta64(int(zd * 60), "m")
@@ -532,23 +553,46 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
                                "so its set may differ).", "small"))
             stamp = str(p.utc.astype("datetime64[m]")).replace(":", "").replace("T", "-")
             blocks.append(_twilight_table(twilight, f"sights-{stamp}"))
-        if "Evening twilight" not in held:
-            blocks.append(_no_round("evening", events, noon))
-        zone_noon = noon.utc - np.timedelta64(int(noon.zone_h * 60), "m")
-        blocks.append(Text(f"Noon: the Sun on the meridian at {hm(zone_noon)} zone time ({zone_text(noon.zone_h)}), "
-                           f"{hm(noon.utc)} UTC", "subheading"))
-        blocks.append(Text(f"DR then {dm(noon.lat_deg, 'lat')} {dm(noon.lon_deg, 'lon')}; Sun's Dec "
-                           f"{dm(noon.dec_deg, 'dec')}; Hc {dm(noon.hc_deg, 'signed')}, bearing {noon.bearing}; Hs to "
-                           f"preset (lower limb) {dm(noon.hs_deg, 'signed')}. Start a few minutes early, follow it up "
-                           "and take the highest reading; latitude = Dec ± (90° − Ho) (The noon Sun page).", "body"))
-        again = n > 0 and noons[n - 1].date == noon.date  # eastbound over the date line the ship's date repeats
-        pages.append(Page(f"Sights for {label}" + (" (the date again: over the date line)" if again else ""),
-                          tuple(blocks)))
+        if "Evening twilight" not in held and (noon is not None or crossed):
+            blocks.append(_no_round("evening", events, noon, _other_side("Evening twilight", across)))
+        if noon is not None:
+            zone_noon = noon.utc - np.timedelta64(int(noon.zone_h * 60), "m")
+            blocks.append(Text(f"Noon: the Sun on the meridian at {hm(zone_noon)} zone time "
+                               f"({zone_text(noon.zone_h)}), {hm(noon.utc)} UTC", "subheading"))
+            blocks.append(Text(f"DR then {dm(noon.lat_deg, 'lat')} {dm(noon.lon_deg, 'lon')}; Sun's Dec "
+                               f"{dm(noon.dec_deg, 'dec')}; Hc {dm(noon.hc_deg, 'signed')}, bearing {noon.bearing}; Hs "
+                               f"to preset (lower limb) {dm(noon.hs_deg, 'signed')}. Start a few minutes early, follow "
+                               "it up and take the highest reading; latitude = Dec ± (90° − Ho) (The noon Sun page).",
+                               "body"))
+        elif crossed:
+            other = [d for d in across if d["noon"] is not None]
+            where = f"on the page of {long_date(other[0]['date'])}" if other else "not on this side"
+            blocks.append(Text(f"Noon: {where}, across the date line (each event on the page of its own zone date).",
+                               "subheading"))
+        after = n > 0 and abs(days[n - 1]["last_zone_h"] - day["zone_h"]) >= 12.0
+        note = (" (the date again: over the date line)" if day["again"] else
+                f" (over the date line: the date goes {'back' if day['date'] < days[n - 1]['date'] else 'forward'} "
+                "a day)" if after else "")
+        pages.append(Page(f"Sights for {long_date(day['date'])}{note}", tuple(blocks)))
     return pages
 
 
-def _no_round(when: str, events: dict, noon) -> Text:
-    """Why a day's page has no morning (or evening) round: the twilight that does not happen at the DR."""
+def _other_side(kind: str, across: list[dict]) -> str | None:
+    """On a day the date line cuts, where a round missing from it is: the page across the line that holds it
+    ('' where neither does); None on a day the line does not cut."""
+    if not across:
+        return None
+    holding = [d for d in across if any(t.kind == kind for t in d["twilights"])]
+    return f"on the page of {long_date(holding[0]['date'])}" if holding else ""
+
+
+def _no_round(when: str, events: dict, noon, across: str | None = None) -> Text:
+    """Why a day's page has no morning (or evening) round: the twilight that does not happen at the DR, or, on
+    a day the date line cuts, where it is (``across``: the page across the line that holds it, '' for none)."""
+    if across is not None:
+        where = across or "not on this side of the line"
+        return Text(f"The {when} twilight round: {where}, across the date line (each event on the page of its "
+                    "own zone date).", "subheading")
     day = int(np.flatnonzero(events["date"] == noon.date)[0])
     side = "dawn" if when == "morning" else "dusk"
     nautical, civil = events[f"nautical_{side}"][day], events[f"civil_{side}"][day]
@@ -575,7 +619,7 @@ def _noon_page(noons, hourly) -> Page:
     rows = []
     for noon in noons:
         zone_noon = noon.utc - np.timedelta64(int(noon.zone_h * 60), "m")
-        rows.append((str(noon.date), hm(zone_noon), f"ZD {zone_text(noon.zone_h)}", hm(noon.utc), dm(noon.lat_deg, "lat"),
+        rows.append((str(noon.zone_date), hm(zone_noon), f"ZD {zone_text(noon.zone_h)}", hm(noon.utc), dm(noon.lat_deg, "lat"),
                      dm(noon.lon_deg, "lon"), dm(noon.dec_deg, "dec"), dm(noon.hc_deg, "signed"),
                      dm(noon.hs_deg, "signed"), noon.bearing))
     table = Table(("Date", "zone time", "ZD", "UTC", "DR lat", "DR lon", "Sun Dec", "Hc", "Hs preset LL", "look"),
@@ -783,4 +827,4 @@ def _blank_forms(track, first, days) -> list[Page]:
     return pages
 
 
-__all__ = ["PassagePaper", "passage_paper", "WITH_THIS_PAPER"]
+__all__ = ["sight_days", "PassagePaper", "passage_paper", "WITH_THIS_PAPER"]

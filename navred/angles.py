@@ -267,11 +267,9 @@ def parse_angles_fast(texts: list[str], kind: AngleKind = "angle") -> tuple[np.n
     negative_letters = {"S", "W", "s", "w"}
     limit = _LIMITS[kind]
     low = -180.0 if kind in ("lon", "variation") else -limit
-    bulk_values, bulk_done = _plain_degrees_minutes(texts, letters, low, limit)
-    values = bulk_values.tolist()
-    done = bulk_done.tolist()
+    value, done = _plain_degrees_minutes(texts, letters, low, limit)
     decimal, dm = _FAST_DECIMAL.fullmatch, _FAST_DM.fullmatch
-    for k in np.flatnonzero(~bulk_done).tolist():
+    for k in np.flatnonzero(~done).tolist():
         text = texts[k]
         if type(text) is not str:
             continue
@@ -296,9 +294,8 @@ def parse_angles_fast(texts: list[str], kind: AngleKind = "angle") -> tuple[np.n
                 continue
             number = float(found.group(1))
         if low <= number <= limit:
-            values[k] = number
+            value[k] = number
             done[k] = True
-    value, done = np.array(values, dtype=float), np.array(done, dtype=bool)
     if kind == "lon":
         value = np.where(done & (value >= 180.0), wrap_180(value), value)
     return value, done
@@ -313,11 +310,19 @@ def _plain_degrees_minutes(texts: list, letters: str, low: float, limit: float) 
     values, done = np.full(n, np.nan), np.zeros(n, dtype=bool)
     if not hasattr(getattr(np, "strings", None), "partition"):  # numpy before 2.2: every text read one by one
         return values, done
-    index = np.array([k for k, t in enumerate(texts) if type(t) is str and t.isascii()], dtype=np.intp)
-    if not index.size:
-        return values, done
     strings, text = np.strings, np.dtypes.StringDType()
-    chosen = np.array([texts[k] for k in index.tolist()], dtype=text)
+    try:
+        joined = "".join(texts)
+        every = joined.isascii() and "\x00" not in joined  # every one a text of ASCII (the usual column), at once
+    except TypeError:
+        every = False  # (not every one a text)
+    if every and n:
+        return _plain_degrees_minutes_bytes(np.array(texts, dtype="S"), letters, low, limit)
+    else:
+        index = np.array([k for k, t in enumerate(texts) if type(t) is str and t.isascii()], dtype=np.intp)
+        if not index.size:
+            return values, done
+        chosen = np.array([texts[k] for k in index.tolist()], dtype=text)
     blank, dot = np.array(" ", dtype=text), np.array(".", dtype=text)
     degrees, space, rest = strings.partition(chosen, blank)
     minutes, space2, hemisphere = strings.partition(rest, blank)
@@ -329,17 +334,83 @@ def _plain_degrees_minutes(texts: list, letters: str, low: float, limit: float) 
         good &= (space2 == " ") & np.isin(hemisphere, np.array(allowed, dtype=text))
     else:
         good &= space2 == ""
+    # the numbers from their digits as whole numbers (numpy reads those several times quicker than decimals):
+    # the minutes m digits over 10**k, one correctly rounded division of exact numbers, the very float of the
+    # decimal text (up to 15 digits; longer ones are left to the reading one by one)
+    places = np.where(point == "", 0, strings.str_len(fraction))
+    good &= (strings.str_len(degrees) <= 15) & (strings.str_len(whole) + places <= 15)
     if not good.any():
         return values, done
-    index, degrees, minutes, hemisphere = index[good], degrees[good], minutes[good], hemisphere[good]
-    m = minutes.astype(np.float64)
-    number = degrees.astype(np.float64) + m / 60.0
+    index, degrees, hemisphere = index[good], degrees[good], hemisphere[good]
+    whole, fraction, places = whole[good], fraction[good], places[good]
+    digits = whole.astype(np.int64) * 10 ** places + np.where(places > 0, fraction, "0").astype(np.int64)
+    m = digits / 10.0 ** places
+    number = degrees.astype(np.int64).astype(np.float64) + m / 60.0
     if letters:
         south_west = np.isin(hemisphere, np.array(["S", "W", "s", "w"], dtype=text))
         number = np.where(south_west, -number, number)
     kept = (m < 60.0) & (low <= number) & (number <= limit)
     values[index[kept]] = number[kept]
     done[index[kept]] = True
+    return values, done
+
+
+def _plain_degrees_minutes_bytes(texts: np.ndarray, letters: str, low: float, limit: float):
+    """:func:`_plain_degrees_minutes` of texts of ASCII without NUL, as numpy's bytes (``S``): each text a row of
+    a matrix of bytes, its form told by where its spaces and its point are, its digits read left to right
+    (the same texts taken, to the same numbers: the minutes' digits as a whole number over a power of ten)."""
+    n = texts.size
+    values, done = np.full(n, np.nan), np.zeros(n, dtype=bool)
+    width = texts.dtype.itemsize
+    codes = texts.view(np.uint8).reshape(n, width)
+    length = np.strings.str_len(texts) if hasattr(np, "strings") else np.char.str_len(texts)
+    column = np.arange(width)
+    inside = column < length[:, None]
+    space = (codes == 32) & inside
+    first = np.argmax(space, axis=1)  # the first space (0 when there is none: told by ``spaced``)
+    spaced = space.any(axis=1)
+    later = space & (column > first[:, None])
+    second = np.where(later.any(axis=1), np.argmax(later, axis=1), length)  # the second space, or the end
+    twice = second < length
+    digit = (codes >= 48) & (codes <= 57)
+    point = codes == 46
+    in_degrees = column < first[:, None]
+    in_minutes = (column > first[:, None]) & (column < second[:, None])
+    points = (point & in_minutes).sum(axis=1)
+    at_point = np.where(points > 0, np.argmax(point & in_minutes, axis=1), second)
+    good = (spaced & (first >= 1) & ~(in_degrees & ~digit).any(axis=1)
+            & ~(in_minutes & ~digit & ~point).any(axis=1) & (points <= 1)
+            & (at_point > first + 1) & ((points == 0) | (at_point < second - 1)))
+    if letters:
+        allowed = np.frombuffer((letters + letters.lower()).encode("ascii"), dtype=np.uint8)
+        hemisphere = codes[np.arange(n), np.minimum(second + 1, width - 1)]
+        good &= twice & (length == second + 2) & np.isin(hemisphere, allowed)
+    else:
+        good &= ~twice
+    places = np.where(points > 0, second - at_point - 1, 0)
+    good &= (first <= 15) & (second - first - 1 - points <= 15)
+    if not good.any():
+        return values, done
+    rows = np.flatnonzero(good)
+    codes, digit, column = codes[rows], digit[rows], column[None, :]
+    first, second, at_point, places = first[rows], second[rows], at_point[rows], places[rows]
+    ones = codes.astype(np.int64) - 48
+    in_degrees = column < first[:, None]
+    in_minutes = (column > first[:, None]) & (column < second[:, None]) & digit
+    # the digits read left to right, ten times what is read so far plus the next (whole numbers: exact)
+    degrees = np.zeros(rows.size, dtype=np.int64)
+    minutes = np.zeros(rows.size, dtype=np.int64)
+    for j in range(width):
+        degrees = np.where(in_degrees[:, j], degrees * 10 + ones[:, j], degrees)
+        minutes = np.where(in_minutes[:, j], minutes * 10 + ones[:, j], minutes)
+    m = minutes / 10.0 ** places
+    number = degrees.astype(np.float64) + m / 60.0
+    if letters:
+        hemisphere = codes[np.arange(rows.size), second + 1]
+        number = np.where(np.isin(hemisphere, np.frombuffer(b"SWsw", dtype=np.uint8)), -number, number)
+    kept = (m < 60.0) & (low <= number) & (number <= limit)
+    values[rows[kept]] = number[kept]
+    done[rows[kept]] = True
     return values, done
 
 

@@ -519,22 +519,27 @@ def iso_z_datetime64(values) -> np.ndarray | None:
     if items.ndim != 1 or items.dtype.kind not in "UO" or items.size == 0:
         return None
     if items.dtype.kind == "O":
-        if not all(type(v) is str for v in items.tolist()):
+        listed = items.tolist()
+        try:
+            "".join(listed)  # every element a text (told at once: the join refuses anything else)
+        except TypeError:
             return None
         items = items.astype(str)
-    lengths = np.char.str_len(items)
+    lengths = np.strings.str_len(items) if hasattr(np, "strings") else np.char.str_len(items)
     width = int(lengths.max())
     if lengths.min() < 20 or width > 40:
         return None
     chars = np.ascontiguousarray(items.astype(f"U{width}")).view("U1").reshape(items.size, width)
-    last = chars[np.arange(items.size), lengths - 1]
+    codes = chars.view(np.uint32)  # each character's code point: an ASCII digit is 48 to 57
+    last = codes[np.arange(items.size), lengths - 1]
     fraction = lengths > 20
-    shape_ok = ((chars[:, 4] == "-") & (chars[:, 7] == "-") & np.isin(chars[:, 10], ["T", " "]) & (chars[:, 13] == ":")
-                & (chars[:, 16] == ":") & (last == "Z") & np.all(np.char.isdigit(chars[:, _DIGITS]), axis=1)
-                & (~fraction | (chars[:, 19] == ".")))
+    digit = (codes - 48) < 10  # (unsigned: below 48 wraps round to a large number)
+    shape_ok = ((codes[:, 4] == 45) & (codes[:, 7] == 45) & ((codes[:, 10] == 84) | (codes[:, 10] == 32))
+                & (codes[:, 13] == 58) & (codes[:, 16] == 58) & (last == 90) & np.all(digit[:, _DIGITS], axis=1)
+                & (~fraction | (codes[:, 19] == 46)))
     if fraction.any():
         inside = (np.arange(width)[None, :] >= 20) & (np.arange(width)[None, :] < (lengths - 1)[:, None])
-        shape_ok &= ~np.any(inside & ~np.char.isdigit(chars), axis=1) & (~fraction | (lengths > 21))
+        shape_ok &= ~np.any(inside & ~digit, axis=1) & (~fraction | (lengths > 21))
     if not shape_ok.all():
         return None
     chars[:, 10] = "T"

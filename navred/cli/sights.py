@@ -89,10 +89,11 @@ def reduce_command(
                                   navigators=tuple(navigator or ()))
             print_notes(done)
             rows = reduced = 0
-            for text, block_rows, block_reduced in done.blocks():
-                sys.stdout.write(text)
-                rows, reduced = rows + block_rows, reduced + block_reduced
             sys.stdout.flush()
+            for text, block_rows, block_reduced in done.blocks():  # UTF-8 bytes, as made
+                sys.stdout.buffer.write(text)
+                rows, reduced = rows + block_rows, reduced + block_reduced
+            sys.stdout.buffer.flush()
             require_reduced(rows, reduced, "the CSV names each row and why (status, message)")
             return
         from .format import reduce_lines

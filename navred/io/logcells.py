@@ -131,7 +131,12 @@ def cell_texts(values: pd.Series | np.ndarray) -> np.ndarray:
         if aware is not None:
             return aware
     codes, uniques = pd.factorize(values, use_na_sentinel=True)
-    texts = np.array([cell_text(u) for u in uniques] + [""], dtype=object)
+    if pd.api.types.infer_dtype(uniques, skipna=False) == "string":  # texts (a file's cells): as they are
+        texts = np.empty(len(uniques) + 1, dtype=object)
+        texts[:-1] = uniques  # (cell_text of a text is the text)
+        texts[-1] = ""
+    else:
+        texts = np.array([cell_text(u) for u in uniques] + [""], dtype=object)
     return texts[codes]
 
 
@@ -250,7 +255,13 @@ def zoneless_utc(values: np.ndarray, ok: np.ndarray, dates: str | None) -> np.nd
     out = np.zeros(len(values), dtype=bool)
     cells = values.to_numpy(dtype=object) if isinstance(values, pd.Series) else np.asarray(values, dtype=object)
     seen: dict = {}  # each distinct text once
-    for k in np.flatnonzero(ok).tolist():
+    rows = np.flatnonzero(ok)
+    try:  # a column of texts: those ending in Z (the usual ISO form) told at once
+        zoned = np.strings.endswith(np.array(cells[rows].tolist(), dtype=np.dtypes.StringDType(coerce=False)), "Z")
+        rows = rows[~zoned]
+    except (TypeError, ValueError, AttributeError):
+        pass  # (not every cell a text, or numpy before 2.0: one by one)
+    for k in rows.tolist():
         value = cells[k]
         if isinstance(value, str):
             if value.endswith("Z"):  # (the ISO form ends in its zone: only the zone's group takes a letter)
@@ -397,6 +408,8 @@ PARSERS = {
     "leeway": lambda v, dc, unit, dates: _leeway(_not_formula(v), dc),
     "clocks": lambda v, dc, unit, dates: _clocks(_not_formula(v)),
 }
+#: Kinds read from a text by a text's own method, as :data:`PARSERS` reads a cell that is a text (the same result)
+_PLAIN_TEXT_KINDS = {"text": str.strip, "name": lambda v: " ".join(v.split())}
 #: Kinds whose result is several numbers (a row of an array), and how many.
 TUPLE_KINDS = {"utc": 7, "date": 3, "time": 6, "leeway": 2, "clocks": 2}
 #: Kinds whose result is one number.
@@ -413,21 +426,20 @@ def _parse_one(column, value, decimal_comma, unit, dates):
     return result
 
 
-def _parse_fast(column, originals: list, unit) -> list:
+def _parse_fast(column, originals: list, unit) -> tuple[np.ndarray, np.ndarray] | None:
     """The values of an angle column in the common written forms, read in bulk
     (:func:`navred.angles.parse_angles_fast`: only what the careful parser reads to the same
-    value); None where the careful parser must look. A decimal comma is left to the careful parser."""
+    value): (values, which were read); None for a column of another kind. A decimal comma is left to the
+    careful parser."""
     kind = {"altitude": "angle", "lat": "lat", "lon": "lon"}.get(column.kind)
     if kind is None:
-        return [None] * len(originals)
+        return None
     values, done = parse_angles_fast(originals, kind)
     if column.kind == "altitude" and column.low is not None:  # out of range: the careful parser gives the reason
         low, high = column.low, column.high
         with np.errstate(invalid="ignore"):
             done &= (values >= low) if high is None else (values >= low) & (values <= high)
-    out = np.full(len(originals), None, dtype=object)
-    out[done] = values[done].tolist()
-    return out.tolist()
+    return values, done
 
 
 @dataclass
@@ -467,10 +479,10 @@ def gather(tables, layouts, key) -> Cells:
                                                                        dtype=object),
                      np.full(table.n_rows, table.header[index], dtype=object),
                      np.full(table.n_rows, table.decimal_comma, dtype=bool), True)
-    if not any(layout.keys.get(key) for layout in layouts):  # no table gives it: every row blank, none looked at
-        n = int(counts.sum())  # (a DataFrame of a few columns leaves most keys out: a tenth of its reading time)
-        return Cells(pd.Series(np.full(n, None, dtype=object), dtype=object), np.ones(n, dtype=bool),
-                     texts_of(n, COLUMN[key].default_unit), texts_of(n, key),
+    if not any(layout.keys.get(key) for layout in layouts):  # no table gives this key: every cell blank, at once
+        total = int(counts.sum())
+        return Cells(pd.Series(texts_of(total, None), dtype=object), np.ones(total, dtype=bool),
+                     texts_of(total, COLUMN[key].default_unit), texts_of(total, key),
                      np.repeat(np.array([t.decimal_comma for t in tables], dtype=bool), counts), False)
     for table, layout in zip(tables, layouts):
         n = table.n_rows
@@ -517,7 +529,12 @@ def gather(tables, layouts, key) -> Cells:
                                for p, c in zip(parts, counts)]) if parts else np.zeros(0, dtype=object)
 
     commas = np.repeat(np.array([t.decimal_comma for t in tables], dtype=bool), counts)
-    return Cells(joined, blank_mask(joined), per_row(units), per_row(headers), commas, present)
+    indices = layouts[0].keys.get(key, []) if len(tables) == 1 else []
+    if len(indices) == 1 and indices[0] in tables[0].filled_columns:  # known to hold no blank cell
+        blank = np.zeros(len(joined), dtype=bool)
+    else:
+        blank = blank_mask(joined)
+    return Cells(joined, blank, per_row(units), per_row(headers), commas, present)
 
 
 def _typed_column(tables, layouts, key) -> pd.Series | None:
@@ -647,10 +664,29 @@ def _parse_each_distinct(column, cells: Cells, members: np.ndarray, unit, comma:
     first[codes[::-1]] = np.arange(codes.size)[::-1]
     distinct = originals.to_numpy(dtype=object)[first].tolist()
     quick = _parse_fast(column, distinct, unit)
+    if quick is not None and value.ndim == 1 and value.dtype == float:  # the values read in bulk stay in numpy
+        numbers, good = quick
+        numbers, good = np.where(good, numbers, np.nan), good.copy()
+        reasons = {}
+        for u in np.flatnonzero(~good).tolist():
+            try:
+                numbers[u] = _parse_one(column, distinct[u], bool(comma), unit, dates)
+                good[u] = True
+            except (NavredError, ValueError, TypeError) as exc:
+                reasons[u] = _reason(exc, distinct[u])
+        value[members] = numbers[codes]
+        _refuse(cells, members, codes, good, distinct, reasons, refused, problems)
+        return
+    if column.kind in _PLAIN_TEXT_KINDS and all(type(v) is str for v in distinct):  # texts: no reading can fail
+        results = [_PLAIN_TEXT_KINDS[column.kind](v) for v in distinct]
+        table = np.empty(len(uniques), dtype=object)
+        table[:] = results
+        value[members] = table[codes]
+        return
     results, reasons = [], {}
     for u, original in enumerate(distinct):
-        if quick[u] is not None:
-            results.append(quick[u])
+        if quick is not None and quick[1][u]:
+            results.append(float(quick[0][u]))
             continue
         try:
             results.append(_parse_one(column, original, bool(comma), unit, dates))
@@ -667,6 +703,11 @@ def _parse_each_distinct(column, cells: Cells, members: np.ndarray, unit, comma:
         table = np.empty(len(uniques), dtype=value.dtype)
         table[:] = [r if r is not None else (np.nan if value.dtype == float else None) for r in results]
         value[members] = table[codes]
+    _refuse(cells, members, codes, good, distinct, reasons, refused, problems)
+
+
+def _refuse(cells: Cells, members, codes, good, distinct, reasons, refused, problems) -> None:
+    """The cells whose distinct value was refused marked in ``refused`` and added to ``problems``."""
     refused[members[~good[codes]]] = True
     if reasons:  # every refused cell with its value as written and its reason, in one go
         bad = ~good[codes]

@@ -14,6 +14,7 @@ spreadsheet), so a crafted file is refused quickly instead of filling the memory
 from __future__ import annotations
 
 import csv
+import hashlib
 import io
 import re
 import zipfile
@@ -87,6 +88,8 @@ class RawTable:
     malformed_cells: dict[int, list[str]] = field(default_factory=dict)
     #: what the reader noted about the file as a whole (how it was decoded), for the navigator
     notes: list[str] = field(default_factory=list)
+    #: the columns (by index) known to hold no blank cell: the file was looked at (a long plain log's blocks)
+    filled_columns: frozenset[int] = frozenset()
 
     @property
     def n_rows(self) -> int:
@@ -377,14 +380,16 @@ SPLIT_BY_PYTHON_ROWS = 2000
 
 
 def _plain_block(source: str, header: list[str], data: list[str], first_row_number: int,
-                 separator: str, *, short_lines: bool = False) -> RawTable | None:
+                 separator: str, *, short_lines: bool = False, no_blank: bool = False) -> RawTable | None:
     """The table of plain CSV lines (see :func:`_plain_lines`), split by pandas' C parser; None when a
     line that is not blank holds more or fewer fields than the header (the csv module path names it).
     Both paths give the same table (tests/test_logbook.py compares them with the csv module of the
     standard library). ``short_lines``: the lines' fields were counted already and no line is longer
-    than a cell may be, so no cell is (a plain file's cells never span lines)."""
+    than a cell may be, so no cell is (a plain file's cells never span lines). ``no_blank``: no line is blank
+    (the file was looked at)."""
     width = len(header)
-    blank = np.array([not line.replace(separator, "").strip() for line in data], dtype=bool)
+    blank = np.zeros(len(data), dtype=bool) if no_blank else \
+        np.array([not line.replace(separator, "").strip() for line in data], dtype=bool)
     if not short_lines:  # (a PlainBlocks file had every line's fields counted when it was read)
         counts = np.array([line.count(separator) for line in data], dtype=int)
         if np.any(counts[~blank] != width - 1):
@@ -444,6 +449,11 @@ class PlainBlocks:
     longest_line: int = 0
     #: every line ends with a carriage return and a line feed (as a spreadsheet on Windows writes a CSV)
     crlf: bool = False
+    #: each block's digest when the file was looked at (:func:`_block_digest`): a block read with the same
+    #: digest is the very bytes looked at (plain, its lines counted), which need not be looked at again
+    digests: tuple = ()
+    #: each block's blank lines, as looked at
+    blank_lines: np.ndarray | None = None
 
     @property
     def n_lines(self) -> int:
@@ -473,6 +483,8 @@ class PlainBlocks:
         with open(self.source, "rb") as handle:
             handle.seek(int(self.offsets[k]))
             data = handle.read(int(self.offsets[k + 1] - self.offsets[k]))
+        # the very bytes looked at (the same digest) were found plain, their lines counted: not looked at again
+        same = len(self.digests) > k and _block_digest_of(data) == self.digests[k]
         try:
             text = data.decode("utf-8")
         except UnicodeDecodeError:
@@ -480,8 +492,9 @@ class PlainBlocks:
         lines = text.split("\r\n" if self.crlf else "\n") if text is not None else []
         if lines and lines[-1] == "":
             lines.pop()
-        if text is None or len(lines) != self.counts[k] or '"' in text or _BAD_TEXT.search(text) is not None \
-                or text.count("\r") != (text.count("\r\n") if self.crlf else 0):
+        if not same and (len(self.digests) > k or text is None or len(lines) != self.counts[k] or '"' in text
+                         or _BAD_TEXT.search(text) is not None
+                         or text.count("\r") != (text.count("\r\n") if self.crlf else 0)):
             raise LogbookError(f"{self.source} changed while it was being read: read it again")
         return lines
 
@@ -489,9 +502,12 @@ class PlainBlocks:
         """Block ``k`` (from 0) as a table of its rows, numbered as in the file, read from the file now."""
         lines = self._lines(k)
         table = _plain_block(self.source, list(self.header), lines, self.first_row_number + k * self.rows,
-                             self.separator, short_lines=self.longest_line <= MAX_CELL_CHARS)
+                             self.separator, short_lines=self.longest_line <= MAX_CELL_CHARS,
+                             no_blank=self.blank_lines is not None and self.blank_lines[k] == 0)
         if table is None:  # every line's fields were counted when the file was looked at
             raise LogbookError(f"{self.source} changed while it was being read: read it again")
+        if len(self.digests) > k:  # the very bytes looked at: the columns no line left blank hold no blank cell
+            table.filled_columns = frozenset(np.flatnonzero(~self.blank_columns).tolist())
         return table
 
     def __iter__(self):
@@ -554,28 +570,33 @@ def plain_csv_blocks(path: str | Path, rows: int) -> PlainBlocks | None:
         scan = _scan_plain_lines(handle, separator.encode(), len(header), rows, header_end, crlf)
     if scan is None:
         return None
-    offsets, counts, blank_columns, longest = scan
+    offsets, counts, blank_columns, longest, digests, blank_lines = scan
     if counts.sum() > MAX_ROWS or counts.sum() == 0:
         return None
-    return PlainBlocks(str(path), header, separator, offsets, counts, first + 2, rows, blank_columns, longest, crlf)
+    return PlainBlocks(str(path), header, separator, offsets, counts, first + 2, rows, blank_columns, longest, crlf,
+                       tuple(digests), blank_lines)
 
 
 def _scan_plain_lines(handle, separator: bytes, width: int, rows: int, position: int, crlf: bool = False):
-    """(block offsets, lines per block, the columns some non-blank line leaves blank, the longest line) of the
-    lines from ``position`` on, looked at :data:`SCAN_BYTES` at a time; None when a line is not plain or has
-    another number of fields than the header. ``crlf``: every line ends with a carriage return before its
-    line feed (None when one does not)."""
+    """(block offsets, lines per block, the columns some non-blank line leaves blank, the longest line, each
+    block's digest, each block's blank lines) of the lines from ``position`` on, looked at :data:`SCAN_BYTES`
+    at a time; None when a line is not plain or has another number of fields than the header. ``crlf``: every
+    line ends with a carriage return before its line feed (None when one does not)."""
     code = separator[0]
     offsets, lines_seen, carry = [position], 0, b""
     blank_columns = np.zeros(width, dtype=bool)
     longest = 0
+    digests, digest = [], _block_digest()
+    blank_lines: list[np.ndarray] = []
     while True:
         chunk = handle.read(SCAN_BYTES)
         data = carry + chunk
+        added = 0
         if not chunk:
             if not data:
                 break
-            data += b"\r\n" if crlf else b"\n"  # a last line without its line end
+            added = 2 if crlf else 1
+            data += b"\r\n" if crlf else b"\n"  # a last line without its line end (not in the file: not digested)
         cut = data.rfind(b"\n") + 1
         body, carry = data[:cut], data[cut:]
         if not body:
@@ -592,28 +613,50 @@ def _scan_plain_lines(handle, separator: bytes, width: int, rows: int, position:
         looked = _look_at_lines(codes, code, width, body, crlf)
         if looked is None:
             return None
-        ends, blanks, lengths = looked
+        ends, blanks, lengths, blank_line = looked
         blank_columns |= blanks
+        blank_lines.append(lines_seen + np.flatnonzero(blank_line))
         longest = max(longest, int(lengths.max(initial=0)))
         # where each block begins: after every rows-th line
         firsts = np.arange((-lines_seen) % rows, ends.size, rows)
         firsts = firsts[firsts > 0] if lines_seen == 0 else firsts
         starts = np.concatenate([[0], ends[:-1] + 1])
         offsets.extend((position + starts[firsts]).tolist())
+        at = 0
+        for cut in starts[firsts].tolist():  # each block's bytes digested as they pass (a new block at each cut)
+            digest.update(body[at:cut])
+            digests.append(digest.digest())
+            digest, at = _block_digest(), cut
+        digest.update(body[at:len(body) - added])
         lines_seen += ends.size
         position += len(body)
         if not chunk:
             break
     offsets.append(position)
+    digests.append(digest.digest())
     counts = np.diff(np.arange(0, lines_seen + rows, rows).clip(max=lines_seen))
     counts = counts[counts > 0]
-    if len(offsets) != counts.size + 1:
+    if len(offsets) != counts.size + 1 or len(digests) != counts.size:
         return None
-    return np.array(offsets, dtype=np.int64), counts, blank_columns, longest
+    blank = np.concatenate(blank_lines) if blank_lines else np.zeros(0, dtype=np.int64)
+    return (np.array(offsets, dtype=np.int64), counts, blank_columns, longest, digests,
+            np.bincount(blank // rows, minlength=counts.size))
+
+
+def _block_digest_of(data: bytes) -> bytes:
+    digest = _block_digest()
+    digest.update(data)
+    return digest.digest()
+
+
+def _block_digest():
+    """The digest a block's bytes are known by between the look at the file and the block's reading (BLAKE2b)."""
+    return hashlib.blake2b(digest_size=16)
 
 
 def _look_at_lines(data: np.ndarray, separator: int, width: int, body: bytes, crlf: bool = False):
-    """(each line's end, the columns some non-blank line leaves blank, each line's length) of whole lines of
+    """(each line's end, the columns some non-blank line leaves blank, each line's length, whether each line is
+    blank) of whole lines of
     bytes; None when a line that is not blank has another number of fields than ``width``. Bytes are
     counted between bounds from the sorted positions of the few kinds that matter (separators, spaces,
     bytes beyond ASCII), never byte by byte in Python. ``crlf``: each line feed follows a carriage return,
@@ -663,7 +706,7 @@ def _look_at_lines(data: np.ndarray, separator: int, width: int, body: bytes, cr
                     if not empty[i_, j_] and count(wide_at, a_, b_):
                         empty[i_, j_] = not body[a_:b_].decode("utf-8").strip()
         blanks = empty.any(axis=0)
-    return feeds, blanks, lengths
+    return feeds, blanks, lengths, blank_line
 
 
 def _records(reader, path, first) -> list[list[str]]:

@@ -13,7 +13,7 @@ import pandas as pd
 
 from ..errors import NavredError
 from ..io.logbook import LogBlocks, LogSource, SightLog, read_sight_log, sight_log_blocks
-from ..io.output import csv_text
+from ..io.output import csv_bytes
 from ..io.timesignals import Ratings
 from ..status import SightStatus
 from .forking import cores, forked_map
@@ -83,17 +83,17 @@ def reduce_log(source: LogSource, *, dates: str | None = None, rates: Ratings | 
     return ReducedLog(log, reduced_sights(log, tuple(navigators)), rates)
 
 
-def _block_csv(plan: LogBlocks, k: int) -> tuple[str, int, int]:
-    """Block ``k`` of a long log read, reduced and written as CSV (the header with the first), with the number
-    of its rows and of its sights reduced."""
+def _block_csv(plan: LogBlocks, k: int) -> tuple[bytes, int, int]:
+    """Block ``k`` of a long log read, reduced and written as CSV (UTF-8; the header with the first), with the
+    number of its rows and of its sights reduced."""
     reduced = reduced_sights(plan.read(k))
-    return csv_text(reduced, header=k == 0), len(reduced), count_reduced(reduced)
+    return csv_bytes(reduced, header=k == 0), len(reduced), count_reduced(reduced)
 
 
 @dataclass(frozen=True)
 class ReducedCsv:
-    """A log to be reduced and written as CSV: :meth:`blocks` gives its text block by block, in order, with each
-    block's number of rows and of sights reduced; a log that must be read whole is one block."""
+    """A log to be reduced and written as CSV: :meth:`blocks` gives its text (UTF-8 bytes) block by block, in
+    order, with each block's number of rows and of sights reduced; a log that must be read whole is one block."""
 
     ratings: Ratings | None
     #: the long log's blocks, or None when the log was read whole (``whole``)
@@ -107,9 +107,9 @@ class ReducedCsv:
         ratings = tuple(self.ratings.notes) if self.ratings is not None else ()
         return tuple(dict.fromkeys([*ratings, *self.plan.notes]))
 
-    def blocks(self) -> Iterator[tuple[str, int, int]]:
+    def blocks(self) -> Iterator[tuple[bytes, int, int]]:
         if self.whole is not None:
-            yield csv_text(self.whole.reduced), len(self.whole.reduced), self.whole.n_reduced
+            yield csv_bytes(self.whole.reduced), len(self.whole.reduced), self.whole.n_reduced
             return
         yield from forked_map(_block_csv, range(len(self.plan)), context=self.plan, workers=cores())
 

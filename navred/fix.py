@@ -17,6 +17,7 @@ from .fixbatch import SightRows, fix_batch
 from .fixresult import FixResult, GroupFixes
 from .fixstats import A_PRIORI_SIGMA_ARCMIN, DR_ERROR_FRACTION, DR_ERROR_KN
 from .grosserrors import check_fixes, leave_out_gross, mark_untrusted, misread_rounds
+from .leastsquares import broadcast
 from .timescales import utc_datetime64
 from .triangle import distance_bearing
 
@@ -81,22 +82,22 @@ def fixes_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike,
     def per_row(values, fill=np.nan):
         if values is None:
             return np.full(n_rows, fill)
-        return np.array(np.broadcast_to(np.asarray(values, dtype=float), (n_rows,)), dtype=float)
+        return np.array(broadcast(values, (n_rows,)), dtype=float)
 
     drift = per_row(drift_kn, 0.0) if set_deg is not None else np.zeros(n_rows)
     weight = sight_weights(per_row(sigma_arcmin), labels)
     sights = SightRows(
-        gha, dec, ho, np.array(np.broadcast_to(utc_datetime64(utc), (n_rows,))), per_row(dr_lat_deg), per_row(dr_lon_deg),
-        per_row(course_deg), per_row(speed_kn), np.nan_to_num(per_row(set_deg, 0.0)), np.nan_to_num(drift),
+        gha, dec, ho, np.array(broadcast(utc_datetime64(utc), (n_rows,), None)), per_row(dr_lat_deg), per_row(dr_lon_deg),
+        per_row(course_deg), per_row(speed_kn), _nil_for_nan(per_row(set_deg, 0.0)), _nil_for_nan(drift),
         per_row(dr_age_hours),
         np.arange(1, n_rows + 1).astype(str) if labels is None else np.asarray(labels).astype(str),
         solve_motion, dr_error_kn, dr_error_fraction, weight,
         None if line_sigma_nm is None else per_row(line_sigma_nm))
-    group = np.array(np.broadcast_to(np.asarray(group, dtype=np.intp), (n_rows,)))
+    group = np.array(broadcast(group, (n_rows,), np.intp))
     n_groups = int(group.max()) + 1 if n_rows and group.max() >= 0 else 0
     ok = (group >= 0) & np.isfinite(gha) & np.isfinite(dec) & np.isfinite(ho) & ~np.isnat(sights.utc)
     if usable is not None:
-        ok &= np.broadcast_to(np.asarray(usable, dtype=bool), (n_rows,))
+        ok &= broadcast(usable, (n_rows,), bool)
     nothing = np.zeros(n_rows, dtype=bool)
     results, problems = fix_batch(sights, group, n_groups, ok, nothing, _fix_times(at_utc, n_groups))
     if refit:
@@ -120,6 +121,8 @@ def sight_weights(sigma_arcmin: np.ndarray, labels=None) -> np.ndarray:
     [1.0, 1.0, 0.25, 4.0]
     """
     sigma = np.asarray(sigma_arcmin, dtype=float)
+    if np.isnan(sigma).all():  # no sight given a σ of its own (the usual log)
+        return np.ones(sigma.shape)
     bad = ~np.isnan(sigma) & ~(np.isfinite(sigma) & (sigma > 0))
     if bad.any():
         names = (np.arange(1, sigma.size + 1).astype(str) if labels is None else np.asarray(labels).astype(str))
@@ -127,6 +130,11 @@ def sight_weights(sigma_arcmin: np.ndarray, labels=None) -> np.ndarray:
         raise NavredError(f"a sight's σ must be a positive number of arcminutes; not so for {shown}")
     with np.errstate(divide="ignore"):
         return np.where(np.isnan(sigma), 1.0, (A_PRIORI_SIGMA_ARCMIN / np.where(np.isnan(sigma), 1.0, sigma)) ** 2)
+
+
+def _nil_for_nan(values: np.ndarray) -> np.ndarray:
+    """``np.nan_to_num(values)``, without its cost where every value is a number already."""
+    return values if np.isfinite(values).all() else np.nan_to_num(values)
 
 
 def _cross_check_all(results: list[FixResult | None], chart_lat: np.ndarray, chart_lon: np.ndarray) -> None:

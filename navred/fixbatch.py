@@ -4,6 +4,7 @@ between its sights, the DR at its fix time, each judged a fix, a fix with its mo
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 
 import numpy as np
@@ -122,6 +123,14 @@ class _Layout:
     weight: np.ndarray  # each sight's weight (1: a sight as good as any)
     sigma: np.ndarray | None = None  # each cell's stated σ (nm; NaN: a sight), None when no row states one
 
+    @functools.cached_property
+    def at_dr(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+        """Each sight's position, the DR at the fix time carried back (or on) to it, and the body's Hc and Zn
+        there: what the kinds of the groups and the plotting sheet's lines both take, worked once."""
+        sight_lat, sight_lon = at_sights(self.track, self.lat0, self.lon0)
+        hc, zn = computed_altitude_azimuth(sight_lat, sight_lon, self.gha, self.dec)
+        return sight_lat, sight_lon, hc, zn
+
 
 def _layout(s: SightRows, group, n_groups, ok, weighted, work, fix_time_given) -> _Layout:
     """The padded layout of the groups at work, each group's run between its sights, and its DR at the fix time
@@ -129,9 +138,9 @@ def _layout(s: SightRows, group, n_groups, ok, weighted, work, fix_time_given) -
     by_group = np.argsort(np.where(group >= 0, group, n_groups), kind="stable")
     count_ok = np.bincount(group[ok & (group >= 0)], minlength=n_groups)
     ok_rows = by_group[ok[by_group] & (group[by_group] >= 0)]
-    ok_rows = ok_rows[np.isin(group[ok_rows], work)]
     w_of_group = np.full(n_groups, -1, dtype=np.intp)
     w_of_group[work] = np.arange(work.size)
+    ok_rows = ok_rows[w_of_group[group[ok_rows]] >= 0]  # the rows of the groups at work
     w = w_of_group[group[ok_rows]]
     start = np.concatenate([[0], np.cumsum(count_ok[work])[:-1]])
     column = np.arange(ok_rows.size) - start[w]
@@ -171,8 +180,7 @@ def _kinds(s: SightRows, lay: _Layout):
     LINE_ONLY_DEG), or a fix; why the motion cannot be solved where it was asked for; the widest crossing."""
     # each line's azimuth where it was observed: the DR carried back (or on) to each sight, as the solution
     # works it (at the DR of the fix time a noon Sun near the zenith hours before would have another azimuth)
-    sight_lat, sight_lon = at_sights(lay.track, lay.lat0, lay.lon0)
-    _, zn0 = computed_altitude_azimuth(sight_lat, sight_lon, lay.gha, lay.dec)
+    zn0 = lay.at_dr[3]
     spread0 = azimuth_spread_many(zn0, lay.use)
     size = lay.work.size
     motion = np.zeros(size, dtype=bool)
@@ -206,9 +214,11 @@ def _solve_kinds(s: SightRows, lay: _Layout, motion, line, spread0) -> dict:
             rows = np.flatnonzero(chosen)
             velocity0 = (np.where(lay.use[rows], lay.vn[rows], 0.0).sum(1) / lay.n_used[rows],
                          np.where(lay.use[rows], lay.ve[rows], 0.0).sum(1) / lay.n_used[rows])
+            # every group a fix of position: its first step starts from Hc and Zn at the DR, worked already
+            start = lay.at_dr[2:] if k == 2 and rows.size == lay.work.size else None
             part = solve_fix_part(k, rows, lay.gha, lay.dec, lay.ho, lay.use, lay.present, lay.track,
                                   lay.lat0, lay.lon0, velocity0, s.dr_error_kn, s.dr_error_fraction, lay.weight,
-                                  None if lay.sigma is None else lay.sigma[rows])
+                                  None if lay.sigma is None else lay.sigma[rows], start)
             demoted = part.not_fix != ""
             if demoted.any():
                 line[rows[demoted]] = True
@@ -229,8 +239,7 @@ def _plotting_lines(lay: _Layout) -> dict[str, np.ndarray]:
     """Each line of position for the plotting sheet, from the DR carried to its sight: its intercept and Zn
     from the DR at the fix time, its foot, and its bearing there (tangent to the circle of equal altitude at
     the foot: across the azimuth, toward the body's geographical position, latitude Dec, longitude −GHA)."""
-    sight_lat, sight_lon = at_sights(lay.track, lay.lat0, lay.lon0)
-    hc, zn = computed_altitude_azimuth(sight_lat, sight_lon, lay.gha, lay.dec)
+    hc, zn = lay.at_dr[2:]
     intercept = (lay.ho - hc) * ARCMIN_PER_DEG
     foot_lat, foot_lon = destination(lay.lat0[:, None], lay.lon0[:, None], zn, intercept)
     _, toward_gp = distance_bearing(foot_lat, foot_lon, lay.dec, wrap_180(-lay.gha))
@@ -272,8 +281,12 @@ def _row_columns(lay: _Layout, parts: dict, lines: dict, n_rows: int, group, n_g
                                                                    part.clear)
     sight_index = lay.index[lay.present]
     by_group = np.argsort(np.where(group >= 0, group, n_groups), kind="stable")
+    # every input row a sight of the layout, in group order already (one group's fix): no scattering
+    direct = sight_index.size == n_rows and np.array_equal(sight_index, by_group)
 
     def in_group_order(values, fill=np.nan, dtype=float):
+        if direct:
+            return np.asarray(values[lay.present], dtype=dtype)
         out = np.full(n_rows, fill, dtype=dtype)
         out[sight_index] = values[lay.present]
         return out[by_group]
@@ -338,7 +351,7 @@ def _run_velocities(s: SightRows, index: np.ndarray, present: np.ndarray, hours:
     speed, the run between its rows' own DRs), and how each group's run was found."""
     course, speed = s.course[index], s.speed[index]
     given = (np.isfinite(course) | np.isfinite(speed)) & present
-    vn, ve = velocity_kn(np.nan_to_num(course), np.nan_to_num(speed))
+    vn, ve = velocity_kn(_nil_for_nan(course), _nil_for_nan(speed))
     cn, ce = velocity_kn(s.set_deg[index], s.drift_kn[index])
     vn, ve = vn + cn, ve + ce
     moving = given.any(axis=1)
@@ -346,16 +359,26 @@ def _run_velocities(s: SightRows, index: np.ndarray, present: np.ndarray, hours:
     apart = np.zeros(len(index), dtype=bool)
     if not moving.all():
         lat, lon = s.dr_lat[index], s.dr_lon[index]
-        miles, _ = distance_bearing(lat[:, :1], lon[:, :1], lat, lon)
-        with np.errstate(invalid="ignore"):
-            apart = (np.where(present, miles, 0.0) > CONVERGED_NM).any(axis=1) & ~moving
+        one_dr = ~present | ((lat == lat[:, :1]) & (lon == lon[:, :1]))  # one DR written on every sight: nil apart
+        if not one_dr.all():
+            miles, _ = distance_bearing(lat[:, :1], lon[:, :1], lat, lon)
+            with np.errstate(invalid="ignore"):
+                apart = (np.where(present, miles, 0.0) > CONVERGED_NM).any(axis=1) & ~moving
         if apart.any():
             rows = np.flatnonzero(apart)
             vn[rows], ve[rows] = _dr_run(lat[rows], lon[rows], hours[rows], present[rows])
-    run_from = np.where(apart, RunFrom.OWN_DRS,
-                        np.where(moving, np.where(with_current, RunFrom.COURSE_SPEED_AND_CURRENT, RunFrom.COURSE_AND_SPEED),
-                                 np.where(with_current, RunFrom.CURRENT, RunFrom.NONE)))
-    return vn, ve, [RunFrom(word) for word in run_from.tolist()]
+    run_from = [RunFrom.OWN_DRS if a else (RunFrom.COURSE_SPEED_AND_CURRENT if c else RunFrom.COURSE_AND_SPEED) if m
+                else RunFrom.CURRENT if c else RunFrom.NONE
+                for a, m, c in zip(apart.tolist(), moving.tolist(), with_current.tolist())]
+    return vn, ve, run_from
+
+
+_LARGEST = float(np.finfo(float).max)
+
+
+def _nil_for_nan(values: np.ndarray) -> np.ndarray:
+    """``np.nan_to_num(values)`` (NaN 0, an infinity the largest float of its sign), in a few calls."""
+    return np.where(np.isnan(values), 0.0, np.minimum(np.maximum(values, -_LARGEST), _LARGEST))
 
 
 def _dr_run(lat: np.ndarray, lon: np.ndarray, hours: np.ndarray, present: np.ndarray):

@@ -111,7 +111,7 @@ def not_a_fix(spread_deg: np.ndarray, converged: np.ndarray, major_nm: np.ndarra
 
 
 def solve_fix_part(k, rows, gha, dec, ho, use, present, track, lat0, lon0, velocity0, dr_error_kn, dr_error_fraction,
-                   weight=None, sigma=None):
+                   weight=None, sigma=None, start=None):
     """Fix the groups ``rows`` with k unknowns (2: position; 4: position, course and speed made
     good) in one solve; returns a function giving group j's FixResult (per-sight arrays padded).
 
@@ -134,6 +134,9 @@ def solve_fix_part(k, rows, gha, dec, ho, use, present, track, lat0, lon0, veloc
     A_PRIORI_SIGMA_ARCMIN, and its ellipse is the covariance of those stated σ (and the run's error) at the
     chi-square(2) quantile; the lines' agreement with their σ is tested (chi-square, 99 %). A group with no
     stated σ is worked as above, unchanged.
+
+    ``start``: the groups' Hc and Zn at their DRs when worked already (the layout's ``at_dr``), for the first step of
+    the solution (the same numbers).
     """
     motion = k == 4
     u = use[rows]
@@ -149,7 +152,7 @@ def solve_fix_part(k, rows, gha, dec, ho, use, present, track, lat0, lon0, veloc
     core = solve_fixes(gha[rows], dec[rows], ho[rows], lat0[rows], lon0[rows], dt_hours=sight_hours(sub_track),
                        velocity_north_kn=sub_track.north_kn[..., :-1], velocity_east_kn=sub_track.east_kn[..., :-1],
                        weights=w, mask=u, report=present[rows], solve_motion=motion, velocity0_kn=velocity0,
-                       mark_singular=True, track=sub_track)
+                       mark_singular=True, track=sub_track, start=start)
     st = _fix_statistics(core, u, sub_track, k, dr_error_kn, dr_error_fraction, np.sqrt(w))
     st["weighted"] = np.any(u & (w != 1.0), axis=1)
     if stated is not None:
@@ -221,14 +224,15 @@ def _fix_statistics(core: CoreFixes, u: np.ndarray, sub_track, k: int, dr_error_
         run_cov = run_error_covariance(np.where(u, core.zn_deg, 0.0), sight_hours(sub_track),
                                        run_to_fix_nm(sub_track), dr_error_kn, dr_error_fraction)
         run_cov = run_cov * (u * root_w)[:, :, None] * (u * root_w)[:, None, :]
-    gain = unit @ np.swapaxes(jac, 1, 2)  # x = gain @ residual: the least-squares estimator
-    projector = np.eye(width)[None] * u[:, :, None] - jac @ gain  # M = I − H on the used sights
+    gain = unit @ jac.transpose(0, 2, 1)  # x = gain @ residual: the least-squares estimator
+    gain_t = gain.transpose(0, 2, 1)
+    identity = np.eye(width)[None] * u[:, :, None]  # I on the used sights
+    projector = identity - jac @ gain  # M = I − H on the used sights
     variance = sight_variance(residual, projector, run_cov, dof)
     sigma2, information = variance.working, variance.information
     sigma = np.where(dof >= 1, np.sqrt(sigma2), A_PRIORI_SIGMA_ARCMIN)
-    identity = np.eye(width)[None] * u[:, :, None]
-    known = gain @ run_cov @ np.swapaxes(gain, 1, 2)
-    covariance = sigma[:, None, None] ** 2 * (gain @ identity @ np.swapaxes(gain, 1, 2)) + known
+    known = gain @ run_cov @ gain_t
+    covariance = sigma[:, None, None] ** 2 * (gain @ identity @ gain_t) + known
     nu = effective_dof(dof, sigma2, np.trace(unit[:, :2, :2], axis1=1, axis2=2),
                        np.trace(known[:, :2, :2], axis1=1, axis2=2), information)
     nu = np.where(dof >= 1, nu, np.inf)

@@ -38,6 +38,13 @@ CONVERGED_NM = 0.01
 MAX_ITERATIONS = 25
 
 
+def broadcast(values: ArrayLike, shape: tuple[int, ...], dtype=float) -> np.ndarray:
+    """``np.broadcast_to(np.asarray(values, dtype), shape)`` (read only), without its cost when the values have that
+    shape already (a small fix's arrays mostly do)."""
+    values = np.asarray(values, dtype=dtype)
+    return values if values.shape == shape else np.broadcast_to(values, shape)
+
+
 def step_on_sphere(lat_deg: ArrayLike, lon_deg: ArrayLike, north_nm: ArrayLike, east_nm: ArrayLike
                    ) -> tuple[np.ndarray, np.ndarray]:
     """Position moved along the great circle of a displacement (nautical miles north and east), exact at any
@@ -59,17 +66,22 @@ def step_on_sphere(lat_deg: ArrayLike, lon_deg: ArrayLike, north_nm: ArrayLike, 
     north = np.asarray(north_nm, dtype=float)
     east = np.asarray(east_nm, dtype=float)
     sin_phi, cos_phi, sin_lam, cos_lam = np.sin(phi), np.cos(phi), np.sin(lam), np.cos(lam)
-    p = np.stack(np.broadcast_arrays(cos_phi * cos_lam, cos_phi * sin_lam, sin_phi), axis=-1)
-    n_axis = np.stack(np.broadcast_arrays(-sin_phi * cos_lam, -sin_phi * sin_lam, cos_phi), axis=-1)
-    e_axis = np.stack(np.broadcast_arrays(-sin_lam, cos_lam, np.zeros_like(lam)), axis=-1)
     size = np.hypot(north, east)
     d = np.radians(size / ARCMIN_PER_DEG)
+    cos_d, sin_d = np.cos(d), np.sin(d)
+    moving = size > 0
+    # p, the north axis N, the east axis E and the unit direction u = (north N + east E)/size, component by
+    # component (x, y, z), and q = p cos d + u sin d
+    minus_sin_phi = -sin_phi
     with np.errstate(invalid="ignore", divide="ignore"):
-        u = (north[..., None] * n_axis + east[..., None] * e_axis) / size[..., None]
-    u = np.where((size > 0)[..., None], u, 0.0)
-    q = p * np.cos(d)[..., None] + u * np.sin(d)[..., None]
-    lat = np.degrees(np.arctan2(q[..., 2], np.hypot(q[..., 0], q[..., 1])))
-    lon = np.where(size > 0, np.degrees(np.arctan2(q[..., 1], q[..., 0])), np.asarray(lon_deg, dtype=float))
+        ux = np.where(moving, (north * (minus_sin_phi * cos_lam) + east * -sin_lam) / size, 0.0)
+        uy = np.where(moving, (north * (minus_sin_phi * sin_lam) + east * cos_lam) / size, 0.0)
+        uz = np.where(moving, (north * cos_phi + east * 0.0) / size, 0.0)
+    qx = cos_phi * cos_lam * cos_d + ux * sin_d
+    qy = cos_phi * sin_lam * cos_d + uy * sin_d
+    qz = sin_phi * cos_d + uz * sin_d
+    lat = np.degrees(np.arctan2(qz, np.hypot(qx, qy)))
+    lon = np.where(moving, np.degrees(np.arctan2(qy, qx)), np.asarray(lon_deg, dtype=float))
     return lat, wrap_180(lon)
 
 
@@ -80,8 +92,7 @@ def sight_track(dt_hours: ArrayLike, north_kn: ArrayLike, east_kn: ArrayLike) ->
     sails the rhumb line of the velocity in force after the earlier one (before the first sight, the first
     sight's)."""
     dt = np.asarray(dt_hours, dtype=float)
-    north, east = np.broadcast_to(np.asarray(north_kn, dtype=float), dt.shape), \
-        np.broadcast_to(np.asarray(east_kn, dtype=float), dt.shape)
+    north, east = broadcast(north_kn, dt.shape), broadcast(east_kn, dt.shape)
     return sight_track_ns(np.rint(dt * NS_PER_HOUR).astype(np.int64), north, east)
 
 
@@ -107,7 +118,7 @@ def at_sights(track: DRTrack, lat_deg: ArrayLike, lon_deg: ArrayLike) -> tuple[n
 
 def run_to_fix_nm(track: DRTrack) -> np.ndarray:
     """Miles run between each sight of a :func:`sight_track` and the fix time (fixes, sights)."""
-    return track.run_nm(_fix_knot(track))[..., :-1]
+    return track.run_to_last_nm[..., :-1]
 
 
 def sight_hours(track: DRTrack) -> np.ndarray:
@@ -138,7 +149,8 @@ def solve_fixes(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, lat0_
                 *, dt_hours: ArrayLike = 0.0, velocity_north_kn: ArrayLike = 0.0, velocity_east_kn: ArrayLike = 0.0,
                 weights: ArrayLike = 1.0, mask: ArrayLike | None = None, solve_motion: bool = False,
                 velocity0_kn: ArrayLike = (0.0, 0.0), mark_singular: bool = False,
-                track: DRTrack | None = None, report: ArrayLike | None = None) -> CoreFixes:
+                track: DRTrack | None = None, report: ArrayLike | None = None,
+                start: tuple[np.ndarray, np.ndarray] | None = None) -> CoreFixes:
     """Solve many independent fixes at once by Gauss-Newton on the sphere.
 
     Arrays of shape (fixes, sights): ``gha_deg``, ``dec_deg``, ``ho_deg`` of each sight,
@@ -157,9 +169,13 @@ def solve_fixes(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike, lat0_
     Each step is taken on the sphere in three dimensions: the position moves along the great circle
     of the step's direction in the local frame of the meridian it stands on (north and east; at a pole
     the frame of its meridian still holds), so a fix is exact up to the pole, from a DR on any side.
+
+    ``start``: Hc and Zn (fixes, sights) at the starting positions along ``track``, when the caller has worked
+    them already (the first step takes them rather than working the triangle again; the same numbers).
     """
     batch = _read_batch(gha_deg, dec_deg, ho_deg, lat0_deg, lon0_deg, dt_hours, velocity_north_kn, velocity_east_kn,
                         weights, mask, solve_motion, velocity0_kn, track, report)
+    batch.start = None if solve_motion else start
     converged, singular, iterations_each, iterations = _iterate(batch, mark_singular)
     hc, zn, jac = batch.linearised()
     residual = np.where(batch.shown, (batch.ho - hc) * ARCMIN_PER_DEG, np.nan)
@@ -191,6 +207,8 @@ class _Batch:
     lon: np.ndarray
     vn: np.ndarray
     ve: np.ndarray
+    #: Hc and Zn at the starting positions, for the first step only (then None)
+    start: tuple[np.ndarray, np.ndarray] | None = None
 
     @property
     def k(self) -> int:
@@ -206,11 +224,19 @@ class _Batch:
                                 np.broadcast_to(self.ve[pick, None], dt.shape))
         else:
             track = self.track if rows is None else self.track.take(rows)  # legs worked out once
-        sight_lat, sight_lon = at_sights(track, self.lat[pick], self.lon[pick])
-        hc, zn = computed_altitude_azimuth(sight_lat, sight_lon, self.gha[pick], self.dec[pick])
+        if rows is None and self.start is not None:  # at the start, worked by the caller
+            (hc, zn), self.start = self.start, None
+        else:
+            sight_lat, sight_lon = at_sights(track, self.lat[pick], self.lon[pick])
+            hc, zn = computed_altitude_azimuth(sight_lat, sight_lon, self.gha[pick], self.dec[pick])
         z = np.radians(zn)
-        columns = [np.cos(z), np.sin(z)] + ([np.cos(z) * dt, np.sin(z) * dt] if self.solve_motion else [])
-        return hc, zn, np.stack(columns, axis=-1) * self.use[pick][..., None]  # (F, S, k)
+        cos_z, sin_z = np.cos(z), np.sin(z)
+        columns = [cos_z, sin_z] + ([cos_z * dt, sin_z * dt] if self.solve_motion else [])
+        jac = np.empty(z.shape + (len(columns),))  # (F, S, k), the unused sights' rows nil
+        use = self.use[pick]
+        for j, column in enumerate(columns):
+            np.multiply(column, use, out=jac[..., j])
+        return hc, zn, jac
 
 
 def _read_batch(gha_deg, dec_deg, ho_deg, lat0_deg, lon0_deg, dt_hours, velocity_north_kn, velocity_east_kn,
@@ -218,31 +244,31 @@ def _read_batch(gha_deg, dec_deg, ho_deg, lat0_deg, lon0_deg, dt_hours, velocity
     """:func:`solve_fixes`'s inputs broadcast to (fixes, sights) and checked."""
     gha = np.atleast_2d(np.asarray(gha_deg, dtype=float))
     shape = gha.shape
-    dec = np.broadcast_to(np.asarray(dec_deg, dtype=float), shape)
-    ho = np.broadcast_to(np.asarray(ho_deg, dtype=float), shape)
-    use = np.ones(shape, dtype=bool) if mask is None else np.broadcast_to(np.asarray(mask, dtype=bool), shape)
+    dec = broadcast(dec_deg, shape)
+    ho = broadcast(ho_deg, shape)
+    use = np.ones(shape, dtype=bool) if mask is None else broadcast(mask, shape, bool)
     finite = np.isfinite(gha) & np.isfinite(dec) & np.isfinite(ho)
     use = use & finite
-    shown = use if report is None else np.broadcast_to(np.asarray(report, dtype=bool), shape) & finite
+    shown = use if report is None else broadcast(report, shape, bool) & finite
     n_used = use.sum(axis=1)
     if np.any(n_used < 2):
         raise NavredError(f"a fix needs two or more usable sights; too few in {failed_elements(n_used < 2)}")
     # a sight left out takes the time and velocity of its fix's earliest sight: it then adds only a
     # leg of no length to the track, wherever the fix time lies
-    dt_all = np.broadcast_to(np.asarray(dt_hours, dtype=float), shape)
+    dt_all = broadcast(dt_hours, shape)
     earliest = (np.arange(shape[0]), np.argmin(np.where(use, dt_all, np.inf), axis=1))
 
     def as_earliest(values):
-        values = np.broadcast_to(np.asarray(values, dtype=float), shape)
+        values = broadcast(values, shape)
         return np.where(use, values, values[earliest][:, None])
 
     dt, given_n, given_e = (as_earliest(v) for v in (dt_hours, velocity_north_kn, velocity_east_kn))
 
     def per_fix(values):
-        return np.array(np.broadcast_to(np.asarray(values, dtype=float), shape[:1]), dtype=float)
+        return np.array(broadcast(values, shape[:1]), dtype=float)
 
     return _Batch(np.where(finite, gha, 0.0), np.where(finite, dec, 0.0), np.where(finite, ho, 0.0), use, shown,
-                  np.where(use, np.broadcast_to(np.asarray(weights, dtype=float), shape), 0.0), dt,
+                  np.where(use, broadcast(weights, shape), 0.0), dt,
                   sight_track(dt, given_n, given_e) if track is None else track, solve_motion,
                   per_fix(lat0_deg), per_fix(lon0_deg), per_fix(velocity0_kn[0]), per_fix(velocity0_kn[1]))
 
@@ -260,27 +286,33 @@ def _iterate(batch: _Batch, mark_singular: bool):
     iterations = 0
     for _ in range(MAX_ITERATIONS):
         iterations += 1
-        hc, _, jac = batch.linearised(active)
-        weight = batch.w[active]
-        residual_nm = (batch.ho[active] - hc) * ARCMIN_PER_DEG
+        # while every fix is still moving (a fix alone, until it settles), its arrays are taken whole
+        every = active.size == fixes
+        pick = slice(None) if every else active
+        hc, _, jac = batch.linearised(None if every else active)
+        weight = batch.w[pick]
+        residual_nm = (batch.ho[pick] - hc) * ARCMIN_PER_DEG
         normal = np.einsum("fs,fsi,fsj->fij", weight, jac, jac)
         rhs = np.einsum("fs,fsi,fs->fi", weight, jac, residual_nm)
         determinant = np.linalg.det(normal)
         parallel = ~(np.abs(determinant) > 1e-12 * np.max(np.abs(normal), axis=(1, 2)) ** batch.k)
-        singular[active[parallel]] = True
-        if parallel.any() and not mark_singular:
-            raise NavredError(
-                f"the lines of position are parallel (all azimuths alike or opposite): no fix "
-                f"in {failed_elements(singular)}")
-        # a fix that has settled (or is singular) takes no further step
-        step = np.linalg.solve(np.where(parallel[:, None, None], identity, normal), rhs[..., None])[..., 0]
-        step = np.where(parallel[:, None], 0.0, step)
+        any_parallel = bool(parallel.any())
+        if any_parallel:
+            singular[active[parallel]] = True
+            if not mark_singular:
+                raise NavredError(
+                    f"the lines of position are parallel (all azimuths alike or opposite): no fix "
+                    f"in {failed_elements(singular)}")
+            # a fix that has settled (or is singular) takes no further step
+            step = np.linalg.solve(np.where(parallel[:, None, None], identity, normal), rhs[..., None])[..., 0]
+            step = np.where(parallel[:, None], 0.0, step)
+        else:
+            step = np.linalg.solve(normal, rhs[..., None])[..., 0]
         size = np.hypot(step[:, 0], step[:, 1])
-        batch.lat[active], batch.lon[active] = step_on_sphere(batch.lat[active], batch.lon[active], step[:, 0],
-                                                              step[:, 1])
+        batch.lat[pick], batch.lon[pick] = step_on_sphere(batch.lat[pick], batch.lon[pick], step[:, 0], step[:, 1])
         if batch.solve_motion:
-            batch.vn[active], batch.ve[active] = batch.vn[active] + step[:, 2], batch.ve[active] + step[:, 3]
-        iterations_each[active] += ~parallel
+            batch.vn[pick], batch.ve[pick] = batch.vn[pick] + step[:, 2], batch.ve[pick] + step[:, 3]
+        iterations_each[pick] += ~parallel
         settled = ~parallel & (size < CONVERGED_NM)
         converged[active[settled]] = True
         active = active[~settled & ~parallel]
@@ -288,5 +320,5 @@ def _iterate(batch: _Batch, mark_singular: bool):
             break
     return converged, singular, iterations_each, iterations
 
-__all__ = ["CONVERGED_NM", "MAX_ITERATIONS", "step_on_sphere", "sight_track", "sight_track_ns", "at_sights",
+__all__ = ["CONVERGED_NM", "MAX_ITERATIONS", "broadcast", "step_on_sphere", "sight_track", "sight_track_ns", "at_sights",
            "run_to_fix_nm", "sight_hours", "CoreFixes", "solve_fixes"]

@@ -177,11 +177,11 @@ class DRTrack:
         """The legs between consecutive knots in time order (worked out once): the order of the knots, the
         northing, course and length of each leg."""
         order = np.argsort(self.knot_ns, axis=-1, kind="stable")
-        times = np.take_along_axis(self.knot_ns, order, axis=-1)
+        times = _along(self.knot_ns, order)
         given = np.isfinite(self.north_kn) & np.isfinite(self.east_kn)
-        valid = np.take_along_axis(given, order, axis=-1)
-        north = _fill_forward(np.take_along_axis(np.where(given, self.north_kn, 0.0), order, axis=-1), valid)
-        east = _fill_forward(np.take_along_axis(np.where(given, self.east_kn, 0.0), order, axis=-1), valid)
+        valid = _along(given, order)
+        north = _fill_forward(_along(np.where(given, self.north_kn, 0.0), order), valid)
+        east = _fill_forward(_along(np.where(given, self.east_kn, 0.0), order), valid)
         hours = np.diff(times, axis=-1) / NS_PER_HOUR
         leg_north, leg_east = north[..., :-1] * hours, east[..., :-1] * hours
         return order, leg_north, np.degrees(np.arctan2(leg_east, leg_north)), np.hypot(leg_north, leg_east)
@@ -195,22 +195,37 @@ class DRTrack:
         """The position at every knot (..., K), in the knots' own order, when the ship is at (lat, lon) (...,) at
         knot ``at`` (...,): the track of rhumb lines on the WGS 84 ellipsoid sailed on and back from there."""
         order, north, course, distance = self._legs
-        at_time = np.take_along_axis(self._back, np.asarray(at, dtype=np.intp)[..., None], axis=-1)[..., 0]
-        lat = np.broadcast_to(np.asarray(lat_deg, dtype=float), at_time.shape)
-        lon = np.broadcast_to(np.asarray(lon_deg, dtype=float), at_time.shape)
+        at = np.asarray(at, dtype=np.intp)
+        lat, lon = np.asarray(lat_deg, dtype=float), np.asarray(lon_deg, dtype=float)
+        if lat.shape != at.shape or lon.shape != at.shape:
+            lat, lon = np.broadcast_to(lat, at.shape), np.broadcast_to(lon, at.shape)
         if not distance.any():  # no run (knots at one instant, or no velocity): every knot is where the ship is
-            shape = self.knot_ns.shape
-            return np.array(np.broadcast_to(lat[..., None], shape)), np.array(np.broadcast_to(lon[..., None], shape))
+            lat_all, lon_all = np.empty(self.knot_ns.shape), np.empty(self.knot_ns.shape)
+            lat_all[...], lon_all[...] = lat[..., None], lon[..., None]
+            return lat_all, lon_all
+        if at.ndim == 1:  # a batch of tracks (rows, knots): plain indexing, the same elements
+            rows = np.arange(at.size)
+            lat_all, lon_all = rhumb_track_through(lat, lon, self._back[rows, at], north, course, distance)
+            return lat_all[rows[:, None], self._back], lon_all[rows[:, None], self._back]
+        at_time = np.take_along_axis(self._back, at[..., None], axis=-1)[..., 0]
         lat_all, lon_all = rhumb_track_through(lat, lon, at_time, north, course, distance)
         return np.take_along_axis(lat_all, self._back, axis=-1), np.take_along_axis(lon_all, self._back, axis=-1)
 
     def run_nm(self, at: ArrayLike) -> np.ndarray:
         """Miles run along the track between each knot and knot ``at`` (..., K), in the knots' own order."""
         _, _, _, distance = self._legs
-        at_time = np.take_along_axis(self._back, np.asarray(at, dtype=np.intp)[..., None], axis=-1)
+        at_time = _along(self._back, np.asarray(at, dtype=np.intp)[..., None])
         run = np.concatenate([np.zeros(distance.shape[:-1] + (1,)), np.cumsum(distance, axis=-1)], axis=-1)
-        from_at = np.abs(run - np.take_along_axis(run, at_time, axis=-1))
-        return np.take_along_axis(from_at, self._back, axis=-1)
+        from_at = np.abs(run - _along(run, at_time))
+        return _along(from_at, self._back)
+
+    @functools.cached_property
+    def run_to_last_nm(self) -> np.ndarray:
+        """Miles run between each knot and the last (..., K): a batch of sight tracks' run to each fix (worked once;
+        read only)."""
+        run = self.run_nm(np.full(self.knot_ns.shape[:-1], self.knot_ns.shape[-1] - 1))
+        run.flags.writeable = False
+        return run
 
     def velocity_at(self, utc_ns: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
         """The velocity over the ground (north, east knots) in force at the instants: the last knot's at or before
@@ -252,21 +267,33 @@ class DRTrack:
         if rows.size == self.knot_ns.shape[0] and np.array_equal(rows, np.arange(rows.size)):
             return self
         part = DRTrack(self.knot_ns[rows], self.north_kn[rows], self.east_kn[rows])
-        for name in ("_legs", "_back"):
+        for name in ("_legs", "_back", "run_to_last_nm"):
             if name in self.__dict__:
                 value = self.__dict__[name]
                 part.__dict__[name] = tuple(v[rows] for v in value) if isinstance(value, tuple) else value[rows]
         return part
 
 
+def _along(values: np.ndarray, index: np.ndarray) -> np.ndarray:
+    """``np.take_along_axis(values, index, axis=-1)``, by plain indexing for a batch (rows, knots) or one track (the
+    same elements, without its cost on a small fix's arrays)."""
+    if values.ndim == 2 and index.ndim == 2:
+        return values[np.arange(values.shape[0])[:, None], index]
+    if values.ndim == 1 and index.ndim == 1:
+        return values[index]
+    return np.take_along_axis(values, index, axis=-1)
+
+
 def _fill_forward(values: np.ndarray, valid: np.ndarray) -> np.ndarray:
     """Along the last axis, each invalid element takes the last valid one before it (or, if none, the first after)."""
     n = values.shape[-1]
+    if n >= 2 and valid[..., :-1].all() and not valid[..., -1].any():  # a sight track's: only its last knot open
+        return np.concatenate([values[..., :-1], values[..., -2:-1]], axis=-1)
     index = np.where(valid, np.arange(n), -1)
     before = np.maximum.accumulate(index, axis=-1)
     after = np.flip(np.minimum.accumulate(np.flip(np.where(valid, np.arange(n), n), axis=-1), axis=-1), axis=-1)
     chosen = np.where(before >= 0, before, np.minimum(after, n - 1))
-    return np.take_along_axis(values, chosen, axis=-1)
+    return _along(values, chosen)
 
 
 def steady_track(lat_deg: float, lon_deg: float, start: object, course_deg: float = 0.0,

@@ -124,20 +124,21 @@ def sense_checks(results: list[FixResult], run_from: list[RunFrom], span_min: np
     dof = np.array([r.redundant for r in results])
     sigma = np.array([r.sigma_arcmin for r in results])
     limit = np.full(dof.size, np.inf)
-    if (dof >= 1).any():
-        limit[dof >= 1] = SEXTANT_SIGMA_LIMIT_ARCMIN * np.sqrt(chi_square_quantile(SCATTER_CONFIDENCE, dof[dof >= 1])
-                                                               / dof[dof >= 1])
+    judged, checked = dof >= 1, dof >= 2
+    if judged.any():
+        limit[judged] = SEXTANT_SIGMA_LIMIT_ARCMIN * np.sqrt(chi_square_quantile(SCATTER_CONFIDENCE, dof[judged])
+                                                             / dof[judged])
     wild = is_fix & (sigma > limit)
     floor = np.zeros(dof.size)
-    if (dof >= 2).any():
-        floor[dof >= 2] = SEXTANT_SIGMA_BEST_ARCMIN * np.sqrt(
-            chi_square_quantile(1.0 - SCATTER_CONFIDENCE, dof[dof >= 2]) / dof[dof >= 2])
-    too_close = is_fix & (dof >= 2) & (sigma < floor)
+    if checked.any():
+        floor[checked] = SEXTANT_SIGMA_BEST_ARCMIN * np.sqrt(
+            chi_square_quantile(1.0 - SCATTER_CONFIDENCE, dof[checked]) / dof[checked])
+    too_close = is_fix & checked & (sigma < floor)
     far = distance > allowed
     dr_alone = DR_ALONE_SCALE * dr_sigma
     major = np.where(is_fix, size, 0.0)
     larger = is_fix & age_known & (dr_alone > 0) & (major > dr_alone)
-    stopped = (np.array(run_from, dtype=object) == RunFrom.NONE) & (span_min > STOPPED_SPAN_MIN)
+    stopped = np.array([r == RunFrom.NONE for r in run_from], dtype=bool) & (span_min > STOPPED_SPAN_MIN)
     for j, result in enumerate(results):
         result.dr_distance_nm = float(distance[j])
         result.dr_age_h, result.dr_age_known = float(age_h[j]), bool(age_known[j])

@@ -28,6 +28,8 @@ _MAX_TERMS = 400
 #: distinct ones, again and again
 _CACHE: dict[tuple, float] = {}
 _CACHE_LIMIT = 20_000
+#: up to this many (p, dof) pairs are looked up one by one (a sort to find the distinct ones costs more)
+_LOOKED_UP = 64
 
 
 def _log_beta(a: np.ndarray, b: np.ndarray) -> np.ndarray:
@@ -136,7 +138,16 @@ def normal_cdf(z: ArrayLike) -> np.ndarray:
 
 def _cached(kind: str, p: np.ndarray, dof: np.ndarray, solve) -> np.ndarray:
     """Each distinct (p, dof) solved once (and kept), in one vectorised call for those not known yet."""
-    p, dof = np.broadcast_arrays(np.asarray(p, dtype=float), np.asarray(dof, dtype=float))
+    p, dof = np.asarray(p, dtype=float), np.asarray(dof, dtype=float)
+    if p.size <= _LOOKED_UP and dof.size <= _LOOKED_UP and (p.ndim == 0 or dof.ndim == 0 or p.shape == dof.shape):
+        # a few pairs (one fix's): each looked up, when all are known already
+        shape = dof.shape if p.ndim == 0 else p.shape
+        ps = [float(p)] * dof.size if p.ndim == 0 else p.ravel().tolist()
+        dofs = [float(dof)] * p.size if dof.ndim == 0 else dof.ravel().tolist()
+        known = [_CACHE.get((kind, a, b)) for a, b in zip(ps, dofs)]
+        if None not in known:
+            return np.array(known, dtype=float).reshape(shape)
+    p, dof = np.broadcast_arrays(p, dof)
     shape = p.shape
     pairs = np.stack([p.ravel(), dof.ravel()], axis=1)
     distinct, inverse = np.unique(pairs, axis=0, return_inverse=True)

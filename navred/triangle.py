@@ -11,6 +11,8 @@ every quadrant). Every function takes scalars or numpy arrays and broadcasts.
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 from numpy.typing import ArrayLike
 
@@ -46,10 +48,11 @@ def computed_altitude_azimuth(lat_deg: ArrayLike, lon_deg: ArrayLike, gha_deg: A
         raise AngleInputError(f"declination must lie in -90 to 90°; refused: {failed_elements(np.abs(dec) > 90)}")
     lon = np.asarray(lon_deg, dtype=float)
     gha = np.asarray(gha_deg, dtype=float)
-    shape = np.broadcast_shapes(lat.shape, lon.shape, gha.shape, dec.shape)
-    size = int(np.prod(shape))
-    if size <= TRIANGLE_BLOCK:
-        hc, zn = _triangle(*(np.broadcast_to(v, shape).ravel() for v in (lat, lon, gha, dec)))
+    same = lat.shape == lon.shape == gha.shape == dec.shape
+    shape = lat.shape if same else np.broadcast_shapes(lat.shape, lon.shape, gha.shape, dec.shape)
+    size = math.prod(shape)
+    if size <= TRIANGLE_BLOCK:  # (arrays of one shape need no broadcasting: a small call's cost was most of it)
+        hc, zn = _triangle(*(v.ravel() if same else np.broadcast_to(v, shape).ravel() for v in (lat, lon, gha, dec)))
         hc, zn = (hc.reshape(shape), zn.reshape(shape)) if shape else (hc[0], zn[0])
     else:
         # in blocks that stay in the processor's cache: each array is passed over once a block; a long

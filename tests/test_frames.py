@@ -76,6 +76,36 @@ def test_every_group_fixed_at_once_is_what_it_is_alone():
             same(fixes[name], fix_position(table, group=name), name)
 
 
+@pytest.mark.parametrize("per_group", range(2, 13))
+def test_one_groups_quick_root_gives_the_fix_the_arrays_give(per_group, monkeypatch):
+    # issue 26: one group's σ over a run (the restricted likelihood's root) is worked in plain floats; the fix must
+    # be, field by field, the fix whose root goes through the arrays as a batch's does (the reference: numpy's own
+    # arithmetic, navred.fixstats.likelihood_root's array path). Per size of group (2 to 12 sights), seeded, with
+    # and without a course and speed, with a current, sights with no noise at all, 6′ blunders and gross errors
+    import navred.fixstats
+
+    table = groups_table(groups=12, per_group=per_group, seed=100 + per_group)
+    rng = np.random.default_rng(per_group)
+    n = len(table)
+    table["ho_deg"] = table["ho_deg"] + np.where(rng.random(n) < 0.05, 1.0, 0.0)  # a gross error in some
+    exact = table["fix_group"].isin(["g3", "g4"]).to_numpy()
+    table.loc[exact, "ho_deg"] = table.loc[exact, "ho_deg"].round(12)
+    plain = table.assign(course_deg=np.nan, speed_kn=np.nan)
+    plain["dr_lat_deg"] += np.where(table["fix_group"].isin(["g5", "g6"]), np.arange(n) * 0.01, 0.0)  # own DRs
+    current = table.assign(current_set_deg=135.0, current_drift_kn=np.where(rng.random(n) < 0.5, 1.5, 0.0))
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", navred.NavredWarning)
+        for frame in (table, plain, current):
+            every = fix_positions(frame)
+            names = [name for name in every if name not in every.problems]  # (parallel lines, one sight: none)
+            quick = [fix_position(frame, group=name) for name in names]
+            with monkeypatch.context() as patch:
+                patch.setattr(navred.fixstats, "_PLAIN_WIDTH", 0)  # every root through the arrays
+                arrays = [fix_position(frame, group=name) for name in names]
+            for name, a, b in zip(names, quick, arrays):
+                same(a, b, f"{per_group} sights, {name}")
+
+
 def test_a_fix_time_and_a_chart_position_per_group_and_the_groups_chosen():
     table = groups_table(groups=6)
     when = {"g3": "2025-06-01T23:00Z"}

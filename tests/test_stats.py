@@ -116,6 +116,36 @@ def test_the_likelihood_root_is_the_halvings_and_scipys():
                     assert found[k] == pytest.approx(reference_root, rel=1e-9, abs=1e-12)
 
 
+def test_one_rows_likelihood_root_in_plain_floats_is_the_arrays_to_the_bit():
+    # issue 26: one fix's root is worked in plain Python floats (navred.fixstats._likelihood_root_one); a row of a
+    # batch goes through the arrays. Both must give the very same number (batched and single fixes are identical
+    # field by field), per case: each number of components, each scale of the residuals and of the run's
+    # variances, and rows with no residual, NaN, infinite or subnormal z², a negative λ, nothing inside. The
+    # reference is numpy's own arithmetic (the same steps on arrays; its pairwise sums are mirrored)
+    import warnings
+
+    from navred.fixstats import likelihood_root
+
+    rng = np.random.default_rng(2026)
+    for components in (1, 2, 3, 5, 8, 9, 10, 12, 16, 17, 40):
+        for run_scale in (0.0, 1e-12, 0.1, 30.0, 1e4, 1e200):
+            for residual_scale in (1.0, 1e-25, 1e-300, 1e160):
+                rows = 24
+                lam = run_scale * rng.exponential(1.0, (rows, components)) * (rng.random((rows, components)) < 0.8)
+                z2 = (rng.uniform(0.05, 4.0, (rows, 1)) * residual_scale + lam) * rng.chisquare(1, (rows, components))
+                z2[:2] = 0.0
+                z2[2, 0], z2[3, -1], lam[4, 0], z2[5], lam[6] = np.nan, np.inf, -0.5, 5e-324, 0.0
+                inside = rng.random((rows, components)) < 0.9
+                inside[:, 0] = True
+                inside[7] = False
+                with warnings.catch_warnings():
+                    warnings.simplefilter("error")  # no floating-point warning on either way
+                    together = likelihood_root(z2, lam, inside)
+                    alone = np.array([likelihood_root(z2[k:k + 1], lam[k:k + 1], inside[k:k + 1])[0]
+                                      for k in range(rows)])
+                assert np.array_equal(together, alone, equal_nan=True), (components, run_scale, residual_scale)
+
+
 def test_the_blunder_tests_median_is_numpys_nanmedian():
     # issue 26: the smallest blunder a fix finds is each group's median over its sights; navred takes it without
     # numpy's masked-array path and must give numpy.nanmedian's value (the general-purpose reference) to the bit,

@@ -12,6 +12,7 @@ import openpyxl
 import pandas as pd
 import pytest
 
+from navred.angles import format_angle
 from navred.io.exports import GPX_NAMESPACE
 from navred.io.output import atomic_write
 from navred.io.workbook import SAFETY
@@ -465,3 +466,44 @@ def test_the_days_work_sheet_says_why_each_blank_is_blank(tmp_path):
     first = blocks[0][0]
     assert first["run (nm)"] == "the first noon of the log: no noon before it to run from"
     assert isinstance(blocks[0][1]["run (nm)"], float)
+
+
+def test_the_sight_plan_sheet_presets_the_same_hs_as_navred_plan(tmp_path):
+    """The sheet's "Hs to preset" is the reading to set on the sextant, not Hc: the same numbers ``navred plan``
+    prints for the same instant, DR, height of eye and index error (one function, navred.presets.sight_presets),
+    and a few minutes above Hc for a star at twilight (dip and refraction taken back off; common practice)."""
+    from navred.jobs.bridge import bridge_plan
+
+    voyage = process_log("sample_sights/demo_sights.csv")
+    book = openpyxl.load_workbook(write_workbook(voyage, tmp_path / "v.xlsx", plots=False))
+    values = list(book["Sight plan"].values)
+    end = next((k for k in range(3, len(values)) if all(v is None for v in values[k])), len(values))
+    sheet = pd.DataFrame(values[4:end], columns=values[3]).set_index("body")
+    assert "Hc to preset (° ′)" not in sheet.columns and "Hs to preset (° ′)" in sheet.columns
+    plan = voyage.next_plan
+    sextant = next(iter(voyage.plan_presets.values()))
+    assert (sextant.eye_height_m, sextant.index_error_arcmin) == (2.8, 1.4)  # the demo's last sight
+    assert "2.8 m" in values[0][1] and "1.4′ on the arc" in values[0][1]
+    when = np.datetime64(plan.utc, "m")
+    assert np.datetime64(plan.utc, "ns") == np.datetime64(when, "ns")  # to the whole minute, as navred plan plans
+    # navred plan at that instant from a DR standing at the plan's position (speed 0)
+    bridge = bridge_plan(str(when)[:10], 1, plan.lat_deg, plan.lon_deg, eye_height_m=2.8, index_error_arcmin=1.4,
+                         at=str(when) + "Z")
+    printed = bridge.rounds[0].presets
+    assert (printed.lat_deg, printed.lon_deg) == pytest.approx((plan.lat_deg, plan.lon_deg), abs=1e-9)
+    assert set(printed.body) == set(sheet.index)
+    for body, hs, hc in zip(printed.body, printed.hs_deg, printed.hc_deg):
+        assert sheet.loc[body, "Hs to preset (deg)"] == pytest.approx(hs, abs=1e-9)
+        assert sheet.loc[body, "Hs to preset (° ′)"] == format_angle(hs, "signed")
+        assert 2.0 < (hs - hc) * 60 < 9.0  # dip 2.9′ + refraction 0.8′-3.4′ + IE 1.4′ above Hc
+
+
+
+def test_the_sight_plan_sheet_gives_no_sea_preset_for_another_horizon():
+    """A plan run on from a sight not taken from the sea horizon: a sea-horizon preset would mislead, so the cell
+    says why it has no number (common practice: a blank says why)."""
+    from navred.jobs.voyagetables import plan_table
+
+    plan = process_log("sample_sights/demo_sights.csv").next_plan
+    table = plan_table(plan, None)
+    assert set(table["Hs to preset (° ′)"]) == {"no sea horizon"} and table["Hs to preset (deg)"].isna().all()

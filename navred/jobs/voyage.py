@@ -29,6 +29,7 @@ from ..errors import NavredError, api_boundary
 from ..fix import FixResult, fixes_from_sights
 from ..io.logbook import REJECTED_COLUMNS, LogSource, SightLog, read_sight_log
 from ..io.timesignals import Ratings
+from ..presets import SightPresets
 from ..reckoning import PAST_POLE
 from ..sightplan import SightPlan
 from ..status import SightStatus
@@ -52,6 +53,18 @@ class GroupFix:
     chart: tuple[float, float] | None = None
     #: where the chart position came from ('row 7'), and any note about it
     chart_note: str = ""
+
+
+@dataclass(frozen=True)
+class PlanSextant:
+    """What a workbook's sight plan presets the sextant by: the height of eye, index error and horizon of the last
+    sight of the fix the plan runs on from, and the presets worked with them (None when that horizon is not the
+    sea's: no sea-horizon preset holds for it)."""
+
+    eye_height_m: float
+    index_error_arcmin: float
+    horizon: str
+    presets: SightPresets | None
 
 
 @dataclass(frozen=True)
@@ -86,6 +99,10 @@ class VoyageResult:
     #: each vessel the log names, with the plan of its own next twilight after its own latest fix (next_plan is
     #: the plan of the vessel with the latest fix of all); empty when the log names no vessel
     vessel_plans: tuple[tuple[str, SightPlan], ...] = ()
+    #: the Hs to preset of each plan's bodies (navred.presets.sight_presets, the function ``navred plan`` uses) with
+    #: the height of eye and index error of the last sight of the fix it runs on from (PlanSextant), by vessel ("" for
+    #: next_plan)
+    plan_presets: dict = field(default_factory=dict)
 
     def days_work(self):
         """The day's work of the voyage (navred.jobs.dayswork): set and drift, estimated positions, noons, the DR
@@ -233,10 +250,12 @@ def process_log(source: LogSource | SightLog, *, dates: str | None = None, solve
                             + ("; the set and drift found at each fix carried on" if carry_current else ""))
     if rates is not None:
         provenance["timepieces"] = "; ".join(p.summary() for p in rates.timepieces.values())
-    events, next_plan = _next_twilight_plan(groups, reduced) if plan else (None, None)
-    vessel_plans = _vessel_plans(groups, reduced, next_plan) if plan else ()
+    events, next_plan, next_presets = _next_twilight_plan(groups, reduced) if plan else (None, None, None)
+    vessel_plans, presets = _vessel_plans(groups, reduced, next_plan, next_presets) if plan else ((), {})
+    presets = {"": next_presets, **presets} if next_plan is not None else {}
     return VoyageResult(", ".join(log.sources), log, reduced, rejected, tuple(groups), provenance, next_plan, events,
-                        carry_current, rates, context, navigators, route, vessel_plans=vessel_plans)
+                        carry_current, rates, context, navigators, route, vessel_plans=vessel_plans,
+                        plan_presets=presets)
 
 
 def _restart_dr_at_fixes(log: SightLog, reduced: pd.DataFrame, groups: list[GroupFix], progress, carry_current,
@@ -446,18 +465,18 @@ def _next_twilight_plan(groups: list[GroupFix], reduced: pd.DataFrame):
     sight's course and speed."""
     fixes = [g for g in groups if g.fix is not None]
     if not fixes:
-        return None, None
+        return None, None, None
     return _plan_after(max(fixes, key=lambda g: g.fix.utc), reduced)
 
 
-def _vessel_plans(groups: list[GroupFix], reduced: pd.DataFrame,
-                  next_plan: SightPlan | None) -> tuple[tuple[str, SightPlan], ...]:
+def _vessel_plans(groups: list[GroupFix], reduced: pd.DataFrame, next_plan: SightPlan | None,
+                  next_presets) -> tuple[tuple[tuple[str, SightPlan], ...], dict]:
     """Each named vessel's own plan of its next twilight, after its own latest fix (vessels in the order the log
     first names them; none when the log names no vessel). ``next_plan``: the plan after the latest fix of all
-    (:func:`_next_twilight_plan`), not worked twice."""
+    (:func:`_next_twilight_plan`), not worked twice. With each vessel's presets, by name."""
     fixes = [g for g in groups if g.fix is not None]
     if "vessel" not in reduced.columns or not fixes:
-        return ()
+        return (), {}
     overall = max(fixes, key=lambda g: g.fix.utc)
     vessel = reduced["vessel"].to_numpy(dtype=object)
     latest: dict[str, GroupFix] = {}
@@ -466,21 +485,25 @@ def _vessel_plans(groups: list[GroupFix], reduced: pd.DataFrame,
         if g.fix is not None and name and (name not in latest or g.fix.utc > latest[name].fix.utc):
             latest[name] = g
     order = list(dict.fromkeys(str(v) for v in vessel if v))
-    plans = []
+    plans, presets = [], {}
     for name in order:
         if name in latest:
-            plan = next_plan if latest[name] is overall else _plan_after(latest[name], reduced)[1]
+            plan, preset = ((next_plan, next_presets) if latest[name] is overall else
+                            _plan_after(latest[name], reduced)[1:])
             if plan is not None:
                 plans.append((name, plan))
-    return tuple(plans)
+                presets[name] = preset
+    return tuple(plans), presets
 
 
 def _plan_after(latest: GroupFix, reduced: pd.DataFrame):
     """The twilights from ``latest``'s fix on, and the plan of the next one that begins after it, carried on from
     the fix by its last sight's course and speed."""
     from ..plan import voyage_events
+    from ..presets import sight_presets
     from ..reckoning import steady_track
     from ..sightplan import sight_plans
+    from .bridge import to_minute
 
     last_row = reduced.iloc[latest.rows[-1]]
     course = float(np.nan_to_num(last_row.get("course_deg", 0.0)))
@@ -497,7 +520,17 @@ def _plan_after(latest: GroupFix, reduced: pd.DataFrame):
             if not (np.isnat(a) or np.isnat(b)) and a > when:
                 candidates.append(a + (b - a) // 2)
     if not candidates:
-        return events, None
-    at = min(candidates)
+        return events, None, None
+    # to the whole minute, as ``navred plan`` gives it: a watch works to the minute
+    at = to_minute(min(candidates))
     lat, lon = track.position(np.array([at]))
-    return events, sight_plans(np.array([at]), lat, lon)[0]
+    plan = sight_plans(np.array([at]), lat, lon)[0]
+    # the sextant of the last sight: its height of eye and index error set the Hs to preset
+    horizon = str(last_row.get("horizon", "sea") or "sea")
+    eye = float(np.nan_to_num(last_row.get("eye_height_m", 0.0)))
+    ie = float(np.nan_to_num(last_row.get("index_error_arcmin", 0.0)))
+    presets = None
+    if horizon == "sea" and plan.body.size:
+        presets = sight_presets(plan.body, plan.utc, plan.lat_deg, plan.lon_deg, eye_height_m=eye,
+                                index_error_arcmin=ie)
+    return events, plan, PlanSextant(eye, ie, horizon, presets)

@@ -68,7 +68,9 @@ SHEETS = (
                  "fix and sight against the reference, and a picture per observer"),
     ("Series", "each series of sights of one body by one observer: the offset from the predicted altitude "
                "curve, the scatter, the flagged sights and the best sight to carry into the fix, with a plot"),
-    ("Sight plan", "the next twilight after the last fix: bodies to shoot with Hc to preset and Zn, the "
+    ("Sight plan", "the next twilight after the last fix: bodies to shoot with the Hs to preset (Hc with dip, "
+                   "refraction, SD, parallax and the index error of the last sight taken back off, as navred plan "
+                   "prints it), the limb, Hc and Zn, the "
                    "recommended set and why, and a picture of the sky"),
     ("Timepieces", "present when a rating log of time signals was given: each timepiece's error and daily "
                    "rate by least squares with the rate's 95 % interval, a flag when the rate has changed, every "
@@ -332,6 +334,20 @@ def _write_series_sheet(tables: TableWriter, sheet, voyage, table: pd.DataFrame,
         add_figure(sheet, series_figure(voyage.reduced, name), f"{'A' if k % 2 == 0 else 'G'}{row + (k // 2) * 14}", 400, 256)
 
 
+def _preset_words(sextant) -> str:
+    """How the plan's Hs to preset was worked: the height of eye and index error it takes back off."""
+    if sextant is None:
+        return "no Hs to preset"
+    if sextant.presets is None:
+        return (f"no Hs to preset: the last sight was taken from a {sextant.horizon} horizon, and a preset for the "
+                "sea horizon would mislead (set the sextant by Hc)")
+    ie = sextant.index_error_arcmin
+    side = "on the arc" if ie > 0 else "off the arc" if ie < 0 else ""
+    return (f"the Hs to preset is Hc with refraction, SD, parallax, dip for a height of eye of "
+            f"{sextant.eye_height_m:g} m and an index error of {abs(ie):.1f}′{' ' + side if side else ''} (the last "
+            "sight's) taken back off, as navred plan works it")
+
+
 def _write_plan_sheet(tables: TableWriter, sheet, voyage, pictures: Pictures) -> None:
     """The next twilight's plan: of the one vessel (named when the log names it), or of each vessel the log
     names, one after another (a vessel column), each from its own latest fix."""
@@ -339,18 +355,20 @@ def _write_plan_sheet(tables: TableWriter, sheet, voyage, pictures: Pictures) ->
 
     plans = list(voyage.vessel_plans) or [("", voyage.next_plan)]
     several = len(plans) > 1
-    table = pd.concat([plan_table(plan).assign(vessel=name)[["vessel", *plan_table(plan).columns]]
-                       if several else plan_table(plan) for name, plan in plans], ignore_index=True)
+    sextants = [voyage.plan_presets.get(name) for name, _ in plans]
+    tables_of = [plan_table(plan, s.presets if s is not None else None) for (_, plan), s in zip(plans, sextants)]
+    table = pd.concat([t.assign(vessel=name)[["vessel", *t.columns]] if several else t
+                       for (name, _), t in zip(plans, tables_of)], ignore_index=True)
     # when and where first: a plan is read for its time and place before its bodies
     line = 1
-    for name, plan in plans:
+    for (name, plan), sextant in zip(plans, sextants):
         whose = f"{name}: " if name else ""
         sheet.cell(row=line, column=1, value="When and where").font = Font(bold=True)
         write_text_safe(sheet.cell(row=line, column=2), (
-            f"{whose}{str(plan.utc)[:19].replace('T', ' ')} UTC, DR {format_angle(plan.lat_deg, 'lat')} "
-            f"{format_angle(plan.lon_deg, 'lon')} (midway between civil and nautical twilight), carried on from "
-            f"the position {'its' if name else 'the'} latest sights gave by {'its' if name else 'the'} last course "
-            "and speed"))
+            f"{whose}{str(plan.utc)[:16].replace('T', ' ')} UTC, DR {format_angle(plan.lat_deg, 'lat')} "
+            f"{format_angle(plan.lon_deg, 'lon')} (midway between civil and nautical twilight, to the minute), "
+            f"carried on from the position {'its' if name else 'the'} latest sights gave by "
+            f"{'its' if name else 'the'} last course and speed; {_preset_words(sextant)}"))
         sheet.cell(row=line + 1, column=1, value="How the set was chosen").font = Font(bold=True)
         write_text_safe(sheet.cell(row=line + 1, column=2), f"{whose}{plan.explanation}")
         line += 2

@@ -458,16 +458,29 @@ def series_table(voyage) -> pd.DataFrame:
 
 
 
-def plan_table(plan) -> pd.DataFrame:
-    """A sight plan as a table: one row per body, in order of bearing."""
-    order = np.argsort(plan.zn_deg)
+def plan_table(plan, presets=None) -> pd.DataFrame:
+    """A sight plan as a table: one row per body, in order of bearing, with the Hs to preset of ``presets``
+    (:func:`navred.presets.sight_presets` for the plan's bodies, instant and DR: the numbers ``navred plan``
+    prints); None where the sextant's horizon was not the sea's (the cell says so)."""
+    order = np.argsort(plan.zn_deg, kind="stable")
+    if presets is None:
+        hs, words, limb = np.full(order.size, np.nan), np.full(order.size, "no sea horizon", dtype=object), \
+            np.full(order.size, "", dtype=object)
+    else:
+        hs = np.asarray(presets.hs_deg, dtype=float)[order]
+        words = np.array([format_angle(v, "signed") if np.isfinite(v) else "below the horizon" for v in hs],
+                         dtype=object)
+        limb = np.array([{"lower": "lower", "upper": "upper"}.get(str(v), "") for v in presets.limb[order]],
+                        dtype=object)
     return pd.DataFrame({
         "body": plan.body[order],
-        "Hc to preset (° ′)": [format_angle(v, "signed") for v in plan.hc_deg[order]],
+        "Hs to preset (° ′)": words,
+        "Hs to preset (deg)": hs,
+        "limb": np.where(limb == "", "centre (a star or planet)", limb),
+        "Hc (° ′)": [format_angle(v, "signed") for v in plan.hc_deg[order]],
         "Hc (deg)": plan.hc_deg[order],
         "Zn (deg true)": plan.zn_deg[order],
         "magnitude": np.round(plan.magnitude[order], 1),  # as a star list prints it
         "from the Moon (deg)": np.round(plan.moon_separation_deg[order], 0),
         "recommended": np.where(plan.recommended[order], "yes", "no"),
     })
-

@@ -210,8 +210,8 @@ def _write_timepieces_sheet(tables: TableWriter, sheet, voyage) -> None:
 
 #: Why a cell of the Day's work is blank, by block (noons, set and drift, estimated positions) and column: a blank
 #: cell always says why (the first noon has no run; a drift within its uncertainty leaves the set undetermined).
-_FIRST_NOON = "the first noon of the log: no noon before it to run from"
-_NOT_FOUND = "not determined (the note says why)"
+_FIRST_NOON = "first noon: no run"
+_NOT_FOUND = "not found: see note"
 DAYS_BLANK = (
     {"noon position": "no position at noon (see noon from)", "run (nm)": _FIRST_NOON,
      "course made good (deg)": _FIRST_NOON, "speed made good (kn)": _FIRST_NOON,
@@ -219,10 +219,10 @@ DAYS_BLANK = (
     {"set (deg)": _NOT_FOUND, "set ±95 % (deg)": _NOT_FOUND, "drift (kn)": _NOT_FOUND, "drift ±95 % (kn)": _NOT_FOUND,
      "note": "none"},
     {"note": "none"},
-    {"ex-meridian limit (min)": "none for this method (on the meridian, or Polaris)", "fix group": "none",
+    {"ex-meridian limit (min)": "none: meridian or Polaris", "fix group": "none",
      "role": "not given"},
     {},
-    {column: "not in this entry" for column in ("course (deg)", "speed (kn)", "set (deg)", "drift (kn)",
+    {column: "not entered" for column in ("course (deg)", "speed (kn)", "set (deg)", "drift (kn)",
                                                 "course: the working", "speed: the working", "clocks")},
 )
 

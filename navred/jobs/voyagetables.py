@@ -238,6 +238,9 @@ def hand_working_table(voyage) -> pd.DataFrame:
     def angle(values, kind="angle"):
         return format_angle(np.asarray(values, dtype=float), kind)
 
+    # a cell the body's working has no line for says so in two words: the almanac prints no v for the Sun or a
+    # star, no SHA but a star's, no d or HP for a star (common practice)
+    none_for = np.array([_NONE_FOR[k] for k in w.kind.tolist()], dtype=object)
     return pd.DataFrame({
         **_row_columns(voyage, r),
         "fix group": r["fix_group"].astype(str),
@@ -245,16 +248,16 @@ def hand_working_table(voyage) -> pd.DataFrame:
         "UTC": utc_second_cells(r),
         "GHA at the whole hour (Aries for a star) (° ′)": angle(w.gha_hour_deg),
         "GHA increment (° ′)": angle(w.increment_arcmin / 60.0, "signed"),
-        "v (′)": np.where(np.isfinite(w.v_arcmin), w.v_arcmin.astype(object), "Sun or star"),
+        "v (′)": np.where(np.isfinite(w.v_arcmin), w.v_arcmin.astype(object), none_for),
         "v correction (′)": np.where(np.isfinite(w.v_correction_arcmin), w.v_correction_arcmin.astype(object),
-                                     "Sun or star"),
-        "SHA (° ′)": np.where(star, angle(w.sha_deg), "not a star"),
+                                     none_for),
+        "SHA (° ′)": np.where(star, angle(w.sha_deg), none_for),
         "GHA (° ′)": angle(w.gha_deg),
-        "Dec at the whole hour (° ′)": np.where(star, "a star", angle(w.dec_hour_deg, "dec")),
-        "d (′, Dec growing north +)": np.where(star, "a star", w.d_arcmin.astype(object)),
-        "d correction (′)": np.where(star, "a star", w.d_correction_arcmin.astype(object)),
+        "Dec at the whole hour (° ′)": np.where(star, none_for, angle(w.dec_hour_deg, "dec")),
+        "d (′, Dec growing north +)": np.where(star, none_for, w.d_arcmin.astype(object)),
+        "d correction (′)": np.where(star, none_for, w.d_correction_arcmin.astype(object)),
         "Dec (° ′)": angle(w.dec_deg, "dec"),
-        "HP (′)": np.where(star, "a star", w.hp_arcmin.astype(object)),
+        "HP (′)": np.where(star, none_for, w.hp_arcmin.astype(object)),
         "Hs (° ′)": angle(r.hs_deg, "signed"),
         "IC (′)": r.ic_arcmin.to_numpy(dtype=float),
         "dip (′)": r.dip_arcmin.to_numpy(dtype=float) + r.horizon_arcmin.to_numpy(dtype=float),
@@ -275,6 +278,10 @@ def hand_working_table(voyage) -> pd.DataFrame:
         "intercept (nm)": np.abs(w.intercept_nm),
         "TOWARD/AWAY": np.where(w.intercept_nm >= 0, "TOWARD", "AWAY"),
     })
+
+
+#: A Working by hand cell with no line for the body's kind: the reason in two words.
+_NONE_FOR = {"sun": "none: Sun", "moon": "none: Moon", "planet": "none: planet", "star": "none: star"}
 
 
 #: Why a cell of the Fixes sheet is blank, by column: a cell is never left blank without a word.

@@ -312,11 +312,16 @@ def test_the_demo_log_gives_a_noon_from_its_forenoon_sun_and_meridian_altitude()
 
 
 def test_a_noon_from_a_dr_with_a_logged_current_is_named_so_everywhere(tmp_path):
-    """Trial finding: a noon from a DR with an entered current was called plain "DR". A log of entry rows alone
-    (invented: a departure, a current entered): each noon is the "DR with current" (the trade's estimated
-    position by course, speed and current) on the console, in days --csv and on the Noon report sheet; the same
-    log without its current row gives plain "DR". Reference: the position by scripts/make_passage.py's own
-    sailing (RK4 on WGS 84) with the same course, speed and current, within 0.1 nm (geographiclib)."""
+    """Trial findings: a noon from a DR with an entered current was called plain "DR", then "DR with current"; the
+    trade calls it an EP (estimated position: DR with a current; common practice), and its noon report's current
+    line said "none observed" though the noon carried a current. A log of entry rows alone (invented: a departure,
+    a current entered): each noon is "EP (DR with the logged current 135° 1.5 kn, row 3) from the departure" on
+    the console, in days --csv, on the Noon report sheet and in the GPX; the current line says none was observed
+    and which current the noon used; the same log without its current row gives plain "DR". Reference: the
+    position by scripts/make_passage.py's own sailing (RK4 on WGS 84) with the same course, speed and current,
+    within 0.1 nm (geographiclib)."""
+    import xml.etree.ElementTree as ET
+
     from openpyxl import load_workbook
 
     start = pd.Timestamp("2026-04-14T06:00:00Z")
@@ -326,27 +331,75 @@ def test_a_noon_from_a_dr_with_a_logged_current_is_named_so_everywhere(tmp_path)
             {"utc": _iso(start + pd.Timedelta(hours=31)), "entry": "course", "course": 250, "speed": 8}]
     log = tmp_path / "current.csv"
     pd.DataFrame(rows).to_csv(log, index=False)
+    name = "EP (DR with the logged current 135° 1.5 kn, row 3) from the departure at row 2"
     noons = process_log(log, plan=False).days_work().noons
-    assert len(noons) == 2 and noons.noon_from.str.startswith("DR with current from the departure").all()
+    assert len(noons) == 2 and (noons.noon_from == name).all()
     track = passage.sail(start, 38.0, -14.0, [(start, 250.0, 8.0)], lambda t_h: (135.0, 1.5),
                          pd.Timestamp(noons.noon_utc.iloc[-1] + "Z") + pd.Timedelta(minutes=1))
     for noon in noons.itertuples():
         lat, lon = passage.position_at(track, pd.Timestamp(noon.noon_utc + "Z"))
         assert _off_nm(lat, lon, noon.lat_deg, noon.lon_deg) < 0.1
+    # the day's current: none observed, and the one the noon used named with where it came from
+    note = noons.current_note.iloc[1]
+    assert note.startswith("none observed") and note.endswith("this noon's EP used the logged current 135° 1.5 kn, "
+                                                              "row 3")
     runner = CliRunner()
     console = runner.invoke(app, ["days", str(log)])
-    assert console.exit_code == 0 and console.stdout.count("by DR with current from the departure") == 2
-    assert "found by          DR with current from the departure" in console.stdout
+    assert console.exit_code == 0 and console.stdout.count(f"by {name}") == 2
+    assert f"found by          {name}" in console.stdout
+    assert "current           none observed" in console.stdout and "used the logged current 135° 1.5 kn" in \
+        console.stdout
+    assert "DR with current" not in console.stdout
     table = pd.read_csv(__import__("io").StringIO(runner.invoke(app, ["days", str(log), "--csv"]).stdout))
-    assert table.noon_from.str.startswith("DR with current from the departure").all()
-    assert runner.invoke(app, ["workbook", str(log), "-o", str(tmp_path / "c.xlsx")]).exit_code == 0
+    assert (table.noon_from == name).all()
+    assert runner.invoke(app, ["workbook", str(log), "-o", str(tmp_path / "c.xlsx"), "-o",
+                               str(tmp_path / "c.gpx")]).exit_code == 0
     sheet = load_workbook(tmp_path / "c.xlsx")["Noon report"]
     cells = [str(c.value) for row in sheet.iter_rows() for c in row if c.value is not None]
-    assert sum(c.startswith("DR with current from the departure") for c in cells) == 2
+    assert sum(c == name for c in cells) == 2
+    gpx = [e.text or "" for e in ET.parse(tmp_path / "c.gpx").iter() if e.tag.endswith("desc") or
+           e.tag.endswith("cmt") or e.tag.endswith("name")]
+    assert sum(name in t for t in gpx) == 2, gpx
     # the same log with no current: plain DR
     pd.DataFrame([rows[0], rows[2]]).to_csv(tmp_path / "plain.csv", index=False)
     plain = process_log(tmp_path / "plain.csv", plan=False).days_work().noons
     assert plain.noon_from.str.startswith("DR from the departure").all()
+
+
+def test_a_noon_on_a_current_carried_from_a_fix_names_that_fix(ts, eph, tmp_path):
+    """Trial finding: with --carry-current the noon was named as with the logged current though its DR carried
+    the one its last fix found. A log (invented) enters 270° 0.8 kn; the ship is sailed (scripts/make_passage.py,
+    RK4 on WGS 84) in 300° 1.0 kn; a round of four stars from the true position (skyfield) fixes her. The next
+    noon is an EP carried from that fix with the fix's own set and drift, named so with where it came from; the
+    current line says which current the noon used; without --carry-current the same noon names the logged one
+    (common practice: an EP names its current)."""
+    start = pd.Timestamp("2026-12-03T18:00:00Z")
+    plan = [(start, 240.0, 7.0)]
+    track = passage.sail(start, 21.3, -157.0 - 52.0 / 60.0, plan, lambda t_h: (300.0, 1.0),
+                         start + pd.Timedelta(hours=60))
+    rows = [{"utc": _iso(start), "entry": "departure", "dr_lat": "21 18.0 N", "dr_lon": "157 52.0 W", "course": 240,
+             "speed": 7},
+            {"utc": _iso(start), "entry": "clocks", "clocks": "+10"},
+            {"utc": _iso(start), "entry": "current", "set": 270, "drift": 0.8}]
+    when = pd.Timestamp("2026-12-04T16:40:00Z")
+    lat, lon = passage.position_at(track, when)
+    for s_ in passage.star_round(ts, eph, when, lat, lon):
+        rows.append({"utc": _iso(when), "body": s_["body"], "hs": s_["hs"], "eye_height_m": 3.0,
+                     "fix_group": "4 morning"})
+    rows.append({"utc": "2026-12-05T23:00:00Z", "entry": "course", "course": 240, "speed": 7})
+    log = tmp_path / "carried.csv"
+    pd.DataFrame(rows).to_csv(log, index=False)
+    days = process_log(log, plan=False, carry_current=True).days_work()
+    found = days.set_drift[days.set_drift.fix_group == "4 morning"].iloc[0]
+    assert found.drift_kn == found.drift_kn  # determined over the 22.7 h from the departure
+    current = f"the current {found.set_deg:03.0f}° {found.drift_kn:.1f} kn carried from the fix 4 morning"
+    noon = days.noons[days.noons.noon_utc == "2026-12-05 22:00:00"].iloc[0]
+    assert noon.noon_from.startswith(f"EP (DR with {current}) from the fix 4 morning"), noon.noon_from
+    assert noon.current_note.endswith(f"this noon's EP used {current}")
+    # without carrying it, the same noon is the EP on the logged current
+    logged = process_log(log, plan=False).days_work().noons
+    noon = logged[logged.noon_utc == "2026-12-05 22:00:00"].iloc[0]
+    assert noon.noon_from.startswith("EP (DR with the logged current 270° 0.8 kn, row 4) from the fix 4 morning")
 
 
 def test_the_days_current_at_noon_is_given_by_the_rule_of_the_set_and_drift_at_each_fix():

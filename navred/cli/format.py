@@ -617,13 +617,15 @@ def training_lines(run, track: str) -> list[str]:
 
 
 def _noon_lines(days, vessel) -> list[str]:
+    from ..jobs.noons import is_reckoned
+
     noons = days.noons[days.noons.vessel == vessel]
     if not len(noons):
         return []
     lines = [f"\n{vessel or 'the ship'}: noon positions and the day's run"]
     for r in noons.to_dict("records"):
         lines.append(f"  {r['date']} noon ({r['zone']}, {r['noon_utc'][11:16]} UTC) {r['noon_position'] or 'no position'}"
-                     f"  {'by' if str(r['noon_from']).startswith('DR ') else 'from'} {r['noon_from']}")
+                     f"  {'by' if is_reckoned(r['noon_from']) else 'from'} {r['noon_from']}")
         if r["run_nm"] == r["run_nm"]:
             current = (f"; current {r['current_set_deg']:05.1f}° {r['current_drift_kn']:.1f} "
                        f"±{r['current_95_kn']:.1f} kn" if r["current_drift_kn"] == r["current_drift_kn"] else

@@ -235,7 +235,7 @@ def _from_estimated(track: DRTrack, noon: int, estimated: list[dict], ships: Shi
     return float(np.mean(lat)), float(wrap_180(np.atleast_1d(lon)[0] + east)), text, False, sigma
 
 
-def _from_dr(track: DRTrack, noon: int):
+def _from_dr(track: DRTrack, noon: int, currents: tuple = ()):
     lat, lon, origin = track.positions(np.array([noon]))
     if origin[0] < 0:
         return np.nan, np.nan, "", False, np.nan
@@ -245,13 +245,63 @@ def _from_dr(track: DRTrack, noon: int):
         return np.nan, np.nan, f"none: {PAST_POLE.split(':')[0]} from the {label}", False, np.nan
     cov = track.known_cov_nm2[index] if track.known_cov_nm2 is not None else np.zeros((2, 2))
     sigma = float(np.sqrt(np.trace(cov) / 2.0 + _dr_sigma_nm(track, int(track.known_ns[index]), noon) ** 2))
-    what = DR_WITH_CURRENT if _carries_current(track, int(track.known_ns[index]), noon) else "DR"
-    return float(lat[0]), float(lon[0]), f"{what} from the {label}", False, sigma
+    if _carries_current(track, int(track.known_ns[index]), noon):
+        return (float(lat[0]), float(lon[0]), f"{EP_PREFIX}DR with {current_used(track, noon, currents)}) from the "
+                f"{label}", False, sigma)
+    return float(lat[0]), float(lon[0]), f"DR from the {label}", False, sigma
 
 
-#: A noon from a DR that carries a current (entered in the log, or each fix's carried): the trade's estimated
-#: position by course, speed and current, named so wherever the noon is shown, never plain "DR".
-DR_WITH_CURRENT = "DR with current"
+#: A noon from a DR that carries a current (entered in the log, or each fix's carried) is the trade's estimated
+#: position (EP) by course, speed and current, named so wherever the noon is shown, never plain "DR", with the
+#: current it used and where that came from: "EP (DR with the logged current 270° 0.8 kn, row 4) from the departure
+#: at row 2".
+EP_PREFIX = "EP ("
+
+
+def is_reckoned(noon_from: str) -> bool:
+    """Whether a noon's "from" names a position by reckoning alone (a DR or an EP by DR and current), not one the
+    ship's sights gave."""
+    return str(noon_from).startswith(("DR ", EP_PREFIX))
+
+
+def current_sources(voyage, vessel: str, track: DRTrack, entries) -> tuple[tuple[int, str, str], ...]:
+    """Where the DR's current comes from, in time order: (instant ns, 'logged', 'row N') for each current the log
+    enters, and with ``carry_current`` (instant ns, 'carried', 'the fix NAME') for each fix whose set and drift
+    are determined (:func:`navred.jobs.shiptrack.set_drift_rows`, the ones the DR carries)."""
+    from .shiptrack import set_drift_rows
+
+    out = []
+    if len(entries):
+        logged = entries[entries["entry"] == "current"]
+        out += [(int(t), "logged", f"row {r}") for t, r in zip(utc64(logged["utc"]).astype(np.int64).tolist(),
+                                                                 logged["row"].tolist())]
+    if getattr(voyage, "carry_current", False):
+        for row in set_drift_rows(vessel, track):
+            if np.isfinite(row.get("drift_kn", np.nan)) and np.isfinite(row.get("set_deg", np.nan)):
+                out.append((int(pd.Timestamp(row["fix_utc"]).value), "carried", f"the fix {row['fix_group']}"))
+    return tuple(sorted(out))
+
+
+def current_used(track: DRTrack, noon: int, currents: tuple = ()) -> str:
+    """The current the DR carries into ``noon`` in words, with where it came from (the latest of ``currents``,
+    :func:`current_sources`, at or before noon): 'the logged current 270° 0.8 kn, row 4', 'the current 297° 0.9
+    kn carried from the fix 4 morning'. The current is the DR's velocity over the ground less its velocity through
+    the water over the minute before noon."""
+    water = track.through_water
+    if water is None:
+        return ""
+    t = np.array([noon - NS_PER_MINUTE // 2], dtype=np.int64)
+    ground_n, ground_e = (float(np.atleast_1d(v)[0]) for v in track.velocity_at(t))
+    water_n, water_e = (float(np.atleast_1d(v)[0]) for v in water.velocity_at(t))
+    north, east = ground_n - water_n, ground_e - water_e
+    drift = float(np.hypot(north, east))
+    set_ = float(np.degrees(np.arctan2(east, north)) % 360.0)
+    value = f"{set_:03.0f}° {drift:.1f} kn"
+    before = [c for c in currents if c[0] <= noon]
+    if not before:
+        return f"the current {value}"
+    _, kind, where = before[-1]
+    return f"the logged current {value}, {where}" if kind == "logged" else f"the current {value} carried from {where}"
 
 
 def _carries_current(track: DRTrack, start: int, end: int) -> bool:
@@ -271,7 +321,7 @@ def _carries_current(track: DRTrack, start: int, end: int) -> bool:
 
 
 def noon_position(track: DRTrack, noon: int, estimated: list[dict], lines: list[dict], ships: ShipsSights,
-                  vessel: str) -> tuple[float, float, str, bool, float]:
+                  vessel: str, currents: tuple = ()) -> tuple[float, float, str, bool, float]:
     """(lat, lon, how it was found, observed, its error: 1 σ each way, nm) of the noon position (the module's order
     of preference). The error: a fix's own, or a mile a line (:data:`LINE_SIGMA_NM`), with the DR's error over the
     run to noon (0.3 kn an hour and 2 % of the miles, the model of navred's fixes)."""
@@ -279,7 +329,7 @@ def noon_position(track: DRTrack, noon: int, estimated: list[dict], lines: list[
                   _from_estimated(track, noon, estimated, ships, vessel)):
         if found is not None:
             return found
-    return _from_dr(track, noon)
+    return _from_dr(track, noon, currents)
 
 
 def _waypoints(voyage, vessel: str) -> list[tuple[float, float, str]]:
@@ -372,7 +422,8 @@ def noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict], lines:
                     "ship's clocks)")
         notes.append(f"{label}: Noon positions: none: {span}, and no noon by her clocks falls within it")
         return [], notes, (clocks, how)
-    found = [noon_position(track, int(t), estimated, lines, ships, vessel) for t in noon.tolist()]
+    currents = current_sources(voyage, vessel, track, entries)
+    found = [noon_position(track, int(t), estimated, lines, ships, vessel, currents) for t in noon.tolist()]
     lat = np.array([f[0] for f in found], dtype=float)
     lon = np.array([f[1] for f in found], dtype=float)
     run = days_run(noon, lat, lon)
@@ -397,6 +448,11 @@ def noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict], lines:
                "fixes_that_day": count, "lat_deg": float(lat[k]), "lon_deg": float(lon[k])}
         if k:
             row.update(_days_run_columns(run, through, water_n, water_e, k, found))
+            used = current_used(track, int(noon[k]), currents) if found[k][2].startswith(EP_PREFIX) else ""
+            if used and used not in row["current_note"]:
+                # the current line says which current the noon used, beside any the noons observed
+                row["current_note"] = (f"{row['current_note']}; " if row["current_note"] else "") + \
+                    f"this noon's EP used {used}"
         row.update(_to_go_columns(row, waypoints, track, int(noon[k]), clocks))
         rows.append(row)
     return rows, notes, (clocks, how)
@@ -450,9 +506,13 @@ def _days_run_columns(run, through, water_n, water_e, k: int, found) -> dict:
            "hours": hours}
     if not (np.isfinite(found[k - 1][0]) and np.isfinite(found[k][0]) and hours > 0):
         return out
-    if found[k - 1][2].startswith("DR") and found[k - 1][2] == found[k][2]:
-        out["current_note"] = (f"none observed: both noons are the {found[k][2]} (its current is what the log "
-                               "enters or carries)")
+    if is_reckoned(found[k - 1][2]) and found[k - 1][2] == found[k][2]:
+        if found[k][2].startswith(EP_PREFIX):
+            out["current_note"] = (f"none observed: both noons are reckoned from the {found[k][2].split(') from the ')[-1]}"
+                                   ", so the noons show no current of their own")
+        else:
+            out["current_note"] = (f"none observed: both noons are the {found[k][2]} (its current is what the log "
+                                   "enters or carries)")
         return out
     # the DR at this noon through the water from the last noon position: the fix's rule against it
     water = float(np.hypot(water_n[k - 1], water_e[k - 1]))

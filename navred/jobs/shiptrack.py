@@ -426,13 +426,15 @@ def _ship_references(vessel: str, track: DRTrack, estimated: list[dict], noons: 
     """The ship's own positions an exercise can be marked against: her fixes, her noon positions found by a fix
     or a Sun line (not those that are only her DR), her estimated positions; each (instant ns, lat, lon, words,
     rank), the rank breaking a tie in time (a fix first)."""
+    from .noons import is_reckoned
+
     refs = [(int(t), float(a), float(b), f"the ship's {label}", 0)
             for t, a, b, label in zip(track.known_ns.tolist(), track.known_lat.tolist(), track.known_lon.tolist(),
                                       track.known_label) if is_fix_label(label)]
     refs += [(pd.Timestamp(n["noon_utc"]).value, float(n["lat_deg"]), float(n["lon_deg"]),
               f"the ship's noon ({n['noon_from'].split(';')[0]})", 1)
              for n in noons if n.get("vessel", "") == vessel and np.isfinite(n.get("lat_deg", np.nan))
-             and not str(n["noon_from"]).startswith("DR")]
+             and not is_reckoned(n["noon_from"])]
     refs += [(pd.Timestamp(e["utc"]).value, float(e["lat_deg"]), float(e["lon_deg"]),
               f"the ship's estimated position {e['fix_group']} ({e['from']})", 2)
              for e in estimated if e.get("vessel", "") == vessel]

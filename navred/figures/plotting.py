@@ -65,6 +65,8 @@ def save_figure(figure, path) -> None:
 
 #: the sky picture's page (points): its width, the disk's radius, the disk's centre below the page's top
 SKY_WIDTH_PT, SKY_RADIUS_PT = 540.0, 215.0
+#: the ring round a recommended body and the halo of the sky's colour round every dot (points)
+SKY_RING_PT, SKY_HALO_PT = 8.0, 0.7
 SKY_DISK = "#e9eef5"
 
 
@@ -124,14 +126,24 @@ def sky_picture(plan, *, title: str = ""):
     for k in np.flatnonzero(chosen):  # the recommended set joined to the centre
         sheet.line([cx, x[k]], [cy, y_[k]], blend(FIX, SKY_DISK, 0.6), 0.8, kind="line to the centre")
         lines.append(segment_box(cx, cy, float(x[k]), float(y_[k]), 0.9))
+    # the rim: no name's box runs over it (a box of the sky's colour spilling onto the paper hid the horizon)
+    rim = np.linspace(0.0, 2.0 * np.pi, 121)
+    lines += [segment_box(cx + SKY_RADIUS_PT * math.sin(a), cy - SKY_RADIUS_PT * math.cos(a),
+                          cx + SKY_RADIUS_PT * math.sin(b), cy - SKY_RADIUS_PT * math.cos(b), 0.9)
+              for a, b in zip(rim[:-1], rim[1:])]
     # matplotlib's scatter sizes of the picture this replaces: an area of 60 − 14 m square points, 8 to 140
     radius = np.sqrt(np.clip(60 - 14 * np.nan_to_num(plan.magnitude, nan=2.0), 8, 140)) / 2.0
     marks = []
-    for k in np.flatnonzero(shown):
+    # every body's dot stays in sight (a star 2° from the Moon sits on the Moon's dot and inside its ring): the
+    # rings first, under every dot; then the dots from the biggest to the smallest, each on a thin halo of the
+    # sky's colour, so a small dot drawn over a big one shows as a dot of its own
+    for k in np.flatnonzero(chosen):
+        sheet.circle(float(x[k]), float(y_[k]), SKY_RING_PT, outline=FIX, width=1.8, kind="ring")
+    for k in sorted(np.flatnonzero(shown).tolist(), key=lambda k: -float(radius[k])):
+        sheet.circle(float(x[k]), float(y_[k]), float(radius[k]) + SKY_HALO_PT, fill=SKY_DISK, kind="body halo")
         sheet.circle(float(x[k]), float(y_[k]), float(radius[k]), fill=INK, outline=INK, width=0.5, kind="body")
+    for k in np.flatnonzero(shown):
         reach = float(radius[k]) + (7.0 if chosen[k] else 1.5)
-        if chosen[k]:
-            sheet.circle(float(x[k]), float(y_[k]), 8.0, outline=FIX, width=1.8, kind="ring")
         placer.take(rect_corners(x[k] - reach, y_[k] - reach, x[k] + reach, y_[k] + reach))
         marks.append((k, placer.taken[-1], reach))
     unplaced = []
@@ -139,7 +151,9 @@ def sky_picture(plan, *, title: str = ""):
     dots = [m[1] for m in marks]  # a leader may pass over another body's dot (a cluster), never over a name
     for k, _, reach in sorted(marks, key=lambda m: (not chosen[m[0]], m[0])):  # the set's names first
         name, bold, colour = str(plan.body[k]), bool(chosen[k]), FIX if chosen[k] else INK
-        spots = _beside(float(x[k]), float(y_[k]), reach + 2.0)
+        # only close beside the dot: a name farther off is joined to its dot by a leader (a name 26 pt from a
+        # star sitting on the Moon's dot read as nobody's)
+        spots = _beside(float(x[k]), float(y_[k]), reach + 2.0, rings=2)
         placed = place_mark_label(placer, name, 7.5, spots, (float(x[k]), float(y_[k])), frame, lines=lines,
                                   own=dots, bold=bold)
         if placed is None:
@@ -379,12 +393,12 @@ def _ellipse_reach(track, scales: dict[str, float]) -> tuple[np.ndarray, np.ndar
             np.concatenate([lon, lon, lon, lon + east, lon - east]))
 
 
-def _beside(x: float, y: float, gap: float = 7.0) -> list:
-    """Spots for a label beside a mark, nearest first."""
+def _beside(x: float, y: float, gap: float = 7.0, rings: int = 4) -> list:
+    """Spots for a label beside a mark, nearest first, in ``rings`` rings (at most 4) round it."""
     from .placing import Spot
 
     spots = []
-    for far in (gap, gap + 7.0, gap + 19.0, gap + 35.0):
+    for far in (gap, gap + 7.0, gap + 19.0, gap + 35.0)[:rings]:
         spots += [Spot(x + far, y + 3, "start", "top"), Spot(x + far, y - 3, "start", "bottom"),
                   Spot(x - far, y - 3, "end", "bottom"), Spot(x - far, y + 3, "end", "top"),
                   Spot(x, y - far, "middle", "bottom"), Spot(x, y + far, "middle", "top")]

@@ -62,6 +62,8 @@ from .bridge import (
     planned_rounds,
     provenance_line,
     signed,
+    to_minute,
+    utc_stamp,
     zone_text,
 )
 from .passagedr import PassageDR, departure_dr, log_passage_dr, route_passage_dr
@@ -537,13 +539,17 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
             zd = twilight.zone_h
             zone_time = p.utc - np.timedelta64(int(zd * 60), "m")
             kind = twilight.label.split(" ", 1)[0]
+            under = day["date"]
             blocks.append(Text(f"{kind} twilight: planned {hm(zone_time)} zone time ({zone_text(zd)}), "
-                               f"{hm(p.utc)} UTC, from DR {dm(p.lat_deg, 'lat')} {dm(p.lon_deg, 'lon')}", "subheading"))
-            times = (f"Nautical twilight {hm(twilight.nautical)} UTC, civil {hm(twilight.civil)} UTC" if
-                     twilight.nautical < twilight.civil else
-                     f"Civil twilight {hm(twilight.civil)} UTC, nautical {hm(twilight.nautical)} UTC")
+                               f"{utc_stamp(p.utc, under)}, from DR {dm(p.lat_deg, 'lat')} {dm(p.lon_deg, 'lon')}",
+                               "subheading"))
+            blocks.append(Text(_which_hourly_page(p.utc, under), "body"))
+            times = (f"Nautical twilight {utc_stamp(twilight.nautical, under)}, civil "
+                     f"{utc_stamp(twilight.civil, under)}" if twilight.nautical < twilight.civil else
+                     f"Civil twilight {utc_stamp(twilight.civil, under)}, nautical "
+                     f"{utc_stamp(twilight.nautical, under)}")
             blocks.append(Text(f"{times}. For a "
-                               f"sight m minutes after {hm(p.utc)} UTC (m negative before it): Hc = Hc + m × "
+                               f"sight m minutes after {utc_stamp(p.utc, under)} (m negative before it): Hc = Hc + m × "
                                "(Hc ′/min + m × bend), Zn = Zn + m × (Zn °/min), within 0.5′ for as many minutes "
                                "before or after as 'holds' says (±20: 20 minutes either way; further off, or 'do not "
                                "use', work it by the formulas page). Plot every line from the DR above "
@@ -558,7 +564,8 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
         if noon is not None:
             zone_noon = noon.utc - np.timedelta64(int(noon.zone_h * 60), "m")
             blocks.append(Text(f"Noon: the Sun on the meridian at {hm(zone_noon)} zone time "
-                               f"({zone_text(noon.zone_h)}), {hm(noon.utc)} UTC", "subheading"))
+                               f"({zone_text(noon.zone_h)}), {utc_stamp(noon.utc, day['date'])}", "subheading"))
+            blocks.append(Text(_which_hourly_page(noon.utc, day["date"]), "body"))
             blocks.append(Text(f"DR then {dm(noon.lat_deg, 'lat')} {dm(noon.lon_deg, 'lon')}; Sun's Dec "
                                f"{dm(noon.dec_deg, 'dec')}; Hc {dm(noon.hc_deg, 'signed')}, bearing {noon.bearing}; Hs "
                                f"to preset (lower limb) {dm(noon.hs_deg, 'signed')}. Start a few minutes early, follow "
@@ -575,6 +582,17 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
                 "a day)" if after else "")
         pages.append(Page(f"Sights for {long_date(day['date'])}{note}", tuple(blocks)))
     return pages
+
+
+def _which_hourly_page(utc64, under) -> str:
+    """Which hourly page a round or noon is worked from: the page of its UTC date, said plainly where that is
+    not the date of the page it is printed on (over the date line, or far from Greenwich, the zone date and the
+    UTC date differ: the wrong page is a day's change in GHA and Dec)."""
+    on = to_minute(utc64).astype("datetime64[D]")
+    if on == np.datetime64(under, "D"):
+        return f"GHA and Dec: the hourly page of {long_date(on)} (UTC date, the same as this page's)."
+    return (f"GHA and Dec: the hourly page of {long_date(on)}: the UTC date, NOT the date of this page "
+            f"({long_date(under)}, the zone date).")
 
 
 def _other_side(kind: str, across: list[dict]) -> str | None:
@@ -619,19 +637,23 @@ def _noon_page(noons, hourly) -> Page:
     rows = []
     for noon in noons:
         zone_noon = noon.utc - np.timedelta64(int(noon.zone_h * 60), "m")
-        rows.append((str(noon.zone_date), hm(zone_noon), f"ZD {zone_text(noon.zone_h)}", hm(noon.utc), dm(noon.lat_deg, "lat"),
+        utc_date = to_minute(noon.utc).astype("datetime64[D]")
+        rows.append((str(noon.zone_date), hm(zone_noon), f"ZD {zone_text(noon.zone_h)}", hm(noon.utc),
+                     str(utc_date), dm(noon.lat_deg, "lat"),
                      dm(noon.lon_deg, "lon"), dm(noon.dec_deg, "dec"), dm(noon.hc_deg, "signed"),
                      dm(noon.hs_deg, "signed"), noon.bearing))
-    table = Table(("Date", "zone time", "ZD", "UTC", "DR lat", "DR lon", "Sun Dec", "Hc", "Hs preset LL", "look"),
+    table = Table(("Zone date", "zone time", "ZD", "UTC", "UTC date", "DR lat", "DR lon", "Sun Dec", "Hc",
+                   "Hs preset LL", "look"),
                   tuple(rows), name="noon-sun",
-                  csv_columns=("date", "zone_time", "zone_description", "utc", "dr_lat", "dr_lon", "sun_dec", "hc",
-                               "hs_preset_lower_limb", "bearing"),
-                  widths=(1.1, 0.7, 0.65, 0.6, 1.1, 1.2, 1.1, 0.95, 0.95, 0.45), font_size=7.4)
+                  csv_columns=("date", "zone_time", "zone_description", "utc", "utc_date", "dr_lat", "dr_lon",
+                               "sun_dec", "hc", "hs_preset_lower_limb", "bearing"),
+                  widths=(1.0, 0.65, 0.6, 0.5, 1.05, 1.0, 1.1, 1.0, 0.9, 0.9, 0.4), font_size=7.2)
     return Page("The noon Sun: local apparent noon along the DR", (
         Text("The time of the Sun's meridian passage at the DR then (it moves with the ship: about 4 minutes "
              "of time for each degree of longitude made good). Latitude from the noon altitude: with the Sun to "
              "the south, latitude = Dec + (90° − Ho) (north +, south −); with it to the north, latitude = Dec − "
-             "(90° − Ho). Take the Dec for the UTC of the sight from the hourly page.", "small"),
+             "(90° − Ho). Take the Dec for the UTC of the sight from the hourly page of its UTC date (the UTC date "
+             "column: over the date line, or far from Greenwich, it is not always the zone date).", "small"),
         table))
 
 

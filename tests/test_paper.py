@@ -1041,3 +1041,39 @@ def test_a_change_signed_plus_is_written_to_the_csv_and_anything_else_formula_li
     for bad in ("+15.8+cmd|' /C calc'!A0", "=1+1", "-2+3", "@SUM(1)"):
         with pytest.raises(NavredError, match="could be taken for a formula"):
             table_csv(Table(columns=("a",), rows=((bad,),), name="x", csv_columns=("a",)))
+
+
+@pytest.mark.parametrize("lat, course, speed, kept", [
+    (-14.0, 250.0, 7.0, False),  # the trial's passage: 14° S to 17° S, Polaris never up
+    (-6.0, 0.0, 0.0, False),  # at anchor 6° S: south of the rule's 5° S
+    (-4.0, 0.0, 0.0, True),  # at anchor 4° S: Polaris still below, but within the margin
+    (-8.0, 0.0, 10.0, True),  # from 8° S north at 10 kn: past 5° S within the four days
+    (40.0, 90.0, 6.0, True),
+])
+def test_the_polaris_page_and_form_are_left_out_where_polaris_never_rises(lat, course, speed, kept):
+    """Trial finding: a passage at 14°-17° S carried the Polaris table and its working form, though Polaris is
+    never above the horizon there. Its altitude is the latitude within its polar distance, about 0.6° (common
+    practice), so south of about 0.6° S it is below the horizon; the paper prints its page and form where the DR
+    comes as far north as 5° S at any hour of the passage (a margin for a DR a few degrees out), and otherwise
+    says in one line why they are left out (on the cover; the stars page no longer points to them)."""
+    from navred.jobs.paper import POLARIS_FROM_LAT_DEG, passage_paper
+
+    assert POLARIS_FROM_LAT_DEG == -5.0
+    made = passage_paper("2026-12-06", "2026-12-09", lat, -173.5, course_deg=course, speed_kn=speed,
+                         eye_height_m=3.0)
+    titles = [page.title for page in made.document.pages]
+    cover = " ".join(block.text for block in made.document.pages[0].blocks if hasattr(block, "text"))
+    stars = " ".join(block.text for page in made.document.pages if page.title == "The stars: SHA and Dec"
+                     for block in page.blocks if hasattr(block, "text"))
+    note = "No Polaris page or Polaris form: the DR stays south of 5° S all passage"
+    # the DR's northernmost latitude, by the test: 4 days at 10 kn north is 960′ = 16° (common practice: a
+    # minute of latitude is a mile)
+    northmost = lat + (speed * 24 * 4 / 60.0 if course == 0.0 else 0.0)
+    assert (northmost >= -5.0) == kept
+    assert ("Latitude by Polaris" in titles) == kept
+    assert ("Hand working: latitude by Polaris" in titles) == kept
+    assert (note in cover) == (not kept)
+    assert ("Latitude by Polaris ·" in cover) == kept
+    assert ("for its latitude use the Polaris table" in stars) == kept
+    assert ("Polaris is below the horizon all this passage" in stars) == (not kept)
+    assert "Hand working: stars, by the intercept method" in titles  # the other forms stay

@@ -76,6 +76,20 @@ def fix_batch(sights: SightRows, group: np.ndarray, n_groups: int, ok: np.ndarra
     work = np.flatnonzero(count_used >= 2)
     if work.size == 0:
         return results, problems
+    # the groups are solved side by side only with groups of as many sights: each group's arrays then have the
+    # very shape (but for the number of groups) they have when it is fixed alone, so that numpy's sums along the
+    # sights (pairwise, in an order that depends on the row's length) and the matrices of the running fix's σ
+    # (sights × sights) give it the same numbers to the last bit
+    width = np.bincount(group[ok & (group >= 0)], minlength=n_groups)[work]
+    for size in np.unique(width).tolist():
+        _fix_alike(sights, group, n_groups, ok, weighted, work[width == size], fix_time_given, sizes, results,
+                   problems)
+    return results, problems
+
+
+def _fix_alike(sights: SightRows, group, n_groups, ok, weighted, work, fix_time_given, sizes, results, problems
+               ) -> None:
+    """:func:`fix_batch`'s solve of the groups ``work``, which hold as many sights each."""
     lay = _layout(sights, group, n_groups, ok, weighted, work, fix_time_given)
     motion, motion_problem, line, spread0 = _kinds(sights, lay)
     parts = _solve_kinds(sights, lay, motion, line, spread0)
@@ -92,7 +106,6 @@ def fix_batch(sights: SightRows, group: np.ndarray, n_groups: int, ok: np.ndarra
     done = _fill_results(sights, lay, parts, columns, motion_problem, sizes, results, problems)
     if done:
         _check_sense(sights, lay, done)
-    return results, problems
 
 
 @dataclass(frozen=True)

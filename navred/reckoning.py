@@ -206,10 +206,17 @@ class DRTrack:
         if at.ndim == 1:  # a batch of tracks (rows, knots): plain indexing, the same elements
             rows = np.arange(at.size)
             lat_all, lon_all = rhumb_track_through(lat, lon, self._back[rows, at], north, course, distance)
-            return lat_all[rows[:, None], self._back], lon_all[rows[:, None], self._back]
-        at_time = np.take_along_axis(self._back, at[..., None], axis=-1)[..., 0]
-        lat_all, lon_all = rhumb_track_through(lat, lon, at_time, north, course, distance)
-        return np.take_along_axis(lat_all, self._back, axis=-1), np.take_along_axis(lon_all, self._back, axis=-1)
+            lat_all, lon_all = lat_all[rows[:, None], self._back], lon_all[rows[:, None], self._back]
+        else:
+            at_time = np.take_along_axis(self._back, at[..., None], axis=-1)[..., 0]
+            lat_all, lon_all = rhumb_track_through(lat, lon, at_time, north, course, distance)
+            lat_all = np.take_along_axis(lat_all, self._back, axis=-1)
+            lon_all = np.take_along_axis(lon_all, self._back, axis=-1)
+        still = ~distance.any(axis=-1)
+        if still.any():  # a track of no run among others that run: where the ship is, as it is when alone
+            lat_all = np.where(still[..., None], lat[..., None], lat_all)
+            lon_all = np.where(still[..., None], lon[..., None], lon_all)
+        return lat_all, lon_all
 
     def run_nm(self, at: ArrayLike) -> np.ndarray:
         """Miles run along the track between each knot and knot ``at`` (..., K), in the knots' own order."""

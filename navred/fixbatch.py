@@ -80,6 +80,9 @@ def fix_batch(sights: SightRows, group: np.ndarray, n_groups: int, ok: np.ndarra
     # very shape (but for the number of groups) they have when it is fixed alone, so that numpy's sums along the
     # sights (pairwise, in an order that depends on the row's length) and the matrices of the running fix's σ
     # (sights × sights) give it the same numbers to the last bit
+    if work.size == 1:  # one group (a fix alone)
+        _fix_alike(sights, group, n_groups, ok, weighted, work, fix_time_given, sizes, results, problems)
+        return results, problems
     width = np.bincount(group[ok & (group >= 0)], minlength=n_groups)[work]
     for size in np.unique(width).tolist():
         _fix_alike(sights, group, n_groups, ok, weighted, work[width == size], fix_time_given, sizes, results,

@@ -187,6 +187,11 @@ class DRTrack:
         return order, leg_north, np.degrees(np.arctan2(leg_east, leg_north)), np.hypot(leg_north, leg_east)
 
     @functools.cached_property
+    def _still(self) -> np.ndarray:
+        """Each track of no run at all (worked out once)."""
+        return ~self._legs[3].any(axis=-1)
+
+    @functools.cached_property
     def _back(self) -> np.ndarray:
         """Where each knot stands in time order: undoes the legs' ordering."""
         return np.argsort(self._legs[0], axis=-1, kind="stable")
@@ -199,7 +204,8 @@ class DRTrack:
         lat, lon = np.asarray(lat_deg, dtype=float), np.asarray(lon_deg, dtype=float)
         if lat.shape != at.shape or lon.shape != at.shape:
             lat, lon = np.broadcast_to(lat, at.shape), np.broadcast_to(lon, at.shape)
-        if not distance.any():  # no run (knots at one instant, or no velocity): every knot is where the ship is
+        still = self._still
+        if still.all():  # no run (knots at one instant, or no velocity): every knot is where the ship is
             lat_all, lon_all = np.empty(self.knot_ns.shape), np.empty(self.knot_ns.shape)
             lat_all[...], lon_all[...] = lat[..., None], lon[..., None]
             return lat_all, lon_all
@@ -212,7 +218,6 @@ class DRTrack:
             lat_all, lon_all = rhumb_track_through(lat, lon, at_time, north, course, distance)
             lat_all = np.take_along_axis(lat_all, self._back, axis=-1)
             lon_all = np.take_along_axis(lon_all, self._back, axis=-1)
-        still = ~distance.any(axis=-1)
         if still.any():  # a track of no run among others that run: where the ship is, as it is when alone
             lat_all = np.where(still[..., None], lat[..., None], lat_all)
             lon_all = np.where(still[..., None], lon[..., None], lon_all)

@@ -1,4 +1,5 @@
-"""One solve of every group of a batch of sights: the groups laid out padded side by side, each group's run
+"""One solve of every group of a batch of sights: the groups laid out padded side by side (with groups of as many
+sights: each is worked on arrays of the shape it has alone, and gets its result to the bit), each group's run
 between its sights, the DR at its fix time, each judged a fix, a fix with its motion or a line, solved
 (:mod:`navred.fixkinds`), its lines of position for the plotting sheet, and the sense checks."""
 

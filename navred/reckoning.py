@@ -279,7 +279,7 @@ class DRTrack:
         if rows.size == self.knot_ns.shape[0] and np.array_equal(rows, np.arange(rows.size)):
             return self
         part = DRTrack(self.knot_ns[rows], self.north_kn[rows], self.east_kn[rows])
-        for name in ("_legs", "_back", "run_to_last_nm"):
+        for name in ("_legs", "_back", "_still", "run_to_last_nm"):
             if name in self.__dict__:
                 value = self.__dict__[name]
                 part.__dict__[name] = tuple(v[rows] for v in value) if isinstance(value, tuple) else value[rows]

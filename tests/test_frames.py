@@ -174,6 +174,47 @@ def test_groups_of_every_size_fixed_at_once_are_what_they_are_alone(seed):
             assert len(kinds) >= 3, kinds
 
 
+def test_a_latitude_from_its_meridian_arc_is_worked_for_itself_whatever_is_beside_it():
+    # the pieces a batch of running fixes shares: a latitude started near its own known latitude (a run under
+    # 300 nm) is the same number whether or not a longer run (started by the footpoint series) is worked in the
+    # same array; all agree with the meridian arc they came from (navred.sailings.meridian_arc_m, the series of
+    # Snyder's Map Projections: A Working Manual, eq. 3-21, citation from memory) to a millimetre
+    from navred.sailings import latitude_from_meridian_arc_deg, meridian_arc_m
+
+    rng = np.random.default_rng(26)
+    lat = rng.uniform(-80, 80, 400)
+    arc = meridian_arc_m(lat)
+    target = arc + rng.uniform(-500_000, 500_000, 400)  # up to 270 nm: each started near its own latitude
+    target[0] = arc[0] - 1_000_000.0  # 540 nm: too far, started by the series
+    together = latitude_from_meridian_arc_deg(target, (lat, arc))
+    near = latitude_from_meridian_arc_deg(target[1:], (lat[1:], arc[1:]))
+    assert np.array_equal(together[1:], near)
+    assert together[0] == latitude_from_meridian_arc_deg(target[:1], (lat[:1], arc[:1]))[0]
+    np.testing.assert_allclose(meridian_arc_m(together), target, atol=1e-3)
+
+
+def test_a_track_of_no_run_beside_tracks_that_run_is_where_the_ship_is():
+    # a batch of sight tracks (navred.reckoning.DRTrack.through): a track with no run gives the position as given
+    # (not the position sent round the meridian arc and back), as it does alone, and one that runs what it gives
+    # alone
+    from navred.leastsquares import sight_track
+
+    rng = np.random.default_rng(27)
+    n = 300
+    hours = np.broadcast_to([-0.5, -0.25, 0.0], (n, 3))
+    runs = np.arange(n) % 2 == 1
+    north = np.where(runs, rng.uniform(-12, 12, n), 0.0)[:, None] * np.ones(3)
+    east = np.where(runs, rng.uniform(-12, 12, n), 0.0)[:, None] * np.ones(3)
+    lat, lon = rng.uniform(-70, 70, n), rng.uniform(-180, 180, n)
+    at = np.full(n, 3)
+    both = sight_track(hours, north, east).through(lat, lon, at)
+    assert (both[0][~runs] == lat[~runs, None]).all() and (both[1][~runs] == lon[~runs, None]).all()
+    for k in range(0, n, 7):
+        one = sight_track(hours[k:k + 1], north[k:k + 1], east[k:k + 1]).through(lat[k:k + 1], lon[k:k + 1], at[:1])
+        assert np.array_equal(one[0][0], both[0][k]) and np.array_equal(one[1][0], both[1][k]), k
+    assert (both[0][runs, 0] != lat[runs]).all()  # the others run
+
+
 def test_a_fix_time_and_a_chart_position_per_group_and_the_groups_chosen():
     table = groups_table(groups=6)
     when = {"g3": "2025-06-01T23:00Z"}

@@ -11,11 +11,13 @@ The text sights are the invented fleet log of scripts/make_fleet_log.py copied f
 its Hs and DR moved by a few tenths of a minute (so that almost every angle text is new) and its fix groups
 renamed; the numeric sights are random: invented data, made in a temporary folder, for timing only.
 
-Run:  python benchmarks/bench_reduction.py [FOLDER] [RUNS]
+Run:  python benchmarks/bench_reduction.py [FOLDER] [RUNS] [numeric]
+      (FOLDER '-' for a temporary one; 'numeric' runs the triangle and the DataFrame only)
 """
 
 from __future__ import annotations
 
+import os
 import statistics
 import subprocess
 import sys
@@ -67,7 +69,7 @@ def text_log(folder: Path, rows: int = 1_000_000) -> Path:
 
 
 NUMERIC = """
-import sys, time, warnings
+import resource, sys, time, warnings
 import numpy as np, pandas as pd
 warnings.simplefilter("ignore")
 from navred import reduce_sights
@@ -81,14 +83,44 @@ sights = pd.DataFrame({
     "body": bodies[rng.integers(0, len(bodies), n)], "limb": "lower", "hs": rng.uniform(10, 80, n),
     "index_error_arcmin": rng.uniform(-2, 2, n), "eye_height_m": rng.uniform(2, 20, n),
     "dr_lat": rng.uniform(-60, 60, n), "dr_lon": rng.uniform(-180, 180, n)})
-start = time.perf_counter()
+start, own = time.perf_counter(), time.process_time()
 reduced = reduce_sights(sights)
-print(f"{time.perf_counter() - start:.3f} {(reduced.status != 'error').sum()}")
+wall, own = time.perf_counter() - start, time.process_time() - own
+workers = resource.getrusage(resource.RUSAGE_CHILDREN)
+print(f"{wall:.3f} {own:.3f} {workers.ru_utime + workers.ru_stime:.3f} {(reduced.status != 'error').sum()}")
 """
 PANDAS_TEXT = "import sys, pandas as pd; pd.read_csv(sys.argv[1], dtype=str, keep_default_na=False).to_csv(sys.argv[2], index=False)"
 
 
-def main(folder: str | None = None, runs: int = 3) -> None:
+def numeric(work: Path, runs: int) -> None:
+    """A DataFrame of a million numbers through the API, in a process of its own (its tree's memory and
+    processor time: the blocks are shared among forked processes), ``runs`` times."""
+    script = work / "numeric.py"
+    script.write_text(NUMERIC)
+    calls, parents, workers, wholes, peaks, cpus, loads = [], [], [], [], [], [], []
+    for _ in range(runs):
+        out = work / "numeric.out"
+        with open(out, "wb") as sink:
+            measured = run([PYTHON, str(script), "1000000"], stdout=sink)
+        call, parent, children, _ = (float(v) for v in out.read_text().split())
+        calls.append(call)
+        parents.append(parent)
+        workers.append(children)
+        wholes.append(measured.seconds)
+        peaks.append(measured.tree_peak_mb)
+        cpus.append(measured.cpu_seconds)
+        loads.append(os.getloadavg()[0])
+    median = statistics.median
+    print(f"API, a DataFrame of 1,000,000 numeric sights (navred.reduce_sights), {runs} runs: the call {median(calls):.1f} s "
+          f"wall (min {min(calls):.1f}, max {max(calls):.1f}; target 10 s); its processor time {median(parents):.1f} s "
+          f"in the first process and {median(workers):.1f} s in the forked ones (medians); the whole command "
+          f"{median(wholes):.1f} s wall and {median(cpus):.1f} s of processor time (the frame made, the imports "
+          f"included); the whole process tree's peak median {median(peaks):,.0f} MB, max {max(peaks):,.0f} MB (the "
+          f"frame made in it included; target 1,200 MB); load average over the runs {min(loads):.1f}-{max(loads):.1f} "
+          f"(1 min); {load_average()}")
+
+
+def main(folder: str | None = None, runs: int = 3, parts: str = "all") -> None:
     warnings.simplefilter("ignore")
     work = Path(folder or tempfile.mkdtemp(prefix="navred-bench-"))
     work.mkdir(parents=True, exist_ok=True)
@@ -106,21 +138,9 @@ def main(folder: str | None = None, runs: int = 3) -> None:
           f"{m / statistics.median(timings) / 1e6:.1f} million sights per second")
     del lat, lon, gha, dec
 
-    # the API on a DataFrame of numbers, in a process of its own (its tree's memory: the blocks are forked)
-    script = work / "numeric.py"
-    script.write_text(NUMERIC)
-    seconds, peaks, cpus = [], [], []
-    for _ in range(runs):
-        out = work / "numeric.out"
-        with open(out, "wb") as sink:
-            measured = run([PYTHON, str(script), "1000000"], stdout=sink)
-        seconds.append(float(out.read_text().split()[0]))
-        peaks.append(measured.tree_peak_mb)
-        cpus.append(measured.cpu_seconds)
-    print(f"API, a DataFrame of 1,000,000 numeric sights (navred.reduce_sights): median {statistics.median(seconds):.1f} s "
-          f"(min {min(seconds):.1f}, max {max(seconds):.1f}, {runs} runs; target 10 s); the whole process's processor "
-          f"time median {statistics.median(cpus):.1f} s (the frame made, the imports included); whole process tree's "
-          f"peak {max(peaks):,.0f} MB (the frame made in it included; target 1,200 MB); {load_average()}")
+    numeric(work, runs)
+    if parts == "numeric":
+        return
 
     # 200,000 text sights against pandas reading the same text and writing it back, in turn
     path = text_log(work)
@@ -146,4 +166,5 @@ def main(folder: str | None = None, runs: int = 3) -> None:
 
 
 if __name__ == "__main__":
-    main(sys.argv[1] if len(sys.argv) > 1 else None, int(sys.argv[2]) if len(sys.argv) > 2 else 3)
+    main(sys.argv[1] if len(sys.argv) > 1 and sys.argv[1] != "-" else None,
+         int(sys.argv[2]) if len(sys.argv) > 2 else 3, sys.argv[3] if len(sys.argv) > 3 else "all")

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import functools
 import importlib.resources
+import os
 
 import numpy as np
 from jplephem.spk import SPK
@@ -41,6 +42,15 @@ def ephemeris_path() -> str:
 @functools.lru_cache(maxsize=1)
 def _kernel() -> SPK:
     return SPK.open(ephemeris_path())
+
+
+# A forked process opens the file anew: the file it would inherit shares its read position with the process
+# that opened it, and jplephem reads a segment's trailer by a seek and a read (its lock is one process's), so
+# two processes loading segments at once would read each other's bytes (seen: a segment's shape read from
+# another's place, in the blocks of a long DataFrame reduced by forked processes). The segments already loaded
+# are arrays of their own and are kept.
+if hasattr(os, "register_at_fork"):
+    os.register_at_fork(after_in_child=_kernel.cache_clear)
 
 
 class _Segment:

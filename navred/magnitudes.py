@@ -8,6 +8,7 @@ from numpy.typing import ArrayLike
 from .almanac import phase_angle_deg, places, separation_deg
 from .constants import AU_KM
 from .stars import star_table
+from .timescales import instants
 
 #: V(1,0) and phase coefficients, J. Meeus, Astronomical Algorithms (2nd ed., 1998), ch. 41
 #: (from memory). Saturn's rings are left out (up to about ±0.8 mag): these magnitudes only rank.
@@ -45,18 +46,28 @@ def magnitudes(bodies: ArrayLike, utc64: object) -> np.ndarray:
     out = np.array([table.magnitude[index[n]] if n in index else np.nan for n in names.ravel()]).reshape(names.shape)
     out = np.where(names == "Sun", SUN_MAGNITUDE, out)
     moon = names == "Moon"
-    if moon.any():
-        out[moon] = moon_magnitude(phase_angle_deg(places("Moon", when[moon]), places("Sun", when[moon])))
-    for planet, (v10, a1, a2, a3) in _PLANET_MAGNITUDE.items():
-        rows = names == planet
-        if rows.any():
-            geo = places(planet, when[rows])
-            sun = places("Sun", when[rows])
-            delta_au = geo.distance_km / AU_KM
-            earth_sun_au = sun.distance_km / AU_KM
+    planet_names = np.array(list(_PLANET_MAGNITUDE), dtype=object)
+    planet = np.isin(names, planet_names)
+    lit = moon | planet
+    if lit.any():
+        # every Moon and planet row in one batch of instants, the Sun's place made once for them all
+        batch = instants(when[lit])
+        geo = places(names[lit], batch)
+        sun = places("Sun", batch)
+        phase = phase_angle_deg(geo, sun)
+        values = np.empty(phase.shape)
+        is_moon = moon[lit]
+        values[is_moon] = moon_magnitude(phase[is_moon])
+        if not is_moon.all():
+            rows = ~is_moon
+            v10, a1, a2, a3 = np.array([_PLANET_MAGNITUDE[n] for n in names[lit][rows]]).reshape(-1, 4).T
+            delta_au = geo.distance_km[rows] / AU_KM
+            earth_sun_au = sun.distance_km[rows] / AU_KM
             # heliocentric distance from the triangle Sun-Earth-planet (the elongation from the places)
-            cos_e = np.cos(np.radians(separation_deg(geo.dec_deg, geo.ra_hours, sun.dec_deg, sun.ra_hours)))
+            cos_e = np.cos(np.radians(separation_deg(geo.dec_deg[rows], geo.ra_hours[rows],
+                                                     sun.dec_deg[rows], sun.ra_hours[rows])))
             r_au = np.sqrt(delta_au**2 + earth_sun_au**2 - 2 * delta_au * earth_sun_au * cos_e)
-            i = phase_angle_deg(geo, sun)
-            out[rows] = v10 + 5 * np.log10(r_au * delta_au) + a1 * i + a2 * i**2 + a3 * i**3
+            i = phase[rows]
+            values[rows] = v10 + 5 * np.log10(r_au * delta_au) + a1 * i + a2 * i**2 + a3 * i**3
+        out[lit] = values
     return out

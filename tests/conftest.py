@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import importlib.resources
 import json
+import math
 import os
 import socket
 import warnings
@@ -31,12 +32,18 @@ _RECORDING = os.environ.get("NAVRED_FREEZE_SKYFIELD") == "1"
 _FROZEN = (json.loads(FROZEN_PATH.read_text(encoding="utf-8"))["results"]
            if FROZEN_PATH.exists() and not _RECORDING else {})
 _RECORDED: dict[str, list[float]] = {}
+#: the results computed live this run (not in the file: a new or changed synthesis), counted so that the run says
+#: the file wants refreezing (each costs tens of milliseconds every run until it is frozen)
+_LIVE: set[str] = set()
+_LIVE_KEY = "navred_skyfield_live"
+_WORKERS_LIVE: list[int] = []
 
 
 def frozen(key: str, compute):
     """skyfield's result for ``key`` from the frozen file, or computed now by ``compute()`` (a list of floats)."""
     if key in _FROZEN:
         return _FROZEN[key]
+    _LIVE.add(key)
     value = [float(v) for v in compute()]
     if _RECORDING:
         _RECORDED[key] = value
@@ -49,6 +56,8 @@ def is_frozen(key: str) -> bool:
 
 
 def pytest_sessionfinish(session, exitstatus):
+    if hasattr(session.config, "workeroutput"):  # a pytest-xdist worker: its count goes to the controller
+        session.config.workeroutput[_LIVE_KEY] = len(_LIVE)
     if _RECORDING and _RECORDED:
         import skyfield
 
@@ -58,6 +67,19 @@ def pytest_sessionfinish(session, exitstatus):
             "skyfield": skyfield.__version__, "ephemeris": "de421.bsp from skyfield-data",
             "timescale": "load.timescale(builtin=True)",
             "results": dict(sorted(_RECORDED.items()))}, indent=0) + "\n", encoding="utf-8")
+
+
+@pytest.hookimpl(optionalhook=True)
+def pytest_testnodedown(node, error):
+    _WORKERS_LIVE.append(getattr(node, "workeroutput", {}).get(_LIVE_KEY, 0))
+
+
+def pytest_terminal_summary(terminalreporter):
+    live = sum(_WORKERS_LIVE) + len(_LIVE)
+    if live and not _RECORDING:
+        terminalreporter.write_line(
+            f"{live:,} skyfield results were computed live, not read from {FROZEN_PATH.name} (a new or changed "
+            "synthesis; slower every run until frozen): python scripts/freeze_skyfield_references.py", yellow=True)
 
 
 ARCMIN = 1.0 / 60.0  # one arcminute in degrees
@@ -163,6 +185,8 @@ def rhumb_integrated(lat_deg, lon_deg, course_deg, distance_nm, steps=None):
         return np.cos(c) / rho, np.sin(c) / (nu * np.cos(phi))
 
     phi, lam = np.radians(lat_deg), np.radians(lon_deg)
+    if all(np.ndim(v) == 0 for v in (lat_deg, lon_deg, course_deg, distance_nm)):
+        return _rhumb_integrated_scalar(float(phi), float(lam), float(c), float(h), steps, e2)
     for _ in range(steps):
         k1 = derivative(phi)
         k2 = derivative(phi + h / 2 * k1[0])
@@ -171,6 +195,27 @@ def rhumb_integrated(lat_deg, lon_deg, course_deg, distance_nm, steps=None):
         phi = phi + h / 6 * (k1[0] + 2 * k2[0] + 2 * k3[0] + k4[0])
         lam = lam + h / 6 * (k1[1] + 2 * k2[1] + 2 * k3[1] + k4[1])
     return np.degrees(phi), (np.degrees(lam) + 180.0) % 360.0 - 180.0
+
+
+def _rhumb_integrated_scalar(phi, lam, c, h, steps, e2):
+    """rhumb_integrated's very steps for one track, in Python floats (numpy's per-call overhead on scalars made
+    the tests' DRs take seconds); the same formulas and step count, the same result to rounding."""
+    cos_c, sin_c = math.cos(c), math.sin(c)
+    b = WGS84_A_M * (1 - e2)
+
+    def derivative(phi):
+        sin_phi = math.sin(phi)
+        w = 1 - e2 * sin_phi * sin_phi
+        return cos_c * w**1.5 / b, sin_c * math.sqrt(w) / (WGS84_A_M * math.cos(phi))
+
+    for _ in range(steps):
+        k1 = derivative(phi)
+        k2 = derivative(phi + h / 2 * k1[0])
+        k3 = derivative(phi + h / 2 * k2[0])
+        k4 = derivative(phi + h * k3[0])
+        phi = phi + h / 6 * (k1[0] + 2 * k2[0] + 2 * k3[0] + k4[0])
+        lam = lam + h / 6 * (k1[1] + 2 * k2[1] + 2 * k3[1] + k4[1])
+    return np.float64(math.degrees(phi)), (np.float64(math.degrees(lam)) + 180.0) % 360.0 - 180.0
 
 
 def offset_position(lat_deg, lon_deg, north_nm, east_nm):

@@ -6,6 +6,7 @@ functions and ``if TYPE_CHECKING:`` too), so a lazy import counts as much as one
 from __future__ import annotations
 
 import ast
+import functools
 import pathlib
 import re
 import sys
@@ -29,13 +30,20 @@ FORBIDDEN = {"io": {"jobs", "cli"}, "figures": {"jobs", "cli"}, "jobs": {"cli"}}
 
 def imports(path: pathlib.Path):
     """(line, module, names, level) of every import in a file, at any depth (inside functions too)."""
-    tree = ast.parse(path.read_text(encoding="utf-8"))
-    for node in ast.walk(tree):
+    for line, module, names, level in _imports(path, path.stat().st_mtime_ns):
+        yield line, module, list(names), level
+
+
+@functools.cache
+def _imports(path: pathlib.Path, _mtime_ns: int) -> tuple:
+    """A file's imports, parsed once for all the checks (the file as it is: its time of change is in the key)."""
+    found = []
+    for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
         if isinstance(node, ast.Import):
-            for alias in node.names:
-                yield node.lineno, alias.name, [], 0
+            found += [(node.lineno, alias.name, (), 0) for alias in node.names]
         elif isinstance(node, ast.ImportFrom):
-            yield node.lineno, node.module or "", [a.name for a in node.names], node.level
+            found.append((node.lineno, node.module or "", tuple(a.name for a in node.names), node.level))
+    return tuple(found)
 
 
 def module_name(path: pathlib.Path) -> str:

@@ -117,3 +117,25 @@ def test_a_run_stopped_by_a_signal_leaves_no_worker_behind(tmp_path):
         for pid in workers + [parent.pid]:  # (only the processes this test started)
             if alive(pid):
                 os.kill(pid, signal.SIGKILL)
+
+
+def read_the_ephemeris_far_along(context: None, item: int) -> int:
+    """A piece that reads the ephemeris file at a place the first process never does."""
+    from navred import ephemeris
+
+    ephemeris._kernel().daf.read_array(1000 + item, 1003 + item)
+    return item
+
+
+@pytest.mark.skipif(not forking.can_fork(), reason="the system cannot fork")
+def test_a_forked_process_reads_the_ephemeris_through_a_file_of_its_own():
+    """A forked process that inherited the open ephemeris would share its read position with the first process
+    (and with its sibling): jplephem reads a segment's trailer by a seek and a read, so two processes loading
+    segments at once would read each other's bytes. Each forked process opens the file anew: the first
+    process's read position is left where it was."""
+    from navred import ephemeris
+
+    descriptor = ephemeris._kernel().daf.file.fileno()
+    before = os.lseek(descriptor, 0, os.SEEK_CUR)
+    assert list(forked_map(read_the_ephemeris_far_along, [0, 1], context=None, workers=2)) == [0, 1]
+    assert os.lseek(descriptor, 0, os.SEEK_CUR) == before

@@ -5,6 +5,7 @@ nothing but a one-line refusal ever comes out of a file that is not a log."""
 from __future__ import annotations
 
 import csv
+import functools
 import io
 import string
 
@@ -311,7 +312,7 @@ def test_mutated_workings_are_marked_row_for_row_and_every_bad_line_is_named(tmp
     for item in unreadable.itertuples():  # an unreadable line is wrong, for its reason
         marked = report.lines[(report.lines.row == item.row) & (report.lines.line == item.line)]
         assert (marked.verdict == "wrong").all() and marked.cause.str.startswith("cannot be read").all()
-    clean = CLEAN_MARKS.set_index("row")
+    clean = _clean_marks().set_index("row")
     # a round's plotted fix is judged from every line of its fix group: a touched line touches its round too
     rounds = {rows[i].get("Fix group", "") for i in touched} - {""}
     near = {i for i, r in enumerate(rows) if r.get("Fix group", "") in rounds} | touched
@@ -320,7 +321,9 @@ def test_mutated_workings_are_marked_row_for_row_and_every_bad_line_is_named(tmp
     assert (kept.cause == clean.loc[kept.index, "cause"]).all()
 
 
+@functools.cache
 def _clean_marks():
+    """The untouched class's marks, made once (when the test first needs them, not when the suite is collected)."""
     import tempfile
     from pathlib import Path
 
@@ -340,8 +343,6 @@ def _write_workings(path, rows):
         writer.writerow(list(row.values()))
     path.write_bytes(out.getvalue().encode("utf-8", errors="replace"))
 
-
-CLEAN_MARKS = _clean_marks()
 
 
 # --- the rating log of time signals, mutated ---------------------------------------------------------
@@ -443,6 +444,14 @@ _TRACKS = {kind: open(f"sample_sights/training_track.{kind}", encoding="utf-8").
            for kind in ("gpx", "nmea", "csv")}
 
 
+@functools.cache
+def _clean_track(kind):
+    """The clean track as read, read once per form (every example compares its points with it; nothing changes it)."""
+    from navred.io.track import read_track
+
+    return read_track(f"sample_sights/training_track.{kind}")
+
+
 def _track_points(kind, lines):
     """The track points of a track's lines: GPX points by their place, NMEA and CSV by their line."""
     if kind == "gpx":
@@ -493,7 +502,7 @@ def test_mutated_tracks_keep_or_refuse_every_point_by_its_number(tmp_path_factor
     except TrackError as exc:
         assert "\n" not in str(exc)
         return
-    clean = read_track(f"sample_sights/training_track.{kind}")
+    clean = _clean_track(kind)
     assert track.problems.reason.map(lambda r: isinstance(r, str) and len(r) > 5).all()
     # the clean track's points are all in the mutated track at their positions, but for those an edit touched:
     # at most two points an edit (an RMC and the GGA of its epoch), missing or moved
@@ -658,6 +667,19 @@ _WEIGHTED = [c for c in ("almanac", "reduce", "fix", "compass", "identify", "rou
 _SEEN: list = []
 
 
+@functools.cache
+def _option_logs() -> dict[str, str]:
+    """The small logs the commands read (every tenth training sight; a cadet's first five workings), made once as
+    CSV text and written into each example's own folder."""
+    from openpyxl import load_workbook
+
+    few = pd.read_csv("sample_sights/training_sights.csv", dtype=str).iloc[::10].to_csv(index=False)
+    sheet = load_workbook("sample_sights/class_workings.xlsx", read_only=True).worksheets[0]
+    cadet = pd.DataFrame([r for r in sheet.iter_rows(values_only=True)][1:6],
+                         columns=next(sheet.iter_rows(values_only=True))).to_csv(index=False)
+    return {"few.csv": few, "cadet.csv": cadet}
+
+
 @seeded(55)
 @given(st.sampled_from(_WEIGHTED), st.integers(0, 20), _HOSTILE)
 def test_every_commands_options_give_a_result_or_one_line_never_a_traceback(tmp_path_factory, command, which, value):
@@ -671,12 +693,8 @@ def test_every_commands_options_give_a_result_or_one_line_never_a_traceback(tmp_
     from navred.cli import app
 
     folder = tmp_path_factory.mktemp("options")
-    pd.read_csv("sample_sights/training_sights.csv", dtype=str).iloc[::10].to_csv(folder / "few.csv", index=False)
-    from openpyxl import load_workbook
-
-    sheet = load_workbook("sample_sights/class_workings.xlsx", read_only=True).worksheets[0]
-    pd.DataFrame([r for r in sheet.iter_rows(values_only=True)][1:6],
-                 columns=next(sheet.iter_rows(values_only=True))).to_csv(folder / "cadet.csv", index=False)
+    for name, text in _option_logs().items():
+        (folder / name).write_text(text, encoding="utf-8")
     head, options = _commands(folder)[command]
     names = list(options)
     arguments = list(head)

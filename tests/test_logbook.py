@@ -68,6 +68,22 @@ def test_each_bad_row_gets_its_message_and_good_rows_survive(tmp_path, bad_row, 
     assert fragment in hit.reason.iloc[0]
 
 
+def test_a_frames_column_of_instants_says_by_its_type_whether_they_carry_a_zone():
+    """A DataFrame's column of instants without a zone (numpy's datetime64, naive) is taken as UTC with the same
+    note, naming the same rows, as the same instants held as Python date-times (each cell looked at); a column
+    with its zone (UTC) gets none."""
+    base = {"body": "Sun", "limb": "lower", "hs": [30.0, 31.0, 32.0], "eye_height_m": 3.0,
+            "dr_lat": 45.0, "dr_lon": -20.0}
+    instants = pd.to_datetime(["2026-03-26 19:41:00", "2026-03-26 19:43:00", None])
+    naive = read_sight_log(pd.DataFrame({"utc": instants, **base}))
+    cells = read_sight_log(pd.DataFrame({"utc": pd.Series(list(instants.to_pydatetime()), dtype=object), **base}))
+    aware = read_sight_log(pd.DataFrame({"utc": instants.tz_localize("UTC"), **base}))
+    note = [n for n in naive.notes if "give no zone" in n]
+    assert note == [n for n in cells.notes if "give no zone" in n] and "(row 1, row 2)" in note[0]
+    assert not [n for n in aware.notes if "zone" in n]
+    assert list(naive.sights.sight_utc) == list(aware.sights.sight_utc) == list(cells.sights.sight_utc)
+
+
 def test_an_instant_without_a_zone_is_read_alike_as_text_and_as_a_cell(tmp_path):
     """The utc column's name says UTC: an instant written there without Z, as text or as a spreadsheet
     date-time cell (which cannot hold a zone), is taken as UTC alike, and the log's notes say so with its rows;

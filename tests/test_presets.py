@@ -35,15 +35,21 @@ def planned(first, lat, lon, course, speed, days=1):
     return out
 
 
-def reduced_at(presets, minutes_late: float):
-    """navred's reduction (the sight log pipeline) of a sight of every body from the planned DR, late by the minutes."""
-    when = pd.Timestamp(presets.utc).tz_localize("UTC") + pd.Timedelta(minutes=minutes_late)
-    log = pd.DataFrame({"utc": [when] * presets.body.size, "body": presets.body, "hs": 30.0,
-                        "limb": np.where(np.isin(presets.body, ["Sun", "Moon"]), "lower", ""), "eye_height_m": 3.0,
-                        "dr_lat": presets.lat_deg, "dr_lon": presets.lon_deg})
+def reduced_at_each(presets, minutes: list[float]) -> dict:
+    """navred's reduction (the sight log pipeline) of a sight of every body from the planned DR, late by each of the
+    minutes: the sights of all of them in one log (one reading of a log for the dozen instants a plan is checked
+    at; each row is reduced on its own, whatever else the log holds), by minute."""
+    start = pd.Timestamp(presets.utc).tz_localize("UTC")
+    n = presets.body.size
+    log = pd.DataFrame({"utc": np.repeat([start + pd.Timedelta(minutes=m) for m in minutes], n),
+                        "body": np.tile(presets.body, len(minutes)), "hs": 30.0,
+                        "limb": np.tile(np.where(np.isin(presets.body, ["Sun", "Moon"]), "lower", ""), len(minutes)),
+                        "eye_height_m": 3.0, "dr_lat": np.tile(np.broadcast_to(presets.lat_deg, n), len(minutes)),
+                        "dr_lon": np.tile(np.broadcast_to(presets.lon_deg, n), len(minutes))})
     reduced = reduce_sights(log)
     assert (reduced.status != "error").all(), reduced.message.tolist()
-    return reduced
+    assert reduced.body_name.tolist() == log.body.tolist() and len(reduced) == len(log)  # each sight in its place
+    return {m: reduced.iloc[k * n:(k + 1) * n].reset_index(drop=True) for k, m in enumerate(minutes)}
 
 
 @pytest.mark.parametrize("passage", PASSAGES)
@@ -55,13 +61,14 @@ def test_precomputed_hc_and_zn_agree_with_the_reduction_at_the_planned_time_and_
     whole minute of the span printed for it, before and after."""
     checked = 0
     for presets in planned(*passage):
-        now = reduced_at(presets, 0.0)
+        reduced = reduced_at_each(presets, [0.0, -RATE_MINUTES, RATE_MINUTES, -7, -5, -3, -1, 1, 3, 5, 7])
+        now = reduced[0.0]
         assert np.abs(presets.hc_deg - now.hc_deg.to_numpy()).max() / ARCMIN <= 0.1
         assert np.abs(angle_diff_deg(presets.zn_deg, now.zn_deg.to_numpy())).max() <= 0.1
         holds = presets.good_minutes >= RATE_MINUTES
         assert holds.mean() > 0.9  # nearly every body, the rate and bend both ways
         for m in (-RATE_MINUTES, RATE_MINUTES):
-            off = reduced_at(presets, m)
+            off = reduced[m]
             predicted = presets.hc_at_deg(m)
             error = np.abs(predicted - off.hc_deg.to_numpy()) / ARCMIN
             assert error[holds].max() <= RATE_TOLERANCE_ARCMIN, (m, error[holds].max())
@@ -71,7 +78,7 @@ def test_precomputed_hc_and_zn_agree_with_the_reduction_at_the_planned_time_and_
             assert np.abs(angle_diff_deg(zn_off, off.zn_deg.to_numpy()))[holds].max() <= 0.5
         for minute in (-7, -5, -3, -1, 1, 3, 5, 7):
             within = presets.good_minutes >= abs(minute)
-            other = reduced_at(presets, minute)
+            other = reduced[minute]
             guess = presets.hc_at_deg(minute)
             assert (np.abs(guess - other.hc_deg.to_numpy())[within] / ARCMIN <= RATE_TOLERANCE_ARCMIN).all()
     assert checked > 40

@@ -192,13 +192,19 @@ def numeric_frame(n: int, seed: int = 5, **extra) -> pd.DataFrame:
 
 @pytest.mark.parametrize("extra", [{}, {"observer": ["Ann", "ann", " ANN ", "Bo"] * 100, "vessel": "Kestrel"},
                                    {"fix_group": [f"g{k // 4}" for k in range(400)], "course_deg": 90.0,
-                                    "speed_kn": 12.0}])
+                                    "speed_kn": 12.0},
+                                   # texts with missing cells, a column mixing texts and numbers, and longitudes
+                                   # of zero (blocks of +0.0 only, blocks with -0.0) among others
+                                   {"observer": ["Ann", None, " ANN ", np.nan] * 100,
+                                    "vessel": ["Kestrel", 7, None, "Tern"] * 100,
+                                    "dr_lon": [0.0] * 74 + [-0.0, 0.0] * 63 + [12.5] * 200}])
 def test_a_long_numeric_frame_read_in_blocks_is_the_frame_read_whole(monkeypatch, extra):
     """A DataFrame of numbers longer than a block is read and reduced a block of rows at a time (shared among
     processes): the table is the one reading the whole frame gives, automatic fix groups, observers' spellings
     and row numbers made across the blocks."""
     import warnings
 
+    import navred.jobs.forking as forking
     import navred.jobs.sights as sights
 
     frame = numeric_frame(400, **extra)
@@ -208,8 +214,45 @@ def test_a_long_numeric_frame_read_in_blocks_is_the_frame_read_whole(monkeypatch
         monkeypatch.setattr(sights, "FRAME_BLOCK_ROWS", 37)
         assert sights.frame_blocks(frame, 37) is not None
         blocks = reduce_sights(frame)
+        monkeypatch.setattr(forking, "cores", lambda: 1)  # the blocks worked by this process alone
+        alone = reduce_sights(frame)
     pd.testing.assert_frame_equal(blocks, whole)
+    pd.testing.assert_frame_equal(alone, whole)
     assert (blocks.status == "error").sum() >= 8 and blocks.row.tolist() == list(range(1, 401))
+    for column in ("dr_lon_deg", "lha_deg", "current_set_deg"):  # a zero's sign is kept (-0.0 is written)
+        assert (np.signbit(blocks[column]) == np.signbit(whole[column])).all(), column
+
+
+def test_an_empty_numeric_frame_reduces_to_an_empty_table_as_its_text_does():
+    """A notebook's filter that kept no sight (a frame of no rows, its instants a column of datetimes) reduces to
+    an empty table with the columns the same frame of texts gives, not a fault."""
+    frame = numeric_frame(3).iloc[:0]
+    numbers, text = reduce_sights(frame), reduce_sights(frame.astype({"utc": str}))
+    assert len(numbers) == len(text) == 0 and list(numbers.columns) == list(text.columns)
+
+
+def test_a_whole_table_is_its_blocks_written_in_place():
+    """The whole table of a long frame's blocks (each column made once, zeros lent by the system and blocks of
+    zeros not written): each value is the block's own, a zero's sign too, whatever order the blocks come in;
+    a column a block widens is widened; instants get their zone back."""
+    from navred.jobs.sights import WholeTable
+
+    whole = WholeTable(9)
+    stamps = pd.Series(pd.to_datetime(["2026-01-01 12:00"] * 2)).to_numpy()
+    whole.put(4, 6, {"x": (np.array([0.0, 0.0]), None), "n": (np.array([1, 2]), None),
+                     "t": (np.array(["a", "b"], dtype=object), None), "utc": (stamps, "UTC")})
+    whole.put(0, 2, {"x": (np.array([-0.0, 0.0]), None), "n": (np.array([0, 0]), None),
+                     "t": (np.array(["c", "c"], dtype=object), None), "utc": (stamps, "UTC")})
+    whole.put(2, 4, {"x": (np.array([1.5, 0.0]), None), "n": (np.array([0.5, 0.0]), None),
+                     "t": (np.array(["", "d"], dtype=object), None), "utc": (stamps, "UTC")})
+    whole.put(6, 9, {"x": (np.array([-0.0]), None), "n": (np.array([7.0]), None),  # one value for every row
+                     "t": (np.array(["e"], dtype=object), None), "utc": (stamps[:1], "UTC")})
+    columns = whole.finished()
+    assert columns["x"].tolist() == [0.0, 0.0, 1.5, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0] and np.signbit(
+        columns["x"]).tolist() == [True, False, False, False, False, False, True, True, True]
+    assert columns["n"].tolist() == [0.0, 0.0, 0.5, 0.0, 1.0, 2.0, 7.0, 7.0, 7.0] and columns["n"].dtype == float
+    assert columns["t"].tolist() == ["c", "c", "", "d", "a", "b", "e", "e", "e"]
+    assert str(columns["utc"].dt.tz) == "UTC" and (columns["utc"] == pd.Timestamp("2026-01-01 12:00Z")).all()
 
 
 def test_a_numeric_frame_gives_what_its_text_gives(tmp_path):

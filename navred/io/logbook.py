@@ -55,6 +55,7 @@ from .logcells import (
     MAX_REASONS_PER_ROW,
     Problems,
     cell_text,
+    chosen_texts,
     floats,
     gather,
     parse_key,
@@ -383,10 +384,41 @@ def frame_blocks(frame: pd.DataFrame, block_rows: int) -> list[tuple[int, int]] 
     return [(start, min(start + block_rows, len(frame))) for start in range(0, len(frame), block_rows)]
 
 
-def read_frame_block(frame: pd.DataFrame, start: int, stop: int) -> SightLog:
+def frame_texts(frame: pd.DataFrame) -> dict[int, tuple[np.ndarray, np.ndarray]]:
+    """Each column of text of a DataFrame log (every cell a text, or missing) by position: (each row's code, the
+    distinct texts), for :func:`read_frame_block` to make a block's cells of. A process forked to read a block
+    then touches only the few distinct objects: the frame's own cells, an object per row, would each be copied
+    into every process that touches it (the count of references is written into the object), some 30 MB a
+    process for a million rows of body names. A column mixing texts with numbers is left as it is."""
+    out = {}
+    for position in range(frame.shape[1]):
+        column = frame.iloc[:, position]
+        if not (column.dtype == object or pd.api.types.is_string_dtype(column.dtype)) \
+                or pd.api.types.infer_dtype(column, skipna=True) != "string":
+            continue
+        codes, distinct = pd.factorize(column, use_na_sentinel=True)
+        out[position] = (codes.astype(np.int32, copy=False) if len(distinct) < 2**31 else codes,
+                         np.asarray(distinct, dtype=object))
+    return out
+
+
+def read_frame_block(frame: pd.DataFrame, start: int, stop: int,
+                     texts: dict[int, tuple[np.ndarray, np.ndarray]] | None = None) -> SightLog:
     """Rows ``start`` to ``stop`` of a DataFrame log (:func:`frame_blocks`) read by :func:`read_sight_log`,
-    each row numbered as in the whole frame."""
-    log = read_sight_log(frame.iloc[start:stop])
+    each row numbered as in the whole frame. ``texts`` (:func:`frame_texts` of the frame) gives the block's
+    cells of text as the same texts, made of the distinct ones; a missing cell is the frame's own."""
+    block = frame.iloc[start:stop]
+    if texts:
+        block = block.copy(deep=False)
+        for position, (codes, distinct) in texts.items():
+            own = block.iloc[:, position]
+            part = codes[start:stop]
+            values = distinct[np.maximum(part, 0)]
+            missing = part < 0
+            if missing.any():
+                values[missing] = own.to_numpy(dtype=object)[missing]
+            block.isetitem(position, pd.Series(values, index=block.index, dtype=own.dtype, name=own.name))
+    log = read_sight_log(block)
     if start:
         log.table["row"] += start
         log.rejected["row"] += start
@@ -501,7 +533,10 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None, deviation=None) -
 
 def _zone_notes(cells, ok, dates, sources, rows) -> list[str]:
     """The note on instants of the utc column that give no zone (taken as UTC, as the column's name says)."""
-    zoneless = zoneless_utc(cells.values, ok, dates)
+    if pd.api.types.is_datetime64_any_dtype(cells.values.dtype):  # a DataFrame's column of instants: its type
+        zoneless = ok & (cells.values.dt.tz is None)                # says whether they carry a zone (no cell looked at)
+    else:
+        zoneless = zoneless_utc(cells.values, ok, dates)
     if not zoneless.any():
         return []
     several = len(set(sources.tolist())) > 1
@@ -681,15 +716,14 @@ ASSUMED = (("index_error", "index error", "′"), ("temperature", "temperature",
 
 def assumed_defaults(parsed, n: int) -> np.ndarray:
     """What each sight took as its default because the log left it blank, in words ('index error 0′;
-    temperature 10 °C'), '' where nothing was assumed: a value assumed is never shown as observed."""
-    out = np.full(n, "", dtype=object)
-    for key, name, unit in ASSUMED:
-        blank = ~parsed[key].ok
-        if blank.any():
-            default = COLUMN[key].default
-            text = f"{name} {default:g}{unit}"
-            out[blank] = np.where(out[blank] == "", text, out[blank] + "; " + text)
-    return out
+    temperature 10 °C'), '' where nothing was assumed: a value assumed is never shown as observed. Each of the
+    few distinct texts is one object shared by its rows (a long log would otherwise hold a copy per row)."""
+    which = np.zeros(n, dtype=np.intp)  # bit k: the k-th of ASSUMED taken as its default
+    for bit, (key, _, _) in enumerate(ASSUMED):
+        which |= (~np.asarray(parsed[key].ok, dtype=bool)).astype(np.intp) << bit
+    said = [f"{name} {COLUMN[key].default:g}{unit}" for key, name, unit in ASSUMED]
+    texts = ["; ".join(w for bit, w in enumerate(said) if code >> bit & 1) for code in range(1 << len(ASSUMED))]
+    return chosen_texts(which, texts)
 
 
 def _extra_name(header: str) -> str:
@@ -751,6 +785,6 @@ def _unique(header: list[str]) -> list[str]:
 
 
 __all__ = ["read_sight_log", "read_sight_log_blocks", "sight_log_blocks", "LogBlocks", "frame_blocks",
-           "read_frame_block", "whole_log_columns", "SightLog", "LogbookError",
+           "frame_texts", "read_frame_block", "whole_log_columns", "SightLog", "LogbookError",
            "LogSource", "REJECTED_COLUMNS", "SIGHT_COLUMNS", "ENTRY_COLUMNS", "DEFAULT_GROUP_GAP_HOURS",
            "TIME_AGREEMENT_S", "MAX_REASONS_PER_ROW", "with_decimal_point"]

@@ -122,6 +122,8 @@ def cell_texts(values: pd.Series | np.ndarray) -> np.ndarray:
     """Every cell of a column as text, as :func:`_text` writes it (each distinct value once)."""
     if pd.api.types.is_datetime64_any_dtype(getattr(values, "dtype", None)):
         stamps = values.dt.tz_convert(None) if values.dt.tz is not None else values
+        if not len(values):  # (numpy's replace cannot size an empty array's texts)
+            return np.zeros(0, dtype=object)
         text = np.datetime_as_string(stamps.to_numpy().astype("datetime64[us]")).astype(object)
         return np.where(values.isna().to_numpy(), "", np.char.replace(text.astype(str), "T", " ")).astype(object)
     if len(values) > 1000 and pd.api.types.infer_dtype(values, skipna=False) == "datetime":

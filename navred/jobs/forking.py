@@ -14,8 +14,10 @@ ends itself when the process that forked it is gone (a run stopped by a signal l
 
 from __future__ import annotations
 
+import functools
 import multiprocessing
 import os
+import sys
 import warnings
 from collections import deque
 from collections.abc import Callable, Iterable, Iterator
@@ -105,4 +107,29 @@ def forked_map(function: Callable[[Any, Any], Any], items: Iterable[Any], *, con
         yield function(context, item)
 
 
-__all__ = ["forked_map", "cores", "can_fork", "MAX_WORKERS"]
+def give_back_memory() -> None:
+    """Hand the memory this process has freed back to the system, where the C library can (glibc's
+    ``malloc_trim``; nothing elsewhere). A process that works piece after piece otherwise keeps the pages its
+    largest piece needed: the allocator keeps freed memory for reuse, and a few objects left among it keep
+    the rest from being released (measured after a million-row DataFrame's reduction: about 100 MB kept by
+    the first process). Not worth it between the pieces of a worker: the next piece asks for the pages again
+    (a worker's 20 MB saved for 12 % more processor time)."""
+    trim = _malloc_trim()
+    if trim is not None:
+        trim(0)
+
+
+@functools.cache
+def _malloc_trim():
+    """glibc's ``malloc_trim``, or None where the C library has none (musl, macOS, Windows)."""
+    if not sys.platform.startswith("linux"):
+        return None
+    try:
+        import ctypes
+
+        return ctypes.CDLL(None).malloc_trim
+    except (OSError, AttributeError):
+        return None
+
+
+__all__ = ["forked_map", "cores", "can_fork", "give_back_memory", "MAX_WORKERS"]

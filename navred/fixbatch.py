@@ -61,6 +61,10 @@ def subset_groups(group: np.ndarray, chosen: list[int], n_groups: int) -> np.nda
     return np.where(group >= 0, renumber[np.maximum(group, 0)], -1)
 
 
+#: the most cells of the sights × sights matrices one solve of groups of a size holds (about 32 MB a matrix)
+BATCH_MATRIX_CELLS = 4_000_000
+
+
 def fix_batch(sights: SightRows, group: np.ndarray, n_groups: int, ok: np.ndarray, left_out: np.ndarray,
               fix_time_given: np.ndarray) -> tuple[list[FixResult | None], list[str]]:
     """One solve of every group (no check fixes): the sights ``ok`` are shown, those not ``left_out`` used."""
@@ -86,8 +90,13 @@ def fix_batch(sights: SightRows, group: np.ndarray, n_groups: int, ok: np.ndarra
         return results, problems
     width = np.bincount(group[ok & (group >= 0)], minlength=n_groups)[work]
     for size in np.unique(width).tolist():
-        _fix_alike(sights, group, n_groups, ok, weighted, work[width == size], fix_time_given, sizes, results,
-                   problems)
+        alike = work[width == size]
+        # a running fix's σ takes a sights × sights matrix a group: groups of many sights are solved a few at a
+        # time, so that a log of large groups (one label on a whole day's sights) is fixed in bounded memory
+        at_once = max(1, BATCH_MATRIX_CELLS // max(size * size, 1))
+        for start in range(0, alike.size, at_once):
+            _fix_alike(sights, group, n_groups, ok, weighted, alike[start:start + at_once], fix_time_given, sizes,
+                       results, problems)
     return results, problems
 
 

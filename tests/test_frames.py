@@ -174,6 +174,25 @@ def test_groups_of_every_size_fixed_at_once_are_what_they_are_alone(seed):
             assert len(kinds) >= 3, kinds
 
 
+def test_groups_solved_a_few_at_a_time_are_what_they_are_all_together(monkeypatch):
+    # groups of many sights are solved a few at a time (each running fix's σ takes a sights × sights matrix:
+    # navred.fixbatch.BATCH_MATRIX_CELLS bounds them); with the bound made tiny every group of the varied tables
+    # is solved one or two at a time, and each fix is, field by field, the fix of the whole table at once
+    import navred.fixbatch as fixbatch
+
+    for seed in (0, 1, 4):
+        table = varied_table(seed)
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", navred.NavredWarning)
+            together = fix_positions(table)
+            monkeypatch.setattr(fixbatch, "BATCH_MATRIX_CELLS", 50)
+            few = fix_positions(table)
+            monkeypatch.undo()
+        assert set(few.results) == set(together.results) and few.problems == together.problems
+        for name in together.results:
+            same(few[name], together[name], f"seed {seed} {name}")
+
+
 def test_a_latitude_from_its_meridian_arc_is_worked_for_itself_whatever_is_beside_it():
     # the pieces a batch of running fixes shares: a latitude started near its own known latitude (a run under
     # 300 nm) is the same number whether or not a longer run (started by the footpoint series) is worked in the

@@ -5,7 +5,8 @@ Targets (issue 4): a fix from 10 sights in under 2 ms; a batch of 10,000 indepen
 through the workbook's path (navred.jobs.voyage.fix_groups: the chart rule, one padded solve, the
 statistics, blunder refits and the result of every group) in under 1 s. Issue 26: the same 10,000
 groups through the public batched fix (navred.fix_positions) in under 1 s, and one group through
-navred.fix_position in under 2 ms. Prints each as a median of several runs. The
+navred.fix_position in under 2 ms; and groups of 2 to 12 sights in one table (each size solved apart, so that
+each group gets what it gets alone). Prints each as a median of several runs. The
 sights are synthetic and exact (Ho computed at a random true position, the DR 10-30 nm away,
 one sight in 20 given a 6′ blunder in the groups' table); the one fix is timed also with a sextant's
 scatter on the altitudes and over a run (the σ of a round over a run is a root sought step by step, and
@@ -110,6 +111,32 @@ def main() -> None:
     print(f"the same {groups:,} groups through the public batched fix (navred.fix_positions): median "
           f"{statistics.median(times):.2f} s (min {min(times):.2f}; target 1 s), processor time median "
           f"{statistics.median(cpu):.2f} s, {len(batched.results):,} fixes; {load_average()}")
+    mixed_sizes(rng)
+
+
+def mixed_sizes(rng, groups: int = 10_000) -> None:
+    """Print the processor time of fix_positions on groups of 2 to 12 sights in one table (with 0.5′ of scatter,
+    a run at 10 kn in two groups of three): each size is solved apart, side by side with groups of its size."""
+    sizes = rng.integers(2, 13, groups)
+    g = np.repeat(np.arange(groups), sizes)
+    within = np.arange(g.size) - np.repeat(np.cumsum(sizes) - sizes, sizes)
+    gha, dec, ho, dr_lat, dr_lon = synthetic(groups, 12, rng)
+    keep = within  # each group's first sights of its twelve
+    table = pd.DataFrame({
+        "gha_deg": gha[g, keep], "dec_deg": dec[g, keep],
+        "ho_deg": ho[g, keep] + rng.normal(0, 0.5 / 60, g.size), "status": "ok",
+        "sight_utc": pd.Timestamp("2025-06-01T20:00Z") + pd.to_timedelta(within * 60 + g * 7200, unit="s"),
+        "dr_lat_deg": dr_lat[g], "dr_lon_deg": dr_lon[g],
+        "course_deg": np.where(g % 3 == 0, np.nan, 90.0), "speed_kn": np.where(g % 3 == 0, np.nan, 10.0),
+        "fix_group": np.array([f"g{k}" for k in range(groups)])[g], "row": np.arange(g.size) + 2})
+    fix_positions(table.iloc[:100])
+    cpu = []
+    for _ in range(3):
+        start_cpu = time.process_time()
+        fix_positions(table)
+        cpu.append(time.process_time() - start_cpu)
+    print(f"{groups:,} groups of 2 to 12 sights in one table (navred.fix_positions): processor time median "
+          f"{statistics.median(cpu):.2f} s (min {min(cpu):.2f}, 3 runs); {load_average()}")
 
 
 if __name__ == "__main__":

@@ -121,6 +121,8 @@ def _parse_one(value: object, kind: AngleKind, decimal_comma: bool = False) -> f
                                     "minutes ′, then seconds ″, each once)")
     if any(p[0] in "+-" for p in parts[1:]):
         raise _refused(value, kind, "a sign inside the minutes or seconds; a sign belongs before the degrees")
+    if 2 in units and 1 not in units:
+        raise _refused(value, kind, _seconds_without_minutes(parts, units, hemi))
     negative = parts[0].startswith("-")
     numbers = [abs(float(p)) for p in parts]
     if any(n >= 60.0 for n, u in zip(numbers, units) if u > 0):
@@ -143,6 +145,19 @@ def _parse_one(value: object, kind: AngleKind, decimal_comma: bool = False) -> f
                                         "north and east positive)")
         number = -magnitude if negative else magnitude
     return _checked(number, value, kind)
+
+
+def _seconds_without_minutes(parts: list[str], units: list[int], hemi: str | None) -> str:
+    """Why a seconds mark with no minutes before it is refused, with both readings: a double quote typed for the
+    minutes mark (42°12.9" meant 42° 12.9′) is as likely as seconds with the minutes left out (42° 00′ 12.9″),
+    and the two lie 12.7 nm apart."""
+    degrees = f"{parts[0]}° " if units[0] == 0 else ""
+    seconds = parts[-1]
+    letter = f" {hemi}" if hemi else ""
+    as_minutes = f"{degrees}{seconds}′{letter}".strip()
+    as_seconds = f"{degrees or '0° '}00′ {seconds}″{letter}"
+    return (f"a seconds mark with no minutes: {as_minutes} (the mark meant for minutes) or "
+            f"{as_seconds} (the minutes left out)? write the minutes mark ′ or ', or the minutes with the seconds")
 
 
 _NOT_FINITE = re.compile(r"[+-]?\s*(?:nan|inf|infinity)", re.IGNORECASE)

@@ -50,6 +50,9 @@ DEFAULT_PRESSURE_HPA = float(PRESSURE_HPA.default)
 DIP_ARCMIN_PER_SQRT_M = 1.76
 
 LOW_ALTITUDE_DEG = 5.0  # below: refraction is uncertain; the sight is flagged (common practice)
+#: an index error beyond this is read but warned about: a sextant's index error is normally adjusted out when it
+#: exceeds a few minutes, so a larger one is more likely a slip of the pen (14 for 1.4) (common practice)
+LARGE_INDEX_ERROR_ARCMIN = 10.0
 LOWEST_ALTITUDE_DEG = -1.0  # below: no refraction model applies; refused
 
 _INDEX = re.compile(r"^\s*([+-]?\d+(?:\.\d+)?)\s*[′']?\s*(on|off)?\s*(?:the\s+arc)?\s*$", re.IGNORECASE)
@@ -551,6 +554,7 @@ def correct_altitudes(hs_deg: ArrayLike, *, index_error_arcmin: ArrayLike = 0.0,
     notes = _Notes(shape)
     _refuse_inputs(notes, kind, hs, ie, eye, waterline, measured, temp, pres)
     ok = notes.error == ""
+    _warn_large_index_error(notes, ok, ie)
     # the apparent altitude: the reading with its index correction, the horizon line and the dip
     ic = index_correction_arcmin(ie)
     reading = hs + ic / ARCMIN_PER_DEG
@@ -634,6 +638,20 @@ def _refuse_inputs(notes: _Notes, kind, hs, ie, eye, waterline, measured, temp, 
     notes.refuse(_outside(temp, TEMPERATURE_C), f"temperature is outside {_range(TEMPERATURE_C, ' °C')}",
                  "temperature")
     notes.refuse(_outside(pres, PRESSURE_HPA), f"pressure is outside {_range(PRESSURE_HPA, ' hPa')}", "pressure")
+
+
+def _warn_large_index_error(notes: _Notes, ok, ie) -> None:
+    """A sight whose index error exceeds :data:`LARGE_INDEX_ERROR_ARCMIN` is reduced with it, and warned about,
+    naming the value (each distinct value once: a log's few sextants)."""
+    with np.errstate(invalid="ignore"):
+        large = ok & (np.abs(ie) > LARGE_INDEX_ERROR_ARCMIN)
+    for value in np.unique(ie[large]):
+        side = "on" if value > 0 else "off"
+        notes.warn(large & (ie == value),
+                   f"index error {abs(value):.1f}′ {side} the arc is unusually large (over "
+                   f"{LARGE_INDEX_ERROR_ARCMIN:g}′; a sextant's index error is normally adjusted out when it is over a "
+                   "few minutes): check the reading and how it was written (a decimal point left out?); the "
+                   "sight is reduced with it")
 
 
 def _refuse_apparent(notes: _Notes, ok, altitude, ha) -> None:

@@ -59,7 +59,8 @@ def fixes_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike,
     and ``drift_kn`` one current for all or the current in force after each sight; ``dr_age_hours``
     the age of each sight's DR (hours since the known position it was carried from; NaN or None:
     not known). Each group's arrays in its result follow its sights in input order. Every group
-    gets the same result it would get alone (tests/test_fix.py checks it).
+    gets the same result it would get alone, to the last bit (it is solved side by side only with groups of as
+    many sights; tests/test_fix.py and tests/test_frames.py check it field by field).
 
     With ``refit`` (the default), a sight whose line is a gross error beyond doubt is left out of
     its group's fix (the fix from every sight is kept as ``all_sights``), and the sights flagged as

@@ -1,4 +1,5 @@
-"""One solve of every group of a batch of sights: the groups laid out padded side by side, each group's run
+"""One solve of every group of a batch of sights: the groups laid out padded side by side (with groups of as many
+sights: each is worked on arrays of the shape it has alone, and gets its result to the bit), each group's run
 between its sights, the DR at its fix time, each judged a fix, a fix with its motion or a line, solved
 (:mod:`navred.fixkinds`), its lines of position for the plotting sheet, and the sense checks."""
 
@@ -60,6 +61,10 @@ def subset_groups(group: np.ndarray, chosen: list[int], n_groups: int) -> np.nda
     return np.where(group >= 0, renumber[np.maximum(group, 0)], -1)
 
 
+#: the most cells of the sights × sights matrices one solve of groups of a size holds (about 32 MB a matrix)
+BATCH_MATRIX_CELLS = 4_000_000
+
+
 def fix_batch(sights: SightRows, group: np.ndarray, n_groups: int, ok: np.ndarray, left_out: np.ndarray,
               fix_time_given: np.ndarray) -> tuple[list[FixResult | None], list[str]]:
     """One solve of every group (no check fixes): the sights ``ok`` are shown, those not ``left_out`` used."""
@@ -76,6 +81,28 @@ def fix_batch(sights: SightRows, group: np.ndarray, n_groups: int, ok: np.ndarra
     work = np.flatnonzero(count_used >= 2)
     if work.size == 0:
         return results, problems
+    # the groups are solved side by side only with groups of as many sights: each group's arrays then have the
+    # very shape (but for the number of groups) they have when it is fixed alone, so that numpy's sums along the
+    # sights (pairwise, in an order that depends on the row's length) and the matrices of the running fix's σ
+    # (sights × sights) give it the same numbers to the last bit
+    if work.size == 1:  # one group (a fix alone)
+        _fix_alike(sights, group, n_groups, ok, weighted, work, fix_time_given, sizes, results, problems)
+        return results, problems
+    width = np.bincount(group[ok & (group >= 0)], minlength=n_groups)[work]
+    for size in np.unique(width).tolist():
+        alike = work[width == size]
+        # a running fix's σ takes a sights × sights matrix a group: groups of many sights are solved a few at a
+        # time, so that a log of large groups (one label on a whole day's sights) is fixed in bounded memory
+        at_once = max(1, BATCH_MATRIX_CELLS // max(size * size, 1))
+        for start in range(0, alike.size, at_once):
+            _fix_alike(sights, group, n_groups, ok, weighted, alike[start:start + at_once], fix_time_given, sizes,
+                       results, problems)
+    return results, problems
+
+
+def _fix_alike(sights: SightRows, group, n_groups, ok, weighted, work, fix_time_given, sizes, results, problems
+               ) -> None:
+    """:func:`fix_batch`'s solve of the groups ``work``, which hold as many sights each."""
     lay = _layout(sights, group, n_groups, ok, weighted, work, fix_time_given)
     motion, motion_problem, line, spread0 = _kinds(sights, lay)
     parts = _solve_kinds(sights, lay, motion, line, spread0)
@@ -92,7 +119,6 @@ def fix_batch(sights: SightRows, group: np.ndarray, n_groups: int, ok: np.ndarra
     done = _fill_results(sights, lay, parts, columns, motion_problem, sizes, results, problems)
     if done:
         _check_sense(sights, lay, done)
-    return results, problems
 
 
 @dataclass(frozen=True)

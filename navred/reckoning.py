@@ -187,6 +187,11 @@ class DRTrack:
         return order, leg_north, np.degrees(np.arctan2(leg_east, leg_north)), np.hypot(leg_north, leg_east)
 
     @functools.cached_property
+    def _still(self) -> np.ndarray:
+        """Each track of no run at all (worked out once)."""
+        return ~self._legs[3].any(axis=-1)
+
+    @functools.cached_property
     def _back(self) -> np.ndarray:
         """Where each knot stands in time order: undoes the legs' ordering."""
         return np.argsort(self._legs[0], axis=-1, kind="stable")
@@ -199,17 +204,24 @@ class DRTrack:
         lat, lon = np.asarray(lat_deg, dtype=float), np.asarray(lon_deg, dtype=float)
         if lat.shape != at.shape or lon.shape != at.shape:
             lat, lon = np.broadcast_to(lat, at.shape), np.broadcast_to(lon, at.shape)
-        if not distance.any():  # no run (knots at one instant, or no velocity): every knot is where the ship is
+        still = self._still
+        if still.all():  # no run (knots at one instant, or no velocity): every knot is where the ship is
             lat_all, lon_all = np.empty(self.knot_ns.shape), np.empty(self.knot_ns.shape)
             lat_all[...], lon_all[...] = lat[..., None], lon[..., None]
             return lat_all, lon_all
         if at.ndim == 1:  # a batch of tracks (rows, knots): plain indexing, the same elements
             rows = np.arange(at.size)
             lat_all, lon_all = rhumb_track_through(lat, lon, self._back[rows, at], north, course, distance)
-            return lat_all[rows[:, None], self._back], lon_all[rows[:, None], self._back]
-        at_time = np.take_along_axis(self._back, at[..., None], axis=-1)[..., 0]
-        lat_all, lon_all = rhumb_track_through(lat, lon, at_time, north, course, distance)
-        return np.take_along_axis(lat_all, self._back, axis=-1), np.take_along_axis(lon_all, self._back, axis=-1)
+            lat_all, lon_all = lat_all[rows[:, None], self._back], lon_all[rows[:, None], self._back]
+        else:
+            at_time = np.take_along_axis(self._back, at[..., None], axis=-1)[..., 0]
+            lat_all, lon_all = rhumb_track_through(lat, lon, at_time, north, course, distance)
+            lat_all = np.take_along_axis(lat_all, self._back, axis=-1)
+            lon_all = np.take_along_axis(lon_all, self._back, axis=-1)
+        if still.any():  # a track of no run among others that run: where the ship is, as it is when alone
+            lat_all = np.where(still[..., None], lat[..., None], lat_all)
+            lon_all = np.where(still[..., None], lon[..., None], lon_all)
+        return lat_all, lon_all
 
     def run_nm(self, at: ArrayLike) -> np.ndarray:
         """Miles run along the track between each knot and knot ``at`` (..., K), in the knots' own order."""
@@ -267,7 +279,7 @@ class DRTrack:
         if rows.size == self.knot_ns.shape[0] and np.array_equal(rows, np.arange(rows.size)):
             return self
         part = DRTrack(self.knot_ns[rows], self.north_kn[rows], self.east_kn[rows])
-        for name in ("_legs", "_back", "run_to_last_nm"):
+        for name in ("_legs", "_back", "_still", "run_to_last_nm"):
             if name in self.__dict__:
                 value = self.__dict__[name]
                 part.__dict__[name] = tuple(v[rows] for v in value) if isinstance(value, tuple) else value[rows]

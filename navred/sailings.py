@@ -73,15 +73,27 @@ def latitude_from_meridian_arc_deg(arc_m: ArrayLike, near: tuple[ArrayLike, Arra
     60.5
     """
     arc = np.asarray(arc_m, dtype=float)
+    close = None
     if near is not None:
+        # each latitude is started for itself (near its own known one, or by the series), never by what others
+        # in the same array need: a position's latitude is the same whatever it is worked with
         lat_near, arc_near = (np.asarray(v, dtype=float) for v in near)
         offset = arc - arc_near
-        if np.all(np.abs(offset) < 300.0 * METRES_PER_NM):
+        close = np.abs(offset) < 300.0 * METRES_PER_NM
+        if close.any():
             # the linear start is off by about (3/2) e² sin 2φ (Δφ)² / 2 (under 1e-5 rad at 300 nm), and
             # Newton squares that: one step leaves less than 1e-10 rad (a millimetre)
             phi = np.radians(lat_near) + offset / meridian_radius_m(lat_near)
             rho = A_M * (1 - E2) / (1 - E2 * np.sin(phi) ** 2) ** 1.5
-            return np.degrees(phi + (arc - meridian_arc_m(np.degrees(phi))) / rho)
+            from_near = np.degrees(phi + (arc - meridian_arc_m(np.degrees(phi))) / rho)
+            if close.all():
+                return from_near
+    from_series = _latitude_by_series(arc)
+    return from_series if close is None or not close.any() else np.where(close, from_near, from_series)
+
+
+def _latitude_by_series(arc: np.ndarray) -> np.ndarray:
+    """:func:`latitude_from_meridian_arc_deg` started by the footpoint series, two Newton steps."""
     mu = arc / (A_M * _M0)
     phi = mu + _F2 * np.sin(2 * mu) + _F4 * np.sin(4 * mu) + _F6 * np.sin(6 * mu) + _F8 * np.sin(8 * mu)
     for _ in range(2):

@@ -37,8 +37,8 @@ _ZONE_IN_TIME = re.compile(r"(?:[zZ]|UTC|GMT|[+-]\d{2}(?::?\d{2})?)\s*$")
 _AM_PM = re.compile(r"(?<![A-Za-z])([ap])\.?\s?m\.?\s*$", re.IGNORECASE)
 
 ACCEPTED_DATES = "ISO 8601 such as 2026-03-26, 26 Mar 2026, or a date cell"
-ACCEPTED_TIMES = ("hh:mm:ss on the 24-hour clock (19:41:30, 19:41, 194130), a time cell, or 1 to 11 o'clock with "
-                  "am or pm (7:41:30 pm)")
+ACCEPTED_TIMES = ("hh:mm:ss on the 24-hour clock (19:41:30, 19:41, 194130), a time cell, or the 12-hour clock with "
+                  "am or pm (7:41:30 pm, 12:31 pm; not exactly 12:00, noon or midnight)")
 ACCEPTED_ZONES = "a whole signed hour from -12 to +12, ZT + ZD = UTC: +3, -10, 0, with its letter if you like (+1 N, -1 A, Z)"
 ACCEPTED_WATCH_ERRORS = ("'12 fast', '3 s slow', '1 m 05 s fast', '01:05 slow'; a number, signed or not, only under "
                          "a header that states the sign ('watch error (fast +)'): otherwise fast or slow?")
@@ -127,7 +127,8 @@ def parse_date(value: object, order: str | None = None, *, declarable: bool = Tr
 
 def parse_time_of_day(value: object) -> tuple[int, int, float]:
     """(hour, minute, second) of a time of day as written (24-hour clock; second 60 for a leap second), or on
-    the 12-hour clock with am or pm (1 to 11; 12 am and 12 pm are refused with both readings).
+    the 12-hour clock with am or pm (12:31 am is 00:31, 12:31 pm is 12:31; exactly 12:00 am or pm is refused
+    with both readings, noon or midnight).
 
     >>> parse_time_of_day("19:41:30"), parse_time_of_day("1941"), parse_time_of_day("7:15 pm")
     ((19, 41, 30.0), (19, 41, 0.0), (19, 15, 0.0))
@@ -161,8 +162,9 @@ def parse_time_of_day(value: object) -> tuple[int, int, float]:
 
 def _twelve_hour_time(value: str, clock: str, pm: bool) -> tuple[int, int, float]:
     """A time written on the 12-hour clock with am or pm (``clock`` without them): hours 1 to 11 read as the
-    12-hour clock reads them (7:15 pm is 19:15); 12 am and 12 pm are refused with both readings (midnight or
-    noon: usage differs), and an hour of 0 or over 12 beside am/pm as a contradiction."""
+    12-hour clock reads them (7:15 pm is 19:15), and 12 as the first hour of its half (12:31 am is 00:31, 12:31 pm
+    is 12:31: every usage agrees); exactly 12:00 am or pm is refused with both readings (noon or midnight: usage
+    differs), and an hour of 0 or over 12 beside am/pm as a contradiction."""
     half = "pm" if pm else "am"
     match = _TIME.match(clock) or _COMPACT_TIME.match(clock)
     if not match:
@@ -173,15 +175,16 @@ def _twelve_hour_time(value: str, clock: str, pm: bool) -> tuple[int, int, float
     if minute > 59 or second >= 61.0:
         raise TimeInputError(f"{value!r} is not a time of day (minute 0-59, second below 60, or 60 in a leap "
                              "second)")
-    if hour == 12:
+    if hour == 12 and minute == 0 and second == 0.0:
         raise TimeInputError(
-            f"time {value!r} has two readings: 00:{rest}, just after midnight, or 12:{rest}, just after noon (what "
-            f"12 {half} means differs from one usage to another): write it on the 24-hour clock")
+            f"time {value!r} has two readings: noon (12:00) or midnight (00:00 at the start of the date, or 24:00 at "
+            f"its end): 12:00 {half} is said of both, by one usage and another; write it on the 24-hour clock")
     if hour == 0 or hour > 12:
         raise TimeInputError(
             f"time {value!r}: hour {hour} with {half}, but the 12-hour clock runs 1 to 12: write it on the 24-hour "
             f"clock ({hour:02d}:{rest}) without {half}")
-    return hour + (12 if pm else 0), minute, second
+    # past the hour, 12 is the 12-hour clock's first hour of its half: 12:31 am is 00:31, 12:31 pm is 12:31
+    return hour % 12 + (12 if pm else 0), minute, second
 
 
 _ZONE = re.compile(r"^([+-]?)\s*(\d{1,2})(?:[.,]0+)?\s*(?:\(?\s*([A-Za-z])\s*\)?)?$")

@@ -191,3 +191,26 @@ def test_degree_minute_and_second_marks_are_honoured(text, kind, expected):
 def test_misplaced_marks_and_words_that_are_not_numbers_are_refused(text, kind, fragment):
     with pytest.raises(AngleInputError, match=re.escape(fragment)):
         parse_angle(text, kind)
+
+
+@pytest.mark.parametrize("text, kind, readings", [
+    # a double quote (or a seconds mark) after the first number past the degrees: minutes, or seconds with the
+    # minutes left out? 42° 12.9′ and 42° 00′ 12.9″ are 12.7′ apart (common practice: ′ minutes, ″ seconds)
+    ('42°12.9"', "angle", "42° 12.9′ (the mark meant for minutes) or 42° 00′ 12.9″ (the minutes left out)"),
+    ("42° 12.9″", "angle", "42° 12.9′ (the mark meant for minutes) or 42° 00′ 12.9″ (the minutes left out)"),
+    ("42°12.9”", "angle", "42° 12.9′ (the mark meant for minutes) or 42° 00′ 12.9″ (the minutes left out)"),
+    ('42 12.9"', "angle", "42° 12.9′ (the mark meant for minutes) or 42° 00′ 12.9″ (the minutes left out)"),
+    ('20°27.7"N', "lat", "20° 27.7′ N (the mark meant for minutes) or 20° 00′ 27.7″ N (the minutes left out)"),
+    ('12.9"', "angle", "12.9′ (the mark meant for minutes) or 0° 00′ 12.9″ (the minutes left out)"),
+    ('-0°30"', "signed", "-0° 30′ (the mark meant for minutes) or -0° 00′ 30″ (the minutes left out)"),
+])
+def test_a_seconds_mark_with_no_minutes_is_refused_naming_both_readings(text, kind, readings):
+    with pytest.raises(AngleInputError) as caught:
+        parse_angle(text, kind)
+    assert f"a seconds mark with no minutes: {readings}?" in str(caught.value)
+
+
+def test_seconds_after_minutes_are_still_seconds():
+    # common practice: with the minutes written, the double quote can only be seconds
+    assert parse_angle('42°12\'54"') == pytest.approx(42 + 12 / 60 + 54 / 3600, abs=1e-12)
+    assert parse_angle('42°00\'12.9"') == pytest.approx(42 + 12.9 / 3600, abs=1e-12)

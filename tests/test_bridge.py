@@ -206,6 +206,12 @@ def test_an_event_that_does_not_happen_is_blank_in_every_csv(tmp_path):
     assert "'-': the event does not happen that day" in result.stdout
 
 
+def utc_date_words(utc, under: str) -> str:
+    """What follows 'HH:MM UTC' printed under the date ``under``: '' on that UTC date, else ' 7 Dec'."""
+    day = pd.Timestamp(utc)
+    return "" if str(day.date()) == under else f" {day.day} {day:%b}"
+
+
 #: the date line, sailed both ways (a trial finding): 17° 30′ S, one degree short of 180°, steering 090° or 270°
 DATE_LINE = [("179 00 E", 179.0, 90.0), ("179 00 W", -179.0, 270.0)]
 LEVELS = {"nautical_dawn": -12.0, "civil_dawn": -6.0, "civil_dusk": -6.0, "nautical_dusk": -12.0}
@@ -238,6 +244,29 @@ def test_at_the_date_line_every_event_carries_its_own_zone_and_date(tmp_path, ts
         return float(lat), float((lon + 180.0) % 360.0 - 180.0)
 
     table = pd.read_csv(out, dtype=str, keep_default_na=False)
+    # the text: every UTC time on a line dated by the zone carries its UTC date where that is another (a
+    # navigator takes GHA and Dec from the day of the UTC date: ZT + ZD = UTC, common practice)
+    lines = result.stdout.splitlines()
+    other = 0
+    for line in lines:
+        found = re.match(r"(?:Morning|Evening) twilight, \w+ (\d+ \w+ \d{4}): (\d\d:\d\d) zone \(([+−]\d+)\), "
+                         r"(\d\d:\d\d) UTC( \d+ \w\w\w)?, from DR", line)
+        found = found or re.match(r" {2}(\d{4}-\d\d-\d\d) {2}(\d\d:\d\d) zone \(([+−]\d+)\), (\d\d:\d\d) UTC"
+                                  r"( \d+ \w\w\w)?: bearing", line)
+        if not found:
+            continue
+        zone_day = str(pd.Timestamp(found.group(1)).date())
+        utc = (np.datetime64(f"{zone_day}T{found.group(2)}")
+               + np.timedelta64(int(found.group(3).replace("−", "-")), "h"))
+        assert str(utc)[11:16] == found.group(4), line
+        assert (found.group(5) or "") == utc_date_words(utc, zone_day), line
+        other += bool(found.group(5))
+    assert other >= 3, "\n".join(lines[:30])  # evening rounds (+12) and the rounds or noon after the line
+    for line in lines:
+        row = re.match(r"(\d{4}-\d\d-\d\d) +([+−]\d+) +(.*)", line)
+        for zone, utc, on in re.findall(r"(\d\d:\d\d) \((\d\d:\d\d)( \d+ \w\w\w)?\)", row.group(3) if row else ""):
+            at = np.datetime64(f"{row.group(1)}T{zone}") + np.timedelta64(int(row.group(2).replace("−", "-")), "h")
+            assert str(at)[11:16] == utc and (on or "") == utc_date_words(at, row.group(1)), line
     seen_dates, checked, events = [], 0, []
     for row in table.itertuples(index=False):
         zd = float(row.zone_description_h)
@@ -284,12 +313,14 @@ def test_at_the_date_line_every_event_carries_its_own_zone_and_date(tmp_path, ts
         flat = " ".join(page.extract_text().split())
         head = re.search(r"(\d\d:\d\d) UTC (\d{4}-\d\d-\d\d), from DR", flat)
         noon = re.search(r"Noon that day: the Sun on the meridian at (\d\d:\d\d) zone \(([+−]?\d+), ([\d-]+); "
-                         r"(\d\d:\d\d) UTC\)", flat)
+                         r"(\d\d:\d\d) UTC( \d+ \w\w\w)?\)", flat)
         assert head and noon, flat[:300]
         at = np.datetime64(f"{head.group(2)}T{head.group(1)}")
         zd = int(noon.group(2).replace("−", "-"))
         noon_utc = np.datetime64(f"{noon.group(3)}T{noon.group(1)}") + np.timedelta64(zd, "h")
         assert str(noon_utc)[11:16] == noon.group(4)  # zone date and time + ZD = the UTC printed
+        # with its UTC date where that is not the zone date it follows
+        assert (noon.group(5) or "") == utc_date_words(noon_utc, noon.group(3)), noon.group(0)
         assert abs((noon_utc - at) / np.timedelta64(1, "h")) <= 14, (head.group(0), noon.group(0))
     # the rounds are labelled with their own zone date and zone
     plans = pd.read_csv(tmp_path / "dl-plans.csv", dtype=str, keep_default_na=False).drop_duplicates("round")

@@ -186,3 +186,15 @@ def test_chain_scalar_equals_array(hs, eye):
     one = correct_altitudes(hs, eye_height_m=eye)
     many = correct_altitudes(np.array([hs, hs]), eye_height_m=eye)
     assert np.all(many.ho_deg == one.ho_deg)
+
+
+def test_an_index_error_over_ten_minutes_is_used_and_warned_about():
+    # common practice: a sextant's index error is adjusted out when over a few minutes, so 14′ ("14 on", a slip
+    # for 1.4) is read as written, used, and warned about by its value; 10′ itself and less pass without a word
+    ie = np.array([parse_index_error_arcmin(v) for v in ("14 on", "12.5 off", "10 on", "1.4 on", "-10")])
+    result = correct_altitudes(np.full(5, 42.0), index_error_arcmin=ie, eye_height_m=3.0)
+    assert result.ic_arcmin.tolist() == [-14.0, 12.5, -10.0, -1.4, 10.0]  # the correction is the one written
+    assert "index error 14.0′ on the arc is unusually large (over 10′" in result.warning[0]
+    assert "index error 12.5′ off the arc is unusually large" in result.warning[1]
+    assert result.warning[2:].tolist() == ["", "", ""]
+    assert result.error.tolist() == [""] * 5 and np.isfinite(result.ho_deg).all()

@@ -139,3 +139,59 @@ def test_a_forked_process_reads_the_ephemeris_through_a_file_of_its_own():
     before = os.lseek(descriptor, 0, os.SEEK_CUR)
     assert list(forked_map(read_the_ephemeris_far_along, [0, 1], context=None, workers=2)) == [0, 1]
     assert os.lseek(descriptor, 0, os.SEEK_CUR) == before
+
+
+def _planted(tmp_path, bad_rows: dict[int, str]):
+    """The training voyage (invented) with Hs spoilt at the given log rows (the header is row 1)."""
+    lines = open("sample_sights/training_sights.csv", encoding="utf-8").read().splitlines()
+    for row, hs in bad_rows.items():
+        cells = lines[row - 1].split(",")
+        cells[3] = hs
+        lines[row - 1] = ",".join(cells)
+    path = tmp_path / "planted.csv"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    return str(path)
+
+
+def test_reduce_csv_counts_its_refusals_on_stderr_in_blocks_as_whole(tmp_path, monkeypatch):
+    """A long log's refusals are never hidden behind the CSV: after it, on stderr, the sights read, reduced,
+    warned about and not reduced, and each refusal by kind with its rows; in blocks of 60 rows shared among two
+    processes the same lines as the log read whole. Rows planted: 37 unreadable Hs (one kind, in five blocks) and
+    one Hs of 72 minutes (another kind); past 30 the first three of each kind are shown, the rest counted."""
+    unreadable = [5, *range(70, 101), 130, 190, 250, 251, 400]
+    path = _planted(tmp_path, {**{row: "4x.5" for row in unreadable}, 300: "42 72.0"})
+    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 60)
+    monkeypatch.setattr(forking, "cores", lambda: 2)
+    shared = runner.invoke(app, ["reduce", path, "--csv"])
+    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 100_000)
+    whole = runner.invoke(app, ["reduce", path, "--csv"])
+    table = runner.invoke(app, ["reduce", path])
+    # some rows refused, others reduced: exit 0, as navred reduce without --csv and navred fix
+    assert shared.exit_code == whole.exit_code == table.exit_code == 0
+    assert runner.invoke(app, ["fix", path]).exit_code == 0
+    assert shared.stdout == whole.stdout
+    assert shared.stderr == whole.stderr
+    lines = [line for line in shared.stderr.splitlines() if not line.startswith(("CAUTION", "note: planted.csv"))]
+    assert lines[0] == "405 sights read: 367 reduced (0 with a warning), 38 not reduced"
+    # the first three of the unreadable kind in full, the rest counted with their rows; the other kind shown
+    assert [line.split(" (")[0] for line in lines[1:4]] == ["not reduced: row 5", "not reduced: row 70",
+                                                            "not reduced: row 71"]
+    assert "'4x.5'" in lines[1]
+    assert lines[4] == "  and 34 more like it (rows 72-100, 130, 190, 250-251, 400)"
+    assert lines[5].startswith("not reduced: row 300 (") and "'42 72.0'" in lines[5]
+    assert "every row's status and message is in the CSV" in lines[6] and len(lines) == 7
+    # the text form says the same count
+    assert "367 sights reduced (0 with a warning), 38 not reduced" in table.stdout
+
+
+def test_reduce_csv_with_every_row_refused_says_so_and_exits_1(tmp_path, monkeypatch):
+    """Every row refused: the count and the refusals, then exit 1 as navred reduce and navred fix do."""
+    path = _planted(tmp_path, {row: "4x.5" for row in range(2, 407)})
+    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 60)
+    monkeypatch.setattr(forking, "cores", lambda: 2)
+    shared = runner.invoke(app, ["reduce", path, "--csv"])
+    assert shared.exit_code == runner.invoke(app, ["reduce", path]).exit_code == \
+        runner.invoke(app, ["fix", path]).exit_code == 1
+    assert "405 sights read: 0 reduced (0 with a warning), 405 not reduced" in shared.stderr
+    assert "and 402 more like it (rows 5-406)" in shared.stderr
+    assert "nothing could be reduced: every one of the 405 rows was rejected" in shared.stderr

@@ -106,6 +106,134 @@ def test_one_groups_quick_root_gives_the_fix_the_arrays_give(per_group, monkeypa
                 same(a, b, f"{per_group} sights, {name}")
 
 
+def varied_table(seed: int, groups: int = 16) -> pd.DataFrame:
+    """Invented sights of ``groups`` fix groups of 2 to 12 sights each, all sizes in one table (so each group is
+    laid out beside groups of other sizes): sights with scatter, sights with none at all, 6′ blunders, gross
+    errors of a degree, a course and speed in some groups, none in others (the ship stopped, or its own DRs
+    apart), a current after some sights, a σ of its own on some sights (weights), rounds spread over an hour
+    (for the course and speed made good) or over a few minutes, a group left with one sight and one of parallel
+    lines. Ho is Hc at a random true position (the reference: navred's own triangle, itself checked against
+    skyfield in tests/test_triangle.py); the DR 5 to 25 nm off (common practice)."""
+    rng = np.random.default_rng(seed)
+    sizes = rng.integers(2, 13, groups)
+    g = np.repeat(np.arange(groups), sizes)
+    n = g.size
+    within = np.arange(n) - np.repeat(np.cumsum(sizes) - sizes, sizes)
+    lat, lon = rng.uniform(-65, 65, groups), rng.uniform(-180, 180, groups)
+    gha = np.mod(rng.uniform(-75, 75, n) - lon[g], 360.0)
+    dec = np.clip(lat[g] + rng.uniform(-60, 60, n), -60, 60)
+    parallel = g == 1  # one group's bodies on one hour circle at one declination
+    gha[parallel], dec[parallel] = gha[parallel][0], dec[parallel][0]
+    ho, _ = computed_altitude_azimuth(lat[g], lon[g], gha, dec)
+    exact = np.isin(g, [3, 4])  # no scatter at all
+    noise = rng.normal(0, rng.uniform(0.1, 1.0) / 60, n)
+    blunder = np.where(rng.random(n) < 0.07, 0.1, 0.0) + np.where(rng.random(n) < 0.03, 1.0, 0.0)
+    ho = ho + np.where(exact, 0.0, noise + blunder)
+    north, east = rng.uniform(-25, 25, groups), rng.uniform(-25, 25, groups)
+    dr_lat, dr_lon = move_position(lat, lon, north, east)
+    spacing = np.where(g % 2 == 0, 420, 100)  # rounds of over an hour in half the groups, minutes in the others
+    start = pd.Timestamp("2025-06-01T20:00Z")
+    table = pd.DataFrame({
+        "gha_deg": gha, "dec_deg": dec, "ho_deg": ho, "status": "ok",
+        "sight_utc": start + pd.to_timedelta(within * spacing + g * 7200, unit="s"),
+        "dr_lat_deg": dr_lat[g], "dr_lon_deg": dr_lon[g],
+        "course_deg": np.where(g % 3 == 0, np.nan, rng.uniform(0, 360, groups)[g]),
+        "speed_kn": np.where(g % 3 == 0, np.nan, rng.uniform(0, 16, groups)[g]),
+        "fix_group": [f"g{k}" for k in g], "row": np.arange(n) + 2})
+    own = g == 6  # no course or speed, each sight's DR its own (the run between them)
+    table.loc[own, "dr_lat_deg"] += within[own] * 0.01
+    table.loc[own, ["course_deg", "speed_kn"]] = np.nan
+    if seed % 2:
+        table["current_set_deg"] = rng.uniform(0, 360)
+        table["current_drift_kn"] = np.where(rng.random(n) < 0.5, rng.uniform(0.2, 2.5), 0.0)
+    if seed % 3 == 1:
+        table["sigma_arcmin"] = np.where(rng.random(n) < 0.4, rng.uniform(0.3, 2.0, n), np.nan)
+    first_of_2 = np.flatnonzero(g == 2)
+    table.loc[table.index[first_of_2[1:]], "status"] = "error"  # group g2 keeps one sight
+    return table
+
+
+@pytest.mark.parametrize("seed", range(12))
+def test_groups_of_every_size_fixed_at_once_are_what_they_are_alone(seed):
+    # issue 26: the batched fix is the single fix, field by field and to the last bit, whatever sizes of group
+    # are laid out side by side (each group's arrays are padded to the widest in a batch: numpy's sums along
+    # the sights and the running fix's sights × sights matrices would differ in the last digit), whether or not
+    # the others run between their sights or start their latitudes elsewhere, with and without the course and
+    # speed made good solved. The reference is the fix of the group alone (navred.fix_position)
+    table = varied_table(seed)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", navred.NavredWarning)
+        for motion in (False, True):
+            every = fix_positions(table, solve_motion=motion)
+            assert "g2" in every.problems  # one sight
+            assert every.get("g1") is None or not every["g1"].is_fix  # parallel lines: a line of position at most
+            for name in every.results:
+                same(every[name], fix_position(table, group=name, solve_motion=motion), f"seed {seed} {name}")
+        if seed == 0:  # the table's every kind met: running fixes, a current, check fixes, fixes with motion
+            kinds = {r.run_from for r in every.results.values()}
+            assert len(kinds) >= 3, kinds
+
+
+def test_groups_solved_a_few_at_a_time_are_what_they_are_all_together(monkeypatch):
+    # groups of many sights are solved a few at a time (each running fix's σ takes a sights × sights matrix:
+    # navred.fixbatch.BATCH_MATRIX_CELLS bounds them); with the bound made tiny every group of the varied tables
+    # is solved one or two at a time, and each fix is, field by field, the fix of the whole table at once
+    import navred.fixbatch as fixbatch
+
+    for seed in (0, 1, 4):
+        table = varied_table(seed)
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", navred.NavredWarning)
+            together = fix_positions(table)
+            monkeypatch.setattr(fixbatch, "BATCH_MATRIX_CELLS", 50)
+            few = fix_positions(table)
+            monkeypatch.undo()
+        assert set(few.results) == set(together.results) and few.problems == together.problems
+        for name in together.results:
+            same(few[name], together[name], f"seed {seed} {name}")
+
+
+def test_a_latitude_from_its_meridian_arc_is_worked_for_itself_whatever_is_beside_it():
+    # the pieces a batch of running fixes shares: a latitude started near its own known latitude (a run under
+    # 300 nm) is the same number whether or not a longer run (started by the footpoint series) is worked in the
+    # same array; all agree with the meridian arc they came from (navred.sailings.meridian_arc_m, the series of
+    # Snyder's Map Projections: A Working Manual, eq. 3-21, citation from memory) to a millimetre
+    from navred.sailings import latitude_from_meridian_arc_deg, meridian_arc_m
+
+    rng = np.random.default_rng(26)
+    lat = rng.uniform(-80, 80, 400)
+    arc = meridian_arc_m(lat)
+    target = arc + rng.uniform(-500_000, 500_000, 400)  # up to 270 nm: each started near its own latitude
+    target[0] = arc[0] - 1_000_000.0  # 540 nm: too far, started by the series
+    together = latitude_from_meridian_arc_deg(target, (lat, arc))
+    near = latitude_from_meridian_arc_deg(target[1:], (lat[1:], arc[1:]))
+    assert np.array_equal(together[1:], near)
+    assert together[0] == latitude_from_meridian_arc_deg(target[:1], (lat[:1], arc[:1]))[0]
+    np.testing.assert_allclose(meridian_arc_m(together), target, atol=1e-3)
+
+
+def test_a_track_of_no_run_beside_tracks_that_run_is_where_the_ship_is():
+    # a batch of sight tracks (navred.reckoning.DRTrack.through): a track with no run gives the position as given
+    # (not the position sent round the meridian arc and back), as it does alone, and one that runs what it gives
+    # alone
+    from navred.leastsquares import sight_track
+
+    rng = np.random.default_rng(27)
+    n = 300
+    hours = np.broadcast_to([-0.5, -0.25, 0.0], (n, 3))
+    runs = np.arange(n) % 2 == 1
+    north = np.where(runs, rng.uniform(-12, 12, n), 0.0)[:, None] * np.ones(3)
+    east = np.where(runs, rng.uniform(-12, 12, n), 0.0)[:, None] * np.ones(3)
+    lat, lon = rng.uniform(-70, 70, n), rng.uniform(-180, 180, n)
+    at = np.full(n, 3)
+    both = sight_track(hours, north, east).through(lat, lon, at)
+    assert (both[0][~runs] == lat[~runs, None]).all() and (both[1][~runs] == lon[~runs, None]).all()
+    for k in range(0, n, 7):
+        one = sight_track(hours[k:k + 1], north[k:k + 1], east[k:k + 1]).through(lat[k:k + 1], lon[k:k + 1], at[:1])
+        assert np.array_equal(one[0][0], both[0][k]) and np.array_equal(one[1][0], both[1][k]), k
+    assert (both[0][runs, 0] != lat[runs]).all()  # the others run
+
+
 def test_a_fix_time_and_a_chart_position_per_group_and_the_groups_chosen():
     table = groups_table(groups=6)
     when = {"g3": "2025-06-01T23:00Z"}
@@ -120,8 +248,11 @@ def test_a_fix_time_and_a_chart_position_per_group_and_the_groups_chosen():
         fix_positions(table, groups=["g9"])
 
 
-def test_the_demo_logs_groups_at_once_as_one_at_a_time():
-    reduced = navred.reduce_sights(navred.read_sight_log("sample_sights/demo_sights.csv"))
+@pytest.mark.parametrize("log", ["sample_sights/demo_sights.csv", "tests/data/training_voyage_5d_seed77.csv"])
+def test_the_demo_logs_groups_at_once_as_one_at_a_time(log):
+    # the demo and the training voyage frozen in tests/data (invented, built by scripts/make_training_voyage.py):
+    # every group of the log fixed at once is, field by field, the group fixed alone
+    reduced = navred.reduce_sights(navred.read_sight_log(log))
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", navred.NavredWarning)
         fixes = fix_positions(reduced)

@@ -180,7 +180,7 @@ def test_zone_time_and_watch_error_forms(tmp_path, row, expected):
     (zone_row(error="-3"), "watch_error", "as an error (+ fast) it is 3 s slow (added to the watch's reading); as a "
                                           "correction (+ added) it is 3 s fast"),
     (zone_row(time="18:42:30Z"), "zone_time", "carries a zone of its own"),
-    (zone_row(time="12:41 pm"), "zone_time", "two readings: 00:41, just after midnight, or 12:41, just after noon"),
+    (zone_row(time="12:00 pm"), "zone_time", "two readings: noon (12:00) or midnight"),
     (zone_row(date="05/03/2026"), "date", "day-first it is 2026-03-05 (5 March), month-first 2026-05-03 (3 May)"),
     (zone_row(date="05/03/26"), "date", "two-digit year"),
     (zone_row(date=""), "date", "needs its date"),
@@ -978,3 +978,27 @@ def test_a_blank_watch_error_in_zone_time_is_said_to_be_taken_as_nil(tmp_path):
         "watch error blank on row 3: the time taken as read, 0 s fast or slow assumed (write 0 s where the watch is "
         "right; 1 s of time is 0.25′ of longitude)"]
     assert not any("watch error blank" in n for n in read_sight_log(write(tmp_path, [ZONE_HEADER, zone_row()])).notes)
+
+
+def test_hand_kept_slips_of_the_marks_and_the_index_error_are_refused_or_warned_by_row(tmp_path):
+    """The demo's hand-kept log (invented) with two slips a navigator makes: Hs written 25° 03.1" (a double
+    quote for the minutes mark) is refused by its row naming both readings, never read as 3.1 seconds; IE
+    written '14 on' (for 1.4) is reduced with 14′ and warned about (common practice: an index error over a few
+    minutes is adjusted out). The other rows reduce as before, every command reading them alike."""
+    from navred.jobs.reducing import reduce_log
+
+    log = pd.read_csv("sample_sights/demo_sights_hand_kept.csv", dtype=str, keep_default_na=False)
+    log.loc[0, "Hs"] = '25° 03.1"'
+    log.loc[1, "IE"] = "14 on"
+    log.to_csv(tmp_path / "slips.csv", index=False)
+    plain = reduce_log("sample_sights/demo_sights_hand_kept.csv").reduced
+    done = reduce_log(tmp_path / "slips.csv").reduced
+    assert done.loc[0, "status"] == "error" and done.loc[0, "row"] == 2 and done.loc[0, "error_column"] == "Hs"
+    assert "25° 03.1′ (the mark meant for minutes) or 25° 00′ 03.1″ (the minutes left out)" in done.loc[0, "message"]
+    assert done.loc[1, "status"] == "warning" and done.loc[1, "index_error_arcmin"] == 14.0
+    assert "index error 14.0′ on the arc is unusually large" in done.loc[1, "message"]
+    # 14′ on the arc instead of 1.4′: the index correction 12.6′ more, Ho about 12.6′ lower (refraction at the
+    # lower altitude differs by a few hundredths of a minute)
+    assert done.loc[1, "ic_arcmin"] == -14.0 and plain.loc[1, "ic_arcmin"] == -1.4
+    assert (plain.loc[1, "ho_deg"] - done.loc[1, "ho_deg"]) * 60 == pytest.approx(12.6, abs=0.02)
+    pd.testing.assert_series_equal(plain.ho_deg.iloc[2:], done.ho_deg.iloc[2:])

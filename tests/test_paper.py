@@ -347,8 +347,8 @@ def reduced_from_the_pages(paper, ts, eph, truth_of, run_of, sights_title: str, 
     # the noon Sun: the time and the Sun's Dec and SD from the pages
     noon_lines = page_titled(paper, "The noon Sun: local apparent noon along the DR")
     k = noon_lines.index(noon_date)
-    noon_utc = np.datetime64(f"{noon_date}T{noon_lines[k + 3]}", "ns")
-    bearing = noon_lines[k + 9]
+    noon_utc = np.datetime64(f"{noon_lines[k + 4]}T{noon_lines[k + 3]}", "ns")  # the UTC and its UTC date
+    bearing = noon_lines[k + 10]
     figures = page_titled(paper, "Altitude corrections: the Moon, the Sun and the planets")
     sun_sd = number(figures[figures.index(noon_date) + 1])
     # the highest reading of the lower limb, a reading every 10 s for 20 minutes about the printed noon
@@ -965,24 +965,41 @@ def test_over_the_date_line_the_paper_dates_each_round_by_its_zone_date_as_the_p
     assert [p.title for p in pages][:3] == titles
     plan = bridge_plan("2026-12-14", 3, -17.5, lon, course_deg=course, speed_kn=8.0, eye_height_m=3.0)
     by_plan = {str(r.presets.utc.astype("datetime64[m]")): (r.label.split(", ", 1)[1], r.zone_h) for r in plan.rounds}
-    planned = []
+    planned, differs = [], 0
     for page in pages:
         date = page.title[len("Sights for "):].split(" (")[0]
         text = " ".join(block.text for block in page.blocks if hasattr(block, "text"))
-        for hhmm, zone, utc in re.findall(r"twilight: planned (\d\d:\d\d) zone time \(([+−]\d+)\), (\d\d:\d\d) UTC",
-                                          text):
+        for hhmm, zone, utc, on in re.findall(r"twilight: planned (\d\d:\d\d) zone time \(([+−]\d+)\), (\d\d:\d\d) "
+                                              r"UTC( \d+ \w\w\w)?, from DR", text):
             twilight = next(t for t in made.twilights if hm(t.presets.utc) == utc
                             and long_date_of(zone_date(t.presets.utc, t.zone_h)) == date)
             assert hm(zone_time(twilight.presets.utc, twilight.zone_h)) == hhmm
+            # the UTC carries its UTC date wherever that is not the page's (zone) date, and the page names the
+            # hourly page to open: that of the UTC date (ZT = UTC − ZD, common practice)
+            when = pd.Timestamp(twilight.presets.utc).round("min")
+            assert on == ("" if long_date_of(when.date()) == date else f" {when.day} {when:%b}"), (date, utc, on)
+            differs += bool(on)
+            assert f"GHA and Dec: the hourly page of {long_date_of(when.date())}" in text
             assert float(zone.replace("−", "-")) == twilight.zone_h
             key = str(twilight.presets.utc.astype("datetime64[m]"))
             planned.append(key)
             if key in by_plan:  # the plan names the same round by the same date and zone
                 assert by_plan[key] == (date, twilight.zone_h), (key, by_plan[key], date)
-        for hhmm, zone in re.findall(r"Noon: the Sun on the meridian at (\d\d:\d\d) zone time \(([+−]\d+)\)", text):
+        for hhmm, zone, on in re.findall(r"Noon: the Sun on the meridian at (\d\d:\d\d) zone time \(([+−]\d+)\), "
+                                         r"\d\d:\d\d UTC( \d+ \w\w\w)?", text):
             noon = next(n for n in made.noons if hm(zone_time(n.utc, n.zone_h)) == hhmm
                         and float(zone.replace("−", "-")) == n.zone_h)
             assert long_date_of(noon.zone_date) == date
+            when = pd.Timestamp(noon.utc).round("min")
+            assert on == ("" if long_date_of(when.date()) == date else f" {when.day} {when:%b}"), (date, hhmm, on)
+            differs += bool(on)
+        # no UTC time on the page without its date where that is another (the civil and nautical times too)
+        for stamp, on in re.findall(r"(\d\d:\d\d) UTC( \d+ \w\w\w)?", text):
+            assert any(pd.Timestamp(t).round("min").strftime("%H:%M") == stamp
+                       and (long_date_of(pd.Timestamp(t).round("min").date()) == date) == (not on)
+                       for t in [x for tw in made.twilights for x in (tw.presets.utc, tw.nautical, tw.civil)]
+                       + [n.utc for n in made.noons]), (date, stamp, on)
+    assert differs >= 2  # the line cuts the days: a round or noon on another UTC date than its page, each way
     # the noon Sun page dates each noon the same way
     noon_page = next(p for p in made.document.pages if p.title.startswith("The noon Sun"))
     table = next(block for block in noon_page.blocks if hasattr(block, "rows"))
@@ -991,6 +1008,10 @@ def test_over_the_date_line_the_paper_dates_each_round_by_its_zone_date_as_the_p
                                               for n in made.noons]
     assert [row[2] for row in table.rows] == [f"ZD {'+' if n.zone_h > 0 else '−'}{abs(n.zone_h):g}"
                                               for n in made.noons]
+    # and gives each noon's UTC date beside its UTC (the Dec comes from the hourly page of that date)
+    assert [(row[3], row[4]) for row in table.rows] == [
+        (f"{pd.Timestamp(n.utc).round('min'):%H:%M}", str(pd.Timestamp(n.utc).round("min").date())) for n in made.noons]
+    assert table.csv_columns[3:5] == ("utc", "utc_date")
     # a page the line cuts says where its other round and noon are
     first = " ".join(block.text for block in pages[0].blocks if hasattr(block, "text"))
     assert f"round: on the page of {titles[1][len('Sights for '):].split(' (')[0]}, across the date line" in first
@@ -1020,3 +1041,39 @@ def test_a_change_signed_plus_is_written_to_the_csv_and_anything_else_formula_li
     for bad in ("+15.8+cmd|' /C calc'!A0", "=1+1", "-2+3", "@SUM(1)"):
         with pytest.raises(NavredError, match="could be taken for a formula"):
             table_csv(Table(columns=("a",), rows=((bad,),), name="x", csv_columns=("a",)))
+
+
+@pytest.mark.parametrize("lat, course, speed, kept", [
+    (-14.0, 250.0, 7.0, False),  # the trial's passage: 14° S to 17° S, Polaris never up
+    (-6.0, 0.0, 0.0, False),  # at anchor 6° S: south of the rule's 5° S
+    (-4.0, 0.0, 0.0, True),  # at anchor 4° S: Polaris still below, but within the margin
+    (-8.0, 0.0, 10.0, True),  # from 8° S north at 10 kn: past 5° S within the four days
+    (40.0, 90.0, 6.0, True),
+])
+def test_the_polaris_page_and_form_are_left_out_where_polaris_never_rises(lat, course, speed, kept):
+    """Trial finding: a passage at 14°-17° S carried the Polaris table and its working form, though Polaris is
+    never above the horizon there. Its altitude is the latitude within its polar distance, about 0.6° (common
+    practice), so south of about 0.6° S it is below the horizon; the paper prints its page and form where the DR
+    comes as far north as 5° S at any hour of the passage (a margin for a DR a few degrees out), and otherwise
+    says in one line why they are left out (on the cover; the stars page no longer points to them)."""
+    from navred.jobs.paper import POLARIS_FROM_LAT_DEG, passage_paper
+
+    assert POLARIS_FROM_LAT_DEG == -5.0
+    made = passage_paper("2026-12-06", "2026-12-09", lat, -173.5, course_deg=course, speed_kn=speed,
+                         eye_height_m=3.0)
+    titles = [page.title for page in made.document.pages]
+    cover = " ".join(block.text for block in made.document.pages[0].blocks if hasattr(block, "text"))
+    stars = " ".join(block.text for page in made.document.pages if page.title == "The stars: SHA and Dec"
+                     for block in page.blocks if hasattr(block, "text"))
+    note = "No Polaris page or Polaris form: the DR stays south of 5° S all passage"
+    # the DR's northernmost latitude, by the test: 4 days at 10 kn north is 960′ = 16° (common practice: a
+    # minute of latitude is a mile)
+    northmost = lat + (speed * 24 * 4 / 60.0 if course == 0.0 else 0.0)
+    assert (northmost >= -5.0) == kept
+    assert ("Latitude by Polaris" in titles) == kept
+    assert ("Hand working: latitude by Polaris" in titles) == kept
+    assert (note in cover) == (not kept)
+    assert ("Latitude by Polaris ·" in cover) == kept
+    assert ("for its latitude use the Polaris table" in stars) == kept
+    assert ("Polaris is below the horizon all this passage" in stars) == (not kept)
+    assert "Hand working: stars, by the intercept method" in titles  # the other forms stay

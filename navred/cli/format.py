@@ -301,6 +301,39 @@ def sight_warning_lines(reduced: pd.DataFrame, labels, rows=None, *, indent: str
     return by_kind(entries, shown, indent=indent)
 
 
+def sight_refusal_lines(reduced: pd.DataFrame, labels, *, shown: int | None = None) -> list[str]:
+    """Each sight not reduced and why, named by its row; ``shown`` as for :func:`sight_warning_lines` (the same
+    counting by kind)."""
+    if not len(reduced):
+        return []
+    status = reduced["status"].to_numpy()
+    messages = reduced["message"].to_numpy(dtype=object)
+    bodies = reduced["body_name"].to_numpy(dtype=object)
+    entries = [(labels[row], f"not reduced: {labels[row]} ({bodies[row] or '?'}): {messages[row]}", messages[row])
+               for row in range(len(reduced)) if status[row] == SightStatus.ERROR]
+    return by_kind(entries, shown)
+
+
+def reduced_count_lines(count) -> list[str]:
+    """What a reduction written as CSV came to (:class:`navred.jobs.reducing.ReducedCount`), for stderr after
+    the CSV: the sights read, reduced, warned about and not reduced, then each refusal and each warning, counted
+    by kind as every command counts its warnings (:func:`by_kind`)."""
+    empty = f", {count.empty_rows:,} empty row{'s' if count.empty_rows > 1 else ''} skipped" if count.empty_rows else ""
+    lines = [f"{count.rows:,} sight{'' if count.rows == 1 else 's'} read: {count.reduced:,} reduced "
+             f"({count.warned:,} with a warning), {count.refused:,} not reduced{empty}"]
+    flagged = count.flagged
+    if flagged is None or not len(flagged):
+        return lines
+    labels = labels_of(flagged)
+    refusals = sight_refusal_lines(flagged, labels, shown=WARNINGS_SHOWN)
+    warnings = sight_warning_lines(flagged, labels, shown=WARNINGS_SHOWN)
+    lines += refusals + warnings
+    if len(refusals) < count.refused or len(warnings) < count.warned:
+        lines.append(f"note: the first {WARNINGS_SHOWN} of each kind shown above; every row's status and message "
+                     "is in the CSV")
+    return lines
+
+
 def group_warning_lines(groups, *, shown: int | None = None) -> list[str]:
     """Each fix's warnings, named by its group; ``shown`` as for :func:`sight_warning_lines`."""
     entries = [(f"group {group.name}", f"warning: group {group.name}: {text}", text) for group in groups

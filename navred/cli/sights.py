@@ -81,20 +81,24 @@ def reduce_command(
 
     Example:  navred reduce sample_sights/demo_sights.csv
     """
-    from ..jobs.reducing import reduce_log, reduce_log_csv, require_reduced
+    from ..jobs.reducing import ReducedCount, reduce_log, reduce_log_csv, require_reduced
 
     with reported(ctx):
         if csv:
             done = reduce_log_csv(source(sights_files), dates=dates, rates=ratings(rates, dates),
                                   navigators=tuple(navigator or ()))
             print_notes(done)
-            rows = reduced = 0
+            count = ReducedCount()
             sys.stdout.flush()
-            for text, block_rows, block_reduced in done.blocks():  # UTF-8 bytes, as made
+            for text, block_count in done.blocks():  # UTF-8 bytes, as made
                 sys.stdout.buffer.write(text)
-                rows, reduced = rows + block_rows, reduced + block_reduced
+                count = count + block_count
             sys.stdout.buffer.flush()
-            require_reduced(rows, reduced, "the CSV names each row and why (status, message)")
+            from .format import reduced_count_lines
+
+            # after the CSV, on stderr: what was read, reduced and refused, each refusal and warning by kind
+            echo_lines(reduced_count_lines(count), err=True)
+            require_reduced(count.rows, count.reduced, "the CSV names each row and why (status, message)")
             return
         from .format import reduce_lines
 

@@ -50,6 +50,38 @@ def hm(utc64) -> str:
     return str(to_minute(utc64))[11:16]
 
 
+def utc_stamp(utc64, date) -> str:
+    """'HH:MM UTC' of an instant printed under ``date`` (a heading's or a line's date, most often a zone date),
+    with the UTC date added where it is another: '06:40 UTC 7 Dec'. The hourly GHA and Dec go by the UTC date,
+    so a UTC time without its date under a zone date that is not its own sends a navigator to the wrong day's
+    page; '' for none."""
+    if utc64 is None or np.isnat(np.datetime64(utc64, "ns")):
+        return ""
+    other = utc_date_if_other(utc64, date)
+    return f"{hm(utc64)} UTC" + (f" {short_date(other)}" if other is not None else "")
+
+
+def utc_hm(utc64, date) -> str:
+    """'HH:MM' of a UTC instant printed under ``date``, with its UTC date where it is another: '06:40 7 Dec'."""
+    other = utc_date_if_other(utc64, date)
+    return hm(utc64) + (f" {short_date(other)}" if other is not None else "")
+
+
+def utc_date_if_other(utc64, date) -> np.datetime64 | None:
+    """The UTC date of an instant (rounded to the minute, as printed) where it is not ``date``, else None."""
+    on = to_minute(utc64).astype("datetime64[D]")
+    return None if date is not None and on == np.datetime64(date, "D") else on
+
+
+def short_date(day) -> str:
+    """A date as '7 Dec' (the month in letters: never a day-first or month-first reading)."""
+    value = dt.date.fromisoformat(str(np.datetime64(day, "D")))
+    return f"{value.day} {MONTHS[value.month - 1]}"
+
+
+MONTHS = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec")
+
+
 def zone_time(utc64, zone_h: float) -> np.datetime64:
     """Zone time of a UTC instant: ZT = UTC − ZD."""
     return np.datetime64(utc64, "ns") - np.timedelta64(int(round(zone_h * 60)), "m")
@@ -238,6 +270,11 @@ def planned_rounds(events: dict, plans: list[SightPlan], track: DRTrack, *, eye_
     return rounds
 
 
+def heading_date(round_: PlannedTwilight) -> np.datetime64:
+    """The date a round is named by: its zone date, or the UTC date of a plan made at a UTC instant."""
+    return (np.datetime64(round_.presets.utc, "D") if round_.kind == "Sight plan" else round_.zone_date)
+
+
 def twilight_times(round_: PlannedTwilight, zone_h: float) -> str:
     """A round's twilight in zone time, in the order they come: 'nautical twilight 04:39, civil 05:13' in the
     morning, 'civil twilight 18:42, nautical 19:16' in the evening."""
@@ -312,22 +349,27 @@ class BridgePlan:
                  f"time of {self.first_date}{moving}",
                  f"Height of eye {self.eye_height_m:g} m, {self.index_error_words()}"
                  + ": the Hs to preset is Hc with dip, refraction, SD, parallax and index error taken back off.",
-                 "Times are zone time (ZT + ZD = UTC) with UTC in brackets, to the minute; '-': the event does not "
-                 "happen that day.", ""]
+                 "Times are zone time (ZT + ZD = UTC) with UTC in brackets, to the minute; a UTC time on another "
+                 "date than the line it stands on carries its UTC date (take GHA and Dec for that date); '-': the "
+                 "event does not happen that day.", ""]
         names = ("nautical dawn", "civil dawn", "sunrise", "noon", "sunset", "civil dusk", "nautical dusk")
         lines.extend(change.text() for change in self.changes)
-        lines.append(f"{'date':<12}{'ZD':>4}" + "".join(f"{n:>16}" for n in names))
+        rows = []
         for day in self.days:
             cells = []
             for key in EVENT_KEYS:
                 when = day.times[key]
-                cells.append("-" if np.isnat(when) else f"{hm(zone_time(when, day.zone_h))} ({hm(when)})")
-            lines.append(f"{str(day.date):<12}{zone_text(day.zone_h):>4}" + "".join(f"{c:>16}" for c in cells))
+                cells.append("-" if np.isnat(when) else f"{hm(zone_time(when, day.zone_h))} ({utc_hm(when, day.date)})")
+            rows.append((day, cells))
+        width = max([16] + [len(c) + 2 for _, cells in rows for c in cells])
+        lines.append(f"{'date':<12}{'ZD':>4}" + "".join(f"{n:>{width}}" for n in names))
+        for day, cells in rows:
+            lines.append(f"{str(day.date):<12}{zone_text(day.zone_h):>4}" + "".join(f"{c:>{width}}" for c in cells))
         lines.append("")
         lines.append("Noon: the Sun on the meridian at the DR (lower limb)")
         for noon in self.noons:
             lines.append(f"  {noon.zone_date}  {hm(zone_time(noon.utc, noon.zone_h))} zone ({zone_text(noon.zone_h)}), "
-                         f"{hm(noon.utc)} UTC: bearing {noon.bearing}, Hs to preset {dm(noon.hs_deg, 'signed')} "
+                         f"{utc_stamp(noon.utc, noon.zone_date)}: bearing {noon.bearing}, Hs to preset {dm(noon.hs_deg, 'signed')} "
                          f"(Hc {dm(noon.hc_deg, 'signed')}, Dec {dm(noon.dec_deg, 'dec')}), DR "
                          f"{dm(noon.lat_deg, 'lat')} {dm(noon.lon_deg, 'lon')}")
         lines.append("")
@@ -339,10 +381,12 @@ class BridgePlan:
             lines.append("  none in these days")
         for k, window in enumerate(self.windows):
             zd = self.window_zones[k] if k < len(self.window_zones) else self._zone_on(window.best)
+            on = zone_date(window.start, zd)
             span = (f"{hm(zone_time(window.start, zd))} to {hm(zone_time(window.end, zd))} zone ({zone_text(zd)}), "
-                    f"{hm(window.start)} to {hm(window.end)} UTC" if hm(window.start) != hm(window.end) else
-                    f"only about {hm(zone_time(window.start, zd))} zone ({zone_text(zd)}), {hm(window.start)} UTC")
-            lines.append(f"  Sun and {window.body:<8} {str(zone_time(window.start, zd))[:10]} {span}; best "
+                    f"{utc_stamp(window.start, on)} to {utc_stamp(window.end, on)}" if hm(window.start) != hm(window.end)
+                    else f"only about {hm(zone_time(window.start, zd))} zone ({zone_text(zd)}), "
+                    f"{utc_stamp(window.start, on)}")
+            lines.append(f"  Sun and {window.body:<8} {on} {span}; best "
                          f"{hm(zone_time(window.best, zd))} zone: crossing {window.crossing_deg:.0f}°, Sun "
                          f"{window.sun_hc_deg:.0f}°, {window.body} {window.body_hc_deg:.0f}°")
         return lines
@@ -356,7 +400,8 @@ class BridgePlan:
     def _round_lines(self, round_: PlannedTwilight) -> list[str]:
         p = round_.presets
         zd = round_.zone_h
-        head = (f"{round_.label}: {hm(zone_time(p.utc, zd))} zone ({zone_text(zd)}), {hm(p.utc)} UTC, from DR "
+        head = (f"{round_.label}: {hm(zone_time(p.utc, zd))} zone ({zone_text(zd)}), "
+                f"{utc_stamp(p.utc, heading_date(round_))}, from DR "
                 f"{dm(p.lat_deg, 'lat')} {dm(p.lon_deg, 'lon')}")
         lines = [head]
         if not np.isnat(round_.nautical):
@@ -468,7 +513,7 @@ class BridgePlan:
                                    "told, so its set may differ).", "body"))
             blocks.append(table)
             figure = sky_picture(round_.plan, title=f"{round_.label}: {hm(zone_time(p.utc, zd))} zone, "
-                                                    f"{hm(p.utc)} UTC")
+                                                    f"{utc_stamp(p.utc, heading_date(round_))}")
             blocks.append(Drawing(figure, 255.0 / figure.width))
             blocks.append(Text(f"Choice: {round_.plan.explanation}", "small"))
             # the noon of the round's own day: the nearest (a local date can come twice at the date line)
@@ -477,7 +522,7 @@ class BridgePlan:
                 noon = None
             if noon is not None:
                 blocks.append(Text(f"Noon that day: the Sun on the meridian at {hm(zone_time(noon.utc, noon.zone_h))} "
-                                   f"zone ({zone_text(noon.zone_h)}, {noon.zone_date}; {hm(noon.utc)} UTC), bearing {noon.bearing}, Hs to preset (lower limb) "
+                                   f"zone ({zone_text(noon.zone_h)}, {noon.zone_date}; {utc_stamp(noon.utc, noon.zone_date)}), bearing {noon.bearing}, Hs to preset (lower limb) "
                                    f"{dm(noon.hs_deg, 'signed')}.", "body"))
             pages.append(Page(round_.label, tuple(blocks)))
         dates = sorted({d.date for d in self.days}) or [np.datetime64(self.rounds[0].presets.utc, "D")]

@@ -62,6 +62,8 @@ from .bridge import (
     planned_rounds,
     provenance_line,
     signed,
+    to_minute,
+    utc_stamp,
     zone_text,
 )
 from .passagedr import PassageDR, departure_dr, log_passage_dr, route_passage_dr
@@ -205,17 +207,20 @@ def _provenance(hourly: HourlyTable) -> str:
 def _document(first, days, hourly, stars, twilights, noons, dr: PassageDR, eye_height_m, index_error_arcmin,
               zone_given, events, table_first, table_days) -> Document:
     last = first + np.timedelta64(days - 1, "D")
-    pages = [_cover(first, last, days, dr, eye_height_m, index_error_arcmin, zone_given, table_first, table_days)]
+    polaris = polaris_in_reach(dr.track, table_first, table_days)
+    pages = [_cover(first, last, days, dr, eye_height_m, index_error_arcmin, zone_given, table_first, table_days,
+                    polaris)]
     if dr.table:
         pages.append(_dr_page(dr))
     pages += [_hourly_page(hourly, table_first + np.timedelta64(d, "D"), d) for d in range(table_days)]
-    pages += _star_pages(stars)
+    pages += _star_pages(stars, polaris)
     pages += _correction_pages(table_first, table_days)
     pages += _sight_pages(twilights, noons, events, hourly)
     pages.append(_noon_page(noons, hourly))
-    pages += _polaris_pages(table_first, table_days)
+    if polaris:
+        pages += _polaris_pages(table_first, table_days)
     pages.append(_formulas_page(twilights, hourly, stars, eye_height_m, index_error_arcmin))
-    pages += _blank_forms(dr.track, first, days)
+    pages += _blank_forms(dr.track, first, days, polaris)
     table_last = table_first + np.timedelta64(table_days - 1, "D")
     valid = f"{table_first} to {table_last} (UTC dates)" if table_days > 1 else f"{table_first} (UTC date)"
     return Document("navred passage paper", valid, _provenance(hourly), CAUTION, tuple(pages))
@@ -223,7 +228,31 @@ def _document(first, days, hourly, stars, twilights, noons, dr: PassageDR, eye_h
 
 # --- The cover ---------------------------------------------------------------------------------
 
-def _cover(first, last, days, dr: PassageDR, eye_height_m, index_error_arcmin, zone_given, table_first, table_days):
+#: The latitude from which the Polaris page and its working form are printed: Polaris (Dec about 89.4° N) stands
+#: at about the latitude, so it is below the horizon south of about 0.6° S; 5° S keeps a margin for a DR out by
+#: a few degrees and for a ship whose passage runs on north of the paper's dates.
+POLARIS_FROM_LAT_DEG = -5.0
+
+
+def polaris_in_reach(track, table_first, table_days) -> bool:
+    """Whether the DR comes as far north as POLARIS_FROM_LAT_DEG at any hour of the paper's UTC dates."""
+    hours = np.arange(0, table_days * 24 + 1)
+    lats, _ = track.position(table_first.astype("datetime64[ns]") + hours * np.timedelta64(NS_PER_HOUR, "ns"))
+    lats = np.asarray(lats, dtype=float)
+    if np.all(np.isnan(lats)):
+        return True  # no DR to judge by: print them
+    return bool(np.nanmax(lats) >= POLARIS_FROM_LAT_DEG)
+
+
+def polaris_left_out_note() -> str:
+    """The one line that says why a paper has no Polaris page or form."""
+    return (f"No Polaris page or Polaris form: the DR stays south of {abs(POLARIS_FROM_LAT_DEG):g}° S all passage, "
+            "and Polaris, at about the latitude's altitude, is below the horizon there (they are printed from "
+            f"{abs(POLARIS_FROM_LAT_DEG):g}° S northward).")
+
+
+def _cover(first, last, days, dr: PassageDR, eye_height_m, index_error_arcmin, zone_given, table_first, table_days,
+           polaris: bool = True):
     kept = " (the zone the log keeps, by its latest row in zone time; --zone to choose another)" if (
         dr.kind == "log" and dr.zone_h is not None and zone_given == dr.zone_h) else ""
     zone = (f"zone description {zone_text(zone_given)} throughout{kept}" if zone_given is not None else
@@ -257,9 +286,10 @@ def _cover(first, last, days, dr: PassageDR, eye_height_m, index_error_arcmin, z
              "Dec, a page per UTC date · The stars: SHA and Dec · Altitude corrections: dip and refraction · "
              "Altitude corrections: the Moon, the Sun and the planets · Sights for each day: the twilight stars "
              "planned along the DR with Hc, Zn and their change per minute, the Hs to preset, and the noon Sun · "
-             "The noon Sun for every day · Latitude by Polaris · The calculator's formulas, with a sight worked "
-             "through · blank forms: Hand working (one per way of working), Plotting sheets for the passage's "
-             "latitudes, a DR log page."),
+             "The noon Sun for every day · " + ("Latitude by Polaris · " if polaris else "") + "The calculator's "
+             "formulas, with a sight worked through · blank forms: Hand working (one per way of working), Plotting "
+             "sheets for the passage's latitudes, a DR log page."),
+        *(() if polaris else (Text(polaris_left_out_note()),)),
         Text("Time", "subheading"),
         Text("Every table is for UTC. Keep the chronometer's error and rate by time signals; a second of time is "
              "15″ of GHA, a quarter of a mile of longitude. Zone times on the sight pages are for convenience "
@@ -360,7 +390,7 @@ def _block_label(block: StarBlock) -> str:
     return first[5:] if first == last else f"{first[5:]} to {last[5:]}"
 
 
-def _star_pages(stars) -> list[Page]:
+def _star_pages(stars, polaris: bool = True) -> list[Page]:
     pages = []
     for start in range(0, len(stars), _STARS_PER_PAGE):
         blocks = stars[start:start + _STARS_PER_PAGE]
@@ -385,8 +415,11 @@ def _star_pages(stars) -> list[Page]:
         pages.append(Page("The stars: SHA and Dec", (
             Text("Each pair of columns serves the UTC dates above it (the places at the middle of those dates; "
                  "within them they change by 0.02′ at most, except Polaris). A star's GHA = GHA Aries (hourly pages) "
-                 "+ SHA, less 360° if over. Polaris's SHA moves about 0.4′ a day: for its GHA take its daily SHA "
-                 "from its page; for its latitude use the Polaris table. Magnitudes: Hipparcos Hp.", "small"),
+                 "+ SHA, less 360° if over. " + (
+                     "Polaris's SHA moves about 0.4′ a day: for its GHA take its daily SHA from its page; for its "
+                     "latitude use the Polaris table." if polaris else
+                     "Polaris is below the horizon all this passage (no Polaris page).") + " Magnitudes: Hipparcos "
+                 "Hp.", "small"),
             table)))
     return pages
 
@@ -537,13 +570,17 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
             zd = twilight.zone_h
             zone_time = p.utc - np.timedelta64(int(zd * 60), "m")
             kind = twilight.label.split(" ", 1)[0]
+            under = day["date"]
             blocks.append(Text(f"{kind} twilight: planned {hm(zone_time)} zone time ({zone_text(zd)}), "
-                               f"{hm(p.utc)} UTC, from DR {dm(p.lat_deg, 'lat')} {dm(p.lon_deg, 'lon')}", "subheading"))
-            times = (f"Nautical twilight {hm(twilight.nautical)} UTC, civil {hm(twilight.civil)} UTC" if
-                     twilight.nautical < twilight.civil else
-                     f"Civil twilight {hm(twilight.civil)} UTC, nautical {hm(twilight.nautical)} UTC")
+                               f"{utc_stamp(p.utc, under)}, from DR {dm(p.lat_deg, 'lat')} {dm(p.lon_deg, 'lon')}",
+                               "subheading"))
+            blocks.append(Text(_which_hourly_page(p.utc, under), "body"))
+            times = (f"Nautical twilight {utc_stamp(twilight.nautical, under)}, civil "
+                     f"{utc_stamp(twilight.civil, under)}" if twilight.nautical < twilight.civil else
+                     f"Civil twilight {utc_stamp(twilight.civil, under)}, nautical "
+                     f"{utc_stamp(twilight.nautical, under)}")
             blocks.append(Text(f"{times}. For a "
-                               f"sight m minutes after {hm(p.utc)} UTC (m negative before it): Hc = Hc + m × "
+                               f"sight m minutes after {utc_stamp(p.utc, under)} (m negative before it): Hc = Hc + m × "
                                "(Hc ′/min + m × bend), Zn = Zn + m × (Zn °/min), within 0.5′ for as many minutes "
                                "before or after as 'holds' says (±20: 20 minutes either way; further off, or 'do not "
                                "use', work it by the formulas page). Plot every line from the DR above "
@@ -558,7 +595,8 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
         if noon is not None:
             zone_noon = noon.utc - np.timedelta64(int(noon.zone_h * 60), "m")
             blocks.append(Text(f"Noon: the Sun on the meridian at {hm(zone_noon)} zone time "
-                               f"({zone_text(noon.zone_h)}), {hm(noon.utc)} UTC", "subheading"))
+                               f"({zone_text(noon.zone_h)}), {utc_stamp(noon.utc, day['date'])}", "subheading"))
+            blocks.append(Text(_which_hourly_page(noon.utc, day["date"]), "body"))
             blocks.append(Text(f"DR then {dm(noon.lat_deg, 'lat')} {dm(noon.lon_deg, 'lon')}; Sun's Dec "
                                f"{dm(noon.dec_deg, 'dec')}; Hc {dm(noon.hc_deg, 'signed')}, bearing {noon.bearing}; Hs "
                                f"to preset (lower limb) {dm(noon.hs_deg, 'signed')}. Start a few minutes early, follow "
@@ -575,6 +613,17 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
                 "a day)" if after else "")
         pages.append(Page(f"Sights for {long_date(day['date'])}{note}", tuple(blocks)))
     return pages
+
+
+def _which_hourly_page(utc64, under) -> str:
+    """Which hourly page a round or noon is worked from: the page of its UTC date, said plainly where that is
+    not the date of the page it is printed on (over the date line, or far from Greenwich, the zone date and the
+    UTC date differ: the wrong page is a day's change in GHA and Dec)."""
+    on = to_minute(utc64).astype("datetime64[D]")
+    if on == np.datetime64(under, "D"):
+        return f"GHA and Dec: the hourly page of {long_date(on)} (UTC date, the same as this page's)."
+    return (f"GHA and Dec: the hourly page of {long_date(on)}: the UTC date, NOT the date of this page "
+            f"({long_date(under)}, the zone date).")
 
 
 def _other_side(kind: str, across: list[dict]) -> str | None:
@@ -619,19 +668,23 @@ def _noon_page(noons, hourly) -> Page:
     rows = []
     for noon in noons:
         zone_noon = noon.utc - np.timedelta64(int(noon.zone_h * 60), "m")
-        rows.append((str(noon.zone_date), hm(zone_noon), f"ZD {zone_text(noon.zone_h)}", hm(noon.utc), dm(noon.lat_deg, "lat"),
+        utc_date = to_minute(noon.utc).astype("datetime64[D]")
+        rows.append((str(noon.zone_date), hm(zone_noon), f"ZD {zone_text(noon.zone_h)}", hm(noon.utc),
+                     str(utc_date), dm(noon.lat_deg, "lat"),
                      dm(noon.lon_deg, "lon"), dm(noon.dec_deg, "dec"), dm(noon.hc_deg, "signed"),
                      dm(noon.hs_deg, "signed"), noon.bearing))
-    table = Table(("Date", "zone time", "ZD", "UTC", "DR lat", "DR lon", "Sun Dec", "Hc", "Hs preset LL", "look"),
+    table = Table(("Zone date", "zone time", "ZD", "UTC", "UTC date", "DR lat", "DR lon", "Sun Dec", "Hc",
+                   "Hs preset LL", "look"),
                   tuple(rows), name="noon-sun",
-                  csv_columns=("date", "zone_time", "zone_description", "utc", "dr_lat", "dr_lon", "sun_dec", "hc",
-                               "hs_preset_lower_limb", "bearing"),
-                  widths=(1.1, 0.7, 0.65, 0.6, 1.1, 1.2, 1.1, 0.95, 0.95, 0.45), font_size=7.4)
+                  csv_columns=("date", "zone_time", "zone_description", "utc", "utc_date", "dr_lat", "dr_lon",
+                               "sun_dec", "hc", "hs_preset_lower_limb", "bearing"),
+                  widths=(1.0, 0.65, 0.6, 0.5, 1.05, 1.0, 1.1, 1.0, 0.9, 0.9, 0.4), font_size=7.2)
     return Page("The noon Sun: local apparent noon along the DR", (
         Text("The time of the Sun's meridian passage at the DR then (it moves with the ship: about 4 minutes "
              "of time for each degree of longitude made good). Latitude from the noon altitude: with the Sun to "
              "the south, latitude = Dec + (90° − Ho) (north +, south −); with it to the north, latitude = Dec − "
-             "(90° − Ho). Take the Dec for the UTC of the sight from the hourly page.", "small"),
+             "(90° − Ho). Take the Dec for the UTC of the sight from the hourly page of its UTC date (the UTC date "
+             "column: over the date line, or far from Greenwich, it is not always the zone date).", "small"),
         table))
 
 
@@ -808,12 +861,12 @@ def _form_note(title: str) -> str:
             "that a working can be typed into the sight book and marked. With this paper: " + "; ".join(said) + ".")
 
 
-def _blank_forms(track, first, days) -> list[Page]:
+def _blank_forms(track, first, days, polaris: bool = True) -> list[Page]:
     from ..figures.paperforms import blank_plotting_sheet, plotting_bands
     from ..io.markingpages import blank_form_page
     from ..io.sightbook import PAGES
 
-    pages = [blank_form_page(title, _form_note(title)) for title in PAGES]
+    pages = [blank_form_page(title, _form_note(title)) for title in PAGES if polaris or title != "Polaris"]
     hours = np.arange(0, days * 24 + 1, 6)
     start = first.astype("datetime64[ns]")
     lats, _ = track.position(start + hours * np.timedelta64(NS_PER_HOUR, "ns"))
@@ -827,4 +880,4 @@ def _blank_forms(track, first, days) -> list[Page]:
     return pages
 
 
-__all__ = ["sight_days", "PassagePaper", "passage_paper", "WITH_THIS_PAPER"]
+__all__ = ["sight_days", "PassagePaper", "passage_paper", "WITH_THIS_PAPER", "POLARIS_FROM_LAT_DEG", "polaris_in_reach"]

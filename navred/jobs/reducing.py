@@ -83,17 +83,55 @@ def reduce_log(source: LogSource, *, dates: str | None = None, rates: Ratings | 
     return ReducedLog(log, reduced_sights(log, tuple(navigators)), rates)
 
 
-def _block_csv(plan: LogBlocks, k: int) -> tuple[bytes, int, int]:
-    """Block ``k`` of a long log read, reduced and written as CSV (UTF-8; the header with the first), with the
-    number of its rows and of its sights reduced."""
-    reduced = reduced_sights(plan.read(k))
-    return csv_bytes(reduced, header=k == 0), len(reduced), count_reduced(reduced)
+#: the columns of a sight refused or warned about that :class:`ReducedCount` keeps (its row, body and why)
+FLAGGED_COLUMNS = ("source", "row", "body_name", "status", "message")
+
+
+@dataclass(frozen=True)
+class ReducedCount:
+    """What a reduction came to, for the run's closing lines when the sights themselves went out as CSV: how many
+    sights were read, reduced and warned about, the empty rows skipped, and every sight refused or warned about
+    (its source, row, body, status and message: :data:`FLAGGED_COLUMNS`). Counts of blocks add up (``+``)."""
+
+    rows: int = 0
+    reduced: int = 0
+    warned: int = 0
+    empty_rows: int = 0
+    flagged: pd.DataFrame | None = None
+
+    @classmethod
+    def of(cls, reduced: pd.DataFrame, empty_rows: int = 0) -> ReducedCount:
+        if not len(reduced):
+            return cls(empty_rows=empty_rows)
+        status = reduced["status"]
+        flagged = reduced.loc[status != SightStatus.OK, [c for c in FLAGGED_COLUMNS if c in reduced.columns]]
+        return cls(len(reduced), count_reduced(reduced), int((status == SightStatus.WARNING).sum()), empty_rows,
+                   flagged.reset_index(drop=True))
+
+    @property
+    def refused(self) -> int:
+        return self.rows - self.reduced
+
+    def __add__(self, other: ReducedCount) -> ReducedCount:
+        parts = [f for f in (self.flagged, other.flagged) if f is not None and len(f)]
+        return ReducedCount(self.rows + other.rows, self.reduced + other.reduced, self.warned + other.warned,
+                            self.empty_rows + other.empty_rows,
+                            pd.concat(parts, ignore_index=True) if len(parts) > 1 else (parts[0] if parts else None))
+
+
+def _block_csv(plan: LogBlocks, k: int) -> tuple[bytes, ReducedCount]:
+    """Block ``k`` of a long log read, reduced and written as CSV (UTF-8; the header with the first), with what
+    its reduction came to."""
+    log = plan.read(k)
+    reduced = reduced_sights(log)
+    return csv_bytes(reduced, header=k == 0), ReducedCount.of(reduced, log.empty_rows)
 
 
 @dataclass(frozen=True)
 class ReducedCsv:
     """A log to be reduced and written as CSV: :meth:`blocks` gives its text (UTF-8 bytes) block by block, in
-    order, with each block's number of rows and of sights reduced; a log that must be read whole is one block."""
+    order, with what each block's reduction came to (:class:`ReducedCount`: add them up for the whole log); a
+    log that must be read whole is one block."""
 
     ratings: Ratings | None
     #: the long log's blocks, or None when the log was read whole (``whole``)
@@ -107,9 +145,9 @@ class ReducedCsv:
         ratings = tuple(self.ratings.notes) if self.ratings is not None else ()
         return tuple(dict.fromkeys([*ratings, *self.plan.notes]))
 
-    def blocks(self) -> Iterator[tuple[bytes, int, int]]:
+    def blocks(self) -> Iterator[tuple[bytes, ReducedCount]]:
         if self.whole is not None:
-            yield csv_bytes(self.whole.reduced), len(self.whole.reduced), self.whole.n_reduced
+            yield csv_bytes(self.whole.reduced), ReducedCount.of(self.whole.reduced, self.whole.log.empty_rows)
             return
         yield from forked_map(_block_csv, range(len(self.plan)), context=self.plan, workers=cores())
 
@@ -125,5 +163,5 @@ def reduce_log_csv(source: LogSource, *, dates: str | None = None, rates: Rating
                       if plan is None else None)
 
 
-__all__ = ["REDUCE_BLOCK_ROWS", "ReducedLog", "ReducedCsv", "reduce_log", "reduce_log_csv", "reduced_sights",
+__all__ = ["REDUCE_BLOCK_ROWS", "ReducedLog", "ReducedCsv", "ReducedCount", "reduce_log", "reduce_log_csv", "reduced_sights",
            "require_reduced", "count_reduced"]

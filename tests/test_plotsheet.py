@@ -97,8 +97,33 @@ def inside(points: np.ndarray, rect, slack: float = 0.01) -> bool:
 
 
 #: the lines no label may overprint: lines of position, a line's 95 % band, a line at its own time, a run, a
-#: label's leader line
-LINE_KINDS = ("line of position", "band", "line before advance", "run", "leader")
+#: label's leader line, the intercepts from the DR and every arrowhead (of an intercept, a run, a moved line)
+LINE_KINDS = ("line of position", "band", "line before advance", "run", "leader", "azimuth", "advance mark")
+#: the clear margin a label on the chart keeps from every line, arrowhead and other label (points; common
+#: practice: a label is read apart from what it does not name), and how many times nearer its own line a
+#: line's label (or number) lies than any other line of position (common practice: a label is plainly its
+#: own line's)
+MARGIN_PT, OWN_LINE_RATIO = 1.0, 2.0
+
+
+def grown(box: np.ndarray, margin: float) -> np.ndarray:
+    """A rectangle's corners (in order) moved ``margin`` outward along its own sides."""
+    u = (box[1] - box[0]) / (np.hypot(*(box[1] - box[0])) or 1.0)
+    v = (box[3] - box[0]) / (np.hypot(*(box[3] - box[0])) or 1.0)
+    return np.array([box[0] - margin * (u + v), box[1] + margin * (u - v), box[2] + margin * (u + v),
+                     box[3] - margin * (u - v)])
+
+
+def distance_to_segment(box: np.ndarray, a: np.ndarray, b: np.ndarray) -> float:
+    """The least distance from a rectangle (not crossed by the segment) to the segment a-b."""
+    def point_segment(p, q0, q1):
+        d = q1 - q0
+        t = float(np.clip((p - q0) @ d / (d @ d or 1.0), 0.0, 1.0))
+        return float(np.hypot(*(p - q0 - t * d)))
+
+    edges = [(box[k], box[(k + 1) % 4]) for k in range(4)]
+    return min([point_segment(p, a, b) for p in box] + [point_segment(a, *e) for e in edges]
+               + [point_segment(b, *e) for e in edges])
 
 
 def strokes(root, kinds=LINE_KINDS) -> list[tuple[str, np.ndarray, float]]:
@@ -124,7 +149,7 @@ def beside_its_own_line(label, box: np.ndarray, stroke: np.ndarray, angle: float
     label turned as the line and its box's middle within its height of the line."""
     turn = label.get("transform")
     rotation = float(re.fullmatch(r"rotate\(([-\d.]+) .*\)", turn).group(1)) if turn else 0.0
-    if abs((rotation - angle + 90.0) % 180.0 - 90.0) > 0.5:
+    if abs((-rotation - angle + 90.0) % 180.0 - 90.0) > 0.5:  # SVG turns clockwise on the page, y down
         return False
     (x0, y0), (x1, y1) = (stroke[0] + stroke[3]) / 2, (stroke[1] + stroke[2]) / 2
     cx, cy = box.mean(axis=0)
@@ -138,6 +163,8 @@ def texts_apart(texts) -> list:
     for i, (a, box_a) in enumerate(boxes):
         for b, box_b in boxes[i + 1:]:
             assert not overlap(box_a, box_b), f"{a.text!r} ({a.get('class')}) overlaps {b.text!r} ({b.get('class')})"
+            if a.get("class") in CHART_LABELS and b.get("class") in CHART_LABELS:
+                assert not overlap(grown(box_a, MARGIN_PT), box_b), f"{a.text!r} touches {b.text!r}"
     return boxes
 
 
@@ -152,17 +179,27 @@ def check_page(page: Page) -> None:
                             (bar[:, 0].max(), bar[:, 1].max() + 1.5), (bar[:, 0].min(), bar[:, 1].max() + 1.5)])
         for e, box in boxes:
             assert e.get("class") == "scale" or not overlap(bar_box, box), f"{e.text!r} lies over the scale"
-    # no label on the chart overprints a line (labels are boxed on paper: they would cut it), a line's own label
-    # beside it excepted
+    # no label on the chart comes within the margin of a line or an arrowhead (labels are boxed on paper: they
+    # would cut it), not even of its own line
     lines = strokes(page.root)
     for e, box in boxes:
-        if e.get("class") not in CHART_LABELS | {"line tag"}:
+        if e.get("class") not in CHART_LABELS:
             continue
-        for kind, stroke, angle in lines:
-            if e.get("class") in ("line label", "line tag") and kind.startswith("line of position") and \
-                    beside_its_own_line(e, box, stroke, angle):
-                continue
-            assert not overlap(box, stroke, slack=0.0), f"{e.text!r} ({e.get('class')}) overprints a {kind}"
+        for kind, stroke, _ in lines:
+            assert not overlap(grown(box, MARGIN_PT), stroke, slack=0.0), \
+                f"{e.text!r} ({e.get('class')}) lies on or against a {kind}"
+    # a line's label (or number) is plainly its own line's: the nearest line of position runs along it (a label)
+    # and every other lies OWN_LINE_RATIO times as far
+    lops = [(stroke, angle) for kind, stroke, angle in lines if kind.startswith("line of position")]
+    for e, box in boxes:
+        if e.get("class") not in ("line label", "line tag") or len(lops) < 2:
+            continue
+        reach = sorted((distance_to_segment(box, (s[0] + s[3]) / 2, (s[1] + s[2]) / 2), s, a) for s, a in lops)
+        nearest, second = reach[0], next(r for r in reach[1:] if r[0] > reach[0][0] + 1e-6 or r[2] != reach[0][2])
+        assert second[0] >= OWN_LINE_RATIO * max(nearest[0], MARGIN_PT), \
+            f"{e.text!r} is {nearest[0]:.1f} pt from one line and {second[0]:.1f} pt from another"
+        if e.get("class") == "line label":
+            assert beside_its_own_line(e, box, nearest[1], nearest[2]), f"{e.text!r} does not run along its line"
     whole = (0.0, 0.0, page.width, page.height)
     for e, box in boxes:
         assert inside(box, whole), f"{e.text!r} runs off the page"
@@ -441,3 +478,25 @@ def test_the_voyage_picture_places_its_labels_by_the_same_rule():
     assert lines
     for e, box in labels:
         assert not any(overlap(box, stroke, slack=0.0) for _, stroke, _ in lines), f"{e.text!r} lies over a line"
+
+
+def test_a_crowded_round_of_nine_keeps_each_label_clear_and_plainly_its_own_lines(ts, eph):
+    """Reference: skyfield's Sun-less dawn over a ship stopped at 20° 30′ N 160° 15′ W (nine bodies, the Moon's
+    lower limb, two stars 2° apart in Zn, Polaris and Dubhe 3° apart), the DR 10 nm north and 7 nm east,
+    course 0 and speed 0 logged. Every label keeps the margin from every line (its own too), arrowhead and
+    other label, sits nearer its own line than any other by OWN_LINE_RATIO (else the line carries a number,
+    its label listed under the chart), and with no run no line is labelled as moved."""
+    when = pd.Timestamp("2026-12-04T16:36:00Z")
+    names = ["Dubhe", "Polaris", "Kochab", "Spica", "Venus", "Moon", "Procyon", "Betelgeuse", "Sirius"]
+    rows = [skyfield_sight(ts, eph, name, when + pd.Timedelta(minutes=k), 20.5, -160.25,
+                           limb="lower" if name == "Moon" else "") for k, name in enumerate(names)]
+    voyage = process_log(_frame(rows, 10.2, 6.7, "crowded dawn", course_deg=0.0, speed_kn=0.0), plan=False)
+    group = voyage.groups[0]
+    page = Page(plotting_figure(voyage, group).to_svg())
+    check_page(page)
+    labels = check_lines(page, group.fix, np.array(names))
+    assert all(d["to"] is None for d in labels), [d["text"] for d in labels if d["to"]]  # no run, no "→"
+    assert not any(k.startswith("line of position ") for k in page.kinds())  # no line drawn as advanced
+    assert not page.of("advance mark") and "advance mark" not in page.kinds()
+    # the arrowheads of the intercepts are drawn (and so were checked above)
+    assert sum(1 for e in page.root if e.get("class") == "azimuth") > len(names)

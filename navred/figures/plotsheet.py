@@ -61,6 +61,10 @@ ADVANCED_MINUTES = 1.0
 
 _CIRCLE_STEPS = np.linspace(0.0, 2.0 * np.pi, 73)[:-1]
 LABEL_PT, NOTE_PT = 6.5, 8.0
+#: the clear margin every label on the chart keeps from any other label, line or arrowhead (points: the
+#: placer's pad on each box); a line's label beside its own line (from the line's middle to the text's
+#: edge) and the least distance from its text to any other line, so that a label is plainly its own line's
+CLEAR_PT, BESIDE_PT, OTHERS_PT = 2.0, 3.0, 10.0
 _WEIGHTED = " (of a sight of weight 1: the log's σ weighs the sights)"
 
 
@@ -156,7 +160,7 @@ def plotting_sheet(fix, sights: SheetSights, *, title: str = "", chart=None) -> 
     feet = np.stack(probe.plane(fix.lop_foot_lat_deg[used], fix.lop_foot_lon_deg[used]), axis=1)
 
     sheet = Canvas(SHEET_PT, SHEET_PT, PAPER)
-    placer = Placer()
+    placer = Placer(gap_pt=CLEAR_PT)
     top = _header(sheet, placer, fix, sights, rows, left_out, title, probe)
     frame = _Frame(fix, chart, top, feet[~left_out[used]])
     ellipse = _ellipse_page(fix, frame) if fix.is_fix else None
@@ -180,18 +184,36 @@ def plotting_sheet(fix, sights: SheetSights, *, title: str = "", chart=None) -> 
         if lop.moved and lop.run_page is not None and lop.ends is not None:
             _chevrons(sheet, placer, frame, lop)
     # the lines no label may overprint (a label is boxed on paper: it would cut the line)
-    line_boxes = _line_boxes(lops) + band
+    strokes = _stroke_boxes(sheet, ("azimuth",))
+    for box in _stroke_boxes(sheet, ("azimuth",), heads_only=True):
+        placer.take(box)  # the intercepts' arrowheads: no label over them
+    line_boxes = _line_boxes(lops) + band + strokes
     unplaced = [mark for mark in marks if not _place_mark(sheet, placer, frame, line_boxes, *mark)]
-    listed = _line_labels(sheet, placer, frame, lops, band)
+    listed = _line_labels(sheet, placer, frame, lops, band + strokes)
     sheet.line(*_frame_lines(frame.area), INK, 0.8, kind="frame")
     _footer(sheet, frame, lops, listed, [mark[0] for mark in unplaced])
     return sheet
 
 
-def _line_boxes(lops: list[_Lop], but: _Lop | None = None) -> list[np.ndarray]:
-    """The boxes of the lines of position drawn (and of the lines at their own time), ``but`` one's."""
+def _line_boxes(lops: list[_Lop], but: _Lop | None = None, half: float = 1.2) -> list[np.ndarray]:
+    """The boxes of the lines of position drawn (and of the lines at their own time), ``but`` one's, ``half``
+    points either side of each."""
     ends = [e for lop in lops if lop is not but for e in (lop.ends, lop.before) if e is not None]
-    return [_segment_box(*e, 1.2) for e in ends]
+    return [_segment_box(*e, half) for e in ends]
+
+
+def _stroke_boxes(sheet, kinds, heads_only: bool = False) -> list[np.ndarray]:
+    """The boxes of the thin lines of ``kinds`` drawn so far (the intercepts from the DR and their arrowheads),
+    as wide as their stroke; ``heads_only``: only the arrowheads' (the short strokes)."""
+    boxes = []
+    for item in sheet.items:
+        if getattr(item, "kind", None) not in kinds or not hasattr(item, "width"):
+            continue
+        for (x0, y0), (x1, y1) in zip(item.points[:-1], item.points[1:]):
+            if heads_only and math.hypot(x1 - x0, y1 - y0) > 8.0:
+                continue
+            boxes.append(_segment_box(x0, y0, x1, y1, item.width / 2.0))
+    return boxes
 
 
 def _place_mark(sheet, placer: Placer, frame: _Frame, line_boxes, text, size, colour, spots, kind, bold, at,
@@ -383,12 +405,22 @@ def _minutes_moved(fix, sights: SheetSights, row: int) -> float:
 
 def _moved(fix, sights: SheetSights, row: int) -> str:
     """Whether the line was advanced (taken before the fix time) or retired (after) by the run, or neither."""
-    if fix.run_from == RunFrom.NONE:
+    if fix.run_from == RunFrom.NONE or _no_run(fix, sights, row):
         return ""
     minutes = _minutes_moved(fix, sights, row)
     if not np.isfinite(minutes) or abs(minutes) < ADVANCED_MINUTES:
         return ""
     return "advanced" if minutes > 0 else "retired"
+
+
+def _no_run(fix, sights: SheetSights, row: int) -> bool:
+    """Whether the ship's run moved the line by nothing: its sight's DR is the DR at the fix time (a ship
+    stopped, or a speed of 0), so the line is its own and is labelled with its own time only."""
+    if sights.dr_lat_deg is None or sights.dr_lon_deg is None or not np.isfinite(sights.dr_lat_deg[row]):
+        return False
+    dlat = float(sights.dr_lat_deg[row]) - float(fix.dr_lat_deg)
+    dlon = (float(sights.dr_lon_deg[row]) - float(fix.dr_lon_deg) + 180.0) % 360.0 - 180.0
+    return abs(dlat) < 1e-5 and abs(dlon) < 1e-5  # within about a metre
 
 
 def _lines(fix, sights: SheetSights, frame: _Frame, used, feet, left_out) -> list[_Lop]:
@@ -649,20 +681,25 @@ def _line_spots(lop: _Lop, k: int, count: int) -> list[Spot]:
     spots = []
     for f in fractions:
         px, py = x0 + f * (x1 - x0), y0 + f * (y1 - y0)
-        spots.append(Spot(px + 1.6 * nx, py + 1.6 * ny, "middle", "bottom", angle))
-        spots.append(Spot(px - 1.6 * nx, py - 1.6 * ny, "middle", "top", angle))
+        spots.append(Spot(px + BESIDE_PT * nx, py + BESIDE_PT * ny, "middle", "bottom", angle))
+        spots.append(Spot(px - BESIDE_PT * nx, py - BESIDE_PT * ny, "middle", "top", angle))
     return spots
 
 
 def _line_labels(sheet, placer, frame: _Frame, lops: list[_Lop], band) -> list[_Lop]:
-    """Each line's label beside it where it overlaps no label, symbol or other line; else a number beside the
-    line (the label goes under the chart); the lines so listed. ``band``: the boxes of a line's band."""
+    """Each line's label beside it, clear of its own line, where it overlaps no label, symbol, arrowhead or
+    thin line and no other line comes within OTHERS_PT of it (so that it is plainly this line's); else a
+    number beside the line by the same rule (the label goes under the chart); the lines so listed. ``band``:
+    the boxes of a line's band and of the intercepts drawn from the DR."""
     listed = []
     area = _inner(frame.area)
     drawn = [lop for lop in lops if lop.ends is not None]
+    own_half = 0.65  # half the line's stroke: the placer's pad keeps CLEAR_PT beyond it
     for k, lop in enumerate(drawn):
         spots = _line_spots(lop, k, len(drawn))
-        clear = placer.with_also(_line_boxes(lops, but=lop) + band)
+        own = [_segment_box(*lop.ends, own_half)]
+        others = _line_boxes(lops, but=lop, half=own_half + OTHERS_PT - CLEAR_PT)
+        clear = placer.with_also(own + others + band)
         base = len(clear.taken)
         spot = clear.place(lop.label, LABEL_PT, spots, area)
         if spot is not None:

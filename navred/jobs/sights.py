@@ -347,7 +347,8 @@ def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
         far = np.zeros(n, dtype=bool)
         far[rows] = np.abs(intercept_nm(corrections.ho_deg, hc)) > LARGE_INTERCEPT_NM
         notes.warn(far & ~below, f"intercept over {LARGE_INTERCEPT_NM:.0f} nm: check body, time, Hs and DR")
-        suspect, why = zone_sign_suspects(frame, far | below)
+        suspect, why = zone_sign_suspects(frame, far | below, ho_deg=result["ho_deg"], hc_deg=result["hc_deg"],
+                                          sd_arcmin=result["sd_arcmin"], limb=limb)
         notes.warn(suspect, why)
         notes.warn(high, "high sight (Hc above 85°): the straight line of position is a poor "
                          "approximation; fix it on the sphere")

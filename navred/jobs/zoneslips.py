@@ -1,53 +1,167 @@
-"""The likeliest cause named when a sight's intercept is huge or a fix lands far from its DR: a zone description
-that is not the DR longitude's nautical zone, above all one of the wrong sign (the time 2 h out at ZD -1 for +1).
-Used by the reduction (each flagged row's note) and by every fix (the fix's warning), alike for every command
-and the API."""
+"""The causes named when a sight's intercept is huge or a fix lands far from its DR: each of the usual slips
+(a zone description not the DR's zone or of the wrong sign, the hour one out, am for pm, a day out, the wrong
+limb, a whole degree or ten misread in Hs) is undone on the sight, and a slip is named only when undoing it
+leaves an intercept within SLIP_FIT_NM. Used by the reduction (each flagged row's note) and by every fix (the
+fix's warning), alike for every command and the API."""
 
 from __future__ import annotations
 
 import numpy as np
 import pandas as pd
 
+#: a slip fits a sight when undoing it leaves an intercept within this (nautical miles; common practice: a DR
+#: carried a day or so is seldom further out; 15 nm keeps a wrong limb, 32′ at the Sun, apart from a degree
+#: misread, 60 nm)
+SLIP_FIT_NM = 15.0
+#: the slips named beside the one that fits best: those that fit within this of it too (nautical miles), which
+#: the sight alone cannot tell apart (a star's date a day out moves it as its Hs a degree out may)
+ALSO_FITS_NM = 5.0
+#: the words that open a flagged row's note when no single slip fits
+NO_SLIP_WORDS = "no single slip (zone, hour, am/pm, day, limb, whole degrees) accounts for it"
 
-def zone_sign_suspects(frame: pd.DataFrame, flagged: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """The rows among ``flagged`` (a huge intercept, a body below the horizon, a fix far from its DR) kept in
-    zone time whose zone description is not the nautical zone of their DR longitude (ZD = longitude west / 15°,
-    rounded; common practice), and for each the words that name the likeliest cause: above all a ZD of the
-    wrong sign, which puts the time out by twice the zone (−1 at 20° W is 2 h, 30° of longitude). Only
-    flagged rows: a ship may keep a zone other than her nautical one (a port's summer time), so a zone alone
-    is not an error."""
+
+def zone_sign_suspects(frame: pd.DataFrame, flagged: np.ndarray, *, ho_deg=None, hc_deg=None, sd_arcmin=None,
+                       limb=None, fitted_only: bool = False) -> tuple[np.ndarray, np.ndarray]:
+    """The rows among ``flagged`` (a huge intercept, a body below the horizon, a fix far from its DR) and for
+    each the slips that account for its intercept (:data:`SLIP_FIT_NM`): each slip is undone on the sight (its
+    Hc worked again at the time shifted, its Ho moved by the limb's 2 × SD or the degrees) and named only where
+    what is left of the intercept is within SLIP_FIT_NM, the closest first (a ZD of the wrong sign first of
+    all), and beside the closest only those within ALSO_FITS_NM of it. A zone description that is not the DR's nautical zone (ZD = longitude west / 15°, rounded; common
+    practice) is named only where it fits: a ship may keep another zone. ``ho_deg``, ``hc_deg``, ``sd_arcmin``,
+    ``limb`` (every row's; by default the frame's columns); ``fitted_only``: leave out the rows no slip fits
+    (else their words say so)."""
     rows = np.flatnonzero(flagged)
-    if "zone_description_used_h" not in frame.columns or not rows.size:
-        return rows[:0], np.zeros(0, dtype=object)
-    zd = frame["zone_description_used_h"].to_numpy(dtype=float)[rows]
-    lon = frame["dr_lon_deg"].to_numpy(dtype=float)[rows]
+    def column(name, given, default=np.nan):
+        if given is not None:
+            return np.asarray(given)[rows]
+        return frame[name].to_numpy()[rows] if name in frame.columns else np.full(rows.size, default, dtype=object)
+
+    empty = rows[:0], np.zeros(0, dtype=object)
+    if not rows.size or "utc_jd1" not in frame.columns:
+        return empty
+    ho = column("ho_deg", ho_deg).astype(float)
+    hc = column("hc_deg", hc_deg).astype(float)
+    sd = column("sd_arcmin", sd_arcmin).astype(float)
+    limbs = column("limb", limb, "").astype(str)
+    bodies = column("body_name", None, "").astype(str)
+    horizon = column("horizon", None, "sea").astype(str)
+    zd = column("zone_description_used_h", None).astype(float)
+    lat, lon = column("dr_lat_deg", None).astype(float), column("dr_lon_deg", None).astype(float)
+    ok = np.isfinite(ho) & np.isfinite(hc) & np.isfinite(lat) & np.isfinite(lon)
+    rows, ho, hc, sd, limbs, bodies, horizon, zd, lat, lon = (
+        v[ok] for v in (rows, ho, hc, sd, limbs, bodies, horizon, zd, lat, lon))
+    if not rows.size:
+        return empty
+    intercept = (ho - hc) * 60.0
     with np.errstate(invalid="ignore"):
         nautical = np.rint(-lon / 15.0) + 0.0  # + 0.0: no −0
-        other = np.isfinite(zd) & np.isfinite(lon) & (zd != nautical) & (np.abs(lon) < 172.5)  # not by the date line
-    texts = np.array([_zone_words(z, x, m) for z, x, m in
-                      zip(zd[other].tolist(), lon[other].tolist(), nautical[other].tolist())], dtype=object)
-    return rows[other], texts
+        zoned = np.isfinite(zd) & (zd != nautical) & (np.abs(lon) < 172.5)  # not by the date line
+        wrong_side = np.isfinite(zd) & (zd * nautical < 0) & (np.abs(lon) < 172.5)
+    # the time slips: the hours the logged UTC would be short of the true one (a ZD of the wrong sign, the DR's
+    # nautical zone kept, then the hour, am/pm and the day)
+    shifts = [np.where(wrong_side, -2.0 * zd, np.nan), np.where(zoned & (nautical != -zd), nautical - zd, np.nan)]
+    shifts += [np.full(rows.size, float(h)) for h in (1, -1, 12, -12, 24, -24)]
+    left = [_intercept_at(frame, rows, bodies, lat, lon, ho, h) for h in shifts]
+    found: list[list[tuple[int, float, str]]] = [[] for _ in rows]
+    for k in range(rows.size):
+        for which, (h, rest) in enumerate(zip(shifts, left)):
+            if not np.isfinite(h[k]) or not np.isfinite(rest[k]) or abs(rest[k]) > SLIP_FIT_NM:
+                continue
+            if which > 1 and any(np.isfinite(shifts[z][k]) and shifts[z][k] == h[k] for z in (0, 1)):
+                continue  # the zone's own words already say it
+            words = (_sign_words(zd[k], lon[k], nautical[k]) if which == 0 else
+                     _zone_words(zd[k], lon[k], nautical[k]) if which == 1 else _time_words(h[k]))
+            found[k].append((0 if which == 0 else 1, abs(rest[k]), words))
+        if bodies[k] in ("Sun", "Moon") and horizon[k] != "bubble" and np.isfinite(sd[k]) and sd[k] != 0:
+            upper = limbs[k] == "upper"
+            rest = intercept[k] + (2 if upper else -2) * abs(sd[k])
+            if abs(rest) <= SLIP_FIT_NM:
+                found[k].append((1, abs(rest), _limb_words(upper, 2 * abs(sd[k]))))
+        for degrees in (1, -1, 10, -10):
+            rest = intercept[k] - 60.0 * degrees
+            if abs(rest) <= SLIP_FIT_NM:
+                found[k].append((1, abs(rest), _degree_words(degrees)))
+    texts = []
+    for k in range(rows.size):
+        ranked = sorted(found[k], key=lambda c: (c[0], c[1]))
+        best = min((c[1] for c in ranked), default=0.0)
+        causes = [words for first, rest, words in ranked if first == 0 or rest <= best + ALSO_FITS_NM]
+        if not causes:
+            texts.append(f"{NO_SLIP_WORDS} within {SLIP_FIT_NM:.0f} nm: check the body, the Hs and the DR")
+        elif causes[0].startswith("likely cause"):
+            texts.append("; or ".join([causes[0]] + [c.replace("possible cause: ", "") for c in causes[1:]]))
+        else:
+            texts.append(f"possible cause{'s' if len(causes) > 1 else ''} (undone, each leaves an intercept within "
+                         f"{SLIP_FIT_NM:.0f} nm): " + "; or ".join(c.replace("possible cause: ", "") for c in causes))
+    texts = np.array(texts, dtype=object)
+    if fitted_only:
+        keep = np.array([bool(f) for f in found], dtype=bool)
+        return rows[keep], texts[keep]
+    return rows, texts
+
+
+def _intercept_at(frame, rows, bodies, lat, lon, ho, hours) -> np.ndarray:
+    """The intercept left (nm) when the sight's time is ``hours`` later than logged (NaN where no shift)."""
+    from ..almanac import places
+    from ..timescales import instants_from_utc_jd
+    from ..triangle import computed_altitude_azimuth
+
+    out = np.full(rows.size, np.nan)
+    take = np.flatnonzero(np.isfinite(hours))
+    if not take.size:
+        return out
+    r = rows[take]
+    dut1 = (frame["dut1_given_s"].to_numpy(dtype=float)[r] if "dut1_given_s" in frame.columns
+            else np.full(r.size, np.nan))
+    inst = instants_from_utc_jd(frame["utc_jd1"].to_numpy(dtype=float)[r],
+                                frame["utc_jd2"].to_numpy(dtype=float)[r] + hours[take] / 24.0, dut1)
+    almanac = places(bodies[take].astype(object), inst)
+    hc, _ = computed_altitude_azimuth(lat[take], lon[take], almanac.gha_deg, almanac.dec_deg)
+    out[take] = (ho[take] - hc) * 60.0
+    return out
+
+
+def _time_words(hours: float) -> str:
+    h = abs(hours)
+    way = "early" if hours > 0 else "late"
+    what = {1: "the hour or the zone description one out", 12: "am written for pm or pm for am",
+            24: "the date a day out"}.get(h, "the time out")
+    return f"possible cause: {what} (the time as logged {h:.0f} h {way}: worked {h:.0f} h {'later' if hours > 0 else 'earlier'} it fits)"
+
+
+def _limb_words(upper: bool, two_sd: float) -> str:
+    logged, other = ("upper", "lower") if upper else ("lower", "upper")
+    return (f"possible cause: the wrong limb (logged {logged}, taken {other}: 2 × SD = {two_sd:.1f}′ "
+            f"changes the intercept by {two_sd:.1f} nm)")
+
+
+def _degree_words(degrees: int) -> str:
+    return (f"possible cause: Hs {abs(degrees)}° too {'high' if degrees > 0 else 'low'} (a degree figure "
+            f"misread or mistyped: {60 * abs(degrees)} nm)")
+
+
+def _sign_words(zd: float, lon: float, nautical: float) -> str:
+    where = f"the DR, {abs(lon):.0f}° {'W' if lon < 0 else 'E'}, is in zone {nautical:+.0f}"
+    return (f"likely cause: the zone description {zd:+.0f} is a zone {'east' if zd < 0 else 'west'} of "
+            f"Greenwich, but {where}: a ZD of the wrong sign puts the time {2 * abs(zd):.0f} h out; check its "
+            "sign (ZT + ZD = UTC: + west of Greenwich, − east)")
 
 
 def _zone_words(zd: float, lon: float, nautical: float) -> str:
     where = f"the DR, {abs(lon):.0f}° {'W' if lon < 0 else 'E'}, is in zone {nautical:+.0f}"
-    if zd * nautical < 0:
-        return (f"likely cause: the zone description {zd:+.0f} is a zone {'east' if zd < 0 else 'west'} of "
-                f"Greenwich, but {where}: a ZD of the wrong sign puts the time {2 * abs(zd):.0f} h out; check its "
-                "sign (ZT + ZD = UTC: + west of Greenwich, − east)")
     return (f"possible cause: the zone description {zd:+.0f} is not the DR's zone ({where}): if the watch keeps "
             f"zone {nautical:+.0f}, the time is {abs(zd - nautical):.0f} h out; check the ZD")
 
 
 def name_zone_slips(results: list, reduced: pd.DataFrame, group: np.ndarray) -> None:
-    """A fix far from its DR (``result.dr_distance_nm`` beyond ``dr_allowed_nm``) whose sights keep a zone other
-    than their DR's nautical zone gets the likeliest cause added to its warnings (:func:`zone_sign_suspects`):
+    """A fix far from its DR (``result.dr_distance_nm`` beyond ``dr_allowed_nm``) one of whose sights a slip
+    accounts for gets that sight's causes added to its warnings (:func:`zone_sign_suspects`):
     the same words for every command and the API. ``group``: each row's index into ``results`` (−1: none)."""
     far = [k for k, result in enumerate(results) if result is not None and
            np.isfinite(result.dr_distance_nm) and result.dr_distance_nm > result.dr_allowed_nm]
-    if not far or "zone_description_used_h" not in reduced.columns:
+    if not far:
         return
-    rows, texts = zone_sign_suspects(reduced, np.isin(group, far))
+    rows, texts = zone_sign_suspects(reduced, np.isin(group, far), fitted_only=True)
     named: dict[int, str] = {}
     for row, text in zip(rows.tolist(), texts.tolist()):
         named.setdefault(int(group[row]), text)

@@ -423,7 +423,25 @@ def test_the_days_current_at_noon_is_given_by_the_rule_of_the_set_and_drift_at_e
     assert (abs(later.current_drift_kn - 1.2) < later.current_95_kn).all()
     # the console says what each ± covers, at the fixes and at noon
     shown = CliRunner().invoke(app, ["days", "sample_sights/passage_log.csv"]).stdout
-    assert "fixes (95 %: both fixes' errors and the DR's own over the run, 0.3 kn an hour and 2 % of the miles; " \
-           "the noon report's current by the same rule)" in shown
+    assert ("the fix against the DR through the water (95 %: both fixes' errors and the DR's own over the run, 0.3 kn an "
+            "hour and 2 % of the miles; the noon report's current by the same rule)") in shown
     assert f"±{later.current_95_kn.iloc[-1]:.1f} kn (95 %; the noon positions are not both fixes" in shown
     assert CURRENT_95_COVERS in shown
+
+
+def test_the_noon_reports_set_carries_its_uncertainty():
+    """Trial finding: the noon report gave the set as '296.3°' with no ± while its drift said ±0.9 kn. The set's
+    ± (95 %, the across-track part of the same covariance: navred.reckoning.set_and_drift) is given beside it,
+    and the set to whole degrees where that ± is 5° or more (# common practice: no digit inside the error). The
+    invented passage (scripts/make_passage.py) was sailed in 060° 1.2 kn: the truth is inside the ±."""
+    days = process_log("sample_sights/passage_log.csv", plan=False).days_work()
+    later = days.noons.iloc[1:]
+    spread = later.current_set_95_deg.to_numpy(dtype=float)
+    assert np.isfinite(spread).all() and (spread > 0).all()
+    assert (abs((later.current_set_deg - 60.0 + 180) % 360 - 180) < later.current_set_95_deg).all()
+    shown = CliRunner().invoke(app, ["days", "sample_sights/passage_log.csv"]).stdout
+    last = later.iloc[-1]
+    places = 0 if last.current_set_95_deg >= 5 else 1
+    width = 3 if places == 0 else 5
+    assert (f"current           {last.current_set_deg:0{width}.{places}f}° ±{last.current_set_95_deg:.0f}° "
+            f"{last.current_drift_kn:.1f} ±{last.current_95_kn:.1f} kn (95 %") in shown

@@ -669,7 +669,7 @@ def _noon_lines(days, vessel) -> list[str]:
         if r["to_go_nm"] == r["to_go_nm"]:
             eta = f": ETA {r['eta_ship_time']} ({r['eta_basis']})" if r["eta_ship_time"] else ""
             lines.append(f"      {r['to_go_nm']:.0f} nm to go to {r['to']}{eta}")
-        if r["clock_changes"]:
+        if r["clock_changes"] and " kept on " not in r["clock_changes"]:  # a change, not the first noon's zone
             lines.append(f"      {r['clock_changes']}")
     return lines
 

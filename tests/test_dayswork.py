@@ -513,6 +513,20 @@ def test_a_logged_current_splits_the_current_experienced_into_the_logged_and_the
         assert abs((drawn - row["unaccounted_set_deg"] + 180) % 360 - 180) <= 2.0
     labels = [t.text or "" for t in root.iter(f"{svg}text")]
     assert any(t.startswith("missed ") and "logged 090° 0.8" in t for t in labels)
+    # the Day's work sheet and the GeoJSON carry the same split
+    import openpyxl
+
+    from navred.jobs.chartfiles import write_voyage_geojson
+    from navred.jobs.voyagebook import write_workbook
+
+    voyage = process_log(logged, plan=False)
+    book = openpyxl.load_workbook(write_workbook(voyage, tmp_path / "l.xlsx", plots=False))
+    cells = [v for row in book["Day's work"].values for v in row]
+    assert "unaccounted set (deg)" in cells and "current in the DR" in cells
+    assert any(isinstance(v, float) and v == pytest.approx(first.unaccounted_set_deg) for v in cells)
+    features = json.loads(write_voyage_geojson(voyage, tmp_path / "l.geojson").read_text())["features"]
+    fixed = [f["properties"] for f in features if f["properties"].get("unaccounted_set_deg") is not None]
+    assert len(fixed) == len(table) and all(p["current_in_dr"] == "logged" for p in fixed)
 
 
 def test_without_a_logged_current_the_set_and_drift_is_not_split(steady):

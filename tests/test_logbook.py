@@ -776,7 +776,7 @@ def test_columns_navred_does_not_read_are_named_in_a_note(tmp_path):
 
 
 @pytest.mark.parametrize("header, expected", [
-    ("IC", "index_error (arcminutes, on the arc positive"),
+    ("IC", "index_error (arcminutes with their side: '1.4 on'"),
     ("Index corr", "an index correction is the index error with its sign changed"),
     ("I.E.", "index_error"),
     ("Air temp F", "temperature (C) or temperature (F)"),
@@ -1002,3 +1002,67 @@ def test_hand_kept_slips_of_the_marks_and_the_index_error_are_refused_or_warned_
     assert done.loc[1, "ic_arcmin"] == -14.0 and plain.loc[1, "ic_arcmin"] == -1.4
     assert (plain.loc[1, "ho_deg"] - done.loc[1, "ho_deg"]) * 60 == pytest.approx(12.6, abs=0.02)
     pd.testing.assert_series_equal(plain.ho_deg.iloc[2:], done.ho_deg.iloc[2:])
+
+
+# --- an index error with no on or off --------------------------------------------------------------------------
+
+IE_ROW = "2026-03-26T19:41:00Z,Sirius,30 02.4,2.8,43 14 N,13 04 W,{}"
+
+
+def ie_log(tmp_path, header, cells):
+    return read_sight_log(write(tmp_path, [f"utc,body,hs,eye_height_m,dr_lat,dr_lon,{header}"]
+                                + [IE_ROW.format(c) for c in cells]))
+
+
+@pytest.mark.parametrize("cell", ["1.4", "+1.4", "-1.4", "1.4′", "−1.4"])
+def test_a_bare_index_error_is_refused_naming_on_and_off_the_arc(tmp_path, cell):
+    """Textbooks write the index error's sign both ways (common practice): a bare '1.4' is 1.4′ on or off the
+    arc, 2.8′ apart (nearly 3 nm), so it is refused by its row naming both readings and how to say which."""
+    log = ie_log(tmp_path, "IE", [cell])
+    assert log.sights.empty and list(log.rejected.row) == [2]
+    reason = log.rejected.iloc[0]["reason"]
+    assert "has no on or off" in reason and "1.4′ on the arc" in reason and "1.4′ off the arc" in reason
+    assert "'IE (on +)'" in reason and "index_error_arcmin, ON the arc positive" in reason
+
+
+def test_a_bare_index_error_in_a_number_cell_is_refused_too(tmp_path):
+    """A spreadsheet's number cell drops a written +: no sign to trust, refused the same way (common practice)."""
+    frame = pd.DataFrame({"utc": ["2026-03-26T19:41:00Z"] * 3, "body": ["Sirius"] * 3, "hs": [30.04] * 3,
+                          "eye_height_m": [2.8] * 3, "dr_lat": [43.23] * 3, "dr_lon": [-13.07] * 3,
+                          "IE": [1.4, -0.5, 0.0]})
+    log = read_sight_log(frame)
+    assert list(log.sights.index_error_arcmin) == [0.0]  # zero needs no sign
+    assert list(log.rejected.row) == [1, 2]  # a DataFrame's rows counted from 1
+    assert "0.5′ off the arc (read with on +) or 0.5′ on the arc (read with off +)" in log.rejected.iloc[1]["reason"]
+    assert "write '0.5 on' or '0.5 off'" in log.rejected.iloc[1]["reason"]
+    # the API's name states the sign (ON the arc positive, as documented): read as it stands
+    named = read_sight_log(frame.rename(columns={"IE": "index_error_arcmin"}))
+    assert named.rejected.empty and list(named.sights.index_error_arcmin) == [1.4, -0.5, 0.0]
+
+
+@pytest.mark.parametrize("header, expected", [
+    ("IE (on +)", [1.4, -1.4, 0.0, 1.4, -0.8]),
+    ("Index error (on+)", [1.4, -1.4, 0.0, 1.4, -0.8]),
+    ("IE (off −)", [1.4, -1.4, 0.0, 1.4, -0.8]),
+    ('"IE (′, off +)"', [-1.4, 1.4, 0.0, 1.4, -0.8]),
+    ("Index error (on -)", [-1.4, 1.4, 0.0, 1.4, -0.8]),
+    ("index_error_arcmin", [1.4, -1.4, 0.0, 1.4, -0.8]),
+])
+def test_an_index_error_header_that_states_the_sign_reads_numbers_and_words_win(tmp_path, header, expected):
+    """Under a header that states the sign a bare or signed number is read by it; on/off words in a cell win
+    over the header (common practice: IE on the arc is subtracted, so ON the arc is the + of an error)."""
+    log = ie_log(tmp_path, header, ["1.4", "-1.4", "0", "1.4 on", "0.8 off"])
+    assert log.rejected.empty, log.rejected
+    assert list(log.sights.index_error_arcmin) == expected
+    assert all(np.copysign(1.0, v) == 1.0 for v in log.sights.index_error_arcmin if v == 0)  # no −0.0
+
+
+def test_an_index_error_header_with_an_unknown_bracket_is_refused(tmp_path):
+    with pytest.raises(LogbookError, match="neither arcminutes nor a sign convention"):
+        ie_log(tmp_path, "IE (plus)", ["1.4"])
+
+
+def test_the_unstated_header_reads_on_off_words_and_zero(tmp_path):
+    """The unsigned header still reads what has one reading: '1.4 on', '0.8 off' and 0."""
+    log = ie_log(tmp_path, "Index error (′)", ["1.4 on", "0.8 off", "0", "1.4 on the arc"])
+    assert log.rejected.empty and list(log.sights.index_error_arcmin) == [1.4, -0.8, 0.0, 1.4]

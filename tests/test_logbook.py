@@ -1066,3 +1066,41 @@ def test_the_unstated_header_reads_on_off_words_and_zero(tmp_path):
     """The unsigned header still reads what has one reading: '1.4 on', '0.8 off' and 0."""
     log = ie_log(tmp_path, "Index error (′)", ["1.4 on", "0.8 off", "0", "1.4 on the arc"])
     assert log.rejected.empty and list(log.sights.index_error_arcmin) == [1.4, -0.8, 0.0, 1.4]
+
+
+# --- a repeated header row ------------------------------------------------------------------------------------
+
+HAND_HEADER = "Date,Zone time,ZD,Body,Hs,IE,Height of eye (m),DR lat,DR lon"
+HAND_ROW = "2026-12-04,06:4{},+10h,Arcturus,42 12.9,0.0,3.0,20 27.7 N,160 19.3 W"
+
+
+def test_a_repeated_header_row_is_refused_as_one_by_its_row(tmp_path):
+    """Two logs joined one under the other: the second header is refused by its row as a repeated header
+    (not 'cannot read Date as a date'); the rows on either side are read, '+10h' as zone +10."""
+    path = write(tmp_path, [HAND_HEADER, HAND_ROW.format("0:00"), HAND_HEADER, " " + HAND_HEADER.upper(),
+                            HAND_ROW.format("1:00")])
+    log = read_sight_log(path)
+    assert list(log.rejected.row) == [3, 4]
+    for row, reason in zip((3, 4), log.rejected.reason):
+        assert reason.startswith(f"row {row} repeats the header row ('Date', 'Zone time', 'ZD', ...): it is not "
+                                 "a sight, so it is refused"), reason
+    assert [str(u)[:19] for u in log.sights.sight_utc] == ["2026-12-04 16:40:00", "2026-12-04 16:41:00"]
+
+
+def test_a_repeated_header_row_in_a_spreadsheet_is_refused_the_same(tmp_path):
+    book = openpyxl.Workbook()
+    sheet = book.active
+    for line in (HAND_HEADER, HAND_ROW.format("0:00"), HAND_HEADER, HAND_ROW.format("1:00")):
+        sheet.append(line.split(","))
+    book.save(tmp_path / "joined.xlsx")
+    log = read_sight_log(tmp_path / "joined.xlsx")
+    assert list(log.rejected.row) == [3] and "repeats the header row" in log.rejected.reason.iloc[0]
+    assert len(log.sights) == 2
+
+
+def test_a_row_that_merely_names_a_header_in_one_cell_is_not_a_repeated_header(tmp_path):
+    """Only a row whose every filled cell is its column's header is one: a sight with 'Date' typed in its date
+    cell is refused as a date, as before."""
+    path = write(tmp_path, [HAND_HEADER, HAND_ROW.format("0:00").replace("2026-12-04", "Date", 1)])
+    log = read_sight_log(path)
+    assert list(log.rejected.row) == [2] and "repeats the header" not in log.rejected.reason.iloc[0]

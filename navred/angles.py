@@ -140,6 +140,15 @@ def _parse_one(value: object, kind: AngleKind, decimal_comma: bool = False) -> f
             # degrees and minutes with no hemisphere: north or south? east or west? Never guessed.
             a, b = letters
             shown = text.lstrip("+-").strip()
+            if parts[0][0] in "+-":
+                # a sign says which way only under a convention, and logs sign degrees and minutes both ways
+                # (west negative as ISO 6709 signs a decimal, or west positive as hour angles run): never guessed
+                iso, other = (b, a) if negative else (a, b)  # ISO 6709: north and east positive
+                sign = "negative" if negative else "positive"
+                words = {"N": "north", "S": "south", "E": "east", "W": "west"}
+                raise _refused(value, kind, f"degrees and minutes with a sign but no hemisphere letter: {shown} "
+                                            f"{iso} ({words[iso]} {sign}, as ISO 6709 signs a decimal) or {shown} "
+                                            f"{other} ({words[other]} {sign})? write {shown} {a} or {shown} {b}")
             raise _refused(value, kind, f"degrees and minutes with no hemisphere letter could be {a} or {b}: "
                                         f"write {shown} {a} or {shown} {b} (a signed decimal follows ISO 6709, "
                                         "north and east positive)")

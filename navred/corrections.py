@@ -58,49 +58,82 @@ LOWEST_ALTITUDE_DEG = -1.0  # below: no refraction model applies; refused
 _INDEX = re.compile(r"^\s*([+-]?\d+(?:\.\d+)?)\s*[′']?\s*(on|off)?\s*(?:the\s+arc)?\s*$", re.IGNORECASE)
 
 
-def parse_index_error_arcmin(value: object) -> float | np.ndarray:
+def parse_index_error_arcmin(value: object, plus: str | None = "on") -> float | np.ndarray:
     """Index error in arcminutes, positive ON the arc, from a number or ``'2.1 on'`` / ``'1.5 off'``.
+
+    ``plus`` is the sign convention the value's name states: 'on' (+ is on the arc: the API's
+    ``index_error_arcmin``, the default), 'off' (+ is off the arc), or None (not stated: a log column headed
+    only 'IE'). Textbooks write the sign both ways (common practice), so with None a nonzero number, signed
+    or not, has two readings and is refused naming both; on/off words always win over the convention.
 
     >>> parse_index_error_arcmin("2.1 on"), parse_index_error_arcmin("1.5 off"), parse_index_error_arcmin(-0.4)
     (2.1, -1.5, -0.4)
+    >>> parse_index_error_arcmin("1.2", "off"), parse_index_error_arcmin("1.2 on", "off")
+    (-1.2, 1.2)
     """
+    flip = -1.0 if plus == "off" else 1.0
     if np.ndim(value) and not isinstance(value, str):
         numeric = np.asarray(value)
         if numeric.dtype.kind in "fiu":
-            numbers = numeric.astype(float)
+            numbers = numeric.astype(float) * flip + 0.0
             bad = ~np.isfinite(numbers) | (numbers < INDEX_ERROR_ARCMIN.low) | (numbers > INDEX_ERROR_ARCMIN.high)
             if bad.any():
                 raise SightInputError(f"index error outside {_index_range()} in {failed_elements(bad)}; a "
                                       "sextant with more should be adjusted")
+            unsigned = (numbers != 0.0) & (plus is None)
+            if np.any(unsigned):
+                raise SightInputError(f"index error with no on or off in {failed_elements(unsigned)}: "
+                                      f"{_both_ways('1.4')}")
             return numbers
         items = np.asarray(value, dtype=object)
         out = np.empty(items.shape)
         bad = np.zeros(items.shape, dtype=bool)
         for index, item in np.ndenumerate(items):
             try:
-                out[index] = parse_index_error_arcmin(item)
+                out[index] = parse_index_error_arcmin(item, plus)
             except SightInputError:
                 bad[index] = True
         if bad.any():
             raise SightInputError(f"index error unreadable in {failed_elements(bad)}; accepted: "
                                   "arcminutes on the arc positive (2.1, -1.5) or '2.1 on' / '1.5 off'")
         return out
+    worded = False
     if isinstance(value, (int, float, np.integer, np.floating)) and not isinstance(value, bool):
         number = float(value)
+        shown = f"{number:g}"
     else:
-        match = _INDEX.match(str(value))
+        match = _INDEX.match(str(value).replace("−", "-"))
         if not match:
             raise SightInputError(f"cannot read index error {value!r}; accepted: arcminutes on the arc "
                                   "positive (2.1, -1.5) or '2.1 on' / '1.5 off'")
         number = float(match.group(1))
+        shown = match.group(1)
         if match.group(2):
-            if number < 0:
+            if match.group(1).startswith(("+", "-")):
                 raise SightInputError(f"index error {value!r}: give a sign or on/off, not both")
             number = number if match.group(2).lower() == "on" else -number
-    if not np.isfinite(number) or not INDEX_ERROR_ARCMIN.low <= number <= INDEX_ERROR_ARCMIN.high:
+            worded = True
+    if not np.isfinite(number) or not INDEX_ERROR_ARCMIN.low <= number * (1.0 if worded else flip) \
+            <= INDEX_ERROR_ARCMIN.high:
         raise SightInputError(f"index error {value!r} is outside {_index_range()}; a sextant with more should be "
                               "adjusted")
-    return number
+    if worded or number == 0.0:
+        return number
+    if plus is None:
+        size = f"{abs(number):g}′"
+        if shown.startswith(("+", "-")):
+            readings = (f"{size} on the arc (read with on +) or {size} off the arc (read with off +)" if number > 0
+                        else f"{size} off the arc (read with on +) or {size} on the arc (read with off +)")
+        else:
+            readings = f"{size} on the arc (+{abs(number):g}, subtracted) or {size} off the arc (−{abs(number):g}, added)"
+        raise SightInputError(f"index error {shown} has no on or off: {readings}? {_both_ways(f'{abs(number):g}')}")
+    return number * flip + 0.0  # no -0.0
+
+
+def _both_ways(size: str) -> str:
+    """What a bare index error is refused with: the ways to say which side of the arc it is."""
+    return (f"write '{size} on' or '{size} off', or state the sign in the column's header: 'IE (on +)' or "
+            "'IE (off +)', or name the column index_error_arcmin, ON the arc positive")
 
 
 def _index_range() -> str:

@@ -188,6 +188,9 @@ def _twelve_hour_time(value: str, clock: str, pm: bool) -> tuple[int, int, float
 
 
 _ZONE = re.compile(r"^([+-]?)\s*(\d{1,2})(?:[.,]0+)?\s*(?:\(?\s*([A-Za-z])\s*\)?)?$")
+#: a zone written in hours: '+10h', '+10 h', '-3 hrs', '+5 hours' (a lower-case h: an upper-case H after the
+#: number is the zone letter H, checked against the number as '+1 N' is)
+_ZONE_HOURS = re.compile(r"^([+-]?)\s*(\d{1,2})(?:[.,]0+)?\s*(?:h|hrs?\.?|hours?|HRS?\.?|HOURS?|Hrs?\.?|Hours?)$")
 _LETTER_ONLY = re.compile(r"^\(?\s*([A-Za-z])\s*\)?$")
 _ISO_LIKE = re.compile(r"^(?:UTC|GMT)?\s*[+-]\s*\d{1,2}\s*[:h]\s*\d{2}$|^[+-]\d{4}$|^(?:UTC|GMT)\s*[+-]?\s*\d+$",
                        re.IGNORECASE)
@@ -219,6 +222,16 @@ def parse_zone_description(value: object) -> int:
             f"zone description {value!r} is written like a UTC offset, which means the opposite: an "
             "offset of +01:00 is zone description -1 (A). Write the zone description as a signed whole "
             "hour, ZT + ZD = UTC (-1 for a ship keeping UTC+1)")
+    hours_written = _ZONE_HOURS.match(text)
+    if hours_written:  # '+10h', '+10 h', '-3 hrs': hours, the sign and digits first (a zone letter is H alone)
+        sign, number = hours_written.group(1), int(hours_written.group(2))
+        if number > 12:
+            raise TimeInputError(f"zone description {value!r} is outside -12 to +12 hours; accepted: {ACCEPTED_ZONES}")
+        if number and not sign:
+            raise TimeInputError(
+                f"zone description {value!r} is {number} hours with no sign: +{number} (ZT + {number} h = UTC, west "
+                f"of Greenwich) or -{number} (east)? write the sign ('+{number} h')")
+        return -number if sign == "-" else number
     letter_only = _LETTER_ONLY.match(text)
     if letter_only:
         letter = letter_only.group(1).upper()
@@ -247,7 +260,8 @@ def parse_zone_description(value: object) -> int:
             right = next(k for k, v in ZONE_LETTERS.items() if v == zd)
             raise TimeInputError(
                 f"zone description {value!r}: the letter {letter} is zone {ZONE_LETTERS[letter]:+d}, but the "
-                f"number says {zd:+d} (whose letter is {right}); check the sign")
+                f"number says {zd:+d} (whose letter is {right}); check the sign"
+                + (f" (for hours, write '{zd:+d} h' or '{zd:+d}')" if letter == "H" else ""))
     return zd
 
 

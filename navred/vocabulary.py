@@ -24,6 +24,7 @@ UNIT_CONVERSIONS: dict[str, tuple[float, float]] = {
     "hpa": (1.0, 0.0), "inhg": (33.8639, 0.0), "mmhg": (1.33322, 0.0),
     "deg": (1.0, 0.0), "kn": (1.0, 0.0), "s": (1.0, 0.0), "arcmin": (1.0, 0.0), "nm": (1.0, 0.0),
     "s_fast": (1.0, 0.0), "s_slow": (-1.0, 0.0),  # a watch error under a header that states its sign
+    "arcmin_on": (1.0, 0.0), "arcmin_off": (-1.0, 0.0),  # an index error under a header that states its sign
 }
 #: How each unit may be written in a header, normalised (lower case, no spaces or dots).
 UNIT_SPELLINGS: dict[str, str] = {
@@ -49,10 +50,20 @@ WATCH_SIGN_WORDS = {"fast+": "fast", "+fast": "fast", "fast=+": "fast", "+=fast"
                     "slow+": "slow", "+slow": "slow", "slow=+": "slow", "+=slow": "slow", "slowpositive": "slow",
                     "fast-": "slow", "-fast": "slow", "fast=-": "slow", "fastnegative": "slow"}
 
+#: How a header states the sign convention of its index errors (the words in its brackets, spaces dropped, lower
+#: case): 'on' when + means on the arc (subtracted), 'off' when + means off the arc (added). Without one, a bare
+#: index error has two readings (textbooks write both: common practice) and is refused; the programmatic name
+#: index_error_arcmin is itself the statement (ON the arc positive).
+INDEX_SIGN_WORDS = {"on+": "on", "+on": "on", "on=+": "on", "+=on": "on", "onpositive": "on",
+                    "off-": "on", "-off": "on", "off=-": "on", "offnegative": "on",
+                    "off+": "off", "+off": "off", "off=+": "off", "+=off": "off", "offpositive": "off",
+                    "on-": "off", "-on": "off", "on=-": "off", "onnegative": "off"}
+
 
 UNIT_NAMES = {"m": "metres", "ft": "feet", "c": "°C", "f": "°F", "hpa": "hPa", "inhg": "inHg",
               "mmhg": "mmHg", "deg": "degrees", "kn": "knots", "s": "seconds", "arcmin": "arcminutes",
-              "nm": "nautical miles", "s_fast": "seconds, fast +", "s_slow": "seconds, slow +"}
+              "nm": "nautical miles", "s_fast": "seconds, fast +", "s_slow": "seconds, slow +",
+              "arcmin_on": "arcminutes, on the arc +", "arcmin_off": "arcminutes, off the arc +"}
 
 
 @dataclass(frozen=True)
@@ -98,8 +109,10 @@ COLUMNS: tuple[Column, ...] = (
            "the sextant reading: decimal degrees or DD MM.m (0-90°; to 180° for an artificial horizon or a "
            "back sight)", units=("deg",), default_unit="deg", low=0.0, high=180.0, required=True),
     Column("index_error", ("index_error", "ie"), "index_error",
-           "index error as read, ON the arc positive: 1.4, -0.8, '1.4 on', '0.8 off'",
-           units=("arcmin",), default_unit="arcmin", low=-30.0, high=30.0, default=0.0),
+           "index error as read: '1.4 on', '0.8 off'; a number or a signed one only under a header that states "
+           "the sign, 'IE (on +)' or 'IE (off +)', or named index_error_arcmin (ON the arc positive); otherwise "
+           "refused (on or off?)",
+           units=("arcmin", "arcmin_on", "arcmin_off"), default_unit="arcmin", low=-30.0, high=30.0, default=0.0),
     Column("eye_height", ("eye_height", "height_of_eye", "hoe", "eye"), "number",
            "height of eye above the sea, in metres or feet (the header names which)",
            units=("m", "ft"), low=0.0, high=1000.0),
@@ -361,6 +374,10 @@ def match_header(header: object) -> HeaderMatch:
     column = COLUMN[key]
     if key == "watch_error" and unit_text is not None:
         return _watch_error_header(str(header), unit_text)
+    if key == "index_error" and name == "index_error_arcmin":
+        return HeaderMatch(str(header), key, "arcmin_on")  # the API's name: ON the arc positive, documented
+    if key == "index_error" and unit_text is not None:
+        return _index_error_header(str(header), unit_text)
     if unit_text is not None and column.units:
         unit = UNIT_SPELLINGS.get(re.sub(r"[\s.]+", "", unit_text.lower()))
         if unit not in column.units:
@@ -394,6 +411,24 @@ def _watch_error_header(header: str, unit_text: str) -> HeaderMatch:
     return HeaderMatch(header, "watch_error", unit if sign is None else f"s_{sign}")
 
 
+def _index_error_header(header: str, unit_text: str) -> HeaderMatch:
+    """An index error's header with brackets: the unit (arcminutes) and the sign convention it states, if any
+    ('IE (on +)' -> 'arcmin_on'; '(off +)' -> 'arcmin_off'; "(′)" -> 'arcmin', no convention)."""
+    words = [w for w in re.split(r"[,;]", re.sub(r"\s+", "", unit_text.lower().replace("−", "-"))) if w]
+    sign = None
+    for word in words:
+        if word in INDEX_SIGN_WORDS and sign is None:
+            sign = INDEX_SIGN_WORDS[word]
+        elif UNIT_SPELLINGS.get(word) == "arcmin":
+            continue
+        else:
+            return HeaderMatch(header, "index_error", None, (
+                f"header {header!r}: {unit_text!r} is neither arcminutes nor a sign convention navred reads; "
+                "accepted: 'IE (′)', or with the sign stated, 'IE (on +)' (+ on the arc, subtracted) or "
+                "'IE (off +)' (+ off the arc, added)"))
+    return HeaderMatch(header, "index_error", "arcmin" if sign is None else f"arcmin_{sign}")
+
+
 #: Headers that look like a correction navred applies, or a quantity it reads, yet are none of its
 #: spellings: read by no rule, such a column would be left out without a word and its default used
 #: (0′ of index error, 10 °C, 1010 hPa), or read with the wrong sign (an index correction is minus the
@@ -401,8 +436,9 @@ def _watch_error_header(header: str, unit_text: str) -> HeaderMatch:
 #: with any unit dropped, the column, what navred expects there)
 LOOKALIKE_HEADERS: tuple[tuple[str, str, str], ...] = (
     (r"i_?c|i_?e|ie_\w*|ic_\w*|idx\w*|index\w*|\w*_index|ind_?err\w*|\w*index_?(?:err|corr?)\w*", "the index error",
-     "index_error (arcminutes, on the arc positive: '1.4 on', '0.8 off'; an index correction is the index error "
-     "with its sign changed)"),
+     "index_error (arcminutes with their side: '1.4 on', '0.8 off'; signed numbers under 'IE (on +)' or "
+     "'IE (off +)', or in a column named index_error_arcmin, ON the arc positive; an index correction is the index "
+     "error with its sign changed)"),
     (r"\w*temp\w*|\w*therm\w*|t_?air|air_?t|oat", "the air temperature",
      "temperature (C) or temperature (F), for refraction"),
     (r"\w*press\w*|\w*baro\w*|qnh|qfe|mb|mbar|hpa|millibars?", "the air pressure",
@@ -485,7 +521,7 @@ def convert_to_working_unit(value: float, unit: str | None) -> float:
     return value * factor + offset
 
 
-__all__ = ["COLUMNS", "COLUMN", "Column", "HeaderMatch", "match_header", "normalise_header", "LIMBS", "ENTRIES",
+__all__ = ["INDEX_SIGN_WORDS", "COLUMNS", "COLUMN", "Column", "HeaderMatch", "match_header", "normalise_header", "LIMBS", "ENTRIES",
            "ROLES", "SIDES",
            "NO_HORIZON",
            "LOOKALIKE_HEADERS", "MADE_GOOD_HEADERS", "MADE_GOOD_REFUSAL", "OWN_COLUMN_PREFIXES", "OWN_COLUMN_HINT",

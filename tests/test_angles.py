@@ -58,7 +58,7 @@ def test_parse_accepts_the_forms_navigators_write(text, kind, expected):
     ("013 03.7 S", "lon", "S is a hemisphere of a latitude"),  # not a seconds mark
     ("44 30", "lat", "could be N or S"),
     ("013 03.8", "lon", "could be E or W"),
-    ("-013 03.8", "lon", "could be E or W"),
+    ("-013 03.8", "lon", "a sign but no hemisphere letter: 013 03.8 W .west negative.* or 013 03.8 E .east negative"),
     ("23 26.2", "dec", "could be N or S"),
     ("44 30", "variation", "could be E or W"),
     ("43 -14.1 N", "lat", "sign inside the minutes"),
@@ -214,3 +214,17 @@ def test_seconds_after_minutes_are_still_seconds():
     # common practice: with the minutes written, the double quote can only be seconds
     assert parse_angle('42°12\'54"') == pytest.approx(42 + 12 / 60 + 54 / 3600, abs=1e-12)
     assert parse_angle('42°00\'12.9"') == pytest.approx(42 + 12.9 / 3600, abs=1e-12)
+
+
+@pytest.mark.parametrize("text, kind, first, second", [
+    ("-160°19.3'", "lon", "160°19.3' W (west negative, as ISO 6709 signs a decimal)", "160°19.3' E (east negative)"),
+    ("+160 19.3", "lon", "160 19.3 E (east positive, as ISO 6709 signs a decimal)", "160 19.3 W (west positive)"),
+    ("-20 27.7", "lat", "20 27.7 S (south negative, as ISO 6709 signs a decimal)", "20 27.7 N (north negative)"),
+])
+def test_signed_degrees_and_minutes_without_a_letter_are_refused_naming_both_signs(text, kind, first, second):
+    """A sign says which way only under a convention: logs sign degrees and minutes west negative (as ISO 6709
+    signs a decimal) and west positive (as hour angles run) (common practice). Both readings are named."""
+    with pytest.raises(AngleInputError) as refusal:
+        parse_angle(text, kind)
+    message = str(refusal.value)
+    assert "a sign but no hemisphere letter" in message and first in message and second in message

@@ -454,3 +454,94 @@ def test_a_current_that_turns_about_at_a_fix_names_the_fix_not_the_sea():
     assert np.isfinite(rows.loc["14 0536", "drift_kn"]) and np.isfinite(rows.loc["15 2002", "drift_kn"])
     plain = process_log("sample_sights/passage_log.csv", plan=False).days_work().set_drift
     assert not plain.note.str.contains("more likely wrong").any()
+
+
+def test_a_logged_current_splits_the_current_experienced_into_the_logged_and_the_unaccounted(steady, tmp_path):
+    """Trial finding: with a logged current the set and drift at a fix (the whole current, against the DR through
+    the water) did not say so, and the picture's arrow pointed the whole current's way while the DR kept (with the
+    logged current) ended off the fix the other way. The truth is scripts/make_passage.py's: sailed in 060° 1.2 kn;
+    logged 090° 0.8 kn (an entry row), so the DR misses the vector difference (about 012° 0.6 kn)."""
+    import math
+    import xml.etree.ElementTree as ET
+
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+    from navred.figures.plotting import voyage_track_picture
+
+    log, _, _ = steady
+    logged = pd.concat([log.iloc[:1], pd.DataFrame([{"utc": log.utc.iloc[0], "entry": "current", "set": 90,
+                                                     "drift": 0.8, "vessel": log.vessel.iloc[0]}]), log.iloc[1:]],
+                       ignore_index=True)
+    days = process_log(logged, plan=False).days_work()
+    table = days.set_drift
+    assert len(table) == 12
+    true_n, true_e = passage.velocity(60.0, 1.2)
+    log_n, log_e = passage.velocity(90.0, 0.8)
+    miss_set = math.degrees(math.atan2(true_e - log_e, true_n - log_n)) % 360.0
+    miss_drift = math.hypot(true_n - log_n, true_e - log_e)
+    track = days.tracks[next(iter(days.tracks))]
+    for row in table.to_dict("records"):
+        # the whole current, as before; the logged one recovered; the rest the sailed truth less the logged
+        assert abs((row["set_deg"] - 60.0 + 180) % 360 - 180) <= 3.0 and abs(row["drift_kn"] - 1.2) <= 0.05
+        assert row["current_in_dr"] == "logged"
+        assert row["dr_set_deg"] == pytest.approx(90.0, abs=0.5) and row["dr_drift_kn"] == pytest.approx(0.8, abs=0.01)
+        assert abs((row["unaccounted_set_deg"] - miss_set + 180) % 360 - 180) <= 5.0, (row, miss_set)
+        assert abs(row["unaccounted_drift_kn"] - miss_drift) <= 0.05
+        # the unaccounted is the gap from the DR kept (with the logged current) to the fix (geographiclib)
+        gap = GEOD.Inverse(row["kept_dr_lat_deg"], row["kept_dr_lon_deg"], row["fix_lat_deg"], row["fix_lon_deg"])
+        assert gap["s12"] / NM / row["hours"] == pytest.approx(row["unaccounted_drift_kn"], abs=0.01)
+        assert abs((gap["azi1"] - row["unaccounted_set_deg"] + 180) % 360 - 180) <= 1.0
+    assert track.through_water is not None
+    # the console says both, the set to whole degrees where its ± is tens of degrees
+    path = tmp_path / "logged_current.csv"
+    logged.to_csv(path, index=False)
+    shown = CliRunner().invoke(app, ["days", str(path)]).stdout
+    first = table.iloc[0]
+    assert (f"the current experienced (logged {first.dr_set_deg:03.0f}° {first.dr_drift_kn:.1f} kn + unaccounted "
+            f"{first.unaccounted_set_deg:03.0f}° {first.unaccounted_drift_kn:.1f} kn, the DR's gap to the fix)") in shown
+    if first.set_95_deg >= 5:
+        assert f"set {first.set_deg:03.0f}° ±{first.set_95_deg:.0f}°, drift" in shown
+    # the picture's arrow at each fix runs the way of the gap, not of the whole current (page y runs down)
+    root = ET.fromstring(voyage_track_picture(days).to_svg())
+    svg = "{http://www.w3.org/2000/svg}"
+    arrows = [e for e in root.iter(f"{svg}polyline") if e.get("class") == "set and drift"]
+    assert len(arrows) == len(table)
+    for e, row in zip(arrows, table.to_dict("records")):
+        (x0, y0), (x1, y1) = [tuple(map(float, p.split(","))) for p in e.get("points").split()][:2]
+        drawn = math.degrees(math.atan2(x1 - x0, -(y1 - y0))) % 360.0
+        assert abs((drawn - row["unaccounted_set_deg"] + 180) % 360 - 180) <= 2.0
+    labels = [t.text or "" for t in root.iter(f"{svg}text")]
+    assert any(t.startswith("missed ") and "logged 090° 0.8" in t for t in labels)
+    # the Day's work sheet and the GeoJSON carry the same split
+    import openpyxl
+
+    from navred.jobs.chartfiles import write_voyage_geojson
+    from navred.jobs.voyagebook import write_workbook
+
+    voyage = process_log(logged, plan=False)
+    book = openpyxl.load_workbook(write_workbook(voyage, tmp_path / "l.xlsx", plots=False))
+    cells = [v for row in book["Day's work"].values for v in row]
+    assert "unaccounted set (deg)" in cells and "current in the DR" in cells
+    assert any(isinstance(v, float) and v == pytest.approx(first.unaccounted_set_deg) for v in cells)
+    features = json.loads(write_voyage_geojson(voyage, tmp_path / "l.geojson").read_text())["features"]
+    fixed = [f["properties"] for f in features if f["properties"].get("unaccounted_set_deg") is not None]
+    assert len(fixed) == len(table) and all(p["current_in_dr"] == "logged" for p in fixed)
+
+
+def test_without_a_logged_current_the_set_and_drift_is_not_split(steady):
+    """No current entry: the DR kept is the DR through the water, so the whole current is what it missed and no
+    split is given (# common practice: the set and drift is the DR's gap to the fix)."""
+    log, _, _ = steady
+    table = process_log(log, plan=False).days_work().set_drift
+    assert (table["current_in_dr"] == "").all() and table["unaccounted_drift_kn"].isna().all()
+
+
+def test_a_set_is_given_to_the_tenth_only_where_its_uncertainty_allows():
+    """# common practice: a figure's last digit within its uncertainty (never 0.1° with ±52°)."""
+    from navred.jobs.shiptrack import set_current_text
+
+    assert set_current_text(297.4, 52.0) == "297°"
+    assert set_current_text(7.4, 12.0) == "007°"
+    assert set_current_text(297.44, 3.0) == "297.4°"
+    assert set_current_text(7.44, 3.0) == "007.4°"

@@ -776,7 +776,7 @@ def test_columns_navred_does_not_read_are_named_in_a_note(tmp_path):
 
 
 @pytest.mark.parametrize("header, expected", [
-    ("IC", "index_error (arcminutes, on the arc positive"),
+    ("IC", "index_error (arcminutes with their side: '1.4 on'"),
     ("Index corr", "an index correction is the index error with its sign changed"),
     ("I.E.", "index_error"),
     ("Air temp F", "temperature (C) or temperature (F)"),
@@ -1002,3 +1002,105 @@ def test_hand_kept_slips_of_the_marks_and_the_index_error_are_refused_or_warned_
     assert done.loc[1, "ic_arcmin"] == -14.0 and plain.loc[1, "ic_arcmin"] == -1.4
     assert (plain.loc[1, "ho_deg"] - done.loc[1, "ho_deg"]) * 60 == pytest.approx(12.6, abs=0.02)
     pd.testing.assert_series_equal(plain.ho_deg.iloc[2:], done.ho_deg.iloc[2:])
+
+
+# --- an index error with no on or off --------------------------------------------------------------------------
+
+IE_ROW = "2026-03-26T19:41:00Z,Sirius,30 02.4,2.8,43 14 N,13 04 W,{}"
+
+
+def ie_log(tmp_path, header, cells):
+    return read_sight_log(write(tmp_path, [f"utc,body,hs,eye_height_m,dr_lat,dr_lon,{header}"]
+                                + [IE_ROW.format(c) for c in cells]))
+
+
+@pytest.mark.parametrize("cell", ["1.4", "+1.4", "-1.4", "1.4′", "−1.4"])
+def test_a_bare_index_error_is_refused_naming_on_and_off_the_arc(tmp_path, cell):
+    """Textbooks write the index error's sign both ways (common practice): a bare '1.4' is 1.4′ on or off the
+    arc, 2.8′ apart (nearly 3 nm), so it is refused by its row naming both readings and how to say which."""
+    log = ie_log(tmp_path, "IE", [cell])
+    assert log.sights.empty and list(log.rejected.row) == [2]
+    reason = log.rejected.iloc[0]["reason"]
+    assert "has no on or off" in reason and "1.4′ on the arc" in reason and "1.4′ off the arc" in reason
+    assert "'IE (on +)'" in reason and "index_error_arcmin, ON the arc positive" in reason
+
+
+def test_a_bare_index_error_in_a_number_cell_is_refused_too(tmp_path):
+    """A spreadsheet's number cell drops a written +: no sign to trust, refused the same way (common practice)."""
+    frame = pd.DataFrame({"utc": ["2026-03-26T19:41:00Z"] * 3, "body": ["Sirius"] * 3, "hs": [30.04] * 3,
+                          "eye_height_m": [2.8] * 3, "dr_lat": [43.23] * 3, "dr_lon": [-13.07] * 3,
+                          "IE": [1.4, -0.5, 0.0]})
+    log = read_sight_log(frame)
+    assert list(log.sights.index_error_arcmin) == [0.0]  # zero needs no sign
+    assert list(log.rejected.row) == [1, 2]  # a DataFrame's rows counted from 1
+    assert "0.5′ off the arc (read with on +) or 0.5′ on the arc (read with off +)" in log.rejected.iloc[1]["reason"]
+    assert "write '0.5 on' or '0.5 off'" in log.rejected.iloc[1]["reason"]
+    # the API's name states the sign (ON the arc positive, as documented): read as it stands
+    named = read_sight_log(frame.rename(columns={"IE": "index_error_arcmin"}))
+    assert named.rejected.empty and list(named.sights.index_error_arcmin) == [1.4, -0.5, 0.0]
+
+
+@pytest.mark.parametrize("header, expected", [
+    ("IE (on +)", [1.4, -1.4, 0.0, 1.4, -0.8]),
+    ("Index error (on+)", [1.4, -1.4, 0.0, 1.4, -0.8]),
+    ("IE (off −)", [1.4, -1.4, 0.0, 1.4, -0.8]),
+    ('"IE (′, off +)"', [-1.4, 1.4, 0.0, 1.4, -0.8]),
+    ("Index error (on -)", [-1.4, 1.4, 0.0, 1.4, -0.8]),
+    ("index_error_arcmin", [1.4, -1.4, 0.0, 1.4, -0.8]),
+])
+def test_an_index_error_header_that_states_the_sign_reads_numbers_and_words_win(tmp_path, header, expected):
+    """Under a header that states the sign a bare or signed number is read by it; on/off words in a cell win
+    over the header (common practice: IE on the arc is subtracted, so ON the arc is the + of an error)."""
+    log = ie_log(tmp_path, header, ["1.4", "-1.4", "0", "1.4 on", "0.8 off"])
+    assert log.rejected.empty, log.rejected
+    assert list(log.sights.index_error_arcmin) == expected
+    assert all(np.copysign(1.0, v) == 1.0 for v in log.sights.index_error_arcmin if v == 0)  # no −0.0
+
+
+def test_an_index_error_header_with_an_unknown_bracket_is_refused(tmp_path):
+    with pytest.raises(LogbookError, match="neither arcminutes nor a sign convention"):
+        ie_log(tmp_path, "IE (plus)", ["1.4"])
+
+
+def test_the_unstated_header_reads_on_off_words_and_zero(tmp_path):
+    """The unsigned header still reads what has one reading: '1.4 on', '0.8 off' and 0."""
+    log = ie_log(tmp_path, "Index error (′)", ["1.4 on", "0.8 off", "0", "1.4 on the arc"])
+    assert log.rejected.empty and list(log.sights.index_error_arcmin) == [1.4, -0.8, 0.0, 1.4]
+
+
+# --- a repeated header row ------------------------------------------------------------------------------------
+
+HAND_HEADER = "Date,Zone time,ZD,Body,Hs,IE,Height of eye (m),DR lat,DR lon"
+HAND_ROW = "2026-12-04,06:4{},+10h,Arcturus,42 12.9,0.0,3.0,20 27.7 N,160 19.3 W"
+
+
+def test_a_repeated_header_row_is_refused_as_one_by_its_row(tmp_path):
+    """Two logs joined one under the other: the second header is refused by its row as a repeated header
+    (not 'cannot read Date as a date'); the rows on either side are read, '+10h' as zone +10."""
+    path = write(tmp_path, [HAND_HEADER, HAND_ROW.format("0:00"), HAND_HEADER, " " + HAND_HEADER.upper(),
+                            HAND_ROW.format("1:00")])
+    log = read_sight_log(path)
+    assert list(log.rejected.row) == [3, 4]
+    for row, reason in zip((3, 4), log.rejected.reason):
+        assert reason.startswith(f"row {row} repeats the header row ('Date', 'Zone time', 'ZD', ...): it is not "
+                                 "a sight, so it is refused"), reason
+    assert [str(u)[:19] for u in log.sights.sight_utc] == ["2026-12-04 16:40:00", "2026-12-04 16:41:00"]
+
+
+def test_a_repeated_header_row_in_a_spreadsheet_is_refused_the_same(tmp_path):
+    book = openpyxl.Workbook()
+    sheet = book.active
+    for line in (HAND_HEADER, HAND_ROW.format("0:00"), HAND_HEADER, HAND_ROW.format("1:00")):
+        sheet.append(line.split(","))
+    book.save(tmp_path / "joined.xlsx")
+    log = read_sight_log(tmp_path / "joined.xlsx")
+    assert list(log.rejected.row) == [3] and "repeats the header row" in log.rejected.reason.iloc[0]
+    assert len(log.sights) == 2
+
+
+def test_a_row_that_merely_names_a_header_in_one_cell_is_not_a_repeated_header(tmp_path):
+    """Only a row whose every filled cell is its column's header is one: a sight with 'Date' typed in its date
+    cell is refused as a date, as before."""
+    path = write(tmp_path, [HAND_HEADER, HAND_ROW.format("0:00").replace("2026-12-04", "Date", 1)])
+    log = read_sight_log(path)
+    assert list(log.rejected.row) == [2] and "repeats the header" not in log.rejected.reason.iloc[0]

@@ -423,7 +423,97 @@ def test_the_days_current_at_noon_is_given_by_the_rule_of_the_set_and_drift_at_e
     assert (abs(later.current_drift_kn - 1.2) < later.current_95_kn).all()
     # the console says what each ± covers, at the fixes and at noon
     shown = CliRunner().invoke(app, ["days", "sample_sights/passage_log.csv"]).stdout
-    assert "fixes (95 %: both fixes' errors and the DR's own over the run, 0.3 kn an hour and 2 % of the miles; " \
-           "the noon report's current by the same rule)" in shown
+    assert ("the fix against the DR through the water (95 %: both fixes' errors and the DR's own over the run, 0.3 kn an "
+            "hour and 2 % of the miles; the noon report's current by the same rule)") in shown
     assert f"±{later.current_95_kn.iloc[-1]:.1f} kn (95 %; the noon positions are not both fixes" in shown
     assert CURRENT_95_COVERS in shown
+
+
+def test_the_noon_reports_set_carries_its_uncertainty():
+    """Trial finding: the noon report gave the set as '296.3°' with no ± while its drift said ±0.9 kn. The set's
+    ± (95 %, the across-track part of the same covariance: navred.reckoning.set_and_drift) is given beside it,
+    and the set to whole degrees where that ± is 5° or more (# common practice: no digit inside the error). The
+    invented passage (scripts/make_passage.py) was sailed in 060° 1.2 kn: the truth is inside the ±."""
+    days = process_log("sample_sights/passage_log.csv", plan=False).days_work()
+    later = days.noons.iloc[1:]
+    spread = later.current_set_95_deg.to_numpy(dtype=float)
+    assert np.isfinite(spread).all() and (spread > 0).all()
+    assert (abs((later.current_set_deg - 60.0 + 180) % 360 - 180) < later.current_set_95_deg).all()
+    shown = CliRunner().invoke(app, ["days", "sample_sights/passage_log.csv"]).stdout
+    last = later.iloc[-1]
+    places = 0 if last.current_set_95_deg >= 5 else 1
+    width = 3 if places == 0 else 5
+    assert (f"current           {last.current_set_deg:0{width}.{places}f}° ±{last.current_set_95_deg:.0f}° "
+            f"{last.current_drift_kn:.1f} ±{last.current_95_kn:.1f} kn (95 %") in shown
+
+
+def _trial_passage(ts, eph, tmp_path, clocks_utc: str = "2026-12-03T18:00:00Z"):
+    """The trial's passage (invented): departure 21° 18.0′ N 157° 52.0′ W at 18:00 UTC, the clocks on +10 and a
+    current of 270° 0.8 kn entered there; sailed (scripts/make_passage.py, RK4 on WGS 84) 240° 7 kn in a current
+    of 300° 1.0 kn; a round of four stars (skyfield) from the true position fixes her the next morning."""
+    start = pd.Timestamp("2026-12-03T18:00:00Z")
+    track = passage.sail(start, 21.3, -157.0 - 52.0 / 60.0, [(start, 240.0, 7.0)], lambda t_h: (300.0, 1.0),
+                         start + pd.Timedelta(hours=60))
+    rows = [{"utc": _iso(start), "entry": "departure", "dr_lat": "21 18.0 N", "dr_lon": "157 52.0 W", "course": 240,
+             "speed": 7},
+            {"utc": clocks_utc, "entry": "clocks", "clocks": "+10"},
+            {"utc": _iso(start), "entry": "current", "set": 270, "drift": 0.8}]
+    when = pd.Timestamp("2026-12-04T16:40:00Z")
+    lat, lon = passage.position_at(track, when)
+    for s_ in passage.star_round(ts, eph, when, lat, lon):
+        rows.append({"utc": _iso(when), "body": s_["body"], "hs": s_["hs"], "eye_height_m": 3.0,
+                     "fix_group": "4 morning"})
+    rows.append({"utc": "2026-12-05T23:00:00Z", "entry": "course", "course": 240, "speed": 7})
+    log = tmp_path / "trial.csv"
+    pd.DataFrame(rows).to_csv(log, index=False)
+    return log
+
+
+def test_the_clocks_entered_at_the_start_are_the_ones_named_and_the_first_noon_has_no_last(ts, eph, tmp_path):
+    """Trial finding: a log whose clocks entry (+10) stands at the departure printed 'the clocks as entered (from
+    ZD +11, the nautical zone of the first known position's longitude)', a zone the clocks never kept (157° 52′ W
+    is in zone +11 by longitude), and the first noon report said 'clocks unchanged since the last noon' with no
+    noon before it (common practice: the noon report's clocks line is the change since the last report)."""
+    log = _trial_passage(ts, eph, tmp_path)
+    days = process_log(log, plan=False).days_work()
+    assert (days.noons.zone == "ZD +10").all()
+    first, second = days.noons.iloc[0], days.noons.iloc[1]
+    assert first.clock_changes == "the first noon: kept on ZD +10 since the start of the log"
+    assert second.clock_changes == ""
+    out = tmp_path / "noon.txt"
+    shown = CliRunner().invoke(app, ["days", str(log), "-o", str(out)]).stdout
+    assert "the clocks as entered (ZD +10 from the start, row 3)" in shown
+    assert "ZD +11" not in shown
+    reports = out.read_text(encoding="utf-8").split("\n\n")
+    assert "clocks            the first noon: kept on ZD +10 since the start of the log" in reports[0]
+    assert "unchanged since the last noon" not in reports[0]
+    assert "clocks            unchanged since the last noon" in reports[1]
+
+
+def test_clocks_entered_after_the_start_name_the_zone_kept_before_them(ts, eph, tmp_path):
+    """The same log with its clocks entry (+10) 20 h after the departure: before it the clocks keep the nautical
+    zone of the departure's longitude (+11, ZD = -round(λ/15°): 157.9°/15 = 10.5), named as such and until which
+    row; the first noon after the change says it (common practice)."""
+    log = _trial_passage(ts, eph, tmp_path, clocks_utc="2026-12-04T14:00:00Z")
+    days = process_log(log, plan=False).days_work()
+    shown = CliRunner().invoke(app, ["days", str(log)]).stdout
+    assert ("the clocks as entered (from ZD +11, the nautical zone of the first known position's longitude, until "
+            "the first clocks entry, row 3)") in shown
+    assert days.noons.zone.iloc[0] == "ZD +11"
+    assert "clocks advanced 1 h" in " ".join(days.noons.clock_changes)
+
+
+def test_the_trial_passage_splits_its_current_into_the_logged_and_the_unaccounted(ts, eph, tmp_path):
+    """The trial's days2: sailed in 300° 1.0 kn with 270° 0.8 kn logged (scripts/make_passage.py's truth), the
+    fix's set and drift is the current experienced, about 300° 1.0 kn, split into the logged 270° 0.8 kn and the
+    unaccounted vector difference, 352.5° 0.50 kn (the DR's gap to the fix)."""
+    log = _trial_passage(ts, eph, tmp_path)
+    found = process_log(log, plan=False).days_work().set_drift.iloc[0]
+    assert abs((found.set_deg - 300.0 + 180) % 360 - 180) <= 2.0 and abs(found.drift_kn - 1.0) <= 0.05
+    assert found.current_in_dr == "logged"
+    assert found.dr_set_deg == pytest.approx(270.0, abs=0.5) and found.dr_drift_kn == pytest.approx(0.8, abs=0.02)
+    north, east = 1.0 * np.cos(np.radians(300.0)), 1.0 * np.sin(np.radians(300.0)) + 0.8
+    assert abs((found.unaccounted_set_deg - np.degrees(np.arctan2(east, north)) % 360 + 180) % 360 - 180) <= 5.0
+    assert found.unaccounted_drift_kn == pytest.approx(np.hypot(north, east), abs=0.05)
+    shown = CliRunner().invoke(app, ["days", str(log)]).stdout
+    assert f"set {found.set_deg:03.0f}° ±{found.set_95_deg:.0f}°" in shown and "." not in f"{found.set_deg:03.0f}"

@@ -80,3 +80,33 @@ def test_a_hand_kept_log_written_with_am_and_pm_reads_as_the_same_log_on_the_24_
     assert list(refused.rejected.row) == [3]
     assert "two readings: noon (12:00) or midnight" in refused.rejected.reason.iloc[0]
     assert len(refused.sights) == len(plain.sights) - 1
+
+
+@pytest.mark.parametrize("text, hours", [("+10h", 10), ("+10 h", 10), ("-3 hrs", -3), ("-3 Hrs.", -3),
+                                         ("+5 hours", 5), ("-8 h", -8), ("0h", 0), ("−11 hr", -11)])
+def test_a_signed_zone_description_in_hours_is_read_as_hours(text, hours):
+    """'+10h' is ten hours, ZT + 10 h = UTC (common practice: the zone description is written in hours); the
+    h after a signed number is hours, never the zone letter H (-8), which stands alone or after its number in
+    capitals ('-8 H')."""
+    from navred.timework import parse_zone_description
+
+    assert parse_zone_description(text) == hours
+
+
+@pytest.mark.parametrize("text", ["10h", "8 h", "3 hrs"])
+def test_a_zone_description_in_hours_with_no_sign_is_refused_naming_both(text):
+    from navred.timework import parse_zone_description
+
+    number = text.split()[0].rstrip("h")
+    with pytest.raises(NavredError, match=rf"{number} hours with no sign: \+{number} .* or -{number} \(east\)"):
+        parse_zone_description(text)
+
+
+def test_the_zone_letter_h_is_still_checked_against_its_number():
+    """A capital H after the number is the zone letter (H is -8, from memory: the nautical zone letters), checked
+    as '+1 N' is; the refusal says how hours are written."""
+    from navred.timework import parse_zone_description
+
+    assert parse_zone_description("-8 H") == -8
+    with pytest.raises(NavredError, match=r"the letter H is zone -8, but the number says \+10 .*write '\+10 h'"):
+        parse_zone_description("+10 H")

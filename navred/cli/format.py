@@ -660,7 +660,7 @@ def _noon_lines(days, vessel) -> list[str]:
         lines.append(f"  {r['date']} noon ({r['zone']}, {r['noon_utc'][11:16]} UTC) {r['noon_position'] or 'no position'}"
                      f"  {'by' if is_reckoned(r['noon_from']) else 'from'} {r['noon_from']}")
         if r["run_nm"] == r["run_nm"]:
-            current = (f"; current {r['current_set_deg']:05.1f}° {r['current_drift_kn']:.1f} "
+            current = (f"; current {_noon_set_text(r)} {r['current_drift_kn']:.1f} "
                        f"±{r['current_95_kn']:.1f} kn" if r["current_drift_kn"] == r["current_drift_kn"] else
                        f"; current {r['current_note'].split(' (')[0]}" if r["current_note"] else "")
             lines.append(f"      run {r['run_nm']:.1f} nm made good on {r['course_made_good_deg']:05.1f}° at "
@@ -669,9 +669,18 @@ def _noon_lines(days, vessel) -> list[str]:
         if r["to_go_nm"] == r["to_go_nm"]:
             eta = f": ETA {r['eta_ship_time']} ({r['eta_basis']})" if r["eta_ship_time"] else ""
             lines.append(f"      {r['to_go_nm']:.0f} nm to go to {r['to']}{eta}")
-        if r["clock_changes"]:
+        if r["clock_changes"] and " kept on " not in r["clock_changes"]:  # a change, not the first noon's zone
             lines.append(f"      {r['clock_changes']}")
     return lines
+
+
+def _noon_set_text(row: dict) -> str:
+    """The noon current's set with its ± (95 %), to whole degrees where the ± is 5° or more."""
+    from ..jobs.shiptrack import set_current_text
+
+    spread = row.get("current_set_95_deg", float("nan"))
+    text = set_current_text(row["current_set_deg"], spread)
+    return f"{text} ±{spread:.0f}°" if spread == spread else text
 
 
 def noon_report_lines(row: dict) -> list[str]:
@@ -684,7 +693,7 @@ def noon_report_lines(row: dict) -> list[str]:
                   f"{row['hours']:.0f} h: average speed {row['speed_made_good_kn']:.1f} kn",
                   f"  through the water {row['through_water_nm']:.1f} nm"]
         if row["current_drift_kn"] == row["current_drift_kn"]:
-            lines.append(f"  current           {row['current_set_deg']:05.1f}° {row['current_drift_kn']:.1f} "
+            lines.append(f"  current           {_noon_set_text(row)} {row['current_drift_kn']:.1f} "
                          f"±{row['current_95_kn']:.1f} kn (95 %; {row['current_note']})")
         elif row["current_note"]:
             lines.append(f"  current           {row['current_note']}")
@@ -707,15 +716,20 @@ def noon_reports_text(days) -> str:
 
 
 def _set_drift_lines(days, vessel) -> list[str]:
+    from ..jobs.shiptrack import current_split_text, set_current_text
+
     sets = days.set_drift[days.set_drift.vessel == vessel]
-    lines = [f"{vessel or 'the ship'}: set and drift at each of the ship's fixes (95 %: both fixes' errors and the "
+    lines = [f"{vessel or 'the ship'}: set and drift at each of the ship's fixes, the current experienced: the fix "
+             "against the DR through the water (95 %: both fixes' errors and the "
              "DR's own over the run, 0.3 kn an hour and 2 % of the miles; the noon report's current by the same "
              "rule)"] if len(sets) else []
     for r in sets.to_dict("records"):
         head = f"  {r['fix_utc']} fix {r['fix_group']}"
         if r["drift_kn"] == r["drift_kn"]:
-            lines.append(f"{head}: set {r['set_deg']:05.1f}° ±{r['set_95_deg']:.0f}°, drift {r['drift_kn']:.2f} "
-                         f"±{r['drift_95_kn']:.2f} kn over {r['hours']:.1f} h from the {r['from']}")
+            split = current_split_text(r)
+            lines.append(f"{head}: set {set_current_text(r['set_deg'], r['set_95_deg'])} ±{r['set_95_deg']:.0f}°, "
+                         f"drift {r['drift_kn']:.1f} ±{r['drift_95_kn']:.1f} kn over {r['hours']:.1f} h from the "
+                         f"{r['from']}" + (f"; the current experienced {split}" if split else ""))
         elif r["note"].startswith("not determined"):
             lines.append(f"{head}: set and drift {r['note']} (from the {r['from']})")
         else:

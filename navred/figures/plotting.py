@@ -442,8 +442,13 @@ def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, a
         if not np.isfinite(f["set_deg"]):
             continue
         fx, fy = chart.plane(f["fix_lat_deg"], f["fix_lon_deg"])
-        length = f["drift_kn"] * arrow_nm
-        turn = math.radians(f["set_deg"])
+        # the arrow is the current the DR missed, the way the gap from the DR kept to the fix runs: where the DR
+        # carried a current, the unaccounted rest, labelled with the whole current it completes
+        split = bool(f.get("current_in_dr")) and f.get("unaccounted_drift_kn") == f.get("unaccounted_drift_kn")
+        set_deg, drift_kn = ((f["unaccounted_set_deg"], f["unaccounted_drift_kn"]) if split
+                             else (f["set_deg"], f["drift_kn"]))
+        length = drift_kn * arrow_nm
+        turn = math.radians(set_deg)
         tx, ty = float(fx) + length * math.sin(turn), float(fy) + length * math.cos(turn)
         (sx, sy), (ex_, ey_) = chart.page(float(fx), float(fy)), chart.page(tx, ty)
         sheet.line([float(sx), float(ex_)], [float(sy), float(ey_)], CHART, 1.6, kind="set and drift")
@@ -453,6 +458,9 @@ def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, a
         head = [(float(ex_) + 6 * math.cos(back + s), float(ey_) + 6 * math.sin(back + s)) for s in (0.45, -0.45)]
         sheet.polygon([float(ex_), head[0][0], head[1][0]], [float(ey_), head[0][1], head[1][1]], fill=CHART,
                       outline=CHART, width=0.5, kind="set and drift")
+        labels.append((f"missed {set_deg:03.0f}° {drift_kn:.1f} kn (current {f['set_deg']:03.0f}° {f['drift_kn']:.1f}, "
+                       f"{f['current_in_dr']} {f['dr_set_deg']:03.0f}° {f['dr_drift_kn']:.1f})" if split
+                       else f"current {set_deg:03.0f}° {drift_kn:.1f} kn", CHART, float(ex_), float(ey_)))
     for e in estimated.to_dict("records"):
         px, py = chart.at(e["lat_deg"], e["lon_deg"])
         placer.take(ep_symbol(sheet, px, py))
@@ -472,7 +480,8 @@ def _voyage_key(sheet, chart: _VoyageChart, arrow_nm: float) -> None:
     sheet.line([ax0, ax0 + 22], [key_y, key_y], INK, 1.1, dash=(5.0, 3.0))
     sheet.text(ax0 + 26, key_y + 3, "DR from each known position", 7, INK)
     sheet.line([ax0 + 150, ax0 + 172], [key_y, key_y], CHART, 1.6)
-    sheet.text(ax0 + 176, key_y + 3, f"set and drift at a fix ({arrow_nm:.0f} nm of arrow a knot)", 7, CHART)
+    sheet.text(ax0 + 176, key_y + 3, f"current the DR missed ({arrow_nm:.0f} nm a knot)", 7,
+               CHART)
     kx = ax0 + 360
     fix_symbol(sheet, kx, key_y, kind="key")
     sheet.text(kx + 9, key_y + 3, "fix (and its 95 % ellipse)", 7, FIX)
@@ -494,5 +503,5 @@ def _voyage_key(sheet, chart: _VoyageChart, arrow_nm: float) -> None:
     sheet.line([nx, nx], [ny, ny - 28], INK, 1.6)
     sheet.polygon([nx - 4, nx, nx + 4], [ny - 26, ny - 34, ny - 26], fill=INK, outline=INK, width=0.5)
     sheet.text(nx, ny - 37, "N", 11, INK, anchor="middle", bold=True)
-    sheet.text(ax0 - 12, 40, "Each fix restarts the DR; set and drift are found against the DR through the water. "
+    sheet.text(ax0 - 12, 40, "Each fix restarts the DR; each arrow is the gap from the DR to the fix, a knot to the key's length. "
                "An aid to navigation, not a sole means.", 8, INK)

@@ -303,6 +303,8 @@ def _decimal_text(value, decimal_comma):
 
 #: The sign convention a watch error's header states, by the unit it was read as (vocabulary.WATCH_SIGN_WORDS).
 _WATCH_SIGN_STATED = {"s_fast": "fast", "s_slow": "slow"}
+#: The sign convention an index error's header states, by the unit it was read as (vocabulary.INDEX_SIGN_WORDS).
+_INDEX_SIGN_STATED = {"arcmin_on": "on", "arcmin_off": "off"}
 
 
 _EAST_WEST = re.compile(r"^\s*(?:([EW])\s*)?([+-]?\d+(?:\.\d*)?)\s*°?\s*([EW])?\s*$", re.IGNORECASE)
@@ -392,7 +394,8 @@ PARSERS = {
     "altitude": lambda v, dc, unit, dates: float(parse_angle(_not_formula(v), "angle", dc)),
     "lat": lambda v, dc, unit, dates: float(parse_angle(_not_formula(v), "lat", dc)),
     "lon": lambda v, dc, unit, dates: float(parse_angle(_not_formula(v), "lon", dc)),
-    "index_error": lambda v, dc, unit, dates: float(parse_index_error_arcmin(_decimal_text(_not_formula(v), dc))),
+    "index_error": lambda v, dc, unit, dates: float(parse_index_error_arcmin(
+        _decimal_text(_not_formula(v), dc), _INDEX_SIGN_STATED.get(unit))),
     "number": lambda v, dc, unit, dates: _number(_not_formula(v), dc),
     "watch_error": lambda v, dc, unit, dates: parse_watch_error_s(_decimal_text(_not_formula(v), dc),
                                                                   _WATCH_SIGN_STATED.get(unit)),
@@ -571,7 +574,11 @@ def _numeric_checks(column, numbers: np.ndarray, units: np.ndarray) -> tuple[np.
             bad |= (used < -180.0) | (used > 360.0)
             used = wrap_180(used)  # 354.47 east of Greenwich is 5.53 west
         elif kind == "index_error":
-            bad |= (used < column.low) | (used > column.high)
+            # a number has no on or off: read only under a header that states the sign (or the API's name,
+            # index_error_arcmin, ON the arc +); otherwise judged one by one and refused with both readings
+            stated = np.isin(units.astype(str), list(_INDEX_SIGN_STATED))
+            used = np.where(units.astype(str) == "arcmin_off", 0.0 - used, used)
+            bad |= (used < column.low) | (used > column.high) | ((used != 0.0) & ~stated)
         elif kind == "watch_error":
             stated = np.isin(units.astype(str), list(_WATCH_SIGN_STATED))
             used = np.where(units.astype(str) == "s_slow", -used, used)  # + is a slow watch: a correction, added

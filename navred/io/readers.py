@@ -413,8 +413,12 @@ def _plain_block(source: str, header: list[str], data: list[str], first_row_numb
             return None
         columns = [pd.Series(frame[k].to_numpy(dtype=object), dtype=object) for k in range(width)]
     if short_lines:
-        return RawTable(source, header, columns, np.asarray(numbers, dtype=int), {}, separator,
-                        separator in (";", "\t"), int(blank.sum()), {})
+        problems: dict[int, tuple[str, str]] = {}
+        malformed: dict[int, list[str]] = {}
+        _refuse_repeated_headers(header, columns, numbers, problems, malformed)
+        _blank_rows(columns, problems)
+        return RawTable(source, header, columns, np.asarray(numbers, dtype=int), problems, separator,
+                        separator in (";", "\t"), int(blank.sum()), malformed)
     return _finish(source, header, columns, np.asarray(numbers, dtype=int), {}, {}, separator, int(blank.sum()),
                    clean=True)
 
@@ -815,9 +819,45 @@ def _finish(source, header, columns, numbers, problems, malformed, separator, em
                 continue
             problems[int(row)] = (header[k], _text_problem(str(column.iloc[row])))
             malformed[int(row)] = ["" if _is_blank(c.iloc[row]) else _shown(str(c.iloc[row])) for c in columns]
+    _refuse_repeated_headers(header, columns, numbers, problems, malformed)
     _blank_rows(columns, problems)
     return RawTable(source, header, columns, numbers, problems, separator, separator in (";", "\t"), empty,
                     malformed)
+
+
+def _refuse_repeated_headers(header, columns, numbers, problems, malformed) -> None:
+    """Rows that repeat the header (a page's header copied down a sheet, two logs joined one under the other)
+    refused by their row, said to be a repeated header: read as data, their 'Date' would be refused as a date
+    that cannot be read, which misleads. Refused, not skipped: a log that holds one was put together by hand,
+    and its navigator is told where (the rows after it are read by the first header's columns)."""
+    named = [(k, str(h).strip().casefold()) for k, h in enumerate(header) if str(h).strip()]
+    if not named or not len(columns) or not len(columns[0]):
+        return
+    first, first_name = named[0]
+    cells = columns[first].to_numpy(dtype=object)
+    alike = [u for u in pd.unique(cells) if isinstance(u, str) and u.strip().casefold() == first_name]
+    if not alike:
+        return
+    candidates = np.flatnonzero(pd.Series(cells, dtype=object).isin(alike).to_numpy())
+    for row in candidates.tolist():
+        if row in problems:
+            continue
+        matched = 0
+        for k, name in named:
+            cell = columns[k].iloc[row]
+            text = "" if _is_blank(cell) else str(cell).strip().casefold()
+            if text == name:
+                matched += 1
+            elif text:
+                break
+        else:
+            if matched >= min(2, len(named)):
+                problems[row] = ("", (
+                    f"row {int(numbers[row])} repeats the header row ({', '.join(repr(str(header[k])) for k, _ in named[:3])}"
+                    f"{', ...' if len(named) > 3 else ''}): it is not a sight, so it is refused; a header copied "
+                    "down the sheet or two logs joined? delete the row (the rows after it are read by the first "
+                    "header's columns)"))
+                malformed[row] = ["" if _is_blank(c.iloc[row]) else _shown(str(c.iloc[row])) for c in columns]
 
 
 def _bad_text_rows(column: pd.Series, *, lengths_only: bool = False):

@@ -154,6 +154,11 @@ def _fix_features(voyage, group, current: dict) -> list[dict]:
         properties.update({"set_deg": found["set_deg"], "drift_kn": found["drift_kn"],
                            "set_95_deg": finite(found["set_95_deg"]), "drift_95_kn": finite(found["drift_95_kn"]),
                            "current_from": found["from"]})
+        if found.get("current_in_dr"):  # the current the DR carried and the rest it missed (the DR's gap to the fix)
+            properties.update({"current_in_dr": found["current_in_dr"], "dr_set_deg": finite(found["dr_set_deg"]),
+                               "dr_drift_kn": finite(found["dr_drift_kn"]),
+                               "unaccounted_set_deg": finite(found["unaccounted_set_deg"]),
+                               "unaccounted_drift_kn": finite(found["unaccounted_drift_kn"])})
     features = [point_feature(fix.lat_deg, fix.lon_deg, properties)]
     if fix.all_sights is not None:
         every = fix.all_sights

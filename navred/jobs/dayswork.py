@@ -96,7 +96,7 @@ def days_work(voyage, *, carry_current: bool = False) -> DaysWork:
     clocks = {}
     estimated = estimated_positions(voyage, ships)
     for vessel, track in tracks.items():
-        set_rows += set_drift_rows(vessel, track)
+        set_rows += set_drift_rows(vessel, track, current_in_dr="in the DR" if carry_current else "logged")
         lines = vessel_lines(voyage, vessel, ships)
         rows, vessel_notes, clocks[vessel] = noon_rows(voyage, vessel, track, estimated, lines, ships)
         noon_rows_all += rows

@@ -443,8 +443,8 @@ def noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict], lines:
                "noon_position": position_text(lat[k], lon[k]) if np.isfinite(lat[k]) else "",
                "noon_from": found[k][2] + _current_words(found[k][2], unallowed, int(noon[k])), "run_nm": np.nan, "course_made_good_deg": np.nan,
                "speed_made_good_kn": np.nan, "through_water_nm": np.nan, "hours": np.nan,
-               "current_set_deg": np.nan, "current_drift_kn": np.nan, "current_95_kn": np.nan, "current_note": "", "to": "", "to_go_nm": np.nan,
-               "eta_utc": "", "eta_ship_time": "", "eta_basis": "", "clock_changes": clock_changes_text(clocks, previous, int(noon[k])),
+               "current_set_deg": np.nan, "current_set_95_deg": np.nan, "current_drift_kn": np.nan, "current_95_kn": np.nan, "current_note": "", "to": "", "to_go_nm": np.nan,
+               "eta_utc": "", "eta_ship_time": "", "eta_basis": "", "clock_changes": _clock_words(clocks, previous, int(noon[k]), k, zone[k]),
                "fixes_that_day": count, "lat_deg": float(lat[k]), "lon_deg": float(lon[k])}
         if k:
             row.update(_days_run_columns(run, through, water_n, water_e, k, found))
@@ -533,9 +533,20 @@ def _days_run_columns(run, through, water_n, water_e, k: int, found) -> dict:
     if not np.isfinite(result.set_95_deg):
         out["current_note"] = f"under {drift + spread:.1f} kn, its set not determined ({basis}; {CURRENT_95_COVERS})"
         return out
-    out.update({"current_set_deg": float(result.set_deg), "current_drift_kn": drift,
+    out.update({"current_set_deg": float(result.set_deg), "current_set_95_deg": float(result.set_95_deg),
+                "current_drift_kn": drift,
                 "current_note": f"{basis}; {CURRENT_95_COVERS}"})
     return out
+
+
+def _clock_words(clocks, previous: int, noon: int, k: int, zone_h: float) -> str:
+    """The clock changes since the last noon; at the first noon, which has none before it, since the log's start,
+    or the zone kept ('' where a later noon's clocks are unchanged)."""
+    changes = clock_changes_text(clocks, previous, noon)
+    if k:
+        return changes
+    return (f"the first noon: since the start of the log, {changes}" if changes else
+            f"the first noon: kept on {zone_text(zone_h)} since the start of the log")
 
 
 def _to_go_columns(row: dict, waypoints, track: DRTrack, noon: int, clocks) -> dict:

@@ -48,6 +48,15 @@ def vessel_clocks(entries: pd.DataFrame, track: DRTrack, start_ns: int, end_ns: 
                       "master changed them (entry: clocks) to have noon by them")
     when = utc64(clocks["utc"]).astype(np.int64)
     order = np.argsort(when, kind="stable")
+    opening = clocks.iloc[int(order[0])]
+    begins = min(int(start_ns), int(track.known_ns[0])) if track.known_ns.size else int(start_ns)
+    if int(when[order[0]]) <= begins and np.isfinite(opening["clocks_zone_h"]):
+        # the first clocks entry is in force from the start: the zone before it is never kept, so never named
+        first_zone = float(opening["clocks_zone_h"])
+        how = f"the clocks as entered ({zone_text(first_zone)} from the start, row {opening['row']})"
+    else:
+        how = (f"the clocks as entered (from {zone_text(first_zone)}, {first_from}, until the first clocks entry, "
+               f"row {opening['row']})")
     zones, zone = [], first_zone
     for k in order.tolist():
         row = clocks.iloc[k]
@@ -61,8 +70,7 @@ def vessel_clocks(entries: pd.DataFrame, track: DRTrack, start_ns: int, end_ns: 
                 zone -= 24.0
         zones.append(zone)
     change = np.concatenate([[min(int(start_ns), int(when.min()) - 1)], when[order]])
-    return (ShipsClocks(change.astype(np.int64), np.array([first_zone, *zones]) + 0.0),
-            f"the clocks as entered (from {zone_text(first_zone)}, {first_from})")
+    return ShipsClocks(change.astype(np.int64), np.array([first_zone, *zones]) + 0.0), how
 
 
 def clock_changes_text(clocks: ShipsClocks, after_ns: int, until_ns: int) -> str:

@@ -6,6 +6,8 @@ Edge code over :mod:`navred.reckoning` (the core); :mod:`navred.jobs.dayswork` p
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 import pandas as pd
 
@@ -13,6 +15,7 @@ from ..angles import format_angle
 from ..constants import NS_PER_HOUR, NS_PER_MINUTE, NS_PER_SECOND
 from ..fixstats import DR_ERROR_FRACTION, DR_ERROR_KN
 from ..reckoning import DRTrack, dr_track, estimated_position, set_and_drift
+from ..sailings import rhumb_inverse
 from ..status import SightStatus
 from ..triangle import distance_bearing
 from .frames import utc64
@@ -42,11 +45,13 @@ CURRENT_JUMP_KN = 3.0
 
 SET_DRIFT_COLUMNS = ["vessel", "fix_group", "fix_utc", "fix", "from", "hours", "dr_at_fix", "dr_to_fix_nm",
                      "set_deg", "set_95_deg", "drift_kn", "drift_95_kn", "note",
-                     "fix_lat_deg", "fix_lon_deg", "dr_lat_deg", "dr_lon_deg"]
+                     "fix_lat_deg", "fix_lon_deg", "dr_lat_deg", "dr_lon_deg", "current_in_dr",
+                     "dr_set_deg", "dr_drift_kn", "unaccounted_set_deg", "unaccounted_drift_kn", "kept_dr_lat_deg",
+                     "kept_dr_lon_deg"]
 ESTIMATED_COLUMNS = ["vessel", "fix_group", "utc", "estimated_position", "from", "note", "lat_deg", "lon_deg"]
 NOON_COLUMNS = ["vessel", "date", "zone_h", "zone", "noon_utc", "noon_position", "noon_from", "run_nm",
                 "course_made_good_deg", "speed_made_good_kn", "through_water_nm", "hours", "current_set_deg",
-                "current_drift_kn", "current_95_kn", "current_note", "to", "to_go_nm", "eta_utc", "eta_ship_time", "eta_basis", "clock_changes",
+                "current_set_95_deg", "current_drift_kn", "current_95_kn", "current_note", "to", "to_go_nm", "eta_utc", "eta_ship_time", "eta_basis", "clock_changes",
                 "fixes_that_day", "lat_deg", "lon_deg"]
 EXERCISE_COLUMNS = ["vessel", "fix_group", "observer", "utc", "kind", "position", "ship_position", "ship_from",
                     "off_nm", "bearing_deg", "lat_deg", "lon_deg"]
@@ -321,7 +326,32 @@ def stamp(ns) -> str:
     return stamps([int(ns)])[0]
 
 
-def set_drift_rows(vessel: str, track: DRTrack) -> list[dict]:
+#: The DR a current is carried in differs from the DR through the water by less than this (nm) over the run: no
+#: current was carried in it.
+CARRIED_MIN_NM = 0.05
+
+
+def set_current_text(set_deg: float, set_95_deg: float) -> str:
+    """A set to whole degrees where its ± is 5° or more (a tenth of a degree with ±52° says more than is known), to
+    a tenth below."""
+    places = 1 if np.isfinite(set_95_deg) and set_95_deg < 5.0 else 0
+    return f"{set_deg:0{4 + places if places else 3}.{places}f}°"
+
+
+def current_split_text(row: dict) -> str:
+    """How the current found at a fix splits where the DR carried one: '(logged 270° 0.8 kn + unaccounted 352° 0.5
+    kn)', the second the gap from the DR kept to the fix; '' where the DR carried none."""
+    if not row.get("current_in_dr") or not row.get("dr_drift_kn") == row.get("dr_drift_kn"):
+        return ""
+    return (f"({row['current_in_dr']} {row['dr_set_deg']:03.0f}° {row['dr_drift_kn']:.1f} kn + unaccounted "
+            f"{row['unaccounted_set_deg']:03.0f}° {row['unaccounted_drift_kn']:.1f} kn, the DR's gap to the fix)")
+
+
+def set_drift_rows(vessel: str, track: DRTrack, *, current_in_dr: str = "logged") -> list[dict]:
+    """The set and drift at each of the ship's fixes: the whole current (the fix against the DR through the water
+    from the known position before). Where the DR kept carries a current (``current_in_dr`` names it: 'logged',
+    or 'carried' with the found set and drift carried on), the current in the DR over the run and the rest, the
+    gap from the DR kept to the fix ('unaccounted'), whose vector sum is the whole."""
     _, _, detail = _set_drift_at_known(track.through_water, track.known_ns, track.known_lat, track.known_lon,
                                        track.known_cov_nm2)
     rows = []
@@ -333,6 +363,10 @@ def set_drift_rows(vessel: str, track: DRTrack) -> list[dict]:
     index = np.flatnonzero(ok)
     fix_text = _positions_text(track.known_lat[index + 1], track.known_lon[index + 1])
     dr_text = _positions_text(dr_lat[index], dr_lon[index])
+    # the DR as kept (with any current it carries) at each fix, and the gap from it to the fix
+    kept_lat, kept_lon, _ = track.positions(track.known_ns[index + 1], before_restart=True)
+    carried_nm = rhumb_inverse(kept_lat, kept_lon, dr_lat[index], dr_lon[index])[0]
+    gap_nm, gap_deg = rhumb_inverse(kept_lat, kept_lon, track.known_lat[index + 1], track.known_lon[index + 1])
     for j, k in enumerate(index):
         i = k + 1  # the known position the set and drift are found at
         label = track.known_label[i]
@@ -354,9 +388,30 @@ def set_drift_rows(vessel: str, track: DRTrack) -> list[dict]:
                      "drift_95_kn": float(result.drift_95_kn[j]) if shown else np.nan,
                      "note": note, "fix_lat_deg": float(track.known_lat[i]),
                      "fix_lon_deg": float(track.known_lon[i]), "dr_lat_deg": float(dr_lat[k]),
-                     "dr_lon_deg": float(dr_lon[k])})
+                     "dr_lon_deg": float(dr_lon[k]), **_split_columns(
+                         current_in_dr if shown and carried_nm[j] >= CARRIED_MIN_NM else "", result, j,
+                         float(hours[k]), float(gap_nm[j]), float(gap_deg[j]), float(kept_lat[j]),
+                         float(kept_lon[j]))})
     _suspect_fixes(rows)
     return rows
+
+
+def _split_columns(current_in_dr: str, result, j: int, hours: float, gap_nm: float, gap_deg: float,
+                   kept_lat: float, kept_lon: float) -> dict:
+    """The current in the DR and the unaccounted rest at one fix (NaN and '' where the DR carried none): the
+    unaccounted is the gap from the DR kept to the fix over the hours, the current in the DR the whole less it."""
+    out = {"current_in_dr": "", "dr_set_deg": np.nan, "dr_drift_kn": np.nan, "unaccounted_set_deg": np.nan,
+           "unaccounted_drift_kn": np.nan, "kept_dr_lat_deg": kept_lat, "kept_dr_lon_deg": kept_lon}
+    if not current_in_dr:
+        return out
+    gap_n, gap_e = gap_nm * math.cos(math.radians(gap_deg)) / hours, gap_nm * math.sin(math.radians(gap_deg)) / hours
+    whole_n = float(result.drift_kn[j]) * math.cos(math.radians(float(result.set_deg[j])))
+    whole_e = float(result.drift_kn[j]) * math.sin(math.radians(float(result.set_deg[j])))
+    dr_n, dr_e = whole_n - gap_n, whole_e - gap_e
+    out.update({"current_in_dr": current_in_dr, "dr_set_deg": math.degrees(math.atan2(dr_e, dr_n)) % 360.0,
+                "dr_drift_kn": math.hypot(dr_n, dr_e), "unaccounted_set_deg": gap_deg % 360.0,
+                "unaccounted_drift_kn": gap_nm / hours})
+    return out
 
 
 def _suspect_fixes(rows: list[dict]) -> None:
@@ -388,8 +443,10 @@ def _suspect_fixes(rows: list[dict]) -> None:
         marks += [(before, words), (after, words)]
     for row, words in marks:
         row["note"] = f"not determined: {words}"
-        for key in ("set_deg", "set_95_deg", "drift_kn", "drift_95_kn"):
+        for key in ("set_deg", "set_95_deg", "drift_kn", "drift_95_kn", "dr_set_deg", "dr_drift_kn",
+                    "unaccounted_set_deg", "unaccounted_drift_kn"):
             row[key] = np.nan
+        row["current_in_dr"] = ""
 
 
 def estimated_positions(voyage, ships: ShipsSights, *, exercises: bool = False) -> list[dict]:
@@ -562,5 +619,5 @@ def track_points(voyage, vessel: str, track: DRTrack) -> list[dict]:
 __all__ = ["vessel_tracks", "known_label_at", "NOON_WINDOW_HOURS", "SET_DRIFT_COLUMNS", "NOON_COLUMNS",
            "ESTIMATED_COLUMNS", "EXERCISE_COLUMNS", "ENTRY_WORK_COLUMNS", "current_verdict", "is_fix_label",
            "water_vector_nm", "water_run_nm", "vessel_entries", "SET_DRIFT_MIN_HOURS", "SET_DRIFT_MAX_95_KN",
-           "MAX_CURRENT_KN", "position_text", "stamp", "stamps", "ships_of", "set_drift_rows", "estimated_positions",
+           "MAX_CURRENT_KN", "position_text", "stamp", "stamps", "ships_of", "set_drift_rows", "set_current_text", "current_split_text", "estimated_positions",
            "exercises", "entry_work", "ship_latitudes", "track_points", "TRACK_STEP_HOURS"]

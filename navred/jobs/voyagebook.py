@@ -212,12 +212,15 @@ def _write_timepieces_sheet(tables: TableWriter, sheet, voyage) -> None:
 #: cell always says why (the first noon has no run; a drift within its uncertainty leaves the set undetermined).
 _FIRST_NOON = "first noon: no run"
 _NOT_FOUND = "not found: see note"
+_NO_CURRENT_IN_DR = "none in the DR"
 DAYS_BLANK = (
     {"noon position": "no position at noon (see noon from)", "run (nm)": _FIRST_NOON,
      "course made good (deg)": _FIRST_NOON, "speed made good (kn)": _FIRST_NOON,
      "through the water (nm)": _FIRST_NOON, "hours": _FIRST_NOON},
     {"set (deg)": _NOT_FOUND, "set ±95 % (deg)": _NOT_FOUND, "drift (kn)": _NOT_FOUND, "drift ±95 % (kn)": _NOT_FOUND,
-     "note": "none"},
+     "note": "none", "current in the DR": "none", "DR's current set (deg)": _NO_CURRENT_IN_DR,
+     "DR's current drift (kn)": _NO_CURRENT_IN_DR, "unaccounted set (deg)": _NO_CURRENT_IN_DR,
+     "unaccounted drift (kn)": _NO_CURRENT_IN_DR},
     {"note": "none"},
     {"ex-meridian limit (min)": "none: meridian or Polaris", "fix group": "none",
      "role": "not given"},
@@ -238,8 +241,10 @@ def _write_days_sheet(tables: TableWriter, sheet, days, pictures: Pictures) -> N
                     "lat_deg", "lon_deg"]
     blocks = [("Noon positions (12:00 by the ship's clocks) and the day's run, noon to noon along the rhumb line",
                days.noons[noon_columns] if len(days.noons) else days.noons),
-              ("Set and drift at each of the ship's fixes: the fix against the DR carried through the water from the "
-               "known position before (the 95 % uncertainty includes the DR's own error, 0.3 kn and 2 % of the run); "
+              ("Set and drift at each of the ship's fixes, the current experienced: the fix against the DR carried "
+               "through the water from the known position before (the 95 % uncertainty includes the DR's own error, "
+               "0.3 kn and 2 % of the run); where the DR kept carried a current, that current and the unaccounted "
+               "rest (the gap from the DR kept to the fix), whose sum is the current experienced; "
                "found only over 2 h or more, to ±1.5 kn or better, and never beyond 8 kn", days.set_drift),
               ("Estimated positions from a single line of the ship's", days.estimated),
               ("Latitudes by meridian altitude, ex-meridian (within its limit) and Polaris", days.latitudes),
@@ -282,8 +287,8 @@ def _write_noon_report_sheet(tables: TableWriter, sheet, days) -> None:
             write_text_safe(sheet.cell(row=3 + k, column=1), note)
         return
     columns = ["vessel", "date", "zone", "noon_utc", "noon_position", "noon_from", "course_made_good_deg", "run_nm",
-               "hours", "speed_made_good_kn", "through_water_nm", "current_set_deg", "current_drift_kn",
-               "current_95_kn", "current_note", "to", "to_go_nm", "eta_ship_time", "eta_basis", "eta_utc", "clock_changes",
+               "hours", "speed_made_good_kn", "through_water_nm", "current_set_deg", "current_set_95_deg",
+               "current_drift_kn", "current_95_kn", "current_note", "to", "to_go_nm", "eta_ship_time", "eta_basis", "eta_utc", "clock_changes",
                "lat_deg", "lon_deg"]
     write_table_sheet(tables, sheet, labelled(days.noons[columns]), first_row=3,
                       wide={"noon from": 50, "current from": 40, "clock changes since the last noon": 50,

@@ -302,3 +302,20 @@ def test_fix_says_why_each_row_was_not_reduced_and_how_old_the_dr_is(tmp_path):
     assert result.exit_code == 0, result.output
     line = next(x for x in result.stdout.splitlines() if x.strip().startswith("from the DR"))
     assert "a DR 2.8 h old: beyond" in line, line  # the stars at 19:48 UTC, the departure at 17:00
+
+
+def test_fix_says_the_course_and_speed_its_run_was_carried_by():
+    # a running fix's console says what the run between the sights was carried by, with the values the log gives
+    # (the demo's course and speed columns, read here by the standard library's csv module)
+    import csv
+    from pathlib import Path
+
+    log = Path(__file__).resolve().parents[1] / "sample_sights" / "demo_sights.csv"
+    rows = list(csv.DictReader(log.open()))
+    given = {f"{float(r['course_deg']):03.0f}° at {float(r['speed_kn']):.1f} kn" for r in rows}
+    result = runner.invoke(app, ["fix", str(log)])
+    assert result.exit_code == 0, result.output
+    said = [line for line in result.output.splitlines() if "run between the sights" in line]
+    assert said, result.output
+    for line in said:
+        assert "course and speed, " in line and line.split("course and speed, ")[1] in given, line

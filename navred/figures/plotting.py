@@ -348,7 +348,7 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
         sheet.text(spot.x, spot.y, text, placed.size, colour, anchor=spot.anchor, baseline=spot.baseline, box=PAPER,
                    kind="label")
     if unplaced:
-        sheet.text(box[0] - 12, 40, f"No room on the sheet for the labels of: {', '.join(unplaced[:12])}"
+        sheet.text(box[0] - 12, 51, f"No room on the sheet for the labels of: {', '.join(unplaced[:12])}"
                    + (f" and {len(unplaced) - 12} more" if len(unplaced) > 12 else "") + ".", 7, INK, italic=True,
                    kind="mark list")
     sheet.line([chart.ax0, chart.ax1, chart.ax1, chart.ax0, chart.ax0],

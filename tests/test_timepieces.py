@@ -337,6 +337,9 @@ def test_every_extrapolated_or_straddling_error_carries_a_warning(tmp_path):
     assert days.exit_code == 0  # the warnings on stderr, each sight's by its row
     assert "row 2 (Sun): watch error extrapolated 45.2 h past Chrono A's last time signal" in days.output
     assert "row 12 (Dubhe): watch error extrapolated 2.3 days past" in days.output
+    # signals on an exact rate, read to the tenth: the ± claims no less than that tenth and says what it covers
+    assert "±0.0 s" not in days.output
+    assert "95 %, from the signals' scatter about their rate; not a change of rate since)" in days.output
 
     # a change of rate between 26 March 00:00 and 27 March 00:00: the sights of 26 March straddle it
     def changed(t):
@@ -400,3 +403,17 @@ def test_a_losing_chronometer_is_said_to_lose(tmp_path):
     ])
     result = runner.invoke(app, ["rate", str(path)])
     assert result.exit_code == 0 and "losing 0.50 ± 0.00 s a day" in result.output, result.output
+
+
+def test_an_extrapolated_error_claims_no_less_than_the_tenth_its_signals_are_read_to():
+    # the sample's signals lie on an exact rate, read to the tenth of a second (invented, sample_sights/): the
+    # scatter's ± would print "±0.0 s"; it says "within ±0.1 s" and what it covers
+    from pathlib import Path
+
+    samples = Path(__file__).resolve().parents[1] / "sample_sights"
+    days = runner.invoke(app, ["days", str(samples / "passage_log_chronometer.csv"),
+                               "--rates", str(samples / "passage_time_signals.csv")])
+    assert days.exit_code == 0, days.output
+    assert "±0.0 s" not in days.output
+    assert ("extrapolated 8.2 h past Chrono A's last time signal (2026-04-16 12:00 UTC) (within ±0.1 s, 95 %, from the "
+            "signals' scatter about their rate; not a change of rate since)") in days.output

@@ -224,7 +224,11 @@ class Ratings:
     def _warning(piece: Timepiece, day: float, signals: np.ndarray, before: RateFit, after: RateFit, later: bool,
                  se: float) -> str:
         label = piece.name or "the timepiece"
-        uncertainty = f" (±{1.96 * se:.1f} s, 95 %)" if np.isfinite(se) else " (its uncertainty unknown)"
+        # what the rating's ± covers: the signals' scatter about their rate, not a rate that changes unseen; below
+        # the tenth of a second the comparisons are read to it is not claimed
+        uncertainty = ((f" (±{1.96 * se:.1f} s, 95 %" if 1.96 * se >= 0.05 else " (within ±0.1 s, 95 %")
+                       + ", from the signals' scatter about their rate; not a change of rate since)"
+                       if np.isfinite(se) else " (its uncertainty unknown)")
         change = piece.change
         if change.changed and signals[change.split_index] < day < signals[change.split_index + 1]:
             taken, other = float(before.error_s(day)), float(after.error_s(day))

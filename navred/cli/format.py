@@ -676,7 +676,7 @@ def training_lines(run, track: str) -> list[str]:
 
 
 def _noon_lines(days, vessel) -> list[str]:
-    from ..jobs.noons import is_reckoned
+    from ..jobs.shiptrack import is_reckoned
 
     noons = days.noons[days.noons.vessel == vessel]
     if not len(noons):

@@ -44,8 +44,10 @@ from .latitudechecks import latitude_checks
 from .shipsfixes import ROUND_MINUTES, ShipsSights, combined_rounds
 from .shipstime import clock_changes_text, vessel_clocks, zone_text
 from .shiptrack import (
+    EP_PREFIX,
     NOON_WINDOW_HOURS,
     is_fix_label,
+    is_reckoned,
     position_text,
     stamp,
     vessel_entries,
@@ -249,19 +251,6 @@ def _from_dr(track: DRTrack, noon: int, currents: tuple = ()):
         return (float(lat[0]), float(lon[0]), f"{EP_PREFIX}DR with {current_used(track, noon, currents)}) from the "
                 f"{label}", False, sigma)
     return float(lat[0]), float(lon[0]), f"DR from the {label}", False, sigma
-
-
-#: A noon from a DR that carries a current (entered in the log, or each fix's carried) is the trade's estimated
-#: position (EP) by course, speed and current, named so wherever the noon is shown, never plain "DR", with the
-#: current it used and where that came from: "EP (DR with the logged current 270° 0.8 kn, row 4) from the departure
-#: at row 2".
-EP_PREFIX = "EP ("
-
-
-def is_reckoned(noon_from: str) -> bool:
-    """Whether a noon's "from" names a position by reckoning alone (a DR or an EP by DR and current), not one the
-    ship's sights gave."""
-    return str(noon_from).startswith(("DR ", EP_PREFIX))
 
 
 def current_sources(voyage, vessel: str, track: DRTrack, entries) -> tuple[tuple[int, str, str], ...]:

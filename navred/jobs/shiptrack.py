@@ -479,12 +479,23 @@ def estimated_positions(voyage, ships: ShipsSights, *, exercises: bool = False) 
     return out
 
 
+#: A noon from a DR that carries a current (entered in the log, or each fix's carried) is the trade's estimated
+#: position (EP) by course, speed and current, named so wherever the noon is shown, never plain "DR", with the
+#: current it used and where that came from: "EP (DR with the logged current 270° 0.8 kn, row 4) from the departure
+#: at row 2".
+EP_PREFIX = "EP ("
+
+
+def is_reckoned(noon_from: str) -> bool:
+    """Whether a noon's "from" names a position by reckoning alone (a DR or an EP by DR and current), not one the
+    ship's sights gave."""
+    return str(noon_from).startswith(("DR ", EP_PREFIX))
+
+
 def _ship_references(vessel: str, track: DRTrack, estimated: list[dict], noons: list[dict]):
     """The ship's own positions an exercise can be marked against: her fixes, her noon positions found by a fix
     or a Sun line (not those that are only her DR), her estimated positions; each (instant ns, lat, lon, words,
     rank), the rank breaking a tie in time (a fix first)."""
-    from .noons import is_reckoned
-
     refs = [(int(t), float(a), float(b), f"the ship's {label}", 0)
             for t, a, b, label in zip(track.known_ns.tolist(), track.known_lat.tolist(), track.known_lon.tolist(),
                                       track.known_label) if is_fix_label(label)]

@@ -110,7 +110,7 @@ _OUTPUT_COLUMNS = {"sight_utc": "utc", "body_name": "body", "limb": "limb", "hs_
                    "fix_group": "fix_group", "chart_lat_deg": "chart_lat", "chart_lon_deg": "chart_lon",
                    "vessel": "vessel", "observer": "observer", "voyage": "voyage", "series": "series",
                    "role": "role", "sigma_arcmin": "sigma"}
-_OUTPUT_UNITS = {"eye_height": "m", "temperature": "c", "pressure": "hpa"}
+_OUTPUT_UNITS = {"eye_height": "m", "temperature": "c", "pressure": "hpa", "index_error": "arcmin_on"}
 
 
 @dataclass(frozen=True)

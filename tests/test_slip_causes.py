@@ -109,3 +109,22 @@ def test_a_far_dr_with_no_slip_names_no_cause(tmp_path, ts, eph):
     note = _note(tmp_path, ts, eph, "Deneb", "2026-12-05T04:40:00Z", dr_off_nm=(-100.0, 0.0))
     _only(note)
     assert NO_SLIP_WORDS in note and f"within {SLIP_FIT_NM:.0f} nm" in note and "cause" not in note
+
+
+def test_a_round_that_agrees_far_from_its_dr_blames_the_dr_not_one_sights_slip(tmp_path):
+    # the invented demo with every DR 2° of latitude north (120 nm): each round's sights still agree among
+    # themselves, so no slip in one sight moved the fix; the round names the DR (or a slip common to all), never
+    # one sight's wrong limb, day or degree (sample_sights/ is invented; the 2° are put in here)
+    from navred import process_log
+
+    demo = pd.read_csv("sample_sights/demo_sights.csv", dtype=str, keep_default_na=False)
+    demo["dr_lat"] = demo.dr_lat.str.replace(r"^(\d+)", lambda m: str(int(m.group(1)) + 2), regex=True)
+    demo.to_csv(tmp_path / "far.csv", index=False)
+    voyage = process_log(tmp_path / "far.csv", plan=False)
+    agreeing = [g for g in voyage.groups if g.fix is not None and int(np.sum(g.fix.used)) >= 3]
+    assert agreeing
+    for g in agreeing:
+        words = " ".join(g.fix.warnings)
+        assert "far more than the DR could be out" in words
+        assert "agree among themselves" in words and "the DR is the likely cause" in words
+        assert "possible cause" not in words.replace("'possible cause'", "")

@@ -153,6 +153,11 @@ def _zone_words(zd: float, lon: float, nautical: float) -> str:
             f"zone {nautical:+.0f}, the time is {abs(zd - nautical):.0f} h out; check the ZD")
 
 
+#: a round's sights agree among themselves within a sextant's scatter (common practice: good sights agree to
+#: a minute or two)
+AGREEING_SIGMA_ARCMIN = 2.0
+
+
 def name_zone_slips(results: list, reduced: pd.DataFrame, group: np.ndarray) -> None:
     """A fix far from its DR (``result.dr_distance_nm`` beyond ``dr_allowed_nm``) one of whose sights a slip
     accounts for gets that sight's causes added to its warnings (:func:`zone_sign_suspects`):
@@ -161,7 +166,16 @@ def name_zone_slips(results: list, reduced: pd.DataFrame, group: np.ndarray) -> 
            np.isfinite(result.dr_distance_nm) and result.dr_distance_nm > result.dr_allowed_nm]
     if not far:
         return
-    rows, texts = zone_sign_suspects(reduced, np.isin(group, far), fitted_only=True)
+    # a round whose sights agree among themselves (three or more, σ within a sextant's) was not moved by a slip in
+    # one of them: the DR, or a slip common to every sight, moved it; one sight's cause is not named for the round
+    agree = {k for k in far if int(np.sum(results[k].used)) >= 3 and results[k].sigma_arcmin <= AGREEING_SIGMA_ARCMIN}
+    for k in sorted(agree):
+        results[k].warnings.append(
+            f"its {int(np.sum(results[k].used))} sights agree among themselves (σ {results[k].sigma_arcmin:.1f}′): a "
+            "slip in one sight cannot move them all, so the DR is the likely cause, or a slip common to every sight "
+            "(the zone description, the date, am/pm, the watch error); a sight's own 'possible cause' assumes the DR "
+            "right")
+    rows, texts = zone_sign_suspects(reduced, np.isin(group, [k for k in far if k not in agree]), fitted_only=True)
     named: dict[int, str] = {}
     for row, text in zip(rows.tolist(), texts.tolist()):
         named.setdefault(int(group[row]), text)

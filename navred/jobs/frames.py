@@ -140,13 +140,15 @@ def fix_position(reduced: pd.DataFrame, at_utc: Instant | None = None, *, group:
             return float(given)
         return reduced[name].to_numpy(dtype=float) if name in reduced.columns else None
 
-    return fix_from_sights(
+    result = fix_from_sights(
         reduced["gha_deg"].to_numpy(dtype=float), reduced["dec_deg"].to_numpy(dtype=float),
         reduced["ho_deg"].to_numpy(dtype=float), utc64(reduced["sight_utc"]),
         reduced["dr_lat_deg"].to_numpy(dtype=float), reduced["dr_lon_deg"].to_numpy(dtype=float),
         usable=usable, course_deg=column("course_deg", course_deg), speed_kn=column("speed_kn", speed_kn),
         at_utc=at_utc, chart_lat=chart_lat, chart_lon=chart_lon, solve_motion=solve_motion,
         labels=row_labels(reduced, several=several), **_per_sight(reduced, set_deg, drift_kn))
+    name_zone_slips([result], reduced, np.zeros(len(reduced), dtype=np.intp))  # as fix_positions does
+    return result
 
 
 #: The columns of a table of fixes (``navred fix --csv``, :meth:`GroupedFixes.table`), one row per fix group,

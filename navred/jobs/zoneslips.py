@@ -6,6 +6,8 @@ fix's warning), alike for every command and the API."""
 
 from __future__ import annotations
 
+import re
+
 import numpy as np
 import pandas as pd
 
@@ -167,20 +169,28 @@ def name_zone_slips(results: list, reduced: pd.DataFrame, group: np.ndarray) -> 
     if not far:
         return
     # a round whose sights agree among themselves (three or more, σ within a sextant's) was not moved by a slip in
-    # one of them: the DR, or a slip common to every sight, moved it; one sight's cause is not named for the round
+    # one of them: the DR, or a slip common to every sight, moved it; a cause is named for it only where every one
+    # of its sights names the same (a ZD of the wrong sign, a day out), else the DR is said to be the likely cause
     agree = {k for k in far if int(np.sum(results[k].used)) >= 3 and results[k].sigma_arcmin <= AGREEING_SIGMA_ARCMIN}
-    for k in sorted(agree):
-        results[k].warnings.append(
-            f"its {int(np.sum(results[k].used))} sights agree among themselves (σ {results[k].sigma_arcmin:.1f}′): a "
-            "slip in one sight cannot move them all, so the DR is the likely cause, or a slip common to every sight "
-            "(the zone description, the date, am/pm, the watch error); a sight's own 'possible cause' assumes the DR "
-            "right")
-    rows, texts = zone_sign_suspects(reduced, np.isin(group, [k for k in far if k not in agree]), fitted_only=True)
-    named: dict[int, str] = {}
+    rows, texts = zone_sign_suspects(reduced, np.isin(group, far), fitted_only=True)
+    said: dict[int, list[str]] = {}
     for row, text in zip(rows.tolist(), texts.tolist()):
-        named.setdefault(int(group[row]), text)
-    for k, text in named.items():
-        results[k].warnings.append(text)
+        said.setdefault(int(group[row]), []).append(text)
+    for k in far:
+        texts_k = said.get(k, [])
+        if k not in agree:
+            if texts_k:
+                results[k].warnings.append(texts_k[0])
+            continue
+        n = int(np.sum(results[k].used))
+        if len(texts_k) >= n and len({re.sub(r"\d+(?:\.\d+)?", "#", t) for t in texts_k}) == 1:
+            # every sight names the one slip (its figures aside: each sight's own DR and intercept)
+            results[k].warnings.append(texts_k[0])
+            continue
+        results[k].warnings.append(
+            f"its {n} sights agree among themselves (σ {results[k].sigma_arcmin:.1f}′): a slip in one sight cannot "
+            "move them all, so the DR is the likely cause, or a slip common to every sight (the zone description, "
+            "the date, am/pm, the watch error); a sight's own 'possible cause' assumes the DR right")
 
 
 __all__ = ["zone_sign_suspects", "name_zone_slips"]

@@ -419,7 +419,7 @@ def _no_run(fix, sights: SheetSights, row: int) -> bool:
     if sights.dr_lat_deg is None or sights.dr_lon_deg is None or not np.isfinite(sights.dr_lat_deg[row]):
         return False
     dlat = float(sights.dr_lat_deg[row]) - float(fix.dr_lat_deg)
-    dlon = (float(sights.dr_lon_deg[row]) - float(fix.dr_lon_deg) + 180.0) % 360.0 - 180.0
+    dlon = float(wrap_180(float(sights.dr_lon_deg[row]) - float(fix.dr_lon_deg)))
     return abs(dlat) < 1e-5 and abs(dlon) < 1e-5  # within about a metre
 
 

@@ -396,37 +396,34 @@ def match_header(header: object) -> HeaderMatch:
 def _watch_error_header(header: str, unit_text: str) -> HeaderMatch:
     """A watch error's header with brackets: the unit (seconds) and the sign convention it states, if any
     ('watch error (fast +)' -> 's_fast'; '(slow +)' -> 's_slow'; '(s)' -> 's', no convention)."""
-    words = [w for w in re.split(r"[,;]", re.sub(r"\s+", "", unit_text.lower().replace("−", "-"))) if w]
-    unit, sign = "s", None
-    for word in words:
-        if word in WATCH_SIGN_WORDS and sign is None:
-            sign = WATCH_SIGN_WORDS[word]
-        elif UNIT_SPELLINGS.get(word) == "s":
-            continue
-        else:
-            return HeaderMatch(header, "watch_error", None, (
-                f"header {header!r}: {unit_text!r} is neither seconds nor a sign convention navred reads; accepted: "
-                "'watch error (s)', or with the sign stated, 'watch error (fast +)' (+ a fast watch, subtracted) "
-                "or 'watch error (slow +)' (+ a slow watch, added)"))
-    return HeaderMatch(header, "watch_error", unit if sign is None else f"s_{sign}")
+    return _signed_header(header, unit_text, "watch_error", "s", WATCH_SIGN_WORDS, (
+        "is neither seconds nor a sign convention navred reads; accepted: 'watch error (s)', or with the sign "
+        "stated, 'watch error (fast +)' (+ a fast watch, subtracted) or 'watch error (slow +)' (+ a slow watch, "
+        "added)"))
 
 
 def _index_error_header(header: str, unit_text: str) -> HeaderMatch:
     """An index error's header with brackets: the unit (arcminutes) and the sign convention it states, if any
     ('IE (on +)' -> 'arcmin_on'; '(off +)' -> 'arcmin_off'; "(′)" -> 'arcmin', no convention)."""
+    return _signed_header(header, unit_text, "index_error", "arcmin", INDEX_SIGN_WORDS, (
+        "is neither arcminutes nor a sign convention navred reads; accepted: 'IE (′)', or with the sign stated, "
+        "'IE (on +)' (+ on the arc, subtracted) or 'IE (off +)' (+ off the arc, added)"))
+
+
+def _signed_header(header: str, unit_text: str, key: str, unit: str, sign_words: dict[str, str],
+                   refusal: str) -> HeaderMatch:
+    """A header whose brackets give the unit and may state the sign convention of a quantity written both ways
+    (the watch error, the index error): the unit, or the unit with the convention ('s_fast', 'arcmin_on')."""
     words = [w for w in re.split(r"[,;]", re.sub(r"\s+", "", unit_text.lower().replace("−", "-"))) if w]
     sign = None
     for word in words:
-        if word in INDEX_SIGN_WORDS and sign is None:
-            sign = INDEX_SIGN_WORDS[word]
-        elif UNIT_SPELLINGS.get(word) == "arcmin":
+        if word in sign_words and sign is None:
+            sign = sign_words[word]
+        elif UNIT_SPELLINGS.get(word) == unit:
             continue
         else:
-            return HeaderMatch(header, "index_error", None, (
-                f"header {header!r}: {unit_text!r} is neither arcminutes nor a sign convention navred reads; "
-                "accepted: 'IE (′)', or with the sign stated, 'IE (on +)' (+ on the arc, subtracted) or "
-                "'IE (off +)' (+ off the arc, added)"))
-    return HeaderMatch(header, "index_error", "arcmin" if sign is None else f"arcmin_{sign}")
+            return HeaderMatch(header, key, None, f"header {header!r}: {unit_text!r} {refusal}")
+    return HeaderMatch(header, key, unit if sign is None else f"{unit}_{sign}")
 
 
 #: Headers that look like a correction navred applies, or a quantity it reads, yet are none of its

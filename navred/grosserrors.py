@@ -214,6 +214,11 @@ def misread_rounds(sights: SightRows, hs_deg: np.ndarray, group, n_groups, ok, r
     return found
 
 
+#: a fix this many times farther from its DR than the DR could be out is not plotted as the ship's position: a
+#: slip (a ZD of the wrong sign, a day, a DR in the wrong hemisphere) is far likelier (common practice)
+FAR_UNTRUSTED_FACTOR = 3.0
+
+
 def mark_untrusted(results) -> None:
     """Every fix that cannot be trusted as the position to plot says so first, plainly, with why: a round
     misread (:func:`misread_rounds`), or sights that still scatter beyond any hand-held sextant once the gross
@@ -239,6 +244,13 @@ def mark_untrusted(results) -> None:
                     f"one gives (about 1′, {SEXTANT_SIGMA_LIMIT_ARCMIN:.0f}′ in a seaway): some altitude, time or body "
                     "name, or the run between the sights, is wrong and the others cannot tell which; find it and fix "
                     "again")
+        if (not result.untrusted and np.isfinite(result.dr_distance_nm) and np.isfinite(result.dr_allowed_nm)
+                and result.dr_distance_nm > FAR_UNTRUSTED_FACTOR * max(result.dr_allowed_nm, 1.0)):
+            result.untrusted = (
+                f"the fix is {result.dr_distance_nm:.0f} nm from the DR, over {FAR_UNTRUSTED_FACTOR:.0f} times what "
+                f"the DR could be out ({result.dr_allowed_nm:.0f} nm): a slip of the time, the date, the zone "
+                "description or the DR is far likelier than the ship being there, and the ellipse says only that "
+                "the sights agree with each other; find the slip (see the warnings) and fix again")
         if not result.untrusted and result.ellipse_semi_major_nm > FIX_ELLIPSE_LIMIT_NM:
             # (not untrusted: the sights agree as well as a sextant's may; too few of them judge their scatter)
             result.warnings.insert(0, (

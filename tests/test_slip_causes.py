@@ -128,3 +128,22 @@ def test_a_round_that_agrees_far_from_its_dr_blames_the_dr_not_one_sights_slip(t
         assert "far more than the DR could be out" in words
         assert "agree among themselves" in words and "the DR is the likely cause" in words
         assert "possible cause" not in words.replace("'possible cause'", "")
+
+
+def test_a_fix_thousands_of_miles_from_its_dr_cannot_be_trusted(tmp_path):
+    # the invented demo with every DR 40° of longitude west (about 1,700 nm): the sights still agree, but a fix
+    # over three times as far from its DR as the DR could be out is not handed out as the ship's position
+    # (grosserrors.FAR_UNTRUSTED_FACTOR; common practice); the demo's own DRs (within about 5 nm) stay plain fixes
+    from navred import process_log
+    from navred.grosserrors import FAR_UNTRUSTED_FACTOR
+
+    demo = pd.read_csv("sample_sights/demo_sights.csv", dtype=str, keep_default_na=False)
+    far = demo.assign(dr_lon=demo.dr_lon.str.replace(r"^0(\d\d)", lambda m: f"{int(m.group(1)) + 40:03d}", regex=True))
+    far.to_csv(tmp_path / "far.csv", index=False)
+    fixes = [g.fix for g in process_log(tmp_path / "far.csv", plan=False).groups if g.fix is not None and g.fix.is_fix]
+    assert fixes
+    for fix in fixes:
+        assert fix.dr_distance_nm > FAR_UNTRUSTED_FACTOR * fix.dr_allowed_nm
+        assert fix.untrusted and "from the DR, over 3 times what the DR could be out" in fix.untrusted
+    near = [g.fix for g in process_log("sample_sights/demo_sights.csv", plan=False).groups if g.fix is not None]
+    assert near and not any(f.untrusted for f in near)

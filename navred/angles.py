@@ -140,8 +140,12 @@ def _parse_one(value: object, kind: AngleKind, decimal_comma: bool = False) -> f
             # degrees and minutes with no hemisphere: north or south? east or west? Never guessed.
             a, b = letters
             shown = text.lstrip("+-").strip()
+            if parts[0][0] in "+-" and a == "N":
+                # a latitude's sign has one convention only (south negative: no one signs north negative), as a
+                # signed decimal latitude is read
+                return _checked(-magnitude if negative else magnitude, value, kind)
             if parts[0][0] in "+-":
-                # a sign says which way only under a convention, and logs sign degrees and minutes both ways
+                # a longitude's sign says which way only under a convention, and logs sign degrees and minutes both ways
                 # (west negative as ISO 6709 signs a decimal, or west positive as hour angles run): never guessed
                 iso, other = (b, a) if negative else (a, b)  # ISO 6709: north and east positive
                 sign = "negative" if negative else "positive"

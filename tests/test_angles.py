@@ -219,7 +219,6 @@ def test_seconds_after_minutes_are_still_seconds():
 @pytest.mark.parametrize("text, kind, first, second", [
     ("-160°19.3'", "lon", "160°19.3' W (west negative, as ISO 6709 signs a decimal)", "160°19.3' E (east negative)"),
     ("+160 19.3", "lon", "160 19.3 E (east positive, as ISO 6709 signs a decimal)", "160 19.3 W (west positive)"),
-    ("-20 27.7", "lat", "20 27.7 S (south negative, as ISO 6709 signs a decimal)", "20 27.7 N (north negative)"),
 ])
 def test_signed_degrees_and_minutes_without_a_letter_are_refused_naming_both_signs(text, kind, first, second):
     """A sign says which way only under a convention: logs sign degrees and minutes west negative (as ISO 6709
@@ -228,3 +227,11 @@ def test_signed_degrees_and_minutes_without_a_letter_are_refused_naming_both_sig
         parse_angle(text, kind)
     message = str(refusal.value)
     assert "a sign but no hemisphere letter" in message and first in message and second in message
+
+
+def test_a_signed_latitude_in_degrees_and_minutes_is_read_as_a_signed_decimal_is():
+    # a latitude's sign has one convention (south negative, ISO 6709; no log signs north negative: common
+    # practice): "-20 27.7" is 20° 27.7′ S as "-20.4617" is; a longitude's sign stays refused (above)
+    assert parse_angle("-20 27.7", "lat") == pytest.approx(-(20 + 27.7 / 60), abs=1e-12)
+    assert parse_angle("+20 27.7", "lat") == pytest.approx(20 + 27.7 / 60, abs=1e-12)
+    assert parse_angle("-17°30'", "lat") == pytest.approx(-17.5, abs=1e-12)

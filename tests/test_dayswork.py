@@ -545,3 +545,14 @@ def test_a_set_is_given_to_the_tenth_only_where_its_uncertainty_allows():
     assert set_current_text(7.4, 12.0) == "007°"
     assert set_current_text(297.44, 3.0) == "297.4°"
     assert set_current_text(7.44, 3.0) == "007.4°"
+
+
+def test_a_current_the_dr_carried_whole_leaves_nothing_unaccounted_not_a_set_of_nought():
+    # a DR that carried the whole current: the gap to the fix is nil, and a set of 0.0 kn is no set (common practice)
+    from navred.jobs.shiptrack import current_split_text
+
+    row = {"current_in_dr": "logged", "dr_set_deg": 270.0, "dr_drift_kn": 0.8, "unaccounted_set_deg": 260.0,
+           "unaccounted_drift_kn": 0.03}
+    text = current_split_text(row)
+    assert "nothing unaccounted" in text and "260°" not in text and "logged 270° 0.8 kn" in text
+    assert "unaccounted 260° 0.5 kn" in current_split_text({**row, "unaccounted_drift_kn": 0.5})

@@ -343,6 +343,9 @@ def current_split_text(row: dict) -> str:
     kn)', the second the gap from the DR kept to the fix; '' where the DR carried none."""
     if not row.get("current_in_dr") or not row.get("dr_drift_kn") == row.get("dr_drift_kn"):
         return ""
+    if round(row["unaccounted_drift_kn"], 1) == 0.0:  # the DR's current was the whole of it: no set to name
+        return (f"({row['current_in_dr']} {row['dr_set_deg']:03.0f}° {row['dr_drift_kn']:.1f} kn, nothing "
+                "unaccounted: the DR's gap to the fix under 0.05 kn)")
     return (f"({row['current_in_dr']} {row['dr_set_deg']:03.0f}° {row['dr_drift_kn']:.1f} kn + unaccounted "
             f"{row['unaccounted_set_deg']:03.0f}° {row['unaccounted_drift_kn']:.1f} kn, the DR's gap to the fix)")
 

@@ -373,22 +373,7 @@ def test_a_noon_on_a_current_carried_from_a_fix_names_that_fix(ts, eph, tmp_path
     noon is an EP carried from that fix with the fix's own set and drift, named so with where it came from; the
     current line says which current the noon used; without --carry-current the same noon names the logged one
     (common practice: an EP names its current)."""
-    start = pd.Timestamp("2026-12-03T18:00:00Z")
-    plan = [(start, 240.0, 7.0)]
-    track = passage.sail(start, 21.3, -157.0 - 52.0 / 60.0, plan, lambda t_h: (300.0, 1.0),
-                         start + pd.Timedelta(hours=60))
-    rows = [{"utc": _iso(start), "entry": "departure", "dr_lat": "21 18.0 N", "dr_lon": "157 52.0 W", "course": 240,
-             "speed": 7},
-            {"utc": _iso(start), "entry": "clocks", "clocks": "+10"},
-            {"utc": _iso(start), "entry": "current", "set": 270, "drift": 0.8}]
-    when = pd.Timestamp("2026-12-04T16:40:00Z")
-    lat, lon = passage.position_at(track, when)
-    for s_ in passage.star_round(ts, eph, when, lat, lon):
-        rows.append({"utc": _iso(when), "body": s_["body"], "hs": s_["hs"], "eye_height_m": 3.0,
-                     "fix_group": "4 morning"})
-    rows.append({"utc": "2026-12-05T23:00:00Z", "entry": "course", "course": 240, "speed": 7})
-    log = tmp_path / "carried.csv"
-    pd.DataFrame(rows).to_csv(log, index=False)
+    log = _trial_passage(ts, eph, tmp_path)  # the same passage and log as the trial's (below)
     days = process_log(log, plan=False, carry_current=True).days_work()
     found = days.set_drift[days.set_drift.fix_group == "4 morning"].iloc[0]
     assert found.drift_kn == found.drift_kn  # determined over the 22.7 h from the departure

@@ -5,7 +5,6 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from scipy import stats as reference
 
 from navred.stats import (
     chi_square_2_quantile,
@@ -25,6 +24,7 @@ P = [0.5, 0.9, 0.95, 0.975, 0.99, 0.99375, 0.999, 0.9999, 0.01, 0.2]
 
 
 def test_student_t_against_scipy():
+    from scipy import stats as reference  # imported here: scipy.stats takes most of a second to import
     # the blunder test's points reach 1 − 0.05/(2·8) and beyond; fractional dof for a line's effective ν
     p, dof = np.meshgrid(P, DOF)
     assert np.allclose(student_t_quantile(p, dof), reference.t.ppf(p, dof), rtol=1e-9, atol=1e-12)
@@ -37,6 +37,7 @@ def test_student_t_against_scipy():
 
 
 def test_chi_square_and_normal_against_scipy():
+    from scipy import stats as reference
     p, dof = np.meshgrid(P, DOF)
     assert np.allclose(chi_square_quantile(p, dof), reference.chi2.ppf(p, dof), rtol=1e-9)
     x = np.array([0.1, 1.0, 3.84, 10.83, 40.0])
@@ -48,6 +49,7 @@ def test_chi_square_and_normal_against_scipy():
 
 
 def test_the_closed_form_f_quantile_and_the_special_functions_against_scipy():
+    from scipy import stats as reference
     p, dof = np.meshgrid([0.5, 0.95, 0.99], DOF)
     assert np.allclose(f_2_quantile(p, dof), reference.f.ppf(p, 2, dof), rtol=1e-9)
     # as ν grows without end, F(2, ν) becomes chi-square(2) / 2

@@ -17,7 +17,6 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 import pytest
-from scipy import stats as sps
 from typer.testing import CliRunner
 
 from navred.cli import app
@@ -103,6 +102,7 @@ def test_the_weighted_fix_is_the_weighted_least_squares_solution(case):
     assert np.allclose(fix.sight_sigma_arcmin, np.sqrt(s2 / weight), rtol=1e-3)
     # the 95 % ellipse: σ̂²(AᵀWA)⁻¹ scaled by √(2 F(2, n − 2)) (scipy)
     covariance = s2 * np.linalg.inv(design.T @ w @ design)
+    from scipy import stats as sps  # imported where used: scipy.stats takes most of a second to import
     scale = np.sqrt(2.0 * sps.f.ppf(0.95, 2, n - 2))
     axes = scale * np.sqrt(np.linalg.eigvalsh(covariance))
     assert fix.ellipse_semi_major_nm == pytest.approx(axes[1], rel=2e-3)
@@ -121,6 +121,7 @@ def _reference_flags(residual, design, weight):
     hat = np.diag(a @ np.linalg.inv(a.T @ a) @ a.T)
     deleted = (r @ r - r**2 / (1 - hat)) / (n - 3)
     t = np.abs(r) / np.sqrt(deleted * (1 - hat))
+    from scipy import stats as sps
     critical = sps.t.ppf(1 - BLUNDER_ALPHA / (2 * n), n - 3)
     off = np.abs(residual) / (1 - hat)
     return (t > critical) & (off > BLUNDER_MIN_ARCMIN)
@@ -244,5 +245,6 @@ def test_a_weighted_line_of_position_is_the_weighted_mean_line():
     r = a - p * np.cos(np.radians(zn - z))
     s = np.sqrt(np.sum(weight * r**2) / 2)
     assert fix.sigma_arcmin == pytest.approx(s, rel=1e-3)
+    from scipy import stats as sps
     half = sps.t.ppf(0.975, 2) * s / np.sqrt(np.sum(weight * c**2))
     assert fix.ellipse_semi_minor_nm == pytest.approx(half, rel=1e-3)

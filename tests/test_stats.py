@@ -24,7 +24,8 @@ P = [0.5, 0.9, 0.95, 0.975, 0.99, 0.99375, 0.999, 0.9999, 0.01, 0.2]
 
 
 def test_student_t_against_scipy():
-    from scipy import stats as reference  # imported here: scipy.stats takes most of a second to import
+    # scipy.stats imported here, where used: it takes most of a second to import
+    from scipy import stats as reference
     # the blunder test's points reach 1 − 0.05/(2·8) and beyond; fractional dof for a line's effective ν
     p, dof = np.meshgrid(P, DOF)
     assert np.allclose(student_t_quantile(p, dof), reference.t.ppf(p, dof), rtol=1e-9, atol=1e-12)

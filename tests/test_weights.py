@@ -102,7 +102,8 @@ def test_the_weighted_fix_is_the_weighted_least_squares_solution(case):
     assert np.allclose(fix.sight_sigma_arcmin, np.sqrt(s2 / weight), rtol=1e-3)
     # the 95 % ellipse: σ̂²(AᵀWA)⁻¹ scaled by √(2 F(2, n − 2)) (scipy)
     covariance = s2 * np.linalg.inv(design.T @ w @ design)
-    from scipy import stats as sps  # imported where used: scipy.stats takes most of a second to import
+    # scipy.stats imported where used: it takes most of a second to import
+    from scipy import stats as sps
     scale = np.sqrt(2.0 * sps.f.ppf(0.95, 2, n - 2))
     axes = scale * np.sqrt(np.linalg.eigvalsh(covariance))
     assert fix.ellipse_semi_major_nm == pytest.approx(axes[1], rel=2e-3)

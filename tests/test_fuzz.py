@@ -43,8 +43,19 @@ _ALPHABET = st.characters(codec="utf-8", exclude_categories=("Cs",)) | st.sample
 _CELLS = st.text(alphabet=_ALPHABET, max_size=16) | st.sampled_from(
     ["", " ", "nan", "inf", "-inf", "1e309", "-0", "=1+1", "+3", "05/03/2026", "44 30", "013 03.7 S",
      "43 -14.1 N", "2026-02-30T10:00Z", "2026-03-26T19:41:00+25:00", "NaN", "TRUE", "x" * 40000])
+
+
+def _cell_edit():
+    return st.tuples(st.just("cell"), st.integers(0, len(ROWS) - 1), st.integers(0, len(HEADER) - 1), _CELLS)
+
+
+# a cell's text drawn four times as often as each change of a row's shape. The shapes are 45 edits in all (a field
+# dropped or added, a blank row, a copy, at one of eleven or twelve rows); the texts are the search (187 cells, any
+# text). Counted on the seeded runs: 45 examples with the five kinds drawn alike (2,250 logs) edited 1,299 cells
+# in 160 of the 187 places, each shape met 29 times or more (90 the median); these 30 (1,500 logs) edit 1,746 cells
+# in 181 places with as many distinct texts (331 against 333), each shape still met 13 times or more (38)
 _EDITS = st.one_of(
-    st.tuples(st.just("cell"), st.integers(0, len(ROWS) - 1), st.integers(0, len(HEADER) - 1), _CELLS),
+    _cell_edit(), _cell_edit(), _cell_edit(), _cell_edit(),  # four branches (hypothesis tells strategies apart by identity)
     st.tuples(st.just("drop_field"), st.integers(0, len(ROWS) - 1)),
     st.tuples(st.just("add_field"), st.integers(0, len(ROWS) - 1), _CELLS),
     st.tuples(st.just("blank_row"), st.integers(0, len(ROWS))),
@@ -107,10 +118,10 @@ def accounted(log, files):
     assert log.rejected.column.map(lambda c: isinstance(c, str) and len(c) > 0).all()
 
 
-@seeded(45)
+@seeded(30)
 @given(st.lists(_LOG, min_size=50, max_size=50))
 def test_mutated_logs_lose_no_row_and_good_rows_read_the_same(tmp_path_factory, plans):
-    # 45 seeded examples of 50 mutated logs each, read together: 2,250 logs
+    # 30 seeded examples of 50 mutated logs each, read together: 1,500 logs
     folder = tmp_path_factory.mktemp("fuzz")
     files = []
     for k, edits in enumerate(plans):

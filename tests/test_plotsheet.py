@@ -444,6 +444,35 @@ def test_the_placers_test_of_many_boxes_at_once_agrees_with_the_theorem_written_
     assert 0 < found.sum() < found.size and (found == expected).all()
 
 
+def test_a_placers_test_of_one_box_is_the_test_of_many_boxes_at_once():
+    """Placer.free works one box in plain floats; it must say what navred.figures.placing.overlaps (every pair at
+    once, checked against this file's theorem above) says, on upright boxes of a 4-point grid that touch edge to
+    edge, or nearly (1e-10 either way: the slack decides), and on turned ones (invented, seeded)."""
+    from navred.figures.placing import Placer, overlaps, rect_corners, segment_box
+
+    rng = np.random.default_rng(29)
+
+    def box():
+        if rng.random() < 0.5:
+            x0, y0 = rng.integers(0, 40, 2) * 4.0 + rng.choice([0.0, 1e-10, -1e-10, 0.5])
+            return rect_corners(x0, y0, x0 + rng.integers(1, 10) * 4.0, y0 + rng.integers(1, 5) * 4.0)
+        return segment_box(*rng.uniform(0, 160, 4), rng.uniform(0.3, 6))
+
+    frame = (-1e9, -1e9, 1e9, 1e9)
+    said = []
+    for _ in range(50):
+        placer = Placer()
+        boxes = rng.integers(1, 60)
+        for k in range(boxes):
+            placer.take(box())
+            # a box tested now and then as boxes are taken (the placer keeps their bounds), ten at the end
+            for candidate in [box() for _ in range(10 if k == boxes - 1 else int(rng.random() < 0.2))]:
+                free = placer.free(candidate, frame)
+                assert free == (not overlaps(candidate[None], np.array(placer.taken)).any())
+                said.append(free)
+    assert len(said) > 700 and 0.1 < np.mean(said) < 0.9  # both answers met
+
+
 def test_a_label_with_no_room_beside_its_mark_goes_further_with_a_leader():
     """A mark in a narrow pen of lines open at the top: its label goes to the nearest free place, above the
     pen, and a leader joins it to the mark, neither over anything taken (this file's theorem)."""

@@ -318,14 +318,26 @@ def _svg_text(item: _Text, kind: str = "") -> str:
 @lru_cache(maxsize=64)
 def _font(size_px: int, bold: bool, italic: bool):
     """The DejaVu Sans face that ships with the plotting library (offline, the same on every machine)."""
-    from pathlib import Path
-
-    import matplotlib
     from PIL import ImageFont
 
     name = "DejaVuSans" + ("-Bold" if bold else "") + ("Oblique" if italic and bold else "-Oblique" if italic else "")
-    path = Path(matplotlib.get_data_path()) / "fonts" / "ttf" / f"{name}.ttf"
-    return ImageFont.truetype(str(path), size_px)
+    return ImageFont.truetype(str(_font_folder() / f"{name}.ttf"), size_px)
+
+
+@lru_cache(maxsize=1)
+def _font_folder():
+    """The plotting library's folder of fonts, found without importing the library (its import is a fifth of a
+    second, paid by every command that placed a label: the font is all the canvas takes from it)."""
+    import importlib.util
+    from pathlib import Path
+
+    spec = importlib.util.find_spec("matplotlib")
+    folder = Path(spec.origin).with_name("mpl-data") / "fonts" / "ttf" if spec and spec.origin else None
+    if folder is None or not folder.is_dir():  # laid out otherwise: ask the library itself
+        import matplotlib
+
+        folder = Path(matplotlib.get_data_path()) / "fonts" / "ttf"
+    return folder
 
 
 _PIL_ANCHOR = {"start": "ls", "middle": "ms", "end": "rs"}  # on the baseline, which the canvas places itself

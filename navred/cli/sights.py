@@ -36,7 +36,21 @@ from .common import (
     source,
 )
 
+#: where a run that reduced nothing has said each row's reason
+ABOVE = "each row's reason is above"
+
 SIGHTS = typer.Argument(..., metavar="SIGHTS...", help=SIGHTS_HELP)
+
+
+def nothing_reduced_said(voyage) -> None:
+    """When no sight of a log was reduced, on stderr before the one error line: the count and each refusal by kind
+    with its rows, as ``reduce --csv`` closes (:func:`navred.cli.format.reduced_count_lines`), so that every
+    command says why rather than sending the navigator to another."""
+    from ..jobs.reducing import ReducedCount
+    from .format import reduced_count_lines
+
+    if len(voyage.reduced) and not voyage.n_reduced:
+        echo_lines(reduced_count_lines(ReducedCount.of(voyage.reduced, voyage.log.empty_rows)), err=True)
 
 
 def _rates():
@@ -98,7 +112,7 @@ def reduce_command(
 
             # after the CSV, on stderr: what was read, reduced and refused, each refusal and warning by kind
             echo_lines(reduced_count_lines(count), err=True)
-            require_reduced(count.rows, count.reduced, "the CSV names each row and why (status, message)")
+            require_reduced(count.rows, count.reduced, f"{ABOVE}, and in the CSV (status, message)")
             return
         from .format import reduce_lines
 
@@ -106,7 +120,7 @@ def reduce_command(
                           navigators=tuple(navigator or ()))
         print_notes(done)
         echo_lines(reduce_lines(done))
-        require_reduced(len(done.reduced), done.n_reduced, "each row's reason is above")
+        require_reduced(len(done.reduced), done.n_reduced, ABOVE)
 
 
 @command("fix")
@@ -145,7 +159,8 @@ def fix_command(
                          chart=None if lat is None else (lat, lon), solve_motion=solve_motion,
                          navigators=tuple(navigator or ()))
         print_notes(report.voyage, err=True)
-        require_reduced(len(report.voyage.reduced), report.voyage.n_reduced)
+        nothing_reduced_said(report.voyage)
+        require_reduced(len(report.voyage.reduced), report.voyage.n_reduced, ABOVE)
         from .format import fix_report_lines, fixes_csv
 
         if csv:
@@ -392,7 +407,9 @@ def days_command(
             if voyage.n_rejected_rows:  # each with its reason: a rejected entry row changes the day's work
                 echo_lines(rejected_lines(voyage.rejected), err=True)
         if report.nothing_reduced or (days.empty and not len(voyage.reduced)):
-            require_reduced(len(voyage.reduced), voyage.n_reduced)
+            if csv:  # (the text names each rejected row above)
+                nothing_reduced_said(voyage)
+            require_reduced(len(voyage.reduced), voyage.n_reduced, ABOVE)
         if days.empty:
             raise NavredError(NO_DAYS_WORK)
         if ".csv" in files:
@@ -431,7 +448,8 @@ def series_command(
         report = check_series_log(source(sights_files), dates=dates, rates=ratings(rates, dates),
                                   threshold_arcmin=threshold)
         print_notes(report.voyage)
-        require_reduced(len(report.sights), report.voyage.n_reduced)
+        nothing_reduced_said(report.voyage)
+        require_reduced(len(report.sights), report.voyage.n_reduced, ABOVE)
         if csv:
             echo_csv(series_csv(report))
         else:
@@ -498,7 +516,8 @@ def training_command(
                 check_fits(len(log.table))
 
         run = train_log(source(sights_files), track, dates=dates, rates=ratings(rates, dates), check_rows=check)
-        require_reduced(len(run.voyage.reduced), run.voyage.n_reduced)
+        nothing_reduced_said(run.voyage)
+        require_reduced(len(run.voyage.reduced), run.voyage.n_reduced, ABOVE)
         if csv:
             from .format import training_csv
 

@@ -110,7 +110,9 @@ def reduce_command(
             sys.stdout.buffer.flush()
             from .format import reduced_count_lines
 
-            # after the CSV, on stderr: what was read, reduced and refused, each refusal and warning by kind
+            # after the CSV, on stderr: what a later block's reader noted (a row repeating the header, skipped),
+            # what was read, reduced and refused, each refusal and warning by kind
+            echo_lines((f"note: {n}" for n in count.notes if n not in done.notes), err=True)
             echo_lines(reduced_count_lines(count), err=True)
             require_reduced(count.rows, count.reduced, f"{ABOVE}, and in the CSV (status, message)")
             return

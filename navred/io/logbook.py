@@ -533,6 +533,7 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None, deviation=None) -
     if not sight_row.all():
         table = table[sight_row].reset_index(drop=True)
     notes = tuple(dict.fromkeys([note for layout in layouts for note in layout.notes]
+                                + [note for t in tables for note in t.notes]  # (a block's own: rows skipped)
                                 + _zone_notes(gathered["utc"], parsed["utc"].ok & sight_row, dates, sources, rows)
                                 + _assumed_notes(gathered, sources, rows, (message == "") & sight_row, times)
                                 + _offset_zone_notes(gathered["zone_description"], parsed["zone_description"].ok
@@ -640,7 +641,9 @@ def _tabled(n, sources, rows, parsed, gathered, times, problems, by_reader, dr, 
         reason_text = found["reason"].astype(str).to_numpy(dtype=object)
         for k in range(MAX_REASONS_PER_ROW):
             at = rank == k
-            texts[k][index[at]] = [f"{c}: {r}" for c, r in zip(column_text[at].tolist(), reason_text[at].tolist())]
+            # a reason the reader gave the row whole (its column '(row)') stands alone, as it names the row itself
+            texts[k][index[at]] = [r if c == "(row)" else f"{c}: {r}"
+                                   for c, r in zip(column_text[at].tolist(), reason_text[at].tolist())]
             names[k][index[at]] = column_text[at]
         rejected_rows = np.unique(index)
         message[rejected_rows] = ["; ".join(t for t in parts if t is not None)
@@ -653,6 +656,11 @@ def _tabled(n, sources, rows, parsed, gathered, times, problems, by_reader, dr, 
     table["dr_carried_from"] = dr["note"]
     table["motion_carried_from"] = motion_note
     sight_row = ~(is_entry & (message == ""))  # an entry read well is kept apart; a bad one is a rejected row
+    unread_body = (message != "") & ~parsed["body"].ok & ~gathered["body"].blank
+    if unread_body.any():  # a body navred does not know ('Sunn'): the row named by the body as written
+        body = table["body_name"].to_numpy(dtype=object).copy()
+        body[unread_body] = [" ".join(cell_text(v).split()) for v in gathered["body"].values[unread_body]]
+        table["body_name"] = body
     bad_entry = is_entry & (message != "") & gathered["body"].blank
     if bad_entry.any():  # named by its kind, in brackets, where a sight names its body
         body = table["body_name"].to_numpy(dtype=object).copy()

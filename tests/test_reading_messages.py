@@ -216,3 +216,12 @@ def test_a_time_header_beside_a_zd_column_names_both_readings_and_the_headers_th
     assert result.stderr.splitlines()[-1] == CAUTION
     renamed = log_file(tmp_path, [HEADER.replace("Watch time", "Zone time"), ROWS[0]], "zt.csv")
     assert read_sight_log(renamed).rejected.empty
+
+
+def test_a_paper_from_a_log_that_cannot_be_used_ends_with_the_caution(refused_log, tmp_path):
+    """Not only the commands of sights: navred paper reading a log (here one that keeps no DR) ends the same way."""
+    result = runner.invoke(app, ["paper", "--from", "2026-12-04", "--to", "2026-12-05", "--log", str(refused_log),
+                                 "--eye", "3 m", "-o", str(tmp_path / "p.pdf")])
+    assert result.exit_code == 1
+    lines = result.stderr.splitlines()
+    assert lines[-2].startswith("navred: error: ") and lines[-1] == CAUTION

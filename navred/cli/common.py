@@ -415,14 +415,21 @@ def old_outputs(outputs: list[str] | None, **old: str | None) -> list[str]:
 def source(paths: list[str]):
     """One file as itself, several as a list: what the readers take. From here the run has a log: a failure
     after this ends with the caution too (:func:`failed`)."""
-    _RUN["log_named"] = True
+    log_named()
     return paths[0] if len(paths) == 1 else list(paths)
+
+
+def log_named() -> None:
+    """The run is about to read a log (sights, a rating log, a compass book): a failure from here on ends with the
+    caution, as the run's success would."""
+    _RUN["log_named"] = True
 
 
 def ratings(rates: str | None, dates: str | None = None):
     """The rating log given with --rates, read and fitted with the log's date order (None without one)."""
     if not rates:
         return None
+    log_named()
     from ..io.timesignals import read_rating_log
 
     return read_rating_log(rates, dates=dates)

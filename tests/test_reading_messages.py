@@ -225,3 +225,18 @@ def test_a_paper_from_a_log_that_cannot_be_used_ends_with_the_caution(refused_lo
     assert result.exit_code == 1
     lines = result.stderr.splitlines()
     assert lines[-2].startswith("navred: error: ") and lines[-1] == CAUTION
+
+
+def test_fix_csv_names_the_rows_it_could_not_reduce_on_stderr(tmp_path):
+    mixed = log_file(tmp_path, [HEADER, ROWS[0], unsigned(ROWS[1]), *ROWS[2:]])
+    result = runner.invoke(app, ["fix", str(mixed), "--csv"])
+    assert result.exit_code == 0 and "not reduced" not in result.stdout
+    assert "not reduced: row 3 (Sun): IE: index error -1.2 has no on or off" in result.stderr
+
+
+def test_a_zone_option_written_as_a_named_utc_offset_is_read_with_a_note():
+    result = runner.invoke(app, ["plan", "--date", "2026-12-04", "--lat", "17 30 S", "--lon", "149 30 W",
+                                 "--zone", "UTC-10", "--eye", "3 m"])
+    assert result.exit_code == 0, result.output
+    assert "note: --zone 'UTC-10' is a UTC offset: read as zone description +10" in result.stderr
+    assert "zone (+10)" in result.stdout

@@ -366,10 +366,17 @@ def date_option(text: str, name: str = "--date") -> str:
 
 
 def zone_option(text: str | None, name: str = "--zone") -> float | None:
-    """A zone description ('+1', '-5', a zone letter), hours (ZT + ZD = UTC); None when not given."""
-    from ..timework import parse_zone_description
+    """A zone description ('+1', '-5', a zone letter), hours (ZT + ZD = UTC); None when not given. An offset
+    named UTC or GMT ('UTC-10') is read as the zone description of the opposite sign, with a note."""
+    from ..timework import parse_zone_description, utc_offset_zone
 
-    return None if text is None else float(parsed(name, parse_zone_description, text))
+    if text is None:
+        return None
+    zd = float(parsed(name, parse_zone_description, text))
+    if utc_offset_zone(text) is not None:
+        typer.echo(f"note: {name} {text!r} is a UTC offset: read as zone description {int(zd):+d} "
+                   "(ZT + ZD = UTC, the offset's opposite sign)", err=True)
+    return zd
 
 
 def index_error_option(text: str, name: str = "--index-error") -> float:

@@ -167,6 +167,12 @@ def fix_command(
 
         if csv:
             echo_csv(fixes_csv(report))
+            # the rows not reduced, on stderr (the text lists them): a fix from fewer sights than logged says so
+            if report.voyage.n_reduced < len(report.voyage.reduced):
+                from .format import WARNINGS_SHOWN, labels_of, sight_refusal_lines
+
+                reduced = report.voyage.reduced
+                echo_lines(sight_refusal_lines(reduced, labels_of(reduced), shown=WARNINGS_SHOWN), err=True)
         else:
             echo_lines(fix_report_lines(report))
         if not report.n_fixes:

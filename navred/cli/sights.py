@@ -267,10 +267,11 @@ def _processed(sights_files, files, dates, rates, solve_motion, carry_current, c
     for path in files.values():
         check_output(path, log.sources)  # a folder's logs, now that they are known
     progress = _StderrBar("reducing sights")
-    voyage = process_log(log, solve_motion=solve_motion, progress=progress, carry_current=carry_current, rates=rated,
-                         navigators=navigators, route=waypoints, deviation=deviation)
-    progress.close()
-    return voyage
+    try:
+        return process_log(log, solve_motion=solve_motion, progress=progress, carry_current=carry_current,
+                           rates=rated, navigators=navigators, route=waypoints, deviation=deviation)
+    finally:  # the bar's line ended even on a failure, so that the error starts a line of its own
+        progress.close()
 
 
 class _StderrBar:
@@ -324,7 +325,12 @@ def _write_voyage_files(voyage, files: dict[str, str], chosen, plots: str | None
     if note:
         typer.echo(f"note: {note}", err=True)
     if plots:
-        written = write_plots(voyage, plots, formats, progress=_announced_plots(voyage, plots, formats))
+        bar = _announced_plots(voyage, plots, formats)
+        try:
+            written = write_plots(voyage, plots, formats, progress=bar)
+        finally:  # the bar's line ended even on a failure
+            if bar is not None:
+                bar.close()
         typer.echo(f"wrote {len(written)} picture files (plotting sheets and the voyage track) to {plots}")
     if ".gpx" in files:
         typer.echo(f"wrote {write_voyage_gpx(voyage, files['.gpx'])}")

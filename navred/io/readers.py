@@ -416,9 +416,10 @@ def _plain_block(source: str, header: list[str], data: list[str], first_row_numb
         problems: dict[int, tuple[str, str]] = {}
         malformed: dict[int, list[str]] = {}
         notes: list[str] = []
-        columns, numbers, problems, malformed = _skip_repeated_headers(source, header, columns, numbers, problems,
-                                                                       malformed, notes)
-        _refuse_repeated_headers(header, columns, numbers, problems, malformed)
+        columns, numbers, problems, malformed, partial = _skip_repeated_headers(source, header, columns, numbers,
+                                                                                problems, malformed, notes)
+        if partial:
+            _refuse_repeated_headers(header, columns, numbers, problems, malformed)
         _blank_rows(columns, problems)
         return RawTable(source, header, columns, np.asarray(numbers, dtype=int), problems, separator,
                         separator in (";", "\t"), int(blank.sum()), malformed, notes=notes)
@@ -815,8 +816,8 @@ def _finish(source, header, columns, numbers, problems, malformed, separator, em
     ``clean``: the caller has checked the whole text for control characters, and there are none. A row that
     repeats the header whole is skipped, with a note (:func:`_skip_repeated_headers`)."""
     notes: list[str] = []
-    columns, numbers, problems, malformed = _skip_repeated_headers(source, header, columns, numbers, problems,
-                                                                   malformed, notes)
+    columns, numbers, problems, malformed, partial = _skip_repeated_headers(source, header, columns, numbers,
+                                                                            problems, malformed, notes)
     for k, column in enumerate(columns):
         bad = _bad_text_rows(column, lengths_only=clean)
         if bad is None:
@@ -826,7 +827,8 @@ def _finish(source, header, columns, numbers, problems, malformed, separator, em
                 continue
             problems[int(row)] = (header[k], _text_problem(str(column.iloc[row])))
             malformed[int(row)] = ["" if _is_blank(c.iloc[row]) else _shown(str(c.iloc[row])) for c in columns]
-    _refuse_repeated_headers(header, columns, numbers, problems, malformed)
+    if partial:
+        _refuse_repeated_headers(header, columns, numbers, problems, malformed)
     _blank_rows(columns, problems)
     return RawTable(source, header, columns, numbers, problems, separator, separator in (";", "\t"), empty,
                     malformed, notes=notes)
@@ -851,13 +853,15 @@ def _skip_repeated_headers(source, header, columns, numbers, problems, malformed
     sheet, two logs of one layout joined one under the other), skipped with a note naming them: they are not
     sights, and the rows after them are read by the same columns. A row that repeats only some of the header
     (the rest blank) is left to :func:`_refuse_repeated_headers`, which refuses it by its row. Returns the
-    columns, row numbers, problems and malformed rows without the skipped rows (re-indexed)."""
+    columns, row numbers, problems and malformed rows without the skipped rows (re-indexed), and whether any
+    other row may repeat the header in part (for :func:`_refuse_repeated_headers` to look at)."""
     candidates, named = _header_row_matches(header, columns)
     whole = [row for row in candidates if row not in problems and all(
         not _is_blank(columns[k].iloc[row]) and str(columns[k].iloc[row]).strip().casefold() == name
         for k, name in named)]
+    partial = len(candidates) > len(whole)
     if not whole:
-        return columns, numbers, problems, malformed
+        return columns, numbers, problems, malformed, partial
     keep = np.ones(len(numbers), dtype=bool)
     keep[whole] = False
     skipped = [int(numbers[row]) for row in whole]
@@ -870,7 +874,7 @@ def _skip_repeated_headers(source, header, columns, numbers, problems, malformed
     columns = [column[keep].reset_index(drop=True) for column in columns]
     problems = {int(index[row]): value for row, value in problems.items() if keep[row]}
     malformed = {int(index[row]): value for row, value in malformed.items() if keep[row]}
-    return columns, np.asarray(numbers)[keep], problems, malformed
+    return columns, np.asarray(numbers)[keep], problems, malformed, partial
 
 
 def _refuse_repeated_headers(header, columns, numbers, problems, malformed) -> None:

@@ -321,13 +321,14 @@ def _font(size_px: int, bold: bool, italic: bool):
     from PIL import ImageFont
 
     name = "DejaVuSans" + ("-Bold" if bold else "") + ("Oblique" if italic and bold else "-Oblique" if italic else "")
-    return ImageFont.truetype(str(_font_folder() / f"{name}.ttf"), size_px)
+    return ImageFont.truetype(str(font_folder() / f"{name}.ttf"), size_px)
 
 
 @lru_cache(maxsize=1)
-def _font_folder():
-    """The plotting library's folder of fonts, found without importing the library (its import is a fifth of a
-    second, paid by every command that placed a label: the font is all the canvas takes from it)."""
+def font_folder():
+    """The plotting library's folder of fonts (DejaVu Sans), found without importing the library: its import is
+    a fifth of a second, paid by every command that placed a label or printed a page, where the fonts are all
+    the canvas and the printed pages take from it."""
     import importlib.util
     from pathlib import Path
 
@@ -400,5 +401,5 @@ def _dashed(points, dash):
             at, k = end, k + 1
 
 
-__all__ = ["Canvas", "blend", "clip_segment", "clip_polygon", "text_width_pt", "text_corners", "wrap_text",
+__all__ = ["Canvas", "blend", "clip_segment", "clip_polygon", "text_width_pt", "text_corners", "wrap_text", "font_folder",
            "FONT_ASCENT_EM", "FONT_DESCENT_EM", "BOX_PAD_EM"]

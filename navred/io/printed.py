@@ -172,11 +172,12 @@ FOOT_PT = 16.0
 
 
 def _register_fonts() -> dict[str, str]:
-    import matplotlib
     from reportlab.pdfbase import pdfmetrics
     from reportlab.pdfbase.ttfonts import TTFont
 
-    folder = Path(matplotlib.get_data_path()) / "fonts" / "ttf"
+    from ..figures.drawing import font_folder
+
+    folder = font_folder()
     names = {}
     for kind, (name, file) in _FONTS.items():
         if name not in pdfmetrics.getRegisteredFontNames():

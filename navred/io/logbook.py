@@ -782,18 +782,18 @@ def _extra_name(header: str) -> str:
 
 
 def _extras(tables, layouts) -> tuple[dict[str, np.ndarray], list[str]]:
-    """The log's own extra columns as text, one column per name across every table."""
-    names = list(dict.fromkeys(_extra_name(t.header[k]) for t, layout in zip(tables, layouts)
-                               for k in layout.extras))
+    """The log's own extra columns as text, one column per name across every table (where two columns of a table
+    go by one name, the later one)."""
+    # each column's name worked once (a hand working has some forty such columns: named again for every name, they
+    # took a read of a class's workings 20 ms)
+    columns_by_name = [{_extra_name(table.header[k]): k for k in layout.extras} for table, layout in zip(tables, layouts)]
+    names = list(dict.fromkeys(name for by_name in columns_by_name for name in by_name))
     out = {}
     for name in names:
         parts = []
-        for table, layout in zip(tables, layouts):
-            column = texts_of(table.n_rows, "")
-            for k in layout.extras:
-                if _extra_name(table.header[k]) == name:
-                    column = table.columns[k].map(cell_text).to_numpy(dtype=object)
-            parts.append(column)
+        for table, by_name in zip(tables, columns_by_name):
+            k = by_name.get(name)
+            parts.append(texts_of(table.n_rows, "") if k is None else table.columns[k].map(cell_text).to_numpy(dtype=object))
         out[name] = np.concatenate(parts) if parts else np.zeros(0, dtype=object)
     return out, names
 

@@ -128,7 +128,7 @@ def watch_azimuths(first_date: object, days: int, lat_deg: float, lon_deg: float
     """The Sun's azimuth from sunrise to sunset every ``step_minutes`` along the DR, the amplitudes, and a bright body
     at each twilight (from nautical to civil twilight) at the same interval."""
     events = voyage_events(str(first_date), days, lat_deg, lon_deg, eye_height_m=eye_height_m, course_deg=course_deg,
-                           speed_kn=speed_kn)
+                           speed_kn=speed_kn, zone_h=zone_description_h)
     track = events["track"]
     sun_rows, twilight_rows, rise_rows = [], [], []
     found: Amplitudes = amplitudes(events)

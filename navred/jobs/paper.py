@@ -10,7 +10,7 @@ the texts printed, and the same texts go to the CSV files. The pages, in order:
 3. the stars' SHA and Dec, in blocks of three days;
 4. the altitude corrections (dip, refraction and its factor, the Sun's SD, the Moon's parallax and
    SD, Venus's and Mars's parallax and phase);
-5. for each local date, the twilight sights planned along the DR (Hc, Zn, their change per
+5. for each zone date (the ship's date), the twilight sights planned along the DR (Hc, Zn, their change per
    minute, how long that holds, the Hs to preset, the limb) and the noon Sun;
 6. the noon Sun for every day; the Polaris latitude table; the calculator's formulas with a
    worked sight;
@@ -264,7 +264,7 @@ def _cover(first, last, days, dr: PassageDR, eye_height_m, index_error_arcmin, z
              f"index error {signed(index_error_arcmin)}′ (on the arc positive). Zone time: {zone}."
              + ("" if (table_first, table_days) == (first, days) else
                 f" The hourly pages run over the UTC dates {table_first} to "
-                f"{table_first + np.timedelta64(table_days - 1, 'D')}: every planned sight and noon of the local "
+                f"{table_first + np.timedelta64(table_days - 1, 'D')}: every planned sight and noon of the zone "
                 "dates falls on one of them.")),
         *((Text("WARNING: check the DR before using these pages", "subheading"),
            *(Text(f"{message[0].upper()}{message[1:]}.") for message in dr.warnings)) if dr.warnings else ()),

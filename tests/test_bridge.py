@@ -239,8 +239,11 @@ def test_at_the_date_line_every_event_carries_its_own_zone_and_date(tmp_path, ts
     assert result.exit_code == 0, result.output
     assert "the date line" in result.stdout
     start = np.datetime64("2026-12-14T00:00", "ns") + np.timedelta64(int(-round(lon0 / 15.0)), "h")
-    assert f"at 00:00 zone time (ZD {'−12' if lon0 > 0 else '+12'}) of 2026-12-14 = 12:00 UTC {13 if lon0 > 0 else 14} Dec" \
-        in result.stdout
+    said = f"at 00:00 zone time (ZD {'−12' if lon0 > 0 else '+12'}) of 2026-12-14 = 12:00 UTC {13 if lon0 > 0 else 14} Dec"
+    assert said in result.stdout
+    from pypdf import PdfReader
+
+    assert said in " ".join(PdfReader(str(tmp_path / "dl.pdf")).pages[0].extract_text().split())  # its first page too
 
     def dr(when):
         hours = (np.datetime64(when, "ns") - start) / np.timedelta64(1, "h")

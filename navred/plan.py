@@ -50,7 +50,14 @@ def local_midnight(date, lon_deg: float) -> np.datetime64:
         date = str(date.astype("datetime64[D]"))
     year, month, day_of_month = parse_date(date if isinstance(date, str) else date, declarable=False)
     day = np.datetime64(f"{year:04d}-{month:02d}-{day_of_month:02d}", "D").astype("datetime64[ns]")
-    return day - np.timedelta64(int(round(lon_deg / 15.0 * NS_PER_HOUR)), "ns")
+    return day - np.timedelta64(int(round(_east_of_180(lon_deg) / 15.0 * NS_PER_HOUR)), "ns")
+
+
+def _east_of_180(lon_deg: float) -> float:
+    """A longitude given from 0 to 360° (as :func:`check_position` takes it) as −180 to 180°: 190° E is 170° W.
+    180° itself is kept as given (ZD −12 by the zone rule)."""
+    lon = float(lon_deg)
+    return lon - 360.0 if lon > 180.0 else lon
 
 
 def zone_midnight(date, lon_deg: float, zone_h: float | None = None) -> np.datetime64:
@@ -63,7 +70,7 @@ def zone_midnight(date, lon_deg: float, zone_h: float | None = None) -> np.datet
     at 177° E, 2.4′ of a 12-knot DR)."""
     from .reckoning import zone_description_h
 
-    zd = float(zone_description_h(lon_deg)) if zone_h is None else planner_number(zone_h, "zone description")
+    zd = float(zone_description_h(_east_of_180(lon_deg))) if zone_h is None else planner_number(zone_h, "zone description")
     if not (np.isfinite(zd) and -12.0 <= zd <= 12.0):
         raise NavredError(f"zone description {zd!r} is outside −12 to +12 hours")
     midnight = local_midnight(date, 0.0)

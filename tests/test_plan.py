@@ -123,6 +123,7 @@ def test_moving_vessel_events_follow_the_track(ts, eph):
 @pytest.mark.parametrize("lon, zone_h, utc", [
     (177.0, None, "2026-12-09T12:00"),  # ZD −12 east of 172.5° E: 00:00 on the 10th is 12:00 UTC on the 9th
     (-177.0, None, "2026-12-10T12:00"),  # ZD +12 west of 172.5° W
+    (183.0, None, "2026-12-10T12:00"),  # 183° E is 177° W
     (-20.0, None, "2026-12-10T01:00"),  # ZD +1 (local mean time would be 01:20)
     (7.4, None, "2026-12-10T00:00"),  # ZD 0 up to 7.5° E
     (177.0, -11.0, "2026-12-09T13:00"),  # the zone the ship keeps, given, not the longitude's

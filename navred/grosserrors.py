@@ -327,9 +327,26 @@ def mark_untrusted(results) -> None:
                 "the unknowns cannot show that the scatter is smaller; plot it, but as no better than that ellipse, "
                 "and take more sights (a cocked hat of this size also comes from an error common to every sight)"))
         if result.untrusted:
-            result.warnings[:] = [w.replace("plot this one, and find out", "plot neither as it stands: find out")
-                                  for w in result.warnings]
-            result.warnings.insert(0, f"CANNOT BE TRUSTED as the position to plot: {result.untrusted}")
+            _say_untrusted(result)
+
+
+def _say_untrusted(result) -> None:
+    result.warnings[:] = [w.replace("plot this one, and find out", "plot neither as it stands: find out")
+                          for w in result.warnings]
+    result.warnings.insert(0, f"CANNOT BE TRUSTED as the position to plot: {result.untrusted}")
+
+
+def distrust(result, cause: Distrust, reason: str) -> bool:
+    """Mark a fix found trusted by :func:`mark_untrusted` as not to be plotted after all, for a reason found once
+    the fix is worked (a slip that every one of its sights fits, :func:`navred.jobs.zoneslips.name_zone_slips`):
+    the same fields and the same first warning as :func:`mark_untrusted` gives. Returns whether it was marked (a
+    fix already untrusted keeps its first reason; a line or latitude is not a position to plot anyway)."""
+    if result is None or not result.is_fix or result.untrusted:
+        return False
+    result.untrusted_cause = cause
+    result.untrusted = reason
+    _say_untrusted(result)
+    return True
 
 
 def check_fixes(sights: SightRows, group, n_groups, ok, results) -> None:
@@ -376,4 +393,4 @@ def _or_empty(values: np.ndarray, size: int) -> np.ndarray:
     return values if values.size == size else np.zeros(size, dtype=bool)
 
 
-__all__ = ["DECIMAL_EVIDENCE", "leave_out_gross", "misread_rounds", "mark_untrusted", "mirrored_drs", "check_fixes"]
+__all__ = ["DECIMAL_EVIDENCE", "leave_out_gross", "misread_rounds", "mark_untrusted", "mirrored_drs", "distrust", "check_fixes"]

@@ -132,24 +132,30 @@ def too_good(sigma_arcmin, dof) -> tuple[np.ndarray, np.ndarray]:
     for j in np.flatnonzero(remark).tolist():
         nu, s, p = int(dof[j]), float(sigma[j]), float(chance[j])
         odds = (f"sights as good as the best sextant work (σ {SEXTANT_SIGMA_BEST_ARCMIN:.1f}′) agree this closely in "
-                f"{_percent(p)} of rounds (chi-square, {nu} degree{'' if nu == 1 else 's'} of freedom)")
+                f"{_chance(p)} (chi-square, {nu} degree{'' if nu == 1 else 's'} of freedom)")
         if p < alarm:
             words[j] = (
-                f"the sights agree to σ {s:.2f}′, closer than sights observed at sea agree: {odds}, under the "
-                f"{alarm * 100:.1f} % this warning allows; the 95 % ellipse, drawn from that agreement, is too small to "
+                f"the sights agree to σ {s:.2f}′, closer than sights observed at sea agree: {odds}; navred warns "
+                f"below 1 in {round(1 / alarm):,}; the 95 % ellipse, drawn from that agreement, is too small to "
                 "trust; if the altitudes were computed, rounded from a fix or copied, take the position as good to a "
                 "mile or two at best")
         elif s < SEXTANT_READING_ARCMIN:
             words[j] = (
                 f"the sights agree to σ {s:.2f}′, closer than a sextant is read ({SEXTANT_READING_ARCMIN:.1f}′), but "
                 f"{nu} sight{'' if nu == 1 else 's'} beyond the unknowns cannot judge whether that is too good to be "
-                f"true: {odds}, and a warning needs under {alarm * 100:.1f} %; if the altitudes were computed, rounded "
+                f"true: {odds}, and navred warns only below 1 in {round(1 / alarm):,}; if the altitudes were computed, rounded "
                 "from a fix or copied, the ellipse is too small")
     return chance, words
 
 
-def _percent(p: float) -> str:
-    return f"{p * 100:.0f} %" if p >= 0.095 else f"{p * 100:.1f} %" if p >= 0.00095 else f"{p * 100:.2g} %"
+def _chance(p: float) -> str:
+    """'11 % of rounds', '1.8 % of rounds', 'fewer than 1 round in 10,000' (at most 'in 1,000,000')."""
+    if p >= 0.095:
+        return f"{p * 100:.0f} % of rounds"
+    if p >= 0.001:
+        return f"{p * 100:.1f} % of rounds"
+    k = min(6, int(np.floor(-np.log10(p)))) if p > 0 else 6
+    return f"fewer than 1 round in {10 ** k:,}"
 
 
 def sense_checks(results: list[FixResult], run_from: list[RunFrom], span_min: np.ndarray, age_h: np.ndarray,

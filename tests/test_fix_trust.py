@@ -47,15 +47,16 @@ STARS = ["Altair", "Arcturus", "Deneb", "Antares", "Vega", "Alkaid", "Kochab", "
 
 
 def _log(ts, eph, tmp_path, *, dr_lat, dr_lon, names=STARS[:4], zd=1, name="log.csv", noise=None,
-         when=WHEN, lat=LAT, lon=LON):
+         when=WHEN, lat=LAT, lon=LON, days_off=0):
     """A log of ``names`` taken 2 minutes apart at the true position, written in zone time under ZD ``zd`` (the
-    ship's true zone +1), with the DR as given and the Hs to 0.1′ as a sextant is read."""
+    ship's true zone +1), with the DR as given and the Hs to 0.1′ as a sextant is read; the date written
+    ``days_off`` days out."""
     noise = [0.0] * len(names) if noise is None else noise
     rows = []
     for k, (body, e) in enumerate(zip(names, noise, strict=True)):
         utc = when + pd.Timedelta(minutes=2 * k)
         sight = skyfield_sight(ts, eph, body, utc, lat, lon, noise_arcmin=e)
-        zone_time = utc.tz_convert(None) - pd.Timedelta(hours=round(-lon / 15.0))
+        zone_time = utc.tz_convert(None) - pd.Timedelta(hours=round(-lon / 15.0)) + pd.Timedelta(days=days_off)
         degrees = int(sight["hs"])
         rows.append({"date": zone_time.strftime("%Y-%m-%d"), "zone time": zone_time.strftime("%H:%M:%S"),
                      "zone description": f"{zd:+d}", "body": body,
@@ -159,6 +160,25 @@ def test_a_dr_out_by_two_degrees_is_not_called_a_wrong_hemisphere(tmp_path, ts, 
     _, fix = _only_fix(_log(ts, eph, tmp_path, dr_lat=dr_lat, dr_lon=dr_lon))
     assert fix.untrusted_cause == Distrust.FAR_FROM_DR
     assert not any("written" in w and ("N for S" in w or "E for W" in w or "S for N" in w) for w in fix.warnings)
+
+
+def test_a_slip_every_sight_fits_makes_the_fix_untrusted(tmp_path, ts, eph):
+    # the trial's case: the date written a day late, the DR right (three stars at 17° 30′ S 149° 30′ W, skyfield):
+    # the fix lands some 56 nm west, within three times what the DR could be out, but every sight fits the one
+    # slip (worked 24 h earlier each intercept is within 15 nm): the fix is not a position to plot
+    names = ["Canopus", "Achernar", "Fomalhaut"]
+    path = _log(ts, eph, tmp_path, dr_lat=-17.5, dr_lon=-149.5, names=names, zd=10, days_off=1,
+                when=pd.Timestamp("2026-12-05T05:05:00Z"), lat=-17.5, lon=-149.5)
+    _, fix = _only_fix(path)
+    assert float(distance_bearing(fix.lat_deg, fix.lon_deg, -17.5, -149.5)[0]) > 30.0  # moved by the slip
+    assert not fix.trusted and fix.untrusted_cause == Distrust.SLIP
+    assert "every one of its 3 sights fits one slip, the date a day out" in fix.untrusted
+    table = pd.read_csv(io.StringIO(runner.invoke(app, ["fix", str(path), "--csv"]).stdout), keep_default_na=False)
+    assert str(table.trusted[0]) == "False" and table.untrusted_cause[0] == "a slip every sight fits"
+    # the same log with the date right: a fix to plot, at the truth
+    _, right = _only_fix(_log(ts, eph, tmp_path, dr_lat=-17.5, dr_lon=-149.5, names=names, zd=10,
+                              when=pd.Timestamp("2026-12-05T05:05:00Z"), lat=-17.5, lon=-149.5, name="right.csv"))
+    assert right.trusted and float(distance_bearing(right.lat_deg, right.lon_deg, -17.5, -149.5)[0]) < 0.5
 
 
 # --- 3. a round's verdict and its sights' notes agree --------------------------------------------------------

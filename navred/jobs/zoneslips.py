@@ -11,6 +11,9 @@ import re
 import numpy as np
 import pandas as pd
 
+from ..grosserrors import distrust
+from ..status import Distrust
+
 #: a slip fits a sight when undoing it leaves an intercept within this (nautical miles; common practice: a DR
 #: carried a day or so is seldom further out; 15 nm keeps a wrong limb, 32′ at the Sun, apart from a degree
 #: misread, 60 nm)
@@ -208,8 +211,14 @@ def name_zone_slips(results: list, reduced: pd.DataFrame, group: np.ndarray, lab
             continue
         n = int(np.sum(results[k].used))
         if len(texts_k) >= n and len({re.sub(r"\d+(?:\.\d+)?", "#", t) for t in texts_k}) == 1:
-            # every sight names the one slip (its figures aside: each sight's own DR and intercept)
+            # every sight names the one slip (its figures aside: each sight's own DR and intercept): the fix was
+            # moved by it, and is no position to plot until it is undone
             results[k].warnings.append(texts_k[0])
+            distrust(results[k], Distrust.SLIP, (
+                f"every one of its {n} sights fits one slip, {_cause_only(texts_k[0]).split(' (')[0]} (see the "
+                f"warnings), and the fix is {results[k].dr_distance_nm:.0f} nm from the DR, beyond the "
+                f"{results[k].dr_allowed_nm:.0f} nm it could be out: worked as logged the slip moves the fix; "
+                "correct it and fix again"))
             continue
         alone = [(row, text) for row, text in said.get(k, []) if text.startswith("possible cause")]
         words = (f"its {n} sights agree among themselves (σ {results[k].sigma_arcmin:.1f}′): a slip in one sight "

@@ -215,7 +215,7 @@ def name_zone_slips(results: list, reduced: pd.DataFrame, group: np.ndarray, lab
             # moved by it, and is no position to plot until it is undone
             results[k].warnings.append(texts_k[0])
             distrust(results[k], Distrust.SLIP, (
-                f"every one of its {n} sights fits one slip, {_cause_only(texts_k[0]).split(' (')[0]} (see the "
+                f"every one of its {n} sights fits one slip, {_slip_named(texts_k[0])} (see the "
                 f"warnings), and the fix is {results[k].dr_distance_nm:.0f} nm from the DR, beyond the "
                 f"{results[k].dr_allowed_nm:.0f} nm it could be out: worked as logged the slip moves the fix; "
                 "correct it and fix again"))
@@ -235,6 +235,14 @@ def name_zone_slips(results: list, reduced: pd.DataFrame, group: np.ndarray, lab
 def _cause_only(text: str) -> str:
     """'the date a day out (...)' from 'possible cause (undone, ...): the date a day out (...)'."""
     return text.split("): ", 1)[1] if text.startswith("possible cause") and "): " in text else text
+
+
+def _slip_named(text: str) -> str:
+    """The slip a note names, in short: 'the date a day out', 'the date a day out; or Hs 1° too high', 'the zone
+    description -10 is a zone east of Greenwich, but the DR, 150° W, is in zone +10'."""
+    if text.startswith("likely cause: "):
+        return text[len("likely cause: "):].split(": ")[0]
+    return re.sub(r" \([^)]*\)", "", _cause_only(text))
 
 
 def drop_contradicted(reduced: pd.DataFrame, contradicted: dict[int, str]) -> None:

@@ -265,3 +265,15 @@ def test_too_good_remark_per_sight_count(tmp_path, ts, eph, count):
     _, rough = _only_fix(_log(ts, eph, tmp_path, dr_lat=LAT + 0.05, dr_lon=LON - 0.05, names=STARS[:count],
                               noise=noisy, name="rough.csv"))
     assert not any(w.startswith("the sights agree to σ") for w in rough.warnings), rough.warnings
+
+
+def test_fix_and_days_give_the_same_too_good_remark(tmp_path, ts, eph):
+    # one rule for both commands: the remark navred fix prints for a round is the one navred days prints for it
+    path = _log(ts, eph, tmp_path, dr_lat=LAT + 0.05, dr_lon=LON - 0.05, names=STARS[:3])
+    fix = runner.invoke(app, ["fix", str(path)])
+    days = runner.invoke(app, ["days", str(path)])
+    assert fix.exit_code == 0 and days.exit_code == 0, (fix.output, days.output)
+    remark = next(line.split("warning: ", 1)[1] for line in fix.output.splitlines()
+                  if "warning: the sights agree to σ" in line)
+    assert "cannot judge whether that is too good to be true" in remark
+    assert f"warning: group stars: {remark}" in days.output

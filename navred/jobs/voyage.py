@@ -39,7 +39,7 @@ from .drcontext import dr_context
 from .frames import row_labels, series_columns, utc64
 from .shipsfixes import split_mixed_groups
 from .sights import reduce_sights
-from .zoneslips import name_zone_slips
+from .zoneslips import drop_contradicted, name_zone_slips
 
 
 @dataclass(frozen=True)
@@ -432,7 +432,7 @@ def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: obj
               reduced["dr_lat_deg"].to_numpy(dtype=float), reduced["dr_lon_deg"].to_numpy(dtype=float))
     batch = fixes_from_sights(*arrays, group, chart_lat=chart_lat, chart_lon=chart_lon, hs_deg=column("hs_deg"),
                               sigma_arcmin=column("sigma_arcmin"), line_sigma_nm=column("line_sigma_nm"), **arguments)
-    name_zone_slips(batch.results, reduced, group)
+    drop_contradicted(reduced, name_zone_slips(batch.results, reduced, group, arguments["labels"]))
     by_group = np.argsort(np.where(group >= 0, group, count), kind="stable")
     bounds = np.concatenate([[0], np.cumsum(np.bincount(group[group >= 0], minlength=count))]).tolist()
     usable_count = np.bincount(group[(group >= 0) & usable], minlength=count)

@@ -86,23 +86,62 @@ def test_an_option_refused_before_any_log_is_named_is_one_line_alone(refused_log
 
 # --- 2. stdout's last line ended before stderr speaks: both streams to one file (2>&1) ----------------------------
 
+#: The three runs in one process (its start is most of a second), each with both of its streams, the real file
+#: descriptors 1 and 2, sent to one file as `2>&1` sends them, and navred's own entry point called as the
+#: console script calls it; stdout is a pipe there, so buffered as a command's stdout is. What navred left in
+#: stdout's buffer unwritten when it wrote to stderr is written only at the end of its run, after stderr's lines,
+#: as a process's exit would write it.
+_BOTH_STREAMS = """
+import json, os, sys, tempfile
+from navred.cli import main
+texts = []
+for arguments in json.loads(sys.argv[1]):
+    with tempfile.TemporaryFile() as both:
+        sys.stdout.flush()
+        sys.stderr.flush()
+        saved = os.dup(1), os.dup(2)
+        os.dup2(both.fileno(), 1)
+        os.dup2(both.fileno(), 2)
+        sys.argv = ["navred", *arguments]
+        try:
+            main()
+        except SystemExit:
+            pass
+        finally:
+            sys.stdout.flush()
+            sys.stderr.flush()
+            os.dup2(saved[0], 1)
+            os.dup2(saved[1], 2)
+        both.seek(0)
+        texts.append(both.read().decode("utf-8"))
+sys.stdout.write(json.dumps(texts))
+"""
+
+
 def test_both_streams_in_one_never_run_a_line_on(tmp_path):
+    import json
+    import os
+
     mixed = log_file(tmp_path, [HEADER, ROWS[0], unsigned(ROWS[1]), ROWS[2], ROWS[3], unsigned(ROWS[4])], "m.csv")
     refused = log_file(tmp_path, [HEADER] + [unsigned(r) for r in ROWS], "r.csv")
-    for arguments, first_stderr in ((["reduce", str(mixed), "--csv"], "not reduced: row 3 (Sun)"),
-                                    (["fix", str(mixed), "--csv"], CAUTION),
-                                    (["reduce", str(refused)], "navred: error:")):
-        done = subprocess.run([sys.executable, "-m", "navred", *arguments], stdout=subprocess.PIPE,
-                              stderr=subprocess.STDOUT, text=True, encoding="utf-8", check=False, timeout=120)
-        text = done.stdout
+    cases = ((["reduce", str(mixed), "--csv"], "not reduced: row 3 (Sun)"), (["fix", str(mixed), "--csv"], CAUTION),
+             (["reduce", str(refused)], "navred: error:"))
+    # stdout buffered as a command's is, whatever this run's environment asks (PYTHONUNBUFFERED would hide a
+    # missing flush)
+    quiet = {k: v for k, v in os.environ.items() if k != "PYTHONUNBUFFERED"}
+    done = subprocess.run([sys.executable, "-c", _BOTH_STREAMS, json.dumps([a for a, _ in cases])], env=quiet,
+                          stdout=subprocess.PIPE, text=True, encoding="utf-8", check=True, timeout=240)
+    texts = json.loads(done.stdout)
+    assert len(texts) == len(cases)
+    for (arguments, first_stderr), text in zip(cases, texts):
         assert text.endswith("\n")
         lines = text.splitlines()
         # every stderr line starts its own line, once, after the last line of stdout
         for mark in ("navred: error:", "CAUTION:", "not reduced: row", "warning:", "note:"):
             assert all(line.startswith(mark) for line in lines if mark in line and not line.startswith(
-                ("  ", "row ", "source,", "label,"))), (mark, text)
-        assert sum(line == CAUTION for line in lines) == 1 and lines[-1] == CAUTION, text
-        assert any(line.startswith(first_stderr) for line in lines)
+                ("  ", "row ", "source,", "label,"))), (arguments, mark, text)
+        assert sum(line == CAUTION for line in lines) == 1 and lines[-1] == CAUTION, (arguments, text)
+        assert any(line.startswith(first_stderr) for line in lines), arguments
 
 
 # --- 3. a repeated header skipped with a note; a body shown as written ------------------------------------------

@@ -158,6 +158,10 @@ class _Layout:
         return sight_lat, sight_lon, hc, zn
 
 
+#: the time of a cell no sight fills (int64 nanoseconds): before any
+_NEVER = int(np.iinfo(np.int64).min)
+
+
 def _layout(s: SightRows, group, n_groups, ok, weighted, work, fix_time_given) -> _Layout:
     """The padded layout of the groups at work, each group's run between its sights, and its DR at the fix time
     (the last sight's DR carried on along the track)."""
@@ -168,16 +172,16 @@ def _layout(s: SightRows, group, n_groups, ok, weighted, work, fix_time_given) -
     w_of_group[work] = np.arange(work.size)
     ok_rows = ok_rows[w_of_group[group[ok_rows]] >= 0]  # the rows of the groups at work
     w = w_of_group[group[ok_rows]]
-    start = np.concatenate([[0], np.cumsum(count_ok[work])[:-1]])
+    counts = count_ok[work]
+    start = np.cumsum(counts) - counts  # each group's first place among the rows
     column = np.arange(ok_rows.size) - start[w]
-    width = int(count_ok[work].max())
+    width = int(counts.max())
     present = np.zeros((work.size, width), dtype=bool)
     present[w, column] = True
     use = np.zeros((work.size, width), dtype=bool)
     use[w, column] = weighted[ok_rows]
-    never = np.iinfo(np.int64).min
-    times = np.full((work.size, width), never, dtype=np.int64)
-    times[w, column] = np.where(weighted[ok_rows], s.utc[ok_rows].astype(np.int64), never)
+    times = np.full((work.size, width), _NEVER, dtype=np.int64)
+    times[w, column] = np.where(weighted[ok_rows], s.utc[ok_rows].astype(np.int64), _NEVER)
     last = width - 1 - np.argmax(times[:, ::-1] == times.max(axis=1, keepdims=True), axis=1)
     index = np.zeros((work.size, width), dtype=np.intp)
     index[w, column] = ok_rows

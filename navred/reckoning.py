@@ -27,6 +27,7 @@ from .angles import wrap_180, wrap_360
 from .constants import METRES_PER_NM, NS_PER_HOUR
 from .errors import NavredError
 from .sailings import (
+    RhumbLegs,
     latitude_from_meridian_arc_deg,
     longitude_change_rad,
     meridian_arc_m,
@@ -196,10 +197,20 @@ class DRTrack:
         """Where each knot stands in time order: undoes the legs' ordering."""
         return np.argsort(self._legs[0], axis=-1, kind="stable")
 
+    @functools.cached_property
+    def _rhumb(self) -> RhumbLegs:
+        """The legs' rhumb lines, what depends on the legs alone worked once (a fix sails them from each step)."""
+        _, north, course, distance = self._legs
+        return RhumbLegs(north, course, distance)
+
+    @functools.cached_property
+    def _in_time_order(self) -> bool:
+        """Whether every track's knots are in time order already (worked out once)."""
+        return bool((self._legs[0] == np.arange(self.knot_ns.shape[-1])).all())
+
     def through(self, lat_deg: ArrayLike, lon_deg: ArrayLike, at: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
         """The position at every knot (..., K), in the knots' own order, when the ship is at (lat, lon) (...,) at
         knot ``at`` (...,): the track of rhumb lines on the WGS 84 ellipsoid sailed on and back from there."""
-        order, north, course, distance = self._legs
         at = np.asarray(at, dtype=np.intp)
         lat, lon = np.asarray(lat_deg, dtype=float), np.asarray(lon_deg, dtype=float)
         if lat.shape != at.shape or lon.shape != at.shape:
@@ -209,13 +220,15 @@ class DRTrack:
             lat_all, lon_all = np.empty(self.knot_ns.shape), np.empty(self.knot_ns.shape)
             lat_all[...], lon_all[...] = lat[..., None], lon[..., None]
             return lat_all, lon_all
-        if at.ndim == 1:  # a batch of tracks (rows, knots): plain indexing, the same elements
+        if self._in_time_order:  # the knots in time order already (a fix's sights): no reordering
+            lat_all, lon_all = self._rhumb.through(lat, lon, at)
+        elif at.ndim == 1:  # a batch of tracks (rows, knots): plain indexing, the same elements
             rows = np.arange(at.size)
-            lat_all, lon_all = rhumb_track_through(lat, lon, self._back[rows, at], north, course, distance)
+            lat_all, lon_all = self._rhumb.through(lat, lon, self._back[rows, at])
             lat_all, lon_all = lat_all[rows[:, None], self._back], lon_all[rows[:, None], self._back]
         else:
             at_time = np.take_along_axis(self._back, at[..., None], axis=-1)[..., 0]
-            lat_all, lon_all = rhumb_track_through(lat, lon, at_time, north, course, distance)
+            lat_all, lon_all = self._rhumb.through(lat, lon, at_time)
             lat_all = np.take_along_axis(lat_all, self._back, axis=-1)
             lon_all = np.take_along_axis(lon_all, self._back, axis=-1)
         if still.any():  # a track of no run among others that run: where the ship is, as it is when alone

@@ -106,7 +106,7 @@ def _latitude_by_series(arc: np.ndarray) -> np.ndarray:
 def isometric_latitude(lat_deg: ArrayLike) -> np.ndarray:
     """The isometric latitude ψ (radians) on the ellipsoid: the Mercator ordinate; meridional parts
     are ψ in minutes of arc (Snyder eq. 3-7 in its atanh form)."""
-    s = np.sin(np.radians(np.clip(np.asarray(lat_deg, dtype=float), -POLAR_LIMIT_DEG, POLAR_LIMIT_DEG)))
+    s = np.sin(np.radians(_within_poles(np.asarray(lat_deg, dtype=float))))
     return np.arctanh(s) - E * np.arctanh(E * s)
 
 
@@ -180,23 +180,66 @@ def rhumb_track_through(lat_deg: ArrayLike, lon_deg: ArrayLike, at: ArrayLike, n
     on and back from point ``at`` at once: each point's meridian arc is the reference point's plus
     the northings between them, and its longitude the reference's plus the legs' longitude
     changes between them (a rhumb line sailed the other way is the same line). Returns the
-    latitudes and longitudes of all points, shape (..., legs + 1).
+    latitudes and longitudes of all points, shape (..., legs + 1). The same track through other
+    points again and again (a fix's every step): :class:`RhumbLegs`.
     """
-    north_m = np.asarray(north_nm, dtype=float) * METRES_PER_NM
-    at = np.asarray(at, dtype=np.intp)[..., None]
-    lat = np.asarray(lat_deg, dtype=float)[..., None]
-    lon = np.asarray(lon_deg, dtype=float)[..., None]
-    zero = np.zeros(north_m.shape[:-1] + (1,))
-    run = np.concatenate([zero, np.cumsum(north_m, axis=-1)], axis=-1)
-    arc_at = meridian_arc_m(lat)
-    arcs = arc_at + (run - np.take_along_axis(run, at, axis=-1))
-    lats = np.clip(latitude_from_meridian_arc_deg(arcs, (lat, arc_at)), -POLAR_LIMIT_DEG, POLAR_LIMIT_DEG)
-    lats = np.where(np.arange(lats.shape[-1]) == at, lat, lats)  # the reference point exactly as given
-    dlon = longitude_change_rad(lats[..., :-1], lats[..., 1:], np.radians(np.asarray(course_deg, dtype=float)),
-                                 np.asarray(distance_nm, dtype=float) * METRES_PER_NM)
-    turned = np.concatenate([zero, np.cumsum(dlon, axis=-1)], axis=-1)
-    lons = wrap_180(lon + np.degrees(turned - np.take_along_axis(turned, at, axis=-1)))
-    return lats, lons
+    return RhumbLegs(north_nm, course_deg, distance_nm).through(lat_deg, lon_deg, at)
+
+
+class RhumbLegs:
+    """The legs of tracks of rhumb lines (as :func:`rhumb_track_through` takes them), what depends on the legs
+    alone worked once: each point's northing run from the first, each leg's course in radians, its tan and its
+    length in metres, which legs run east or west. :meth:`through` gives the points through a given one, bit
+    for bit as :func:`rhumb_track_through` (which is this), for a fix that sails the same track back from each
+    step of its solution."""
+
+    def __init__(self, north_nm: ArrayLike, course_deg: ArrayLike, distance_nm: ArrayLike) -> None:
+        north_m = np.asarray(north_nm, dtype=float) * METRES_PER_NM
+        self._zero = np.zeros(north_m.shape[:-1] + (1,))
+        self._run = np.concatenate([self._zero, np.cumsum(north_m, axis=-1)], axis=-1)
+        self._course_rad = np.radians(np.asarray(course_deg, dtype=float))
+        self._distance_m = np.asarray(distance_nm, dtype=float) * METRES_PER_NM
+        self._tan = np.tan(self._course_rad)
+        self._east_west = np.abs(np.cos(self._course_rad)) < 1e-9
+        self._any_east_west = bool(self._east_west.any())
+        # the shape of the legs' longitude changes: where every leg's course and length are given in full (a
+        # DR track's), the changes along the isometric latitudes alone have it
+        points = self._run.shape
+        legs = points[:-1] + (points[-1] - 1,)
+        self._full = self._course_rad.shape == legs and self._distance_m.shape == legs
+        self._points = np.arange(points[-1])
+        self._rows = np.arange(points[0])[:, None] if len(points) == 2 else None
+
+    def _at(self, values: np.ndarray, at: np.ndarray) -> np.ndarray:
+        """``values`` (..., points) at point ``at`` (..., 1) of each track."""
+        if self._rows is not None and at.shape == (self._rows.shape[0], 1):
+            return values[self._rows, at]  # a batch of tracks: plain indexing, the same elements
+        return np.take_along_axis(values, at, axis=-1)
+
+    def through(self, lat_deg: ArrayLike, lon_deg: ArrayLike, at: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
+        """Every point of each track (..., legs + 1) when its point ``at`` (...,) is at (lat, lon) (...,)."""
+        at = np.asarray(at, dtype=np.intp)[..., None]
+        lat = np.asarray(lat_deg, dtype=float)[..., None]
+        lon = np.asarray(lon_deg, dtype=float)[..., None]
+        run = self._run
+        arc_at = meridian_arc_m(lat)
+        arcs = arc_at + (run - self._at(run, at))
+        lats = _within_poles(latitude_from_meridian_arc_deg(arcs, (lat, arc_at)))
+        lats = np.where(self._points == at, lat, lats)  # the reference point exactly as given
+        if self._full and not self._any_east_west:
+            # longitude_change_rad's sloped legs, each point's isometric latitude worked once
+            psi = isometric_latitude(lats)
+            dlon = self._tan * (psi[..., 1:] - psi[..., :-1])
+        else:
+            dlon = longitude_change_rad(lats[..., :-1], lats[..., 1:], self._course_rad, self._distance_m)
+        turned = np.concatenate([self._zero, np.cumsum(dlon, axis=-1)], axis=-1)
+        lons = wrap_180(lon + np.degrees(turned - self._at(turned, at)))
+        return lats, lons
+
+
+def _within_poles(lat_deg: np.ndarray) -> np.ndarray:
+    """Latitudes kept within POLAR_LIMIT_DEG of the equator (np.clip's values, NaN kept, in two calls)."""
+    return np.minimum(np.maximum(lat_deg, -POLAR_LIMIT_DEG), POLAR_LIMIT_DEG)
 
 
 def move_position(lat_deg: ArrayLike, lon_deg: ArrayLike, north_nm: ArrayLike, east_nm: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
@@ -426,6 +469,6 @@ def composite_great_circle(lat1_deg: float, lon1_deg: float, lat2_deg: float, lo
 
 
 __all__ = ["meridian_arc_m", "latitude_from_meridian_arc_deg", "isometric_latitude", "meridional_parts",
-           "prime_vertical_radius_m", "meridian_radius_m", "rhumb_destination", "rhumb_inverse", "rhumb_track_through",
+           "prime_vertical_radius_m", "meridian_radius_m", "rhumb_destination", "rhumb_inverse", "rhumb_track_through", "RhumbLegs",
            "longitude_change_rad", "great_circle_inverse", "great_circle_destination", "great_circle_vertex",
            "composite_great_circle", "GeodesicError"]

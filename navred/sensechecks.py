@@ -107,13 +107,15 @@ def _common_error_words(result: FixResult) -> str:
             f"subtracted) or the observer's personal error{allowed}")
 
 
-def too_good(sigma_arcmin, dof) -> tuple[np.ndarray, np.ndarray]:
+def too_good(sigma_arcmin, dof, *, remarks_only: bool = False) -> tuple[np.ndarray, np.ndarray]:
     """The one rule for sights that agree too well, for fix and day's work alike (every fix's sense checks): the
     chance that sights as good as the best sextant work (σ SEXTANT_SIGMA_BEST_ARCMIN) agree as closely as
     ``sigma_arcmin`` on ``dof`` sights beyond the unknowns (chi-square: ν s²/σ² has ν degrees of freedom, for
     Gaussian sight errors; navred.stats), and a remark in words: a warning where that chance is below
     1 − SCATTER_CONFIDENCE (0.1 %), else, for a σ under SEXTANT_READING_ARCMIN, that the round is too small to
-    judge it ('cannot be judged'), else nothing (''). No σ estimated (two sights, ν 0): nothing.
+    judge it ('cannot be judged'), else nothing (''). No σ estimated (two sights, ν 0): nothing. With
+``remarks_only`` the chance is worked only where it can make a remark, σ under SEXTANT_SIGMA_BEST_ARCMIN (NaN
+elsewhere): at or above it ν s²/σ² is at least ν, above the median of its chi-square, a chance over one half.
 
     >>> chance, words = too_good(np.array([0.04, 0.04, 0.5]), np.array([1, 8, 1]))
     >>> [w.split(':')[0] for w in words]
@@ -123,8 +125,9 @@ def too_good(sigma_arcmin, dof) -> tuple[np.ndarray, np.ndarray]:
     dof = np.atleast_1d(np.asarray(dof, dtype=float))
     chance = np.full(sigma.shape, np.nan)
     judged = (dof >= 1) & np.isfinite(sigma)
-    if judged.any():
-        chance[judged] = chi_square_cdf(dof[judged] * (sigma[judged] / SEXTANT_SIGMA_BEST_ARCMIN) ** 2, dof[judged])
+    worked = judged & (sigma < SEXTANT_SIGMA_BEST_ARCMIN) if remarks_only else judged
+    if worked.any():
+        chance[worked] = chi_square_cdf(dof[worked] * (sigma[worked] / SEXTANT_SIGMA_BEST_ARCMIN) ** 2, dof[worked])
     words = np.full(sigma.shape, "", dtype=object)
     alarm = 1.0 - SCATTER_CONFIDENCE
     with np.errstate(invalid="ignore"):
@@ -183,7 +186,7 @@ def sense_checks(results: list[FixResult], run_from: list[RunFrom], span_min: np
         limit[judged] = SEXTANT_SIGMA_LIMIT_ARCMIN * np.sqrt(chi_square_quantile(SCATTER_CONFIDENCE, dof[judged])
                                                              / dof[judged])
     wild = is_fix & (sigma > limit)
-    too_close = np.where(is_fix, too_good(sigma, dof)[1], "")
+    too_close = np.where(is_fix, too_good(sigma, dof, remarks_only=True)[1], "")
     far = distance > allowed
     dr_alone = DR_ALONE_SCALE * dr_sigma
     major = np.where(is_fix, size, 0.0)

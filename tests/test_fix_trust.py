@@ -243,6 +243,22 @@ def test_too_good_rule_per_redundant_sight(nu):
     assert too_good(np.array([0.0]), np.array([0]))[1][0] == ""
 
 
+@pytest.mark.parametrize("nu", [1, 2, 3, 5, 8, 20, 60])
+def test_too_good_remarks_only_gives_the_same_words(nu):
+    # the fix's sense checks work the chance only under the best sextant work's σ (0.3′): at or above it ν s²/σ²
+    # is at least ν, above the chi-square's median, a chance over one half (the closed form above says so for
+    # each ν here), so no remark is lost; the words are the same, the chance where it is worked the same
+    sigma = np.array([0.0, 0.01, 0.04, 0.1, 0.2, 0.29, 0.3, 0.31, 0.5, 1.0, 3.0, np.nan])
+    dof = np.full(sigma.size, nu)
+    chance, words = too_good(sigma, dof)
+    some, fewer = too_good(sigma, dof, remarks_only=True)
+    assert fewer.tolist() == words.tolist()
+    worked = sigma < SEXTANT_SIGMA_BEST_ARCMIN
+    # (the chance to 1e-12: the series behind it stops when every element of its call has settled)
+    assert np.allclose(some[worked], chance[worked], rtol=1e-12, atol=0) and np.isnan(some[~worked]).all()
+    assert _chi_square_cdf(float(nu), nu) > 0.5
+
+
 @pytest.mark.parametrize("count", [3, 4, 5, 6, 8])
 def test_too_good_remark_per_sight_count(tmp_path, ts, eph, count):
     # rounds of ``count`` stars with no sextant error (skyfield's altitudes, Hs to 0.1′): whatever σ each gets,

@@ -17,7 +17,7 @@ from navred.latitudes import (
     latitude_by_meridian_altitude,
     latitude_from_noon_curve,
 )
-from navred.sailings import meridional_parts, rhumb_destination
+from navred.sailings import RhumbLegs, meridional_parts, rhumb_destination, rhumb_track_through
 from navred.stats import chi_square_2_quantile
 from navred.triangle import distance_bearing
 from tests.conftest import WGS84_F, rhumb_integrated, skyfield_sight
@@ -37,6 +37,32 @@ def test_rhumb_line_against_integration_and_meridional_parts():
         published = (np.log(np.tan(np.radians(45 + lat / 2))) - e2 * s - e2**2 / 3 * s**3 - e2**3 / 5 * s**5) \
             * 180 / np.pi * 60
         assert float(meridional_parts(lat)) == pytest.approx(published, abs=0.01)
+
+
+
+def test_a_track_sailed_again_from_each_step_is_the_same_track_to_the_bit():
+    # a fix sails its sights' track back from each step of its solution: the legs worked once (RhumbLegs) give,
+    # to the bit, what the one-off rhumb_track_through gives with each leg's course and length broadcast (the
+    # general path, leg by leg through longitude_change_rad); and the points lie on the test's own integration
+    # of each rhumb line, within 1 m
+    rng = np.random.default_rng(3)
+    north_kn, east_kn = rng.uniform(-15, 15, (6, 8)), rng.uniform(-15, 15, (6, 8))
+    hours = rng.uniform(0.05, 1.0, (6, 8))
+    north, east = north_kn * hours, east_kn * hours
+    course, distance = np.degrees(np.arctan2(east, north)), np.hypot(north, east)
+    legs = RhumbLegs(north, course, distance)
+    for _ in range(3):  # the same legs through a new reference position each time
+        lat, lon = rng.uniform(-70, 70, 6), rng.uniform(-180, 180, 6)
+        at = rng.integers(0, 9, 6)
+        fast = legs.through(lat, lon, at)
+        for row in range(6):  # one track alone, its legs broadcast from (1, legs): the general path
+            alone = rhumb_track_through(lat[row:row + 1], lon[row:row + 1], at[row:row + 1], north[row:row + 1],
+                                        course[row], distance[row])
+            assert np.array_equal(alone[0][0], fast[0][row]) and np.array_equal(alone[1][0], fast[1][row])
+        row = 0
+        for k in range(at[row], 8):  # sailed on from the reference point, leg by leg
+            truth = rhumb_integrated(fast[0][row, k], fast[1][row, k], course[row, k], distance[row, k], steps=2000)
+            assert float(distance_bearing(fast[0][row, k + 1], fast[1][row, k + 1], *truth)[0]) < 0.001
 
 
 def voyage_70n(ts, eph, noise=None):

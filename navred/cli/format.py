@@ -362,8 +362,14 @@ def by_kind(entries: list[tuple[str, str, str]], shown: int | None, *, indent: s
     if shown is None or len(entries) <= WARNINGS_LISTED:  # a day's log lists every one, by its row
         return [line for _, line, _ in entries]
     kinds: dict[str, list] = {}
+    kind_of: dict[str, str] = {}  # each distinct message's kind, worked once (a long log repeats a few)
     for label, line, message in entries:
-        kinds.setdefault(refusal_kind(message), []).append((label, line))
+        kind = kind_of.get(message) if isinstance(message, str) else None
+        if kind is None:
+            kind = refusal_kind(message)
+            if isinstance(message, str):
+                kind_of[message] = kind
+        kinds.setdefault(kind, []).append((label, line))
     out = []
     for members in kinds.values():
         if len(members) <= shown + 1:  # never 'and 1 more like it': the line itself is as short

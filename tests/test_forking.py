@@ -269,3 +269,21 @@ def test_reduce_csv_of_a_log_of_exactly_one_block_is_read_whole(tmp_path, monkey
     whole = runner.invoke(app, ["reduce", str(path), "--csv"])
     assert shared.exit_code == whole.exit_code == 0
     assert shared.stdout == whole.stdout and len(shared.stdout.splitlines()) == 61
+
+
+def test_reduce_csv_begun_in_blocks_notes_a_repeated_header_in_a_late_block_as_the_whole_log_does(tmp_path,
+                                                                                                monkeypatch):
+    """A row that repeats the header in the sixth block (row 330: two logs joined): skipped with its note, the CSV
+    and stderr of the blocks begun while the file is looked at those of the log read whole."""
+    lines = open("sample_sights/training_sights.csv", encoding="utf-8").read().splitlines()
+    lines[329] = lines[0]
+    path = tmp_path / "joined.csv"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 60)
+    monkeypatch.setattr(forking, "cores", lambda: 2)
+    shared = runner.invoke(app, ["reduce", str(path), "--csv"])
+    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 100_000)
+    whole = runner.invoke(app, ["reduce", str(path), "--csv"])
+    assert shared.exit_code == whole.exit_code == 0
+    assert shared.stdout == whole.stdout and len(shared.stdout.splitlines()) == 405
+    assert shared.stderr == whole.stderr and "row 330 repeats the header" in shared.stderr

@@ -563,7 +563,7 @@ class PlainBlocks:
 
 
 #: bytes of a long plain log looked at a time (the file is never held whole)
-SCAN_BYTES = 8 * 1024 * 1024
+SCAN_BYTES = 2 * 1024 * 1024
 _BAD_BYTES = re.compile(rb'["\r\x00-\x08\x0b\x0c\x0e-\x1f\x7f]')
 
 

@@ -195,3 +195,95 @@ def test_reduce_csv_with_every_row_refused_says_so_and_exits_1(tmp_path, monkeyp
     assert "405 sights read: 0 reduced (0 with a warning), 405 not reduced" in shared.stderr
     assert "and 402 more like it (rows 5-406)" in shared.stderr
     assert "nothing could be reduced: every one of the 405 rows was rejected" in shared.stderr
+
+
+def _spoilt(tmp_path, row: int, column: int, text: str):
+    """The training voyage (invented) with one cell of a log row (the header is row 1) replaced."""
+    lines = open("sample_sights/training_sights.csv", encoding="utf-8").read().splitlines()
+    cells = lines[row - 1].split(",")
+    cells[column] = text
+    lines[row - 1] = ",".join(cells)
+    path = tmp_path / f"spoilt_{row}_{column}.csv"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    return str(path)
+
+
+def test_the_first_blocks_are_handed_out_before_the_look_at_the_file_ends(tmp_path, monkeypatch):
+    """A long plain log looked at a few kilobytes at a time: its first two blocks are handed out while the rest
+    of the file is still to be looked at, then the others; the blocks, their bounds and digests are those the
+    look at the whole file gives first (plain_csv_blocks), and each reads as the same table."""
+    from navred.io import readers
+    from navred.io.logbook import sight_log_blocks, sight_log_blocks_found
+
+    log = "sample_sights/training_sights.csv"
+    monkeypatch.setattr(readers, "SCAN_BYTES", 4096)
+    found = sight_log_blocks_found(log, block_rows=60, early=2)
+    parts = iter(found.parts)
+    first = [next(parts), next(parts)]
+    assert [p.k for p in first] == [0, 1]
+    assert found.plan.plain.parts == ()  # the file not yet looked at whole
+    every = first + list(parts)
+    whole = sight_log_blocks(log, block_rows=60)
+    assert [p.k for p in every] == list(range(7)) == list(range(len(whole)))
+    assert [(p.start, p.stop, p.count, p.digest) for p in every] == \
+        [(p.start, p.stop, p.count, p.digest) for p in whole.plain.parts]
+    assert found.plan.plain.offsets.tolist() == whole.plain.offsets.tolist()
+    for part in every:
+        early, late = found.plan.read_part(part).table, whole.read(part.k).table
+        assert early.equals(late)
+
+
+@pytest.mark.parametrize("row, column, text, why", [
+    (300, 10, "", "a blank fix group in the fifth block: automatic groups need the whole log"),
+    (350, 6, "", "a blank DR latitude in the sixth block: refused by its row, as the whole log refuses it"),
+    (380, 12, '"Cadet Ansel"', "a quoted cell in the seventh block: not a plain file, read whole"),
+    (250, 12, "Cadet Ansel,x", "a line with a field too many in the fifth block: read whole"),
+])
+def test_reduce_csv_begun_in_blocks_gives_the_whole_logs_text_when_a_late_block_says_otherwise(
+        tmp_path, monkeypatch, row, column, text, why):
+    """The first blocks are worked while the file is looked at; when a later block turns out to need the log
+    read whole (or looked at closer), what was made of them is dropped: the CSV and the lines on stderr are those
+    of the log read whole."""
+    path = _spoilt(tmp_path, row, column, text)
+    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 60)
+    monkeypatch.setattr(forking, "cores", lambda: 2)
+    shared = runner.invoke(app, ["reduce", path, "--csv"])
+    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 100_000)
+    whole = runner.invoke(app, ["reduce", path, "--csv"])
+    assert shared.exit_code == whole.exit_code, why
+    assert shared.stdout == whole.stdout, why
+    assert shared.stderr == whole.stderr, why
+    assert len(shared.stdout.splitlines()) == 406, why
+
+
+def test_reduce_csv_of_a_log_of_exactly_one_block_is_read_whole(tmp_path, monkeypatch):
+    """A log of exactly one block's lines (60): its one block found at once, then the end of the file: read
+    whole, the same text."""
+    lines = open("sample_sights/training_sights.csv", encoding="utf-8").read().splitlines()[:61]
+    path = tmp_path / "sixty.csv"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 60)
+    monkeypatch.setattr(forking, "cores", lambda: 2)
+    shared = runner.invoke(app, ["reduce", str(path), "--csv"])
+    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 100_000)
+    whole = runner.invoke(app, ["reduce", str(path), "--csv"])
+    assert shared.exit_code == whole.exit_code == 0
+    assert shared.stdout == whole.stdout and len(shared.stdout.splitlines()) == 61
+
+
+def test_reduce_csv_begun_in_blocks_notes_a_repeated_header_in_a_late_block_as_the_whole_log_does(tmp_path,
+                                                                                                monkeypatch):
+    """A row that repeats the header in the sixth block (row 330: two logs joined): skipped with its note, the CSV
+    and stderr of the blocks begun while the file is looked at those of the log read whole."""
+    lines = open("sample_sights/training_sights.csv", encoding="utf-8").read().splitlines()
+    lines[329] = lines[0]
+    path = tmp_path / "joined.csv"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 60)
+    monkeypatch.setattr(forking, "cores", lambda: 2)
+    shared = runner.invoke(app, ["reduce", str(path), "--csv"])
+    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 100_000)
+    whole = runner.invoke(app, ["reduce", str(path), "--csv"])
+    assert shared.exit_code == whole.exit_code == 0
+    assert shared.stdout == whole.stdout and len(shared.stdout.splitlines()) == 405
+    assert shared.stderr == whole.stderr and "row 330 repeats the header" in shared.stderr

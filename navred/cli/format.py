@@ -311,13 +311,14 @@ def sight_warning_lines(reduced: pd.DataFrame, labels, rows=None, *, indent: str
     of warning, the rest counted (:func:`by_kind`); None: every one."""
     if not len(reduced):
         return []
-    rows = range(len(reduced)) if rows is None else rows
-    status = reduced["status"].to_numpy()
+    rows = np.arange(len(reduced)) if rows is None else np.asarray(list(rows), dtype=np.intp)
+    status = reduced["status"].to_numpy(dtype=object)
     messages = reduced["message"].to_numpy(dtype=object)
     bodies = reduced["body_name"].to_numpy(dtype=object)
-    entries = [(labels[row], f"{indent}warning: {labels[row]} ({bodies[row]}): {messages[row]}", messages[row])
-               for row in rows if status[row] == SightStatus.WARNING and messages[row]]
-    return by_kind(entries, shown, indent=indent)
+    picked = rows[np.asarray(status[rows] == SightStatus.WARNING, dtype=bool)].tolist()
+    entries = [(labels[row], row, messages[row]) for row in picked if messages[row]]
+    return by_kind(entries, shown, indent=indent,
+                   line_of=lambda row: f"{indent}warning: {labels[row]} ({bodies[row]}): {messages[row]}")
 
 
 def sight_refusal_lines(reduced: pd.DataFrame, labels, *, shown: int | None = None) -> list[str]:
@@ -325,12 +326,13 @@ def sight_refusal_lines(reduced: pd.DataFrame, labels, *, shown: int | None = No
     counting by kind)."""
     if not len(reduced):
         return []
-    status = reduced["status"].to_numpy()
+    status = reduced["status"].to_numpy(dtype=object)
     messages = reduced["message"].to_numpy(dtype=object)
     bodies = reduced["body_name"].to_numpy(dtype=object)
-    entries = [(labels[row], f"not reduced: {labels[row]} ({bodies[row] or '?'}): {messages[row]}", messages[row])
-               for row in range(len(reduced)) if status[row] == SightStatus.ERROR]
-    return by_kind(entries, shown)
+    entries = [(labels[row], row, messages[row])
+               for row in np.flatnonzero(np.asarray(status == SightStatus.ERROR, dtype=bool)).tolist()]
+    return by_kind(entries, shown,
+                   line_of=lambda row: f"not reduced: {labels[row]} ({bodies[row] or '?'}): {messages[row]}")
 
 
 def reduced_count_lines(count) -> list[str]:
@@ -373,22 +375,30 @@ WARNINGS_SHOWN = 3
 WARNINGS_LISTED = 30
 
 
-def by_kind(entries: list[tuple[str, str, str]], shown: int | None, *, indent: str = "") -> list[str]:
+def by_kind(entries: list[tuple], shown: int | None, *, indent: str = "", line_of=None) -> list[str]:
     """Lines (label, line, message) as they are (``shown`` None, or no more than :data:`WARNINGS_LISTED`), or by
     kind of message (:func:`refusal_kind`: the values taken out) in the order each kind is first met: the first
     ``shown`` of each kind, then 'and N more like it (rows ...)'. No kind is hidden behind another, however
-    rare."""
+    rare. ``line_of``: each entry's second item is what its line is made from (``line_of(item)``), made only
+    for the lines shown (a long log's hundreds of thousands of warnings are counted, not each written)."""
+    line = (lambda item: item) if line_of is None else line_of
     if shown is None or len(entries) <= WARNINGS_LISTED:  # a day's log lists every one, by its row
-        return [line for _, line, _ in entries]
+        return [line(item) for _, item, _ in entries]
     kinds: dict[str, list] = {}
-    for label, line, message in entries:
-        kinds.setdefault(refusal_kind(message), []).append((label, line))
+    kind_of: dict[str, str] = {}  # each distinct message's kind, worked once (a long log repeats a few)
+    for label, item, message in entries:
+        kind = kind_of.get(message) if isinstance(message, str) else None
+        if kind is None:
+            kind = refusal_kind(message)
+            if isinstance(message, str):
+                kind_of[message] = kind
+        kinds.setdefault(kind, []).append((label, item))
     out = []
     for members in kinds.values():
         if len(members) <= shown + 1:  # never 'and 1 more like it': the line itself is as short
-            out += [line for _, line in members]
+            out += [line(item) for _, item in members]
             continue
-        out += [line for _, line in members[:shown]]
+        out += [line(item) for _, item in members[:shown]]
         if len(members) > shown:
             rest = [str(label) for label, _ in members[shown:]]
             out.append(f"{indent}  and {len(rest)} more like it ({_label_list(rest)})")

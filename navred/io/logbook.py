@@ -80,10 +80,14 @@ from .readers import (
     REJECTED_COLUMNS,
     LogbookError,
     LogSource,
+    NotPlain,
+    PlainBlocks,
+    PlainPart,
     RawTable,
     ReadBudget,
     blank_mask,
     plain_csv_blocks,
+    plain_csv_parts,
     read_table,
 )
 from .timesignals import Ratings
@@ -308,6 +312,15 @@ class LogBlocks:
     def read(self, k: int) -> SightLog:
         return _parse([self.plain.block(k)], [self.layout], self.dates, self.rates)
 
+    def read_part(self, part: PlainPart) -> SightLog:
+        """A block as the file was looked at (:class:`navred.io.readers.PlainPart`), read as :meth:`read` reads
+        it: the same log whether the look at the whole file has ended or not."""
+        return _parse([self.plain.read_part(part)], [self.layout], self.dates, self.rates)
+
+    @property
+    def parts(self) -> tuple:
+        return self.plain.parts
+
 
 def sight_log_blocks(source: LogSource, *, dates: str | None = None, block_rows: int = 100_000,
                      rates: Ratings | None = None) -> LogBlocks | None:
@@ -331,6 +344,87 @@ def sight_log_blocks(source: LogSource, *, dates: str | None = None, block_rows:
     if not labels or plain.any_blank(labels) or "entry" in layout.keys or not dr_given or plain.any_blank(dr_given):
         return None
     return LogBlocks(plain, layout, dates, rates)
+
+
+class NotInBlocks(Exception):
+    """(raised by :attr:`FoundBlocks.parts`) the look at the whole file found that the log must be read whole, or
+    in blocks only after a closer look (:func:`sight_log_blocks` says which): what was made of the first blocks is
+    to be dropped."""
+
+
+@dataclass
+class FoundBlocks:
+    """A long plain log whose blocks are handed out as the file is looked at (:func:`sight_log_blocks_found`):
+    :attr:`plan` reads any block it is given (:meth:`LogBlocks.read_part`); iterating :attr:`parts` gives the
+    first ``early`` blocks as soon as they are found, then looks at the rest of the file and gives the other
+    blocks, or raises :class:`NotInBlocks` when the file turns out not to be one to read in blocks (a blank fix
+    group or DR, a line that is not plain, a log of one block): the same decision as :func:`sight_log_blocks`,
+    taken before any block's result is used."""
+
+    plan: LogBlocks
+    parts: Iterator[PlainPart]
+
+    @property
+    def notes(self) -> list[str]:
+        return self.plan.notes
+
+
+def sight_log_blocks_found(source: LogSource, *, dates: str | None = None, block_rows: int = 100_000,
+                           rates: Ratings | None = None, early: int = 2) -> FoundBlocks | None:
+    """A log's blocks handed out as the file is looked at (see :class:`FoundBlocks`), so that the first
+    ``early`` blocks can be worked while the rest of the file is looked at; None when the file's header and first
+    block already say it is not one to read so (then :func:`sight_log_blocks` decides, as for any log). The
+    blocks are those :func:`sight_log_blocks` gives (tested)."""
+    if dates is not None and dates not in DATE_ORDERS:
+        raise LogbookError(f"dates {dates!r} is not one of {', '.join(DATE_ORDERS)}")
+    found = plain_csv_parts(source, block_rows) if isinstance(source, (str, Path)) and Path(source).is_file() \
+        else None
+    if found is None:
+        return None
+    head, looked = found
+    try:
+        first = next(looked, None)
+    except NotPlain:
+        return None
+    if first is None or first.count < block_rows:
+        return None  # one block: read whole
+    try:
+        table = PlainBlocks.of_parts(head, [first]).block(0)
+        layout = _layout(table)
+        if layout.problems:
+            return None
+        _check_is_log(table, layout.keys)
+    except LogbookError:
+        return None  # refused as sight_log_blocks refuses it
+    labels, dr_given = layout.keys.get("fix_group"), layout.keys.get("dr_lat")
+    if not labels or "entry" in layout.keys or not dr_given:
+        return None
+
+    def clearly_given(part: PlainPart) -> bool:  # no line of the block leaves its fix group or its DR blank
+        return not (part.blank_columns[labels].any() or part.blank_columns[dr_given].any())
+
+    if not clearly_given(first):
+        return None
+    plan = LogBlocks(head, layout, dates, rates)
+
+    def parts() -> Iterator[PlainPart]:
+        yield first
+        seen = [first]
+        try:
+            for part in looked:
+                seen.append(part)
+                if not clearly_given(part):
+                    raise NotInBlocks
+                if len(seen) <= early:
+                    yield part
+        except NotPlain:
+            raise NotInBlocks from None
+        if len(seen) == 1:
+            raise NotInBlocks  # a log of exactly one block: read whole, as sight_log_blocks reads it
+        plan.plain = PlainBlocks.of_parts(head, seen)  # (the whole file looked at)
+        yield from seen[max(early, 1):]
+
+    return FoundBlocks(plan, parts())
 
 
 #: The sight's own columns a mark row (a bearing or range of a charted object) leaves blank.
@@ -831,7 +925,8 @@ def _unique(header: list[str]) -> list[str]:
     return out
 
 
-__all__ = ["read_sight_log", "read_sight_log_blocks", "sight_log_blocks", "LogBlocks", "frame_blocks",
+__all__ = ["read_sight_log", "read_sight_log_blocks", "sight_log_blocks", "LogBlocks", "sight_log_blocks_found",
+           "FoundBlocks", "NotInBlocks", "frame_blocks",
            "frame_texts", "read_frame_block", "whole_log_columns", "SightLog", "LogbookError",
            "LogSource", "REJECTED_COLUMNS", "SIGHT_COLUMNS", "ENTRY_COLUMNS", "DEFAULT_GROUP_GAP_HOURS",
            "TIME_AGREEMENT_S", "MAX_REASONS_PER_ROW", "with_decimal_point"]

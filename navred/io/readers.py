@@ -436,6 +436,30 @@ def _plain_table(source: str, text: str, first: int, separator: str) -> RawTable
     return _plain_block(source, header, data, first + 2, separator)
 
 
+@dataclass(frozen=True)
+class PlainPart:
+    """One block of a long plain CSV log as the file was looked at: where its lines are in the file, how many
+    there are, its digest, and what the look found in them (its blank lines, its longest line, the columns
+    some line of it that is not blank leaves blank). A block is read by these alone
+    (:meth:`PlainBlocks.read_part`), so it can be handed to another process as soon as the look has passed it."""
+
+    #: the block's number (from 0)
+    k: int
+    #: the byte offset of its first line, and of the line after its last
+    start: int
+    stop: int
+    #: its lines
+    count: int
+    #: its bytes' digest (:func:`_block_digest`)
+    digest: bytes
+    #: its blank lines
+    blank_lines: int
+    #: its longest line, in bytes
+    longest: int
+    #: whether some line of it that is not blank leaves each column blank (columns by index)
+    blank_columns: np.ndarray
+
+
 @dataclass
 class PlainBlocks:
     """A plain CSV log to be read in blocks of ``rows`` lines: the byte offset in the file where each block
@@ -462,6 +486,19 @@ class PlainBlocks:
     digests: tuple = ()
     #: each block's blank lines, as looked at
     blank_lines: np.ndarray | None = None
+    #: each block as looked at (:class:`PlainPart`)
+    parts: tuple = ()
+
+    @classmethod
+    def of_parts(cls, head: PlainBlocks, parts: Sequence[PlainPart]) -> PlainBlocks:
+        """The blocks of a file whose header is ``head``'s, from its parts as looked at."""
+        width = len(head.header)
+        return cls(head.source, head.header, head.separator,
+                   np.array([p.start for p in parts] + [parts[-1].stop if parts else 0], dtype=np.int64),
+                   np.array([p.count for p in parts], dtype=np.int64), head.first_row_number, head.rows,
+                   np.any([p.blank_columns for p in parts], axis=0) if parts else np.zeros(width, dtype=bool),
+                   max((p.longest for p in parts), default=0), head.crlf, tuple(p.digest for p in parts),
+                   np.array([p.blank_lines for p in parts], dtype=np.int64), tuple(parts))
 
     @property
     def n_lines(self) -> int:
@@ -474,8 +511,8 @@ class PlainBlocks:
         return bool(self.blank_columns[columns].all()) and self._all_blank_somewhere(columns)
 
     def _all_blank_somewhere(self, columns: list[int]) -> bool:
-        for k in range(len(self)):
-            for line in self._lines(k):
+        for part in self.parts:
+            for line in self._lines(part):
                 if not line.replace(self.separator, "").strip():
                     continue
                 cells = line.split(self.separator)
@@ -487,12 +524,12 @@ class PlainBlocks:
         """The number of blocks."""
         return len(self.counts)
 
-    def _lines(self, k: int) -> list[str]:
+    def _lines(self, part: PlainPart) -> list[str]:
         with open(self.source, "rb") as handle:
-            handle.seek(int(self.offsets[k]))
-            data = handle.read(int(self.offsets[k + 1] - self.offsets[k]))
+            handle.seek(part.start)
+            data = handle.read(part.stop - part.start)
         # the very bytes looked at (the same digest) were found plain, their lines counted: not looked at again
-        same = len(self.digests) > k and _block_digest_of(data) == self.digests[k]
+        same = _block_digest_of(data) == part.digest
         try:
             text = data.decode("utf-8")
         except UnicodeDecodeError:
@@ -500,22 +537,24 @@ class PlainBlocks:
         lines = text.split("\r\n" if self.crlf else "\n") if text is not None else []
         if lines and lines[-1] == "":
             lines.pop()
-        if not same and (len(self.digests) > k or text is None or len(lines) != self.counts[k] or '"' in text
-                         or _BAD_TEXT.search(text) is not None
-                         or text.count("\r") != (text.count("\r\n") if self.crlf else 0)):
+        if not same:
             raise LogbookError(f"{self.source} changed while it was being read: read it again")
         return lines
 
     def block(self, k: int) -> RawTable:
         """Block ``k`` (from 0) as a table of its rows, numbered as in the file, read from the file now."""
-        lines = self._lines(k)
-        table = _plain_block(self.source, list(self.header), lines, self.first_row_number + k * self.rows,
-                             self.separator, short_lines=self.longest_line <= MAX_CELL_CHARS,
-                             no_blank=self.blank_lines is not None and self.blank_lines[k] == 0)
+        return self.read_part(self.parts[k])
+
+    def read_part(self, part: PlainPart) -> RawTable:
+        """A block as looked at (:class:`PlainPart`) as a table of its rows, numbered as in the file, read from
+        the file now (by its own look: the same table whatever the other blocks hold)."""
+        lines = self._lines(part)
+        table = _plain_block(self.source, list(self.header), lines, self.first_row_number + part.k * self.rows,
+                             self.separator, short_lines=part.longest <= MAX_CELL_CHARS, no_blank=part.blank_lines == 0)
         if table is None:  # every line's fields were counted when the file was looked at
             raise LogbookError(f"{self.source} changed while it was being read: read it again")
-        if len(self.digests) > k:  # the very bytes looked at: the columns no line left blank hold no blank cell
-            table.filled_columns = frozenset(np.flatnonzero(~self.blank_columns).tolist())
+        # the very bytes looked at: the columns no line of the block left blank hold no blank cell
+        table.filled_columns = frozenset(np.flatnonzero(~part.blank_columns).tolist())
         return table
 
     def __iter__(self):
@@ -524,9 +563,13 @@ class PlainBlocks:
 
 
 #: bytes of a long plain log looked at a time (the file is never held whole)
-SCAN_BYTES = 8 * 1024 * 1024
+SCAN_BYTES = 2 * 1024 * 1024
 _BAD_BYTES = re.compile(rb'["\r\x00-\x08\x0b\x0c\x0e-\x1f\x7f]')
 
+
+class NotPlain(Exception):
+    """(raised while a file is looked at by :func:`plain_csv_parts`) the file is not a plain CSV log to be read
+    in blocks: read it whole."""
 
 
 def plain_csv_blocks(path: str | Path, rows: int) -> PlainBlocks | None:
@@ -536,6 +579,23 @@ def plain_csv_blocks(path: str | Path, rows: int) -> PlainBlocks | None:
     of fields: read it whole with :func:`read_table` then. The file is looked at a piece at a time
     (:data:`SCAN_BYTES`): its lines' fields counted, the blank cells of each column noted, and where each
     block begins; no line of it is kept."""
+    found = plain_csv_parts(path, rows)
+    if found is None:
+        return None
+    head, looked = found
+    try:
+        parts = list(looked)
+    except NotPlain:
+        return None
+    return PlainBlocks.of_parts(head, parts) if parts else None
+
+
+def plain_csv_parts(path: str | Path, rows: int):
+    """(the file's header as a :class:`PlainBlocks` of no block yet, its blocks as the look at the file finds
+    them: an iterator of :class:`PlainPart`, which raises :class:`NotPlain` where the file is found not to be
+    a plain CSV log or too long), or None when its first lines say so already. :func:`plain_csv_blocks` is
+    the blocks found whole; a block may be handed out as soon as it is found (``navred reduce --csv``: the
+    first blocks are worked while the rest of the file is looked at)."""
     path = Path(path)
     if not path.is_file() or path.suffix.lower() in (".xlsx", ".xlsm"):
         return None
@@ -544,111 +604,104 @@ def plain_csv_blocks(path: str | Path, rows: int) -> PlainBlocks | None:
         return None  # read_table gives the refusal
     with open(path, "rb") as handle:
         head = handle.read(min(size, SCAN_BYTES))
-        if head.startswith((b"PK", b"\x1f\x8b", b"\xff\xfe", b"\xfe\xff")):
-            return None
-        start = 3 if head.startswith(b"\xef\xbb\xbf") else 0
-        header_end, first, header_line = start, 0, None
-        while True:  # the first line that is not blank is the header
-            end = head.find(b"\n", header_end)
-            if end < 0:
-                return None
-            line = head[header_end:end]
-            if line.strip().strip(b",;\t"):
-                header_line = line
-                header_end = end + 1
-                break
-            header_end, first = end + 1, first + 1
-        crlf = header_line.endswith(b"\r")  # every line must then end so (a file of mixed line ends is read whole)
-        if crlf:
-            header_line = header_line[:-1]
-        if _BAD_BYTES.search(header_line):
-            return None
-        try:
-            header_text = header_line.decode("utf-8")
-        except UnicodeDecodeError:
-            return None
-        if not header_text.strip().strip(",;\t"):
-            return None  # (a line of spaces beyond ASCII: the careful reader decides)
-        separator = _choose_separator(header_text)
-        header = [h.strip() for h in header_text.split(separator)]
-        if not header or header[-1] == "":
-            return None
-        _check_width(str(path), header)
-        handle.seek(header_end)
-        scan = _scan_plain_lines(handle, separator.encode(), len(header), rows, header_end, crlf)
-    if scan is None:
+    if head.startswith((b"PK", b"\x1f\x8b", b"\xff\xfe", b"\xfe\xff")):
         return None
-    offsets, counts, blank_columns, longest, digests, blank_lines = scan
-    if counts.sum() > MAX_ROWS or counts.sum() == 0:
-        return None
-    return PlainBlocks(str(path), header, separator, offsets, counts, first + 2, rows, blank_columns, longest, crlf,
-                       tuple(digests), blank_lines)
-
-
-def _scan_plain_lines(handle, separator: bytes, width: int, rows: int, position: int, crlf: bool = False):
-    """(block offsets, lines per block, the columns some non-blank line leaves blank, the longest line, each
-    block's digest, each block's blank lines) of the lines from ``position`` on, looked at :data:`SCAN_BYTES`
-    at a time; None when a line is not plain or has another number of fields than the header. ``crlf``: every
-    line ends with a carriage return before its line feed (None when one does not)."""
-    code = separator[0]
-    offsets, lines_seen, carry = [position], 0, b""
-    blank_columns = np.zeros(width, dtype=bool)
-    longest = 0
-    digests, digest = [], _block_digest()
-    blank_lines: list[np.ndarray] = []
-    while True:
-        chunk = handle.read(SCAN_BYTES)
-        data = carry + chunk
-        added = 0
-        if not chunk:
-            if not data:
-                break
-            added = 2 if crlf else 1
-            data += b"\r\n" if crlf else b"\n"  # a last line without its line end (not in the file: not digested)
-        cut = data.rfind(b"\n") + 1
-        body, carry = data[:cut], data[cut:]
-        if not body:
-            continue
-        codes = np.frombuffer(body, dtype=np.uint8)
-        returns = body.count(b"\r\n") if crlf else 0
-        if b'"' in body or b"\x7f" in body or (crlf and returns != body.count(b"\n")) or \
-                np.count_nonzero(codes < 32) != body.count(b"\n") + body.count(b"\t") + returns:
-            return None  # a quote, a lone carriage return or another control character: not plain
-        try:
-            body.decode("utf-8")
-        except UnicodeDecodeError:
+    start = 3 if head.startswith(b"\xef\xbb\xbf") else 0
+    header_end, first, header_line = start, 0, None
+    while True:  # the first line that is not blank is the header
+        end = head.find(b"\n", header_end)
+        if end < 0:
             return None
-        looked = _look_at_lines(codes, code, width, body, crlf)
-        if looked is None:
-            return None
-        ends, blanks, lengths, blank_line = looked
-        blank_columns |= blanks
-        blank_lines.append(lines_seen + np.flatnonzero(blank_line))
-        longest = max(longest, int(lengths.max(initial=0)))
-        # where each block begins: after every rows-th line
-        firsts = np.arange((-lines_seen) % rows, ends.size, rows)
-        firsts = firsts[firsts > 0] if lines_seen == 0 else firsts
-        starts = np.concatenate([[0], ends[:-1] + 1])
-        offsets.extend((position + starts[firsts]).tolist())
-        at = 0
-        for cut in starts[firsts].tolist():  # each block's bytes digested as they pass (a new block at each cut)
-            digest.update(body[at:cut])
-            digests.append(digest.digest())
-            digest, at = _block_digest(), cut
-        digest.update(body[at:len(body) - added])
-        lines_seen += ends.size
-        position += len(body)
-        if not chunk:
+        line = head[header_end:end]
+        if line.strip().strip(b",;\t"):
+            header_line = line
+            header_end = end + 1
             break
-    offsets.append(position)
-    digests.append(digest.digest())
-    counts = np.diff(np.arange(0, lines_seen + rows, rows).clip(max=lines_seen))
-    counts = counts[counts > 0]
-    if len(offsets) != counts.size + 1 or len(digests) != counts.size:
+        header_end, first = end + 1, first + 1
+    crlf = header_line.endswith(b"\r")  # every line must then end so (a file of mixed line ends is read whole)
+    if crlf:
+        header_line = header_line[:-1]
+    if _BAD_BYTES.search(header_line):
         return None
-    blank = np.concatenate(blank_lines) if blank_lines else np.zeros(0, dtype=np.int64)
-    return (np.array(offsets, dtype=np.int64), counts, blank_columns, longest, digests,
-            np.bincount(blank // rows, minlength=counts.size))
+    try:
+        header_text = header_line.decode("utf-8")
+    except UnicodeDecodeError:
+        return None
+    if not header_text.strip().strip(",;\t"):
+        return None  # (a line of spaces beyond ASCII: the careful reader decides)
+    separator = _choose_separator(header_text)
+    header = [h.strip() for h in header_text.split(separator)]
+    if not header or header[-1] == "":
+        return None
+    _check_width(str(path), header)
+    blank = np.zeros(len(header), dtype=bool)
+    plan = PlainBlocks(str(path), header, separator, np.zeros(1, dtype=np.int64), np.zeros(0, dtype=np.int64),
+                       first + 2, rows, blank, 0, crlf, (), np.zeros(0, dtype=np.int64), ())
+    return plan, _scan_plain_lines(path, separator.encode(), len(header), rows, header_end, crlf)
+
+
+def _scan_plain_lines(path: Path, separator: bytes, width: int, rows: int, position: int, crlf: bool = False):
+    """Each block of ``rows`` lines from ``position`` on (a :class:`PlainPart`) as the file is looked at
+    (:data:`SCAN_BYTES` at a time), yielded as soon as its last line has been looked at; raises
+    :class:`NotPlain` when a line is not plain or has another number of fields than the header, or the file
+    holds more than :data:`MAX_ROWS` lines. ``crlf``: every line ends with a carriage return before its line
+    feed (not plain when one does not)."""
+    code = separator[0]
+    lines_seen, carry = 0, b""
+    k, start, in_block, digest = 0, position, 0, _block_digest()
+    blank_columns, longest, blanks = np.zeros(width, dtype=bool), 0, 0
+    with open(path, "rb") as handle:
+        handle.seek(position)
+        while True:
+            chunk = handle.read(SCAN_BYTES)
+            data = carry + chunk
+            added = 0
+            if not chunk:
+                if not data:
+                    break
+                added = 2 if crlf else 1
+                data += b"\r\n" if crlf else b"\n"  # a last line without its line end (not in the file: not digested)
+            cut = data.rfind(b"\n") + 1
+            body, carry = data[:cut], data[cut:]
+            if not body:
+                continue
+            codes = np.frombuffer(body, dtype=np.uint8)
+            returns = body.count(b"\r\n") if crlf else 0
+            if b'"' in body or b"\x7f" in body or (crlf and returns != body.count(b"\n")) or \
+                    np.count_nonzero(codes < 32) != body.count(b"\n") + body.count(b"\t") + returns:
+                raise NotPlain  # a quote, a lone carriage return or another control character: not plain
+            try:
+                body.decode("utf-8")
+            except UnicodeDecodeError:
+                raise NotPlain from None
+            looked = _look_at_lines(codes, code, width, body, crlf)
+            if looked is None:
+                raise NotPlain
+            feeds, empty, kept, lengths, blank_line = looked
+            lines_seen += feeds.size
+            if lines_seen > MAX_ROWS:
+                raise NotPlain  # read_table gives the refusal
+            line, at = 0, 0
+            while line < feeds.size:  # the lines of this piece, block by block
+                take = min(rows - in_block, feeds.size - line)
+                end = int(feeds[line + take - 1]) + 1
+                digest.update(body[at:min(end, len(body) - added)])
+                first_kept, last_kept = np.searchsorted(kept, [line, line + take])
+                if last_kept > first_kept:
+                    blank_columns |= empty[first_kept:last_kept].any(axis=0)
+                longest = max(longest, int(lengths[line:line + take].max()))
+                blanks += int(np.count_nonzero(blank_line[line:line + take]))
+                in_block, line, at = in_block + take, line + take, end
+                if in_block == rows:
+                    yield PlainPart(k, start, position + end, in_block, digest.digest(), blanks, longest,
+                                    blank_columns)
+                    k, start, in_block, digest = k + 1, position + end, 0, _block_digest()
+                    blank_columns, longest, blanks = np.zeros(width, dtype=bool), 0, 0
+            position += len(body)
+            if not chunk:
+                break
+    if in_block:
+        yield PlainPart(k, start, position, in_block, digest.digest(), blanks, longest, blank_columns)
 
 
 def _block_digest_of(data: bytes) -> bytes:
@@ -663,8 +716,8 @@ def _block_digest():
 
 
 def _look_at_lines(data: np.ndarray, separator: int, width: int, body: bytes, crlf: bool = False):
-    """(each line's end, the columns some non-blank line leaves blank, each line's length, whether each line is
-    blank) of whole lines of
+    """(each line's end, which fields of each line that is not blank are blank, those lines' indices, each
+    line's length, whether each line is blank) of whole lines of
     bytes; None when a line that is not blank has another number of fields than ``width``. Bytes are
     counted between bounds from the sorted positions of the few kinds that matter (separators, spaces,
     bytes beyond ASCII), never byte by byte in Python. ``crlf``: each line feed follows a carriage return,
@@ -693,8 +746,8 @@ def _look_at_lines(data: np.ndarray, separator: int, width: int, body: bytes, cr
             blank_line[k] = not line.replace(chr(separator), "").strip()
     if np.any(fields[~blank_line] != width - 1):
         return None
-    blanks = np.zeros(width, dtype=bool)
     kept = np.flatnonzero(~blank_line)
+    empty = np.zeros((kept.size, width), dtype=bool)
     if kept.size and width > 1:
         # every kept line has width-1 separators: the fields' bounds line by line
         first_sep = np.searchsorted(where, starts[kept])
@@ -713,8 +766,7 @@ def _look_at_lines(data: np.ndarray, separator: int, width: int, body: bytes, cr
                 for i_, j_, a_, b_ in zip(i.tolist(), j.tolist(), a.tolist(), b.tolist()):
                     if not empty[i_, j_] and count(wide_at, a_, b_):
                         empty[i_, j_] = not body[a_:b_].decode("utf-8").strip()
-        blanks = empty.any(axis=0)
-    return feeds, blanks, lengths, blank_line
+    return feeds, empty, kept, lengths, blank_line
 
 
 def _records(reader, path, first) -> list[list[str]]:
@@ -1185,5 +1237,5 @@ def _blank_mask(column: pd.Series) -> np.ndarray:
     return missing
 
 
-__all__ = ["RawTable", "read_table", "ReadBudget", "column_letter", "check_input_file", "plain_csv_blocks", "PlainBlocks", "blank_mask", "LogbookError", "MissingFormulaValue", "MAX_FILE_BYTES",
+__all__ = ["RawTable", "read_table", "ReadBudget", "column_letter", "check_input_file", "plain_csv_blocks", "plain_csv_parts", "PlainBlocks", "PlainPart", "NotPlain", "blank_mask", "LogbookError", "MissingFormulaValue", "MAX_FILE_BYTES",
            "MAX_ROWS", "MAX_COLUMNS", "MAX_CELL_CHARS", "MAX_FRAME_ROWS"]

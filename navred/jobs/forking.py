@@ -15,6 +15,7 @@ ends itself when the process that forked it is gone (a run stopped by a signal l
 from __future__ import annotations
 
 import functools
+import itertools
 import multiprocessing
 import os
 import sys
@@ -70,10 +71,12 @@ def forked_map(function: Callable[[Any, Any], Any], items: Iterable[Any], *, con
     """``function(context, item)`` for each item, in order, worked by up to ``workers`` forked processes.
 
     ``function`` must be a module-level function (it is sent by name); ``context`` is inherited by
-    the processes, never sent."""
-    items = list(items)
+    the processes, never sent. ``items`` is taken as it comes (an iterator's next item only when a process is
+    free for it, or a few ahead), so an item may be found while the first ones are worked."""
+    following = iter(items)
+    handed: list = []  # the items handed to the processes, in order
     done = 0
-    workers = max(1, min(int(workers), MAX_WORKERS, len(items)))
+    workers = max(1, min(int(workers), MAX_WORKERS, len(items) if hasattr(items, "__len__") else MAX_WORKERS))
     if workers > 1 and can_fork():
         from concurrent.futures import ProcessPoolExecutor
         from concurrent.futures.process import BrokenProcessPool
@@ -83,8 +86,8 @@ def forked_map(function: Callable[[Any, Any], Any], items: Iterable[Any], *, con
                                    initializer=_end_with_parent, initargs=(os.getpid(),))
         try:
             pending: deque = deque()
-            following = iter(items)
             for item in following:
+                handed.append(item)
                 pending.append(pool.submit(_run, function, item))
                 if len(pending) > workers:
                     break
@@ -95,6 +98,7 @@ def forked_map(function: Callable[[Any, Any], Any], items: Iterable[Any], *, con
                 done += 1
                 yield result
                 for item in following:  # one more handed out for each one handed back
+                    handed.append(item)
                     pending.append(pool.submit(_run, function, item))
                     break
         except BrokenProcessPool:
@@ -103,7 +107,7 @@ def forked_map(function: Callable[[Any, Any], Any], items: Iterable[Any], *, con
             # the pieces not yet started are dropped when the reader stops early (a closed pipe, an error)
             pool.shutdown(wait=True, cancel_futures=True)
             _CONTEXT.clear()
-    for item in items[done:]:
+    for item in itertools.chain(handed[done:], following):
         yield function(context, item)
 
 

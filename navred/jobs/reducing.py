@@ -12,11 +12,21 @@ from dataclasses import dataclass
 import pandas as pd
 
 from ..errors import NavredError
-from ..io.logbook import LogBlocks, LogSource, SightLog, read_sight_log, sight_log_blocks
+from ..io.logbook import (
+    LogBlocks,
+    LogSource,
+    NotInBlocks,
+    SightLog,
+    read_sight_log,
+    sight_log_blocks,
+    sight_log_blocks_found,
+)
 from ..io.output import csv_bytes
+from ..io.readers import PlainPart
 from ..io.timesignals import Ratings
 from ..status import SightStatus
-from .forking import cores, forked_map
+from . import forking
+from .forking import forked_map
 from .sights import reduce_sights
 from .voyage import process_log
 
@@ -122,12 +132,12 @@ class ReducedCount:
                             tuple(dict.fromkeys((*self.notes, *other.notes))))
 
 
-def _block_csv(plan: LogBlocks, k: int) -> tuple[bytes, ReducedCount]:
-    """Block ``k`` of a long log read, reduced and written as CSV (UTF-8; the header with the first), with what
-    its reduction came to."""
-    log = plan.read(k)
+def _block_csv(plan: LogBlocks, part: PlainPart) -> tuple[bytes, ReducedCount]:
+    """A block of a long log (as the file was looked at) read, reduced and written as CSV (UTF-8; the header
+    with the first), with what its reduction came to."""
+    log = plan.read_part(part)
     reduced = reduced_sights(log)
-    return csv_bytes(reduced, header=k == 0), ReducedCount.of(reduced, log.empty_rows, log.notes)
+    return csv_bytes(reduced, header=part.k == 0), ReducedCount.of(reduced, log.empty_rows, log.notes)
 
 
 @dataclass(frozen=True)
@@ -140,6 +150,8 @@ class ReducedCsv:
     #: the long log's blocks, or None when the log was read whole (``whole``)
     plan: LogBlocks | None
     whole: ReducedLog | None
+    #: the blocks' results as they come (the first blocks' work begun while the file was being looked at)
+    results: Iterator[tuple[bytes, ReducedCount]] | None = None
 
     @property
     def notes(self) -> tuple[str, ...]:
@@ -152,7 +164,34 @@ class ReducedCsv:
         if self.whole is not None:
             yield csv_bytes(self.whole.reduced), ReducedCount.of(self.whole.reduced, self.whole.log.empty_rows)
             return
-        yield from forked_map(_block_csv, range(len(self.plan)), context=self.plan, workers=cores())
+        if self.results is not None:
+            yield from self.results
+            return
+        yield from forked_map(_block_csv, self.plan.parts, context=self.plan, workers=forking.cores())
+
+
+def _found_csv(source: LogSource, dates: str | None, rates: Ratings | None) -> ReducedCsv | None:
+    """A long plain log's blocks reduced as the file is looked at: the first blocks go to the cores as soon as
+    they are found, while this process looks at the rest of the file (:func:`sight_log_blocks_found`). The
+    results are used only once the whole file has been looked at and found to be one to read in blocks; None
+    otherwise (what was made of the first blocks dropped), or on one core."""
+    workers = forking.cores()
+    if workers < 2 or not forking.can_fork():
+        return None
+    found = sight_log_blocks_found(source, dates=dates, rates=rates, block_rows=REDUCE_BLOCK_ROWS, early=workers)
+    if found is None:
+        return None
+    results = forked_map(_block_csv, found.parts, context=found.plan, workers=workers)
+    try:
+        first = next(results)  # (the whole file has been looked at before the first block is handed back)
+    except NotInBlocks:
+        return None
+
+    def every() -> Iterator[tuple[bytes, ReducedCount]]:
+        yield first
+        yield from results
+
+    return ReducedCsv(rates, found.plan, None, every())
 
 
 def reduce_log_csv(source: LogSource, *, dates: str | None = None, rates: Ratings | None = None,
@@ -161,6 +200,10 @@ def reduce_log_csv(source: LogSource, *, dates: str | None = None, rates: Rating
     by block (:data:`REDUCE_BLOCK_ROWS` rows each, shared among the cores): the same text as one process
     reading the log whole (tested). With ``navigators`` the log is read whole (the ship's fixes anywhere in it
     carry each sight's DR)."""
+    if not navigators:
+        found = _found_csv(source, dates, rates)
+        if found is not None:
+            return found
     plan = None if navigators else sight_log_blocks(source, dates=dates, rates=rates, block_rows=REDUCE_BLOCK_ROWS)
     return ReducedCsv(rates, plan, reduce_log(source, dates=dates, rates=rates, navigators=navigators)
                       if plan is None else None)

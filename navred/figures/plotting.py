@@ -330,10 +330,9 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
         if xs_leg.size >= 2:
             sheet.line(xs_leg.tolist(), ys_leg.tolist(), INK, 1.1, dash=(5.0, 3.0), kind="dr leg")
             lines.extend(segment_boxes(xs_leg[:-1], ys_leg[:-1], xs_leg[1:], ys_leg[1:], 1.0))
-    arrow_nm = 0.06 * max(chart.width_nm, chart.height_nm) / 1.0  # an arrow this long stands for one knot
     placer = Placer()
     labels = _voyage_known_positions(sheet, placer, chart, track, days.ellipse_scales) if track is not None else []
-    labels += _voyage_marks(sheet, placer, chart, fixes, estimated, noons, arrow_nm, lines)
+    labels += _voyage_marks(sheet, placer, chart, fixes, estimated, noons, lines)
     frame = (chart.ax0 + 2, chart.ay0 + 2, chart.ax1 - 2, chart.ay1 - 2)
     unplaced = []
     for text, colour, x, y in labels:  # the plotting sheets' rule: beside, else nearest with a leader, else smaller
@@ -353,7 +352,7 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
                    kind="mark list")
     sheet.line([chart.ax0, chart.ax1, chart.ax1, chart.ax0, chart.ax0],
                [chart.ay0, chart.ay0, chart.ay1, chart.ay1, chart.ay0], INK, 0.8)
-    _voyage_key(sheet, chart, arrow_nm)
+    _voyage_key(sheet, chart)
     return sheet
 
 
@@ -433,38 +432,64 @@ def _voyage_known_positions(sheet, placer, chart: _VoyageChart, track, scales: d
     return labels
 
 
-def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, arrow_nm: float,
-                  lines: list | None = None) -> list:
-    """The set and drift arrows at the fixes (their boxes added to ``lines``), the estimated positions and the
-    noon positions; their labels."""
+def ep_label(ep: str, note: str = "") -> str:
+    """An estimated position's label on the voyage picture: its name as everywhere else, the time first ('EP 22:00
+    from one Sun line, row 4'), and where its sights carry a warning, the rows whose warnings to read (each warning
+    names its row, in every output): '(see row 4's warning)'."""
+    import re
+
+    named = re.fullmatch(r"EP from (.*), (\d\d:\d\d) UTC", str(ep))
+    text = f"EP {named.group(2)} from {named.group(1)}" if named else str(ep)
+    warned = list(dict.fromkeys(re.findall(r"(?:^|; )row (\d+):", note)))
+    if len(warned) == 1:
+        text += f" (see row {warned[0]}'s warning)"
+    elif warned:
+        text += f" (see the warnings of rows {', '.join(warned)})"
+    return text
+
+
+def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, lines: list | None = None) -> list:
+    """The DR's gap to each fix (an arrow from the DR kept at the fix's time to the fix, to the chart's scale;
+    its box added to ``lines``), the estimated positions and the noon positions; their labels."""
     labels = []
     for f in fixes.to_dict("records"):
         if not np.isfinite(f["set_deg"]):
             continue
-        fx, fy = chart.plane(f["fix_lat_deg"], f["fix_lon_deg"])
-        # the arrow is the current the DR missed, the way the gap from the DR kept to the fix runs: where the DR
-        # carried a current, the unaccounted rest, labelled with the whole current it completes
+        # the gap from the DR kept to the fix, drawn where it lies (common practice: the current is the vector
+        # from the DR to the fix at the same time): where the DR carried a current, the unaccounted rest, labelled
+        # with the whole current it completes
         split = bool(f.get("current_in_dr")) and f.get("unaccounted_drift_kn") == f.get("unaccounted_drift_kn")
         set_deg, drift_kn = ((f["unaccounted_set_deg"], f["unaccounted_drift_kn"]) if split
                              else (f["set_deg"], f["drift_kn"]))
-        length = drift_kn * arrow_nm
-        turn = math.radians(set_deg)
-        tx, ty = float(fx) + length * math.sin(turn), float(fy) + length * math.cos(turn)
-        (sx, sy), (ex_, ey_) = chart.page(float(fx), float(fy)), chart.page(tx, ty)
-        sheet.line([float(sx), float(ex_)], [float(sy), float(ey_)], CHART, 1.6, kind="set and drift")
-        if lines is not None:
-            lines.append(segment_box(float(sx), float(sy), float(ex_), float(ey_), 4.0))
-        back = math.atan2(float(sy) - float(ey_), float(sx) - float(ex_))
-        head = [(float(ex_) + 6 * math.cos(back + s), float(ey_) + 6 * math.sin(back + s)) for s in (0.45, -0.45)]
-        sheet.polygon([float(ex_), head[0][0], head[1][0]], [float(ey_), head[0][1], head[1][1]], fill=CHART,
-                      outline=CHART, width=0.5, kind="set and drift")
-        labels.append((f"missed {set_deg:03.0f}° {drift_kn:.1f} kn (current {f['set_deg']:03.0f}° {f['drift_kn']:.1f}, "
-                       f"{f['current_in_dr']} {f['dr_set_deg']:03.0f}° {f['dr_drift_kn']:.1f})" if split
-                       else f"current {set_deg:03.0f}° {drift_kn:.1f} kn", CHART, float(ex_), float(ey_)))
+        gap_nm = drift_kn * f["hours"]
+        sx, sy = chart.at(f["kept_dr_lat_deg"], f["kept_dr_lon_deg"])
+        fx, fy = chart.at(f["fix_lat_deg"], f["fix_lon_deg"])
+        length = math.hypot(fx - sx, fy - sy)
+        if length >= 4.0:  # under 4 points the arrow is a blot: the label says the gap
+            # the head stops at the fix's ring where the arrow is long enough to spare it
+            stop = min(5.0, max(length - 8.0, 0.0)) / length
+            ex_, ey_ = fx - (fx - sx) * stop, fy - (fy - sy) * stop
+            sheet.line([sx, ex_], [sy, ey_], CHART, 1.6, kind="set and drift")
+            if lines is not None:
+                lines.append(segment_box(sx, sy, ex_, ey_, 4.0))
+            back = math.atan2(sy - ey_, sx - ex_)
+            size = min(6.0, length * 0.5)
+            head = [(ex_ + size * math.cos(back + a), ey_ + size * math.sin(back + a)) for a in (0.45, -0.45)]
+            sheet.polygon([ex_, head[0][0], head[1][0]], [ey_, head[0][1], head[1][1]], fill=CHART,
+                          outline=CHART, width=0.5, kind="set and drift")
+        gap = f"DR to fix {gap_nm:.1f} nm in {f['hours']:.1f} h"
+        if split:
+            whole = (f"current {f['set_deg']:03.0f}° {f['drift_kn']:.1f}, {f['current_in_dr']} "
+                     f"{f['dr_set_deg']:03.0f}° {f['dr_drift_kn']:.1f}")
+            text = (f"{gap}: nothing unaccounted ({whole})" if round(drift_kn, 1) == 0.0
+                    else f"{gap}: unaccounted {set_deg:03.0f}° {drift_kn:.1f} kn ({whole})")
+        else:
+            text = f"{gap}: current {set_deg:03.0f}° {drift_kn:.1f} kn"
+        labels.append((text, CHART, (sx + fx) / 2.0, (sy + fy) / 2.0))
     for e in estimated.to_dict("records"):
         px, py = chart.at(e["lat_deg"], e["lon_deg"])
         placer.take(ep_symbol(sheet, px, py))
-        labels.append((f"EP {e['utc'][11:16]}" + (" (see its warning)" if e.get("note") else ""), FIX, px, py))
+        labels.append((ep_label(e["ep"], e.get("note") or ""), FIX, px, py))
     for n in noons.to_dict("records"):
         px, py = chart.at(n["lat_deg"], n["lon_deg"])
         sheet.circle(px, py, 3.2, fill=INK, kind="noon")
@@ -473,15 +498,14 @@ def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, a
     return labels
 
 
-def _voyage_key(sheet, chart: _VoyageChart, arrow_nm: float) -> None:
+def _voyage_key(sheet, chart: _VoyageChart) -> None:
     """The key, the scale bar and the north arrow."""
     ax0, ay0, ax1 = chart.ax0, chart.ay0, chart.ax1
     key_y = SHEET_PT - 16
     sheet.line([ax0, ax0 + 22], [key_y, key_y], INK, 1.1, dash=(5.0, 3.0))
     sheet.text(ax0 + 26, key_y + 3, "DR from each known position", 7, INK)
     sheet.line([ax0 + 150, ax0 + 172], [key_y, key_y], CHART, 1.6)
-    sheet.text(ax0 + 176, key_y + 3, f"current the DR missed ({arrow_nm:.0f} nm a knot)", 7,
-               CHART)
+    sheet.text(ax0 + 176, key_y + 3, "the DR's gap to the fix (to scale)", 7, CHART)
     kx = ax0 + 360
     fix_symbol(sheet, kx, key_y, kind="key")
     sheet.text(kx + 9, key_y + 3, "fix (and its 95 % ellipse)", 7, FIX)
@@ -503,5 +527,5 @@ def _voyage_key(sheet, chart: _VoyageChart, arrow_nm: float) -> None:
     sheet.line([nx, nx], [ny, ny - 28], INK, 1.6)
     sheet.polygon([nx - 4, nx, nx + 4], [ny - 26, ny - 34, ny - 26], fill=INK, outline=INK, width=0.5)
     sheet.text(nx, ny - 37, "N", 11, INK, anchor="middle", bold=True)
-    sheet.text(ax0 - 12, 40, "Each fix restarts the DR; each arrow is the gap from the DR to the fix, a knot to the key's length. "
-               "An aid to navigation, not a sole means.", 8, INK)
+    sheet.text(ax0 - 12, 40, "Each fix restarts the DR; each arrow runs from the DR at a fix's time to the fix, to the chart's "
+               "scale: the miles the current set her over the run. An aid to navigation, not a sole means.", 8, INK)

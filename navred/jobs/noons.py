@@ -164,12 +164,15 @@ def _changes_between(track: DRTrack, a: int, b: int) -> int:
     return int(((track.knot_ns > low) & (track.knot_ns < high) & changed).sum())
 
 
-def _carried_text(what: str, t: int, noon: int, track: DRTrack) -> str:
+def _carried_text(what: str, t: int, noon: int, track: DRTrack, *, timed: bool = False) -> str:
+    """How the noon was found: ``what`` at its time (``timed``: ``what`` names its time already), and carried to
+    noon along the DR where it was not at noon."""
+    what = what if timed else f"{what} at {_hhmm(t)} UTC"
     if abs(noon - t) < 30 * NS_PER_SECOND:
-        return f"{what} at {_hhmm(t)} UTC"
+        return what
     changes = _changes_between(track, t, noon)
     through = f" through {changes} change{'s' if changes != 1 else ''} of course, speed or current" if changes else ""
-    return f"{what} at {_hhmm(t)} UTC carried {'back ' if t > noon else ''}to noon{through}"
+    return f"{what} carried {'back ' if t > noon else ''}to noon{through}"
 
 
 def _from_fix(track: DRTrack, noon: int):
@@ -219,7 +222,7 @@ def _run_up(track: DRTrack, noon: int, lines: list[dict], ships: ShipsSights, ve
 
 def _from_estimated(track: DRTrack, noon: int, estimated: list[dict], ships: ShipsSights, vessel: str):
     eps = [{"utc_ns": int(pd.Timestamp(e["utc"]).value), "lat": e["lat_deg"], "lon": e["lon_deg"],
-            "group": e["fix_group"]} for e in estimated if e["vessel"] == vessel]
+            "group": e["fix_group"], "name": e["ep"]} for e in estimated if e["vessel"] == vessel]
     near = [e for e in eps if abs(e["utc_ns"] - noon) <= NOON_WINDOW_HOURS * NS_PER_HOUR]
     if not near:
         return None
@@ -228,9 +231,9 @@ def _from_estimated(track: DRTrack, noon: int, estimated: list[dict], ships: Shi
     lat, lon = track.carried(np.array([m["lat"] for m in members]), np.array([m["lon"] for m in members]),
                              np.array([m["utc_ns"] for m in members]), noon)
     if len(members) == 1:
-        text = _carried_text(f"estimated position {chosen['group']}", chosen["utc_ns"], noon, track)
+        text = _carried_text(chosen["name"], chosen["utc_ns"], noon, track, timed=True)
     else:
-        text = _carried_text(f"the mean of {len(members)} estimated positions of the round", chosen["utc_ns"], noon,
+        text = _carried_text(f"the mean of the round's {len(members)} EPs from single lines", chosen["utc_ns"], noon,
                              track)
     east = np.mean(wrap_180(np.atleast_1d(lon) - float(np.atleast_1d(lon)[0])))
     sigma = _from_dr(track, noon)[4]
@@ -325,7 +328,7 @@ def _waypoints(voyage, vessel: str) -> list[tuple[float, float, str]]:
     """The waypoints ahead of the vessel: the route given with the run, else her destination entries."""
     route = getattr(voyage, "route", None)
     if route is not None and len(route):
-        names = route["name"].astype(str).tolist() if "name" in route.columns else [""] * len(route)
+        names = route["ep"].astype(str).tolist() if "name" in route.columns else [""] * len(route)
         return [(float(a), float(b), n or f"waypoint {k + 1}") for k, (a, b, n) in
                 enumerate(zip(route["lat_deg"], route["lon_deg"], names))]
     entries = vessel_entries(voyage, vessel)

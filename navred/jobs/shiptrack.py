@@ -48,7 +48,8 @@ SET_DRIFT_COLUMNS = ["vessel", "fix_group", "fix_utc", "fix", "from", "hours", "
                      "fix_lat_deg", "fix_lon_deg", "dr_lat_deg", "dr_lon_deg", "current_in_dr",
                      "dr_set_deg", "dr_drift_kn", "unaccounted_set_deg", "unaccounted_drift_kn", "kept_dr_lat_deg",
                      "kept_dr_lon_deg"]
-ESTIMATED_COLUMNS = ["vessel", "fix_group", "utc", "estimated_position", "from", "note", "lat_deg", "lon_deg"]
+ESTIMATED_COLUMNS = ["vessel", "fix_group", "utc", "ep", "estimated_position", "from", "note", "lat_deg",
+                     "lon_deg"]
 NOON_COLUMNS = ["vessel", "date", "zone_h", "zone", "noon_utc", "noon_position", "noon_from", "run_nm",
                 "course_made_good_deg", "speed_made_good_kn", "through_water_nm", "hours", "current_set_deg",
                 "current_set_95_deg", "current_drift_kn", "current_95_kn", "current_note", "to", "to_go_nm", "eta_utc", "eta_ship_time", "eta_basis", "clock_changes",
@@ -466,20 +467,38 @@ def estimated_positions(voyage, ships: ShipsSights, *, exercises: bool = False) 
         # the sights' own warnings go with the position built on them
         note = "; ".join(f"row {reduced['row'].iat[k]}: {messages[k]}" for k in usable.tolist()
                          if status[k] == SightStatus.WARNING and messages[k])
+        rows = [int(reduced["row"].iat[k]) for k in usable.tolist()]
         if group.fix is not None and not group.fix.is_fix:
             fix = group.fix
-            out.append({"vessel": vessels[group.name], "fix_group": group.name, "utc": stamp(
-                np.datetime64(fix.utc, "ns").astype(np.int64)), "estimated_position": position_text(
-                fix.lat_deg, fix.lon_deg), "from": f"the {fix.kind} nearest the DR", "note": note, "lat_deg": fix.lat_deg,
-                "lon_deg": fix.lon_deg})
+            utc = stamp(np.datetime64(fix.utc, "ns").astype(np.int64))
+            out.append({"vessel": vessels[group.name], "fix_group": group.name, "utc": utc,
+                        "ep": ep_name(f"the {fix.kind} of", rows, utc), "estimated_position": position_text(
+                            fix.lat_deg, fix.lon_deg), "from": f"the {fix.kind} nearest the DR", "note": note,
+                        "lat_deg": fix.lat_deg, "lon_deg": fix.lon_deg})
         elif group.fix is None and usable.size == 1:
             r = reduced.iloc[int(usable[0])]
             lat, lon = estimated_position(r["dr_lat_deg"], r["dr_lon_deg"], r["intercept_nm"], r["zn_deg"])
-            out.append({"vessel": vessels[group.name], "fix_group": group.name,
-                        "utc": str(r["sight_utc"])[:19], "estimated_position": position_text(float(lat), float(lon)),
-                        "from": f"one {r['body_name']} line: the foot of the perpendicular from the DR",
+            utc = str(r["sight_utc"])[:19]
+            out.append({"vessel": vessels[group.name], "fix_group": group.name, "utc": utc,
+                        "ep": ep_name(f"one {r['body_name']} line,", rows, utc),
+                        "estimated_position": position_text(float(lat), float(lon)),
+                        "from": "the foot of the perpendicular from the DR to the line",
                         "note": note, "lat_deg": float(lat), "lon_deg": float(lon)})
     return out
+
+
+def ep_name(what: str, rows: list[int], utc: str) -> str:
+    """An estimated position named by what it is, the log rows it rests on (the rows every warning names) and its
+    time: 'EP from one Sun line, row 4, 22:00 UTC'; 'EP from the line of position of rows 7-8, 05:00 UTC'. The
+    fix-group label is not a name: it says nothing of what the position rests on."""
+    rows = sorted(rows)
+    if len(rows) == 1:
+        where = f"row {rows[0]}"
+    elif rows == list(range(rows[0], rows[-1] + 1)):
+        where = f"rows {rows[0]}-{rows[-1]}"
+    else:
+        where = "rows " + ", ".join(str(r) for r in rows)
+    return f"EP from {what} {where}, {str(utc)[11:16]} UTC"
 
 
 #: A noon from a DR that carries a current (entered in the log, or each fix's carried) is the trade's estimated
@@ -507,7 +526,7 @@ def _ship_references(vessel: str, track: DRTrack, estimated: list[dict], noons: 
              for n in noons if n.get("vessel", "") == vessel and np.isfinite(n.get("lat_deg", np.nan))
              and not is_reckoned(n["noon_from"])]
     refs += [(pd.Timestamp(e["utc"]).value, float(e["lat_deg"]), float(e["lon_deg"]),
-              f"the ship's estimated position {e['fix_group']} ({e['from']})", 2)
+              f"the ship's {e['ep']} (fix group {e['fix_group']})", 2)
              for e in estimated if e.get("vessel", "") == vessel]
     return refs
 
@@ -630,7 +649,7 @@ def track_points(voyage, vessel: str, track: DRTrack) -> list[dict]:
                                      leg_all[order].tolist(), kind_all[order].tolist())]
 
 
-__all__ = ["vessel_tracks", "known_label_at", "NOON_WINDOW_HOURS", "SET_DRIFT_COLUMNS", "NOON_COLUMNS",
+__all__ = ["vessel_tracks", "ep_name", "known_label_at", "NOON_WINDOW_HOURS", "SET_DRIFT_COLUMNS", "NOON_COLUMNS",
            "ESTIMATED_COLUMNS", "EXERCISE_COLUMNS", "ENTRY_WORK_COLUMNS", "current_verdict", "is_fix_label",
            "water_vector_nm", "water_run_nm", "vessel_entries", "SET_DRIFT_MIN_HOURS", "SET_DRIFT_MAX_95_KN",
            "MAX_CURRENT_KN", "position_text", "stamp", "stamps", "ships_of", "set_drift_rows", "set_current_text", "current_split_text", "estimated_positions",

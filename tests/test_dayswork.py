@@ -286,6 +286,50 @@ def test_a_position_built_on_a_sight_with_a_warning_carries_the_warning(tmp_path
     assert "warning: row 3 (Sun): intercept over 30 nm" in fixed.output
 
 
+def test_an_estimated_position_is_named_by_what_it_rests_on_in_every_output(tmp_path):
+    """FINDINGS-28 10a: an EP was named by its fix-group label ('found by estimated position noon at 22:00 UTC').
+    It is named by what it is, the row it rests on and its time, the same in the console, the noon CSV, the noon
+    report, the workbook's sheets, the GeoJSON, the GPX and the picture (common practice: an EP is a single line's
+    foot from the DR); a noon found by it carries its row's warning, and the picture's label names that row. The
+    altitude is made up (a 50-nm intercept, so that the sight warns)."""
+    import openpyxl
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+
+    path = tmp_path / "log.csv"
+    path.write_text(
+        "date,zone_time,zone_description,entry,dr_lat,dr_lon,course,speed,body,limb,hs,eye_height_m,fix_group\n"
+        "2026-04-14,06:00:00,+1,departure,38 00.0 N,010 00.0 W,250,6,,,,,\n"
+        "2026-04-14,12:30:00,+1,,,,,,Sun,lower,60 30.0,3.0,noon sun\n")
+    name = "EP from one Sun line, row 3, 13:30 UTC"  # 12:30 in zone +1 is 13:30 UTC; noon is 13:00 UTC
+    days = process_log(path, plan=False).days_work()
+    assert days.estimated["ep"].tolist() == [name]
+    noon = days.noons.iloc[0]
+    assert noon.noon_from == f"{name} carried back to noon; row 3 warns: intercept over 30 nm", noon.noon_from
+    out = {suffix: tmp_path / f"d{suffix}" for suffix in (".csv", ".txt", ".svg")}
+    shown = CliRunner().invoke(app, ["days", str(path)] + [a for f in out.values() for a in ("-o", str(f))]).stdout
+    assert f"by {name} carried back to noon; row 3 warns" in shown and f"found by          {name}" in shown
+    assert f"{name} on 2026-04-14 (fix group noon sun): " in shown
+    assert name in pd.read_csv(out[".csv"])["noon_from"].iat[0]
+    assert f"found by          {name}" in out[".txt"].read_text(encoding="utf-8")
+    assert "EP 13:30 from one Sun line, row 3 (see row 3's warning)" in out[".svg"].read_text(encoding="utf-8")
+    files = [tmp_path / f"b{suffix}" for suffix in (".xlsx", ".geojson", ".gpx")]
+    book = CliRunner().invoke(app, ["workbook", str(path)] + [a for f in files for a in ("-o", str(f))])
+    assert book.exit_code == 0, book.output
+    workbook = openpyxl.load_workbook(files[0])
+    for sheet in ("Day's work", "Noon report"):
+        cells = [str(v) for row in workbook[sheet].values for v in row if v is not None]
+        assert any(c.startswith(name) for c in cells), sheet
+    ep = [f["properties"] for f in json.loads(files[1].read_text())["features"]
+          if f["properties"].get("kind") == "estimated position"]
+    assert [p["ep"] for p in ep] == [name]
+    assert f"<name>{name}</name>" in files[2].read_text(encoding="utf-8")
+    # the group's label is never the EP's name
+    everything = shown + out[".txt"].read_text(encoding="utf-8") + files[2].read_text(encoding="utf-8")
+    assert "estimated position noon sun" not in everything and "EP noon sun" not in everything
+
+
 def test_two_vessels_in_one_log_each_keep_their_own_dr(ts, eph, tmp_path):
     """Issue 20: a log of two vessels, each with her own departure and courses, gives each vessel the DR, the
     fixes and the noons that her own half of the log gives when it is read alone (make_passage sails each)."""
@@ -502,17 +546,37 @@ def test_a_logged_current_splits_the_current_experienced_into_the_logged_and_the
             f"{first.unaccounted_set_deg:03.0f}° {first.unaccounted_drift_kn:.1f} kn, the DR's gap to the fix)") in shown
     if first.set_95_deg >= 5:
         assert f"set {first.set_deg:03.0f}° ±{first.set_95_deg:.0f}°, drift" in shown
-    # the picture's arrow at each fix runs the way of the gap, not of the whole current (page y runs down)
+    # the picture's arrow at each fix is the gap itself: from the DR kept, where the DR's leg ends, to the fix, to
+    # the chart's scale (FINDINGS-28 10c: it was drawn from the fix, a knot to a key's length); page y runs down
     root = ET.fromstring(voyage_track_picture(days).to_svg())
     svg = "{http://www.w3.org/2000/svg}"
-    arrows = [e for e in root.iter(f"{svg}polyline") if e.get("class") == "set and drift"]
-    assert len(arrows) == len(table)
-    for e, row in zip(arrows, table.to_dict("records")):
-        (x0, y0), (x1, y1) = [tuple(map(float, p.split(","))) for p in e.get("points").split()][:2]
-        drawn = math.degrees(math.atan2(x1 - x0, -(y1 - y0))) % 360.0
+
+    def points(e):
+        return np.array([tuple(map(float, p.split(","))) for p in e.get("points").split()])
+
+    arrows = [points(e) for e in root.iter(f"{svg}polyline") if e.get("class") == "set and drift"]
+    leg_ends = np.array([points(e)[-1] for e in root.iter(f"{svg}polyline") if e.get("class") == "dr leg"])
+    rings = [points(e) for e in root.iter(f"{svg}polygon") if e.get("class") == "fix"]
+    centres = np.array([(ring.max(axis=0) + ring.min(axis=0)) / 2.0 for ring in rings[1::2]])  # each fix's dot
+    assert len(arrows) == len(table) and len(centres) == len(table)
+    # the page's points a mile: the first and last fixes' distance on the page against geographiclib's
+    ends = GEOD.Inverse(table.fix_lat_deg.iat[0], table.fix_lon_deg.iat[0], table.fix_lat_deg.iat[-1],
+                        table.fix_lon_deg.iat[-1])["s12"] / NM
+    per_nm = float(np.hypot(*(centres[-1] - centres[0]))) / ends
+    for (start, end), row, centre in zip(arrows, table.to_dict("records"), centres):
+        drawn = math.degrees(math.atan2(end[0] - start[0], -(end[1] - start[1]))) % 360.0
         assert abs((drawn - row["unaccounted_set_deg"] + 180) % 360 - 180) <= 2.0
+        assert np.min(np.hypot(*(leg_ends - start).T)) < 0.05  # it starts where the DR kept ends
+        gap_nm = GEOD.Inverse(row["kept_dr_lat_deg"], row["kept_dr_lon_deg"], row["fix_lat_deg"],
+                              row["fix_lon_deg"])["s12"] / NM
+        assert float(np.hypot(*(centre - start))) == pytest.approx(gap_nm * per_nm, rel=0.03)  # to scale
+        assert 0.0 <= float(np.hypot(*(centre - end))) <= 5.05  # its head stops at the fix's ring
     labels = [t.text or "" for t in root.iter(f"{svg}text")]
-    assert any(t.startswith("missed ") and "logged 090° 0.8" in t for t in labels)
+    first = table.iloc[0]
+    assert (f"DR to fix {first.unaccounted_drift_kn * first.hours:.1f} nm in {first.hours:.1f} h: unaccounted "
+            f"{first.unaccounted_set_deg:03.0f}° {first.unaccounted_drift_kn:.1f} kn (current {first.set_deg:03.0f}° "
+            f"{first.drift_kn:.1f}, logged 090° 0.8)") in labels
+    assert not any("a knot" in t or "gap from the DR to the fix" in t for t in labels)
     # the Day's work sheet and the GeoJSON carry the same split
     import openpyxl
 

@@ -222,7 +222,8 @@ def _run_up(track: DRTrack, noon: int, lines: list[dict], ships: ShipsSights, ve
 
 def _from_estimated(track: DRTrack, noon: int, estimated: list[dict], ships: ShipsSights, vessel: str):
     eps = [{"utc_ns": int(pd.Timestamp(e["utc"]).value), "lat": e["lat_deg"], "lon": e["lon_deg"],
-            "group": e["fix_group"], "name": e["ep"]} for e in estimated if e["vessel"] == vessel]
+            "group": e["fix_group"], "name": e["ep"], "note": e.get("note") or ""} for e in estimated
+           if e["vessel"] == vessel]
     near = [e for e in eps if abs(e["utc_ns"] - noon) <= NOON_WINDOW_HOURS * NS_PER_HOUR]
     if not near:
         return None
@@ -235,9 +236,21 @@ def _from_estimated(track: DRTrack, noon: int, estimated: list[dict], ships: Shi
     else:
         text = _carried_text(f"the mean of the round's {len(members)} EPs from single lines", chosen["utc_ns"], noon,
                              track)
+    # a noon resting on a sight with a warning says so where it is reported, naming the row (never hidden)
+    warned = [w for m in members for w in _warned_rows(m["note"])]
+    if warned:
+        text += "; " + "; ".join(f"row {row} warns: {words}" for row, words in dict(warned).items())
     east = np.mean(wrap_180(np.atleast_1d(lon) - float(np.atleast_1d(lon)[0])))
     sigma = _from_dr(track, noon)[4]
     return float(np.mean(lat)), float(wrap_180(np.atleast_1d(lon)[0] + east)), text, False, sigma
+
+
+def _warned_rows(note: str) -> list[tuple[str, str]]:
+    """An estimated position's note ('row 4: high sight (Hc above 85°): ...; row 5: ...') as (row, the warning's
+    first words) pairs."""
+    import re
+
+    return [(row, words.split(":")[0].strip()) for row, words in re.findall(r"(?:^|; )row (\d+): ([^;]*)", note)]
 
 
 def _from_dr(track: DRTrack, noon: int, currents: tuple = ()):
@@ -328,7 +341,7 @@ def _waypoints(voyage, vessel: str) -> list[tuple[float, float, str]]:
     """The waypoints ahead of the vessel: the route given with the run, else her destination entries."""
     route = getattr(voyage, "route", None)
     if route is not None and len(route):
-        names = route["ep"].astype(str).tolist() if "name" in route.columns else [""] * len(route)
+        names = route["name"].astype(str).tolist() if "name" in route.columns else [""] * len(route)
         return [(float(a), float(b), n or f"waypoint {k + 1}") for k, (a, b, n) in
                 enumerate(zip(route["lat_deg"], route["lon_deg"], names))]
     entries = vessel_entries(voyage, vessel)

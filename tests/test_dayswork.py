@@ -620,3 +620,21 @@ def test_a_current_the_dr_carried_whole_leaves_nothing_unaccounted_not_a_set_of_
     text = current_split_text(row)
     assert "nothing unaccounted" in text and "260°" not in text and "logged 270° 0.8 kn" in text
     assert "unaccounted 260° 0.5 kn" in current_split_text({**row, "unaccounted_drift_kn": 0.5})
+
+
+def test_an_eps_name_and_picture_label_name_its_rows_and_the_rows_that_warn():
+    # the rows as the log numbers them, a run of rows as a span, the time rounded to the minute (common practice:
+    # a position's time to the minute); the picture's label sends the reader to each row that warns
+    from navred.figures.plotting import ep_label
+    from navred.jobs.shiptrack import ep_name
+
+    assert ep_name("one Sun line,", [4], "2026-12-06 21:59:40") == "EP from one Sun line, row 4, 22:00 UTC"
+    assert (ep_name("the line of position of", [8, 7], "2026-12-07 05:00:10")
+            == "EP from the line of position of rows 7-8, 05:00 UTC")
+    assert ep_name("the latitude of", [3, 9], "2026-12-07 05:00:00") == "EP from the latitude of rows 3, 9, 05:00 UTC"
+    name = "EP from the line of position of rows 7-8, 05:00 UTC"
+    assert ep_label(name) == "EP 05:00 from the line of position of rows 7-8"
+    assert ep_label(name, "row 8: low sight (Ho under 5°): refraction uncertain") == (
+        "EP 05:00 from the line of position of rows 7-8 (see row 8's warning)")
+    assert ep_label(name, "row 7: low sight: x; row 8: low sight: y; row 8: star out of twilight") == (
+        "EP 05:00 from the line of position of rows 7-8 (see the warnings of rows 7, 8)")

@@ -250,7 +250,13 @@ def _warned_rows(note: str) -> list[tuple[str, str]]:
     first words) pairs."""
     import re
 
-    return [(row, words.split(":")[0].strip()) for row, words in re.findall(r"(?:^|; )row (\d+): ([^;]*)", note)]
+    out = []
+    for row, words in re.findall(r"(?:^|; )row (\d+): ([^;]*)", note):
+        words = words.split(": ")[0].strip()
+        while words.count("(") > words.count(")"):  # a bracket the cut left open: up to it
+            words = words[:words.rfind("(")].strip()
+        out.append((row, words))
+    return out
 
 
 def _from_dr(track: DRTrack, noon: int, currents: tuple = ()):

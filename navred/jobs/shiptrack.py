@@ -498,7 +498,7 @@ def ep_name(what: str, rows: list[int], utc: str) -> str:
         where = f"rows {rows[0]}-{rows[-1]}"
     else:
         where = "rows " + ", ".join(str(r) for r in rows)
-    return f"EP from {what} {where}, {str(utc)[11:16]} UTC"
+    return f"EP from {what} {where}, {pd.Timestamp(utc).round('min').strftime('%H:%M')} UTC"
 
 
 #: A noon from a DR that carries a current (entered in the log, or each fix's carried) is the trade's estimated

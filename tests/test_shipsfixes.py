@@ -9,7 +9,6 @@ with each cadet's personal error and a seeded scatter, geographiclib for distanc
 from __future__ import annotations
 
 import re
-
 import sys
 from pathlib import Path
 

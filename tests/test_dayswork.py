@@ -593,6 +593,41 @@ def test_a_logged_current_splits_the_current_experienced_into_the_logged_and_the
     assert len(fixed) == len(table) and all(p["current_in_dr"] == "logged" for p in fixed)
 
 
+def test_the_true_current_logged_leaves_a_nil_unaccounted_with_no_set_in_every_output(steady, tmp_path):
+    """FINDINGS-28 10b: with the current logged right (scripts/make_passage.py's 060° 1.2 kn) the DR kept meets
+    each fix and the unaccounted rest is nil: no output gives it a set (it said "unaccounted 260° 0.0 kn"; the
+    sheet and GeoJSON kept a set of 259.5° for 0.01 kn). # common practice: a nil current has no set."""
+    import openpyxl
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+    from navred.constants import NIL_DRIFT_KN
+    from navred.figures.plotting import voyage_track_picture
+    from navred.jobs.chartfiles import write_voyage_geojson
+    from navred.jobs.voyagebook import write_workbook
+
+    log, _, _ = steady
+    logged = pd.concat([log.iloc[:1], pd.DataFrame([{"utc": log.utc.iloc[0], "entry": "current", "set": 60,
+                                                     "drift": 1.2, "vessel": log.vessel.iloc[0]}]), log.iloc[1:]],
+                       ignore_index=True)
+    voyage = process_log(logged, plan=False)
+    table = voyage.days_work().set_drift
+    assert (table["current_in_dr"] == "logged").all()
+    assert (table["unaccounted_drift_kn"] < NIL_DRIFT_KN).all() and table["unaccounted_set_deg"].isna().all()
+    path = tmp_path / "right.csv"
+    logged.to_csv(path, index=False)
+    shown = CliRunner().invoke(app, ["days", str(path)]).stdout
+    assert shown.count("nothing unaccounted") == len(table) and "unaccounted 0" not in shown
+    labels = voyage_track_picture(voyage.days_work()).to_svg()
+    assert labels.count(": nothing unaccounted (current ") == len(table)
+    book = openpyxl.load_workbook(write_workbook(voyage, tmp_path / "r.xlsx", plots=False))
+    cells = [v for row in book["Day's work"].values for v in row]
+    assert cells.count("nil: nothing unaccounted") == len(table)
+    features = json.loads(write_voyage_geojson(voyage, tmp_path / "r.geojson").read_text())["features"]
+    fixed = [f["properties"] for f in features if "unaccounted_set_deg" in f["properties"]]
+    assert len(fixed) == len(table) and all(p["unaccounted_set_deg"] is None for p in fixed)
+
+
 def test_without_a_logged_current_the_set_and_drift_is_not_split(steady):
     """No current entry: the DR kept is the DR through the water, so the whole current is what it missed and no
     split is given (# common practice: the set and drift is the DR's gap to the fix)."""

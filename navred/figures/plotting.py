@@ -13,6 +13,7 @@ from pathlib import Path
 import numpy as np
 
 from ..angles import format_angle, wrap_180
+from ..constants import NIL_DRIFT_KN
 from ..stats import chi_square_2_quantile
 from .placing import Placer, place_mark_label, rect_corners, segment_box, segment_boxes
 from .symbols import (  # noqa: F401  (the palette, also for the other figures)
@@ -481,7 +482,7 @@ def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, l
         if split:
             whole = (f"current {f['set_deg']:03.0f}° {f['drift_kn']:.1f}, {f['current_in_dr']} "
                      f"{f['dr_set_deg']:03.0f}° {f['dr_drift_kn']:.1f}")
-            text = (f"{gap}: nothing unaccounted ({whole})" if round(drift_kn, 1) == 0.0
+            text = (f"{gap}: nothing unaccounted ({whole})" if drift_kn < NIL_DRIFT_KN
                     else f"{gap}: unaccounted {set_deg:03.0f}° {drift_kn:.1f} kn ({whole})")
         else:
             text = f"{gap}: current {set_deg:03.0f}° {drift_kn:.1f} kn"

@@ -12,7 +12,7 @@ import numpy as np
 import pandas as pd
 
 from ..angles import format_angle
-from ..constants import NS_PER_HOUR, NS_PER_MINUTE, NS_PER_SECOND
+from ..constants import NIL_DRIFT_KN, NS_PER_HOUR, NS_PER_MINUTE, NS_PER_SECOND
 from ..fixstats import DR_ERROR_FRACTION, DR_ERROR_KN
 from ..reckoning import DRTrack, dr_track, estimated_position, set_and_drift
 from ..sailings import rhumb_inverse
@@ -41,6 +41,7 @@ MAX_CURRENT_KN = 8.0
 #: own uncertainty put the fix between them in doubt (common practice: an ocean current does not turn about in a
 #: few hours).
 CURRENT_JUMP_KN = 3.0
+NIL_SET = "nil: nothing unaccounted"
 
 
 SET_DRIFT_COLUMNS = ["vessel", "fix_group", "fix_utc", "fix", "from", "hours", "dr_at_fix", "dr_to_fix_nm",
@@ -344,7 +345,7 @@ def current_split_text(row: dict) -> str:
     kn)', the second the gap from the DR kept to the fix; '' where the DR carried none."""
     if not row.get("current_in_dr") or not row.get("dr_drift_kn") == row.get("dr_drift_kn"):
         return ""
-    if round(row["unaccounted_drift_kn"], 1) == 0.0:  # the DR's current was the whole of it: no set to name
+    if row["unaccounted_drift_kn"] < NIL_DRIFT_KN:  # the DR's current was the whole of it: no set to name
         return (f"({row['current_in_dr']} {row['dr_set_deg']:03.0f}° {row['dr_drift_kn']:.1f} kn, nothing "
                 "unaccounted: the DR's gap to the fix under 0.05 kn)")
     return (f"({row['current_in_dr']} {row['dr_set_deg']:03.0f}° {row['dr_drift_kn']:.1f} kn + unaccounted "
@@ -412,8 +413,10 @@ def _split_columns(current_in_dr: str, result, j: int, hours: float, gap_nm: flo
     whole_n = float(result.drift_kn[j]) * math.cos(math.radians(float(result.set_deg[j])))
     whole_e = float(result.drift_kn[j]) * math.sin(math.radians(float(result.set_deg[j])))
     dr_n, dr_e = whole_n - gap_n, whole_e - gap_e
+    # a nil drift has no set: the direction of a gap of a few cables over the hours is noise, never a current
     out.update({"current_in_dr": current_in_dr, "dr_set_deg": math.degrees(math.atan2(dr_e, dr_n)) % 360.0,
-                "dr_drift_kn": math.hypot(dr_n, dr_e), "unaccounted_set_deg": gap_deg % 360.0,
+                "dr_drift_kn": math.hypot(dr_n, dr_e),
+                "unaccounted_set_deg": gap_deg % 360.0 if gap_nm / hours >= NIL_DRIFT_KN else np.nan,
                 "unaccounted_drift_kn": gap_nm / hours})
     return out
 
@@ -649,7 +652,7 @@ def track_points(voyage, vessel: str, track: DRTrack) -> list[dict]:
                                      leg_all[order].tolist(), kind_all[order].tolist())]
 
 
-__all__ = ["vessel_tracks", "ep_name", "known_label_at", "NOON_WINDOW_HOURS", "SET_DRIFT_COLUMNS", "NOON_COLUMNS",
+__all__ = ["vessel_tracks", "ep_name", "NIL_DRIFT_KN", "NIL_SET", "known_label_at", "NOON_WINDOW_HOURS", "SET_DRIFT_COLUMNS", "NOON_COLUMNS",
            "ESTIMATED_COLUMNS", "EXERCISE_COLUMNS", "ENTRY_WORK_COLUMNS", "current_verdict", "is_fix_label",
            "water_vector_nm", "water_run_nm", "vessel_entries", "SET_DRIFT_MIN_HOURS", "SET_DRIFT_MAX_95_KN",
            "MAX_CURRENT_KN", "position_text", "stamp", "stamps", "ships_of", "set_drift_rows", "set_current_text", "current_split_text", "estimated_positions",

@@ -313,7 +313,7 @@ def test_an_estimated_position_is_named_by_what_it_rests_on_in_every_output(tmp_
     assert f"{name} on 2026-04-14 (fix group noon sun): " in shown
     assert name in pd.read_csv(out[".csv"])["noon_from"].iat[0]
     assert f"found by          {name}" in out[".txt"].read_text(encoding="utf-8")
-    assert "EP 13:30 from one Sun line, row 3 (see row 3's warning)" in out[".svg"].read_text(encoding="utf-8")
+    assert "EP 13:30 (row 3: see its warning)" in out[".svg"].read_text(encoding="utf-8")
     files = [tmp_path / f"b{suffix}" for suffix in (".xlsx", ".geojson", ".gpx")]
     book = CliRunner().invoke(app, ["workbook", str(path)] + [a for f in files for a in ("-o", str(f))])
     assert book.exit_code == 0, book.output
@@ -668,8 +668,11 @@ def test_an_eps_name_and_picture_label_name_its_rows_and_the_rows_that_warn():
             == "EP from the line of position of rows 7-8, 05:00 UTC")
     assert ep_name("the latitude of", [3, 9], "2026-12-07 05:00:00") == "EP from the latitude of rows 3, 9, 05:00 UTC"
     name = "EP from the line of position of rows 7-8, 05:00 UTC"
-    assert ep_label(name) == "EP 05:00 from the line of position of rows 7-8"
+    assert ep_label(name) == "EP 05:00 (rows 7-8)"
     assert ep_label(name, "row 8: low sight (Ho under 5°): refraction uncertain") == (
-        "EP 05:00 from the line of position of rows 7-8 (see row 8's warning)")
+        "EP 05:00 (rows 7-8: see row 8's warning)")
     assert ep_label(name, "row 7: low sight: x; row 8: low sight: y; row 8: star out of twilight") == (
-        "EP 05:00 from the line of position of rows 7-8 (see the warnings of rows 7, 8)")
+        "EP 05:00 (rows 7-8: see the warnings of rows 7, 8)")
+    assert ep_label("EP from one Sun line, row 4, 22:00 UTC", "row 4: high sight (Hc above 85°): x") == (
+        "EP 22:00 (row 4: see its warning)")
+    assert ep_label("EP from the latitude of rows 3, 9, 05:00 UTC") == "EP 05:00 (rows 3, 9)"

@@ -348,9 +348,20 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
         sheet.text(spot.x, spot.y, text, placed.size, colour, anchor=spot.anchor, baseline=spot.baseline, box=PAPER,
                    kind="label")
     if unplaced:
-        sheet.text(box[0] - 12, 51, f"No room on the sheet for the labels of: {', '.join(unplaced[:12])}"
-                   + (f" and {len(unplaced) - 12} more" if len(unplaced) > 12 else "") + ".", 7, INK, italic=True,
-                   kind="mark list")
+        from .drawing import text_width_pt
+
+        # as many names as the line holds across the sheet, then how many more
+        width = SHEET_PT * 1.5 - 20.0 - (box[0] - 12)
+        shown = len(unplaced)
+        while shown > 0:
+            more = f" and {len(unplaced) - shown} more" if shown < len(unplaced) else ""
+            text = f"No room on the sheet for the labels of: {', '.join(unplaced[:shown])}{more}."
+            if text_width_pt(text, 7, italic=True) <= width:
+                break
+            shown -= 1
+        else:
+            text = f"No room on the sheet for {len(unplaced)} labels."
+        sheet.text(box[0] - 12, 51, text, 7, INK, italic=True, kind="mark list")
     sheet.line([chart.ax0, chart.ax1, chart.ax1, chart.ax0, chart.ax0],
                [chart.ay0, chart.ay0, chart.ay1, chart.ay1, chart.ay0], INK, 0.8)
     _voyage_key(sheet, chart)
@@ -434,19 +445,23 @@ def _voyage_known_positions(sheet, placer, chart: _VoyageChart, track, scales: d
 
 
 def ep_label(ep: str, note: str = "") -> str:
-    """An estimated position's label on the voyage picture: its name as everywhere else, the time first ('EP 22:00
-    from one Sun line, row 4'), and where its sights carry a warning, the rows whose warnings to read (each warning
-    names its row, in every output): '(see row 4's warning)'."""
+    """An estimated position's label on the voyage picture, short for a crowded chart: its time and the log rows
+    its name gives ('EP 22:00 (row 4)' for 'EP from one Sun line, row 4, 22:00 UTC'), and where its sights carry
+    a warning, the rows whose warnings to read (each warning names its row, in every output): 'EP 22:00 (row 4:
+    see its warning)'."""
     import re
 
-    named = re.fullmatch(r"EP from (.*), (\d\d:\d\d) UTC", str(ep))
-    text = f"EP {named.group(2)} from {named.group(1)}" if named else str(ep)
+    named = re.fullmatch(r"EP from .* (rows? [\d, -]+), (\d\d:\d\d) UTC", str(ep))
+    if not named:
+        return str(ep)
+    rows, time = named.group(1), named.group(2)
     warned = list(dict.fromkeys(re.findall(r"(?:^|; )row (\d+):", note)))
-    if len(warned) == 1:
-        text += f" (see row {warned[0]}'s warning)"
-    elif warned:
-        text += f" (see the warnings of rows {', '.join(warned)})"
-    return text
+    if not warned:
+        return f"EP {time} ({rows})"
+    if rows == f"row {warned[0]}" and len(warned) == 1:
+        return f"EP {time} ({rows}: see its warning)"
+    which = f"row {warned[0]}'s warning" if len(warned) == 1 else f"the warnings of rows {', '.join(warned)}"
+    return f"EP {time} ({rows}: see {which})"
 
 
 def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, lines: list | None = None) -> list:
@@ -487,16 +502,17 @@ def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, l
         else:
             text = f"{gap}: current {set_deg:03.0f}° {drift_kn:.1f} kn"
         labels.append((text, CHART, (sx + fx) / 2.0, (sy + fy) / 2.0))
+    eps = []
     for e in estimated.to_dict("records"):
         px, py = chart.at(e["lat_deg"], e["lon_deg"])
         placer.take(ep_symbol(sheet, px, py))
-        labels.append((ep_label(e["ep"], e.get("note") or ""), FIX, px, py))
+        eps.append((ep_label(e["ep"], e.get("note") or ""), FIX, px, py))
     for n in noons.to_dict("records"):
         px, py = chart.at(n["lat_deg"], n["lon_deg"])
         sheet.circle(px, py, 3.2, fill=INK, kind="noon")
         placer.take(rect_corners(px - 4, py - 4, px + 4, py + 4))
         labels.append((f"noon {n['date'][5:]}", INK, px, py))
-    return labels
+    return labels + eps  # the noons' labels placed before the EPs' on a crowded sheet (the noon is the day's)
 
 
 def _voyage_key(sheet, chart: _VoyageChart) -> None:
@@ -512,7 +528,7 @@ def _voyage_key(sheet, chart: _VoyageChart) -> None:
     sheet.text(kx + 9, key_y + 3, "fix (and its 95 % ellipse)", 7, FIX)
     kx += 120
     ep_symbol(sheet, kx, key_y, kind="key")
-    sheet.text(kx + 9, key_y + 3, "estimated position", 7, FIX)
+    sheet.text(kx + 9, key_y + 3, "EP (time, log row)", 7, FIX)
     kx += 95
     position_symbol(sheet, kx, key_y, INK, kind="key")
     sheet.text(kx + 10, key_y + 3, "departure, position entry or logged DR", 7, INK)

@@ -676,3 +676,27 @@ def test_an_eps_name_and_picture_label_name_its_rows_and_the_rows_that_warn():
     assert ep_label("EP from one Sun line, row 4, 22:00 UTC", "row 4: high sight (Hc above 85°): x") == (
         "EP 22:00 (row 4: see its warning)")
     assert ep_label("EP from the latitude of rows 3, 9, 05:00 UTC") == "EP 05:00 (rows 3, 9)"
+
+
+def test_the_voyage_pictures_no_room_list_stays_on_the_sheet_and_noons_are_labelled_before_eps(tmp_path):
+    # the list of labels with no room ran off the page on the training voyage (seventy EPs of three cadets);
+    # now as many as the line holds, then how many more
+    from navred.figures.drawing import text_width_pt
+    from navred.figures.plotting import no_room_text, voyage_track_picture
+
+    names = [f"EP 10:{k:02d} (rows {100 + 4 * k}-{103 + 4 * k})" for k in range(40)]
+    text = no_room_text(names, 1000.0)
+    assert text_width_pt(text, 7, italic=True) <= 1000.0 and text.endswith(" more.")
+    shown = text.count("EP 10:")
+    assert text.endswith(f" and {40 - shown} more.") and 5 < shown < 40
+    assert no_room_text(names[:2], 1000.0) == f"No room on the sheet for the labels of: {names[0]}, {names[1]}."
+    # a noon on its EP (the hand-written log above: the Sun line 30 min after noon): the noon's label is placed
+    # first, the EP's after it
+    path = tmp_path / "log.csv"
+    path.write_text(
+        "date,zone_time,zone_description,entry,dr_lat,dr_lon,course,speed,body,limb,hs,eye_height_m,fix_group\n"
+        "2026-04-14,06:00:00,+1,departure,38 00.0 N,010 00.0 W,250,6,,,,,\n"
+        "2026-04-14,12:30:00,+1,,,,,,Sun,lower,60 30.0,3.0,noon sun\n")
+    picture = voyage_track_picture(process_log(path, plan=False).days_work())
+    labels = [item.text for item in picture.items if getattr(item, "kind", None) == "label"]
+    assert labels.index("noon 04-14") < labels.index("EP 13:30 (row 3: see its warning)")

@@ -268,6 +268,12 @@ def series_plot(times, ho_deg, flagged, curve_times, curve_ho_deg, best_index, *
     return picture
 
 
+#: On the voyage picture a label goes no farther than this from its mark (points, a leader joining them): farther,
+#: on a crowded passage, its leader crosses the track and other marks and the label reads as another's; it is
+#: listed above the chart instead (and the search of the whole sheet for each label took a minute).
+VOYAGE_LABEL_REACH_PT = 120.0
+
+
 class _VoyageChart:
     """The voyage picture's Mercator chart about the middle latitude: ``plane`` takes positions to miles east
     and north of the chart's reference, ``page`` takes miles to the sheet's points."""
@@ -338,7 +344,8 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
     unplaced = []
     for text, colour, x, y in labels:  # the plotting sheets' rule: beside, else nearest with a leader, else smaller
         own = [t for t in placer.taken if (t.min(axis=0) <= (x, y)).all() and (t.max(axis=0) >= (x, y)).all()]
-        placed = place_mark_label(placer, text, 7, _beside(x, y), (x, y), frame, lines=lines, own=own)
+        placed = place_mark_label(placer, text, 7, _beside(x, y), (x, y), frame, lines=lines, own=own,
+                                  max_reach_pt=VOYAGE_LABEL_REACH_PT)
         if placed is None:
             unplaced.append(text)
             continue
@@ -348,20 +355,8 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
         sheet.text(spot.x, spot.y, text, placed.size, colour, anchor=spot.anchor, baseline=spot.baseline, box=PAPER,
                    kind="label")
     if unplaced:
-        from .drawing import text_width_pt
-
-        # as many names as the line holds across the sheet, then how many more
-        width = SHEET_PT * 1.5 - 20.0 - (box[0] - 12)
-        shown = len(unplaced)
-        while shown > 0:
-            more = f" and {len(unplaced) - shown} more" if shown < len(unplaced) else ""
-            text = f"No room on the sheet for the labels of: {', '.join(unplaced[:shown])}{more}."
-            if text_width_pt(text, 7, italic=True) <= width:
-                break
-            shown -= 1
-        else:
-            text = f"No room on the sheet for {len(unplaced)} labels."
-        sheet.text(box[0] - 12, 51, text, 7, INK, italic=True, kind="mark list")
+        sheet.text(box[0] - 12, 51, no_room_text(unplaced, SHEET_PT * 1.5 - 20.0 - (box[0] - 12)), 7, INK,
+                   italic=True, kind="mark list")
     sheet.line([chart.ax0, chart.ax1, chart.ax1, chart.ax0, chart.ax0],
                [chart.ay0, chart.ay0, chart.ay1, chart.ay1, chart.ay0], INK, 0.8)
     _voyage_key(sheet, chart)
@@ -442,6 +437,19 @@ def _voyage_known_positions(sheet, placer, chart: _VoyageChart, track, scales: d
             placer.take(position_symbol(sheet, fx, fy, INK, kind="position entry"))
             labels.append((label.split(" at ")[0], INK, fx, fy))
     return labels
+
+
+def no_room_text(unplaced: list[str], width_pt: float) -> str:
+    """The line above the voyage picture naming the labels with no room on it: as many as the line holds in
+    ``width_pt`` (7 pt italic), then how many more."""
+    from .drawing import text_width_pt
+
+    for shown in range(len(unplaced), 0, -1):
+        more = f" and {len(unplaced) - shown} more" if shown < len(unplaced) else ""
+        text = f"No room on the sheet for the labels of: {', '.join(unplaced[:shown])}{more}."
+        if text_width_pt(text, 7, italic=True) <= width_pt:
+            return text
+    return f"No room on the sheet for {len(unplaced)} labels."
 
 
 def ep_label(ep: str, note: str = "") -> str:

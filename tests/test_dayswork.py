@@ -420,6 +420,12 @@ def test_set_and_drift_only_where_it_means_something(ts, eph, tmp_path):
         picture = voyage_track_picture(days)
         drawn = [item for item in picture.items if isinstance(item, _Polygon) and item.fill == CHART]
         assert len(drawn) == arrows
+        # the far fix's gap is drawn dotted with no head and says it is no current; the 12-minute one not at all
+        dotted = [item for item in picture.items if getattr(item, "kind", None) == "undetermined gap"]
+        texts = [getattr(item, "text", "") for item in picture.items]
+        assert len(dotted) == (days is far)
+        assert any(t.startswith("DR to fix ") and t.endswith(" h: not a current: check this fix") for t in texts) == (
+            days is far)
     log = _rounds_log(ts, eph, track, start, (38.0, -12.0), times)
     log.to_csv(tmp_path / "log.csv", index=False)
     from typer.testing import CliRunner

@@ -472,12 +472,41 @@ def ep_label(ep: str, note: str = "") -> str:
     return f"EP {time} ({rows}: see {which})"
 
 
+def _undetermined_gap(sheet, chart: _VoyageChart, f: dict, lines: list | None) -> list:
+    """A fix whose set and drift is not determined: the DR's gap to it as a dotted line with no head, labelled
+    with its miles and why it is no current ('drift under 1.8 kn: no set'; 'not a current: check this fix');
+    nothing where the run was too short for a current to show. Without it the fix stood off the DR's end
+    unexplained."""
+    from ..sailings import rhumb_inverse
+
+    note = str(f.get("note") or "")
+    if "more than any current" in note or "not a current of the sea" in note:
+        words = "not a current: check this fix"
+    elif note.startswith("drift under"):
+        words = f"{note.split(',')[0]}, its set not determined"
+    elif "a current is worth stating to" in note:
+        words = "too uncertain to give a current"
+    else:
+        return []  # too short a run: the gap is the fixes' own error
+    if not (np.isfinite(f.get("kept_dr_lat_deg", np.nan)) and np.isfinite(f.get("kept_dr_lon_deg", np.nan))):
+        return []
+    gap_nm = float(rhumb_inverse(f["kept_dr_lat_deg"], f["kept_dr_lon_deg"], f["fix_lat_deg"], f["fix_lon_deg"])[0])
+    sx, sy = chart.at(f["kept_dr_lat_deg"], f["kept_dr_lon_deg"])
+    fx, fy = chart.at(f["fix_lat_deg"], f["fix_lon_deg"])
+    if math.hypot(fx - sx, fy - sy) >= 4.0:
+        sheet.line([sx, fx], [sy, fy], CHART, 0.9, dash=(1.5, 2.5), kind="undetermined gap")
+        if lines is not None:
+            lines.append(segment_box(sx, sy, fx, fy, 3.0))
+    return [(f"DR to fix {gap_nm:.1f} nm in {f['hours']:.1f} h: {words}", CHART, (sx + fx) / 2.0, (sy + fy) / 2.0)]
+
+
 def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, lines: list | None = None) -> list:
     """The DR's gap to each fix (an arrow from the DR kept at the fix's time to the fix, to the chart's scale;
     its box added to ``lines``), the estimated positions and the noon positions; their labels."""
     labels = []
     for f in fixes.to_dict("records"):
         if not np.isfinite(f["set_deg"]):
+            labels += _undetermined_gap(sheet, chart, f, lines)
             continue
         # the gap from the DR kept to the fix, drawn where it lies (common practice: the current is the vector
         # from the DR to the fix at the same time): where the DR carried a current, the unaccounted rest, labelled

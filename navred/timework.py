@@ -196,6 +196,36 @@ _ISO_LIKE = re.compile(r"^(?:UTC|GMT)?\s*[+-]\s*\d{1,2}\s*[:h]\s*\d{2}$|^[+-]\d{
                        re.IGNORECASE)
 
 
+#: a zone written as a UTC offset with its name: 'UTC-10', 'GMT+3', 'UTC+05:00', 'UTC −3' (the sign required)
+_NAMED_OFFSET = re.compile(r"^(UTC|GMT)\s*([+-])\s*(\d{1,2})(?:\s*[:h]?\s*(\d{2}))?$", re.IGNORECASE)
+
+
+def utc_offset_zone(value: object) -> int | None:
+    """The zone description of a clock written as its offset from UTC with the name UTC or GMT ('UTC-10' is a
+    clock 10 h behind UTC: ZT + 10 h = UTC, zone description +10); None when the text is not written so. The
+    name leaves one reading only: an offset is the zone description with the opposite sign. A bare '+10:30' or
+    '-10' says neither, and is not read here. An offset of part of an hour, or beyond ±12 h, is refused: the
+    zone descriptions navred keeps are whole hours from -12 to +12 (give such a sight's time in UTC)."""
+    if not isinstance(value, str):
+        return None
+    match = _NAMED_OFFSET.match(value.strip().replace("\u2212", "-"))
+    if not match:
+        return None
+    name, sign, hours, minutes = match.group(1).upper(), match.group(2), int(match.group(3)), match.group(4)
+    zd = -hours if sign == "+" else hours
+    written = f"{name}{sign}{hours}" + (f":{minutes}" if minutes else "")
+    if minutes and int(minutes):
+        raise TimeInputError(
+            f"zone description {value!r} is a UTC offset of {sign}{hours}:{minutes}, zone description "
+            f"{'-' if sign == '+' else '+'}{hours}:{minutes}, which is not a whole hour: navred keeps zone "
+            "descriptions of whole hours only; give the sight's time in UTC (the utc column)")
+    if hours > 12:
+        raise TimeInputError(
+            f"zone description {value!r} is a UTC offset of {written[3:]} h, zone description {zd:+d}, outside "
+            f"-12 to +12 hours; give the sight's time in UTC (the utc column)")
+    return zd
+
+
 def parse_zone_description(value: object) -> int:
     """A zone description in whole hours (ZT + ZD = UTC) as written: ``+3``, ``-10``, ``+1 N``, ``Z``.
 
@@ -217,6 +247,9 @@ def parse_zone_description(value: object) -> int:
         text = value.strip().replace("−", "-")
     else:
         raise TimeInputError(f"cannot read {value!r} as a zone description; accepted: {ACCEPTED_ZONES}")
+    offset = utc_offset_zone(text)
+    if offset is not None:
+        return offset
     if _ISO_LIKE.match(text):
         raise TimeInputError(
             f"zone description {value!r} is written like a UTC offset, which means the opposite: an "

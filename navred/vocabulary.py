@@ -228,7 +228,8 @@ COLUMN = {c.key: c for c in COLUMNS}
 
 #: Headers too ambiguous to guess: each names its possible readings.
 AMBIGUOUS_HEADERS = {
-    "time": "a time of which scale? name the column utc (with a zone) or zone_time (with zone_description)",
+    "time": ("UTC or the ship's zone time? the two are hours apart: head it 'Zone time' (the ship's clock, read "
+             "with the date and the zone description, ZD) or 'UTC' (each cell the whole instant, 2026-12-04T22:15Z)"),
     "lat": "a DR latitude (dr_lat) or a chart/GNSS latitude (chart_lat)?",
     "latitude": "a DR latitude (dr_lat) or a chart/GNSS latitude (chart_lat)?",
     "lon": "a DR longitude (dr_lon) or a chart/GNSS longitude (chart_lon)?",

@@ -165,7 +165,7 @@ def test_zone_time_and_watch_error_forms(tmp_path, row, expected):
 @pytest.mark.parametrize("row, column, fragment", [
     (zone_row(zone="+1 A"), "zone_description", "letter A is zone -1"),
     (zone_row(zone="+01:00"), "zone_description", "means the opposite"),
-    (zone_row(zone="UTC+1"), "zone_description", "means the opposite"),
+    (zone_row(zone="UTC+1:30"), "zone_description", "which is not a whole hour"),  # ('UTC+1' is read: -1)
     (zone_row(zone="3"), "zone_description", "has no sign"),
     (zone_row(zone="+13"), "zone_description", "outside -12 to +12"),
     (zone_row(error="fast"), "watch_error", "cannot read"),
@@ -421,7 +421,7 @@ def test_headers_ignore_case_spacing_and_unit_suffixes(tmp_path):
     ("utc,body,hs,eye height,dr_lat,dr_lon", "gives no unit"),
     ("utc,body,hs,eye height (yd),dr_lat,dr_lon", "unit 'yd'"),
     ("utc,body,hs,eye_height_m,lat,lon", "DR latitude (dr_lat) or a chart/GNSS latitude"),
-    ("time,body,hs,eye_height_m,dr_lat,dr_lon", "name the column utc"),
+    ("time,body,hs,eye_height_m,dr_lat,dr_lon", "head it 'Zone time'"),
 ])
 def test_ambiguous_headers_are_refused(tmp_path, header, fragment):
     with pytest.raises(LogbookError, match=re.escape(fragment)):
@@ -1074,28 +1074,28 @@ HAND_HEADER = "Date,Zone time,ZD,Body,Hs,IE,Height of eye (m),DR lat,DR lon"
 HAND_ROW = "2026-12-04,06:4{},+10h,Arcturus,42 12.9,0.0,3.0,20 27.7 N,160 19.3 W"
 
 
-def test_a_repeated_header_row_is_refused_as_one_by_its_row(tmp_path):
-    """Two logs joined one under the other: the second header is refused by its row as a repeated header
-    (not 'cannot read Date as a date'); the rows on either side are read, '+10h' as zone +10."""
+def test_a_repeated_header_row_is_skipped_with_a_note_naming_its_row(tmp_path):
+    """Two logs of one layout joined one under the other: the second header (in any case, spaced) is skipped,
+    named in a note by its row (not 'cannot read Date as a date', and not counted as a sight); the rows on
+    either side are read, '+10h' as zone +10."""
     path = write(tmp_path, [HAND_HEADER, HAND_ROW.format("0:00"), HAND_HEADER, " " + HAND_HEADER.upper(),
                             HAND_ROW.format("1:00")])
     log = read_sight_log(path)
-    assert list(log.rejected.row) == [3, 4]
-    for row, reason in zip((3, 4), log.rejected.reason):
-        assert reason.startswith(f"row {row} repeats the header row ('Date', 'Zone time', 'ZD', ...): it is not "
-                                 "a sight, so it is refused"), reason
+    assert log.rejected.empty and list(log.table.row) == [2, 5]
+    assert any(note.endswith("rows 3, 4 repeat the header: skipped (not sights; the rows after them are read by "
+                             "the same columns)") for note in log.notes), log.notes
     assert [str(u)[:19] for u in log.sights.sight_utc] == ["2026-12-04 16:40:00", "2026-12-04 16:41:00"]
 
 
-def test_a_repeated_header_row_in_a_spreadsheet_is_refused_the_same(tmp_path):
+def test_a_repeated_header_row_in_a_spreadsheet_is_skipped_the_same(tmp_path):
     book = openpyxl.Workbook()
     sheet = book.active
     for line in (HAND_HEADER, HAND_ROW.format("0:00"), HAND_HEADER, HAND_ROW.format("1:00")):
         sheet.append(line.split(","))
     book.save(tmp_path / "joined.xlsx")
     log = read_sight_log(tmp_path / "joined.xlsx")
-    assert list(log.rejected.row) == [3] and "repeats the header row" in log.rejected.reason.iloc[0]
-    assert len(log.sights) == 2
+    assert log.rejected.empty and any("row 3 repeats the header: skipped" in note for note in log.notes)
+    assert len(log.sights) == 2 and list(log.sights.row) == [2, 4]
 
 
 def test_a_row_that_merely_names_a_header_in_one_cell_is_not_a_repeated_header(tmp_path):

@@ -31,7 +31,9 @@ def test_a_refusal_repeated_row_after_row_is_given_in_full_a_few_times_then_coun
     assert "2025-01-05T" not in out
     full = [line for line in lines if "has two readings" in line]
     assert len(full) == 3  # rows 2-4 in full
-    assert sum("not reduced: as row 2 ('" in line for line in lines) == 9
+    # the rest in short: the same kind of reason, each row's own cell quoted (none reads as taken)
+    assert sum("not reduced: the same kind of reason as row 2 (utc); this row's own values: '" in line
+               for line in lines) == 9
     assert "12 rows not reduced for the reason given in full at row 2 (rows 2-13)" in out
 
 

@@ -123,10 +123,27 @@ def main() -> None:
 
 # --- How a run reports ---------------------------------------------------------------------------
 
+#: whether this run has named a log to read (:func:`source`): from then on a failure ends with the caution too,
+#: as the run may have shown rows of it; an option refused before the work is one line alone
+_RUN = {"log_named": False}
+
+
+def failed(message: str, caught=(), *, caution: bool = True) -> None:
+    """A run's failure on stderr: every warning caught, the one error line, and the caution once the run has named
+    a log (stdout flushed first, so that its last line is never run into)."""
+    end_stdout()
+    print_warnings(caught)
+    typer.echo(f"navred: error: {message}", err=True)
+    if caution and _RUN["log_named"]:
+        print_caution()
+
+
 @contextlib.contextmanager
 def reported(ctx=None, *, caution: bool = True):
-    """Turn navred errors into one line and exit 1; print every warning; end with the caution. Anything
-    unforeseen is one line too (no traceback reaches a user; NAVRED_DEBUG=1 shows it)."""
+    """Turn navred errors into one line and exit 1; print every warning; end with the caution (after a failure
+    too, once a log was named). Anything unforeseen is one line too (no traceback reaches a user; NAVRED_DEBUG=1
+    shows it)."""
+    _RUN["log_named"] = False
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", NavredWarning)
         try:
@@ -136,8 +153,7 @@ def reported(ctx=None, *, caution: bool = True):
         except NavredError as exc:
             if os.environ.get("NAVRED_DEBUG") and isinstance(exc, NavredInternalError):
                 raise
-            print_warnings(caught)
-            typer.echo(f"navred: error: {exc}", err=True)
+            failed(str(exc), caught, caution=caution)
             raise typer.Exit(code=1) from None
         except (typer.Exit, typer.Abort, SystemExit):
             raise
@@ -154,17 +170,15 @@ def reported(ctx=None, *, caution: bool = True):
                        err=True)
             raise typer.Exit(code=1) from None
         except OSError as exc:
-            print_warnings(caught)
-            typer.echo(f"navred: error: {exc.strerror or exc}{f': {exc.filename}' if exc.filename else ''}", err=True)
+            failed(f"{exc.strerror or exc}{f': {exc.filename}' if exc.filename else ''}", caught, caution=caution)
             raise typer.Exit(code=1) from None
         except Exception as exc:  # a failure navred did not foresee: one line, and how to report it
             if os.environ.get("NAVRED_DEBUG"):
                 raise
-            print_warnings(caught)
-            typer.echo(f"navred: error: an unexpected failure ({type(exc).__name__}: {exc}); this is a fault in "
-                       "navred: please report it with the command and the input (NAVRED_DEBUG=1 shows the detail)",
-                       err=True)
+            failed(f"an unexpected failure ({type(exc).__name__}: {exc}); this is a fault in navred: please report "
+                   "it with the command and the input (NAVRED_DEBUG=1 shows the detail)", caught, caution=caution)
             raise typer.Exit(code=1) from None
+    end_stdout()
     print_warnings(caught)
     if caution:
         print_caution()
@@ -232,17 +246,30 @@ def no_eye_warning(eye: str | None) -> None:
 
 
 def print_caution() -> None:
-    """The safety caution, one line on stderr, once at the end of every run that did its work; on stderr, so
-    that --csv output stays clean."""
+    """The safety caution, one line on stderr, once at the end of every run that did its work or read a log; on
+    stderr, so that --csv output stays clean."""
     from ..io.cautions import CAUTION
 
+    end_stdout()
     typer.echo(CAUTION, err=True)
+
+
+def end_stdout() -> None:
+    """Before anything goes to stderr: stdout flushed (every line written to it is ended: typer.echo ends each,
+    :func:`echo_csv` the table's last), so that a terminal, or both streams sent to one file (2>&1), never shows
+    stderr's line run on after stdout's."""
+    try:
+        sys.stdout.flush()
+    except (BrokenPipeError, ValueError):  # the reader closed it (said elsewhere), or stdout is closed
+        pass
 
 
 def print_notes(*sources, err: bool = True) -> None:
     """The notes a reader made about its files as a whole (the columns it does not read, a file read as
     Windows-1252, a column repeated), one line each."""
     seen = set()
+    if err:
+        end_stdout()
     for source in sources:
         for note in getattr(source, "notes", None) or ():
             if note not in seen:
@@ -251,13 +278,17 @@ def print_notes(*sources, err: bool = True) -> None:
 
 
 def echo_lines(lines: Iterable[str], *, err: bool = False) -> None:
+    if err:
+        end_stdout()
     for line in lines:
         typer.echo(line, err=err)
 
 
 def echo_csv(text: str) -> None:
-    """A table's CSV text on stdout, as it is (the formatters give it whole)."""
+    """A table's CSV text on stdout, as it is (the formatters give it whole), its last line ended."""
     sys.stdout.write(text)
+    if text and not text.endswith("\n"):
+        sys.stdout.write("\n")
     sys.stdout.flush()
 
 
@@ -335,10 +366,17 @@ def date_option(text: str, name: str = "--date") -> str:
 
 
 def zone_option(text: str | None, name: str = "--zone") -> float | None:
-    """A zone description ('+1', '-5', a zone letter), hours (ZT + ZD = UTC); None when not given."""
-    from ..timework import parse_zone_description
+    """A zone description ('+1', '-5', a zone letter), hours (ZT + ZD = UTC); None when not given. An offset
+    named UTC or GMT ('UTC-10') is read as the zone description of the opposite sign, with a note."""
+    from ..timework import parse_zone_description, utc_offset_zone
 
-    return None if text is None else float(parsed(name, parse_zone_description, text))
+    if text is None:
+        return None
+    zd = float(parsed(name, parse_zone_description, text))
+    if utc_offset_zone(text) is not None:
+        typer.echo(f"note: {name} {text!r} is a UTC offset: read as zone description {int(zd):+d} "
+                   "(ZT + ZD = UTC, the offset's opposite sign)", err=True)
+    return zd
 
 
 def index_error_option(text: str, name: str = "--index-error") -> float:
@@ -382,14 +420,23 @@ def old_outputs(outputs: list[str] | None, **old: str | None) -> list[str]:
 
 
 def source(paths: list[str]):
-    """One file as itself, several as a list: what the readers take."""
+    """One file as itself, several as a list: what the readers take. From here the run has a log: a failure
+    after this ends with the caution too (:func:`failed`)."""
+    log_named()
     return paths[0] if len(paths) == 1 else list(paths)
+
+
+def log_named() -> None:
+    """The run is about to read a log (sights, a rating log, a compass book): a failure from here on ends with the
+    caution, as the run's success would."""
+    _RUN["log_named"] = True
 
 
 def ratings(rates: str | None, dates: str | None = None):
     """The rating log given with --rates, read and fitted with the log's date order (None without one)."""
     if not rates:
         return None
+    log_named()
     from ..io.timesignals import read_rating_log
 
     return read_rating_log(rates, dates=dates)

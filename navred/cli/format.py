@@ -228,13 +228,17 @@ def reduce_lines(done) -> Iterator[str]:
     shown = utc_jd_to_seconds_text(reduced.utc_jd1.to_numpy(dtype=float), reduced.utc_jd2.to_numpy(dtype=float)) \
         if len(reduced) and "utc_jd1" in reduced.columns else np.zeros(len(reduced), dtype=object)
     kinds: dict[str, list] = {}  # each kind of refusal: its rows' labels (the first few shown in full)
+    firsts: dict[str, tuple[str, str]] = {}  # each kind's first row: its message and the columns it names
     for label, row, when in zip(labels, reduced.itertuples(), shown.tolist()):
         when = when or ""
         if row.status == SightStatus.ERROR:
-            alike = kinds.setdefault(refusal_kind(row.message), [])
+            kind = refusal_kind(row.message)
+            alike = kinds.setdefault(kind, [])
             alike.append(label)
+            columns = str(getattr(row, "error_column", "") or getattr(row, "read_problem_column", "") or "")
+            first = firsts.setdefault(kind, (row.message, columns))
             said = row.message if len(alike) <= FULL_REFUSALS else \
-                f"as row {alike[0]}{_first_quoted(row.message)}"
+                same_reasons_as(alike[0], first[0], row.message, columns)
             yield f"{label:>{width}}  {str(row.body_name or '?'):<15}{when:<21}{'not reduced:':>12} {said}"
             continue
         intercept = f"{abs(row.intercept_nm):5.1f} nm {row.intercept_direction}"
@@ -247,9 +251,10 @@ def reduce_lines(done) -> Iterator[str]:
     done = int(counts.get('ok', 0) + counts.get('warning', 0))
     yield (f"{done} sight{'' if done == 1 else 's'} reduced "
            f"({int(counts.get('warning', 0))} with a warning), {int(counts.get('error', 0))} not reduced{empty}")
-    for alike in kinds.values():  # a refusal repeated row after row, counted once with its rows
+    for kind, alike in kinds.items():  # a refusal repeated row after row, counted once with its rows
         if len(alike) > FULL_REFUSALS:
-            yield (f"  {len(alike)} rows not reduced for the reason given in full at row {alike[0]} "
+            reasons = "reasons" if len(_reason_columns(firsts[kind][1])) > 1 else "reason"
+            yield (f"  {len(alike)} rows not reduced for the {reasons} given in full at row {alike[0]} "
                    f"({_compact(alike)})")
 
 
@@ -267,11 +272,25 @@ def refusal_kind(message: str) -> str:
     return re.sub(r"\(# [A-Z][a-z]+\)", "(#)", kind)
 
 
-def _first_quoted(message: str) -> str:
+def _reason_columns(columns: str) -> list[str]:
+    return [c for c in str(columns).split(", ") if c]
+
+
+def same_reasons_as(first_label: str, first_message: str, message: str, columns: str) -> str:
+    """A refusal said in short as the same as an earlier row's, given in full there: all of its reasons, by the
+    columns they name ('the same 2 reasons as row 2 (IE, DR lon)'); where the row's values differ from that
+    row's, its own values are quoted, so that none reads as taken."""
     import re
 
-    found = re.search(r"'[^']*'", str(message))
-    return f" ({found.group(0)})" if found else ""
+    named = _reason_columns(columns)
+    count = f"{len(named)} reasons" if len(named) > 1 else "reason"
+    where = f" ({', '.join(named)})" if named else ""
+    if str(message) == str(first_message):
+        return f"the same {count} as row {first_label}{where}"
+    theirs = set(re.findall(r"'[^']*'", str(first_message)))
+    values = [v for v in dict.fromkeys(re.findall(r"'[^']*'", str(message))) if v not in theirs]
+    own = f"; this row's own value{'s' if len(values) > 1 else ''}: {', '.join(values[:4])}" if values else ""
+    return f"the same kind of {count} as row {first_label}{where}{own}"
 
 
 def _compact(labels: list) -> str:

@@ -33,6 +33,7 @@ from .common import (
     index_error_option,
     input_files,
     instant_option,
+    log_named,
     no_eye_warning,
     number,
     old_outputs,
@@ -164,6 +165,8 @@ def paper_command(
         if count not in (3, 4, 5):
             raise NavredError(f"--count {count}: give 3, 4 or 5")
         no_eye_warning(eye)
+        if log:
+            log_named()
         paper = passage_paper(first, last, lat_deg, lon_deg, course_deg=course, speed_kn=speed, route=route,
                               depart=instant_option(depart, "--depart"), log=log, vessel=vessel, dates=dates,
                               rates=ratings(rates, dates), carry_current=carry_current,

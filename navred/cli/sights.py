@@ -36,7 +36,21 @@ from .common import (
     source,
 )
 
+#: where a run that reduced nothing has said each row's reason
+ABOVE = "each row's reason is above"
+
 SIGHTS = typer.Argument(..., metavar="SIGHTS...", help=SIGHTS_HELP)
+
+
+def nothing_reduced_said(voyage) -> None:
+    """When no sight of a log was reduced, on stderr before the one error line: the count and each refusal by kind
+    with its rows, as ``reduce --csv`` closes (:func:`navred.cli.format.reduced_count_lines`), so that every
+    command says why rather than sending the navigator to another."""
+    from ..jobs.reducing import ReducedCount
+    from .format import reduced_count_lines
+
+    if len(voyage.reduced) and not voyage.n_reduced:
+        echo_lines(reduced_count_lines(ReducedCount.of(voyage.reduced, voyage.log.empty_rows)), err=True)
 
 
 def _rates():
@@ -96,9 +110,11 @@ def reduce_command(
             sys.stdout.buffer.flush()
             from .format import reduced_count_lines
 
-            # after the CSV, on stderr: what was read, reduced and refused, each refusal and warning by kind
+            # after the CSV, on stderr: what a later block's reader noted (a row repeating the header, skipped),
+            # what was read, reduced and refused, each refusal and warning by kind
+            echo_lines((f"note: {n}" for n in count.notes if n not in done.notes), err=True)
             echo_lines(reduced_count_lines(count), err=True)
-            require_reduced(count.rows, count.reduced, "the CSV names each row and why (status, message)")
+            require_reduced(count.rows, count.reduced, f"{ABOVE}, and in the CSV (status, message)")
             return
         from .format import reduce_lines
 
@@ -106,7 +122,7 @@ def reduce_command(
                           navigators=tuple(navigator or ()))
         print_notes(done)
         echo_lines(reduce_lines(done))
-        require_reduced(len(done.reduced), done.n_reduced, "each row's reason is above")
+        require_reduced(len(done.reduced), done.n_reduced, ABOVE)
 
 
 @command("fix")
@@ -145,11 +161,18 @@ def fix_command(
                          chart=None if lat is None else (lat, lon), solve_motion=solve_motion,
                          navigators=tuple(navigator or ()))
         print_notes(report.voyage, err=True)
-        require_reduced(len(report.voyage.reduced), report.voyage.n_reduced)
+        nothing_reduced_said(report.voyage)
+        require_reduced(len(report.voyage.reduced), report.voyage.n_reduced, ABOVE)
         from .format import fix_report_lines, fixes_csv
 
         if csv:
             echo_csv(fixes_csv(report))
+            # the rows not reduced, on stderr (the text lists them): a fix from fewer sights than logged says so
+            if report.voyage.n_reduced < len(report.voyage.reduced):
+                from .format import WARNINGS_SHOWN, labels_of, sight_refusal_lines
+
+                reduced = report.voyage.reduced
+                echo_lines(sight_refusal_lines(reduced, labels_of(reduced), shown=WARNINGS_SHOWN), err=True)
         else:
             echo_lines(fix_report_lines(report))
         if not report.n_fixes:
@@ -244,10 +267,11 @@ def _processed(sights_files, files, dates, rates, solve_motion, carry_current, c
     for path in files.values():
         check_output(path, log.sources)  # a folder's logs, now that they are known
     progress = _StderrBar("reducing sights")
-    voyage = process_log(log, solve_motion=solve_motion, progress=progress, carry_current=carry_current, rates=rated,
-                         navigators=navigators, route=waypoints, deviation=deviation)
-    progress.close()
-    return voyage
+    try:
+        return process_log(log, solve_motion=solve_motion, progress=progress, carry_current=carry_current,
+                           rates=rated, navigators=navigators, route=waypoints, deviation=deviation)
+    finally:  # the bar's line ended even on a failure, so that the error starts a line of its own
+        progress.close()
 
 
 class _StderrBar:
@@ -301,7 +325,12 @@ def _write_voyage_files(voyage, files: dict[str, str], chosen, plots: str | None
     if note:
         typer.echo(f"note: {note}", err=True)
     if plots:
-        written = write_plots(voyage, plots, formats, progress=_announced_plots(voyage, plots, formats))
+        bar = _announced_plots(voyage, plots, formats)
+        try:
+            written = write_plots(voyage, plots, formats, progress=bar)
+        finally:  # the bar's line ended even on a failure
+            if bar is not None:
+                bar.close()
         typer.echo(f"wrote {len(written)} picture files (plotting sheets and the voyage track) to {plots}")
     if ".gpx" in files:
         typer.echo(f"wrote {write_voyage_gpx(voyage, files['.gpx'])}")
@@ -392,7 +421,9 @@ def days_command(
             if voyage.n_rejected_rows:  # each with its reason: a rejected entry row changes the day's work
                 echo_lines(rejected_lines(voyage.rejected), err=True)
         if report.nothing_reduced or (days.empty and not len(voyage.reduced)):
-            require_reduced(len(voyage.reduced), voyage.n_reduced)
+            if csv:  # (the text names each rejected row above)
+                nothing_reduced_said(voyage)
+            require_reduced(len(voyage.reduced), voyage.n_reduced, ABOVE)
         if days.empty:
             raise NavredError(NO_DAYS_WORK)
         if ".csv" in files:
@@ -431,7 +462,8 @@ def series_command(
         report = check_series_log(source(sights_files), dates=dates, rates=ratings(rates, dates),
                                   threshold_arcmin=threshold)
         print_notes(report.voyage)
-        require_reduced(len(report.sights), report.voyage.n_reduced)
+        nothing_reduced_said(report.voyage)
+        require_reduced(len(report.sights), report.voyage.n_reduced, ABOVE)
         if csv:
             echo_csv(series_csv(report))
         else:
@@ -498,7 +530,8 @@ def training_command(
                 check_fits(len(log.table))
 
         run = train_log(source(sights_files), track, dates=dates, rates=ratings(rates, dates), check_rows=check)
-        require_reduced(len(run.voyage.reduced), run.voyage.n_reduced)
+        nothing_reduced_said(run.voyage)
+        require_reduced(len(run.voyage.reduced), run.voyage.n_reduced, ABOVE)
         if csv:
             from .format import training_csv
 

@@ -36,6 +36,7 @@ from ..timescales import (
 )
 from ..timework import (
     DATE_ORDERS,
+    utc_offset_zone,
     watch_error_words,
 )
 from ..vocabulary import (
@@ -178,6 +179,8 @@ def _layout(table: RawTable, also_reads: frozenset[str] = frozenset()) -> _Layou
     output = {"ho_deg", "hc_deg", "intercept_nm", "status", "sight_utc", "body_name"} <= set(normalised)
     layout = _Layout({}, {}, [], [])
     unread = []
+    # a zone description's column, named in the refusal of a bare 'Time' beside it
+    zoned = next((h for h in table.header if match_header(h).key == "zone_description"), None)
     for k, header in enumerate(table.header):
         name = normalised[k]
         if name in BOOKKEEPING_HEADERS:
@@ -194,7 +197,13 @@ def _layout(table: RawTable, also_reads: frozenset[str] = frozenset()) -> _Layou
             layout.extras.append(k)  # the caller's own column (a compass working's variation), not a DR entry's
             continue
         match = match_header(header)
-        if match.problem:
+        if match.problem and name == "time" and zoned:
+            layout.problems.append(
+                f"header {header!r} is ambiguous: UTC, or the ship's zone time read with the zone description "
+                f"column ({zoned!r}) beside it? a log may give UTC and note the ZD too, and the two readings are "
+                f"hours apart: head it 'Zone time' (the ship's clock, with the date and ZD columns: ZT + ZD = UTC) or "
+                f"'UTC' (each cell the whole instant, 2026-12-04T22:15Z; the ZD column is then not used)")
+        elif match.problem:
             layout.problems.append(match.problem)
         elif match.key is None:
             layout.extras.append(k)
@@ -524,8 +533,11 @@ def _parse(tables: list[RawTable], layouts, dates, rates=None, deviation=None) -
     if not sight_row.all():
         table = table[sight_row].reset_index(drop=True)
     notes = tuple(dict.fromkeys([note for layout in layouts for note in layout.notes]
+                                + [note for t in tables for note in t.notes]  # (a block's own: rows skipped)
                                 + _zone_notes(gathered["utc"], parsed["utc"].ok & sight_row, dates, sources, rows)
                                 + _assumed_notes(gathered, sources, rows, (message == "") & sight_row, times)
+                                + _offset_zone_notes(gathered["zone_description"], parsed["zone_description"].ok
+                                                     & sight_row, sources, rows)
                                 + list(times.get("notes", []))))
     return SightLog(table, rejected, tuple(t.source for t in tables), sum(t.empty_rows for t in tables), dates,
                     tuple(names), tuple(tables), entries=entries, notes=notes)
@@ -548,6 +560,34 @@ def _zone_notes(cells, ok, dates, sources, rows) -> list[str]:
             f"({shown}): taken as UTC, as the column's name says, whether written as text or as a spreadsheet "
             "date-time cell; if the log holds ship's time, give date, zone_time and zone_description instead "
             "(write Z, 2026-03-26T19:41:00Z, to say UTC)"]
+
+
+def _offset_zone_notes(cells, ok, sources, rows) -> list[str]:
+    """How a zone description written as a UTC offset with its name ('UTC-10', 'GMT+3') was read: one note per
+    distinct text, with its rows (the offset's sign is the opposite of the zone description's)."""
+    if not cells.present or not ok.any():
+        return []
+    values = cells.values.to_numpy(dtype=object)
+    read: dict[str, list] = {}
+    for i in np.flatnonzero(ok).tolist():
+        text = values[i]
+        if isinstance(text, str) and text.strip()[:3].upper() in ("UTC", "GMT"):
+            zd = utc_offset_zone(text)
+            if zd is not None:
+                read.setdefault(f"{text.strip()}\0{zd}", []).append(i)
+    several = len(set(sources.tolist())) > 1
+    notes = []
+    for key, members in read.items():
+        text, zd = key.split("\0")
+        zd = int(zd)
+        named = [f"{sources[i]} row {rows[i]}" if several else f"row {rows[i]}" for i in members[:8]]
+        shown = ", ".join(named) + (f" and {len(members) - 8} more" if len(members) > 8 else "")
+        clock = ("UTC itself" if zd == 0 else
+                 f"a clock {abs(zd)} h {'behind' if zd > 0 else 'ahead of'} UTC, ZT {'+' if zd > 0 else '−'} "
+                 f"{abs(zd)} h = UTC")
+        notes.append(f"zone description {text!r} ({shown}) is a UTC offset: read as zone description {zd:+d} "
+                     f"({clock}); a zone description has the offset's opposite sign")
+    return notes
 
 
 def _assumed_notes(gathered, sources, rows, sights: np.ndarray, times: dict) -> list[str]:
@@ -601,7 +641,9 @@ def _tabled(n, sources, rows, parsed, gathered, times, problems, by_reader, dr, 
         reason_text = found["reason"].astype(str).to_numpy(dtype=object)
         for k in range(MAX_REASONS_PER_ROW):
             at = rank == k
-            texts[k][index[at]] = [f"{c}: {r}" for c, r in zip(column_text[at].tolist(), reason_text[at].tolist())]
+            # a reason the reader gave the row whole (its column '(row)') stands alone, as it names the row itself
+            texts[k][index[at]] = [r if c == "(row)" else f"{c}: {r}"
+                                   for c, r in zip(column_text[at].tolist(), reason_text[at].tolist())]
             names[k][index[at]] = column_text[at]
         rejected_rows = np.unique(index)
         message[rejected_rows] = ["; ".join(t for t in parts if t is not None)
@@ -614,6 +656,11 @@ def _tabled(n, sources, rows, parsed, gathered, times, problems, by_reader, dr, 
     table["dr_carried_from"] = dr["note"]
     table["motion_carried_from"] = motion_note
     sight_row = ~(is_entry & (message == ""))  # an entry read well is kept apart; a bad one is a rejected row
+    unread_body = (message != "") & ~parsed["body"].ok & ~gathered["body"].blank
+    if unread_body.any():  # a body navred does not know ('Sunn'): the row named by the body as written
+        body = table["body_name"].to_numpy(dtype=object).copy()
+        body[unread_body] = [" ".join(cell_text(v).split()) for v in gathered["body"].values[unread_body]]
+        table["body_name"] = body
     bad_entry = is_entry & (message != "") & gathered["body"].blank
     if bad_entry.any():  # named by its kind, in brackets, where a sight names its body
         body = table["body_name"].to_numpy(dtype=object).copy()

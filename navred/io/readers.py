@@ -415,10 +415,14 @@ def _plain_block(source: str, header: list[str], data: list[str], first_row_numb
     if short_lines:
         problems: dict[int, tuple[str, str]] = {}
         malformed: dict[int, list[str]] = {}
-        _refuse_repeated_headers(header, columns, numbers, problems, malformed)
+        notes: list[str] = []
+        columns, numbers, problems, malformed, partial = _skip_repeated_headers(source, header, columns, numbers,
+                                                                                problems, malformed, notes)
+        if partial:
+            _refuse_repeated_headers(header, columns, numbers, problems, malformed)
         _blank_rows(columns, problems)
         return RawTable(source, header, columns, np.asarray(numbers, dtype=int), problems, separator,
-                        separator in (";", "\t"), int(blank.sum()), malformed)
+                        separator in (";", "\t"), int(blank.sum()), malformed, notes=notes)
     return _finish(source, header, columns, np.asarray(numbers, dtype=int), {}, {}, separator, int(blank.sum()),
                    clean=True)
 
@@ -809,7 +813,11 @@ def _finish(source, header, columns, numbers, problems, malformed, separator, em
             ) -> RawTable:
     """Mark the rows whose text cells hold a NUL byte, a control character or too many characters
     (each such row is rejected alone), column by column; each distinct text is looked at once.
-    ``clean``: the caller has checked the whole text for control characters, and there are none."""
+    ``clean``: the caller has checked the whole text for control characters, and there are none. A row that
+    repeats the header whole is skipped, with a note (:func:`_skip_repeated_headers`)."""
+    notes: list[str] = []
+    columns, numbers, problems, malformed, partial = _skip_repeated_headers(source, header, columns, numbers,
+                                                                            problems, malformed, notes)
     for k, column in enumerate(columns):
         bad = _bad_text_rows(column, lengths_only=clean)
         if bad is None:
@@ -819,27 +827,64 @@ def _finish(source, header, columns, numbers, problems, malformed, separator, em
                 continue
             problems[int(row)] = (header[k], _text_problem(str(column.iloc[row])))
             malformed[int(row)] = ["" if _is_blank(c.iloc[row]) else _shown(str(c.iloc[row])) for c in columns]
-    _refuse_repeated_headers(header, columns, numbers, problems, malformed)
+    if partial:
+        _refuse_repeated_headers(header, columns, numbers, problems, malformed)
     _blank_rows(columns, problems)
     return RawTable(source, header, columns, numbers, problems, separator, separator in (";", "\t"), empty,
-                    malformed)
+                    malformed, notes=notes)
 
 
-def _refuse_repeated_headers(header, columns, numbers, problems, malformed) -> None:
-    """Rows that repeat the header (a page's header copied down a sheet, two logs joined one under the other)
-    refused by their row, said to be a repeated header: read as data, their 'Date' would be refused as a date
-    that cannot be read, which misleads. Refused, not skipped: a log that holds one was put together by hand,
-    and its navigator is told where (the rows after it are read by the first header's columns)."""
+def _header_row_matches(header, columns) -> tuple[list[int], list[tuple[int, str]]]:
+    """(the rows whose first named cell is the first header's name: the rows that may repeat the header, the named
+    headers as (index, casefolded name))."""
     named = [(k, str(h).strip().casefold()) for k, h in enumerate(header) if str(h).strip()]
     if not named or not len(columns) or not len(columns[0]):
-        return
+        return [], named
     first, first_name = named[0]
     cells = columns[first].to_numpy(dtype=object)
     alike = [u for u in pd.unique(cells) if isinstance(u, str) and u.strip().casefold() == first_name]
     if not alike:
-        return
-    candidates = np.flatnonzero(pd.Series(cells, dtype=object).isin(alike).to_numpy())
-    for row in candidates.tolist():
+        return [], named
+    return np.flatnonzero(pd.Series(cells, dtype=object).isin(alike).to_numpy()).tolist(), named
+
+
+def _skip_repeated_headers(source, header, columns, numbers, problems, malformed, notes):
+    """Rows that repeat the header whole, every named column's cell its own header (a page's header copied down a
+    sheet, two logs of one layout joined one under the other), skipped with a note naming them: they are not
+    sights, and the rows after them are read by the same columns. A row that repeats only some of the header
+    (the rest blank) is left to :func:`_refuse_repeated_headers`, which refuses it by its row. Returns the
+    columns, row numbers, problems and malformed rows without the skipped rows (re-indexed), and whether any
+    other row may repeat the header in part (for :func:`_refuse_repeated_headers` to look at)."""
+    candidates, named = _header_row_matches(header, columns)
+    whole = [row for row in candidates if row not in problems and all(
+        not _is_blank(columns[k].iloc[row]) and str(columns[k].iloc[row]).strip().casefold() == name
+        for k, name in named)]
+    partial = len(candidates) > len(whole)
+    if not whole:
+        return columns, numbers, problems, malformed, partial
+    keep = np.ones(len(numbers), dtype=bool)
+    keep[whole] = False
+    skipped = [int(numbers[row]) for row in whole]
+    file = Path(str(source)).name if str(source) != "(table)" else "the table"
+    shown = ", ".join(map(str, skipped[:12])) + (f" and {len(skipped) - 12} more" if len(skipped) > 12 else "")
+    notes.append(f"{file}: row{'s' if len(skipped) > 1 else ''} {shown} repeat{'' if len(skipped) > 1 else 's'} "
+                 f"the header: skipped (not {'sights' if len(skipped) > 1 else 'a sight'}; the rows after "
+                 f"{'them' if len(skipped) > 1 else 'it'} are read by the same columns)")
+    index = np.cumsum(keep) - 1
+    columns = [column[keep].reset_index(drop=True) for column in columns]
+    problems = {int(index[row]): value for row, value in problems.items() if keep[row]}
+    malformed = {int(index[row]): value for row, value in malformed.items() if keep[row]}
+    return columns, np.asarray(numbers)[keep], problems, malformed, partial
+
+
+def _refuse_repeated_headers(header, columns, numbers, problems, malformed) -> None:
+    """Rows that repeat part of the header, the other cells blank (a header copied down a sheet with columns
+    left out, or another log's header), refused by their row, said to be a repeated header: read as data, their
+    'Date' would be refused as a date that cannot be read, which misleads. Refused, not skipped: the rows after
+    it may have been written to other columns, and are read by the first header's (a whole repeat is skipped
+    before this, :func:`_skip_repeated_headers`)."""
+    candidates, named = _header_row_matches(header, columns)
+    for row in candidates:
         if row in problems:
             continue
         matched = 0
@@ -854,9 +899,9 @@ def _refuse_repeated_headers(header, columns, numbers, problems, malformed) -> N
             if matched >= min(2, len(named)):
                 problems[row] = ("", (
                     f"row {int(numbers[row])} repeats the header row ({', '.join(repr(str(header[k])) for k, _ in named[:3])}"
-                    f"{', ...' if len(named) > 3 else ''}): it is not a sight, so it is refused; a header copied "
-                    "down the sheet or two logs joined? delete the row (the rows after it are read by the first "
-                    "header's columns)"))
+                    f"{', ...' if len(named) > 3 else ''}) in part, its other cells blank: it is not a sight, so "
+                    "it is refused; a header copied down the sheet or two logs joined? delete the row, and check "
+                    "that the rows after it were written in the first header's columns (they are read by them)"))
                 malformed[row] = ["" if _is_blank(c.iloc[row]) else _shown(str(c.iloc[row])) for c in columns]
 
 

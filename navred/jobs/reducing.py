@@ -98,15 +98,17 @@ class ReducedCount:
     warned: int = 0
     empty_rows: int = 0
     flagged: pd.DataFrame | None = None
+    #: what the reader noted of the block (a row repeating the header, skipped), in order
+    notes: tuple[str, ...] = ()
 
     @classmethod
-    def of(cls, reduced: pd.DataFrame, empty_rows: int = 0) -> ReducedCount:
+    def of(cls, reduced: pd.DataFrame, empty_rows: int = 0, notes: tuple[str, ...] = ()) -> ReducedCount:
         if not len(reduced):
-            return cls(empty_rows=empty_rows)
+            return cls(empty_rows=empty_rows, notes=tuple(notes))
         status = reduced["status"]
         flagged = reduced.loc[status != SightStatus.OK, [c for c in FLAGGED_COLUMNS if c in reduced.columns]]
         return cls(len(reduced), count_reduced(reduced), int((status == SightStatus.WARNING).sum()), empty_rows,
-                   flagged.reset_index(drop=True))
+                   flagged.reset_index(drop=True), tuple(notes))
 
     @property
     def refused(self) -> int:
@@ -116,7 +118,8 @@ class ReducedCount:
         parts = [f for f in (self.flagged, other.flagged) if f is not None and len(f)]
         return ReducedCount(self.rows + other.rows, self.reduced + other.reduced, self.warned + other.warned,
                             self.empty_rows + other.empty_rows,
-                            pd.concat(parts, ignore_index=True) if len(parts) > 1 else (parts[0] if parts else None))
+                            pd.concat(parts, ignore_index=True) if len(parts) > 1 else (parts[0] if parts else None),
+                            tuple(dict.fromkeys((*self.notes, *other.notes))))
 
 
 def _block_csv(plan: LogBlocks, k: int) -> tuple[bytes, ReducedCount]:
@@ -124,7 +127,7 @@ def _block_csv(plan: LogBlocks, k: int) -> tuple[bytes, ReducedCount]:
     its reduction came to."""
     log = plan.read(k)
     reduced = reduced_sights(log)
-    return csv_bytes(reduced, header=k == 0), ReducedCount.of(reduced, log.empty_rows)
+    return csv_bytes(reduced, header=k == 0), ReducedCount.of(reduced, log.empty_rows, log.notes)
 
 
 @dataclass(frozen=True)

@@ -302,7 +302,7 @@ def test_an_estimated_position_is_named_by_what_it_rests_on_in_every_output(tmp_
         "date,zone_time,zone_description,entry,dr_lat,dr_lon,course,speed,body,limb,hs,eye_height_m,fix_group\n"
         "2026-04-14,06:00:00,+1,departure,38 00.0 N,010 00.0 W,250,6,,,,,\n"
         "2026-04-14,12:30:00,+1,,,,,,Sun,lower,60 30.0,3.0,noon sun\n")
-    name = "EP from one Sun line, row 3, 13:30 UTC"  # 12:30 in zone +1 is 13:30 UTC; noon is 13:00 UTC
+    name = "EP from one Sun line (row 3), 13:30 UTC"  # 12:30 in zone +1 is 13:30 UTC; noon is 13:00 UTC
     days = process_log(path, plan=False).days_work()
     assert days.estimated["ep"].tolist() == [name]
     noon = days.noons.iloc[0]
@@ -669,19 +669,19 @@ def test_an_eps_name_and_picture_label_name_its_rows_and_the_rows_that_warn():
     from navred.figures.plotting import ep_label
     from navred.jobs.shiptrack import ep_name
 
-    assert ep_name("one Sun line,", [4], "2026-12-06 21:59:40") == "EP from one Sun line, row 4, 22:00 UTC"
-    assert (ep_name("the line of position of", [8, 7], "2026-12-07 05:00:10")
-            == "EP from the line of position of rows 7-8, 05:00 UTC")
-    assert ep_name("the latitude of", [3, 9], "2026-12-07 05:00:00") == "EP from the latitude of rows 3, 9, 05:00 UTC"
-    name = "EP from the line of position of rows 7-8, 05:00 UTC"
+    assert ep_name("one Sun line", [4], "2026-12-06 21:59:40") == "EP from one Sun line (row 4), 22:00 UTC"
+    assert (ep_name("the line of position", [8, 7], "2026-12-07 05:00:10")
+            == "EP from the line of position (rows 7-8), 05:00 UTC")
+    assert ep_name("the latitude", [3, 9], "2026-12-07 05:00:00") == "EP from the latitude (rows 3, 9), 05:00 UTC"
+    name = "EP from the line of position (rows 7-8), 05:00 UTC"
     assert ep_label(name) == "EP 05:00 (rows 7-8)"
     assert ep_label(name, "row 8: low sight (Ho under 5°): refraction uncertain") == (
         "EP 05:00 (rows 7-8: see row 8's warning)")
     assert ep_label(name, "row 7: low sight: x; row 8: low sight: y; row 8: star out of twilight") == (
         "EP 05:00 (rows 7-8: see the warnings of rows 7, 8)")
-    assert ep_label("EP from one Sun line, row 4, 22:00 UTC", "row 4: high sight (Hc above 85°): x") == (
+    assert ep_label("EP from one Sun line (row 4), 22:00 UTC", "row 4: high sight (Hc above 85°): x") == (
         "EP 22:00 (row 4: see its warning)")
-    assert ep_label("EP from the latitude of rows 3, 9, 05:00 UTC") == "EP 05:00 (rows 3, 9)"
+    assert ep_label("EP from the latitude (rows 3, 9), 05:00 UTC") == "EP 05:00 (rows 3, 9)"
 
 
 def test_the_voyage_pictures_no_room_list_stays_on_the_sheet_and_noons_are_labelled_before_eps(tmp_path):

@@ -454,12 +454,12 @@ def no_room_text(unplaced: list[str], width_pt: float) -> str:
 
 def ep_label(ep: str, note: str = "") -> str:
     """An estimated position's label on the voyage picture, short for a crowded chart: its time and the log rows
-    its name gives ('EP 22:00 (row 4)' for 'EP from one Sun line, row 4, 22:00 UTC'), and where its sights carry
+    its name gives ('EP 22:00 (row 4)' for 'EP from one Sun line (row 4), 22:00 UTC'), and where its sights carry
     a warning, the rows whose warnings to read (each warning names its row, in every output): 'EP 22:00 (row 4:
     see its warning)'."""
     import re
 
-    named = re.fullmatch(r"EP from .* (rows? [\d, -]+), (\d\d:\d\d) UTC", str(ep))
+    named = re.fullmatch(r"EP from .* \((rows? [\d, -]+)\), (\d\d:\d\d) UTC", str(ep))
     if not named:
         return str(ep)
     rows, time = named.group(1), named.group(2)

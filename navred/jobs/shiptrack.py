@@ -475,7 +475,7 @@ def estimated_positions(voyage, ships: ShipsSights, *, exercises: bool = False) 
             fix = group.fix
             utc = stamp(np.datetime64(fix.utc, "ns").astype(np.int64))
             out.append({"vessel": vessels[group.name], "fix_group": group.name, "utc": utc,
-                        "ep": ep_name(f"the {fix.kind} of", rows, utc), "estimated_position": position_text(
+                        "ep": ep_name(f"the {fix.kind}", rows, utc), "estimated_position": position_text(
                             fix.lat_deg, fix.lon_deg), "from": f"the {fix.kind} nearest the DR", "note": note,
                         "lat_deg": fix.lat_deg, "lon_deg": fix.lon_deg})
         elif group.fix is None and usable.size == 1:
@@ -483,7 +483,7 @@ def estimated_positions(voyage, ships: ShipsSights, *, exercises: bool = False) 
             lat, lon = estimated_position(r["dr_lat_deg"], r["dr_lon_deg"], r["intercept_nm"], r["zn_deg"])
             utc = str(r["sight_utc"])[:19]
             out.append({"vessel": vessels[group.name], "fix_group": group.name, "utc": utc,
-                        "ep": ep_name(f"one {r['body_name']} line,", rows, utc),
+                        "ep": ep_name(f"one {r['body_name']} line", rows, utc),
                         "estimated_position": position_text(float(lat), float(lon)),
                         "from": "the foot of the perpendicular from the DR to the line",
                         "note": note, "lat_deg": float(lat), "lon_deg": float(lon)})
@@ -492,7 +492,7 @@ def estimated_positions(voyage, ships: ShipsSights, *, exercises: bool = False) 
 
 def ep_name(what: str, rows: list[int], utc: str) -> str:
     """An estimated position named by what it is, the log rows it rests on (the rows every warning names) and its
-    time: 'EP from one Sun line, row 4, 22:00 UTC'; 'EP from the line of position of rows 7-8, 05:00 UTC'. The
+    time: 'EP from one Sun line (row 4), 22:00 UTC'; 'EP from the line of position (rows 7-8), 05:00 UTC'. The
     fix-group label is not a name: it says nothing of what the position rests on."""
     rows = sorted(rows)
     if len(rows) == 1:
@@ -501,7 +501,7 @@ def ep_name(what: str, rows: list[int], utc: str) -> str:
         where = f"rows {rows[0]}-{rows[-1]}"
     else:
         where = "rows " + ", ".join(str(r) for r in rows)
-    return f"EP from {what} {where}, {pd.Timestamp(utc).round('min').strftime('%H:%M')} UTC"
+    return f"EP from {what} ({where}), {pd.Timestamp(utc).round('min').strftime('%H:%M')} UTC"
 
 
 #: A noon from a DR that carries a current (entered in the log, or each fix's carried) is the trade's estimated

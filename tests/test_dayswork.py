@@ -706,3 +706,15 @@ def test_the_voyage_pictures_no_room_list_stays_on_the_sheet_and_noons_are_label
     picture = voyage_track_picture(process_log(path, plan=False).days_work())
     labels = [item.text for item in picture.items if getattr(item, "kind", None) == "label"]
     assert labels.index("noon 04-14") < labels.index("EP 13:30 (row 3: see its warning)")
+
+
+def test_an_ep_on_a_meridian_altitude_is_named_so():
+    # the invented passage's noon Suns are taken at meridian passage (sample_sights/, scripts/make_passage.py; the
+    # samples' test checks noon at meridian passage): an EP from one of them is the noon latitude with the DR's
+    # longitude, named by it (common practice), not "one Sun line"
+    days = process_log("sample_sights/passage_log.csv", plan=False).days_work()
+    meridian = days.latitudes[days.latitudes["method"] == "meridian"]
+    assert len(meridian) == len(days.estimated) == 3
+    for row, ep in zip(meridian["row"], days.estimated["ep"]):
+        assert ep.startswith(f"EP from the Sun's meridian altitude ({row}), "), ep
+    assert all(n.startswith("EP from the Sun's meridian altitude (row ") for n in days.noons["noon_from"])

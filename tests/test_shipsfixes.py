@@ -227,7 +227,7 @@ def test_a_cadets_noon_is_marked_against_the_ships_own_noon_latitude_not_her_dr(
     assert set(noons["observer"]) == set(cadets) and (noons["kind"] == "estimated position").all()
     for row in noons.to_dict("records"):
         # the ship's EP named by what it rests on (FINDINGS-28 10a), its group after it
-        assert re.match(r"the ship's EP from one Sun line \(row \d+\), 12:4\d UTC \(fix group noon Hale\)",
+        assert re.match(r"the ship's EP from the Sun's meridian altitude \(row \d+\), 12:4\d UTC \(fix group noon Hale\)",
                         row["ship_from"]), row
         assert row["ship_from"].endswith(" carried on 1 min along her DR") or "2 min" in row["ship_from"], row
         # to 0.25 nm: each line's foot lies on the perpendicular from a DR ~5 nm out (the current left out), and

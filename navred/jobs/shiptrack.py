@@ -463,6 +463,11 @@ def estimated_positions(voyage, ships: ShipsSights, *, exercises: bool = False) 
     status = reduced["status"].to_numpy() if len(reduced) else np.zeros(0, dtype=object)
     messages = reduced["message"].to_numpy(dtype=object) if len(reduced) else np.zeros(0, dtype=object)
     out = []
+    # a single line that is a latitude (meridian, ex-meridian, Polaris) is named so: the noon EP of a meridian
+    # altitude is the trade's noon latitude with the DR's longitude (common practice)
+    latitudes = latitude_checks(reduced) if len(reduced) else None
+    method = (dict(zip(latitudes["index"].astype(int).tolist(), latitudes["method"].tolist()))
+              if latitudes is not None and len(latitudes) else {})
     for group in voyage.groups:
         if (group.fix is not None and group.fix.is_fix) or ships.is_ship(group.name) == exercises:
             continue
@@ -483,11 +488,22 @@ def estimated_positions(voyage, ships: ShipsSights, *, exercises: bool = False) 
             lat, lon = estimated_position(r["dr_lat_deg"], r["dr_lon_deg"], r["intercept_nm"], r["zn_deg"])
             utc = str(r["sight_utc"])[:19]
             out.append({"vessel": vessels[group.name], "fix_group": group.name, "utc": utc,
-                        "ep": ep_name(f"one {r['body_name']} line", rows, utc),
+                        "ep": ep_name(_single_line_words(r["body_name"], method.get(int(usable[0]), "")), rows,
+                                      utc),
                         "estimated_position": position_text(float(lat), float(lon)),
                         "from": "the foot of the perpendicular from the DR to the line",
                         "note": note, "lat_deg": float(lat), "lon_deg": float(lon)})
     return out
+
+
+def _single_line_words(body: str, method: str) -> str:
+    """What one sight's line is: 'the Sun's meridian altitude', 'the Sun's ex-meridian altitude', 'Polaris',
+    else 'one Sun line'."""
+    if method == "Polaris":
+        return "Polaris"
+    if method in ("meridian", "ex-meridian"):
+        return f"the {body}'s {method} altitude"
+    return f"one {body} line"
 
 
 def ep_name(what: str, rows: list[int], utc: str) -> str:

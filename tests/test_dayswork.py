@@ -411,7 +411,7 @@ def test_set_and_drift_only_where_it_means_something(ts, eph, tmp_path):
     assert np.isfinite(rows.loc["1200", "drift_kn"])  # six hours from the departure: found
     assert rows.loc["1200", "drift_kn"] == pytest.approx(1.2, abs=0.1)
     assert np.isnan(rows.loc["1212", "drift_kn"]) and np.isnan(rows.loc["1212", "set_deg"])
-    assert rows.loc["1212", "note"].startswith("not determined: 12 min between the fixes, less than the 2 h")
+    assert rows.loc["1212", "note"].startswith("not determined: 12 min from the position before, less than the 2 h")
     far = process_log(_rounds_log(ts, eph, track, start, (39.0, -12.0), times[:1]), plan=False).days_work()
     row = far.set_drift.iloc[0]
     assert np.isnan(row["drift_kn"]) and "more than any current of the sea (8 kn)" in row["note"]
@@ -433,7 +433,7 @@ def test_set_and_drift_only_where_it_means_something(ts, eph, tmp_path):
     from navred.cli import app
 
     text = CliRunner().invoke(app, ["days", str(tmp_path / "log.csv")]).stdout
-    assert "fix 1212: set and drift not determined: 12 min between the fixes" in text
+    assert "fix 1212: set and drift not determined: 12 min from the position before" in text
     assert text.count(" kn over ") == 1
 
 

@@ -236,8 +236,9 @@ def current_verdict(hours, drift_kn, drift_95_kn, distance_nm) -> tuple[np.ndarr
     reasons = []
     for h, d, s, m in zip(hours.tolist(), drift.tolist(), spread.tolist(), distance.tolist()):
         if not h >= SET_DRIFT_MIN_HOURS:
-            reasons.append(f"not determined: {h * 60:.0f} min between the fixes, less than the "
-                           f"{SET_DRIFT_MIN_HOURS:g} h a current needs to show against the fixes' own errors")
+            # the position before may be the departure or a position entry, not a fix
+            reasons.append(f"not determined: {h * 60:.0f} min from the position before, less than the "
+                           f"{SET_DRIFT_MIN_HOURS:g} h a current needs to show against the positions' own errors")
         elif not d <= MAX_CURRENT_KN:
             reasons.append(f"not determined: the fix lies {m:.1f} nm from the DR after {h:.1f} h, more than any "
                            f"current of the sea ({MAX_CURRENT_KN:g} kn) carries a ship: check this fix, the one "

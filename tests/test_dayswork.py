@@ -718,3 +718,31 @@ def test_an_ep_on_a_meridian_altitude_is_named_so():
     for row, ep in zip(meridian["row"], days.estimated["ep"]):
         assert ep.startswith(f"EP from the Sun's meridian altitude ({row}), "), ep
     assert all(n.startswith("EP from the Sun's meridian altitude (row ") for n in days.noons["noon_from"])
+
+
+def test_a_fix_that_cannot_be_trusted_never_restarts_the_dr(tmp_path):
+    """The trial's far_E log (FINDINGS-28; altitudes made by the trial at 17° 30′ S 149° 30′ W, the DR written 149°
+    30′ E): its fix, 1,780 nm from the DR with a 1,464-nm ellipse, CANNOT BE TRUSTED; the day's work restarted
+    the DR there and the voyage picture drew it as a fix. It is left out, said so, and named on the picture
+    (common practice: a fix that cannot be trusted is looked into, the DR kept on)."""
+    from navred.figures.plotting import voyage_track_picture
+
+    path = tmp_path / "far_e.csv"
+    path.write_text(
+        "Date,Watch time,ZD,Watch error,Body,Limb,Hs,IE,Height of eye (m),DR lat,DR lon,Course (°T),Speed (kn),"
+        "Fix group,Observer\n"
+        "2026-12-04,7:05 pm,+10h,0 s,Canopus,,10° 46.9′,1.2 off,3.0,17° 30.0′ S,149° 30.0′ E,0,0,stars,2/O\n"
+        "2026-12-04,7:06 pm,+10h,0 s,Achernar,,46° 40.5′,1.2 off,3.0,17° 30.0′ S,149° 30.0′ E,0,0,stars,2/O\n"
+        "2026-12-04,7:07 pm,+10h,0 s,Fomalhaut,,70° 47.2′,1.2 off,3.0,17° 30.0′ S,149° 30.0′ E,0,0,stars,2/O\n",
+        encoding="utf-8")
+    voyage = process_log(path, plan=False)
+    assert voyage.group("stars").fix.untrusted  # the fix's own verdict (grosserrors.mark_untrusted)
+    days = voyage.days_work()
+    assert days.left_out == {"": (("stars", voyage.group("stars").fix.untrusted),)}
+    assert not any(label.startswith("fix ") for track in days.tracks.values() for label in track.known_label)
+    assert not len(days.set_drift)
+    assert any(n.startswith("the ship: the fix stars CANNOT BE TRUSTED (") and "the DR is not restarted from it" in n
+               for n in days.notes)
+    texts = [getattr(item, "text", "") for item in voyage_track_picture(days).items]
+    assert any(t.startswith("Not drawn: the fix stars, which cannot be trusted") for t in texts)
+    assert not any(getattr(item, "kind", None) == "ellipse" for item in voyage_track_picture(days).items)

@@ -15,6 +15,7 @@ import numpy as np
 from ..angles import format_angle, wrap_180
 from ..constants import NIL_DRIFT_KN
 from ..stats import chi_square_2_quantile
+from .drawing import text_width_pt
 from .placing import Placer, place_mark_label, rect_corners, segment_box, segment_boxes
 from .symbols import (  # noqa: F401  (the palette, also for the other figures)
     CHART,
@@ -354,9 +355,15 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
         spot = placed.spot
         sheet.text(spot.x, spot.y, text, placed.size, colour, anchor=spot.anchor, baseline=spot.baseline, box=PAPER,
                    kind="label")
-    if unplaced:
-        sheet.text(box[0] - 12, 51, no_room_text(unplaced, SHEET_PT * 1.5 - 20.0 - (box[0] - 12)), 7, INK,
-                   italic=True, kind="mark list")
+    # the fixes left out (they cannot be trusted) are named, never silently missing
+    left_out = [name for name, _ in getattr(days, "left_out", {}).get(vessel, ())]
+    missing = (f"Not drawn: the fix{'es' if len(left_out) > 1 else ''} {', '.join(left_out)}, which cannot be "
+               "trusted (see the warnings); the DR is not restarted from "
+               f"{'them' if len(left_out) > 1 else 'it'}. " if left_out else "")
+    if unplaced or missing:
+        width = SHEET_PT * 1.5 - 20.0 - (box[0] - 12)
+        sheet.text(box[0] - 12, 51, missing + (no_room_text(unplaced, width - text_width_pt(missing, 7, italic=True))
+                                               if unplaced else ""), 7, INK, italic=True, kind="mark list")
     sheet.line([chart.ax0, chart.ax1, chart.ax1, chart.ax0, chart.ax0],
                [chart.ay0, chart.ay0, chart.ay1, chart.ay1, chart.ay0], INK, 0.8)
     _voyage_key(sheet, chart)
@@ -442,8 +449,6 @@ def _voyage_known_positions(sheet, placer, chart: _VoyageChart, track, scales: d
 def no_room_text(unplaced: list[str], width_pt: float) -> str:
     """The line above the voyage picture naming the labels with no room on it: as many as the line holds in
     ``width_pt`` (7 pt italic), then how many more."""
-    from .drawing import text_width_pt
-
     for shown in range(len(unplaced), 0, -1):
         more = f" and {len(unplaced) - shown} more" if shown < len(unplaced) else ""
         text = f"No room on the sheet for the labels of: {', '.join(unplaced[:shown])}{more}."

@@ -127,8 +127,10 @@ def _known_positions(voyage, vessel: str, ships: ShipsSights, fix_vessel: dict[s
         for item in entries[entries["entry"].isin(["departure", "position"])].itertuples():
             known.append((int(utc64(pd.Series([item.utc]))[0].astype(np.int64)), float(item.lat_deg),
                           float(item.lon_deg), f"{item.entry} at row {item.row}", np.zeros((2, 2))))
+    # a fix that cannot be trusted as the position to plot never restarts the DR (common practice: the DR is kept
+    # on and the fix looked into); :func:`untrusted_fixes` names those left out
     fixes = [g for g in voyage.groups if g.fix is not None and g.fix.is_fix and fix_vessel[g.name] == vessel
-             and ships.is_ship(g.name)]
+             and ships.is_ship(g.name) and not g.fix.untrusted]
     fixes.sort(key=lambda g: np.datetime64(g.fix.utc, "ns"))
     times = np.array([np.datetime64(g.fix.utc, "ns").astype(np.int64) for g in fixes], dtype=np.int64)
     if vessel in ships.combined and len(fixes) > 1:
@@ -188,6 +190,19 @@ def _logged_dr_start(voyage, vessel: str, ships: ShipsSights, before: int | None
     k = int(np.flatnonzero(usable)[np.argmin(when[usable])])
     return (int(when[k]), float(lat[k]), float(lon[k]), f"{LOGGED_DR} at row {reduced['row'].iat[k]}",
             np.zeros((2, 2)))
+
+
+def untrusted_fixes(voyage) -> dict[str, tuple[tuple[str, str], ...]]:
+    """The ship's fixes that cannot be trusted as the position to plot (FixResult.untrusted), by vessel: (group,
+    why) each. The day's work leaves them out: no DR restarts at one, no set and drift, noon or exercise rests on
+    it."""
+    ships = ships_of(voyage)
+    fix_vessel = _fix_vessels(voyage)
+    out: dict[str, list] = {}
+    for g in voyage.groups:
+        if g.fix is not None and g.fix.is_fix and g.fix.untrusted and ships.is_ship(g.name):
+            out.setdefault(fix_vessel[g.name], []).append((g.name, g.fix.untrusted))
+    return {vessel: tuple(items) for vessel, items in out.items()}
 
 
 def vessel_tracks(voyage, *, carry_current: bool = False) -> dict[str, DRTrack]:
@@ -669,7 +684,7 @@ def track_points(voyage, vessel: str, track: DRTrack) -> list[dict]:
                                      leg_all[order].tolist(), kind_all[order].tolist())]
 
 
-__all__ = ["vessel_tracks", "ep_name", "NIL_DRIFT_KN", "NIL_SET", "known_label_at", "NOON_WINDOW_HOURS", "SET_DRIFT_COLUMNS", "NOON_COLUMNS",
+__all__ = ["vessel_tracks", "untrusted_fixes", "ep_name", "NIL_DRIFT_KN", "NIL_SET", "known_label_at", "NOON_WINDOW_HOURS", "SET_DRIFT_COLUMNS", "NOON_COLUMNS",
            "ESTIMATED_COLUMNS", "EXERCISE_COLUMNS", "ENTRY_WORK_COLUMNS", "current_verdict", "is_fix_label",
            "water_vector_nm", "water_run_nm", "vessel_entries", "SET_DRIFT_MIN_HOURS", "SET_DRIFT_MAX_95_KN",
            "MAX_CURRENT_KN", "position_text", "stamp", "stamps", "ships_of", "set_drift_rows", "set_current_text", "current_split_text", "estimated_positions",

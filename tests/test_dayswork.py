@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import io
 import json
+import re
 import sys
 from pathlib import Path
 
@@ -395,12 +396,12 @@ def _rounds_log(ts, eph, track, start, departure, fix_times):
 
 def test_set_and_drift_only_where_it_means_something(ts, eph, tmp_path):
     """Fixes 12 minutes apart give no set and drift (the rule: a run of at least 2 h, a drift known to ±1.5 kn,
-    no drift beyond 8 kn); a fix 60 miles from a DR six hours old gives none either (no current of the sea runs
-    10 kn: a fix or the DR is wrong); neither is printed as a drift nor drawn as an arrow on the voyage picture,
-    and each says why. (The 12-minute case used to print 'drift 0.81 ±12.29 kn'.)"""
+    no drift beyond 8 kn: # from memory, the strongest ocean currents run 4-5 kn); a fix 60 miles from a DR six
+    hours old gives none either (it cannot be trusted: a fix or the DR is wrong); neither is printed as a drift
+    nor drawn as an arrow on the voyage picture, and each says why. (The 12-minute case used to print 'drift 0.81 ±12.29 kn'.)"""
     from navred.figures.drawing import _Polygon
     from navred.figures.plotting import CHART, voyage_track_picture
-    from navred.jobs.shiptrack import MAX_CURRENT_KN, SET_DRIFT_MIN_HOURS
+    from navred.jobs.shiptrack import MAX_CURRENT_KN, SET_DRIFT_MIN_HOURS, current_verdict
 
     assert (SET_DRIFT_MIN_HOURS, MAX_CURRENT_KN) == (2.0, 8.0)
     start = pd.Timestamp("2026-04-14T06:00:00Z")
@@ -412,20 +413,28 @@ def test_set_and_drift_only_where_it_means_something(ts, eph, tmp_path):
     assert rows.loc["1200", "drift_kn"] == pytest.approx(1.2, abs=0.1)
     assert np.isnan(rows.loc["1212", "drift_kn"]) and np.isnan(rows.loc["1212", "set_deg"])
     assert rows.loc["1212", "note"].startswith("not determined: 12 min from the position before, less than the 2 h")
-    far = process_log(_rounds_log(ts, eph, track, start, (39.0, -12.0), times[:1]), plan=False).days_work()
-    row = far.set_drift.iloc[0]
-    assert np.isnan(row["drift_kn"]) and "more than any current of the sea (8 kn)" in row["note"]
-    assert row["dr_to_fix_nm"] > 50
+    # a fix 60 nm from a DR six hours old: the fix cannot be trusted (grosserrors.mark_untrusted), so no DR restarts
+    # at it and no set and drift is found against it (it was found as 10 kn, more than any current)
+    voyage = process_log(_rounds_log(ts, eph, track, start, (39.0, -12.0), times[:1]), plan=False)
+    far = voyage.days_work()
+    assert voyage.group("1200").fix.untrusted and voyage.group("1200").fix.dr_distance_nm > 50
+    assert not len(far.set_drift) and [name for name, _ in far.left_out[""]] == ["1200"]
+    # a fix that stands, 10 kn off its DR, would give none either (current_verdict's rule)
+    ok, why = current_verdict(6.0, 10.0, 0.5, 60.0)
+    assert not ok[0] and "more than any current of the sea (8 kn)" in why[0]
     for days, arrows in ((near, 1), (far, 0)):
         picture = voyage_track_picture(days)
         drawn = [item for item in picture.items if isinstance(item, _Polygon) and item.fill == CHART]
         assert len(drawn) == arrows
-        # the far fix's gap is drawn dotted with no head and says it is no current; the 12-minute one not at all
-        dotted = [item for item in picture.items if getattr(item, "kind", None) == "undetermined gap"]
         texts = [getattr(item, "text", "") for item in picture.items]
-        assert len(dotted) == (days is far)
-        assert any(t.startswith("DR to fix ") and t.endswith(" h: not a current: check this fix") for t in texts) == (
-            days is far)
+        # the 12-minute fix's gap is not drawn at all (the fixes' own error); the far fix is named, not drawn
+        assert not any(getattr(item, "kind", None) == "undetermined gap" for item in picture.items)
+        assert any(t.startswith("Not drawn: the fix 1200, which cannot be trusted") for t in texts) == (days is far)
+    # a drift within its uncertainty: the gap dotted, with no head, saying why (the demo day at sea, invented)
+    picture = voyage_track_picture(process_log("sample_sights/day_at_sea.csv", plan=False).days_work())
+    assert len([item for item in picture.items if getattr(item, "kind", None) == "undetermined gap"]) == 1
+    assert any(re.fullmatch(r"DR to fix \d+\.\d nm in 16\.4 h: drift under \d\.\d kn, its set not determined",
+                            getattr(item, "text", "")) for item in picture.items)
     log = _rounds_log(ts, eph, track, start, (38.0, -12.0), times)
     log.to_csv(tmp_path / "log.csv", index=False)
     from typer.testing import CliRunner

@@ -479,7 +479,8 @@ def ep_label(ep: str, note: str = "") -> str:
 
 def _undetermined_gap(sheet, chart: _VoyageChart, f: dict, lines: list | None) -> list:
     """A fix whose set and drift is not determined: the DR's gap to it as a dotted line with no head, labelled
-    with its miles and why it is no current ('drift under 1.8 kn: no set'; 'not a current: check this fix');
+    with its miles and why it is no current ('drift under 1.8 kn, its set not determined'; 'not a current:
+    check this fix');
     nothing where the run was too short for a current to show. Without it the fix stood off the DR's end
     unexplained."""
     from ..sailings import rhumb_inverse

@@ -44,7 +44,7 @@ ERRORS = {
     "LogbookError": "io.readers", "TrackError": "io.track", "CardError": "io.cards", "OutputError": "io.output",
 }
 #: The words results are sorted by (enums whose members are the words written: SightStatus.ERROR == "error").
-WORDS = {"SightStatus": "status", "FixKind": "status", "RunFrom": "status"}
+WORDS = {"SightStatus": "status", "FixKind": "status", "RunFrom": "status", "Distrust": "status"}
 _FRONT = {**FUNCTIONS, **RESULTS, **ERRORS, **WORDS}
 
 __all__ = ["__version__", *_FRONT]

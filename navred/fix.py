@@ -16,7 +16,7 @@ from .errors import NavredError
 from .fixbatch import SightRows, fix_batch
 from .fixresult import FixResult, GroupFixes
 from .fixstats import A_PRIORI_SIGMA_ARCMIN, DR_ERROR_FRACTION, DR_ERROR_KN
-from .grosserrors import check_fixes, leave_out_gross, mark_untrusted, misread_rounds
+from .grosserrors import check_fixes, leave_out_gross, mark_untrusted, mirrored_drs, misread_rounds
 from .leastsquares import broadcast
 from .timescales import utc_datetime64
 from .triangle import distance_bearing
@@ -106,6 +106,7 @@ def fixes_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike,
                    else set())
         leave_out_gross(sights, group, n_groups, ok, results, frozenset(misread))
         check_fixes(sights, group, n_groups, ok, results)
+        mirrored_drs(sights, group, n_groups, ok, results)
         mark_untrusted(results)
     # --- the chart or GNSS cross-check ------------------------------------------------------------
     if chart_lat is not None and chart_lon is not None:

@@ -10,7 +10,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .angles import wrap_axial
-from .status import FixKind, RunFrom
+from .status import Distrust, FixKind, RunFrom
 from .triangle import distance_bearing
 
 #: Lines of position that cross at less than this make a line (or a latitude), not a fix (common practice: below
@@ -132,6 +132,8 @@ class FixResult:
     #: altitudes read another way agree (degrees and minutes written as a decimal), or whose sights still
     #: scatter beyond any hand-held sextant
     untrusted: str = ""
+    #: the kind of that reason (a :class:`~navred.status.Distrust`; None for a position to plot), set with it
+    untrusted_cause: Distrust | None = None
     #: the fix of every sight with its Hs read as degrees and minutes written as a decimal, when that reading
     #: makes the sights agree (the reason this one is untrusted)
     other_reading: FixResult | None = field(default=None, repr=False)
@@ -179,6 +181,12 @@ class FixResult:
     @property
     def is_fix(self) -> bool:
         return self.kind == FixKind.FIX
+
+    @property
+    def trusted(self) -> bool:
+        """False for a position marked as not to be plotted (:attr:`untrusted` says why): the ``trusted`` column
+        of every table of fixes, the Fixes sheet, GPX and GeoJSON read this one property."""
+        return not self.untrusted
 
     def ellipse_text(self) -> str:
         """The 95 % ellipse's full size as a navigator reads it, and its semi-axes: '10.9 × 2.8 nm, semi-axes

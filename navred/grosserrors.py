@@ -14,7 +14,7 @@ import numpy as np
 
 from .angles import format_angle
 from .fixbatch import SightRows, fix_batch, subset_groups
-from .fixresult import FIX_ELLIPSE_LIMIT_NM
+from .fixresult import FIX_ELLIPSE_LIMIT_NM, FixResult
 from .fixstats import (
     A_PRIORI_SIGMA_ARCMIN,
     BLUNDER_ALPHA,
@@ -24,6 +24,7 @@ from .fixstats import (
 )
 from .sensechecks import SEXTANT_SIGMA_LIMIT_ARCMIN, common_error_arcmin
 from .stats import student_t_quantile
+from .status import Distrust
 from .triangle import distance_bearing
 
 
@@ -202,6 +203,7 @@ def misread_rounds(sights: SightRows, hs_deg: np.ndarray, group, n_groups, ok, r
         found.add(g)
         row = by_group[bounds[g]:bounds[g + 1]][result.used][0]
         miles = float(distance_bearing(result.lat_deg, result.lon_deg, trial.lat_deg, trial.lon_deg)[0])
+        result.untrusted_cause = Distrust.HS_AS_DECIMAL
         result.untrusted = (
             f"Hs looks like degrees and minutes written as a decimal: read so ({hs_deg[row]:.3f} as "
             f"{format_angle(hs_deg[row] + shift[row], 'signed')}), the sights agree to σ "
@@ -219,6 +221,68 @@ def misread_rounds(sights: SightRows, hs_deg: np.ndarray, group, n_groups, ok, r
 FAR_UNTRUSTED_FACTOR = 3.0
 
 
+def _mirror_words(lat_deg: float, lon_deg: float, flip_lat: bool, flip_lon: bool) -> str:
+    """'the DR's latitude written N for S' (and/or its longitude E for W), from the DR as logged."""
+    parts = []
+    if flip_lat:
+        parts.append(f"latitude written {'N for S' if lat_deg > 0 else 'S for N'}")
+    if flip_lon:
+        parts.append(f"longitude written {'E for W' if lon_deg > 0 else 'W for E'}")
+    return "the DR's " + " and its ".join(parts)
+
+
+def mirrored_drs(sights: SightRows, group, n_groups, ok, results) -> set[int]:
+    """A fix far from its DR (beyond ``dr_allowed_nm``) fixed again from its DR mirrored: the latitude's name
+    changed (N for S), the longitude's (E for W), and both (the course and speed kept: only the DR's names are in
+    doubt). Where a mirrored DR gives a fix whose sights agree as a sextant's do (σ within
+    SEXTANT_SIGMA_LIMIT_ARCMIN) and that lies within what that DR could be out, the DR was written in the wrong
+    hemisphere: the fix is marked untrusted saying so (the closest such mirror), before any other reason
+    (:func:`mark_untrusted`). Returns the groups so marked."""
+    far = [g for g, r in enumerate(results) if r is not None and r.is_fix and not r.untrusted
+           and np.isfinite(r.dr_distance_nm) and np.isfinite(r.dr_allowed_nm) and r.dr_distance_nm > r.dr_allowed_nm]
+    if not far:
+        return set()
+    times = np.array([results[g].utc for g in far], dtype="datetime64[ns]")
+    subset = subset_groups(group, far, n_groups)
+    best: dict[int, tuple[float, FixResult, bool, bool]] = {}
+    for flip_lat, flip_lon in ((True, False), (False, True), (True, True)):
+        mirrored = replace(sights, dr_lat=-sights.dr_lat if flip_lat else sights.dr_lat,
+                           dr_lon=-sights.dr_lon if flip_lon else sights.dr_lon)
+        trials, _ = fix_batch(mirrored, subset, len(far), ok, np.zeros(group.size, bool), times)
+        for j, g in enumerate(far):
+            trial = trials[j]
+            if (trial is None or not trial.is_fix or trial.scatter_impossible
+                    or trial.sigma_arcmin > SEXTANT_SIGMA_LIMIT_ARCMIN
+                    or not trial.dr_distance_nm <= max(trial.dr_allowed_nm, 1.0)):
+                continue
+            if g not in best or trial.dr_distance_nm < best[g][0]:
+                best[g] = (trial.dr_distance_nm, trial, flip_lat, flip_lon)
+    for g, (_, trial, flip_lat, flip_lon) in best.items():
+        result = results[g]
+        words = _mirror_words(result.dr_lat_deg, result.dr_lon_deg, flip_lat, flip_lon)
+        check = ' and '.join(n for n, f in (('N/S', flip_lat), ('E/W', flip_lon)) if f)
+        read_so = (f"from the DR read so ({format_angle(trial.dr_lat_deg, 'lat')} "
+                   f"{format_angle(trial.dr_lon_deg, 'lon')}) the sights agree to σ {trial.sigma_arcmin:.1f}′ and fix "
+                   f"at {format_angle(trial.lat_deg, 'lat')} {format_angle(trial.lon_deg, 'lon')}, "
+                   f"{trial.dr_distance_nm:.1f} nm from it (within the {trial.dr_allowed_nm:.0f} nm it could be out), "
+                   f"against {result.dr_distance_nm:.0f} nm from the DR as logged")
+        apart = float(distance_bearing(result.lat_deg, result.lon_deg, trial.lat_deg, trial.lon_deg)[0])
+        same = apart <= max(1.0, 2.0 * trial.ellipse_semi_major_nm)
+        if same and not result.scatter_impossible and not (
+                result.dr_distance_nm > FAR_UNTRUSTED_FACTOR * max(result.dr_allowed_nm, 1.0)):
+            # the fix found from the DR as logged is the one from the DR mirrored: the fix stands, the DR is wrong
+            result.warnings.append(f"likely cause: {words}: {read_so}; the fix itself stands: check the DR's {check}")
+            continue
+        result.untrusted_cause = Distrust.DR_HEMISPHERE
+        result.untrusted = (f"{words}? {read_so[0].upper()}{read_so[1:]}: check the DR's {check}, correct it and fix "
+                            "again" + (" (the position above is that same fix)" if same else ""))
+        result.warnings[:] = [
+            (f"the sights scatter by σ {result.sigma_arcmin:.1f}′ about this fix, found from the DR as logged; from "
+             "the DR mirrored they agree (the first warning)") if w.startswith("the sights scatter by σ") else w
+            for w in result.warnings]
+    return set(best)
+
+
 def mark_untrusted(results) -> None:
     """Every fix that cannot be trusted as the position to plot says so first, plainly, with why: a round
     misread (:func:`misread_rounds`), or sights that still scatter beyond any hand-held sextant once the gross
@@ -233,12 +297,14 @@ def mark_untrusted(results) -> None:
             left = " left in it" if result.left_out.any() else ""
             common = common_error_arcmin(result)
             if np.isfinite(common):
+                result.untrusted_cause = Distrust.COMMON_ERROR
                 result.untrusted = (
                     f"the sights{left} scatter beyond a sextant (σ {result.sigma_arcmin:.1f}′) but every one is off by "
                     f"about the same {abs(common):.1f}′ ({'high' if common > 0 else 'low'}): an error common to every "
                     "altitude, most likely the index error or the observer's personal error; its ellipse means "
                     "nothing: correct the altitudes and fix again")
             else:
+                result.untrusted_cause = Distrust.SCATTER
                 result.untrusted = (
                     f"the sights{left} scatter beyond a sextant: σ {result.sigma_arcmin:.1f}′, more than a hand-held "
                     f"one gives (about 1′, {SEXTANT_SIGMA_LIMIT_ARCMIN:.0f}′ in a seaway): some altitude, time or body "
@@ -246,6 +312,7 @@ def mark_untrusted(results) -> None:
                     "again")
         if (not result.untrusted and np.isfinite(result.dr_distance_nm) and np.isfinite(result.dr_allowed_nm)
                 and result.dr_distance_nm > FAR_UNTRUSTED_FACTOR * max(result.dr_allowed_nm, 1.0)):
+            result.untrusted_cause = Distrust.FAR_FROM_DR
             result.untrusted = (
                 f"the fix is {result.dr_distance_nm:.0f} nm from the DR, over {FAR_UNTRUSTED_FACTOR:.0f} times what "
                 f"the DR could be out ({result.dr_allowed_nm:.0f} nm): a slip of the time, the date, the zone "
@@ -260,9 +327,26 @@ def mark_untrusted(results) -> None:
                 "the unknowns cannot show that the scatter is smaller; plot it, but as no better than that ellipse, "
                 "and take more sights (a cocked hat of this size also comes from an error common to every sight)"))
         if result.untrusted:
-            result.warnings[:] = [w.replace("plot this one, and find out", "plot neither as it stands: find out")
-                                  for w in result.warnings]
-            result.warnings.insert(0, f"CANNOT BE TRUSTED as the position to plot: {result.untrusted}")
+            _say_untrusted(result)
+
+
+def _say_untrusted(result) -> None:
+    result.warnings[:] = [w.replace("plot this one, and find out", "plot neither as it stands: find out")
+                          for w in result.warnings]
+    result.warnings.insert(0, f"CANNOT BE TRUSTED as the position to plot: {result.untrusted}")
+
+
+def distrust(result, cause: Distrust, reason: str) -> bool:
+    """Mark a fix found trusted by :func:`mark_untrusted` as not to be plotted after all, for a reason found once
+    the fix is worked (a slip that every one of its sights fits, :func:`navred.jobs.zoneslips.name_zone_slips`):
+    the same fields and the same first warning as :func:`mark_untrusted` gives. Returns whether it was marked (a
+    fix already untrusted keeps its first reason; a line or latitude is not a position to plot anyway)."""
+    if result is None or not result.is_fix or result.untrusted:
+        return False
+    result.untrusted_cause = cause
+    result.untrusted = reason
+    _say_untrusted(result)
+    return True
 
 
 def check_fixes(sights: SightRows, group, n_groups, ok, results) -> None:
@@ -309,4 +393,4 @@ def _or_empty(values: np.ndarray, size: int) -> np.ndarray:
     return values if values.size == size else np.zeros(size, dtype=bool)
 
 
-__all__ = ["DECIMAL_EVIDENCE", "leave_out_gross", "misread_rounds", "mark_untrusted", "check_fixes"]
+__all__ = ["DECIMAL_EVIDENCE", "leave_out_gross", "misread_rounds", "mark_untrusted", "mirrored_drs", "distrust", "check_fixes"]

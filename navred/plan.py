@@ -50,7 +50,31 @@ def local_midnight(date, lon_deg: float) -> np.datetime64:
         date = str(date.astype("datetime64[D]"))
     year, month, day_of_month = parse_date(date if isinstance(date, str) else date, declarable=False)
     day = np.datetime64(f"{year:04d}-{month:02d}-{day_of_month:02d}", "D").astype("datetime64[ns]")
-    return day - np.timedelta64(int(round(lon_deg / 15.0 * NS_PER_HOUR)), "ns")
+    return day - np.timedelta64(int(round(_east_of_180(lon_deg) / 15.0 * NS_PER_HOUR)), "ns")
+
+
+def _east_of_180(lon_deg: float) -> float:
+    """A longitude given from 0 to 360° (as :func:`check_position` takes it) as −180 to 180°: 190° E is 170° W.
+    180° itself is kept as given (ZD −12 by the zone rule)."""
+    lon = float(lon_deg)
+    return lon - 360.0 if lon > 180.0 else lon
+
+
+def zone_midnight(date, lon_deg: float, zone_h: float | None = None) -> np.datetime64:
+    """00:00 zone time (the ship's clock) on the civil ``date`` ('2026-12-10'), as UTC: ZT + ZD = UTC, with ZD the
+    zone description given (``zone_h``, hours, + west), else the nautical zone of the longitude, −round(λ / 15°),
+    ±12 at the date line (common practice; :func:`navred.reckoning.zone_description_h`).
+
+    It is the instant a DR "at 00:00 of the first date" is given for: a navigator reads the time as the ship's
+    clock, not local mean time (which is off it by up to half an hour, or more with a zone kept far off; 12 minutes
+    at 177° E, 2.4′ of a 12-knot DR)."""
+    from .reckoning import zone_description_h
+
+    zd = float(zone_description_h(_east_of_180(lon_deg))) if zone_h is None else planner_number(zone_h, "zone description")
+    if not (np.isfinite(zd) and -12.0 <= zd <= 12.0):
+        raise NavredError(f"zone description {zd!r} is outside −12 to +12 hours")
+    midnight = local_midnight(date, 0.0)
+    return midnight + np.timedelta64(int(round(zd * NS_PER_HOUR)), "ns")
 
 
 def sun_altitude_deg(utc64: object, track: DRTrack) -> np.ndarray:
@@ -108,18 +132,19 @@ def meridian_passage_utc(body: str, day_starts: object, track: DRTrack, lower: b
 
 @api_boundary
 def sun_events(date: str | np.datetime64, lat_deg: float, lon_deg: float, eye_height_m: float = 0.0,
-               course_deg: float = 0.0, speed_kn: float = 0.0) -> dict:
+               course_deg: float = 0.0, speed_kn: float = 0.0, zone_h: float | None = None) -> dict:
     """Twilights, sunrise, meridian passage and sunset on the local civil ``date`` (UTC instants).
 
-    ``date`` is the civil date at the longitude (local mean time); the position is the DR at
-    00:00 local time, moving on ``course_deg`` at ``speed_kn``. Sunrise and sunset are the
+    ``date`` is the civil date at the longitude (the day searched runs from 00:00 local mean time); the
+    position is the DR at 00:00 zone time of ``date`` (:func:`zone_midnight`: the zone ``zone_h`` given, else
+    the longitude's), moving on ``course_deg`` at ``speed_kn``. Sunrise and sunset are the
     Sun's upper limb on the visible horizon: its centre at −50′ (34′ refraction, 16′
     semi-diameter; common practice) less the dip for ``eye_height_m``. Civil and nautical
     twilight: the centre 6° and 12° below the horizon. A key is None when the event does
     not happen that day (midnight sun, polar night, white nights).
     """
     events = voyage_events(date, 1, lat_deg, lon_deg, eye_height_m=eye_height_m,
-                           course_deg=course_deg, speed_kn=speed_kn)
+                           course_deg=course_deg, speed_kn=speed_kn, zone_h=zone_h)
     return {key: (None if np.isnat(events[key][0]) else events[key][0]) for key in EVENT_KEYS}
 
 
@@ -142,14 +167,17 @@ def check_position(lat_deg, lon_deg):
 
 
 def voyage_events(first_date: object, days: int, lat_deg: float, lon_deg: float, *, eye_height_m: float = 0.0,
-                  course_deg: float = 0.0, speed_kn: float = 0.0) -> dict:
+                  course_deg: float = 0.0, speed_kn: float = 0.0, zone_h: float | None = None) -> dict:
     """:func:`sun_events` for ``days`` consecutive local dates along a DR track of one course and speed, as arrays
-    (see :func:`track_events`)."""
+    (see :func:`track_events`): the ship at (``lat_deg``, ``lon_deg``) at 00:00 zone time of the first date
+    (:func:`zone_midnight`, the zone ``zone_h`` given or the longitude's), the days searched from 00:00 local
+    mean time there."""
     check_position(lat_deg, lon_deg)
     lat_deg, lon_deg = float(lat_deg), float(lon_deg)
     course_deg, speed_kn = planner_number(course_deg, "course"), planner_number(speed_kn, "speed")
     start = local_midnight(first_date, lon_deg)
-    return track_events(steady_track(lat_deg, lon_deg, start, course_deg, speed_kn), start, days,
+    origin = zone_midnight(first_date, lon_deg, zone_h)
+    return track_events(steady_track(lat_deg, lon_deg, origin, course_deg, speed_kn), start, days,
                         eye_height_m=eye_height_m)
 
 
@@ -170,8 +198,9 @@ def track_events(track: DRTrack, start: object, days: int, *, eye_height_m: floa
     """Twilights, sunrise, the Sun's meridian passage and sunset for ``days`` consecutive local dates along any DR
     track (a route's legs, a log's day's work), as arrays.
 
-    ``start`` is 00:00 local time of the first date (UTC; :func:`local_midnight` or :func:`track_local_midnight`);
-    each later day starts at 00:00 local time at that day's DR longitude. Returns the keys of
+    ``start`` is 00:00 local mean time of the first date (UTC; :func:`local_midnight` or
+    :func:`track_local_midnight`), where the search for the first day's events begins (the DR's own instants are
+    the track's); each later day starts at 00:00 local mean time at that day's DR longitude. Returns the keys of
     :data:`EVENT_KEYS` (NaT where an event does not happen), ``date`` (each local date) and ``track``.
     """
     eye_height_m = planner_number(eye_height_m, "height of eye")

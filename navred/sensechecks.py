@@ -7,7 +7,7 @@ import numpy as np
 
 from .fixresult import FixResult
 from .fixstats import DR_ALONE_SCALE, DR_ERROR_FRACTION, DR_ERROR_KN, WEAK_CROSSING_DEG
-from .stats import chi_square_quantile
+from .stats import chi_square_cdf, chi_square_quantile
 from .status import RunFrom
 from .triangle import distance_bearing
 
@@ -23,6 +23,9 @@ SCATTER_CONFIDENCE = 0.999
 #: two or more sights beyond the unknowns) agrees more closely than sights observed: its ellipse, drawn from
 #: that agreement, is too small, and the fix says so.
 SEXTANT_SIGMA_BEST_ARCMIN = 0.3
+#: A sextant's arc is read to 0.1′ (common practice): sights that agree closer than this look computed, rounded or
+#: copied; where the round is too small to say so at SCATTER_CONFIDENCE, the fix says that it cannot be judged.
+SEXTANT_READING_ARCMIN = 0.1
 
 
 #: Sights spanning more than this (minutes) with no course, no speed and one DR: the ship is taken as
@@ -104,6 +107,57 @@ def _common_error_words(result: FixResult) -> str:
             f"subtracted) or the observer's personal error{allowed}")
 
 
+def too_good(sigma_arcmin, dof) -> tuple[np.ndarray, np.ndarray]:
+    """The one rule for sights that agree too well, for fix and day's work alike (every fix's sense checks): the
+    chance that sights as good as the best sextant work (σ SEXTANT_SIGMA_BEST_ARCMIN) agree as closely as
+    ``sigma_arcmin`` on ``dof`` sights beyond the unknowns (chi-square: ν s²/σ² has ν degrees of freedom, for
+    Gaussian sight errors; navred.stats), and a remark in words: a warning where that chance is below
+    1 − SCATTER_CONFIDENCE (0.1 %), else, for a σ under SEXTANT_READING_ARCMIN, that the round is too small to
+    judge it ('cannot be judged'), else nothing (''). No σ estimated (two sights, ν 0): nothing.
+
+    >>> chance, words = too_good(np.array([0.04, 0.04, 0.5]), np.array([1, 8, 1]))
+    >>> [w.split(':')[0] for w in words]
+    ['the sights agree to σ 0.04′, closer than a sextant is read (0.1′), but 1 sight beyond the unknowns cannot judge whether that is too good to be true', 'the sights agree to σ 0.04′, closer than sights observed at sea agree', '']
+    """
+    sigma = np.atleast_1d(np.asarray(sigma_arcmin, dtype=float))
+    dof = np.atleast_1d(np.asarray(dof, dtype=float))
+    chance = np.full(sigma.shape, np.nan)
+    judged = (dof >= 1) & np.isfinite(sigma)
+    if judged.any():
+        chance[judged] = chi_square_cdf(dof[judged] * (sigma[judged] / SEXTANT_SIGMA_BEST_ARCMIN) ** 2, dof[judged])
+    words = np.full(sigma.shape, "", dtype=object)
+    alarm = 1.0 - SCATTER_CONFIDENCE
+    with np.errstate(invalid="ignore"):
+        remark = judged & ((chance < alarm) | (sigma < SEXTANT_READING_ARCMIN))
+    for j in np.flatnonzero(remark).tolist():
+        nu, s, p = int(dof[j]), float(sigma[j]), float(chance[j])
+        odds = (f"sights as good as the best sextant work (σ {SEXTANT_SIGMA_BEST_ARCMIN:.1f}′) agree this closely in "
+                f"{_chance(p)} (chi-square, {nu} degree{'' if nu == 1 else 's'} of freedom)")
+        if p < alarm:
+            words[j] = (
+                f"the sights agree to σ {s:.2f}′, closer than sights observed at sea agree: {odds}; navred warns "
+                f"below 1 in {round(1 / alarm):,}; the 95 % ellipse, drawn from that agreement, is too small to "
+                "trust; if the altitudes were computed, rounded from a fix or copied, take the position as good to a "
+                "mile or two at best")
+        elif s < SEXTANT_READING_ARCMIN:
+            words[j] = (
+                f"the sights agree to σ {s:.2f}′, closer than a sextant is read ({SEXTANT_READING_ARCMIN:.1f}′), but "
+                f"{nu} sight{'' if nu == 1 else 's'} beyond the unknowns cannot judge whether that is too good to be "
+                f"true: {odds}, and navred warns only below 1 in {round(1 / alarm):,}; if the altitudes were computed, rounded "
+                "from a fix or copied, the ellipse is too small")
+    return chance, words
+
+
+def _chance(p: float) -> str:
+    """'11 % of rounds', '1.8 % of rounds', 'fewer than 1 round in 10,000' (at most 'in 1,000,000')."""
+    if p >= 0.095:
+        return f"{p * 100:.0f} % of rounds"
+    if p >= 0.001:
+        return f"{p * 100:.1f} % of rounds"
+    k = min(6, int(np.floor(-np.log10(p)))) if p > 0 else 6
+    return f"fewer than 1 round in {10 ** k:,}"
+
+
 def sense_checks(results: list[FixResult], run_from: list[RunFrom], span_min: np.ndarray, age_h: np.ndarray,
                   speed_kn: np.ndarray, age_known: np.ndarray) -> None:
     """The fix-level warnings that look past the arithmetic, for a batch of results at once: a ship taken
@@ -124,16 +178,12 @@ def sense_checks(results: list[FixResult], run_from: list[RunFrom], span_min: np
     dof = np.array([r.redundant for r in results])
     sigma = np.array([r.sigma_arcmin for r in results])
     limit = np.full(dof.size, np.inf)
-    judged, checked = dof >= 1, dof >= 2
+    judged = dof >= 1
     if judged.any():
         limit[judged] = SEXTANT_SIGMA_LIMIT_ARCMIN * np.sqrt(chi_square_quantile(SCATTER_CONFIDENCE, dof[judged])
                                                              / dof[judged])
     wild = is_fix & (sigma > limit)
-    floor = np.zeros(dof.size)
-    if checked.any():
-        floor[checked] = SEXTANT_SIGMA_BEST_ARCMIN * np.sqrt(
-            chi_square_quantile(1.0 - SCATTER_CONFIDENCE, dof[checked]) / dof[checked])
-    too_close = is_fix & checked & (sigma < floor)
+    too_close = np.where(is_fix, too_good(sigma, dof)[1], "")
     far = distance > allowed
     dr_alone = DR_ALONE_SCALE * dr_sigma
     major = np.where(is_fix, size, 0.0)
@@ -171,13 +221,8 @@ def sense_checks(results: list[FixResult], run_from: list[RunFrom], span_min: np
             f"{(axis + 180.0) % 360.0:03.0f}°) is larger than the DR's own 95 % circle ({dr_alone[j]:.1f} nm for a DR "
             f"{age_h[j]:.1f} h old at {speed_kn[j]:.1f} kn, navred's DR-error model): {why}; along that axis the "
             "DR is the better guide")
-    for j in np.flatnonzero(too_close).tolist():
-        result = results[j]
-        result.warnings.append(
-            f"the sights agree to σ {result.sigma_arcmin:.2f}′, closer than sights observed at sea agree (the best "
-            f"sextant work is about {SEXTANT_SIGMA_BEST_ARCMIN:.1f}′): the 95 % ellipse, drawn from that agreement, is "
-            "too small to trust; if the altitudes were computed, rounded from a fix or copied, take the position as "
-            "good to a mile or two at best")
+    for j in np.flatnonzero(too_close != "").tolist():
+        results[j].warnings.append(too_close[j])
     common = np.array([common_error_arcmin(r) if w else np.nan for r, w in zip(results, wild)])
     for j in np.flatnonzero(wild).tolist():
         result = results[j]
@@ -195,7 +240,7 @@ def sense_checks(results: list[FixResult], run_from: list[RunFrom], span_min: np
                else ""))
 
 
-__all__ = ["SEXTANT_SIGMA_LIMIT_ARCMIN", "SEXTANT_SIGMA_BEST_ARCMIN", "SCATTER_CONFIDENCE", "STOPPED_SPAN_MIN", "UNKNOWN_DR_AGE_H",
+__all__ = ["SEXTANT_SIGMA_LIMIT_ARCMIN", "SEXTANT_SIGMA_BEST_ARCMIN", "SEXTANT_READING_ARCMIN", "SCATTER_CONFIDENCE", "STOPPED_SPAN_MIN", "UNKNOWN_DR_AGE_H",
            "DR_DISAGREEMENT_SIGMAS", "COMMON_ERROR_MIN_ARCMIN", "COMMON_ERROR_SHARE", "COMMON_ERROR_MIN_SIGHTS",
            "COMMON_ERROR_MIN_SPREAD", "common_error", "common_error_arcmin",
-           "sense_checks"]
+           "sense_checks", "too_good"]

@@ -18,7 +18,7 @@ from .constants import (
 )
 from .errors import NavredError
 from .magnitudes import DAYLIGHT_MAGNITUDE, magnitudes
-from .plan import check_position, local_midnight, track_events, voyage_events
+from .plan import check_position, local_midnight, track_events, voyage_events, zone_midnight
 from .reckoning import DRTrack, steady_track
 from .stars import SOLAR_SYSTEM, known_bodies
 from .triangle import computed_altitude_azimuth
@@ -218,10 +218,13 @@ class DayWindow:
 
 def daytime_fix_windows(first_date: object, days: int, lat_deg: float, lon_deg: float, *, course_deg: float = 0.0,
                         speed_kn: float = 0.0, min_alt_deg: float = 15.0, max_alt_deg: float = 70.0,
-                        min_crossing_deg: float | None = None, step_minutes: float = 10.0) -> list[DayWindow]:
+                        min_crossing_deg: float | None = None, step_minutes: float = 10.0,
+                        zone_h: float | None = None) -> list[DayWindow]:
     """When, over the coming days, the Sun and the Moon, Venus or a bright planet make a daytime fix.
 
-    Along the DR track, every ``step_minutes`` from 00:00 local time on ``first_date``: the Sun
+    Along the DR track (at (``lat_deg``, ``lon_deg``) at 00:00 zone time of ``first_date``, the zone ``zone_h``
+    given or the longitude's: :func:`navred.plan.zone_midnight`), every ``step_minutes`` from 00:00 local mean
+    time on ``first_date``: the Sun
     and the body both between the altitude limits and their lines crossing at
     ``min_crossing_deg`` (default :data:`DAY_CROSSING_DEG`) or more. Jupiter and Mars count only
     when at magnitude :data:`DAYLIGHT_MAGNITUDE` or brighter. Vectorised over the time grid.
@@ -231,7 +234,7 @@ def daytime_fix_windows(first_date: object, days: int, lat_deg: float, lon_deg: 
     start = local_midnight(first_date, lon_deg)
     step = np.timedelta64(int(step_minutes * NS_PER_MINUTE), "ns")
     grid = start + np.arange(int(days * MINUTES_PER_DAY / step_minutes) + 1) * step
-    track = steady_track(lat_deg, lon_deg, start, course_deg, speed_kn)
+    track = steady_track(lat_deg, lon_deg, zone_midnight(first_date, lon_deg, zone_h), course_deg, speed_kn)
     lat, lon = track.position(grid)
     bodies = ["Moon", "Venus", "Jupiter", "Mars"]
     names = np.array(["Sun"] + bodies, dtype=object)
@@ -259,23 +262,25 @@ def daytime_fix_windows(first_date: object, days: int, lat_deg: float, lon_deg: 
 
 
 def twilight_plans(first_date: object, days: int, lat_deg: float, lon_deg: float, *, course_deg: float = 0.0,
-                   speed_kn: float = 0.0, eye_height_m: float = 0.0, **plan_options) -> tuple[dict, list[SightPlan]]:
+                   speed_kn: float = 0.0, eye_height_m: float = 0.0, zone_h: float | None = None,
+                   **plan_options) -> tuple[dict, list[SightPlan]]:
     """Twilight times and a sight plan for every morning and evening of a passage on one course and speed.
 
     Star sights are planned midway between civil and nautical twilight, when stars and
     horizon are both in view (common practice). Returns the events (see
     :func:`voyage_events`) and the plans, morning then evening for each day, skipping
-    twilights that do not happen.
+    twilights that do not happen. The ship is at (``lat_deg``, ``lon_deg``) at 00:00 zone time of the first
+    date (the zone ``zone_h`` given, else the longitude's: :func:`navred.plan.zone_midnight`).
     """
     events = voyage_events(first_date, days, lat_deg, lon_deg, eye_height_m=eye_height_m,
-                           course_deg=course_deg, speed_kn=speed_kn)
+                           course_deg=course_deg, speed_kn=speed_kn, zone_h=zone_h)
     return events, plans_at_twilights(events, **plan_options)
 
 
 def track_twilight_plans(track: DRTrack, start: object, days: int, *, eye_height_m: float = 0.0,
                          **plan_options) -> tuple[dict, list[SightPlan]]:
-    """:func:`twilight_plans` along any DR track (a route's legs, a log's day's work) from ``start``, 00:00 local
-    time of the first date (see :func:`navred.plan.track_events`)."""
+    """:func:`twilight_plans` along any DR track (a route's legs, a log's day's work), the days searched from
+    ``start``, 00:00 local mean time of the first date (see :func:`navred.plan.track_events`)."""
     events = track_events(track, start, days, eye_height_m=eye_height_m)
     return events, plans_at_twilights(events, **plan_options)
 

@@ -62,6 +62,20 @@ class RunFrom(_Word):
     SOLVED = "solved (course and speed made good)"
 
 
+class Distrust(_Word):
+    """Why a fix cannot be trusted as the position to plot (``FixResult.untrusted_cause``; the ``untrusted_cause``
+    column of every table of fixes). Decided in one place, :func:`navred.grosserrors.mark_untrusted` (and
+    :func:`navred.grosserrors.misread_rounds` for Hs written as a decimal, :func:`navred.grosserrors.mirrored_drs`
+    for a DR in the wrong hemisphere, :func:`navred.grosserrors.distrust` for a slip every sight fits)."""
+
+    HS_AS_DECIMAL = "Hs as a decimal"
+    COMMON_ERROR = "common error"
+    SCATTER = "scatter"
+    DR_HEMISPHERE = "DR hemisphere"
+    FAR_FROM_DR = "far from the DR"
+    SLIP = "a slip every sight fits"
+
+
 #: code and meaning of every member, one table per enum (0: as expected; > 0: to be read with care; < 0: refused).
 SIGHT_STATUS_TABLE = {
     SightStatus.OK: (0, "reduced; nothing to note"),
@@ -82,7 +96,16 @@ RUN_FROM_TABLE = {
     RunFrom.OWN_DRS: (1, "no course or speed given: the run between the rows' own DRs"),
     RunFrom.SOLVED: (0, "the course and speed made good, solved with the position"),
 }
-_TABLES = {SightStatus: SIGHT_STATUS_TABLE, FixKind: FIX_KIND_TABLE, RunFrom: RUN_FROM_TABLE}
+DISTRUST_TABLE = {
+    Distrust.HS_AS_DECIMAL: (-1, "the Hs read as degrees and minutes written as a decimal make the sights agree"),
+    Distrust.COMMON_ERROR: (-2, "the sights scatter beyond a sextant, every one off by about the same (index error)"),
+    Distrust.SCATTER: (-3, "the sights scatter beyond a sextant: an altitude, time, body name or the run is wrong"),
+    Distrust.DR_HEMISPHERE: (-4, "the DR mirrored (N for S, E for W) fits the sights: the DR was written wrongly"),
+    Distrust.FAR_FROM_DR: (-5, "over three times as far from the DR as the DR could be out: a slip is likelier"),
+    Distrust.SLIP: (-6, "far from its DR, and one slip (the date, am/pm, the hour, the ZD...) fits every sight"),
+}
+_TABLES = {SightStatus: SIGHT_STATUS_TABLE, FixKind: FIX_KIND_TABLE, RunFrom: RUN_FROM_TABLE,
+           Distrust: DISTRUST_TABLE}
 
 
 def usable(status: Any) -> Any:
@@ -97,4 +120,5 @@ def usable(status: Any) -> Any:
     return np.asarray(status, dtype=object) != SightStatus.ERROR
 
 
-__all__ = ["SightStatus", "FixKind", "RunFrom", "SIGHT_STATUS_TABLE", "FIX_KIND_TABLE", "RUN_FROM_TABLE", "usable"]
+__all__ = ["SightStatus", "FixKind", "RunFrom", "Distrust", "SIGHT_STATUS_TABLE", "FIX_KIND_TABLE", "RUN_FROM_TABLE",
+           "DISTRUST_TABLE", "usable"]

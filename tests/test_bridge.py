@@ -220,7 +220,9 @@ LEVELS = {"nautical_dawn": -12.0, "civil_dawn": -6.0, "civil_dusk": -6.0, "nauti
 @pytest.mark.parametrize("lon_text, lon0, course", DATE_LINE)
 def test_at_the_date_line_every_event_carries_its_own_zone_and_date(tmp_path, ts, eph, lon_text, lon0, course):
     """Each event of the day's times (the CSV written) against a DR sailed in the test (tests/conftest.py
-    rhumb_integrated, RK4 on WGS 84, from 00:00 local mean time of the first date) and skyfield's Sun: the UTC is
+    rhumb_integrated, RK4 on WGS 84, from 00:00 zone time of the first date, the ship's clock: ZD −12 at 179° E,
+    +12 at 179° W, −round(λ/15°), common practice; 12:00 UTC either way, not local mean time's 12:04 and 11:56
+    UTC) and skyfield's Sun: the UTC is
     the instant skyfield's Sun (topocentric, airless centre) crosses −12° or −6° at the test's DR, or its hour
     angle there is 0° (noon), to the minute; the ZD is the nautical zone of the test's DR then (−round(λ/15°),
     ±12 either side of 180°; common practice); zone time + ZD = UTC with the zone date printed; each noon's DR is
@@ -236,7 +238,12 @@ def test_at_the_date_line_every_event_carries_its_own_zone_and_date(tmp_path, ts
                                       "-o", str(out), "-o", str(tmp_path / "dl.pdf")])
     assert result.exit_code == 0, result.output
     assert "the date line" in result.stdout
-    start = np.datetime64("2026-12-14T00:00", "ns") - np.timedelta64(int(round(lon0 / 15.0 * 3600e9)), "ns")
+    start = np.datetime64("2026-12-14T00:00", "ns") + np.timedelta64(int(-round(lon0 / 15.0)), "h")
+    said = f"at 00:00 zone time (ZD {'−12' if lon0 > 0 else '+12'}) of 2026-12-14 = 12:00 UTC {13 if lon0 > 0 else 14} Dec"
+    assert said in result.stdout
+    from pypdf import PdfReader
+
+    assert said in " ".join(PdfReader(str(tmp_path / "dl.pdf")).pages[0].extract_text().split())  # its first page too
 
     def dr(when):
         hours = (np.datetime64(when, "ns") - start) / np.timedelta64(1, "h")

@@ -165,12 +165,15 @@ def test_the_azimuths_command_prints_and_writes(tmp_path):
     assert result.exit_code == 0, result.output
     assert "amplitude E " in result.stdout and "amplitude W " in result.stdout
     assert "At twilight: a bright body" in result.stdout
+    # where and when the DR is, by the ship's clock (ZD +1 at 12° W: −round(λ/15°), common practice) and in UTC
+    start = "at 00:00 zone time (ZD +1) of 2026-03-26 = 01:00 UTC 26 Mar, then 215.0° at 6.5 kn"
+    assert start in result.stdout.splitlines()[0]
     table = pd.read_csv(tmp_path / "a.csv")
     assert {"utc", "zone_time", "zn_deg", "hc_deg"} <= set(table.columns) and len(table) > 20
     from pypdf import PdfReader
 
     page = " ".join(PdfReader(str(tmp_path / "a.pdf")).pages[0].extract_text().split())
-    assert " ".join(CAUTION.split()) in page and "true amplitude" in page
+    assert " ".join(CAUTION.split()) in page and "true amplitude" in page and start in page
 
 
 def test_the_compass_book_prints_its_bearings_and_card_under_the_caution(tmp_path):
@@ -289,7 +292,9 @@ def test_the_azimuth_tables_at_the_date_line_carry_each_rows_own_zone_and_date()
     from tests.conftest import rhumb_integrated
 
     made = watch_azimuths("2026-12-14", 2, -17.5, 179.0, course_deg=90.0, speed_kn=8.0, eye_height_m=3.0)
-    start = np.datetime64("2026-12-14T00:00", "ns") - np.timedelta64(int(round(179.0 / 15.0 * 3600e9)), "ns")
+    # the DR given is for 00:00 zone time of the date, the ship's clock (ZD −12 at 179° E): 12:00 UTC the day before
+    start = np.datetime64("2026-12-14T00:00", "ns") + np.timedelta64(int(-round(179.0 / 15.0)), "h")
+    assert "at 00:00 zone time (ZD −12) of 2026-12-14 = 12:00 UTC 13 Dec, then 090.0° at 8.0 kn" in made.start
     zones = set()
     for table in (made.sun, made.twilight):
         for r in table.to_dict("records"):

@@ -29,7 +29,7 @@ from tests.conftest import (
 )
 
 FIRST, LAST = "2025-06-10", "2025-06-11"
-START_LAT, START_LON = 40.0, -20.0  # the DR at 00:00 local time of the first date
+START_LAT, START_LON = 40.0, -20.0  # the DR at 00:00 zone time of the first date (ZD +1 at 20° W: 01:00 UTC)
 COURSE, SPEED = 90.0, 5.0
 EYE_M, INDEX_ERROR = 2.8, 1.4
 #: the ship is 3 nm north-east of her DR all the passage (the truth the reductions must find)
@@ -265,10 +265,11 @@ def test_the_pdf_text_is_extractable_with_its_symbols(paper):
 
 
 def truth(when) -> tuple[float, float]:
-    """The ship's true position: her DR (the track the paper was planned on: from 00:00 local mean time at 20° W,
-    01:20 UTC, on the course and speed) moved 3 nm on 045°; sailed in the test on WGS 84 and offset by the
-    spherical direct formula (tests/conftest.py), not by navred."""
-    start = np.datetime64(FIRST, "ns") + np.timedelta64(int(round(-START_LON / 15 * 3600)), "s")
+    """The ship's true position: her DR (the track the paper was planned on: from 00:00 zone time at 20° W, the
+    ship's clock, ZD = −round(λ / 15°) = +1 (common practice), 01:00 UTC, on the course and speed) moved 3 nm on
+    045°; sailed in the test on WGS 84 and offset by the spherical direct formula (tests/conftest.py), not by
+    navred."""
+    start = np.datetime64(FIRST, "ns") + np.timedelta64(int(-round(START_LON / 15)) * 3600, "s")
     hours = (np.datetime64(when, "ns") - start) / np.timedelta64(1, "h")
     lat, lon = rhumb_integrated(START_LAT, START_LON, COURSE, SPEED * hours)
     bearing = np.radians(TRUTH_BEARING)
@@ -409,8 +410,9 @@ def test_the_caution_goes_to_stderr_once(paper):
 #: are where the test's own integration of each leg ends (tests/conftest.py rhumb_integrated, RK4 on WGS 84).
 ROUTE_LEGS = ((120.0, 36.0), (60.0, 108.0), (200.0, 150.0))
 ROUTE_SPEED = 6.0
-#: She leaves the first waypoint at 00:00 local mean time of the first date at 20° W: 01:20 UTC.
-ROUTE_DEPART = np.datetime64(FIRST, "ns") + np.timedelta64(80, "m")
+#: She leaves the first waypoint at 00:00 zone time of the first date at 20° W (ZD +1, −round(λ / 15°): common
+#: practice): 01:00 UTC.
+ROUTE_DEPART = np.datetime64(FIRST, "ns") + np.timedelta64(60, "m")
 
 
 def route_waypoints() -> list[tuple[float, float]]:
@@ -616,7 +618,7 @@ def test_the_route_page_lists_the_legs_and_their_times(route_paper):
         assert abs(float(table.leg_nm[k]) - distance) <= 0.05, k
     arrive = ROUTE_DEPART + np.timedelta64(int(sum(d for _, d in ROUTE_LEGS) / ROUTE_SPEED * 3600), "s")
     assert table.utc.iloc[-1] == str(arrive.astype("datetime64[m]")).replace("T", " ")
-    assert table.utc.iloc[0] == "2025-06-10 01:20"
+    assert table.utc.iloc[0] == "2025-06-10 01:00"
 
 
 def test_a_sight_worked_from_a_route_passages_pages_lands_within_a_mile(route_paper, ts, eph):
@@ -966,18 +968,28 @@ def test_over_the_date_line_the_paper_dates_each_round_by_its_zone_date_as_the_p
     plan = bridge_plan("2026-12-14", 3, -17.5, lon, course_deg=course, speed_kn=8.0, eye_height_m=3.0)
     by_plan = {str(r.presets.utc.astype("datetime64[m]")): (r.label.split(", ", 1)[1], r.zone_h) for r in plan.rounds}
     planned, differs = [], 0
-    for page in pages:
+    texts = [" ".join(block.text for block in page.blocks if hasattr(block, "text")) for page in pages]
+    # the zone of each page's events (the ZD printed with each round and noon), and the pages the date line
+    # touches: a page whose zone is 12 h or more from the page before or after it (ZD −12 against +12), and the
+    # second page of a date lived twice (the trial's second "Thursday 10 December" page)
+    zones = [{float(z.replace("−", "-")) for z in re.findall(r"zone time \(([+−]\d+)\)", text)} for text in texts]
+    dates = [page.title[len("Sights for "):].split(" (")[0] for page in pages]
+    touched = [any(abs(a - b) >= 12 for m in (k - 1, k + 1) if 0 <= m < len(zones) for a in zones[k] for b in zones[m])
+               or dates[k] in dates[:k] for k in range(len(zones))]
+    assert sum(touched) >= 2, [p.title for p in pages]
+    for page, text, line_page in zip(pages, texts, touched):
         date = page.title[len("Sights for "):].split(" (")[0]
-        text = " ".join(block.text for block in page.blocks if hasattr(block, "text"))
         for hhmm, zone, utc, on in re.findall(r"twilight: planned (\d\d:\d\d) zone time \(([+−]\d+)\), (\d\d:\d\d) "
                                               r"UTC( \d+ \w\w\w)?, from DR", text):
             twilight = next(t for t in made.twilights if hm(t.presets.utc) == utc
                             and long_date_of(zone_date(t.presets.utc, t.zone_h)) == date)
             assert hm(zone_time(twilight.presets.utc, twilight.zone_h)) == hhmm
-            # the UTC carries its UTC date wherever that is not the page's (zone) date, and the page names the
-            # hourly page to open: that of the UTC date (ZT = UTC − ZD, common practice)
+            # the UTC carries its UTC date wherever that is not the page's (zone) date, and on every page the
+            # date line touches (trial finding: there a time alone is read on the wrong date), and the page
+            # names the hourly page to open: that of the UTC date (ZT = UTC − ZD, common practice)
             when = pd.Timestamp(twilight.presets.utc).round("min")
-            assert on == ("" if long_date_of(when.date()) == date else f" {when.day} {when:%b}"), (date, utc, on)
+            dated = line_page or long_date_of(when.date()) != date
+            assert on == (f" {when.day} {when:%b}" if dated else ""), (date, utc, on)
             differs += bool(on)
             assert f"GHA and Dec: the hourly page of {long_date_of(when.date())}" in text
             assert float(zone.replace("−", "-")) == twilight.zone_h
@@ -991,12 +1003,15 @@ def test_over_the_date_line_the_paper_dates_each_round_by_its_zone_date_as_the_p
                         and float(zone.replace("−", "-")) == n.zone_h)
             assert long_date_of(noon.zone_date) == date
             when = pd.Timestamp(noon.utc).round("min")
-            assert on == ("" if long_date_of(when.date()) == date else f" {when.day} {when:%b}"), (date, hhmm, on)
+            dated = line_page or long_date_of(when.date()) != date
+            assert on == (f" {when.day} {when:%b}" if dated else ""), (date, hhmm, on)
             differs += bool(on)
-        # no UTC time on the page without its date where that is another (the civil and nautical times too)
+        # no UTC time on the page without its date where that is another, or anywhere on a page the line
+        # touches (the civil and nautical times too)
         for stamp, on in re.findall(r"(\d\d:\d\d) UTC( \d+ \w\w\w)?", text):
+            assert line_page <= bool(on), (date, stamp)
             assert any(pd.Timestamp(t).round("min").strftime("%H:%M") == stamp
-                       and (long_date_of(pd.Timestamp(t).round("min").date()) == date) == (not on)
+                       and (line_page or long_date_of(pd.Timestamp(t).round("min").date()) != date) == bool(on)
                        for t in [x for tw in made.twilights for x in (tw.presets.utc, tw.nautical, tw.civil)]
                        + [n.utc for n in made.noons]), (date, stamp, on)
     assert differs >= 2  # the line cuts the days: a round or noon on another UTC date than its page, each way
@@ -1077,3 +1092,90 @@ def test_the_polaris_page_and_form_are_left_out_where_polaris_never_rises(lat, c
     assert ("for its latitude use the Polaris table" in stars) == kept
     assert ("Polaris is below the horizon all this passage" in stars) == (not kept)
     assert "Hand working: stars, by the intercept method" in titles  # the other forms stay
+
+
+def parallel_dr_lon_deg(lat_deg: float, lon0_deg: float, course_deg: float, speed_kn: float, hours) -> np.ndarray:
+    """The rhumb-line DR due east or west (090° or 270°): the rhumb line is the parallel, so the ship makes
+    speed × hours miles along it, and Δλ = distance / (ν cos φ), ν = a / √(1 − e² sin² φ) the radius of curvature
+    in the prime vertical (the radius of a parallel is ν cos φ: Snyder 1987, Map Projections — A Working Manual,
+    USGS Professional Paper 1395, ch. 3-4); a and f of WGS 84 from geographiclib, 1852 m to the mile."""
+    from geographiclib.geodesic import Geodesic
+
+    a, f = Geodesic.WGS84.a, Geodesic.WGS84.f
+    e2 = f * (2.0 - f)
+    phi = math.radians(lat_deg)
+    radius_m = a * math.cos(phi) / math.sqrt(1.0 - e2 * math.sin(phi) ** 2)
+    east = 1.0 if course_deg == 90.0 else -1.0
+    lon = lon0_deg + east * np.degrees(speed_kn * np.asarray(hours, dtype=float) * 1852.0 / radius_m)
+    return (lon + 180.0) % 360.0 - 180.0
+
+
+@pytest.mark.parametrize("lon0, course, zone_words, start_utc", [
+    (177.0, 90.0, "ZD −12) of 2026-12-10 = 12:00 UTC 9 Dec", "2026-12-09T12:00"),
+    (-177.0, 270.0, "ZD +12) of 2026-12-10 = 12:00 UTC 10 Dec", "2026-12-10T12:00"),
+])
+def test_a_departure_is_at_00_00_zone_time_across_the_date_line(lon0, course, zone_words, start_utc):
+    """Trial finding (17° S 177° E 090° 12 kn, and 177° W 270°): the paper's DR from --lat/--lon "at 00:00 local
+    time" started at 00:00 local mean time (12:12 and 11:48 UTC), every DR 2.5′ off a DR from the ship's clock.
+    It starts at 00:00 zone time (ZD −12 east of 180°, +12 west: −round(λ/15°), common practice), stated on the
+    first page in zone time and UTC; every DR printed with a twilight round and a noon is an independent rhumb-line
+    DR from that instant (the parallel sailed on the WGS 84 ellipsoid, parallel_dr_lon_deg) to 0.05′, on both sides
+    of 180°, and a DR from local mean time would miss it by over 2′."""
+    from navred.jobs.paper import passage_paper
+
+    lat0, speed = -17.0, 12.0
+    made = passage_paper("2026-12-10", "2026-12-11", lat0, lon0, course_deg=course, speed_kn=speed)
+    cover = " ".join(block.text for block in made.document.pages[0].blocks if hasattr(block, "text"))
+    assert f"DR from 17° 00.0′ S {dm_text(lon0)} at 00:00 zone time ({zone_words}, then {course:05.1f}° true" in cover
+    start = np.datetime64(start_utc, "ns")
+    lmt = np.datetime64("2026-12-10", "ns") - np.timedelta64(int(round(lon0 / 15.0 * 3600)), "s")
+    points = [(r.presets.utc, r.presets.lat_deg, r.presets.lon_deg) for r in made.twilights] + [
+        (n.utc, n.lat_deg, n.lon_deg) for n in made.noons]
+    sides = set()
+    for utc, lat, lon in points:
+        hours = (np.datetime64(utc, "ns") - start) / np.timedelta64(1, "h")
+        expected = float(parallel_dr_lon_deg(lat0, lon0, course, speed, hours))
+        assert lat == pytest.approx(lat0, abs=1e-9)
+        miss_arcmin = abs(angle_diff_deg(lon, expected)) * 60.0
+        assert miss_arcmin < 0.05, (utc, lon, expected)
+        by_mean_time = float(parallel_dr_lon_deg(lat0, lon0, course, speed, (np.datetime64(utc, "ns") - lmt)
+                                                 / np.timedelta64(1, "h")))
+        assert abs(angle_diff_deg(lon, by_mean_time)) * 60.0 > 2.0
+        sides.add(lon > 0)
+    assert sides == {True, False} and len(made.noons) >= 2  # DRs on both sides of the line were checked
+    # the noon page prints the same DR (to its 0.1′)
+    noon_table = next(block for page in made.document.pages if page.title.startswith("The noon Sun")
+                      for block in page.blocks if hasattr(block, "rows"))
+    for row, noon in zip(noon_table.rows, made.noons):
+        hours = (np.datetime64(noon.utc, "ns") - start) / np.timedelta64(1, "h")
+        printed = parse_lon_text(row[6])
+        assert abs(angle_diff_deg(printed, float(parallel_dr_lon_deg(lat0, lon0, course, speed, hours)))) * 60 <= 0.06
+
+
+def test_a_departure_keeps_the_zone_given_for_its_00_00():
+    """With --zone the ship's clock is that zone: 00:00 ZD −11 on the 10th is 13:00 UTC on the 9th, whatever the
+    longitude's zone (ZT + ZD = UTC, common practice); the help says the time is zone time, not local."""
+    result = CliRunner().invoke(app, ["paper", "--help"], terminal_width=400)
+    help_text = " ".join(result.output.split())
+    assert "DR latitude at 00:00 zone time of the first date" in help_text and "local time" not in help_text
+    from navred.jobs.paper import passage_paper
+
+    made = passage_paper("2026-12-10", "2026-12-10", -17.0, 177.0, course_deg=90.0, speed_kn=12.0,
+                         zone_description_h=-11.0)
+    cover = " ".join(block.text for block in made.document.pages[0].blocks if hasattr(block, "text"))
+    assert "at 00:00 zone time (ZD −11) of 2026-12-10 = 13:00 UTC 9 Dec" in cover
+    noon = made.noons[0]
+    hours = (np.datetime64(noon.utc, "ns") - np.datetime64("2026-12-09T13:00", "ns")) / np.timedelta64(1, "h")
+    assert abs(angle_diff_deg(noon.lon_deg, float(parallel_dr_lon_deg(-17.0, 177.0, 90.0, 12.0, hours)))) * 60 < 0.05
+
+
+def dm_text(lon: float) -> str:
+    """A longitude as the cover prints it: 177° 00.0′ E (whole degrees only, as the tests give them)."""
+    return f"{abs(lon):03.0f}° 00.0′ {'E' if lon > 0 else 'W'}"
+
+
+def parse_lon_text(text: str) -> float:
+    """'179° 29.1′ E' as signed degrees (east positive)."""
+    found = re.match(r"(\d+)° (\d+\.\d)′ ([EW])", text)
+    value = int(found.group(1)) + float(found.group(2)) / 60.0
+    return value if found.group(3) == "E" else -value

@@ -111,12 +111,38 @@ def test_moving_vessel_events_follow_the_track(ts, eph):
     from skyfield import almanac
     from skyfield.api import wgs84
 
-    track = steady_track(45.0, -20.0, np.datetime64("2024-09-15T00:00") + np.timedelta64(80, "m"), 270.0, 20.0)
+    # the DR given is for 00:00 zone time, the ship's clock: ZD +1 at 20° W (−round(λ/15°), common practice)
+    track = steady_track(45.0, -20.0, np.datetime64("2024-09-15T00:00") + np.timedelta64(60, "m"), 270.0, 20.0)
     lat, lon = track.position(np.array([moving["sunset"]]))
     t0, t1 = _window(ts, "2024-09-15", float(lon[0]))
     times, states = almanac.find_discrete(t0, t1, almanac.sunrise_sunset(eph, wgs84.latlon(float(lat[0]), float(lon[0]))))
     sunset = [t for t, s in zip(times, states) if not s][0].utc_datetime()
     assert _minutes(moving["sunset"], sunset) < 1.0
+
+
+@pytest.mark.parametrize("lon, zone_h, utc", [
+    (177.0, None, "2026-12-09T12:00"),  # ZD −12 east of 172.5° E: 00:00 on the 10th is 12:00 UTC on the 9th
+    (-177.0, None, "2026-12-10T12:00"),  # ZD +12 west of 172.5° W
+    (183.0, None, "2026-12-10T12:00"),  # 183° E is 177° W
+    (-20.0, None, "2026-12-10T01:00"),  # ZD +1 (local mean time would be 01:20)
+    (7.4, None, "2026-12-10T00:00"),  # ZD 0 up to 7.5° E
+    (177.0, -11.0, "2026-12-09T13:00"),  # the zone the ship keeps, given, not the longitude's
+    (-20.0, 0.0, "2026-12-10T00:00"),
+])
+def test_the_dr_of_a_date_is_given_for_00_00_by_the_ships_clock(lon, zone_h, utc):
+    """Trial finding: a DR "at 00:00 of the first date" was taken at 00:00 local mean time, 12 minutes from the
+    ship's clock at 177° E (2.4′ of a 12-knot DR). It is 00:00 zone time: ZT + ZD = UTC with ZD the zone kept, else
+    the nautical zone of the longitude, −round(λ/15°) (common practice)."""
+    from navred.plan import zone_midnight
+
+    assert zone_midnight("2026-12-10", lon, zone_h) == np.datetime64(utc, "ns")
+
+
+def test_a_zone_description_out_of_range_is_refused_naming_it():
+    from navred.plan import zone_midnight
+
+    with pytest.raises(NavredError, match=r"zone description 13.0 is outside −12 to \+12 hours"):
+        zone_midnight("2026-12-10", 0.0, 13.0)
 
 
 def test_dip_makes_the_sun_rise_earlier_and_set_later():

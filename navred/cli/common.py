@@ -44,15 +44,15 @@ CSV_HELP = "Print {what} as CSV on stdout (snake_case headers with units; nothin
 # --- The options of a DR track from a date (plan, azimuths): one declaration each --------------------------------
 
 def first_date_option():
-    return typer.Option(..., "--date", help="Local civil date of the first day, e.g. 2026-03-26.")
+    return typer.Option(..., "--date", help="The first date by the ship's clock (zone date; the DR given is for 00:00 zone time of it), e.g. 2026-03-26.")
 
 
 def dr_lat_option():
-    return typer.Option(..., "--lat", help="DR latitude at 00:00 local time, e.g. '43 16.6 N'.")
+    return typer.Option(..., "--lat", help="DR latitude at 00:00 zone time of the first date (the ship's clock: the zone of --lon, ZD = −round(lon/15°), or --zone; the output states the instant in UTC), e.g. '43 16.6 N'.")
 
 
 def dr_lon_option():
-    return typer.Option(..., "--lon", help="DR longitude at 00:00 local time, e.g. '013 11.4 W'.")
+    return typer.Option(..., "--lon", help="DR longitude at 00:00 zone time of the first date (as --lat), e.g. '013 11.4 W'.")
 
 
 def course_option():

@@ -116,14 +116,14 @@ def plan_command(
 @command("paper")
 def paper_command(
     ctx: typer.Context,
-    first: str = typer.Option(..., "--from", help="The passage's first date (UTC), e.g. 2026-03-26."),
-    last: str = typer.Option(..., "--to", help="The passage's last date (UTC), inclusive."),
-    lat: str | None = typer.Option(None, "--lat", help="DR latitude at 00:00 local time of the first date, e.g. '44 30 N' (a departure or a fixed position)."),
+    first: str = typer.Option(..., "--from", help="The passage's first date, by the ship's clock (zone date), e.g. 2026-03-26."),
+    last: str = typer.Option(..., "--to", help="The passage's last date (zone date), inclusive."),
+    lat: str | None = typer.Option(None, "--lat", help="DR latitude at 00:00 zone time of the first date (the ship's clock: the zone of --lon, ZD = −round(lon/15°), or --zone; the cover states the instant in UTC too: 177 00 E on 2026-12-10 is 00:00 ZD −12 = 12:00 UTC 9 Dec), e.g. '44 30 N' (a departure or a fixed position)."),
     lon: str | None = typer.Option(None, "--lon", help="DR longitude then, e.g. '012 00 W'."),
     course: float | None = typer.Option(None, "--course", help="Course to steer (degrees true) from the position given; not with --route or --log."),
     speed: float | None = typer.Option(None, "--speed", help="Speed (knots) from the position given, or along the --route; left out with a position: a fixed position."),
     route: str | None = typer.Option(None, "--route", help="Plan along a route's waypoints in turn: the CSV or GPX navred route writes, or a CSV of waypoints (lat, lon) written by hand; with --speed."),
-    depart: str | None = typer.Option(None, "--depart", help="When she leaves the route's first waypoint, or the --lat/--lon position on her --course and --speed (ISO 8601 with a zone); default 00:00 local time of the first date."),
+    depart: str | None = typer.Option(None, "--depart", help="When she leaves the route's first waypoint, or the --lat/--lon position on her --course and --speed (ISO 8601 with a zone); default 00:00 zone time of the first date (the zone of the position, or --zone)."),
     log: str | None = typer.Option(None, "--log", help="Plan along the DR of a sight log with entry rows (departure, course, current), as navred days keeps it."),
     vessel: str | None = typer.Option(None, "--vessel", help="The vessel of the --log to plan for, when it keeps several."),
     carry_current: bool = typer.Option(False, "--carry-current", help="With --log: carry the set and drift found at each fix on in the DR."),
@@ -142,7 +142,9 @@ def paper_command(
     (--route), or a log's DR with its entry rows (--log): the twilight sights with Hc, Zn and their
     change per minute, the noon Sun, a Polaris table, the calculator's formulas, and blank forms (the
     sight book's pages by method, plotting sheets, a DR log) follow (docs/paper.md says what to print
-    and how to use each page).
+    and how to use each page). A --lat/--lon position is the DR at 00:00 zone time of the first date
+    (the ship's clock: the zone of its longitude, or --zone), not local mean time; the first page
+    states that instant in zone time and in UTC.
 
     Example:  navred paper --from 2026-03-26 --to 2026-03-31 --lat "44 30 N" --lon "012 00 W" --course 215 --speed 6.5 --eye "2.8 m" -o passage.pdf --tables passage-tables
     """

@@ -151,6 +151,18 @@ class DayEvents:
     times: dict
 
 
+def departure_words(first_date, lon_deg: float, zone_given: float | None) -> str:
+    """The instant a DR given "at 00:00 of the first date" is for, as the ship's clock and as UTC (with its UTC
+    date, always): '00:00 zone time (ZD −12) of 2026-12-10 = 12:00 UTC 9 Dec'. The zone is the one
+    kept (--zone), else the nautical zone of the longitude (:func:`navred.plan.zone_midnight`)."""
+    from ..plan import zone_midnight
+
+    first = np.datetime64(str(first_date)[:10], "D")
+    zd = zone_for(lon_deg, zone_given)
+    utc = zone_midnight(first, lon_deg, zd)
+    return f"00:00 zone time (ZD {zone_text(zd)}) of {first} = {utc_stamp(utc, None)}"
+
+
 def zone_for(lon_deg: float, given: float | None) -> float:
     """The zone description kept: the one given, else the nautical zone of the longitude."""
     return float(given) if given is not None else float(zone_description_h(lon_deg))
@@ -342,11 +354,16 @@ class BridgePlan:
         ie = self.index_error_arcmin
         return f"index error {abs(ie):.1f}′" + (" on the arc" if ie > 0 else " off the arc" if ie < 0 else "")
 
+    def start_words(self) -> str:
+        """When the ship is at the position given, in zone time and UTC: '00:00 zone time (ZD −12) of
+        2026-12-10 = 12:00 UTC 9 Dec'."""
+        return departure_words(self.first_date, self.lon_deg, self.zone_given)
+
     def text_lines(self) -> list[str]:
         moving = (f", then {self.course_deg:05.1f}° at {self.speed_kn:.1f} kn" if self.speed_kn > 0 else
                   " (a fixed position)")
-        lines = [f"Sight plan along the DR from {dm(self.lat_deg, 'lat')} {dm(self.lon_deg, 'lon')} at 00:00 local "
-                 f"time of {self.first_date}{moving}",
+        lines = [f"Sight plan along the DR from {dm(self.lat_deg, 'lat')} {dm(self.lon_deg, 'lon')} at "
+                 f"{self.start_words()}{moving}",
                  f"Height of eye {self.eye_height_m:g} m, {self.index_error_words()}"
                  + ": the Hs to preset is Hc with dip, refraction, SD, parallax and index error taken back off.",
                  "Times are zone time (ZT + ZD = UTC) with UTC in brackets, to the minute; a UTC time on another "
@@ -525,6 +542,9 @@ class BridgePlan:
                                    f"zone ({zone_text(noon.zone_h)}, {noon.zone_date}; {utc_stamp(noon.utc, noon.zone_date)}), bearing {noon.bearing}, Hs to preset (lower limb) "
                                    f"{dm(noon.hs_deg, 'signed')}.", "body"))
             pages.append(Page(round_.label, tuple(blocks)))
+        if pages:  # the first page says where the DR starts, and when, by the ship's clock and in UTC
+            pages[0] = Page(pages[0].title, (Text(self.text_lines()[0] + ".", "small"),) + tuple(pages[0].blocks),
+                            pages[0].landscape)
         dates = sorted({d.date for d in self.days}) or [np.datetime64(self.rounds[0].presets.utc, "D")]
         valid = f"{dates[0]}" + (f" to {dates[-1]}" if len(dates) > 1 else "") + " (zone dates)"
         from ..timescales import instants
@@ -540,11 +560,11 @@ def bridge_plan(first_date: object, days: int, lat_deg: float, lon_deg: float, *
                 zone_description_h: float | None = None, count: int = 3, min_alt_deg: float = 15.0,
                 max_alt_deg: float = 70.0, at: object | None = None) -> BridgePlan:
     """The plan of ``days`` local dates from ``first_date`` along the DR track (from (``lat_deg``, ``lon_deg``)
-    at 00:00 local time of the first date, on ``course_deg`` at ``speed_kn``): every twilight, or the one
-    instant ``at`` instead."""
+    at 00:00 zone time of the first date, the ship's clock: ``zone_description_h``, else the longitude's zone;
+    on ``course_deg`` at ``speed_kn``): every twilight, or the one instant ``at`` instead."""
     events, plans = twilight_plans(str(first_date), days, lat_deg, lon_deg, course_deg=course_deg, speed_kn=speed_kn,
-                                   eye_height_m=eye_height_m, count=count, min_alt_deg=min_alt_deg,
-                                   max_alt_deg=max_alt_deg)
+                                   eye_height_m=eye_height_m, zone_h=zone_description_h, count=count,
+                                   min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg)
     track = events["track"]
     label = None
     if at is not None:
@@ -558,7 +578,7 @@ def bridge_plan(first_date: object, days: int, lat_deg: float, lon_deg: float, *
     noons = noon_suns(events, track, **options)
     day_events = zone_rows(events, track, zone_description_h)
     windows = daytime_fix_windows(str(first_date), days, lat_deg, lon_deg, course_deg=course_deg, speed_kn=speed_kn,
-                                  min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg)
+                                  min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg, zone_h=zone_description_h)
     window_zones = tuple(float(zone_at(w.best, track, zone_description_h)[0]) for w in windows)
     found = [np.datetime64(events[key][d], "ns") for key in EVENT_KEYS for d in range(len(events["date"]))
              if not np.isnat(events[key][d])]
@@ -601,4 +621,4 @@ def write_plan_files(plan: BridgePlan, files: dict[str, str]) -> list[Path]:
     return written
 
 __all__ = ["BridgePlan", "PlannedTwilight", "ZoneChange", "zone_rows", "zone_changes", "zone_at", "zone_date", "NoonSun", "DayEvents", "bridge_plan", "planned_rounds", "noon_suns",
-           "provenance_line", "write_plan_files", "twilight_times", "plans_csv_path", "signed", "dm", "hm", "zone_time", "zone_text", "to_minute", "long_date", "zone_for"]
+           "provenance_line", "write_plan_files", "twilight_times", "plans_csv_path", "signed", "dm", "hm", "zone_time", "zone_text", "to_minute", "long_date", "zone_for", "departure_words"]

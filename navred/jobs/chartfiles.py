@@ -62,7 +62,8 @@ def _fix_waypoints(group) -> list[GpxPoint]:
     if not fix.is_fix:  # a plotter shows only the name: the foot of a line (or a latitude) is an EP on it, no fix
         name, kind = f"EP {group.name} on the {fix.kind}, not a fix", f"EP on the {fix.kind}"
     else:
-        name, kind = (f"UNTRUSTED fix {group.name}" if fix.untrusted else f"fix {group.name}"), "fix"
+        name, kind = ((f"fix {group.name}", "fix") if fix.trusted else
+                      (f"UNTRUSTED fix {group.name}", f"untrusted fix ({fix.untrusted_cause or 'see desc'})"))
     points = [GpxPoint(fix.lat_deg, fix.lon_deg, when, name, fix_description(group), kind),
               GpxPoint(fix.dr_lat_deg, fix.dr_lon_deg, when, f"DR {group.name}", "DR at the fix time", "DR")]
     if fix.all_sights is not None:
@@ -144,6 +145,8 @@ def _fix_features(voyage, group, current: dict) -> list[dict]:
     fix = group.fix
     common = {"fix_group": group.name, "utc": iso_z(fix.utc)}
     properties = {**common, "kind": "fix" if fix.is_fix else f"{fix.kind} (not a fix)",
+                  "trusted": fix.trusted,
+                  "untrusted_cause": "" if fix.untrusted_cause is None else str(fix.untrusted_cause),
                   "sights": int(fix.used.sum()), "sigma_arcmin": fix.sigma_arcmin,
                   "ellipse_semi_major_nm": (fix.ellipse_semi_major_nm if fix.is_fix else None),
                   "ellipse_semi_minor_nm": fix.ellipse_semi_minor_nm,

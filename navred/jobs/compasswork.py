@@ -28,6 +28,7 @@ from ..constants import NS_PER_MINUTE
 from ..errors import NavredError
 from ..plan import voyage_events
 from .bridge import (
+    departure_words,
     dm,
     hm,
     provenance_line,
@@ -64,9 +65,12 @@ class WatchAzimuths:
     step_minutes: float
     #: the local dates the tables hold ('2026-03-26 to 2026-03-28 (local dates)'), for the printed pages
     valid_for: str = ""
+    #: where and when the DR starts, by the ship's clock and in UTC ('Along the DR from 17° 00.0′ S 177° 00.0′ E at
+    #: 00:00 zone time (ZD −12) of 2026-12-10 = 12:00 UTC 9 Dec, then 090.0° at 12.0 kn')
+    start: str = ""
 
     def text_lines(self) -> list[str]:
-        lines = ["Sunrise and sunset along the DR: the true amplitude when the Sun's centre is on the celestial "
+        lines = ([self.start, ""] if self.start else []) + ["Sunrise and sunset along the DR: the true amplitude when the Sun's centre is on the celestial "
                  "horizon (its lower limb about half a diameter above the visible horizon)"]
         for r in self.risings.to_dict("records"):
             lines.append(f"  {r['date']} {r['event']:<7} visible {r['visible_zone_time']} zone "
@@ -109,6 +113,8 @@ class WatchAzimuths:
                        "the compass error (gyro: high when it reads more than true; magnetic: east when it reads "
                        "less). Log each with the ship's heading: navred compass-book works them out.", "small"),
                   rises, sun]
+        if self.start:  # where and when the DR starts, first
+            blocks.insert(0, Text(self.start + ".", "small"))
         if len(self.twilight):
             blocks.append(Table(("Zone date", "zone time", "ZD", "UTC", "body", "Zn", "Hc"),
                                 tuple((r["zone_date"], r["zone_time"], zone_text(r["zone_description_h"]),
@@ -128,7 +134,7 @@ def watch_azimuths(first_date: object, days: int, lat_deg: float, lon_deg: float
     """The Sun's azimuth from sunrise to sunset every ``step_minutes`` along the DR, the amplitudes, and a bright body
     at each twilight (from nautical to civil twilight) at the same interval."""
     events = voyage_events(str(first_date), days, lat_deg, lon_deg, eye_height_m=eye_height_m, course_deg=course_deg,
-                           speed_kn=speed_kn)
+                           speed_kn=speed_kn, zone_h=zone_description_h)
     track = events["track"]
     sun_rows, twilight_rows, rise_rows = [], [], []
     found: Amplitudes = amplitudes(events)
@@ -181,8 +187,11 @@ def watch_azimuths(first_date: object, days: int, lat_deg: float, lon_deg: float
     first = str(np.datetime64(str(first_date), "D"))
     last = str(np.datetime64(first) + np.timedelta64(days - 1, "D"))
     valid = first + (f" to {last}" if days > 1 else "") + " (local dates)"
+    moving = f", then {float(course_deg):05.1f}° at {float(speed_kn):.1f} kn" if speed_kn > 0 else " (a fixed position)"
+    start = (f"Along the DR from {dm(float(lat_deg), 'lat')} {dm(float(lon_deg), 'lon')} at "
+             f"{departure_words(first, float(lon_deg), zone_description_h)}{moving}")
     return WatchAzimuths(pd.DataFrame(sun_rows), pd.DataFrame(twilight_rows), pd.DataFrame(rise_rows),
-                         float(step_minutes), valid)
+                         float(step_minutes), valid, start)
 
 
 def _ceil(when, step) -> np.datetime64:

@@ -147,13 +147,17 @@ def fix_position(reduced: pd.DataFrame, at_utc: Instant | None = None, *, group:
         usable=usable, course_deg=column("course_deg", course_deg), speed_kn=column("speed_kn", speed_kn),
         at_utc=at_utc, chart_lat=chart_lat, chart_lon=chart_lon, solve_motion=solve_motion,
         labels=row_labels(reduced, several=several), **_per_sight(reduced, set_deg, drift_kn))
-    name_zone_slips([result], reduced, np.zeros(len(reduced), dtype=np.intp))  # as fix_positions does
+    name_zone_slips([result], reduced, np.zeros(len(reduced), dtype=np.intp),
+                    row_labels(reduced, several=several))  # as fix_positions does
     return result
 
 
 #: The columns of a table of fixes (``navred fix --csv``, :meth:`GroupedFixes.table`), one row per fix group,
-#: decimal degrees.
-FIX_COLUMNS = ("fix_group", "utc", "kind", "lat_deg", "lon_deg", "sights", "sigma_arcmin", "weighted", "quantile",
+#: decimal degrees. ``trusted``: False for a position marked CANNOT BE TRUSTED as the position to plot
+#: (:attr:`navred.FixResult.trusted`), ``untrusted_cause`` the kind of reason (:class:`navred.status.Distrust`:
+#: 'Hs as a decimal', 'common error', 'scatter', 'DR hemisphere', 'far from the DR'; blank when trusted); both
+#: blank for a group with no fix.
+FIX_COLUMNS = ("fix_group", "utc", "kind", "trusted", "untrusted_cause", "lat_deg", "lon_deg", "sights", "sigma_arcmin", "weighted", "quantile",
                "ellipse_length_nm", "ellipse_width_nm", "ellipse_semi_major_nm", "ellipse_semi_minor_nm",
                "ellipse_orientation_deg", "flagged", "left_out", "all_sights_lat_deg", "all_sights_lon_deg",
                "dr_distance_nm", "chart_distance_nm", "chart_inside_ellipse", "note")
@@ -169,7 +173,8 @@ def fix_table_row(name: str, fix: FixResult | None, row_names: np.ndarray, probl
     outlier = fix.outlier if fix.outlier.size == n else np.zeros(n, dtype=bool)
     weight = fix.weight if fix.weight.size == n else np.ones(n)
     every = fix.all_sights
-    return {"fix_group": name, "utc": str(fix.utc)[:23] + "Z", "kind": fix.kind,
+    return {"fix_group": name, "utc": str(fix.utc)[:23] + "Z", "kind": fix.kind, "trusted": fix.trusted,
+            "untrusted_cause": "" if fix.untrusted_cause is None else str(fix.untrusted_cause),
             "lat_deg": fix.lat_deg, "lon_deg": fix.lon_deg, "sights": int(fix.used.sum()),
             "sigma_arcmin": fix.sigma_arcmin,
             "weighted": " ".join(str(r) for r, u, w in zip(row_names.tolist(), fix.used.tolist(), weight.tolist())
@@ -285,7 +290,7 @@ def fix_positions(reduced: pd.DataFrame, at_utc: Instant | Mapping[str, Instant]
         usable=usable, course_deg=column("course_deg", course_deg), speed_kn=column("speed_kn", speed_kn),
         at_utc=at_utc, chart_lat=chart_lat, chart_lon=chart_lon, solve_motion=solve_motion,
         labels=labels, **_per_sight(reduced, set_deg, drift_kn))
-    name_zone_slips(batch.results, reduced, group)
+    name_zone_slips(batch.results, reduced, group, labels)
     results = {name: batch.results[k] for k, name in enumerate(chosen) if batch.results[k] is not None}
     problems = {name: batch.problems[k] for k, name in enumerate(chosen) if batch.results[k] is None}
     order = np.argsort(group, kind="stable")

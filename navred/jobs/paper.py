@@ -10,7 +10,7 @@ the texts printed, and the same texts go to the CSV files. The pages, in order:
 3. the stars' SHA and Dec, in blocks of three days;
 4. the altitude corrections (dip, refraction and its factor, the Sun's SD, the Moon's parallax and
    SD, Venus's and Mars's parallax and phase);
-5. for each local date, the twilight sights planned along the DR (Hc, Zn, their change per
+5. for each zone date (the ship's date), the twilight sights planned along the DR (Hc, Zn, their change per
    minute, how long that holds, the Hs to preset, the limb) and the noon Sun;
 6. the noon Sun for every day; the Polaris latitude table; the calculator's formulas with a
    worked sight;
@@ -108,11 +108,12 @@ def passage_paper(first_date: DateGiven, last_date: DateGiven, lat_deg: float | 
     """The paper for a passage from ``first_date`` to ``last_date`` (inclusive), planned along one of three DRs
     (:mod:`navred.jobs.passagedr`):
 
-    - a departure: (``lat_deg``, ``lon_deg``) at 00:00 local time of the first date (or lying there until
+    - a departure: (``lat_deg``, ``lon_deg``) at 00:00 zone time of the first date (the ship's clock:
+      ``zone_description_h``, else the nautical zone of ``lon_deg``; the cover states it in UTC too) (or lying there until
       ``depart``, ISO 8601 with a zone), then ``course_deg`` at
       ``speed_kn`` (both left out, or 0, for a fixed position);
     - ``route``: the waypoints of a route file (`navred route`'s CSV or GPX, or a list of waypoints written by
-      hand) sailed at ``speed_kn``, leaving the first at ``depart`` (default 00:00 local time of the first date);
+      hand) sailed at ``speed_kn``, leaving the first at ``depart`` (default 00:00 zone time of the first date);
     - ``log``: a sight log with entry rows (anything :func:`navred.read_sight_log` takes, read with ``dates`` and
       ``rates``), its DR as the day's work keeps it (its one vessel's, or ``vessel``'s; ``carry_current``
       carries the set and drift found at each fix).
@@ -128,7 +129,7 @@ def passage_paper(first_date: DateGiven, last_date: DateGiven, lat_deg: float | 
         raise NavredError(f"{days} days: the paper covers at most {PASSAGE_MAX_DAYS} days at once; print the passage "
                           "in parts")
     dr = _passage_dr(first, days, lat_deg, lon_deg, course_deg, speed_kn, route, depart, log, vessel, dates, rates,
-                     carry_current)
+                     carry_current, zone_description_h)
     zone_from_log = zone_description_h is None and dr.zone_h is not None
     if zone_from_log:
         zone_description_h = dr.zone_h  # the zone the log keeps: its clocks are the ship's
@@ -152,7 +153,7 @@ def passage_paper(first_date: DateGiven, last_date: DateGiven, lat_deg: float | 
 
 
 def _passage_dr(first, days, lat_deg, lon_deg, course_deg, speed_kn, route, depart, log, vessel, dates, rates,
-                carry_current) -> PassageDR:
+                carry_current, zone_h=None) -> PassageDR:
     """The one DR the paper is planned along; two given at once are refused (which would be meant?)."""
     given = [name for name, value in (("a position (--lat, --lon)", lat_deg is not None or lon_deg is not None),
                                       ("a route (--route)", route is not None), ("a log (--log)", log is not None))
@@ -172,7 +173,7 @@ def _passage_dr(first, days, lat_deg, lon_deg, course_deg, speed_kn, route, depa
                               "with --lat, --lon and --course instead)")
         if speed_kn is None:
             raise NavredError("a route is sailed at a speed: give --speed (knots through the water)")
-        return route_passage_dr(first, route, speed_kn, depart, days=days)
+        return route_passage_dr(first, route, speed_kn, depart, days=days, zone_h=zone_h)
     if log is not None:
         if course_deg is not None or speed_kn is not None:
             raise NavredError("a log gives the courses and speeds of its DR: leave out --course and --speed")
@@ -187,7 +188,7 @@ def _passage_dr(first, days, lat_deg, lon_deg, course_deg, speed_kn, route, depa
         raise NavredError("--depart is the time she leaves the position given on her course and speed: give --course "
                           "and --speed (a fixed position does not depart)")
     return departure_dr(first, lat_deg, lon_deg, 0.0 if course_deg is None else course_deg,
-                        0.0 if speed_kn is None else speed_kn, depart=depart, days=days)
+                        0.0 if speed_kn is None else speed_kn, depart=depart, days=days, zone_h=zone_h)
 
 
 def _date(value: object, what: str) -> np.datetime64:
@@ -263,7 +264,7 @@ def _cover(first, last, days, dr: PassageDR, eye_height_m, index_error_arcmin, z
              f"index error {signed(index_error_arcmin)}′ (on the arc positive). Zone time: {zone}."
              + ("" if (table_first, table_days) == (first, days) else
                 f" The hourly pages run over the UTC dates {table_first} to "
-                f"{table_first + np.timedelta64(table_days - 1, 'D')}: every planned sight and noon of the local "
+                f"{table_first + np.timedelta64(table_days - 1, 'D')}: every planned sight and noon of the zone "
                 "dates falls on one of them.")),
         *((Text("WARNING: check the DR before using these pages", "subheading"),
            *(Text(f"{message[0].upper()}{message[1:]}.") for message in dr.warnings)) if dr.warnings else ()),
@@ -563,6 +564,10 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
         across = [days[m] for m in (n - 1, n + 1) if 0 <= m < len(days) and abs(
             days[m]["zone_h"] - day["zone_h"]) >= 12.0]  # the days on the other side of the date line, beside it
         crossed = bool(across)
+        after = n > 0 and abs(days[n - 1]["last_zone_h"] - day["zone_h"]) >= 12.0
+        # on a page the date line touches (its zone date lived twice, or skipped, beside it) every UTC time
+        # carries its UTC date: a time alone there is read on the wrong date as easily as on the right one
+        stamped = None if (crossed or after or day["again"]) else day["date"]
         if "Morning twilight" not in held and (noon is not None or crossed):
             blocks.append(_no_round("morning", events, noon, _other_side("Morning twilight", across)))
         for twilight in day["twilights"]:
@@ -570,11 +575,11 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
             zd = twilight.zone_h
             zone_time = p.utc - np.timedelta64(int(zd * 60), "m")
             kind = twilight.label.split(" ", 1)[0]
-            under = day["date"]
+            under = stamped
             blocks.append(Text(f"{kind} twilight: planned {hm(zone_time)} zone time ({zone_text(zd)}), "
                                f"{utc_stamp(p.utc, under)}, from DR {dm(p.lat_deg, 'lat')} {dm(p.lon_deg, 'lon')}",
                                "subheading"))
-            blocks.append(Text(_which_hourly_page(p.utc, under), "body"))
+            blocks.append(Text(_which_hourly_page(p.utc, day["date"]), "body"))
             times = (f"Nautical twilight {utc_stamp(twilight.nautical, under)}, civil "
                      f"{utc_stamp(twilight.civil, under)}" if twilight.nautical < twilight.civil else
                      f"Civil twilight {utc_stamp(twilight.civil, under)}, nautical "
@@ -595,7 +600,7 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
         if noon is not None:
             zone_noon = noon.utc - np.timedelta64(int(noon.zone_h * 60), "m")
             blocks.append(Text(f"Noon: the Sun on the meridian at {hm(zone_noon)} zone time "
-                               f"({zone_text(noon.zone_h)}), {utc_stamp(noon.utc, day['date'])}", "subheading"))
+                               f"({zone_text(noon.zone_h)}), {utc_stamp(noon.utc, stamped)}", "subheading"))
             blocks.append(Text(_which_hourly_page(noon.utc, day["date"]), "body"))
             blocks.append(Text(f"DR then {dm(noon.lat_deg, 'lat')} {dm(noon.lon_deg, 'lon')}; Sun's Dec "
                                f"{dm(noon.dec_deg, 'dec')}; Hc {dm(noon.hc_deg, 'signed')}, bearing {noon.bearing}; Hs "
@@ -607,7 +612,6 @@ def _sight_pages(twilights, noons, events, hourly) -> list[Page]:
             where = f"on the page of {long_date(other[0]['date'])}" if other else "not on this side"
             blocks.append(Text(f"Noon: {where}, across the date line (each event on the page of its own zone date).",
                                "subheading"))
-        after = n > 0 and abs(days[n - 1]["last_zone_h"] - day["zone_h"]) >= 12.0
         note = (" (the date again: over the date line)" if day["again"] else
                 f" (over the date line: the date goes {'back' if day['date'] < days[n - 1]['date'] else 'forward'} "
                 "a day)" if after else "")

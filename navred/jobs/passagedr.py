@@ -6,10 +6,11 @@ and builds one :class:`navred.reckoning.DRTrack` from it, with the words and the
 Every kind is the same to what follows: the twilights, the noons, the sights planned and the plotting sheets are
 worked along the track, wherever it goes.
 
-- **a departure**: (lat, lon) at 00:00 local time of the first date, then one course and speed (the rhumb line),
-  carried back along it before then (a plan's steady track);
+- **a departure**: (lat, lon) at 00:00 zone time of the first date (the ship's clock: the zone kept, else the
+  nautical zone of the longitude), then one course and speed (the rhumb line), carried back along it before then
+  (a plan's steady track);
 - **a route**: the waypoints in turn at one speed, on the rhumb line of each leg, leaving the first at the time
-  given (default 00:00 local time of the first date); she lies at the first waypoint before she leaves it and at
+  given (default 00:00 zone time of the first date there); she lies at the first waypoint before she leaves it and at
   the last after she arrives;
 - **a log**: the DR track of the day's work (:func:`navred.jobs.dayswork.vessel_tracks`): from the departure
   through every course, speed and current entered, restarted at each position entered and each fix; after the
@@ -25,7 +26,13 @@ import numpy as np
 from ..angles import format_angle
 from ..constants import NS_PER_HOUR
 from ..errors import NavredError
-from ..plan import check_position, local_midnight, planner_number, track_local_midnight
+from ..plan import (
+    check_position,
+    local_midnight,
+    planner_number,
+    track_local_midnight,
+    zone_midnight,
+)
 from ..reckoning import DRTrack, course_speed, steady_track
 
 #: The most changes of the DR a paper lists (the last ones before and during the passage).
@@ -48,8 +55,8 @@ def _warn(message: str) -> str:
 class PassageDR:
     """The DR a paper is planned along.
 
-    ``track`` is the DR; ``start`` 00:00 local time of the first date at the DR's longitude (UTC), where the first
-    day begins; ``kind`` is 'departure', 'route' or 'log'; ``summary`` what the cover says of it; ``table`` the
+    ``track`` is the DR; ``start`` 00:00 local mean time of the first date at the DR's longitude (UTC), where the
+    search for the first day's events begins (the DR's own instant is in ``summary``: 00:00 zone time); ``kind`` is 'departure', 'route' or 'log'; ``summary`` what the cover says of it; ``table`` the
     changes of the DR as printed (header, CSV header, rows), empty for a departure; ``course_deg``/``speed_kn``
     those of a departure (NaN otherwise); ``warnings`` what is wrong with it for the paper's dates (each also
     issued as a :class:`navred.errors.NavredWarning`), printed on the cover; ``zone_h`` the zone description a log
@@ -66,6 +73,13 @@ class PassageDR:
     zone_h: float | None = None
 
 
+def departure_words(first, lon_deg: float, zone_h: float | None) -> str:
+    """00:00 zone time of the first date as the ship's clock and UTC (:func:`navred.jobs.bridge.departure_words`)."""
+    from .bridge import departure_words as words
+
+    return words(first, lon_deg, zone_h)
+
+
 def _position(lat: float, lon: float) -> str:
     return f"{format_angle(float(lat), 'lat')} {format_angle(float(lon), 'lon')}"
 
@@ -78,8 +92,10 @@ def _utc(ns) -> str:
 
 
 def departure_dr(first: np.datetime64, lat_deg: float, lon_deg: float, course_deg: float = 0.0,
-                 speed_kn: float = 0.0, *, depart: object | None = None, days: int = 1) -> PassageDR:
-    """The DR from (lat, lon) at 00:00 local (mean) time of the first date on one course and speed (0 for a fixed
+                 speed_kn: float = 0.0, *, depart: object | None = None, days: int = 1,
+                 zone_h: float | None = None) -> PassageDR:
+    """The DR from (lat, lon) at 00:00 zone time of the first date (the ship's clock: ``zone_h`` kept, else the
+    nautical zone of the longitude; :func:`navred.plan.zone_midnight`) on one course and speed (0 for a fixed
     position): the rhumb line, carried back along it before then. With ``depart`` (ISO 8601 with a zone) she lies
     at (lat, lon) until then, and sails from there on the course and speed."""
     from ..reckoning import velocity_kn
@@ -88,11 +104,12 @@ def departure_dr(first: np.datetime64, lat_deg: float, lon_deg: float, course_de
     check_position(lat_deg, lon_deg)
     course_deg, speed_kn = planner_number(course_deg, "course"), planner_number(speed_kn, "speed")
     start = local_midnight(first, lon_deg)
+    origin = zone_midnight(first, lon_deg, zone_h)
     moving = (f"then {course_deg:05.1f}° true at {speed_kn:.1f} kn along the rhumb line" if speed_kn > 0 else
               "a fixed position")
     if depart is None:
-        summary = f"DR from {_position(lat_deg, lon_deg)} at 00:00 local time of {first}, {moving}."
-        return PassageDR(steady_track(lat_deg, lon_deg, start, course_deg, speed_kn), start, "departure", summary,
+        summary = f"DR from {_position(lat_deg, lon_deg)} at {departure_words(first, lon_deg, zone_h)}, {moving}."
+        return PassageDR(steady_track(lat_deg, lon_deg, origin, course_deg, speed_kn), start, "departure", summary,
                          (), float(course_deg), float(speed_kn))
     leave = np.datetime64(utc_datetime64(depart), "ns").astype(np.int64)
     north, east = velocity_kn(course_deg, speed_kn)
@@ -112,17 +129,18 @@ def departure_dr(first: np.datetime64, lat_deg: float, lon_deg: float, course_de
 
 
 def route_passage_dr(first: np.datetime64, route, speed_kn: float, depart: object | None = None, *,
-                     days: int = 1) -> PassageDR:
+                     days: int = 1, zone_h: float | None = None) -> PassageDR:
     """The DR along a route's waypoints (a file `navred route` writes, a list written by hand, or
     :class:`navred.io.waypoints.Waypoints`) at ``speed_kn``, leaving the first waypoint at ``depart`` (ISO 8601
-    with a zone; default 00:00 local time of the first date there)."""
+    with a zone; default 00:00 zone time of the first date there: ``zone_h`` kept, else the waypoint's nautical
+    zone)."""
     from ..io.waypoints import Waypoints, read_waypoints
     from ..timescales import utc_datetime64
     from .routes import route_dr, route_remarks
 
     points = route if isinstance(route, Waypoints) else read_waypoints(route)
     check_position(float(points.lat_deg[0]), float(points.lon_deg[0]))
-    leave = local_midnight(first, float(points.lon_deg[0])) if depart is None else np.datetime64(
+    leave = zone_midnight(first, float(points.lon_deg[0]), zone_h) if depart is None else np.datetime64(
         utc_datetime64(depart), "ns")
     since = min(leave, local_midnight(first, 0.0) - np.timedelta64(2 * 24 * NS_PER_HOUR, "ns"))
     dr = route_dr(points.lat_deg, points.lon_deg, leave, speed_kn, since=since, names=points.names)
@@ -134,9 +152,10 @@ def route_passage_dr(first: np.datetime64, route, speed_kn: float, depart: objec
                      f"{float(dr.distance_nm[:k].sum()):.1f}"))
     table = (("Waypoint", "Position", "UTC (leave, arrive)", "Course to next °T", "Leg nm", "Run nm"),
              ("waypoint", "position", "utc", "course_to_next_deg", "leg_nm", "run_nm"), tuple(rows))
+    leaves = (departure_words(first, float(points.lon_deg[0]), zone_h) if depart is None else
+              f"{_utc(dr.eta[0].astype(np.int64))} UTC")
     summary = (f"DR along the route of {len(dr.names)} waypoints in {points.source}: {dr.total_nm:,.1f} nm at "
-               f"{speed_kn:.1f} kn, on the rhumb line of each leg; she leaves {dr.names[0]} at "
-               f"{_utc(dr.eta[0].astype(np.int64))} UTC and arrives at {dr.names[-1]} at "
+               f"{speed_kn:.1f} kn, on the rhumb line of each leg; she leaves {dr.names[0]} at {leaves} and arrives at {dr.names[-1]} at "
                f"{_utc(dr.eta[-1].astype(np.int64))} UTC. Before she leaves she is taken at the first waypoint, "
                "after she arrives at the last. The times are those of the speed given: keep the DR by the log "
                "and reprint when she falls behind.")

@@ -684,7 +684,7 @@ def track_points(voyage, vessel: str, track: DRTrack) -> list[dict]:
                                      leg_all[order].tolist(), kind_all[order].tolist())]
 
 
-__all__ = ["vessel_tracks", "untrusted_fixes", "ep_name", "NIL_DRIFT_KN", "NIL_SET", "known_label_at", "NOON_WINDOW_HOURS", "SET_DRIFT_COLUMNS", "NOON_COLUMNS",
+__all__ = ["vessel_tracks", "untrusted_fixes", "ep_name", "NIL_SET", "known_label_at", "NOON_WINDOW_HOURS", "SET_DRIFT_COLUMNS", "NOON_COLUMNS",
            "ESTIMATED_COLUMNS", "EXERCISE_COLUMNS", "ENTRY_WORK_COLUMNS", "current_verdict", "is_fix_label",
            "water_vector_nm", "water_run_nm", "vessel_entries", "SET_DRIFT_MIN_HOURS", "SET_DRIFT_MAX_95_KN",
            "MAX_CURRENT_KN", "position_text", "stamp", "stamps", "ships_of", "set_drift_rows", "set_current_text", "current_split_text", "estimated_positions",

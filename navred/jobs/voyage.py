@@ -39,7 +39,7 @@ from .drcontext import dr_context
 from .frames import row_labels, series_columns, utc64
 from .shipsfixes import split_mixed_groups
 from .sights import reduce_sights
-from .zoneslips import name_zone_slips
+from .zoneslips import drop_contradicted, name_zone_slips
 
 
 @dataclass(frozen=True)
@@ -81,7 +81,7 @@ class VoyageResult:
     provenance: dict[str, str] = field(default_factory=dict)
     #: the sight plan for the next twilight after the last fix, from it along the last course and speed
     next_plan: SightPlan | None = None
-    #: the twilights and the Sun's events from the last fix on (navred.plan.voyage_events), with next_plan
+    #: the twilights and the Sun's events from the last fix on (navred.plan.track_events), with next_plan
     next_events: dict | None = None
     #: the set and drift found at each fix carried on in the DR (process_log's option)
     carry_current: bool = False
@@ -432,7 +432,7 @@ def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: obj
               reduced["dr_lat_deg"].to_numpy(dtype=float), reduced["dr_lon_deg"].to_numpy(dtype=float))
     batch = fixes_from_sights(*arrays, group, chart_lat=chart_lat, chart_lon=chart_lon, hs_deg=column("hs_deg"),
                               sigma_arcmin=column("sigma_arcmin"), line_sigma_nm=column("line_sigma_nm"), **arguments)
-    name_zone_slips(batch.results, reduced, group)
+    drop_contradicted(reduced, name_zone_slips(batch.results, reduced, group, arguments["labels"]))
     by_group = np.argsort(np.where(group >= 0, group, count), kind="stable")
     bounds = np.concatenate([[0], np.cumsum(np.bincount(group[group >= 0], minlength=count))]).tolist()
     usable_count = np.bincount(group[(group >= 0) & usable], minlength=count)
@@ -499,7 +499,7 @@ def _vessel_plans(groups: list[GroupFix], reduced: pd.DataFrame, next_plan: Sigh
 def _plan_after(latest: GroupFix, reduced: pd.DataFrame):
     """The twilights from ``latest``'s fix on, and the plan of the next one that begins after it, carried on from
     the fix by its last sight's course and speed."""
-    from ..plan import voyage_events
+    from ..plan import local_midnight, track_events
     from ..presets import sight_presets
     from ..reckoning import steady_track
     from ..sightplan import sight_plans
@@ -511,8 +511,9 @@ def _plan_after(latest: GroupFix, reduced: pd.DataFrame):
     fix = latest.fix
     when = np.datetime64(fix.utc, "ns")
     date = str((when + np.timedelta64(int(fix.lon_deg / DEG_PER_HOUR * NS_PER_HOUR), "ns")).astype("datetime64[D]"))
-    events = voyage_events(date, 2, fix.lat_deg, fix.lon_deg, course_deg=course, speed_kn=speed)
+    # the events along the DR from the fix at its own instant (not from the fix's position at a midnight)
     track = steady_track(fix.lat_deg, fix.lon_deg, when, course, speed)
+    events = track_events(track, local_midnight(date, fix.lon_deg), 2)
     candidates = []
     for dawn, dusk in (("nautical_dawn", "civil_dawn"), ("civil_dusk", "nautical_dusk")):
         for a, b in zip(events[dawn], events[dusk]):

@@ -56,7 +56,8 @@ SHEETS = (
                         "HP; Hs, IC, dip, Ha, the main correction, Ho; the assumed position, LHA, the tables' "
                         "Hc, d and Z, the d correction of Hc, Hc, Z and Zn, and the intercept from the assumed "
                         "position (a cadet checks a page against it line by line)"),
-    ("Fixes", "one row per fix group: position, 95 % ellipse (its full size, then its semi-axes), sight error, "
+    ("Fixes", "one row per fix group: whether it is trusted to plot ('NO' with the kind of reason: the note's "
+              "first warning says why), position, 95 % ellipse (its full size, then its semi-axes), sight error, "
               "what the blunder check can find, sights left out as gross errors (with the fix from every "
               "sight beside it), flagged sights, chart check; the plotting sheets below the table. The 95 % "
               f"ellipse {ELLIPSE_COVERS}"),

@@ -294,7 +294,7 @@ FIXES_BLANK = {
     "chart inside 95 % ellipse": "no chart position", "noon curve latitude (° ′)": "no noon series",
     "course made good (deg)": "not solved (navred workbook --solve-motion)",
     "speed made good (kn)": "not solved (navred workbook --solve-motion)", "blunder check": "none",
-    "angle of cut (deg)": "one line", "note": "none",
+    "angle of cut (deg)": "one line", "note": "none", "trusted to plot": "no fix",
 }
 #: Columns of the Fixes sheet that belong to a feature of some logs only: left out when no row has one.
 FIXES_OPTIONAL = ("line bearing (deg true)", "line from DR (nm)", "noon curve latitude (° ′)",
@@ -319,6 +319,14 @@ def with_reasons(table: pd.DataFrame, reasons: dict[str, str], optional=()) -> p
             values = out[column].astype(object).tolist()
             out[column] = pd.Series([reason if _blank(v) else v for v in values], index=out.index, dtype=object)
     return out
+
+
+def plot_verdict(fix) -> str:
+    """The Fixes sheet's 'trusted to plot' cell: 'yes', or 'NO (why, in short): see the note' for a position
+    marked CANNOT BE TRUSTED (:attr:`navred.FixResult.trusted`, the one verdict every table reads)."""
+    if fix.trusted:
+        return "yes"
+    return f"NO ({fix.untrusted_cause or 'untrusted'}): see the note"
 
 
 def _no_fix_row(voyage, group) -> dict:
@@ -364,6 +372,7 @@ def fixes_table(voyage) -> pd.DataFrame:
             "UTC": utc_cell(fix.utc),
             "kind": (("running fix" if is_running_fix(fix, sight_utc[group.rows]) else fix.kind) if fix.is_fix
                      else f"{fix.kind} (not a fix)"),
+            "trusted to plot": plot_verdict(fix),
             "latitude (° ′)": (texts := next(fix_texts))[0],
             "longitude (° ′)": texts[1],
             "latitude (deg)": fix.lat_deg,

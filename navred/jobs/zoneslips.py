@@ -11,6 +11,9 @@ import re
 import numpy as np
 import pandas as pd
 
+from ..grosserrors import distrust
+from ..status import Distrust
+
 #: a slip fits a sight when undoing it leaves an intercept within this (nautical miles; common practice: a DR
 #: carried a day or so is seldom further out; 15 nm keeps a wrong limb, 32′ at the Sun, apart from a degree
 #: misread, 60 nm)
@@ -64,6 +67,9 @@ def zone_sign_suspects(frame: pd.DataFrame, flagged: np.ndarray, *, ho_deg=None,
     shifts = [np.where(wrong_side, -2.0 * zd, np.nan), np.where(zoned & (nautical != -zd), nautical - zd, np.nan)]
     shifts += [np.full(rows.size, float(h)) for h in (1, -1, 12, -12, 24, -24)]
     left = [_intercept_at(frame, rows, bodies, lat, lon, ho, h) for h in shifts]
+    # a zone description whose sign disagrees with the DR's hemisphere may be right and the DR's longitude written
+    # E for W: the sight worked at the time as logged from the DR's longitude mirrored
+    mirrored = _intercept_at(frame, rows, bodies, lat, -lon, ho, np.where(wrong_side, 0.0, np.nan))
     found: list[list[tuple[int, float, str]]] = [[] for _ in rows]
     for k in range(rows.size):
         for which, (h, rest) in enumerate(zip(shifts, left)):
@@ -74,6 +80,10 @@ def zone_sign_suspects(frame: pd.DataFrame, flagged: np.ndarray, *, ho_deg=None,
             words = (_sign_words(zd[k], lon[k], nautical[k]) if which == 0 else
                      _zone_words(zd[k], lon[k], nautical[k]) if which == 1 else _time_words(h[k]))
             found[k].append((0 if which == 0 else 1, abs(rest[k]), words))
+        if (np.isfinite(mirrored[k]) and abs(mirrored[k]) <= SLIP_FIT_NM
+                and not (np.isfinite(left[0][k]) and abs(left[0][k]) <= SLIP_FIT_NM)):
+            # the other reading of the same disagreement, named only where the ZD's sign undone does not fit
+            found[k].append((0, abs(mirrored[k]), _mirror_words(zd[k], lon[k], nautical[k], mirrored[k])))
         if bodies[k] in ("Sun", "Moon") and horizon[k] != "bubble" and np.isfinite(sd[k]) and sd[k] != 0:
             upper = limbs[k] == "upper"
             rest = intercept[k] + (2 if upper else -2) * abs(sd[k])
@@ -149,6 +159,13 @@ def _sign_words(zd: float, lon: float, nautical: float) -> str:
             "sign (ZT + ZD = UTC: + west of Greenwich, − east)")
 
 
+def _mirror_words(zd: float, lon: float, nautical: float, rest_nm: float) -> str:
+    return (f"likely cause: the DR's longitude written {'E for W' if lon > 0 else 'W for E'}: the zone description "
+            f"{zd:+.0f} is a zone {'east' if zd < 0 else 'west'} of Greenwich, but the DR, {abs(lon):.0f}° "
+            f"{'W' if lon < 0 else 'E'}, is in zone {nautical:+.0f}; worked from the DR at {abs(lon):.0f}° "
+            f"{'E' if lon < 0 else 'W'} at the time as logged, the intercept is {abs(rest_nm):.1f} nm: check the DR's E/W")
+
+
 def _zone_words(zd: float, lon: float, nautical: float) -> str:
     where = f"the DR, {abs(lon):.0f}° {'W' if lon < 0 else 'E'}, is in zone {nautical:+.0f}"
     return (f"possible cause: the zone description {zd:+.0f} is not the DR's zone ({where}): if the watch keeps "
@@ -160,37 +177,87 @@ def _zone_words(zd: float, lon: float, nautical: float) -> str:
 AGREEING_SIGMA_ARCMIN = 2.0
 
 
-def name_zone_slips(results: list, reduced: pd.DataFrame, group: np.ndarray) -> None:
+def name_zone_slips(results: list, reduced: pd.DataFrame, group: np.ndarray, labels=None) -> dict[int, str]:
     """A fix far from its DR (``result.dr_distance_nm`` beyond ``dr_allowed_nm``) one of whose sights a slip
     accounts for gets that sight's causes added to its warnings (:func:`zone_sign_suspects`):
-    the same words for every command and the API. ``group``: each row's index into ``results`` (−1: none)."""
+    the same words for every command and the API. ``group``: each row's index into ``results`` (−1: none);
+    ``labels``: each row's name in messages (:func:`navred.jobs.frames.row_labels`; default 'row 1', 'row 2'...).
+
+    A round whose sights agree among themselves names the DR (or a slip common to every sight) as the likely
+    cause; a 'possible cause' one of its sights alone suggests (the DR taken as right) would contradict it, so the
+    round says it once, as only what that sight alone would suggest. Returns those rows (index into ``reduced``)
+    with the words to take out of each one's own note (:func:`drop_contradicted`), so that a sight's note never
+    contradicts its round's verdict."""
     far = [k for k, result in enumerate(results) if result is not None and
            np.isfinite(result.dr_distance_nm) and result.dr_distance_nm > result.dr_allowed_nm]
     if not far:
-        return
+        return {}
     # a round whose sights agree among themselves (three or more, σ within a sextant's) was not moved by a slip in
     # one of them: the DR, or a slip common to every sight, moved it; a cause is named for it only where every one
     # of its sights names the same (a ZD of the wrong sign, a day out), else the DR is said to be the likely cause
     agree = {k for k in far if int(np.sum(results[k].used)) >= 3 and results[k].sigma_arcmin <= AGREEING_SIGMA_ARCMIN}
     rows, texts = zone_sign_suspects(reduced, np.isin(group, far), fitted_only=True)
-    said: dict[int, list[str]] = {}
+    said: dict[int, list[tuple[int, str]]] = {}
     for row, text in zip(rows.tolist(), texts.tolist()):
-        said.setdefault(int(group[row]), []).append(text)
+        said.setdefault(int(group[row]), []).append((row, text))
+    contradicted: dict[int, str] = {}
+    names = (np.asarray(labels, dtype=object) if labels is not None
+             else np.array([f"row {i + 1}" for i in range(len(reduced))], dtype=object))
     for k in far:
-        texts_k = said.get(k, [])
+        texts_k = [text for _, text in said.get(k, [])]
         if k not in agree:
             if texts_k:
                 results[k].warnings.append(texts_k[0])
             continue
         n = int(np.sum(results[k].used))
         if len(texts_k) >= n and len({re.sub(r"\d+(?:\.\d+)?", "#", t) for t in texts_k}) == 1:
-            # every sight names the one slip (its figures aside: each sight's own DR and intercept)
+            # every sight names the one slip (its figures aside: each sight's own DR and intercept): the fix was
+            # moved by it, and is no position to plot until it is undone
             results[k].warnings.append(texts_k[0])
+            distrust(results[k], Distrust.SLIP, (
+                f"every one of its {n} sights fits one slip, {_slip_named(texts_k[0])} (see the "
+                f"warnings), and the fix is {results[k].dr_distance_nm:.0f} nm from the DR, beyond the "
+                f"{results[k].dr_allowed_nm:.0f} nm it could be out: worked as logged the slip moves the fix; "
+                "correct it and fix again"))
             continue
-        results[k].warnings.append(
-            f"its {n} sights agree among themselves (σ {results[k].sigma_arcmin:.1f}′): a slip in one sight cannot "
-            "move them all, so the DR is the likely cause, or a slip common to every sight (the zone description, "
-            "the date, am/pm, the watch error); a sight's own 'possible cause' assumes the DR right")
+        alone = [(row, text) for row, text in said.get(k, []) if text.startswith("possible cause")]
+        words = (f"its {n} sights agree among themselves (σ {results[k].sigma_arcmin:.1f}′): a slip in one sight "
+                 "cannot move them all, so the DR is the likely cause, or a slip common to every sight (the zone "
+                 "description, the date, am/pm, the watch error)")
+        if alone:
+            words += ("; only what a sight alone would suggest, the DR taken as right (not the round's cause): "
+                      + "; ".join(f"{names[row]}, {_cause_only(text)}" for row, text in alone))
+            contradicted.update(alone)
+        results[k].warnings.append(words)
+    return contradicted
 
 
-__all__ = ["zone_sign_suspects", "name_zone_slips"]
+def _cause_only(text: str) -> str:
+    """'the date a day out (...)' from 'possible cause (undone, ...): the date a day out (...)'."""
+    return text.split("): ", 1)[1] if text.startswith("possible cause") and "): " in text else text
+
+
+def _slip_named(text: str) -> str:
+    """The slip a note names, in short: 'the date a day out', 'the date a day out; or Hs 1° too high', 'the zone
+    description -10 is a zone east of Greenwich, but the DR, 150° W, is in zone +10'."""
+    if text.startswith("likely cause: "):
+        return text[len("likely cause: "):].split(": ")[0]
+    return re.sub(r" \([^)]*\)", "", _cause_only(text))
+
+
+def drop_contradicted(reduced: pd.DataFrame, contradicted: dict[int, str]) -> None:
+    """Take out of each row's own note (``message``, in place) the 'possible cause' its round contradicts
+    (:func:`name_zone_slips`): the round's warning says it once, as what the sight alone would suggest."""
+    if not contradicted or "message" not in reduced.columns:
+        return
+    messages = reduced["message"].to_numpy(dtype=object).copy()
+    for row, text in contradicted.items():
+        note = str(messages[row])
+        for form in (f"; {text}", f"{text}; ", text):
+            if form in note:
+                messages[row] = note.replace(form, "", 1)
+                break
+    reduced["message"] = messages
+
+
+__all__ = ["zone_sign_suspects", "name_zone_slips", "drop_contradicted"]

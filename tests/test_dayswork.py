@@ -752,6 +752,10 @@ def test_a_fix_that_cannot_be_trusted_never_restarts_the_dr(tmp_path):
     assert not len(days.set_drift)
     assert any(n.startswith("the ship: the fix stars CANNOT BE TRUSTED (") and "the DR is not restarted from it" in n
                for n in days.notes)
-    texts = [getattr(item, "text", "") for item in voyage_track_picture(days).items]
+    picture = voyage_track_picture(days)
+    texts = [getattr(item, "text", "") for item in picture.items]
     assert any(t.startswith("Not drawn: the fix stars, which cannot be trusted") for t in texts)
+    # a voyage of one position is drawn a few miles across (it was drawn to a scale bar of 0.1 nm)
+    scale = [item.text for item in picture.items if getattr(item, "kind", None) == "scale"]
+    assert scale and float(scale[0].split()[0]) >= 1.0, scale
     assert not any(getattr(item, "kind", None) == "ellipse" for item in voyage_track_picture(days).items)

@@ -273,6 +273,8 @@ def series_plot(times, ho_deg, flagged, curve_times, curve_ho_deg, best_index, *
 #: on a crowded passage, its leader crosses the track and other marks and the label reads as another's; it is
 #: listed above the chart instead (and the search of the whole sheet for each label took a minute).
 VOYAGE_LABEL_REACH_PT = 120.0
+#: The voyage picture spans at least this many miles each way.
+VOYAGE_MIN_SPAN_NM = 10.0
 
 
 class _VoyageChart:
@@ -285,8 +287,9 @@ class _VoyageChart:
         self.lon_ref = float(lons[0])
         self.cos_lat = math.cos(math.radians(self.lat_mid))
         xs, ys = self.plane(lats, lons)
-        self.width_nm = max(float(np.ptp(xs)), 1.0)
-        self.height_nm = max(float(np.ptp(ys)), 1.0)
+        # at least a few miles each way: a voyage of one position is not drawn to a tenth of a mile's scale
+        self.width_nm = max(float(np.ptp(xs)), VOYAGE_MIN_SPAN_NM)
+        self.height_nm = max(float(np.ptp(ys)), VOYAGE_MIN_SPAN_NM)
         self.per_nm = min((self.ax1 - self.ax0) / (self.width_nm * 1.15), (self.ay1 - self.ay0) / (self.height_nm * 1.15))
         self.cx, self.cy = (xs.max() + xs.min()) / 2.0, (ys.max() + ys.min()) / 2.0
 

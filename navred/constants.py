@@ -57,3 +57,6 @@ SUN_DARK_HORIZON_DEG = -12.0
 #: An intercept (a position line's distance from the DR) beyond this usually means a blunder or a poor DR:
 #: it should be questioned (common practice).
 LARGE_INTERCEPT_NM = 30.0
+#: A drift under this (knots) is nil, 0.0 to the tenth it is given to: it has no set (common practice: a "nil"
+#: current; the direction of a gap of a few cables over many hours is noise).
+NIL_DRIFT_KN = 0.05

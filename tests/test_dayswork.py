@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import io
 import json
+import re
 import sys
 from pathlib import Path
 
@@ -286,6 +287,50 @@ def test_a_position_built_on_a_sight_with_a_warning_carries_the_warning(tmp_path
     assert "warning: row 3 (Sun): intercept over 30 nm" in fixed.output
 
 
+def test_an_estimated_position_is_named_by_what_it_rests_on_in_every_output(tmp_path):
+    """FINDINGS-28 10a: an EP was named by its fix-group label ('found by estimated position noon at 22:00 UTC').
+    It is named by what it is, the row it rests on and its time, the same in the console, the noon CSV, the noon
+    report, the workbook's sheets, the GeoJSON, the GPX and the picture (common practice: an EP is a single line's
+    foot from the DR); a noon found by it carries its row's warning, and the picture's label names that row. The
+    altitude is made up (a 50-nm intercept, so that the sight warns)."""
+    import openpyxl
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+
+    path = tmp_path / "log.csv"
+    path.write_text(
+        "date,zone_time,zone_description,entry,dr_lat,dr_lon,course,speed,body,limb,hs,eye_height_m,fix_group\n"
+        "2026-04-14,06:00:00,+1,departure,38 00.0 N,010 00.0 W,250,6,,,,,\n"
+        "2026-04-14,12:30:00,+1,,,,,,Sun,lower,60 30.0,3.0,noon sun\n")
+    name = "EP from one Sun line (row 3), 13:30 UTC"  # 12:30 in zone +1 is 13:30 UTC; noon is 13:00 UTC
+    days = process_log(path, plan=False).days_work()
+    assert days.estimated["ep"].tolist() == [name]
+    noon = days.noons.iloc[0]
+    assert noon.noon_from == f"{name} carried back to noon; row 3 warns: intercept over 30 nm", noon.noon_from
+    out = {suffix: tmp_path / f"d{suffix}" for suffix in (".csv", ".txt", ".svg")}
+    shown = CliRunner().invoke(app, ["days", str(path)] + [a for f in out.values() for a in ("-o", str(f))]).stdout
+    assert f"by {name} carried back to noon; row 3 warns" in shown and f"found by          {name}" in shown
+    assert f"{name} on 2026-04-14 (fix group noon sun): " in shown
+    assert name in pd.read_csv(out[".csv"])["noon_from"].iat[0]
+    assert f"found by          {name}" in out[".txt"].read_text(encoding="utf-8")
+    assert "EP 13:30 (row 3: see its warning)" in out[".svg"].read_text(encoding="utf-8")
+    files = [tmp_path / f"b{suffix}" for suffix in (".xlsx", ".geojson", ".gpx")]
+    book = CliRunner().invoke(app, ["workbook", str(path)] + [a for f in files for a in ("-o", str(f))])
+    assert book.exit_code == 0, book.output
+    workbook = openpyxl.load_workbook(files[0])
+    for sheet in ("Day's work", "Noon report"):
+        cells = [str(v) for row in workbook[sheet].values for v in row if v is not None]
+        assert any(c.startswith(name) for c in cells), sheet
+    ep = [f["properties"] for f in json.loads(files[1].read_text())["features"]
+          if f["properties"].get("kind") == "estimated position"]
+    assert [p["ep"] for p in ep] == [name]
+    assert f"<name>{name}</name>" in files[2].read_text(encoding="utf-8")
+    # the group's label is never the EP's name
+    everything = shown + out[".txt"].read_text(encoding="utf-8") + files[2].read_text(encoding="utf-8")
+    assert "estimated position noon sun" not in everything and "EP noon sun" not in everything
+
+
 def test_two_vessels_in_one_log_each_keep_their_own_dr(ts, eph, tmp_path):
     """Issue 20: a log of two vessels, each with her own departure and courses, gives each vessel the DR, the
     fixes and the noons that her own half of the log gives when it is read alone (make_passage sails each)."""
@@ -351,12 +396,12 @@ def _rounds_log(ts, eph, track, start, departure, fix_times):
 
 def test_set_and_drift_only_where_it_means_something(ts, eph, tmp_path):
     """Fixes 12 minutes apart give no set and drift (the rule: a run of at least 2 h, a drift known to ±1.5 kn,
-    no drift beyond 8 kn); a fix 60 miles from a DR six hours old gives none either (no current of the sea runs
-    10 kn: a fix or the DR is wrong); neither is printed as a drift nor drawn as an arrow on the voyage picture,
-    and each says why. (The 12-minute case used to print 'drift 0.81 ±12.29 kn'.)"""
+    no drift beyond 8 kn: # from memory, the strongest ocean currents run 4-5 kn); a fix 60 miles from a DR six
+    hours old gives none either (it cannot be trusted: a fix or the DR is wrong); neither is printed as a drift
+    nor drawn as an arrow on the voyage picture, and each says why. (The 12-minute case used to print 'drift 0.81 ±12.29 kn'.)"""
     from navred.figures.drawing import _Polygon
     from navred.figures.plotting import CHART, voyage_track_picture
-    from navred.jobs.shiptrack import MAX_CURRENT_KN, SET_DRIFT_MIN_HOURS
+    from navred.jobs.shiptrack import MAX_CURRENT_KN, SET_DRIFT_MIN_HOURS, current_verdict
 
     assert (SET_DRIFT_MIN_HOURS, MAX_CURRENT_KN) == (2.0, 8.0)
     start = pd.Timestamp("2026-04-14T06:00:00Z")
@@ -367,15 +412,29 @@ def test_set_and_drift_only_where_it_means_something(ts, eph, tmp_path):
     assert np.isfinite(rows.loc["1200", "drift_kn"])  # six hours from the departure: found
     assert rows.loc["1200", "drift_kn"] == pytest.approx(1.2, abs=0.1)
     assert np.isnan(rows.loc["1212", "drift_kn"]) and np.isnan(rows.loc["1212", "set_deg"])
-    assert rows.loc["1212", "note"].startswith("not determined: 12 min between the fixes, less than the 2 h")
-    far = process_log(_rounds_log(ts, eph, track, start, (39.0, -12.0), times[:1]), plan=False).days_work()
-    row = far.set_drift.iloc[0]
-    assert np.isnan(row["drift_kn"]) and "more than any current of the sea (8 kn)" in row["note"]
-    assert row["dr_to_fix_nm"] > 50
+    assert rows.loc["1212", "note"].startswith("not determined: 12 min from the position before, less than the 2 h")
+    # a fix 60 nm from a DR six hours old: the fix cannot be trusted (grosserrors.mark_untrusted), so no DR restarts
+    # at it and no set and drift is found against it (it was found as 10 kn, more than any current)
+    voyage = process_log(_rounds_log(ts, eph, track, start, (39.0, -12.0), times[:1]), plan=False)
+    far = voyage.days_work()
+    assert voyage.group("1200").fix.untrusted and voyage.group("1200").fix.dr_distance_nm > 50
+    assert not len(far.set_drift) and [name for name, _ in far.left_out[""]] == ["1200"]
+    # a fix that stands, 10 kn off its DR, would give none either (current_verdict's rule)
+    ok, why = current_verdict(6.0, 10.0, 0.5, 60.0)
+    assert not ok[0] and "more than any current of the sea (8 kn)" in why[0]
     for days, arrows in ((near, 1), (far, 0)):
         picture = voyage_track_picture(days)
         drawn = [item for item in picture.items if isinstance(item, _Polygon) and item.fill == CHART]
         assert len(drawn) == arrows
+        texts = [getattr(item, "text", "") for item in picture.items]
+        # the 12-minute fix's gap is not drawn at all (the fixes' own error); the far fix is named, not drawn
+        assert not any(getattr(item, "kind", None) == "undetermined gap" for item in picture.items)
+        assert any(t.startswith("Not drawn: the fix 1200, which cannot be trusted") for t in texts) == (days is far)
+    # a drift within its uncertainty: the gap dotted, with no head, saying why (the demo day at sea, invented)
+    picture = voyage_track_picture(process_log("sample_sights/day_at_sea.csv", plan=False).days_work())
+    assert len([item for item in picture.items if getattr(item, "kind", None) == "undetermined gap"]) == 1
+    assert any(re.fullmatch(r"DR to fix \d+\.\d nm in 16\.4 h: drift under \d\.\d kn, its set not determined",
+                            getattr(item, "text", "")) for item in picture.items)
     log = _rounds_log(ts, eph, track, start, (38.0, -12.0), times)
     log.to_csv(tmp_path / "log.csv", index=False)
     from typer.testing import CliRunner
@@ -383,7 +442,7 @@ def test_set_and_drift_only_where_it_means_something(ts, eph, tmp_path):
     from navred.cli import app
 
     text = CliRunner().invoke(app, ["days", str(tmp_path / "log.csv")]).stdout
-    assert "fix 1212: set and drift not determined: 12 min between the fixes" in text
+    assert "fix 1212: set and drift not determined: 12 min from the position before" in text
     assert text.count(" kn over ") == 1
 
 
@@ -502,17 +561,37 @@ def test_a_logged_current_splits_the_current_experienced_into_the_logged_and_the
             f"{first.unaccounted_set_deg:03.0f}° {first.unaccounted_drift_kn:.1f} kn, the DR's gap to the fix)") in shown
     if first.set_95_deg >= 5:
         assert f"set {first.set_deg:03.0f}° ±{first.set_95_deg:.0f}°, drift" in shown
-    # the picture's arrow at each fix runs the way of the gap, not of the whole current (page y runs down)
+    # the picture's arrow at each fix is the gap itself: from the DR kept, where the DR's leg ends, to the fix, to
+    # the chart's scale (FINDINGS-28 10c: it was drawn from the fix, a knot to a key's length); page y runs down
     root = ET.fromstring(voyage_track_picture(days).to_svg())
     svg = "{http://www.w3.org/2000/svg}"
-    arrows = [e for e in root.iter(f"{svg}polyline") if e.get("class") == "set and drift"]
-    assert len(arrows) == len(table)
-    for e, row in zip(arrows, table.to_dict("records")):
-        (x0, y0), (x1, y1) = [tuple(map(float, p.split(","))) for p in e.get("points").split()][:2]
-        drawn = math.degrees(math.atan2(x1 - x0, -(y1 - y0))) % 360.0
+
+    def points(e):
+        return np.array([tuple(map(float, p.split(","))) for p in e.get("points").split()])
+
+    arrows = [points(e) for e in root.iter(f"{svg}polyline") if e.get("class") == "set and drift"]
+    leg_ends = np.array([points(e)[-1] for e in root.iter(f"{svg}polyline") if e.get("class") == "dr leg"])
+    rings = [points(e) for e in root.iter(f"{svg}polygon") if e.get("class") == "fix"]
+    centres = np.array([(ring.max(axis=0) + ring.min(axis=0)) / 2.0 for ring in rings[1::2]])  # each fix's dot
+    assert len(arrows) == len(table) and len(centres) == len(table)
+    # the page's points a mile: the first and last fixes' distance on the page against geographiclib's
+    ends = GEOD.Inverse(table.fix_lat_deg.iat[0], table.fix_lon_deg.iat[0], table.fix_lat_deg.iat[-1],
+                        table.fix_lon_deg.iat[-1])["s12"] / NM
+    per_nm = float(np.hypot(*(centres[-1] - centres[0]))) / ends
+    for (start, end), row, centre in zip(arrows, table.to_dict("records"), centres):
+        drawn = math.degrees(math.atan2(end[0] - start[0], -(end[1] - start[1]))) % 360.0
         assert abs((drawn - row["unaccounted_set_deg"] + 180) % 360 - 180) <= 2.0
+        assert np.min(np.hypot(*(leg_ends - start).T)) < 0.05  # it starts where the DR kept ends
+        gap_nm = GEOD.Inverse(row["kept_dr_lat_deg"], row["kept_dr_lon_deg"], row["fix_lat_deg"],
+                              row["fix_lon_deg"])["s12"] / NM
+        assert float(np.hypot(*(centre - start))) == pytest.approx(gap_nm * per_nm, rel=0.03)  # to scale
+        assert 0.0 <= float(np.hypot(*(centre - end))) <= 5.05  # its head stops at the fix's ring
     labels = [t.text or "" for t in root.iter(f"{svg}text")]
-    assert any(t.startswith("missed ") and "logged 090° 0.8" in t for t in labels)
+    first = table.iloc[0]
+    assert (f"DR to fix {first.unaccounted_drift_kn * first.hours:.1f} nm in {first.hours:.1f} h: unaccounted "
+            f"{first.unaccounted_set_deg:03.0f}° {first.unaccounted_drift_kn:.1f} kn (current {first.set_deg:03.0f}° "
+            f"{first.drift_kn:.1f}, logged 090° 0.8)") in labels
+    assert not any("a knot" in t or "gap from the DR to the fix" in t for t in labels)
     # the Day's work sheet and the GeoJSON carry the same split
     import openpyxl
 
@@ -527,6 +606,41 @@ def test_a_logged_current_splits_the_current_experienced_into_the_logged_and_the
     features = json.loads(write_voyage_geojson(voyage, tmp_path / "l.geojson").read_text())["features"]
     fixed = [f["properties"] for f in features if f["properties"].get("unaccounted_set_deg") is not None]
     assert len(fixed) == len(table) and all(p["current_in_dr"] == "logged" for p in fixed)
+
+
+def test_the_true_current_logged_leaves_a_nil_unaccounted_with_no_set_in_every_output(steady, tmp_path):
+    """FINDINGS-28 10b: with the current logged right (scripts/make_passage.py's 060° 1.2 kn) the DR kept meets
+    each fix and the unaccounted rest is nil: no output gives it a set (it said "unaccounted 260° 0.0 kn"; the
+    sheet and GeoJSON kept a set of 259.5° for 0.01 kn). # common practice: a nil current has no set."""
+    import openpyxl
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+    from navred.constants import NIL_DRIFT_KN
+    from navred.figures.plotting import voyage_track_picture
+    from navred.jobs.chartfiles import write_voyage_geojson
+    from navred.jobs.voyagebook import write_workbook
+
+    log, _, _ = steady
+    logged = pd.concat([log.iloc[:1], pd.DataFrame([{"utc": log.utc.iloc[0], "entry": "current", "set": 60,
+                                                     "drift": 1.2, "vessel": log.vessel.iloc[0]}]), log.iloc[1:]],
+                       ignore_index=True)
+    voyage = process_log(logged, plan=False)
+    table = voyage.days_work().set_drift
+    assert (table["current_in_dr"] == "logged").all()
+    assert (table["unaccounted_drift_kn"] < NIL_DRIFT_KN).all() and table["unaccounted_set_deg"].isna().all()
+    path = tmp_path / "right.csv"
+    logged.to_csv(path, index=False)
+    shown = CliRunner().invoke(app, ["days", str(path)]).stdout
+    assert shown.count("nothing unaccounted") == len(table) and "unaccounted 0" not in shown
+    labels = voyage_track_picture(voyage.days_work()).to_svg()
+    assert labels.count(": nothing unaccounted (current ") == len(table)
+    book = openpyxl.load_workbook(write_workbook(voyage, tmp_path / "r.xlsx", plots=False))
+    cells = [v for row in book["Day's work"].values for v in row]
+    assert cells.count("nil: nothing unaccounted") == len(table)
+    features = json.loads(write_voyage_geojson(voyage, tmp_path / "r.geojson").read_text())["features"]
+    fixed = [f["properties"] for f in features if "unaccounted_set_deg" in f["properties"]]
+    assert len(fixed) == len(table) and all(p["unaccounted_set_deg"] is None for p in fixed)
 
 
 def test_without_a_logged_current_the_set_and_drift_is_not_split(steady):
@@ -556,3 +670,92 @@ def test_a_current_the_dr_carried_whole_leaves_nothing_unaccounted_not_a_set_of_
     text = current_split_text(row)
     assert "nothing unaccounted" in text and "260°" not in text and "logged 270° 0.8 kn" in text
     assert "unaccounted 260° 0.5 kn" in current_split_text({**row, "unaccounted_drift_kn": 0.5})
+
+
+def test_an_eps_name_and_picture_label_name_its_rows_and_the_rows_that_warn():
+    # the rows as the log numbers them, a run of rows as a span, the time rounded to the minute (common practice:
+    # a position's time to the minute); the picture's label sends the reader to each row that warns
+    from navred.figures.plotting import ep_label
+    from navred.jobs.shiptrack import ep_name
+
+    assert ep_name("one Sun line", [4], "2026-12-06 21:59:40") == "EP from one Sun line (row 4), 22:00 UTC"
+    assert (ep_name("the line of position", [8, 7], "2026-12-07 05:00:10")
+            == "EP from the line of position (rows 7-8), 05:00 UTC")
+    assert ep_name("the latitude", [3, 9], "2026-12-07 05:00:00") == "EP from the latitude (rows 3, 9), 05:00 UTC"
+    name = "EP from the line of position (rows 7-8), 05:00 UTC"
+    assert ep_label(name) == "EP 05:00 (rows 7-8)"
+    assert ep_label(name, "row 8: low sight (Ho under 5°): refraction uncertain") == (
+        "EP 05:00 (rows 7-8: see row 8's warning)")
+    assert ep_label(name, "row 7: low sight: x; row 8: low sight: y; row 8: star out of twilight") == (
+        "EP 05:00 (rows 7-8: see the warnings of rows 7, 8)")
+    assert ep_label("EP from one Sun line (row 4), 22:00 UTC", "row 4: high sight (Hc above 85°): x") == (
+        "EP 22:00 (row 4: see its warning)")
+    assert ep_label("EP from the latitude (rows 3, 9), 05:00 UTC") == "EP 05:00 (rows 3, 9)"
+
+
+def test_the_voyage_pictures_no_room_list_stays_on_the_sheet_and_noons_are_labelled_before_eps(tmp_path):
+    # the list of labels with no room ran off the page on the training voyage (seventy EPs of three cadets);
+    # now as many as the line holds, then how many more
+    from navred.figures.drawing import text_width_pt
+    from navred.figures.plotting import no_room_text, voyage_track_picture
+
+    names = [f"EP 10:{k:02d} (rows {100 + 4 * k}-{103 + 4 * k})" for k in range(40)]
+    text = no_room_text(names, 1000.0)
+    assert text_width_pt(text, 7, italic=True) <= 1000.0 and text.endswith(" more.")
+    shown = text.count("EP 10:")
+    assert text.endswith(f" and {40 - shown} more.") and 5 < shown < 40
+    assert no_room_text(names[:2], 1000.0) == f"No room on the sheet for the labels of: {names[0]}, {names[1]}."
+    # a noon on its EP (the hand-written log above: the Sun line 30 min after noon): the noon's label is placed
+    # first, the EP's after it
+    path = tmp_path / "log.csv"
+    path.write_text(
+        "date,zone_time,zone_description,entry,dr_lat,dr_lon,course,speed,body,limb,hs,eye_height_m,fix_group\n"
+        "2026-04-14,06:00:00,+1,departure,38 00.0 N,010 00.0 W,250,6,,,,,\n"
+        "2026-04-14,12:30:00,+1,,,,,,Sun,lower,60 30.0,3.0,noon sun\n")
+    picture = voyage_track_picture(process_log(path, plan=False).days_work())
+    labels = [item.text for item in picture.items if getattr(item, "kind", None) == "label"]
+    assert labels.index("noon 04-14") < labels.index("EP 13:30 (row 3: see its warning)")
+
+
+def test_an_ep_on_a_meridian_altitude_is_named_so():
+    # the invented passage's noon Suns are taken at meridian passage (sample_sights/, scripts/make_passage.py; the
+    # samples' test checks noon at meridian passage): an EP from one of them is the noon latitude with the DR's
+    # longitude, named by it (common practice), not "one Sun line"
+    days = process_log("sample_sights/passage_log.csv", plan=False).days_work()
+    meridian = days.latitudes[days.latitudes["method"] == "meridian"]
+    assert len(meridian) == len(days.estimated) == 3
+    for row, ep in zip(meridian["row"], days.estimated["ep"]):
+        assert ep.startswith(f"EP from the Sun's meridian altitude ({row}), "), ep
+    assert all(n.startswith("EP from the Sun's meridian altitude (row ") for n in days.noons["noon_from"])
+
+
+def test_a_fix_that_cannot_be_trusted_never_restarts_the_dr(tmp_path):
+    """The trial's far_E log (FINDINGS-28; altitudes made by the trial at 17° 30′ S 149° 30′ W, the DR written 149°
+    30′ E): its fix, 1,780 nm from the DR with a 1,464-nm ellipse, CANNOT BE TRUSTED; the day's work restarted
+    the DR there and the voyage picture drew it as a fix. It is left out, said so, and named on the picture
+    (common practice: a fix that cannot be trusted is looked into, the DR kept on)."""
+    from navred.figures.plotting import voyage_track_picture
+
+    path = tmp_path / "far_e.csv"
+    path.write_text(
+        "Date,Watch time,ZD,Watch error,Body,Limb,Hs,IE,Height of eye (m),DR lat,DR lon,Course (°T),Speed (kn),"
+        "Fix group,Observer\n"
+        "2026-12-04,7:05 pm,+10h,0 s,Canopus,,10° 46.9′,1.2 off,3.0,17° 30.0′ S,149° 30.0′ E,0,0,stars,2/O\n"
+        "2026-12-04,7:06 pm,+10h,0 s,Achernar,,46° 40.5′,1.2 off,3.0,17° 30.0′ S,149° 30.0′ E,0,0,stars,2/O\n"
+        "2026-12-04,7:07 pm,+10h,0 s,Fomalhaut,,70° 47.2′,1.2 off,3.0,17° 30.0′ S,149° 30.0′ E,0,0,stars,2/O\n",
+        encoding="utf-8")
+    voyage = process_log(path, plan=False)
+    assert voyage.group("stars").fix.untrusted  # the fix's own verdict (grosserrors.mark_untrusted)
+    days = voyage.days_work()
+    assert days.left_out == {"": (("stars", voyage.group("stars").fix.untrusted),)}
+    assert not any(label.startswith("fix ") for track in days.tracks.values() for label in track.known_label)
+    assert not len(days.set_drift)
+    assert any(n.startswith("the ship: the fix stars CANNOT BE TRUSTED (") and "the DR is not restarted from it" in n
+               for n in days.notes)
+    picture = voyage_track_picture(days)
+    texts = [getattr(item, "text", "") for item in picture.items]
+    assert any(t.startswith("Not drawn: the fix stars, which cannot be trusted") for t in texts)
+    # a voyage of one position is drawn a few miles across (it was drawn to a scale bar of 0.1 nm)
+    scale = [item.text for item in picture.items if getattr(item, "kind", None) == "scale"]
+    assert scale and float(scale[0].split()[0]) >= 1.0, scale
+    assert not any(getattr(item, "kind", None) == "ellipse" for item in voyage_track_picture(days).items)

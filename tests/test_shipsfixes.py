@@ -8,6 +8,7 @@ with each cadet's personal error and a seeded scatter, geographiclib for distanc
 
 from __future__ import annotations
 
+import re
 import sys
 from pathlib import Path
 
@@ -225,7 +226,9 @@ def test_a_cadets_noon_is_marked_against_the_ships_own_noon_latitude_not_her_dr(
     noons = table[table["fix_group"].str.startswith("noon")]
     assert set(noons["observer"]) == set(cadets) and (noons["kind"] == "estimated position").all()
     for row in noons.to_dict("records"):
-        assert row["ship_from"].startswith("the ship's estimated position noon Hale (one Sun line"), row
+        # the ship's EP named by what it rests on (FINDINGS-28 10a), its group after it
+        assert re.match(r"the ship's EP from the Sun's meridian altitude \(row \d+\), 12:4\d UTC \(fix group noon Hale\)",
+                        row["ship_from"]), row
         assert row["ship_from"].endswith(" carried on 1 min along her DR") or "2 min" in row["ship_from"], row
         # to 0.25 nm: each line's foot lies on the perpendicular from a DR ~5 nm out (the current left out), and
         # the Sun's bearing turns about 1° in the minutes between the lines (0.1 nm along them)
@@ -246,8 +249,8 @@ def test_the_days_text_says_what_the_exercises_are_marked_against(training_day, 
     log.to_csv(tmp_path / "day.csv", index=False)
     result = CliRunner().invoke(app, ["days", str(tmp_path / "day.csv")])
     assert result.exit_code == 0, result.output
-    assert ("each marked against the ship's best position at its time: her own fixes (2), her single-line "
-            "estimated positions (2)") in result.stdout
+    assert ("each marked against the ship's best position at its time: her own fixes (2), her EPs from single "
+            "lines (2)") in result.stdout
 
 
 def test_navigator_is_taken_alike_by_every_command_that_keeps_the_dr(training, tmp_path):

@@ -713,7 +713,8 @@ def _noon_lines(days, vessel) -> list[str]:
     lines = [f"\n{vessel or 'the ship'}: noon positions and the day's run"]
     for r in noons.to_dict("records"):
         lines.append(f"  {r['date']} noon ({r['zone']}, {r['noon_utc'][11:16]} UTC) {r['noon_position'] or 'no position'}"
-                     f"  {'by' if is_reckoned(r['noon_from']) else 'from'} {r['noon_from']}")
+                     f"  {'by' if is_reckoned(r['noon_from']) or r['noon_from'].startswith('EP ') else 'from'} "
+                     f"{r['noon_from']}")
         if r["run_nm"] == r["run_nm"]:
             current = (f"; current {_noon_set_text(r)} {r['current_drift_kn']:.1f} "
                        f"±{r['current_95_kn']:.1f} kn" if r["current_drift_kn"] == r["current_drift_kn"] else
@@ -814,7 +815,7 @@ def _exercise_lines(days, vessel) -> list[str]:
         else:
             lines.append(f"  {observer or '(no observer)'}: {counted}; no ship's DR to compare with")
     kinds = {"the ship's fix": "her own fixes", "the ship's noon": "her noon positions",
-             "the ship's estimated position": "her single-line estimated positions", "DR from": "her DR (no position "
+             "the ship's EP": "her EPs from single lines", "DR from": "her DR (no position "
              "of her own within the hour)"}
     against = {}
     for source in table["ship_from"].astype(str):
@@ -838,7 +839,7 @@ def days_lines(report) -> list[str]:
     lines = [voyage.summary()] + list(days.notes)
     for vessel in days.tracks:
         lines += _noon_lines(days, vessel) + _set_drift_lines(days, vessel) + _exercise_lines(days, vessel)
-    lines += [f"estimated position {r['fix_group']} at {r['utc']}: {r['estimated_position']} ({r['from']})"
+    lines += [f"{r['ep']} on {r['utc'][:10]} (fix group {r['fix_group']}): {r['estimated_position']}, {r['from']}"
               for r in days.estimated.to_dict("records")]
     for vessel in days.tracks:
         noons = days.noons[days.noons.vessel == vessel]

@@ -170,22 +170,33 @@ class Placer:
         return not any(_separated_by_none(a, np.asarray(self.taken[k], dtype=float).tolist()) for k in near.tolist())
 
     def place_far(self, text: str, size: float, x: float, y: float, frame: Rect, *, bold: bool = False,
-                  italic: bool = False, leader_crosses=()) -> tuple[Spot, tuple[float, float, float, float]] | None:
+                  italic: bool = False, leader_crosses=(),
+                  max_reach_pt: float | None = None) -> tuple[Spot, tuple[float, float, float, float]] | None:
         """The nearest free spot anywhere in ``frame`` for the label of a mark at (x, y), reached by a leader
         line that overlaps nothing taken either but the boxes ``leader_crosses`` (the mark's own symbol, the
         lines it may cross): (the spot, the leader's ends), both then taken; or None where the frame holds no
-        such spot. Every spot of a grid over the frame is tested at once (:func:`overlaps`)."""
+        such spot, or none within ``max_reach_pt`` of the mark where that is given. Every spot of a grid over the
+        frame is tested at once (:func:`overlaps`)."""
         taken = np.array(self.taken, dtype=float).reshape(-1, 4, 2)
         # the leader may cross the boxes it is allowed to and any box holding the mark (its symbol, another's)
-        crossable = np.array([any(t is k for k in leader_crosses) for t in self.taken], dtype=bool)
+        allowed = {id(k) for k in leader_crosses}
+        crossable = np.array([id(t) in allowed for t in self.taken], dtype=bool)
         if len(taken):
             crossable |= ((taken.min(axis=1) <= (x, y)) & (taken.max(axis=1) >= (x, y))).all(axis=1)
         gx = np.arange(frame[0], frame[2] + 0.01, FAR_STEP_PT)
         gy = np.arange(frame[1], frame[3] + 0.01, FAR_STEP_PT)
-        px, py = (v.ravel() for v in np.meshgrid(gx, gy))
         anchors = ("start", "end", "middle")
         shapes = np.stack([text_corners(0.0, 0.0, text, size, anchor=a, baseline="middle", bold=bold,
                                         italic=italic, pad=self.gap_pt) for a in anchors])
+        if max_reach_pt is not None:
+            # only the spots, and the boxes, a label within reach can touch
+            span = max_reach_pt + float(np.abs(shapes).max()) + FAR_STEP_PT
+            gx, gy = gx[np.abs(gx - x) <= span], gy[np.abs(gy - y) <= span]
+            if len(taken):
+                near = ((taken.min(axis=1) <= (x + span, y + span)) & (taken.max(axis=1) >= (x - span, y - span))
+                        ).all(axis=1)
+                taken, crossable = taken[near], crossable[near]
+        px, py = (v.ravel() for v in np.meshgrid(gx, gy))
         # every spot with every anchor: the label's box there, its distance from the mark
         corners = (shapes[None, :, :, :] + np.stack([px, py], axis=1)[:, None, None, :]).reshape(-1, 4, 2)
         anchor_of = np.tile(np.arange(len(anchors)), px.size)
@@ -194,6 +205,8 @@ class Placer:
         reach = np.hypot(ex - x, ey - y)
         fits = ((low[:, 0] >= frame[0]) & (high[:, 0] <= frame[2]) & (low[:, 1] >= frame[1])
                 & (high[:, 1] <= frame[3]))
+        if max_reach_pt is not None:
+            fits &= reach <= max_reach_pt
         candidates = np.flatnonzero(fits)
         candidates = candidates[np.argsort(reach[candidates], kind="stable")]
         blockers = taken[~crossable]
@@ -245,13 +258,14 @@ class Placed:
 
 def place_mark_label(placer: Placer, text: str, size: float, spots, at: tuple[float, float], frame: Rect, *,
                      lines=(), own=(), bold: bool = False, italic: bool = False,
-                     smaller_pt: float = 1.5) -> Placed | None:
+                     smaller_pt: float = 1.5, max_reach_pt: float | None = None) -> Placed | None:
     """The one way a mark's label (a fix, a DR, a body in the sky) is placed, clear of every label and symbol
     taken and of ``lines`` (boxes of the lines no label may overprint): at the first free of its own ``spots``
     beside the mark at ``at``; else at the nearest free place in ``frame`` joined to the mark by a leader line
     that crosses no line, else one that may (never another label); then ``smaller_pt`` smaller. The label and
     leader are taken in ``placer``; None where the frame holds no place (the caller lists the label off the
-    picture). ``own``: the mark's own boxes (its symbol) that its leader starts inside."""
+    picture). ``own``: the mark's own boxes (its symbol) that its leader starts inside; ``max_reach_pt``: the
+    farthest from its mark a label may go (None: anywhere in the frame)."""
     clear = placer.with_also(lines)
     base = len(clear.taken)
     spot = clear.place(text, size, spots, frame, bold=bold, italic=italic)
@@ -260,7 +274,8 @@ def place_mark_label(placer: Placer, text: str, size: float, spots, at: tuple[fl
         if placed is not None:
             break
         for crossing in (list(own), list(own) + list(lines)):
-            found = clear.place_far(text, pt, *at, frame, bold=bold, italic=italic, leader_crosses=crossing)
+            found = clear.place_far(text, pt, *at, frame, bold=bold, italic=italic, leader_crosses=crossing,
+                                    max_reach_pt=max_reach_pt)
             if found is not None:
                 spot, leader = found
                 placed = Placed(spot, pt, leader if leader[:2] != leader[2:] else None)

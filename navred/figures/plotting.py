@@ -13,7 +13,9 @@ from pathlib import Path
 import numpy as np
 
 from ..angles import format_angle, wrap_180
+from ..constants import NIL_DRIFT_KN
 from ..stats import chi_square_2_quantile
+from .drawing import text_width_pt
 from .placing import Placer, place_mark_label, rect_corners, segment_box, segment_boxes
 from .symbols import (  # noqa: F401  (the palette, also for the other figures)
     CHART,
@@ -267,6 +269,14 @@ def series_plot(times, ho_deg, flagged, curve_times, curve_ho_deg, best_index, *
     return picture
 
 
+#: On the voyage picture a label goes no farther than this from its mark (points, a leader joining them): farther,
+#: on a crowded passage, its leader crosses the track and other marks and the label reads as another's; it is
+#: listed above the chart instead (and the search of the whole sheet for each label took a minute).
+VOYAGE_LABEL_REACH_PT = 120.0
+#: The voyage picture spans at least this many miles each way.
+VOYAGE_MIN_SPAN_NM = 10.0
+
+
 class _VoyageChart:
     """The voyage picture's Mercator chart about the middle latitude: ``plane`` takes positions to miles east
     and north of the chart's reference, ``page`` takes miles to the sheet's points."""
@@ -277,8 +287,9 @@ class _VoyageChart:
         self.lon_ref = float(lons[0])
         self.cos_lat = math.cos(math.radians(self.lat_mid))
         xs, ys = self.plane(lats, lons)
-        self.width_nm = max(float(np.ptp(xs)), 1.0)
-        self.height_nm = max(float(np.ptp(ys)), 1.0)
+        # at least a few miles each way: a voyage of one position is not drawn to a tenth of a mile's scale
+        self.width_nm = max(float(np.ptp(xs)), VOYAGE_MIN_SPAN_NM)
+        self.height_nm = max(float(np.ptp(ys)), VOYAGE_MIN_SPAN_NM)
         self.per_nm = min((self.ax1 - self.ax0) / (self.width_nm * 1.15), (self.ay1 - self.ay0) / (self.height_nm * 1.15))
         self.cx, self.cy = (xs.max() + xs.min()) / 2.0, (ys.max() + ys.min()) / 2.0
 
@@ -330,15 +341,15 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
         if xs_leg.size >= 2:
             sheet.line(xs_leg.tolist(), ys_leg.tolist(), INK, 1.1, dash=(5.0, 3.0), kind="dr leg")
             lines.extend(segment_boxes(xs_leg[:-1], ys_leg[:-1], xs_leg[1:], ys_leg[1:], 1.0))
-    arrow_nm = 0.06 * max(chart.width_nm, chart.height_nm) / 1.0  # an arrow this long stands for one knot
     placer = Placer()
     labels = _voyage_known_positions(sheet, placer, chart, track, days.ellipse_scales) if track is not None else []
-    labels += _voyage_marks(sheet, placer, chart, fixes, estimated, noons, arrow_nm, lines)
+    labels += _voyage_marks(sheet, placer, chart, fixes, estimated, noons, lines)
     frame = (chart.ax0 + 2, chart.ay0 + 2, chart.ax1 - 2, chart.ay1 - 2)
     unplaced = []
     for text, colour, x, y in labels:  # the plotting sheets' rule: beside, else nearest with a leader, else smaller
         own = [t for t in placer.taken if (t.min(axis=0) <= (x, y)).all() and (t.max(axis=0) >= (x, y)).all()]
-        placed = place_mark_label(placer, text, 7, _beside(x, y), (x, y), frame, lines=lines, own=own)
+        placed = place_mark_label(placer, text, 7, _beside(x, y), (x, y), frame, lines=lines, own=own,
+                                  max_reach_pt=VOYAGE_LABEL_REACH_PT)
         if placed is None:
             unplaced.append(text)
             continue
@@ -347,13 +358,18 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
         spot = placed.spot
         sheet.text(spot.x, spot.y, text, placed.size, colour, anchor=spot.anchor, baseline=spot.baseline, box=PAPER,
                    kind="label")
-    if unplaced:
-        sheet.text(box[0] - 12, 51, f"No room on the sheet for the labels of: {', '.join(unplaced[:12])}"
-                   + (f" and {len(unplaced) - 12} more" if len(unplaced) > 12 else "") + ".", 7, INK, italic=True,
-                   kind="mark list")
+    # the fixes left out (they cannot be trusted) are named, never silently missing
+    left_out = [name for name, _ in getattr(days, "left_out", {}).get(vessel, ())]
+    missing = (f"Not drawn: the fix{'es' if len(left_out) > 1 else ''} {', '.join(left_out)}, which cannot be "
+               "trusted (see the warnings); the DR is not restarted from "
+               f"{'them' if len(left_out) > 1 else 'it'}. " if left_out else "")
+    if unplaced or missing:
+        width = SHEET_PT * 1.5 - 20.0 - (box[0] - 12)
+        sheet.text(box[0] - 12, 51, missing + (no_room_text(unplaced, width - text_width_pt(missing, 7, italic=True))
+                                               if unplaced else ""), 7, INK, italic=True, kind="mark list")
     sheet.line([chart.ax0, chart.ax1, chart.ax1, chart.ax0, chart.ax0],
                [chart.ay0, chart.ay0, chart.ay1, chart.ay1, chart.ay0], INK, 0.8)
-    _voyage_key(sheet, chart, arrow_nm)
+    _voyage_key(sheet, chart)
     return sheet
 
 
@@ -433,61 +449,132 @@ def _voyage_known_positions(sheet, placer, chart: _VoyageChart, track, scales: d
     return labels
 
 
-def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, arrow_nm: float,
-                  lines: list | None = None) -> list:
-    """The set and drift arrows at the fixes (their boxes added to ``lines``), the estimated positions and the
-    noon positions; their labels."""
+def no_room_text(unplaced: list[str], width_pt: float) -> str:
+    """The line above the voyage picture naming the labels with no room on it: as many as the line holds in
+    ``width_pt`` (7 pt italic), then how many more."""
+    for shown in range(len(unplaced), 0, -1):
+        more = f" and {len(unplaced) - shown} more" if shown < len(unplaced) else ""
+        text = f"No room on the sheet for the labels of: {', '.join(unplaced[:shown])}{more}."
+        if text_width_pt(text, 7, italic=True) <= width_pt:
+            return text
+    return f"No room on the sheet for {len(unplaced)} labels."
+
+
+def ep_label(ep: str, note: str = "") -> str:
+    """An estimated position's label on the voyage picture, short for a crowded chart: its time and the log rows
+    its name gives ('EP 22:00 (row 4)' for 'EP from one Sun line (row 4), 22:00 UTC'), and where its sights carry
+    a warning, the rows whose warnings to read (each warning names its row, in every output): 'EP 22:00 (row 4:
+    see its warning)'."""
+    import re
+
+    named = re.fullmatch(r"EP from .* \((rows? [\d, -]+)\), (\d\d:\d\d) UTC", str(ep))
+    if not named:
+        return str(ep)
+    rows, time = named.group(1), named.group(2)
+    warned = list(dict.fromkeys(re.findall(r"(?:^|; )row (\d+):", note)))
+    if not warned:
+        return f"EP {time} ({rows})"
+    if rows == f"row {warned[0]}" and len(warned) == 1:
+        return f"EP {time} ({rows}: see its warning)"
+    which = f"row {warned[0]}'s warning" if len(warned) == 1 else f"the warnings of rows {', '.join(warned)}"
+    return f"EP {time} ({rows}: see {which})"
+
+
+def _undetermined_gap(sheet, chart: _VoyageChart, f: dict, lines: list | None) -> list:
+    """A fix whose set and drift is not determined: the DR's gap to it as a dotted line with no head, labelled
+    with its miles and why it is no current ('drift under 1.8 kn, its set not determined'; 'not a current:
+    check this fix');
+    nothing where the run was too short for a current to show. Without it the fix stood off the DR's end
+    unexplained."""
+    from ..sailings import rhumb_inverse
+
+    note = str(f.get("note") or "")
+    if "more than any current" in note or "not a current of the sea" in note:
+        words = "not a current: check this fix"
+    elif note.startswith("drift under"):
+        words = f"{note.split(',')[0]}, its set not determined"
+    elif "a current is worth stating to" in note:
+        words = "too uncertain to give a current"
+    else:
+        return []  # too short a run: the gap is the fixes' own error
+    if not (np.isfinite(f.get("kept_dr_lat_deg", np.nan)) and np.isfinite(f.get("kept_dr_lon_deg", np.nan))):
+        return []
+    gap_nm = float(rhumb_inverse(f["kept_dr_lat_deg"], f["kept_dr_lon_deg"], f["fix_lat_deg"], f["fix_lon_deg"])[0])
+    sx, sy = chart.at(f["kept_dr_lat_deg"], f["kept_dr_lon_deg"])
+    fx, fy = chart.at(f["fix_lat_deg"], f["fix_lon_deg"])
+    if math.hypot(fx - sx, fy - sy) >= 4.0:
+        sheet.line([sx, fx], [sy, fy], CHART, 0.9, dash=(1.5, 2.5), kind="undetermined gap")
+        if lines is not None:
+            lines.append(segment_box(sx, sy, fx, fy, 3.0))
+    return [(f"DR to fix {gap_nm:.1f} nm in {f['hours']:.1f} h: {words}", CHART, (sx + fx) / 2.0, (sy + fy) / 2.0)]
+
+
+def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, lines: list | None = None) -> list:
+    """The DR's gap to each fix (an arrow from the DR kept at the fix's time to the fix, to the chart's scale;
+    its box added to ``lines``), the estimated positions and the noon positions; their labels."""
     labels = []
     for f in fixes.to_dict("records"):
         if not np.isfinite(f["set_deg"]):
+            labels += _undetermined_gap(sheet, chart, f, lines)
             continue
-        fx, fy = chart.plane(f["fix_lat_deg"], f["fix_lon_deg"])
-        # the arrow is the current the DR missed, the way the gap from the DR kept to the fix runs: where the DR
-        # carried a current, the unaccounted rest, labelled with the whole current it completes
+        # the gap from the DR kept to the fix, drawn where it lies (common practice: the current is the vector
+        # from the DR to the fix at the same time): where the DR carried a current, the unaccounted rest, labelled
+        # with the whole current it completes
         split = bool(f.get("current_in_dr")) and f.get("unaccounted_drift_kn") == f.get("unaccounted_drift_kn")
         set_deg, drift_kn = ((f["unaccounted_set_deg"], f["unaccounted_drift_kn"]) if split
                              else (f["set_deg"], f["drift_kn"]))
-        length = drift_kn * arrow_nm
-        turn = math.radians(set_deg)
-        tx, ty = float(fx) + length * math.sin(turn), float(fy) + length * math.cos(turn)
-        (sx, sy), (ex_, ey_) = chart.page(float(fx), float(fy)), chart.page(tx, ty)
-        sheet.line([float(sx), float(ex_)], [float(sy), float(ey_)], CHART, 1.6, kind="set and drift")
-        if lines is not None:
-            lines.append(segment_box(float(sx), float(sy), float(ex_), float(ey_), 4.0))
-        back = math.atan2(float(sy) - float(ey_), float(sx) - float(ex_))
-        head = [(float(ex_) + 6 * math.cos(back + s), float(ey_) + 6 * math.sin(back + s)) for s in (0.45, -0.45)]
-        sheet.polygon([float(ex_), head[0][0], head[1][0]], [float(ey_), head[0][1], head[1][1]], fill=CHART,
-                      outline=CHART, width=0.5, kind="set and drift")
-        labels.append((f"missed {set_deg:03.0f}° {drift_kn:.1f} kn (current {f['set_deg']:03.0f}° {f['drift_kn']:.1f}, "
-                       f"{f['current_in_dr']} {f['dr_set_deg']:03.0f}° {f['dr_drift_kn']:.1f})" if split
-                       else f"current {set_deg:03.0f}° {drift_kn:.1f} kn", CHART, float(ex_), float(ey_)))
+        gap_nm = drift_kn * f["hours"]
+        sx, sy = chart.at(f["kept_dr_lat_deg"], f["kept_dr_lon_deg"])
+        fx, fy = chart.at(f["fix_lat_deg"], f["fix_lon_deg"])
+        length = math.hypot(fx - sx, fy - sy)
+        if length >= 4.0:  # under 4 points the arrow is a blot: the label says the gap
+            # the head stops at the fix's ring where the arrow is long enough to spare it
+            stop = min(5.0, max(length - 8.0, 0.0)) / length
+            ex_, ey_ = fx - (fx - sx) * stop, fy - (fy - sy) * stop
+            sheet.line([sx, ex_], [sy, ey_], CHART, 1.6, kind="set and drift")
+            if lines is not None:
+                lines.append(segment_box(sx, sy, ex_, ey_, 4.0))
+            back = math.atan2(sy - ey_, sx - ex_)
+            size = min(6.0, length * 0.5)
+            head = [(ex_ + size * math.cos(back + a), ey_ + size * math.sin(back + a)) for a in (0.45, -0.45)]
+            sheet.polygon([ex_, head[0][0], head[1][0]], [ey_, head[0][1], head[1][1]], fill=CHART,
+                          outline=CHART, width=0.5, kind="set and drift")
+        gap = f"DR to fix {gap_nm:.1f} nm in {f['hours']:.1f} h"
+        if split:
+            whole = (f"current {f['set_deg']:03.0f}° {f['drift_kn']:.1f}, {f['current_in_dr']} "
+                     f"{f['dr_set_deg']:03.0f}° {f['dr_drift_kn']:.1f}")
+            text = (f"{gap}: nothing unaccounted ({whole})" if drift_kn < NIL_DRIFT_KN
+                    else f"{gap}: unaccounted {set_deg:03.0f}° {drift_kn:.1f} kn ({whole})")
+        else:
+            text = f"{gap}: current {set_deg:03.0f}° {drift_kn:.1f} kn"
+        labels.append((text, CHART, (sx + fx) / 2.0, (sy + fy) / 2.0))
+    eps = []
     for e in estimated.to_dict("records"):
         px, py = chart.at(e["lat_deg"], e["lon_deg"])
         placer.take(ep_symbol(sheet, px, py))
-        labels.append((f"EP {e['utc'][11:16]}" + (" (see its warning)" if e.get("note") else ""), FIX, px, py))
+        eps.append((ep_label(e["ep"], e.get("note") or ""), FIX, px, py))
     for n in noons.to_dict("records"):
         px, py = chart.at(n["lat_deg"], n["lon_deg"])
         sheet.circle(px, py, 3.2, fill=INK, kind="noon")
         placer.take(rect_corners(px - 4, py - 4, px + 4, py + 4))
         labels.append((f"noon {n['date'][5:]}", INK, px, py))
-    return labels
+    return labels + eps  # the noons' labels placed before the EPs' on a crowded sheet (the noon is the day's)
 
 
-def _voyage_key(sheet, chart: _VoyageChart, arrow_nm: float) -> None:
+def _voyage_key(sheet, chart: _VoyageChart) -> None:
     """The key, the scale bar and the north arrow."""
     ax0, ay0, ax1 = chart.ax0, chart.ay0, chart.ax1
     key_y = SHEET_PT - 16
     sheet.line([ax0, ax0 + 22], [key_y, key_y], INK, 1.1, dash=(5.0, 3.0))
     sheet.text(ax0 + 26, key_y + 3, "DR from each known position", 7, INK)
     sheet.line([ax0 + 150, ax0 + 172], [key_y, key_y], CHART, 1.6)
-    sheet.text(ax0 + 176, key_y + 3, f"current the DR missed ({arrow_nm:.0f} nm a knot)", 7,
-               CHART)
+    sheet.text(ax0 + 176, key_y + 3, "the DR's gap to the fix (to scale)", 7, CHART)
     kx = ax0 + 360
     fix_symbol(sheet, kx, key_y, kind="key")
     sheet.text(kx + 9, key_y + 3, "fix (and its 95 % ellipse)", 7, FIX)
     kx += 120
     ep_symbol(sheet, kx, key_y, kind="key")
-    sheet.text(kx + 9, key_y + 3, "estimated position", 7, FIX)
+    sheet.text(kx + 9, key_y + 3, "EP (time, log row)", 7, FIX)
     kx += 95
     position_symbol(sheet, kx, key_y, INK, kind="key")
     sheet.text(kx + 10, key_y + 3, "departure, position entry or logged DR", 7, INK)
@@ -503,5 +590,5 @@ def _voyage_key(sheet, chart: _VoyageChart, arrow_nm: float) -> None:
     sheet.line([nx, nx], [ny, ny - 28], INK, 1.6)
     sheet.polygon([nx - 4, nx, nx + 4], [ny - 26, ny - 34, ny - 26], fill=INK, outline=INK, width=0.5)
     sheet.text(nx, ny - 37, "N", 11, INK, anchor="middle", bold=True)
-    sheet.text(ax0 - 12, 40, "Each fix restarts the DR; each arrow is the gap from the DR to the fix, a knot to the key's length. "
-               "An aid to navigation, not a sole means.", 8, INK)
+    sheet.text(ax0 - 12, 40, "Each fix restarts the DR; each arrow runs from the DR at a fix's time to the fix, to the chart's "
+               "scale: the miles the current set her over the run. An aid to navigation, not a sole means.", 8, INK)

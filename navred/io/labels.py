@@ -16,7 +16,7 @@ LABELS = {
     "fix_group": "fix group", "fix_utc": "fix (UTC)", "dr_at_fix": "DR at the fix", "set_deg": "set (deg)",
     "set_95_deg": "set ±95 % (deg)", "drift_kn": "drift (kn)", "drift_95_kn": "drift ±95 % (kn)",
     "fix_lat_deg": "fix lat (deg)", "fix_lon_deg": "fix lon (deg)", "dr_lat_deg": "DR lat (deg)",
-    "dr_lon_deg": "DR lon (deg)", "utc": "UTC", "estimated_position": "estimated position", "lat_deg": "lat (deg)",
+    "dr_lon_deg": "DR lon (deg)", "utc": "UTC", "estimated_position": "estimated position", "ep": "EP (what it rests on, its time)", "lat_deg": "lat (deg)",
     "lon_deg": "lon (deg)", "zone_h": "zone (h)", "noon_utc": "noon (UTC)", "noon_position": "noon position",
     "noon_from": "noon from", "run_nm": "run (nm)", "course_made_good_deg": "course made good (deg)",
     "speed_made_good_kn": "speed made good (kn)", "through_water_nm": "through the water (nm)",

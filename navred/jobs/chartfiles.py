@@ -77,8 +77,9 @@ def _fix_waypoints(group) -> list[GpxPoint]:
 
 def _days_waypoints(days) -> list[GpxPoint]:
     """The estimated positions and the noon positions of the day's work."""
-    points = [GpxPoint(r["lat_deg"], r["lon_deg"], iso_z(r["utc"]), f"EP {r['fix_group']}",
-                       f"estimated position: {r['from']}" + (f"; warning: {r['note']}" if r["note"] else ""), "EP")
+    points = [GpxPoint(r["lat_deg"], r["lon_deg"], iso_z(r["utc"]), r["ep"],
+                       f"{r['ep']} (fix group {r['fix_group']}): {r['from']}"
+                       + (f"; warning: {r['note']}" if r["note"] else ""), "EP")
               for r in days.estimated.to_dict("records")]
     for r in days.noons[days.noons["lat_deg"].notna()].to_dict("records"):
         run = (f"; day's run {r['run_nm']:.1f} nm made good on {r['course_made_good_deg']:.0f} deg"
@@ -183,7 +184,8 @@ def _fix_features(voyage, group, current: dict) -> list[dict]:
 def _days_features(days) -> list[dict]:
     """The estimated positions, the noon positions and the DR track's legs."""
     features = [point_feature(r["lat_deg"], r["lon_deg"], {
-        "kind": "estimated position", "fix_group": r["fix_group"], "utc": iso_z(r["utc"]), "from": r["from"],
+        "kind": "estimated position", "ep": r["ep"], "fix_group": r["fix_group"], "utc": iso_z(r["utc"]),
+        "from": r["from"],
         "warning": r["note"]}) for r in days.estimated.to_dict("records")]
     for r in days.noons[days.noons["lat_deg"].notna()].to_dict("records"):
         features.append(point_feature(r["lat_deg"], r["lon_deg"], {

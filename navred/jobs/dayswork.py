@@ -41,6 +41,7 @@ from .shiptrack import (
     ship_latitudes,
     ships_of,
     track_points,
+    untrusted_fixes,
     vessel_tracks,
 )
 
@@ -69,6 +70,9 @@ class DaysWork:
     #: each fix's ellipse scale (FixResult.confidence_scale, the quantile its 95 % ellipse is drawn at), by the
     #: label of its known position on the track ('fix <group>'): a picture draws the ellipse the fix states
     ellipse_scales: dict[str, float] = field(default_factory=dict)
+    #: the ship's fixes left out because they cannot be trusted, by vessel: (group, why) each
+    #: (:func:`navred.jobs.shiptrack.untrusted_fixes`)
+    left_out: dict[str, tuple[tuple[str, str], ...]] = field(default_factory=dict)
     #: each table split by vessel, made when first asked for (:meth:`of_vessel`)
     cache: dict = field(default_factory=dict, repr=False, compare=False)
 
@@ -102,6 +106,11 @@ def days_work(voyage, *, carry_current: bool = False) -> DaysWork:
         noon_rows_all += rows
         notes += vessel_notes
         point_rows += track_points(voyage, vessel, track)
+    left_out = untrusted_fixes(voyage)
+    for vessel, items in left_out.items():
+        for name, why in items:
+            notes.append(f"{vessel or 'the ship'}: the fix {name} CANNOT BE TRUSTED ({why}): the DR is not restarted "
+                         "from it, and no set and drift, noon or exercise rests on it")
     if not tracks:
         notes.append("Noon positions: none: the log gives no departure (an entry row) and none of the ship's fixes "
                       "to keep the DR from")
@@ -113,7 +122,7 @@ def days_work(voyage, *, carry_current: bool = False) -> DaysWork:
                                                         columns=EXERCISE_COLUMNS),
                     entry_work(voyage), ship_latitudes(voyage, ships), tuple(dict.fromkeys(notes)), clocks,
                     {f"fix {g.name}": float(g.fix.confidence_scale) for g in voyage.groups
-                     if g.fix is not None and g.fix.is_fix})
+                     if g.fix is not None and g.fix.is_fix}, left_out)
 
 
 __all__ = ["DaysWork", "days_work", "vessel_tracks", "known_label_at", "NOON_WINDOW_HOURS", "SET_DRIFT_COLUMNS",

@@ -164,12 +164,15 @@ def _changes_between(track: DRTrack, a: int, b: int) -> int:
     return int(((track.knot_ns > low) & (track.knot_ns < high) & changed).sum())
 
 
-def _carried_text(what: str, t: int, noon: int, track: DRTrack) -> str:
+def _carried_text(what: str, t: int, noon: int, track: DRTrack, *, timed: bool = False) -> str:
+    """How the noon was found: ``what`` at its time (``timed``: ``what`` names its time already), and carried to
+    noon along the DR where it was not at noon."""
+    what = what if timed else f"{what} at {_hhmm(t)} UTC"
     if abs(noon - t) < 30 * NS_PER_SECOND:
-        return f"{what} at {_hhmm(t)} UTC"
+        return what
     changes = _changes_between(track, t, noon)
     through = f" through {changes} change{'s' if changes != 1 else ''} of course, speed or current" if changes else ""
-    return f"{what} at {_hhmm(t)} UTC carried {'back ' if t > noon else ''}to noon{through}"
+    return f"{what} carried {'back ' if t > noon else ''}to noon{through}"
 
 
 def _from_fix(track: DRTrack, noon: int):
@@ -219,7 +222,8 @@ def _run_up(track: DRTrack, noon: int, lines: list[dict], ships: ShipsSights, ve
 
 def _from_estimated(track: DRTrack, noon: int, estimated: list[dict], ships: ShipsSights, vessel: str):
     eps = [{"utc_ns": int(pd.Timestamp(e["utc"]).value), "lat": e["lat_deg"], "lon": e["lon_deg"],
-            "group": e["fix_group"]} for e in estimated if e["vessel"] == vessel]
+            "group": e["fix_group"], "name": e["ep"], "note": e.get("note") or ""} for e in estimated
+           if e["vessel"] == vessel]
     near = [e for e in eps if abs(e["utc_ns"] - noon) <= NOON_WINDOW_HOURS * NS_PER_HOUR]
     if not near:
         return None
@@ -228,13 +232,31 @@ def _from_estimated(track: DRTrack, noon: int, estimated: list[dict], ships: Shi
     lat, lon = track.carried(np.array([m["lat"] for m in members]), np.array([m["lon"] for m in members]),
                              np.array([m["utc_ns"] for m in members]), noon)
     if len(members) == 1:
-        text = _carried_text(f"estimated position {chosen['group']}", chosen["utc_ns"], noon, track)
+        text = _carried_text(chosen["name"], chosen["utc_ns"], noon, track, timed=True)
     else:
-        text = _carried_text(f"the mean of {len(members)} estimated positions of the round", chosen["utc_ns"], noon,
+        text = _carried_text(f"the mean of the round's {len(members)} EPs from single lines", chosen["utc_ns"], noon,
                              track)
+    # a noon resting on a sight with a warning says so where it is reported, naming the row (never hidden)
+    warned = [w for m in members for w in _warned_rows(m["note"])]
+    if warned:
+        text += "; " + "; ".join(f"row {row} warns: {words}" for row, words in dict(warned).items())
     east = np.mean(wrap_180(np.atleast_1d(lon) - float(np.atleast_1d(lon)[0])))
     sigma = _from_dr(track, noon)[4]
     return float(np.mean(lat)), float(wrap_180(np.atleast_1d(lon)[0] + east)), text, False, sigma
+
+
+def _warned_rows(note: str) -> list[tuple[str, str]]:
+    """An estimated position's note ('row 4: high sight (Hc above 85°): ...; row 5: ...') as (row, the warning's
+    first words) pairs."""
+    import re
+
+    out = []
+    for row, words in re.findall(r"(?:^|; )row (\d+): ([^;]*)", note):
+        words = words.split(": ")[0].strip()
+        while words.count("(") > words.count(")"):  # a bracket the cut left open: up to it
+            words = words[:words.rfind("(")].strip()
+        out.append((row, words))
+    return out
 
 
 def _from_dr(track: DRTrack, noon: int, currents: tuple = ()):

@@ -12,7 +12,7 @@ import numpy as np
 import pandas as pd
 
 from ..angles import format_angle
-from ..constants import NS_PER_HOUR, NS_PER_MINUTE, NS_PER_SECOND
+from ..constants import NIL_DRIFT_KN, NS_PER_HOUR, NS_PER_MINUTE, NS_PER_SECOND
 from ..fixstats import DR_ERROR_FRACTION, DR_ERROR_KN
 from ..reckoning import DRTrack, dr_track, estimated_position, set_and_drift
 from ..sailings import rhumb_inverse
@@ -41,6 +41,7 @@ MAX_CURRENT_KN = 8.0
 #: own uncertainty put the fix between them in doubt (common practice: an ocean current does not turn about in a
 #: few hours).
 CURRENT_JUMP_KN = 3.0
+NIL_SET = "nil: nothing unaccounted"
 
 
 SET_DRIFT_COLUMNS = ["vessel", "fix_group", "fix_utc", "fix", "from", "hours", "dr_at_fix", "dr_to_fix_nm",
@@ -48,7 +49,8 @@ SET_DRIFT_COLUMNS = ["vessel", "fix_group", "fix_utc", "fix", "from", "hours", "
                      "fix_lat_deg", "fix_lon_deg", "dr_lat_deg", "dr_lon_deg", "current_in_dr",
                      "dr_set_deg", "dr_drift_kn", "unaccounted_set_deg", "unaccounted_drift_kn", "kept_dr_lat_deg",
                      "kept_dr_lon_deg"]
-ESTIMATED_COLUMNS = ["vessel", "fix_group", "utc", "estimated_position", "from", "note", "lat_deg", "lon_deg"]
+ESTIMATED_COLUMNS = ["vessel", "fix_group", "utc", "ep", "estimated_position", "from", "note", "lat_deg",
+                     "lon_deg"]
 NOON_COLUMNS = ["vessel", "date", "zone_h", "zone", "noon_utc", "noon_position", "noon_from", "run_nm",
                 "course_made_good_deg", "speed_made_good_kn", "through_water_nm", "hours", "current_set_deg",
                 "current_set_95_deg", "current_drift_kn", "current_95_kn", "current_note", "to", "to_go_nm", "eta_utc", "eta_ship_time", "eta_basis", "clock_changes",
@@ -125,8 +127,10 @@ def _known_positions(voyage, vessel: str, ships: ShipsSights, fix_vessel: dict[s
         for item in entries[entries["entry"].isin(["departure", "position"])].itertuples():
             known.append((int(utc64(pd.Series([item.utc]))[0].astype(np.int64)), float(item.lat_deg),
                           float(item.lon_deg), f"{item.entry} at row {item.row}", np.zeros((2, 2))))
+    # a fix that cannot be trusted as the position to plot never restarts the DR (common practice: the DR is kept
+    # on and the fix looked into); :func:`untrusted_fixes` names those left out
     fixes = [g for g in voyage.groups if g.fix is not None and g.fix.is_fix and fix_vessel[g.name] == vessel
-             and ships.is_ship(g.name)]
+             and ships.is_ship(g.name) and not g.fix.untrusted]
     fixes.sort(key=lambda g: np.datetime64(g.fix.utc, "ns"))
     times = np.array([np.datetime64(g.fix.utc, "ns").astype(np.int64) for g in fixes], dtype=np.int64)
     if vessel in ships.combined and len(fixes) > 1:
@@ -188,6 +192,19 @@ def _logged_dr_start(voyage, vessel: str, ships: ShipsSights, before: int | None
             np.zeros((2, 2)))
 
 
+def untrusted_fixes(voyage) -> dict[str, tuple[tuple[str, str], ...]]:
+    """The ship's fixes that cannot be trusted as the position to plot (FixResult.untrusted), by vessel: (group,
+    why) each. The day's work leaves them out: no DR restarts at one, no set and drift, noon or exercise rests on
+    it."""
+    ships = ships_of(voyage)
+    fix_vessel = _fix_vessels(voyage)
+    out: dict[str, list] = {}
+    for g in voyage.groups:
+        if g.fix is not None and g.fix.is_fix and g.fix.untrusted and ships.is_ship(g.name):
+            out.setdefault(fix_vessel[g.name], []).append((g.name, g.fix.untrusted))
+    return {vessel: tuple(items) for vessel, items in out.items()}
+
+
 def vessel_tracks(voyage, *, carry_current: bool = False) -> dict[str, DRTrack]:
     """Every vessel's DR track, restarted at its departure, its position entries and the ship's fixes."""
     ships = ships_of(voyage)
@@ -234,8 +251,9 @@ def current_verdict(hours, drift_kn, drift_95_kn, distance_nm) -> tuple[np.ndarr
     reasons = []
     for h, d, s, m in zip(hours.tolist(), drift.tolist(), spread.tolist(), distance.tolist()):
         if not h >= SET_DRIFT_MIN_HOURS:
-            reasons.append(f"not determined: {h * 60:.0f} min between the fixes, less than the "
-                           f"{SET_DRIFT_MIN_HOURS:g} h a current needs to show against the fixes' own errors")
+            # the position before may be the departure or a position entry, not a fix
+            reasons.append(f"not determined: {h * 60:.0f} min from the position before, less than the "
+                           f"{SET_DRIFT_MIN_HOURS:g} h a current needs to show against the positions' own errors")
         elif not d <= MAX_CURRENT_KN:
             reasons.append(f"not determined: the fix lies {m:.1f} nm from the DR after {h:.1f} h, more than any "
                            f"current of the sea ({MAX_CURRENT_KN:g} kn) carries a ship: check this fix, the one "
@@ -343,7 +361,7 @@ def current_split_text(row: dict) -> str:
     kn)', the second the gap from the DR kept to the fix; '' where the DR carried none."""
     if not row.get("current_in_dr") or not row.get("dr_drift_kn") == row.get("dr_drift_kn"):
         return ""
-    if round(row["unaccounted_drift_kn"], 1) == 0.0:  # the DR's current was the whole of it: no set to name
+    if row["unaccounted_drift_kn"] < NIL_DRIFT_KN:  # the DR's current was the whole of it: no set to name
         return (f"({row['current_in_dr']} {row['dr_set_deg']:03.0f}° {row['dr_drift_kn']:.1f} kn, nothing "
                 "unaccounted: the DR's gap to the fix under 0.05 kn)")
     return (f"({row['current_in_dr']} {row['dr_set_deg']:03.0f}° {row['dr_drift_kn']:.1f} kn + unaccounted "
@@ -411,8 +429,10 @@ def _split_columns(current_in_dr: str, result, j: int, hours: float, gap_nm: flo
     whole_n = float(result.drift_kn[j]) * math.cos(math.radians(float(result.set_deg[j])))
     whole_e = float(result.drift_kn[j]) * math.sin(math.radians(float(result.set_deg[j])))
     dr_n, dr_e = whole_n - gap_n, whole_e - gap_e
+    # a nil drift has no set: the direction of a gap of a few cables over the hours is noise, never a current
     out.update({"current_in_dr": current_in_dr, "dr_set_deg": math.degrees(math.atan2(dr_e, dr_n)) % 360.0,
-                "dr_drift_kn": math.hypot(dr_n, dr_e), "unaccounted_set_deg": gap_deg % 360.0,
+                "dr_drift_kn": math.hypot(dr_n, dr_e),
+                "unaccounted_set_deg": gap_deg % 360.0 if gap_nm / hours >= NIL_DRIFT_KN else np.nan,
                 "unaccounted_drift_kn": gap_nm / hours})
     return out
 
@@ -459,6 +479,11 @@ def estimated_positions(voyage, ships: ShipsSights, *, exercises: bool = False) 
     status = reduced["status"].to_numpy() if len(reduced) else np.zeros(0, dtype=object)
     messages = reduced["message"].to_numpy(dtype=object) if len(reduced) else np.zeros(0, dtype=object)
     out = []
+    # a single line that is a latitude (meridian, ex-meridian, Polaris) is named so: the noon EP of a meridian
+    # altitude is the trade's noon latitude with the DR's longitude (common practice)
+    latitudes = latitude_checks(reduced) if len(reduced) else None
+    method = (dict(zip(latitudes["index"].astype(int).tolist(), latitudes["method"].tolist()))
+              if latitudes is not None and len(latitudes) else {})
     for group in voyage.groups:
         if (group.fix is not None and group.fix.is_fix) or ships.is_ship(group.name) == exercises:
             continue
@@ -466,20 +491,49 @@ def estimated_positions(voyage, ships: ShipsSights, *, exercises: bool = False) 
         # the sights' own warnings go with the position built on them
         note = "; ".join(f"row {reduced['row'].iat[k]}: {messages[k]}" for k in usable.tolist()
                          if status[k] == SightStatus.WARNING and messages[k])
+        rows = [int(reduced["row"].iat[k]) for k in usable.tolist()]
         if group.fix is not None and not group.fix.is_fix:
             fix = group.fix
-            out.append({"vessel": vessels[group.name], "fix_group": group.name, "utc": stamp(
-                np.datetime64(fix.utc, "ns").astype(np.int64)), "estimated_position": position_text(
-                fix.lat_deg, fix.lon_deg), "from": f"the {fix.kind} nearest the DR", "note": note, "lat_deg": fix.lat_deg,
-                "lon_deg": fix.lon_deg})
+            utc = stamp(np.datetime64(fix.utc, "ns").astype(np.int64))
+            out.append({"vessel": vessels[group.name], "fix_group": group.name, "utc": utc,
+                        "ep": ep_name(f"the {fix.kind}", rows, utc), "estimated_position": position_text(
+                            fix.lat_deg, fix.lon_deg), "from": f"the {fix.kind} nearest the DR", "note": note,
+                        "lat_deg": fix.lat_deg, "lon_deg": fix.lon_deg})
         elif group.fix is None and usable.size == 1:
             r = reduced.iloc[int(usable[0])]
             lat, lon = estimated_position(r["dr_lat_deg"], r["dr_lon_deg"], r["intercept_nm"], r["zn_deg"])
-            out.append({"vessel": vessels[group.name], "fix_group": group.name,
-                        "utc": str(r["sight_utc"])[:19], "estimated_position": position_text(float(lat), float(lon)),
-                        "from": f"one {r['body_name']} line: the foot of the perpendicular from the DR",
+            utc = str(r["sight_utc"])[:19]
+            out.append({"vessel": vessels[group.name], "fix_group": group.name, "utc": utc,
+                        "ep": ep_name(_single_line_words(r["body_name"], method.get(int(usable[0]), "")), rows,
+                                      utc),
+                        "estimated_position": position_text(float(lat), float(lon)),
+                        "from": "the foot of the perpendicular from the DR to the line",
                         "note": note, "lat_deg": float(lat), "lon_deg": float(lon)})
     return out
+
+
+def _single_line_words(body: str, method: str) -> str:
+    """What one sight's line is: 'the Sun's meridian altitude', 'the Sun's ex-meridian altitude', 'Polaris',
+    else 'one Sun line'."""
+    if method == "Polaris":
+        return "Polaris"
+    if method in ("meridian", "ex-meridian"):
+        return f"the {body}'s {method} altitude"
+    return f"one {body} line"
+
+
+def ep_name(what: str, rows: list[int], utc: str) -> str:
+    """An estimated position named by what it is, the log rows it rests on (the rows every warning names) and its
+    time: 'EP from one Sun line (row 4), 22:00 UTC'; 'EP from the line of position (rows 7-8), 05:00 UTC'. The
+    fix-group label is not a name: it says nothing of what the position rests on."""
+    rows = sorted(rows)
+    if len(rows) == 1:
+        where = f"row {rows[0]}"
+    elif rows == list(range(rows[0], rows[-1] + 1)):
+        where = f"rows {rows[0]}-{rows[-1]}"
+    else:
+        where = "rows " + ", ".join(str(r) for r in rows)
+    return f"EP from {what} ({where}), {pd.Timestamp(utc).round('min').strftime('%H:%M')} UTC"
 
 
 #: A noon from a DR that carries a current (entered in the log, or each fix's carried) is the trade's estimated
@@ -507,7 +561,7 @@ def _ship_references(vessel: str, track: DRTrack, estimated: list[dict], noons: 
              for n in noons if n.get("vessel", "") == vessel and np.isfinite(n.get("lat_deg", np.nan))
              and not is_reckoned(n["noon_from"])]
     refs += [(pd.Timestamp(e["utc"]).value, float(e["lat_deg"]), float(e["lon_deg"]),
-              f"the ship's estimated position {e['fix_group']} ({e['from']})", 2)
+              f"the ship's {e['ep']} (fix group {e['fix_group']})", 2)
              for e in estimated if e.get("vessel", "") == vessel]
     return refs
 
@@ -630,7 +684,7 @@ def track_points(voyage, vessel: str, track: DRTrack) -> list[dict]:
                                      leg_all[order].tolist(), kind_all[order].tolist())]
 
 
-__all__ = ["vessel_tracks", "known_label_at", "NOON_WINDOW_HOURS", "SET_DRIFT_COLUMNS", "NOON_COLUMNS",
+__all__ = ["vessel_tracks", "untrusted_fixes", "ep_name", "NIL_SET", "known_label_at", "NOON_WINDOW_HOURS", "SET_DRIFT_COLUMNS", "NOON_COLUMNS",
            "ESTIMATED_COLUMNS", "EXERCISE_COLUMNS", "ENTRY_WORK_COLUMNS", "current_verdict", "is_fix_label",
            "water_vector_nm", "water_run_nm", "vessel_entries", "SET_DRIFT_MIN_HOURS", "SET_DRIFT_MAX_95_KN",
            "MAX_CURRENT_KN", "position_text", "stamp", "stamps", "ships_of", "set_drift_rows", "set_current_text", "current_split_text", "estimated_positions",

@@ -231,6 +231,22 @@ DAYS_BLANK = (
 )
 
 
+def _nil_sets(table: pd.DataFrame) -> pd.DataFrame:
+    """The set and drift table with the unaccounted set of a nil unaccounted drift (under 0.05 kn, where the DR
+    carried a current) saying so: a drift that rounds to 0.0 kn has no set."""
+    from ..constants import NIL_DRIFT_KN
+    from .shiptrack import NIL_SET
+
+    if not len(table):
+        return table
+    nil = (table["current_in_dr"].astype(str) != "") & (table["unaccounted_drift_kn"] < NIL_DRIFT_KN)
+    if not nil.any():
+        return table
+    out = table.copy()
+    out["unaccounted_set_deg"] = out["unaccounted_set_deg"].astype(object).where(~nil, NIL_SET)
+    return out
+
+
 def _write_days_sheet(tables: TableWriter, sheet, days, pictures: Pictures) -> None:
     """The day's work: noons and the day's run, set and drift, estimated positions, a voyage picture per vessel."""
     from openpyxl.styles import Font
@@ -246,7 +262,7 @@ def _write_days_sheet(tables: TableWriter, sheet, days, pictures: Pictures) -> N
                "through the water from the known position before (the 95 % uncertainty includes the DR's own error, "
                "0.3 kn and 2 % of the run); where the DR kept carried a current, that current and the unaccounted "
                "rest (the gap from the DR kept to the fix), whose sum is the current experienced; "
-               "found only over 2 h or more, to ±1.5 kn or better, and never beyond 8 kn", days.set_drift),
+               "found only over 2 h or more, to ±1.5 kn or better, and never beyond 8 kn", _nil_sets(days.set_drift)),
               ("Estimated positions from a single line of the ship's", days.estimated),
               ("Latitudes by meridian altitude, ex-meridian (within its limit) and Polaris", days.latitudes),
               ("Exercises against the ship's position (they never restart her DR)", days.exercises),

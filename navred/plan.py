@@ -62,7 +62,7 @@ def _east_of_180(lon_deg: float) -> float:
 
 def zone_midnight(date, lon_deg: float, zone_h: float | None = None) -> np.datetime64:
     """00:00 zone time (the ship's clock) on the civil ``date`` ('2026-12-10'), as UTC: ZT + ZD = UTC, with ZD the
-    zone description given (``zone_h``, hours, + west), else the nautical zone of the longitude, −round(λ / 15°),
+    zone description given (``zone_h``, hours, + west), else the nautical zone of the longitude (:func:`navred.reckoning.zone_description_h`: a boundary to the zone farther from Greenwich),
     ±12 at the date line (common practice; :func:`navred.reckoning.zone_description_h`).
 
     It is the instant a DR "at 00:00 of the first date" is given for: a navigator reads the time as the ship's

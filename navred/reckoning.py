@@ -618,10 +618,26 @@ def ship_noon_ns(day_ns: ArrayLike, zone_description_h: ArrayLike) -> np.ndarray
 
 
 def zone_description_h(lon_deg: ArrayLike) -> np.ndarray:
-    """The nautical zone description of a longitude, hours (+ west): −round(λ / 15°), ±12 at the date line
-    (common practice)."""
-    zd = -np.round(np.asarray(lon_deg, dtype=float) / 15.0)
-    return np.clip(zd, -12.0, 12.0)
+    """The nautical zone description of a longitude, hours (+ west), by one stated rule (common practice: the
+    zones are centred on multiples of 15°, zone ZD spanning 7.5° either side of 15° × −ZD):
+
+    - ZD = −sign(λ) × ⌊|λ| / 15° + ½⌋: a longitude exactly on a boundary (7.5°, 22.5° … 172.5°) belongs to the
+      zone farther from Greenwich (7° 30′ E is −1, 7° 30′ W is +1), the same on both sides (no round half to
+      even, which puts 22.5° in −2 but 37.5° in −2 as well);
+    - the 180° meridian itself (written 180° E or 180° W, or −180°) is taken as ZD −12 (:data:`DATE_LINE_ZONE_H`):
+      the line is one meridian and a position on it gets one zone; a ship keeping +12 there says so (--zone);
+    - a longitude given 0–360° (190° = 170° W) is taken −180° to 180° first;
+    - never −0: Greenwich's zone is 0."""
+    lon = np.asarray(lon_deg, dtype=float)
+    lon = np.where(lon > 180.0, lon - 360.0, lon)
+    zd = -np.sign(lon) * np.floor(np.abs(lon) / 15.0 + 0.5)
+    zd = np.where(np.abs(lon) == 180.0, DATE_LINE_ZONE_H, zd)
+    return np.clip(zd, -12.0, 12.0) + 0.0  # + 0.0: no −0
+
+
+#: The zone description taken on the 180° meridian itself (either sign of the longitude): the zone east of the
+#: line, −12 (a stated choice; the ship's clocks may keep +12 there: navred plan --zone +12).
+DATE_LINE_ZONE_H = -12.0
 
 
 @dataclass(frozen=True)
@@ -647,6 +663,6 @@ def days_run(noon_ns: ArrayLike, lat_deg: ArrayLike, lon_deg: ArrayLike) -> Days
 
 
 __all__ = ["DRTrack", "dr_track", "steady_track", "estimated_position", "SetDrift", "set_and_drift", "ship_noon_ns",
-           "zone_description_h", "DaysRun", "days_run", "velocity_kn", "course_speed", "ReckoningError",
+           "zone_description_h", "DATE_LINE_ZONE_H", "DaysRun", "days_run", "velocity_kn", "course_speed", "ReckoningError",
            "leeway_track_deg", "ShipsClocks", "ship_noons", "clocks_at_midnights", "lines_crossed",
            "SHORTEST_SHIPS_DAY_H"]

@@ -48,7 +48,7 @@ def first_date_option():
 
 
 def dr_lat_option():
-    return typer.Option(..., "--lat", help="DR latitude at 00:00 zone time of the first date (the ship's clock: the zone of --lon, ZD = −round(lon/15°), or --zone; the output states the instant in UTC), e.g. '43 16.6 N'.")
+    return typer.Option(..., "--lat", help="DR latitude at 00:00 zone time of the first date (the ship's clock: the nautical zone of --lon (15° a zone centred on multiples of 15°; a boundary such as 7 30 E goes to the zone farther from Greenwich; 180° to ZD −12), or --zone; the output states the instant in UTC), e.g. '43 16.6 N'.")
 
 
 def dr_lon_option():

@@ -118,7 +118,7 @@ def paper_command(
     ctx: typer.Context,
     first: str = typer.Option(..., "--from", help="The passage's first date, by the ship's clock (zone date), e.g. 2026-03-26."),
     last: str = typer.Option(..., "--to", help="The passage's last date (zone date), inclusive."),
-    lat: str | None = typer.Option(None, "--lat", help="DR latitude at 00:00 zone time of the first date (the ship's clock: the zone of --lon, ZD = −round(lon/15°), or --zone; the cover states the instant in UTC too: 177 00 E on 2026-12-10 is 00:00 ZD −12 = 12:00 UTC 9 Dec), e.g. '44 30 N' (a departure or a fixed position)."),
+    lat: str | None = typer.Option(None, "--lat", help="DR latitude at 00:00 zone time of the first date (the ship's clock: the nautical zone of --lon (15° a zone centred on multiples of 15°; a boundary such as 7 30 E goes to the zone farther from Greenwich; 180° to ZD −12), or --zone; the cover states the instant in UTC too: 177 00 E on 2026-12-10 is 00:00 ZD −12 = 12:00 UTC 9 Dec), e.g. '44 30 N' (a departure or a fixed position)."),
     lon: str | None = typer.Option(None, "--lon", help="DR longitude then, e.g. '012 00 W'."),
     course: float | None = typer.Option(None, "--course", help="Course to steer (degrees true) from the position given; not with --route or --log."),
     speed: float | None = typer.Option(None, "--speed", help="Speed (knots) from the position given, or along the --route; left out with a position: a fixed position."),

@@ -165,7 +165,7 @@ def departure_words(first_date, lon_deg: float, zone_given: float | None) -> str
 
 def zone_for(lon_deg: float, given: float | None) -> float:
     """The zone description kept: the one given, else the nautical zone of the longitude."""
-    return float(given) if given is not None else float(zone_description_h(lon_deg))
+    return (float(given) if given is not None else float(zone_description_h(lon_deg))) + 0.0  # no −0
 
 
 def zone_date(utc64, zone_h: float) -> np.datetime64:

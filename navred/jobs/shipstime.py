@@ -6,7 +6,7 @@ them. Edge code over :mod:`navred.reckoning` (:class:`~navred.reckoning.ShipsClo
   the clocks keep the zone of the departure's own time when it is written in zone time, else the nautical zone
   of the departure's longitude. Across the date line the zone goes from +12 to −12 westbound (the clocks
   advanced a day: a date skipped) and from −12 to +12 eastbound (retarded a day: a date repeated).
-- **No clocks entry**: the ship is taken to keep the nautical zone of her DR (ZD = −round(λ/15°)), her clocks
+- **No clocks entry**: the ship is taken to keep the nautical zone of her DR (the one zone rule, navred.reckoning.zone_description_h), her clocks
   changed at each ship's midnight (:func:`navred.reckoning.clocks_at_midnights`; common practice). The output
   says so: a log's own zone descriptions may be a chronometer's kept on Greenwich, so they are not taken as
   the ship's.

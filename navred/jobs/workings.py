@@ -48,6 +48,7 @@ from ..marking import (
     catalogue_cause,
     mark,
 )
+from ..reckoning import zone_description_h
 from ..status import SightStatus
 from .sights import reduce_sights
 
@@ -124,9 +125,9 @@ def _rounds(table: pd.DataFrame, cadets: np.ndarray) -> np.ndarray | None:
 
 def ship_dates(table: pd.DataFrame) -> np.ndarray:
     """Each sight's date at the ship (the zone date): the date written with a zone time, else the UTC date
-    moved by the DR longitude's zone description (15° a zone, common practice), as YYYY-MM-DD."""
+    moved by the DR longitude's nautical zone (:func:`navred.reckoning.zone_description_h`, common practice), as YYYY-MM-DD."""
     utc = table["sight_utc"].dt.tz_convert(None)
-    zone_h = np.round(-table["dr_lon_deg"].to_numpy(dtype=float) / 15.0) if "dr_lon_deg" in table else 0.0
+    zone_h = zone_description_h(table["dr_lon_deg"].to_numpy(dtype=float)) if "dr_lon_deg" in table else 0.0
     if "zone_description_used_h" in table:
         given = table["zone_description_used_h"].to_numpy(dtype=float)
         zone_h = np.where(np.isfinite(given), given, zone_h)

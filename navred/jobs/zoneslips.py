@@ -12,6 +12,7 @@ import numpy as np
 import pandas as pd
 
 from ..grosserrors import distrust
+from ..reckoning import zone_description_h
 from ..status import Distrust
 
 #: a slip fits a sight when undoing it leaves an intercept within this (nautical miles; common practice: a DR
@@ -59,7 +60,7 @@ def zone_sign_suspects(frame: pd.DataFrame, flagged: np.ndarray, *, ho_deg=None,
         return empty
     intercept = (ho - hc) * 60.0
     with np.errstate(invalid="ignore"):
-        nautical = np.rint(-lon / 15.0) + 0.0  # + 0.0: no −0
+        nautical = zone_description_h(lon)  # the one zone rule (boundaries, 180°, no −0)
         zoned = np.isfinite(zd) & (zd != nautical) & (np.abs(lon) < 172.5)  # not by the date line
         wrong_side = np.isfinite(zd) & (zd * nautical < 0) & (np.abs(lon) < 172.5)
     # the time slips: the hours the logged UTC would be short of the true one (a ZD of the wrong sign, the DR's

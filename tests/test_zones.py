@@ -4,6 +4,8 @@ twilight it changes, the paper's dates as the ship's, and every round's name its
 
 from __future__ import annotations
 
+import re
+
 import numpy as np
 import pytest
 
@@ -27,3 +29,60 @@ def test_zone_rule_no_negative_zero():
     assert not np.any(np.signbit(zones))
     assert DATE_LINE_ZONE_H == -12.0
     assert "-0" not in repr(zones.tolist())
+
+
+# --- navred plan: a plan before the DR's time, a zone kept that is not the DR's -----------------------------
+
+from typer.testing import CliRunner  # noqa: E402
+
+from navred.cli import app  # noqa: E402
+
+BASE = ["plan", "--date", "2026-12-10", "--lat", "20 00 S", "--lon", "150 00 W", "--eye", "10 m"]
+
+
+def plan_text(*extra: str):
+    return CliRunner().invoke(app, BASE + list(extra))
+
+
+def test_plan_before_the_dr_time_says_the_run_back_and_the_zone_date():
+    # 00:00 ZD +10 on 10 Dec is 10:00 UTC 10 Dec (ZT + ZD = UTC, common practice); 06:00 UTC is 4 h before it,
+    # 48 nm at 12 kn; 06:00 UTC at about 149° W (ZD +10) is 20:00 zone time on 9 Dec, not 10 Dec (common practice)
+    result = plan_text("--course", "270", "--speed", "12", "--utc", "2026-12-10T06:00Z")
+    assert result.exit_code == 0, result.output
+    assert ("Note: DR run back 4.0 h (48.0 nm back along 270.0° at 12.0 kn) from 00:00 zone time (ZD +10) of "
+            "2026-12-10 = 10:00 UTC 10 Dec") in result.stdout
+    assert "Sight plan, 2026-12-09: 20:00 zone (+10), 06:00 UTC 10 Dec" in result.stdout
+
+
+def test_plan_far_before_the_dr_time_is_refused_with_the_hours():
+    # 06:00 UTC 8 Dec is 52 h before 10:00 UTC 10 Dec (common practice), past the 24 h a plan runs back
+    result = plan_text("--course", "270", "--speed", "12", "--utc", "2026-12-08T06:00Z")
+    assert result.exit_code == 1
+    assert "52.0 h before the DR's time" in result.output and "at most 24 h" in result.output
+    assert "--date, --lat, --lon" in result.output
+
+
+def test_plan_before_a_fixed_position_or_after_the_dr_runs_nothing_back():
+    for extra in (["--utc", "2026-12-08T06:00Z"], ["--course", "270", "--speed", "12", "--utc", "2026-12-10T18:00Z"]):
+        result = plan_text(*extra)
+        assert result.exit_code == 0, result.output
+        assert "run back" not in result.stdout
+
+
+def test_plan_zone_kept_that_is_not_the_dr_zone_is_accepted_and_said():
+    # 150° W is zone +10 (common practice); a ship keeping −10 there is told so, the times by the zone kept
+    result = plan_text("--zone", "-10")
+    assert result.exit_code == 0, result.output
+    assert ("Note: Zone kept −10 (--zone), not the nautical zone of the DR's longitude 150° 00.0′ W, which is +10"
+            in result.stdout)
+    assert re.search(r"^2026-12-\d\d\s+−10 ", result.stdout, re.M), result.stdout  # the day's times by it
+    same = plan_text("--zone", "+10")
+    assert same.exit_code == 0 and "Zone kept" not in same.stdout
+
+
+def test_plan_on_the_180_meridian_states_the_zone_taken():
+    # the 180° meridian: ZD −12 by navred's stated rule (docs/plan.md); +12 is the other reading
+    result = CliRunner().invoke(app, ["plan", "--date", "2026-12-10", "--lat", "20 00 S", "--lon", "180 00 W",
+                                      "--eye", "10 m"])
+    assert result.exit_code == 0, result.output
+    assert "on the 180° meridian: ZD −12 taken" in result.stdout and "give --zone +12" in result.stdout

@@ -283,8 +283,9 @@ def planned_rounds(events: dict, plans: list[SightPlan], track: DRTrack, *, eye_
 
 
 def heading_date(round_: PlannedTwilight) -> np.datetime64:
-    """The date a round is named by: its zone date, or the UTC date of a plan made at a UTC instant."""
-    return (np.datetime64(round_.presets.utc, "D") if round_.kind == "Sight plan" else round_.zone_date)
+    """The date a round is named by: its zone date (a plan made at a UTC instant too: the ship's date then, its
+    UTC date printed beside the UTC time where it is another)."""
+    return round_.zone_date
 
 
 def twilight_times(round_: PlannedTwilight, zone_h: float) -> str:
@@ -345,6 +346,7 @@ class BridgePlan:
     windows: tuple[DayWindow, ...]
     window_zones: tuple[float, ...] = ()
     changes: tuple[ZoneChange, ...] = ()
+    notes: tuple[str, ...] = ()
 
     # --- the console ---------------------------------------------------------------------------
 
@@ -368,7 +370,7 @@ class BridgePlan:
                  + ": the Hs to preset is Hc with dip, refraction, SD, parallax and index error taken back off.",
                  "Times are zone time (ZT + ZD = UTC) with UTC in brackets, to the minute; a UTC time on another "
                  "date than the line it stands on carries its UTC date (take GHA and Dec for that date); '-': the "
-                 "event does not happen that day.", ""]
+                 "event does not happen that day."] + [f"Note: {note}." for note in self.notes] + [""]
         names = ("nautical dawn", "civil dawn", "sunrise", "noon", "sunset", "civil dusk", "nautical dusk")
         lines.extend(change.text() for change in self.changes)
         rows = []
@@ -543,8 +545,8 @@ class BridgePlan:
                                    f"{dm(noon.hs_deg, 'signed')}.", "body"))
             pages.append(Page(round_.label, tuple(blocks)))
         if pages:  # the first page says where the DR starts, and when, by the ship's clock and in UTC
-            pages[0] = Page(pages[0].title, (Text(self.text_lines()[0] + ".", "small"),) + tuple(pages[0].blocks),
-                            pages[0].landscape)
+            said = (Text(self.text_lines()[0] + ".", "small"),) + tuple(Text(f"Note: {n}.", "small") for n in self.notes)
+            pages[0] = Page(pages[0].title, said + tuple(pages[0].blocks), pages[0].landscape)
         dates = sorted({d.date for d in self.days}) or [np.datetime64(self.rounds[0].presets.utc, "D")]
         valid = f"{dates[0]}" + (f" to {dates[-1]}" if len(dates) > 1 else "") + " (zone dates)"
         from ..timescales import instants
@@ -553,6 +555,52 @@ class BridgePlan:
         inst = instants(np.array(when, dtype="datetime64[ns]"))
         return Document("navred sight plan", valid, provenance_line(inst.dut1_s, inst.ut1_source), CAUTION,
                         tuple(pages))
+
+
+#: The longest a plan at an instant (--utc) runs the DR back before the time it is given for, hours: a navigator
+#: plans forward from a DR, and a DR carried back further than a day is a position she was not known to be at
+#: (a wrong --date or --utc is likelier); a plan earlier than that is refused.
+MAX_RUN_BACK_H = 24.0
+
+
+def run_back_notes(first_date, lat_deg: float, lon_deg: float, course_deg: float, speed_kn: float,
+                   zone_given: float | None, when) -> list[str]:
+    """A plan at an instant before the DR's own time: the DR run back to it, said plainly ('DR run back 5.3 h
+    from …'); refused beyond :data:`MAX_RUN_BACK_H`. Nothing for an instant at or after it, or a fixed position."""
+    from ..errors import NavredError
+    from ..plan import zone_midnight
+
+    origin = zone_midnight(np.datetime64(str(first_date)[:10], "D"), lon_deg, zone_given)
+    back_h = float((origin - np.datetime64(when, "ns")) / np.timedelta64(1, "h"))
+    if back_h <= 0.0 or speed_kn <= 0.0:
+        return []
+    start = departure_words(first_date, lon_deg, zone_given)
+    if back_h > MAX_RUN_BACK_H:
+        raise NavredError(
+            f"--utc {str(when)[:16].replace('T', ' ')} UTC is {back_h:.1f} h before the DR's time ({start}): the DR "
+            f"would be run back {back_h:.1f} h, {back_h * speed_kn:.0f} nm back along {course_deg:05.1f}° at "
+            f"{speed_kn:.1f} kn; a plan runs the DR back at most {MAX_RUN_BACK_H:g} h (a navigator plans forward): "
+            "give the DR for a time at or before the plan (--date, --lat, --lon), or check --utc and --date")
+    return [f"DR run back {back_h:.1f} h ({back_h * speed_kn:.1f} nm back along {course_deg:05.1f}° at {speed_kn:.1f} "
+            f"kn) from {start} to the plan's {utc_stamp(when, None)}: the plan is before the DR's time; a position "
+            "carried back is only as good as the course and speed were then"]
+
+
+def zone_notes(lat_deg: float, lon_deg: float, zone_given: float | None) -> list[str]:
+    """What the plan says about the zone at the DR given: a zone kept (--zone) that is not the DR's nautical
+    zone (accepted: a ship may keep another zone), and the zone taken on the 180° meridian itself."""
+    nautical = float(zone_description_h(lon_deg)) + 0.0
+    at_line = abs(float(lon_deg)) == 180.0
+    if zone_given is not None and float(zone_given) != nautical:
+        return [f"Zone kept {zone_text(float(zone_given))} (--zone), not the nautical zone of the DR's longitude "
+                f"{dm(float(lon_deg), 'lon')}, which is {zone_text(nautical)}"
+                + (" (on the 180° meridian: −12 or +12; navred takes −12 unless told)" if at_line else "")
+                + ": every zone time here is by the zone kept, as the ship's clocks are; check it is the one "
+                "they keep"]
+    if zone_given is None and at_line:
+        return [f"The DR is on the 180° meridian: ZD {zone_text(nautical)} taken (navred's rule: the meridian "
+                "itself in the zone east of the line); if the ship's clocks keep +12, give --zone +12"]
+    return []
 
 
 def bridge_plan(first_date: object, days: int, lat_deg: float, lon_deg: float, *, course_deg: float = 0.0,
@@ -567,11 +615,13 @@ def bridge_plan(first_date: object, days: int, lat_deg: float, lon_deg: float, *
                                    min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg)
     track = events["track"]
     label = None
+    notes = list(zone_notes(lat_deg, lon_deg, zone_description_h))
     if at is not None:
         when = to_minute(utc_datetime64(at))
+        notes += run_back_notes(first_date, lat_deg, lon_deg, course_deg, speed_kn, zone_description_h, when)
         lat, lon = track.position(np.array([when]))
         plans = sight_plans(np.array([when]), lat, lon, count=count, min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg)
-        label = f"Sight plan, {str(when)[:10]}"
+        label = f"Sight plan, {zone_date(when, zone_for(float(lon[0]), zone_description_h))}"
     options = dict(eye_height_m=eye_height_m, index_error_arcmin=index_error_arcmin, zone_given=zone_description_h)
     rounds = planned_rounds(events, plans, track, count=count, min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg,
                             label=label, **options)
@@ -585,7 +635,8 @@ def bridge_plan(first_date: object, days: int, lat_deg: float, lon_deg: float, *
     changes = zone_changes(track, min(found), max(found), zone_description_h) if found else []
     return BridgePlan(np.datetime64(str(first_date)[:10], "D"), float(lat_deg), float(lon_deg), float(course_deg),
                       float(speed_kn), float(eye_height_m), float(index_error_arcmin), zone_description_h,
-                      tuple(day_events), tuple(noons), tuple(rounds), tuple(windows), window_zones, tuple(changes))
+                      tuple(day_events), tuple(noons), tuple(rounds), tuple(windows), window_zones, tuple(changes),
+                      tuple(notes))
 
 
 def plans_csv_path(path: str | Path) -> Path:
@@ -621,4 +672,5 @@ def write_plan_files(plan: BridgePlan, files: dict[str, str]) -> list[Path]:
     return written
 
 __all__ = ["BridgePlan", "PlannedTwilight", "ZoneChange", "zone_rows", "zone_changes", "zone_at", "zone_date", "NoonSun", "DayEvents", "bridge_plan", "planned_rounds", "noon_suns",
-           "provenance_line", "write_plan_files", "twilight_times", "plans_csv_path", "signed", "dm", "hm", "zone_time", "zone_text", "to_minute", "long_date", "zone_for", "departure_words"]
+           "provenance_line", "write_plan_files", "twilight_times", "plans_csv_path", "signed", "dm", "hm", "zone_time", "zone_text", "to_minute", "long_date", "zone_for", "departure_words", "MAX_RUN_BACK_H",
+           "run_back_notes", "zone_notes"]

@@ -966,7 +966,7 @@ def test_over_the_date_line_the_paper_dates_each_round_by_its_zone_date_as_the_p
     pages = [p for p in made.document.pages if p.title.startswith("Sights for")]
     assert [p.title for p in pages][:3] == titles
     plan = bridge_plan("2026-12-14", 3, -17.5, lon, course_deg=course, speed_kn=8.0, eye_height_m=3.0)
-    by_plan = {str(r.presets.utc.astype("datetime64[m]")): (r.label.split(", ", 1)[1], r.zone_h) for r in plan.rounds}
+    by_plan = {str(r.presets.utc.astype("datetime64[m]")): (r.label.split(", ", 1)[1].split(" (ZD ")[0], r.zone_h) for r in plan.rounds}
     planned, differs = [], 0
     texts = [" ".join(block.text for block in page.blocks if hasattr(block, "text")) for page in pages]
     # the zone of each page's events (the ZD printed with each round and noon), and the pages the date line
@@ -1142,7 +1142,9 @@ def test_a_departure_is_at_00_00_zone_time_across_the_date_line(lon0, course, zo
                                                  / np.timedelta64(1, "h")))
         assert abs(angle_diff_deg(lon, by_mean_time)) * 60.0 > 2.0
         sides.add(lon > 0)
-    assert sides == {True, False} and len(made.noons) >= 2  # DRs on both sides of the line were checked
+    # DRs on both sides of the line were checked; westbound the 11th is lived from the crossing (about 14:20) on:
+    # its noon (12:00 ZD −12) falls before the crossing, never lived, and the 12th is past the last date given
+    assert sides == {True, False} and len(made.noons) >= 1
     # the noon page prints the same DR (to its 0.1′)
     noon_table = next(block for page in made.document.pages if page.title.startswith("The noon Sun")
                       for block in page.blocks if hasattr(block, "rows"))

@@ -86,3 +86,54 @@ def test_plan_on_the_180_meridian_states_the_zone_taken():
                                       "--eye", "10 m"])
     assert result.exit_code == 0, result.output
     assert "on the 180° meridian: ZD −12 taken" in result.stdout and "give --zone +12" in result.stdout
+
+
+# --- the date line before the first twilight, the paper's ship's dates, each round named once -------------------
+
+@pytest.mark.parametrize(("lon", "course", "crossing", "dates"), [
+    # 10′ of longitude at 20° S is 10 × cos 20° = 9.4 nm, 37.6 min at 15 kn (mid-latitude sailing, common
+    # practice) after 00:00 zone time: ZD +12 is 12:00 UTC 10 Dec, ZD −12 is 12:00 UTC 9 Dec (ZT + ZD = UTC)
+    ("179 50 W", "270", "2026-12-10 12:3[78] UTC", "the ship's date 10 Dec becomes 11 Dec"),  # westbound: forward
+    ("179 50 E", "090", "2026-12-09 12:3[78] UTC", "the ship's date 10 Dec becomes 9 Dec"),  # eastbound: back
+])
+def test_plan_announces_a_date_line_before_the_first_twilight(lon, course, crossing, dates):
+    result = CliRunner().invoke(app, ["plan", "--date", "2026-12-10", "--lat", "20 00 S", "--lon", lon, "--course",
+                                      course, "--speed", "15", "--eye", "10 m"])
+    assert result.exit_code == 0, result.output
+    lines = result.stdout.splitlines()
+    first_round = next(k for k, line in enumerate(lines) if re.match(r"(Morning|Evening) twilight, ", line))
+    before = lines[first_round - 1]
+    assert before.startswith("Before this round: About ") and re.search(crossing, before), before
+    assert "the date line" in before and dates in before
+
+
+def rounds_of(course: float, lon: float):
+    from navred.jobs.paper import passage_paper
+
+    return passage_paper("2026-12-10", "2026-12-12", -20.0, lon, course_deg=course, speed_kn=15.0,
+                         eye_height_m=10.0)
+
+
+def test_paper_dates_are_the_ship_dates_westbound():
+    # from 178° W at 15 kn west the line is 2° × 60 × cos 20° / 15 = 7.5 h on (common practice): 07:30 on the 10th
+    # becomes 07:30 on the 11th; the ship lives the 10th's morning, the 11th from then, the 12th; never the 13th
+    made = rounds_of(270.0, -178.0)
+    dates = [str(t.zone_date) for t in made.twilights] + [str(n.zone_date) for n in made.noons]
+    assert max(dates) == "2026-12-12" and "2026-12-13" not in dates
+    assert {str(t.zone_date) for t in made.twilights} == {"2026-12-10", "2026-12-11", "2026-12-12"}
+    titles = [p.title for p in made.document.pages if p.title.startswith("Sights for")]
+    assert not any("13 December" in title for title in titles), titles
+
+
+def test_paper_dates_are_the_ship_dates_eastbound_and_each_round_named_once():
+    # from 178° E at 15 kn east the line is 7.5 h on: 07:30 on the 10th becomes 07:30 on the 9th (common
+    # practice); the 9th's evening and the 10th again are lived, and the paper still runs to the 12th
+    made = rounds_of(90.0, 178.0)
+    dates = [str(t.zone_date) for t in made.twilights]
+    assert dates[:3] == ["2026-12-10", "2026-12-09", "2026-12-10"]
+    assert max(dates) == "2026-12-12" and dates.count("2026-12-12") == 2  # its morning and evening
+    assert "2026-12-12" in {str(n.zone_date) for n in made.noons}
+    labels = [t.label for t in made.twilights]
+    assert len(set(labels)) == len(labels), labels
+    assert "Morning twilight, Thursday 10 December 2026 (ZD −12)" in labels
+    assert "Morning twilight, Thursday 10 December 2026 (ZD +12)" in labels

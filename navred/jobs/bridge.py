@@ -225,9 +225,12 @@ class ZoneChange:
         line = (f"About {str(self.utc)[:16].replace('T', ' ')} UTC the DR ({dm(self.lon_deg, 'lon')}) passes from zone "
                 f"{zone_text(self.zone_before_h)} to {zone_text(self.zone_after_h)}")
         if abs(jump) > 12:
-            line += (": the date line. Eastbound (−12 to +12) the zone date goes back a day: a date is lived twice"
-                     if jump > 0 else ": the date line. Westbound (+12 to −12) the zone date goes forward a day: a "
-                     "date is skipped")
+            before = zone_date(self.utc - np.timedelta64(1, "m"), self.zone_before_h)
+            after = zone_date(self.utc, self.zone_after_h)
+            dates = f" (the ship's date {short_date(before)} becomes {short_date(after)})"
+            line += (": the date line. Eastbound (−12 to +12) the zone date goes back a day" + dates + ": a date is "
+                     "lived twice" if jump > 0 else ": the date line. Westbound (+12 to −12) the zone date goes "
+                     "forward a day" + dates + ": a date is skipped")
             line += "; the times here keep the DR's zone at each event (give --zone to keep the ship's clocks)"
         return line + "."
 
@@ -279,7 +282,23 @@ def planned_rounds(events: dict, plans: list[SightPlan], track: DRTrack, *, eye_
             civil = events["civil_dawn" if morning else "civil_dusk"][day]
         rounds.append(PlannedTwilight(name, kind, zd, nautical, civil, again, presets,
                                       np.datetime64(events["date"][day], "D")))
-    return rounds
+    return unique_names(rounds)
+
+
+def unique_names(rounds: list[PlannedTwilight]) -> list[PlannedTwilight]:
+    """Every round named once: over the date line eastbound a zone date is lived twice, and its two morning (or
+    evening) twilights would share a name; each such name takes its zone ('Morning twilight, Thursday 10 December
+    2026 (ZD −12)' and '… (ZD +12)'), and, were that not enough, its UTC."""
+    from dataclasses import replace
+
+    def renamed(items, extra):
+        seen: dict[str, int] = {}
+        for r in items:
+            seen[r.label] = seen.get(r.label, 0) + 1
+        return [replace(r, label=f"{r.label} ({extra(r)})") if seen[r.label] > 1 else r for r in items]
+
+    rounds = renamed(rounds, lambda r: f"ZD {zone_text(r.zone_h)}")
+    return renamed(rounds, lambda r: f"{hm(r.presets.utc)} UTC {short_date(to_minute(r.presets.utc))}")
 
 
 def heading_date(round_: PlannedTwilight) -> np.datetime64:
@@ -361,6 +380,17 @@ class BridgePlan:
         2026-12-10 = 12:00 UTC 9 Dec'."""
         return departure_words(self.first_date, self.lon_deg, self.zone_given)
 
+    def start_utc(self) -> np.datetime64:
+        """The instant the DR is given for (00:00 zone time of the first date), UTC."""
+        from ..plan import zone_midnight
+
+        return np.datetime64(zone_midnight(self.first_date, self.lon_deg, self.zone_given), "ns")
+
+    def date_line_between(self, start, end) -> list[ZoneChange]:
+        """The date-line crossings of the DR after ``start`` and at or before ``end`` (UTC)."""
+        start, end = np.datetime64(start, "ns"), np.datetime64(end, "ns")
+        return [c for c in self.changes if abs(c.zone_after_h - c.zone_before_h) > 12 and start < c.utc <= end]
+
     def text_lines(self) -> list[str]:
         moving = (f", then {self.course_deg:05.1f}° at {self.speed_kn:.1f} kn" if self.speed_kn > 0 else
                   " (a fixed position)")
@@ -392,7 +422,10 @@ class BridgePlan:
                          f"(Hc {dm(noon.hc_deg, 'signed')}, Dec {dm(noon.dec_deg, 'dec')}), DR "
                          f"{dm(noon.lat_deg, 'lat')} {dm(noon.lon_deg, 'lon')}")
         lines.append("")
+        since = self.start_utc()
         for round_ in self.rounds:
+            lines.extend(f"Before this round: {c.text()}" for c in self.date_line_between(since, round_.presets.utc))
+            since = round_.presets.utc
             lines.extend(self._round_lines(round_))
             lines.append("")
         lines.append("Daytime fixes: the Sun with the Moon or a bright planet, their lines crossing at 30° or more")
@@ -632,7 +665,12 @@ def bridge_plan(first_date: object, days: int, lat_deg: float, lon_deg: float, *
     window_zones = tuple(float(zone_at(w.best, track, zone_description_h)[0]) for w in windows)
     found = [np.datetime64(events[key][d], "ns") for key in EVENT_KEYS for d in range(len(events["date"]))
              if not np.isnat(events[key][d])]
-    changes = zone_changes(track, min(found), max(found), zone_description_h) if found else []
+    # from the DR's own time (a date line crossed before the first twilight is announced too) to the last event
+    from ..plan import zone_midnight
+
+    origin = np.datetime64(zone_midnight(np.datetime64(str(first_date)[:10], "D"), lon_deg, zone_description_h), "ns")
+    found += [origin] + [np.datetime64(r.presets.utc, "ns") for r in rounds]
+    changes = zone_changes(track, min(found), max(found), zone_description_h)
     return BridgePlan(np.datetime64(str(first_date)[:10], "D"), float(lat_deg), float(lon_deg), float(course_deg),
                       float(speed_kn), float(eye_height_m), float(index_error_arcmin), zone_description_h,
                       tuple(day_events), tuple(noons), tuple(rounds), tuple(windows), window_zones, tuple(changes),
@@ -672,5 +710,5 @@ def write_plan_files(plan: BridgePlan, files: dict[str, str]) -> list[Path]:
     return written
 
 __all__ = ["BridgePlan", "PlannedTwilight", "ZoneChange", "zone_rows", "zone_changes", "zone_at", "zone_date", "NoonSun", "DayEvents", "bridge_plan", "planned_rounds", "noon_suns",
-           "provenance_line", "write_plan_files", "twilight_times", "plans_csv_path", "signed", "dm", "hm", "zone_time", "zone_text", "to_minute", "long_date", "zone_for", "departure_words", "MAX_RUN_BACK_H",
+           "provenance_line", "write_plan_files", "twilight_times", "plans_csv_path", "signed", "dm", "hm", "zone_time", "zone_text", "to_minute", "long_date", "zone_for", "departure_words", "MAX_RUN_BACK_H", "unique_names",
            "run_back_notes", "zone_notes"]

@@ -133,13 +133,17 @@ def passage_paper(first_date: DateGiven, last_date: DateGiven, lat_deg: float | 
     zone_from_log = zone_description_h is None and dr.zone_h is not None
     if zone_from_log:
         zone_description_h = dr.zone_h  # the zone the log keeps: its clocks are the ship's
-    events, plans = track_twilight_plans(dr.track, dr.start, days, eye_height_m=eye_height_m, count=count,
+    # the dates are the ship's: over the date line eastbound a date is lived twice (a solar day more to reach the
+    # last date), westbound one is skipped (the solar days reach past it: cut at the last date)
+    solar_days = days + date_lines_eastbound(dr.track, dr.start, days, zone_description_h)
+    events, plans = track_twilight_plans(dr.track, dr.start, solar_days, eye_height_m=eye_height_m, count=count,
                                          min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg)
     track = events["track"]
     options = dict(eye_height_m=eye_height_m, index_error_arcmin=index_error_arcmin, zone_given=zone_description_h)
     twilights = planned_rounds(events, plans, track, count=count, min_alt_deg=min_alt_deg, max_alt_deg=max_alt_deg,
                                **options)
     noons = noon_suns(events, track, **options)
+    twilights, noons = until_last_date(twilights, noons, last)
     # the hourly pages cover every UTC date a planned sight or noon falls on: east of about 80° E the first
     # morning twilight comes on the UTC date before the first, far west the last evening's on the date after
     times = [t.presets.utc for t in twilights] + [n.utc for n in noons]
@@ -150,6 +154,32 @@ def passage_paper(first_date: DateGiven, last_date: DateGiven, lat_deg: float | 
     document = _document(first, days, hourly, stars, twilights, noons, dr, eye_height_m, index_error_arcmin,
                          zone_description_h, events, table_first, table_days)
     return PassagePaper(document, hourly, tuple(stars), tuple(twilights), tuple(noons), first, days, dr)
+
+
+def date_lines_eastbound(track, start, days: int, zone_given: float | None) -> int:
+    """How many times the DR crosses the date line eastbound (its nautical zone −12 to +12) in the solar days
+    from ``start`` and one more: each lives a ship's date twice, so the paper needs a solar day more to reach its
+    last date. None with a zone kept (the ship's clocks do not jump)."""
+    if zone_given is not None:
+        return 0
+    from ..reckoning import zone_description_h
+
+    hours = np.datetime64(start, "ns") + np.arange(0, (days + 1) * 24 + 1) * np.timedelta64(NS_PER_HOUR, "ns")
+    _, lon = track.position(hours)
+    zones = zone_description_h(np.asarray(lon, dtype=float))
+    return int(np.sum(np.diff(zones[np.isfinite(zones)]) > 12.0))
+
+
+def until_last_date(twilights, noons, last) -> tuple[list, list]:
+    """The rounds and noons in time order up to the first whose zone date is past ``last`` (the ship's last date:
+    westbound over the date line a date is skipped and the solar days reach past it; a date lived twice
+    eastbound keeps both its days)."""
+    items = sorted([(np.datetime64(t.presets.utc, "ns"), t) for t in twilights]
+                   + [(np.datetime64(n.utc, "ns"), n) for n in noons], key=lambda item: item[0])
+    past = [when for when, item in items if item.zone_date > np.datetime64(last, "D")]
+    end = past[0] if past else None
+    keep = [item for when, item in items if end is None or when < end]
+    return ([t for t in keep if isinstance(t, PlannedTwilight)], [n for n in keep if not isinstance(n, PlannedTwilight)])
 
 
 def _passage_dr(first, days, lat_deg, lon_deg, course_deg, speed_kn, route, depart, log, vessel, dates, rates,

@@ -137,3 +137,14 @@ def test_paper_dates_are_the_ship_dates_eastbound_and_each_round_named_once():
     assert len(set(labels)) == len(labels), labels
     assert "Morning twilight, Thursday 10 December 2026 (ZD −12)" in labels
     assert "Morning twilight, Thursday 10 December 2026 (ZD +12)" in labels
+
+
+def test_plan_tables_at_greenwich_never_print_a_negative_zero():
+    # common practice: the zone at 0° 10′ E is 0; −round(0.011) was −0.0, printed "-0.000000" in the CSV
+    from navred.io.output import csv_text
+    from navred.jobs.bridge import bridge_plan
+
+    plan = bridge_plan("2026-03-26", 1, 50.0, 10.0 / 60.0, eye_height_m=3.0)
+    for table in (plan.events_table(), plan.plans_table()):
+        text = csv_text(table)
+        assert ",0.000000," in text and "-0.0" not in text

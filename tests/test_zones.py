@@ -148,3 +148,15 @@ def test_plan_tables_at_greenwich_never_print_a_negative_zero():
     for table in (plan.events_table(), plan.plans_table()):
         text = csv_text(table)
         assert ",0.000000," in text and "-0.0" not in text
+
+
+def test_plan_with_a_zone_kept_says_the_dr_crosses_the_line_without_changing_the_date():
+    # the crossing as above (12:38 UTC 9 Dec eastbound, mid-latitude sailing, common practice); with --zone −12
+    # kept the dates stay by −12 (ZT + ZD = UTC): the plan says the line is crossed and the date does not change
+    result = CliRunner().invoke(app, ["plan", "--date", "2026-12-10", "--lat", "20 00 S", "--lon", "179 50 E",
+                                      "--course", "090", "--speed", "15", "--eye", "10 m", "--zone", "-12"])
+    assert result.exit_code == 0, result.output
+    assert re.search(r"Note: The DR crosses the date line about 2026-12-09 12:3[78] UTC .*the zone kept \(−12, "
+                     r"--zone\) stays", result.stdout), result.stdout[:600]
+    assert "Before this round" not in result.stdout  # no date change announced: the clocks keep −12
+    assert re.search(r"^2026-12-10\s+−12 ", result.stdout, re.M)

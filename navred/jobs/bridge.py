@@ -671,6 +671,12 @@ def bridge_plan(first_date: object, days: int, lat_deg: float, lon_deg: float, *
     origin = np.datetime64(zone_midnight(np.datetime64(str(first_date)[:10], "D"), lon_deg, zone_description_h), "ns")
     found += [origin] + [np.datetime64(r.presets.utc, "ns") for r in rounds]
     changes = zone_changes(track, min(found), max(found), zone_description_h)
+    if zone_description_h is not None:  # a zone kept: the DR's own crossing of the line changes no date here
+        notes += [f"The DR crosses the date line about {str(c.utc)[:16].replace('T', ' ')} UTC ({dm(c.lon_deg, 'lon')}"
+                  f"), but the zone kept ({zone_text(float(zone_description_h))}, --zone) stays: every date and zone "
+                  "time here is by it, and the ship's date changes only when her clocks do"
+                  for c in zone_changes(track, min(found), max(found), None)
+                  if abs(c.zone_after_h - c.zone_before_h) > 12]
     return BridgePlan(np.datetime64(str(first_date)[:10], "D"), float(lat_deg), float(lon_deg), float(course_deg),
                       float(speed_kn), float(eye_height_m), float(index_error_arcmin), zone_description_h,
                       tuple(day_events), tuple(noons), tuple(rounds), tuple(windows), window_zones, tuple(changes),

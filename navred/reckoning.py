@@ -622,8 +622,8 @@ def zone_description_h(lon_deg: ArrayLike) -> np.ndarray:
     zones are centred on multiples of 15°, zone ZD spanning 7.5° either side of 15° × −ZD):
 
     - ZD = −sign(λ) × ⌊|λ| / 15° + ½⌋: a longitude exactly on a boundary (7.5°, 22.5° … 172.5°) belongs to the
-      zone farther from Greenwich (7° 30′ E is −1, 7° 30′ W is +1), the same on both sides (no round half to
-      even, which puts 22.5° in −2 but 37.5° in −2 as well);
+      zone farther from Greenwich (7° 30′ E is −1, 7° 30′ W is +1), every boundary alike (round half to even,
+      the rule before, put 22.5° E in −2, the farther zone, but 37.5° E in −2 too, the nearer);
     - the 180° meridian itself (written 180° E or 180° W, or −180°) is taken as ZD −12 (:data:`DATE_LINE_ZONE_H`):
       the line is one meridian and a position on it gets one zone; a ship keeping +12 there says so (--zone);
     - a longitude given 0–360° (190° = 170° W) is taken −180° to 180° first;

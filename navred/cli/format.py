@@ -558,7 +558,8 @@ def latitude_lines(checks: pd.DataFrame) -> list[str]:
         elif row["method"] == "ex-meridian":
             lines.append(f"  {row['row']:<8} {row['body']:<10} ex-meridian, {row['minutes_from_meridian']:.1f} min "
                          f"from the meridian (limit {row['limit_minutes']:.0f} min): latitude "
-                         f"{format_angle(float(row['lat_deg']), 'lat')} (DR {dr})")
+                         f"{format_angle(float(row['lat_deg']), 'lat')} (DR {dr})"
+                         + (f" {row['flag']}" if row.get("flag") else ""))
         else:
             lines.append(f"  {row['row']:<8} {row['body']:<10} on the meridian: latitude "
                          f"{format_angle(float(row['lat_deg']), 'lat')} (DR {dr})")

@@ -75,7 +75,8 @@ def vessel_lines(voyage, vessel: str, ships: ShipsSights) -> list[dict]:
         return []
     status = reduced["status"].to_numpy()
     checks = latitude_checks(reduced)
-    by_row = {int(r["index"]): r for r in checks.to_dict("records")}
+    # an ex-meridian latitude that cannot be trusted is no latitude: its sight is a line of position like any other
+    by_row = {int(r["index"]): r for r in checks.to_dict("records") if not r["flag"]}
     bodies = reduced["body_name"].to_numpy(dtype=object)
     when = utc64(reduced["sight_utc"]).astype(np.int64)
     lines = []

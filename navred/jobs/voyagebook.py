@@ -223,7 +223,7 @@ DAYS_BLANK = (
      "DR's current drift (kn)": _NO_CURRENT_IN_DR, "unaccounted set (deg)": _NO_CURRENT_IN_DR,
      "unaccounted drift (kn)": _NO_CURRENT_IN_DR},
     {"note": "none"},
-    {"ex-meridian limit (min)": "none: meridian or Polaris", "fix group": "none",
+    {"ex-meridian limit (min)": "none: meridian or Polaris", "fix group": "none", "flag": "none",
      "role": "not given"},
     {},
     {column: "not entered" for column in ("course (deg)", "speed (kn)", "set (deg)", "drift (kn)",

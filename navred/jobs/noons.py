@@ -42,7 +42,15 @@ from ..status import FixKind, SightStatus
 from .frames import utc64
 from .latitudechecks import latitude_checks
 from .shipsfixes import ROUND_MINUTES, ShipsSights, combined_rounds
-from .shipstime import clock_changes_text, vessel_clocks, zone_text
+from .shipstime import (
+    STATED_WORDS,
+    clock_changes_text,
+    stated_zones,
+    uncertain_noons,
+    vessel_clocks,
+    zone_disagreements,
+    zone_text,
+)
 from .shiptrack import (
     EP_PREFIX,
     NOON_WINDOW_HOURS,
@@ -413,7 +421,10 @@ def noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict], lines:
                    (entries["entry"] != "destination").any() else first))
     # a noon within the hour after the log's last row is the day's work of that morning (its fix run up to noon)
     log_end, last = last, last + int(NOON_WINDOW_HOURS * NS_PER_HOUR)
-    clocks, how = vessel_clocks(entries, track, first, last)
+    sights = reduced[reduced["vessel"].to_numpy(dtype=object) == vessel] if len(reduced) else reduced
+    stated = stated_zones(entries, sights)
+    clocks, how, left = vessel_clocks(entries, track, first, last, stated)
+    kept_as_stated = how.startswith(STATED_WORDS)
     label = vessel or "the ship"
     rejected = getattr(voyage, "rejected", None)
     if how.startswith("no clocks entry") and rejected is not None and len(rejected):
@@ -423,7 +434,12 @@ def noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict], lines:
             how = (f"no clocks entry read ({rows} refused: see its reason), so " + how[len("no clocks entry: "):]
                    if how.startswith("no clocks entry: ") else how)
     notes = [f"{label}: ship's time: {how}"]
+    if kept_as_stated:
+        notes += [f"{label}: {text}" for text in zone_disagreements(stated, track)]
     noon, day, zone = ship_noons(clocks, first, last)
+    uncertain = uncertain_noons(left, noon, day)
+    notes += [f"{label}: noon of {str(np.datetime64(int(day[k]), 'ns').astype('datetime64[D]'))}: {text}"
+              for k, text in uncertain.items()]
     if not noon.size:
         start, end = clocks.ship_time_ns([first, log_end])
         if log_end - first < NS_PER_MINUTE:
@@ -456,7 +472,7 @@ def noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict], lines:
                "noon_from": found[k][2] + _current_words(found[k][2], unallowed, int(noon[k])), "run_nm": np.nan, "course_made_good_deg": np.nan,
                "speed_made_good_kn": np.nan, "through_water_nm": np.nan, "hours": np.nan,
                "current_set_deg": np.nan, "current_set_95_deg": np.nan, "current_drift_kn": np.nan, "current_95_kn": np.nan, "current_note": "", "to": "", "to_go_nm": np.nan,
-               "eta_utc": "", "eta_ship_time": "", "eta_basis": "", "clock_changes": _clock_words(clocks, previous, int(noon[k]), k, zone[k]),
+               "eta_utc": "", "eta_ship_time": "", "eta_basis": "", "clock_changes": "; ".join(filter(None, [uncertain.get(k, ""), _clock_words(clocks, previous, int(noon[k]), k, zone[k])])),
                "fixes_that_day": count, "lat_deg": float(lat[k]), "lon_deg": float(lon[k])}
         if k:
             row.update(_days_run_columns(run, through, water_n, water_e, k, found))

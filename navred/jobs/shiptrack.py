@@ -662,8 +662,11 @@ def track_points(voyage, vessel: str, track: DRTrack) -> list[dict]:
     there closes on the DR carried to it."""
     reduced = voyage.reduced
     mine = (reduced["vessel"].to_numpy(dtype=object) == vessel) if len(reduced) else np.zeros(0, dtype=bool)
+    entries = vessel_entries(voyage, vessel)
+    logged = entries[entries["entry"] != "destination"] if len(entries) else entries
+    # to the log's last row, a sight's or an entry's (a log of entries alone is a passage too)
     last = int(max(utc64(reduced["sight_utc"][mine]).astype(np.int64).max() if mine.any() else 0,
-                   track.known_ns[-1]))
+                   utc64(logged["utc"]).astype(np.int64).max() if len(logged) else 0, track.known_ns[-1]))
     first = int(track.known_ns[0])
     step = int(TRACK_STEP_HOURS * NS_PER_HOUR)
     hourly = np.arange(first, last + 1, step, dtype=np.int64)

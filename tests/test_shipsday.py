@@ -170,3 +170,17 @@ def test_every_noon_time_shown_is_dated(tmp_path):
     header = {sheet.cell(row=3, column=c).value: c for c in range(1, sheet.max_column + 1)}
     dated = [sheet.cell(row=r, column=header["noon (UTC)"]).value for r in range(4, sheet.max_row + 1)]
     assert any(str(v).startswith("2026-10-07 00:00") for v in dated)
+
+
+def test_with_clocks_entries_a_row_whose_zd_is_not_the_clocks_is_named(tmp_path):
+    """The clocks entered keep ZD +3 from the start; a later row is written in ZD +4: noon stays 12:00 by the
+    clocks entered (15:00 UTC, ZT + ZD = UTC) and a note names the row and both zones."""
+    log = tmp_path / "clocks.csv"
+    log.write_text("Date,Zone time,ZD,entry,DR lat,DR lon,Course,Speed,Clocks\n"
+                   "2026-10-20,06:00,+3,departure,30 00.0 N,045 00.0 W,090,5,\n"
+                   "2026-10-20,06:00,+3,clocks,,,,,+3\n"
+                   "2026-10-20,17:00,+4,course,,,090,5,\n")
+    days = process_log(log, plan=False).days_work()
+    assert days.noons.iloc[0]["noon_utc"].startswith("2026-10-20 15:00")
+    note = next(n for n in days.notes if "is not the zone the clocks entered keep" in n)
+    assert "row 4" in note and "ZD +4" in note and "(ZD +3)" in note

@@ -45,6 +45,7 @@ from .shipsfixes import ROUND_MINUTES, ShipsSights, combined_rounds
 from .shipstime import (
     STATED_WORDS,
     clock_changes_text,
+    clock_disagreements,
     stated_zones,
     uncertain_noons,
     vessel_clocks,
@@ -436,6 +437,8 @@ def noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict], lines:
     notes = [f"{label}: ship's time: {how}"]
     if kept_as_stated:
         notes += [f"{label}: {text}" for text in zone_disagreements(stated, track)]
+    elif how.startswith("the clocks as entered"):
+        notes += [f"{label}: {text}" for text in clock_disagreements(stated, clocks)]
     noon, day, zone = ship_noons(clocks, first, last)
     uncertain = uncertain_noons(left, noon, day)
     notes += [f"{label}: noon of {str(np.datetime64(int(day[k]), 'ns').astype('datetime64[D]'))}: {text}"

@@ -180,6 +180,32 @@ def zone_disagreements(stated: StatedZones, track: DRTrack) -> list[str]:
     return texts
 
 
+def clock_disagreements(stated: StatedZones, clocks: ShipsClocks) -> list[str]:
+    """Where the log's ZD is not the zone the clocks entered keep at the row's time (the clocks entries are
+    followed), one sentence per stretch of such rows. A row at the very instant of a change may state either."""
+    if not stated.utc_ns.size:
+        return []
+    kept = clocks.zone_at(stated.utc_ns)
+    before = clocks.zone_at(stated.utc_ns - 1)
+    off = (stated.zone_h != kept) & (stated.zone_h != before)
+    texts, k = [], 0
+    while k < off.size:
+        if not off[k]:
+            k += 1
+            continue
+        end = k
+        while end + 1 < off.size and off[end + 1] and stated.zone_h[end + 1] == stated.zone_h[k] \
+                and kept[end + 1] == kept[k]:
+            end += 1
+        rows = f"row {stated.row[k]}" if end == k else f"rows {stated.row[k]} to {stated.row[end]}"
+        texts.append(f"{rows}: the log's {zone_text(stated.zone_h[k])} is not the zone the clocks entered keep then "
+                     f"({zone_text(kept[k])}): noon is kept by the clocks entries; check the ZD or the clocks entry")
+        k = end + 1
+    if len(texts) > ZONE_NOTES_SHOWN:
+        texts = texts[:ZONE_NOTES_SHOWN] + [f"and {len(texts) - ZONE_NOTES_SHOWN} more stretches of rows like these"]
+    return texts
+
+
 def uncertain_noons(left: list[StatedChange], noon_ns: np.ndarray, day_ns: np.ndarray) -> dict[int, str]:
     """The noons (by index) that fall between a change of zone the log states and the last instant the clocks were
     known unchanged (:class:`StatedChange`): the clocks may have been changed before such a noon. Each with what
@@ -285,4 +311,4 @@ def clock_changes_text(clocks: ShipsClocks, after_ns: int, until_ns: int) -> str
 
 
 __all__ = ["vessel_clocks", "clock_changes_text", "zone_text", "StatedZones", "stated_zones", "stated_clocks",
-           "zone_disagreements", "uncertain_noons", "zone_path", "StatedChange", "stamp_minutes", "ZONE_NOTES_SHOWN", "STATED_WORDS"]
+           "zone_disagreements", "clock_disagreements", "uncertain_noons", "zone_path", "StatedChange", "stamp_minutes", "ZONE_NOTES_SHOWN", "STATED_WORDS"]

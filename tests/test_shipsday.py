@@ -184,3 +184,22 @@ def test_with_clocks_entries_a_row_whose_zd_is_not_the_clocks_is_named(tmp_path)
     assert days.noons.iloc[0]["noon_utc"].startswith("2026-10-20 15:00")
     note = next(n for n in days.notes if "is not the zone the clocks entered keep" in n)
     assert "row 4" in note and "ZD +4" in note and "(ZD +3)" in note
+
+
+def test_a_noon_over_the_date_line_dates_the_sight_times_it_rests_on(ts, eph, tmp_path):
+    """Lying at 20° N 179° W (ZD +12), noon of 5 Oct is 00:00 UTC 6 Oct (ZT + ZD = UTC): the forenoon Sun at
+    21:00 UTC 5 Oct run up to the noon latitude (a Sun at 23:55 UTC, skyfield) is named with its UTC date, as the
+    passage paper's pages name a UTC time of another date (common practice: a time alone is read on the wrong
+    day)."""
+    rows = ["Date,Zone time,ZD,entry,DR lat,DR lon,Course,Speed,Body,Limb,Hs,Height of eye (m),Fix group"]
+    rows.append("2026-10-05,06:00,+12,departure,20 00.0 N,179 00.0 W,000,0,,,,,")
+    for utc, zone_time, group in (("2026-10-05T21:00:00Z", "09:00", "forenoon"), ("2026-10-05T23:55:00Z", "11:55",
+                                                                                  "noon")):
+        hs = skyfield_sight(ts, eph, "Sun", utc, 20.0, -179.0, limb="lower")["hs"]
+        rows.append(f"2026-10-05,{zone_time},+12,,,,,,Sun,lower,{hs:.5f},3.0,{group}")
+    log = tmp_path / "line.csv"
+    log.write_text("\n".join(rows) + "\n")
+    noon = process_log(log, plan=False).days_work().noons.iloc[0]
+    assert noon["date"] == "2026-10-05" and noon["noon_utc"].startswith("2026-10-06 00:00")
+    assert noon["noon_from"].startswith("forenoon Sun line at 21:00 UTC 5 Oct run up to the latitude")
+    assert "at 23:55 UTC 5 Oct" in noon["noon_from"]

@@ -162,8 +162,14 @@ def _dr_sigma_nm(track: DRTrack, start: int, end: int) -> float:
     return DR_ERROR_KN * hours + DR_ERROR_FRACTION * miles
 
 
-def _hhmm(ns: int) -> str:
-    return stamp(int(ns) + 30 * NS_PER_SECOND)[11:16]
+def _utc_words(ns: int, noon: int) -> str:
+    """'HH:MM UTC' of an instant the noon rests on, with its UTC date where it is not the noon's ('21:00 UTC 6
+    Oct': over the date line a time alone is read on the wrong day as easily as on the right one), as the
+    passage paper's pages give it (:func:`navred.jobs.bridge.utc_stamp`)."""
+    from .bridge import utc_stamp
+
+    noon_date = np.datetime64(int(noon) + 30 * NS_PER_SECOND, "ns").astype("datetime64[D]")
+    return utc_stamp(np.datetime64(int(ns), "ns"), noon_date)
 
 
 def _changes_between(track: DRTrack, a: int, b: int) -> int:
@@ -177,7 +183,7 @@ def _changes_between(track: DRTrack, a: int, b: int) -> int:
 def _carried_text(what: str, t: int, noon: int, track: DRTrack, *, timed: bool = False) -> str:
     """How the noon was found: ``what`` at its time (``timed``: ``what`` names its time already), and carried to
     noon along the DR where it was not at noon."""
-    what = what if timed else f"{what} at {_hhmm(t)} UTC"
+    what = what if timed else f"{what} at {_utc_words(t, noon)}"
     if abs(noon - t) < 30 * NS_PER_SECOND:
         return what
     changes = _changes_between(track, t, noon)
@@ -225,8 +231,8 @@ def _run_up(track: DRTrack, noon: int, lines: list[dict], ships: ShipsSights, ve
     earliest = min(c["utc_ns"] for c in chosen)
     sigma = float(np.hypot(LINE_SIGMA_NM / np.sqrt(len(chosen) / 2.0), _dr_sigma_nm(track, earliest, noon)))
     several = f" ({len(chosen)} lines of the watch's rounds)" if len(chosen) > 2 else ""
-    text = (f"forenoon Sun line at {_hhmm(sun['utc_ns'])} UTC run up to the latitude by {latitude['method']} at "
-            f"{_hhmm(latitude['utc_ns'])} UTC: a running fix at noon, the lines crossing at {cut:.0f}°{several}")
+    text = (f"forenoon Sun line at {_utc_words(sun['utc_ns'], noon)} run up to the latitude by {latitude['method']} "
+            f"at {_utc_words(latitude['utc_ns'], noon)}: a running fix at noon, the lines crossing at {cut:.0f}°{several}")
     return lat, lon, text, True, sigma
 
 

@@ -203,3 +203,12 @@ def test_a_noon_over_the_date_line_dates_the_sight_times_it_rests_on(ts, eph, tm
     assert noon["date"] == "2026-10-05" and noon["noon_utc"].startswith("2026-10-06 00:00")
     assert noon["noon_from"].startswith("forenoon Sun line at 21:00 UTC 5 Oct run up to the latitude")
     assert "at 23:55 UTC 5 Oct" in noon["noon_from"]
+
+
+def test_stretches_of_flagged_rows_alike_are_found_at_once():
+    """Worked by hand: rows 1-2 flagged with one zone, row 3 with another, rows 5 and 6 apart by their key."""
+    from navred.jobs.shipstime import stretches
+
+    assert stretches(np.array([0, 1, 1, 1, 0, 1, 1]), np.array([3, 3, 3, 4, 4, 4, 5])) == [(1, 2), (3, 3), (5, 5),
+                                                                                          (6, 6)]
+    assert stretches(np.zeros(3, dtype=bool), np.zeros(3)) == []

@@ -150,6 +150,21 @@ STATED_WORDS = "no clocks entry: the ship's clocks keep the zone the log states"
 ZONE_NOTES_SHOWN = 5
 
 
+def stretches(flagged: np.ndarray, *keys: np.ndarray) -> list[tuple[int, int]]:
+    """The runs of consecutive flagged rows alike in every key, as (first, last) indexes (found at once, not row by
+    row: a fleet's log has hundreds of thousands of rows)."""
+    flagged = np.asarray(flagged, dtype=bool)
+    if not flagged.any():
+        return []
+    alike = np.ones(flagged.size - 1, dtype=bool)
+    for key in keys:
+        alike &= np.asarray(key)[1:] == np.asarray(key)[:-1]
+    joined = flagged[1:] & flagged[:-1] & alike
+    first = np.flatnonzero(flagged & ~np.concatenate([[False], joined]))
+    last = np.flatnonzero(flagged & ~np.concatenate([joined, [False]]))
+    return list(zip(first.tolist(), last.tolist()))
+
+
 def zone_disagreements(stated: StatedZones, track: DRTrack) -> list[str]:
     """Where the log's ZD is not the nautical zone of the DR's longitude at the row's time (ZD = −round(λ/15°);
     ±12 alike within 7.5° of 180°: common practice), one sentence per stretch of such rows."""
@@ -160,21 +175,13 @@ def zone_disagreements(stated: StatedZones, track: DRTrack) -> list[str]:
     with np.errstate(invalid="ignore"):
         by_180 = (np.abs(lon) > 172.5) & (np.abs(stated.zone_h) == 12.0)
     off = (origin >= 0) & np.isfinite(lon) & (stated.zone_h != nautical) & ~by_180
-    texts, k = [], 0
-    while k < off.size:
-        if not off[k]:
-            k += 1
-            continue
-        end = k
-        while end + 1 < off.size and off[end + 1] and stated.zone_h[end + 1] == stated.zone_h[k] \
-                and nautical[end + 1] == nautical[k]:
-            end += 1
+    texts = []
+    for k, end in stretches(off, stated.zone_h, nautical):
         rows = f"row {stated.row[k]}" if end == k else f"rows {stated.row[k]} to {stated.row[end]}"
         texts.append(f"{rows}: the log's {zone_text(stated.zone_h[k])} is not the zone of the DR's longitude "
                      f"({format_angle(float(lon[k]), 'lon')}: {zone_text(nautical[k])}): the ship's day is kept by "
                      "the log's ZD (a ship may keep another zone; if she did not, correct the ZD: an hour of time is "
                      "15′ of longitude in every line)")
-        k = end + 1
     if len(texts) > ZONE_NOTES_SHOWN:
         texts = texts[:ZONE_NOTES_SHOWN] + [f"and {len(texts) - ZONE_NOTES_SHOWN} more stretches of rows like these"]
     return texts
@@ -188,19 +195,11 @@ def clock_disagreements(stated: StatedZones, clocks: ShipsClocks) -> list[str]:
     kept = clocks.zone_at(stated.utc_ns)
     before = clocks.zone_at(stated.utc_ns - 1)
     off = (stated.zone_h != kept) & (stated.zone_h != before)
-    texts, k = [], 0
-    while k < off.size:
-        if not off[k]:
-            k += 1
-            continue
-        end = k
-        while end + 1 < off.size and off[end + 1] and stated.zone_h[end + 1] == stated.zone_h[k] \
-                and kept[end + 1] == kept[k]:
-            end += 1
+    texts = []
+    for k, end in stretches(off, stated.zone_h, kept):
         rows = f"row {stated.row[k]}" if end == k else f"rows {stated.row[k]} to {stated.row[end]}"
         texts.append(f"{rows}: the log's {zone_text(stated.zone_h[k])} is not the zone the clocks entered keep then "
                      f"({zone_text(kept[k])}): noon is kept by the clocks entries; check the ZD or the clocks entry")
-        k = end + 1
     if len(texts) > ZONE_NOTES_SHOWN:
         texts = texts[:ZONE_NOTES_SHOWN] + [f"and {len(texts) - ZONE_NOTES_SHOWN} more stretches of rows like these"]
     return texts
@@ -311,4 +310,4 @@ def clock_changes_text(clocks: ShipsClocks, after_ns: int, until_ns: int) -> str
 
 
 __all__ = ["vessel_clocks", "clock_changes_text", "zone_text", "StatedZones", "stated_zones", "stated_clocks",
-           "zone_disagreements", "clock_disagreements", "uncertain_noons", "zone_path", "StatedChange", "stamp_minutes", "ZONE_NOTES_SHOWN", "STATED_WORDS"]
+           "zone_disagreements", "clock_disagreements", "stretches", "uncertain_noons", "zone_path", "StatedChange", "stamp_minutes", "ZONE_NOTES_SHOWN", "STATED_WORDS"]

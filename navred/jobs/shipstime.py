@@ -246,6 +246,9 @@ def vessel_clocks(entries: pd.DataFrame, track: DRTrack, start_ns: int, end_ns: 
         first_from = "the nautical zone of the first known position's longitude"
     if not len(clocks) and stated is not None and stated.utc_ns.size > 1:
         made, left = stated_clocks(stated, track, start_ns)
+        if not stated.changes.size:
+            return made, (f"{STATED_WORDS} (its ZD column): {zone_text(stated.zone_h[0])} on all its "
+                          f"{stated.utc_ns.size} rows that state one (row {stated.row[0]} to row {stated.row[-1]})"), left
         said = ", ".join([f"{zone_text(stated.zone_h[0])} at row {stated.row[0]}"]
                          + [f"{zone_text(stated.zone_h[c])} from row {stated.row[c]}" for c in stated.changes.tolist()])
         return made, (f"{STATED_WORDS} (its ZD column): {said}; between rows of different zones the clocks are "

@@ -558,7 +558,8 @@ def latitude_lines(checks: pd.DataFrame) -> list[str]:
         elif row["method"] == "ex-meridian":
             lines.append(f"  {row['row']:<8} {row['body']:<10} ex-meridian, {row['minutes_from_meridian']:.1f} min "
                          f"from the meridian (limit {row['limit_minutes']:.0f} min): latitude "
-                         f"{format_angle(float(row['lat_deg']), 'lat')} (DR {dr})")
+                         f"{format_angle(float(row['lat_deg']), 'lat')} (DR {dr})"
+                         + (f" {row['flag']}" if row.get("flag") else ""))
         else:
             lines.append(f"  {row['row']:<8} {row['body']:<10} on the meridian: latitude "
                          f"{format_angle(float(row['lat_deg']), 'lat')} (DR {dr})")
@@ -712,7 +713,7 @@ def _noon_lines(days, vessel) -> list[str]:
         return []
     lines = [f"\n{vessel or 'the ship'}: noon positions and the day's run"]
     for r in noons.to_dict("records"):
-        lines.append(f"  {r['date']} noon ({r['zone']}, {r['noon_utc'][11:16]} UTC) {r['noon_position'] or 'no position'}"
+        lines.append(f"  {r['date']} noon ({r['zone']}, {r['noon_utc'][:16]} UTC) {r['noon_position'] or 'no position'}"
                      f"  {'by' if is_reckoned(r['noon_from']) or r['noon_from'].startswith('EP ') else 'from'} "
                      f"{r['noon_from']}")
         if r["run_nm"] == r["run_nm"]:

@@ -553,11 +553,14 @@ def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, l
         px, py = chart.at(e["lat_deg"], e["lon_deg"])
         placer.take(ep_symbol(sheet, px, py))
         eps.append((ep_label(e["ep"], e.get("note") or ""), FIX, px, py))
+    seen: set = set()
     for n in noons.to_dict("records"):
         px, py = chart.at(n["lat_deg"], n["lon_deg"])
         sheet.circle(px, py, 3.2, fill=INK, kind="noon")
         placer.take(rect_corners(px - 4, py - 4, px + 4, py + 4))
-        labels.append((f"noon {n['date'][5:]}", INK, px, py))
+        # a date lived twice (eastbound over the date line) has two noons: the second is named so
+        labels.append((f"noon {n['date'][5:]}" + (" again" if n["date"] in seen else ""), INK, px, py))
+        seen.add(n["date"])
     return labels + eps  # the noons' labels placed before the EPs' on a crowded sheet (the noon is the day's)
 
 

@@ -24,6 +24,7 @@ from dataclasses import dataclass, field
 
 import pandas as pd
 
+from ..angles import format_angle
 from ..reckoning import DRTrack
 from .noons import noon_rows, vessel_lines
 from .shiptrack import (
@@ -92,6 +93,16 @@ class DaysWork:
         return not self.tracks and not len(self.estimated)
 
 
+def latitude_flag_notes(latitudes: pd.DataFrame) -> list[str]:
+    """A note per latitude that cannot be trusted (an ex-meridian beyond its limit or far from the DR), beside its
+    number: the day's work never takes it for a latitude, at noon or anywhere."""
+    if not len(latitudes) or "flag" not in latitudes:
+        return []
+    return [f"{r['row']}: the {r['body']}'s {r['method']} latitude {format_angle(float(r['lat_deg']), 'lat')} "
+            f"(DR {format_angle(float(r['dr_lat_deg']), 'lat')}) {r['flag']}"
+            for r in latitudes.to_dict("records") if r["flag"]]
+
+
 def days_work(voyage, *, carry_current: bool = False) -> DaysWork:
     """Set and drift, estimated positions, the noon report and the exercises of a processed voyage."""
     ships = ships_of(voyage)
@@ -111,6 +122,8 @@ def days_work(voyage, *, carry_current: bool = False) -> DaysWork:
         for name, why in items:
             notes.append(f"{vessel or 'the ship'}: the fix {name} CANNOT BE TRUSTED ({why}): the DR is not restarted "
                          "from it, and no set and drift, noon or exercise rests on it")
+    latitudes = ship_latitudes(voyage, ships)
+    notes += latitude_flag_notes(latitudes)
     if not tracks:
         notes.append("Noon positions: none: the log gives no departure (an entry row) and none of the ship's fixes "
                       "to keep the DR from")
@@ -120,7 +133,7 @@ def days_work(voyage, *, carry_current: bool = False) -> DaysWork:
                     pd.DataFrame(point_rows, columns=["vessel", "utc", "lat_deg", "lon_deg", "leg", "kind"]),
                     tracks, carry_current, pd.DataFrame(exercises(voyage, ships, tracks, estimated, noon_rows_all),
                                                         columns=EXERCISE_COLUMNS),
-                    entry_work(voyage), ship_latitudes(voyage, ships), tuple(dict.fromkeys(notes)), clocks,
+                    entry_work(voyage), latitudes, tuple(dict.fromkeys(notes)), clocks,
                     {f"fix {g.name}": float(g.fix.confidence_scale) for g in voyage.groups
                      if g.fix is not None and g.fix.is_fix}, left_out)
 

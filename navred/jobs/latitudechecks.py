@@ -20,6 +20,44 @@ from .frames import row_labels
 #: A sight within this many degrees of LHA 0 (either side) is on the meridian: its Ho gives the latitude
 #: (a fixed arc is common practice: the altitude changes by under 0.1′ within about 1° of LHA at sea).
 MERIDIAN_LHA_DEG = 0.25
+#: An ex-meridian latitude further than this (degrees) from the DR latitude it was reduced with cannot be trusted:
+#: the reduction's factor a is entered with the DR latitude, and the ex-meridian tables with whole degrees of
+#: latitude (the ex-meridian tables of the navigation manuals; from memory), so a latitude a degree or more off
+#: the DR means the table was entered at the wrong latitude, the DR is wrong, or the sight is.
+EX_MERIDIAN_DR_DEG = 1.0
+
+#: The rule the ex-meridian limit follows, as the outputs cite it.
+EX_MERIDIAN_RULE = ("the ex-meridian limit: no more minutes of time from meridian passage than the meridian zenith "
+                    "distance has degrees (the rule of thumb of the navigation manuals; from memory)")
+
+
+def ex_meridian_flags(minutes_from_meridian: np.ndarray, lat_deg: np.ndarray, dr_lat_deg: np.ndarray,
+                      dec_deg: np.ndarray) -> np.ndarray:
+    """Why each ex-meridian latitude cannot be trusted, in the trade's words ('' where it can): the sight lies
+    beyond the ex-meridian limit once the zenith distance is taken from the latitude found (the DR's put it
+    within), or the latitude found is :data:`EX_MERIDIAN_DR_DEG` or more from the DR latitude it was reduced
+    with. Vectorised over sights."""
+    minutes = np.asarray(minutes_from_meridian, dtype=float)
+    lat, dr_lat = np.asarray(lat_deg, dtype=float), np.asarray(dr_lat_deg, dtype=float)
+    dec = np.asarray(dec_deg, dtype=float)
+    found_limit = ex_meridian_limit_minutes(np.abs(lat - dec))
+    beyond = minutes > found_limit
+    apart = np.abs(lat - dr_lat) * 60.0
+    wild = apart >= EX_MERIDIAN_DR_DEG * 60.0
+    out = np.full(minutes.size, "", dtype=object)
+    for k in np.flatnonzero(beyond | wild).tolist():
+        why = []
+        if beyond[k]:
+            why.append(f"beyond the ex-meridian limit: {minutes[k]:.1f} min from meridian passage, and the "
+                       f"zenith distance from the latitude found is {abs(lat[k] - dec[k]):.1f}° (limit "
+                       f"{found_limit[k]:.1f} min; {EX_MERIDIAN_RULE}); the DR's latitude put it within")
+        if wild[k]:
+            why.append(f"the latitude found is {apart[k]:.0f}′ from the DR latitude the reduction was worked with "
+                       f"(the reduction is entered with the DR latitude: {EX_MERIDIAN_DR_DEG:g}° or more off means "
+                       "the DR or the sight is wrong)")
+        out[k] = ("CANNOT BE TRUSTED: " + "; and ".join(why)
+                  + ": not used as a latitude; the sight's line of position (the intercept, exact) is kept")
+    return out
 
 
 def latitude_checks(reduced: pd.DataFrame) -> pd.DataFrame:
@@ -27,9 +65,11 @@ def latitude_checks(reduced: pd.DataFrame) -> pd.DataFrame:
     Moon, planet or star sight further from the meridian but within its limit, :func:`ex_meridian_limit_minutes`:
     as many minutes of time as the meridian zenith distance has degrees) and by Polaris: one row per such sight with
     its ``row`` label, ``index`` (its row of the table), ``body``, ``method`` ('meridian', 'ex-meridian' or
-    'Polaris'), ``lat_deg``, the sight's ``dr_lat_deg``, ``minutes_from_meridian`` and ``limit_minutes`` (the
-    ex-meridian's)."""
-    columns = ["row", "index", "body", "method", "lat_deg", "dr_lat_deg", "minutes_from_meridian", "limit_minutes"]
+    'Polaris'), ``lat_deg``, the sight's ``dr_lat_deg``, ``minutes_from_meridian``, ``limit_minutes`` (the
+    ex-meridian's) and ``flag`` (why an ex-meridian latitude cannot be trusted, :func:`ex_meridian_flags`; ''
+    for none)."""
+    columns = ["row", "index", "body", "method", "lat_deg", "dr_lat_deg", "minutes_from_meridian", "limit_minutes",
+               "flag"]
     if not len(reduced):
         return pd.DataFrame(columns=columns)
     usable = reduced.status.to_numpy() != SightStatus.ERROR
@@ -54,6 +94,9 @@ def latitude_checks(reduced: pd.DataFrame) -> pd.DataFrame:
     by_polaris = latitude_by_polaris(ho[north], reduced.gha_deg.to_numpy(dtype=float)[north], dec[north],
                                      reduced.dr_lon_deg.to_numpy(dtype=float)[north])
     rows = np.concatenate([meridian, ex, north])
+    flags = np.concatenate([np.full(meridian.size, "", dtype=object),
+                            ex_meridian_flags(minutes[ex], np.atleast_1d(by_ex), dr_lat[ex], dec[ex]),
+                            np.full(north.size, "", dtype=object)])
     labels = row_labels(reduced)
     return pd.DataFrame({"row": labels[rows], "index": rows, "body": bodies[rows],
                          "method": ["meridian"] * meridian.size + ["ex-meridian"] * ex.size + ["Polaris"] * north.size,
@@ -61,7 +104,8 @@ def latitude_checks(reduced: pd.DataFrame) -> pd.DataFrame:
                                                     np.atleast_1d(by_polaris)]),
                          "dr_lat_deg": dr_lat[rows],
                          "minutes_from_meridian": np.where(np.isin(rows, north), np.nan, minutes[rows]),
-                         "limit_minutes": np.where(np.isin(rows, ex), limit[rows], np.nan)}, columns=columns)
+                         "limit_minutes": np.where(np.isin(rows, ex), limit[rows], np.nan),
+                         "flag": flags}, columns=columns)
 
 
-__all__ = ["latitude_checks", "MERIDIAN_LHA_DEG"]
+__all__ = ["latitude_checks", "ex_meridian_flags", "MERIDIAN_LHA_DEG", "EX_MERIDIAN_DR_DEG", "EX_MERIDIAN_RULE"]

@@ -42,7 +42,16 @@ from ..status import FixKind, SightStatus
 from .frames import utc64
 from .latitudechecks import latitude_checks
 from .shipsfixes import ROUND_MINUTES, ShipsSights, combined_rounds
-from .shipstime import clock_changes_text, vessel_clocks, zone_text
+from .shipstime import (
+    STATED_WORDS,
+    clock_changes_text,
+    clock_disagreements,
+    stated_zones,
+    uncertain_noons,
+    vessel_clocks,
+    zone_disagreements,
+    zone_text,
+)
 from .shiptrack import (
     EP_PREFIX,
     NOON_WINDOW_HOURS,
@@ -75,7 +84,8 @@ def vessel_lines(voyage, vessel: str, ships: ShipsSights) -> list[dict]:
         return []
     status = reduced["status"].to_numpy()
     checks = latitude_checks(reduced)
-    by_row = {int(r["index"]): r for r in checks.to_dict("records")}
+    # an ex-meridian latitude that cannot be trusted is no latitude: its sight is a line of position like any other
+    by_row = {int(r["index"]): r for r in checks.to_dict("records") if not r["flag"]}
     bodies = reduced["body_name"].to_numpy(dtype=object)
     when = utc64(reduced["sight_utc"]).astype(np.int64)
     lines = []
@@ -152,8 +162,14 @@ def _dr_sigma_nm(track: DRTrack, start: int, end: int) -> float:
     return DR_ERROR_KN * hours + DR_ERROR_FRACTION * miles
 
 
-def _hhmm(ns: int) -> str:
-    return stamp(int(ns) + 30 * NS_PER_SECOND)[11:16]
+def _utc_words(ns: int, noon: int) -> str:
+    """'HH:MM UTC' of an instant the noon rests on, with its UTC date where it is not the noon's ('21:00 UTC 6
+    Oct': over the date line a time alone is read on the wrong day as easily as on the right one), as the
+    passage paper's pages give it (:func:`navred.jobs.bridge.utc_stamp`)."""
+    from .bridge import utc_stamp
+
+    noon_date = np.datetime64(int(noon) + 30 * NS_PER_SECOND, "ns").astype("datetime64[D]")
+    return utc_stamp(np.datetime64(int(ns), "ns"), noon_date)
 
 
 def _changes_between(track: DRTrack, a: int, b: int) -> int:
@@ -167,7 +183,7 @@ def _changes_between(track: DRTrack, a: int, b: int) -> int:
 def _carried_text(what: str, t: int, noon: int, track: DRTrack, *, timed: bool = False) -> str:
     """How the noon was found: ``what`` at its time (``timed``: ``what`` names its time already), and carried to
     noon along the DR where it was not at noon."""
-    what = what if timed else f"{what} at {_hhmm(t)} UTC"
+    what = what if timed else f"{what} at {_utc_words(t, noon)}"
     if abs(noon - t) < 30 * NS_PER_SECOND:
         return what
     changes = _changes_between(track, t, noon)
@@ -215,8 +231,8 @@ def _run_up(track: DRTrack, noon: int, lines: list[dict], ships: ShipsSights, ve
     earliest = min(c["utc_ns"] for c in chosen)
     sigma = float(np.hypot(LINE_SIGMA_NM / np.sqrt(len(chosen) / 2.0), _dr_sigma_nm(track, earliest, noon)))
     several = f" ({len(chosen)} lines of the watch's rounds)" if len(chosen) > 2 else ""
-    text = (f"forenoon Sun line at {_hhmm(sun['utc_ns'])} UTC run up to the latitude by {latitude['method']} at "
-            f"{_hhmm(latitude['utc_ns'])} UTC: a running fix at noon, the lines crossing at {cut:.0f}°{several}")
+    text = (f"forenoon Sun line at {_utc_words(sun['utc_ns'], noon)} run up to the latitude by {latitude['method']} "
+            f"at {_utc_words(latitude['utc_ns'], noon)}: a running fix at noon, the lines crossing at {cut:.0f}°{several}")
     return lat, lon, text, True, sigma
 
 
@@ -412,7 +428,10 @@ def noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict], lines:
                    (entries["entry"] != "destination").any() else first))
     # a noon within the hour after the log's last row is the day's work of that morning (its fix run up to noon)
     log_end, last = last, last + int(NOON_WINDOW_HOURS * NS_PER_HOUR)
-    clocks, how = vessel_clocks(entries, track, first, last)
+    sights = reduced[reduced["vessel"].to_numpy(dtype=object) == vessel] if len(reduced) else reduced
+    stated = stated_zones(entries, sights)
+    clocks, how, left = vessel_clocks(entries, track, first, last, stated)
+    kept_as_stated = how.startswith(STATED_WORDS)
     label = vessel or "the ship"
     rejected = getattr(voyage, "rejected", None)
     if how.startswith("no clocks entry") and rejected is not None and len(rejected):
@@ -422,7 +441,14 @@ def noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict], lines:
             how = (f"no clocks entry read ({rows} refused: see its reason), so " + how[len("no clocks entry: "):]
                    if how.startswith("no clocks entry: ") else how)
     notes = [f"{label}: ship's time: {how}"]
+    if kept_as_stated:
+        notes += [f"{label}: {text}" for text in zone_disagreements(stated, track)]
+    elif how.startswith("the clocks as entered"):
+        notes += [f"{label}: {text}" for text in clock_disagreements(stated, clocks)]
     noon, day, zone = ship_noons(clocks, first, last)
+    uncertain = uncertain_noons(left, noon, day)
+    notes += [f"{label}: noon of {str(np.datetime64(int(day[k]), 'ns').astype('datetime64[D]'))}: {text}"
+              for k, text in uncertain.items()]
     if not noon.size:
         start, end = clocks.ship_time_ns([first, log_end])
         if log_end - first < NS_PER_MINUTE:
@@ -455,7 +481,7 @@ def noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict], lines:
                "noon_from": found[k][2] + _current_words(found[k][2], unallowed, int(noon[k])), "run_nm": np.nan, "course_made_good_deg": np.nan,
                "speed_made_good_kn": np.nan, "through_water_nm": np.nan, "hours": np.nan,
                "current_set_deg": np.nan, "current_set_95_deg": np.nan, "current_drift_kn": np.nan, "current_95_kn": np.nan, "current_note": "", "to": "", "to_go_nm": np.nan,
-               "eta_utc": "", "eta_ship_time": "", "eta_basis": "", "clock_changes": _clock_words(clocks, previous, int(noon[k]), k, zone[k]),
+               "eta_utc": "", "eta_ship_time": "", "eta_basis": "", "clock_changes": "; ".join(filter(None, [uncertain.get(k, ""), _clock_words(clocks, previous, int(noon[k]), k, zone[k])])),
                "fixes_that_day": count, "lat_deg": float(lat[k]), "lon_deg": float(lon[k])}
         if k:
             row.update(_days_run_columns(run, through, water_n, water_e, k, found))

@@ -482,15 +482,21 @@ def estimated_positions(voyage, ships: ShipsSights, *, exercises: bool = False) 
     # a single line that is a latitude (meridian, ex-meridian, Polaris) is named so: the noon EP of a meridian
     # altitude is the trade's noon latitude with the DR's longitude (common practice)
     latitudes = latitude_checks(reduced) if len(reduced) else None
-    method = (dict(zip(latitudes["index"].astype(int).tolist(), latitudes["method"].tolist()))
-              if latitudes is not None and len(latitudes) else {})
+    trusted = latitudes[latitudes["flag"] == ""] if latitudes is not None and len(latitudes) else None
+    method = (dict(zip(trusted["index"].astype(int).tolist(), trusted["method"].tolist()))
+              if trusted is not None and len(trusted) else {})
+    # an ex-meridian latitude that cannot be trusted: its line is kept, the reason goes with the position
+    refused = ({int(k): f"the {m} latitude {format_angle(float(a), 'lat')} {f}" for k, m, a, f in zip(
+        latitudes["index"], latitudes["method"], latitudes["lat_deg"], latitudes["flag"]) if f}
+        if latitudes is not None and len(latitudes) else {})
     for group in voyage.groups:
         if (group.fix is not None and group.fix.is_fix) or ships.is_ship(group.name) == exercises:
             continue
         usable = group.rows[status[group.rows] != SightStatus.ERROR]
         # the sights' own warnings go with the position built on them
-        note = "; ".join(f"row {reduced['row'].iat[k]}: {messages[k]}" for k in usable.tolist()
-                         if status[k] == SightStatus.WARNING and messages[k])
+        note = "; ".join([f"row {reduced['row'].iat[k]}: {messages[k]}" for k in usable.tolist()
+                          if status[k] == SightStatus.WARNING and messages[k]]
+                         + [f"row {reduced['row'].iat[k]}: {refused[k]}" for k in usable.tolist() if k in refused])
         rows = [int(reduced["row"].iat[k]) for k in usable.tolist()]
         if group.fix is not None and not group.fix.is_fix:
             fix = group.fix
@@ -656,8 +662,11 @@ def track_points(voyage, vessel: str, track: DRTrack) -> list[dict]:
     there closes on the DR carried to it."""
     reduced = voyage.reduced
     mine = (reduced["vessel"].to_numpy(dtype=object) == vessel) if len(reduced) else np.zeros(0, dtype=bool)
+    entries = vessel_entries(voyage, vessel)
+    logged = entries[entries["entry"] != "destination"] if len(entries) else entries
+    # to the log's last row, a sight's or an entry's (a log of entries alone is a passage too)
     last = int(max(utc64(reduced["sight_utc"][mine]).astype(np.int64).max() if mine.any() else 0,
-                   track.known_ns[-1]))
+                   utc64(logged["utc"]).astype(np.int64).max() if len(logged) else 0, track.known_ns[-1]))
     first = int(track.known_ns[0])
     step = int(TRACK_STEP_HOURS * NS_PER_HOUR)
     hourly = np.arange(first, last + 1, step, dtype=np.int64)

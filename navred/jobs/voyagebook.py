@@ -223,7 +223,7 @@ DAYS_BLANK = (
      "DR's current drift (kn)": _NO_CURRENT_IN_DR, "unaccounted set (deg)": _NO_CURRENT_IN_DR,
      "unaccounted drift (kn)": _NO_CURRENT_IN_DR},
     {"note": "none"},
-    {"ex-meridian limit (min)": "none: meridian or Polaris", "fix group": "none",
+    {"ex-meridian limit (min)": "none: meridian or Polaris", "fix group": "none", "flag": "none",
      "role": "not given"},
     {},
     {column: "not entered" for column in ("course (deg)", "speed (kn)", "set (deg)", "drift (kn)",
@@ -264,7 +264,8 @@ def _write_days_sheet(tables: TableWriter, sheet, days, pictures: Pictures) -> N
                "rest (the gap from the DR kept to the fix), whose sum is the current experienced; "
                "found only over 2 h or more, to ±1.5 kn or better, and never beyond 8 kn", _nil_sets(days.set_drift)),
               ("Estimated positions from a single line of the ship's", days.estimated),
-              ("Latitudes by meridian altitude, ex-meridian (within its limit) and Polaris", days.latitudes),
+              ("Latitudes by meridian altitude, ex-meridian (within its limit) and Polaris; an ex-meridian latitude "
+               "that cannot be trusted is flagged, with the reason, and not used", days.latitudes),
               ("Exercises against the ship's position (they never restart her DR)", days.exercises),
               ("The DR's entries and their working (a compass course made true, a leeway, a speed from the log, the "
                "clocks)", days.entries)]
@@ -280,7 +281,7 @@ def _write_days_sheet(tables: TableWriter, sheet, days, pictures: Pictures) -> N
         line += 1
         if len(frame):
             write_table_sheet(tables, sheet, with_reasons(labelled(frame), reasons, ()), first_row=line,
-                              wide={"noon from": 40, "from": 30, "note": 60})
+                              wide={"noon from": 40, "from": 30, "note": 60, "flag": 60})
             line += len(frame)
         else:
             sheet.cell(row=line + 1, column=1, value="none")

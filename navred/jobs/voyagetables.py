@@ -154,7 +154,8 @@ def _with_latitudes(table: pd.DataFrame, r: pd.DataFrame) -> pd.DataFrame:
     where = {label: k for k, label in enumerate(labels.tolist())}
     for row in checks.itertuples():
         method = {"meridian": "meridian altitude"}.get(str(row.method), str(row.method))
-        texts[where[row.row]] = f"{format_angle(float(row.lat_deg), 'lat')} ({method})"
+        texts[where[row.row]] = f"{format_angle(float(row.lat_deg), 'lat')} ({method})" + (
+            f" {row.flag}" if getattr(row, "flag", "") else "")
     table.insert(table.columns.get_loc("Hc (° ′)"), "latitude (° ′)", texts)
     return table
 

@@ -166,7 +166,7 @@ def stretches(flagged: np.ndarray, *keys: np.ndarray) -> list[tuple[int, int]]:
 
 
 def zone_disagreements(stated: StatedZones, track: DRTrack) -> list[str]:
-    """Where the log's ZD is not the nautical zone of the DR's longitude at the row's time (ZD = −round(λ/15°);
+    """Where the log's ZD is not the nautical zone of the DR's longitude at the row's time (navred.reckoning.zone_description_h;
     ±12 alike within 7.5° of 180°: common practice), one sentence per stretch of such rows."""
     if not stated.utc_ns.size:
         return []

@@ -2,8 +2,8 @@
 
 σ is estimated from the residuals with no floor (with a run between the sights, by the restricted
 likelihood that weighs out the DR error's share, :func:`sight_variance`); the ellipse is scaled by
-√(2 F(2, ν)), ν an effective number (:func:`effective_dof`) when the DR's error over the run is part
-of it; the blunder test is the largest externally studentized residual against Student's t with
+√(2 F(2, ν)), ν the redundant sights, where the residuals alone judge σ, and by chi-square(2) on a σ taken as
+at least the a priori 1′ where the DR's error over the run has a say in them (:func:`ellipse_sigma`); the blunder test is the largest externally studentized residual against Student's t with
 Bonferroni's correction (:func:`blunder_test`). Every quantile comes from :mod:`navred.stats`.
 """
 
@@ -485,25 +485,6 @@ class SightVariance:
     weight: np.ndarray
 
 
-def effective_dof(dof: ArrayLike, sigma2: ArrayLike, trace_p: ArrayLike, trace_k: ArrayLike,
-                  information: ArrayLike) -> np.ndarray:
-    """The degrees of freedom of a position variance σ̂²·P + K whose sight part is estimated (with the
-    given Fisher information of σ̂²) and whose DR part K is known: Satterthwaite's approximation,
-    ν_eff = 2 V² / Var V̂ with V = σ̂² tr P + tr K and Var V̂ = tr(P)² / information (F. E. Satterthwaite,
-    "An approximate distribution of estimates of variance components", Biometrics Bulletin 2(6), 1946;
-    from memory). With no DR error this is ν exactly, and the ellipse is the exact F(2, ν) one.
-    """
-    nu = np.asarray(dof, dtype=float)
-    s2 = np.asarray(sigma2, dtype=float)
-    trace_p = np.asarray(trace_p, dtype=float)
-    trace_k = np.asarray(trace_k, dtype=float)
-    information = np.asarray(information, dtype=float)
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        out = 2.0 * (s2 * trace_p + trace_k) ** 2 * information / trace_p**2
-    plain = trace_k <= 0
-    return np.where(plain, nu, np.where(np.isfinite(out), np.maximum(out, 1.0), np.inf))
-
-
 def blunder_test(residual, leverage, use, dof, sigma, root_w=None):
     """The blunder test of every sight of a batch of groups (groups, sights): flags, gross errors, clear
     blunders (flagged at BLUNDER_CLEAR_ALPHA too), and the smallest blunder the test finds about half the time
@@ -643,4 +624,4 @@ __all__ = ["A_PRIORI_SIGMA_ARCMIN", "WEAK_CHECK_ARCMIN", "DR_ERROR_KN", "DR_ERRO
            "GROSS_ARCMIN", "MAX_SIGHTS_SEARCHED", "CONFIDENCE", "WEAK_CROSSING_DEG", "DR_ALONE_SCALE", "SWAMPED_WEIGHT", "ELLIPSE_COVERS",
            "sigma_source", "error_ellipse",
            "azimuth_spread_deg", "azimuth_spread_many", "run_error_covariance", "plural", "sight_variance", "SightVariance",
-           "effective_dof", "ellipse_sigma", "JUDGED_WEIGHT", "blunder_test", "blunder_note", "ellipse_note", "quantile_name"]
+           "ellipse_sigma", "JUDGED_WEIGHT", "blunder_test", "blunder_note", "ellipse_note", "quantile_name"]

@@ -296,6 +296,7 @@ def _fix_results(core: CoreFixes, st: dict[str, np.ndarray], k: int) -> Callable
             ellipse_orientation_deg=numbers["orientation"][j], residual_arcmin=EMPTY_ROWS, outlier=EMPTY_ROWS,
             warnings=warnings_, used=EMPTY_ROWS, n_sights=n, covariance_nm2=position_cov[j],
             confidence_scale=numbers["scale"][j], sigma_source=source, iterations=steps_l[j],
+            ellipse_sigma_arcmin=(A_PRIORI_SIGMA_ARCMIN if lines else numbers["ellipse_sigma"][j]),
             quantile=quantile_name(numbers["nu"][j], d), spread_deg=spread, dr_error_included=run_included,
             redundant=d, ellipse_note=(
                 "the 95 % ellipse of the stated σ of every line (chi-square(2)): each line weighed by its own σ"
@@ -394,7 +395,8 @@ def solve_line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0
             ellipse_semi_minor_nm=float(half_width[j]), ellipse_orientation_deg=float(along[j]),
             residual_arcmin=residual[j], outlier=outlier[j], warnings=[message], used=u[j], n_sights=int(n[j]),
             covariance_nm2=np.array([[variance[j], 0.0], [0.0, np.inf]]), confidence_scale=float(t[j]),
-            sigma_source=source, iterations=0, quantile=quantile, kind=FixKind.LATITUDE if meridian[j] else FixKind.LINE,
+            sigma_source=source, iterations=0, quantile=quantile,
+            ellipse_sigma_arcmin=float(np.sqrt(band_sigma2[j])), kind=FixKind.LATITUDE if meridian[j] else FixKind.LINE,
             spread_deg=float(spread0[rows[j]]), line_bearing_deg=float(along[j]), line_offset_nm=float(offset[j]),
             line_toward_deg=float(toward[j]), dr_error_included=bool(run_included[j]), redundant=d, not_fix_reason=why,
             blunder_note=blunder_note(int(n[j]), d, float(detectable[j]), 1),

@@ -99,10 +99,13 @@ class FixResult:
     confidence_scale: float
     sigma_source: str
     iterations: int
-    #: the quantile the ellipse is scaled by: 'F(2, ν)' for a σ estimated from ν redundant sights (ν an
-    #: effective number when the DR's known error over the run is part of the ellipse), 'chi-square(2)' for
-    #: a σ assumed (two sights), 't(ν)' for a line's band
+    #: the quantile the ellipse is scaled by: 'F(2, ν)' for a σ estimated from ν redundant sights (ν their real
+    #: count), 'chi-square(2)' for a σ assumed (two sights) or taken as known where the DR's error over the run has
+    #: a say in the residuals (:func:`navred.fixstats.ellipse_sigma`), 't(ν)' or 'normal' for a line's band
     quantile: str = ""
+    #: the sights' σ (arcminutes) the ellipse or band is built on: ``sigma_arcmin``, or where σ is taken as known,
+    #: the larger of it and the a priori 1′ (NaN: not worked)
+    ellipse_sigma_arcmin: float = float("nan")
     kind: FixKind = FixKind.FIX
     spread_deg: float = float("nan")
     line_bearing_deg: float | None = None

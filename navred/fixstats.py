@@ -78,7 +78,7 @@ DR_ALONE_SCALE = float(np.sqrt(chi_square_2_quantile(CONFIDENCE)))
 
 #: What every 95 % ellipse of navred covers, and what it cannot.
 ELLIPSE_COVERS = ("covers the sights' random error and the DR's error over the run as allowed for (an unknown "
-                  f"current and leeway of {DR_ERROR_KN} kn and {DR_ERROR_FRACTION:.0%} of the miles run, unless set otherwise: a stronger current, or a "
+                  f"current and leeway of {DR_ERROR_KN} kn and {DR_ERROR_FRACTION * 100:.0f} % of the miles run, unless set otherwise: a stronger current, or a "
                   "wrong course or speed, is not covered); it cannot cover an error common to every sight (the clock: 1 s of time is 0.25′ of longitude; a wrong height of eye or "
                   "index error; abnormal dip), nor a misnamed body")
 
@@ -579,7 +579,8 @@ def sigma_source(d: int, weight: float, run_included: bool, ellipse_sigma_arcmin
     if weight >= JUDGED_WEIGHT:
         return (f"from the residuals, {d} redundant sight{plural(d)}"
                 + (", the DR's error over the run taken out" if run_included else ""))
-    taken = (f"; the ellipse takes {ellipse_sigma_arcmin:.1f}′ (at least {A_PRIORI_SIGMA_ARCMIN}′)"
+    taken = (f"; the ellipse takes {ellipse_sigma_arcmin:.1f}′ (never less than {A_PRIORI_SIGMA_ARCMIN}′, a good sight "
+             "at sea)"
              if ellipse_sigma_arcmin == ellipse_sigma_arcmin and weight >= SWAMPED_WEIGHT else "")
     if weight < SWAMPED_WEIGHT:
         return (f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight, a good sight at sea: the DR's error over the run swamps "

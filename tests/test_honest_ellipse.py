@@ -83,6 +83,8 @@ def check_named_honestly(results):
         else:
             assert r.quantile == "chi-square(2)", r.quantile
             assert "taken as" in r.ellipse_note or "assumed" in r.ellipse_note, r.ellipse_note
+            # the σ it is built on is said, and is never below a good sight's 1′ nor the residuals' own
+            assert r.ellipse_sigma_arcmin >= max(1.0, r.sigma_arcmin) - 1e-12, (r.ellipse_sigma_arcmin, r.sigma_arcmin)
 
 
 def check_covers_what_it_says(results, sigma, case):

@@ -13,7 +13,7 @@ import numpy as np
 from .angles import format_angle, wrap_180, wrap_360
 from .constants import ARCMIN_PER_DEG, NS_PER_HOUR
 from .fixkinds import WEAK_CROSSING_DEG, solve_fix_part, solve_line_part
-from .fixresult import LINE_ONLY_DEG, PARALLEL_LINES, FixResult
+from .fixresult import LINE_ONLY_DEG, PARALLEL_LINES, FixResult, run_words
 from .fixstats import azimuth_spread_many
 from .latitudes import latitude_from_noon_curve
 from .leastsquares import CONVERGED_NM, at_sights, run_to_fix_nm, sight_track_ns
@@ -356,6 +356,9 @@ def _fill_results(s: SightRows, lay: _Layout, parts: dict, columns: dict, motion
             result.utc = lay.fix_time[wi]
             result.dr_lat_deg, result.dr_lon_deg = lat0_list[wi], lon0_list[wi]
             result.run_from = lay.run_from[wi] if key != 4 else RunFrom.SOLVED
+            sights = lay.index[wi][lay.present[wi]]
+            result.run_text = run_words(result.run_from, s.course[sights], s.speed[sights], s.set_deg[sights],
+                                        s.drift_kn[sights])
             if result.kind == FixKind.LATITUDE and lay.n_used[wi] >= 3:
                 used_here = lay.use[wi]
                 _noon_curve(result, lay.hours[wi][used_here], lay.ho[wi][used_here], lay.dec[wi][used_here])

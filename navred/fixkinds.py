@@ -26,8 +26,8 @@ from .fixstats import (
     azimuth_spread_many,
     blunder_note,
     blunder_test,
-    effective_dof,
     ellipse_note,
+    ellipse_sigma,
     error_ellipse,
     quantile_name,
     run_error_covariance,
@@ -125,9 +125,9 @@ def solve_fix_part(k, rows, gha, dec, ho, use, present, track, lat0, lon0, veloc
 
     σ is estimated from the residuals with no floor (Σr²/ν; with a run, the restricted likelihood that
     weighs out the DR error's share, :func:`sight_variance`); the position's covariance is
-    A(σ²I + C)Aᵀ and the 95 % ellipse is scaled by √(2 F(2, ν)), exact for Gaussian sight errors when
-    there is no run, ν an effective number (:func:`effective_dof`) when the DR's error over the run is
-    part of it.
+    A(σ²I + C)Aᵀ and the 95 % ellipse is scaled by √(2 F(2, ν)), ν the redundant sights, where the residuals
+    alone judge σ (exact for Gaussian sight errors), and by chi-square(2) on σ taken as known (the larger of the
+    residuals' and the a priori 1′) where the DR's error over the run has a say in them (:func:`ellipse_sigma`).
 
     A mixed fix (``sigma``, each cell's stated σ in nautical miles where it has one: a bearing or range of a
     charted object, :mod:`navred.landmarks`) weighs every line by its own σ, a sight's taken as the a priori
@@ -229,13 +229,12 @@ def _fix_statistics(core: CoreFixes, u: np.ndarray, sub_track, k: int, dr_error_
     identity = np.eye(width)[None] * u[:, :, None]  # I on the used sights
     projector = identity - jac @ gain  # M = I − H on the used sights
     variance = sight_variance(residual, projector, run_cov, dof)
-    sigma2, information = variance.working, variance.information
+    sigma2 = variance.working
     sigma = np.where(dof >= 1, np.sqrt(sigma2), A_PRIORI_SIGMA_ARCMIN)
+    run_included = run_cov.any(axis=(1, 2))
+    ellipse_sigma2, nu, taken = ellipse_sigma(sigma2, variance.weight, dof, run_included)
     known = gain @ run_cov @ gain_t
-    covariance = sigma[:, None, None] ** 2 * (gain @ identity @ gain_t) + known
-    nu = effective_dof(dof, sigma2, np.trace(unit[:, :2, :2], axis1=1, axis2=2),
-                       np.trace(known[:, :2, :2], axis1=1, axis2=2), information)
-    nu = np.where(dof >= 1, nu, np.inf)
+    covariance = ellipse_sigma2[:, None, None] * (gain @ identity @ gain_t) + known
     scale = np.sqrt(2.0 * f_2_quantile(CONFIDENCE, nu))
     major, minor, orientation = error_ellipse(covariance[:, :2, :2], scale)
     leverage = np.einsum("fsi,fij,fsj->fs", jac, unit, jac)
@@ -243,8 +242,9 @@ def _fix_statistics(core: CoreFixes, u: np.ndarray, sub_track, k: int, dr_error_
     speed_sigma = np.sqrt(np.trace(covariance[:, 2:, 2:], axis1=1, axis2=2)) if motion else np.zeros(u.shape[0])
     return {"n": n, "dof": dof, "sigma": sigma, "position_cov": covariance[:, :2, :2], "scale": scale, "major": major,
             "minor": minor, "orientation": orientation, "spread": azimuth_spread_many(core.zn_deg, u), "nu": nu,
-            "detectable": detectable, "speed_sigma": speed_sigma, "run_included": run_cov.any(axis=(1, 2)),
-            "outlier": outlier, "gross": gross, "clear": clear, "weight": variance.weight}
+            "detectable": detectable, "speed_sigma": speed_sigma, "run_included": run_included,
+            "outlier": outlier, "gross": gross, "clear": clear, "weight": variance.weight, "taken": taken,
+            "ellipse_sigma": np.sqrt(ellipse_sigma2)}
 
 
 def _fix_results(core: CoreFixes, st: dict[str, np.ndarray], k: int) -> Callable[[int], FixResult | None]:
@@ -254,7 +254,7 @@ def _fix_results(core: CoreFixes, st: dict[str, np.ndarray], k: int) -> Callable
     lat, lon = core.lat_deg.tolist(), core.lon_deg.tolist()
     numbers = {name: st[name].tolist() for name in ("sigma", "major", "minor", "orientation", "scale", "spread",
                                                      "speed_sigma", "nu", "detectable", "dof", "n", "run_included",
-                                                     "weight", "weighted")}
+                                                     "weight", "weighted", "ellipse_sigma")}
     steps_l, converged_l, singular_l = (core.iterations_each.tolist(), core.converged.tolist(),
                                         core.singular.tolist())
     position_cov = st["position_cov"]
@@ -275,7 +275,7 @@ def _fix_results(core: CoreFixes, st: dict[str, np.ndarray], k: int) -> Callable
                                  "are right): a sight or a mark's line is wrong, or the σ are too small; the ellipse "
                                  "rests on the stated σ")
         elif d >= 1:
-            source = sigma_source(d, weight, run_included)
+            source = sigma_source(d, weight, run_included, numbers["ellipse_sigma"][j])
         else:
             source = f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight, no redundancy"
             warnings_.append(f"{n} sights and {k} unknowns: no redundancy, so the ellipse rests on an "
@@ -296,10 +296,12 @@ def _fix_results(core: CoreFixes, st: dict[str, np.ndarray], k: int) -> Callable
             ellipse_orientation_deg=numbers["orientation"][j], residual_arcmin=EMPTY_ROWS, outlier=EMPTY_ROWS,
             warnings=warnings_, used=EMPTY_ROWS, n_sights=n, covariance_nm2=position_cov[j],
             confidence_scale=numbers["scale"][j], sigma_source=source, iterations=steps_l[j],
+            ellipse_sigma_arcmin=(A_PRIORI_SIGMA_ARCMIN if lines else numbers["ellipse_sigma"][j]),
             quantile=quantile_name(numbers["nu"][j], d), spread_deg=spread, dr_error_included=run_included,
             redundant=d, ellipse_note=(
                 "the 95 % ellipse of the stated σ of every line (chi-square(2)): each line weighed by its own σ"
-                if lines else ellipse_note(n, k, d, numbers["nu"][j], weight, run_included)),
+                if lines else ellipse_note(n, k, d, numbers["nu"][j], weight, run_included,
+                                           numbers["ellipse_sigma"][j])),
             blunder_note=blunder_note(n, d, detectable, k),
             detectable_blunder_arcmin=detectable)
         if motion:
@@ -356,12 +358,13 @@ def solve_line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0
     gain = cosines / total[:, None]
     projector = np.eye(u.shape[1])[None] * u[:, :, None] - cosines[:, :, None] * gain[:, None, :]
     sights_variance = sight_variance(r, projector, run_cov, dof)
-    sigma2, information = sights_variance.working, sights_variance.information
+    sigma2 = sights_variance.working
     sigma = np.where(dof >= 1, np.sqrt(sigma2), A_PRIORI_SIGMA_ARCMIN)
+    run_included = run_cov.any(axis=(1, 2))
+    band_sigma2, nu, taken = ellipse_sigma(sigma2, sights_variance.weight, dof, run_included)
     known = np.einsum("fi,fij,fj->f", gain, run_cov, gain)
     unit = np.sum(gain**2, axis=1)
-    variance = sigma**2 * unit + known
-    nu = np.where(dof >= 1, effective_dof(dof, sigma2, unit, known, information), np.inf)
+    variance = band_sigma2 * unit + known
     t = np.where(np.isfinite(nu), student_t_quantile(0.975, np.where(np.isfinite(nu), nu, 1.0)),
                  float(student_t_quantile(0.975, np.inf)))
     half_width = t * np.sqrt(variance)
@@ -371,11 +374,11 @@ def solve_line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0
     along = wrap_axial(toward + 90.0)
     outlier, gross, clear, detectable = blunder_test(r, cosines * gain, u, dof, sigma, root_w)
     weighted = np.any(u & (w != 1.0), axis=1)
-    run_included = run_cov.any(axis=(1, 2))
 
     def result(j: int) -> FixResult:
         d = int(dof[j])
-        source = (sigma_source(d, float(sights_variance.weight[j]), bool(run_included[j])) if d >= 1
+        source = (sigma_source(d, float(sights_variance.weight[j]), bool(run_included[j]),
+                               float(np.sqrt(band_sigma2[j]))) if d >= 1
                   else f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight") + (WEIGHTED_WORDS if weighted[j] else "")
         side = "toward" if offset[j] >= 0 else "away from"
         what = "a latitude (the sights are on the meridian)" if meridian[j] else "a line of position"
@@ -392,7 +395,8 @@ def solve_line_part(rows, gha, dec, ho, use, present, track, lat0, lon0, spread0
             ellipse_semi_minor_nm=float(half_width[j]), ellipse_orientation_deg=float(along[j]),
             residual_arcmin=residual[j], outlier=outlier[j], warnings=[message], used=u[j], n_sights=int(n[j]),
             covariance_nm2=np.array([[variance[j], 0.0], [0.0, np.inf]]), confidence_scale=float(t[j]),
-            sigma_source=source, iterations=0, quantile=quantile, kind=FixKind.LATITUDE if meridian[j] else FixKind.LINE,
+            sigma_source=source, iterations=0, quantile=quantile,
+            ellipse_sigma_arcmin=float(np.sqrt(band_sigma2[j])), kind=FixKind.LATITUDE if meridian[j] else FixKind.LINE,
             spread_deg=float(spread0[rows[j]]), line_bearing_deg=float(along[j]), line_offset_nm=float(offset[j]),
             line_toward_deg=float(toward[j]), dr_error_included=bool(run_included[j]), redundant=d, not_fix_reason=why,
             blunder_note=blunder_note(int(n[j]), d, float(detectable[j]), 1),

@@ -99,10 +99,13 @@ class FixResult:
     confidence_scale: float
     sigma_source: str
     iterations: int
-    #: the quantile the ellipse is scaled by: 'F(2, ν)' for a σ estimated from ν redundant sights (ν an
-    #: effective number when the DR's known error over the run is part of the ellipse), 'chi-square(2)' for
-    #: a σ assumed (two sights), 't(ν)' for a line's band
+    #: the quantile the ellipse is scaled by: 'F(2, ν)' for a σ estimated from ν redundant sights (ν their real
+    #: count), 'chi-square(2)' for a σ assumed (two sights) or taken as known where the DR's error over the run has
+    #: a say in the residuals (:func:`navred.fixstats.ellipse_sigma`), 't(ν)' or 'normal' for a line's band
     quantile: str = ""
+    #: the sights' σ (arcminutes) the ellipse or band is built on: ``sigma_arcmin``, or where σ is taken as known,
+    #: the larger of it and the a priori 1′ (NaN: not worked)
+    ellipse_sigma_arcmin: float = float("nan")
     kind: FixKind = FixKind.FIX
     spread_deg: float = float("nan")
     line_bearing_deg: float | None = None
@@ -154,6 +157,9 @@ class FixResult:
     #: how the run between the sights was found: 'course and speed', 'course, speed and current', 'the
     #: rows' own DRs', or 'none' (sights taken together, or a ship taken as stopped)
     run_from: RunFrom = RunFrom.NONE
+    #: the run between the sights in words, how it was found and the values it was carried by: 'course and
+    #: speed, 215° at 6.5 kn', 'course and speed, stopped (0 kn)' (:func:`run_words`; '' where there is no run)
+    run_text: str = ""
     #: the fix's distance from the DR at the fix time (nm)
     dr_distance_nm: float = float("nan")
     #: the DR's age at the fix time (hours; UNKNOWN_DR_AGE_H where the log does not date it), whether the log
@@ -255,4 +261,42 @@ class GroupFixes:
 PARALLEL_LINES = "the lines of position are parallel (all azimuths alike or opposite): no fix"
 
 
-__all__ = ["angle_of_cut_deg", "angle_words", "LINE_ONLY_DEG", "FIX_ELLIPSE_LIMIT_NM", "LINE_ONLY_RATIO", "EMPTY_ROWS", "ChartCheck", "FixResult", "GroupFixes", "PARALLEL_LINES"]
+def run_words(run_from: RunFrom, course_deg: np.ndarray, speed_kn: np.ndarray, set_deg: np.ndarray,
+              drift_kn: np.ndarray) -> str:
+    """The run between a fix's sights in words, as a navigator reads it: how it was found, then the course and
+    speed each sight gives (in its order, a change written once: '215° at 6.5 kn, then stopped (0 kn)') and the
+    current. A speed of 0 (or none given, taken as 0) is 'stopped (0 kn)', never left blank. '' where there
+    is no run (``RunFrom.NONE``)."""
+    if run_from == RunFrom.NONE:
+        return ""
+    words = str(run_from)
+    if run_from not in (RunFrom.COURSE_AND_SPEED, RunFrom.COURSE_SPEED_AND_CURRENT, RunFrom.CURRENT):
+        return words
+
+    def changes(texts: list[str]) -> str:
+        kept = [t for k, t in enumerate(texts) if k == 0 or t != texts[k - 1]]
+        return ", then ".join(kept)
+
+    said = []
+    if run_from != RunFrom.CURRENT:
+        legs = []
+        for course, speed in zip(np.asarray(course_deg, dtype=float).tolist(),
+                                 np.asarray(speed_kn, dtype=float).tolist()):
+            if not math.isfinite(speed):
+                legs.append("stopped (no speed given: 0 kn)")
+            elif speed <= 0.0:
+                legs.append("stopped (0 kn)")
+            else:
+                legs.append(f"{course:03.0f}° at {speed:.1f} kn" if math.isfinite(course) else
+                            f"{speed:.1f} kn, no course given")
+        if legs:
+            said.append(changes(legs))
+    currents = [f"{a:03.0f}° {b:.1f} kn" if b > 0 else "none"
+                for a, b in zip(np.asarray(set_deg, dtype=float).tolist(), np.asarray(drift_kn, dtype=float).tolist())
+                if math.isfinite(a) and math.isfinite(b)]
+    if run_from != RunFrom.COURSE_AND_SPEED and any(c != "none" for c in currents):
+        said.append("current " + changes(currents))
+    return words + (", " + "; ".join(said) if said else "")
+
+
+__all__ = ["angle_of_cut_deg", "angle_words", "LINE_ONLY_DEG", "FIX_ELLIPSE_LIMIT_NM", "LINE_ONLY_RATIO", "EMPTY_ROWS", "ChartCheck", "FixResult", "GroupFixes", "PARALLEL_LINES", "run_words"]

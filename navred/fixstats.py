@@ -2,8 +2,8 @@
 
 σ is estimated from the residuals with no floor (with a run between the sights, by the restricted
 likelihood that weighs out the DR error's share, :func:`sight_variance`); the ellipse is scaled by
-√(2 F(2, ν)), ν an effective number (:func:`effective_dof`) when the DR's error over the run is part
-of it; the blunder test is the largest externally studentized residual against Student's t with
+√(2 F(2, ν)), ν the redundant sights, where the residuals alone judge σ, and by chi-square(2) on a σ taken as
+at least the a priori 1′ where the DR's error over the run has a say in them (:func:`ellipse_sigma`); the blunder test is the largest externally studentized residual against Student's t with
 Bonferroni's correction (:func:`blunder_test`). Every quantile comes from :mod:`navred.stats`.
 """
 
@@ -77,8 +77,9 @@ DR_ALONE_SCALE = float(np.sqrt(chi_square_2_quantile(CONFIDENCE)))
 
 
 #: What every 95 % ellipse of navred covers, and what it cannot.
-ELLIPSE_COVERS = ("covers the sights' random error and the DR's error over the run; it cannot cover an error "
-                  "common to every sight (the clock: 1 s of time is 0.25′ of longitude; a wrong height of eye or "
+ELLIPSE_COVERS = ("covers the sights' random error and the DR's error over the run as allowed for (an unknown "
+                  f"current and leeway of {DR_ERROR_KN} kn and {DR_ERROR_FRACTION * 100:.0f} % of the miles run, unless set otherwise: a stronger current, or a "
+                  "wrong course or speed, is not covered); it cannot cover an error common to every sight (the clock: 1 s of time is 0.25′ of longitude; a wrong height of eye or "
                   "index error; abnormal dip), nor a misnamed body")
 
 
@@ -439,6 +440,40 @@ def sight_variance(residual: np.ndarray, projector: np.ndarray, run_cov: np.ndar
     return SightVariance(sigma2, working, information, weight)
 
 
+#: The weight of the residuals in the sights' σ (:class:`SightVariance`) at or above which the residuals alone judge
+#: σ and the ellipse is the F(2, ν) one, ν the redundant sights (exact for Gaussian errors; the run's share, a few
+#: hundredths of the sights' at most, scaled alike). Below it the DR's error over the run has a say in the
+#: residuals, and the ellipse takes the sights' σ as known (:func:`ellipse_sigma`).
+JUDGED_WEIGHT = 0.995
+
+
+def ellipse_sigma(working_sigma2: ArrayLike, weight: ArrayLike, dof: ArrayLike,
+                  run_included: ArrayLike) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The sights' σ² the 95 % ellipse (or band) is built on, the degrees of freedom of its quantile, and where
+    that σ is taken rather than judged, per group.
+
+    Where the residuals alone judge σ (no run, or a run whose error the residuals do not feel: weight ≥
+    JUDGED_WEIGHT) the ellipse is σ̂² P scaled by F(2, ν), ν = n − k the redundant sights: the exact
+    statistic for Gaussian sight errors, whatever σ. Where the DR's error over the run has a say in the
+    residuals, they cannot tell the sights' error from the run's, and no count of degrees of freedom is honest
+    for their blend: the sights' σ is then taken as known, the larger of the residuals' estimate and
+    A_PRIORI_SIGMA_ARCMIN (a good sight at sea), and the whole ellipse, sights' share and run's share, is
+    scaled by chi-square(2) (ν infinite). It covers the truth 19 times in 20 when the sights are no worse than
+    that σ and the run no worse than the DR's error model (tests/test_honest_ellipse.py); it was F(2, ν) with
+    Satterthwaite's ν worked at the residuals' own σ̂², which a σ̂ near nil from one redundant sight made
+    194, and a running fix's ellipse 0.3 nm across (issue h30e). With no redundancy (ν ≤ 0) σ is the a priori
+    one and the quantile chi-square(2).
+    """
+    working = np.asarray(working_sigma2, dtype=float)
+    dof = np.asarray(dof)
+    taken = (np.asarray(run_included, dtype=bool) & (dof >= 1)
+             & (np.asarray(weight, dtype=float) < JUDGED_WEIGHT))
+    prior = A_PRIORI_SIGMA_ARCMIN**2
+    sigma2 = np.where(dof >= 1, np.where(taken, np.maximum(working, prior), working), prior)
+    nu = np.where((dof >= 1) & ~taken, dof.astype(float), np.inf)
+    return sigma2, nu, taken
+
+
 @dataclass(frozen=True)
 class SightVariance:
     """:func:`sight_variance`: per group, the residuals' own σ̂² (arcmin²), the σ² the ellipse is built on, its
@@ -448,25 +483,6 @@ class SightVariance:
     working: np.ndarray
     information: np.ndarray
     weight: np.ndarray
-
-
-def effective_dof(dof: ArrayLike, sigma2: ArrayLike, trace_p: ArrayLike, trace_k: ArrayLike,
-                  information: ArrayLike) -> np.ndarray:
-    """The degrees of freedom of a position variance σ̂²·P + K whose sight part is estimated (with the
-    given Fisher information of σ̂²) and whose DR part K is known: Satterthwaite's approximation,
-    ν_eff = 2 V² / Var V̂ with V = σ̂² tr P + tr K and Var V̂ = tr(P)² / information (F. E. Satterthwaite,
-    "An approximate distribution of estimates of variance components", Biometrics Bulletin 2(6), 1946;
-    from memory). With no DR error this is ν exactly, and the ellipse is the exact F(2, ν) one.
-    """
-    nu = np.asarray(dof, dtype=float)
-    s2 = np.asarray(sigma2, dtype=float)
-    trace_p = np.asarray(trace_p, dtype=float)
-    trace_k = np.asarray(trace_k, dtype=float)
-    information = np.asarray(information, dtype=float)
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        out = 2.0 * (s2 * trace_p + trace_k) ** 2 * information / trace_p**2
-    plain = trace_k <= 0
-    return np.where(plain, nu, np.where(np.isfinite(out), np.maximum(out, 1.0), np.inf))
 
 
 def blunder_test(residual, leverage, use, dof, sigma, root_w=None):
@@ -557,52 +573,46 @@ WEAK_CHECK_ARCMIN = 10.0
 SWAMPED_WEIGHT = 0.05
 
 
-def sigma_source(d: int, weight: float, run_included: bool) -> str:
-    """Where the sights' σ comes from, in words (``d`` ≥ 1 redundant sights, the residuals' ``weight`` in it)."""
-    if weight >= 0.995:
+def sigma_source(d: int, weight: float, run_included: bool, ellipse_sigma_arcmin: float = float("nan")) -> str:
+    """Where the sights' σ comes from, in words (``d`` ≥ 1 redundant sights, the residuals' ``weight`` in it), and
+    the σ the ellipse takes where it is taken rather than judged (:func:`ellipse_sigma`)."""
+    if weight >= JUDGED_WEIGHT:
         return (f"from the residuals, {d} redundant sight{plural(d)}"
                 + (", the DR's error over the run taken out" if run_included else ""))
+    taken = (f"; the ellipse takes {ellipse_sigma_arcmin:.1f}′ (never less than {A_PRIORI_SIGMA_ARCMIN}′, a good sight "
+             "at sea)"
+             if ellipse_sigma_arcmin == ellipse_sigma_arcmin and weight >= SWAMPED_WEIGHT else "")
     if weight < SWAMPED_WEIGHT:
         return (f"assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight, a good sight at sea: the DR's error over the run swamps "
                 f"the {d} redundant sight{plural(d)}, which cannot judge it")
     return (f"from the residuals ({d} redundant sight{plural(d)}, worth {weight * d:.1f} against the DR's error over "
-            f"the run) and an assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight for the rest")
+            f"the run) and an assumed {A_PRIORI_SIGMA_ARCMIN}′ per sight for the rest{taken}")
 
 
 def ellipse_note(n: int, k: int, d: int, nu: float = float("nan"), weight: float = 1.0,
-                 run_included: bool = False) -> str:
+                 run_included: bool = False, ellipse_sigma_arcmin: float = float("nan")) -> str:
     """What the ellipse's size means with few redundant sights, in words a navigator reads, for the quantile
-    actually used (F(2, ν), ν the effective number ``nu`` when the DR's error over the run is part of it)."""
+    actually used (:func:`ellipse_sigma`): F(2, ν), ν the redundant sights, where the residuals alone judge the
+    sights' error; chi-square(2) on a σ taken as known where the DR's error over the run has a say in them."""
     if d <= 0:
         return (f"{n} sights for {k} unknowns leave none to judge the sights by: the ellipse rests on an assumed "
                 f"{A_PRIORI_SIGMA_ARCMIN}′ per sight")
+    if run_included and weight < JUDGED_WEIGHT:
+        sigma = ellipse_sigma_arcmin if ellipse_sigma_arcmin == ellipse_sigma_arcmin else A_PRIORI_SIGMA_ARCMIN
+        worth = ("swamped by" if weight < SWAMPED_WEIGHT else f"worth {weight * d:.1f} against")
+        return (f"{n} sights for {k} unknowns leave {d} redundant sight{plural(d)}, {worth} the DR's error over the "
+                f"run: they cannot tell the sights' error from the run's, so the sights' error is taken as "
+                f"{sigma:.1f}′ (the larger of their own estimate and {A_PRIORI_SIGMA_ARCMIN}′, a good sight at sea) "
+                f"and the ellipse is scaled by {quantile_name(nu, d)} as for a known error: it holds the ship 19 "
+                f"times in 20 if the sights are no worse than {sigma:.1f}′ and the run no worse than the DR's error "
+                f"allowed for; worse sights, or a current or leeway beyond it, put her outside more often")
     if d > 3:
         return ""
-    if not run_included or not np.isfinite(nu):
-        nu = d
-    known = float(np.sqrt(chi_square_2_quantile(CONFIDENCE)))
-    ratio = float(np.sqrt(2.0 * f_2_quantile(CONFIDENCE, nu))) / known
-    if ratio < 1.05:  # the quantile is that of a known error
-        if weight < SWAMPED_WEIGHT:
-            return (f"the DR's error over the run swamps the {d} redundant sight{plural(d)}: they cannot judge the "
-                    f"sights' error, which is taken as {A_PRIORI_SIGMA_ARCMIN}′ (a good sight at sea; worse sights "
-                    f"make a larger ellipse than this), and the ellipse is scaled as for a known error "
-                    f"({quantile_name(nu, d)})")
-        if weight < 0.995:
-            return (f"{n} sights for {k} unknowns leave {d} redundant sight{plural(d)}, worth {weight * d:.1f} against "
-                    f"the DR's error over the run: the sights' error is judged partly from them and partly taken as "
-                    f"{A_PRIORI_SIGMA_ARCMIN}′ (a good sight at sea), and the ellipse is scaled as for a known error "
-                    f"({quantile_name(nu, d)})")
-        return ""
-    if not run_included or (weight >= 0.995 and abs(nu - d) < 0.05):
-        ratio, next_ratio = _scale_ratio(d)
-        return (f"{n} sights for {k} unknowns leave {d} redundant sight{plural(d)} to judge the sights' error by, so "
-                f"that error is known only roughly and the ellipse allows for it being larger than it looks: the "
-                f"sights' share of it is {ratio:.1f} times the size a known error would give; one more sight would "
-                f"make that {next_ratio:.1f} times")
-    return (f"{n} sights for {k} unknowns leave {d} redundant sight{plural(d)}, worth {weight * d:.1f} against the "
-            f"DR's error over the run, to judge the sights' error by, so that error is known only roughly: the "
-            f"ellipse, scaled by {quantile_name(nu, d)}, is {ratio:.1f} times the size a known error would give")
+    ratio, next_ratio = _scale_ratio(d)
+    return (f"{n} sights for {k} unknowns leave {d} redundant sight{plural(d)} to judge the sights' error by "
+            f"({quantile_name(nu, d)}), so that error is known only roughly and the ellipse allows for it being "
+            f"larger than it looks: the sights' share of it is {ratio:.1f} times the size a known error would give; "
+            f"one more sight would make that {next_ratio:.1f} times")
 
 
 def quantile_name(nu: float, d: int) -> str:
@@ -615,4 +625,4 @@ __all__ = ["A_PRIORI_SIGMA_ARCMIN", "WEAK_CHECK_ARCMIN", "DR_ERROR_KN", "DR_ERRO
            "GROSS_ARCMIN", "MAX_SIGHTS_SEARCHED", "CONFIDENCE", "WEAK_CROSSING_DEG", "DR_ALONE_SCALE", "SWAMPED_WEIGHT", "ELLIPSE_COVERS",
            "sigma_source", "error_ellipse",
            "azimuth_spread_deg", "azimuth_spread_many", "run_error_covariance", "plural", "sight_variance", "SightVariance",
-           "effective_dof", "blunder_test", "blunder_note", "ellipse_note", "quantile_name"]
+           "ellipse_sigma", "JUDGED_WEIGHT", "blunder_test", "blunder_note", "ellipse_note", "quantile_name"]

@@ -13,7 +13,7 @@ import numpy as np
 
 from ..angles import format_angle, wrap_360
 from ..fixresult import LINE_ONLY_DEG, angle_words
-from ..status import FixKind, RunFrom, SightStatus
+from ..status import FixKind, SightStatus
 
 if TYPE_CHECKING:  # pandas is imported by the formatters that need it: navred almanac stays quick
     import pandas as pd
@@ -498,32 +498,6 @@ def _check_lines(group) -> list[str]:
     return lines + [f"  warning: {text}" for text in fix.warnings]
 
 
-def _run_values(fix, reduced: pd.DataFrame, rows) -> str:
-    """The course, speed and current the run between a fix's sights was carried by, as the rows give them
-    (' 045° at 12.0 kn; current 270° 0.8 kn'), or '' where the run came from elsewhere."""
-    if fix.run_from not in (RunFrom.COURSE_AND_SPEED, RunFrom.COURSE_SPEED_AND_CURRENT, RunFrom.CURRENT):
-        return ""
-    part = reduced.iloc[list(rows)]
-
-    def pairs(first: str, second: str, unit: str) -> list[str]:
-        if first not in part.columns or second not in part.columns:
-            return []
-        a, b = part[first].to_numpy(dtype=float), part[second].to_numpy(dtype=float)
-        keep = np.isfinite(a) & np.isfinite(b) & (b > 0)
-        return list(dict.fromkeys(f"{x:03.0f}° {'at ' if unit == 'speed' else ''}{y:.1f} kn"
-                                  for x, y in zip(a[keep].tolist(), b[keep].tolist())))
-
-    said = []
-    if fix.run_from != RunFrom.CURRENT:
-        runs = pairs("course_deg", "speed_kn", "speed")
-        if runs:
-            said.append(", then ".join(runs))
-    currents = pairs("current_set_deg", "current_drift_kn", "current")
-    if currents and fix.run_from != RunFrom.COURSE_AND_SPEED:
-        said.append("current " + ", then ".join(currents))
-    return (", " + "; ".join(said)) if said else ""
-
-
 def fix_lines(group, reduced: pd.DataFrame, labels, vessel: str = "") -> list[str]:
     """One fix group's fix: position, ellipse or band, sight error, residuals and flags, checks and warnings;
     ``vessel`` names the ship where the log holds several."""
@@ -533,8 +507,8 @@ def fix_lines(group, reduced: pd.DataFrame, labels, vessel: str = "") -> list[st
                  + (f"; fix standard error {fix.standard_error_nm:.2f} nm" if fix.is_fix else ""))
     if fix.course_made_good_deg is not None:
         lines.append(f"  made good      {fix.course_made_good_deg:05.1f}° at {fix.speed_made_good_kn:.1f} kn")
-    if fix.run_from != RunFrom.NONE:
-        lines.append(f"  run between the sights: {fix.run_from}{_run_values(fix, reduced, group.rows)}")
+    if fix.run_text:
+        lines.append(f"  run between the sights: {fix.run_text}")
     if fix.dr_allowed_nm == fix.dr_allowed_nm:
         lines.append(f"  from the DR    {fix.dr_distance_nm:.1f} nm; " + (
             f"a DR {fix.dr_age_h:.1f} h old: beyond {fix.dr_allowed_nm:.0f} nm it is questioned" if fix.dr_age_known

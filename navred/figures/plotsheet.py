@@ -271,6 +271,13 @@ def _what(fix, sights: SheetSights) -> str:
     return "EP on the latitude (not a fix)" if fix.kind == FixKind.LATITUDE else "EP on the line (not a fix)"
 
 
+def _taken_words(fix) -> str:
+    """' (the ellipse takes 1.00′)' where the ellipse is built on a σ other than the residuals' (taken as known, at
+    least 1′: :func:`navred.fixstats.ellipse_sigma`), else ''."""
+    taken = fix.ellipse_sigma_arcmin
+    return f" (the ellipse takes {taken:.2f}′)" if taken == taken and abs(taken - fix.sigma_arcmin) >= 0.005 else ""
+
+
 def _header(sheet, placer, fix, sights, rows, left_out, title, frame) -> float:
     """The title, what the sheet shows and every warning of the fix, wrapped; the top of the area below them."""
     width = SHEET_PT - 2 * MARGIN_PT
@@ -278,7 +285,8 @@ def _header(sheet, placer, fix, sights, rows, left_out, title, frame) -> float:
     extent = (f"95 % ellipse {fix.ellipse_text()}" if fix.is_fix else
               f"angle of cut {fix.angle_of_cut_deg:.0f}°: 95 % band {fix.ellipse_text()}")
     y = _text_lines(sheet, MARGIN_PT, y + 2, f"{_what(fix, sights)} at {str(fix.utc)[:19].replace('T', ' ')} UTC · "
-                    f"{extent} · σ {fix.sigma_arcmin:.2f}′{_WEIGHTED if fix.weighted else ''} · {_grid_words(frame)}",
+                    f"{extent} · σ {fix.sigma_arcmin:.2f}′{_taken_words(fix)}{_WEIGHTED if fix.weighted else ''} · "
+                    f"{_grid_words(frame)}",
                     NOTE_PT, INK, width, kind="subtitle")
     for warning in _warnings(fix, sights, rows, left_out, frame):
         y = _text_lines(sheet, MARGIN_PT, y, warning, NOTE_PT, FIX, width, kind="warning", bold=True)

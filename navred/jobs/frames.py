@@ -156,11 +156,12 @@ def fix_position(reduced: pd.DataFrame, at_utc: Instant | None = None, *, group:
 #: decimal degrees. ``trusted``: False for a position marked CANNOT BE TRUSTED as the position to plot
 #: (:attr:`navred.FixResult.trusted`), ``untrusted_cause`` the kind of reason (:class:`navred.status.Distrust`:
 #: 'Hs as a decimal', 'common error', 'scatter', 'DR hemisphere', 'far from the DR'; blank when trusted); both
-#: blank for a group with no fix.
+#: blank for a group with no fix. ``run``: the run between the sights in words (:attr:`navred.FixResult.run_text`:
+#: 'course and speed, 215° at 6.5 kn', 'course and speed, stopped (0 kn)'; 'none' for sights taken together).
 FIX_COLUMNS = ("fix_group", "utc", "kind", "trusted", "untrusted_cause", "lat_deg", "lon_deg", "sights", "sigma_arcmin", "weighted", "quantile",
                "ellipse_length_nm", "ellipse_width_nm", "ellipse_semi_major_nm", "ellipse_semi_minor_nm",
                "ellipse_orientation_deg", "flagged", "left_out", "all_sights_lat_deg", "all_sights_lon_deg",
-               "dr_distance_nm", "chart_distance_nm", "chart_inside_ellipse", "note")
+               "dr_distance_nm", "chart_distance_nm", "chart_inside_ellipse", "run", "note")
 
 
 def fix_table_row(name: str, fix: FixResult | None, row_names: np.ndarray, problem: str = "") -> dict:
@@ -188,7 +189,8 @@ def fix_table_row(name: str, fix: FixResult | None, row_names: np.ndarray, probl
             "all_sights_lat_deg": every.lat_deg if every is not None else None,
             "all_sights_lon_deg": every.lon_deg if every is not None else None,
             "dr_distance_nm": fix.dr_distance_nm, "chart_distance_nm": fix.chart_distance_nm,
-            "chart_inside_ellipse": fix.chart_inside_ellipse, "note": "; ".join(fix.warnings)}
+            "chart_inside_ellipse": fix.chart_inside_ellipse, "run": fix.run_text or str(fix.run_from),
+            "note": "; ".join(fix.warnings)}
 
 
 @dataclass(frozen=True)

@@ -390,7 +390,7 @@ def fixes_table(voyage) -> pd.DataFrame:
             "ellipse scaled by": f"{fix.quantile} quantile" + (", DR error over the run included"
                                                                if fix.dr_error_included else ""),
             "the ellipse's size": fix.ellipse_note,
-            "run between the sights": fix.run_from,
+            "run between the sights": fix.run_text or fix.run_from,
             "blunder check": fix.blunder_note,
             "line bearing (deg true)": fix.line_bearing_deg,
             "line from DR (nm)": fix.line_offset_nm,

@@ -145,6 +145,7 @@ def _with_latitudes(table: pd.DataFrame, r: pd.DataFrame) -> pd.DataFrame:
     """The latitude a sight on the meridian (or of Polaris) gives, beside its Ho, where the log has one: the
     noon latitude is the first figure a master looks for in the day's work (navred fix prints the same)."""
     from .fixing import latitude_checks
+    from .latitudechecks import longitude_words
 
     checks = latitude_checks(r)
     if not len(checks):
@@ -154,7 +155,8 @@ def _with_latitudes(table: pd.DataFrame, r: pd.DataFrame) -> pd.DataFrame:
     where = {label: k for k, label in enumerate(labels.tolist())}
     for row in checks.itertuples():
         method = {"meridian": "meridian altitude"}.get(str(row.method), str(row.method))
-        texts[where[row.row]] = f"{format_angle(float(row.lat_deg), 'lat')} ({method})"
+        texts[where[row.row]] = f"{format_angle(float(row.lat_deg), 'lat')} ({method})" + (
+            f"; {longitude_words(row.lat_per_10_lon_arcmin, row.dr_lon_deg)}" if row.method == "ex-meridian" else "")
     table.insert(table.columns.get_loc("Hc (° ′)"), "latitude (° ′)", texts)
     return table
 

@@ -30,7 +30,7 @@ def latitude_checks(reduced: pd.DataFrame) -> pd.DataFrame:
     as many minutes of time as the meridian zenith distance has degrees) and by Polaris: one row per such sight with
     its ``row`` label, ``index`` (its row of the table), ``body``, ``method`` ('meridian', 'ex-meridian' or
     'Polaris'), ``lat_deg``, the sight's ``dr_lat_deg``, ``minutes_from_meridian`` and ``limit_minutes`` (the
-    ex-meridian's), and for an ex-meridian, whose hour angle comes from the DR longitude, ``dr_lon_deg`` and
+    ex-meridian's), the sight's ``dr_lon_deg``, and for an ex-meridian, whose hour angle comes from that longitude,
     ``lat_per_10_lon_arcmin``: how far (arcminutes, signed: + north) its latitude moves for 10′ of error in that
     longitude (east), ten times :func:`navred.latitudes.ex_meridian_longitude_sensitivity`, and ``longitude_note``,
     that in words (:func:`longitude_words`), flagged where it is large; NaN and '' for the others."""
@@ -72,8 +72,7 @@ def latitude_checks(reduced: pd.DataFrame) -> pd.DataFrame:
                          "dr_lat_deg": dr_lat[rows],
                          "minutes_from_meridian": np.where(np.isin(rows, north), np.nan, minutes[rows]),
                          "limit_minutes": np.where(np.isin(rows, ex), limit[rows], np.nan),
-                         "dr_lon_deg": np.where(np.isin(rows, ex), reduced.dr_lon_deg.to_numpy(dtype=float)[rows],
-                                                np.nan),
+                         "dr_lon_deg": reduced.dr_lon_deg.to_numpy(dtype=float)[rows],
                          "lat_per_10_lon_arcmin": np.concatenate([np.full(meridian.size, np.nan),
                                                                   10.0 * np.atleast_1d(slope),
                                                                   np.full(north.size, np.nan)]),

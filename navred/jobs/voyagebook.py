@@ -225,7 +225,7 @@ DAYS_BLANK = (
     {"note": "none"},
     {"ex-meridian limit (min)": "none: meridian or Polaris",
      "latitude moved by 10′ of DR longitude (′)": "none: meridian or Polaris",
-     "resting on the DR longitude": "no: meridian or Polaris", "DR lon (deg)": "not used: meridian or Polaris",
+     "resting on the DR longitude": "no: meridian or Polaris",
      "fix group": "none",
      "role": "not given"},
     {},

@@ -100,6 +100,39 @@ def ex_meridian_latitude(ho_deg: ArrayLike, dec_deg: ArrayLike, lha_deg: ArrayLi
     return latitude_by_meridian_altitude(meridian_altitude, dec, body_bearing)
 
 
+#: An ex-meridian latitude is flagged as resting heavily on the DR longitude where 10′ of longitude error (a DR's
+#: common uncertainty after a day's run) moves it by 1′ or more (the precision a noon latitude is used to), i.e.
+#: 0.1′ of latitude per 1′ of longitude (common practice).
+EX_MERIDIAN_SENSITIVE_LAT_PER_LON = 0.1
+
+
+def ex_meridian_longitude_sensitivity(dec_deg: ArrayLike, lha_deg: ArrayLike, dr_lat_deg: ArrayLike,
+                                      body_bearing: ArrayLike = "S") -> np.ndarray:
+    """How far the ex-meridian latitude moves per unit of error in the DR longitude (arcminutes of latitude per
+    arcminute of longitude, signed: + north for the longitude taken further east), the derivative of
+    :func:`ex_meridian_latitude` with respect to the longitude.
+
+    The hour angle comes from the DR longitude (LHA = GHA + λ, east positive), so t, the minutes of time from
+    meridian passage, moves by 4 minutes per degree of longitude, and the reduction a·t² by 2·a·t per minute of
+    time: d(lat)/dλ = ∓ 8·a·t / 3600 (arcminutes per arcminute; − for a body bearing south, whose latitude falls
+    as its meridian altitude rises, times the sign of the hour angle east or west of the meridian). Zero on the
+    meridian, largest at the limit and for a small zenith distance; it agrees with the slope of the sight's line
+    of position, cos φ · tan Zn (the line's latitude per unit of longitude along it).
+    """
+    dec = np.asarray(dec_deg, dtype=float)
+    lat = np.asarray(dr_lat_deg, dtype=float)
+    hour_angle = wrap_180(np.asarray(lha_deg, dtype=float))
+    t_minutes = np.abs(hour_angle) * 4.0
+    zenith = np.abs(lat - dec)
+    factor_arcsec = 1.9635 * np.cos(np.radians(lat)) * np.cos(np.radians(dec)) / np.sin(np.radians(zenith))
+    # latitude by meridian altitude: φ = δ + (90° − H) for a body bearing south, δ − (90° − H) for one north
+    bearing = np.char.upper(np.char.strip(np.asarray(body_bearing, dtype=str)))
+    if not np.all(np.isin(bearing, ["N", "S"])):
+        raise NavredError("body_bearing must be 'N' (body north of you) or 'S' (south)")
+    toward = np.where(bearing == "N", 1.0, -1.0)
+    return toward * np.sign(hour_angle) * 8.0 * factor_arcsec * t_minutes / 3600.0
+
+
 def latitude_from_noon_curve(hours: ArrayLike, ho_deg: ArrayLike, dec_deg: float, body_bearing: str = "S",
                              ) -> float | None:
     """Latitude from a series of sights around meridian passage: the maximum of the noon curve.
@@ -125,4 +158,5 @@ def latitude_from_noon_curve(hours: ArrayLike, ho_deg: ArrayLike, dec_deg: float
 
 
 __all__ = ["latitude_by_meridian_altitude", "latitude_by_polaris", "ex_meridian_limit_minutes",
-           "ex_meridian_latitude", "latitude_from_noon_curve"]
+           "ex_meridian_latitude", "ex_meridian_longitude_sensitivity", "EX_MERIDIAN_SENSITIVE_LAT_PER_LON",
+           "latitude_from_noon_curve"]

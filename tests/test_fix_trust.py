@@ -28,6 +28,7 @@ from typer.testing import CliRunner
 from navred import fix_positions, process_log, reduce_sights
 from navred.cli import app
 from navred.io.logbook import read_sight_log
+from navred.jobs.voyagebook import write_workbook
 from navred.sensechecks import (
     SCATTER_CONFIDENCE,
     SEXTANT_READING_ARCMIN,
@@ -113,6 +114,29 @@ def test_the_trust_verdict_is_one_column_in_every_table_and_file(tmp_path, ts, e
     point = next(f for f in json.loads((out / "w.geojson").read_text())["features"]
                  if f["properties"].get("kind") == "fix")
     assert point["properties"]["trusted"] is trusted and point["properties"]["untrusted_cause"] == cause
+
+
+@pytest.mark.parametrize("off_nm, trusted", [((3.0, -2.0), True), ((300.0, 0.0), False)])
+def test_the_sight_plan_starts_from_the_last_trusted_position(tmp_path, ts, eph, off_nm, trusted):
+    # a plan is never carried on from a position marked CANNOT BE TRUSTED: the DR is kept on and the fix looked
+    # into (common practice); the log gives no course or speed, so the plan's position is its start itself
+    dr = offset_position(LAT, LON, *off_nm)
+    path = _log(ts, eph, tmp_path, dr_lat=dr[0], dr_lon=dr[1])
+    voyage = process_log(path)
+    (group,) = voyage.groups
+    start = voyage.plan_presets[""].start
+    plan = voyage.next_plan
+    assert start.kind == ("fix" if trusted else "DR") and start.group == "stars"
+    # the DR as the log writes it (to 0.0001°, the test's own rounding), or the fix (skyfield's true position)
+    expected = (LAT, LON) if trusted else (round(dr[0], 4), round(dr[1], 4))
+    assert float(distance_bearing(plan.lat_deg, plan.lon_deg, *expected)[0]) < (0.5 if trusted else 0.01)
+    book = openpyxl.load_workbook(write_workbook(voyage, tmp_path / "w.xlsx", plots=False))
+    where = list(book["Sight plan"].values)[0][1]
+    if trusted:
+        assert "from the fix 'stars' at 2024-09-15 19:56 UTC" in where and "TRUSTED" not in where
+    else:  # which position, and why the fix was not used, beside the plan
+        assert "from the DR at 2024-09-15 19:56 UTC (50° 15.0′ N 020° 30.0′ W)" in where
+        assert "not from the fix 'stars'" in where and "CANNOT BE TRUSTED (far from the DR;" in where
 
 
 # --- 2. a DR in the wrong hemisphere ------------------------------------------------------------------------

@@ -215,8 +215,10 @@ def line_labels(page: Page) -> list[dict]:
     """Every line's label, on the line or, where it found no room, in the list under the chart."""
     texts = [e.text for e in page.of("line label")]
     listed = " ".join(e.text for e in page.of("line list"))  # a listed label may wrap onto two lines
-    texts += [m.group(1) for m in re.finditer(r"(?:line \(\d+\)|line \(no room to mark it\)|off the chart): (.+?(?:°(?: \((?:left out|flagged)"
-                                               r"\))?))(?= line \(| off the chart:|$)", listed)]
+    # a line left out ends '(row 6, left out: not used)' and is tagged by its row: 'line (row 6 left out)'
+    texts += [m.group(1) for m in re.finditer(r"(?:line \((?:\d+|row \d+ left out)\)|line \(no room to mark it\)|off the "
+                                               r"chart): (.+?(?:°(?: \((?:[^()]*left out[^()]*|flagged)\))?))"
+                                               r"(?= line \(| off the chart:| not used, no line:|$)", listed)]
     return [LABEL.match(t).groupdict() | {"text": t} for t in texts]
 
 
@@ -335,7 +337,50 @@ def test_a_gross_error_left_out_is_named_and_the_fix_from_every_sight_marked(ts,
     assert "LEFT OUT" in warnings and "Deneb" in warnings
     # its line, far off the chart, is not drawn but its label is listed under the chart with the others
     labels = check_lines(page, group.fix, voyage.reduced.body_name.to_numpy()[group.rows])
-    assert any(d["body"] == "Deneb" and d["text"].endswith("(left out)") for d in labels)
+    row = voyage.reduced.row.iloc[group.rows[0]]
+    assert any(d["body"] == "Deneb" and d["text"].endswith(f"(row {row}, left out: not used; its line off the chart)")
+               for d in labels)
+    # the way to it drawn from the DR to the frame, grey and dashed, named by its row at the frame
+    assert "line of position left out pointer" in page.kinds()
+    assert [e.text for e in page.of("left out label")] == [f"row {row} left out"]
+
+
+def test_rows_not_used_are_drawn_apart_and_listed_with_why(ts, eph, tmp_path):
+    """Reference: skyfield's stars from a ship stopped (as above), one altitude written 12′ high (a slip of the
+    minutes) and one row whose Hs cannot be read: the first is left out of the fix yet drawn, grey and dashed,
+    tagged by its row, the legend saying it is not used; the second, which has no line, is listed under the chart;
+    the Fixes sheet names both with why (common practice: a plot shows every sight taken, and which were used)."""
+    import openpyxl
+
+    from navred.figures.symbols import LEFT_OUT
+    from navred.jobs.voyagebook import write_workbook
+
+    when = pd.Timestamp("2024-09-15T19:05:00Z")
+    names = ["Vega", "Altair", "Arcturus", "Antares", "Dubhe", "Kochab"]
+    rows = [skyfield_sight(ts, eph, name, when + pd.Timedelta(minutes=k), 45.25, -20.5)
+            for k, name in enumerate(names)]
+    rows[1]["hs"] += 12.0 / 60.0
+    rows.append(dict(rows[5], body="Deneb", hs="61 72.4"))  # minutes past 60: refused by the reader
+    voyage = process_log(_frame(rows, 6.0, -6.0, "slipped"), plan=False)
+    group = voyage.groups[0]
+    left = np.flatnonzero(group.fix.left_out)
+    assert left.tolist() == [1]  # Altair, row 2 (a table's first row is row 1)
+    page = Page(plotting_figure(voyage, group).to_svg())
+    check_page(page)
+    dashed = [e for e in page.root if e.get("class") == "line of position left out"]
+    assert len(dashed) == 1 and dashed[0].get("stroke") == LEFT_OUT and dashed[0].get("stroke-dasharray")
+    texts = " ".join(e.text or "" for e in page.texts)
+    assert "row 2, left out: not used" in texts
+    # named by its row on the chart itself: its label, or its tag where the label finds no room
+    assert any("row 2" in e.text for e in page.texts if e.get("class") in ("line label", "line tag"))
+    assert "NOT used in the fix" in " ".join(e.text for e in page.of("key"))
+    refused = " ".join(e.text for e in page.of("refused list"))
+    assert refused.startswith("not used, no line: row 7 Deneb: refused, not reduced (hs: cannot read '61 72.4'")
+    book = openpyxl.load_workbook(write_workbook(voyage, tmp_path / "w.xlsx", plots=False))
+    values = list(book["Fixes"].values)
+    cell = values[1][list(values[0]).index("rows not used (why)")]
+    assert cell.startswith("row 2 Altair: left out of the fix (12′ off the fix, ")
+    assert "; row 7 Deneb: refused, not reduced (hs: cannot read '61 72.4'" in cell
 
 
 @pytest.mark.parametrize("lat, spread", [(89.67, 30.0), (-60.0, 3000.0)])

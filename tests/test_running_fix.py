@@ -13,7 +13,9 @@ from navred.fixstats import DR_ERROR_FRACTION, DR_ERROR_KN
 from navred.jobs.frames import fix_position
 from navred.jobs.voyage import process_log
 from navred.latitudes import (
+    EX_MERIDIAN_SENSITIVE_LAT_PER_LON,
     ex_meridian_latitude,
+    ex_meridian_longitude_sensitivity,
     latitude_by_meridian_altitude,
     latitude_from_noon_curve,
 )
@@ -223,6 +225,53 @@ def test_ex_meridian_reduction_within_its_limit(ts, eph):
     with pytest.raises(NavredError, match="beyond the ex-meridian limit"):
         ex_meridian_latitude(far_reduced.ho_deg, far_reduced.dec_deg, far_reduced.lha_deg, far_reduced.dr_lat_deg,
                              "N")
+
+
+@pytest.mark.parametrize("lat, dec, lha, bearing", [
+    (45.0, 0.0, 357.5, "S"), (45.0, 0.0, 2.5, "S"), (45.0, 40.0, 1.0, "S"), (-30.0, 10.0, 358.0, "N"),
+    (20.0, -15.0, 3.0, "S"), (10.0, 30.0, 359.0, "N"), (-50.0, -20.0, 6.0, "N")])
+def test_the_ex_meridian_latitude_moves_with_the_dr_longitude_as_its_derivative_says(lat, dec, lha, bearing):
+    slope = float(ex_meridian_longitude_sensitivity(dec, lha, lat, bearing))  # ′ of latitude per ′ of longitude
+    # a finite difference of the reduction itself: the longitude (east) moves the LHA one for one
+    step = 1e-4
+    ho = 90.0 - abs(lat - dec) - 0.2
+    difference = (float(ex_meridian_latitude(ho, dec, lha + step, lat, bearing))
+                  - float(ex_meridian_latitude(ho, dec, lha - step, lat, bearing))) / (2 * step)
+    assert slope == pytest.approx(difference, rel=1e-6)
+    # the published slope of a line of position: along a line whose body bears Zn, Δφ = −Δλ·cos φ·tan Zn (the
+    # line is perpendicular to Zn), Zn by the time-azimuth formula tan Z = sin LHA / (cos φ tan δ − sin φ cos LHA)
+    # (Bowditch, The American Practical Navigator, NGA Pub. No. 9, the azimuth by computation; from memory);
+    # the ex-meridian's a·t² is the reduction's first term, so they agree to within 1 % inside its limit
+    phi, delta, h = np.radians([lat, dec, lha])
+    zn = np.arctan2(np.sin(h), np.cos(phi) * np.tan(delta) - np.sin(phi) * np.cos(h))
+    assert slope == pytest.approx(np.cos(phi) * np.tan(zn), rel=0.01)
+
+
+def test_an_ex_meridian_latitude_says_what_the_dr_longitude_does_to_it(ts, eph):
+    """Reference: skyfield's Sun 14 minutes from meridian passage at 33° 30′ S (as above), reduced from the true
+    DR longitude and from one 3′ west of it: the latitudes differ by what the derivative says for 3′ (within
+    0.02′), and navred fix's latitude check, the Working sheet and the day's work say so beside the result."""
+    from navred.cli.format import latitude_lines
+    from navred.jobs.latitudechecks import latitude_checks
+
+    frames = [noon_series(ts, eph, [14], dr_lon_off=off)[0] for off in (0.0, -3.0 / 60.0)]
+    reduced = [reduce_sights(frame) for frame in frames]
+    latitudes = [float(ex_meridian_latitude(r.ho_deg, r.dec_deg, r.lha_deg, r.dr_lat_deg, "N")[0]) for r in reduced]
+    slope = float(ex_meridian_longitude_sensitivity(reduced[0].dec_deg, reduced[0].lha_deg, reduced[0].dr_lat_deg,
+                                                    "N")[0])
+    assert (latitudes[1] - latitudes[0]) * 60 == pytest.approx(-3.0 * slope, abs=0.02)
+    assert 0.3 < abs(3.0 * slope) < 0.7  # "a 3′ error of longitude moves a sight 15 minutes out by 0.5′" (above)
+    checks = latitude_checks(reduced[0])
+    assert checks.method.tolist() == ["ex-meridian"]
+    assert checks.lat_per_10_lon_arcmin[0] == pytest.approx(10.0 * slope, rel=1e-9)
+    (line,) = [text for text in latitude_lines(checks) if "ex-meridian" in text]
+    assert f"rests on the DR longitude 018° 00.0′ E: 10′ of error in it moves the latitude {abs(10 * slope):.1f}′" \
+        in line
+    # 10′ moving it by 1′ or more is flagged (common practice: a noon latitude is used to the mile)
+    assert ("LONGITUDE-SENSITIVE" in line) is (abs(slope) >= EX_MERIDIAN_SENSITIVE_LAT_PER_LON)
+    near = latitude_checks(reduce_sights(noon_series(ts, eph, [6], dr_lon_off=0.0)[0]))
+    assert abs(near.lat_per_10_lon_arcmin[0]) < 1.0 and "LONGITUDE-SENSITIVE" not in near.longitude_note[0]
+    assert abs(10 * slope) >= 1.0 and "LONGITUDE-SENSITIVE" in checks.longitude_note[0]
 
 
 def test_a_lower_transit_needs_a_declination():

@@ -312,8 +312,9 @@ def test_the_fixes_sheet_reads_as_the_trade_writes(tmp_path):
     # the stars near the meridian give an ex-meridian latitude within its limit (navred fix's latitude checks)
     others = set(working.loc[~working["row in log"].isin([3, 6, 7, 9]), "latitude (° ′)"])
     assert others == {"not on the meridian"}
-    assert all(t.endswith("(ex-meridian)") for t in working.loc[working["row in log"].isin([6, 7, 9]),
-                                                                "latitude (° ′)"])
+    # each beside the DR longitude its hour angle comes from, and what 10′ of error in it does (docs/fix.md)
+    assert all(" (ex-meridian); rests on the DR longitude 013° 0" in t and ": 10′ of error in it moves the latitude "
+               in t for t in working.loc[working["row in log"].isin([6, 7, 9]), "latitude (° ′)"])
     kinds = dict(zip(fixes["fix group"], fixes["kind"]))
     assert kinds["sun-run-sun"] == "running fix" and kinds["evening-stars"] == "fix"
     for row in fixes.to_dict("records"):

@@ -521,7 +521,9 @@ def fix_lines(group, reduced: pd.DataFrame, labels, vessel: str = "") -> list[st
 
 def latitude_lines(checks: pd.DataFrame) -> list[str]:
     """Latitude by meridian altitude, ex-meridian and Polaris (:func:`navred.jobs.fixing.latitude_checks`), as
-    checks."""
+    checks; an ex-meridian's with the DR longitude it rests on and how far 10′ of error in it moves it."""
+    from ..jobs.latitudechecks import longitude_words
+
     if not len(checks):
         return []
     lines = ["Latitude checks"]
@@ -532,7 +534,8 @@ def latitude_lines(checks: pd.DataFrame) -> list[str]:
         elif row["method"] == "ex-meridian":
             lines.append(f"  {row['row']:<8} {row['body']:<10} ex-meridian, {row['minutes_from_meridian']:.1f} min "
                          f"from the meridian (limit {row['limit_minutes']:.0f} min): latitude "
-                         f"{format_angle(float(row['lat_deg']), 'lat')} (DR {dr})"
+                         f"{format_angle(float(row['lat_deg']), 'lat')} (DR {dr}); "
+                         f"{longitude_words(row['lat_per_10_lon_arcmin'], row['dr_lon_deg'])}"
                          + (f" {row['flag']}" if row.get("flag") else ""))
         else:
             lines.append(f"  {row['row']:<8} {row['body']:<10} on the meridian: latitude "

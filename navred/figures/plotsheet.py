@@ -38,6 +38,7 @@ from .symbols import (
     FLAGGED,
     GRID,
     INK,
+    LEFT_OUT,
     PAPER,
     SHEET_PT,
     check_fix_symbol,
@@ -80,6 +81,9 @@ class SheetSights:
     dr_lon_deg: np.ndarray | None = None
     intercept_nm: np.ndarray | None = None
     zn_deg: np.ndarray | None = None
+    #: the group's rows the fix could not use because they were not reduced (refused), each named with why
+    #: ('row 8 Capella: refused, not reduced (hs: ...)'): listed under the chart, having no line to draw
+    refused: Sequence[str] = ()
 
 
 def _hhmm(utc) -> str:
@@ -142,6 +146,15 @@ class _Lop:
     before: tuple[float, float, float, float] | None = None  # the line at its own time, on the page
     run_arrow: tuple[float, float, float, float] | None = None
     tag: str = ""
+    #: a sight left out of the fix: drawn grey and dashed (LEFT_OUT_DASH), labelled by its row, not used
+    left_out: bool = False
+    #: a line left out that lies off the chart: ``ends`` is then its intercept from the DR to the frame, the
+    #: way to the line, with an arrowhead at the frame
+    pointer: bool = False
+
+
+#: the dashes of a line left out of the fix (points), apart from a flagged line's (5, 3)
+LEFT_OUT_DASH = (2.0, 2.5)
 
 
 def plotting_sheet(fix, sights: SheetSights, *, title: str = "", chart=None) -> Canvas:
@@ -163,6 +176,10 @@ def plotting_sheet(fix, sights: SheetSights, *, title: str = "", chart=None) -> 
     placer = Placer(gap_pt=CLEAR_PT)
     top = _header(sheet, placer, fix, sights, rows, left_out, title, probe)
     frame = _Frame(fix, chart, top, feet[~left_out[used]])
+    # a line left out near enough widens the sheet to show it (up to twice as wide); one farther is pointed to
+    near = left_out[used] & (np.max(np.abs(feet - (frame.cx, frame.cy)), axis=1) <= 2.0 * frame.half)
+    if near.any():
+        frame = _Frame(fix, chart, top, feet[~left_out[used] | near])
     ellipse = _ellipse_page(fix, frame) if fix.is_fix else None
     if ellipse is not None:  # the tint first, so that the grid and the lines show through it
         sheet.polygon(*ellipse, fill=blend(ELLIPSE, PAPER, 0.15), clip=frame.area, kind="ellipse tint")
@@ -180,6 +197,11 @@ def plotting_sheet(fix, sights: SheetSights, *, title: str = "", chart=None) -> 
             placer.take(_segment_box(*lop.run_arrow, 3.0))
     marks = _symbols(sheet, placer, fix, sights, frame, chart)
     marks[0][-1].append(_zone_of_the_fix(placer, frame))
+    for lop in lops:  # the way to a line left out off the chart: named at the frame, its full label listed below
+        if lop.pointer and lop.ends is not None:
+            tip = (lop.ends[2], lop.ends[3])
+            marks.append((f"{lop.label.rsplit(' (', 1)[1].split(',')[0]} left out", 7, LEFT_OUT,
+                          _around(*tip, 7.0), "left out label", False, tip, []))
     for lop in lops:
         if lop.moved and lop.run_page is not None and lop.ends is not None:
             _chevrons(sheet, placer, frame, lop)
@@ -191,7 +213,7 @@ def plotting_sheet(fix, sights: SheetSights, *, title: str = "", chart=None) -> 
     unplaced = [mark for mark in marks if not _place_mark(sheet, placer, frame, line_boxes, *mark)]
     listed = _line_labels(sheet, placer, frame, lops, band + strokes)
     sheet.line(*_frame_lines(frame.area), INK, 0.8, kind="frame")
-    _footer(sheet, frame, lops, listed, [mark[0] for mark in unplaced])
+    _footer(sheet, frame, lops, listed, [mark[0] for mark in unplaced], sights.refused)
     return sheet
 
 
@@ -397,13 +419,16 @@ def _longitude_step(span_arcmin: float) -> float:
     return step
 
 
-def _line_text(fix, sights: SheetSights, row: int, moved: str, left_out: bool) -> str:
-    """'Sun 09:10→15:40 · 6.2 nm A · Zn 113.5°': body, time (and the time moved to), intercept, Zn."""
+def _line_text(fix, sights: SheetSights, row: int, moved: str, left_out: bool, name: str = "") -> str:
+    """'Sun 09:10→15:40 · 6.2 nm A · Zn 113.5°': body, time (and the time moved to), intercept, Zn; a line left
+    out of the fix ends '(row 6, left out: not used)'."""
     intercept = float(fix.lop_intercept_nm[row])
     when = _hhmm(sights.utc[row]) + (f"→{_hhmm(fix.utc)}" if moved else "")
     side = "" if round(abs(intercept), 1) == 0.0 else " T" if intercept > 0 else " A"  # a nil intercept has no side
     text = f"{sights.body[row]} {when} · {abs(intercept):.1f} nm{side} · Zn {float(fix.lop_zn_deg[row]) % 360:05.1f}°"
-    return text + (" (left out)" if left_out else " (flagged)" if bool(fix.outlier[row]) else "")
+    if left_out:
+        return text + f" ({name + ', ' if name else ''}left out: not used)"
+    return text + (" (flagged)" if bool(fix.outlier[row]) else "")
 
 
 def _minutes_moved(fix, sights: SheetSights, row: int) -> float:
@@ -432,22 +457,45 @@ def _no_run(fix, sights: SheetSights, row: int) -> bool:
 
 
 def _lines(fix, sights: SheetSights, frame: _Frame, used, feet, left_out) -> list[_Lop]:
-    """Each line of position of the fix as the sheet draws it, tangent to its circle at the foot."""
+    """Each line of position of the fix as the sheet draws it, tangent to its circle at the foot; a line left out
+    of the fix grey and dashed, labelled by its row."""
     lops = []
+    names = list(sights.rows) if sights.rows is not None else [f"sight {k + 1}" for k in range(len(sights.body))]
     for row in used.tolist():
         fx, fy = (float(v) for v in frame.plane(float(fix.lop_foot_lat_deg[row]), float(fix.lop_foot_lon_deg[row])))
         flagged = bool(fix.outlier[row])
         moved = _moved(fix, sights, row)
-        if left_out[row] and abs(fx - frame.cx) + abs(fy - frame.cy) > 4 * frame.half:
-            # a gross error's line, far off the sheet: not drawn, its label listed under the chart
-            lops.append(_Lop(row, _line_text(fix, sights, row, moved, True), FLAGGED, True, None, moved, None))
+        if left_out[row] and _off_chart(frame, fx, fy, float(fix.lop_tangent_deg[row])):
+            # a gross error's line, off the sheet: its intercept from the DR drawn to the frame, the way to it
+            text = _line_text(fix, sights, row, moved, True, names[row])[:-1] + "; its line off the chart)"
+            lops.append(_Lop(row, text, LEFT_OUT, True,
+                             _pointer(frame, fx, fy), moved, None, left_out=True, pointer=True))
             continue
-        lop = _Lop(row, _line_text(fix, sights, row, moved, bool(left_out[row])), FLAGGED if flagged else INK,
-                   flagged, frame.line_across(fx, fy, float(fix.lop_tangent_deg[row])), moved, None)
+        out = bool(left_out[row])
+        lop = _Lop(row, _line_text(fix, sights, row, moved, out, names[row]),
+                   LEFT_OUT if out else FLAGGED if flagged else INK, flagged or out,
+                   frame.line_across(fx, fy, float(fix.lop_tangent_deg[row])), moved, None, left_out=out)
         if moved:
             _before(lop, fix, sights, frame, row, (fx, fy), _minutes_moved(fix, sights, row) > RUNNING_FIX_MINUTES)
         lops.append(lop)
     return lops
+
+
+def _off_chart(frame: _Frame, fx: float, fy: float, tangent_deg: float) -> bool:
+    """Whether a line through (fx, fy) sheet miles misses the chart, or only grazes its corner."""
+    ends = frame.line_across(fx, fy, tangent_deg)
+    return ends is None or math.hypot(ends[2] - ends[0], ends[3] - ends[1]) < 0.2 * AREA_PT
+
+
+def _pointer(frame: _Frame, fx: float, fy: float):
+    """From the DR toward the foot of a line off the chart (along its intercept), to the chart's frame: page ends
+    or None."""
+    dr = frame.page(0.0, 0.0)
+    miles = math.hypot(fx, fy)
+    if miles == 0.0:
+        return None
+    far = frame.page(fx / miles * 4.0 * frame.half, fy / miles * 4.0 * frame.half)
+    return clip_segment(float(dr[0]), float(dr[1]), float(far[0]), float(far[1]), _inner(frame.area, 3.0))
 
 
 def _before(lop: _Lop, fix, sights: SheetSights, frame: _Frame, row: int, foot, far: bool) -> None:
@@ -511,10 +559,20 @@ def _draw_lines(sheet, frame: _Frame, lops: list[_Lop]) -> None:
             _arrow_head(sheet, x1, y1, (x1 - x0) / length, (y1 - y0) / length, CHART, 5.0, "run")
         if lop.ends is None:
             continue
-        sheet.line(lop.ends[0::2], lop.ends[1::2], lop.colour, 1.3, dash=(5.0, 3.0) if lop.dashed else None,
-                   kind="line of position" + (f" {lop.moved}" if lop.moved else ""))
+        dash = LEFT_OUT_DASH if lop.left_out else (5.0, 3.0) if lop.dashed else None
+        if lop.pointer:  # the way to a line off the chart: its intercept from the DR, an arrowhead at the frame
+            x0, y0, x1, y1 = lop.ends
+            length = math.hypot(x1 - x0, y1 - y0) or 1.0
+            sheet.line([x0, x1], [y0, y1], lop.colour, 1.0, dash=dash, kind="line of position left out pointer")
+            _arrow_head(sheet, x1, y1, (x1 - x0) / length, (y1 - y0) / length, lop.colour, 6.0,
+                        "line of position left out pointer")
+            continue
+        sheet.line(lop.ends[0::2], lop.ends[1::2], lop.colour, 1.0 if lop.left_out else 1.3, dash=dash,
+                   kind="line of position" + (f" {lop.moved}" if lop.moved else "") + (" left out" if lop.left_out
+                                                                                      else ""))
     for lop in lops:
-        _azimuth(sheet, frame, lop, dr)
+        if not lop.pointer:
+            _azimuth(sheet, frame, lop, dr)
 
 
 def _chevrons(sheet, placer, frame: _Frame, lop: _Lop) -> None:
@@ -701,7 +759,7 @@ def _line_labels(sheet, placer, frame: _Frame, lops: list[_Lop], band) -> list[_
     the boxes of a line's band and of the intercepts drawn from the DR."""
     listed = []
     area = _inner(frame.area)
-    drawn = [lop for lop in lops if lop.ends is not None]
+    drawn = [lop for lop in lops if lop.ends is not None and not lop.pointer]
     own_half = 0.65  # half the line's stroke: the placer's pad keeps CLEAR_PT beyond it
     for k, lop in enumerate(drawn):
         spots = _line_spots(lop, k, len(drawn))
@@ -715,7 +773,8 @@ def _line_labels(sheet, placer, frame: _Frame, lops: list[_Lop], band) -> list[_
             sheet.text(spot.x, spot.y, lop.label, LABEL_PT, lop.colour, anchor=spot.anchor, baseline=spot.baseline,
                        rotation=spot.rotation, box=PAPER, kind="line label")
             continue
-        tag = f"({len(listed) + 1})"
+        # a line left out is tagged by its row (the sheet's warning and the Fixes sheet name it so)
+        tag = f"({lop.label.rsplit(' (', 1)[1].split(',')[0]} left out)" if lop.left_out else f"({len(listed) + 1})"
         spot = clear.place(tag, LABEL_PT, spots, area, bold=True)
         if spot is not None:
             lop.tag = tag
@@ -723,7 +782,7 @@ def _line_labels(sheet, placer, frame: _Frame, lops: list[_Lop], band) -> list[_
             sheet.text(spot.x, spot.y, lop.tag, LABEL_PT, lop.colour, anchor=spot.anchor, baseline=spot.baseline,
                        rotation=spot.rotation, bold=True, box=PAPER, kind="line tag")
         listed.append(lop)
-    listed += [lop for lop in lops if lop.ends is None]
+    listed += [lop for lop in lops if lop.ends is None or lop.pointer]
     return listed
 
 
@@ -732,17 +791,23 @@ _KEY = (("fix", "fix"), ("running fix", "running fix"), ("dr", "DR"), ("ep", "es
         ("check fix", "check fix, the flagged sights left out (not the fix)"))
 
 
-def _footer(sheet, frame: _Frame, lops: list[_Lop], listed: list[_Lop], marks: list[str]) -> None:
-    """Under the chart: the labels that found no room on it, the key to the symbols on this sheet, how a line
-    is labelled, and the caution; the page's height set to hold them."""
+def _footer(sheet, frame: _Frame, lops: list[_Lop], listed: list[_Lop], marks: list[str],
+            refused: Sequence[str] = ()) -> None:
+    """Under the chart: the labels that found no room on it, the group's rows refused (no line to draw), the key
+    to the symbols and lines on this sheet, how a line is labelled, and the caution; the page's height set to
+    hold them."""
     width = SHEET_PT - 2 * MARGIN_PT
     y = frame.area[3] + 46.0
     for text in marks:
         y = _text_lines(sheet, MARGIN_PT, y, f"no room on the chart: {text}", 7, INK, width, kind="mark list")
     for lop in listed:
-        where = f"line {lop.tag}" if lop.tag else "off the chart" if lop.ends is None else "line (no room to mark it)"
+        where = (f"line {lop.tag}" if lop.tag else "off the chart" if lop.ends is None or lop.pointer
+                 else "line (no room to mark it)")
         y = _text_lines(sheet, MARGIN_PT, y, f"{where}: {lop.label}", 7, lop.colour, width, kind="line list")
+    for text in refused:
+        y = _text_lines(sheet, MARGIN_PT, y, f"not used, no line: {text}", 7, LEFT_OUT, width, kind="refused list")
     y = _key(sheet, y + 6.0, {item.kind for item in sheet.items if item.kind}, lops)
+    y = _line_key(sheet, y, lops)
     if any(lop.moved for lop in lops):
         text = ("A line with a double chevron was moved by the ship's run to the fix time, the chevron pointing the "
                 "way: advanced from its sight's time (or retired), labelled with both times.")
@@ -776,6 +841,26 @@ def _key(sheet, y: float, kinds: set, lops: list[_Lop]) -> float:
         sheet.text(x + 10, y, words, 7, INK, baseline="middle", kind="key")
         x += step
     return y + 6.0
+
+
+def _line_key(sheet, y: float, lops: list[_Lop]) -> float:
+    """The lines that are not plain on this sheet, each a short stroke as drawn with its words: a line left out
+    of the fix (not used) and a flagged one (used); the y below them."""
+    rows = []
+    if any(lop.left_out and lop.ends is not None for lop in lops):
+        rows.append((LEFT_OUT, LEFT_OUT_DASH, 1.0, "grey dashes: a sight LEFT OUT of the fix (a gross error or the "
+                                                   "blunder test), labelled by its row: NOT used in the fix" +
+                     ("; an arrow from the DR: the way to such a line off the chart, along its intercept"
+                      if any(lop.pointer and lop.ends is not None for lop in lops) else "")))
+    if any(lop.dashed and not lop.left_out for lop in lops):
+        rows.append((FLAGGED, (5.0, 3.0), 1.3, "long dashes: a flagged sight, kept in the fix (see the check fix)"))
+    for colour, dash, width, words in rows:
+        y += 12.0
+        x = MARGIN_PT + 6.0
+        sheet.line([x - 4.0, x + 22.0], [y, y], colour, width, dash=dash, kind="key")
+        y = _text_lines(sheet, x + 28.0, y - 1.3 * 7 + 2.5, words, 7, INK, SHEET_PT - MARGIN_PT - x - 28.0,
+                        kind="key") - 2.5
+    return y + (6.0 if rows else 0.0)
 
 
 def save_plotting_sheet(fix, sights: SheetSights, path, *, title: str = "", chart=None) -> Path:

@@ -16,6 +16,9 @@ from .placing import rect_corners
 # navred's own palette: sea-chart paper, ink-blue lines, a vermilion fix
 PAPER, GRID, INK, FIX, CHART, ELLIPSE, FLAGGED = ("#f7f3e8", "#c9c2ad", "#1d3557", "#d1495b",
                                                   "#2a9d8f", "#d1495b", "#8d99ae")
+#: a sight's line drawn though the fix does not use it (left out as a gross error or by the blunder test): grey,
+#: dashed apart from a flagged line's dashes
+LEFT_OUT = "#8a8a84"
 _STEPS_ARCMIN = (0.5, 1, 2, 5, 10, 15, 30, 60, 120, 300, 600)
 
 
@@ -83,6 +86,6 @@ def check_fix_symbol(sheet, x: float, y: float, kind: str = "check fix") -> np.n
     return rect_corners(x - 6.5, y - 6.5, x + 6.5, y + 6.5)
 
 
-__all__ = ["PAPER", "GRID", "INK", "FIX", "CHART", "ELLIPSE", "FLAGGED", "SHEET_PT", "grid_step", "nice_length",
+__all__ = ["PAPER", "GRID", "INK", "FIX", "CHART", "ELLIPSE", "FLAGGED", "LEFT_OUT", "SHEET_PT", "grid_step", "nice_length",
            "fix_symbol", "dr_symbol", "ep_symbol", "position_symbol", "every_sight_symbol",
            "check_fix_symbol"]

@@ -32,6 +32,8 @@ LABELS = {
     "ship_from": "ship's position from", "off_nm": "off the ship (nm)", "bearing_deg": "bearing from the ship (deg)",
     "course_working": "course: the working", "speed_working": "speed: the working",
     "minutes_from_meridian": "from the meridian (min)", "limit_minutes": "ex-meridian limit (min)",
+    "lat_per_10_lon_arcmin": "latitude moved by 10′ of DR longitude (′)",
+    "longitude_note": "resting on the DR longitude",
     # the DR's entries (navred.io.logdr)
     "course_deg": "course (deg)", "speed_kn": "speed (kn)", "compass_course_deg": "compass course (deg)",
     "deviation_deg": "deviation (deg, E +)", "variation_deg": "variation (deg, E +)", "leeway_deg": "leeway (deg)",

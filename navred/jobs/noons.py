@@ -40,7 +40,7 @@ from ..reckoning import (
 from ..sailings import rhumb_inverse
 from ..status import FixKind, SightStatus
 from .frames import utc64
-from .latitudechecks import latitude_checks
+from .latitudechecks import latitude_checks, longitude_words
 from .shipsfixes import ROUND_MINUTES, ShipsSights, combined_rounds
 from .shipstime import (
     STATED_WORDS,
@@ -133,7 +133,8 @@ def _sight_lines(reduced, k: int, check, base: dict, utc_ns: int, where: str) ->
             check["method"]]
         if check["method"] == "ex-meridian":
             method += (f" ({check['minutes_from_meridian']:.0f} min from the meridian, within its "
-                       f"{check['limit_minutes']:.0f} min)")
+                       f"{check['limit_minutes']:.0f} min; "
+                       f"{longitude_words(check['lat_per_10_lon_arcmin'], check['dr_lon_deg'])})")
     return [{**base, "utc_ns": utc_ns, "foot_lat": float(lat), "foot_lon": float(lon), "zn": float(r["zn_deg"]),
              "latitude": check is not None, "method": method + where}]
 

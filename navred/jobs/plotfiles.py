@@ -34,11 +34,14 @@ def _sight_columns(voyage) -> dict[str, np.ndarray]:
 def plotting_figure(voyage, group):
     """The plotting sheet figure of one fix group."""
     from ..figures.plotsheet import SheetSights, plotting_sheet
+    from .voyagetables import rows_not_used
 
     columns = {name: values[group.rows] for name, values in _sight_columns(voyage).items()}
     vessel = voyage.vessel_of(group.name) if len(voyage.vessels) > 1 else ""
     title = f"Plotting sheet: {vessel + ', ' if vessel else ''}{group.name}"
-    return plotting_sheet(group.fix, SheetSights(**columns), title=title, chart=group.chart)
+    # the rows refused have no line; those left out are drawn, grey and dashed (the sheet's own list)
+    refused = [text for text in rows_not_used(voyage, group) if ": refused, " in text]
+    return plotting_sheet(group.fix, SheetSights(**columns, refused=refused), title=title, chart=group.chart)
 
 
 def plot_file_stems(names) -> list[str]:

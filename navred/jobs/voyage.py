@@ -65,6 +65,25 @@ class PlanSextant:
     index_error_arcmin: float
     horizon: str
     presets: SightPresets | None
+    #: the position the plan is carried on from (:class:`PlanStart`): the latest fix, or the DR at its time when
+    #: that fix cannot be trusted
+    start: PlanStart | None = None
+
+
+@dataclass(frozen=True)
+class PlanStart:
+    """The position a workbook's sight plan is carried on from, and why: the latest fix when it can be trusted,
+    else the DR at that fix's time (the fix named, with why it was not used), else the latest trusted fix."""
+
+    #: 'fix' or 'DR'
+    kind: str
+    #: the fix group the position belongs to (the untrusted one, for a DR at its time)
+    group: str
+    utc: np.datetime64
+    lat_deg: float
+    lon_deg: float
+    #: the sheet's words: which position, at what time, and why an untrusted fix was passed over
+    words: str
 
 
 @dataclass(frozen=True)
@@ -461,12 +480,12 @@ def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: obj
 
 
 def _next_twilight_plan(groups: list[GroupFix], reduced: pd.DataFrame):
-    """Plan the next twilight that begins after the latest fix, carried on from the fix by the last
-    sight's course and speed."""
+    """Plan the next twilight that begins after the latest fix, carried on by the last sight's course and speed
+    from the fix, or from the DR at its time when the fix cannot be trusted (:func:`plan_start`)."""
     fixes = [g for g in groups if g.fix is not None]
     if not fixes:
         return None, None, None
-    return _plan_after(max(fixes, key=lambda g: g.fix.utc), reduced)
+    return _plan_after(max(fixes, key=lambda g: g.fix.utc), reduced, groups)
 
 
 def _vessel_plans(groups: list[GroupFix], reduced: pd.DataFrame, next_plan: SightPlan | None,
@@ -480,8 +499,10 @@ def _vessel_plans(groups: list[GroupFix], reduced: pd.DataFrame, next_plan: Sigh
     overall = max(fixes, key=lambda g: g.fix.utc)
     vessel = reduced["vessel"].to_numpy(dtype=object)
     latest: dict[str, GroupFix] = {}
+    own: dict[str, list[GroupFix]] = {}
     for g in groups:
         name = str(vessel[g.rows[-1]]) if len(g.rows) else ""
+        own.setdefault(name, []).append(g)
         if g.fix is not None and name and (name not in latest or g.fix.utc > latest[name].fix.utc):
             latest[name] = g
     order = list(dict.fromkeys(str(v) for v in vessel if v))
@@ -489,16 +510,48 @@ def _vessel_plans(groups: list[GroupFix], reduced: pd.DataFrame, next_plan: Sigh
     for name in order:
         if name in latest:
             plan, preset = ((next_plan, next_presets) if latest[name] is overall else
-                            _plan_after(latest[name], reduced)[1:])
+                            _plan_after(latest[name], reduced, own[name])[1:])
             if plan is not None:
                 plans.append((name, plan))
                 presets[name] = preset
     return tuple(plans), presets
 
 
-def _plan_after(latest: GroupFix, reduced: pd.DataFrame):
-    """The twilights from ``latest``'s fix on, and the plan of the next one that begins after it, carried on from
-    the fix by its last sight's course and speed."""
+def plan_start(latest: GroupFix, groups: list[GroupFix] | tuple[GroupFix, ...]) -> PlanStart | None:
+    """Where a plan after ``latest``'s fix starts: that fix when it can be trusted (:attr:`navred.FixResult.trusted`);
+    else the DR at its time (the DR the log keeps, never restarted by an untrusted fix); else, without a DR there,
+    the latest trusted fix of ``groups`` before it (of the same vessel when the caller passes only hers); None when
+    there is none. A plan is never carried on from a position marked CANNOT BE TRUSTED (common practice: the DR is
+    kept on and the fix looked into)."""
+    fix = latest.fix
+    if fix is None:
+        return None
+    when = np.datetime64(fix.utc, "ns")
+    at = f"{str(when)[:16].replace('T', ' ')} UTC"
+    if fix.trusted:
+        return PlanStart("fix", latest.name, when, float(fix.lat_deg), float(fix.lon_deg),
+                         f"the fix {latest.name!r} at {at}")
+    cause = f"{fix.untrusted_cause}" if fix.untrusted_cause is not None else "untrusted"
+    passed = (f"not from the fix {latest.name!r} at that time ({format_angle(fix.lat_deg, 'lat')} "
+              f"{format_angle(fix.lon_deg, 'lon')}): it CANNOT BE TRUSTED ({cause}; the Fixes sheet's note says why)")
+    if np.isfinite(fix.dr_lat_deg) and np.isfinite(fix.dr_lon_deg):
+        check = ("; the DR itself is suspect (its hemisphere): check it as written"
+                 if str(fix.untrusted_cause) == "DR hemisphere" else "")
+        return PlanStart("DR", latest.name, when, float(fix.dr_lat_deg), float(fix.dr_lon_deg),
+                         f"the DR at {at} ({format_angle(fix.dr_lat_deg, 'lat')} {format_angle(fix.dr_lon_deg, 'lon')}), "
+                         f"{passed}{check}")
+    earlier = [g for g in groups if g.fix is not None and g.fix.trusted and g.fix.utc <= fix.utc]
+    if not earlier:
+        return None
+    before = max(earlier, key=lambda g: g.fix.utc)
+    start = plan_start(before, groups)
+    return replace(start, words=f"{start.words}, {passed}, and no DR at its time")
+
+
+def _plan_after(latest: GroupFix, reduced: pd.DataFrame, groups: list[GroupFix] | None = None):
+    """The twilights from ``latest``'s fix on, and the plan of the next one that begins after it, carried on by its
+    last sight's course and speed from the fix, or from the position :func:`plan_start` takes instead of an
+    untrusted one."""
     from ..plan import local_midnight, track_events
     from ..presets import sight_presets
     from ..reckoning import steady_track
@@ -508,17 +561,19 @@ def _plan_after(latest: GroupFix, reduced: pd.DataFrame):
     last_row = reduced.iloc[latest.rows[-1]]
     course = float(np.nan_to_num(last_row.get("course_deg", 0.0)))
     speed = float(np.nan_to_num(last_row.get("speed_kn", 0.0)))
-    fix = latest.fix
-    when = np.datetime64(fix.utc, "ns")
-    date = str((when + np.timedelta64(int(fix.lon_deg / DEG_PER_HOUR * NS_PER_HOUR), "ns")).astype("datetime64[D]"))
-    # the events along the DR from the fix at its own instant (not from the fix's position at a midnight)
-    track = steady_track(fix.lat_deg, fix.lon_deg, when, course, speed)
-    events = track_events(track, local_midnight(date, fix.lon_deg), 2)
+    start = plan_start(latest, [latest] if groups is None else groups)
+    if start is None:
+        return None, None, None
+    when = start.utc
+    date = str((when + np.timedelta64(int(start.lon_deg / DEG_PER_HOUR * NS_PER_HOUR), "ns")).astype("datetime64[D]"))
+    # the events along the DR from the start at its own instant (not from its position at a midnight)
+    track = steady_track(start.lat_deg, start.lon_deg, when, course, speed)
+    events = track_events(track, local_midnight(date, start.lon_deg), 2)
     candidates = []
     for dawn, dusk in (("nautical_dawn", "civil_dawn"), ("civil_dusk", "nautical_dusk")):
         for a, b in zip(events[dawn], events[dusk]):
             # the next twilight that begins after the last fix (not the one just used)
-            if not (np.isnat(a) or np.isnat(b)) and a > when:
+            if not (np.isnat(a) or np.isnat(b)) and a > np.datetime64(latest.fix.utc, "ns"):
                 candidates.append(a + (b - a) // 2)
     if not candidates:
         return events, None, None
@@ -534,4 +589,4 @@ def _plan_after(latest: GroupFix, reduced: pd.DataFrame):
     if horizon == "sea" and plan.body.size:
         presets = sight_presets(plan.body, plan.utc, plan.lat_deg, plan.lon_deg, eye_height_m=eye,
                                 index_error_arcmin=ie)
-    return events, plan, PlanSextant(eye, ie, horizon, presets)
+    return events, plan, PlanSextant(eye, ie, horizon, presets, start)

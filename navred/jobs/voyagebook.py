@@ -223,7 +223,10 @@ DAYS_BLANK = (
      "DR's current drift (kn)": _NO_CURRENT_IN_DR, "unaccounted set (deg)": _NO_CURRENT_IN_DR,
      "unaccounted drift (kn)": _NO_CURRENT_IN_DR},
     {"note": "none"},
-    {"ex-meridian limit (min)": "none: meridian or Polaris", "fix group": "none", "flag": "none",
+    {"ex-meridian limit (min)": "none: meridian or Polaris", "flag": "none",
+     "latitude moved by 10′ of DR longitude (′)": "none: meridian or Polaris",
+     "resting on the DR longitude": "no: meridian or Polaris",
+     "fix group": "none",
      "role": "not given"},
     {},
     {column: "not entered" for column in ("course (deg)", "speed (kn)", "set (deg)", "drift (kn)",
@@ -371,6 +374,14 @@ def _preset_words(sextant) -> str:
             "sight's) taken back off, as navred plan works it")
 
 
+def _start_words(sextant, named: bool) -> str:
+    """Which position the plan is carried on from: the latest fix, or the DR at its time (and why the fix was not
+    used: it cannot be trusted)."""
+    if sextant is None or sextant.start is None:
+        return f"the position {'its' if named else 'the'} latest sights gave"
+    return sextant.start.words
+
+
 def _write_plan_sheet(tables: TableWriter, sheet, voyage, pictures: Pictures) -> None:
     """The next twilight's plan: of the one vessel (named when the log names it), or of each vessel the log
     names, one after another (a vessel column), each from its own latest fix."""
@@ -390,8 +401,8 @@ def _write_plan_sheet(tables: TableWriter, sheet, voyage, pictures: Pictures) ->
         write_text_safe(sheet.cell(row=line, column=2), (
             f"{whose}{str(plan.utc)[:16].replace('T', ' ')} UTC, DR {format_angle(plan.lat_deg, 'lat')} "
             f"{format_angle(plan.lon_deg, 'lon')} (midway between civil and nautical twilight, to the minute), "
-            f"carried on from the position {'its' if name else 'the'} latest sights gave by "
-            f"{'its' if name else 'the'} last course and speed; {_preset_words(sextant)}"))
+            f"carried on by {'its' if name else 'the'} last course and speed from "
+            f"{_start_words(sextant, bool(name))}; {_preset_words(sextant)}"))
         sheet.cell(row=line + 1, column=1, value="How the set was chosen").font = Font(bold=True)
         write_text_safe(sheet.cell(row=line + 1, column=2), f"{whose}{plan.explanation}")
         line += 2

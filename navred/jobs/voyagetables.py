@@ -145,6 +145,7 @@ def _with_latitudes(table: pd.DataFrame, r: pd.DataFrame) -> pd.DataFrame:
     """The latitude a sight on the meridian (or of Polaris) gives, beside its Ho, where the log has one: the
     noon latitude is the first figure a master looks for in the day's work (navred fix prints the same)."""
     from .fixing import latitude_checks
+    from .latitudechecks import longitude_words
 
     checks = latitude_checks(r)
     if not len(checks):
@@ -155,7 +156,8 @@ def _with_latitudes(table: pd.DataFrame, r: pd.DataFrame) -> pd.DataFrame:
     for row in checks.itertuples():
         method = {"meridian": "meridian altitude"}.get(str(row.method), str(row.method))
         texts[where[row.row]] = f"{format_angle(float(row.lat_deg), 'lat')} ({method})" + (
-            f" {row.flag}" if getattr(row, "flag", "") else "")
+            (f"; {longitude_words(row.lat_per_10_lon_arcmin, row.dr_lon_deg)}" if row.method == "ex-meridian" else "")
+            + (f" {row.flag}" if getattr(row, "flag", "") else ""))
     table.insert(table.columns.get_loc("Hc (° ′)"), "latitude (° ′)", texts)
     return table
 
@@ -289,7 +291,8 @@ _NONE_FOR = {"sun": "none: Sun", "moon": "none: Moon", "planet": "none: planet",
 FIXES_BLANK = {
     "major axis (deg true)": "a line: no ellipse", "line bearing (deg true)": "a fix: not a line",
     "line from DR (nm)": "a fix: not a line", "the ellipse's size": "enough sights to judge their error by",
-    "left out (gross errors)": "none", "flagged sights": "none", "fix from every sight (° ′)": "nothing left out",
+    "left out (gross errors, clear blunders)": "none", "rows not used (why)": "none: every row of the group used",
+    "flagged sights": "none", "fix from every sight (° ′)": "nothing left out",
     "fix without flagged (° ′)": "nothing flagged", "chart position (° ′)": "none given",
     "chart distance (nm)": "no chart position", "chart bearing (deg true)": "no chart position",
     "chart inside 95 % ellipse": "no chart position", "noon curve latitude (° ′)": "no noon series",
@@ -330,11 +333,43 @@ def plot_verdict(fix) -> str:
     return f"NO ({fix.untrusted_cause or 'untrusted'}): see the note"
 
 
+def rows_not_used(voyage, group) -> list[str]:
+    """Each row of a fix group its fix did not use, named by its row and body, with why: left out of the fix (a
+    gross error, or by the blunder test, with how far its line lies from the fix) or refused (not reduced: the
+    reason the Rejected sheet gives). One list for the Fixes sheet and the group's plotting sheet."""
+    reduced = voyage.reduced
+    if not len(group.rows):
+        return []
+    labels = row_labels(reduced)[group.rows]
+    bodies = reduced["body_name"].astype(str).to_numpy()[group.rows]
+    status = reduced["status"].to_numpy()[group.rows]
+    messages = reduced["message"].astype(str).to_numpy()[group.rows]
+    fix, n = group.fix, len(group.rows)
+
+    def per_row(values):
+        return np.asarray(values, dtype=bool) if np.size(values) == n else np.zeros(n, dtype=bool)
+
+    left = per_row(fix.left_out) if fix is not None else np.zeros(n, dtype=bool)
+    by_test = per_row(fix.blunder_left_out) if fix is not None else np.zeros(n, dtype=bool)
+    out = []
+    for k in range(n):
+        body = f" {bodies[k]}" if bodies[k] and bodies[k] != "nan" else ""
+        if status[k] == SightStatus.ERROR:
+            out.append(f"{labels[k]}{body}: refused, not reduced ({messages[k]})")
+        elif left[k]:
+            off = abs(float(fix.residual_arcmin[k])) if np.size(fix.residual_arcmin) == n else float("nan")
+            how = f"{off:.0f}′ off the fix, " if np.isfinite(off) else ""
+            out.append(f"{labels[k]}{body}: left out of the fix ({how}"
+                       f"{'by the blunder test' if by_test[k] else 'a gross error'})")
+    return out
+
+
 def _no_fix_row(voyage, group) -> dict:
     """A fix group with no fix: its time (its last sight's) and, in the kind, why there is none."""
     utc = voyage.reduced.sight_utc.iloc[group.rows].max() if len(group.rows) else None
     return {"fix group": group.name, "UTC": utc_cell(utc.tz_convert(None).to_datetime64()) if utc is not None else None,
-            "kind": f"no fix: {group.problem}", "sights used": 0}
+            "kind": f"no fix: {group.problem}", "sights used": 0,
+            "rows not used (why)": "; ".join(rows_not_used(voyage, group))}
 
 
 def fixes_table(voyage) -> pd.DataFrame:
@@ -397,6 +432,7 @@ def fixes_table(voyage) -> pd.DataFrame:
             "noon curve latitude (° ′)": (format_angle(fix.noon_curve_latitude_deg, "lat")
                                           if fix.noon_curve_latitude_deg is not None else ""),
             "left out (gross errors, clear blunders)": ", ".join(labels[group.rows[i]] for i in np.flatnonzero(left)),
+            "rows not used (why)": "; ".join(rows_not_used(voyage, group)),
             "fix from every sight (° ′)": next(every_texts) if fix.all_sights is not None else "",
             "flagged sights": outliers,
             "fix without flagged (° ′)": next(check_texts) if fix.without_outliers is not None else "",
@@ -424,7 +460,7 @@ def fixes_table(voyage) -> pd.DataFrame:
     # a group with no fix: the kind says why; its other cells say so too
     if no_fix.any():
         for column in shown.columns:
-            if column not in ("vessel", "fix group", "UTC", "kind", "sights used"):
+            if column not in ("vessel", "fix group", "UTC", "kind", "sights used", "rows not used (why)"):
                 shown[column] = shown[column].astype(object).where(~no_fix, "no fix")
     return shown
 

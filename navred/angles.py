@@ -80,6 +80,11 @@ def _refused(value: object, kind: AngleKind, why: str = "") -> AngleInputError:
     return AngleInputError(f"cannot read {value!r} as {article} {name}{reason}; accepted: {_ACCEPTED[kind]}")
 
 
+#: degrees and minutes joined by a hyphen, nothing else between ('35-30.0', '020-35.2 N', 'N 20-35'): the
+#: degrees unsigned, the minutes under 60 with or without a decimal; read as '35 30.0'
+_HYPHEN_MINUTES = re.compile(r"^([NSEWnsew]?\s*\d{1,3})-([0-5]?\d(?:\.\d+)?\s*[NSEWnsew]?)$")
+
+
 def _parse_one(value: object, kind: AngleKind, decimal_comma: bool = False) -> float:
     if isinstance(value, (int, float, np.integer, np.floating)) and not isinstance(value, bool):
         number = float(value)
@@ -99,6 +104,7 @@ def _parse_one(value: object, kind: AngleKind, decimal_comma: bool = False) -> f
             raise _refused(value, kind, "both a decimal comma and a point")
         text = text.replace(",", ".")
     text = _MARK_THEN_POINT.sub(r"\1.\2", text)  # 44° 10'.1: the point written after the minute mark
+    text = _HYPHEN_MINUTES.sub(r"\1 \2", text)  # 35-30.0: a hyphen between the degrees and the minutes
     hemi = None
     letters = _HEMISPHERES.get(kind, "")
     if letters and text:

@@ -455,6 +455,8 @@ class Cells:
     headers: np.ndarray
     decimal_comma: np.ndarray
     present: bool
+    #: the rows whose header declares its angles decimal degrees ('Hs (deg)'): None when none does
+    decimal_degrees: np.ndarray | None = None
 
 
 @dataclass
@@ -468,7 +470,19 @@ class Parsed:
 
 def gather(tables, layouts, key) -> Cells:
     """The cells of one key across all tables (blank where a table lacks it); two columns of one
-    table that give the same key are combined row by row (one value at most).
+    table that give the same key are combined row by row (one value at most). An angle's rows say whether
+    their header declares decimal degrees (:attr:`Cells.decimal_degrees`)."""
+    cells = _gathered(tables, layouts, key)
+    if COLUMN[key].kind in ANGLE_KINDS:
+        declared = [bool(layout.keys.get(key)) and all(k in layout.decimal_degrees or _writes_decimal_degrees(
+            table.columns[k]) for k in layout.keys[key]) for table, layout in zip(tables, layouts)]
+        if any(declared):
+            cells.decimal_degrees = np.repeat(np.array(declared, dtype=bool), [t.n_rows for t in tables])
+    return cells
+
+
+def _gathered(tables, layouts, key) -> Cells:
+    """The cells of one key across all tables (see :func:`gather`).
 
     The tables' cells are joined first and looked at once, so a folder of many small logs costs
     about what one log of all their rows would."""
@@ -623,7 +637,90 @@ def parse_key(cells: Cells, key: str, problems: Problems, dates) -> Parsed:
             batches = [(units[keys == k][0], bool(commas[keys == k][0]), rows[keys == k]) for k in dict.fromkeys(keys)]
         for unit, comma, members in batches:
             _parse_each_distinct(column, cells, members, unit, comma, dates, value, refused, problems)
+    if column.kind in ANGLE_KINDS:
+        _refuse_minutes_as_decimals(column, cells, refused, problems)
     return Parsed(~cells.blank & ~refused, value)
+
+
+#: the kinds of column whose cells are angles in degrees, where '35.30' may be 35° 30′ written with a point
+ANGLE_KINDS = ("altitude", "lat", "lon")
+#: an angle written as a decimal with exactly two decimals, 01 to 59, which may be minutes: '35.30', '20.35 N',
+#: 'N 20.35', '-17.45' (a decimal whose fraction is .00 or .60 and more, or of one or three and more decimals, is
+#: decimal degrees; so is a number cell of a spreadsheet, or any cell under a header that declares degrees)
+_MINUTES_AS_DECIMALS = re.compile(r"^\s*([+\-−]?)\s*([NSEWnsew]?)\s*(\d{1,3})\.([0-5]\d)\s*([NSEWnsew]?)\s*$")
+
+
+def minutes_as_decimal_refusal(text: str, kind: str) -> str | None:
+    """Why an angle written ``text`` is refused as having two readings (decimal degrees, or degrees and minutes
+    written with a point), naming both and how to write each; None when it has one. ``kind``: altitude, lat or
+    lon (the message's example takes its hemisphere letter).
+
+    >>> minutes_as_decimal_refusal("35.30", "altitude")[:60]
+    "'35.30' has two readings: 35.30° (= 35° 18.0′) or 35° 30.0′ "
+    >>> minutes_as_decimal_refusal("35.3", "altitude") is None, minutes_as_decimal_refusal("35.75", "altitude") is None
+    (True, True)
+    """
+    found = _MINUTES_AS_DECIMALS.match(text)
+    if not found or found.group(4) == "00" or (found.group(2) and found.group(5)):
+        return None
+    sign, before, degrees, minutes, after = found.groups()
+    letter = (before or after).upper()
+    minutes_as_decimal = int(minutes) * 0.6  # .30 of a degree is 18.0′
+    lead = "-" if sign in ("-", "−") else ""
+    tail = f" {letter}" if letter else ""
+    if kind == "altitude":
+        declare = "head the column 'Hs (deg)' (or hs_deg)"
+    else:
+        declare = f"head the column with its unit, 'DR {kind} (deg)' (or dr_{kind}_deg)"
+    return (f"{text.strip()!r} has two readings: {lead}{degrees}.{minutes}°{tail} (= {lead}{int(degrees)}° "
+            f"{minutes_as_decimal:04.1f}′{tail}) or {lead}{int(degrees)}° {int(minutes):02d}.0′{tail} written with a "
+            f"point? for degrees and minutes write '{lead}{degrees} {minutes}.0{tail}' or "
+            f"'{lead}{degrees}° {minutes}.0′{tail}'; for decimal degrees {declare}, or write it with one decimal or "
+            f"three ('{lead}{degrees}.{minutes}0{tail}')")
+
+
+#: an angle that can only be decimal degrees: three decimals or more, or two from .60 ('35.305', '35.75 N')
+_DECIMAL_ONLY = re.compile(r"^\s*[+\-−]?\s*[NSEWnsew]?\s*\d{1,3}\.(?:\d{3,}|[6-9]\d)\s*[NSEWnsew]?\s*$")
+#: an angle written in degrees and minutes: digits, then a space or a mark, then digits ('35 30.0', '35°30′')
+_DEGREES_AND_MINUTES = re.compile(r"\d[\s°º˚'′’]+\d")
+
+
+def _writes_decimal_degrees(column: pd.Series) -> bool:
+    """Whether a table's column of angles shows that its writer keeps decimal degrees: a text that can only be
+    decimal degrees ('35.30512', '35.75'), and none in degrees and minutes ('35 30.0'); then its texts with two
+    decimals ('35.45', a decimal whose trailing zeros were dropped) are decimal degrees too. A column of
+    numbers (a spreadsheet's number cells) is decimal degrees as it is."""
+    if column.dtype.kind in "fiu":
+        return True
+    texts = [u for u in pd.unique(column.to_numpy(dtype=object)) if type(u) is str]
+    return any(_DECIMAL_ONLY.match(t) for t in texts) and not any(_DEGREES_AND_MINUTES.search(t) for t in texts)
+
+
+def _refuse_minutes_as_decimals(column, cells: Cells, refused: np.ndarray, problems: Problems) -> None:
+    """The angles read that have two readings (:func:`minutes_as_decimal_refusal`) refused, each distinct text
+    once, but under a header that declares decimal degrees."""
+    look = ~cells.blank & ~refused
+    if cells.decimal_degrees is not None:
+        look &= ~cells.decimal_degrees
+    rows = np.flatnonzero(look)
+    if not rows.size:
+        return
+    originals = cells.values.iloc[rows]
+    codes, uniques = pd.factorize(originals, use_na_sentinel=True)
+    reasons = {}
+    for u, text in enumerate(uniques.tolist() if hasattr(uniques, "tolist") else list(uniques)):
+        if type(text) is str and "." in text:
+            reason = minutes_as_decimal_refusal(text, column.kind)
+            if reason:
+                reasons[u] = reason
+    if not reasons:
+        return
+    bad = np.isin(codes, list(reasons))
+    where = rows[bad]
+    refused[where] = True
+    texts = np.array([cell_text(uniques[c]) for c in codes[bad]], dtype=object)
+    why = np.array([reasons[c] for c in codes[bad]], dtype=object)
+    problems.add(where, cells.headers[where], texts, why)
 
 
 def _parse_in_bulk(column, cells: Cells, value: np.ndarray, todo: np.ndarray) -> None:

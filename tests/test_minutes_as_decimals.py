@@ -96,3 +96,12 @@ def test_a_number_cell_is_decimal_degrees(tmp_path):
                           "index_error_arcmin": [0.0], "eye_height_m": [3.0], "dr_lat": [-17.30], "dr_lon": [-149.50]})
     sight_log = read_sight_log(frame)
     assert sight_log.rejected.empty and sight_log.table.hs_deg.iloc[0] == 81.30
+
+
+def test_a_position_on_the_command_line_follows_the_same_rule():
+    refused = runner.invoke(app, ["plan", "--lat", "44.30 N", "--lon", "12 W", "--date", "2026-03-26"])
+    assert refused.exit_code == 1
+    assert ("--lat: '44.30 N' has two readings: 44.30° N (= 44° 18.0′ N) or 44° 30.0′ N written with a point? for "
+            "degrees and minutes write '44 30.0 N'") in refused.stderr
+    assert "write it with one decimal or three ('44.300 N')" in refused.stderr
+    assert runner.invoke(app, ["plan", "--lat", "44-30 N", "--lon", "12.300 W", "--date", "2026-03-26"]).exit_code == 0

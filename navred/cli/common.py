@@ -340,9 +340,13 @@ def column_number(value: float | None, name: str, key: str) -> float | None:
 def angle_option(text: str | None, kind: str, name: str) -> float:
     """An angle given on the command line, read by the log's own rules ('43 14.1 N', '4 W', -5.25)."""
     from ..angles import parse_angle
+    from ..io.logcells import minutes_as_decimal_refusal
 
     if text is None:
         raise NavredError(f"{name} is required")
+    two_readings = minutes_as_decimal_refusal(str(text), kind, "") if kind in ("lat", "lon") else None
+    if two_readings:  # '44.30 N' on the command line as in a log: 44.30° N or 44° 30′ N?
+        raise NavredError(f"{name}: {two_readings}")
     try:
         return float(parse_angle(text, kind))
     except NavredError as exc:

@@ -650,10 +650,11 @@ ANGLE_KINDS = ("altitude", "lat", "lon")
 _MINUTES_AS_DECIMALS = re.compile(r"^\s*([+\-−]?)\s*([NSEWnsew]?)\s*(\d{1,3})\.([0-5]\d)\s*([NSEWnsew]?)\s*$")
 
 
-def minutes_as_decimal_refusal(text: str, kind: str) -> str | None:
+def minutes_as_decimal_refusal(text: str, kind: str, declare: str | None = None) -> str | None:
     """Why an angle written ``text`` is refused as having two readings (decimal degrees, or degrees and minutes
     written with a point), naming both and how to write each; None when it has one. ``kind``: altitude, lat or
-    lon (the message's example takes its hemisphere letter).
+    lon (the message's example takes its hemisphere letter); ``declare``: how to declare decimal degrees where
+    there is no header (a command-line option), instead of the header's unit.
 
     >>> minutes_as_decimal_refusal("35.30", "altitude")[:60]
     "'35.30' has two readings: 35.30° (= 35° 18.0′) or 35° 30.0′ "
@@ -668,15 +669,17 @@ def minutes_as_decimal_refusal(text: str, kind: str) -> str | None:
     minutes_as_decimal = int(minutes) * 0.6  # .30 of a degree is 18.0′
     lead = "-" if sign in ("-", "−") else ""
     tail = f" {letter}" if letter else ""
-    if kind == "altitude":
+    if declare is not None:
+        pass
+    elif kind == "altitude":
         declare = "head the column 'Hs (deg)' (or hs_deg)"
     else:
         declare = f"head the column with its unit, 'DR {kind} (deg)' (or dr_{kind}_deg)"
     return (f"{text.strip()!r} has two readings: {lead}{degrees}.{minutes}°{tail} (= {lead}{int(degrees)}° "
             f"{minutes_as_decimal:04.1f}′{tail}) or {lead}{int(degrees)}° {int(minutes):02d}.0′{tail} written with a "
             f"point? for degrees and minutes write '{lead}{degrees} {minutes}.0{tail}' or "
-            f"'{lead}{degrees}° {minutes}.0′{tail}'; for decimal degrees {declare}, or write it with one decimal or "
-            f"three ('{lead}{degrees}.{minutes}0{tail}')")
+            f"'{lead}{degrees}° {minutes}.0′{tail}'; for decimal degrees {declare + ', or ' if declare else ''}write it "
+            f"with one decimal or three ('{lead}{degrees}.{minutes}0{tail}')")
 
 
 #: an angle that can only be decimal degrees: three decimals or more, or two from .60 ('35.305', '35.75 N')

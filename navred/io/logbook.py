@@ -658,7 +658,7 @@ def _zone_notes(cells, ok, dates, sources, rows) -> list[str]:
     count = len(named)
     return [f"{count} instant{'s' if count > 1 else ''} in the utc column give{'' if count > 1 else 's'} no zone "
             f"({shown}): taken as UTC, as the column's name says, whether written as text or as a spreadsheet "
-            "date-time cell; if the log holds ship's time, give date, zone_time and zone_description instead "
+            "date-time cell; if the log holds zone time (the ship's clock), give date, zone_time and zone_description instead "
             "(write Z, 2026-03-26T19:41:00Z, to say UTC)"]
 
 

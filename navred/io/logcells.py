@@ -218,6 +218,23 @@ def _ranged(number: float, key: str, unit: str | None) -> float:
     return used
 
 
+#: a time of day and nothing else, perhaps with a zone: '22:15:00', '22:15', '221500', '22:15:00Z', '22:15 UTC'
+_TIME_OF_DAY_ONLY = re.compile(r"^\d{1,2}:?\d{2}(?::?\d{2}(?:\.\d+)?)?\s*(?:z|utc|gmt|ut)?$", re.IGNORECASE)
+
+
+def time_without_date(written: str) -> str:
+    """The refusal of a UTC (or GMT) cell that holds a time of day and no date: what is missing, and the two
+    ways to give it."""
+    clock = re.sub(r"\s*(?:z|utc|gmt|ut)$", "", written.strip(), flags=re.IGNORECASE)
+    if ":" not in clock and len(clock) in (4, 6):
+        clock = ":".join(clock[k:k + 2] for k in range(0, len(clock), 2))
+    if clock.count(":") == 1:
+        clock += ":00"
+    return (f"{written!r} is a time of day with no date: a UTC (GMT) cell is the whole instant, date and time; "
+            f"write the date in it, YYYY-MM-DDT{clock}Z (2026-12-04T{clock}Z for 4 December 2026), or keep this "
+            "time in a 'Zone time' column beside a 'Date' column and a 'ZD' column of 0 (zone Z: the time is UTC)")
+
+
 def _utc_components(value, dates):
     """(y, m, d, h, mi, s, offset minutes) of a value in the utc column."""
     if isinstance(value, MissingFormulaValue):
@@ -231,8 +248,12 @@ def _utc_components(value, dates):
     elif isinstance(value, (int, float)):
         raise NavredError(f"{value!r} is a number, not an instant: format the cell as a date-time, or write "
                           "2026-03-26T19:41:00Z")
+    elif isinstance(value, _dt.time):
+        raise NavredError(time_without_date(value.strftime("%H:%M:%S")))
     elif isinstance(value, str):
         written = value.strip()
+        if _TIME_OF_DAY_ONLY.match(written):
+            raise NavredError(time_without_date(written))
         try:
             value = iso_instant_text(written, dates)
             made = value

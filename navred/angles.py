@@ -611,3 +611,19 @@ def hours_from_hms(value: object) -> float | np.ndarray:
         raise AngleInputError(f"cannot read {value!r}: minutes and seconds must be below 60")
     sign = -1.0 if match.group(1).startswith("-") else 1.0
     return sign * (abs(h) + m / MINUTES_PER_HOUR + s / SECONDS_PER_HOUR)
+
+#: the spaces inside a position or an angle that a printed line must not break at: before a hemisphere letter
+#: ('30.0′ N', '44 N') and after a degree sign ('44° 30.0′')
+_UNBROKEN_SPACE = re.compile(r"(?<=[\d′'])[ ]+(?=[NSEW]\b)|(?<=°)[ ]+(?=\d)")
+
+
+def keep_angles_whole(text: str) -> str:
+    """A text to be printed whose angles keep together on a line: each hemisphere letter with its number, the
+    minutes with their degrees (the spaces between them made no-break spaces, U+00A0, which a line is never
+    broken at: the printed pages, the pictures' wrapped notes).
+
+    >>> keep_angles_whole("DR 44° 30.0′ N 012° 00.0′ W") == "DR 44°\u00a030.0′\u00a0N 012°\u00a000.0′\u00a0W"
+    True
+    """
+    return _UNBROKEN_SPACE.sub("\u00a0", text)
+

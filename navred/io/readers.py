@@ -996,8 +996,8 @@ def _refuse_other_headers(source, header, columns, numbers, problems, malformed)
             continue
         cells = ["" if _is_blank(c.iloc[row]) else str(c.iloc[row]).strip() for c in columns]
         filled = [k for k, cell in enumerate(cells) if cell]
-        if 2 * int(counts[row]) <= len(filled):
-            continue  # a sight whose words happen to be column names (an observer called 'Navigator')
+        if 2 * int(counts[row]) <= len(filled) or sum(any(c.isdigit() for c in cells[k]) for k in filled) > counts[row]:
+            continue  # a sight whose words happen to be column names (an observer called 'Navigator', the 'Ship')
         named = [k for k in filled if cells[k].casefold() in own or match_header(cells[k]).key is not None
                  or match_header(cells[k]).problem]
         if all(cells[k].casefold() == own[k] for k in named):

@@ -39,8 +39,15 @@ def test_the_refusal_names_both_readings_and_how_to_write_each():
     lat = minutes_as_decimal_refusal("20.35 N", "lat")
     assert lat.startswith("'20.35 N' has two readings: 20.35° N (= 20° 21.0′ N) or 20° 35.0′ N written with a point?")
     assert "'20 35.0 N'" in lat and "'DR lat (deg)' (or dr_lat_deg)" in lat
-    lon = minutes_as_decimal_refusal("-149.50", "lon")
-    assert "-149.50° (= -149° 30.0′) or -149° 50.0′" in lon and "'DR lon (deg)'" in lon
+    lon = minutes_as_decimal_refusal("149.50 W", "lon")
+    assert "149.50° W (= 149° 30.0′ W) or 149° 50.0′ W" in lon and "'DR lon (deg)'" in lon
+
+
+def test_a_bare_or_signed_latitude_or_longitude_is_iso_6709_decimal_degrees():
+    # ISO 6709: a signed decimal is decimal degrees, north and east positive  # ISO 6709 (published standard)
+    assert minutes_as_decimal_refusal("-17.45", "lat") is None and minutes_as_decimal_refusal("20.45", "lat") is None
+    assert minutes_as_decimal_refusal("-5.47", "lon") is None
+    assert minutes_as_decimal_refusal("35.30", "altitude") is not None  # an Hs has no such rule
 
 
 @pytest.mark.parametrize("text", ["35.3", "35.305", "35.30512", "35.75", "35.00", "35", "35 30.0", "35°30'",

@@ -665,8 +665,9 @@ def parse_key(cells: Cells, key: str, problems: Problems, dates) -> Parsed:
 
 #: the kinds of column whose cells are angles in degrees, where '35.30' may be 35° 30′ written with a point
 ANGLE_KINDS = ("altitude", "lat", "lon")
-#: an angle written as a decimal with exactly two decimals, 01 to 59, which may be minutes: '35.30', '20.35 N',
-#: 'N 20.35', '-17.45' (a decimal whose fraction is .00 or .60 and more, or of one or three and more decimals, is
+#: an angle written as a decimal with exactly two decimals, 01 to 59, which may be minutes: an Hs '35.30', a
+#: latitude or longitude with its letter '20.35 N', 'N 20.35' (a bare or signed one, '-17.45', is ISO 6709's decimal
+#: degrees, as the log's rule has it; a decimal whose fraction is .00 or .60 and more, or of one or three and more decimals, is
 #: decimal degrees; so is a number cell of a spreadsheet, or any cell under a header that declares degrees)
 _MINUTES_AS_DECIMALS = re.compile(r"^\s*([+\-−]?)\s*([NSEWnsew]?)\s*(\d{1,3})\.([0-5]\d)\s*([NSEWnsew]?)\s*$")
 
@@ -686,6 +687,8 @@ def minutes_as_decimal_refusal(text: str, kind: str, declare: str | None = None)
     if not found or found.group(4) == "00" or (found.group(2) and found.group(5)):
         return None
     sign, before, degrees, minutes, after = found.groups()
+    if kind != "altitude" and not (before or after):
+        return None  # a bare or signed number of a latitude or longitude is ISO 6709's decimal degrees
     letter = (before or after).upper()
     minutes_as_decimal = int(minutes) * 0.6  # .30 of a degree is 18.0′
     lead = "-" if sign in ("-", "−") else ""

@@ -80,6 +80,11 @@ def _refused(value: object, kind: AngleKind, why: str = "") -> AngleInputError:
     return AngleInputError(f"cannot read {value!r} as {article} {name}{reason}; accepted: {_ACCEPTED[kind]}")
 
 
+#: degrees and minutes joined by a hyphen, nothing else between ('35-30.0', '020-35.2 N', 'N 20-35'): the
+#: degrees unsigned, the minutes under 60 with or without a decimal; read as '35 30.0'
+_HYPHEN_MINUTES = re.compile(r"^([NSEWnsew]?\s*\d{1,3})-([0-5]?\d(?:\.\d+)?\s*[NSEWnsew]?)$")
+
+
 def _parse_one(value: object, kind: AngleKind, decimal_comma: bool = False) -> float:
     if isinstance(value, (int, float, np.integer, np.floating)) and not isinstance(value, bool):
         number = float(value)
@@ -99,6 +104,7 @@ def _parse_one(value: object, kind: AngleKind, decimal_comma: bool = False) -> f
             raise _refused(value, kind, "both a decimal comma and a point")
         text = text.replace(",", ".")
     text = _MARK_THEN_POINT.sub(r"\1.\2", text)  # 44° 10'.1: the point written after the minute mark
+    text = _HYPHEN_MINUTES.sub(r"\1 \2", text)  # 35-30.0: a hyphen between the degrees and the minutes
     hemi = None
     letters = _HEMISPHERES.get(kind, "")
     if letters and text:
@@ -605,3 +611,19 @@ def hours_from_hms(value: object) -> float | np.ndarray:
         raise AngleInputError(f"cannot read {value!r}: minutes and seconds must be below 60")
     sign = -1.0 if match.group(1).startswith("-") else 1.0
     return sign * (abs(h) + m / MINUTES_PER_HOUR + s / SECONDS_PER_HOUR)
+
+#: the spaces inside a position or an angle that a printed line must not break at: before a hemisphere letter
+#: ('30.0′ N', '44 N') and after a degree sign ('44° 30.0′')
+_UNBROKEN_SPACE = re.compile(r"(?<=[\d′'])[ ]+(?=[NSEW]\b)|(?<=°)[ ]+(?=\d)")
+
+
+def keep_angles_whole(text: str) -> str:
+    """A text to be printed whose angles keep together on a line: each hemisphere letter with its number, the
+    minutes with their degrees (the spaces between them made no-break spaces, U+00A0, which a line is never
+    broken at: the printed pages, the pictures' wrapped notes).
+
+    >>> keep_angles_whole("DR 44° 30.0′ N 012° 00.0′ W") == "DR 44°\u00a030.0′\u00a0N 012°\u00a000.0′\u00a0W"
+    True
+    """
+    return _UNBROKEN_SPACE.sub("\u00a0", text)
+

@@ -55,7 +55,14 @@ LOW_ALTITUDE_DEG = 5.0  # below: refraction is uncertain; the sight is flagged (
 LARGE_INDEX_ERROR_ARCMIN = 10.0
 LOWEST_ALTITUDE_DEG = -1.0  # below: no refraction model applies; refused
 
-_INDEX = re.compile(r"^\s*([+-]?\d+(?:\.\d+)?)\s*[′']?\s*(on|off)?\s*(?:the\s+arc)?\s*$", re.IGNORECASE)
+_INDEX = re.compile(r"^\s*([+-]?\d+(?:\.\d+)?)\s*[′']?\s*(on|off)?\s*(?:(?:the\s+)?arc)?\s*$", re.IGNORECASE)
+#: what an index error may be written as, and what on and off the arc mean (common practice)
+INDEX_ERROR_ACCEPTED = (
+    "accepted: the arcminutes with on or off, '2.1 on' or '1.5 off' (also '1.5′ off the arc', '1.5 off arc'). On "
+    "the arc: with the horizon brought in line the index reads above zero, so every reading is too high and the "
+    "error is subtracted (it is + in navred's sign, on the arc positive); off the arc: it reads below zero, on "
+    "the arc's extension, every reading too low, added (−). A bare number (2.1, -1.5) only under a header that "
+    "states the sign, 'IE (on +)' or 'IE (off +)', or in a column named index_error_arcmin (on the arc positive)")
 
 
 def parse_index_error_arcmin(value: object, plus: str | None = "on") -> float | np.ndarray:
@@ -94,8 +101,7 @@ def parse_index_error_arcmin(value: object, plus: str | None = "on") -> float | 
             except SightInputError:
                 bad[index] = True
         if bad.any():
-            raise SightInputError(f"index error unreadable in {failed_elements(bad)}; accepted: "
-                                  "arcminutes on the arc positive (2.1, -1.5) or '2.1 on' / '1.5 off'")
+            raise SightInputError(f"index error unreadable in {failed_elements(bad)}; {INDEX_ERROR_ACCEPTED}")
         return out
     worded = False
     if isinstance(value, (int, float, np.integer, np.floating)) and not isinstance(value, bool):
@@ -104,8 +110,7 @@ def parse_index_error_arcmin(value: object, plus: str | None = "on") -> float | 
     else:
         match = _INDEX.match(str(value).replace("−", "-"))
         if not match:
-            raise SightInputError(f"cannot read index error {value!r}; accepted: arcminutes on the arc "
-                                  "positive (2.1, -1.5) or '2.1 on' / '1.5 off'")
+            raise SightInputError(f"cannot read index error {value!r}; {INDEX_ERROR_ACCEPTED}")
         number = float(match.group(1))
         shown = match.group(1)
         if match.group(2):

@@ -82,6 +82,13 @@ SOLAR_SYSTEM = {"sun": "Sun", "moon": "Moon", "venus": "Venus", "mars": "Mars",
                 "jupiter": "Jupiter", "saturn": "Saturn"}
 
 
+#: the planets that are not navigational (the almanac gives no place for them): named as such when written
+OTHER_PLANETS = {"mercury": "Mercury", "uranus": "Uranus", "neptune": "Neptune", "pluto": "Pluto (a dwarf planet)"}
+#: how alike a name must be spelt to a body's to be suggested (difflib's ratio: 'Sirus' and 'Sirius' 0.91,
+#: 'Sattern' and 'Saturn' 0.77; 'Mercury' and 'Arcturus', alike in letters only, 0.53)
+NEAR_SPELLING = 0.75
+
+
 def _key(name: str) -> str:
     return re.sub(r"[\s\-_'’`.]", "", name.strip().lower())
 
@@ -117,9 +124,15 @@ def canonical_body_name(name: str) -> str:
     if _key(name) in ("aries", "firstpointofaries"):
         raise BodyNameError(f"{name!r} is the first point of Aries, not a body with a place of its own: its GHA is "
                             "GHA Aries (gha_aries_deg of every place; navred almanac Aries prints it)")
-    close = difflib.get_close_matches(_key(name), list(_lookup()), n=4, cutoff=0.5)
+    other = OTHER_PLANETS.get(_key(name))
+    if other is not None:
+        raise BodyNameError(f"unknown body {name!r}: {other} is not one of the navigational planets (Venus, Mars, "
+                            "Jupiter, Saturn), the four the nautical almanac tabulates and navred reduces; navred "
+                            "takes the Sun, the Moon, those four planets and the navigational stars (navred bodies)")
+    # near spellings only (a name that merely shares letters, 'Mercury' and 'Arcturus', is no suggestion)
+    close = difflib.get_close_matches(_key(name), list(_lookup()), n=3, cutoff=NEAR_SPELLING)
     names = list(dict.fromkeys(_lookup()[c] for c in close))
-    hint = f"closest: {', '.join(names)}" if names else "no close name; see 'navred bodies'"
+    hint = f"closest: {', '.join(names)}" if names else "no name navred knows is spelt like it; see 'navred bodies'"
     raise BodyNameError(f"unknown body {name!r}; {hint}")
 
 

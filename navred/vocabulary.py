@@ -35,7 +35,8 @@ UNIT_SPELLINGS: dict[str, str] = {
     "hpa": "hpa", "mb": "hpa", "mbar": "hpa", "millibar": "hpa", "millibars": "hpa",
     "inhg": "inhg", "in_hg": "inhg", "inches": "inhg", "inchesofmercury": "inhg",
     "mmhg": "mmhg", "mm_hg": "mmhg", "torr": "mmhg",
-    "deg": "deg", "°": "deg", "º": "deg", "degrees": "deg", "degree": "deg", "°′": "deg", "°'": "deg",
+    "deg": "deg", "°": "deg", "º": "deg", "degrees": "deg", "degree": "deg", "decimaldegrees": "deg",
+    "decimaldeg": "deg", "°′": "deg", "°'": "deg",
     "dm": "deg", "°t": "deg", "t": "deg", "true": "deg", "degt": "deg",
     "kn": "kn", "kt": "kn", "kts": "kn", "knots": "kn", "knot": "kn",
     "s": "s", "sec": "s", "secs": "s", "seconds": "s",
@@ -367,6 +368,11 @@ def match_header(header: object) -> HeaderMatch:
         stem, _, last = name.rpartition("_")
         if _SPELLINGS.get(stem) and UNIT_SPELLINGS.get(last) in COLUMN[_SPELLINGS[stem]].units:
             key, unit_text = _SPELLINGS[stem], last
+    if key is None and "_" in name:
+        # a latitude or longitude named in decimal degrees: dr_lat_deg, chart_lon_degrees
+        stem, _, last = name.rpartition("_")
+        if _SPELLINGS.get(stem) and COLUMN[_SPELLINGS[stem]].kind in ("lat", "lon") and last in ("deg", "degrees"):
+            key = _SPELLINGS[stem]
     if key is None:
         if name in AMBIGUOUS_HEADERS and unit_text is None:
             return HeaderMatch(str(header), None, None, f"header {str(header)!r} is ambiguous: "
@@ -392,6 +398,28 @@ def match_header(header: object) -> HeaderMatch:
                            f"{key.replace('_', ' ')} may be in {' or '.join(UNIT_NAMES[u] for u in column.units)}: "
                            f"name it {accepted}")
     return HeaderMatch(str(header), key, column.default_unit)
+
+
+#: the units in a header that declare its angles decimal degrees ('Hs (deg)', 'hs_deg', 'DR lat (decimal degrees)')
+DECIMAL_DEGREE_UNITS = frozenset({"deg", "degrees", "degree", "°", "º", "decimaldegrees", "decimaldeg"})
+
+
+def declares_decimal_degrees(header: object) -> bool:
+    """Whether a header states that its column's angles are decimal degrees: a unit in brackets ('Hs (deg)',
+    'DR lat [°]') or at the end of its name ('hs_deg', 'dr_lat_degrees'). Under such a header '35.30' is 35.30°;
+    under any other an angle written with two decimals that could be minutes is refused (docs/sight-log.md).
+
+    >>> declares_decimal_degrees("Hs (deg)"), declares_decimal_degrees("hs_deg"), declares_decimal_degrees("Hs")
+    (True, True, False)
+    >>> declares_decimal_degrees("Hs (°′)")
+    False
+    """
+    text = str(header).strip()
+    found = _UNIT_IN_BRACKETS.match(text)
+    if found and found.group("name"):
+        return re.sub(r"[\s._-]+", "", found.group("unit").lower()) in DECIMAL_DEGREE_UNITS
+    name = normalise_header(text)
+    return "_" in name and name.rpartition("_")[2] in ("deg", "degrees")
 
 
 def _watch_error_header(header: str, unit_text: str) -> HeaderMatch:

@@ -156,7 +156,7 @@ def test_plan_options_are_refused_before_the_work(tmp_path):
                          (["--zone", "+01:00"], "--zone"), (["--index-error", "lots"], "--index-error")):
         result = runner.invoke(app, base + extra)
         assert result.exit_code == 1 and words in result.output, (extra, result.output)
-        assert CAUTION not in result.output  # refused before the work: nothing shown yet
+        assert result.stderr.splitlines()[-1] == CAUTION  # refused before the work: the error, then the caution
 
 
 def test_a_plan_at_an_instant_is_rounded_to_the_minute():

@@ -54,9 +54,29 @@ def test_csv_output_stays_clean(arguments):
     assert len(pd.read_csv(io.StringIO(result.stdout))) > 0
 
 
-def test_a_refused_input_is_one_line_without_the_caution():
-    result = runner.invoke(app, ["plan", "--date", "2026-02-30", "--lat", "44 N", "--lon", "12 W"])
-    assert result.exit_code == 1 and CAUTION not in result.output
+@pytest.mark.parametrize(("arguments", "words"), [
+    (["plan", "--date", "2026-02-30", "--lat", "44 N", "--lon", "12 W"], "--date"),
+    (["almanac", "Sun", "--utc", "2026-03-20T18:42:10Z", "--dut1", "5"], "--dut1 5.0 is outside -0.9 to 0.9"),
+    (["almanac", "Sun", "--utc", "2026-03-20T18:42:10Z", "--dut1", "abc"], "Invalid value for '--dut1'"),
+    (["plan", "--date", "2026-03-26", "--lat", "44 N", "--lon", "12 W", "--eye", "2.8"], "metres or feet"),
+    (["plan", "--date", "2026-03-26", "--lat", "44 N", "--lon", "12 W", "--zone", "Q7"], "--zone: cannot read 'Q7'"),
+    (["reduce", DEMO, "--eye-height", "3"], "No such option: --eye-height"),
+    (["azimuths", "--date", "2026-03-26", "--lat", "44 N"], "--lon"),
+], ids=["date", "dut1-range", "dut1-text", "eye", "zone", "unknown-option", "missing-option"])
+def test_a_refused_option_is_its_error_then_the_caution(arguments, words):
+    """Every refusal ends with the caution on stderr, an option refused before any work (by navred or by the
+    command line itself) as a log refused: the navigator never meets a navred answer or refusal without it."""
+    result = runner.invoke(app, arguments)
+    assert result.exit_code in (1, 2) and words in result.stderr, result.output
+    lines = result.stderr.splitlines()
+    assert lines[-1] == CAUTION and result.stderr.count(CAUTION) == 1 and CAUTION not in result.stdout
+    assert lines.index(CAUTION) > next(k for k, x in enumerate(lines) if words in x)
+
+
+def test_a_command_navred_does_not_have_is_refused_without_the_caution():
+    """No command ran: navred's own usage, as --help is, without the caution."""
+    result = runner.invoke(app, ["reduec", DEMO])
+    assert result.exit_code == 2 and "No such command 'reduec'" in result.stderr and CAUTION not in result.output
 
 
 def test_every_gpx_and_geojson_carries_the_caution(tmp_path):

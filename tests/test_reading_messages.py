@@ -78,10 +78,10 @@ def test_every_command_says_each_refused_row_by_kind_as_reduce_csv_does(refused_
         assert "; DR lon: cannot read '-149° 30.0′' as a longitude" in line
 
 
-def test_an_option_refused_before_any_log_is_named_is_one_line_alone(refused_log):
+def test_an_option_refused_before_any_log_is_named_is_its_line_then_the_caution(refused_log):
     result = runner.invoke(app, ["reduce", str(refused_log), "--dates", "sideways"])
     assert result.exit_code == 1 and result.stderr.splitlines() == [
-        "navred: error: --dates 'sideways' is not one of day-first, month-first"]
+        "navred: error: --dates 'sideways' is not one of day-first, month-first", CAUTION]
 
 
 # --- 2. stdout's last line ended before stderr speaks: both streams to one file (2>&1) ----------------------------

@@ -19,6 +19,7 @@ import pytest
 from typer.testing import CliRunner
 
 from navred.cli import app
+from navred.io.cautions import CAUTION
 from navred.io.logbook import LogbookError, read_sight_log
 from navred.io.output import OutputError, atomic_write
 from navred.io.track import TrackError, nmea_year, read_track
@@ -727,7 +728,9 @@ def test_outputs_are_checked_for_suffix_name_and_folder_before_the_work(tmp_path
     result = runner.invoke(app, arguments)
     assert result.exit_code == 1, result.output
     assert fragment.replace("{tmp}", str(tmp_path)) in result.output, result.output
-    assert result.output.count("\n") == 1 and "Traceback" not in result.output
+    # the one error line, then the caution, as every refusal ends
+    assert result.output.count("\n") == 2 and "Traceback" not in result.output
+    assert result.output.splitlines()[-1] == CAUTION
     assert time.perf_counter() - started < 2.0  # refused before any reading or reducing
     assert sorted(p.name for p in tmp_path.iterdir()) == ["log.csv"]  # nothing written
 
@@ -748,7 +751,8 @@ def test_an_empty_option_value_is_refused_by_name_never_taken_as_not_given(argum
     # issue 20: -o '' and --rates '' were treated as not given (an unset shell variable, say)
     result = runner.invoke(app, arguments)
     assert result.exit_code == 1, result.output
-    assert result.output == f"navred: error: {name}: an empty value was given; give a value, or leave the option out\n"
+    assert result.output == (f"navred: error: {name}: an empty value was given; give a value, or leave the option "
+                             f"out\n{CAUTION}\n")
 
 
 # --- exit codes and the lines that go with them --------------------------------------------------------

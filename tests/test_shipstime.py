@@ -204,4 +204,4 @@ def test_days_prints_each_rejected_rows_reason(tmp_path):
     assert "1 row not reduced:" in result.output
     assert "row 3 (clocks): clocks 'sometime': give the zone the clocks keep from then" in result.output
     # and the ship's time does not say "no clocks entry" as if none were written
-    assert "ship's time: no clocks entry read (row 3 refused: see its reason), so the ship is taken" in result.output
+    assert "zone time kept: no clocks entry read (row 3 refused: see its reason), so the ship is taken" in result.output

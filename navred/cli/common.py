@@ -17,12 +17,35 @@ import warnings
 from collections.abc import Callable, Iterable
 
 import typer
-from typer.core import TyperCommand
+from typer.core import TyperCommand, TyperGroup
 
 from .. import __version__
 from ..errors import NavredError, NavredInternalError, NavredWarning
 
+#: the command line's own refusal of its words (an option unknown, left out, or of a value of the wrong type):
+#: BadParameter's base (typer names it publicly only through its subclass)
+USAGE_ERROR = next(k for k in typer.BadParameter.__mro__ if k.__name__ == "UsageError")
+
+
+class NavredGroup(TyperGroup):
+    """The app's group: a command's option refused by the command line itself (a value that is not a number, an
+    option navred does not have, one left out) is said as click says it, then the safety caution, as every other
+    refusal of a command ends (:func:`failed`)."""
+
+    def invoke(self, ctx):
+        try:
+            return super().invoke(ctx)
+        except USAGE_ERROR as exc:
+            if exc.ctx is None or exc.ctx.command is self:
+                raise  # no command named (or none navred has): navred's own usage, no caution
+            exc.show()
+            end_stdout()
+            print_caution()
+            raise typer.Exit(code=exc.exit_code) from None
+
+
 app = typer.Typer(
+    cls=NavredGroup,
     name="navred",
     help=("Celestial-navigation sight reduction from first principles. An aid to navigation, "
           "not a sole means: check against the official almanac and keep a DR plot."),
@@ -123,25 +146,25 @@ def main() -> None:
 
 # --- How a run reports ---------------------------------------------------------------------------
 
-#: whether this run has named a log to read (:func:`source`): from then on a failure ends with the caution too,
-#: as the run may have shown rows of it; an option refused before the work is one line alone
+#: whether this run has named a log to read (:func:`source`)
 _RUN = {"log_named": False}
 
 
 def failed(message: str, caught=(), *, caution: bool = True) -> None:
-    """A run's failure on stderr: every warning caught, the one error line, and the caution once the run has named
-    a log (stdout flushed first, so that its last line is never run into)."""
+    """A run's failure on stderr: every warning caught, the one error line, then the caution, whatever failed (a
+    log, or an option refused before the work: a navigator reads the caution with every answer or refusal);
+    stdout flushed first, so that its last line is never run into."""
     end_stdout()
     print_warnings(caught)
     typer.echo(f"navred: error: {message}", err=True)
-    if caution and _RUN["log_named"]:
+    if caution:
         print_caution()
 
 
 @contextlib.contextmanager
 def reported(ctx=None, *, caution: bool = True):
     """Turn navred errors into one line and exit 1; print every warning; end with the caution (after a failure
-    too, once a log was named). Anything unforeseen is one line too (no traceback reaches a user; NAVRED_DEBUG=1
+    too, an option refused included). Anything unforeseen is one line too (no traceback reaches a user; NAVRED_DEBUG=1
     shows it)."""
     _RUN["log_named"] = False
     with warnings.catch_warnings(record=True) as caught:
@@ -317,9 +340,13 @@ def column_number(value: float | None, name: str, key: str) -> float | None:
 def angle_option(text: str | None, kind: str, name: str) -> float:
     """An angle given on the command line, read by the log's own rules ('43 14.1 N', '4 W', -5.25)."""
     from ..angles import parse_angle
+    from ..io.logcells import minutes_as_decimal_refusal
 
     if text is None:
         raise NavredError(f"{name} is required")
+    two_readings = minutes_as_decimal_refusal(str(text), kind, "") if kind in ("lat", "lon") else None
+    if two_readings:  # '44.30 N' on the command line as in a log: 44.30° N or 44° 30′ N?
+        raise NavredError(f"{name}: {two_readings}")
     try:
         return float(parse_angle(text, kind))
     except NavredError as exc:

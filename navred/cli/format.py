@@ -215,13 +215,26 @@ def card_lines(path, card: pd.DataFrame) -> list[str]:
 
 # --- reduce and fix ---------------------------------------------------------------------------
 
+#: the widest the console's body column grows (a name navred knows is at most 15 letters: Rigil Kentaurus)
+BODY_COLUMN_MOST = 22
+
+
 def reduce_lines(done) -> Iterator[str]:
     """Every sight of a :class:`navred.jobs.reducing.ReducedLog`: Ho, Hc, Zn and the intercept, or why not; line by
     line as it is made (a long log's first lines reach a pager at once)."""
     reduced, log = done.reduced, done.log
     labels = [label.removeprefix("row ") for label in labels_of(reduced)]
     width = max([len(x) for x in labels] + [3])
-    yield (f"{'row':>{width}}  {'body':<15}{'UTC':<21}{'Ho':>12}{'Hc':>12}{'Zn':>8}  {'intercept':<18}note")
+    # the body's column as wide as its longest name and a space (Rigil Kentaurus), at most BODY_COLUMN_MOST: a
+    # longer name, one navred does not know, is cut with '…' (its refusal quotes it whole)
+    names = [str(b or "?") for b in reduced.body_name.tolist()] if len(reduced) else []
+    body_width = min(max([len(b) + 1 for b in names] + [15]), BODY_COLUMN_MOST)
+
+    def body(name) -> str:
+        text = str(name or "?")
+        return text if len(text) < body_width else text[:body_width - 2] + "…"
+
+    yield (f"{'row':>{width}}  {'body':<{body_width}}{'UTC':<21}{'Ho':>12}{'Hc':>12}{'Zn':>8}  {'intercept':<18}note")
     from ..timescales import utc_jd_to_seconds_text
 
     # to the nearest second, a leap second as its :60 (a time cut to the second shows a sight early)
@@ -239,12 +252,12 @@ def reduce_lines(done) -> Iterator[str]:
             first = firsts.setdefault(kind, (row.message, columns))
             said = row.message if len(alike) <= FULL_REFUSALS else \
                 same_reasons_as(alike[0], first[0], row.message, columns)
-            yield f"{label:>{width}}  {str(row.body_name or '?'):<15}{when:<21}{'not reduced:':>12} {said}"
+            yield f"{label:>{width}}  {body(row.body_name):<{body_width}}{when:<21}{'not reduced:':>12} {said}"
             continue
         intercept = f"{abs(row.intercept_nm):5.1f} nm {row.intercept_direction}"
         carried = getattr(row, "motion_carried_from", "")
         note = "; ".join(t for t in (row.message, carried) if t)
-        yield (f"{label:>{width}}  {row.body_name:<15}{when:<21}{format_angle(row.ho_deg, 'signed'):>12}"
+        yield (f"{label:>{width}}  {body(row.body_name):<{body_width}}{when:<21}{format_angle(row.ho_deg, 'signed'):>12}"
                f"{format_angle(row.hc_deg, 'signed'):>12}{f'{row.zn_deg % 360.0:05.1f}°':>8}  {intercept:<18}{note}")
     counts = reduced.status.value_counts()
     empty = f", {log.empty_rows} empty row{'s' if log.empty_rows > 1 else ''} skipped" if log.empty_rows else ""

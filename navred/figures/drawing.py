@@ -162,9 +162,13 @@ def text_corners(x: float, y: float, text: str, size: float, *, anchor: str = "s
 
 def wrap_text(text: str, size: float, width_pt: float, bold: bool = False, italic: bool = False) -> list[str]:
     """``text`` broken at spaces into lines no wider than ``width_pt`` at ``size`` (a word longer than the
-    line stands alone on its line): a long note is wrapped, never cut."""
+    line stands alone on its line): a long note is wrapped, never cut, and never inside an angle (a hemisphere
+    letter stays with its number: :func:`navred.angles.keep_angles_whole`)."""
+    from ..angles import keep_angles_whole
+
     lines: list[str] = []
-    for word in str(text).split(" "):
+    for word in keep_angles_whole(str(text)).split(" "):  # an angle is one word: 44° 30.0′ N never broken
+        word = word.replace("\u00a0", " ")
         if lines and text_width_pt(f"{lines[-1]} {word}", size, bold, italic) <= width_pt:
             lines[-1] = f"{lines[-1]} {word}"
         else:

@@ -27,7 +27,7 @@ LABELS = {
     "unaccounted_set_deg": "unaccounted set (deg)", "unaccounted_drift_kn": "unaccounted drift (kn)",
     "kept_dr_lat_deg": "DR kept lat (deg)", "kept_dr_lon_deg": "DR kept lon (deg)",
     "current_95_kn": "current ±95 % (kn)", "current_note": "current from", "to": "steering for",
-    "to_go_nm": "to go (nm)", "eta_utc": "ETA (UTC)", "eta_ship_time": "ETA (ship's time)", "eta_basis": "ETA by",
+    "to_go_nm": "to go (nm)", "eta_utc": "ETA (UTC)", "eta_ship_time": "ETA (zone time)", "eta_basis": "ETA by",
     "clock_changes": "clock changes since the last noon", "ship_position": "ship's position",
     "ship_from": "ship's position from", "off_nm": "off the ship (nm)", "bearing_deg": "bearing from the ship (deg)",
     "course_working": "course: the working", "speed_working": "speed: the working",

@@ -48,6 +48,7 @@ from ..vocabulary import (
     OWN_COLUMN_HINT,
     RESULT_COLUMNS,
     UNIT_NAMES,
+    declares_decimal_degrees,
     match_header,
     normalise_header,
     unknown_header_refusal,
@@ -171,6 +172,8 @@ class _Layout:
     problems: list[str]  # headers refused (ambiguous, or a unit the column does not take)
     #: what the navigator should know of the headers: the columns navred does not read, the repeated ones
     notes: list[str] = field(default_factory=list)
+    #: header indices whose angles the header declares decimal degrees ('Hs (deg)', navred's own output)
+    decimal_degrees: set[int] = field(default_factory=set)
 
 
 def _layout(table: RawTable, also_reads: frozenset[str] = frozenset()) -> _Layout:
@@ -194,6 +197,7 @@ def _layout(table: RawTable, also_reads: frozenset[str] = frozenset()) -> _Layou
                 key = _OUTPUT_COLUMNS[name]
                 layout.keys.setdefault(key, []).append(k)
                 layout.units[k] = _OUTPUT_UNITS.get(key, COLUMN[key].default_unit)
+                layout.decimal_degrees.add(k)  # navred writes decimal degrees
             elif header.strip().endswith(OUTPUT_SUFFIX) or (name not in SIGHT_COLUMNS and name not in RESULT_NAMES):
                 layout.extras.append(k)
             continue
@@ -221,6 +225,8 @@ def _layout(table: RawTable, also_reads: frozenset[str] = frozenset()) -> _Layou
         else:
             layout.keys.setdefault(match.key, []).append(k)
             layout.units[k] = match.unit
+            if declares_decimal_degrees(header):
+                layout.decimal_degrees.add(k)
     file = Path(table.source).name if table.source != "(table)" else "the table"
     if unread:
         shown = ", ".join(repr(h) for h in unread[:12]) + (f" and {len(unread) - 12} more" if len(unread) > 12 else "")
@@ -652,7 +658,7 @@ def _zone_notes(cells, ok, dates, sources, rows) -> list[str]:
     count = len(named)
     return [f"{count} instant{'s' if count > 1 else ''} in the utc column give{'' if count > 1 else 's'} no zone "
             f"({shown}): taken as UTC, as the column's name says, whether written as text or as a spreadsheet "
-            "date-time cell; if the log holds ship's time, give date, zone_time and zone_description instead "
+            "date-time cell; if the log holds zone time (the ship's clock), give date, zone_time and zone_description instead "
             "(write Z, 2026-03-26T19:41:00Z, to say UTC)"]
 
 

@@ -218,6 +218,23 @@ def _ranged(number: float, key: str, unit: str | None) -> float:
     return used
 
 
+#: a time of day and nothing else, perhaps with a zone: '22:15:00', '22:15', '221500', '22:15:00Z', '22:15 UTC'
+_TIME_OF_DAY_ONLY = re.compile(r"^\d{1,2}:?\d{2}(?::?\d{2}(?:\.\d+)?)?\s*(?:z|utc|gmt|ut)?$", re.IGNORECASE)
+
+
+def time_without_date(written: str) -> str:
+    """The refusal of a UTC (or GMT) cell that holds a time of day and no date: what is missing, and the two
+    ways to give it."""
+    clock = re.sub(r"\s*(?:z|utc|gmt|ut)$", "", written.strip(), flags=re.IGNORECASE)
+    if ":" not in clock and len(clock) in (4, 6):
+        clock = ":".join(clock[k:k + 2] for k in range(0, len(clock), 2))
+    if clock.count(":") == 1:
+        clock += ":00"
+    return (f"{written!r} is a time of day with no date: a UTC (GMT) cell is the whole instant, date and time; "
+            f"write the date in it, YYYY-MM-DDT{clock}Z (2026-12-04T{clock}Z for 4 December 2026), or keep this "
+            "time in a 'Zone time' column beside a 'Date' column and a 'ZD' column of 0 (zone Z: the time is UTC)")
+
+
 def _utc_components(value, dates):
     """(y, m, d, h, mi, s, offset minutes) of a value in the utc column."""
     if isinstance(value, MissingFormulaValue):
@@ -231,8 +248,12 @@ def _utc_components(value, dates):
     elif isinstance(value, (int, float)):
         raise NavredError(f"{value!r} is a number, not an instant: format the cell as a date-time, or write "
                           "2026-03-26T19:41:00Z")
+    elif isinstance(value, _dt.time):
+        raise NavredError(time_without_date(value.strftime("%H:%M:%S")))
     elif isinstance(value, str):
         written = value.strip()
+        if _TIME_OF_DAY_ONLY.match(written):
+            raise NavredError(time_without_date(written))
         try:
             value = iso_instant_text(written, dates)
             made = value
@@ -455,6 +476,8 @@ class Cells:
     headers: np.ndarray
     decimal_comma: np.ndarray
     present: bool
+    #: the rows whose header declares its angles decimal degrees ('Hs (deg)'): None when none does
+    decimal_degrees: np.ndarray | None = None
 
 
 @dataclass
@@ -468,7 +491,19 @@ class Parsed:
 
 def gather(tables, layouts, key) -> Cells:
     """The cells of one key across all tables (blank where a table lacks it); two columns of one
-    table that give the same key are combined row by row (one value at most).
+    table that give the same key are combined row by row (one value at most). An angle's rows say whether
+    their header declares decimal degrees (:attr:`Cells.decimal_degrees`)."""
+    cells = _gathered(tables, layouts, key)
+    if COLUMN[key].kind in ANGLE_KINDS:
+        declared = [bool(layout.keys.get(key)) and all(k in layout.decimal_degrees or _writes_decimal_degrees(
+            table.columns[k]) for k in layout.keys[key]) for table, layout in zip(tables, layouts)]
+        if any(declared):
+            cells.decimal_degrees = np.repeat(np.array(declared, dtype=bool), [t.n_rows for t in tables])
+    return cells
+
+
+def _gathered(tables, layouts, key) -> Cells:
+    """The cells of one key across all tables (see :func:`gather`).
 
     The tables' cells are joined first and looked at once, so a folder of many small logs costs
     about what one log of all their rows would."""
@@ -623,7 +658,96 @@ def parse_key(cells: Cells, key: str, problems: Problems, dates) -> Parsed:
             batches = [(units[keys == k][0], bool(commas[keys == k][0]), rows[keys == k]) for k in dict.fromkeys(keys)]
         for unit, comma, members in batches:
             _parse_each_distinct(column, cells, members, unit, comma, dates, value, refused, problems)
+    if column.kind in ANGLE_KINDS:
+        _refuse_minutes_as_decimals(column, cells, refused, problems)
     return Parsed(~cells.blank & ~refused, value)
+
+
+#: the kinds of column whose cells are angles in degrees, where '35.30' may be 35° 30′ written with a point
+ANGLE_KINDS = ("altitude", "lat", "lon")
+#: an angle written as a decimal with exactly two decimals, 01 to 59, which may be minutes: an Hs '35.30', a
+#: latitude or longitude with its letter '20.35 N', 'N 20.35' (a bare or signed one, '-17.45', is ISO 6709's decimal
+#: degrees, as the log's rule has it; a decimal whose fraction is .00 or .60 and more, or of one or three and more decimals, is
+#: decimal degrees; so is a number cell of a spreadsheet, or any cell under a header that declares degrees)
+_MINUTES_AS_DECIMALS = re.compile(r"^\s*([+\-−]?)\s*([NSEWnsew]?)\s*(\d{1,3})\.([0-5]\d)\s*([NSEWnsew]?)\s*$")
+
+
+def minutes_as_decimal_refusal(text: str, kind: str, declare: str | None = None) -> str | None:
+    """Why an angle written ``text`` is refused as having two readings (decimal degrees, or degrees and minutes
+    written with a point), naming both and how to write each; None when it has one. ``kind``: altitude, lat or
+    lon (the message's example takes its hemisphere letter); ``declare``: how to declare decimal degrees where
+    there is no header (a command-line option), instead of the header's unit.
+
+    >>> minutes_as_decimal_refusal("35.30", "altitude")[:60]
+    "'35.30' has two readings: 35.30° (= 35° 18.0′) or 35° 30.0′ "
+    >>> minutes_as_decimal_refusal("35.3", "altitude") is None, minutes_as_decimal_refusal("35.75", "altitude") is None
+    (True, True)
+    """
+    found = _MINUTES_AS_DECIMALS.match(text)
+    if not found or found.group(4) == "00" or (found.group(2) and found.group(5)):
+        return None
+    sign, before, degrees, minutes, after = found.groups()
+    if kind != "altitude" and not (before or after):
+        return None  # a bare or signed number of a latitude or longitude is ISO 6709's decimal degrees
+    letter = (before or after).upper()
+    minutes_as_decimal = int(minutes) * 0.6  # .30 of a degree is 18.0′
+    lead = "-" if sign in ("-", "−") else ""
+    tail = f" {letter}" if letter else ""
+    if declare is not None:
+        pass
+    elif kind == "altitude":
+        declare = "head the column 'Hs (deg)' (or hs_deg)"
+    else:
+        declare = f"head the column with its unit, 'DR {kind} (deg)' (or dr_{kind}_deg)"
+    return (f"{text.strip()!r} has two readings: {lead}{degrees}.{minutes}°{tail} (= {lead}{int(degrees)}° "
+            f"{minutes_as_decimal:04.1f}′{tail}) or {lead}{int(degrees)}° {int(minutes):02d}.0′{tail} written with a "
+            f"point? for degrees and minutes write '{lead}{degrees} {minutes}.0{tail}' or "
+            f"'{lead}{degrees}° {minutes}.0′{tail}'; for decimal degrees {declare + ', or ' if declare else ''}write it "
+            f"with one decimal or three ('{lead}{degrees}.{minutes}0{tail}')")
+
+
+#: an angle that can only be decimal degrees: three decimals or more, or two from .60 ('35.305', '35.75 N')
+_DECIMAL_ONLY = re.compile(r"^\s*[+\-−]?\s*[NSEWnsew]?\s*\d{1,3}\.(?:\d{3,}|[6-9]\d)\s*[NSEWnsew]?\s*$")
+#: an angle written in degrees and minutes: digits, then a space or a mark, then digits ('35 30.0', '35°30′')
+_DEGREES_AND_MINUTES = re.compile(r"\d[\s°º˚'′’]+\d")
+
+
+def _writes_decimal_degrees(column: pd.Series) -> bool:
+    """Whether a table's column of angles shows that its writer keeps decimal degrees: a text that can only be
+    decimal degrees ('35.30512', '35.75'), and none in degrees and minutes ('35 30.0'); then its texts with two
+    decimals ('35.45', a decimal whose trailing zeros were dropped) are decimal degrees too. A column of
+    numbers (a spreadsheet's number cells) is decimal degrees as it is."""
+    if column.dtype.kind in "fiu":
+        return True
+    texts = [u for u in pd.unique(column.to_numpy(dtype=object)) if type(u) is str]
+    return any(_DECIMAL_ONLY.match(t) for t in texts) and not any(_DEGREES_AND_MINUTES.search(t) for t in texts)
+
+
+def _refuse_minutes_as_decimals(column, cells: Cells, refused: np.ndarray, problems: Problems) -> None:
+    """The angles read that have two readings (:func:`minutes_as_decimal_refusal`) refused, each distinct text
+    once, but under a header that declares decimal degrees."""
+    look = ~cells.blank & ~refused
+    if cells.decimal_degrees is not None:
+        look &= ~cells.decimal_degrees
+    rows = np.flatnonzero(look)
+    if not rows.size:
+        return
+    originals = cells.values.iloc[rows]
+    codes, uniques = pd.factorize(originals, use_na_sentinel=True)
+    reasons = {}
+    for u, text in enumerate(uniques.tolist() if hasattr(uniques, "tolist") else list(uniques)):
+        if type(text) is str and "." in text:
+            reason = minutes_as_decimal_refusal(text, column.kind)
+            if reason:
+                reasons[u] = reason
+    if not reasons:
+        return
+    bad = np.isin(codes, list(reasons))
+    where = rows[bad]
+    refused[where] = True
+    texts = np.array([cell_text(uniques[c]) for c in codes[bad]], dtype=object)
+    why = np.array([reasons[c] for c in codes[bad]], dtype=object)
+    problems.add(where, cells.headers[where], texts, why)
 
 
 def _parse_in_bulk(column, cells: Cells, value: np.ndarray, todo: np.ndarray) -> None:

@@ -16,6 +16,7 @@ import re
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from ..angles import keep_angles_whole
 from ..errors import NavredError
 from .output import FORMULA_STARTS, atomic_write, atomic_write_many
 
@@ -363,7 +364,7 @@ def _flowables(blocks, width: float, styles, fonts, *, nested: bool = False):
 def _escape(text: str) -> str:
     from xml.sax.saxutils import escape
 
-    return escape(text).replace("\n", "<br/>")
+    return escape(keep_angles_whole(text)).replace("\n", "<br/>")
 
 
 def pdf_bytes(document: Document, *, made: _dt.date | None = None) -> bytes:

@@ -416,10 +416,9 @@ def _plain_block(source: str, header: list[str], data: list[str], first_row_numb
         problems: dict[int, tuple[str, str]] = {}
         malformed: dict[int, list[str]] = {}
         notes: list[str] = []
-        columns, numbers, problems, malformed, partial = _skip_repeated_headers(source, header, columns, numbers,
-                                                                                problems, malformed, notes)
-        if partial:
-            _refuse_repeated_headers(header, columns, numbers, problems, malformed)
+        columns, numbers, problems, malformed, _ = _skip_repeated_headers(source, header, columns, numbers,
+                                                                          problems, malformed, notes)
+        _refuse_other_headers(source, header, columns, numbers, problems, malformed)
         _blank_rows(columns, problems)
         return RawTable(source, header, columns, np.asarray(numbers, dtype=int), problems, separator,
                         separator in (";", "\t"), int(blank.sum()), malformed, notes=notes)
@@ -637,16 +636,20 @@ def plain_csv_parts(path: str | Path, rows: int):
     blank = np.zeros(len(header), dtype=bool)
     plan = PlainBlocks(str(path), header, separator, np.zeros(1, dtype=np.int64), np.zeros(0, dtype=np.int64),
                        first + 2, rows, blank, 0, crlf, (), np.zeros(0, dtype=np.int64), ())
-    return plan, _scan_plain_lines(path, separator.encode(), len(header), rows, header_end, crlf)
+    return plan, _scan_plain_lines(path, separator.encode(), len(header), rows, header_end, crlf,
+                                   sum(c.isdigit() for c in header_text), [h.casefold() for h in header])
 
 
-def _scan_plain_lines(path: Path, separator: bytes, width: int, rows: int, position: int, crlf: bool = False):
+def _scan_plain_lines(path: Path, separator: bytes, width: int, rows: int, position: int, crlf: bool = False,
+                      header_digits: int = 0, header_cells: Sequence[str] = ()):
     """Each block of ``rows`` lines from ``position`` on (a :class:`PlainPart`) as the file is looked at
     (:data:`SCAN_BYTES` at a time), yielded as soon as its last line has been looked at; raises
     :class:`NotPlain` when a line is not plain or has another number of fields than the header, or the file
     holds more than :data:`MAX_ROWS` lines. ``crlf``: every line ends with a carriage return before its line
     feed (not plain when one does not)."""
     code = separator[0]
+    least_digits = header_digits + HEADER_LIKE_DIGITS
+    header_cells = list(header_cells)
     lines_seen, carry = 0, b""
     k, start, in_block, digest = 0, position, 0, _block_digest()
     blank_columns, longest, blanks = np.zeros(width, dtype=bool), 0, 0
@@ -678,6 +681,8 @@ def _scan_plain_lines(path: Path, separator: bytes, width: int, rows: int, posit
             if looked is None:
                 raise NotPlain
             feeds, empty, kept, lengths, blank_line = looked
+            if _header_like_lines(body, codes, feeds, blank_line, crlf, least_digits, separator, header_cells):
+                raise NotPlain  # a line that may be another header: read whole, where it is looked at cell by cell
             lines_seen += feeds.size
             if lines_seen > MAX_ROWS:
                 raise NotPlain  # read_table gives the refusal
@@ -702,6 +707,26 @@ def _scan_plain_lines(path: Path, separator: bytes, width: int, rows: int, posit
                 break
     if in_block:
         yield PlainPart(k, start, position, in_block, digest.digest(), blanks, longest, blank_columns)
+
+
+#: a line with fewer digits than the header's and this many more may be another header (a sight's line holds a
+#: date, a time, an altitude and a position: many more); such a file is read whole, its rows looked at cell by cell
+HEADER_LIKE_DIGITS = 6
+
+
+def _header_like_lines(body: bytes, codes: np.ndarray, feeds: np.ndarray, blank_line: np.ndarray, crlf: bool,
+                       least: int, separator: bytes, header_cells: list[str]) -> bool:
+    """Whether a line that is not blank holds fewer than ``least`` digits and is not the header again, cell for
+    cell in any case (a whole repeat is skipped, with a note, block by block)."""
+    digits = np.flatnonzero((codes >= 48) & (codes <= 57))
+    starts = np.concatenate([[0], feeds[:-1] + 1])
+    ends = feeds - (1 if crlf else 0)
+    per_line = np.searchsorted(digits, ends) - np.searchsorted(digits, starts)
+    for k in np.flatnonzero((per_line < least) & ~blank_line).tolist():
+        cells = body[starts[k]:ends[k]].decode("utf-8").split(separator.decode())
+        if [c.strip().casefold() for c in cells] != header_cells:
+            return True
+    return False
 
 
 def _block_digest_of(data: bytes) -> bytes:
@@ -868,8 +893,8 @@ def _finish(source, header, columns, numbers, problems, malformed, separator, em
     ``clean``: the caller has checked the whole text for control characters, and there are none. A row that
     repeats the header whole is skipped, with a note (:func:`_skip_repeated_headers`)."""
     notes: list[str] = []
-    columns, numbers, problems, malformed, partial = _skip_repeated_headers(source, header, columns, numbers,
-                                                                            problems, malformed, notes)
+    columns, numbers, problems, malformed, _ = _skip_repeated_headers(source, header, columns, numbers,
+                                                                      problems, malformed, notes)
     for k, column in enumerate(columns):
         bad = _bad_text_rows(column, lengths_only=clean)
         if bad is None:
@@ -879,8 +904,7 @@ def _finish(source, header, columns, numbers, problems, malformed, separator, em
                 continue
             problems[int(row)] = (header[k], _text_problem(str(column.iloc[row])))
             malformed[int(row)] = ["" if _is_blank(c.iloc[row]) else _shown(str(c.iloc[row])) for c in columns]
-    if partial:
-        _refuse_repeated_headers(header, columns, numbers, problems, malformed)
+    _refuse_other_headers(source, header, columns, numbers, problems, malformed)
     _blank_rows(columns, problems)
     return RawTable(source, header, columns, numbers, problems, separator, separator in (";", "\t"), empty,
                     malformed, notes=notes)
@@ -904,9 +928,9 @@ def _skip_repeated_headers(source, header, columns, numbers, problems, malformed
     """Rows that repeat the header whole, every named column's cell its own header (a page's header copied down a
     sheet, two logs of one layout joined one under the other), skipped with a note naming them: they are not
     sights, and the rows after them are read by the same columns. A row that repeats only some of the header
-    (the rest blank) is left to :func:`_refuse_repeated_headers`, which refuses it by its row. Returns the
+    (the rest blank), or another header, is left to :func:`_refuse_other_headers`. Returns the
     columns, row numbers, problems and malformed rows without the skipped rows (re-indexed), and whether any
-    other row may repeat the header in part (for :func:`_refuse_repeated_headers` to look at)."""
+    other row may repeat the header in part."""
     candidates, named = _header_row_matches(header, columns)
     whole = [row for row in candidates if row not in problems and all(
         not _is_blank(columns[k].iloc[row]) and str(columns[k].iloc[row]).strip().casefold() == name
@@ -929,32 +953,79 @@ def _skip_repeated_headers(source, header, columns, numbers, problems, malformed
     return columns, np.asarray(numbers)[keep], problems, malformed, partial
 
 
-def _refuse_repeated_headers(header, columns, numbers, problems, malformed) -> None:
-    """Rows that repeat part of the header, the other cells blank (a header copied down a sheet with columns
-    left out, or another log's header), refused by their row, said to be a repeated header: read as data, their
-    'Date' would be refused as a date that cannot be read, which misleads. Refused, not skipped: the rows after
-    it may have been written to other columns, and are read by the first header's (a whole repeat is skipped
-    before this, :func:`_skip_repeated_headers`)."""
-    candidates, named = _header_row_matches(header, columns)
+def _name_cells(header, columns) -> np.ndarray:
+    """How many cells of each row are column names: a name of this header (as written, any case) or any
+    spelling of the sight vocabulary (:func:`navred.vocabulary.match_header`). Only the distinct texts with no
+    digit in them are looked at (a column name has none; a sight's numbers do)."""
+    own = {str(h).strip().casefold() for h in header if str(h).strip()}
+    counts = np.zeros(len(columns[0]) if columns else 0, dtype=np.int32)
+    for column in columns:
+        codes, uniques = _distinct_text(column)
+        if uniques is None:
+            continue
+        texts = pd.Series(uniques, dtype=object)
+        wordy = np.flatnonzero(~texts.str.contains(r"\d", regex=True).to_numpy(dtype=bool)).tolist()
+        names = [u for u in wordy if uniques[u].strip() and (
+            uniques[u].strip().casefold() in own or match_header(uniques[u]).key is not None
+            or match_header(uniques[u]).problem)]
+        if names:
+            counts += np.isin(codes, names)
+    return counts
+
+
+def _refuse_other_headers(source, header, columns, numbers, problems, malformed) -> None:
+    """Rows that look like a header (two or more cells are column names, and most of the row's cells are), other
+    than a whole repeat of this header (skipped before this, :func:`_skip_repeated_headers`). One rule for every
+    way a log is read (a file whole, a long file's blocks, a workbook's sheet, a DataFrame):
+
+    - each name in its own column, the other cells blank or not names (a header copied down with columns left
+      out): the row is refused by its number, it is not a sight (the rows after it are in this header's columns);
+    - a name under another column, or a column this header does not have (two exports joined, the second in
+      another order or with other columns): the whole log is refused (:class:`LogbookError`), naming the row and
+      both orders; read by the first header, the rows after it would silently get the wrong columns."""
+    if not columns or not len(columns[0]):
+        return
+    counts = _name_cells(header, columns)
+    candidates = np.flatnonzero(counts >= 2).tolist()
+    if not candidates:
+        return
+    own = [str(h).strip().casefold() for h in header]
+    file = Path(str(source)).name if str(source) != "(table)" else "the table"
     for row in candidates:
         if row in problems:
             continue
-        matched = 0
-        for k, name in named:
-            cell = columns[k].iloc[row]
-            text = "" if _is_blank(cell) else str(cell).strip().casefold()
-            if text == name:
-                matched += 1
-            elif text:
-                break
-        else:
-            if matched >= min(2, len(named)):
-                problems[row] = ("", (
-                    f"row {int(numbers[row])} repeats the header row ({', '.join(repr(str(header[k])) for k, _ in named[:3])}"
-                    f"{', ...' if len(named) > 3 else ''}) in part, its other cells blank: it is not a sight, so "
-                    "it is refused; a header copied down the sheet or two logs joined? delete the row, and check "
-                    "that the rows after it were written in the first header's columns (they are read by them)"))
-                malformed[row] = ["" if _is_blank(c.iloc[row]) else _shown(str(c.iloc[row])) for c in columns]
+        cells = ["" if _is_blank(c.iloc[row]) else str(c.iloc[row]).strip() for c in columns]
+        filled = [k for k, cell in enumerate(cells) if cell]
+        if 2 * int(counts[row]) <= len(filled) or sum(any(c.isdigit() for c in cells[k]) for k in filled) > counts[row]:
+            continue  # a sight whose words happen to be column names (an observer called 'Navigator', the 'Ship')
+        named = [k for k in filled if cells[k].casefold() in own or match_header(cells[k]).key is not None
+                 or match_header(cells[k]).problem]
+        if all(cells[k].casefold() == own[k] for k in named):
+            problems[row] = ("", (
+                f"row {int(numbers[row])} repeats the header row ({', '.join(repr(str(header[k])) for k in named[:3])}"
+                f"{', ...' if len(named) > 3 else ''}) in part, its other cells "
+                f"{'blank' if len(named) == len(filled) else 'not column names'}: it is not a sight, so it is "
+                "refused; a header copied down the sheet or two logs joined? delete the row, and check that the "
+                "rows after it were written in the first header's columns (they are read by them)"))
+            malformed[row] = ["" if _is_blank(c.iloc[row]) else _shown(str(c.iloc[row])) for c in columns]
+            continue
+        first = [str(h) for h in header]
+        second = [cells[k] if cells[k] else "(blank)" for k in range(len(cells))]
+
+        def shown(names):
+            return ", ".join(names[:24]) + (f", ... ({len(names)} columns)" if len(names) > 24 else "")
+
+        differ = [k for k in range(len(first)) if first[k].strip().casefold() != second[k].casefold()]
+        where = ", ".join(f"{column_letter(k)} {first[k]!r} / {second[k]!r}" for k in differ[:6]) + (
+            f" and {len(differ) - 6} more" if len(differ) > 6 else "")
+
+        raise LogbookError(
+            f"{file}: row {int(numbers[row])} is another header row, not this log's: its columns are in another "
+            f"order or are other columns (two logs joined?). The log's header: {shown(first)}; row "
+            f"{int(numbers[row])}: {shown(second)} (they differ in column{'s' if len(differ) > 1 else ''} {where}). navred reads a log by one header, so the rows after row "
+            f"{int(numbers[row])} would be read under the wrong columns: the log is refused. Split the file at row "
+            f"{int(numbers[row])} into two logs, each with its own header, and give both (navred reads several "
+            "logs at once), or put every row's cells in the first header's order and delete the row")
 
 
 def _bad_text_rows(column: pd.Series, *, lengths_only: bool = False):

@@ -441,7 +441,7 @@ def noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict], lines:
             rows = ", ".join(f"row {r}" for r in refused["row"].drop_duplicates().tolist())
             how = (f"no clocks entry read ({rows} refused: see its reason), so " + how[len("no clocks entry: "):]
                    if how.startswith("no clocks entry: ") else how)
-    notes = [f"{label}: ship's time: {how}"]
+    notes = [f"{label}: zone time kept: {how}"]
     if kept_as_stated:
         notes += [f"{label}: {text}" for text in zone_disagreements(stated, track)]
     elif how.startswith("the clocks as entered"):

@@ -288,7 +288,7 @@ def vessel_clocks(entries: pd.DataFrame, track: DRTrack, start_ns: int, end_ns: 
 
 
 def clock_changes_text(clocks: ShipsClocks, after_ns: int, until_ns: int) -> str:
-    """The clock changes between two instants in words: 'clocks retarded 1 h at 02:00 ship's time (ZD +2 to +3);
+    """The clock changes between two instants in words: 'clocks retarded 1 h at 02:00 zone time (ZD +2 to +3);
     date line: 2026-10-07 skipped (ZD +12 to -12)'."""
     texts = []
     for k in range(1, clocks.change_ns.size):
@@ -305,9 +305,9 @@ def clock_changes_text(clocks: ShipsClocks, after_ns: int, until_ns: int) -> str
             day = (np.datetime64(t - int(round(after * NS_PER_HOUR)), "ns").astype("datetime64[D]")
                    - np.timedelta64(1 if step > 0 else 0, "D"))
             what = "skipped (westbound)" if step > 0 else "repeated (eastbound)"
-            texts.append(f"date line at {at} ship's time: {day} {what} ({zone_text(before)} to {zone_text(after)})")
+            texts.append(f"date line at {at} zone time: {day} {what} ({zone_text(before)} to {zone_text(after)})")
         else:
-            texts.append(f"clocks {'advanced' if step > 0 else 'retarded'} {abs(step):g} h at {at} ship's time "
+            texts.append(f"clocks {'advanced' if step > 0 else 'retarded'} {abs(step):g} h at {at} zone time "
                          f"({zone_text(before)} to {zone_text(after)})")
     return "; ".join(texts)
 

@@ -1,0 +1,114 @@
+"""Degrees and minutes written as a decimal: '35.30' (35.30° or 35° 30′?) and '20.35 N' are refused naming both
+readings and how to write each; the forms with one reading are read (degrees and minutes with a space, marks or a
+hyphen; decimal degrees where the header declares them, where the number cannot be minutes, where the column
+shows its writer keeps decimals, or in a number cell). 1° = 60′ throughout  # common practice (sexagesimal degrees)
+The logs are written by hand."""
+
+from __future__ import annotations
+
+import pandas as pd
+import pytest
+from typer.testing import CliRunner
+
+from navred.angles import parse_angle
+from navred.cli import app
+from navred.io.logbook import read_sight_log
+from navred.io.logcells import minutes_as_decimal_refusal
+
+runner = CliRunner()
+
+ROW = "2026-12-04T22:15:00Z,Sun,LL,{hs},1.2 off,3.0,{lat},{lon}"
+
+
+def log(tmp_path, rows, header="UTC,Body,Limb,Hs,IE,Eye height (m),DR lat,DR lon", name="log.csv"):
+    path = tmp_path / name
+    path.write_text("\n".join([header, *[ROW.format(**r) for r in rows]]) + "\n", encoding="utf-8")
+    return path
+
+
+def reasons(sight_log) -> list[str]:
+    return sight_log.table.loc[sight_log.table.row.isin(sight_log.rejected.row), "read_problem"].tolist()
+
+
+def test_the_refusal_names_both_readings_and_how_to_write_each():
+    # 0.30° = 18.0′ and 0.35° = 21.0′  # common practice (1° = 60′)
+    hs = minutes_as_decimal_refusal("35.30", "altitude")
+    assert hs.startswith("'35.30' has two readings: 35.30° (= 35° 18.0′) or 35° 30.0′ written with a point?")
+    assert "write '35 30.0' or '35° 30.0′'" in hs and "head the column 'Hs (deg)' (or hs_deg)" in hs
+    assert "('35.300')" in hs
+    lat = minutes_as_decimal_refusal("20.35 N", "lat")
+    assert lat.startswith("'20.35 N' has two readings: 20.35° N (= 20° 21.0′ N) or 20° 35.0′ N written with a point?")
+    assert "'20 35.0 N'" in lat and "'DR lat (deg)' (or dr_lat_deg)" in lat
+    lon = minutes_as_decimal_refusal("149.50 W", "lon")
+    assert "149.50° W (= 149° 30.0′ W) or 149° 50.0′ W" in lon and "'DR lon (deg)'" in lon
+
+
+def test_a_bare_or_signed_latitude_or_longitude_is_iso_6709_decimal_degrees():
+    # ISO 6709: a signed decimal is decimal degrees, north and east positive  # ISO 6709 (published standard)
+    assert minutes_as_decimal_refusal("-17.45", "lat") is None and minutes_as_decimal_refusal("20.45", "lat") is None
+    assert minutes_as_decimal_refusal("-5.47", "lon") is None
+    assert minutes_as_decimal_refusal("35.30", "altitude") is not None  # an Hs has no such rule
+
+
+@pytest.mark.parametrize("text", ["35.3", "35.305", "35.30512", "35.75", "35.00", "35", "35 30.0", "35°30'",
+                                  "35-30.0", "35° 30.0′"])
+def test_a_form_with_one_reading_is_not_refused(text):
+    assert minutes_as_decimal_refusal(text, "altitude") is None
+
+
+@pytest.mark.parametrize(("text", "kind", "degrees"), [
+    ("35 30.0", "angle", 35.5), ("35°30'", "angle", 35.5), ("35-30.0", "angle", 35.5),
+    ("020-35.2 N", "lat", 20 + 35.2 / 60), ("149-30.0 W", "lon", -149.5)])
+def test_degrees_and_minutes_with_a_space_marks_or_a_hyphen(text, kind, degrees):
+    assert parse_angle(text, kind) == pytest.approx(degrees, abs=1e-12)  # common practice (1° = 60′)
+
+
+def test_a_hand_kept_log_refuses_each_ambiguous_angle_by_its_row(tmp_path):
+    path = log(tmp_path, [dict(hs="81.30", lat="17 30.0 S", lon="149 30.0 W"),
+                          dict(hs="81 51.4", lat="17.30 S", lon="149 30.0 W"),
+                          dict(hs="81 51.4", lat="17 30.0 S", lon="149.50 W"),
+                          dict(hs="81 51.4", lat="17 30.0 S", lon="149 30.0 W")])
+    sight_log = read_sight_log(path)
+    assert list(sight_log.rejected.row) == [2, 3, 4]
+    why = reasons(sight_log)
+    assert why[0].startswith("Hs: '81.30' has two readings: 81.30° (= 81° 18.0′) or 81° 30.0′")
+    assert why[1].startswith("DR lat: '17.30 S' has two readings")
+    assert why[2].startswith("DR lon: '149.50 W' has two readings")
+    result = runner.invoke(app, ["reduce", str(path)])
+    assert "not reduced: Hs: '81.30' has two readings" in result.stdout
+
+
+@pytest.mark.parametrize("header", ["UTC,Body,Limb,Hs (deg),IE,Eye height (m),DR lat (deg),DR lon (°)",
+                                    "UTC,Body,Limb,hs_deg,IE,Eye height (m),dr_lat_deg,dr_lon_degrees",
+                                    "UTC,Body,Limb,Hs (decimal degrees),IE,Eye height (m),DR lat (deg),dr_lon_deg"])
+def test_a_header_that_declares_decimal_degrees_reads_them(tmp_path, header):
+    path = log(tmp_path, [dict(hs="81.30", lat="-17.30", lon="-149.50")], header=header)
+    sight_log = read_sight_log(path)
+    assert sight_log.rejected.empty
+    row = sight_log.table.iloc[0]
+    assert row.hs_deg == 81.30 and row.dr_lat_deg == -17.30 and row.dr_lon_deg == -149.50
+
+
+def test_a_column_of_decimals_reads_two_decimals_as_decimals(tmp_path):
+    """A program's decimals with trailing zeros dropped: '35.45' beside '35.30512' is 35.45°."""
+    path = log(tmp_path, [dict(hs="81.85712", lat="-17.45", lon="-149.50001"),
+                          dict(hs="81.30", lat="-17.45011", lon="-149.75")])
+    sight_log = read_sight_log(path)
+    assert sight_log.rejected.empty
+    assert sight_log.table.hs_deg.tolist() == [81.85712, 81.30] and sight_log.table.dr_lat_deg.tolist() == [-17.45, -17.45011]
+
+
+def test_a_number_cell_is_decimal_degrees(tmp_path):
+    frame = pd.DataFrame({"utc": ["2026-12-04T22:15:00Z"], "body": ["Sun"], "limb": ["LL"], "hs": [81.30],
+                          "index_error_arcmin": [0.0], "eye_height_m": [3.0], "dr_lat": [-17.30], "dr_lon": [-149.50]})
+    sight_log = read_sight_log(frame)
+    assert sight_log.rejected.empty and sight_log.table.hs_deg.iloc[0] == 81.30
+
+
+def test_a_position_on_the_command_line_follows_the_same_rule():
+    refused = runner.invoke(app, ["plan", "--lat", "44.30 N", "--lon", "12 W", "--date", "2026-03-26"])
+    assert refused.exit_code == 1
+    assert ("--lat: '44.30 N' has two readings: 44.30° N (= 44° 18.0′ N) or 44° 30.0′ N written with a point? for "
+            "degrees and minutes write '44 30.0 N'") in refused.stderr
+    assert "write it with one decimal or three ('44.300 N')" in refused.stderr
+    assert runner.invoke(app, ["plan", "--lat", "44-30 N", "--lon", "12.300 W", "--date", "2026-03-26"]).exit_code == 0

@@ -219,7 +219,8 @@ def main() -> None:
         freeze(ts, eph)
         return
     sights, track = make_voyage(ts, eph)
-    sights.to_csv(OUT / "training_sights.csv", index=False)
+    # every Hs with its five decimals (a float's text drops trailing zeros: 75.111 would read as 75° 11.1′ too)
+    sights.assign(hs=sights.hs.map("{:.5f}".format)).to_csv(OUT / "training_sights.csv", index=False)
     write_gpx(track, OUT / "training_track.gpx")
     write_nmea(track, OUT / "training_track.nmea")
     track.assign(utc=track.utc.dt.strftime("%Y-%m-%dT%H:%M:%SZ")).to_csv(OUT / "training_track.csv", index=False)

@@ -465,16 +465,17 @@ def test_the_ellipse_changes_smoothly_with_the_residuals(twilight_rounds):
     assert steps.max() < 0.2 * max(sizes) and max(sizes) > 3 * min(sizes)
 
 
-def _written_as_decimal(reduced, path):
+def _written_as_decimal(reduced, path, hs_header="hs"):
     """The round's Hs written as degrees and minutes in a decimal (29° 21.6′ as 29.216), as a log a navigator
-    might send; skyfield's altitudes (the round's hs_deg) written by format_angle to the tenth of a minute."""
+    might send, under ``hs_header``; skyfield's altitudes (the round's hs_deg) written by format_angle to the tenth
+    of a minute."""
     from navred.angles import format_angle
 
     rows = []
     for r in reduced.itertuples():
         degrees, minutes = format_angle(r.hs_deg, "signed").replace("°", "").replace("′", "").split()
         rows.append({"utc": r.sight_utc.strftime("%Y-%m-%dT%H:%M:%SZ"), "body": r.body_name,
-                     "hs": f"{int(degrees)}.{float(minutes) * 10:03.0f}", "eye_height_m": 3.0,
+                     hs_header: f"{int(degrees)}.{float(minutes) * 10:03.0f}", "eye_height_m": 3.0,
                      "dr_lat": r.dr_lat_deg, "dr_lon": r.dr_lon_deg, "fix_group": "stars"})
     pd.DataFrame(rows).to_csv(path, index=False)
     return path
@@ -495,7 +496,16 @@ def test_a_round_written_in_degrees_and_minutes_as_a_decimal_is_never_the_positi
     from navred.jobs.voyage import process_log
 
     reduced = twilight_rounds[n]
-    path = _written_as_decimal(reduced, tmp_path / "decimal.csv")
+    # under a plain 'hs' header the reader refuses every such Hs, naming both readings (a calculator's d.mm.m)
+    plain = _written_as_decimal(reduced, tmp_path / "plain.csv")
+    refused = CliRunner().invoke(app, ["fix", str(plain)])
+    assert refused.exit_code == 1 and refused.output.count("has two readings") == n, refused.output
+    first = reduced.hs_deg.iloc[0]
+    degrees, minutes = int(first), (first - int(first)) * 60
+    assert f"or {degrees}° {round(minutes, 1):04.1f}′ written with a point" in refused.output
+    # a header that declares decimal degrees ('hs_deg') over the same texts: read as declared, and the fix's own
+    # check says what they most likely are
+    path = _written_as_decimal(reduced, tmp_path / "decimal.csv", hs_header="hs_deg")
     result = CliRunner().invoke(app, ["fix", str(path)])
     assert result.exit_code == 0, result.output
     position = next(line for line in result.output.splitlines() if line.strip().startswith("position"))

@@ -1,7 +1,8 @@
 """Degrees and minutes written as a decimal: '35.30' (35.30° or 35° 30′?) and '20.35 N' are refused naming both
 readings and how to write each; the forms with one reading are read (degrees and minutes with a space, marks or a
-hyphen; decimal degrees where the header declares them, where the number cannot be minutes, where the column
-shows its writer keeps decimals, or in a number cell). 1° = 60′ throughout  # common practice (sexagesimal degrees)
+hyphen; decimal degrees where the header declares them, where the number cannot be minutes, or in a number cell).
+Three decimals whose first two could be minutes are refused too: '76.380' keyed for 76° 38.0′ (degrees, minutes
+and tenths with one point, as calculators and sight books take them). 1° = 60′ throughout  # common practice (sexagesimal degrees)
 The logs are written by hand."""
 
 from __future__ import annotations
@@ -35,7 +36,7 @@ def test_the_refusal_names_both_readings_and_how_to_write_each():
     hs = minutes_as_decimal_refusal("35.30", "altitude")
     assert hs.startswith("'35.30' has two readings: 35.30° (= 35° 18.0′) or 35° 30.0′ written with a point?")
     assert "write '35 30.0' or '35° 30.0′'" in hs and "head the column 'Hs (deg)' (or hs_deg)" in hs
-    assert "('35.300')" in hs
+    assert "write it with one decimal or four ('35.3000')" in hs
     lat = minutes_as_decimal_refusal("20.35 N", "lat")
     assert lat.startswith("'20.35 N' has two readings: 20.35° N (= 20° 21.0′ N) or 20° 35.0′ N written with a point?")
     assert "'20 35.0 N'" in lat and "'DR lat (deg)' (or dr_lat_deg)" in lat
@@ -50,7 +51,7 @@ def test_a_bare_or_signed_latitude_or_longitude_is_iso_6709_decimal_degrees():
     assert minutes_as_decimal_refusal("35.30", "altitude") is not None  # an Hs has no such rule
 
 
-@pytest.mark.parametrize("text", ["35.3", "35.305", "35.30512", "35.75", "35.00", "35", "35 30.0", "35°30'",
+@pytest.mark.parametrize("text", ["35.3", "35.3050", "35.30512", "35.755", "35.000", "35.75", "35.00", "35", "35 30.0", "35°30'",
                                   "35-30.0", "35° 30.0′"])
 def test_a_form_with_one_reading_is_not_refused(text):
     assert minutes_as_decimal_refusal(text, "altitude") is None
@@ -89,13 +90,28 @@ def test_a_header_that_declares_decimal_degrees_reads_them(tmp_path, header):
     assert row.hs_deg == 81.30 and row.dr_lat_deg == -17.30 and row.dr_lon_deg == -149.50
 
 
-def test_a_column_of_decimals_reads_two_decimals_as_decimals(tmp_path):
-    """A program's decimals with trailing zeros dropped: '35.45' beside '35.30512' is 35.45°."""
-    path = log(tmp_path, [dict(hs="81.85712", lat="-17.45", lon="-149.50001"),
-                          dict(hs="81.30", lat="-17.45011", lon="-149.75")])
-    sight_log = read_sight_log(path)
-    assert sight_log.rejected.empty
-    assert sight_log.table.hs_deg.tolist() == [81.85712, 81.30] and sight_log.table.dr_lat_deg.tolist() == [-17.45, -17.45011]
+def test_degrees_minutes_and_tenths_keyed_with_one_point_are_refused(tmp_path):
+    """The navigator's trial: a noon Sun keyed '76.380' for 76° 38.0′ was read as 76.380° (76° 22.8′), and the noon
+    latitude moved 15′ without a word. 0.380° = 22.8′; 0.212° = 12.72′  # common practice (1° = 60′)"""
+    hs = minutes_as_decimal_refusal("76.380", "altitude")
+    assert hs.startswith("'76.380' has two readings: 76.380° (= 76° 22.8′) or 76° 38.0′ written with a point?")
+    assert "write '76 38.0' or '76° 38.0′'" in hs and "('76.3800')" in hs
+    assert "52.212° (= 52° 12.7′) or 52° 21.2′" in minutes_as_decimal_refusal("52.212", "altitude")
+    assert "20.355° N (= 20° 21.3′ N) or 20° 35.5′ N" in minutes_as_decimal_refusal("20.355 N", "lat")
+
+
+def test_a_column_is_judged_cell_by_cell_never_by_its_other_cells(tmp_path):
+    """A program's decimals with trailing zeros dropped ('81.30' beside '81.85712') are refused as any '81.30' is:
+    a long log read in blocks must read each cell as the log read whole, whatever block it falls in; the header
+    that declares decimal degrees reads them all."""
+    rows = [dict(hs="81.85712", lat="-17.45", lon="-149.50001"), dict(hs="81.30", lat="-17.45011", lon="-149.75")]
+    sight_log = read_sight_log(log(tmp_path, rows))
+    assert list(sight_log.rejected.row) == [3]
+    assert reasons(sight_log)[0].startswith("Hs: '81.30' has two readings")
+    declared = read_sight_log(log(tmp_path, rows, header="UTC,Body,Limb,Hs (deg),IE,Eye height (m),DR lat,DR lon",
+                                  name="declared.csv"))
+    assert declared.rejected.empty
+    assert declared.table.hs_deg.tolist() == [81.85712, 81.30] and declared.table.dr_lat_deg.tolist() == [-17.45, -17.45011]
 
 
 def test_a_number_cell_is_decimal_degrees(tmp_path):
@@ -110,5 +126,6 @@ def test_a_position_on_the_command_line_follows_the_same_rule():
     assert refused.exit_code == 1
     assert ("--lat: '44.30 N' has two readings: 44.30° N (= 44° 18.0′ N) or 44° 30.0′ N written with a point? for "
             "degrees and minutes write '44 30.0 N'") in refused.stderr
-    assert "write it with one decimal or three ('44.300 N')" in refused.stderr
-    assert runner.invoke(app, ["plan", "--lat", "44-30 N", "--lon", "12.300 W", "--date", "2026-03-26"]).exit_code == 0
+    assert "write it with one decimal or four ('44.3000 N')" in refused.stderr
+    assert runner.invoke(app, ["plan", "--lat", "44-30 N", "--lon", "12.3000 W", "--date", "2026-03-26"]).exit_code == 0
+    assert runner.invoke(app, ["plan", "--lat", "44-30 N", "--lon", "12.300 W", "--date", "2026-03-26"]).exit_code == 1

@@ -665,11 +665,13 @@ def parse_key(cells: Cells, key: str, problems: Problems, dates) -> Parsed:
 
 #: the kinds of column whose cells are angles in degrees, where '35.30' may be 35° 30′ written with a point
 ANGLE_KINDS = ("altitude", "lat", "lon")
-#: an angle written as a decimal with exactly two decimals, 01 to 59, which may be minutes: an Hs '35.30', a
-#: latitude or longitude with its letter '20.35 N', 'N 20.35' (a bare or signed one, '-17.45', is ISO 6709's decimal
-#: degrees, as the log's rule has it; a decimal whose fraction is .00 or .60 and more, or of one or three and more decimals, is
-#: decimal degrees; so is a number cell of a spreadsheet, or any cell under a header that declares degrees)
-_MINUTES_AS_DECIMALS = re.compile(r"^\s*([+\-−]?)\s*([NSEWnsew]?)\s*(\d{1,3})\.([0-5]\d)\s*([NSEWnsew]?)\s*$")
+#: an angle written as a decimal with two decimals, 01 to 59, which may be minutes, or three whose first two are
+#: (degrees, minutes and tenths keyed with one point, as calculators and sight books do: '76.380' for 76° 38.0′):
+#: an Hs '35.30' or '35.305', a latitude or longitude with its letter '20.35 N', 'N 20.355' (a bare or signed one,
+#: '-17.45', is ISO 6709's decimal degrees, as the log's rule has it; a decimal whose fraction is .00 (.000) or .60 and
+#: more, or of one or four and more decimals, is decimal degrees; so is a number cell of a spreadsheet, or any cell
+#: under a header that declares degrees)
+_MINUTES_AS_DECIMALS = re.compile(r"^\s*([+\-−]?)\s*([NSEWnsew]?)\s*(\d{1,3})\.([0-5]\d)(\d?)\s*([NSEWnsew]?)\s*$")
 
 
 def minutes_as_decimal_refusal(text: str, kind: str, declare: str | None = None) -> str | None:
@@ -684,13 +686,15 @@ def minutes_as_decimal_refusal(text: str, kind: str, declare: str | None = None)
     (True, True)
     """
     found = _MINUTES_AS_DECIMALS.match(text)
-    if not found or found.group(4) == "00" or (found.group(2) and found.group(5)):
+    if not found or found.group(4) + found.group(5) in ("00", "000") or (found.group(2) and found.group(6)):
         return None
-    sign, before, degrees, minutes, after = found.groups()
+    sign, before, degrees, minutes, tenths, after = found.groups()
     if kind != "altitude" and not (before or after):
         return None  # a bare or signed number of a latitude or longitude is ISO 6709's decimal degrees
     letter = (before or after).upper()
-    minutes_as_decimal = int(minutes) * 0.6  # .30 of a degree is 18.0′
+    minutes_as_decimal = int(minutes + tenths) * (0.6 if not tenths else 0.06)  # .30 of a degree is 18.0′
+    tenth = tenths or "0"
+    fraction = minutes + tenths
     lead = "-" if sign in ("-", "−") else ""
     tail = f" {letter}" if letter else ""
     if declare is not None:
@@ -699,28 +703,18 @@ def minutes_as_decimal_refusal(text: str, kind: str, declare: str | None = None)
         declare = "head the column 'Hs (deg)' (or hs_deg)"
     else:
         declare = f"head the column with its unit, 'DR {kind} (deg)' (or dr_{kind}_deg)"
-    return (f"{text.strip()!r} has two readings: {lead}{degrees}.{minutes}°{tail} (= {lead}{int(degrees)}° "
-            f"{minutes_as_decimal:04.1f}′{tail}) or {lead}{int(degrees)}° {int(minutes):02d}.0′{tail} written with a "
-            f"point? for degrees and minutes write '{lead}{degrees} {minutes}.0{tail}' or "
-            f"'{lead}{degrees}° {minutes}.0′{tail}'; for decimal degrees {declare + ', or ' if declare else ''}write it "
-            f"with one decimal or three ('{lead}{degrees}.{minutes}0{tail}')")
-
-
-#: an angle that can only be decimal degrees: three decimals or more, or two from .60 ('35.305', '35.75 N')
-_DECIMAL_ONLY = re.compile(r"^\s*[+\-−]?\s*[NSEWnsew]?\s*\d{1,3}\.(?:\d{3,}|[6-9]\d)\s*[NSEWnsew]?\s*$")
-#: an angle written in degrees and minutes: digits, then a space or a mark, then digits ('35 30.0', '35°30′')
-_DEGREES_AND_MINUTES = re.compile(r"\d[\s°º˚'′’]+\d")
+    return (f"{text.strip()!r} has two readings: {lead}{degrees}.{fraction}°{tail} (= {lead}{int(degrees)}° "
+            f"{minutes_as_decimal:04.1f}′{tail}) or {lead}{int(degrees)}° {int(minutes):02d}.{tenth}′{tail} written "
+            f"with a point? for degrees and minutes write '{lead}{degrees} {minutes}.{tenth}{tail}' or "
+            f"'{lead}{degrees}° {minutes}.{tenth}′{tail}'; for decimal degrees {declare + ', or ' if declare else ''}"
+            f"write it with one decimal or four ('{lead}{degrees}.{fraction}{'0' * (4 - len(fraction))}{tail}')")
 
 
 def _writes_decimal_degrees(column: pd.Series) -> bool:
-    """Whether a table's column of angles shows that its writer keeps decimal degrees: a text that can only be
-    decimal degrees ('35.30512', '35.75'), and none in degrees and minutes ('35 30.0'); then its texts with two
-    decimals ('35.45', a decimal whose trailing zeros were dropped) are decimal degrees too. A column of
-    numbers (a spreadsheet's number cells) is decimal degrees as it is."""
-    if column.dtype.kind in "fiu":
-        return True
-    texts = [u for u in pd.unique(column.to_numpy(dtype=object)) if type(u) is str]
-    return any(_DECIMAL_ONLY.match(t) for t in texts) and not any(_DEGREES_AND_MINUTES.search(t) for t in texts)
+    """Whether a table's column of angles is decimal degrees as it stands: a column of numbers (a spreadsheet's
+    number cells, a DataFrame of floats). A column of text is judged cell by cell, never by its other cells: a
+    long log read in blocks must read every cell as the log read whole does, whatever block it falls in."""
+    return column.dtype.kind in "fiu"
 
 
 def _refuse_minutes_as_decimals(column, cells: Cells, refused: np.ndarray, problems: Problems) -> None:

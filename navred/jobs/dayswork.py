@@ -22,10 +22,12 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+import numpy as np
 import pandas as pd
 
 from ..reckoning import DRTrack
-from .noons import noon_rows, vessel_lines
+from .noons import current_sources, current_used, noon_rows, vessel_lines
+from .positiontrust import EP_TRUST_COLUMNS, NOON_TRUST_COLUMNS, noon_trust, rework_estimated
 from .shiptrack import (
     ENTRY_WORK_COLUMNS,
     ESTIMATED_COLUMNS,
@@ -42,8 +44,25 @@ from .shiptrack import (
     ships_of,
     track_points,
     untrusted_fixes,
+    vessel_entries,
     vessel_tracks,
 )
+
+
+def _current_in_dr(voyage):
+    """The words for the current a vessel's DR carries at an instant ('' where it carries none)."""
+    def words(vessel: str, track: DRTrack, when: int) -> str:
+        if track.through_water is None:
+            return ""
+        t = np.array([when - 30 * 10**9], dtype=np.int64)
+        ground = np.array([np.atleast_1d(v)[0] for v in track.velocity_at(t)], dtype=float)
+        water = np.array([np.atleast_1d(v)[0] for v in track.through_water.velocity_at(t)], dtype=float)
+        if not np.isfinite(ground).all() or not np.isfinite(water).all() or np.hypot(*(ground - water)) < 0.05:
+            return ""
+        sources = current_sources(voyage, vessel, track, vessel_entries(voyage, vessel))
+        return "with " + current_used(track, when, sources)
+
+    return words
 
 
 @dataclass(frozen=True)
@@ -98,7 +117,8 @@ def days_work(voyage, *, carry_current: bool = False) -> DaysWork:
     tracks = vessel_tracks(voyage, carry_current=carry_current)
     set_rows, noon_rows_all, point_rows, notes = [], [], [], list(ships.notes)
     clocks = {}
-    estimated = estimated_positions(voyage, ships)
+    # each EP worked from the DR carried from the last trusted fix, not the log's own DR column
+    estimated = rework_estimated(voyage, estimated_positions(voyage, ships), tracks, _current_in_dr(voyage))
     for vessel, track in tracks.items():
         set_rows += set_drift_rows(vessel, track, current_in_dr="in the DR" if carry_current else "logged")
         lines = vessel_lines(voyage, vessel, ships)
@@ -115,8 +135,8 @@ def days_work(voyage, *, carry_current: bool = False) -> DaysWork:
         notes.append("Noon positions: none: the log gives no departure (an entry row) and none of the ship's fixes "
                       "to keep the DR from")
     return DaysWork(pd.DataFrame(set_rows, columns=SET_DRIFT_COLUMNS),
-                    pd.DataFrame(estimated, columns=ESTIMATED_COLUMNS),
-                    pd.DataFrame(noon_rows_all, columns=NOON_COLUMNS),
+                    pd.DataFrame(estimated, columns=ESTIMATED_COLUMNS + EP_TRUST_COLUMNS),
+                    pd.DataFrame(noon_trust(voyage, noon_rows_all, tracks), columns=NOON_COLUMNS + NOON_TRUST_COLUMNS),
                     pd.DataFrame(point_rows, columns=["vessel", "utc", "lat_deg", "lon_deg", "leg", "kind"]),
                     tracks, carry_current, pd.DataFrame(exercises(voyage, ships, tracks, estimated, noon_rows_all),
                                                         columns=EXERCISE_COLUMNS),

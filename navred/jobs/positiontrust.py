@@ -91,8 +91,15 @@ def allowed_nm(sigma_nm) -> np.ndarray:
                                                                      LINE_SIGMA_NM))
 
 
+#: A logged DR is said to have a hemisphere letter wrong when the other letter brings it this much nearer the DR
+#: carried (to under a twentieth of the distance, or within the DR's reach).
+HEMISPHERE_RATIO = 0.05
+
+
 def _hemisphere_hint(lat: float, lon: float, dr_lat: float, dr_lon: float, limit: float) -> str:
-    """Which hemisphere letter, if flipped, brings a logged DR within ``limit`` of the DR carried (or '')."""
+    """Which hemisphere letter, if flipped, brings a logged DR near the DR carried (or '')."""
+    far, _ = rhumb_inverse(lat, lon, dr_lat, dr_lon)
+    limit = max(limit, HEMISPHERE_RATIO * float(far))
     for flip_lat, flip_lon, words in ((1, -1, "its longitude written E for W, or W for E?"),
                                       (-1, 1, "its latitude written N for S, or S for N?"),
                                       (-1, -1, "both its N/S and E/W written wrong?")):

@@ -322,8 +322,9 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
     noons = noons[np.isfinite(noons["lat_deg"].astype(float))]
     track = days.tracks.get(vessel)
     reach_lat, reach_lon = _ellipse_reach(track, days.ellipse_scales)
-    # an EP that cannot be trusted never sets the chart's scale (one 4000 nm off would shrink the voyage to a dot)
-    trusted = ~_flagged(estimated, "check")
+    # an EP that cannot be trusted sets the chart's scale only within FLAGGED_REACH_NM of the voyage (one 4000 nm
+    # off would shrink the voyage to a dot)
+    trusted = ~_flagged(estimated, "check") | _near(estimated, points)
     lats = np.concatenate([points.lat_deg.to_numpy(float), estimated["lat_deg"].to_numpy(float)[trusted], reach_lat])
     lons = np.concatenate([points.lon_deg.to_numpy(float), estimated["lon_deg"].to_numpy(float)[trusted], reach_lon])
     sheet = Canvas(SHEET_PT * 1.5, SHEET_PT, PAPER)
@@ -559,7 +560,7 @@ def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, l
         if bad:  # drawn distinctly, and only where it falls on the chart (else named above it)
             if _on_chart(chart, px, py):
                 placer.take(ep_symbol(sheet, px, py, FLAGGED, kind="flagged ep"))
-                eps.append((ep_label(e["ep"]) + " ? cannot be trusted", FLAGGED, px, py))
+                eps.append((ep_label(e["ep"], e.get("note") or "") + ": CANNOT BE TRUSTED", FLAGGED, px, py))
             continue
         placer.take(ep_symbol(sheet, px, py))
         eps.append((ep_label(e["ep"], e.get("note") or ""), FIX, px, py))
@@ -569,12 +570,31 @@ def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, l
             if _on_chart(chart, px, py):
                 sheet.circle(px, py, 4.0, outline=FLAGGED, width=1.4, kind="flagged noon")
                 placer.take(rect_corners(px - 5, py - 5, px + 5, py + 5))
-                labels.append((f"noon {n['date'][5:]} ? cannot be trusted", FLAGGED, px, py))
+                labels.append((f"noon {n['date'][5:]}: CANNOT BE TRUSTED", FLAGGED, px, py))
             continue
         sheet.circle(px, py, 3.2, fill=INK, kind="noon")
         placer.take(rect_corners(px - 4, py - 4, px + 4, py + 4))
         labels.append((f"noon {n['date'][5:]}", INK, px, py))
     return labels + eps  # the noons' labels placed before the EPs' on a crowded sheet (the noon is the day's)
+
+
+#: A position flagged as not to be trusted is drawn to the voyage's scale within this many miles of its known
+#: positions; farther, it is left off the chart and named above it.
+FLAGGED_REACH_NM = 100.0
+
+
+def _near(table, points) -> np.ndarray:
+    """Which rows of a table lie within FLAGGED_REACH_NM of a point of the DR track (a flat measure, ample here)."""
+    if not len(table) or not len(points):
+        return np.zeros(len(table), dtype=bool)
+    lat = table["lat_deg"].to_numpy(float)[:, None]
+    lon = table["lon_deg"].to_numpy(float)[:, None]
+    p_lat = points["lat_deg"].to_numpy(float)[None, :]
+    p_lon = points["lon_deg"].to_numpy(float)[None, :]
+    north = (lat - p_lat) * 60.0
+    east = wrap_180(lon - p_lon) * 60.0 * np.cos(np.radians(p_lat))
+    with np.errstate(invalid="ignore"):
+        return (np.hypot(north, east) <= FLAGGED_REACH_NM).any(axis=1)
 
 
 def _flagged(table, column: str) -> np.ndarray:
@@ -592,7 +612,7 @@ def _beyond_chart(chart: _VoyageChart, estimated, noons) -> list[str]:
     """The flagged EPs and noons that fall off the chart, each named (never silently missing)."""
     out = []
     for table, column, name in ((noons, "noon_check", lambda r: f"noon {r['date'][5:]}"),
-                                (estimated, "check", lambda r: ep_label(r["ep"]))):
+                                (estimated, "check", lambda r: ep_label(r["ep"], r.get("note") or ""))):
         for r, bad in zip(table.to_dict("records"), _flagged(table, column)):
             if bad and not _on_chart(chart, *chart.at(r["lat_deg"], r["lon_deg"])):
                 out.append(f"{name(r)} at {format_angle(r['lat_deg'], 'lat')} {format_angle(r['lon_deg'], 'lon')}")

@@ -131,14 +131,18 @@ def days_work(voyage, *, carry_current: bool = False) -> DaysWork:
         for name, why in items:
             notes.append(f"{vessel or 'the ship'}: the fix {name} CANNOT BE TRUSTED ({why}): the DR is not restarted "
                          "from it, and no set and drift, noon or exercise rests on it")
+    noons = noon_trust(voyage, noon_rows_all, tracks)
+    # an exercise is never marked against a noon or EP that cannot be trusted (the DR, or a better one, instead)
+    trusted_noons = [n for n, t in zip(noon_rows_all, noons) if not t["noon_check"]]
+    trusted_eps = [e for e in estimated if not str(e.get("check", "")).startswith("CANNOT")]
     if not tracks:
         notes.append("Noon positions: none: the log gives no departure (an entry row) and none of the ship's fixes "
                       "to keep the DR from")
     return DaysWork(pd.DataFrame(set_rows, columns=SET_DRIFT_COLUMNS),
                     pd.DataFrame(estimated, columns=ESTIMATED_COLUMNS + EP_TRUST_COLUMNS),
-                    pd.DataFrame(noon_trust(voyage, noon_rows_all, tracks), columns=NOON_COLUMNS + NOON_TRUST_COLUMNS),
+                    pd.DataFrame(noons, columns=NOON_COLUMNS + NOON_TRUST_COLUMNS),
                     pd.DataFrame(point_rows, columns=["vessel", "utc", "lat_deg", "lon_deg", "leg", "kind"]),
-                    tracks, carry_current, pd.DataFrame(exercises(voyage, ships, tracks, estimated, noon_rows_all),
+                    tracks, carry_current, pd.DataFrame(exercises(voyage, ships, tracks, trusted_eps, trusted_noons),
                                                         columns=EXERCISE_COLUMNS),
                     entry_work(voyage), ship_latitudes(voyage, ships), tuple(dict.fromkeys(notes)), clocks,
                     {f"fix {g.name}": float(g.fix.confidence_scale) for g in voyage.groups

@@ -78,19 +78,19 @@ def _fix_waypoints(group) -> list[GpxPoint]:
 def _days_waypoints(days) -> list[GpxPoint]:
     """The estimated positions and the noon positions of the day's work."""
     points = [GpxPoint(r["lat_deg"], r["lon_deg"], iso_z(r["utc"]), r["ep"],
-                       ascii_text(f"{r['ep']} (fix group {r['fix_group']}): {r['from']}"
-                                  + (f"; {r['uncertainty']}" if r.get("uncertainty") else "")
-                                  + (f"; {r['check']}" if r.get("check") else "")
-                                  + (f"; warning: {r['note']}" if r["note"] else "")), "EP")
+                       f"{r['ep']} (fix group {r['fix_group']}): {r['from']}"
+                       + (f"; {r['uncertainty']}" if r.get("uncertainty") else "")
+                       + (f"; {r['check']}" if r.get("check") else "")
+                       + (f"; warning: {r['note']}" if r["note"] else ""), "EP")
               for r in days.estimated.to_dict("records")]
     for r in days.noons[days.noons["lat_deg"].notna()].to_dict("records"):
         run = (f"; day's run {r['run_nm']:.1f} nm made good on {r['course_made_good_deg']:.0f} deg"
                if r["run_nm"] == r["run_nm"] else "")
         check = "".join(f"; {r[c]}" for c in ("noon_check", "run_check") if r.get(c))
-        spread = f", within {r['noon_95_nm']:.1f} nm (95%)" if r.get("noon_95_nm") == r.get("noon_95_nm") else ""
+        spread = f", within {r['noon_95_nm']:.1f} nm (95 %)" if r.get("noon_95_nm") == r.get("noon_95_nm") else ""
         points.append(GpxPoint(r["lat_deg"], r["lon_deg"], iso_z(r["noon_utc"]),
                                f"noon {r['date']}" + (" CANNOT BE TRUSTED" if r.get("noon_check") else ""),
-                               ascii_text(f"noon position ({r['noon_from']}){spread}{run}{check}"), "noon"))
+                               f"noon position ({r['noon_from']}){spread}{run}{check}", "noon"))
     return points
 
 

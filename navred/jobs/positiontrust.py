@@ -109,19 +109,26 @@ def _hemisphere_hint(lat: float, lon: float, dr_lat: float, dr_lon: float, limit
     return ""
 
 
-def logged_dr_causes(voyage, vessel: str, track: DRTrack, start_ns: int, end_ns: int) -> list[str]:
-    """The vessel's sights between two instants whose logged DR lies farther from the DR carried to their time
-    than it could be out: each 'row 15's logged DR 37° 07.0′ N 037° 07.2′ E lies 3556 nm from the DR carried from
-    the fix ... (its longitude written E for W, or W for E?)'."""
+def logged_dr_causes(voyage, vessel: str, track: DRTrack, start_ns: int, end_ns: int,
+                     rows: np.ndarray | None = None) -> list[str]:
+    """The vessel's sights between two instants (or the sights ``rows``, positions in the reduced table) whose
+    logged DR lies farther from the DR carried to their time than it could be out: each 'row 15's logged DR
+    37° 07.0′ N 037° 07.2′ E lies 3556 nm from the DR carried from the fix ... (its longitude written E for W, or
+    W for E?)'."""
     reduced = voyage.reduced
     if not len(reduced):
         return []
-    when = utc64(reduced["sight_utc"]).astype(np.int64)
-    mine = ((reduced["vessel"].to_numpy(dtype=object) == vessel) & (reduced["status"].to_numpy() != SightStatus.ERROR)
-            & (when >= start_ns) & (when <= end_ns))
-    if not mine.any():
+    if rows is not None:
+        k = np.asarray(rows, dtype=int)
+        when = np.zeros(len(reduced), dtype=np.int64)
+        when[k] = utc64(reduced["sight_utc"].iloc[k]).astype(np.int64)
+    else:
+        when = utc64(reduced["sight_utc"]).astype(np.int64)
+        mine = ((reduced["vessel"].to_numpy(dtype=object) == vessel)
+                & (reduced["status"].to_numpy() != SightStatus.ERROR) & (when >= start_ns) & (when <= end_ns))
+        k = np.flatnonzero(mine)
+    if not k.size:
         return []
-    k = np.flatnonzero(mine)
     dr_lat, dr_lon, labels, _, sigma = _dr_at(track, when[k])
     lat = reduced["dr_lat_deg"].to_numpy(dtype=float)[k]
     lon = reduced["dr_lon_deg"].to_numpy(dtype=float)[k]
@@ -190,7 +197,7 @@ def rework_estimated(voyage, estimated: list[dict], tracks: dict[str, DRTrack], 
         e["uncertainty"] = (f"± {AXIS_95 * LINE_SIGMA_NM:.1f} nm across the line, ± {AXIS_95 * sigma:.1f} nm along it ("
                             + UNCERTAINTY_COVERS.format(base=label) + ")")
         limit = float(allowed_nm(sigma))
-        causes = logged_dr_causes(voyage, e["vessel"], track, when - 60 * 10**9, when + 60 * 10**9)
+        causes = logged_dr_causes(voyage, e["vessel"], track, when, when, rows=rows)
         if abs(intercept) > limit:
             e["check"] = (f"CANNOT BE TRUSTED: the line lies {abs(intercept):.0f} nm from the DR, more than the "
                           f"{limit:.0f} nm it could be out (3 σ): check the sight, its time and the DR")

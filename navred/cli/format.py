@@ -696,16 +696,21 @@ def training_lines(run, track: str) -> list[str]:
 
 
 def _noon_lines(days, vessel) -> list[str]:
+    from ..jobs.positiontrust import NOON_COVERS
     from ..jobs.shiptrack import is_reckoned
 
     noons = days.noons[days.noons.vessel == vessel]
     if not len(noons):
         return []
-    lines = [f"\n{vessel or 'the ship'}: noon positions and the day's run"]
+    lines = [f"\n{vessel or 'the ship'}: noon positions and the day's run (± the 95 % circle: {NOON_COVERS.split(': ', 1)[1]})"]
     for r in noons.to_dict("records"):
+        spread = f" ±{r['noon_95_nm']:.1f} nm" if r.get("noon_95_nm", float("nan")) == r.get("noon_95_nm") else ""
         lines.append(f"  {r['date']} noon ({r['zone']}, {r['noon_utc'][:16]} UTC) {r['noon_position'] or 'no position'}"
+                     f"{spread if r['noon_position'] else ''}"
                      f"  {'by' if is_reckoned(r['noon_from']) or r['noon_from'].startswith('EP ') else 'from'} "
                      f"{r['noon_from']}")
+        if r.get("noon_check"):
+            lines.append(f"      noon {r['noon_check']}")
         if r["run_nm"] == r["run_nm"]:
             current = (f"; current {_noon_set_text(r)} {r['current_drift_kn']:.1f} "
                        f"±{r['current_95_kn']:.1f} kn" if r["current_drift_kn"] == r["current_drift_kn"] else
@@ -713,6 +718,8 @@ def _noon_lines(days, vessel) -> list[str]:
             lines.append(f"      run {r['run_nm']:.1f} nm made good on {r['course_made_good_deg']:05.1f}° at "
                          f"{r['speed_made_good_kn']:.1f} kn in {r['hours']:.0f} h; {r['through_water_nm']:.1f} nm "
                          f"through the water{current}")
+            if r.get("run_check"):
+                lines.append(f"      run {r['run_check']}")
         if r["to_go_nm"] == r["to_go_nm"]:
             eta = f": ETA {r['eta_ship_time']} ({r['eta_basis']})" if r["eta_ship_time"] else ""
             lines.append(f"      {r['to_go_nm']:.0f} nm to go to {r['to']}{eta}")
@@ -731,14 +738,24 @@ def _noon_set_text(row: dict) -> str:
 
 
 def noon_report_lines(row: dict) -> list[str]:
-    """One noon report as the master sends it: position and how found, the day's run and current, the distance to
-    go and ETA, the clock changes."""
+    """One noon report as the master sends it: position (with its 95 % circle) and how found, the day's run and
+    current, the distance to go and ETA, the clock changes; a position or run a master would not believe is flagged
+    beside it with its cause."""
+    from ..jobs.positiontrust import NOON_COVERS
+
     lines = [f"NOON REPORT {row['vessel'] or ''}".rstrip() + f", {row['date']} ({row['zone']}; {row['noon_utc']} UTC)",
-             f"  position          {row['noon_position'] or 'not known'}", f"  found by          {row['noon_from']}"]
+             f"  position          {row['noon_position'] or 'not known'}"
+             + (f", within {row['noon_95_nm']:.1f} nm ({NOON_COVERS})" if row['noon_position'] and
+                row.get("noon_95_nm", float("nan")) == row.get("noon_95_nm") else ""),
+             f"  found by          {row['noon_from']}"]
+    if row.get("noon_check"):
+        lines.append(f"  CHECK POSITION    {row['noon_check']}")
     if row["run_nm"] == row["run_nm"]:
         lines += [f"  made good         {row['course_made_good_deg']:05.1f}°, {row['run_nm']:.1f} nm in "
                   f"{row['hours']:.0f} h: average speed {row['speed_made_good_kn']:.1f} kn",
                   f"  through the water {row['through_water_nm']:.1f} nm"]
+        if row.get("run_check"):
+            lines.append(f"  CHECK RUN         {row['run_check']}: the run, speed and current above are not to be sent")
         if row["current_drift_kn"] == row["current_drift_kn"]:
             lines.append(f"  current           {_noon_set_text(row)} {row['current_drift_kn']:.1f} "
                          f"±{row['current_95_kn']:.1f} kn (95 %; {row['current_note']})")
@@ -830,8 +847,12 @@ def days_lines(report) -> list[str]:
     lines = [voyage.summary()] + list(days.notes)
     for vessel in days.tracks:
         lines += _noon_lines(days, vessel) + _set_drift_lines(days, vessel) + _exercise_lines(days, vessel)
-    lines += [f"{r['ep']} on {r['utc'][:10]} (fix group {r['fix_group']}): {r['estimated_position']}, {r['from']}"
-              for r in days.estimated.to_dict("records")]
+    for r in days.estimated.to_dict("records"):
+        lines.append(f"{r['ep']} on {r['utc'][:10]} (fix group {r['fix_group']}): {r['estimated_position']}, {r['from']}")
+        if r.get("uncertainty"):
+            lines.append(f"    {r['uncertainty']}")
+        if r.get("check"):
+            lines.append(f"    {'' if r['check'].startswith('CANNOT') else 'note: '}{r['check']}")
     for vessel in days.tracks:
         noons = days.noons[days.noons.vessel == vessel]
         if len(noons):

@@ -322,8 +322,11 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
     noons = noons[np.isfinite(noons["lat_deg"].astype(float))]
     track = days.tracks.get(vessel)
     reach_lat, reach_lon = _ellipse_reach(track, days.ellipse_scales)
-    lats = np.concatenate([points.lat_deg.to_numpy(float), estimated["lat_deg"].to_numpy(float), reach_lat])
-    lons = np.concatenate([points.lon_deg.to_numpy(float), estimated["lon_deg"].to_numpy(float), reach_lon])
+    # an EP that cannot be trusted sets the chart's scale only within FLAGGED_REACH_NM of the voyage (one 4000 nm
+    # off would shrink the voyage to a dot)
+    trusted = ~_flagged(estimated, "check") | _near(estimated, points)
+    lats = np.concatenate([points.lat_deg.to_numpy(float), estimated["lat_deg"].to_numpy(float)[trusted], reach_lat])
+    lons = np.concatenate([points.lon_deg.to_numpy(float), estimated["lon_deg"].to_numpy(float)[trusted], reach_lon])
     sheet = Canvas(SHEET_PT * 1.5, SHEET_PT, PAPER)
     box = (70.0, 58.0, SHEET_PT * 1.5 - 40.0, SHEET_PT - 84.0)
     sheet.text(box[0] - 12, 24, title or f"Voyage track: {vessel or 'the ship'}", 11, INK, bold=True)
@@ -363,6 +366,9 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
     missing = (f"Not drawn: the fix{'es' if len(left_out) > 1 else ''} {', '.join(left_out)}, which cannot be "
                "trusted (see the warnings); the DR is not restarted from "
                f"{'them' if len(left_out) > 1 else 'it'}. " if left_out else "")
+    beyond = _beyond_chart(chart, estimated, noons)
+    if beyond:
+        missing += f"Not drawn, beyond the chart (cannot be trusted: see the day's work): {', '.join(beyond)}. "
     if unplaced or missing:
         width = SHEET_PT * 1.5 - 20.0 - (box[0] - 12)
         sheet.text(box[0] - 12, 51, missing + (no_room_text(unplaced, width - text_width_pt(missing, 7, italic=True))
@@ -549,19 +555,71 @@ def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, l
             text = f"{gap}: current {set_deg:03.0f}° {drift_kn:.1f} kn"
         labels.append((text, CHART, (sx + fx) / 2.0, (sy + fy) / 2.0))
     eps = []
-    for e in estimated.to_dict("records"):
+    for e, bad in zip(estimated.to_dict("records"), _flagged(estimated, "check")):
         px, py = chart.at(e["lat_deg"], e["lon_deg"])
+        if bad:  # drawn distinctly, and only where it falls on the chart (else named above it)
+            if _on_chart(chart, px, py):
+                placer.take(ep_symbol(sheet, px, py, FLAGGED, kind="flagged ep"))
+                eps.append((ep_label(e["ep"], e.get("note") or "") + ": CANNOT BE TRUSTED", FLAGGED, px, py))
+            continue
         placer.take(ep_symbol(sheet, px, py))
         eps.append((ep_label(e["ep"], e.get("note") or ""), FIX, px, py))
     seen: set = set()
-    for n in noons.to_dict("records"):
+    for n, bad in zip(noons.to_dict("records"), _flagged(noons, "noon_check")):
         px, py = chart.at(n["lat_deg"], n["lon_deg"])
+        if bad:
+            if _on_chart(chart, px, py):
+                sheet.circle(px, py, 4.0, outline=FLAGGED, width=1.4, kind="flagged noon")
+                placer.take(rect_corners(px - 5, py - 5, px + 5, py + 5))
+                labels.append((f"noon {n['date'][5:]}: CANNOT BE TRUSTED", FLAGGED, px, py))
+            continue
         sheet.circle(px, py, 3.2, fill=INK, kind="noon")
         placer.take(rect_corners(px - 4, py - 4, px + 4, py + 4))
         # a date lived twice (eastbound over the date line) has two noons: the second is named so
         labels.append((f"noon {n['date'][5:]}" + (" again" if n["date"] in seen else ""), INK, px, py))
         seen.add(n["date"])
     return labels + eps  # the noons' labels placed before the EPs' on a crowded sheet (the noon is the day's)
+
+
+#: A position flagged as not to be trusted is drawn to the voyage's scale within this many miles of its known
+#: positions; farther, it is left off the chart and named above it.
+FLAGGED_REACH_NM = 100.0
+
+
+def _near(table, points) -> np.ndarray:
+    """Which rows of a table lie within FLAGGED_REACH_NM of a point of the DR track (a flat measure, ample here)."""
+    if not len(table) or not len(points):
+        return np.zeros(len(table), dtype=bool)
+    lat = table["lat_deg"].to_numpy(float)[:, None]
+    lon = table["lon_deg"].to_numpy(float)[:, None]
+    p_lat = points["lat_deg"].to_numpy(float)[None, :]
+    p_lon = points["lon_deg"].to_numpy(float)[None, :]
+    north = (lat - p_lat) * 60.0
+    east = wrap_180(lon - p_lon) * 60.0 * np.cos(np.radians(p_lat))
+    with np.errstate(invalid="ignore"):
+        return (np.hypot(north, east) <= FLAGGED_REACH_NM).any(axis=1)
+
+
+def _flagged(table, column: str) -> np.ndarray:
+    """Which rows of a day's-work table are flagged as not to be trusted (their ``column`` says so)."""
+    if column not in table.columns:
+        return np.zeros(len(table), dtype=bool)
+    return table[column].fillna("").astype(str).str.startswith("CANNOT BE TRUSTED").to_numpy(dtype=bool)
+
+
+def _on_chart(chart: _VoyageChart, x: float, y: float) -> bool:
+    return bool(np.isfinite(x) and np.isfinite(y) and chart.ax0 <= x <= chart.ax1 and chart.ay0 <= y <= chart.ay1)
+
+
+def _beyond_chart(chart: _VoyageChart, estimated, noons) -> list[str]:
+    """The flagged EPs and noons that fall off the chart, each named (never silently missing)."""
+    out = []
+    for table, column, name in ((noons, "noon_check", lambda r: f"noon {r['date'][5:]}"),
+                                (estimated, "check", lambda r: ep_label(r["ep"], r.get("note") or ""))):
+        for r, bad in zip(table.to_dict("records"), _flagged(table, column)):
+            if bad and not _on_chart(chart, *chart.at(r["lat_deg"], r["lon_deg"])):
+                out.append(f"{name(r)} at {format_angle(r['lat_deg'], 'lat')} {format_angle(r['lon_deg'], 'lon')}")
+    return out
 
 
 def _voyage_key(sheet, chart: _VoyageChart) -> None:

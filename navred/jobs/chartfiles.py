@@ -79,13 +79,18 @@ def _days_waypoints(days) -> list[GpxPoint]:
     """The estimated positions and the noon positions of the day's work."""
     points = [GpxPoint(r["lat_deg"], r["lon_deg"], iso_z(r["utc"]), r["ep"],
                        f"{r['ep']} (fix group {r['fix_group']}): {r['from']}"
+                       + (f"; {r['uncertainty']}" if r.get("uncertainty") else "")
+                       + (f"; {r['check']}" if r.get("check") else "")
                        + (f"; warning: {r['note']}" if r["note"] else ""), "EP")
               for r in days.estimated.to_dict("records")]
     for r in days.noons[days.noons["lat_deg"].notna()].to_dict("records"):
         run = (f"; day's run {r['run_nm']:.1f} nm made good on {r['course_made_good_deg']:.0f} deg"
                if r["run_nm"] == r["run_nm"] else "")
-        points.append(GpxPoint(r["lat_deg"], r["lon_deg"], iso_z(r["noon_utc"]), f"noon {r['date']}",
-                               f"noon position ({r['noon_from']}){run}", "noon"))
+        check = "".join(f"; {r[c]}" for c in ("noon_check", "run_check") if r.get(c))
+        spread = f", within {r['noon_95_nm']:.1f} nm (95 %)" if r.get("noon_95_nm") == r.get("noon_95_nm") else ""
+        points.append(GpxPoint(r["lat_deg"], r["lon_deg"], iso_z(r["noon_utc"]),
+                               f"noon {r['date']}" + (" CANNOT BE TRUSTED" if r.get("noon_check") else ""),
+                               f"noon position ({r['noon_from']}){spread}{run}{check}", "noon"))
     return points
 
 
@@ -185,14 +190,15 @@ def _days_features(days) -> list[dict]:
     """The estimated positions, the noon positions and the DR track's legs."""
     features = [point_feature(r["lat_deg"], r["lon_deg"], {
         "kind": "estimated position", "ep": r["ep"], "fix_group": r["fix_group"], "utc": iso_z(r["utc"]),
-        "from": r["from"],
+        "from": r["from"], "uncertainty": r.get("uncertainty", ""), "check": r.get("check", ""),
         "warning": r["note"]}) for r in days.estimated.to_dict("records")]
     for r in days.noons[days.noons["lat_deg"].notna()].to_dict("records"):
         features.append(point_feature(r["lat_deg"], r["lon_deg"], {
             "kind": "noon position", "vessel": r["vessel"], "date": r["date"], "utc": iso_z(r["noon_utc"]),
             "from": r["noon_from"], "days_run_nm": finite(r["run_nm"]),
             "course_made_good_deg": finite(r["course_made_good_deg"]),
-            "speed_made_good_kn": finite(r["speed_made_good_kn"])}))
+            "speed_made_good_kn": finite(r["speed_made_good_kn"]), "within_95_nm": finite(r.get("noon_95_nm")),
+            "check": r.get("noon_check", ""), "run_check": r.get("run_check", "")}))
     for (vessel, _), leg in days.track_points.groupby(["vessel", "leg"], sort=False):
         if len(leg) >= 2:
             features.append(line_feature(leg.lat_deg, leg.lon_deg, {

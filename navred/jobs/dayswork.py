@@ -22,11 +22,13 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+import numpy as np
 import pandas as pd
 
 from ..angles import format_angle
 from ..reckoning import DRTrack
-from .noons import noon_rows, vessel_lines
+from .noons import current_sources, current_used, noon_rows, vessel_lines
+from .positiontrust import EP_TRUST_COLUMNS, NOON_TRUST_COLUMNS, noon_trust, rework_estimated
 from .shiptrack import (
     ENTRY_WORK_COLUMNS,
     ESTIMATED_COLUMNS,
@@ -43,8 +45,25 @@ from .shiptrack import (
     ships_of,
     track_points,
     untrusted_fixes,
+    vessel_entries,
     vessel_tracks,
 )
+
+
+def _current_in_dr(voyage):
+    """The words for the current a vessel's DR carries at an instant ('' where it carries none)."""
+    def words(vessel: str, track: DRTrack, when: int) -> str:
+        if track.through_water is None:
+            return ""
+        t = np.array([when - 30 * 10**9], dtype=np.int64)
+        ground = np.array([np.atleast_1d(v)[0] for v in track.velocity_at(t)], dtype=float)
+        water = np.array([np.atleast_1d(v)[0] for v in track.through_water.velocity_at(t)], dtype=float)
+        if not np.isfinite(ground).all() or not np.isfinite(water).all() or np.hypot(*(ground - water)) < 0.05:
+            return ""
+        sources = current_sources(voyage, vessel, track, vessel_entries(voyage, vessel))
+        return "with " + current_used(track, when, sources)
+
+    return words
 
 
 @dataclass(frozen=True)
@@ -109,7 +128,8 @@ def days_work(voyage, *, carry_current: bool = False) -> DaysWork:
     tracks = vessel_tracks(voyage, carry_current=carry_current)
     set_rows, noon_rows_all, point_rows, notes = [], [], [], list(ships.notes)
     clocks = {}
-    estimated = estimated_positions(voyage, ships)
+    # each EP worked from the DR carried from the last trusted fix, not the log's own DR column
+    estimated = rework_estimated(voyage, estimated_positions(voyage, ships), tracks, _current_in_dr(voyage))
     for vessel, track in tracks.items():
         set_rows += set_drift_rows(vessel, track, current_in_dr="in the DR" if carry_current else "logged")
         lines = vessel_lines(voyage, vessel, ships)
@@ -124,14 +144,18 @@ def days_work(voyage, *, carry_current: bool = False) -> DaysWork:
                          "from it, and no set and drift, noon or exercise rests on it")
     latitudes = ship_latitudes(voyage, ships)
     notes += latitude_flag_notes(latitudes)
+    noons = noon_trust(voyage, noon_rows_all, tracks)
+    # an exercise is never marked against a noon or EP that cannot be trusted (the DR, or a better one, instead)
+    trusted_noons = [n for n, t in zip(noon_rows_all, noons) if not t["noon_check"]]
+    trusted_eps = [e for e in estimated if not str(e.get("check", "")).startswith("CANNOT")]
     if not tracks:
         notes.append("Noon positions: none: the log gives no departure (an entry row) and none of the ship's fixes "
                       "to keep the DR from")
     return DaysWork(pd.DataFrame(set_rows, columns=SET_DRIFT_COLUMNS),
-                    pd.DataFrame(estimated, columns=ESTIMATED_COLUMNS),
-                    pd.DataFrame(noon_rows_all, columns=NOON_COLUMNS),
+                    pd.DataFrame(estimated, columns=ESTIMATED_COLUMNS + EP_TRUST_COLUMNS),
+                    pd.DataFrame(noons, columns=NOON_COLUMNS + NOON_TRUST_COLUMNS),
                     pd.DataFrame(point_rows, columns=["vessel", "utc", "lat_deg", "lon_deg", "leg", "kind"]),
-                    tracks, carry_current, pd.DataFrame(exercises(voyage, ships, tracks, estimated, noon_rows_all),
+                    tracks, carry_current, pd.DataFrame(exercises(voyage, ships, tracks, trusted_eps, trusted_noons),
                                                         columns=EXERCISE_COLUMNS),
                     entry_work(voyage), latitudes, tuple(dict.fromkeys(notes)), clocks,
                     {f"fix {g.name}": float(g.fix.confidence_scale) for g in voyage.groups

@@ -483,7 +483,8 @@ def noon_rows(voyage, vessel: str, track: DRTrack, estimated: list[dict], lines:
                "speed_made_good_kn": np.nan, "through_water_nm": np.nan, "hours": np.nan,
                "current_set_deg": np.nan, "current_set_95_deg": np.nan, "current_drift_kn": np.nan, "current_95_kn": np.nan, "current_note": "", "to": "", "to_go_nm": np.nan,
                "eta_utc": "", "eta_ship_time": "", "eta_basis": "", "clock_changes": "; ".join(filter(None, [uncertain.get(k, ""), _clock_words(clocks, previous, int(noon[k]), k, zone[k])])),
-               "fixes_that_day": count, "lat_deg": float(lat[k]), "lon_deg": float(lon[k])}
+               "fixes_that_day": count, "lat_deg": float(lat[k]), "lon_deg": float(lon[k]),
+               "noon_sigma_nm": float(found[k][4])}
         if k:
             row.update(_days_run_columns(run, through, water_n, water_e, k, found))
             used = current_used(track, int(noon[k]), currents) if found[k][2].startswith(EP_PREFIX) else ""

@@ -217,12 +217,13 @@ _NO_CURRENT_IN_DR = "none in the DR"
 DAYS_BLANK = (
     {"noon position": "no position at noon (see noon from)", "run (nm)": _FIRST_NOON,
      "course made good (deg)": _FIRST_NOON, "speed made good (kn)": _FIRST_NOON,
-     "through the water (nm)": _FIRST_NOON, "hours": _FIRST_NOON},
+     "through the water (nm)": _FIRST_NOON, "hours": _FIRST_NOON, "noon position check": "none",
+     "day's run check": "none", "noon ±95 % circle (nm)": "not known (no position)"},
     {"set (deg)": _NOT_FOUND, "set ±95 % (deg)": _NOT_FOUND, "drift (kn)": _NOT_FOUND, "drift ±95 % (kn)": _NOT_FOUND,
      "note": "none", "current in the DR": "none", "DR's current set (deg)": _NO_CURRENT_IN_DR,
      "DR's current drift (kn)": _NO_CURRENT_IN_DR, "unaccounted set (deg)": _NO_CURRENT_IN_DR,
      "unaccounted drift (kn)": _NO_CURRENT_IN_DR},
-    {"note": "none"},
+    {"note": "none", "check": "none", "along the line ±95 % (nm)": "not known: no DR carried to it"},
     {"ex-meridian limit (min)": "none: meridian or Polaris", "flag": "none",
      "latitude moved by 10′ of DR longitude (′)": "none: meridian or Polaris",
      "resting on the DR longitude": "no: meridian or Polaris",
@@ -256,9 +257,9 @@ def _write_days_sheet(tables: TableWriter, sheet, days, pictures: Pictures) -> N
 
     from ..figures.plotting import voyage_track_picture
 
-    noon_columns = ["vessel", "date", "zone", "noon_utc", "noon_position", "noon_from", "run_nm",
-                    "course_made_good_deg", "speed_made_good_kn", "through_water_nm", "hours", "fixes_that_day",
-                    "lat_deg", "lon_deg"]
+    noon_columns = ["vessel", "date", "zone", "noon_utc", "noon_position", "noon_95_nm", "noon_check", "noon_from",
+                    "run_nm", "course_made_good_deg", "speed_made_good_kn", "through_water_nm", "hours", "run_check",
+                    "fixes_that_day", "noon_uncertainty", "lat_deg", "lon_deg"]
     blocks = [("Noon positions (12:00 by the ship's clocks) and the day's run, noon to noon along the rhumb line",
                days.noons[noon_columns] if len(days.noons) else days.noons),
               ("Set and drift at each of the ship's fixes, the current experienced: the fix against the DR carried "
@@ -307,8 +308,8 @@ def _write_noon_report_sheet(tables: TableWriter, sheet, days) -> None:
         for k, note in enumerate(notes):
             write_text_safe(sheet.cell(row=3 + k, column=1), note)
         return
-    columns = ["vessel", "date", "zone", "noon_utc", "noon_position", "noon_from", "course_made_good_deg", "run_nm",
-               "hours", "speed_made_good_kn", "through_water_nm", "current_set_deg", "current_set_95_deg",
+    columns = ["vessel", "date", "zone", "noon_utc", "noon_position", "noon_95_nm", "noon_check", "noon_from",
+               "course_made_good_deg", "run_nm", "hours", "speed_made_good_kn", "run_check", "through_water_nm", "current_set_deg", "current_set_95_deg",
                "current_drift_kn", "current_95_kn", "current_note", "to", "to_go_nm", "eta_ship_time", "eta_basis", "eta_utc", "clock_changes",
                "lat_deg", "lon_deg"]
     write_table_sheet(tables, sheet, labelled(days.noons[columns]), first_row=3,

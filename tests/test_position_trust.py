@@ -16,6 +16,7 @@ import pandas as pd
 import pytest
 from geographiclib.geodesic import Geodesic
 
+from navred.angles import format_angle
 from navred.jobs.voyage import process_log
 
 DATA = Path(__file__).parent / "data" / "t30"
@@ -149,7 +150,7 @@ def test_the_ep_from_the_wrong_hemisphere_dr_is_worked_from_the_dr_carried(untru
     assert "E for W" in ep["check"]
 
 
-def test_the_command_the_report_and_the_picture_flag_them(untrusted, tmp_path):
+def test_the_command_the_report_and_the_picture_flag_them(untrusted, truth, tmp_path):
     """The flags stand beside the figures in the command's output and the noon report; the voyage picture leaves
     the noon off the chart's scale and names it (common practice: a position not believed is not plotted plain)."""
     from typer.testing import CliRunner
@@ -166,7 +167,10 @@ def test_the_command_the_report_and_the_picture_flag_them(untrusted, tmp_path):
     assert any(line.startswith("      run NOT BELIEVABLE: ") and "210.5 kn" in line for line in lines)
     report = noon_report_lines(untrusted.noons.iloc[-1].to_dict())
     assert any(line.startswith("  CHECK RUN         NOT BELIEVABLE") and "not to be sent" in line for line in report)
-    assert report[1].startswith("  position          37° 21.6′ N 029° 59.0′ W, within ")
+    last = untrusted.noons.iloc[-1]
+    assert report[1].startswith(f"  position          {format_angle(last.lat_deg, 'lat')} {format_angle(last.lon_deg, 'lon')}, within ")
+    t_lat, t_lon = _true_at(truth, last.noon_utc)  # the day-3 noon, by the log's ZD +3, near the truth (truth.csv)
+    assert _miles(last.lat_deg, last.lon_deg, t_lat, t_lon) < last.noon_95_nm
     picture = voyage_track_picture(untrusted)
     texts = [getattr(item, "text", "") for item in picture.items]
     assert any("Not drawn, beyond the chart (cannot be trusted" in t and "noon 06-11 at 35° 24.7′ N" in t

@@ -188,10 +188,13 @@ def name_zone_slips(results: list, reduced: pd.DataFrame, group: np.ndarray, lab
     round says it once, as only what that sight alone would suggest. Returns those rows (index into ``reduced``)
     with the words to take out of each one's own note (:func:`drop_contradicted`), so that a sight's note never
     contradicts its round's verdict."""
+    names = (np.asarray(labels, dtype=object) if labels is not None
+             else np.array([f"row {i + 1}" for i in range(len(reduced))], dtype=object))
+    contradicted = unchecked_slips(results, reduced, group, names)
     far = [k for k, result in enumerate(results) if result is not None and
            np.isfinite(result.dr_distance_nm) and result.dr_distance_nm > result.dr_allowed_nm]
     if not far:
-        return {}
+        return contradicted
     # a round whose sights agree among themselves (three or more, σ within a sextant's) was not moved by a slip in
     # one of them: the DR, or a slip common to every sight, moved it; a cause is named for it only where every one
     # of its sights names the same (a ZD of the wrong sign, a day out), else the DR is said to be the likely cause
@@ -200,9 +203,6 @@ def name_zone_slips(results: list, reduced: pd.DataFrame, group: np.ndarray, lab
     said: dict[int, list[tuple[int, str]]] = {}
     for row, text in zip(rows.tolist(), texts.tolist()):
         said.setdefault(int(group[row]), []).append((row, text))
-    contradicted: dict[int, str] = {}
-    names = (np.asarray(labels, dtype=object) if labels is not None
-             else np.array([f"row {i + 1}" for i in range(len(reduced))], dtype=object))
     for k in far:
         texts_k = [text for _, text in said.get(k, [])]
         if k not in agree:
@@ -230,6 +230,129 @@ def name_zone_slips(results: list, reduced: pd.DataFrame, group: np.ndarray, lab
             contradicted.update(alone)
         results[k].warnings.append(words)
     return contradicted
+
+
+#: the latest fix is run on by the DR to test a large intercept only while it is this young (hours; common
+#: practice: a DR carried a day is as far as a navigator trusts a run from a fix)
+RUN_ON_LIMIT_H = 24.0
+
+
+def unchecked_slips(results: list, reduced: pd.DataFrame, group: np.ndarray, names: np.ndarray) -> dict[int, str]:
+    """Each sight used in a fix whose intercept is over LARGE_INTERCEPT_NM, tested against the best position
+    there is: the latest earlier fix that can be trusted (within RUN_ON_LIMIT_H), run on to the sight by the
+    DR (the fix's offset from its DR kept). Where the intercept from there is within SLIP_FIT_NM the DR, not the
+    sight, is wrong: the fix says so (by how much, from which fix) and the slip the sight's own note offers is
+    withdrawn (returned, row: words, for :func:`drop_contradicted`). Where it is not, and the fix has no sight to
+    spare (two sights for two unknowns: nothing checks the one), the fix is marked not to be trusted
+    (:attr:`Distrust.UNCHECKED_SLIP`), naming the row and the slip that fits it. The fixes are judged in time
+    order, so that one marked here is not the position a later one is tested from."""
+    from ..constants import LARGE_INTERCEPT_NM
+    from ..triangle import computed_altitude_azimuth
+
+    needed = ("intercept_nm", "ho_deg", "gha_deg", "dec_deg", "dr_lat_deg", "dr_lon_deg", "sight_utc")
+    if not all(c in reduced.columns for c in needed):
+        return {}
+    intercept = reduced["intercept_nm"].to_numpy(dtype=float)
+    members = {k: np.flatnonzero(group == k) for k, r in enumerate(results) if r is not None}
+    big: dict[int, np.ndarray] = {}
+    for k, rows in members.items():
+        r = results[k]
+        used = r.used if r.used.size == rows.size else np.ones(rows.size, dtype=bool)
+        left = r.left_out if r.left_out.size == rows.size else np.zeros(rows.size, dtype=bool)
+        chosen = rows[used & ~left]
+        chosen = chosen[np.abs(intercept[chosen]) > LARGE_INTERCEPT_NM]
+        if chosen.size:
+            big[k] = chosen
+    if not big:
+        return {}
+    from .frames import utc64
+
+    utc = utc64(reduced["sight_utc"])
+    bodies = (reduced["body_name"].astype(str).to_numpy() if "body_name" in reduced.columns
+              else np.full(len(reduced), "", dtype=object))
+    flagged = np.zeros(len(reduced), dtype=bool)
+    flagged[np.concatenate(list(big.values()))] = True
+    slip_rows, slip_texts = zone_sign_suspects(reduced, flagged, fitted_only=True)
+    slips = dict(zip(slip_rows.tolist(), slip_texts.tolist()))
+    contradicted: dict[int, str] = {}
+    order = sorted(members, key=lambda k: results[k].utc)
+    for k in order:
+        result = results[k]
+        if k not in big:
+            continue
+        unexplained = []
+        for row in big[k].tolist():
+            ref = _latest_trusted(results, order, k, utc[row])
+            if ref is None:
+                unexplained.append((row, ""))
+                continue
+            lat, lon = _run_on(results[ref], float(reduced["dr_lat_deg"].iloc[row]),
+                               float(reduced["dr_lon_deg"].iloc[row]))
+            hc, _ = computed_altitude_azimuth(lat, lon, float(reduced["gha_deg"].iloc[row]),
+                                              float(reduced["dec_deg"].iloc[row]))
+            from_fix = (float(reduced["ho_deg"].iloc[row]) - float(hc)) * 60.0
+            hours = float((utc[row] - results[ref].utc) / np.timedelta64(1, "h"))
+            dr_out = float(np.hypot(results[ref].lat_deg - results[ref].dr_lat_deg,
+                                    (results[ref].lon_deg - results[ref].dr_lon_deg)
+                                    * np.cos(np.radians(results[ref].lat_deg))) * 60.0)
+            fix_words = (f"the fix at {_when(results[ref].utc)} UTC ({_rows_of(names, members[ref], results[ref])}), "
+                         f"{hours:.1f} h before, run on by the DR")
+            if abs(from_fix) <= SLIP_FIT_NM:
+                result.warnings.append(
+                    f"{names[row]} ({bodies[row]}): its intercept of {abs(intercept[row]):.1f} nm is the DR's error, "
+                    f"not the sight's: from {fix_words}, it is {abs(from_fix):.1f} nm; the DR is about "
+                    f"{dr_out:.0f} nm out (as it was at that fix): no slip is offered for this sight (undoing one "
+                    "would spoil a good line); restart the DR from that fix")
+                if row in slips:
+                    contradicted[row] = slips[row]
+            else:
+                unexplained.append((row, f"; from {fix_words}, still {abs(from_fix):.0f} nm"))
+        if not unexplained or not result.is_fix or result.untrusted or result.redundant >= 1:
+            continue
+        said = []
+        for row, tested in unexplained:
+            slip = slips.get(row, "")
+            named = f" carries a probable slip, {_slip_named(slip)}" if slip and not slip.startswith(NO_SLIP_WORDS) else ""
+            said.append(f"{names[row]} ({bodies[row]}){named} (its intercept is {abs(intercept[row]):.1f} nm from "
+                        f"its DR, over {LARGE_INTERCEPT_NM:.0f} nm{tested})")
+        distrust(result, Distrust.UNCHECKED_SLIP, (
+            f"{'; '.join(said)}: with {int(np.sum(result.used))} sights for {int(np.sum(result.used)) - result.redundant} "
+            "unknowns there is no sight to spare, so nothing checks it and the fix rests on it; correct the sight "
+            "(see its note) or take another, and fix again"))
+    return contradicted
+
+
+def _latest_trusted(results: list, order: list[int], k: int, at) -> int | None:
+    """The latest fix (not ``k``) before ``at`` that can be trusted, no older than RUN_ON_LIMIT_H."""
+    best = None
+    for j in order:
+        r = results[j]
+        if j == k or not r.is_fix or r.untrusted or r.utc > at or not np.isfinite(r.dr_lat_deg):
+            continue
+        if float((at - r.utc) / np.timedelta64(1, "h")) <= RUN_ON_LIMIT_H:
+            best = j
+    return best
+
+
+def _run_on(fix, dr_lat_deg: float, dr_lon_deg: float) -> tuple[float, float]:
+    """A fix run on to a later sight by the DR: the sight's DR moved by the fix's offset from its own DR (the
+    difference of latitude, and the departure kept; the mid-latitude sailing, common practice)."""
+    lat = dr_lat_deg + (fix.lat_deg - fix.dr_lat_deg)
+    departure = ((fix.lon_deg - fix.dr_lon_deg + 540.0) % 360.0 - 180.0) * np.cos(np.radians(fix.lat_deg))
+    lon = dr_lon_deg + departure / max(np.cos(np.radians(lat)), 1e-6)
+    return float(lat), float((lon + 540.0) % 360.0 - 180.0)
+
+
+def _when(utc) -> str:
+    return str(utc)[:16].replace("T", " ")
+
+
+def _rows_of(names: np.ndarray, rows: np.ndarray, fix) -> str:
+    used = fix.used if fix.used.size == rows.size else np.ones(rows.size, dtype=bool)
+    shown = [str(n) for n in names[rows[used]]]
+    if len(shown) > 1 and all(n.startswith("row ") for n in shown):
+        return "rows " + ", ".join(n[4:] for n in shown) if len(shown) <= 3 else f"rows {shown[0][4:]}-{shown[-1][4:]}"
+    return ", ".join(shown) if len(shown) <= 3 else f"{shown[0]} to {shown[-1]}"
 
 
 def _cause_only(text: str) -> str:
@@ -260,4 +383,4 @@ def drop_contradicted(reduced: pd.DataFrame, contradicted: dict[int, str]) -> No
     reduced["message"] = messages
 
 
-__all__ = ["zone_sign_suspects", "name_zone_slips", "drop_contradicted"]
+__all__ = ["zone_sign_suspects", "name_zone_slips", "unchecked_slips", "drop_contradicted", "RUN_ON_LIMIT_H"]

@@ -190,7 +190,7 @@ def name_zone_slips(results: list, reduced: pd.DataFrame, group: np.ndarray, lab
     contradicts its round's verdict."""
     names = (np.asarray(labels, dtype=object) if labels is not None
              else np.array([f"row {i + 1}" for i in range(len(reduced))], dtype=object))
-    contradicted = unchecked_slips(results, reduced, group, names)
+    contradicted, explained = unchecked_slips(results, reduced, group, names)
     far = [k for k, result in enumerate(results) if result is not None and
            np.isfinite(result.dr_distance_nm) and result.dr_distance_nm > result.dr_allowed_nm]
     if not far:
@@ -202,6 +202,9 @@ def name_zone_slips(results: list, reduced: pd.DataFrame, group: np.ndarray, lab
     rows, texts = zone_sign_suspects(reduced, np.isin(group, far), fitted_only=True)
     said: dict[int, list[tuple[int, str]]] = {}
     for row, text in zip(rows.tolist(), texts.tolist()):
+        if row in explained:  # the latest fix run on explains its intercept: the DR is wrong, no slip offered
+            contradicted[row] = text
+            continue
         said.setdefault(int(group[row]), []).append((row, text))
     for k in far:
         texts_k = [text for _, text in said.get(k, [])]
@@ -237,12 +240,14 @@ def name_zone_slips(results: list, reduced: pd.DataFrame, group: np.ndarray, lab
 RUN_ON_LIMIT_H = 24.0
 
 
-def unchecked_slips(results: list, reduced: pd.DataFrame, group: np.ndarray, names: np.ndarray) -> dict[int, str]:
+def unchecked_slips(results: list, reduced: pd.DataFrame, group: np.ndarray,
+                    names: np.ndarray) -> tuple[dict[int, str], set[int]]:
     """Each sight used in a fix whose intercept is over LARGE_INTERCEPT_NM, tested against the best position
     there is: the latest earlier fix that can be trusted (within RUN_ON_LIMIT_H), run on to the sight by the
     DR (the fix's offset from its DR kept). Where the intercept from there is within SLIP_FIT_NM the DR, not the
     sight, is wrong: the fix says so (by how much, from which fix) and the slip the sight's own note offers is
-    withdrawn (returned, row: words, for :func:`drop_contradicted`). Where it is not, and the fix has no sight to
+    withdrawn (returned, row: words, for :func:`drop_contradicted`; and the rows so explained, the sights of a
+    fix far from its DR among them, which offer no slip either). Where it is not, and the fix has no sight to
     spare (two sights for two unknowns: nothing checks the one), the fix is marked not to be trusted
     (:attr:`Distrust.UNCHECKED_SLIP`), naming the row and the slip that fits it. The fixes are judged in time
     order, so that one marked here is not the position a later one is tested from."""
@@ -251,7 +256,7 @@ def unchecked_slips(results: list, reduced: pd.DataFrame, group: np.ndarray, nam
 
     needed = ("intercept_nm", "ho_deg", "gha_deg", "dec_deg", "dr_lat_deg", "dr_lon_deg", "sight_utc")
     if not all(c in reduced.columns for c in needed):
-        return {}
+        return {}, set()
     intercept = reduced["intercept_nm"].to_numpy(dtype=float)
     members = {k: np.flatnonzero(group == k) for k, r in enumerate(results) if r is not None}
     big: dict[int, np.ndarray] = {}
@@ -260,11 +265,12 @@ def unchecked_slips(results: list, reduced: pd.DataFrame, group: np.ndarray, nam
         used = r.used if r.used.size == rows.size else np.ones(rows.size, dtype=bool)
         left = r.left_out if r.left_out.size == rows.size else np.zeros(rows.size, dtype=bool)
         chosen = rows[used & ~left]
-        chosen = chosen[np.abs(intercept[chosen]) > LARGE_INTERCEPT_NM]
+        far = np.isfinite(r.dr_distance_nm) and r.dr_distance_nm > r.dr_allowed_nm
+        chosen = chosen if far else chosen[np.abs(intercept[chosen]) > LARGE_INTERCEPT_NM]
         if chosen.size:
             big[k] = chosen
     if not big:
-        return {}
+        return {}, set()
     from .frames import utc64
 
     utc = utc64(reduced["sight_utc"])
@@ -275,6 +281,7 @@ def unchecked_slips(results: list, reduced: pd.DataFrame, group: np.ndarray, nam
     slip_rows, slip_texts = zone_sign_suspects(reduced, flagged, fitted_only=True)
     slips = dict(zip(slip_rows.tolist(), slip_texts.tolist()))
     contradicted: dict[int, str] = {}
+    explained: set[int] = set()
     order = sorted(members, key=lambda k: results[k].utc)
     for k in order:
         result = results[k]
@@ -282,9 +289,11 @@ def unchecked_slips(results: list, reduced: pd.DataFrame, group: np.ndarray, nam
             continue
         unexplained = []
         for row in big[k].tolist():
+            gross = abs(intercept[row]) > LARGE_INTERCEPT_NM
             ref = _latest_trusted(results, order, k, utc[row])
             if ref is None:
-                unexplained.append((row, ""))
+                if gross:
+                    unexplained.append((row, ""))
                 continue
             lat, lon = _run_on(results[ref], float(reduced["dr_lat_deg"].iloc[row]),
                                float(reduced["dr_lon_deg"].iloc[row]))
@@ -298,14 +307,17 @@ def unchecked_slips(results: list, reduced: pd.DataFrame, group: np.ndarray, nam
             fix_words = (f"the fix at {_when(results[ref].utc)} UTC ({_rows_of(names, members[ref], results[ref])}), "
                          f"{hours:.1f} h before, run on by the DR")
             if abs(from_fix) <= SLIP_FIT_NM:
+                explained.add(row)
+                if row in slips:
+                    contradicted[row] = slips[row]
+                if not gross:
+                    continue
                 result.warnings.append(
                     f"{names[row]} ({bodies[row]}): its intercept of {abs(intercept[row]):.1f} nm is the DR's error, "
                     f"not the sight's: from {fix_words}, it is {abs(from_fix):.1f} nm; the DR is about "
                     f"{dr_out:.0f} nm out (as it was at that fix): no slip is offered for this sight (undoing one "
                     "would spoil a good line); restart the DR from that fix")
-                if row in slips:
-                    contradicted[row] = slips[row]
-            else:
+            elif gross:
                 unexplained.append((row, f"; from {fix_words}, still {abs(from_fix):.0f} nm"))
         if not unexplained or not result.is_fix or result.untrusted or result.redundant >= 1:
             continue
@@ -319,7 +331,7 @@ def unchecked_slips(results: list, reduced: pd.DataFrame, group: np.ndarray, nam
             f"{'; '.join(said)}: with {int(np.sum(result.used))} sights for {int(np.sum(result.used)) - result.redundant} "
             "unknowns there is no sight to spare, so nothing checks it and the fix rests on it; correct the sight "
             "(see its note) or take another, and fix again"))
-    return contradicted
+    return contradicted, explained
 
 
 def _latest_trusted(results: list, order: list[int], k: int, at) -> int | None:

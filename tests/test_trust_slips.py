@@ -14,8 +14,9 @@ import json
 import pandas as pd
 from typer.testing import CliRunner
 
-from navred import process_log
+from navred import process_log, reduce_sights
 from navred.cli import app
+from navred.io.logbook import read_sight_log
 from navred.jobs.chartfiles import write_voyage_geojson, write_voyage_gpx
 from navred.status import Distrust
 from navred.triangle import distance_bearing
@@ -28,11 +29,12 @@ LAT, LON, WHEN = 45.25, -20.5, pd.Timestamp("2024-09-15T19:50:00Z")
 STARS = ["Altair", "Arcturus", "Deneb", "Antares", "Vega", "Alkaid"]
 
 
-def write_log(ts, eph, path, *, dr_north_nm=0.0, names=STARS[:4], groups=None, hs_slip_deg=None, time_slip_h=None):
+def write_log(ts, eph, path, *, dr_north_nm=0.0, names=STARS[:4], groups=None, hs_slip_deg=None, time_slip_h=None,
+              dr_south_rows=()):
     """``names`` taken 2 minutes apart at the true position, logged in zone time +1 with the Hs in degrees and
     minutes to 0.1′; the DR ``dr_north_nm`` north of the truth; ``groups`` each row's fix group (default all
     'stars'); ``hs_slip_deg`` {row index: whole degrees written off}; ``time_slip_h`` {row index: hours the zone
-    time is written late}."""
+    time is written late}; ``dr_south_rows``: the row indices whose DR latitude is written S for N."""
     dr_lat, dr_lon = offset_position(LAT, LON, dr_north_nm, 0.0)
     groups = groups or ["stars"] * len(names)
     rows = []
@@ -44,7 +46,7 @@ def write_log(ts, eph, path, *, dr_north_nm=0.0, names=STARS[:4], groups=None, h
         degrees = int(hs)
         rows.append({"date": zone_time.strftime("%Y-%m-%d"), "zone time": zone_time.strftime("%H:%M:%S"),
                      "zone description": "+1", "body": body, "hs": f"{degrees} {(hs - degrees) * 60:04.1f}",
-                     "eye_height_m": 3.0, "dr_lat": f"{dr_lat:.4f} N", "dr_lon": f"{-dr_lon:.4f} W",
+                     "eye_height_m": 3.0, "dr_lat": f"{dr_lat:.4f} {'S' if k in dr_south_rows else 'N'}", "dr_lon": f"{-dr_lon:.4f} W",
                      "fix_group": groups[k]})
     pd.DataFrame(rows).to_csv(path, index=False)
     return path
@@ -135,3 +137,20 @@ def test_a_sight_left_out_for_its_hour_is_named_as_the_span(tmp_path, ts, eph):
     assert bool(fix.left_out[4])
     assert pd.Timestamp(fix.utc) == pd.Timestamp("2024-09-15T19:56:00")
     assert any("only because of row 6" in w and "the sights used span 6 min" in w for w in fix.warnings), fix.warnings
+
+
+# --- F6: one row's DR in the other hemisphere from its neighbours --------------------------------------------
+
+def test_one_rows_dr_in_the_other_hemisphere_is_named_first(tmp_path, ts, eph):
+    # Arcturus (row 3) with its DR latitude written S where rows 2 and 4, two minutes either side, say N: its
+    # intercept is thousands of miles; the hemisphere is the likely cause, named first (worked from the DR with
+    # its latitude N the intercept is within a mile or so), not "no single slip"; the twilight note, worked at the
+    # DR as logged, says so (a DR does not change hemisphere between the sights of a round: common practice)
+    path = write_log(ts, eph, tmp_path / "hemi.csv", dr_north_nm=2.0, dr_south_rows=(1,))
+    note = str(reduce_sights(read_sight_log(path)).message.iloc[1])
+    assert "likely cause: row 3's DR latitude S where row 2 and row 4 say N" in note, note
+    assert "no single slip" not in note
+    rest = float(note.split("the intercept is ")[1].split(" nm")[0])
+    assert rest < 3.0  # the DR 2 nm north of the truth
+    if "twilight" in note or "horizon cannot be made out" in note:
+        assert "whose hemisphere the likely cause above puts in doubt" in note

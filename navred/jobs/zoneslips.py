@@ -13,6 +13,7 @@ import pandas as pd
 
 from ..grosserrors import distrust
 from ..status import Distrust
+from ..triangle import distance_bearing
 
 #: a slip fits a sight when undoing it leaves an intercept within this (nautical miles; common practice: a DR
 #: carried a day or so is seldom further out; 15 nm keeps a wrong limb, 32′ at the Sun, apart from a degree
@@ -71,6 +72,8 @@ def zone_sign_suspects(frame: pd.DataFrame, flagged: np.ndarray, *, ho_deg=None,
     # E for W: the sight worked at the time as logged from the DR's longitude mirrored
     mirrored = _intercept_at(frame, rows, bodies, lat, -lon, ho, np.where(wrong_side, 0.0, np.nan))
     found: list[list[tuple[int, float, str]]] = [[] for _ in rows]
+    for k, words, rest in _odd_hemisphere(frame, rows, bodies, lat, lon, ho):
+        found[k].append((0, rest, words))
     for k in range(rows.size):
         for which, (h, rest) in enumerate(zip(shifts, left)):
             if not np.isfinite(h[k]) or not np.isfinite(rest[k]) or abs(rest[k]) > SLIP_FIT_NM:
@@ -110,6 +113,60 @@ def zone_sign_suspects(frame: pd.DataFrame, flagged: np.ndarray, *, ho_deg=None,
         keep = np.array([bool(f) for f in found], dtype=bool)
         return rows[keep], texts[keep]
     return rows, texts
+
+
+#: a row's neighbours in the log (the rows before and after it) whose DR speaks for it: those this close in time
+#: (hours; common practice: a round's sights are minutes apart, a DR does not change hemisphere between them)
+NEIGHBOUR_HOURS = 1.0
+#: the DR mirrored is taken to agree with a neighbour's when within this (nautical miles: an hour's run and more)
+NEIGHBOUR_DR_NM = 60.0
+
+
+def _odd_hemisphere(frame, rows, bodies, lat, lon, ho) -> list[tuple[int, str, float]]:
+    """The flagged rows whose DR names the other hemisphere (N/S or E/W) from their neighbours' in the log, taken
+    minutes apart, where the DR mirrored lies by theirs: (index into ``rows``, the words, the intercept worked
+    from the DR mirrored). Named first among the causes: one row's DR written N for S jumps thousands of miles."""
+    if "dr_lat_deg" not in frame.columns:
+        return []
+    all_lat = frame["dr_lat_deg"].to_numpy(dtype=float)
+    all_lon = frame["dr_lon_deg"].to_numpy(dtype=float)
+    jd = frame["utc_jd1"].to_numpy(dtype=float) + frame["utc_jd2"].to_numpy(dtype=float)
+    labels = (("row " + frame["row"].astype(int).astype(str)).to_numpy(dtype=object) if "row" in frame.columns
+              else np.array([f"row {i + 1}" for i in range(len(frame))], dtype=object))
+    out = []
+    for flip_lat in (True, False):
+        odd = []
+        for k, row in enumerate(rows.tolist()):
+            near = [n for n in (row - 1, row + 1) if 0 <= n < len(frame) and np.isfinite(all_lat[n])
+                    and np.isfinite(all_lon[n]) and abs(jd[n] - jd[row]) * 24.0 <= NEIGHBOUR_HOURS]
+            mine, theirs = (lat[k], all_lat[near]) if flip_lat else (lon[k], all_lon[near])
+            if not near or mine == 0 or not np.all(mine * theirs < 0):
+                continue
+            m_lat, m_lon = (-lat[k], lon[k]) if flip_lat else (lat[k], -lon[k])
+            apart = [float(distance_bearing(m_lat, m_lon, all_lat[n], all_lon[n])[0]) for n in near]
+            if max(apart) > NEIGHBOUR_DR_NM:
+                continue
+            jump = float(distance_bearing(lat[k], lon[k], all_lat[near[0]], all_lon[near[0]])[0])
+            minutes = abs(jd[near[0]] - jd[row]) * 1440.0
+            odd.append((k, near, jump, minutes))
+        if not odd:
+            continue
+        index = np.array([k for k, *_ in odd])
+        m_lat = np.where(flip_lat, -lat[index], lat[index])
+        m_lon = np.where(flip_lat, lon[index], -lon[index])
+        rest = _intercept_at(frame, rows[index], bodies[index], m_lat, m_lon, ho[index], np.zeros(index.size))
+        for (k, near, jump, minutes), left in zip(odd, rest.tolist()):
+            if flip_lat:
+                what, mine, theirs = "latitude", ("N" if lat[k] > 0 else "S"), ("S" if lat[k] > 0 else "N")
+            else:
+                what, mine, theirs = "longitude", ("E" if lon[k] > 0 else "W"), ("W" if lon[k] > 0 else "E")
+            others = " and ".join(str(labels[n]) for n in near)
+            out.append((k, (
+                f"likely cause: {labels[rows[k]]}'s DR {what} {mine} where {others} "
+                f"{'say' if len(near) > 1 else 'says'} {theirs} (the DR jumps {jump:,.0f} nm in {minutes:.1f} min "
+                f"to {labels[near[0]]}); worked from the DR with its {what} {theirs}, the intercept is "
+                f"{abs(left):.1f} nm: check the DR's {'N/S' if flip_lat else 'E/W'}"), abs(left)))
+    return out
 
 
 def _intercept_at(frame, rows, bodies, lat, lon, ho, hours) -> np.ndarray:

@@ -11,6 +11,7 @@ from __future__ import annotations
 import io
 import json
 
+import numpy as np
 import pandas as pd
 from typer.testing import CliRunner
 
@@ -154,3 +155,23 @@ def test_one_rows_dr_in_the_other_hemisphere_is_named_first(tmp_path, ts, eph):
     assert rest < 3.0  # the DR 2 nm north of the truth
     if "twilight" in note or "horizon cannot be made out" in note:
         assert "whose hemisphere the likely cause above puts in doubt" in note
+
+
+# --- 11: what the fix standard error is, said beside it ------------------------------------------------------
+
+def test_the_fix_standard_error_says_it_is_the_one_sigma_radial_drms(tmp_path, ts, eph):
+    # the drms (1σ radial) is √(σ₁² + σ₂²) of the error ellipse's axes (common practice): the 95 % semi-axes
+    # over the ellipse's own scale; about 63 % (a round error) to 68 % (a long thin one) of fixes fall within it
+    # (from memory: 1 − e⁻¹ and the 1σ of one axis), checked here by drawing errors from the fix's covariance
+    path = write_log(ts, eph, tmp_path / "round.csv", dr_north_nm=2.0)
+    fixes, _ = fixes_of(path)
+    fix = fixes["stars"]
+    drms = float(np.hypot(fix.ellipse_semi_major_nm, fix.ellipse_semi_minor_nm) / fix.confidence_scale)
+    assert abs(fix.standard_error_nm - drms) < 1e-9
+    draws = np.random.default_rng(7).multivariate_normal([0.0, 0.0], fix.covariance_nm2, 20000)
+    within = float(np.mean(np.hypot(draws[:, 0], draws[:, 1]) <= fix.standard_error_nm))
+    assert 0.62 < within < 0.69
+    printed = runner.invoke(app, ["fix", str(path)]).stdout
+    line = next(t for t in printed.splitlines() if "fix standard error" in t)
+    assert f"fix standard error {fix.standard_error_nm:.2f} nm (1σ radial, the drms" in line
+    assert "95 % ellipse" in line

@@ -365,8 +365,8 @@ def unchecked_slips(results: list, reduced: pd.DataFrame, group: np.ndarray,
                          f"{hours:.1f} h before, run on by the DR")
             if abs(from_fix) <= SLIP_FIT_NM:
                 explained.add(row)
-                if row in slips:
-                    contradicted[row] = slips[row]
+                contradicted[row] = slips.get(row, f"{NO_SLIP_WORDS} within {SLIP_FIT_NM:.0f} nm: check the body, "
+                                                   "the Hs and the DR")
                 if not gross:
                     continue
                 result.warnings.append(

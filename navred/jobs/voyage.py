@@ -405,8 +405,9 @@ def _say_span(result, times: np.ndarray, labels: np.ndarray) -> None:
     span_h = float((kept.max() - kept.min()) / np.timedelta64(1, "h"))
     every_h = float((times.max() - times.min()) / np.timedelta64(1, "h"))
     if span_h > LONG_GROUP_HOURS:
+        which = "sights used" if left.any() else "group's sights"
         result.warnings.append(
-            f"the sights used span {span_h:.1f} h: a running fix over more than {LONG_GROUP_HOURS:.0f} h "
+            f"the {which} span {span_h:.1f} h: a running fix over more than {LONG_GROUP_HOURS:.0f} h "
             "rests on the DR's run between them; is it two rounds under one name (a date repeated across "
             "the date line names two days alike)? give each round its own fix group")
     elif every_h > LONG_GROUP_HOURS or (left.any() and every_h - span_h >= LEFT_OUT_SPAN_HOURS):
@@ -417,7 +418,7 @@ def _say_span(result, times: np.ndarray, labels: np.ndarray) -> None:
         if culprits:
             result.warnings.append(
                 f"the group's sights span {every_h:.1f} h only because of {', '.join(culprits)}, left out: the "
-                f"sights used span {span_h * 60:.0f} min; check {'their' if len(culprits) > 1 else 'its'} time "
+                f"sights used span {f'{span_h * 60:.0f} min' if span_h < 1.0 else f'{span_h:.1f} h'}; check {'their' if len(culprits) > 1 else 'its'} time "
                 "(the date, the hour, the zone description)")
 
 

@@ -328,9 +328,7 @@ def unchecked_slips(results: list, reduced: pd.DataFrame, group: np.ndarray,
             big[k] = chosen
     if not big:
         return {}, set()
-    from .frames import utc64
-
-    utc = utc64(reduced["sight_utc"])
+    utc = reduced["sight_utc"].dt.tz_convert(None).to_numpy().astype("datetime64[ns]")  # naive UTC
     bodies = (reduced["body_name"].astype(str).to_numpy() if "body_name" in reduced.columns
               else np.full(len(reduced), "", dtype=object))
     flagged = np.zeros(len(reduced), dtype=bool)

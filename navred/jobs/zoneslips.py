@@ -133,36 +133,36 @@ def _odd_hemisphere(frame, rows, bodies, lat, lon, ho) -> list[tuple[int, str, f
     jd = frame["utc_jd1"].to_numpy(dtype=float) + frame["utc_jd2"].to_numpy(dtype=float)
     labels = (("row " + frame["row"].astype(int).astype(str)).to_numpy(dtype=object) if "row" in frame.columns
               else np.array([f"row {i + 1}" for i in range(len(frame))], dtype=object))
+    n = len(frame)
     out = []
     for flip_lat in (True, False):
-        odd = []
-        for k, row in enumerate(rows.tolist()):
-            near = [n for n in (row - 1, row + 1) if 0 <= n < len(frame) and np.isfinite(all_lat[n])
-                    and np.isfinite(all_lon[n]) and abs(jd[n] - jd[row]) * 24.0 <= NEIGHBOUR_HOURS]
-            mine, theirs = (lat[k], all_lat[near]) if flip_lat else (lon[k], all_lon[near])
-            if not near or mine == 0 or not np.all(mine * theirs < 0):
-                continue
-            m_lat, m_lon = (-lat[k], lon[k]) if flip_lat else (lat[k], -lon[k])
-            apart = [float(distance_bearing(m_lat, m_lon, all_lat[n], all_lon[n])[0]) for n in near]
-            if max(apart) > NEIGHBOUR_DR_NM:
-                continue
-            jump = float(distance_bearing(lat[k], lon[k], all_lat[near[0]], all_lon[near[0]])[0])
-            minutes = abs(jd[near[0]] - jd[row]) * 1440.0
-            odd.append((k, near, jump, minutes))
-        if not odd:
+        mine = lat if flip_lat else lon
+        m_lat, m_lon = (-lat, lon) if flip_lat else (lat, -lon)
+        every = all_lat if flip_lat else all_lon
+        has = np.zeros((2, rows.size), dtype=bool)  # each flagged row's row before (0) and after (1) speaks
+        agree = np.ones(rows.size, dtype=bool)
+        for side, step in enumerate((-1, 1)):
+            near = np.clip(rows + step, 0, max(n - 1, 0))
+            with np.errstate(invalid="ignore"):
+                has[side] = ((rows + step >= 0) & (rows + step < n) & np.isfinite(all_lat[near])
+                             & np.isfinite(all_lon[near]) & (np.abs(jd[near] - jd[rows]) * 24.0 <= NEIGHBOUR_HOURS))
+                apart = distance_bearing(m_lat, m_lon, all_lat[near], all_lon[near])[0]
+                agree &= ~has[side] | ((mine * every[near] < 0) & (apart <= NEIGHBOUR_DR_NM))
+        odd = np.flatnonzero(has.any(axis=0) & agree & (mine != 0))
+        if not odd.size:
             continue
-        index = np.array([k for k, *_ in odd])
-        m_lat = np.where(flip_lat, -lat[index], lat[index])
-        m_lon = np.where(flip_lat, lon[index], -lon[index])
-        rest = _intercept_at(frame, rows[index], bodies[index], m_lat, m_lon, ho[index], np.zeros(index.size))
-        for (k, near, jump, minutes), left in zip(odd, rest.tolist()):
+        rest = _intercept_at(frame, rows[odd], bodies[odd], m_lat[odd], m_lon[odd], ho[odd], np.zeros(odd.size))
+        for k, left in zip(odd.tolist(), rest.tolist()):
+            near = [rows[k] + step for side, step in enumerate((-1, 1)) if has[side, k]]
+            jump = float(distance_bearing(lat[k], lon[k], all_lat[near[0]], all_lon[near[0]])[0])
+            minutes = abs(jd[near[0]] - jd[rows[k]]) * 1440.0
             if flip_lat:
-                what, mine, theirs = "latitude", ("N" if lat[k] > 0 else "S"), ("S" if lat[k] > 0 else "N")
+                what, said, theirs = "latitude", ("N" if lat[k] > 0 else "S"), ("S" if lat[k] > 0 else "N")
             else:
-                what, mine, theirs = "longitude", ("E" if lon[k] > 0 else "W"), ("W" if lon[k] > 0 else "E")
-            others = " and ".join(str(labels[n]) for n in near)
+                what, said, theirs = "longitude", ("E" if lon[k] > 0 else "W"), ("W" if lon[k] > 0 else "E")
+            others = " and ".join(str(labels[r]) for r in near)
             out.append((k, (
-                f"likely cause: {labels[rows[k]]}'s DR {what} {mine} where {others} "
+                f"likely cause: {labels[rows[k]]}'s DR {what} {said} where {others} "
                 f"{'say' if len(near) > 1 else 'says'} {theirs} (the DR jumps {jump:,.0f} nm in {minutes:.1f} min "
                 f"to {labels[near[0]]}); worked from the DR with its {what} {theirs}, the intercept is "
                 f"{abs(left):.1f} nm: check the DR's {'N/S' if flip_lat else 'E/W'}"), abs(left)))

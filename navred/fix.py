@@ -100,11 +100,12 @@ def fixes_from_sights(gha_deg: ArrayLike, dec_deg: ArrayLike, ho_deg: ArrayLike,
     if usable is not None:
         ok &= broadcast(usable, (n_rows,), bool)
     nothing = np.zeros(n_rows, dtype=bool)
-    results, problems = fix_batch(sights, group, n_groups, ok, nothing, _fix_times(at_utc, n_groups))
+    fix_times = _fix_times(at_utc, n_groups)
+    results, problems = fix_batch(sights, group, n_groups, ok, nothing, fix_times)
     if refit:
         misread = (misread_rounds(sights, per_row(hs_deg), group, n_groups, ok, results) if hs_deg is not None
                    else set())
-        leave_out_gross(sights, group, n_groups, ok, results, frozenset(misread))
+        leave_out_gross(sights, group, n_groups, ok, results, frozenset(misread), fix_times)
         check_fixes(sights, group, n_groups, ok, results)
         mirrored_drs(sights, group, n_groups, ok, results)
         mark_untrusted(results)

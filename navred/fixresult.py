@@ -226,7 +226,9 @@ class FixResult:
 
     @property
     def standard_error_nm(self) -> float:
-        """Root of the trace of the position covariance: the fix's standard error, nm."""
+        """Root of the trace of the position covariance: the fix's standard error, nm: 1σ radial (the drms,
+        √(σ north² + σ east²), the root-mean-square distance of the fix from the true position; about 63 % to
+        68 % of fixes lie within it, depending on the ellipse's shape), not a 95 % figure."""
         return float(np.sqrt(np.trace(self.covariance_nm2)))
 
     def cross_check(self, lat_deg: float, lon_deg: float) -> ChartCheck:

@@ -28,11 +28,15 @@ from .status import Distrust
 from .triangle import distance_bearing
 
 
-def leave_out_gross(sights: SightRows, group, n_groups, ok, results, skip: frozenset[int] = frozenset()) -> None:
+def leave_out_gross(sights: SightRows, group, n_groups, ok, results, skip: frozenset[int] = frozenset(),
+                    fix_times: np.ndarray | None = None) -> None:
     """Each group's gross errors beyond doubt left out of its fix, a round at a time (a second one can hide
     behind the first), and the sights the blunder test flags once the gross errors are out (while three or more
     sights remain to fix from and check); the fix from every sight kept beside it, and a loud warning naming
-    each row. The groups ``skip`` are left as they are (a round that cannot be trusted as written)."""
+    each row. The groups ``skip`` are left as they are (a round that cannot be trusted as written).
+    ``fix_times``: each group's fix time as the caller gave it (NaT: none given); where none was given the fix
+    left without its gross errors is at the last sight it uses (a sight left out sets nothing: not the fix's
+    time, nor the time the others are run to); default: the time of the fix from every sight."""
     left_out = np.zeros(group.size, dtype=bool)
     by_test = np.zeros(group.size, dtype=bool)
     tested: set[int] = set()
@@ -65,6 +69,8 @@ def leave_out_gross(sights: SightRows, group, n_groups, ok, results, skip: froze
             break
         left_out[np.concatenate(rows)] = True
         times = np.array([results[g].utc for g in chosen], dtype="datetime64[ns]")
+        if fix_times is not None:  # no time given: NaT, the last sight used (fix_batch)
+            times = np.where(np.isnat(fix_times[chosen]), np.datetime64("NaT"), times)
         again, _ = fix_batch(sights, subset_groups(group, chosen, n_groups), len(chosen), ok, left_out, times)
         for j, g in enumerate(chosen):
             if again[j] is not None:
@@ -101,6 +107,11 @@ def _say_left_out(result, names_here: np.ndarray) -> None:
     result.warnings.insert(0, (
         f"LEFT OUT of this {result.kind}: {'; '.join(reasons)}; the {every.kind} from every sight is {miles:.1f} nm "
         f"away, at {format_angle(every.lat_deg, 'lat')} {format_angle(every.lon_deg, 'lon')}"))
+    if every.utc != result.utc:
+        result.warnings.insert(1, (
+            f"the {result.kind} is at {str(result.utc)[:16].replace('T', ' ')} UTC, the time of the last sight it "
+            f"uses; {', '.join(str(n) for n in names)}, left out, sets neither its time nor the time the others "
+            f"are run to (the {every.kind} from every sight was at {str(every.utc)[:16].replace('T', ' ')} UTC)"))
     if miles > 1.0:
         rows = ", ".join(str(name) for name in names)
         result.warnings.insert(1, f"this {result.kind} and the one from every sight differ by {miles:.1f} nm: "

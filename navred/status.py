@@ -66,7 +66,8 @@ class Distrust(_Word):
     """Why a fix cannot be trusted as the position to plot (``FixResult.untrusted_cause``; the ``untrusted_cause``
     column of every table of fixes). Decided in one place, :func:`navred.grosserrors.mark_untrusted` (and
     :func:`navred.grosserrors.misread_rounds` for Hs written as a decimal, :func:`navred.grosserrors.mirrored_drs`
-    for a DR in the wrong hemisphere, :func:`navred.grosserrors.distrust` for a slip every sight fits)."""
+    for a DR in the wrong hemisphere, :func:`navred.grosserrors.distrust` for a slip every sight fits or a gross
+    sight in a fix with none to spare, :func:`navred.jobs.zoneslips.unchecked_slips`)."""
 
     HS_AS_DECIMAL = "Hs as a decimal"
     COMMON_ERROR = "common error"
@@ -74,6 +75,7 @@ class Distrust(_Word):
     DR_HEMISPHERE = "DR hemisphere"
     FAR_FROM_DR = "far from the DR"
     SLIP = "a slip every sight fits"
+    UNCHECKED_SLIP = "a gross sight unchecked"
 
 
 #: code and meaning of every member, one table per enum (0: as expected; > 0: to be read with care; < 0: refused).
@@ -103,6 +105,8 @@ DISTRUST_TABLE = {
     Distrust.DR_HEMISPHERE: (-4, "the DR mirrored (N for S, E for W) fits the sights: the DR was written wrongly"),
     Distrust.FAR_FROM_DR: (-5, "over three times as far from the DR as the DR could be out: a slip is likelier"),
     Distrust.SLIP: (-6, "far from its DR, and one slip (the date, am/pm, the hour, the ZD...) fits every sight"),
+    Distrust.UNCHECKED_SLIP: (-7, "no sight to spare, and one it rests on has an intercept over 30 nm (a probable "
+                                  "slip, named where one fits) that the latest fix run on does not explain"),
 }
 _TABLES = {SightStatus: SIGHT_STATUS_TABLE, FixKind: FIX_KIND_TABLE, RunFrom: RUN_FROM_TABLE,
            Distrust: DISTRUST_TABLE}

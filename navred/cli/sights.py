@@ -129,7 +129,7 @@ def reduce_command(
 def fix_command(
     ctx: typer.Context,
     sights_files: list[str] = SIGHTS,
-    utc: str | None = typer.Option(None, "--utc", "-t", help="Fix time (ISO 8601 with a zone); default: the last sight of each group."),
+    utc: str | None = typer.Option(None, "--utc", "-t", help="Fix time (ISO 8601 with a zone); default: the last sight each group's fix uses (a sight left out sets no time)."),
     chart_lat: str | None = typer.Option(None, "--chart-lat", help="Chart or GNSS latitude to cross-check, e.g. '43 16.5 N'."),
     chart_lon: str | None = typer.Option(None, "--chart-lon", help="Chart or GNSS longitude to cross-check, e.g. '013 11.4 W'."),
     group: str | None = typer.Option(None, "--group", help="Fix only this fix group."),

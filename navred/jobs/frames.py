@@ -155,7 +155,8 @@ def fix_position(reduced: pd.DataFrame, at_utc: Instant | None = None, *, group:
 #: The columns of a table of fixes (``navred fix --csv``, :meth:`GroupedFixes.table`), one row per fix group,
 #: decimal degrees. ``trusted``: False for a position marked CANNOT BE TRUSTED as the position to plot
 #: (:attr:`navred.FixResult.trusted`), ``untrusted_cause`` the kind of reason (:class:`navred.status.Distrust`:
-#: 'Hs as a decimal', 'common error', 'scatter', 'DR hemisphere', 'far from the DR'; blank when trusted); both
+#: 'Hs as a decimal', 'common error', 'scatter', 'DR hemisphere', 'far from the DR', 'a slip every sight fits',
+#: 'a gross sight unchecked'; blank when trusted); both
 #: blank for a group with no fix. ``run``: the run between the sights in words (:attr:`navred.FixResult.run_text`:
 #: 'course and speed, 215° at 6.5 kn', 'course and speed, stopped (0 kn)'; 'none' for sights taken together).
 FIX_COLUMNS = ("fix_group", "utc", "kind", "trusted", "untrusted_cause", "lat_deg", "lon_deg", "sights", "sigma_arcmin", "weighted", "quantile",

@@ -352,7 +352,10 @@ def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
         notes.warn(suspect, why)
         notes.warn(high, "high sight (Hc above 85°): the straight line of position is a poor "
                          "approximation; fix it on the sphere")
-        _twilight_check(notes, rows, bodies, horizon, inst, lat, lon)
+        doubt = np.zeros(n, dtype=bool)  # the rows whose DR's N/S or E/W a likely cause puts in doubt
+        doubt[suspect] = [("likely cause" in w and ("'s DR latitude" in w or "'s DR longitude" in w
+                                                     or "the DR's longitude written" in w)) for w in why]
+        _twilight_check(notes, rows, bodies, horizon, inst, lat, lon, doubt)
     bad = ~notes.ok
     result["ho_deg"] = np.where(bad, np.nan, result["ho_deg"])
     result["intercept_nm"] = np.where(bad, np.nan, intercept_nm(result["ho_deg"], result["hc_deg"]))
@@ -400,9 +403,10 @@ def _reduce_marks(frame: pd.DataFrame, notes: _Notes, mark: np.ndarray, lat: np.
 
 
 def _twilight_check(notes: _Notes, rows: np.ndarray, bodies: np.ndarray, horizon: np.ndarray, inst, lat: np.ndarray,
-                    lon: np.ndarray) -> None:
+                    lon: np.ndarray, doubt: np.ndarray | None = None) -> None:
     """A star or planet on the sea horizon with the Sun too high for it to be seen, or too low for the horizon
-    to be: the Sun's altitude at the DR at the sight (SUN_BRIGHT_SKY_DEG, SUN_DARK_HORIZON_DEG)."""
+    to be: the Sun's altitude at the DR at the sight (SUN_BRIGHT_SKY_DEG, SUN_DARK_HORIZON_DEG). ``doubt``: the
+    rows (of the whole batch) whose DR's hemisphere is in doubt, whose note says the Sun was worked there."""
     point_like = ~np.isin(bodies[rows], ["Sun", "Moon"]) & np.isin(horizon[rows], SEA_HORIZONS)
     if not point_like.any():
         return
@@ -426,7 +430,11 @@ def _twilight_check(notes: _Notes, rows: np.ndarray, bodies: np.ndarray, horizon
     first = warned[np.unique(codes, return_index=True)[1]]
     texts = np.array([_twilight_text(float(altitude[k]), bool(bright[k]), bool(planet[k])) for k in first.tolist()],
                      dtype=object)
-    notes.warn(chosen[warned], texts[codes])
+    said = texts[codes]
+    if doubt is not None and doubt[chosen[warned]].any():
+        said = np.where(doubt[chosen[warned]], said + " (worked at the DR as logged, whose hemisphere the likely "
+                        "cause above puts in doubt: correct the DR first)", said)
+    notes.warn(chosen[warned], said)
 
 
 def _twilight_text(altitude: float, bright: bool, planet: bool) -> str:

@@ -410,6 +410,37 @@ def chart_positions(reduced: pd.DataFrame, group: np.ndarray, count: int
 LONG_GROUP_HOURS = 8.0
 
 
+#: a sight left out of its fix this many hours or more outside the span of the sights used is named as the cause
+#: of the group's span (a date or hour slip; a round's sights are minutes apart: common practice)
+LEFT_OUT_SPAN_HOURS = 0.5
+
+
+def _say_span(result, times: np.ndarray, labels: np.ndarray) -> None:
+    """The warning of a fix whose sights used span more than LONG_GROUP_HOURS; where only a sight left out of it
+    made the group's span long, that row named as the cause (its time, most likely its date or hour, is wrong)."""
+    used = result.used if result.used.size == times.size else np.ones(times.size, dtype=bool)
+    left = result.left_out if result.left_out.size == times.size else np.zeros(times.size, dtype=bool)
+    kept = times[used & ~left] if (used & ~left).any() else times
+    span_h = float((kept.max() - kept.min()) / np.timedelta64(1, "h"))
+    every_h = float((times.max() - times.min()) / np.timedelta64(1, "h"))
+    if span_h > LONG_GROUP_HOURS:
+        which = "sights used" if left.any() else "group's sights"
+        result.warnings.append(
+            f"the {which} span {span_h:.1f} h: a running fix over more than {LONG_GROUP_HOURS:.0f} h "
+            "rests on the DR's run between them; is it two rounds under one name (a date repeated across "
+            "the date line names two days alike)? give each round its own fix group")
+    elif every_h > LONG_GROUP_HOURS or (left.any() and every_h - span_h >= LEFT_OUT_SPAN_HOURS):
+        middle = kept.min() + (kept.max() - kept.min()) / 2
+        apart = np.abs((times - middle) / np.timedelta64(1, "h"))
+        culprits = [f"{labels[k]} ({apart[k]:.1f} h from them)" for k in np.flatnonzero(left)
+                    if apart[k] > span_h / 2 + LEFT_OUT_SPAN_HOURS]
+        if culprits:
+            result.warnings.append(
+                f"the group's sights span {every_h:.1f} h only because of {', '.join(culprits)}, left out: the "
+                f"sights used span {f'{span_h * 60:.0f} min' if span_h < 1.0 else f'{span_h:.1f} h'}; check {'their' if len(culprits) > 1 else 'its'} time "
+                "(the date, the hour, the zone description)")
+
+
 def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: object | None = None,
                only: str | None = None, chart: tuple[float, float] | None = None,
                context: dict | None = None) -> list[GroupFix]:
@@ -468,13 +499,7 @@ def fix_groups(reduced: pd.DataFrame, *, solve_motion: bool = False, at_utc: obj
                           "checks)" if count_k == 1 else ""))
         result = batch.results[k]
         if result is not None and rows.size > 1:
-            times = every_time[rows]
-            span_h = float((times.max() - times.min()) / np.timedelta64(1, "h"))
-            if span_h > LONG_GROUP_HOURS:
-                result.warnings.append(
-                    f"the group's sights span {span_h:.1f} h: a running fix over more than {LONG_GROUP_HOURS:.0f} h "
-                    "rests on the DR's run between them; is it two rounds under one name (a date repeated across "
-                    "the date line names two days alike)? give each round its own fix group")
+            _say_span(result, every_time[rows], arguments["labels"][rows])
         groups.append(GroupFix(name, rows, result, problem, position, notes[k] if position else ""))
     return groups
 

@@ -416,7 +416,7 @@ def fixes_table(voyage) -> pd.DataFrame:
             "sights used": int(fix.used.sum()),
             "sight σ (′)": fix.sigma_arcmin,
             "σ from": fix.sigma_source,
-            "standard error (nm)": fix.standard_error_nm,
+            "standard error, 1σ radial (drms, nm)": fix.standard_error_nm,
             "95 % ellipse (full size)": fix.ellipse_text(),
             "95 % semi-major (nm)": fix.ellipse_semi_major_nm if fix.is_fix else None,
             "95 % semi-minor (nm)": fix.ellipse_semi_minor_nm,

@@ -14,6 +14,7 @@ import pandas as pd
 from ..grosserrors import distrust
 from ..reckoning import zone_description_h
 from ..status import Distrust
+from ..triangle import distance_bearing
 
 #: a slip fits a sight when undoing it leaves an intercept within this (nautical miles; common practice: a DR
 #: carried a day or so is seldom further out; 15 nm keeps a wrong limb, 32′ at the Sun, apart from a degree
@@ -72,6 +73,8 @@ def zone_sign_suspects(frame: pd.DataFrame, flagged: np.ndarray, *, ho_deg=None,
     # E for W: the sight worked at the time as logged from the DR's longitude mirrored
     mirrored = _intercept_at(frame, rows, bodies, lat, -lon, ho, np.where(wrong_side, 0.0, np.nan))
     found: list[list[tuple[int, float, str]]] = [[] for _ in rows]
+    for k, words, rest in _odd_hemisphere(frame, rows, bodies, lat, lon, ho):
+        found[k].append((0, rest, words))
     for k in range(rows.size):
         for which, (h, rest) in enumerate(zip(shifts, left)):
             if not np.isfinite(h[k]) or not np.isfinite(rest[k]) or abs(rest[k]) > SLIP_FIT_NM:
@@ -111,6 +114,60 @@ def zone_sign_suspects(frame: pd.DataFrame, flagged: np.ndarray, *, ho_deg=None,
         keep = np.array([bool(f) for f in found], dtype=bool)
         return rows[keep], texts[keep]
     return rows, texts
+
+
+#: a row's neighbours in the log (the rows before and after it) whose DR speaks for it: those this close in time
+#: (hours; common practice: a round's sights are minutes apart, a DR does not change hemisphere between them)
+NEIGHBOUR_HOURS = 1.0
+#: the DR mirrored is taken to agree with a neighbour's when within this (nautical miles: an hour's run and more)
+NEIGHBOUR_DR_NM = 60.0
+
+
+def _odd_hemisphere(frame, rows, bodies, lat, lon, ho) -> list[tuple[int, str, float]]:
+    """The flagged rows whose DR names the other hemisphere (N/S or E/W) from their neighbours' in the log, taken
+    minutes apart, where the DR mirrored lies by theirs: (index into ``rows``, the words, the intercept worked
+    from the DR mirrored). Named first among the causes: one row's DR written N for S jumps thousands of miles."""
+    if "dr_lat_deg" not in frame.columns:
+        return []
+    all_lat = frame["dr_lat_deg"].to_numpy(dtype=float)
+    all_lon = frame["dr_lon_deg"].to_numpy(dtype=float)
+    jd = frame["utc_jd1"].to_numpy(dtype=float) + frame["utc_jd2"].to_numpy(dtype=float)
+    labels = (("row " + frame["row"].astype(int).astype(str)).to_numpy(dtype=object) if "row" in frame.columns
+              else np.array([f"row {i + 1}" for i in range(len(frame))], dtype=object))
+    n = len(frame)
+    out = []
+    for flip_lat in (True, False):
+        mine = lat if flip_lat else lon
+        m_lat, m_lon = (-lat, lon) if flip_lat else (lat, -lon)
+        every = all_lat if flip_lat else all_lon
+        has = np.zeros((2, rows.size), dtype=bool)  # each flagged row's row before (0) and after (1) speaks
+        agree = np.ones(rows.size, dtype=bool)
+        for side, step in enumerate((-1, 1)):
+            near = np.clip(rows + step, 0, max(n - 1, 0))
+            with np.errstate(invalid="ignore"):
+                has[side] = ((rows + step >= 0) & (rows + step < n) & np.isfinite(all_lat[near])
+                             & np.isfinite(all_lon[near]) & (np.abs(jd[near] - jd[rows]) * 24.0 <= NEIGHBOUR_HOURS))
+                apart = distance_bearing(m_lat, m_lon, all_lat[near], all_lon[near])[0]
+                agree &= ~has[side] | ((mine * every[near] < 0) & (apart <= NEIGHBOUR_DR_NM))
+        odd = np.flatnonzero(has.any(axis=0) & agree & (mine != 0))
+        if not odd.size:
+            continue
+        rest = _intercept_at(frame, rows[odd], bodies[odd], m_lat[odd], m_lon[odd], ho[odd], np.zeros(odd.size))
+        for k, left in zip(odd.tolist(), rest.tolist()):
+            near = [rows[k] + step for side, step in enumerate((-1, 1)) if has[side, k]]
+            jump = float(distance_bearing(lat[k], lon[k], all_lat[near[0]], all_lon[near[0]])[0])
+            minutes = abs(jd[near[0]] - jd[rows[k]]) * 1440.0
+            if flip_lat:
+                what, said, theirs = "latitude", ("N" if lat[k] > 0 else "S"), ("S" if lat[k] > 0 else "N")
+            else:
+                what, said, theirs = "longitude", ("E" if lon[k] > 0 else "W"), ("W" if lon[k] > 0 else "E")
+            others = " and ".join(str(labels[r]) for r in near)
+            out.append((k, (
+                f"likely cause: {labels[rows[k]]}'s DR {what} {said} where {others} "
+                f"{'say' if len(near) > 1 else 'says'} {theirs} (the DR jumps {jump:,.0f} nm in {minutes:.1f} min "
+                f"to {labels[near[0]]}); worked from the DR with its {what} {theirs}, the intercept is "
+                f"{abs(left):.1f} nm: check the DR's {'N/S' if flip_lat else 'E/W'}"), abs(left)))
+    return out
 
 
 def _intercept_at(frame, rows, bodies, lat, lon, ho, hours) -> np.ndarray:
@@ -189,10 +246,13 @@ def name_zone_slips(results: list, reduced: pd.DataFrame, group: np.ndarray, lab
     round says it once, as only what that sight alone would suggest. Returns those rows (index into ``reduced``)
     with the words to take out of each one's own note (:func:`drop_contradicted`), so that a sight's note never
     contradicts its round's verdict."""
+    names = (np.asarray(labels, dtype=object) if labels is not None
+             else np.array([f"row {i + 1}" for i in range(len(reduced))], dtype=object))
+    contradicted, explained = unchecked_slips(results, reduced, group, names)
     far = [k for k, result in enumerate(results) if result is not None and
            np.isfinite(result.dr_distance_nm) and result.dr_distance_nm > result.dr_allowed_nm]
     if not far:
-        return {}
+        return contradicted
     # a round whose sights agree among themselves (three or more, σ within a sextant's) was not moved by a slip in
     # one of them: the DR, or a slip common to every sight, moved it; a cause is named for it only where every one
     # of its sights names the same (a ZD of the wrong sign, a day out), else the DR is said to be the likely cause
@@ -200,10 +260,10 @@ def name_zone_slips(results: list, reduced: pd.DataFrame, group: np.ndarray, lab
     rows, texts = zone_sign_suspects(reduced, np.isin(group, far), fitted_only=True)
     said: dict[int, list[tuple[int, str]]] = {}
     for row, text in zip(rows.tolist(), texts.tolist()):
+        if row in explained:  # the latest fix run on explains its intercept: the DR is wrong, no slip offered
+            contradicted[row] = text
+            continue
         said.setdefault(int(group[row]), []).append((row, text))
-    contradicted: dict[int, str] = {}
-    names = (np.asarray(labels, dtype=object) if labels is not None
-             else np.array([f"row {i + 1}" for i in range(len(reduced))], dtype=object))
     for k in far:
         texts_k = [text for _, text in said.get(k, [])]
         if k not in agree:
@@ -231,6 +291,136 @@ def name_zone_slips(results: list, reduced: pd.DataFrame, group: np.ndarray, lab
             contradicted.update(alone)
         results[k].warnings.append(words)
     return contradicted
+
+
+#: the latest fix is run on by the DR to test a large intercept only while it is this young (hours; common
+#: practice: a DR carried a day is as far as a navigator trusts a run from a fix)
+RUN_ON_LIMIT_H = 24.0
+
+
+def unchecked_slips(results: list, reduced: pd.DataFrame, group: np.ndarray,
+                    names: np.ndarray) -> tuple[dict[int, str], set[int]]:
+    """Each sight used in a fix whose intercept is over LARGE_INTERCEPT_NM, tested against the best position
+    there is: the latest earlier fix that can be trusted (within RUN_ON_LIMIT_H), run on to the sight by the
+    DR (the fix's offset from its DR kept). Where the intercept from there is within SLIP_FIT_NM the DR, not the
+    sight, is wrong: the fix says so (by how much, from which fix) and the slip the sight's own note offers is
+    withdrawn (returned, row: words, for :func:`drop_contradicted`; and the rows so explained, the sights of a
+    fix far from its DR among them, which offer no slip either). Where it is not, and the fix has no sight to
+    spare (two sights for two unknowns: nothing checks the one), the fix is marked not to be trusted
+    (:attr:`Distrust.UNCHECKED_SLIP`), naming the row and the slip that fits it. The fixes are judged in time
+    order, so that one marked here is not the position a later one is tested from."""
+    from ..constants import LARGE_INTERCEPT_NM
+    from ..triangle import computed_altitude_azimuth
+
+    needed = ("intercept_nm", "ho_deg", "gha_deg", "dec_deg", "dr_lat_deg", "dr_lon_deg", "sight_utc")
+    if not all(c in reduced.columns for c in needed):
+        return {}, set()
+    intercept = reduced["intercept_nm"].to_numpy(dtype=float)
+    members = {k: np.flatnonzero(group == k) for k, r in enumerate(results) if r is not None}
+    big: dict[int, np.ndarray] = {}
+    for k, rows in members.items():
+        r = results[k]
+        used = r.used if r.used.size == rows.size else np.ones(rows.size, dtype=bool)
+        left = r.left_out if r.left_out.size == rows.size else np.zeros(rows.size, dtype=bool)
+        chosen = rows[used & ~left]
+        far = np.isfinite(r.dr_distance_nm) and r.dr_distance_nm > r.dr_allowed_nm
+        chosen = chosen if far else chosen[np.abs(intercept[chosen]) > LARGE_INTERCEPT_NM]
+        if chosen.size:
+            big[k] = chosen
+    if not big:
+        return {}, set()
+    utc = reduced["sight_utc"].dt.tz_convert(None).to_numpy().astype("datetime64[ns]")  # naive UTC
+    bodies = (reduced["body_name"].astype(str).to_numpy() if "body_name" in reduced.columns
+              else np.full(len(reduced), "", dtype=object))
+    flagged = np.zeros(len(reduced), dtype=bool)
+    flagged[np.concatenate(list(big.values()))] = True
+    slip_rows, slip_texts = zone_sign_suspects(reduced, flagged, fitted_only=True)
+    slips = dict(zip(slip_rows.tolist(), slip_texts.tolist()))
+    contradicted: dict[int, str] = {}
+    explained: set[int] = set()
+    order = sorted(members, key=lambda k: results[k].utc)
+    for k in order:
+        result = results[k]
+        if k not in big:
+            continue
+        unexplained = []
+        for row in big[k].tolist():
+            gross = abs(intercept[row]) > LARGE_INTERCEPT_NM
+            ref = _latest_trusted(results, order, k, utc[row])
+            if ref is None:
+                if gross:
+                    unexplained.append((row, ""))
+                continue
+            lat, lon = _run_on(results[ref], float(reduced["dr_lat_deg"].iloc[row]),
+                               float(reduced["dr_lon_deg"].iloc[row]))
+            hc, _ = computed_altitude_azimuth(lat, lon, float(reduced["gha_deg"].iloc[row]),
+                                              float(reduced["dec_deg"].iloc[row]))
+            from_fix = (float(reduced["ho_deg"].iloc[row]) - float(hc)) * 60.0
+            hours = float((utc[row] - results[ref].utc) / np.timedelta64(1, "h"))
+            dr_out = float(np.hypot(results[ref].lat_deg - results[ref].dr_lat_deg,
+                                    (results[ref].lon_deg - results[ref].dr_lon_deg)
+                                    * np.cos(np.radians(results[ref].lat_deg))) * 60.0)
+            fix_words = (f"the fix at {_when(results[ref].utc)} UTC ({_rows_of(names, members[ref], results[ref])}), "
+                         f"{hours:.1f} h before, run on by the DR")
+            if abs(from_fix) <= SLIP_FIT_NM:
+                explained.add(row)
+                contradicted[row] = slips.get(row, f"{NO_SLIP_WORDS} within {SLIP_FIT_NM:.0f} nm: check the body, "
+                                                   "the Hs and the DR")
+                if not gross:
+                    continue
+                result.warnings.append(
+                    f"{names[row]} ({bodies[row]}): its intercept of {abs(intercept[row]):.1f} nm is the DR's error, "
+                    f"not the sight's: from {fix_words}, it is {abs(from_fix):.1f} nm; the DR is about "
+                    f"{dr_out:.0f} nm out (as it was at that fix): no slip is offered for this sight (undoing one "
+                    "would spoil a good line); restart the DR from that fix")
+            elif gross:
+                unexplained.append((row, f"; from {fix_words}, still {abs(from_fix):.0f} nm"))
+        if not unexplained or not result.is_fix or result.untrusted or result.redundant >= 1:
+            continue
+        said = []
+        for row, tested in unexplained:
+            slip = slips.get(row, "")
+            named = f" carries a probable slip, {_slip_named(slip)}" if slip and not slip.startswith(NO_SLIP_WORDS) else ""
+            said.append(f"{names[row]} ({bodies[row]}){named} (its intercept is {abs(intercept[row]):.1f} nm from "
+                        f"its DR, over {LARGE_INTERCEPT_NM:.0f} nm{tested})")
+        distrust(result, Distrust.UNCHECKED_SLIP, (
+            f"{'; '.join(said)}: with {int(np.sum(result.used))} sights for {int(np.sum(result.used)) - result.redundant} "
+            "unknowns there is no sight to spare, so nothing checks it and the fix rests on it; correct the sight "
+            "(see its note) or take another, and fix again"))
+    return contradicted, explained
+
+
+def _latest_trusted(results: list, order: list[int], k: int, at) -> int | None:
+    """The latest fix (not ``k``) before ``at`` that can be trusted, no older than RUN_ON_LIMIT_H."""
+    best = None
+    for j in order:
+        r = results[j]
+        if j == k or not r.is_fix or r.untrusted or r.utc > at or not np.isfinite(r.dr_lat_deg):
+            continue
+        if float((at - r.utc) / np.timedelta64(1, "h")) <= RUN_ON_LIMIT_H:
+            best = j
+    return best
+
+
+def _run_on(fix, dr_lat_deg: float, dr_lon_deg: float) -> tuple[float, float]:
+    """A fix run on to a later sight by the DR: the sight's DR moved by the fix's offset from its own DR (the
+    difference of latitude, and the departure kept; the mid-latitude sailing, common practice)."""
+    lat = dr_lat_deg + (fix.lat_deg - fix.dr_lat_deg)
+    departure = ((fix.lon_deg - fix.dr_lon_deg + 540.0) % 360.0 - 180.0) * np.cos(np.radians(fix.lat_deg))
+    lon = dr_lon_deg + departure / max(np.cos(np.radians(lat)), 1e-6)
+    return float(lat), float((lon + 540.0) % 360.0 - 180.0)
+
+
+def _when(utc) -> str:
+    return str(utc)[:16].replace("T", " ")
+
+
+def _rows_of(names: np.ndarray, rows: np.ndarray, fix) -> str:
+    used = fix.used if fix.used.size == rows.size else np.ones(rows.size, dtype=bool)
+    shown = [str(n) for n in names[rows[used]]]
+    if len(shown) > 1 and all(n.startswith("row ") for n in shown):
+        return "rows " + ", ".join(n[4:] for n in shown) if len(shown) <= 3 else f"rows {shown[0][4:]}-{shown[-1][4:]}"
+    return ", ".join(shown) if len(shown) <= 3 else f"{shown[0]} to {shown[-1]}"
 
 
 def _cause_only(text: str) -> str:
@@ -261,4 +451,4 @@ def drop_contradicted(reduced: pd.DataFrame, contradicted: dict[int, str]) -> No
     reduced["message"] = messages
 
 
-__all__ = ["zone_sign_suspects", "name_zone_slips", "drop_contradicted"]
+__all__ = ["zone_sign_suspects", "name_zone_slips", "unchecked_slips", "drop_contradicted", "RUN_ON_LIMIT_H"]

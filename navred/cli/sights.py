@@ -108,12 +108,15 @@ def reduce_command(
                 sys.stdout.buffer.write(text)
                 count = count + block_count
             sys.stdout.buffer.flush()
-            from .format import reduced_count_lines
+            from .common import said_warnings
+            from .format import reduced_closing_lines, reduced_detail_lines
 
             # after the CSV, on stderr: what a later block's reader noted (a row repeating the header, skipped),
-            # what was read, reduced and refused, each refusal and warning by kind
+            # each refusal and warning by kind, the warnings of the whole run (once, by rows), and last what was
+            # read, reduced and refused, with one line per kind
             echo_lines((f"note: {n}" for n in count.notes if n not in done.notes), err=True)
-            echo_lines(reduced_count_lines(count), err=True)
+            echo_lines(reduced_detail_lines(count), err=True)
+            echo_lines(reduced_closing_lines(count, said_warnings()), err=True)
             require_reduced(count.rows, count.reduced, f"{ABOVE}, and in the CSV (status, message)")
             return
         from .format import reduce_lines

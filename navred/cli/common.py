@@ -336,11 +336,14 @@ def print_notes(*sources, err: bool = True) -> None:
                 typer.echo(f"note: {note}", err=err)
 
 
-def echo_lines(lines: Iterable[str], *, err: bool = False) -> None:
+def echo_lines(lines: Iterable[str], *, err: bool = False, fold: bool = False) -> None:
+    """Lines on stdout or (``err``) stderr; ``fold``: each longer than :data:`LINE_CHARS` folded
+    (:func:`folded`), as a run that writes CSV closes on stderr."""
     if err:
         end_stdout()
     for line in lines:
-        typer.echo(line, err=err)
+        for part in (folded(line) if fold else (line,)):
+            typer.echo(part, err=err)
 
 
 def echo_csv(text: str) -> None:

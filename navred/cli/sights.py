@@ -175,7 +175,7 @@ def fix_command(
                 from .format import WARNINGS_SHOWN, labels_of, sight_refusal_lines
 
                 reduced = report.voyage.reduced
-                echo_lines(sight_refusal_lines(reduced, labels_of(reduced), shown=WARNINGS_SHOWN), err=True)
+                echo_lines(sight_refusal_lines(reduced, labels_of(reduced), shown=WARNINGS_SHOWN), err=True, fold=True)
         else:
             echo_lines(fix_report_lines(report))
         if not report.n_fixes:
@@ -415,7 +415,7 @@ def days_command(
         print_notes(voyage)
         if csv:
             echo_csv(days_csv(report))
-            echo_lines(group_warning_lines(voyage.groups, shown=WARNINGS_SHOWN), err=True)
+            echo_lines(group_warning_lines(voyage.groups, shown=WARNINGS_SHOWN), err=True, fold=True)
         else:
             echo_lines(days_lines(report))
             echo_lines(group_warning_lines(voyage.groups, shown=WARNINGS_SHOWN), err=True)

@@ -279,9 +279,10 @@ def said_warnings() -> list:
 def print_warnings(caught) -> None:
     if caught is _RUN.get("caught"):
         caught = caught[_RUN.get("said", 0):]
-    lines, _ = merged_warnings(caught)
-    for line in lines:
-        for part in folded(line):
+    lines, merged = merged_warnings(caught)
+    about_rows = tuple(f"warning: {len(m.rows):,} sight" for m in merged)
+    for line in lines:  # a warning about rows (a long list of them) folded; every other as it is
+        for part in (folded(line) if about_rows and line.startswith(about_rows) else (line,)):
             typer.echo(part, err=True)
 
 

@@ -66,6 +66,30 @@ class NavredWarning(UserWarning):
     """A usable result that the navigator should check (low sight, stale table, ...)."""
 
 
+class InstantsWarning(NavredWarning):
+    """A warning about some instants of a batch (after the end of the IERS table, after the leap-second table's
+    expiry): the message names them by their place in the batch, counted from 1; ``about`` is the same warning
+    without them ('instants after 2027-11-12, ...') and ``positions`` their places counted from 0, so that a caller
+    that knows which row of a log each instant is can name the rows instead (:class:`RowsWarning`)."""
+
+    def __init__(self, message: str = "", about: str = "", positions=()) -> None:
+        super().__init__(message)
+        self.about = about
+        self.positions = positions
+
+
+class RowsWarning(NavredWarning):
+    """A warning about some rows of a log, said once for a whole run: ``about`` is what is wrong
+    ('instants after 2027-11-12, ...'), ``rows`` the rows it is about (a table with the columns row and source),
+    so that the warnings of a log's blocks, each about its own rows, are put together into one
+    (:func:`navred.cli.common.print_warnings`)."""
+
+    def __init__(self, message: str = "", about: str = "", rows=None) -> None:
+        super().__init__(message)
+        self.about = about
+        self.rows = rows
+
+
 def failed_elements(mask: np.ndarray, limit: int = 10) -> str:
     """Describe which values of an array failed a check, for an error message a person reads: 'the value'
     for one, else which of them counted from 1 (never a program's indices from 0).

@@ -163,8 +163,8 @@ def catalogue_cause(cause: str) -> str:
 
 
 def tenth(arcmin: ArrayLike) -> np.ndarray:
-    """Arcminutes rounded to 0.1′, as the almanac and the tables print them."""
-    return np.round(np.asarray(arcmin, dtype=float), 1)
+    """Arcminutes rounded to 0.1′, as the almanac and the tables print them (0.0, never minus nought)."""
+    return np.round(np.asarray(arcmin, dtype=float), 1) + 0.0
 
 
 @dataclass(frozen=True)

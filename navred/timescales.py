@@ -34,7 +34,7 @@ from .constants import (
     SECONDS_PER_MINUTE,
     TT_MINUS_TAI_S,
 )
-from .errors import NavredWarning, TimeInputError, failed_elements
+from .errors import InstantsWarning, NavredWarning, TimeInputError, failed_elements
 
 #: The span navred accepts: the JPL DE421 ephemeris covers 1899-07-29 to 2053-10-09.
 FIRST_YEAR, LAST_YEAR = 1900, 2050
@@ -659,18 +659,15 @@ def _dut1_s(mjd: np.ndarray, tai_utc: np.ndarray, dut1_s: ArrayLike | None, pre_
         source[beyond] = _SOURCE_CODE[UT1_BEYOND]
         source[before] = _SOURCE_CODE[UT1_BEFORE]
         if beyond.any():
-            warnings.warn(
-                f"{_instants(beyond)} after {table.last_predicted_date}, the end of the IERS table: DUT1 is held at "
-                f"its last predicted value {table.dut1_s[-1]:+.3f} s. Take DUT1 from a radio time signal if you can "
-                "(the log's dut1 column, --dut1 on the command line, dut1_s= in Python): every 0.9 s of DUT1 error "
-                "is 0.225′ of GHA, about 0.2 nautical mile of longitude at the equator.",
-                NavredWarning, stacklevel=3)
+            _warn_instants(beyond, f"after {table.last_predicted_date}, the end of the IERS table: DUT1 is held at "
+                           f"its last predicted value {table.dut1_s[-1]:+.3f} s. Take DUT1 from a radio time signal if "
+                           "you can (the log's dut1 column, --dut1 on the command line, dut1_s= in Python): every 0.9 s "
+                           "of DUT1 error is 0.225′ of GHA, about 0.2 nautical mile of longitude at the equator.")
         before_utc_table = before & ~pre_utc
         if before_utc_table.any():
-            warnings.warn(
-                f"{_instants(before_utc_table)} before the IERS table of 1973-01-02: DUT1 is "
-                "taken as 0 s, good to about 0.1 s from 1960 to 1972 when UTC was steered to UT1 "
-                "(at most 0.025′ of GHA).", NavredWarning, stacklevel=3)
+            _warn_instants(before_utc_table, "before the IERS table of 1973-01-02: DUT1 is "
+                           "taken as 0 s, good to about 0.1 s from 1960 to 1972 when UTC was steered to UT1 "
+                           "(at most 0.025′ of GHA).")
         if given.any():
             dut1 = np.where(given, given_dut1, dut1)
             source[given] = _SOURCE_CODE[UT1_GIVEN]
@@ -685,18 +682,25 @@ def _warn_leap_seconds_expired(utc1: np.ndarray, utc2: np.ndarray, pre_utc: np.n
     expiry_jd = erfa.cal2jd(expires.year, expires.month, expires.day)
     late = ~pre_utc & ((utc1 + utc2) > sum(expiry_jd))
     if late.any():
-        warnings.warn(
-            f"{_instants(late)} after {expires.isoformat()}, the expiry date of the installed leap-second "
+        _warn_instants(late,
+            f"after {expires.isoformat()}, the expiry date of the installed leap-second "
             "table: a leap second may have been announced since. UTC as kept aboard is right whatever the table "
             "says (check the chronometer against a radio time signal), but the almanac's time scales may be 1 s "
             "out (TT: about 0.5″ of the Moon's place, which moves about 33′ an hour; UT1 and so GHA: 15″, 0.25′ of "
-            "longitude, unless DUT1 is taken from a time signal). Update astropy-iers-data.",
-            NavredWarning, stacklevel=3)
+            "longitude, unless DUT1 is taken from a time signal). Update astropy-iers-data.")
 
 
 def _instants(mask: np.ndarray) -> str:
     """The instants a warning is about, in words: 'the instant' for one, else which (counted from 1)."""
     return "the instant is" if np.asarray(mask).size == 1 else f"{failed_elements(mask).capitalize()} are instants"
+
+
+def _warn_instants(mask: np.ndarray, about: str) -> None:
+    """Warn about the instants of a batch where ``mask`` is true (:class:`navred.errors.InstantsWarning`: the
+    words without them and their places, for a caller that names them by the rows of a log)."""
+    mask = np.asarray(mask, dtype=bool)
+    warnings.warn(InstantsWarning(f"{_instants(mask)} {about}", f"instants {about}", np.flatnonzero(mask.ravel())),
+                  stacklevel=4)
 
 
 def _tt_and_ut1(utc1, utc2, tai_utc, covered, dut1, pre_utc):

@@ -762,3 +762,27 @@ def test_a_fix_that_cannot_be_trusted_never_restarts_the_dr(tmp_path):
     scale = [item.text for item in picture.items if getattr(item, "kind", None) == "scale"]
     assert scale and float(scale[0].split()[0]) >= 1.0, scale
     assert not any(getattr(item, "kind", None) == "ellipse" for item in voyage_track_picture(days).items)
+
+
+def test_the_demo_picture_draws_the_first_fix_off_the_logged_dr():
+    """Finding 11 of the navigator's trial: the demo's first fix (sun-run-sun, 15:40) lies about 6 nm from the DR
+    run on from the logged DR of row 2 (09:10), but nothing was drawn between them: no set and drift is found from
+    a DR (its own error unknown). The gap is drawn dotted with no head and labelled with its miles, its hours
+    (09:10 to 15:40: 6.5 h) and why no current is given. Reference: geographiclib's distance from the DR at 15:40
+    to the fix."""
+    from navred.figures.plotting import voyage_track_picture
+
+    days = process_log("sample_sights/demo_sights.csv", plan=False).days_work()
+    picture = voyage_track_picture(days)
+    assert len([item for item in picture.items if getattr(item, "kind", None) == "logged DR gap"]) == 1
+    texts = [getattr(item, "text", "") for item in picture.items]
+    said = [re.fullmatch(r"DR to fix sun-run-sun (\d+\.\d) nm in 6\.5 h from the logged DR at row 2: no current "
+                         r"found from a DR", t) for t in texts]
+    said = [m for m in said if m]
+    assert len(said) == 1
+    points = days.track_points
+    at = points[(points["kind"] == "DR at a known position")].iloc[0]
+    fix = points[(points["kind"] == "known position") & (points["utc"] == at["utc"])].iloc[0]
+    gap_nm = Geodesic.WGS84.Inverse(at["lat_deg"], at["lon_deg"], fix["lat_deg"], fix["lon_deg"])["s12"] / 1852.0
+    assert 5.5 < gap_nm < 7.5  # 'about 6 nm off the DR', as the navigator measured it on the picture
+    assert float(said[0].group(1)) == pytest.approx(gap_nm, abs=0.06)

@@ -172,14 +172,21 @@ def test_reduce_csv_counts_its_refusals_on_stderr_in_blocks_as_whole(tmp_path, m
     assert shared.stdout == whole.stdout
     assert shared.stderr == whole.stderr
     lines = [line for line in shared.stderr.splitlines() if not line.startswith(("CAUTION", "note: planted.csv"))]
-    assert lines[0] == "405 sights read: 367 reduced (0 with a warning), 38 not reduced"
     # the first three of the unreadable kind in full, the rest counted with their rows; the other kind shown
-    assert [line.split(" (")[0] for line in lines[1:4]] == ["not reduced: row 5", "not reduced: row 70",
+    assert [line.split(" (")[0] for line in lines[0:3]] == ["not reduced: row 5", "not reduced: row 70",
                                                             "not reduced: row 71"]
-    assert "'4x.5'" in lines[1]
-    assert lines[4] == "  and 34 more like it (rows 72-100, 130, 190, 250-251, 400)"
-    assert lines[5].startswith("not reduced: row 300 (") and "'42 72.0'" in lines[5]
-    assert "every row's status and message is in the CSV" in lines[6] and len(lines) == 7
+    assert "'4x.5'" in lines[0]
+    assert lines[3] == "  and 34 more like it (rows 72-100, 130, 190, 250-251, 400)"
+    assert lines[4].startswith("not reduced: row 300 (") and "'42 72.0'" in lines[4]
+    assert "every row's status and message is in the CSV" in lines[5]
+    # the count last (before the caution), where a terminal leaves it in sight, then one line per kind
+    assert lines[6] == "405 sights read: 367 reduced (0 with a warning), 38 not reduced"
+    assert lines[7].startswith("by kind")
+    assert lines[8].startswith("  37 sights not reduced: hs: cannot read '…' as an angle")
+    assert lines[8].endswith("(rows 5, 70-100, 130, 190, 250-251, 400)")
+    assert lines[9].startswith("  1 sight not reduced: ") and lines[9].endswith("(row 300)")
+    assert len(lines) == 10
+    assert shared.stderr.splitlines()[-1].startswith("CAUTION")
     # the text form says the same count
     assert "367 sights reduced (0 with a warning), 38 not reduced" in table.stdout
 
@@ -287,3 +294,34 @@ def test_reduce_csv_begun_in_blocks_notes_a_repeated_header_in_a_late_block_as_t
     assert shared.exit_code == whole.exit_code == 0
     assert shared.stdout == whole.stdout and len(shared.stdout.splitlines()) == 405
     assert shared.stderr == whole.stderr and "row 330 repeats the header" in shared.stderr
+
+
+def test_reduce_csv_names_the_rows_past_the_iers_table_once_in_blocks_as_whole(tmp_path, monkeypatch):
+    """Finding 8 (navigator's trial, # common practice): a log that runs past the end of the IERS table and the
+    leap-second table's expiry is warned of once for the whole run, by the log's rows (the header is row 1), never
+    by a block's places ('Values 4158, 4159 ...'), and the same lines whether read in blocks or whole; the count
+    comes last, before the caution, followed by one line per kind; no line is longer than 200 characters."""
+    lines = open("sample_sights/training_sights.csv", encoding="utf-8").read().splitlines()[:151]
+    # rows 100-151 moved on five years (past any table installed; the almanac, DE421, runs to 2050)
+    lines[99:] = [line.replace("2026-", "2031-", 1) for line in lines[99:]]
+    path = tmp_path / "late.csv"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 60)
+    monkeypatch.setattr(forking, "cores", lambda: 2)
+    shared = runner.invoke(app, ["reduce", str(path), "--csv"])
+    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 100_000)
+    whole = runner.invoke(app, ["reduce", str(path), "--csv"])
+    assert shared.exit_code == whole.exit_code == 0
+    assert shared.stderr == whole.stderr
+    err = shared.stderr.splitlines()
+    assert "Values" not in shared.stderr and max(map(len, err)) <= 200
+    iers = [line for line in err if line.startswith("warning:") and "the end of the IERS table" in line]
+    leap = [line for line in err if line.startswith("warning:") and "leap-second" in line]
+    assert iers == [line for line in iers if line.startswith("warning: 52 sights, rows 100-151: instants after ")]
+    assert len(iers) == 1 and len(leap) == 1 and leap[0].startswith("warning: 52 sights, rows 100-151: ")
+    count = next(i for i, line in enumerate(err) if line.startswith("150 sights read: 150 reduced"))
+    assert err[count + 1].startswith("by kind") and err[-1].startswith("CAUTION")
+    closing = err[count + 2:-1]
+    assert all(line.startswith("  ") for line in closing)
+    assert any(line.startswith("  52 sights warned of: instants after ") and line.endswith("(rows 100-151)")
+               for line in closing)

@@ -72,8 +72,11 @@ def test_every_command_says_each_refused_row_by_kind_as_reduce_csv_does(refused_
     words = command.split()
     stderr = runner.invoke(app, [words[0], str(refused_log), *words[1:]]).stderr
     assert "5 sights read: 0 reduced (0 with a warning), 5 not reduced" in stderr
+    # a line longer than 200 characters goes on, indented, on the next (cli.common.folded): no line is cut short
+    assert max(map(len, stderr.splitlines())) <= 200
+    whole = stderr.replace("\n    ", " ")
     for row, body in zip(range(2, 7), ("Sun", "Sun", "Canopus", "Achernar", "Fomalhaut")):
-        line = next(x for x in stderr.splitlines() if x.startswith(f"not reduced: row {row} ("))
+        line = next(x for x in whole.splitlines() if x.startswith(f"not reduced: row {row} ("))
         assert line.startswith(f"not reduced: row {row} ({body}): IE: index error -1.2 has no on or off")
         assert "; DR lon: cannot read '-149° 30.0′' as a longitude" in line
 

@@ -169,6 +169,7 @@ def reported(ctx=None, *, caution: bool = True):
     _RUN["log_named"] = False
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", NavredWarning)
+        _RUN["caught"], _RUN["said"] = caught, 0
         try:
             refuse_empty_values(ctx)
             check_dates(ctx)
@@ -241,12 +242,71 @@ def refuse_empty_values(context) -> None:
             raise NavredError(f"{name}: an empty value was given; give a value, or leave the option out")
 
 
-def print_warnings(caught) -> None:
-    seen = set()
+#: a line of a run's closing on stderr is folded once it is longer than this (characters)
+LINE_CHARS = 200
+
+
+def folded(line: str, width: int = LINE_CHARS) -> list[str]:
+    """A long line of a run's closing folded at word boundaries into lines of at most ``width`` characters, the
+    following ones indented (nothing left out: a refusal says in full what was wrong and what is accepted)."""
+    if len(line) <= width:
+        return [line]
+    import textwrap
+
+    return textwrap.wrap(line, width=width, subsequent_indent="    ", break_long_words=False,
+                         break_on_hyphens=False)
+
+
+def merged_warnings(caught) -> tuple[list[str], list]:
+    """The navred warnings caught (each said once), and those about rows of a log put together: one warning
+    per thing wrong for the whole run, whatever blocks the log was read in, naming its rows
+    (:class:`navred.errors.RowsWarning`). Returns the lines and the merged row warnings (for a closing
+    summary)."""
+    import pandas as pd
+
+    from ..errors import RowsWarning
+    from ..jobs.frames import short_row_list
+
+    lines, seen, rows_of = [], set(), {}
     for item in caught:
-        if issubclass(item.category, NavredWarning) and str(item.message) not in seen:
-            seen.add(str(item.message))
-            typer.echo(f"warning: {item.message}", err=True)
+        message = item.message
+        if isinstance(message, RowsWarning) and message.rows is not None:
+            if message.about not in rows_of:
+                rows_of[message.about] = []
+                lines.append(message.about)  # the place of the merged line
+            rows_of[message.about].append(message.rows)
+        elif issubclass(item.category, NavredWarning) and str(message) not in seen:
+            seen.add(str(message))
+            lines.append(f"warning: {message}")
+    merged = []
+    for about, parts in rows_of.items():
+        rows = pd.concat(parts, ignore_index=True).drop_duplicates()
+        merged.append(RowsWarning(f"{short_row_list(rows)}: {about}", about, rows))
+    texts = {m.about: f"warning: {len(m.rows):,} sight{'s' if len(m.rows) > 1 else ''}, {m}" for m in merged}
+    return [texts.get(line, line) for line in lines], merged
+
+
+def said_warnings() -> list:
+    """Print now (on stderr) the warnings this run has raised so far, merged (:func:`merged_warnings`), rather than
+    at the end: a run that closes with its counts prints them before the counts. Returns the merged row
+    warnings, for the closing summary; those printed are not printed again."""
+    caught = _RUN.get("caught") or []
+    lines, merged = merged_warnings(caught[_RUN.get("said", 0):])
+    _RUN["said"] = len(caught)
+    for line in lines:
+        for part in folded(line):
+            typer.echo(part, err=True)
+    return merged
+
+
+def print_warnings(caught) -> None:
+    if caught is _RUN.get("caught"):
+        caught = caught[_RUN.get("said", 0):]
+    lines, merged = merged_warnings(caught)
+    about_rows = tuple(f"warning: {len(m.rows):,} sight" for m in merged)
+    for line in lines:  # a warning about rows (a long list of them) folded; every other as it is
+        for part in (folded(line) if about_rows and line.startswith(about_rows) else (line,)):
+            typer.echo(part, err=True)
 
 
 def course_and_speed_together(ctx: typer.Context) -> None:
@@ -300,11 +360,14 @@ def print_notes(*sources, err: bool = True) -> None:
                 typer.echo(f"note: {note}", err=err)
 
 
-def echo_lines(lines: Iterable[str], *, err: bool = False) -> None:
+def echo_lines(lines: Iterable[str], *, err: bool = False, fold: bool = False) -> None:
+    """Lines on stdout or (``err``) stderr; ``fold``: each longer than :data:`LINE_CHARS` folded
+    (:func:`folded`), as a run that writes CSV closes on stderr."""
     if err:
         end_stdout()
     for line in lines:
-        typer.echo(line, err=err)
+        for part in (folded(line) if fold else (line,)):
+            typer.echo(part, err=err)
 
 
 def echo_csv(text: str) -> None:

@@ -348,23 +348,96 @@ def sight_refusal_lines(reduced: pd.DataFrame, labels, *, shown: int | None = No
                    line_of=lambda row: f"not reduced: {labels[row]} ({bodies[row] or '?'}): {messages[row]}")
 
 
-def reduced_count_lines(count) -> list[str]:
+def reduced_count_lines(count, row_warnings=()) -> list[str]:
     """What a reduction written as CSV came to (:class:`navred.jobs.reducing.ReducedCount`), for stderr after
-    the CSV: the sights read, reduced, warned about and not reduced, then each refusal and each warning, counted
-    by kind as every command counts its warnings (:func:`by_kind`)."""
+    the CSV: each refusal and each warning, counted by kind as every command counts its warnings
+    (:func:`reduced_detail_lines`), then the count and the closing summary (:func:`reduced_closing_lines`)."""
+    return reduced_detail_lines(count) + reduced_closing_lines(count, row_warnings)
+
+
+def reduced_detail_lines(count) -> list[str]:
+    """Each refusal and each warning of a reduction (:class:`navred.jobs.reducing.ReducedCount`), the first
+    :data:`WARNINGS_SHOWN` of each kind in full and the rest counted (:func:`by_kind`), folded to lines a
+    terminal shows (:func:`navred.cli.common.folded`)."""
+    flagged = count.flagged
+    if flagged is None or not len(flagged):
+        return []
+    labels = labels_of(flagged)
+    refusals = sight_refusal_lines(flagged, labels, shown=WARNINGS_SHOWN)
+    warnings = sight_warning_lines(flagged, labels, shown=WARNINGS_SHOWN)
+    lines = refusals + warnings
+    if len(refusals) < count.refused or len(warnings) < count.warned:
+        lines.append(f"note: the first {WARNINGS_SHOWN} of each kind shown above; every row's status and message "
+                     "is in the CSV")
+    from .common import folded
+
+    return [part for line in lines for part in folded(line)]
+
+
+#: a closing summary's line says so much of its kind's message, then '…' (the message is in full above)
+SUMMARY_CHARS = 200
+
+
+def _summary_kinds(message: str, *, refused: bool) -> list[str]:
+    """The kinds of a sight's message for a closing summary: a refusal's first reason without its values; a
+    warning's notes, each by what it is about (the words before its first colon: 'intercept over 30 nm', 'DUT1
+    beyond the IERS table'), so that a sight with several warnings counts under each."""
+    import re
+
+    if refused:
+        first = re.sub(r"'[^']*'", "'…'", message.split("; ")[0])
+        return [first if len(first) < 110 else first[:109].rstrip() + "…"]
+    heads = []
+    for part in message.split("; "):
+        head = part.split(":")[0].strip() if ":" in part else ""
+        if head and not head.startswith(("possible cause", "no single slip", "or ")):
+            heads.append(head)
+    return list(dict.fromkeys(heads)) or [message[:110]]
+
+
+def reduced_closing_lines(count, row_warnings=()) -> list[str]:
+    """The last lines of a run that reduced a log (before the caution): the count of sights read, reduced, warned
+    about and not reduced, then one line per kind of refusal and of warning with how many rows and the first of
+    them (the kinds of :func:`by_kind`), and one per warning about rows of the whole run (``row_warnings``:
+    :class:`navred.errors.RowsWarning`, the DUT1 or leap-second tables out of date). Each line is at most
+    :data:`SUMMARY_CHARS` long: the kind said in full above, every row in the CSV."""
+    from ..jobs.frames import short_row_list
+
     empty = f", {count.empty_rows:,} empty row{'s' if count.empty_rows > 1 else ''} skipped" if count.empty_rows else ""
     lines = [f"{count.rows:,} sight{'' if count.rows == 1 else 's'} read: {count.reduced:,} reduced "
              f"({count.warned:,} with a warning), {count.refused:,} not reduced{empty}"]
     flagged = count.flagged
-    if flagged is None or not len(flagged):
-        return lines
-    labels = labels_of(flagged)
-    refusals = sight_refusal_lines(flagged, labels, shown=WARNINGS_SHOWN)
-    warnings = sight_warning_lines(flagged, labels, shown=WARNINGS_SHOWN)
-    lines += refusals + warnings
-    if len(refusals) < count.refused or len(warnings) < count.warned:
-        lines.append(f"note: the first {WARNINGS_SHOWN} of each kind shown above; every row's status and message "
-                     "is in the CSV")
+    kinds: list[tuple[str, object, str]] = []
+    if flagged is not None and len(flagged):
+        status = flagged["status"].to_numpy(dtype=object)
+        messages = flagged["message"].fillna("").astype(str).to_numpy(dtype=object)
+        named = [c for c in ("row", "source") if c in flagged.columns]
+        for word, wanted in (("not reduced", SightStatus.ERROR), ("with a warning", SightStatus.WARNING)):
+            members: dict[str, list[int]] = {}
+            said: dict[str, list[str]] = {}  # each kind (its figures taken out) as first said, and the others
+            heads: dict[str, list[str]] = {}  # each distinct message's kinds, worked once
+            for i in np.flatnonzero(np.asarray(status == wanted, dtype=bool) & (messages != "")).tolist():
+                message = messages[i]
+                if message not in heads:
+                    heads[message] = _summary_kinds(message, refused=wanted == SightStatus.ERROR)
+                for head in heads[message]:
+                    kind = refusal_kind(head)
+                    members.setdefault(kind, []).append(i)
+                    if head not in said.setdefault(kind, []):
+                        said[kind].append(head)
+            kinds += [(word, flagged.iloc[rows][named],
+                       said[kind][0] + (", and the like" if len(said[kind]) > 1 else ""))
+                      for kind, rows in members.items()]
+    for warning in row_warnings:
+        kinds.append(("warned of", warning.rows, warning.about))
+    if kinds:
+        lines.append("by kind (each said in full above; every row's status and message is in the CSV):")
+    for word, rows, text in kinds:
+        n = len(rows)
+        where = f" ({short_row_list(rows, 60)})"
+        head = f"  {n:,} {'sight' if n == 1 else 'sights'} {word}: "
+        room = SUMMARY_CHARS - len(head) - len(where)
+        lines.append(head + (text if len(text) <= room else text[:max(room - 1, 20)].rstrip() + "…") + where)
     return lines
 
 
@@ -414,14 +487,18 @@ def by_kind(entries: list[tuple], shown: int | None, *, indent: str = "", line_o
         out += [line(item) for _, item in members[:shown]]
         if len(members) > shown:
             rest = [str(label) for label, _ in members[shown:]]
-            out.append(f"{indent}  and {len(rest)} more like it ({_label_list(rest)})")
+            out.append(f"{indent}  and {len(rest):,} more like it ({_label_list(rest)})")
     return out
 
 
 def _label_list(labels: list[str]) -> str:
     """Row or group labels as a short list: 'rows 12-40, 52' for plain rows of one log, else the first dozen."""
     if all(label.startswith("row ") and label[4:].isdigit() for label in labels):
-        return _compact([label[4:] for label in labels])
+        import pandas as pd
+
+        from ..jobs.frames import short_row_list
+
+        return short_row_list(pd.DataFrame({"row": [int(label[4:]) for label in labels]}), 120)
     return ", ".join(labels[:12]) + (f" and {len(labels) - 12} more" if len(labels) > 12 else "")
 
 

@@ -108,12 +108,15 @@ def reduce_command(
                 sys.stdout.buffer.write(text)
                 count = count + block_count
             sys.stdout.buffer.flush()
-            from .format import reduced_count_lines
+            from .common import said_warnings
+            from .format import reduced_closing_lines, reduced_detail_lines
 
             # after the CSV, on stderr: what a later block's reader noted (a row repeating the header, skipped),
-            # what was read, reduced and refused, each refusal and warning by kind
+            # each refusal and warning by kind, the warnings of the whole run (once, by rows), and last what was
+            # read, reduced and refused, with one line per kind
             echo_lines((f"note: {n}" for n in count.notes if n not in done.notes), err=True)
-            echo_lines(reduced_count_lines(count), err=True)
+            echo_lines(reduced_detail_lines(count), err=True)
+            echo_lines(reduced_closing_lines(count, said_warnings()), err=True)
             require_reduced(count.rows, count.reduced, f"{ABOVE}, and in the CSV (status, message)")
             return
         from .format import reduce_lines
@@ -172,7 +175,7 @@ def fix_command(
                 from .format import WARNINGS_SHOWN, labels_of, sight_refusal_lines
 
                 reduced = report.voyage.reduced
-                echo_lines(sight_refusal_lines(reduced, labels_of(reduced), shown=WARNINGS_SHOWN), err=True)
+                echo_lines(sight_refusal_lines(reduced, labels_of(reduced), shown=WARNINGS_SHOWN), err=True, fold=True)
         else:
             echo_lines(fix_report_lines(report))
         if not report.n_fixes:
@@ -412,7 +415,7 @@ def days_command(
         print_notes(voyage)
         if csv:
             echo_csv(days_csv(report))
-            echo_lines(group_warning_lines(voyage.groups, shown=WARNINGS_SHOWN), err=True)
+            echo_lines(group_warning_lines(voyage.groups, shown=WARNINGS_SHOWN), err=True, fold=True)
         else:
             echo_lines(days_lines(report))
             echo_lines(group_warning_lines(voyage.groups, shown=WARNINGS_SHOWN), err=True)

@@ -347,6 +347,8 @@ def voyage_track_picture(days, vessel: str | None = None, *, title: str = ""):
     placer = Placer()
     labels = _voyage_known_positions(sheet, placer, chart, track, days.ellipse_scales) if track is not None else []
     labels += _voyage_marks(sheet, placer, chart, fixes, estimated, noons, lines)
+    if track is not None:
+        labels += _logged_dr_gaps(sheet, chart, points, track, lines)
     frame = (chart.ax0 + 2, chart.ay0 + 2, chart.ax1 - 2, chart.ay1 - 2)
     unplaced = []
     for text, colour, x, y in labels:  # the plotting sheets' rule: beside, else nearest with a leader, else smaller
@@ -513,6 +515,45 @@ def _undetermined_gap(sheet, chart: _VoyageChart, f: dict, lines: list | None) -
         if lines is not None:
             lines.append(segment_box(sx, sy, fx, fy, 3.0))
     return [(f"DR to fix {gap_nm:.1f} nm in {f['hours']:.1f} h: {words}", CHART, (sx + fx) / 2.0, (sy + fy) / 2.0)]
+
+
+def _logged_dr_gaps(sheet, chart: _VoyageChart, points, track, lines: list | None) -> list:
+    """The gap from the DR run on from a logged DR (a log with no departure: the navigator's DR written on a
+    sight's row) to the first fix after it, dotted with no head, labelled with its miles and hours and why no
+    current is found from it: the logged DR is itself a DR, its own error unknown. Without it the fix stood off
+    the DR's end unexplained (the demo's sun-run-sun fix, 6 nm off)."""
+    from ..sailings import rhumb_inverse
+
+    labels = []
+    kinds = points["kind"].to_numpy(dtype=object)
+    times = np.asarray(_naive_utc64(points["utc"]), dtype="datetime64[ns]").astype(np.int64)
+    lat, lon = points["lat_deg"].to_numpy(dtype=float), points["lon_deg"].to_numpy(dtype=float)
+    for i in np.flatnonzero(kinds[:-1] == "DR at a known position").tolist():
+        j = int(np.searchsorted(track.known_ns, times[i]))
+        if not (0 < j < len(track.known_label) and int(track.known_ns[j]) == times[i]):
+            continue
+        before, after = str(track.known_label[j - 1]), str(track.known_label[j])
+        if not (before.startswith("logged DR") and after.startswith("fix ")):
+            continue
+        gap_nm = float(rhumb_inverse(lat[i], lon[i], track.known_lat[j], track.known_lon[j])[0])
+        hours = (int(track.known_ns[j]) - int(track.known_ns[j - 1])) / 3.6e12
+        sx, sy = chart.at(lat[i], lon[i])
+        fx, fy = chart.at(track.known_lat[j], track.known_lon[j])
+        if math.hypot(fx - sx, fy - sy) >= 4.0:
+            sheet.line([sx, fx], [sy, fy], CHART, 0.9, dash=(1.5, 2.5), kind="logged DR gap")
+            if lines is not None:
+                lines.append(segment_box(sx, sy, fx, fy, 3.0))
+        labels.append((f"DR to {after} {gap_nm:.1f} nm in {hours:.1f} h from the {before}: no current found "
+                       "from a DR", CHART, (sx + fx) / 2.0, (sy + fy) / 2.0))
+    return labels
+
+
+def _naive_utc64(values):
+    """A column of instants (text, datetime64 or Timestamps, aware or not) as naive UTC datetime64[ns]."""
+    import pandas as pd
+
+    stamps = pd.to_datetime(values, utc=True)
+    return stamps.dt.tz_convert(None).to_numpy(dtype="datetime64[ns]")
 
 
 def _voyage_marks(sheet, placer, chart: _VoyageChart, fixes, estimated, noons, lines: list | None = None) -> list:

@@ -109,6 +109,50 @@ def row_list(frame: pd.DataFrame) -> str:
     return "; ".join(parts)
 
 
+#: a short list of rows stops once it is this long (characters), the rest counted
+SHORT_ROWS_CHARS = 90
+
+
+def short_row_list(frame: pd.DataFrame, limit_chars: int = SHORT_ROWS_CHARS) -> str:
+    """Rows of a table named as :func:`row_list` names them, but short enough for one line of a long run's
+    closing: the first runs of rows, then how many rows more ('rows 27-29, 34-36 … and 1,800 more')."""
+    if not len(frame):
+        return ""
+    rows = frame["row"].astype(int).to_numpy() if "row" in frame.columns else np.arange(1, len(frame) + 1)
+    sources = frame["source"].to_numpy(dtype=object) if "source" in frame.columns else np.full(len(frame), "")
+    several = len(set(sources)) > 1
+    total = 0
+    runs: list[tuple[object, str, int]] = []  # (source, run, rows in it)
+    for source in dict.fromkeys(sources):
+        numbers = np.unique(rows[sources == source])
+        total += numbers.size
+        breaks = np.flatnonzero(np.diff(numbers) != 1) + 1
+        for run in np.split(numbers, breaks):
+            runs.append((source, f"{run[0]}" if len(run) == 1 else f"{run[0]}-{run[-1]}", len(run)))
+            if len(runs) > 400:  # enough to fill a line; the rest are only counted
+                break
+    from pathlib import Path
+
+    parts: list[str] = []
+    shown = 0
+    length = 0
+    last = None
+    for source, run, size in runs:
+        if parts and length + len(run) > limit_chars:
+            break
+        if source != last:
+            name = f"{Path(str(source)).name} " if several else ""
+            plural = "s" if (rows[sources == source].size > 1) else ""
+            parts.append(f"{'; ' if parts else ''}{name}row{plural} {run}")
+            last = source
+        else:
+            parts.append(f", {run}")
+        length += len(parts[-1])
+        shown += size
+    more = f" … and {total - shown:,} more" if total > shown else ""
+    return "".join(parts) + more
+
+
 @api_boundary
 def fix_position(reduced: pd.DataFrame, at_utc: Instant | None = None, *, group: str | None = None,
                  chart_lat: float | None = None, chart_lon: float | None = None, solve_motion: bool = False,

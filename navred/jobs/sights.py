@@ -43,6 +43,7 @@ from ..vocabulary import (  # the columns reduce_sights adds, in order
     DR_CONTEXT_COLUMNS,
     RESULT_COLUMNS,
 )
+from .frames import short_row_list
 from .zoneslips import zone_sign_suspects
 
 #: A mark farther than this from the DR is not one a bearing is taken of (nautical miles; common practice: a
@@ -268,6 +269,31 @@ def _reduced_frame_block(context: tuple[pd.DataFrame, dict], span: tuple[int, in
     return out
 
 
+def _instants_of_rows(frame: pd.DataFrame, rows: np.ndarray):
+    """The time scales of the sights ``rows`` of a block; a warning about some of them (after the IERS table, the
+    leap-second table's expiry) names them by their rows of the log (:class:`navred.errors.RowsWarning`), so that
+    a run says it once for the whole log, never by their places in a block."""
+    import warnings
+
+    from ..errors import InstantsWarning, RowsWarning
+
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        inst = instants_from_utc_jd(frame["utc_jd1"].to_numpy(dtype=float)[rows],
+                                    frame["utc_jd2"].to_numpy(dtype=float)[rows],
+                                    frame["dut1_given_s"].to_numpy(dtype=float)[rows])
+    named = [c for c in ("row", "source") if c in frame.columns]
+    for item in caught:
+        message = item.message
+        if isinstance(message, InstantsWarning) and "row" in named:
+            picked = frame.iloc[rows[np.asarray(message.positions, dtype=np.intp)]][named].reset_index(drop=True)
+            warnings.warn(RowsWarning(f"{short_row_list(picked)}: {message.about}", message.about, picked),
+                          stacklevel=2)
+        else:
+            warnings.warn_explicit(message, item.category, item.filename, item.lineno)
+    return inst
+
+
 def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
     """The added columns for one block of parsed sights (index 0..n-1)."""
     n = len(frame)
@@ -302,9 +328,7 @@ def _reduce_block(frame: pd.DataFrame) -> pd.DataFrame:
         _reduce_marks(frame, notes, mark, lat, lon, result)
     rows = np.flatnonzero(notes.ok & ~mark)
     if rows.size:
-        inst = instants_from_utc_jd(frame["utc_jd1"].to_numpy(dtype=float)[rows],
-                                    frame["utc_jd2"].to_numpy(dtype=float)[rows],
-                                    frame["dut1_given_s"].to_numpy(dtype=float)[rows])
+        inst = _instants_of_rows(frame, rows)
         almanac = places(bodies[rows], inst)
         hc, zn = computed_altitude_azimuth(lat[rows], lon[rows], almanac.gha_deg, almanac.dec_deg)
         ie = frame["index_error_arcmin"].to_numpy(dtype=float)[rows]

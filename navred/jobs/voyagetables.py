@@ -223,6 +223,7 @@ def hand_working_table(voyage) -> pd.DataFrame:
     LHA, the tables (tabulated Hc, d and Z), Hc, Zn and the intercept from the AP. The same sights, Ho and
     almanac as the Working sheet."""
     from ..handworking import hand_working
+    from ..marking_judge import tenth
 
     reduced = voyage.reduced
     celestial = (reduced["mark"].fillna("").astype(str) == "").to_numpy() if "mark" in reduced.columns \
@@ -230,13 +231,18 @@ def hand_working_table(voyage) -> pd.DataFrame:
     r = reduced[(reduced.status.to_numpy() != SightStatus.ERROR) & celestial].reset_index(drop=True)
     if not len(r):
         return pd.DataFrame()
+    # the altitude as a sight book writes it (common practice): each line to 0.1′, Ha the sum of Hs, IC and dip
+    # as written, Ho the sum of Ha and the main correction as written; the main correction (refraction, SD,
+    # parallax and phase together, as the almanac's tables give them) is the reduction's own, rounded. The
+    # exact values are the Working sheet's; the hand working goes on from the Ho written here.
+    ic = tenth(r.ic_arcmin.to_numpy(dtype=float)) + 0.0  # (+ 0.0: never minus nought)
+    dip = tenth(r.dip_arcmin.to_numpy(dtype=float) + r.horizon_arcmin.to_numpy(dtype=float))
+    ha = (tenth(r.hs_deg.to_numpy(dtype=float) * 60.0) + ic + dip) / 60.0
+    main = tenth((r.ho_deg.to_numpy(dtype=float) - r.ha_deg.to_numpy(dtype=float)) * 60.0) + 0.0
     w = hand_working(r.sight_utc.dt.tz_convert(None).to_numpy(dtype="datetime64[ns]"), r.body_name.to_numpy(),
-                     r.ho_deg.to_numpy(dtype=float), r.dr_lat_deg.to_numpy(dtype=float),
+                     ha + main / 60.0, r.dr_lat_deg.to_numpy(dtype=float),
                      r.dr_lon_deg.to_numpy(dtype=float), r.dut1_s.to_numpy(dtype=float))
     star = w.kind == "star"
-    ha = r.ha_deg.to_numpy(dtype=float)
-    ho = r.ho_deg.to_numpy(dtype=float)
-    main = (ho - ha) * 60.0  # refraction, SD, parallax and phase together, as the almanac's tables give them
 
     def angle(values, kind="angle"):
         return format_angle(np.asarray(values, dtype=float), kind)
@@ -262,8 +268,8 @@ def hand_working_table(voyage) -> pd.DataFrame:
         "Dec (° ′)": angle(w.dec_deg, "dec"),
         "HP (′)": np.where(star, none_for, w.hp_arcmin.astype(object)),
         "Hs (° ′)": angle(r.hs_deg, "signed"),
-        "IC (′)": r.ic_arcmin.to_numpy(dtype=float),
-        "dip (′)": r.dip_arcmin.to_numpy(dtype=float) + r.horizon_arcmin.to_numpy(dtype=float),
+        "IC (′)": ic,
+        "dip (′)": dip,
         "Ha (° ′)": angle(ha, "signed"),
         "main correction (′)": main,
         "Ho (° ′)": angle(w.ho_deg, "signed"),

@@ -183,8 +183,16 @@ def _intercept_at(frame, rows, bodies, lat, lon, ho, hours) -> np.ndarray:
     r = rows[take]
     dut1 = (frame["dut1_given_s"].to_numpy(dtype=float)[r] if "dut1_given_s" in frame.columns
             else np.full(r.size, np.nan))
-    inst = instants_from_utc_jd(frame["utc_jd1"].to_numpy(dtype=float)[r],
-                                frame["utc_jd2"].to_numpy(dtype=float)[r] + hours[take] / 24.0, dut1)
+    import warnings
+
+    from ..errors import InstantsWarning
+
+    with warnings.catch_warnings():
+        # the trial times are the sights' own, shifted by a slip: the sights' own rows were warned of (the IERS
+        # or leap-second table out of date) when they were reduced, by their rows
+        warnings.simplefilter("ignore", InstantsWarning)
+        inst = instants_from_utc_jd(frame["utc_jd1"].to_numpy(dtype=float)[r],
+                                    frame["utc_jd2"].to_numpy(dtype=float)[r] + hours[take] / 24.0, dut1)
     almanac = places(bodies[take].astype(object), inst)
     hc, _ = computed_altitude_azimuth(lat[take], lon[take], almanac.gha_deg, almanac.dec_deg)
     out[take] = (ho[take] - hc) * 60.0

@@ -227,7 +227,7 @@ def noon_trust(voyage, noons: list[dict], tracks: dict[str, DRTrack]) -> list[di
         reasons = []
         for name, why in left_out.get(vessel, {}).items():
             if f"(in the fix {name})" in n["noon_from"]:
-                reasons.append(f"it rests on a line of the fix {name}, which cannot be trusted ({why.split(':')[0]})")
+                reasons.append(f"it rests on a line of the fix {name}, which cannot be trusted ({first_clause(why)})")
         reckoned = str(n["noon_from"]).startswith(("DR ", "EP ("))
         if track is not None and np.isfinite(n["lat_deg"]) and not reckoned:
             dr_lat, dr_lon, labels, start, dr_sigma = _dr_at(track, np.array([when]))
@@ -262,5 +262,20 @@ def noon_trust(voyage, noons: list[dict], tracks: dict[str, DRTrack]) -> list[di
     return out
 
 
-__all__ = ["rework_estimated", "noon_trust", "logged_dr_causes", "allowed_nm", "PLAUSIBLE_SIGMAS",
+
+def first_clause(text: str) -> str:
+    """A reason's first clause: the text before the first colon outside brackets (a time's '06:56' and a
+    bracketed aside are kept whole).
+
+    >>> first_clause("row 8 (Sun) carries a slip (from the fix at 06:56 UTC): with 2 sights nothing checks it")
+    'row 8 (Sun) carries a slip (from the fix at 06:56 UTC)'
+    """
+    depth = 0
+    for k, char in enumerate(text):
+        depth += {"(": 1, ")": -1}.get(char, 0)
+        if char == ":" and depth <= 0 and text[k + 1:k + 2] in (" ", ""):
+            return text[:k]
+    return text
+
+__all__ = ["first_clause", "rework_estimated", "noon_trust", "logged_dr_causes", "allowed_nm", "PLAUSIBLE_SIGMAS",
            "PLAUSIBLE_MIN_NM", "AXIS_95", "CIRCLE_95", "LINE_SIGMA_NM", "EP_TRUST_COLUMNS", "NOON_TRUST_COLUMNS"]

@@ -187,3 +187,12 @@ def test_the_command_the_report_and_the_picture_flag_them(untrusted, truth, tmp_
     assert "noon 06-10: CANNOT BE TRUSTED" in texts
     scale = next(t for t in texts if t.endswith("nautical miles"))
     assert int(scale.split()[0]) <= 100  # the voyage's own scale (it was 500 nm with the EP at 062° E)
+
+
+def test_the_demos_noon_from_a_logged_dr_is_not_a_false_alarm():
+    """The README's demo: the DR starts from the DR the log writes on row 2, itself a DR of unknown age (taken as
+    24 h old, as the fix's own distance check takes it; common practice). Its noon, a running fix 6 nm from that DR
+    and 0.7 nm from the demo's invented truth (sample_sights/demo_truth.csv), must not be called untrustworthy:
+    a false alarm on the first command a navigator runs teaches the watch to ignore the warning."""
+    days = process_log("sample_sights/demo_sights.csv", plan=False).days_work()
+    assert len(days.noons) and (days.noons["noon_check"] == "").all(), days.noons["noon_check"].tolist()

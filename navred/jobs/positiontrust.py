@@ -32,10 +32,18 @@ from ..constants import NS_PER_HOUR
 from ..fixstats import DR_ERROR_FRACTION, DR_ERROR_KN
 from ..reckoning import DRTrack, estimated_position
 from ..sailings import rhumb_inverse
+from ..sensechecks import UNKNOWN_DR_AGE_H
 from ..status import SightStatus
 from ..triangle import computed_altitude_azimuth
 from .frames import utc64
-from .shiptrack import MAX_CURRENT_KN, position_text, stamp, untrusted_fixes, water_run_nm
+from .shiptrack import (
+    LOGGED_DR,
+    MAX_CURRENT_KN,
+    position_text,
+    stamp,
+    untrusted_fixes,
+    water_run_nm,
+)
 
 #: A position farther from the DR carried to its time than this many σ of the DR's and the line's error together
 #: is flagged (3 σ: a 1-in-90 chance for a good position, on the two axes together; common practice).
@@ -74,8 +82,12 @@ def _dr_at(track: DRTrack, when: np.ndarray):
     if track.known_cov_nm2 is not None and len(track.known_cov_nm2):
         cov = np.asarray(track.known_cov_nm2)[np.maximum(index, 0)]
         own = np.trace(cov.reshape(-1, 2, 2), axis1=1, axis2=2) / 2.0 if cov.ndim == 3 else np.zeros(when.size)
-    sigma = np.sqrt(np.maximum(own, 0.0) + (DR_ERROR_KN * hours + DR_ERROR_FRACTION * miles) ** 2)
     labels = [track.known_label[i] if i >= 0 else "" for i in index.tolist()]
+    # a DR the log writes (no fix behind it) is itself a DR of unknown age: taken as UNKNOWN_DR_AGE_H old, as the
+    # fix's own check of its distance from the DR takes it (navred.sensechecks)
+    logged = np.array([str(label).startswith(LOGGED_DR) for label in labels], dtype=bool)
+    own = own + np.where(logged, (DR_ERROR_KN * UNKNOWN_DR_AGE_H) ** 2, 0.0)
+    sigma = np.sqrt(np.maximum(own, 0.0) + (DR_ERROR_KN * hours + DR_ERROR_FRACTION * miles) ** 2)
     return lat, lon, labels, start, np.where(index >= 0, sigma, np.nan)
 
 

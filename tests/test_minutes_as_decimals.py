@@ -1,6 +1,7 @@
 """Degrees and minutes written as a decimal: '35.30' (35.30° or 35° 30′?) and '20.35 N' are refused naming both
 readings and how to write each; the forms with one reading are read (degrees and minutes with a space, marks or a
-hyphen; decimal degrees where the header declares them, where the number cannot be minutes, or in a number cell).
+hyphen; decimal degrees where the header declares them, where the number cannot be minutes, or in a DataFrame's
+column of numbers).
 Three decimals whose first two could be minutes are refused too: '76.380' keyed for 76° 38.0′ (degrees, minutes
 and tenths with one point, as calculators and sight books take them). 1° = 60′ throughout  # common practice (sexagesimal degrees)
 The logs are written by hand."""
@@ -36,7 +37,7 @@ def test_the_refusal_names_both_readings_and_how_to_write_each():
     hs = minutes_as_decimal_refusal("35.30", "altitude")
     assert hs.startswith("'35.30' has two readings: 35.30° (= 35° 18.0′) or 35° 30.0′ written with a point?")
     assert "write '35 30.0' or '35° 30.0′'" in hs and "head the column 'Hs (deg)' (or hs_deg)" in hs
-    assert "write it with one decimal or four ('35.3000')" in hs
+    assert "write it with four decimals ('35.3000')" in hs
     lat = minutes_as_decimal_refusal("20.35 N", "lat")
     assert lat.startswith("'20.35 N' has two readings: 20.35° N (= 20° 21.0′ N) or 20° 35.0′ N written with a point?")
     assert "'20 35.0 N'" in lat and "'DR lat (deg)' (or dr_lat_deg)" in lat
@@ -51,7 +52,7 @@ def test_a_bare_or_signed_latitude_or_longitude_is_iso_6709_decimal_degrees():
     assert minutes_as_decimal_refusal("35.30", "altitude") is not None  # an Hs has no such rule
 
 
-@pytest.mark.parametrize("text", ["35.3", "35.3050", "35.30512", "35.755", "35.000", "35.75", "35.00", "35", "35 30.0", "35°30'",
+@pytest.mark.parametrize("text", ["35.7", "35.0", "35.3050", "35.30512", "35.755", "35.000", "35.75", "35.00", "35", "35 30.0", "35°30'",
                                   "35-30.0", "35° 30.0′"])
 def test_a_form_with_one_reading_is_not_refused(text):
     assert minutes_as_decimal_refusal(text, "altitude") is None
@@ -126,6 +127,45 @@ def test_a_position_on_the_command_line_follows_the_same_rule():
     assert refused.exit_code == 1
     assert ("--lat: '44.30 N' has two readings: 44.30° N (= 44° 18.0′ N) or 44° 30.0′ N written with a point? for "
             "degrees and minutes write '44 30.0 N'") in refused.stderr
-    assert "write it with one decimal or four ('44.3000 N')" in refused.stderr
+    assert "write it with four decimals ('44.3000 N')" in refused.stderr
     assert runner.invoke(app, ["plan", "--lat", "44-30 N", "--lon", "12.3000 W", "--date", "2026-03-26"]).exit_code == 0
     assert runner.invoke(app, ["plan", "--lat", "44-30 N", "--lon", "12.300 W", "--date", "2026-03-26"]).exit_code == 1
+
+
+def test_one_decimal_may_be_a_dropped_trailing_zero_and_is_refused():
+    """A second trial: a noon Hs written '76.3' (76° 30′ as '76.30' with its trailing zero dropped, as spreadsheets
+    write numbers) was read as 76.3° = 76° 18.0′. 0.3° = 18.0′, 0.2° = 12.0′  # common practice (1° = 60′)"""
+    hs = minutes_as_decimal_refusal("76.3", "altitude")
+    assert hs.startswith("'76.3' has two readings: 76.3° (= 76° 18.0′) or 76° 30.0′ written with a point ('76.30' "
+                         "with its trailing zero dropped)?")
+    assert "36.2° N (= 36° 12.0′ N) or 36° 20.0′ N" in minutes_as_decimal_refusal("36.2 N", "lat")
+    assert minutes_as_decimal_refusal("76.7", "altitude") is None  # 70′ cannot be minutes
+    assert minutes_as_decimal_refusal("76.0", "altitude") is None  # the same either way
+
+
+def test_a_spreadsheets_number_cells_typed_by_hand_are_judged_as_written(tmp_path):
+    """A second trial: the noon Sun typed into a spreadsheet as the number 76.38 (meaning 76° 38′) among text cells,
+    and a sheet whose every Hs is a number, were read as decimal degrees without a word. A number cell keeps no
+    trailing zero: it is judged by its shortest text, as a written cell is; a column the header declares is read."""
+    import openpyxl
+
+    def sheet(path, header, rows):
+        book = openpyxl.Workbook()
+        book.active.append(header)
+        for row in rows:
+            book.active.append(row)
+        book.save(path)
+        return path
+
+    header = ["UTC", "Body", "Limb", "Hs", "IE", "Eye height (m)", "DR lat", "DR lon"]
+    base = ["2026-12-04T22:15:00Z", "Sun", "LL"]
+    tail = ["1.2 off", 3.0, "17 30.0 S", "149 30.0 W"]
+    mixed = read_sight_log(sheet(tmp_path / "mixed.xlsx", header, [base + ["81 51.4"] + tail, base + [76.38] + tail]))
+    assert list(mixed.rejected.row) == [3]
+    assert reasons(mixed)[0].startswith("Hs: '76.38' has two readings: 76.38° (= 76° 22.8′) or 76° 38.0′")
+    numbers = read_sight_log(sheet(tmp_path / "numbers.xlsx", header, [base + [81.857] + tail, base + [76.3] + tail,
+                                                                       base + [76.8124] + tail]))
+    assert list(numbers.rejected.row) == [3]  # 81.857 cannot be minutes; 76.8124 has four decimals
+    declared = read_sight_log(sheet(tmp_path / "declared.xlsx", ["UTC", "Body", "Limb", "Hs (deg)"] + header[4:],
+                                    [base + [76.38] + tail]))
+    assert declared.rejected.empty and declared.table.hs_deg.iloc[0] == 76.38

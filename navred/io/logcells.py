@@ -671,30 +671,31 @@ ANGLE_KINDS = ("altitude", "lat", "lon")
 #: '-17.45', is ISO 6709's decimal degrees, as the log's rule has it; a decimal whose fraction is .00 (.000) or .60 and
 #: more, or of one or four and more decimals, is decimal degrees; so is a number cell of a spreadsheet, or any cell
 #: under a header that declares degrees)
-_MINUTES_AS_DECIMALS = re.compile(r"^\s*([+\-−]?)\s*([NSEWnsew]?)\s*(\d{1,3})\.([0-5]\d)(\d?)\s*([NSEWnsew]?)\s*$")
+_MINUTES_AS_DECIMALS = re.compile(r"^\s*([+\-−]?)\s*([NSEWnsew]?)\s*(\d{1,3})\.([0-5]\d{0,2})\s*([NSEWnsew]?)\s*$")
 
 
 def minutes_as_decimal_refusal(text: str, kind: str, declare: str | None = None) -> str | None:
     """Why an angle written ``text`` is refused as having two readings (decimal degrees, or degrees and minutes
     written with a point), naming both and how to write each; None when it has one. ``kind``: altitude, lat or
     lon (the message's example takes its hemisphere letter); ``declare``: how to declare decimal degrees where
-    there is no header (a command-line option), instead of the header's unit.
+    there is no header (a command-line option), instead of the header's unit. One to three decimals whose first
+    two (a lone one with a 0 after it: '76.3' is '76.30' with its trailing zero dropped) are 00 to 59, not all 0.
 
     >>> minutes_as_decimal_refusal("35.30", "altitude")[:60]
     "'35.30' has two readings: 35.30° (= 35° 18.0′) or 35° 30.0′ "
-    >>> minutes_as_decimal_refusal("35.3", "altitude") is None, minutes_as_decimal_refusal("35.75", "altitude") is None
+    >>> minutes_as_decimal_refusal("35.7", "altitude") is None, minutes_as_decimal_refusal("35.75", "altitude") is None
     (True, True)
     """
     found = _MINUTES_AS_DECIMALS.match(text)
-    if not found or found.group(4) + found.group(5) in ("00", "000") or (found.group(2) and found.group(6)):
+    if not found or set(found.group(4)) == {"0"} or (found.group(2) and found.group(5)):
         return None
-    sign, before, degrees, minutes, tenths, after = found.groups()
+    sign, before, degrees, fraction, after = found.groups()
     if kind != "altitude" and not (before or after):
         return None  # a bare or signed number of a latitude or longitude is ISO 6709's decimal degrees
     letter = (before or after).upper()
-    minutes_as_decimal = int(minutes + tenths) * (0.6 if not tenths else 0.06)  # .30 of a degree is 18.0′
-    tenth = tenths or "0"
-    fraction = minutes + tenths
+    minutes = (fraction + "0")[:2]
+    tenth = fraction[2:] or "0"
+    minutes_as_decimal = int(fraction) / 10 ** len(fraction) * 60.0  # .30 of a degree is 18.0′
     lead = "-" if sign in ("-", "−") else ""
     tail = f" {letter}" if letter else ""
     if declare is not None:
@@ -703,17 +704,19 @@ def minutes_as_decimal_refusal(text: str, kind: str, declare: str | None = None)
         declare = "head the column 'Hs (deg)' (or hs_deg)"
     else:
         declare = f"head the column with its unit, 'DR {kind} (deg)' (or dr_{kind}_deg)"
+    dropped = f" ('{degrees}.{minutes}' with its trailing zero dropped)" if len(fraction) == 1 else ""
     return (f"{text.strip()!r} has two readings: {lead}{degrees}.{fraction}°{tail} (= {lead}{int(degrees)}° "
-            f"{minutes_as_decimal:04.1f}′{tail}) or {lead}{int(degrees)}° {int(minutes):02d}.{tenth}′{tail} written "
-            f"with a point? for degrees and minutes write '{lead}{degrees} {minutes}.{tenth}{tail}' or "
+            f"{minutes_as_decimal:04.1f}′{tail}) or {lead}{int(degrees)}° {minutes}.{tenth}′{tail} written "
+            f"with a point{dropped}? for degrees and minutes write '{lead}{degrees} {minutes}.{tenth}{tail}' or "
             f"'{lead}{degrees}° {minutes}.{tenth}′{tail}'; for decimal degrees {declare + ', or ' if declare else ''}"
-            f"write it with one decimal or four ('{lead}{degrees}.{fraction}{'0' * (4 - len(fraction))}{tail}')")
+            f"write it with four decimals ('{lead}{degrees}.{fraction}{'0' * (4 - len(fraction))}{tail}')")
 
 
 def _writes_decimal_degrees(column: pd.Series) -> bool:
-    """Whether a table's column of angles is decimal degrees as it stands: a column of numbers (a spreadsheet's
-    number cells, a DataFrame of floats). A column of text is judged cell by cell, never by its other cells: a
-    long log read in blocks must read every cell as the log read whole does, whatever block it falls in."""
+    """Whether a table's column of angles is decimal degrees as it stands: a DataFrame's column of numbers (a
+    program's floats). A spreadsheet's cells (numbers typed by hand among them) and a column of text are judged
+    cell by cell, never by their other cells: a long log read in blocks must read every cell as the log read whole
+    does, whatever block it falls in."""
     return column.dtype.kind in "fiu"
 
 
@@ -730,6 +733,11 @@ def _refuse_minutes_as_decimals(column, cells: Cells, refused: np.ndarray, probl
     codes, uniques = pd.factorize(originals, use_na_sentinel=True)
     reasons = {}
     for u, text in enumerate(uniques.tolist() if hasattr(uniques, "tolist") else list(uniques)):
+        if type(text) is float and np.isfinite(text):
+            # a spreadsheet's number cell among text (a column of numbers alone is decimal degrees as it is,
+            # _writes_decimal_degrees): typed 76.38 for 76° 38′ it keeps no trailing zero, so its shortest text
+            # is judged as a written one is
+            text = repr(text)
         if type(text) is str and "." in text:
             reason = minutes_as_decimal_refusal(text, column.kind)
             if reason:

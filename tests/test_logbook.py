@@ -342,9 +342,9 @@ def test_spreadsheet_date_time_cells_read_as_their_column_says(tmp_path):
     book = openpyxl.Workbook()
     sheet = book.active
     sheet.append(["date", "zone time", "zone description", "body", "hs", "eye height (m)", "dr lat", "dr lon"])
-    sheet.append([dt.datetime(2026, 3, 26), dt.time(20, 41, 30), "+1", "Sirius", 30.04, 2.8, "43 14 N", "13 04 W"])
-    sheet.append([None, dt.datetime(2026, 3, 26, 20, 41, 30), "+1", "Sirius", 30.04, 2.8, "43 14 N", "13 04 W"])
-    sheet.append([dt.datetime(2026, 3, 26, 20, 41, 30), None, "+1", "Sirius", 30.04, 2.8, "43 14 N", "13 04 W"])
+    sheet.append([dt.datetime(2026, 3, 26), dt.time(20, 41, 30), "+1", "Sirius", 30.0412, 2.8, "43 14 N", "13 04 W"])
+    sheet.append([None, dt.datetime(2026, 3, 26, 20, 41, 30), "+1", "Sirius", 30.0412, 2.8, "43 14 N", "13 04 W"])
+    sheet.append([dt.datetime(2026, 3, 26, 20, 41, 30), None, "+1", "Sirius", 30.0412, 2.8, "43 14 N", "13 04 W"])
     book.save(tmp_path / "zone.xlsx")
     zone = read_sight_log(tmp_path / "zone.xlsx")
     assert set(zone.rejected.row) == {4}, zone.rejected  # a date cell that holds a time of day, and no zone time
@@ -356,8 +356,8 @@ def test_a_zone_description_number_cell_has_lost_its_sign(tmp_path):
     book = openpyxl.Workbook()
     sheet = book.active
     sheet.append(["date", "zone_time", "zone_description", "body", "hs", "eye_height_m", "dr_lat", "dr_lon"])
-    sheet.append(["2026-03-26", "20:41:30", 1, "Sirius", 30.04, 2.8, "43 14 N", "13 04 W"])
-    sheet.append(["2026-03-26", "20:41:30", -1, "Sirius", 30.04, 2.8, "43 14 N", "13 04 E"])
+    sheet.append(["2026-03-26", "20:41:30", 1, "Sirius", 30.0412, 2.8, "43 14 N", "13 04 W"])
+    sheet.append(["2026-03-26", "20:41:30", -1, "Sirius", 30.0412, 2.8, "43 14 N", "13 04 E"])
     book.save(tmp_path / "signs.xlsx")
     log = read_sight_log(tmp_path / "signs.xlsx")
     assert list(log.sights.row) == [3] and "lost its sign" in reasons(log, 2)[0]

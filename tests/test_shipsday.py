@@ -212,3 +212,27 @@ def test_stretches_of_flagged_rows_alike_are_found_at_once():
     assert stretches(np.array([0, 1, 1, 1, 0, 1, 1]), np.array([3, 3, 3, 4, 4, 4, 5])) == [(1, 2), (3, 3), (5, 5),
                                                                                           (6, 6)]
     assert stretches(np.zeros(3, dtype=bool), np.zeros(3)) == []
+
+
+def test_a_date_line_crossed_within_the_day_says_which_hours_are_skipped_or_lived_again():
+    """A second navigator's trial: clocks put back a day at 15:06 (ZD -12 to +12) were reported as '2026-06-09
+    repeated' while the noon of 06-10 came twice. Crossing eastward the clocks go back 24 h, westward forward
+    24 h, the hour kept (common practice); at midnight a whole date is repeated or skipped, within the day the
+    hours between the two readings of the clocks are."""
+    from navred.jobs.shipstime import clock_changes_text
+    from navred.reckoning import ShipsClocks
+
+    hour = 3_600_000_000_000
+    at = int(pd.Timestamp("2026-06-10T03:06:00").value)  # 15:06 at ZD -12
+    east = ShipsClocks(np.array([at - 100 * hour, at], dtype=np.int64), np.array([-12.0, 12.0]))
+    assert clock_changes_text(east, at - hour, at + hour) == (
+        "date line at 2026-06-10 15:06 zone time: the clocks put back a day (eastbound): 2026-06-09 15:06 to "
+        "2026-06-10 15:06 lived again (ZD -12 to ZD +12)")
+    west = ShipsClocks(np.array([at - 100 * hour, at], dtype=np.int64), np.array([12.0, -12.0]))
+    assert clock_changes_text(west, at - hour, at + hour) == (
+        "date line at 2026-06-09 15:06 zone time: the clocks put forward a day (westbound): 2026-06-09 15:06 to "
+        "2026-06-10 15:06 skipped (ZD +12 to ZD -12)")
+    midnight = int(pd.Timestamp("2026-06-09T12:00:00").value)  # 00:00 of 06-10 at ZD -12, of 06-09 at ZD +12
+    at_midnight = ShipsClocks(np.array([midnight - 100 * hour, midnight], dtype=np.int64), np.array([-12.0, 12.0]))
+    assert clock_changes_text(at_midnight, midnight - hour, midnight + hour) == (
+        "date line at 2026-06-10 00:00 zone time: 2026-06-09 repeated (eastbound) (ZD -12 to ZD +12)")

@@ -302,10 +302,18 @@ def clock_changes_text(clocks: ShipsClocks, after_ns: int, until_ns: int) -> str
         at = str(shown).replace("T", " ")
         step = before - after  # hours the clocks were advanced
         if abs(step) > 12:  # the date line: a day skipped or repeated, the hour kept
-            day = (np.datetime64(t - int(round(after * NS_PER_HOUR)), "ns").astype("datetime64[D]")
-                   - np.timedelta64(1 if step > 0 else 0, "D"))
-            what = "skipped (westbound)" if step > 0 else "repeated (eastbound)"
-            texts.append(f"date line at {at} zone time: {day} {what} ({zone_text(before)} to {zone_text(after)})")
+            new = np.datetime64(t - int(round(after * NS_PER_HOUR)), "ns").astype("datetime64[m]")
+            zones = f"({zone_text(before)} to {zone_text(after)})"
+            if new == new.astype("datetime64[D]"):  # at midnight: a whole date skipped or lived twice
+                day = new.astype("datetime64[D]") - np.timedelta64(1 if step > 0 else 0, "D")
+                what = "skipped (westbound)" if step > 0 else "repeated (eastbound)"
+                texts.append(f"date line at {at} zone time: {day} {what} {zones}")
+            else:  # within a day: the hours between the two readings of the clocks skipped or lived again
+                first, last = (at, str(new).replace("T", " ")) if step > 0 else (str(new).replace("T", " "), at)
+                what = ("the clocks put forward a day (westbound): " + first + " to " + last + " skipped"
+                        if step > 0 else "the clocks put back a day (eastbound): " + first + " to " + last +
+                        " lived again")
+                texts.append(f"date line at {at} zone time: {what} {zones}")
         else:
             texts.append(f"clocks {'advanced' if step > 0 else 'retarded'} {abs(step):g} h at {at} zone time "
                          f"({zone_text(before)} to {zone_text(after)})")

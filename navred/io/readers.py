@@ -14,6 +14,7 @@ spreadsheet), so a crafted file is refused quickly instead of filling the memory
 from __future__ import annotations
 
 import csv
+import functools
 import hashlib
 import io
 import re
@@ -956,21 +957,29 @@ def _skip_repeated_headers(source, header, columns, numbers, problems, malformed
 def _name_cells(header, columns) -> np.ndarray:
     """How many cells of each row are column names: a name of this header (as written, any case) or any
     spelling of the sight vocabulary (:func:`navred.vocabulary.match_header`). Only the distinct texts with no
-    digit in them are looked at (a column name has none; a sight's numbers do)."""
+    digit in them are looked at (a column name has none; a sight's numbers do), each once."""
     own = {str(h).strip().casefold() for h in header if str(h).strip()}
     counts = np.zeros(len(columns[0]) if columns else 0, dtype=np.int32)
     for column in columns:
         codes, uniques = _distinct_text(column)
         if uniques is None:
             continue
-        texts = pd.Series(uniques, dtype=object)
-        wordy = np.flatnonzero(~texts.str.contains(r"\d", regex=True).to_numpy(dtype=bool)).tolist()
-        names = [u for u in wordy if uniques[u].strip() and (
-            uniques[u].strip().casefold() in own or match_header(uniques[u]).key is not None
-            or match_header(uniques[u]).problem)]
+        names = [u for u, text in enumerate(uniques.tolist()) if not _DIGIT.search(text) and text.strip()
+                 and (text.strip().casefold() in own or _is_column_name(text))]
         if names:
             counts += np.isin(codes, names)
     return counts
+
+
+_DIGIT = re.compile(r"\d")
+
+
+@functools.lru_cache(maxsize=4096)
+def _is_column_name(text: str) -> bool:
+    """Whether a text names a column of the sight vocabulary, or is too ambiguous a header to read (a body's name,
+    a limb or a remark, the texts of a log's cells, come again and again: each is matched once)."""
+    found = match_header(text)
+    return found.key is not None or bool(found.problem)
 
 
 def _refuse_other_headers(source, header, columns, numbers, problems, malformed) -> None:

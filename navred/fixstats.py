@@ -461,7 +461,7 @@ def ellipse_sigma(working_sigma2: ArrayLike, weight: ArrayLike, dof: ArrayLike,
     scaled by chi-square(2) (ν infinite). It covers the truth 19 times in 20 when the sights are no worse than
     that σ and the run no worse than the DR's error model (tests/test_honest_ellipse.py); it was F(2, ν) with
     Satterthwaite's ν worked at the residuals' own σ̂², which a σ̂ near nil from one redundant sight made
-    194, and a running fix's ellipse 0.3 nm across (issue h30e). With no redundancy (ν ≤ 0) σ is the a priori
+    194, and a running fix's ellipse 0.3 nm across. With no redundancy (ν ≤ 0) σ is the a priori
     one and the quantile chi-square(2).
     """
     working = np.asarray(working_sigma2, dtype=float)

@@ -1,4 +1,4 @@
-"""Issue h30e: the 95 % ellipse of a fix of few sights says what it covers, and covers it, case by case.
+"""The 95 % ellipse of a fix of few sights says what it covers, and covers it, case by case.
 
 Each case is one sight count, one sextant σ and one run (a ship stopped, or under way with the DR's error over
 the run): never pooled. The geometry is a Sun of declination +15° whose GHA turns 15° an hour (common practice:
@@ -127,7 +127,7 @@ def test_a_running_fix_under_way_covers_what_it_says_per_case(count, sigma):
 
 
 def test_three_sun_lines_with_one_redundant_sight_name_their_real_statistic():
-    """The navigator's trial (issue h30e): three Sun lines through the day, the ship stopped, the sights agreeing
+    """A navigator's trial: three Sun lines through the day, the ship stopped, the sights agreeing
     to a hair (the residuals nil: σ̂ near 0 from one redundant sight). It printed F(2, 194) and an ellipse 0.3 nm
     across. Now: F(2, 1) on the residuals' σ, or chi-square(2) on a σ taken as at least 1′, said so; and then the
     ellipse is no thinner than 1′ sights allow: the least-squares covariance σ²(AᵀA)⁻¹ of n unit rows has no

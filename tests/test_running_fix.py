@@ -119,7 +119,7 @@ def test_the_dr_error_enters_the_ellipse_and_covers_the_truth(ts, eph):
     the miles run, one isotropic displacement per trial), plus Gaussian sextant noise of σ. For σ 0′ (the
     run's error alone), 0.5′ and 1.5′, 2,000 seeded trials each through the batched solver: the truth falls
     inside the stated 95 % ellipse in 93-97 % of them (the binomial standard deviation is 0.49 %), or up to
-    99.5 % for sights better than the 1′ the ellipse takes (issue h30e: it claims at least 95 % for those)."""
+    99.5 % for sights better than the 1′ the ellipse takes (it claims at least 95 % for those)."""
     from navred.fix import fixes_from_sights
 
     frame = voyage_70n(ts, eph)
@@ -146,7 +146,7 @@ def test_the_dr_error_enters_the_ellipse_and_covers_the_truth(ts, eph):
         assert all(r is not None and r.dr_error_included for r in batch.results)
         rate = np.mean([r.chart_inside_ellipse for r in batch.results])
         # the residuals feel the run's error, so the sights' σ is taken as at least 1′ and the ellipse is
-        # chi-square(2) (issue h30e): it holds the truth at least 19 times in 20 for sights no worse than that,
+        # chi-square(2): it holds the truth at least 19 times in 20 for sights no worse than that,
         # more for better ones; five sights judge a σ of 1.5′ well enough to stay near 95 % (3-97 % here)
         assert {r.quantile for r in batch.results} == {"chi-square(2)"}
         assert 0.93 <= rate <= (0.995 if sigma <= 1.0 else 0.97), (sigma, rate)
@@ -155,7 +155,7 @@ def test_the_dr_error_enters_the_ellipse_and_covers_the_truth(ts, eph):
 def test_the_ellipse_says_which_quantile_it_used():
     # the invented demo (sample_sights/): its Sun-run-Sun residuals are nil and its one redundant sight
     # cannot tell the sights' error from the DR's error over the run, so the sights' error is taken as 1′
-    # and the ellipse is chi-square(2), said so (issue h30e: it was F(2, ν) with an effective ν of 64,
+    # and the ellipse is chi-square(2), said so (it was F(2, ν) with an effective ν of 64,
     # worked at σ̂ near nil); the six stars
     # taken within eight minutes estimate σ from four redundant sights: F(2, 4) (statistical tables:
     # F(2, 4; 0.95) = 6.94, from memory)

@@ -1,4 +1,4 @@
-"""Issue h30e: the run between the sights of a ship stopped (speed 0) is said, "stopped (0 kn)", in every output
+"""The run between the sights of a ship stopped (speed 0) is said, "stopped (0 kn)", in every output
 (the console, ``navred fix --csv``, the workbook's Fixes sheet); it was printed empty ("course and speed")."""
 
 from __future__ import annotations

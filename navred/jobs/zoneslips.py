@@ -11,6 +11,7 @@ import re
 import numpy as np
 import pandas as pd
 
+from ..angles import wrap_180
 from ..grosserrors import distrust
 from ..reckoning import zone_description_h
 from ..status import Distrust
@@ -414,9 +415,9 @@ def _run_on(fix, dr_lat_deg: float, dr_lon_deg: float) -> tuple[float, float]:
     """A fix run on to a later sight by the DR: the sight's DR moved by the fix's offset from its own DR (the
     difference of latitude, and the departure kept; the mid-latitude sailing, common practice)."""
     lat = dr_lat_deg + (fix.lat_deg - fix.dr_lat_deg)
-    departure = ((fix.lon_deg - fix.dr_lon_deg + 540.0) % 360.0 - 180.0) * np.cos(np.radians(fix.lat_deg))
+    departure = float(wrap_180(fix.lon_deg - fix.dr_lon_deg)) * np.cos(np.radians(fix.lat_deg))
     lon = dr_lon_deg + departure / max(np.cos(np.radians(lat)), 1e-6)
-    return float(lat), float((lon + 540.0) % 360.0 - 180.0)
+    return float(lat), float(wrap_180(lon))
 
 
 def _when(utc) -> str:

@@ -288,7 +288,7 @@ def test_a_position_built_on_a_sight_with_a_warning_carries_the_warning(tmp_path
 
 
 def test_an_estimated_position_is_named_by_what_it_rests_on_in_every_output(tmp_path):
-    """FINDINGS-28 10a: an EP was named by its fix-group label ('found by estimated position noon at 22:00 UTC').
+    """A navigator's trial: an EP was named by its fix-group label ('found by estimated position noon at 22:00 UTC').
     It is named by what it is, the row it rests on and its time, the same in the console, the noon CSV, the noon
     report, the workbook's sheets, the GeoJSON, the GPX and the picture (common practice: an EP is a single line's
     foot from the DR); a noon found by it carries its row's warning, and the picture's label names that row. The
@@ -562,7 +562,7 @@ def test_a_logged_current_splits_the_current_experienced_into_the_logged_and_the
     if first.set_95_deg >= 5:
         assert f"set {first.set_deg:03.0f}° ±{first.set_95_deg:.0f}°, drift" in shown
     # the picture's arrow at each fix is the gap itself: from the DR kept, where the DR's leg ends, to the fix, to
-    # the chart's scale (FINDINGS-28 10c: it was drawn from the fix, a knot to a key's length); page y runs down
+    # the chart's scale (a navigator's trial: it was drawn from the fix, a knot to a key's length); page y runs down
     root = ET.fromstring(voyage_track_picture(days).to_svg())
     svg = "{http://www.w3.org/2000/svg}"
 
@@ -609,7 +609,7 @@ def test_a_logged_current_splits_the_current_experienced_into_the_logged_and_the
 
 
 def test_the_true_current_logged_leaves_a_nil_unaccounted_with_no_set_in_every_output(steady, tmp_path):
-    """FINDINGS-28 10b: with the current logged right (scripts/make_passage.py's 060° 1.2 kn) the DR kept meets
+    """A navigator's trial: with the current logged right (scripts/make_passage.py's 060° 1.2 kn) the DR kept meets
     each fix and the unaccounted rest is nil: no output gives it a set (it said "unaccounted 260° 0.0 kn"; the
     sheet and GeoJSON kept a set of 259.5° for 0.01 kn). # common practice: a nil current has no set."""
     import openpyxl
@@ -733,7 +733,7 @@ def test_an_ep_on_a_meridian_altitude_is_named_so():
 
 
 def test_a_fix_that_cannot_be_trusted_never_restarts_the_dr(tmp_path):
-    """The trial's far_E log (FINDINGS-28; altitudes made by the trial at 17° 30′ S 149° 30′ W, the DR written 149°
+    """The trial's far_E log (altitudes made by the trial at 17° 30′ S 149° 30′ W, the DR written 149°
     30′ E): its fix, 1,780 nm from the DR with a 1,464-nm ellipse, CANNOT BE TRUSTED; the day's work restarted
     the DR there and the voyage picture drew it as a fix. It is left out, said so, and named on the picture
     (common practice: a fix that cannot be trusted is looked into, the DR kept on)."""

@@ -226,7 +226,7 @@ def test_a_cadets_noon_is_marked_against_the_ships_own_noon_latitude_not_her_dr(
     noons = table[table["fix_group"].str.startswith("noon")]
     assert set(noons["observer"]) == set(cadets) and (noons["kind"] == "estimated position").all()
     for row in noons.to_dict("records"):
-        # the ship's EP named by what it rests on (FINDINGS-28 10a), its group after it
+        # the ship's EP named by what it rests on (a navigator's trial), its group after it
         assert re.match(r"the ship's EP from the Sun's meridian altitude \(row \d+\), 12:4\d UTC \(fix group noon Hale\)",
                         row["ship_from"]), row
         assert row["ship_from"].endswith(" carried on 1 min along her DR") or "2 min" in row["ship_from"], row

@@ -1,9 +1,11 @@
 """The day's work's trust in its positions (navred.jobs.positiontrust): each EP worked from the DR carried from the
 last fix, the uncertainty of EPs and noon positions, and the flags on noons and runs a master would not believe.
 
-The logs are a navigator's own (tests/data/t30, from the trial in FINDINGS-30): a 3-day passage 36° N 045° W
-eastward at 080° 12 kn with a true 0.8 kn current setting 150°, the Hs worked back from the known true track
-(``truth.csv``, the reference) with 0.5′ of noise; the log's own DR column is hand-kept from the departure and
+The logs were written by hand in a navigator's trial (tests/data/t30, invented: a 3-day passage 36° N 045° W
+eastward at 080° 12 kn with a true 0.8 kn current setting 150°). Their Hs were worked back from the invented true
+track (``truth.csv``) with 0.5′ of noise by inverting navred's own reduction, so they are no outside reference for
+the reduction (tests/test_almanac.py, test_corrections.py and test_fix.py check it against skyfield); what these tests check against the track is
+the day's work's reckoning: which DR an EP rests on, its miles from the truth, and the flags; the log's own DR column is hand-kept from the departure and
 never reset, so by day 3 it is about 40 nm out. ``d_untrusted.csv`` is the same log with day 2's DR longitude
 written E for W (rows 11-15) and the noon Sun of day 1 (row 8) misread by 1°."""
 

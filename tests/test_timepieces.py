@@ -166,7 +166,7 @@ def test_the_rated_passage_gives_the_days_work_of_the_passage_kept_in_utc():
                         rates=read_rating_log("sample_sights/passage_time_signals.csv")).days_work()
     kept = process_log("sample_sights/passage_log.csv", plan=False).days_work()
     # no "carried to noon" for 0.02 s; a noon on a sight whose watch error is extrapolated past the last time
-    # signal carries that sight's warning, naming its row (FINDINGS-28 10a), and is otherwise the same
+    # signal carries that sight's warning, naming its row, and is otherwise the same
     warned = [re.findall(r"; row \d+ warns: [^;]*", t) for t in rated.noons["noon_from"]]
     assert [re.sub(r"; row \d+ warns: [^;]*", "", t) for t in rated.noons["noon_from"]] == list(kept.noons["noon_from"])
     assert warned[-1] and all("watch error extrapolated" in w for w in warned[-1]), warned

@@ -198,3 +198,19 @@ def test_the_demos_noon_from_a_logged_dr_is_not_a_false_alarm():
     a false alarm on the first command a navigator runs teaches the watch to ignore the warning."""
     days = process_log("sample_sights/demo_sights.csv", plan=False).days_work()
     assert len(days.noons) and (days.noons["noon_check"] == "").all(), days.noons["noon_check"].tolist()
+
+
+def test_reduce_which_works_no_fix_never_offers_a_slip_without_the_drs_own_error_beside_it():
+    """A second navigator's trial: `navred reduce` offered 'the wrong limb' for a good Sun sight whose DR was 41 nm out
+    (the log's hand-kept DR, never reset), where `navred fix` names the DR's error. A DR is out by the current it does
+    not know (common practice): reduce, with no fix to judge by, says so beside any slip it offers."""
+    from typer.testing import CliRunner
+
+    from navred.cli import app
+
+    result = CliRunner().invoke(app, ["reduce", str(DATA / "passage.csv")])
+    assert result.exit_code == 0, result.output
+    row = next(line for line in result.stdout.splitlines() if line.lstrip().startswith("24 "))
+    assert "the wrong limb" in row
+    assert re.search(r"unless the DR itself is 4\d nm out \(a fix of the log shows which: do not change a sight "
+                     r"before it does\)", row), row

@@ -109,7 +109,9 @@ def zone_sign_suspects(frame: pd.DataFrame, flagged: np.ndarray, *, ho_deg=None,
             texts.append("; or ".join([causes[0]] + [c.replace("possible cause: ", "") for c in causes[1:]]))
         else:
             texts.append(f"possible cause{'s' if len(causes) > 1 else ''} (undone, each leaves an intercept within "
-                         f"{SLIP_FIT_NM:.0f} nm): " + "; or ".join(c.replace("possible cause: ", "") for c in causes))
+                         f"{SLIP_FIT_NM:.0f} nm): " + "; or ".join(c.replace("possible cause: ", "") for c in causes)
+                         + f"; unless the DR itself is {abs(float(intercept[k])):.0f} nm out (a fix of the log shows "
+                         "which: do not change a sight before it does)")
     texts = np.array(texts, dtype=object)
     if fitted_only:
         keep = np.array([bool(f) for f in found], dtype=bool)

@@ -102,6 +102,7 @@ def check_covers_what_it_says(results, sigma, case):
             assert share >= (0.95 if says else 0.80) - 4 * sd, (case, sigma, len(part), share)
             checked += len(part)
     assert checked >= TRIALS // 2, (case, sigma, len(judged), len(taken))
+    return checked
 
 
 @pytest.mark.parametrize("sigma", [0.3, 1.0, 1.5])
@@ -112,7 +113,7 @@ def test_a_stopped_ships_sun_lines_cover_what_they_say_per_case(count, sigma):
     rng = np.random.default_rng(int(10 * sigma) + 100 * list(HOURS).index(count))  # a fixed seed per case
     results = _trials(count, sigma, 0.0, 0.0, rng)
     check_named_honestly(results)
-    check_covers_what_it_says(results, sigma, count)
+    assert check_covers_what_it_says(results, sigma, count) >= TRIALS // 2  # most trials judged by a stated claim
 
 
 @pytest.mark.parametrize("sigma", [0.3, 1.0, 1.5])
@@ -123,7 +124,7 @@ def test_a_running_fix_under_way_covers_what_it_says_per_case(count, sigma):
     rng = np.random.default_rng(int(10 * sigma) + 1000 * count)
     results = _trials(count, sigma, 10.0, 40.0, rng)
     check_named_honestly(results)
-    check_covers_what_it_says(results, sigma, count)
+    assert check_covers_what_it_says(results, sigma, count) >= TRIALS // 2  # most trials judged by a stated claim
 
 
 def test_three_sun_lines_with_one_redundant_sight_name_their_real_statistic():

@@ -36,6 +36,15 @@ def dies_when_forked(context: int, item: int) -> int:
     return context * item
 
 
+
+def reduced_in_blocks_and_whole(path, monkeypatch):
+    """`navred reduce PATH --csv` in blocks of 60 rows over two cores, then read whole: (in blocks, whole)."""
+    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 60)
+    monkeypatch.setattr(forking, "cores", lambda: 2)
+    shared = runner.invoke(app, ["reduce", str(path), "--csv"])
+    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 100_000)
+    return shared, runner.invoke(app, ["reduce", str(path), "--csv"])
+
 def test_results_come_in_order_with_every_warning():
     with pytest.warns(NavredWarning) as caught:
         results = list(forked_map(scaled, range(12), context=3, workers=2))
@@ -160,11 +169,7 @@ def test_reduce_csv_counts_its_refusals_on_stderr_in_blocks_as_whole(tmp_path, m
     one Hs of 72 minutes (another kind); past 30 the first three of each kind are shown, the rest counted."""
     unreadable = [5, *range(70, 101), 130, 190, 250, 251, 400]
     path = _planted(tmp_path, {**{row: "4x.5" for row in unreadable}, 300: "42 72.0"})
-    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 60)
-    monkeypatch.setattr(forking, "cores", lambda: 2)
-    shared = runner.invoke(app, ["reduce", path, "--csv"])
-    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 100_000)
-    whole = runner.invoke(app, ["reduce", path, "--csv"])
+    shared, whole = reduced_in_blocks_and_whole(path, monkeypatch)
     table = runner.invoke(app, ["reduce", path])
     # some rows refused, others reduced: exit 0, as navred reduce without --csv and navred fix
     assert shared.exit_code == whole.exit_code == table.exit_code == 0
@@ -252,11 +257,7 @@ def test_reduce_csv_begun_in_blocks_gives_the_whole_logs_text_when_a_late_block_
     read whole (or looked at closer), what was made of them is dropped: the CSV and the lines on stderr are those
     of the log read whole."""
     path = _spoilt(tmp_path, row, column, text)
-    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 60)
-    monkeypatch.setattr(forking, "cores", lambda: 2)
-    shared = runner.invoke(app, ["reduce", path, "--csv"])
-    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 100_000)
-    whole = runner.invoke(app, ["reduce", path, "--csv"])
+    shared, whole = reduced_in_blocks_and_whole(path, monkeypatch)
     assert shared.exit_code == whole.exit_code, why
     assert shared.stdout == whole.stdout, why
     assert shared.stderr == whole.stderr, why
@@ -269,11 +270,7 @@ def test_reduce_csv_of_a_log_of_exactly_one_block_is_read_whole(tmp_path, monkey
     lines = open("sample_sights/training_sights.csv", encoding="utf-8").read().splitlines()[:61]
     path = tmp_path / "sixty.csv"
     path.write_text("\n".join(lines) + "\n", encoding="utf-8")
-    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 60)
-    monkeypatch.setattr(forking, "cores", lambda: 2)
-    shared = runner.invoke(app, ["reduce", str(path), "--csv"])
-    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 100_000)
-    whole = runner.invoke(app, ["reduce", str(path), "--csv"])
+    shared, whole = reduced_in_blocks_and_whole(str(path), monkeypatch)
     assert shared.exit_code == whole.exit_code == 0
     assert shared.stdout == whole.stdout and len(shared.stdout.splitlines()) == 61
 
@@ -286,11 +283,7 @@ def test_reduce_csv_begun_in_blocks_notes_a_repeated_header_in_a_late_block_as_t
     lines[329] = lines[0]
     path = tmp_path / "joined.csv"
     path.write_text("\n".join(lines) + "\n", encoding="utf-8")
-    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 60)
-    monkeypatch.setattr(forking, "cores", lambda: 2)
-    shared = runner.invoke(app, ["reduce", str(path), "--csv"])
-    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 100_000)
-    whole = runner.invoke(app, ["reduce", str(path), "--csv"])
+    shared, whole = reduced_in_blocks_and_whole(str(path), monkeypatch)
     assert shared.exit_code == whole.exit_code == 0
     assert shared.stdout == whole.stdout and len(shared.stdout.splitlines()) == 405
     assert shared.stderr == whole.stderr and "row 330 repeats the header" in shared.stderr
@@ -306,11 +299,7 @@ def test_reduce_csv_names_the_rows_past_the_iers_table_once_in_blocks_as_whole(t
     lines[99:] = [line.replace("2026-", "2031-", 1) for line in lines[99:]]
     path = tmp_path / "late.csv"
     path.write_text("\n".join(lines) + "\n", encoding="utf-8")
-    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 60)
-    monkeypatch.setattr(forking, "cores", lambda: 2)
-    shared = runner.invoke(app, ["reduce", str(path), "--csv"])
-    monkeypatch.setattr(reducing, "REDUCE_BLOCK_ROWS", 100_000)
-    whole = runner.invoke(app, ["reduce", str(path), "--csv"])
+    shared, whole = reduced_in_blocks_and_whole(str(path), monkeypatch)
     assert shared.exit_code == whole.exit_code == 0
     assert shared.stderr == whole.stderr
     err = shared.stderr.splitlines()

@@ -32,15 +32,21 @@ def test_an_ex_meridian_latitude_far_from_the_dr_or_beyond_the_limit_is_flagged_
     assert flags[2] == ""
 
 
+def _ex_meridian_log(ts, eph, path, dr_lat_deg: float):
+    """A ship stopped at 20° N 40° W (her departure written at ``dr_lat_deg``) and one Sun sight 20 minutes after
+    meridian passage, its Hs from skyfield (the reference)."""
+    sight = skyfield_sight(ts, eph, "Sun", "2026-10-20T14:45:00Z", 20.0, -40.0, limb="lower")
+    path.write_text("utc,entry,dr_lat,dr_lon,course,speed,body,limb,hs,eye_height_m,fix_group\n"
+                    f"2026-10-20T10:00:00Z,departure,{dr_lat_deg},-40.0,0,0,,,,,\n"
+                    f"2026-10-20T14:45:00Z,,,,,,Sun,lower,{sight['hs']:.5f},3.0,exmer\n")
+    return path
+
+
 def test_the_days_work_flags_an_ex_meridian_latitude_two_degrees_off_the_dr_everywhere(ts, eph, tmp_path):
     """A Sun sight 20 minutes after meridian passage taken at 20° N 40° W (skyfield), the DR 2° north of it:
     the ex-meridian latitude is flagged in the notes, the Latitudes table, the EP's note and the noon report;
     the sight's line is kept as a line (its EP is one Sun line), never a latitude."""
-    sight = skyfield_sight(ts, eph, "Sun", "2026-10-20T14:45:00Z", 20.0, -40.0, limb="lower")
-    log = tmp_path / "exmer.csv"
-    log.write_text("utc,entry,dr_lat,dr_lon,course,speed,body,limb,hs,eye_height_m,fix_group\n"
-                   "2026-10-20T10:00:00Z,departure,22.0,-40.0,0,0,,,,,\n"
-                   f"2026-10-20T14:45:00Z,,,,,,Sun,lower,{sight['hs']:.5f},3.0,exmer\n")
+    log = _ex_meridian_log(ts, eph, tmp_path / "exmer.csv", dr_lat_deg=22.0)
     days = process_log(log, plan=False).days_work()
     row = days.latitudes.iloc[0]
     assert row["method"] == "ex-meridian" and "CANNOT BE TRUSTED" in row["flag"]
@@ -58,11 +64,7 @@ def test_the_days_work_flags_an_ex_meridian_latitude_two_degrees_off_the_dr_ever
 def test_an_ex_meridian_latitude_within_the_rule_is_used_at_noon(ts, eph, tmp_path):
     """The same sight from a DR 10′ off: the ex-meridian latitude is within the degree and the limit, not
     flagged, and is the latitude of the EP (within 1′ of the true 20° N: the reduction's accuracy, from memory)."""
-    sight = skyfield_sight(ts, eph, "Sun", "2026-10-20T14:45:00Z", 20.0, -40.0, limb="lower")
-    log = tmp_path / "exmer_ok.csv"
-    log.write_text("utc,entry,dr_lat,dr_lon,course,speed,body,limb,hs,eye_height_m,fix_group\n"
-                   "2026-10-20T10:00:00Z,departure,20.1667,-40.0,0,0,,,,,\n"
-                   f"2026-10-20T14:45:00Z,,,,,,Sun,lower,{sight['hs']:.5f},3.0,exmer\n")
+    log = _ex_meridian_log(ts, eph, tmp_path / "exmer_ok.csv", dr_lat_deg=20.1667)
     days = process_log(log, plan=False).days_work()
     row = days.latitudes.iloc[0]
     assert row["method"] == "ex-meridian" and row["flag"] == ""
